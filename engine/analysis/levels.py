@@ -1,0 +1,79 @@
+"""Overall levels and waveform statistics.
+
+The overall velocity is the broadband RMS that ISO 20816-3:2022 evaluates:
+10 Hz to 1000 Hz, or 2 Hz to 1000 Hz for machines running at 600 r/min or
+below (ISO 20816-3:2022, clause 4.3 on the measurement band).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import stats
+
+from ..units import STANDARD_GRAVITY_M_S2
+from .spectrum import band_rms
+
+ISO_BAND_HZ = (10.0, 1000.0)
+ISO_BAND_SLOW_HZ = (2.0, 1000.0)
+ISO_SLOW_SPEED_RPM = 600.0
+INTEGRATIONS_TO_VELOCITY = {"acceleration": 1, "velocity": 0, "displacement": -1}
+
+
+@dataclass(frozen=True)
+class WaveformStats:
+    rms: float
+    peak: float          # largest |x - mean|
+    crest_factor: float  # peak / RMS
+    kurtosis: float      # Pearson: 3 for Gaussian, 1.5 for a sine
+    skewness: float
+
+
+def waveform_statistics(x) -> WaveformStats:
+    """RMS, peak, crest factor, kurtosis and skewness of a record (mean removed)."""
+    x = np.asarray(x, dtype=float)
+    ac = x - x.mean()
+    rms = float(np.sqrt(np.mean(ac ** 2)))
+    peak = float(np.max(np.abs(ac)))
+    return WaveformStats(
+        rms=rms, peak=peak, crest_factor=peak / rms if rms > 0 else float("nan"),
+        kurtosis=float(stats.kurtosis(ac, fisher=False, bias=True)),
+        skewness=float(stats.skew(ac, bias=True)),
+    )
+
+
+def iso_band_hz(speed_rpm: float | None) -> tuple[float, float]:
+    """The ISO 20816-3 measurement band for a machine running at ``speed_rpm``."""
+    if speed_rpm is not None and speed_rpm <= ISO_SLOW_SPEED_RPM:
+        return ISO_BAND_SLOW_HZ
+    return ISO_BAND_HZ
+
+
+@dataclass(frozen=True)
+class OverallLevels:
+    velocity_rms_mm_s: float          # in the ISO 20816-3 band
+    velocity_band_hz: tuple[float, float]
+    band_truncated: bool              # Fmax below the band's top: the value reads low
+    acceleration_rms_g: float | None  # None when the channel is not acceleration
+    acceleration_peak_g: float | None
+    crest_factor: float
+    kurtosis: float
+    skewness: float
+
+
+def overall_levels(x, fs: float, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
+    """Overall levels of a channel whose samples are in the SI base of ``quantity``."""
+    lo, hi = iso_band_hz(speed_rpm)
+    top = min(hi, fs / 2)
+    velocity_m_s = band_rms(x, fs, lo, top, integrations=INTEGRATIONS_TO_VELOCITY[quantity])
+    st = waveform_statistics(x)
+    is_accel = quantity == "acceleration"
+    return OverallLevels(
+        velocity_rms_mm_s=velocity_m_s * 1e3,
+        velocity_band_hz=(lo, top),
+        band_truncated=top < hi,
+        acceleration_rms_g=st.rms / STANDARD_GRAVITY_M_S2 if is_accel else None,
+        acceleration_peak_g=st.peak / STANDARD_GRAVITY_M_S2 if is_accel else None,
+        crest_factor=st.crest_factor, kurtosis=st.kurtosis, skewness=st.skewness,
+    )

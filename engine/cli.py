@@ -1,0 +1,116 @@
+"""The ``tellwave`` command: argument parsing and composition of the stages, nothing else."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from . import analysis
+from .errors import TellwaveError, UsageError
+from .kinematics import forcing_frequencies
+from .machine import load_machine
+from .readings import load_reading
+from .units import STANDARD_GRAVITY_M_S2
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # one line and exit code 2, like every other user error
+        raise UsageError(message)
+
+
+def _frequencies(args) -> int:
+    machine = load_machine(args.machine)
+    table = forcing_frequencies(machine, args.rpm, args.shaft)
+    if args.json:
+        speeds = machine.speeds_at(args.rpm, args.shaft)
+        print(json.dumps({"machine": machine.name, "source": machine.source,
+                          "shaft_speeds_hz": speeds,
+                          "forcing_frequencies": [f.as_dict() for f in table]}, indent=2))
+        return 0
+    speeds = machine.speeds_at(args.rpm, args.shaft)
+    print(f"{machine.name}" + (f"  ({machine.plant})" if machine.plant else ""))
+    print("shafts: " + ", ".join(f"{s} {hz * 60:.1f} rpm" for s, hz in speeds.items()))
+    print()
+    print(f"{'frequency Hz':>13}  {'order':>8}  {'name':<15} {'component':<16} {'shaft':<12} family")
+    for f in table:
+        print(f"{f.frequency_hz:13.3f}  {f.order:8.4f}  {f.name:<15} {f.component:<16} {f.shaft:<12} {f.family}")
+    return 0
+
+
+def _reading_options(args) -> dict:
+    return dict(sample_rate_hz=args.sample_rate, unit=args.unit, scale=args.scale,
+                point=args.point, direction=args.direction, speed_rpm=args.rpm)
+
+
+def _reading(args) -> int:
+    reading = load_reading(args.reading, **_reading_options(args))
+    print(f"{reading.source}: {len(reading.channels)} channel(s), {reading.fs_hz:g} Hz, "
+          f"{reading.n_samples} samples ({reading.duration_s:.3f} s)"
+          + (f", speed {reading.speed_rpm:g} rpm" if reading.speed_rpm else ""))
+    for ch in reading.channels:
+        where = " ".join(filter(None, [ch.point, ch.direction]))
+        print(f"\n  {ch.name} ({ch.quantity}, recorded in {ch.unit}){'  at ' + where if where else ''}")
+        issues = reading.issues_for(ch.name)
+        for q in issues:
+            print(f"    quality: {q.kind}: {q.message}")
+        if any(q.blocking for q in issues):
+            continue
+        lv = analysis.overall_levels(ch.samples, reading.fs_hz, ch.quantity, reading.speed_rpm)
+        lo, hi = lv.velocity_band_hz
+        print(f"    velocity {lv.velocity_rms_mm_s:.3f} mm/s RMS ({lo:g}-{hi:g} Hz"
+              + (", band cut by Fmax" if lv.band_truncated else "") + ")")
+        if lv.acceleration_rms_g is not None:
+            print(f"    acceleration {lv.acceleration_rms_g:.4f} g RMS, {lv.acceleration_peak_g:.4f} g peak")
+        print(f"    crest factor {lv.crest_factor:.2f}, kurtosis {lv.kurtosis:.2f}, skewness {lv.skewness:.2f}")
+        spec = analysis.amplitude_spectrum(ch.samples, reading.fs_hz, scaling="peak")
+        peaks = analysis.find_peaks(spec, f_lo_hz=2 * spec.resolution_hz, min_snr=6.0, max_peaks=args.peaks)
+        scale = STANDARD_GRAVITY_M_S2 if ch.quantity == "acceleration" else 1.0
+        unit = "g" if ch.quantity == "acceleration" else ("m/s" if ch.quantity == "velocity" else "m")
+        print(f"    largest spectral peaks (Hann, {spec.resolution_hz:.3f} Hz lines):")
+        for p in sorted(peaks, key=lambda p: p.freq_hz):
+            print(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  (SNR {p.snr:.0f})")
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="tellwave", description="A second opinion on rotating-machinery vibration readings.")
+    sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
+
+    p = sub.add_parser("frequencies", help="print the forcing frequencies of a machine")
+    p.add_argument("machine", help="machine YAML file")
+    p.add_argument("--rpm", type=float, help="running speed of the driving shaft (or of --shaft)")
+    p.add_argument("--shaft", help="the shaft --rpm refers to (default: the driving shaft)")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.set_defaults(run=_frequencies)
+
+    p = sub.add_parser("reading", help="summarise a reading file: channels, quality, levels, peaks")
+    p.add_argument("reading", help="WAV, CSV, NPY, NPZ or UFF file")
+    _add_reading_options(p)
+    p.add_argument("--peaks", type=int, default=10, help="how many spectral peaks to list")
+    p.set_defaults(run=_reading)
+    return parser
+
+
+def _add_reading_options(p) -> None:
+    p.add_argument("--sample-rate", type=float, help="sample rate in Hz, if the file does not state it")
+    p.add_argument("--unit", help="engineering unit of the samples (g, m/s^2, mm/s, in/s, um, mils)")
+    p.add_argument("--scale", type=float, help="engineering units at digital full scale (WAV)")
+    p.add_argument("--point", help="measurement point id")
+    p.add_argument("--direction", choices=["horizontal", "vertical", "axial"])
+    p.add_argument("--rpm", type=float, help="measured running speed")
+
+
+def main(argv=None) -> int:
+    try:
+        args = build_parser().parse_args(argv)
+        return args.run(args)
+    except TellwaveError as exc:
+        print(f"tellwave: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    except BrokenPipeError:
+        return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,64 @@
+"""Every error and warning that tellwave raises on purpose.
+
+Each error carries an ``exit_code`` and knows the file it is about, so that the
+command line can print one line (``tellwave: error: <file>:<line>: <problem>``)
+and exit without a traceback. Anything that is not a ``TellwaveError`` is a bug.
+"""
+
+from __future__ import annotations
+
+
+class TellwaveError(Exception):
+    """Root of the errors a user can cause with their input."""
+
+    exit_code = 1
+
+    def __init__(self, problem: str, *, path: str | None = None, line: int | None = None):
+        super().__init__(problem)
+        self.problem = problem
+        self.path = path
+        self.line = line
+
+    def __str__(self) -> str:
+        where = ""
+        if self.path is not None:
+            where = str(self.path)
+            if self.line is not None:
+                where += f":{self.line}"
+            where += ": "
+        return where + self.problem
+
+
+class UsageError(TellwaveError):
+    """The command line itself is wrong (a missing option, a bad value)."""
+
+    exit_code = 2
+
+
+class MachineError(TellwaveError):
+    """A machine description is missing, malformed or inconsistent."""
+
+    exit_code = 3
+
+
+class ReadingError(TellwaveError):
+    """A reading file cannot be read, or holds nothing that can be analysed."""
+
+    exit_code = 4
+
+
+class RulebookError(TellwaveError):
+    """A rulebook is malformed or refers to evidence that does not exist."""
+
+    exit_code = 5
+
+    def __init__(self, problem: str, *, path: str | None = None, line: int | None = None,
+                 rule_id: str | None = None):
+        if rule_id is not None:
+            problem = f"rule {rule_id}: {problem}"
+        super().__init__(problem, path=path, line=line)
+        self.rule_id = rule_id
+
+
+class DataQualityWarning(UserWarning):
+    """A reading was analysed although a quality gate flagged it."""

@@ -1,0 +1,284 @@
+"""Machine descriptions: a YAML drive train -> a checked ``Machine`` value.
+
+A machine file lists shafts with their speeds and the components on them
+(rolling bearings, gear meshes, belt drives, impellers and fan rotors,
+induction motors) and the measurement points. The file is checked against
+``schemas/machine.schema.json`` and then for consistency (every reference
+names a component that exists, shaft speeds resolve without a cycle, gear and
+belt ratios agree with stated speeds). Every problem is one ``MachineError``
+that names the file, the line and the field.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Mapping
+
+from .errors import MachineError
+from .yamlfile import YamlDocument, read_yaml, validate
+
+RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 %
+
+
+@dataclass(frozen=True)
+class Bearing:
+    id: str
+    shaft: str
+    model: str | None
+    rolling_elements: int | None
+    element_diameter: float | None
+    pitch_diameter: float | None
+    contact_angle_deg: float
+    multiples: Mapping[str, float] | None  # bpfo, bpfi, bsf, ftf given directly
+
+
+@dataclass(frozen=True)
+class GearMesh:
+    id: str
+    driving_shaft: str
+    driving_teeth: int
+    driven_shaft: str
+    driven_teeth: int
+
+
+@dataclass(frozen=True)
+class BeltDrive:
+    id: str
+    driving_shaft: str
+    driving_diameter_mm: float
+    driven_shaft: str
+    driven_diameter_mm: float
+    belt_length_mm: float
+
+
+@dataclass(frozen=True)
+class Rotor:
+    id: str
+    shaft: str
+    type: str  # "impeller" or "fan"
+    vanes: int
+
+
+@dataclass(frozen=True)
+class Motor:
+    id: str
+    shaft: str
+    line_frequency_hz: float
+    poles: int
+    rotor_bars: int | None
+
+
+@dataclass(frozen=True)
+class Point:
+    id: str
+    at: str          # bearing id or shaft id
+    shaft: str       # the shaft that point sits on
+    direction: str   # horizontal, vertical or axial
+
+
+@dataclass(frozen=True)
+class Machine:
+    """A checked drive train with the nominal speed of every shaft resolved."""
+
+    name: str
+    source: str
+    plant: str | None
+    iso_group: int | None
+    support: str | None
+    lubrication: str | None
+    shaft_speeds_hz: Mapping[str, float]  # nominal, in file order
+    driver_shaft: str                       # the shaft whose speed is stated, not derived
+    bearings: tuple[Bearing, ...] = ()
+    gears: tuple[GearMesh, ...] = ()
+    belts: tuple[BeltDrive, ...] = ()
+    rotors: tuple[Rotor, ...] = ()
+    motors: tuple[Motor, ...] = ()
+    points: tuple[Point, ...] = ()
+    descriptions: Mapping[str, str] = field(default_factory=dict)
+
+    def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
+        """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
+
+        All shafts scale together: ratios are fixed by gears, belts and couplings.
+        """
+        speeds = dict(self.shaft_speeds_hz)
+        if speed_rpm is None:
+            return speeds
+        shaft = shaft or self.driver_shaft
+        if shaft not in speeds:
+            raise MachineError(f"no shaft {shaft!r}; shafts are {', '.join(speeds)}", path=self.source)
+        if not speed_rpm > 0:
+            raise MachineError(f"speed must be positive, got {speed_rpm} rpm", path=self.source)
+        scale = (speed_rpm / 60.0) / speeds[shaft]
+        return {name: hz * scale for name, hz in speeds.items()}
+
+    def point(self, point_id: str) -> Point:
+        for p in self.points:
+            if p.id == point_id:
+                return p
+        known = ", ".join(p.id for p in self.points) or "none"
+        raise MachineError(f"no measurement point {point_id!r}; points are {known}", path=self.source)
+
+
+def load_machine(path) -> Machine:
+    """Read and check a machine YAML file."""
+    doc = read_yaml(path, MachineError)
+    if not isinstance(doc.data, dict):
+        raise MachineError("expected a mapping with 'machine' and 'shafts'", path=doc.path, line=1)
+    validate(doc, "machine.schema.json", MachineError)
+    return _build(doc)
+
+
+def _build(doc: YamlDocument) -> Machine:
+    data = doc.data
+    fail = _failer(doc)
+    _check_unique_ids(data, fail)
+    shafts = {s["id"]: s for s in data["shafts"]}
+
+    def need_shaft(name, where):
+        if name not in shafts:
+            fail(where, f"unknown shaft {name!r}; shafts are {', '.join(shafts)}")
+
+    bearings = []
+    for i, b in enumerate(data.get("bearings", [])):
+        need_shaft(b["shaft"], ("bearings", i, "shaft"))
+        if "element_diameter" in b and b["element_diameter"] >= b["pitch_diameter"]:
+            fail(("bearings", i, "element_diameter"),
+                 "rolling element diameter must be smaller than the pitch diameter")
+        bearings.append(Bearing(
+            id=b["id"], shaft=b["shaft"], model=b.get("model"),
+            rolling_elements=b.get("rolling_elements"),
+            element_diameter=b.get("element_diameter"), pitch_diameter=b.get("pitch_diameter"),
+            contact_angle_deg=float(b.get("contact_angle_deg", 0.0)),
+            multiples=MappingProxyType(dict(b["multiples"])) if "multiples" in b else None,
+        ))
+    gears = []
+    for i, g in enumerate(data.get("gears", [])):
+        need_shaft(g["driving"]["shaft"], ("gears", i, "driving", "shaft"))
+        need_shaft(g["driven"]["shaft"], ("gears", i, "driven", "shaft"))
+        if g["driving"]["shaft"] == g["driven"]["shaft"]:
+            fail(("gears", i, "driven", "shaft"), "a gear mesh joins two different shafts")
+        gears.append(GearMesh(g["id"], g["driving"]["shaft"], g["driving"]["teeth"],
+                              g["driven"]["shaft"], g["driven"]["teeth"]))
+    belts = []
+    for i, b in enumerate(data.get("belts", [])):
+        need_shaft(b["driving"]["shaft"], ("belts", i, "driving", "shaft"))
+        need_shaft(b["driven"]["shaft"], ("belts", i, "driven", "shaft"))
+        belts.append(BeltDrive(b["id"], b["driving"]["shaft"], b["driving"]["sheave_diameter_mm"],
+                               b["driven"]["shaft"], b["driven"]["sheave_diameter_mm"],
+                               b["belt_length_mm"]))
+    rotors = []
+    for i, r in enumerate(data.get("rotors", [])):
+        need_shaft(r["shaft"], ("rotors", i, "shaft"))
+        rotors.append(Rotor(r["id"], r["shaft"], r["type"], r["vanes"]))
+    motors = []
+    for i, m in enumerate(data.get("motors", [])):
+        need_shaft(m["shaft"], ("motors", i, "shaft"))
+        motors.append(Motor(m["id"], m["shaft"], float(m["line_frequency_hz"]), m["poles"],
+                            m.get("rotor_bars")))
+
+    speeds, driver = _resolve_speeds(data["shafts"], gears, belts, fail)
+
+    bearing_shaft = {b.id: b.shaft for b in bearings}
+    points = []
+    for i, p in enumerate(data.get("points", [])):
+        if p["at"] in bearing_shaft:
+            shaft = bearing_shaft[p["at"]]
+        elif p["at"] in shafts:
+            shaft = p["at"]
+        else:
+            fail(("points", i, "at"), f"{p['at']!r} is neither a bearing nor a shaft of this machine")
+        points.append(Point(p["id"], p["at"], shaft, p["direction"]))
+
+    descriptions = {s["id"]: s["description"] for s in data["shafts"] if "description" in s}
+    return Machine(
+        name=data["machine"], source=doc.path, plant=data.get("plant"),
+        iso_group=data.get("iso_group"), support=data.get("support"),
+        lubrication=data.get("lubrication"),
+        shaft_speeds_hz=MappingProxyType(speeds), driver_shaft=driver,
+        bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
+        rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
+        descriptions=MappingProxyType(descriptions),
+    )
+
+
+def _failer(doc: YamlDocument):
+    def fail(field_path, problem):
+        dotted = ".".join(str(p) for p in field_path)
+        raise MachineError(f"{dotted}: {problem}", path=doc.path, line=doc.line_of(field_path))
+    return fail
+
+
+def _check_unique_ids(data, fail) -> None:
+    seen: dict[str, str] = {}
+    for section in ("shafts", "bearings", "gears", "belts", "rotors", "motors", "points"):
+        for i, item in enumerate(data.get(section, [])):
+            ident = item["id"]
+            if ident in seen:
+                fail((section, i, "id"), f"id {ident!r} is already used in {seen[ident]}")
+            seen[ident] = section
+
+
+def _resolve_speeds(shaft_specs, gears, belts, fail) -> tuple[dict[str, float], str]:
+    """Nominal speed of every shaft in Hz, following couplings, ratios, gears and belts."""
+    links = {g.id: g for g in gears} | {b.id: b for b in belts}
+    index = {s["id"]: i for i, s in enumerate(shaft_specs)}
+    speeds: dict[str, float] = {}
+
+    def ratio_of(link):
+        if isinstance(link, GearMesh):
+            return link.driving_shaft, link.driven_shaft, link.driving_teeth / link.driven_teeth
+        return link.driving_shaft, link.driven_shaft, link.driving_diameter_mm / link.driven_diameter_mm
+
+    def resolve(name, stack):
+        if name in speeds:
+            return speeds[name]
+        i = index[name]
+        spec = shaft_specs[i]
+        if name in stack:
+            fail(("shafts", i), f"shaft speeds refer to each other in a loop: {' -> '.join(stack + [name])}")
+        stack = stack + [name]
+        if "speed_rpm" in spec:
+            hz = spec["speed_rpm"] / 60.0
+        elif "speed_hz" in spec:
+            hz = float(spec["speed_hz"])
+        elif "same_as" in spec:
+            if spec["same_as"] not in index:
+                fail(("shafts", i, "same_as"), f"unknown shaft {spec['same_as']!r}")
+            hz = resolve(spec["same_as"], stack)
+        elif "ratio_to" in spec:
+            other = spec["ratio_to"]["shaft"]
+            if other not in index:
+                fail(("shafts", i, "ratio_to", "shaft"), f"unknown shaft {other!r}")
+            hz = resolve(other, stack) * spec["ratio_to"]["ratio"]
+        else:
+            link_id = spec["driven_through"]
+            if link_id not in links:
+                fail(("shafts", i, "driven_through"), f"no gear mesh or belt drive with id {link_id!r}")
+            driving, driven, ratio = ratio_of(links[link_id])
+            if driven == name:
+                hz = resolve(driving, stack) * ratio
+            elif driving == name:
+                hz = resolve(driven, stack) / ratio
+            else:
+                fail(("shafts", i, "driven_through"), f"{link_id!r} does not connect to shaft {name!r}")
+        speeds[name] = hz
+        return hz
+
+    for spec in shaft_specs:
+        resolve(spec["id"], [])
+    speeds = {s["id"]: speeds[s["id"]] for s in shaft_specs}
+
+    for kind, items in (("gears", gears), ("belts", belts)):
+        for i, link in enumerate(items):
+            driving, driven, ratio = ratio_of(link)
+            expected = speeds[driving] * ratio
+            if abs(speeds[driven] - expected) > RATIO_TOLERANCE * expected:
+                fail((kind, i), f"shaft {driven!r} runs at {speeds[driven] * 60:.1f} rpm but "
+                     f"{link.id!r} gives {expected * 60:.1f} rpm; use driven_through: {link.id}")
+
+    stated = [s["id"] for s in shaft_specs if "speed_rpm" in s or "speed_hz" in s]
+    if not stated:
+        fail(("shafts",), "no shaft states its speed (speed_rpm or speed_hz)")
+    return speeds, stated[0]
