@@ -19,6 +19,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy import fft as sfft
+from scipy import signal
 
 from .spectrum import Spectrum, amplitude_spectrum
 
@@ -42,22 +43,48 @@ def analytic_band(x, fs: float, band_hz: tuple[float, float] | None = None,
     x = np.asarray(x, dtype=float)
     n = len(x)
     spec = np.fft.rfft(x - x.mean())
-    f = np.fft.rfftfreq(n, 1.0 / fs)
-    lo, hi = (0.0, fs / 2) if band_hz is None else band_hz
-    lines = np.flatnonzero((f >= lo) & (f <= hi) & (f > 0))
     if band_hz is None:
         # the whole band, kept at full rate: the same as scipy.signal.hilbert
         full = np.zeros(n, dtype=complex)
-        full[lines] = 2.0 * spec[lines]
+        full[1:len(spec)] = 2.0 * spec[1:]
         if n % 2 == 0:
             full[n // 2] = spec[n // 2]  # the Nyquist line has no negative twin
-        return BandSignal(np.fft.ifft(full), fs, (lo, hi))
+        return BandSignal(np.fft.ifft(full), fs, (0.0, fs / 2))
+    return band_from_spectrum(spec, n, fs, band_hz, min_rate_hz)
+
+
+def band_from_spectrum(spec: np.ndarray, n: int, fs: float, band_hz: tuple[float, float],
+                       min_rate_hz: float = 0.0) -> BandSignal:
+    """``analytic_band`` from a record's one-sided FFT ``spec`` (of ``n`` samples), computed once."""
+    lo, hi = band_hz
+    f = np.arange(len(spec)) * fs / n
+    lines = np.flatnonzero((f >= lo) & (f <= hi) & (f > 0))
     width = len(lines)
     m = sfft.next_fast_len(max(2 * width + 2, int(np.ceil(min_rate_hz * n / fs)), 16))
     m = min(m, n)
     base = np.zeros(m, dtype=complex)
     base[:width] = 2.0 * spec[lines]
     return BandSignal(np.fft.ifft(base) * (m / n), fs * m / n, (float(lo), float(hi)))
+
+
+def cepstral_prewhiten(x) -> np.ndarray:
+    """Flatten the spectrum's magnitude, keeping its phase: X / |X|.
+
+    Removes discrete components (shaft and mesh harmonics) and the shape of
+    the transfer path in one step, which leaves the impulsive part of a
+    bearing signal dominant (Sawalhi & Randall 2011; Borghesani, Pennacchi,
+    Randall, Sawalhi & Ricci 2013, "Application of cepstrum pre-whitening for
+    the diagnosis of bearing faults under variable speed conditions", MSSP 36).
+    The result has no physical unit. Both ends are tapered first (a Tukey
+    window over 1 % of the record): otherwise the jump between the last and
+    the first sample, which the FFT treats as adjacent, whitens into a spike.
+    """
+    x = np.asarray(x, dtype=float)
+    taper = signal.windows.tukey(len(x), alpha=0.02)
+    spec = np.fft.rfft((x - x.mean()) * taper)
+    mag = np.abs(spec)
+    floor = 1e-12 * (mag.max() if mag.max() > 0 else 1.0)
+    return np.fft.irfft(spec / np.maximum(mag, floor), len(x))
 
 
 def squared_envelope_spectrum(x, fs: float, band_hz: tuple[float, float] | None = None,

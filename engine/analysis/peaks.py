@@ -54,6 +54,8 @@ def interpolate_line(spec: Spectrum, line: int) -> tuple[float, float]:
 
 def noise_floor(spec: Spectrum, line: int, half_width: int = 25) -> float:
     """Median amplitude of the lines around ``line``: a robust local noise floor."""
+    if 2 * half_width + 1 == Spectrum.FLOOR_LINES:
+        return float(spec.floor[line])
     lo, hi = max(0, line - half_width), min(len(spec.amplitude), line + half_width + 1)
     return float(np.median(spec.amplitude[lo:hi]))
 
@@ -67,9 +69,10 @@ def find_peaks(spec: Spectrum, f_lo_hz: float = 0.0, f_hi_hz: float | None = Non
     f_hi_hz = spec.fmax_hz if f_hi_hz is None else f_hi_hz
     lines, _ = signal.find_peaks(spec.amplitude)
     lines = lines[(spec.freq_hz[lines] >= f_lo_hz) & (spec.freq_hz[lines] <= f_hi_hz)]
+    floors = spec.floor
     out = []
     for line in lines:
-        floor = noise_floor(spec, int(line))
+        floor = floors[line]
         snr = spec.amplitude[line] / floor if floor > 0 else np.inf
         if snr < min_snr:
             continue
@@ -81,8 +84,11 @@ def find_peaks(spec: Spectrum, f_lo_hz: float = 0.0, f_hi_hz: float | None = Non
 
 def peak_near(spec: Spectrum, freq_hz: float, tolerance_hz: float) -> Peak | None:
     """The largest local maximum within ``tolerance_hz`` of ``freq_hz``, interpolated."""
-    mask = np.abs(spec.freq_hz - freq_hz) <= max(tolerance_hz, spec.resolution_hz)
-    idx = np.flatnonzero(mask)
+    half = max(tolerance_hz, spec.resolution_hz)
+    lo, hi = np.searchsorted(spec.freq_hz, [freq_hz - half, freq_hz + half], side="left")
+    hi = min(hi + 1, len(spec.freq_hz))
+    idx = np.arange(lo, hi)
+    idx = idx[np.abs(spec.freq_hz[idx] - freq_hz) <= half]
     if len(idx) == 0:
         return None
     line = int(idx[np.argmax(spec.amplitude[idx])])

@@ -10,9 +10,10 @@ window: the coherent gain is divided out (Heinzel, Ruediger & Schilling
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
-from scipy import signal
+from scipy import ndimage, signal
 
 from .windows import window, window_factors, window_name
 
@@ -34,6 +35,13 @@ class Spectrum:
     @property
     def fmax_hz(self) -> float:
         return float(self.freq_hz[-1])
+
+    FLOOR_LINES = 51
+
+    @cached_property
+    def floor(self) -> np.ndarray:
+        """Running median over 51 lines: the local noise floor under every line."""
+        return ndimage.median_filter(self.amplitude, size=self.FLOOR_LINES, mode="nearest")
 
     def rescaled(self, scaling: str) -> "Spectrum":
         factor = _scale(scaling) / _scale(self.scaling)
@@ -106,7 +114,7 @@ def integrate(x, fs: float, f_low_hz: float, times: int = 1) -> np.ndarray:
     """Integrate a signal ``times`` times in the frequency domain, cutting below ``f_low_hz``.
 
     Acceleration in m/s^2 becomes velocity in m/s (once) or displacement in m
-    (twice). Each line is divided by (j 2 pi f); lines below ``f_low_hz`` are
+    (twice); a negative ``times`` differentiates instead. Each line is divided by (j 2 pi f); lines below ``f_low_hz`` are
     removed with a half-cosine taper over the octave below it, because
     integration would otherwise amplify sensor drift without bound.
     The record is treated as periodic, as the FFT does.

@@ -33,12 +33,23 @@ class SpeedEstimate:
 
 
 def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: float = 0.05,
-                         harmonics: int = 5) -> SpeedEstimate:
-    """Find the shaft speed near ``nominal_hz`` whose harmonics best explain the spectrum."""
+                         harmonics: int = 5, exclude_hz=()) -> SpeedEstimate:
+    """Find the shaft speed near ``nominal_hz`` whose harmonics best explain the spectrum.
+
+    Harmonic k counts with weight 1/k, so 1X leads. A harmonic whose search
+    range holds one of ``exclude_hz`` (line-frequency harmonics of a motor,
+    which a slipping rotor's harmonics cross) is left out, since it would pull
+    the speed towards the line.
+    """
     amp = spec.amplitude
     df = spec.resolution_hz
     orders = np.arange(1, harmonics + 1)
     orders = orders[orders * nominal_hz * (1 + search_fraction) < spec.fmax_hz]
+    excluded = np.asarray(exclude_hz, dtype=float)
+    if excluded.size:
+        reach = orders[:, None] * nominal_hz * search_fraction + 2 * df
+        clash = np.any(np.abs(orders[:, None] * nominal_hz - excluded[None, :]) <= reach, axis=1)
+        orders = orders[~clash | (orders == 1)]
     if len(orders) == 0:
         return SpeedEstimate(nominal_hz, nominal_hz, (), False)
     floors = {k: max(noise_floor(spec, int(round(k * nominal_hz / df)), half_width=50), 1e-300)
@@ -49,7 +60,7 @@ def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: flo
     for k in orders:
         lines = np.clip(np.rint(k * candidates / df).astype(int), 1, len(amp) - 2)
         local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
-        score += np.log1p(local / floors[k])
+        score += np.log1p(local / floors[k]) / k
     best = float(candidates[np.argmax(score)])
     estimates, weights, found = [], [], []
     for k in orders:

@@ -21,7 +21,8 @@ from .quality import check_channel, check_resolution
 
 MIN_SAMPLES = 64
 
-__all__ = ["Channel", "QualityIssue", "Reading", "load_reading", "check_resolution", "sidecar_path"]
+__all__ = ["Channel", "QualityIssue", "Reading", "check_resolution", "combine_readings", "load_reading",
+           "sidecar_path"]
 
 
 def sidecar_path(path) -> Path:
@@ -43,8 +44,13 @@ def _read_sidecar(path) -> dict:
 
 def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None = None,
                  scale: float | None = None, point: str | None = None,
-                 direction: str | None = None, speed_rpm: float | None = None) -> Reading:
-    """Load a reading file (WAV, CSV, NPY, NPZ, UFF 58) and run the quality gates."""
+                 direction: str | None = None, speed_rpm: float | None = None,
+                 channels: list[str] | None = None) -> Reading:
+    """Load a reading file (WAV, CSV, NPY, NPZ, MAT, UFF 58) and run the quality gates.
+
+    ``channels`` keeps only the channels named, each matched by its whole
+    name or by the end of it (``DE_time`` picks ``X130_DE_time``).
+    """
     path = str(path)
     p = Path(path)
     if not p.is_file():
@@ -62,10 +68,58 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
         raise ReadingError(f"cannot be read as {p.suffix.lstrip('.').upper()} "
                            f"({exc.__class__.__name__})", path=path) from None
+    if channels:
+        raw = _select(path, raw, channels)
     side = _read_sidecar(path)
     return _assemble(path, raw, side, dict(
         sample_rate_hz=sample_rate_hz, unit=unit, scale=scale, point=point,
         direction=direction, speed_rpm=speed_rpm))
+
+
+def _select(path: str, raw: RawReading, wanted: list[str]) -> RawReading:
+    keep = []
+    for w in wanted:
+        hits = [i for i, n in enumerate(raw.names) if n == w or n.endswith(w)]
+        if len(hits) != 1:
+            known = ", ".join(raw.names)
+            problem = "no channel" if not hits else "more than one channel"
+            raise ReadingError(f"{problem} matches {w!r}; channels are {known}", path=path)
+        keep.append(hits[0])
+
+    def pick(values):
+        return [values[i] for i in keep] if values else values
+    return RawReading(pick(raw.names), pick(raw.arrays), raw.fs_hz, pick(raw.units), raw.full_scale,
+                      pick(raw.points), raw.meta)
+
+
+def combine_readings(readings: list[Reading]) -> Reading:
+    """Several files of one acquisition (one per point) -> one Reading with all channels.
+
+    They must share the sample rate and length; channel names that repeat get
+    the file's stem in front.
+    """
+    if len(readings) == 1:
+        return readings[0]
+    first = readings[0]
+    for r in readings[1:]:
+        if r.fs_hz != first.fs_hz or r.n_samples != first.n_samples:
+            raise ReadingError(f"sample rate or length differs from {first.source} "
+                               f"({r.fs_hz:g} Hz x {r.n_samples} against {first.fs_hz:g} Hz x "
+                               f"{first.n_samples}); diagnose it on its own", path=r.source)
+    names = [c.name for r in readings for c in r.channels]
+    clash = {n for n in names if names.count(n) > 1}
+    channels, quality = [], []
+    for r in readings:
+        prefix = Path(r.source).stem + ":"
+        rename = {c.name: (prefix + c.name if c.name in clash else c.name) for c in r.channels}
+        channels += [Channel(rename[c.name], c.samples, c.quantity, c.unit, c.point, c.direction,
+                             c.full_scale_si) for c in r.channels]
+        quality += [QualityIssue(q.kind, rename.get(q.channel, q.channel), q.message, q.value, q.blocking)
+                    for q in r.quality]
+    speeds = [r.speed_rpm for r in readings if r.speed_rpm]
+    return Reading(source=", ".join(r.source for r in readings), fs_hz=first.fs_hz,
+                   channels=tuple(channels), speed_rpm=speeds[0] if speeds else None,
+                   timestamp=first.timestamp, quality=tuple(quality))
 
 
 def _pick(options: dict, side: dict, raw_meta: dict, key: str):

@@ -182,6 +182,51 @@ def read_uff58(path: str) -> RawReading:
     return RawReading(names, arrays, rates[0], units=units, points=points)
 
 
+def read_mat(path: str) -> RawReading:
+    """MATLAB .mat (v5) exports: every numeric vector is a channel, scalars ending in RPM a speed.
+
+    Variables are kept in file order and by name, never by position; a
+    struct (``bearing.gs`` style) is opened one level. MATLAB v7.3 (HDF5)
+    files are refused with a clear message.
+    """
+    from scipy.io import loadmat
+    from scipy.io.matlab import MatReadError
+
+    try:
+        contents = loadmat(path, squeeze_me=True, struct_as_record=False)
+    except (MatReadError, ValueError, TypeError, OSError) as exc:
+        raise ReadingError(f"not a readable MATLAB v5 .mat file ({exc})", path=path) from None
+    except NotImplementedError:
+        raise ReadingError("MATLAB v7.3 (HDF5) .mat files are not supported; save with -v7", path=path) from None
+    flat = {}
+    for key, value in contents.items():
+        if key.startswith("__"):
+            continue
+        if hasattr(value, "_fieldnames"):
+            for name in value._fieldnames:
+                flat[f"{key}.{name}"] = getattr(value, name)
+        else:
+            flat[key] = value
+    names, arrays, meta = [], [], {}
+    for key, value in flat.items():
+        arr = np.asarray(value)
+        if not np.issubdtype(arr.dtype, np.number):
+            continue
+        if arr.size == 1 and key.upper().endswith("RPM"):
+            meta["speed_rpm"] = float(arr.ravel()[0])
+        elif arr.ndim == 1 and arr.size >= 64:
+            names.append(key)
+            arrays.append(arr.astype(float))
+    if not arrays:
+        raise ReadingError("the .mat file holds no numeric signal vector", path=path)
+    lengths = {len(a) for a in arrays}
+    if len(lengths) > 1:
+        longest = max(lengths)
+        keep = [i for i, a in enumerate(arrays) if len(a) == longest]
+        names, arrays = [names[i] for i in keep], [arrays[i] for i in keep]
+    return RawReading(names, arrays, None, meta=meta)
+
+
 def _snap_rate(fs_hz: float) -> float:
     """ASCII UFF keeps the sample interval to about six digits: 1/5120 reads back as
     5119.987 Hz. A rate within 5 ppm of a whole number of Hz is taken as that number."""
@@ -202,6 +247,7 @@ READERS = {
     ".csv": read_csv,
     ".npy": read_npy,
     ".npz": read_npz,
+    ".mat": read_mat,
     ".uff": read_uff58,
     ".unv": read_uff58,
 }
