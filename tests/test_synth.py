@@ -1,0 +1,161 @@
+"""The simulator against the physics it claims."""
+
+import numpy as np
+import pytest
+import yaml
+
+from engine.analysis import amplitude_spectrum, find_peaks
+from engine.cli import main
+from engine.evidence import extract_evidence
+from engine.kinematics import forcing_frequencies
+from engine.machine import load_machine
+from engine.readings import load_reading
+from engine.synth import as_reading, simulate, write_simulation
+
+from conftest import CASES
+
+RW2 = CASES / "machines" / "rw2-raw-water-pump.yaml"
+CT1 = CASES / "machines" / "ct1-cooling-tower-fan.yaml"
+
+
+@pytest.fixture(scope="module")
+def rw2():
+    return load_machine(RW2)
+
+
+@pytest.fixture(scope="module")
+def ct1():
+    return load_machine(CT1)
+
+
+def _freq(machine, name, component, rpm=None):
+    return next(f.frequency_hz for f in forcing_frequencies(machine, rpm) if f.name == name and f.component == component)
+
+
+@pytest.mark.parametrize("rpm", [1100.0, 1486.0])
+def test_outer_race_impacts_are_spaced_one_over_bpfo(rw2, rpm):
+    # Source: common practice (Randall & Antoni 2011, section 2.1): an outer-race spall is
+    # struck once per ball pass, so impacts are 1/BPFO apart, with 1-2 % random slip.
+    sim = simulate(rw2, "outer-race", "pump_nde", 2, rpm, 12800.0, 4.0, seed=5)
+    bpfo = _freq(rw2, "BPFO", "pump_nde", rpm)
+    intervals = np.diff(sim.extra["impact_times_s"])
+    assert np.mean(intervals) == pytest.approx(1 / bpfo, rel=0.005)
+    assert 0.005 < np.std(intervals) * bpfo < 0.02
+    # and the waveform itself shows it: the impact train extractor measures the rate
+    facts = extract_evidence(as_reading(sim), rw2)
+    train = next(f for f in facts if f["kind"] == "impact_train" and f["channel"] == "P2H")
+    assert train["rate_hz"] == pytest.approx(bpfo, rel=0.01)
+    assert train["matched_name"] == "BPFO" and train["matched_component"] == "pump_nde"
+
+
+def test_eccentric_pinion_sidebands_are_spaced_at_its_speed(ct1):
+    # Source: common practice (Randall 2011, "Vibration-based condition monitoring", 5.2):
+    # eccentricity amplitude-modulates the mesh at the gear's speed, so sidebands sit at
+    # GMF +- k x that speed.
+    sim = simulate(ct1, "gear-eccentricity", "bevel_stage", 3, None, 12800.0, 8.0, seed=2)
+    gmf = _freq(ct1, "GMF", "bevel_stage")
+    f_in = ct1.shaft_speeds_hz["gear_input"]
+    spec = amplitude_spectrum(sim.channels["GINH"], sim.fs_hz)
+    peaks = [p for p in find_peaks(spec, gmf - 3.5 * f_in, gmf + 3.5 * f_in, min_snr=10) if p.amplitude > 0.02]
+    freqs = sorted(p.freq_hz for p in peaks)
+    assert len(freqs) >= 5
+    spacing = np.diff(freqs)
+    assert np.allclose(spacing, f_in, atol=2 * spec.resolution_hz)
+
+
+def test_inner_race_impacts_are_modulated_at_1x(rw2):
+    # Source: common practice (Randall & Antoni 2011, section 2.1): an inner-race spall turns
+    # with the shaft through the load zone, so impact strength varies once per revolution.
+    sim = simulate(rw2, "inner-race", "pump_nde", 2, None, 12800.0, 6.0, seed=1)
+    times = sim.extra["impact_times_s"]
+    fr = rw2.shaft_speeds_hz["pump"]
+    idx = np.rint(times * sim.fs_hz).astype(int)
+    window = int(0.002 * sim.fs_hz)
+    x = sim.channels["P2H"]
+    strength = np.array([np.max(np.abs(x[i:i + window])) for i in idx if i + window < len(x)])
+    t = times[:len(strength)]
+    # the impact strengths, seen as samples at the impact times, oscillate at 1X:
+    # their correlation with cos/sin at fr is strong, at FTF or 2X weak
+    def modulation(f):
+        return abs(np.mean((strength - strength.mean()) * np.exp(-2j * np.pi * f * t))) / strength.std()
+    assert modulation(fr) > 0.3
+    assert modulation(fr) > 3 * modulation(2.37 * fr)
+    facts = extract_evidence(as_reading(sim), rw2)
+    lzm = next(f for f in facts if f["kind"] == "load_zone_modulation" and f["channel"] == "P2H"
+               and f["component"] == "pump_nde" and f["defect"] == "BPFI" and f["modulation"] == "1X")
+    assert lzm["sideband_count"] >= 2 and lzm["depth"] > 0.2
+
+
+def test_outer_race_in_the_load_zone_is_not_modulated(rw2):
+    # Source: common practice: a stationary outer-race defect sits in the load zone all the time.
+    sim = simulate(rw2, "outer-race", "pump_nde", 2, None, 12800.0, 6.0, seed=1)
+    facts = extract_evidence(as_reading(sim), rw2)
+    lzm = next(f for f in facts if f["kind"] == "load_zone_modulation" and f["channel"] == "P2H"
+               and f["component"] == "pump_nde" and f["defect"] == "BPFO" and f["modulation"] == "1X")
+    assert lzm["depth"] < 0.2
+
+
+def test_unbalance_rises_with_speed_squared(rw2):
+    # Source: common practice: the unbalance force is m e omega^2. The fault's own part is
+    # isolated by subtracting the healthy machine of the same seed.
+    amps = []
+    for rpm in (1000.0, 1400.0):
+        fault = simulate(rw2, "unbalance", "pump", 3, rpm, 5120.0, 4.0, seed=9)
+        healthy = simulate(rw2, "healthy", None, 1, rpm, 5120.0, 4.0, seed=9)
+        spec = amplitude_spectrum(fault.channels["P1H"] - healthy.channels["P1H"], 5120.0)
+        fr = rpm / 60 * 1.0
+        line = int(np.argmin(np.abs(spec.freq_hz - fr)))
+        amps.append(spec.amplitude[line - 2:line + 3].max() / (2 * np.pi * fr))  # velocity
+    assert amps[1] / amps[0] == pytest.approx((1400 / 1000) ** 2, rel=0.03)
+
+
+def test_misalignment_is_strong_axially(rw2):
+    # Source: common practice: misalignment shows high axial 1X and 2X.
+    sim = simulate(rw2, "misalignment", "pump", 2, None, 12800.0, 4.0, seed=3)
+    facts = extract_evidence(as_reading(sim), rw2)
+    ratio = next(f for f in facts if f["kind"] == "direction_ratio" and f["location"] == "pump_de")
+    assert ratio["axial_to_radial"] > 1.0 and ratio["axial_2x_to_radial"] > 1.0
+
+
+def test_bearing_damage_grows_with_stage(rw2):
+    # Stage 1 is visible in the envelope only; later stages raise the waveform's kurtosis.
+    kurt = []
+    for stage in (1, 2, 3, 4):
+        sim = simulate(rw2, "outer-race", "pump_nde", stage, None, 12800.0, 3.0, seed=4)
+        kurt.append(next(f["kurtosis"] for f in extract_evidence(as_reading(sim), rw2)
+                         if f["kind"] == "overall" and f["channel"] == "P2H"))
+    assert kurt == sorted(kurt) and kurt[0] < 4.0 < kurt[2]
+
+
+def test_written_simulation_loads_back_with_truth(tmp_path, rw2):
+    sim = simulate(rw2, "inner-race", "pump_de", 2, None, 12800.0, 2.0, seed=0, points=["P1H", "P1A"])
+    written = write_simulation(sim, tmp_path / "ir.wav")
+    assert [p.name for p in written] == ["ir.wav", "ir.wav.yaml", "ir.wav.truth.yaml"]
+    assert not list(tmp_path.glob("*.part"))
+    reading = load_reading(tmp_path / "ir.wav")
+    assert [c.name for c in reading.channels] == ["P1H", "P1A"]
+    assert reading.channel("P1A").direction == "axial" and reading.speed_rpm == 1486.0
+    assert np.allclose(reading.channel("P1H").samples, sim.channels["P1H"], atol=1e-6 * np.abs(sim.channels["P1H"]).max())
+    truth = yaml.safe_load((tmp_path / "ir.wav.truth.yaml").read_text())
+    assert truth["fault"] == "inner-race" and truth["component"] == "pump_de" and truth["stage"] == 2
+
+
+def test_same_seed_same_signal(rw2):
+    a = simulate(rw2, "looseness", "pump", 2, None, 5120.0, 1.0, seed=7)
+    b = simulate(rw2, "looseness", "pump", 2, None, 5120.0, 1.0, seed=7)
+    assert all(np.array_equal(a.channels[k], b.channels[k]) for k in a.channels)
+
+
+def test_cli_synth_and_bad_fault(tmp_path, capsys):
+    out = tmp_path / "r.npz"
+    assert main(["synth", str(RW2), "--fault", "vane-pass", "--duration", "1", "--sample-rate", "5120",
+                 "-o", str(out)]) == 0
+    assert out.exists() and load_reading(out).fs_hz == 5120.0
+    assert main(["synth", str(RW2), "--fault", "gremlins", "-o", str(out)]) == 2
+    assert "invalid choice" in capsys.readouterr().err
+
+
+def test_fault_on_a_component_the_machine_lacks(rw2):
+    from engine.errors import UsageError
+    with pytest.raises(UsageError, match="has no gear"):
+        simulate(rw2, "gear-tooth")
