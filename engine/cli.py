@@ -10,7 +10,7 @@ from . import analysis
 from .errors import TellwaveError, UsageError
 from .kinematics import forcing_frequencies
 from .machine import load_machine
-from .readings import load_reading
+from .readings import combine_readings, load_reading
 from .units import STANDARD_GRAVITY_M_S2
 
 
@@ -73,6 +73,43 @@ def _reading(args) -> int:
     return 0
 
 
+def _load_readings(args):
+    options = _reading_options(args)
+    if args.channels:
+        options["channels"] = [c.strip() for c in args.channels.split(",") if c.strip()]
+    return combine_readings([load_reading(path, **options) for path in args.readings])
+
+
+def _evidence(args) -> int:
+    from .evidence import extract_evidence
+
+    machine = load_machine(args.machine)
+    facts = extract_evidence(_load_readings(args), machine)
+    if args.json:
+        print(json.dumps(facts, indent=2))
+        return 0
+    for fact in facts:
+        fields = ", ".join(f"{k}={_short(v)}" for k, v in fact.items() if k not in ("kind", "id"))
+        print(f"{fact['kind']:<22} {fields}")
+    return 0
+
+
+def _short(value):
+    return f"{value:.4g}" if isinstance(value, float) else value
+
+
+def _synth(args) -> int:
+    from .synth import simulate, write_simulation
+
+    machine = load_machine(args.machine)
+    points = [p.strip() for p in args.points.split(",")] if args.points else None
+    sim = simulate(machine, args.fault, args.component, args.stage, args.rpm, args.sample_rate,
+                   args.duration, args.seed, points)
+    for path in write_simulation(sim, args.output):
+        print(f"wrote {path}")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="tellwave", description="A second opinion on rotating-machinery vibration readings.")
     sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
@@ -89,6 +126,28 @@ def build_parser() -> argparse.ArgumentParser:
     _add_reading_options(p)
     p.add_argument("--peaks", type=int, default=10, help="how many spectral peaks to list")
     p.set_defaults(run=_reading)
+
+    p = sub.add_parser("evidence", help="print the evidence facts of one or more readings of a machine")
+    p.add_argument("readings", nargs="+", help="reading files taken together (one per point, or multi-channel)")
+    p.add_argument("--machine", required=True, help="machine YAML file")
+    _add_reading_options(p)
+    p.add_argument("--channels", help="comma-separated channel names (or name endings) to keep")
+    p.add_argument("--json", action="store_true", help="print JSON")
+    p.set_defaults(run=_evidence)
+
+    from .synth import FAULTS
+    p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
+    p.add_argument("machine", help="machine YAML file")
+    p.add_argument("--fault", default="healthy", choices=list(FAULTS))
+    p.add_argument("--component", help="faulty shaft, bearing, gear mesh, belt, rotor or motor id")
+    p.add_argument("--stage", type=int, default=2, choices=[1, 2, 3, 4], help="damage stage, 1 incipient to 4 severe")
+    p.add_argument("--rpm", type=float, help="speed of the driving shaft (default: nominal)")
+    p.add_argument("--sample-rate", type=float, default=25600.0, help="Hz")
+    p.add_argument("--duration", type=float, default=4.0, help="seconds")
+    p.add_argument("--seed", type=int, default=0)
+    p.add_argument("--points", help="comma-separated measurement points (default: all)")
+    p.add_argument("-o", "--output", required=True, help="reading file to write (.wav, .npz or .csv)")
+    p.set_defaults(run=_synth)
     return parser
 
 

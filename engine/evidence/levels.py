@@ -1,0 +1,60 @@
+"""Overall levels, waveform statistics and direction ratios."""
+
+from __future__ import annotations
+
+from collections import defaultdict
+
+from ._match import find_line
+from .context import ReadingContext
+
+
+def overall(rc: ReadingContext) -> list[dict]:
+    """One ``overall`` fact per channel: ISO band velocity, acceleration, crest factor, kurtosis."""
+    out = []
+    for c in rc.channels:
+        lv = c.levels
+        out.append(c.base() | {
+            "kind": "overall",
+            "velocity_rms_mm_s": lv.velocity_rms_mm_s,
+            "accel_rms_g": lv.acceleration_rms_g, "accel_peak_g": lv.acceleration_peak_g,
+            "crest_factor": lv.crest_factor, "kurtosis": lv.kurtosis, "skewness": lv.skewness,
+            "band_truncated": lv.band_truncated,
+        })
+    return out
+
+
+def _order_amplitude(c, speed_hz: float, order: int, tol: float) -> float:
+    peak = find_line(c.velocity, order * speed_hz, tol)
+    return peak.amplitude if peak else 0.0
+
+
+def direction_ratio(rc: ReadingContext) -> list[dict]:
+    """Axial against radial, horizontal against vertical, where one location has several channels."""
+    by_location = defaultdict(dict)
+    for c in rc.channels:
+        if c.point is not None:
+            by_location[c.point.at].setdefault(c.point.direction, c)
+    out = []
+    tol = 0.005 if rc.speed_estimate.refined else 0.02
+    for location, dirs in by_location.items():
+        radial = [dirs[d] for d in ("horizontal", "vertical") if d in dirs]
+        if len(dirs) < 2 or not radial:
+            continue
+        shaft = radial[0].point.shaft
+        fr = rc.speeds_hz[shaft]
+        fact = {"kind": "direction_ratio", "location": location, "channels": len(dirs),
+                "axial_to_radial": 0.0, "axial_1x_to_radial": 0.0, "axial_2x_to_radial": 0.0,
+                "horizontal_to_vertical": 0.0}
+        big = max(radial, key=lambda c: c.levels.velocity_rms_mm_s)
+        if "axial" in dirs:
+            ax = dirs["axial"]
+            fact["axial_to_radial"] = ax.levels.velocity_rms_mm_s / big.levels.velocity_rms_mm_s
+            for order, key in ((1, "axial_1x_to_radial"), (2, "axial_2x_to_radial")):
+                rad = max(_order_amplitude(c, fr, order, tol) for c in radial)
+                fact[key] = _order_amplitude(ax, fr, order, tol) / rad if rad > 0 else 0.0
+        if "horizontal" in dirs and "vertical" in dirs:
+            fact["horizontal_to_vertical"] = (dirs["horizontal"].levels.velocity_rms_mm_s
+                                              / dirs["vertical"].levels.velocity_rms_mm_s)
+        out.append(fact)
+    return out
+
