@@ -110,6 +110,61 @@ def _synth(args) -> int:
     return 0
 
 
+def _rulebook(args):
+    from .reasoning import load_rulebook
+
+    return load_rulebook(*(args.site or []))
+
+
+def _rulebook_check(args) -> int:
+    from .reasoning.explain import summary
+
+    rulebook = _rulebook(args)
+    for line in summary(rulebook):
+        print(line)
+    print("rulebooks are valid")
+    return 0
+
+
+def _rulebook_explain(args) -> int:
+    from .reasoning.explain import explain
+
+    rulebook = _rulebook(args)
+    try:
+        rule = rulebook.rule(args.rule_id)
+    except KeyError:
+        if args.rule_id in rulebook.disabled:
+            reason, path = rulebook.disabled[args.rule_id]
+            raise UsageError(f"rule {args.rule_id} is switched off by {path}: {reason}") from None
+        near = [r.id for r in rulebook.rules if args.rule_id in r.id][:5]
+        hint = f"; did you mean {', '.join(near)}?" if near else ""
+        raise UsageError(f"no rule has id {args.rule_id!r}{hint}") from None
+    for line in explain(rule, rulebook):
+        print(line)
+    return 0
+
+
+def _rulebook_test(args) -> int:
+    from .casebook import case_files, load_case, run_case
+    from .reasoning import Reasoner
+
+    reasoner = Reasoner(_rulebook(args))
+    files = case_files(args.cases)
+    if not files:
+        raise UsageError(f"{args.cases}: no *.case.yaml files")
+    failed = 0
+    for path in files:
+        result = run_case(load_case(path), reasoner)
+        failed += not result.passed
+        expected = result.case.expect
+        want = ("withheld" if expected.get("withheld") else "nothing confident" if expected.get("nothing")
+                else f"{expected['fault']}" + (f" on {expected['component']}" if "component" in expected else ""))
+        mark = "pass" if result.passed else "FAIL"
+        print(f"{mark}  {path}: {result.case.name}\n      expected {want}; got {result.got}")
+    print(f"{len(files) - failed} of {len(files)} cases pass")
+    return 1 if failed else 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="tellwave", description="A second opinion on rotating-machinery vibration readings.")
     sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
@@ -148,6 +203,20 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--points", help="comma-separated measurement points (default: all)")
     p.add_argument("-o", "--output", required=True, help="reading file to write (.wav, .npz or .csv)")
     p.set_defaults(run=_synth)
+
+    p = sub.add_parser("rulebook", help="check, test and explain rulebooks")
+    rb = p.add_subparsers(dest="action", required=True, parser_class=_Parser)
+    for name, helptext, run in (("check", "validate the rulebooks and summarise rules per fault", _rulebook_check),
+                                ("test", "run every case in a folder and report which pass", _rulebook_test),
+                                ("explain", "print one rule in plain words with its source", _rulebook_explain)):
+        q = rb.add_parser(name, help=helptext)
+        if name == "test":
+            q.add_argument("cases", help="folder of *.case.yaml files")
+        if name == "explain":
+            q.add_argument("rule_id")
+        q.add_argument("--site", action="append", metavar="FOLDER",
+                       help="site rulebook folder or file laid over the shipped ones (repeatable)")
+        q.set_defaults(run=run)
     return parser
 
 

@@ -22,6 +22,10 @@ import yaml
 from .errors import TellwaveError
 
 
+# libyaml when the install has it: rulebooks are parsed on every run
+_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+
 @dataclass(frozen=True)
 class YamlDocument:
     """Parsed YAML data plus the source line (1-based) of each node by path."""
@@ -65,8 +69,12 @@ def read_yaml(path, error: type[TellwaveError]) -> YamlDocument:
     except (OSError, UnicodeDecodeError) as exc:
         raise error(f"cannot read as UTF-8 text ({exc.__class__.__name__})", path=path) from None
     try:
-        node = yaml.compose(text, Loader=yaml.SafeLoader)
-        data = yaml.safe_load(text)
+        loader = _LOADER(text)
+        try:
+            node = loader.get_single_node()
+            data = loader.construct_document(node) if node is not None else None
+        finally:
+            loader.dispose()
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark
         line = mark.line + 1 if mark is not None else None
@@ -109,17 +117,17 @@ def _one_of_required(err: jsonschema.ValidationError) -> list[list[str]] | None:
     return options
 
 
-def validate(doc: YamlDocument, schema_name: str, error: type[TellwaveError]) -> None:
-    """Validate ``doc`` against a shipped schema; raise ``error`` on the first problem.
+def first_problem(doc: YamlDocument, schema_name: str) -> tuple[list, str] | None:
+    """The most specific schema violation in ``doc`` as (field path, problem), or None.
 
-    The problem reported is the one deepest in the document (the most specific),
-    so a typo in one field is named as that field, not as "does not match any
-    alternative" of its parent.
+    The problem reported is the one deepest in the document, so a typo in one
+    field is named as that field, not as "does not match any alternative" of
+    its parent.
     """
     validator = jsonschema.Draft202012Validator(load_schema(schema_name))
     errors = list(validator.iter_errors(doc.data))
     if not errors:
-        return
+        return None
     best = max(errors, key=lambda e: len(e.absolute_path))
     path = list(best.absolute_path)
     alternatives = _one_of_required(best)
@@ -130,17 +138,28 @@ def validate(doc: YamlDocument, schema_name: str, error: type[TellwaveError]) ->
             problem = "give only one of " + ", ".join(" + ".join(k) for k in complete)
         else:
             problem = "needs " + " or ".join(" + ".join(k) for k in alternatives)
-    else:
-        if best.context:
-            best = jsonschema.exceptions.best_match(best.context)
-            path = list(best.absolute_path)
-        problem = _describe(best)
-        if best.validator == "additionalProperties" and isinstance(best.instance, dict):
-            allowed = set(best.schema.get("properties", {}))
-            extra = [k for k in best.instance if k not in allowed]
-            if extra:
-                path = path + [extra[0]]
-                near = difflib.get_close_matches(str(extra[0]), sorted(allowed), n=1)
-                problem = f"unknown field" + (f"; did you mean {near[0]!r}?" if near else "")
+        return path, problem
+    if best.context:
+        # an alternative of the wrong type says less than one of the right type
+        telling = [e for e in best.context if e.validator != "type"] or best.context
+        best = jsonschema.exceptions.best_match(telling)
+        path = list(best.absolute_path)
+    problem = _describe(best)
+    if best.validator == "additionalProperties" and isinstance(best.instance, dict):
+        allowed = set(best.schema.get("properties", {}))
+        extra = [k for k in best.instance if k not in allowed]
+        if extra:
+            path = path + [extra[0]]
+            near = difflib.get_close_matches(str(extra[0]), sorted(allowed), n=1)
+            problem = "unknown field" + (f"; did you mean {near[0]!r}?" if near else "")
+    return path, problem
+
+
+def validate(doc: YamlDocument, schema_name: str, error: type[TellwaveError]) -> None:
+    """Validate ``doc`` against a shipped schema; raise ``error`` on the first problem."""
+    found = first_problem(doc, schema_name)
+    if found is None:
+        return
+    path, problem = found
     field = ".".join(str(p) for p in path) or "(top level)"
     raise error(f"{field}: {problem}", path=doc.path, line=doc.line_of(path))

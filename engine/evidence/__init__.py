@@ -41,6 +41,7 @@ EXTRACTORS = (
     Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",)),
     Extractor("acquisition", acquisition.acquisition, ("acquisition",)),
     Extractor("data_quality", acquisition.data_quality, ("data_quality",)),
+    Extractor("machine", acquisition.machine_class, ("machine",)),
 )
 
 

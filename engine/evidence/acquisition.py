@@ -102,3 +102,11 @@ def data_quality(rc: ReadingContext) -> list[dict]:
     return [{"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
              "blocking": q.blocking} for q in rc.reading.quality]
 
+
+
+def machine_class(rc: ReadingContext) -> list[dict]:
+    """What kind of machine this is, so a site rule can hold for one class only."""
+    m = rc.machine
+    return [{"kind": "machine", "name": m.name, "iso_group": m.iso_group or 0, "support": m.support or "",
+             "driver_rpm": rc.speeds_hz[m.driver_shaft] * 60, "gears": len(m.gears), "belts": len(m.belts),
+             "motors": len(m.motors)}]

@@ -57,7 +57,8 @@ class ChannelContext:
     def base(self) -> dict:
         """The fields every fact about this channel carries."""
         return {"channel": self.name, "point": self.point.id if self.point else (self.channel.point or ""),
-                "direction": self.direction or "", "location": self.location or ""}
+                "direction": self.direction or "", "location": self.location or "",
+                "location_shaft": self.point.shaft if self.point else ""}
 
 
 @dataclass(frozen=True)
@@ -110,7 +111,9 @@ def _envelope(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     cut = int(EDGE_TRIM * len(sig.samples))
     squared = np.abs(sig.samples[cut:len(sig.samples) - cut]) ** 2
     ses = analysis.amplitude_spectrum(squared, sig.fs_hz, scaling="peak")
-    keep = ses.freq_hz <= span * 1.2
+    # The squared envelope of a band B wide holds nothing above B: lines
+    # there would stand over an empty floor.
+    keep = ses.freq_hz <= min(span * 1.2, band[1] - band[0])
     ses = analysis.Spectrum(ses.freq_hz[keep], ses.amplitude[keep], ses.scaling, ses.window,
                             ses.resolution_hz, ses.enbw_hz)
     return kg, ses, squared, sig.fs_hz

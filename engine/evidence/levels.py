@@ -42,7 +42,7 @@ def direction_ratio(rc: ReadingContext) -> list[dict]:
             continue
         shaft = radial[0].point.shaft
         fr = rc.speeds_hz[shaft]
-        fact = {"kind": "direction_ratio", "location": location, "channels": len(dirs),
+        fact = {"kind": "direction_ratio", "location": location, "location_shaft": shaft, "channels": len(dirs),
                 "axial_to_radial": 0.0, "axial_1x_to_radial": 0.0, "axial_2x_to_radial": 0.0,
                 "horizontal_to_vertical": 0.0}
         big = max(radial, key=lambda c: c.levels.velocity_rms_mm_s)

@@ -26,7 +26,8 @@ def _carriers(rc: ReadingContext):
         fr = rc.speeds_hz[m.shaft]
         pole_pass = m.poles * (2 * m.line_frequency_hz / m.poles - fr)
         if pole_pass > 0:
-            out.append(("1X", m.shaft, fr, "pole pass", m.shaft, pole_pass, True))
+            # The carrier is the motor shaft's 1X; the family belongs to the motor itself.
+            out.append(("1X", m.id, fr, "pole pass", m.shaft, pole_pass, True))
     return out
 
 

@@ -12,6 +12,7 @@ CHANNEL_FIELDS = {
     "point": ("string", "measurement point id"),
     "direction": ("string", "horizontal, vertical or axial"),
     "location": ("string", "bearing or shaft the point sits at"),
+    "location_shaft": ("string", "shaft the point's bearing carries"),
 }
 
 FACTS: dict[str, dict[str, tuple[str, str]]] = {
@@ -62,7 +63,7 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
     },
     "sideband_family": CHANNEL_FIELDS | {
         "carrier": ("string", "GMF, 2xGMF, BPFI or 1X"),
-        "component": ("string", "component of the carrier"),
+        "component": ("string", "component of the carrier (the motor for pole-pass families)"),
         "carrier_hz": ("number", "carrier frequency, Hz"),
         "carrier_found": ("boolean", "a peak stands at the carrier"),
         "spacing": ("string", "what the spacing matches: 1X, pole pass"),
@@ -118,6 +119,7 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
     },
     "direction_ratio": {
         "location": ("string", "bearing or shaft"),
+        "location_shaft": ("string", "shaft the location carries"),
         "axial_to_radial": ("number", "axial over the larger radial overall velocity"),
         "axial_1x_to_radial": ("number", "axial 1X over the larger radial 1X"),
         "axial_2x_to_radial": ("number", "axial 2X over the larger radial 2X"),
@@ -147,6 +149,15 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
         "issue": ("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, too_short"),
         "value": ("number", "size of the problem (its unit depends on the issue)"),
         "blocking": ("boolean", "the channel could not be analysed"),
+    },
+    "machine": {
+        "name": ("string", "machine name from its file"),
+        "iso_group": ("integer", "ISO 20816-3 group (1 or 2; 0 when not stated)"),
+        "support": ("string", "rigid or flexible ('' when not stated)"),
+        "driver_rpm": ("number", "running speed of the driving shaft, rpm"),
+        "gears": ("integer", "gear meshes in the train"),
+        "belts": ("integer", "belt drives in the train"),
+        "motors": ("integer", "induction motors in the train"),
     },
 }
 

@@ -1,0 +1,102 @@
+"""Cases: a reading (a file, or a simulation recipe), its machine and the conclusion expected.
+
+A site keeps its confirmed diagnoses as cases, so ``tellwave rulebook test``
+shows that a new or changed rule does not break a diagnosis that was right.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from .errors import UsageError
+from .evidence import extract_evidence
+from .machine import load_machine
+from .readings import combine_readings, load_reading
+from .reasoning import CONFIDENT, Reasoner, Reasoning
+from .yamlfile import read_yaml, validate
+
+
+class CaseError(UsageError):
+    """A case file is malformed or names files that do not exist."""
+
+
+@dataclass(frozen=True)
+class Case:
+    name: str
+    path: str
+    machine: Path
+    readings: tuple[Path, ...]
+    simulate: dict | None
+    speed_rpm: float | None
+    expect: dict
+
+
+@dataclass(frozen=True)
+class CaseResult:
+    case: Case
+    passed: bool
+    got: str          # what the reasoning concluded, in words
+
+
+def load_case(path) -> Case:
+    doc = read_yaml(path, CaseError)
+    validate(doc, "case.schema.json", CaseError)
+    base = Path(path).parent
+    d = doc.data
+    machine = base / d["machine"]
+    if not machine.exists():
+        raise CaseError(f"machine file {d['machine']} not found", path=str(path), line=doc.line_of(["machine"]))
+    readings = tuple(base / r for r in d.get("readings", []))
+    for i, r in enumerate(readings):
+        if not r.exists():
+            raise CaseError(f"reading file {d['readings'][i]} not found", path=str(path),
+                            line=doc.line_of(["readings", i]))
+    return Case(d["case"], str(path), machine, readings, d.get("simulate"), d.get("speed_rpm"), d["expect"])
+
+
+def case_files(folder) -> list[Path]:
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise CaseError("not a folder of case files", path=str(folder))
+    return sorted(p for p in folder.rglob("*.case.yaml"))
+
+
+def evidence_of(case: Case) -> list[dict]:
+    machine = load_machine(case.machine)
+    if case.simulate is not None:
+        from .synth import as_reading, simulate
+
+        s = case.simulate
+        sim = simulate(machine, s["fault"], s.get("component"), s.get("stage", 2), s.get("rpm"),
+                       s.get("sample_rate_hz", 25600.0), s.get("duration_s", 4.0), s.get("seed", 0), s.get("points"))
+        reading = as_reading(sim, source=case.path)
+    else:
+        reading = combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
+    return extract_evidence(reading, machine)
+
+
+def describe(result: Reasoning) -> str:
+    if result.withheld:
+        return "withheld: " + ", ".join(f"{h.fault} {h.certainty:.2f}" for h in result.reading_problems if h.confident)
+    top = result.top
+    if top is None or top.certainty < CONFIDENT:
+        return "nothing confident" + (f" (best {top.fault} on {top.component}, {top.certainty:.2f})" if top else "")
+    return f"{top.fault} on {top.component} ({top.certainty:.2f})"
+
+
+def judge(expect: dict, result: Reasoning) -> bool:
+    if expect.get("withheld"):
+        return result.withheld
+    if result.withheld:
+        return False
+    top = result.top
+    confident = top is not None and top.certainty >= CONFIDENT
+    if expect.get("nothing"):
+        return not confident
+    return confident and top.fault == expect["fault"] and expect.get("component", top.component) == top.component
+
+
+def run_case(case: Case, reasoner: Reasoner) -> CaseResult:
+    result = reasoner.reason(evidence_of(case))
+    return CaseResult(case, judge(case.expect, result), describe(result))

@@ -1,0 +1,280 @@
+"""Forward chaining on durable-rules, made safe for one diagnosis after another.
+
+durable-rules 2.0.28 has hazards this layer handles (measured in
+../shared/notes/durable-rules.md; each one has a test in tests/test_reasoning.py):
+
+- ``Host()`` starts timer threads that may run actions on another thread:
+  ``QuietHost`` does not start them, so every assert returns only after all
+  chained consequences have run, on the caller's thread.
+- a negation is checked once: every rule starts with the phase fact, asserted
+  after all evidence (see ``compile``).
+- exceptions inside actions are swallowed: each action catches its own,
+  records it, and ``reason`` raises it after the diagnosis; the state's
+  ``exception`` field is checked too.
+- numbers in exponent notation are rejected: the engine's copy of a fact
+  has tiny magnitudes set to 0 and huge ones capped (``engine_value``); the
+  trail keeps the measured values.
+- ``any`` merges activations: the compiler never emits it (a rule is ``all``).
+- actions must take exactly one parameter: each is a closure of one argument.
+- at most 1024 live states per ruleset: each diagnosis uses a fresh sid and
+  deletes its state, even when it fails.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+import threading
+from collections import defaultdict
+from types import SimpleNamespace
+
+from durable.engine import Host, MessageNotHandledException, MessageObservedException
+
+from ..errors import TellwaveError
+from . import certainty as cf
+from .compile import PHASE_KIND, compile_ruleset, tally_slot
+from .findings import Firing, Hypothesis, Reasoning
+from .rulebook import SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Rulebook
+
+LARGEST_NUMBER = 1e15
+RULESET = "tellwave"
+
+
+class ReasoningError(TellwaveError):
+    """A rule failed while it ran: a bug in the engine or a rule the checks missed."""
+
+    exit_code = 6
+
+
+class QuietHost(Host):
+    """A durable-rules host without its background dispatch threads."""
+
+    def _run(self):
+        pass
+
+
+def engine_value(x):
+    """A value the rule engine accepts: no exponent notation, no NaN or inf (None drops the field)."""
+    if isinstance(x, bool) or not isinstance(x, float):
+        return x
+    if not math.isfinite(x):
+        return None
+    if abs(x) < SMALLEST_NUMBER:
+        return 0.0
+    if abs(x) >= LARGEST_NUMBER:
+        return math.copysign(LARGEST_NUMBER, x)
+    return round(x, 6)
+
+
+def engine_copy(fact: dict, sid: str) -> dict:
+    out = {k: engine_value(v) for k, v in fact.items()}
+    out = {k: v for k, v in out.items() if v is not None}
+    out["sid"] = sid
+    return out
+
+
+def _literal_match(fact: dict, c) -> bool:
+    """One condition on one fact, as the engine would judge it (joins to other facts excepted).
+
+    Used for count patterns (counts are made before chaining starts) and to
+    leave out facts that no pattern could accept. Give it the engine's copy
+    of the fact, so rounding is the same as the engine's.
+    """
+    v = fact.get(c.field)
+    target = c.value
+    if isinstance(target, Ref):   # a bare field of the same fact
+        target = fact.get(target.field)
+        if target is None:
+            return False
+        target = target * c.value.factor if c.value.factor != 1 else target
+    if v is None:
+        return False
+    if c.op in ("is", "same_as"):
+        return v == target
+    if c.op in ("is_not", "differs_from"):
+        return v != target
+    if c.op == "one_of":
+        return v in c.value
+    if c.op == "not_one_of":
+        return v not in c.value
+    if c.op == "between":
+        return c.value[0] <= v <= c.value[1]
+    return {"above": v > target, "at_least": v >= target, "below": v < target, "at_most": v <= target}[c.op]
+
+
+def tallies(rules, facts: list[dict]) -> list[dict]:
+    """Counts that the rules' count patterns read, one fact per (pattern, group)."""
+    out = []
+    for rule in rules:
+        for p in rule.needs:
+            if not p.counted:
+                continue
+            groups: dict = defaultdict(int)
+            if p.per is None:
+                groups[""] = 0
+            for f in facts:
+                if f["kind"] == p.kind and all(_literal_match(f, c) for c in p.conditions):
+                    groups["" if p.per is None else f.get(p.per)] += 1
+            for group, n in sorted(groups.items(), key=lambda kv: str(kv[0])):
+                out.append({"kind": TALLY_KIND, "id": f"tally-{len(out) + 1}", "slot": tally_slot(rule, p),
+                            "group": group, "n": n})
+    return out
+
+
+class _Session:
+    """Everything one diagnosis collects while its actions run."""
+
+    def __init__(self, facts_by_id):
+        self.facts_by_id = facts_by_id
+        self.firings: list[tuple[Rule, Firing]] = []
+        self.errors: list[str] = []
+        self.derived_count = 0
+
+
+class Reasoner:
+    """A compiled rulebook that diagnoses evidence fact lists, one isolated session each."""
+
+    def __init__(self, rulebook: Rulebook):
+        self.rulebook = rulebook
+        self._host = QuietHost()
+        self._host.set_rulesets({RULESET: compile_ruleset(rulebook.rules, self._make_action)})
+        self._sessions: dict[str, _Session] = {}
+        self._sids = itertools.count(1)
+        self._lock = threading.Lock()
+        self._patterns: dict[str, list] = defaultdict(list)
+        for r in rulebook.rules:
+            for p in r.needs + r.none_of:
+                if not p.counted:
+                    self._patterns[p.kind].append(p)
+
+    def _could_match(self, fact: dict) -> bool:
+        """Whether some pattern's own conditions accept ``fact`` (joins are left to the engine).
+
+        Facts no pattern can accept would only cost the engine time; the
+        engine still decides every match, join and negation itself.
+        """
+        return any(all(_literal_match(fact, c) for c in p.conditions
+                       if not (isinstance(c.value, Ref) and c.value.alias is not None))
+                   for p in self._patterns.get(fact["kind"], ()))
+
+    def _make_action(self, rule: Rule):
+        def fire(c):
+            session = self._sessions.get(c.s.sid)
+            if session is None:
+                return
+            try:
+                self._fire(rule, c, session)
+            except Exception as exc:  # noqa: BLE001 - durable-rules would swallow it
+                session.errors.append(f"rule {rule.id}: {exc.__class__.__name__}: {exc}")
+        return fire
+
+    def _fire(self, rule: Rule, c, session: _Session) -> None:
+        matched = []
+        for p in rule.needs:
+            engine_fact = getattr(c, p.alias)
+            fid = engine_fact["id"]
+            matched.append((p.alias, session.facts_by_id[fid]))
+        values = dict(matched)
+        grade = 1.0
+        for r in rule.ramps:
+            grade *= cf.ramp(_value(values, r.value), r.start, r.full)
+        premises = [f.get("certainty", 1.0) for _, f in matched if f["kind"] not in (TALLY_KIND,)]
+        strength = rule.weight * grade * cf.premise_certainty(premises)
+        because = rule.because.format_map({a: SimpleNamespace(**f) for a, f in matched})
+        derived = None
+        if rule.derives is not None and strength > 0:
+            session.derived_count += 1
+            derived = {"kind": rule.derives, "id": f"{rule.derives}-{session.derived_count}",
+                       "certainty": strength}
+            for name, v in rule.derived_fields:
+                derived[name] = _value(values, v) if isinstance(v, Ref) else v
+            session.facts_by_id[derived["id"]] = derived
+        firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
+                        tuple(matched), derived)
+        session.firings.append((rule, firing))
+        if derived is not None:
+            try:
+                c.assert_fact(engine_copy(derived, c.s.sid))
+            except MessageNotHandledException:
+                pass  # no rule reads this derived kind under these conditions
+
+    def reason(self, facts: list[dict]) -> Reasoning:
+        """Forward-chain ``facts`` to quiescence and rank the hypotheses."""
+        with self._lock:
+            sid = f"d{next(self._sids)}"
+            copies = {f["id"]: engine_copy(f, sid) for f in facts}
+            considered = sorted((f for f in facts if self._could_match(copies[f["id"]])), key=lambda f: f["id"])
+            tally = tallies(self.rulebook.rules, list(copies.values()))
+            considered += tally
+            copies.update({t["id"]: engine_copy(t, sid) for t in tally})
+            session = _Session({f["id"]: f for f in considered})
+            self._sessions[sid] = session
+            try:
+                for fact in considered:
+                    self._assert(copies[fact["id"]])
+                self._assert({"kind": PHASE_KIND, "id": "phase", "sid": sid})
+                state = self._host.get_state(RULESET, sid)
+                if "exception" in state:
+                    session.errors.append(str(state["exception"]))
+            finally:
+                del self._sessions[sid]
+                try:
+                    self._host.delete_state(RULESET, sid)
+                except Exception:  # noqa: BLE001 - a state that never got created
+                    pass
+            if session.errors:
+                raise ReasoningError("; ".join(session.errors[:3]))
+            return self._rank(session, len(considered))
+
+    def _assert(self, fact: dict) -> None:
+        try:
+            self._host.assert_fact(RULESET, fact)
+        except MessageNotHandledException:
+            pass  # no rule's conditions look at this fact
+        except MessageObservedException:
+            raise ReasoningError(f"fact {fact.get('id')} asserted twice") from None
+
+    def _rank(self, session: _Session, considered: int) -> Reasoning:
+        by_hypothesis: dict[tuple[str, str], dict[str, list[tuple[Rule, Firing]]]] = defaultdict(lambda: defaultdict(list))
+        chain = []
+        for rule, firing in session.firings:
+            if rule.derives is not None:
+                chain.append(firing)
+                continue
+            values = dict(firing.facts)
+            component = _value(values, rule.component)
+            fault = rule.fault.pick(_value(values, rule.fault.value)) if isinstance(rule.fault, FaultChoice) else rule.fault
+            if fault is not None:
+                by_hypothesis[(fault, str(component))][rule.id].append((rule, firing))
+        hypotheses = []
+        for (fault_id, component), per_rule in by_hypothesis.items():
+            support, against, extra = [], [], 0
+            for rule_id in sorted(per_rule):
+                entries = per_rule[rule_id]
+                extra += len(entries) - 1
+                rule, best = max(entries, key=lambda e: abs(e[1].certainty))  # first of equals
+                if best.certainty > 0:
+                    support.append((rule, best))
+                elif best.certainty < 0:
+                    against.append((rule, best))
+            total = cf.combine_all([f.certainty for _, f in support + against])
+            stages = [r.stage for r, f in support if r.stage is not None and f.certainty >= cf.POSSIBLE / 2]
+            fault = self.rulebook.faults[fault_id]
+            hypotheses.append(Hypothesis(
+                fault_id, fault.name, fault.family, component, round(total, 6), max(stages) if stages else None,
+                tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
+                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra))
+        hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))
+        problems = tuple(h for h in hypotheses if self.rulebook.faults[h.fault].withholds_diagnosis)
+        withheld = any(h.confident for h in problems)
+        faults = tuple(h for h in hypotheses if not self.rulebook.faults[h.fault].withholds_diagnosis)
+        return Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
+                         self.rulebook.files)
+
+
+def _value(values: dict, ref):
+    if not isinstance(ref, Ref):
+        return ref
+    fact = values[ref.alias]
+    v = fact.get(ref.field) if ref.alias in values else None
+    return v * ref.factor if ref.factor != 1 else v

@@ -1,0 +1,63 @@
+"""What reasoning returns: firings, ranked hypotheses and their trail (plain frozen values)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from .certainty import CONFIDENT, word_for
+
+
+@dataclass(frozen=True)
+class Firing:
+    """One rule satisfied by one set of facts, with the certainty it lends."""
+
+    rule_id: str
+    title: str
+    source: str
+    origin: str                       # file:line of the rule
+    overrides: tuple[str, ...]        # files whose rule of this id it replaced
+    certainty: float                  # signed: negative counts against
+    because: str                      # the rule's sentence with measured values filled in
+    facts: tuple[tuple[str, dict], ...]   # (alias, fact) that satisfied it
+    derived: dict | None = None       # the fact it asserted, for a chaining rule
+
+
+@dataclass(frozen=True)
+class Hypothesis:
+    fault: str
+    fault_name: str
+    family: str
+    component: str
+    certainty: float
+    stage: int | None
+    support: tuple[Firing, ...]       # strongest firing of each rule for it
+    against: tuple[Firing, ...]       # strongest firing of each rule against it
+    other_matches: int = 0            # weaker firings of the same rules, not counted again
+
+    @property
+    def strength(self) -> str:
+        return word_for(self.certainty)
+
+    @property
+    def confident(self) -> bool:
+        return self.certainty >= CONFIDENT
+
+
+@dataclass(frozen=True)
+class Reasoning:
+    """Ranked hypotheses and the chain of derived facts behind them."""
+
+    hypotheses: tuple[Hypothesis, ...]
+    withheld: bool                       # a reading problem means no fault conclusion stands
+    reading_problems: tuple[Hypothesis, ...]
+    chain: tuple[Firing, ...]            # rules that derived intermediate facts
+    facts_considered: int
+    rules_loaded: int
+    rulebook_files: tuple[str, ...] = field(default=())
+
+    @property
+    def top(self) -> Hypothesis | None:
+        return self.hypotheses[0] if self.hypotheses else None
+
+    def confident(self) -> tuple[Hypothesis, ...]:
+        return tuple(h for h in self.hypotheses if h.confident)

@@ -1,0 +1,445 @@
+"""Rulebook files -> checked, plain rule values, with site overlays applied.
+
+A rulebook is YAML (see rulebooks/README.md). Loading it does three checks,
+each reported as one line naming the file, the line and the rule:
+
+1. the file against ``engine/schemas/rulebook.schema.json``;
+2. every fact kind, field, reference, placeholder and comparison against the
+   evidence vocabulary (``engine.evidence.vocabulary``) and the derived kinds
+   the rulebooks declare, so a rule cannot silently never fire;
+3. the overlay: a site file may add rules, replace a loaded rule of the same
+   id (``overrides: true``) or switch one off (``disable:``); anything else
+   that reuses an id is an error.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import string
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+from ..errors import RulebookError
+from ..evidence.vocabulary import FACTS, fields_of
+from ..yamlfile import YamlDocument, first_problem, read_yaml
+
+SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
+RESERVED_ALIASES = {"s", "m", "host", "tw_phase"}
+TALLY_KIND = "tally"
+COMPARISONS = {"above", "at_least", "below", "at_most"}
+NUMERIC = {"number", "integer"}
+_OPERAND = re.compile(r"^\s*(?:(?P<k>[-+]?\d+(?:\.\d*)?)\s*\*\s*)?(?:(?P<alias>[a-z][a-z0-9_]*)\.)?"
+                      r"(?P<field>[a-z0-9_]+)\s*$")
+
+
+@dataclass(frozen=True)
+class Ref:
+    """A value taken from a fact matched earlier in the rule (``alias.field``) or from the
+    fact being matched itself (a bare ``field``, alias None), times ``factor``."""
+
+    alias: str | None
+    field: str
+    factor: float = 1.0
+
+    def __str__(self) -> str:
+        name = f"{self.alias}.{self.field}" if self.alias else self.field
+        return f"{self.factor:g} * {name}" if self.factor != 1 else name
+
+
+@dataclass(frozen=True)
+class Condition:
+    field: str
+    op: str          # is, is_not, above, at_least, below, at_most, between, one_of, not_one_of, same_as, differs_from
+    value: Any       # scalar, list, (lo, hi), or Ref
+
+
+@dataclass(frozen=True)
+class Pattern:
+    kind: str
+    alias: str
+    conditions: tuple[Condition, ...]
+    counted: bool = False          # a count pattern: matches a tally of facts of ``kind``
+    per: str | None = None
+    at_least: int | None = None
+    at_most: int | None = None
+
+
+@dataclass(frozen=True)
+class FaultChoice:
+    """A conclusion whose fault depends on a matched value (defect BPFO -> outer-race)."""
+
+    value: Ref
+    faults: tuple[tuple[str, str], ...]    # (value, fault id)
+
+    def pick(self, value) -> str | None:
+        return dict(self.faults).get(value)
+
+
+@dataclass(frozen=True)
+class Ramp:
+    value: Ref
+    start: float
+    full: float
+
+
+@dataclass(frozen=True)
+class Rule:
+    id: str
+    title: str
+    source: str
+    needs: tuple[Pattern, ...]
+    none_of: tuple[Pattern, ...]
+    weight: float
+    ramps: tuple[Ramp, ...]
+    because: str
+    path: str
+    line: int | None
+    fault: str | FaultChoice | None = None
+    component: Ref | str | None = None
+    stage: int | None = None
+    derives: str | None = None
+    derived_fields: tuple[tuple[str, Ref | Any], ...] = ()
+    replaced: tuple[str, ...] = ()   # files whose rule of this id this one overrides
+
+    @property
+    def origin(self) -> str:
+        return f"{self.path}:{self.line}" if self.line else self.path
+
+
+@dataclass(frozen=True)
+class Fault:
+    id: str
+    name: str
+    family: str
+    withholds_diagnosis: bool
+    path: str
+
+
+@dataclass(frozen=True)
+class Rulebook:
+    """Every loaded rule (overlays applied), the fault catalogue and the derived fact kinds."""
+
+    rules: tuple[Rule, ...]
+    faults: dict[str, Fault]
+    derived: dict[str, dict[str, tuple[str, str]]]
+    files: tuple[str, ...]
+    disabled: dict[str, tuple[str, str]] = field(default_factory=dict)   # id -> (reason, file)
+
+    def rule(self, rule_id: str) -> Rule:
+        for r in self.rules:
+            if r.id == rule_id:
+                return r
+        raise KeyError(rule_id)
+
+    def fields_of(self, kind: str) -> dict[str, tuple[str, str]]:
+        return _kind_fields(kind, self.derived)
+
+
+SHIPPED = Path(__file__).resolve().parent.parent.parent / "rulebooks"
+
+
+def _shown(path: Path) -> Path:
+    """``path`` relative to the working folder when it lies inside it (shorter messages)."""
+    try:
+        return path.resolve().relative_to(Path.cwd())
+    except ValueError:
+        return path
+
+
+def rulebook_files(*places) -> list[Path]:
+    """YAML files of each folder (sorted by name) or file, in the order given."""
+    files = []
+    for place in places:
+        p = Path(place)
+        if p.is_dir():
+            files.extend(sorted(x for x in p.iterdir() if x.suffix in (".yaml", ".yml") and x.is_file()))
+        elif p.exists():
+            files.append(p)
+        else:
+            raise RulebookError("no such rulebook file or folder", path=str(p))
+    return [_shown(f) for f in files]
+
+
+def load_rulebook(*places, shipped: bool = True) -> Rulebook:
+    """Load the shipped rulebooks (unless ``shipped=False``) and then each overlay place in order."""
+    files = (rulebook_files(SHIPPED) if shipped else []) + rulebook_files(*places)
+    if not files:
+        raise RulebookError("no rulebook files found", path=str(places[0]) if places else str(SHIPPED))
+    docs = [read_yaml(f, RulebookError) for f in files]
+    for doc in docs:
+        _check_schema(doc)
+    faults: dict[str, Fault] = {}
+    derived: dict[str, dict[str, tuple[str, str]]] = {}
+    for doc in docs:
+        _collect_catalogue(doc, faults, derived)
+    rules: dict[str, Rule] = {}
+    disabled: dict[str, tuple[str, str]] = {}
+    for doc in docs:
+        for i, raw in enumerate(doc.data.get("rules") or []):
+            rule = _build_rule(doc, i, raw, faults, derived)
+            if rule.id in rules and not raw.get("overrides"):
+                raise RulebookError(f"id already used in {rules[rule.id].path}; add 'overrides: true' to replace it",
+                                    path=doc.path, line=rule.line, rule_id=rule.id)
+            if raw.get("overrides"):
+                if rule.id not in rules:
+                    raise RulebookError("'overrides: true' but no earlier rulebook has this id",
+                                        path=doc.path, line=rule.line, rule_id=rule.id)
+                previous = rules[rule.id]
+                rule = replace(rule, replaced=previous.replaced + (previous.path,))
+            rules[rule.id] = rule
+        for j, entry in enumerate(doc.data.get("disable") or []):
+            rid = entry["rule"]
+            if rid not in rules:
+                raise RulebookError(f"disable: no loaded rule has id {rid!r}", path=doc.path,
+                                    line=doc.line_of(["disable", j]))
+            disabled[rid] = (entry["reason"], doc.path)
+            del rules[rid]
+    ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
+    return Rulebook(ordered, faults, derived, tuple(str(f) for f in files), disabled)
+
+
+def _check_schema(doc: YamlDocument) -> None:
+    if not isinstance(doc.data, dict):
+        raise RulebookError("a rulebook is a mapping with 'rulebook:' and 'rules:'", path=doc.path, line=1)
+    found = first_problem(doc, "rulebook.schema.json")
+    if found is None:
+        return
+    path, problem = found
+    rule_id = None
+    if len(path) >= 2 and path[0] == "rules" and isinstance(path[1], int):
+        raw = doc.data["rules"][path[1]]
+        rule_id = raw.get("id") if isinstance(raw, dict) else None
+        shown = path[2:] if rule_id else path
+    else:
+        shown = path
+    where = ".".join(str(p) for p in shown) or "(top level)"
+    raise RulebookError(f"{where}: {problem}", path=doc.path, line=doc.line_of(path), rule_id=rule_id)
+
+
+def _collect_catalogue(doc, faults, derived) -> None:
+    for fid, raw in (doc.data.get("faults") or {}).items():
+        if fid in faults:
+            raise RulebookError(f"fault {fid!r} already declared in {faults[fid].path}",
+                                path=doc.path, line=doc.line_of(["faults", fid]))
+        faults[fid] = Fault(fid, raw["name"], raw["family"], bool(raw.get("withholds_diagnosis")), doc.path)
+    for kind, raw in (doc.data.get("derived") or {}).items():
+        line = doc.line_of(["derived", kind])
+        if kind in FACTS or kind in (TALLY_KIND, "phase"):
+            raise RulebookError(f"derived kind {kind!r} is already an evidence kind", path=doc.path, line=line)
+        if kind in derived:
+            raise RulebookError(f"derived kind {kind!r} declared twice", path=doc.path, line=line)
+        fields = {name: (spec["type"], spec["about"]) for name, spec in raw["fields"].items()}
+        clash = {"kind", "id", "sid", "certainty"} & set(fields)
+        if clash:
+            raise RulebookError(f"derived kind {kind!r}: field {sorted(clash)[0]!r} is reserved",
+                                path=doc.path, line=line)
+        derived[kind] = fields
+
+
+def _kind_fields(kind: str, derived) -> dict[str, tuple[str, str]]:
+    if kind in FACTS:
+        return fields_of(kind)
+    if kind in derived:
+        return {"kind": ("string", "fact kind"), "id": ("string", "fact identity"),
+                "certainty": ("number", "certainty of the derivation")} | derived[kind]
+    raise KeyError(kind)
+
+
+class _RuleChecker:
+    """Builds one Rule from its YAML, checking names against the vocabulary as it goes."""
+
+    def __init__(self, doc: YamlDocument, index: int, raw: dict, faults, derived):
+        self.doc, self.index, self.raw = doc, index, raw
+        self.faults, self.derived = faults, derived
+        self.aliases: dict[str, dict[str, tuple[str, str]]] = {}
+
+    def fail(self, problem: str, *where) -> None:
+        line = self.doc.line_of(["rules", self.index, *where])
+        raise RulebookError(problem, path=self.doc.path, line=line, rule_id=self.raw["id"])
+
+    def fields(self, kind: str, *where) -> dict[str, tuple[str, str]]:
+        try:
+            return _kind_fields(kind, self.derived)
+        except KeyError:
+            known = ", ".join(sorted(FACTS) + sorted(self.derived))
+            self.fail(f"unknown fact kind {kind!r} (known: {known})", *where)
+
+    def ref(self, text: str, *where, numeric: bool = False, own=None) -> Ref:
+        """``alias.field`` of an earlier fact, or (when ``own`` fields are given) a bare field of this one."""
+        m = _OPERAND.match(text) if isinstance(text, str) else None
+        if m is None or (m["alias"] is None and own is None):
+            self.fail(f"{text!r} is not a reference of the form alias.field", *where)
+        alias, name = m["alias"], m["field"]
+        if alias is not None and alias not in self.aliases:
+            self.fail(f"{text!r}: no earlier fact is called {alias!r}", *where)
+        fields = own if alias is None else self.aliases[alias]
+        if name not in fields:
+            whose = f"{alias!r}" if alias else "this fact"
+            self.fail(f"{text!r}: {whose} has no field {name!r} (fields: {', '.join(sorted(fields))})", *where)
+        if numeric and fields[name][0] not in NUMERIC:
+            self.fail(f"{text!r} is a {fields[name][0]}, not a number", *where)
+        factor = float(m["k"]) if m["k"] else 1.0
+        if m["k"] and not numeric:
+            self.fail(f"{text!r}: a factor only makes sense in a comparison", *where)
+        return Ref(alias, name, factor)
+
+    def number(self, x, *where) -> float:
+        if isinstance(x, bool) or not isinstance(x, (int, float)) or not math.isfinite(x):
+            self.fail(f"{x!r} is not a finite number", *where)
+        if x != 0 and abs(x) < SMALLEST_NUMBER:
+            self.fail(f"{x!r} is smaller than {SMALLEST_NUMBER:g}: state it in a larger unit", *where)
+        return float(x)
+
+    def condition(self, fields, name, spec, *where) -> Condition:
+        if name not in fields:
+            self.fail(f"field {name!r} is not in this fact kind (fields: {', '.join(sorted(fields))})", *where)
+        ftype = fields[name][0]
+        op, value = ("is", spec) if not isinstance(spec, dict) else next(iter(spec.items()))
+        if op in COMPARISONS:
+            if ftype not in NUMERIC:
+                self.fail(f"{op}: {name} is a {ftype}, not a number", *where)
+            value = (self.ref(value, *where, numeric=True, own=fields) if isinstance(value, str)
+                     else self.number(value, *where))
+        elif op == "between":
+            if ftype not in NUMERIC:
+                self.fail(f"between: {name} is a {ftype}, not a number", *where)
+            lo, hi = (self.number(v, *where) for v in value)
+            if lo > hi:
+                self.fail(f"between: {lo:g} is above {hi:g}", *where)
+            value = (lo, hi)
+        elif op in ("same_as", "differs_from"):
+            value = self.ref(value, *where, own=fields)
+            other = (fields if value.alias is None else self.aliases[value.alias])[value.field][0]
+            if (other in NUMERIC) != (ftype in NUMERIC) or (ftype not in NUMERIC and other != ftype):
+                self.fail(f"{op}: {name} is a {ftype} but {value} is a {other}", *where)
+        else:
+            values = value if op in ("one_of", "not_one_of") else [value]
+            for v in values:
+                self.check_type(ftype, v, name, *where)
+            value = tuple(values) if op in ("one_of", "not_one_of") else value
+        return Condition(name, op, value)
+
+    def check_type(self, ftype, v, name, *where) -> None:
+        ok = {"string": isinstance(v, str), "boolean": isinstance(v, bool),
+              "number": isinstance(v, (int, float)) and not isinstance(v, bool),
+              "integer": isinstance(v, int) and not isinstance(v, bool)}[ftype]
+        if not ok:
+            self.fail(f"{name} is a {ftype}; {v!r} can never match", *where)
+        if ftype in NUMERIC:
+            self.number(v, *where)
+
+    def pattern(self, raw: dict, section: str, j: int, negated: bool) -> Pattern:
+        where = (section, j)
+        counted = "count" in raw
+        kind = raw["count"] if counted else raw["fact"]
+        fields = self.fields(kind, *where)
+        if (counted or negated) and kind not in FACTS:
+            what = "count" if counted else "none_of"
+            self.fail(f"{what} can only look at evidence kinds, not the derived kind {kind!r} "
+                      f"(derived facts arrive during reasoning, after counts and negations are settled)", *where)
+        if not counted and ("per" in raw or "at_least" in raw or "at_most" in raw):
+            self.fail("per, at_least and at_most belong to a count pattern", *where)
+        if counted and negated:
+            self.fail("a count cannot be inside none_of; use 'at_most: 0'", *where)
+        if counted and "at_least" not in raw and "at_most" not in raw:
+            self.fail("a count needs at_least or at_most", *where)
+        conditions = []
+        for name, spec in (raw.get("where") or {}).items():
+            cond = self.condition(fields, name, spec, *where, "where", name)
+            if counted and isinstance(cond.value, Ref) and cond.value.alias is not None:
+                self.fail("count conditions cannot refer to other facts; use 'per:' to count by a field",
+                          *where, "where", name)
+            conditions.append(cond)
+        alias = raw.get("as") or f"{'n' if negated else 'f'}{j}_{section}"
+        if alias in RESERVED_ALIASES:
+            self.fail(f"alias {alias!r} is reserved by the rule engine", *where, "as")
+        if alias in self.aliases:
+            self.fail(f"alias {alias!r} used twice", *where, "as")
+        per = raw.get("per")
+        if per is not None and per not in fields:
+            self.fail(f"per: {kind} has no field {per!r}", *where, "per")
+        if counted:
+            group_type = fields[per][0] if per else "string"
+            self.aliases[alias] = {"kind": ("string", "tally"), "n": ("integer", f"facts of kind {kind} counted"),
+                                   "group": (group_type, f"value of {per} shared by the counted facts")}
+        elif not negated:
+            self.aliases[alias] = fields
+        return Pattern(kind, alias, tuple(conditions), counted, per, raw.get("at_least"), raw.get("at_most"))
+
+    def certainty(self) -> tuple[float, tuple[Ramp, ...]]:
+        spec = self.raw["certainty"]
+        if not isinstance(spec, dict):
+            return float(spec), ()
+        ramps = []
+        for j, r in enumerate(spec.get("grade_by") or []):
+            where = ("certainty", "grade_by", j)
+            if r["from"] == r["to"]:
+                self.fail("grade_by: 'from' and 'to' must differ", *where)
+            ramps.append(Ramp(self.ref(r["value"], *where, numeric=True), self.number(r["from"], *where),
+                              self.number(r["to"], *where)))
+        return float(spec["weight"]), tuple(ramps)
+
+    def sentence(self) -> str:
+        text = self.raw["because"]
+        try:
+            parsed = list(string.Formatter().parse(text))
+        except ValueError as exc:
+            self.fail(f"because: {exc}", "because")
+        for _, name, spec, _ in parsed:
+            if name is None:
+                continue
+            self.ref(name, "because")
+            try:
+                format(1.5, spec or "")
+            except ValueError:
+                self.fail(f"because: {{{name}:{spec}}} is not a valid number format", "because")
+        return text
+
+    def value_or_ref(self, v, *where):
+        if isinstance(v, str) and _OPERAND.match(v) and v.split(".", 1)[0] in self.aliases:
+            return self.ref(v, *where)
+        return v
+
+    def build(self) -> Rule:
+        needs = tuple(self.pattern(p, "needs", j, False) for j, p in enumerate(self.raw["needs"]))
+        none_of = tuple(self.pattern(p, "none_of", j, True) for j, p in enumerate(self.raw.get("none_of") or []))
+        weight, ramps = self.certainty()
+        common = dict(id=self.raw["id"], title=self.raw["title"], source=self.raw["source"], needs=needs,
+                      none_of=none_of, weight=weight, ramps=ramps, because=self.sentence(), path=self.doc.path,
+                      line=self.doc.line_of(["rules", self.index]))
+        if "concludes" in self.raw:
+            c = self.raw["concludes"]
+            fault = c["fault"]
+            named = list(fault["map"].values()) if isinstance(fault, dict) else [fault]
+            for f in named:
+                if f not in self.faults:
+                    self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})",
+                              "concludes", "fault")
+            if isinstance(fault, dict):
+                fault = FaultChoice(self.ref(fault["from"], "concludes", "fault", "from"), tuple(fault["map"].items()))
+            component = self.value_or_ref(c["component"], "concludes", "component")
+            return Rule(**common, fault=fault, component=component, stage=c.get("stage"))
+        d = self.raw["derives"]
+        if d["fact"] not in self.derived:
+            self.fail(f"derives an undeclared kind {d['fact']!r}; declare it under 'derived:'", "derives", "fact")
+        if weight <= 0:
+            self.fail("a rule that derives a fact needs a positive certainty", "certainty")
+        declared = self.derived[d["fact"]]
+        missing = sorted(set(declared) - set(d["fields"]))
+        extra = sorted(set(d["fields"]) - set(declared))
+        if missing or extra:
+            self.fail(f"derives {d['fact']}: " + (f"missing fields {missing}" if missing else f"unknown fields {extra}"),
+                      "derives", "fields")
+        values = []
+        for name, v in d["fields"].items():
+            v = self.value_or_ref(v, "derives", "fields", name)
+            if not isinstance(v, Ref):
+                self.check_type(declared[name][0], v, name, "derives", "fields", name)
+            values.append((name, v))
+        return Rule(**common, derives=d["fact"], derived_fields=tuple(values))
+
+
+def _build_rule(doc, index, raw, faults, derived) -> Rule:
+    return _RuleChecker(doc, index, raw, faults, derived).build()
