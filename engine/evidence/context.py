@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import analysis
+from ..errors import ReadingError
 from ..kinematics import ForcingFrequency, bearing_multiples, forcing_frequencies
 from ..machine import Machine, Point
 from ..readings import Channel, QualityIssue, Reading
@@ -37,10 +38,15 @@ class ChannelContext:
     velocity: analysis.Spectrum           # velocity, mm/s RMS, from the same FFT
     levels: analysis.OverallLevels
     kurtogram: analysis.Kurtogram | None
-    envelope: analysis.Spectrum | None    # squared envelope spectrum of the prewhitened band
+    envelopes: tuple               # EnvelopeView: the kurtogram band first, then the wide band
     envelope_signal: np.ndarray | None    # squared envelope in time, at envelope_fs_hz
     envelope_fs_hz: float | None
     issues: tuple[QualityIssue, ...]
+
+    @property
+    def envelope(self) -> analysis.Spectrum | None:
+        """The squared envelope spectrum of the kurtogram band."""
+        return self.envelopes[0].ses if self.envelopes else None
 
     @property
     def name(self) -> str:
@@ -99,14 +105,17 @@ def velocity_spectrum(spec: analysis.Spectrum) -> analysis.Spectrum:
     return analysis.Spectrum(f, v, "rms", spec.window, spec.resolution_hz, spec.enbw_hz, spec.averages)
 
 
-def _envelope(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
-    if fastest_defect_hz is None:
-        return None, None, None, None
-    white = analysis.cepstral_prewhiten(accel)
-    span = ENVELOPE_HARMONICS * fastest_defect_hz
-    kg = analysis.fast_kurtogram(white, fs, max_level=8, trim_fraction=EDGE_TRIM,
-                                 min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4))
-    band = (kg.best.f_lo_hz, kg.best.f_hi_hz)
+@dataclass(frozen=True)
+class EnvelopeView:
+    """One squared envelope spectrum of a channel and the band it demodulates."""
+
+    method: str                     # kurtogram or wide
+    ses: analysis.Spectrum
+    band_hz: tuple[float, float]
+    band_kurtosis: float
+
+
+def _ses(white: np.ndarray, fs: float, band, span: float):
     sig = analysis.analytic_band(white, fs, band, min_rate_hz=2 * span)
     cut = int(EDGE_TRIM * len(sig.samples))
     squared = np.abs(sig.samples[cut:len(sig.samples) - cut]) ** 2
@@ -116,7 +125,29 @@ def _envelope(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     keep = ses.freq_hz <= min(span * 1.2, band[1] - band[0])
     ses = analysis.Spectrum(ses.freq_hz[keep], ses.amplitude[keep], ses.scaling, ses.window,
                             ses.resolution_hz, ses.enbw_hz)
-    return kg, ses, squared, sig.fs_hz
+    return ses, squared, sig
+
+
+def _envelope(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
+    """The kurtogram band's envelope (Antoni 2007) and, beside it, the whole prewhitened signal
+    above the defect harmonics (cepstral prewhitening then envelope: Smith & Randall's
+    method 2). An impulsive band can be a single burst of noise; the wide view catches a
+    defect the kurtogram's pick missed."""
+    if fastest_defect_hz is None:
+        return None, (), None, None
+    white = analysis.cepstral_prewhiten(accel)
+    span = ENVELOPE_HARMONICS * fastest_defect_hz
+    kg = analysis.fast_kurtogram(white, fs, max_level=8, trim_fraction=EDGE_TRIM,
+                                 min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4))
+    band = (kg.best.f_lo_hz, kg.best.f_hi_hz)
+    ses, squared, sig = _ses(white, fs, band, span)
+    views = [EnvelopeView("kurtogram", ses, band, kg.best.kurtosis)]
+    wide = (min(span, fs / 8), 0.45 * fs)
+    wide_ses, _, wide_sig = _ses(white, fs, wide, span)
+    z = np.abs(wide_sig.samples)
+    spectral_kurtosis = float(np.mean(z ** 4) / np.mean(z ** 2) ** 2 - 2)   # Antoni 2006, complex envelope
+    views.append(EnvelopeView("wide", wide_ses, wide, spectral_kurtosis))
+    return kg, tuple(views), squared, sig.fs_hz
 
 
 def build_contexts(reading: Reading, machine: Machine) -> ReadingContext:
@@ -124,6 +155,9 @@ def build_contexts(reading: Reading, machine: Machine) -> ReadingContext:
     fs = reading.fs_hz
     points = {p.id: p for p in machine.points}
     usable = [ch for ch in reading.channels if not any(q.blocking for q in reading.issues_for(ch.name))]
+    if not usable:
+        why = "; ".join(f"{q.channel}: {q.message}" for q in reading.quality if q.blocking)
+        raise ReadingError(f"no channel can be analysed ({why})", path=reading.source)
     accel = {ch.name: _to_acceleration(ch, fs) for ch in usable}
     spectra = {name: analysis.amplitude_spectrum(a, fs) for name, a in accel.items()}
     velocity = {name: velocity_spectrum(s) for name, s in spectra.items()}
@@ -155,12 +189,12 @@ def build_contexts(reading: Reading, machine: Machine) -> ReadingContext:
     contexts = []
     for ch in usable:
         a = accel[ch.name]
-        kg, ses, env_sig, env_fs = _envelope(a, fs, fastest)
+        kg, views, env_sig, env_fs = _envelope(a, fs, fastest)
         contexts.append(ChannelContext(
             channel=ch, point=points.get(ch.point), fs_hz=fs, accel=a,
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
             levels=analysis.overall_levels(a, fs, "acceleration", speed.speed_hz * 60),
-            kurtogram=kg, envelope=ses, envelope_signal=env_sig, envelope_fs_hz=env_fs,
+            kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs,
             issues=tuple(reading.issues_for(ch.name)),
         ))
     return ReadingContext(machine, reading, speeds, speed, shaft, forcing, tuple(contexts))

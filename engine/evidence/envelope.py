@@ -51,27 +51,28 @@ def _on_shaft_order(ses, freq_hz, shaft_hz) -> bool:
 
 
 def envelope_tone(rc: ReadingContext) -> list[dict]:
-    """One fact per bearing defect whose rate or harmonics stand out in a channel's SES."""
+    """One fact per bearing defect whose rate or harmonics stand out in a channel's SES
+    (for each envelope view: the kurtogram band, and the wide prewhitened band)."""
     out = []
     for c in rc.channels:
-        if c.envelope is None:
-            continue
-        best = c.kurtogram.best
-        for b, defect, rate in _defects(rc):
-            found = _harmonics(c.envelope, rate, HARMONICS[defect], rc.speeds_hz[b.shaft])
-            checked = sum(1 for k in range(1, HARMONICS[defect] + 1) if k * rate <= c.envelope.fmax_hz * 0.98)
-            if not found:
-                continue
-            first = found.get(1)
-            out.append(c.base() | {
-                "kind": "envelope_tone", "defect": defect, "component": b.id, "shaft": b.shaft,
-                "expected_hz": rate, "freq_hz": first.freq_hz if first else 0.0,
-                "deviation_pct": (first.freq_hz / rate - 1) * 100 if first else 0.0,
-                "harmonics_found": len(found), "harmonics_checked": checked,
-                "first_snr_db": db(first.snr) if first else 0.0,
-                "max_snr_db": max(db(p.snr) for p in found.values()),
-                "band_lo_hz": best.f_lo_hz, "band_hi_hz": best.f_hi_hz, "band_kurtosis": best.kurtosis,
-            })
+        for view in c.envelopes:
+            ses = view.ses
+            for b, defect, rate in _defects(rc):
+                found = _harmonics(ses, rate, HARMONICS[defect], rc.speeds_hz[b.shaft])
+                checked = sum(1 for k in range(1, HARMONICS[defect] + 1) if k * rate <= ses.fmax_hz * 0.98)
+                if not found:
+                    continue
+                first = found.get(1)
+                out.append(c.base() | {
+                    "kind": "envelope_tone", "defect": defect, "component": b.id, "shaft": b.shaft,
+                    "expected_hz": rate, "freq_hz": first.freq_hz if first else 0.0,
+                    "deviation_pct": (first.freq_hz / rate - 1) * 100 if first else 0.0,
+                    "harmonics_found": len(found), "harmonics_checked": checked,
+                    "first_snr_db": db(first.snr) if first else 0.0,
+                    "max_snr_db": max(db(p.snr) for p in found.values()),
+                    "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
+                    "band_kurtosis": view.band_kurtosis,
+                })
     return out
 
 
@@ -87,28 +88,27 @@ def load_zone_modulation(rc: ReadingContext) -> list[dict]:
     rates = rc.defect_rates_hz()
     out = []
     for c in rc.channels:
-        if c.envelope is None:
-            continue
-        for b, defect, rate in _defects(rc):
-            if defect == "FTF":
-                continue
-            found = _harmonics(c.envelope, rate, MODULATION_ORDERS, rc.speeds_hz[b.shaft])
-            if not found:
-                continue
-            for modulation, mod_hz in (("1X", rc.speeds_hz[b.shaft]), ("FTF", rates[(b.id, "FTF")])):
-                count, depths = 0, []
-                for k, carrier in found.items():
-                    sides = []
-                    for sign in (-1, 1):
-                        f = carrier.freq_hz + sign * mod_hz
-                        peak = find_line(c.envelope, f, 0.003, wide_floor=True)
-                        sides.append(peak.amplitude if peak else 0.0)
-                        count += peak is not None
-                    depths.append(sum(sides) / carrier.amplitude)
-                line = find_line(c.envelope, mod_hz, 0.005, wide_floor=True)
-                out.append(c.base() | {
-                    "kind": "load_zone_modulation", "defect": defect, "component": b.id,
-                    "modulation": modulation, "modulation_hz": mod_hz, "sideband_count": count,
-                    "depth": max(depths), "line_snr_db": db(line.snr) if line else 0.0,
-                })
+        for view in c.envelopes:
+            ses = view.ses
+            for b, defect, rate in _defects(rc):
+                if defect == "FTF":
+                    continue
+                found = _harmonics(ses, rate, MODULATION_ORDERS, rc.speeds_hz[b.shaft])
+                if not found:
+                    continue
+                for modulation, mod_hz in (("1X", rc.speeds_hz[b.shaft]), ("FTF", rates[(b.id, "FTF")])):
+                    count, depths = 0, []
+                    for k, carrier in found.items():
+                        sides = []
+                        for sign in (-1, 1):
+                            peak = find_line(ses, carrier.freq_hz + sign * mod_hz, 0.003, wide_floor=True)
+                            sides.append(peak.amplitude if peak else 0.0)
+                            count += peak is not None
+                        depths.append(sum(sides) / carrier.amplitude)
+                    line = find_line(ses, mod_hz, 0.005, wide_floor=True)
+                    out.append(c.base() | {
+                        "kind": "load_zone_modulation", "defect": defect, "component": b.id,
+                        "band_method": view.method, "modulation": modulation, "modulation_hz": mod_hz,
+                        "sideband_count": count, "depth": max(depths), "line_snr_db": db(line.snr) if line else 0.0,
+                    })
     return out

@@ -85,6 +85,7 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
         "harmonics_checked": ("integer", "harmonics looked for"),
         "first_snr_db": ("number", "fundamental over the local floor, dB"),
         "max_snr_db": ("number", "best harmonic over its local floor, dB"),
+        "band_method": ("string", "kurtogram (band of highest spectral kurtosis) or wide (prewhitened signal above the defect harmonics)"),
         "band_lo_hz": ("number", "demodulation band, lower edge, Hz"),
         "band_hi_hz": ("number", "demodulation band, upper edge, Hz"),
         "band_kurtosis": ("number", "spectral kurtosis of the band"),
@@ -92,6 +93,7 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
     "load_zone_modulation": CHANNEL_FIELDS | {
         "defect": ("string", "BPFO, BPFI or BSF"),
         "component": ("string", "bearing id"),
+        "band_method": ("string", "kurtogram or wide: which envelope view"),
         "modulation": ("string", "1X or FTF"),
         "modulation_hz": ("number", "modulation frequency, Hz"),
         "sideband_count": ("integer", "envelope sidebands found at defect harmonics +- modulation"),

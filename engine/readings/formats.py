@@ -212,8 +212,11 @@ def read_mat(path: str) -> RawReading:
         arr = np.asarray(value)
         if not np.issubdtype(arr.dtype, np.number):
             continue
+        short = key.rsplit(".", 1)[-1].lower()
         if arr.size == 1 and key.upper().endswith("RPM"):
             meta["speed_rpm"] = float(arr.ravel()[0])
+        elif arr.size == 1 and short in ("sr", "fs", "sample_rate", "sample_rate_hz", "samplerate"):
+            meta["sample_rate_hz"] = float(arr.ravel()[0])
         elif arr.ndim == 1 and arr.size >= 64:
             names.append(key)
             arrays.append(arr.astype(float))
@@ -224,7 +227,7 @@ def read_mat(path: str) -> RawReading:
         longest = max(lengths)
         keep = [i for i, a in enumerate(arrays) if len(a) == longest]
         names, arrays = [names[i] for i in keep], [arrays[i] for i in keep]
-    return RawReading(names, arrays, None, meta=meta)
+    return RawReading(names, arrays, meta.pop("sample_rate_hz", None), meta=meta)
 
 
 def _snap_rate(fs_hz: float) -> float:
