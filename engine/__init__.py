@@ -1,5 +1,7 @@
 """tellwave: a second opinion on rotating-machinery vibration readings."""
 
+__version__ = "0.1.0"
+
 from .errors import (DataQualityWarning, MachineError, ReadingError, RulebookError,
                      TellwaveError, UsageError)
 from .kinematics import ForcingFrequency, bearing_multiples, forcing_frequencies

@@ -62,18 +62,31 @@ def case_files(folder) -> list[Path]:
     return sorted(p for p in folder.rglob("*.case.yaml"))
 
 
+def simulation_of(case: Case, machine):
+    """The case's simulation recipe, run (None for a case with reading files)."""
+    if case.simulate is None:
+        return None
+    from .synth import clip_channel, simulate
+
+    s = case.simulate
+    sim = simulate(machine, s["fault"], s.get("component"), s.get("stage", 2), s.get("rpm"),
+                   s.get("sample_rate_hz", 25600.0), s.get("duration_s", 4.0), s.get("seed", 0), s.get("points"))
+    if "clip" in s:
+        sim = clip_channel(sim, s["clip"]["channel"], s["clip"]["fraction"])
+    return sim
+
+
+def reading_of(case: Case, machine):
+    sim = simulation_of(case, machine)
+    if sim is not None:
+        from .synth import as_reading
+        return as_reading(sim, source=case.path)
+    return combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
+
+
 def evidence_of(case: Case) -> list[dict]:
     machine = load_machine(case.machine)
-    if case.simulate is not None:
-        from .synth import as_reading, simulate
-
-        s = case.simulate
-        sim = simulate(machine, s["fault"], s.get("component"), s.get("stage", 2), s.get("rpm"),
-                       s.get("sample_rate_hz", 25600.0), s.get("duration_s", 4.0), s.get("seed", 0), s.get("points"))
-        reading = as_reading(sim, source=case.path)
-    else:
-        reading = combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
-    return extract_evidence(reading, machine)
+    return extract_evidence(reading_of(case, machine), machine)
 
 
 def describe(result: Reasoning) -> str:

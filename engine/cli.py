@@ -110,6 +110,42 @@ def _synth(args) -> int:
     return 0
 
 
+WITHHELD_EXIT = 7   # the reading cannot support a conclusion
+
+
+def _diagnose(args) -> int:
+    from .pipeline import diagnose, document_of
+    from .reasoning import Reasoner
+    from .report import render, write_atomically
+
+    machine = load_machine(args.machine)
+    reasoner = Reasoner(_rulebook(args))
+    reading = _load_readings(args)
+    fmt = args.format
+    d = diagnose(reading, machine, reasoner, plots=fmt == "html")
+    text = render(document_of(d), fmt)
+    output = args.output
+    if output is None and fmt in ("html", "md"):
+        from pathlib import Path
+        output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
+    if output is None:
+        sys.stdout.write(text)
+    else:
+        print(f"wrote {write_atomically(output, text)}")
+    return WITHHELD_EXIT if d.reasoning.withheld else 0
+
+
+def _demo(args) -> int:
+    from .demo import run_demo
+    from .reasoning import Reasoner
+
+    results = run_demo(args.out, Reasoner(_rulebook(args)))
+    missed = sum(not r.passed for r in results)
+    print(f"{len(results) - missed} of {len(results)} demo cases diagnosed as expected; "
+          f"reports in {args.out}/ (open {args.out}/index.html)")
+    return 1 if missed else 0
+
+
 def _rulebook(args):
     from .reasoning import load_rulebook
 
@@ -203,6 +239,22 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--points", help="comma-separated measurement points (default: all)")
     p.add_argument("-o", "--output", required=True, help="reading file to write (.wav, .npz or .csv)")
     p.set_defaults(run=_synth)
+
+    p = sub.add_parser("diagnose", help="diagnose readings of a machine and report with advice")
+    p.add_argument("readings", nargs="+", help="reading files taken together (one per point, or multi-channel)")
+    p.add_argument("--machine", required=True, help="machine YAML file")
+    p.add_argument("--site", action="append", metavar="FOLDER", help="site rulebook folder laid over the shipped ones")
+    p.add_argument("--format", choices=["text", "md", "html", "json"], default="text")
+    p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
+                                          "READING.report.html or .md for HTML and Markdown)")
+    _add_reading_options(p)
+    p.add_argument("--channels", help="comma-separated channel names (or name endings) to keep")
+    p.set_defaults(run=_diagnose)
+
+    p = sub.add_parser("demo", help="diagnose the demo plant and write HTML reports")
+    p.add_argument("--out", default="tellwave-demo", help="folder for readings and reports (default: tellwave-demo)")
+    p.add_argument("--site", action="append", metavar="FOLDER", help="site rulebook folder laid over the shipped ones")
+    p.set_defaults(run=_demo)
 
     p = sub.add_parser("rulebook", help="check, test and explain rulebooks")
     rb = p.add_subparsers(dest="action", required=True, parser_class=_Parser)

@@ -373,6 +373,17 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     return Simulation(fs_hz, channels, {p.id: p for p in chosen}, truth, speed_rpm, extra)
 
 
+def clip_channel(sim: Simulation, channel: str, fraction: float) -> Simulation:
+    """The simulation as a recorder with too small an input range would store it: ``channel``
+    cut off at ``fraction`` of its peak (for demos and tests of the quality gates)."""
+    if channel not in sim.channels:
+        raise UsageError(f"no channel {channel!r} to clip; channels are {', '.join(sim.channels)}")
+    x = sim.channels[channel]
+    limit = fraction * float(np.max(np.abs(x)))
+    channels = dict(sim.channels) | {channel: np.clip(x, -limit, limit)}
+    return Simulation(sim.fs_hz, channels, sim.points, sim.truth, sim.speed_rpm, sim.extra)
+
+
 def as_reading(sim: Simulation, source: str = "simulated") -> "Reading":
     """The simulation as an in-memory Reading (acceleration channels, quality gates run)."""
     from .readings import Channel, Reading

@@ -109,9 +109,9 @@ def test_rulebook_explain_unknown_rule_is_one_line(capsys):
 
 
 def test_rulebook_test_runs_the_casebook_with_the_site_overlay(capsys):
-    assert main(["rulebook", "test", str(ROOT / "cases/casebook"), "--site", str(ROOT / "cases/site")]) == 0
+    assert main(["rulebook", "test", str(ROOT / "cases/demo"), "--site", str(ROOT / "cases/site")]) == 0
     out = capsys.readouterr().out
-    n = len(list((ROOT / "cases/casebook").glob("*.case.yaml")))
+    n = len(list((ROOT / "cases/demo").glob("*.case.yaml")))
     assert f"{n} of {n} cases pass" in out
 
 

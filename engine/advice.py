@@ -1,0 +1,200 @@
+"""Advice: findings -> severity, urgency, actions, follow-ups, oil tests and cautions.
+
+What to do about each fault, the ISO 20816-3 zone table, the urgency scale
+and the cautions are data in ``rulebooks/advice/``; this module only looks
+them up and picks the most urgent. Its inputs are the machine, the evidence
+facts and the reasoning result; it reads no reading file and no spectrum.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from .errors import RulebookError
+from .machine import Machine
+from .reasoning import POSSIBLE, Hypothesis, Reasoning
+from .reasoning.rulebook import SHIPPED
+from .yamlfile import YamlDocument, first_problem, read_yaml
+
+ADVICE_FOLDER = SHIPPED / "advice"
+MAX_RECOMMENDATIONS = 5
+
+
+@dataclass(frozen=True)
+class Urgency:
+    id: str
+    label: str
+    within: str
+    rank: int          # 0 is the most urgent
+
+
+@dataclass(frozen=True)
+class ZoneReading:
+    channel: str
+    point: str
+    location: str
+    velocity_rms_mm_s: float
+    zone: str
+    band_truncated: bool
+
+
+@dataclass(frozen=True)
+class ZoneScale:
+    group: int
+    support: str
+    ab: float
+    bc: float
+    cd: float
+    assumed: bool      # group or support not stated in the machine file
+    source: str
+
+
+@dataclass(frozen=True)
+class OilTest:
+    name: str
+    means: str
+    source: str
+
+
+@dataclass(frozen=True)
+class Recommendation:
+    hypothesis: Hypothesis
+    severity: str
+    urgency: Urgency
+    actions: tuple[str, ...]
+    spares: tuple[str, ...]
+    confirm: tuple[str, ...]
+    oil: tuple[OilTest, ...]
+
+
+@dataclass(frozen=True)
+class Advice:
+    zone_scale: ZoneScale
+    zones: tuple[ZoneReading, ...]
+    worst_zone: str | None
+    zone_meaning: str
+    urgency: Urgency
+    recommendations: tuple[Recommendation, ...]
+    remeasure: tuple[str, ...]        # settings for the next reading, and why
+    limitations: tuple[str, ...]      # reading problems not strong enough to withhold
+    cautions: tuple[str, ...]
+    disclaimer: str
+
+
+def load_advice(folder=ADVICE_FOLDER) -> dict:
+    """The advice data of ``folder`` (every YAML file merged), checked against its schema."""
+    folder = Path(folder)
+    files = sorted(folder.glob("*.yaml"))
+    if not files:
+        raise RulebookError("no advice data found (rulebooks/advice/*.yaml)", path=str(folder))
+    merged, lines = {}, {}
+    for f in files:
+        doc = read_yaml(f, RulebookError)
+        if not isinstance(doc.data, dict):
+            raise RulebookError("advice data must be a mapping", path=str(f), line=1)
+        for key, value in doc.data.items():
+            if key in merged:
+                raise RulebookError(f"{key!r} is already given in another advice file", path=str(f),
+                                    line=doc.line_of([key]))
+            merged[key] = value
+            lines[(key,)] = (str(f), doc.line_of([key]))
+    found = first_problem(YamlDocument(str(folder), merged, {}), "advice.schema.json")
+    if found is not None:
+        path, problem = found
+        file, line = lines.get(tuple(path[:1]), (str(folder), None))
+        raise RulebookError(f"{'.'.join(map(str, path))}: {problem}", path=file, line=line)
+    return merged
+
+
+def zone_scale(machine: Machine, data: dict) -> ZoneScale:
+    group = machine.iso_group or 2
+    support = machine.support or "rigid"
+    table = data["iso_20816_3"]
+    row = next(r for r in table["boundaries"] if r["group"] == group and r["support"] == support)
+    return ZoneScale(group, support, row["ab"], row["bc"], row["cd"],
+                     machine.iso_group is None or machine.support is None, table["source"])
+
+
+def zone_of(velocity_mm_s: float, scale: ZoneScale) -> str:
+    """ISO 20816-3 evaluation zone of a broadband velocity (mm/s RMS)."""
+    if velocity_mm_s < scale.ab:
+        return "A"
+    if velocity_mm_s < scale.bc:
+        return "B"
+    if velocity_mm_s < scale.cd:
+        return "C"
+    return "D"
+
+
+def _urgencies(data) -> dict[str, Urgency]:
+    return {u["id"]: Urgency(u["id"], u["label"], u["within"], i) for i, u in enumerate(data["urgency"])}
+
+
+def _oil_tests(machine: Machine, family: str, data: dict) -> tuple[OilTest, ...]:
+    oiled = machine.lubrication in ("oil", "mixed")
+    if family == "gear" or (oiled and family in ("bearing", "shaft")):
+        tests = data["oil_tests"]
+        return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"])
+                     for t in data["oil_follow_up"].get(family, []))
+    return ()
+
+
+def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies) -> Recommendation:
+    todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
+    candidates = [urgencies[todo["urgency"]]]
+    if h.stage is not None:
+        candidates.append(urgencies[data["stage_urgency"][h.stage]])
+        severity = f"damage stage {h.stage} of 4: {data['stages'][h.stage]}"
+    else:
+        severity = f"machine in ISO 20816-3 zone {worst}" if worst else "no overall level available"
+    if worst is not None and h.confident and h.family != "reading":
+        candidates.append(urgencies[data["zone_urgency"][worst]])
+    urgency = min(candidates, key=lambda u: u.rank)
+    if not h.confident and h.family != "reading":
+        # a possible cause is something to confirm, not to act on
+        urgency = max(urgency, urgencies["watch"], key=lambda u: u.rank)
+    return Recommendation(h, severity, urgency, tuple(todo["actions"]), tuple(todo["spares"]),
+                          tuple(todo["confirm"]), _oil_tests(machine, h.family, data))
+
+
+def _remeasure(facts: list[dict]) -> list[str]:
+    out = []
+    for f in facts:
+        if f["kind"] != "acquisition":
+            continue
+        if not f["fmax_ok"]:
+            out.append(f"Fmax at least {f['suggested_fmax_hz']:.0f} Hz (now {f['fmax_hz']:.0f} Hz), "
+                       f"to cover forcing frequencies up to {f['highest_needed_hz']:.0f} Hz")
+        if not f["resolution_ok"]:
+            out.append(f"at least {f['suggested_lines']} lines (now {f['resolution_hz']:.3f} Hz per line), "
+                       f"to separate {f['resolution_for']}")
+        if not f["revolutions_ok"]:
+            out.append(f"a longer record: at least 10 revolutions of the slowest shaft (now {f['revolutions']:.1f})")
+    return out
+
+
+def advise(machine: Machine, facts: list[dict], reasoning: Reasoning, data: dict | None = None) -> Advice:
+    """Severity, urgency and what to do, for one diagnosis."""
+    data = data or load_advice()
+    urgencies = _urgencies(data)
+    scale = zone_scale(machine, data)
+    zones = tuple(ZoneReading(f["channel"], f["point"], f["location"], f["velocity_rms_mm_s"],
+                              zone_of(f["velocity_rms_mm_s"], scale), f["band_truncated"])
+                  for f in facts if f["kind"] == "overall")
+    worst = max((z.zone for z in zones), default=None)
+    shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
+    problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
+    if reasoning.withheld:
+        recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in problems if h.confident)
+        urgency = urgencies["remeasure"]
+    else:
+        recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in shown)
+        confident = [r.urgency for r in recs if r.hypothesis.confident]
+        base = [urgencies[data["zone_urgency"][worst]]] if worst else [urgencies["none"]]
+        urgency = min(confident + base, key=lambda u: u.rank)
+    # a settings problem too small to withhold the diagnosis still limits it
+    limitations = () if reasoning.withheld else tuple(f.because for h in problems for f in h.support)
+    meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
+    return Advice(scale, zones, worst, meaning, urgency, recs, tuple(_remeasure(facts)), limitations,
+                  tuple(data["cautions"]), data["disclaimer"].strip())

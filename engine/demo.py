@@ -1,0 +1,58 @@
+"""The demo plant: regenerate every case's reading as files, diagnose them as a user would,
+and write one HTML report per case plus an index.
+
+The cases live in cases/demo/ (Tallow Ridge Water Works, an invented plant).
+Each reading is written by the simulator (WAV with its sidecar and truth
+file), read back through the ordinary readers and diagnosed from the file.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from .casebook import Case, case_files, judge, describe, load_case, simulation_of
+from .machine import load_machine
+from .pipeline import diagnose, document_of
+from .readings import load_reading
+from .reasoning import Reasoner
+from .reasoning.rulebook import SHIPPED
+from .report import render, write_atomically
+from .report.render import _environment
+from .synth import write_simulation
+
+DEMO_CASES = SHIPPED.parent / "cases" / "demo"
+
+
+@dataclass(frozen=True)
+class DemoResult:
+    case: Case
+    report: Path
+    passed: bool
+    got: str
+
+
+def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print) -> list[DemoResult]:
+    out_dir = Path(out_dir)
+    readings_dir = out_dir / "readings"
+    readings_dir.mkdir(parents=True, exist_ok=True)
+    results = []
+    for path in case_files(cases_dir):
+        case = load_case(path)
+        machine = load_machine(case.machine)
+        name = Path(path).name.removesuffix(".case.yaml")
+        sim = simulation_of(case, machine)
+        if sim is not None:
+            files = write_simulation(sim, readings_dir / f"{name}.wav")
+            reading = load_reading(files[0])
+        else:
+            from .readings import combine_readings
+            reading = combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
+        d = diagnose(reading, machine, reasoner, plots=True)
+        report = write_atomically(out_dir / f"{name}.html", render(document_of(d), "html"))
+        result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
+        progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
+        results.append(result)
+    index = _environment().get_template("index.html.j2").render(results=results, out_dir=out_dir)
+    write_atomically(out_dir / "index.html", index)
+    return results

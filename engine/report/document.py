@@ -1,0 +1,110 @@
+"""The report as one plain dict: what every format (text, Markdown, HTML, JSON) shows.
+
+``report_document`` puts the answer first: the verdict and urgency, the
+ranked hypotheses with certainty, severity, actions, follow-ups and oil
+tests, the cautions; then the reasoning trail, the acquisition notes and
+the zone readings. ``engine/schemas/report.schema.json`` documents it.
+"""
+
+from __future__ import annotations
+
+from .. import __version__
+from ..advice import Advice, Recommendation
+from ..machine import Machine
+from ..readings import Reading
+from ..reasoning import Firing, Hypothesis, Reasoning
+
+FACT_FIELDS_SHOWN = 8
+
+
+def _number(v):
+    return round(v, 4) if isinstance(v, float) else v
+
+
+def _fact(alias: str, fact: dict) -> dict:
+    values = {k: _number(v) for k, v in fact.items() if k not in ("kind", "id", "sid")}
+    return {"alias": alias, "kind": fact["kind"], "id": fact["id"], "values": values}
+
+
+def _firing(f: Firing) -> dict:
+    return {"rule": f.rule_id, "title": f.title, "source": f.source, "origin": f.origin,
+            "overrides": list(f.overrides), "certainty": round(f.certainty, 3), "because": " ".join(f.because.split()),
+            "facts": [_fact(a, x) for a, x in f.facts]}
+
+
+def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation | None) -> dict:
+    out = {"rank": rank, "fault": h.fault, "fault_name": h.fault_name, "family": h.family,
+           "component": h.component, "certainty": round(h.certainty, 3),
+           "certainty_pct": round(100 * max(h.certainty, 0.0)), "strength": h.strength, "stage": h.stage,
+           "support": [_firing(f) for f in h.support], "against": [_firing(f) for f in h.against],
+           "other_matches": h.other_matches}
+    if rec is not None:
+        out |= {"severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
+                "spares": list(rec.spares), "confirm": list(rec.confirm),
+                "oil_tests": [{"test": t.name, "means": t.means, "source": t.source} for t in rec.oil]}
+    return out
+
+
+def _urgency(u) -> dict:
+    return {"id": u.id, "label": u.label, "within": u.within}
+
+
+def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
+    if reasoning.withheld:
+        return (f"This reading of {machine.name} cannot support a fault conclusion: "
+                + "; ".join(h.fault_name for h in reasoning.reading_problems if h.confident) + ".")
+    confident = reasoning.confident()
+    if not confident:
+        zone = f" The overall level is in ISO 20816-3 zone {advice.worst_zone}." if advice.worst_zone else ""
+        return f"No fault of {machine.name} reaches a confident certainty.{zone}"
+    top = confident[0]
+    more = f" ({len(confident) - 1} more below)" if len(confident) > 1 else ""
+    return (f"{top.fault_name.capitalize()} on {top.component}: {top.strength}, certainty "
+            f"{100 * top.certainty:.0f} %{more}.")
+
+
+def report_document(machine: Machine, reading: Reading, facts: list[dict], reasoning: Reasoning,
+                    advice: Advice, figures: dict[str, str] | None = None) -> dict:
+    recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
+    shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
+    acquisition = next((f for f in facts if f["kind"] == "acquisition"), None)
+    problems = [{"fault": h.fault, "fault_name": h.fault_name, "component": h.component,
+                 "certainty": round(h.certainty, 3), "support": [_firing(f) for f in h.support]}
+                for h in reasoning.reading_problems]
+    withheld_recs = [r for r in advice.recommendations if r.hypothesis.family == "reading"]
+    doc = {
+        "tellwave": __version__,
+        "machine": {"name": machine.name, "plant": machine.plant, "file": machine.source,
+                    "iso_group": advice.zone_scale.group, "support": advice.zone_scale.support,
+                    "lubrication": machine.lubrication},
+        "reading": {"source": reading.source, "timestamp": reading.timestamp, "fs_hz": reading.fs_hz,
+                    "duration_s": round(reading.duration_s, 4), "speed_rpm": reading.speed_rpm,
+                    "channels": [{"name": c.name, "point": c.point, "direction": c.direction}
+                                 for c in reading.channels]},
+        "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine),
+                    "urgency": _urgency(advice.urgency)},
+        "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
+        "reading_problems": problems,
+        "remeasure": list(advice.remeasure),
+        "remeasure_actions": [a for r in withheld_recs for a in r.actions],
+        "limitations": [" ".join(x.split()) for x in advice.limitations],
+        "cautions": list(advice.cautions),
+        "disclaimer": advice.disclaimer,
+        "zones": {"scale": {"group": advice.zone_scale.group, "support": advice.zone_scale.support,
+                            "ab_mm_s": advice.zone_scale.ab, "bc_mm_s": advice.zone_scale.bc,
+                            "cd_mm_s": advice.zone_scale.cd, "assumed": advice.zone_scale.assumed,
+                            "source": " ".join(advice.zone_scale.source.split())},
+                  "worst": advice.worst_zone, "meaning": advice.zone_meaning,
+                  "points": [{"channel": z.channel, "point": z.point, "location": z.location,
+                              "velocity_rms_mm_s": round(z.velocity_rms_mm_s, 3), "zone": z.zone,
+                              "band_truncated": z.band_truncated} for z in advice.zones]},
+        "chain": [_firing(f) for f in reasoning.chain],
+        "acquisition": {k: _number(v) for k, v in acquisition.items() if k not in ("kind", "id")} if acquisition else {},
+        "data_quality": [{k: _number(v) for k, v in f.items() if k not in ("kind", "id")}
+                         for f in facts if f["kind"] == "data_quality"],
+        "rulebooks": [str(p) for p in reasoning.rulebook_files],
+        "counts": {"evidence_facts": len(facts), "facts_considered": reasoning.facts_considered,
+                   "rules": reasoning.rules_loaded},
+        "figures": [{"title": t, "svg": svg} for t, svg in (figures or {}).items()],
+    }
+    return doc
