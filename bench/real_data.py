@@ -1,0 +1,188 @@
+"""Diagnose every bearing record of ../shared/datasets and score it against its label.
+
+The records are the CWRU Bearing Data Center seeded faults (12 and 48 kHz),
+the CWRU normal baseline and the MFPT Society outer- and inner-race sets;
+index.csv gives each one's label, speed, sample rate and the Smith & Randall
+(2015, MSSP 64-65) benchmark category. A record counts as "clear" when its
+drive-end category by their benchmark method (M3) is Y1 or Y2, "hard" when it
+is N1 or N2 (MFPT records have no category; their documentation calls the
+faults clear). The MFPT field recordings are run too and listed apart: their
+labels are unverified.
+
+    python bench/real_data.py [--datasets PATH] [--only 130,105]
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import dataclasses
+import sys
+import time
+from collections import defaultdict
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from engine.machine import load_machine  # noqa: E402
+from engine.pipeline import diagnose  # noqa: E402
+from engine.readings import load_reading  # noqa: E402
+from engine.reasoning import CONFIDENT, Reasoner, load_rulebook  # noqa: E402
+
+DATASETS = ROOT.parent / "shared" / "datasets"
+MACHINES = {
+    "CWRU": ROOT / "tests/machines/cwru-motor.yaml",
+    "MFPT": ROOT / "tests/machines/mfpt-rig.yaml",
+}
+FIELD_MACHINES = {
+    "IntermediateSpeedBearing": ROOT / "tests/machines/mfpt-intermediate-speed.yaml",
+    "OilPumpBearing": ROOT / "tests/machines/mfpt-oil-pump.yaml",
+    "PlanetBearing": ROOT / "tests/machines/mfpt-planet.yaml",
+}
+FAULTS = {"outer_race": "outer-race", "inner_race": "inner-race", "ball": "rolling-element"}
+BEARINGS = {"DE": "drive_end", "FE": "fan_end", "test bearing": "test_bearing"}
+CHANNEL_POINTS = {"_DE_time": "DE", "_FE_time": "FE", "bearing.gs": "TB"}
+
+
+@dataclasses.dataclass
+class Row:
+    path: str
+    label: str
+    category: str
+    group: str          # clear, hard, partial, normal
+    top: str
+    certainty: float
+    right: bool
+    seconds: float
+
+
+def category_m3(code: str) -> str:
+    """The drive-end category by Smith & Randall's benchmark method (M3)."""
+    if not code:
+        return ""
+    parts = [p.strip() for p in code.replace("(DE only)", "").split("|")]
+    method3 = parts[2] if len(parts) >= 3 else parts[0]
+    return method3.split("/")[0].strip()
+
+
+def group_of(row: dict) -> str:
+    if row["fault"] == "normal":
+        return "normal"
+    if row["dataset"] == "MFPT":
+        return "clear"
+    cat = category_m3(row["smith_randall_category_M1_M2_M3"])
+    return {"Y1": "clear", "Y2": "clear", "N1": "hard", "N2": "hard"}.get(cat, "partial")
+
+
+def reading_of(path: Path, row: dict):
+    """The record as a Reading with its channels on the rig's measurement points."""
+    fs = float(row["fs_hz"])
+    rpm = float(row["file_rpm"] or row["nominal_rpm"])
+    wanted = ["DE_time", "FE_time"] if row["dataset"] == "CWRU" else ["gs"]
+    available = row["channels"].split()
+    keep = [w for w in wanted if any(a.endswith(w) for a in available)]
+    reading = load_reading(path, sample_rate_hz=fs, unit="g", speed_rpm=rpm, channels=keep)
+    channels = []
+    for ch in reading.channels:
+        point = next(p for suffix, p in CHANNEL_POINTS.items() if ch.name.endswith(suffix))
+        channels.append(dataclasses.replace(ch, point=point, direction="vertical"))
+    return dataclasses.replace(reading, channels=tuple(channels))
+
+
+def score(result, row: dict, group: str) -> tuple[str, float, bool]:
+    top = result.top
+    certainty = top.certainty if top else 0.0
+    name = f"{top.fault} on {top.component}" if top else "nothing"
+    if result.withheld:
+        return "withheld", certainty, False
+    if group == "normal":
+        return name, certainty, certainty < CONFIDENT
+    right_fault = top is not None and top.fault == FAULTS[row["fault"]] and \
+        top.component == BEARINGS[row["fault_bearing"]] and certainty >= CONFIDENT
+    if group == "hard":
+        # right to be unsure; wrong to be confidently wrong
+        confident_wrong = top is not None and certainty >= CONFIDENT and not right_fault
+        return name, certainty, not confident_wrong
+    return name, certainty, right_fault
+
+
+def run(datasets=DATASETS, only=None, reasoner=None, progress=print) -> list[Row]:
+    reasoner = reasoner or Reasoner(load_rulebook())
+    machines = {k: load_machine(p) for k, p in MACHINES.items()}
+    rows = []
+    with open(datasets / "index.csv", newline="", encoding="utf-8") as f:
+        records = list(csv.DictReader(f))
+    for row in records:
+        if row["dataset"] not in machines or row["fault"] not in (*FAULTS, "normal"):
+            continue
+        if only and not any(Path(row["path"]).stem == o for o in only):
+            continue
+        t0 = time.perf_counter()
+        reading = reading_of(datasets / row["path"], row)
+        result = diagnose(reading, machines[row["dataset"]], reasoner).reasoning
+        group = group_of(row)
+        top, cf, right = score(result, row, group)
+        label = f"{row['fault']} {row['fault_bearing']} {row['fault_size_in']}".strip()
+        out = Row(row["path"], label, category_m3(row["smith_randall_category_M1_M2_M3"]), group, top, cf, right,
+                  time.perf_counter() - t0)
+        rows.append(out)
+        progress(f"{'ok  ' if right else 'MISS'} {out.path:<48} {out.label:<26} {out.category or '-':<3} "
+                 f"{out.group:<7} -> {out.top} ({out.certainty:.2f})")
+    return rows
+
+
+def field_records(datasets=DATASETS, reasoner=None, progress=print) -> None:
+    """The MFPT field recordings: what the tool concludes (labels unverified)."""
+    reasoner = reasoner or Reasoner(load_rulebook())
+    with open(datasets / "index.csv", newline="", encoding="utf-8") as f:
+        rpm = {Path(r["path"]).stem: float(r["nominal_rpm"]) for r in csv.DictReader(f) if r["nominal_rpm"]}
+    for stem, machine_file in FIELD_MACHINES.items():
+        path = datasets / "mfpt/real_world" / f"{stem}.mat"
+        if not path.exists() or not machine_file.exists():
+            continue
+        machine = load_machine(machine_file)
+        # the shaft rate the file stores, given as a user would give --rpm
+        reading = load_reading(path, unit="g", channels=["gs"], speed_rpm=rpm.get(stem))
+        reading = dataclasses.replace(reading, channels=tuple(dataclasses.replace(c, point="FB", direction="vertical")
+                                                               for c in reading.channels))
+        result = diagnose(reading, machine, reasoner).reasoning
+        tops = ", ".join(f"{h.fault} on {h.component} {h.certainty:.2f}" for h in result.hypotheses[:3])
+        progress(f"field {stem:<26} -> {tops or 'nothing'}" + (" (withheld)" if result.withheld else ""))
+
+
+def totals(rows: list[Row]) -> list[str]:
+    by = defaultdict(lambda: [0, 0])
+    for r in rows:
+        fault = r.label.split()[0]
+        by[(fault, r.group)][0] += r.right
+        by[(fault, r.group)][1] += 1
+    lines = []
+    for (fault, group), (ok, n) in sorted(by.items()):
+        lines.append(f"{fault:<12} {group:<8} {ok}/{n} ({100 * ok / n:.0f} %)")
+    return lines
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--datasets", type=Path, default=DATASETS)
+    parser.add_argument("--only", help="comma-separated record names (file stems)")
+    args = parser.parse_args()
+    if not (args.datasets / "index.csv").exists():
+        print(f"no datasets at {args.datasets}", file=sys.stderr)
+        return 2
+    reasoner = Reasoner(load_rulebook())
+    t0 = time.perf_counter()
+    rows = run(args.datasets, args.only.split(",") if args.only else None, reasoner)
+    print("\ntotals (right: clear -> right fault on the right bearing, at least 50 %; hard -> not confidently wrong;"
+          " normal -> nothing at 50 %):")
+    for line in totals(rows):
+        print("  " + line)
+    print()
+    field_records(args.datasets, reasoner)
+    print(f"\n{time.perf_counter() - t0:.0f} s")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
