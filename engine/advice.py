@@ -187,7 +187,11 @@ def advise(machine: Machine, facts: list[dict], reasoning: Reasoning, data: dict
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
     if reasoning.withheld:
         recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in problems if h.confident)
-        urgency = urgencies["remeasure"]
+        # no fault conclusion, but a high level on a channel that passed the quality gates still counts
+        flagged = {f["channel"] for f in facts if f["kind"] == "data_quality"}
+        clean = max((z.zone for z in zones if z.channel not in flagged), default=None)
+        urgency = min([urgencies["remeasure"]] + ([urgencies[data["zone_urgency"][clean]]] if clean else []),
+                      key=lambda u: u.rank)
     else:
         recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in shown)
         confident = [r.urgency for r in recs if r.hypothesis.confident]

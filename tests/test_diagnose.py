@@ -188,6 +188,15 @@ def test_withheld_diagnosis_has_its_own_exit_code(tmp_path, capsys):
     assert "cannot support a fault conclusion" in out and "measure again" in out
 
 
+def test_withheld_reading_still_acts_on_a_high_level_of_clean_channels(reasoner):
+    from engine.synth import clip_channel
+    m = load_machine(RW2)
+    sim = clip_channel(simulate(m, "unbalance", "pump", 4, None, 12800.0, 3.0, 2), "M2A", 0.3)
+    d = diagnose(as_reading(sim), m, reasoner)
+    assert d.reasoning.withheld
+    assert d.advice.urgency.id == "act-now"    # stage-4 unbalance: zone D on the unclipped pump points
+
+
 BAD_INPUT = [
     ("missing reading", lambda p: ["diagnose", str(p / "nope.wav"), "--machine", str(RW2)], 4, "no such file"),
     ("random bytes", lambda p: ["diagnose", str(_bytes(p)), "--machine", str(RW2)], 4, "junk.wav"),

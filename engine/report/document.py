@@ -51,8 +51,12 @@ def _urgency(u) -> dict:
 
 def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
     if reasoning.withheld:
-        return (f"This reading of {machine.name} cannot support a fault conclusion: "
+        text = (f"This reading of {machine.name} cannot support a fault conclusion: "
                 + "; ".join(h.fault_name for h in reasoning.reading_problems if h.confident) + ".")
+        if advice.urgency.id != "remeasure":
+            text += (f" The channels that passed the quality checks still read an ISO 20816-3 level that "
+                     f"calls for '{advice.urgency.label}' until a good reading says otherwise.")
+        return text
     confident = reasoning.confident()
     if not confident:
         zone = f" The overall level is in ISO 20816-3 zone {advice.worst_zone}." if advice.worst_zone else ""
