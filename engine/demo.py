@@ -11,14 +11,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from .casebook import Case, case_files, judge, describe, load_case, simulation_of
+from .casebook import Case, case_files, describe, judge, load_case, reading_of, simulation_of
 from .machine import load_machine
 from .pipeline import diagnose, document_of
 from .readings import load_reading
 from .reasoning import Reasoner
 from .reasoning.rulebook import SHIPPED
 from .report import render, write_atomically
-from .report.render import _environment
+from .report.render import environment
 from .synth import write_simulation
 
 DEMO_CASES = SHIPPED.parent / "cases" / "demo"
@@ -46,13 +46,12 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print) 
             files = write_simulation(sim, readings_dir / f"{name}.wav")
             reading = load_reading(files[0])
         else:
-            from .readings import combine_readings
-            reading = combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
+            reading = reading_of(case, machine)
         d = diagnose(reading, machine, reasoner, plots=True)
         report = write_atomically(out_dir / f"{name}.html", render(document_of(d), "html"))
         result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
         progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
         results.append(result)
-    index = _environment().get_template("index.html.j2").render(results=results, out_dir=out_dir)
+    index = environment().get_template("index.html.j2").render(results=results, out_dir=out_dir)
     write_atomically(out_dir / "index.html", index)
     return results

@@ -20,7 +20,8 @@ def _pct(x) -> str:
     return f"{100 * x:.0f} %"
 
 
-def _environment() -> jinja2.Environment:
+def environment() -> jinja2.Environment:
+    """The Jinja environment over templates/ (autoescape for .html templates)."""
     env = jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(TEMPLATES)),
         autoescape=jinja2.select_autoescape(enabled_extensions=("html", "html.j2"), default_for_string=False),
@@ -36,7 +37,7 @@ def render(doc: dict, fmt: str) -> str:
         return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
     if fmt not in FORMATS:
         raise UsageError(f"unknown report format {fmt!r}; use text, md, html or json")
-    return _environment().get_template(FORMATS[fmt]).render(doc=doc)
+    return environment().get_template(FORMATS[fmt]).render(doc=doc)
 
 
 def write_atomically(path, text: str) -> Path:
