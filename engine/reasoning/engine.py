@@ -275,6 +275,5 @@ class Reasoner:
 def _value(values: dict, ref):
     if not isinstance(ref, Ref):
         return ref
-    fact = values[ref.alias]
-    v = fact.get(ref.field) if ref.alias in values else None
+    v = values[ref.alias].get(ref.field)
     return v * ref.factor if ref.factor != 1 else v

@@ -14,8 +14,6 @@ from ..machine import Machine
 from ..readings import Reading
 from ..reasoning import Firing, Hypothesis, Reasoning
 
-FACT_FIELDS_SHOWN = 8
-
 
 def _number(v):
     return round(v, 4) if isinstance(v, float) else v
@@ -32,16 +30,15 @@ def _firing(f: Firing) -> dict:
             "facts": [_fact(a, x) for a, x in f.facts]}
 
 
-def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation | None) -> dict:
+def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation) -> dict:
     out = {"rank": rank, "fault": h.fault, "fault_name": h.fault_name, "family": h.family,
            "component": h.component, "certainty": round(h.certainty, 3),
            "certainty_pct": round(100 * max(h.certainty, 0.0)), "strength": h.strength, "stage": h.stage,
            "support": [_firing(f) for f in h.support], "against": [_firing(f) for f in h.against],
-           "other_matches": h.other_matches}
-    if rec is not None:
-        out |= {"severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
-                "spares": list(rec.spares), "confirm": list(rec.confirm),
-                "oil_tests": [{"test": t.name, "means": t.means, "source": t.source} for t in rec.oil]}
+           "other_matches": h.other_matches,
+           "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
+           "spares": list(rec.spares), "confirm": list(rec.confirm),
+           "oil_tests": [{"test": t.name, "means": t.means, "source": t.source} for t in rec.oil]}
     return out
 
 

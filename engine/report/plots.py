@@ -85,7 +85,7 @@ def _marks(ax, marks, top):
         ax.text(freq, top * (0.97 - 0.08 * (i % 4)), f" {label}", color=MARK, fontsize=6.5, va="top", ha="left")
 
 
-def spectrum(c: ChannelContext, rc: ReadingContext, fmax_hz: float, marks: list[tuple[float, str]]) -> str:
+def spectrum(c: ChannelContext, fmax_hz: float, marks: list[tuple[float, str]]) -> str:
     """Velocity spectrum (mm/s RMS) up to ``fmax_hz`` with forcing frequencies marked."""
     v = c.velocity
     keep = v.freq_hz <= fmax_hz
@@ -164,7 +164,7 @@ def figures_for(rc: ReadingContext, reasoning) -> dict[str, str]:
                        key=lambda f: (f.family == "bearing", f.frequency_hz))
     marks = [(f.frequency_hz, f"{f.name} {f.component}" if f.family != "shaft" else f"1X {f.component}")
              for f in strongest]
-    out["Spectrum"] = spectrum(c, rc, fmax, marks)
+    out["Spectrum"] = spectrum(c, fmax, marks)
     rates = rc.defect_rates_hz()
     chosen = [bearing] if bearing else [b.id for b in rc.machine.bearings if b.shaft == shaft]
     env_marks = []
