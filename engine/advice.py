@@ -13,11 +13,11 @@ from pathlib import Path
 
 from .errors import RulebookError
 from .machine import Machine
+from .paths import RULEBOOKS
 from .reasoning import POSSIBLE, Hypothesis, Reasoning
-from .reasoning.rulebook import SHIPPED
 from .yamlfile import YamlDocument, first_problem, read_yaml
 
-ADVICE_FOLDER = SHIPPED / "advice"
+ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
 
 

@@ -13,15 +13,15 @@ from pathlib import Path
 
 from .casebook import Case, case_files, describe, judge, load_case, reading_of, simulation_of
 from .machine import load_machine
+from .paths import CASES
 from .pipeline import diagnose, document_of
 from .readings import load_reading
 from .reasoning import Reasoner
-from .reasoning.rulebook import SHIPPED
 from .report import render, write_atomically
 from .report.render import environment
 from .synth import write_simulation
 
-DEMO_CASES = SHIPPED.parent / "cases" / "demo"
+DEMO_CASES = CASES / "demo"
 
 
 @dataclass(frozen=True)

@@ -23,6 +23,7 @@ from typing import Any
 
 from ..errors import RulebookError
 from ..evidence.vocabulary import FACTS, fields_of
+from ..paths import RULEBOOKS
 from ..yamlfile import YamlDocument, first_problem, read_yaml
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
@@ -137,7 +138,7 @@ class Rulebook:
         return _kind_fields(kind, self.derived)
 
 
-SHIPPED = Path(__file__).resolve().parent.parent.parent / "rulebooks"
+SHIPPED = RULEBOOKS
 
 
 def _shown(path: Path) -> Path:

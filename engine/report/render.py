@@ -10,9 +10,8 @@ from pathlib import Path
 import jinja2
 
 from ..errors import UsageError
-from ..reasoning.rulebook import SHIPPED
+from ..paths import TEMPLATES
 
-TEMPLATES = SHIPPED.parent / "templates"
 FORMATS = {"text": "report.txt.j2", "md": "report.md.j2", "html": "report.html.j2"}
 
 
