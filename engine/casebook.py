@@ -9,16 +9,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from .errors import UsageError
+from .errors import CaseError
 from .evidence import extract_evidence
 from .machine import load_machine
 from .readings import combine_readings, load_reading
 from .reasoning import CONFIDENT, Reasoner, Reasoning
 from .yamlfile import read_yaml, validate
-
-
-class CaseError(UsageError):
-    """A case file is malformed or names files that do not exist."""
 
 
 @dataclass(frozen=True)

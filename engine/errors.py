@@ -1,8 +1,13 @@
-"""Every error and warning that tellwave raises on purpose.
+"""Every error and warning that tellwave raises on purpose, and the exit codes.
 
 Each error carries an ``exit_code`` and knows the file it is about, so that the
 command line can print one line (``tellwave: error: <file>:<line>: <problem>``)
 and exit without a traceback. Anything that is not a ``TellwaveError`` is a bug.
+
+Exit codes: 0 done; 1 a case failed (``rulebook test``, ``demo``); 2 bad command
+line or case file; 3 bad machine file; 4 bad reading file; 5 bad rulebook or
+advice data; 6 a rule failed while running; 7 diagnosed, but the reading cannot
+support a conclusion (``EXIT_WITHHELD``: not an error, a result).
 """
 
 from __future__ import annotations
@@ -58,6 +63,20 @@ class RulebookError(TellwaveError):
             problem = f"rule {rule_id}: {problem}"
         super().__init__(problem, path=path, line=line)
         self.rule_id = rule_id
+
+
+class ReasoningError(TellwaveError):
+    """A rule failed while it ran: a bug in the engine or a rule the checks missed."""
+
+    exit_code = 6
+
+
+class CaseError(UsageError):
+    """A case file is malformed or names files that do not exist."""
+
+
+EXIT_CASE_FAILED = 1
+EXIT_WITHHELD = 7   # diagnosed, but the reading cannot support a conclusion
 
 
 class DataQualityWarning(UserWarning):

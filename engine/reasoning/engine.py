@@ -30,7 +30,7 @@ from types import SimpleNamespace
 
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
-from ..errors import TellwaveError
+from ..errors import ReasoningError
 from . import certainty as cf
 from .compile import PHASE_KIND, compile_ruleset, tally_slot
 from .findings import Firing, Hypothesis, Reasoning
@@ -38,12 +38,6 @@ from .rulebook import SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Ruleb
 
 LARGEST_NUMBER = 1e15
 RULESET = "tellwave"
-
-
-class ReasoningError(TellwaveError):
-    """A rule failed while it ran: a bug in the engine or a rule the checks missed."""
-
-    exit_code = 6
 
 
 class QuietHost(Host):

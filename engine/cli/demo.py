@@ -1,0 +1,24 @@
+"""``tellwave demo``: the invented demo plant, diagnosed from its files, with HTML reports."""
+
+from __future__ import annotations
+
+from ._common import add_site_option, rulebook
+
+
+def register(sub) -> None:
+    p = sub.add_parser("demo", help="diagnose the demo plant and write HTML reports")
+    p.add_argument("--out", default="tellwave-demo", help="folder for readings and reports (default: tellwave-demo)")
+    add_site_option(p)
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    from ..demo import run_demo
+    from ..errors import EXIT_CASE_FAILED
+    from ..reasoning import Reasoner
+
+    results = run_demo(args.out, Reasoner(rulebook(args)))
+    missed = sum(not r.passed for r in results)
+    print(f"{len(results) - missed} of {len(results)} demo cases diagnosed as expected; "
+          f"reports in {args.out}/ (open {args.out}/index.html)")
+    return EXIT_CASE_FAILED if missed else 0

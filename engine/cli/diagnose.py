@@ -1,0 +1,45 @@
+"""``tellwave diagnose``: the whole job for readings of one machine, reported with advice."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+from ._common import add_reading_options, add_site_option, load_readings, rulebook
+
+
+def register(sub) -> None:
+    p = sub.add_parser("diagnose", help="diagnose readings of a machine and report with advice")
+    p.add_argument("readings", nargs="+", help="reading files taken together (one per point, or multi-channel)")
+    p.add_argument("--machine", required=True, help="machine YAML file")
+    add_site_option(p)
+    p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
+                   help="report format (default text)")
+    p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
+                                          "READING.report.html or .md for HTML and Markdown)")
+    add_reading_options(p)
+    p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep")
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    from ..errors import EXIT_WITHHELD
+    from ..machine import load_machine
+    from ..pipeline import diagnose, document_of
+    from ..reasoning import Reasoner
+    from ..report import render, write_atomically
+
+    machine = load_machine(args.machine)
+    reasoner = Reasoner(rulebook(args))
+    reading = load_readings(args)
+    fmt = args.format
+    d = diagnose(reading, machine, reasoner, plots=fmt == "html")
+    text = render(document_of(d), fmt)
+    output = args.output
+    if output is None and fmt in ("html", "md"):
+        output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
+    if output is None:
+        sys.stdout.write(text)
+    else:
+        print(f"wrote {write_atomically(output, text)}")
+    return EXIT_WITHHELD if d.reasoning.withheld else 0

@@ -1,0 +1,78 @@
+"""``tellwave rulebook``: check, test and explain rulebooks."""
+
+from __future__ import annotations
+
+from ..errors import UsageError
+from ._common import Parser, add_site_option, rulebook
+
+
+def register(sub) -> None:
+    p = sub.add_parser("rulebook", help="check, test and explain rulebooks")
+    rb = p.add_subparsers(dest="action", metavar="ACTION", parser_class=Parser)
+    p.set_defaults(run=lambda args: _usage(p))
+    for name, helptext, run in (("check", "validate the rulebooks and summarise rules per fault", _check),
+                                ("test", "run every case in a folder and report which pass", _test),
+                                ("explain", "print one rule in plain words with its source", _explain)):
+        q = rb.add_parser(name, help=helptext)
+        if name == "test":
+            q.add_argument("cases", help="folder of *.case.yaml files")
+        if name == "explain":
+            q.add_argument("rule_id", help="id of the rule, as in the rulebook (e.g. bearing.defect.envelope)")
+        add_site_option(q)
+        q.set_defaults(run=run)
+
+
+def _usage(p) -> int:
+    import sys
+
+    p.print_help(sys.stderr)
+    return 2
+
+
+def _check(args) -> int:
+    from ..reasoning.explain import summary
+
+    for line in summary(rulebook(args)):
+        print(line)
+    print("rulebooks are valid")
+    return 0
+
+
+def _explain(args) -> int:
+    from ..reasoning.explain import explain
+
+    book = rulebook(args)
+    try:
+        rule = book.rule(args.rule_id)
+    except KeyError:
+        if args.rule_id in book.disabled:
+            reason, path = book.disabled[args.rule_id]
+            raise UsageError(f"rule {args.rule_id} is switched off by {path}: {reason}") from None
+        near = [r.id for r in book.rules if args.rule_id in r.id][:5]
+        hint = f"; did you mean {', '.join(near)}?" if near else ""
+        raise UsageError(f"no rule has id {args.rule_id!r}{hint}") from None
+    for line in explain(rule, book):
+        print(line)
+    return 0
+
+
+def _test(args) -> int:
+    from ..casebook import case_files, load_case, run_case
+    from ..errors import EXIT_CASE_FAILED
+    from ..reasoning import Reasoner
+
+    reasoner = Reasoner(rulebook(args))
+    files = case_files(args.cases)
+    if not files:
+        raise UsageError(f"{args.cases}: no *.case.yaml files")
+    failed = 0
+    for path in files:
+        result = run_case(load_case(path), reasoner)
+        failed += not result.passed
+        expected = result.case.expect
+        want = ("withheld" if expected.get("withheld") else "nothing confident" if expected.get("nothing")
+                else f"{expected['fault']}" + (f" on {expected['component']}" if "component" in expected else ""))
+        mark = "pass" if result.passed else "FAIL"
+        print(f"{mark}  {path}: {result.case.name}\n      expected {want}; got {result.got}")
+    print(f"{len(files) - failed} of {len(files)} cases pass")
+    return EXIT_CASE_FAILED if failed else 0

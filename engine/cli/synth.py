@@ -1,0 +1,36 @@
+"""``tellwave synth``: a simulated reading of a machine with a known fault."""
+
+from __future__ import annotations
+
+
+def register(sub) -> None:
+    from ..synth import FAULTS
+
+    p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
+    p.add_argument("machine", help="machine YAML file")
+    p.add_argument("--fault", default="healthy", choices=list(FAULTS), metavar="FAULT",
+                   help="fault to simulate (default healthy): " + ", ".join(FAULTS))
+    p.add_argument("--component", help="faulty shaft, bearing, gear mesh, belt, rotor or motor id "
+                                       "(default: the first of its kind)")
+    p.add_argument("--stage", type=int, default=2, choices=[1, 2, 3, 4],
+                   help="damage stage, 1 incipient to 4 severe (default 2)")
+    p.add_argument("--rpm", type=float, help="speed of the driving shaft (default: nominal)")
+    p.add_argument("--sample-rate", type=float, default=25600.0, help="Hz (default 25600)")
+    p.add_argument("--duration", type=float, default=4.0, help="seconds (default 4)")
+    p.add_argument("--seed", type=int, default=0, help="random seed; the same seed gives the same reading (default 0)")
+    p.add_argument("--points", help="comma-separated measurement points (default: all)")
+    p.add_argument("-o", "--output", required=True, help="reading file to write (.wav, .npz or .csv)")
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    from ..machine import load_machine
+    from ..synth import simulate, write_simulation
+
+    machine = load_machine(args.machine)
+    points = [p.strip() for p in args.points.split(",")] if args.points else None
+    sim = simulate(machine, args.fault, args.component, args.stage, args.rpm, args.sample_rate,
+                   args.duration, args.seed, points)
+    for path in write_simulation(sim, args.output):
+        print(f"wrote {path}")
+    return 0
