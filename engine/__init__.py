@@ -1,15 +1,30 @@
-"""tellwave: a second opinion on rotating-machinery vibration readings."""
+"""tellwave: a second opinion on rotating-machinery vibration readings.
 
-__version__ = "0.1.0"
+The public names are loaded on first use, so that ``tellwave --help`` does not
+pay for numpy and scipy.
+"""
 
-from .errors import (DataQualityWarning, MachineError, ReadingError, RulebookError,
-                     TellwaveError, UsageError)
-from .kinematics import ForcingFrequency, bearing_multiples, forcing_frequencies
-from .machine import Machine, load_machine
-from .readings import Reading, load_reading
+__version__ = "0.2.0"
 
-__all__ = [
-    "DataQualityWarning", "ForcingFrequency", "Machine", "MachineError", "Reading",
-    "ReadingError", "RulebookError", "TellwaveError", "UsageError", "bearing_multiples",
-    "forcing_frequencies", "load_machine", "load_reading",
-]
+_EXPORTS = {
+    "DataQualityWarning": "errors", "MachineError": "errors", "ReadingError": "errors",
+    "RulebookError": "errors", "TellwaveError": "errors", "UsageError": "errors",
+    "ReasoningError": "errors",
+    "ForcingFrequency": "kinematics", "bearing_multiples": "kinematics", "forcing_frequencies": "kinematics",
+    "Machine": "machine", "load_machine": "machine",
+    "Reading": "readings", "load_reading": "readings",
+    "load_rulebook": "reasoning",
+    "diagnose": "pipeline",
+}
+
+__all__ = sorted(_EXPORTS)
+
+
+def __getattr__(name):
+    if name not in _EXPORTS:
+        raise AttributeError(f"module 'engine' has no attribute {name!r}")
+    from importlib import import_module
+
+    value = getattr(import_module(f".{_EXPORTS[name]}", __name__), name)
+    globals()[name] = value
+    return value

@@ -29,15 +29,18 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import yaml
-from scipy import signal
 
 from .errors import UsageError
 from .kinematics import bearing_multiples
 from .machine import Machine, Point
 from .units import STANDARD_GRAVITY_M_S2
+
+if TYPE_CHECKING:
+    from .readings import Reading
 
 G = STANDARD_GRAVITY_M_S2
 STAGES = (1, 2, 3, 4)
@@ -105,6 +108,8 @@ def _impact_times(rate_hz: float, duration_s: float, rng, slip: float = 0.01) ->
 
 
 def _impact_signal(times, amplitudes, fs, n, ring) -> np.ndarray:
+    from scipy import signal
+
     impulses = np.zeros(n)
     idx = np.clip(np.rint(times * fs).astype(int), 0, n - 1)
     np.add.at(impulses, idx, amplitudes)
@@ -137,6 +142,8 @@ def _direction_phase(direction: str) -> float:
 
 def _healthy(m: _Model, point: Point, resonance_hz: float) -> np.ndarray:
     """Residual unbalance, a little 2X and 3X, broadband noise, a structural resonance."""
+    from scipy import signal
+
     x = np.zeros(m.n)
     radial = point.direction != "axial"
     for shaft in m.speeds:
@@ -197,6 +204,8 @@ def _bearing_fault(m: _Model, fault: str, bearing_id: str, stage: int, resonance
 
 
 def _gear_fault(m: _Model, fault: str, mesh_id: str, stage: int, resonance_hz: float) -> tuple[np.ndarray, dict]:
+    from scipy import signal
+
     g = next(gg for gg in m.machine.gears if gg.id == mesh_id)
     f_in, f_out = m.speeds[g.driving_shaft], m.speeds[g.driven_shaft]
     gmf = g.driving_teeth * f_in
