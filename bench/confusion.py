@@ -5,25 +5,23 @@ component, over speeds, sample rates, stages and seeds: simulate, extract
 evidence, reason, and compare the top hypothesis with the truth. A reading
 counts as "none" when no hypothesis reaches the confident certainty (0.5).
 
-    python bench/confusion.py [--seeds N] [--quick]
+    python -m bench.confusion [--seeds N] [--quick]
 """
 
 from __future__ import annotations
 
 import argparse
 import statistics
-import sys
 import time
 from collections import Counter, defaultdict
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
 
-from engine.evidence import extract_evidence  # noqa: E402
-from engine.machine import load_machine  # noqa: E402
-from engine.reasoning import CONFIDENT, Reasoner, load_rulebook  # noqa: E402
-from engine.synth import as_reading, simulate  # noqa: E402
+from engine.evidence import extract_evidence
+from engine.machine import load_machine
+from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
+from engine.synth import as_reading, simulate
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",

@@ -6,7 +6,7 @@ floor with three harmonics). Over a grid of speeds, sample rates, stages and
 seeds this counts how often the feature appears when the fault is there
 (detection rate) and on healthy machines (false-alarm rate).
 
-    python bench/evidence_rates.py [--seeds N] [--quick]
+    python -m bench.evidence_rates [--seeds N] [--quick]
 """
 
 from __future__ import annotations
@@ -17,13 +17,11 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
-sys.path.insert(0, str(ROOT / "bench"))
 
-from engine.evidence import extract_evidence  # noqa: E402
-from features import FEATURES  # noqa: E402
-from engine.machine import load_machine  # noqa: E402
-from engine.synth import as_reading, simulate  # noqa: E402
+from engine.evidence import extract_evidence
+from bench.features import FEATURES
+from engine.machine import load_machine
+from engine.synth import as_reading, simulate
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",

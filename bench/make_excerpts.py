@@ -1,21 +1,19 @@
 """Cut the short real-data excerpts in tests/data from ../shared/datasets (run once; provenance in tests/data/README.md).
 
-    python bench/make_excerpts.py
+    python -m bench.make_excerpts
 """
 
 from __future__ import annotations
 
 import csv
 import hashlib
-import sys
 from pathlib import Path
 
 import numpy as np
 import yaml
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
-from engine.readings import load_reading  # noqa: E402
+from engine.readings import load_reading
 
 DATASETS = ROOT.parent / "shared" / "datasets"
 OUT = ROOT / "tests" / "data"

@@ -9,7 +9,7 @@ is N1 or N2 (MFPT records have no category; their documentation calls the
 faults clear). The MFPT field recordings are run too and listed apart: their
 labels are unverified.
 
-    python bench/real_data.py [--datasets PATH] [--only 130,105]
+    python -m bench.real_data [--datasets PATH] [--only 130,105]
 """
 
 from __future__ import annotations
@@ -23,12 +23,11 @@ from collections import defaultdict
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
 
-from engine.machine import load_machine  # noqa: E402
-from engine.pipeline import diagnose  # noqa: E402
-from engine.readings import load_reading  # noqa: E402
-from engine.reasoning import CONFIDENT, Reasoner, load_rulebook  # noqa: E402
+from engine.machine import load_machine
+from engine.pipeline import diagnose
+from engine.readings import load_reading
+from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 
 DATASETS = ROOT.parent / "shared" / "datasets"
 MACHINES = {

@@ -1,6 +1,6 @@
 """Time the reasoning layer: rulebook load and check, compile, and one diagnosis's reasoning step.
 
-    python bench/reasoning_speed.py [--repeat N]
+    python -m bench.reasoning_speed [--repeat N]
 
 The reasoning step is timed on the evidence of a simulated reading (all
 extractors, seven channels), so it includes asserting every fact, forward
@@ -12,17 +12,15 @@ from __future__ import annotations
 import argparse
 import resource
 import statistics
-import sys
 import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
 
-from engine.evidence import extract_evidence  # noqa: E402
-from engine.machine import load_machine  # noqa: E402
-from engine.reasoning import Reasoner, load_rulebook  # noqa: E402
-from engine.synth import as_reading, simulate  # noqa: E402
+from engine.evidence import extract_evidence
+from engine.machine import load_machine
+from engine.reasoning import Reasoner, load_rulebook
+from engine.synth import as_reading, simulate
 
 
 def _ms(samples):

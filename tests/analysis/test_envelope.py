@@ -7,7 +7,7 @@ from scipy import signal
 from engine.analysis import (analytic_band, fast_kurtogram, peak_near, spectral_kurtosis,
                              squared_envelope_spectrum)
 
-from conftest import tone
+from support import tone
 
 
 def test_full_band_envelope_matches_scipy_hilbert(rng):

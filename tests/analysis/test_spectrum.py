@@ -11,7 +11,7 @@ from engine.analysis import (amplitude_spectrum, averaged_spectrum, band_rms, fi
                              refine_running_speed, waveform_statistics, window_factors)
 from engine.units import STANDARD_GRAVITY_M_S2
 
-from conftest import tone
+from support import tone
 
 
 # Source: Heinzel, Ruediger & Schilling (2002), "Spectrum and spectral density estimation

@@ -6,7 +6,6 @@ import json
 import shutil
 import subprocess
 from html.parser import HTMLParser
-from pathlib import Path
 
 import jsonschema
 import numpy as np
@@ -21,7 +20,7 @@ from engine.report import render
 from engine.synth import as_reading, simulate, write_simulation
 from engine.yamlfile import load_schema
 
-ROOT = Path(__file__).resolve().parent.parent
+from support import ROOT
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
 CT1 = ROOT / "cases/machines/ct1-cooling-tower-fan.yaml"
 

@@ -8,8 +8,6 @@ own (../shared/datasets/index.csv).
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
 
 import pytest
 
@@ -18,7 +16,7 @@ from engine.pipeline import diagnose
 from engine.readings import load_reading
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 
-ROOT = Path(__file__).resolve().parent.parent
+from support import ROOT
 DATA = ROOT / "tests/data"
 CWRU = ROOT / "tests/machines/cwru-motor.yaml"
 MFPT = ROOT / "tests/machines/mfpt-rig.yaml"
@@ -69,8 +67,8 @@ def test_real_envelope_line_at_the_documented_bpfo(reasoner):
 @pytest.mark.skipif(not (SHARED / "index.csv").exists(),
                     reason="../shared/datasets is not beside this checkout (the excerpts above still ran)")
 def test_every_shared_bearing_record_meets_the_goal(reasoner):
-    sys.path.insert(0, str(ROOT / "bench"))
-    import real_data
+    from bench import real_data
+
 
     rows = real_data.run(SHARED, reasoner=reasoner, progress=lambda *_: None)
     races = [r for r in rows if r.group == "clear" and r.label.split()[0] in ("outer_race", "inner_race")]

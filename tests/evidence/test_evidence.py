@@ -1,7 +1,6 @@
 """Evidence extractors: common checks over the registry, detection on simulated faults, a real record."""
 
 import math
-import sys
 
 import numpy as np
 import pytest
@@ -13,10 +12,9 @@ from engine.machine import load_machine
 from engine.readings import load_reading
 from engine.synth import as_reading, simulate
 
-from conftest import CASES, ROOT, SHARED_DATASETS, TEST_MACHINES
+from support import CASES, SHARED_DATASETS, TEST_MACHINES
 
-sys.path.insert(0, str(ROOT / "bench"))
-from features import FEATURES  # noqa: E402
+from bench.features import FEATURES
 
 MACHINES = {k: load_machine(CASES / "machines" / f) for k, f in
             (("rw2", "rw2-raw-water-pump.yaml"), ("ct1", "ct1-cooling-tower-fan.yaml"),

@@ -8,7 +8,7 @@ from hypothesis import given, strategies as st
 from engine.kinematics import bearing_multiples, forcing_frequencies
 from engine.machine import Bearing, load_machine
 
-from conftest import CASES, TEST_MACHINES
+from support import CASES, TEST_MACHINES
 
 
 def _by_name(table, name, component):

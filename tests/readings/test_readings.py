@@ -14,7 +14,7 @@ from engine.cli import main
 from engine.errors import ReadingError, UsageError
 from engine.readings import check_resolution, load_reading, sidecar_path
 
-from conftest import tone
+from support import tone
 
 FS = 5120.0
 N = 10240

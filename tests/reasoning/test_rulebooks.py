@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
 
 import pytest
 
@@ -11,9 +9,8 @@ from engine.cli import main
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.reasoning.engine import engine_copy
 
-ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT / "bench"))
-import confusion  # noqa: E402
+from bench import confusion
+from support import ROOT
 
 
 @pytest.fixture(scope="module")

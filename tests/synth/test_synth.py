@@ -12,7 +12,7 @@ from engine.machine import load_machine
 from engine.readings import load_reading
 from engine.synth import as_reading, simulate, write_simulation
 
-from conftest import CASES
+from support import CASES
 
 RW2 = CASES / "machines" / "rw2-raw-water-pump.yaml"
 CT1 = CASES / "machines" / "ct1-cooling-tower-fan.yaml"
