@@ -15,6 +15,7 @@ from .rulebook import Condition, Pattern, Ref, Rule, TALLY_KIND
 
 PHASE_ALIAS = "tw_phase"
 PHASE_KIND = "phase"
+CLOSING_RULE = "tw_closing"
 
 
 def _operand(value) -> Any:
@@ -74,6 +75,13 @@ def compile_rule(rule: Rule, action) -> dict:
     return {"all": patterns, "run": action}
 
 
-def compile_ruleset(rules, make_action) -> dict:
-    """A fresh ruleset definition (durable-rules pops ``run`` from the dict it is given)."""
-    return {f"r{i:04d}": compile_rule(rule, make_action(rule)) for i, rule in enumerate(rules)}
+def compile_ruleset(rules, make_action, closing_action) -> dict:
+    """A fresh ruleset definition (durable-rules pops ``run`` from the dict it is given).
+
+    Besides the rulebook's rules it holds one closing rule that matches the
+    phase fact alone, so that every diagnosis runs at least one action: see
+    ``engine.Reasoner.reason`` for why a state must never be deleted before.
+    """
+    ruleset = {f"r{i:04d}": compile_rule(rule, make_action(rule)) for i, rule in enumerate(rules)}
+    ruleset[CLOSING_RULE] = {"all": [{PHASE_ALIAS: {"kind": PHASE_KIND}}], "run": closing_action}
+    return ruleset

@@ -18,6 +18,14 @@ durable-rules 2.0.28 has hazards this layer handles (measured in
 - actions must take exactly one parameter: each is a closure of one argument.
 - at most 1024 live states per ruleset: each diagnosis uses a fresh sid and
   deletes its state, even when it fails.
+- deleting a state on which no action ever ran frees two pointers the C core
+  never initialised (``createStateNode`` leaves ``context.messages`` and
+  ``context.stateFact`` unset; only the first action sets them, and the end of
+  each action frees and clears them), which aborts the interpreter
+  ("free(): invalid pointer"). Every ruleset therefore holds a closing rule
+  that matches the phase fact alone, so every diagnosis runs at least one
+  action; a state whose closing action did not run is left in place (a small
+  leak) rather than deleted.
 """
 
 from __future__ import annotations
@@ -123,6 +131,7 @@ class _Session:
         self.firings: list[tuple[Rule, Firing]] = []
         self.errors: list[str] = []
         self.derived_count = 0
+        self.closed = False   # the closing rule ran: the engine's action context is initialised
 
 
 class Reasoner:
@@ -131,7 +140,7 @@ class Reasoner:
     def __init__(self, rulebook: Rulebook):
         self.rulebook = rulebook
         self._host = QuietHost()
-        self._host.set_rulesets({RULESET: compile_ruleset(rulebook.rules, self._make_action)})
+        self._host.set_rulesets({RULESET: compile_ruleset(rulebook.rules, self._make_action, self._close)})
         self._sessions: dict[str, _Session] = {}
         self._sids = itertools.count(1)
         self._lock = threading.Lock()
@@ -161,6 +170,11 @@ class Reasoner:
             except Exception as exc:  # noqa: BLE001 - durable-rules would swallow it
                 session.errors.append(f"rule {rule.id}: {exc.__class__.__name__}: {exc}")
         return fire
+
+    def _close(self, c) -> None:
+        session = self._sessions.get(c.s.sid)
+        if session is not None:
+            session.closed = True
 
     def _fire(self, rule: Rule, c, session: _Session) -> None:
         matched = []
@@ -212,10 +226,10 @@ class Reasoner:
                     session.errors.append(str(state["exception"]))
             finally:
                 del self._sessions[sid]
-                try:
+                if session.closed:
                     self._host.delete_state(RULESET, sid)
-                except Exception:  # noqa: BLE001 - a state that never got created
-                    pass
+                else:
+                    session.errors.append("the rule engine did not finish this diagnosis")
             if session.errors:
                 raise ReasoningError("; ".join(session.errors[:3]))
             return self._rank(session, len(considered))
