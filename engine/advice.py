@@ -9,6 +9,7 @@ facts and the reasoning result; it reads no reading file and no spectrum.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 from pathlib import Path
 
 from .errors import RulebookError
@@ -83,7 +84,15 @@ class Advice:
 
 
 def load_advice(folder=ADVICE_FOLDER) -> dict:
-    """The advice data of ``folder`` (every YAML file merged), checked against its schema."""
+    """The advice data of ``folder`` (every YAML file merged), checked against its schema.
+
+    Read once per folder and process; treat the result as read-only.
+    """
+    return _load_advice(str(Path(folder).resolve()))
+
+
+@lru_cache(maxsize=8)
+def _load_advice(folder: str) -> dict:
     folder = Path(folder)
     files = sorted(folder.glob("*.yaml"))
     if not files:

@@ -21,14 +21,21 @@ Belts: belt pass frequency = belt speed / belt length = pi D1 f1 / L.
 Induction motors (line frequency f_L, ``p`` poles): synchronous speed
 f_s = 2 f_L / p; slip frequency f_s - fr; pole pass frequency p (f_s - fr);
 twice line frequency 2 f_L; rotor bar pass frequency = bars x fr.
+
+``rates_at`` gives every rate the engine uses at given shaft speeds, grouped
+by component (``Rates``); ``forcing_frequencies`` lists them flat for people.
+No other module derives a rate from the machine's geometry.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import asdict, dataclass
+from typing import Mapping
 
 from .machine import Bearing, Machine
+
+BEARING_DEFECTS = ("BPFO", "BPFI", "BSF", "FTF")
 
 
 @dataclass(frozen=True)
@@ -64,14 +71,137 @@ def bearing_multiples(bearing: Bearing) -> dict[str, float]:
     }
 
 
-def forcing_frequencies(machine: Machine, speed_rpm: float | None = None,
-                        shaft: str | None = None) -> list[ForcingFrequency]:
-    """Every forcing frequency of ``machine``, with ``shaft`` (default the driver) at ``speed_rpm``.
+@dataclass(frozen=True)
+class BearingRates:
+    """Defect rates of one rolling bearing, Hz."""
 
-    Without ``speed_rpm`` the nominal speeds of the machine file are used.
-    The list is sorted by frequency.
-    """
-    speeds = machine.speeds_at(speed_rpm, shaft)
+    bearing: str
+    shaft: str
+    shaft_hz: float
+    bpfo_hz: float
+    bpfi_hz: float
+    bsf_hz: float
+    ftf_hz: float
+
+    def of(self, defect: str) -> float:
+        """BPFO, BPFI, BSF or FTF in Hz."""
+        return {"BPFO": self.bpfo_hz, "BPFI": self.bpfi_hz, "BSF": self.bsf_hz, "FTF": self.ftf_hz}[defect]
+
+    def impact_rate_hz(self, defect: str) -> float:
+        """How often a defect of this kind strikes: a spall on a rolling element strikes both
+        races once per spin turn, so its impacts repeat at 2 x BSF (the ball defect rate)."""
+        return 2.0 * self.bsf_hz if defect == "BSF" else self.of(defect)
+
+
+@dataclass(frozen=True)
+class MeshRates:
+    """One gear mesh, Hz: GMF, hunting tooth and assembly phase passing frequencies."""
+
+    mesh: str
+    driving_shaft: str
+    driven_shaft: str
+    driving_teeth: int
+    driven_teeth: int
+    gmf_hz: float
+    htf_hz: float
+    appf_hz: float | None     # only when the tooth counts share a factor
+
+    def teeth_on(self, shaft: str) -> int | None:
+        """Teeth of the gear on ``shaft`` (its mesh order), None if the mesh does not touch it."""
+        if shaft == self.driving_shaft:
+            return self.driving_teeth
+        if shaft == self.driven_shaft:
+            return self.driven_teeth
+        return None
+
+
+@dataclass(frozen=True)
+class MotorRates:
+    """Electrical rates of one induction motor, Hz."""
+
+    motor: str
+    shaft: str
+    line_hz: float
+    twice_line_hz: float
+    sync_hz: float
+    slip_hz: float            # may be <= 0 when the stated speed is at or above synchronous
+    pole_pass_hz: float | None
+    rotor_bar_hz: float | None
+
+
+@dataclass(frozen=True)
+class BeltRates:
+    belt: str
+    driving_shaft: str
+    driven_shaft: str
+    belt_pass_hz: float
+
+
+@dataclass(frozen=True)
+class RotorRates:
+    rotor: str
+    shaft: str
+    kind: str                 # impeller or fan
+    vanes: int
+    pass_hz: float            # vane or blade pass
+
+    @property
+    def name(self) -> str:
+        return "vane pass" if self.kind == "impeller" else "blade pass"
+
+
+@dataclass(frozen=True)
+class Rates:
+    """Every rate of a drive train at one set of shaft speeds."""
+
+    shafts_hz: Mapping[str, float]
+    bearings: tuple[BearingRates, ...]
+    meshes: tuple[MeshRates, ...]
+    motors: tuple[MotorRates, ...]
+    belts: tuple[BeltRates, ...]
+    rotors: tuple[RotorRates, ...]
+
+    def bearing(self, bearing_id: str) -> BearingRates:
+        return next(b for b in self.bearings if b.bearing == bearing_id)
+
+    def mesh_orders(self, shaft: str) -> list[int]:
+        """Tooth counts of the gears on ``shaft``: the orders at which its meshes show."""
+        return [z for m in self.meshes if (z := m.teeth_on(shaft)) is not None]
+
+
+def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
+    """Every rate of ``machine`` with its shafts at ``speeds_hz`` (Hz, by shaft id)."""
+    bearings = []
+    for b in machine.bearings:
+        fr = speeds_hz[b.shaft]
+        m = bearing_multiples(b)
+        bearings.append(BearingRates(b.id, b.shaft, fr, m["bpfo"] * fr, m["bpfi"] * fr, m["bsf"] * fr,
+                                     m["ftf"] * fr))
+    meshes = []
+    for g in machine.gears:
+        gmf = g.driving_teeth * speeds_hz[g.driving_shaft]
+        common = math.gcd(g.driving_teeth, g.driven_teeth)
+        meshes.append(MeshRates(g.id, g.driving_shaft, g.driven_shaft, g.driving_teeth, g.driven_teeth, gmf,
+                                gmf * common / (g.driving_teeth * g.driven_teeth),
+                                gmf / common if common > 1 else None))
+    motors = []
+    for mot in machine.motors:
+        fr = speeds_hz[mot.shaft]
+        sync_hz = 2 * mot.line_frequency_hz / mot.poles
+        slip_hz = sync_hz - fr
+        motors.append(MotorRates(mot.id, mot.shaft, mot.line_frequency_hz, 2 * mot.line_frequency_hz, sync_hz,
+                                 slip_hz, mot.poles * slip_hz if slip_hz > 0 else None,
+                                 mot.rotor_bars * fr if mot.rotor_bars else None))
+    belts = [BeltRates(b.id, b.driving_shaft, b.driven_shaft,
+                       math.pi * b.driving_diameter_mm * speeds_hz[b.driving_shaft] / b.belt_length_mm)
+             for b in machine.belts]
+    rotors = [RotorRates(r.id, r.shaft, r.type, r.vanes, r.vanes * speeds_hz[r.shaft]) for r in machine.rotors]
+    return Rates(dict(speeds_hz), tuple(bearings), tuple(meshes), tuple(motors), tuple(belts), tuple(rotors))
+
+
+def forcing_list(rates: Rates) -> list[ForcingFrequency]:
+    """The rates as a flat list of named forcing frequencies, sorted by frequency."""
+    speeds = rates.shafts_hz
     out: list[ForcingFrequency] = []
 
     def add(name, component, family, on_shaft, hz):
@@ -79,32 +209,34 @@ def forcing_frequencies(machine: Machine, speed_rpm: float | None = None,
 
     for name, hz in speeds.items():
         add("1X", name, "shaft", name, hz)
-    for b in machine.bearings:
-        fr = speeds[b.shaft]
-        for key, multiple in bearing_multiples(b).items():
-            add(key.upper(), b.id, "bearing", b.shaft, multiple * fr)
-    for g in machine.gears:
-        gmf = g.driving_teeth * speeds[g.driving_shaft]
-        common = math.gcd(g.driving_teeth, g.driven_teeth)
-        add("GMF", g.id, "gear", g.driving_shaft, gmf)
-        add("HTF", g.id, "gear", g.driving_shaft, gmf * common / (g.driving_teeth * g.driven_teeth))
-        if common > 1:
-            add("APPF", g.id, "gear", g.driving_shaft, gmf / common)
-    for belt in machine.belts:
-        belt_speed_mm_s = math.pi * belt.driving_diameter_mm * speeds[belt.driving_shaft]
-        add("belt pass", belt.id, "belt", belt.driving_shaft, belt_speed_mm_s / belt.belt_length_mm)
-    for r in machine.rotors:
-        add("vane pass" if r.type == "impeller" else "blade pass", r.id, "rotor", r.shaft,
-            r.vanes * speeds[r.shaft])
-    for m in machine.motors:
-        fr = speeds[m.shaft]
-        sync_hz = 2 * m.line_frequency_hz / m.poles
-        slip_hz = sync_hz - fr
-        add("2xLF", m.id, "electrical", m.shaft, 2 * m.line_frequency_hz)
-        if slip_hz > 0:
-            add("slip", m.id, "electrical", m.shaft, slip_hz)
-            add("pole pass", m.id, "electrical", m.shaft, m.poles * slip_hz)
-        if m.rotor_bars:
-            add("rotor bar pass", m.id, "electrical", m.shaft, m.rotor_bars * fr)
+    for b in rates.bearings:
+        for defect in BEARING_DEFECTS:
+            add(defect, b.bearing, "bearing", b.shaft, b.of(defect))
+    for g in rates.meshes:
+        add("GMF", g.mesh, "gear", g.driving_shaft, g.gmf_hz)
+        add("HTF", g.mesh, "gear", g.driving_shaft, g.htf_hz)
+        if g.appf_hz is not None:
+            add("APPF", g.mesh, "gear", g.driving_shaft, g.appf_hz)
+    for belt in rates.belts:
+        add("belt pass", belt.belt, "belt", belt.driving_shaft, belt.belt_pass_hz)
+    for r in rates.rotors:
+        add(r.name, r.rotor, "rotor", r.shaft, r.pass_hz)
+    for m in rates.motors:
+        add("2xLF", m.motor, "electrical", m.shaft, m.twice_line_hz)
+        if m.slip_hz > 0:
+            add("slip", m.motor, "electrical", m.shaft, m.slip_hz)
+            add("pole pass", m.motor, "electrical", m.shaft, m.pole_pass_hz)
+        if m.rotor_bar_hz:
+            add("rotor bar pass", m.motor, "electrical", m.shaft, m.rotor_bar_hz)
     out.sort(key=lambda f: (f.frequency_hz, f.name, f.component))
     return out
+
+
+def forcing_frequencies(machine: Machine, speed_rpm: float | None = None,
+                        shaft: str | None = None) -> list[ForcingFrequency]:
+    """Every forcing frequency of ``machine``, with ``shaft`` (default the driver) at ``speed_rpm``.
+
+    Without ``speed_rpm`` the nominal speeds of the machine file are used.
+    The list is sorted by frequency.
+    """
+    return forcing_list(rates_at(machine, machine.speeds_at(speed_rpm, shaft)))

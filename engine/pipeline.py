@@ -9,7 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from .advice import Advice, advise
-from .evidence import build_contexts, run_extractors
+from .analysis import analyse
+from .evidence import run_extractors
 from .machine import Machine
 from .readings import Reading
 from .reasoning import Reasoner, Reasoning
@@ -28,7 +29,7 @@ class Diagnosis:
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
              plots: bool = False) -> Diagnosis:
     """Diagnose ``reading`` of ``machine``; ``plots`` also draws the report's SVG figures."""
-    rc = build_contexts(reading, machine)
+    rc = analyse(reading, machine)
     facts = run_extractors(rc)
     reasoning = reasoner.reason(facts)
     advice = advise(machine, facts, reasoning, advice_data)

@@ -19,9 +19,10 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy import fft as sfft
-from scipy import signal
 
 from .spectrum import Spectrum, amplitude_spectrum
+
+PREWHITEN_TAPER = 0.02    # Tukey taper fraction before whitening (1 % of the record at each end)
 
 
 @dataclass(frozen=True)
@@ -42,29 +43,83 @@ def analytic_band(x, fs: float, band_hz: tuple[float, float] | None = None,
     """
     x = np.asarray(x, dtype=float)
     n = len(x)
-    spec = np.fft.rfft(x - x.mean())
+    spec = sfft.rfft(x - x.mean())
     if band_hz is None:
         # the whole band, kept at full rate: the same as scipy.signal.hilbert
         full = np.zeros(n, dtype=complex)
         full[1:len(spec)] = 2.0 * spec[1:]
         if n % 2 == 0:
             full[n // 2] = spec[n // 2]  # the Nyquist line has no negative twin
-        return BandSignal(np.fft.ifft(full), fs, (0.0, fs / 2))
+        return BandSignal(sfft.ifft(full), fs, (0.0, fs / 2))
     return band_from_spectrum(spec, n, fs, band_hz, min_rate_hz)
 
 
+def line_frequencies(n_lines: int, n: int, fs: float) -> np.ndarray:
+    """Frequencies (Hz) of the ``n_lines`` lines of an ``n``-point one-sided FFT."""
+    return np.arange(n_lines) * fs / n
+
+
+def band_lines(freq_hz: np.ndarray, band_hz: tuple[float, float]) -> tuple[int, int]:
+    """First and one-past-last index of the lines in [lo, hi] Hz, DC excluded."""
+    first = max(1, int(np.searchsorted(freq_hz, band_hz[0], side="left")))
+    stop = int(np.searchsorted(freq_hz, band_hz[1], side="right"))
+    return first, max(first, stop)
+
+
+def band_length(width_lines: int, n: int, fs: float, min_rate_hz: float = 0.0) -> int:
+    """Samples of a band signal of ``width_lines`` lines: at least twice its bandwidth and ``min_rate_hz``."""
+    m = sfft.next_fast_len(max(2 * width_lines + 2, int(np.ceil(min_rate_hz * n / fs)), 16))
+    return min(m, n)
+
+
 def band_from_spectrum(spec: np.ndarray, n: int, fs: float, band_hz: tuple[float, float],
-                       min_rate_hz: float = 0.0) -> BandSignal:
-    """``analytic_band`` from a record's one-sided FFT ``spec`` (of ``n`` samples), computed once."""
-    lo, hi = band_hz
-    f = np.arange(len(spec)) * fs / n
-    lines = np.flatnonzero((f >= lo) & (f <= hi) & (f > 0))
-    width = len(lines)
-    m = sfft.next_fast_len(max(2 * width + 2, int(np.ceil(min_rate_hz * n / fs)), 16))
-    m = min(m, n)
+                       min_rate_hz: float = 0.0, exact_rate_hz: float | None = None) -> BandSignal:
+    """``analytic_band`` from a record's one-sided FFT ``spec`` (of ``n`` samples), computed once.
+
+    ``exact_rate_hz`` sets the band signal's sample rate (at least the
+    bandwidth, which a complex band signal needs) instead of the default.
+    """
+    first, stop = band_lines(line_frequencies(len(spec), n, fs), band_hz)
+    width = stop - first
+    if exact_rate_hz is None:
+        m = band_length(width, n, fs, min_rate_hz)
+    else:
+        m = min(n, sfft.next_fast_len(max(width + 2, int(np.ceil(exact_rate_hz * n / fs)), 16)))
     base = np.zeros(m, dtype=complex)
-    base[:width] = 2.0 * spec[lines]
-    return BandSignal(np.fft.ifft(base) * (m / n), fs * m / n, (float(lo), float(hi)))
+    base[:width] = 2.0 * spec[first:stop]
+    return BandSignal(sfft.ifft(base) * (m / n), fs * m / n, (float(band_hz[0]), float(band_hz[1])))
+
+
+def tukey(n: int, alpha: float) -> np.ndarray:
+    """Symmetric Tukey (tapered cosine) window, as ``scipy.signal.windows.tukey(n, alpha)``."""
+    if n <= 1 or alpha <= 0:
+        return np.ones(n)
+    k = np.arange(n, dtype=float)
+    width = int(np.floor(alpha * (n - 1) / 2.0))
+    w = np.ones(n)
+    w[:width + 1] = 0.5 * (1 + np.cos(np.pi * (-1 + 2.0 * k[:width + 1] / alpha / (n - 1))))
+    tail = k[n - width - 1:]
+    w[n - width - 1:] = 0.5 * (1 + np.cos(np.pi * (-2.0 / alpha + 1 + 2.0 * tail / alpha / (n - 1))))
+    return w
+
+
+def whitened_spectrum(x) -> np.ndarray:
+    """One-sided FFT of the cepstrum-prewhitened record: X / |X| after a Tukey taper.
+
+    It equals ``rfft(cepstral_prewhiten(x) - mean)`` (the DC line is zero and
+    the Nyquist line real), so the kurtogram and the envelope views start
+    from it without going back to the time domain and forward again.
+    """
+    x = np.asarray(x, dtype=float)
+    spec = sfft.rfft((x - x.mean()) * tukey(len(x), PREWHITEN_TAPER))
+    mag = np.abs(spec)
+    top = mag.max()
+    floor = 1e-12 * (top if top > 0 else 1.0)
+    white = spec / np.maximum(mag, floor)
+    white[0] = 0.0
+    if len(x) % 2 == 0:
+        white[-1] = white[-1].real
+    return white
 
 
 def cepstral_prewhiten(x) -> np.ndarray:
@@ -80,11 +135,7 @@ def cepstral_prewhiten(x) -> np.ndarray:
     the first sample, which the FFT treats as adjacent, whitens into a spike.
     """
     x = np.asarray(x, dtype=float)
-    taper = signal.windows.tukey(len(x), alpha=0.02)
-    spec = np.fft.rfft((x - x.mean()) * taper)
-    mag = np.abs(spec)
-    floor = 1e-12 * (mag.max() if mag.max() > 0 else 1.0)
-    return np.fft.irfft(spec / np.maximum(mag, floor), len(x))
+    return sfft.irfft(whitened_spectrum(x), len(x))
 
 
 def squared_envelope_spectrum(x, fs: float, band_hz: tuple[float, float] | None = None,
@@ -99,7 +150,5 @@ def squared_envelope_spectrum(x, fs: float, band_hz: tuple[float, float] | None 
     squared = np.abs(band.samples) ** 2
     spec = amplitude_spectrum(squared, band.fs_hz, window_kind=window_kind, scaling="peak")
     if max_freq_hz is not None:
-        keep = spec.freq_hz <= max_freq_hz
-        spec = Spectrum(spec.freq_hz[keep], spec.amplitude[keep], spec.scaling, spec.window,
-                        spec.resolution_hz, spec.enbw_hz, spec.averages)
+        spec = spec.below(max_freq_hz)
     return spec

@@ -10,10 +10,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
 
 from ..units import STANDARD_GRAVITY_M_S2
-from .spectrum import band_rms
+from .spectrum import Transform
 
 ISO_BAND_HZ = (10.0, 1000.0)
 ISO_BAND_SLOW_HZ = (2.0, 1000.0)
@@ -31,16 +30,25 @@ class WaveformStats:
 
 
 def waveform_statistics(x) -> WaveformStats:
-    """RMS, peak, crest factor, kurtosis and skewness of a record (mean removed)."""
+    """RMS, peak, crest factor, kurtosis and skewness of a record (mean removed).
+
+    Kurtosis and skewness are the biased moment ratios m4 / m2^2 and
+    m3 / m2^1.5, the same as ``scipy.stats.kurtosis(x, fisher=False)`` and
+    ``scipy.stats.skew(x)`` (the tests hold them against scipy).
+    """
     x = np.asarray(x, dtype=float)
     ac = x - x.mean()
-    rms = float(np.sqrt(np.mean(ac ** 2)))
+    sq = ac * ac
+    m2 = float(sq.mean())
+    rms = float(np.sqrt(m2))
     peak = float(np.max(np.abs(ac)))
-    return WaveformStats(
-        rms=rms, peak=peak, crest_factor=peak / rms if rms > 0 else float("nan"),
-        kurtosis=float(stats.kurtosis(ac, fisher=False, bias=True)),
-        skewness=float(stats.skew(ac, bias=True)),
-    )
+    if m2 > 0:
+        kurtosis = float(np.mean(sq * sq) / (m2 * m2))
+        skewness = float(np.mean(sq * ac) / m2 ** 1.5)
+    else:
+        kurtosis = skewness = float("nan")
+    return WaveformStats(rms=rms, peak=peak, crest_factor=peak / rms if rms > 0 else float("nan"),
+                         kurtosis=kurtosis, skewness=skewness)
 
 
 def iso_band_hz(speed_rpm: float | None) -> tuple[float, float]:
@@ -62,11 +70,11 @@ class OverallLevels:
     skewness: float
 
 
-def overall_levels(x, fs: float, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
-    """Overall levels of a channel whose samples are in the SI base of ``quantity``."""
+def levels_of(x, transform: Transform, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
+    """Overall levels of a record ``x`` (SI units of ``quantity``) whose FFT is ``transform``."""
     lo, hi = iso_band_hz(speed_rpm)
-    top = min(hi, fs / 2)
-    velocity_m_s = band_rms(x, fs, lo, top, integrations=INTEGRATIONS_TO_VELOCITY[quantity])
+    top = min(hi, transform.fs_hz / 2)
+    velocity_m_s = transform.band_rms(lo, top, integrations=INTEGRATIONS_TO_VELOCITY[quantity])
     st = waveform_statistics(x)
     is_accel = quantity == "acceleration"
     return OverallLevels(
@@ -77,3 +85,8 @@ def overall_levels(x, fs: float, quantity: str, speed_rpm: float | None = None) 
         acceleration_peak_g=st.peak / STANDARD_GRAVITY_M_S2 if is_accel else None,
         crest_factor=st.crest_factor, kurtosis=st.kurtosis, skewness=st.skewness,
     )
+
+
+def overall_levels(x, fs: float, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
+    """Overall levels of a channel whose samples are in the SI base of ``quantity``."""
+    return levels_of(x, Transform.of(x, fs), quantity, speed_rpm)

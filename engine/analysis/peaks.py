@@ -7,6 +7,11 @@ offset gives the amplitude lost. This is exact for a pure tone in any of the
 windows of ``windows.py``; for Hann it reduces to the closed form of
 Grandke (1983), "Interpolation algorithms for discrete Fourier transforms of
 weighted signals", IEEE Trans. Instrum. Meas. 32(2).
+
+Local maxima follow ``scipy.signal.find_peaks`` exactly (a flat top counts
+once, at its middle; ``distance`` keeps the highest peaks first); they are
+computed with numpy here because importing scipy.signal costs about half a
+second per command, and the tests hold the two against each other.
 """
 
 from __future__ import annotations
@@ -15,7 +20,6 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
-from scipy import signal
 
 from .spectrum import Spectrum
 from .windows import kernel
@@ -27,6 +31,56 @@ class Peak:
     amplitude: float   # in the spectrum's unit and scaling
     line: int          # index of the largest line
     snr: float         # amplitude over the local noise floor (median of nearby lines)
+
+
+def local_maxima(a: np.ndarray) -> np.ndarray:
+    """Indices of the local maxima of ``a`` as ``scipy.signal.find_peaks`` finds them.
+
+    A sample higher than both neighbours is a peak; a flat top (equal
+    samples, lower on both sides) is one peak at its middle (rounded down);
+    the first and last samples are never peaks.
+    """
+    a = np.asarray(a)
+    if len(a) < 3:
+        return np.zeros(0, dtype=int)
+    d = np.diff(a)
+    rising = d[:-1] > 0
+    falling = d[1:] < 0
+    strict = np.flatnonzero(rising & falling) + 1
+    flat_start = np.flatnonzero(rising & (d[1:] == 0)) + 1
+    if len(flat_start) == 0:
+        return strict
+    plateaus = []
+    for i in flat_start:
+        j = i + 1
+        while j < len(a) - 1 and a[j] == a[i]:
+            j += 1
+        if a[j] < a[i]:
+            plateaus.append((i + j - 1) // 2)
+    return np.sort(np.concatenate((strict, np.asarray(plateaus, dtype=int))))
+
+
+def select_by_distance(peaks: np.ndarray, heights: np.ndarray, distance: float) -> np.ndarray:
+    """Keep the highest peaks first, dropping any closer than ``distance`` samples to a kept one."""
+    if distance <= 1 or len(peaks) < 2:
+        return peaks
+    keep = np.ones(len(peaks), dtype=bool)
+    order = np.argsort(heights, kind="stable")[::-1]
+    for i in order:
+        if not keep[i]:
+            continue
+        lo = np.searchsorted(peaks, peaks[i] - distance, side="right")
+        hi = np.searchsorted(peaks, peaks[i] + distance, side="left")
+        keep[lo:i] = False
+        keep[i + 1:hi] = False
+    return peaks[keep]
+
+
+def peaks_above(a: np.ndarray, height: float, distance: float = 1) -> np.ndarray:
+    """``scipy.signal.find_peaks(a, height=height, distance=distance)[0]``."""
+    peaks = local_maxima(a)
+    peaks = peaks[a[peaks] >= height]
+    return select_by_distance(peaks, a[peaks], distance)
 
 
 @lru_cache(maxsize=None)
@@ -55,31 +109,131 @@ def interpolate_line(spec: Spectrum, line: int) -> tuple[float, float]:
 def noise_floor(spec: Spectrum, line: int, half_width: int = 25) -> float:
     """Median amplitude of the lines around ``line``: a robust local noise floor."""
     if 2 * half_width + 1 == Spectrum.FLOOR_LINES:
-        return float(spec.floor[line])
+        return float(spec.floor_at([line])[0])
     lo, hi = max(0, line - half_width), min(len(spec.amplitude), line + half_width + 1)
     return float(np.median(spec.amplitude[lo:hi]))
 
 
-def find_peaks(spec: Spectrum, f_lo_hz: float = 0.0, f_hi_hz: float | None = None,
-               min_snr: float = 3.0, max_peaks: int | None = None) -> list[Peak]:
-    """Local maxima standing ``min_snr`` above the local noise floor, largest first.
+HANN_MAX_GAIN = 1.0 / 0.84      # interpolation raises a Hann line by at most 1.42 dB (Heinzel et al. 2002)
 
-    Uses ``scipy.signal.find_peaks`` for the maxima, then interpolates each.
+
+def find_peaks(spec: Spectrum, f_lo_hz: float = 0.0, f_hi_hz: float | None = None,
+               min_snr: float = 3.0, max_peaks: int | None = None,
+               min_fraction: float | None = None) -> list[Peak]:
+    """Local maxima standing ``min_snr`` above the local noise floor, largest first, interpolated.
+
+    With ``min_fraction``, only peaks at least that fraction of the largest
+    qualifying peak are returned; the noise floor is then worked out only
+    for the lines that could qualify (largest first), not for every maximum.
     """
     f_hi_hz = spec.fmax_hz if f_hi_hz is None else f_hi_hz
-    lines, _ = signal.find_peaks(spec.amplitude)
+    lines = local_maxima(spec.amplitude)
     lines = lines[(spec.freq_hz[lines] >= f_lo_hz) & (spec.freq_hz[lines] <= f_hi_hz)]
-    floors = spec.floor
-    out = []
-    for line in lines:
-        floor = floors[line]
-        snr = spec.amplitude[line] / floor if floor > 0 else np.inf
-        if snr < min_snr:
-            continue
-        f, amp = interpolate_line(spec, int(line))
-        out.append(Peak(f, amp, int(line), float(snr)))
+    if min_fraction is not None and len(lines):
+        gain = HANN_MAX_GAIN if spec.window == "hann" else 2.0
+        lines = lines[np.argsort(spec.amplitude[lines], kind="stable")[::-1]]
+        biggest = None
+        for start in range(0, len(lines), 64):
+            chunk = lines[start:start + 64]
+            if biggest is not None and spec.amplitude[chunk[0]] * gain < biggest.amplitude:
+                break          # nothing further down can be interpolated above it
+            for p in _qualifying(spec, chunk, min_snr):
+                biggest = p if biggest is None or p.amplitude > biggest.amplitude else biggest
+        if biggest is None:
+            return []
+        lines = lines[spec.amplitude[lines] * gain >= min_fraction * biggest.amplitude]
+        out = [p for p in _qualifying(spec, lines, min_snr) if p.amplitude >= min_fraction * biggest.amplitude]
+    else:
+        out = _qualifying(spec, lines, min_snr)
     out.sort(key=lambda p: p.amplitude, reverse=True)
     return out[:max_peaks] if max_peaks else out
+
+
+def _qualifying(spec: Spectrum, lines: np.ndarray, min_snr: float) -> list[Peak]:
+    floors = spec.floor_at(lines)
+    amps = spec.amplitude[lines]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        snr = np.where(floors > 0, amps / np.where(floors > 0, floors, 1.0), np.inf)
+    keep = snr >= min_snr
+    freq, amp = interpolate_lines(spec, lines[keep])
+    return [Peak(float(f), float(a), int(line), float(r)) for f, a, line, r in zip(freq, amp, lines[keep], snr[keep])]
+
+
+@dataclass(frozen=True)
+class Lines:
+    """The peaks found near several target frequencies at once; ``found`` marks which exist."""
+
+    found: np.ndarray       # bool
+    freq_hz: np.ndarray     # interpolated frequency (meaningless where not found)
+    amplitude: np.ndarray   # interpolated amplitude
+    line: np.ndarray        # index of the largest line
+    snr: np.ndarray         # amplitude over the local noise floor
+
+    def __len__(self) -> int:
+        return len(self.found)
+
+    def peak(self, i: int) -> Peak | None:
+        if not self.found[i]:
+            return None
+        return Peak(float(self.freq_hz[i]), float(self.amplitude[i]), int(self.line[i]), float(self.snr[i]))
+
+    def with_snr(self, snr: np.ndarray, found: np.ndarray) -> "Lines":
+        return Lines(found, self.freq_hz, self.amplitude, self.line, snr)
+
+
+def interpolate_lines(spec: Spectrum, lines: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``interpolate_line`` for many lines at once."""
+    a = spec.amplitude
+    lines = np.asarray(lines, dtype=int)
+    freq = spec.freq_hz[lines].astype(float)
+    amp = a[lines].astype(float)
+    inner = (lines > 0) & (lines < len(a) - 1)
+    if not inner.any():
+        return freq, amp
+    ln = lines[inner]
+    side = np.where(a[ln + 1] >= a[ln - 1], 1, -1)
+    peak_amp = a[ln]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(peak_amp > 0, a[ln + side] / np.where(peak_amp > 0, peak_amp, 1.0), 0.0)
+    d, ratios, offsets, k = _ratio_table(spec.window)
+    delta = np.where(ratio > ratios[0], np.interp(ratio, ratios, d), 0.0)
+    amp[inner] = peak_amp / np.interp(delta, offsets, k)
+    freq[inner] = spec.freq_hz[ln] + side * delta * spec.resolution_hz
+    return freq, amp
+
+
+def peaks_near(spec: Spectrum, freqs_hz, tolerance_hz) -> Lines:
+    """``peak_near`` for many target frequencies at once (tolerances per target or one for all)."""
+    target = np.atleast_1d(np.asarray(freqs_hz, dtype=float))
+    count = len(target)
+    f, a = spec.freq_hz, spec.amplitude
+    n_lines = len(a)
+    half = np.maximum(np.broadcast_to(np.asarray(tolerance_hz, dtype=float), target.shape), spec.resolution_hz)
+    lo = np.searchsorted(f, target - half, side="left")
+    hi = np.minimum(np.searchsorted(f, target + half, side="left") + 1, n_lines)
+    width = int(np.max(hi - lo, initial=0))
+    empty = Lines(np.zeros(count, bool), np.zeros(count), np.zeros(count), np.zeros(count, int), np.zeros(count))
+    if count == 0 or width <= 0:
+        return empty
+    idx = lo[:, None] + np.arange(width)[None, :]
+    valid = idx < hi[:, None]
+    idx = np.minimum(idx, n_lines - 1)
+    valid &= np.abs(f[idx] - target[:, None]) <= half[:, None]
+    amps = np.where(valid, a[idx], -np.inf)
+    best = np.argmax(amps, axis=1)
+    line = idx[np.arange(count), best]
+    found = valid.any(axis=1)
+    inner = (line > 0) & (line < n_lines - 1)
+    left = a[np.maximum(line - 1, 0)]
+    right = a[np.minimum(line + 1, n_lines - 1)]
+    found &= ~inner | ((a[line] >= left) & (a[line] >= right))
+    freq, amp = interpolate_lines(spec, line)
+    snr = np.zeros(count)
+    if found.any():
+        floor = spec.floor_at(line[found])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            snr[found] = np.where(floor > 0, amp[found] / np.where(floor > 0, floor, 1.0), np.inf)
+    return Lines(found, freq, amp, line, snr)
 
 
 def peak_near(spec: Spectrum, freq_hz: float, tolerance_hz: float) -> Peak | None:

@@ -1,10 +1,15 @@
-"""Calibrated amplitude spectra, averaging and integration.
+"""Calibrated amplitude spectra, averaging, integration and band RMS.
 
 Amplitudes are scaled so that a sine of amplitude A reads A (``peak``),
 A/sqrt(2) (``rms``) or 2A (``peak-to-peak``) at its line, whatever the
 window: the coherent gain is divided out (Heinzel, Ruediger & Schilling
 2002). Averaged spectra use Welch's method (``scipy.signal.welch``, Welch
 1967) and average power, so the scaling holds for stationary tones.
+
+A channel is transformed once: ``Transform`` keeps the plain one-sided FFT
+of the record, from which the Hann spectrum, the band RMS, the integration
+to velocity and the resampling to revolutions all follow without another
+full-length FFT.
 """
 
 from __future__ import annotations
@@ -13,11 +18,28 @@ from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
-from scipy import ndimage, signal
+from scipy import fft as sfft
+from numpy.lib.stride_tricks import sliding_window_view
 
-from .windows import window, window_factors, window_name
+from .windows import enbw_bins, hann_from_rectangular, window, window_name, window_sum
 
 SCALINGS = {"peak": 1.0, "rms": 1.0 / np.sqrt(2.0), "peak-to-peak": 2.0}
+FLOOR_CHUNK = 65536
+
+
+def running_median(a: np.ndarray, lines: np.ndarray, size: int) -> np.ndarray:
+    """Median of the ``size`` values centred on each of ``lines`` (edges repeat the end value),
+    as ``scipy.ndimage.median_filter(a, size, mode="nearest")`` gives at those lines."""
+    half = size // 2
+    lines = np.asarray(lines, dtype=int)
+    out = np.empty(len(lines))
+    for start in range(0, len(lines), FLOOR_CHUNK):
+        part = lines[start:start + FLOOR_CHUNK]
+        lo, hi = int(part.min()) - half, int(part.max()) + half + 1
+        index = np.clip(np.arange(lo, hi), 0, len(a) - 1)
+        windows = sliding_window_view(a[index], size)
+        out[start:start + len(part)] = np.median(windows[part - lo - half], axis=1)
+    return out
 
 
 @dataclass(frozen=True)
@@ -32,16 +54,20 @@ class Spectrum:
     enbw_hz: float        # equivalent noise bandwidth of one line
     averages: int = 1
 
+    FLOOR_LINES = 51
+
     @property
     def fmax_hz(self) -> float:
         return float(self.freq_hz[-1])
 
-    FLOOR_LINES = 51
+    def floor_at(self, lines) -> np.ndarray:
+        """Running median over 51 lines at ``lines``: the local noise floor under each."""
+        return running_median(self.amplitude, lines, self.FLOOR_LINES)
 
     @cached_property
     def floor(self) -> np.ndarray:
-        """Running median over 51 lines: the local noise floor under every line."""
-        return ndimage.median_filter(self.amplitude, size=self.FLOOR_LINES, mode="nearest")
+        """The local noise floor under every line (computed once, when first asked for)."""
+        return self.floor_at(np.arange(len(self.amplitude)))
 
     def rescaled(self, scaling: str) -> "Spectrum":
         factor = _scale(scaling) / _scale(self.scaling)
@@ -52,12 +78,66 @@ class Spectrum:
         """Boolean mask of the lines in [f_lo_hz, f_hi_hz]."""
         return (self.freq_hz >= f_lo_hz) & (self.freq_hz <= f_hi_hz)
 
+    def below(self, f_hi_hz: float) -> "Spectrum":
+        """The same spectrum cut at ``f_hi_hz``."""
+        keep = int(np.searchsorted(self.freq_hz, f_hi_hz, side="right"))
+        return Spectrum(self.freq_hz[:keep], self.amplitude[:keep], self.scaling, self.window,
+                        self.resolution_hz, self.enbw_hz, self.averages)
+
 
 def _scale(scaling: str) -> float:
     try:
         return SCALINGS[scaling]
     except KeyError:
         raise ValueError(f"unknown scaling {scaling!r}; expected one of {', '.join(SCALINGS)}") from None
+
+
+@dataclass(frozen=True)
+class Transform:
+    """The plain one-sided FFT of a record with its mean removed, and what follows from it."""
+
+    rect: np.ndarray      # rfft(x - mean(x)), complex
+    n: int
+    fs_hz: float
+
+    @classmethod
+    def of(cls, x, fs: float) -> "Transform":
+        x = np.asarray(x, dtype=float)
+        return cls(sfft.rfft(x - x.mean()), len(x), float(fs))
+
+    @property
+    def freq_hz(self) -> np.ndarray:
+        return np.arange(len(self.rect)) * (self.fs_hz / self.n)
+
+    @cached_property
+    def hann(self) -> np.ndarray:
+        """One-sided FFT of the Hann-windowed record (three-tap sum, no second FFT)."""
+        return hann_from_rectangular(self.rect, self.n)
+
+    def amplitude(self, scaling: str = "peak") -> Spectrum:
+        """Hann amplitude spectrum of the record."""
+        amp = np.abs(self.hann) * (2.0 / window_sum("hann", self.n))
+        amp[0] /= 2.0
+        if self.n % 2 == 0:
+            amp[-1] /= 2.0
+        return Spectrum(self.freq_hz, amp * _scale(scaling), scaling, "hann", self.fs_hz / self.n,
+                        enbw_bins("hann", self.n) * self.fs_hz / self.n)
+
+    def band_rms(self, f_lo_hz: float, f_hi_hz: float, integrations: int = 0) -> float:
+        """RMS in [f_lo_hz, f_hi_hz] from the Hann periodogram, optionally integrated.
+
+        The same estimate as ``scipy.signal.periodogram(x, fs, window="hann",
+        scaling="density")`` summed over the band: |Y|^2 / (fs S2), doubled
+        except at DC and Nyquist, with S2 = 3N/8 for the periodic Hann window.
+        """
+        f = self.freq_hz
+        band = (f >= f_lo_hz) & (f <= f_hi_hz) & (f > 0)
+        power = np.abs(self.hann[band]) ** 2 / (self.fs_hz * 3.0 * self.n / 8.0)
+        idx = np.flatnonzero(band)
+        double = np.ones(len(idx))
+        double[idx != (self.n // 2 if self.n % 2 == 0 else -1)] = 2.0
+        weight = (2 * np.pi * f[band]) ** (-2 * integrations)
+        return float(np.sqrt(np.sum(power * double * weight) * (self.fs_hz / self.n)))
 
 
 def amplitude_spectrum(x, fs: float, window_kind: str = "hann", scaling: str = "peak") -> Spectrum:
@@ -81,22 +161,25 @@ def amplitude_spectrum(x, fs: float, window_kind: str = "hann", scaling: str = "
     >>> round(float(s.amplitude.max()), 6)
     3.0
     """
+    if window_name(window_kind) == "hann":
+        return Transform.of(x, fs).amplitude(scaling)
     x = np.asarray(x, dtype=float)
     n = len(x)
     w = window(window_kind, n)
-    spec = np.fft.rfft((x - x.mean()) * w)
+    spec = sfft.rfft((x - x.mean()) * w)
     amp = 2.0 * np.abs(spec) / w.sum()
     amp[0] /= 2.0
     if n % 2 == 0:
         amp[-1] /= 2.0
-    factors = window_factors(window_kind, n)
     return Spectrum(np.fft.rfftfreq(n, 1.0 / fs), amp * _scale(scaling), scaling,
-                    window_name(window_kind), fs / n, factors.enbw_bins * fs / n)
+                    window_name(window_kind), fs / n, enbw_bins(window_kind, n) * fs / n)
 
 
 def averaged_spectrum(x, fs: float, nperseg: int, overlap: float = 0.5,
                       window_kind: str = "hann", scaling: str = "peak") -> Spectrum:
     """Welch-averaged amplitude spectrum over segments of ``nperseg`` samples."""
+    from scipy import signal
+
     x = np.asarray(x, dtype=float)
     nperseg = min(int(nperseg), len(x))
     noverlap = int(round(overlap * nperseg))
@@ -105,24 +188,17 @@ def averaged_spectrum(x, fs: float, nperseg: int, overlap: float = 0.5,
     rms = np.sqrt(power)
     step = nperseg - noverlap
     averages = 1 + (len(x) - nperseg) // step
-    factors = window_factors(window_kind, nperseg)
     return Spectrum(f, rms * np.sqrt(2.0) * _scale(scaling), scaling, window_name(window_kind),
-                    fs / nperseg, factors.enbw_bins * fs / nperseg, averages)
+                    fs / nperseg, enbw_bins(window_kind, nperseg) * fs / nperseg, averages)
 
 
-def integrate(x, fs: float, f_low_hz: float, times: int = 1) -> np.ndarray:
-    """Integrate a signal ``times`` times in the frequency domain, cutting below ``f_low_hz``.
+def integration_gain(f: np.ndarray, f_low_hz: float, times: int) -> np.ndarray:
+    """Per-line gain that integrates ``times`` times (differentiates if negative), cut below ``f_low_hz``.
 
-    Acceleration in m/s^2 becomes velocity in m/s (once) or displacement in m
-    (twice); a negative ``times`` differentiates instead. Each line is divided by (j 2 pi f); lines below ``f_low_hz`` are
+    Each line is divided by (j 2 pi f)^times; lines below ``f_low_hz`` are
     removed with a half-cosine taper over the octave below it, because
     integration would otherwise amplify sensor drift without bound.
-    The record is treated as periodic, as the FFT does.
     """
-    x = np.asarray(x, dtype=float)
-    n = len(x)
-    spec = np.fft.rfft(x - x.mean())
-    f = np.fft.rfftfreq(n, 1.0 / fs)
     gain = np.zeros_like(f)
     above = f >= f_low_hz
     taper = (f >= f_low_hz / 2) & ~above
@@ -131,18 +207,28 @@ def integrate(x, fs: float, f_low_hz: float, times: int = 1) -> np.ndarray:
     nonzero = f > 0
     h = np.zeros(len(f), dtype=complex)
     h[nonzero] = gain[nonzero] / (2j * np.pi * f[nonzero]) ** times
-    return np.fft.irfft(spec * h, n)
+    return h
+
+
+def integrate(x, fs: float, f_low_hz: float, times: int = 1) -> np.ndarray:
+    """Integrate a signal ``times`` times in the frequency domain, cutting below ``f_low_hz``.
+
+    Acceleration in m/s^2 becomes velocity in m/s (once) or displacement in m
+    (twice); a negative ``times`` differentiates instead (see
+    ``integration_gain``). The record is treated as periodic, as the FFT does.
+    """
+    x = np.asarray(x, dtype=float)
+    n = len(x)
+    spec = sfft.rfft(x - x.mean())
+    f = np.fft.rfftfreq(n, 1.0 / fs)
+    return sfft.irfft(spec * integration_gain(f, f_low_hz, times), n)
 
 
 def band_rms(x, fs: float, f_lo_hz: float, f_hi_hz: float, integrations: int = 0) -> float:
     """RMS of ``x`` in [f_lo_hz, f_hi_hz], optionally after integrating it.
 
-    Computed from the Hann-windowed periodogram (``scipy.signal.periodogram``,
-    density scaling), so the window's energy is corrected (Parseval); with
-    ``integrations=1`` acceleration in m/s^2 gives velocity RMS in m/s.
+    Computed from the Hann-windowed periodogram, so the window's energy is
+    corrected (Parseval); with ``integrations=1`` acceleration in m/s^2 gives
+    velocity RMS in m/s. ``scipy.signal.periodogram`` is the reference in the tests.
     """
-    f, psd = signal.periodogram(np.asarray(x, dtype=float), fs, window="hann",
-                                scaling="density", detrend="constant")
-    band = (f >= f_lo_hz) & (f <= f_hi_hz) & (f > 0)
-    weight = (2 * np.pi * f[band]) ** (-2 * integrations)
-    return float(np.sqrt(np.sum(psd[band] * weight) * (f[1] - f[0])))
+    return Transform.of(x, fs).band_rms(f_lo_hz, f_hi_hz, integrations)

@@ -1,10 +1,18 @@
 """Spectral windows and their published correction factors.
 
-Windows come from ``scipy.signal.get_window`` in their periodic (DFT-even)
-form, the form for spectral analysis. The factors follow Heinzel, Ruediger &
-Schilling (2002), "Spectrum and spectral density estimation by the Discrete
-Fourier Transform (DFT)", section 10: coherent gain S1/N, equivalent noise
-bandwidth ENBW = N S2 / S1^2 bins, scalloping loss at half a bin.
+Windows are used in their periodic (DFT-even) form, the form for spectral
+analysis. The factors follow Heinzel, Ruediger & Schilling (2002), "Spectrum
+and spectral density estimation by the Discrete Fourier Transform (DFT)",
+section 10: coherent gain S1/N, equivalent noise bandwidth ENBW = N S2 / S1^2
+bins, scalloping loss at half a bin.
+
+The Hann window, the one the diagnosis uses, is the closed form
+0.5 - 0.5 cos(2 pi k / N) (identical to ``scipy.signal.get_window("hann", N)``,
+which the tests use as reference); its transform has three non-zero lines, so
+a Hann spectrum follows from the plain FFT of the same record by a three-tap
+sum (``hann_from_rectangular``) instead of a second FFT. The other windows
+come from ``scipy.signal.get_window``, imported only when one is asked for
+(scipy.signal takes about half a second to import).
 """
 
 from __future__ import annotations
@@ -13,7 +21,6 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
-from scipy.signal import get_window
 
 WINDOWS = {"hann": "hann", "hanning": "hann", "hamming": "hamming", "flattop": "flattop",
            "rectangular": "boxcar", "boxcar": "boxcar", "uniform": "boxcar", "blackmanharris": "blackmanharris"}
@@ -29,9 +36,51 @@ def window_name(name: str) -> str:
         raise ValueError(f"unknown window {name!r}; expected one of {', '.join(sorted(WINDOWS))}") from None
 
 
+@lru_cache(maxsize=16)
+def _window(canonical: str, n: int) -> np.ndarray:
+    if canonical == "hann":
+        w = 0.5 - 0.5 * np.cos(2.0 * np.pi * np.arange(n) / n)
+    elif canonical == "boxcar":
+        w = np.ones(n)
+    else:
+        from scipy.signal import get_window
+
+        w = get_window(canonical, n, fftbins=True)
+    w.setflags(write=False)
+    return w
+
+
 def window(name: str, n: int) -> np.ndarray:
-    """Periodic window of length ``n``."""
-    return get_window(window_name(name), n, fftbins=True)
+    """Periodic window of length ``n`` (read-only; cached, so a channel builds it once)."""
+    return _window(window_name(name), int(n))
+
+
+def window_sum(name: str, n: int) -> float:
+    """S1, the sum of the window's samples: N/2 for the periodic Hann window."""
+    if window_name(name) == "hann":
+        return n / 2.0
+    return float(window(name, n).sum())
+
+
+def hann_from_rectangular(spec: np.ndarray, n: int) -> np.ndarray:
+    """The one-sided FFT of the Hann-windowed record, from the one-sided FFT ``spec`` of the record.
+
+    The periodic Hann window is 0.5 - 0.25 e^{j theta_k} - 0.25 e^{-j theta_k},
+    so windowing is a circular convolution with three lines:
+    Y[k] = 0.5 X[k] - 0.25 (X[k-1] + X[k+1]), the lines beyond the one-sided
+    range being the conjugates of those inside it.
+    """
+    x = spec
+    m = len(x)
+    y = 0.5 * x
+    if m < 2:
+        return y
+    quarter = 0.25 * x
+    y[1:] -= quarter[:-1]
+    y[:-1] -= quarter[1:]
+    y[0] -= np.conj(quarter[1])
+    y[-1] -= np.conj(quarter[-2] if n % 2 == 0 else quarter[-1])   # X[n/2+1] = conj X[n/2-1]; odd: X[(n+1)/2] = conj X[(n-1)/2]
+    return y
 
 
 @dataclass(frozen=True)
@@ -43,6 +92,7 @@ class WindowFactors:
     scalloping_loss_db: float     # loss of a tone half a bin off centre
 
 
+@lru_cache(maxsize=32)
 def window_factors(name: str, n: int = 4096) -> WindowFactors:
     """Correction factors of a window (Heinzel, Ruediger & Schilling 2002)."""
     w = window(name, n)
@@ -55,6 +105,13 @@ def window_factors(name: str, n: int = 4096) -> WindowFactors:
         enbw_bins=n * s2 / s1 ** 2,
         scalloping_loss_db=-20 * np.log10(half_bin / s1),
     )
+
+
+def enbw_bins(name: str, n: int) -> float:
+    """Equivalent noise bandwidth in bins: exactly 1.5 for the periodic Hann window."""
+    if window_name(name) == "hann":
+        return 1.5
+    return window_factors(name, n).enbw_bins
 
 
 @lru_cache(maxsize=None)

@@ -2,8 +2,9 @@
 
 ``EXTRACTORS`` is the one registry: each entry names the fact kinds it
 produces, and ``vocabulary.FACTS`` gives every field with its type and unit.
-``extract_evidence`` runs the analysis once (``context.build_contexts``) and
-every extractor over it, then gives each fact a stable ``id``.
+Extractors read the analysis result (``engine.analysis.analyse``) and never
+transform a signal themselves; ``run_extractors`` runs them all and gives
+each fact a stable ``id``.
 """
 
 from __future__ import annotations
@@ -13,17 +14,17 @@ from typing import Callable
 
 import numpy as np
 
+from ..analysis import Analysis, analyse
 from ..machine import Machine
 from ..readings import Reading
 from . import acquisition, envelope, impacts, levels, sidebands, tones
-from .context import ReadingContext, build_contexts
 from .vocabulary import FACTS, fields_of
 
 
 @dataclass(frozen=True)
 class Extractor:
     name: str
-    run: Callable[[ReadingContext], list[dict]]
+    run: Callable[[Analysis], list[dict]]
     kinds: tuple[str, ...]
 
 
@@ -34,8 +35,7 @@ EXTRACTORS = (
     Extractor("subharmonics", tones.subharmonics, ("subharmonics",)),
     Extractor("nonsynchronous", tones.nonsynchronous, ("nonsynchronous",)),
     Extractor("sideband_family", sidebands.sideband_family, ("sideband_family",)),
-    Extractor("envelope_tone", envelope.envelope_tone, ("envelope_tone",)),
-    Extractor("load_zone_modulation", envelope.load_zone_modulation, ("load_zone_modulation",)),
+    Extractor("envelope", envelope.envelope_evidence, ("envelope_tone", "load_zone_modulation")),
     Extractor("impact_train", impacts.impact_train, ("impact_train",)),
     Extractor("once_per_rev_event", impacts.once_per_rev_event, ("once_per_rev_event",)),
     Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",)),
@@ -56,7 +56,7 @@ def _plain(value):
     return value
 
 
-def run_extractors(rc: ReadingContext, extractors=EXTRACTORS) -> list[dict]:
+def run_extractors(rc: Analysis, extractors=EXTRACTORS) -> list[dict]:
     """Run ``extractors`` over an analysed reading; number the facts kind by kind."""
     facts = []
     counts: dict[str, int] = {}
@@ -70,8 +70,7 @@ def run_extractors(rc: ReadingContext, extractors=EXTRACTORS) -> list[dict]:
 
 def extract_evidence(reading: Reading, machine: Machine) -> list[dict]:
     """Every evidence fact for ``reading`` of ``machine``."""
-    return run_extractors(build_contexts(reading, machine))
+    return run_extractors(analyse(reading, machine))
 
 
-__all__ = ["EXTRACTORS", "FACTS", "Extractor", "ReadingContext", "build_contexts",
-           "extract_evidence", "fields_of", "run_extractors"]
+__all__ = ["EXTRACTORS", "FACTS", "Extractor", "extract_evidence", "fields_of", "run_extractors"]

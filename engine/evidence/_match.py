@@ -1,15 +1,22 @@
-"""Matching measured peaks to expected frequencies, shared by the extractors."""
+"""Matching measured peaks to expected frequencies, shared by the extractors.
+
+Each search is vectorised over its targets (``find_lines``): one call per
+spectrum and purpose instead of one per frequency.
+"""
 
 from __future__ import annotations
 
 import numpy as np
 
-from ..analysis import Peak, Spectrum, peak_near
+from ..analysis import Spectrum
+from ..analysis.peaks import Lines, Peak, peaks_near
 
 MIN_SNR = 3.0               # a line must stand 3 x (9.5 dB) above its local floor
 SPEED_TOLERANCE = 0.005     # shaft-locked lines after speed refinement: 0.5 %
 UNREFINED_TOLERANCE = 0.02  # without a refined speed: 2 %
 SLIP_TOLERANCE = 0.02       # bearing defect rates slip by 1-2 % (Randall & Antoni 2011)
+WIDE_FLOOR_FRACTION = 0.15  # a wide floor: the median within +-15 % of the frequency
+WIDE_FLOOR_MIN_LINES = 25
 
 
 def db(ratio: float) -> float:
@@ -21,23 +28,50 @@ def tolerance_hz(spec: Spectrum, freq_hz: float, fraction: float) -> float:
     return max(1.5 * spec.resolution_hz, fraction * freq_hz)
 
 
-def local_floor(spec: Spectrum, freq_hz: float, width_fraction: float = 0.15, min_lines: int = 25) -> float:
+def _median(values: np.ndarray) -> float:
+    """``np.median`` of a 1-D array without its overhead (it is called for hundreds of short slices)."""
+    k = len(values) // 2
+    if len(values) % 2:
+        return float(np.partition(values, k)[k])
+    part = np.partition(values, (k - 1, k))
+    return float((part[k - 1] + part[k]) / 2)
+
+
+def local_floor(spec: Spectrum, freq_hz: float, width_fraction: float = WIDE_FLOOR_FRACTION,
+                min_lines: int = WIDE_FLOOR_MIN_LINES) -> float:
     """Median amplitude within +-``width_fraction`` of ``freq_hz`` (at least +-min_lines)."""
     half = max(width_fraction * freq_hz, min_lines * spec.resolution_hz)
-    mask = np.abs(spec.freq_hz - freq_hz) <= half
-    vals = spec.amplitude[mask]
-    return float(np.median(vals)) if len(vals) else 0.0
+    f = spec.freq_hz
+    lo = max(0, int(np.searchsorted(f, freq_hz - half, side="left")) - 1)
+    hi = min(len(f), int(np.searchsorted(f, freq_hz + half, side="right")) + 1)
+    part = f[lo:hi]
+    vals = spec.amplitude[lo:hi][np.abs(part - freq_hz) <= half]
+    return _median(vals) if len(vals) else 0.0
+
+
+def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False) -> Lines:
+    """The peaks near each of ``freqs_hz`` that stand MIN_SNR above their floor.
+
+    ``fraction`` (one value or one per target) sets the search half-width as a
+    share of the frequency, never less than 1.5 lines. With ``wide_floor`` the
+    floor is the median over +-15 % of the frequency instead of 51 lines
+    (squared envelope spectra, whose lines are few and broad).
+    """
+    freqs = np.atleast_1d(np.asarray(freqs_hz, dtype=float))
+    fraction = np.broadcast_to(np.asarray(fraction, dtype=float), freqs.shape)
+    inside = (freqs > 0) & (freqs <= spec.fmax_hz * 0.98)
+    tol = np.maximum(1.5 * spec.resolution_hz, fraction * freqs)
+    lines = peaks_near(spec, np.where(inside, freqs, 0.0), tol)
+    found = lines.found & inside
+    snr = lines.snr
+    if wide_floor and found.any():
+        snr = snr.copy()
+        for i in np.flatnonzero(found):
+            floor = local_floor(spec, float(freqs[i]))
+            snr[i] = lines.amplitude[i] / floor if floor > 0 else float("inf")
+    return lines.with_snr(snr, found & (snr >= MIN_SNR))
 
 
 def find_line(spec: Spectrum, freq_hz: float, fraction: float, wide_floor: bool = False) -> Peak | None:
     """The peak near ``freq_hz`` if it stands MIN_SNR above its floor, else None."""
-    if freq_hz <= 0 or freq_hz > spec.fmax_hz * 0.98:
-        return None
-    peak = peak_near(spec, freq_hz, tolerance_hz(spec, freq_hz, fraction))
-    if peak is None:
-        return None
-    if wide_floor:
-        floor = local_floor(spec, freq_hz)
-        snr = peak.amplitude / floor if floor > 0 else float("inf")
-        peak = Peak(peak.freq_hz, peak.amplitude, peak.line, float(snr))
-    return peak if peak.snr >= MIN_SNR else None
+    return find_lines(spec, [freq_hz], fraction, wide_floor).peak(0)

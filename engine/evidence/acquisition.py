@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .context import ReadingContext
+from ..analysis import Analysis
 
 FMAX_FACTOR = 2.56
 LINES_TO_SEPARATE = 3.0
@@ -20,7 +20,7 @@ MIN_SAMPLES_PER_CYCLE = 10.0
 STANDARD_LINES = (400, 800, 1600, 3200, 6400, 12800, 25600, 51200)
 
 
-def _needed_frequencies(rc: ReadingContext) -> dict[str, float]:
+def _needed_frequencies(rc: Analysis) -> dict[str, float]:
     """The highest line each analysis needs: 3 x GMF, 2 x vane pass, 3 x BPFI, 10 x 1X, ..."""
     needed = {}
     for f in rc.forcing:
@@ -34,7 +34,7 @@ def _needed_frequencies(rc: ReadingContext) -> dict[str, float]:
 SEPARATED = {"1X", "2xLF", "GMF", "vane pass", "blade pass", "belt pass"}
 
 
-def _closest_pair(rc: ReadingContext, fmax: float):
+def _closest_pair(rc: Analysis, fmax: float):
     """The two closest discrete lines a diagnosis must tell apart (2X included: 2X against 2xLF).
 
     Bearing defect lines are left out: they slip by 1-2 % and are told apart
@@ -51,24 +51,21 @@ def _closest_pair(rc: ReadingContext, fmax: float):
     return best
 
 
-def _sideband_spacings(rc: ReadingContext) -> list[tuple[float, str]]:
+def _sideband_spacings(rc: Analysis) -> list[tuple[float, str]]:
     spacings = []
-    for g in rc.machine.gears:
-        spacings += [(rc.speeds_hz[s], f"1X {s} sidebands of {g.id}") for s in (g.driving_shaft, g.driven_shaft)]
-    for m in rc.machine.motors:
-        fr = rc.speeds_hz[m.shaft]
-        pp = m.poles * (2 * m.line_frequency_hz / m.poles - fr)
-        if pp > 0:
-            spacings.append((pp, f"pole pass sidebands of {m.id}"))
+    for g in rc.rates.meshes:
+        spacings += [(rc.speeds_hz[s], f"1X {s} sidebands of {g.mesh}") for s in (g.driving_shaft, g.driven_shaft)]
+    for m in rc.rates.motors:
+        if m.pole_pass_hz is not None:
+            spacings.append((m.pole_pass_hz, f"pole pass sidebands of {m.motor}"))
     return spacings
 
 
-def acquisition(rc: ReadingContext) -> list[dict]:
+def acquisition(rc: Analysis) -> list[dict]:
     """One fact about the reading's settings: Fmax, resolution, revolutions, samples per cycle."""
-    reading = rc.reading
-    fs = reading.fs_hz
+    fs = rc.fs_hz
     fmax = fs / FMAX_FACTOR
-    resolution = fs / reading.n_samples
+    resolution = fs / rc.n_samples
     needed = _needed_frequencies(rc)
     highest = max(needed.values()) if needed else 0.0
     pair = _closest_pair(rc, fmax)
@@ -87,8 +84,8 @@ def acquisition(rc: ReadingContext) -> list[dict]:
         "needed_resolution_hz": needed_resolution,
         "resolution_for": tightest[1],
         "resolution_ok": bool(resolution <= needed_resolution * 1.0001),
-        "revolutions": reading.duration_s * slowest,
-        "revolutions_ok": bool(reading.duration_s * slowest >= MIN_REVOLUTIONS),
+        "revolutions": rc.duration_s * slowest,
+        "revolutions_ok": bool(rc.duration_s * slowest >= MIN_REVOLUTIONS),
         "samples_per_cycle": spc, "samples_per_cycle_ok": bool(spc >= MIN_SAMPLES_PER_CYCLE),
         "suggested_fmax_hz": float(np.ceil(suggested_fmax / 100) * 100),
         "suggested_lines": int(suggested_lines),
@@ -97,14 +94,14 @@ def acquisition(rc: ReadingContext) -> list[dict]:
     }]
 
 
-def data_quality(rc: ReadingContext) -> list[dict]:
+def data_quality(rc: Analysis) -> list[dict]:
     """One fact per quality issue the reader's gates found."""
     return [{"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
-             "blocking": q.blocking} for q in rc.reading.quality]
+             "blocking": q.blocking} for q in rc.quality]
 
 
 
-def machine_class(rc: ReadingContext) -> list[dict]:
+def machine_class(rc: Analysis) -> list[dict]:
     """What kind of machine this is, so a site rule can hold for one class only."""
     m = rc.machine
     return [{"kind": "machine", "name": m.name, "iso_group": m.iso_group or 0, "support": m.support or "",

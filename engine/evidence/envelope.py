@@ -1,6 +1,6 @@
 """Bearing defect tones in the squared envelope spectrum, and their load-zone modulation.
 
-The SES is computed in ``context`` from the cepstrum-prewhitened signal in
+The SES is computed in the analysis stage from the cepstrum-prewhitened signal in
 the band the kurtogram chose (Randall & Antoni 2011). A defect rate slips by
 1-2 % in a real bearing, so each harmonic k is looked for within 2 % of k
 times the expected rate, and its height is judged against the median of the
@@ -9,39 +9,42 @@ SES within 15 % of it.
 
 from __future__ import annotations
 
-from ._match import SLIP_TOLERANCE, db, find_line, tolerance_hz
-from .context import ReadingContext
+import numpy as np
+
+from ._match import SLIP_TOLERANCE, db, find_lines, tolerance_hz
+from ..analysis import Analysis
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
-# A spall on a rolling element strikes both races once per spin turn, so its
-# impacts repeat at twice the ball spin frequency (the "ball defect rate").
-RATE_MULTIPLE = {"BPFO": 1, "BPFI": 1, "BSF": 2, "FTF": 1}
 MODULATION_ORDERS = 3
 SHAFT_ORDER_TOLERANCE = 0.003
 
 
-def _defects(rc: ReadingContext):
-    rates = rc.defect_rates_hz()
-    for b in rc.machine.bearings:
+def _defects(rc: Analysis):
+    """(bearing rates, defect, impact rate in Hz): BSF as the ball defect rate, 2 x BSF."""
+    for b in rc.rates.bearings:
         for defect in HARMONICS:
-            yield b, defect, RATE_MULTIPLE[defect] * rates[(b.id, defect)]
+            yield b, defect, b.impact_rate_hz(defect)
 
 
-def _harmonics(ses, rate_hz, n, shaft_hz):
-    """Harmonics of ``rate_hz`` in the SES, leaving out lines at whole orders of the shaft.
+def _harmonics(ses, targets):
+    """Harmonics of each target in the SES, leaving out lines at whole orders of the shaft.
 
-    Shaft orders appear in an envelope whenever anything modulates at 1X; a
-    defect rate is not a whole order, so a line at one is not its evidence
-    (unless the defect's own harmonic falls on that order too).
+    ``targets`` holds (rate Hz, harmonics, shaft Hz); the result holds, per
+    target, {k: Peak}. Shaft orders appear in an envelope whenever anything
+    modulates at 1X; a defect rate is not a whole order, so a line at one is
+    not its evidence (unless the defect's own harmonic falls on that order too).
     """
-    found = {}
-    for k in range(1, n + 1):
-        peak = find_line(ses, k * rate_hz, SLIP_TOLERANCE, wide_floor=True)
+    wanted = [(t, k, k * rate) for t, (rate, n, _) in enumerate(targets) for k in range(1, n + 1)]
+    lines = find_lines(ses, [w[2] for w in wanted], SLIP_TOLERANCE, wide_floor=True)
+    found = [{} for _ in targets]
+    for i, (t, k, expected) in enumerate(wanted):
+        peak = lines.peak(i)
         if peak is None:
             continue
-        if _on_shaft_order(ses, peak.freq_hz, shaft_hz) and not _on_shaft_order(ses, k * rate_hz, shaft_hz):
+        shaft_hz = targets[t][2]
+        if _on_shaft_order(ses, peak.freq_hz, shaft_hz) and not _on_shaft_order(ses, expected, shaft_hz):
             continue
-        found[k] = peak
+        found[t][k] = peak
     return found
 
 
@@ -50,33 +53,47 @@ def _on_shaft_order(ses, freq_hz, shaft_hz) -> bool:
     return order >= 1 and abs(freq_hz - order * shaft_hz) <= tolerance_hz(ses, freq_hz, SHAFT_ORDER_TOLERANCE)
 
 
-def envelope_tone(rc: ReadingContext) -> list[dict]:
-    """One fact per bearing defect whose rate or harmonics stand out in a channel's SES
-    (for each envelope view: the kurtogram band, and the wide prewhitened band)."""
-    out = []
+def envelope_evidence(rc: Analysis) -> list[dict]:
+    """Bearing defect tones in each channel's squared envelope spectra, and their load-zone modulation.
+
+    One harmonic search per envelope view (the kurtogram band, and the wide
+    prewhitened band) gives both kinds of fact: an ``envelope_tone`` for each
+    defect whose rate or harmonics stand out, and a ``load_zone_modulation``
+    for each race or ball defect found, from the sidebands round its first
+    three harmonics.
+    """
+    tones, zones = [], []
+    defects = list(_defects(rc))
     for c in rc.channels:
         for view in c.envelopes:
-            ses = view.ses
-            for b, defect, rate in _defects(rc):
-                found = _harmonics(ses, rate, HARMONICS[defect], rc.speeds_hz[b.shaft])
-                checked = sum(1 for k in range(1, HARMONICS[defect] + 1) if k * rate <= ses.fmax_hz * 0.98)
-                if not found:
-                    continue
-                first = found.get(1)
-                out.append(c.base() | {
-                    "kind": "envelope_tone", "defect": defect, "component": b.id, "shaft": b.shaft,
-                    "expected_hz": rate, "freq_hz": first.freq_hz if first else 0.0,
-                    "deviation_pct": (first.freq_hz / rate - 1) * 100 if first else 0.0,
-                    "harmonics_found": len(found), "harmonics_checked": checked,
-                    "first_snr_db": db(first.snr) if first else 0.0,
-                    "max_snr_db": max(db(p.snr) for p in found.values()),
-                    "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
-                    "band_kurtosis": view.band_kurtosis,
-                })
+            found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
+            tones += _tone_facts(c, view, defects, found)
+            zones += _modulation_facts(c, view, defects, found)
+    return tones + zones
+
+
+def _tone_facts(c, view, defects, all_found) -> list[dict]:
+    out = []
+    ses = view.ses
+    for (b, defect, rate), found in zip(defects, all_found):
+        checked = sum(1 for k in range(1, HARMONICS[defect] + 1) if k * rate <= ses.fmax_hz * 0.98)
+        if not found:
+            continue
+        first = found.get(1)
+        out.append(c.base() | {
+            "kind": "envelope_tone", "defect": defect, "component": b.bearing, "shaft": b.shaft,
+            "expected_hz": rate, "freq_hz": first.freq_hz if first else 0.0,
+            "deviation_pct": (first.freq_hz / rate - 1) * 100 if first else 0.0,
+            "harmonics_found": len(found), "harmonics_checked": checked,
+            "first_snr_db": db(first.snr) if first else 0.0,
+            "max_snr_db": max(db(p.snr) for p in found.values()),
+            "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
+            "band_kurtosis": view.band_kurtosis,
+        })
     return out
 
 
-def load_zone_modulation(rc: ReadingContext) -> list[dict]:
+def _modulation_facts(c, view, all_defects, all_harmonics) -> list[dict]:
     """Envelope sidebands at defect harmonics +- 1X and +- FTF, and the depth they imply.
 
     A defect passing through the load zone once per turn of the rotating part
@@ -85,30 +102,40 @@ def load_zone_modulation(rc: ReadingContext) -> list[dict]:
     (Randall & Antoni 2011, section 2.1). For sinusoidal modulation of depth m
     each sideband is m/2 of its carrier, so depth = (lower + upper) / carrier.
     """
-    rates = rc.defect_rates_hz()
     out = []
-    for c in rc.channels:
-        for view in c.envelopes:
-            ses = view.ses
-            for b, defect, rate in _defects(rc):
-                if defect == "FTF":
-                    continue
-                found = _harmonics(ses, rate, MODULATION_ORDERS, rc.speeds_hz[b.shaft])
-                if not found:
-                    continue
-                for modulation, mod_hz in (("1X", rc.speeds_hz[b.shaft]), ("FTF", rates[(b.id, "FTF")])):
-                    count, depths = 0, []
-                    for k, carrier in found.items():
-                        sides = []
-                        for sign in (-1, 1):
-                            peak = find_line(ses, carrier.freq_hz + sign * mod_hz, 0.003, wide_floor=True)
-                            sides.append(peak.amplitude if peak else 0.0)
-                            count += peak is not None
-                        depths.append(sum(sides) / carrier.amplitude)
-                    line = find_line(ses, mod_hz, 0.005, wide_floor=True)
-                    out.append(c.base() | {
-                        "kind": "load_zone_modulation", "defect": defect, "component": b.id,
-                        "band_method": view.method, "modulation": modulation, "modulation_hz": mod_hz,
-                        "sideband_count": count, "depth": max(depths), "line_snr_db": db(line.snr) if line else 0.0,
-                    })
+    ses = view.ses
+    kept = [(d, {k: p for k, p in h.items() if k <= MODULATION_ORDERS})
+            for d, h in zip(all_defects, all_harmonics) if d[1] != "FTF"]
+    defects = [d for d, _ in kept]
+    all_found = [h for _, h in kept]
+    # every sideband of every carrier and the modulation lines themselves, in one search each
+    sides, mods = [], []
+    for d, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
+        if not found:
+            continue
+        for modulation, mod_hz in (("1X", b.shaft_hz), ("FTF", b.ftf_hz)):
+            mods.append((d, modulation, mod_hz))
+            for k, carrier in found.items():
+                sides += [(len(mods) - 1, k, carrier.freq_hz + sign * mod_hz) for sign in (-1, 1)]
+    if not mods:
+        return out
+    side_lines = find_lines(ses, [x[2] for x in sides], 0.003, wide_floor=True)
+    mod_lines = find_lines(ses, [x[2] for x in mods], 0.005, wide_floor=True)
+    side_amplitude = np.where(side_lines.found, side_lines.amplitude, 0.0)
+    by_carrier: dict[tuple[int, int], list[int]] = {}
+    for i, (j, k, _) in enumerate(sides):
+        by_carrier.setdefault((j, k), []).append(i)
+    for j, (d, modulation, mod_hz) in enumerate(mods):
+        b, defect, _ = defects[d]
+        count, depths = 0, []
+        for k, carrier in all_found[d].items():
+            at = by_carrier[(j, k)]
+            count += int(np.count_nonzero(side_lines.found[at]))
+            depths.append(float(sum(side_amplitude[i] for i in at)) / carrier.amplitude)
+        line = mod_lines.peak(j)
+        out.append(c.base() | {
+            "kind": "load_zone_modulation", "defect": defect, "component": b.bearing,
+            "band_method": view.method, "modulation": modulation, "modulation_hz": mod_hz,
+            "sideband_count": count, "depth": max(depths), "line_snr_db": db(line.snr) if line else 0.0,
+        })
     return out

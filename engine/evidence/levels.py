@@ -5,10 +5,10 @@ from __future__ import annotations
 from collections import defaultdict
 
 from ._match import find_line
-from .context import ReadingContext
+from ..analysis import Analysis
 
 
-def overall(rc: ReadingContext) -> list[dict]:
+def overall(rc: Analysis) -> list[dict]:
     """One ``overall`` fact per channel: ISO band velocity, acceleration, crest factor, kurtosis."""
     out = []
     for c in rc.channels:
@@ -28,7 +28,7 @@ def _order_amplitude(c, speed_hz: float, order: int, tol: float) -> float:
     return peak.amplitude if peak else 0.0
 
 
-def direction_ratio(rc: ReadingContext) -> list[dict]:
+def direction_ratio(rc: Analysis) -> list[dict]:
     """Axial against radial, horizontal against vertical, where one location has several channels."""
     by_location = defaultdict(dict)
     for c in rc.channels:

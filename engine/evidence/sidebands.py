@@ -4,56 +4,66 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import db, find_line
-from .context import ReadingContext
+from ._match import db, find_lines
+from ..analysis import Analysis
 
 MAX_ORDER = 6
 SPACING_TOLERANCE = 0.005  # sidebands sit at exact multiples of the spacing: 0.5 % of it
 
 
-def _carriers(rc: ReadingContext):
+def _carriers(rc: Analysis):
     """(carrier name, component, carrier Hz, spacing name, spacing shaft, spacing Hz, use velocity)."""
     out = []
-    for g in rc.machine.gears:
-        gmf = g.driving_teeth * rc.speeds_hz[g.driving_shaft]
+    for g in rc.rates.meshes:
         for k, name in ((1, "GMF"), (2, "2xGMF")):
             for shaft in (g.driving_shaft, g.driven_shaft):
-                out.append((name, g.id, k * gmf, "1X", shaft, rc.speeds_hz[shaft], False))
-    defects = rc.defect_rates_hz()
-    for b in rc.machine.bearings:
-        out.append(("BPFI", b.id, defects[(b.id, "BPFI")], "1X", b.shaft, rc.speeds_hz[b.shaft], False))
-    for m in rc.machine.motors:
-        fr = rc.speeds_hz[m.shaft]
-        pole_pass = m.poles * (2 * m.line_frequency_hz / m.poles - fr)
-        if pole_pass > 0:
+                out.append((name, g.mesh, k * g.gmf_hz, "1X", shaft, rc.speeds_hz[shaft], False))
+    for b in rc.rates.bearings:
+        out.append(("BPFI", b.bearing, b.bpfi_hz, "1X", b.shaft, b.shaft_hz, False))
+    for m in rc.rates.motors:
+        if m.pole_pass_hz is not None:
             # The carrier is the motor shaft's 1X; the family belongs to the motor itself.
-            out.append(("1X", m.id, fr, "pole pass", m.shaft, pole_pass, True))
+            out.append(("1X", m.motor, rc.speeds_hz[m.shaft], "pole pass", m.shaft, m.pole_pass_hz, True))
     return out
 
 
-def sideband_family(rc: ReadingContext) -> list[dict]:
+def sideband_family(rc: Analysis) -> list[dict]:
     """Sidebands at carrier +- k x spacing, k = 1..6, counted where they stand above the floor."""
     out = []
+    carriers = _carriers(rc)
     for c in rc.channels:
-        for carrier, component, fc, spacing_name, spacing_shaft, spacing, use_velocity in _carriers(rc):
+        families = []      # (carrier tuple, index of its centre search, [(k, sign, index of its search)])
+        searches = {True: [], False: []}    # by spectrum (velocity?): (frequency, fraction)
+        for car in carriers:
+            fc, spacing, use_velocity = car[2], car[5], car[6]
             spec = c.velocity if use_velocity else c.spectrum
             if fc + spacing > spec.fmax_hz * 0.98 or spacing < 2.5 * spec.resolution_hz:
                 continue
-            centre = find_line(spec, fc, 0.002)
-            found, orders_low, orders_high, ratios = 0, set(), set(), []
+            todo = searches[use_velocity]
+            centre = len(todo)
+            todo.append((fc, 0.002))
+            sides = []
             for k in range(1, MAX_ORDER + 1):
-                for sign, orders in ((-1, orders_low), (1, orders_high)):
+                for sign in (-1, 1):
                     f = fc + sign * k * spacing
                     if f <= 0:
                         continue
-                    frac = max(SPACING_TOLERANCE * k * spacing, 0.5 * spec.resolution_hz) / f
-                    peak = find_line(spec, f, frac)
-                    if peak is None:
-                        continue
-                    found += 1
-                    orders.add(k)
-                    if centre is not None:
-                        ratios.append(peak.amplitude / centre.amplitude)
+                    sides.append((k, sign, len(todo)))
+                    todo.append((f, max(SPACING_TOLERANCE * k * spacing, 0.5 * spec.resolution_hz) / f))
+            families.append((car, centre, sides))
+        found_lines = {v: find_lines(c.velocity if v else c.spectrum, [t[0] for t in todo], [t[1] for t in todo])
+                       for v, todo in searches.items() if todo}
+        for (carrier, component, fc, spacing_name, spacing_shaft, spacing, use_velocity), centre_at, sides in families:
+            lines = found_lines[use_velocity]
+            centre = lines.peak(centre_at)
+            found, orders_low, orders_high, ratios = 0, set(), set(), []
+            for k, sign, at in sides:
+                if not lines.found[at]:
+                    continue
+                found += 1
+                (orders_low if sign < 0 else orders_high).add(k)
+                if centre is not None:
+                    ratios.append(float(lines.amplitude[at]) / centre.amplitude)
             if found < 2:
                 continue
             out.append(c.base() | {

@@ -18,7 +18,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from ..analysis import cut_revolutions  # noqa: E402
-from ..evidence.context import ChannelContext, ReadingContext  # noqa: E402
+from ..analysis import Analysis as ReadingContext, ChannelAnalysis as ChannelContext  # noqa: E402
 from ..units import STANDARD_GRAVITY_M_S2  # noqa: E402
 
 STYLE = {
@@ -154,7 +154,7 @@ def figures_for(rc: ReadingContext, reasoning) -> dict[str, str]:
         return {}
     c, shaft, bearing = _focus(rc, reasoning)
     fr = rc.speeds_hz[shaft]
-    out = {"Waveform": waveform(c, min(rc.reading.duration_s, max(0.1, 6 / fr)))}
+    out = {"Waveform": waveform(c, min(rc.duration_s, max(0.1, 6 / fr)))}
     revs = revolutions(c, shaft, fr)
     if revs:
         out["Revolutions"] = revs
@@ -165,13 +165,12 @@ def figures_for(rc: ReadingContext, reasoning) -> dict[str, str]:
     marks = [(f.frequency_hz, f"{f.name} {f.component}" if f.family != "shaft" else f"1X {f.component}")
              for f in strongest]
     out["Spectrum"] = spectrum(c, fmax, marks)
-    rates = rc.defect_rates_hz()
     chosen = [bearing] if bearing else [b.id for b in rc.machine.bearings if b.shaft == shaft]
     env_marks = []
     for b in chosen:
-        for defect, mult in (("BPFO", 1), ("BPFI", 1), ("BSF", 2), ("FTF", 1)):
+        for defect in ("BPFO", "BPFI", "BSF", "FTF"):
             label = "2xBSF" if defect == "BSF" else defect
-            env_marks.append((mult * rates[(b, defect)], f"{label} {b}"))
+            env_marks.append((rc.rates.bearing(b).impact_rate_hz(defect), f"{label} {b}"))
     env = envelope(c, sorted(env_marks))
     if env:
         out["Squared envelope spectrum"] = env

@@ -1,0 +1,272 @@
+"""The analysis of one reading of one machine: everything computed on samples, once.
+
+``analyse`` is the analysis stage's entry point. For each usable channel it
+transforms the acceleration once and derives from that one FFT the Hann
+spectrum, the velocity spectrum and the overall levels; it refines the
+running speed from the spectra of all channels; then, at that speed, it
+computes the prewhitened spectrum, the kurtogram and two squared envelope
+views, the impact train of the envelope, and the once-per-revolution events
+of each shaft. The evidence extractors only read the result.
+
+Values in SI units inside (m/s^2 for acceleration spectra), mm/s RMS for the
+velocity spectrum, Hz everywhere.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from types import MappingProxyType
+from typing import Mapping
+
+import numpy as np
+from scipy.fft import next_fast_len
+
+from ..errors import ReadingError
+from ..kinematics import ForcingFrequency, Rates, forcing_list, rates_at
+from ..machine import Machine, Point
+from ..readings import Channel, QualityIssue, Reading
+from .envelope import band_from_spectrum, whitened_spectrum
+from .impacts import ImpactTrain, impact_train
+from .kurtogram import Kurtogram, kurtogram_of_spectrum
+from .levels import OverallLevels, levels_of
+from .spectrum import Spectrum, Transform, integrate
+from .speed import SpeedEstimate, refine_running_speed
+from .synchronous import SynchronousEvents, synchronous_events
+
+SPEED_SEARCH_FRACTION = 0.04   # an induction motor's speed stays within 4 % of its nominal
+MEASURED_SPEED_SEARCH = 0.01   # a measured speed is trusted to 1 %
+ENVELOPE_HARMONICS = 5          # the SES shows this many harmonics of the fastest defect rate
+EDGE_TRIM = 0.03                # whitening leaves edge effects: 3 % at each end is not used
+BAND_TO_DEFECT = 3              # a demodulation band at least 3 x the fastest defect rate wide
+                                # (Randall & Antoni 2011, section 3.2)
+KURTOGRAM_LEVELS = 8
+MIN_VELOCITY_HZ = 2.0
+TSA_MIN_REVOLUTIONS = 10
+TSA_MIN_SAMPLES_PER_REV = 64
+TSA_MAX_SAMPLES_PER_REV = 4096
+LINE_HARMONICS = 20             # line-frequency harmonics kept out of the speed search
+
+
+@dataclass(frozen=True)
+class EnvelopeView:
+    """One squared envelope spectrum of a channel and the band it demodulates."""
+
+    method: str                     # kurtogram or wide
+    ses: Spectrum                   # (m/s^2)^2 peak, in the band's squared unit
+    band_hz: tuple[float, float]
+    band_kurtosis: float
+
+
+@dataclass(frozen=True)
+class ChannelAnalysis:
+    """Everything computed on one channel."""
+
+    channel: Channel
+    point: Point | None
+    fs_hz: float
+    accel: np.ndarray                      # acceleration, m/s^2, mean removed (for plots)
+    transform: Transform                   # its one FFT (for plots)
+    spectrum: Spectrum                     # acceleration, m/s^2 peak, Hann
+    velocity: Spectrum                     # velocity, mm/s RMS, from the same FFT
+    levels: OverallLevels
+    kurtogram: Kurtogram | None
+    envelopes: tuple[EnvelopeView, ...]    # the kurtogram band first, then the wide band
+    envelope_signal: np.ndarray | None     # squared envelope of the kurtogram band, in time
+    envelope_fs_hz: float | None
+    impacts: ImpactTrain | None
+    synchronous: Mapping[str, SynchronousEvents]   # by shaft id
+    issues: tuple[QualityIssue, ...]
+
+    @property
+    def envelope(self) -> Spectrum | None:
+        """The squared envelope spectrum of the kurtogram band."""
+        return self.envelopes[0].ses if self.envelopes else None
+
+    @property
+    def name(self) -> str:
+        return self.channel.name
+
+    @property
+    def direction(self) -> str | None:
+        return self.point.direction if self.point else self.channel.direction
+
+    @property
+    def location(self) -> str | None:
+        return self.point.at if self.point else None
+
+    def base(self) -> dict:
+        """The fields every fact about this channel carries."""
+        return {"channel": self.name, "point": self.point.id if self.point else (self.channel.point or ""),
+                "direction": self.direction or "", "location": self.location or "",
+                "location_shaft": self.point.shaft if self.point else ""}
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """The whole reading analysed: shared speed and rates, and each channel."""
+
+    machine: Machine
+    source: str
+    fs_hz: float
+    n_samples: int
+    quality: tuple[QualityIssue, ...]
+    speeds_hz: Mapping[str, float]
+    speed_estimate: SpeedEstimate
+    speed_shaft: str
+    rates: Rates
+    forcing: tuple[ForcingFrequency, ...]
+    channels: tuple[ChannelAnalysis, ...]
+
+    @property
+    def duration_s(self) -> float:
+        return self.n_samples / self.fs_hz
+
+
+def velocity_spectrum(spec: Spectrum) -> Spectrum:
+    """mm/s RMS from an acceleration spectrum in m/s^2 peak (divide each line by 2 pi f)."""
+    f = spec.freq_hz
+    v = np.zeros_like(spec.amplitude)
+    ok = f >= MIN_VELOCITY_HZ
+    v[ok] = spec.amplitude[ok] / (2 * np.pi * f[ok]) * 1e3 / np.sqrt(2)
+    return Spectrum(f, v, "rms", spec.window, spec.resolution_hz, spec.enbw_hz, spec.averages)
+
+
+def _to_acceleration(ch: Channel, fs: float) -> np.ndarray:
+    if ch.quantity == "acceleration":
+        return ch.samples - ch.samples.mean()
+    times = {"velocity": -1, "displacement": -2}[ch.quantity]
+    return integrate(ch.samples, fs, f_low_hz=MIN_VELOCITY_HZ, times=times)
+
+
+def fast_length_at_most(n: int) -> int:
+    """The largest length at or below ``n`` whose FFT is fast (no prime factor above 5)."""
+    m = n
+    while m > 1 and next_fast_len(m, real=True) != m:
+        m -= 1
+    return m
+
+
+def _squared_envelope(white: np.ndarray, n: int, fs: float, band, span: float, spectrum_only: bool = False):
+    """The squared envelope of one band (its edges trimmed) and its spectrum up to the band's reach.
+
+    With ``spectrum_only`` the band signal is sampled just fast enough that
+    the squared envelope's aliases stay above the spectrum kept (rate at
+    least bandwidth + 1.2 x span, instead of twice the bandwidth): the
+    spectrum is the same, the time signal is coarser and costs less.
+    """
+    if spectrum_only:
+        sig = band_from_spectrum(white, n, fs, band, exact_rate_hz=(band[1] - band[0]) + 1.2 * span)
+    else:
+        sig = band_from_spectrum(white, n, fs, band, min_rate_hz=2 * span)
+    cut = int(EDGE_TRIM * len(sig.samples))
+    keep = fast_length_at_most(len(sig.samples) - 2 * cut)
+    c = sig.samples[cut:cut + keep]
+    squared = c.real ** 2 + c.imag ** 2
+    # The squared envelope of a band B wide holds nothing above B: lines
+    # there would stand over an empty floor.
+    ses = Transform.of(squared, sig.fs_hz).amplitude("peak").below(min(span * 1.2, band[1] - band[0]))
+    return ses, squared, sig
+
+
+def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
+    """The kurtogram band's envelope (Antoni 2007) and, beside it, the whole prewhitened signal
+    above the defect harmonics (cepstral prewhitening then envelope: Smith & Randall's
+    method 2). An impulsive band can be a single burst of noise; the wide view catches a
+    defect the kurtogram's pick missed."""
+    if fastest_defect_hz is None:
+        return None, (), None, None
+    n = len(accel)
+    white = whitened_spectrum(accel)
+    span = ENVELOPE_HARMONICS * fastest_defect_hz
+    kg = kurtogram_of_spectrum(white, n, fs, max_level=KURTOGRAM_LEVELS, trim_fraction=EDGE_TRIM,
+                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4))
+    band = (kg.best.f_lo_hz, kg.best.f_hi_hz)
+    ses, squared, sig = _squared_envelope(white, n, fs, band, span)
+    views = [EnvelopeView("kurtogram", ses, band, kg.best.kurtosis)]
+    wide = (min(span, fs / 8), 0.45 * fs)
+    wide_ses, _, wide_sig = _squared_envelope(white, n, fs, wide, span, spectrum_only=True)
+    power = wide_sig.samples.real ** 2 + wide_sig.samples.imag ** 2
+    spectral_kurtosis = float(np.mean(power ** 2) / np.mean(power) ** 2 - 2)   # Antoni 2006, complex envelope
+    views.append(EnvelopeView("wide", wide_ses, wide, spectral_kurtosis))
+    return kg, tuple(views), squared, sig.fs_hz
+
+
+def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float) -> dict[str, SynchronousEvents]:
+    """Once-per-revolution events of every shaft that turns often enough in the record; shafts at
+    one speed with the same meshes (a motor and the pump it drives) share one computation."""
+    out: dict[str, SynchronousEvents] = {}
+    done: dict[tuple[float, tuple[int, ...]], SynchronousEvents | None] = {}
+    for shaft, fr in rates.shafts_hz.items():
+        if duration_s * fr < TSA_MIN_REVOLUTIONS or fs / fr < TSA_MIN_SAMPLES_PER_REV:
+            continue
+        key = (fr, tuple(sorted(rates.mesh_orders(shaft))))
+        if key not in done:
+            spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
+            done[key] = synchronous_events(accel, fs, fr, spr, list(key[1]))
+        if done[key] is not None:
+            out[shaft] = done[key]
+    return out
+
+
+def _impact_candidates_hz(rates: Rates) -> list[float]:
+    """Rates an impact train could repeat at: bearing defects (the ball rate as 2 x BSF) and 1X."""
+    out = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
+    return out + list(rates.shafts_hz.values())
+
+
+def _refined_speed(velocity: dict[str, Spectrum], reading: Reading, machine: Machine, shaft: str) -> SpeedEstimate:
+    if reading.speed_rpm:
+        nominal_hz = machine.speeds_at(reading.speed_rpm)[shaft]
+        search = MEASURED_SPEED_SEARCH
+    else:
+        nominal_hz = machine.shaft_speeds_hz[shaft]
+        search = SPEED_SEARCH_FRACTION
+    lines = [k * m.line_frequency_hz for m in machine.motors for k in range(1, LINE_HARMONICS + 1)]
+    estimates = [refine_running_speed(v, nominal_hz, search, exclude_hz=lines) for v in velocity.values()]
+    found = [e for e in estimates if e.refined]
+    if not found:
+        return SpeedEstimate(nominal_hz, nominal_hz, (), False)
+    best = max(found, key=lambda e: len(e.harmonics_found))
+    return SpeedEstimate(float(np.median([e.speed_hz for e in found])), nominal_hz, best.harmonics_found, True)
+
+
+def analyse(reading: Reading, machine: Machine) -> Analysis:
+    """Analyse every usable channel of ``reading`` for ``machine``.
+
+    Raises ReadingError when no channel passed the blocking quality gates.
+    """
+    fs = reading.fs_hz
+    points = {p.id: p for p in machine.points}
+    usable = [ch for ch in reading.channels if not any(q.blocking for q in reading.issues_for(ch.name))]
+    if not usable:
+        why = "; ".join(f"{q.channel}: {q.message}" for q in reading.quality if q.blocking)
+        raise ReadingError(f"no channel can be analysed ({why})", path=reading.source)
+    accel = {ch.name: _to_acceleration(ch, fs) for ch in usable}
+    transforms = {name: Transform.of(a, fs) for name, a in accel.items()}
+    spectra = {name: t.amplitude("peak") for name, t in transforms.items()}
+    velocity = {name: velocity_spectrum(s) for name, s in spectra.items()}
+
+    first_point = next((points[c.point] for c in usable if c.point in points), None)
+    shaft = first_point.shaft if first_point else machine.driver_shaft
+    speed = _refined_speed(velocity, reading, machine, shaft)
+    speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
+    rates = rates_at(machine, speeds)
+    defects = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
+    fastest = max(defects) if defects else None
+    candidates = _impact_candidates_hz(rates)
+
+    channels = []
+    for ch in usable:
+        a = accel[ch.name]
+        kg, views, env_sig, env_fs = _envelopes(a, fs, fastest)
+        impacts = impact_train(env_sig, env_fs, min(candidates), max(candidates)) if env_sig is not None else None
+        channels.append(ChannelAnalysis(
+            channel=ch, point=points.get(ch.point), fs_hz=fs, accel=a, transform=transforms[ch.name],
+            spectrum=spectra[ch.name], velocity=velocity[ch.name],
+            levels=levels_of(a, transforms[ch.name], "acceleration", speed.speed_hz * 60),
+            kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
+            synchronous=MappingProxyType(_synchronous(a, fs, rates, reading.duration_s)),
+            issues=tuple(reading.issues_for(ch.name)),
+        ))
+    return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),
+                    MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels))
