@@ -1,9 +1,11 @@
 """Advice: findings -> severity, urgency, actions, follow-ups, oil tests and cautions.
 
-What to do about each fault, the ISO 20816-3 zone table, the urgency scale
-and the cautions are data in ``rulebooks/advice/``; this module only looks
-them up and picks the most urgent. Its inputs are the machine, the evidence
-facts and the reasoning result; it reads no reading file and no spectrum.
+What to do about each fault, the ISO 20816-3 zone table and the zone scale
+assumed when a machine file does not say, the urgency scale and its policy,
+which oil tests follow which fault on which machines, and the cautions are
+data in ``rulebooks/advice/``, read once; this module only looks them up and
+picks the most urgent. Its inputs are the machine, the evidence (its typed
+summaries) and the reasoning result; it reads no reading file and no spectrum.
 """
 
 from __future__ import annotations
@@ -13,6 +15,7 @@ from functools import lru_cache
 from pathlib import Path
 
 from .errors import RulebookError
+from .evidence import Evidence
 from .machine import Machine
 from .paths import RULEBOOKS
 from .reasoning import POSSIBLE, Hypothesis, Reasoning
@@ -117,9 +120,10 @@ def _load_advice(folder: str) -> dict:
 
 
 def zone_scale(machine: Machine, data: dict) -> ZoneScale:
-    group = machine.iso_group or 2
-    support = machine.support or "rigid"
+    """The ISO 20816-3 boundaries for the machine's group and support (the stated assumption if unsaid)."""
     table = data["iso_20816_3"]
+    group = machine.iso_group or table["assumed"]["group"]
+    support = machine.support or table["assumed"]["support"]
     row = next(r for r in table["boundaries"] if r["group"] == group and r["support"] == support)
     return ZoneScale(group, support, row["ab"], row["bc"], row["cd"],
                      machine.iso_group is None or machine.support is None, table["source"])
@@ -141,12 +145,11 @@ def _urgencies(data) -> dict[str, Urgency]:
 
 
 def _oil_tests(machine: Machine, family: str, data: dict) -> tuple[OilTest, ...]:
-    oiled = machine.lubrication in ("oil", "mixed")
-    if family == "gear" or (oiled and family in ("bearing", "shaft")):
-        tests = data["oil_tests"]
-        return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"])
-                     for t in data["oil_follow_up"].get(family, []))
-    return ()
+    policy = data["oil_follow_up"].get(family)
+    if policy is None or (policy["lubrication"] != "any" and machine.lubrication not in policy["lubrication"]):
+        return ()
+    tests = data["oil_tests"]
+    return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"]) for t in policy["tests"])
 
 
 def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies) -> Recommendation:
@@ -161,53 +164,40 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
         candidates.append(urgencies[data["zone_urgency"][worst]])
     urgency = min(candidates, key=lambda u: u.rank)
     if not h.confident and h.family != "reading":
-        # a possible cause is something to confirm, not to act on
-        urgency = max(urgency, urgencies["watch"], key=lambda u: u.rank)
+        urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
     return Recommendation(h, severity, urgency, tuple(todo["actions"]), tuple(todo["spares"]),
                           tuple(todo["confirm"]), _oil_tests(machine, h.family, data))
 
 
-def _remeasure(facts: list[dict]) -> list[str]:
-    out = []
-    for f in facts:
-        if f["kind"] != "acquisition":
-            continue
-        if not f["fmax_ok"]:
-            out.append(f"Fmax at least {f['suggested_fmax_hz']:.0f} Hz (now {f['fmax_hz']:.0f} Hz), "
-                       f"to cover forcing frequencies up to {f['highest_needed_hz']:.0f} Hz")
-        if not f["resolution_ok"]:
-            out.append(f"at least {f['suggested_lines']} lines (now {f['resolution_hz']:.3f} Hz per line), "
-                       f"to separate {f['resolution_for']}")
-        if not f["revolutions_ok"]:
-            out.append(f"a longer record: at least 10 revolutions of the slowest shaft (now {f['revolutions']:.1f})")
-    return out
-
-
-def advise(machine: Machine, facts: list[dict], reasoning: Reasoning, data: dict | None = None) -> Advice:
+def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dict | None = None) -> Advice:
     """Severity, urgency and what to do, for one diagnosis."""
     data = data or load_advice()
     urgencies = _urgencies(data)
     scale = zone_scale(machine, data)
-    zones = tuple(ZoneReading(f["channel"], f["point"], f["location"], f["velocity_rms_mm_s"],
-                              zone_of(f["velocity_rms_mm_s"], scale), f["band_truncated"])
-                  for f in facts if f["kind"] == "overall")
+    zones = tuple(ZoneReading(lv.channel, lv.point, lv.location, lv.velocity_rms_mm_s,
+                              zone_of(lv.velocity_rms_mm_s, scale), lv.band_truncated) for lv in evidence.levels)
     worst = max((z.zone for z in zones), default=None)
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
+    settings = [f.because for h in problems if h.fault.startswith("settings-") for f in h.support]
     if reasoning.withheld:
         recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in problems if h.confident)
         # no fault conclusion, but a high level on a channel that passed the quality gates still counts
-        flagged = {f["channel"] for f in facts if f["kind"] == "data_quality"}
+        flagged = {q.channel for q in evidence.quality}
         clean = max((z.zone for z in zones if z.channel not in flagged), default=None)
-        urgency = min([urgencies["remeasure"]] + ([urgencies[data["zone_urgency"][clean]]] if clean else []),
-                      key=lambda u: u.rank)
+        candidates = [urgencies[data["withheld_urgency"]]]
+        if clean:
+            candidates.append(urgencies[data["zone_urgency"][clean]])
+        urgency = min(candidates, key=lambda u: u.rank)
+        limitations = tuple(f.because for h in problems if not h.withholds and not h.fault.startswith("settings-")
+                            for f in h.support)
     else:
         recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in shown)
         confident = [r.urgency for r in recs if r.hypothesis.confident]
         base = [urgencies[data["zone_urgency"][worst]]] if worst else [urgencies["none"]]
         urgency = min(confident + base, key=lambda u: u.rank)
-    # a settings problem too small to withhold the diagnosis still limits it
-    limitations = () if reasoning.withheld else tuple(f.because for h in problems for f in h.support)
+        # a reading problem that does not withhold the diagnosis, or is too weak to, still limits it
+        limitations = tuple(f.because for h in problems for f in h.support)
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
-    return Advice(scale, zones, worst, meaning, urgency, recs, tuple(_remeasure(facts)), limitations,
-                  tuple(data["cautions"]), data["disclaimer"].strip())
+    return Advice(scale, zones, worst, meaning, urgency, recs, tuple(settings) if reasoning.withheld else (),
+                  limitations, tuple(data["cautions"]), data["disclaimer"].strip())

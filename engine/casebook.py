@@ -10,7 +10,6 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .errors import CaseError
-from .evidence import extract_evidence
 from .machine import load_machine
 from .readings import combine_readings, load_reading
 from .reasoning import CONFIDENT, Reasoner, Reasoning
@@ -80,11 +79,6 @@ def reading_of(case: Case, machine):
     return combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
 
 
-def evidence_of(case: Case) -> list[dict]:
-    machine = load_machine(case.machine)
-    return extract_evidence(reading_of(case, machine), machine)
-
-
 def describe(result: Reasoning) -> str:
     if result.withheld:
         return "withheld: " + ", ".join(f"{h.fault} {h.certainty:.2f}" for h in result.reading_problems if h.confident)
@@ -107,5 +101,8 @@ def judge(expect: dict, result: Reasoning) -> bool:
 
 
 def run_case(case: Case, reasoner: Reasoner) -> CaseResult:
-    result = reasoner.reason(evidence_of(case))
+    from .pipeline import diagnose
+
+    machine = load_machine(case.machine)
+    result = diagnose(reading_of(case, machine), machine, reasoner).reasoning
     return CaseResult(case, judge(case.expect, result), describe(result))

@@ -1,7 +1,8 @@
-"""The whole job for one set of readings of one machine: reading -> evidence -> reasoning -> advice.
+"""The whole job for one reading of one machine: analysis -> evidence -> reasoning -> advice (-> plots).
 
 Each stage is a plain function of the previous stage's output; this module
-only calls them in order (the CLI, the demo and the benches share it).
+only calls them in order. The command line, the casebook, the demo and every
+bench diagnose through ``diagnose``.
 """
 
 from __future__ import annotations
@@ -10,36 +11,62 @@ from dataclasses import dataclass
 
 from .advice import Advice, advise
 from .analysis import analyse
-from .evidence import run_extractors
+from .analysis.plotdata import PlotData, plot_data
+from .evidence import Evidence, run_extractors, summarise
 from .machine import Machine
 from .readings import Reading
 from .reasoning import Reasoner, Reasoning
 
 
 @dataclass(frozen=True)
+class ReadingInfo:
+    """What the report says about the reading itself (no samples)."""
+
+    source: str
+    timestamp: str | None
+    fs_hz: float
+    duration_s: float
+    speed_rpm: float | None
+    channels: tuple[tuple[str, str | None, str | None], ...]   # name, point, direction
+
+
+@dataclass(frozen=True)
 class Diagnosis:
     machine: Machine
-    reading: Reading
-    facts: list[dict]
+    reading: ReadingInfo
+    evidence: Evidence
     reasoning: Reasoning
     advice: Advice
-    figures: dict[str, str]
+    plots: PlotData | None
+
+    @property
+    def facts(self) -> list[dict]:
+        return list(self.evidence.facts)
+
+
+def reading_info(reading: Reading) -> ReadingInfo:
+    return ReadingInfo(reading.source, reading.timestamp, reading.fs_hz, reading.duration_s, reading.speed_rpm,
+                       tuple((c.name, c.point, c.direction) for c in reading.channels))
 
 
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
              plots: bool = False) -> Diagnosis:
-    """Diagnose ``reading`` of ``machine``; ``plots`` also draws the report's SVG figures."""
-    rc = analyse(reading, machine)
-    facts = run_extractors(rc)
-    reasoning = reasoner.reason(facts)
-    advice = advise(machine, facts, reasoning, advice_data)
-    figures = {}
+    """Diagnose ``reading`` of ``machine``; ``plots`` also cuts the data the report's figures draw."""
+    analysis = analyse(reading, machine)
+    evidence = summarise(run_extractors(analysis))
+    reasoning = reasoner.reason(list(evidence.facts))
+    advice = advise(machine, evidence, reasoning, advice_data)
+    figures = None
     if plots:
-        from .report.plots import figures_for
-        figures = figures_for(rc, reasoning)
-    return Diagnosis(machine, reading, facts, reasoning, advice, figures)
+        from .report.plots import focus
+
+        channel, shaft, bearing = focus(reasoning, evidence, machine)
+        figures = plot_data(analysis, channel, shaft, bearing)
+    return Diagnosis(machine, reading_info(reading), evidence, reasoning, advice, figures)
 
 
 def document_of(d: Diagnosis) -> dict:
+    """The report of a diagnosis as one plain dict (engine/schemas/report.schema.json)."""
     from .report import report_document
-    return report_document(d.machine, d.reading, d.facts, d.reasoning, d.advice, d.figures)
+
+    return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots)

@@ -18,6 +18,7 @@ from ..analysis import Analysis, analyse
 from ..machine import Machine
 from ..readings import Reading
 from . import acquisition, envelope, impacts, levels, sidebands, tones
+from .summary import Evidence, PointLevel, QualityNote, summarise
 from .vocabulary import FACTS, fields_of
 
 
@@ -73,4 +74,5 @@ def extract_evidence(reading: Reading, machine: Machine) -> list[dict]:
     return run_extractors(analyse(reading, machine))
 
 
-__all__ = ["EXTRACTORS", "FACTS", "Extractor", "extract_evidence", "fields_of", "run_extractors"]
+__all__ = ["EXTRACTORS", "FACTS", "Evidence", "Extractor", "PointLevel", "QualityNote", "extract_evidence",
+           "fields_of", "run_extractors", "summarise"]

@@ -1,94 +1,72 @@
-"""Are the acquisition settings adequate for this machine, and is the data sound?
+"""What the reading's settings can show, measured against this machine; data quality; machine class.
 
-Conventions (common practice in analyzer documentation, check-values.md):
-usable Fmax = sample rate / 2.56; lines = samples / 2.56; a Hann spectrum
-separates two lines about 3 lines apart; ringing impacts need about 10
-samples per cycle to keep their peak (a tone sampled k times per cycle reads
-low by up to cos(pi / k)).
+Facts carry measurements only: the reading's Fmax, lines, resolution and
+length beside the machine's rates that they must reach (the highest gear
+mesh, pass and race rates, the closest pair of lines to separate, the
+tightest sideband spacing, the slowest shaft). Whether the settings are
+adequate is for the rulebooks to judge (rulebooks/reading.yaml), with limits
+a site can change. Conventions (common practice in analyzer documentation,
+../shared/notes/check-values.md): usable Fmax = sample rate / 2.56; lines =
+samples / 2.56.
 """
 
 from __future__ import annotations
 
-import numpy as np
-
 from ..analysis import Analysis
 
 FMAX_FACTOR = 2.56
-LINES_TO_SEPARATE = 3.0
-MIN_REVOLUTIONS = 10
-MIN_SAMPLES_PER_CYCLE = 10.0
-STANDARD_LINES = (400, 800, 1600, 3200, 6400, 12800, 25600, 51200)
-
-
-def _needed_frequencies(rc: Analysis) -> dict[str, float]:
-    """The highest line each analysis needs: 3 x GMF, 2 x vane pass, 3 x BPFI, 10 x 1X, ..."""
-    needed = {}
-    for f in rc.forcing:
-        mult = {"GMF": 3, "vane pass": 2, "blade pass": 2, "BPFI": 3, "BPFO": 3, "belt pass": 4,
-                "rotor bar pass": 1, "2xLF": 2, "1X": 10}.get(f.name)
-        if mult:
-            needed[f"{mult}x {f.label}" if mult > 1 else f.label] = mult * f.frequency_hz
-    return needed
-
-
 SEPARATED = {"1X", "2xLF", "GMF", "vane pass", "blade pass", "belt pass"}
 
 
-def _closest_pair(rc: Analysis, fmax: float):
-    """The two closest discrete lines a diagnosis must tell apart (2X included: 2X against 2xLF).
+def _closest_pair(rc: Analysis, fmax_hz: float) -> tuple[float, str]:
+    """The two closest discrete lines below Fmax a diagnosis must tell apart (2X against 2xLF included).
 
     Bearing defect lines are left out: they slip by 1-2 % and are told apart
     by their harmonic pattern, not by one line.
     """
     lines = {(round(f.frequency_hz, 6), f.label) for f in rc.forcing if f.name in SEPARATED}
     lines |= {(round(2 * hz, 6), f"2X {shaft}") for shaft, hz in rc.speeds_hz.items()}
-    lines = sorted((f, label) for f, label in lines if 2.0 <= f <= fmax)
-    best = None
+    lines = sorted((f, label) for f, label in lines if 2.0 <= f <= fmax_hz)
+    best = (0.0, "")
     for (f1, l1), (f2, l2) in zip(lines, lines[1:]):
         gap = f2 - f1
-        if gap > 1e-3 * f2 and (best is None or gap < best[0]):
+        if gap > 1e-3 * f2 and (best[0] == 0.0 or gap < best[0]):
             best = (gap, f"{l1} / {l2}")
     return best
 
 
-def _sideband_spacings(rc: Analysis) -> list[tuple[float, str]]:
-    spacings = []
-    for g in rc.rates.meshes:
-        spacings += [(rc.speeds_hz[s], f"1X {s} sidebands of {g.mesh}") for s in (g.driving_shaft, g.driven_shaft)]
-    for m in rc.rates.motors:
-        if m.pole_pass_hz is not None:
-            spacings.append((m.pole_pass_hz, f"pole pass sidebands of {m.motor}"))
-    return spacings
+def _tightest_sidebands(rc: Analysis) -> tuple[float, str]:
+    spacings = [(rc.speeds_hz[s], f"1X {s} sidebands of {g.mesh}") for g in rc.rates.meshes
+                for s in (g.driving_shaft, g.driven_shaft)]
+    spacings += [(m.pole_pass_hz, f"pole pass sidebands of {m.motor}") for m in rc.rates.motors
+                 if m.pole_pass_hz is not None]
+    return min(spacings) if spacings else (0.0, "")
 
 
 def acquisition(rc: Analysis) -> list[dict]:
-    """One fact about the reading's settings: Fmax, resolution, revolutions, samples per cycle."""
+    """One fact about the reading's settings beside the machine's rates they must reach."""
     fs = rc.fs_hz
     fmax = fs / FMAX_FACTOR
-    resolution = fs / rc.n_samples
-    needed = _needed_frequencies(rc)
-    highest = max(needed.values()) if needed else 0.0
-    pair = _closest_pair(rc, fmax)
-    separations = ([pair] if pair else []) + _sideband_spacings(rc)
-    tightest = min(separations) if separations else (resolution * LINES_TO_SEPARATE, "")
-    needed_resolution = tightest[0] / LINES_TO_SEPARATE
-    slowest = min(rc.speeds_hz.values())
+    slowest_shaft = min(rc.speeds_hz, key=rc.speeds_hz.get)
+    gap, pair = _closest_pair(rc, fmax)
+    spacing, spacing_for = _tightest_sidebands(rc)
     centres = [c.kurtogram.best.centre_hz for c in rc.channels if c.kurtogram is not None]
-    spc = fs / max(centres) if centres else fs / max(highest, 1.0)
-    suggested_fmax = max(fmax, highest * 1.1)
-    lines_needed = suggested_fmax / needed_resolution
-    suggested_lines = next((n for n in STANDARD_LINES if n >= lines_needed), STANDARD_LINES[-1])
+    centre = max(centres) if centres else 0.0
+    rates = rc.rates
     return [{
-        "kind": "acquisition", "fmax_hz": fmax, "highest_needed_hz": highest,
-        "fmax_ok": bool(fmax >= highest), "resolution_hz": resolution,
-        "needed_resolution_hz": needed_resolution,
-        "resolution_for": tightest[1],
-        "resolution_ok": bool(resolution <= needed_resolution * 1.0001),
-        "revolutions": rc.duration_s * slowest,
-        "revolutions_ok": bool(rc.duration_s * slowest >= MIN_REVOLUTIONS),
-        "samples_per_cycle": spc, "samples_per_cycle_ok": bool(spc >= MIN_SAMPLES_PER_CYCLE),
-        "suggested_fmax_hz": float(np.ceil(suggested_fmax / 100) * 100),
-        "suggested_lines": int(suggested_lines),
+        "kind": "acquisition", "sample_rate_hz": fs, "fmax_hz": fmax, "lines": int(rc.n_samples / FMAX_FACTOR),
+        "resolution_hz": fs / rc.n_samples, "duration_s": rc.duration_s,
+        "slowest_shaft": slowest_shaft, "revolutions": rc.duration_s * rc.speeds_hz[slowest_shaft],
+        "fastest_shaft_hz": max(rc.speeds_hz.values()),
+        "highest_gmf_hz": max((g.gmf_hz for g in rates.meshes), default=0.0),
+        "highest_pass_hz": max((r.pass_hz for r in rates.rotors), default=0.0),
+        "highest_belt_pass_hz": max((b.belt_pass_hz for b in rates.belts), default=0.0),
+        "highest_race_hz": max((max(b.bpfi_hz, b.bpfo_hz) for b in rates.bearings), default=0.0),
+        "highest_rotor_bar_hz": max((m.rotor_bar_hz or 0.0 for m in rates.motors), default=0.0),
+        "twice_line_hz": max((m.twice_line_hz for m in rates.motors), default=0.0),
+        "closest_gap_hz": gap, "closest_pair": pair,
+        "sideband_spacing_hz": spacing, "sideband_for": spacing_for,
+        "envelope_centre_hz": centre, "samples_per_cycle": fs / centre if centre > 0 else 0.0,
         "speed_refined": rc.speed_estimate.refined,
         "speed_rpm": rc.speed_estimate.speed_hz * 60, "speed_shaft": rc.speed_shaft,
     }]
@@ -98,7 +76,6 @@ def data_quality(rc: Analysis) -> list[dict]:
     """One fact per quality issue the reader's gates found."""
     return [{"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
              "blocking": q.blocking} for q in rc.quality]
-
 
 
 def machine_class(rc: Analysis) -> list[dict]:

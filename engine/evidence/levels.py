@@ -16,6 +16,7 @@ def overall(rc: Analysis) -> list[dict]:
         out.append(c.base() | {
             "kind": "overall",
             "velocity_rms_mm_s": lv.velocity_rms_mm_s,
+            "velocity_band_lo_hz": lv.velocity_band_hz[0], "velocity_band_hi_hz": lv.velocity_band_hz[1],
             "accel_rms_g": lv.acceleration_rms_g, "accel_peak_g": lv.acceleration_peak_g,
             "crest_factor": lv.crest_factor, "kurtosis": lv.kurtosis, "skewness": lv.skewness,
             "band_truncated": lv.band_truncated,

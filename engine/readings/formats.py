@@ -14,7 +14,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-from scipy.io import wavfile
 
 from ..errors import ReadingError
 
@@ -36,6 +35,8 @@ class RawReading:
 
 def read_wav(path: str) -> RawReading:
     """PCM 8/16/24/32-bit or float WAV; integers are normalised to +-1 full scale."""
+    from scipy.io import wavfile
+
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", wavfile.WavFileWarning)

@@ -271,11 +271,12 @@ class Reasoner:
             hypotheses.append(Hypothesis(
                 fault_id, fault.name, fault.family, component, round(total, 6), max(stages) if stages else None,
                 tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
-                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra))
+                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, fault.withholds_diagnosis))
         hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))
-        problems = tuple(h for h in hypotheses if self.rulebook.faults[h.fault].withholds_diagnosis)
-        withheld = any(h.confident for h in problems)
-        faults = tuple(h for h in hypotheses if not self.rulebook.faults[h.fault].withholds_diagnosis)
+        faults_of = self.rulebook.faults
+        problems = tuple(h for h in hypotheses if faults_of[h.fault].family == "reading")
+        withheld = any(h.confident and faults_of[h.fault].withholds_diagnosis for h in problems)
+        faults = tuple(h for h in hypotheses if faults_of[h.fault].family != "reading")
         return Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
                          self.rulebook.files)
 

@@ -33,6 +33,7 @@ class Hypothesis:
     support: tuple[Firing, ...]       # strongest firing of each rule for it
     against: tuple[Firing, ...]       # strongest firing of each rule against it
     other_matches: int = 0            # weaker firings of the same rules, not counted again
+    withholds: bool = False           # a reading problem that, when confident, withholds the diagnosis
 
     @property
     def strength(self) -> str:
@@ -49,7 +50,7 @@ class Reasoning:
 
     hypotheses: tuple[Hypothesis, ...]
     withheld: bool                       # a reading problem means no fault conclusion stands
-    reading_problems: tuple[Hypothesis, ...]
+    reading_problems: tuple[Hypothesis, ...]   # family "reading": ones that withhold, ones that limit
     chain: tuple[Firing, ...]            # rules that derived intermediate facts
     facts_considered: int
     rules_loaded: int

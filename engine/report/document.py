@@ -10,9 +10,10 @@ from __future__ import annotations
 
 from .. import __version__
 from ..advice import Advice, Recommendation
+from ..analysis.plotdata import PlotData
+from ..evidence import Evidence
 from ..machine import Machine
-from ..readings import Reading
-from ..reasoning import Firing, Hypothesis, Reasoning
+from ..reasoning import CONFIDENT, POSSIBLE, Firing, Hypothesis, Reasoning
 
 
 def _number(v):
@@ -64,11 +65,16 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
             f"{100 * top.certainty:.0f} %{more}.")
 
 
-def report_document(machine: Machine, reading: Reading, facts: list[dict], reasoning: Reasoning,
-                    advice: Advice, figures: dict[str, str] | None = None) -> dict:
+def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
+                    advice: Advice, plots: PlotData | None = None) -> dict:
+    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo."""
     recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
-    acquisition = next((f for f in facts if f["kind"] == "acquisition"), None)
+    figures = []
+    if plots is not None:
+        from .plots import figures as draw
+
+        figures = draw(plots, evidence)
     problems = [{"fault": h.fault, "fault_name": h.fault_name, "component": h.component,
                  "certainty": round(h.certainty, 3), "support": [_firing(f) for f in h.support]}
                 for h in reasoning.reading_problems]
@@ -80,8 +86,9 @@ def report_document(machine: Machine, reading: Reading, facts: list[dict], reaso
                     "lubrication": machine.lubrication},
         "reading": {"source": reading.source, "timestamp": reading.timestamp, "fs_hz": reading.fs_hz,
                     "duration_s": round(reading.duration_s, 4), "speed_rpm": reading.speed_rpm,
-                    "channels": [{"name": c.name, "point": c.point, "direction": c.direction}
-                                 for c in reading.channels]},
+                    "channels": [{"name": name, "point": point, "direction": direction}
+                                 for name, point, direction in reading.channels]},
+        "thresholds": {"conclusion": CONFIDENT, "shown": POSSIBLE},
         "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine),
                     "urgency": _urgency(advice.urgency)},
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
@@ -100,12 +107,12 @@ def report_document(machine: Machine, reading: Reading, facts: list[dict], reaso
                               "velocity_rms_mm_s": round(z.velocity_rms_mm_s, 3), "zone": z.zone,
                               "band_truncated": z.band_truncated} for z in advice.zones]},
         "chain": [_firing(f) for f in reasoning.chain],
-        "acquisition": {k: _number(v) for k, v in acquisition.items() if k not in ("kind", "id")} if acquisition else {},
-        "data_quality": [{k: _number(v) for k, v in f.items() if k not in ("kind", "id")}
-                         for f in facts if f["kind"] == "data_quality"],
+        "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
+        "data_quality": [{"channel": q.channel, "issue": q.issue, "value": _number(q.value), "blocking": q.blocking}
+                         for q in evidence.quality],
         "rulebooks": [str(p) for p in reasoning.rulebook_files],
-        "counts": {"evidence_facts": len(facts), "facts_considered": reasoning.facts_considered,
+        "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
                    "rules": reasoning.rules_loaded},
-        "figures": [{"title": t, "svg": svg} for t, svg in (figures or {}).items()],
+        "figures": [{"title": t, "svg": svg} for t, svg in figures],
     }
     return doc

@@ -101,18 +101,23 @@ def test_outer_race_envelope_tone_at_any_speed(rpm, seed, fs):
     assert tone and tone[0]["freq_hz"] == pytest.approx(bpfo, rel=0.02) and tone[0]["harmonics_found"] >= 3
 
 
-def test_low_sample_rate_is_reported_as_inadequate():
-    # Source: common practice: Fmax = fs / 2.56 must cover 3 x GMF for gear analysis.
-    facts = _facts("ct1", fs=2048.0)
+def test_settings_are_measured_beside_the_rates_they_must_reach():
+    # Source: common practice (analyzer documentation): Fmax = fs / 2.56, lines = samples / 2.56,
+    # resolution = fs / samples. GMF = 23 teeth x pinion speed (CT-1 machine file, nominal 985 rpm).
+    facts = _facts("ct1", fs=2048.0, duration=2.0)
     acq = next(f for f in facts if f["kind"] == "acquisition")
-    assert acq["fmax_hz"] == pytest.approx(800.0) and not acq["fmax_ok"]
-    assert acq["suggested_fmax_hz"] >= 3 * 23 * 985 / 60
+    assert acq["fmax_hz"] == pytest.approx(800.0)
+    assert acq["lines"] == int(2048 * 2.0 / 2.56) and acq["resolution_hz"] == pytest.approx(0.5)
+    assert acq["highest_gmf_hz"] == pytest.approx(23 * acq["speed_rpm"] / 60, rel=1e-9)
+    assert acq["fmax_hz"] < 3 * acq["highest_gmf_hz"]             # the gear mesh rule's condition holds
+    assert acq["slowest_shaft"] == "fan" and acq["revolutions"] == pytest.approx(2.0 * 985 / 60 * 23 / 67, rel=0.05)
 
 
-def test_short_record_is_reported_as_too_coarse():
+def test_short_record_has_coarse_lines():
     facts = _facts("rw2", duration=0.5)
     acq = next(f for f in facts if f["kind"] == "acquisition")
-    assert not acq["resolution_ok"] and acq["resolution_hz"] == pytest.approx(2.0)
+    assert acq["resolution_hz"] == pytest.approx(2.0)
+    assert acq["resolution_hz"] > acq["sideband_spacing_hz"] / 3   # pole pass sidebands cannot be resolved
 
 
 def test_quality_issues_become_facts(tmp_path):

@@ -64,8 +64,9 @@ def test_clipped_reading_withholds_the_diagnosis(reasoner):
     sim.channels["P1H"] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())   # a recorder at full scale
     result = reasoner.reason(extract_evidence(as_reading(sim), m))
     assert result.withheld
-    assert result.reading_problems[0].fault == "signal-corrupted"
-    assert "P1H" in result.reading_problems[0].component
+    corrupted = [h for h in result.reading_problems if h.withholds and h.confident]
+    assert [h.fault for h in corrupted] == ["signal-corrupted"]
+    assert "P1H" in corrupted[0].component
 
 
 def test_engine_copies_of_real_evidence_have_no_exponent_notation(reasoner):
@@ -129,3 +130,20 @@ def test_bad_site_rulebook_is_one_line_with_exit_5(tmp_path, capsys):
     assert main(["rulebook", "check", "--site", str(tmp_path)]) == 5
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "site.yaml:6" in err and "rule x.y" in err and "'nam'" in err
+
+
+def test_settings_rules_limit_or_withhold_by_what_the_reading_cannot_show(reasoner):
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+    from engine.synth import as_reading, simulate
+
+    ct1 = load_machine(ROOT / "cases/machines/ct1-cooling-tower-fan.yaml")
+    # Fmax 800 Hz is below 3 x GMF (377 Hz): gear faults are out of reach, the rest is still judged
+    low = diagnose(as_reading(simulate(ct1, "healthy", None, 1, None, 2048.0, 2.0, 0, ["GINH"])), ct1, reasoner)
+    limited = {f.rule_id for h in low.reasoning.reading_problems for f in h.support}
+    assert "reading.settings.fmax-gear-mesh" in limited and not low.reasoning.withheld
+    assert any("gear mesh" in text for text in low.advice.limitations)
+    # a record of 0.1 s holds less than one turn of the fan: withheld
+    short = diagnose(as_reading(simulate(ct1, "healthy", None, 1, None, 12800.0, 0.1, 0, ["GINH"])), ct1, reasoner)
+    assert short.reasoning.withheld
+    assert any(f.rule_id == "reading.settings.hardly-a-turn" for h in short.reasoning.reading_problems for f in h.support)

@@ -1,0 +1,98 @@
+"""Plain plot data for the report: arrays and marks, cut from the analysis of one channel.
+
+The report draws what this module hands it and nothing else: the first
+revolutions of the waveform, the waveform cut into turns of one shaft, the
+velocity spectrum with the forcing frequencies that fall in it, and the
+squared envelope spectrum with one bearing's defect rates. Arrays are plain
+numpy arrays in the unit named beside them.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..units import STANDARD_GRAVITY_M_S2
+from .reading import Analysis, ChannelAnalysis
+from .synchronous import default_samples_per_rev, revolution_rows
+
+REVOLUTIONS_SHOWN = 8
+WAVEFORM_REVOLUTIONS = 6
+SPECTRUM_ORDERS = 12             # the spectrum shows at least 12 x 1X of the shaft of interest
+SKIPPED_MARKS = {"slip", "pole pass", "HTF"}   # spacings, not lines of the spectrum
+
+
+@dataclass(frozen=True)
+class Mark:
+    freq_hz: float
+    label: str
+    family: str          # shaft, bearing, gear, belt, rotor, electrical
+    component: str
+    name: str            # 1X, BPFO, 2xBSF, GMF, ...
+
+
+@dataclass(frozen=True)
+class PlotData:
+    channel: str
+    shaft: str
+    shaft_hz: float
+    bearing: str | None
+    waveform_t_ms: np.ndarray
+    waveform_g: np.ndarray
+    revolutions_deg: np.ndarray | None       # angle axis of each turn
+    revolutions_g: np.ndarray | None         # (turns, samples), g
+    spectrum_hz: np.ndarray
+    spectrum_mm_s: np.ndarray                # velocity, mm/s RMS
+    spectrum_resolution_hz: float
+    spectrum_marks: tuple[Mark, ...]
+    envelope_hz: np.ndarray | None
+    envelope: np.ndarray | None              # squared envelope, (m/s^2)^2 peak
+    envelope_band_hz: tuple[float, float] | None
+    envelope_marks: tuple[Mark, ...]
+
+
+def _channel(analysis: Analysis, name: str) -> ChannelAnalysis:
+    return next(c for c in analysis.channels if c.name == name)
+
+
+def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None = None) -> PlotData:
+    """What the report plots for ``channel``, looking at ``shaft`` and, if given, ``bearing``."""
+    c = _channel(analysis, channel)
+    fr = analysis.speeds_hz[shaft]
+    n = min(len(c.accel), int(min(analysis.duration_s, max(0.1, WAVEFORM_REVOLUTIONS / fr)) * c.fs_hz))
+    waveform_t = np.arange(n) / c.fs_hz * 1e3
+    waveform = c.accel[:n] / STANDARD_GRAVITY_M_S2
+
+    revs_deg = revs_g = None
+    if analysis.duration_s * fr >= 1:
+        spr = default_samples_per_rev(c.fs_hz, fr)
+        shown = min(REVOLUTIONS_SHOWN, int(analysis.duration_s * fr))
+        rows = revolution_rows(c.accel[:int(min(len(c.accel), (shown + 1) * c.fs_hz / fr + 4))], c.fs_hz, fr, spr)
+        if len(rows):
+            revs_g = rows[:REVOLUTIONS_SHOWN] / STANDARD_GRAVITY_M_S2
+            revs_deg = np.arange(spr) * 360.0 / spr
+
+    highest = max((f.frequency_hz for f in analysis.forcing if f.family != "bearing"), default=10 * fr)
+    fmax = min(c.velocity.fmax_hz, max(SPECTRUM_ORDERS * fr, 1.3 * highest))
+    spec = c.velocity.below(fmax)
+    marks = tuple(Mark(f.frequency_hz, f"{f.name} {f.component}", f.family, f.component, f.name)
+                  for f in sorted(analysis.forcing, key=lambda f: (f.family == "bearing", f.frequency_hz))
+                  if f.frequency_hz <= fmax and f.name not in SKIPPED_MARKS)
+
+    env_hz = env = band = None
+    env_marks: tuple[Mark, ...] = ()
+    if c.envelope is not None:
+        ses = c.envelope
+        keep = ses.freq_hz >= 1.0
+        env_hz, env, band = ses.freq_hz[keep], ses.amplitude[keep], c.envelopes[0].band_hz
+        chosen = [bearing] if bearing else [b.bearing for b in analysis.rates.bearings if b.shaft == shaft]
+        out = []
+        for b in chosen:
+            rates = analysis.rates.bearing(b)
+            for defect in ("BPFO", "BPFI", "BSF", "FTF"):
+                name = "2xBSF" if defect == "BSF" else defect
+                out.append(Mark(rates.impact_rate_hz(defect), f"{name} {b}", "bearing", b, name))
+        env_marks = tuple(sorted(out, key=lambda m: m.freq_hz))
+    return PlotData(channel, shaft, fr, bearing, waveform_t, waveform, revs_deg, revs_g,
+                    spec.freq_hz, spec.amplitude, spec.resolution_hz, marks, env_hz, env, band, env_marks)
