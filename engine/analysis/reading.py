@@ -258,12 +258,15 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     channels = []
     for ch in usable:
         a = accel[ch.name]
+        point = points.get(ch.point)
+        # ISO 20816-3 picks its band by the speed of the shaft the sensor sits on
+        own_rpm = speeds[point.shaft] * 60 if point is not None else speed.speed_hz * 60
         kg, views, env_sig, env_fs = _envelopes(a, fs, fastest)
         impacts = impact_train(env_sig, env_fs, min(candidates), max(candidates)) if env_sig is not None else None
         channels.append(ChannelAnalysis(
-            channel=ch, point=points.get(ch.point), fs_hz=fs, accel=a, transform=transforms[ch.name],
+            channel=ch, point=point, fs_hz=fs, accel=a, transform=transforms[ch.name],
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
-            levels=levels_of(a, transforms[ch.name], "acceleration", speed.speed_hz * 60),
+            levels=levels_of(a, transforms[ch.name], "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
             synchronous=MappingProxyType(_synchronous(a, fs, rates, reading.duration_s)),
             issues=tuple(reading.issues_for(ch.name)),

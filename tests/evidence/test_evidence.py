@@ -159,3 +159,16 @@ def test_cli_evidence_json(tmp_path, capsys):
     import json
     facts = json.loads(capsys.readouterr().out)
     assert any(f["kind"] == "tone" and f["name"] == "1X" for f in facts)
+
+
+def test_iso_band_follows_the_shaft_under_the_sensor():
+    # ISO 20816-3:2022 measures 2-1000 Hz on machines at or below 600 r/min, else 10-1000 Hz:
+    # the CT-1 fan shaft turns at 338 r/min, so its point's 1X (5.6 Hz) counts in its overall level
+    m = MACHINES["ct1"]
+    sim = simulate(m, "unbalance", "fan", 3, None, 12800.0, 4.0, 0, ["GOUTH", "GINH"])
+    facts = extract_evidence(as_reading(sim), m)
+    overall = {f["channel"]: f for f in facts if f["kind"] == "overall"}
+    one_x = next(f for f in facts if f["kind"] == "tone" and f["name"] == "1X" and f["component"] == "fan"
+                 and f["channel"] == "GOUTH")
+    assert overall["GOUTH"]["velocity_band_lo_hz"] == 2.0 and overall["GINH"]["velocity_band_lo_hz"] == 10.0
+    assert overall["GOUTH"]["velocity_rms_mm_s"] >= one_x["amplitude_mm_s"]
