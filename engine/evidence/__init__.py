@@ -27,10 +27,11 @@ class Extractor:
     name: str
     run: Callable[[Analysis], list[dict]]
     kinds: tuple[str, ...]
+    always: str = ""      # why it reports whatever the signal holds (levels, settings); "" if it reports findings
 
 
 EXTRACTORS = (
-    Extractor("overall", levels.overall, ("overall",)),
+    Extractor("overall", levels.overall, ("overall",), always="every channel has overall levels"),
     Extractor("tones", tones.tones, ("tone",)),
     Extractor("harmonic_series", tones.harmonic_series, ("harmonic_series",)),
     Extractor("subharmonics", tones.subharmonics, ("subharmonics",)),
@@ -39,10 +40,11 @@ EXTRACTORS = (
     Extractor("envelope", envelope.envelope_evidence, ("envelope_tone", "load_zone_modulation")),
     Extractor("impact_train", impacts.impact_train, ("impact_train",)),
     Extractor("once_per_rev_event", impacts.once_per_rev_event, ("once_per_rev_event",)),
-    Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",)),
-    Extractor("acquisition", acquisition.acquisition, ("acquisition",)),
+    Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",),
+              always="every location with several directions has its ratios"),
+    Extractor("acquisition", acquisition.acquisition, ("acquisition",), always="every reading has its settings"),
     Extractor("data_quality", acquisition.data_quality, ("data_quality",)),
-    Extractor("machine", acquisition.machine_class, ("machine",)),
+    Extractor("machine", acquisition.machine_class, ("machine",), always="every diagnosis has its machine"),
 )
 
 
