@@ -62,7 +62,7 @@ def test_extraction_is_deterministic():
 
 def test_facts_are_measurements_with_units_in_their_names():
     for kind, fields in FACTS.items():
-        for name, (typ, meaning) in fields.items():
+        for name, (typ, meaning, _unit) in fields.items():
             assert meaning, (kind, name)
             if name.endswith(("_hz", "_mm_s", "_g", "_db", "_pct", "_ms", "_deg")):
                 assert typ == "number", (kind, name)
