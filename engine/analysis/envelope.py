@@ -86,20 +86,30 @@ def band_from_spectrum(spec: np.ndarray, n: int, fs: float, band_hz: tuple[float
     else:
         m = min(n, sfft.next_fast_len(max(width + 2, int(np.ceil(exact_rate_hz * n / fs)), 16)))
     base = np.zeros(m, dtype=complex)
-    base[:width] = 2.0 * spec[first:stop]
-    return BandSignal(sfft.ifft(base) * (m / n), fs * m / n, (float(band_hz[0]), float(band_hz[1])))
+    np.multiply(spec[first:stop], 2.0 * m / n, out=base[:width])
+    return BandSignal(sfft.ifft(base, overwrite_x=True), fs * m / n, (float(band_hz[0]), float(band_hz[1])))
+
+
+def tukey_edges(n: int, alpha: float) -> tuple[np.ndarray, np.ndarray]:
+    """The rising and falling edges of a symmetric Tukey window of length ``n`` (it is 1 between them)."""
+    width = int(np.floor(alpha * (n - 1) / 2.0))
+    head = np.arange(width + 1, dtype=float)
+    tail = np.arange(n - width - 1, n, dtype=float)
+    rise = 0.5 * (1 + np.cos(np.pi * (-1 + 2.0 * head / alpha / (n - 1))))
+    fall = 0.5 * (1 + np.cos(np.pi * (-2.0 / alpha + 1 + 2.0 * tail / alpha / (n - 1))))
+    return rise, fall
 
 
 def tukey(n: int, alpha: float) -> np.ndarray:
     """Symmetric Tukey (tapered cosine) window, as ``scipy.signal.windows.tukey(n, alpha)``."""
     if n <= 1 or alpha <= 0:
         return np.ones(n)
-    k = np.arange(n, dtype=float)
-    width = int(np.floor(alpha * (n - 1) / 2.0))
+    if alpha >= 1:
+        return 0.5 - 0.5 * np.cos(2 * np.pi * np.arange(n) / (n - 1))
+    rise, fall = tukey_edges(n, alpha)
     w = np.ones(n)
-    w[:width + 1] = 0.5 * (1 + np.cos(np.pi * (-1 + 2.0 * k[:width + 1] / alpha / (n - 1))))
-    tail = k[n - width - 1:]
-    w[n - width - 1:] = 0.5 * (1 + np.cos(np.pi * (-2.0 / alpha + 1 + 2.0 * tail / alpha / (n - 1))))
+    w[:len(rise)] = rise
+    w[n - len(fall):] = fall
     return w
 
 
@@ -111,11 +121,18 @@ def whitened_spectrum(x) -> np.ndarray:
     from it without going back to the time domain and forward again.
     """
     x = np.asarray(x, dtype=float)
-    spec = sfft.rfft((x - x.mean()) * tukey(len(x), PREWHITEN_TAPER))
-    mag = np.abs(spec)
+    tapered = x - x.mean()
+    n = len(x)
+    if n > 1:
+        rise, fall = tukey_edges(n, PREWHITEN_TAPER)          # the window is 1 between its edges
+        tapered[:len(rise)] *= rise
+        tapered[n - len(fall):] *= fall
+    white = sfft.rfft(tapered)
+    del tapered
+    mag = np.abs(white)
     top = mag.max()
-    floor = 1e-12 * (top if top > 0 else 1.0)
-    white = spec / np.maximum(mag, floor)
+    np.maximum(mag, 1e-12 * (top if top > 0 else 1.0), out=mag)
+    white /= mag
     white[0] = 0.0
     if len(x) % 2 == 0:
         white[-1] = white[-1].real

@@ -70,11 +70,18 @@ class OverallLevels:
     skewness: float
 
 
-def levels_of(x, transform: Transform, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
-    """Overall levels of a record ``x`` (SI units of ``quantity``) whose FFT is ``transform``."""
+def iso_velocities(transform: Transform, quantity: str) -> dict[tuple[float, float], float]:
+    """Velocity RMS (m/s) in each ISO 20816-3 band, so the band can be picked once the speed is known."""
+    return {band: transform.band_rms(band[0], min(band[1], transform.fs_hz / 2),
+                                     integrations=INTEGRATIONS_TO_VELOCITY[quantity])
+            for band in (ISO_BAND_HZ, ISO_BAND_SLOW_HZ)}
+
+
+def levels_of(x, velocities_m_s: dict, fs: float, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
+    """Overall levels of a record ``x`` (SI units of ``quantity``), given its ``iso_velocities``."""
     lo, hi = iso_band_hz(speed_rpm)
-    top = min(hi, transform.fs_hz / 2)
-    velocity_m_s = transform.band_rms(lo, top, integrations=INTEGRATIONS_TO_VELOCITY[quantity])
+    top = min(hi, fs / 2)
+    velocity_m_s = velocities_m_s[(lo, hi)]
     st = waveform_statistics(x)
     is_accel = quantity == "acceleration"
     return OverallLevels(
@@ -89,4 +96,4 @@ def levels_of(x, transform: Transform, quantity: str, speed_rpm: float | None = 
 
 def overall_levels(x, fs: float, quantity: str, speed_rpm: float | None = None) -> OverallLevels:
     """Overall levels of a channel whose samples are in the SI base of ``quantity``."""
-    return levels_of(x, Transform.of(x, fs), quantity, speed_rpm)
+    return levels_of(x, iso_velocities(Transform.of(x, fs), quantity), fs, quantity, speed_rpm)

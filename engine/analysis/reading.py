@@ -28,7 +28,7 @@ from ..readings import Channel, QualityIssue, Reading
 from .envelope import band_from_spectrum, whitened_spectrum
 from .impacts import ImpactTrain, impact_train
 from .kurtogram import Kurtogram, kurtogram_of_spectrum
-from .levels import OverallLevels, levels_of
+from .levels import OverallLevels, iso_velocities, levels_of
 from .spectrum import Spectrum, Transform, integrate
 from .speed import SpeedEstimate, refine_running_speed
 from .synchronous import SynchronousEvents, synchronous_events
@@ -65,7 +65,6 @@ class ChannelAnalysis:
     point: Point | None
     fs_hz: float
     accel: np.ndarray                      # acceleration, m/s^2, mean removed (for plots)
-    transform: Transform                   # its one FFT (for plots)
     spectrum: Spectrum                     # acceleration, m/s^2 peak, Hann
     velocity: Spectrum                     # velocity, mm/s RMS, from the same FFT
     levels: OverallLevels
@@ -161,7 +160,8 @@ def _squared_envelope(white: np.ndarray, n: int, fs: float, band, span: float, s
     cut = int(EDGE_TRIM * len(sig.samples))
     keep = fast_length_at_most(len(sig.samples) - 2 * cut)
     c = sig.samples[cut:cut + keep]
-    squared = c.real ** 2 + c.imag ** 2
+    squared = np.square(c.real)
+    squared += np.square(c.imag)
     # The squared envelope of a band B wide holds nothing above B: lines
     # there would stand over an empty floor.
     ses = Transform.of(squared, sig.fs_hz).amplitude("peak").below(min(span * 1.2, band[1] - band[0]))
@@ -185,8 +185,10 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     views = [EnvelopeView("kurtogram", ses, band, kg.best.kurtosis)]
     wide = (min(span, fs / 8), 0.45 * fs)
     wide_ses, _, wide_sig = _squared_envelope(white, n, fs, wide, span, spectrum_only=True)
-    power = wide_sig.samples.real ** 2 + wide_sig.samples.imag ** 2
-    spectral_kurtosis = float(np.mean(power ** 2) / np.mean(power) ** 2 - 2)   # Antoni 2006, complex envelope
+    power = np.square(wide_sig.samples.real)
+    power += np.square(wide_sig.samples.imag)
+    mean_power = float(power.mean())
+    spectral_kurtosis = float(np.mean(np.square(power, out=power)) / mean_power ** 2 - 2)   # Antoni 2006
     views.append(EnvelopeView("wide", wide_ses, wide, spectral_kurtosis))
     return kg, tuple(views), squared, sig.fs_hz
 
@@ -242,8 +244,11 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         why = "; ".join(f"{q.channel}: {q.message}" for q in reading.quality if q.blocking)
         raise ReadingError(f"no channel can be analysed ({why})", path=reading.source)
     accel = {ch.name: _to_acceleration(ch, fs) for ch in usable}
-    transforms = {name: Transform.of(a, fs) for name, a in accel.items()}
-    spectra = {name: t.amplitude("peak") for name, t in transforms.items()}
+    spectra, iso = {}, {}
+    for name, a in accel.items():          # each FFT is dropped as soon as its spectrum and levels are out
+        transform = Transform.of(a, fs)
+        spectra[name] = transform.amplitude("peak")
+        iso[name] = iso_velocities(transform, "acceleration")
     velocity = {name: velocity_spectrum(s) for name, s in spectra.items()}
 
     first_point = next((points[c.point] for c in usable if c.point in points), None)
@@ -264,9 +269,9 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         kg, views, env_sig, env_fs = _envelopes(a, fs, fastest)
         impacts = impact_train(env_sig, env_fs, min(candidates), max(candidates)) if env_sig is not None else None
         channels.append(ChannelAnalysis(
-            channel=ch, point=point, fs_hz=fs, accel=a, transform=transforms[ch.name],
+            channel=ch, point=point, fs_hz=fs, accel=a,
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
-            levels=levels_of(a, transforms[ch.name], "acceleration", own_rpm),
+            levels=levels_of(a, iso[ch.name], fs, "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
             synchronous=MappingProxyType(_synchronous(a, fs, rates, reading.duration_s)),
             issues=tuple(reading.issues_for(ch.name)),
