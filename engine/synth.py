@@ -6,8 +6,11 @@ based Condition Monitoring", Wiley, chapters 2 and 5; Randall & Antoni 2011
 for bearings; McFadden & Smith 1984 for the bearing signal model):
 
 - shaft faults are sums of shaft-order sinusoids; unbalance rises with the
-  speed squared; misalignment is 2X with strong axial content; looseness is
-  a truncated waveform rich in harmonics and half orders;
+  speed squared; angular misalignment is strong axial 1X and 2X; parallel
+  (offset) misalignment is a radial 2X above 1X; rotating looseness is a
+  truncated waveform rich in harmonics and half orders; structural looseness
+  (a weak support direction) is a 1X several times stronger horizontally than
+  vertically;
 - a rolling-bearing defect is a train of impacts at the defect rate with
   1 % random slip, each ringing a structural resonance, amplitude-modulated by
   the load zone: at 1X for a rotating inner race, at FTF for a rolling
@@ -45,12 +48,14 @@ if TYPE_CHECKING:
 G = STANDARD_GRAVITY_M_S2
 STAGES = (1, 2, 3, 4)
 
-# which component each fault sits on
+# which component each fault sits on; the fault ids are the rulebooks' own
 FAULTS = {
     "healthy": None,
     "unbalance": "shaft",
-    "misalignment": "shaft",
-    "looseness": "shaft",
+    "misalignment-angular": "shaft",
+    "misalignment-parallel": "shaft",
+    "looseness-rotating": "shaft",
+    "looseness-structural": "support",      # the support under a bearing: a loose foot or a weak base
     "outer-race": "bearing",
     "inner-race": "bearing",
     "rolling-element": "bearing",
@@ -251,13 +256,22 @@ def _shaft_fault(m: _Model, fault: str, shaft: str, point: Point, stage: int, sp
     if fault == "unbalance":
         v = 2.0 * stage * speed_scale ** 2
         return m.shaft_tone(shaft, 1, v if radial else 0.15 * v, ph)
-    if fault == "misalignment":
+    if fault == "misalignment-angular":
         v = 1.5 * stage
         axial_gain = 1.6 if not radial else 1.0
         return (m.shaft_tone(shaft, 1, 0.6 * v * axial_gain, ph)
                 + m.shaft_tone(shaft, 2, v * axial_gain, 2 * ph + 0.4)
                 + m.shaft_tone(shaft, 3, 0.3 * v * axial_gain, 3 * ph + 0.9))
-    if fault == "looseness":
+    if fault == "misalignment-parallel":
+        v = 1.5 * stage
+        gain = 1.0 if radial else 0.35
+        return gain * (m.shaft_tone(shaft, 1, 0.5 * v, ph) + m.shaft_tone(shaft, 2, 1.2 * v, 2 * ph + 0.4)
+                       + m.shaft_tone(shaft, 3, 0.25 * v, 3 * ph + 0.9))
+    if fault == "looseness-structural":
+        v = 1.4 * stage
+        gain = {"horizontal": 1.0, "vertical": 0.2, "axial": 0.15}[point.direction]
+        return gain * (m.shaft_tone(shaft, 1, v, ph) + m.shaft_tone(shaft, 2, 0.15 * v, 2 * ph + 0.2))
+    if fault == "looseness-rotating":
         v = 1.0 * stage
         x = m.shaft_tone(shaft, 1, 2.0 * v, ph)
         for k in range(2, 11):
@@ -274,6 +288,7 @@ def _shaft_fault(m: _Model, fault: str, shaft: str, point: Point, stage: int, sp
 def _default_component(machine: Machine, fault: str) -> str:
     kind = FAULTS[fault]
     pools = {"shaft": list(machine.shaft_speeds_hz), "bearing": [b.id for b in machine.bearings],
+             "support": [b.id for b in machine.bearings],
              "gear": [g.id for g in machine.gears], "belt": [b.id for b in machine.belts],
              "rotor": [r.id for r in machine.rotors], "motor": [mm.id for mm in machine.motors]}
     pool = pools[kind]
@@ -288,7 +303,8 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
         if component not in machine.shaft_speeds_hz:
             raise UsageError(f"no shaft {component!r} in {machine.name!r}")
         return {component}
-    for items, kinds in ((machine.bearings, "bearing"), (machine.rotors, "rotor"), (machine.motors, "motor")):
+    for items, kinds in ((machine.bearings, "bearing"), (machine.bearings, "support"), (machine.rotors, "rotor"),
+                         (machine.motors, "motor")):
         if kind == kinds:
             for item in items:
                 if item.id == component:
@@ -351,6 +367,9 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
         elif FAULTS[fault] == "shaft":
             scale = speed_rpm / nominal_rpm
             x += _shaft_fault(model, fault, component, p, stage, scale) * (1.0 if near else 0.25)
+        elif FAULTS[fault] == "support":
+            shaft = next(b.shaft for b in machine.bearings if b.id == component)
+            x += _shaft_fault(model, fault, shaft, p, stage, 1.0) * (1.0 if p.at == component else 0.15)
         elif fault == "belt":
             belt = next(b for b in machine.belts if b.id == component)
             bpf = math.pi * belt.driving_diameter_mm * speeds[belt.driving_shaft] / belt.belt_length_mm

@@ -167,9 +167,9 @@ def test_diagnose_prints_text_and_writes_html(tmp_path, capsys):
 
 def test_diagnose_several_files_of_one_machine_together(tmp_path, capsys):
     m = load_machine(RW2)
-    sim = simulate(m, "misalignment", "pump", 3, None, 12800.0, 3.0, 3, points=["P1H"])
+    sim = simulate(m, "misalignment-angular", "pump", 3, None, 12800.0, 3.0, 3, points=["P1H"])
     one = write_simulation(sim, tmp_path / "p1h.wav")[0]
-    sim = simulate(m, "misalignment", "pump", 3, None, 12800.0, 3.0, 3, points=["P1A"])
+    sim = simulate(m, "misalignment-angular", "pump", 3, None, 12800.0, 3.0, 3, points=["P1A"])
     two = write_simulation(sim, tmp_path / "p1a.wav")[0]
     assert main(["diagnose", str(one), str(two), "--machine", str(RW2), "--format", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)

@@ -111,7 +111,7 @@ def test_unbalance_rises_with_speed_squared(rw2):
 
 def test_misalignment_is_strong_axially(rw2):
     # Source: common practice: misalignment shows high axial 1X and 2X.
-    sim = simulate(rw2, "misalignment", "pump", 2, None, 12800.0, 4.0, seed=3)
+    sim = simulate(rw2, "misalignment-angular", "pump", 2, None, 12800.0, 4.0, seed=3)
     facts = extract_evidence(as_reading(sim), rw2)
     ratio = next(f for f in facts if f["kind"] == "direction_ratio" and f["location"] == "pump_de")
     assert ratio["axial_to_radial"] > 1.0 and ratio["axial_2x_to_radial"] > 1.0
@@ -141,8 +141,8 @@ def test_written_simulation_loads_back_with_truth(tmp_path, rw2):
 
 
 def test_same_seed_same_signal(rw2):
-    a = simulate(rw2, "looseness", "pump", 2, None, 5120.0, 1.0, seed=7)
-    b = simulate(rw2, "looseness", "pump", 2, None, 5120.0, 1.0, seed=7)
+    a = simulate(rw2, "looseness-rotating", "pump", 2, None, 5120.0, 1.0, seed=7)
+    b = simulate(rw2, "looseness-rotating", "pump", 2, None, 5120.0, 1.0, seed=7)
     assert all(np.array_equal(a.channels[k], b.channels[k]) for k in a.channels)
 
 
@@ -159,3 +159,11 @@ def test_fault_on_a_component_the_machine_lacks(rw2):
     from engine.errors import UsageError
     with pytest.raises(UsageError, match="has no gear"):
         simulate(rw2, "gear-tooth")
+
+
+def test_the_simulator_speaks_the_rulebooks_fault_ids():
+    from engine.reasoning import load_rulebook
+    from engine.synth import FAULTS
+
+    declared = set(load_rulebook().faults)
+    assert set(FAULTS) - {"healthy"} <= declared, set(FAULTS) - {"healthy"} - declared
