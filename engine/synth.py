@@ -79,9 +79,12 @@ class Truth:
     seed: int
     fs_hz: float
     duration_s: float
+    also: tuple = ()        # further faults present at the same time: (fault, component, stage)
 
     def as_dict(self) -> dict:
-        return {k: getattr(self, k) for k in self.__dataclass_fields__}
+        out = {k: getattr(self, k) for k in self.__dataclass_fields__}
+        out["also"] = [list(x) for x in self.also]
+        return out
 
 
 @dataclass
@@ -269,7 +272,7 @@ def _shaft_fault(m: _Model, fault: str, shaft: str, point: Point, stage: int, sp
                        + m.shaft_tone(shaft, 3, 0.25 * v, 3 * ph + 0.9))
     if fault == "looseness-structural":
         v = 1.4 * stage
-        gain = {"horizontal": 1.0, "vertical": 0.2, "axial": 0.15}[point.direction]
+        gain = {"horizontal": 1.0, "vertical": 0.12, "axial": 0.1}[point.direction]
         return gain * (m.shaft_tone(shaft, 1, v, ph) + m.shaft_tone(shaft, 2, 0.15 * v, 2 * ph + 0.2))
     if fault == "looseness-rotating":
         v = 1.0 * stage
@@ -322,12 +325,16 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
 
 def simulate(machine: Machine, fault: str = "healthy", component: str | None = None, stage: int = 2,
              speed_rpm: float | None = None, fs_hz: float = 25600.0, duration_s: float = 4.0,
-             seed: int = 0, points: list[str] | None = None) -> Simulation:
-    """Simulate acceleration at the machine's measurement points with one fault.
+             seed: int = 0, points: list[str] | None = None, also=(),
+             healthy_background: bool = True) -> Simulation:
+    """Simulate acceleration at the machine's measurement points with one fault (or several).
 
     ``speed_rpm`` is the speed of the machine's driving shaft (its nominal speed
     when None). ``component`` names the faulty shaft, bearing, gear mesh, belt,
-    rotor or motor (the first of its kind when None).
+    rotor or motor (the first of its kind when None). ``also`` adds further
+    faults present at the same time, as (fault, component, stage) triples, each
+    with its own random stream; ``healthy_background=False`` gives a fault's
+    contribution alone.
     """
     if fault not in FAULTS:
         raise UsageError(f"unknown fault {fault!r}; expected one of {', '.join(FAULTS)}")
@@ -357,7 +364,7 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     extra.update(fault_extra)
 
     for p in chosen:
-        x = _healthy(model, p, resonance_hz)
+        x = _healthy(model, p, resonance_hz) if healthy_background else np.zeros(n)
         near = p.shaft in fault_shafts
         if FAULTS[fault] == "bearing":
             at_bearing = p.at == component or (component not in bearing_points and near)
@@ -397,7 +404,13 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
                         f = fr + sgn * k * fp
                         x += gain * model.tone(f, _velocity_tone_accel(0.35 * stage / k, f), rng.uniform(0, 6.3))
         channels[p.id] = x
-    truth = Truth(fault, component, stage if fault != "healthy" else 0, speed_rpm, seed, fs_hz, duration_s)
+    for i, (other, other_component, other_stage) in enumerate(also):
+        part = simulate(machine, other, other_component, other_stage, speed_rpm, fs_hz, duration_s,
+                        seed + 7919 * (i + 1), points, healthy_background=False)
+        for name in channels:
+            channels[name] = channels[name] + part.channels[name]
+    truth = Truth(fault, component, stage if fault != "healthy" else 0, speed_rpm, seed, fs_hz, duration_s,
+                  tuple((f, c, st) for f, c, st in also))
     return Simulation(fs_hz, channels, {p.id: p for p in chosen}, truth, speed_rpm, extra)
 
 

@@ -91,3 +91,46 @@ def convert(values, from_unit: str, to_unit: str) -> np.ndarray:
             "without integrating or differentiating"
         )
     return np.asarray(values, dtype=float) * (a.to_si / b.to_si)
+
+
+def format_quantity(value, unit: str = "", kind: str = "number") -> str:
+    """A measured value as a report shows it: sensible digits and its unit (no exponents).
+
+    ``unit`` is the vocabulary's ('' for counts and ratios); ``kind`` its type.
+    """
+    if value is None:
+        return "none"
+    if isinstance(value, bool) or kind == "boolean":
+        return "yes" if value else "no"
+    if isinstance(value, str) or kind == "string":
+        return str(value)
+    if kind == "integer" or isinstance(value, int):
+        text = f"{int(value)}"
+    elif not np.isfinite(value):
+        text = "not finite"
+    elif unit == "dB":
+        text = f"{value:.0f}"
+    elif unit == "%":
+        text = f"{value:+.1f}"
+    elif unit in ("rpm", "deg"):
+        text = f"{value:.0f}"
+    elif unit == "mm/s RMS":
+        text = f"{value:.2f}"
+    else:
+        text = _digits(value)
+    return f"{text} {unit}" if unit else text
+
+
+def _digits(value: float) -> str:
+    """Three significant digits, never in exponent notation."""
+    size = abs(value)
+    if size == 0:
+        return "0"
+    if size >= 100:
+        return f"{value:.0f}"
+    if size >= 10:
+        return f"{value:.1f}"
+    if size >= 1:
+        return f"{value:.2f}"
+    decimals = min(12, 2 - int(np.floor(np.log10(size))))
+    return f"{value:.{decimals}f}"

@@ -26,6 +26,7 @@ from ..kinematics import ForcingFrequency, Rates, forcing_list, rates_at
 from ..machine import Machine, Point
 from ..readings import Channel, QualityIssue, Reading
 from .envelope import band_from_spectrum, whitened_spectrum
+from .separation import random_part_factor
 from .impacts import ImpactTrain, impact_train
 from .kurtogram import Kurtogram, kurtogram_of_spectrum
 from .levels import OverallLevels, iso_velocities, levels_of
@@ -172,11 +173,15 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     """The kurtogram band's envelope (Antoni 2007) and, beside it, the whole prewhitened signal
     above the defect harmonics (cepstral prewhitening then envelope: Smith & Randall's
     method 2). An impulsive band can be a single burst of noise; the wide view catches a
-    defect the kurtogram's pick missed."""
+    defect the kurtogram's pick missed. Both start from the prewhitened spectrum with its
+    deterministic lines taken out (discrete/random separation, the first step of Smith &
+    Randall's benchmark method 3), so that a shaft, rig or electrical component whose
+    harmonics beat at a defect's rate does not pass for a bearing."""
     if fastest_defect_hz is None:
         return None, (), None, None
     n = len(accel)
     white = whitened_spectrum(accel)
+    white *= random_part_factor(accel, fs, len(white), n)     # deterministic lines out (discrete/random separation)
     span = ENVELOPE_HARMONICS * fastest_defect_hz
     kg = kurtogram_of_spectrum(white, n, fs, max_level=KURTOGRAM_LEVELS, trim_fraction=EDGE_TRIM,
                                min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4))

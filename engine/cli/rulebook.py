@@ -7,12 +7,16 @@ from ._common import Parser, add_site_option, rulebook
 
 
 def register(sub) -> None:
-    p = sub.add_parser("rulebook", help="check, test and explain rulebooks")
+    p = sub.add_parser("rulebook", help="check, test, list and explain rulebooks and their vocabulary")
     rb = p.add_subparsers(dest="action", metavar="ACTION", parser_class=Parser)
     p.set_defaults(run=lambda args: _usage(p))
     for name, helptext, run in (("check", "validate the rulebooks and summarise rules per fault", _check),
                                 ("test", "run every case in a folder and report which pass", _test),
-                                ("explain", "print one rule in plain words with its source", _explain)):
+                                ("explain", "print one rule in plain words with its source", _explain),
+                                ("list", "list every loaded rule: id, weight, what it concludes, title", _list),
+                                ("vocabulary", "list every fact kind and field rules can use, with units",
+                                 _vocabulary),
+                                ("parameters", "list the named parameters, their values and sources", _parameters)):
         q = rb.add_parser(name, help=helptext)
         if name == "test":
             q.add_argument("cases", help="folder of *.case.yaml files")
@@ -36,6 +40,30 @@ def _check(args) -> int:
         print(line)
     print("rulebooks are valid")
     return 0
+
+
+def _print(lines) -> int:
+    for line in lines:
+        print(line)
+    return 0
+
+
+def _list(args) -> int:
+    from ..reasoning.explain import rule_list
+
+    return _print(rule_list(rulebook(args)))
+
+
+def _vocabulary(args) -> int:
+    from ..reasoning.explain import vocabulary
+
+    return _print(vocabulary(rulebook(args)))
+
+
+def _parameters(args) -> int:
+    from ..reasoning.explain import parameters
+
+    return _print(parameters(rulebook(args)))
 
 
 def _explain(args) -> int:

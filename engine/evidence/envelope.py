@@ -5,6 +5,16 @@ the band the kurtogram chose (Randall & Antoni 2011). A defect rate slips by
 1-2 % in a real bearing, so each harmonic k is looked for within 2 % of k
 times the expected rate, and its height is judged against the median of the
 SES within 15 % of it.
+
+Several families can fit one line: two bearings whose rates lie within the
+slip tolerance of each other, or a cage rate whose harmonics fall on a race
+rate (BPFO = n x FTF). Each line found is therefore given to the family that
+explains it best (the closest match; when two matches lie within 1 % of each
+other, which slip alone can cause, the lower harmonic, then a race or ball rate
+before the cage, then the bearing under the sensor), and each fact
+says how many of its harmonics it owns, how exactly they match, and on which
+channel the family stands out most: the measurements the rulebooks' rivalry
+rules weigh.
 """
 
 from __future__ import annotations
@@ -53,6 +63,27 @@ def _on_shaft_order(ses, freq_hz, shaft_hz) -> bool:
     return order >= 1 and abs(freq_hz - order * shaft_hz) <= tolerance_hz(ses, freq_hz, SHAFT_ORDER_TOLERANCE)
 
 
+TIE = 0.01              # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
+DEFECT_RANK = {"BPFO": 0, "BPFI": 0, "BSF": 1, "FTF": 2}
+
+
+def _owners(defects, all_found, location: str | None) -> dict[tuple[int, int], bool]:
+    """For each (family index, harmonic k) found, whether that family explains its line best."""
+    claims: dict[int, list[tuple]] = {}
+    for t, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
+        for k, peak in found.items():
+            error = abs(peak.freq_hz / (k * rate) - 1)
+            claims.setdefault(peak.line, []).append((error, k, DEFECT_RANK[defect], b.bearing != location, t))
+    owned = {}
+    for entries in claims.values():
+        best = min(entries, key=lambda e: e[0])
+        close = [e for e in entries if e[0] <= best[0] + TIE]
+        winner = min(close, key=lambda e: (e[1], e[2], e[3], e[0]))
+        for e in entries:
+            owned[(e[4], e[1])] = e is winner
+    return owned
+
+
 def envelope_evidence(rc: Analysis) -> list[dict]:
     """Bearing defect tones in each channel's squared envelope spectra, and their load-zone modulation.
 
@@ -67,15 +98,32 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
     for c in rc.channels:
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
-            tones += _tone_facts(c, view, defects, found)
+            owned = _owners(defects, found, c.location)
+            tones += _tone_facts(c, view, defects, found, owned)
             zones += _modulation_facts(c, view, defects, found)
+    _mark_strongest(tones)
     return tones + zones
 
 
-def _tone_facts(c, view, defects, all_found) -> list[dict]:
+def _mark_strongest(tones: list[dict]) -> None:
+    """Name, for each family and view, the channel where it stands out most (the transmission path
+    from a defect weakens it on the way to other sensors)."""
+    best: dict[tuple, dict] = {}
+    for f in tones:
+        key = (f["component"], f["defect"], f["band_method"])
+        if key not in best or f["max_snr_db"] > best[key]["max_snr_db"]:
+            best[key] = f
+    for f in tones:
+        top = best[(f["component"], f["defect"], f["band_method"])]
+        f["strongest_channel"] = top["channel"]
+        f["strongest_location"] = top["location"]
+        f["below_strongest_db"] = top["max_snr_db"] - f["max_snr_db"]
+
+
+def _tone_facts(c, view, defects, all_found, owned) -> list[dict]:
     out = []
     ses = view.ses
-    for (b, defect, rate), found in zip(defects, all_found):
+    for t, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
         checked = sum(1 for k in range(1, HARMONICS[defect] + 1) if k * rate <= ses.fmax_hz * 0.98)
         if not found:
             continue
@@ -87,6 +135,9 @@ def _tone_facts(c, view, defects, all_found) -> list[dict]:
             "harmonics_found": len(found), "harmonics_checked": checked,
             "first_snr_db": db(first.snr) if first else 0.0,
             "max_snr_db": max(db(p.snr) for p in found.values()),
+            "harmonics_owned": sum(1 for k in found if owned[(t, k)]),
+            "fundamental_owned": bool(first is not None and owned[(t, 1)]),
+            "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
             "band_kurtosis": view.band_kurtosis,
         })

@@ -34,11 +34,12 @@ import itertools
 import math
 import threading
 from collections import defaultdict
-from types import SimpleNamespace
+import string
 
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
 from ..errors import ReasoningError
+from ..units import format_quantity
 from . import certainty as cf
 from .compile import PHASE_KIND, compile_ruleset, tally_slot
 from .findings import Firing, Hypothesis, Reasoning
@@ -188,7 +189,7 @@ class Reasoner:
             grade *= cf.ramp(_value(values, r.value), r.start, r.full)
         premises = [f.get("certainty", 1.0) for _, f in matched if f["kind"] not in (TALLY_KIND,)]
         strength = rule.weight * grade * cf.premise_certainty(premises)
-        because = rule.because.format_map({a: SimpleNamespace(**f) for a, f in matched})
+        because = word_sentence(rule, values)
         derived = None
         if rule.derives is not None and strength > 0:
             session.derived_count += 1
@@ -279,6 +280,18 @@ class Reasoner:
         faults = tuple(h for h in hypotheses if faults_of[h.fault].family != "reading")
         return Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
                          self.rulebook.files)
+
+
+def word_sentence(rule: Rule, values: dict) -> str:
+    """The rule's because sentence with each {alias.field} worded by its unit."""
+    worded = {f"{p.alias}.{p.field}": format_quantity(values[p.alias].get(p.field), p.unit, p.type)
+              for p in rule.placeholders}
+    parts = []
+    for literal, name, _, _ in string.Formatter().parse(rule.because):
+        parts.append(literal)
+        if name is not None:
+            parts.append(worded[name.strip()])
+    return "".join(parts)
 
 
 def _value(values: dict, ref):

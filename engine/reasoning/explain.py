@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections import defaultdict
 
+from ..units import format_quantity
 from .rulebook import Condition, FaultChoice, Pattern, Ref, Rule, Rulebook
 
 _OPS = {"is": "is", "is_not": "is not", "above": "is above", "at_least": "is at least", "below": "is below",
@@ -14,34 +15,39 @@ def _words(name: str) -> str:
     return name.replace("_", " ")
 
 
-def _value(v) -> str:
+def _value(v, unit: str = "") -> str:
     if isinstance(v, Ref):
-        if v.alias is None:
-            return f"its own {_words(v.field)}" if v.factor == 1 else f"{v.factor:g} x its own {_words(v.field)}"
-        return f"{v.factor:g} x {v.alias}.{v.field}" if v.factor != 1 else f"{v.alias}.{v.field}"
-    if isinstance(v, float):
-        return f"{v:g}"
+        whose = "its own" if v.alias is None else f"the {v.alias} fact's"
+        name = f"{whose} {_words(v.field)}"
+        return name if v.factor == 1 else f"{v.factor:g} times {name}"
+    if isinstance(v, bool):
+        return "yes" if v else "no"
+    if isinstance(v, (int, float)):
+        return format_quantity(float(v), unit) if unit else f"{v:g}"
     return str(v)
 
 
-def condition_words(c: Condition) -> str:
+def condition_words(c: Condition, unit: str = "") -> str:
+    """One condition in plain words, thresholds with their unit and the parameter they come from."""
     field = _words(c.field)
+    named = f" (param.{', param.'.join(c.params)})" if c.params else ""
     if c.op == "between":
-        return f"{field} is between {c.value[0]:g} and {c.value[1]:g}"
+        return f"{field} is between {_value(c.value[0], unit)} and {_value(c.value[1], unit)}{named}"
     if c.op == "one_of":
         return f"{field} is one of {', '.join(map(str, c.value))}"
     if c.op == "not_one_of":
         return f"{field} is none of {', '.join(map(str, c.value))}"
-    return f"{field} {_OPS[c.op]} {_value(c.value)}"
+    return f"{field} {_OPS[c.op]} {_value(c.value, unit)}{named}"
 
 
 def _a(word: str) -> str:
     return ("an " if word[:1] in "aeiou" else "a ") + word
 
 
-def pattern_words(p: Pattern) -> str:
+def pattern_words(p: Pattern, rulebook: Rulebook | None = None) -> str:
     what = _words(p.kind)
-    where = "; ".join(condition_words(c) for c in p.conditions)
+    fields = rulebook.fields_of(p.kind) if rulebook is not None else {}
+    where = "; ".join(condition_words(c, fields[c.field].unit if c.field in fields else "") for c in p.conditions)
     if p.counted:
         bounds = []
         if p.at_least is not None:
@@ -58,10 +64,10 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin}" + (
         f" (overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ""), f"  source: {rule.source}"]
     lines.append("  it needs:")
-    lines += [f"    - {pattern_words(p)}" for p in rule.needs]
+    lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.needs]
     if rule.none_of:
         lines.append("  and none of:")
-        lines += [f"    - {pattern_words(p)}" for p in rule.none_of]
+        lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.none_of]
     if rule.fault is not None:
         if isinstance(rule.fault, FaultChoice):
             names = ", ".join(f"{k} -> {rulebook.faults[v].name}" for k, v in rule.fault.faults)
@@ -75,8 +81,14 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
         fields = ", ".join(f"{k} = {_value(v)}" for k, v in rule.derived_fields)
         lines.append(f"  it derives a {_words(rule.derives)} fact ({fields}) for other rules")
     weight = f"certainty {rule.weight:+.2f}"
+    aliases = {p.alias: p.kind for p in rule.needs}
     for r in rule.ramps:
-        weight += f", graded by {r.value} from 0 at {r.start:g} to full at {r.full:g}"
+        kind = aliases.get(r.value.alias)
+        fields = rulebook.fields_of(kind) if kind and not kind == "tally" else {}
+        unit = fields[r.value.field].unit if r.value.field in fields else ""
+        named = f" (param.{', param.'.join(r.params)})" if r.params else ""
+        weight += (f", graded by {_value(r.value)} from 0 at {_value(r.start, unit)} "
+                   f"to full at {_value(r.full, unit)}{named}")
     lines.append(f"  {weight}")
     lines.append(f"  the report says: {rule.because}")
     return lines
@@ -110,4 +122,45 @@ def summary(rulebook: Rulebook) -> list[str]:
             lines.append(f"  overridden: {rule.id} by {rule.path}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
+    return lines
+
+
+def vocabulary(rulebook: Rulebook) -> list[str]:
+    """Every fact kind a rule may match, each field with its type, unit and meaning."""
+    from ..evidence.vocabulary import FACTS
+
+    lines = []
+    for kind in list(FACTS) + sorted(rulebook.derived):
+        origin = "evidence" if kind in FACTS else "derived by rules"
+        lines.append(f"{kind} ({origin})")
+        for name, field in rulebook.fields_of(kind).items():
+            if name in ("kind", "id"):
+                continue
+            unit = f" [{field.unit}]" if field.unit else ""
+            lines.append(f"    {name:<24} {field.type:<8}{unit} {field.about}")
+    return lines
+
+
+def parameters(rulebook: Rulebook) -> list[str]:
+    """The named parameters, their values and units, where they were set and why."""
+    lines = []
+    for p in sorted(rulebook.parameters.values(), key=lambda p: p.name):
+        value = format_quantity(p.value, p.unit) if p.unit else f"{p.value:g}"
+        changed = f" (changed by {', '.join(p.changed_by)})" if p.changed_by else ""
+        lines.append(f"param.{p.name} = {value}{changed}")
+        lines.append(f"    {p.about}; source: {p.source}; declared in {p.path}")
+    return lines
+
+
+def rule_list(rulebook: Rulebook) -> list[str]:
+    """One line per loaded rule: id, what it concludes or derives, its title."""
+    lines = []
+    for r in rulebook.rules:
+        if r.derives:
+            what = f"derives {r.derives}"
+        elif isinstance(r.fault, FaultChoice):
+            what = "/".join(dict.fromkeys(v for _, v in r.fault.faults))
+        else:
+            what = r.fault
+        lines.append(f"{r.id:<44} {r.weight:+.2f} {what:<40} {r.title}")
     return lines

@@ -4,12 +4,18 @@ A rulebook is YAML (see rulebooks/README.md). Loading it does three checks,
 each reported as one line naming the file, the line and the rule:
 
 1. the file against ``engine/schemas/rulebook.schema.json``;
-2. every fact kind, field, reference, placeholder and comparison against the
-   evidence vocabulary (``engine.evidence.vocabulary``) and the derived kinds
-   the rulebooks declare, so a rule cannot silently never fire;
+2. every fact kind, field, reference, parameter, placeholder and comparison
+   against the evidence vocabulary (``engine.evidence.vocabulary``), the
+   derived kinds and the named parameters the rulebooks declare, so a rule
+   cannot silently never fire, and every number against what the rule
+   engine can represent;
 3. the overlay: a site file may add rules, replace a loaded rule of the same
-   id (``overrides: true``) or switch one off (``disable:``); anything else
-   that reuses an id is an error.
+   id (``overrides: true``), switch one off (``disable:``) or change a named
+   parameter in one line (``parameters: {name: value}``); anything else that
+   reuses an id is an error.
+
+A ``because`` sentence names values as ``{alias.field}`` without a format:
+the report formats each by its unit (``engine.units.format_quantity``).
 """
 
 from __future__ import annotations
@@ -22,12 +28,14 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import RulebookError
-from ..evidence.vocabulary import FACTS, fields_of
+from ..evidence.vocabulary import FACTS, F, fields_of
 from ..paths import RULEBOOKS
 from ..yamlfile import YamlDocument, first_problem, read_yaml
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
-RESERVED_ALIASES = {"s", "m", "host", "tw_phase"}
+LARGEST_NUMBER = 1e15
+PARAMETER_ALIAS = "param"
+RESERVED_ALIASES = {"s", "m", "host", "tw_phase", PARAMETER_ALIAS}
 TALLY_KIND = "tally"
 COMPARISONS = {"above", "at_least", "below", "at_most"}
 NUMERIC = {"number", "integer"}
@@ -50,10 +58,24 @@ class Ref:
 
 
 @dataclass(frozen=True)
+class Parameter:
+    """A named number rules refer to as ``param.NAME``, which a site overlay can change in one line."""
+
+    name: str
+    value: float
+    unit: str
+    about: str
+    source: str
+    path: str               # where it was declared
+    changed_by: tuple[str, ...] = ()    # overlays that changed its value, in order
+
+
+@dataclass(frozen=True)
 class Condition:
     field: str
     op: str          # is, is_not, above, at_least, below, at_most, between, one_of, not_one_of, same_as, differs_from
     value: Any       # scalar, list, (lo, hi), or Ref
+    params: tuple[str, ...] = ()   # parameters the value came from, for explanations
 
 
 @dataclass(frozen=True)
@@ -83,6 +105,17 @@ class Ramp:
     value: Ref
     start: float
     full: float
+    params: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Placeholder:
+    """One ``{alias.field}`` of a because sentence, with what it needs to be worded."""
+
+    alias: str
+    field: str
+    type: str
+    unit: str
 
 
 @dataclass(frozen=True)
@@ -97,6 +130,7 @@ class Rule:
     because: str
     path: str
     line: int | None
+    placeholders: tuple[Placeholder, ...] = ()
     fault: str | FaultChoice | None = None
     component: Ref | str | None = None
     stage: int | None = None
@@ -124,9 +158,10 @@ class Rulebook:
 
     rules: tuple[Rule, ...]
     faults: dict[str, Fault]
-    derived: dict[str, dict[str, tuple[str, str]]]
+    derived: dict[str, dict[str, F]]
     files: tuple[str, ...]
     disabled: dict[str, tuple[str, str]] = field(default_factory=dict)   # id -> (reason, file)
+    parameters: dict[str, Parameter] = field(default_factory=dict)
 
     def rule(self, rule_id: str) -> Rule:
         for r in self.rules:
@@ -134,7 +169,7 @@ class Rulebook:
                 return r
         raise KeyError(rule_id)
 
-    def fields_of(self, kind: str) -> dict[str, tuple[str, str]]:
+    def fields_of(self, kind: str) -> dict[str, F]:
         return _kind_fields(kind, self.derived)
 
 
@@ -172,14 +207,16 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     for doc in docs:
         _check_schema(doc)
     faults: dict[str, Fault] = {}
-    derived: dict[str, dict[str, tuple[str, str]]] = {}
+    derived: dict[str, dict[str, F]] = {}
+    parameters: dict[str, Parameter] = {}
     for doc in docs:
         _collect_catalogue(doc, faults, derived)
+        _collect_parameters(doc, parameters)
     rules: dict[str, Rule] = {}
     disabled: dict[str, tuple[str, str]] = {}
     for doc in docs:
         for i, raw in enumerate(doc.data.get("rules") or []):
-            rule = _build_rule(doc, i, raw, faults, derived)
+            rule = _build_rule(doc, i, raw, faults, derived, parameters)
             if rule.id in rules and not raw.get("overrides"):
                 raise RulebookError(f"id already used in {rules[rule.id].path}; add 'overrides: true' to replace it",
                                     path=doc.path, line=rule.line, rule_id=rule.id)
@@ -198,7 +235,7 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
             disabled[rid] = (entry["reason"], doc.path)
             del rules[rid]
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
-    return Rulebook(ordered, faults, derived, tuple(str(f) for f in files), disabled)
+    return Rulebook(ordered, faults, derived, tuple(str(f) for f in files), disabled, parameters)
 
 
 def _check_schema(doc: YamlDocument) -> None:
@@ -231,7 +268,7 @@ def _collect_catalogue(doc, faults, derived) -> None:
             raise RulebookError(f"derived kind {kind!r} is already an evidence kind", path=doc.path, line=line)
         if kind in derived:
             raise RulebookError(f"derived kind {kind!r} declared twice", path=doc.path, line=line)
-        fields = {name: (spec["type"], spec["about"]) for name, spec in raw["fields"].items()}
+        fields = {name: F(spec["type"], spec["about"], spec.get("unit", "")) for name, spec in raw["fields"].items()}
         clash = {"kind", "id", "sid", "certainty"} & set(fields)
         if clash:
             raise RulebookError(f"derived kind {kind!r}: field {sorted(clash)[0]!r} is reserved",
@@ -239,40 +276,81 @@ def _collect_catalogue(doc, faults, derived) -> None:
         derived[kind] = fields
 
 
-def _kind_fields(kind: str, derived) -> dict[str, tuple[str, str]]:
+def _collect_parameters(doc, parameters: dict[str, Parameter]) -> None:
+    """Declare named parameters, or change the value of one declared by an earlier file."""
+    for name, raw in (doc.data.get("parameters") or {}).items():
+        line = doc.line_of(["parameters", name])
+        spec = raw if isinstance(raw, dict) else {"value": raw}
+        value = spec["value"]
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+            raise RulebookError(f"parameters.{name}: {value!r} is not a finite number", path=doc.path, line=line)
+        if value != 0 and not SMALLEST_NUMBER <= abs(value) < LARGEST_NUMBER:
+            raise RulebookError(f"parameters.{name}: {value!r} cannot be represented by the rule engine "
+                                f"(keep it between {SMALLEST_NUMBER:g} and {LARGEST_NUMBER:g}; change its unit)",
+                                path=doc.path, line=line)
+        if name in parameters:
+            before = parameters[name]
+            if "unit" in spec and spec["unit"] != before.unit:
+                raise RulebookError(f"parameters.{name}: unit {spec['unit']!r} differs from {before.unit!r} "
+                                    f"declared in {before.path}", path=doc.path, line=line)
+            parameters[name] = replace(before, value=float(value), source=spec.get("source", before.source),
+                                       changed_by=before.changed_by + (doc.path,))
+            continue
+        missing = [k for k in ("unit", "about", "source") if k not in spec]
+        if missing:
+            raise RulebookError(f"parameters.{name}: no earlier rulebook declares it, so it needs "
+                                f"{', '.join(missing)} as well as its value", path=doc.path, line=line)
+        parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], doc.path)
+
+
+def _kind_fields(kind: str, derived) -> dict[str, F]:
     if kind in FACTS:
         return fields_of(kind)
     if kind in derived:
-        return {"kind": ("string", "fact kind"), "id": ("string", "fact identity"),
-                "certainty": ("number", "certainty of the derivation")} | derived[kind]
+        return {"kind": F("string", "fact kind"), "id": F("string", "fact identity"),
+                "certainty": F("number", "certainty of the derivation")} | derived[kind]
     raise KeyError(kind)
 
 
 class _RuleChecker:
     """Builds one Rule from its YAML, checking names against the vocabulary as it goes."""
 
-    def __init__(self, doc: YamlDocument, index: int, raw: dict, faults, derived):
+    def __init__(self, doc: YamlDocument, index: int, raw: dict, faults, derived, parameters):
         self.doc, self.index, self.raw = doc, index, raw
-        self.faults, self.derived = faults, derived
-        self.aliases: dict[str, dict[str, tuple[str, str]]] = {}
+        self.faults, self.derived, self.parameters = faults, derived, parameters
+        self.aliases: dict[str, dict[str, F]] = {}
+        self.used: list[str] = []          # parameters the condition being built refers to
 
     def fail(self, problem: str, *where) -> None:
         line = self.doc.line_of(["rules", self.index, *where])
         raise RulebookError(problem, path=self.doc.path, line=line, rule_id=self.raw["id"])
 
-    def fields(self, kind: str, *where) -> dict[str, tuple[str, str]]:
+    def fields(self, kind: str, *where) -> dict[str, F]:
         try:
             return _kind_fields(kind, self.derived)
         except KeyError:
             known = ", ".join(sorted(FACTS) + sorted(self.derived))
             self.fail(f"unknown fact kind {kind!r} (known: {known})", *where)
 
-    def ref(self, text: str, *where, numeric: bool = False, own=None) -> Ref:
-        """``alias.field`` of an earlier fact, or (when ``own`` fields are given) a bare field of this one."""
+    def parameter(self, name: str, *where) -> float:
+        if name not in self.parameters:
+            known = ", ".join(sorted(self.parameters)) or "none"
+            self.fail(f"param.{name}: no rulebook declares this parameter (declared: {known})", *where)
+        self.used.append(name)
+        return self.parameters[name].value
+
+    def ref(self, text: str, *where, numeric: bool = False, own=None):
+        """``alias.field`` of an earlier fact, a bare field of this one (when ``own`` fields are
+        given), or ``param.NAME``, a named parameter (its value, a number)."""
         m = _OPERAND.match(text) if isinstance(text, str) else None
         if m is None or (m["alias"] is None and own is None):
             self.fail(f"{text!r} is not a reference of the form alias.field", *where)
         alias, name = m["alias"], m["field"]
+        if alias == PARAMETER_ALIAS:
+            if not numeric:
+                self.fail(f"{text!r}: a parameter is a number; compare with above, at_least, below or at_most",
+                          *where)
+            return self.number((float(m["k"]) if m["k"] else 1.0) * self.parameter(name, *where), *where)
         if alias is not None and alias not in self.aliases:
             self.fail(f"{text!r}: no earlier fact is called {alias!r}", *where)
         fields = own if alias is None else self.aliases[alias]
@@ -287,13 +365,19 @@ class _RuleChecker:
         return Ref(alias, name, factor)
 
     def number(self, x, *where) -> float:
+        if isinstance(x, str) and x.strip().startswith(PARAMETER_ALIAS + "."):
+            return self.ref(x, *where, numeric=True)
         if isinstance(x, bool) or not isinstance(x, (int, float)) or not math.isfinite(x):
             self.fail(f"{x!r} is not a finite number", *where)
         if x != 0 and abs(x) < SMALLEST_NUMBER:
             self.fail(f"{x!r} is smaller than {SMALLEST_NUMBER:g}: state it in a larger unit", *where)
+        if abs(x) >= LARGEST_NUMBER:
+            self.fail(f"{x!r} cannot be represented by the rule engine (at most {LARGEST_NUMBER:g}): "
+                      f"state it in a larger unit", *where)
         return float(x)
 
     def condition(self, fields, name, spec, *where) -> Condition:
+        self.used = []
         if name not in fields:
             self.fail(f"field {name!r} is not in this fact kind (fields: {', '.join(sorted(fields))})", *where)
         ftype = fields[name][0]
@@ -303,6 +387,8 @@ class _RuleChecker:
                 self.fail(f"{op}: {name} is a {ftype}, not a number", *where)
             value = (self.ref(value, *where, numeric=True, own=fields) if isinstance(value, str)
                      else self.number(value, *where))
+            if isinstance(value, Ref) and value.factor != 1:
+                self.number(value.factor, *where)
         elif op == "between":
             if ftype not in NUMERIC:
                 self.fail(f"between: {name} is a {ftype}, not a number", *where)
@@ -320,7 +406,7 @@ class _RuleChecker:
             for v in values:
                 self.check_type(ftype, v, name, *where)
             value = tuple(values) if op in ("one_of", "not_one_of") else value
-        return Condition(name, op, value)
+        return Condition(name, op, value, tuple(self.used))
 
     def check_type(self, ftype, v, name, *where) -> None:
         ok = {"string": isinstance(v, str), "boolean": isinstance(v, bool),
@@ -363,8 +449,9 @@ class _RuleChecker:
             self.fail(f"per: {kind} has no field {per!r}", *where, "per")
         if counted:
             group_type = fields[per][0] if per else "string"
-            self.aliases[alias] = {"kind": ("string", "tally"), "n": ("integer", f"facts of kind {kind} counted"),
-                                   "group": (group_type, f"value of {per} shared by the counted facts")}
+            self.aliases[alias] = {"kind": F("string", "tally"), "n": F("integer", f"facts of kind {kind} counted"),
+                                   "group": F(group_type, f"value of {per} shared by the counted facts",
+                                              fields[per].unit if per else "")}
         elif not negated:
             self.aliases[alias] = fields
         return Pattern(kind, alias, tuple(conditions), counted, per, raw.get("at_least"), raw.get("at_most"))
@@ -376,27 +463,36 @@ class _RuleChecker:
         ramps = []
         for j, r in enumerate(spec.get("grade_by") or []):
             where = ("certainty", "grade_by", j)
-            if r["from"] == r["to"]:
+            self.used = []
+            value = self.ref(r["value"], *where, numeric=True)
+            if not isinstance(value, Ref):
+                self.fail("grade_by: 'value' must be a measured value (alias.field), not a parameter", *where)
+            start, full = self.number(r["from"], *where), self.number(r["to"], *where)
+            if start == full:
                 self.fail("grade_by: 'from' and 'to' must differ", *where)
-            ramps.append(Ramp(self.ref(r["value"], *where, numeric=True), self.number(r["from"], *where),
-                              self.number(r["to"], *where)))
+            ramps.append(Ramp(value, start, full, tuple(self.used)))
         return float(spec["weight"]), tuple(ramps)
 
-    def sentence(self) -> str:
+    def sentence(self) -> tuple[str, tuple[Placeholder, ...]]:
+        """The because sentence and its placeholders: {alias.field} only, formatted by unit later."""
         text = self.raw["because"]
         try:
             parsed = list(string.Formatter().parse(text))
         except ValueError as exc:
             self.fail(f"because: {exc}", "because")
-        for _, name, spec, _ in parsed:
+        places = []
+        for _, name, spec, conversion in parsed:
             if name is None:
                 continue
-            self.ref(name, "because")
-            try:
-                format(1.5, spec or "")
-            except ValueError:
-                self.fail(f"because: {{{name}:{spec}}} is not a valid number format", "because")
-        return text
+            if spec or conversion:
+                self.fail(f"because: write {{{name}}} without a format ('{{{name}:{spec or ''}}}' given); "
+                          "the report formats each value by its unit", "because")
+            ref = self.ref(name, "because")
+            if not isinstance(ref, Ref) or ref.alias is None or ref.factor != 1:
+                self.fail(f"because: {{{name}}} must name a matched fact's field as alias.field", "because")
+            spec_ = self.aliases[ref.alias][ref.field]
+            places.append(Placeholder(ref.alias, ref.field, spec_[0], spec_[2] if len(spec_) > 2 else ""))
+        return text, tuple(places)
 
     def value_or_ref(self, v, *where):
         if isinstance(v, str) and _OPERAND.match(v) and v.split(".", 1)[0] in self.aliases:
@@ -407,9 +503,10 @@ class _RuleChecker:
         needs = tuple(self.pattern(p, "needs", j, False) for j, p in enumerate(self.raw["needs"]))
         none_of = tuple(self.pattern(p, "none_of", j, True) for j, p in enumerate(self.raw.get("none_of") or []))
         weight, ramps = self.certainty()
+        because, placeholders = self.sentence()
         common = dict(id=self.raw["id"], title=self.raw["title"], source=self.raw["source"], needs=needs,
-                      none_of=none_of, weight=weight, ramps=ramps, because=self.sentence(), path=self.doc.path,
-                      line=self.doc.line_of(["rules", self.index]))
+                      none_of=none_of, weight=weight, ramps=ramps, because=because, path=self.doc.path,
+                      line=self.doc.line_of(["rules", self.index]), placeholders=placeholders)
         if "concludes" in self.raw:
             c = self.raw["concludes"]
             fault = c["fault"]
@@ -442,5 +539,5 @@ class _RuleChecker:
         return Rule(**common, derives=d["fact"], derived_fields=tuple(values))
 
 
-def _build_rule(doc, index, raw, faults, derived) -> Rule:
-    return _RuleChecker(doc, index, raw, faults, derived).build()
+def _build_rule(doc, index, raw, faults, derived, parameters) -> Rule:
+    return _RuleChecker(doc, index, raw, faults, derived, parameters).build()

@@ -7,7 +7,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 from engine.cli import main
-from engine.evidence import EXTRACTORS, FACTS, extract_evidence, fields_of
+from engine.evidence import FACTS, extract_evidence, fields_of
 from engine.machine import load_machine
 from engine.readings import load_reading
 from engine.synth import as_reading, simulate

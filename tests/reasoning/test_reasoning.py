@@ -69,7 +69,7 @@ derived:
     about: a shaft shakes
     fields:
       shaft: {type: string, about: shaft id}
-      level: {type: number, about: mm/s}
+      level: {type: number, about: velocity, unit: mm/s RMS}
 """
 
 RULES = {
@@ -85,7 +85,7 @@ RULES = {
     certainty:
       weight: 0.6
       grade_by: [{value: x.amplitude_mm_s, from: 2, to: 6}]
-    because: "1X of {x.component} is {x.amplitude_mm_s:.1f} mm/s"
+    because: "1X of {x.component} is {x.amplitude_mm_s}"
 """,
     "t.shaking": """
   - id: t.shaking
@@ -110,7 +110,7 @@ RULES = {
         as: sh
     concludes: {fault: wobble, component: sh.shaft}
     certainty: 0.8
-    because: "{sh.shaft} shakes at {sh.level:.1f}"
+    because: "{sh.shaft} shakes at {sh.level}"
 """,
     "t.wobble.against": """
   - id: t.wobble.against
@@ -208,7 +208,7 @@ def test_graded_certainty_and_sentence(reasoner):
     wob = hypothesis_of(result, "wobble", "pump")
     direct = next(f for f in wob.support if f.rule_id == "t.wobble.tone")
     assert direct.certainty == pytest.approx(0.6 * 0.5)   # halfway up the 2-6 mm/s ramp
-    assert direct.because == "1X of pump is 4.0 mm/s"
+    assert direct.because == "1X of pump is 4.00 mm/s RMS"   # formatted by the field's unit
     assert direct.facts[0][1]["amplitude_mm_s"] == 4.0    # the trail keeps the measured fact
 
 
@@ -349,7 +349,7 @@ def test_override_and_disable_take_effect_and_show_their_file(tmp_path):
                 where: {name: 1X, amplitude_mm_s: {at_least: 1}}
             concludes: {fault: wobble, component: x.component}
             certainty: 0.9
-            because: "site: 1X of {x.component} at {x.amplitude_mm_s:.1f} mm/s"
+            because: "site: 1X of {x.component} at {x.amplitude_mm_s}"
     """))
     rulebook = load_rulebook(shipped, site, shipped=False)
     assert "t.wobble.against" in rulebook.disabled
@@ -401,7 +401,7 @@ def test_bad_rule_names_file_line_rule_and_field(tmp_path, replacement, message)
 
 
 def test_placeholder_to_a_missing_field_is_an_error(tmp_path):
-    text = RULES["t.wobble.tone"].replace("{x.amplitude_mm_s:.1f}", "{x.speed:.1f}")
+    text = RULES["t.wobble.tone"].replace("{x.amplitude_mm_s}", "{x.speed}")
     (tmp_path / "bad.yaml").write_text(textwrap.dedent(HEADER + "rules:\n" + text))
     with pytest.raises(RulebookError, match=r"'x' has no field 'speed'"):
         load_rulebook(tmp_path / "bad.yaml", shipped=False)

@@ -147,3 +147,21 @@ def test_settings_rules_limit_or_withhold_by_what_the_reading_cannot_show(reason
     short = diagnose(as_reading(simulate(ct1, "healthy", None, 1, None, 12800.0, 0.1, 0, ["GINH"])), ct1, reasoner)
     assert short.reasoning.withheld
     assert any(f.rule_id == "reading.settings.hardly-a-turn" for h in short.reasoning.reading_problems for f in h.support)
+
+
+@pytest.mark.parametrize("first, second", [
+    (("outer-race", "pump_nde"), ("unbalance", "pump")),
+    (("inner-race", "pump_de"), ("rotor-bar", "M-RW2")),
+])
+def test_two_faults_present_together_both_survive_the_differential(reasoner, first, second):
+    # differential diagnosis must not let one true fault's evidence crowd out another's
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+    from engine.synth import as_reading, simulate
+
+    m = load_machine(ROOT / "cases/machines/rw2-raw-water-pump.yaml")
+    sim = simulate(m, first[0], first[1], 3, None, 25600.0, 3.0, 5, also=[(second[0], second[1], 3)])
+    result = diagnose(as_reading(sim), m, reasoner).reasoning
+    confident = {(h.fault, h.component) for h in result.confident()}
+    assert first in confident and second in confident, [(h.fault, h.component, round(h.certainty, 2))
+                                                        for h in result.hypotheses[:5]]
