@@ -14,7 +14,7 @@ velocity spectrum, Hz everywhere.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Mapping
 
@@ -30,12 +30,12 @@ from .separation import random_part_factor
 from .impacts import ImpactTrain, impact_train
 from .kurtogram import Kurtogram, kurtogram_of_spectrum
 from .levels import OverallLevels, iso_velocities, levels_of
+from .peaks import noise_floor, peak_near
 from .spectrum import Spectrum, Transform, integrate
-from .speed import SpeedEstimate, refine_running_speed
+from .speed import SpeedEstimate, half_and_double, refine_speeds, speed_from_tones
 from .synchronous import SynchronousEvents, synchronous_events
 
-SPEED_SEARCH_FRACTION = 0.04   # an induction motor's speed stays within 4 % of its nominal
-MEASURED_SPEED_SEARCH = 0.01   # a measured speed is trusted to 1 %
+SPEED_SEARCH_FRACTION = 0.05   # a stated or nominal speed may be several percent off
 ENVELOPE_HARMONICS = 5          # the SES shows this many harmonics of the fastest defect rate
 EDGE_TRIM = 0.03                # whitening leaves edge effects: 3 % at each end is not used
 BAND_TO_DEFECT = 3              # a demodulation band at least 3 x the fastest defect rate wide
@@ -45,6 +45,7 @@ MIN_VELOCITY_HZ = 2.0
 TSA_MIN_REVOLUTIONS = 10
 TSA_MIN_SAMPLES_PER_REV = 64
 TSA_MAX_SAMPLES_PER_REV = 4096
+MESH_LINE_SNR = 10.0            # a mesh line this far above its floor times the averaging
 LINE_HARMONICS = 20             # line-frequency harmonics kept out of the speed search
 
 
@@ -116,6 +117,9 @@ class Analysis:
     rates: Rates
     forcing: tuple[ForcingFrequency, ...]
     channels: tuple[ChannelAnalysis, ...]
+    stated_rpm: float | None = None        # the speed the reading states (file, sidecar or option)
+    nominal_rpm: float = 0.0               # the machine file's speed of the same shaft
+    speed_check: Mapping[str, float] = field(default_factory=dict)   # lines at half and twice the speed
 
     @property
     def duration_s(self) -> float:
@@ -198,7 +202,29 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     return kg, tuple(views), squared, sig.fs_hz
 
 
-def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float) -> dict[str, SynchronousEvents]:
+def _speed_from_mesh(spectrum: Spectrum, fr: float, orders: tuple[int, ...]) -> float:
+    """A gear shaft's speed from its mesh line, ``orders`` times finer than from 1X.
+
+    Averaging revolutions keeps a once-per-turn spike only while the record is
+    cut at the true speed: an error of 1e-4 moves the spike by 1/200 of a turn
+    over 50 turns and smears it. The mesh line (interpolated) gives the speed
+    to the precision the averaging needs; ``fr`` itself when no mesh line stands out.
+    """
+    df = spectrum.resolution_hz
+    best = None
+    for z in orders:
+        if z * fr * 1.002 >= spectrum.fmax_hz:
+            continue
+        peak = peak_near(spectrum, z * fr, max(1.5 * df, 0.002 * z * fr))
+        if peak is None or peak.amplitude < MESH_LINE_SNR * noise_floor(spectrum, int(round(peak.freq_hz / df))):
+            continue
+        if best is None or z > best[0]:
+            best = (z, peak.freq_hz / z)
+    return best[1] if best else fr
+
+
+def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
+                 spectrum: Spectrum) -> dict[str, SynchronousEvents]:
     """Once-per-revolution events of every shaft that turns often enough in the record; shafts at
     one speed with the same meshes (a motor and the pump it drives) share one computation."""
     out: dict[str, SynchronousEvents] = {}
@@ -209,7 +235,7 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float) 
         key = (fr, tuple(sorted(rates.mesh_orders(shaft))))
         if key not in done:
             spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
-            done[key] = synchronous_events(accel, fs, fr, spr, list(key[1]))
+            done[key] = synchronous_events(accel, fs, _speed_from_mesh(spectrum, fr, key[1]), spr, list(key[1]))
         if done[key] is not None:
             out[shaft] = done[key]
     return out
@@ -222,19 +248,34 @@ def _impact_candidates_hz(rates: Rates) -> list[float]:
 
 
 def _refined_speed(velocity: dict[str, Spectrum], reading: Reading, machine: Machine, shaft: str) -> SpeedEstimate:
-    if reading.speed_rpm:
-        nominal_hz = machine.speeds_at(reading.speed_rpm)[shaft]
-        search = MEASURED_SPEED_SEARCH
-    else:
-        nominal_hz = machine.shaft_speeds_hz[shaft]
-        search = SPEED_SEARCH_FRACTION
+    """The speed of ``shaft`` measured from every channel's shaft harmonics (the median over channels)."""
+    shafts = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)
     lines = [k * m.line_frequency_hz for m in machine.motors for k in range(1, LINE_HARMONICS + 1)]
-    estimates = [refine_running_speed(v, nominal_hz, search, exclude_hz=lines) for v in velocity.values()]
+    estimates = [refine_speeds(v, shafts, shaft, SPEED_SEARCH_FRACTION, exclude_hz=lines) for v in velocity.values()]
     found = [e for e in estimates if e.refined]
+    nominal_hz = shafts[shaft]
     if not found:
-        return SpeedEstimate(nominal_hz, nominal_hz, (), False)
-    best = max(found, key=lambda e: len(e.harmonics_found))
-    return SpeedEstimate(float(np.median([e.speed_hz for e in found])), nominal_hz, best.harmonics_found, True)
+        return SpeedEstimate(nominal_hz, nominal_hz, (), False, "stated", 0)
+    best = max(found, key=lambda e: (e.lines_found, len(e.harmonics_found)))
+    return SpeedEstimate(float(np.median([e.speed_hz for e in found])), nominal_hz, best.harmonics_found, True,
+                         "1X harmonics", best.lines_found)
+
+
+def _speed_from_envelopes(channels: list, rates: Rates, speed: SpeedEstimate) -> SpeedEstimate:
+    """When no shaft line gave the speed, the sharpest bearing-tone family of any envelope may."""
+    scale_to_ref = speed.speed_hz
+    candidates = [b.impact_rate_hz(d) / scale_to_ref for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
+    best = None
+    for views in channels:
+        for view in views:
+            found = speed_from_tones(view.ses, [c * scale_to_ref for c in candidates], speed.nominal_hz,
+                                     SPEED_SEARCH_FRACTION)
+            if found is not None and (best is None or found.lines_found > best.lines_found):
+                best = found
+    if best is None:
+        return speed
+    return SpeedEstimate(best.speed_hz * scale_to_ref / speed.nominal_hz, speed.nominal_hz, (), False,
+                         "bearing tones", best.lines_found)
 
 
 def analyse(reading: Reading, machine: Machine) -> Analysis:
@@ -263,7 +304,14 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     rates = rates_at(machine, speeds)
     defects = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
     fastest = max(defects) if defects else None
+    envelopes = {ch.name: _envelopes(accel[ch.name], fs, fastest) for ch in usable}
+    if not speed.refined and defects:
+        speed = _speed_from_envelopes([e[1] for e in envelopes.values()], rates, speed)
+        speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
+        rates = rates_at(machine, speeds)
     candidates = _impact_candidates_hz(rates)
+    loudest = max(velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
+    check = half_and_double(velocity[loudest], speed.speed_hz, SPEED_SEARCH_FRACTION)
 
     channels = []
     for ch in usable:
@@ -271,15 +319,16 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         point = points.get(ch.point)
         # ISO 20816-3 picks its band by the speed of the shaft the sensor sits on
         own_rpm = speeds[point.shaft] * 60 if point is not None else speed.speed_hz * 60
-        kg, views, env_sig, env_fs = _envelopes(a, fs, fastest)
+        kg, views, env_sig, env_fs = envelopes[ch.name]
         impacts = impact_train(env_sig, env_fs, min(candidates), max(candidates)) if env_sig is not None else None
         channels.append(ChannelAnalysis(
             channel=ch, point=point, fs_hz=fs, accel=a,
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
             levels=levels_of(a, iso[ch.name], fs, "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
-            synchronous=MappingProxyType(_synchronous(a, fs, rates, reading.duration_s)),
+            synchronous=MappingProxyType(_synchronous(a, fs, rates, reading.duration_s, spectra[ch.name])),
             issues=tuple(reading.issues_for(ch.name)),
         ))
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),
-                    MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels))
+                    MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels),
+                    reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check))

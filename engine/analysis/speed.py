@@ -1,75 +1,164 @@
-"""Running-speed refinement: the true 1X near the nominal speed, from its harmonics.
+"""Running speed from the signal: how far the machine's speed is from the stated or nominal one.
 
-An induction motor's speed moves with load (slip), and a tach may be absent.
-The search scores every candidate speed within ``search_fraction`` of the
-nominal by how far its first harmonics stand above the local noise floor (a
-harmonic comb), then refines the winner from the interpolated frequencies
-of the harmonics it found, weighting higher harmonics more because they
-resolve speed more finely (common practice in order tracking).
+A stated speed (a tach reading written down, a sidecar, a nameplate) can be
+several percent off, and an induction motor's speed moves with load (slip).
+All shafts of a drive train turn in fixed ratios, so one scale factor s moves
+every shaft together: the search scores each candidate s within
+``search_fraction`` of 1 by how far the first harmonics of every shaft at s
+times its nominal speed stand above the local floor (a harmonic comb over the
+whole train, so one shaft's 3X cannot be taken for another's 1X), then refines
+s from the interpolated frequencies of the harmonics it found, weighting
+higher harmonics more because they resolve speed more finely (common
+practice in order tracking). Harmonics whose search window holds a line
+frequency harmonic of a motor (which a slipping rotor's harmonics cross) are
+left out.
+
+When no shaft line stands out, the sharpest bearing-tone family of the
+squared envelope spectrum can give the speed instead (``speed_from_tones``),
+less exactly: bearings slip 1-2 % against their kinematic rates.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Mapping
 
 import numpy as np
 
-from .peaks import noise_floor, peak_near
+from .peaks import noise_floor, peak_near, peaks_near
 from .spectrum import Spectrum
 
 MIN_HARMONIC_SNR = 3.0
+HARMONICS = 5
+HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and none at 1X
 
 
 @dataclass(frozen=True)
 class SpeedEstimate:
     speed_hz: float
     nominal_hz: float
-    harmonics_found: tuple[int, ...]   # which orders stood above the floor
-    refined: bool                      # False: no harmonic found, nominal kept
+    harmonics_found: tuple[int, ...]   # which orders of the reference shaft stood above the floor
+    refined: bool                      # the speed was measured from 1X harmonics
+    source: str = "1X harmonics"       # 1X harmonics, bearing tones, or stated (nothing found)
+    lines_found: int = 0               # harmonic lines of all shafts that agreed
 
     @property
     def speed_rpm(self) -> float:
         return self.speed_hz * 60.0
 
 
-def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: float = 0.05,
-                         harmonics: int = 5, exclude_hz=()) -> SpeedEstimate:
-    """Find the shaft speed near ``nominal_hz`` whose harmonics best explain the spectrum.
-
-    Harmonic k counts with weight 1/k, so 1X leads. A harmonic whose search
-    range holds one of ``exclude_hz`` (line-frequency harmonics of a motor,
-    which a slipping rotor's harmonics cross) is left out, since it would pull
-    the speed towards the line.
-    """
+def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: float, exclude_hz) -> tuple:
+    """(best scale, lines found, weights) of a harmonic comb over ``targets`` (Hz at scale 1, order)."""
     amp = spec.amplitude
     df = spec.resolution_hz
-    orders = np.arange(1, harmonics + 1)
-    orders = orders[orders * nominal_hz * (1 + search_fraction) < spec.fmax_hz]
     excluded = np.asarray(exclude_hz, dtype=float)
-    if excluded.size:
-        reach = orders[:, None] * nominal_hz * search_fraction + 2 * df
-        clash = np.any(np.abs(orders[:, None] * nominal_hz - excluded[None, :]) <= reach, axis=1)
-        orders = orders[~clash | (orders == 1)]
-    if len(orders) == 0:
-        return SpeedEstimate(nominal_hz, nominal_hz, (), False)
-    floors = {k: max(noise_floor(spec, int(round(k * nominal_hz / df)), half_width=50), 1e-300)
-              for k in orders}
-    step = df / (4 * orders[-1])
-    candidates = np.arange(nominal_hz * (1 - search_fraction), nominal_hz * (1 + search_fraction) + step, step)
-    score = np.zeros(len(candidates))
-    for k in orders:
-        lines = np.clip(np.rint(k * candidates / df).astype(int), 1, len(amp) - 2)
-        local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
-        score += np.log1p(local / floors[k]) / k
-    best = float(candidates[np.argmax(score)])
-    estimates, weights, found = [], [], []
-    for k in orders:
-        peak = peak_near(spec, k * best, tolerance_hz=1.5 * df)
-        if peak is None or peak.amplitude / floors[k] < MIN_HARMONIC_SNR:
+    kept = []
+    for hz, k in targets:
+        if hz * (1 + search_fraction) >= spec.fmax_hz:
             continue
-        estimates.append(peak.freq_hz / k)
-        weights.append(k * k * min(peak.amplitude / floors[k], 100.0))
-        found.append(int(k))
-    if not found:
-        return SpeedEstimate(nominal_hz, nominal_hz, (), False)
-    return SpeedEstimate(float(np.average(estimates, weights=weights)), nominal_hz, tuple(found), True)
+        if excluded.size and k > 1 and np.any(np.abs(hz - excluded) <= hz * search_fraction + 2 * df):
+            continue
+        kept.append((hz, k))
+    if not kept:
+        return 1.0, [], []
+    freqs = np.array([hz for hz, _ in kept])
+    orders = np.array([k for _, k in kept], dtype=float)
+    floors = np.array([max(noise_floor(spec, int(round(f / df)), half_width=50), 1e-300) for f in freqs])
+    step = df / (4 * freqs.max())
+    scales = np.arange(1 - search_fraction, 1 + search_fraction + step, step)
+    lines = np.clip(np.rint(np.outer(scales, freqs) / df).astype(int), 1, len(amp) - 2)
+    local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
+    score = (np.log1p(local / floors[None, :]) / orders[None, :]).sum(axis=1)
+    best = float(scales[np.argmax(score)])
+    found = peaks_near(spec, freqs * best, 1.5 * df)
+    estimates, weights, hits = [], [], []
+    for i, (hz, k) in enumerate(kept):
+        if not found.found[i] or found.amplitude[i] / floors[i] < MIN_HARMONIC_SNR:
+            continue
+        estimates.append(found.freq_hz[i] / hz)
+        weights.append(orders[i] ** 2 * min(found.amplitude[i] / floors[i], 100.0))
+        hits.append(i)
+    if not hits:
+        return best, [], []
+    return float(np.average(estimates, weights=weights)), [kept[i] for i in hits], weights
+
+
+def _distinguishable(targets: list[tuple[float, int]], search_fraction: float, df: float) -> list:
+    """Harmonics no other shaft's harmonic of lower (or equal) order can be taken for.
+
+    Two harmonics closer than the search window could both claim one line at
+    a wrong scale (a fan's 3X 3 % above its motor's 1X): the higher order of
+    the two is left out, so each line speaks for one shaft.
+    """
+    targets = sorted(set(targets), key=lambda t: (t[1], t[0]))
+    kept: list[tuple[float, int]] = []
+    for hz, k in targets:
+        window = 2 * search_fraction * hz + 3 * df
+        if all(abs(hz - other) > window for other, _ in kept):
+            kept.append((hz, k))
+    return sorted(kept)
+
+
+def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str,
+                  search_fraction: float = 0.05, exclude_hz=()) -> SpeedEstimate:
+    """The speed of ``reference`` that best explains every shaft's harmonics in ``spec``.
+
+    ``shafts_hz`` holds every shaft's nominal (or stated) speed; shafts turning
+    at the same speed count once.
+    """
+    distinct = sorted({round(hz, 9) for hz in shafts_hz.values()})
+    targets = _distinguishable([(k * hz, k) for hz in distinct for k in range(1, HARMONICS + 1)],
+                               search_fraction, spec.resolution_hz)
+    scale, hits, _ = _comb(spec, targets, search_fraction, exclude_hz)
+    nominal = shafts_hz[reference]
+    if not hits:
+        return SpeedEstimate(nominal, nominal, (), False, "stated", 0)
+    own = tuple(sorted({k for hz, k in hits if abs(hz / k - nominal) <= 1e-9 * nominal}))
+    return SpeedEstimate(scale * nominal, nominal, own, True, "1X harmonics", len(hits))
+
+
+def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: float = 0.05,
+                         harmonics: int = HARMONICS, exclude_hz=()) -> SpeedEstimate:
+    """Find the shaft speed near ``nominal_hz`` whose harmonics best explain the spectrum."""
+    return refine_speeds(spec, {"shaft": nominal_hz}, "shaft", search_fraction, exclude_hz)
+
+
+def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
+                     search_fraction: float = 0.05) -> SpeedEstimate | None:
+    """The reference shaft's speed from the bearing-tone family that stands out most in a squared
+    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does."""
+    best = None
+    for rate in rates_hz:
+        targets = [(k * rate, k) for k in range(1, HARMONICS + 1)]
+        scale, hits, weights = _comb(ses, targets, search_fraction, ())
+        if len(hits) >= 3 and any(k == 1 for _, k in hits):
+            strength = float(np.sum(weights))
+            if best is None or strength > best[0]:
+                best = (strength, scale, len(hits))
+    if best is None:
+        return None
+    return SpeedEstimate(best[1] * nominal_hz, nominal_hz, (), False, "bearing tones", best[2])
+
+
+def half_and_double(spec: Spectrum, speed_hz: float, search_fraction: float = 0.05) -> dict:
+    """Lines that would stand where they do if the stated sample rate (or speed) were off by two.
+
+    Returns the lines found at odd multiples of half the speed (0.5X, 1.5X,
+    2.5X, 3.5X, 4.5X), the ratio of the 0.5X line to 1X, whether 1X itself is
+    there, and how many harmonics of twice the speed stand out.
+    """
+    df = spec.resolution_hz
+    one_x = peak_near(spec, speed_hz, 1.5 * df)
+    floor_1x = noise_floor(spec, int(round(speed_hz / df)))
+    one_x_amp = one_x.amplitude if one_x is not None and one_x.amplitude >= MIN_HARMONIC_SNR * floor_1x else 0.0
+    half = speed_hz / 2
+    odd = [(k * half, k) for k in (1, 3, 5, 7, 9)]
+    found = peaks_near(spec, [hz for hz, _ in odd], [max(1.5 * df, 0.005 * hz) for hz, _ in odd])
+    floors = spec.floor_at(found.line) if len(found) else np.zeros(0)
+    clear = found.found & (found.amplitude >= MIN_HARMONIC_SNR * np.maximum(floors, 1e-300))
+    half_amp = float(found.amplitude[0]) if clear[0] else 0.0
+    doubled = [(2 * k * speed_hz, k) for k in range(1, HARMONICS + 1)]
+    _, double_hits, _ = _comb(spec, doubled, search_fraction, ())
+    return {"one_x_found": one_x_amp > 0, "half_order_lines": int(clear.sum()),
+            "half_to_one_x": half_amp / one_x_amp if one_x_amp > 0 else (HALF_WITHOUT_1X if half_amp > 0 else 0.0),
+            "double_speed_lines": len(double_hits)}

@@ -43,6 +43,7 @@ EXTRACTORS = (
     Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",),
               always="every location with several directions has its ratios"),
     Extractor("acquisition", acquisition.acquisition, ("acquisition",), always="every reading has its settings"),
+    Extractor("speed_check", acquisition.speed_check, ("speed_check",), always="every reading has a speed"),
     Extractor("data_quality", acquisition.data_quality, ("data_quality",)),
     Extractor("machine", acquisition.machine_class, ("machine",), always="every diagnosis has its machine"),
 )

@@ -72,6 +72,30 @@ def acquisition(rc: Analysis) -> list[dict]:
     }]
 
 
+def speed_check(rc: Analysis) -> list[dict]:
+    """The speed the reading states, the speed its spectrum shows, and lines that contradict both.
+
+    A sample rate or speed stated twice or half its true value moves every
+    shaft line to half or twice its order; the rules in rulebooks/reading.yaml
+    judge whether the stated values can be trusted.
+    """
+    est = rc.speed_estimate
+    stated = rc.stated_rpm or 0.0
+    measured = est.speed_hz * 60
+    against = stated or rc.nominal_rpm
+    check = rc.speed_check
+    return [{
+        "kind": "speed_check", "shaft": rc.speed_shaft, "stated_rpm": stated, "nominal_rpm": rc.nominal_rpm,
+        "measured_rpm": measured, "source": est.source, "harmonics": est.lines_found,
+        "deviation_pct": 100.0 * (measured - against) / against if against > 0 else 0.0,
+        "abs_deviation_pct": abs(100.0 * (measured - against) / against) if against > 0 else 0.0,
+        "one_x_found": bool(check.get("one_x_found", False)),
+        "half_order_lines": int(check.get("half_order_lines", 0)),
+        "half_to_one_x": float(check.get("half_to_one_x", 0.0)),
+        "double_speed_lines": int(check.get("double_speed_lines", 0)),
+    }]
+
+
 def data_quality(rc: Analysis) -> list[dict]:
     """One fact per quality issue the reader's gates found."""
     return [{"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
