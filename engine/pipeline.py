@@ -11,7 +11,7 @@ from dataclasses import dataclass
 from .advice import Advice, advise
 from .evidence import build_contexts, run_extractors
 from .machine import Machine
-from .readings import Reading
+from .readings import Reading, check_record_length
 from .reasoning import Reasoner, Reasoning
 
 
@@ -28,6 +28,7 @@ class Diagnosis:
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
              plots: bool = False) -> Diagnosis:
     """Diagnose ``reading`` of ``machine``; ``plots`` also draws the report's SVG figures."""
+    check_record_length(reading, machine)
     rc = build_contexts(reading, machine)
     facts = run_extractors(rc)
     reasoning = reasoner.reason(facts)

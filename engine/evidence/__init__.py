@@ -14,7 +14,7 @@ from typing import Callable
 import numpy as np
 
 from ..machine import Machine
-from ..readings import Reading
+from ..readings import Reading, check_record_length
 from . import acquisition, envelope, impacts, levels, sidebands, tones
 from .context import ReadingContext, build_contexts
 from .vocabulary import FACTS, fields_of
@@ -70,6 +70,7 @@ def run_extractors(rc: ReadingContext, extractors=EXTRACTORS) -> list[dict]:
 
 def extract_evidence(reading: Reading, machine: Machine) -> list[dict]:
     """Every evidence fact for ``reading`` of ``machine``."""
+    check_record_length(reading, machine)
     return run_extractors(build_contexts(reading, machine))
 
 
