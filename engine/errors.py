@@ -40,6 +40,11 @@ class UsageError(TellwaveError):
     exit_code = 2
 
 
+class OutputError(UsageError):
+    """An output file or folder cannot be written where the command line says (exit code 2):
+    an empty name, a folder, a link or device, one of the run's inputs, no permission."""
+
+
 class MachineError(TellwaveError):
     """A machine description is missing, malformed or inconsistent."""
 
