@@ -19,6 +19,8 @@ from .yamlfile import YamlDocument, first_problem, read_yaml
 
 ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
+# quality issues that make a channel's level meaningless: it gets no zone and no severity
+LEVEL_UNTRUSTED = ("implausible_level", "implausible_spectrum")
 
 
 @dataclass(frozen=True)
@@ -179,9 +181,10 @@ def advise(machine: Machine, facts: list[dict], reasoning: Reasoning, data: dict
     data = data or load_advice()
     urgencies = _urgencies(data)
     scale = zone_scale(machine, data)
+    untrusted = {f["channel"] for f in facts if f["kind"] == "data_quality" and f["issue"] in LEVEL_UNTRUSTED}
     zones = tuple(ZoneReading(f["channel"], f["point"], f["location"], f["velocity_rms_mm_s"],
                               zone_of(f["velocity_rms_mm_s"], scale), f["band_truncated"])
-                  for f in facts if f["kind"] == "overall")
+                  for f in facts if f["kind"] == "overall" and f["channel"] not in untrusted)
     worst = max((z.zone for z in zones), default=None)
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]

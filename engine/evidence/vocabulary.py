@@ -148,7 +148,8 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
     },
     "data_quality": {
         "channel": ("string", "channel name"),
-        "issue": ("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, too_short"),
+        "issue": ("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, out_of_range, "
+                             "implausible_level, implausible_spectrum, too_short"),
         "value": ("number", "size of the problem (its unit depends on the issue)"),
         "blocking": ("boolean", "the channel could not be analysed"),
     },
