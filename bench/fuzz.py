@@ -105,7 +105,9 @@ def make_input(seed: int, i: int, folder: Path) -> tuple[str, list[str], list[Pa
         site = write_seed("site", folder, "site")
         _mutate_yaml(rng, site)
     output = folder / "out" / "report.txt"
-    argv = random_command(rng, reading, machine, site, output)
+    fifo = folder / "fifo"
+    os.mkfifo(fifo)         # a target that is not a regular file, inside the scratch folder
+    argv = random_command(rng, reading, machine, site, output, fifo)
     if category == "machine" and rng.random() < 0.5:
         argv = ["frequencies", str(machine)] + (["--json"] if rng.random() < 0.5 else [])
     inputs = [p for p in folder.rglob("*") if p.is_file()]

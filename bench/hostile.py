@@ -325,8 +325,13 @@ def option_values(rng: random.Random) -> list[str]:
 
 
 def random_command(rng: random.Random, reading: Path | None, machine: Path | None, site: Path | None,
-                   output: Path) -> list[str]:
-    """One command line over the given files, as a careless user might type it."""
+                   output: Path, special: Path | None = None) -> list[str]:
+    """One command line over the given files, as a careless user might type it.
+
+    ``special`` is a file that is not a regular file (a FIFO in the scratch folder) to offer as
+    an output. Never name a real device here: code that replaces a device node with a file
+    does it to the whole machine when run as root.
+    """
     machine_arg = str(machine or rng.choice(MACHINES))
     choice = rng.choice(["frequencies", "reading", "evidence", "diagnose", "rulebook"] if reading else
                         ["frequencies", "rulebook"])
@@ -350,7 +355,7 @@ def random_command(rng: random.Random, reading: Path | None, machine: Path | Non
         argv += ["--site", str(site)]
     if rng.random() < 0.4:
         argv += ["-o", rng.choice([str(output), str(reading), "", str(output.parent), str(output) + "/",
-                                   "/dev/null", str(output.parent / "missing" / "deep" / "r.txt")])]
+                                   str(special or output), str(output.parent / "missing" / "deep" / "r.txt")])]
     return argv
 
 

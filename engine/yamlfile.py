@@ -31,7 +31,6 @@ import stat
 from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
-from pathlib import Path
 from typing import Any
 
 import jsonschema

@@ -13,7 +13,6 @@ import json
 import os
 import stat
 import time
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -32,7 +31,7 @@ from engine.reasoning import load_rulebook
 from engine.report import render, write_atomically
 from engine.yamlfile import MAX_BYTES
 
-from bench.hostile import seed_signal, strict_json, write_reading
+from bench.hostile import seed_signal, strict_json
 from support import CASES, tone
 
 RW2 = CASES / "machines/rw2-raw-water-pump.yaml"
@@ -356,11 +355,14 @@ def test_defect_10_symlink_is_not_replaced(tmp_path, capsys, reading_file):
     assert link.is_symlink() and real.read_text() == "the user's notes\n"
 
 
-def test_defect_10_device_node_is_not_replaced(capsys, reading_file):
-    assert stat.S_ISCHR(os.stat("/dev/null").st_mode)
-    err = one_error_line(capsys, OutputError.exit_code, ["diagnose", reading_file, "--machine", RW2, "-o", "/dev/null"])
+def test_defect_10_non_regular_target_is_not_replaced(tmp_path, capsys, reading_file):
+    # a FIFO stands for every file that is not a regular one (device nodes too: the check is the
+    # same S_ISREG); never test this on a real device, which a regression would replace as root
+    fifo = tmp_path / "pipe"
+    os.mkfifo(fifo)
+    err = one_error_line(capsys, OutputError.exit_code, ["diagnose", reading_file, "--machine", RW2, "-o", fifo])
     assert "is not a regular file" in err
-    assert stat.S_ISCHR(os.stat("/dev/null").st_mode)
+    assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
 
 
 def test_defect_10_unwritable_folder(tmp_path, capsys, reading_file, monkeypatch):
