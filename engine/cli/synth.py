@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-
 from ._common import RPM, number, say, whole
 
 MAX_SYNTH_SAMPLES = 1 << 24     # per channel: 10 min at 25.6 kHz

@@ -1,6 +1,6 @@
-"""How long a record must be before the analysis can say anything about a machine.
+"""How long, and how fast, a record must be before the analysis can say anything about a machine.
 
-Two limits, each derived from what the analysis needs:
+Three limits, each derived from what the analysis needs:
 
 - ``MIN_SAMPLES``: the kurtogram's widest band (level 0, the whole 0 to fs/2)
   needs 256 complex samples for a stable kurtosis (``min_samples_per_band``
@@ -13,6 +13,10 @@ Two limits, each derived from what the analysis needs:
   record cannot be analysed for this machine at all. From 2 to 10 revolutions
   it can, and the acquisition rules withhold the conclusion (10 revolutions
   of the slowest shaft is common practice for 1X resolution and averaging).
+- the usable Fmax (sample rate / 2.56, common practice for the anti-alias
+  filter's roll-off) must reach 1X of the fastest shaft: below it the spectrum
+  holds nothing of that shaft and a revolution holds less than one sample.
+  Above it and below 3X the acquisition rules withhold the conclusion.
 """
 
 from __future__ import annotations
@@ -22,15 +26,25 @@ from ..errors import ReadingError
 MIN_SAMPLES = 256
 MIN_REVOLUTIONS_TO_ANALYSE = 2.0
 RECOMMENDED_REVOLUTIONS = 10.0
+FMAX_FACTOR = 2.56
 
 
 def check_record_length(reading, machine) -> None:
-    """Raise ``ReadingError`` if ``reading`` is too short to analyse for ``machine`` at all.
+    """Raise ``ReadingError`` if ``reading`` is too short or sampled too slowly to analyse for
+    ``machine`` at all.
 
-    The slowest shaft counts, at the reading's measured speed when it states
-    one. The message gives the record length that would do.
+    The slowest shaft counts for the length and the fastest for the sample
+    rate, at the reading's measured speed when it states one. The message
+    gives the record length or sample rate that would do.
     """
     speeds = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)
+    fast, fastest_hz = max(speeds.items(), key=lambda item: item[1])
+    fmax = reading.fs_hz / FMAX_FACTOR
+    if fmax < fastest_hz:
+        raise ReadingError(
+            f"the sample rate of {reading.fs_hz:g} Hz gives an Fmax of {fmax:.3g} Hz, below 1X of shaft {fast!r} "
+            f"({fastest_hz:.4g} Hz, the fastest): nothing about it can be seen; sample at "
+            f"{FMAX_FACTOR * fastest_hz:.4g} Hz at the very least, far more to see its faults", path=reading.source)
     shaft, slowest_hz = min(speeds.items(), key=lambda item: item[1])
     revolutions = reading.duration_s * slowest_hz
     if revolutions >= MIN_REVOLUTIONS_TO_ANALYSE:

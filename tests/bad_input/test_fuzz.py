@@ -100,7 +100,7 @@ def check_reading(path: Path, reasoner=None) -> None:
             refused_in_one_line(exc, path)
 
 
-@fuzz_settings(150)
+@fuzz_settings(250)
 @given(kind=st.sampled_from(READING_KINDS), ops=byte_ops)
 def test_mutated_reading_files(seeds, kind, ops):
     with tempfile.TemporaryDirectory() as tmp:
@@ -117,7 +117,7 @@ odd_arrays = hnp.arrays(
                     hnp.array_shapes(min_dims=0, max_dims=3, min_side=0, max_side=8)))
 
 
-@fuzz_settings(120)
+@fuzz_settings(200)
 @given(kind=st.sampled_from(["npy", "npz", "mat", "wavf", "wav16", "csv"]), arr=odd_arrays,
        scale=st.sampled_from([1.0, 1e-300, 1e300, 1e-12, 1e12]),
        fs=st.sampled_from([8192.0, 100.0, 6.0, 51200.0, 2e6]))
@@ -126,6 +126,23 @@ def test_odd_arrays_in_every_format(reasoner, kind, arr, scale, fs):
         values = arr * scale if arr.dtype.kind in "fc" else arr
         path = write_array(kind, Path(tmp) / f"r{SUFFIX[kind]}", values, fs)
         check_reading(path, reasoner)
+
+
+@fuzz_settings(60)
+@given(x=hnp.arrays(np.float64, st.integers(256, 4096),
+                    elements=st.floats(-1e3, 1e3, allow_nan=False, allow_infinity=False)),
+       scale=st.sampled_from([1.0, 1e-3, 1e3, 1e-6]), fs=st.sampled_from([2560.0, 8192.0, 25600.0]),
+       machine=st.sampled_from(MACHINES), kind=st.sampled_from(["npz", "csv", "wavf"]))
+def test_odd_signals_long_enough_to_analyse(reasoner, x, scale, fs, machine, kind):
+    """Finite records of analysable length but odd content (constants, spikes, steps, huge
+    dynamic range): diagnosed, or refused as a reading; never a traceback or a warning."""
+    with tempfile.TemporaryDirectory() as tmp:
+        path = write_array(kind, Path(tmp) / f"r{SUFFIX[kind]}", x * scale, fs)
+        try:
+            reading = load_reading(path)
+            diagnose(reading, load_machine(machine), reasoner)
+        except ReadingError as exc:
+            refused_in_one_line(exc, path, sidecar_path(path))
 
 
 def check_machine(path: Path) -> None:
@@ -139,7 +156,7 @@ def check_machine(path: Path) -> None:
     strict_json(dumps([f.as_dict() for f in lines]))
 
 
-@fuzz_settings(150)
+@fuzz_settings(200)
 @given(source=st.sampled_from(MACHINES), ops=tree_ops)
 def test_machine_files_with_odd_values(source, ops):
     with tempfile.TemporaryDirectory() as tmp:
@@ -148,7 +165,7 @@ def test_machine_files_with_odd_values(source, ops):
         check_machine(path)
 
 
-@fuzz_settings(150)
+@fuzz_settings(200)
 @given(source=st.sampled_from(MACHINES), ops=byte_ops)
 def test_machine_files_with_mutated_bytes(source, ops):
     with tempfile.TemporaryDirectory() as tmp:
@@ -157,7 +174,7 @@ def test_machine_files_with_mutated_bytes(source, ops):
         check_machine(path)
 
 
-@fuzz_settings(100)
+@fuzz_settings(150)
 @given(values=tree_ops, raw=byte_ops, as_bytes=st.booleans())
 def test_sidecars(seeds, values, raw, as_bytes):
     with tempfile.TemporaryDirectory() as tmp:
@@ -169,7 +186,7 @@ def test_sidecars(seeds, values, raw, as_bytes):
         check_reading(side.with_name(side.name.removesuffix(".yaml")))
 
 
-@fuzz_settings(40)
+@fuzz_settings(60)
 @given(values=tree_ops, raw=byte_ops, as_bytes=st.booleans())
 def test_site_overlays(seeds, values, raw, as_bytes):
     with tempfile.TemporaryDirectory() as tmp:
@@ -183,7 +200,7 @@ def test_site_overlays(seeds, values, raw, as_bytes):
             refused_in_one_line(exc, site, *[p for p in (CASES.parent / "rulebooks").glob("*.yaml")])
 
 
-@fuzz_settings(40)
+@fuzz_settings(150)
 @given(i=st.integers(0, 10 ** 6))
 def test_command_line(i):
     """Random commands over mutated files through ``engine.cli.main`` (bench.fuzz's checks)."""

@@ -212,7 +212,8 @@ def test_defect_06_min_samples_is_enough_for_the_analysis(n, fs, machine, seed):
     try:
         diagnose(reading, load_machine(machine), shared_reasoner())
     except ReadingError as exc:
-        assert "revolutions of shaft" in str(exc) or "no channel can be analysed" in str(exc)
+        assert any(words in str(exc) for words in ("revolutions of shaft", "below 1X of shaft",
+                                                     "no channel can be analysed"))
 
 
 # ------------------------------------------------------------------ 7. absurd values at the edge
@@ -246,6 +247,16 @@ def test_defect_07_sample_rate_of_one_hertz(tmp_path, capsys):
     err = one_error_line(capsys, ReadingError.exit_code,
                          ["diagnose", path, "--machine", RW2, "--sample-rate", "1", "--format", "html"])
     assert "sample rate of 1 Hz is outside 5.12 Hz to 1e+07 Hz" in err
+
+
+def test_defect_07_sample_rate_below_the_fastest_shaft(tmp_path, capsys):
+    # RW-2's motor turns at 24.77 Hz; at 50 Hz the usable Fmax (50 / 2.56 = 19.5 Hz) is below its 1X,
+    # and a revolution of the waveform plot would hold less than one sample
+    path = npz_reading(tmp_path / "r.npz", seed_signal(n=1024), fs=50.0)
+    err = one_error_line(capsys, ReadingError.exit_code,
+                         ["diagnose", path, "--machine", RW2, "--format", "html", "-o", tmp_path / "r.html"])
+    assert "Fmax of 19.5 Hz, below 1X of shaft 'motor' (24.77 Hz, the fastest)" in err
+    assert not (tmp_path / "r.html").exists()
 
 
 @pytest.mark.parametrize("option, value", [("--rpm", "inf"), ("--rpm", "nan"), ("--rpm", "-5"), ("--rpm", "1e300"),
