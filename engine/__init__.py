@@ -7,7 +7,7 @@ pay for numpy and scipy.
 __version__ = "0.2.0"
 
 _EXPORTS = {
-    "DataQualityWarning": "errors", "MachineError": "errors", "ReadingError": "errors",
+    "DataQualityWarning": "errors", "MachineError": "errors", "OutputError": "errors", "ReadingError": "errors",
     "RulebookError": "errors", "TellwaveError": "errors", "UsageError": "errors",
     "ReasoningError": "errors",
     "ForcingFrequency": "kinematics", "bearing_multiples": "kinematics", "forcing_frequencies": "kinematics",

@@ -23,6 +23,8 @@ from .yamlfile import YamlDocument, first_problem, read_yaml
 
 ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
+# quality issues that make a channel's level meaningless: it gets no zone and no severity
+LEVEL_UNTRUSTED = ("implausible_level", "implausible_spectrum")
 
 
 @dataclass(frozen=True)
@@ -174,8 +176,11 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
     data = data or load_advice()
     urgencies = _urgencies(data)
     scale = zone_scale(machine, data)
+    untrusted = {f["channel"] for f in evidence.facts
+                 if f["kind"] == "data_quality" and f["issue"] in LEVEL_UNTRUSTED}
     zones = tuple(ZoneReading(lv.channel, lv.point, lv.location, lv.velocity_rms_mm_s,
-                              zone_of(lv.velocity_rms_mm_s, scale), lv.band_truncated) for lv in evidence.levels)
+                              zone_of(lv.velocity_rms_mm_s, scale), lv.band_truncated)
+                  for lv in evidence.levels if lv.channel not in untrusted)
     worst = max((z.zone for z in zones), default=None)
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]

@@ -7,7 +7,8 @@ and exit without a traceback. Anything that is not a ``TellwaveError`` is a bug.
 Exit codes: 0 done; 1 a case failed (``rulebook test``, ``demo``); 2 bad command
 line or case file; 3 bad machine file; 4 bad reading file; 5 bad rulebook or
 advice data; 6 a rule failed while running; 7 diagnosed, but the reading cannot
-support a conclusion (``EXIT_WITHHELD``: not an error, a result).
+support a conclusion (``EXIT_WITHHELD``: not an error, a result); 130 interrupted
+(Ctrl-C, ``engine.cli.EXIT_INTERRUPTED``).
 """
 
 from __future__ import annotations
@@ -38,6 +39,11 @@ class UsageError(TellwaveError):
     """The command line itself is wrong (a missing option, a bad value)."""
 
     exit_code = 2
+
+
+class OutputError(UsageError):
+    """An output file or folder cannot be written where the command line says (exit code 2):
+    an empty name, a folder, a link or device, one of the run's inputs, no permission."""
 
 
 class MachineError(TellwaveError):

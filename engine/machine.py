@@ -19,6 +19,9 @@ from .errors import MachineError
 from .yamlfile import YamlDocument, read_yaml, validate
 
 RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 %
+MIN_SPEED_RPM = 0.1       # slower than a kiln or a thickener rake: not a machine this tool is for
+MAX_SPEED_RPM = 600_000   # the schema's limit on a stated speed, also for derived ones
+MIN_ELEMENT_TO_PITCH = 0.01  # d/D of real rolling bearings is about 0.1 to 0.4 (common practice)
 
 
 @dataclass(frozen=True)
@@ -108,8 +111,7 @@ class Machine:
         shaft = shaft or self.driver_shaft
         if shaft not in speeds:
             raise MachineError(f"no shaft {shaft!r}; shafts are {', '.join(speeds)}", path=self.source)
-        if not speed_rpm > 0:
-            raise MachineError(f"speed must be positive, got {speed_rpm} rpm", path=self.source)
+        check_speed_rpm(speed_rpm, self.source)
         scale = (speed_rpm / 60.0) / speeds[shaft]
         return {name: hz * scale for name, hz in speeds.items()}
 
@@ -119,6 +121,18 @@ class Machine:
                 return p
         known = ", ".join(p.id for p in self.points) or "none"
         raise MachineError(f"no measurement point {point_id!r}; points are {known}", path=self.source)
+
+
+def check_speed_rpm(speed_rpm, source: str | None = None, error=MachineError) -> float:
+    """``speed_rpm`` as a float if it is a plausible shaft speed, else ``error`` saying why."""
+    try:
+        rpm = float(speed_rpm)
+    except (TypeError, ValueError):
+        raise error(f"speed must be a number of rpm, got {speed_rpm!r}", path=source) from None
+    if not (MIN_SPEED_RPM <= rpm <= MAX_SPEED_RPM):
+        raise error(f"speed must be between {MIN_SPEED_RPM:g} and {MAX_SPEED_RPM:g} rpm, got {rpm:g} rpm",
+                    path=source)
+    return rpm
 
 
 def load_machine(path) -> Machine:
@@ -146,9 +160,13 @@ def _build(doc: YamlDocument) -> Machine:
         if "element_diameter" in b and b["element_diameter"] >= b["pitch_diameter"]:
             fail(("bearings", i, "element_diameter"),
                  "rolling element diameter must be smaller than the pitch diameter")
+        if "element_diameter" in b and b["element_diameter"] < MIN_ELEMENT_TO_PITCH * b["pitch_diameter"]:
+            fail(("bearings", i, "element_diameter"),
+                 f"rolling element diameter below {MIN_ELEMENT_TO_PITCH:.0%} of the pitch diameter: "
+                 "check both are in the same unit")
         bearings.append(Bearing(
             id=b["id"], shaft=b["shaft"], model=b.get("model"),
-            rolling_elements=b.get("rolling_elements"),
+            rolling_elements=_whole(b.get("rolling_elements")),
             element_diameter=b.get("element_diameter"), pitch_diameter=b.get("pitch_diameter"),
             contact_angle_deg=float(b.get("contact_angle_deg", 0.0)),
             multiples=MappingProxyType(dict(b["multiples"])) if "multiples" in b else None,
@@ -159,8 +177,8 @@ def _build(doc: YamlDocument) -> Machine:
         need_shaft(g["driven"]["shaft"], ("gears", i, "driven", "shaft"))
         if g["driving"]["shaft"] == g["driven"]["shaft"]:
             fail(("gears", i, "driven", "shaft"), "a gear mesh joins two different shafts")
-        gears.append(GearMesh(g["id"], g["driving"]["shaft"], g["driving"]["teeth"],
-                              g["driven"]["shaft"], g["driven"]["teeth"]))
+        gears.append(GearMesh(g["id"], g["driving"]["shaft"], _whole(g["driving"]["teeth"]),
+                              g["driven"]["shaft"], _whole(g["driven"]["teeth"])))
     belts = []
     for i, b in enumerate(data.get("belts", [])):
         need_shaft(b["driving"]["shaft"], ("belts", i, "driving", "shaft"))
@@ -171,12 +189,12 @@ def _build(doc: YamlDocument) -> Machine:
     rotors = []
     for i, r in enumerate(data.get("rotors", [])):
         need_shaft(r["shaft"], ("rotors", i, "shaft"))
-        rotors.append(Rotor(r["id"], r["shaft"], r["type"], r["vanes"]))
+        rotors.append(Rotor(r["id"], r["shaft"], r["type"], _whole(r["vanes"])))
     motors = []
     for i, m in enumerate(data.get("motors", [])):
         need_shaft(m["shaft"], ("motors", i, "shaft"))
-        motors.append(Motor(m["id"], m["shaft"], float(m["line_frequency_hz"]), m["poles"],
-                            m.get("rotor_bars")))
+        motors.append(Motor(m["id"], m["shaft"], float(m["line_frequency_hz"]), _whole(m["poles"]),
+                            _whole(m.get("rotor_bars"))))
 
     speeds, driver = _resolve_speeds(data["shafts"], gears, belts, fail)
 
@@ -194,13 +212,18 @@ def _build(doc: YamlDocument) -> Machine:
     descriptions = {s["id"]: s["description"] for s in data["shafts"] if "description" in s}
     return Machine(
         name=data["machine"], source=doc.path, plant=data.get("plant"),
-        iso_group=data.get("iso_group"), support=data.get("support"),
+        iso_group=_whole(data.get("iso_group")), support=data.get("support"),
         lubrication=data.get("lubrication"),
         shaft_speeds_hz=MappingProxyType(speeds), driver_shaft=driver,
         bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions),
     )
+
+
+def _whole(value):
+    """A count the schema checked as an integer; JSON Schema also takes 23.0, Python wants 23."""
+    return None if value is None else int(value)
 
 
 def _failer(doc: YamlDocument):
@@ -281,4 +304,9 @@ def _resolve_speeds(shaft_specs, gears, belts, fail) -> tuple[dict[str, float], 
     stated = [s["id"] for s in shaft_specs if "speed_rpm" in s or "speed_hz" in s]
     if not stated:
         fail(("shafts",), "no shaft states its speed (speed_rpm or speed_hz)")
+    for i, spec in enumerate(shaft_specs):
+        rpm = speeds[spec["id"]] * 60.0
+        if not (MIN_SPEED_RPM <= rpm <= MAX_SPEED_RPM):
+            fail(("shafts", i), f"shaft {spec['id']!r} comes out at {rpm:.4g} rpm, outside "
+                 f"{MIN_SPEED_RPM:g} to {MAX_SPEED_RPM:g} rpm: check its ratios, teeth and sheave diameters")
     return speeds, stated[0]

@@ -14,7 +14,7 @@ from .analysis import analyse
 from .analysis.plotdata import PlotData, plot_data
 from .evidence import Evidence, run_extractors, summarise
 from .machine import Machine
-from .readings import Reading
+from .readings import Reading, check_record_length
 from .reasoning import Reasoner, Reasoning
 
 
@@ -52,6 +52,7 @@ def reading_info(reading: Reading) -> ReadingInfo:
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
              plots: bool = False) -> Diagnosis:
     """Diagnose ``reading`` of ``machine``; ``plots`` also cuts the data the report's figures draw."""
+    check_record_length(reading, machine)
     analysis = analyse(reading, machine)
     evidence = summarise(run_extractors(analysis))
     reasoning = reasoner.reason(list(evidence.facts))

@@ -40,6 +40,7 @@ import yaml
 from .errors import UsageError
 from .kinematics import bearing_multiples
 from .machine import Machine, Point
+from .outfile import check_target, staged, write_whole
 from .units import STANDARD_GRAVITY_M_S2
 
 if TYPE_CHECKING:
@@ -342,6 +343,10 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
         raise UsageError(f"stage must be 1 to 4, got {stage}")
     if not machine.points:
         raise UsageError(f"machine {machine.name!r} has no measurement points to simulate")
+    unknown = [p for p in points or [] if p not in {q.id for q in machine.points}]
+    if unknown or points == []:
+        raise UsageError(f"no measurement point {', '.join(map(repr, unknown)) or 'given'}; points are "
+                         f"{', '.join(p.id for p in machine.points)}")
     nominal_rpm = machine.shaft_speeds_hz[machine.driver_shaft] * 60
     speed_rpm = nominal_rpm if speed_rpm is None else float(speed_rpm)
     speeds = machine.speeds_at(speed_rpm)
@@ -436,41 +441,40 @@ def as_reading(sim: Simulation, source: str = "simulated") -> "Reading":
     return Reading(source, sim.fs_hz, channels, speed_rpm=sim.speed_rpm, quality=quality)
 
 
-def write_simulation(sim: Simulation, path) -> list[Path]:
+def write_simulation(sim: Simulation, path, inputs=()) -> list[Path]:
     """Save a simulation as a reading (.wav float32 in g, .npz or .csv) with sidecar and truth.
 
-    Returns the files written. Each is written to a temporary name first and
-    renamed, so an interrupted write leaves no half-written reading.
+    Returns the files written. Each goes through ``engine.outfile.staged``
+    (written to a temporary name, synced, renamed; never over one of
+    ``inputs``), so an interrupted write leaves no half-written reading.
     """
     path = Path(path)
     suffix = path.suffix.lower()
+    if suffix not in (".wav", ".npz", ".csv"):
+        raise UsageError(f"cannot write {suffix!r}; use .wav, .npz or .csv")
+    sidecar_file, truth_file = path.with_name(path.name + ".yaml"), path.with_name(path.name + ".truth.yaml")
+    for target in (path, sidecar_file, truth_file):
+        check_target(target, inputs)
     names = list(sim.channels)
     data_g = np.stack([sim.channels[c] / G for c in names], axis=1)
     sidecar = {"unit": "g", "speed_rpm": round(sim.speed_rpm, 3),
                "channels": [{"name": c, "point": sim.points[c].id, "direction": sim.points[c].direction}
                             for c in names]}
-    tmp = path.with_name(path.name + ".part")
-    if suffix == ".wav":
-        from scipy.io import wavfile
-        wavfile.write(tmp, int(round(sim.fs_hz)), data_g.astype(np.float32))
-        sidecar["sample_rate_hz"] = sim.fs_hz
-    elif suffix == ".npz":
-        with open(tmp, "wb") as fh:
-            np.savez(fh, **{c: data_g[:, i] for i, c in enumerate(names)},
-                     sample_rate_hz=sim.fs_hz, unit="g", speed_rpm=sim.speed_rpm)
-    elif suffix == ".csv":
-        header = f"# sample_rate_hz: {sim.fs_hz}\n# unit: g\n" + ",".join(names) + "\n"
-        body = "\n".join(",".join(f"{v:.7g}" for v in row) for row in data_g)
-        tmp.write_text(header + body + "\n")
-        sidecar["sample_rate_hz"] = sim.fs_hz
-    else:
-        raise UsageError(f"cannot write {suffix!r}; use .wav, .npz or .csv")
+    with staged(path, inputs) as tmp:
+        if suffix == ".wav":
+            from scipy.io import wavfile
+            wavfile.write(tmp, int(round(sim.fs_hz)), data_g.astype(np.float32))
+            sidecar["sample_rate_hz"] = sim.fs_hz
+        elif suffix == ".npz":
+            with open(tmp, "wb") as fh:
+                np.savez(fh, **{c: data_g[:, i] for i, c in enumerate(names)},
+                         sample_rate_hz=sim.fs_hz, unit="g", speed_rpm=sim.speed_rpm)
+        else:
+            header = f"# sample_rate_hz: {sim.fs_hz}\n# unit: g\n" + ",".join(names) + "\n"
+            body = "\n".join(",".join(f"{v:.7g}" for v in row) for row in data_g)
+            tmp.write_text(header + body + "\n")
+            sidecar["sample_rate_hz"] = sim.fs_hz
     written = [path]
-    tmp.replace(path)
-    for target, content in ((path.with_name(path.name + ".yaml"), sidecar),
-                            (path.with_name(path.name + ".truth.yaml"), sim.truth.as_dict())):
-        part = target.with_name(target.name + ".part")
-        part.write_text(yaml.safe_dump(content, sort_keys=False))
-        part.replace(target)
-        written.append(target)
+    for target, content in ((sidecar_file, sidecar), (truth_file, sim.truth.as_dict())):
+        written.append(write_whole(target, yaml.safe_dump(content, sort_keys=False), inputs))
     return written

@@ -1,29 +1,144 @@
 """YAML files checked against a JSON Schema, with errors that name the line.
 
-Machine descriptions, reading sidecars and rulebooks are all YAML written by
-people. This module loads one, remembers the line of every mapping key and list
-item, validates it with jsonschema, and turns the first problem into one
-readable sentence: ``file:line: field.path: problem``.
+Machine descriptions, reading sidecars, site overlays and rulebooks are all
+YAML written by people. This module loads one, remembers the line of every
+mapping key and list item, validates it with jsonschema, and turns the first
+problem into one readable sentence: ``file:line: field.path: problem``.
+
+Reading is guarded, because a YAML file can be hostile as well as careless:
+
+- scalars follow the YAML 1.2 core schema, so ``1e-3`` is the number it
+  looks like (YAML 1.1 reads it as text) and ``1:30``, ``017``, ``yes`` and
+  dates are no longer quietly turned into 90, 15, True and a date object;
+- only the JSON data model is built: mappings, lists, text, numbers, true,
+  false and null; other tags (``!!set``, ``!!binary``, ``!foo``) are refused,
+  and a tag that cannot read its value (``!!float abc``) is a plain error;
+- numbers must be finite (``.nan`` and ``.inf`` are refused) and integers
+  smaller than ``MAX_INTEGER``;
+- a file larger than ``MAX_BYTES``, nested deeper than ``MAX_DEPTH`` or whose
+  aliases expand to more than ``MAX_NODES`` nodes is refused before anything
+  walks it, and an alias that contains itself is refused outright.
 """
 
 from __future__ import annotations
 
 import difflib
 import json
+import math
+import os
+import re
+import stat
 from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
-from pathlib import Path
 from typing import Any
 
 import jsonschema
 import yaml
+from yaml.constructor import ConstructorError, SafeConstructor
 
 from .errors import TellwaveError
 
+MAX_BYTES = 1 << 20       # 1 MiB; the largest shipped rulebook is about 15 kB
+MAX_NODES = 100_000       # nodes once every alias is expanded (a shipped rulebook has a few thousand)
+MAX_DEPTH = 64            # nesting of mappings and lists
+MAX_INTEGER = 10 ** 15    # larger integers lose precision as floats and mean nothing physical
 
 # libyaml when the install has it: rulebooks are parsed on every run
-_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+_BASE = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+_INT = "tag:yaml.org,2002:int"
+_FLOAT = "tag:yaml.org,2002:float"
+_BOOL = "tag:yaml.org,2002:bool"
+_NULL = "tag:yaml.org,2002:null"
+_STR = "tag:yaml.org,2002:str"
+_SEQ = "tag:yaml.org,2002:seq"
+_MAP = "tag:yaml.org,2002:map"
+_TIMESTAMP = "tag:yaml.org,2002:timestamp"
+_MERGE = "tag:yaml.org,2002:merge"
+
+# YAML 1.2.2, section 10.3.2 (core schema tag resolution)
+_INT_RE = re.compile(r"^(?:[-+]?[0-9]+|0o[0-7]+|0x[0-9a-fA-F]+)$")
+_FLOAT_RE = re.compile(r"^(?:[-+]?(?:\.[0-9]+|[0-9]+(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?"
+                       r"|[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$")
+_BOOL_RE = re.compile(r"^(?:true|True|TRUE|false|False|FALSE)$")
+_NULL_RE = re.compile(r"^(?:~|null|Null|NULL|)$")
+
+
+def _fail(node, problem: str):
+    raise ConstructorError(None, None, problem, node.start_mark)
+
+
+def _construct_int(loader, node) -> int:
+    text = loader.construct_scalar(node)
+    if not isinstance(text, str) or not _INT_RE.match(text.strip()):
+        _fail(node, f"cannot read {text!r} as an integer")
+    text = text.strip()
+    sign = -1 if text.startswith("-") else 1
+    body = text.lstrip("+-")
+    if body.startswith("0o"):
+        return int(body[2:], 8)
+    if body.startswith("0x"):
+        return int(body[2:], 16)
+    return sign * int(body, 10)
+
+
+def _construct_float(loader, node) -> float:
+    text = loader.construct_scalar(node)
+    if not isinstance(text, str):
+        _fail(node, f"cannot read {text!r} as a number")
+    text = text.strip()
+    if _INT_RE.match(text):
+        return float(_construct_int(loader, node))
+    if not _FLOAT_RE.match(text):
+        _fail(node, f"cannot read {text!r} as a number")
+    lowered = text.lower()
+    if lowered.endswith(".inf"):
+        return -math.inf if lowered.startswith("-") else math.inf
+    if lowered == ".nan":
+        return math.nan
+    return float(text)
+
+
+def _construct_bool(loader, node) -> bool:
+    text = loader.construct_scalar(node)
+    if not isinstance(text, str) or not _BOOL_RE.match(text):
+        _fail(node, f"cannot read {text!r} as true or false")
+    return text.lower() == "true"
+
+
+def _construct_text(loader, node) -> str:
+    """Dates and times stay the text they were written as (the JSON data model has no dates)."""
+    return str(loader.construct_scalar(node))
+
+
+def _refuse_tag(loader, node):
+    tag = node.tag.replace("tag:yaml.org,2002:", "!!")
+    _fail(node, f"the YAML tag {tag} is not supported here; write plain mappings, lists, text and numbers")
+
+
+class _Loader(_BASE):
+    """Safe loader with YAML 1.2 core-schema scalars and only JSON-model constructors."""
+
+    yaml_implicit_resolvers: dict = {}
+    yaml_constructors = {
+        _NULL: SafeConstructor.construct_yaml_null,
+        _BOOL: _construct_bool,
+        _INT: _construct_int,
+        _FLOAT: _construct_float,
+        _STR: SafeConstructor.construct_yaml_str,
+        _SEQ: SafeConstructor.construct_yaml_seq,
+        _MAP: SafeConstructor.construct_yaml_map,
+        _TIMESTAMP: _construct_text,
+        None: _refuse_tag,
+    }
+
+
+_Loader.add_implicit_resolver(_BOOL, _BOOL_RE, list("tTfF"))
+_Loader.add_implicit_resolver(_INT, _INT_RE, list("-+0123456789"))
+_Loader.add_implicit_resolver(_FLOAT, _FLOAT_RE, list("-+.0123456789"))
+_Loader.add_implicit_resolver(_NULL, _NULL_RE, ["~", "n", "N", ""])
+_Loader.add_implicit_resolver(_MERGE, re.compile(r"^(?:<<)$"), ["<"])
 
 
 @dataclass(frozen=True)
@@ -44,44 +159,159 @@ class YamlDocument:
         return self.lines.get((), None)
 
 
-def _line_map(node, prefix=(), out=None) -> dict[tuple, int]:
-    out = {} if out is None else out
-    out.setdefault(prefix, node.start_mark.line + 1)
-    if isinstance(node, yaml.MappingNode):
-        for key_node, value_node in node.value:
-            child = prefix + (key_node.value,)
-            out[child] = key_node.start_mark.line + 1
-            _line_map(value_node, child, out)
-    elif isinstance(node, yaml.SequenceNode):
-        for i, item in enumerate(node.value):
-            out[prefix + (i,)] = item.start_mark.line + 1
-            _line_map(item, prefix + (i,), out)
-    return out
+class _Refused(Exception):
+    """A guard tripped while walking the node graph: (problem, line)."""
+
+    def __init__(self, problem: str, line: int):
+        super().__init__(problem)
+        self.problem, self.line = problem, line
+
+
+def _key_of(node):
+    """The path component of a mapping key node: its text, or the integer it states."""
+    if not isinstance(node, yaml.ScalarNode):
+        return None
+    if node.tag == _INT and _INT_RE.match(node.value.strip()):
+        body = node.value.strip()
+        return int(body, 0) if body.lstrip("+-")[:2] in ("0o", "0x") else int(body)
+    return node.value
+
+
+def _walk(root) -> dict[tuple, int]:
+    """Line of every node by path, walking aliases as the data will (iteratively, bounded).
+
+    Refuses an alias inside its own anchor (the data would contain itself),
+    nesting deeper than ``MAX_DEPTH``, more than ``MAX_NODES`` nodes after
+    expansion, and a key given twice in one mapping.
+    """
+    lines: dict[tuple, int] = {}
+    count = 0
+    # each entry: (node, path, depth); on_path holds the nodes open above the current one
+    stack: list = [(root, (), 0, False)]
+    on_path: set[int] = set()
+    while stack:
+        node, path, depth, leaving = stack.pop()
+        if leaving:
+            on_path.discard(id(node))
+            continue
+        line = node.start_mark.line + 1
+        lines.setdefault(path, line)
+        count += 1
+        if count > MAX_NODES:
+            raise _Refused(f"the file expands to more than {MAX_NODES} values (aliases repeat too much)", line)
+        if isinstance(node, yaml.ScalarNode):
+            continue
+        if id(node) in on_path:
+            raise _Refused("an alias refers to a mapping or list that contains it (the data would never end)",
+                           line)
+        if depth >= MAX_DEPTH:
+            raise _Refused(f"nested more than {MAX_DEPTH} levels deep", line)
+        on_path.add(id(node))
+        stack.append((node, path, depth, True))
+        children = []
+        if isinstance(node, yaml.MappingNode):
+            seen: dict = {}
+            for key_node, value_node in node.value:
+                key = _key_of(key_node)
+                key_line = key_node.start_mark.line + 1
+                if key is not None and key != "<<":
+                    if key in seen:
+                        raise _Refused(f"key {key!r} is given twice (first on line {seen[key]})", key_line)
+                    seen[key] = key_line
+                    lines[path + (key,)] = key_line
+                    children.append((value_node, path + (key,)))
+                else:
+                    children.append((key_node, path + ("?",)))
+                    children.append((value_node, path + ("?",)))
+        else:
+            for i, item in enumerate(node.value):
+                lines[path + (i,)] = item.start_mark.line + 1
+                children.append((item, path + (i,)))
+        for child, child_path in reversed(children):
+            stack.append((child, child_path, depth + 1, False))
+    return lines
+
+
+def _check_numbers(data, lines: dict[tuple, int]) -> tuple[str, int | None] | None:
+    """The first number that is not finite or is absurdly large, as (problem, line)."""
+    stack = [(data, ())]
+    while stack:
+        value, path = stack.pop()
+        if isinstance(value, bool):
+            continue
+        if isinstance(value, float) and not math.isfinite(value):
+            return f"{'.'.join(map(str, path)) or 'value'}: expected a finite number, got {value}", \
+                _line(lines, path)
+        if isinstance(value, int) and abs(value) > MAX_INTEGER:
+            return f"{'.'.join(map(str, path)) or 'value'}: number too large ({value:.3g})", _line(lines, path)
+        if isinstance(value, dict):
+            stack.extend((v, path + (k,)) for k, v in value.items())
+        elif isinstance(value, list):
+            stack.extend((v, path + (i,)) for i, v in enumerate(value))
+    return None
+
+
+def _line(lines: dict[tuple, int], path: tuple) -> int | None:
+    while path and path not in lines:
+        path = path[:-1]
+    return lines.get(path)
+
+
+def _read_text(path: str, error: type[TellwaveError]) -> str:
+    try:
+        info = os.stat(path)
+    except FileNotFoundError:
+        raise error("no such file", path=path) from None
+    except OSError as exc:
+        raise error(f"cannot open ({exc.strerror or exc.__class__.__name__})", path=path) from None
+    if stat.S_ISDIR(info.st_mode):
+        raise error("is a folder, not a YAML file", path=path)
+    if not stat.S_ISREG(info.st_mode):
+        raise error("is not a regular file", path=path)
+    try:
+        with open(path, "rb") as f:
+            raw = f.read(MAX_BYTES + 1)
+    except OSError as exc:
+        raise error(f"cannot read ({exc.strerror or exc.__class__.__name__})", path=path) from None
+    if len(raw) > MAX_BYTES:
+        raise error(f"larger than {MAX_BYTES // 1024} KiB: not a YAML file tellwave reads", path=path)
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(b"\n") + 1
+        raise error("cannot read as UTF-8 text", path=path, line=line) from None
 
 
 def read_yaml(path, error: type[TellwaveError]) -> YamlDocument:
     """Read a YAML file, raising ``error`` with file and line for any problem."""
     path = str(path)
+    text = _read_text(path, error)
+    loader = _Loader(text)
     try:
-        text = Path(path).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise error("no such file", path=path) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise error(f"cannot read as UTF-8 text ({exc.__class__.__name__})", path=path) from None
-    try:
-        loader = _LOADER(text)
-        try:
-            node = loader.get_single_node()
-            data = loader.construct_document(node) if node is not None else None
-        finally:
-            loader.dispose()
+        node = loader.get_single_node()
+        lines = _walk(node) if node is not None else {}
+        data = loader.construct_document(node) if node is not None else None
+    except _Refused as exc:
+        raise error(exc.problem, path=path, line=exc.line) from None
     except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark
+        mark = exc.problem_mark or exc.context_mark
         line = mark.line + 1 if mark is not None else None
-        raise error(f"not valid YAML: {exc.problem}", path=path, line=line) from None
+        problem = " ".join(str(exc.problem or exc.context or "syntax error").split())
+        raise error(f"not valid YAML: {problem}", path=path, line=line) from None
+    except yaml.reader.ReaderError as exc:
+        char = exc.character if isinstance(exc.character, int) else ord(str(exc.character)[:1] or "\0")
+        line = text.count("\n", 0, max(exc.position, 0)) + 1
+        raise error(f"not valid YAML: character U+{char:04X} is not allowed (a control character)",
+                    path=path, line=line) from None
     except yaml.YAMLError as exc:
-        raise error(f"not valid YAML: {exc}", path=path) from None
-    lines = _line_map(node) if node is not None else {}
+        raise error(f"not valid YAML: {' '.join(str(exc).split())}", path=path) from None
+    except RecursionError:
+        raise error(f"not valid YAML: nested too deeply (more than {MAX_DEPTH} levels)", path=path) from None
+    finally:
+        loader.dispose()
+    bad = _check_numbers(data, lines)
+    if bad is not None:
+        raise error(bad[0], path=path, line=bad[1])
     return YamlDocument(path, data, lines)
 
 
@@ -98,11 +328,21 @@ def _describe(err: jsonschema.ValidationError) -> str:
     if err.validator == "additionalProperties":
         return err.message.replace("Additional properties are not allowed", "unknown field")
     if err.validator == "type":
-        return f"expected {err.validator_value}, got {err.instance!r}"
+        return f"expected {err.validator_value}, got {_shown(err.instance)}"
     if err.validator == "enum":
         allowed = ", ".join(map(str, err.validator_value))
-        return f"expected one of {allowed}, got {err.instance!r}"
+        return f"expected one of {allowed}, got {_shown(err.instance)}"
+    if err.validator in ("minimum", "exclusiveMinimum", "maximum", "exclusiveMaximum"):
+        word = {"minimum": "at least", "exclusiveMinimum": "above",
+                "maximum": "at most", "exclusiveMaximum": "below"}[err.validator]
+        return f"must be {word} {err.validator_value:g}, got {_shown(err.instance)}"
     return err.message
+
+
+def _shown(value) -> str:
+    """A value for a message: its repr, cut short (a whole mapping can be long)."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
 def _one_of_required(err: jsonschema.ValidationError) -> list[list[str]] | None:

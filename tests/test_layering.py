@@ -17,6 +17,7 @@ ENGINE = Path(__file__).resolve().parent.parent / "engine"
 # lower numbers come first; a module may import its own stage and any lower one
 STAGES = {
     "errors": 0, "units": 0, "paths": 0, "yamlfile": 0, "schemas": 0,
+    "outfile": 0, "jsonout": 0, "escape": 0,
     "machine": 1, "kinematics": 1, "readings": 1, "synth": 1,
     "analysis": 2,
     "evidence": 3,

@@ -3,17 +3,24 @@
 Each command lives in its own module with a ``register(subparsers)`` function;
 modules import the engine only when their command runs, so ``tellwave --help``
 stays quick.
+
+Whatever the input, the command ends one of three ways: its output and exit
+code 0 (or 1, 7 as documented), one line ``tellwave: error: ...`` on stderr
+with the error's exit code, or 130 after Ctrl-C. Numerical warnings on odd
+data are not shown: the quality gates report odd data in the output itself.
 """
 
 from __future__ import annotations
 
 import sys
+import warnings
 
 from ..errors import TellwaveError, UsageError
 from . import demo, diagnose, evidence, frequencies, reading, rulebook, synth
 from ._common import Parser
 
 COMMANDS = (frequencies, reading, evidence, synth, diagnose, demo, rulebook)
+EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 
 def build_parser() -> Parser:
@@ -43,20 +50,41 @@ def _return_large_arrays_to_the_system() -> None:
         pass
 
 
+def _tolerant_streams() -> None:
+    """Print names that were not valid UTF-8 (or cannot be shown in the terminal's encoding)
+    as escape codes instead of failing on them."""
+    for stream in (sys.stdout, sys.stderr):
+        reconfigure = getattr(stream, "reconfigure", None)
+        if reconfigure is not None:
+            try:
+                reconfigure(errors="backslashreplace")
+            except (ValueError, OSError):
+                pass
+
+
 def main(argv=None) -> int:
+    from ..escape import one_line
+
     _return_large_arrays_to_the_system()
+    _tolerant_streams()
     parser = build_parser()
     try:
-        args = parser.parse_args(argv)
-        if getattr(args, "run", None) is None:
-            parser.print_help(sys.stderr)
-            return 2
-        return args.run(args)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            warnings.simplefilter("ignore", UserWarning)
+            args = parser.parse_args(argv)
+            if getattr(args, "run", None) is None:
+                parser.print_help(sys.stderr)
+                return 2
+            return args.run(args)
     except TellwaveError as exc:
-        print(f"tellwave: error: {exc}", file=sys.stderr)
+        print(f"tellwave: error: {one_line(exc)}", file=sys.stderr)
         return exc.exit_code
     except BrokenPipeError:
         return 0
+    except KeyboardInterrupt:
+        print("tellwave: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
 
 
 __all__ = ["build_parser", "main", "UsageError"]

@@ -1,8 +1,11 @@
-"""What several commands share: the parser class, reading options, rulebook loading."""
+"""What several commands share: the parser class, checked option values, reading options,
+rulebook loading, terminal-safe printing and the files a run reads (never to be written over)."""
 
 from __future__ import annotations
 
 import argparse
+import math
+from pathlib import Path
 
 from ..errors import UsageError
 
@@ -14,15 +17,53 @@ class Parser(argparse.ArgumentParser):
 
 UNITS_HELP = "g, m/s^2, mm/s, m/s, in/s, um, mm, mils"
 
+# Limits of option values, checked when the command line is parsed (the readers check
+# the same quantities again when they come from files).
+MAX_SPEED_RPM = 600_000.0        # engine.machine.MAX_SPEED_RPM
+MIN_SPEED_RPM = 0.1              # engine.machine.MIN_SPEED_RPM
+
+
+def number(what: str, low: float = 0.0, high: float = math.inf, *, low_inclusive: bool = False):
+    """An argparse type: a finite number in (low, high] (or [low, high])."""
+    def parse(text: str) -> float:
+        try:
+            value = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{what} must be a number, got {text!r}") from None
+        above = value >= low if low_inclusive else value > low
+        if not (math.isfinite(value) and above and value <= high):
+            bound = f"at least {low:g}" if low_inclusive else f"above {low:g}"
+            top = "" if math.isinf(high) else f" and at most {high:g}"
+            raise argparse.ArgumentTypeError(f"{what} must be {bound}{top}, got {text!r}")
+        return value
+    return parse
+
+
+def whole(what: str, low: int = 0, high: int = 2 ** 31 - 1):
+    """An argparse type: an integer in [low, high]."""
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{what} must be a whole number, got {text!r}") from None
+        if not low <= value <= high:
+            raise argparse.ArgumentTypeError(f"{what} must be between {low} and {high}, got {text!r}")
+        return value
+    return parse
+
+
+RPM = number("the speed in rpm", MIN_SPEED_RPM, MAX_SPEED_RPM, low_inclusive=True)
+
 
 def add_reading_options(p) -> None:
-    p.add_argument("--sample-rate", type=float, help="sample rate in Hz, if the file does not state it")
+    p.add_argument("--sample-rate", type=number("the sample rate in Hz"),
+                   help="sample rate in Hz, if the file does not state it")
     p.add_argument("--unit", help=f"engineering unit of the samples ({UNITS_HELP})")
-    p.add_argument("--scale", type=float, help="engineering units at digital full scale (WAV)")
+    p.add_argument("--scale", type=number("the scale"), help="engineering units at digital full scale (WAV)")
     p.add_argument("--point", help="measurement point id")
     p.add_argument("--direction", choices=["horizontal", "vertical", "axial"],
                    help="sensor direction, if neither the file nor its sidecar says")
-    p.add_argument("--rpm", type=float, help="measured running speed")
+    p.add_argument("--rpm", type=RPM, help="measured running speed")
 
 
 def add_site_option(p) -> None:
@@ -43,6 +84,28 @@ def load_readings(args):
     if getattr(args, "channels", None):
         options["channels"] = [c.strip() for c in args.channels.split(",") if c.strip()]
     return combine_readings([load_reading(path, **options) for path in args.readings])
+
+
+def input_files(args) -> list[Path]:
+    """Every file the command reads: readings with their sidecars, the machine, site overlays."""
+    from ..readings import sidecar_path
+
+    files = []
+    for path in getattr(args, "readings", None) or []:
+        files += [Path(path), sidecar_path(path)]
+    if getattr(args, "machine", None):
+        files.append(Path(args.machine))
+    for place in getattr(args, "site", None) or []:
+        p = Path(place)
+        files += sorted(p.glob("*.y*ml")) if p.is_dir() else [p]
+    return files
+
+
+def say(text: str = "") -> None:
+    """Print a line to the terminal with control characters from users' files shown as codes."""
+    from ..escape import terminal
+
+    print(terminal(text))
 
 
 def rulebook(args):

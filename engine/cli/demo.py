@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._common import add_site_option, rulebook
+from ._common import add_site_option, rulebook, say
 
 
 def register(sub) -> None:
@@ -15,10 +15,12 @@ def register(sub) -> None:
 def run(args) -> int:
     from ..demo import run_demo
     from ..errors import EXIT_CASE_FAILED
+    from ..outfile import prepare_folder
     from ..reasoning import Reasoner
 
-    results = run_demo(args.out, Reasoner(rulebook(args)))
+    prepare_folder(args.out)
+    results = run_demo(args.out, Reasoner(rulebook(args)), progress=say)
     missed = sum(not r.passed for r in results)
-    print(f"{len(results) - missed} of {len(results)} demo cases diagnosed as expected; "
+    say(f"{len(results) - missed} of {len(results)} demo cases diagnosed as expected; "
           f"reports in {args.out}/ (open {args.out}/index.html)")
     return EXIT_CASE_FAILED if missed else 0

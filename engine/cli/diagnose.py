@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import add_reading_options, add_site_option, load_readings, rulebook
+from ._common import add_reading_options, add_site_option, input_files, load_readings, rulebook, say
 
 
 def register(sub) -> None:
@@ -25,21 +25,25 @@ def register(sub) -> None:
 def run(args) -> int:
     from ..errors import EXIT_WITHHELD
     from ..machine import load_machine
+    from ..outfile import check_target
     from ..pipeline import diagnose, document_of
     from ..reasoning import Reasoner
     from ..report import render, write_atomically
 
-    machine = load_machine(args.machine)
-    reasoner = Reasoner(rulebook(args))
-    reading = load_readings(args)
     fmt = args.format
-    d = diagnose(reading, machine, reasoner, plots=fmt == "html")
-    text = render(document_of(d), fmt)
     output = args.output
     if output is None and fmt in ("html", "md"):
         output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
+    inputs = input_files(args)
+    if output is not None:
+        check_target(output, inputs)     # before the work, not after it
+    machine = load_machine(args.machine)
+    reasoner = Reasoner(rulebook(args))
+    reading = load_readings(args)
+    d = diagnose(reading, machine, reasoner, plots=fmt == "html")
+    text = render(document_of(d), fmt)
     if output is None:
         sys.stdout.write(text)
     else:
-        print(f"wrote {write_atomically(output, text)}")
+        say(f"wrote {write_atomically(output, text, inputs)}")
     return EXIT_WITHHELD if d.reasoning.withheld else 0

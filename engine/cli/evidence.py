@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import json
-
-from ._common import add_reading_options, load_readings
+from ._common import add_reading_options, load_readings, say
 
 
 def register(sub) -> None:
@@ -19,16 +17,17 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from ..evidence import extract_evidence
+    from ..jsonout import dumps
     from ..machine import load_machine
 
     machine = load_machine(args.machine)
     facts = extract_evidence(load_readings(args), machine)
     if args.json:
-        print(json.dumps(facts, indent=2))
+        print(dumps(facts))
         return 0
     for fact in facts:
         fields = ", ".join(f"{k}={_short(v)}" for k, v in fact.items() if k not in ("kind", "id"))
-        print(f"{fact['kind']:<22} {fields}")
+        say(f"{fact['kind']:<22} {fields}")
     return 0
 
 

@@ -2,19 +2,21 @@
 
 from __future__ import annotations
 
-import json
+
+from ._common import RPM, say
 
 
 def register(sub) -> None:
     p = sub.add_parser("frequencies", help="print the forcing frequencies of a machine")
     p.add_argument("machine", help="machine YAML file")
-    p.add_argument("--rpm", type=float, help="running speed of the driving shaft (or of --shaft)")
+    p.add_argument("--rpm", type=RPM, help="running speed of the driving shaft (or of --shaft)")
     p.add_argument("--shaft", help="the shaft --rpm refers to (default: the driving shaft)")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=run)
 
 
 def run(args) -> int:
+    from ..jsonout import dumps
     from ..kinematics import forcing_frequencies
     from ..machine import load_machine
 
@@ -22,14 +24,13 @@ def run(args) -> int:
     table = forcing_frequencies(machine, args.rpm, args.shaft)
     speeds = machine.speeds_at(args.rpm, args.shaft)
     if args.json:
-        print(json.dumps({"machine": machine.name, "source": machine.source,
-                          "shaft_speeds_hz": speeds,
-                          "forcing_frequencies": [f.as_dict() for f in table]}, indent=2))
+        print(dumps({"machine": machine.name, "source": machine.source, "shaft_speeds_hz": speeds,
+                     "forcing_frequencies": [f.as_dict() for f in table]}))
         return 0
-    print(f"{machine.name}" + (f"  ({machine.plant})" if machine.plant else ""))
-    print("shafts: " + ", ".join(f"{s} {hz * 60:.1f} rpm" for s, hz in speeds.items()))
-    print()
-    print(f"{'frequency Hz':>13}  {'order':>8}  {'name':<15} {'component':<16} {'shaft':<12} family")
+    say(f"{machine.name}" + (f"  ({machine.plant})" if machine.plant else ""))
+    say("shafts: " + ", ".join(f"{s} {hz * 60:.1f} rpm" for s, hz in speeds.items()))
+    say()
+    say(f"{'frequency Hz':>13}  {'order':>8}  {'name':<15} {'component':<16} {'shaft':<12} family")
     for f in table:
-        print(f"{f.frequency_hz:13.3f}  {f.order:8.4f}  {f.name:<15} {f.component:<16} {f.shaft:<12} {f.family}")
+        say(f"{f.frequency_hz:13.3f}  {f.order:8.4f}  {f.name:<15} {f.component:<16} {f.shaft:<12} {f.family}")
     return 0

@@ -2,14 +2,15 @@
 
 from __future__ import annotations
 
-from ._common import add_reading_options, reading_options
+from ._common import add_reading_options, reading_options, say, whole
 
 
 def register(sub) -> None:
     p = sub.add_parser("reading", help="summarise a reading file: channels, quality, levels, peaks")
     p.add_argument("reading", help="WAV, CSV, NPY, NPZ, MATLAB .mat or UFF 58 file")
     add_reading_options(p)
-    p.add_argument("--peaks", type=int, default=10, help="how many spectral peaks to list (default 10)")
+    p.add_argument("--peaks", type=whole("--peaks", 0, 1000), default=10,
+                   help="how many spectral peaks to list (default 10)")
     p.set_defaults(run=run)
 
 
@@ -19,29 +20,29 @@ def run(args) -> int:
     from ..units import STANDARD_GRAVITY_M_S2
 
     reading = load_reading(args.reading, **reading_options(args))
-    print(f"{reading.source}: {len(reading.channels)} channel(s), {reading.fs_hz:g} Hz, "
+    say(f"{reading.source}: {len(reading.channels)} channel(s), {reading.fs_hz:g} Hz, "
           f"{reading.n_samples} samples ({reading.duration_s:.3f} s)"
           + (f", speed {reading.speed_rpm:g} rpm" if reading.speed_rpm else ""))
     for ch in reading.channels:
         where = " ".join(filter(None, [ch.point, ch.direction]))
-        print(f"\n  {ch.name} ({ch.quantity}, recorded in {ch.unit}){'  at ' + where if where else ''}")
+        say(f"\n  {ch.name} ({ch.quantity}, recorded in {ch.unit}){'  at ' + where if where else ''}")
         issues = reading.issues_for(ch.name)
         for q in issues:
-            print(f"    quality: {q.kind}: {q.message}")
+            say(f"    quality: {q.kind}: {q.message}")
         if any(q.blocking for q in issues):
             continue
         lv = analysis.overall_levels(ch.samples, reading.fs_hz, ch.quantity, reading.speed_rpm)
         lo, hi = lv.velocity_band_hz
-        print(f"    velocity {lv.velocity_rms_mm_s:.3f} mm/s RMS ({lo:g}-{hi:g} Hz"
+        say(f"    velocity {lv.velocity_rms_mm_s:.3f} mm/s RMS ({lo:g}-{hi:g} Hz"
               + (", band cut by Fmax" if lv.band_truncated else "") + ")")
         if lv.acceleration_rms_g is not None:
-            print(f"    acceleration {lv.acceleration_rms_g:.4f} g RMS, {lv.acceleration_peak_g:.4f} g peak")
-        print(f"    crest factor {lv.crest_factor:.2f}, kurtosis {lv.kurtosis:.2f}, skewness {lv.skewness:.2f}")
+            say(f"    acceleration {lv.acceleration_rms_g:.4f} g RMS, {lv.acceleration_peak_g:.4f} g peak")
+        say(f"    crest factor {lv.crest_factor:.2f}, kurtosis {lv.kurtosis:.2f}, skewness {lv.skewness:.2f}")
         spec = analysis.amplitude_spectrum(ch.samples, reading.fs_hz, scaling="peak")
         peaks = analysis.find_peaks(spec, f_lo_hz=2 * spec.resolution_hz, min_snr=6.0, max_peaks=args.peaks)
         scale = STANDARD_GRAVITY_M_S2 if ch.quantity == "acceleration" else 1.0
         unit = "g" if ch.quantity == "acceleration" else ("m/s" if ch.quantity == "velocity" else "m")
-        print(f"    largest spectral peaks (Hann, {spec.resolution_hz:.3f} Hz lines):")
+        say(f"    largest spectral peaks (Hann, {spec.resolution_hz:.3f} Hz lines):")
         for p in sorted(peaks, key=lambda p: p.freq_hz):
-            print(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  (SNR {p.snr:.0f})")
+            say(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  (SNR {p.snr:.0f})")
     return 0

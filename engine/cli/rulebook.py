@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..errors import UsageError
-from ._common import Parser, add_site_option, rulebook
+from ._common import Parser, add_site_option, rulebook, say
 
 
 def register(sub) -> None:
@@ -37,8 +37,8 @@ def _check(args) -> int:
     from ..reasoning.explain import summary
 
     for line in summary(rulebook(args)):
-        print(line)
-    print("rulebooks are valid")
+        say(line)
+    say("rulebooks are valid")
     return 0
 
 
@@ -80,7 +80,7 @@ def _explain(args) -> int:
         hint = f"; did you mean {', '.join(near)}?" if near else ""
         raise UsageError(f"no rule has id {args.rule_id!r}{hint}") from None
     for line in explain(rule, book):
-        print(line)
+        say(line)
     return 0
 
 
@@ -101,6 +101,6 @@ def _test(args) -> int:
         want = ("withheld" if expected.get("withheld") else "nothing confident" if expected.get("nothing")
                 else f"{expected['fault']}" + (f" on {expected['component']}" if "component" in expected else ""))
         mark = "pass" if result.passed else "FAIL"
-        print(f"{mark}  {path}: {result.case.name}\n      expected {want}; got {result.got}")
-    print(f"{len(files) - failed} of {len(files)} cases pass")
+        say(f"{mark}  {path}: {result.case.name}\n      expected {want}; got {result.got}")
+    say(f"{len(files) - failed} of {len(files)} cases pass")
     return EXIT_CASE_FAILED if failed else 0

@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+from ._common import RPM, number, say, whole
+
+MAX_SYNTH_SAMPLES = 1 << 24     # per channel: 10 min at 25.6 kHz
+
 
 def register(sub) -> None:
     from ..synth import FAULTS
@@ -14,23 +18,33 @@ def register(sub) -> None:
                                        "(default: the first of its kind)")
     p.add_argument("--stage", type=int, default=2, choices=[1, 2, 3, 4],
                    help="damage stage, 1 incipient to 4 severe (default 2)")
-    p.add_argument("--rpm", type=float, help="speed of the driving shaft (default: nominal)")
-    p.add_argument("--sample-rate", type=float, default=25600.0, help="Hz (default 25600)")
-    p.add_argument("--duration", type=float, default=4.0, help="seconds (default 4)")
-    p.add_argument("--seed", type=int, default=0, help="random seed; the same seed gives the same reading (default 0)")
+    p.add_argument("--rpm", type=RPM, help="speed of the driving shaft (default: nominal)")
+    p.add_argument("--sample-rate", type=number("the sample rate in Hz", 100.0, 1e6, low_inclusive=True),
+                   default=25600.0, help="Hz, 100 to 1 000 000 (default 25600)")
+    p.add_argument("--duration", type=number("the duration in s", 0.0, 600.0), default=4.0,
+                   help="seconds, up to 600 (default 4)")
+    p.add_argument("--seed", type=whole("--seed", 0), default=0,
+                   help="random seed; the same seed gives the same reading (default 0)")
     p.add_argument("--points", help="comma-separated measurement points (default: all)")
     p.add_argument("-o", "--output", required=True, help="reading file to write (.wav, .npz or .csv)")
     p.set_defaults(run=run)
 
 
 def run(args) -> int:
+    from ..errors import UsageError
     from ..machine import load_machine
+    from ..outfile import check_target
     from ..synth import simulate, write_simulation
 
+    check_target(args.output, [args.machine])
+    if args.duration * args.sample_rate > MAX_SYNTH_SAMPLES:
+        raise UsageError(f"--duration x --sample-rate gives more than {MAX_SYNTH_SAMPLES} samples per channel")
+    if args.duration * args.sample_rate < 256:
+        raise UsageError("--duration x --sample-rate gives fewer than 256 samples, too few to analyse")
     machine = load_machine(args.machine)
-    points = [p.strip() for p in args.points.split(",")] if args.points else None
+    points = [p.strip() for p in args.points.split(",") if p.strip()] if args.points else None
     sim = simulate(machine, args.fault, args.component, args.stage, args.rpm, args.sample_rate,
                    args.duration, args.seed, points)
-    for path in write_simulation(sim, args.output):
-        print(f"wrote {path}")
+    for path in write_simulation(sim, args.output, inputs=[args.machine]):
+        say(f"wrote {path}")
     return 0

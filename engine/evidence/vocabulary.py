@@ -189,7 +189,8 @@ FACTS: dict[str, dict[str, F]] = {
     },
     "data_quality": {
         "channel": F("string", "channel name", ""),
-        "issue": F("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, too_short", ""),
+        "issue": F("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, out_of_range, "
+                             "implausible_level, implausible_spectrum, too_short", ""),
         "value": F("number", "size of the problem (its unit depends on the issue)", ""),
         "blocking": F("boolean", "the channel could not be analysed", ""),
     },

@@ -3,26 +3,34 @@
 Metadata is merged in this order, later winning: what the file states, the
 sidecar ``<file>.yaml`` next to it, the caller's options. Anything the engine
 needs and nobody states (sample rate, unit, WAV scale) is a ``ReadingError``
-that names the file and says how to supply it.
+that names the file and says how to supply it. Values are checked here, at
+the edge, so that the analysis can trust plain finite arrays.
 """
 
 from __future__ import annotations
 
+import math
+import os
+import stat
 from pathlib import Path
 
 import numpy as np
 
 from .. import units
 from ..errors import ReadingError, UsageError
+from ..machine import check_speed_rpm
 from ..yamlfile import read_yaml, validate
-from .formats import READERS, RawReading
+from .formats import READERS, RawReading, check_raw
+from .length import MIN_SAMPLES, check_record_length
 from .model import Channel, QualityIssue, Reading
 from .quality import check_channel, check_resolution
 
-MIN_SAMPLES = 64
+MAX_FILE_BYTES = 1 << 30           # 1 GiB on disk; longer records are cut before analysis
+MIN_SAMPLE_RATE_HZ = 2.56 * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
+MAX_SAMPLE_RATE_HZ = 10e6          # no vibration recorder samples faster: a unit slip (Hz for kHz...)
 
-__all__ = ["Channel", "QualityIssue", "Reading", "check_resolution", "combine_readings", "load_reading",
-           "sidecar_path"]
+__all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "check_record_length", "check_resolution",
+           "combine_readings", "load_reading", "select_channels", "sidecar_path"]
 
 
 def sidecar_path(path) -> Path:
@@ -33,13 +41,32 @@ def sidecar_path(path) -> Path:
 
 def _read_sidecar(path) -> dict:
     side = sidecar_path(path)
-    if not side.exists():
+    if not os.path.lexists(side):
         return {}
     doc = read_yaml(side, ReadingError)
     if doc.data is None:
         return {}
+    if not isinstance(doc.data, dict):
+        raise ReadingError("a sidecar is a mapping of fields (sample_rate_hz, unit, ...)", path=str(side), line=1)
     validate(doc, "sidecar.schema.json", ReadingError)
     return doc.data
+
+
+def _check_file(path: str) -> None:
+    try:
+        info = os.stat(path)
+    except FileNotFoundError:
+        raise ReadingError("no such file", path=path) from None
+    except OSError as exc:
+        raise ReadingError(f"cannot open ({exc.strerror or exc.__class__.__name__})", path=path) from None
+    if stat.S_ISDIR(info.st_mode):
+        raise ReadingError("is a folder, not a reading file", path=path)
+    if not stat.S_ISREG(info.st_mode):
+        raise ReadingError("is not a regular file", path=path)
+    if info.st_size == 0:
+        raise ReadingError("the file is empty", path=path)
+    if info.st_size > MAX_FILE_BYTES:
+        raise ReadingError(f"the file is larger than {MAX_FILE_BYTES >> 20} MiB; cut the record", path=path)
 
 
 def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None = None,
@@ -48,48 +75,59 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
                  channels: list[str] | None = None) -> Reading:
     """Load a reading file (WAV, CSV, NPY, NPZ, MAT, UFF 58) and run the quality gates.
 
-    ``channels`` keeps only the channels named, each matched by its whole
-    name or by the end of it (``DE_time`` picks ``X130_DE_time``).
+    ``channels`` keeps only the channels named (see ``select_channels``):
+    each by its name (as the sidecar gives it, or as the file does), by its
+    measurement point, or by the end of its name (``DE_time`` picks
+    ``X130_DE_time``).
     """
     path = str(path)
     p = Path(path)
-    if not p.is_file():
-        raise ReadingError("no such file", path=path)
     reader = READERS.get(p.suffix.lower())
+    _check_file(path)
     if reader is None:
         raise ReadingError(f"unknown reading format {p.suffix!r}; expected one of "
                            f"{', '.join(sorted(READERS))}", path=path)
-    if p.stat().st_size == 0:
-        raise ReadingError("the file is empty", path=path)
     try:
-        raw = reader(path)
+        with np.errstate(all="ignore"):
+            raw = check_raw(path, reader(path))
     except ReadingError:
         raise
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
         raise ReadingError(f"cannot be read as {p.suffix.lstrip('.').upper()} "
                            f"({exc.__class__.__name__})", path=path) from None
-    if channels:
-        raw = _select(path, raw, channels)
     side = _read_sidecar(path)
     return _assemble(path, raw, side, dict(
         sample_rate_hz=sample_rate_hz, unit=unit, scale=scale, point=point,
-        direction=direction, speed_rpm=speed_rpm))
+        direction=direction, speed_rpm=speed_rpm), channels)
 
 
-def _select(path: str, raw: RawReading, wanted: list[str]) -> RawReading:
-    keep = []
+def select_channels(source: str, channels: list[Channel], wanted: list[str],
+                    file_names: list[str] | None = None) -> list[Channel]:
+    """The channels ``wanted`` names, in the order asked, each once.
+
+    A wanted name matches, in this order of preference: a channel's name
+    (or the name the file itself gives it, ``file_names``), every channel at
+    a measurement point of that id, or the one channel whose name ends with
+    it. Anything else is a ``ReadingError`` listing the channels.
+    """
+    file_names = file_names or [c.name for c in channels]
+    keep: list[int] = []
     for w in wanted:
-        hits = [i for i, n in enumerate(raw.names) if n == w or n.endswith(w)]
-        if len(hits) != 1:
-            known = ", ".join(raw.names)
-            problem = "no channel" if not hits else "more than one channel"
-            raise ReadingError(f"{problem} matches {w!r}; channels are {known}", path=path)
-        keep.append(hits[0])
-
-    def pick(values):
-        return [values[i] for i in keep] if values else values
-    return RawReading(pick(raw.names), pick(raw.arrays), raw.fs_hz, pick(raw.units), raw.full_scale,
-                      pick(raw.points), raw.meta)
+        hits = [i for i, c in enumerate(channels) if w in (c.name, file_names[i])]
+        if not hits:
+            hits = [i for i, c in enumerate(channels) if c.point == w]
+        if not hits:
+            hits = [i for i, c in enumerate(channels) if c.name.endswith(w) or file_names[i].endswith(w)]
+            if len(hits) > 1:
+                names = ", ".join(channels[i].name for i in hits)
+                raise ReadingError(f"more than one channel name ends with {w!r} ({names}); give the whole name",
+                                   path=source)
+        if not hits:
+            known = ", ".join(c.name + (f" (point {c.point})" if c.point and c.point != c.name else "")
+                              for c in channels)
+            raise ReadingError(f"no channel matches {w!r}; channels are {known}", path=source)
+        keep += [i for i in hits if i not in keep]
+    return [channels[i] for i in keep]
 
 
 def combine_readings(readings: list[Reading]) -> Reading:
@@ -116,6 +154,11 @@ def combine_readings(readings: list[Reading]) -> Reading:
                              c.full_scale_si) for c in r.channels]
         quality += [QualityIssue(q.kind, rename.get(q.channel, q.channel), q.message, q.value, q.blocking)
                     for q in r.quality]
+    final = [c.name for c in channels]
+    if len(set(final)) != len(final):
+        raise ReadingError(f"channel names repeat across the files even with their file names in front: "
+                           f"{sorted({n for n in final if final.count(n) > 1})}; rename them in the sidecars",
+                           path=readings[-1].source)
     speeds = [r.speed_rpm for r in readings if r.speed_rpm]
     return Reading(source=", ".join(r.source for r in readings), fs_hz=first.fs_hz,
                    channels=tuple(channels), speed_rpm=speeds[0] if speeds else None,
@@ -129,20 +172,36 @@ def _pick(options: dict, side: dict, raw_meta: dict, key: str):
     return None
 
 
-def _assemble(path: str, raw: RawReading, side: dict, options: dict) -> Reading:
+def _number(path: str, what: str, value) -> float:
+    if isinstance(value, bool):
+        raise ReadingError(f"{what} must be a number, got {value!r}", path=path)
+    try:
+        number = float(value)
+    except (TypeError, ValueError, OverflowError):
+        raise ReadingError(f"{what} must be a number, got {value!r}", path=path) from None
+    if not math.isfinite(number):
+        raise ReadingError(f"{what} must be a finite number, got {value!r}", path=path)
+    return number
+
+
+def _sample_rate(path: str, raw: RawReading, side: dict, options: dict) -> float:
     fs = _pick(options, side, {"sample_rate_hz": raw.fs_hz}, "sample_rate_hz")
     if fs is None:
         raise ReadingError("the sample rate is not stated; give --sample-rate or "
                            f"'sample_rate_hz' in {sidecar_path(path).name}", path=path)
-    try:
-        fs = float(fs)
-    except ValueError:
-        raise ReadingError(f"sample rate must be a number, got {fs!r}", path=path) from None
-    if not np.isfinite(fs) or fs <= 0:
-        raise ReadingError(f"sample rate must be a positive number, got {fs}", path=path)
+    fs = _number(path, "sample rate", fs)
+    if not MIN_SAMPLE_RATE_HZ <= fs <= MAX_SAMPLE_RATE_HZ:
+        raise ReadingError(f"sample rate of {fs:g} Hz is outside {MIN_SAMPLE_RATE_HZ:g} Hz to "
+                           f"{MAX_SAMPLE_RATE_HZ:g} Hz: check its unit (Hz, not kHz)", path=path)
+    return fs
+
+
+def _assemble(path: str, raw: RawReading, side: dict, options: dict,
+              wanted: list[str] | None = None) -> Reading:
+    fs = _sample_rate(path, raw, side, options)
     n = len(raw.arrays[0])
     if n < MIN_SAMPLES:
-        raise ReadingError(f"holds only {n} samples; at least {MIN_SAMPLES} are needed", path=path)
+        raise ReadingError(f"holds only {n} samples; the analysis needs at least {MIN_SAMPLES}", path=path)
 
     side_channels = side.get("channels", [])
     if side_channels and len(side_channels) != len(raw.arrays):
@@ -152,10 +211,12 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict) -> Reading:
     if raw.full_scale is not None and scale is None:
         raise ReadingError("a WAV file holds no engineering scale; give --scale (units at full scale) "
                            f"or 'scale' in {sidecar_path(path).name}", path=path)
-    scale = 1.0 if scale is None else float(scale)
+    scale = 1.0 if scale is None else _number(path, "scale", scale)
+    if scale <= 0:
+        raise ReadingError(f"scale must be positive, got {scale:g}", path=path)
 
-    channels = []
-    for i, (name, x) in enumerate(zip(raw.names, raw.arrays)):
+    described = []
+    for i, name in enumerate(raw.names):
         per = side_channels[i] if side_channels else {}
         file_unit = raw.units[i] if i < len(raw.units) else None
         unit_name = options["unit"] or per.get("unit") or side.get("unit") or file_unit
@@ -165,29 +226,30 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict) -> Reading:
         try:
             u = units.unit(unit_name)
         except UsageError as exc:
-            raise ReadingError(str(exc), path=path) from None
+            raise ReadingError(exc.problem, path=path) from None
         file_point = raw.points[i] if i < len(raw.points) else None
-        full_scale = None if raw.full_scale is None else raw.full_scale * scale * u.to_si
-        channels.append(Channel(
-            name=per.get("name", name),
-            samples=np.asarray(x, dtype=float) * scale * u.to_si,
-            quantity=u.quantity, unit=u.name,
+        described.append(Channel(
+            name=per.get("name", name), samples=raw.arrays[i], quantity=u.quantity, unit=u.name,
             point=options["point"] or per.get("point") or side.get("point") or file_point,
             direction=options["direction"] or per.get("direction") or side.get("direction"),
-            full_scale_si=full_scale,
         ))
-    names = [c.name for c in channels]
+    names = [c.name for c in described]
     if len(set(names)) != len(names):
         raise ReadingError(f"channel names repeat: {names}", path=path)
+    if wanted:
+        described = select_channels(path, described, wanted, file_names=list(raw.names))
+
+    channels = []
+    for c in described:
+        factor = scale * units.unit(c.unit).to_si
+        with np.errstate(over="ignore", under="ignore", invalid="ignore"):
+            samples = c.samples * factor       # an overflow becomes inf: the nonfinite gate reports it
+        full_scale = None if raw.full_scale is None else raw.full_scale * factor
+        channels.append(Channel(c.name, samples, c.quantity, c.unit, c.point, c.direction, full_scale))
     quality = tuple(q for ch in channels for q in check_channel(ch, fs))
     speed = _pick(options, side, raw.meta, "speed_rpm")
     if speed is not None:
-        try:
-            speed = float(speed)
-        except ValueError:
-            raise ReadingError(f"speed_rpm must be a number, got {speed!r}", path=path) from None
-        if not (np.isfinite(speed) and speed > 0):
-            raise ReadingError(f"speed_rpm must be positive, got {speed}", path=path)
+        speed = check_speed_rpm(_number(path, "speed_rpm", speed), path, ReadingError)
     stamp = _pick(options, side, raw.meta, "timestamp")
     return Reading(source=path, fs_hz=fs, channels=tuple(channels), speed_rpm=speed,
                    timestamp=str(stamp) if stamp is not None else None, quality=quality)

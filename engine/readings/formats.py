@@ -1,8 +1,11 @@
-"""File readers: WAV, CSV, NumPy .npy/.npz and UFF type 58.
+"""File readers: WAV, CSV, NumPy .npy/.npz, MATLAB .mat and UFF type 58.
 
 Each reader returns ``RawReading``: arrays in the file's own unit plus
 whatever metadata the file itself states. ``load_reading`` merges that with
-the sidecar and the caller's options and converts to SI.
+the sidecar and the caller's options and converts to SI. ``check_raw`` is
+the one place that decides whether what a reader found can be a reading at
+all (real, finite-sized, one-dimensional channels of equal length), so
+every format refuses odd shapes, complex data and oversized contents alike.
 """
 
 from __future__ import annotations
@@ -10,6 +13,7 @@ from __future__ import annotations
 import csv
 import io
 import warnings
+import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -17,6 +21,8 @@ import numpy as np
 
 from ..errors import ReadingError
 
+MAX_VALUES = 1 << 26        # samples over all channels (512 MiB as float64): cut longer records
+MAX_CHANNELS = 256
 TIME_COLUMNS = ("time_s", "time", "t")
 UNIFORM_SPACING_TOLERANCE = 0.01  # time stamps may jitter by 1 % of the sample interval
 UFF_DIRECTIONS = {1: "x", 2: "y", 3: "z"}
@@ -42,7 +48,7 @@ def read_wav(path: str) -> RawReading:
             warnings.simplefilter("ignore", wavfile.WavFileWarning)
             fs, data = wavfile.read(path)
     except (ValueError, EOFError, OSError) as exc:
-        raise ReadingError(f"not a readable WAV file ({exc})", path=path) from None
+        raise ReadingError(f"not a readable WAV file ({_short(exc)})", path=path) from None
     if data.dtype == np.uint8:
         x, full_scale = (data.astype(float) - 128.0) / 128.0, 1.0
     elif np.issubdtype(data.dtype, np.integer):
@@ -51,7 +57,7 @@ def read_wav(path: str) -> RawReading:
         x, full_scale = data.astype(float) / 2.0 ** (bits - 1), 1.0
     else:
         x, full_scale = data.astype(float), None
-    x = x.reshape(len(x), -1)
+    x = x[:, None] if x.ndim == 1 else x
     names = [f"ch{i + 1}" for i in range(x.shape[1])]
     return RawReading(names, [x[:, i] for i in range(x.shape[1])], float(fs),
                       full_scale=full_scale)
@@ -64,9 +70,11 @@ def read_csv(path: str) -> RawReading:
     (``time_s``, ``time`` or ``t``, in seconds) that must be uniformly spaced.
     """
     try:
-        text = Path(path).read_text(encoding="utf-8")
+        text = Path(path).read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
         raise ReadingError("not a text CSV file", path=path) from None
+    if "\0" in text:
+        raise ReadingError("not a text CSV file (it holds NUL bytes)", path=path)
     meta, body, first_body_line = {}, [], None
     for lineno, line in enumerate(text.splitlines(), start=1):
         stripped = line.strip()
@@ -82,12 +90,20 @@ def read_csv(path: str) -> RawReading:
         body.append((lineno, line))
     if not body:
         raise ReadingError("the CSV file holds no data rows", path=path)
-    rows = list(csv.reader(io.StringIO("\n".join(line for _, line in body))))
+    try:
+        rows = list(csv.reader(io.StringIO("\n".join(line for _, line in body))))
+    except csv.Error as exc:
+        raise ReadingError(f"not a readable CSV file ({exc})", path=path) from None
+    if len(rows) != len(body):   # a quoted field ran over several lines
+        raise ReadingError("a quoted field runs over several lines; a reading has one row per line", path=path)
     header = [c.strip() for c in rows[0]]
     if all(_is_number(c) for c in header):
         header, data_rows, line_numbers = [f"ch{i + 1}" for i in range(len(rows[0]))], rows, [n for n, _ in body]
     else:
         data_rows, line_numbers = rows[1:], [n for n, _ in body[1:]]
+    if len(header) > MAX_CHANNELS + 1 or len(data_rows) * len(header) > MAX_VALUES:
+        raise ReadingError(f"holds {len(data_rows)} rows of {len(header)} columns: more than tellwave reads "
+                           f"({MAX_CHANNELS} channels, {MAX_VALUES} values)", path=path)
     values = np.empty((len(data_rows), len(header)))
     for r, (row, lineno) in enumerate(zip(data_rows, line_numbers)):
         if len(row) != len(header):
@@ -98,18 +114,22 @@ def read_csv(path: str) -> RawReading:
             raise ReadingError(f"not a number in {row!r}", path=path, line=lineno) from None
     if len(values) == 0:
         raise ReadingError("the CSV file holds no data rows", path=path)
-    fs = float(meta["sample_rate_hz"]) if _is_number(meta.get("sample_rate_hz", "")) else None
+    stated = meta.get("sample_rate_hz")
+    if stated is not None and not _is_number(stated):
+        raise ReadingError(f"'# sample_rate_hz:' must be a number, got {stated!r}", path=path)
+    fs = float(stated) if stated is not None else None
     lowered = [h.lower() for h in header]
     time_col = next((lowered.index(t) for t in TIME_COLUMNS if t in lowered), None)
     if time_col is not None:
         t = values[:, time_col]
-        dt = np.diff(t)
-        if len(dt) == 0 or not np.all(dt > 0):
-            raise ReadingError(f"time column {header[time_col]!r} must increase", path=path)
-        step = float(np.median(dt))
-        if np.max(np.abs(dt - step)) > UNIFORM_SPACING_TOLERANCE * step:
-            raise ReadingError(f"time column {header[time_col]!r} is not uniformly spaced", path=path)
-        fs = fs or 1.0 / step
+        with np.errstate(all="ignore"):
+            dt = np.diff(t)
+            if len(dt) == 0 or not np.all(np.isfinite(t)) or not np.all(dt > 0):
+                raise ReadingError(f"time column {header[time_col]!r} must increase", path=path)
+            step = float(np.median(dt))
+            if np.max(np.abs(dt - step)) > UNIFORM_SPACING_TOLERANCE * step:
+                raise ReadingError(f"time column {header[time_col]!r} is not uniformly spaced", path=path)
+            fs = fs or 1.0 / step
     keep = [i for i in range(len(header)) if i != time_col]
     if not keep:
         raise ReadingError("the CSV file has a time column but no signal column", path=path)
@@ -121,14 +141,23 @@ def read_csv(path: str) -> RawReading:
 def read_npy(path: str) -> RawReading:
     """One array: (samples,) or (samples, channels). Sample rate from sidecar or options."""
     try:
+        with open(path, "rb") as f:
+            version = np.lib.format.read_magic(f)
+            shape, _, dtype = (np.lib.format.read_array_header_1_0(f) if version == (1, 0)
+                               else np.lib.format.read_array_header_2_0(f))
+    except (ValueError, OSError, EOFError) as exc:
+        raise ReadingError(f"not a readable .npy file ({_short(exc)})", path=path) from None
+    _check_declared(path, shape, dtype)
+    try:
         data = np.load(path, allow_pickle=False)
     except (ValueError, OSError, EOFError) as exc:
-        raise ReadingError(f"not a readable .npy file ({exc})", path=path) from None
-    if not isinstance(data, np.ndarray) or data.ndim not in (1, 2) or not np.issubdtype(data.dtype, np.number):
-        raise ReadingError("expected a numeric array of shape (samples,) or (samples, channels)", path=path)
-    data = data.reshape(len(data), -1).astype(float)
-    return RawReading([f"ch{i + 1}" for i in range(data.shape[1])],
-                      [data[:, i] for i in range(data.shape[1])])
+        raise ReadingError(f"not a readable .npy file ({_short(exc)})", path=path) from None
+    if data.ndim not in (1, 2):
+        raise ReadingError(f"expected an array of shape (samples,) or (samples, channels), got {data.shape}",
+                           path=path)
+    columns = data.reshape(len(data), -1)
+    return RawReading([f"ch{i + 1}" for i in range(columns.shape[1])],
+                      [columns[:, i] for i in range(columns.shape[1])])
 
 
 NPZ_META = ("sample_rate_hz", "fs_hz", "unit", "speed_rpm", "timestamp")
@@ -137,20 +166,38 @@ NPZ_META = ("sample_rate_hz", "fs_hz", "unit", "speed_rpm", "timestamp")
 def read_npz(path: str) -> RawReading:
     """Named 1-D arrays, one per channel, plus optional ``sample_rate_hz``, ``unit``, ``speed_rpm``."""
     try:
-        archive = np.load(path, allow_pickle=False)
-        contents = {k: archive[k] for k in archive.files}
-    except (ValueError, OSError, EOFError) as exc:
-        raise ReadingError(f"not a readable .npz file ({exc})", path=path) from None
-    meta = {k: contents.pop(k).item() for k in NPZ_META if k in contents}
-    names = [k for k, v in contents.items() if v.ndim == 1 and np.issubdtype(v.dtype, np.number)]
+        with zipfile.ZipFile(path) as z:
+            unpacked = sum(info.file_size for info in z.infolist())
+            members = len(z.infolist())
+    except (zipfile.BadZipFile, OSError, EOFError, ValueError) as exc:
+        raise ReadingError(f"not a readable .npz file ({_short(exc)})", path=path) from None
+    if unpacked > 8 * MAX_VALUES or members > MAX_CHANNELS + len(NPZ_META):
+        raise ReadingError(f"the archive unpacks to {unpacked} bytes in {members} arrays: more than tellwave "
+                           "reads", path=path)
+    try:
+        with np.load(path, allow_pickle=False) as archive:
+            contents = {k: archive[k] for k in archive.files}
+    except (ValueError, OSError, EOFError, zipfile.BadZipFile, KeyError) as exc:
+        raise ReadingError(f"not a readable .npz file ({_short(exc)})", path=path) from None
+    meta = {k: _scalar(path, k, contents.pop(k)) for k in NPZ_META if k in contents}
+    names = [k for k, v in contents.items() if v.ndim == 1 and _numeric(v.dtype)]
     if not names:
         raise ReadingError("the .npz archive holds no 1-D numeric array", path=path)
     fs = meta.get("sample_rate_hz", meta.get("fs_hz"))
     unit = str(meta["unit"]) if "unit" in meta else None
-    if "speed_rpm" in meta:
-        meta["speed_rpm"] = float(meta["speed_rpm"])
-    return RawReading(names, [contents[n].astype(float) for n in names],
-                      float(fs) if fs is not None else None, units=[unit] * len(names), meta=meta)
+    return RawReading(names, [contents[n] for n in names], fs, units=[unit] * len(names), meta=meta)
+
+
+def _scalar(path: str, key: str, value: np.ndarray):
+    """One metadata value of an archive: a number, or text for ``unit`` and ``timestamp``."""
+    if value.size != 1:
+        raise ReadingError(f"{key!r} must be a single value, got an array of shape {value.shape}", path=path)
+    item = value.reshape(()).item()
+    if key in ("unit", "timestamp"):
+        return item.decode("utf-8", "replace") if isinstance(item, bytes) else str(item)
+    if isinstance(item, bool) or not isinstance(item, (int, float)):
+        raise ReadingError(f"{key!r} must be a number, got {item!r}", path=path)
+    return float(item)
 
 
 def read_uff58(path: str) -> RawReading:
@@ -169,12 +216,15 @@ def read_uff58(path: str) -> RawReading:
     for i, s in enumerate(records):
         if s.get("abscissa_spacing") != 1:
             raise ReadingError(f"data set {i + 1} is not evenly spaced in time", path=path)
-        rates.append(_snap_rate(1.0 / float(s["abscissa_inc"])))
+        step = float(s.get("abscissa_inc", 0.0))
+        if not (np.isfinite(step) and step > 0):
+            raise ReadingError(f"data set {i + 1} states a time step of {step:g} s", path=path)
+        rates.append(_snap_rate(1.0 / step))
         node, direction = s.get("rsp_node"), UFF_DIRECTIONS.get(abs(int(s.get("rsp_dir", 0))), "")
         entity = str(s.get("rsp_ent_name", "")).strip()
         point = entity if entity and entity != "NONE" else f"node{node}"
         names.append(f"{point}{direction}" if direction else point)
-        arrays.append(np.asarray(s["data"], dtype=float))
+        arrays.append(np.asarray(s["data"]))
         label = str(s.get("ordinate_axis_units_lab", "")).strip()
         units.append(None if label in ("", "NONE") else label)
         points.append(point)
@@ -190,13 +240,22 @@ def read_mat(path: str) -> RawReading:
     struct (``bearing.gs`` style) is opened one level. MATLAB v7.3 (HDF5)
     files are refused with a clear message.
     """
-    from scipy.io import loadmat
+    from scipy.io import loadmat, whosmat
     from scipy.io.matlab import MatReadError
 
     try:
+        declared = sum(int(np.prod(shape, dtype=float)) for _, shape, _ in whosmat(path))
+    except NotImplementedError:
+        raise ReadingError("MATLAB v7.3 (HDF5) .mat files are not supported; save with -v7", path=path) from None
+    except Exception as exc:  # scipy raises many kinds on malformed headers
+        raise ReadingError(f"not a readable MATLAB v5 .mat file ({_short(exc)})", path=path) from None
+    if declared > MAX_VALUES:
+        raise ReadingError(f"the file declares {declared} values: more than tellwave reads ({MAX_VALUES})",
+                           path=path)
+    try:
         contents = loadmat(path, squeeze_me=True, struct_as_record=False)
     except (MatReadError, ValueError, TypeError, OSError) as exc:
-        raise ReadingError(f"not a readable MATLAB v5 .mat file ({exc})", path=path) from None
+        raise ReadingError(f"not a readable MATLAB v5 .mat file ({_short(exc)})", path=path) from None
     except NotImplementedError:
         raise ReadingError("MATLAB v7.3 (HDF5) .mat files are not supported; save with -v7", path=path) from None
     flat = {}
@@ -211,16 +270,16 @@ def read_mat(path: str) -> RawReading:
     names, arrays, meta = [], [], {}
     for key, value in flat.items():
         arr = np.asarray(value)
-        if not np.issubdtype(arr.dtype, np.number):
+        if not _numeric(arr.dtype):
             continue
         short = key.rsplit(".", 1)[-1].lower()
         if arr.size == 1 and key.upper().endswith("RPM"):
-            meta["speed_rpm"] = float(arr.ravel()[0])
+            meta["speed_rpm"] = _real_scalar(path, key, arr)
         elif arr.size == 1 and short in ("sr", "fs", "sample_rate", "sample_rate_hz", "samplerate"):
-            meta["sample_rate_hz"] = float(arr.ravel()[0])
+            meta["sample_rate_hz"] = _real_scalar(path, key, arr)
         elif arr.ndim == 1 and arr.size >= 64:
             names.append(key)
-            arrays.append(arr.astype(float))
+            arrays.append(arr)
     if not arrays:
         raise ReadingError("the .mat file holds no numeric signal vector", path=path)
     lengths = {len(a) for a in arrays}
@@ -229,6 +288,69 @@ def read_mat(path: str) -> RawReading:
         keep = [i for i, a in enumerate(arrays) if len(a) == longest]
         names, arrays = [names[i] for i in keep], [arrays[i] for i in keep]
     return RawReading(names, arrays, meta.pop("sample_rate_hz", None), meta=meta)
+
+
+def _numeric(dtype) -> bool:
+    """Numbers, real or complex (complex is refused later, by name); not text, bools or records."""
+    return np.issubdtype(dtype, np.number) and not np.issubdtype(dtype, np.timedelta64)
+
+
+def _real_scalar(path: str, key: str, arr: np.ndarray) -> float:
+    if np.iscomplexobj(arr):
+        raise ReadingError(f"{key!r} is a complex number; it must be real", path=path)
+    return float(arr.ravel()[0])
+
+
+def _short(exc: Exception) -> str:
+    """An exception as a short phrase for a one-line message."""
+    text = " ".join(str(exc).split())
+    text = text if len(text) <= 100 else text[:97] + "..."
+    return text or exc.__class__.__name__
+
+
+def _check_declared(path: str, shape, dtype) -> None:
+    """Refuse an array header whose contents could never be a reading, before reading it."""
+    if dtype.hasobject or dtype.fields is not None:
+        raise ReadingError("expected a numeric array of samples, got records or Python objects", path=path)
+    if int(np.prod(shape, dtype=float)) > MAX_VALUES:
+        raise ReadingError(f"the array of shape {tuple(shape)} holds more samples than tellwave reads "
+                           f"({MAX_VALUES})", path=path)
+
+
+def check_raw(path: str, raw: RawReading) -> RawReading:
+    """Channels a reading can be made of: real numbers, one dimension, equal lengths, not too many.
+
+    Returns the reading with every array as float64 samples; raises
+    ``ReadingError`` naming the problem otherwise. Complex data is refused
+    rather than cut to its real part, which would silently halve what was
+    measured.
+    """
+    if not raw.arrays:
+        raise ReadingError("holds no channels", path=path)
+    if len(raw.arrays) > MAX_CHANNELS:
+        raise ReadingError(f"holds {len(raw.arrays)} channels; tellwave reads at most {MAX_CHANNELS}", path=path)
+    arrays = []
+    for name, a in zip(raw.names, raw.arrays):
+        a = np.asarray(a)
+        if a.dtype.hasobject or not _numeric(a.dtype):
+            raise ReadingError(f"channel {name!r} holds {a.dtype} values, not numbers", path=path)
+        if np.iscomplexobj(a):
+            raise ReadingError(f"channel {name!r} holds complex numbers; a reading is real samples "
+                               "(save the real signal, not a spectrum or an analytic signal)", path=path)
+        if a.ndim != 1:
+            raise ReadingError(f"channel {name!r} has shape {a.shape}; expected one row of samples", path=path)
+        arrays.append(a.astype(np.float64))
+    lengths = {len(a) for a in arrays}
+    if len(lengths) > 1:
+        raise ReadingError(f"channels differ in length ({', '.join(map(str, sorted(lengths)))} samples); "
+                           "put them in separate files", path=path)
+    if lengths == {0}:
+        raise ReadingError("holds no samples", path=path)
+    if len(arrays) * len(arrays[0]) > MAX_VALUES:
+        raise ReadingError(f"holds {len(arrays) * len(arrays[0])} samples; tellwave reads at most {MAX_VALUES} "
+                           "(cut the record)", path=path)
+    names = [str(n) for n in raw.names]
+    return RawReading(names, arrays, raw.fs_hz, list(raw.units), raw.full_scale, list(raw.points), raw.meta)
 
 
 def _snap_rate(fs_hz: float) -> float:

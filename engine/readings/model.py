@@ -15,7 +15,8 @@ class QualityIssue:
     cannot be analysed at all; the others mean results need care.
     """
 
-    kind: str          # clipping, dc_offset, drift, dropout, nonfinite, dead, too_short
+    kind: str          # clipping, dc_offset, drift, dropout, nonfinite, dead, out_of_range,
+                       # implausible_level, implausible_spectrum, too_short
     channel: str
     message: str
     value: float

@@ -36,7 +36,7 @@ def write_wav_24bit(path, x, fs):
 
 @pytest.mark.parametrize("kind", ["int16", "int24", "int32", "float32"])
 def test_wav_reads_back_engineering_units(tmp_path, kind):
-    # A 0.5 full-scale sine at 80 Hz with 'scale: 20' (20 g at full scale) is 10 g peak.
+    # A 0.5 full-scale sine at 80 Hz with 'scale: 2' (2 g at full scale) is 1 g peak.
     path = tmp_path / f"r_{kind}.wav"
     x = tone(80.0, FS, N, amplitude=0.5)
     if kind == "int16":
@@ -46,15 +46,15 @@ def test_wav_reads_back_engineering_units(tmp_path, kind):
     elif kind == "int24":
         write_wav_24bit(path, x, FS)
     else:
-        wavfile.write(path, int(FS), (x * 20).astype(np.float32))
-    scale = 1.0 if kind == "float32" else 20.0
+        wavfile.write(path, int(FS), (x * 2).astype(np.float32))
+    scale = 1.0 if kind == "float32" else 2.0
     write_sidecar(path, unit="g", scale=scale, point="M1H", direction="horizontal", speed_rpm=1486)
     r = load_reading(path)
     ch = r.channels[0]
     assert r.fs_hz == FS and r.speed_rpm == 1486 and ch.point == "M1H" and ch.direction == "horizontal"
     assert ch.quantity == "acceleration" and ch.unit == "g"
     peak_g = np.max(np.abs(ch.samples)) / units.STANDARD_GRAVITY_M_S2
-    assert peak_g == pytest.approx(10.0, rel=2e-4)
+    assert peak_g == pytest.approx(1.0, rel=2e-4)
     assert r.quality == ()
 
 
@@ -70,7 +70,7 @@ def test_clipped_pcm_wav_is_flagged(tmp_path):
     path = tmp_path / "clip.wav"
     x = np.clip(tone(80.0, FS, N, amplitude=1.4), -1, 1)
     wavfile.write(path, int(FS), np.round(x * 32767).astype(np.int16))
-    r = load_reading(path, unit="g", scale=10.0)
+    r = load_reading(path, unit="g", scale=1.0)
     kinds = [q.kind for q in r.quality]
     assert kinds == ["clipping"]
 
@@ -179,7 +179,7 @@ def test_unknown_unit_and_cross_quantity_conversion_are_refused():
 
 def test_unknown_unit_in_a_file_names_the_file(tmp_path):
     path = tmp_path / "r.npz"
-    np.savez(path, a=np.zeros(100) + np.arange(100), sample_rate_hz=100.0, unit="furlongs")
+    np.savez(path, a=np.arange(1000.0), sample_rate_hz=1000.0, unit="furlongs")
     with pytest.raises(ReadingError, match=r"r.npz: unknown unit 'furlongs'"):
         load_reading(path)
 

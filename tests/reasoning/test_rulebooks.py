@@ -143,8 +143,8 @@ def test_settings_rules_limit_or_withhold_by_what_the_reading_cannot_show(reason
     limited = {f.rule_id for h in low.reasoning.reading_problems for f in h.support}
     assert "reading.settings.fmax-gear-mesh" in limited and not low.reasoning.withheld
     assert any("gear mesh" in text for text in low.advice.limitations)
-    # a record of 0.1 s holds less than one turn of the fan: withheld
-    short = diagnose(as_reading(simulate(ct1, "healthy", None, 1, None, 12800.0, 0.1, 0, ["GINH"])), ct1, reasoner)
+    # a record of 0.45 s holds 2.5 turns of the fan (5.64 Hz): enough to analyse, too few to judge, withheld
+    short = diagnose(as_reading(simulate(ct1, "healthy", None, 1, None, 12800.0, 0.45, 0, ["GINH"])), ct1, reasoner)
     assert short.reasoning.withheld
     assert any(f.rule_id == "reading.settings.hardly-a-turn" for h in short.reasoning.reading_problems for f in h.support)
 

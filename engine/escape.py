@@ -1,0 +1,76 @@
+"""Escaping per output format, for text that comes from users' files.
+
+Machine names, channel names, file names and rule texts are written by
+people (or by a hostile file) and end up in reports and on the terminal.
+Each output format gets its own escape:
+
+- ``terminal``: control characters (ESC starts a terminal escape sequence;
+  C1 controls; the bidirectional overrides that reorder what a reader sees)
+  are shown as ``\\x1b``-style codes instead of acting on the terminal.
+- ``markdown``: the characters Markdown and GitHub tables give meaning to
+  (``|`` ends a table cell, ``<`` starts raw HTML, ``*``, ``_``, backquotes and
+  brackets start emphasis, code and links) are escaped, so a name reads as
+  written; line breaks become spaces so one value cannot start a new block.
+- HTML is autoescaped by Jinja itself.
+
+``Verbatim`` marks text a template filter has already made safe (a Markdown
+code span), so the environment's finalize step leaves it alone.
+"""
+
+from __future__ import annotations
+
+import re
+
+# C0 controls except tab and newline, DEL, C1 controls, and the Unicode bidi
+# embedding, override and isolate controls (the "Trojan Source" characters)
+_CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+_MARKDOWN_PUNCT = re.compile(r"([\\`*_{}\[\]|~#!])")
+_LINE_BREAKS = re.compile(r"[\r\n\u2028\u2029]+")
+
+
+class Verbatim(str):
+    """Text already escaped for its format."""
+
+
+def _code(ch: str) -> str:
+    n = ord(ch)
+    return f"\\x{n:02x}" if n < 0x100 else f"\\u{n:04x}"
+
+
+def terminal(text) -> str:
+    """``text`` with every control character shown as an escape code (tab and newline kept)."""
+    return _CONTROL.sub(lambda m: _code(m.group()), str(text))
+
+
+def one_line(text) -> str:
+    """``terminal`` text on one line: line breaks shown as ``\\n``, tabs as spaces."""
+    s = str(text).replace("\r", "\\r").replace("\n", "\\n").replace("\t", " ")
+    return terminal(s.replace("\u2028", "\\u2028").replace("\u2029", "\\u2029"))
+
+
+def markdown(text) -> str:
+    """``text`` safe inside a Markdown paragraph, list item or table cell."""
+    if isinstance(text, Verbatim):
+        return text
+    s = terminal(_LINE_BREAKS.sub(" ", str(text))).replace("\t", " ")
+    s = s.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    s = _MARKDOWN_PUNCT.sub(r"\\\1", s)
+    # a value that starts like a list item or a setext underline must not become one
+    return re.sub(r"^([-+=])(?=\s|$)", r"\\\1", s)
+
+
+def markdown_code(text) -> Verbatim:
+    """``text`` as a Markdown code span: a fence longer than any run of backquotes in it,
+    ``|`` escaped as GitHub tables require even inside code."""
+    s = terminal(_LINE_BREAKS.sub(" ", str(text))).replace("|", "\\|")
+    longest = max((len(run) for run in re.findall(r"`+", s)), default=0)
+    fence = "`" * (longest + 1)
+    pad = " " if s.startswith("`") or s.endswith("`") or not s.strip() else ""
+    return Verbatim(f"{fence}{pad}{s}{pad}{fence}")
+
+
+def text_value(text) -> str:
+    """A value in the plain-text report: terminal-safe and on one line."""
+    if isinstance(text, Verbatim):
+        return text
+    return terminal(_LINE_BREAKS.sub(" ", str(text)))
