@@ -145,7 +145,8 @@ def half_and_double(spec: Spectrum, speed_hz: float, search_fraction: float = 0.
 
     Returns the lines found at odd multiples of half the speed (0.5X, 1.5X,
     2.5X, 3.5X, 4.5X), the ratio of the 0.5X line to 1X, whether 1X itself is
-    there, and how many harmonics of twice the speed stand out.
+    there, the lines at odd orders (1X, 3X .. 9X: none if every frequency
+    reads doubled), and how many harmonics of twice the speed stand out.
     """
     df = spec.resolution_hz
     one_x = peak_near(spec, speed_hz, 1.5 * df)
@@ -159,6 +160,10 @@ def half_and_double(spec: Spectrum, speed_hz: float, search_fraction: float = 0.
     half_amp = float(found.amplitude[0]) if clear[0] else 0.0
     doubled = [(2 * k * speed_hz, k) for k in range(1, HARMONICS + 1)]
     _, double_hits, _ = _comb(spec, doubled, search_fraction, ())
-    return {"one_x_found": one_x_amp > 0, "half_order_lines": int(clear.sum()),
+    odd = [k * speed_hz for k in (1, 3, 5, 7, 9)]
+    at_odd = peaks_near(spec, odd, [max(1.5 * df, 0.005 * hz) for hz in odd])
+    odd_floors = spec.floor_at(at_odd.line)
+    odd_lines = int((at_odd.found & (at_odd.amplitude >= MIN_HARMONIC_SNR * np.maximum(odd_floors, 1e-300))).sum())
+    return {"one_x_found": one_x_amp > 0, "odd_order_lines": odd_lines, "half_order_lines": int(clear.sum()),
             "half_to_one_x": half_amp / one_x_amp if one_x_amp > 0 else (HALF_WITHOUT_1X if half_amp > 0 else 0.0),
             "double_speed_lines": len(double_hits)}

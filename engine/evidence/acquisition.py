@@ -90,6 +90,7 @@ def speed_check(rc: Analysis) -> list[dict]:
         "deviation_pct": 100.0 * (measured - against) / against if against > 0 else 0.0,
         "abs_deviation_pct": abs(100.0 * (measured - against) / against) if against > 0 else 0.0,
         "one_x_found": bool(check.get("one_x_found", False)),
+        "odd_order_lines": int(check.get("odd_order_lines", 0)),
         "half_order_lines": int(check.get("half_order_lines", 0)),
         "half_to_one_x": float(check.get("half_to_one_x", 0.0)),
         "double_speed_lines": int(check.get("double_speed_lines", 0)),

@@ -183,6 +183,7 @@ FACTS: dict[str, dict[str, F]] = {
         "deviation_pct": F("number", "speed used against the stated (else nominal) speed, %", "%"),
         "abs_deviation_pct": F("number", "size of that deviation, %", "%"),
         "one_x_found": F("boolean", "a line stands at 1X in the loudest channel", ""),
+        "odd_order_lines": F("integer", "lines at 1X, 3X, 5X, 7X, 9X in the loudest channel", ""),
         "half_order_lines": F("integer", "lines at 0.5X, 1.5X, 2.5X, 3.5X, 4.5X in the loudest channel", ""),
         "half_to_one_x": F("number", "0.5X line over the 1X line (100 when 0.5X stands and 1X does not)", ""),
         "double_speed_lines": F("integer", "harmonics of twice the speed (2X, 4X .. 10X) that stand out", ""),
