@@ -26,10 +26,16 @@ class Diagnosis:
 
 
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
-             plots: bool = False) -> Diagnosis:
-    """Diagnose ``reading`` of ``machine``; ``plots`` also draws the report's SVG figures."""
+             plots: bool = False, more_facts=None) -> Diagnosis:
+    """Diagnose ``reading`` of ``machine``; ``plots`` also draws the report's SVG figures.
+
+    ``more_facts``, if given, is called with the evidence facts and returns
+    further facts to reason over with them (``trend`` facts from the history).
+    """
     rc = build_contexts(reading, machine)
     facts = run_extractors(rc)
+    if more_facts is not None:
+        facts = facts + list(more_facts(facts))
     reasoning = reasoner.reason(facts)
     advice = advise(machine, facts, reasoning, advice_data)
     figures = {}

@@ -10,10 +10,10 @@ from __future__ import annotations
 import sys
 
 from ..errors import TellwaveError, UsageError
-from . import demo, diagnose, evidence, frequencies, reading, rulebook, synth
+from . import demo, demo_route, diagnose, evidence, frequencies, history, reading, route, rulebook, synth, trend
 from ._common import Parser
 
-COMMANDS = (frequencies, reading, evidence, synth, diagnose, demo, rulebook)
+COMMANDS = (frequencies, reading, evidence, synth, diagnose, demo, rulebook, route, history, trend, demo_route)
 
 
 def build_parser() -> Parser:

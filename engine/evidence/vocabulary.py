@@ -163,6 +163,21 @@ FACTS: dict[str, dict[str, tuple[str, str]]] = {
     },
 }
 
+# Not measured on the reading itself: made from the stored history by engine.trend.facts.
+FACTS["trend"] = {
+    "point": ("string", "measurement point id"),
+    "direction": ("string", "horizontal, vertical or axial"),
+    "indicator": ("string", "what is trended: velocity_rms_mm_s, accel_peak_g, kurtosis, env_BPFO_db, ..."),
+    "readings": ("integer", "readings in the history, this one included"),
+    "baseline": ("number", "median of the first readings, in the indicator's unit"),
+    "latest": ("number", "this reading's value, in the indicator's unit"),
+    "change_pct": ("number", "latest over baseline, less 1, percent"),
+    "rate_per_month": ("number", "least-squares slope over the history, indicator unit per month"),
+    "iso_change_significant": ("boolean", "velocity changed by more than 25 % of the B/C boundary (ISO 20816-3)"),
+    "projected_days": ("number", "projected days to the next zone boundary or limit (-1: no projection)"),
+    "projection_to": ("string", "the boundary or limit projected to"),
+}
+
 COMMON_FIELDS = {"kind": ("string", "fact kind"), "id": ("string", "fact identity")}
 
 

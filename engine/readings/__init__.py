@@ -15,6 +15,7 @@ import numpy as np
 from .. import units
 from ..errors import ReadingError, UsageError
 from ..yamlfile import read_yaml, validate
+from .columns import apply_column_map
 from .formats import READERS, RawReading
 from .model import Channel, QualityIssue, Reading
 from .quality import check_channel, check_resolution
@@ -68,9 +69,11 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
         raise ReadingError(f"cannot be read as {p.suffix.lstrip('.').upper()} "
                            f"({exc.__class__.__name__})", path=path) from None
+    side = _read_sidecar(path)
+    if side.get("columns"):
+        raw = apply_column_map(raw, side["columns"], path, str(sidecar_path(path)))
     if channels:
         raw = _select(path, raw, channels)
-    side = _read_sidecar(path)
     return _assemble(path, raw, side, dict(
         sample_rate_hz=sample_rate_hz, unit=unit, scale=scale, point=point,
         direction=direction, speed_rpm=speed_rpm))
