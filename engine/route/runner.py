@@ -103,7 +103,7 @@ def _dask(tasks, settings, scheduler, limit):
     """The same on a Dask distributed cluster: ``diagnose_task`` runs on its workers."""
     from distributed import Client, as_completed
 
-    with Client(scheduler, set_as_default=False) as client:
+    with Client(scheduler) as client:
         limit = limit or max(1, sum(client.nthreads().values()))
         pending = iter(tasks)
         first = [client.submit(diagnose_task, t, h, settings, pure=False)
@@ -111,7 +111,6 @@ def _dask(tasks, settings, scheduler, limit):
         queue = as_completed(first)
         for future in queue:
             result = future.result()
-            future.release()
             nxt = next(pending, None)
             if nxt is not None:
                 queue.add(client.submit(diagnose_task, nxt[0], nxt[1], settings, pure=False))
