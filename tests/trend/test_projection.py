@@ -1,0 +1,57 @@
+"""Change point and projection on histories of known shape."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from engine.trend import cusum_onset, project
+
+
+def _noisy(rng, y, scatter=0.05):
+    return y * np.exp(rng.normal(0.0, scatter, len(y)))
+
+
+def test_cusum_finds_the_start_of_a_rise(rng):
+    y = np.r_[np.ones(40), np.exp(0.08 * np.arange(1, 31))]
+    onset = cusum_onset(_noisy(rng, y), baseline_n=10)
+    assert onset is not None and 38 <= onset <= 46
+
+
+def test_cusum_stays_quiet_on_a_steady_history(rng):
+    assert cusum_onset(_noisy(rng, np.ones(80)), baseline_n=10) is None
+
+
+def test_an_exponential_rise_is_projected_to_its_limit(rng):
+    # y = exp(0.05 (t - 50)) after a flat start at 1; it reaches 20 at t = 50 + ln(20) / 0.05 = 109.9 days
+    t = np.arange(0.0, 90.0)
+    truth = np.where(t < 50, 1.0, np.exp(0.05 * (t - 50)))
+    p = project(t, _noisy(rng, truth, 0.03), 20.0, "limit 20")
+    expected = 50 + np.log(20) / 0.05 - t[-1]
+    assert p.projected and "exponential" in p.method and "CUSUM" in p.method
+    assert p.low_days <= expected <= p.high_days
+    assert p.days == pytest.approx(expected, rel=0.15)
+
+
+def test_a_straight_rise_picks_the_linear_model():
+    t = np.arange(0.0, 6.0) * 30
+    y = 1.0 + 0.01 * t + np.array([0.01, -0.01, 0.0, 0.01, -0.01, 0.0])
+    p = project(t, y, 4.5, "C/D")
+    assert p.projected and "linear" in p.method and "all 6 readings" in p.method
+    assert p.days == pytest.approx((4.5 - 1.0) / 0.01 - t[-1], rel=0.05)
+
+
+@pytest.mark.parametrize("values, reason", [
+    ([1.0, 1.1], "at least 3"),
+    ([2.0, 1.5, 1.0, 0.8], "not established"),
+    ([1.0, 1.4, 0.9, 1.3, 1.0], "not established"),
+    (list(np.ones(30)), "no rise from the baseline"),
+], ids=["two-readings", "falling", "scatter", "steady-long"])
+def test_no_projection_when_the_history_does_not_support_one(values, reason):
+    p = project(np.arange(len(values)) * 30.0, np.array(values), 5.0, "limit")
+    assert not p.projected and reason in p.reason
+
+
+def test_a_reading_past_the_limit_needs_no_projection():
+    p = project(np.arange(4.0), np.array([1.0, 2.0, 4.0, 6.0]), 5.0, "limit")
+    assert p.days == 0.0 and p.method == "reached"
