@@ -10,6 +10,7 @@ Tasks are plain data, so they cross to worker processes and Dask workers.
 from __future__ import annotations
 
 import fnmatch
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -44,6 +45,11 @@ class Route:
     clock: Clock | None = None
 
 
+def _absolute(p) -> str:
+    """An absolute path that keeps symbolic links (a linked reading keeps the sidecar beside the link)."""
+    return os.path.normpath(os.path.abspath(p))
+
+
 def _clock(data: dict | None, path: str) -> Clock | None:
     if not data:
         return None
@@ -60,8 +66,8 @@ def load_route(path) -> Route:
     if not isinstance(doc.data, dict):
         raise RouteError("a route file must be a mapping with a readings: list", path=path, line=1)
     validate(doc, "route.schema.json", RouteError)
-    base = Path(path).resolve().parent
-    machines = {k: str((base / v).resolve()) for k, v in doc.data.get("machines", {}).items()}
+    base = Path(_absolute(Path(path).parent))
+    machines = {k: _absolute(base / v) for k, v in doc.data.get("machines", {}).items()}
     for key, file in machines.items():
         if not Path(file).is_file():
             raise RouteError(f"machines.{key}: no such machine file {file}", path=path,
@@ -70,8 +76,8 @@ def load_route(path) -> Route:
     for i, item in enumerate(doc.data["readings"]):
         where = ["readings", i]
         files = [item["file"]] if "file" in item else item["files"]
-        resolved = tuple(str((base / f).resolve()) for f in files)
-        machine = machines.get(item["machine"]) or str((base / item["machine"]).resolve())
+        resolved = tuple(_absolute(base / f) for f in files)
+        machine = machines.get(item["machine"]) or _absolute(base / item["machine"])
         if not Path(machine).is_file():
             raise RouteError(f"readings.{i}.machine: {item['machine']!r} is neither a name under machines: "
                              "nor a machine file", path=path, line=doc.line_of(where + ["machine"]))
@@ -94,11 +100,11 @@ def load_folder(folder, plant_file) -> Route:
     folder = Path(folder)
     if not folder.is_dir():
         raise RouteError("no such folder of readings", path=str(folder))
-    base = Path(plant_file).resolve().parent
+    base = Path(_absolute(Path(plant_file).parent))
     files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and p.is_file())
     tasks, taken = [], {}
     for m, entry in enumerate(doc.data["machines"]):
-        machine = str((base / entry["file"]).resolve())
+        machine = _absolute(base / entry["file"])
         if not Path(machine).is_file():
             raise RouteError(f"machines.{m}.file: no such machine file {machine}", path=plant_file,
                              line=doc.line_of(["machines", m, "file"]))
@@ -108,7 +114,7 @@ def load_folder(folder, plant_file) -> Route:
                     raise RouteError(f"{p.name} matches both {taken[p]} and {entry['file']}", path=plant_file,
                                      line=doc.line_of(["machines", m, "readings"]))
                 taken[p] = entry["file"]
-                tasks.append(Task(len(tasks), (str(p.resolve()),), machine))
+                tasks.append(Task(len(tasks), (_absolute(p),), machine))
     if not tasks:
         raise RouteError("no reading file in the folder matches the plant file's patterns", path=str(folder))
     return Route(doc.data.get("plant", folder.name), plant_file, tuple(tasks), _clock(doc.data.get("clock"), plant_file))

@@ -19,7 +19,7 @@ def _write(path, data):
 def test_a_route_file_gives_tasks_with_resolved_paths(tmp_path):
     route = load_route(make_route(tmp_path, n=2, bad=False))
     assert [t.name for t in route.tasks] == ["r0.wav", "r1.wav"]
-    assert all(t.machine_file == str(PUMP.resolve()) for t in route.tasks)
+    assert all(t.machine_file == str(PUMP) for t in route.tasks)
     assert route.tasks[0].points == {"P1H": "P1H"}
 
 

@@ -23,11 +23,13 @@ def test_cusum_stays_quiet_on_a_steady_history(rng):
 
 
 def test_an_exponential_rise_is_projected_to_its_limit(rng):
-    # y = exp(0.05 (t - 50)) after a flat start at 1; it reaches 20 at t = 50 + ln(20) / 0.05 = 109.9 days
-    t = np.arange(0.0, 90.0)
-    truth = np.where(t < 50, 1.0, np.exp(0.05 * (t - 50)))
+    # the exponential degradation model's form (Gebraeel et al. 2005): y = phi + theta exp(beta (t - 50))
+    # after a flat start at phi = 1; with theta = 0.05, beta = 0.06 per day it reaches 20 at
+    # t = 50 + ln(19 / 0.05) / 0.06 = 148.9 days
+    t = np.arange(0.0, 130.0)
+    truth = np.where(t < 50, 1.0, 1.0 + 0.05 * np.exp(0.06 * (t - 50)))
     p = project(t, _noisy(rng, truth, 0.03), 20.0, "limit 20")
-    expected = 50 + np.log(20) / 0.05 - t[-1]
+    expected = 50 + np.log(19 / 0.05) / 0.06 - t[-1]
     assert p.projected and "exponential" in p.method and "CUSUM" in p.method
     assert p.low_days <= expected <= p.high_days
     assert p.days == pytest.approx(expected, rel=0.15)
