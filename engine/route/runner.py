@@ -23,6 +23,7 @@ from .files import Route, Task
 from .work import diagnose_task
 
 IN_FLIGHT_PER_WORKER = 4
+CONNECT_TIMEOUT_S = 10
 
 
 @dataclass
@@ -103,7 +104,13 @@ def _dask(tasks, settings, scheduler, limit):
     """The same on a Dask distributed cluster: ``diagnose_task`` runs on its workers."""
     from distributed import Client, as_completed
 
-    with Client(scheduler) as client:
+    from ..errors import UsageError
+
+    try:
+        client = Client(scheduler, timeout=CONNECT_TIMEOUT_S)
+    except (OSError, TimeoutError, ValueError) as exc:
+        raise UsageError(f"cannot reach the Dask scheduler at {scheduler} ({exc.__class__.__name__})") from None
+    with client:
         limit = limit or max(1, sum(client.nthreads().values()))
         pending = iter(tasks)
         first = [client.submit(diagnose_task, t, h, settings, pure=False)
