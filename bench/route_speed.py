@@ -64,18 +64,19 @@ def _rss_mb(pid: int) -> float:
 
 
 def _family() -> list[int]:
-    """This process and its children (the pool's workers)."""
-    me = os.getpid()
-    kids = []
+    """This process and all its descendants (the fork server and the pool's workers)."""
+    parent_of = {}
     for d in os.listdir("/proc"):
         if d.isdigit():
             try:
                 with open(f"/proc/{d}/stat") as f:
-                    if int(f.read().rsplit(")", 1)[1].split()[1]) == me:
-                        kids.append(int(d))
+                    parent_of[int(d)] = int(f.read().rsplit(")", 1)[1].split()[1])
             except (OSError, ValueError, IndexError):
                 pass
-    return [me] + kids
+    family = [os.getpid()]
+    for pid in family:
+        family += [p for p, pp in parent_of.items() if pp == pid]
+    return family
 
 
 class MemorySampler(threading.Thread):
@@ -116,7 +117,7 @@ def main() -> int:
           f"{1000 * outcome.wall_s * args.workers / max(n, 1):.0f} ms per reading per worker")
     s = sampler.samples
     if s:
-        print("memory over the route (MB resident: this process, workers together):")
+        print("memory over the route (MB resident: this process, fork server and workers together):")
         for frac in (0.1, 0.25, 0.5, 0.75, 1.0):
             t_s, parent, workers = s[min(len(s) - 1, int(frac * (len(s) - 1)))]
             print(f"  {t_s:6.1f} s  parent {parent:6.0f}  workers {workers:6.0f}")

@@ -57,7 +57,7 @@ class _Progress:
         if show and total:
             from tqdm import tqdm
             self.bar = tqdm(total=total, unit="reading", dynamic_ncols=True, desc="route",
-                            bar_format="{desc}: {n}/{total} {bar} {postfix} [{elapsed} < {remaining}, {rate_fmt}]")
+                            bar_format="{desc}: {n}/{total} {bar}{postfix} [{elapsed} < {remaining}, {rate_fmt}]")
             self.bar.set_postfix_str("0 failed")
 
     def step(self, ok: bool) -> None:
@@ -72,14 +72,24 @@ class _Progress:
             self.bar.close()
 
 
+def _ignore_interrupts() -> None:
+    """Workers leave Ctrl-C to the parent, which stops the route and says how to resume."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
 def _local(tasks, settings, workers):
-    """Results of ``diagnose_task`` in completion order, from a pool of spawned processes."""
+    """Results of ``diagnose_task`` in completion order, from a pool of worker processes."""
     import multiprocessing
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
-    ctx = multiprocessing.get_context("spawn")
+    # forkserver: workers fork from a server that has imported the engine once (spawn would import it
+    # again in every worker of every pool; plain fork is unsafe once threads run, e.g. the progress bar's)
+    ctx = multiprocessing.get_context("forkserver")
+    ctx.set_forkserver_preload(["engine.route.work", "engine.pipeline", "engine.reasoning", "engine.report"])
     pending = iter(tasks)
-    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
+    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_ignore_interrupts) as pool:
         running = set()
         try:
             while True:

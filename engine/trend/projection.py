@@ -126,10 +126,11 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
         method = "CUSUM change point, then "
         phi = float(np.median(values[:baseline_count(n)]))
     else:
-        onset, method = 0, f"all {n} readings (too few for a change point), "
-    t, y = days[onset:], values[onset:]
+        onset, method = None, f"all {n} readings (too few for a change point), "
+    t, y = days[onset or 0:], values[onset or 0:]
     if len(t) < MIN_FIT_READINGS or t[-1] <= t[0]:
-        return none(f"only {len(t)} reading(s) since the rise began at reading {onset + 1}", method + "too few", onset)
+        return none(f"only {len(t)} reading(s) since the rise began at reading {(onset or 0) + 1}", method + "too few",
+                    onset)
     fits = {}
     if growth in ("auto", "linear"):
         line = _fit(t, y)

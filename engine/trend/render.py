@@ -10,6 +10,8 @@ TEMPLATES = {"text": "trend.txt.j2", "md": "trend.md.j2", "html": "trend.html.j2
 def _days(d) -> str:
     if d is None:
         return "open"
+    if d <= 0:
+        return "now"
     if d >= 60:
         return f"{d / (365.25 / 12):.1f} months"
     if d >= 2:

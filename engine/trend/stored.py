@@ -25,6 +25,10 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
         when, origin = taken_at(task, reading, None)
     advice = load_advice()
     with Store(args.store or default_store_path()) as store:
+        known = store.db.execute("SELECT taken_at, time_from FROM readings WHERE content_hash = ?",
+                                 (digest,)).fetchone()
+        if known is not None and origin == "file modified":     # stored before with a better time: keep it
+            when, origin = known[0], known[1]
         link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link)
         doc = document_of(d)

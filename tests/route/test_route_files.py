@@ -60,3 +60,19 @@ def test_a_file_matched_by_two_machines_is_an_error(tmp_path):
                                                           {"file": str(PUMP), "readings": ["*.wav"]}]})
     with pytest.raises(RouteError, match="matches both"):
         load_folder(tmp_path / "readings", plant)
+
+
+def test_a_route_that_maps_a_channel_the_file_lacks_fails_that_reading_only(tmp_path):
+    from engine.history.store import Store
+    from engine.route import run_route
+
+    path = make_route(tmp_path, n=2, bad=False)
+    data = yaml.safe_load(path.read_text())
+    data["readings"][0]["points"] = {"ch9": "P1H"}
+    data["readings"][1]["points"] = {"P2H": "XYZ"}
+    _write(path, data)
+    with Store(tmp_path / "h.sqlite") as store:
+        outcome = run_route(load_route(path), store, tmp_path / "out", workers=1)
+    assert outcome.diagnosed == []
+    problems = sorted(f["error"] for f in outcome.failed)
+    assert "channel 'ch9'" in problems[0] and "point 'XYZ'" in problems[1]
