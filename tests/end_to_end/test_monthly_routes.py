@@ -87,3 +87,28 @@ def test_a_single_diagnosis_with_the_store_shows_its_trend(surveyed, capsys):
 
     from engine.yamlfile import load_schema
     jsonschema.validate(doc, load_schema("report.schema.json"))
+
+
+@pytest.mark.parametrize("which", ["summary", "trend"])
+def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, which):
+    from end_to_end.test_diagnose import _Checker
+
+    from engine.history.store import Store
+    from engine.route import render_summary
+    from engine.trend import trend_document
+    from engine.trend.render import render_trend
+
+    root, store = surveyed
+    if which == "summary":
+        doc = json.loads((root / "month-03" / "route-reports" / "summary.json").read_text())
+        doc["machines"][0]["machine"] = "<script>alert(1)</script>"
+        html = render_summary(doc, "html")
+    else:
+        with Store(store) as s:
+            doc = trend_document(s, PUMP, plots=True)
+        doc["machine"] = "<script>alert(1)</script>"
+        html = render_trend(doc, "html")
+    checker = _Checker()
+    checker.feed(html)
+    assert not checker.errors and not checker.stack
+    assert "<script>alert" not in html and "&lt;script&gt;" in html
