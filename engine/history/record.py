@@ -87,6 +87,7 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
     for c in channels:
         c["zone"] = zones.get(c["channel"])
     top = doc["hypotheses"][0] if doc["hypotheses"] else None
+    refined = next((f.get("speed_rpm") for f in facts if f["kind"] == "acquisition"), None)
     return {
         "content_hash": content_hash,
         "machine": doc["machine"]["name"],
@@ -94,7 +95,7 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
         "source": doc["reading"]["source"],
         "taken_at": taken_at,
         "time_from": time_from,
-        "speed_rpm": doc["reading"]["speed_rpm"],
+        "speed_rpm": refined if refined else doc["reading"]["speed_rpm"],   # as refined from 1X, else as stated
         "fs_hz": doc["reading"]["fs_hz"],
         "duration_s": doc["reading"]["duration_s"],
         "elapsed_s": round(elapsed_s, 4),

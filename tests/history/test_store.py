@@ -124,3 +124,38 @@ def test_two_processes_writing_at_once_do_not_corrupt_it(tmp_path):
         assert s.integrity() == "ok"
         assert len(s.readings()) == 80
         assert s.db.execute("SELECT COUNT(*) FROM indicators").fetchone()[0] == 160
+
+
+def test_a_diagnosis_becomes_a_record_with_its_key_indicators(tmp_path):
+    from engine.history.record import content_hash, record_of
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose, document_of
+    from engine.readings import load_reading
+    from engine.reasoning import Reasoner, load_rulebook
+    from engine.synth import simulate, write_simulation
+    from support import CASES
+
+    machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")
+    (tmp_path / "a").mkdir()
+    path = write_simulation(simulate(machine, "inner-race", "pump_de", 3, fs_hz=12800.0, duration_s=1.0, seed=4,
+                                     points=["P1H"]), tmp_path / "a" / "p1h.wav")[0]
+    d = diagnose(load_reading(path), machine, Reasoner(load_rulebook()))
+    rec = record_of(document_of(d), d.facts, content_hash=content_hash([path]), taken_at="2026-01-01T00:00:00",
+                    time_from="route", machine_file=str(machine.source), elapsed_s=0.2)
+    names = {i["name"] for i in rec["indicators"]}
+    assert {"velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "crest_factor", "kurtosis", "x1_mm_s",
+            "x2_mm_s", "env_BPFI_db"} <= names
+    assert rec["channels"] == [{"channel": "P1H", "point": "P1H", "direction": "horizontal", "location": "pump_de",
+                                "zone": rec["channels"][0]["zone"]}]
+    assert rec["top"]["fault"] == "inner-race" and abs(rec["speed_rpm"] - 1486) < 15
+    # the same bytes elsewhere hash alike; a changed sidecar does not
+    other = tmp_path / "b"
+    other.mkdir()
+    for f in (path, path.with_name(path.name + ".yaml")):
+        (other / f.name).write_bytes(f.read_bytes())
+    assert content_hash([other / path.name]) == rec["content_hash"]
+    (other / (path.name + ".yaml")).write_text((other / (path.name + ".yaml")).read_text() + "point: P2H\n")
+    assert content_hash([other / path.name]) != rec["content_hash"]
+    with Store(tmp_path / "h.sqlite") as s:
+        s.add(rec)
+        assert s.history(rec["machine"])[0]["indicators"]["x1_mm_s"] > 0
