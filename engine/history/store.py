@@ -98,9 +98,19 @@ def _now() -> str:
 class Store:
     """A connection to one history file. Use as a context manager, or call ``close``."""
 
-    def __init__(self, path, *, migrate_to: int = SCHEMA_VERSION):
+    def __init__(self, path, *, migrate_to: int = SCHEMA_VERSION, read_only: bool = False):
+        """Open (and create or migrate) the store; ``read_only`` opens an existing, current one for
+        reading only (route workers looking up history while the parent writes)."""
         self.path = Path(path)
         try:
+            if read_only:
+                self.db = sqlite3.connect(self.path.absolute().as_uri() + "?mode=ro", uri=True,
+                                          timeout=BUSY_TIMEOUT_S, isolation_level=None)
+                self.db.row_factory = sqlite3.Row
+                if self.version != SCHEMA_VERSION:
+                    raise StoreError(f"schema {self.version}, expected {SCHEMA_VERSION}: open it for writing once "
+                                     "to migrate it", path=str(self.path))
+                return
             self.path.parent.mkdir(parents=True, exist_ok=True)
             self.db = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_S, isolation_level=None)
             self.db.row_factory = sqlite3.Row
@@ -229,7 +239,7 @@ class Store:
     def history(self, machine: str, point: str | None = None) -> list[dict]:
         """One row per stored channel of ``machine`` (at ``point``), oldest first, with every
         indicator of that channel under ``indicators``."""
-        sql = ("SELECT r.id, r.taken_at, r.speed_rpm, c.channel, c.point, c.direction, c.location, c.zone"
+        sql = ("SELECT r.id, r.taken_at, r.speed_rpm, r.route_id, c.channel, c.point, c.direction, c.location, c.zone"
                " FROM readings r JOIN channels c ON c.reading_id = r.id WHERE r.machine = ?")
         args: list = [machine]
         if point is not None:

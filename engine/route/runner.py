@@ -154,7 +154,8 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
             outcome.skipped.append(t.index)
         else:
             todo.append((t, hashes[t.index]))
-    settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots}
+    settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
+                "store": str(store.path.resolve()), "route_id": route_id}
     workers = workers or os.cpu_count() or 1
     outcome.workers = workers
     if scheduler:

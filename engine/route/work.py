@@ -56,6 +56,27 @@ def _map_points(reading, machine, points: dict, task: Task):
     return replace(reading, channels=channels)
 
 
+def _history_link(settings: dict, machine, advice, content_hash: str, when: str):
+    """Trend facts and a trend section from the store's earlier surveys, read-only; None without a store."""
+    path = settings.get("store")
+    if not path:
+        return None
+    from ..advice import zone_scale
+    from ..errors import StoreError
+    from ..history.store import Store
+    from ..trend.diagnosis import HistoryLink
+
+    if _STATE.get("store_path") != path:
+        try:
+            _STATE.update(store_path=path, store=Store(path, read_only=True))
+        except StoreError:      # not reachable from this worker (a remote Dask worker): no trend
+            _STATE.update(store_path=path, store=None)
+    if _STATE["store"] is None:
+        return None
+    return HistoryLink(_STATE["store"], machine, zone_scale(machine, advice), content_hash=content_hash,
+                       taken_at=when, plots=settings.get("format") == "html", exclude_route=settings.get("route_id"))
+
+
 def taken_at(task: Task, reading, clock) -> tuple[str, str]:
     """The reading's time (ISO 8601) and where it came from: the route, the file, or the file's date."""
     from ..history.times import iso, resolve_time
@@ -81,8 +102,12 @@ def diagnose_task(task: Task, content_hash: str, settings: dict) -> dict:
         reading = combine_readings([load_reading(f, **options) for f in task.files])
         reading = _map_points(reading, machine, task.points, task)
         when, origin = taken_at(task, reading, settings.get("clock"))
-        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=settings.get("plots", False))
+        link = _history_link(settings, machine, advice, content_hash, when)
+        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=settings.get("plots", False),
+                     more_facts=link)
         doc = document_of(d)
+        if link is not None and link.doc is not None:
+            doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,
                            machine_file=task.machine_file, elapsed_s=time.perf_counter() - start)
         report = render(doc, settings.get("format", "html")) if settings.get("reports", True) else None

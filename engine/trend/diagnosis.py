@@ -17,14 +17,17 @@ from .report import trend_from_rows
 class HistoryLink:
     """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``)."""
 
-    def __init__(self, store, machine, scale, *, content_hash: str, taken_at: str, plots: bool):
+    def __init__(self, store, machine, scale, *, content_hash: str, taken_at: str, plots: bool,
+                 exclude_route: int | None = None):
         self.store, self.machine, self.scale = store, machine, scale
         self.content_hash, self.taken_at, self.plots = content_hash, taken_at, plots
+        self.exclude_route = exclude_route      # a route trends against earlier surveys only
         self.doc: dict | None = None
 
     def __call__(self, facts: list[dict]) -> list[dict]:
         same = {r["id"] for r in self.store.readings(self.machine.name) if r["content_hash"] == self.content_hash}
-        rows = [r for r in self.store.history(self.machine.name) if r["id"] not in same]
+        rows = [r for r in self.store.history(self.machine.name)
+                if r["id"] not in same and (self.exclude_route is None or r["route_id"] != self.exclude_route)]
         channels, values = indicators_of(facts)
         here = {c["point"] or c["channel"] for c in channels}
         earlier = [r for r in rows if (r["point"] or r["channel"]) in here and r["taken_at"] < self.taken_at]

@@ -112,3 +112,12 @@ def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, whic
     checker.feed(html)
     assert not checker.errors and not checker.stack
     assert "<script>alert" not in html and "&lt;script&gt;" in html
+
+
+def test_each_reading_report_of_a_later_survey_shows_its_trend(surveyed):
+    root, _ = surveyed
+    first = next((root / "month-01" / "route-reports" / "reports").rglob("rw2-p1h-*.html")).read_text()
+    third = next((root / "month-03" / "route-reports" / "reports").rglob("rw2-p1h-*.html")).read_text()
+    assert 'id="trend"' not in first                      # nothing stored before the first survey
+    assert 'id="trend"' in third and "P1H: overall velocity" in third
+    assert "3 readings since 2026-01-12" in third
