@@ -57,6 +57,7 @@ def run(args) -> int:
     for fmt, ext in FORMATS.items():
         write_atomically(out / f"summary.{ext}", render_summary(doc, fmt))
     if not args.quiet:
-        sys.stdout.write(render_summary(doc, "text"))
+        text = render_summary(doc, "text")
+        sys.stdout.write(text if text.endswith("\n") else text + "\n")
     print(f"summary in {out}/summary.html (and .md, .txt, .json)", file=sys.stderr)
     return EXIT_ROUTE_FAILURES if outcome.failed else 0

@@ -53,9 +53,11 @@ def write_month(out_dir, month: int) -> Path:
                            speed_rpm=rpm, fs_hz=FS_HZ, duration_s=DURATION_S,
                            seed=1000 * month + 10 * m + p, points=[point])
             name = f"{key}-{point.lower()}-{when:%Y%m}.wav"
+            taken = (when + timedelta(minutes=6 * m + 2 * p)).isoformat()
             write_simulation(sim, folder / name)
-            readings.append({"file": name, "machine": key, "points": {point: point},
-                             "time": (when + timedelta(minutes=6 * m + 2 * p)).isoformat()})
+            with open(folder / f"{name}.yaml", "a", encoding="utf-8") as side:   # as a logger would stamp it
+                side.write(f"timestamp: '{taken}'\n")
+            readings.append({"file": name, "machine": key, "points": {point: point}, "time": taken})
     route = {"route": f"Tallow Ridge monthly survey {when:%Y-%m}",
              "about": "Simulated readings of the invented Tallow Ridge Water Works (tellwave demo-route).",
              "machines": machines, "readings": readings}
