@@ -61,7 +61,7 @@ def test_a_reading_past_the_limit_needs_no_projection():
 
 def test_the_80_percent_interval_covers_the_true_crossing_most_of_the_time():
     # calibration on the model's own form (Gebraeel et al. 2005), 60 seeded repeats with 5 % scatter:
-    # a nominal 80 % interval should cover the truth in about 80 % of them; measured 65 % (the log
+    # a nominal 80 % interval should cover the truth in about 80 % of them; measured 72 % (the log
     # transform makes the scatter uneven), so the check is loose and the shortfall is documented
     t = np.arange(0.0, 130.0)
     truth = np.where(t < 50, 1.0, 1.0 + 0.05 * np.exp(0.06 * (t - 50)))
