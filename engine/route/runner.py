@@ -110,7 +110,7 @@ def _local(tasks, settings, workers):
             raise
 
 
-def _dask(tasks, settings, scheduler, limit):
+def _dask(tasks, settings, scheduler, outcome):
     """The same on a Dask distributed cluster: ``diagnose_task`` runs on its workers."""
     from distributed import Client, as_completed
 
@@ -121,28 +121,29 @@ def _dask(tasks, settings, scheduler, limit):
     except (OSError, TimeoutError, ValueError) as exc:
         raise UsageError(f"cannot reach the Dask scheduler at {scheduler} ({exc.__class__.__name__})") from None
     with client:
-        limit = limit or max(1, sum(client.nthreads().values()))
+        outcome.workers = max(1, sum(client.nthreads().values()))
         pending = iter(tasks)
-        first = [client.submit(diagnose_task, t, h, settings, pure=False)
-                 for t, h in (next(pending, (None, None)) for _ in range(IN_FLIGHT_PER_WORKER * limit)) if t]
-        queue = as_completed(first)
+
+        def submit(item):
+            return client.submit(diagnose_task, item[0], item[1], settings, pure=False)
+
+        queue = as_completed([submit(item) for _, item in zip(range(IN_FLIGHT_PER_WORKER * outcome.workers), pending)])
         for future in queue:
             result = future.result()
             nxt = next(pending, None)
             if nxt is not None:
-                queue.add(client.submit(diagnose_task, nxt[0], nxt[1], settings, pure=False))
+                queue.add(submit(nxt))
             yield result
 
 
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
-              again: bool = False, fmt: str = "html", plots: bool = False, site=(), progress: bool = False,
-              write_atomically=None) -> RouteOutcome:
+              again: bool = False, fmt: str = "html", plots: bool = False, site=(),
+              progress: bool = False) -> RouteOutcome:
     """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``."""
     import os
 
-    from ..report import write_atomically as write
+    from ..report import write_atomically
 
-    write_atomically = write_atomically or write
     start = time.perf_counter()
     out_dir = Path(out_dir)
     route_id = store.start_route(route.name, route.file)
@@ -156,13 +157,12 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
             todo.append((t, hashes[t.index]))
     settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
                 "store": str(store.path.resolve()), "route_id": route_id}
-    workers = workers or os.cpu_count() or 1
-    outcome.workers = workers
+    outcome.workers = workers or os.cpu_count() or 1
     if scheduler:
         outcome.where = f"dask {scheduler}"
-        results = _dask(todo, settings, scheduler, None)
+        results = _dask(todo, settings, scheduler, outcome) if todo else iter(())
     elif todo:
-        results = _local(todo, settings, min(workers, len(todo)))
+        results = _local(todo, settings, min(outcome.workers, len(todo)))
     else:
         results = iter(())
     by_index = {t.index: t for t in route.tasks}
