@@ -6,9 +6,11 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import jsonschema
 import pytest
 
 from engine.cli import main
+from engine.yamlfile import load_schema
 from support import CASES
 
 PUMP = "RW-2 raw water pump"
@@ -28,6 +30,7 @@ def surveyed(tmp_path_factory):
 def test_the_third_summary_shows_the_change_since_the_last_survey(surveyed):
     root, _ = surveyed
     doc = json.loads((root / "month-03" / "route-reports" / "summary.json").read_text())
+    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
     assert doc["counts"]["diagnosed"] == 7 and doc["counts"]["failed"] == 0
     first = doc["machines"][0]
     assert first["urgency"]["rank"] <= min(m["urgency"]["rank"] for m in doc["machines"])
@@ -41,6 +44,7 @@ def test_the_trend_projects_the_growing_bearing_defect(surveyed, capsys):
     assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--limit", "accel_peak_g=5",
                  "--format", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
+    jsonschema.validate(doc, load_schema("trend.schema.json"))
     (point,) = doc["points"]
     assert point["readings"] == 3 and point["iso_change"]["bc_mm_s"] == 2.8
     peak = next(p for p in point["projections"] if p["indicator"] == "accel_peak_g")
@@ -83,9 +87,6 @@ def test_a_single_diagnosis_with_the_store_shows_its_trend(surveyed, capsys):
     assert code in (0, 7)
     doc = json.loads(capsys.readouterr().out)
     assert doc["trend"]["points"][0]["point"] == "P1H" and doc["trend"]["points"][0]["readings"] == 3
-    import jsonschema
-
-    from engine.yamlfile import load_schema
     jsonschema.validate(doc, load_schema("report.schema.json"))
 
 
