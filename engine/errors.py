@@ -7,8 +7,9 @@ and exit without a traceback. Anything that is not a ``TellwaveError`` is a bug.
 Exit codes: 0 done; 1 a case failed (``rulebook test``, ``demo``); 2 bad command
 line or case file; 3 bad machine file; 4 bad reading file; 5 bad rulebook or
 advice data; 6 a rule failed while running; 7 diagnosed, but the reading cannot
-support a conclusion (``EXIT_WITHHELD``: not an error, a result); 130 interrupted
-(Ctrl-C, ``engine.cli.EXIT_INTERRUPTED``).
+support a conclusion (``EXIT_WITHHELD``: not an error, a result); 8 the history
+store cannot be used; 9 a route finished, but some of its readings failed; 130
+interrupted (Ctrl-C, ``engine.cli.EXIT_INTERRUPTED``).
 """
 
 from __future__ import annotations
@@ -81,8 +82,19 @@ class CaseError(UsageError):
     """A case file is malformed or names files that do not exist."""
 
 
+class RouteError(UsageError):
+    """A route or plant file is malformed or names files that do not exist."""
+
+
+class StoreError(TellwaveError):
+    """The history store cannot be opened, is damaged, or was written by a newer tellwave."""
+
+    exit_code = 8
+
+
 EXIT_CASE_FAILED = 1
 EXIT_WITHHELD = 7   # diagnosed, but the reading cannot support a conclusion
+EXIT_ROUTE_FAILURES = 9   # a route ran to its end, but some readings could not be diagnosed
 
 
 class DataQualityWarning(UserWarning):

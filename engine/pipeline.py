@@ -50,11 +50,18 @@ def reading_info(reading: Reading) -> ReadingInfo:
 
 
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
-             plots: bool = False) -> Diagnosis:
-    """Diagnose ``reading`` of ``machine``; ``plots`` also cuts the data the report's figures draw."""
+             plots: bool = False, more_facts=None) -> Diagnosis:
+    """Diagnose ``reading`` of ``machine``; ``plots`` also cuts the data the report's figures draw.
+
+    ``more_facts``, if given, is called with the evidence facts and returns
+    further facts to reason over with them (``trend`` facts from the history).
+    """
     check_record_length(reading, machine)
     analysis = analyse(reading, machine)
-    evidence = summarise(run_extractors(analysis))
+    facts = run_extractors(analysis)
+    if more_facts is not None:
+        facts = facts + list(more_facts(facts))
+    evidence = summarise(facts)
     reasoning = reasoner.reason(list(evidence.facts))
     advice = advise(machine, evidence, reasoning, advice_data)
     figures = None

@@ -25,8 +25,9 @@ STAGES = {
     "advice": 5,
     "report": 6,
     "pipeline": 7, "casebook": 7,
-    "demo": 8,
-    "cli": 9, "__init__": 9, "__main__": 9,
+    "demo": 8, "history": 8, "trend": 8,
+    "route": 9,
+    "cli": 10, "__init__": 10, "__main__": 10,
 }
 
 

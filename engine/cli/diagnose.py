@@ -19,6 +19,10 @@ def register(sub) -> None:
                                           "READING.report.html or .md for HTML and Markdown)")
     add_reading_options(p)
     p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep")
+    p.add_argument("--store", nargs="?", const="", metavar="PATH",
+                   help="store the reading in the history and trend it against what is stored "
+                        "(default store: history.sqlite in the user's data folder)")
+    p.add_argument("--taken-at", metavar="TIME", help="when the reading was taken (ISO 8601), if its file does not say")
     p.set_defaults(run=run)
 
 
@@ -40,8 +44,13 @@ def run(args) -> int:
     machine = load_machine(args.machine)
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
-    d = diagnose(reading, machine, reasoner, plots=fmt == "html")
-    text = render(document_of(d), fmt)
+    if args.store is not None:
+        from ..route.stored import diagnose_and_store
+        d, doc = diagnose_and_store(args, reading, machine, reasoner, plots=fmt == "html")
+    else:
+        d = diagnose(reading, machine, reasoner, plots=fmt == "html")
+        doc = document_of(d)
+    text = render(doc, fmt)
     if output is None:
         sys.stdout.write(text)
     else:

@@ -206,6 +206,21 @@ FACTS: dict[str, dict[str, F]] = {
     },
 }
 
+# Not measured on the reading itself: made from the stored history by engine.trend.facts.
+FACTS["trend"] = {
+    "point": F("string", "measurement point id", ""),
+    "direction": F("string", "horizontal, vertical or axial", ""),
+    "indicator": F("string", "what is trended: velocity_rms_mm_s, accel_peak_g, kurtosis, env_BPFO_db, ...", ""),
+    "readings": F("integer", "readings in the history, this one included", ""),
+    "baseline": F("number", "median of the first readings, in the indicator's unit", ""),
+    "latest": F("number", "this reading's value, in the indicator's unit", ""),
+    "change_pct": F("number", "latest over baseline, less 1, percent", "%"),
+    "rate_per_month": F("number", "least-squares slope over the history, indicator unit per month", ""),
+    "iso_change_significant": F("boolean", "velocity changed by more than 25 % of the B/C boundary (ISO 20816-3)", ""),
+    "projected_days": F("number", "projected days to the next zone boundary or limit (-1: no projection)", ""),
+    "projection_to": F("string", "the boundary or limit projected to", ""),
+}
+
 COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact identity", "")}
 
 

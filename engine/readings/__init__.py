@@ -20,6 +20,7 @@ from .. import units
 from ..errors import ReadingError, UsageError
 from ..machine import check_speed_rpm
 from ..yamlfile import read_yaml, validate
+from .columns import apply_column_map
 from .formats import READERS, RawReading, check_raw
 from .length import MIN_SAMPLES, check_record_length
 from .model import Channel, QualityIssue, Reading
@@ -96,6 +97,8 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
         raise ReadingError(f"cannot be read as {p.suffix.lstrip('.').upper()} "
                            f"({exc.__class__.__name__})", path=path) from None
     side = _read_sidecar(path)
+    if side.get("columns"):
+        raw = apply_column_map(raw, side["columns"], path, str(sidecar_path(path)))
     return _assemble(path, raw, side, dict(
         sample_rate_hz=sample_rate_hz, unit=unit, scale=scale, point=point,
         direction=direction, speed_rpm=speed_rpm), channels)

@@ -1,0 +1,14 @@
+"""The --store option the history commands share."""
+
+from __future__ import annotations
+
+
+def add_store_option(p) -> None:
+    p.add_argument("--store", metavar="PATH",
+                   help="history store (SQLite file; default: history.sqlite in the user's data folder)")
+
+
+def open_store(args):
+    from ..history.store import Store, default_store_path
+
+    return Store(args.store or default_store_path())

@@ -1,0 +1,18 @@
+"""``tellwave demo-route``: monthly demo routes whose faults grow, for route, history and trend."""
+
+from __future__ import annotations
+
+
+def register(sub) -> None:
+    p = sub.add_parser("demo-route", help="write demo routes a month apart, with faults that grow")
+    p.add_argument("--out", default="tellwave-routes", help="folder for the months (default: tellwave-routes)")
+    p.add_argument("--months", type=int, default=3, help="how many monthly surveys to write (1-6, default 3)")
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    from ..route.demo_plant import write_month
+
+    for month in range(1, args.months + 1):
+        print(f"wrote {write_month(args.out, month)}")
+    return 0

@@ -1,0 +1,63 @@
+"""``tellwave route``: a whole survey in one command: diagnose, store, report, summarise."""
+
+from __future__ import annotations
+
+from ._common import add_site_option
+from ._store import add_store_option
+
+
+def register(sub) -> None:
+    p = sub.add_parser("route", help="diagnose a whole route of readings, store them and summarise")
+    p.add_argument("route", help="route file (YAML), or a folder of readings with sidecars (give --plant)")
+    p.add_argument("--plant", help="plant file mapping the folder's readings to machines")
+    p.add_argument("--out", help="folder for reports and the summary (default: ROUTE-reports next to the route)")
+    p.add_argument("--workers", type=int, help="worker processes (default: all cores)")
+    p.add_argument("--scheduler", metavar="ADDRESS", help="run on this Dask distributed scheduler instead")
+    add_store_option(p)
+    p.add_argument("--again", action="store_true", help="diagnose readings already stored once more")
+    p.add_argument("--format", choices=["html", "md", "text", "json"], default="html",
+                   help="format of each reading's report (default html); the summary is written in all four")
+    p.add_argument("--plots", action="store_true", help="draw the plots in each reading's HTML report")
+    p.add_argument("--quiet", action="store_true", help="no progress bar and no summary on the terminal")
+    add_site_option(p)
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    import sys
+    from pathlib import Path
+
+    from ..errors import EXIT_ROUTE_FAILURES, UsageError
+    from ..report import write_atomically
+    from ..route import FORMATS, load_folder, load_route, render_summary, route_summary, run_route
+    from ._store import open_store
+
+    if args.workers is not None and args.workers < 1:
+        raise UsageError(f"--workers must be at least 1, got {args.workers}")
+    source = Path(args.route)
+    if source.is_dir():
+        if not args.plant:
+            raise UsageError(f"{source} is a folder: give --plant PLANT.yaml to map its readings to machines")
+        route = load_folder(source, args.plant)
+    else:
+        if args.plant:
+            raise UsageError("--plant goes with a folder of readings, not with a route file")
+        route = load_route(source)
+    out = Path(args.out) if args.out else source.parent / f"{source.stem}-reports"
+    with open_store(args) as store:
+        try:
+            outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,
+                                again=args.again, fmt=args.format, plots=args.plots, site=args.site or (),
+                                progress=not args.quiet and sys.stderr.isatty())
+        except KeyboardInterrupt:
+            print("tellwave: interrupted; every reading finished so far is stored: run the same command "
+                  "again to resume", file=sys.stderr)
+            return 130
+        doc = route_summary(outcome, store, out)
+    for fmt, ext in FORMATS.items():
+        write_atomically(out / f"summary.{ext}", render_summary(doc, fmt))
+    if not args.quiet:
+        text = render_summary(doc, "text")
+        sys.stdout.write(text if text.endswith("\n") else text + "\n")
+    print(f"summary in {out}/summary.html (and .md, .txt, .json)", file=sys.stderr)
+    return EXIT_ROUTE_FAILURES if outcome.failed else 0

@@ -1,0 +1,66 @@
+"""``tellwave trend``: a machine's history, its change against baseline and projected times."""
+
+from __future__ import annotations
+
+from ._store import add_store_option
+
+
+def register(sub) -> None:
+    p = sub.add_parser("trend", help="trend a stored machine: change, rate per month, projected time to a limit")
+    p.add_argument("machine", help="machine name as its file gives it (tellwave history lists them)")
+    p.add_argument("--point", help="only this measurement point")
+    p.add_argument("--limit", action="append", default=[], metavar="INDICATOR=VALUE",
+                   help="project the time to this limit too, e.g. accel_peak_g=20 (repeatable)")
+    add_store_option(p)
+    p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
+                   help="output format (default text; html has the plots)")
+    p.add_argument("-o", "--output", help="file to write (default: the terminal; MACHINE.trend.html for HTML)")
+    p.set_defaults(run=run)
+
+
+def parse_limits(items: list[str]) -> dict[str, float]:
+    from ..errors import UsageError
+    from ..history.record import INDICATORS
+
+    limits = {}
+    for item in items:
+        name, sep, value = item.partition("=")
+        name = name.strip()
+        if not sep or name not in INDICATORS:
+            raise UsageError(f"--limit {item!r}: expected INDICATOR=VALUE with one of {', '.join(INDICATORS)}")
+        try:
+            limits[name] = float(value)
+        except ValueError:
+            raise UsageError(f"--limit {item!r}: {value!r} is not a number") from None
+        if not limits[name] > 0:
+            raise UsageError(f"--limit {item!r}: the limit must be positive")
+    return limits
+
+
+def run(args) -> int:
+    import sys
+
+    from ..errors import UsageError
+    from ..report import write_atomically
+    from ..route.runner import slug
+    from ..trend import trend_document
+    from ..trend.render import render_trend
+    from ._store import open_store
+
+    limits = parse_limits(args.limit)
+    with open_store(args) as store:
+        if args.machine not in store.machines():
+            known = ", ".join(store.machines()) or "none"
+            raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
+        doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html")
+    if not doc["points"]:
+        raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
+    text = render_trend(doc, args.format)
+    output = args.output
+    if output is None and args.format in ("html", "md"):
+        output = f"{slug(args.machine)}.trend.{args.format}"
+    if output is None:
+        sys.stdout.write(text)
+    else:
+        print(f"wrote {write_atomically(output, text)}")
+    return 0

@@ -1,0 +1,112 @@
+"""What the store keeps of one diagnosis: the one place that reads evidence facts and the
+report document for the history, so a change of field names touches only this module.
+
+A record is plain data (it crosses process boundaries in a route): the
+machine, the time, overall levels and key indicators per channel, the
+hypotheses with certainty and the verdict.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from pathlib import Path
+
+from ..readings import sidecar_path
+
+# name -> (label with unit, what it is); the trend stage reads these names
+INDICATORS: dict[str, tuple[str, str]] = {
+    "velocity_rms_mm_s": ("velocity, mm/s RMS", "overall velocity in the ISO 20816-3 band"),
+    "accel_peak_g": ("acceleration peak, g", "largest absolute acceleration in the waveform"),
+    "accel_rms_g": ("acceleration RMS, g", "acceleration RMS over the whole band"),
+    "crest_factor": ("crest factor", "acceleration peak over RMS"),
+    "kurtosis": ("kurtosis", "kurtosis of acceleration (3 for Gaussian)"),
+    "x1_mm_s": ("1X, mm/s RMS", "1X of the shaft the point's bearing carries"),
+    "x2_mm_s": ("2X, mm/s RMS", "2X of that shaft"),
+}
+BEARING_DEFECTS = ("BPFO", "BPFI", "BSF", "FTF")
+for _d in BEARING_DEFECTS:
+    INDICATORS[f"env_{_d}_db"] = (f"envelope {_d}, dB over floor",
+                                  f"best {_d} line of the squared envelope spectrum, bearing at the point")
+    INDICATORS[f"tone_{_d}_g"] = (f"{_d} in the spectrum, g peak", f"{_d} tone of the bearing at the point")
+
+OVERALL = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "crest_factor", "kurtosis")
+
+
+def content_hash(paths) -> str:
+    """SHA-256 over the bytes of the reading files and their sidecars, in order: the same
+    recording with the same settings hashes alike wherever it lies."""
+    h = hashlib.sha256()
+    for p in paths:
+        for f in (Path(p), sidecar_path(p)):
+            if f.is_file():
+                h.update(b"reading" if f == Path(p) else b"sidecar")
+                with open(f, "rb") as fh:
+                    for block in iter(lambda: fh.read(1 << 20), b""):
+                        h.update(block)
+    return h.hexdigest()
+
+
+def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
+    """The channels of a reading and the key indicators of each, from its evidence facts."""
+    channels, values = [], []
+    overall = {f["channel"]: f for f in facts if f["kind"] == "overall"}
+    for name, o in overall.items():
+        channels.append({"channel": name, "point": o.get("point") or "", "direction": o.get("direction") or "",
+                         "location": o.get("location") or ""})
+        values += [{"channel": name, "name": k, "value": o[k]} for k in OVERALL if o.get(k) is not None]
+        shaft, bearing = o.get("location_shaft"), o.get("location")
+        for f in facts:
+            if f.get("channel") != name:
+                continue
+            if f["kind"] == "tone" and f["name"] == "1X" and f["component"] == shaft:
+                values.append({"channel": name, "name": "x1_mm_s", "value": f["amplitude_mm_s"]})
+            elif f["kind"] == "harmonic_series" and f["source"] == "1X" and f["component"] == shaft:
+                values.append({"channel": name, "name": "x2_mm_s",
+                               "value": f["first_mm_s"] * f["second_to_first"]})
+            elif f["kind"] == "tone" and f["name"] in BEARING_DEFECTS and f["component"] == bearing:
+                values.append({"channel": name, "name": f"tone_{f['name']}_g", "value": f["amplitude_g"]})
+        best: dict[str, float] = {}
+        for f in facts:
+            if f["kind"] == "envelope_tone" and f.get("channel") == name and f["component"] == bearing:
+                best[f["defect"]] = max(best.get(f["defect"], -1e9), f["max_snr_db"])
+        values += [{"channel": name, "name": f"env_{d}_db", "value": v} for d, v in best.items()]
+    seen, unique = set(), []
+    for v in values:           # one value per channel and name (the first wins)
+        key = (v["channel"], v["name"])
+        if key not in seen and v["value"] == v["value"]:
+            seen.add(key)
+            unique.append({**v, "value": float(v["value"])})
+    return channels, unique
+
+
+def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str, time_from: str,
+              machine_file: str | None, elapsed_s: float) -> dict:
+    """The stored record of one diagnosis (``doc`` from ``pipeline.document_of``)."""
+    channels, values = indicators_of(facts)
+    zones = {z["channel"]: z["zone"] for z in doc["zones"]["points"]}
+    for c in channels:
+        c["zone"] = zones.get(c["channel"])
+    top = doc["hypotheses"][0] if doc["hypotheses"] else None
+    refined = next((f.get("speed_rpm") for f in facts if f["kind"] == "acquisition"), None)
+    return {
+        "content_hash": content_hash,
+        "machine": doc["machine"]["name"],
+        "machine_file": machine_file,
+        "source": doc["reading"]["source"],
+        "taken_at": taken_at,
+        "time_from": time_from,
+        "speed_rpm": refined if refined else doc["reading"]["speed_rpm"],   # as refined from 1X, else as stated
+        "fs_hz": doc["reading"]["fs_hz"],
+        "duration_s": doc["reading"]["duration_s"],
+        "elapsed_s": round(elapsed_s, 4),
+        "verdict": {"urgency": doc["verdict"]["urgency"]["id"], "urgency_label": doc["verdict"]["urgency"]["label"],
+                    "worst_zone": doc["zones"]["worst"], "withheld": doc["verdict"]["withheld"],
+                    "summary": doc["verdict"]["summary"]},
+        "top": None if top is None else {"fault": top["fault"], "fault_name": top["fault_name"],
+                                         "component": top["component"], "certainty": top["certainty"]},
+        "channels": channels,
+        "indicators": values,
+        "hypotheses": [{"rank": h["rank"], "fault": h["fault"], "fault_name": h["fault_name"],
+                        "component": h["component"], "certainty": h["certainty"], "urgency": h["urgency"]["id"]}
+                       for h in doc["hypotheses"]],
+    }

@@ -1,0 +1,64 @@
+"""A demo plant's monthly routes with faults that grow, for trying route, history and trend.
+
+Tallow Ridge Water Works is invented. Month by month the RW-2 pump's drive-
+end bearing goes from an incipient inner-race defect to an advanced one and
+the BW-1 blower's unbalance grows; the CT-1 fan stays healthy. Each month
+is a folder with its readings (simulated, written as WAV files with
+sidecars) and a route file that dates them a month apart.
+"""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta
+from pathlib import Path
+
+import yaml
+
+from ..machine import load_machine
+from ..paths import CASES
+from ..report import write_atomically
+from ..synth import simulate, write_simulation
+
+FIRST_SURVEY = datetime(2026, 1, 12, 8, 30)
+SURVEY_INTERVAL = timedelta(days=30)
+FS_HZ = 25600.0
+DURATION_S = 2.0
+
+# machine file, points on the route, fault, component, stage in each month (None: healthy), speed rpm
+PLAN = (
+    ("rw2-raw-water-pump.yaml", ("P1H", "P2H", "M2H"), "inner-race", "pump_de", (1, 2, 3, 3, 4, 4), 1486),
+    ("bw1-backwash-blower.yaml", ("BDEH", "MDEH"), "unbalance", "blower", (1, 1, 2, 2, 3, 4), 2955),
+    ("ct1-cooling-tower-fan.yaml", ("MDEH", "GINH"), "healthy", None, (None,) * 6, None),
+)
+MONTHS = 6
+
+
+def write_month(out_dir, month: int) -> Path:
+    """Write month ``month`` (1-based) of the demo routes; returns its route file."""
+    if not 1 <= month <= MONTHS:
+        from ..errors import UsageError
+        raise UsageError(f"the demo has months 1 to {MONTHS}, got {month}")
+    folder = Path(out_dir) / f"month-{month:02d}"
+    folder.mkdir(parents=True, exist_ok=True)
+    when = FIRST_SURVEY + (month - 1) * SURVEY_INTERVAL
+    readings, machines = [], {}
+    for m, (file, points, fault, component, stages, rpm) in enumerate(PLAN):
+        machine_file = CASES / "machines" / file
+        machine = load_machine(machine_file)
+        key = file.split("-")[0]
+        machines[key] = str(machine_file)
+        stage = stages[month - 1]
+        for p, point in enumerate(points):
+            sim = simulate(machine, fault if stage else "healthy", component if stage else None, stage or 2,
+                           speed_rpm=rpm, fs_hz=FS_HZ, duration_s=DURATION_S,
+                           seed=1000 * month + 10 * m + p, points=[point])
+            name = f"{key}-{point.lower()}-{when:%Y%m}.wav"
+            taken = (when + timedelta(minutes=6 * m + 2 * p)).isoformat()
+            write_simulation(sim, folder / name)
+            with open(folder / f"{name}.yaml", "a", encoding="utf-8") as side:   # as a logger would stamp it
+                side.write(f"timestamp: '{taken}'\n")
+            readings.append({"file": name, "machine": key, "points": {point: point}, "time": taken})
+    route = {"route": f"Tallow Ridge monthly survey {when:%Y-%m}",
+             "about": "Simulated readings of the invented Tallow Ridge Water Works (tellwave demo-route).",
+             "machines": machines, "readings": readings}
+    return write_atomically(folder / "route.yaml", yaml.safe_dump(route, sort_keys=False))

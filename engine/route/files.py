@@ -1,0 +1,120 @@
+"""Route files and plant files -> a ``Route``: the list of reading tasks of one survey.
+
+A route file lists each reading with its machine, point mapping and time. A
+plant file maps the readings of a folder (each with its sidecar) to machines
+by file-name pattern. Both are checked against their JSON Schema; a file
+that does not exist is a one-line error naming the route file and the line.
+Tasks are plain data, so they cross to worker processes and Dask workers.
+"""
+
+from __future__ import annotations
+
+import fnmatch
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from ..errors import RouteError, UsageError
+from ..history.times import Clock, parse_time
+from ..yamlfile import read_yaml, validate
+
+READING_SUFFIXES = (".wav", ".csv", ".npy", ".npz", ".mat", ".uff", ".unv")
+
+
+@dataclass(frozen=True)
+class Task:
+    """One reading of a route: plain data a worker can diagnose on its own."""
+
+    index: int
+    files: tuple[str, ...]
+    machine_file: str
+    points: dict = field(default_factory=dict)      # channel -> point id
+    time: str | None = None                         # as stated by the route (resolved later)
+    options: dict = field(default_factory=dict)     # speed_rpm, sample_rate_hz, unit
+
+    @property
+    def name(self) -> str:
+        return Path(self.files[0]).name
+
+
+@dataclass(frozen=True)
+class Route:
+    name: str
+    file: str | None
+    tasks: tuple[Task, ...]
+    clock: Clock | None = None
+
+
+def _absolute(p) -> str:
+    """An absolute path that keeps symbolic links (a linked reading keeps the sidecar beside the link)."""
+    return os.path.normpath(os.path.abspath(p))
+
+
+def _clock(data: dict | None, path: str) -> Clock | None:
+    if not data:
+        return None
+    try:
+        return Clock(parse_time(data["start"], what="clock.start"), data.get("interval_s"))
+    except UsageError as exc:
+        raise RouteError(exc.problem, path=path) from None
+
+
+def load_route(path) -> Route:
+    """A route file (YAML, ``engine/schemas/route.schema.json``)."""
+    path = str(path)
+    doc = read_yaml(path, RouteError)
+    if not isinstance(doc.data, dict):
+        raise RouteError("a route file must be a mapping with a readings: list", path=path, line=1)
+    validate(doc, "route.schema.json", RouteError)
+    base = Path(_absolute(Path(path).parent))
+    machines = {k: _absolute(base / v) for k, v in doc.data.get("machines", {}).items()}
+    for key, file in machines.items():
+        if not Path(file).is_file():
+            raise RouteError(f"machines.{key}: no such machine file {file}", path=path,
+                             line=doc.line_of(["machines", key]))
+    tasks = []
+    for i, item in enumerate(doc.data["readings"]):
+        where = ["readings", i]
+        files = [item["file"]] if "file" in item else item["files"]
+        resolved = tuple(_absolute(base / f) for f in files)
+        machine = machines.get(item["machine"]) or _absolute(base / item["machine"])
+        if not Path(machine).is_file():
+            raise RouteError(f"readings.{i}.machine: {item['machine']!r} is neither a name under machines: "
+                             "nor a machine file", path=path, line=doc.line_of(where + ["machine"]))
+        options = {k: item[k] for k in ("speed_rpm", "sample_rate_hz", "unit") if k in item}
+        time = item.get("time")
+        tasks.append(Task(i, resolved, machine, dict(item.get("points", {})),
+                          None if time is None else (time if isinstance(time, (int, float)) else str(time)),
+                          options))
+    return Route(doc.data.get("route", Path(path).stem), path, tuple(tasks),
+                 _clock(doc.data.get("clock"), path))
+
+
+def load_folder(folder, plant_file) -> Route:
+    """Every reading file of ``folder`` that the plant file maps to a machine."""
+    plant_file = str(plant_file)
+    doc = read_yaml(plant_file, RouteError)
+    if not isinstance(doc.data, dict):
+        raise RouteError("a plant file must be a mapping with a machines: list", path=plant_file, line=1)
+    validate(doc, "plant.schema.json", RouteError)
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise RouteError("no such folder of readings", path=str(folder))
+    base = Path(_absolute(Path(plant_file).parent))
+    files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and p.is_file())
+    tasks, taken = [], {}
+    for m, entry in enumerate(doc.data["machines"]):
+        machine = _absolute(base / entry["file"])
+        if not Path(machine).is_file():
+            raise RouteError(f"machines.{m}.file: no such machine file {machine}", path=plant_file,
+                             line=doc.line_of(["machines", m, "file"]))
+        for p in files:
+            if any(fnmatch.fnmatch(p.name, pattern) for pattern in entry["readings"]):
+                if p in taken:
+                    raise RouteError(f"{p.name} matches both {taken[p]} and {entry['file']}", path=plant_file,
+                                     line=doc.line_of(["machines", m, "readings"]))
+                taken[p] = entry["file"]
+                tasks.append(Task(len(tasks), (_absolute(p),), machine))
+    if not tasks:
+        raise RouteError("no reading file in the folder matches the plant file's patterns", path=str(folder))
+    return Route(doc.data.get("plant", folder.name), plant_file, tuple(tasks), _clock(doc.data.get("clock"), plant_file))

@@ -1,0 +1,40 @@
+"""``diagnose --store``: diagnose one reading with its history, then store it."""
+
+from __future__ import annotations
+
+import time
+
+
+def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
+    """(Diagnosis, report document with a ``trend`` section when a history exists); the reading is stored."""
+    from ..advice import load_advice, zone_scale
+    from ..history.record import content_hash, record_of
+    from ..history.store import Store, default_store_path
+    from ..history.times import iso, resolve_time
+    from ..pipeline import diagnose, document_of
+    from .files import Task
+    from .work import taken_at
+    from ..trend.diagnosis import HistoryLink
+
+    start = time.perf_counter()
+    digest = content_hash(args.readings)
+    task = Task(0, tuple(args.readings), machine.source, time=args.taken_at)
+    if args.taken_at is not None:
+        when, origin = iso(resolve_time(args.taken_at, None, what="--taken-at")), "command line"
+    else:
+        when, origin = taken_at(task, reading, None)
+    advice = load_advice()
+    with Store(args.store or default_store_path()) as store:
+        known = store.db.execute("SELECT taken_at, time_from FROM readings WHERE content_hash = ?",
+                                 (digest,)).fetchone()
+        if known is not None and origin == "file modified":     # stored before with a better time: keep it
+            when, origin = known[0], known[1]
+        link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots)
+        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link)
+        doc = document_of(d)
+        if link.doc is not None:
+            doc["trend"] = link.doc
+        record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,
+                           machine_file=machine.source, elapsed_s=time.perf_counter() - start)
+        store.add(record, replace=True)
+    return d, doc

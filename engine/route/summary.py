@@ -1,0 +1,124 @@
+"""The route summary: one plain dict for every format, worst machines first.
+
+Machines are ranked by urgency (most urgent first), then by ISO 20816-3
+zone (D first), then by the certainty of their top finding. Each carries its
+top finding, the change of its overall velocity since the last survey
+before this route (from the history store) and links to its readings'
+reports. The summary reads the store, so skipped readings (already stored
+by an earlier run) appear exactly as freshly diagnosed ones.
+"""
+
+from __future__ import annotations
+
+import os
+from datetime import datetime, timezone
+from pathlib import Path
+
+from .. import __version__
+from ..history.store import Store
+from .runner import RouteOutcome
+
+ZONE_ORDER = {"D": 0, "C": 1, "B": 2, "A": 3, None: 4}
+
+
+def _urgencies() -> dict[str, tuple[int, str]]:
+    from ..advice import load_advice
+
+    return {u["id"]: (i, u["label"]) for i, u in enumerate(load_advice()["urgency"])}
+
+
+def _velocity_by_point(rows: list[dict]) -> dict[str, tuple[str, float]]:
+    """point -> (time, velocity) of the latest row of each point."""
+    out = {}
+    for r in rows:
+        v = r["indicators"].get("velocity_rms_mm_s")
+        if v is not None:
+            out[r["point"] or r["channel"]] = (r["taken_at"], v)
+    return out
+
+
+def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
+    """The largest change of overall velocity at a point since the last survey before this route."""
+    rows = store.history(machine)
+    now_rows = [r for r in rows if r["id"] in reading_ids]
+    if not now_rows:
+        return None
+    first_now = min(r["taken_at"] for r in now_rows)
+    before = [r for r in rows if r["id"] not in reading_ids and r["taken_at"] < first_now]
+    if not before:
+        return None
+    then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
+    best = None
+    for point, (t_now, v_now) in now.items():
+        if point in then:
+            t_then, v_then = then[point]
+            pct = 100.0 * (v_now - v_then) / v_then if v_then > 0 else None
+            item = {"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
+                    "change_pct": None if pct is None else round(pct, 1)}
+            if best is None or abs(v_now - v_then) > abs(best["now_mm_s"] - best["then_mm_s"]):
+                best = item
+    if best is None:
+        return None
+    prev = store.previous(machine, first_now)
+    best["top_then"] = None
+    if prev is not None:
+        top = store.db.execute("SELECT fault_name, component, certainty FROM hypotheses WHERE reading_id = ?"
+                               " AND rank = 1", (prev["id"],)).fetchone()
+        if top is not None:
+            best["top_then"] = f"{top[0]} on {top[1]} ({100 * max(top[2], 0):.0f} %)"
+    return best
+
+
+def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
+    """The summary document of a finished (or resumed) route."""
+    out_dir = Path(out_dir).resolve()
+    urgencies = _urgencies()
+    rows = []
+    for t in outcome.route.tasks:
+        got = store.db.execute("SELECT id FROM readings WHERE content_hash = ?", (outcome.hashes[t.index],)).fetchone()
+        if got is not None:
+            rows.append((t, store.reading(got[0])))
+    machines: dict[str, dict] = {}
+    for task, r in rows:
+        tops = store.db.execute("SELECT fault, fault_name, component, certainty FROM hypotheses"
+                                " WHERE reading_id = ? AND rank = 1", (r["id"],)).fetchone()
+        points = [p[0] for p in store.db.execute("SELECT point FROM channels WHERE reading_id = ?", (r["id"],))]
+        rank, label = urgencies.get(r["urgency"], (len(urgencies), r["urgency"]))
+        report = r["report"]
+        link = os.path.relpath(report, out_dir) if report else None
+        item = {"file": Path(task.files[0]).name, "taken_at": r["taken_at"], "time_from": r["time_from"],
+                "points": [p for p in points if p], "urgency": {"id": r["urgency"], "label": label, "rank": rank},
+                "zone": r["worst_zone"], "summary": r["summary"], "withheld": bool(r["withheld"]),
+                "certainty_pct": round(100 * max(tops[3], 0)) if tops else 0, "report": link,
+                "skipped": task.index in outcome.skipped, "_id": r["id"],
+                "top": None if tops is None else {"fault": tops[0], "fault_name": tops[1], "component": tops[2],
+                                                  "certainty_pct": round(100 * max(tops[3], 0))}}
+        machines.setdefault(r["machine"], {"machine": r["machine"], "readings": []})["readings"].append(item)
+    ranked = []
+    for m in machines.values():
+        m["readings"].sort(key=lambda x: (x["urgency"]["rank"], ZONE_ORDER.get(x["zone"], 4), -x["certainty_pct"]))
+        worst = m["readings"][0]
+        m["urgency"] = worst["urgency"]
+        m["zone"] = min((x["zone"] for x in m["readings"]), key=lambda z: ZONE_ORDER.get(z, 4))
+        m["top"] = worst["top"]
+        m["summary"] = worst["summary"]
+        m["certainty_pct"] = worst["certainty_pct"]
+        m["change"] = _change(store, m["machine"], {x["_id"] for x in m["readings"]})
+        for x in m["readings"]:
+            del x["_id"]
+        ranked.append(m)
+    ranked.sort(key=lambda m: (m["urgency"]["rank"], ZONE_ORDER.get(m["zone"], 4), -m["certainty_pct"], m["machine"]))
+    n = len(outcome.route.tasks)
+    return {
+        "tellwave": __version__,
+        "route": outcome.route.name,
+        "file": outcome.route.file,
+        "made_at": datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        "store": str(store.path),
+        "counts": {"readings": n, "diagnosed": len(outcome.diagnosed), "skipped": len(outcome.skipped),
+                   "failed": len(outcome.failed), "machines": len(ranked)},
+        "run": {"wall_s": round(outcome.wall_s, 2), "workers": outcome.workers, "where": outcome.where,
+                "readings_per_s": round(len(outcome.diagnosed) / outcome.wall_s, 2) if outcome.wall_s else None},
+        "machines": ranked,
+        "failures": outcome.failed,
+    }

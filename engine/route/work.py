@@ -1,0 +1,120 @@
+"""One reading of a route, diagnosed in a worker process: task in, plain data out.
+
+Each worker process builds its own Reasoner (durable-rules state cannot be
+pickled) and loads the advice data and each machine file once. What it
+returns is plain data (the stored record and the rendered report), so the
+same function runs in a local process pool and on a Dask worker.
+"""
+
+from __future__ import annotations
+
+import os
+import time
+from dataclasses import replace
+from datetime import datetime
+from pathlib import Path
+
+from ..errors import TellwaveError, UsageError
+from .files import Task
+
+_STATE: dict = {}
+
+
+def _reasoner(site: tuple[str, ...]):
+    if _STATE.get("site") != site:
+        from ..advice import load_advice
+        from ..reasoning import Reasoner, load_rulebook
+
+        _STATE.update(site=site, reasoner=Reasoner(load_rulebook(*site)), advice=load_advice(), machines={})
+    return _STATE["reasoner"], _STATE["advice"]
+
+
+def _machine(path: str):
+    from ..machine import load_machine
+
+    machines = _STATE.setdefault("machines", {})
+    if path not in machines:
+        machines[path] = load_machine(path)
+    return machines[path]
+
+
+def _map_points(reading, machine, points: dict, task: Task):
+    """Channels renamed to the route's point ids; direction from the machine where the file says none."""
+    if not points:
+        return reading
+    known = {p.id: p for p in machine.points}
+    names = {c.name for c in reading.channels}
+    for channel, point in points.items():
+        if channel not in names:
+            raise UsageError(f"the route maps channel {channel!r} to {point}, but the file's channels are "
+                             f"{', '.join(sorted(names))}", path=task.files[0])
+        if point not in known:
+            raise UsageError(f"the route maps {channel} to point {point!r}, which {machine.name} does not have "
+                             f"(points: {', '.join(known)})", path=task.files[0])
+    channels = tuple(replace(c, point=points[c.name], direction=c.direction or known[points[c.name]].direction)
+                     if c.name in points else c for c in reading.channels)
+    return replace(reading, channels=channels)
+
+
+def _history_link(settings: dict, machine, advice, content_hash: str, when: str):
+    """Trend facts and a trend section from the store's earlier surveys, read-only; None without a store."""
+    path = settings.get("store")
+    if not path:
+        return None
+    from ..advice import zone_scale
+    from ..errors import StoreError
+    from ..history.store import Store
+    from ..trend.diagnosis import HistoryLink
+
+    if _STATE.get("store_path") != path:
+        try:
+            _STATE.update(store_path=path, store=Store(path, read_only=True))
+        except StoreError:      # not reachable from this worker (a remote Dask worker): no trend
+            _STATE.update(store_path=path, store=None)
+    if _STATE["store"] is None:
+        return None
+    return HistoryLink(_STATE["store"], machine, zone_scale(machine, advice), content_hash=content_hash,
+                       taken_at=when, plots=settings.get("format") == "html", exclude_route=settings.get("route_id"))
+
+
+def taken_at(task: Task, reading, clock) -> tuple[str, str]:
+    """The reading's time (ISO 8601) and where it came from: the route, the file, or the file's date."""
+    from ..history.times import iso, resolve_time
+
+    for stated, origin in ((task.time, "route"), (reading.timestamp, "file")):
+        if stated is not None:
+            return iso(resolve_time(stated, clock, what=f"{task.name}: time")), origin
+    return iso(datetime.fromtimestamp(os.path.getmtime(task.files[0]))), "file modified"
+
+
+def diagnose_task(task: Task, content_hash: str, settings: dict) -> dict:
+    """Diagnose one task; a bad file becomes ``{"ok": False, "error": ...}``, never an exception."""
+    start = time.perf_counter()
+    try:
+        from ..history.record import record_of
+        from ..pipeline import diagnose, document_of
+        from ..readings import combine_readings, load_reading
+        from ..report import render
+
+        reasoner, advice = _reasoner(tuple(settings.get("site", ())))
+        machine = _machine(task.machine_file)
+        options = {k: task.options.get(k) for k in ("speed_rpm", "sample_rate_hz", "unit")}
+        reading = combine_readings([load_reading(f, **options) for f in task.files])
+        reading = _map_points(reading, machine, task.points, task)
+        when, origin = taken_at(task, reading, settings.get("clock"))
+        link = _history_link(settings, machine, advice, content_hash, when)
+        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=settings.get("plots", False),
+                     more_facts=link)
+        doc = document_of(d)
+        if link is not None and link.doc is not None:
+            doc["trend"] = link.doc
+        record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,
+                           machine_file=task.machine_file, elapsed_s=time.perf_counter() - start)
+        report = render(doc, settings.get("format", "html")) if settings.get("reports", True) else None
+        return {"index": task.index, "ok": True, "record": record, "report": report}
+    except TellwaveError as exc:
+        return {"index": task.index, "ok": False, "file": task.files[0], "error": str(exc)}
+    except Exception as exc:  # a bug on one reading must not stop a route of hundreds; it is named as one
+        return {"index": task.index, "ok": False, "file": task.files[0],
+                "error": f"{Path(task.files[0]).name}: internal error ({exc.__class__.__name__}: {exc}); "
+                         "please report it"}

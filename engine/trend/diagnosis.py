@@ -1,0 +1,43 @@
+"""A single diagnosis with its machine's history: trend facts for reasoning, a trend section for
+the report, and the reading stored afterwards (``tellwave diagnose --store``).
+
+The history before this reading plus this reading's own indicators make the
+trend; its ``trend`` facts go to reasoning with the evidence facts, and its
+document (with the plot of each point when asked) goes into the report under
+``trend``, which the templates show only when present.
+"""
+
+from __future__ import annotations
+
+from ..history.record import indicators_of
+from .facts import trend_facts
+from .report import trend_from_rows
+
+
+class HistoryLink:
+    """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``)."""
+
+    def __init__(self, store, machine, scale, *, content_hash: str, taken_at: str, plots: bool,
+                 exclude_route: int | None = None):
+        self.store, self.machine, self.scale = store, machine, scale
+        self.content_hash, self.taken_at, self.plots = content_hash, taken_at, plots
+        self.exclude_route = exclude_route      # a route trends against earlier surveys only
+        self.doc: dict | None = None
+
+    def __call__(self, facts: list[dict]) -> list[dict]:
+        same = {r["id"] for r in self.store.readings(self.machine.name) if r["content_hash"] == self.content_hash}
+        rows = [r for r in self.store.history(self.machine.name)
+                if r["id"] not in same and (self.exclude_route is None or r["route_id"] != self.exclude_route)]
+        channels, values = indicators_of(facts)
+        here = {c["point"] or c["channel"] for c in channels}
+        earlier = [r for r in rows if (r["point"] or r["channel"]) in here and r["taken_at"] < self.taken_at]
+        if not earlier:
+            return []
+        now = [{"id": -1, "taken_at": self.taken_at, "speed_rpm": None, "channel": c["channel"], "point": c["point"],
+                "direction": c["direction"], "location": c["location"], "zone": None,
+                "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}
+               for c in channels]
+        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots)
+        doc["points"] = [p for p in doc["points"] if p["point"] in here]
+        self.doc = doc
+        return trend_facts(doc)

@@ -1,0 +1,124 @@
+"""The demo plant surveyed three months running: summary with change, trend with projection,
+history listing and deletion, and a single diagnosis that shows its trend."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from engine.cli import main
+from engine.yamlfile import load_schema
+from support import CASES
+
+PUMP = "RW-2 raw water pump"
+
+
+@pytest.fixture(scope="module")
+def surveyed(tmp_path_factory):
+    root = tmp_path_factory.mktemp("months")
+    store = str(root / "h.sqlite")
+    assert main(["demo-route", "--out", str(root), "--months", "3"]) == 0
+    for month in (1, 2, 3):
+        assert main(["route", str(root / f"month-0{month}" / "route.yaml"), "--store", store, "--quiet",
+                     "--workers", "2"]) == 0
+    return root, store
+
+
+def test_the_third_summary_shows_the_change_since_the_last_survey(surveyed):
+    root, _ = surveyed
+    doc = json.loads((root / "month-03" / "route-reports" / "summary.json").read_text())
+    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
+    assert doc["counts"]["diagnosed"] == 7 and doc["counts"]["failed"] == 0
+    first = doc["machines"][0]
+    assert first["urgency"]["rank"] <= min(m["urgency"]["rank"] for m in doc["machines"])
+    changes = {m["machine"]: m["change"] for m in doc["machines"]}
+    assert all(c is not None and c["since"].startswith("2026-02-11") for c in changes.values())
+
+
+def test_the_trend_projects_the_growing_bearing_defect(surveyed, capsys):
+    _, store = surveyed
+    capsys.readouterr()
+    assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--limit", "accel_peak_g=5",
+                 "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    jsonschema.validate(doc, load_schema("trend.schema.json"))
+    (point,) = doc["points"]
+    assert point["readings"] == 3 and point["iso_change"]["bc_mm_s"] == 2.8
+    peak = next(p for p in point["projections"] if p["indicator"] == "accel_peak_g")
+    assert peak["projected"] and "exponential" in peak["method"]
+    assert peak["low_days"] <= peak["days"] <= peak["high_days"]
+
+
+def test_the_trend_renders_with_zone_lines(surveyed, tmp_path, capsys):
+    _, store = surveyed
+    out = tmp_path / "t.html"
+    assert main(["trend", PUMP, "--store", store, "--format", "html", "-o", str(out)]) == 0
+    html = out.read_text()
+    assert html.count("<svg") >= 3 and "B/C" in html
+    assert main(["trend", PUMP, "--store", store]) == 0
+    assert "zone boundary" in capsys.readouterr().out
+
+
+def test_history_lists_and_deletes(surveyed, capsys, tmp_path):
+    _, store = surveyed
+    capsys.readouterr()
+    assert main(["history", PUMP, "--store", store, "--json"]) == 0
+    rows = json.loads(capsys.readouterr().out)
+    assert len(rows) == 9
+    assert main(["history", "--store", store]) == 0
+    assert PUMP in capsys.readouterr().out
+    assert main(["history", "no such machine", "--store", store]) == 2
+    assert main(["history", "--store", store, "--delete", "999999"]) == 2
+    copy = tmp_path / "copy.sqlite"
+    copy.write_bytes(Path(store).read_bytes())
+    assert main(["history", "--store", str(copy), "--delete", str(rows[0]["id"])]) == 0
+    assert main(["history", PUMP, "--store", str(copy), "--json"]) == 0
+    assert len(json.loads(capsys.readouterr().out.split("\n", 1)[1])) == 8
+
+
+def test_a_single_diagnosis_with_the_store_shows_its_trend(surveyed, capsys):
+    root, store = surveyed
+    reading = next((root / "month-03").glob("rw2-p1h-*.wav"))
+    code = main(["diagnose", str(reading), "--machine", str(CASES / "machines" / "rw2-raw-water-pump.yaml"),
+                 "--store", store, "--format", "json"])
+    assert code in (0, 7)
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["trend"]["points"][0]["point"] == "P1H" and doc["trend"]["points"][0]["readings"] == 3
+    jsonschema.validate(doc, load_schema("report.schema.json"))
+
+
+@pytest.mark.parametrize("which", ["summary", "trend"])
+def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, which):
+    from end_to_end.test_diagnose import _Checker
+
+    from engine.history.store import Store
+    from engine.route import render_summary
+    from engine.trend import trend_document
+    from engine.trend.render import render_trend
+
+    root, store = surveyed
+    if which == "summary":
+        doc = json.loads((root / "month-03" / "route-reports" / "summary.json").read_text())
+        doc["machines"][0]["machine"] = "<script>alert(1)</script>"
+        html = render_summary(doc, "html")
+    else:
+        with Store(store) as s:
+            doc = trend_document(s, PUMP, plots=True)
+        doc["machine"] = "<script>alert(1)</script>"
+        html = render_trend(doc, "html")
+    checker = _Checker()
+    checker.feed(html)
+    assert not checker.errors and not checker.stack
+    assert "<script>alert" not in html and "&lt;script&gt;" in html
+
+
+def test_each_reading_report_of_a_later_survey_shows_its_trend(surveyed):
+    root, _ = surveyed
+    first = next((root / "month-01" / "route-reports" / "reports").rglob("rw2-p1h-*.html")).read_text()
+    third = next((root / "month-03" / "route-reports" / "reports").rglob("rw2-p1h-*.html")).read_text()
+    assert 'id="trend"' not in first                      # nothing stored before the first survey
+    assert 'id="trend"' in third and "P1H: overall velocity" in third
+    assert "3 readings since 2026-01-12" in third

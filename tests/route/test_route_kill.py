@@ -1,0 +1,55 @@
+"""Killing a route mid-run loses nothing already stored, and the next run resumes."""
+
+from __future__ import annotations
+
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+
+from routes import make_route
+
+from engine.history.store import Store
+from engine.route import load_route, run_route
+from support import ROOT
+
+N = 14
+
+
+def _stored(path) -> int:
+    try:
+        with sqlite3.connect(f"file:{path}?mode=ro", uri=True, timeout=5) as db:
+            return db.execute("SELECT COUNT(*) FROM readings").fetchone()[0]
+    except sqlite3.OperationalError:        # not created yet
+        return 0
+
+
+def test_a_killed_route_keeps_what_it_stored_and_resumes(tmp_path):
+    route = make_route(tmp_path / "r", n=N, bad=False, seed=100)
+    store = tmp_path / "h.sqlite"
+    proc = subprocess.Popen([sys.executable, "-m", "engine.cli", "route", str(route), "--store", str(store),
+                             "--out", str(tmp_path / "out"), "--workers", "1", "--quiet"],
+                            cwd=ROOT, start_new_session=True, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    try:
+        deadline = time.monotonic() + 120
+        while _stored(store) < 3 and proc.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.02)
+        assert proc.poll() is None, "the route finished before it could be killed: " + proc.stderr.read().decode()
+        os.killpg(proc.pid, signal.SIGKILL)            # the route and its worker, mid-run
+    finally:
+        proc.wait(timeout=30)
+        proc.stderr.close()
+    with Store(store) as s:
+        assert s.integrity() == "ok"
+        kept = s.readings()
+        assert 3 <= len(kept) < N
+        for r in kept:                                 # each stored reading is whole
+            assert s.db.execute("SELECT COUNT(*) FROM channels WHERE reading_id = ?", (r["id"],)).fetchone()[0] == 1
+            assert s.db.execute("SELECT COUNT(*) FROM indicators WHERE reading_id = ?", (r["id"],)).fetchone()[0] >= 5
+            assert r["report"] and os.path.isfile(r["report"])
+        resumed = run_route(load_route(route), s, tmp_path / "out", workers=1)
+        assert len(resumed.skipped) == len(kept)
+        assert len(resumed.diagnosed) == N - len(kept)
+        assert len(s.readings()) == N

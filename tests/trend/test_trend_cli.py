@@ -1,0 +1,31 @@
+"""The trend command's own checks: limits, unknown machines, an empty store."""
+
+from __future__ import annotations
+
+import pytest
+
+from engine.cli import main
+from engine.cli.trend import parse_limits
+from engine.errors import UsageError
+
+
+def test_limits_parse():
+    assert parse_limits(["accel_peak_g=20", "velocity_rms_mm_s = 7.1"]) == {"accel_peak_g": 20.0,
+                                                                          "velocity_rms_mm_s": 7.1}
+
+
+@pytest.mark.parametrize("item, problem", [
+    ("accel_peak=20", "expected INDICATOR=VALUE"),
+    ("accel_peak_g", "expected INDICATOR=VALUE"),
+    ("accel_peak_g=lots", "not a number"),
+    ("accel_peak_g=-1", "positive"),
+], ids=["unknown-indicator", "no-value", "not-a-number", "negative"])
+def test_bad_limits_are_usage_errors(item, problem):
+    with pytest.raises(UsageError, match=problem):
+        parse_limits([item])
+
+
+def test_an_unknown_machine_is_one_line_with_exit_2(tmp_path, capsys):
+    assert main(["trend", "Nobody's pump", "--store", str(tmp_path / "h.sqlite")]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "machines stored: none" in err
