@@ -10,10 +10,10 @@ from __future__ import annotations
 import sys
 
 from ..errors import TellwaveError, UsageError
-from . import demo, diagnose, evidence, frequencies, reading, rulebook, synth
+from . import demo, diagnose, evidence, frequencies, plan, reading, rulebook, synth
 from ._common import Parser
 
-COMMANDS = (frequencies, reading, evidence, synth, diagnose, demo, rulebook)
+COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook)
 
 
 def build_parser() -> Parser:
