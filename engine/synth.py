@@ -106,14 +106,18 @@ def _resonance_ring(fs: float, f_res: float, damping: float, response: str = "di
     accelerometer would see it: it falls as (f / f_res)^2 below the resonance,
     so an impact leaves little below it (accelerance = -omega^2 x receptance,
     the standard single-degree-of-freedom result; e.g. Ewins, "Modal Testing",
-    ch. 2, from memory).
+    ch. 2, from memory). The force of a real impact lasts a while: here a
+    Hann pulse one resonance period long, so the response does not reach far
+    above the resonance either.
     """
     t = np.arange(int(min(0.05, 8.0 / (damping * 2 * np.pi * f_res)) * fs) + 1) / fs
     ring = np.exp(-damping * 2 * np.pi * f_res * t) * np.sin(2 * np.pi * f_res * t)
     if response == "displacement":
         return ring
     accel = np.diff(np.concatenate([[0.0, 0.0], ring, [0.0]]), 2)  # includes the jump at t = 0
-    return accel * (np.max(np.abs(ring)) / np.max(np.abs(accel[1:])))
+    pulse = np.hanning(max(3, int(round(fs / f_res)) + 2))[1:-1]
+    accel = np.convolve(accel, pulse / pulse.sum())
+    return accel * (np.max(np.abs(ring)) / np.max(np.abs(accel)))
 
 
 def _impact_times(rate_hz: float, duration_s: float, rng, slip: float = 0.01) -> np.ndarray:
