@@ -251,11 +251,13 @@ def _gear_fault(m: _Model, fault: str, mesh_id: str, stage: int, resonance_hz: f
         x += m.shaft_tone(faulty_shaft, 1, 1.0 * stage)
         return x, {"modulation_hz": f_gear}
     if fault == "gear-tooth":
-        # one damaged tooth: once per turn of its gear a short mesh impact
-        times = np.arange(m.rng.uniform(0, 1 / f_gear), m.n / m.fs, 1 / f_gear)
+        # one damaged tooth: once per turn of its gear a short mesh impact, and the mesh
+        # modulated while that tooth is in mesh, at the same angle
+        first = m.rng.uniform(0, 1 / f_gear)
+        times = np.arange(first, m.n / m.fs, 1 / f_gear)
         ring = _resonance_ring(m.fs, resonance_hz, damping=0.05, response=m.ring_response)
         x += _impact_signal(times, np.full(len(times), {1: 0.5, 2: 1.5, 3: 3.0, 4: 6.0}[stage] * G), m.fs, m.n, ring)
-        window = np.exp(-0.5 * (((t * f_gear) % 1.0 - 0.5) / (0.5 / teeth)) ** 2)
+        window = np.exp(-0.5 * ((((t - first) * f_gear + 0.5) % 1.0 - 0.5) / (0.5 / teeth)) ** 2)
         x += base * (1 + 0.8 * stage * window) * np.sin(2 * np.pi * gmf * t)
         return x, {"impact_times_s": times}
     if fault == "gear-wear":

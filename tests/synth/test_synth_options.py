@@ -64,3 +64,19 @@ def test_tooth_fault_on_the_driven_gear_strikes_once_per_turn_of_its_shaft(ct1):
 def test_bad_keywords_are_usage_errors(ct1, kwargs):
     with pytest.raises(UsageError):
         simulate(ct1, "gear-tooth", "bevel_stage", 2, None, 6400.0, 1.0, 0, ["GINH"], **kwargs)
+
+
+def test_a_damaged_tooth_strikes_where_it_modulates_the_mesh(ct1):
+    from scipy import signal
+
+    sim = simulate(ct1, "gear-tooth", "bevel_stage", 2, None, 6400.0, 3.0, 2, ["GINH"])
+    x = sim.channels["GINH"]
+    f_in = ct1.shaft_speeds_hz["gear_input"]
+    gmf = 23 * f_in
+    b, a = signal.butter(4, [0.8 * gmf, 1.2 * gmf], btype="bandpass", fs=sim.fs_hz)
+    envelope = np.abs(signal.hilbert(signal.filtfilt(b, a, x)))
+    phase = (np.arange(len(x)) / sim.fs_hz * f_in) % 1.0
+    bins = np.bincount((phase * 100).astype(int), weights=envelope, minlength=100)
+    loudest = (np.argmax(bins) + 0.5) / 100
+    impact = (sim.extra["impact_times_s"][0] * f_in) % 1.0
+    assert abs((loudest - impact + 0.5) % 1.0 - 0.5) < 0.03      # within 11 degrees of shaft angle
