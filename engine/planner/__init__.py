@@ -5,7 +5,8 @@ returning plain dataclasses; ``prove`` simulates a fault and records it with
 each setting; ``build_plan`` composes them into the plan document.
 """
 
-from .check import CAN, CANNOT, MAY_MISS, Limitation, Verdict, check, limitations_of_reading, verdicts
+from .check import (CAN, CANNOT, MAY_MISS, Limitation, Verdict, check, limitations_of_reading, reading_verdicts,
+                    verdicts)
 from .document import build_plan, render_plan
 from .needs import Need, requirements
 from .policy import Policy, load_policy, read_policy
@@ -18,4 +19,4 @@ from .targets import PURPOSE_TITLES, Target, purposes_at, targets_at
 __all__ = ["CAN", "CANNOT", "MAY_MISS", "Limitation", "Need", "Policy", "PURPOSE_TITLES", "ProofItem", "Proposal",
            "ROUTES", "Settings", "THRESHOLDS", "Target", "Verdict", "build_plan", "check", "given_settings", "judge",
            "limitations_of_reading", "load_policy", "prove", "propose", "purposes_at", "read_policy",
-           "reading_settings", "render_plan", "requirements", "targets_at", "verdicts"]
+           "reading_settings", "reading_verdicts", "render_plan", "requirements", "targets_at", "verdicts"]

@@ -19,7 +19,7 @@ from ..machine import Machine
 from .needs import requirements
 from .policy import Policy
 from .settings import Settings, reading_settings
-from .targets import Target, purposes_at
+from .targets import Target, purposes_at, targets_at
 
 CANNOT, MAY_MISS, CAN = "cannot show", "may miss", "can show"
 
@@ -127,3 +127,15 @@ def limitations_of_reading(machine: Machine, fs_hz: float, n_samples: int, polic
     (Fmax = fs / 2.56, lines = samples / 2.56), at the reading's ``points`` (default all)."""
     settings = reading_settings(policy, fs_hz, n_samples, "reading")
     return check(machine, settings, policy, points=points, speed_rpm=speed_rpm)
+
+
+def reading_verdicts(machine: Machine, fs_hz: float, n_samples: int, policy: Policy,
+                     points=None, speed_rpm: float | None = None) -> list[Verdict]:
+    """For a reading already taken: can it show each fault the purposes at its points look for?
+
+    A diagnosis lists the ``cannot show`` and ``may miss`` verdicts, with their
+    reasons, instead of reporting those faults absent.
+    """
+    chosen = [p for p in machine.points if points is None or p.id in points]
+    targets = [t for p in chosen for u in purposes_at(machine, p) for t in targets_at(machine, p, u)]
+    return verdicts(targets, limitations_of_reading(machine, fs_hz, n_samples, policy, points, speed_rpm))

@@ -7,7 +7,7 @@ from ..kinematics import forcing_frequencies
 from ..machine import Machine, Point
 from .check import CANNOT, check, frequencies_above, verdicts
 from .policy import Policy
-from .proof import RESONANCE_HZ, SEED, STAGE, prove
+from .proof import SEED, STAGE, prove, resonance_hz
 from .propose import Proposal, propose
 from .settings import Settings
 from .targets import PURPOSE_TITLES, Target, purposes_at, targets_at
@@ -125,7 +125,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
                           "trials": {k: _trial_dict(v) for k, v in item.trials.items()},
                           "agrees": {k: item.agrees(k) for k in item.trials}})
         verdicts_ = [a for i in items for a in i["agrees"].values()]
-        doc["proof"] = {"stage": STAGE, "seed": SEED, "resonance_hz": RESONANCE_HZ, "items": items,
+        doc["proof"] = {"stage": STAGE, "seed": SEED, "resonance_hz": resonance_hz(policy), "items": items,
                         "compared": sum(1 for a in verdicts_ if a is not None),
                         "agreements": sum(1 for a in verdicts_ if a is True),
                         "disagreements": sum(1 for a in verdicts_ if a is False)}
@@ -140,7 +140,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
             sets = {"proposed": proposals[(p.id, t.purpose)].settings()}
             if given is not None:
                 sets["given"] = given
-            figure, legend = impact_figure(machine, t, p, sets, speed_rpm,
+            figure, legend = impact_figure(machine, t, p, sets, policy, speed_rpm,
                                            f"{caption.capitalize()}: {t.label} at {p.id}")
             doc["figures"].append({"title": caption, "svg": figure,
                                    "legend": [{"color": c, "text": text} for c, text in legend]})

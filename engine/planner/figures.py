@@ -29,14 +29,14 @@ def _window_s(machine, target, speeds) -> tuple[float, float]:
     return 0.5e-3, 4e-3
 
 
-def impact_figure(machine, target, point, settings: dict, speed_rpm=None, title: str = "") -> tuple[str, list]:
+def impact_figure(machine, target, point, settings: dict, policy, speed_rpm=None, title: str = "") -> tuple[str, list]:
     """An SVG of one impact of ``target`` at ``point`` with the samples of each of ``settings``,
     and the legend as (color, text) pairs."""
     speeds = machine.speeds_at(speed_rpm)
     before, after = _window_s(machine, target, speeds)
     fs = physical_rate(list(settings.values()))
     length = 0.3 + 2 * PAD_S
-    sim = simulate_target(machine, target, point, length, fs, speed_rpm)
+    sim = simulate_target(machine, target, point, length, fs, policy, speed_rpm)
     x = sim.channels[point.id]
     times = [t for t in sim.extra.get("impact_times_s", ()) if t >= PAD_S + before and t + after <= length - PAD_S]
     t0 = times[0] if times else length / 2

@@ -146,12 +146,11 @@ def _bearing(machine, point, speeds, policy, targets, band):
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
             n = least(rule, "envelope_tone", "harmonics_found")
             gate = ((t, "envelope"),)
-            # a cage defect also modulates 1X at the cage rate, which shows without any ringing
             needs.append(Need(
                 "bearing", "fmax", f"the ringing band from {band_lo:.0f} Hz, wide enough for {n:g} harmonics of "
-                f"{name} of {b.id} ({rate:.1f} Hz)", band_lo + n * rate, "weakens" if t.signature == "cage" else "blocks",
-                gate, f"impacts ring the structure from {band_lo:.0f} Hz up; the squared envelope spectrum of that "
-                f"band must hold {n:g} harmonics ({rule})", source=rule))
+                f"{name} of {b.id} ({rate:.1f} Hz)", band_lo + n * rate, "weakens", gate,
+                f"the squared envelope spectrum of the band under Fmax must hold {n:g} harmonics ({rule})",
+                source=rule))
             needs.append(Need(
                 "bearing", "resolution", f"{name} of {b.id} ({rate:.2f} Hz) and its harmonics", rate, "blocks", gate,
                 f"{ENVELOPE_DEFECT[t.signature]} and its harmonics must keep their own lines in the squared "
@@ -168,6 +167,13 @@ def _bearing(machine, point, speeds, policy, targets, band):
                 policy.min_revolutions / rate, "weakens", gate,
                 "the squared envelope spectrum averages that many impacts or cage turns into its lines",
                 span_s=1 / rate, noun=f"periods of {name}", source="min_revolutions"))
+        # a cage defect also modulates 1X at the cage rate, which shows without any ringing
+        ringing = tuple((t, "envelope") for t in mine if t.signature != "cage")
+        needs.append(Need(
+            "bearing", "fmax", f"the lower edge of the band where impacts of {b.id} ring ({band_lo:.0f} Hz)",
+            band_lo, "blocks", ringing,
+            "bearing impacts show where they ring the structure; below it the machine's own vibration hides them",
+            source="bearing_resonance_hz"))
         needs.append(Need(
             "bearing", "fmax", f"the envelope band {band_lo:.0f}-{band_hi:.0f} Hz of {b.id}", band_hi, "weakens",
             tuple((t, "envelope") for t in mine),
