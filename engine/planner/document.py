@@ -58,6 +58,33 @@ def _grouped(proposals: dict, speeds: dict) -> list[dict]:
     return sorted(groups.values(), key=lambda g: order.index(g["purpose"]))
 
 
+def _counts(machine: Machine, given: Settings, policy: Policy, speeds: dict) -> list[dict]:
+    """What the given settings hold, stated whether or not a need asks for it."""
+    import math
+
+    from .needs import ring_down_s
+
+    rows = [{"what": f"turns of {shaft}", "value": f"{given.duration_s * hz:.1f} in the waveform, "
+                                                    f"{given.sample_rate_hz / hz:.0f} samples per turn"}
+            for shaft, hz in speeds.items()]
+    for g in machine.gears:
+        gmf = g.driving_teeth * speeds[g.driving_shaft]
+        f_ht = gmf * math.gcd(g.driving_teeth, g.driven_teeth) / (g.driving_teeth * g.driven_teeth)
+        rows.append({"what": f"mesh {g.id}", "value": f"{given.duration_s * f_ht:.2f} hunting-tooth periods, "
+                                                      f"{given.sample_rate_hz / gmf:.1f} samples on one tooth impact"})
+    if machine.bearings:
+        lo, hi = policy.bearing_resonance_hz
+        where = ("under Fmax" if hi <= given.fmax_hz else "partly above Fmax" if lo < given.fmax_hz
+                 else "above Fmax")
+        nyquist = "under" if hi <= given.nyquist_hz else "above"
+        rows.append({"what": f"envelope band {lo:.0f}-{hi:.0f} Hz",
+                     "value": f"{where} ({given.fmax_hz:g} Hz), {nyquist} half the sample rate ({given.nyquist_hz:g} Hz)"})
+        rows.append({"what": "one bearing impact",
+                     "value": f"{given.sample_rate_hz * ring_down_s(policy, hi):.1f} samples ringing at {hi:.0f} Hz, "
+                              f"{given.sample_rate_hz * ring_down_s(policy, lo):.1f} at {lo:.0f} Hz"})
+    return rows
+
+
 def proof_point(machine: Machine, target: Target, points: list[Point]) -> Point:
     """Where to simulate a target: a radial point on its component, else on its shaft, else any."""
     def rank(p: Point):
@@ -108,6 +135,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
             "verdicts": [v.as_dict() for v in found],
             "cannot_show": [v.as_dict() for v in found if v.state == CANNOT],
             "above_fmax": [f.as_dict() for f in frequencies_above(machine, given, speed_rpm)],
+            "counts": _counts(machine, given, policy, speeds),
             "forcing_count": len(forcing_frequencies(machine, speed_rpm)),
         }
     if with_proof:

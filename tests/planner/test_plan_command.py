@@ -97,6 +97,16 @@ def test_every_format_leads_with_what_the_given_settings_cannot_show(ct1_plan):
     assert json.loads(render_plan(ct1_plan, "json"))["kind"] == "acquisition plan"
 
 
+def test_the_check_states_what_the_given_settings_hold(ct1_plan):
+    counts = {c["what"]: c["value"] for c in ct1_plan["check"]["counts"]}
+    gmf = 23 * 985 / 60
+    # samples on one tooth impact = sample rate x one mesh period (1 / GMF) [derived]
+    assert f"{2560 / gmf:.1f} samples on one tooth impact" in counts["mesh bevel_stage"]
+    # turns in the waveform = its length x shaft speed: 400 lines / 1000 Hz = 0.4 s [derived]
+    assert counts["turns of fan"].startswith(f"{0.4 * 985 / 60 * 23 / 67:.1f} in the waveform")
+    assert "above half the sample rate" in counts["envelope band 2000-10000 Hz"]
+
+
 def test_templates_need_only_the_document():
     env = environment()
     for name in ("plan.txt.j2", "plan.md.j2", "plan.html.j2"):
