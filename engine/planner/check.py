@@ -18,6 +18,7 @@ from ..kinematics import forcing_frequencies
 from ..machine import Machine
 from .needs import requirements
 from .policy import Policy
+from .routes import ROUTES
 from .settings import Settings, reading_settings
 from .targets import Target, purposes_at, targets_at
 
@@ -90,8 +91,6 @@ def check(machine: Machine, settings: Settings, policy: Policy, points=None, pur
 
 def verdicts(targets, limitations: list[Limitation]) -> list[Verdict]:
     """Can the settings show each target? From the routes the limitations block or weaken."""
-    from .routes import ROUTES
-
     out = []
     for t in dict.fromkeys(targets):
         routes = [r.name for r in ROUTES[t.signature]]

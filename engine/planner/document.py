@@ -3,9 +3,14 @@ settings, the proof by simulation and the figures. Templates and JSON read only 
 
 from __future__ import annotations
 
+import json
+import math
+
+from ..errors import UsageError
 from ..kinematics import forcing_frequencies
 from ..machine import Machine, Point
 from .check import CANNOT, check, frequencies_above, verdicts
+from .needs import ring_down_s
 from .policy import Policy
 from .proof import SEED, STAGE, prove, resonance_hz
 from .propose import Proposal, propose
@@ -15,7 +20,7 @@ from .targets import PURPOSE_TITLES, Target, purposes_at, targets_at
 SCHEMA_VERSION = 1
 
 
-def _rows(p: Proposal, speeds: dict) -> list[dict]:
+def _rows(p: Proposal) -> list[dict]:
     slow = p.slowest_shaft
     rows = [
         ("Fmax", f"{p.fmax_hz:g} Hz"),
@@ -32,7 +37,7 @@ def _rows(p: Proposal, speeds: dict) -> list[dict]:
     return [{"setting": name, "value": value, "why": p.reasons[name]} for name, value in rows]
 
 
-def _proposal_dict(p: Proposal, speeds: dict) -> dict:
+def _proposal_dict(p: Proposal) -> dict:
     return {
         "purpose": p.purpose, "title": p.title, "fmax_hz": p.fmax_hz, "lines": p.lines,
         "resolution_hz": p.resolution_hz, "sample_rate_hz": p.sample_rate_hz, "record_s": p.record_s,
@@ -40,15 +45,15 @@ def _proposal_dict(p: Proposal, speeds: dict) -> dict:
         "averages": p.averages, "overlap_pct": p.overlap_pct, "acquisition_s": p.acquisition_s,
         "waveform_s": p.waveform_s, "waveform_revolutions": p.waveform_revolutions,
         "envelope_band_hz": list(p.envelope_band_hz) if p.envelope_band_hz else None,
-        "rows": _rows(p, speeds), "notes": list(p.notes),
+        "rows": _rows(p), "notes": list(p.notes),
     }
 
 
-def _grouped(proposals: dict, speeds: dict) -> list[dict]:
+def _grouped(proposals: dict) -> list[dict]:
     """Proposals by purpose, points with the very same settings and reasons taken together."""
     groups: dict[tuple, dict] = {}
     for (point, purpose), p in proposals.items():
-        d = _proposal_dict(p, speeds)
+        d = _proposal_dict(p)
         key = (purpose, repr(d))
         if key in groups:
             groups[key]["points"].append(point)
@@ -60,10 +65,6 @@ def _grouped(proposals: dict, speeds: dict) -> list[dict]:
 
 def _counts(machine: Machine, given: Settings, policy: Policy, speeds: dict) -> list[dict]:
     """What the given settings hold, stated whether or not a need asks for it."""
-    import math
-
-    from .needs import ring_down_s
-
     rows = [{"what": f"turns of {shaft}", "value": f"{given.duration_s * hz:.1f} in the waveform, "
                                                     f"{given.sample_rate_hz / hz:.0f} samples per turn"}
             for shaft, hz in speeds.items()]
@@ -122,7 +123,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
                    "min_revolutions": policy.min_revolutions, "min_samples_per_impact": policy.min_samples_per_impact},
         "points": [{"id": p.id, "at": p.at, "direction": p.direction, "shaft": p.shaft,
                     "purposes": purposes_at(machine, p)} for p in chosen],
-        "proposals": _grouped(proposals, speeds),
+        "proposals": _grouped(proposals),
         "given": given.as_dict() if given else None,
         "check": None, "proof": None, "figures": [],
     }
@@ -181,9 +182,6 @@ PLAN_TEMPLATES = {"text": "plan.txt.j2", "md": "plan.md.j2", "html": "plan.html.
 
 def render_plan(doc: dict, fmt: str) -> str:
     """The plan in ``fmt``: text, md, html (autoescaped) or json."""
-    import json
-
-    from ..errors import UsageError
     from ..report.render import environment
 
     if fmt == "json":

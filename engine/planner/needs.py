@@ -62,7 +62,7 @@ class Need:
             return (f"{self.value:.3g} Hz lies below the {self.floor_hz:g} Hz low-frequency limit",
                     "a low-frequency sensor and reading; no Fmax or line count helps")
         if self.setting == "fmax":
-            return (f"{_hz(self.value)} Hz lies above Fmax {s.fmax_hz:g} Hz",
+            return (f"{hz_text(self.value)} Hz lies above Fmax {s.fmax_hz:g} Hz",
                     f"Fmax of at least {self.value:.0f} Hz")
         if self.setting == "sample_rate":
             have, least_n = s.sample_rate_hz * self.span_s, self.value * self.span_s
@@ -77,7 +77,7 @@ class Need:
                 f"a waveform of at least {self.value:.3g} s")
 
 
-def _hz(value: float) -> str:
+def hz_text(value: float) -> str:
     return f"{value:.0f}" if value >= 100 else f"{value:.3g}"
 
 

@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from ..machine import Machine, Point
-from .needs import Need, Requirements, requirements
+from .needs import Need, Requirements, hz_text, requirements
 from .policy import Policy
 from .settings import Settings
 from .targets import PURPOSE_TITLES
@@ -64,10 +64,6 @@ def _step_up(value: float, steps) -> float:
     return top * -(-value // top)
 
 
-def _hz(v: float) -> str:
-    return f"{v:.3g}" if v < 100 else f"{v:.0f}"
-
-
 def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
             speed_rpm: float | None = None) -> Proposal:
     """Settings that meet every need of ``purpose`` at ``point`` (a plain function, no I/O)."""
@@ -84,11 +80,11 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
     if fast is not None and fast.value / k > top.value:
         fmax = _step_up(fast.value / k, policy.fmax_steps_hz)
         fmax_why = (f"{fast.what}: {fast.value * fast.span_s:g} {fast.noun} need a sample rate of "
-                    f"{fast.value:.0f} Hz, so Fmax {_hz(fast.value / k)} Hz")
+                    f"{fast.value:.0f} Hz, so Fmax {hz_text(fast.value / k)} Hz")
         needed = fast.value / k
     else:
         fmax = _step_up(top.value, policy.fmax_steps_hz)
-        fmax_why = f"{top.what} needs {_hz(top.value)} Hz"
+        fmax_why = f"{top.what} needs {hz_text(top.value)} Hz"
         needed = top.value
     if fmax > needed * (1 + 1e-9):
         fmax_why += "; rounded up to the next step"
