@@ -103,9 +103,30 @@ def _velocity_tone_accel(v_mm_s_rms: float, f_hz: float) -> float:
     return v_mm_s_rms * 1e-3 * math.sqrt(2) * 2 * math.pi * f_hz
 
 
-def _resonance_ring(fs: float, f_res: float, damping: float) -> np.ndarray:
+RING_RESPONSES = ("displacement", "acceleration")
+
+
+def _resonance_ring(fs: float, f_res: float, damping: float, response: str = "displacement") -> np.ndarray:
+    """One impact ringing a resonance of ``f_res`` Hz with ``damping`` ratio, peak about 1.
+
+    ``displacement`` is the decaying sine of a single-degree-of-freedom system's
+    displacement impulse response (flat below the resonance, at 2 x damping of
+    its peak). ``acceleration`` is its second time derivative, as an
+    accelerometer would see it: it falls as (f / f_res)^2 below the resonance,
+    so an impact leaves little below it (accelerance = -omega^2 x receptance,
+    the standard single-degree-of-freedom result; e.g. Ewins, "Modal Testing",
+    ch. 2, from memory). The force of a real impact lasts a while: here a
+    Hann pulse one resonance period long, so the response does not reach far
+    above the resonance either.
+    """
     t = np.arange(int(min(0.05, 8.0 / (damping * 2 * np.pi * f_res)) * fs) + 1) / fs
-    return np.exp(-damping * 2 * np.pi * f_res * t) * np.sin(2 * np.pi * f_res * t)
+    ring = np.exp(-damping * 2 * np.pi * f_res * t) * np.sin(2 * np.pi * f_res * t)
+    if response == "displacement":
+        return ring
+    accel = np.diff(np.concatenate([[0.0, 0.0], ring, [0.0]]), 2)  # includes the jump at t = 0
+    pulse = np.hanning(max(3, int(round(fs / f_res)) + 2))[1:-1]
+    accel = np.convolve(accel, pulse / pulse.sum())
+    return accel * (np.max(np.abs(ring)) / np.max(np.abs(accel)))
 
 
 def _impact_times(rate_hz: float, duration_s: float, rng, slip: float = 0.01) -> np.ndarray:
@@ -128,8 +149,10 @@ def _impact_signal(times, amplitudes, fs, n, ring) -> np.ndarray:
 class _Model:
     """Builds the signal of each point for one simulation."""
 
-    def __init__(self, machine: Machine, speeds: dict[str, float], fs: float, n: int, rng):
+    def __init__(self, machine: Machine, speeds: dict[str, float], fs: float, n: int, rng,
+                 ring_response: str = "displacement"):
         self.machine, self.speeds, self.fs, self.n, self.rng = machine, speeds, fs, n, rng
+        self.ring_response = ring_response
         self.t = np.arange(n) / fs
         self.nominal = machine.shaft_speeds_hz
 
@@ -201,7 +224,7 @@ def _bearing_fault(m: _Model, fault: str, bearing_id: str, stage: int, resonance
         load = 0.5 + 0.5 * np.cos(2 * np.pi * mod_hz * times + phase)
         amplitudes *= (1 - depth) + depth * load
     amplitudes *= 1 + 0.1 * m.rng.standard_normal(len(times))
-    ring = _resonance_ring(m.fs, resonance_hz, damping=0.04)
+    ring = _resonance_ring(m.fs, resonance_hz, damping=0.04, response=m.ring_response)
     x = _impact_signal(times, amplitudes, m.fs, m.n, ring)
     if fault == "cage":
         x += m.shaft_tone(b.shaft, 1, 0.8 * stage) * (1 + 0.5 * np.cos(2 * np.pi * mult["ftf"] * fr * m.t))
@@ -212,31 +235,38 @@ def _bearing_fault(m: _Model, fault: str, bearing_id: str, stage: int, resonance
     return x, {"impact_times_s": times, "impact_rate_hz": rate, "modulation_hz": mod_hz}
 
 
-def _gear_fault(m: _Model, fault: str, mesh_id: str, stage: int, resonance_hz: float) -> tuple[np.ndarray, dict]:
+def _gear_fault(m: _Model, fault: str, mesh_id: str, stage: int, resonance_hz: float,
+                gear_side: str = "driving") -> tuple[np.ndarray, dict]:
+    """A gear fault on the mesh's driving gear (the pinion), or on its driven gear."""
     from scipy import signal
 
     g = next(gg for gg in m.machine.gears if gg.id == mesh_id)
     f_in, f_out = m.speeds[g.driving_shaft], m.speeds[g.driven_shaft]
     gmf = g.driving_teeth * f_in
+    # the faulty gear's speed and tooth count
+    f_gear, teeth = (f_in, g.driving_teeth) if gear_side == "driving" else (f_out, g.driven_teeth)
     t = m.t
     base = 0.15 * G
     x = np.zeros(m.n)
     if fault == "gear-eccentricity":
-        # eccentric (or run-out) pinion: the mesh is amplitude- and phase-modulated at its speed
+        # eccentric (or run-out) gear: the mesh is amplitude- and phase-modulated at its speed
         depth = 0.2 * stage
-        am = 1 + depth * np.cos(2 * np.pi * f_in * t)
-        pm = 0.3 * stage * np.sin(2 * np.pi * f_in * t)
+        am = 1 + depth * np.cos(2 * np.pi * f_gear * t)
+        pm = 0.3 * stage * np.sin(2 * np.pi * f_gear * t)
         for k, a in ((1, 1.0), (2, 0.4)):
             if k * gmf < m.fs / 2.2:
                 x += base * a * am * np.sin(2 * np.pi * k * gmf * t + k * pm)
-        x += m.shaft_tone(g.driving_shaft, 1, 1.0 * stage)
-        return x, {"modulation_hz": f_in}
+        faulty_shaft = g.driving_shaft if gear_side == "driving" else g.driven_shaft
+        x += m.shaft_tone(faulty_shaft, 1, 1.0 * stage)
+        return x, {"modulation_hz": f_gear}
     if fault == "gear-tooth":
-        # one damaged pinion tooth: once per pinion turn a short mesh impact
-        times = np.arange(m.rng.uniform(0, 1 / f_in), m.n / m.fs, 1 / f_in)
-        ring = _resonance_ring(m.fs, resonance_hz, damping=0.05)
+        # one damaged tooth: once per turn of its gear a short mesh impact, and the mesh
+        # modulated while that tooth is in mesh, at the same angle
+        first = m.rng.uniform(0, 1 / f_gear)
+        times = np.arange(first, m.n / m.fs, 1 / f_gear)
+        ring = _resonance_ring(m.fs, resonance_hz, damping=0.05, response=m.ring_response)
         x += _impact_signal(times, np.full(len(times), {1: 0.5, 2: 1.5, 3: 3.0, 4: 6.0}[stage] * G), m.fs, m.n, ring)
-        window = np.exp(-0.5 * (((t * f_in) % 1.0 - 0.5) / (0.5 / g.driving_teeth)) ** 2)
+        window = np.exp(-0.5 * ((((t - first) * f_gear + 0.5) % 1.0 - 0.5) / (0.5 / teeth)) ** 2)
         x += base * (1 + 0.8 * stage * window) * np.sin(2 * np.pi * gmf * t)
         return x, {"impact_times_s": times}
     if fault == "gear-wear":
@@ -327,7 +357,8 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
 def simulate(machine: Machine, fault: str = "healthy", component: str | None = None, stage: int = 2,
              speed_rpm: float | None = None, fs_hz: float = 25600.0, duration_s: float = 4.0,
              seed: int = 0, points: list[str] | None = None, also=(),
-             healthy_background: bool = True) -> Simulation:
+             healthy_background: bool = True, *, resonance_hz: float | None = None,
+             ring_response: str = "displacement", gear_side: str = "driving") -> Simulation:
     """Simulate acceleration at the machine's measurement points with one fault (or several).
 
     ``speed_rpm`` is the speed of the machine's driving shaft (its nominal speed
@@ -336,11 +367,24 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     faults present at the same time, as (fault, component, stage) triples, each
     with its own random stream; ``healthy_background=False`` gives a fault's
     contribution alone.
+
+    ``resonance_hz`` fixes the structural resonance that impacts ring (by
+    default drawn from 2.5-4.5 kHz and kept below 0.3 x ``fs_hz``);
+    ``ring_response`` shapes each impact as a displacement-like decaying sine
+    (the default) or as an accelerometer sees it (``acceleration``: little
+    content below the resonance); ``gear_side`` puts a gear fault on the
+    mesh's ``driving`` gear (default) or its ``driven`` gear.
     """
     if fault not in FAULTS:
         raise UsageError(f"unknown fault {fault!r}; expected one of {', '.join(FAULTS)}")
     if stage not in STAGES:
         raise UsageError(f"stage must be 1 to 4, got {stage}")
+    if ring_response not in RING_RESPONSES:
+        raise UsageError(f"ring_response must be one of {', '.join(RING_RESPONSES)}, got {ring_response!r}")
+    if gear_side not in ("driving", "driven"):
+        raise UsageError(f"gear_side must be driving or driven, got {gear_side!r}")
+    if resonance_hz is not None and not 0 < resonance_hz < fs_hz / 2:
+        raise UsageError(f"resonance_hz must lie between 0 and half the sample rate, got {resonance_hz}")
     if not machine.points:
         raise UsageError(f"machine {machine.name!r} has no measurement points to simulate")
     unknown = [p for p in points or [] if p not in {q.id for q in machine.points}]
@@ -352,12 +396,13 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     speeds = machine.speeds_at(speed_rpm)
     rng = np.random.default_rng(seed)
     n = int(round(duration_s * fs_hz))
-    model = _Model(machine, speeds, fs_hz, n, rng)
+    model = _Model(machine, speeds, fs_hz, n, rng, ring_response)
     if FAULTS[fault] is not None and component is None:
         component = _default_component(machine, fault)
     fault_shafts = _component_shafts(machine, fault, component) if component else set()
     chosen = [p for p in machine.points if points is None or p.id in points]
-    resonance_hz = min(rng.uniform(2500, 4500), 0.3 * fs_hz)
+    drawn_hz = min(rng.uniform(2500, 4500), 0.3 * fs_hz)   # drawn always: the same seed, the same stream
+    resonance_hz = drawn_hz if resonance_hz is None else float(resonance_hz)
     bearing_points = {p.at for p in machine.points}
 
     channels, extra = {}, {}
@@ -365,7 +410,7 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     if FAULTS[fault] == "bearing":
         fault_signal, fault_extra = _bearing_fault(model, fault, component, stage, resonance_hz)
     elif FAULTS[fault] == "gear":
-        fault_signal, fault_extra = _gear_fault(model, fault, component, stage, resonance_hz)
+        fault_signal, fault_extra = _gear_fault(model, fault, component, stage, resonance_hz, gear_side)
     extra.update(fault_extra)
 
     for p in chosen:
@@ -411,7 +456,8 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
         channels[p.id] = x
     for i, (other, other_component, other_stage) in enumerate(also):
         part = simulate(machine, other, other_component, other_stage, speed_rpm, fs_hz, duration_s,
-                        seed + 7919 * (i + 1), points, healthy_background=False)
+                        seed + 7919 * (i + 1), points, healthy_background=False,
+                        resonance_hz=resonance_hz, ring_response=ring_response, gear_side=gear_side)
         for name in channels:
             channels[name] = channels[name] + part.channels[name]
     truth = Truth(fault, component, stage if fault != "healthy" else 0, speed_rpm, seed, fs_hz, duration_s,

@@ -25,7 +25,7 @@ STAGES = {
     "advice": 5,
     "report": 6,
     "pipeline": 7, "casebook": 7,
-    "demo": 8, "history": 8, "trend": 8,
+    "demo": 8, "history": 8, "trend": 8, "planner": 8,
     "route": 9,
     "cli": 10, "__init__": 10, "__main__": 10,
 }

@@ -251,7 +251,11 @@ def _refined_speed(velocity: dict[str, Spectrum], reading: Reading, machine: Mac
     """The speed of ``shaft`` measured from every channel's shaft harmonics (the median over channels)."""
     shafts = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)
     lines = [k * m.line_frequency_hz for m in machine.motors for k in range(1, LINE_HARMONICS + 1)]
-    estimates = [refine_speeds(v, shafts, shaft, SPEED_SEARCH_FRACTION, exclude_hz=lines) for v in velocity.values()]
+    rates = rates_at(machine, shafts)
+    locked = [(g.gmf_hz, round(g.gmf_hz / shafts[g.driving_shaft])) for g in rates.meshes]
+    locked += [(r.pass_hz, round(r.pass_hz / shafts[r.shaft])) for r in rates.rotors]
+    estimates = [refine_speeds(v, shafts, shaft, SPEED_SEARCH_FRACTION, exclude_hz=lines, synchronous=locked)
+                 for v in velocity.values()]
     found = [e for e in estimates if e.refined]
     nominal_hz = shafts[shaft]
     if not found:

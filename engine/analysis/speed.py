@@ -7,9 +7,12 @@ every shaft together: the search scores each candidate s within
 ``search_fraction`` of 1 by how far the first harmonics of every shaft at s
 times its nominal speed stand above the local floor (a harmonic comb over the
 whole train, so one shaft's 3X cannot be taken for another's 1X), then refines
-s from the interpolated frequencies of the harmonics it found, weighting
-higher harmonics more because they resolve speed more finely (common
-practice in order tracking). Harmonics whose search window holds a line
+s from the interpolated frequencies of the harmonics it found, each weighted
+by the inverse of its variance: the error of an interpolated line frequency
+falls with its signal-to-noise ratio, and harmonic k resolves the speed k
+times more finely, so the weight is (k x SNR)^2 (Rife & Boorstyn 1974,
+"Single-tone parameter estimation from discrete-time observations", IEEE
+Trans. Inf. Theory 20(5), for the SNR dependence). Harmonics whose search window holds a line
 frequency harmonic of a motor (which a slipping rotor's harmonics cross) are
 left out.
 
@@ -30,6 +33,9 @@ from .spectrum import Spectrum
 
 MIN_HARMONIC_SNR = 3.0
 HARMONICS = 5
+TONE_LINES = 8              # lines across the search a bearing tone needs to give the speed
+TONE_HARMONICS = 4          # harmonics of one family that must agree
+MERGED_LINES = 2.5          # lines closer than this share the Hann main lobe (4 lines wide)
 HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and none at 1X
 
 
@@ -47,25 +53,27 @@ class SpeedEstimate:
         return self.speed_hz * 60.0
 
 
-def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: float, exclude_hz) -> tuple:
-    """(best scale, lines found, weights) of a harmonic comb over ``targets`` (Hz at scale 1, order)."""
+def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: float, exclude_hz,
+          centre: float = 1.0) -> tuple:
+    """(best scale, lines found, weights) of a harmonic comb over ``targets`` (Hz at scale 1, order),
+    searched within ``search_fraction`` of the scale ``centre``."""
     amp = spec.amplitude
     df = spec.resolution_hz
     excluded = np.asarray(exclude_hz, dtype=float)
     kept = []
     for hz, k in targets:
-        if hz * (1 + search_fraction) >= spec.fmax_hz:
-            continue
+        if hz * centre * (1 + search_fraction) >= spec.fmax_hz or hz * search_fraction < df:
+            continue            # above Fmax, or so few lines up that its line cannot refine the speed
         if excluded.size and k > 1 and np.any(np.abs(hz - excluded) <= hz * search_fraction + 2 * df):
             continue
         kept.append((hz, k))
     if not kept:
-        return 1.0, [], []
+        return centre, [], []
     freqs = np.array([hz for hz, _ in kept])
     orders = np.array([k for _, k in kept], dtype=float)
     floors = np.array([max(noise_floor(spec, int(round(f / df)), half_width=50), 1e-300) for f in freqs])
     step = df / (4 * freqs.max())
-    scales = np.arange(1 - search_fraction, 1 + search_fraction + step, step)
+    scales = centre * np.arange(1 - search_fraction, 1 + search_fraction + step, step)
     lines = np.clip(np.rint(np.outer(scales, freqs) / df).astype(int), 1, len(amp) - 2)
     local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
     score = (np.log1p(local / floors[None, :]) / orders[None, :]).sum(axis=1)
@@ -75,8 +83,10 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
     for i, (hz, k) in enumerate(kept):
         if not found.found[i] or found.amplitude[i] / floors[i] < MIN_HARMONIC_SNR:
             continue
+        if abs(found.freq_hz[i] - best * hz) > df or abs(found.freq_hz[i] / hz / centre - 1) > search_fraction:
+            continue            # a neighbour's line, not this harmonic
         estimates.append(found.freq_hz[i] / hz)
-        weights.append(orders[i] ** 2 * min(found.amplitude[i] / floors[i], 100.0))
+        weights.append((orders[i] * min(found.amplitude[i] / floors[i], 100.0)) ** 2)
         hits.append(i)
     if not hits:
         return best, [], []
@@ -88,31 +98,46 @@ def _distinguishable(targets: list[tuple[float, int]], search_fraction: float, d
 
     Two harmonics closer than the search window could both claim one line at
     a wrong scale (a fan's 3X 3 % above its motor's 1X): the higher order of
-    the two is left out, so each line speaks for one shaft.
+    the two is left out, so each line speaks for one shaft. Harmonics closer
+    than the Hann window's main lobe (``MERGED_LINES`` lines) merge into one
+    peak whose frequency is neither's: both are left out.
     """
     targets = sorted(set(targets), key=lambda t: (t[1], t[0]))
+    every = np.array(sorted({hz for hz, _ in targets}))
     kept: list[tuple[float, int]] = []
     for hz, k in targets:
         window = 2 * search_fraction * hz + 3 * df
-        if all(abs(hz - other) > window for other, _ in kept):
+        merged = np.any((np.abs(every - hz) < MERGED_LINES * df) & (np.abs(every - hz) > 1e-9 * hz))
+        if not merged and all(abs(hz - other) > window for other, _ in kept):
             kept.append((hz, k))
     return sorted(kept)
 
 
 def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str,
-                  search_fraction: float = 0.05, exclude_hz=()) -> SpeedEstimate:
+                  search_fraction: float = 0.05, exclude_hz=(), synchronous=()) -> SpeedEstimate:
     """The speed of ``reference`` that best explains every shaft's harmonics in ``spec``.
 
     ``shafts_hz`` holds every shaft's nominal (or stated) speed; shafts turning
-    at the same speed count once.
+    at the same speed count once. ``synchronous`` adds lines locked to a
+    shaft, as (Hz at the same speeds, order): a gear mesh (teeth x 1X) or a
+    vane pass, whose high order resolves the speed finely when it stands out.
     """
     distinct = sorted({round(hz, 9) for hz in shafts_hz.values()})
-    targets = _distinguishable([(k * hz, k) for hz in distinct for k in range(1, HARMONICS + 1)],
-                               search_fraction, spec.resolution_hz)
-    scale, hits, _ = _comb(spec, targets, search_fraction, exclude_hz)
+    synchronous = [(hz, int(k)) for hz, k in synchronous]
+    harmonics = [(k * hz, k) for hz in distinct for k in range(1, 2 * HARMONICS + 1)]
+    targets = _distinguishable(harmonics + synchronous, search_fraction, spec.resolution_hz)
+    low = [t for t in targets if t in {(k * hz, k) for hz in distinct for k in range(1, HARMONICS + 1)}]
+    high = [t for t in targets if t in set(synchronous)]
+    scale, hits, _ = _comb(spec, low, search_fraction, exclude_hz)
     nominal = shafts_hz[reference]
     if not hits:
         return SpeedEstimate(nominal, nominal, (), False, "stated", 0)
+    if high:
+        # a mesh line's own sidebands lie 1/order away: search it only within half of that
+        fine = min(search_fraction, 0.4 / max(k for _, k in high))
+        fine_scale, fine_hits, _ = _comb(spec, low + high, fine, exclude_hz, centre=scale)
+        if fine_hits:
+            scale, hits = fine_scale, fine_hits
     own = tuple(sorted({k for hz, k in hits if abs(hz / k - nominal) <= 1e-9 * nominal}))
     return SpeedEstimate(scale * nominal, nominal, own, True, "1X harmonics", len(hits))
 
@@ -129,9 +154,11 @@ def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
     envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does."""
     best = None
     for rate in rates_hz:
+        if rate * search_fraction < TONE_LINES * ses.resolution_hz:
+            continue            # too few lines across the search to place the tone finely
         targets = [(k * rate, k) for k in range(1, HARMONICS + 1)]
         scale, hits, weights = _comb(ses, targets, search_fraction, ())
-        if len(hits) >= 3 and any(k == 1 for _, k in hits):
+        if len(hits) >= TONE_HARMONICS and any(k == 1 for _, k in hits):
             strength = float(np.sum(weights))
             if best is None or strength > best[0]:
                 best = (strength, scale, len(hits))

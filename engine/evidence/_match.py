@@ -17,6 +17,7 @@ UNREFINED_TOLERANCE = 0.02  # without a refined speed: 2 %
 SLIP_TOLERANCE = 0.02       # bearing defect rates slip by 1-2 % (Randall & Antoni 2011)
 WIDE_FLOOR_FRACTION = 0.15  # a wide floor: the median within +-15 % of the frequency
 WIDE_FLOOR_MIN_LINES = 25
+LINES_FROM_ZERO = 3         # a Hann main lobe spans +-2 lines: a target nearer 0 Hz than this is not resolved
 
 
 def db(ratio: float) -> float:
@@ -49,17 +50,20 @@ def local_floor(spec: Spectrum, freq_hz: float, width_fraction: float = WIDE_FLO
     return _median(vals) if len(vals) else 0.0
 
 
-def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False) -> Lines:
+def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False, floors=None) -> Lines:
     """The peaks near each of ``freqs_hz`` that stand MIN_SNR above their floor.
 
     ``fraction`` (one value or one per target) sets the search half-width as a
-    share of the frequency, never less than 1.5 lines. With ``wide_floor`` the
+    share of the frequency, never less than 1.5 lines. A target within
+    ``LINES_FROM_ZERO`` lines of 0 Hz is never found: leakage from 0 Hz and
+    the integration to velocity fill those lines. With ``wide_floor`` the
     floor is the median over +-15 % of the frequency instead of 51 lines
-    (squared envelope spectra, whose lines are few and broad).
+    (squared envelope spectra, whose lines are few and broad); ``floors``
+    (one per target, 0 for the usual one) gives a floor measured elsewhere.
     """
     freqs = np.atleast_1d(np.asarray(freqs_hz, dtype=float))
     fraction = np.broadcast_to(np.asarray(fraction, dtype=float), freqs.shape)
-    inside = (freqs > 0) & (freqs <= spec.fmax_hz * 0.98)
+    inside = (freqs >= LINES_FROM_ZERO * spec.resolution_hz) & (freqs <= spec.fmax_hz * 0.98)
     tol = np.maximum(1.5 * spec.resolution_hz, fraction * freqs)
     lines = peaks_near(spec, np.where(inside, freqs, 0.0), tol)
     found = lines.found & inside
@@ -69,6 +73,9 @@ def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False) -> 
         for i in np.flatnonzero(found):
             floor = local_floor(spec, float(freqs[i]))
             snr[i] = lines.amplitude[i] / floor if floor > 0 else float("inf")
+    if floors is not None:
+        given = np.asarray(floors, dtype=float)
+        snr = np.where(given > 0, lines.amplitude / np.where(given > 0, given, 1.0), snr)
     return lines.with_snr(snr, found & (snr >= MIN_SNR))
 
 

@@ -27,6 +27,26 @@ def _carriers(rc: Analysis):
     return out
 
 
+def floor_between(spec, fc: float, spacing: float) -> float:
+    """Median amplitude between the lines of a sideband family (0 if too few lines are left).
+
+    A dense family at a coarse resolution fills most of the 51 lines a local
+    floor takes its median over, and that median is a line's skirt, not the
+    noise; the lines within 2 of the carrier and of every sideband (a Hann
+    main lobe) are left out here.
+    """
+    df = spec.resolution_hz
+    reach = (MAX_ORDER + 1) * spacing
+    lo = max(1, int((fc - reach) / df))
+    hi = min(len(spec.amplitude), int((fc + reach) / df) + 1)
+    if hi - lo < 10:
+        return 0.0
+    f = spec.freq_hz[lo:hi]
+    nearest = np.abs((f - fc) / spacing - np.rint((f - fc) / spacing)) * spacing
+    between = spec.amplitude[lo:hi][nearest > 2.5 * df]
+    return float(np.median(between)) if len(between) >= 10 else 0.0
+
+
 def sideband_family(rc: Analysis) -> list[dict]:
     """Sidebands at carrier +- k x spacing, k = 1..6, counted where they stand above the floor."""
     out = []
@@ -41,7 +61,8 @@ def sideband_family(rc: Analysis) -> list[dict]:
                 continue
             todo = searches[use_velocity]
             centre = len(todo)
-            todo.append((fc, 0.002))
+            floor = floor_between(spec, fc, spacing)
+            todo.append((fc, 0.002, floor))
             sides = []
             for k in range(1, MAX_ORDER + 1):
                 for sign in (-1, 1):
@@ -49,9 +70,10 @@ def sideband_family(rc: Analysis) -> list[dict]:
                     if f <= 0:
                         continue
                     sides.append((k, sign, len(todo)))
-                    todo.append((f, max(SPACING_TOLERANCE * k * spacing, 0.5 * spec.resolution_hz) / f))
+                    todo.append((f, max(SPACING_TOLERANCE * k * spacing, 0.5 * spec.resolution_hz) / f, floor))
             families.append((car, centre, sides))
-        found_lines = {v: find_lines(c.velocity if v else c.spectrum, [t[0] for t in todo], [t[1] for t in todo])
+        found_lines = {v: find_lines(c.velocity if v else c.spectrum, [t[0] for t in todo], [t[1] for t in todo],
+                                     floors=[t[2] for t in todo])
                        for v, todo in searches.items() if todo}
         for (carrier, component, fc, spacing_name, spacing_shaft, spacing, use_velocity), centre_at, sides in families:
             lines = found_lines[use_velocity]

@@ -1,0 +1,70 @@
+"""``tellwave plan``: the settings each point needs, and what given settings cannot show."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+
+def register(sub) -> None:
+    p = sub.add_parser("plan", help="propose acquisition settings for a machine, or check given ones")
+    p.add_argument("machine", help="machine YAML file")
+    p.add_argument("--point", action="append", metavar="P", help="plan only this measurement point (repeatable)")
+    p.add_argument("--rpm", type=float, help="running speed of the driving shaft (default: nominal)")
+    given = p.add_argument_group("settings to check (or --reading)")
+    given.add_argument("--fmax", type=float, metavar="HZ", help="Fmax in Hz")
+    given.add_argument("--lines", type=int, metavar="N", help="number of lines")
+    given.add_argument("--sample-rate", type=float, metavar="HZ", help="sample rate in Hz (default 2.56 x Fmax)")
+    given.add_argument("--duration", type=float, metavar="S", help="waveform length in s (default lines / Fmax)")
+    given.add_argument("--reading", metavar="FILE", help="take the settings (and speed) of a reading file")
+    p.add_argument("--policy", metavar="FILE", help="acquisition policy YAML (default: the shipped one)")
+    p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
+                   help="plan format (default text)")
+    p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
+                                          "MACHINE.plan.html or .md for HTML and Markdown)")
+    p.add_argument("--no-proof", action="store_true", help="skip the proof by simulation")
+    p.set_defaults(run=run)
+
+
+def _given(args, policy):
+    from ..errors import UsageError
+    from ..planner import given_settings, reading_settings
+
+    explicit = [args.fmax, args.lines, args.sample_rate, args.duration]
+    if args.reading:
+        if any(v is not None for v in explicit):
+            raise UsageError("give either --reading or settings (--fmax, --lines, --sample-rate, --duration)")
+        from ..readings import load_reading
+
+        reading = load_reading(args.reading)
+        return reading_settings(policy, reading.fs_hz, reading.n_samples, Path(args.reading).name), reading.speed_rpm
+    if all(v is None for v in explicit):
+        return None, None
+    return given_settings(policy, args.fmax, args.lines, args.sample_rate, args.duration), None
+
+
+def run(args) -> int:
+    from ..machine import load_machine
+    from ..planner import build_plan, load_policy, render_plan
+    from ..report import write_atomically
+
+    machine = load_machine(args.machine)
+    policy = load_policy(args.policy)
+    for point in args.point or []:
+        machine.point(point)
+    given, reading_rpm = _given(args, policy)
+    rpm = args.rpm if args.rpm is not None else reading_rpm
+    if rpm is not None:
+        machine.speeds_at(rpm)
+    fmt = args.format
+    doc = build_plan(machine, policy, points=args.point, given=given, speed_rpm=rpm,
+                     with_proof=not args.no_proof, with_figures=fmt == "html")
+    text = render_plan(doc, fmt)
+    output = args.output
+    if output is None and fmt in ("html", "md"):
+        output = Path(args.machine).with_suffix("").name + f".plan.{fmt}"
+    if output is None:
+        sys.stdout.write(text)
+    else:
+        print(f"wrote {write_atomically(output, text)}")
+    return 0

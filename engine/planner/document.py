@@ -1,0 +1,191 @@
+"""The acquisition plan as one plain dict: proposals per point and purpose, the check of given
+settings, the proof by simulation and the figures. Templates and JSON read only this dict."""
+
+from __future__ import annotations
+
+import json
+import math
+
+from ..errors import UsageError
+from ..kinematics import forcing_frequencies
+from ..machine import Machine, Point
+from .check import CANNOT, check, frequencies_above, verdicts
+from .needs import ring_down_s
+from .policy import Policy
+from .proof import SEED, STAGE, prove, resonance_hz
+from .propose import Proposal, propose
+from .settings import Settings
+from .targets import PURPOSE_TITLES, Target, purposes_at, targets_at
+
+SCHEMA_VERSION = 1
+
+
+def _rows(p: Proposal) -> list[dict]:
+    slow = p.slowest_shaft
+    rows = [
+        ("Fmax", f"{p.fmax_hz:g} Hz"),
+        ("lines", f"{p.lines} ({p.resolution_hz:.3g} Hz per line)"),
+        ("sample rate", f"{p.sample_rate_hz:g} Hz"),
+        ("record", f"{p.record_s:.3g} s = {p.record_revolutions:.1f} turns of {slow}"),
+        ("window", p.window.capitalize()),
+        ("averages", f"{p.averages}, {p.overlap_pct:g} % overlap"),
+    ]
+    if p.envelope_band_hz is not None:
+        rows.append(("envelope band", f"{p.envelope_band_hz[0]:.0f}-{p.envelope_band_hz[1]:.0f} Hz"))
+    rows.append(("waveform", f"{p.waveform_s:.3g} s = {p.waveform_revolutions:.1f} turns of {slow} "
+                             f"({round(p.waveform_s * p.sample_rate_hz)} samples)"))
+    return [{"setting": name, "value": value, "why": p.reasons[name]} for name, value in rows]
+
+
+def _proposal_dict(p: Proposal) -> dict:
+    return {
+        "purpose": p.purpose, "title": p.title, "fmax_hz": p.fmax_hz, "lines": p.lines,
+        "resolution_hz": p.resolution_hz, "sample_rate_hz": p.sample_rate_hz, "record_s": p.record_s,
+        "slowest_shaft": p.slowest_shaft, "record_revolutions": p.record_revolutions, "window": p.window,
+        "averages": p.averages, "overlap_pct": p.overlap_pct, "acquisition_s": p.acquisition_s,
+        "waveform_s": p.waveform_s, "waveform_revolutions": p.waveform_revolutions,
+        "envelope_band_hz": list(p.envelope_band_hz) if p.envelope_band_hz else None,
+        "rows": _rows(p), "notes": list(p.notes),
+    }
+
+
+def _grouped(proposals: dict) -> list[dict]:
+    """Proposals by purpose, points with the very same settings and reasons taken together."""
+    groups: dict[tuple, dict] = {}
+    for (point, purpose), p in proposals.items():
+        d = _proposal_dict(p)
+        key = (purpose, repr(d))
+        if key in groups:
+            groups[key]["points"].append(point)
+        else:
+            groups[key] = d | {"points": [point]}
+    order = list(PURPOSE_TITLES)
+    return sorted(groups.values(), key=lambda g: order.index(g["purpose"]))
+
+
+def _counts(machine: Machine, given: Settings, policy: Policy, speeds: dict) -> list[dict]:
+    """What the given settings hold, stated whether or not a need asks for it."""
+    rows = [{"what": f"turns of {shaft}", "value": f"{given.duration_s * hz:.1f} in the waveform, "
+                                                    f"{given.sample_rate_hz / hz:.0f} samples per turn"}
+            for shaft, hz in speeds.items()]
+    for g in machine.gears:
+        gmf = g.driving_teeth * speeds[g.driving_shaft]
+        f_ht = gmf * math.gcd(g.driving_teeth, g.driven_teeth) / (g.driving_teeth * g.driven_teeth)
+        rows.append({"what": f"mesh {g.id}", "value": f"{given.duration_s * f_ht:.2f} hunting-tooth periods, "
+                                                      f"{given.sample_rate_hz / gmf:.1f} samples on one tooth impact"})
+    if machine.bearings:
+        lo, hi = policy.bearing_resonance_hz
+        where = ("under Fmax" if hi <= given.fmax_hz else "partly above Fmax" if lo < given.fmax_hz
+                 else "above Fmax")
+        nyquist = "under" if hi <= given.nyquist_hz else "above"
+        rows.append({"what": f"envelope band {lo:.0f}-{hi:.0f} Hz",
+                     "value": f"{where} ({given.fmax_hz:g} Hz), {nyquist} half the sample rate ({given.nyquist_hz:g} Hz)"})
+        rows.append({"what": "one bearing impact",
+                     "value": f"{given.sample_rate_hz * ring_down_s(policy, hi):.1f} samples ringing at {hi:.0f} Hz, "
+                              f"{given.sample_rate_hz * ring_down_s(policy, lo):.1f} at {lo:.0f} Hz"})
+    return rows
+
+
+def proof_point(machine: Machine, target: Target, points: list[Point]) -> Point:
+    """Where to simulate a target: a radial point on its component, else on its shaft, else any."""
+    def rank(p: Point):
+        return (p.at != target.component, p.shaft != target.shaft, p.direction == "axial")
+    return min(points, key=rank)
+
+
+def _targets(machine: Machine, points: list[Point]) -> dict[Target, Point]:
+    """Each target of every purpose at ``points`` once, with the point to prove it at."""
+    seen: dict[Target, list[Point]] = {}
+    for p in points:
+        for purpose in purposes_at(machine, p):
+            for t in targets_at(machine, p, purpose):
+                seen.setdefault(t, []).append(p)
+    return {t: proof_point(machine, t, candidates) for t, candidates in seen.items()}
+
+
+def _trial_dict(trial) -> dict:
+    return {"found": trial.found, "measure": trial.measure, "settings": trial.settings.as_dict(),
+            "routes": {name: {"found": o.found, "measure": o.measure} for name, o in trial.routes.items()}}
+
+
+def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | None = None,
+               speed_rpm: float | None = None, with_proof: bool = True, with_figures: bool = False) -> dict:
+    """The whole plan for ``machine`` (at ``points``, default all), checking ``given`` settings if any."""
+    chosen = [p for p in machine.points if points is None or p.id in points]
+    speeds = machine.speeds_at(speed_rpm)
+    proposals = {(p.id, u): propose(machine, p, u, policy, speed_rpm) for p in chosen for u in purposes_at(machine, p)}
+    doc = {
+        "kind": "acquisition plan", "schema_version": SCHEMA_VERSION,
+        "machine": {"name": machine.name, "plant": machine.plant or "", "source": str(machine.source),
+                    "speeds_rpm": {s: hz * 60 for s, hz in speeds.items()}},
+        "policy": {"source": policy.source, "sample_rate_per_fmax": policy.sample_rate_per_fmax,
+                   "lines_between_carrier_and_sideband": policy.lines_between_carrier_and_sideband,
+                   "min_revolutions": policy.min_revolutions, "min_samples_per_impact": policy.min_samples_per_impact},
+        "points": [{"id": p.id, "at": p.at, "direction": p.direction, "shaft": p.shaft,
+                    "purposes": purposes_at(machine, p)} for p in chosen],
+        "proposals": _grouped(proposals),
+        "given": given.as_dict() if given else None,
+        "check": None, "proof": None, "figures": [],
+    }
+    targets = _targets(machine, chosen)
+    if given is not None:
+        limitations = check(machine, given, policy, points=[p.id for p in chosen], speed_rpm=speed_rpm)
+        found = verdicts(list(targets), limitations)
+        doc["check"] = {
+            "limitations": [lim.as_dict() for lim in limitations],
+            "verdicts": [v.as_dict() for v in found],
+            "cannot_show": [v.as_dict() for v in found if v.state == CANNOT],
+            "above_fmax": [f.as_dict() for f in frequencies_above(machine, given, speed_rpm)],
+            "counts": _counts(machine, given, policy, speeds),
+            "forcing_count": len(forcing_frequencies(machine, speed_rpm)),
+        }
+    if with_proof:
+        items = []
+        for t, p in targets.items():
+            proposed = proposals[(p.id, t.purpose)].settings()
+            sets = {"proposed": proposed}
+            expected = {"proposed": verdicts([t], check(machine, proposed, policy, [p.id], [t.purpose], speed_rpm))[0].state}
+            if given is not None:
+                sets["given"] = given
+                expected["given"] = verdicts([t], check(machine, given, policy, [p.id], [t.purpose], speed_rpm))[0].state
+            item = prove(machine, t, p, sets, policy, expected, speed_rpm)
+            items.append({"purpose": t.purpose, "fault": t.signature, "component": t.component, "shaft": t.shaft,
+                          "label": t.label, "point": p.id, "expected": expected,
+                          "trials": {k: _trial_dict(v) for k, v in item.trials.items()},
+                          "agrees": {k: item.agrees(k) for k in item.trials}})
+        verdicts_ = [a for i in items for a in i["agrees"].values()]
+        doc["proof"] = {"stage": STAGE, "seed": SEED, "resonance_hz": resonance_hz(policy), "items": items,
+                        "compared": sum(1 for a in verdicts_ if a is not None),
+                        "agreements": sum(1 for a in verdicts_ if a is True),
+                        "disagreements": sum(1 for a in verdicts_ if a is False)}
+    if with_figures:
+        from .figures import impact_figure
+
+        for signature, caption in (("gear-tooth", "a tooth impact"), ("outer-race", "a bearing impact")):
+            pick = next(((t, p) for t, p in targets.items() if t.signature == signature), None)
+            if pick is None:
+                continue
+            t, p = pick
+            sets = {"proposed": proposals[(p.id, t.purpose)].settings()}
+            if given is not None:
+                sets["given"] = given
+            figure, legend = impact_figure(machine, t, p, sets, policy, speed_rpm,
+                                           f"{caption.capitalize()}: {t.label} at {p.id}")
+            doc["figures"].append({"title": caption, "svg": figure,
+                                   "legend": [{"color": c, "text": text} for c, text in legend]})
+    return doc
+
+
+
+PLAN_TEMPLATES = {"text": "plan.txt.j2", "md": "plan.md.j2", "html": "plan.html.j2"}
+
+
+def render_plan(doc: dict, fmt: str) -> str:
+    """The plan in ``fmt``: text, md, html (autoescaped) or json."""
+    from ..report.render import environment
+
+    if fmt == "json":
+        return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
+    if fmt not in PLAN_TEMPLATES:
+        raise UsageError(f"unknown plan format {fmt!r}; use text, md, html or json")
+    return environment().get_template(PLAN_TEMPLATES[fmt]).render(doc=doc)

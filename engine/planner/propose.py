@@ -1,0 +1,138 @@
+"""Propose settings for one purpose at one point, each number with a one-line reason.
+
+From the point's requirements (``needs``): Fmax is the smallest step of the
+policy that covers every frequency the purpose needs, raised when a sample
+rate must put enough samples on an impact or a turn; the sample rate is
+2.56 x Fmax; the lines are the smallest standard count whose resolution
+(Fmax / lines) splits every spacing by the policy's lines; one record lasts
+lines / Fmax; the waveform is as long as the longest turn count or period
+the purpose needs. Window, averages and overlap come from the policy.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from ..machine import Machine, Point
+from .needs import Need, Requirements, hz_text, requirements
+from .policy import Policy
+from .settings import Settings
+from .targets import PURPOSE_TITLES
+
+
+@dataclass(frozen=True)
+class Proposal:
+    point: str
+    purpose: str
+    fmax_hz: float
+    lines: int
+    sample_rate_hz: float
+    record_s: float
+    slowest_shaft: str
+    record_revolutions: float        # turns of the slowest shaft in one record
+    window: str
+    averages: int
+    overlap_pct: float
+    acquisition_s: float             # the averages with their overlap
+    waveform_s: float                # the waveform to keep, for the per-revolution view and tellwave
+    waveform_revolutions: float
+    envelope_band_hz: tuple[float, float] | None
+    reasons: dict                    # setting -> one line
+    notes: tuple[str, ...]
+    requirements: Requirements
+    unmet: tuple[Need, ...] = ()     # needs no standard setting reaches (each has a note)
+
+    @property
+    def title(self) -> str:
+        return PURPOSE_TITLES[self.purpose]
+
+    @property
+    def resolution_hz(self) -> float:
+        return self.fmax_hz / self.lines
+
+    def settings(self) -> Settings:
+        """The acquisition this proposal amounts to, as the checks and the proof take it."""
+        return Settings(self.fmax_hz, self.lines, self.sample_rate_hz, self.waveform_s, f"proposed ({self.purpose})")
+
+
+def _step_up(value: float, steps) -> float:
+    for s in steps:
+        if s >= value * (1 - 1e-9):
+            return s
+    # above the largest step: round up to a whole multiple of it
+    top = steps[-1]
+    return top * -(-value // top)
+
+
+def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
+            speed_rpm: float | None = None) -> Proposal:
+    """Settings that meet every need of ``purpose`` at ``point`` (a plain function, no I/O)."""
+    req = requirements(machine, point, purpose, policy, speed_rpm)
+    speeds = machine.speeds_at(speed_rpm)
+    k = policy.sample_rate_per_fmax
+    by = {name: [n for n in req.needs if n.setting == name]
+          for name in ("fmax", "sample_rate", "resolution", "duration", "floor", "twin")}
+    notes = [f"no setting can show {n.what}: it lies below the {n.floor_hz:g} Hz low-frequency limit; "
+             "use a low-frequency sensor" for n in by["floor"] if n.value < n.floor_hz]
+    notes += [f"no setting separates them: {n.what}; {n.why}" for n in by["twin"]]
+
+    top: Need = max(by["fmax"], key=lambda n: n.value)
+    fast: Need | None = max(by["sample_rate"], key=lambda n: n.value, default=None)
+    if fast is not None and fast.value / k > top.value:
+        fmax = _step_up(fast.value / k, policy.fmax_steps_hz)
+        fmax_why = (f"{fast.what}: {fast.value * fast.span_s:g} {fast.noun} need a sample rate of "
+                    f"{fast.value:.0f} Hz, so Fmax {hz_text(fast.value / k)} Hz")
+        needed = fast.value / k
+    else:
+        fmax = _step_up(top.value, policy.fmax_steps_hz)
+        fmax_why = f"{top.what} needs {hz_text(top.value)} Hz"
+        needed = top.value
+    if fmax > needed * (1 + 1e-9):
+        fmax_why += "; rounded up to the next step"
+    fs = k * fmax
+
+    tight: Need = min(by["resolution"], key=lambda n: n.value / n.lines)
+    res_needed = tight.value / tight.lines
+    wanted = fmax / res_needed
+    lines = next((n for n in policy.standard_lines if n >= wanted * (1 - 1e-9)), None)
+    if lines is None:
+        lines = policy.standard_lines[-1]
+        notes.append(f"no standard line count reaches {wanted:.0f} lines at Fmax {fmax:g} Hz: "
+                     f"{tight.what} stays unresolved; take a zoom spectrum or a second reading at a lower Fmax")
+        tight = min((n for n in by["resolution"] if n.value / n.lines >= fmax / lines * (1 - 1e-9)),
+                    key=lambda n: n.value / n.lines, default=tight)
+    resolution = fmax / lines
+    record = lines / fmax
+
+    slow = req.shafts[0]
+    long: Need | None = max(by["duration"], key=lambda n: n.value, default=None)
+    waveform = max(record, long.value if long else 0.0)
+    averages = int(policy.averages[purpose])
+    overlap = policy.overlap_pct
+    acquisition = record * (1 + (averages - 1) * (1 - overlap / 100))
+
+    src = policy.source_of
+    reasons = {
+        "Fmax": fmax_why,
+        "lines": (f"resolution {resolution:.3g} Hz puts {tight.value / resolution:.1f} lines across "
+                  f"{tight.what} (at least {tight.lines:g})"),
+        "sample rate": f"{k:g} x Fmax ({src('sample_rate_per_fmax').split(' (')[0]})",
+        "record": f"lines / Fmax, one average; {slow} is the slowest shaft of interest",
+        "window": src("window"),
+        "averages": (f"{averages} records with {overlap:g} % overlap take {acquisition:.3g} s "
+                     f"({src('averages').split(' (')[0]})"),
+        "waveform": (f"{long.what} ({long.why})" if long and long.value > record
+                     else "one record is enough for this purpose"),
+    }
+    band = req.envelope_band_hz
+    if band is not None:
+        top_line = max(req.strong_lines, key=lambda x: x[1])
+        reasons["envelope band"] = (
+            f"from {policy.bearing_resonance_hz[0]:g} Hz or {policy.envelope_band_clearance:g} x the highest "
+            f"machine line ({top_line[0]}, {top_line[1]:.0f} Hz), up to {band[1]:.0f} Hz where bearing impacts "
+            f"ring; the kurtogram picks the band within")
+    proposal = Proposal(point.id, purpose, fmax, lines, fs, record, slow, record * speeds[slow], policy.window,
+                        averages, overlap, acquisition, waveform, waveform * speeds[slow], band, reasons,
+                        tuple(notes), req)
+    unmet = tuple(n for n in req.needs if not n.met_by(proposal.settings()))
+    return replace(proposal, unmet=unmet)

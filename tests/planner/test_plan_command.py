@@ -1,0 +1,166 @@
+"""`tellwave plan` end to end: every shipped machine and test rig, the four formats, a reading, bad input."""
+
+import json
+import subprocess
+import sys
+from html.parser import HTMLParser
+
+import jinja2.meta
+import pytest
+
+from engine.cli import main
+from engine.machine import load_machine
+from engine.planner import build_plan, load_policy, render_plan
+from engine.report.render import environment
+from engine.synth import simulate, write_simulation
+
+from support import CASES, ROOT, TEST_MACHINES
+
+MACHINES = sorted((CASES / "machines").glob("*.yaml")) + sorted(TEST_MACHINES.glob("*.yaml"))
+RW2 = CASES / "machines" / "rw2-raw-water-pump.yaml"
+CT1 = CASES / "machines" / "ct1-cooling-tower-fan.yaml"
+
+
+@pytest.mark.parametrize("path", MACHINES, ids=[p.stem for p in MACHINES])
+def test_plan_works_on_every_machine(path, capsys):
+    assert main(["plan", str(path), "--no-proof"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("tellwave acquisition plan:")
+    for point in load_machine(path).points:
+        assert point.id in out
+    assert main(["plan", str(path), "--no-proof", "--fmax", "1000", "--lines", "400", "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["check"]["verdicts"] and all(v["state"] in ("can show", "may miss", "cannot show")
+                                            for v in doc["check"]["verdicts"])
+
+
+@pytest.mark.parametrize("path, point", [(RW2, "P1H"), (CT1, "GINH"), (CASES / "machines" / "bw1-backwash-blower.yaml",
+                                                                        "BDEH")])
+def test_proof_runs_for_a_point_of_each_plant_machine(path, point, capsys):
+    assert main(["plan", str(path), "--point", point, "--fmax", "500", "--lines", "200", "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    proof = doc["proof"]
+    assert proof["items"] and proof["disagreements"] == 0
+    assert all(i["trials"]["proposed"]["found"] for i in proof["items"] if i["expected"]["proposed"] == "can show")
+    assert any(not i["trials"]["given"]["found"] for i in proof["items"])
+
+
+@pytest.fixture(scope="module")
+def ct1_plan():
+    policy = load_policy()
+    from engine.planner import given_settings
+    return build_plan(load_machine(CT1), policy, points=["GINH", "MDEH"],
+                      given=given_settings(policy, fmax_hz=1000.0, lines=400), with_figures=True)
+
+
+class _Checker(HTMLParser):
+    VOID = {"meta", "br", "line", "polyline", "circle", "rect", "path", "img"}
+
+    def __init__(self):
+        super().__init__()
+        self.stack, self.errors = [], []
+
+    def handle_starttag(self, tag, attrs):
+        if tag not in self.VOID:
+            self.stack.append(tag)
+
+    def handle_startendtag(self, tag, attrs):
+        pass
+
+    def handle_endtag(self, tag):
+        if tag in self.VOID:
+            return
+        if not self.stack or self.stack[-1] != tag:
+            self.errors.append(tag)
+        else:
+            self.stack.pop()
+
+
+def test_html_plan_draws_a_tooth_and_a_bearing_impact_and_escapes_text(ct1_plan):
+    html = render_plan(ct1_plan, "html")
+    checker = _Checker()
+    checker.feed(html)
+    assert not checker.errors and not checker.stack
+    assert html.count("<svg") == 2 and "tooth impact" in html and "bearing impact" in html
+    doc = json.loads(json.dumps(ct1_plan))
+    doc["machine"]["name"] = "<script>alert(1)</script>"
+    html = render_plan(doc, "html")
+    assert "<script>alert" not in html and "&lt;script&gt;" in html
+
+
+def test_every_format_leads_with_what_the_given_settings_cannot_show(ct1_plan):
+    text = render_plan(ct1_plan, "text")
+    assert text.index("cannot show") < text.index("PROPOSED SETTINGS") < text.index("PROOF BY SIMULATION")
+    assert "gear-tooth on bevel_stage (fan gear)" in text
+    md = render_plan(ct1_plan, "md")
+    assert md.index("What the given settings can show") < md.index("Proposed settings")
+    assert json.loads(render_plan(ct1_plan, "json"))["kind"] == "acquisition plan"
+
+
+def test_the_check_states_what_the_given_settings_hold(ct1_plan):
+    counts = {c["what"]: c["value"] for c in ct1_plan["check"]["counts"]}
+    gmf = 23 * 985 / 60
+    # samples on one tooth impact = sample rate x one mesh period (1 / GMF) [derived]
+    assert f"{2560 / gmf:.1f} samples on one tooth impact" in counts["mesh bevel_stage"]
+    # turns in the waveform = its length x shaft speed: 400 lines / 1000 Hz = 0.4 s [derived]
+    assert counts["turns of fan"].startswith(f"{0.4 * 985 / 60 * 23 / 67:.1f} in the waveform")
+    assert "above half the sample rate" in counts["envelope band 2000-10000 Hz"]
+
+
+def test_templates_need_only_the_document():
+    env = environment()
+    for name in ("plan.txt.j2", "plan.md.j2", "plan.html.j2"):
+        source = env.loader.get_source(env, name)[0]
+        assert jinja2.meta.find_undeclared_variables(env.parse(source)) == {"doc"}, name
+
+
+def test_plan_of_a_reading_uses_its_settings(tmp_path, capsys):
+    m = load_machine(RW2)
+    sim = simulate(m, "healthy", None, 2, None, 2560.0, 1.0, 3, ["P1H"])
+    reading = write_simulation(sim, tmp_path / "route-p1h.npz")[0]
+    out = tmp_path / "plan.md"
+    assert main(["plan", str(RW2), "--reading", str(reading), "--point", "P1H", "--no-proof",
+                 "--format", "md", "-o", str(out)]) == 0
+    text = out.read_text()
+    assert "route-p1h.npz: Fmax 1000 Hz" in text and "| outer-race on pump_de | cannot show |" in text
+    assert not list(tmp_path.glob("*.part"))
+
+
+def test_html_and_markdown_go_to_a_file_named_for_the_machine(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    assert main(["plan", str(RW2), "--point", "P2H", "--no-proof", "--format", "html"]) == 0
+    assert (tmp_path / "rw2-raw-water-pump.plan.html").read_text().startswith("<!DOCTYPE html>")
+    assert "wrote" in capsys.readouterr().out
+
+
+def _reading(p):
+    m = load_machine(RW2)
+    return write_simulation(simulate(m, "healthy", None, 2, None, 2560.0, 0.5, 1, ["P1H"]), p / "r.npz")[0]
+
+
+BAD_INPUT = [
+    ("missing machine", lambda p: ["plan", str(p / "nope.yaml")], 3, "nope.yaml"),
+    ("missing reading", lambda p: ["plan", str(RW2), "--reading", str(p / "gone.wav")], 4, "gone.wav"),
+    ("reading and settings", lambda p: ["plan", str(RW2), "--reading", str(_reading(p)), "--fmax", "500"], 2,
+     "either --reading"),
+    ("negative Fmax", lambda p: ["plan", str(RW2), "--fmax", "-5", "--lines", "400"], 2, "positive"),
+    ("lines without Fmax", lambda p: ["plan", str(RW2), "--lines", "400"], 2, "--fmax"),
+    ("unknown point", lambda p: ["plan", str(RW2), "--point", "X9"], 3, "X9"),
+    ("bad format", lambda p: ["plan", str(RW2), "--format", "pdf"], 2, "pdf"),
+    ("bad speed", lambda p: ["plan", str(RW2), "--rpm", "-3", "--no-proof"], 3, "speed must be between"),
+]
+
+
+@pytest.mark.parametrize("name, argv, code, word", BAD_INPUT, ids=[b[0] for b in BAD_INPUT])
+def test_bad_input_gives_one_line_and_its_exit_code(tmp_path, capsys, name, argv, code, word):
+    assert main(argv(tmp_path)) == code
+    err = capsys.readouterr().err
+    assert err.startswith("tellwave: error:") and err.count("\n") == 1 and word in err
+    assert "Traceback" not in err
+
+
+def test_help_does_not_import_the_planner():
+    code = ("import sys, engine.cli; engine.cli.build_parser(); "
+            "print(any(m in sys.modules for m in ('scipy', 'engine.planner')))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True)
+    assert out.stdout.strip() == "False"
