@@ -38,6 +38,7 @@ class Diagnosis:
     reasoning: Reasoning
     advice: Advice
     plots: PlotData | None
+    reach: tuple[dict, ...] = ()     # faults the reading's settings cannot show or may miss (planner checks)
 
     @property
     def facts(self) -> list[dict]:
@@ -70,11 +71,25 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
 
         channel, shaft, bearing = focus(reasoning, evidence, machine)
         figures = plot_data(analysis, channel, shaft, bearing)
-    return Diagnosis(machine, reading_info(reading), evidence, reasoning, advice, figures)
+    return Diagnosis(machine, reading_info(reading), evidence, reasoning, advice, figures,
+                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60))
+
+
+def reach_of(reading: Reading, machine: Machine, driver_rpm: float) -> tuple[dict, ...]:
+    """What the reading's settings cannot show, or may miss, at its points: the planner's checks of
+    the same settings, so a fault out of reach is reported as such, not as absent."""
+    from .planner.check import CAN, reading_verdicts
+    from .planner.policy import load_policy
+
+    points = sorted({c.point for c in reading.channels if c.point in {p.id for p in machine.points}})
+    if not points:
+        return ()
+    found = reading_verdicts(machine, reading.fs_hz, reading.n_samples, load_policy(), points, driver_rpm)
+    return tuple(v.as_dict() for v in found if v.state != CAN)
 
 
 def document_of(d: Diagnosis) -> dict:
     """The report of a diagnosis as one plain dict (engine/schemas/report.schema.json)."""
     from .report import report_document
 
-    return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots)
+    return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach)

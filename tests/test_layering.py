@@ -24,8 +24,8 @@ STAGES = {
     "reasoning": 4,
     "advice": 5,
     "report": 6,
-    "pipeline": 7, "casebook": 7,
-    "demo": 8, "history": 8, "trend": 8, "planner": 8,
+    "pipeline": 7, "casebook": 7, "planner": 7,
+    "demo": 8, "history": 8, "trend": 8,
     "route": 9,
     "cli": 10, "__init__": 10, "__main__": 10,
 }

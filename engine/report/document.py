@@ -66,7 +66,7 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
 
 
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
-                    advice: Advice, plots: PlotData | None = None) -> dict:
+                    advice: Advice, plots: PlotData | None = None, reach=()) -> dict:
     """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo."""
     recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
@@ -96,6 +96,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "remeasure": list(advice.remeasure),
         "remeasure_actions": [a for r in withheld_recs for a in r.actions],
         "limitations": [" ".join(x.split()) for x in advice.limitations],
+        "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
+                   "reasons": list(v["reasons"])} for v in reach],
         "cautions": list(advice.cautions),
         "disclaimer": advice.disclaimer,
         "zones": {"scale": {"group": advice.zone_scale.group, "support": advice.zone_scale.support,
