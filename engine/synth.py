@@ -442,6 +442,8 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
         elif fault in ("stator", "rotor-bar"):
             mot = next(mm for mm in machine.motors if mm.id == component)
             gain = 1.0 if near else 0.2
+            if p.direction == "axial":
+                gain *= 0.25        # magnetic forces act radially across the air gap (common practice)
             if fault == "stator":
                 f2 = 2 * mot.line_frequency_hz
                 x += gain * model.tone(f2, _velocity_tone_accel(1.5 * stage, f2))

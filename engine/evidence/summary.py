@@ -8,7 +8,7 @@ facts by kind name themselves.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 
 @dataclass(frozen=True)
@@ -43,6 +43,7 @@ class Evidence:
     levels: tuple[PointLevel, ...]
     settings: dict                    # the acquisition fact's measured fields
     quality: tuple[QualityNote, ...]
+    speed: dict = field(default_factory=dict)   # the speed_check fact's fields
 
     @property
     def fact_list(self) -> list[dict]:
@@ -59,4 +60,6 @@ def summarise(facts: list[dict]) -> Evidence:
                      for f in facts if f["kind"] == "acquisition"), {})
     quality = tuple(QualityNote(f["channel"], f["issue"], f["value"], f["blocking"])
                     for f in facts if f["kind"] == "data_quality")
-    return Evidence(tuple(facts), levels, settings, quality)
+    speed = next(({k: v for k, v in f.items() if k not in ("kind", "id")}
+                  for f in facts if f["kind"] == "speed_check"), {})
+    return Evidence(tuple(facts), levels, settings, quality, speed)

@@ -32,9 +32,10 @@ from __future__ import annotations
 
 import itertools
 import math
+import string
 import threading
 from collections import defaultdict
-import string
+from dataclasses import replace
 
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
@@ -42,6 +43,7 @@ from ..errors import ReasoningError
 from ..units import format_quantity
 from . import certainty as cf
 from .compile import PHASE_KIND, compile_ruleset, tally_slot
+from .differential import differential
 from .findings import Firing, Hypothesis, Reasoning
 from .rulebook import SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Rulebook
 
@@ -278,8 +280,9 @@ class Reasoner:
         problems = tuple(h for h in hypotheses if faults_of[h.fault].family == "reading")
         withheld = any(h.confident and faults_of[h.fault].withholds_diagnosis for h in problems)
         faults = tuple(h for h in hypotheses if faults_of[h.fault].family != "reading")
-        return Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
-                         self.rulebook.files)
+        result = Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
+                           self.rulebook.files)
+        return replace(result, differential=differential(self.rulebook, result))
 
 
 def word_sentence(rule: Rule, values: dict) -> str:

@@ -55,6 +55,7 @@ class Reasoning:
     facts_considered: int
     rules_loaded: int
     rulebook_files: tuple[str, ...] = field(default=())
+    differential: tuple = ()             # reasoning.differential.Differential of the leading hypotheses
 
     @property
     def top(self) -> Hypothesis | None:

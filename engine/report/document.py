@@ -65,6 +65,36 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
             f"{100 * top.certainty:.0f} %{more}.")
 
 
+def _differential(dx, reasoning: Reasoning, recs: dict) -> dict:
+    lead = next(h for h in reasoning.hypotheses if (h.fault, h.component) == (dx.fault, dx.component))
+    return {"fault": dx.fault, "fault_name": lead.fault_name, "component": dx.component,
+            "certainty": round(lead.certainty, 3),
+            "rivals": [{"fault": r.fault, "fault_name": r.fault_name, "component": r.component,
+                        "certainty": round(r.certainty, 3), "against": " ".join(r.against.split())}
+                       for r in dx.rivals],
+            "separating": [" ".join(t.split()) for t in dx.separating],
+            "missing": list(dx.missing),
+            "settle": list(recs[(dx.fault, dx.component)].confirm)}
+
+
+def speed_text(speed: dict) -> str:
+    """The speed the analysis used, where it came from and how far to trust it, in one sentence."""
+    if not speed:
+        return ""
+    used = f"{speed['measured_rpm']:.1f} rpm of {speed['shaft']}"
+    stated = speed["stated_rpm"]
+    against = (f"stated {stated:.0f} rpm" if stated else f"nominal {speed['nominal_rpm']:.0f} rpm")
+    gap = f", {speed['deviation_pct']:+.1f} % from the {against}"
+    if speed["source"] == "1X harmonics":
+        return (f"Speed {used}, measured from {speed['harmonics']} shaft harmonic lines{gap}; "
+                "forcing frequencies are matched within 0.5 %.")
+    if speed["source"] == "bearing tones":
+        return (f"Speed {used}, measured from {speed['harmonics']} lines of one bearing-tone family{gap} "
+                "(no shaft line stood clear); bearings slip 1-2 %, so forcing frequencies are matched within 2 %.")
+    return (f"Speed {used} as {'stated' if stated else 'in the machine file'}: no shaft line or bearing tone "
+            "stood clear enough to measure it, so forcing frequencies are matched within 2 %.")
+
+
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
                     advice: Advice, plots: PlotData | None = None, reach=()) -> dict:
     """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo."""
@@ -93,6 +123,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                     "urgency": _urgency(advice.urgency)},
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
         "reading_problems": problems,
+        "differential": [_differential(dx, reasoning, recs) for dx in reasoning.differential
+                         if (dx.fault, dx.component) in recs],
         "remeasure": list(advice.remeasure),
         "remeasure_actions": [a for r in withheld_recs for a in r.actions],
         "limitations": [" ".join(x.split()) for x in advice.limitations],
@@ -110,6 +142,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                               "band_truncated": z.band_truncated} for z in advice.zones]},
         "chain": [_firing(f) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
+        "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},
         "data_quality": [{"channel": q.channel, "issue": q.issue, "value": _number(q.value), "blocking": q.blocking}
                          for q in evidence.quality],
         "rulebooks": [str(p) for p in reasoning.rulebook_files],

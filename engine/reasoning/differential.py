@@ -1,0 +1,82 @@
+"""The differential of a leading hypothesis: its rivals, what separates them, what is missing.
+
+An analyst defends a call by naming the other faults that could explain the
+same readings and the evidence that tells them apart. For each leading
+hypothesis this module lists, from the rulebook and the firings alone:
+
+- rivals: the other hypotheses on the same component or of the same family
+  (two defects of one bearing, misalignment against unbalance), each with
+  its certainty and the strongest sign against it;
+- separating evidence: the firings that count against a rival or against
+  the leader (the rules that compete for the evidence);
+- expected but not found: the rules that would add to the leader's
+  certainty and did not fire, so the reader sees what the call still lacks.
+
+What measurement would settle it is advice (``confirm`` in
+rulebooks/advice/actions.yaml); the report joins the two.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .certainty import POSSIBLE
+from .findings import Hypothesis, Reasoning
+from .rulebook import FaultChoice, Rulebook
+
+LEADING = 3
+RIVALS = 3
+
+
+@dataclass(frozen=True)
+class Rival:
+    fault: str
+    fault_name: str
+    component: str
+    certainty: float
+    against: str          # the strongest sign against it, one sentence ("" when none fired)
+
+
+@dataclass(frozen=True)
+class Differential:
+    fault: str
+    component: str
+    rivals: tuple[Rival, ...]
+    separating: tuple[str, ...]     # because sentences of the rules that compete for the evidence
+    missing: tuple[str, ...]        # titles of the leader's corroborating rules that did not fire
+
+
+def _concludes(rule, fault: str) -> bool:
+    if isinstance(rule.fault, FaultChoice):
+        return fault in dict(rule.fault.faults).values()
+    return rule.fault == fault
+
+
+def _missing(rulebook: Rulebook, h: Hypothesis) -> tuple[str, ...]:
+    fired = {f.rule_id for f in h.support} | {f.rule_id for f in h.against}
+    return tuple(r.title for r in rulebook.rules
+                 if r.derives is None and r.weight > 0 and r.stage is None and _concludes(r, h.fault)
+                 and r.id not in fired)
+
+
+def _rivals(h: Hypothesis, others: tuple[Hypothesis, ...]) -> list[Hypothesis]:
+    near = [o for o in others if o is not h and (o.component == h.component or o.family == h.family)
+            and (o.support or o.against)]
+    return sorted(near, key=lambda o: -o.certainty)[:RIVALS]
+
+
+def differential(rulebook: Rulebook, reasoning: Reasoning, leading: int = LEADING) -> tuple[Differential, ...]:
+    """The differential of each of the first ``leading`` hypotheses at POSSIBLE certainty or more."""
+    out = []
+    for h in [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:leading]:
+        rivals = _rivals(h, reasoning.hypotheses)
+        separating = [f.because for f in h.against]
+        for r in rivals:
+            separating += [f.because for f in r.against]
+        out.append(Differential(
+            h.fault, h.component,
+            tuple(Rival(r.fault, r.fault_name, r.component, r.certainty, r.against[0].because if r.against else "")
+                  for r in rivals),
+            tuple(dict.fromkeys(separating)),
+            _missing(rulebook, h)))
+    return tuple(out)

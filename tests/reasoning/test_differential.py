@@ -1,0 +1,68 @@
+"""The differential of the leading hypotheses: rivals, separating evidence, what is still missing."""
+
+from __future__ import annotations
+
+import dataclasses
+
+import pytest
+
+from engine.machine import load_machine
+from engine.pipeline import diagnose, document_of
+from engine.reasoning import Reasoner, load_rulebook
+from engine.synth import as_reading, simulate
+from support import CASES
+
+RW2 = CASES / "machines" / "rw2-raw-water-pump.yaml"
+
+
+@pytest.fixture(scope="module")
+def outer_race():
+    machine = load_machine(RW2)
+    sim = simulate(machine, "outer-race", "pump_nde", 3, None, 25600.0, 4.0, 2)
+    return machine, diagnose(as_reading(sim), machine, Reasoner(load_rulebook()))
+
+
+def test_the_leader_names_its_rivals_and_what_separates_them(outer_race):
+    _, d = outer_race
+    lead = d.reasoning.differential[0]
+    assert (lead.fault, lead.component) == ("outer-race", "pump_nde")
+    top = d.reasoning.top
+    rivals = {(r.fault, r.component) for r in lead.rivals}
+    # every rival shares the leader's component or family, and ranks below it
+    for r in lead.rivals:
+        assert r.component == lead.component or r.fault in {"outer-race", "inner-race", "rolling-element", "cage"}
+        assert r.certainty <= top.certainty
+    assert rivals, "a bearing defect on a pump with four bearings has rivals"
+
+
+def test_missing_lists_only_rules_that_did_not_fire(outer_race):
+    _, d = outer_race
+    book = load_rulebook()
+    for dx in d.reasoning.differential:
+        h = next(h for h in d.reasoning.hypotheses if (h.fault, h.component) == (dx.fault, dx.component))
+        fired = {f.title for f in h.support} | {f.title for f in h.against}
+        assert not set(dx.missing) & fired
+        titles = {r.title for r in book.rules}
+        assert set(dx.missing) <= titles
+
+
+def test_the_report_joins_the_settling_measurement(outer_race):
+    machine, d = outer_race
+    doc = document_of(d)
+    assert doc["differential"] and all(dx["settle"] for dx in doc["differential"])
+
+
+def test_a_stated_speed_3_percent_off_is_reported_and_the_measured_one_used():
+    # rates follow the measured speed; the reading problem says so (common practice: a tach reading or
+    # a nameplate speed can be off by a few percent)
+    machine = load_machine(RW2)
+    nominal = machine.shaft_speeds_hz[machine.driver_shaft] * 60
+    sim = simulate(machine, "outer-race", "pump_nde", 3, nominal * 0.97, 25600.0, 4.0, 1)
+    reading = dataclasses.replace(as_reading(sim), speed_rpm=nominal)
+    d = diagnose(reading, machine, Reasoner(load_rulebook()))
+    assert any(h.fault == "speed-differs" and h.certainty >= 0.5 for h in d.reasoning.reading_problems)
+    speed = document_of(d)["speed"]
+    assert speed["source"] == "1X harmonics"
+    assert speed["measured_rpm"] == pytest.approx(nominal * 0.97, rel=0.002)
+    assert "measured from" in speed["text"]
+    assert d.reasoning.top.fault == "outer-race" and d.reasoning.top.component == "pump_nde"
