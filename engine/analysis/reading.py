@@ -33,7 +33,7 @@ from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
 from .spectrum import Spectrum, Transform, integrate
 from .speed import SpeedEstimate, half_and_double, refine_speeds, speed_from_tones
-from .synchronous import SynchronousEvents, synchronous_events
+from .synchronous import SynchronousEvents, events_of_rows, revolution_rows
 
 SPEED_SEARCH_FRACTION = 0.05   # a stated or nominal speed may be several percent off
 ENVELOPE_HARMONICS = 5          # the SES shows this many harmonics of the fastest defect rate
@@ -225,19 +225,28 @@ def _speed_from_mesh(spectrum: Spectrum, fr: float, orders: tuple[int, ...]) -> 
 
 def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
                  spectrum: Spectrum) -> dict[str, SynchronousEvents]:
-    """Once-per-revolution events of every shaft that turns often enough in the record; shafts at
-    one speed with the same meshes (a motor and the pump it drives) share one computation."""
-    out: dict[str, SynchronousEvents] = {}
-    done: dict[tuple[float, tuple[int, ...]], SynchronousEvents | None] = {}
+    """Once-per-revolution events of every shaft that turns often enough in the record.
+
+    Shafts at one speed (a motor and the gear shaft it drives) are one set of
+    revolutions, cut once at the speed their mesh line gives; each shaft's
+    difference signal then leaves out its own meshes.
+    """
+    groups: dict[float, list[str]] = {}
     for shaft, fr in rates.shafts_hz.items():
-        if duration_s * fr < TSA_MIN_REVOLUTIONS or fs / fr < TSA_MIN_SAMPLES_PER_REV:
-            continue
-        key = (fr, tuple(sorted(rates.mesh_orders(shaft))))
-        if key not in done:
-            spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
-            done[key] = synchronous_events(accel, fs, _speed_from_mesh(spectrum, fr, key[1]), spr, list(key[1]))
-        if done[key] is not None:
-            out[shaft] = done[key]
+        if duration_s * fr >= TSA_MIN_REVOLUTIONS and fs / fr >= TSA_MIN_SAMPLES_PER_REV:
+            groups.setdefault(round(fr, 9), []).append(shaft)
+    out: dict[str, SynchronousEvents] = {}
+    for fr, shafts in groups.items():
+        orders = {shaft: tuple(sorted(rates.mesh_orders(shaft))) for shaft in shafts}
+        every = tuple(sorted({z for zs in orders.values() for z in zs}))
+        spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
+        rows = revolution_rows(accel, fs, _speed_from_mesh(spectrum, fr, every), spr)
+        done: dict[tuple[int, ...], SynchronousEvents | None] = {}
+        for shaft in shafts:
+            if orders[shaft] not in done:
+                done[orders[shaft]] = events_of_rows(rows, list(orders[shaft]))
+            if done[orders[shaft]] is not None:
+                out[shaft] = done[orders[shaft]]
     return out
 
 

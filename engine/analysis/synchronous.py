@@ -182,9 +182,14 @@ def synchronous_events(x: np.ndarray, fs: float, speed_hz: float, samples_per_re
     batched FFT); their average is the difference signal of the TSA. None
     when the record holds no whole revolution or the difference is empty.
     """
-    rows = revolution_rows(np.asarray(x, dtype=float), fs, speed_hz, samples_per_rev)
+    return events_of_rows(revolution_rows(np.asarray(x, dtype=float), fs, speed_hz, samples_per_rev), mesh_orders)
+
+
+def events_of_rows(rows: np.ndarray, mesh_orders: list[int]) -> SynchronousEvents | None:
+    """``synchronous_events`` of revolutions already cut (shafts at one speed share their rows)."""
     if len(rows) == 0:
         return None
+    samples_per_rev = rows.shape[1]
     rows = difference_signals(rows, mesh_orders)
     diff = rows.mean(axis=0)
     sq = diff * diff
