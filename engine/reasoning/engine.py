@@ -269,7 +269,7 @@ class Reasoner:
                 elif best.certainty < 0:
                     against.append((rule, best))
             total = cf.combine_all([f.certainty for _, f in support + against])
-            stages = [r.stage for r, f in support if r.stage is not None and f.certainty >= cf.POSSIBLE / 2]
+            stages = [r.stage for r, f in support if r.stage is not None]
             fault = self.rulebook.faults[fault_id]
             hypotheses.append(Hypothesis(
                 fault_id, fault.name, fault.family, component, round(total, 6), max(stages) if stages else None,

@@ -66,3 +66,22 @@ def test_a_stated_speed_3_percent_off_is_reported_and_the_measured_one_used():
     assert speed["measured_rpm"] == pytest.approx(nominal * 0.97, rel=0.002)
     assert "measured from" in speed["text"]
     assert d.reasoning.top.fault == "outer-race" and d.reasoning.top.component == "pump_nde"
+
+
+def test_a_bearing_s_damage_stage_rests_on_its_own_sensor_only():
+    # issue 13: the stage was once raised by the kurtosis of a channel on another bearing
+    machine = load_machine(RW2)
+    reasoner = Reasoner(load_rulebook())
+    for component in ("pump_de", "pump_nde"):
+        sim = simulate(machine, "outer-race", component, 3, None, 25600.0, 4.0, 0)
+        d = diagnose(as_reading(sim), machine, reasoner)
+        h = next(h for h in d.reasoning.hypotheses if (h.fault, h.component) == ("outer-race", component))
+        staged = [f for f in h.support if f.rule_id.startswith("bearing.stage.")]
+        assert staged and h.stage == max(book_stage(f.rule_id) for f in staged)
+        for f in staged:
+            locations = {fact.get("location") for _, fact in f.facts if "location" in fact}
+            assert locations <= {component}, (f.rule_id, locations)
+
+
+def book_stage(rule_id: str) -> int:
+    return load_rulebook().rule(rule_id).stage
