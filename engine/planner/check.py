@@ -30,7 +30,7 @@ class Limitation:
     """One thing the settings cannot show, why, and what would."""
 
     family: str                  # purpose: severity, bearing, gear, shaft or electrical
-    setting: str                 # fmax, sample_rate, resolution or duration
+    setting: str                 # fmax, sample_rate, resolution, duration; floor or twin (no setting lifts it)
     what: str
     why: str
     needs: str

@@ -21,8 +21,9 @@ from dataclasses import dataclass, field
 
 from ..kinematics import bearing_multiples
 from ..machine import Machine, Point
+from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
-from .routes import ENVELOPE_DEFECT, least
+from .routes import ENVELOPE_DEFECT, ROUTES, least
 from .settings import Settings
 from .targets import Target, bearings_at, meshes_at, motors_at, targets_at
 
@@ -141,10 +142,41 @@ def _severity(machine, point, speeds, policy, targets):
     ]
 
 
+OWN_HARMONICS = 5       # the envelope search looks at this many harmonics of a race or ball rate
+OWN_TIE = 0.01          # lines within 1 % are one line to the envelope's ownership test (engine/evidence/envelope.py)
+
+
+RANK = {"BPFO": 0, "BPFI": 0, "2 x BSF": 1, "FTF": 2}   # races before the ball rate before the cage
+
+
+def _own_harmonics(rate: float, me: tuple, others: list, at: str | None) -> tuple[int, str]:
+    """How many of the first harmonics of ``rate`` the envelope's ownership test gives to this family,
+    and, in words, which families take the rest. As in engine/evidence/envelope.py, a line within
+    1 % of several rates goes to the lowest harmonic, then to a race before the ball rate before
+    the cage, then to the bearing the sensor (at bearing ``at``) sits on."""
+    own, takers = 0, []
+    for k in range(1, OWN_HARMONICS + 1):
+        mine = (k, RANK[me[1]], me[0] != at)
+        rivals = [((j, RANK[who[1]], who[0] != at), who, j) for who, r in others if who != me
+                  for j in range(1, OWN_HARMONICS + 1) if abs(j * r / (k * rate) - 1) < OWN_TIE]
+        best = min(rivals, default=None)
+        if best is None or mine <= best[0]:
+            own += 1
+        else:
+            (bearing, name), j = best[1], best[2]
+            takers.append(f"{k} x falls on {'' if j == 1 else f'{j} x '}{name} of {bearing}")
+    return own, "; ".join(takers)
+
+
 def _bearing(machine, point, speeds, policy, targets, band):
     needs = []
     sep = policy.separation_lines
     band_lo, band_hi = band
+    others = []
+    for ob in machine.bearings:
+        om, ofr = bearing_multiples(ob), speeds[ob.shaft]
+        others += [((ob.id, n), k) for n, k in (("BPFO", om["bpfo"] * ofr), ("BPFI", om["bpfi"] * ofr),
+                                                 ("2 x BSF", 2 * om["bsf"] * ofr), ("FTF", om["ftf"] * ofr))]
     for b in bearings_at(machine, point):
         mult = bearing_multiples(b)
         fr = speeds[b.shaft]
@@ -161,6 +193,15 @@ def _bearing(machine, point, speeds, policy, targets, band):
                     f"{100 * abs(twin[1] / rate - 1):.1f} % of {twin[0]} ({twin[1]:.1f} Hz)", rate, "weakens",
                     ((t, "envelope"),), "the envelope rate alone cannot tell which part of the bearing is damaged",
                     source="bearing geometry"))
+            rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
+            own, claimed_by = _own_harmonics(rate, (b.id, name), others, point.at)
+            wanted = least(rule, "envelope_tone", "harmonics_owned")
+            if own < wanted:
+                needs.append(Need(
+                    "bearing", "twin", f"only {own} of the first {OWN_HARMONICS} harmonics of {name} of {b.id} "
+                    f"({rate:.1f} Hz) are its own; {claimed_by}", rate, "weakens", ((t, "envelope"),),
+                    "a line two rates share is given to the lower harmonic, so this family may fall short of "
+                    f"the {wanted:g} harmonics {rule} asks for", source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
             n = least(rule, "envelope_tone", "harmonics_owned")
             gate = ((t, "envelope"),)
@@ -385,6 +426,24 @@ def _electrical(machine, point, speeds, policy, targets):
     return needs
 
 
+def _whole_machine(machine: Machine, speeds, policy: Policy, purpose: str, targets) -> list[Need]:
+    """What every reading of the machine needs whatever its purpose: turns of the machine's slowest
+    shaft, which the analysis and the reading rules count (a shorter record is refused or withheld)."""
+    slowest = min(speeds, key=speeds.get)
+    hz = speeds[slowest]
+    gates = tuple((t, r.name) for t in targets for r in ROUTES[t.signature])
+    turns = f"turns of {slowest}"
+    return [
+        Need(purpose, "duration", f"{MIN_REVOLUTIONS_TO_ANALYSE:g} turns of {slowest}, the machine's slowest shaft",
+             MIN_REVOLUTIONS_TO_ANALYSE / hz, "blocks", gates, "a shorter record is refused before the analysis",
+             span_s=1 / hz, noun=turns, source="engine/readings/length.py"),
+        Need(purpose, "duration", f"{policy.min_revolutions:g} turns of {slowest}, the machine's slowest shaft",
+             policy.min_revolutions / hz, "weakens", gates,
+             "with fewer, the reading rules limit or withhold what the diagnosis concludes",
+             span_s=1 / hz, noun=turns, source="min_revolutions"),
+    ]
+
+
 def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
                  speed_rpm: float | None = None) -> Requirements:
     """What ``purpose`` needs of the settings at ``point``, with the driver at ``speed_rpm``."""
@@ -410,6 +469,7 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
         needs = _electrical(machine, point, speeds, policy, targets)
     else:
         raise ValueError(f"unknown purpose {purpose!r}")
+    needs = list(needs) + _whole_machine(machine, speeds, policy, purpose, targets)
     shafts = {t.shaft for t in targets} | {point.shaft}
     if purpose == "shaft":
         shafts |= _neighbours(machine, point.shaft)

@@ -150,6 +150,7 @@ def test_settings_that_cover_every_proposal_show_everything():
     duration = max(p.waveform_s for p in proposals)
     lines = max(p.lines for p in proposals)
     s = given_settings(POLICY, fmax_hz=fmax, lines=lines, duration_s=max(duration, lines / fmax))
-    lims = [lim for lim in check(RW2, s, POLICY) if lim.effect != "view"]
+    # limits no setting can lift (two rates sharing lines: the bearings' geometry) are left out
+    lims = [lim for lim in check(RW2, s, POLICY) if lim.effect != "view" and lim.setting != "twin"]
     targets = [t for p in RW2.points for u in purposes_at(RW2, p) for t in targets_at(RW2, p, u)]
     assert all(v.state == CAN for v in verdicts(targets, lims)), [lim.what for lim in lims]
