@@ -19,7 +19,6 @@ from functools import cached_property
 
 import numpy as np
 from scipy import fft as sfft
-from numpy.lib.stride_tricks import sliding_window_view
 
 from .windows import enbw_bins, hann_from_rectangular, window, window_name, window_sum
 
@@ -29,16 +28,15 @@ FLOOR_CHUNK = 65536
 
 def running_median(a: np.ndarray, lines: np.ndarray, size: int) -> np.ndarray:
     """Median of the ``size`` values centred on each of ``lines`` (edges repeat the end value),
-    as ``scipy.ndimage.median_filter(a, size, mode="nearest")`` gives at those lines."""
+    as ``scipy.ndimage.median_filter(a, size, mode="nearest")`` gives at those lines (odd ``size``)."""
     half = size // 2
     lines = np.asarray(lines, dtype=int)
     out = np.empty(len(lines))
-    for start in range(0, len(lines), FLOOR_CHUNK):
-        part = lines[start:start + FLOOR_CHUNK]
-        lo, hi = int(part.min()) - half, int(part.max()) + half + 1
-        index = np.clip(np.arange(lo, hi), 0, len(a) - 1)
-        windows = sliding_window_view(a[index], size)
-        out[start:start + len(part)] = np.median(windows[part - lo - half], axis=1)
+    offsets = np.arange(-half, half + 1)
+    for start in range(0, len(lines), FLOOR_CHUNK // size + 1):
+        part = lines[start:start + FLOOR_CHUNK // size + 1]
+        windows = a[np.clip(part[:, None] + offsets, 0, len(a) - 1)]
+        out[start:start + len(part)] = np.partition(windows, half, axis=1)[:, half]
     return out
 
 

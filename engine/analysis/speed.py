@@ -29,7 +29,7 @@ from typing import Mapping
 import numpy as np
 
 from .peaks import noise_floor, peak_near, peaks_near
-from .spectrum import Spectrum
+from .spectrum import Spectrum, running_median
 
 MIN_HARMONIC_SNR = 3.0
 HARMONICS = 5
@@ -71,7 +71,7 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
         return centre, [], []
     freqs = np.array([hz for hz, _ in kept])
     orders = np.array([k for _, k in kept], dtype=float)
-    floors = np.array([max(noise_floor(spec, int(round(f / df)), half_width=50), 1e-300) for f in freqs])
+    floors = np.maximum(running_median(amp, np.rint(freqs / df).astype(int), 101), 1e-300)
     step = df / (4 * freqs.max())
     scales = centre * np.arange(1 - search_fraction, 1 + search_fraction + step, step)
     lines = np.clip(np.rint(np.outer(scales, freqs) / df).astype(int), 1, len(amp) - 2)
