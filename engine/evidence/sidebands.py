@@ -84,7 +84,7 @@ def sideband_family(rc: Analysis) -> list[dict]:
                     continue
                 found += 1
                 (orders_low if sign < 0 else orders_high).add(k)
-                if centre is not None:
+                if centre is not None and centre.amplitude > 0:
                     ratios.append(float(lines.amplitude[at]) / centre.amplitude)
             if found < 2:
                 continue

@@ -541,3 +541,15 @@ def test_defect_12_cli_stderr_has_no_warning_lines(tmp_path):
     done = subprocess.run([sys.executable, "-m", "engine.cli", "reading", str(path)], capture_output=True,
                           text=True, timeout=60)
     assert done.returncode == 0 and done.stderr == ""
+
+
+def test_a_step_signal_with_a_silent_carrier_is_diagnosed_without_a_division_by_zero(tmp_path):
+    # found by Hypothesis: 288 samples of a step (0, then 1 mg) on BW-1 left a sideband family whose
+    # carrier line was exactly 0, and the sideband-to-carrier ratio divided by it
+    from engine.cli import main
+
+    x = np.full(288, 0.001)
+    x[0] = 0.0
+    np.savez(tmp_path / "step.npz", ch1=x, sample_rate_hz=2560.0, unit="g")
+    assert main(["diagnose", str(tmp_path / "step.npz"), "--machine",
+                 str(CASES / "machines" / "bw1-backwash-blower.yaml"), "--format", "json"]) in (0, 7)
