@@ -88,14 +88,24 @@ def _environment(site: Path) -> dict:
 
 def _installed(kind: str, wheel: Path, place: Path) -> Path:
     """Install the wheel with ``--target`` or ``--prefix`` into ``place``; the folder that holds ``engine``."""
-    _pip("install", "--no-deps", "--no-index", "--no-compile", f"--{kind}", str(place), str(wheel), cwd=place.parent)
+    # --ignore-installed: without it a --prefix install first uninstalls the tellwave of the running environment
+    _pip("install", "--no-deps", "--no-index", "--no-compile", "--ignore-installed", f"--{kind}", str(place), str(wheel),
+         cwd=place.parent)
     (paths_py,) = [p for p in place.rglob("engine/paths.py")]
     return paths_py.parent.parent
 
 
+def _tellwave_here() -> str | None:
+    """Where the running environment has tellwave installed (its metadata), or None."""
+    done = subprocess.run([sys.executable, "-m", "pip", "show", "-f", "tellwave"], capture_output=True, text=True)
+    return done.stdout if done.returncode == 0 else None
+
+
 @pytest.mark.parametrize("kind", ["target", "prefix"])
 def test_an_installed_wheel_finds_its_rulebooks_templates_and_cases(kind, wheel, tmp_path):
+    before = _tellwave_here()
     site = _installed(kind, wheel, tmp_path / "install")
+    assert _tellwave_here() == before, "installing elsewhere changed the running environment's tellwave"
     elsewhere = tmp_path / "elsewhere"
     elsewhere.mkdir()
     env = _environment(site)
