@@ -27,13 +27,14 @@ pytestmark = pytest.mark.install
 
 def _setuptools_can_build() -> str | None:
     """Why the wheel cannot be built offline here, or None."""
+    from importlib import metadata
+
     try:
-        import setuptools
-    except ImportError:
+        version = metadata.version("setuptools")
+    except metadata.PackageNotFoundError:
         return "setuptools is not installed (pip install -e '.[test]' brings it)"
-    major = int(setuptools.__version__.split(".")[0])
-    if major < 77:
-        return f"setuptools {setuptools.__version__} is older than the build requirement 77"
+    if int(version.split(".")[0]) < 77:
+        return f"setuptools {version} is older than the build requirement 77"
     return None
 
 
