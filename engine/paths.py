@@ -1,21 +1,39 @@
 """Where the shipped data folders are: rulebooks/, templates/ and cases/.
 
-In a checkout (and an editable install) they sit beside the engine package;
-a regular install puts them under ``<prefix>/share/tellwave`` (pyproject's
-data-files). Every module asks here instead of guessing from its own path.
+An installed package carries them inside itself as ``engine/_data/`` (setup.py copies
+them there when the wheel is built), found with importlib.resources wherever the
+package was installed: a venv, ``pip install --user``, ``--prefix`` or ``--target``.
+In a checkout and an editable install they are the folders at the top of the
+repository, beside the engine package. Every module asks here instead of guessing
+from its own path.
 """
 
 from __future__ import annotations
 
-import sys
+from importlib import resources
 from pathlib import Path
+
+SHIPPED_DATA = "_data"          # setup.py: PACKAGE_DATA
+
+
+def _installed_data() -> Path | None:
+    """``engine/_data`` of an installed package, or None (a checkout, or a package not on a file system)."""
+    try:
+        place = resources.files(__package__ or "engine").joinpath(SHIPPED_DATA)
+    except (ModuleNotFoundError, TypeError):
+        return None
+    return place if isinstance(place, Path) and (place / "rulebooks").is_dir() else None
 
 
 def _data_root() -> Path:
+    installed = _installed_data()
+    if installed is not None:
+        return installed
     checkout = Path(__file__).resolve().parent.parent
     if (checkout / "rulebooks").is_dir():
         return checkout
-    return Path(sys.prefix) / "share" / "tellwave"
+    # neither: the package was installed without its data; name where it was looked for
+    return Path(__file__).resolve().parent / SHIPPED_DATA
 
 
 DATA_ROOT = _data_root()

@@ -52,6 +52,19 @@ def known_units() -> list[str]:
     return sorted(_UNITS)
 
 
+def units_by_quantity() -> dict[str, list[str]]:
+    """The canonical unit names of each quantity, in the table's order (for help texts)."""
+    grouped: dict[str, list[str]] = {}
+    for u in _UNITS.values():
+        grouped.setdefault(u.quantity, []).append(u.name)
+    return grouped
+
+
+def unit_aliases() -> dict[str, str]:
+    """Other spellings the readers accept, each with its canonical name (case does not matter)."""
+    return dict(_ALIASES)
+
+
 def unit(name: str) -> Unit:
     """Look up a unit by its canonical name or an accepted alias.
 

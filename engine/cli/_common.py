@@ -15,7 +15,32 @@ class Parser(argparse.ArgumentParser):
         raise UsageError(message)
 
 
-UNITS_HELP = "g, m/s^2, mm/s, m/s, in/s, um, mm, mils"
+DIRECTIONS = ("horizontal", "vertical", "axial")     # engine/schemas/machine.schema.json
+
+
+def units_help() -> str:
+    """Every unit the readers accept, from engine/units.py's one table."""
+    from ..units import unit_aliases, units_by_quantity
+
+    groups = "; ".join(f"{', '.join(names)} ({quantity})" for quantity, names in units_by_quantity().items())
+    return f"{groups}; also written {', '.join(unit_aliases())}"
+
+
+def reader_suffixes() -> str:
+    """Every reading file suffix a reader exists for, from engine/readings' READERS."""
+    from ..readings.formats import READERS
+
+    return ", ".join(READERS)
+
+
+def add_readings_argument(p, nargs=None) -> None:
+    """The reading file(s) of a command, with the suffixes the readers take."""
+    if nargs:
+        p.add_argument("readings", nargs=nargs, metavar="READING",
+                       help=f"reading files taken together (one per point, or multi-channel), "
+                            f"read by their suffix: {reader_suffixes()}")
+    else:
+        p.add_argument("reading", metavar="READING", help=f"reading file, read by its suffix: {reader_suffixes()}")
 
 # Limits of option values, checked when the command line is parsed (the readers check
 # the same quantities again when they come from files).
@@ -55,15 +80,20 @@ def whole(what: str, low: int = 0, high: int = 2 ** 31 - 1):
 RPM = number("the speed in rpm", MIN_SPEED_RPM, MAX_SPEED_RPM, low_inclusive=True)
 
 
+FROM_FILE = "default: as the sidecar or the file states"
+
+
 def add_reading_options(p) -> None:
-    p.add_argument("--sample-rate", type=number("the sample rate in Hz"),
-                   help="sample rate in Hz, if the file does not state it")
-    p.add_argument("--unit", help=f"engineering unit of the samples ({UNITS_HELP})")
-    p.add_argument("--scale", type=number("the scale"), help="engineering units at digital full scale (WAV)")
-    p.add_argument("--point", help="measurement point id")
-    p.add_argument("--direction", choices=["horizontal", "vertical", "axial"],
-                   help="sensor direction, if neither the file nor its sidecar says")
-    p.add_argument("--rpm", type=RPM, help="measured running speed")
+    """Options that state what a reading's file and sidecar do not (they win over both)."""
+    p.add_argument("--sample-rate", type=number("the sample rate in Hz"), metavar="HZ",
+                   help=f"sample rate in Hz ({FROM_FILE})")
+    p.add_argument("--unit", help=f"engineering unit of the samples: {units_help()} ({FROM_FILE})")
+    p.add_argument("--scale", type=number("the scale"),
+                   help=f"engineering units at digital full scale, for WAV files ({FROM_FILE})")
+    p.add_argument("--point", help=f"measurement point id of the machine file ({FROM_FILE})")
+    p.add_argument("--direction", choices=DIRECTIONS, metavar="DIRECTION",
+                   help=f"sensor direction: {', '.join(DIRECTIONS)} ({FROM_FILE})")
+    p.add_argument("--rpm", type=RPM, help=f"measured running speed in rpm ({FROM_FILE})")
 
 
 def add_site_option(p) -> None:

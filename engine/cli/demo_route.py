@@ -2,11 +2,16 @@
 
 from __future__ import annotations
 
+from ._common import whole
+
+DEMO_MONTHS = 6          # engine.route.demo_plant.MONTHS (not imported: --help stays quick)
+
 
 def register(sub) -> None:
     p = sub.add_parser("demo-route", help="write demo routes a month apart, with faults that grow")
     p.add_argument("--out", default="tellwave-routes", help="folder for the months (default: tellwave-routes)")
-    p.add_argument("--months", type=int, default=3, help="how many monthly surveys to write (1-6, default 3)")
+    p.add_argument("--months", type=whole("--months", 1, DEMO_MONTHS), default=3,
+                   help=f"how many monthly surveys to write (1-{DEMO_MONTHS}, default 3)")
     p.set_defaults(run=run)
 
 

@@ -5,12 +5,12 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import add_reading_options, add_site_option, input_files, load_readings, rulebook, say
+from ._common import add_reading_options, add_readings_argument, add_site_option, input_files, load_readings, rulebook, say
 
 
 def register(sub) -> None:
     p = sub.add_parser("diagnose", help="diagnose readings of a machine and report with advice")
-    p.add_argument("readings", nargs="+", help="reading files taken together (one per point, or multi-channel)")
+    add_readings_argument(p, nargs="+")
     p.add_argument("--machine", required=True, help="machine YAML file")
     add_site_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
@@ -18,11 +18,14 @@ def register(sub) -> None:
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
                                           "READING.report.html or .md for HTML and Markdown)")
     add_reading_options(p)
-    p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep")
+    p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep "
+                                      "(default: every channel)")
     p.add_argument("--store", nargs="?", const="", metavar="PATH",
                    help="store the reading in the history and trend it against what is stored "
                         "(default store: history.sqlite in the user's data folder)")
-    p.add_argument("--taken-at", metavar="TIME", help="when the reading was taken (ISO 8601), if its file does not say")
+    p.add_argument("--taken-at", metavar="TIME",
+                   help="when the reading was taken, ISO 8601, for --store (default: the timestamp of the sidecar "
+                        "or the file, else the file's modification time)")
     p.set_defaults(run=run)
 
 

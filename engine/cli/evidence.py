@@ -2,15 +2,16 @@
 
 from __future__ import annotations
 
-from ._common import add_reading_options, load_readings, say
+from ._common import add_reading_options, add_readings_argument, load_readings, say
 
 
 def register(sub) -> None:
     p = sub.add_parser("evidence", help="print the evidence facts of one or more readings of a machine")
-    p.add_argument("readings", nargs="+", help="reading files taken together (one per point, or multi-channel)")
+    add_readings_argument(p, nargs="+")
     p.add_argument("--machine", required=True, help="machine YAML file")
     add_reading_options(p)
-    p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep")
+    p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep "
+                                      "(default: every channel)")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(run=run)
 

@@ -9,7 +9,7 @@ from pathlib import Path
 def register(sub) -> None:
     p = sub.add_parser("plan", help="propose acquisition settings for a machine, or check given ones")
     p.add_argument("machine", help="machine YAML file")
-    p.add_argument("--point", action="append", metavar="P", help="plan only this measurement point (repeatable)")
+    p.add_argument("--point", action="append", metavar="P", help="plan only this measurement point (repeatable; default: every point)")
     p.add_argument("--rpm", type=float, help="running speed of the driving shaft (default: nominal)")
     given = p.add_argument_group("settings to check (or --reading)")
     given.add_argument("--fmax", type=float, metavar="HZ", help="Fmax in Hz")

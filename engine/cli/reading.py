@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
-from ._common import add_reading_options, reading_options, say, whole
+from ._common import add_reading_options, add_readings_argument, reading_options, say, whole
 
 
 def register(sub) -> None:
     p = sub.add_parser("reading", help="summarise a reading file: channels, quality, levels, peaks")
-    p.add_argument("reading", help="WAV, CSV, NPY, NPZ, MATLAB .mat or UFF 58 file")
+    add_readings_argument(p)
     add_reading_options(p)
     p.add_argument("--peaks", type=whole("--peaks", 0, 1000), default=10,
                    help="how many spectral peaks to list (default 10)")

@@ -19,9 +19,11 @@ def register(sub) -> None:
                                 ("parameters", "list the named parameters, their values and sources", _parameters)):
         q = rb.add_parser(name, help=helptext)
         if name == "test":
-            q.add_argument("cases", help="folder of *.case.yaml files")
+            q.add_argument("cases", metavar="CASES_FOLDER",
+                           help="folder of *.case.yaml files (the shipped examples: cases/demo)")
         if name == "explain":
-            q.add_argument("rule_id", help="id of the rule, as in the rulebook (e.g. bearing.defect.envelope)")
+            q.add_argument("rule_id", metavar="RULE_ID",
+                           help="id of the rule, as 'tellwave rulebook list' shows it (e.g. bearing.defect.envelope)")
         add_site_option(q)
         q.set_defaults(run=run)
 

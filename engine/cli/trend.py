@@ -8,7 +8,7 @@ from ._store import add_store_option
 def register(sub) -> None:
     p = sub.add_parser("trend", help="trend a stored machine: change, rate per month, projected time to a limit")
     p.add_argument("machine", help="machine name as its file gives it (tellwave history lists them)")
-    p.add_argument("--point", help="only this measurement point")
+    p.add_argument("--point", help="only this measurement point (default: every point)")
     p.add_argument("--limit", action="append", default=[], metavar="INDICATOR=VALUE",
                    help="project the time to this limit too, e.g. accel_peak_g=20 (repeatable)")
     add_store_option(p)
