@@ -163,9 +163,10 @@ def combine_readings(readings: list[Reading]) -> Reading:
                            f"{sorted({n for n in final if final.count(n) > 1})}; rename them in the sidecars",
                            path=readings[-1].source)
     speeds = [r.speed_rpm for r in readings if r.speed_rpm]
+    stamps = [r.timestamp for r in readings if r.timestamp is not None]   # the first file that states one
     return Reading(source=", ".join(r.source for r in readings), fs_hz=first.fs_hz,
                    channels=tuple(channels), speed_rpm=speeds[0] if speeds else None,
-                   timestamp=first.timestamp, quality=tuple(quality))
+                   timestamp=stamps[0] if stamps else None, quality=tuple(quality))
 
 
 def _pick(options: dict, side: dict, raw_meta: dict, key: str):

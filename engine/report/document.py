@@ -8,6 +8,8 @@ the zone readings. ``engine/schemas/report.schema.json`` documents it.
 
 from __future__ import annotations
 
+from datetime import datetime
+
 from .. import __version__
 from ..advice import Advice, Recommendation
 from ..analysis.plotdata import PlotData
@@ -47,7 +49,8 @@ def _urgency(u) -> dict:
     return {"id": u.id, "label": u.label, "within": u.within}
 
 
-def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
+def _summary(reasoning: Reasoning, advice: Advice, machine: Machine, shown: list[Hypothesis]) -> str:
+    """The answer in one sentence; ``shown`` are the hypotheses the report lists under it."""
     if reasoning.withheld:
         text = (f"This reading of {machine.name} cannot support a fault conclusion: "
                 + "; ".join(h.fault_name for h in reasoning.reading_problems if h.confident) + ".")
@@ -60,9 +63,33 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
         zone = f" The overall level is in ISO 20816-3 zone {advice.worst_zone}." if advice.worst_zone else ""
         return f"No fault of {machine.name} reaches a confident certainty.{zone}"
     top = confident[0]
-    more = f" ({len(confident) - 1} more below)" if len(confident) > 1 else ""
+    others = len([h for h in shown if h is not top])      # listed below the answer, whatever their certainty
+    more = f" ({others} more {'hypothesis' if others == 1 else 'hypotheses'} below)" if others else ""
     return (f"{top.fault_name.capitalize()} on {top.component}: {top.strength}, certainty "
             f"{100 * top.certainty:.0f} %{more}.")
+
+
+def report_time(now: datetime | None = None) -> str:
+    """When a report is made: local time with its UTC offset, ISO 8601 to the minute
+    (2026-03-04T10:15+01:00)."""
+    return (now or datetime.now()).astimezone().isoformat(timespec="minutes")
+
+
+def taken_text(timestamp, time_from: str | None) -> str:
+    """When the reading was taken, as the report's header says it: an ISO 8601 date and time
+    to the minute where the stated time is one, else as stated; where the time came from."""
+    if not timestamp:
+        return "not stated (give the reading's sidecar a timestamp, or --taken-at)"
+    text = str(timestamp).strip()
+    try:
+        t = datetime.fromisoformat(text.replace("Z", "+00:00"))
+        text = t.isoformat(timespec="minutes")
+    except ValueError:
+        pass                    # a time of day or a logger's index: shown as the file states it
+    said = {"file": "as the file or its sidecar states", "route": "as the route states",
+            "command line": "as given with --taken-at",
+            "file modified": "the file's modification time: nothing states when it was taken"}.get(time_from)
+    return f"{text} ({said})" if said else text
 
 
 def _differential(dx, reasoning: Reasoning, recs: dict) -> dict:
@@ -96,8 +123,12 @@ def speed_text(speed: dict) -> str:
 
 
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
-                    advice: Advice, plots: PlotData | None = None, reach=()) -> dict:
-    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo."""
+                    advice: Advice, plots: PlotData | None = None, reach=(), made_at: str | None = None) -> dict:
+    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo.
+
+    ``made_at`` is the report's own time (see ``report_time``), now when None;
+    tests and runs whose reports must compare equal give one.
+    """
     recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
     figures = []
@@ -111,15 +142,17 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
     withheld_recs = [r for r in advice.recommendations if r.hypothesis.family == "reading"]
     doc = {
         "tellwave": __version__,
+        "made_at": made_at or report_time(),
         "machine": {"name": machine.name, "plant": machine.plant, "file": machine.source,
                     "iso_group": advice.zone_scale.group, "support": advice.zone_scale.support,
                     "lubrication": machine.lubrication},
-        "reading": {"source": reading.source, "timestamp": reading.timestamp, "fs_hz": reading.fs_hz,
+        "reading": {"source": reading.source, "timestamp": reading.timestamp, "time_from": reading.time_from,
+                    "taken": taken_text(reading.timestamp, reading.time_from), "fs_hz": reading.fs_hz,
                     "duration_s": round(reading.duration_s, 4), "speed_rpm": reading.speed_rpm,
                     "channels": [{"name": name, "point": point, "direction": direction}
                                  for name, point, direction in reading.channels]},
         "thresholds": {"conclusion": CONFIDENT, "shown": POSSIBLE},
-        "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine),
+        "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
                     "urgency": _urgency(advice.urgency)},
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
         "reading_problems": problems,
