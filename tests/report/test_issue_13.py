@@ -142,3 +142,29 @@ def test_2_a_route_time_reaches_the_report_and_every_report_of_a_run_shares_its_
     doc = json.loads(next((tmp_path / "out").rglob("*.json")).read_text())
     assert doc["reading"]["timestamp"] == "2026-03-02T08:50:00" and doc["reading"]["time_from"] == "route"
     assert doc["made_at"] == MADE_AT
+
+
+# ---------------------------------------------------------------- 3. no sentence about a missing trend
+
+
+NO_TREND = re.compile(r"no trend|earlier readings|no earlier", re.IGNORECASE)
+
+
+def test_3_a_report_without_history_says_nothing_about_a_trend():
+    doc = doc_of("rw2-impeller-unbalance")
+    assert "trend" not in doc
+    for fmt in FORMATS:
+        assert not NO_TREND.search(render(doc, fmt)), fmt
+    for template in (ROOT / "templates").glob("report*.j2"):
+        assert not NO_TREND.search(template.read_text()), template.name
+
+
+def test_3_a_report_with_history_keeps_its_trend_section():
+    doc = dict(doc_of("rw2-impeller-unbalance"))
+    doc["trend"] = {"machine": "RW-2", "points": [
+        {"point": "P1H", "readings": 3, "first": "2026-01-12T08:30:00", "plots": [],
+         "iso_change": {"baseline_mm_s": 1.1, "latest_mm_s": 2.3, "significant": True, "criterion_mm_s": 0.7},
+         "projections": []}]}
+    for fmt in FORMATS:
+        out = render(doc, fmt)
+        assert "3 readings since 2026-01-12" in out and "criterion II" in out, fmt
