@@ -61,8 +61,9 @@ def pattern_words(p: Pattern, rulebook: Rulebook | None = None) -> str:
 
 def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     """The rule as a few lines of plain English."""
-    lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin}" + (
-        f" (overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ""), f"  source: {rule.source}"]
+    where = f"site overlay {rule.path}" if "/" in rule.label else "shipped rulebook"
+    lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin} ({where}" + (
+        f"; overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ")"), f"  source: {rule.source}"]
     lines.append("  it needs:")
     lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.needs]
     if rule.none_of:
@@ -119,7 +120,7 @@ def summary(rulebook: Rulebook) -> list[str]:
         lines.append(f"  derived {kind}: {n} rule(s)")
     for rule in rulebook.rules:
         if rule.replaced:
-            lines.append(f"  overridden: {rule.id} by {rule.path}")
+            lines.append(f"  overridden: {rule.id} by {rule.label}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
     return lines
