@@ -14,7 +14,7 @@ from .analysis import analyse
 from .analysis.plotdata import PlotData, plot_data
 from .evidence import Evidence, run_extractors, summarise
 from .machine import Machine
-from .readings import Reading, check_record_length
+from .readings import Reading, check_record_length, describe_issue
 from .reasoning import Reasoner, Reasoning
 
 
@@ -29,6 +29,7 @@ class ReadingInfo:
     speed_rpm: float | None
     channels: tuple[tuple[str, str | None, str | None], ...]   # name, point, direction
     time_from: str | None = None       # who said when: file, route, command line, file modified
+    quality: tuple[dict, ...] = ()     # the quality gates' findings: channel, issue, value, blocking, words
 
 
 @dataclass(frozen=True)
@@ -50,8 +51,10 @@ def reading_info(reading: Reading, taken: tuple[str, str] | None = None) -> Read
     """What the report says of ``reading``; ``taken`` (time, origin), when the caller resolved the
     reading's time (a route's time, --taken-at, the file's date), wins over the file's own."""
     when, origin = taken if taken is not None else (reading.timestamp, "file" if reading.timestamp else None)
+    quality = tuple({"channel": q.channel, "issue": q.kind, "value": q.value, "blocking": q.blocking,
+                     "words": describe_issue(q)} for q in reading.quality)
     return ReadingInfo(reading.source, when, reading.fs_hz, reading.duration_s, reading.speed_rpm,
-                       tuple((c.name, c.point, c.direction) for c in reading.channels), origin)
+                       tuple((c.name, c.point, c.direction) for c in reading.channels), origin, quality)
 
 
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,

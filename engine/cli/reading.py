@@ -16,7 +16,7 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from .. import analysis
-    from ..readings import load_reading
+    from ..readings import describe_issue, load_reading
     from ..units import STANDARD_GRAVITY_M_S2
 
     reading = load_reading(args.reading, **reading_options(args))
@@ -28,7 +28,7 @@ def run(args) -> int:
         say(f"\n  {ch.name} ({ch.quantity}, recorded in {ch.unit}){'  at ' + where if where else ''}")
         issues = reading.issues_for(ch.name)
         for q in issues:
-            say(f"    quality: {q.kind}: {q.message}")
+            say(f"    quality: {describe_issue(q)}")
         if any(q.blocking for q in issues):
             continue
         lv = analysis.overall_levels(ch.samples, reading.fs_hz, ch.quantity, reading.speed_rpm)

@@ -176,8 +176,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "chain": [_firing(f) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
         "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},
-        "data_quality": [{"channel": q.channel, "issue": q.issue, "value": _number(q.value), "blocking": q.blocking}
-                         for q in evidence.quality],
+        "data_quality": [{**q, "value": _number(q["value"])} for q in reading.quality],
         "rulebooks": [str(p) for p in reasoning.rulebook_files],
         "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
                    "rules": reasoning.rules_loaded},

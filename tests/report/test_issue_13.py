@@ -219,3 +219,26 @@ def test_4_rulebook_explain_names_the_file_and_where_an_overlay_lies(capsys):
     out = capsys.readouterr().out
     assert re.search(r"from site/tallow-ridge\.yaml:\d+ \(site overlay .*cases/site/tallow-ridge\.yaml; "
                      r"overrides the rule in shaft\.yaml\)", out), out
+
+
+# ---------------------------------------------------------------- 5. quality issues in words
+
+
+def test_5_quality_issues_read_in_words_the_same_as_tellwave_reading_says_them(tmp_path, capsys):
+    case = load_case(CASES / "demo/bw1-clipped-recording.case.yaml")
+    machine = load_machine(case.machine)
+    wav = write_simulation(simulation_of(case, machine), tmp_path / "bw1.wav")[0]
+    assert main(["reading", str(wav)]) == 0
+    said = [line.strip().removeprefix("quality: ") for line in capsys.readouterr().out.splitlines()
+            if line.strip().startswith("quality:")]
+    assert any(s.startswith("clipping: ") for s in said), said
+    assert main(["diagnose", str(wav), "--machine", str(case.machine), "--format", "json"]) == 7
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["data_quality"] and sorted(q["words"] for q in doc["data_quality"]) == sorted(said)
+    raw = re.compile(r"\b(clipping|dc_offset|drift|dropout|implausible_\w+) \([-\d.e]+\)")
+    for fmt in FORMATS:
+        out = render(doc, fmt)
+        assert not raw.search(out), (fmt, raw.search(out).group())
+        for q in doc["data_quality"]:
+            words = q["words"] if fmt != "html" else q["words"].replace("'", "&#39;")
+            assert words in out.replace("\\", ""), (fmt, words)
