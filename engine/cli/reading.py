@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 from ._common import add_reading_options, reading_options, say, whole
 
 
@@ -42,7 +44,8 @@ def run(args) -> int:
         peaks = analysis.find_peaks(spec, f_lo_hz=2 * spec.resolution_hz, min_snr=6.0, max_peaks=args.peaks)
         scale = STANDARD_GRAVITY_M_S2 if ch.quantity == "acceleration" else 1.0
         unit = "g" if ch.quantity == "acceleration" else ("m/s" if ch.quantity == "velocity" else "m")
-        say(f"    largest spectral peaks (Hann, {spec.resolution_hz:.3f} Hz lines):")
+        say(f"    largest spectral peaks (Hann window, resolution {spec.resolution_hz:.3g} Hz):")
         for p in sorted(peaks, key=lambda p: p.freq_hz):
-            say(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  (SNR {p.snr:.0f})")
+            say(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  "
+                f"(SNR {20 * math.log10(p.snr):.0f} dB)")
     return 0

@@ -81,7 +81,7 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     else:
         fields = ", ".join(f"{k} = {_value(v)}" for k, v in rule.derived_fields)
         lines.append(f"  it derives a {_words(rule.derives)} fact ({fields}) for other rules")
-    weight = f"certainty {rule.weight:+.2f}"
+    weight = f"certainty {100 * rule.weight:+.0f} %"
     aliases = {p.alias: p.kind for p in rule.needs}
     for r in rule.ramps:
         kind = aliases.get(r.value.alias)
@@ -163,5 +163,5 @@ def rule_list(rulebook: Rulebook) -> list[str]:
             what = "/".join(dict.fromkeys(v for _, v in r.fault.faults))
         else:
             what = r.fault
-        lines.append(f"{r.id:<44} {r.weight:+.2f} {what:<40} {r.title}")
+        lines.append(f"{r.id:<44} {100 * r.weight:+4.0f} % {what:<40} {r.title}")
     return lines
