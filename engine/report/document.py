@@ -1,8 +1,8 @@
 """The report as one plain dict: what every format (text, Markdown, HTML, JSON) shows.
 
 ``report_document`` puts the answer first: the verdict and urgency, the
-ranked hypotheses with certainty, severity, actions, follow-ups and oil
-tests, the cautions; then the reasoning trail, the acquisition notes and
+ranked hypotheses with certainty, severity, actions and follow-ups, the oil
+tests for the machine (each once), the cautions; then the reasoning trail, the acquisition notes and
 the zone readings. ``engine/schemas/report.schema.json`` documents it.
 """
 
@@ -40,9 +40,27 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation) -> dict:
            "support": [_firing(f) for f in h.support], "against": [_firing(f) for f in h.against],
            "other_matches": h.other_matches,
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
-           "spares": list(rec.spares), "confirm": list(rec.confirm),
-           "oil_tests": [{"test": t.name, "means": t.means, "source": t.source} for t in rec.oil]}
+           "spares": list(rec.spares), "confirm": list(rec.confirm)}
     return out
+
+
+def _oil_analysis(shown: list[Hypothesis], recs: dict) -> list[dict]:
+    """The oil tests to request for the machine, each once: one sample serves every hypothesis.
+
+    A test asked for by several hypotheses keeps what its result would mean
+    for each (bearing wear, tooth damage ...), with the hypotheses it serves.
+    """
+    rows: dict[str, dict] = {}
+    for h in shown:
+        for t in recs[(h.fault, h.component)].oil:
+            row = rows.setdefault(t.name, {"test": t.name, "source": t.source, "reads": []})
+            read = next((r for r in row["reads"] if r["means"] == t.means), None)
+            if read is None:
+                row["reads"].append(read := {"means": t.means, "for": [], "components": []})
+            read["for"].append(f"{h.fault_name} on {h.component}")
+            if h.component not in read["components"]:
+                read["components"].append(h.component)
+    return list(rows.values())
 
 
 def _urgency(u) -> dict:
@@ -75,17 +93,24 @@ def report_time(now: datetime | None = None) -> str:
     return (now or datetime.now()).astimezone().isoformat(timespec="minutes")
 
 
-def taken_text(timestamp, time_from: str | None) -> str:
-    """When the reading was taken, as the report's header says it: an ISO 8601 date and time
-    to the minute where the stated time is one, else as stated; where the time came from."""
-    if not timestamp:
-        return "not stated (give the reading's sidecar a timestamp, or --taken-at)"
+def taken_at(timestamp) -> str | None:
+    """The reading's time to the minute (ISO 8601) where the stated time is a date and time;
+    a time of day or a logger's index as stated; None when nothing states it."""
+    if timestamp is None or not str(timestamp).strip():
+        return None
     text = str(timestamp).strip()
     try:
-        t = datetime.fromisoformat(text.replace("Z", "+00:00"))
-        text = t.isoformat(timespec="minutes")
+        return datetime.fromisoformat(text.replace("Z", "+00:00")).isoformat(timespec="minutes")
     except ValueError:
-        pass                    # a time of day or a logger's index: shown as the file states it
+        return text
+
+
+def taken_text(timestamp, time_from: str | None) -> str:
+    """When the reading was taken, as the report's header says it: ``taken_at`` and where the
+    time came from."""
+    text = taken_at(timestamp)
+    if text is None:
+        return "not stated (give the reading's sidecar a timestamp, or --taken-at)"
     said = {"file": "as the file or its sidecar states", "route": "as the route states",
             "command line": "as given with --taken-at",
             "file modified": "the file's modification time: nothing states when it was taken"}.get(time_from)
@@ -111,7 +136,7 @@ def speed_text(speed: dict) -> str:
     used = f"{speed['measured_rpm']:.1f} rpm of {speed['shaft']}"
     stated = speed["stated_rpm"]
     against = (f"stated {stated:.0f} rpm" if stated else f"nominal {speed['nominal_rpm']:.0f} rpm")
-    gap = f", {speed['deviation_pct']:+.1f} % from the {against}"
+    gap = f", {speed['deviation_pct']:+.1f} % from the {against}".replace("-0.0 %", "0.0 %").replace("+0.0 %", "0.0 %")
     if speed["source"] == "1X harmonics":
         return (f"Speed {used}, measured from {speed['harmonics']} shaft harmonic lines{gap}; "
                 "forcing frequencies are matched within 0.5 %.")
@@ -147,7 +172,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                     "iso_group": advice.zone_scale.group, "support": advice.zone_scale.support,
                     "lubrication": machine.lubrication},
         "reading": {"source": reading.source, "timestamp": reading.timestamp, "time_from": reading.time_from,
-                    "taken": taken_text(reading.timestamp, reading.time_from), "fs_hz": reading.fs_hz,
+                    "taken_at": taken_at(reading.timestamp), "taken": taken_text(reading.timestamp, reading.time_from),
+                    "fs_hz": reading.fs_hz,
                     "duration_s": round(reading.duration_s, 4), "speed_rpm": reading.speed_rpm,
                     "channels": [{"name": name, "point": point, "direction": direction}
                                  for name, point, direction in reading.channels]},
@@ -155,6 +181,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
                     "urgency": _urgency(advice.urgency)},
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
+        "oil_analysis": _oil_analysis(shown, recs),
         "reading_problems": problems,
         "differential": [_differential(dx, reasoning, recs) for dx in reasoning.differential
                          if (dx.fault, dx.component) in recs],

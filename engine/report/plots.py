@@ -54,10 +54,13 @@ def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
     for f in evidence.facts:
         if (f["kind"] == "envelope_tone" and f["channel"] == pd.channel and f["band_method"] == "kurtogram"
                 and (pd.bearing is None or f["component"] == pd.bearing)):
-            name = "2xBSF" if f["defect"] == "BSF" else f["defect"]
+            # the ball spin's impacts come twice per spin: the k-th harmonic of 2xBSF is 2k x BSF
+            per, name = (2, "BSF") if f["defect"] == "BSF" else (1, f["defect"])
             found = min(f["harmonics_found"], ENVELOPE_HARMONICS_MARKED)
             for k in range(1, found + 1):
-                label = f"{name}" if k == 1 else f"{k}x{name}"
+                label = name if k * per == 1 else f"{k * per}x{name}"
+                if k == 1 and pd.bearing is None:      # several bearings marked: say whose rate it is
+                    label += f" {f['component']}"
                 out.append(svg.Mark(k * f["expected_hz"], label, strong=True))
     return out
 

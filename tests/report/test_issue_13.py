@@ -290,3 +290,67 @@ def test_6_every_source_a_report_or_rulebook_explain_shows_names_a_publication_o
     shown += [(f"policy {k}", policy.source_of(k)) for k in ("sample_rate_per_fmax", "window", "averages")]
     bad = [(what, " ".join(text.split())) for what, text in shown if not PUBLISHED.search(" ".join(text.split()))]
     assert not bad, bad
+
+
+# ---------------------------------------------------------------- 7. printing, and the oil analysis once per machine
+
+
+def test_7_the_oil_analysis_is_one_table_per_machine_in_the_document():
+    doc = doc_of("ct1-bevel-tooth")      # an oil-lubricated gearbox: a gear and several bearing hypotheses
+    assert sum(h["family"] == "bearing" for h in doc["hypotheses"]) >= 2
+    assert all("oil_tests" not in h for h in doc["hypotheses"])
+    tests = [t["test"] for t in doc["oil_analysis"]]
+    assert tests and len(tests) == len(set(tests)), "each test once"
+    debris = next(t for t in doc["oil_analysis"] if t["test"].startswith("ferrous wear debris"))
+    served = [name for r in debris["reads"] for name in r["for"]]
+    assert len(debris["reads"]) == 2 and len(served) == len(set(served)) >= 3   # gear and bearings, each once
+    for fmt in FORMATS:
+        out = render(doc, fmt)
+        assert len(re.findall("oil analysis to request", out, re.IGNORECASE)) == 1, fmt
+        assert out.count(debris["test"]) == 1, fmt
+    jsonschema.Draft202012Validator(load_schema("report.schema.json")).validate(json.loads(render(doc, "json")))
+
+
+# ---------------------------------------------------------------- 8. notation
+
+
+def test_8_certainty_is_a_percentage_in_every_report_and_in_the_demo_index(tmp_path):
+    from engine.demo import run_demo
+
+    doc = doc_of("rw2-pump-nde-outer-race")
+    for fmt in FORMATS:
+        out = render(doc, fmt)
+        assert re.search(r"[+-]\d+ %", out), f"{fmt}: the trail's contributions in percent"
+        assert not re.search(r"(?<![\w.])[+-][01]\.\d\d\b(?! ?%)", out), f"{fmt}: a certainty factor as a fraction"
+    cases = tmp_path / "cases"
+    cases.mkdir()
+    text = (CASES / "demo/rw2-pump-nde-outer-race.case.yaml").read_text()
+    (cases / "one.case.yaml").write_text(text.replace("../machines/", str(CASES / "machines") + "/"))
+    run_demo(tmp_path / "out", reasoner(), cases_dir=cases, progress=lambda *_: None)
+    index = (tmp_path / "out/index.html").read_text()
+    assert re.search(r"outer-race on pump_nde \(\d+ %\)", index) and not re.search(r"\(0\.\d+\)", index)
+
+
+def test_8_resolution_and_snr_carry_their_words_and_units(tmp_path, capsys):
+    doc = doc_of("rw2-pump-nde-outer-race")
+    for fmt in FORMATS:
+        out = render(doc, fmt)
+        assert re.search(r"\d+ lines, resolution 0\.25 Hz", out) and "lines of" not in out, fmt
+    wav = write_simulation(simulation_of(load_case(CASES / "demo/rw2-impeller-unbalance.case.yaml"),
+                                         load_machine(CASES / "machines/rw2-raw-water-pump.yaml")),
+                           tmp_path / "rw2.wav")[0]
+    assert main(["reading", str(wav), "--peaks", "3"]) == 0
+    out = capsys.readouterr().out
+    assert "(Hann window, resolution 0.25 Hz)" in out and "Hz lines" not in out
+    snr = re.findall(r"\(SNR ([^)]*)\)", out)
+    assert snr and all(re.fullmatch(r"\d+ dB", s) for s in snr), snr
+
+
+OLD_NOTATION = re.compile(r"DL\^2|DL²|\bum\(c\)|\b40 C\b|Hz per line|Hz lines\b|lines of \{\{|\(SNR \{p\.snr")
+
+
+def test_8_no_old_notation_is_left_in_what_users_read():
+    files = [*(ROOT / "templates").glob("*.j2"), *(ROOT / "rulebooks").rglob("*.yaml"),
+             *(ROOT / "engine").rglob("*.py")]
+    found = [f"{f.relative_to(ROOT)}: {m.group()}" for f in files for m in OLD_NOTATION.finditer(f.read_text())]
+    assert not found, found
