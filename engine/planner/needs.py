@@ -65,7 +65,7 @@ class Need:
             return (f"{self.value:.3g} Hz lies below the {self.floor_hz:g} Hz low-frequency limit",
                     "a low-frequency sensor and reading; no Fmax or line count helps")
         if self.setting == "twin":
-            return (f"{self.what}: bearings slip {100 * TWIN_GAP:g} % or more",
+            return (f"bearings slip {100 * TWIN_GAP:g} % or more",
                     "no setting separates them; judge by FTF sidebands round the line, or open the bearing")
         if self.setting == "fmax":
             return (f"{hz_text(self.value)} Hz lies above Fmax {s.fmax_hz:g} Hz",

@@ -433,3 +433,12 @@ def test_9_the_envelope_plot_marks_solid_only_families_whose_fundamental_was_fou
     fundamentals = [x for x in labels if not x[0].isdigit() or x.startswith("2xBSF")]
     assert fundamentals and all(" " in x for x in fundamentals), labels
     assert not any("x2xBSF" in x for x in labels), labels
+
+
+def test_9_a_reason_a_fault_may_be_missed_says_its_rates_once():
+    doc = doc_of("bw1-clipped-recording")
+    twins = [r for v in doc["reach"] for r in v["reasons"] if "lies within" in r]
+    assert twins, "the blower's BPFO and 2 x BSF lie within slip of each other"
+    for reason in twins:
+        head = reason.split(":")[0]
+        assert reason.count(head) == 1, reason
