@@ -12,6 +12,7 @@ takes seconds; ``python -m bench.fuzz`` is the long run.
 
 from __future__ import annotations
 
+import contextlib
 import math
 import random
 import shutil
@@ -206,7 +207,7 @@ def test_command_line(i):
     """Random commands over mutated files through ``engine.cli.main`` (bench.fuzz's checks)."""
     from engine.cli import main
 
-    with tempfile.TemporaryDirectory() as tmp:
+    with tempfile.TemporaryDirectory() as tmp, contextlib.chdir(tmp):   # default report names land here
         category, argv, inputs = fuzz.make_input(20261202, i, Path(tmp) / "files")
         before = fuzz._digest(inputs)
         rc, out, err, tb = fuzz.run_in_process(main, argv)
