@@ -79,13 +79,19 @@ def reading_of(case: Case, machine):
     return combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
 
 
+def _pct(certainty: float) -> str:
+    return f"{100 * certainty:.0f} %"
+
+
 def describe(result: Reasoning) -> str:
+    """What the reasoning concluded, in a few words, certainty in percent."""
     if result.withheld:
-        return "withheld: " + ", ".join(f"{h.fault} {h.certainty:.2f}" for h in result.reading_problems if h.confident)
+        return "withheld: " + ", ".join(f"{h.fault} {_pct(h.certainty)}" for h in result.reading_problems
+                                        if h.confident)
     top = result.top
     if top is None or top.certainty < CONFIDENT:
-        return "nothing confident" + (f" (best {top.fault} on {top.component}, {top.certainty:.2f})" if top else "")
-    return f"{top.fault} on {top.component} ({top.certainty:.2f})"
+        return "nothing confident" + (f" (best {top.fault} on {top.component}, {_pct(top.certainty)})" if top else "")
+    return f"{top.fault} on {top.component} ({_pct(top.certainty)})"
 
 
 def judge(expect: dict, result: Reasoning) -> bool:

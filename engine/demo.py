@@ -9,6 +9,7 @@ file), read back through the ordinary readers and diagnosed from the file.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from datetime import datetime, timedelta
 from pathlib import Path
 
 from .casebook import Case, case_files, describe, judge, load_case, reading_of, simulation_of
@@ -22,6 +23,8 @@ from .report.render import environment
 from .synth import write_simulation
 
 DEMO_CASES = CASES / "demo"
+SURVEY_START = datetime(2026, 3, 2, 8, 30)      # the demo's readings are stamped a few minutes apart from here
+SURVEY_STEP = timedelta(minutes=4)
 
 
 @dataclass(frozen=True)
@@ -37,13 +40,14 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print) 
     readings_dir = out_dir / "readings"
     readings_dir.mkdir(parents=True, exist_ok=True)
     results = []
-    for path in case_files(cases_dir):
+    for i, path in enumerate(case_files(cases_dir)):
         case = load_case(path)
         machine = load_machine(case.machine)
         name = Path(path).name.removesuffix(".case.yaml")
         sim = simulation_of(case, machine)
         if sim is not None:
-            files = write_simulation(sim, readings_dir / f"{name}.wav")
+            taken = (SURVEY_START + i * SURVEY_STEP).isoformat()
+            files = write_simulation(sim, readings_dir / f"{name}.wav", timestamp=taken)
             reading = load_reading(files[0])
         else:
             reading = reading_of(case, machine)

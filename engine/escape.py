@@ -11,7 +11,8 @@ Each output format gets its own escape:
   (``|`` ends a table cell, ``<`` starts raw HTML, ``*``, ``_``, backquotes and
   brackets start emphasis, code and links) are escaped, so a name reads as
   written; line breaks become spaces so one value cannot start a new block.
-- HTML is autoescaped by Jinja itself.
+- HTML is autoescaped by Jinja itself; ``css_string`` quotes a value for the
+  print style sheet inside it.
 
 ``Verbatim`` marks text a template filter has already made safe (a Markdown
 code span), so the environment's finalize step leaves it alone.
@@ -67,6 +68,17 @@ def markdown_code(text) -> Verbatim:
     fence = "`" * (longest + 1)
     pad = " " if s.startswith("`") or s.endswith("`") or not s.strip() else ""
     return Verbatim(f"{fence}{pad}{s}{pad}{fence}")
+
+
+_CSS_PLAIN = re.compile(r"[A-Za-z0-9 .,:_()/+#%-]")
+
+
+def css_string(text) -> str:
+    """``text`` as a quoted CSS string (for a printed page's running header): every character
+    but letters, digits, space and plain punctuation becomes a CSS escape, so no value can end
+    the string, the rule or the ``<style>`` element, and line breaks cannot start a new line."""
+    s = _LINE_BREAKS.sub(" ", str(text))
+    return '"' + "".join(ch if _CSS_PLAIN.fullmatch(ch) else f"\\{ord(ch):x} " for ch in s) + '"'
 
 
 def text_value(text) -> str:

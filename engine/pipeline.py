@@ -14,7 +14,7 @@ from .analysis import analyse
 from .analysis.plotdata import PlotData, plot_data
 from .evidence import Evidence, run_extractors, summarise
 from .machine import Machine
-from .readings import Reading, check_record_length
+from .readings import Reading, check_record_length, describe_issue
 from .reasoning import Reasoner, Reasoning
 
 
@@ -23,11 +23,13 @@ class ReadingInfo:
     """What the report says about the reading itself (no samples)."""
 
     source: str
-    timestamp: str | None
+    timestamp: str | None              # when it was taken, as stated (ISO 8601 where known)
     fs_hz: float
     duration_s: float
     speed_rpm: float | None
     channels: tuple[tuple[str, str | None, str | None], ...]   # name, point, direction
+    time_from: str | None = None       # who said when: file, route, command line, file modified
+    quality: tuple[dict, ...] = ()     # the quality gates' findings: channel, issue, value, blocking, words
 
 
 @dataclass(frozen=True)
@@ -45,17 +47,24 @@ class Diagnosis:
         return list(self.evidence.facts)
 
 
-def reading_info(reading: Reading) -> ReadingInfo:
-    return ReadingInfo(reading.source, reading.timestamp, reading.fs_hz, reading.duration_s, reading.speed_rpm,
-                       tuple((c.name, c.point, c.direction) for c in reading.channels))
+def reading_info(reading: Reading, taken: tuple[str, str] | None = None) -> ReadingInfo:
+    """What the report says of ``reading``; ``taken`` (time, origin), when the caller resolved the
+    reading's time (a route's time, --taken-at, the file's date), wins over the file's own."""
+    when, origin = taken if taken is not None else (reading.timestamp, "file" if reading.timestamp else None)
+    quality = tuple({"channel": q.channel, "issue": q.kind, "value": q.value, "blocking": q.blocking,
+                     "words": describe_issue(q)} for q in reading.quality)
+    return ReadingInfo(reading.source, when, reading.fs_hz, reading.duration_s, reading.speed_rpm,
+                       tuple((c.name, c.point, c.direction) for c in reading.channels), origin, quality)
 
 
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
-             plots: bool = False, more_facts=None) -> Diagnosis:
+             plots: bool = False, more_facts=None, taken: tuple[str, str] | None = None) -> Diagnosis:
     """Diagnose ``reading`` of ``machine``; ``plots`` also cuts the data the report's figures draw.
 
     ``more_facts``, if given, is called with the evidence facts and returns
     further facts to reason over with them (``trend`` facts from the history).
+    ``taken`` is (ISO time, where it came from) when the caller knows better
+    than the file when the reading was taken.
     """
     check_record_length(reading, machine)
     analysis = analyse(reading, machine)
@@ -71,7 +80,7 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
 
         channel, shaft, bearing = focus(reasoning, evidence, machine)
         figures = plot_data(analysis, channel, shaft, bearing)
-    return Diagnosis(machine, reading_info(reading), evidence, reasoning, advice, figures,
+    return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
                      reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60))
 
 
@@ -88,8 +97,13 @@ def reach_of(reading: Reading, machine: Machine, driver_rpm: float) -> tuple[dic
     return tuple(v.as_dict() for v in found if v.state != CAN)
 
 
-def document_of(d: Diagnosis) -> dict:
-    """The report of a diagnosis as one plain dict (engine/schemas/report.schema.json)."""
+def document_of(d: Diagnosis, made_at: str | None = None) -> dict:
+    """The report of a diagnosis as one plain dict (engine/schemas/report.schema.json).
+
+    ``made_at`` is the report's time (ISO 8601, local with UTC offset, to the
+    minute); None means now. Give one for reports that must compare equal.
+    """
     from .report import report_document
 
-    return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach)
+    return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach,
+                           made_at=made_at)

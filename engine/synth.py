@@ -489,8 +489,9 @@ def as_reading(sim: Simulation, source: str = "simulated") -> "Reading":
     return Reading(source, sim.fs_hz, channels, speed_rpm=sim.speed_rpm, quality=quality)
 
 
-def write_simulation(sim: Simulation, path, inputs=()) -> list[Path]:
-    """Save a simulation as a reading (.wav float32 in g, .npz or .csv) with sidecar and truth.
+def write_simulation(sim: Simulation, path, inputs=(), timestamp: str | None = None) -> list[Path]:
+    """Save a simulation as a reading (.wav float32 in g, .npz or .csv) with sidecar and truth;
+    ``timestamp`` (ISO 8601), if given, goes into the sidecar as a logger would stamp it.
 
     Returns the files written. Each goes through ``engine.outfile.staged``
     (written to a temporary name, synced, renamed; never over one of
@@ -508,6 +509,8 @@ def write_simulation(sim: Simulation, path, inputs=()) -> list[Path]:
     sidecar = {"unit": "g", "speed_rpm": round(sim.speed_rpm, 3),
                "channels": [{"name": c, "point": sim.points[c].id, "direction": sim.points[c].direction}
                             for c in names]}
+    if timestamp is not None:
+        sidecar["timestamp"] = str(timestamp)
     with staged(path, inputs) as tmp:
         if suffix == ".wav":
             from scipy.io import wavfile

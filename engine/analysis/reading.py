@@ -24,7 +24,7 @@ from scipy.fft import next_fast_len
 from ..errors import ReadingError
 from ..kinematics import ForcingFrequency, Rates, forcing_list, rates_at
 from ..machine import Machine, Point
-from ..readings import Channel, QualityIssue, Reading
+from ..readings import Channel, QualityIssue, Reading, describe_issue
 from .envelope import band_from_spectrum, whitened_spectrum
 from .separation import random_part_factor
 from .impacts import ImpactTrain, impact_train
@@ -300,7 +300,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     points = {p.id: p for p in machine.points}
     usable = [ch for ch in reading.channels if not any(q.blocking for q in reading.issues_for(ch.name))]
     if not usable:
-        why = "; ".join(f"{q.channel}: {q.message}" for q in reading.quality if q.blocking)
+        why = "; ".join(f"{q.channel}: {describe_issue(q)}" for q in reading.quality if q.blocking)
         raise ReadingError(f"no channel can be analysed ({why})", path=reading.source)
     accel = {ch.name: _to_acceleration(ch, fs) for ch in usable}
     spectra, iso = {}, {}

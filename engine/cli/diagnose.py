@@ -24,8 +24,8 @@ def register(sub) -> None:
                    help="store the reading in the history and trend it against what is stored "
                         "(default store: history.sqlite in the user's data folder)")
     p.add_argument("--taken-at", metavar="TIME",
-                   help="when the reading was taken, ISO 8601, for --store (default: the timestamp of the sidecar "
-                        "or the file, else the file's modification time)")
+                   help="when the reading was taken, ISO 8601; wins over the file's or sidecar's timestamp "
+                        "(default: that timestamp, else, for --store, the file's modification time)")
     p.set_defaults(run=run)
 
 
@@ -44,6 +44,7 @@ def run(args) -> int:
     inputs = input_files(args)
     if output is not None:
         check_target(output, inputs)     # before the work, not after it
+    taken = _taken_at(args)
     machine = load_machine(args.machine)
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
@@ -51,7 +52,7 @@ def run(args) -> int:
         from ..route.stored import diagnose_and_store
         d, doc = diagnose_and_store(args, reading, machine, reasoner, plots=fmt == "html")
     else:
-        d = diagnose(reading, machine, reasoner, plots=fmt == "html")
+        d = diagnose(reading, machine, reasoner, plots=fmt == "html", taken=taken)
         doc = document_of(d)
     text = render(doc, fmt)
     if output is None:
@@ -59,3 +60,12 @@ def run(args) -> int:
     else:
         say(f"wrote {write_atomically(output, text, inputs)}")
     return EXIT_WITHHELD if d.reasoning.withheld else 0
+
+
+def _taken_at(args):
+    """(ISO time, "command line") for --taken-at, checked; None leaves the file's own time."""
+    if args.taken_at is None:
+        return None
+    from ..history.times import iso, parse_time
+
+    return iso(parse_time(args.taken_at, what="--taken-at")), "command line"

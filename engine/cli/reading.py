@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 from ._common import add_reading_options, add_readings_argument, reading_options, say, whole
 
 
@@ -16,7 +18,7 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from .. import analysis
-    from ..readings import load_reading
+    from ..readings import describe_issue, load_reading
     from ..units import STANDARD_GRAVITY_M_S2
 
     reading = load_reading(args.reading, **reading_options(args))
@@ -28,7 +30,7 @@ def run(args) -> int:
         say(f"\n  {ch.name} ({ch.quantity}, recorded in {ch.unit}){'  at ' + where if where else ''}")
         issues = reading.issues_for(ch.name)
         for q in issues:
-            say(f"    quality: {q.kind}: {q.message}")
+            say(f"    quality: {describe_issue(q)}")
         if any(q.blocking for q in issues):
             continue
         lv = analysis.overall_levels(ch.samples, reading.fs_hz, ch.quantity, reading.speed_rpm)
@@ -42,7 +44,8 @@ def run(args) -> int:
         peaks = analysis.find_peaks(spec, f_lo_hz=2 * spec.resolution_hz, min_snr=6.0, max_peaks=args.peaks)
         scale = STANDARD_GRAVITY_M_S2 if ch.quantity == "acceleration" else 1.0
         unit = "g" if ch.quantity == "acceleration" else ("m/s" if ch.quantity == "velocity" else "m")
-        say(f"    largest spectral peaks (Hann, {spec.resolution_hz:.3f} Hz lines):")
+        say(f"    largest spectral peaks (Hann window, resolution {spec.resolution_hz:.3g} Hz):")
         for p in sorted(peaks, key=lambda p: p.freq_hz):
-            say(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  (SNR {p.snr:.0f})")
+            say(f"      {p.freq_hz:10.3f} Hz  {p.amplitude / scale:.4g} {unit} peak  "
+                f"(SNR {20 * math.log10(p.snr):.0f} dB)")
     return 0

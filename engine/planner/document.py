@@ -24,7 +24,7 @@ def _rows(p: Proposal) -> list[dict]:
     slow = p.slowest_shaft
     rows = [
         ("Fmax", f"{p.fmax_hz:g} Hz"),
-        ("lines", f"{p.lines} ({p.resolution_hz:.3g} Hz per line)"),
+        ("lines", f"{p.lines}, resolution {p.resolution_hz:.3g} Hz"),
         ("sample rate", f"{p.sample_rate_hz:g} Hz"),
         ("record", f"{p.record_s:.3g} s = {p.record_revolutions:.1f} turns of {slow}"),
         ("window", p.window.capitalize()),

@@ -66,7 +66,7 @@ class Need:
             return (f"{self.value:.3g} Hz lies below the {self.floor_hz:g} Hz low-frequency limit",
                     "a low-frequency sensor and reading; no Fmax or line count helps")
         if self.setting == "twin":
-            return (f"{self.what}: bearings slip {100 * TWIN_GAP:g} % or more",
+            return (f"bearings slip {100 * TWIN_GAP:g} % or more",
                     "no setting separates them; judge by FTF sidebands round the line, or open the bearing")
         if self.setting == "fmax":
             return (f"{hz_text(self.value)} Hz lies above Fmax {s.fmax_hz:g} Hz",
@@ -77,8 +77,8 @@ class Need:
                     f"a sample rate of at least {self.value:.0f} Hz")
         if self.setting == "resolution":
             return (f"{self.value / s.resolution_hz:.1f} lines across {self.value:.3g} Hz at "
-                    f"{s.resolution_hz:.3g} Hz per line (at least {self.lines:g})",
-                    f"lines no more than {self.value / self.lines:.3g} Hz apart")
+                    f"resolution {s.resolution_hz:.3g} Hz (at least {self.lines:g})",
+                    f"a resolution of {self.value / self.lines:.3g} Hz or finer")
         have = s.duration_s / self.span_s if self.span_s else 0.0
         return (f"{have:.1f} {self.noun} in {s.duration_s:.3g} s (at least {self.value / self.span_s:g})",
                 f"a waveform of at least {self.value:.3g} s")

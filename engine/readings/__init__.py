@@ -24,14 +24,14 @@ from .columns import apply_column_map
 from .formats import READERS, RawReading, check_raw
 from .length import MIN_SAMPLES, check_record_length
 from .model import Channel, QualityIssue, Reading
-from .quality import check_channel, check_resolution
+from .quality import check_channel, check_resolution, describe_issue
 
 MAX_FILE_BYTES = 1 << 30           # 1 GiB on disk; longer records are cut before analysis
 MIN_SAMPLE_RATE_HZ = 2.56 * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
 MAX_SAMPLE_RATE_HZ = 10e6          # no vibration recorder samples faster: a unit slip (Hz for kHz...)
 
 __all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "check_record_length", "check_resolution",
-           "combine_readings", "load_reading", "select_channels", "sidecar_path"]
+           "combine_readings", "describe_issue", "load_reading", "select_channels", "sidecar_path"]
 
 
 def sidecar_path(path) -> Path:
@@ -163,9 +163,10 @@ def combine_readings(readings: list[Reading]) -> Reading:
                            f"{sorted({n for n in final if final.count(n) > 1})}; rename them in the sidecars",
                            path=readings[-1].source)
     speeds = [r.speed_rpm for r in readings if r.speed_rpm]
+    stamps = [r.timestamp for r in readings if r.timestamp is not None]   # the first file that states one
     return Reading(source=", ".join(r.source for r in readings), fs_hz=first.fs_hz,
                    channels=tuple(channels), speed_rpm=speeds[0] if speeds else None,
-                   timestamp=first.timestamp, quality=tuple(quality))
+                   timestamp=stamps[0] if stamps else None, quality=tuple(quality))
 
 
 def _pick(options: dict, side: dict, raw_meta: dict, key: str):

@@ -59,6 +59,21 @@ SHAPE_SPLIT_HZ = 1000.0
 SHAPE_HIGH_FRACTION = 0.5
 
 
+# what each kind of issue is called where it is shown (tellwave reading, the reports)
+ISSUE_NAMES = {
+    "clipping": "clipping", "dc_offset": "DC offset", "drift": "slow drift", "dropout": "dropouts",
+    "nonfinite": "samples that are not numbers", "dead": "dead channel", "out_of_range": "outside any sensor's range",
+    "implausible_level": "implausible level", "implausible_spectrum": "implausible spectrum",
+    "too_short": "record too short",
+}
+
+
+def describe_issue(q: QualityIssue) -> str:
+    """A quality issue in words, the same wherever it is shown: what it is, then what was measured
+    and what it means (``clipping: 2 runs of equal samples (53419 in all) flatten the signal's extremes``)."""
+    return f"{ISSUE_NAMES.get(q.kind, q.kind.replace('_', ' '))}: {q.message}"
+
+
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     """Start and length of each run of True in ``mask``."""
     if not mask.any():
@@ -147,20 +162,20 @@ def _clipping(ch: Channel, x: np.ndarray) -> list[QualityIssue]:
         n = int(np.count_nonzero(np.abs(x) >= CLIP_FULL_SCALE_FRACTION * ch.full_scale_si))
         if n:
             return [QualityIssue("clipping", ch.name,
-                                 f"{n} samples at the recorder's full scale: clipped", float(n))]
+                                 f"{n} samples reach the recorder's full scale", float(n))]
     top, bottom = x.max(), x.min()
     runs = [r for r in _runs(x == top) + _runs(x == bottom) if r[1] >= FLAT_TOP_MIN_RUN]
     if len(runs) >= 2:
         n = sum(length for _, length in runs)
         return [QualityIssue("clipping", ch.name,
-                             f"flat-topped: {len(runs)} runs of equal samples at the signal's extremes ({n} samples)",
+                             f"{len(runs)} runs of equal samples ({n} in all) flatten the signal's extremes",
                              float(n))]
     sides = _plateau_sides(x)
     if sides:
         n = sum(count for _, _, count in sides)
         where = " and ".join(side for side, _, _ in sides)
         return [QualityIssue("clipping", ch.name,
-                             f"flat-topped: {n} samples ({100 * n / len(x):.1f} %) pile up at the {where} of the "
+                             f"{n} samples ({100 * n / len(x):.1f} %) pile up at the {where} of the "
                              "amplitude range, as a clipped signal's do", float(n))]
     return []
 

@@ -61,8 +61,9 @@ def pattern_words(p: Pattern, rulebook: Rulebook | None = None) -> str:
 
 def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     """The rule as a few lines of plain English."""
-    lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin}" + (
-        f" (overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ""), f"  source: {rule.source}"]
+    where = f"site overlay {rule.path}" if "/" in rule.label else "shipped rulebook"
+    lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin} ({where}" + (
+        f"; overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ")"), f"  source: {rule.source}"]
     lines.append("  it needs:")
     lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.needs]
     if rule.none_of:
@@ -80,7 +81,7 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     else:
         fields = ", ".join(f"{k} = {_value(v)}" for k, v in rule.derived_fields)
         lines.append(f"  it derives a {_words(rule.derives)} fact ({fields}) for other rules")
-    weight = f"certainty {rule.weight:+.2f}"
+    weight = f"certainty {100 * rule.weight:+.0f} %"
     aliases = {p.alias: p.kind for p in rule.needs}
     for r in rule.ramps:
         kind = aliases.get(r.value.alias)
@@ -119,7 +120,7 @@ def summary(rulebook: Rulebook) -> list[str]:
         lines.append(f"  derived {kind}: {n} rule(s)")
     for rule in rulebook.rules:
         if rule.replaced:
-            lines.append(f"  overridden: {rule.id} by {rule.path}")
+            lines.append(f"  overridden: {rule.id} by {rule.label}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
     return lines
@@ -162,5 +163,5 @@ def rule_list(rulebook: Rulebook) -> list[str]:
             what = "/".join(dict.fromkeys(v for _, v in r.fault.faults))
         else:
             what = r.fault
-        lines.append(f"{r.id:<44} {r.weight:+.2f} {what:<40} {r.title}")
+        lines.append(f"{r.id:<44} {100 * r.weight:+4.0f} % {what:<40} {r.title}")
     return lines

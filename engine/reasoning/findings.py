@@ -14,8 +14,8 @@ class Firing:
     rule_id: str
     title: str
     source: str
-    origin: str                       # file:line of the rule
-    overrides: tuple[str, ...]        # files whose rule of this id it replaced
+    origin: str                       # file:line of the rule, relative to its rulebook folder
+    overrides: tuple[str, ...]        # files whose rule of this id it replaced (named alike)
     certainty: float                  # signed: negative counts against
     because: str                      # the rule's sentence with measured values filled in
     facts: tuple[tuple[str, dict], ...]   # (alias, fact) that satisfied it

@@ -66,8 +66,8 @@ class Parameter:
     unit: str
     about: str
     source: str
-    path: str               # where it was declared
-    changed_by: tuple[str, ...] = ()    # overlays that changed its value, in order
+    path: str               # the file that declared it, as labelled (see ``rulebook_labels``)
+    changed_by: tuple[str, ...] = ()    # overlays that changed its value, in order, as labelled
 
 
 @dataclass(frozen=True)
@@ -136,11 +136,14 @@ class Rule:
     stage: int | None = None
     derives: str | None = None
     derived_fields: tuple[tuple[str, Ref | Any], ...] = ()
-    replaced: tuple[str, ...] = ()   # files whose rule of this id this one overrides
+    replaced: tuple[str, ...] = ()   # files whose rule of this id this one overrides (as labelled)
+    label: str = ""                  # the file as reports name it (see ``rulebook_labels``)
 
     @property
     def origin(self) -> str:
-        return f"{self.path}:{self.line}" if self.line else self.path
+        """``file:line`` as reports show it: ``bearings.yaml:87``, ``site/pumps.yaml:12``."""
+        name = self.label or str(self.path)
+        return f"{name}:{self.line}" if self.line else name
 
 
 @dataclass(frozen=True)
@@ -159,8 +162,8 @@ class Rulebook:
     rules: tuple[Rule, ...]
     faults: dict[str, Fault]
     derived: dict[str, dict[str, F]]
-    files: tuple[str, ...]
-    disabled: dict[str, tuple[str, str]] = field(default_factory=dict)   # id -> (reason, file)
+    files: tuple[str, ...]           # every file loaded, as labelled (see ``rulebook_labels``)
+    disabled: dict[str, tuple[str, str]] = field(default_factory=dict)   # id -> (reason, file as labelled)
     parameters: dict[str, Parameter] = field(default_factory=dict)
 
     def rule(self, rule_id: str) -> Rule:
@@ -198,12 +201,39 @@ def rulebook_files(*places) -> list[Path]:
     return [_shown(f) for f in files]
 
 
+SITE_LABEL = "site"
+
+
+def rulebook_labels(*places, shipped: bool = True) -> list[tuple[Path, str]]:
+    """Each rulebook file to load, in order, with the name reports give it.
+
+    Reports name a file relative to its rulebook folder, never by where it is
+    installed: ``bearings.yaml`` for a shipped file, ``site/NAME.yaml`` for an
+    overlay (NAME is the file's name in the folder given, or the file given).
+    Two overlays that would share a name are told apart by the place's
+    number: ``site2/NAME.yaml``.
+    """
+    out: list[tuple[Path, str]] = []
+    if shipped:
+        out += [(f, Path(f).name) for f in rulebook_files(SHIPPED)]    # a folder's files are its own children
+    taken = {label for _, label in out}
+    for n, place in enumerate(places, start=1):
+        for f in rulebook_files(place):
+            label = f"{SITE_LABEL}/{Path(f).name}"
+            if label in taken:
+                label = f"{SITE_LABEL}{n}/{Path(f).name}"
+            taken.add(label)
+            out.append((f, label))
+    return out
+
+
 def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     """Load the shipped rulebooks (unless ``shipped=False``) and then each overlay place in order."""
-    files = (rulebook_files(SHIPPED) if shipped else []) + rulebook_files(*places)
-    if not files:
+    placed = rulebook_labels(*places, shipped=shipped)
+    if not placed:
         raise RulebookError("no rulebook files found", path=str(places[0]) if places else str(SHIPPED))
-    docs = [read_yaml(f, RulebookError) for f in files]
+    docs = [read_yaml(f, RulebookError) for f, _ in placed]
+    label_of = {id(doc): label for doc, (_, label) in zip(docs, placed)}
     for doc in docs:
         _check_schema(doc)
     faults: dict[str, Fault] = {}
@@ -211,12 +241,12 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     parameters: dict[str, Parameter] = {}
     for doc in docs:
         _collect_catalogue(doc, faults, derived)
-        _collect_parameters(doc, parameters)
+        _collect_parameters(doc, parameters, label_of[id(doc)])
     rules: dict[str, Rule] = {}
     disabled: dict[str, tuple[str, str]] = {}
     for doc in docs:
         for i, raw in enumerate(doc.data.get("rules") or []):
-            rule = _build_rule(doc, i, raw, faults, derived, parameters)
+            rule = replace(_build_rule(doc, i, raw, faults, derived, parameters), label=label_of[id(doc)])
             if rule.id in rules and not raw.get("overrides"):
                 raise RulebookError(f"id already used in {rules[rule.id].path}; add 'overrides: true' to replace it",
                                     path=doc.path, line=rule.line, rule_id=rule.id)
@@ -225,17 +255,17 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
                     raise RulebookError("'overrides: true' but no earlier rulebook has this id",
                                         path=doc.path, line=rule.line, rule_id=rule.id)
                 previous = rules[rule.id]
-                rule = replace(rule, replaced=previous.replaced + (previous.path,))
+                rule = replace(rule, replaced=previous.replaced + (previous.label,))
             rules[rule.id] = rule
         for j, entry in enumerate(doc.data.get("disable") or []):
             rid = entry["rule"]
             if rid not in rules:
                 raise RulebookError(f"disable: no loaded rule has id {rid!r}", path=doc.path,
                                     line=doc.line_of(["disable", j]))
-            disabled[rid] = (entry["reason"], doc.path)
+            disabled[rid] = (entry["reason"], label_of[id(doc)])
             del rules[rid]
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
-    return Rulebook(ordered, faults, derived, tuple(str(f) for f in files), disabled, parameters)
+    return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters)
 
 
 def _check_schema(doc: YamlDocument) -> None:
@@ -276,8 +306,9 @@ def _collect_catalogue(doc, faults, derived) -> None:
         derived[kind] = fields
 
 
-def _collect_parameters(doc, parameters: dict[str, Parameter]) -> None:
-    """Declare named parameters, or change the value of one declared by an earlier file."""
+def _collect_parameters(doc, parameters: dict[str, Parameter], label: str) -> None:
+    """Declare named parameters, or change the value of one declared by an earlier file
+    (``label``: the file as reports name it)."""
     for name, raw in (doc.data.get("parameters") or {}).items():
         line = doc.line_of(["parameters", name])
         spec = raw if isinstance(raw, dict) else {"value": raw}
@@ -294,13 +325,13 @@ def _collect_parameters(doc, parameters: dict[str, Parameter]) -> None:
                 raise RulebookError(f"parameters.{name}: unit {spec['unit']!r} differs from {before.unit!r} "
                                     f"declared in {before.path}", path=doc.path, line=line)
             parameters[name] = replace(before, value=float(value), source=spec.get("source", before.source),
-                                       changed_by=before.changed_by + (doc.path,))
+                                       changed_by=before.changed_by + (label,))
             continue
         missing = [k for k in ("unit", "about", "source") if k not in spec]
         if missing:
             raise RulebookError(f"parameters.{name}: no earlier rulebook declares it, so it needs "
                                 f"{', '.join(missing)} as well as its value", path=doc.path, line=line)
-        parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], doc.path)
+        parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], label)
 
 
 def _kind_fields(kind: str, derived) -> dict[str, F]:

@@ -1,12 +1,14 @@
 """The report as one plain dict: what every format (text, Markdown, HTML, JSON) shows.
 
 ``report_document`` puts the answer first: the verdict and urgency, the
-ranked hypotheses with certainty, severity, actions, follow-ups and oil
-tests, the cautions; then the reasoning trail, the acquisition notes and
+ranked hypotheses with certainty, severity, actions and follow-ups, the oil
+tests for the machine (each once), the cautions; then the reasoning trail, the acquisition notes and
 the zone readings. ``engine/schemas/report.schema.json`` documents it.
 """
 
 from __future__ import annotations
+
+from datetime import datetime
 
 from .. import __version__
 from ..advice import Advice, Recommendation
@@ -38,16 +40,35 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation) -> dict:
            "support": [_firing(f) for f in h.support], "against": [_firing(f) for f in h.against],
            "other_matches": h.other_matches,
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
-           "spares": list(rec.spares), "confirm": list(rec.confirm),
-           "oil_tests": [{"test": t.name, "means": t.means, "source": t.source} for t in rec.oil]}
+           "spares": list(rec.spares), "confirm": list(rec.confirm)}
     return out
+
+
+def _oil_analysis(shown: list[Hypothesis], recs: dict) -> list[dict]:
+    """The oil tests to request for the machine, each once: one sample serves every hypothesis.
+
+    A test asked for by several hypotheses keeps what its result would mean
+    for each (bearing wear, tooth damage ...), with the hypotheses it serves.
+    """
+    rows: dict[str, dict] = {}
+    for h in shown:
+        for t in recs[(h.fault, h.component)].oil:
+            row = rows.setdefault(t.name, {"test": t.name, "source": t.source, "reads": []})
+            read = next((r for r in row["reads"] if r["means"] == t.means), None)
+            if read is None:
+                row["reads"].append(read := {"means": t.means, "for": [], "components": []})
+            read["for"].append(f"{h.fault_name} on {h.component}")
+            if h.component not in read["components"]:
+                read["components"].append(h.component)
+    return list(rows.values())
 
 
 def _urgency(u) -> dict:
     return {"id": u.id, "label": u.label, "within": u.within}
 
 
-def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
+def _summary(reasoning: Reasoning, advice: Advice, machine: Machine, shown: list[Hypothesis]) -> str:
+    """The answer in one sentence; ``shown`` are the hypotheses the report lists under it."""
     if reasoning.withheld:
         text = (f"This reading of {machine.name} cannot support a fault conclusion: "
                 + "; ".join(h.fault_name for h in reasoning.reading_problems if h.confident) + ".")
@@ -60,9 +81,40 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine) -> str:
         zone = f" The overall level is in ISO 20816-3 zone {advice.worst_zone}." if advice.worst_zone else ""
         return f"No fault of {machine.name} reaches a confident certainty.{zone}"
     top = confident[0]
-    more = f" ({len(confident) - 1} more below)" if len(confident) > 1 else ""
+    others = len([h for h in shown if h is not top])      # listed below the answer, whatever their certainty
+    more = f" ({others} more {'hypothesis' if others == 1 else 'hypotheses'} below)" if others else ""
     return (f"{top.fault_name.capitalize()} on {top.component}: {top.strength}, certainty "
             f"{100 * top.certainty:.0f} %{more}.")
+
+
+def report_time(now: datetime | None = None) -> str:
+    """When a report is made: local time with its UTC offset, ISO 8601 to the minute
+    (2026-03-04T10:15+01:00)."""
+    return (now or datetime.now()).astimezone().isoformat(timespec="minutes")
+
+
+def taken_at(timestamp) -> str | None:
+    """The reading's time to the minute (ISO 8601) where the stated time is a date and time;
+    a time of day or a logger's index as stated; None when nothing states it."""
+    if timestamp is None or not str(timestamp).strip():
+        return None
+    text = str(timestamp).strip()
+    try:
+        return datetime.fromisoformat(text.replace("Z", "+00:00")).isoformat(timespec="minutes")
+    except ValueError:
+        return text
+
+
+def taken_text(timestamp, time_from: str | None) -> str:
+    """When the reading was taken, as the report's header says it: ``taken_at`` and where the
+    time came from."""
+    text = taken_at(timestamp)
+    if text is None:
+        return "not stated (give the reading's sidecar a timestamp, or --taken-at)"
+    said = {"file": "as the file or its sidecar states", "route": "as the route states",
+            "command line": "as given with --taken-at",
+            "file modified": "the file's modification time: nothing states when it was taken"}.get(time_from)
+    return f"{text} ({said})" if said else text
 
 
 def _differential(dx, reasoning: Reasoning, recs: dict) -> dict:
@@ -84,7 +136,7 @@ def speed_text(speed: dict) -> str:
     used = f"{speed['measured_rpm']:.1f} rpm of {speed['shaft']}"
     stated = speed["stated_rpm"]
     against = (f"stated {stated:.0f} rpm" if stated else f"nominal {speed['nominal_rpm']:.0f} rpm")
-    gap = f", {speed['deviation_pct']:+.1f} % from the {against}"
+    gap = f", {speed['deviation_pct']:+.1f} % from the {against}".replace("-0.0 %", "0.0 %").replace("+0.0 %", "0.0 %")
     if speed["source"] == "1X harmonics":
         return (f"Speed {used}, measured from {speed['harmonics']} shaft harmonic lines{gap}; "
                 "forcing frequencies are matched within 0.5 %.")
@@ -96,8 +148,12 @@ def speed_text(speed: dict) -> str:
 
 
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
-                    advice: Advice, plots: PlotData | None = None, reach=()) -> dict:
-    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo."""
+                    advice: Advice, plots: PlotData | None = None, reach=(), made_at: str | None = None) -> dict:
+    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo.
+
+    ``made_at`` is the report's own time (see ``report_time``), now when None;
+    tests and runs whose reports must compare equal give one.
+    """
     recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
     figures = []
@@ -111,17 +167,21 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
     withheld_recs = [r for r in advice.recommendations if r.hypothesis.family == "reading"]
     doc = {
         "tellwave": __version__,
+        "made_at": made_at or report_time(),
         "machine": {"name": machine.name, "plant": machine.plant, "file": machine.source,
                     "iso_group": advice.zone_scale.group, "support": advice.zone_scale.support,
                     "lubrication": machine.lubrication},
-        "reading": {"source": reading.source, "timestamp": reading.timestamp, "fs_hz": reading.fs_hz,
+        "reading": {"source": reading.source, "timestamp": reading.timestamp, "time_from": reading.time_from,
+                    "taken_at": taken_at(reading.timestamp), "taken": taken_text(reading.timestamp, reading.time_from),
+                    "fs_hz": reading.fs_hz,
                     "duration_s": round(reading.duration_s, 4), "speed_rpm": reading.speed_rpm,
                     "channels": [{"name": name, "point": point, "direction": direction}
                                  for name, point, direction in reading.channels]},
         "thresholds": {"conclusion": CONFIDENT, "shown": POSSIBLE},
-        "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine),
+        "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
                     "urgency": _urgency(advice.urgency)},
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
+        "oil_analysis": _oil_analysis(shown, recs),
         "reading_problems": problems,
         "differential": [_differential(dx, reasoning, recs) for dx in reasoning.differential
                          if (dx.fault, dx.component) in recs],
@@ -143,8 +203,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "chain": [_firing(f) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
         "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},
-        "data_quality": [{"channel": q.channel, "issue": q.issue, "value": _number(q.value), "blocking": q.blocking}
-                         for q in evidence.quality],
+        "data_quality": [{**q, "value": _number(q["value"])} for q in reading.quality],
         "rulebooks": [str(p) for p in reasoning.rulebook_files],
         "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
                    "rules": reasoning.rules_loaded},

@@ -3,8 +3,8 @@
 ``focus`` picks the channel, shaft and bearing of the top hypothesis's
 strongest evidence (or the loudest channel); the analysis stage cuts the
 plot data for them (``engine.analysis.plotdata``); ``figures`` draws it with
-``svg``. The envelope spectrum marks every defect harmonic the evidence
-matched, solid, beside the dashed fundamentals of the bearing's rates.
+``svg``. The envelope spectrum marks the harmonics of each defect family
+the evidence found, solid, beside the dashed fundamentals of the bearing's rates.
 """
 
 from __future__ import annotations
@@ -49,15 +49,24 @@ def focus(reasoning: Reasoning, evidence: Evidence, machine: Machine) -> tuple[s
 
 
 def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
-    """Solid marks at the harmonics of each defect rate the evidence found in this channel's envelope."""
+    """Solid marks at the harmonics of each defect family the evidence found in this channel's envelope.
+
+    Only a family whose fundamental was found, and no other family explains
+    better, is marked: a family known only by a stray harmonic would put solid
+    marks where the spectrum shows nothing (the fact does not say which
+    harmonics those were).
+    """
     out = []
     for f in evidence.facts:
         if (f["kind"] == "envelope_tone" and f["channel"] == pd.channel and f["band_method"] == "kurtogram"
-                and (pd.bearing is None or f["component"] == pd.bearing)):
-            name = "2xBSF" if f["defect"] == "BSF" else f["defect"]
+                and f["fundamental_owned"] and (pd.bearing is None or f["component"] == pd.bearing)):
+            # the ball spin's impacts come twice per spin: the k-th harmonic of 2xBSF is 2k x BSF
+            per, name = (2, "BSF") if f["defect"] == "BSF" else (1, f["defect"])
             found = min(f["harmonics_found"], ENVELOPE_HARMONICS_MARKED)
             for k in range(1, found + 1):
-                label = f"{name}" if k == 1 else f"{k}x{name}"
+                label = name if k * per == 1 else f"{k * per}x{name}"
+                if k == 1 and pd.bearing is None:      # several bearings marked: say whose rate it is
+                    label += f" {f['component']}"
                 out.append(svg.Mark(k * f["expected_hz"], label, strong=True))
     return out
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import jinja2
+import markupsafe
 
 from ..errors import UsageError
 from ..jsonout import dumps
@@ -35,10 +36,11 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
         undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
         finalize=_FINALIZE.get(fmt))
     env.filters["pct"] = _pct
-    env.filters["signed"] = lambda x: f"{x:+.2f}"
+    env.filters["signed"] = lambda x: f"{100 * x:+.0f} %"
     env.filters["md"] = escape.markdown
     env.filters["md_code"] = escape.markdown_code
     env.filters["term"] = escape.terminal
+    env.filters["css_string"] = lambda text: markupsafe.Markup(escape.css_string(text))
     return env
 
 

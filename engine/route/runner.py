@@ -138,11 +138,16 @@ def _dask(tasks, settings, scheduler, outcome):
 
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
               again: bool = False, fmt: str = "html", plots: bool = False, site=(),
-              progress: bool = False) -> RouteOutcome:
-    """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``."""
+              progress: bool = False, made_at: str | None = None) -> RouteOutcome:
+    """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``.
+
+    Every report of one run says it was made at the run's start (``made_at``,
+    ISO 8601 to the minute, now when None), whichever worker wrote it.
+    """
     import os
 
     from ..report import write_atomically
+    from ..report.document import report_time
 
     start = time.perf_counter()
     out_dir = Path(out_dir)
@@ -156,7 +161,7 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
         else:
             todo.append((t, hashes[t.index]))
     settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
-                "store": str(store.path.resolve()), "route_id": route_id}
+                "store": str(store.path.resolve()), "route_id": route_id, "made_at": made_at or report_time()}
     outcome.workers = workers or os.cpu_count() or 1
     if scheduler:
         outcome.where = f"dask {scheduler}"

@@ -30,7 +30,7 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
         if known is not None and origin == "file modified":     # stored before with a better time: keep it
             when, origin = known[0], known[1]
         link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots)
-        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link)
+        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
         doc = document_of(d)
         if link.doc is not None:
             doc["trend"] = link.doc

@@ -104,8 +104,8 @@ def diagnose_task(task: Task, content_hash: str, settings: dict) -> dict:
         when, origin = taken_at(task, reading, settings.get("clock"))
         link = _history_link(settings, machine, advice, content_hash, when)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=settings.get("plots", False),
-                     more_facts=link)
-        doc = document_of(d)
+                     more_facts=link, taken=(when, origin))
+        doc = document_of(d, made_at=settings.get("made_at"))
         if link is not None and link.doc is not None:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,

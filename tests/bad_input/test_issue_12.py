@@ -168,7 +168,7 @@ def test_defect_05_scale_so_small_the_signal_underflows(tmp_path, capsys):
     path = npz_reading(tmp_path / "r.npz", seed_signal())
     assert main(["reading", str(path), "--scale", "1e-300"]) == 0
     out = capsys.readouterr().out
-    assert "quality: out_of_range: AC RMS of" in out and "below anything a sensor records" in out
+    assert "quality: outside any sensor's range: AC RMS of" in out and "below anything a sensor records" in out
     err = one_error_line(capsys, ReadingError.exit_code,
                          ["diagnose", path, "--machine", RW2, "--scale", "1e-300"])
     assert "no channel can be analysed" in err

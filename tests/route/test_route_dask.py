@@ -9,6 +9,7 @@ from engine.history.store import Store
 from engine.route import load_route, run_route
 
 distributed = pytest.importorskip("distributed")
+MADE_AT = "2026-03-04T10:15+01:00"     # the reports' own time, the same for both runs so they compare equal
 
 
 def _results(store: Store) -> dict:
@@ -26,12 +27,12 @@ def test_a_route_on_a_dask_cluster_matches_the_local_run(tmp_path):
     route_file = make_route(tmp_path / "r", n=4, bad=True)
     route = load_route(route_file)
     with Store(tmp_path / "local.sqlite") as store:
-        local = run_route(route, store, tmp_path / "local", workers=2)
+        local = run_route(route, store, tmp_path / "local", workers=2, made_at=MADE_AT)
         local_results = _results(store)
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
                                   dashboard_address=None, silence_logs=40) as cluster:
         with Store(tmp_path / "dask.sqlite") as store:
-            remote = run_route(route, store, tmp_path / "dask", scheduler=cluster.scheduler_address)
+            remote = run_route(route, store, tmp_path / "dask", scheduler=cluster.scheduler_address, made_at=MADE_AT)
             dask_results = _results(store)
     assert remote.where.startswith("dask ")
     assert len(remote.diagnosed) == len(local.diagnosed) == 4
