@@ -62,6 +62,15 @@ def same_joint(machine, a: str, b: str) -> bool:
     return a in speeds and b in speeds and abs(speeds[a] - speeds[b]) <= 1e-6 * speeds[a]
 
 
+def names_truth(result, machine, fault: str, component: str | None) -> bool:
+    """Whether the top hypothesis, at whatever certainty, names the true fault on the true component."""
+    top = result.top
+    if result.withheld or top is None or fault == "healthy" or top.fault not in accepted_faults(fault):
+        return False
+    return top.component == component or (fault.startswith("misalignment")
+                                           and same_joint(machine, top.component, component))
+
+
 def verdict(result, machine, fault: str, component: str | None) -> tuple[str, bool]:
     """(label of the top answer, whether it is right) for one reasoning result."""
     if result.withheld:
@@ -71,14 +80,13 @@ def verdict(result, machine, fault: str, component: str | None) -> tuple[str, bo
         return "none", fault == "healthy"
     if fault == "healthy":
         return top.fault, False
-    right_fault = top.fault in accepted_faults(fault)
-    right_place = top.component == component or (fault.startswith("misalignment") and same_joint(machine, top.component, component))
-    return top.fault, right_fault and right_place
+    return top.fault, names_truth(result, machine, fault, component)
 
 
 def run(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.0), stages=(2, 3), duration_s=4.0,
         scenarios=SCENARIOS, reasoner=None):
-    """Rows of (fault, machine, component, stage, seed, speed, fs, label, right, top certainty, seconds)."""
+    """Rows of (fault, machine, component, stage, seed, speed, fs, label, right, top certainty, seconds,
+    withheld, top names the truth at any certainty)."""
     reasoner = reasoner or Reasoner(load_rulebook())
     machines = {k: load_machine(p) for k, p in MACHINES.items()}
     rows = []
@@ -96,14 +104,15 @@ def run(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.0), st
                         dt = time.perf_counter() - t0
                         label, right = verdict(result, m, fault, component)
                         top = result.top.certainty if result.top else 0.0
-                        rows.append((fault, mk, component, stage, seed, scale, fs, label, right, top, dt))
+                        rows.append((fault, mk, component, stage, seed, scale, fs, label, right, top, dt,
+                                     result.withheld, names_truth(result, m, fault, component)))
     return rows
 
 
 def confusion(rows) -> dict[str, Counter]:
     table = defaultdict(Counter)
-    for fault, *_, label, _right, _top, _dt in rows:
-        table[fault][label] += 1
+    for row in rows:
+        table[row[0]][row[7]] += 1
     return table
 
 
@@ -116,9 +125,9 @@ def print_report(rows) -> None:
         print(fault.ljust(22) + "".join(str(table[fault][lab] or ".").rjust(13) for lab in labels))
     print()
     per_fault = defaultdict(lambda: [0, 0])
-    for fault, *_, _label, right, _top, _dt in rows:
-        per_fault[fault][0] += right
-        per_fault[fault][1] += 1
+    for row in rows:
+        per_fault[row[0]][0] += row[8]
+        per_fault[row[0]][1] += 1
     for fault, (ok, n) in per_fault.items():
         print(f"{fault:<{width}} right fault on the right component: {ok}/{n} ({100 * ok / n:.0f} %)")
     total_ok = sum(r[8] for r in rows)

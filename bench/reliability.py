@@ -49,32 +49,13 @@ def real_answers(reasoner) -> list[Answer]:
             for r in rows]
 
 
-def simulated_answers(reasoner, seeds=(0, 1), speeds=(0.85, 1.0), stages=(2, 3), fs=25600.0,
-                      duration_s=4.0) -> list[Answer]:
-    from engine.evidence import extract_evidence
-    from engine.synth import as_reading, simulate
+def simulated_answers(reasoner, seeds=(0, 1), speeds=(0.85, 1.0), stages=(2, 3), fs=25600.0) -> list[Answer]:
+    from .confusion import run
 
-    from .confusion import MACHINES, SCENARIOS, accepted_faults, same_joint
-    from engine.machine import load_machine
-
-    machines = {k: load_machine(p) for k, p in MACHINES.items()}
-    out = []
-    for fault, key, component in SCENARIOS:
-        m = machines[key]
-        nominal = m.shaft_speeds_hz[m.driver_shaft] * 60
-        for seed in seeds:
-            for scale in speeds:
-                for stage in (stages if fault != "healthy" else (1,)):
-                    sim = simulate(m, fault, component, stage, nominal * scale, fs, duration_s, seed)
-                    result = reasoner.reason(extract_evidence(as_reading(sim), m))
-                    top = result.top
-                    right = (top is not None and fault != "healthy" and top.fault in accepted_faults(fault)
-                             and (top.component == component or (fault.startswith("misalignment")
-                                                                 and same_joint(m, top.component, component))))
-                    c = 0.0 if result.withheld or top is None else top.certainty
-                    out.append(Answer("simulated", f"{fault} {key} s{seed} x{scale} stage {stage}", c,
-                                      right and not result.withheld, result.withheld))
-    return out
+    rows = run(seeds=seeds, speeds=speeds, sample_rates=(fs,), stages=stages, reasoner=reasoner)
+    return [Answer("simulated", f"{fault} {key} s{seed} x{scale} stage {stage}", 0.0 if withheld else top,
+                   truth, withheld)
+            for fault, key, _c, stage, seed, scale, _fs, _label, _right, top, _dt, withheld, truth in rows]
 
 
 def table(answers: list[Answer]) -> list[str]:
