@@ -29,7 +29,7 @@ from engine.synth import simulate, write_simulation
 N_SAMPLES = 65536
 FS_HZ = 25600.0
 FAULTS = (("healthy", None), ("unbalance", "pump"), ("inner-race", "pump_de"), ("outer-race", "pump_nde"),
-          ("misalignment", "pump"), ("looseness", "pump"))
+          ("misalignment-angular", "pump"), ("looseness-rotating", "pump"))
 POINTS = ("P1H", "P2H", "M2H", "M1H")
 
 
