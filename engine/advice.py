@@ -25,6 +25,8 @@ ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
 # quality issues that make a channel's level meaningless: it gets no zone and no severity
 LEVEL_UNTRUSTED = ("implausible_level", "implausible_spectrum")
+# quality issues that distort a channel's overall level (a DC offset does not: the mean is removed)
+LEVEL_DISTORTED = ("clipping", "dropout", "drift", "dead", "nonfinite", "out_of_range")
 
 
 @dataclass(frozen=True)
@@ -43,6 +45,8 @@ class ZoneReading:
     velocity_rms_mm_s: float
     zone: str
     band_truncated: bool
+    signal_issues: tuple[str, ...] = ()   # quality issues of the channel: its level is not to be trusted
+
 
 
 @dataclass(frozen=True)
@@ -178,8 +182,13 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
     scale = zone_scale(machine, data)
     untrusted = {f["channel"] for f in evidence.facts
                  if f["kind"] == "data_quality" and f["issue"] in LEVEL_UNTRUSTED}
+    issues: dict[str, list[str]] = {}
+    for q in evidence.quality:
+        if q.issue in LEVEL_DISTORTED:
+            issues.setdefault(q.channel, []).append(q.issue)
     zones = tuple(ZoneReading(lv.channel, lv.point, lv.location, lv.velocity_rms_mm_s,
-                              zone_of(lv.velocity_rms_mm_s, scale), lv.band_truncated)
+                              zone_of(lv.velocity_rms_mm_s, scale), lv.band_truncated,
+                              tuple(issues.get(lv.channel, ())))
                   for lv in evidence.levels if lv.channel not in untrusted)
     worst = max((z.zone for z in zones), default=None)
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]

@@ -199,7 +199,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                   "worst": advice.worst_zone, "meaning": advice.zone_meaning,
                   "points": [{"channel": z.channel, "point": z.point, "location": z.location,
                               "velocity_rms_mm_s": round(z.velocity_rms_mm_s, 3), "zone": z.zone,
-                              "band_truncated": z.band_truncated} for z in advice.zones]},
+                              "band_truncated": z.band_truncated, "signal_issues": list(z.signal_issues)}
+                             for z in advice.zones]},
         "chain": [_firing(f) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
         "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},

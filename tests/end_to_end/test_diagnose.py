@@ -250,3 +250,15 @@ def test_demo_writes_reports_and_an_index(tmp_path, reasoner):
     assert (tmp_path / "out/readings/rw2-pump-nde-outer-race.wav").exists()
     assert "withheld" in (tmp_path / "out/bw1-clipped-recording.html").read_text() or \
         "cannot support" in (tmp_path / "out/bw1-clipped-recording.html").read_text()
+
+
+def test_a_clipped_channel_s_zone_carries_its_signal_issue(reasoner):
+    # issue 13: a clipped channel got a zone in the levels table with no flag
+    from engine.synth import clip_channel
+    m = load_machine(RW2)
+    sim = clip_channel(simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2), "M2A", 0.3)
+    doc = document_of(diagnose(as_reading(sim), m, reasoner))
+    rows = {z["channel"]: z for z in doc["zones"]["points"]}
+    assert "clipping" in rows["M2A"]["signal_issues"]
+    assert not rows["P1H"]["signal_issues"]
+    assert "M2A" in render(doc, "text") and "the level is not to be trusted" in render(doc, "text")
