@@ -1,7 +1,8 @@
-"""Helpers the tests share: where the shipped and test files are, and known signals."""
+"""Helpers the tests share: where the shipped and test files are, known signals, an HTML checker."""
 
 from __future__ import annotations
 
+from html.parser import HTMLParser
 from pathlib import Path
 
 import numpy as np
@@ -17,3 +18,33 @@ def tone(freq_hz, fs, n, amplitude=1.0, phase=0.0):
     """A sine of ``amplitude`` (peak) at ``freq_hz``, ``n`` samples at ``fs``."""
     t = np.arange(n) / fs
     return amplitude * np.sin(2 * np.pi * freq_hz * t + phase)
+
+
+class HtmlChecker(HTMLParser):
+    """Feed it HTML: ``errors`` lists end tags that close nothing open, ``stack`` what is left open,
+    ``links`` every src or href that points outside the page."""
+
+    VOID = {"meta", "br", "img", "link", "hr", "input", "area", "base", "col", "source", "wbr"}
+
+    def __init__(self):
+        super().__init__()
+        self.stack, self.errors, self.links = [], [], []
+
+    def _links(self, attrs):
+        self.links += [v for name, v in attrs if name in ("src", "href") and v and not v.startswith("#")]
+
+    def handle_starttag(self, tag, attrs):
+        self._links(attrs)
+        if tag not in self.VOID:
+            self.stack.append(tag)
+
+    def handle_startendtag(self, tag, attrs):
+        self._links(attrs)
+
+    def handle_endtag(self, tag):
+        if tag in self.VOID:
+            return
+        if not self.stack or self.stack[-1] != tag:
+            self.errors.append(f"unexpected </{tag}> (open: {self.stack[-3:]})")
+        else:
+            self.stack.pop()

@@ -5,7 +5,6 @@ from __future__ import annotations
 import json
 import shutil
 import subprocess
-from html.parser import HTMLParser
 
 import jsonschema
 import numpy as np
@@ -20,7 +19,7 @@ from engine.report import render
 from engine.synth import as_reading, simulate, write_simulation
 from engine.yamlfile import load_schema
 
-from support import ROOT
+from support import ROOT, HtmlChecker
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
 CT1 = ROOT / "cases/machines/ct1-cooling-tower-fan.yaml"
 
@@ -88,35 +87,9 @@ def test_json_report_validates_against_its_schema(bearing_doc):
     assert doc["figures"] and all(f["svg"].startswith("<svg") for f in doc["figures"])
 
 
-class _Checker(HTMLParser):
-    VOID = {"meta", "br", "img", "link", "hr", "input", "area", "base", "col", "source", "wbr"}
-
-    def __init__(self):
-        super().__init__()
-        self.stack, self.errors, self.links = [], [], []
-
-    def handle_starttag(self, tag, attrs):
-        for name, value in attrs:
-            if name in ("src", "href") and value and not value.startswith("#"):
-                self.links.append(value)
-        if tag not in self.VOID and not tag.endswith("/"):
-            self.stack.append(tag)
-
-    def handle_startendtag(self, tag, attrs):
-        for name, value in attrs:
-            if name in ("src", "href") and value and not value.startswith("#"):
-                self.links.append(value)
-
-    def handle_endtag(self, tag):
-        if not self.stack or self.stack[-1] != tag:
-            self.errors.append(f"unexpected </{tag}> (open: {self.stack[-3:]})")
-        else:
-            self.stack.pop()
-
-
 def test_html_report_is_well_formed_and_self_contained(bearing_doc):
     html = render(bearing_doc, "html")
-    checker = _Checker()
+    checker = HtmlChecker()
     checker.feed(html)
     assert not checker.errors and not checker.stack
     assert not checker.links, "a self-contained report links to nothing outside itself"

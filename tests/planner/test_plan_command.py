@@ -3,7 +3,6 @@
 import json
 import subprocess
 import sys
-from html.parser import HTMLParser
 
 import jinja2.meta
 import pytest
@@ -14,7 +13,7 @@ from engine.planner import build_plan, load_policy, render_plan
 from engine.report.render import environment
 from engine.synth import simulate, write_simulation
 
-from support import CASES, ROOT, TEST_MACHINES
+from support import CASES, ROOT, TEST_MACHINES, HtmlChecker
 
 MACHINES = sorted((CASES / "machines").glob("*.yaml")) + sorted(TEST_MACHINES.glob("*.yaml"))
 RW2 = CASES / "machines" / "rw2-raw-water-pump.yaml"
@@ -53,32 +52,9 @@ def ct1_plan():
                       given=given_settings(policy, fmax_hz=1000.0, lines=400), with_figures=True)
 
 
-class _Checker(HTMLParser):
-    VOID = {"meta", "br", "line", "polyline", "circle", "rect", "path", "img"}
-
-    def __init__(self):
-        super().__init__()
-        self.stack, self.errors = [], []
-
-    def handle_starttag(self, tag, attrs):
-        if tag not in self.VOID:
-            self.stack.append(tag)
-
-    def handle_startendtag(self, tag, attrs):
-        pass
-
-    def handle_endtag(self, tag):
-        if tag in self.VOID:
-            return
-        if not self.stack or self.stack[-1] != tag:
-            self.errors.append(tag)
-        else:
-            self.stack.pop()
-
-
 def test_html_plan_draws_a_tooth_and_a_bearing_impact_and_escapes_text(ct1_plan):
     html = render_plan(ct1_plan, "html")
-    checker = _Checker()
+    checker = HtmlChecker()
     checker.feed(html)
     assert not checker.errors and not checker.stack
     assert html.count("<svg") == 2 and "tooth impact" in html and "bearing impact" in html
