@@ -19,6 +19,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from ..evidence._match import SLIP_TOLERANCE
+from ..evidence.envelope import DEFECT_RANK, HARMONICS, TIE
 from ..kinematics import bearing_multiples
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
@@ -28,7 +30,7 @@ from .settings import Settings
 from .targets import Target, bearings_at, meshes_at, motors_at, targets_at
 
 EFFECTS = ("blocks", "weakens", "view")
-TWIN_GAP = 0.02     # defect rates closer than this cannot be told apart: bearings slip 1-2 % (common practice)
+TWIN_GAP = SLIP_TOLERANCE   # defect rates closer than this cannot be told apart: bearings slip 1-2 %
 
 
 @dataclass(frozen=True)
@@ -142,11 +144,12 @@ def _severity(machine, point, speeds, policy, targets):
     ]
 
 
-OWN_HARMONICS = 5       # the envelope search looks at this many harmonics of a race or ball rate
-OWN_TIE = 0.01          # lines within 1 % are one line to the envelope's ownership test (engine/evidence/envelope.py)
+OWN_HARMONICS = HARMONICS["BPFO"]   # the harmonics the envelope search looks at for a race or ball rate
 
 
-RANK = {"BPFO": 0, "BPFI": 0, "2 x BSF": 1, "FTF": 2}   # races before the ball rate before the cage
+# the envelope's own ranks (races before the ball rate before the cage), by the names used here
+RANK = {name: DEFECT_RANK[defect] for name, defect in
+        (("BPFO", "BPFO"), ("BPFI", "BPFI"), ("2 x BSF", "BSF"), ("FTF", "FTF"))}
 
 
 def _own_harmonics(rate: float, me: tuple, others: list, at: str | None) -> tuple[int, str]:
@@ -158,7 +161,7 @@ def _own_harmonics(rate: float, me: tuple, others: list, at: str | None) -> tupl
     for k in range(1, OWN_HARMONICS + 1):
         mine = (k, RANK[me[1]], me[0] != at)
         rivals = [((j, RANK[who[1]], who[0] != at), who, j) for who, r in others if who != me
-                  for j in range(1, OWN_HARMONICS + 1) if abs(j * r / (k * rate) - 1) < OWN_TIE]
+                  for j in range(1, OWN_HARMONICS + 1) if abs(j * r / (k * rate) - 1) < TIE]
         best = min(rivals, default=None)
         if best is None or mine <= best[0]:
             own += 1
