@@ -92,7 +92,7 @@ def test_a_single_diagnosis_with_the_store_shows_its_trend(surveyed, capsys):
 
 @pytest.mark.parametrize("which", ["summary", "trend"])
 def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, which):
-    from end_to_end.test_diagnose import _Checker
+    from support import HtmlChecker
 
     from engine.history.store import Store
     from engine.route import render_summary
@@ -109,7 +109,7 @@ def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, whic
             doc = trend_document(s, PUMP, plots=True)
         doc["machine"] = "<script>alert(1)</script>"
         html = render_trend(doc, "html")
-    checker = _Checker()
+    checker = HtmlChecker()
     checker.feed(html)
     assert not checker.errors and not checker.stack
     assert "<script>alert" not in html and "&lt;script&gt;" in html
