@@ -11,8 +11,9 @@ slip tolerance of each other, or a cage rate whose harmonics fall on a race
 rate (BPFO = n x FTF). Each line found is therefore given to the family that
 explains it best (the closest match; when two matches lie within 1 % of each
 other, which slip alone can cause, the lower harmonic, then a race or ball rate
-before the cage, then the bearing under the sensor), and each fact
-says how many of its harmonics it owns, how exactly they match, and on which
+before the cage, then the bearing under the sensor); a line that a stronger
+family's first-order sideband (1X for a race, FTF for a ball) explains better is
+that family's too. Each fact says how many of its harmonics it owns, how exactly they match, and on which
 channel the family stands out most: the measurements the rulebooks' rivalry
 rules weigh.
 """
@@ -81,7 +82,38 @@ def _owners(defects, all_found, location: str | None) -> dict[tuple[int, int], b
         winner = min(close, key=lambda e: (e[1], e[2], e[3], e[0]))
         for e in entries:
             owned[(e[4], e[1])] = e is winner
+    _give_sidebands(defects, all_found, owned)
     return owned
+
+
+SIDEBAND_OF = {"BPFO": "shaft_hz", "BPFI": "shaft_hz", "BSF": "ftf_hz"}
+
+
+def _give_sidebands(defects, all_found, owned) -> None:
+    """Take from a family the lines that a stronger family's first-order sideband explains better.
+
+    A race tone modulated at 1X, or a ball tone at FTF, puts lines at k x rate
+    +- the modulation; a sideband of a strong carrier can fall within slip of
+    another family's harmonic (for a 6203, BPFO + 1X lies 1.6 % from 2 x BSF).
+    Such a line is the stronger family's when it sits closer to the measured
+    carrier +- the modulation than to the other family's expected harmonic by
+    more than TIE, and the carrier stands higher than the line.
+    """
+    carriers = [(t, peak.line, peak.snr, peak.freq_hz, getattr(b, SIDEBAND_OF[defect]))
+                for t, ((b, defect, _), found) in enumerate(zip(defects, all_found)) if defect in SIDEBAND_OF
+                for k, peak in found.items() if owned[(t, k)]]
+    if not carriers:
+        return
+    family, line, snr, freq, mod = (np.array(column) for column in zip(*carriers))
+    sidebands = np.concatenate([freq - mod, freq + mod])
+    for t, ((_, _, rate), found) in enumerate(zip(defects, all_found)):
+        for k, peak in found.items():
+            if not owned[(t, k)]:
+                continue
+            own_error = abs(peak.freq_hz / (k * rate) - 1)
+            claims = np.tile((family != t) & (line != peak.line) & (snr > peak.snr), 2)
+            if claims.any() and np.min(np.abs(peak.freq_hz / sidebands[claims] - 1)) + TIE < own_error:
+                owned[(t, k)] = False
 
 
 def envelope_evidence(rc: Analysis) -> list[dict]:

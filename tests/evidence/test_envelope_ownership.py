@@ -1,0 +1,67 @@
+"""Which family owns an envelope line: harmonics first, then a stronger family's sidebands.
+
+Geometry of the 6203 (CWRU fan-end bearing; multiples from the CWRU documentation as
+../shared/datasets/README.md, section 2.3, tabulates them):
+BPFO = 3.053 x, 2 x BSF = 3.987 x shaft speed, so BPFO + 1X lies 1.6 % from
+2 x BSF, within a bearing's 1-2 % slip (Randall & Antoni 2011).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from engine.analysis.peaks import Peak
+from engine.evidence.envelope import _defects, _owners
+from engine.kinematics import rates_at
+from engine.machine import load_machine
+from support import ROOT
+
+CWRU = load_machine(ROOT / "tests/machines/cwru-motor.yaml")
+SHAFT_HZ = 1797 / 60
+
+
+def _families():
+    rates = rates_at(CWRU, {"motor": SHAFT_HZ})
+    defects = [d for d in _defects(type("R", (), {"rates": rates})()) if d[0].bearing == "fan_end"]
+    return defects, {d[1]: i for i, d in enumerate(defects)}
+
+
+def _peak(freq_hz: float, snr: float) -> Peak:
+    return Peak(freq_hz, snr, int(round(freq_hz * 10)), snr)
+
+
+def test_the_6203_geometry_puts_bpfo_plus_1x_within_slip_of_the_ball_rate():
+    defects, at = _families()
+    bpfo, ball = defects[at["BPFO"]][2], defects[at["BSF"]][2]
+    assert bpfo / SHAFT_HZ == pytest.approx(3.053, abs=0.002)       # CWRU bearing documentation
+    assert ball / SHAFT_HZ == pytest.approx(3.987, abs=0.003)       # 2 x BSF, same source
+    assert abs((bpfo + SHAFT_HZ) / ball - 1) < 0.02
+
+
+def test_a_line_at_bpfo_plus_1x_belongs_to_the_stronger_outer_race_family():
+    defects, at = _families()
+    found = [{} for _ in defects]
+    bpfo = defects[at["BPFO"]][2]
+    found[at["BPFO"]] = {k: _peak(k * bpfo, 200.0) for k in (1, 2, 3)}
+    found[at["BSF"]] = {1: _peak(bpfo + SHAFT_HZ, 12.0)}
+    owned = _owners(defects, found, "fan_end")
+    assert owned[(at["BPFO"], 1)]
+    assert not owned[(at["BSF"], 1)]
+
+
+def test_a_line_at_the_exact_ball_rate_stays_the_ball_family_s():
+    defects, at = _families()
+    found = [{} for _ in defects]
+    bpfo, ball = defects[at["BPFO"]][2], defects[at["BSF"]][2]
+    found[at["BPFO"]] = {1: _peak(bpfo, 200.0)}
+    found[at["BSF"]] = {1: _peak(ball, 12.0)}
+    assert _owners(defects, found, "fan_end")[(at["BSF"], 1)]
+
+
+def test_a_weaker_carrier_claims_no_sideband():
+    defects, at = _families()
+    found = [{} for _ in defects]
+    bpfo = defects[at["BPFO"]][2]
+    found[at["BPFO"]] = {1: _peak(bpfo, 5.0)}
+    found[at["BSF"]] = {1: _peak(bpfo + SHAFT_HZ, 12.0)}
+    assert _owners(defects, found, "fan_end")[(at["BSF"], 1)]
