@@ -21,7 +21,7 @@ ROOT = Path(__file__).resolve().parent.parent
 from engine.evidence import extract_evidence
 from engine.machine import load_machine
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
-from engine.synth import as_reading, simulate
+from engine.synth import as_reading, runs_at, simulate
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",
@@ -97,6 +97,8 @@ def run(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.0), st
             for scale in speeds:
                 for fs in sample_rates:
                     for stage in (stages if fault != "healthy" else (1,)):
+                        if not runs_at(m, fault, component, nominal * scale):
+                            continue
                         sim = simulate(m, fault, component, stage, nominal * scale, fs, duration_s, seed)
                         facts = extract_evidence(as_reading(sim), m)
                         t0 = time.perf_counter()

@@ -36,6 +36,21 @@ from typing import Mapping
 from .machine import Bearing, Machine
 
 BEARING_DEFECTS = ("BPFO", "BPFI", "BSF", "FTF")
+MAX_LINE_FED_SLIP = 0.10    # rated slip is 1-5 %; past about 10 % a motor is near pull-out (common practice)
+
+
+def pole_pass_hz(line_frequency_hz: float, poles: int, shaft_hz: float) -> float | None:
+    """Pole pass frequency p (f_s - fr) of a line-fed induction motor, in Hz.
+
+    None when the shaft turns at or above synchronous speed, or slips more than
+    MAX_LINE_FED_SLIP: such a motor is not running steadily on the stated line
+    frequency (a drive feeds it), and its pole pass frequency is unknown.
+    """
+    sync_hz = 2 * line_frequency_hz / poles
+    slip_hz = sync_hz - shaft_hz
+    if slip_hz <= 0 or slip_hz > MAX_LINE_FED_SLIP * sync_hz:
+        return None
+    return poles * slip_hz
 
 
 @dataclass(frozen=True)
@@ -190,7 +205,7 @@ def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
         sync_hz = 2 * mot.line_frequency_hz / mot.poles
         slip_hz = sync_hz - fr
         motors.append(MotorRates(mot.id, mot.shaft, mot.line_frequency_hz, 2 * mot.line_frequency_hz, sync_hz,
-                                 slip_hz, mot.poles * slip_hz if slip_hz > 0 else None,
+                                 slip_hz, pole_pass_hz(mot.line_frequency_hz, mot.poles, fr),
                                  mot.rotor_bars * fr if mot.rotor_bars else None))
     belts = [BeltRates(b.id, b.driving_shaft, b.driven_shaft,
                        math.pi * b.driving_diameter_mm * speeds_hz[b.driving_shaft] / b.belt_length_mm)
@@ -223,7 +238,7 @@ def forcing_list(rates: Rates) -> list[ForcingFrequency]:
         add(r.name, r.rotor, "rotor", r.shaft, r.pass_hz)
     for m in rates.motors:
         add("2xLF", m.motor, "electrical", m.shaft, m.twice_line_hz)
-        if m.slip_hz > 0:
+        if m.pole_pass_hz is not None:
             add("slip", m.motor, "electrical", m.shaft, m.slip_hz)
             add("pole pass", m.motor, "electrical", m.shaft, m.pole_pass_hz)
         if m.rotor_bar_hz:

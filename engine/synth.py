@@ -38,7 +38,7 @@ import numpy as np
 import yaml
 
 from .errors import UsageError
-from .kinematics import bearing_multiples
+from .kinematics import MAX_LINE_FED_SLIP, bearing_multiples, pole_pass_hz
 from .machine import Machine, Point
 from .outfile import check_target, staged, write_whole
 from .units import STANDARD_GRAVITY_M_S2
@@ -101,6 +101,19 @@ class Simulation:
 def _velocity_tone_accel(v_mm_s_rms: float, f_hz: float) -> float:
     """Acceleration amplitude (m/s^2 peak) of a tone of ``v_mm_s_rms`` velocity at ``f_hz``."""
     return v_mm_s_rms * 1e-3 * math.sqrt(2) * 2 * math.pi * f_hz
+
+
+ROTOR_BAR_1X_MM_S = 1.2     # 1X the broken-bar model adds, mm/s RMS
+
+
+def rotor_bar_sideband_db(stage: int) -> float:
+    """First pole-pass sideband below 1X in dB: -23 dB at stage 1 rising 5 dB a stage.
+
+    Amplitude modulation of depth m puts each sideband at m/2 of its carrier, so
+    a sideband can never stand above -6 dB; broken bars modulate 1X by a few to
+    some tens of percent (common practice), -23 to -8 dB over the four stages.
+    """
+    return -28.0 + 5.0 * stage
 
 
 RING_RESPONSES = ("displacement", "acceleration")
@@ -354,6 +367,18 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
     raise UsageError(f"no {kind} {component!r} in {machine.name!r}")
 
 
+def runs_at(machine: Machine, fault: str, component: str | None, speed_rpm: float) -> bool:
+    """Whether ``fault`` can show at ``speed_rpm``: broken rotor bars need their motor on its line
+    frequency at a real slip (a pole pass frequency to modulate 1X at)."""
+    if fault != "rotor-bar":
+        return True
+    mot = next((mm for mm in machine.motors if mm.id == (component or _default_component(machine, fault))), None)
+    if mot is None:
+        return True
+    shaft_hz = machine.speeds_at(speed_rpm)[mot.shaft]
+    return pole_pass_hz(mot.line_frequency_hz, mot.poles, shaft_hz) is not None
+
+
 def simulate(machine: Machine, fault: str = "healthy", component: str | None = None, stage: int = 2,
              speed_rpm: float | None = None, fs_hz: float = 25600.0, duration_s: float = 4.0,
              seed: int = 0, points: list[str] | None = None, also=(),
@@ -399,6 +424,10 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     model = _Model(machine, speeds, fs_hz, n, rng, ring_response)
     if FAULTS[fault] is not None and component is None:
         component = _default_component(machine, fault)
+    if not runs_at(machine, fault, component, speed_rpm):
+        raise UsageError(f"motor {component!r} at {speed_rpm:.0f} rpm is not running on its line frequency "
+                         f"with a slip of 0-{MAX_LINE_FED_SLIP:.0%}: broken rotor bars have no pole pass "
+                         "frequency to show there")
     fault_shafts = _component_shafts(machine, fault, component) if component else set()
     chosen = [p for p in machine.points if points is None or p.id in points]
     drawn_hz = min(rng.uniform(2500, 4500), 0.3 * fs_hz)   # drawn always: the same seed, the same stream
@@ -449,12 +478,14 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
                 x += gain * model.tone(f2, _velocity_tone_accel(1.5 * stage, f2))
             else:
                 fr = speeds[mot.shaft]
-                fp = mot.poles * (2 * mot.line_frequency_hz / mot.poles - fr)
-                x += gain * model.shaft_tone(mot.shaft, 1, 1.2)
+                fp = pole_pass_hz(mot.line_frequency_hz, mot.poles, fr)
+                if near:    # the magnetic pull raises 1X at the motor's own bearings; sidebands travel on
+                    x += gain * model.shaft_tone(mot.shaft, 1, ROTOR_BAR_1X_MM_S)
                 for k in (1, 2):
+                    side_mm_s = ROTOR_BAR_1X_MM_S * 10 ** (rotor_bar_sideband_db(stage) / 20) / k
                     for sgn in (-1, 1):
                         f = fr + sgn * k * fp
-                        x += gain * model.tone(f, _velocity_tone_accel(0.35 * stage / k, f), rng.uniform(0, 6.3))
+                        x += gain * model.tone(f, _velocity_tone_accel(side_mm_s, f), rng.uniform(0, 6.3))
         channels[p.id] = x
     for i, (other, other_component, other_stage) in enumerate(also):
         part = simulate(machine, other, other_component, other_stage, speed_rpm, fs_hz, duration_s,

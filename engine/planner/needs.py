@@ -21,7 +21,7 @@ from dataclasses import dataclass, field
 
 from ..evidence._match import SLIP_TOLERANCE
 from ..evidence.envelope import DEFECT_RANK, HARMONICS, TIE
-from ..kinematics import bearing_multiples
+from ..kinematics import bearing_multiples, pole_pass_hz
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
@@ -399,7 +399,7 @@ def _electrical(machine, point, speeds, policy, targets):
     for m in motors_at(machine, point):
         fr = speeds[m.shaft]
         two_lf = 2 * m.line_frequency_hz
-        pole_pass = m.poles * (2 * m.line_frequency_hz / m.poles - fr)
+        pole_pass = pole_pass_hz(m.line_frequency_hz, m.poles, fr)
         stator = next(t for t in targets if t.component == m.id and t.signature == "stator")
         bars = next(t for t in targets if t.component == m.id and t.signature == "rotor-bar")
         needs.append(Need("electrical", "fmax", f"twice line frequency of {m.id} ({two_lf:g} Hz)", two_lf, "blocks",
@@ -412,7 +412,7 @@ def _electrical(machine, point, speeds, policy, targets):
                 "electrical", "resolution", f"2xLF ({two_lf:g} Hz) beside {k}X of {m.shaft} ({k * fr:.2f} Hz)", gap,
                 "weakens", ((stator, "twice-line"),), "twice line frequency must stand apart from the shaft harmonic",
                 lines=sep, source="lines_between_carrier_and_sideband"))
-        if pole_pass > 0:
+        if pole_pass is not None:
             needs += [
                 Need("electrical", "fmax", f"1X of {m.shaft} with two pole-pass sidebands", fr + 2 * pole_pass,
                      "blocks", ((bars, "pole-pass"),), "rotor bar damage modulates 1X at the pole pass frequency",

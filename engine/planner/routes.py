@@ -54,7 +54,22 @@ def least(rule: str, kind: str, field: str) -> float:
         for c in pattern.conditions:
             if c.field == field and c.op in ("at_least", "above") and isinstance(c.value, (int, float)):
                 return float(c.value)
+            if c.field == field and c.op == "between":
+                return float(c.value[0])
     raise KeyError(f"rule {rule} puts no lower bound on {kind}.{field}")
+
+
+def most(rule: str, kind: str, field: str) -> float:
+    """The upper bound rule ``rule`` puts on ``field`` of a ``kind`` fact (+inf when it puts none)."""
+    for pattern in _shipped_rules().rule(rule).needs:
+        if pattern.kind != kind:
+            continue
+        for c in pattern.conditions:
+            if c.field == field and c.op in ("at_most", "below") and isinstance(c.value, (int, float)):
+                return float(c.value)
+            if c.field == field and c.op == "between":
+                return float(c.value[1])
+    return float("inf")
 
 
 @dataclass(frozen=True)
@@ -205,9 +220,10 @@ def _pole_pass(facts, t, ref):
     if not seen:
         return Outcome(False, "no pole-pass sidebands beside 1X")
     best = max(seen, key=lambda f: (f["pairs"], f["sideband_to_carrier_db"]))
-    ok = best["pairs"] >= pairs and best["sideband_to_carrier_db"] >= level
+    top = most(rule, "sideband_family", "sideband_to_carrier_db")
+    ok = best["pairs"] >= pairs and level <= best["sideband_to_carrier_db"] <= top
     text = f"{best['pairs']} pole-pass sideband pairs, {best['sideband_to_carrier_db']:.0f} dB"
-    return Outcome(ok, text if ok else f"{text} (needs {pairs:g} pair, {level:g} dB)")
+    return Outcome(ok, text if ok else f"{text} (needs {pairs:g} pair, {level:g} to {top:g} dB)")
 
 
 def _severity(facts, t, ref):

@@ -88,8 +88,8 @@ def test_routes_read_their_bounds_from_the_rules_they_mirror():
     for rule_id, fields in THRESHOLDS.items():
         rule = book.rule(rule_id)
         for kind, field in fields:
-            bounds = [c.value for p in rule.needs if p.kind == kind for c in p.conditions
-                      if c.field == field and c.op in ("at_least", "above")]
+            bounds = [c.value if c.op != "between" else c.value[0] for p in rule.needs if p.kind == kind
+                      for c in p.conditions if c.field == field and c.op in ("at_least", "above", "between")]
             assert bounds and least(rule_id, kind, field) == bounds[0], (rule_id, kind, field)
 
 

@@ -34,8 +34,9 @@ def test_shipped_rulebooks_cover_every_fault_family():
 
 # Each simulated fault at two (seed, speed) settings: the top hypothesis must be the true fault
 # on the true component, and a healthy machine must not reach a confident certainty.
+# A line-fed motor slips 1-5 %: its rotor-bar case varies the speed by 1 % (85 % would be 15 % slip).
 GRID = [(fault, mk, comp, seed, speed) for fault, mk, comp in confusion.SCENARIOS
-        for seed, speed in ((0, 1.0), (1, 0.85))]
+        for seed, speed in ((0, 1.0), (1, 0.99 if fault == "rotor-bar" else 0.85))]
 
 
 @pytest.mark.parametrize("fault, machine, component, seed, speed", GRID,
