@@ -68,7 +68,7 @@ def test_real_envelope_line_at_the_documented_bpfo(reasoner):
                     reason="../shared/datasets is not beside this checkout (the excerpts above still ran)")
 def test_every_shared_bearing_record_meets_the_goal(reasoner):
     # labels: ../shared/datasets/index.csv (CWRU Bearing Data Center, MFPT Society, HIT-SM); clear and
-    # hard: Smith & Randall (2015), MSSP 64-65, benchmark method 3 categories
+    # hard: Smith & Randall (2015), MSSP 64-65, the drive-end category by a majority of their three methods
     from bench import real_data
 
     rows = real_data.run(SHARED, reasoner=reasoner, progress=lambda *_: None)
@@ -77,8 +77,10 @@ def test_every_shared_bearing_record_meets_the_goal(reasoner):
     normal = [r for r in rows if r.group == "normal"]
     calls = [r for r in rows if r.call]
     wrong = [r for r in calls if not r.right]
-    assert sum(r.acceptable for r in races) >= 0.97 * len(races), [r.path for r in races if not r.acceptable]
-    assert sum(r.acceptable for r in balls) >= 0.6 * len(balls), [r.path for r in balls if not r.acceptable]
+    assert all(r.acceptable for r in races), [r.path for r in races if not r.acceptable]
+    assert all(r.acceptable for r in balls), [r.path for r in balls if not r.acceptable]
     assert all(r.acceptable for r in normal), [(r.path, r.top, r.certainty) for r in normal if not r.acceptable]
+    # one defect, one call: no further wrong fault reaches 50 % beside the top one
+    assert not any(r.others for r in rows), [(r.path, r.others) for r in rows if r.others]
     # a certainty is a promise: at least 95 % of the calls at 50 % or more are right
     assert len(calls) - len(wrong) >= 0.95 * len(calls), [(r.path, r.top, r.certainty) for r in wrong]
