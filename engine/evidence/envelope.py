@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import SLIP_TOLERANCE, db, find_lines, tolerance_hz
+from ._match import SLIP_TOLERANCE, SPEED_TOLERANCE, db, find_lines, tolerance_hz
 from ..analysis import Analysis
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
@@ -87,6 +87,7 @@ def _owners(defects, all_found, location: str | None) -> dict[tuple[int, int], b
 
 
 SIDEBAND_OF = {"BPFO": "shaft_hz", "BPFI": "shaft_hz", "BSF": "ftf_hz"}
+SIDEBAND_MARGIN = SPEED_TOLERANCE   # a sideband's place is known to the speed's precision, a family's only to slip
 
 
 def _give_sidebands(defects, all_found, owned) -> None:
@@ -97,7 +98,9 @@ def _give_sidebands(defects, all_found, owned) -> None:
     another family's harmonic (for a 6203, BPFO + 1X lies 1.6 % from 2 x BSF).
     Such a line is the stronger family's when it sits closer to the measured
     carrier +- the modulation than to the other family's expected harmonic by
-    more than TIE, and the carrier stands higher than the line.
+    more than SIDEBAND_MARGIN (the carrier is measured and the speed refined to
+    0.5 %; the other family's rate is known only to its 1-2 % slip), and the
+    carrier stands higher than the line.
     """
     carriers = [(t, peak.line, peak.snr, peak.freq_hz, getattr(b, SIDEBAND_OF[defect]))
                 for t, ((b, defect, _), found) in enumerate(zip(defects, all_found)) if defect in SIDEBAND_OF
@@ -112,7 +115,7 @@ def _give_sidebands(defects, all_found, owned) -> None:
                 continue
             own_error = abs(peak.freq_hz / (k * rate) - 1)
             claims = np.tile((family != t) & (line != peak.line) & (snr > peak.snr), 2)
-            if claims.any() and np.min(np.abs(peak.freq_hz / sidebands[claims] - 1)) + TIE < own_error:
+            if claims.any() and np.min(np.abs(peak.freq_hz / sidebands[claims] - 1)) + SIDEBAND_MARGIN < own_error:
                 owned[(t, k)] = False
 
 

@@ -10,7 +10,7 @@ from engine.kinematics import pole_pass_hz
 from engine.machine import load_machine
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.synth import as_reading, simulate
-from support import CASES
+from support import CASES, ROOT
 
 RW2 = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")
 
@@ -75,3 +75,15 @@ def test_pole_pass_frequency_of_a_line_fed_motor():
 def test_the_simulator_refuses_broken_bars_where_the_motor_cannot_run_on_its_line():
     with pytest.raises(UsageError, match="slip"):
         simulate(RW2, "rotor-bar", "M-RW2", 3, 0.85 * 1486, 12800.0, 1.0, 0)
+
+
+def test_a_ball_defect_s_cage_rate_modulation_counts_against_a_cage_call(reasoner):
+    # a damaged ball rides with the cage: its tones carry FTF sidebands and FTF shows in the envelope
+    # (Randall & Antoni 2011, section 2.1); the cage rate is then the ball defect's, not a cage fault's
+    cwru = load_machine(ROOT / "tests/machines/cwru-motor.yaml")
+    facts = extract_evidence(as_reading(simulate(cwru, "rolling-element", "drive_end", 2, 1797, 12000.0, 4.0, 0)), cwru)
+    result = reasoner.reason(facts)
+    assert (result.top.fault, result.top.component) == ("rolling-element", "drive_end")
+    cage = _hypothesis(result, "cage", "drive_end")
+    assert "bearing.cage.ball-modulation" in {f.rule_id for f in cage.against}
+    assert cage.certainty < CONFIDENT
