@@ -13,9 +13,9 @@ explains it best (the closest match; when two matches lie within 1 % of each
 other, which slip alone can cause, the lower harmonic, then a race or ball rate
 before the cage, then the bearing under the sensor); a line that a stronger
 family's first-order sideband (1X for a race, FTF for a ball) explains better is
-that family's too. Each fact says how many of its harmonics it owns, how exactly they match, and on which
-channel the family stands out most: the measurements the rulebooks' rivalry
-rules weigh.
+that family's too. Each fact says how many of its harmonics it owns, how
+exactly they match, and on which channel the family stands out most: the
+measurements the rulebooks' rivalry rules weigh.
 """
 
 from __future__ import annotations

@@ -45,31 +45,36 @@ def _shipped_rules():
     return load_rulebook()
 
 
-def least(rule: str, kind: str, field: str) -> float:
-    """The lower bound rule ``rule`` of the shipped rulebooks puts on ``field`` of a ``kind`` fact
-    (parameters resolved), so the planner judges evidence exactly as the rule does."""
+def _bounds(rule: str, kind: str, field: str) -> tuple[float | None, float | None]:
+    """The (lower, upper) bounds rule ``rule`` of the shipped rulebooks puts on ``field`` of a ``kind``
+    fact, parameters resolved (None where it puts none)."""
+    lower = upper = None
     for pattern in _shipped_rules().rule(rule).needs:
-        if pattern.kind != kind:
-            continue
-        for c in pattern.conditions:
-            if c.field == field and c.op in ("at_least", "above") and isinstance(c.value, (int, float)):
-                return float(c.value)
-            if c.field == field and c.op == "between":
-                return float(c.value[0])
-    raise KeyError(f"rule {rule} puts no lower bound on {kind}.{field}")
+        for c in pattern.conditions if pattern.kind == kind else ():
+            if c.field != field:
+                continue
+            if c.op == "between":
+                lower, upper = float(c.value[0]), float(c.value[1])
+            elif c.op in ("at_least", "above") and isinstance(c.value, (int, float)):
+                lower = float(c.value)
+            elif c.op in ("at_most", "below") and isinstance(c.value, (int, float)):
+                upper = float(c.value)
+    return lower, upper
+
+
+def least(rule: str, kind: str, field: str) -> float:
+    """The lower bound ``rule`` puts on ``field`` of a ``kind`` fact, so the planner judges evidence
+    exactly as the rule does."""
+    lower = _bounds(rule, kind, field)[0]
+    if lower is None:
+        raise KeyError(f"rule {rule} puts no lower bound on {kind}.{field}")
+    return lower
 
 
 def most(rule: str, kind: str, field: str) -> float:
-    """The upper bound rule ``rule`` puts on ``field`` of a ``kind`` fact (+inf when it puts none)."""
-    for pattern in _shipped_rules().rule(rule).needs:
-        if pattern.kind != kind:
-            continue
-        for c in pattern.conditions:
-            if c.field == field and c.op in ("at_most", "below") and isinstance(c.value, (int, float)):
-                return float(c.value)
-            if c.field == field and c.op == "between":
-                return float(c.value[1])
-    return float("inf")
+    """The upper bound ``rule`` puts on ``field`` of a ``kind`` fact (+inf when it puts none)."""
+    upper = _bounds(rule, kind, field)[1]
+    return float("inf") if upper is None else upper
 
 
 @dataclass(frozen=True)
