@@ -150,6 +150,28 @@ def _impact_times(rate_hz: float, duration_s: float, rng, slip: float = 0.01) ->
     return times[times < duration_s]
 
 
+def _periodic_impact_signal(first_s: float, period_s: float, amplitude: float, fs: float, n: int,
+                            ring: np.ndarray) -> np.ndarray:
+    """Identical impacts exactly ``period_s`` apart from ``first_s``, at their true (sub-sample) instants.
+
+    A strictly periodic train is synchronous: its spectrum holds lines at its
+    harmonics only. Rounding each instant to a sample would add a repeating
+    timing pattern (the period's fractional part in samples) that shows as
+    non-synchronous lines once the synchronous part is taken out. The train is
+    therefore built in the frequency domain, where the sum of the impacts'
+    phase terms is a geometric series, and convolved with the ring there; the
+    record is padded by the ring's length so that nothing wraps round.
+    """
+    count = int(np.floor((n / fs - first_s) / period_s)) + 1 if first_s < n / fs else 0
+    m = n + len(ring)
+    f = np.fft.rfftfreq(m, 1.0 / fs)
+    z = np.exp(-2j * np.pi * f * period_s)
+    near_one = np.abs(1 - z) < 1e-9
+    series = np.where(near_one, count, (1 - z ** count) / np.where(near_one, 1, 1 - z))
+    spectrum = amplitude * np.exp(-2j * np.pi * f * first_s) * series * np.fft.rfft(ring, m)
+    return np.fft.irfft(spectrum, m)[:n]
+
+
 def _impact_signal(times, amplitudes, fs, n, ring) -> np.ndarray:
     from scipy import signal
 
@@ -278,7 +300,7 @@ def _gear_fault(m: _Model, fault: str, mesh_id: str, stage: int, resonance_hz: f
         first = m.rng.uniform(0, 1 / f_gear)
         times = np.arange(first, m.n / m.fs, 1 / f_gear)
         ring = _resonance_ring(m.fs, resonance_hz, damping=0.05, response=m.ring_response)
-        x += _impact_signal(times, np.full(len(times), {1: 0.5, 2: 1.5, 3: 3.0, 4: 6.0}[stage] * G), m.fs, m.n, ring)
+        x += _periodic_impact_signal(first, 1 / f_gear, {1: 0.5, 2: 1.5, 3: 3.0, 4: 6.0}[stage] * G, m.fs, m.n, ring)
         window = np.exp(-0.5 * ((((t - first) * f_gear + 0.5) % 1.0 - 0.5) / (0.5 / teeth)) ** 2)
         x += base * (1 + 0.8 * stage * window) * np.sin(2 * np.pi * gmf * t)
         return x, {"impact_times_s": times}

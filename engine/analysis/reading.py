@@ -33,7 +33,7 @@ from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
 from .spectrum import Spectrum, Transform, integrate
 from .speed import SpeedEstimate, half_and_double, refine_speeds, speed_from_tones
-from .synchronous import SynchronousEvents, events_of_rows, revolution_rows
+from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
 
 SPEED_SEARCH_FRACTION = 0.05   # a stated or nominal speed may be several percent off
 ENVELOPE_HARMONICS = 5          # the SES shows this many harmonics of the fastest defect rate
@@ -224,30 +224,37 @@ def _speed_from_mesh(spectrum: Spectrum, fr: float, orders: tuple[int, ...]) -> 
 
 
 def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
-                 spectrum: Spectrum) -> dict[str, SynchronousEvents]:
-    """Once-per-revolution events of every shaft that turns often enough in the record.
+                 spectrum: Spectrum) -> tuple[dict[str, SynchronousEvents], np.ndarray]:
+    """Once-per-revolution events of every shaft that turns often enough in the record, and the record
+    less the synchronous average of each such shaft (what the bearing envelope analysis looks at).
 
     Shafts at one speed (a motor and the gear shaft it drives) are one set of
     revolutions, cut once at the speed their mesh line gives; each shaft's
-    difference signal then leaves out its own meshes.
+    difference signal then leaves out its own meshes. The speeds are taken
+    fastest first, each average from what the faster ones left.
     """
     groups: dict[float, list[str]] = {}
     for shaft, fr in rates.shafts_hz.items():
         if duration_s * fr >= TSA_MIN_REVOLUTIONS and fs / fr >= TSA_MIN_SAMPLES_PER_REV:
             groups.setdefault(round(fr, 9), []).append(shaft)
     out: dict[str, SynchronousEvents] = {}
-    for fr, shafts in groups.items():
+    rest = accel
+    for fr, shafts in sorted(groups.items(), reverse=True):
         orders = {shaft: tuple(sorted(rates.mesh_orders(shaft))) for shaft in shafts}
         every = tuple(sorted({z for zs in orders.values() for z in zs}))
         spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
-        rows = revolution_rows(accel, fs, _speed_from_mesh(spectrum, fr, every), spr)
+        speed_hz = _speed_from_mesh(spectrum, fr, every)
+        rows = revolution_rows(accel, fs, speed_hz, spr)
         done: dict[tuple[int, ...], SynchronousEvents | None] = {}
         for shaft in shafts:
             if orders[shaft] not in done:
                 done[orders[shaft]] = events_of_rows(rows, list(orders[shaft]))
             if done[orders[shaft]] is not None:
                 out[shaft] = done[orders[shaft]]
-    return out
+        if len(rows):
+            rest_rows = rows if rest is accel else revolution_rows(rest, fs, speed_hz, spr)
+            rest = rest - synchronous_part(rest_rows, len(accel), fs, speed_hz)
+    return out, rest
 
 
 def _impact_candidates_hz(rates: Rates) -> list[float]:
@@ -317,11 +324,15 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     rates = rates_at(machine, speeds)
     defects = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
     fastest = max(defects) if defects else None
-    envelopes = {ch.name: _envelopes(accel[ch.name], fs, fastest) for ch in usable}
+    synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
+                   for ch in usable}
+    envelopes = {ch.name: _envelopes(synchronous[ch.name][1], fs, fastest) for ch in usable}
     if not speed.refined and defects:
         speed = _speed_from_envelopes([e[1] for e in envelopes.values()], rates, speed)
         speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
         rates = rates_at(machine, speeds)
+        synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
+                       for ch in usable}
     candidates = _impact_candidates_hz(rates)
     loudest = max(velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
     check = half_and_double(velocity[loudest], speed.speed_hz, SPEED_SEARCH_FRACTION)
@@ -339,7 +350,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
             levels=levels_of(a, iso[ch.name], fs, "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
-            synchronous=MappingProxyType(_synchronous(a, fs, rates, reading.duration_s, spectra[ch.name])),
+            synchronous=MappingProxyType(synchronous[ch.name][0]),
             issues=tuple(reading.issues_for(ch.name)),
         ))
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),

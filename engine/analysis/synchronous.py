@@ -97,6 +97,25 @@ def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: 
     return rows
 
 
+def synchronous_part(rows: np.ndarray, n: int, fs: float, speed_hz: float) -> np.ndarray:
+    """The time synchronous average of ``rows`` (from ``revolution_rows``) laid back on the record's
+    ``n`` samples: what repeats exactly once per turn, at every turn.
+
+    Subtracted from the record it leaves the part that does not repeat with
+    the shaft (bearing impacts, with their random slip), the way gear signals
+    are removed before a bearing's envelope analysis (Randall & Antoni 2011,
+    "Rolling element bearing diagnostics - a tutorial", MSSP 25(2), section
+    3.1; McFadden 1987 for the average). Each sample's angle is its time times
+    the speed, from the first revolution's start at t = 0; the average is
+    read there by cubic convolution, periodically.
+    """
+    tsa = rows.mean(axis=0)
+    spr = len(tsa)
+    positions = np.arange(n) * (speed_hz * spr / fs) % spr
+    periodic = np.concatenate((tsa[-1:], tsa, tsa[:2]))
+    return resample_at(periodic, positions + 1.0)
+
+
 def tach_pulse_times(tach, fs: float, pulses_per_rev: int = 1, threshold: float | None = None) -> np.ndarray:
     """Times (s) of the rising threshold crossings of a tach signal, one per revolution.
 
