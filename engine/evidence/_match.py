@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..analysis import Spectrum
-from ..analysis.peaks import Lines, Peak, peaks_near
+from ..analysis.peaks import Lines, Peak, local_maxima, peaks_near
 
 MIN_SNR = 3.0               # a line must stand 3 x (9.5 dB) above its local floor
 SPEED_TOLERANCE = 0.005     # shaft-locked lines after speed refinement: 0.5 %
@@ -82,3 +82,22 @@ def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False, flo
 def find_line(spec: Spectrum, freq_hz: float, fraction: float, wide_floor: bool = False) -> Peak | None:
     """The peak near ``freq_hz`` if it stands MIN_SNR above its floor, else None."""
     return find_lines(spec, [freq_hz], fraction, wide_floor).peak(0)
+
+
+CENSUS_FLOOR_POINTS = 48    # the wide floor for a census of lines: measured at this many frequencies, interpolated
+
+
+def clear_lines(spec: Spectrum) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Index, frequency (Hz) and height over the wide floor (a ratio) of every line of ``spec`` (a squared
+    envelope spectrum) that stands MIN_SNR over its floor, as a harmonic must to be found."""
+    a, f = spec.amplitude, spec.freq_hz
+    peaks = local_maxima(a)
+    peaks = peaks[(peaks >= LINES_FROM_ZERO) & (f[peaks] <= spec.fmax_hz * 0.98)]
+    if len(peaks) == 0:
+        return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
+    grid = np.geomspace(f[peaks[0]], f[peaks[-1]], CENSUS_FLOOR_POINTS) if len(peaks) > 1 else f[peaks]
+    floors = np.interp(f[peaks], grid, [local_floor(spec, float(g)) for g in grid])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        snr = np.where(floors > 0, a[peaks] / floors, np.inf)
+    keep = snr >= MIN_SNR
+    return peaks[keep], f[peaks[keep]], snr[keep]

@@ -22,11 +22,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import SLIP_TOLERANCE, SPEED_TOLERANCE, db, find_lines, tolerance_hz
+from ._match import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
+from .signs import SIGNS, envelope_line, match_fit
 from ..analysis import Analysis
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
 MODULATION_ORDERS = 3
+SIDEBAND_TOLERANCE = 0.003     # a sideband sits at a measured carrier +- a rate known to the refined speed
+MODULATION_TOLERANCE = 0.005   # the modulation line itself: the refined speed's precision
 SHAFT_ORDER_TOLERANCE = 0.003
 
 
@@ -119,6 +122,55 @@ def _give_sidebands(defects, all_found, owned) -> None:
                 owned[(t, k)] = False
 
 
+CENSUS_REACH = 0.15     # unrelated lines are counted within +-15 % of each harmonic (the wide floor's reach)
+
+
+def chance_of(ses, lines: tuple[np.ndarray, np.ndarray, np.ndarray], rate: float, harmonics: int, owned: int,
+              first_snr: float, least_snr: float, shaft_hz: float, companion_hz: float | None) -> float:
+    """Probability that unrelated lines would give a family its fundamental and ``owned`` harmonics in all.
+
+    A spectrum crowded with lines (another machine's impacts, a gear's
+    residue, noise) lets any rate find harmonics within its slip tolerance.
+    Around each harmonic (within +-15 %) the lines the family does not
+    explain (not its harmonics, not their first-order sidebands at
+    ``companion_hz``, not shaft orders, which no family may take) give the
+    local density of unrelated lines at least as high as the family's
+    fundamental (``first_snr``) or its weakest harmonic (``least_snr``); the
+    chance that the harmonic's search window holds such a line anyway is
+    1 - exp(-density x width) (lines placed at random, a Poisson process).
+    The result is the chance of the fundamental times the chance of at least
+    ``owned - 1`` of the other harmonics (a Poisson-binomial tail).
+    """
+    ks = [k for k in range(1, harmonics + 1) if k * rate <= ses.fmax_hz * 0.98]
+    if not ks or owned < 1:
+        return 1.0
+    centres = np.array([k * rate for k in ks])
+    half = np.array([tolerance_hz(ses, c, SLIP_TOLERANCE) for c in centres])
+    _, freq, snr = lines
+    explained = (np.abs(freq[:, None] - centres[None, :]) <= half[None, :]).any(axis=1)
+    if companion_hz:
+        side_tol = max(1.5 * ses.resolution_hz, SIDEBAND_TOLERANCE * rate)
+        sides = np.concatenate([centres - companion_hz, centres + companion_hz])
+        explained |= (np.abs(freq[:, None] - sides[None, :]) <= side_tol).any(axis=1)
+    order = np.rint(freq / shaft_hz)
+    explained |= (order >= 1) & (np.abs(freq - order * shaft_hz) <= np.maximum(1.5 * ses.resolution_hz,
+                                                                            SHAFT_ORDER_TOLERANCE * freq))
+    unrelated_f, unrelated_snr = freq[~explained], snr[~explained]
+    p = np.zeros(len(ks))
+    for i, (centre, h) in enumerate(zip(centres, half)):
+        reach = max(CENSUS_REACH * centre, 25 * ses.resolution_hz, 2 * h)
+        near = np.abs(unrelated_f - centre) <= reach
+        height = first_snr if i == 0 else least_snr
+        count = np.count_nonzero(near & (unrelated_snr >= height))
+        p[i] = 1.0 - np.exp(-count / (2 * reach - 2 * h) * 2 * h)
+    tail = np.zeros(len(ks))     # P(exactly j of the other harmonics), then the tail
+    tail[0] = 1.0
+    for q in p[1:]:
+        tail[1:] = tail[1:] * (1 - q) + tail[:-1] * q
+        tail[0] *= 1 - q
+    return float(p[0] * tail[max(owned - 1, 0):].sum())
+
+
 def envelope_evidence(rc: Analysis) -> list[dict]:
     """Bearing defect tones in each channel's squared envelope spectra, and their load-zone modulation.
 
@@ -134,8 +186,8 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
             owned = _owners(defects, found, c.location)
-            tones += _tone_facts(c, view, defects, found, owned)
-            zones += _modulation_facts(c, view, defects, found)
+            tones += _tone_facts(c, view, defects, found, owned, clear_lines(view.ses))
+            zones += _modulation_facts(c, view, defects, found, owned)
     _mark_strongest(tones)
     return tones + zones
 
@@ -155,7 +207,7 @@ def _mark_strongest(tones: list[dict]) -> None:
         f["below_strongest_db"] = top["max_snr_db"] - f["max_snr_db"]
 
 
-def _tone_facts(c, view, defects, all_found, owned) -> list[dict]:
+def _tone_facts(c, view, defects, all_found, owned, lines) -> list[dict]:
     out = []
     ses = view.ses
     for t, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
@@ -163,6 +215,13 @@ def _tone_facts(c, view, defects, all_found, owned) -> list[dict]:
         if not found:
             continue
         first = found.get(1)
+        n_owned = sum(1 for k in found if owned[(t, k)])
+        fundamental = first is not None and owned[(t, 1)]
+        companion = getattr(b, SIDEBAND_OF[defect]) if defect in SIDEBAND_OF else None
+        chance = 1.0
+        if fundamental:
+            least = min(p.snr for k, p in found.items() if owned[(t, k)])
+            chance = chance_of(ses, lines, rate, HARMONICS[defect], n_owned, first.snr, least, b.shaft_hz, companion)
         out.append(c.base() | {
             "kind": "envelope_tone", "defect": defect, "component": b.bearing, "shaft": b.shaft,
             "expected_hz": rate, "freq_hz": first.freq_hz if first else 0.0,
@@ -170,16 +229,19 @@ def _tone_facts(c, view, defects, all_found, owned) -> list[dict]:
             "harmonics_found": len(found), "harmonics_checked": checked,
             "first_snr_db": db(first.snr) if first else 0.0,
             "max_snr_db": max(db(p.snr) for p in found.values()),
-            "harmonics_owned": sum(1 for k in found if owned[(t, k)]),
-            "fundamental_owned": bool(first is not None and owned[(t, 1)]),
+            "harmonics_owned": n_owned,
+            "fundamental_owned": bool(fundamental),
+            "chance_pct": 100 * chance,
             "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
             "band_kurtosis": view.band_kurtosis,
+            SIGNS: {envelope_line(c.name, view.method, p.line): match_fit(p.freq_hz / (k * rate) - 1, SLIP_TOLERANCE)
+                    for k, p in found.items() if owned[(t, k)]},
         })
     return out
 
 
-def _modulation_facts(c, view, all_defects, all_harmonics) -> list[dict]:
+def _modulation_facts(c, view, all_defects, all_harmonics, owned) -> list[dict]:
     """Envelope sidebands at defect harmonics +- 1X and +- FTF, and the depth they imply.
 
     A defect passing through the load zone once per turn of the rotating part
@@ -187,11 +249,13 @@ def _modulation_facts(c, view, all_defects, all_harmonics) -> list[dict]:
     rolling element at FTF; a stationary outer-race spall is not modulated
     (Randall & Antoni 2011, section 2.1). For sinusoidal modulation of depth m
     each sideband is m/2 of its carrier, so depth = (lower + upper) / carrier.
+    Only a family whose fundamental it owns has carriers to be modulated.
     """
     out = []
     ses = view.ses
     kept = [(d, {k: p for k, p in h.items() if k <= MODULATION_ORDERS})
-            for d, h in zip(all_defects, all_harmonics) if d[1] != "FTF"]
+            for t, (d, h) in enumerate(zip(all_defects, all_harmonics))
+            if d[1] != "FTF" and 1 in h and owned[(t, 1)]]
     defects = [d for d, _ in kept]
     all_found = [h for _, h in kept]
     # every sideband of every carrier and the modulation lines themselves, in one search each
@@ -205,23 +269,37 @@ def _modulation_facts(c, view, all_defects, all_harmonics) -> list[dict]:
                 sides += [(len(mods) - 1, k, carrier.freq_hz + sign * mod_hz) for sign in (-1, 1)]
     if not mods:
         return out
-    side_lines = find_lines(ses, [x[2] for x in sides], 0.003, wide_floor=True)
-    mod_lines = find_lines(ses, [x[2] for x in mods], 0.005, wide_floor=True)
+    side_lines = find_lines(ses, [x[2] for x in sides], SIDEBAND_TOLERANCE, wide_floor=True)
+    mod_targets = [(j, k, k * mod_hz) for j, (_, _, mod_hz) in enumerate(mods) for k in range(1, MODULATION_ORDERS + 1)]
+    mod_lines = find_lines(ses, [x[2] for x in mod_targets], MODULATION_TOLERANCE, wide_floor=True)
+    mod_at = {(j, k): i for i, (j, k, _) in enumerate(mod_targets)}
     side_amplitude = np.where(side_lines.found, side_lines.amplitude, 0.0)
     by_carrier: dict[tuple[int, int], list[int]] = {}
     for i, (j, k, _) in enumerate(sides):
         by_carrier.setdefault((j, k), []).append(i)
     for j, (d, modulation, mod_hz) in enumerate(mods):
         b, defect, _ = defects[d]
-        count, depths = 0, []
+        count, depths, signs = 0, [], {}
         for k, carrier in all_found[d].items():
             at = by_carrier[(j, k)]
             count += int(np.count_nonzero(side_lines.found[at]))
             depths.append(float(sum(side_amplitude[i] for i in at)) / carrier.amplitude)
-        line = mod_lines.peak(j)
+            for i in at:
+                if side_lines.found[i]:
+                    signs[envelope_line(c.name, view.method, side_lines.line[i])] = match_fit(
+                        side_lines.freq_hz[i] / sides[i][2] - 1, SIDEBAND_TOLERANCE)
+        # the modulation itself shows as a line at its rate and harmonics: a damaged ball riding with the
+        # cage puts FTF into the envelope, an inner-race defect 1X (Randall & Antoni 2011, section 2.1)
+        for k in range(1, MODULATION_ORDERS + 1):
+            peak = mod_lines.peak(mod_at[(j, k)])
+            if peak is not None:
+                signs[envelope_line(c.name, view.method, peak.line)] = match_fit(
+                    peak.freq_hz / (k * mod_hz) - 1, MODULATION_TOLERANCE)
+        line = mod_lines.peak(mod_at[(j, 1)])
         out.append(c.base() | {
             "kind": "load_zone_modulation", "defect": defect, "component": b.bearing,
             "band_method": view.method, "modulation": modulation, "modulation_hz": mod_hz,
             "sideband_count": count, "depth": max(depths), "line_snr_db": db(line.snr) if line else 0.0,
+            SIGNS: signs if count else {},
         })
     return out

@@ -2,7 +2,11 @@
 
 from __future__ import annotations
 
+import numpy as np
+
+from ._match import SLIP_TOLERANCE, clear_lines
 from ..analysis import Analysis
+from .signs import SIGNS, envelope_line, impacts, match_fit, turns
 
 MATCH_TOLERANCE = 0.03    # rate within 3 % of a forcing frequency (1-2 % slip plus resolution)
 
@@ -12,6 +16,26 @@ def _candidates(rc: Analysis):
     out = [(defect, b.bearing, b.impact_rate_hz(defect)) for b in rc.rates.bearings
            for defect in ("BPFO", "BPFI", "BSF")]
     return out + [("1X", shaft, hz) for shaft, hz in rc.speeds_hz.items()]
+
+
+def _comb_signs(c, rate_hz: float) -> dict[str, float]:
+    """The envelope lines a train of impacts at ``rate_hz`` accounts for: those near its harmonics.
+
+    Impacts repeating at a rate put lines at its harmonics in the squared
+    envelope spectrum, spread by whatever modulates them; a line within the
+    slip tolerance of a harmonic is the train's, the fit falling with the
+    distance (``signs.match_fit``). A bearing family whose lines these are
+    shares them with whatever cause explains the impacts.
+    """
+    out = {}
+    for view in c.envelopes:
+        lines, freq, _ = clear_lines(view.ses)
+        order = np.maximum(np.rint(freq / rate_hz), 1)
+        error = freq / (order * rate_hz) - 1
+        near = np.abs(error) <= SLIP_TOLERANCE
+        out |= {envelope_line(c.name, view.method, line): match_fit(e, SLIP_TOLERANCE)
+                for line, e in zip(lines[near], error[near])}
+    return out
 
 
 def impact_train(rc: Analysis) -> list[dict]:
@@ -28,11 +52,13 @@ def impact_train(rc: Analysis) -> list[dict]:
         if abs(rate / best[2] - 1) <= MATCH_TOLERANCE:
             name, component, err = best[0], best[1], (rate / best[2] - 1) * 100
         shaft = c.point.shaft if c.point else rc.speed_shaft
+        signs = {impacts(c.name): 1.0} | _comb_signs(c, rate)
         out.append(c.base() | {
             "kind": "impact_train", "rate_hz": rate, "spacing_ms": train.spacing_s * 1e3,
             "periodicity": train.periodicity, "count": train.count, "regularity_cv": train.regularity_cv,
             "impacts_per_rev": rate / rc.speeds_hz[shaft],
             "matched_name": name, "matched_component": component, "match_error_pct": err,
+            SIGNS: signs,
         })
     return out
 
@@ -46,5 +72,6 @@ def once_per_rev_event(rc: Analysis) -> list[dict]:
                 "kind": "once_per_rev_event", "shaft": shaft, "revolutions": events.revolutions,
                 "fm4": events.fm4, "peak_to_rms": events.peak_to_rms, "peak_angle_deg": events.peak_angle_deg,
                 "repeat_fraction": events.repeat_fraction,
+                SIGNS: {turns(c.name, shaft): 1.0},
             })
     return out

@@ -5,6 +5,7 @@ from __future__ import annotations
 from collections import defaultdict
 
 from ._match import find_line
+from .signs import SIGNS, waveform
 from ..analysis import Analysis
 
 
@@ -20,6 +21,7 @@ def overall(rc: Analysis) -> list[dict]:
             "accel_rms_g": lv.acceleration_rms_g, "accel_peak_g": lv.acceleration_peak_g,
             "crest_factor": lv.crest_factor, "kurtosis": lv.kurtosis, "skewness": lv.skewness,
             "band_truncated": lv.band_truncated,
+            SIGNS: {waveform(c.name): 1.0},
         })
     return out
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ._match import db, find_lines
+from .signs import SIGNS, match_fit, spectrum_line
 from ..analysis import Analysis
 
 MAX_ORDER = 6
@@ -78,11 +79,14 @@ def sideband_family(rc: Analysis) -> list[dict]:
         for (carrier, component, fc, spacing_name, spacing_shaft, spacing, use_velocity), centre_at, sides in families:
             lines = found_lines[use_velocity]
             centre = lines.peak(centre_at)
-            found, orders_low, orders_high, ratios = 0, set(), set(), []
+            found, orders_low, orders_high, ratios, signs = 0, set(), set(), [], {}
             for k, sign, at in sides:
                 if not lines.found[at]:
                     continue
                 found += 1
+                expected = fc + sign * k * spacing
+                signs[spectrum_line(c.name, lines.line[at])] = match_fit(
+                    (lines.freq_hz[at] - expected) / (k * spacing), SPACING_TOLERANCE)
                 (orders_low if sign < 0 else orders_high).add(k)
                 if centre is not None and centre.amplitude > 0:
                     ratios.append(float(lines.amplitude[at]) / centre.amplitude)
@@ -95,5 +99,6 @@ def sideband_family(rc: Analysis) -> list[dict]:
                 "count": found, "pairs": len(orders_low & orders_high),
                 "max_order": max(orders_low | orders_high),
                 "sideband_to_carrier_db": db(float(np.mean(ratios))) if ratios else 0.0,
+                SIGNS: signs,
             })
     return out

@@ -7,6 +7,7 @@ import numpy as np
 from ..analysis import Analysis, ChannelAnalysis, find_peaks
 from ..units import STANDARD_GRAVITY_M_S2 as G
 from ._match import SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, find_lines, tolerance_hz
+from .signs import SIGNS, match_fit, spectrum_line
 
 MIN_TONE_HZ = 2.0
 SKIPPED_AS_TONES = {"slip", "pole pass", "HTF", "FTF"}  # below the spectrum's useful range or spacings only
@@ -70,6 +71,8 @@ def tones(rc: Analysis) -> list[dict]:
                 "shaft": f.shaft, "expected_hz": f.frequency_hz, "freq_hz": peak.freq_hz,
                 "amplitude_mm_s": float(v_mm_s), "amplitude_g": float(a_g), "snr_db": db(peak.snr),
                 "ratio_to_1x": float(v_mm_s) / one_x[f.shaft] if one_x[f.shaft] > 0 else 0.0,
+                SIGNS: {spectrum_line(c.name, peak.line): match_fit(peak.freq_hz / f.frequency_hz - 1,
+                                                                    _tol(rc, f.family))},
             })
     return out
 
@@ -89,6 +92,7 @@ def harmonic_series(rc: Analysis) -> list[dict]:
     out = []
     for c in rc.channels:
         found_by_source: list[dict[int, float]] = [{} for _ in sources]
+        signs_by_source: list[dict[str, float]] = [{} for _ in sources]
         checked = [0] * len(sources)
         for use_velocity in (True, False):
             spec = c.velocity if use_velocity else c.spectrum
@@ -102,9 +106,11 @@ def harmonic_series(rc: Analysis) -> list[dict]:
             if not targets:
                 continue
             lines = find_lines(spec, [t[2] for t in targets], [t[3] for t in targets])
-            for (si, k, _, _), ok, amp in zip(targets, lines.found, lines.amplitude):
+            for (si, k, expected, tol), ok, amp, line, freq in zip(targets, lines.found, lines.amplitude,
+                                                                    lines.line, lines.freq_hz):
                 if ok:
                     found_by_source[si][k] = float(amp)
+                    signs_by_source[si][spectrum_line(c.name, line)] = match_fit(freq / expected - 1, tol)
         present = [si for si, found in enumerate(found_by_source) if found]
         firsts = [si for si in present if 1 in found_by_source[si]]
         first_freqs = np.array([sources[si][3] for si in firsts])
@@ -124,6 +130,7 @@ def harmonic_series(rc: Analysis) -> list[dict]:
                 "highest_order": max(found), "first_mm_s": first_mm_s.get(si, 0.0), "first_g": first_g.get(si, 0.0),
                 "second_to_first": found.get(2, 0.0) / first if first > 0 else 0.0,
                 "sustained_count": sustained,
+                SIGNS: signs_by_source[si],
             })
     return out
 
@@ -137,12 +144,16 @@ def subharmonics(rc: Analysis) -> list[dict]:
         lines = find_lines(c.velocity, [t[1] for t in targets], _tol(rc))
         one_x = None
         for s in shafts:
-            amps = [float(lines.amplitude[i]) for i, (shaft, _) in enumerate(targets)
-                    if shaft == s and lines.found[i] and not _is_other_line(rc, lines.freq_hz[i], exclude_shaft=s)]
-            if amps:
+            at = [i for i, (shaft, _) in enumerate(targets)
+                  if shaft == s and lines.found[i] and not _is_other_line(rc, lines.freq_hz[i], exclude_shaft=s)]
+            if at:
+                amps = [float(lines.amplitude[i]) for i in at]
                 one_x = one_x or _one_x(c, rc)
                 out.append(c.base() | {"kind": "subharmonics", "shaft": s, "count": len(amps),
-                                       "max_ratio_to_1x": max(amps) / one_x[s] if one_x[s] > 0 else 0.0})
+                                       "max_ratio_to_1x": max(amps) / one_x[s] if one_x[s] > 0 else 0.0,
+                                       SIGNS: {spectrum_line(c.name, lines.line[i]):
+                                               match_fit(lines.freq_hz[i] / targets[i][1] - 1, _tol(rc))
+                                               for i in at}})
     return out
 
 
@@ -191,5 +202,6 @@ def nonsynchronous(rc: Analysis) -> list[dict]:
         top = odd[0]
         out.append(c.base() | {"kind": "nonsynchronous", "count": len(odd), "largest_hz": top.freq_hz,
                                "largest_mm_s": top.amplitude,
-                               "largest_to_1x": top.amplitude / one_x if one_x > 0 else 0.0})
+                               "largest_to_1x": top.amplitude / one_x if one_x > 0 else 0.0,
+                               SIGNS: {spectrum_line(c.name, top.line): 1.0}})
     return out

@@ -2,6 +2,9 @@
 
 Rulebooks are checked against this table when they load, so a rule that
 names a field no extractor produces is an error, not a rule that never fires.
+Besides these fields a fact may carry ``signs`` (``engine.evidence.signs``):
+the observations it is made of, which the reasoning shares among the
+hypotheses that explain them; rules never compare them.
 Types are JSON Schema type names; the unit is the one the value is stated in
 ('' for counts, ratios, labels and flags). ``tellwave rulebook vocabulary``
 prints the table.
@@ -101,6 +104,8 @@ FACTS: dict[str, dict[str, F]] = {
         "max_snr_db": F("number", "best harmonic over its local floor, dB", "dB"),
         "harmonics_owned": F("integer", "harmonics no other defect family explains better", ""),
         "fundamental_owned": F("boolean", "the fundamental was found and no other family explains it better", ""),
+        "chance_pct": F("number", "chance that unrelated lines of this envelope spectrum, at their density near the "
+                        "family, would give it its fundamental and as many harmonics (100 without a fundamental)", "%"),
         "match_error_pct": F("number", "mean distance of the harmonics found from their expected frequencies, %", "%"),
         "strongest_channel": F("string", "channel where this family (same view) stands out most", ""),
         "strongest_location": F("string", "the bearing or shaft that channel's point sits at", ""),

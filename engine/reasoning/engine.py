@@ -40,11 +40,13 @@ from dataclasses import replace
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
 from ..errors import ReasoningError
+from ..evidence.signs import SIGNS, merged
 from ..units import format_quantity
 from . import certainty as cf
 from .compile import PHASE_KIND, compile_ruleset, tally_slot
 from .differential import differential
-from .findings import Firing, Hypothesis, Reasoning
+from .explaining import Claim, share
+from .findings import Firing, Hypothesis, Reasoning, SignLoss
 from .rulebook import SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Rulebook
 
 LARGEST_NUMBER = 1e15
@@ -72,7 +74,7 @@ def engine_value(x):
 
 
 def engine_copy(fact: dict, sid: str) -> dict:
-    out = {k: engine_value(v) for k, v in fact.items()}
+    out = {k: engine_value(v) for k, v in fact.items() if k != SIGNS}
     out = {k: v for k, v in out.items() if v is not None}
     out["sid"] = sid
     return out
@@ -192,6 +194,7 @@ class Reasoner:
         premises = [f.get("certainty", 1.0) for _, f in matched if f["kind"] not in (TALLY_KIND,)]
         strength = rule.weight * grade * cf.premise_certainty(premises)
         because = word_sentence(rule, values)
+        signs = explained_signs(values[alias] for alias in rule.explains)
         derived = None
         if rule.derives is not None and strength > 0:
             session.derived_count += 1
@@ -199,9 +202,11 @@ class Reasoner:
                        "certainty": strength}
             for name, v in rule.derived_fields:
                 derived[name] = _value(values, v) if isinstance(v, Ref) else v
+            if signs:
+                derived[SIGNS] = signs
             session.facts_by_id[derived["id"]] = derived
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
-                        tuple(matched), derived)
+                        tuple(matched), derived, tuple(sorted(signs.items())))
         session.firings.append((rule, firing))
         if derived is not None:
             try:
@@ -245,6 +250,49 @@ class Reasoner:
         except MessageObservedException:
             raise ReasoningError(f"fact {fact.get('id')} asserted twice") from None
 
+    def _explain_away(self, by_hypothesis):
+        """Share the signs of every supporting firing among the fault hypotheses (explaining.py);
+        each firing's certainty becomes what its share of its signs leaves it."""
+        claims, places, against = [], [], defaultdict(list)
+        for key, per_rule in by_hypothesis.items():
+            if self.rulebook.faults[key[0]].family == "reading":
+                continue
+            for rule_id in sorted(per_rule):
+                entries = per_rule[rule_id]
+                for i, (_, f) in enumerate(entries):
+                    if f.certainty > 0:
+                        claims.append(Claim(key, rule_id, f.certainty, dict(f.signs)))
+                        places.append((key, rule_id, i))
+                negative = [f.certainty for _, f in entries if f.certainty < 0]
+                if negative:
+                    against[key].append(min(negative))
+        sharing = share(claims, against)
+        for (key, rule_id, i), kept in zip(places, sharing.kept):
+            if kept < 1 - 1e-9:
+                rule, f = by_hypothesis[key][rule_id][i]
+                by_hypothesis[key][rule_id][i] = (rule, replace(f, certainty=round(f.certainty * kept, 6),
+                                                                kept=round(kept, 6), raw_certainty=f.certainty))
+        return by_hypothesis, sharing
+
+    def _losses(self, key, per_rule, sharing) -> tuple[SignLoss, ...]:
+        """Which other hypotheses took part of this one's signs, and how much of their weight."""
+        signs: dict[str, float] = {}
+        for entries in per_rule.values():
+            for _, f in entries:
+                if _raw(f) > 0:
+                    for sign, fit in f.signs:
+                        signs[sign] = max(signs.get(sign, 0.0), fit)
+        mass = sum(signs.values())
+        if mass == 0:
+            return ()
+        taken: dict = defaultdict(float)
+        for sign, fit in signs.items():
+            for other, part in sharing.shares.get(sign, {}).items():
+                if other != key:
+                    taken[other] += fit * part / mass
+        out = [SignLoss(f, self.rulebook.faults[f].name, c, round(v, 4)) for (f, c), v in taken.items() if v >= 0.01]
+        return tuple(sorted(out, key=lambda x: (-x.share, x.fault, x.component)))
+
     def _rank(self, session: _Session, considered: int) -> Reasoning:
         by_hypothesis: dict[tuple[str, str], dict[str, list[tuple[Rule, Firing]]]] = defaultdict(lambda: defaultdict(list))
         chain = []
@@ -257,6 +305,7 @@ class Reasoner:
             fault = rule.fault.pick(_value(values, rule.fault.value)) if isinstance(rule.fault, FaultChoice) else rule.fault
             if fault is not None:
                 by_hypothesis[(fault, str(component))][rule.id].append((rule, firing))
+        by_hypothesis, sharing = self._explain_away(by_hypothesis)
         hypotheses = []
         for (fault_id, component), per_rule in by_hypothesis.items():
             support, against, extra = [], [], 0
@@ -269,12 +318,15 @@ class Reasoner:
                 elif best.certainty < 0:
                     against.append((rule, best))
             total = cf.combine_all([f.certainty for _, f in support + against])
+            raw = cf.combine_all(max((_raw(f) for _, f in entries), key=abs) for entries in per_rule.values())
             stages = [r.stage for r, f in support if r.stage is not None]
             fault = self.rulebook.faults[fault_id]
             hypotheses.append(Hypothesis(
                 fault_id, fault.name, fault.family, component, round(total, 6), max(stages) if stages else None,
                 tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
-                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, fault.withholds_diagnosis))
+                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, fault.withholds_diagnosis,
+                round(raw, 6) if abs(raw - total) > 1e-6 else None,
+                self._losses((fault_id, component), per_rule, sharing)))
         hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))
         faults_of = self.rulebook.faults
         problems = tuple(h for h in hypotheses if faults_of[h.fault].family == "reading")
@@ -283,6 +335,15 @@ class Reasoner:
         result = Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
                            self.rulebook.files)
         return replace(result, differential=differential(self.rulebook, result))
+
+
+def _raw(f: Firing) -> float:
+    return f.raw_certainty if f.raw_certainty is not None else f.certainty
+
+
+def explained_signs(facts) -> dict[str, float]:
+    """The signs of ``facts`` (evidence.signs) merged: each sign with the best fit any of them gives it."""
+    return merged(*(fact.get(SIGNS) or {} for fact in facts))
 
 
 def word_sentence(rule: Rule, values: dict) -> str:

@@ -20,6 +20,19 @@ class Firing:
     because: str                      # the rule's sentence with measured values filled in
     facts: tuple[tuple[str, dict], ...]   # (alias, fact) that satisfied it
     derived: dict | None = None       # the fact it asserted, for a chaining rule
+    signs: tuple[tuple[str, float], ...] = ()   # the signs it explains, with the fit of each (explaining.py)
+    kept: float = 1.0                 # share of those signs its hypothesis holds after explaining away
+    raw_certainty: float | None = None   # before explaining away (None: nothing was shared)
+
+
+@dataclass(frozen=True)
+class SignLoss:
+    """Part of a hypothesis's signs that another hypothesis explains better."""
+
+    fault: str
+    fault_name: str
+    component: str
+    share: float          # fraction of the hypothesis's sign weight it took (0..1)
 
 
 @dataclass(frozen=True)
@@ -34,6 +47,8 @@ class Hypothesis:
     against: tuple[Firing, ...]       # strongest firing of each rule against it
     other_matches: int = 0            # weaker firings of the same rules, not counted again
     withholds: bool = False           # a reading problem that, when confident, withholds the diagnosis
+    raw_certainty: float | None = None    # before explaining away (None: no sign of it was shared)
+    explained_by: tuple["SignLoss", ...] = ()   # hypotheses that took part of its signs, most first
 
     @property
     def strength(self) -> str:

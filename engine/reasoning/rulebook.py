@@ -138,6 +138,7 @@ class Rule:
     derived_fields: tuple[tuple[str, Ref | Any], ...] = ()
     replaced: tuple[str, ...] = ()   # files whose rule of this id this one overrides (as labelled)
     label: str = ""                  # the file as reports name it (see ``rulebook_labels``)
+    explains: tuple[str, ...] = ()   # aliases of the needed facts whose signs the conclusion explains
 
     @property
     def origin(self) -> str:
@@ -525,6 +526,17 @@ class _RuleChecker:
             places.append(Placeholder(ref.alias, ref.field, spec_[0], spec_[2] if len(spec_) > 2 else ""))
         return text, tuple(places)
 
+    def explains(self, needs: tuple[Pattern, ...]) -> tuple[str, ...]:
+        """Aliases whose facts' signs the conclusion explains: those named, or every needed fact."""
+        facts = [p.alias for p in needs if not p.counted]
+        if "explains" not in self.raw:
+            return tuple(facts)
+        for j, alias in enumerate(self.raw["explains"]):
+            if alias not in facts:
+                self.fail(f"explains: {alias!r} is not a needed fact of this rule (needed: {', '.join(facts)})",
+                          "explains", j)
+        return tuple(self.raw["explains"])
+
     def value_or_ref(self, v, *where):
         if isinstance(v, str) and _OPERAND.match(v) and v.split(".", 1)[0] in self.aliases:
             return self.ref(v, *where)
@@ -537,7 +549,8 @@ class _RuleChecker:
         because, placeholders = self.sentence()
         common = dict(id=self.raw["id"], title=self.raw["title"], source=self.raw["source"], needs=needs,
                       none_of=none_of, weight=weight, ramps=ramps, because=because, path=self.doc.path,
-                      line=self.doc.line_of(["rules", self.index]), placeholders=placeholders)
+                      line=self.doc.line_of(["rules", self.index]), placeholders=placeholders,
+                      explains=self.explains(needs))
         if "concludes" in self.raw:
             c = self.raw["concludes"]
             fault = c["fault"]

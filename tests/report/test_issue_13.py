@@ -20,7 +20,7 @@ from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
-from engine.synth import as_reading, write_simulation
+from engine.synth import as_reading, simulate, write_simulation
 from engine.yamlfile import load_schema
 
 from support import CASES, ROOT
@@ -296,14 +296,18 @@ def test_6_every_source_a_report_or_rulebook_explain_shows_names_a_publication_o
 
 
 def test_7_the_oil_analysis_is_one_table_per_machine_in_the_document():
-    doc = doc_of("ct1-bevel-tooth")      # an oil-lubricated gearbox: a gear and several bearing hypotheses
-    assert sum(h["family"] == "bearing" for h in doc["hypotheses"]) >= 2
+    # an oil-lubricated gearbox with two faults at once: a chipped pinion tooth and a spalled output bearing
+    case = load_case(CASES / "demo" / "ct1-bevel-tooth.case.yaml")
+    machine = load_machine(case.machine)
+    sim = simulate(machine, "gear-tooth", "bevel_stage", 3, seed=15, also=(("outer-race", "output_lower", 3),))
+    doc = document_of(diagnose(as_reading(sim, "ct1-two-faults.wav"), machine, reasoner()), made_at=MADE_AT)
+    assert {h["family"] for h in doc["hypotheses"] if h["certainty"] >= 0.5} == {"gear", "bearing"}
     assert all("oil_tests" not in h for h in doc["hypotheses"])
     tests = [t["test"] for t in doc["oil_analysis"]]
     assert tests and len(tests) == len(set(tests)), "each test once"
     debris = next(t for t in doc["oil_analysis"] if t["test"].startswith("ferrous wear debris"))
     served = [name for r in debris["reads"] for name in r["for"]]
-    assert len(debris["reads"]) == 2 and len(served) == len(set(served)) >= 3   # gear and bearings, each once
+    assert len(debris["reads"]) == 2 and len(served) == len(set(served)) >= 2   # gear and bearing, each once
     for fmt in FORMATS:
         out = render(doc, fmt)
         assert len(re.findall("oil analysis to request", out, re.IGNORECASE)) == 1, fmt
