@@ -71,9 +71,23 @@ TIE = 0.01              # rates within 1 % of each other cannot be told apart by
 DEFECT_RANK = {"BPFO": 0, "BPFI": 0, "BSF": 1, "FTF": 2}
 
 
-def _owners(defects, all_found, location: str | None) -> dict[tuple[int, int], bool]:
-    """For each (family index, harmonic k) found, whether that family explains its line best."""
+def _owners(defects, all_found, location: str | None, fmax_hz: float) -> dict[tuple[int, int], bool]:
+    """For each (family index, harmonic k) found, whether that family explains its line best.
+
+    Families whose harmonics match a line within 1 % of the best match (slip
+    alone can make that difference) compete for it. The line goes to the
+    family with the most lines of its own that none of its rivals for the
+    line found, counted over the span every rival searched: a rate whose
+    every harmonic is also a harmonic of another family's rate (BPFO of one
+    bearing at twice BPFO of another) has none, while the lower rate has its
+    odd harmonics (parsimonious covering: the family that explains the lines
+    between the other's is the one explanation that covers them all). Then
+    the family that found more of its expected harmonics within that span,
+    then the lower harmonic, a race or ball rate before the cage, the
+    bearing under the sensor, the closer match.
+    """
     claims: dict[int, list[tuple]] = {}
+    lines_of = [{p.line: p.freq_hz for p in found.values()} for found in all_found]
     for t, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
         for k, peak in found.items():
             error = abs(peak.freq_hz / (k * rate) - 1)
@@ -82,7 +96,21 @@ def _owners(defects, all_found, location: str | None) -> dict[tuple[int, int], b
     for entries in claims.values():
         best = min(entries, key=lambda e: e[0])
         close = [e for e in entries if e[0] <= best[0] + TIE]
-        winner = min(close, key=lambda e: (e[1], e[2], e[3], e[0]))
+        if len(close) > 1:
+            rivals = [e[4] for e in close]
+            span = min(min(HARMONICS[defects[t][1]] * defects[t][2], fmax_hz * 0.98) for t in rivals) * (1 + TIE)
+
+            def own(t):
+                others = set().union(*(lines_of[u] for u in rivals if u != t))
+                return sum(1 for line, f in lines_of[t].items() if f <= span and line not in others)
+
+            def covered(t):
+                expected = int(span / defects[t][2])
+                return sum(1 for f in lines_of[t].values() if f <= span) / expected if expected else 0.0
+
+            winner = min(close, key=lambda e: (-own(e[4]), -covered(e[4]), e[1], e[2], e[3], e[0]))
+        else:
+            winner = best
         for e in entries:
             owned[(e[4], e[1])] = e is winner
     _give_sidebands(defects, all_found, owned)
@@ -185,7 +213,7 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
     for c in rc.channels:
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
-            owned = _owners(defects, found, c.location)
+            owned = _owners(defects, found, c.location, view.ses.fmax_hz)
             tones += _tone_facts(c, view, defects, found, owned, clear_lines(view.ses))
             zones += _modulation_facts(c, view, defects, found, owned)
     _mark_strongest(tones)
@@ -205,6 +233,14 @@ def _mark_strongest(tones: list[dict]) -> None:
         f["strongest_channel"] = top["channel"]
         f["strongest_location"] = top["location"]
         f["below_strongest_db"] = top["max_snr_db"] - f["max_snr_db"]
+
+
+def _ball_rate_on_shaft_order(b) -> bool:
+    """Whether the bearing's ball defect rate (2 x BSF) lies within slip of a whole order of its shaft: its
+    lines then cannot be told from shaft harmonics, and its modulation at FTF from a cage's tones."""
+    ball = b.impact_rate_hz("BSF")
+    order = round(ball / b.shaft_hz)
+    return bool(order >= 1 and abs(ball / (order * b.shaft_hz) - 1) <= SLIP_TOLERANCE)
 
 
 def _tone_facts(c, view, defects, all_found, owned, lines) -> list[dict]:
@@ -232,13 +268,37 @@ def _tone_facts(c, view, defects, all_found, owned, lines) -> list[dict]:
             "harmonics_owned": n_owned,
             "fundamental_owned": bool(fundamental),
             "chance_pct": 100 * chance,
+            "ball_rate_on_shaft_order": _ball_rate_on_shaft_order(b),
             "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
             "band_kurtosis": view.band_kurtosis,
-            SIGNS: {envelope_line(c.name, view.method, p.line): match_fit(p.freq_hz / (k * rate) - 1, SLIP_TOLERANCE)
-                    for k, p in found.items() if owned[(t, k)]},
+            SIGNS: (_comb(c, view, lines, first.freq_hz, HARMONICS[defect]) if fundamental else {})
+            | {envelope_line(c.name, view.method, p.line): match_fit(p.freq_hz / (k * rate) - 1, SLIP_TOLERANCE)
+               for k, p in found.items() if owned[(t, k)]},
         })
     return out
+
+
+def _comb(c, view, lines, fundamental_hz: float, searched: int) -> dict[str, float]:
+    """The lines of a family's harmonics beyond the ones searched, up to the spectrum's end.
+
+    A defect's impacts put lines at every harmonic of its rate; a family
+    explains them all, and a rival rate whose harmonics land among them is
+    explained away (``reasoning.explaining``). Harmonic k of the measured
+    fundamental is known to k times the fundamental's own precision (a
+    quarter line, interpolated), and a line is read to 1.5 lines.
+    """
+    index, freq, _ = lines
+    beyond = freq > (searched + 0.5) * fundamental_hz
+    if not beyond.any():
+        return {}
+    f = freq[beyond]
+    k = np.rint(f / fundamental_hz)
+    error = f / (k * fundamental_hz) - 1
+    tolerance = (1.5 + 0.25 * k) * view.ses.resolution_hz / f
+    near = np.abs(error) <= tolerance
+    return {envelope_line(c.name, view.method, i): match_fit(e, tol)
+            for i, e, tol in zip(index[beyond][near], error[near], tolerance[near])}
 
 
 def _modulation_facts(c, view, all_defects, all_harmonics, owned) -> list[dict]:

@@ -21,6 +21,8 @@ def _carriers(rc: Analysis):
                 out.append((name, g.mesh, k * g.gmf_hz, "1X", shaft, rc.speeds_hz[shaft], False))
     for b in rc.rates.bearings:
         out.append(("BPFI", b.bearing, b.bpfi_hz, "1X", b.shaft, b.shaft_hz, False))
+        # a damaged cage lets the shaft's 1X swing at the cage rate; the family belongs to the bearing
+        out.append(("1X", b.bearing, b.shaft_hz, "FTF", b.shaft, b.ftf_hz, True))
     for m in rc.rates.motors:
         if m.pole_pass_hz is not None:
             # The carrier is the motor shaft's 1X; the family belongs to the motor itself.

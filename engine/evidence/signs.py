@@ -46,7 +46,7 @@ def match_fit(error: float, tolerance: float) -> float:
     still a fair match, which is what the tolerance says)."""
     if tolerance <= 0:
         return 1.0
-    return round(1.0 / (1.0 + (abs(error) / tolerance) ** 2), 4)
+    return round(1.0 / (1.0 + (abs(float(error)) / tolerance) ** 2), 4)
 
 
 def merged(*parts: dict[str, float]) -> dict[str, float]:

@@ -83,7 +83,7 @@ FACTS: dict[str, dict[str, F]] = {
         "component": F("string", "component of the carrier (the motor for pole-pass families)", ""),
         "carrier_hz": F("number", "carrier frequency, Hz", "Hz"),
         "carrier_found": F("boolean", "a peak stands at the carrier", ""),
-        "spacing": F("string", "what the spacing matches: 1X, pole pass", ""),
+        "spacing": F("string", "what the spacing matches: 1X, pole pass, or FTF (1X of a bearing's shaft)", ""),
         "spacing_shaft": F("string", "the shaft whose speed the spacing matches", ""),
         "spacing_hz": F("number", "sideband spacing, Hz", "Hz"),
         "count": F("integer", "sidebands found", ""),
@@ -104,6 +104,8 @@ FACTS: dict[str, dict[str, F]] = {
         "max_snr_db": F("number", "best harmonic over its local floor, dB", "dB"),
         "harmonics_owned": F("integer", "harmonics no other defect family explains better", ""),
         "fundamental_owned": F("boolean", "the fundamental was found and no other family explains it better", ""),
+        "ball_rate_on_shaft_order": F("boolean", "the bearing's ball defect rate (2 x BSF) lies within slip of a whole "
+                                      "order of its shaft, where no ball family can be judged", ""),
         "chance_pct": F("number", "chance that unrelated lines of this envelope spectrum, at their density near the "
                         "family, would give it its fundamental and as many harmonics (100 without a fundamental)", "%"),
         "match_error_pct": F("number", "mean distance of the harmonics found from their expected frequencies, %", "%"),

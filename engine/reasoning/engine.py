@@ -287,9 +287,8 @@ class Reasoner:
             return ()
         taken: dict = defaultdict(float)
         for sign, fit in signs.items():
-            for other, part in sharing.shares.get(sign, {}).items():
-                if other != key:
-                    taken[other] += fit * part / mass
+            for other, part in sharing.taken(key, sign).items():
+                taken[other] += fit * part / mass
         out = [SignLoss(f, self.rulebook.faults[f].name, c, round(v, 4)) for (f, c), v in taken.items() if v >= 0.01]
         return tuple(sorted(out, key=lambda x: (-x.share, x.fault, x.component)))
 

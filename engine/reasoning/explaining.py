@@ -11,24 +11,24 @@ share of its signs that its hypothesis holds.
 
 A hypothesis ``h`` explains a sign ``s`` with a fit ``q_h(s)`` in (0, 1] (how
 closely its rate matches the line, for instance; the evidence stage gives
-it) and stands at certainty ``w_h``. Each sign goes to its claimants in
-proportion to ``q_h(s) w_h``::
+it) and stands at certainty ``w_h``. Read as a noisy-OR of causes (Pearl
+1988, *Probabilistic Reasoning in Intelligent Systems*, sections 2.2 and
+4.3), a sign supports ``h`` only in so far as no other cause accounts for
+it::
 
-    r_h(s) = q_h(s) w_h / sum_g q_g(s) w_g
+    r_h(s) = product over the other claimants g of (1 - q_g(s) w_g)
 
-A firing keeps the fit-weighted mean of ``r_h`` over its signs, the
-hypothesis's certainty is combined again from the firings as they now stand,
-and the shares are worked out again, until nothing moves. The iteration is
-a fixed point with positive feedback: a hypothesis that explains a sign
-better, or explains more of the signs around it, takes more of each shared
-sign, which raises it further. So the smallest set of hypotheses that
-explains the strong signs ends up holding them (parsimonious covering, Peng &
-Reggia 1990, *Abductive Inference Models for Diagnostic Problem-Solving*),
-a sign explained by a stronger cause no longer supports a weaker one
-(explaining away, Pearl 1988, *Probabilistic Reasoning in Intelligent
-Systems*, section 2.2), and a second fault survives with the signs that are
-its own. Two hypotheses that explain the same signs equally well share
-them equally: neither is confident, which is the honest answer.
+A firing keeps the fit-weighted mean of ``r_h`` over its signs, each
+hypothesis's certainty is combined again from its firings as they now stand,
+and the shares are worked out again until nothing moves. So a sign a strong
+cause explains well no longer supports a weak one (explaining away), a
+hypothesis whose signs are all another's keeps little, a second fault
+survives with the signs that are its own, and of two causes that explain the
+same signs equally well neither stays confident: the smallest set of faults
+that explains the strong signs is preferred (parsimonious covering, Peng &
+Reggia 1990, *Abductive Inference Models for Diagnostic Problem-Solving*).
+Two causes of certainty 0.8 and 0.4 resting on the same signs settle near
+0.71 and 0.12; two of 0.8 each at 0.44.
 
 Opposing firings are not shared (a sign against a hypothesis counts against
 it whoever else it supports), and firings that name no sign keep all of their
@@ -37,6 +37,7 @@ certainty. Shares never add certainty: a firing keeps at most what it had.
 
 from __future__ import annotations
 
+import math
 from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import Hashable, Mapping
@@ -45,7 +46,6 @@ from . import certainty as cf
 
 TOLERANCE = 1e-9
 MAX_ROUNDS = 500
-FLOOR = 1e-6        # a hypothesis's weight in the shares never falls to exactly 0 (ties stay split by fit)
 
 
 @dataclass(frozen=True)
@@ -64,8 +64,18 @@ class Sharing:
 
     kept: tuple[float, ...]                          # per claim, the share of its signs it keeps (0..1)
     certainty: dict                                  # hypothesis -> combined certainty after sharing
-    shares: dict = field(default_factory=dict)       # sign -> {hypothesis: share}, signs with several claimants
+    shares: dict = field(default_factory=dict)       # sign -> {hypothesis: share it keeps}, contested signs only
     rounds: int = 0
+    fits: dict = field(default_factory=dict)         # sign -> {hypothesis: fit}, contested signs only
+
+    def taken(self, hypothesis, sign: str) -> dict:
+        """Who took the part of ``sign`` that ``hypothesis`` lost: {other hypothesis: fraction of the sign}."""
+        if sign not in self.shares:
+            return {}
+        lost = 1.0 - self.shares[sign][hypothesis]
+        others = {h: q * max(self.certainty.get(h, 0.0), 0.0) for h, q in self.fits[sign].items() if h != hypothesis}
+        total = sum(others.values())
+        return {h: lost * v / total for h, v in others.items() if v > 0} if total > 0 else {}
 
 
 def _combine(claims, kept, against: Mapping) -> dict:
@@ -77,6 +87,44 @@ def _combine(claims, kept, against: Mapping) -> dict:
     out = {}
     for h in set(best) | set(against):
         out[h] = cf.combine_all(list(best.get(h, {}).values()) + list(against.get(h, ())))
+    return out
+
+
+NEIGHBOURHOOD = 0.15     # companions of a line: the lines of its spectrum within +-15 % of its frequency
+
+
+def _place(sign: str) -> tuple[str, int | None]:
+    """(the spectrum or record a sign belongs to, its line index or None): ``P1H|envelope:wide|296``."""
+    pattern, _, last = sign.rpartition("|")
+    return (pattern, int(last)) if pattern and last.isdigit() else (sign, None)
+
+
+def _with_companions(fits: dict, contested: dict) -> dict:
+    """Each contested sign's fits scaled by how much of the sign's neighbourhood each claimant explains.
+
+    A line sits among other lines; a hypothesis that explains it together
+    with its companions (a comb of cage harmonics every 10 Hz) explains it
+    better than one that explains it alone (a ball rate landing on one of
+    them). The companions are the lines of the same spectrum within +-15 %
+    of its frequency (line indices scale with frequency); the fit is
+    multiplied by the claimant's fit-weighted count of them against that of
+    the claimant that explains most.
+    """
+    lines: dict = defaultdict(list)          # (pattern, hypothesis) -> [(line, fit)]
+    for s, by_h in fits.items():
+        pattern, line = _place(s)
+        if line is not None:
+            for h, q in by_h.items():
+                lines[(pattern, h)].append((line, q))
+    out = dict(fits)
+    for s, by_h in contested.items():
+        pattern, line = _place(s)
+        if line is None:
+            continue
+        reach = max(2, NEIGHBOURHOOD * line)
+        cover = {h: sum(q for other, q in lines[(pattern, h)] if abs(other - line) <= reach) for h in by_h}
+        most = max(cover.values())
+        out[s] = {h: q * cover[h] / most for h, q in by_h.items()}
     return out
 
 
@@ -99,14 +147,16 @@ def share(claims: list[Claim], against: Mapping | None = None) -> Sharing:
     certainty = _combine(claims, kept, against)
     if not contested:
         return Sharing(tuple(kept), certainty)
+    fits = _with_companions(fits, contested)
     shares: dict[str, dict] = {}
     rounds = 0
     for rounds in range(1, MAX_ROUNDS + 1):
         for s in sorted(contested):
-            by_h = contested[s]
-            score = {h: q * max(certainty.get(h, 0.0), FLOOR) for h, q in by_h.items()}
-            total = sum(score[h] for h in sorted(score, key=repr))
-            shares[s] = {h: score[h] / total for h in by_h}
+            by_h = fits[s]
+            explained = {h: q * max(certainty.get(h, 0.0), 0.0) for h, q in by_h.items()}
+            shares[s] = {h: q / contested[s][h] * math.prod(1.0 - explained[g] for g in sorted(by_h, key=repr)
+                                                             if g != h)
+                         for h, q in by_h.items()}
         new_kept = []
         for c in claims:
             mass = sum(q for q in c.signs.values() if q > 0)
@@ -118,7 +168,8 @@ def share(claims: list[Claim], against: Mapping | None = None) -> Sharing:
             new_kept.append(min(1.0, held / mass))
         new_certainty = _combine(claims, new_kept, against)
         moved = max(abs(new_certainty[h] - certainty.get(h, 0.0)) for h in new_certainty)
-        kept, certainty = new_kept, new_certainty
+        kept = [0.5 * (a + b) for a, b in zip(kept, new_kept)] if rounds > 50 else new_kept
+        certainty = _combine(claims, kept, against)
         if moved < TOLERANCE:
             break
-    return Sharing(tuple(kept), certainty, shares, rounds)
+    return Sharing(tuple(kept), certainty, shares, rounds, {s: fits[s] for s in contested})

@@ -44,7 +44,7 @@ def test_a_line_at_bpfo_plus_1x_belongs_to_the_stronger_outer_race_family():
     bpfo = defects[at["BPFO"]][2]
     found[at["BPFO"]] = {k: _peak(k * bpfo, 200.0) for k in (1, 2, 3)}
     found[at["BSF"]] = {1: _peak(bpfo + SHAFT_HZ, 12.0)}
-    owned = _owners(defects, found, "fan_end")
+    owned = _owners(defects, found, "fan_end", 5000.0)
     assert owned[(at["BPFO"], 1)]
     assert not owned[(at["BSF"], 1)]
 
@@ -55,7 +55,7 @@ def test_a_line_at_the_exact_ball_rate_stays_the_ball_family_s():
     bpfo, ball = defects[at["BPFO"]][2], defects[at["BSF"]][2]
     found[at["BPFO"]] = {1: _peak(bpfo, 200.0)}
     found[at["BSF"]] = {1: _peak(ball, 12.0)}
-    assert _owners(defects, found, "fan_end")[(at["BSF"], 1)]
+    assert _owners(defects, found, "fan_end", 5000.0)[(at["BSF"], 1)]
 
 
 def test_a_weaker_carrier_claims_no_sideband():
@@ -64,4 +64,4 @@ def test_a_weaker_carrier_claims_no_sideband():
     bpfo = defects[at["BPFO"]][2]
     found[at["BPFO"]] = {1: _peak(bpfo, 5.0)}
     found[at["BSF"]] = {1: _peak(bpfo + SHAFT_HZ, 12.0)}
-    assert _owners(defects, found, "fan_end")[(at["BSF"], 1)]
+    assert _owners(defects, found, "fan_end", 5000.0)[(at["BSF"], 1)]
