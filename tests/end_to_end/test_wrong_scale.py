@@ -30,7 +30,7 @@ from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.synth import Simulation, as_reading, simulate
 from engine.yamlfile import load_schema
 
-from support import CASES, TEST_DATA, TEST_MACHINES
+from support import CASES, TEST_DATA, TEST_MACHINES, HtmlChecker
 
 CWRU = TEST_MACHINES / "cwru-motor.yaml"
 LABELS = {"cwru-130": ("outer-race", "drive_end"), "cwru-105": ("inner-race", "drive_end")}
@@ -124,6 +124,11 @@ def test_every_format_says_so_before_the_hypotheses(tmp_path, capsys, fmt, lead)
     after = out[out.index(lead):out.index(hypotheses)]
     assert all(word in after for word in CHECKED)
     assert "unknown (scale not trusted)" in out          # beside each channel in the levels table
+    if fmt == "html":
+        checker = HtmlChecker()
+        checker.feed(out)
+        assert not checker.errors and not checker.stack
+        assert "as stated (scale not trusted)" in out    # the figures' level axes
 
 
 def test_a_level_only_fault_with_a_gain_of_1000_is_not_called():
