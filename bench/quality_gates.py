@@ -6,8 +6,13 @@ makes (clipping at 30 % of the peak, a 0.05 Hz drift of 1 x the RMS, the
 sample rate stated twice or half too high, mm/s stated for data in g, a gain
 1000 times too high or too low), writes the result to a temporary file, reads
 it back through the ordinary readers and diagnoses it. It prints, per run,
-the quality issues found, whether the diagnosis was withheld, and the top
-hypothesis with its certainty.
+the quality issues found, whether the diagnosis was withheld, the top
+hypothesis with its certainty, whether severity is known and the worst ISO
+zone. A wrong unit or gain spoils levels, not patterns: those runs must give
+the unscaled record's call with severity unknown and no zone, and no
+confident call the unscaled record does not make (checked at the end; the
+exit code is 1 when a run breaks it). Clipping, drift and a sample rate
+stated at half its value still withhold.
 
 Part 2 runs the reading gates over every single record of the shared
 datasets as published and counts the issues each gate raises: on clean
@@ -69,7 +74,11 @@ INJECTIONS = {
 }
 
 
-def run_injection(record: Path, name: str, reasoner, machine, folder: Path) -> str:
+SCALE_ONLY = ("mm/s stated for g", "gain x1000", "gain x0.001")
+
+
+def run_injection(record: Path, name: str, reasoner, machine, folder: Path):
+    """(line to print, the diagnosis or None when the file could not be read)."""
     x, fs, rpm = drive_end(record)
     change, options = INJECTIONS[name]
     path = folder / f"{record.stem}.npz"
@@ -80,28 +89,57 @@ def run_injection(record: Path, name: str, reasoner, machine, folder: Path) -> s
     try:
         reading = load_reading(path)
     except ReadingError as exc:
-        return f"reading error: {exc.problem}"
+        return f"reading error: {exc.problem}", None
     issues = ",".join(sorted({q.kind for q in reading.quality})) or "-"
     d = diagnose(reading, machine, reasoner)
     top = d.reasoning.top
     verdict = "withheld" if d.reasoning.withheld else (
-        f"{top.fault} on {top.component} {100 * top.certainty:.0f} %" if top else "nothing")
+        f"{top.fault} on {top.component} {100 * top.certainty:.0f} %"
+        + (f" stage {top.stage}" if top.stage else "") if top else "nothing")
     confident = not d.reasoning.withheld and top is not None and top.certainty >= CONFIDENT
-    return f"issues {issues:<34} {verdict}{'' if confident or d.reasoning.withheld else ' (not confident)'}" \
-           f"; zone {d.advice.worst_zone or '-'}"
+    severity = "severity unknown" if d.advice.scale is not None else "severity known"
+    return (f"issues {issues:<34} {verdict}{'' if confident or d.reasoning.withheld else ' (not confident)'}"
+            f"; {severity}; zone {d.advice.worst_zone or '-'}"), d
 
 
-def injected(datasets: Path, progress=print) -> None:
+def scale_problems(name: str, d, plain) -> list[str]:
+    """What a scale-only injection broke: its call must be the unscaled record's, with severity unknown."""
+    if d is None or plain is None:
+        return ["not diagnosed"]
+    out = []
+    calls = [(h.fault, h.component) for h in d.reasoning.confident()]
+    before = [(h.fault, h.component) for h in plain.reasoning.confident()]
+    if d.reasoning.withheld:
+        out.append("withheld")
+    if calls[:1] != before[:1]:
+        out.append(f"top call {calls[:1]} against {before[:1]} unscaled")
+    if set(calls) - set(before):
+        out.append(f"confident calls the unscaled record does not make: {sorted(set(calls) - set(before))}")
+    if d.advice.scale is None or d.advice.worst_zone is not None:
+        out.append("severity or a zone given")
+    return out
+
+
+def injected(datasets: Path, progress=print) -> int:
+    """Run every injection; the number of scale-only runs that broke the unscaled call."""
     reasoner = Reasoner(load_rulebook())
     machine = load_machine(MACHINE)
+    broken = 0
     with tempfile.TemporaryDirectory() as tmp:
         for rel in RECORDS:
             record = datasets / rel
             if not record.exists():
                 progress(f"missing {record}")
                 continue
+            plain = None
             for name in INJECTIONS:
-                progress(f"{record.stem:<4} {name:<28} {run_injection(record, name, reasoner, machine, Path(tmp))}")
+                line, d = run_injection(record, name, reasoner, machine, Path(tmp))
+                if name == "as published":
+                    plain = d
+                problems = scale_problems(name, d, plain) if name in SCALE_ONLY else []
+                broken += bool(problems)
+                progress(f"{record.stem:<4} {name:<28} {line}" + (f"  BROKEN: {'; '.join(problems)}" if problems else ""))
+    return broken
 
 
 def records(datasets: Path):
@@ -156,14 +194,15 @@ def main() -> int:
         print(f"no datasets at {args.datasets}", file=sys.stderr)
         return 2
     t0 = time.perf_counter()
-    print("injected faults, drive end (issues found; verdict; worst ISO zone):")
-    injected(args.datasets)
+    print("injected faults, drive end (issues found; verdict with the damage stage; severity; worst ISO zone):")
+    broken = injected(args.datasets)
+    print(f"scale-only injections that changed the unscaled call or kept a severity: {broken}")
     if not args.no_scan:
         print("\nquality issues on every published record (channels as acceleration in g):")
         for kind, n in sorted(scan(args.datasets).items()):
             print(f"  {kind:<22} {n}")
     print(f"\n{time.perf_counter() - t0:.0f} s")
-    return 0
+    return 1 if broken else 0
 
 
 if __name__ == "__main__":

@@ -23,8 +23,6 @@ from .yamlfile import YamlDocument, first_problem, read_yaml
 
 ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
-# quality issues that make a channel's level meaningless: it gets no zone and no severity
-LEVEL_UNTRUSTED = ("implausible_level", "implausible_spectrum")
 # quality issues that distort a channel's overall level (a DC offset does not: the mean is removed)
 LEVEL_DISTORTED = ("clipping", "dropout", "drift", "dead", "nonfinite", "out_of_range")
 
@@ -42,10 +40,25 @@ class ZoneReading:
     channel: str
     point: str
     location: str
-    velocity_rms_mm_s: float
-    zone: str
+    velocity_rms_mm_s: float | None   # None when the channel's scale is not trusted
+    zone: str | None                  # None when the channel's scale is not trusted
     band_truncated: bool
     signal_issues: tuple[str, ...] = ()   # quality issues of the channel: its level is not to be trusted
+    scale_issues: tuple[str, ...] = ()    # quality issues that doubt its scale: no level, no zone
+
+    @property
+    def scale_trusted(self) -> bool:
+        return not self.scale_issues
+
+
+@dataclass(frozen=True)
+class ScaleCheck:
+    """Channels whose scale (unit, sensitivity, gain) is not trusted: severity is unknown until it is checked."""
+
+    channels: tuple[str, ...]
+    zone: str                         # what their zone reads
+    severity: str                     # what a severity without a stage reads
+    check: tuple[str, ...]            # what to check
 
 
 
@@ -90,6 +103,7 @@ class Advice:
     limitations: tuple[str, ...]      # reading problems not strong enough to withhold
     cautions: tuple[str, ...]
     disclaimer: str
+    scale: ScaleCheck | None = None   # channels whose scale is not trusted, or None when every one is
 
 
 def load_advice(folder=ADVICE_FOLDER) -> dict:
@@ -158,12 +172,16 @@ def _oil_tests(machine: Machine, family: str, data: dict) -> tuple[OilTest, ...]
     return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"]) for t in policy["tests"])
 
 
-def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies) -> Recommendation:
+def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies,
+               scale: ScaleCheck | None = None) -> Recommendation:
     todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
     candidates = [urgencies[todo["urgency"]]]
-    if h.stage is not None:
+    if h.stage is not None:       # stages are told by patterns, which no scale changes
         candidates.append(urgencies[data["stage_urgency"][h.stage]])
         severity = f"damage stage {h.stage} of 4: {data['stages'][h.stage]}"
+    elif scale is not None:
+        severity = scale.severity + (f" (channels the quality gates did not doubt: ISO 20816-3 zone {worst})"
+                                     if worst else "")
     else:
         severity = f"machine in ISO 20816-3 zone {worst}" if worst else "no overall level available"
     if worst is not None and h.confident and h.family != "reading":
@@ -180,25 +198,28 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
     data = data or load_advice()
     urgencies = _urgencies(data)
     scale = zone_scale(machine, data)
-    untrusted = {f["channel"] for f in evidence.facts
-                 if f["kind"] == "data_quality" and f["issue"] in LEVEL_UNTRUSTED}
     issues: dict[str, list[str]] = {}
     for q in evidence.quality:
         if q.issue in LEVEL_DISTORTED:
             issues.setdefault(q.channel, []).append(q.issue)
+    # a channel whose scale is not trusted has no level (None): no zone, and no urgency from one
     zones = tuple(ZoneReading(lv.channel, lv.point, lv.location, lv.velocity_rms_mm_s,
-                              zone_of(lv.velocity_rms_mm_s, scale), lv.band_truncated,
-                              tuple(issues.get(lv.channel, ())))
-                  for lv in evidence.levels if lv.channel not in untrusted)
-    worst = max((z.zone for z in zones), default=None)
+                              zone_of(lv.velocity_rms_mm_s, scale) if lv.velocity_rms_mm_s is not None else None,
+                              lv.band_truncated, tuple(issues.get(lv.channel, ())), lv.scale_issues)
+                  for lv in evidence.levels)
+    worst = max((z.zone for z in zones if z.zone is not None), default=None)
+    doubted = evidence.scale_doubted
+    policy = data["scale_not_trusted"]
+    checking = ScaleCheck(tuple(lv.channel for lv in doubted), policy["zone"], policy["severity"],
+                          tuple(policy["check"])) if doubted else None
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
     settings = [f.because for h in problems if h.fault.startswith("settings-") for f in h.support]
     if reasoning.withheld:
-        recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in problems if h.confident)
+        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking) for h in problems if h.confident)
         # no fault conclusion, but a high level on a channel that passed the quality gates still counts
         flagged = {q.channel for q in evidence.quality}
-        clean = max((z.zone for z in zones if z.channel not in flagged), default=None)
+        clean = max((z.zone for z in zones if z.channel not in flagged and z.zone is not None), default=None)
         candidates = [urgencies[data["withheld_urgency"]]]
         if clean:
             candidates.append(urgencies[data["zone_urgency"][clean]])
@@ -206,12 +227,14 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         limitations = tuple(f.because for h in problems if not h.withholds and not h.fault.startswith("settings-")
                             for f in h.support)
     else:
-        recs = tuple(_recommend(h, machine, worst, data, urgencies) for h in shown)
+        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking) for h in shown)
         confident = [r.urgency for r in recs if r.hypothesis.confident]
-        base = [urgencies[data["zone_urgency"][worst]]] if worst else [urgencies["none"]]
-        urgency = min(confident + base, key=lambda u: u.rank)
+        base = [urgencies[data["zone_urgency"][worst]]] if worst else []
+        if checking is not None:      # a level that cannot be judged: check the scale, then decide
+            base.append(urgencies[policy["urgency"]])
+        urgency = min(confident + (base or [urgencies["none"]]), key=lambda u: u.rank)
         # a reading problem that does not withhold the diagnosis, or is too weak to, still limits it
         limitations = tuple(f.because for h in problems for f in h.support)
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
     return Advice(scale, zones, worst, meaning, urgency, recs, tuple(settings) if reasoning.withheld else (),
-                  limitations, tuple(data["cautions"]), data["disclaimer"].strip())
+                  limitations, tuple(data["cautions"]), data["disclaimer"].strip(), checking)

@@ -46,6 +46,12 @@ _ALIASES = {
 
 SI_BASE = {"acceleration": "m/s^2", "velocity": "m/s", "displacement": "m"}
 
+# The units measured values are reported in (the evidence vocabulary's) that state an absolute
+# level: a value in one is the samples' size times a calibration (unit, sensor sensitivity,
+# recorder gain, scale), and wrong by the same factor when the calibration is. Every other
+# reported unit (Hz, dB, %, ms, s, deg, rpm, none) is scale-free.
+LEVEL_UNITS = frozenset({"mm/s RMS", "g RMS", "g peak"})
+
 
 def known_units() -> list[str]:
     """The canonical unit names, for messages and schemas."""
@@ -109,10 +115,11 @@ def convert(values, from_unit: str, to_unit: str) -> np.ndarray:
 def format_quantity(value, unit: str = "", kind: str = "number") -> str:
     """A measured value as a report shows it: sensible digits and its unit (no exponents).
 
-    ``unit`` is the vocabulary's ('' for counts and ratios); ``kind`` its type.
+    ``unit`` is the vocabulary's ('' for counts and ratios); ``kind`` its type. A missing level
+    (the evidence leaves out the levels of a channel whose scale is not trusted) is "level unknown".
     """
     if value is None:
-        return "none"
+        return "level unknown" if unit in LEVEL_UNITS else "none"
     if isinstance(value, bool) or kind == "boolean":
         return "yes" if value else "no"
     if isinstance(value, str) or kind == "string":

@@ -16,10 +16,10 @@ import numpy as np
 
 from ..analysis import Analysis, analyse
 from ..machine import Machine
-from ..readings import Reading, check_record_length
+from ..readings import Reading, check_record_length, scale_doubts
 from . import acquisition, envelope, impacts, levels, sidebands, tones
 from .summary import Evidence, PointLevel, QualityNote, summarise
-from .vocabulary import FACTS, fields_of
+from .vocabulary import FACTS, fields_of, level_fields
 
 
 @dataclass(frozen=True)
@@ -61,14 +61,24 @@ def _plain(value):
 
 
 def run_extractors(rc: Analysis, extractors=EXTRACTORS) -> list[dict]:
-    """Run ``extractors`` over an analysed reading; number the facts kind by kind."""
+    """Run ``extractors`` over an analysed reading; number the facts kind by kind.
+
+    A channel whose scale the quality gates doubt keeps its facts, but every
+    field holding an absolute level (``vocabulary.level_fields``) is None in
+    them: that value is not a measurement, so no rule can compare it (the
+    reasoning engine drops None fields) and no later stage shows it as one.
+    """
+    doubted = scale_doubts(rc.quality)
     facts = []
     counts: dict[str, int] = {}
     for ex in extractors:
         for fact in ex.run(rc):
             kind = fact["kind"]
             counts[kind] = counts.get(kind, 0) + 1
-            facts.append({k: _plain(v) for k, v in fact.items()} | {"id": f"{kind}-{counts[kind]}"})
+            plain = {k: _plain(v) for k, v in fact.items()} | {"id": f"{kind}-{counts[kind]}"}
+            if plain.get("channel") in doubted:
+                plain |= {name: None for name in level_fields(kind) if name in plain}
+            facts.append(plain)
     return facts
 
 

@@ -7,6 +7,7 @@ from collections import defaultdict
 from ._match import find_line
 from .signs import SIGNS, waveform
 from ..analysis import Analysis
+from ..readings.quality import same_scale
 
 
 def overall(rc: Analysis) -> list[dict]:
@@ -42,6 +43,12 @@ def direction_ratio(rc: Analysis) -> list[dict]:
     for location, dirs in by_location.items():
         radial = [dirs[d] for d in ("horizontal", "vertical") if d in dirs]
         if len(dirs) < 2 or not radial:
+            continue
+        if not same_scale(rc.quality, [c.name for c in dirs.values()]):
+            # the channels' scales disagree (one doubted by the quality gates): no ratio between them is measured
+            out.append({"kind": "direction_ratio", "location": location, "location_shaft": radial[0].point.shaft,
+                        "channels": len(dirs), "axial_to_radial": None, "axial_1x_to_radial": None,
+                        "axial_2x_to_radial": None, "horizontal_to_vertical": None})
             continue
         shaft = radial[0].point.shaft
         fr = rc.speeds_hz[shaft]

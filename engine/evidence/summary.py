@@ -1,30 +1,41 @@
 """The evidence of one diagnosis as typed values for the later stages.
 
 Advice and the report need a few things the facts say (each point's
-overall level, the reading's settings, the quality notes); they read them
-here, as dataclasses with units in their field names, and never pick raw
-facts by kind name themselves.
+overall level and whether its scale can be trusted, the reading's settings,
+the quality notes); they read them here, as dataclasses with units in their
+field names, and never pick raw facts by kind name themselves.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from ..readings.quality import scale_doubts
+
 
 @dataclass(frozen=True)
 class PointLevel:
+    """One channel's overall levels. A channel whose scale is doubted (``scale_issues``) has no
+    absolute level: ``velocity_rms_mm_s``, ``accel_rms_g`` and ``accel_peak_g`` are None, while its
+    crest factor and kurtosis, which no scale changes, stand."""
+
     channel: str
     point: str
     location: str
     direction: str
-    velocity_rms_mm_s: float          # in the ISO 20816-3 band
+    velocity_rms_mm_s: float | None   # in the ISO 20816-3 band; None when the scale is not trusted
     velocity_band_lo_hz: float
     velocity_band_hi_hz: float
     band_truncated: bool
-    accel_rms_g: float | None
+    accel_rms_g: float | None         # None for a channel that is not acceleration, or not trusted
     accel_peak_g: float | None
     crest_factor: float
     kurtosis: float
+    scale_issues: tuple[str, ...] = ()   # quality issues that doubt the channel's scale (unit, gain ...)
+
+    @property
+    def scale_trusted(self) -> bool:
+        return not self.scale_issues
 
 
 @dataclass(frozen=True)
@@ -49,12 +60,19 @@ class Evidence:
     def fact_list(self) -> list[dict]:
         return list(self.facts)
 
+    @property
+    def scale_doubted(self) -> tuple[PointLevel, ...]:
+        """The channels whose scale (unit, sensitivity, gain) the quality gates doubt."""
+        return tuple(lv for lv in self.levels if not lv.scale_trusted)
+
 
 def summarise(facts: list[dict]) -> Evidence:
     """Evidence with its summaries, from the facts the extractors produced."""
+    doubted = scale_doubts(f for f in facts if f["kind"] == "data_quality")
     levels = tuple(PointLevel(f["channel"], f["point"], f["location"], f["direction"], f["velocity_rms_mm_s"],
                               f["velocity_band_lo_hz"], f["velocity_band_hi_hz"], f["band_truncated"],
-                              f["accel_rms_g"], f["accel_peak_g"], f["crest_factor"], f["kurtosis"])
+                              f["accel_rms_g"], f["accel_peak_g"], f["crest_factor"], f["kurtosis"],
+                              doubted.get(f["channel"], ()))
                    for f in facts if f["kind"] == "overall")
     settings = next(({k: v for k, v in f.items() if k not in ("kind", "id")}
                      for f in facts if f["kind"] == "acquisition"), {})

@@ -14,6 +14,8 @@ from __future__ import annotations
 
 from typing import NamedTuple
 
+from ..units import LEVEL_UNITS
+
 
 class F(NamedTuple):
     """One field of a fact kind."""
@@ -230,7 +232,21 @@ FACTS["trend"] = {
 
 COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact identity", "")}
 
+# Units of an absolute level (``engine.units.LEVEL_UNITS``): a value in one of them is the samples'
+# size times a calibration (unit, sensor sensitivity, recorder gain, scale), so a wrong calibration
+# makes it wrong by the same factor. Every other unit is scale-free: frequencies, times, angles and
+# speeds do not move when every sample is multiplied by one factor, and dB over a floor,
+# percentages, ratios, counts, kurtosis and crest factor do not change. A channel whose scale the
+# quality gates doubt (``engine.readings.SCALE_ISSUES``) has its level fields left out of its
+# facts (None). tests/evidence checks that every unit here is one or the other.
+SCALE_FREE_UNITS = frozenset({"", "Hz", "dB", "%", "ms", "s", "deg", "rpm"})
+
 
 def fields_of(kind: str) -> dict[str, F]:
     """Fields a fact of ``kind`` carries, with type and meaning (KeyError if unknown)."""
     return COMMON_FIELDS | FACTS[kind]
+
+
+def level_fields(kind: str) -> tuple[str, ...]:
+    """Fields of ``kind`` that hold an absolute level (a unit of ``LEVEL_UNITS``)."""
+    return tuple(name for name, f in FACTS.get(kind, {}).items() if f.unit in LEVEL_UNITS)

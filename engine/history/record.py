@@ -11,7 +11,7 @@ from __future__ import annotations
 import hashlib
 from pathlib import Path
 
-from ..readings import sidecar_path
+from ..readings import SCALE_ISSUES, sidecar_path
 
 # name -> (label with unit, what it is); the trend stage reads these names
 INDICATORS: dict[str, tuple[str, str]] = {
@@ -32,6 +32,12 @@ for _d in BEARING_DEFECTS:
 OVERALL = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "crest_factor", "kurtosis")
 
 
+def is_level(indicator: str) -> bool:
+    """Whether an indicator is an absolute level (its unit, mm/s or g, is in its name): wrong by the
+    same factor as a wrong unit, sensitivity or gain. Crest factor, kurtosis and dB over a floor are not."""
+    return indicator.endswith(("_mm_s", "_g"))
+
+
 def content_hash(paths) -> str:
     """SHA-256 over the bytes of the reading files and their sidecars, in order: the same
     recording with the same settings hashes alike wherever it lies."""
@@ -47,12 +53,18 @@ def content_hash(paths) -> str:
 
 
 def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
-    """The channels of a reading and the key indicators of each, from its evidence facts."""
+    """The channels of a reading and the key indicators of each, from its evidence facts.
+
+    A level the evidence left out (None: the channel's scale is not trusted) is not an
+    indicator: it is not stored, so no trend or route summary reads it as a measurement;
+    the channel says ``scale_trusted: False``.
+    """
     channels, values = [], []
     overall = {f["channel"]: f for f in facts if f["kind"] == "overall"}
+    doubted = {f["channel"] for f in facts if f["kind"] == "data_quality" and f["issue"] in SCALE_ISSUES}
     for name, o in overall.items():
         channels.append({"channel": name, "point": o.get("point") or "", "direction": o.get("direction") or "",
-                         "location": o.get("location") or ""})
+                         "location": o.get("location") or "", "scale_trusted": name not in doubted})
         values += [{"channel": name, "name": k, "value": o[k]} for k in OVERALL if o.get(k) is not None]
         shaft, bearing = o.get("location_shaft"), o.get("location")
         for f in facts:
@@ -62,7 +74,7 @@ def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
                 values.append({"channel": name, "name": "x1_mm_s", "value": f["amplitude_mm_s"]})
             elif f["kind"] == "harmonic_series" and f["source"] == "1X" and f["component"] == shaft:
                 values.append({"channel": name, "name": "x2_mm_s",
-                               "value": f["first_mm_s"] * f["second_to_first"]})
+                               "value": None if f["first_mm_s"] is None else f["first_mm_s"] * f["second_to_first"]})
             elif f["kind"] == "tone" and f["name"] in BEARING_DEFECTS and f["component"] == bearing:
                 values.append({"channel": name, "name": f"tone_{f['name']}_g", "value": f["amplitude_g"]})
         best: dict[str, float] = {}
@@ -71,9 +83,9 @@ def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
                 best[f["defect"]] = max(best.get(f["defect"], -1e9), f["max_snr_db"])
         values += [{"channel": name, "name": f"env_{d}_db", "value": v} for d, v in best.items()]
     seen, unique = set(), []
-    for v in values:           # one value per channel and name (the first wins)
+    for v in values:           # one value per channel and name (the first wins); None or NaN is no value
         key = (v["channel"], v["name"])
-        if key not in seen and v["value"] == v["value"]:
+        if key not in seen and v["value"] is not None and v["value"] == v["value"]:
             seen.add(key)
             unique.append({**v, "value": float(v["value"])})
     return channels, unique

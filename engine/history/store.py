@@ -16,6 +16,7 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 from ..errors import StoreError
+from .record import is_level
 
 BUSY_TIMEOUT_S = 60.0
 
@@ -79,6 +80,16 @@ MIGRATIONS: tuple[str, ...] = (
         started_at TEXT NOT NULL
     );
     ALTER TABLE readings ADD COLUMN route_id INTEGER REFERENCES routes (id) ON DELETE SET NULL;
+    """,
+    # 3: whether each channel's scale (unit, sensitivity, gain) was trusted: 1 yes, 0 no (its levels
+    # are not stored), NULL not known (stored before). Earlier versions gave a channel whose level was
+    # impossible for its unit no zone but stored its levels: those channels are flagged, and the
+    # history leaves their levels out (nothing is deleted).
+    """
+    ALTER TABLE channels ADD COLUMN scale_trusted INTEGER;
+    UPDATE channels SET scale_trusted = 0 WHERE zone IS NULL AND EXISTS (
+        SELECT 1 FROM indicators i WHERE i.reading_id = channels.reading_id AND i.channel = channels.channel
+        AND i.name = 'velocity_rms_mm_s');
     """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
@@ -187,9 +198,10 @@ class Store:
                  int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id))
             rid = cur.lastrowid
             self.db.executemany(
-                "INSERT INTO channels VALUES (?,?,?,?,?,?)",
-                [(rid, c["channel"], c.get("point"), c.get("direction"), c.get("location"), c.get("zone"))
-                 for c in record["channels"]])
+                "INSERT INTO channels (reading_id, channel, point, direction, location, zone, scale_trusted)"
+                " VALUES (?,?,?,?,?,?,?)",
+                [(rid, c["channel"], c.get("point"), c.get("direction"), c.get("location"), c.get("zone"),
+                  int(c.get("scale_trusted", True))) for c in record["channels"]])
             self.db.executemany(
                 "INSERT INTO indicators VALUES (?,?,?,?)",
                 [(rid, i["channel"], i["name"], float(i["value"])) for i in record["indicators"]])
@@ -238,9 +250,10 @@ class Store:
 
     def history(self, machine: str, point: str | None = None) -> list[dict]:
         """One row per stored channel of ``machine`` (at ``point``), oldest first, with every
-        indicator of that channel under ``indicators``."""
-        sql = ("SELECT r.id, r.taken_at, r.speed_rpm, r.route_id, c.channel, c.point, c.direction, c.location, c.zone"
-               " FROM readings r JOIN channels c ON c.reading_id = r.id WHERE r.machine = ?")
+        indicator of that channel under ``indicators``; a channel whose scale was not trusted
+        (``scale_trusted`` 0) has no level among them (crest factor, kurtosis, dB stay)."""
+        sql = ("SELECT r.id, r.taken_at, r.speed_rpm, r.route_id, c.channel, c.point, c.direction, c.location, c.zone,"
+               " c.scale_trusted FROM readings r JOIN channels c ON c.reading_id = r.id WHERE r.machine = ?")
         args: list = [machine]
         if point is not None:
             sql += " AND c.point = ?"
@@ -254,6 +267,8 @@ class Store:
                 values.setdefault((r[0], r[1]), {})[r[2]] = r[3]
         for r in rows:
             r["indicators"] = values.get((r["id"], r["channel"]), {})
+            if r["scale_trusted"] == 0:
+                r["indicators"] = {k: v for k, v in r["indicators"].items() if not is_level(k)}
         return rows
 
     def previous(self, machine: str, before: str, exclude_route: int | None = None) -> dict | None:

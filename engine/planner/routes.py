@@ -232,7 +232,7 @@ def _pole_pass(facts, t, ref):
 
 
 def _severity(facts, t, ref):
-    seen = [f for f in _of(facts, "overall") if f["location_shaft"] == t.shaft]
+    seen = [f for f in _of(facts, "overall") if f["location_shaft"] == t.shaft and f["velocity_rms_mm_s"] is not None]
     if not seen or ref is None:
         return Outcome(False, "no overall level")
     v = max(f["velocity_rms_mm_s"] for f in seen)

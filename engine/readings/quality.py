@@ -59,6 +59,43 @@ SHAPE_SPLIT_HZ = 1000.0
 SHAPE_HIGH_FRACTION = 0.5
 
 
+# Issues that doubt only the size of a channel's samples (a wrong unit, sensitivity, gain or
+# scale), not their shape: a wrong scale multiplies every sample by one factor, which moves
+# no line in frequency and changes no ratio, no height over a local floor, no kurtosis and
+# no crest factor. The channel's absolute levels are not measurements (its evidence leaves
+# them out, it gets no ISO zone); what does not depend on the scale is still diagnosed.
+SCALE_ISSUES = ("implausible_level", "implausible_spectrum")
+
+
+def scale_doubts(issues) -> dict[str, tuple[str, ...]]:
+    """channel -> the scale issues of it, for each channel whose scale is not to be trusted.
+
+    ``issues`` are ``QualityIssue`` values or ``data_quality`` facts (dicts with ``channel``
+    and ``issue``)."""
+    out: dict[str, tuple[str, ...]] = {}
+    for q in issues:
+        channel, kind = (q["channel"], q["issue"]) if isinstance(q, dict) else (q.channel, q.kind)
+        if kind in SCALE_ISSUES and kind not in out.get(channel, ()):
+            out[channel] = out.get(channel, ()) + (kind,)
+    return out
+
+
+def same_scale(issues, channels) -> bool:
+    """Whether a ratio between ``channels`` can be trusted: all have a trusted scale, or all are
+    doubted by the same gates on the same side (levels all too high, or all too low), as when one
+    unit, gain or scale was stated for the whole file. A trusted channel against a doubted one, or
+    a level too high against one too low, makes any ratio between them as wrong as the scale."""
+    states = set()
+    for channel in channels:
+        state = []
+        for q in issues:
+            if q.channel == channel and q.kind in SCALE_ISSUES:
+                high = q.kind == "implausible_level" and q.value > PLAUSIBLE_VELOCITY_MM_S[1]
+                state.append((q.kind, high))
+        states.add(tuple(sorted(state)))
+    return len(states) <= 1
+
+
 # what each kind of issue is called where it is shown (tellwave reading, the reports)
 ISSUE_NAMES = {
     "clipping": "clipping", "dc_offset": "DC offset", "drift": "slow drift", "dropout": "dropouts",

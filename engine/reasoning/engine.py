@@ -190,7 +190,9 @@ class Reasoner:
         values = dict(matched)
         grade = 1.0
         for r in rule.ramps:
-            grade *= cf.ramp(_value(values, r.value), r.start, r.full)
+            graded_by = _value(values, r.value)
+            # a value the evidence left out (a level of a channel whose scale is not trusted) lends nothing
+            grade *= 0.0 if graded_by is None else cf.ramp(graded_by, r.start, r.full)
         premises = [f.get("certainty", 1.0) for _, f in matched if f["kind"] not in (TALLY_KIND,)]
         strength = rule.weight * grade * cf.premise_certainty(premises)
         because = word_sentence(rule, values)
@@ -361,4 +363,4 @@ def _value(values: dict, ref):
     if not isinstance(ref, Ref):
         return ref
     v = values[ref.alias].get(ref.field)
-    return v * ref.factor if ref.factor != 1 else v
+    return v * ref.factor if ref.factor != 1 and v is not None else v

@@ -1,9 +1,11 @@
 """The report as one plain dict: what every format (text, Markdown, HTML, JSON) shows.
 
-``report_document`` puts the answer first: the verdict and urgency, the
-ranked hypotheses with certainty, severity, actions and follow-ups, the oil
-tests for the machine (each once), the cautions; then the reasoning trail, the acquisition notes and
-the zone readings. ``engine/schemas/report.schema.json`` documents it.
+``report_document`` puts the answer first: the verdict and urgency (and,
+when a channel's scale is not trusted, that severity is unknown until it is
+checked, and what to check), the ranked hypotheses with certainty, severity,
+actions and follow-ups, the oil tests for the machine (each once), the
+cautions; then the reasoning trail, the acquisition notes and the zone
+readings. ``engine/schemas/report.schema.json`` documents it.
 """
 
 from __future__ import annotations
@@ -79,12 +81,51 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine, shown: list
     confident = reasoning.confident()
     if not confident:
         zone = f" The overall level is in ISO 20816-3 zone {advice.worst_zone}." if advice.worst_zone else ""
+        if advice.scale is not None:
+            trusted = (f" The channels the quality gates did not doubt read ISO 20816-3 zone {advice.worst_zone}, "
+                       "unless they share the doubted channels' unit or gain." if advice.worst_zone else "")
+            return (f"No fault of {machine.name} reaches a confident certainty, and faults known by their level "
+                    f"alone (unbalance, for one) cannot be judged on {_names(advice.scale.channels)} until the "
+                    f"scale is checked.{trusted}")
         return f"No fault of {machine.name} reaches a confident certainty.{zone}"
     top = confident[0]
     others = len([h for h in shown if h is not top])      # listed below the answer, whatever their certainty
     more = f" ({others} more {'hypothesis' if others == 1 else 'hypotheses'} below)" if others else ""
     return (f"{top.fault_name.capitalize()} on {top.component}: {top.strength}, certainty "
             f"{100 * top.certainty:.0f} %{more}.")
+
+
+def _names(items) -> str:
+    items = list(items)
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def _scale(advice: Advice, evidence: Evidence) -> dict:
+    """Whether severity can be judged: the channels whose scale is not trusted, why, and what to check."""
+    check = advice.scale
+    if check is None:
+        return {"trusted": True, "channels": [], "zone": None, "severity": None, "check": [], "text": None}
+    doubted = {lv.channel: lv for lv in evidence.scale_doubted}
+
+    def having(issue):
+        return [c for c in check.channels if issue in doubted[c].scale_issues]
+
+    reasons = []
+    if level := having("implausible_level"):
+        reasons.append(f"{_names(level)} {'reads' if len(level) == 1 else 'read'} a level no machine in service "
+                       "gives in the stated unit")
+    if shape := having("implausible_spectrum"):
+        reasons.append(f"{_names(shape)} {'holds' if len(shape) == 1 else 'hold'} most of "
+                       f"{'its' if len(shape) == 1 else 'their'} energy above 1 kHz, as no velocity or displacement "
+                       "record does (acceleration stated in the wrong unit, most likely)")
+    one = len(check.channels) == 1
+    text = (f"Severity is unknown until the scale is checked: {'; '.join(reasons)}. "
+            f"{'That channel gets' if one else 'Those channels get'} no ISO 20816-3 zone and no severity from a "
+            "level; frequency patterns, ratios and envelope tones over their own floor do not depend on the scale "
+            "and are diagnosed.")
+    return {"trusted": False,
+            "channels": [{"channel": c, "issues": list(doubted[c].scale_issues)} for c in check.channels],
+            "zone": check.zone, "severity": check.severity, "check": list(check.check), "text": text}
 
 
 def report_time(now: datetime | None = None) -> str:
@@ -165,6 +206,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                  "certainty": round(h.certainty, 3), "support": [_firing(f) for f in h.support]}
                 for h in reasoning.reading_problems]
     withheld_recs = [r for r in advice.recommendations if r.hypothesis.family == "reading"]
+    scale = _scale(advice, evidence)
     doc = {
         "tellwave": __version__,
         "made_at": made_at or report_time(),
@@ -179,7 +221,9 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                                  for name, point, direction in reading.channels]},
         "thresholds": {"conclusion": CONFIDENT, "shown": POSSIBLE},
         "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
-                    "urgency": _urgency(advice.urgency)},
+                    "urgency": _urgency(advice.urgency), "severity_known": scale["trusted"],
+                    "scale_note": scale["text"]},
+        "scale": scale,
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
         "oil_analysis": _oil_analysis(shown, recs),
         "reading_problems": problems,
@@ -198,8 +242,10 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                             "source": " ".join(advice.zone_scale.source.split())},
                   "worst": advice.worst_zone, "meaning": advice.zone_meaning,
                   "points": [{"channel": z.channel, "point": z.point, "location": z.location,
-                              "velocity_rms_mm_s": round(z.velocity_rms_mm_s, 3), "zone": z.zone,
-                              "band_truncated": z.band_truncated, "signal_issues": list(z.signal_issues)}
+                              "velocity_rms_mm_s": None if z.velocity_rms_mm_s is None else round(z.velocity_rms_mm_s, 3),
+                              "zone": z.zone, "band_truncated": z.band_truncated,
+                              "signal_issues": list(z.signal_issues), "scale_trusted": z.scale_trusted,
+                              "scale_issues": list(z.scale_issues)}
                              for z in advice.zones]},
         "chain": [_firing(f) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},

@@ -35,7 +35,9 @@ def focus(reasoning: Reasoning, evidence: Evidence, machine: Machine) -> tuple[s
             channel = (at or seen)[0]["channel"]
         bearing = top.component if top.component in bearings else None
     if channel is None:
-        channel = max(channels.values(), key=lambda lv: lv.velocity_rms_mm_s).channel
+        # the loudest channel with a trusted scale (a level that is not a measurement cannot be loudest)
+        channel = max(channels.values(), key=lambda lv: (lv.velocity_rms_mm_s is not None,
+                                                         lv.velocity_rms_mm_s or 0.0)).channel
     point = points.get(channels[channel].point)
     if bearing is not None:
         shaft = bearings[bearing].shaft
@@ -74,8 +76,10 @@ def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
 def figures(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
     """(title, SVG) of each figure: waveform, revolutions, spectrum, squared envelope spectrum."""
     out = []
+    # a channel whose scale is not trusted is drawn as stated, and its level axes say so
+    stated = " as stated (scale not trusted)" if pd.channel in {lv.channel for lv in evidence.scale_doubted} else ""
     title = f"Waveform, {pd.channel}"
-    out.append((title, svg.render(svg.Plot(title, "time, ms", "acceleration, g",
+    out.append((title, svg.render(svg.Plot(title, "time, ms", "acceleration, g" + stated,
                                            [svg.Series(pd.waveform_t_ms, pd.waveform_g)]))))
     if pd.revolutions_g is not None and len(pd.revolutions_g):
         rows = pd.revolutions_g
@@ -89,7 +93,7 @@ def figures(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
     marks = [svg.Mark(m.freq_hz, m.label) for m in pd.spectrum_marks]
     title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz:.3g} Hz resolution, Hann)"
     top = float(np.max(pd.spectrum_mm_s)) * 1.1 if len(pd.spectrum_mm_s) else 1.0
-    out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "velocity, mm/s RMS",
+    out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "velocity, mm/s RMS" + stated,
                                            [svg.Series(pd.spectrum_hz, pd.spectrum_mm_s)], marks,
                                            xlim=(0.0, float(pd.spectrum_hz[-1])), ylim=(0.0, top), height=260))))
     if pd.envelope is not None:

@@ -82,7 +82,11 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
     for task, r in rows:
         tops = store.db.execute("SELECT fault, fault_name, component, certainty FROM hypotheses"
                                 " WHERE reading_id = ? AND rank = 1", (r["id"],)).fetchone()
-        points = [p[0] for p in store.db.execute("SELECT point FROM channels WHERE reading_id = ?", (r["id"],))]
+        stored = store.db.execute("SELECT channel, point, scale_trusted FROM channels WHERE reading_id = ?",
+                                  (r["id"],)).fetchall()
+        points = [c[1] for c in stored]
+        # points whose scale (unit, sensitivity, gain) was not trusted: no level, no zone, severity unknown
+        unscaled = [c[1] or c[0] for c in stored if c[2] == 0]
         rank, label = urgencies.get(r["urgency"], (len(urgencies), r["urgency"]))
         report = r["report"]
         link = os.path.relpath(report, out_dir) if report else None
@@ -90,7 +94,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
                 "points": [p for p in points if p], "urgency": {"id": r["urgency"], "label": label, "rank": rank},
                 "zone": r["worst_zone"], "summary": r["summary"], "withheld": bool(r["withheld"]),
                 "certainty_pct": round(100 * max(tops[3], 0)) if tops else 0, "report": link,
-                "skipped": task.index in outcome.skipped, "_id": r["id"],
+                "skipped": task.index in outcome.skipped, "_id": r["id"], "scale_not_trusted": unscaled,
                 "top": None if tops is None else {"fault": tops[0], "fault_name": tops[1], "component": tops[2],
                                                   "certainty_pct": round(100 * max(tops[3], 0))}}
         machines.setdefault(r["machine"], {"machine": r["machine"], "readings": []})["readings"].append(item)
@@ -103,6 +107,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         m["top"] = worst["top"]
         m["summary"] = worst["summary"]
         m["certainty_pct"] = worst["certainty_pct"]
+        m["scale_not_trusted"] = sorted({p for x in m["readings"] for p in x["scale_not_trusted"]})
         m["change"] = _change(store, m["machine"], {x["_id"] for x in m["readings"]})
         for x in m["readings"]:
             del x["_id"]

@@ -9,7 +9,7 @@ document (with the plot of each point when asked) goes into the report under
 
 from __future__ import annotations
 
-from ..history.record import indicators_of
+from ..history.record import indicators_of, is_level
 from .facts import trend_facts
 from .report import trend_from_rows
 
@@ -33,6 +33,12 @@ class HistoryLink:
         earlier = [r for r in rows if (r["point"] or r["channel"]) in here and r["taken_at"] < self.taken_at]
         if not earlier:
             return []
+        # a point whose scale is not trusted in this reading has no level now: its level trends would end
+        # at an older reading and read as this one's, so only its scale-free indicators are trended
+        doubted = {c["point"] or c["channel"] for c in channels if not c["scale_trusted"]}
+        earlier = [r if (r["point"] or r["channel"]) not in doubted else
+                   {**r, "indicators": {k: v for k, v in r["indicators"].items() if not is_level(k)}}
+                   for r in earlier]
         now = [{"id": -1, "taken_at": self.taken_at, "speed_rpm": None, "channel": c["channel"], "point": c["point"],
                 "direction": c["direction"], "location": c["location"], "zone": None,
                 "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}

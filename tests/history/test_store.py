@@ -146,7 +146,7 @@ def test_a_diagnosis_becomes_a_record_with_its_key_indicators(tmp_path):
     assert {"velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "crest_factor", "kurtosis", "x1_mm_s",
             "x2_mm_s", "env_BPFI_db"} <= names
     assert rec["channels"] == [{"channel": "P1H", "point": "P1H", "direction": "horizontal", "location": "pump_de",
-                                "zone": rec["channels"][0]["zone"]}]
+                                "scale_trusted": True, "zone": rec["channels"][0]["zone"]}]
     assert rec["top"]["fault"] == "inner-race" and abs(rec["speed_rpm"] - 1486) < 15
     # the same bytes elsewhere hash alike; a changed sidecar does not
     other = tmp_path / "b"
@@ -159,3 +159,69 @@ def test_a_diagnosis_becomes_a_record_with_its_key_indicators(tmp_path):
     with Store(tmp_path / "h.sqlite") as s:
         s.add(rec)
         assert s.history(rec["machine"])[0]["indicators"]["x1_mm_s"] > 0
+
+
+# ---------------------------------------------------------------- a scale that is not trusted
+
+def _gained_record(gain: float, when: str, n: int):
+    """A stored record of a simulated RW-2 inner-race reading at P1H, its samples x ``gain``."""
+    from engine.history.record import record_of
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose, document_of
+    from engine.reasoning import Reasoner, load_rulebook
+    from engine.synth import Simulation, as_reading, simulate
+    from support import CASES
+
+    machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")
+    sim = simulate(machine, "inner-race", "pump_de", 3, fs_hz=12800.0, duration_s=1.0, seed=4, points=["P1H"])
+    sim = Simulation(sim.fs_hz, {k: x * gain for k, x in sim.channels.items()}, sim.points, sim.truth, sim.speed_rpm)
+    d = diagnose(as_reading(sim), machine, Reasoner(load_rulebook()))
+    return machine, d, record_of(document_of(d), d.facts, content_hash=f"gain-{n}", taken_at=when,
+                                 time_from="route", machine_file=str(machine.source), elapsed_s=0.1)
+
+
+def test_an_untrusted_scale_stores_no_level_and_is_flagged(tmp_path):
+    _, _, rec = _gained_record(1000.0, "2026-02-01T00:00:00", 1)
+    names = {i["name"] for i in rec["indicators"]}
+    assert {"crest_factor", "kurtosis", "env_BPFI_db"} <= names      # scale-free: kept
+    assert not {"velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "x1_mm_s", "x2_mm_s"} & names
+    assert rec["channels"][0]["scale_trusted"] is False and rec["channels"][0]["zone"] is None
+    with Store(tmp_path / "h.sqlite") as s:
+        s.add(rec)
+        (row,) = s.history(rec["machine"])
+        assert row["scale_trusted"] == 0 and "kurtosis" in row["indicators"]
+
+
+def test_migration_flags_channels_stored_with_an_untrusted_level_and_history_leaves_it_out(tmp_path):
+    # stores written before step 3 gave such a channel no zone but kept its level
+    path = tmp_path / "h.sqlite"
+    with Store(path, migrate_to=2) as old:
+        old.db.execute("INSERT INTO readings (id, content_hash, machine, source, taken_at, time_from, stored_at)"
+                       " VALUES (1, 'h0', 'M', 'a.wav', '2026-01-01T00:00:00', 'route', 'now')")
+        old.db.execute("INSERT INTO channels VALUES (1, 'A', 'P1', 'horizontal', 'de', NULL)")
+        old.db.execute("INSERT INTO channels VALUES (1, 'B', 'P2', 'horizontal', 'nde', 'B')")
+        for channel, name, value in (("A", "velocity_rms_mm_s", 4870.0), ("A", "kurtosis", 7.5),
+                                     ("B", "velocity_rms_mm_s", 3.1), ("B", "kurtosis", 3.0)):
+            old.db.execute("INSERT INTO indicators VALUES (1, ?, ?, ?)", (channel, name, value))
+    with Store(path) as new:
+        rows = {r["channel"]: r for r in new.history("M")}
+        assert rows["A"]["scale_trusted"] == 0 and rows["A"]["indicators"] == {"kurtosis": 7.5}
+        assert rows["B"]["scale_trusted"] is None and rows["B"]["indicators"]["velocity_rms_mm_s"] == 3.1
+        assert new.db.execute("SELECT COUNT(*) FROM indicators").fetchone()[0] == 4     # nothing deleted
+
+
+def test_a_point_whose_scale_is_not_trusted_now_trends_only_its_scale_free_indicators(tmp_path):
+    from engine.advice import load_advice, zone_scale
+    from engine.trend.diagnosis import HistoryLink
+
+    with Store(tmp_path / "h.sqlite") as s:
+        for i, month in enumerate(("01", "02", "03")):
+            machine, _, rec = _gained_record(1.0, f"2026-{month}-01T00:00:00", i)
+            s.add(rec)
+        machine, d, _ = _gained_record(1000.0, "2026-04-01T00:00:00", 9)
+        link = HistoryLink(s, machine, zone_scale(machine, load_advice()), content_hash="gain-9",
+                           taken_at="2026-04-01T00:00:00", plots=False)
+        trended = {f["indicator"] for f in link(d.facts)}
+    assert {"kurtosis", "crest_factor", "env_BPFI_db"} <= trended
+    assert not {"velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "x1_mm_s", "x2_mm_s"} & trended
+    assert link.doc["points"][0]["iso_change"] is None
