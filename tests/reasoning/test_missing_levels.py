@@ -4,7 +4,9 @@ A condition on a missing field cannot match; a rule that only grades by one lend
 does not fail); a sentence naming one says the level is unknown. A ``none_of`` pattern on a
 missing level would hold (no fact matches it), so the shipped rulebooks keep levels out of
 negations and out of opposing rules: a missing level must never count for or against a fault
-by its absence.
+by its absence. An opposing rule may compare two levels with each other (a series twice as
+strong at another shaft's points): that needs both, and a hypothesis it opposes is graded by the
+same levels, so without them neither counts.
 """
 
 from __future__ import annotations
@@ -15,6 +17,7 @@ import pytest
 
 from engine.evidence.vocabulary import level_fields
 from engine.reasoning import Reasoner, load_rulebook
+from engine.reasoning.rulebook import Ref
 
 RULES = """
 rulebook: test rules
@@ -98,6 +101,11 @@ def test_shipped_rules_never_count_a_missing_level_for_or_against_a_fault():
             on_levels = {c.field for c in p.conditions} & set(level_fields(p.kind))
             assert not on_levels, f"{rule.id}: none_of on {on_levels} holds when the level is missing"
         if rule.weight < 0:
-            on_levels = {c.field for p in rule.needs for c in p.conditions} & {
-                f for p in rule.needs for f in level_fields(p.kind)}
+            on_levels = {c.field for p in rule.needs for c in p.conditions
+                         if c.field in level_fields(p.kind) and not _relative(c)}
             assert not on_levels, f"{rule.id}: opposes a fault by a level that may be missing"
+
+
+def _relative(condition) -> bool:
+    """A comparison with another matched fact's value (``above: 2 * h.first_mm_s``), not a threshold."""
+    return isinstance(condition.value, Ref) and condition.value.alias is not None
