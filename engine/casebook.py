@@ -91,10 +91,16 @@ def describe(result: Reasoning) -> str:
     top = result.top
     if top is None or top.certainty < CONFIDENT:
         return "nothing confident" + (f" (best {top.fault} on {top.component}, {_pct(top.certainty)})" if top else "")
-    return f"{top.fault} on {top.component} ({_pct(top.certainty)})"
+    more = [f"{h.fault} on {h.component} ({_pct(h.certainty)})" for h in result.confident()[1:]]
+    return f"{top.fault} on {top.component} ({_pct(top.certainty)})" + (f"; also {', '.join(more)}" if more else "")
+
+
+def _names(h, wanted: dict) -> bool:
+    return h.fault == wanted["fault"] and wanted.get("component", h.component) == h.component
 
 
 def judge(expect: dict, result: Reasoning) -> bool:
+    """Whether ``result`` reaches the expected conclusion, and no confident fault the case does not allow."""
     if expect.get("withheld"):
         return result.withheld
     if result.withheld:
@@ -103,7 +109,10 @@ def judge(expect: dict, result: Reasoning) -> bool:
     confident = top is not None and top.certainty >= CONFIDENT
     if expect.get("nothing"):
         return not confident
-    return confident and top.fault == expect["fault"] and expect.get("component", top.component) == top.component
+    allowed = [{"fault": expect["fault"]} | ({"component": expect["component"]} if "component" in expect else {})]
+    allowed += expect.get("also", [])
+    return (confident and _names(top, allowed[0])
+            and all(any(_names(h, a) for a in allowed) for h in result.confident()))
 
 
 def run_case(case: Case, reasoner: Reasoner) -> CaseResult:

@@ -8,7 +8,8 @@ hypothesis this module lists, from the rulebook and the firings alone:
   (two defects of one bearing, misalignment against unbalance), each with
   its certainty and the strongest sign against it;
 - separating evidence: the firings that count against a rival or against
-  the leader (the rules that compete for the evidence);
+  the leader (the rules that compete for the evidence), and the share of
+  each rival's signs that the leader explains better (explaining away);
 - expected but not found: the rules that would add to the leader's
   certainty and did not fire, so the reader sees what the call still lacks.
 
@@ -35,6 +36,7 @@ class Rival:
     component: str
     certainty: float
     against: str          # the strongest sign against it, one sentence ("" when none fired)
+    explained_by_leader: float = 0.0   # share of its signs the leading hypothesis explains better (explaining.py)
 
 
 @dataclass(frozen=True)
@@ -75,7 +77,9 @@ def differential(rulebook: Rulebook, reasoning: Reasoning, leading: int = LEADIN
             separating += [f.because for f in r.against]
         out.append(Differential(
             h.fault, h.component,
-            tuple(Rival(r.fault, r.fault_name, r.component, r.certainty, r.against[0].because if r.against else "")
+            tuple(Rival(r.fault, r.fault_name, r.component, r.certainty, r.against[0].because if r.against else "",
+                        next((x.share for x in r.explained_by if (x.fault, x.component) == (h.fault, h.component)),
+                             0.0))
                   for r in rivals),
             tuple(dict.fromkeys(separating)),
             _missing(rulebook, h)))

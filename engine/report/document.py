@@ -30,9 +30,17 @@ def _fact(alias: str, fact: dict) -> dict:
 
 
 def _firing(f: Firing) -> dict:
-    return {"rule": f.rule_id, "title": f.title, "source": f.source, "origin": f.origin,
-            "overrides": list(f.overrides), "certainty": round(f.certainty, 3), "because": " ".join(f.because.split()),
-            "facts": [_fact(a, x) for a, x in f.facts]}
+    out = {"rule": f.rule_id, "title": f.title, "source": f.source, "origin": f.origin,
+           "overrides": list(f.overrides), "certainty": round(f.certainty, 3), "because": " ".join(f.because.split()),
+           "facts": [_fact(a, x) for a, x in f.facts]}
+    if f.raw_certainty is not None:      # explaining away took part of its signs
+        out |= {"raw_certainty": round(f.raw_certainty, 3), "kept": round(f.kept, 3)}
+    return out
+
+
+def _explained_by(h: Hypothesis) -> list[dict]:
+    return [{"fault": x.fault, "fault_name": x.fault_name, "component": x.component, "share": round(x.share, 3)}
+            for x in h.explained_by]
 
 
 def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation) -> dict:
@@ -41,6 +49,8 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation) -> dict:
            "certainty_pct": round(100 * max(h.certainty, 0.0)), "strength": h.strength, "stage": h.stage,
            "support": [_firing(f) for f in h.support], "against": [_firing(f) for f in h.against],
            "other_matches": h.other_matches,
+           "raw_certainty": None if h.raw_certainty is None else round(h.raw_certainty, 3),
+           "explained_by": _explained_by(h),
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
            "spares": list(rec.spares), "confirm": list(rec.confirm)}
     return out
@@ -163,7 +173,8 @@ def _differential(dx, reasoning: Reasoning, recs: dict) -> dict:
     return {"fault": dx.fault, "fault_name": lead.fault_name, "component": dx.component,
             "certainty": round(lead.certainty, 3),
             "rivals": [{"fault": r.fault, "fault_name": r.fault_name, "component": r.component,
-                        "certainty": round(r.certainty, 3), "against": " ".join(r.against.split())}
+                        "certainty": round(r.certainty, 3), "against": " ".join(r.against.split()),
+                        "explained_by_leader": round(r.explained_by_leader, 3)}
                        for r in dx.rivals],
             "separating": [" ".join(t.split()) for t in dx.separating],
             "missing": list(dx.missing),

@@ -65,3 +65,30 @@ def test_a_weaker_carrier_claims_no_sideband():
     found[at["BPFO"]] = {1: _peak(bpfo, 5.0)}
     found[at["BSF"]] = {1: _peak(bpfo + SHAFT_HZ, 12.0)}
     assert _owners(defects, found, "fan_end", 5000.0)[(at["BSF"], 1)]
+
+
+class _Rates:
+    """A bearing's rates as the analysis gives them (only what the ownership reads)."""
+
+    def __init__(self, bearing: str, shaft_hz: float, bpfo_hz: float):
+        self.bearing, self.shaft_hz, self.ftf_hz = bearing, shaft_hz, bpfo_hz / 8
+
+
+def _two_bearings(ratio: float = 2.0):
+    """BPFO of one bearing (rate f) and of a neighbour at ``ratio`` x f, as in a 6312 motor bearing
+    beside a gearbox input bearing whose BPFO is twice it (standard bearing kinematics, derived)."""
+    f = 50.3
+    return [(_Rates("motor_de", 16.42, f), "BPFO", f), (_Rates("input_front", 16.42, ratio * f), "BPFO", ratio * f)], f
+
+
+@pytest.mark.parametrize("true_rate", ["lower", "higher"])
+def test_a_shared_line_goes_to_the_family_with_lines_of_its_own(true_rate):
+    defects, f = _two_bearings()
+    lines = [1, 2, 3, 4, 5] if true_rate == "lower" else [2, 4]        # in units of f, up to 5 f
+    lower = {k: _peak(k * f, 100.0) for k in lines}
+    higher = {k // 2: _peak(k * f, 100.0) for k in lines if k % 2 == 0}
+    owned = _owners(defects, [lower, higher], None, 5000.0)
+    if true_rate == "lower":          # odd harmonics are the lower rate's own: the even ones go with them
+        assert all(owned[(0, k)] for k in lower) and not any(owned[(1, k)] for k in higher)
+    else:                             # nothing at f, 3 f, 5 f: the higher rate explains its lines whole
+        assert all(owned[(1, k)] for k in higher) and not any(owned[(0, k)] for k in lower)
