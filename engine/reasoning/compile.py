@@ -53,7 +53,22 @@ def tally_slot(rule: Rule, pattern: Pattern) -> str:
     return f"{rule.id}/{pattern.alias}"
 
 
-def pattern_test(rule: Rule, p: Pattern) -> dict:
+def referenced(rule: Rule) -> dict[str, set[str]]:
+    """Fields of each alias that some condition compares with (``same_as: t.component``, ``2 * h.first_mm_s``).
+
+    The engine fails on arithmetic with a field a fact does not carry (a
+    level left out of a channel whose scale is not trusted): a pattern
+    whose field is referenced must require it, so the match simply fails.
+    """
+    out: dict[str, set[str]] = {}
+    for p in rule.needs + rule.none_of:
+        for c in p.conditions:
+            if isinstance(c.value, Ref):
+                out.setdefault(c.value.alias or p.alias, set()).add(c.value.field)
+    return out
+
+
+def pattern_test(rule: Rule, p: Pattern, required: set[str] = frozenset()) -> dict:
     if p.counted:
         tests = [{"kind": TALLY_KIND}, {"slot": tally_slot(rule, p)}]
         if p.at_least is not None:
@@ -61,7 +76,7 @@ def pattern_test(rule: Rule, p: Pattern) -> dict:
         if p.at_most is not None:
             tests.append({"$lte": {"n": p.at_most}})
     else:
-        tests = [{"kind": p.kind}]
+        tests = [{"kind": p.kind}] + [{"$ex": {field: 1}} for field in sorted(required)]
         for c in p.conditions:
             tests.extend(_condition(c))
     return {"$and": tests}
@@ -69,9 +84,10 @@ def pattern_test(rule: Rule, p: Pattern) -> dict:
 
 def compile_rule(rule: Rule, action) -> dict:
     """One durable-rules rule: phase, then needs, then negations; ``action`` takes one argument."""
+    needed = referenced(rule)
     patterns = [{PHASE_ALIAS: {"kind": PHASE_KIND}}]
-    patterns += [{p.alias: pattern_test(rule, p)} for p in rule.needs]
-    patterns += [{f"{p.alias}$not": pattern_test(rule, p)} for p in rule.none_of]
+    patterns += [{p.alias: pattern_test(rule, p, needed.get(p.alias, set()))} for p in rule.needs]
+    patterns += [{f"{p.alias}$not": pattern_test(rule, p, needed.get(p.alias, set()))} for p in rule.none_of]
     return {"all": patterns, "run": action}
 
 

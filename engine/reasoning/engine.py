@@ -278,19 +278,22 @@ class Reasoner:
 
     def _losses(self, key, per_rule, sharing) -> tuple[SignLoss, ...]:
         """Which other hypotheses took part of this one's signs, and how much of their weight."""
+        if not sharing.shares:
+            return ()
         signs: dict[str, float] = {}
         for entries in per_rule.values():
             for _, f in entries:
                 if _raw(f) > 0:
                     for sign, fit in f.signs:
-                        signs[sign] = max(signs.get(sign, 0.0), fit)
+                        if fit > signs.get(sign, 0.0):
+                            signs[sign] = fit
         mass = sum(signs.values())
         if mass == 0:
             return ()
         taken: dict = defaultdict(float)
-        for sign, fit in signs.items():
+        for sign in signs.keys() & sharing.shares.keys():
             for other, part in sharing.taken(key, sign).items():
-                taken[other] += fit * part / mass
+                taken[other] += signs[sign] * part / mass
         out = [SignLoss(f, self.rulebook.faults[f].name, c, round(v, 4)) for (f, c), v in taken.items() if v >= 0.01]
         return tuple(sorted(out, key=lambda x: (-x.share, x.fault, x.component)))
 

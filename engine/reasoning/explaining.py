@@ -148,24 +148,21 @@ def share(claims: list[Claim], against: Mapping | None = None) -> Sharing:
     if not contested:
         return Sharing(tuple(kept), certainty)
     fits = _with_companions(fits, contested)
+    # each claim's sign weight, what of it no one else claims, and its contested signs
+    mass = [sum(q for q in c.signs.values() if q > 0) for c in claims]
+    own = [sum(q for s, q in c.signs.items() if q > 0 and s not in contested) for c in claims]
+    disputed = [sorted((s, q) for s, q in c.signs.items() if q > 0 and s in contested) for c in claims]
+    order = {s: sorted(contested[s], key=repr) for s in contested}
     shares: dict[str, dict] = {}
     rounds = 0
     for rounds in range(1, MAX_ROUNDS + 1):
         for s in sorted(contested):
             by_h = fits[s]
             explained = {h: q * max(certainty.get(h, 0.0), 0.0) for h, q in by_h.items()}
-            shares[s] = {h: q / contested[s][h] * math.prod(1.0 - explained[g] for g in sorted(by_h, key=repr)
-                                                             if g != h)
+            shares[s] = {h: q / contested[s][h] * math.prod(1.0 - explained[g] for g in order[s] if g != h)
                          for h, q in by_h.items()}
-        new_kept = []
-        for c in claims:
-            mass = sum(q for q in c.signs.values() if q > 0)
-            if mass == 0:
-                new_kept.append(1.0)
-                continue
-            held = sum(q * (shares[s][c.hypothesis] if s in shares else 1.0)
-                       for s, q in sorted(c.signs.items()) if q > 0)
-            new_kept.append(min(1.0, held / mass))
+        new_kept = [1.0 if m == 0 else min(1.0, (o + sum(q * shares[s][c.hypothesis] for s, q in d)) / m)
+                    for c, m, o, d in zip(claims, mass, own, disputed)]
         new_certainty = _combine(claims, new_kept, against)
         moved = max(abs(new_certainty[h] - certainty.get(h, 0.0)) for h in new_certainty)
         kept = [0.5 * (a + b) for a, b in zip(kept, new_kept)] if rounds > 50 else new_kept

@@ -109,3 +109,34 @@ def test_shipped_rules_never_count_a_missing_level_for_or_against_a_fault():
 def _relative(condition) -> bool:
     """A comparison with another matched fact's value (``above: 2 * h.first_mm_s``), not a threshold."""
     return isinstance(condition.value, Ref) and condition.value.alias is not None
+
+
+def test_a_comparison_with_a_missing_level_of_another_fact_fails_to_match_instead_of_failing(tmp_path):
+    # durable-rules stops with error 311 on arithmetic with a field a fact does not carry; the compiler
+    # makes the referenced pattern require it, so the rule just does not match
+    rules = textwrap.dedent("""
+        rulebook: relative levels
+        faults:
+          wobble: {name: wobble, family: shaft}
+        rules:
+          - id: t.twice
+            title: one 1X twice another
+            source: test
+            needs:
+              - fact: tone
+                as: a
+                where: {name: 1X}
+              - fact: tone
+                as: b
+                where: {name: 1X, channel: {differs_from: a.channel}, amplitude_mm_s: {above: 2 * a.amplitude_mm_s}}
+            concludes: {fault: wobble, component: a.component}
+            certainty: 0.5
+            because: "{b.channel} over {a.channel}"
+        """)
+    (tmp_path / "rb").mkdir()
+    (tmp_path / "rb" / "rules.yaml").write_text(rules)
+    reasoner = Reasoner(load_rulebook(tmp_path / "rb", shipped=False))
+    weak, strong = tone(1.0, 40.0), dict(tone(3.0, 40.0), id="tone-2", channel="P2H")
+    assert [h.fault for h in reasoner.reason([weak, strong]).hypotheses] == ["wobble"]
+    missing = dict(weak, amplitude_mm_s=None)
+    assert reasoner.reason([missing, strong]).hypotheses == ()
