@@ -16,7 +16,7 @@ The demo machines (cases/machines) and the test machine GC-1 (a motor and
 two-stage gearbox whose input bearing's BPFO lies on 2 x BPFO of the motor's
 6312, tests/machines/gc1-grit-conveyor-drive.yaml) are run.
 
-    python -m bench.confusion [--seeds N] [--quick] [--no-pairs | --pairs-only]
+    python -m bench.confusion [--seeds N] [--quick] [--no-pairs | --pairs-only] [--jobs 2]
 """
 
 from __future__ import annotations
@@ -250,6 +250,34 @@ def run_pairs(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.
     return rows
 
 
+_REASONER = None
+
+
+def _task(job):
+    """One scenario or pair over the grid in a worker process, with the worker's own reasoner."""
+    global _REASONER
+    kind, item, grid = job
+    if _REASONER is None:
+        _REASONER = Reasoner(load_rulebook())
+    if kind == "single":
+        return run(scenarios=(item,), reasoner=_REASONER, **grid)
+    return run_pairs(pairs=(item,), reasoner=_REASONER, **grid)
+
+
+def run_in(jobs: int, kind: str, items, grid: dict, reasoner=None) -> list:
+    """``run`` (kind "single") or ``run_pairs`` (kind "pair") over ``items``, in ``jobs`` processes
+    (each its own reasoner) when more than one; the rows come back in the same order."""
+    if jobs <= 1:
+        if kind == "single":
+            return run(scenarios=tuple(items), reasoner=reasoner, **grid)
+        return run_pairs(pairs=tuple(items), reasoner=reasoner, **grid)
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    with ProcessPoolExecutor(jobs, mp_context=multiprocessing.get_context("spawn")) as pool:
+        return [row for part in pool.map(_task, [(kind, item, grid) for item in items]) for row in part]
+
+
 def confusion(rows) -> dict[str, Counter]:
     table = defaultdict(Counter)
     for row in rows:
@@ -283,8 +311,17 @@ def print_report(rows) -> None:
     wrong = sum(len(r.wrong) for r in rows)
     print(f"\noverall: {total_ok}/{len(rows)} ({100 * total_ok / len(rows):.1f} %); wrong calls at 50 % or more: "
           f"{wrong} in {sum(bool(r.wrong) for r in rows)} of {len(rows)} readings")
+    for mk in dict.fromkeys(r.machine for r in rows):
+        on = [r for r in rows if r.machine == mk]
+        print(f"  {mk}: {sum(r.right for r in on)}/{len(on)} right; wrong calls {sum(len(r.wrong) for r in on)} "
+              f"in {sum(bool(r.wrong) for r in on)} readings")
     times = [r.seconds * 1e3 for r in rows]
     print(f"reasoning step: median {statistics.median(times):.1f} ms, max {max(times):.1f} ms over {len(times)} readings")
+    kinds = Counter((f"{r.fault} {r.machine} {r.component}", w.rsplit(" ", 1)[0]) for r in rows for w in r.wrong)
+    if kinds:
+        print("\nwrong calls by truth and hypothesis (readings):")
+        for (truth, called), n in sorted(kinds.items(), key=lambda kv: (-kv[1], kv[0])):
+            print(f"  {n:>4}  {truth:<36} -> {called}")
     misses = [f"  {r.fault:<18} {r.machine} {r.component} stage {r.stage} seed {r.seed} speed x{r.speed} "
               f"fs {r.fs:.0f}: top {r.label} ({r.top:.2f})" for r in rows if not r.right]
     if misses:
@@ -312,6 +349,13 @@ def print_pairs(rows: list[PairRow]) -> None:
           f"one named {sum(any(r.named) and not all(r.named) for r in rows)}, "
           f"neither {sum(not any(r.named) for r in rows)}, withheld {sum(r.withheld for r in rows)}; "
           f"wrong calls at 50 % or more: {sum(len(r.wrong) for r in rows)} in {sum(bool(r.wrong) for r in rows)} readings")
+    kinds = Counter((r.pair, w.rsplit(" ", 1)[0]) for r in rows for w in r.wrong)
+    kinds.update((r.pair, f"not named: {f} on {c}") for r in rows
+                 for (f, c), ok in zip((r.first, r.second), r.named) if not ok)
+    if kinds:
+        print("\npair misses by kind (readings):")
+        for (pair, what), n in sorted(kinds.items(), key=lambda kv: (-kv[1], kv[0])):
+            print(f"  {n:>4}  {pair:<56} {what}")
     misses = []
     for r in rows:
         if r.right:
@@ -333,6 +377,9 @@ def main() -> int:
     parser.add_argument("--pairs", action=argparse.BooleanOptionalAction, default=True,
                         help="run the fault pairs too (default: yes)")
     parser.add_argument("--pairs-only", action="store_true", help="run the fault pairs alone")
+    parser.add_argument("--jobs", type=int, default=1,
+                        help="worker processes (2 on a two-core machine halves the time; the reasoning "
+                             "step's times are then measured under load)")
     args = parser.parse_args()
     t0 = time.perf_counter()
     rulebook = load_rulebook()
@@ -346,11 +393,11 @@ def main() -> int:
     else:
         grid = dict(seeds=tuple(range(args.seeds)))
     if not args.pairs_only:
-        rows = run(scenarios=SCENARIOS + GC1_SCENARIOS, reasoner=reasoner, **grid)
+        rows = run_in(args.jobs, "single", SCENARIOS + GC1_SCENARIOS, grid, reasoner)
         print_report(rows)
         print(f"\n{time.perf_counter() - t0:.0f} s so far\n")
     if args.pairs or args.pairs_only:
-        pair_rows = run_pairs(pairs=QUICK_PAIRS if args.quick else PAIRS, reasoner=reasoner, **grid)
+        pair_rows = run_in(args.jobs, "pair", QUICK_PAIRS if args.quick else PAIRS, grid, reasoner)
         print_pairs(pair_rows)
     print(f"\n{time.perf_counter() - t0:.0f} s in all")
     return 0
