@@ -344,6 +344,9 @@ def parse_scales(text: str) -> list[float]:
 
 
 def positive(text: str) -> float:
+    """One positive finite factor, for ``--scale``."""
+    if "," in text:
+        raise argparse.ArgumentTypeError(f"--scale takes one factor (--scales takes several), got {text!r}")
     return parse_scales(text)[-1]
 
 

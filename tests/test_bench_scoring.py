@@ -139,6 +139,10 @@ def test_scales_parse_with_scale_one_first():
     for bad in ("0", "-1", "a,b", "", "inf"):
         with pytest.raises(argparse.ArgumentTypeError):
             real_data.parse_scales(bad)
+    assert real_data.positive("1000") == 1000.0 and real_data.positive("1") == 1.0
+    for bad in ("1,1000", "0", "x"):
+        with pytest.raises(argparse.ArgumentTypeError):
+            real_data.positive(bad)
 
 
 def test_a_scaled_reading_has_its_samples_multiplied_and_its_gates_run_again():
