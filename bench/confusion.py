@@ -62,9 +62,12 @@ SCENARIOS = (
     ("rotor-bar", "rw2", "M-RW2"),
 )
 
-# The test machine GC-1: bearings that share envelope lines (tests/end_to_end/test_shared_lines.py)
-# and two gear stages, the slow one's tooth impacts a dense comb in the envelope
-GC1_SCENARIOS = (
+# Bearings that share envelope lines (tests/end_to_end/test_shared_lines.py): CT-1's gearbox input
+# bearing has its BPFO on 2 x BPFO of the motor's 6312 as GC-1's does; GC-1's two gear stages, the
+# slow one's tooth impacts a dense comb in the envelope. Not all named right yet, so not asked of
+# tests/reasoning/test_rulebooks.py.
+SHARED_LINE_SCENARIOS = (
+    ("outer-race", "ct1", "motor_de"),
     ("healthy", "gc1", None),
     ("outer-race", "gc1", "motor_de"), ("outer-race", "gc1", "input_bearing"),
     ("inner-race", "gc1", "motor_de"),
@@ -393,7 +396,7 @@ def main() -> int:
     else:
         grid = dict(seeds=tuple(range(args.seeds)))
     if not args.pairs_only:
-        rows = run_in(args.jobs, "single", SCENARIOS + GC1_SCENARIOS, grid, reasoner)
+        rows = run_in(args.jobs, "single", SCENARIOS + SHARED_LINE_SCENARIOS, grid, reasoner)
         print_report(rows)
         print(f"\n{time.perf_counter() - t0:.0f} s so far\n")
     if args.pairs or args.pairs_only:

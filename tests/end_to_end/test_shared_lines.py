@@ -8,8 +8,8 @@ second harmonic); a defect on the input bearing puts none at the 6312's BPFO.
 The same holds for the inner races: BPFO + BPFI = n orders for every bearing
 (the kinematic formulas in engine/kinematics.py, Randall & Antoni 2011, eqs. 1-4),
 so 2 x BPFI(6312) - 2X, a 1X sideband of the inner race's second harmonic, lies within
-0.05 % of BPFI(input). The answer a
-diagnostician gives from the series: the bearing whose whole series is there.
+0.05 % of BPFI(input). The answer a diagnostician gives from the series: the bearing
+whose whole series is there. The demo machine CT-1 has the same coincidence (below).
 
 Results of the reasoning before issue 19 (top hypothesis and the neighbour, 25.6 kHz, 4 s):
 outer race on motor_de, stage 3, seeds 0-3: outer-race on motor_de 0.85, outer-race on
@@ -30,9 +30,10 @@ from engine.pipeline import diagnose
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.synth import as_reading, simulate
 
-from support import TEST_MACHINES
+from support import ROOT, TEST_MACHINES
 
 GC1 = TEST_MACHINES / "gc1-grit-conveyor-drive.yaml"
+CT1 = ROOT / "cases/machines/ct1-cooling-tower-fan.yaml"
 MOTOR_DE, INPUT = "motor_de", "input_bearing"
 SEEDS = (0, 1, 2, 3)
 ISSUE_19 = pytest.mark.xfail(strict=True, reason="issue 19: shared envelope line goes to the lower order")
@@ -44,9 +45,13 @@ def machine():
 
 
 @pytest.fixture(scope="module")
-def answers(machine):
+def reasoner():
+    return Reasoner(load_rulebook())
+
+
+@pytest.fixture(scope="module")
+def answers(machine, reasoner):
     """Diagnoses by (fault, bearing, stage, seed), each simulated once for the module."""
-    reasoner = Reasoner(load_rulebook())
     cache = {}
 
     def answer(fault, bearing, stage, seed):
@@ -109,3 +114,18 @@ def test_motor_de_inner_race_is_not_blamed_on_the_input_bearing(answers, stage, 
 @pytest.mark.parametrize("stage, seed", _cases(set()))
 def test_input_bearing_inner_race_is_named_on_the_input_bearing(answers, stage, seed):
     _check(answers("inner-race", INPUT, stage, seed), "inner-race", INPUT, MOTOR_DE)
+
+
+# The demo machine CT-1 has the same coincidence: its 6312 at the motor's drive end and the gearbox
+# input bearing input_front (15 rollers of 15.6 mm on 83 mm at 13 degrees: BPFO 6.1265 orders against
+# 2 x 3.0642 = 6.1284, 0.03 % apart, the same formulas). Before issue 19: stage 2, outer-race on
+# input_front 0.55 and nothing on motor_de; stage 3, input_front 0.38 and still nothing on motor_de
+# (its BPFO family keeps only 2 of its 5 harmonics, below the 3 that establish a family).
+@pytest.mark.parametrize("stage, seed", [pytest.param(stage, seed, marks=ISSUE_19) for stage in (3, 2) for seed in (0, 1)])
+def test_ct1_motor_de_outer_race_is_named_on_the_motor(reasoner, stage, seed):
+    machine = load_machine(CT1)
+    bearings = {b.id: b for b in machine.bearings}
+    assert abs(bearing_multiples(bearings["input_front"])["bpfo"] / (2 * bearing_multiples(bearings[MOTOR_DE])["bpfo"])
+               - 1) < 0.01
+    sim = simulate(machine, "outer-race", MOTOR_DE, stage, None, 25600.0, 4.0, seed)
+    _check(diagnose(as_reading(sim), machine, reasoner).reasoning, "outer-race", MOTOR_DE, "input_front")
