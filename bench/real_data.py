@@ -18,7 +18,17 @@ A record's answer is its top hypothesis; it is a call at 50 % or more. A
 call is right when it names the labelled fault on the labelled bearing (for a
 healthy record no call is right).
 
-    python -m bench.real_data [--datasets PATH] [--only 130,IR2_600]
+With ``--scale S`` every record's samples are multiplied by S before the
+diagnosis, as a wrong gain or sensitivity would leave them (nothing else about
+the reading changes; the quality gates run on the scaled samples). With
+``--scales 1,0.001,1000`` the bench runs once per scale and compares each
+record's call (top fault and bearing at 50 % or more, or no call) with its call
+at scale 1: same, lost, changed or gained, and counts the confident wrong calls
+and the reports that say the severity is unknown (``severity_unknown`` in the
+report or the diagnosis, where present). The goal: the same calls at every
+scale and never a confident wrong one; a report may say it cannot judge severity.
+
+    python -m bench.real_data [--datasets PATH] [--only 130,IR2_600] [--scale S | --scales 1,0.001,1000]
 """
 
 from __future__ import annotations
@@ -32,8 +42,9 @@ from collections import defaultdict
 from pathlib import Path
 
 from engine.machine import load_machine
-from engine.pipeline import diagnose
+from engine.pipeline import diagnose, document_of
 from engine.readings import load_reading
+from engine.readings.quality import check_channel
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -66,10 +77,16 @@ class Row:
     withheld: bool
     seconds: float
     others: tuple[str, ...] = ()    # further hypotheses at 50 % or more that are not the labelled fault
+    severity_unknown: bool | None = None    # the report says the severity is unknown (None: it has no such field)
 
     @property
     def call(self) -> bool:
         return not self.withheld and self.certainty >= CONFIDENT
+
+    @property
+    def called(self) -> str | None:
+        """The call, "fault on bearing", or None when the record gets none."""
+        return self.top if self.call else None
 
     @property
     def acceptable(self) -> bool:
@@ -120,6 +137,63 @@ def reading_of(path: Path, row: dict):
     return dataclasses.replace(reading, channels=tuple(channels))
 
 
+def scaled(reading, factor: float):
+    """``reading`` with every channel's samples times ``factor``, as a wrong gain or sensitivity
+    would leave them, and the quality gates run again on them (as loading runs them)."""
+    channels = tuple(dataclasses.replace(c, samples=c.samples * factor) for c in reading.channels)
+    quality = tuple(q for ch in channels for q in check_channel(ch, reading.fs_hz))
+    return dataclasses.replace(reading, channels=channels, quality=quality)
+
+
+# Fields that say a report cannot judge severity. Assumed name: ``severity_unknown`` (true when
+# the severity is unknown, e.g. the scale is not trusted), wherever it appears in the report
+# document (engine/schemas/report.schema.json: top level, verdict, a hypothesis ...) or as an
+# attribute of the Diagnosis or its advice, reading or reasoning. ``scale_trusted: false`` says the same.
+UNKNOWN_FLAGS = ("severity_unknown",)
+TRUSTED_FLAGS = ("scale_trusted",)
+
+
+def _flags_in(value, found: list[bool]) -> None:
+    if isinstance(value, dict):
+        for key, v in value.items():
+            if key in UNKNOWN_FLAGS and isinstance(v, bool):
+                found.append(v)
+            elif key in TRUSTED_FLAGS and isinstance(v, bool):
+                found.append(not v)
+            else:
+                _flags_in(v, found)
+    elif isinstance(value, (list, tuple)):
+        for v in value:
+            _flags_in(v, found)
+
+
+def severity_unknown_of(diagnosis=None, document: dict | None = None) -> bool | None:
+    """Whether the report says the severity is unknown: True when any flag says so, False when
+    flags exist and none does, None when neither the diagnosis nor the document has such a flag."""
+    found: list[bool] = []
+    for holder in (diagnosis, *(getattr(diagnosis, part, None) for part in ("advice", "reading", "reasoning"))):
+        if holder is None:
+            continue
+        for name in UNKNOWN_FLAGS + TRUSTED_FLAGS:
+            v = getattr(holder, name, None)
+            if isinstance(v, bool):
+                found.append(v if name in UNKNOWN_FLAGS else not v)
+    if document is not None:
+        _flags_in(document, found)
+    return any(found) if found else None
+
+
+def compare_call(base: Row, other: Row) -> str:
+    """How ``other``'s call differs from ``base``'s (the same record at scale 1): same (no call in
+    both counts too), lost, gained or changed."""
+    a, b = base.called, other.called
+    if a == b:
+        return "same"
+    if b is None:
+        return "lost"
+    return "gained" if a is None else "changed"
+
+
 def score(result, row: dict) -> tuple[str, float, bool]:
     top = result.top
     certainty = top.certainty if top else 0.0
@@ -144,7 +218,10 @@ def records(datasets=DATASETS) -> list[dict]:
                 if r["dataset"] in MACHINES and r["fault"] in (*FAULTS, "normal")]
 
 
-def run(datasets=DATASETS, only=None, reasoner=None, progress=print) -> list[Row]:
+def run(datasets=DATASETS, only=None, reasoner=None, progress=print, scale: float = 1.0,
+        severity: bool = False) -> list[Row]:
+    """A Row per record; ``scale`` multiplies the samples (see ``scaled``); ``severity`` reads
+    whether each report says the severity is unknown (it builds the report document)."""
     reasoner = reasoner or Reasoner(load_rulebook())
     machines = {k: load_machine(p) for k, p in MACHINES.items()}
     rows = []
@@ -153,19 +230,23 @@ def run(datasets=DATASETS, only=None, reasoner=None, progress=print) -> list[Row
             continue
         t0 = time.perf_counter()
         reading = reading_of(datasets / row["path"], row)
-        result = diagnose(reading, machines[row["dataset"]], reasoner).reasoning
+        if scale != 1.0:
+            reading = scaled(reading, scale)
+        d = diagnose(reading, machines[row["dataset"]], reasoner)
+        result = d.reasoning
         top, cf, right = score(result, row)
         label = f"{row['fault']} {row['fault_bearing']} {row['fault_size_in']}".strip()
+        unknown = severity_unknown_of(d, document_of(d, made_at="2026-01-01T00:00Z")) if severity else None
         out = Row(row["path"], row["dataset"], label, "/".join(categories(row["smith_randall_category_M1_M2_M3"])),
                   group_of(row), "withheld" if result.withheld else top, cf, right, result.withheld,
-                  time.perf_counter() - t0, others_called(result, row))
+                  time.perf_counter() - t0, others_called(result, row), unknown)
         rows.append(out)
         progress(f"{'ok  ' if out.acceptable else 'MISS'} {out.path:<48} {out.label:<26} {out.category or '-':<8} "
                  f"{out.group:<7} -> {out.top} ({out.certainty:.2f})")
     return rows
 
 
-def field_records(datasets=DATASETS, reasoner=None, progress=print) -> None:
+def field_records(datasets=DATASETS, reasoner=None, progress=print, scale: float = 1.0) -> None:
     """The MFPT field recordings: what the tool concludes (labels unverified)."""
     reasoner = reasoner or Reasoner(load_rulebook())
     with open(datasets / "index.csv", newline="", encoding="utf-8") as f:
@@ -179,6 +260,8 @@ def field_records(datasets=DATASETS, reasoner=None, progress=print) -> None:
         reading = load_reading(path, unit="g", channels=["gs"], speed_rpm=rpm.get(stem))
         reading = dataclasses.replace(reading, channels=tuple(dataclasses.replace(c, point="FB", direction="vertical")
                                                                for c in reading.channels))
+        if scale != 1.0:
+            reading = scaled(reading, scale)
         result = diagnose(reading, machine, reasoner).reasoning
         tops = ", ".join(f"{h.fault} on {h.component} {h.certainty:.2f}" for h in result.hypotheses[:3])
         progress(f"field {stem:<26} -> {tops or 'nothing'}" + (" (withheld)" if result.withheld else ""))
@@ -201,23 +284,104 @@ def totals(rows: list[Row]) -> list[str]:
     return lines
 
 
+COMPARISONS = ("same", "lost", "changed", "gained")
+
+
+def scale_table(by_scale: dict[float, list[Row]]) -> list[str]:
+    """Per record its call at each scale against scale 1, then the counts per scale and the goal."""
+    base = {r.path: r for r in by_scale[1.0]}
+    others = [s for s in by_scale if s != 1.0]
+    width = max(len(Path(p).stem) for p in base) + 1
+
+    def flag(r: Row) -> str:
+        return {True: " [severity unknown]", False: "", None: ""}[r.severity_unknown]
+
+    lines = [f"{'record':<{width}} {'label':<24} x1 call" + "".join(f" | x{s:g}" for s in others)]
+    for path, b in base.items():
+        cells = []
+        for s in others:
+            r = next((x for x in by_scale[s] if x.path == path), None)
+            if r is None:
+                cells.append("not run")
+                continue
+            how = compare_call(b, r)
+            what = {"same": "same", "lost": f"lost ({'withheld' if r.withheld else f'{r.top} {r.certainty:.2f}'})",
+                    "changed": f"CHANGED to {r.called} {r.certainty:.2f}",
+                    "gained": f"GAINED {r.called} {r.certainty:.2f}"}[how]
+            wrong = " WRONG" if r.call and not r.right and how != "same" else ""
+            cells.append(what + wrong + flag(r))
+        call = f"{b.called} {b.certainty:.2f}" if b.called else "no call"
+        lines.append(f"{Path(path).stem:<{width}} {b.label:<24} {call + flag(b)}" + "".join(f" | {c}" for c in cells))
+    lines.append("")
+    goal = True
+    for s, rows in by_scale.items():
+        compared = [(base[r.path], r) for r in rows if r.path in base]
+        counts = {c: sum(compare_call(b, r) == c for b, r in compared) for c in COMPARISONS}
+        wrong = [r for r in rows if r.call and not r.right]
+        new_wrong = [r for b, r in compared if r.call and not r.right and compare_call(b, r) != "same"]
+        flags = [r.severity_unknown for r in rows]
+        said = ("not in the report" if all(f is None for f in flags)
+                else f"{sum(f is True for f in flags)}/{len(rows)}")
+        lines.append(f"x{s:<8g} records {len(rows)}: same {counts['same']}, lost {counts['lost']}, "
+                     f"changed {counts['changed']}, gained {counts['gained']}; withheld "
+                     f"{sum(r.withheld for r in rows)}; confident wrong calls {len(wrong)} "
+                     f"({len(new_wrong)} not made at x1); severity unknown {said}")
+        goal &= counts["same"] == len(compared) and not new_wrong
+    lines.append("goal (the same calls at every scale, no confident wrong call that scale 1 does not make): "
+                 + ("met" if goal else "not met"))
+    return lines
+
+
+def parse_scales(text: str) -> list[float]:
+    """``1,0.001,1000`` -> [1.0, 0.001, 1000.0]; scale 1 always first (the calls compare with it)."""
+    try:
+        values = [float(x) for x in text.split(",") if x.strip()]
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"scales must be numbers separated by commas, got {text!r}") from None
+    if not values or any(not v > 0 or v == float("inf") for v in values):
+        raise argparse.ArgumentTypeError(f"scales must be positive finite numbers, got {text!r}")
+    return [1.0] + [v for v in dict.fromkeys(values) if v != 1.0]
+
+
+def positive(text: str) -> float:
+    """One positive finite factor, for ``--scale``."""
+    if "," in text:
+        raise argparse.ArgumentTypeError(f"--scale takes one factor (--scales takes several), got {text!r}")
+    return parse_scales(text)[-1]
+
+
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--datasets", type=Path, default=DATASETS)
     parser.add_argument("--only", help="comma-separated record names (file stems)")
+    group = parser.add_mutually_exclusive_group()
+    group.add_argument("--scale", type=positive, default=1.0,
+                       help="multiply every record's samples by this factor (a wrong gain) before diagnosis")
+    group.add_argument("--scales", type=parse_scales,
+                       help="comma-separated factors: run once per factor and compare each call with scale 1")
     args = parser.parse_args()
     if not (args.datasets / "index.csv").exists():
         print(f"no datasets at {args.datasets}", file=sys.stderr)
         return 2
     reasoner = Reasoner(load_rulebook())
     t0 = time.perf_counter()
-    rows = run(args.datasets, args.only.split(",") if args.only else None, reasoner)
+    only = args.only.split(",") if args.only else None
+    if args.scales:
+        by_scale = {}
+        for s in args.scales:
+            print(f"scale x{s:g}", flush=True)
+            by_scale[s] = run(args.datasets, only, reasoner, progress=lambda *_: None, scale=s, severity=True)
+        print()
+        print("\n".join(scale_table(by_scale)))
+        print(f"\n{time.perf_counter() - t0:.0f} s")
+        return 0
+    rows = run(args.datasets, only, reasoner, scale=args.scale)
     print("\ntotals (clear: right fault on the right bearing at 50 % or more; hard, partial, normal: "
           "no confident wrong call):")
     for line in totals(rows):
         print("  " + line)
     print()
-    field_records(args.datasets, reasoner)
+    field_records(args.datasets, reasoner, scale=args.scale)
     print(f"\n{time.perf_counter() - t0:.0f} s")
     return 0
 

@@ -53,9 +53,9 @@ def simulated_answers(reasoner, seeds=(0, 1), speeds=(0.85, 1.0), stages=(2, 3),
     from .confusion import run
 
     rows = run(seeds=seeds, speeds=speeds, sample_rates=(fs,), stages=stages, reasoner=reasoner)
-    return [Answer("simulated", f"{fault} {key} s{seed} x{scale} stage {stage}", 0.0 if withheld else top,
-                   truth, withheld)
-            for fault, key, _c, stage, seed, scale, _fs, _label, _right, top, _dt, withheld, truth in rows]
+    return [Answer("simulated", f"{r.fault} {r.machine} s{r.seed} x{r.speed} stage {r.stage}",
+                   0.0 if r.withheld else r.top, r.truth_at_any, r.withheld)
+            for r in rows]
 
 
 def table(answers: list[Answer]) -> list[str]:

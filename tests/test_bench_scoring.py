@@ -1,0 +1,155 @@
+"""The benches' scoring on hand-made answers: fault pairs and wrong calls (bench.confusion), calls
+compared across gains and the severity-unknown flag (bench.real_data)."""
+
+from __future__ import annotations
+
+import argparse
+from types import SimpleNamespace
+
+import numpy as np
+import pytest
+
+from bench import confusion, real_data
+from engine.readings.model import Channel, Reading
+
+
+def _h(fault, component, certainty):
+    return SimpleNamespace(fault=fault, component=component, certainty=certainty)
+
+
+def _result(*hypotheses, withheld=False):
+    return SimpleNamespace(hypotheses=tuple(hypotheses), withheld=withheld,
+                           top=hypotheses[0] if hypotheses else None)
+
+
+# a pump coupled to its motor (same speed) and a fan behind a gear
+MACHINE = SimpleNamespace(shaft_speeds_hz={"motor": 24.8, "pump": 24.8, "fan": 8.5})
+PAIR = (("unbalance", "pump"), ("outer-race", "pump_nde"))
+
+
+# ---------------------------------------------------------------- bench.confusion
+
+
+def test_a_pair_is_right_when_both_are_named_and_nothing_else_is_called():
+    result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.6), _h("inner-race", "pump_de", 0.4))
+    assert confusion.pair_verdict(result, MACHINE, PAIR) == ((True, True), (), True)
+
+
+def test_a_pair_with_one_fault_below_half_is_not_right():
+    result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.49))
+    assert confusion.pair_verdict(result, MACHINE, PAIR) == ((False, True), (), False)
+
+
+def test_a_pair_with_a_third_call_is_not_right_and_lists_it():
+    result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.7), _h("outer-race", "pump_de", 0.5))
+    named, wrong, right = confusion.pair_verdict(result, MACHINE, PAIR)
+    assert (named, right) == ((True, True), False)
+    assert wrong == ("outer-race on pump_de 0.50",)
+
+
+def test_the_right_fault_on_the_wrong_component_does_not_name_the_truth():
+    result = _result(_h("outer-race", "pump_de", 0.8), _h("unbalance", "fan", 0.7))
+    named, wrong, right = confusion.pair_verdict(result, MACHINE, PAIR)
+    assert named == (False, False) and not right
+    assert len(wrong) == 2
+
+
+def test_a_withheld_pair_names_nothing_and_calls_nothing():
+    result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.7), withheld=True)
+    assert confusion.pair_verdict(result, MACHINE, PAIR) == ((False, False), (), False)
+
+
+def test_misalignment_counts_on_either_shaft_of_its_joint_and_either_kind():
+    joint = (("misalignment-angular", "pump"),)
+    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "motor", 0.7)), MACHINE, joint) == ()
+    # a shaft behind a gear turns at another speed: not the joint
+    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "fan", 0.7)), MACHINE, joint) \
+        == ("misalignment-parallel on fan 0.70",)
+    # without the machine only the very shaft counts
+    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "motor", 0.7)), None, joint) \
+        == ("misalignment-parallel on motor 0.70",)
+
+
+def test_every_call_on_a_single_fault_reading_that_is_not_the_truth_is_a_wrong_call():
+    result = _result(_h("outer-race", "pump_nde", 0.85), _h("outer-race", "pump_de", 0.55),
+                     _h("unbalance", "pump", 0.52), _h("inner-race", "pump_nde", 0.3))
+    assert confusion.wrong_calls(result, MACHINE, (("outer-race", "pump_nde"),)) == \
+        ("outer-race on pump_de 0.55", "unbalance on pump 0.52")
+    # a healthy machine: every call is wrong
+    assert len(confusion.wrong_calls(result, MACHINE, ())) == 3
+
+
+def test_the_top_answer_verdict_is_unchanged():
+    result = _result(_h("outer-race", "pump_nde", 0.85), _h("outer-race", "pump_de", 0.55))
+    assert confusion.verdict(result, MACHINE, "outer-race", "pump_nde") == ("outer-race", True)
+    assert confusion.verdict(result, MACHINE, "outer-race", "pump_de") == ("outer-race", False)
+    assert confusion.verdict(_result(_h("outer-race", "pump_nde", 0.45)), MACHINE, "healthy", None) == ("none", True)
+    assert confusion.verdict(result, MACHINE, "healthy", None) == ("outer-race", False)
+
+
+# ---------------------------------------------------------------- bench.real_data
+
+
+def _row(path, top, certainty, right=True, withheld=False, severity_unknown=None):
+    return real_data.Row(path, "CWRU", "outer_race DE 0.007", "Y1", "clear", "withheld" if withheld else top,
+                         certainty, right, withheld, 0.1, severity_unknown=severity_unknown)
+
+
+def test_calls_compare_with_the_call_at_scale_one():
+    base = _row("a.mat", "outer-race on drive_end", 0.8)
+    assert real_data.compare_call(base, _row("a.mat", "outer-race on drive_end", 0.6)) == "same"
+    assert real_data.compare_call(base, _row("a.mat", "outer-race on drive_end", 0.45)) == "lost"
+    assert real_data.compare_call(base, _row("a.mat", "outer-race on drive_end", 0.8, withheld=True)) == "lost"
+    assert real_data.compare_call(base, _row("a.mat", "inner-race on drive_end", 0.7, right=False)) == "changed"
+    none = _row("a.mat", "outer-race on drive_end", 0.3)
+    assert real_data.compare_call(none, _row("b.mat", "nothing", 0.0)) == "same"
+    assert real_data.compare_call(none, _row("a.mat", "inner-race on fan_end", 0.6, right=False)) == "gained"
+
+
+def test_the_scale_table_meets_its_goal_only_with_the_same_calls_and_no_new_wrong_one():
+    base = [_row("a.mat", "outer-race on drive_end", 0.8), _row("b.mat", "inner-race on drive_end", 0.7, right=False)]
+    same = [_row("a.mat", "outer-race on drive_end", 0.7), _row("b.mat", "inner-race on drive_end", 0.7, right=False)]
+    lines = real_data.scale_table({1.0: base, 1000.0: same})
+    assert lines[-1].endswith(": met")
+    assert "x1000" in lines[-2] and "same 2, lost 0" in lines[-2] and "(0 not made at x1)" in lines[-2]
+    changed = [_row("a.mat", "inner-race on drive_end", 0.6, right=False), same[1]]
+    lines = real_data.scale_table({1.0: base, 1000.0: changed})
+    assert lines[-1].endswith("not met")
+    assert "changed 1" in lines[-2] and "confident wrong calls 2 (1 not made at x1)" in lines[-2]
+    assert any("CHANGED to inner-race on drive_end 0.60 WRONG" in line for line in lines)
+    lost = [_row("a.mat", "outer-race on drive_end", 0.8, withheld=True), same[1]]
+    assert real_data.scale_table({1.0: base, 1000.0: lost})[-1].endswith("not met")
+
+
+def test_the_severity_flag_is_read_wherever_it_appears():
+    assert real_data.severity_unknown_of(SimpleNamespace(advice=None), {"verdict": {"withheld": False}}) is None
+    assert real_data.severity_unknown_of(None, {"verdict": {"severity_unknown": True}}) is True
+    assert real_data.severity_unknown_of(None, {"hypotheses": [{"severity_unknown": False},
+                                                               {"severity_unknown": True}]}) is True
+    assert real_data.severity_unknown_of(None, {"hypotheses": [{"severity_unknown": False}]}) is False
+    assert real_data.severity_unknown_of(SimpleNamespace(advice=SimpleNamespace(severity_unknown=True)), {}) is True
+    assert real_data.severity_unknown_of(SimpleNamespace(reading=SimpleNamespace(scale_trusted=False))) is True
+    assert real_data.severity_unknown_of(None, {"reading": {"scale_trusted": True}}) is False
+    assert real_data.severity_unknown_of(None, {"severity_unknown": "yes"}) is None     # not a flag
+
+
+def test_scales_parse_with_scale_one_first():
+    assert real_data.parse_scales("0.001,1000") == [1.0, 0.001, 1000.0]
+    assert real_data.parse_scales("1000,1,1000") == [1.0, 1000.0]
+    for bad in ("0", "-1", "a,b", "", "inf"):
+        with pytest.raises(argparse.ArgumentTypeError):
+            real_data.parse_scales(bad)
+    assert real_data.positive("1000") == 1000.0 and real_data.positive("1") == 1.0
+    for bad in ("1,1000", "0", "x"):
+        with pytest.raises(argparse.ArgumentTypeError):
+            real_data.positive(bad)
+
+
+def test_a_scaled_reading_has_its_samples_multiplied_and_its_gates_run_again():
+    x = np.random.default_rng(3).standard_normal(20000)     # about 1 m/s^2 RMS: plausible
+    reading = Reading("r", 10000.0, (Channel("a", x, "acceleration", "g", "DE", "vertical"),))
+    out = real_data.scaled(reading, 1e7)
+    assert np.array_equal(out.channels[0].samples, 1e7 * x)
+    assert (out.channels[0].point, out.fs_hz) == ("DE", 10000.0)
+    # 1e7 m/s^2 RMS is past the physical range the gates allow (1e5 g, engine/readings/quality.py)
+    assert not reading.quality and [q.kind for q in out.quality] == ["out_of_range"]
