@@ -145,42 +145,10 @@ def scaled(reading, factor: float):
     return dataclasses.replace(reading, channels=channels, quality=quality)
 
 
-# Fields that say a report cannot judge severity. Assumed name: ``severity_unknown`` (true when
-# the severity is unknown, e.g. the scale is not trusted), wherever it appears in the report
-# document (engine/schemas/report.schema.json: top level, verdict, a hypothesis ...) or as an
-# attribute of the Diagnosis or its advice, reading or reasoning. ``scale_trusted: false`` says the same.
-UNKNOWN_FLAGS = ("severity_unknown",)
-TRUSTED_FLAGS = ("scale_trusted",)
-
-
-def _flags_in(value, found: list[bool]) -> None:
-    if isinstance(value, dict):
-        for key, v in value.items():
-            if key in UNKNOWN_FLAGS and isinstance(v, bool):
-                found.append(v)
-            elif key in TRUSTED_FLAGS and isinstance(v, bool):
-                found.append(not v)
-            else:
-                _flags_in(v, found)
-    elif isinstance(value, (list, tuple)):
-        for v in value:
-            _flags_in(v, found)
-
-
-def severity_unknown_of(diagnosis=None, document: dict | None = None) -> bool | None:
-    """Whether the report says the severity is unknown: True when any flag says so, False when
-    flags exist and none does, None when neither the diagnosis nor the document has such a flag."""
-    found: list[bool] = []
-    for holder in (diagnosis, *(getattr(diagnosis, part, None) for part in ("advice", "reading", "reasoning"))):
-        if holder is None:
-            continue
-        for name in UNKNOWN_FLAGS + TRUSTED_FLAGS:
-            v = getattr(holder, name, None)
-            if isinstance(v, bool):
-                found.append(v if name in UNKNOWN_FLAGS else not v)
-    if document is not None:
-        _flags_in(document, found)
-    return any(found) if found else None
+def severity_unknown_of(document: dict) -> bool:
+    """Whether the report says severity is unknown until the scale is checked (``verdict.severity_known``,
+    engine/schemas/report.schema.json)."""
+    return not document["verdict"]["severity_known"]
 
 
 def compare_call(base: Row, other: Row) -> str:
@@ -236,7 +204,7 @@ def run(datasets=DATASETS, only=None, reasoner=None, progress=print, scale: floa
         result = d.reasoning
         top, cf, right = score(result, row)
         label = f"{row['fault']} {row['fault_bearing']} {row['fault_size_in']}".strip()
-        unknown = severity_unknown_of(d, document_of(d, made_at="2026-01-01T00:00Z")) if severity else None
+        unknown = severity_unknown_of(document_of(d, made_at="2026-01-01T00:00Z")) if severity else None
         out = Row(row["path"], row["dataset"], label, "/".join(categories(row["smith_randall_category_M1_M2_M3"])),
                   group_of(row), "withheld" if result.withheld else top, cf, right, result.withheld,
                   time.perf_counter() - t0, others_called(result, row), unknown)

@@ -121,16 +121,9 @@ def test_the_scale_table_meets_its_goal_only_with_the_same_calls_and_no_new_wron
     assert real_data.scale_table({1.0: base, 1000.0: lost})[-1].endswith("not met")
 
 
-def test_the_severity_flag_is_read_wherever_it_appears():
-    assert real_data.severity_unknown_of(SimpleNamespace(advice=None), {"verdict": {"withheld": False}}) is None
-    assert real_data.severity_unknown_of(None, {"verdict": {"severity_unknown": True}}) is True
-    assert real_data.severity_unknown_of(None, {"hypotheses": [{"severity_unknown": False},
-                                                               {"severity_unknown": True}]}) is True
-    assert real_data.severity_unknown_of(None, {"hypotheses": [{"severity_unknown": False}]}) is False
-    assert real_data.severity_unknown_of(SimpleNamespace(advice=SimpleNamespace(severity_unknown=True)), {}) is True
-    assert real_data.severity_unknown_of(SimpleNamespace(reading=SimpleNamespace(scale_trusted=False))) is True
-    assert real_data.severity_unknown_of(None, {"reading": {"scale_trusted": True}}) is False
-    assert real_data.severity_unknown_of(None, {"severity_unknown": "yes"}) is None     # not a flag
+def test_the_severity_flag_is_read_from_the_verdict():
+    assert real_data.severity_unknown_of({"verdict": {"severity_known": False}}) is True
+    assert real_data.severity_unknown_of({"verdict": {"severity_known": True}}) is False
 
 
 def test_scales_parse_with_scale_one_first():
