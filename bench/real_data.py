@@ -24,8 +24,8 @@ the reading changes; the quality gates run on the scaled samples). With
 ``--scales 1,0.001,1000`` the bench runs once per scale and compares each
 record's call (top fault and bearing at 50 % or more, or no call) with its call
 at scale 1: same, lost, changed or gained, and counts the confident wrong calls
-and the reports that say the severity is unknown (``severity_unknown`` in the
-report or the diagnosis, where present). The goal: the same calls at every
+and the reports that say the severity is unknown (the report's
+``verdict.severity_known`` is false). The goal: the same calls at every
 scale and never a confident wrong one; a report may say it cannot judge severity.
 
     python -m bench.real_data [--datasets PATH] [--only 130,IR2_600] [--scale S | --scales 1,0.001,1000]
