@@ -335,7 +335,11 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
         rates = rates_at(machine, speeds)
     candidates = _impact_candidates_hz(rates)
-    loudest = max(velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
+    # the speed shaft's own lines stand clearest at its own points (a slow shaft's harmonics can
+    # hide its 1X at another shaft's sensor): the loudest channel there, else the loudest of all
+    own = [ch.name for ch in usable if (p := points.get(ch.point)) is None
+           or abs(speeds[p.shaft] - speeds[shaft]) <= 1e-9 * speeds[shaft]]
+    loudest = max(own or velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
     check = half_and_double(velocity[loudest], speed.speed_hz, _explained_lines(machine, rates, shaft))
 
     channels = []

@@ -182,7 +182,8 @@ FACTS: dict[str, dict[str, F]] = {
         "harmonics": F("integer", "shaft harmonic (or tone) lines that agreed on the speed", ""),
         "deviation_pct": F("number", "speed used against the stated (else nominal) speed, %", "%"),
         "abs_deviation_pct": F("number", "size of that deviation, %", "%"),
-        "one_x_found": F("boolean", "a line stands at 1X in the loudest channel", ""),
+        "one_x_found": F("boolean", "a line stands at 1X in the loudest channel on this shaft (at its speed), "
+                                    "where the fields below are measured", ""),
         "odd_order_lines": F("integer", "lines at 1X, 3X, 5X, 7X, 9X in the loudest channel", ""),
         "half_order_lines": F("integer", "lines at 0.5X, 1.5X, 2.5X, 3.5X, 4.5X in the loudest channel that no "
                                          "other line of the machine explains", ""),

@@ -10,7 +10,7 @@ import yaml
 
 from engine.cli import main
 from engine.machine import load_machine
-from engine.synth import simulate, write_simulation
+from engine.synth import as_reading, simulate, write_simulation
 from support import ROOT
 
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
@@ -126,3 +126,18 @@ def test_at_its_true_speed_a_variable_speed_reading_raises_no_speed_problem(tmp_
     wav = _wav(tmp_path, fault, component)
     code, doc, _ = _diagnose_json(capsys, wav, "--machine", variable_speed_rw2)
     assert code == 0 and not {"rate-contradicted", "speed-outside-drive"} & set(_problems(doc))
+
+
+def test_a_slow_shaft_s_sensor_hiding_the_motor_s_1x_raises_no_speed_problem():
+    # CT-1's gearbox output sensor is the loudest: the fan's 3X sits 3 % from the motor's 1X and hides it while
+    # the motor's 2X stands clear. The motor's own sensors show its 1X, and they are the ones the check reads.
+    from engine.evidence import extract_evidence
+    from engine.reasoning import Reasoner, load_rulebook
+
+    ct1 = load_machine(ROOT / "cases/machines/ct1-cooling-tower-fan.yaml")
+    sim = simulate(ct1, "gear-wear", "bevel_stage", 2, None, 25600.0, 4.0, 1)
+    facts = extract_evidence(as_reading(sim), ct1)
+    (check,) = [f for f in facts if f["kind"] == "speed_check"]
+    assert check["one_x_found"] and check["odd_to_two_x"] > 1
+    result = Reasoner(load_rulebook()).reason(facts)
+    assert not result.withheld and result.top.fault == "gear-wear"
