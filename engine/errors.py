@@ -5,7 +5,8 @@ command line can print one line (``tellwave: error: <file>:<line>: <problem>``)
 and exit without a traceback. Anything that is not a ``TellwaveError`` is a bug.
 
 Exit codes: 0 done; 1 a case failed (``rulebook test``, ``demo``); 2 bad command
-line or case file; 3 bad machine file; 4 bad reading file; 5 bad rulebook or
+line or case file; 3 bad machine file; 4 bad reading file, or a reading that does
+not fit its machine file (a channel at a point the machine lacks); 5 bad rulebook or
 advice data; 6 a rule failed while running; 7 diagnosed, but the reading cannot
 support a conclusion (``EXIT_WITHHELD``: not an error, a result); 8 the history
 store cannot be used; 9 a route finished, but some of its readings failed; 130
@@ -54,7 +55,8 @@ class MachineError(TellwaveError):
 
 
 class ReadingError(TellwaveError):
-    """A reading file cannot be read, or holds nothing that can be analysed."""
+    """A reading file cannot be read, holds nothing that can be analysed, or does not fit the machine
+    file it is diagnosed with (a channel at a point the machine lacks)."""
 
     exit_code = 4
 

@@ -19,8 +19,10 @@ f_A = GMF / gcd(z1, z2) (listed only when gcd > 1).
 Belts: belt pass frequency = belt speed / belt length = pi D1 f1 / L.
 
 Induction motors (line frequency f_L, ``p`` poles): synchronous speed
-f_s = 2 f_L / p; slip frequency f_s - fr; pole pass frequency p (f_s - fr);
-twice line frequency 2 f_L; rotor bar pass frequency = bars x fr.
+f_s = 2 f_L / p (120 f_L / p in r/min); slip frequency f_s - fr; pole pass
+frequency p (f_s - fr); twice line frequency 2 f_L; rotor bar pass frequency
+= bars x fr. A motor fed from the line runs between f_s (1 - MAX_LINE_FED_SLIP)
+and f_s (``speed_limits``).
 
 ``rates_at`` gives every rate the engine uses at given shaft speeds, grouped
 by component (``Rates``); ``forcing_frequencies`` lists them flat for people.
@@ -39,6 +41,11 @@ BEARING_DEFECTS = ("BPFO", "BPFI", "BSF", "FTF")
 MAX_LINE_FED_SLIP = 0.10    # rated slip is 1-5 %; past about 10 % a motor is near pull-out (common practice)
 
 
+def synchronous_hz(line_frequency_hz: float, poles: int) -> float:
+    """Synchronous speed 2 f_L / p of an induction motor, in Hz (the standard relation 120 f / p in r/min)."""
+    return 2 * line_frequency_hz / poles
+
+
 def pole_pass_hz(line_frequency_hz: float, poles: int, shaft_hz: float) -> float | None:
     """Pole pass frequency p (f_s - fr) of a line-fed induction motor, in Hz.
 
@@ -46,7 +53,7 @@ def pole_pass_hz(line_frequency_hz: float, poles: int, shaft_hz: float) -> float
     MAX_LINE_FED_SLIP: such a motor is not running steadily on the stated line
     frequency (a drive feeds it), and its pole pass frequency is unknown.
     """
-    sync_hz = 2 * line_frequency_hz / poles
+    sync_hz = synchronous_hz(line_frequency_hz, poles)
     slip_hz = sync_hz - shaft_hz
     if slip_hz <= 0 or slip_hz > MAX_LINE_FED_SLIP * sync_hz:
         return None
@@ -202,7 +209,7 @@ def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
     motors = []
     for mot in machine.motors:
         fr = speeds_hz[mot.shaft]
-        sync_hz = 2 * mot.line_frequency_hz / mot.poles
+        sync_hz = synchronous_hz(mot.line_frequency_hz, mot.poles)
         slip_hz = sync_hz - fr
         motors.append(MotorRates(mot.id, mot.shaft, mot.line_frequency_hz, 2 * mot.line_frequency_hz, sync_hz,
                                  slip_hz, pole_pass_hz(mot.line_frequency_hz, mot.poles, fr),
@@ -255,3 +262,46 @@ def forcing_frequencies(machine: Machine, speed_rpm: float | None = None,
     The list is sorted by frequency.
     """
     return forcing_list(rates_at(machine, machine.speeds_at(speed_rpm, shaft)))
+
+
+@dataclass(frozen=True)
+class SpeedLimits:
+    """The speeds the machine's drive allows one shaft, in rpm, and what sets them."""
+
+    shaft: str
+    low_rpm: float
+    high_rpm: float
+    set_by: str        # words for the report: the drive's range, or the line-fed motors
+
+
+def speed_limits(machine: Machine, shaft: str) -> SpeedLimits | None:
+    """What the drive allows ``shaft`` to turn at, scaled from the shaft that fixes it; None if unknown.
+
+    A speed range in the machine file (a variable-speed drive) wins. Else each
+    induction motor whose nominal speed is that of a line-fed motor (below
+    synchronous speed by at most MAX_LINE_FED_SLIP) holds its shaft between
+    f_s (1 - MAX_LINE_FED_SLIP) and f_s; several such motors hold the train to
+    the overlap of their ranges. A motor whose nominal speed lies outside that
+    band is fed by a drive whose range the file does not state: no limit.
+    """
+    nominal = machine.shaft_speeds_hz
+    scale = nominal[shaft]
+    if machine.speed_range is not None:
+        r = machine.speed_range
+        to_shaft = scale / nominal[r.shaft]
+        return SpeedLimits(shaft, r.low_rpm * to_shaft, r.high_rpm * to_shaft,
+                           f"the machine file's speed range for shaft {r.shaft}, {r.low_rpm:.6g} to "
+                           f"{r.high_rpm:.6g} rpm")
+    low, high, motors = 0.0, math.inf, []
+    for mot in machine.motors:
+        sync_hz = synchronous_hz(mot.line_frequency_hz, mot.poles)
+        if not sync_hz * (1 - MAX_LINE_FED_SLIP) <= nominal[mot.shaft] <= sync_hz * (1 + 1e-9):
+            continue            # not line-fed at its nominal speed: a drive feeds it
+        to_shaft = scale / nominal[mot.shaft]
+        low = max(low, sync_hz * (1 - MAX_LINE_FED_SLIP) * 60 * to_shaft)
+        high = min(high, sync_hz * 60 * to_shaft)
+        motors.append(f"line-fed motor {mot.id}: {mot.poles} poles at {mot.line_frequency_hz:g} Hz, synchronous "
+                      f"{sync_hz * 60:.6g} rpm, slip at most {MAX_LINE_FED_SLIP * 100:g} %")
+    if not motors:
+        return None
+    return SpeedLimits(shaft, low, high, "; ".join(motors))

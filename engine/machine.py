@@ -73,6 +73,15 @@ class Motor:
 
 
 @dataclass(frozen=True)
+class SpeedRange:
+    """The speeds a variable-speed drive runs one shaft at, as the machine file states them."""
+
+    shaft: str
+    low_rpm: float
+    high_rpm: float
+
+
+@dataclass(frozen=True)
 class Point:
     id: str
     at: str          # bearing id or shaft id
@@ -99,6 +108,7 @@ class Machine:
     motors: tuple[Motor, ...] = ()
     points: tuple[Point, ...] = ()
     descriptions: Mapping[str, str] = field(default_factory=dict)
+    speed_range: SpeedRange | None = None   # a variable-speed drive's range, when the file states one
 
     def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
         """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
@@ -209,6 +219,7 @@ def _build(doc: YamlDocument) -> Machine:
             fail(("points", i, "at"), f"{p['at']!r} is neither a bearing nor a shaft of this machine")
         points.append(Point(p["id"], p["at"], shaft, p["direction"]))
 
+    speed_range = _speed_range(data["shafts"], speeds, fail)
     descriptions = {s["id"]: s["description"] for s in data["shafts"] if "description" in s}
     return Machine(
         name=data["machine"], source=doc.path, plant=data.get("plant"),
@@ -217,8 +228,29 @@ def _build(doc: YamlDocument) -> Machine:
         shaft_speeds_hz=MappingProxyType(speeds), driver_shaft=driver,
         bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
-        descriptions=MappingProxyType(descriptions),
+        descriptions=MappingProxyType(descriptions), speed_range=speed_range,
     )
+
+
+def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | None:
+    """The one shaft's stated speed range, checked: lowest below highest, the shaft's own speed inside."""
+    ranged = [(i, spec) for i, spec in enumerate(shaft_specs) if "speed_range_rpm" in spec]
+    if not ranged:
+        return None
+    first = ranged[0][1]["id"]
+    for i, spec in ranged[1:]:
+        fail(("shafts", i, "speed_range_rpm"), f"only one shaft may state a speed range and shaft {first!r} "
+             "does; the other shafts follow it by their ratios")
+    i, spec = ranged[0]
+    low, high = (float(v) for v in spec["speed_range_rpm"])
+    if not low < high:
+        fail(("shafts", i, "speed_range_rpm"), f"the lowest speed ({low:g} rpm) must be below the highest "
+             f"({high:g} rpm)")
+    rpm = speeds[spec["id"]] * 60.0
+    if not low * (1 - 1e-9) <= rpm <= high * (1 + 1e-9):     # a derived speed carries rounding
+        fail(("shafts", i, "speed_range_rpm"), f"shaft {spec['id']!r} runs at {rpm:.6g} rpm, outside its "
+             f"speed range of {low:g} to {high:g} rpm")
+    return SpeedRange(spec["id"], low, high)
 
 
 def _whole(value):

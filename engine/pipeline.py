@@ -14,7 +14,7 @@ from .analysis import analyse
 from .analysis.plotdata import PlotData, plot_data
 from .evidence import Evidence, run_extractors, summarise
 from .machine import Machine
-from .readings import Reading, check_record_length, describe_issue
+from .readings import Reading, check_points, check_record_length, describe_issue
 from .reasoning import Reasoner, Reasoning
 
 
@@ -66,6 +66,7 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     ``taken`` is (ISO time, where it came from) when the caller knows better
     than the file when the reading was taken.
     """
+    check_points(reading, machine)
     check_record_length(reading, machine)
     analysis = analyse(reading, machine)
     facts = run_extractors(analysis)

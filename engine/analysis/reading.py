@@ -22,7 +22,7 @@ import numpy as np
 from scipy.fft import next_fast_len
 
 from ..errors import ReadingError
-from ..kinematics import ForcingFrequency, Rates, forcing_list, rates_at
+from ..kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..machine import Machine, Point
 from ..readings import Channel, QualityIssue, Reading, describe_issue
 from .envelope import band_from_spectrum, whitened_spectrum
@@ -32,7 +32,7 @@ from .kurtogram import Kurtogram, kurtogram_of_spectrum
 from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
 from .spectrum import Spectrum, Transform, integrate
-from .speed import SpeedEstimate, half_and_double, refine_speeds, speed_from_tones
+from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, speed_from_tones
 from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
 
 SPEED_SEARCH_FRACTION = 0.05   # a stated or nominal speed may be several percent off
@@ -120,6 +120,7 @@ class Analysis:
     stated_rpm: float | None = None        # the speed the reading states (file, sidecar or option)
     nominal_rpm: float = 0.0               # the machine file's speed of the same shaft
     speed_check: Mapping[str, float] = field(default_factory=dict)   # lines at half and twice the speed
+    speed_limits: SpeedLimits | None = None  # what the machine's drive allows the speed shaft, when it says
 
     @property
     def duration_s(self) -> float:
@@ -298,6 +299,17 @@ def _speed_from_envelopes(channels: list, rates: Rates, speed: SpeedEstimate) ->
                          "bearing tones", best.lines_found)
 
 
+def _explained_lines(machine: Machine, rates: Rates, shaft: str) -> list[float]:
+    """Lines the machine itself puts near the half orders and harmonics of twice the speed of
+    ``shaft``: other shafts' harmonics, line frequency harmonics, mesh, pass and belt frequencies."""
+    own = rates.shafts_hz[shaft]
+    lines = [k * hz for hz in rates.shafts_hz.values() if abs(hz - own) > 1e-9 * own
+             for k in range(1, HARMONICS + 1)]
+    lines += [k * m.line_frequency_hz for m in machine.motors for k in range(1, LINE_HARMONICS + 1)]
+    lines += [g.gmf_hz for g in rates.meshes] + [r.pass_hz for r in rates.rotors]
+    return lines + [b.belt_pass_hz for b in rates.belts]
+
+
 def analyse(reading: Reading, machine: Machine) -> Analysis:
     """Analyse every usable channel of ``reading`` for ``machine``.
 
@@ -334,8 +346,12 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
                        for ch in usable}
     candidates = _impact_candidates_hz(rates)
-    loudest = max(velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
-    check = half_and_double(velocity[loudest], speed.speed_hz, SPEED_SEARCH_FRACTION)
+    # the speed shaft's own lines stand clearest at its own points (a slow shaft's harmonics can
+    # hide its 1X at another shaft's sensor): the loudest channel there, else the loudest of all
+    own = [ch.name for ch in usable if (p := points.get(ch.point)) is None
+           or abs(speeds[p.shaft] - speeds[shaft]) <= 1e-9 * speeds[shaft]]
+    loudest = max(own or velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
+    check = half_and_double(velocity[loudest], speed.speed_hz, _explained_lines(machine, rates, shaft))
 
     channels = []
     for ch in usable:
@@ -355,4 +371,5 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         ))
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),
                     MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels),
-                    reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check))
+                    reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check),
+                    speed_limits(machine, shaft))

@@ -167,30 +167,47 @@ def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
     return SpeedEstimate(best[1] * nominal_hz, nominal_hz, (), False, "bearing tones", best[2])
 
 
-def half_and_double(spec: Spectrum, speed_hz: float, search_fraction: float = 0.05) -> dict:
+def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
     """Lines that would stand where they do if the stated sample rate (or speed) were off by two.
 
     Returns the lines found at odd multiples of half the speed (0.5X, 1.5X,
     2.5X, 3.5X, 4.5X), the ratio of the 0.5X line to 1X, whether 1X itself is
     there, the lines at odd orders (1X, 3X .. 9X: none if every frequency
-    reads doubled), and how many harmonics of twice the speed stand out.
+    reads doubled), how many harmonics of twice the speed stand out, how far
+    the 0.5X and 2X lines stand above their local floors (dB; 0 when no line
+    stands clear) and the largest line at an odd order over the 2X line. Lines
+    are matched within 0.5 % (or 1.5 lines). ``exclude_hz`` are lines the
+    machine puts there at the speed used (other shafts' harmonics, line
+    frequency harmonics, pass and mesh frequencies): a half order or a
+    harmonic of twice the speed within a Hann main lobe (2 lines) or 0.5 % of
+    one of them is not counted, since it needs no wrong speed to explain it.
     """
     df = spec.resolution_hz
+    excluded = np.asarray(exclude_hz, dtype=float)
+
+    def lines_at(targets: list[float], drop_explained: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(amplitude, floor, stands clear) of the line at each target."""
+        found = peaks_near(spec, targets, [max(1.5 * df, 0.005 * hz) for hz in targets])
+        floors = np.maximum(spec.floor_at(found.line), 1e-300)
+        clear = found.found & (found.amplitude >= MIN_HARMONIC_SNR * floors)
+        clear &= np.array([hz < spec.fmax_hz for hz in targets])
+        if drop_explained and excluded.size:
+            clear &= np.array([not np.any(np.abs(excluded - hz) <= max(2 * df, 0.005 * hz)) for hz in targets])
+        return found.amplitude, floors, clear
+
     one_x = peak_near(spec, speed_hz, 1.5 * df)
     floor_1x = noise_floor(spec, int(round(speed_hz / df)))
     one_x_amp = one_x.amplitude if one_x is not None and one_x.amplitude >= MIN_HARMONIC_SNR * floor_1x else 0.0
-    half = speed_hz / 2
-    odd = [(k * half, k) for k in (1, 3, 5, 7, 9)]
-    found = peaks_near(spec, [hz for hz, _ in odd], [max(1.5 * df, 0.005 * hz) for hz, _ in odd])
-    floors = spec.floor_at(found.line) if len(found) else np.zeros(0)
-    clear = found.found & (found.amplitude >= MIN_HARMONIC_SNR * np.maximum(floors, 1e-300))
-    half_amp = float(found.amplitude[0]) if clear[0] else 0.0
-    doubled = [(2 * k * speed_hz, k) for k in range(1, HARMONICS + 1)]
-    _, double_hits, _ = _comb(spec, doubled, search_fraction, ())
-    odd = [k * speed_hz for k in (1, 3, 5, 7, 9)]
-    at_odd = peaks_near(spec, odd, [max(1.5 * df, 0.005 * hz) for hz in odd])
-    odd_floors = spec.floor_at(at_odd.line)
-    odd_lines = int((at_odd.found & (at_odd.amplitude >= MIN_HARMONIC_SNR * np.maximum(odd_floors, 1e-300))).sum())
-    return {"one_x_found": one_x_amp > 0, "odd_order_lines": odd_lines, "half_order_lines": int(clear.sum()),
-            "half_to_one_x": half_amp / one_x_amp if one_x_amp > 0 else (HALF_WITHOUT_1X if half_amp > 0 else 0.0),
-            "double_speed_lines": len(double_hits)}
+    half_amp, half_floor, half_clear = lines_at([k * speed_hz / 2 for k in (1, 3, 5, 7, 9)], True)
+    even_amp, even_floor, even_clear = lines_at([2 * k * speed_hz for k in range(1, HARMONICS + 1)], True)
+    odd_amp, _, odd_clear = lines_at([k * speed_hz for k in (1, 3, 5, 7, 9)], False)
+    half_x = float(half_amp[0]) if half_clear[0] else 0.0
+    odd_lines = int(odd_clear.sum())
+    largest_odd = float(np.max(odd_amp[odd_clear], initial=0.0))
+    return {"one_x_found": one_x_amp > 0, "odd_order_lines": odd_lines, "half_order_lines": int(half_clear.sum()),
+            "half_to_one_x": half_x / one_x_amp if one_x_amp > 0 else (HALF_WITHOUT_1X if half_x > 0 else 0.0),
+            "double_speed_lines": int(even_clear.sum()),
+            "half_x_snr_db": float(20 * np.log10(half_amp[0] / half_floor[0])) if half_clear[0] else 0.0,
+            "two_x_snr_db": float(20 * np.log10(even_amp[0] / even_floor[0])) if even_clear[0] else 0.0,
+            "odd_to_two_x": largest_odd / float(even_amp[0]) if even_clear[0]
+            else (HALF_WITHOUT_1X if odd_lines else 0.0)}

@@ -16,7 +16,7 @@ import numpy as np
 
 from ..analysis import Analysis, analyse
 from ..machine import Machine
-from ..readings import Reading, check_record_length, scale_doubts
+from ..readings import Reading, check_points, check_record_length, scale_doubts
 from . import acquisition, envelope, impacts, levels, sidebands, tones
 from .summary import Evidence, PointLevel, QualityNote, summarise
 from .vocabulary import FACTS, fields_of, level_fields
@@ -84,6 +84,7 @@ def run_extractors(rc: Analysis, extractors=EXTRACTORS) -> list[dict]:
 
 def extract_evidence(reading: Reading, machine: Machine) -> list[dict]:
     """Every evidence fact for ``reading`` of ``machine``."""
+    check_points(reading, machine)
     check_record_length(reading, machine)
     return run_extractors(analyse(reading, machine))
 

@@ -77,9 +77,12 @@ def speed_check(rc: Analysis) -> list[dict]:
 
     A sample rate or speed stated twice or half its true value moves every
     shaft line to half or twice its order; the rules in rulebooks/reading.yaml
-    judge whether the stated values can be trusted.
+    judge whether the stated values can be trusted. Beside them, the speeds the
+    machine's drive allows the shaft (its stated range, or its line-fed motors;
+    0 when the machine file fixes neither) and the machine file's own speed.
     """
     est = rc.speed_estimate
+    limits = rc.speed_limits
     stated = rc.stated_rpm or 0.0
     measured = est.speed_hz * 60
     against = stated or rc.nominal_rpm
@@ -94,6 +97,12 @@ def speed_check(rc: Analysis) -> list[dict]:
         "half_order_lines": int(check.get("half_order_lines", 0)),
         "half_to_one_x": float(check.get("half_to_one_x", 0.0)),
         "double_speed_lines": int(check.get("double_speed_lines", 0)),
+        "half_x_snr_db": float(check.get("half_x_snr_db", 0.0)),
+        "two_x_snr_db": float(check.get("two_x_snr_db", 0.0)),
+        "odd_to_two_x": float(check.get("odd_to_two_x", 0.0)),
+        "allowed_low_rpm": limits.low_rpm if limits else 0.0,
+        "allowed_high_rpm": limits.high_rpm if limits else 0.0,
+        "allowed_by": limits.set_by if limits else "",
     }]
 
 

@@ -191,11 +191,24 @@ FACTS: dict[str, dict[str, F]] = {
         "harmonics": F("integer", "shaft harmonic (or tone) lines that agreed on the speed", ""),
         "deviation_pct": F("number", "speed used against the stated (else nominal) speed, %", "%"),
         "abs_deviation_pct": F("number", "size of that deviation, %", "%"),
-        "one_x_found": F("boolean", "a line stands at 1X in the loudest channel", ""),
+        "one_x_found": F("boolean", "a line stands at 1X in the loudest channel on this shaft (at its speed), "
+                                    "where the fields below are measured", ""),
         "odd_order_lines": F("integer", "lines at 1X, 3X, 5X, 7X, 9X in the loudest channel", ""),
-        "half_order_lines": F("integer", "lines at 0.5X, 1.5X, 2.5X, 3.5X, 4.5X in the loudest channel", ""),
+        "half_order_lines": F("integer", "lines at 0.5X, 1.5X, 2.5X, 3.5X, 4.5X in the loudest channel that no "
+                                         "other line of the machine explains", ""),
         "half_to_one_x": F("number", "0.5X line over the 1X line (100 when 0.5X stands and 1X does not)", ""),
-        "double_speed_lines": F("integer", "harmonics of twice the speed (2X, 4X .. 10X) that stand out", ""),
+        "double_speed_lines": F("integer", "harmonics of twice the speed (2X, 4X .. 10X) that stand out and "
+                                           "no other line of the machine explains", ""),
+        "half_x_snr_db": F("number", "the 0.5X line over its local floor, dB (0 when none stands clear)", "dB"),
+        "two_x_snr_db": F("number", "the 2X line over its local floor, dB (0 when none stands clear)", "dB"),
+        "odd_to_two_x": F("number", "largest line at 1X, 3X, 5X, 7X or 9X over the 2X line (0 when none stands; "
+                                    "100 when they do and 2X does not)", ""),
+        "allowed_low_rpm": F("number", "lowest speed the machine's drive allows this shaft (0 when the "
+                                       "machine file fixes none)", "rpm"),
+        "allowed_high_rpm": F("number", "highest speed the machine's drive allows this shaft (0 when the "
+                                        "machine file fixes none)", "rpm"),
+        "allowed_by": F("string", "what sets that range: the machine file's speed range or its line-fed "
+                                  "motors ('' when nothing does)", ""),
     },
     "data_quality": {
         "channel": F("string", "channel name", ""),

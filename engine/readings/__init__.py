@@ -22,6 +22,7 @@ from ..machine import check_speed_rpm
 from ..yamlfile import read_yaml, validate
 from .columns import apply_column_map
 from .formats import READERS, RawReading, check_raw
+from .fit import check_points
 from .length import MIN_SAMPLES, check_record_length
 from .model import Channel, QualityIssue, Reading
 from .quality import SCALE_ISSUES, check_channel, check_resolution, describe_issue, scale_doubts
@@ -30,7 +31,7 @@ MAX_FILE_BYTES = 1 << 30           # 1 GiB on disk; longer records are cut befor
 MIN_SAMPLE_RATE_HZ = 2.56 * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
 MAX_SAMPLE_RATE_HZ = 10e6          # no vibration recorder samples faster: a unit slip (Hz for kHz...)
 
-__all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", "check_record_length",
+__all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", "check_points", "check_record_length",
            "check_resolution", "combine_readings", "describe_issue", "load_reading", "scale_doubts",
            "select_channels", "sidecar_path"]
 

@@ -207,10 +207,11 @@ def test_defect_06_min_samples_is_enough_for_the_analysis(n, fs, machine, seed):
     from engine.readings.model import Channel, Reading
     from engine.readings.quality import check_channel
 
-    ch = Channel("a", seed_signal(n=n, fs=fs, seed=seed) * 9.80665, "acceleration", "g", point="P1H")
+    m = load_machine(machine)
+    ch = Channel("a", seed_signal(n=n, fs=fs, seed=seed) * 9.80665, "acceleration", "g", point=m.points[0].id)
     reading = Reading("probe", fs, (ch,), quality=tuple(check_channel(ch, fs)))
     try:
-        diagnose(reading, load_machine(machine), shared_reasoner())
+        diagnose(reading, m, shared_reasoner())
     except ReadingError as exc:
         assert any(words in str(exc) for words in ("revolutions of shaft", "below 1X of shaft",
                                                      "no channel can be analysed"))

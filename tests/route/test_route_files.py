@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import json
+
 import pytest
 import yaml
 from routes import PUMP, make_route
@@ -76,3 +78,22 @@ def test_a_route_that_maps_a_channel_the_file_lacks_fails_that_reading_only(tmp_
     assert outcome.diagnosed == []
     problems = sorted(f["error"] for f in outcome.failed)
     assert "channel 'ch9'" in problems[0] and "point 'XYZ'" in problems[1]
+
+
+def test_a_reading_of_another_machine_is_named_in_the_summary_and_the_route_goes_on(tmp_path, capsys):
+    # issue 19: a reading whose points (P1H, P2H of RW-2) the route's machine (BW-1) lacks
+    path = make_route(tmp_path, n=2, bad=False)
+    data = yaml.safe_load(path.read_text())
+    data["machines"]["bw1"] = str(PUMP.with_name("bw1-backwash-blower.yaml"))
+    data["readings"][0]["machine"] = "bw1"
+    del data["readings"][0]["points"]
+    _write(path, data)
+    code = main(["route", str(path), "--store", str(tmp_path / "h.sqlite"), "--out", str(tmp_path / "out"),
+                 "--workers", "1"])
+    assert code == 9
+    summary = (tmp_path / "out" / "summary.json").read_text()
+    (failure,) = json.loads(summary)["failures"]
+    assert failure["file"].endswith("r0.wav") and "at point 'P1H'" in failure["error"]
+    assert "its points are MDEH, BDEH, BDEV" in failure["error"]
+    assert json.loads(summary)["counts"]["diagnosed"] == 1
+    assert "r0.wav" in capsys.readouterr().out

@@ -1,0 +1,79 @@
+"""The shipped speed rules (rulebooks/reading.yaml) on hand-made speed_check facts: where each starts to
+withhold a diagnosis, and that the sentence gives the numbers it compared."""
+
+from __future__ import annotations
+
+import pytest
+
+from engine.evidence import fields_of
+from engine.reasoning import Reasoner, load_rulebook
+
+
+@pytest.fixture(scope="module")
+def reasoner():
+    return Reasoner(load_rulebook())
+
+
+def speed_check(**fields) -> dict:
+    """A speed_check fact of a shaft measured at its nominal 1486 rpm, line-fed (1350 to 1500 rpm), with
+    1X, 2X and 3X standing and nothing at half orders; ``fields`` change it."""
+    fact = {"kind": "speed_check", "id": "speed_check-1", "shaft": "motor", "stated_rpm": 1486.0,
+            "nominal_rpm": 1486.0, "measured_rpm": 1486.0, "source": "1X harmonics", "harmonics": 3,
+            "deviation_pct": 0.0, "abs_deviation_pct": 0.0, "one_x_found": True, "odd_order_lines": 2,
+            "half_order_lines": 0, "half_to_one_x": 0.0, "double_speed_lines": 1, "half_x_snr_db": 0.0,
+            "two_x_snr_db": 30.0, "odd_to_two_x": 3.0, "allowed_low_rpm": 1350.0, "allowed_high_rpm": 1500.0,
+            "allowed_by": "line-fed motor M1: 4 poles at 50 Hz, synchronous 1500 rpm, slip at most 10 %"}
+    assert set(fact) == set(fields_of("speed_check"))      # the fact is the whole vocabulary kind
+    return fact | fields
+
+
+def problems(reasoner, **fields) -> dict[str, object]:
+    result = reasoner.reason([speed_check(**fields)])
+    return {h.fault: h for h in result.reading_problems if h.confident}
+
+
+def test_a_reading_at_its_nominal_speed_raises_nothing(reasoner):
+    assert problems(reasoner) == {}
+
+
+@pytest.mark.parametrize("rpm, outside", [(1486 / 2, True), (0.94 * 1350, True), (0.96 * 1350, False),
+                                          (1500, False), (1.04 * 1500, False), (1.06 * 1500, True),
+                                          (2 * 1486, True)])
+def test_a_speed_beyond_the_drive_s_range_withholds_and_names_both(reasoner, rpm, outside):
+    found = problems(reasoner, measured_rpm=rpm, stated_rpm=rpm)
+    assert ("speed-outside-drive" in found) is outside
+    if outside:
+        h = found["speed-outside-drive"]
+        assert h.withholds
+        text = " ".join(f.because for f in h.support)
+        assert f"{rpm:.0f} rpm" in text and "1350 rpm to 1500 rpm" in text and "nominal 1486 rpm" in text
+        assert "synchronous 1500 rpm" in text
+
+
+@pytest.mark.parametrize("rpm, outside", [(0.79 * 1486, True), (0.81 * 1486, False), (1.19 * 1486, False),
+                                          (1.21 * 1486, True)])
+def test_without_a_drive_range_the_nominal_speed_holds_within_20_percent(reasoner, rpm, outside):
+    found = problems(reasoner, measured_rpm=rpm, allowed_low_rpm=0.0, allowed_high_rpm=0.0, allowed_by="")
+    assert ("speed-outside-drive" in found) is outside
+    if outside:
+        assert "speed_range_rpm" in found["speed-outside-drive"].support[0].because
+
+
+@pytest.mark.parametrize("ratio, snr, contradicted", [(16.0, 70.0, True), (100.0, 25.0, True), (2.1, 40.0, True),
+                                                      (1.9, 40.0, False), (100.0, 15.0, False),
+                                                      (0.2, 50.0, False)])
+def test_one_line_at_half_order_dominating_1x_contradicts_the_speed(reasoner, ratio, snr, contradicted):
+    # (0.2, 50 dB) is real half-order looseness: a strong line, but weaker than 1X (common practice)
+    found = problems(reasoner, half_order_lines=1, half_to_one_x=ratio, half_x_snr_db=snr)
+    assert ("rate-contradicted" in found) is contradicted
+    if contradicted:
+        assert "stated at twice the true speed" in found["rate-contradicted"].support[0].because
+
+
+@pytest.mark.parametrize("odd, snr, contradicted", [(0.0, 70.0, True), (0.08, 25.0, True), (0.12, 40.0, False),
+                                                    (0.0, 15.0, False), (3.0, 40.0, False)])
+def test_a_lone_2x_with_nothing_near_it_at_odd_orders_contradicts_the_speed(reasoner, odd, snr, contradicted):
+    found = problems(reasoner, odd_order_lines=1 if odd else 0, odd_to_two_x=odd, two_x_snr_db=snr)
+    assert ("rate-contradicted" in found) is contradicted
+    if contradicted:
+        assert "stated at half the true speed" in found["rate-contradicted"].support[0].because
