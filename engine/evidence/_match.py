@@ -17,6 +17,8 @@ UNREFINED_TOLERANCE = 0.02  # without a refined speed: 2 %
 SLIP_TOLERANCE = 0.02       # bearing defect rates slip by 1-2 % (Randall & Antoni 2011)
 WIDE_FLOOR_FRACTION = 0.15  # a wide floor: the median within +-15 % of the frequency
 WIDE_FLOOR_MIN_LINES = 25
+SHAFT_HARMONICS = 10        # 1X harmonics followed (looseness shows a long series)
+HALF_ORDERS = (0.5, 1.5, 2.5, 3.5, 4.5)
 LINES_FROM_ZERO = 3         # a Hann main lobe spans +-2 lines: a target nearer 0 Hz than this is not resolved
 
 
@@ -101,3 +103,17 @@ def clear_lines(spec: Spectrum) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         snr = np.where(floors > 0, a[peaks] / floors, np.inf)
     keep = snr >= MIN_SNR
     return peaks[keep], f[peaks[keep]], snr[keep]
+
+
+def explained_frequencies(rc) -> np.ndarray:
+    """Every frequency (Hz) a known source puts a line at: forcing frequencies and their harmonics,
+    half orders of every shaft, line-frequency harmonics."""
+    freqs = []
+    for f in rc.forcing:
+        n = SHAFT_HARMONICS if f.family == "shaft" else 5
+        freqs += [k * f.frequency_hz for k in range(1, n + 1)]
+    for fr in rc.speeds_hz.values():
+        freqs += [k * fr for k in HALF_ORDERS]
+    for m in rc.rates.motors:
+        freqs += [k * m.line_hz for k in range(1, 11)]
+    return np.array(freqs)

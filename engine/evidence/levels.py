@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections import defaultdict
 
 from ._match import find_line
-from .signs import SIGNS, waveform
+from .signs import SIGNS, match_fit, spectrum_line, waveform
 from ..analysis import Analysis
 from ..readings.quality import same_scale
 
@@ -59,9 +59,14 @@ def direction_ratio(rc: Analysis) -> list[dict]:
         if "axial" in dirs:
             ax = dirs["axial"]
             fact["axial_to_radial"] = ax.levels.velocity_rms_mm_s / big.levels.velocity_rms_mm_s
+            signs = {}
             for order, key in ((1, "axial_1x_to_radial"), (2, "axial_2x_to_radial")):
                 rad = max(_order_amplitude(c, fr, order, tol) for c in radial)
-                fact[key] = _order_amplitude(ax, fr, order, tol) / rad if rad > 0 else 0.0
+                line = find_line(ax.velocity, order * fr, tol)
+                fact[key] = (line.amplitude if line else 0.0) / rad if rad > 0 else 0.0
+                if line is not None:      # the axial lines are what an axial ratio rests on
+                    signs[spectrum_line(ax.name, line.line)] = match_fit(line.freq_hz / (order * fr) - 1, tol)
+            fact[SIGNS] = signs
         if "horizontal" in dirs and "vertical" in dirs:
             fact["horizontal_to_vertical"] = (dirs["horizontal"].levels.velocity_rms_mm_s
                                               / dirs["vertical"].levels.velocity_rms_mm_s)

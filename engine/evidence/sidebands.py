@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import db, find_lines
+from ._match import db, explained_frequencies, find_lines
 from .signs import SIGNS, match_fit, spectrum_line
 from ..analysis import Analysis
 
@@ -28,6 +28,15 @@ def _carriers(rc: Analysis):
             # The carrier is the motor shaft's 1X; the family belongs to the motor itself.
             out.append(("1X", m.motor, rc.speeds_hz[m.shaft], "pole pass", m.shaft, m.pole_pass_hz, True))
     return out
+
+
+UNLOCKED = {"FTF"}    # spacings that are no whole order of the carrier's shaft
+
+
+def _taken(explained: np.ndarray, freq_hz: float, resolution_hz: float) -> bool:
+    """Whether another source puts a line at ``freq_hz`` (a shaft harmonic, a belt or vane pass, the line
+    frequency): a sideband at an unlocked spacing that lands there cannot be told from that line."""
+    return bool(np.any(np.abs(explained - freq_hz) <= max(1.5 * resolution_hz, SPACING_TOLERANCE * freq_hz)))
 
 
 def floor_between(spec, fc: float, spacing: float) -> float:
@@ -54,11 +63,12 @@ def sideband_family(rc: Analysis) -> list[dict]:
     """Sidebands at carrier +- k x spacing, k = 1..6, counted where they stand above the floor."""
     out = []
     carriers = _carriers(rc)
+    explained = explained_frequencies(rc)
     for c in rc.channels:
         families = []      # (carrier tuple, index of its centre search, [(k, sign, index of its search)])
         searches = {True: [], False: []}    # by spectrum (velocity?): (frequency, fraction)
         for car in carriers:
-            fc, spacing, use_velocity = car[2], car[5], car[6]
+            fc, spacing_name, spacing, use_velocity = car[2], car[3], car[5], car[6]
             spec = c.velocity if use_velocity else c.spectrum
             if fc + spacing > spec.fmax_hz * 0.98 or spacing < 2.5 * spec.resolution_hz:
                 continue
@@ -70,7 +80,7 @@ def sideband_family(rc: Analysis) -> list[dict]:
             for k in range(1, MAX_ORDER + 1):
                 for sign in (-1, 1):
                     f = fc + sign * k * spacing
-                    if f <= 0:
+                    if f <= 0 or (spacing_name in UNLOCKED and _taken(explained, f, spec.resolution_hz)):
                         continue
                     sides.append((k, sign, len(todo)))
                     todo.append((f, max(SPACING_TOLERANCE * k * spacing, 0.5 * spec.resolution_hz) / f, floor))

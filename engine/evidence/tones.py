@@ -6,15 +6,14 @@ import numpy as np
 
 from ..analysis import Analysis, ChannelAnalysis, find_peaks
 from ..units import STANDARD_GRAVITY_M_S2 as G
-from ._match import SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, find_lines, tolerance_hz
+from ._match import (HALF_ORDERS, SHAFT_HARMONICS, SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, explained_frequencies,
+                     find_lines, tolerance_hz)
 from .signs import SIGNS, match_fit, spectrum_line
 
 MIN_TONE_HZ = 2.0
 SKIPPED_AS_TONES = {"slip", "pole pass", "HTF", "FTF"}  # below the spectrum's useful range or spacings only
-SHAFT_HARMONICS = 10
 OTHER_HARMONICS = {"GMF": 3, "vane pass": 3, "blade pass": 3, "belt pass": 4,
                    "BPFO": 5, "BPFI": 5, "BSF": 5}
-HALF_ORDERS = (0.5, 1.5, 2.5, 3.5, 4.5)
 SUSTAINED_FRACTION = 0.1
 NONSYNC_MIN_SNR = 6.0
 NONSYNC_MIN_FRACTION = 0.05  # of the largest line: smaller peaks are not worth a finding
@@ -157,18 +156,6 @@ def subharmonics(rc: Analysis) -> list[dict]:
     return out
 
 
-def _explained_frequencies(rc: Analysis) -> np.ndarray:
-    freqs = []
-    for f in rc.forcing:
-        n = SHAFT_HARMONICS if f.family == "shaft" else 5
-        freqs += [k * f.frequency_hz for k in range(1, n + 1)]
-    for fr in rc.speeds_hz.values():
-        freqs += [k * fr for k in HALF_ORDERS]
-    for m in rc.rates.motors:
-        freqs += [k * m.line_hz for k in range(1, 11)]
-    return np.array(freqs)
-
-
 def _is_shaft_order(rc: Analysis, spec, freq_hz: float, shaft: str) -> bool:
     """A line at an integer order of its shaft is a shaft harmonic before it is anything else."""
     fr = rc.speeds_hz[shaft]
@@ -190,7 +177,7 @@ def _is_other_line(rc: Analysis, freq_hz: float, exclude_shaft: str) -> bool:
 def nonsynchronous(rc: Analysis) -> list[dict]:
     """Clear velocity peaks that match no forcing frequency, no harmonic and no line frequency."""
     out = []
-    explained = _explained_frequencies(rc)
+    explained = explained_frequencies(rc)
     for c in rc.channels:
         peaks = find_peaks(c.velocity, f_lo_hz=MIN_TONE_HZ, f_hi_hz=min(1000.0, c.velocity.fmax_hz),
                            min_snr=NONSYNC_MIN_SNR, min_fraction=NONSYNC_MIN_FRACTION)

@@ -79,6 +79,9 @@ def pattern_test(rule: Rule, p: Pattern, required: set[str] = frozenset()) -> di
         tests = [{"kind": p.kind}] + [{"$ex": {field: 1}} for field in sorted(required)]
         for c in p.conditions:
             tests.extend(_condition(c))
+        # durable-rules 2.0.28 skips a comparison with an earlier fact that follows an "$or" in one
+        # "$and" (measured: tests/reasoning/test_engine_hazards.py), so every "$or" goes last
+        tests.sort(key=lambda t: "$or" in t)
     return {"$and": tests}
 
 

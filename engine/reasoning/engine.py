@@ -15,6 +15,12 @@ durable-rules 2.0.28 has hazards this layer handles (measured in
   has tiny magnitudes set to 0 and huge ones capped (``engine_value``); the
   trail keeps the measured values.
 - ``any`` merges activations: the compiler never emits it (a rule is ``all``).
+- a comparison with an earlier fact's field that follows an ``$or`` in the
+  same ``$and`` is skipped (the match succeeds whatever it says): the
+  compiler puts every ``$or`` last.
+- arithmetic with a field a fact does not carry stops the engine (error
+  311): the compiler makes a pattern require every field that a later
+  condition compares with.
 - actions must take exactly one parameter: each is a closure of one argument.
 - at most 1024 live states per ruleset: each diagnosis uses a fresh sid and
   deletes its state, even when it fails.
