@@ -91,6 +91,9 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
         weight += (f", graded by {_value(r.value)} from 0 at {_value(r.start, unit)} "
                    f"to full at {_value(r.full, unit)}{named}")
     lines.append(f"  {weight}")
+    if rule.weight > 0:
+        told = ", ".join(rule.explains) if rule.explains else "nothing (it shares no sign with other hypotheses)"
+        lines.append(f"  it explains the signs of: {told}")
     lines.append(f"  the report says: {rule.because}")
     return lines
 
