@@ -214,11 +214,15 @@ def on_a_drive(machine: Machine, slowest: float) -> Machine:
     return dataclasses.replace(machine, speed_range=SpeedRange(machine.driver_shaft, slowest * nominal, nominal))
 
 
+def _machines(keys, speeds) -> dict[str, Machine]:
+    return {k: on_a_drive(load_machine(MACHINES[k]), min(speeds)) for k in keys}
+
+
 def run(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.0), stages=(2, 3), duration_s=4.0,
         scenarios=SCENARIOS, reasoner=None) -> list[Row]:
     """A Row for every single-fault reading of ``scenarios`` over the grid (healthy at stage 1 only)."""
     reasoner = reasoner or Reasoner(load_rulebook())
-    machines = {k: on_a_drive(load_machine(MACHINES[k]), min(speeds)) for k in {mk for _f, mk, _c in scenarios}}
+    machines = _machines({mk for _f, mk, _c in scenarios}, speeds)
     rows = []
     for fault, mk, component in scenarios:
         m = machines[mk]
@@ -244,7 +248,7 @@ def run_pairs(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.
               duration_s=4.0, pairs=PAIRS, reasoner=None) -> list[PairRow]:
     """A PairRow for every reading of ``pairs`` over the grid, both faults at the same stage."""
     reasoner = reasoner or Reasoner(load_rulebook())
-    machines = {k: on_a_drive(load_machine(MACHINES[k]), min(speeds)) for k in {mk for mk, _a, _b in pairs}}
+    machines = _machines({mk for mk, _a, _b in pairs}, speeds)
     rows = []
     for mk, first, second in pairs:
         m = machines[mk]

@@ -48,3 +48,11 @@ class HtmlChecker(HTMLParser):
             self.errors.append(f"unexpected </{tag}> (open: {self.stack[-3:]})")
         else:
             self.stack.pop()
+
+
+def tone_fact(fid: str = "tone-1", channel: str = "P1H", amplitude_mm_s=1.0, amplitude_g=0.1, snr_db=40.0) -> dict:
+    """A ``tone`` evidence fact for 1X of the RW-2 pump on ``channel``, for rule tests (None: a level left out)."""
+    return {"kind": "tone", "id": fid, "channel": channel, "point": channel, "direction": "horizontal",
+            "location": "pump_de", "location_shaft": "pump", "name": "1X", "component": "pump", "family": "shaft",
+            "shaft": "pump", "expected_hz": 24.8, "freq_hz": 24.8, "amplitude_mm_s": amplitude_mm_s,
+            "amplitude_g": amplitude_g, "snr_db": snr_db, "ratio_to_1x": 1.0}

@@ -89,9 +89,26 @@ def find_line(spec: Spectrum, freq_hz: float, fraction: float, wide_floor: bool 
 CENSUS_FLOOR_POINTS = 16    # the wide floor for a census of lines: measured at this many frequencies (about one per 15 % over a decade), interpolated
 
 
+_CENSUS_KEPT = 16           # the last spectra counted: the envelope and impact extractors ask for the same ones
+_census: dict[int, tuple] = {}
+
+
 def clear_lines(spec: Spectrum) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Index, frequency (Hz) and height over the wide floor (a ratio) of every line of ``spec`` (a squared
-    envelope spectrum) that stands MIN_SNR over its floor, as a harmonic must to be found."""
+    envelope spectrum) that stands MIN_SNR over its floor, as a harmonic must to be found.
+
+    Counted once per spectrum: a repeated call for the same object returns the first count."""
+    known = _census.get(id(spec))
+    if known is not None and known[0] is spec:
+        return known[1]
+    found = _count_clear_lines(spec)
+    if len(_census) >= _CENSUS_KEPT:
+        _census.pop(next(iter(_census)))
+    _census[id(spec)] = (spec, found)
+    return found
+
+
+def _count_clear_lines(spec: Spectrum) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     a, f = spec.amplitude, spec.freq_hz
     peaks = local_maxima(a)
     peaks = peaks[(peaks >= LINES_FROM_ZERO) & (f[peaks] <= spec.fmax_hz * 0.98)]

@@ -282,25 +282,10 @@ class Reasoner:
                                                                 kept=round(kept, 6), raw_certainty=f.certainty))
         return by_hypothesis, sharing
 
-    def _losses(self, key, per_rule, sharing) -> tuple[SignLoss, ...]:
-        """Which other hypotheses took part of this one's signs, and how much of their weight."""
-        if not sharing.shares:
-            return ()
-        signs: dict[str, float] = {}
-        for entries in per_rule.values():
-            for _, f in entries:
-                if _raw(f) > 0:
-                    for sign, fit in f.signs:
-                        if fit > signs.get(sign, 0.0):
-                            signs[sign] = fit
-        mass = sum(signs.values())
-        if mass == 0:
-            return ()
-        taken: dict = defaultdict(float)
-        for sign in signs.keys() & sharing.shares.keys():
-            for other, part in sharing.taken(key, sign).items():
-                taken[other] += signs[sign] * part / mass
-        out = [SignLoss(f, self.rulebook.faults[f].name, c, round(v, 4)) for (f, c), v in taken.items() if v >= 0.01]
+    def _losses(self, key, sharing) -> tuple[SignLoss, ...]:
+        """Which other hypotheses took part of this one's signs, most first (1 % or more)."""
+        out = [SignLoss(f, self.rulebook.faults[f].name, c, round(v, 4))
+               for (f, c), v in sharing.losses(key).items() if v >= 0.01]
         return tuple(sorted(out, key=lambda x: (-x.share, x.fault, x.component)))
 
     def _rank(self, session: _Session, considered: int) -> Reasoning:
@@ -336,7 +321,7 @@ class Reasoner:
                 tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
                 tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, fault.withholds_diagnosis,
                 round(raw, 6) if abs(raw - total) > 1e-6 else None,
-                self._losses((fault_id, component), per_rule, sharing)))
+                self._losses((fault_id, component), sharing)))
         hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))
         faults_of = self.rulebook.faults
         problems = tuple(h for h in hypotheses if faults_of[h.fault].family == "reading")

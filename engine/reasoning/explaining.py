@@ -66,7 +66,19 @@ class Sharing:
     certainty: dict                                  # hypothesis -> combined certainty after sharing
     shares: dict = field(default_factory=dict)       # sign -> {hypothesis: share it keeps}, contested signs only
     rounds: int = 0
-    fits: dict = field(default_factory=dict)         # sign -> {hypothesis: fit}, contested signs only
+    fits: dict = field(default_factory=dict)         # sign -> {hypothesis: fit with companions}, contested only
+    claimed: dict = field(default_factory=dict)      # sign -> {hypothesis: its own fit}, contested only
+    mass: dict = field(default_factory=dict)         # hypothesis -> summed fit of every sign it claims
+
+    def losses(self, hypothesis) -> dict:
+        """Who took part of ``hypothesis``'s signs: {other hypothesis: share of its fit-weighted signs}."""
+        total = self.mass.get(hypothesis, 0.0)
+        out: dict = defaultdict(float)
+        for sign, by_h in self.claimed.items():
+            if hypothesis in by_h and total > 0:
+                for other, part in self.taken(hypothesis, sign).items():
+                    out[other] += by_h[hypothesis] * part / total
+        return dict(out)
 
     def taken(self, hypothesis, sign: str) -> dict:
         """Who took the part of ``sign`` that ``hypothesis`` lost: {other hypothesis: fraction of the sign}."""
@@ -147,7 +159,7 @@ def share(claims: list[Claim], against: Mapping | None = None) -> Sharing:
     certainty = _combine(claims, kept, against)
     if not contested:
         return Sharing(tuple(kept), certainty)
-    fits = _with_companions(fits, contested)
+    raw, fits = fits, _with_companions(fits, contested)
     # each claim's sign weight, what of it no one else claims, and its contested signs
     mass = [sum(q for q in c.signs.values() if q > 0) for c in claims]
     own = [sum(q for s, q in c.signs.items() if q > 0 and s not in contested) for c in claims]
@@ -169,4 +181,8 @@ def share(claims: list[Claim], against: Mapping | None = None) -> Sharing:
         certainty = _combine(claims, kept, against)
         if moved < TOLERANCE:
             break
-    return Sharing(tuple(kept), certainty, shares, rounds, {s: fits[s] for s in contested})
+    mass: dict = defaultdict(float)
+    for by_h in raw.values():
+        for h, q in by_h.items():
+            mass[h] += q
+    return Sharing(tuple(kept), certainty, shares, rounds, {s: fits[s] for s in contested}, contested, dict(mass))

@@ -9,6 +9,7 @@ import pytest
 
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning.engine import QuietHost
+from support import tone_fact
 
 EITHER = {"$or": [{"direction": "horizontal"}, {"direction": "vertical"}]}
 TWICE = {"$gt": {"amp": {"$mul": {"$l": {"a": "amp"}, "$r": 2.0}}}}
@@ -60,11 +61,6 @@ def test_a_rule_with_one_of_before_a_join_is_judged_by_the_join(tmp_path):
     (tmp_path / "rb" / "rules.yaml").write_text(rules)
     reasoner = Reasoner(load_rulebook(tmp_path / "rb", shipped=False))
 
-    def tone(i, channel, amplitude):
-        return {"kind": "tone", "id": f"tone-{i}", "channel": channel, "point": channel, "direction": "horizontal",
-                "location": "pump_de", "location_shaft": "pump", "name": "1X", "component": "pump", "family": "shaft",
-                "shaft": "pump", "expected_hz": 24.8, "freq_hz": 24.8, "amplitude_mm_s": amplitude,
-                "amplitude_g": 0.1, "snr_db": 40.0, "ratio_to_1x": 1.0}
-
-    fired = {h.component for h in reasoner.reason([tone(1, "P1H", 5.0), tone(2, "P2H", 0.9)]).hypotheses}
+    facts = [tone_fact("tone-1", "P1H", 5.0), tone_fact("tone-2", "P2H", 0.9)]
+    fired = {h.component for h in reasoner.reason(facts).hypotheses}
     assert fired == {"P2H"}        # only 5.0 > 2 x 0.9; 0.9 > 2 x 5.0 must not match

@@ -18,6 +18,7 @@ import pytest
 from engine.evidence.vocabulary import level_fields
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning.rulebook import Ref
+from support import tone_fact
 
 RULES = """
 rulebook: test rules
@@ -60,10 +61,7 @@ rules:
 
 
 def tone(amplitude_mm_s, amplitude_g):
-    return {"kind": "tone", "id": "tone-1", "channel": "P1H", "point": "P1H", "direction": "horizontal",
-            "location": "pump_de", "location_shaft": "pump", "name": "1X", "component": "pump", "family": "shaft",
-            "shaft": "pump", "expected_hz": 24.8, "freq_hz": 24.8, "amplitude_mm_s": amplitude_mm_s,
-            "amplitude_g": amplitude_g, "snr_db": 40.0, "ratio_to_1x": 1.0}
+    return tone_fact(amplitude_mm_s=amplitude_mm_s, amplitude_g=amplitude_g)
 
 
 @pytest.fixture()
