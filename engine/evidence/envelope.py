@@ -25,6 +25,7 @@ import numpy as np
 from ._match import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
 from .signs import SIGNS, envelope_line, match_fit
 from ..analysis import Analysis
+from ..analysis.peaks import Peak
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
 MODULATION_ORDERS = 3
@@ -115,6 +116,39 @@ def _owners(defects, all_found, location: str | None, fmax_hz: float) -> dict[tu
             owned[(e[4], e[1])] = e is winner
     _give_sidebands(defects, all_found, owned)
     return owned
+
+
+def shared_lines(rates, location: str | None) -> dict[tuple[str, str], list[tuple[int, str, str, int]]]:
+    """For every bearing family, the harmonics (of the first ones searched) another family would own if every
+    family's lines stood at its exact rates: {(bearing, defect): [(k, other bearing, other defect, j)]}.
+
+    Rates within 1 % of each other are taken as one line, and ``_owners`` decides, so the acquisition
+    planner judges a geometry by the same rule the envelope evidence applies to a reading.
+    """
+    defects = [(b, defect, b.impact_rate_hz(defect)) for b in rates.bearings for defect in HARMONICS]
+    centres: list[float] = []
+
+    def line_of(freq: float) -> int:
+        for i, c in enumerate(centres):
+            if abs(freq / c - 1) < TIE:
+                return i
+        centres.append(freq)
+        return len(centres) - 1
+
+    found = [{k: Peak(k * rate, 1.0, line_of(k * rate), 10.0) for k in range(1, HARMONICS[defect] + 1)}
+             for _, defect, rate in defects]
+    fmax = max(p.freq_hz for f in found for p in f.values()) * 2
+    owned = _owners(defects, found, location, fmax)
+    owner_of = {found[t][k].line: (t, k) for (t, k), mine in owned.items() if mine}
+    out = {}
+    for t, (b, defect, _) in enumerate(defects):
+        taken = []
+        for k, peak in found[t].items():
+            if not owned[(t, k)] and peak.line in owner_of:
+                u, j = owner_of[peak.line]
+                taken.append((k, defects[u][0].bearing, defects[u][1], j))
+        out[(b.bearing, defect)] = taken
+    return out
 
 
 SIDEBAND_OF = {"BPFO": "shaft_hz", "BPFI": "shaft_hz", "BSF": "ftf_hz"}

@@ -20,8 +20,8 @@ import math
 from dataclasses import dataclass, field
 
 from ..evidence._match import SLIP_TOLERANCE
-from ..evidence.envelope import DEFECT_RANK, HARMONICS, TIE
-from ..kinematics import bearing_multiples, pole_pass_hz
+from ..evidence.envelope import HARMONICS, shared_lines
+from ..kinematics import bearing_multiples, pole_pass_hz, rates_at
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
@@ -144,42 +144,25 @@ def _severity(machine, point, speeds, policy, targets):
     ]
 
 
-OWN_HARMONICS = HARMONICS["BPFO"]   # the harmonics the envelope search looks at for a race or ball rate
+NAME_OF = {"BPFO": "BPFO", "BPFI": "BPFI", "BSF": "2 x BSF", "FTF": "FTF"}   # the envelope's defects, as named here
 
 
-# the envelope's own ranks (races before the ball rate before the cage), by the names used here
-RANK = {name: DEFECT_RANK[defect] for name, defect in
-        (("BPFO", "BPFO"), ("BPFI", "BPFI"), ("2 x BSF", "BSF"), ("FTF", "FTF"))}
-
-
-def _own_harmonics(rate: float, me: tuple, others: list, at: str | None) -> tuple[int, str]:
-    """How many of the first harmonics of ``rate`` the envelope's ownership test gives to this family,
-    and, in words, which families take the rest. As in engine/evidence/envelope.py, a line within
-    1 % of several rates goes to the lowest harmonic, then to a race before the ball rate before
-    the cage, then to the bearing the sensor (at bearing ``at``) sits on."""
-    own, takers = 0, []
-    for k in range(1, OWN_HARMONICS + 1):
-        mine = (k, RANK[me[1]], me[0] != at)
-        rivals = [((j, RANK[who[1]], who[0] != at), who, j) for who, r in others if who != me
-                  for j in range(1, OWN_HARMONICS + 1) if abs(j * r / (k * rate) - 1) < TIE]
-        best = min(rivals, default=None)
-        if best is None or mine <= best[0]:
-            own += 1
-        else:
-            (bearing, name), j = best[1], best[2]
-            takers.append(f"{k} x falls on {'' if j == 1 else f'{j} x '}{name} of {bearing}")
-    return own, "; ".join(takers)
+def _own_harmonics(shared: dict, bearing: str, name: str) -> tuple[int, int, str]:
+    """(harmonics searched, how many of them the envelope's ownership test gives to this family, and, in
+    words, which families take the rest), from ``evidence.envelope.shared_lines``: the planner applies the
+    evidence's own rule, not a copy of it."""
+    defect = next(d for d, n in NAME_OF.items() if n == name)
+    taken = shared[(bearing, defect)]
+    words = "; ".join(f"{k} x falls on {'' if j == 1 else f'{j} x '}{NAME_OF[other]} of {who}"
+                      for k, who, other, j in taken)
+    return HARMONICS[defect], HARMONICS[defect] - len(taken), words
 
 
 def _bearing(machine, point, speeds, policy, targets, band):
     needs = []
     sep = policy.separation_lines
     band_lo, band_hi = band
-    others = []
-    for ob in machine.bearings:
-        om, ofr = bearing_multiples(ob), speeds[ob.shaft]
-        others += [((ob.id, n), k) for n, k in (("BPFO", om["bpfo"] * ofr), ("BPFI", om["bpfi"] * ofr),
-                                                 ("2 x BSF", 2 * om["bsf"] * ofr), ("FTF", om["ftf"] * ofr))]
+    shared = shared_lines(rates_at(machine, speeds), point.at)
     for b in bearings_at(machine, point):
         mult = bearing_multiples(b)
         fr = speeds[b.shaft]
@@ -197,14 +180,14 @@ def _bearing(machine, point, speeds, policy, targets, band):
                     ((t, "envelope"),), "the envelope rate alone cannot tell which part of the bearing is damaged",
                     source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
-            own, claimed_by = _own_harmonics(rate, (b.id, name), others, point.at)
+            searched, own, claimed_by = _own_harmonics(shared, b.id, name)
             wanted = least(rule, "envelope_tone", "harmonics_owned")
             if own < wanted:
                 needs.append(Need(
-                    "bearing", "twin", f"only {own} of the first {OWN_HARMONICS} harmonics of {name} of {b.id} "
+                    "bearing", "twin", f"only {own} of the first {searched} harmonics of {name} of {b.id} "
                     f"({rate:.1f} Hz) are its own; {claimed_by}", rate, "weakens", ((t, "envelope"),),
-                    "a line two rates share is given to the lower harmonic, so this family may fall short of "
-                    f"the {wanted:g} harmonics {rule} asks for", source="bearing geometry"))
+                    "a line two rates share goes to the family with more lines of its own, so this family may "
+                    f"fall short of the {wanted:g} harmonics {rule} asks for", source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
             n = least(rule, "envelope_tone", "harmonics_owned")
             gate = ((t, "envelope"),)
