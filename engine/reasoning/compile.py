@@ -11,7 +11,18 @@ from __future__ import annotations
 
 from typing import Any
 
-from .rulebook import Condition, Pattern, Ref, Rule, TALLY_KIND
+from .rulebook import Condition, Pattern, Ref, Rule, TALLY_KIND, derivation_cycle, feeds
+
+# durable-rules 2.0.28 keeps fixed-size tables in its C core, and a ruleset that outgrows one fails
+# with a bare error code (tests/reasoning/test_large_rulebooks.py measures both):
+# - error 108 when the ruleset is built: one node of its matching network links at most 256 rules
+#   that start with the same test (BETA_LIST_LENGTH), and every rule here starts with the phase fact;
+# - error 303 when a fact is asserted: matching one fact walks the tests of its kind with a stack of
+#   fixed size (MAX_STACK_SIZE), about one entry per pattern of that kind the fact passes (measured:
+#   64 one-test patterns of one kind that a fact all passes work, 65 fail).
+# A rulebook within these budgets runs as one ruleset; a larger one is split (``plan_rulesets``).
+RULES_PER_RULESET = 128
+PATTERNS_PER_KIND = 32
 
 PHASE_ALIAS = "tw_phase"
 PHASE_KIND = "phase"
@@ -104,3 +115,74 @@ def compile_ruleset(rules, make_action, closing_action) -> dict:
     ruleset = {f"r{i:04d}": compile_rule(rule, make_action(rule)) for i, rule in enumerate(rules)}
     ruleset[CLOSING_RULE] = {"all": [{PHASE_ALIAS: {"kind": PHASE_KIND}}], "run": closing_action}
     return ruleset
+
+
+def _load(rule: Rule) -> dict[str, int]:
+    """How much of each kind's matching budget ``rule`` takes: one per pattern, times the
+    alternatives of each ``one_of`` (the engine tests each alternative on its own path)."""
+    out: dict[str, int] = {PHASE_KIND: 1}
+    for p in rule.needs + rule.none_of:
+        kind = TALLY_KIND if p.counted else p.kind
+        paths = 1
+        for c in p.conditions:
+            if c.op == "one_of" and len(c.value) > 1:
+                paths *= len(c.value)
+        out[kind] = out.get(kind, 0) + paths
+    return out
+
+
+class _Group:
+    def __init__(self):
+        self.rules: list[Rule] = []
+        self.load: dict[str, int] = {}
+
+    def takes(self, load: dict[str, int]) -> bool:
+        if not self.rules:
+            return True     # a rule too big for any ruleset still runs, alone
+        return (len(self.rules) < RULES_PER_RULESET
+                and all(self.load.get(k, 0) + n <= PATTERNS_PER_KIND for k, n in load.items() if k != PHASE_KIND))
+
+    def add(self, rule: Rule, load: dict[str, int]) -> None:
+        self.rules.append(rule)
+        for k, n in load.items():
+            self.load[k] = self.load.get(k, 0) + n
+
+
+def plan_rulesets(rules) -> list[tuple[Rule, ...]]:
+    """The rules split into rulesets the engine can hold, in the order they run.
+
+    A rulebook within the budgets above is one ruleset (the usual case: the shipped rulebooks).
+    A larger one is split by derivation depth first (a rule runs after every rule whose derived
+    facts it can read: rulebook.feeds), then packed first-fit within each depth; the derived
+    facts of earlier rulesets are asserted into later ones like evidence.
+    """
+    rules = list(rules)
+    whole = _Group()
+    loads = {r.id: _load(r) for r in rules}
+    for r in rules:
+        if not whole.takes(loads[r.id]):
+            break
+        whole.add(r, loads[r.id])
+    else:
+        return [tuple(rules)]
+    if derivation_cycle(rules) is not None:
+        raise ValueError("a rulebook whose rules feed each other in a ring cannot be split")
+    depth = {r.id: 0 for r in rules}
+    graph = feeds(rules)
+    changed = True
+    while changed:          # longest path in an acyclic graph: at most len(rules) rounds
+        changed = False
+        for giver, takers in graph.items():
+            for t in takers:
+                if depth[t] < depth[giver] + 1:
+                    depth[t] = depth[giver] + 1
+                    changed = True
+    groups: list[tuple[int, _Group]] = []
+    for r in sorted(rules, key=lambda r: depth[r.id]):   # stable: the rulebook's order within a depth
+        load = loads[r.id]
+        home = next((g for d, g in groups if d == depth[r.id] and g.takes(load)), None)
+        if home is None:
+            home = _Group()
+            groups.append((depth[r.id], home))
+        home.add(r, load)
+    return [tuple(g.rules) for _, g in groups]

@@ -24,6 +24,16 @@ durable-rules 2.0.28 has hazards this layer handles (measured in
 - actions must take exactly one parameter: each is a closure of one argument.
 - at most 1024 live states per ruleset: each diagnosis uses a fresh sid and
   deletes its state, even when it fails.
+- fixed-size tables in the C core (error 108 when more than 256 rules share
+  a first test, as every rule here shares the phase pattern; error 303 when
+  a fact passes the tests of more than 64 patterns of its kind, at assert
+  time): ``compile.plan_rulesets`` splits a rulebook that
+  outgrows the budgets into rulesets run one after another, each with its
+  own state, derived facts of earlier ones asserted into later ones.
+- nothing bounds forward chaining: rules that feed each other would run
+  until memory runs out. ``load_rulebook`` refuses such a ring, and each
+  reading stops with a ReasoningError after ``MAX_FIRINGS`` firings or
+  ``MAX_SECONDS`` of chaining, naming the rules that fired most.
 - deleting a state on which no action ever ran frees two pointers the C core
   never initialised (``createStateNode`` leaves ``context.messages`` and
   ``context.stateFact`` unset; only the first action sets them, and the end of
@@ -40,16 +50,18 @@ import itertools
 import math
 import string
 import threading
-from collections import defaultdict
+import time
+from collections import Counter, defaultdict
 from dataclasses import replace
 
+import durable_rules_engine
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
 from ..errors import ReasoningError
 from ..evidence.signs import SIGNS, merged
 from ..units import format_quantity
 from . import certainty as cf
-from .compile import PHASE_KIND, compile_ruleset, tally_slot
+from .compile import PHASE_KIND, compile_ruleset, plan_rulesets, tally_slot
 from .differential import differential
 from .explaining import Claim, share
 from .findings import Firing, Hypothesis, Reasoning, SignLoss
@@ -57,6 +69,15 @@ from .rulebook import SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Ruleb
 
 LARGEST_NUMBER = 1e15
 RULESET = "tellwave"
+# Bounds on one reading's forward chaining. The shipped rulebooks with the demo site overlay fire at
+# most 261 times on a demo case, 369 over bench.confusion --quick and 63 on the real records of
+# bench.real_data (measured 2026-12; tests/reasoning/test_chaining_bounds.py keeps them under a
+# twentieth of the bound); a thousand site rules that each fire once per channel stay well within.
+# A ring of rules that feed each other takes about 0.35 ms and 8 kB a firing, so the bound stops one
+# after about 7 s and 160 MB. A rulebook that reaches either bound is feeding itself (or joins far
+# too widely), and no certainty it gave would mean anything.
+MAX_FIRINGS = 20_000
+MAX_SECONDS = 30.0
 
 
 class QuietHost(Host):
@@ -137,12 +158,36 @@ def tallies(rules, facts: list[dict]) -> list[dict]:
 class _Session:
     """Everything one diagnosis collects while its actions run."""
 
-    def __init__(self, facts_by_id):
+    def __init__(self, facts_by_id, deadline: float):
         self.facts_by_id = facts_by_id
         self.firings: list[tuple[Rule, Firing]] = []
         self.errors: list[str] = []
         self.derived_count = 0
+        self.derived: list[dict] = []   # every derived fact so far, for the rulesets that run later
         self.closed = False   # the closing rule ran: the engine's action context is initialised
+        self.fired: Counter = Counter()
+        self.count = 0
+        self.deadline = deadline
+        self.stopped = False
+
+    def admit(self, rule: Rule) -> bool:
+        """Count one firing of ``rule``; False once chaining has passed its bounds (then every
+        later firing is ignored and asserts nothing, so the engine drains and stops)."""
+        if self.stopped:
+            return False
+        over = self.count >= MAX_FIRINGS
+        if not over and time.monotonic() <= self.deadline:
+            self.count += 1
+            self.fired[rule.id] += 1
+            return True
+        self.stopped = True
+        ranked = sorted(self.fired.items(), key=lambda kv: (-kv[1], kv[0]))[:3]
+        most = ", ".join(f"{rid} {n:,} time{'s' if n > 1 else ''}" for rid, n in ranked)
+        why = (f"after {MAX_FIRINGS:,} rule firings (the most one reading may take)" if over
+               else f"after {MAX_SECONDS:g} s ({self.count:,} rule firings)")
+        self.errors.append(f"forward chaining stopped {why}; most fired: {most}; "
+                           "these rules may feed each other, or join far too many facts")
+        return False
 
 
 class Reasoner:
@@ -151,30 +196,45 @@ class Reasoner:
     def __init__(self, rulebook: Rulebook):
         self.rulebook = rulebook
         self._host = QuietHost()
-        self._host.set_rulesets({RULESET: compile_ruleset(rulebook.rules, self._make_action, self._close)})
+        try:
+            groups = plan_rulesets(rulebook.rules)
+        except ValueError as exc:
+            raise ReasoningError(f"{len(rulebook.rules)} rules: {exc}") from None
+        self._rulesets = [(RULESET if i == 0 else f"{RULESET}-{i + 1}", group) for i, group in enumerate(groups)]
+        try:
+            self._host.set_rulesets({name: compile_ruleset(group, self._make_action, self._close)
+                                     for name, group in self._rulesets})
+        except durable_rules_engine.error as exc:
+            raise ReasoningError(f"the rule engine cannot hold these {len(rulebook.rules)} rules "
+                                 f"({exc}); please report it") from None
         self._sessions: dict[str, _Session] = {}
         self._sids = itertools.count(1)
         self._lock = threading.Lock()
-        self._patterns: dict[str, list] = defaultdict(list)
-        for r in rulebook.rules:
-            for p in r.needs + r.none_of:
-                if not p.counted:
-                    self._patterns[p.kind].append(p)
+        self._patterns = _patterns_by_kind(rulebook.rules)
+        self._group_patterns = [_patterns_by_kind(group) for _, group in self._rulesets]
+        self._group_slots = [{tally_slot(r, p) for r in group for p in r.needs if p.counted}
+                             for _, group in self._rulesets]
 
-    def _could_match(self, fact: dict) -> bool:
+    @property
+    def ruleset_count(self) -> int:
+        """How many rulesets the rulebook was split into (1 unless it outgrew the engine's tables)."""
+        return len(self._rulesets)
+
+    def _could_match(self, fact: dict, patterns=None) -> bool:
         """Whether some pattern's own conditions accept ``fact`` (joins are left to the engine).
 
         Facts no pattern can accept would only cost the engine time; the
         engine still decides every match, join and negation itself.
         """
+        patterns = self._patterns if patterns is None else patterns
         return any(all(_literal_match(fact, c) for c in p.conditions
                        if not (isinstance(c.value, Ref) and c.value.alias is not None))
-                   for p in self._patterns.get(fact["kind"], ()))
+                   for p in patterns.get(fact["kind"], ()))
 
     def _make_action(self, rule: Rule):
         def fire(c):
             session = self._sessions.get(c.s.sid)
-            if session is None:
+            if session is None or not session.admit(rule):
                 return
             try:
                 self._fire(rule, c, session)
@@ -213,6 +273,7 @@ class Reasoner:
             if signs:
                 derived[SIGNS] = signs
             session.facts_by_id[derived["id"]] = derived
+            session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
                         tuple(matched), derived, tuple(sorted(signs.items())))
         session.firings.append((rule, firing))
@@ -223,7 +284,12 @@ class Reasoner:
                 pass  # no rule reads this derived kind under these conditions
 
     def reason(self, facts: list[dict]) -> Reasoning:
-        """Forward-chain ``facts`` to quiescence and rank the hypotheses."""
+        """Forward-chain ``facts`` to quiescence and rank the hypotheses.
+
+        Each ruleset runs in turn (one, unless the rulebook outgrew the engine's tables): the
+        evidence its patterns could match, the counts its rules read, the facts derived by the
+        rulesets before it, then the phase fact.
+        """
         with self._lock:
             sid = f"d{next(self._sids)}"
             copies = {f["id"]: engine_copy(f, sid) for f in facts}
@@ -231,28 +297,46 @@ class Reasoner:
             tally = tallies(self.rulebook.rules, list(copies.values()))
             considered += tally
             copies.update({t["id"]: engine_copy(t, sid) for t in tally})
-            session = _Session({f["id"]: f for f in considered})
+            session = _Session({f["id"]: f for f in considered}, time.monotonic() + MAX_SECONDS)
             self._sessions[sid] = session
             try:
-                for fact in considered:
-                    self._assert(copies[fact["id"]])
-                self._assert({"kind": PHASE_KIND, "id": "phase", "sid": sid})
-                state = self._host.get_state(RULESET, sid)
-                if "exception" in state:
-                    session.errors.append(str(state["exception"]))
+                for (name, _), patterns, slots in zip(self._rulesets, self._group_patterns, self._group_slots):
+                    if session.errors:
+                        break
+                    if len(self._rulesets) == 1:
+                        mine = [copies[f["id"]] for f in considered]
+                    else:
+                        mine = [copies[f["id"]] for f in considered
+                                if (f["slot"] in slots if f["kind"] == TALLY_KIND else self._could_match(copies[f["id"]], patterns))]
+                        mine += [c for c in (engine_copy(d, sid) for d in session.derived) if self._could_match(c, patterns)]
+                    self._run(name, sid, mine, session)
             finally:
                 del self._sessions[sid]
-                if session.closed:
-                    self._host.delete_state(RULESET, sid)
-                else:
-                    session.errors.append("the rule engine did not finish this diagnosis")
             if session.errors:
                 raise ReasoningError("; ".join(session.errors[:3]))
             return self._rank(session, len(considered))
 
-    def _assert(self, fact: dict) -> None:
+    def _run(self, name: str, sid: str, facts: list[dict], session: _Session) -> None:
+        """One ruleset's part of a diagnosis: its facts, then the phase fact; its state deleted after."""
+        session.closed = False
         try:
-            self._host.assert_fact(RULESET, fact)
+            for fact in facts:
+                self._assert(name, fact)
+            self._assert(name, {"kind": PHASE_KIND, "id": "phase", "sid": sid})
+            state = self._host.get_state(name, sid)
+            if "exception" in state:
+                session.errors.append(str(state["exception"]))
+        except durable_rules_engine.error as exc:
+            session.errors.append(f"the rule engine failed ({exc}); please report it with the rulebooks used")
+        finally:
+            if session.closed:
+                self._host.delete_state(name, sid)
+            else:
+                session.errors.append("the rule engine did not finish this diagnosis")
+
+    def _assert(self, name: str, fact: dict) -> None:
+        try:
+            self._host.assert_fact(name, fact)
         except MessageNotHandledException:
             pass  # no rule's conditions look at this fact
         except MessageObservedException:
@@ -330,6 +414,15 @@ class Reasoner:
         result = Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
                            self.rulebook.files)
         return replace(result, differential=differential(self.rulebook, result))
+
+
+def _patterns_by_kind(rules) -> dict[str, list]:
+    out: dict[str, list] = defaultdict(list)
+    for r in rules:
+        for p in r.needs + r.none_of:
+            if not p.counted:
+                out[p.kind].append(p)
+    return out
 
 
 def _raw(f: Firing) -> float:

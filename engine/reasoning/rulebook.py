@@ -266,7 +266,91 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
             disabled[rid] = (entry["reason"], label_of[id(doc)])
             del rules[rid]
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
+    _check_no_derivation_cycle(ordered)
     return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters)
+
+
+def _may_feed(giver: Rule, pattern: Pattern) -> bool:
+    """Whether a fact ``giver`` derives could match ``pattern``: the same kind, and no condition
+    on a field the giver sets to a fixed value rules it out (references are assumed to match)."""
+    if pattern.counted or pattern.kind != giver.derives:
+        return False
+    fixed = {name: v for name, v in giver.derived_fields if not isinstance(v, Ref)}
+    for c in pattern.conditions:
+        if c.field not in fixed or isinstance(c.value, Ref):
+            continue
+        v = fixed[c.field]
+        ok = {"is": lambda: v == c.value, "is_not": lambda: v != c.value,
+              "one_of": lambda: v in c.value, "not_one_of": lambda: v not in c.value,
+              "between": lambda: c.value[0] <= v <= c.value[1], "above": lambda: v > c.value,
+              "at_least": lambda: v >= c.value, "below": lambda: v < c.value,
+              "at_most": lambda: v <= c.value}.get(c.op, lambda: True)
+        try:
+            if not ok():
+                return False
+        except TypeError:    # a string against a number: the engine would not match it either
+            return False
+    return True
+
+
+def feeds(rules) -> dict[str, list[str]]:
+    """Rule id -> ids of the rules that need a fact it derives (a fact it asserts could match)."""
+    readers: dict[str, list[Rule]] = {}
+    for r in rules:
+        for p in r.needs:
+            readers.setdefault(p.kind, []).append(r)
+    out: dict[str, list[str]] = {}
+    for r in rules:
+        if r.derives is None:
+            continue
+        out[r.id] = sorted({s.id for s in readers.get(r.derives, ()) if any(_may_feed(r, p) for p in s.needs)})
+    return out
+
+
+def derivation_cycle(rules) -> list[str] | None:
+    """Ids of rules that feed each other in a ring (the first one again at the end), or None.
+
+    Every firing asserts a new derived fact, so a ring would chain for ever:
+    the engine has no way to tell a fact it derived again from a new one.
+    """
+    graph = feeds(rules)
+    state: dict[str, int] = {}      # 1 on the path being walked, 2 done
+    for start in sorted(graph):
+        if state.get(start):
+            continue
+        path, stack = [start], [iter(graph[start])]
+        state[start] = 1
+        while stack:
+            nxt = next(stack[-1], None)
+            if nxt is None:
+                state[path.pop()] = 2
+                stack.pop()
+            elif state.get(nxt) == 1:
+                return path[path.index(nxt):] + [nxt]
+            elif not state.get(nxt):
+                state[nxt] = 1
+                path.append(nxt)
+                stack.append(iter(graph.get(nxt, ())))
+    return None
+
+
+def _check_no_derivation_cycle(rules) -> None:
+    ring = derivation_cycle(rules)
+    if ring is None:
+        return
+    by_id = {r.id: r for r in rules}
+    first = by_id[ring[0]]
+    kinds = sorted({by_id[i].derives for i in ring[:-1]})
+    feeders = sorted(r.id for r in rules if r.derives in kinds and r.id not in ring)
+    if len(ring) == 2:
+        what = f"derivation ring: it needs a {kinds[0]} fact and derives one"
+    else:
+        what = (f"derivation ring {' -> '.join(ring)}: each derives a fact "
+                f"({', '.join(kinds)}) the next one needs")
+    fed = f" (started by {', '.join(feeders)})" if feeders else ""
+    raise RulebookError(f"{what}{fed}, so forward chaining would never end; break the ring with a "
+                        f"condition its derived facts cannot meet, or disable a rule in it",
+                        path=first.path, line=first.line, rule_id=ring[0] if len(ring) == 2 else None)
 
 
 def _check_schema(doc: YamlDocument) -> None:
