@@ -89,7 +89,8 @@ class RouteError(UsageError):
 
 
 class StoreError(TellwaveError):
-    """The history store cannot be opened, is damaged, or was written by a newer tellwave."""
+    """The history store cannot be opened (missing for a command that only reads it, locked too long), is
+    damaged or another program's database, or was written by a newer tellwave."""
 
     exit_code = 8
 

@@ -9,29 +9,45 @@ def register(sub) -> None:
     p = sub.add_parser("history", help="list the stored readings of a machine, or delete one")
     p.add_argument("machine", nargs="?", help="machine name as its file gives it (omit to list machines)")
     add_store_option(p)
-    p.add_argument("--delete", type=int, metavar="ID", help="delete the stored reading with this id")
+    p.add_argument("--delete", metavar="ID", help="delete the stored reading with this id")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(run=run)
 
 
-def run(args) -> int:
-    import json
-
+def reading_id(text: str) -> int:
+    """The id given to --delete: a whole number from 1 to SQLite's largest integer."""
     from ..errors import UsageError
+    from ..history.store import ID_MAX
+
+    try:
+        value = int(text.strip())
+    except ValueError:
+        raise UsageError(f"--delete {text!r}: expected a reading id, a whole number (tellwave history "
+                         "MACHINE lists them)") from None
+    if not 0 < value <= ID_MAX:
+        raise UsageError(f"--delete {text}: no reading has that id (ids run from 1 to {ID_MAX}; "
+                         "tellwave history MACHINE lists them)")
+    return value
+
+
+def run(args) -> int:
+    from ..errors import UsageError
+    from ..jsonout import dumps
     from ._store import open_store
 
-    with open_store(args) as store:
-        if args.delete is not None:
-            row = store.reading(args.delete)
+    delete = None if args.delete is None else reading_id(args.delete)
+    with open_store(args, create=False) as store:     # listing or forgetting never makes a store
+        if delete is not None:
+            row = store.reading(delete)
             if row is None:
-                raise UsageError(f"no stored reading has id {args.delete}", path=str(store.path))
-            store.delete(args.delete)
-            print(f"deleted reading {args.delete} ({row['machine']}, {row['source']}, {row['taken_at']})")
+                raise UsageError(f"no stored reading has id {delete}", path=str(store.path))
+            store.delete(delete)
+            print(f"deleted reading {delete} ({row['machine']}, {row['source']}, {row['taken_at']})")
             return 0
         if args.machine is None:
             machines = store.machines()
             if args.json:
-                print(json.dumps(machines, indent=2))
+                print(dumps(machines))
             else:
                 print("\n".join(machines) if machines else f"the store {store.path} holds no reading yet")
             return 0
@@ -40,13 +56,13 @@ def run(args) -> int:
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
         if args.json:
-            print(json.dumps(rows, indent=2))
+            print(dumps(rows))
             return 0
         print(f"{args.machine}: {len(rows)} stored reading(s) in {store.path}")
         print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top finding")
         for r in rows:
-            top = (f"{r['top_fault_name']} on {r['top_component']} {100 * max(r['top_certainty'], 0):.0f} %"
-                   if r["top_fault"] else "-")
+            certainty = "—" if r["top_certainty"] is None else f"{100 * max(r['top_certainty'], 0):.0f} %"
+            top = f"{r['top_fault_name']} on {r['top_component']} {certainty}" if r["top_fault"] else "-"
             print(f"{r['id']:>5}  {r['taken_at']:<26} {','.join(r['points'])[:14]:<14} {r['worst_zone'] or '-':<4} "
                   f"{r['urgency'] or '-':<10} {top}")
     return 0

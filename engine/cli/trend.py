@@ -48,7 +48,7 @@ def run(args) -> int:
     from ._store import open_store
 
     limits = parse_limits(args.limit)
-    with open_store(args) as store:
+    with open_store(args, create=False) as store:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))

@@ -7,18 +7,32 @@ lock (``busy_timeout``), so two routes writing at once queue instead of
 failing or corrupting the file. The schema carries its version in
 ``schema_version`` and is migrated forward, one step at a time, when an older
 file is opened; a file written by a newer tellwave is refused.
+
+Opening checks the file before anything is written to it: SQLite's
+``quick_check``, the tables and columns its schema version should have, and the
+version itself (one whole number). A damaged file, another program's database
+or a newer tellwave's store is refused with a ``StoreError`` (exit 8) saying
+what is wrong and what to do; nothing is added to it. Every SQLite error after
+that becomes a ``StoreError`` too, and a number SQLite holds but Python cannot
+use (``inf``, ``nan``) is read as missing (None). Commands that only read open
+the store with ``create=False``: a missing file stays missing.
 """
 
 from __future__ import annotations
 
+import math
+import random
 import sqlite3
+import time
 from datetime import datetime, timezone
+from functools import lru_cache
 from pathlib import Path
 
 from ..errors import StoreError
 from .record import is_level
 
 BUSY_TIMEOUT_S = 60.0
+ID_MAX = 2 ** 63 - 1          # SQLite's largest integer: no reading id lies above it
 
 # Each step takes the schema from version i to i + 1; never edit a released step, add one.
 MIGRATIONS: tuple[str, ...] = (
@@ -109,47 +123,108 @@ def _now() -> str:
 class Store:
     """A connection to one history file. Use as a context manager, or call ``close``."""
 
-    def __init__(self, path, *, migrate_to: int = SCHEMA_VERSION, read_only: bool = False):
+    def __init__(self, path, *, migrate_to: int = SCHEMA_VERSION, read_only: bool = False, create: bool = True):
         """Open (and create or migrate) the store; ``read_only`` opens an existing, current one for
-        reading only (route workers looking up history while the parent writes)."""
+        reading only (route workers looking up history while the parent writes); ``create=False``
+        opens an existing one only (commands that just read: nothing is made for a mistyped path).
+
+        Two processes opening a new store at the same moment both succeed: every lock they meet is
+        waited for (``BUSY_TIMEOUT_S`` in all), and the schema is made or migrated once, in one
+        transaction, by whichever takes the write lock first."""
         self.path = Path(path)
+        self.db = None
+        deadline = time.monotonic() + BUSY_TIMEOUT_S
         try:
-            if read_only:
-                self.db = sqlite3.connect(self.path.absolute().as_uri() + "?mode=ro", uri=True,
-                                          timeout=BUSY_TIMEOUT_S, isolation_level=None)
-                self.db.row_factory = sqlite3.Row
-                if self.version != SCHEMA_VERSION:
-                    raise StoreError(f"schema {self.version}, expected {SCHEMA_VERSION}: open it for writing once "
-                                     "to migrate it", path=str(self.path))
-                return
-            self.path.parent.mkdir(parents=True, exist_ok=True)
-            self.db = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_S, isolation_level=None)
-            self.db.row_factory = sqlite3.Row
-            self.db.execute("PRAGMA journal_mode=WAL")
-            self.db.execute("PRAGMA foreign_keys=ON")
-            self.db.execute("PRAGMA synchronous=NORMAL")
-            self._migrate(migrate_to)
-        except sqlite3.DatabaseError as exc:
-            raise StoreError(f"not a usable history store ({exc})", path=str(self.path)) from None
+            if self.path.is_dir():
+                raise StoreError("is a folder, not a history store: name a file with --store", path=str(self.path))
+            if (read_only or not create) and not self.path.exists():
+                raise StoreError("no history store there (commands that only read create none): check the path, "
+                                 "or start one with `tellwave route ... --store PATH` or `tellwave diagnose ... "
+                                 "--store PATH`", path=str(self.path))
+            if not read_only:
+                self.path.parent.mkdir(parents=True, exist_ok=True)
+            while True:
+                try:
+                    self.db = _Connection(self.path, read_only=read_only, create=create)
+                    self._open(migrate_to, read_only=read_only, create=create)
+                    return
+                except StoreError as exc:
+                    if self.db is not None:
+                        self.db.close()
+                        self.db = None
+                    if not getattr(exc, "busy", False) or time.monotonic() > deadline:
+                        raise
+                    time.sleep(random.uniform(0.01, 0.1))     # a lock SQLite would not wait for: try again
         except OSError as exc:
             raise StoreError(f"cannot open the history store ({exc.strerror})", path=str(self.path)) from None
 
     # schema ---------------------------------------------------------------
-    def _migrate(self, target: int) -> None:
-        with self.transaction():
-            self.db.execute("CREATE TABLE IF NOT EXISTS schema_version (version INTEGER NOT NULL)")
-            row = self.db.execute("SELECT version FROM schema_version").fetchone()
-            version = row[0] if row else 0
-            if row is None:
-                self.db.execute("INSERT INTO schema_version VALUES (0)")
-            if version > SCHEMA_VERSION:
-                raise StoreError(f"written by a newer tellwave (schema {version}, this one knows "
-                                 f"{SCHEMA_VERSION}); upgrade tellwave", path=str(self.path))
-            for step in range(version, target):
-                for statement in MIGRATIONS[step].split(";"):
-                    if statement.strip():
-                        self.db.execute(statement)
-                self.db.execute("UPDATE schema_version SET version = ?", (step + 1,))
+    def _open(self, target: int, *, read_only: bool, create: bool) -> None:
+        found = self._check(quick=not read_only)
+        if read_only:
+            if found != SCHEMA_VERSION:
+                raise StoreError(f"schema {found}, expected {SCHEMA_VERSION}: open it for writing once "
+                                 "to migrate it", path=str(self.path))
+            return
+        if found is None and not create:
+            raise StoreError("an empty file, not a history store yet (commands that only read create none): "
+                             "check the path, or start one with `tellwave route ... --store PATH`", path=str(self.path))
+        self.db.execute("PRAGMA journal_mode=WAL")
+        self.db.execute("PRAGMA foreign_keys=ON")
+        self.db.execute("PRAGMA synchronous=NORMAL")
+        if found is None or found < target:
+            with self.transaction():           # under the write lock: another process may just have made it
+                self._migrate(self._check(quick=False), target)
+
+    def _check(self, *, quick: bool) -> int | None:
+        """The schema version of a sound store, None for an empty file; a StoreError for anything else."""
+        fix = "restore it from a copy, or name another store with --store"
+        if quick:
+            self.db.execute("SELECT COUNT(*) FROM sqlite_master")      # a file that is no database fails here
+            page_bytes = self.db.execute("PRAGMA page_size").fetchone()[0]
+            if self.path.stat().st_size % page_bytes:          # SQLite writes whole pages only
+                raise StoreError(f"damaged: cut short ({self.path.stat().st_size} bytes, not a whole number of "
+                                 f"{page_bytes}-byte pages); {fix}", path=str(self.path))
+            found = [r[0] for r in self.db.execute("PRAGMA quick_check")]
+            if found != ["ok"]:
+                more = f" (and {len(found) - 1} more problem(s))" if len(found) > 1 else ""
+                raise StoreError(f"damaged: SQLite's check finds {found[0]!r}{more}; {fix}", path=str(self.path))
+        tables = [r[0] for r in self.db.execute("SELECT name FROM sqlite_master WHERE type = 'table'"
+                                                " AND name NOT LIKE 'sqlite_%' ORDER BY name")]
+        if not tables:
+            return None
+        if "schema_version" not in tables:
+            shown = ", ".join(tables[:4]) + (", ..." if len(tables) > 4 else "")
+            raise StoreError(f"not a tellwave history store (another program's database, tables {shown}); tellwave "
+                             "adds nothing to it: name another store with --store", path=str(self.path))
+        rows = self.db.execute("SELECT version, typeof(version) FROM schema_version").fetchall()
+        if len(rows) != 1 or rows[0][1] != "integer" or rows[0][0] < 0:
+            what = f"{len(rows)} rows" if len(rows) != 1 else f"{rows[0][0]!r} ({rows[0][1]})"
+            raise StoreError(f"damaged: its schema version is {what}, not one whole number; {fix}", path=str(self.path))
+        version = rows[0][0]
+        if version > SCHEMA_VERSION:
+            raise StoreError(f"written by a newer tellwave (schema {version}, this one knows "
+                             f"{SCHEMA_VERSION}); upgrade tellwave", path=str(self.path))
+        for table, columns in _expected_tables(version).items():
+            if table not in tables:
+                raise StoreError(f"damaged: table {table} is missing (schema {version} has it); {fix}",
+                                 path=str(self.path))
+            have = {r[0] for r in self.db.execute("SELECT name FROM pragma_table_info(?)", (table,))}
+            if not columns <= have:
+                raise StoreError(f"damaged: table {table} lacks column(s) {', '.join(sorted(columns - have))}; {fix}",
+                                 path=str(self.path))
+        return version
+
+    def _migrate(self, version: int | None, target: int) -> None:
+        if version is None:
+            self.db.execute("CREATE TABLE schema_version (version INTEGER NOT NULL)")
+            self.db.execute("INSERT INTO schema_version VALUES (0)")
+            version = 0
+        for step in range(version, target):
+            for statement in MIGRATIONS[step].split(";"):
+                if statement.strip():
+                    self.db.execute(statement)
+            self.db.execute("UPDATE schema_version SET version = ?", (step + 1,))
 
     @property
     def version(self) -> int:
@@ -159,7 +234,8 @@ class Store:
         return _Transaction(self.db)
 
     def close(self) -> None:
-        self.db.close()
+        if self.db is not None:
+            self.db.close()
 
     def __enter__(self):
         return self
@@ -204,7 +280,8 @@ class Store:
                   int(c.get("scale_trusted", True))) for c in record["channels"]])
             self.db.executemany(
                 "INSERT INTO indicators VALUES (?,?,?,?)",
-                [(rid, i["channel"], i["name"], float(i["value"])) for i in record["indicators"]])
+                [(rid, i["channel"], i["name"], float(i["value"])) for i in record["indicators"]
+                 if math.isfinite(float(i["value"]))])         # an infinite level is no measurement
             self.db.executemany(
                 "INSERT INTO hypotheses VALUES (?,?,?,?,?,?,?)",
                 [(rid, h["rank"], h["fault"], h.get("fault_name"), h.get("component"), h["certainty"],
@@ -217,6 +294,8 @@ class Store:
 
     def delete(self, reading_id: int) -> bool:
         """Forget one reading (its channels, indicators and hypotheses go with it)."""
+        if not 0 < reading_id <= ID_MAX:
+            return False
         with self.transaction():
             return self.db.execute("DELETE FROM readings WHERE id = ?", (reading_id,)).rowcount > 0
 
@@ -245,6 +324,8 @@ class Store:
         return rows
 
     def reading(self, reading_id: int) -> dict | None:
+        if not 0 < reading_id <= ID_MAX:
+            return None
         row = self.db.execute("SELECT * FROM readings WHERE id = ?", (reading_id,)).fetchone()
         return dict(row) if row else None
 
@@ -263,7 +344,7 @@ class Store:
         ids = {r["id"] for r in rows}
         for r in self.db.execute("SELECT i.reading_id, i.channel, i.name, i.value FROM indicators i"
                                  " JOIN readings r ON r.id = i.reading_id WHERE r.machine = ?", (machine,)):
-            if r[0] in ids:
+            if r[0] in ids and _number(r[3]):          # a damaged value (text, inf) is no value
                 values.setdefault((r[0], r[1]), {})[r[2]] = r[3]
         for r in rows:
             r["indicators"] = values.get((r["id"], r["channel"]), {})
@@ -285,11 +366,113 @@ class Store:
         return self.db.execute("PRAGMA integrity_check").fetchone()[0]
 
 
+def _number(value) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+
+
+@lru_cache(maxsize=None)
+def _expected_tables(version: int) -> dict[str, frozenset]:
+    """table -> its columns, in a store of schema ``version`` (the migrations run on an empty database)."""
+    db = sqlite3.connect(":memory:")
+    try:
+        for step in MIGRATIONS[:version]:
+            db.executescript(step)
+        names = [r[0] for r in db.execute("SELECT name FROM sqlite_master WHERE type = 'table'")]
+        return {n: frozenset(r[1] for r in db.execute(f"PRAGMA table_info({n})")) for n in names}
+    finally:
+        db.close()
+
+
+def _finite_row(cursor, row):
+    """A row whose non-finite numbers (``inf``, ``nan``: no measurement gives them) read as None."""
+    return sqlite3.Row(cursor, tuple(None if isinstance(v, float) and not math.isfinite(v) else v for v in row))
+
+
+def _store_error(exc: Exception, path: Path) -> StoreError:
+    """The one-line StoreError for an SQLite error met while using the store at ``path``."""
+    text = str(exc) or exc.__class__.__name__
+    busy = isinstance(exc, sqlite3.OperationalError) and ("locked" in text or "busy" in text)
+    if busy:
+        problem = (f"busy ({text}): another tellwave has been writing it for more than {BUSY_TIMEOUT_S:.0f} s; "
+                   "run again when it has finished")
+    elif "readonly" in text or "read-only" in text:
+        problem = f"cannot be written ({text}): check the permissions of the file and its folder"
+    elif "full" in text:
+        problem = f"cannot be written ({text}): free some space and run again; what was stored is kept"
+    elif "unable to open" in text:
+        problem = f"cannot be opened ({text}): check the path and the permissions of its folder"
+    elif isinstance(exc, sqlite3.IntegrityError):
+        problem = f"refused a write ({text}); nothing of it was stored"
+    elif isinstance(exc, OverflowError):
+        problem = f"a number too large for SQLite ({text})"
+    else:
+        problem = (f"not a usable history store ({text}): damaged, or not tellwave's; restore it from a copy, "
+                   "or name another store with --store")
+    err = StoreError(problem, path=str(path))
+    err.busy = busy
+    return err
+
+
+class _Result:
+    """The rows of one statement, read whole (a damaged page met halfway through a query fails the query,
+    not the caller's loop), with the cursor's ``lastrowid`` and ``rowcount``."""
+
+    def __init__(self, rows: list, lastrowid, rowcount: int):
+        self.rows, self.lastrowid, self.rowcount = rows, lastrowid, rowcount
+
+    def fetchone(self):
+        return self.rows[0] if self.rows else None
+
+    def fetchall(self) -> list:
+        return self.rows
+
+    def __iter__(self):
+        return iter(self.rows)
+
+
+class _Connection:
+    """The store's SQLite connection: every SQLite error becomes a StoreError naming the file."""
+
+    def __init__(self, path: Path, *, read_only: bool, create: bool):
+        self.path = path
+        mode = "ro" if read_only else "rwc" if create else "rw"      # "rw" never makes a file
+        try:
+            self.raw = sqlite3.connect(f"{path.absolute().as_uri()}?mode={mode}", uri=True, timeout=BUSY_TIMEOUT_S,
+                                       isolation_level=None)
+        except sqlite3.Error as exc:
+            raise _store_error(exc, path) from None
+        self.raw.row_factory = _finite_row
+
+    @property
+    def in_transaction(self) -> bool:
+        return self.raw.in_transaction
+
+    def execute(self, sql: str, args=()) -> _Result:
+        try:
+            cur = self.raw.execute(sql, args)
+            return _Result(cur.fetchall(), cur.lastrowid, cur.rowcount)
+        except (sqlite3.Error, OverflowError) as exc:
+            raise _store_error(exc, self.path) from None
+
+    def executemany(self, sql: str, rows) -> _Result:
+        try:
+            cur = self.raw.executemany(sql, rows)
+            return _Result([], cur.lastrowid, cur.rowcount)
+        except (sqlite3.Error, OverflowError) as exc:
+            raise _store_error(exc, self.path) from None
+
+    def close(self) -> None:
+        try:
+            self.raw.close()
+        except sqlite3.Error:
+            pass
+
+
 class _Transaction:
     """BEGIN IMMEDIATE ... COMMIT, or ROLLBACK on any exception (the write lock is taken at once,
     so two writers queue on ``busy_timeout`` instead of failing on a lock upgrade)."""
 
-    def __init__(self, db: sqlite3.Connection):
+    def __init__(self, db: _Connection):
         self.db = db
         self.outer = False
 
@@ -305,5 +488,8 @@ class _Transaction:
         if exc_type is None:
             self.db.execute("COMMIT")
         else:
-            self.db.execute("ROLLBACK")
+            try:
+                self.db.execute("ROLLBACK")
+            except StoreError:
+                pass        # SQLite rolled back already (or cannot): the error that got here says more
         return False

@@ -72,11 +72,30 @@ class _Progress:
             self.bar.close()
 
 
-def _ignore_interrupts() -> None:
-    """Workers leave Ctrl-C to the parent, which stops the route and says how to resume."""
+def _start_worker(lifeline) -> None:
+    """Workers leave Ctrl-C to the parent, which stops the route and says how to resume; and they end
+    when the route process ends, however it ends (``kill -9`` included).
+
+    ``lifeline`` is the read end of a pipe whose one write end the route process holds: when the route
+    dies the read gives EOF and the worker exits at once. Its parent is the fork server, not the route,
+    so neither ``os.getppid()`` nor ``PR_SET_PDEATHSIG`` would notice; and each worker holds the fork
+    server's own liveness pipe, so once the workers are gone the fork server and then the resource
+    tracker see their pipes close and end too. The worker only reads the store, so nothing is lost.
+    """
+    import os
     import signal
+    import threading
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+    def watch():
+        try:
+            lifeline.recv_bytes()
+        except (EOFError, OSError):
+            pass
+        os._exit(1)
+
+    threading.Thread(target=watch, name="route-lifeline", daemon=True).start()
 
 
 def _local(tasks, settings, workers):
@@ -89,7 +108,9 @@ def _local(tasks, settings, workers):
     ctx = multiprocessing.get_context("forkserver")
     ctx.set_forkserver_preload(["engine.route.work", "engine.pipeline", "engine.reasoning", "engine.report"])
     pending = iter(tasks)
-    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_ignore_interrupts) as pool:
+    lifeline, alive = ctx.Pipe(duplex=False)      # workers read ``lifeline``; only this process holds ``alive``
+    with alive, lifeline, ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_start_worker,
+                                              initargs=(lifeline,)) as pool:
         running = set()
         try:
             while True:

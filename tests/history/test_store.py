@@ -55,7 +55,7 @@ def test_a_failed_write_leaves_nothing_behind(tmp_path):
     bad = record(1)
     bad["hypotheses"] = bad["hypotheses"] * 2          # the same rank twice: the insert fails midway
     with Store(tmp_path / "h.sqlite") as s:
-        with pytest.raises(sqlite3.IntegrityError):
+        with pytest.raises(StoreError, match="UNIQUE constraint failed.*nothing of it was stored"):
             s.add(bad)
         assert not s.has("hash-1")
         assert s.db.execute("SELECT COUNT(*) FROM channels").fetchone()[0] == 0

@@ -9,6 +9,8 @@ import subprocess
 import sys
 import time
 
+import pytest
+
 from routes import make_route
 
 from engine.history.store import Store
@@ -53,3 +55,46 @@ def test_a_killed_route_keeps_what_it_stored_and_resumes(tmp_path):
         assert len(resumed.skipped) == len(kept)
         assert len(resumed.diagnosed) == N - len(kept)
         assert len(s.readings()) == N
+
+
+def _children_of(pids: set[int]) -> set[int]:
+    """Every live process descended from ``pids`` or sharing their process group (Linux /proc)."""
+    found = set()
+    for entry in os.listdir("/proc"):
+        if not entry.isdigit():
+            continue
+        try:
+            with open(f"/proc/{entry}/stat") as f:
+                fields = f.read().rsplit(")", 1)[1].split()
+        except OSError:
+            continue
+        state, pgid = fields[0], int(fields[2])
+        if state != "Z" and pgid in pids:
+            found.add(int(entry))
+    return found
+
+
+@pytest.mark.skipif(not os.path.isdir("/proc"), reason="reads the process table from /proc")
+def test_a_killed_route_leaves_no_process_behind(tmp_path):
+    # the pool's workers, the fork server and the resource tracker held the store open for minutes
+    route = make_route(tmp_path / "r", n=40, bad=False, seed=300)
+    store = tmp_path / "h.sqlite"
+    proc = subprocess.Popen([sys.executable, "-m", "engine.cli", "route", str(route), "--store", str(store),
+                             "--out", str(tmp_path / "out"), "--workers", "2", "--quiet"],
+                            cwd=ROOT, start_new_session=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        deadline = time.monotonic() + 120
+        while _stored(store) < 2 and proc.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.02)
+        assert proc.poll() is None, "the route finished before it could be killed"
+        assert len(_children_of({proc.pid})) >= 4        # route, tracker, fork server, two workers
+        proc.kill()                                      # the route alone: its children are not signalled
+    finally:
+        proc.wait(timeout=30)
+    deadline = time.monotonic() + 10
+    while _children_of({proc.pid}) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    left = _children_of({proc.pid})
+    for pid in left:                                     # do not leave them to the next test
+        os.kill(pid, signal.SIGKILL)
+    assert not left, f"{len(left)} process(es) of the killed route still alive"

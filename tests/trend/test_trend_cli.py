@@ -26,6 +26,9 @@ def test_bad_limits_are_usage_errors(item, problem):
 
 
 def test_an_unknown_machine_is_one_line_with_exit_2(tmp_path, capsys):
+    from engine.history.store import Store
+
+    Store(tmp_path / "h.sqlite").close()               # an empty store (a missing one is exit 8)
     assert main(["trend", "Nobody's pump", "--store", str(tmp_path / "h.sqlite")]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "machines stored: none" in err
