@@ -63,6 +63,11 @@ def check_target(path, inputs=()) -> Path:
     return target
 
 
+def sqlite_files(path) -> list[Path]:
+    """A SQLite file (the history store) with the journal files SQLite keeps beside it."""
+    return [Path(path)] + [Path(f"{path}{suffix}") for suffix in ("-wal", "-shm", "-journal")]
+
+
 def _same_file(a: Path, b: Path) -> bool:
     try:
         if os.path.exists(a) and os.path.exists(b):
