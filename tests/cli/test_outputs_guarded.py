@@ -124,3 +124,16 @@ def test_plan_bad_command_line_values_are_usage_errors(argv, option, capsys):
     err = capsys.readouterr().err
     assert code == 2 and option in err and err.count("\n") == 1
     assert "machine" not in err.lower()     # the command line is wrong, not the machine file
+
+
+def test_demo_never_writes_over_a_site_overlay_in_its_folder(tmp_path, capsys):
+    """A site rulebook kept in the demo folder under a name the demo writes is refused before any case runs."""
+    out = tmp_path / "demo"
+    out.mkdir()
+    overlay = out / "index.html"
+    shutil.copy(CASES / "site" / "tallow-ridge.yaml", overlay)
+    before = overlay.read_bytes()
+    code = main(["demo", "--out", str(out), "--site", str(overlay)])
+    err = capsys.readouterr().err
+    assert code == 2 and "index.html" in err and "input of this run" in err
+    assert overlay.read_bytes() == before and sorted(p.name for p in out.iterdir()) == ["index.html"]
