@@ -71,11 +71,14 @@ def test_a_linked_summary_fails_before_any_reading_and_nothing_is_written(tmp_pa
 
 
 def test_a_report_target_that_is_a_folder_fails_before_any_reading(tmp_path, capsys):
-    _reading(tmp_path / "r.wav")
-    route = _route(tmp_path / "route.yaml", [{"file": "r.wav", "machine": "rw2"}])
+    """The second reading's report cannot be written: the first is not diagnosed either."""
+    _reading(tmp_path / "q.wav")
+    _reading(tmp_path / "r.wav", seed=1)
+    route = _route(tmp_path / "route.yaml", [{"file": "q.wav", "machine": "rw2"}, {"file": "r.wav", "machine": "rw2"}])
     (tmp_path / "out" / "reports" / "rw-2-raw-water-pump" / "r.wav.html").mkdir(parents=True)
     assert _run(route, tmp_path) == 2
     assert "r.wav.html" in capsys.readouterr().err and _stored(tmp_path) == []
+    assert not (tmp_path / "out" / "reports" / "rw-2-raw-water-pump" / "q.wav.html").exists()
 
 
 def test_two_files_of_one_name_get_two_reports(tmp_path):
