@@ -220,11 +220,12 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
               for t in route.tasks}
     route_id = store.start_route(route.name, route.file)
     outcome = RouteOutcome(route, route_id, hashes)
-    todo = []
+    todo, queued = [], set()
     for t in route.tasks:
-        if not again and store.has(hashes[t.index]):
-            outcome.skipped.append(t.index)
+        if hashes[t.index] in queued or (not again and store.has(hashes[t.index])):
+            outcome.skipped.append(t.index)     # stored, or listed twice the same way in this route
         else:
+            queued.add(hashes[t.index])
             todo.append((t, (hashes[t.index], recordings[t.index])))
     settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
                 "store": str(store.path.resolve()), "route_id": route_id, "made_at": made_at or report_time()}

@@ -176,3 +176,13 @@ def test_a_folder_route_names_the_files_no_pattern_maps(tmp_path, capsys):
     assert line.startswith("tellwave: 3 reading file(s)") and "plant.yaml" in line
     assert all(name in line for name in ("spare-1.wav", "spare-2.wav", "old.csv"))
     assert len(_stored(tmp_path)) == 2
+
+
+def test_a_file_listed_twice_the_same_way_is_diagnosed_and_shown_once(tmp_path):
+    _reading(tmp_path / "r.wav")
+    route = _route(tmp_path / "route.yaml", [{"file": "r.wav", "machine": "rw2"}, {"file": "r.wav", "machine": "rw2"}])
+    _run(route, tmp_path)
+    summary = json.loads((tmp_path / "out" / "summary.json").read_text())
+    assert summary["counts"]["diagnosed"] == 1 and summary["counts"]["skipped"] == 1
+    (machine,) = summary["machines"]
+    assert len(machine["readings"]) == 1 and len(_stored(tmp_path)) == 1
