@@ -14,7 +14,7 @@ from pathlib import Path
 
 from .casebook import Case, case_files, describe, judge, load_case, reading_of, simulation_of
 from .machine import load_machine
-from .outfile import check_target
+from .outfile import check_target, known_inputs
 from .paths import CASES
 from .pipeline import diagnose, document_of
 from .readings import load_reading
@@ -40,6 +40,7 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, 
     """Diagnose each demo case into ``out_dir``; every file it writes is checked against ``inputs`` first."""
     out_dir = Path(out_dir)
     readings_dir = out_dir / "readings"
+    inputs = known_inputs(inputs)
     cases = case_files(cases_dir)
     for path in cases:
         name = Path(path).name.removesuffix(".case.yaml")

@@ -151,9 +151,9 @@ def input_files(args, route=None) -> list[Path]:
 def output_target(args, output, route=None) -> list[Path]:
     """Check ``output`` against every input of the command before any work (``engine.outfile.check_target``);
     return the inputs, to be given again when the file is written."""
-    from ..outfile import check_target
+    from ..outfile import check_target, known_inputs
 
-    inputs = input_files(args, route)
+    inputs = known_inputs(input_files(args, route))
     check_target(output, inputs)
     return inputs
 

@@ -204,13 +204,13 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
     with its key (``history.record.reading_key``: files, machine, how the
     route reads them, rulebooks) is stored.
     """
-    from ..outfile import check_target
+    from ..outfile import check_target, known_inputs
     from ..report import write_atomically
     from ..report.document import report_time
 
     start = time.perf_counter()
     out_dir = Path(out_dir)
-    inputs = list(inputs) if inputs is not None else run_inputs(route, store, site)
+    inputs = known_inputs(inputs if inputs is not None else run_inputs(route, store, site))
     reports = report_paths(route, out_dir, fmt)
     for path in [*reports.values(), *summary_paths(out_dir).values()]:
         check_target(path, inputs)

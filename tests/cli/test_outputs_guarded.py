@@ -137,3 +137,20 @@ def test_demo_never_writes_over_a_site_overlay_in_its_folder(tmp_path, capsys):
     err = capsys.readouterr().err
     assert code == 2 and "index.html" in err and "input of this run" in err
     assert overlay.read_bytes() == before and sorted(p.name for p in out.iterdir()) == ["index.html"]
+
+
+def test_inputs_are_found_by_identity_and_by_path(tmp_path):
+    """``known_inputs`` (built once for a route's thousands of files) finds what the pairwise check found."""
+    import os
+
+    from engine.errors import OutputError
+    from engine.outfile import check_target, known_inputs, sqlite_files
+
+    reading = tmp_path / "r.wav"
+    reading.write_bytes(b"RIFF")
+    os.link(reading, tmp_path / "hard.wav")
+    inputs = known_inputs([reading, *sqlite_files(tmp_path / "h.sqlite")])
+    for target in ("hard.wav", "r.wav", "./r.wav", "h.sqlite", "h.sqlite-wal"):   # the store's files do not exist yet
+        with pytest.raises(OutputError, match="input of this run"):
+            check_target(tmp_path / target, inputs)
+    assert check_target(tmp_path / "report.html", inputs) == tmp_path / "report.html"
