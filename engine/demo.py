@@ -14,6 +14,7 @@ from pathlib import Path
 
 from .casebook import Case, case_files, describe, judge, load_case, reading_of, simulation_of
 from .machine import load_machine
+from .outfile import check_target, known_inputs
 from .paths import CASES
 from .pipeline import diagnose, document_of
 from .readings import load_reading
@@ -35,27 +36,35 @@ class DemoResult:
     got: str
 
 
-def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print) -> list[DemoResult]:
+def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, inputs=()) -> list[DemoResult]:
+    """Diagnose each demo case into ``out_dir``; every file it writes is checked against ``inputs`` first."""
     out_dir = Path(out_dir)
     readings_dir = out_dir / "readings"
+    inputs = known_inputs(inputs)
+    cases = case_files(cases_dir)
+    for path in cases:
+        name = Path(path).name.removesuffix(".case.yaml")
+        for target in (out_dir / f"{name}.html", readings_dir / f"{name}.wav", readings_dir / f"{name}.wav.yaml"):
+            check_target(target, inputs)
+    check_target(out_dir / "index.html", inputs)
     readings_dir.mkdir(parents=True, exist_ok=True)
     results = []
-    for i, path in enumerate(case_files(cases_dir)):
+    for i, path in enumerate(cases):
         case = load_case(path)
         machine = load_machine(case.machine)
         name = Path(path).name.removesuffix(".case.yaml")
         sim = simulation_of(case, machine)
         if sim is not None:
             taken = (SURVEY_START + i * SURVEY_STEP).isoformat()
-            files = write_simulation(sim, readings_dir / f"{name}.wav", timestamp=taken)
+            files = write_simulation(sim, readings_dir / f"{name}.wav", timestamp=taken, inputs=inputs)
             reading = load_reading(files[0])
         else:
             reading = reading_of(case, machine)
         d = diagnose(reading, machine, reasoner, plots=True)
-        report = write_atomically(out_dir / f"{name}.html", render(document_of(d), "html"))
+        report = write_atomically(out_dir / f"{name}.html", render(document_of(d), "html"), inputs)
         result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
         progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
         results.append(result)
     index = environment().get_template("index.html.j2").render(results=results, out_dir=out_dir)
-    write_atomically(out_dir / "index.html", index)
+    write_atomically(out_dir / "index.html", index, inputs)
     return results

@@ -56,20 +56,47 @@ def check_target(path, inputs=()) -> Path:
         if not stat.S_ISREG(info.st_mode):
             raise OutputError("is not a regular file (a device, pipe or socket); tellwave writes only files",
                               path=text)
-    for source in inputs:
-        if _same_file(target, Path(source)):
-            raise OutputError(f"is an input of this run ({source}); tellwave never writes over its inputs",
-                              path=text)
+    source = known_inputs(inputs).find(target)
+    if source is not None:
+        raise OutputError(f"is an input of this run ({source}); tellwave never writes over its inputs",
+                          path=text)
     return target
 
 
-def _same_file(a: Path, b: Path) -> bool:
-    try:
-        if os.path.exists(a) and os.path.exists(b):
-            return os.path.samefile(a, b)
-    except OSError:
-        pass
-    return os.path.realpath(a) == os.path.realpath(b)
+def sqlite_files(path) -> list[Path]:
+    """A SQLite file (the history store) with the journal files SQLite keeps beside it."""
+    return [Path(path)] + [Path(f"{path}{suffix}") for suffix in ("-wal", "-shm", "-journal")]
+
+
+class Inputs:
+    """The files a run reads, looked up in constant time: by identity (device and inode: a hard link
+    or a link to an input is the input) and by real path (an input not yet created, a store's journal)."""
+
+    def __init__(self, paths=()):
+        self.by_id: dict[tuple[int, int], Path] = {}
+        self.by_real: dict[str, Path] = {}
+        for p in paths:
+            p = Path(p)
+            try:
+                info = os.stat(p)
+                self.by_id.setdefault((info.st_dev, info.st_ino), p)
+            except OSError:
+                pass
+            self.by_real.setdefault(os.path.realpath(p), p)
+
+    def find(self, target) -> Path | None:
+        """The input ``target`` is, or None."""
+        try:
+            info = os.stat(target)
+            hit = self.by_id.get((info.st_dev, info.st_ino))
+        except OSError:
+            hit = None
+        return hit if hit is not None else self.by_real.get(os.path.realpath(target))
+
+
+def known_inputs(inputs) -> Inputs:
+    """``inputs`` as ``Inputs`` (built once: a route checks hundreds of outputs against thousands of inputs)."""
+    return inputs if isinstance(inputs, Inputs) else Inputs(inputs)
 
 
 def _pid_alive(pid: int) -> bool:

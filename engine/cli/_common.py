@@ -116,19 +116,46 @@ def load_readings(args):
     return combine_readings([load_reading(path, **options) for path in args.readings])
 
 
-def input_files(args) -> list[Path]:
-    """Every file the command reads: readings with their sidecars, the machine, site overlays."""
+def input_files(args, route=None) -> list[Path]:
+    """Every file the command reads, never to be written over: readings with their sidecars (positional
+    or ``--reading``), the machine, ``--policy``, site overlays, the history store with its journal files,
+    the route or plant file and, given the loaded ``route``, every file it reads."""
+    from ..outfile import sqlite_files
     from ..readings import sidecar_path
 
     files = []
-    for path in getattr(args, "readings", None) or []:
+    readings = list(getattr(args, "readings", None) or [])
+    if getattr(args, "reading", None):
+        readings.append(args.reading)
+    for path in readings:
         files += [Path(path), sidecar_path(path)]
-    if getattr(args, "machine", None):
-        files.append(Path(args.machine))
+    for name in ("machine", "policy", "plant"):      # trend's and history's machine is a name, not a file
+        if getattr(args, name, None) and (name != "machine" or Path(args.machine).is_file()):
+            files.append(Path(getattr(args, name)))
     for place in getattr(args, "site", None) or []:
         p = Path(place)
         files += sorted(p.glob("*.y*ml")) if p.is_dir() else [p]
+    if getattr(args, "route", None) and not Path(args.route).is_dir():
+        files.append(Path(args.route))
+    if route is not None:
+        from ..route import route_inputs
+
+        files += route_inputs(route)
+    if hasattr(args, "store"):      # the default store too: no output goes over a history
+        from ..history.store import default_store_path
+
+        files += sqlite_files(args.store or default_store_path())
     return files
+
+
+def output_target(args, output, route=None) -> list[Path]:
+    """Check ``output`` against every input of the command before any work (``engine.outfile.check_target``);
+    return the inputs, to be given again when the file is written."""
+    from ..outfile import check_target, known_inputs
+
+    inputs = known_inputs(input_files(args, route))
+    check_target(output, inputs)
+    return inputs
 
 
 def say(text: str = "") -> None:

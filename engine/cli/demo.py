@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._common import add_site_option, rulebook, say
+from ._common import add_site_option, input_files, rulebook, say
 
 
 def register(sub) -> None:
@@ -19,7 +19,7 @@ def run(args) -> int:
     from ..reasoning import Reasoner
 
     prepare_folder(args.out)
-    results = run_demo(args.out, Reasoner(rulebook(args)), progress=say)
+    results = run_demo(args.out, Reasoner(rulebook(args)), progress=say, inputs=input_files(args))
     missed = sum(not r.passed for r in results)
     say(f"{len(results) - missed} of {len(results)} demo cases diagnosed as expected; "
           f"reports in {args.out}/ (open {args.out}/index.html)")

@@ -5,7 +5,8 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import add_reading_options, add_readings_argument, add_site_option, input_files, load_readings, rulebook, say
+from ._common import (add_reading_options, add_readings_argument, add_site_option, input_files, load_readings,
+                      output_target, rulebook, say)
 
 
 def register(sub) -> None:
@@ -32,7 +33,6 @@ def register(sub) -> None:
 def run(args) -> int:
     from ..errors import EXIT_WITHHELD
     from ..machine import load_machine
-    from ..outfile import check_target
     from ..pipeline import diagnose, document_of
     from ..reasoning import Reasoner
     from ..report import render, write_atomically
@@ -41,9 +41,7 @@ def run(args) -> int:
     output = args.output
     if output is None and fmt in ("html", "md"):
         output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
-    inputs = input_files(args)
-    if output is not None:
-        check_target(output, inputs)     # before the work, not after it
+    inputs = input_files(args) if output is None else output_target(args, output)    # before the work
     taken = _taken_at(args)
     machine = load_machine(args.machine)
     reasoner = Reasoner(rulebook(args))

@@ -5,17 +5,21 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
+from ._common import RPM, number, output_target, whole
+
 
 def register(sub) -> None:
     p = sub.add_parser("plan", help="propose acquisition settings for a machine, or check given ones")
     p.add_argument("machine", help="machine YAML file")
     p.add_argument("--point", action="append", metavar="P", help="plan only this measurement point (repeatable; default: every point)")
-    p.add_argument("--rpm", type=float, help="running speed of the driving shaft (default: nominal)")
+    p.add_argument("--rpm", type=RPM, help="running speed of the driving shaft (default: nominal)")
     given = p.add_argument_group("settings to check (or --reading)")
-    given.add_argument("--fmax", type=float, metavar="HZ", help="Fmax in Hz")
-    given.add_argument("--lines", type=int, metavar="N", help="number of lines")
-    given.add_argument("--sample-rate", type=float, metavar="HZ", help="sample rate in Hz (default 2.56 x Fmax)")
-    given.add_argument("--duration", type=float, metavar="S", help="waveform length in s (default lines / Fmax)")
+    given.add_argument("--fmax", type=number("Fmax in Hz"), metavar="HZ", help="Fmax in Hz")
+    given.add_argument("--lines", type=whole("the number of lines", 1), metavar="N", help="number of lines")
+    given.add_argument("--sample-rate", type=number("the sample rate in Hz"), metavar="HZ",
+                       help="sample rate in Hz (default 2.56 x Fmax)")
+    given.add_argument("--duration", type=number("the duration in s"), metavar="S",
+                       help="waveform length in s (default lines / Fmax)")
     given.add_argument("--reading", metavar="FILE", help="take the settings (and speed) of a reading file")
     p.add_argument("--policy", metavar="FILE", help="acquisition policy YAML (default: the shipped one)")
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
@@ -48,6 +52,11 @@ def run(args) -> int:
     from ..planner import build_plan, load_policy, render_plan
     from ..report import write_atomically
 
+    fmt = args.format
+    output = args.output
+    if output is None and fmt in ("html", "md"):
+        output = Path(args.machine).with_suffix("").name + f".plan.{fmt}"
+    inputs = output_target(args, output) if output is not None else []      # before the work
     machine = load_machine(args.machine)
     policy = load_policy(args.policy)
     for point in args.point or []:
@@ -56,15 +65,11 @@ def run(args) -> int:
     rpm = args.rpm if args.rpm is not None else reading_rpm
     if rpm is not None:
         machine.speeds_at(rpm)
-    fmt = args.format
     doc = build_plan(machine, policy, points=args.point, given=given, speed_rpm=rpm,
                      with_proof=not args.no_proof, with_figures=fmt == "html")
     text = render_plan(doc, fmt)
-    output = args.output
-    if output is None and fmt in ("html", "md"):
-        output = Path(args.machine).with_suffix("").name + f".plan.{fmt}"
     if output is None:
         sys.stdout.write(text)
     else:
-        print(f"wrote {write_atomically(output, text)}")
+        print(f"wrote {write_atomically(output, text, inputs)}")
     return 0

@@ -29,7 +29,9 @@ def run(args) -> int:
 
     from ..errors import EXIT_ROUTE_FAILURES, UsageError
     from ..report import write_atomically
-    from ..route import FORMATS, load_folder, load_route, render_summary, route_summary, run_route
+    from ..route import load_folder, load_route, render_summary, route_summary, run_route, summary_paths
+    from ..outfile import known_inputs
+    from ._common import input_files
     from ._store import open_store
 
     if args.workers is not None and args.workers < 1:
@@ -39,25 +41,46 @@ def run(args) -> int:
         if not args.plant:
             raise UsageError(f"{source} is a folder: give --plant PLANT.yaml to map its readings to machines")
         route = load_folder(source, args.plant)
+        _say_unmatched(route, args.plant)
     else:
         if args.plant:
             raise UsageError("--plant goes with a folder of readings, not with a route file")
         route = load_route(source)
     out = Path(args.out) if args.out else source.parent / f"{source.stem}-reports"
+    inputs = known_inputs(input_files(args, route))     # run_route checks every output against them first
     with open_store(args) as store:
         try:
             outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,
                                 again=args.again, fmt=args.format, plots=args.plots, site=args.site or (),
-                                progress=not args.quiet and sys.stderr.isatty())
+                                progress=not args.quiet and sys.stderr.isatty(), inputs=inputs)
         except KeyboardInterrupt:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)
             return 130
         doc = route_summary(outcome, store, out)
-    for fmt, ext in FORMATS.items():
-        write_atomically(out / f"summary.{ext}", render_summary(doc, fmt))
+    for fmt, path in summary_paths(out).items():
+        write_atomically(path, render_summary(doc, fmt), inputs)
     if not args.quiet:
         text = render_summary(doc, "text")
         sys.stdout.write(text if text.endswith("\n") else text + "\n")
     print(f"summary in {out}/summary.html (and .md, .txt, .json)", file=sys.stderr)
     return EXIT_ROUTE_FAILURES if outcome.failed else 0
+
+
+SHOWN_UNMATCHED = 5
+
+
+def _say_unmatched(route, plant) -> None:
+    """Name the folder's reading files that no pattern of the plant file maps (they are not diagnosed)."""
+    import sys
+    from pathlib import Path
+
+    from ..escape import terminal
+
+    if not route.unmatched:
+        return
+    names = [Path(f).name for f in route.unmatched]
+    shown = ", ".join(names[:SHOWN_UNMATCHED]) + (f" and {len(names) - SHOWN_UNMATCHED} more"
+                                                  if len(names) > SHOWN_UNMATCHED else "")
+    print(terminal(f"tellwave: {len(names)} reading file(s) match no pattern of {plant} and are skipped: {shown}"),
+          file=sys.stderr)

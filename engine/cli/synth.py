@@ -33,10 +33,10 @@ def register(sub) -> None:
 def run(args) -> int:
     from ..errors import UsageError
     from ..machine import load_machine
-    from ..outfile import check_target
+    from ._common import output_target
     from ..synth import simulate, write_simulation
 
-    check_target(args.output, [args.machine])
+    inputs = output_target(args, args.output)      # before the work
     if args.duration * args.sample_rate > MAX_SYNTH_SAMPLES:
         raise UsageError(f"--duration x --sample-rate gives more than {MAX_SYNTH_SAMPLES} samples per channel")
     if args.duration * args.sample_rate < 256:
@@ -45,6 +45,6 @@ def run(args) -> int:
     points = [p.strip() for p in args.points.split(",") if p.strip()] if args.points else None
     sim = simulate(machine, args.fault, args.component, args.stage, args.rpm, args.sample_rate,
                    args.duration, args.seed, points)
-    for path in write_simulation(sim, args.output, inputs=[args.machine]):
+    for path in write_simulation(sim, args.output, inputs=inputs):
         say(f"wrote {path}")
     return 0

@@ -47,7 +47,13 @@ def run(args) -> int:
     from ..trend.render import render_trend
     from ._store import open_store
 
+    from ._common import output_target
+
     limits = parse_limits(args.limit)
+    output = args.output
+    if output is None and args.format in ("html", "md"):
+        output = f"{slug(args.machine)}.trend.{args.format}"
+    inputs = output_target(args, output) if output is not None else []      # before the work
     with open_store(args, create=False) as store:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"
@@ -56,11 +62,8 @@ def run(args) -> int:
     if not doc["points"]:
         raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
     text = render_trend(doc, args.format)
-    output = args.output
-    if output is None and args.format in ("html", "md"):
-        output = f"{slug(args.machine)}.trend.{args.format}"
     if output is None:
         sys.stdout.write(text)
     else:
-        print(f"wrote {write_atomically(output, text)}")
+        print(f"wrote {write_atomically(output, text, inputs)}")
     return 0

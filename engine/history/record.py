@@ -9,6 +9,7 @@ hypotheses with certainty and the verdict.
 from __future__ import annotations
 
 import hashlib
+import json
 from pathlib import Path
 
 from ..readings import SCALE_ISSUES, sidecar_path
@@ -52,6 +53,39 @@ def content_hash(paths) -> str:
     return h.hexdigest()
 
 
+def _file_digest(path) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            h.update(block)
+    return h.hexdigest()
+
+
+def rulebooks_hash(site=()) -> str:
+    """SHA-256 over every shipped rulebook and advice file and each site overlay, in load order:
+    a changed rule or threshold makes every stored diagnosis one to do again."""
+    from ..paths import RULEBOOKS
+    from ..reasoning.rulebook import rulebook_files
+
+    files = sorted(f for f in RULEBOOKS.rglob("*") if f.suffix in (".yaml", ".yml") and f.is_file())
+    files += rulebook_files(*site) if site else []
+    h = hashlib.sha256()
+    for f in files:
+        h.update(Path(f).name.encode("utf-8", "backslashreplace") + b"\0" + _file_digest(f).encode())
+    return h.hexdigest()
+
+
+def reading_key(paths, machine_file, how: dict, rulebooks: str) -> str:
+    """The key a diagnosis is stored and resumed by: what was read (``content_hash``), of which machine
+    (its file's content), how (``how``: point mapping, unit, speed, sample rate, scale... as the route or
+    command line states them; None values left out) and by which rules (``rulebooks_hash``). The same
+    file read for another machine, with another unit or under other rules is another diagnosis."""
+    stated = {k: v for k, v in sorted(how.items()) if v not in (None, {}, [], ())}
+    parts = {"recording": content_hash(paths), "machine": _file_digest(machine_file), "how": stated,
+             "rulebooks": rulebooks}
+    return hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode("utf-8", "backslashreplace")).hexdigest()
+
+
 def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
     """The channels of a reading and the key indicators of each, from its evidence facts.
 
@@ -92,7 +126,7 @@ def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
 
 
 def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str, time_from: str,
-              machine_file: str | None, elapsed_s: float) -> dict:
+              machine_file: str | None, elapsed_s: float, recording_hash: str | None = None) -> dict:
     """The stored record of one diagnosis (``doc`` from ``pipeline.document_of``)."""
     channels, values = indicators_of(facts)
     zones = {z["channel"]: z["zone"] for z in doc["zones"]["points"]}
@@ -101,7 +135,8 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
     top = doc["hypotheses"][0] if doc["hypotheses"] else None
     refined = next((f.get("speed_rpm") for f in facts if f["kind"] == "acquisition"), None)
     return {
-        "content_hash": content_hash,
+        "content_hash": content_hash,       # the diagnosis's key (``reading_key``)
+        "recording_hash": recording_hash or content_hash,    # the files read (``content_hash``)
         "machine": doc["machine"]["name"],
         "machine_file": machine_file,
         "source": doc["reading"]["source"],

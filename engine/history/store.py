@@ -105,6 +105,14 @@ MIGRATIONS: tuple[str, ...] = (
         SELECT 1 FROM indicators i WHERE i.reading_id = channels.reading_id AND i.channel = channels.channel
         AND i.name = 'velocity_rms_mm_s');
     """,
+    # 4: the files a diagnosis read (``record.content_hash``) beside its key, which also covers the machine,
+    # how the files were read and the rulebooks (``record.reading_key``); a diagnosis of the same files of
+    # the same machine made another way supersedes the earlier one. Earlier keys were the files' hash.
+    """
+    ALTER TABLE readings ADD COLUMN recording_hash TEXT;
+    UPDATE readings SET recording_hash = content_hash;
+    CREATE INDEX readings_by_recording ON readings (recording_hash, machine);
+    """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
@@ -253,9 +261,12 @@ class Store:
     def add(self, record: dict, *, route_id: int | None = None, replace: bool = False) -> int:
         """Store one reading's record (see ``history.record``) whole, in one transaction.
 
-        A reading already stored (same content hash) is kept unless ``replace``.
+        A reading already stored (same key, ``content_hash``) is kept unless ``replace``. A diagnosis of
+        the same files (``recording_hash``) of the same machine made another way (another unit, point
+        mapping, speed or rulebook) replaces the earlier one, so a correction leaves no stale result.
         Returns the reading's id.
         """
+        recording = record.get("recording_hash") or record["content_hash"]
         with self.transaction():
             old = self.db.execute("SELECT id FROM readings WHERE content_hash = ?",
                                   (record["content_hash"],)).fetchone()
@@ -263,15 +274,17 @@ class Store:
                 if not replace:
                     return old[0]
                 self.db.execute("DELETE FROM readings WHERE id = ?", (old[0],))
+            self.db.execute("DELETE FROM readings WHERE recording_hash = ? AND machine = ? AND content_hash != ?",
+                            (recording, record["machine"], record["content_hash"]))
             v = record["verdict"]
             cur = self.db.execute(
                 "INSERT INTO readings (content_hash, machine, machine_file, source, taken_at, time_from,"
                 " speed_rpm, elapsed_s, fs_hz, duration_s, urgency, worst_zone, withheld, summary, report,"
-                " stored_at, route_id) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                " stored_at, route_id, recording_hash) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                 (record["content_hash"], record["machine"], record.get("machine_file"), record["source"],
                  record["taken_at"], record["time_from"], record.get("speed_rpm"), record.get("elapsed_s"),
                  record.get("fs_hz"), record.get("duration_s"), v["urgency"], v["worst_zone"],
-                 int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id))
+                 int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id, recording))
             rid = cur.lastrowid
             self.db.executemany(
                 "INSERT INTO channels (reading_id, channel, point, direction, location, zone, scale_trusted)"

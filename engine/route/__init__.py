@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
-from .files import Route, Task, load_folder, load_route
-from .runner import RouteOutcome, run_route
+from .files import Route, Task, load_folder, load_route, route_inputs
+from .runner import EXTENSIONS as FORMATS
+from .runner import RouteOutcome, run_route, summary_paths
 from .summary import route_summary
-
-FORMATS = {"text": "txt", "md": "md", "html": "html", "json": "json"}
 
 
 def render_summary(doc: dict, fmt: str) -> str:
@@ -21,4 +20,4 @@ def render_summary(doc: dict, fmt: str) -> str:
 
 
 __all__ = ["FORMATS", "Route", "RouteOutcome", "Task", "load_folder", "load_route", "render_summary",
-           "route_summary", "run_route"]
+           "route_inputs", "route_summary", "run_route", "summary_paths"]

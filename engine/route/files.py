@@ -43,6 +43,19 @@ class Route:
     file: str | None
     tasks: tuple[Task, ...]
     clock: Clock | None = None
+    unmatched: tuple[str, ...] = ()     # reading files of a folder that no pattern of the plant file maps
+
+
+def route_inputs(route: Route) -> list[Path]:
+    """Every file a route reads: the route or plant file, each reading with its sidecar, each machine file."""
+    from ..readings import sidecar_path
+
+    files = [Path(route.file)] if route.file else []
+    for t in route.tasks:
+        for f in t.files:
+            files += [Path(f), sidecar_path(f)]
+    files += sorted({Path(t.machine_file) for t in route.tasks})
+    return files
 
 
 def _absolute(p) -> str:
@@ -117,4 +130,6 @@ def load_folder(folder, plant_file) -> Route:
                 tasks.append(Task(len(tasks), (_absolute(p),), machine))
     if not tasks:
         raise RouteError("no reading file in the folder matches the plant file's patterns", path=str(folder))
-    return Route(doc.data.get("plant", folder.name), plant_file, tuple(tasks), _clock(doc.data.get("clock"), plant_file))
+    unmatched = tuple(_absolute(p) for p in files if p not in taken)
+    return Route(doc.data.get("plant", folder.name), plant_file, tuple(tasks), _clock(doc.data.get("clock"), plant_file),
+                 unmatched)

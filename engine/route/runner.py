@@ -12,14 +12,16 @@ however long the route.
 
 from __future__ import annotations
 
+import os
 import re
 import time
+from collections import Counter, defaultdict
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..history.record import content_hash
+from ..history.record import content_hash, reading_key, rulebooks_hash
 from ..history.store import Store
-from .files import Route, Task
+from .files import Route, Task, route_inputs
 from .work import diagnose_task
 
 IN_FLIGHT_PER_WORKER = 4
@@ -30,7 +32,7 @@ CONNECT_TIMEOUT_S = 10
 class RouteOutcome:
     route: Route
     route_id: int
-    hashes: dict[int, str]                      # task index -> content hash
+    hashes: dict[int, str]                      # task index -> the key of its diagnosis (``reading_key``)
     diagnosed: list[int] = field(default_factory=list)
     skipped: list[int] = field(default_factory=list)
     failed: list[dict] = field(default_factory=list)   # {file, error}
@@ -43,9 +45,62 @@ def slug(text: str) -> str:
     return re.sub(r"[^A-Za-z0-9._-]+", "-", text).strip("-").lower() or "machine"
 
 
-def report_path(out_dir: Path, record: dict, task: Task, fmt: str) -> Path:
-    ext = {"text": "txt", "md": "md", "html": "html", "json": "json"}[fmt]
-    return out_dir / "reports" / slug(record["machine"]) / f"{Path(task.files[0]).name}.{ext}"
+EXTENSIONS = {"text": "txt", "md": "md", "html": "html", "json": "json"}
+
+
+def summary_paths(out_dir) -> dict[str, Path]:
+    """format -> the route summary's file in that format."""
+    return {fmt: Path(out_dir) / f"summary.{ext}" for fmt, ext in EXTENSIONS.items()}
+
+
+def _machine_names(route: Route) -> dict[str, str]:
+    """machine file -> the machine's name (its file's stem when the file does not load: that task fails)."""
+    from ..errors import TellwaveError
+    from ..machine import load_machine
+
+    names = {}
+    for path in sorted({t.machine_file for t in route.tasks}):
+        try:
+            names[path] = load_machine(path).name
+        except TellwaveError:
+            names[path] = Path(path).stem
+    return names
+
+
+def report_paths(route: Route, out_dir, fmt: str) -> dict[int, Path]:
+    """task index -> its report: ``reports/MACHINE/FILE.EXT``, one file per task. Files of one machine
+    that share a name (``a/pump.npz``, ``b/pump.npz``) are named by their folders below the folder they
+    share (``a-pump.npz``); the same file listed twice gets ``-2``, ``-3`` in the route's order."""
+    names = _machine_names(route)
+    by_folder = defaultdict(list)
+    for t in route.tasks:
+        by_folder[slug(names[t.machine_file])].append(t)
+    paths = {}
+    for folder, tasks in by_folder.items():
+        stem = {t.index: Path(t.files[0]).name for t in tasks}
+        count = Counter(n.lower() for n in stem.values())       # some file systems ignore case
+        clashing = [t for t in tasks if count[stem[t.index].lower()] > 1]
+        if clashing:
+            common = os.path.commonpath([os.path.dirname(t.files[0]) for t in clashing])
+            for t in clashing:
+                stem[t.index] = "-".join(Path(os.path.relpath(t.files[0], common)).parts)
+        used: set[str] = set()
+        for t in sorted(tasks, key=lambda t: t.index):
+            name, k = stem[t.index], 1
+            while name.lower() in used:
+                k += 1
+                name = f"{stem[t.index]}-{k}"
+            used.add(name.lower())
+            paths[t.index] = Path(out_dir) / "reports" / folder / f"{name}.{EXTENSIONS[fmt]}"
+    return paths
+
+
+def run_inputs(route: Route, store: Store, site=()) -> list[Path]:
+    """Every file a route run reads: the route's files, the store with its journals, the site overlays."""
+    from ..outfile import sqlite_files
+    from ..reasoning.rulebook import rulebook_files
+
+    return route_inputs(route) + sqlite_files(store.path) + (rulebook_files(*site) if site else [])
 
 
 class _Progress:
@@ -159,28 +214,40 @@ def _dask(tasks, settings, scheduler, outcome):
 
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
               again: bool = False, fmt: str = "html", plots: bool = False, site=(),
-              progress: bool = False, made_at: str | None = None) -> RouteOutcome:
+              progress: bool = False, made_at: str | None = None, inputs=None) -> RouteOutcome:
     """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``.
 
     Every report of one run says it was made at the run's start (``made_at``,
-    ISO 8601 to the minute, now when None), whichever worker wrote it.
+    ISO 8601 to the minute, now when None), whichever worker wrote it. Before
+    any reading is diagnosed, every file the run will write (each report and
+    the summaries) is checked against ``inputs`` (default ``run_inputs``) by
+    ``engine.outfile.check_target``. A reading is skipped when a diagnosis
+    with its key (``history.record.reading_key``: files, machine, how the
+    route reads them, rulebooks) is stored.
     """
-    import os
-
+    from ..outfile import check_target, known_inputs
     from ..report import write_atomically
     from ..report.document import report_time
 
     start = time.perf_counter()
     out_dir = Path(out_dir)
+    inputs = known_inputs(inputs if inputs is not None else run_inputs(route, store, site))
+    reports = report_paths(route, out_dir, fmt)
+    for path in [*reports.values(), *summary_paths(out_dir).values()]:
+        check_target(path, inputs)
+    rules = rulebooks_hash(tuple(site))
+    recordings = {t.index: content_hash(t.files) for t in route.tasks}
+    hashes = {t.index: reading_key(t.files, t.machine_file, {"points": t.points, **t.options}, rules)
+              for t in route.tasks}
     route_id = store.start_route(route.name, route.file)
-    hashes = {t.index: content_hash(t.files) for t in route.tasks}
     outcome = RouteOutcome(route, route_id, hashes)
-    todo = []
+    todo, queued = [], set()
     for t in route.tasks:
-        if not again and store.has(hashes[t.index]):
-            outcome.skipped.append(t.index)
+        if hashes[t.index] in queued or (not again and store.has(hashes[t.index])):
+            outcome.skipped.append(t.index)     # stored, or listed twice the same way in this route
         else:
-            todo.append((t, hashes[t.index]))
+            queued.add(hashes[t.index])
+            todo.append((t, (hashes[t.index], recordings[t.index])))
     settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
                 "store": str(store.path.resolve()), "route_id": route_id, "made_at": made_at or report_time()}
     outcome.workers = workers or os.cpu_count() or 1
@@ -202,8 +269,8 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
                 continue
             record = result["record"]
             if result["report"] is not None:
-                path = report_path(out_dir, record, task, fmt)
-                write_atomically(path, result["report"])
+                path = reports[task.index]
+                write_atomically(path, result["report"], inputs)
                 record["report"] = str(path.resolve())
             store.add(record, route_id=route_id, replace=again)
             outcome.diagnosed.append(task.index)

@@ -8,7 +8,7 @@ import time
 def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
     """(Diagnosis, report document with a ``trend`` section when a history exists); the reading is stored."""
     from ..advice import load_advice, zone_scale
-    from ..history.record import content_hash, record_of
+    from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
     from ..history.store import Store, default_store_path
     from ..history.times import iso, resolve_time
     from ..pipeline import diagnose, document_of
@@ -17,7 +17,10 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
     from ..trend.diagnosis import HistoryLink
 
     start = time.perf_counter()
-    digest = content_hash(args.readings)
+    recording = content_hash(args.readings)
+    how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
+           "point": args.point, "direction": args.direction, "channels": args.channels}
+    digest = reading_key(args.readings, machine.source, how, rulebooks_hash(tuple(args.site or ())))
     task = Task(0, tuple(args.readings), machine.source, time=args.taken_at)
     if args.taken_at is not None:
         when, origin = iso(resolve_time(args.taken_at, None, what="--taken-at")), "command line"
@@ -25,16 +28,18 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
         when, origin = taken_at(task, reading, None)
     advice = load_advice()
     with Store(args.store or default_store_path()) as store:
-        known = store.db.execute("SELECT taken_at, time_from FROM readings WHERE content_hash = ?",
-                                 (digest,)).fetchone()
+        known = store.db.execute("SELECT taken_at, time_from FROM readings WHERE content_hash = ? OR"
+                                 " (recording_hash = ? AND machine = ?) ORDER BY content_hash = ? DESC",
+                                 (digest, recording, machine.name, digest)).fetchone()
         if known is not None and origin == "file modified":     # stored before with a better time: keep it
             when, origin = known[0], known[1]
-        link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots)
+        link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots,
+                           recording_hash=recording)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
         doc = document_of(d)
         if link.doc is not None:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,
-                           machine_file=machine.source, elapsed_s=time.perf_counter() - start)
+                           machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording)
         store.add(record, replace=True)
     return d, doc

@@ -73,10 +73,11 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
     """The summary document of a finished (or resumed) route."""
     out_dir = Path(out_dir).resolve()
     urgencies = _urgencies()
-    rows = []
+    rows, listed = [], set()
     for t in outcome.route.tasks:
         got = store.db.execute("SELECT id FROM readings WHERE content_hash = ?", (outcome.hashes[t.index],)).fetchone()
-        if got is not None:
+        if got is not None and got[0] not in listed:     # a reading listed twice the same way shows once
+            listed.add(got[0])
             rows.append((t, store.reading(got[0])))
     machines: dict[str, dict] = {}
     for task, r in rows:

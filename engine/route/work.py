@@ -56,7 +56,7 @@ def _map_points(reading, machine, points: dict, task: Task):
     return replace(reading, channels=channels)
 
 
-def _history_link(settings: dict, machine, advice, content_hash: str, when: str):
+def _history_link(settings: dict, machine, advice, content_hash: str, when: str, recording: str | None = None):
     """Trend facts and a trend section from the store's earlier surveys, read-only; None without a store."""
     path = settings.get("store")
     if not path:
@@ -74,7 +74,8 @@ def _history_link(settings: dict, machine, advice, content_hash: str, when: str)
     if _STATE["store"] is None:
         return None
     return HistoryLink(_STATE["store"], machine, zone_scale(machine, advice), content_hash=content_hash,
-                       taken_at=when, plots=settings.get("format") == "html", exclude_route=settings.get("route_id"))
+                       taken_at=when, plots=settings.get("format") == "html", exclude_route=settings.get("route_id"),
+                       recording_hash=recording)
 
 
 def taken_at(task: Task, reading, clock) -> tuple[str, str]:
@@ -87,9 +88,13 @@ def taken_at(task: Task, reading, clock) -> tuple[str, str]:
     return iso(datetime.fromtimestamp(os.path.getmtime(task.files[0]))), "file modified"
 
 
-def diagnose_task(task: Task, content_hash: str, settings: dict) -> dict:
-    """Diagnose one task; a bad file becomes ``{"ok": False, "error": ...}``, never an exception."""
+def diagnose_task(task: Task, keys, settings: dict) -> dict:
+    """Diagnose one task; a bad file becomes ``{"ok": False, "error": ...}``, never an exception.
+
+    ``keys`` is (the diagnosis's key, the hash of its files): ``history.record.reading_key`` and ``content_hash``.
+    """
     start = time.perf_counter()
+    content_hash, recording = (keys, keys) if isinstance(keys, str) else keys
     try:
         from ..history.record import record_of
         from ..pipeline import diagnose, document_of
@@ -102,14 +107,15 @@ def diagnose_task(task: Task, content_hash: str, settings: dict) -> dict:
         reading = combine_readings([load_reading(f, **options) for f in task.files])
         reading = _map_points(reading, machine, task.points, task)
         when, origin = taken_at(task, reading, settings.get("clock"))
-        link = _history_link(settings, machine, advice, content_hash, when)
+        link = _history_link(settings, machine, advice, content_hash, when, recording)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=settings.get("plots", False),
                      more_facts=link, taken=(when, origin))
         doc = document_of(d, made_at=settings.get("made_at"))
         if link is not None and link.doc is not None:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,
-                           machine_file=task.machine_file, elapsed_s=time.perf_counter() - start)
+                           machine_file=task.machine_file, elapsed_s=time.perf_counter() - start,
+                           recording_hash=recording)
         report = render(doc, settings.get("format", "html")) if settings.get("reports", True) else None
         return {"index": task.index, "ok": True, "record": record, "report": report}
     except TellwaveError as exc:

@@ -18,14 +18,17 @@ class HistoryLink:
     """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``)."""
 
     def __init__(self, store, machine, scale, *, content_hash: str, taken_at: str, plots: bool,
-                 exclude_route: int | None = None):
+                 exclude_route: int | None = None, recording_hash: str | None = None):
         self.store, self.machine, self.scale = store, machine, scale
         self.content_hash, self.taken_at, self.plots = content_hash, taken_at, plots
+        self.recording_hash = recording_hash or content_hash     # the same files diagnosed before are not history
         self.exclude_route = exclude_route      # a route trends against earlier surveys only
         self.doc: dict | None = None
 
     def __call__(self, facts: list[dict]) -> list[dict]:
-        same = {r["id"] for r in self.store.readings(self.machine.name) if r["content_hash"] == self.content_hash}
+        same = {r["id"] for r in self.store.readings(self.machine.name)
+                if self.content_hash in (r["content_hash"], r.get("recording_hash"))
+                or self.recording_hash == r.get("recording_hash")}
         rows = [r for r in self.store.history(self.machine.name)
                 if r["id"] not in same and (self.exclude_route is None or r["route_id"] != self.exclude_route)]
         channels, values = indicators_of(facts)
