@@ -171,6 +171,40 @@ def combine_readings(readings: list[Reading]) -> Reading:
                    timestamp=stamps[0] if stamps else None, quality=tuple(quality))
 
 
+def channel_entries(raw: RawReading, entries: list[dict], sidecar: str) -> list[dict]:
+    """The sidecar's ``channels:`` entry of each of the file's channels, in the file's order ({} if none).
+
+    An entry with a ``name`` describes the file's channel of that name; a
+    name the file does not have is an error listing the names it has, so a
+    sidecar written for another file (or in another order) cannot relabel
+    one sensor's samples as another's. Entries without a name are taken by
+    position (the first entry describes the file's first channel). Formats
+    that name no channels (WAV, NPY, a CSV without a header row: ``ch1``,
+    ``ch2``...) take every entry by position, and its ``name`` names the
+    channel. A sidecar may describe only some channels: the others keep what
+    the file and the sidecar's top-level fields say.
+    """
+    files = [str(n) for n in raw.names]
+    if len(entries) > len(files):
+        raise ReadingError(f"the sidecar lists {len(entries)} channels, the file has {len(files)} "
+                           f"({', '.join(files)})", path=sidecar)
+    per: list[dict | None] = [None] * len(files)
+    for i, entry in enumerate(entries):
+        name = entry.get("name")
+        if name is not None and (raw.named or name in files):
+            if name not in files:
+                raise ReadingError(f"the sidecar describes channel {name!r}, which the file does not hold; "
+                                   f"its channels are {', '.join(files)}", path=sidecar)
+            j = files.index(name)
+        else:
+            j = i
+        if per[j] is not None:
+            raise ReadingError(f"two of the sidecar's channels entries describe the file's channel {files[j]!r} "
+                               "(an entry with a name is matched by it, one without by its place)", path=sidecar)
+        per[j] = entry
+    return [e or {} for e in per]
+
+
 def _pick(options: dict, side: dict, raw_meta: dict, key: str):
     for source in (options, side, raw_meta):
         if source.get(key) is not None:
@@ -209,10 +243,7 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
     if n < MIN_SAMPLES:
         raise ReadingError(f"holds only {n} samples; the analysis needs at least {MIN_SAMPLES}", path=path)
 
-    side_channels = side.get("channels", [])
-    if side_channels and len(side_channels) != len(raw.arrays):
-        raise ReadingError(f"sidecar lists {len(side_channels)} channels, the file has {len(raw.arrays)}",
-                           path=str(sidecar_path(path)))
+    entries = channel_entries(raw, side.get("channels") or [], str(sidecar_path(path)))
     scale = _pick(options, side, {}, "scale")
     if raw.full_scale is not None and scale is None:
         raise ReadingError("a WAV file holds no engineering scale; give --scale (units at full scale) "
@@ -223,7 +254,7 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
 
     described = []
     for i, name in enumerate(raw.names):
-        per = side_channels[i] if side_channels else {}
+        per = entries[i]
         file_unit = raw.units[i] if i < len(raw.units) else None
         unit_name = options["unit"] or per.get("unit") or side.get("unit") or file_unit
         if unit_name is None:
@@ -235,7 +266,7 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
             raise ReadingError(exc.problem, path=path) from None
         file_point = raw.points[i] if i < len(raw.points) else None
         described.append(Channel(
-            name=per.get("name", name), samples=raw.arrays[i], quantity=u.quantity, unit=u.name,
+            name=per.get("label") or per.get("name") or name, samples=raw.arrays[i], quantity=u.quantity, unit=u.name,
             point=options["point"] or per.get("point") or side.get("point") or file_point,
             direction=options["direction"] or per.get("direction") or side.get("direction"),
         ))

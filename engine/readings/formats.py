@@ -37,6 +37,7 @@ class RawReading:
     full_scale: float | None = None     # digital full scale, in the arrays' own units
     points: list[str | None] = field(default_factory=list)
     meta: dict = field(default_factory=dict)
+    named: bool = True      # False: the format gives no channel names (ch1, ch2... stand in for them)
 
 
 def read_wav(path: str) -> RawReading:
@@ -60,7 +61,7 @@ def read_wav(path: str) -> RawReading:
     x = x[:, None] if x.ndim == 1 else x
     names = [f"ch{i + 1}" for i in range(x.shape[1])]
     return RawReading(names, [x[:, i] for i in range(x.shape[1])], float(fs),
-                      full_scale=full_scale)
+                      full_scale=full_scale, named=False)
 
 
 def read_csv(path: str) -> RawReading:
@@ -97,7 +98,8 @@ def read_csv(path: str) -> RawReading:
     if len(rows) != len(body):   # a quoted field ran over several lines
         raise ReadingError("a quoted field runs over several lines; a reading has one row per line", path=path)
     header = [c.strip() for c in rows[0]]
-    if all(_is_number(c) for c in header):
+    named = not all(_is_number(c) for c in header)
+    if not named:
         header, data_rows, line_numbers = [f"ch{i + 1}" for i in range(len(rows[0]))], rows, [n for n, _ in body]
     else:
         data_rows, line_numbers = rows[1:], [n for n, _ in body[1:]]
@@ -135,7 +137,7 @@ def read_csv(path: str) -> RawReading:
         raise ReadingError("the CSV file has a time column but no signal column", path=path)
     unit = meta.get("unit")
     return RawReading([header[i] for i in keep], [values[:, i].copy() for i in keep], fs,
-                      units=[unit] * len(keep), meta=meta)
+                      units=[unit] * len(keep), meta=meta, named=named)
 
 
 def read_npy(path: str) -> RawReading:
@@ -157,7 +159,7 @@ def read_npy(path: str) -> RawReading:
                            path=path)
     columns = data.reshape(len(data), -1)
     return RawReading([f"ch{i + 1}" for i in range(columns.shape[1])],
-                      [columns[:, i] for i in range(columns.shape[1])])
+                      [columns[:, i] for i in range(columns.shape[1])], named=False)
 
 
 NPZ_META = ("sample_rate_hz", "fs_hz", "unit", "speed_rpm", "timestamp")
@@ -350,7 +352,8 @@ def check_raw(path: str, raw: RawReading) -> RawReading:
         raise ReadingError(f"holds {len(arrays) * len(arrays[0])} samples; tellwave reads at most {MAX_VALUES} "
                            "(cut the record)", path=path)
     names = [str(n) for n in raw.names]
-    return RawReading(names, arrays, raw.fs_hz, list(raw.units), raw.full_scale, list(raw.points), raw.meta)
+    return RawReading(names, arrays, raw.fs_hz, list(raw.units), raw.full_scale, list(raw.points), raw.meta,
+                      raw.named)
 
 
 def _snap_rate(fs_hz: float) -> float:
