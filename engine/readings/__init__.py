@@ -24,12 +24,10 @@ from .columns import apply_column_map
 from .formats import READERS, RawReading, check_raw
 from .fit import check_points
 from .length import MIN_SAMPLES, check_record_length
+from .limits import MAX_FILE_BYTES, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
 from .model import Channel, QualityIssue, Reading
 from .quality import SCALE_ISSUES, check_channel, check_resolution, describe_issue, scale_doubts
 
-MAX_FILE_BYTES = 1 << 30           # 1 GiB on disk; longer records are cut before analysis
-MIN_SAMPLE_RATE_HZ = 2.56 * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
-MAX_SAMPLE_RATE_HZ = 10e6          # no vibration recorder samples faster: a unit slip (Hz for kHz...)
 
 __all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", "check_points", "check_record_length",
            "check_resolution", "combine_readings", "describe_issue", "load_reading", "scale_doubts",
@@ -75,8 +73,12 @@ def _check_file(path: str) -> None:
 def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None = None,
                  scale: float | None = None, point: str | None = None,
                  direction: str | None = None, speed_rpm: float | None = None,
-                 channels: list[str] | None = None) -> Reading:
+                 channels: list[str] | None = None, max_samples: int | None = None) -> Reading:
     """Load a reading file (WAV, CSV, NPY, NPZ, MAT, UFF 58) and run the quality gates.
+
+    ``max_samples`` raises (or lowers) the samples a channel may hold
+    (``engine.readings.limits``); a file that declares more is refused
+    before its samples are unpacked.
 
     ``channels`` keeps only the channels named (see ``select_channels``):
     each by its name (as the sidecar gives it, or as the file does), by its
@@ -92,7 +94,8 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
                            f"{', '.join(sorted(READERS))}", path=path)
     try:
         with np.errstate(all="ignore"):
-            raw = check_raw(path, reader(path))
+            limit = sample_limit(max_samples)
+            raw = check_raw(path, reader(path, limit), limit)
     except ReadingError:
         raise
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
@@ -279,8 +282,10 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
     channels = []
     for c in described:
         factor = scale * units.unit(c.unit).to_si
-        with np.errstate(over="ignore", under="ignore", invalid="ignore"):
-            samples = c.samples * factor       # an overflow becomes inf: the nonfinite gate reports it
+        samples = c.samples                    # float64 of this reading alone (check_raw): scaled in place
+        if factor != 1.0:
+            with np.errstate(over="ignore", under="ignore", invalid="ignore"):
+                np.multiply(samples, factor, out=samples)   # an overflow becomes inf: the nonfinite gate reports it
         full_scale = None if raw.full_scale is None else raw.full_scale * factor
         channels.append(Channel(c.name, samples, c.quantity, c.unit, c.point, c.direction, full_scale))
     quality = tuple(q for ch in channels for q in check_channel(ch, fs))
