@@ -130,3 +130,14 @@ def test_the_hostile_npz_stays_small_in_a_fresh_process(tmp_path):
     peak_kb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss    # Linux: kilobytes
     assert done.returncode == ReadingError.exit_code and "tellwave reads at most" in done.stderr
     assert peak_kb < 300_000 or peak_kb == before     # a peak left by an earlier child cannot hide a new one
+
+
+def test_a_proof_longer_than_a_reading_is_refused_before_simulating(capsys):
+    # 0.4 s at 10 MHz is 4 M samples, within a reading; the proof's physical signal runs at twice the
+    # fastest rate for the longest waveform of the given and proposed settings (1.77 s here) with 0.2 s of
+    # padding: 3.9e7 samples
+    assert main(["plan", str(CT1), "--point", "GINH", "--sample-rate", "10000000", "--duration", "0.4"]) == 2
+    err = capsys.readouterr().err
+    assert len(err.strip().splitlines()) == 1 and "the proof would simulate 3.949e+07 samples" in err
+    assert main(["plan", str(CT1), "--point", "GINH", "--sample-rate", "10000000", "--duration", "0.4",
+                 "--no-proof", "--format", "json"]) == 0
