@@ -94,6 +94,16 @@ def add_reading_options(p) -> None:
     p.add_argument("--direction", choices=DIRECTIONS, metavar="DIRECTION",
                    help=f"sensor direction: {', '.join(DIRECTIONS)} ({FROM_FILE})")
     p.add_argument("--rpm", type=RPM, help=f"measured running speed in rpm ({FROM_FILE})")
+    add_max_samples_option(p)
+
+
+def add_max_samples_option(p) -> None:
+    """``--max-samples``: the samples a reading's channel may hold (engine/readings/limits.py)."""
+    from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
+
+    p.add_argument("--max-samples", type=whole("--max-samples", 256, 1 << 31), metavar="N",
+                   help=f"samples a channel may hold (default {MAX_SAMPLES_PER_CHANNEL}; over all channels "
+                        f"{FULL_LENGTH_CHANNELS} x as many); memory grows with it")
 
 
 def add_site_option(p) -> None:
@@ -103,7 +113,8 @@ def add_site_option(p) -> None:
 
 def reading_options(args) -> dict:
     return dict(sample_rate_hz=args.sample_rate, unit=args.unit, scale=args.scale,
-                point=args.point, direction=args.direction, speed_rpm=args.rpm)
+                point=args.point, direction=args.direction, speed_rpm=args.rpm,
+                max_samples=getattr(args, "max_samples", None))
 
 
 def load_readings(args):

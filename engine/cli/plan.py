@@ -27,6 +27,9 @@ def register(sub) -> None:
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
                                           "MACHINE.plan.html or .md for HTML and Markdown)")
     p.add_argument("--no-proof", action="store_true", help="skip the proof by simulation")
+    from ._common import add_max_samples_option
+
+    add_max_samples_option(p)
     p.set_defaults(run=run)
 
 
@@ -40,11 +43,12 @@ def _given(args, policy):
             raise UsageError("give either --reading or settings (--fmax, --lines, --sample-rate, --duration)")
         from ..readings import load_reading
 
-        reading = load_reading(args.reading)
+        reading = load_reading(args.reading, max_samples=args.max_samples)
         return reading_settings(policy, reading.fs_hz, reading.n_samples, Path(args.reading).name), reading.speed_rpm
     if all(v is None for v in explicit):
         return None, None
-    return given_settings(policy, args.fmax, args.lines, args.sample_rate, args.duration), None
+    return given_settings(policy, args.fmax, args.lines, args.sample_rate, args.duration,
+                          max_samples=args.max_samples), None
 
 
 def run(args) -> int:

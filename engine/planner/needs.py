@@ -31,6 +31,7 @@ from .targets import Target, bearings_at, meshes_at, motors_at, targets_at
 
 EFFECTS = ("blocks", "weakens", "view")
 TWIN_GAP = SLIP_TOLERANCE   # defect rates closer than this cannot be told apart: bearings slip 1-2 %
+COINCIDENT = 1e-9           # two rates this close (relative) are one line: floating-point rounding, not a spacing
 
 
 @dataclass(frozen=True)
@@ -47,6 +48,7 @@ class Need:
     noun: str = ""       # what is counted: "samples on one tooth impact", "turns of fan"
     source: str = ""     # a rule id or a policy key
     floor_hz: float = 0.0  # floor: the lowest frequency a reading keeps
+    instead: str = ""      # twin: what would settle it, since no setting does (default: the bearings' text)
 
     def met_by(self, s: Settings) -> bool:
         tol = 1 + 1e-9
@@ -68,6 +70,8 @@ class Need:
             return (f"{self.value:.3g} Hz lies below the {self.floor_hz:g} Hz low-frequency limit",
                     "a low-frequency sensor and reading; no Fmax or line count helps")
         if self.setting == "twin":
+            if self.instead:
+                return self.noun, self.instead
             return (f"bearings slip {100 * TWIN_GAP:g} % or more",
                     "no setting separates them; judge by FTF sidebands round the line, or open the bearing")
         if self.setting == "fmax":
@@ -390,7 +394,16 @@ def _electrical(machine, point, speeds, policy, targets):
                           source="electrical.stator.twice-line"))
         k = max(1, round(two_lf / fr))
         gap = abs(two_lf - k * fr)
-        if gap > 1e-6:
+        if gap <= COINCIDENT * two_lf:
+            # one line with two sources: no resolution splits it, so it is a limit to report, not a spacing
+            needs.append(Need(
+                "electrical", "twin", f"2xLF of {m.id} ({two_lf:g} Hz) falls on {k}X of {m.shaft} "
+                f"({k * fr:.2f} Hz)", two_lf, "weakens", ((stator, "twice-line"),),
+                "at this speed the line at twice line frequency is also a shaft harmonic; its height cannot be "
+                "given to the stator alone", source="kinematics", noun="the two rates coincide exactly",
+                instead="no setting separates them; measure at another speed, or judge 2xLF by its drop at the "
+                "instant power is cut"))
+        else:
             needs.append(Need(
                 "electrical", "resolution", f"2xLF ({two_lf:g} Hz) beside {k}X of {m.shaft} ({k * fr:.2f} Hz)", gap,
                 "weakens", ((stator, "twice-line"),), "twice line frequency must stand apart from the shaft harmonic",

@@ -24,7 +24,8 @@ from fractions import Fraction
 
 import numpy as np
 
-from ..errors import TellwaveError
+from ..errors import TellwaveError, UsageError
+from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
 from ..machine import Machine, Point
 from .check import CAN, CANNOT
 from .policy import Policy
@@ -37,6 +38,9 @@ SEED = 1
 PHYSICAL_MIN_HZ = 51200.0    # the "physical" signal: at least this rate, and twice the fastest setting
 PAD_S = 0.1                  # signal on each side of a record, so the filters start and end in signal
 ANTI_ALIAS = dict(order=8, ripple_db=0.1, stop_db=80.0)
+# the physical signal is at most as long as the samples of a whole reading (engine/readings/limits.py):
+# with its resampled records and their analysis a proof then peaks near 1 GB (measured, README "Bad input")
+MAX_PHYSICAL_SAMPLES = FULL_LENGTH_CHANNELS * MAX_SAMPLES_PER_CHANNEL
 
 
 @dataclass(frozen=True)
@@ -133,6 +137,10 @@ def prove(machine: Machine, target: Target, point: Point, settings: dict, policy
     rates = list(settings.values())
     fs = physical_rate(rates)
     longest = max(s.duration_s for s in rates)
+    physical = fs * (longest + 2 * PAD_S)
+    if physical > MAX_PHYSICAL_SAMPLES:
+        raise UsageError(f"the proof would simulate {physical:.4g} samples ({longest + 2 * PAD_S:g} s at {fs:g} Hz), "
+                         f"more than {MAX_PHYSICAL_SAMPLES}; give --no-proof, or a shorter waveform or lower rate")
     sim = simulate_target(machine, target, point, longest + 2 * PAD_S, fs, policy, speed_rpm, seed)
     x = sim.channels[point.id]
     reference = None

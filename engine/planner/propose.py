@@ -91,9 +91,10 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
         fmax_why += "; rounded up to the next step"
     fs = k * fmax
 
-    tight: Need = min(by["resolution"], key=lambda n: n.value / n.lines)
-    res_needed = tight.value / tight.lines
-    wanted = fmax / res_needed
+    # a purpose may have no spacing to split (an electrical point whose 2xLF falls exactly on a shaft
+    # harmonic and whose motor has no pole pass at this speed): then the fewest standard lines do
+    tight: Need | None = min(by["resolution"], key=lambda n: n.value / n.lines, default=None)
+    wanted = fmax / (tight.value / tight.lines) if tight is not None else 0.0
     lines = next((n for n in policy.standard_lines if n >= wanted * (1 - 1e-9)), None)
     if lines is None:
         lines = policy.standard_lines[-1]
@@ -115,7 +116,8 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
     reasons = {
         "Fmax": fmax_why,
         "lines": (f"resolution {resolution:.3g} Hz puts {tight.value / resolution:.1f} lines across "
-                  f"{tight.what} (at least {tight.lines:g})"),
+                  f"{tight.what} (at least {tight.lines:g})" if tight is not None else
+                  "no spacing to split for this purpose; the fewest standard lines"),
         "sample rate": f"{k:g} x Fmax ({src('sample_rate_per_fmax').split(' (')[0]})",
         "record": f"lines / Fmax, one average; {slow} is the slowest shaft of interest",
         "window": src("window"),

@@ -13,6 +13,7 @@ import math
 from dataclasses import asdict, dataclass
 
 from ..errors import UsageError
+from ..readings.limits import MAX_SAMPLE_RATE_HZ, sample_limit
 from .policy import Policy
 
 
@@ -56,10 +57,14 @@ def _positive(name: str, value) -> None:
 
 def given_settings(policy: Policy, fmax_hz: float | None = None, lines: int | None = None,
                    sample_rate_hz: float | None = None, duration_s: float | None = None,
-                   label: str = "given") -> Settings:
+                   label: str = "given", max_samples: int | None = None) -> Settings:
     """Complete the settings a user gave, by the policy's 2.56 rule where one is missing.
 
-    Fmax or the sample rate must be given, and lines or the duration.
+    Fmax or the sample rate must be given, and lines or the duration. They
+    must describe a reading tellwave could read (``engine.readings.limits``):
+    a sample rate at most ``MAX_SAMPLE_RATE_HZ`` and a waveform of at most
+    ``max_samples`` samples (default ``MAX_SAMPLES_PER_CHANNEL``), else
+    ``UsageError`` before anything is computed.
     """
     for name, value in (("--fmax", fmax_hz), ("--lines", lines), ("--sample-rate", sample_rate_hz),
                         ("--duration", duration_s)):
@@ -73,6 +78,16 @@ def given_settings(policy: Policy, fmax_hz: float | None = None, lines: int | No
     fmax = fmax_hz if fmax_hz is not None else fs / k
     if fmax > fs / 2:
         raise UsageError(f"Fmax {fmax:g} Hz lies above half the sample rate ({fs / 2:g} Hz)")
+    if fs > MAX_SAMPLE_RATE_HZ:
+        raise UsageError(f"a sample rate of {fs:g} Hz (Fmax {fmax:g} Hz) is more than any vibration recorder "
+                         f"takes ({MAX_SAMPLE_RATE_HZ:g} Hz, Fmax {MAX_SAMPLE_RATE_HZ / k:g} Hz)")
+    limit = sample_limit(max_samples).per_channel
+    record = (lines / fmax if lines is not None else 0.0)
+    longest = max(record, duration_s or 0.0)
+    if longest * fs > limit:
+        raise UsageError(f"{'one record of ' + str(lines) + ' lines' if record >= (duration_s or 0.0) else 'a waveform'}"
+                         f" of {longest:g} s at {fs:g} Hz is {longest * fs:.4g} samples; a reading holds at most "
+                         f"{limit} (engine/readings/limits.py; --max-samples raises it)")
     if lines is None:
         lines = max(1, int(round(duration_s * fmax)))
     if duration_s is None:

@@ -24,12 +24,10 @@ from .columns import apply_column_map
 from .formats import READERS, RawReading, check_raw
 from .fit import check_points
 from .length import MIN_SAMPLES, check_record_length
+from .limits import MAX_FILE_BYTES, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
 from .model import Channel, QualityIssue, Reading
 from .quality import SCALE_ISSUES, check_channel, check_resolution, describe_issue, scale_doubts
 
-MAX_FILE_BYTES = 1 << 30           # 1 GiB on disk; longer records are cut before analysis
-MIN_SAMPLE_RATE_HZ = 2.56 * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
-MAX_SAMPLE_RATE_HZ = 10e6          # no vibration recorder samples faster: a unit slip (Hz for kHz...)
 
 __all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", "check_points", "check_record_length",
            "check_resolution", "combine_readings", "describe_issue", "load_reading", "scale_doubts",
@@ -75,8 +73,12 @@ def _check_file(path: str) -> None:
 def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None = None,
                  scale: float | None = None, point: str | None = None,
                  direction: str | None = None, speed_rpm: float | None = None,
-                 channels: list[str] | None = None) -> Reading:
+                 channels: list[str] | None = None, max_samples: int | None = None) -> Reading:
     """Load a reading file (WAV, CSV, NPY, NPZ, MAT, UFF 58) and run the quality gates.
+
+    ``max_samples`` raises (or lowers) the samples a channel may hold
+    (``engine.readings.limits``); a file that declares more is refused
+    before its samples are unpacked.
 
     ``channels`` keeps only the channels named (see ``select_channels``):
     each by its name (as the sidecar gives it, or as the file does), by its
@@ -92,7 +94,8 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
                            f"{', '.join(sorted(READERS))}", path=path)
     try:
         with np.errstate(all="ignore"):
-            raw = check_raw(path, reader(path))
+            limit = sample_limit(max_samples)
+            raw = check_raw(path, reader(path, limit), limit)
     except ReadingError:
         raise
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
@@ -171,6 +174,40 @@ def combine_readings(readings: list[Reading]) -> Reading:
                    timestamp=stamps[0] if stamps else None, quality=tuple(quality))
 
 
+def channel_entries(raw: RawReading, entries: list[dict], sidecar: str) -> list[dict]:
+    """The sidecar's ``channels:`` entry of each of the file's channels, in the file's order ({} if none).
+
+    An entry with a ``name`` describes the file's channel of that name; a
+    name the file does not have is an error listing the names it has, so a
+    sidecar written for another file (or in another order) cannot relabel
+    one sensor's samples as another's. Entries without a name are taken by
+    position (the first entry describes the file's first channel). Formats
+    that name no channels (WAV, NPY, a CSV without a header row: ``ch1``,
+    ``ch2``...) take every entry by position, and its ``name`` names the
+    channel. A sidecar may describe only some channels: the others keep what
+    the file and the sidecar's top-level fields say.
+    """
+    files = [str(n) for n in raw.names]
+    if len(entries) > len(files):
+        raise ReadingError(f"the sidecar lists {len(entries)} channels, the file has {len(files)} "
+                           f"({', '.join(files)})", path=sidecar)
+    per: list[dict | None] = [None] * len(files)
+    for i, entry in enumerate(entries):
+        name = entry.get("name")
+        if name is not None and (raw.named or name in files):
+            if name not in files:
+                raise ReadingError(f"the sidecar describes channel {name!r}, which the file does not hold; "
+                                   f"its channels are {', '.join(files)}", path=sidecar)
+            j = files.index(name)
+        else:
+            j = i
+        if per[j] is not None:
+            raise ReadingError(f"two of the sidecar's channels entries describe the file's channel {files[j]!r} "
+                               "(an entry with a name is matched by it, one without by its place)", path=sidecar)
+        per[j] = entry
+    return [e or {} for e in per]
+
+
 def _pick(options: dict, side: dict, raw_meta: dict, key: str):
     for source in (options, side, raw_meta):
         if source.get(key) is not None:
@@ -209,10 +246,7 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
     if n < MIN_SAMPLES:
         raise ReadingError(f"holds only {n} samples; the analysis needs at least {MIN_SAMPLES}", path=path)
 
-    side_channels = side.get("channels", [])
-    if side_channels and len(side_channels) != len(raw.arrays):
-        raise ReadingError(f"sidecar lists {len(side_channels)} channels, the file has {len(raw.arrays)}",
-                           path=str(sidecar_path(path)))
+    entries = channel_entries(raw, side.get("channels") or [], str(sidecar_path(path)))
     scale = _pick(options, side, {}, "scale")
     if raw.full_scale is not None and scale is None:
         raise ReadingError("a WAV file holds no engineering scale; give --scale (units at full scale) "
@@ -223,7 +257,7 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
 
     described = []
     for i, name in enumerate(raw.names):
-        per = side_channels[i] if side_channels else {}
+        per = entries[i]
         file_unit = raw.units[i] if i < len(raw.units) else None
         unit_name = options["unit"] or per.get("unit") or side.get("unit") or file_unit
         if unit_name is None:
@@ -235,7 +269,7 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
             raise ReadingError(exc.problem, path=path) from None
         file_point = raw.points[i] if i < len(raw.points) else None
         described.append(Channel(
-            name=per.get("name", name), samples=raw.arrays[i], quantity=u.quantity, unit=u.name,
+            name=per.get("label") or per.get("name") or name, samples=raw.arrays[i], quantity=u.quantity, unit=u.name,
             point=options["point"] or per.get("point") or side.get("point") or file_point,
             direction=options["direction"] or per.get("direction") or side.get("direction"),
         ))
@@ -248,8 +282,10 @@ def _assemble(path: str, raw: RawReading, side: dict, options: dict,
     channels = []
     for c in described:
         factor = scale * units.unit(c.unit).to_si
-        with np.errstate(over="ignore", under="ignore", invalid="ignore"):
-            samples = c.samples * factor       # an overflow becomes inf: the nonfinite gate reports it
+        samples = c.samples                    # float64 of this reading alone (check_raw): scaled in place
+        if factor != 1.0:
+            with np.errstate(over="ignore", under="ignore", invalid="ignore"):
+                np.multiply(samples, factor, out=samples)   # an overflow becomes inf: the nonfinite gate reports it
         full_scale = None if raw.full_scale is None else raw.full_scale * factor
         channels.append(Channel(c.name, samples, c.quantity, c.unit, c.point, c.direction, full_scale))
     quality = tuple(q for ch in channels for q in check_channel(ch, fs))

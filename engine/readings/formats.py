@@ -12,17 +12,19 @@ from __future__ import annotations
 
 import csv
 import io
+import struct
 import warnings
 import zipfile
+import zlib
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 from ..errors import ReadingError
+from .limits import MAX_CHANNELS, SampleLimit
 
-MAX_VALUES = 1 << 26        # samples over all channels (512 MiB as float64): cut longer records
-MAX_CHANNELS = 256
+DEFAULT_LIMIT = SampleLimit()
 TIME_COLUMNS = ("time_s", "time", "t")
 UNIFORM_SPACING_TOLERANCE = 0.01  # time stamps may jitter by 1 % of the sample interval
 UFF_DIRECTIONS = {1: "x", 2: "y", 3: "z"}
@@ -37,9 +39,10 @@ class RawReading:
     full_scale: float | None = None     # digital full scale, in the arrays' own units
     points: list[str | None] = field(default_factory=list)
     meta: dict = field(default_factory=dict)
+    named: bool = True      # False: the format gives no channel names (ch1, ch2... stand in for them)
 
 
-def read_wav(path: str) -> RawReading:
+def read_wav(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     """PCM 8/16/24/32-bit or float WAV; integers are normalised to +-1 full scale."""
     from scipy.io import wavfile
 
@@ -49,6 +52,7 @@ def read_wav(path: str) -> RawReading:
             fs, data = wavfile.read(path)
     except (ValueError, EOFError, OSError) as exc:
         raise ReadingError(f"not a readable WAV file ({_short(exc)})", path=path) from None
+    limit.check(path, data.shape[0], data.shape[1] if data.ndim == 2 else 1)   # before any float copy
     if data.dtype == np.uint8:
         x, full_scale = (data.astype(float) - 128.0) / 128.0, 1.0
     elif np.issubdtype(data.dtype, np.integer):
@@ -60,14 +64,16 @@ def read_wav(path: str) -> RawReading:
     x = x[:, None] if x.ndim == 1 else x
     names = [f"ch{i + 1}" for i in range(x.shape[1])]
     return RawReading(names, [x[:, i] for i in range(x.shape[1])], float(fs),
-                      full_scale=full_scale)
+                      full_scale=full_scale, named=False)
 
 
-def read_csv(path: str) -> RawReading:
+def read_csv(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     """CSV with ``# key: value`` header lines, a row of column names, then numbers.
 
     The sample rate comes from ``# sample_rate_hz:`` or from a time column
     (``time_s``, ``time`` or ``t``, in seconds) that must be uniformly spaced.
+    Rows are counted before any is parsed, and parsed one at a time into one
+    array, so memory follows the file's size, not Python's lists of text.
     """
     try:
         text = Path(path).read_text(encoding="utf-8-sig")
@@ -75,43 +81,67 @@ def read_csv(path: str) -> RawReading:
         raise ReadingError("not a text CSV file", path=path) from None
     if "\0" in text:
         raise ReadingError("not a text CSV file (it holds NUL bytes)", path=path)
-    meta, body, first_body_line = {}, [], None
-    for lineno, line in enumerate(text.splitlines(), start=1):
-        stripped = line.strip()
-        if not stripped:
-            continue
-        if stripped.startswith("#"):
-            key, sep, value = stripped.lstrip("#").partition(":")
-            if sep:
-                meta[key.strip()] = value.strip()
-            continue
-        if first_body_line is None:
-            first_body_line = lineno
-        body.append((lineno, line))
-    if not body:
+
+    def body():
+        """(line number, line) of every data line, header row included; metadata into ``meta``."""
+        for lineno, line in enumerate(io.StringIO(text), start=1):
+            stripped = line.strip()
+            if not stripped:
+                continue
+            if stripped.startswith("#"):
+                key, sep, value = stripped.lstrip("#").partition(":")
+                if sep:
+                    meta[key.strip()] = value.strip()
+                continue
+            yield lineno, line.rstrip("\r\n")
+
+    meta: dict = {}
+    n_body, first = 0, None
+    for lineno, line in body():
+        n_body += 1
+        first = first or (lineno, line)
+        if n_body > limit.per_channel + 1:
+            limit.check(path, n_body - 1, what="holds at least")
+    if first is None:
         raise ReadingError("the CSV file holds no data rows", path=path)
     try:
-        rows = list(csv.reader(io.StringIO("\n".join(line for _, line in body))))
+        header = [c.strip() for c in next(csv.reader([first[1]]))]
+    except (csv.Error, StopIteration) as exc:
+        raise ReadingError(f"not a readable CSV file ({exc})", path=path) from None
+    named = not all(_is_number(c) for c in header)
+    if not named:
+        header = [f"ch{i + 1}" for i in range(len(header))]
+    n_rows = n_body - (1 if named else 0)
+    if len(header) > MAX_CHANNELS + 1:
+        raise ReadingError(f"holds {len(header)} columns; tellwave reads at most {MAX_CHANNELS} channels", path=path)
+    limit.check(path, n_rows, max(1, len(header) - 1))
+    values = np.empty((n_rows, len(header)))
+    where = [0]
+
+    def lines():
+        rows = body()
+        if named:
+            next(rows)
+        for lineno, line in rows:
+            where[0] = lineno
+            yield line
+
+    reader = csv.reader(lines())
+    r = -1
+    try:
+        for r, row in enumerate(reader):
+            if reader.line_num != r + 1:   # a quoted field ran over several lines
+                raise ReadingError("a quoted field runs over several lines; a reading has one row per line",
+                                   path=path)
+            if len(row) != len(header):
+                raise ReadingError(f"expected {len(header)} columns, got {len(row)}", path=path, line=where[0])
+            try:
+                values[r] = [float(c) for c in row]
+            except ValueError:
+                raise ReadingError(f"not a number in {row!r}", path=path, line=where[0]) from None
     except csv.Error as exc:
         raise ReadingError(f"not a readable CSV file ({exc})", path=path) from None
-    if len(rows) != len(body):   # a quoted field ran over several lines
-        raise ReadingError("a quoted field runs over several lines; a reading has one row per line", path=path)
-    header = [c.strip() for c in rows[0]]
-    if all(_is_number(c) for c in header):
-        header, data_rows, line_numbers = [f"ch{i + 1}" for i in range(len(rows[0]))], rows, [n for n, _ in body]
-    else:
-        data_rows, line_numbers = rows[1:], [n for n, _ in body[1:]]
-    if len(header) > MAX_CHANNELS + 1 or len(data_rows) * len(header) > MAX_VALUES:
-        raise ReadingError(f"holds {len(data_rows)} rows of {len(header)} columns: more than tellwave reads "
-                           f"({MAX_CHANNELS} channels, {MAX_VALUES} values)", path=path)
-    values = np.empty((len(data_rows), len(header)))
-    for r, (row, lineno) in enumerate(zip(data_rows, line_numbers)):
-        if len(row) != len(header):
-            raise ReadingError(f"expected {len(header)} columns, got {len(row)}", path=path, line=lineno)
-        try:
-            values[r] = [float(c) for c in row]
-        except ValueError:
-            raise ReadingError(f"not a number in {row!r}", path=path, line=lineno) from None
+    values = values[:r + 1]
     if len(values) == 0:
         raise ReadingError("the CSV file holds no data rows", path=path)
     stated = meta.get("sample_rate_hz")
@@ -135,10 +165,10 @@ def read_csv(path: str) -> RawReading:
         raise ReadingError("the CSV file has a time column but no signal column", path=path)
     unit = meta.get("unit")
     return RawReading([header[i] for i in keep], [values[:, i].copy() for i in keep], fs,
-                      units=[unit] * len(keep), meta=meta)
+                      units=[unit] * len(keep), meta=meta, named=named)
 
 
-def read_npy(path: str) -> RawReading:
+def read_npy(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     """One array: (samples,) or (samples, channels). Sample rate from sidecar or options."""
     try:
         with open(path, "rb") as f:
@@ -147,7 +177,7 @@ def read_npy(path: str) -> RawReading:
                                else np.lib.format.read_array_header_2_0(f))
     except (ValueError, OSError, EOFError) as exc:
         raise ReadingError(f"not a readable .npy file ({_short(exc)})", path=path) from None
-    _check_declared(path, shape, dtype)
+    _check_declared(path, shape, dtype, limit)
     try:
         data = np.load(path, allow_pickle=False)
     except (ValueError, OSError, EOFError) as exc:
@@ -157,26 +187,52 @@ def read_npy(path: str) -> RawReading:
                            path=path)
     columns = data.reshape(len(data), -1)
     return RawReading([f"ch{i + 1}" for i in range(columns.shape[1])],
-                      [columns[:, i] for i in range(columns.shape[1])])
+                      [columns[:, i] for i in range(columns.shape[1])], named=False)
 
 
 NPZ_META = ("sample_rate_hz", "fs_hz", "unit", "speed_rpm", "timestamp")
 
 
-def read_npz(path: str) -> RawReading:
-    """Named 1-D arrays, one per channel, plus optional ``sample_rate_hz``, ``unit``, ``speed_rpm``."""
+def read_npz(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
+    """Named 1-D arrays, one per channel, plus optional ``sample_rate_hz``, ``unit``, ``speed_rpm``.
+
+    Each array's header is read inside the archive before anything is
+    unpacked: shapes and types are judged against ``limit`` first, and only
+    the metadata and the 1-D numeric arrays are then unpacked.
+    """
+    declared = {}
     try:
         with zipfile.ZipFile(path) as z:
-            unpacked = sum(info.file_size for info in z.infolist())
-            members = len(z.infolist())
-    except (zipfile.BadZipFile, OSError, EOFError, ValueError) as exc:
+            infos = z.infolist()
+            unpacked = sum(info.file_size for info in infos)
+            if unpacked > limit.total_bytes or len(infos) > MAX_CHANNELS + len(NPZ_META):
+                raise ReadingError(f"the archive unpacks to {unpacked} bytes in {len(infos)} arrays: more than "
+                                   f"tellwave reads ({limit.total_bytes} bytes)", path=path)
+            for info in infos:
+                if not info.filename.endswith(".npy"):
+                    continue
+                with z.open(info) as f:
+                    version = np.lib.format.read_magic(f)
+                    shape, _, dtype = (np.lib.format.read_array_header_1_0(f) if version == (1, 0)
+                                       else np.lib.format.read_array_header_2_0(f))
+                declared[info.filename[:-4]] = (tuple(shape), dtype)
+    except ReadingError:
+        raise
+    except (zipfile.BadZipFile, OSError, EOFError, ValueError, RuntimeError, NotImplementedError) as exc:
         raise ReadingError(f"not a readable .npz file ({_short(exc)})", path=path) from None
-    if unpacked > 8 * MAX_VALUES or members > MAX_CHANNELS + len(NPZ_META):
-        raise ReadingError(f"the archive unpacks to {unpacked} bytes in {members} arrays: more than tellwave "
-                           "reads", path=path)
+    wanted = [k for k, (shape, dtype) in declared.items()
+              if k in NPZ_META or (len(shape) == 1 and _numeric(dtype) and not dtype.hasobject)]
+    lengths = [declared[k][0][0] for k in wanted if k not in NPZ_META]
+    if lengths:
+        limit.check(path, max(lengths), len(lengths), what="declares")
+        if sum(lengths) > limit.total:
+            limit.check(path, sum(lengths), 1, what="declares")
+    for k in NPZ_META:
+        if k in declared and int(np.prod(declared[k][0], dtype=float)) > 1:
+            raise ReadingError(f"{k!r} must be a single value, got an array of shape {declared[k][0]}", path=path)
     try:
         with np.load(path, allow_pickle=False) as archive:
-            contents = {k: archive[k] for k in archive.files}
+            contents = {k: archive[k] for k in wanted}
     except (ValueError, OSError, EOFError, zipfile.BadZipFile, KeyError) as exc:
         raise ReadingError(f"not a readable .npz file ({_short(exc)})", path=path) from None
     meta = {k: _scalar(path, k, contents.pop(k)) for k in NPZ_META if k in contents}
@@ -200,7 +256,7 @@ def _scalar(path: str, key: str, value: np.ndarray):
     return float(item)
 
 
-def read_uff58(path: str) -> RawReading:
+def read_uff58(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     """Universal File Format type 58 time records (one channel per data set), via pyuff."""
     import pyuff
 
@@ -233,7 +289,7 @@ def read_uff58(path: str) -> RawReading:
     return RawReading(names, arrays, rates[0], units=units, points=points)
 
 
-def read_mat(path: str) -> RawReading:
+def read_mat(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     """MATLAB .mat (v5) exports: every numeric vector is a channel, scalars ending in RPM a speed.
 
     Variables are kept in file order and by name, never by position; a
@@ -243,15 +299,18 @@ def read_mat(path: str) -> RawReading:
     from scipy.io import loadmat, whosmat
     from scipy.io.matlab import MatReadError
 
+    _check_mat_unpacked(path, limit)     # before whosmat, which may unpack a compressed struct whole
     try:
-        declared = sum(int(np.prod(shape, dtype=float)) for _, shape, _ in whosmat(path))
+        variables = whosmat(path)
     except NotImplementedError:
         raise ReadingError("MATLAB v7.3 (HDF5) .mat files are not supported; save with -v7", path=path) from None
     except Exception as exc:  # scipy raises many kinds on malformed headers
         raise ReadingError(f"not a readable MATLAB v5 .mat file ({_short(exc)})", path=path) from None
-    if declared > MAX_VALUES:
-        raise ReadingError(f"the file declares {declared} values: more than tellwave reads ({MAX_VALUES})",
-                           path=path)
+    sizes = [int(np.prod(shape, dtype=float)) for _, shape, _ in variables]
+    if sizes:
+        limit.check(path, max(sizes), what="declares")
+        if sum(sizes) > limit.total:
+            limit.check(path, sum(sizes), 1, what="declares")
     try:
         contents = loadmat(path, squeeze_me=True, struct_as_record=False)
     except (MatReadError, ValueError, TypeError, OSError) as exc:
@@ -290,6 +349,49 @@ def read_mat(path: str) -> RawReading:
     return RawReading(names, arrays, meta.pop("sample_rate_hz", None), meta=meta)
 
 
+def _check_mat_unpacked(path: str, limit: SampleLimit) -> None:
+    """Walk a MATLAB v5 file's top-level elements and count what they unpack to, without keeping it:
+    compressed elements are inflated a megabyte at a time and dropped. More than ``limit.total_bytes``
+    is refused before ``loadmat`` unpacks anything."""
+    with open(path, "rb") as f:
+        head = f.read(128)
+        if len(head) < 128 or head[126:128] not in (b"IM", b"MI"):
+            return                          # MATLAB v4: not compressed, the file's size bounds it
+        order = "<" if head[126:128] == b"IM" else ">"
+        total = 0
+        while True:
+            tag = f.read(8)
+            if len(tag) < 8:
+                return
+            kind, nbytes = struct.unpack(order + "II", tag)
+            if kind >> 16:                  # small data element: its data is in the tag
+                continue
+            if kind == 15:                  # miCOMPRESSED
+                inflate, left = zlib.decompressobj(), nbytes
+                while left > 0:
+                    data = f.read(min(left, 1 << 20))
+                    if not data:
+                        break
+                    left -= len(data)
+                    try:
+                        while data:
+                            total += len(inflate.decompress(data, 1 << 20))
+                            data = inflate.unconsumed_tail
+                            if total > limit.total_bytes:
+                                break
+                    except zlib.error:
+                        return                  # loadmat reports the corrupt stream
+                    if total > limit.total_bytes:
+                        break
+            else:
+                total += nbytes
+                f.seek(nbytes + (-nbytes % 8), 1)
+            if total > limit.total_bytes:
+                raise ReadingError(f"the file unpacks to more than {limit.total_bytes} bytes: more samples than "
+                                   f"tellwave reads ({limit.total} over all channels; cut the record, or raise "
+                                   "the limit with --max-samples)", path=path)
+
+
 def _numeric(dtype) -> bool:
     """Numbers, real or complex (complex is refused later, by name); not text, bools or records."""
     return np.issubdtype(dtype, np.number) and not np.issubdtype(dtype, np.timedelta64)
@@ -308,16 +410,18 @@ def _short(exc: Exception) -> str:
     return text or exc.__class__.__name__
 
 
-def _check_declared(path: str, shape, dtype) -> None:
+def _check_declared(path: str, shape, dtype, limit: SampleLimit) -> None:
     """Refuse an array header whose contents could never be a reading, before reading it."""
     if dtype.hasobject or dtype.fields is not None:
         raise ReadingError("expected a numeric array of samples, got records or Python objects", path=path)
-    if int(np.prod(shape, dtype=float)) > MAX_VALUES:
+    if len(shape) in (1, 2):
+        limit.check(path, int(shape[0]) if shape else 1, int(np.prod(shape[1:], dtype=float)), what="declares")
+    elif int(np.prod(shape, dtype=float)) > limit.total:
         raise ReadingError(f"the array of shape {tuple(shape)} holds more samples than tellwave reads "
-                           f"({MAX_VALUES})", path=path)
+                           f"({limit.total})", path=path)
 
 
-def check_raw(path: str, raw: RawReading) -> RawReading:
+def check_raw(path: str, raw: RawReading, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     """Channels a reading can be made of: real numbers, one dimension, equal lengths, not too many.
 
     Returns the reading with every array as float64 samples; raises
@@ -339,18 +443,19 @@ def check_raw(path: str, raw: RawReading) -> RawReading:
                                "(save the real signal, not a spectrum or an analytic signal)", path=path)
         if a.ndim != 1:
             raise ReadingError(f"channel {name!r} has shape {a.shape}; expected one row of samples", path=path)
-        arrays.append(a.astype(np.float64))
+        limit.check(path, len(a), len(raw.arrays))       # before the float64 copy
+        a = a.astype(np.float64, copy=False)
+        arrays.append(a if a.flags.writeable else a.copy())   # the units are applied in place
     lengths = {len(a) for a in arrays}
     if len(lengths) > 1:
         raise ReadingError(f"channels differ in length ({', '.join(map(str, sorted(lengths)))} samples); "
                            "put them in separate files", path=path)
     if lengths == {0}:
         raise ReadingError("holds no samples", path=path)
-    if len(arrays) * len(arrays[0]) > MAX_VALUES:
-        raise ReadingError(f"holds {len(arrays) * len(arrays[0])} samples; tellwave reads at most {MAX_VALUES} "
-                           "(cut the record)", path=path)
+    limit.check(path, len(arrays[0]), len(arrays))
     names = [str(n) for n in raw.names]
-    return RawReading(names, arrays, raw.fs_hz, list(raw.units), raw.full_scale, list(raw.points), raw.meta)
+    return RawReading(names, arrays, raw.fs_hz, list(raw.units), raw.full_scale, list(raw.points), raw.meta,
+                      raw.named)
 
 
 def _snap_rate(fs_hz: float) -> float:

@@ -454,7 +454,7 @@ def hostile_document(tmp_path):
     machine.write_text(RW2.read_text().replace("machine: RW-2 raw water pump",
                                                "machine: " + json.dumps(HOSTILE_NAME)))
     reading = npz_reading(tmp_path / "r.npz", seed_signal())
-    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [{"name": "P1 | H `x` \x1b[2J", "point": "P1H"}]}))
+    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [{"name": "a", "label": "P1 | H `x` \x1b[2J", "point": "P1H"}]}))
     return machine, reading
 
 
@@ -493,7 +493,7 @@ def test_defect_11_html_report_with_mathtext_channel_name(tmp_path):
     from engine.pipeline import diagnose, document_of
 
     reading = npz_reading(tmp_path / "r.npz", seed_signal())
-    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [{"name": "$\\foo$", "point": "P1H"}]}))
+    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [{"name": "a", "label": "$\\foo$", "point": "P1H"}]}))
     d = diagnose(load_reading(reading), load_machine(RW2), shared_reasoner(), plots=True)
     assert "$\\foo$" in render(document_of(d), "html")
 

@@ -21,9 +21,10 @@ from support import CASES, tone
 FS = 4096.0
 N = 4096
 RW2 = CASES / "machines/rw2-raw-water-pump.yaml"
-SIDECAR = {"unit": "g", "channels": [{"name": "motor H", "point": "M1", "direction": "horizontal"},
-                                     {"name": "motor V", "point": "M1", "direction": "vertical"},
-                                     {"name": "pump H", "point": "P1H", "direction": "horizontal"}]}
+SIDECAR = {"unit": "g", "channels": [
+    {"name": "X1_motor_H", "label": "motor H", "point": "M1", "direction": "horizontal"},
+    {"name": "X1_motor_V", "label": "motor V", "point": "M1", "direction": "vertical"},
+    {"name": "X1_pump_H", "label": "pump H", "point": "P1H", "direction": "horizontal"}]}
 
 
 def signals():
