@@ -44,6 +44,7 @@ def _given(args, policy):
 
 
 def run(args) -> int:
+    from ..escape import one_line
     from ..machine import load_machine
     from ..planner import build_plan, load_policy, render_plan
     from ..report import write_atomically
@@ -66,5 +67,5 @@ def run(args) -> int:
     if output is None:
         sys.stdout.write(text)
     else:
-        print(f"wrote {write_atomically(output, text)}")
+        print(f"wrote {one_line(write_atomically(output, text))}")
     return 0
