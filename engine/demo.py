@@ -65,6 +65,6 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, 
         result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
         progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
         results.append(result)
-    index = environment().get_template("index.html.j2").render(results=results, out_dir=out_dir)
+    index = environment("html").get_template("index.html.j2").render(results=results, out_dir=out_dir)
     write_atomically(out_dir / "index.html", index, inputs)
     return results

@@ -11,8 +11,17 @@ Each output format gets its own escape:
   (``|`` ends a table cell, ``<`` starts raw HTML, ``*``, ``_``, backquotes and
   brackets start emphasis, code and links) are escaped, so a name reads as
   written; line breaks become spaces so one value cannot start a new block.
-- HTML is autoescaped by Jinja itself; ``css_string`` quotes a value for the
-  print style sheet inside it.
+- ``html``: Jinja autoescapes ``<``, ``>``, ``&`` and quotes; ``html_value`` first
+  shows control characters as codes (a page saved and shown with ``cat`` acts on
+  the terminal too). ``css_string`` quotes a value for the print style sheet.
+- ``url_path``: a file path as a relative link: every character but letters,
+  digits and ``/._-~`` percent-encoded, so no name can become a ``javascript:``
+  link, end the attribute or the Markdown link, or point somewhere else.
+
+``engine.report.render.render_document`` renders every document (diagnosis,
+plan, route summary, trend) with the one of these that fits its format as the
+Jinja environment's ``finalize`` step, so no template can forget one; text on
+the terminal that no template makes goes through ``terminal`` or ``one_line``.
 
 ``Verbatim`` marks text a template filter has already made safe (a Markdown
 code span), so the environment's finalize step leaves it alone.
@@ -21,6 +30,9 @@ code span), so the environment's finalize step leaves it alone.
 from __future__ import annotations
 
 import re
+from urllib.parse import quote
+
+import markupsafe
 
 # C0 controls except tab and newline, DEL, C1 controls, and the Unicode bidi
 # embedding, override and isolate controls (the "Trojan Source" characters)
@@ -56,8 +68,9 @@ def markdown(text) -> str:
     s = terminal(_LINE_BREAKS.sub(" ", str(text))).replace("\t", " ")
     s = s.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     s = _MARKDOWN_PUNCT.sub(r"\\\1", s)
-    # a value that starts like a list item or a setext underline must not become one
-    return re.sub(r"^([-+=])(?=\s|$)", r"\\\1", s)
+    # a value that starts like a list item (bullet or number) or a setext underline must not become one
+    s = re.sub(r"^([-+=])(?=\s|$)", r"\\\1", s)
+    return re.sub(r"^(\d{1,9})([.)])(?=\s|$)", r"\1\\\2", s)
 
 
 def markdown_code(text) -> Verbatim:
@@ -79,6 +92,23 @@ def css_string(text) -> str:
     the string, the rule or the ``<style>`` element, and line breaks cannot start a new line."""
     s = _LINE_BREAKS.sub(" ", str(text))
     return '"' + "".join(ch if _CSS_PLAIN.fullmatch(ch) else f"\\{ord(ch):x} " for ch in s) + '"'
+
+
+def html_value(value):
+    """A value for an autoescaped HTML page: text with control characters shown as codes (Jinja then
+    escapes it); markup a filter made safe (``Markup``: a joined list, a plot) keeps its markup, with
+    its control characters shown as codes too; other values pass as they are."""
+    if isinstance(value, markupsafe.Markup):
+        return markupsafe.Markup(terminal(value))
+    if not isinstance(value, str):
+        return value
+    return terminal(value)
+
+
+def url_path(text) -> Verbatim:
+    """A relative file path as a link target: percent-encoded but for ``/``, letters, digits and
+    ``._-~``, so it stays a path (never a ``javascript:`` or other scheme) in HTML and Markdown."""
+    return Verbatim(quote(str(text), safe="/"))
 
 
 def text_value(text) -> str:

@@ -13,8 +13,10 @@ Reading is guarded, because a YAML file can be hostile as well as careless:
 - only the JSON data model is built: mappings, lists, text, numbers, true,
   false and null; other tags (``!!set``, ``!!binary``, ``!foo``) are refused,
   and a tag that cannot read its value (``!!float abc``) is a plain error;
-- numbers must be finite (``.nan`` and ``.inf`` are refused) and integers
-  smaller than ``MAX_INTEGER``;
+- numbers must be finite (``.nan`` and ``.inf`` are refused, and so is a
+  number too large for a float, such as ``1e400``) and integers no larger
+  than ``MAX_INTEGER``, however many digits they are written with (an integer
+  of hundreds of digits is refused by its size, never converted);
 - a file larger than ``MAX_BYTES``, nested deeper than ``MAX_DEPTH`` or whose
   aliases expand to more than ``MAX_NODES`` nodes is refused before anything
   walks it, and an alias that contains itself is refused outright.
@@ -43,6 +45,7 @@ MAX_BYTES = 1 << 20       # 1 MiB; the largest shipped rulebook is about 15 kB
 MAX_NODES = 100_000       # nodes once every alias is expanded (a shipped rulebook has a few thousand)
 MAX_DEPTH = 64            # nesting of mappings and lists
 MAX_INTEGER = 10 ** 15    # larger integers lose precision as floats and mean nothing physical
+_MAX_DIGITS = 64          # an integer written longer is refused by its size, never parsed whole
 
 # libyaml when the install has it: rulebooks are parsed on every run
 _BASE = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
@@ -69,18 +72,30 @@ def _fail(node, problem: str):
     raise ConstructorError(None, None, problem, node.start_mark)
 
 
+class _TooLarge(float):
+    """A number written larger than a float holds (``1e400``): infinite, remembering how it was written."""
+
+    text = ""
+
+
+def _int_of(text: str) -> int:
+    """The integer ``text`` states (YAML 1.2 core: decimal, 0o octal, 0x hex). One written with more
+    than ``_MAX_DIGITS`` significant digits becomes a number of the same size, as the check that
+    refuses it needs nothing more (Python refuses to parse very long ones at all)."""
+    sign = -1 if text.startswith("-") else 1
+    body = text.lstrip("+-")
+    base = {"0o": 8, "0x": 16}.get(body[:2], 10)
+    digits = (body[2:] if base != 10 else body).lstrip("0") or "0"
+    if len(digits) > _MAX_DIGITS:
+        return sign * base ** (len(digits) - 1)
+    return sign * int(digits, base)
+
+
 def _construct_int(loader, node) -> int:
     text = loader.construct_scalar(node)
     if not isinstance(text, str) or not _INT_RE.match(text.strip()):
-        _fail(node, f"cannot read {text!r} as an integer")
-    text = text.strip()
-    sign = -1 if text.startswith("-") else 1
-    body = text.lstrip("+-")
-    if body.startswith("0o"):
-        return int(body[2:], 8)
-    if body.startswith("0x"):
-        return int(body[2:], 16)
-    return sign * int(body, 10)
+        _fail(node, f"cannot read {str(text)[:40]!r} as an integer")
+    return _int_of(text.strip())
 
 
 def _construct_float(loader, node) -> float:
@@ -88,16 +103,26 @@ def _construct_float(loader, node) -> float:
     if not isinstance(text, str):
         _fail(node, f"cannot read {text!r} as a number")
     text = text.strip()
+    if not _INT_RE.match(text) and not _FLOAT_RE.match(text):
+        _fail(node, f"cannot read {text[:40]!r} as a number")
     if _INT_RE.match(text):
-        return float(_construct_int(loader, node))
-    if not _FLOAT_RE.match(text):
-        _fail(node, f"cannot read {text!r} as a number")
+        try:
+            return float(_int_of(text))
+        except OverflowError:
+            return _too_large(text, -math.inf if text.startswith("-") else math.inf)
     lowered = text.lower()
     if lowered.endswith(".inf"):
         return -math.inf if lowered.startswith("-") else math.inf
     if lowered == ".nan":
         return math.nan
-    return float(text)
+    value = float(text)
+    return _too_large(text, value) if math.isinf(value) else value
+
+
+def _too_large(text: str, value: float) -> _TooLarge:
+    out = _TooLarge(value)
+    out.text = text if len(text) <= 40 else text[:37] + "..."
+    return out
 
 
 def _construct_bool(loader, node) -> bool:
@@ -172,8 +197,7 @@ def _key_of(node):
     if not isinstance(node, yaml.ScalarNode):
         return None
     if node.tag == _INT and _INT_RE.match(node.value.strip()):
-        body = node.value.strip()
-        return int(body, 0) if body.lstrip("+-")[:2] in ("0o", "0x") else int(body)
+        return _int_of(node.value.strip())
     return node.value
 
 
@@ -232,19 +256,39 @@ def _walk(root) -> dict[tuple, int]:
     return lines
 
 
+def _size(value: int) -> str:
+    """A large integer as a short number: ``1e+18``, or ``about 1e400`` beyond what a float holds."""
+    try:
+        return f"{value:.3g}"
+    except OverflowError:
+        return f"about {'-' if value < 0 else ''}1e{int(math.log10(abs(value)))}"
+
+
+def _number_problem(value) -> str | None:
+    if isinstance(value, bool):
+        return None
+    if isinstance(value, _TooLarge):
+        return f"expected a finite number, got {value.text} (larger than any number can be, about 1.8e308)"
+    if isinstance(value, float) and not math.isfinite(value):
+        return f"expected a finite number, got {value}"
+    if isinstance(value, int) and abs(value) > MAX_INTEGER:
+        return f"number too large ({_size(value)}; integers are at most {MAX_INTEGER:.0e})"
+    return None
+
+
 def _check_numbers(data, lines: dict[tuple, int]) -> tuple[str, int | None] | None:
-    """The first number that is not finite or is absurdly large, as (problem, line)."""
+    """The first number (value or mapping key) that is not finite or is absurdly large, as (problem, line)."""
     stack = [(data, ())]
     while stack:
         value, path = stack.pop()
-        if isinstance(value, bool):
-            continue
-        if isinstance(value, float) and not math.isfinite(value):
-            return f"{'.'.join(map(str, path)) or 'value'}: expected a finite number, got {value}", \
-                _line(lines, path)
-        if isinstance(value, int) and abs(value) > MAX_INTEGER:
-            return f"{'.'.join(map(str, path)) or 'value'}: number too large ({value:.3g})", _line(lines, path)
+        problem = _number_problem(value)
+        if problem is not None:
+            return f"{'.'.join(map(str, path)) or 'value'}: {problem}", _line(lines, path)
         if isinstance(value, dict):
+            for k in value:
+                problem = _number_problem(k)
+                if problem is not None:
+                    return f"{'.'.join(map(str, path)) or 'value'}: a key's {problem}", _line(lines, path)
             stack.extend((v, path + (k,)) for k, v in value.items())
         elif isinstance(value, list):
             stack.extend((v, path + (i,)) for i, v in enumerate(value))
@@ -264,6 +308,9 @@ def _read_text(path: str, error: type[TellwaveError]) -> str:
         raise error("no such file", path=path) from None
     except OSError as exc:
         raise error(f"cannot open ({exc.strerror or exc.__class__.__name__})", path=path) from None
+    except ValueError:      # a NUL, or a character the file system cannot encode (a lone surrogate)
+        raise error("cannot open: the name holds a character no file name can (a NUL or a lone surrogate)",
+                    path=path) from None
     if stat.S_ISDIR(info.st_mode):
         raise error("is a folder, not a YAML file", path=path)
     if not stat.S_ISREG(info.st_mode):

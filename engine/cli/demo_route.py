@@ -16,8 +16,9 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    from ..escape import one_line
     from ..route.demo_plant import write_month
 
     for month in range(1, args.months + 1):
-        print(f"wrote {write_month(args.out, month)}")
+        print(f"wrote {one_line(write_month(args.out, month))}")
     return 0

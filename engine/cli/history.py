@@ -33,6 +33,7 @@ def reading_id(text: str) -> int:
 def run(args) -> int:
     from ..errors import UsageError
     from ..jsonout import dumps
+    from ..escape import one_line as v
     from ._store import open_store
 
     delete = None if args.delete is None else reading_id(args.delete)
@@ -42,14 +43,14 @@ def run(args) -> int:
             if row is None:
                 raise UsageError(f"no stored reading has id {delete}", path=str(store.path))
             store.delete(delete)
-            print(f"deleted reading {delete} ({row['machine']}, {row['source']}, {row['taken_at']})")
+            print(f"deleted reading {delete} ({v(row['machine'])}, {v(row['source'])}, {v(row['taken_at'])})")
             return 0
         if args.machine is None:
             machines = store.machines()
             if args.json:
                 print(dumps(machines))
             else:
-                print("\n".join(machines) if machines else f"the store {store.path} holds no reading yet")
+                print("\n".join(map(v, machines)) if machines else f"the store {v(store.path)} holds no reading yet")
             return 0
         rows = store.readings(args.machine)
         if not rows:
@@ -58,11 +59,11 @@ def run(args) -> int:
         if args.json:
             print(dumps(rows))
             return 0
-        print(f"{args.machine}: {len(rows)} stored reading(s) in {store.path}")
+        print(f"{v(args.machine)}: {len(rows)} stored reading(s) in {v(store.path)}")
         print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top finding")
         for r in rows:
             certainty = "—" if r["top_certainty"] is None else f"{100 * max(r['top_certainty'], 0):.0f} %"
-            top = f"{r['top_fault_name']} on {r['top_component']} {certainty}" if r["top_fault"] else "-"
-            print(f"{r['id']:>5}  {r['taken_at']:<26} {','.join(r['points'])[:14]:<14} {r['worst_zone'] or '-':<4} "
-                  f"{r['urgency'] or '-':<10} {top}")
+            top = f"{v(r['top_fault_name'])} on {v(r['top_component'])} {certainty}" if r["top_fault"] else "-"
+            print(f"{r['id']:>5}  {v(r['taken_at']):<26} {v(','.join(r['points']))[:14]:<14} "
+                  f"{v(r['worst_zone'] or '-'):<4} {v(r['urgency'] or '-'):<10} {top}")
     return 0

@@ -52,6 +52,7 @@ def _given(args, policy):
 
 
 def run(args) -> int:
+    from ..escape import one_line
     from ..machine import load_machine
     from ..planner import build_plan, load_policy, render_plan
     from ..report import write_atomically
@@ -75,5 +76,5 @@ def run(args) -> int:
     if output is None:
         sys.stdout.write(text)
     else:
-        print(f"wrote {write_atomically(output, text, inputs)}")
+        print(f"wrote {one_line(write_atomically(output, text, inputs))}")
     return 0

@@ -28,6 +28,7 @@ def run(args) -> int:
     from pathlib import Path
 
     from ..errors import EXIT_ROUTE_FAILURES, UsageError
+    from ..escape import one_line
     from ..report import write_atomically
     from ..route import load_folder, load_route, render_summary, route_summary, run_route, summary_paths
     from ..outfile import known_inputs
@@ -63,7 +64,7 @@ def run(args) -> int:
     if not args.quiet:
         text = render_summary(doc, "text")
         sys.stdout.write(text if text.endswith("\n") else text + "\n")
-    print(f"summary in {out}/summary.html (and .md, .txt, .json)", file=sys.stderr)
+    print(f"summary in {one_line(out)}/summary.html (and .md, .txt, .json)", file=sys.stderr)
     return EXIT_ROUTE_FAILURES if outcome.failed else 0
 
 

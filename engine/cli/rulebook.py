@@ -38,15 +38,17 @@ def _usage(p) -> int:
 def _check(args) -> int:
     from ..reasoning.explain import summary
 
-    for line in summary(rulebook(args)):
-        say(line)
+    _print(summary(rulebook(args)))
     say("rulebooks are valid")
     return 0
 
 
 def _print(lines) -> int:
+    """One line per item, whatever a site rule's title holds: line breaks and control characters as codes."""
+    from ..escape import one_line
+
     for line in lines:
-        print(line)
+        print(one_line(line))
     return 0
 
 
@@ -81,9 +83,7 @@ def _explain(args) -> int:
         near = [r.id for r in book.rules if args.rule_id in r.id][:5]
         hint = f"; did you mean {', '.join(near)}?" if near else ""
         raise UsageError(f"no rule has id {args.rule_id!r}{hint}") from None
-    for line in explain(rule, book):
-        say(line)
-    return 0
+    return _print(explain(rule, book))
 
 
 def _test(args) -> int:

@@ -41,6 +41,7 @@ def run(args) -> int:
     import sys
 
     from ..errors import UsageError
+    from ..escape import one_line
     from ..report import write_atomically
     from ..route.runner import slug
     from ..trend import trend_document
@@ -65,5 +66,5 @@ def run(args) -> int:
     if output is None:
         sys.stdout.write(text)
     else:
-        print(f"wrote {write_atomically(output, text, inputs)}")
+        print(f"wrote {one_line(write_atomically(output, text, inputs))}")
     return 0

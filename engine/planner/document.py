@@ -3,10 +3,8 @@ settings, the proof by simulation and the figures. Templates and JSON read only 
 
 from __future__ import annotations
 
-import json
 import math
 
-from ..errors import UsageError
 from ..kinematics import forcing_frequencies
 from ..machine import Machine, Point
 from .check import CANNOT, check, frequencies_above, verdicts
@@ -181,11 +179,7 @@ PLAN_TEMPLATES = {"text": "plan.txt.j2", "md": "plan.md.j2", "html": "plan.html.
 
 
 def render_plan(doc: dict, fmt: str) -> str:
-    """The plan in ``fmt``: text, md, html (autoescaped) or json."""
-    from ..report.render import environment
+    """The plan in ``fmt``: text, md, html or json, every value escaped for its format."""
+    from ..report.render import render_document
 
-    if fmt == "json":
-        return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
-    if fmt not in PLAN_TEMPLATES:
-        raise UsageError(f"unknown plan format {fmt!r}; use text, md, html or json")
-    return environment().get_template(PLAN_TEMPLATES[fmt]).render(doc=doc)
+    return render_document(doc, fmt, PLAN_TEMPLATES, what="plan")

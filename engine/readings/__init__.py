@@ -60,6 +60,9 @@ def _check_file(path: str) -> None:
         raise ReadingError("no such file", path=path) from None
     except OSError as exc:
         raise ReadingError(f"cannot open ({exc.strerror or exc.__class__.__name__})", path=path) from None
+    except ValueError:      # a NUL, or a character the file system cannot encode (a lone surrogate)
+        raise ReadingError("cannot open: the name holds a character no file name can (a NUL or a lone surrogate)",
+                           path=path) from None
     if stat.S_ISDIR(info.st_mode):
         raise ReadingError("is a folder, not a reading file", path=path)
     if not stat.S_ISREG(info.st_mode):

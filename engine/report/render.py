@@ -1,8 +1,12 @@
-"""Render a report document with the Jinja templates in templates/, escaped per format.
+"""Render every document (diagnosis, plan, route summary, trend) with the Jinja templates in
+templates/, escaped per format.
 
-HTML is autoescaped by Jinja; Markdown and plain text pass every value
-through their own escape (``engine.escape``) as the environment's
-``finalize`` step, so no template can forget one. JSON is RFC 8259 JSON
+``render_document`` is the one way a document becomes text: every value a
+template prints passes through its format's escape (``engine.escape``) as the
+environment's ``finalize`` step, so no template can forget one: Markdown
+(``escape.markdown``), plain text and the terminal (``escape.text_value``), HTML
+(``escape.html_value``, then Jinja's autoescape). Filters that build markup
+(``md_code``, ``url``) return text already escaped for it. JSON is RFC 8259 JSON
 (``engine.jsonout``): never NaN or Infinity.
 """
 
@@ -20,7 +24,7 @@ from ..paths import TEMPLATES
 from .. import escape
 
 FORMATS = {"text": "report.txt.j2", "md": "report.md.j2", "html": "report.html.j2"}
-_FINALIZE = {"text": escape.text_value, "md": escape.markdown}
+_FINALIZE = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
 
 
 def _pct(x) -> str:
@@ -28,8 +32,8 @@ def _pct(x) -> str:
 
 
 def environment(fmt: str | None = None) -> jinja2.Environment:
-    """The Jinja environment over templates/: autoescape for .html templates, and for
-    ``fmt`` "md" or "text" every value escaped for Markdown or the terminal."""
+    """The Jinja environment over templates/: autoescape for .html templates, and for ``fmt``
+    "md", "text" or "html" every value escaped for Markdown, the terminal or the page."""
     env = jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(TEMPLATES)),
         autoescape=jinja2.select_autoescape(enabled_extensions=("html", "html.j2"), default_for_string=False),
@@ -41,16 +45,25 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
     env.filters["md_code"] = escape.markdown_code
     env.filters["term"] = escape.terminal
     env.filters["css_string"] = lambda text: markupsafe.Markup(escape.css_string(text))
+    env.filters["url"] = escape.url_path
     return env
+
+
+def render_document(doc: dict, fmt: str, templates: dict[str, str], *, what: str = "report",
+                    filters: dict | None = None) -> str:
+    """``doc`` in ``fmt``: JSON, or the template ``templates[fmt]`` with every value escaped for ``fmt``."""
+    if fmt == "json":
+        return dumps(doc) + "\n"
+    if fmt not in templates:
+        raise UsageError(f"unknown {what} format {fmt!r}; use {', '.join(templates)} or json")
+    env = environment(fmt)
+    env.filters.update(filters or {})
+    return env.get_template(templates[fmt]).render(doc=doc)
 
 
 def render(doc: dict, fmt: str) -> str:
     """The report in ``fmt``: text, md, html or json."""
-    if fmt == "json":
-        return dumps(doc) + "\n"
-    if fmt not in FORMATS:
-        raise UsageError(f"unknown report format {fmt!r}; use text, md, html or json")
-    return environment(fmt).get_template(FORMATS[fmt]).render(doc=doc)
+    return render_document(doc, fmt, FORMATS)
 
 
 def write_atomically(path, text: str, inputs=()) -> Path:

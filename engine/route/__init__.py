@@ -9,14 +9,11 @@ from .summary import route_summary
 
 
 def render_summary(doc: dict, fmt: str) -> str:
-    """The route summary in ``fmt``: text, md, html or json."""
-    import json
+    """The route summary in ``fmt``: text, md, html or json, every value escaped for its format."""
+    from ..report.render import render_document
 
-    from ..report.render import environment
-
-    if fmt == "json":
-        return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
-    return environment().get_template(f"route.{FORMATS[fmt]}.j2").render(doc=doc)
+    return render_document(doc, fmt, {f: f"route.{ext}.j2" for f, ext in FORMATS.items() if f != "json"},
+                           what="route summary")
 
 
 __all__ = ["FORMATS", "Route", "RouteOutcome", "Task", "load_folder", "load_route", "render_summary",

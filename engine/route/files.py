@@ -2,8 +2,12 @@
 
 A route file lists each reading with its machine, point mapping and time. A
 plant file maps the readings of a folder (each with its sidecar) to machines
-by file-name pattern. Both are checked against their JSON Schema; a file
-that does not exist is a one-line error naming the route file and the line.
+by file-name pattern. Both are checked against their JSON Schema; a machine
+file that does not exist is a one-line error naming the route file and the line.
+Everything a worker would otherwise trip over is found here, before any reading
+is diagnosed: each reading's time is resolved (with the route's clock) and a
+path no system can open (a NUL character, text the file system cannot encode)
+is refused, each as a ``RouteError`` naming the route file, the line and the field.
 Tasks are plain data, so they cross to worker processes and Dask workers.
 """
 
@@ -15,7 +19,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from ..errors import RouteError, UsageError
-from ..history.times import Clock, parse_time
+from ..history.times import Clock, iso, parse_time, resolve_time
 from ..yamlfile import read_yaml, validate
 
 READING_SUFFIXES = (".wav", ".csv", ".npy", ".npz", ".mat", ".uff", ".unv")
@@ -29,7 +33,7 @@ class Task:
     files: tuple[str, ...]
     machine_file: str
     points: dict = field(default_factory=dict)      # channel -> point id
-    time: str | None = None                         # as stated by the route (resolved later)
+    time: str | None = None                         # ISO 8601, resolved from the route's time and clock
     options: dict = field(default_factory=dict)     # speed_rpm, sample_rate_hz, unit
 
     @property
@@ -63,6 +67,38 @@ def _absolute(p) -> str:
     return os.path.normpath(os.path.abspath(p))
 
 
+def path_problem(text: str) -> str | None:
+    """Why ``text`` cannot name a file on this system (None when it can): an empty name, a NUL
+    character, or text the file system's encoding cannot hold (a lone surrogate)."""
+    if not text:
+        return "an empty path"
+    if "\0" in text:
+        return "the path contains a NUL character, which no file name can hold"
+    try:
+        os.fsencode(text)
+    except UnicodeError:
+        return "the path holds characters the file system cannot encode"
+    return None
+
+
+def _check_path(text: str, where: list, doc, path: str) -> None:
+    problem = path_problem(text)
+    if problem is not None:
+        field = ".".join(map(str, where))
+        raise RouteError(f"{field}: {problem}", path=path, line=doc.line_of(where))
+
+
+def _time(stated, clock: Clock | None, where: list, doc, path: str) -> str | None:
+    """A reading's time as the route states it, resolved now so that a bad one stops the route before it runs."""
+    if stated is None:
+        return None
+    field = ".".join(map(str, where))
+    try:
+        return iso(resolve_time(stated, clock, what=field))
+    except UsageError as exc:
+        raise RouteError(exc.problem, path=path, line=doc.line_of(where)) from None
+
+
 def _clock(data: dict | None, path: str) -> Clock | None:
     if not data:
         return None
@@ -80,7 +116,10 @@ def load_route(path) -> Route:
         raise RouteError("a route file must be a mapping with a readings: list", path=path, line=1)
     validate(doc, "route.schema.json", RouteError)
     base = Path(_absolute(Path(path).parent))
+    for key, file in doc.data.get("machines", {}).items():
+        _check_path(file, ["machines", key], doc, path)
     machines = {k: _absolute(base / v) for k, v in doc.data.get("machines", {}).items()}
+    clock = _clock(doc.data.get("clock"), path)
     for key, file in machines.items():
         if not Path(file).is_file():
             raise RouteError(f"machines.{key}: no such machine file {file}", path=path,
@@ -89,18 +128,18 @@ def load_route(path) -> Route:
     for i, item in enumerate(doc.data["readings"]):
         where = ["readings", i]
         files = [item["file"]] if "file" in item else item["files"]
+        for j, f in enumerate(files):
+            _check_path(f, where + (["file"] if "file" in item else ["files", j]), doc, path)
+        _check_path(item["machine"], where + ["machine"], doc, path)
         resolved = tuple(_absolute(base / f) for f in files)
         machine = machines.get(item["machine"]) or _absolute(base / item["machine"])
         if not Path(machine).is_file():
             raise RouteError(f"readings.{i}.machine: {item['machine']!r} is neither a name under machines: "
                              "nor a machine file", path=path, line=doc.line_of(where + ["machine"]))
         options = {k: item[k] for k in ("speed_rpm", "sample_rate_hz", "unit") if k in item}
-        time = item.get("time")
-        tasks.append(Task(i, resolved, machine, dict(item.get("points", {})),
-                          None if time is None else (time if isinstance(time, (int, float)) else str(time)),
-                          options))
-    return Route(doc.data.get("route", Path(path).stem), path, tuple(tasks),
-                 _clock(doc.data.get("clock"), path))
+        time = _time(item.get("time"), clock, where + ["time"], doc, path)
+        tasks.append(Task(i, resolved, machine, dict(item.get("points", {})), time, options))
+    return Route(doc.data.get("route", Path(path).stem), path, tuple(tasks), clock)
 
 
 def load_folder(folder, plant_file) -> Route:
@@ -117,6 +156,7 @@ def load_folder(folder, plant_file) -> Route:
     files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and p.is_file())
     tasks, taken = [], {}
     for m, entry in enumerate(doc.data["machines"]):
+        _check_path(entry["file"], ["machines", m, "file"], doc, plant_file)
         machine = _absolute(base / entry["file"])
         if not Path(machine).is_file():
             raise RouteError(f"machines.{m}.file: no such machine file {machine}", path=plant_file,

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import json
-
 TEMPLATES = {"text": "trend.txt.j2", "md": "trend.md.j2", "html": "trend.html.j2"}
 
 
@@ -20,10 +18,7 @@ def _days(d) -> str:
 
 
 def render_trend(doc: dict, fmt: str) -> str:
-    from ..report.render import environment
+    """The trend in ``fmt``: text, md, html or json, every value escaped for its format."""
+    from ..report.render import render_document
 
-    if fmt == "json":
-        return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
-    env = environment()
-    env.filters["days"] = _days
-    return env.get_template(TEMPLATES[fmt]).render(doc=doc)
+    return render_document(doc, fmt, TEMPLATES, what="trend", filters={"days": _days})
