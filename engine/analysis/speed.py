@@ -326,6 +326,8 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
         if not ok.any():
             return 0, 100.0, best, 0.0
         one_x = float(np.average(found.freq_hz[ok] / orders[ok], weights=orders[ok]))
+        if not mask[np.argmin(np.abs(scales - one_x / stated_hz))]:
+            return 0, 100.0, 0.0, 0.0       # its lines put its 1X on the other side of ``near``
         ok &= np.abs(found.freq_hz - orders * one_x) <= df
         searched = float(np.count_nonzero(mask)) * step * stated_hz
         chance = _family_chance(spec, census, one_x, orders, int(ok.sum()), searched)
@@ -334,12 +336,14 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
 
     near_lines, near_chance, _, _ = family(is_near)
     far_lines, far_chance, far_scale, far_one_x_db = family(~is_near)
-    # the tallest line anywhere within ``near`` of the stated 1X (the machine's own 1X, if the stated speed
-    # holds), but not the far family's own 1X when it lies just beyond ``near``
-    first = hit[:, 0] & is_near if orders[0] == 1 else np.zeros(len(scales), bool)
+    # the tallest line (a local maximum) within ``near`` of the stated 1X: the machine's own 1X, if the stated
+    # speed holds; the far family's own 1X, when it lies just beyond ``near``, is not counted
+    freq, height = census
+    around = (np.abs(freq - stated_hz) <= near * stated_hz) & (height >= MIN_HARMONIC_SNR)
+    around &= ~np.any(np.abs(freq[:, None] - excluded[None, :]) <= 2 * df, axis=1) if excluded.size else True
     if far_one_x_db > 0:
-        first &= np.abs(scales - far_scale) * stated_hz > 2 * df
-    near_one_x_db = float(20 * np.log10(snr[first, 0].max())) if first.any() else 0.0
+        around &= np.abs(freq - far_scale * stated_hz) > 1.5 * df
+    near_one_x_db = float(20 * np.log10(height[around].max())) if around.any() else 0.0
     return {"near_family_lines": near_lines, "near_family_chance_pct": near_chance, "near_one_x_db": near_one_x_db,
             "far_family_lines": far_lines, "far_family_chance_pct": far_chance, "far_one_x_db": far_one_x_db,
             "far_family_scale": far_scale, "far_family_hz": far_scale * stated_hz}
