@@ -28,7 +28,17 @@ and the reports that say the severity is unknown (the report's
 ``verdict.severity_known`` is false). The goal: the same calls at every
 scale and never a confident wrong one; a report may say it cannot judge severity.
 
+With ``--inject speed=0.8,0.95,1.05,1.2 --inject rate=1.1,2,0.5`` the bench
+runs once per injected error: ``speed=F`` states each record's speed as F times
+its true speed, ``rate=F`` states its sample rate as F times the true rate (the
+samples are untouched, so every frequency reads F times too high and the stated
+speed no longer matches the signal). A wrong stated value cannot be right, so
+the goal is no confident wrong call at any injection: the diagnosis is withheld,
+or names the labelled fault, or stays below 50 %. The table counts per
+injection the records run, withheld, still right and confidently wrong.
+
     python -m bench.real_data [--datasets PATH] [--only 130,IR2_600] [--scale S | --scales 1,0.001,1000]
+                              [--inject speed=0.8,1.2 --inject rate=1.1,2]
 """
 
 from __future__ import annotations
@@ -145,6 +155,17 @@ def scaled(reading, factor: float):
     return dataclasses.replace(reading, channels=channels, quality=quality)
 
 
+def injected(reading, what: str, factor: float):
+    """``reading`` stating a wrong value: ``speed`` times ``factor`` (a wrong tach reading or sidecar
+    speed), or ``rate``: its sample rate times ``factor`` (a wrong recorder setting) with its samples
+    untouched; the quality gates run again at the stated rate (as loading runs them)."""
+    if what == "speed":
+        return dataclasses.replace(reading, speed_rpm=reading.speed_rpm * factor)
+    fs = reading.fs_hz * factor
+    quality = tuple(q for ch in reading.channels for q in check_channel(ch, fs))
+    return dataclasses.replace(reading, fs_hz=fs, quality=quality)
+
+
 def severity_unknown_of(document: dict) -> bool:
     """Whether the report says severity is unknown until the scale is checked (``verdict.severity_known``,
     engine/schemas/report.schema.json)."""
@@ -187,9 +208,10 @@ def records(datasets=DATASETS) -> list[dict]:
 
 
 def run(datasets=DATASETS, only=None, reasoner=None, progress=print, scale: float = 1.0,
-        severity: bool = False) -> list[Row]:
+        severity: bool = False, inject: tuple[str, float] | None = None) -> list[Row]:
     """A Row per record; ``scale`` multiplies the samples (see ``scaled``); ``severity`` reads
-    whether each report says the severity is unknown (it builds the report document)."""
+    whether each report says the severity is unknown (it builds the report document); ``inject``
+    (``("speed", 1.2)`` or ``("rate", 2.0)``) states a wrong speed or sample rate (see ``injected``)."""
     reasoner = reasoner or Reasoner(load_rulebook())
     machines = {k: load_machine(p) for k, p in MACHINES.items()}
     rows = []
@@ -200,6 +222,8 @@ def run(datasets=DATASETS, only=None, reasoner=None, progress=print, scale: floa
         reading = reading_of(datasets / row["path"], row)
         if scale != 1.0:
             reading = scaled(reading, scale)
+        if inject is not None:
+            reading = injected(reading, *inject)
         d = diagnose(reading, machines[row["dataset"]], reasoner)
         result = d.reasoning
         top, cf, right = score(result, row)
@@ -300,6 +324,33 @@ def scale_table(by_scale: dict[float, list[Row]]) -> list[str]:
     return lines
 
 
+def inject_table(by_injection: dict[tuple[str, float], list[Row]]) -> list[str]:
+    """Per injection: records, withheld, right at 50 % or more, confident wrong calls (named), and the goal."""
+    lines = [f"{'injection':<12} {'records':>7} {'withheld':>8} {'right':>5} {'low':>4} {'wrong':>5}  wrong calls"]
+    goal = True
+    for (what, factor), rows in by_injection.items():
+        wrong = [r for r in rows if r.call and not r.right]
+        right = sum(r.call and r.right for r in rows)
+        low = sum(not r.withheld and not r.call for r in rows)
+        names = ", ".join(f"{Path(r.path).stem} ({r.top} {r.certainty:.2f})" for r in wrong)
+        lines.append(f"{what}x{factor:<6g} {len(rows):>7} {sum(r.withheld for r in rows):>8} {right:>5} {low:>4} "
+                     f"{len(wrong):>5}  {names}")
+        goal &= not wrong
+    lines.append("goal (no confident wrong call at any injected speed or sample rate): " + ("met" if goal else "not met"))
+    return lines
+
+
+def parse_injection(text: str) -> list[tuple[str, float]]:
+    """``speed=0.8,1.2`` -> [("speed", 0.8), ("speed", 1.2)]; ``rate=2`` -> [("rate", 2.0)]."""
+    what, _, values = text.partition("=")
+    if what not in ("speed", "rate"):
+        raise argparse.ArgumentTypeError(f"--inject takes speed=F,... or rate=F,..., got {text!r}")
+    factors = parse_scales(values)[1:]
+    if not factors:
+        raise argparse.ArgumentTypeError(f"--inject {what} needs a factor other than 1, got {text!r}")
+    return [(what, f) for f in factors]
+
+
 def parse_scales(text: str) -> list[float]:
     """``1,0.001,1000`` -> [1.0, 0.001, 1000.0]; scale 1 always first (the calls compare with it)."""
     try:
@@ -327,6 +378,9 @@ def main() -> int:
                        help="multiply every record's samples by this factor (a wrong gain) before diagnosis")
     group.add_argument("--scales", type=parse_scales,
                        help="comma-separated factors: run once per factor and compare each call with scale 1")
+    group.add_argument("--inject", type=parse_injection, action="append",
+                       help="speed=F,... or rate=F,...: state each record's speed or sample rate F times its "
+                            "true value and count the confident wrong calls (repeatable)")
     args = parser.parse_args()
     if not (args.datasets / "index.csv").exists():
         print(f"no datasets at {args.datasets}", file=sys.stderr)
@@ -334,6 +388,16 @@ def main() -> int:
     reasoner = Reasoner(load_rulebook())
     t0 = time.perf_counter()
     only = args.only.split(",") if args.only else None
+    if args.inject:
+        by_injection = {}
+        for what, factor in (i for group in args.inject for i in group):
+            print(f"{what} x{factor:g}", flush=True)
+            by_injection[(what, factor)] = run(args.datasets, only, reasoner, progress=lambda *_: None,
+                                               inject=(what, factor))
+        print()
+        print("\n".join(inject_table(by_injection)))
+        print(f"\n{time.perf_counter() - t0:.0f} s")
+        return 0
     if args.scales:
         by_scale = {}
         for s in args.scales:

@@ -146,3 +146,26 @@ def test_a_scaled_reading_has_its_samples_multiplied_and_its_gates_run_again():
     assert (out.channels[0].point, out.fs_hz) == ("DE", 10000.0)
     # 1e7 m/s^2 RMS is past the physical range the gates allow (1e5 g, engine/readings/quality.py)
     assert not reading.quality and [q.kind for q in out.quality] == ["out_of_range"]
+
+
+def test_injections_parse_and_state_a_wrong_speed_or_sample_rate():
+    assert real_data.parse_injection("speed=0.8,1.2") == [("speed", 0.8), ("speed", 1.2)]
+    assert real_data.parse_injection("rate=1,2") == [("rate", 2.0)]
+    for bad in ("speed=1", "gain=2", "rate=0", "speed=a"):
+        with pytest.raises(argparse.ArgumentTypeError):
+            real_data.parse_injection(bad)
+    x = np.random.default_rng(4).standard_normal(20000)
+    reading = Reading("r", 10000.0, (Channel("a", x, "acceleration", "g", "DE", "vertical"),), speed_rpm=1800.0)
+    fast = real_data.injected(reading, "speed", 1.2)
+    assert fast.speed_rpm == pytest.approx(2160.0) and fast.fs_hz == 10000.0
+    rate = real_data.injected(reading, "rate", 2.0)
+    assert (rate.fs_hz, rate.speed_rpm) == (20000.0, 1800.0) and np.array_equal(rate.channels[0].samples, x)
+
+
+def test_the_injection_table_meets_its_goal_only_without_a_confident_wrong_call():
+    rows = [_row("a.mat", "withheld", 0.0, withheld=True), _row("b.mat", "outer-race on drive_end", 0.8)]
+    lines = real_data.inject_table({("speed", 1.2): rows})
+    assert lines[-1].endswith(": met") and lines[1].split()[:6] == ["speedx1.2", "2", "1", "1", "0", "0"]
+    wrong = rows + [_row("c.mat", "inner-race on fan_end", 0.7, right=False)]
+    lines = real_data.inject_table({("rate", 1.1): wrong})
+    assert lines[-1].endswith("not met") and "c (inner-race on fan_end 0.70)" in lines[1]

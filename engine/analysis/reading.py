@@ -32,7 +32,7 @@ from .kurtogram import Kurtogram, kurtogram_of_spectrum
 from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
 from .spectrum import Spectrum, Transform, integrate
-from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, speed_from_tones
+from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, shaft_family, speed_from_tones
 from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
 
 SPEED_SEARCH_FRACTION = 0.05   # a stated or nominal speed may be several percent off
@@ -352,6 +352,12 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
            or abs(speeds[p.shaft] - speeds[shaft]) <= 1e-9 * speeds[shaft]]
     loudest = max(own or velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
     check = half_and_double(velocity[loudest], speed.speed_hz, _explained_lines(machine, rates, shaft))
+    # the strongest shaft family near the stated speed and beyond it: a wrong stated speed or sample rate
+    # puts the machine's own harmonic family away from the stated 1X
+    stated = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)
+    others = [hz for hz in stated.values() if abs(hz - stated[shaft]) > 1e-9 * stated[shaft]]
+    mains = [k * m.line_frequency_hz for m in machine.motors for k in range(1, LINE_HARMONICS + 1)]
+    check.update(shaft_family(velocity[loudest], stated[shaft], mains, others))
 
     channels = []
     for ch in usable:

@@ -211,3 +211,139 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
             "two_x_snr_db": float(20 * np.log10(even_amp[0] / even_floor[0])) if even_clear[0] else 0.0,
             "odd_to_two_x": largest_odd / float(even_amp[0]) if even_clear[0]
             else (HALF_WITHOUT_1X if odd_lines else 0.0)}
+
+
+
+FAMILY_ORDERS = 10          # harmonics of 1X a shaft family is looked for at
+FAMILY_SPAN = 0.3           # the family search reaches this far either side of the stated speed
+FAMILY_NEAR = 0.05          # a family this close to the stated speed is the stated speed's own
+CENSUS_REACH = 0.15         # unrelated lines are counted within +-15 % of each harmonic
+
+
+def _census(spec: Spectrum, top_hz: float) -> tuple[np.ndarray, np.ndarray]:
+    """Frequency and height over the local floor of every local maximum up to ``top_hz``."""
+    amp = spec.amplitude
+    last = min(len(amp) - 1, int(top_hz / spec.resolution_hz) + 2)
+    i = np.arange(1, last)
+    i = i[(amp[i] >= amp[i - 1]) & (amp[i] > amp[i + 1])]
+    return spec.freq_hz[i], amp[i] / np.maximum(spec.floor_at(i), 1e-300)
+
+
+def _family_chance(spec: Spectrum, census, one_x_hz: float, orders: np.ndarray, found: int,
+                   searched_hz: float) -> float:
+    """Chance that lines unrelated to any shaft give ``found`` of ``orders`` harmonics of some 1X within
+    the ``searched_hz`` wide search.
+
+    Around each harmonic (within +-15 %) the lines that stand ``MIN_HARMONIC_SNR``
+    over their floor give the local density of lines; a harmonic's window (one
+    line either side of k x 1X) holds one by chance with probability
+    1 - exp(-density x width) (lines placed at random, a Poisson process); the
+    chance of ``found`` or more of them is the Poisson-binomial tail. A search
+    tries about searched_hz x (highest order) / (window width) independent
+    candidates, so the tail is multiplied by that many (Bonferroni; Dunn 1961).
+    """
+    if found <= 0:
+        return 1.0
+    freq, snr = census
+    clear = freq[snr >= MIN_HARMONIC_SNR]
+    width = 2 * spec.resolution_hz
+    p = []
+    for k in orders:
+        centre = k * one_x_hz
+        reach = max(CENSUS_REACH * centre, 25 * spec.resolution_hz)
+        density = np.count_nonzero(np.abs(clear - centre) <= reach) / (2 * reach)
+        p.append(1.0 - np.exp(-density * width))
+    tail = np.zeros(len(p) + 1)
+    tail[0] = 1.0
+    for q in p:
+        tail[1:] = tail[1:] * (1 - q) + tail[:-1] * q
+        tail[0] *= 1 - q
+    trials = max(1.0, searched_hz * float(orders.max()) / width)
+    return float(min(1.0, tail[found:].sum() * trials))
+
+
+def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), span: float = FAMILY_SPAN,
+                 near: float = FAMILY_NEAR) -> dict:
+    """The strongest harmonic family of one shaft near the stated speed and the strongest farther away.
+
+    A speed is measured only from lines that hang together as harmonics of one
+    shaft: every candidate 1X within ``span`` of ``stated_hz`` is scored by its
+    harmonics (1X to 10X) that stand ``MIN_HARMONIC_SNR`` over their local
+    floor, each weighted by 1/order (so a family's own sub-multiple does not
+    outscore it); at the best candidate within ``near`` of the stated speed and
+    at the best one beyond it, a harmonic counts only when its interpolated
+    line lies within one line of k times the family's 1X (the 1X refined from
+    the lines found, weighted by order), and the family's chance is how often
+    unrelated lines at their local density would give as many
+    (``_family_chance``). ``exclude_hz`` are lines the machine puts there
+    whatever the speed (line frequency harmonics): a harmonic on one of them
+    counts for no family. ``others_hz`` are the other shafts' speeds at the
+    stated speed: a candidate 1X within ``near`` of one of them, of its
+    harmonics or of its halves and thirds is that shaft's, not a contradiction.
+
+    Returns each family's lines and chance (%), the tallest line within ``near``
+    of the stated 1X over its floor (dB; 0 when none stands ``MIN_HARMONIC_SNR``
+    over it; the far family's 1X, when it lies just beyond ``near``, is not
+    counted), the far family's 1X line over its floor (dB; 0 when its 1X does
+    not stand), the far family's speed over the stated one (``far_family_scale``;
+    0 when no harmonic stands) and its 1X, Hz.
+    """
+    df = spec.resolution_hz
+    amp = spec.amplitude
+    orders = np.array([k for k in range(1, FAMILY_ORDERS + 1) if k * stated_hz * (1 + span) < spec.fmax_hz])
+    empty = {"near_family_lines": 0, "near_family_chance_pct": 100.0, "near_one_x_db": 0.0, "far_family_lines": 0,
+             "far_family_chance_pct": 100.0, "far_one_x_db": 0.0, "far_family_scale": 0.0, "far_family_hz": 0.0}
+    if stated_hz <= 0 or not orders.size or stated_hz * (1 - span) < 3 * df:
+        return empty
+    step = df / (4 * orders.max() * stated_hz)
+    scales = np.arange(1 - span, 1 + span + step, step)
+    freqs = np.outer(scales, orders * stated_hz)
+    lines = np.clip(np.rint(freqs / df).astype(int), 1, len(amp) - 2)
+    local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
+    floors = np.maximum(spec.floor_at(lines.ravel()).reshape(lines.shape), 1e-300)
+    snr = local / floors
+    excluded = np.asarray(exclude_hz, dtype=float)
+    blocked = np.zeros(freqs.shape, bool)
+    for hz in excluded:
+        blocked |= np.abs(freqs - hz) <= 2 * df
+    hit = (snr >= MIN_HARMONIC_SNR) & ~blocked
+    score = (np.where(hit, np.log(np.clip(snr, 1.0, 100.0)), 0.0) / orders[None, :]).sum(axis=1)
+    own = np.array([k * hz for hz in others_hz for k in (1 / 3, 1 / 2, 1, 2, 3)])
+    if own.size:
+        score[np.any(np.abs(scales[:, None] * stated_hz - own[None, :]) <= near * own[None, :], axis=1)] = 0.0
+    is_near = np.abs(scales - 1) <= near
+    census = _census(spec, orders.max() * stated_hz * (1 + span) * (1 + CENSUS_REACH))
+
+    def family(mask: np.ndarray) -> tuple[int, float, float, float]:
+        """(lines, chance %, 1X over the stated 1X, the 1X line over its floor in dB) of the best family."""
+        if not mask.any() or score[mask].max() <= 0:
+            return 0, 100.0, 0.0, 0.0
+        best = float(scales[mask][np.argmax(score[mask])])
+        found = peaks_near(spec, orders * best * stated_hz, 1.5 * df)
+        floor = np.maximum(spec.floor_at(found.line), 1e-300)
+        ok = found.found & (found.amplitude >= MIN_HARMONIC_SNR * floor)
+        ok &= ~np.array([np.any(np.abs(excluded - k * best * stated_hz) <= 2 * df) for k in orders])
+        if not ok.any():
+            return 0, 100.0, best, 0.0
+        one_x = float(np.average(found.freq_hz[ok] / orders[ok], weights=orders[ok]))
+        if not mask[np.argmin(np.abs(scales - one_x / stated_hz))]:
+            return 0, 100.0, 0.0, 0.0       # its lines put its 1X on the other side of ``near``
+        ok &= np.abs(found.freq_hz - orders * one_x) <= df
+        searched = float(np.count_nonzero(mask)) * step * stated_hz
+        chance = _family_chance(spec, census, one_x, orders, int(ok.sum()), searched)
+        one_x_db = 20 * np.log10(found.amplitude[0] / floor[0]) if ok[0] and orders[0] == 1 else 0.0
+        return int(ok.sum()), 100.0 * chance, one_x / stated_hz, float(one_x_db)
+
+    near_lines, near_chance, _, _ = family(is_near)
+    far_lines, far_chance, far_scale, far_one_x_db = family(~is_near)
+    # the tallest line (a local maximum) within ``near`` of the stated 1X: the machine's own 1X, if the stated
+    # speed holds; the far family's own 1X, when it lies just beyond ``near``, is not counted
+    freq, height = census
+    around = (np.abs(freq - stated_hz) <= near * stated_hz) & (height >= MIN_HARMONIC_SNR)
+    around &= ~np.any(np.abs(freq[:, None] - excluded[None, :]) <= 2 * df, axis=1) if excluded.size else True
+    if far_one_x_db > 0:
+        around &= np.abs(freq - far_scale * stated_hz) > 1.5 * df
+    near_one_x_db = float(20 * np.log10(height[around].max())) if around.any() else 0.0
+    return {"near_family_lines": near_lines, "near_family_chance_pct": near_chance, "near_one_x_db": near_one_x_db,
+            "far_family_lines": far_lines, "far_family_chance_pct": far_chance, "far_one_x_db": far_one_x_db,
+            "far_family_scale": far_scale, "far_family_hz": far_scale * stated_hz}

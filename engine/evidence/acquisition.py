@@ -100,6 +100,18 @@ def speed_check(rc: Analysis) -> list[dict]:
         "half_x_snr_db": float(check.get("half_x_snr_db", 0.0)),
         "two_x_snr_db": float(check.get("two_x_snr_db", 0.0)),
         "odd_to_two_x": float(check.get("odd_to_two_x", 0.0)),
+        "near_family_lines": int(check.get("near_family_lines", 0)),
+        "far_family_lines": int(check.get("far_family_lines", 0)),
+        "near_family_chance_pct": float(check.get("near_family_chance_pct", 100.0)),
+        "far_family_chance_pct": float(check.get("far_family_chance_pct", 100.0)),
+        "near_one_x_db": float(check.get("near_one_x_db", 0.0)),
+        "far_one_x_db": float(check.get("far_one_x_db", 0.0)),
+        "far_over_near_db": float(check.get("far_one_x_db", 0.0)) - float(check.get("near_one_x_db", 0.0)),
+        "family_rpm": float(check.get("far_family_hz", 0.0)) * 60,
+        "family_deviation_pct": 100.0 * (float(check.get("far_family_scale", 0.0)) - 1)
+        if check.get("far_family_scale") else 0.0,
+        "abs_family_deviation_pct": abs(100.0 * (float(check.get("far_family_scale", 0.0)) - 1))
+        if check.get("far_family_scale") else 0.0,
         "allowed_low_rpm": limits.low_rpm if limits else 0.0,
         "allowed_high_rpm": limits.high_rpm if limits else 0.0,
         "allowed_by": limits.set_by if limits else "",

@@ -203,6 +203,21 @@ FACTS: dict[str, dict[str, F]] = {
         "two_x_snr_db": F("number", "the 2X line over its local floor, dB (0 when none stands clear)", "dB"),
         "odd_to_two_x": F("number", "largest line at 1X, 3X, 5X, 7X or 9X over the 2X line (0 when none stands; "
                                     "100 when they do and 2X does not)", ""),
+        "near_family_lines": F("integer", "harmonics (1X to 10X) of the strongest shaft family within 5 % of the "
+                                          "stated speed that stand out, each within one line of its order", ""),
+        "far_family_lines": F("integer", "the same for the strongest shaft family 5 to 30 % away from the stated "
+                                         "speed (another shaft's family left out)", ""),
+        "near_family_chance_pct": F("number", "chance that unrelated lines at their density give the near family as "
+                                              "many harmonics anywhere in its search, % (100 when none)", "%"),
+        "far_family_chance_pct": F("number", "the same for the far family, %", "%"),
+        "near_one_x_db": F("number", "tallest line within 5 % of the stated 1X over its local floor, dB (0 when "
+                                     "none stands clear)", "dB"),
+        "far_one_x_db": F("number", "the far family's 1X line over its local floor, dB (0 when its 1X does not "
+                                    "stand clear)", "dB"),
+        "far_over_near_db": F("number", "far_one_x_db less near_one_x_db, dB", "dB"),
+        "family_rpm": F("number", "the 1X of that far family (0 when none stands)", "rpm"),
+        "family_deviation_pct": F("number", "that 1X against the stated (else nominal) speed, % (0 when none)", "%"),
+        "abs_family_deviation_pct": F("number", "size of that deviation, %", "%"),
         "allowed_low_rpm": F("number", "lowest speed the machine's drive allows this shaft (0 when the "
                                        "machine file fixes none)", "rpm"),
         "allowed_high_rpm": F("number", "highest speed the machine's drive allows this shaft (0 when the "

@@ -21,7 +21,10 @@ def speed_check(**fields) -> dict:
             "nominal_rpm": 1486.0, "measured_rpm": 1486.0, "source": "1X harmonics", "harmonics": 3,
             "deviation_pct": 0.0, "abs_deviation_pct": 0.0, "one_x_found": True, "odd_order_lines": 2,
             "half_order_lines": 0, "half_to_one_x": 0.0, "double_speed_lines": 1, "half_x_snr_db": 0.0,
-            "two_x_snr_db": 30.0, "odd_to_two_x": 3.0, "allowed_low_rpm": 1350.0, "allowed_high_rpm": 1500.0,
+            "two_x_snr_db": 30.0, "odd_to_two_x": 3.0, "near_family_lines": 3, "far_family_lines": 0,
+            "near_family_chance_pct": 0.01, "far_family_chance_pct": 100.0, "near_one_x_db": 30.0, "far_one_x_db": 0.0,
+            "far_over_near_db": -30.0, "family_rpm": 0.0, "family_deviation_pct": 0.0, "abs_family_deviation_pct": 0.0,
+            "allowed_low_rpm": 1350.0, "allowed_high_rpm": 1500.0,
             "allowed_by": "line-fed motor M1: 4 poles at 50 Hz, synchronous 1500 rpm, slip at most 10 %"}
     assert set(fact) == set(fields_of("speed_check"))      # the fact is the whole vocabulary kind
     return fact | fields
@@ -77,3 +80,30 @@ def test_a_lone_2x_with_nothing_near_it_at_odd_orders_contradicts_the_speed(reas
     assert ("rate-contradicted" in found) is contradicted
     if contradicted:
         assert "stated at half the true speed" in found["rate-contradicted"].support[0].because
+
+
+def family_elsewhere(lines: int, chance_pct: float, one_x_db: float, near_db: float) -> dict:
+    """A shaft family 10 % above the stated speed (as a sample rate stated 1.1 times the true one leaves it)."""
+    return {"far_family_lines": lines, "far_family_chance_pct": chance_pct, "far_one_x_db": one_x_db,
+            "near_one_x_db": near_db, "far_over_near_db": one_x_db - near_db, "family_rpm": 1.1 * 1486,
+            "family_deviation_pct": 10.0, "abs_family_deviation_pct": 10.0}
+
+
+@pytest.mark.parametrize("lines, chance, one_x_db, near_db, withheld", [
+    (3, 1.0, 10.0, 0.0, True),          # a coherent family, its 1X clear and nothing near the stated 1X
+    (2, 0.001, 40.0, 0.0, False),       # two lines are not a family
+    (3, 2.0, 19.0, 0.0, False),         # as likely from unrelated lines, and its 1X not ten times its floor
+    (3, 50.0, 20.0, 0.0, True),         # a crowded spectrum, but its 1X ten times its floor
+    (3, 0.001, 9.0, 0.0, False),        # its 1X too faint to establish the family
+    (6, 0.001, 30.0, 21.0, False),      # a line near the stated 1X within 10 dB of it may be the machine's own
+    (6, 0.001, 30.0, 20.0, True),
+])
+def test_a_shaft_family_away_from_the_stated_speed_contradicts_it(reasoner, lines, chance, one_x_db, near_db,
+                                                                  withheld):
+    # thresholds: rulebooks/parameters.yaml (tone_chance_pct 1 %, tone_clear_snr_db 10 dB, speed_family_clear_db
+    # 20 dB, speed_family_margin_db 10 dB; common practice, with the reasons given there)
+    found = problems(reasoner, **family_elsewhere(lines, chance, one_x_db, near_db))
+    assert ("rate-contradicted" in found) is withheld
+    if withheld:
+        text = found["rate-contradicted"].support[0].because
+        assert "tachometer" in text and "sample rate" in text and "1635" in text

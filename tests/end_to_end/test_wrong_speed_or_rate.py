@@ -1,0 +1,86 @@
+"""A wrong stated speed or sample rate gives no confident wrong call: real records stated wrong.
+
+Source of the records and their labels: the CWRU Bearing Data Center, records 130 (outer race,
+0.007 in, drive end, 1796 rpm) and 105 (inner race, 0.007 in, drive end, 1797 rpm), 12 kHz, and
+the MFPT Society's OuterRaceFault_vload_1 (outer race, 25 Hz shaft, 48 828 S/s); the excerpts in
+tests/data (provenance in tests/data/README.md). Each is stored again stating its speed 20 %
+high or low (a wrong tach reading or sidecar) or its sample rate 1.1 or 2 times the true rate
+(a wrong recorder setting; the samples are untouched, so every frequency reads that much too
+high), and diagnosed through the command line. A wrong stated value can only mislead: the
+diagnosis must be withheld (exit code 7, README "Exit codes") or call nothing but the label's
+fault at 50 % or more. Where the spectrum shows the shaft's own family away from the stated
+speed, the report says so and says what to check (a tachometer or strobe, the sample rate).
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+
+import numpy as np
+import pytest
+
+from engine.cli import main
+from engine.errors import EXIT_WITHHELD
+from engine.reasoning import CONFIDENT
+
+from support import TEST_DATA, TEST_MACHINES
+
+RECORDS = {
+    # excerpt: (machine file, the label's fault and bearing)
+    "cwru-130": ("cwru-motor.yaml", ("outer-race", "drive_end")),
+    "cwru-105": ("cwru-motor.yaml", ("inner-race", "drive_end")),
+    "mfpt-OuterRaceFault_vload_1": ("mfpt-rig.yaml", ("outer-race", "test_bearing")),
+}
+WRONG = {"speed x1.2": ("speed_rpm", 1.2), "speed x0.8": ("speed_rpm", 0.8),
+         "rate x1.1": ("sample_rate_hz", 1.1), "rate x2": ("sample_rate_hz", 2.0)}
+
+
+def stated_wrong(tmp_path, record: str, key: str, factor: float):
+    source = TEST_DATA / f"{record}.npz"
+    with np.load(source) as archive:
+        contents = {k: archive[k] for k in archive.files}
+    contents[key] = np.array(float(contents[key]) * factor)
+    path = tmp_path / source.name
+    np.savez(path, **contents)
+    shutil.copy(source.with_name(source.name + ".yaml"), path.with_name(path.name + ".yaml"))
+    return path
+
+
+def diagnosed(path, machine: str, capsys) -> tuple[int, dict]:
+    code = main(["diagnose", str(path), "--machine", str(TEST_MACHINES / machine), "--format", "json"])
+    return code, json.loads(capsys.readouterr().out)
+
+
+@pytest.mark.parametrize("record", sorted(RECORDS))
+@pytest.mark.parametrize("wrong", sorted(WRONG))
+def test_a_wrong_stated_speed_or_rate_gives_no_confident_wrong_call(tmp_path, capsys, record, wrong):
+    machine, label = RECORDS[record]
+    code, doc = diagnosed(stated_wrong(tmp_path, record, *WRONG[wrong]), machine, capsys)
+    if code == EXIT_WITHHELD:
+        assert doc["verdict"]["withheld"] is True
+        return
+    assert code == 0, f"exit {code}"
+    confident = {(h["fault"], h["component"]) for h in doc["hypotheses"] if h["certainty"] >= CONFIDENT}
+    assert confident <= {label}, f"{wrong}: confident wrong call {confident - {label}}"
+
+
+@pytest.mark.parametrize("record, wrong", [("cwru-130", "rate x1.1"), ("cwru-105", "rate x1.1")])
+def test_the_shaft_family_away_from_the_stated_speed_withholds_and_says_what_to_check(tmp_path, capsys,
+                                                                                      record, wrong):
+    machine, _ = RECORDS[record]
+    code, doc = diagnosed(stated_wrong(tmp_path, record, *WRONG[wrong]), machine, capsys)
+    assert code == EXIT_WITHHELD
+    text = json.dumps(doc)
+    assert "reading.speed.family-elsewhere" in text or "reading.speed.clear-family-elsewhere" in text
+    assert "tachometer" in text and "sample rate" in text
+
+
+@pytest.mark.parametrize("record", sorted(RECORDS))
+def test_the_true_speed_and_rate_raise_no_doubt(capsys, record):
+    machine, label = RECORDS[record]
+    code, doc = diagnosed(TEST_DATA / f"{record}.npz", machine, capsys)
+    assert code == 0
+    assert (doc["hypotheses"][0]["fault"], doc["hypotheses"][0]["component"]) == label
+    text = json.dumps(doc)
+    assert "family-elsewhere" not in text
