@@ -100,7 +100,7 @@ CATEGORIES = (("reading bytes", 4), ("odd array", 3), ("machine", 3), ("sidecar"
               ("route file", 2), ("plant file", 1), ("route output", 1), ("store damaged", 3), ("site rules", 1),
               ("plan", 2), ("trend history", 2), ("output target", 2))
 MEMORY_LIMIT_KB = 1024 * 1024        # peak resident memory of one input above 1 GB is a failure
-WRITES_STORE = ("route", "diagnose --store", "history --delete")    # every other use of a store only reads it
+WRITES_STORE = ("route", "route --plant", "diagnose --store", "history --delete")  # every other use only reads it
 _CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 
 
@@ -261,8 +261,13 @@ def _whole_tool_input(category: str, rng: random.Random, folder: Path, cache: Pa
             reading.write_bytes(mutate_bytes(reading.read_bytes(), _ops(rng, 2)))
         keep = [p for p in folder.rglob("*") if p.is_file()]
         argv = plan_command(rng, machine, reading, policy, folder / "out" / "plan.txt")
-        if "--no-proof" not in argv and "--point" not in argv:
-            argv += ["--point", "P1H"]          # the proof simulates every fault: one point keeps it cheap
+        if "--no-proof" not in argv:
+            # the proof simulates every fault: one point, and no slow shaft (its long records take
+            # seconds per fault), keep it as cheap as the other categories; slow speeds go without it
+            if "--point" not in argv:
+                argv += ["--point", "P1H"]
+            if "--rpm" in argv and argv[argv.index("--rpm") + 1] in ("0.5", "60", "1e-9"):
+                argv[argv.index("--rpm") + 1] = "1486"
         return argv, keep
     if category == "output target":
         store = _copy_store(store_template(cache), folder / "store.sqlite")
@@ -439,10 +444,15 @@ def _json_target(argv: list[str]) -> str | None:
     return "stdout"
 
 
+def part_files(folder: Path) -> set[Path]:
+    return set(folder.rglob("*.part")) if os.path.isdir(folder) else set()
+
+
 def judge(argv, rc, out: str, err: str, before: dict, folder: Path, store_before: str | None = None,
-          peak_kb: int | None = None) -> list[tuple[str, str]]:
+          peak_kb: int | None = None, parts_before: set | None = None) -> list[tuple[str, str]]:
     """The failures of one finished run, as (kind, detail). ``store_before`` is the state of the
-    store the command was given (``store_state``), ``peak_kb`` its peak resident memory."""
+    store the command was given (``store_state``), ``peak_kb`` its peak resident memory,
+    ``parts_before`` the ``.part`` files the input itself holds (left by an earlier killed run)."""
     found = []
     if rc not in ALLOWED_EXIT:
         found.append(("bad exit", f"exit {rc}: {err.strip()[-300:]}"))
@@ -479,10 +489,9 @@ def judge(argv, rc, out: str, err: str, before: dict, folder: Path, store_before
         if now != store_before:
             what = "created" if store_before == "missing" else "removed" if now == "missing" else "rewritten"
             found.append(("store changed", f"{entry_point(argv)} {what} {store.name}"))
-    if os.path.isdir(folder):
-        parts = [p.name for p in folder.rglob("*.part")]
-        if parts:
-            found.append(("part file left", ", ".join(parts)[:200]))
+    parts = sorted(p.name for p in part_files(folder) - (parts_before or set()))
+    if parts:
+        found.append(("part file left", ", ".join(parts)[:200]))
     if peak_kb is not None and peak_kb > MEMORY_LIMIT_KB:
         found.append(("memory", f"peak resident {peak_kb / 1024:.0f} MB"))
     if "/dev/null" in argv and not _null_device_intact():
@@ -588,6 +597,7 @@ def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: floa
                                                f"{where.lineno}"[:200])]}
     before = _digest(inputs)
     store_before = store_state(store_of(argv))
+    parts_before = part_files(folder)
     measured = _reset_peak()
     rc, out, err, tb = run_in_process(main, argv)
     peak = _memory_kb("VmHWM") if measured else None
@@ -596,11 +606,12 @@ def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: floa
     elif tb:
         failures = [("traceback", tb)]
     else:
-        failures = judge(argv, rc, out, err, before, folder, store_before, peak)
+        failures = judge(argv, rc, out, err, before, folder, store_before, peak, parts_before)
     if subprocess_every and i % subprocess_every == 0 and not any("\x00" in a for a in argv):
         category, argv, inputs, note = make_input(seed, i, folder, base / "cache")
         before = _digest(inputs)
         store_before = store_state(store_of(argv))
+        parts_before = part_files(folder)
         src, sout, serr, speak = run_subprocess(argv, hang_s)
         if src is None:
             failures.append(("hang", "subprocess"))
@@ -613,7 +624,7 @@ def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: floa
             failures.append(("memory" if last.startswith("MemoryError") else "traceback", "subprocess: " + last))
         else:
             failures += [(k, d + " (subprocess)") for k, d in
-                         judge(argv, src, sout, serr, before, folder, store_before, speak)]
+                         judge(argv, src, sout, serr, before, folder, store_before, speak, parts_before)]
     shutil.rmtree(folder, ignore_errors=True)
     now = _memory_kb("VmRSS")
     return {"i": i, "category": category, "argv": argv, "rc": rc, "failures": failures, "note": note,
@@ -716,12 +727,13 @@ def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: 
             examples.setdefault(kind, [])
             if len(examples[kind]) < 5:
                 examples[kind].append((i, detail))
-            failed.append((i, category, kind, " ".join(argv), detail))
+            failed.append((i, category, kind, " ".join(_shell(a) for a in argv), detail))
 
         def lost(wid, current, kind, detail):
-            record(kind, current, detail)
-            tally.add("category", "(lost)", hang_s if kind == "hang" else 0.0, [(kind, detail)])
-            tally.add("entry", "(lost)", 0.0, [(kind, detail)])
+            category = category_of(seed, current)       # the command: python -m bench.fuzz --replay N
+            record(kind, current, f"(worker lost; --replay {current}) -> {detail}", category)
+            tally.add("category", category, hang_s if kind == "hang" else 0.0, [(kind, detail)])
+            tally.add("entry", "(lost: see --replay)", 0.0, [(kind, detail)])
 
         for wid in range(workers):
             spawn(wid)
@@ -791,16 +803,18 @@ def replay(seed: int, i: int, subprocess_too: bool = False, hang_s: float = 20.0
     from engine.cli import main
     before = _digest(inputs)
     store_before = store_state(store_of(argv))
+    parts_before = part_files(folder / "files")
     measured = _reset_peak()
     rc, out, err, tb = run_in_process(main, argv)
     peak = _memory_kb("VmHWM") if measured else None
     failures = [("memory" if tb.startswith("MemoryError") else "traceback", tb)] if tb else \
-        judge(argv, rc, out, err, before, folder / "files", store_before, peak)
+        judge(argv, rc, out, err, before, folder / "files", store_before, peak, parts_before)
     print(f"exit {rc}\n--- stdout\n{out[:3000]}\n--- stderr\n{err[:3000]}" + (f"\n--- exception\n{tb}" if tb else ""))
     if subprocess_too and not any("\x00" in a for a in argv):
         category, argv, inputs, note = make_input(seed, i, folder / "files", folder / "cache")
         before = _digest(inputs)
         store_before = store_state(store_of(argv))
+        parts_before = part_files(folder / "files")
         src, sout, serr, speak = run_subprocess(argv, hang_s)
         print(f"--- subprocess: exit {src}, peak {speak} kB\n{serr[-3000:]}")
         if src is None:
@@ -808,7 +822,7 @@ def replay(seed: int, i: int, subprocess_too: bool = False, hang_s: float = 20.0
         elif "Traceback (most recent call last)" in serr or src < 0:
             failures.append(("traceback" if src >= 0 else "native crash", "subprocess"))
         else:
-            failures += judge(argv, src, sout, serr, before, folder / "files", store_before, speak)
+            failures += judge(argv, src, sout, serr, before, folder / "files", store_before, speak, parts_before)
     print("--- judged: " + ("; ".join(f"{k}: {d}" for k, d in failures) if failures else "no failure"))
     return 1 if failures else 0
 
@@ -819,6 +833,33 @@ def _shell(arg: str) -> str:
     if _CONTROL.search(arg) or "\x00" in arg:
         return "$'" + arg.encode("unicode_escape").decode("ascii").replace("'", "\\'") + "'"
     return shlex.quote(arg)
+
+
+def cause(kind: str, category: str, argv: str, detail: str) -> str:
+    """A failure's likely root cause, to group reproducers: the exception and where it was raised,
+    or the failure kind with the command and the hazard (paths and numbers left out)."""
+    entry = entry_point(argv.split(" ")) if argv else category.partition(" [")[0]
+    if kind == "traceback":
+        m = re.search(r"(\w+(?:Error|Exception|Warning)?): .* at (\S+:\d+)", detail)
+        hazard = category.partition("[")[2].rstrip("]")
+        if m:
+            return f"traceback {m.group(1)} at {m.group(2)} ({entry}{', ' + hazard if hazard else ''})"
+        return f"traceback ({entry}) " + re.sub(r"[/\w.-]*/", "", detail)[:80]
+    hazard = category.partition("[")[2].rstrip("]")
+    detail = re.sub(r"/\S*/", "", detail)
+    detail = re.sub(r"\d+", "N", detail)
+    return f"{kind} ({entry}{', ' + hazard if hazard else ''}): {detail[:90]}"
+
+
+def print_causes(failed, limit: int = 3) -> None:
+    groups: dict[str, list] = {}
+    for i, category, kind, argv, detail in sorted(failed):
+        groups.setdefault(cause(kind, category, argv, detail.rpartition(" -> ")[2] if " -> " in detail
+                                else detail), []).append((i, argv))
+    print(f"\nby cause ({len(groups)}): count, first inputs (--replay N), one command")
+    for key, items in sorted(groups.items(), key=lambda kv: (-len(kv[1]), kv[0])):
+        numbers = ", ".join(str(i) for i, _ in items[:limit]) + (", ..." if len(items) > limit else "")
+        print(f"  {len(items):>4}  {key}\n        inputs {numbers}\n        tellwave {items[0][1][:240]}")
 
 
 def main() -> int:
@@ -849,6 +890,7 @@ def main() -> int:
         print(f"\n{kind}:")
         for i, detail in items:
             print(f"  input {i}: {detail}")
+    print_causes(report["failed"])
     if args.failures:
         with open(args.failures, "w", encoding="utf-8") as f:
             f.write("input\tcategory\tkind\tcommand\tdetail\n")

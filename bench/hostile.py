@@ -533,7 +533,7 @@ def _occupied(rng: random.Random, folder: Path, victim: Path, choice: str) -> Pa
     elif choice == "reports file":
         (out / "reports").write_text("a file where the reports folder goes\n")
     elif choice == "part left":
-        (out / f".{name}.12345.part").write_text("left by a killed run\n")
+        (out / f".{name}.4999999.k3x9.part").write_text("left by a killed run\n")   # above any pid_max: dead
     return out
 
 

@@ -398,3 +398,21 @@ def test_replay_runs_and_judges(tmp_path, capsys, monkeypatch):
     assert fuzz.replay(0, i) in (0, 1)
     shown = capsys.readouterr().out
     assert f"input {i} of seed 0 (trend history" in shown and "--- judged:" in shown
+
+
+def test_judge_counts_only_part_files_the_run_left(tmp_path, cache):
+    (tmp_path / ".summary.md.4999999.k3x9.part").write_text("left by a killed run before this one\n")
+    parts = fuzz.part_files(tmp_path)
+    assert fuzz.judge(["route", "r.yaml"], 0, "", "", {}, tmp_path, parts_before=parts) == []
+    (tmp_path / ".summary.html.77.abcd.part").write_text("left by this run\n")
+    assert [k for k, _ in fuzz.judge(["route", "r.yaml"], 0, "", "", {}, tmp_path, parts_before=parts)] \
+        == ["part file left"]
+    # a route over a folder with a plant file writes its store like any route
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.store_template(cache), store)
+    before = fuzz.store_state(store)
+    with open(store, "ab") as f:
+        f.write(b"\0")
+    argv = ["route", "folder", "--plant", "p.yaml", "--store", str(store)]
+    assert fuzz.entry_point(argv) == "route --plant"
+    assert fuzz.judge(argv, 0, "", "", {}, tmp_path, before) == []
