@@ -415,4 +415,4 @@ def test_judge_counts_only_part_files_the_run_left(tmp_path, cache):
         f.write(b"\0")
     argv = ["route", "folder", "--plant", "p.yaml", "--store", str(store)]
     assert fuzz.entry_point(argv) == "route --plant"
-    assert fuzz.judge(argv, 0, "", "", {}, tmp_path, before) == []
+    assert fuzz.judge(argv, 0, "", "", {}, tmp_path, before, parts_before=fuzz.part_files(tmp_path)) == []
