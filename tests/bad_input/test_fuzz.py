@@ -416,3 +416,16 @@ def test_judge_counts_only_part_files_the_run_left(tmp_path, cache):
     argv = ["route", "folder", "--plant", "p.yaml", "--store", str(store)]
     assert fuzz.entry_point(argv) == "route --plant"
     assert fuzz.judge(argv, 0, "", "", {}, tmp_path, before, parts_before=fuzz.part_files(tmp_path)) == []
+
+
+def test_store_state_reads_a_log_only_when_it_is_one(tmp_path, cache):
+    """A garbage -wal file is thrown away by SQLite, so its removal is no change of the store; a
+    log with a log's header holds writes, so a change in it is one."""
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.store_template(cache), store)
+    before = fuzz.store_state(store)
+    wal = tmp_path / "s.sqlite-wal"
+    wal.write_bytes(bytes(range(256)) * 16)
+    assert fuzz.store_state(store) == before
+    wal.write_bytes(b"\x37\x7f\x06\x82" + bytes(60))
+    assert fuzz.store_state(store) != before
