@@ -241,7 +241,7 @@ def _whole_tool_input(category: str, rng: random.Random, folder: Path, cache: Pa
         site.write_bytes(dump_yaml(doc))
         if rng.random() < 0.5:
             return ["rulebook", "check", "--site", str(site)], [site]
-        reading = short_reading(folder, "r1", seed=1, n=8192)
+        reading = short_reading(folder, "r1", seed=1)
         keep = [p for p in folder.rglob("*") if p.is_file()]
         return ["diagnose", str(reading), "--machine", str(RW2), "--site", str(site), "--format",
                 rng.choice(["text", "json"])], keep
