@@ -359,6 +359,368 @@ def random_command(rng: random.Random, reading: Path | None, machine: Path | Non
     return argv
 
 
+# --- the rest of the tool: routes, plants, history stores, rule structure, plans, outputs -----------
+
+RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
+RW2_NAME = "RW-2 raw water pump"
+POLICY = ROOT / "rulebooks/advice/acquisition.yaml"
+SHORT_N = 4096          # short readings keep the route and store inputs cheap (0.5 s at FS)
+ROUTE_TIMES = ["2026-03-04T09:12:00", "2026-04-04T09:12:00", "25:61", "", "09:20", 1e18, 2 ** 70, -1, 16,
+               "2026-13-45T25:61:00", "2026-02-30T10:00:00", "9999-12-31T23:59:59", "0001-01-01T00:00:00",
+               float("nan"), float("inf"), "\x1b[2Jnow", "2026-03-04T09:12:00+25:00", "1e18", "yesterday"]
+ROUTE_VALUES = [0, -1, 1e18, 2 ** 70, 2 ** 63, float("nan"), float("inf"), "1486", "", 1e-300, 1486, 8192, True,
+                None, [], "furlongs", "\x1b]0;owned\x07", "a" * 5000]
+PATH_VALUES = ["", "missing.npy", "nul\x00name.npy", "../../../../../../etc/passwd", ".", "..", "/",
+               "readings", "route.yaml", "readings/r1.npy.yaml", "machines/m.yaml", "\x1b[31mred.npy",
+               "readings/*.npy", "~/r1.npy", "a" * 300 + ".npy", "readings//r1.npy", "readings/./r1.npy"]
+STORE_DAMAGE = ("zero page", "random bytes", "last byte cut", "drop table", "version as text", "version newer",
+                "version negative", "no version row", "foreign sqlite", "foreign readings table", "inf and nan",
+                "odd times", "empty file", "text file", "folder", "wal garbage", "missing", "half header")
+STORE_TABLES = ("readings", "channels", "indicators", "hypotheses", "routes", "schema_version")
+
+
+def short_reading(folder: Path, name: str, seed: int, kind: str = "npy", n: int = SHORT_N, when: str | None = None,
+                  point: str = "P1H") -> Path:
+    """A short single-channel reading of the RW-2 pump's P1H with its sidecar (time of day included)."""
+    folder.mkdir(parents=True, exist_ok=True)
+    x = seed_signal(n=max(n, 256), seed=seed)[:n] * (1.0 + 0.3 * seed)
+    path = folder / f"{name}{SUFFIX[kind]}"
+    write_reading(kind, path, x, sidecar=kind not in ("npy", "npy2", "mat", "wav16", "wav8", "wavf"))
+    side = path.with_name(path.name + ".yaml")
+    fields = yaml.safe_load(side.read_text()) if side.exists() else {}
+    fields = dict(fields or {})
+    if kind in ("npy", "npy2"):
+        fields["sample_rate_hz"] = FS
+    fields.setdefault("unit", "g")
+    fields.update({"point": point, "speed_rpm": 1486})
+    if when:
+        fields["timestamp"] = when
+    side.write_text(yaml.safe_dump(fields, sort_keys=False))
+    return path
+
+
+def route_tree(folder: Path, readings: int = 2) -> tuple[Path, dict]:
+    """A valid survey in ``folder``: machines/m.yaml, readings/r*.npy with sidecars, route.yaml;
+    returns the route file and its document."""
+    machine = folder / "machines" / "m.yaml"
+    machine.parent.mkdir(parents=True, exist_ok=True)
+    machine.write_text(RW2.read_text(encoding="utf-8"), encoding="utf-8")
+    items = []
+    for k in range(readings):
+        r = short_reading(folder / "readings", f"r{k + 1}", seed=k)
+        items.append({"file": f"readings/{r.name}", "machine": "rw2", "points": {"ch1": "P1H"},
+                      "time": f"2026-03-04T09:{10 + k:02d}:00"})
+    doc = {"route": "fuzz survey", "machines": {"rw2": "machines/m.yaml"}, "readings": items}
+    route = folder / "route.yaml"
+    route.write_bytes(dump_yaml(doc))
+    return route, doc
+
+
+def mutate_route(rng: random.Random, doc: dict) -> dict:
+    """A route document with one to three careless or hostile edits aimed at its meaning."""
+    doc = copy.deepcopy(doc)
+    for _ in range(rng.choice([1, 1, 1, 2, 3])):       # mostly one edit, so that some routes run to the end
+        items = doc.get("readings")
+        item = rng.choice(items) if isinstance(items, list) and items and isinstance(items[0], dict) else None
+        what = rng.choice(["time", "time", "value", "path", "duplicate", "machine", "points", "clock", "empty",
+                           "many", "tree"])
+        if what == "time" and item is not None:
+            item["time"] = rng.choice(ROUTE_TIMES)
+        elif what == "value" and item is not None:
+            item[rng.choice(["speed_rpm", "sample_rate_hz", "unit"])] = rng.choice(ROUTE_VALUES + UNITS)
+        elif what == "path" and item is not None:
+            if rng.random() < 0.5:
+                item["file"] = rng.choice(PATH_VALUES)
+            else:
+                item.pop("file", None)
+                item["files"] = rng.choice([[], ["readings/r1.npy", "readings/r1.npy"], [rng.choice(PATH_VALUES)],
+                                            ["readings/r1.npy", "readings/r2.npy"]])
+        elif what == "duplicate" and item is not None:
+            items.extend(copy.deepcopy(item) for _ in range(rng.choice([1, 2, 5])))
+        elif what == "machine" and item is not None:
+            item["machine"] = rng.choice(["", "nope", "readings/r1.npy", "machines", "machines/m.yaml", "rw2\x00",
+                                          "../../../../etc/hostname", "route.yaml"])
+            if rng.random() < 0.3:
+                doc["machines"] = rng.choice([{}, {"rw2": ""}, {"rw2": "missing.yaml"}, {"rw2": "nul\x00.yaml"},
+                                              {"rw2": "readings/r1.npy"}, {"": "machines/m.yaml"}, []])
+        elif what == "points" and item is not None:
+            item["points"] = rng.choice([{"P1H": "NOPE"}, {"": ""}, {"ch1": "P1H", "ch2": "P1H"}, {"P1H": None},
+                                         {"P1H": 7}, [], {"P1H": "P1H", "P1H\x00": "M1H"}])
+        elif what == "clock":
+            doc["clock"] = rng.choice([{"start": "2026-03-04T08:00:00", "interval_s": rng.choice([0, -1, 1e308,
+                                       float("nan"), 1e-300, 10, 2 ** 70])},
+                                       {"start": rng.choice(ROUTE_TIMES)}, {}, None, "08:00"])
+        elif what == "empty":
+            doc["readings"] = rng.choice([[], None, {}, "readings/r1.npy"])
+        elif what == "many" and item is not None:
+            items.extend(copy.deepcopy(item) | {"time": f"2026-03-04T10:{m:02d}:00"} for m in range(rng.choice([3, 8])))
+        else:
+            doc = mutate_tree(doc, [(rng.randrange(1 << 16), rng.randrange(1 << 16))])
+    return doc
+
+
+def plant_tree(folder: Path, readings: int = 2) -> tuple[Path, Path, dict]:
+    """A folder of readings with sidecars and a plant file beside it; (folder, plant file, plant doc)."""
+    machine = folder / "machines" / "m.yaml"
+    machine.parent.mkdir(parents=True, exist_ok=True)
+    machine.write_text(RW2.read_text(encoding="utf-8"), encoding="utf-8")
+    for k in range(readings):
+        short_reading(folder / "readings", f"rw2-{k + 1}", seed=k, when=f"2026-03-04T09:{10 + k:02d}:00")
+    doc = {"plant": "fuzz plant", "machines": [{"file": "machines/m.yaml", "readings": ["rw2-*.npy"]}]}
+    plant = folder / "plant.yaml"
+    plant.write_bytes(dump_yaml(doc))
+    return folder / "readings", plant, doc
+
+
+def mutate_plant(rng: random.Random, doc: dict, readings: Path) -> dict:
+    doc = copy.deepcopy(doc)
+    for _ in range(rng.choice([1, 1, 1, 2, 3])):
+        entry = doc["machines"][0] if isinstance(doc.get("machines"), list) and doc["machines"] \
+            and isinstance(doc["machines"][0], dict) else None
+        what = rng.choice(["pattern", "file", "duplicate", "clock", "sidecar", "sidecar", "tree"])
+        if what == "pattern" and entry is not None:
+            entry["readings"] = rng.choice([[""], ["*"], ["["], ["**/../*"], ["rw2-*.npy", "rw2-*.npy"],
+                                            ["*.yaml"], ["nul\x00*"], [], ["rw2-1.npy"] * 3, ["../*"]])
+        elif what == "file" and entry is not None:
+            entry["file"] = rng.choice(PATH_VALUES + ["machines/m.yaml", "machines/../machines/m.yaml"])
+        elif what == "duplicate" and entry is not None:
+            doc["machines"].append(copy.deepcopy(entry))
+        elif what == "clock":
+            doc["clock"] = rng.choice([{"start": rng.choice(ROUTE_TIMES)},
+                                       {"start": "2026-03-04T08:00:00", "interval_s": rng.choice([0, 1e308, -5])}])
+        elif what == "sidecar":
+            side = rng.choice(sorted(readings.glob("*.yaml")))
+            fields = yaml.safe_load(side.read_text())
+            fields[rng.choice(["timestamp", "speed_rpm", "sample_rate_hz", "unit", "point"])] = \
+                rng.choice(ROUTE_TIMES + ROUTE_VALUES)
+            side.write_bytes(dump_yaml(fields))
+        else:
+            doc = mutate_tree(doc, [(rng.randrange(1 << 16), rng.randrange(1 << 16))])
+    return doc
+
+
+def hostile_out_folder(rng: random.Random, folder: Path, victim: Path) -> tuple[Path, str]:
+    """An output folder for a route that is already occupied: summary files that are files, folders,
+    links to ``victim`` (an input that must survive), a reports entry that is a file; (folder, hazard)."""
+    out = _occupied(rng, folder, victim, choice := rng.choice(
+        ["summary file", "summary folder", "summary link", "reports file", "out is a file", "out is a link",
+         "out link to input folder", "part left", "deep"]))
+    return out, choice
+
+
+def _occupied(rng: random.Random, folder: Path, victim: Path, choice: str) -> Path:
+    out = folder / "out"
+    if choice == "out is a file":
+        out.write_text("not a folder\n")
+        return out
+    if choice == "out is a link":
+        (folder / "real-out").mkdir()
+        out.symlink_to(folder / "real-out")
+        return out
+    if choice == "out link to input folder":
+        out.symlink_to(victim.parent)
+        return out
+    if choice == "deep":
+        return out / "a" / "b" / "c"
+    out.mkdir()
+    name = "summary." + rng.choice(["md", "html", "txt", "json"])
+    if choice == "summary file":
+        (out / name).write_text("an older summary\n")
+    elif choice == "summary folder":
+        (out / name).mkdir()
+    elif choice == "summary link":
+        (out / name).symlink_to(victim)
+    elif choice == "reports file":
+        (out / "reports").write_text("a file where the reports folder goes\n")
+    elif choice == "part left":
+        (out / f".{name}.4999999.k3x9.part").write_text("left by a killed run\n")   # above any pid_max: dead
+    return out
+
+
+def damage_store(rng: random.Random, path: Path, how: str) -> None:
+    """Damage the valid store at ``path`` in the way ``how`` names (one of STORE_DAMAGE)."""
+    import sqlite3
+
+    def sql(*statements):
+        db = sqlite3.connect(path, isolation_level=None)
+        try:
+            for s in statements:
+                db.execute(s)
+            db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+        finally:
+            db.close()
+
+    data = path.read_bytes() if path.is_file() else b""
+    if how == "zero page":
+        page = 4096
+        k = rng.randrange(max(1, len(data) // page))
+        path.write_bytes(data[:k * page] + bytes(page) + data[(k + 1) * page:])
+    elif how == "random bytes":
+        at = rng.randrange(100, max(101, len(data) - 64))
+        blob = bytes(rng.randrange(256) for _ in range(rng.choice([1, 8, 64, 512])))
+        path.write_bytes(data[:at] + blob + data[at + len(blob):])
+    elif how == "last byte cut":
+        path.write_bytes(data[:-1])
+    elif how == "half header":
+        path.write_bytes(data[:rng.choice([16, 50, 99, 100, 4095])])
+    elif how == "drop table":
+        sql("PRAGMA foreign_keys=OFF", f"DROP TABLE {rng.choice(STORE_TABLES)}")
+    elif how == "version as text":
+        sql(f"UPDATE schema_version SET version = '{rng.choice(['two', '', '1.5', 'NaN', '2; DROP TABLE x'])}'")
+    elif how == "version newer":
+        sql(f"UPDATE schema_version SET version = {rng.choice([99, 2 ** 62, 9223372036854775807])}")
+    elif how == "version negative":
+        sql(f"UPDATE schema_version SET version = {rng.choice([-1, 0, -9223372036854775808])}")
+    elif how == "no version row":
+        sql(rng.choice(["DELETE FROM schema_version", "INSERT INTO schema_version VALUES (1)"]))
+    elif how in ("foreign sqlite", "foreign readings table"):
+        path.unlink()
+        body = ("CREATE TABLE readings (x TEXT)", "INSERT INTO readings VALUES ('a stranger''s data')") \
+            if how == "foreign readings table" else ("CREATE TABLE payroll (name TEXT, pay REAL)",
+                                                     "INSERT INTO payroll VALUES ('someone', 1.0)")
+        db = sqlite3.connect(path, isolation_level=None)
+        for s in body:
+            db.execute(s)
+        db.close()
+    elif how == "inf and nan":
+        sql(*rng.sample([
+            "UPDATE indicators SET value = 9e999", "UPDATE indicators SET value = -9e999",
+            "UPDATE indicators SET value = 'NaN'", "UPDATE indicators SET value = 1e308",
+            "UPDATE readings SET speed_rpm = 9e999", "UPDATE readings SET speed_rpm = 'fast'",
+            "UPDATE hypotheses SET certainty = 9e999", "UPDATE hypotheses SET certainty = 'NaN'",
+            "UPDATE readings SET elapsed_s = -9e999", "UPDATE readings SET fs_hz = 0",
+            "UPDATE readings SET duration_s = 'NaN'"], rng.randint(1, 3)))
+    elif how == "odd times":
+        sql(f"UPDATE readings SET taken_at = '{rng.choice(['', '25:61', '9999-99-99', 'x', '2026-03-04'])}' "
+            "WHERE id = (SELECT min(id) FROM readings)")
+    elif how == "empty file":
+        path.write_bytes(b"")
+    elif how == "text file":
+        path.write_text("machine,time\nRW-2,2026-03-04\n")
+    elif how == "folder":
+        path.unlink()
+        path.mkdir()
+    elif how == "wal garbage":
+        Path(str(path) + "-wal").write_bytes(bytes(rng.randrange(256) for _ in range(4096)))
+    elif how == "missing":
+        path.unlink()
+    else:
+        raise ValueError(f"unknown store damage {how!r}")
+
+
+def site_rules(rng: random.Random) -> tuple[str, dict]:
+    """A site overlay with a hazard in its rule structure: (hazard, document)."""
+    tone = {"fact": "tone", "as": "x1", "where": {"name": "1X", "amplitude_mm_s": {"at_least": 0.5}}}
+
+    def rule(rid, needs, derives=None, weight=0.3):
+        r = {"id": rid, "title": f"fuzz rule {rid}", "source": "fuzz input (invented)", "needs": needs,
+             "certainty": {"weight": weight}, "because": "fuzz"}
+        if derives:
+            r["derives"] = derives
+        else:
+            r["concludes"] = {"fault": "unbalance", "component": "x1.component"}
+        return r
+
+    derived = {"fuzz_a": {"about": "a", "fields": {"component": {"type": "string", "about": "c"}}},
+               "fuzz_b": {"about": "b", "fields": {"component": {"type": "string", "about": "c"}}}}
+    hazard = rng.choice(["cycle", "self cycle", "many rules", "missing fact", "missing field", "declared never made",
+                         "deep chain", "cycle concluding"])
+    if hazard in ("cycle", "cycle concluding"):
+        rules = [rule("site.fuzz.seed", [tone], {"fact": "fuzz_a", "fields": {"component": "x1.component"}}),
+                 rule("site.fuzz.a-to-b", [{"fact": "fuzz_a", "as": "a"}],
+                      {"fact": "fuzz_b", "fields": {"component": "a.component"}}),
+                 rule("site.fuzz.b-to-a", [{"fact": "fuzz_b", "as": "b"}],
+                      {"fact": "fuzz_a", "fields": {"component": "b.component"}})]
+        if hazard == "cycle concluding":
+            rules.append(rule("site.fuzz.end", [{"fact": "fuzz_b", "as": "b"}, tone]))
+    elif hazard == "self cycle":
+        rules = [rule("site.fuzz.seed", [tone], {"fact": "fuzz_a", "fields": {"component": "x1.component"}}),
+                 rule("site.fuzz.self", [{"fact": "fuzz_a", "as": "a"}],
+                      {"fact": "fuzz_a", "fields": {"component": "a.component"}})]
+    elif hazard == "many rules":
+        n = rng.choice([66, 250, rng.randint(20, 400)])
+        rules = [rule(f"site.fuzz.many-{k}", [{"fact": "tone", "as": "x1",
+                                                "where": {"name": "1X", "amplitude_mm_s": {"at_least": 0.01 + k * 0.01}}}],
+                      weight=rng.choice([0.01, 0.2, -0.1]))
+                 for k in range(n)]
+    elif hazard == "deep chain":
+        n = rng.choice([10, 40])
+        derived = {f"fuzz_{k}": {"about": "x", "fields": {"component": {"type": "string", "about": "c"}}}
+                   for k in range(n)}
+        rules = [rule("site.fuzz.chain-0", [tone], {"fact": "fuzz_0", "fields": {"component": "x1.component"}})]
+        rules += [rule(f"site.fuzz.chain-{k}", [{"fact": f"fuzz_{k - 1}", "as": "p"}],
+                       {"fact": f"fuzz_{k}", "fields": {"component": "p.component"}}) for k in range(1, n)]
+    elif hazard == "missing fact":
+        rules = [rule("site.fuzz.missing", [{"fact": rng.choice(["no_such_fact", "fuzz_c", "", "tone\x00"]), "as": "x1"}])]
+    elif hazard == "missing field":
+        rules = [rule("site.fuzz.field", [{"fact": "tone", "as": "x1",
+                                           "where": {rng.choice(["no_such_field", "x1.nope", ""]): 1}}])]
+    else:
+        rules = [rule("site.fuzz.waits", [{"fact": "fuzz_b", "as": "b"}, tone])]
+    return hazard, {"rulebook": "fuzz site", "derived": derived, "rules": rules}
+
+
+PLAN_RPM = ["1486", "0", "-1", "nan", "inf", "1e-9", "1e18", "3000", "1500", "2000", "6000", "1500.0001", "0.5", "60"]
+PLAN_FMAX = ["2147483648", "0", "-1", "nan", "inf", "1e-3", "1", "10", "500", "1000", "5000", "1e300"]
+PLAN_LINES = ["10000000", "0", "-1", "1", "2", "400", "3200", "12800", "2147483648", "abc"]
+PLAN_DURATION = ["0", "-1", "nan", "1e9", "0.001", "1", "10", "1e-300"]
+PLAN_RATE = ["0", "-1", "nan", "1", "100", "2560", "25600", "1e12"]
+
+
+def plan_command(rng: random.Random, machine: Path, reading: Path | None, policy: Path | None, output: Path) -> list[str]:
+    """``plan`` with careless or extreme settings; mostly without the proof by simulation (its cost)."""
+    argv = ["plan", str(machine)]
+    if rng.random() < 0.6:
+        argv += ["--rpm", rng.choice(PLAN_RPM)]
+    style = rng.choice(["fmax lines", "rate duration", "fmax duration", "reading", "none", "all"])
+    if style in ("fmax lines", "fmax duration", "all"):
+        argv += ["--fmax", rng.choice(PLAN_FMAX)]
+    if style in ("fmax lines", "all"):
+        argv += ["--lines", rng.choice(PLAN_LINES)]
+    if style in ("rate duration", "fmax duration", "all"):
+        argv += ["--duration", rng.choice(PLAN_DURATION)]
+    if style in ("rate duration", "all"):
+        argv += ["--sample-rate", rng.choice(PLAN_RATE)]
+    if style == "reading" and reading is not None:
+        argv += ["--reading", str(reading)]
+    if rng.random() < 0.2:
+        argv += ["--point", rng.choice(["P1H", "NOPE", "", "M1H", "\x1b[2J"])]
+    if policy is not None:
+        argv += ["--policy", str(policy)]
+    if rng.random() < 0.85:
+        argv.append("--no-proof")
+    argv += ["--format", rng.choice(["text", "md", "json", "html"])]
+    if rng.random() < 0.5:
+        argv += ["-o", str(output)]
+    return argv
+
+
+TREND_LIMITS = ["accel_peak_g=20", "accel_peak_g=0", "accel_peak_g=-1", "accel_peak_g=nan", "accel_peak_g=inf",
+                "accel_peak_g=1e308", "accel_peak_g=1e-300", "velocity_rms_mm_s=4.5", "nope=1", "=", "accel_peak_g",
+                "accel_peak_g=", "accel_peak_g==3", " accel_peak_g = 2 "]
+
+
+def history_command(rng: random.Random, store: Path, output: Path) -> list[str]:
+    """``history`` or ``trend`` over ``store`` with careless options."""
+    machine = rng.choice([RW2_NAME] * 8 + ["", "nope", "rw2", RW2_NAME.lower(), "\x1b]0;owned\x07", "%", "_", "*"])
+    if rng.random() < 0.45:
+        argv = ["history"] + ([machine] if rng.random() < 0.7 else []) + ["--store", str(store)]
+        if rng.random() < 0.4:
+            argv.append("--json")
+        if rng.random() < 0.35:
+            argv += ["--delete", rng.choice(["1", "2", "0", "-1", "99999", str(2 ** 63), str(2 ** 70), "9" * 40,
+                                             "1e3", "x"])]
+        return argv
+    argv = ["trend", machine, "--store", str(store), "--format", rng.choice(["text", "md", "html", "json"])]
+    if rng.random() < 0.3:
+        argv += ["--point", rng.choice(["P1H", "NOPE", "", "M1H", "p1h"])]
+    for _ in range(rng.choice([0, 0, 1, 2])):
+        argv += ["--limit", rng.choice(TREND_LIMITS)]
+    if rng.random() < 0.4:
+        argv += ["-o", str(output)]
+    return argv
+
+
 def strict_json(text: str):
     """Parse ``text`` as RFC 8259 JSON: NaN, Infinity and -Infinity are errors, as in strict parsers."""
     import json
@@ -368,6 +730,7 @@ def strict_json(text: str):
     return json.loads(text, parse_constant=refuse)
 
 
-__all__ = ["MACHINES", "READING_KINDS", "SEED_KINDS", "TOKENS", "ODD_VALUES", "YAML_KINDS", "dump_yaml",
+__all__ = ["MACHINES", "RW2", "RW2_NAME", "STORE_DAMAGE", "damage_store", "history_command", "hostile_out_folder",
+           "mutate_plant", "mutate_route", "plan_command", "plant_tree", "route_tree", "short_reading", "site_rules", "READING_KINDS", "SEED_KINDS", "TOKENS", "ODD_VALUES", "YAML_KINDS", "dump_yaml",
            "mutate_bytes", "mutate_tree", "odd_array", "option_values", "random_command", "seed_signal",
            "strict_json", "write_array", "write_reading", "write_seed"]

@@ -35,7 +35,7 @@ from engine.readings import load_reading, sidecar_path
 from engine.reasoning import Reasoner, load_rulebook
 
 from bench import fuzz
-from bench.hostile import (MACHINES, ODD_VALUES, READING_KINDS, SUFFIX, TOKENS, dump_yaml, mutate_bytes,
+from bench.hostile import (MACHINES, ODD_VALUES, READING_KINDS, STORE_DAMAGE, SUFFIX, TOKENS, dump_yaml, mutate_bytes,
                            mutate_tree, strict_json, write_array, write_seed)
 from support import CASES
 
@@ -208,17 +208,227 @@ def test_command_line(i):
     """Random commands over mutated files through ``engine.cli.main`` (bench.fuzz's checks)."""
     from engine.cli import main
 
+    if fuzz.category_of(20261202, i) not in OLD_CATEGORIES:
+        return      # the categories beyond single readings are checked by test_every_category_runs_and_is_judged
     with tempfile.TemporaryDirectory() as tmp, contextlib.chdir(tmp):    # default report names land here
-        category, argv, inputs = fuzz.make_input(20261202, i, Path(tmp) / "files")
+        category, argv, inputs, _ = fuzz.make_input(20261202, i, Path(tmp) / "files")
         before = fuzz._digest(inputs)
         rc, out, err, tb = fuzz.run_in_process(main, argv)
         assert tb is None, (argv, tb)
         assert fuzz.judge(argv, rc, out, err, before, Path(tmp) / "files") == [], (argv, rc, err)
 
 
-def test_fuzz_generators_are_deterministic(tmp_path):
-    a = fuzz.make_input(7, 42, tmp_path / "a")
-    b = fuzz.make_input(7, 42, tmp_path / "b")
-    assert a[0] == b[0] and [x.replace("/a/", "/b/") for x in a[1]] == b[1]
-    assert [p.read_bytes() for p in sorted(a[2])] == [p.read_bytes() for p in sorted(b[2])]
+OLD_CATEGORIES = ("reading bytes", "odd array", "machine", "sidecar", "site", "options")
+NEW_CATEGORIES = tuple(c for c, _ in fuzz.CATEGORIES if c not in OLD_CATEGORIES)
+# the entry points each category must reach (a generator that stopped reaching one is a harness bug)
+REACHES = {"route file": {"route"}, "plant file": {"route --plant"}, "route output": {"route"},
+           "store damaged": {"history", "history --delete", "trend", "diagnose --store", "route"},
+           "site rules": {"rulebook check", "diagnose"}, "plan": {"plan"},
+           "trend history": {"history", "history --delete", "trend"},
+           "output target": {"diagnose", "diagnose --store", "plan", "trend", "synth"}}
+
+
+def first_inputs(seed: int, category: str, count: int) -> list[int]:
+    found = [i for i in range(20000) if fuzz.category_of(seed, i) == category]
+    return found[:count]
+
+
+@pytest.fixture(scope="module")
+def cache(tmp_path_factory):
+    """The fuzz's shared files (the valid store template), made once."""
+    folder = tmp_path_factory.mktemp("fuzz-cache")
+    fuzz.store_template(folder)
+    return folder
+
+
+def test_fuzz_generators_are_deterministic(tmp_path, cache):
+    for i in [42] + [first_inputs(7, c, 1)[0] for c in NEW_CATEGORIES]:
+        a = fuzz.make_input(7, i, tmp_path / "a", cache)
+        b = fuzz.make_input(7, i, tmp_path / "b", cache)
+        assert a.category == b.category and a.note == b.note
+        assert [x.replace("/a/", "/b/") for x in a.argv] == b.argv
+        assert [p.read_bytes() for p in sorted(a.inputs)] == [p.read_bytes() for p in sorted(b.inputs)]
     assert random.Random("7:42").random() == random.Random("7:42").random()
+
+
+def test_every_category_is_drawn():
+    drawn = {fuzz.category_of(0, i) for i in range(2000)}
+    assert drawn == {c for c, _ in fuzz.CATEGORIES}
+
+
+def test_store_template_is_a_valid_store_with_two_readings(cache):
+    from engine.cli import main
+    rc, out, err, tb = fuzz.run_in_process(main, ["history", "RW-2 raw water pump", "--store",
+                                                  str(fuzz.store_template(cache)), "--json"])
+    assert (rc, tb) == (0, None), err
+    rows = strict_json(out)
+    assert len(rows) == 2 and rows[0]["taken_at"] != rows[1]["taken_at"]
+
+
+def test_valid_seed_survey_and_plant_run_to_the_end(tmp_path):
+    """The route and plant seeds are valid: without mutation each runs with exit 0, so the fuzz's
+    mutations, not the seeds, are what the tool refuses."""
+    from engine.cli import main
+    from bench.hostile import plant_tree, route_tree
+    route, _ = route_tree(tmp_path / "r", readings=1)
+    rc, out, err, tb = fuzz.run_in_process(main, ["route", str(route), "--out", str(tmp_path / "o1"), "--store",
+                                                  str(tmp_path / "s.sqlite"), "--workers", "1", "--quiet"])
+    assert (rc, tb) == (0, None), err
+    folder, plant, _ = plant_tree(tmp_path / "p", readings=1)
+    rc, out, err, tb = fuzz.run_in_process(main, ["route", str(folder), "--plant", str(plant), "--out",
+                                                  str(tmp_path / "o2"), "--store", str(tmp_path / "s.sqlite"),
+                                                  "--workers", "1", "--quiet"])
+    assert (rc, tb) == (0, None), err
+
+
+@pytest.mark.parametrize("category", NEW_CATEGORIES)
+def test_every_category_runs_and_is_judged(tmp_path, cache, category):
+    """A few inputs of each category beyond single readings, in-process, as a fuzz worker runs them.
+
+    This checks the harness, not the engine: each input is made, reaches an entry point of its
+    category and is judged into known failure kinds. Failures the engine still has are what
+    ``python -m bench.fuzz`` counts; they do not fail this test.
+    """
+    from engine.cli import main
+    reached = set()
+    for i in first_inputs(3, category, 4):
+        with contextlib.chdir(tmp_path):
+            made = fuzz.make_input(3, i, tmp_path / f"in{i}", cache)
+            assert made.category == category
+            reached.add(fuzz.entry_point(made.argv))
+            before = fuzz._digest(made.inputs)
+            store_before = fuzz.store_state(fuzz.store_of(made.argv))
+            rc, out, err, tb = fuzz.run_in_process(main, made.argv)
+            found = [("traceback", tb)] if tb else fuzz.judge(made.argv, rc, out, err, before, tmp_path / f"in{i}",
+                                                              store_before)
+        assert isinstance(rc, int)
+        assert all(kind in fuzz.FAILURES for kind, _ in found), found
+    assert reached <= REACHES[category], reached
+
+
+def test_every_entry_point_is_reached_by_some_category(tmp_path, cache):
+    """Over the first inputs of seed 0, every entry point the categories promise is reached."""
+    reached = set()
+    for i in range(400):
+        category = fuzz.category_of(0, i)
+        if category in ("store damaged", "trend history", "output target", "site rules", "plan"):
+            made = fuzz.make_input(0, i, tmp_path / "x", cache)
+            reached.add(fuzz.entry_point(made.argv))
+    assert {"history", "history --delete", "trend", "diagnose --store", "route", "plan", "rulebook check",
+            "synth", "diagnose"} <= reached, reached
+
+
+def test_judge_counts_a_store_changed_by_a_read_only_command(tmp_path, cache):
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.store_template(cache), store)
+    argv = ["history", "RW-2 raw water pump", "--store", str(store)]
+    before = fuzz.store_state(store)
+    assert fuzz.judge(argv, 0, "", "", {}, tmp_path, before) == []
+    with open(store, "ab") as f:
+        f.write(b"\0")
+    assert [k for k, _ in fuzz.judge(argv, 0, "", "", {}, tmp_path, before)] == ["store changed"]
+    # a command that writes the store may change it, but may not turn it into something else
+    write = ["diagnose", "r.npy", "--machine", "m.yaml", "--store", str(store)]
+    assert fuzz.judge(write, 0, "", "", {}, tmp_path, before) == []
+    store.write_text("a report written over the store\n")
+    assert [k for k, _ in fuzz.judge(write, 0, "", "", {}, tmp_path, before)] == ["input changed"]
+    # a read-only command that creates a store where none was
+    missing = tmp_path / "none.sqlite"
+    argv = ["trend", "X", "--store", str(missing)]
+    before = fuzz.store_state(missing)
+    missing.write_bytes(b"")
+    assert [k for k, _ in fuzz.judge(argv, 2, "", "tellwave: error: x\n", {}, tmp_path, before)] == ["store changed"]
+
+
+def test_judge_exit_codes(tmp_path):
+    one_line = "tellwave: error: f.yaml:1: problem\n"
+    for rc in (0, 7, 9):
+        assert fuzz.judge(["route", "r.yaml"], rc, "", "", {}, tmp_path) == []
+    for rc in (1, 2, 3, 4, 5, 8):
+        assert fuzz.judge(["history"], rc, "", one_line, {}, tmp_path) == []
+        assert [k for k, _ in fuzz.judge(["history"], rc, "", one_line * 2, {}, tmp_path)] == ["bad exit"]
+    for rc in (6, 10, -1, 130):
+        assert [k for k, _ in fuzz.judge(["history"], rc, "", one_line, {}, tmp_path)] == ["bad exit"]
+
+
+def test_judge_counts_memory_and_the_peak_is_measured(tmp_path):
+    assert [k for k, _ in fuzz.judge(["plan", "m.yaml"], 0, "", "", {}, tmp_path,
+                                     peak_kb=fuzz.MEMORY_LIMIT_KB + 1)] == ["memory"]
+    assert fuzz.judge(["plan", "m.yaml"], 0, "", "", {}, tmp_path, peak_kb=fuzz.MEMORY_LIMIT_KB) == []
+    if not fuzz._reset_peak():
+        pytest.skip("no /proc/self/clear_refs: the in-process peak cannot be reset here")
+    start = fuzz._memory_kb("VmHWM")
+    block = np.ones(200 * 1024 * 1024 // 8)         # 200 MB, touched
+    grown = fuzz._memory_kb("VmHWM")
+    del block
+    assert grown - start > 190 * 1024
+    assert fuzz._reset_peak() and fuzz._memory_kb("VmHWM") < grown - 150 * 1024
+
+
+def test_subprocess_reports_its_peak_memory():
+    rc, out, err, peak = fuzz.run_subprocess(["--version"], 60.0)
+    assert rc == 0 and "tellwave" in out, err
+    assert peak is not None and 10_000 < peak < fuzz.MEMORY_LIMIT_KB
+
+
+@pytest.mark.parametrize("how", STORE_DAMAGE)
+def test_every_store_damage_changes_the_store(tmp_path, cache, how):
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.store_template(cache), store)
+    before = fuzz.store_state(store)
+    from bench.hostile import damage_store
+    damage_store(random.Random(how), store, how)
+    if how == "wal garbage":        # beside the store, which it leaves as it was (SQLite discards such a log)
+        assert Path(str(store) + "-wal").stat().st_size == 4096 and fuzz.store_state(store) == before
+    else:
+        assert fuzz.store_state(store) != before
+
+
+def test_site_rule_hazards_include_66_and_250_rules():
+    from bench.hostile import site_rules
+    sizes = set()
+    for k in range(300):
+        hazard, doc = site_rules(random.Random(k))
+        if hazard == "many rules":
+            sizes.add(len(doc["rules"]))
+            assert len({r["needs"][0]["where"]["amplitude_mm_s"]["at_least"] for r in doc["rules"]}) == len(doc["rules"])
+    assert {66, 250} <= sizes
+
+
+def test_replay_runs_and_judges(tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    i = first_inputs(0, "trend history", 1)[0]
+    assert fuzz.replay(0, i) in (0, 1)
+    shown = capsys.readouterr().out
+    assert f"input {i} of seed 0 (trend history" in shown and "--- judged:" in shown
+
+
+def test_judge_counts_only_part_files_the_run_left(tmp_path, cache):
+    (tmp_path / ".summary.md.4999999.k3x9.part").write_text("left by a killed run before this one\n")
+    parts = fuzz.part_files(tmp_path)
+    assert fuzz.judge(["route", "r.yaml"], 0, "", "", {}, tmp_path, parts_before=parts) == []
+    (tmp_path / ".summary.html.77.abcd.part").write_text("left by this run\n")
+    assert [k for k, _ in fuzz.judge(["route", "r.yaml"], 0, "", "", {}, tmp_path, parts_before=parts)] \
+        == ["part file left"]
+    # a route over a folder with a plant file writes its store like any route
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.store_template(cache), store)
+    before = fuzz.store_state(store)
+    with open(store, "ab") as f:
+        f.write(b"\0")
+    argv = ["route", "folder", "--plant", "p.yaml", "--store", str(store)]
+    assert fuzz.entry_point(argv) == "route --plant"
+    assert fuzz.judge(argv, 0, "", "", {}, tmp_path, before, parts_before=fuzz.part_files(tmp_path)) == []
+
+
+def test_store_state_reads_a_log_only_when_it_is_one(tmp_path, cache):
+    """A garbage -wal file is thrown away by SQLite, so its removal is no change of the store; a
+    log with a log's header holds writes, so a change in it is one."""
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.store_template(cache), store)
+    before = fuzz.store_state(store)
+    wal = tmp_path / "s.sqlite-wal"
+    wal.write_bytes(bytes(range(256)) * 16)
+    assert fuzz.store_state(store) == before
+    wal.write_bytes(b"\x37\x7f\x06\x82" + bytes(60))
+    assert fuzz.store_state(store) != before
