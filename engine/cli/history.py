@@ -43,7 +43,11 @@ def run(args) -> int:
             if row is None:
                 raise UsageError(f"no stored reading has id {delete}", path=str(store.path))
             store.delete(delete)
-            print(f"deleted reading {delete} ({v(row['machine'])}, {v(row['source'])}, {v(row['taken_at'])})")
+            if args.json:
+                print(dumps({"deleted": delete, "machine": row["machine"], "source": row["source"],
+                             "taken_at": row["taken_at"]}))
+            else:
+                print(f"deleted reading {delete} ({v(row['machine'])}, {v(row['source'])}, {v(row['taken_at'])})")
             return 0
         if args.machine is None:
             machines = store.machines()

@@ -10,8 +10,10 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 from pathlib import Path
 
+from ..errors import ReadingError
 from ..readings import SCALE_ISSUES, sidecar_path
 
 # name -> (label with unit, what it is); the trend stage reads these names
@@ -45,11 +47,15 @@ def content_hash(paths) -> str:
     h = hashlib.sha256()
     for p in paths:
         for f in (Path(p), sidecar_path(p)):
-            if f.is_file():
+            if os.path.isfile(f):       # as the reader looks: a name the system cannot hold is no sidecar
                 h.update(b"reading" if f == Path(p) else b"sidecar")
-                with open(f, "rb") as fh:
-                    for block in iter(lambda: fh.read(1 << 20), b""):
-                        h.update(block)
+                try:
+                    with open(f, "rb") as fh:
+                        for block in iter(lambda: fh.read(1 << 20), b""):
+                            h.update(block)
+                except OSError as exc:
+                    raise ReadingError(f"cannot read ({exc.strerror or exc.__class__.__name__})",
+                                       path=str(f)) from None
     return h.hexdigest()
 
 

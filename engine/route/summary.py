@@ -65,7 +65,7 @@ def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
         top = store.db.execute("SELECT fault_name, component, certainty FROM hypotheses WHERE reading_id = ?"
                                " AND rank = 1", (prev["id"],)).fetchone()
         if top is not None:
-            best["top_then"] = f"{top[0]} on {top[1]} ({100 * max(top[2], 0):.0f} %)"
+            best["top_then"] = f"{top[0]} on {top[1]} ({_pct(top[2])} %)"
     return best
 
 
@@ -94,10 +94,10 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         item = {"file": Path(task.files[0]).name, "taken_at": r["taken_at"], "time_from": r["time_from"],
                 "points": [p for p in points if p], "urgency": {"id": r["urgency"], "label": label, "rank": rank},
                 "zone": r["worst_zone"], "summary": r["summary"], "withheld": bool(r["withheld"]),
-                "certainty_pct": round(100 * max(tops[3], 0)) if tops else 0, "report": link,
+                "certainty_pct": _pct(tops[3]) if tops else 0, "report": link,
                 "skipped": task.index in outcome.skipped, "_id": r["id"], "scale_not_trusted": unscaled,
                 "top": None if tops is None else {"fault": tops[0], "fault_name": tops[1], "component": tops[2],
-                                                  "certainty_pct": round(100 * max(tops[3], 0))}}
+                                                  "certainty_pct": _pct(tops[3])}}
         machines.setdefault(r["machine"], {"machine": r["machine"], "readings": []})["readings"].append(item)
     ranked = []
     for m in machines.values():
@@ -128,3 +128,8 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         "machines": ranked,
         "failures": outcome.failed,
     }
+
+
+def _pct(certainty) -> int:
+    """A stored certainty in percent; one the store could not give (read as None) counts as none."""
+    return 0 if certainty is None else round(100 * max(certainty, 0))

@@ -283,3 +283,13 @@ def test_an_id_outside_sqlites_range_is_a_usage_error(tmp_path, capsys, given, p
     assert problem in _one_line(capsys)
     with Store(path) as s:
         assert len(s.readings()) == 1 and s.reading(ID_MAX + 1) is None and not s.delete(-5)
+
+
+def test_delete_with_json_answers_in_json(tmp_path, capsys):
+    """Found by bench.fuzz: ``history --json --delete N`` printed a sentence where JSON was asked for."""
+    path = _store(tmp_path / "h.sqlite", n=2)
+    assert main(["history", "--store", str(path), "--json", "--delete", "2"]) == 0
+    answer = json.loads(capsys.readouterr().out)
+    assert answer["deleted"] == 2 and answer["machine"] == PUMP
+    with Store(path) as s:
+        assert [r["id"] for r in s.readings()] == [1]

@@ -186,3 +186,24 @@ def test_a_file_listed_twice_the_same_way_is_diagnosed_and_shown_once(tmp_path):
     assert summary["counts"]["diagnosed"] == 1 and summary["counts"]["skipped"] == 1
     (machine,) = summary["machines"]
     assert len(machine["readings"]) == 1 and len(_stored(tmp_path)) == 1
+
+
+def test_a_summary_over_a_store_holding_an_impossible_certainty_is_written(tmp_path, capsys):
+    """A certainty the store cannot give (infinite, read as missing) counts as none in the route
+    summary instead of stopping it with a TypeError after every reading is stored."""
+    import sqlite3
+
+    first = _route(tmp_path / "a" / "route.yaml", [{"file": str(_reading(tmp_path / "a" / "p.wav")),
+                                                    "machine": "rw2", "points": {"P1H": "P1H"},
+                                                    "time": "2026-01-05T08:00:00"}])
+    assert _run(first, tmp_path) in (0, 7)
+    with sqlite3.connect(tmp_path / "h.sqlite") as db:
+        db.execute("UPDATE hypotheses SET certainty = 9e999")
+    db.close()
+    second = _route(tmp_path / "b" / "route.yaml", [{"file": str(_reading(tmp_path / "b" / "p.wav", seed=1)),
+                                                     "machine": "rw2", "points": {"P1H": "P1H"},
+                                                     "time": "2026-02-05T08:00:00"}])
+    capsys.readouterr()
+    assert _run(second, tmp_path, "--again") in (0, 7)
+    summary = json.loads((tmp_path / "out" / "summary.json").read_text())
+    assert summary

@@ -181,3 +181,16 @@ def test_any_path_string_loads_or_is_a_route_error_and_a_loaded_one_reads_cleanl
             load_reading(f)             # what the worker does first: a clean error at worst
         except TellwaveError:
             pass
+
+
+def test_a_reading_whose_sidecar_name_is_too_long_for_the_system_is_read_without_one(tmp_path, capsys):
+    """Found by bench.fuzz: a reading named with 250 characters exists, but its sidecar's name
+    (the same plus ``.yaml``) is past the system's 255; hashing the route's files for the resume
+    key raised ``OSError: File name too long``. No such sidecar can exist, so it is none."""
+    import numpy as np
+
+    from engine.history.record import content_hash
+
+    reading = tmp_path / ("a" * 247 + ".npy")
+    np.save(reading, np.zeros(16))
+    assert len(content_hash([reading])) == 64
