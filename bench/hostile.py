@@ -420,6 +420,8 @@ def mutate_route(rng: random.Random, doc: dict) -> dict:
     """A route document with one to three careless or hostile edits aimed at its meaning."""
     doc = copy.deepcopy(doc)
     for _ in range(rng.choice([1, 1, 1, 2, 3])):       # mostly one edit, so that some routes run to the end
+        if not isinstance(doc, dict):       # an earlier edit replaced the whole tree
+            break
         items = doc.get("readings")
         item = rng.choice(items) if isinstance(items, list) and items and isinstance(items[0], dict) else None
         what = rng.choice(["time", "time", "value", "path", "duplicate", "machine", "points", "clock", "empty",
@@ -475,6 +477,8 @@ def plant_tree(folder: Path, readings: int = 2) -> tuple[Path, Path, dict]:
 def mutate_plant(rng: random.Random, doc: dict, readings: Path) -> dict:
     doc = copy.deepcopy(doc)
     for _ in range(rng.choice([1, 1, 1, 2, 3])):
+        if not isinstance(doc, dict):       # an earlier edit replaced the whole tree
+            break
         entry = doc["machines"][0] if isinstance(doc.get("machines"), list) and doc["machines"] \
             and isinstance(doc["machines"][0], dict) else None
         what = rng.choice(["pattern", "file", "duplicate", "clock", "sidecar", "sidecar", "tree"])

@@ -39,6 +39,8 @@ def check_target(path, inputs=()) -> Path:
     if path is None or str(path).strip() == "":
         raise OutputError("the output file name is empty")
     text = str(path)
+    if "\0" in text:
+        raise OutputError("contains a NUL character, which no file name can hold", path=text.replace("\0", "\\x00"))
     target = Path(text)
     if text.endswith(("/", os.sep)) or target.name in ("", ".", ".."):
         raise OutputError("names a folder; give a file name", path=text)
@@ -204,6 +206,9 @@ def prepare_folder(path) -> Path:
     """A folder to write into, created if missing; ``OutputError`` if it cannot be."""
     if path is None or str(path).strip() == "":
         raise OutputError("the output folder name is empty")
+    if "\0" in str(path):
+        raise OutputError("contains a NUL character, which no folder name can hold",
+                          path=str(path).replace("\0", "\\x00"))
     folder = Path(path)
     if folder.is_symlink() and not folder.is_dir():
         raise OutputError("is a broken symbolic link", path=str(folder))

@@ -32,6 +32,7 @@ def run(args) -> int:
     from ..report import write_atomically
     from ..route import load_folder, load_route, render_summary, route_summary, run_route, summary_paths
     from ..outfile import known_inputs
+    from ..route.runner import check_outputs
     from ._common import input_files
     from ._store import open_store
 
@@ -48,7 +49,8 @@ def run(args) -> int:
             raise UsageError("--plant goes with a folder of readings, not with a route file")
         route = load_route(source)
     out = Path(args.out) if args.out else source.parent / f"{source.stem}-reports"
-    inputs = known_inputs(input_files(args, route))     # run_route checks every output against them first
+    inputs = known_inputs(input_files(args, route))
+    check_outputs(route, out, args.format, inputs)      # before the store is opened (run_route checks again)
     with open_store(args) as store:
         try:
             outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,

@@ -342,6 +342,14 @@ class Store:
         row = self.db.execute("SELECT * FROM readings WHERE id = ?", (reading_id,)).fetchone()
         return dict(row) if row else None
 
+    def _check_time(self, row) -> None:
+        """A stored reading's time must be ISO 8601 (tellwave writes no other); one that is not was
+        damaged or written by another program, and a trend through it would be a guess."""
+        if not _iso_time(row["taken_at"]):
+            raise StoreError(f"damaged: reading {row['id']} is stored with the time {row['taken_at']!r}, not an "
+                             f"ISO 8601 time; forget it with `tellwave history --delete {row['id']}`, or restore "
+                             "the store from a copy", path=str(self.path))
+
     def history(self, machine: str, point: str | None = None) -> list[dict]:
         """One row per stored channel of ``machine`` (at ``point``), oldest first, with every
         indicator of that channel under ``indicators``; a channel whose scale was not trusted
@@ -353,6 +361,8 @@ class Store:
             sql += " AND c.point = ?"
             args.append(point)
         rows = [dict(r) for r in self.db.execute(sql + " ORDER BY r.taken_at, r.id", args)]
+        for r in rows:
+            self._check_time(r)
         values: dict = {}
         ids = {r["id"] for r in rows}
         for r in self.db.execute("SELECT i.reading_id, i.channel, i.name, i.value FROM indicators i"
@@ -394,6 +404,14 @@ def _expected_tables(version: int) -> dict[str, frozenset]:
         return {n: frozenset(r[1] for r in db.execute(f"PRAGMA table_info({n})")) for n in names}
     finally:
         db.close()
+
+
+def _iso_time(value) -> bool:
+    try:
+        datetime.fromisoformat(value)
+    except (TypeError, ValueError):
+        return False
+    return True
 
 
 def _finite_row(cursor, row):

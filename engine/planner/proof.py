@@ -89,7 +89,8 @@ def record(x: np.ndarray, fs_hz: float, settings: Settings, start_s: float = PAD
     if settings.fmax_hz < 0.499 * fs:
         sos = signal.ellip(ANTI_ALIAS["order"], ANTI_ALIAS["ripple_db"], ANTI_ALIAS["stop_db"],
                            settings.fmax_hz, btype="low", output="sos", fs=fs)
-        y = signal.sosfiltfilt(sos, y)
+        if len(y) > 1:      # a record of a few samples (a very slow setting in a short window) is still one
+            y = signal.sosfiltfilt(sos, y, padlen=min(3 * (2 * len(sos) + 1), len(y) - 1))
     first = int(round(start_s * fs))
     return y[first:first + settings.n_samples], fs
 

@@ -13,7 +13,7 @@ import math
 from dataclasses import asdict, dataclass
 
 from ..errors import UsageError
-from ..readings.limits import MAX_SAMPLE_RATE_HZ, sample_limit
+from ..readings.limits import MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
 from .policy import Policy
 
 
@@ -78,6 +78,9 @@ def given_settings(policy: Policy, fmax_hz: float | None = None, lines: int | No
     fmax = fmax_hz if fmax_hz is not None else fs / k
     if fmax > fs / 2:
         raise UsageError(f"Fmax {fmax:g} Hz lies above half the sample rate ({fs / 2:g} Hz)")
+    if fs < MIN_SAMPLE_RATE_HZ:
+        raise UsageError(f"a sample rate of {fs:g} Hz (Fmax {fmax:g} Hz) is less than a reading may have "
+                         f"({MIN_SAMPLE_RATE_HZ:g} Hz, Fmax {MIN_SAMPLE_RATE_HZ / k:g} Hz)")
     if fs > MAX_SAMPLE_RATE_HZ:
         raise UsageError(f"a sample rate of {fs:g} Hz (Fmax {fmax:g} Hz) is more than any vibration recorder "
                          f"takes ({MAX_SAMPLE_RATE_HZ:g} Hz, Fmax {MAX_SAMPLE_RATE_HZ / k:g} Hz)")

@@ -121,7 +121,7 @@ def load_route(path) -> Route:
     machines = {k: _absolute(base / v) for k, v in doc.data.get("machines", {}).items()}
     clock = _clock(doc.data.get("clock"), path)
     for key, file in machines.items():
-        if not Path(file).is_file():
+        if not os.path.isfile(file):
             raise RouteError(f"machines.{key}: no such machine file {file}", path=path,
                              line=doc.line_of(["machines", key]))
     tasks = []
@@ -133,7 +133,7 @@ def load_route(path) -> Route:
         _check_path(item["machine"], where + ["machine"], doc, path)
         resolved = tuple(_absolute(base / f) for f in files)
         machine = machines.get(item["machine"]) or _absolute(base / item["machine"])
-        if not Path(machine).is_file():
+        if not os.path.isfile(machine):
             raise RouteError(f"readings.{i}.machine: {item['machine']!r} is neither a name under machines: "
                              "nor a machine file", path=path, line=doc.line_of(where + ["machine"]))
         options = {k: item[k] for k in ("speed_rpm", "sample_rate_hz", "unit") if k in item}
@@ -153,12 +153,12 @@ def load_folder(folder, plant_file) -> Route:
     if not folder.is_dir():
         raise RouteError("no such folder of readings", path=str(folder))
     base = Path(_absolute(Path(plant_file).parent))
-    files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and p.is_file())
+    files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and os.path.isfile(p))
     tasks, taken = [], {}
     for m, entry in enumerate(doc.data["machines"]):
         _check_path(entry["file"], ["machines", m, "file"], doc, plant_file)
         machine = _absolute(base / entry["file"])
-        if not Path(machine).is_file():
+        if not os.path.isfile(machine):
             raise RouteError(f"machines.{m}.file: no such machine file {machine}", path=plant_file,
                              line=doc.line_of(["machines", m, "file"]))
         for p in files:

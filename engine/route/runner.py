@@ -212,6 +212,17 @@ def _dask(tasks, settings, scheduler, outcome):
             yield result
 
 
+def check_outputs(route, out_dir, fmt: str, inputs) -> dict:
+    """Every file a route will write (each reading's report, the summaries), checked against what it
+    reads before anything is opened or diagnosed; the reports' paths by task index."""
+    from ..outfile import check_target
+
+    reports = report_paths(route, Path(out_dir), fmt)
+    for path in [*reports.values(), *summary_paths(Path(out_dir)).values()]:
+        check_target(path, inputs)
+    return reports
+
+
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
               again: bool = False, fmt: str = "html", plots: bool = False, site=(),
               progress: bool = False, made_at: str | None = None, inputs=None) -> RouteOutcome:
@@ -225,16 +236,14 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
     with its key (``history.record.reading_key``: files, machine, how the
     route reads them, rulebooks) is stored.
     """
-    from ..outfile import check_target, known_inputs
+    from ..outfile import known_inputs
     from ..report import write_atomically
     from ..report.document import report_time
 
     start = time.perf_counter()
     out_dir = Path(out_dir)
     inputs = known_inputs(inputs if inputs is not None else run_inputs(route, store, site))
-    reports = report_paths(route, out_dir, fmt)
-    for path in [*reports.values(), *summary_paths(out_dir).values()]:
-        check_target(path, inputs)
+    reports = check_outputs(route, out_dir, fmt, inputs)
     rules = rulebooks_hash(tuple(site))
     recordings = {t.index: content_hash(t.files) for t in route.tasks}
     hashes = {t.index: reading_key(t.files, t.machine_file, {"points": t.points, **t.options}, rules)

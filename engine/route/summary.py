@@ -131,5 +131,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
 
 
 def _pct(certainty) -> int:
-    """A stored certainty in percent; one the store could not give (read as None) counts as none."""
-    return 0 if certainty is None else round(100 * max(certainty, 0))
+    """A stored certainty in percent; one the store could not give (None, text) counts as none."""
+    if isinstance(certainty, bool) or not isinstance(certainty, (int, float)):     # text in a damaged store
+        return 0
+    return round(100 * max(certainty, 0))

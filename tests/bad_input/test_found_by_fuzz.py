@@ -1,0 +1,103 @@
+"""Reproducers of what ``python -m bench.fuzz`` found over 10,000 inputs after the hostile-use
+fixes landed together: each was a traceback, and each is now one line and a clean exit."""
+
+from __future__ import annotations
+
+import shutil
+import sqlite3
+
+import numpy as np
+import pytest
+import yaml
+
+from engine.cli import main
+from support import CASES
+
+PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"
+NAME = "RW-2 raw water pump"
+
+
+def _one_line(capsys) -> str:
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "Traceback" not in err, err
+    return err
+
+
+@pytest.fixture(scope="module")
+def stored(tmp_path_factory):
+    from engine.machine import load_machine
+    from engine.synth import simulate, write_simulation
+
+    folder = tmp_path_factory.mktemp("found")
+    sim = simulate(load_machine(PUMP), "unbalance", "pump", 2, fs_hz=12800.0, duration_s=1.0, seed=5, points=["P1H"])
+    write_simulation(sim, folder / "r.wav")
+    assert main(["diagnose", str(folder / "r.wav"), "--machine", str(PUMP), "--store", str(folder / "h.sqlite"),
+                 "--format", "json", "-o", str(folder / "first.json")]) in (0, 7)
+    return folder
+
+
+@pytest.mark.parametrize("argv", [
+    ["plan", PUMP, "--no-proof", "--fmax", "1000", "--lines", "400", "-o", "{d}/nul\0.txt"],
+    ["trend", NAME, "--store", "{d}/h.sqlite", "--format", "json", "-o", "{d}/nul\0.txt"],
+    ["diagnose", "{d}/r.wav", "--machine", PUMP, "--format", "md", "-o", "{d}/nul\0.md"],
+    ["synth", PUMP, "--duration", "0.5", "-o", "{d}/nul\0.wav"],
+], ids=["plan", "trend", "diagnose", "synth"])
+def test_an_output_name_holding_a_nul_is_a_usage_error(stored, capsys, argv):
+    argv = [str(a).replace("{d}", str(stored)) for a in argv]
+    assert main(argv) == 2
+    assert "NUL" in _one_line(capsys)
+
+
+def test_a_route_output_folder_holding_a_nul_is_a_usage_error(tmp_path, capsys):
+    route = tmp_path / "route.yaml"
+    route.write_text(yaml.safe_dump({"route": "r", "machines": {"rw2": str(PUMP)},
+                                     "readings": [{"file": "r.wav", "machine": "rw2"}]}))
+    assert main(["route", str(route), "--out", str(tmp_path / "out\0x"), "--store", str(tmp_path / "s.sqlite"),
+                 "--quiet"]) == 2
+    assert "NUL" in _one_line(capsys)
+    assert not (tmp_path / "s.sqlite").exists()
+
+
+def test_a_stored_time_that_is_not_iso_is_a_damaged_store(stored, tmp_path, capsys):
+    store = tmp_path / "h.sqlite"
+    shutil.copy(stored / "h.sqlite", store)
+    with sqlite3.connect(store) as db:
+        db.execute("UPDATE readings SET taken_at = 'x'")
+    db.close()
+    assert main(["trend", NAME, "--store", str(store), "--format", "json"]) == 8
+    line = _one_line(capsys)
+    assert "'x'" in line and "--delete" in line
+
+
+@pytest.mark.parametrize("name", ["route", "plant"])
+def test_a_machine_file_whose_name_the_system_cannot_hold_is_a_route_error(tmp_path, capsys, name):
+    long = "a" * 400 + ".yaml"
+    if name == "route":
+        np.save(tmp_path / "p1h.npy", np.zeros(16))
+        route = tmp_path / "route.yaml"
+        route.write_text(yaml.safe_dump({"route": "r", "machines": {"rw2": long},
+                                         "readings": [{"file": "p1h.npy", "machine": "rw2"}]}))
+        argv = ["route", str(route)]
+    else:
+        (tmp_path / "readings").mkdir()
+        np.save(tmp_path / "readings" / "p1h.npy", np.zeros(16))
+        plant = tmp_path / "plant.yaml"
+        plant.write_text(yaml.safe_dump({"machines": [{"file": long, "patterns": ["*.npy"]}]}))
+        argv = ["route", str(tmp_path / "readings"), "--plant", str(plant)]
+    code = main([*argv, "--out", str(tmp_path / "out"), "--store", str(tmp_path / "s.sqlite"), "--quiet"])
+    assert code == 2
+    _one_line(capsys)
+
+
+def test_plan_refuses_a_sample_rate_no_reading_may_have(capsys):
+    assert main(["plan", str(PUMP), "--rpm", "2000", "--fmax", "1e-3", "--lines", "1", "--no-proof",
+                 "--format", "json"]) == 2
+    assert "less than a reading may have" in _one_line(capsys)
+
+
+def test_plan_draws_an_impact_with_a_setting_that_leaves_it_a_few_samples(tmp_path, capsys):
+    """Fmax 10 Hz: a 0.3 s impact window holds 8 samples, fewer than the anti-alias filter's padding."""
+    out = tmp_path / "plan.html"
+    assert main(["plan", str(PUMP), "--fmax", "10", "--lines", "12800", "--no-proof", "--format", "html",
+                 "-o", str(out)]) == 0
+    assert "<svg" in out.read_text()
