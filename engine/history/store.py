@@ -482,14 +482,14 @@ class _Connection:
         try:
             cur = self.raw.execute(sql, args)
             return _Result(cur.fetchall(), cur.lastrowid, cur.rowcount)
-        except (sqlite3.Error, OverflowError) as exc:
+        except (sqlite3.Error, OverflowError, UnicodeDecodeError) as exc:
             raise _store_error(exc, self.path) from None
 
     def executemany(self, sql: str, rows) -> _Result:
         try:
             cur = self.raw.executemany(sql, rows)
             return _Result([], cur.lastrowid, cur.rowcount)
-        except (sqlite3.Error, OverflowError) as exc:
+        except (sqlite3.Error, OverflowError, UnicodeDecodeError) as exc:
             raise _store_error(exc, self.path) from None
 
     def close(self) -> None:

@@ -101,3 +101,14 @@ def test_plan_draws_an_impact_with_a_setting_that_leaves_it_a_few_samples(tmp_pa
     assert main(["plan", str(PUMP), "--fmax", "10", "--lines", "12800", "--no-proof", "--format", "html",
                  "-o", str(out)]) == 0
     assert "<svg" in out.read_text()
+
+
+def test_text_that_is_not_utf8_in_a_store_is_a_damaged_store(stored, tmp_path, capsys):
+    """Random bytes written over a page can leave a text value that is not UTF-8."""
+    store = tmp_path / "h.sqlite"
+    shutil.copy(stored / "h.sqlite", store)
+    with sqlite3.connect(store) as db:
+        db.execute("UPDATE channels SET point = CAST(X'ff41fe' AS TEXT)")
+    db.close()
+    assert main(["trend", NAME, "--store", str(store), "--format", "html", "-o", str(tmp_path / "t.html")]) == 8
+    assert "not a usable history store" in _one_line(capsys)
