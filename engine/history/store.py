@@ -331,9 +331,11 @@ class Store:
         rows = [dict(r) for r in self.db.execute(sql + " ORDER BY r.taken_at, r.id", args)]
         points = {}
         for r in self.db.execute("SELECT reading_id, point FROM channels ORDER BY reading_id, channel"):
-            points.setdefault(r[0], []).append(r[1] or "")
+            points.setdefault(r[0], []).append(str(r[1] or ""))
         for r in rows:
             r["points"] = points.get(r["id"], [])
+            if not (_number(r["top_certainty"]) and -1.0 <= r["top_certainty"] <= 1.0):    # damaged: no certainty
+                r["top_certainty"] = None
         return rows
 
     def reading(self, reading_id: int) -> dict | None:
@@ -389,8 +391,13 @@ class Store:
         return self.db.execute("PRAGMA integrity_check").fetchone()[0]
 
 
+LARGEST_INDICATOR = 1e12    # kurtosis of one spike in 2^22 samples is about 4e6; no mm/s, g or dB comes near
+
+
 def _number(value) -> bool:
-    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+    """Whether a stored indicator value is one a reading can give (a damaged store holds text, inf, 1e308)."""
+    return (isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+            and abs(value) <= LARGEST_INDICATOR)
 
 
 @lru_cache(maxsize=None)

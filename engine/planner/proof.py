@@ -24,7 +24,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from ..errors import TellwaveError, UsageError
+from ..errors import ReadingError, TellwaveError, UsageError
 from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
 from ..machine import Machine, Point
 from .check import CAN, CANNOT
@@ -126,8 +126,11 @@ def _reference(x, fs, machine, point, speed_rpm, policy) -> Reference:
 
 def _facts(machine, sim, samples, fs):
     from ..evidence import extract_evidence
+    from ..readings import MIN_SAMPLES
     from ..synth import Simulation, as_reading
 
+    if len(samples) < MIN_SAMPLES:      # what a reader refuses in a file, the proof refuses here
+        raise ReadingError(f"holds only {len(samples)} samples; the analysis needs at least {MIN_SAMPLES}")
     rec = Simulation(fs, {name: samples for name in sim.channels}, sim.points, sim.truth, sim.speed_rpm, {})
     return extract_evidence(as_reading(rec, source="simulated record"), machine)
 

@@ -36,8 +36,7 @@ __all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", 
 
 def sidecar_path(path) -> Path:
     """Where the sidecar of a reading lives: ``pump.wav`` -> ``pump.wav.yaml``."""
-    p = Path(path)
-    return p.with_name(p.name + ".yaml")
+    return Path(str(Path(path)) + ".yaml")     # "/" has no name to extend; its sidecar would be "/.yaml"
 
 
 def _read_sidecar(path) -> dict:

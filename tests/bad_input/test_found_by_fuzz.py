@@ -112,3 +112,35 @@ def test_text_that_is_not_utf8_in_a_store_is_a_damaged_store(stored, tmp_path, c
     db.close()
     assert main(["trend", NAME, "--store", str(store), "--format", "html", "-o", str(tmp_path / "t.html")]) == 8
     assert "not a usable history store" in _one_line(capsys)
+
+
+def test_values_no_reading_gives_are_no_values_in_history_and_trend(stored, tmp_path, capsys):
+    """An indicator of 1e308 (finite, but its median overflows) and a certainty stored as text."""
+    store = tmp_path / "h.sqlite"
+    shutil.copy(stored / "h.sqlite", store)
+    with sqlite3.connect(store) as db:
+        db.execute("UPDATE indicators SET value = 1e308")
+        db.execute("UPDATE hypotheses SET certainty = 'high'")
+    db.close()
+    assert main(["history", NAME, "--store", str(store)]) == 0
+    assert "high" not in capsys.readouterr().out
+    code = main(["trend", NAME, "--store", str(store), "--format", "text"])
+    out, err = capsys.readouterr()
+    assert code in (0, 2) and "Traceback" not in err and "1e+308" not in out
+
+
+def test_a_route_reading_named_root_is_a_failed_reading_not_a_traceback(tmp_path, capsys):
+    route = tmp_path / "route.yaml"
+    route.write_text(yaml.safe_dump({"route": "r", "machines": {"rw2": str(PUMP)},
+                                     "readings": [{"file": "/", "machine": "rw2", "points": {"ch1": "P1H"}}]}))
+    code = main(["route", str(route), "--out", str(tmp_path / "out"), "--store", str(tmp_path / "s.sqlite"),
+                 "--quiet", "--workers", "1"])
+    assert code in (2, 9)
+    assert "Traceback" not in capsys.readouterr().err
+
+
+def test_plan_proof_of_a_record_shorter_than_the_analysis_needs_says_so(capsys):
+    """100 samples (1 s at 100 Hz) is less than MIN_SAMPLES: the proof's trial cannot be analysed."""
+    assert main(["plan", str(PUMP), "--rpm", "1486", "--duration", "1", "--sample-rate", "100", "--point", "P1H",
+                 "--format", "json"]) == 0
+    assert "cannot be analysed" in capsys.readouterr().out
