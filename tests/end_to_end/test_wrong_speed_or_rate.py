@@ -4,9 +4,9 @@ Source of the records and their labels: the CWRU Bearing Data Center, records 13
 0.007 in, drive end, 1796 rpm) and 105 (inner race, 0.007 in, drive end, 1797 rpm), 12 kHz, and
 the MFPT Society's OuterRaceFault_vload_1 (outer race, 25 Hz shaft, 48 828 S/s); the excerpts in
 tests/data (provenance in tests/data/README.md). Each is stored again stating its speed 20 %
-high or low (a wrong tach reading or sidecar) or its sample rate 1.1 or 2 times the true rate
+high or low (a wrong tach reading or sidecar) or its sample rate 1.1, 2 or 0.5 times the true rate
 (a wrong recorder setting; the samples are untouched, so every frequency reads that much too
-high), and diagnosed through the command line. A wrong stated value can only mislead: the
+high or low), and diagnosed through the command line. A wrong stated value can only mislead: the
 diagnosis must be withheld (exit code 7, README "Exit codes") or call nothing but the label's
 fault at 50 % or more. Where the spectrum shows the shaft's own family away from the stated
 speed, the report says so and says what to check (a tachometer or strobe, the sample rate).
@@ -33,7 +33,8 @@ RECORDS = {
     "mfpt-OuterRaceFault_vload_1": ("mfpt-rig.yaml", ("outer-race", "test_bearing")),
 }
 WRONG = {"speed x1.2": ("speed_rpm", 1.2), "speed x0.8": ("speed_rpm", 0.8),
-         "rate x1.1": ("sample_rate_hz", 1.1), "rate x2": ("sample_rate_hz", 2.0)}
+         "rate x1.1": ("sample_rate_hz", 1.1), "rate x2": ("sample_rate_hz", 2.0),
+         "rate x0.5": ("sample_rate_hz", 0.5)}
 
 
 def stated_wrong(tmp_path, record: str, key: str, factor: float):
@@ -84,3 +85,25 @@ def test_the_true_speed_and_rate_raise_no_doubt(capsys, record):
     assert (doc["hypotheses"][0]["fault"], doc["hypotheses"][0]["component"]) == label
     text = json.dumps(doc)
     assert "family-elsewhere" not in text
+    assert "reading.speed.no-one-x" not in text and "reading.speed.half-order" not in text
+
+
+def test_a_rate_stated_twice_leaves_1x_empty_and_withholds(tmp_path, capsys):
+    # CWRU 130 at 1796 rpm: stated at twice its rate its true 1X (29.9 Hz) reads at 59.9 Hz, beside the 60 Hz
+    # line frequency, and nothing stands at the stated 1X (residual unbalance always gives one: common practice)
+    code, doc = diagnosed(stated_wrong(tmp_path, "cwru-130", "sample_rate_hz", 2.0), "cwru-motor.yaml", capsys)
+    assert code == EXIT_WITHHELD
+    text = json.dumps(doc)
+    assert "reading.speed.no-one-x" in text
+    assert "tachometer" in text and "sample rate" in text
+
+
+@pytest.mark.parametrize("record", ["cwru-130", "cwru-105"])
+def test_a_rate_stated_half_shows_the_whole_half_order_series_and_withholds(tmp_path, capsys, record):
+    # stated at half its rate every frequency reads halved: the machine's 1X, 3X, 5X .. at 0.5X, 1.5X, 2.5X ..
+    machine, _ = RECORDS[record]
+    code, doc = diagnosed(stated_wrong(tmp_path, record, "sample_rate_hz", 0.5), machine, capsys)
+    assert code == EXIT_WITHHELD
+    text = json.dumps(doc)
+    assert "reading.speed.half-order-family" in text
+    assert "tachometer" in text and "sample rate" in text

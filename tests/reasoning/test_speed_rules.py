@@ -107,3 +107,45 @@ def test_a_shaft_family_away_from_the_stated_speed_contradicts_it(reasoner, line
     if withheld:
         text = found["rate-contradicted"].support[0].because
         assert "tachometer" in text and "sample rate" in text and "1635" in text
+
+
+@pytest.mark.parametrize("one_x_found, near_db, stated_rpm, contradicted", [
+    (False, 0.0, 1486.0, True),      # nothing at 1X anywhere: a rate stated 2x, or a speed stated far off
+    (False, 0.0, 600.0, True),       # 1X at 10 Hz, the low edge of the ISO 20816-3 band above 600 r/min
+    (False, 0.0, 570.0, False),      # a slow shaft: its 1X may not stand in an accelerometer's spectrum
+    (False, 0.0, 0.0, False),        # no stated speed: nothing stated can be contradicted
+    (True, 0.0, 1486.0, False),      # 1X stands at the speed the spectrum gives (within 5 % of the stated)
+    (False, 12.0, 1486.0, False),    # a line stands near the stated 1X: the speed search missed it, not the machine
+])
+def test_no_line_at_1x_anywhere_contradicts_the_stated_speed_or_rate(reasoner, one_x_found, near_db, stated_rpm,
+                                                                     contradicted):
+    # residual unbalance puts a 1X line on every running machine (common practice; rulebooks/reading.yaml)
+    found = problems(reasoner, one_x_found=one_x_found, near_one_x_db=near_db, stated_rpm=stated_rpm,
+                     odd_order_lines=0, near_family_lines=0)
+    assert ("rate-contradicted" in found) is contradicted
+    if contradicted:
+        h = found["rate-contradicted"]
+        assert h.withholds
+        text = " ".join(f.because for f in h.support)
+        assert "No line stands at 1X" in text and f"{stated_rpm:.0f} rpm" in text
+        assert "tachometer" in text and "sample rate" in text
+
+
+@pytest.mark.parametrize("lines, ratio, contradicted", [
+    (5, 1.0, True), (5, 1.5, True),  # the whole half-order series, 0.5X at least as tall as 1X: a rate stated half
+    (5, 0.9, False),                 # the whole series but below 1X: looseness or a rub answering 1X
+    (4, 1.2, False),                 # four half orders, 0.5X below twice 1X: not enough to doubt the rate
+    (3, 2.0, True), (3, 2.75, True),  # 0.5X twice 1X with two more half orders
+    (2, 3.0, False),                 # one half order beside 0.5X: too little (a line 10x its floor is asked then)
+    (3, 1.9, False),
+])
+def test_half_orders_with_0_5x_over_1x_contradict_the_stated_rate(reasoner, lines, ratio, contradicted):
+    # the half orders of rotating looseness stay below 1X (common practice; on the real records of
+    # bench/real_data.py at their true speed 0.5X reaches 0.11 of 1X)
+    found = problems(reasoner, half_order_lines=lines, half_to_one_x=ratio, half_x_snr_db=15.0)
+    assert ("rate-contradicted" in found) is contradicted
+    if contradicted:
+        h = found["rate-contradicted"]
+        assert h.withholds
+        text = " ".join(f.because for f in h.support)
+        assert f"{ratio:.2f}".rstrip("0").rstrip(".") in text and "sample rate" in text and "tachometer" in text
