@@ -65,9 +65,8 @@ from .compile import PHASE_KIND, compile_ruleset, plan_rulesets, tally_slot
 from .differential import differential
 from .explaining import Claim, share
 from .findings import Firing, Hypothesis, Reasoning, SignLoss
-from .rulebook import SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Rulebook
+from .rulebook import LARGEST_NUMBER, SMALLEST_NUMBER, TALLY_KIND, FaultChoice, Ref, Rule, Rulebook
 
-LARGEST_NUMBER = 1e15
 RULESET = "tellwave"
 # Bounds on one reading's forward chaining. The shipped rulebooks with the demo site overlay fire at
 # most 261 times on a demo case, 369 over bench.confusion --quick and 63 on the real records of
