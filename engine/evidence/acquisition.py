@@ -13,8 +13,8 @@ samples / 2.56.
 from __future__ import annotations
 
 from ..analysis import Analysis
+from ..readings.length import FMAX_FACTOR
 
-FMAX_FACTOR = 2.56
 SEPARATED = {"1X", "2xLF", "GMF", "vane pass", "blade pass", "belt pass"}
 
 

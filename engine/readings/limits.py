@@ -29,12 +29,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..errors import ReadingError
+from .length import FMAX_FACTOR
 
 MAX_SAMPLES_PER_CHANNEL = 1 << 22
 FULL_LENGTH_CHANNELS = 2
 MAX_CHANNELS = 256
 MAX_FILE_BYTES = 1 << 30           # 1 GiB on disk
-MIN_SAMPLE_RATE_HZ = 2.56 * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
+MIN_SAMPLE_RATE_HZ = FMAX_FACTOR * 2.0    # Fmax must reach 2 Hz, the bottom of the ISO 20816-3 band for slow machines
 MAX_SAMPLE_RATE_HZ = 10e6          # no vibration recorder samples faster: a unit slip (Hz for kHz...)
 RAISE_HINT = "cut the record, or raise the limit with --max-samples"
 
