@@ -191,6 +191,19 @@ class Rates:
         return [z for m in self.meshes if (z := m.teeth_on(shaft)) is not None]
 
 
+def mesh_rates(gear, speeds_hz: Mapping[str, float]) -> MeshRates:
+    """GMF, hunting tooth and assembly phase passing frequencies of one mesh, Hz."""
+    gmf = gear.driving_teeth * speeds_hz[gear.driving_shaft]
+    common = math.gcd(gear.driving_teeth, gear.driven_teeth)
+    return MeshRates(gear.id, gear.driving_shaft, gear.driven_shaft, gear.driving_teeth, gear.driven_teeth, gmf,
+                     gmf * common / (gear.driving_teeth * gear.driven_teeth), gmf / common if common > 1 else None)
+
+
+def belt_pass_hz(belt, speeds_hz: Mapping[str, float]) -> float:
+    """Belt pass frequency, Hz: belt speed over belt length."""
+    return math.pi * belt.driving_diameter_mm * speeds_hz[belt.driving_shaft] / belt.belt_length_mm
+
+
 def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
     """Every rate of ``machine`` with its shafts at ``speeds_hz`` (Hz, by shaft id)."""
     bearings = []
@@ -199,13 +212,7 @@ def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
         m = bearing_multiples(b)
         bearings.append(BearingRates(b.id, b.shaft, fr, m["bpfo"] * fr, m["bpfi"] * fr, m["bsf"] * fr,
                                      m["ftf"] * fr))
-    meshes = []
-    for g in machine.gears:
-        gmf = g.driving_teeth * speeds_hz[g.driving_shaft]
-        common = math.gcd(g.driving_teeth, g.driven_teeth)
-        meshes.append(MeshRates(g.id, g.driving_shaft, g.driven_shaft, g.driving_teeth, g.driven_teeth, gmf,
-                                gmf * common / (g.driving_teeth * g.driven_teeth),
-                                gmf / common if common > 1 else None))
+    meshes = [mesh_rates(g, speeds_hz) for g in machine.gears]
     motors = []
     for mot in machine.motors:
         fr = speeds_hz[mot.shaft]
@@ -214,9 +221,7 @@ def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
         motors.append(MotorRates(mot.id, mot.shaft, mot.line_frequency_hz, 2 * mot.line_frequency_hz, sync_hz,
                                  slip_hz, pole_pass_hz(mot.line_frequency_hz, mot.poles, fr),
                                  mot.rotor_bars * fr if mot.rotor_bars else None))
-    belts = [BeltRates(b.id, b.driving_shaft, b.driven_shaft,
-                       math.pi * b.driving_diameter_mm * speeds_hz[b.driving_shaft] / b.belt_length_mm)
-             for b in machine.belts]
+    belts = [BeltRates(b.id, b.driving_shaft, b.driven_shaft, belt_pass_hz(b, speeds_hz)) for b in machine.belts]
     rotors = [RotorRates(r.id, r.shaft, r.type, r.vanes, r.vanes * speeds_hz[r.shaft]) for r in machine.rotors]
     return Rates(dict(speeds_hz), tuple(bearings), tuple(meshes), tuple(motors), tuple(belts), tuple(rotors))
 

@@ -38,7 +38,7 @@ import numpy as np
 import yaml
 
 from .errors import UsageError
-from .kinematics import MAX_LINE_FED_SLIP, bearing_multiples, pole_pass_hz
+from .kinematics import MAX_LINE_FED_SLIP, bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz
 from .machine import Machine, Point
 from .outfile import check_target, staged, write_whole
 from .units import STANDARD_GRAVITY_M_S2
@@ -220,7 +220,7 @@ def _healthy(m: _Model, point: Point, resonance_hz: float) -> np.ndarray:
         x += near * m.shaft_tone(shaft, 2, 0.2, 2 * ph + 0.3)
         x += near * m.shaft_tone(shaft, 3, 0.08, 3 * ph + 0.7)
     for g in m.machine.gears:
-        gmf = g.driving_teeth * m.speeds[g.driving_shaft]
+        gmf = mesh_rates(g, m.speeds).gmf_hz
         near = 1.0 if point.shaft in (g.driving_shaft, g.driven_shaft) else 0.3
         x += near * m.tone(gmf, 0.08 * G, m.rng.uniform(0, 6.3))
         x += near * m.tone(2 * gmf, 0.03 * G, m.rng.uniform(0, 6.3))
@@ -277,7 +277,7 @@ def _gear_fault(m: _Model, fault: str, mesh_id: str, stage: int, resonance_hz: f
 
     g = next(gg for gg in m.machine.gears if gg.id == mesh_id)
     f_in, f_out = m.speeds[g.driving_shaft], m.speeds[g.driven_shaft]
-    gmf = g.driving_teeth * f_in
+    gmf = mesh_rates(g, m.speeds).gmf_hz
     # the faulty gear's speed and tooth count
     f_gear, teeth = (f_in, g.driving_teeth) if gear_side == "driving" else (f_out, g.driven_teeth)
     t = m.t
@@ -480,7 +480,7 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
             x += _shaft_fault(model, fault, shaft, p, stage, 1.0) * (1.0 if p.at == component else 0.15)
         elif fault == "belt":
             belt = next(b for b in machine.belts if b.id == component)
-            bpf = math.pi * belt.driving_diameter_mm * speeds[belt.driving_shaft] / belt.belt_length_mm
+            bpf = belt_pass_hz(belt, speeds)
             gain = 1.0 if near else 0.3
             for k, v in ((1, 1.2), (2, 2.0), (3, 0.8), (4, 0.4)):
                 x += gain * stage * model.tone(k * bpf, _velocity_tone_accel(v, k * bpf), rng.uniform(0, 6.3))

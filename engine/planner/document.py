@@ -3,9 +3,8 @@ settings, the proof by simulation and the figures. Templates and JSON read only 
 
 from __future__ import annotations
 
-import math
 
-from ..kinematics import forcing_frequencies
+from ..kinematics import forcing_frequencies, mesh_rates
 from ..machine import Machine, Point
 from .check import CANNOT, check, frequencies_above, verdicts
 from .needs import ring_down_s
@@ -67,10 +66,9 @@ def _counts(machine: Machine, given: Settings, policy: Policy, speeds: dict) -> 
                                                     f"{given.sample_rate_hz / hz:.0f} samples per turn"}
             for shaft, hz in speeds.items()]
     for g in machine.gears:
-        gmf = g.driving_teeth * speeds[g.driving_shaft]
-        f_ht = gmf * math.gcd(g.driving_teeth, g.driven_teeth) / (g.driving_teeth * g.driven_teeth)
-        rows.append({"what": f"mesh {g.id}", "value": f"{given.duration_s * f_ht:.2f} hunting-tooth periods, "
-                                                      f"{given.sample_rate_hz / gmf:.1f} samples on one tooth impact"})
+        mesh = mesh_rates(g, speeds)
+        rows.append({"what": f"mesh {g.id}", "value": f"{given.duration_s * mesh.htf_hz:.2f} hunting-tooth periods, "
+                                                      f"{given.sample_rate_hz / mesh.gmf_hz:.1f} samples on one tooth impact"})
     if machine.bearings:
         lo, hi = policy.bearing_resonance_hz
         where = ("under Fmax" if hi <= given.fmax_hz else "partly above Fmax" if lo < given.fmax_hz

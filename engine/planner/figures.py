@@ -12,6 +12,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from ..kinematics import mesh_rates
 from ..report import svg
 from ..units import STANDARD_GRAVITY_M_S2 as G
 from .proof import PAD_S, physical_rate, record, simulate_target
@@ -24,7 +25,7 @@ def _window_s(machine, target, speeds) -> tuple[float, float]:
     """Time before and after an impact to show, s."""
     if target.purpose == "gear":
         g = next(gg for gg in machine.gears if gg.id == target.component)
-        mesh_period = 1 / (g.driving_teeth * speeds[g.driving_shaft])
+        mesh_period = 1 / mesh_rates(g, speeds).gmf_hz
         return 2 * mesh_period, 4 * mesh_period
     return 0.5e-3, 4e-3
 

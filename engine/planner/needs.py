@@ -21,7 +21,7 @@ from dataclasses import dataclass, field
 
 from ..evidence._match import SLIP_TOLERANCE
 from ..evidence.envelope import HARMONICS, shared_lines
-from ..kinematics import bearing_multiples, pole_pass_hz, rates_at
+from ..kinematics import bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz, rates_at
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
@@ -119,7 +119,7 @@ def _strong_lines(machine: Machine, point: Point, speeds: dict, policy: Policy) 
     fr = speeds[point.shaft]
     out = [(f"{h['shaft']} x 1X of {point.shaft}", h["shaft"] * fr)]
     for g in meshes_at(machine, point):
-        gmf = g.driving_teeth * speeds[g.driving_shaft]
+        gmf = mesh_rates(g, speeds).gmf_hz
         fast = max(speeds[g.driving_shaft], speeds[g.driven_shaft])
         out.append((f"{h['mesh']} x GMF of {g.id} with sidebands", h["mesh"] * gmf + h["mesh_sidebands"] * fast))
     for r in machine.rotors:
@@ -127,7 +127,7 @@ def _strong_lines(machine: Machine, point: Point, speeds: dict, policy: Policy) 
             out.append((f"3 x vane pass of {r.id}", 3 * r.vanes * speeds[r.shaft]))
     for b in machine.belts:
         if point.shaft in (b.driving_shaft, b.driven_shaft):
-            bpf = math.pi * b.driving_diameter_mm * speeds[b.driving_shaft] / b.belt_length_mm
+            bpf = belt_pass_hz(b, speeds)
             out.append((f"4 x belt pass of {b.id}", 4 * bpf))
     for m in motors_at(machine, point):
         out.append((f"2 x twice line frequency of {m.id}", 4 * m.line_frequency_hz))
@@ -251,7 +251,8 @@ def _gear(machine, point, speeds, policy, targets):
     sep = policy.separation_lines
     h = policy.harmonics
     for g in meshes_at(machine, point):
-        gmf = g.driving_teeth * speeds[g.driving_shaft]
+        mesh = mesh_rates(g, speeds)
+        gmf = mesh.gmf_hz
         shafts = {g.driving_shaft: speeds[g.driving_shaft], g.driven_shaft: speeds[g.driven_shaft]}
         fast = max(shafts.values())
         slow_shaft = min(shafts, key=shafts.get)
@@ -297,8 +298,7 @@ def _gear(machine, point, speeds, policy, targets):
                  "enough samples on a tooth impact to see it in the waveform", span_s=1 / gmf,
                  noun="samples on one tooth impact", source="min_samples_per_impact"),
         ]
-        common = math.gcd(g.driving_teeth, g.driven_teeth)
-        f_ht = gmf * common / (g.driving_teeth * g.driven_teeth)
+        f_ht = mesh.htf_hz
         if policy.hunting_tooth_periods > 0:
             needs.append(Need(
                 "gear", "duration", f"{policy.hunting_tooth_periods:g} hunting-tooth period of {g.id} "
