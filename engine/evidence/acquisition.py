@@ -5,8 +5,8 @@ length beside the machine's rates that they must reach (the highest gear
 mesh, pass and race rates, the closest pair of lines to separate, the
 tightest sideband spacing, the slowest shaft). Whether the settings are
 adequate is for the rulebooks to judge (rulebooks/reading.yaml), with limits
-a site can change. Conventions (common practice in analyzer documentation,
-../shared/notes/check-values.md): usable Fmax = sample rate / 2.56; lines =
+a site can change. Conventions (common practice in analyzer documentation):
+usable Fmax = sample rate / 2.56 (``readings.length.FMAX_FACTOR``); lines =
 samples / 2.56.
 """
 

@@ -1,7 +1,7 @@
 """Forward chaining on durable-rules, made safe for one diagnosis after another.
 
-durable-rules 2.0.28 has hazards this layer handles (measured in
-../shared/notes/durable-rules.md; each one has a test in tests/test_reasoning.py):
+durable-rules 2.0.28 has hazards this layer handles (each measured on the
+library by a test in tests/reasoning/test_engine_hazards.py or test_reasoning.py):
 
 - ``Host()`` starts timer threads that may run actions on another thread:
   ``QuietHost`` does not start them, so every assert returns only after all
