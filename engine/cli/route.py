@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._common import add_site_option
+from ._common import add_max_samples_option, add_site_option
 from ._store import add_store_option
 
 
@@ -19,6 +19,7 @@ def register(sub) -> None:
                    help="format of each reading's report (default html); the summary is written in all four")
     p.add_argument("--plots", action="store_true", help="draw the plots in each reading's HTML report")
     p.add_argument("--quiet", action="store_true", help="no progress bar and no summary on the terminal")
+    add_max_samples_option(p)
     add_site_option(p)
     p.set_defaults(run=run)
 
@@ -55,7 +56,8 @@ def run(args) -> int:
         try:
             outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,
                                 again=args.again, fmt=args.format, plots=args.plots, site=args.site or (),
-                                progress=not args.quiet and sys.stderr.isatty(), inputs=inputs)
+                                progress=not args.quiet and sys.stderr.isatty(), inputs=inputs,
+                                max_samples=args.max_samples)
         except KeyboardInterrupt:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)

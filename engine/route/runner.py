@@ -225,7 +225,8 @@ def check_outputs(route, out_dir, fmt: str, inputs) -> dict:
 
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
               again: bool = False, fmt: str = "html", plots: bool = False, site=(),
-              progress: bool = False, made_at: str | None = None, inputs=None) -> RouteOutcome:
+              progress: bool = False, made_at: str | None = None, inputs=None,
+              max_samples: int | None = None) -> RouteOutcome:
     """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``.
 
     Every report of one run says it was made at the run's start (``made_at``,
@@ -258,7 +259,8 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
             queued.add(hashes[t.index])
             todo.append((t, (hashes[t.index], recordings[t.index])))
     settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
-                "store": str(store.path.resolve()), "route_id": route_id, "made_at": made_at or report_time()}
+                "store": str(store.path.resolve()), "route_id": route_id, "made_at": made_at or report_time(),
+                "max_samples": max_samples}
     outcome.workers = workers or os.cpu_count() or 1
     if scheduler:
         outcome.where = f"dask {scheduler}"

@@ -104,7 +104,8 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
         reasoner, advice = _reasoner(tuple(settings.get("site", ())))
         machine = _machine(task.machine_file)
         options = {k: task.options.get(k) for k in ("speed_rpm", "sample_rate_hz", "unit")}
-        reading = combine_readings([load_reading(f, **options) for f in task.files])
+        reading = combine_readings([load_reading(f, **options, max_samples=settings.get("max_samples"))
+                                    for f in task.files])
         reading = _map_points(reading, machine, task.points, task)
         when, origin = taken_at(task, reading, settings.get("clock"))
         link = _history_link(settings, machine, advice, content_hash, when, recording)

@@ -207,3 +207,15 @@ def test_a_summary_over_a_store_holding_an_impossible_certainty_is_written(tmp_p
     assert _run(second, tmp_path, "--again") in (0, 7)
     summary = json.loads((tmp_path / "out" / "summary.json").read_text())
     assert summary
+
+
+def test_route_max_samples_reaches_its_workers(tmp_path, capsys):
+    """``route --max-samples`` bounds each reading as the other reading commands do: a one-second
+    reading of 12,800 samples fails under a limit of 4,096 and is diagnosed under the default."""
+    route = _route(tmp_path / "r" / "route.yaml", [{"file": str(_reading(tmp_path / "r" / "p.wav")),
+                                                    "machine": "rw2", "points": {"P1H": "P1H"},
+                                                    "time": "2026-01-05T08:00:00"}])
+    assert _run(route, tmp_path, "--max-samples", 4096) == 9
+    failures = json.loads((tmp_path / "out" / "summary.json").read_text())["failures"]
+    assert len(failures) == 1 and "4096" in json.dumps(failures)
+    assert _run(route, tmp_path) in (0, 7)
