@@ -344,6 +344,36 @@ class Store:
         row = self.db.execute("SELECT * FROM readings WHERE id = ?", (reading_id,)).fetchone()
         return dict(row) if row else None
 
+    def reading_id_of(self, key: str) -> int | None:
+        """The id of the reading stored under the diagnosis key ``key`` (``record.reading_key``), or None."""
+        row = self.db.execute("SELECT id FROM readings WHERE content_hash = ?", (key,)).fetchone()
+        return row[0] if row else None
+
+    def stored_time(self, key: str, recording: str, machine: str) -> tuple[str, str] | None:
+        """(taken_at, where that time came from) of the same diagnosis, else of the same files of
+        ``machine`` diagnosed another way; None when neither is stored."""
+        row = self.db.execute("SELECT taken_at, time_from FROM readings WHERE content_hash = ? OR"
+                              " (recording_hash = ? AND machine = ?) ORDER BY content_hash = ? DESC",
+                              (key, recording, machine, key)).fetchone()
+        return (row[0], row[1]) if row else None
+
+    def top_hypothesis(self, reading_id: int) -> dict | None:
+        """The first-ranked hypothesis of a stored reading (fault, fault_name, component, certainty);
+        a certainty the store cannot give (damaged: text, inf, outside -1..1) reads as None."""
+        row = self.db.execute("SELECT fault, fault_name, component, certainty FROM hypotheses"
+                              " WHERE reading_id = ? AND rank = 1", (reading_id,)).fetchone()
+        if row is None:
+            return None
+        top = dict(row)
+        if not (_number(top["certainty"]) and -1.0 <= top["certainty"] <= 1.0):
+            top["certainty"] = None
+        return top
+
+    def channels_of(self, reading_id: int) -> list[dict]:
+        """The stored channels of a reading: channel, point, scale_trusted (0: levels not kept)."""
+        return [dict(r) for r in self.db.execute("SELECT channel, point, scale_trusted FROM channels"
+                                                 " WHERE reading_id = ?", (reading_id,))]
+
     def _check_time(self, row) -> None:
         """A stored reading's time must be ISO 8601 (tellwave writes no other); one that is not was
         damaged or written by another program, and a trend through it would be a guess."""

@@ -28,11 +28,9 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
         when, origin = taken_at(task, reading, None)
     advice = load_advice()
     with Store(args.store or default_store_path()) as store:
-        known = store.db.execute("SELECT taken_at, time_from FROM readings WHERE content_hash = ? OR"
-                                 " (recording_hash = ? AND machine = ?) ORDER BY content_hash = ? DESC",
-                                 (digest, recording, machine.name, digest)).fetchone()
+        known = store.stored_time(digest, recording, machine.name)
         if known is not None and origin == "file modified":     # stored before with a better time: keep it
-            when, origin = known[0], known[1]
+            when, origin = known
         link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots,
                            recording_hash=recording)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))

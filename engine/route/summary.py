@@ -62,10 +62,9 @@ def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
     prev = store.previous(machine, first_now)
     best["top_then"] = None
     if prev is not None:
-        top = store.db.execute("SELECT fault_name, component, certainty FROM hypotheses WHERE reading_id = ?"
-                               " AND rank = 1", (prev["id"],)).fetchone()
+        top = store.top_hypothesis(prev["id"])
         if top is not None:
-            best["top_then"] = f"{top[0]} on {top[1]} ({_pct(top[2])} %)"
+            best["top_then"] = f"{top['fault_name']} on {top['component']} ({_pct(top['certainty'])} %)"
     return best
 
 
@@ -75,29 +74,28 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
     urgencies = _urgencies()
     rows, listed = [], set()
     for t in outcome.route.tasks:
-        got = store.db.execute("SELECT id FROM readings WHERE content_hash = ?", (outcome.hashes[t.index],)).fetchone()
-        if got is not None and got[0] not in listed:     # a reading listed twice the same way shows once
-            listed.add(got[0])
-            rows.append((t, store.reading(got[0])))
+        got = store.reading_id_of(outcome.hashes[t.index])
+        if got is not None and got not in listed:     # a reading listed twice the same way shows once
+            listed.add(got)
+            rows.append((t, store.reading(got)))
     machines: dict[str, dict] = {}
     for task, r in rows:
-        tops = store.db.execute("SELECT fault, fault_name, component, certainty FROM hypotheses"
-                                " WHERE reading_id = ? AND rank = 1", (r["id"],)).fetchone()
-        stored = store.db.execute("SELECT channel, point, scale_trusted FROM channels WHERE reading_id = ?",
-                                  (r["id"],)).fetchall()
-        points = [c[1] for c in stored]
+        tops = store.top_hypothesis(r["id"])
+        stored = store.channels_of(r["id"])
+        points = [c["point"] for c in stored]
         # points whose scale (unit, sensitivity, gain) was not trusted: no level, no zone, severity unknown
-        unscaled = [c[1] or c[0] for c in stored if c[2] == 0]
+        unscaled = [c["point"] or c["channel"] for c in stored if c["scale_trusted"] == 0]
         rank, label = urgencies.get(r["urgency"], (len(urgencies), r["urgency"]))
         report = r["report"]
         link = os.path.relpath(report, out_dir) if report else None
         item = {"file": Path(task.files[0]).name, "taken_at": r["taken_at"], "time_from": r["time_from"],
                 "points": [p for p in points if p], "urgency": {"id": r["urgency"], "label": label, "rank": rank},
                 "zone": r["worst_zone"], "summary": r["summary"], "withheld": bool(r["withheld"]),
-                "certainty_pct": _pct(tops[3]) if tops else 0, "report": link,
+                "certainty_pct": _pct(tops["certainty"]) if tops else 0, "report": link,
                 "skipped": task.index in outcome.skipped, "_id": r["id"], "scale_not_trusted": unscaled,
-                "top": None if tops is None else {"fault": tops[0], "fault_name": tops[1], "component": tops[2],
-                                                  "certainty_pct": _pct(tops[3])}}
+                "top": None if tops is None else {"fault": tops["fault"], "fault_name": tops["fault_name"],
+                                                  "component": tops["component"],
+                                                  "certainty_pct": _pct(tops["certainty"])}}
         machines.setdefault(r["machine"], {"machine": r["machine"], "readings": []})["readings"].append(item)
     ranked = []
     for m in machines.values():
@@ -130,8 +128,6 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
     }
 
 
-def _pct(certainty) -> int:
-    """A stored certainty in percent; one the store could not give (None, text) counts as none."""
-    if isinstance(certainty, bool) or not isinstance(certainty, (int, float)):     # text in a damaged store
-        return 0
-    return round(100 * max(certainty, 0))
+def _pct(certainty: float | None) -> int:
+    """A stored certainty in percent; one the store could not give (None) counts as none."""
+    return 0 if certainty is None else round(100 * max(certainty, 0))
