@@ -72,6 +72,15 @@ def acquisition(rc: Analysis) -> list[dict]:
     }]
 
 
+# what analysis.speed's shaft-line check reports, with the value a missing entry takes
+SHAFT_CHECK = {
+    "one_x_found": False, "odd_order_lines": 0, "half_order_lines": 0, "half_to_one_x": 0.0,
+    "double_speed_lines": 0, "half_x_snr_db": 0.0, "two_x_snr_db": 0.0, "odd_to_two_x": 0.0,
+    "near_family_lines": 0, "far_family_lines": 0, "near_family_chance_pct": 100.0, "far_family_chance_pct": 100.0,
+    "near_one_x_db": 0.0, "far_one_x_db": 0.0, "far_family_hz": 0.0, "far_family_scale": 0.0,
+}
+
+
 def speed_check(rc: Analysis) -> list[dict]:
     """The speed the reading states, the speed its spectrum shows, and lines that contradict both.
 
@@ -86,32 +95,18 @@ def speed_check(rc: Analysis) -> list[dict]:
     stated = rc.stated_rpm or 0.0
     measured = est.speed_hz * 60
     against = stated or rc.nominal_rpm
-    check = rc.speed_check
+    deviation = 100.0 * (measured - against) / against if against > 0 else 0.0
+    check = {name: type(default)(rc.speed_check.get(name, default)) for name, default in SHAFT_CHECK.items()}
+    scale = check.pop("far_family_scale")
+    family_deviation = 100.0 * (scale - 1) if scale else 0.0
     return [{
         "kind": "speed_check", "shaft": rc.speed_shaft, "stated_rpm": stated, "nominal_rpm": rc.nominal_rpm,
         "measured_rpm": measured, "source": est.source, "harmonics": est.lines_found,
-        "deviation_pct": 100.0 * (measured - against) / against if against > 0 else 0.0,
-        "abs_deviation_pct": abs(100.0 * (measured - against) / against) if against > 0 else 0.0,
-        "one_x_found": bool(check.get("one_x_found", False)),
-        "odd_order_lines": int(check.get("odd_order_lines", 0)),
-        "half_order_lines": int(check.get("half_order_lines", 0)),
-        "half_to_one_x": float(check.get("half_to_one_x", 0.0)),
-        "double_speed_lines": int(check.get("double_speed_lines", 0)),
-        "half_x_snr_db": float(check.get("half_x_snr_db", 0.0)),
-        "two_x_snr_db": float(check.get("two_x_snr_db", 0.0)),
-        "odd_to_two_x": float(check.get("odd_to_two_x", 0.0)),
-        "near_family_lines": int(check.get("near_family_lines", 0)),
-        "far_family_lines": int(check.get("far_family_lines", 0)),
-        "near_family_chance_pct": float(check.get("near_family_chance_pct", 100.0)),
-        "far_family_chance_pct": float(check.get("far_family_chance_pct", 100.0)),
-        "near_one_x_db": float(check.get("near_one_x_db", 0.0)),
-        "far_one_x_db": float(check.get("far_one_x_db", 0.0)),
-        "far_over_near_db": float(check.get("far_one_x_db", 0.0)) - float(check.get("near_one_x_db", 0.0)),
-        "family_rpm": float(check.get("far_family_hz", 0.0)) * 60,
-        "family_deviation_pct": 100.0 * (float(check.get("far_family_scale", 0.0)) - 1)
-        if check.get("far_family_scale") else 0.0,
-        "abs_family_deviation_pct": abs(100.0 * (float(check.get("far_family_scale", 0.0)) - 1))
-        if check.get("far_family_scale") else 0.0,
+        "deviation_pct": deviation, "abs_deviation_pct": abs(deviation),
+        **{name: value for name, value in check.items() if name != "far_family_hz"},
+        "far_over_near_db": check["far_one_x_db"] - check["near_one_x_db"],
+        "family_rpm": check["far_family_hz"] * 60,
+        "family_deviation_pct": family_deviation, "abs_family_deviation_pct": abs(family_deviation),
         "allowed_low_rpm": limits.low_rpm if limits else 0.0,
         "allowed_high_rpm": limits.high_rpm if limits else 0.0,
         "allowed_by": limits.set_by if limits else "",
