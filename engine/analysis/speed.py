@@ -300,7 +300,8 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
     freqs = np.outer(scales, orders * stated_hz)
     lines = np.clip(np.rint(freqs / df).astype(int), 1, len(amp) - 2)
     local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
-    floors = np.maximum(spec.floor_at(lines.ravel()).reshape(lines.shape), 1e-300)
+    distinct, where = np.unique(lines, return_inverse=True)     # the fine grid visits each line many times
+    floors = np.maximum(spec.floor_at(distinct)[where].reshape(lines.shape), 1e-300)
     snr = local / floors
     excluded = np.asarray(exclude_hz, dtype=float)
     blocked = np.zeros(freqs.shape, bool)
