@@ -29,6 +29,11 @@ PHASE_KIND = "phase"
 CLOSING_RULE = "tw_closing"
 
 
+def closing_group(kind: str) -> dict:
+    """A test every fact of ``kind`` passes, as a group with its own end marker (see ``pattern_test``)."""
+    return {"$or": [{"kind": kind}]}
+
+
 def _operand(value) -> Any:
     if isinstance(value, Ref):
         ref = {value.alias: value.field} if value.alias else {"$m": value.field}
@@ -79,6 +84,11 @@ def referenced(rule: Rule) -> dict[str, set[str]]:
     return out
 
 
+def _joins(p: Pattern) -> bool:
+    """Whether a condition of ``p`` compares with another matched fact (``differs_from: a.channel``)."""
+    return any(isinstance(c.value, Ref) and c.value.alias not in (None, p.alias) for c in p.conditions)
+
+
 def pattern_test(rule: Rule, p: Pattern, required: set[str] = frozenset()) -> dict:
     if p.counted:
         tests = [{"kind": TALLY_KIND}, {"slot": tally_slot(rule, p)}]
@@ -93,6 +103,13 @@ def pattern_test(rule: Rule, p: Pattern, required: set[str] = frozenset()) -> di
         # durable-rules 2.0.28 skips a comparison with an earlier fact that follows an "$or" in one
         # "$and" (measured: tests/reasoning/test_engine_hazards.py), so every "$or" goes last
         tests.sort(key=lambda t: "$or" in t)
+        if _joins(p):
+            # when a join fails, durable-rules 2.0.28 skips the rest of the pattern's tests by
+            # reading on to the end marker of the enclosing group, which the outermost "$and" lacks:
+            # the read runs past the end of the array (valgrind: reduceExpressionSequence) and
+            # crashed the interpreter now and then. An "$or" that always holds ends every such
+            # pattern, so the read stops at that group's marker (tests/reasoning/test_engine_hazards.py)
+            tests.append(closing_group(p.kind))
     return {"$and": tests}
 
 

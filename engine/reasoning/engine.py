@@ -21,6 +21,11 @@ library by a test in tests/reasoning/test_engine_hazards.py or test_reasoning.py
 - arithmetic with a field a fact does not carry stops the engine (error
   311): the compiler makes a pattern require every field that a later
   condition compares with.
+- when a comparison with another fact fails, the engine skips the rest of the
+  pattern by reading on to an end marker the outermost ``$and`` does not
+  have, past the end of its table: a crash now and then (exit 139). The
+  compiler ends every pattern that compares with another fact with a
+  group that always holds, whose end marker stops the read.
 - actions must take exactly one parameter: each is a closure of one argument.
 - at most 1024 live states per ruleset: each diagnosis uses a fresh sid and
   deletes its state, even when it fails.
