@@ -1,9 +1,9 @@
 """One build step beyond pyproject.toml: the data folders at the top of the repository
 (rulebooks/, templates/, cases/) are copied into the built package as ``engine/_data/``,
 so that every install (a venv, ``--user``, ``--prefix``, ``--target``) carries them inside
-the package, where ``engine/paths.py`` finds them with importlib.resources.
+the package, where ``engine/common/paths.py`` finds them with importlib.resources.
 
-An editable install copies nothing: there ``engine/paths.py`` reads the checkout's folders.
+An editable install copies nothing: there ``engine/common/paths.py`` reads the checkout's folders.
 """
 
 import shutil
@@ -14,7 +14,7 @@ from setuptools.command.build_py import build_py
 
 HERE = Path(__file__).resolve().parent
 DATA_FOLDERS = ("rulebooks", "templates", "cases")
-PACKAGE_DATA = Path("engine") / "_data"          # engine/paths.py: SHIPPED_DATA
+PACKAGE_DATA = Path("engine") / "_data"          # engine/common/paths.py: SHIPPED_DATA
 
 
 class build_py_with_data(build_py):

@@ -34,7 +34,7 @@ ROOT = Path(__file__).resolve().parent.parent
 from engine.evidence import extract_evidence
 from engine.machine import Machine, SpeedRange, load_machine
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
-from engine.synth import as_reading, runs_at, simulate
+from engine.simulation import as_reading, runs_at, simulate
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",

@@ -21,7 +21,7 @@ ROOT = Path(__file__).resolve().parent.parent
 from engine.evidence import extract_evidence
 from bench.features import FEATURES
 from engine.machine import load_machine
-from engine.synth import as_reading, simulate
+from engine.simulation import as_reading, simulate
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",

@@ -363,7 +363,7 @@ def random_command(rng: random.Random, reading: Path | None, machine: Path | Non
 
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
 RW2_NAME = "RW-2 raw water pump"
-POLICY = ROOT / "rulebooks/advice/acquisition.yaml"
+POLICY = ROOT / "rulebooks/planner/acquisition.yaml"
 SHORT_N = 4096          # short readings keep the route and store inputs cheap (0.5 s at FS)
 ROUTE_TIMES = ["2026-03-04T09:12:00", "2026-04-04T09:12:00", "25:61", "", "09:20", 1e18, 2 ** 70, -1, 16,
                "2026-13-45T25:61:00", "2026-02-30T10:00:00", "9999-12-31T23:59:59", "0001-01-01T00:00:00",

@@ -34,7 +34,7 @@ from pathlib import Path
 import numpy as np
 import yaml
 
-from engine.errors import ReadingError
+from engine.common.errors import ReadingError
 from engine.machine import load_machine
 from engine.pipeline import diagnose
 from engine.readings import load_reading

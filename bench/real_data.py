@@ -168,7 +168,7 @@ def injected(reading, what: str, factor: float):
 
 def severity_unknown_of(document: dict) -> bool:
     """Whether the report says severity is unknown until the scale is checked (``verdict.severity_known``,
-    engine/schemas/report.schema.json)."""
+    engine/common/schemas/report.schema.json)."""
     return not document["verdict"]["severity_known"]
 
 

@@ -24,7 +24,7 @@ ROOT = Path(__file__).resolve().parent.parent
 from engine.evidence import extract_evidence
 from engine.machine import load_machine
 from engine.reasoning import Reasoner, load_rulebook
-from engine.synth import as_reading, simulate
+from engine.simulation import as_reading, simulate
 
 
 GENERATED_FAULT = "site-watch"

@@ -22,9 +22,9 @@ import yaml
 
 from engine.history.store import Store
 from engine.machine import load_machine
-from engine.paths import CASES
+from engine.common.paths import CASES
 from engine.route import load_route, run_route
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 
 N_SAMPLES = 65536
 FS_HZ = 25600.0

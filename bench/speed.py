@@ -31,12 +31,12 @@ from pathlib import Path
 import numpy as np
 from scipy import signal
 
-from engine.casebook import load_case, reading_of
+from engine.pipeline.cases import load_case, reading_of
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
-from engine.synth import as_reading, simulate, write_simulation
+from engine.simulation import as_reading, simulate, write_simulation
 
 ROOT = Path(__file__).resolve().parent.parent
 MACHINES = {

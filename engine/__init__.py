@@ -7,10 +7,11 @@ pay for numpy and scipy.
 __version__ = "0.2.0"
 
 _EXPORTS = {
-    "DataQualityWarning": "errors", "MachineError": "errors", "OutputError": "errors", "ReadingError": "errors",
-    "RulebookError": "errors", "TellwaveError": "errors", "UsageError": "errors",
-    "ReasoningError": "errors",
-    "ForcingFrequency": "kinematics", "bearing_multiples": "kinematics", "forcing_frequencies": "kinematics",
+    "DataQualityWarning": "common.errors", "MachineError": "common.errors", "OutputError": "common.errors",
+    "ReadingError": "common.errors", "RulebookError": "common.errors", "TellwaveError": "common.errors",
+    "UsageError": "common.errors", "ReasoningError": "common.errors",
+    "ForcingFrequency": "machine.kinematics", "bearing_multiples": "machine.kinematics",
+    "forcing_frequencies": "machine.kinematics",
     "Machine": "machine", "load_machine": "machine",
     "Reading": "readings", "load_reading": "readings",
     "load_rulebook": "reasoning",

@@ -14,12 +14,12 @@ from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
 
-from .errors import RulebookError
+from .common.errors import RulebookError
 from .evidence import Evidence
 from .machine import Machine
-from .paths import RULEBOOKS
+from .common.paths import RULEBOOKS
 from .reasoning import POSSIBLE, Hypothesis, Reasoning
-from .yamlfile import YamlDocument, first_problem, read_yaml
+from .common.yamlfile import YamlDocument, first_problem, read_yaml
 
 ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5

@@ -15,8 +15,8 @@ import pytest
 from engine import __version__
 from engine.cli import COMMANDS, build_parser, main
 from engine.readings.formats import READERS
-from engine.synth import FAULTS
-from engine.units import known_units, unit, unit_aliases, units_by_quantity
+from engine.simulation import FAULTS
+from engine.common.units import known_units, unit, unit_aliases, units_by_quantity
 
 from support import ROOT
 
@@ -168,8 +168,8 @@ def test_rulebook_without_an_action_prints_its_usage(capsys):
 
 def test_demo_route_months_are_the_demo_plants():
     from engine.cli.demo_route import DEMO_MONTHS
-    from engine.errors import UsageError
-    from engine.route.demo_plant import MONTHS
+    from engine.common.errors import UsageError
+    from engine.demo.plant import MONTHS
 
     assert DEMO_MONTHS == MONTHS
     parser = build_parser()

@@ -92,8 +92,8 @@ def _installed(kind: str, wheel: Path, place: Path) -> Path:
     # --ignore-installed: without it a --prefix install first uninstalls the tellwave of the running environment
     _pip("install", "--no-deps", "--no-index", "--no-compile", "--ignore-installed", f"--{kind}", str(place), str(wheel),
          cwd=place.parent)
-    (paths_py,) = [p for p in place.rglob("engine/paths.py")]
-    return paths_py.parent.parent
+    (paths_py,) = [p for p in place.rglob("engine/common/paths.py")]
+    return paths_py.parents[2]
 
 
 def _tellwave_here() -> str | None:
@@ -111,7 +111,7 @@ def test_an_installed_wheel_finds_its_rulebooks_templates_and_cases(kind, wheel,
     elsewhere.mkdir()
     env = _environment(site)
 
-    where = _run([sys.executable, "-c", "import engine, engine.paths as p; "
+    where = _run([sys.executable, "-c", "import engine, engine.common.paths as p; "
                   "print(engine.__file__); print(p.RULEBOOKS); print(p.TEMPLATES); print(p.CASES)"],
                  cwd=elsewhere, env=env).splitlines()
     package = site / "engine"
@@ -119,7 +119,7 @@ def test_an_installed_wheel_finds_its_rulebooks_templates_and_cases(kind, wheel,
     for line, name in zip(where[1:], ("rulebooks", "templates", "cases")):
         assert Path(line) == package / "_data" / name
     assert (package / "_data" / "cases" / "demo").is_dir()
-    assert (package / "schemas" / "rulebook.schema.json").is_file()
+    assert (package / "common" / "schemas" / "rulebook.schema.json").is_file()
 
     out = _run([sys.executable, "-m", "engine.cli", "rulebook", "check"], cwd=elsewhere, env=env)
     assert "rulebooks are valid" in out
@@ -147,7 +147,7 @@ def test_the_wheel_carries_the_license_and_no_data_outside_the_package(wheel):
     names = zipfile.ZipFile(wheel).namelist()
     assert any(n.endswith(".dist-info/licenses/LICENSE") for n in names)
     assert not [n for n in names if ".data/" in n], "data files installed outside the package"
-    for name in ("rulebooks/bearings.yaml", "rulebooks/advice/acquisition.yaml", "templates/report.html.j2",
+    for name in ("rulebooks/bearings.yaml", "rulebooks/planner/acquisition.yaml", "templates/report.html.j2",
                  "cases/machines/rw2-raw-water-pump.yaml"):
         assert f"engine/_data/{name}" in names
 

@@ -16,17 +16,16 @@ ENGINE = Path(__file__).resolve().parent.parent / "engine"
 
 # lower numbers come first; a module may import its own stage and any lower one
 STAGES = {
-    "errors": 0, "units": 0, "paths": 0, "yamlfile": 0, "schemas": 0,
-    "outfile": 0, "jsonout": 0, "escape": 0,
-    "machine": 1, "kinematics": 1, "readings": 1, "synth": 1,
+    "common": 0,
+    "machine": 1, "readings": 1, "simulation": 1,
     "analysis": 2,
     "evidence": 3,
     "reasoning": 4,
     "advice": 5,
     "report": 6,
-    "pipeline": 7, "casebook": 7, "planner": 7,
-    "demo": 8, "history": 8, "trend": 8,
-    "route": 9,
+    "history": 7, "trend": 7,
+    "pipeline": 8, "planner": 8,
+    "demo": 9, "route": 9,
     "cli": 10, "__init__": 10, "__main__": 10,
 }
 

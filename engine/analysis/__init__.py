@@ -9,7 +9,7 @@ from .impacts import ImpactTrain
 from .kurtogram import Kurtogram, KurtogramBand, fast_kurtogram, spectral_kurtosis
 from .levels import OverallLevels, WaveformStats, iso_band_hz, overall_levels, waveform_statistics
 from .peaks import Peak, find_peaks, interpolate_line, noise_floor, peak_near
-from .reading import Analysis, ChannelAnalysis, EnvelopeView, analyse
+from .result import Analysis, ChannelAnalysis, EnvelopeView, analyse
 from .speed import SpeedEstimate, refine_running_speed
 from .spectrum import Spectrum, Transform, amplitude_spectrum, averaged_spectrum, band_rms, integrate
 from .synchronous import Revolutions, SynchronousEvents, cut_revolutions, synchronous_average, tach_pulse_times

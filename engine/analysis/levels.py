@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..units import STANDARD_GRAVITY_M_S2
+from ..common.units import STANDARD_GRAVITY_M_S2
 from .spectrum import Transform
 
 ISO_BAND_HZ = (10.0, 1000.0)

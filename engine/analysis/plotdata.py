@@ -13,8 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..units import STANDARD_GRAVITY_M_S2
-from .reading import Analysis, ChannelAnalysis
+from ..common.units import STANDARD_GRAVITY_M_S2
+from .result import Analysis, ChannelAnalysis
 from .synchronous import default_samples_per_rev, revolution_rows
 
 REVOLUTIONS_SHOWN = 8

@@ -15,7 +15,7 @@ from __future__ import annotations
 import sys
 import warnings
 
-from ..errors import TellwaveError, UsageError
+from ..common.errors import TellwaveError, UsageError
 from . import demo, demo_route, diagnose, evidence, frequencies, history, plan, reading, route, rulebook, synth, trend
 from ._common import Parser
 
@@ -63,7 +63,7 @@ def _tolerant_streams() -> None:
 
 
 def main(argv=None) -> int:
-    from ..escape import one_line
+    from ..common.escape import one_line
 
     _return_large_arrays_to_the_system()
     _tolerant_streams()

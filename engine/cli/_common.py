@@ -7,7 +7,7 @@ import argparse
 import math
 from pathlib import Path
 
-from ..errors import UsageError
+from ..common.errors import UsageError
 
 
 class Parser(argparse.ArgumentParser):
@@ -15,12 +15,12 @@ class Parser(argparse.ArgumentParser):
         raise UsageError(message)
 
 
-DIRECTIONS = ("horizontal", "vertical", "axial")     # engine/schemas/machine.schema.json
+DIRECTIONS = ("horizontal", "vertical", "axial")     # engine/common/schemas/machine.schema.json
 
 
 def units_help() -> str:
-    """Every unit the readers accept, from engine/units.py's one table."""
-    from ..units import unit_aliases, units_by_quantity
+    """Every unit the readers accept, from engine/common/units.py's one table."""
+    from ..common.units import unit_aliases, units_by_quantity
 
     groups = "; ".join(f"{', '.join(names)} ({quantity})" for quantity, names in units_by_quantity().items())
     return f"{groups}; also written {', '.join(unit_aliases())}"
@@ -131,7 +131,7 @@ def input_files(args, route=None) -> list[Path]:
     """Every file the command reads, never to be written over: readings with their sidecars (positional
     or ``--reading``), the machine, ``--policy``, site overlays, the history store with its journal files,
     the route or plant file and, given the loaded ``route``, every file it reads."""
-    from ..outfile import sqlite_files
+    from ..common.outfile import sqlite_files
     from ..readings import sidecar_path
 
     files = []
@@ -160,9 +160,9 @@ def input_files(args, route=None) -> list[Path]:
 
 
 def output_target(args, output, route=None) -> list[Path]:
-    """Check ``output`` against every input of the command before any work (``engine.outfile.check_target``);
+    """Check ``output`` against every input of the command before any work (``engine.common.outfile.check_target``);
     return the inputs, to be given again when the file is written."""
-    from ..outfile import check_target, known_inputs
+    from ..common.outfile import check_target, known_inputs
 
     inputs = known_inputs(input_files(args, route))
     check_target(output, inputs)
@@ -171,7 +171,7 @@ def output_target(args, output, route=None) -> list[Path]:
 
 def say(text: str = "") -> None:
     """Print a line to the terminal with control characters from users' files shown as codes."""
-    from ..escape import terminal
+    from ..common.escape import terminal
 
     print(terminal(text))
 

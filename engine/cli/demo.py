@@ -14,8 +14,8 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from ..demo import run_demo
-    from ..errors import EXIT_CASE_FAILED
-    from ..outfile import prepare_folder
+    from ..common.errors import EXIT_CASE_FAILED
+    from ..common.outfile import prepare_folder
     from ..reasoning import Reasoner
 
     prepare_folder(args.out)

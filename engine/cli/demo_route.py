@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from ._common import whole
 
-DEMO_MONTHS = 6          # engine.route.demo_plant.MONTHS (not imported: --help stays quick)
+DEMO_MONTHS = 6          # engine.demo.plant.MONTHS (not imported: --help stays quick)
 
 
 def register(sub) -> None:
@@ -16,8 +16,8 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..escape import one_line
-    from ..route.demo_plant import write_month
+    from ..common.escape import one_line
+    from ..demo.plant import write_month
 
     for month in range(1, args.months + 1):
         print(f"wrote {one_line(write_month(args.out, month))}")

@@ -31,7 +31,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..errors import EXIT_WITHHELD
+    from ..common.errors import EXIT_WITHHELD
     from ..machine import load_machine
     from ..pipeline import diagnose, document_of
     from ..reasoning import Reasoner
@@ -47,7 +47,7 @@ def run(args) -> int:
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
     if args.store is not None:
-        from ..route.stored import diagnose_and_store
+        from ..pipeline.history import diagnose_and_store
         d, doc = diagnose_and_store(args, reading, machine, reasoner, plots=fmt == "html")
     else:
         d = diagnose(reading, machine, reasoner, plots=fmt == "html", taken=taken)

@@ -18,7 +18,7 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from ..evidence import extract_evidence
-    from ..jsonout import dumps
+    from ..common.jsonout import dumps
     from ..machine import load_machine
 
     machine = load_machine(args.machine)

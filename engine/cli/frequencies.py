@@ -16,8 +16,8 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..jsonout import dumps
-    from ..kinematics import forcing_frequencies
+    from ..common.jsonout import dumps
+    from ..machine.kinematics import forcing_frequencies
     from ..machine import load_machine
 
     machine = load_machine(args.machine)

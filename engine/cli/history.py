@@ -16,7 +16,7 @@ def register(sub) -> None:
 
 def reading_id(text: str) -> int:
     """The id given to --delete: a whole number from 1 to SQLite's largest integer."""
-    from ..errors import UsageError
+    from ..common.errors import UsageError
     from ..history.store import ID_MAX
 
     try:
@@ -31,9 +31,9 @@ def reading_id(text: str) -> int:
 
 
 def run(args) -> int:
-    from ..errors import UsageError
-    from ..jsonout import dumps
-    from ..escape import one_line as v
+    from ..common.errors import UsageError
+    from ..common.jsonout import dumps
+    from ..common.escape import one_line as v
     from ._store import open_store
 
     delete = None if args.delete is None else reading_id(args.delete)

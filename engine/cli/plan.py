@@ -34,7 +34,7 @@ def register(sub) -> None:
 
 
 def _given(args, policy):
-    from ..errors import UsageError
+    from ..common.errors import UsageError
     from ..planner import given_settings, reading_settings
 
     explicit = [args.fmax, args.lines, args.sample_rate, args.duration]
@@ -52,7 +52,7 @@ def _given(args, policy):
 
 
 def run(args) -> int:
-    from ..escape import one_line
+    from ..common.escape import one_line
     from ..machine import load_machine
     from ..planner import build_plan, load_policy, render_plan
     from ..report import write_atomically

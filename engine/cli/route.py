@@ -28,11 +28,11 @@ def run(args) -> int:
     import sys
     from pathlib import Path
 
-    from ..errors import EXIT_ROUTE_FAILURES, UsageError
-    from ..escape import one_line
+    from ..common.errors import EXIT_ROUTE_FAILURES, UsageError
+    from ..common.escape import one_line
     from ..report import write_atomically
     from ..route import load_folder, load_route, render_summary, route_summary, run_route, summary_paths
-    from ..outfile import known_inputs
+    from ..common.outfile import known_inputs
     from ..route.runner import check_outputs
     from ._common import input_files
     from ._store import open_store
@@ -80,7 +80,7 @@ def _say_unmatched(route, plant) -> None:
     import sys
     from pathlib import Path
 
-    from ..escape import terminal
+    from ..common.escape import terminal
 
     if not route.unmatched:
         return

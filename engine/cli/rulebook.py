@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..errors import UsageError
+from ..common.errors import UsageError
 from ._common import Parser, add_site_option, rulebook, say
 
 
@@ -45,7 +45,7 @@ def _check(args) -> int:
 
 def _print(lines) -> int:
     """One line per item, whatever a site rule's title holds: line breaks and control characters as codes."""
-    from ..escape import one_line
+    from ..common.escape import one_line
 
     for line in lines:
         print(one_line(line))
@@ -87,8 +87,8 @@ def _explain(args) -> int:
 
 
 def _test(args) -> int:
-    from ..casebook import case_files, load_case, run_case
-    from ..errors import EXIT_CASE_FAILED
+    from ..pipeline.cases import case_files, load_case, run_case
+    from ..common.errors import EXIT_CASE_FAILED
     from ..reasoning import Reasoner
 
     reasoner = Reasoner(rulebook(args))

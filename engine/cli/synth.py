@@ -8,7 +8,7 @@ MAX_SYNTH_SAMPLES = 1 << 24     # per channel: 10 min at 25.6 kHz
 
 
 def register(sub) -> None:
-    from ..synth import FAULTS
+    from ..simulation import FAULTS
 
     p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
     p.add_argument("machine", help="machine YAML file")
@@ -31,10 +31,10 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..errors import UsageError
+    from ..common.errors import UsageError
     from ..machine import load_machine
     from ._common import output_target
-    from ..synth import simulate, write_simulation
+    from ..simulation import simulate, write_simulation
 
     inputs = output_target(args, args.output)      # before the work
     if args.duration * args.sample_rate > MAX_SYNTH_SAMPLES:

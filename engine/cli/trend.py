@@ -19,7 +19,7 @@ def register(sub) -> None:
 
 
 def parse_limits(items: list[str]) -> dict[str, float]:
-    from ..errors import UsageError
+    from ..common.errors import UsageError
     from ..history.record import INDICATORS
 
     limits = {}
@@ -40,8 +40,8 @@ def parse_limits(items: list[str]) -> dict[str, float]:
 def run(args) -> int:
     import sys
 
-    from ..errors import UsageError
-    from ..escape import one_line
+    from ..common.errors import UsageError
+    from ..common.escape import one_line
     from ..report import write_atomically
     from ..route.runner import slug
     from ..trend import trend_document

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from typing import NamedTuple
 
-from ..units import LEVEL_UNITS
+from ..common.units import LEVEL_UNITS
 
 
 class F(NamedTuple):
@@ -260,7 +260,7 @@ FACTS["trend"] = {
 
 COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact identity", "")}
 
-# Units of an absolute level (``engine.units.LEVEL_UNITS``): a value in one of them is the samples'
+# Units of an absolute level (``engine.common.units.LEVEL_UNITS``): a value in one of them is the samples'
 # size times a calibration (unit, sensor sensitivity, recorder gain, scale), so a wrong calibration
 # makes it wrong by the same factor. Every other unit is scale-free: frequencies, times, angles and
 # speeds do not move when every sample is multiplied by one factor, and dB over a floor,

@@ -13,7 +13,7 @@ import json
 import os
 from pathlib import Path
 
-from ..errors import ReadingError
+from ..common.errors import ReadingError
 from ..readings import SCALE_ISSUES, sidecar_path
 
 # name -> (label with unit, what it is); the trend stage reads these names
@@ -70,7 +70,7 @@ def _file_digest(path) -> str:
 def rulebooks_hash(site=()) -> str:
     """SHA-256 over every shipped rulebook and advice file and each site overlay, in load order:
     a changed rule or threshold makes every stored diagnosis one to do again."""
-    from ..paths import RULEBOOKS
+    from ..common.paths import RULEBOOKS
     from ..reasoning.rulebook import rulebook_files
 
     files = sorted(f for f in RULEBOOKS.rglob("*") if f.suffix in (".yaml", ".yml") and f.is_file())

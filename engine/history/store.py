@@ -28,7 +28,7 @@ from datetime import datetime, timezone
 from functools import lru_cache
 from pathlib import Path
 
-from ..errors import StoreError
+from ..common.errors import StoreError
 from .record import is_level
 
 BUSY_TIMEOUT_S = 60.0

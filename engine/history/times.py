@@ -15,11 +15,12 @@ date passes the year 9999.
 
 from __future__ import annotations
 
+import os
 import re
 from dataclasses import dataclass
 from datetime import date, datetime, time, timedelta
 
-from ..errors import UsageError
+from ..common.errors import UsageError
 
 TIME_OF_DAY = re.compile(r"^\d{1,2}:\d{2}(:\d{2}(\.\d+)?)?$", re.ASCII)
 INDEX = re.compile(r"^[0-9]+$")
@@ -127,3 +128,12 @@ def resolve_time(stated, clock: Clock | None, *, what: str) -> datetime | None:
             raise UsageError(f"{what}: an index of {len(text)} digits is not a time")
         return resolve_time(int(text), clock, what=what)
     return parse_time(text, what=what)
+
+
+def reading_time(stated, stated_from: str, reading, first_file, clock: Clock | None, *, what: str) -> tuple[str, str]:
+    """A reading's time (ISO 8601) and where it came from: as stated (``stated_from``: "route",
+    "command line"), else the file's own timestamp, else the date the file was last modified."""
+    for value, origin in ((stated, stated_from), (reading.timestamp, "file")):
+        if value is not None:
+            return iso(resolve_time(value, clock, what=what)), origin
+    return iso(datetime.fromtimestamp(os.path.getmtime(first_file))), "file modified"

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..kinematics import forcing_frequencies
+from ..machine.kinematics import forcing_frequencies
 from ..machine import Machine
 from .needs import requirements
 from .policy import Policy

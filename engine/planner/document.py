@@ -4,7 +4,7 @@ settings, the proof by simulation and the figures. Templates and JSON read only 
 from __future__ import annotations
 
 
-from ..kinematics import forcing_frequencies, mesh_rates
+from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..machine import Machine, Point
 from .check import CANNOT, check, frequencies_above, verdicts
 from .needs import ring_down_s

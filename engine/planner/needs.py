@@ -20,7 +20,7 @@ import math
 from dataclasses import dataclass, field
 
 from ..evidence.envelope import HARMONICS, SLIP_TOLERANCE, shared_lines
-from ..kinematics import bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz, rates_at
+from ..machine.kinematics import bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz, rates_at
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy

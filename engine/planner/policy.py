@@ -1,10 +1,10 @@
 """The acquisition policy: the rules of the trade as data a site can change.
 
-``rulebooks/advice/acquisition.yaml`` holds the numbers (2.56 x Fmax, the line
+``rulebooks/planner/acquisition.yaml`` holds the numbers (2.56 x Fmax, the line
 counts, lines between a carrier and its sideband, revolutions, samples per
 impact, averages, overlap, the ISO 20816-3 band, where bearing impacts ring)
 with a source for each. It is checked against
-``schemas/acquisition.schema.json`` and for consistency when it loads, once.
+``common/schemas/acquisition.schema.json`` and for consistency when it loads, once.
 """
 
 from __future__ import annotations
@@ -15,11 +15,11 @@ from pathlib import Path
 from types import MappingProxyType
 from typing import Mapping
 
-from ..errors import RulebookError
-from ..paths import RULEBOOKS
-from ..yamlfile import read_yaml, validate
+from ..common.errors import RulebookError
+from ..common.paths import RULEBOOKS
+from ..common.yamlfile import read_yaml, validate
 
-DEFAULT_POLICY = RULEBOOKS / "advice" / "acquisition.yaml"
+DEFAULT_POLICY = RULEBOOKS / "planner" / "acquisition.yaml"
 PURPOSES = ("severity", "bearing", "gear", "shaft", "electrical")
 
 

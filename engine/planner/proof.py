@@ -1,7 +1,7 @@
 """Show it, not only tell it: simulate each fault, record it with each setting, look for its evidence.
 
 For each target (a fault on a component) the simulator makes one physical
-signal at a high rate (``engine.synth``, stage 2, impacts shaped as an
+signal at a high rate (``engine.simulation``, stage 2, impacts shaped as an
 accelerometer sees them, ringing at the geometric centre of the policy's
 ringing band, about 4.5 kHz for 2-10 kHz). Each setting records that same signal
 as an analyzer would: resampled to its sample rate (``scipy.signal.
@@ -24,7 +24,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from ..errors import ReadingError, TellwaveError, UsageError
+from ..common.errors import ReadingError, TellwaveError, UsageError
 from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
 from ..machine import Machine, Point
 from .check import CAN, CANNOT
@@ -109,7 +109,7 @@ def resonance_hz(policy: Policy) -> float:
 def simulate_target(machine: Machine, target: Target, point: Point, duration_s: float, fs_hz: float,
                     policy: Policy, speed_rpm: float | None = None, seed: int = SEED):
     """The physical signal of ``target`` at ``point``: a Simulation at ``fs_hz`` of ``duration_s``."""
-    from ..synth import simulate
+    from ..simulation import simulate
 
     return simulate(machine, target.fault, target.component, STAGE, speed_rpm, fs_hz, duration_s, seed,
                     [point.id], resonance_hz=resonance_hz(policy), ring_response="acceleration",
@@ -127,7 +127,7 @@ def _reference(x, fs, machine, point, speed_rpm, policy) -> Reference:
 def _facts(machine, sim, samples, fs):
     from ..evidence import extract_evidence
     from ..readings import MIN_SAMPLES
-    from ..synth import Simulation, as_reading
+    from ..simulation import Simulation, as_reading
 
     if len(samples) < MIN_SAMPLES:      # what a reader refuses in a file, the proof refuses here
         raise ReadingError(f"holds only {len(samples)} samples; the analysis needs at least {MIN_SAMPLES}")

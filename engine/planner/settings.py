@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass
 
-from ..errors import UsageError
+from ..common.errors import UsageError
 from ..readings.limits import MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
 from .policy import Policy
 

@@ -16,10 +16,10 @@ from pathlib import Path
 
 import numpy as np
 
-from .. import units
-from ..errors import ReadingError, UsageError
+from ..common import units
+from ..common.errors import ReadingError, UsageError
 from ..machine import check_speed_rpm
-from ..yamlfile import read_yaml, validate
+from ..common.yamlfile import read_yaml, validate
 from .columns import apply_column_map
 from .formats import READERS, RawReading, check_raw
 from .fit import check_points

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import ReadingError
+from ..common.errors import ReadingError
 from .formats import UNIFORM_SPACING_TOLERANCE, RawReading
 
 CLOCK = ("hour", "minute", "second", "microsecond")

@@ -12,7 +12,7 @@ shaft): many recorders store no point.
 
 from __future__ import annotations
 
-from ..errors import ReadingError
+from ..common.errors import ReadingError
 
 NAMED = 4     # channels named in the error before "and N more"
 

@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import ReadingError
+from ..common.errors import ReadingError
 from .limits import MAX_CHANNELS, SampleLimit
 
 DEFAULT_LIMIT = SampleLimit()

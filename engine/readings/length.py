@@ -21,7 +21,7 @@ Three limits, each derived from what the analysis needs:
 
 from __future__ import annotations
 
-from ..errors import ReadingError
+from ..common.errors import ReadingError
 
 MIN_SAMPLES = 256
 MIN_REVOLUTIONS_TO_ANALYSE = 2.0

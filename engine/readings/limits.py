@@ -28,7 +28,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..errors import ReadingError
+from ..common.errors import ReadingError
 from .length import FMAX_FACTOR
 
 MAX_SAMPLES_PER_CHANNEL = 1 << 22

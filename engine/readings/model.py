@@ -64,7 +64,7 @@ class Reading:
         for ch in self.channels:
             if ch.name == name:
                 return ch
-        from ..errors import ReadingError
+        from ..common.errors import ReadingError
         known = ", ".join(c.name for c in self.channels)
         raise ReadingError(f"no channel {name!r}; channels are {known}", path=self.source)
 

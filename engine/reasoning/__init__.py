@@ -6,7 +6,7 @@
 """
 
 from .certainty import CONFIDENT, LIKELY, POSSIBLE, combine, combine_all, ramp, word_for
-from ..errors import ReasoningError
+from ..common.errors import ReasoningError
 from .engine import Reasoner
 from .findings import Firing, Hypothesis, Reasoning
 from .rulebook import SHIPPED, Rule, Rulebook, load_rulebook

@@ -62,9 +62,9 @@ from dataclasses import replace
 import durable_rules_engine
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
-from ..errors import ReasoningError
+from ..common.errors import ReasoningError
 from ..evidence.signs import SIGNS, merged
-from ..units import format_quantity
+from ..common.units import format_quantity
 from . import certainty as cf
 from .compile import PHASE_KIND, compile_ruleset, plan_rulesets, tally_slot
 from .differential import differential

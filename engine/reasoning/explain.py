@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections import defaultdict
 
-from ..units import format_quantity
+from ..common.units import format_quantity
 from .rulebook import Condition, FaultChoice, Pattern, Ref, Rule, Rulebook
 
 _OPS = {"is": "is", "is_not": "is not", "above": "is above", "at_least": "is at least", "below": "is below",

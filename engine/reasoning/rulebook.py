@@ -3,7 +3,7 @@
 A rulebook is YAML (see rulebooks/README.md). Loading it does three checks,
 each reported as one line naming the file, the line and the rule:
 
-1. the file against ``engine/schemas/rulebook.schema.json``;
+1. the file against ``engine/common/schemas/rulebook.schema.json``;
 2. every fact kind, field, reference, parameter, placeholder and comparison
    against the evidence vocabulary (``engine.evidence.vocabulary``), the
    derived kinds and the named parameters the rulebooks declare, so a rule
@@ -15,7 +15,7 @@ each reported as one line naming the file, the line and the rule:
    reuses an id is an error.
 
 A ``because`` sentence names values as ``{alias.field}`` without a format:
-the report formats each by its unit (``engine.units.format_quantity``).
+the report formats each by its unit (``engine.common.units.format_quantity``).
 """
 
 from __future__ import annotations
@@ -27,10 +27,10 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-from ..errors import RulebookError
+from ..common.errors import RulebookError
 from ..evidence.vocabulary import FACTS, F, fields_of
-from ..paths import RULEBOOKS
-from ..yamlfile import YamlDocument, first_problem, read_yaml
+from ..common.paths import RULEBOOKS
+from ..common.yamlfile import YamlDocument, first_problem, read_yaml
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
 LARGEST_NUMBER = 1e15

@@ -5,7 +5,7 @@ when a channel's scale is not trusted, that severity is unknown until it is
 checked, and what to check), the ranked hypotheses with certainty, severity,
 actions and follow-ups, the oil tests for the machine (each once), the
 cautions; then the reasoning trail, the acquisition notes and the zone
-readings. ``engine/schemas/report.schema.json`` documents it.
+readings. ``engine/common/schemas/report.schema.json`` documents it.
 """
 
 from __future__ import annotations

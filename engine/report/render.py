@@ -2,12 +2,12 @@
 templates/, escaped per format.
 
 ``render_document`` is the one way a document becomes text: every value a
-template prints passes through its format's escape (``engine.escape``) as the
+template prints passes through its format's escape (``engine.common.escape``) as the
 environment's ``finalize`` step, so no template can forget one: Markdown
 (``escape.markdown``), plain text and the terminal (``escape.text_value``), HTML
 (``escape.html_value``, then Jinja's autoescape). Filters that build markup
 (``md_code``, ``url``) return text already escaped for it. JSON is RFC 8259 JSON
-(``engine.jsonout``): never NaN or Infinity.
+(``engine.common.jsonout``): never NaN or Infinity.
 """
 
 from __future__ import annotations
@@ -17,11 +17,11 @@ from pathlib import Path
 import jinja2
 import markupsafe
 
-from ..errors import UsageError
-from ..jsonout import dumps
-from ..outfile import write_whole
-from ..paths import TEMPLATES
-from .. import escape
+from ..common.errors import UsageError
+from ..common.jsonout import dumps
+from ..common.outfile import write_whole
+from ..common.paths import TEMPLATES
+from ..common import escape
 
 FORMATS = {"text": "report.txt.j2", "md": "report.md.j2", "html": "report.html.j2"}
 _FINALIZE = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
@@ -68,5 +68,5 @@ def render(doc: dict, fmt: str) -> str:
 
 def write_atomically(path, text: str, inputs=()) -> Path:
     """Write ``text`` to ``path`` whole or not at all, never over one of ``inputs``
-    (see ``engine.outfile``: checks, fsync, rename, stale-part cleaning)."""
+    (see ``engine.common.outfile``: checks, fsync, rename, stale-part cleaning)."""
     return write_whole(path, text, inputs)

@@ -18,9 +18,9 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..errors import RouteError, UsageError
+from ..common.errors import RouteError, UsageError
 from ..history.times import Clock, iso, parse_time, resolve_time
-from ..yamlfile import read_yaml, validate
+from ..common.yamlfile import read_yaml, validate
 
 READING_SUFFIXES = (".wav", ".csv", ".npy", ".npz", ".mat", ".uff", ".unv")
 
@@ -109,7 +109,7 @@ def _clock(data: dict | None, path: str) -> Clock | None:
 
 
 def load_route(path) -> Route:
-    """A route file (YAML, ``engine/schemas/route.schema.json``)."""
+    """A route file (YAML, ``engine/common/schemas/route.schema.json``)."""
     path = str(path)
     doc = read_yaml(path, RouteError)
     if not isinstance(doc.data, dict):

@@ -55,7 +55,7 @@ def summary_paths(out_dir) -> dict[str, Path]:
 
 def _machine_names(route: Route) -> dict[str, str]:
     """machine file -> the machine's name (its file's stem when the file does not load: that task fails)."""
-    from ..errors import TellwaveError
+    from ..common.errors import TellwaveError
     from ..machine import load_machine
 
     names = {}
@@ -97,7 +97,7 @@ def report_paths(route: Route, out_dir, fmt: str) -> dict[int, Path]:
 
 def run_inputs(route: Route, store: Store, site=()) -> list[Path]:
     """Every file a route run reads: the route's files, the store with its journals, the site overlays."""
-    from ..outfile import sqlite_files
+    from ..common.outfile import sqlite_files
     from ..reasoning.rulebook import rulebook_files
 
     return route_inputs(route) + sqlite_files(store.path) + (rulebook_files(*site) if site else [])
@@ -190,7 +190,7 @@ def _dask(tasks, settings, scheduler, outcome):
     """The same on a Dask distributed cluster: ``diagnose_task`` runs on its workers."""
     from distributed import Client, as_completed
 
-    from ..errors import UsageError
+    from ..common.errors import UsageError
 
     try:
         client = Client(scheduler, timeout=CONNECT_TIMEOUT_S)
@@ -215,7 +215,7 @@ def _dask(tasks, settings, scheduler, outcome):
 def check_outputs(route, out_dir, fmt: str, inputs) -> dict:
     """Every file a route will write (each reading's report, the summaries), checked against what it
     reads before anything is opened or diagnosed; the reports' paths by task index."""
-    from ..outfile import check_target
+    from ..common.outfile import check_target
 
     reports = report_paths(route, Path(out_dir), fmt)
     for path in [*reports.values(), *summary_paths(Path(out_dir)).values()]:
@@ -233,11 +233,11 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
     ISO 8601 to the minute, now when None), whichever worker wrote it. Before
     any reading is diagnosed, every file the run will write (each report and
     the summaries) is checked against ``inputs`` (default ``run_inputs``) by
-    ``engine.outfile.check_target``. A reading is skipped when a diagnosis
+    ``engine.common.outfile.check_target``. A reading is skipped when a diagnosis
     with its key (``history.record.reading_key``: files, machine, how the
     route reads them, rulebooks) is stored.
     """
-    from ..outfile import known_inputs
+    from ..common.outfile import known_inputs
     from ..report import write_atomically
     from ..report.document import report_time
 

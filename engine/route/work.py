@@ -8,13 +8,11 @@ same function runs in a local process pool and on a Dask worker.
 
 from __future__ import annotations
 
-import os
 import time
 from dataclasses import replace
-from datetime import datetime
 from pathlib import Path
 
-from ..errors import TellwaveError, UsageError
+from ..common.errors import TellwaveError, UsageError
 from .files import Task
 
 _STATE: dict = {}
@@ -62,7 +60,7 @@ def _history_link(settings: dict, machine, advice, content_hash: str, when: str,
     if not path:
         return None
     from ..advice import zone_scale
-    from ..errors import StoreError
+    from ..common.errors import StoreError
     from ..history.store import Store
     from ..trend.diagnosis import HistoryLink
 
@@ -80,12 +78,9 @@ def _history_link(settings: dict, machine, advice, content_hash: str, when: str,
 
 def taken_at(task: Task, reading, clock) -> tuple[str, str]:
     """The reading's time (ISO 8601) and where it came from: the route, the file, or the file's date."""
-    from ..history.times import iso, resolve_time
+    from ..history.times import reading_time
 
-    for stated, origin in ((task.time, "route"), (reading.timestamp, "file")):
-        if stated is not None:
-            return iso(resolve_time(stated, clock, what=f"{task.name}: time")), origin
-    return iso(datetime.fromtimestamp(os.path.getmtime(task.files[0]))), "file modified"
+    return reading_time(task.time, "route", reading, task.files[0], clock, what=f"{task.name}: time")
 
 
 def diagnose_task(task: Task, keys, settings: dict) -> dict:

@@ -9,7 +9,7 @@ from scipy import signal
 from engine.analysis import (amplitude_spectrum, averaged_spectrum, band_rms, find_peaks,
                              integrate, interpolate_line, overall_levels, peak_near,
                              refine_running_speed, waveform_statistics, window_factors)
-from engine.units import STANDARD_GRAVITY_M_S2
+from engine.common.units import STANDARD_GRAVITY_M_S2
 
 from support import tone
 

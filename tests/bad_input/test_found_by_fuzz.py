@@ -26,7 +26,7 @@ def _one_line(capsys) -> str:
 @pytest.fixture(scope="module")
 def stored(tmp_path_factory):
     from engine.machine import load_machine
-    from engine.synth import simulate, write_simulation
+    from engine.simulation import simulate, write_simulation
 
     folder = tmp_path_factory.mktemp("found")
     sim = simulate(load_machine(PUMP), "unbalance", "pump", 2, fs_hz=12800.0, duration_s=1.0, seed=5, points=["P1H"])

@@ -26,9 +26,9 @@ import yaml
 from hypothesis import HealthCheck, given, settings, strategies as st
 from hypothesis.extra import numpy as hnp
 
-from engine.errors import MachineError, ReadingError, RulebookError, TellwaveError
-from engine.jsonout import dumps
-from engine.kinematics import forcing_frequencies
+from engine.common.errors import MachineError, ReadingError, RulebookError, TellwaveError
+from engine.common.jsonout import dumps
+from engine.machine.kinematics import forcing_frequencies
 from engine.machine import load_machine
 from engine.pipeline import diagnose
 from engine.readings import load_reading, sidecar_path

@@ -20,16 +20,16 @@ import yaml
 from hypothesis import given, settings, strategies as st
 from scipy.io import savemat
 
-from engine import outfile
+from engine.common import outfile
 from engine.cli import main
-from engine.errors import MachineError, OutputError, ReadingError, RulebookError
-from engine.jsonout import dumps
-from engine.kinematics import forcing_frequencies
+from engine.common.errors import MachineError, OutputError, ReadingError, RulebookError
+from engine.common.jsonout import dumps
+from engine.machine.kinematics import forcing_frequencies
 from engine.machine import load_machine
 from engine.readings import MIN_SAMPLES, load_reading, sidecar_path
 from engine.reasoning import load_rulebook
 from engine.report import render, write_atomically
-from engine.yamlfile import MAX_BYTES
+from engine.common.yamlfile import MAX_BYTES
 
 from bench.hostile import seed_signal, strict_json
 from support import CASES, tone
@@ -317,7 +317,7 @@ def test_defect_09_exponent_without_a_dot_is_a_number(tmp_path):
 
 
 def test_defect_09_yaml_1_1_surprises_are_gone(tmp_path):
-    from engine.yamlfile import read_yaml
+    from engine.common.yamlfile import read_yaml
 
     path = tmp_path / "x.yaml"
     path.write_text("a: 1:30\nb: 017\nc: yes\nd: 2024-01-01\ne: 0o17\nf: 1E3\n")

@@ -12,10 +12,10 @@ from __future__ import annotations
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
-from engine.errors import MachineError, ReadingError, RouteError
+from engine.common.errors import MachineError, ReadingError, RouteError
 from engine.machine import load_machine
 from engine.readings import load_reading
-from engine.yamlfile import MAX_INTEGER, read_yaml
+from engine.common.yamlfile import MAX_INTEGER, read_yaml
 
 
 def _yaml(tmp_path, text: str):

@@ -11,7 +11,7 @@ import pytest
 from engine.cli import main
 from engine.history.store import Store
 from engine.machine import load_machine
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 from support import CASES
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"
@@ -81,11 +81,11 @@ def test_diagnose_refuses_before_any_work(tmp_path, stored, capsys):
 
 @pytest.mark.parametrize("target", ["m.yaml", "policy.yaml", "r.wav", "r.wav.yaml"])
 def test_plan_never_writes_over_machine_policy_or_reading(stored, tmp_path, target, capsys):
-    from engine.paths import RULEBOOKS
+    from engine.common.paths import RULEBOOKS
 
     folder = tmp_path / "plan"
     shutil.copytree(stored, folder)
-    shutil.copy(RULEBOOKS / "advice" / "acquisition.yaml", folder / "policy.yaml")
+    shutil.copy(RULEBOOKS / "planner" / "acquisition.yaml", folder / "policy.yaml")
     before = _snapshot(folder)
     _refused(["plan", folder / "m.yaml", "--no-proof", "--policy", folder / "policy.yaml",
               *(["--reading", folder / "r.wav"] if target.startswith("r.wav") else []),
@@ -143,8 +143,8 @@ def test_inputs_are_found_by_identity_and_by_path(tmp_path):
     """``known_inputs`` (built once for a route's thousands of files) finds what the pairwise check found."""
     import os
 
-    from engine.errors import OutputError
-    from engine.outfile import check_target, known_inputs, sqlite_files
+    from engine.common.errors import OutputError
+    from engine.common.outfile import check_target, known_inputs, sqlite_files
 
     reading = tmp_path / "r.wav"
     reading.write_bytes(b"RIFF")

@@ -7,11 +7,11 @@ import functools
 
 import pytest
 
-from engine.casebook import load_case, simulation_of
+from engine.pipeline.cases import load_case, simulation_of
 from engine.machine import load_machine
 from engine.pipeline import diagnose
 from engine.reasoning import Reasoner, load_rulebook
-from engine.synth import as_reading
+from engine.simulation import as_reading
 from support import CASES
 
 BEARING_AT_MOST = 0.4
@@ -35,7 +35,7 @@ def test_a_gear_fault_leaves_no_bearing_hypothesis_above_40_percent(name):
 def test_a_gear_fault_and_a_bearing_fault_at_once_are_both_named():
     case = load_case(CASES / "demo" / "ct1-bevel-tooth.case.yaml")
     machine = load_machine(case.machine)
-    from engine.synth import simulate
+    from engine.simulation import simulate
 
     sim = simulate(machine, "gear-tooth", "bevel_stage", 3, seed=15, also=(("outer-race", "output_lower", 3),))
     confident = {(h.fault, h.component) for h in diagnose(as_reading(sim), machine, _reasoner()).reasoning.confident()}

@@ -16,8 +16,8 @@ from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
-from engine.synth import as_reading, simulate, write_simulation
-from engine.yamlfile import load_schema
+from engine.simulation import as_reading, simulate, write_simulation
+from engine.common.yamlfile import load_schema
 
 from support import ROOT, HtmlChecker
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
@@ -153,7 +153,7 @@ def test_diagnose_several_files_of_one_machine_together(tmp_path, capsys):
 def test_withheld_diagnosis_has_its_own_exit_code(tmp_path, capsys):
     m = load_machine(RW2)
     sim = simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2)
-    from engine.synth import clip_channel
+    from engine.simulation import clip_channel
     wav = write_simulation(clip_channel(sim, "P1H", 0.3), tmp_path / "clipped.wav")[0]
     assert main(["diagnose", str(wav), "--machine", str(RW2)]) == 7
     out = capsys.readouterr().out
@@ -161,7 +161,7 @@ def test_withheld_diagnosis_has_its_own_exit_code(tmp_path, capsys):
 
 
 def test_withheld_reading_still_acts_on_a_high_level_of_clean_channels(reasoner):
-    from engine.synth import clip_channel
+    from engine.simulation import clip_channel
     m = load_machine(RW2)
     sim = clip_channel(simulate(m, "unbalance", "pump", 4, None, 12800.0, 3.0, 2), "M2A", 0.3)
     d = diagnose(as_reading(sim), m, reasoner)
@@ -227,7 +227,7 @@ def test_demo_writes_reports_and_an_index(tmp_path, reasoner):
 
 def test_a_clipped_channel_s_zone_carries_its_signal_issue(reasoner):
     # issue 13: a clipped channel got a zone in the levels table with no flag
-    from engine.synth import clip_channel
+    from engine.simulation import clip_channel
     m = load_machine(RW2)
     sim = clip_channel(simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2), "M2A", 0.3)
     doc = document_of(diagnose(as_reading(sim), m, reasoner))

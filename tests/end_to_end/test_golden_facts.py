@@ -25,7 +25,7 @@ ABS_TOL = 1e-9
 
 
 def _facts_of(name: str) -> list[dict]:
-    from engine.casebook import load_case, reading_of
+    from engine.pipeline.cases import load_case, reading_of
     from engine.evidence import extract_evidence
     from engine.machine import load_machine
 

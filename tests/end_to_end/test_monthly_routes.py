@@ -10,7 +10,7 @@ import jsonschema
 import pytest
 
 from engine.cli import main
-from engine.yamlfile import load_schema
+from engine.common.yamlfile import load_schema
 from support import CASES
 
 PUMP = "RW-2 raw water pump"

@@ -6,7 +6,7 @@ bearing on the coupled shaft whose BPFO lies on 2 x BPFO of the 6312. An
 outer-race defect on the 6312 puts a line at the input bearing's BPFO (its own
 second harmonic); a defect on the input bearing puts none at the 6312's BPFO.
 The same holds for the inner races: BPFO + BPFI = n orders for every bearing
-(the kinematic formulas in engine/kinematics.py, Randall & Antoni 2011, eqs. 1-4),
+(the kinematic formulas in engine/machine/kinematics.py, Randall & Antoni 2011, eqs. 1-4),
 so 2 x BPFI(6312) - 2X, a 1X sideband of the inner race's second harmonic, lies within
 0.05 % of BPFI(input). The answer a diagnostician gives from the series: the bearing
 whose whole series is there. The demo machine CT-1 has the same coincidence (below).
@@ -24,11 +24,11 @@ from __future__ import annotations
 
 import pytest
 
-from engine.kinematics import bearing_multiples
+from engine.machine.kinematics import bearing_multiples
 from engine.machine import load_machine
 from engine.pipeline import diagnose
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
-from engine.synth import as_reading, simulate
+from engine.simulation import as_reading, simulate
 
 from support import ROOT, TEST_MACHINES
 

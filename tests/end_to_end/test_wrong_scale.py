@@ -27,8 +27,8 @@ from engine.evidence.vocabulary import level_fields
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
-from engine.synth import Simulation, as_reading, simulate
-from engine.yamlfile import load_schema
+from engine.simulation import Simulation, as_reading, simulate
+from engine.common.yamlfile import load_schema
 
 from support import CASES, TEST_DATA, TEST_MACHINES, HtmlChecker
 

@@ -21,7 +21,7 @@ import numpy as np
 import pytest
 
 from engine.cli import main
-from engine.errors import EXIT_WITHHELD
+from engine.common.errors import EXIT_WITHHELD
 from engine.reasoning import CONFIDENT
 
 from support import TEST_DATA, TEST_MACHINES

@@ -12,7 +12,7 @@ import pytest
 
 from engine.analysis.peaks import Peak
 from engine.evidence.envelope import _defects, _owners
-from engine.kinematics import rates_at
+from engine.machine.kinematics import rates_at
 from engine.machine import load_machine
 from support import ROOT
 

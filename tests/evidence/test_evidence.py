@@ -11,7 +11,7 @@ from engine.evidence import FACTS, extract_evidence, fields_of
 from engine.evidence.signs import SIGNS
 from engine.machine import load_machine
 from engine.readings import load_reading
-from engine.synth import as_reading, simulate
+from engine.simulation import as_reading, simulate
 
 from support import CASES, SHARED_DATASETS, TEST_MACHINES
 

@@ -16,7 +16,7 @@ import pytest
 from engine.evidence import EXTRACTORS, FACTS, extract_evidence, fields_of
 from engine.machine import load_machine
 from engine.readings import Channel, Reading
-from engine.synth import as_reading, simulate
+from engine.simulation import as_reading, simulate
 from support import CASES
 
 RW2 = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")

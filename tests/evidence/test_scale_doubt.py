@@ -20,8 +20,8 @@ from engine.evidence.vocabulary import FACTS, SCALE_FREE_UNITS, fields_of, level
 from engine.machine import load_machine
 from engine.readings import Channel, Reading
 from engine.readings.quality import check_channel, same_scale
-from engine.synth import as_reading, simulate
-from engine.units import LEVEL_UNITS, STANDARD_GRAVITY_M_S2
+from engine.simulation import as_reading, simulate
+from engine.common.units import LEVEL_UNITS, STANDARD_GRAVITY_M_S2
 
 from support import CASES, TEST_DATA, TEST_MACHINES
 

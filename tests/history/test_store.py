@@ -9,7 +9,7 @@ import sys
 
 import pytest
 
-from engine.errors import StoreError
+from engine.common.errors import StoreError
 from engine.history.store import SCHEMA_VERSION, Store
 
 
@@ -132,7 +132,7 @@ def test_a_diagnosis_becomes_a_record_with_its_key_indicators(tmp_path):
     from engine.pipeline import diagnose, document_of
     from engine.readings import load_reading
     from engine.reasoning import Reasoner, load_rulebook
-    from engine.synth import simulate, write_simulation
+    from engine.simulation import simulate, write_simulation
     from support import CASES
 
     machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")
@@ -169,7 +169,7 @@ def _gained_record(gain: float, when: str, n: int):
     from engine.machine import load_machine
     from engine.pipeline import diagnose, document_of
     from engine.reasoning import Reasoner, load_rulebook
-    from engine.synth import Simulation, as_reading, simulate
+    from engine.simulation import Simulation, as_reading, simulate
     from support import CASES
 
     machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")

@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from engine.cli import main
-from engine.errors import StoreError
+from engine.common.errors import StoreError
 from engine.history.store import ID_MAX, SCHEMA_VERSION, Store
 from support import ROOT
 from test_store import record

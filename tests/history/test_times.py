@@ -6,7 +6,7 @@ from datetime import datetime
 
 import pytest
 
-from engine.errors import UsageError
+from engine.common.errors import UsageError
 from engine.history.times import Clock, resolve_time
 
 CLOCK = Clock(datetime(2026, 3, 4, 22, 0), interval_s=10.0)

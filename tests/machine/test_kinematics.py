@@ -5,7 +5,7 @@ import math
 import pytest
 from hypothesis import given, strategies as st
 
-from engine.kinematics import bearing_multiples, forcing_frequencies
+from engine.machine.kinematics import bearing_multiples, forcing_frequencies
 from engine.machine import Bearing, load_machine
 
 from support import CASES, TEST_MACHINES

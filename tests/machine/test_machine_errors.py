@@ -5,7 +5,7 @@ import textwrap
 import pytest
 
 from engine.cli import main
-from engine.errors import MachineError
+from engine.common.errors import MachineError
 from engine.machine import load_machine
 
 GOOD_HEAD = "machine: m\nshafts:\n  - id: motor\n    speed_rpm: 1480\n"

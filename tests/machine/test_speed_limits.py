@@ -6,8 +6,8 @@ import textwrap
 
 import pytest
 
-from engine.errors import MachineError
-from engine.kinematics import MAX_LINE_FED_SLIP, speed_limits, synchronous_hz
+from engine.common.errors import MachineError
+from engine.machine.kinematics import MAX_LINE_FED_SLIP, speed_limits, synchronous_hz
 from engine.machine import load_machine
 from support import CASES, TEST_MACHINES
 

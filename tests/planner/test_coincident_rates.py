@@ -12,12 +12,12 @@ import json
 import pytest
 
 from engine.cli import main
-from engine.errors import TellwaveError
+from engine.common.errors import TellwaveError
 from engine.machine import load_machine
 from engine.planner import load_policy
 from engine.planner.needs import requirements
 from engine.planner.propose import propose
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 from support import CASES
 
 MACHINES = sorted((CASES / "machines").glob("*.yaml"))

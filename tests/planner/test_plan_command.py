@@ -11,7 +11,7 @@ from engine.cli import main
 from engine.machine import load_machine
 from engine.planner import build_plan, load_policy, render_plan
 from engine.report.render import environment
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 
 from support import CASES, ROOT, TEST_MACHINES, HtmlChecker
 
@@ -98,7 +98,7 @@ def test_plan_of_a_reading_uses_its_settings(tmp_path, capsys):
     assert main(["plan", str(RW2), "--reading", str(reading), "--point", "P1H", "--no-proof",
                  "--format", "md", "-o", str(out)]) == 0
     text = out.read_text()
-    # Markdown source: the underscore is escaped (engine.escape.markdown), the page reads pump_de
+    # Markdown source: the underscore is escaped (engine.common.escape.markdown), the page reads pump_de
     assert "route-p1h.npz: Fmax 1000 Hz" in text and r"| outer-race on pump\_de | cannot show |" in text
     assert not list(tmp_path.glob("*.part"))
 

@@ -7,7 +7,7 @@ import yaml
 from hypothesis import given, settings as hyp_settings, strategies as st
 
 from engine.cli import main
-from engine.errors import RulebookError, UsageError
+from engine.common.errors import RulebookError, UsageError
 from engine.planner import given_settings, load_policy, read_policy, reading_settings
 from engine.planner.policy import DEFAULT_POLICY
 

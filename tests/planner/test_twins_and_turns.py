@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from engine.kinematics import bearing_multiples
+from engine.machine.kinematics import bearing_multiples
 from engine.machine import load_machine
 from engine.planner.check import CANNOT, check, verdicts
 from engine.planner.policy import load_policy

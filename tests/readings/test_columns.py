@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 import yaml
 
-from engine.errors import ReadingError
+from engine.common.errors import ReadingError
 from engine.readings import load_reading
 from support import SHARED_DATASETS
 

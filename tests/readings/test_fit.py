@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from engine.errors import ReadingError
+from engine.common.errors import ReadingError
 from engine.machine import load_machine
 from engine.readings import Channel, Reading, check_points
 from support import CASES

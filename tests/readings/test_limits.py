@@ -18,7 +18,7 @@ import yaml
 from scipy.io import wavfile
 
 from engine.cli import main
-from engine.errors import ReadingError, UsageError
+from engine.common.errors import ReadingError, UsageError
 from engine.planner import load_policy
 from engine.planner.settings import given_settings
 from engine.readings import load_reading, sidecar_path

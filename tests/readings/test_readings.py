@@ -9,9 +9,9 @@ import yaml
 from hypothesis import HealthCheck, given, settings, strategies as st
 from scipy.io import wavfile
 
-from engine import units
+from engine.common import units
 from engine.cli import main
-from engine.errors import ReadingError, UsageError
+from engine.common.errors import ReadingError, UsageError
 from engine.readings import check_resolution, load_reading, sidecar_path
 
 from support import tone

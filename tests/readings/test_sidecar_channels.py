@@ -13,7 +13,7 @@ import yaml
 from scipy.io import wavfile
 
 from engine.cli import main
-from engine.errors import ReadingError
+from engine.common.errors import ReadingError
 from engine.readings import load_reading, sidecar_path
 from support import tone
 

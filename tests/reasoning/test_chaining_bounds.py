@@ -10,7 +10,7 @@ import textwrap
 import pytest
 
 from engine.cli import main
-from engine.errors import ReasoningError, RulebookError
+from engine.common.errors import ReasoningError, RulebookError
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning import engine as reasoning_engine
 from engine.reasoning import rulebook as rulebook_module

@@ -13,7 +13,7 @@ import textwrap
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from engine.errors import RulebookError
+from engine.common.errors import RulebookError
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning.explaining import Claim, share
 

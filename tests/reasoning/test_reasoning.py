@@ -14,7 +14,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from engine.errors import RulebookError
+from engine.common.errors import RulebookError
 from engine.reasoning import Reasoner, ReasoningError, combine, combine_all, load_rulebook, ramp
 from engine.reasoning.engine import engine_copy, engine_value
 

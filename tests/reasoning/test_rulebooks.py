@@ -58,7 +58,7 @@ def test_healthy_reading_stays_below_confident(reasoner):
 def test_clipped_reading_withholds_the_diagnosis(reasoner):
     from engine.evidence import extract_evidence
     from engine.machine import load_machine
-    from engine.synth import as_reading, simulate
+    from engine.simulation import as_reading, simulate
 
     m = load_machine(ROOT / "cases/machines/rw2-raw-water-pump.yaml")
     sim = simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2)
@@ -76,7 +76,7 @@ def test_engine_copies_of_real_evidence_have_no_exponent_notation(reasoner):
 
     from engine.evidence import extract_evidence
     from engine.machine import load_machine
-    from engine.synth import as_reading, simulate
+    from engine.simulation import as_reading, simulate
 
     m = load_machine(ROOT / "cases/machines/rw2-raw-water-pump.yaml")
     facts = extract_evidence(as_reading(simulate(m, "outer-race", "pump_nde", 1, None, 12800.0, 2.0, 3)), m)
@@ -137,7 +137,7 @@ def test_bad_site_rulebook_is_one_line_with_exit_5(tmp_path, capsys):
 def test_settings_rules_limit_or_withhold_by_what_the_reading_cannot_show(reasoner):
     from engine.machine import load_machine
     from engine.pipeline import diagnose
-    from engine.synth import as_reading, simulate
+    from engine.simulation import as_reading, simulate
 
     ct1 = load_machine(ROOT / "cases/machines/ct1-cooling-tower-fan.yaml")
     # Fmax 800 Hz is below 3 x GMF (377 Hz): gear faults are out of reach, the rest is still judged
@@ -159,7 +159,7 @@ def test_two_faults_present_together_both_survive_the_differential(reasoner, fir
     # differential diagnosis must not let one true fault's evidence crowd out another's
     from engine.machine import load_machine
     from engine.pipeline import diagnose
-    from engine.synth import as_reading, simulate
+    from engine.simulation import as_reading, simulate
 
     m = load_machine(ROOT / "cases/machines/rw2-raw-water-pump.yaml")
     sim = simulate(m, first[0], first[1], 3, None, 25600.0, 3.0, 5, also=[(second[0], second[1], 3)])

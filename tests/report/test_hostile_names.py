@@ -6,7 +6,7 @@ name and a site rule's title each carry HTML (``<script>``, ``<img onerror>``),
 a Markdown ``javascript:`` link, a line break that would start a heading, a
 comment opener, and the terminal's ESC and BEL. Each command is run through
 ``engine.cli.main`` and every output (terminal and files) is checked for its
-format (``engine.escape``: one function per output kind):
+format (``engine.common.escape``: one function per output kind):
 
 - text (terminal, ``summary.txt``): no ESC, no BEL, no line break from a value
   (text that looks like HTML is only text on a terminal: it is shown as written);
@@ -31,7 +31,7 @@ import yaml
 
 from engine.cli import main
 from engine.machine import load_machine
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 from support import CASES
 
 HOSTILE = ["<script>alert(1)</script>", "<img src=x onerror=alert(1)>", "[x](javascript:alert(1))", "\n# heading",
@@ -178,7 +178,7 @@ def test_rulebook_list_and_explain(world):
 
 
 def test_markdown_neutralises_html_links_comments_line_breaks_and_list_markers():
-    from engine.escape import markdown
+    from engine.common.escape import markdown
 
     assert markdown("<!-- x") == r"&lt;\!-- x"
     assert markdown("[x](javascript:alert(1))") == r"\[x\](javascript:alert(1))"
@@ -188,7 +188,7 @@ def test_markdown_neutralises_html_links_comments_line_breaks_and_list_markers()
 
 
 def test_a_link_target_stays_a_relative_path():
-    from engine.escape import url_path
+    from engine.common.escape import url_path
 
     assert url_path("reports/rw-2/r 1.wav.html") == "reports/rw-2/r%201.wav.html"
     assert url_path("javascript:alert(1)") == "javascript%3Aalert%281%29"
@@ -198,7 +198,7 @@ def test_a_link_target_stays_a_relative_path():
 def test_html_values_show_control_characters_as_codes_and_keep_markup_made_safe():
     import markupsafe
 
-    from engine.escape import html_value
+    from engine.common.escape import html_value
 
     assert html_value("a\x1bb\x07") == r"a\x1bb\x07"
     kept = html_value(markupsafe.Markup("<b>x\x1b</b>"))

@@ -14,14 +14,14 @@ import re
 import jsonschema
 import pytest
 
-from engine.casebook import load_case, simulation_of
+from engine.pipeline.cases import load_case, simulation_of
 from engine.cli import main
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
-from engine.synth import as_reading, simulate, write_simulation
-from engine.yamlfile import load_schema
+from engine.simulation import as_reading, simulate, write_simulation
+from engine.common.yamlfile import load_schema
 
 from support import CASES, ROOT
 
@@ -119,7 +119,7 @@ def test_2_taken_at_on_the_command_line_reaches_the_report(tmp_path, capsys):
 
 def test_2_a_combined_reading_keeps_the_time_of_whichever_file_states_one(tmp_path):
     from engine.readings import combine_readings, load_reading
-    from engine.synth import simulate
+    from engine.simulation import simulate
 
     machine = load_machine(CASES / "machines/rw2-raw-water-pump.yaml")
     one = write_simulation(simulate(machine, "healthy", None, 2, None, 12800.0, 2.0, 1, points=["P1H"]),

@@ -7,7 +7,7 @@ from pathlib import Path
 import yaml
 
 from engine.machine import load_machine
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 from support import CASES
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"

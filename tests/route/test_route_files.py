@@ -9,7 +9,7 @@ import yaml
 from routes import PUMP, make_route
 
 from engine.cli import main
-from engine.errors import RouteError
+from engine.common.errors import RouteError
 from engine.route import load_folder, load_route
 
 

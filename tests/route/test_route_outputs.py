@@ -16,7 +16,7 @@ from engine.cli import main
 from engine.history.record import content_hash, reading_key, rulebooks_hash
 from engine.history.store import Store
 from engine.machine import load_machine
-from engine.synth import simulate, write_simulation
+from engine.simulation import simulate, write_simulation
 
 
 def _reading(path, seed=0, point="P1H", fault="unbalance", component="pump"):

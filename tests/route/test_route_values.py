@@ -22,7 +22,7 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 from routes import PUMP
 
 from engine.cli import main
-from engine.errors import RouteError, TellwaveError, UsageError
+from engine.common.errors import RouteError, TellwaveError, UsageError
 from engine.history.times import Clock, resolve_time
 from engine.readings import load_reading
 from engine.route import load_folder, load_route

@@ -7,10 +7,10 @@ import yaml
 from engine.analysis import amplitude_spectrum, find_peaks
 from engine.cli import main
 from engine.evidence import extract_evidence
-from engine.kinematics import forcing_frequencies
+from engine.machine.kinematics import forcing_frequencies
 from engine.machine import load_machine
 from engine.readings import load_reading
-from engine.synth import as_reading, simulate, write_simulation
+from engine.simulation import as_reading, simulate, write_simulation
 
 from support import CASES
 
@@ -156,14 +156,14 @@ def test_cli_synth_and_bad_fault(tmp_path, capsys):
 
 
 def test_fault_on_a_component_the_machine_lacks(rw2):
-    from engine.errors import UsageError
+    from engine.common.errors import UsageError
     with pytest.raises(UsageError, match="has no gear"):
         simulate(rw2, "gear-tooth")
 
 
 def test_the_simulator_speaks_the_rulebooks_fault_ids():
     from engine.reasoning import load_rulebook
-    from engine.synth import FAULTS
+    from engine.simulation import FAULTS
 
     declared = set(load_rulebook().faults)
     assert set(FAULTS) - {"healthy"} <= declared, set(FAULTS) - {"healthy"} - declared

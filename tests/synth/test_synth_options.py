@@ -5,9 +5,9 @@ import numpy as np
 import pytest
 
 from engine.analysis import amplitude_spectrum
-from engine.errors import UsageError
+from engine.common.errors import UsageError
 from engine.machine import load_machine
-from engine.synth import _resonance_ring, simulate
+from engine.simulation import _resonance_ring, simulate
 
 from support import CASES
 

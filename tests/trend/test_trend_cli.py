@@ -6,7 +6,7 @@ import pytest
 
 from engine.cli import main
 from engine.cli.trend import parse_limits
-from engine.errors import UsageError
+from engine.common.errors import UsageError
 
 
 def test_limits_parse():

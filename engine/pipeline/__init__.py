@@ -9,13 +9,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .advice import Advice, advise
-from .analysis import analyse
-from .analysis.plotdata import PlotData, plot_data
-from .evidence import Evidence, run_extractors, summarise
-from .machine import Machine
-from .readings import Reading, check_points, check_record_length, describe_issue
-from .reasoning import Reasoner, Reasoning
+from ..advice import Advice, advise
+from ..analysis import analyse
+from ..analysis.plotdata import PlotData, plot_data
+from ..evidence import Evidence, run_extractors, summarise
+from ..machine import Machine
+from ..readings import Reading, check_points, check_record_length, describe_issue
+from ..reasoning import Reasoner, Reasoning
 
 
 @dataclass(frozen=True)
@@ -77,7 +77,7 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     advice = advise(machine, evidence, reasoning, advice_data)
     figures = None
     if plots:
-        from .report.plots import focus
+        from ..report.plots import focus
 
         channel, shaft, bearing = focus(reasoning, evidence, machine)
         figures = plot_data(analysis, channel, shaft, bearing)
@@ -88,8 +88,8 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
 def reach_of(reading: Reading, machine: Machine, driver_rpm: float) -> tuple[dict, ...]:
     """What the reading's settings cannot show, or may miss, at its points: the planner's checks of
     the same settings, so a fault out of reach is reported as such, not as absent."""
-    from .planner.check import CAN, reading_verdicts
-    from .planner.policy import load_policy
+    from ..planner.check import CAN, reading_verdicts
+    from ..planner.policy import load_policy
 
     points = sorted({c.point for c in reading.channels if c.point in {p.id for p in machine.points}})
     if not points:
@@ -99,12 +99,12 @@ def reach_of(reading: Reading, machine: Machine, driver_rpm: float) -> tuple[dic
 
 
 def document_of(d: Diagnosis, made_at: str | None = None) -> dict:
-    """The report of a diagnosis as one plain dict (engine/schemas/report.schema.json).
+    """The report of a diagnosis as one plain dict (engine/common/schemas/report.schema.json).
 
     ``made_at`` is the report's time (ISO 8601, local with UTC offset, to the
     minute); None means now. Give one for reports that must compare equal.
     """
-    from .report import report_document
+    from ..report import report_document
 
     return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach,
                            made_at=made_at)

@@ -3,7 +3,7 @@
 A machine file lists shafts with their speeds and the components on them
 (rolling bearings, gear meshes, belt drives, impellers and fan rotors,
 induction motors) and the measurement points. The file is checked against
-``schemas/machine.schema.json`` and then for consistency (every reference
+``common/schemas/machine.schema.json`` and then for consistency (every reference
 names a component that exists, shaft speeds resolve without a cycle, gear and
 belt ratios agree with stated speeds). Every problem is one ``MachineError``
 that names the file, the line and the field.
@@ -15,8 +15,8 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Mapping
 
-from .errors import MachineError
-from .yamlfile import YamlDocument, read_yaml, validate
+from ..common.errors import MachineError
+from ..common.yamlfile import YamlDocument, read_yaml, validate
 
 RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 %
 MIN_SPEED_RPM = 0.1       # slower than a kiln or a thickener rake: not a machine this tool is for

@@ -12,16 +12,16 @@ from dataclasses import dataclass
 from datetime import datetime, timedelta
 from pathlib import Path
 
-from .casebook import Case, case_files, describe, judge, load_case, reading_of, simulation_of
-from .machine import load_machine
-from .outfile import check_target, known_inputs
-from .paths import CASES
-from .pipeline import diagnose, document_of
-from .readings import load_reading
-from .reasoning import Reasoner
-from .report import render, write_atomically
-from .report.render import environment
-from .synth import write_simulation
+from ..pipeline.cases import Case, case_files, describe, judge, load_case, reading_of, simulation_of
+from ..machine import load_machine
+from ..common.outfile import check_target, known_inputs
+from ..common.paths import CASES
+from ..pipeline import diagnose, document_of
+from ..readings import load_reading
+from ..reasoning import Reasoner
+from ..report import render, write_atomically
+from ..report.render import environment
+from ..simulation import write_simulation
 
 DEMO_CASES = CASES / "demo"
 SURVEY_START = datetime(2026, 3, 2, 8, 30)      # the demo's readings are stamped a few minutes apart from here

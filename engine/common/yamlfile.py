@@ -364,8 +364,8 @@ def read_yaml(path, error: type[TellwaveError]) -> YamlDocument:
 
 @lru_cache(maxsize=None)
 def load_schema(name: str) -> dict:
-    """A JSON Schema shipped in engine/schemas."""
-    text = resources.files("engine.schemas").joinpath(name).read_text(encoding="utf-8")
+    """A JSON Schema shipped in engine/common/schemas."""
+    text = resources.files("engine.common.schemas").joinpath(name).read_text(encoding="utf-8")
     return json.loads(text)
 
 

@@ -19,7 +19,7 @@ SHIPPED_DATA = "_data"          # setup.py: PACKAGE_DATA
 def _installed_data() -> Path | None:
     """``engine/_data`` of an installed package, or None (a checkout, or a package not on a file system)."""
     try:
-        place = resources.files(__package__ or "engine").joinpath(SHIPPED_DATA)
+        place = resources.files("engine").joinpath(SHIPPED_DATA)
     except (ModuleNotFoundError, TypeError):
         return None
     return place if isinstance(place, Path) and (place / "rulebooks").is_dir() else None
@@ -29,11 +29,11 @@ def _data_root() -> Path:
     installed = _installed_data()
     if installed is not None:
         return installed
-    checkout = Path(__file__).resolve().parent.parent
+    checkout = Path(__file__).resolve().parents[2]
     if (checkout / "rulebooks").is_dir():
         return checkout
     # neither: the package was installed without its data; name where it was looked for
-    return Path(__file__).resolve().parent / SHIPPED_DATA
+    return Path(__file__).resolve().parents[1] / SHIPPED_DATA
 
 
 DATA_ROOT = _data_root()

@@ -9,11 +9,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from .errors import CaseError
-from .machine import load_machine
-from .readings import combine_readings, load_reading
-from .reasoning import CONFIDENT, Reasoner, Reasoning
-from .yamlfile import read_yaml, validate
+from ..common.errors import CaseError
+from ..machine import load_machine
+from ..readings import combine_readings, load_reading
+from ..reasoning import CONFIDENT, Reasoner, Reasoning
+from ..common.yamlfile import read_yaml, validate
 
 
 @dataclass(frozen=True)
@@ -61,7 +61,7 @@ def simulation_of(case: Case, machine):
     """The case's simulation recipe, run (None for a case with reading files)."""
     if case.simulate is None:
         return None
-    from .synth import clip_channel, simulate
+    from ..simulation import clip_channel, simulate
 
     s = case.simulate
     sim = simulate(machine, s["fault"], s.get("component"), s.get("stage", 2), s.get("rpm"),
@@ -74,7 +74,7 @@ def simulation_of(case: Case, machine):
 def reading_of(case: Case, machine):
     sim = simulation_of(case, machine)
     if sim is not None:
-        from .synth import as_reading
+        from ..simulation import as_reading
         return as_reading(sim, source=case.path)
     return combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
 
@@ -116,7 +116,7 @@ def judge(expect: dict, result: Reasoning) -> bool:
 
 
 def run_case(case: Case, reasoner: Reasoner) -> CaseResult:
-    from .pipeline import diagnose
+    from . import diagnose
 
     machine = load_machine(case.machine)
     result = diagnose(reading_of(case, machine), machine, reasoner).reasoning

@@ -35,7 +35,7 @@ import math
 from dataclasses import asdict, dataclass
 from typing import Mapping
 
-from .machine import Bearing, Machine
+from .model import Bearing, Machine
 
 BEARING_DEFECTS = ("BPFO", "BPFI", "BSF", "FTF")
 MAX_LINE_FED_SLIP = 0.10    # rated slip is 1-5 %; past about 10 % a motor is near pull-out (common practice)

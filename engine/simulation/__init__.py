@@ -37,14 +37,14 @@ from typing import TYPE_CHECKING
 import numpy as np
 import yaml
 
-from .errors import UsageError
-from .kinematics import MAX_LINE_FED_SLIP, bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz
-from .machine import Machine, Point
-from .outfile import check_target, staged, write_whole
-from .units import STANDARD_GRAVITY_M_S2
+from ..common.errors import UsageError
+from ..machine.kinematics import MAX_LINE_FED_SLIP, bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz
+from ..machine import Machine, Point
+from ..common.outfile import check_target, staged, write_whole
+from ..common.units import STANDARD_GRAVITY_M_S2
 
 if TYPE_CHECKING:
-    from .readings import Reading
+    from ..readings import Reading
 
 G = STANDARD_GRAVITY_M_S2
 STAGES = (1, 2, 3, 4)
@@ -533,8 +533,8 @@ def clip_channel(sim: Simulation, channel: str, fraction: float) -> Simulation:
 
 def as_reading(sim: Simulation, source: str = "simulated") -> "Reading":
     """The simulation as an in-memory Reading (acceleration channels, quality gates run)."""
-    from .readings import Channel, Reading
-    from .readings.quality import check_channel
+    from ..readings import Channel, Reading
+    from ..readings.quality import check_channel
 
     channels = tuple(Channel(name, x, "acceleration", "g", sim.points[name].id, sim.points[name].direction)
                      for name, x in sim.channels.items())
@@ -546,7 +546,7 @@ def write_simulation(sim: Simulation, path, inputs=(), timestamp: str | None = N
     """Save a simulation as a reading (.wav float32 in g, .npz or .csv) with sidecar and truth;
     ``timestamp`` (ISO 8601), if given, goes into the sidecar as a logger would stamp it.
 
-    Returns the files written. Each goes through ``engine.outfile.staged``
+    Returns the files written. Each goes through ``engine.common.outfile.staged``
     (written to a temporary name, synced, renamed; never over one of
     ``inputs``), so an interrupted write leaves no half-written reading.
     """

@@ -15,9 +15,9 @@ from pathlib import Path
 import yaml
 
 from ..machine import load_machine
-from ..paths import CASES
+from ..common.paths import CASES
 from ..report import write_atomically
-from ..synth import simulate, write_simulation
+from ..simulation import simulate, write_simulation
 
 FIRST_SURVEY = datetime(2026, 1, 12, 8, 30)
 SURVEY_INTERVAL = timedelta(days=30)
@@ -36,7 +36,7 @@ MONTHS = 6
 def write_month(out_dir, month: int) -> Path:
     """Write month ``month`` (1-based) of the demo routes; returns its route file."""
     if not 1 <= month <= MONTHS:
-        from ..errors import UsageError
+        from ..common.errors import UsageError
         raise UsageError(f"the demo has months 1 to {MONTHS}, got {month}")
     folder = Path(out_dir) / f"month-{month:02d}"
     folder.mkdir(parents=True, exist_ok=True)

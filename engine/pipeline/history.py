@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import time
+from pathlib import Path
 
 
 def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
@@ -10,22 +11,17 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
     from ..advice import load_advice, zone_scale
     from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
     from ..history.store import Store, default_store_path
-    from ..history.times import iso, resolve_time
-    from ..pipeline import diagnose, document_of
-    from .files import Task
-    from .work import taken_at
+    from ..history.times import reading_time
     from ..trend.diagnosis import HistoryLink
+    from . import diagnose, document_of
 
     start = time.perf_counter()
     recording = content_hash(args.readings)
     how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
            "point": args.point, "direction": args.direction, "channels": args.channels}
     digest = reading_key(args.readings, machine.source, how, rulebooks_hash(tuple(args.site or ())))
-    task = Task(0, tuple(args.readings), machine.source, time=args.taken_at)
-    if args.taken_at is not None:
-        when, origin = iso(resolve_time(args.taken_at, None, what="--taken-at")), "command line"
-    else:
-        when, origin = taken_at(task, reading, None)
+    when, origin = reading_time(args.taken_at, "command line", reading, args.readings[0], None,
+                                what="--taken-at" if args.taken_at is not None else f"{Path(args.readings[0]).name}: time")
     advice = load_advice()
     with Store(args.store or default_store_path()) as store:
         known = store.stored_time(digest, recording, machine.name)

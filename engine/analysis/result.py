@@ -21,8 +21,8 @@ from typing import Mapping
 import numpy as np
 from scipy.fft import next_fast_len
 
-from ..errors import ReadingError
-from ..kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
+from ..common.errors import ReadingError
+from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..machine import Machine, Point
 from ..readings import Channel, QualityIssue, Reading, describe_issue
 from .envelope import band_from_spectrum, whitened_spectrum

@@ -1,0 +1,1 @@
+"""What every stage shares: errors, units, YAML files, output files, escaping, JSON, paths."""
