@@ -48,7 +48,10 @@ def run(args) -> int:
     reading = load_readings(args)
     if args.store is not None:
         from ..pipeline.history import diagnose_and_store
-        d, doc = diagnose_and_store(args, reading, machine, reasoner, plots=fmt == "html")
+        how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
+               "point": args.point, "direction": args.direction, "channels": args.channels}
+        d, doc = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store, how=how,
+                                    site=args.site, taken_at=args.taken_at, plots=fmt == "html")
     else:
         d = diagnose(reading, machine, reasoner, plots=fmt == "html", taken=taken)
         doc = document_of(d)

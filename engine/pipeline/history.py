@@ -6,8 +6,15 @@ import time
 from pathlib import Path
 
 
-def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
-    """(Diagnosis, report document with a ``trend`` section when a history exists); the reading is stored."""
+def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: dict, site=(), taken_at=None,
+                       plots: bool = False):
+    """Diagnose ``reading`` beside the machine's stored history, then store it.
+
+    ``files`` are the reading's files, ``how`` the options it was read with (unit, speed, sample rate,
+    scale, point, direction, channels): with the files, the machine and the rulebooks (``site``) they make
+    the key that tells a reading already stored. ``taken_at`` is a stated time, else the file's own.
+    Returns (Diagnosis, report document with a ``trend`` section when a history exists).
+    """
     from ..advice import load_advice, zone_scale
     from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
     from ..history.store import Store, default_store_path
@@ -16,14 +23,12 @@ def diagnose_and_store(args, reading, machine, reasoner, *, plots: bool):
     from . import diagnose, document_of
 
     start = time.perf_counter()
-    recording = content_hash(args.readings)
-    how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
-           "point": args.point, "direction": args.direction, "channels": args.channels}
-    digest = reading_key(args.readings, machine.source, how, rulebooks_hash(tuple(args.site or ())))
-    when, origin = reading_time(args.taken_at, "command line", reading, args.readings[0], None,
-                                what="--taken-at" if args.taken_at is not None else f"{Path(args.readings[0]).name}: time")
+    recording = content_hash(files)
+    digest = reading_key(files, machine.source, how, rulebooks_hash(tuple(site or ())))
+    when, origin = reading_time(taken_at, "command line", reading, files[0], None,
+                                what="--taken-at" if taken_at is not None else f"{Path(files[0]).name}: time")
     advice = load_advice()
-    with Store(args.store or default_store_path()) as store:
+    with Store(store_path or default_store_path()) as store:
         known = store.stored_time(digest, recording, machine.name)
         if known is not None and origin == "file modified":     # stored before with a better time: keep it
             when, origin = known
