@@ -19,8 +19,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from ..evidence.envelope import HARMONICS, SLIP_TOLERANCE, shared_lines
-from ..machine.kinematics import bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz, rates_at
+from ..evidence.envelope import harmonics_searched, shared_lines
+from ..evidence.matching import SLIP_TOLERANCE
+from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
@@ -123,13 +124,13 @@ def _strong_lines(machine: Machine, point: Point, speeds: dict, policy: Policy) 
         out.append((f"{h['mesh']} x GMF of {g.id} with sidebands", h["mesh"] * gmf + h["mesh_sidebands"] * fast))
     for r in machine.rotors:
         if r.shaft == point.shaft:
-            out.append((f"3 x vane pass of {r.id}", 3 * r.vanes * speeds[r.shaft]))
+            out.append((f"3 x vane pass of {r.id}", 3 * vane_pass_hz(r, speeds)))
     for b in machine.belts:
         if point.shaft in (b.driving_shaft, b.driven_shaft):
             bpf = belt_pass_hz(b, speeds)
             out.append((f"4 x belt pass of {b.id}", 4 * bpf))
     for m in motors_at(machine, point):
-        out.append((f"2 x twice line frequency of {m.id}", 4 * m.line_frequency_hz))
+        out.append((f"2 x twice line frequency of {m.id}", 2 * rates_at(machine, speeds).motor(m.id).twice_line_hz))
     return out
 
 
@@ -158,19 +159,20 @@ def _own_harmonics(shared: dict, bearing: str, name: str) -> tuple[int, int, str
     taken = shared[(bearing, defect)]
     words = "; ".join(f"{k} x falls on {'' if j == 1 else f'{j} x '}{NAME_OF[other]} of {who}"
                       for k, who, other, j in taken)
-    return HARMONICS[defect], HARMONICS[defect] - len(taken), words
+    return harmonics_searched(defect), harmonics_searched(defect) - len(taken), words
 
 
 def _bearing(machine, point, speeds, policy, targets, band):
     needs = []
     sep = policy.separation_lines
     band_lo, band_hi = band
-    shared = shared_lines(rates_at(machine, speeds), point.at)
+    every = rates_at(machine, speeds)
+    shared = shared_lines(every, point.at)
     for b in bearings_at(machine, point):
-        mult = bearing_multiples(b)
+        of = every.bearing(b.id)
         fr = speeds[b.shaft]
-        rates = {"outer-race": ("BPFO", mult["bpfo"] * fr), "inner-race": ("BPFI", mult["bpfi"] * fr),
-                 "rolling-element": ("2 x BSF", 2 * mult["bsf"] * fr), "cage": ("FTF", mult["ftf"] * fr)}
+        rates = {"outer-race": ("BPFO", of.bpfo_hz), "inner-race": ("BPFI", of.bpfi_hz),
+                 "rolling-element": ("2 x BSF", of.impact_rate_hz("BSF")), "cage": ("FTF", of.ftf_hz)}
         mine = [t for t in targets if t.component == b.id]
         for t in mine:
             name, rate = rates[t.signature]
@@ -227,9 +229,8 @@ def _bearing(machine, point, speeds, policy, targets, band):
             tuple((t, "envelope") for t in mine),
             "bearing impacts may ring anywhere in this band; the part above Fmax is lost before sampling",
             source="bearing_resonance_hz"))
-    fastest = max(r for b in bearings_at(machine, point) for r in
-                  (bearing_multiples(b)["bpfi"] * speeds[b.shaft], bearing_multiples(b)["bpfo"] * speeds[b.shaft],
-                   2 * bearing_multiples(b)["bsf"] * speeds[b.shaft]))
+    fastest = max(every.bearing(b.id).impact_rate_hz(d) for b in bearings_at(machine, point)
+                  for d in ("BPFI", "BPFO", "BSF"))
     h = policy.harmonics["envelope"]
     needs.append(Need(
         "bearing", "fmax", f"{h} harmonics of the fastest defect rate ({fastest:.1f} Hz) above {band_lo:.0f} Hz",
@@ -369,7 +370,7 @@ def _closest_pair(machine, point, speeds, policy):
     own = [(k * fr, f"{k}X of {point.shaft}") for k in range(1, policy.harmonics["shaft"] + 1)]
     others = [(k * hz, f"{k}X of {name}") for name, hz in speeds.items()
               if abs(hz - fr) > 1e-9 * fr for k in (1, 2, 3)]
-    others += [(2 * m.line_frequency_hz, f"2xLF of {m.id}") for m in machine.motors]
+    others += [(m.twice_line_hz, f"2xLF of {m.motor}") for m in rates_at(machine, speeds).motors]
     best = None
     for f1, l1 in own:
         for f2, l2 in others:
@@ -384,8 +385,9 @@ def _electrical(machine, point, speeds, policy, targets):
     sep = policy.separation_lines
     for m in motors_at(machine, point):
         fr = speeds[m.shaft]
-        two_lf = 2 * m.line_frequency_hz
-        pole_pass = pole_pass_hz(m.line_frequency_hz, m.poles, fr)
+        rates = rates_at(machine, speeds).motor(m.id)
+        two_lf = rates.twice_line_hz
+        pole_pass = rates.pole_pass_hz
         stator = next(t for t in targets if t.component == m.id and t.signature == "stator")
         bars = next(t for t in targets if t.component == m.id and t.signature == "rotor-bar")
         needs.append(Need("electrical", "fmax", f"twice line frequency of {m.id} ({two_lf:g} Hz)", two_lf, "blocks",
@@ -416,8 +418,8 @@ def _electrical(machine, point, speeds, policy, targets):
                      pole_pass, "blocks", ((bars, "pole-pass"),), "each sideband must stand apart from 1X",
                      lines=sep, source="lines_between_carrier_and_sideband"),
             ]
-        if m.rotor_bars:
-            rbp = m.rotor_bars * fr
+        rbp = rates.rotor_bar_hz
+        if rbp:
             needs.append(Need("electrical", "fmax", f"rotor bar pass of {m.id} with 2xLF sidebands", rbp + two_lf,
                               "view", (), "the rotor bar pass line and its sidebands, for the trend",
                               source="harmonics"))
