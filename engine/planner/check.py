@@ -18,9 +18,8 @@ from ..machine.kinematics import forcing_frequencies
 from ..machine import Machine
 from .needs import requirements
 from .policy import Policy
-from .routes import ROUTES
 from .settings import Settings, reading_settings
-from .targets import Target, purposes_at, targets_at
+from .targets import ROUTES, Target, purposes_at, targets_at
 
 CANNOT, MAY_MISS, CAN = "cannot show", "may miss", "can show"
 
@@ -63,8 +62,9 @@ class Verdict:
 
 
 def check(machine: Machine, settings: Settings, policy: Policy, points=None, purposes=None,
-          speed_rpm: float | None = None) -> list[Limitation]:
-    """Every requirement of ``purposes`` (default all) at ``points`` (default all) that ``settings`` miss."""
+          speed_rpm: float | None = None, rulebook=None) -> list[Limitation]:
+    """Every requirement of ``purposes`` (default all) at ``points`` (default all) that ``settings`` miss,
+    thresholds from the rules of ``rulebook`` (default: the shipped rulebooks)."""
     merged: dict[tuple, Limitation] = {}
     for point in machine.points:
         if points is not None and point.id not in points:
@@ -72,7 +72,7 @@ def check(machine: Machine, settings: Settings, policy: Policy, points=None, pur
         for purpose in purposes_at(machine, point):
             if purposes is not None and purpose not in purposes:
                 continue
-            for need in requirements(machine, point, purpose, policy, speed_rpm).needs:
+            for need in requirements(machine, point, purpose, policy, speed_rpm, rulebook).needs:
                 if need.met_by(settings):
                     continue
                 why, needed = need.measured(settings)
@@ -93,7 +93,7 @@ def verdicts(targets, limitations: list[Limitation]) -> list[Verdict]:
     """Can the settings show each target? From the routes the limitations block or weaken."""
     out = []
     for t in dict.fromkeys(targets):
-        routes = [r.name for r in ROUTES[t.signature]]
+        routes = [name for name, _ in ROUTES[t.signature]]
         blocked, reasons = set(), []
         weakened = False
         for lim in limitations:

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 from ..evidence.envelope import harmonics_searched, shared_lines
 from ..evidence.matching import SLIP_TOLERANCE
@@ -25,9 +26,8 @@ from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_h
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
-from .routes import ENVELOPE_DEFECT, ROUTES, least
 from .settings import Settings
-from .targets import Target, bearings_at, meshes_at, motors_at, targets_at
+from .targets import ENVELOPE_DEFECT, ROUTES, Target, bearings_at, meshes_at, motors_at, targets_at
 
 EFFECTS = ("blocks", "weakens", "view")
 TWIN_GAP = SLIP_TOLERANCE   # defect rates closer than this cannot be told apart: bearings slip 1-2 %
@@ -88,6 +88,34 @@ class Need:
         have = s.duration_s / self.span_s if self.span_s else 0.0
         return (f"{have:.1f} {self.noun} in {s.duration_s:.3g} s (at least {self.value / self.span_s:g})",
                 f"a waveform of at least {self.value:.3g} s")
+
+
+@lru_cache(maxsize=1)
+def _shipped_rulebook():
+    from ..reasoning import load_rulebook
+
+    return load_rulebook()
+
+
+def least(rule: str, kind: str, field: str, rulebook=None) -> float:
+    """The lower bound rule ``rule`` of ``rulebook`` (default: the shipped rulebooks) puts on ``field`` of a
+    ``kind`` fact, parameters resolved: a need sized by a rule's threshold reads that threshold, so a rule
+    change or a site's ``parameters:`` reaches the checks without a copy. A rule the site disables keeps
+    the shipped rule's bound (the need still says what the shipped route would ask)."""
+    book = rulebook if rulebook is not None else _shipped_rulebook()
+    try:
+        needs = book.rule(rule).needs
+    except KeyError:
+        needs = _shipped_rulebook().rule(rule).needs
+    for pattern in needs:
+        for c in pattern.conditions if pattern.kind == kind else ():
+            if c.field != field:
+                continue
+            if c.op == "between":
+                return float(c.value[0])
+            if c.op in ("at_least", "above") and isinstance(c.value, (int, float)):
+                return float(c.value)
+    raise KeyError(f"rule {rule} puts no lower bound on {kind}.{field}")
 
 
 def hz_text(value: float) -> str:
@@ -162,7 +190,7 @@ def _own_harmonics(shared: dict, bearing: str, name: str) -> tuple[int, int, str
     return harmonics_searched(defect), harmonics_searched(defect) - len(taken), words
 
 
-def _bearing(machine, point, speeds, policy, targets, band):
+def _bearing(machine, point, speeds, policy, targets, band, rulebook):
     needs = []
     sep = policy.separation_lines
     band_lo, band_hi = band
@@ -186,7 +214,7 @@ def _bearing(machine, point, speeds, policy, targets, band):
                     source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
             searched, own, claimed_by = _own_harmonics(shared, b.id, name)
-            wanted = least(rule, "envelope_tone", "harmonics_owned")
+            wanted = least(rule, "envelope_tone", "harmonics_owned", rulebook)
             if own < wanted:
                 needs.append(Need(
                     "bearing", "twin", f"only {own} of the first {searched} harmonics of {name} of {b.id} "
@@ -194,7 +222,7 @@ def _bearing(machine, point, speeds, policy, targets, band):
                     "a line two rates share goes to the family with more lines of its own, so this family may "
                     f"fall short of the {wanted:g} harmonics {rule} asks for", source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
-            n = least(rule, "envelope_tone", "harmonics_owned")
+            n = least(rule, "envelope_tone", "harmonics_owned", rulebook)
             gate = ((t, "envelope"),)
             needs.append(Need(
                 "bearing", "fmax", f"the ringing band from {band_lo:.0f} Hz, wide enough for {n:g} harmonics of "
@@ -316,13 +344,13 @@ def _neighbours(machine: Machine, shaft: str) -> set[str]:
     return out
 
 
-def _shaft(machine, point, speeds, policy, targets):
+def _shaft(machine, point, speeds, policy, targets, rulebook):
     t = targets[0]
     s, fr = point.shaft, speeds[point.shaft]
     sep = policy.separation_lines
     rule_h, rule_half = "shaft.looseness.harmonics", "shaft.looseness.half-orders"
-    n_h = least(rule_h, "harmonic_series", "count")
-    n_half = least(rule_half, "harmonic_series", "count")
+    n_h = least(rule_h, "harmonic_series", "count", rulebook)
+    n_half = least(rule_half, "harmonic_series", "count", rulebook)
     slow = min(_neighbours(machine, s), key=lambda x: speeds[x])
     floor = policy.low_frequency_limit_hz
     needs = [
@@ -431,7 +459,7 @@ def _whole_machine(machine: Machine, speeds, policy: Policy, purpose: str, targe
     shaft, which the analysis and the reading rules count (a shorter record is refused or withheld)."""
     slowest = min(speeds, key=speeds.get)
     hz = speeds[slowest]
-    gates = tuple((t, r.name) for t in targets for r in ROUTES[t.signature])
+    gates = tuple((t, name) for t in targets for name, _ in ROUTES[t.signature])
     turns = f"turns of {slowest}"
     return [
         Need(purpose, "duration", f"{MIN_REVOLUTIONS_TO_ANALYSE:g} turns of {slowest}, the machine's slowest shaft",
@@ -445,8 +473,9 @@ def _whole_machine(machine: Machine, speeds, policy: Policy, purpose: str, targe
 
 
 def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
-                 speed_rpm: float | None = None) -> Requirements:
-    """What ``purpose`` needs of the settings at ``point``, with the driver at ``speed_rpm``."""
+                 speed_rpm: float | None = None, rulebook=None) -> Requirements:
+    """What ``purpose`` needs of the settings at ``point``, with the driver at ``speed_rpm``; thresholds
+    from the rules of ``rulebook`` (default: the shipped rulebooks; give a diagnosis's, overlays included)."""
     speeds = machine.speeds_at(speed_rpm)
     targets = tuple(targets_at(machine, point, purpose))
     band = None
@@ -460,11 +489,11 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
         band = (max(lo, policy.envelope_band_clearance * top_line), hi)
         if band[0] >= band[1]:
             band = (band[0], band[0] * hi / lo)
-        needs = _bearing(machine, point, speeds, policy, targets, band)
+        needs = _bearing(machine, point, speeds, policy, targets, band, rulebook)
     elif purpose == "gear":
         needs = _gear(machine, point, speeds, policy, targets)
     elif purpose == "shaft":
-        needs = _shaft(machine, point, speeds, policy, targets)
+        needs = _shaft(machine, point, speeds, policy, targets, rulebook)
     elif purpose == "electrical":
         needs = _electrical(machine, point, speeds, policy, targets)
     else:
