@@ -121,20 +121,21 @@ def frequencies_above(machine: Machine, settings: Settings, speed_rpm: float | N
 
 
 def limitations_of_reading(machine: Machine, fs_hz: float, n_samples: int, policy: Policy,
-                           points=None, speed_rpm: float | None = None) -> list[Limitation]:
+                           points=None, speed_rpm: float | None = None, rulebook=None) -> list[Limitation]:
     """The checks of ``check`` for a reading taken at ``fs_hz`` with ``n_samples`` per channel
     (Fmax = fs / 2.56, lines = samples / 2.56), at the reading's ``points`` (default all)."""
     settings = reading_settings(policy, fs_hz, n_samples, "reading")
-    return check(machine, settings, policy, points=points, speed_rpm=speed_rpm)
+    return check(machine, settings, policy, points=points, speed_rpm=speed_rpm, rulebook=rulebook)
 
 
 def reading_verdicts(machine: Machine, fs_hz: float, n_samples: int, policy: Policy,
-                     points=None, speed_rpm: float | None = None) -> list[Verdict]:
+                     points=None, speed_rpm: float | None = None, rulebook=None) -> list[Verdict]:
     """For a reading already taken: can it show each fault the purposes at its points look for?
+    Thresholds from the rules of ``rulebook``: the diagnosis's, site overlays included (default: shipped).
 
     A diagnosis lists the ``cannot show`` and ``may miss`` verdicts, with their
     reasons, instead of reporting those faults absent.
     """
     chosen = [p for p in machine.points if points is None or p.id in points]
     targets = [t for p in chosen for u in purposes_at(machine, p) for t in targets_at(machine, p, u)]
-    return verdicts(targets, limitations_of_reading(machine, fs_hz, n_samples, policy, points, speed_rpm))
+    return verdicts(targets, limitations_of_reading(machine, fs_hz, n_samples, policy, points, speed_rpm, rulebook))

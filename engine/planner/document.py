@@ -8,7 +8,7 @@ from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..machine import Machine, Point
 from ..reasoning import Rulebook
 from .check import CANNOT, check, frequencies_above, verdicts
-from .needs import ring_down_s
+from .needs import ring_down_s, rules_of
 from .policy import Policy
 from .proof import SEED, STAGE, prove, resonance_hz
 from .shown import reasoner_for
@@ -122,6 +122,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
         "kind": "acquisition plan", "schema_version": SCHEMA_VERSION,
         "machine": {"name": machine.name, "plant": machine.plant or "", "source": str(machine.source),
                     "speeds_rpm": {s: hz * 60 for s, hz in speeds.items()}},
+        "rulebooks": list(rules_of(rulebook).files),      # the diagnosis's rulebooks the plan reads, overlays last
         "policy": {"source": policy.source, "sample_rate_per_fmax": policy.sample_rate_per_fmax,
                    "lines_between_carrier_and_sideband": policy.lines_between_carrier_and_sideband,
                    "min_revolutions": policy.min_revolutions, "min_samples_per_impact": policy.min_samples_per_impact},

@@ -97,12 +97,17 @@ def _shipped_rulebook():
     return load_rulebook()
 
 
+def rules_of(rulebook=None):
+    """``rulebook``, or the shipped rulebooks (loaded once) when it is None."""
+    return rulebook if rulebook is not None else _shipped_rulebook()
+
+
 def least(rule: str, kind: str, field: str, rulebook=None) -> float:
     """The lower bound rule ``rule`` of ``rulebook`` (default: the shipped rulebooks) puts on ``field`` of a
     ``kind`` fact, parameters resolved: a need sized by a rule's threshold reads that threshold, so a rule
     change or a site's ``parameters:`` reaches the checks without a copy. A rule the site disables keeps
     the shipped rule's bound (the need still says what the shipped route would ask)."""
-    book = rulebook if rulebook is not None else _shipped_rulebook()
+    book = rules_of(rulebook)
     try:
         needs = book.rule(rule).needs
     except KeyError:

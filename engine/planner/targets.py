@@ -2,10 +2,10 @@
 
 A target is one fault on one component. The checks say whether settings can
 show it (by the evidence ``ROUTES`` each need gates), the proof simulates it,
-and ``shown`` asks the Reasoner whether a diagnosis would name it. Purposes: ``severity`` (overall level, ISO 20816-3), ``bearing``
-(rolling-bearing defects by envelope analysis), ``gear`` (the mesh and its
-sidebands), ``shaft`` (slow shafts and looseness) and ``electrical``
-(induction motors).
+and ``shown`` asks the Reasoner whether a diagnosis would name it. Purposes:
+``severity`` (overall level, ISO 20816-3), ``bearing`` (rolling-bearing
+defects by envelope analysis), ``gear`` (the mesh and its sidebands),
+``shaft`` (slow shafts and looseness) and ``electrical`` (induction motors).
 """
 
 from __future__ import annotations

@@ -180,4 +180,27 @@ def test_plan_with_a_site_says_the_fault_is_no_longer_shown(strict_site, capsys)
         doc = json.loads(capsys.readouterr().out)
         item = next(i for i in doc["proof"]["items"] if i["fault"] == "outer-race" and i["component"] == "pump_de")
         verdict[bool(extra)] = (item["trials"]["proposed"]["found"], item["expected"]["proposed"])
+        assert any(f.endswith("strict.yaml") for f in doc["rulebooks"]) is bool(extra), doc["rulebooks"]
     assert verdict == {False: (True, CAN), True: (False, MAY_MISS)}
+
+
+def test_a_diagnosis_judges_its_reading_s_reach_with_the_site_s_thresholds(strict_site):
+    from engine.pipeline import reach_of
+    from engine.planner import reading_verdicts
+    from engine.reasoning import load_rulebook
+    from engine.simulation import as_reading, simulate
+
+    proposed = propose(RW2, RW2.point("P1H"), "bearing", POLICY).settings()
+    site = load_rulebook(strict_site)
+
+    def state(rulebook):
+        found = reading_verdicts(RW2, proposed.sample_rate_hz, proposed.n_samples, POLICY, ["P1H"], None, rulebook)
+        return next(v.state for v in found if v.target.signature == "outer-race" and v.target.component == "pump_de")
+
+    assert (state(None), state(site)) == (CAN, MAY_MISS)
+    sim = simulate(RW2, "outer-race", "pump_de", 2, None, proposed.sample_rate_hz, proposed.duration_s, 1, ["P1H"])
+    reading = as_reading(sim, source="simulated")
+    rpm = RW2.speeds_at(None)[RW2.driver_shaft] * 60
+    faults = {(r["fault"], r["component"]) for r in reach_of(reading, RW2, rpm, site)}
+    assert ("outer-race", "pump_de") in faults and ("outer-race", "pump_de") not in {
+        (r["fault"], r["component"]) for r in reach_of(reading, RW2, rpm)}
