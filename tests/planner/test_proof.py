@@ -204,3 +204,15 @@ def test_a_diagnosis_judges_its_reading_s_reach_with_the_site_s_thresholds(stric
     faults = {(r["fault"], r["component"]) for r in reach_of(reading, RW2, rpm, site)}
     assert ("outer-race", "pump_de") in faults and ("outer-race", "pump_de") not in {
         (r["fault"], r["component"]) for r in reach_of(reading, RW2, rpm)}
+
+
+def test_plan_never_writes_over_a_site_rulebook(strict_site, capsys):
+    from engine.cli import main
+
+    rule = strict_site / "strict.yaml"
+    before = rule.read_bytes()
+    code = main(["plan", str(CASES / "machines" / "rw2-raw-water-pump.yaml"), "--no-proof", "--site", str(strict_site),
+                 "-o", str(rule)])
+    err = capsys.readouterr().err
+    assert code != 0 and len(err.strip().splitlines()) == 1 and "strict.yaml" in err, err
+    assert rule.read_bytes() == before
