@@ -279,8 +279,10 @@ def _bearing(machine, point, speeds, policy, targets, band, rulebook):
     return needs
 
 
-def _gear(machine, point, speeds, policy, targets):
+def _gear(machine, point, speeds, policy, targets, rulebook):
     needs = []
+    ecc_pairs = least("gear.eccentricity.sidebands", "sideband_family", "pairs", rulebook)
+    wear_pairs = least("gear.wear.both-shafts", "sideband_family", "pairs", rulebook)
     sep = policy.separation_lines
     h = policy.harmonics
     for g in meshes_at(machine, point):
@@ -299,8 +301,9 @@ def _gear(machine, point, speeds, policy, targets):
                      ((tooth, "synchronous-average"),),
                      "the rule wants GMF sidebands at the speed of the shaft whose turns repeat the event",
                      source="gear.tooth.once-per-rev"),
-                Need("gear", "fmax", f"GMF of {g.id} with two sideband pairs at 1X of {shaft}", gmf + 2 * f_s,
-                     "blocks", ((ecc, "sidebands"),), "an eccentric gear shows two pairs of sidebands at its speed",
+                Need("gear", "fmax", f"GMF of {g.id} with {ecc_pairs:g} sideband pairs at 1X of {shaft}",
+                     gmf + ecc_pairs * f_s, "blocks", ((ecc, "sidebands"),),
+                     f"an eccentric gear shows {ecc_pairs:g} pairs of sidebands at its speed",
                      source="gear.eccentricity.sidebands"),
                 Need("gear", "resolution", f"sidebands at 1X of {shaft} ({f_s:.2f} Hz) beside GMF of {g.id}", f_s,
                      "blocks", ((tooth, "synchronous-average"), (ecc, "sidebands"))
@@ -320,7 +323,8 @@ def _gear(machine, point, speeds, policy, targets):
             Need("gear", "fmax", f"2 x GMF of {g.id} ({2 * gmf:.1f} Hz)", 2 * gmf, "blocks",
                  ((wear, "mesh-harmonics"),), "wear is judged by 2 x GMF against GMF",
                  source="gear.wear.mesh-harmonics"),
-            Need("gear", "fmax", f"GMF of {g.id} with three sideband pairs of both shafts", gmf + 3 * fast,
+            Need("gear", "fmax", f"GMF of {g.id} with {wear_pairs:g} sideband pairs of both shafts",
+                 gmf + wear_pairs * fast,
                  "blocks", ((wear, "sidebands-both-shafts"),), "wear spreads sidebands of both shafts",
                  source="gear.wear.both-shafts"),
             Need("gear", "fmax", f"{h['mesh']} x GMF of {g.id} with {h['mesh_sidebands']} orders of sidebands",
@@ -413,8 +417,9 @@ def _closest_pair(machine, point, speeds, policy):
     return best
 
 
-def _electrical(machine, point, speeds, policy, targets):
+def _electrical(machine, point, speeds, policy, targets, rulebook):
     needs = []
+    bar_pairs = least("electrical.rotor-bar.pole-pass", "sideband_family", "pairs", rulebook)
     sep = policy.separation_lines
     for m in motors_at(machine, point):
         fr = speeds[m.shaft]
@@ -444,7 +449,8 @@ def _electrical(machine, point, speeds, policy, targets):
                 lines=sep, source="lines_between_carrier_and_sideband"))
         if pole_pass is not None:
             needs += [
-                Need("electrical", "fmax", f"1X of {m.shaft} with two pole-pass sidebands", fr + 2 * pole_pass,
+                Need("electrical", "fmax", f"1X of {m.shaft} with {bar_pairs:g} pair(s) of pole-pass sidebands",
+                     fr + bar_pairs * pole_pass,
                      "blocks", ((bars, "pole-pass"),), "rotor bar damage modulates 1X at the pole pass frequency",
                      source="electrical.rotor-bar.pole-pass"),
                 Need("electrical", "resolution", f"pole-pass sidebands of {m.id} ({pole_pass:.3f} Hz) beside 1X",
@@ -496,11 +502,11 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
             band = (band[0], band[0] * hi / lo)
         needs = _bearing(machine, point, speeds, policy, targets, band, rulebook)
     elif purpose == "gear":
-        needs = _gear(machine, point, speeds, policy, targets)
+        needs = _gear(machine, point, speeds, policy, targets, rulebook)
     elif purpose == "shaft":
         needs = _shaft(machine, point, speeds, policy, targets, rulebook)
     elif purpose == "electrical":
-        needs = _electrical(machine, point, speeds, policy, targets)
+        needs = _electrical(machine, point, speeds, policy, targets, rulebook)
     else:
         raise ValueError(f"unknown purpose {purpose!r}")
     needs = list(needs) + _whole_machine(machine, speeds, policy, purpose, targets)

@@ -90,7 +90,10 @@ def test_needs_read_their_bounds_from_the_rules_they_name():
     for rule_id, kind, field in (("bearing.tones.envelope", "envelope_tone", "harmonics_owned"),
                                  ("bearing.tones.envelope-cage", "envelope_tone", "harmonics_owned"),
                                  ("shaft.looseness.harmonics", "harmonic_series", "count"),
-                                 ("shaft.looseness.half-orders", "harmonic_series", "count")):
+                                 ("shaft.looseness.half-orders", "harmonic_series", "count"),
+                                 ("gear.eccentricity.sidebands", "sideband_family", "pairs"),
+                                 ("gear.wear.both-shafts", "sideband_family", "pairs"),
+                                 ("electrical.rotor-bar.pole-pass", "sideband_family", "pairs")):
         bounds = [c.value for p in book.rule(rule_id).needs if p.kind == kind
                   for c in p.conditions if c.field == field and c.op in ("at_least", "above")]
         assert bounds and least(rule_id, kind, field) == bounds[0], (rule_id, kind, field)
@@ -216,3 +219,21 @@ def test_plan_never_writes_over_a_site_rulebook(strict_site, capsys):
     err = capsys.readouterr().err
     assert code != 0 and len(err.strip().splitlines()) == 1 and "strict.yaml" in err, err
     assert rule.read_bytes() == before
+
+
+def test_the_sideband_needs_ask_as_many_pairs_as_their_rules():
+    from engine.machine.kinematics import mesh_rates
+    from engine.planner import requirements
+    from engine.reasoning import load_rulebook
+
+    p = CT1.point("GINH")
+    pairs = least("gear.eccentricity.sidebands", "sideband_family", "pairs")
+    assert pairs == 2            # the shipped rule; the need below follows it, not a copy of it
+    speeds = CT1.speeds_at(None)
+    for g in CT1.gears:
+        gmf = mesh_rates(g, speeds).gmf_hz
+        for book, want in ((None, pairs), (load_rulebook(), pairs)):
+            needs = [n for n in requirements(CT1, p, "gear", POLICY, None, book).needs
+                     if n.source == "gear.eccentricity.sidebands" and n.setting == "fmax"]
+            assert needs and all(abs(n.value - (gmf + want * speeds[t.shaft])) < 1e-9
+                                 for n in needs for t, _ in n.gates), [n.what for n in needs]
