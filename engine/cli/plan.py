@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import RPM, number, output_target, whole
+from ._common import RPM, add_site_option, number, output_target, rulebook, whole
 
 
 def register(sub) -> None:
@@ -22,6 +22,7 @@ def register(sub) -> None:
                        help="waveform length in s (default lines / Fmax)")
     given.add_argument("--reading", metavar="FILE", help="take the settings (and speed) of a reading file")
     p.add_argument("--policy", metavar="FILE", help="acquisition policy YAML (default: the shipped one)")
+    add_site_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
                    help="plan format (default text)")
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
@@ -64,6 +65,7 @@ def run(args) -> int:
     inputs = output_target(args, output) if output is not None else []      # before the work
     machine = load_machine(args.machine)
     policy = load_policy(args.policy)
+    rules = rulebook(args) if args.site else None      # the diagnosis's rulebooks: the proof reasons with them
     for point in args.point or []:
         machine.point(point)
     given, reading_rpm = _given(args, policy)
@@ -71,7 +73,7 @@ def run(args) -> int:
     if rpm is not None:
         machine.speeds_at(rpm)
     doc = build_plan(machine, policy, points=args.point, given=given, speed_rpm=rpm,
-                     with_proof=not args.no_proof, with_figures=fmt == "html")
+                     with_proof=not args.no_proof, with_figures=fmt == "html", rulebook=rules)
     text = render_plan(doc, fmt)
     if output is None:
         sys.stdout.write(text)

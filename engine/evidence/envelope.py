@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
+from .matching import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
 from .signs import SIGNS, envelope_line, match_fit
 from ..analysis import Analysis
 from ..analysis.peaks import Peak
@@ -116,6 +116,12 @@ def _owners(defects, all_found, location: str | None, fmax_hz: float) -> dict[tu
             owned[(e[4], e[1])] = e is winner
     _give_sidebands(defects, all_found, owned)
     return owned
+
+
+def harmonics_searched(defect: str) -> int:
+    """How many harmonics of ``defect`` (BPFO, BPFI, BSF or FTF) the envelope evidence looks for, and so
+    the most an ``envelope_tone`` fact can own (its ``harmonics_checked``)."""
+    return HARMONICS[defect]
 
 
 def shared_lines(rates, location: str | None) -> dict[tuple[str, str], list[tuple[int, str, str, int]]]:

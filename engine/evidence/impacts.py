@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import SLIP_TOLERANCE, clear_lines
+from .matching import SLIP_TOLERANCE, clear_lines
 from ..analysis import Analysis
 from .signs import SIGNS, envelope_line, impacts, match_fit, turns
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections import defaultdict
 
-from ._match import find_line
+from .matching import find_line
 from .signs import SIGNS, match_fit, spectrum_line, waveform
 from ..analysis import Analysis
 from ..readings.quality import same_scale

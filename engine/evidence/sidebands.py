@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._match import db, explained_frequencies, find_lines
+from .matching import db, explained_frequencies, find_lines
 from .signs import SIGNS, match_fit, spectrum_line
 from ..analysis import Analysis
 

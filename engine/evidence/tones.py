@@ -6,7 +6,7 @@ import numpy as np
 
 from ..analysis import Analysis, ChannelAnalysis, find_peaks
 from ..common.units import STANDARD_GRAVITY_M_S2 as G
-from ._match import (HALF_ORDERS, SHAFT_HARMONICS, SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, explained_frequencies,
+from .matching import (HALF_ORDERS, SHAFT_HARMONICS, SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, explained_frequencies,
                      find_lines, tolerance_hz)
 from .signs import SIGNS, match_fit, spectrum_line
 

@@ -186,6 +186,9 @@ class Rates:
     def bearing(self, bearing_id: str) -> BearingRates:
         return next(b for b in self.bearings if b.bearing == bearing_id)
 
+    def motor(self, motor_id: str) -> MotorRates:
+        return next(m for m in self.motors if m.motor == motor_id)
+
     def mesh_orders(self, shaft: str) -> list[int]:
         """Tooth counts of the gears on ``shaft``: the orders at which its meshes show."""
         return [z for m in self.meshes if (z := m.teeth_on(shaft)) is not None]
@@ -204,6 +207,17 @@ def belt_pass_hz(belt, speeds_hz: Mapping[str, float]) -> float:
     return math.pi * belt.driving_diameter_mm * speeds_hz[belt.driving_shaft] / belt.belt_length_mm
 
 
+def vane_pass_hz(rotor, speeds_hz: Mapping[str, float]) -> float:
+    """Vane or blade pass frequency of an impeller or fan, Hz: vanes x the speed of its shaft."""
+    return rotor.vanes * speeds_hz[rotor.shaft]
+
+
+def rotor_bar_pass_hz(motor, speeds_hz: Mapping[str, float]) -> float | None:
+    """Rotor bar pass frequency of an induction motor, Hz: rotor bars x the speed of its shaft
+    (None when the machine file does not give the bar count)."""
+    return motor.rotor_bars * speeds_hz[motor.shaft] if motor.rotor_bars else None
+
+
 def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
     """Every rate of ``machine`` with its shafts at ``speeds_hz`` (Hz, by shaft id)."""
     bearings = []
@@ -220,9 +234,9 @@ def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
         slip_hz = sync_hz - fr
         motors.append(MotorRates(mot.id, mot.shaft, mot.line_frequency_hz, 2 * mot.line_frequency_hz, sync_hz,
                                  slip_hz, pole_pass_hz(mot.line_frequency_hz, mot.poles, fr),
-                                 mot.rotor_bars * fr if mot.rotor_bars else None))
+                                 rotor_bar_pass_hz(mot, speeds_hz)))
     belts = [BeltRates(b.id, b.driving_shaft, b.driven_shaft, belt_pass_hz(b, speeds_hz)) for b in machine.belts]
-    rotors = [RotorRates(r.id, r.shaft, r.type, r.vanes, r.vanes * speeds_hz[r.shaft]) for r in machine.rotors]
+    rotors = [RotorRates(r.id, r.shaft, r.type, r.vanes, vane_pass_hz(r, speeds_hz)) for r in machine.rotors]
     return Rates(dict(speeds_hz), tuple(bearings), tuple(meshes), tuple(motors), tuple(belts), tuple(rotors))
 
 

@@ -82,19 +82,20 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
         channel, shaft, bearing = focus(reasoning, evidence, machine)
         figures = plot_data(analysis, channel, shaft, bearing)
     return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
-                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60))
+                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook))
 
 
-def reach_of(reading: Reading, machine: Machine, driver_rpm: float) -> tuple[dict, ...]:
+def reach_of(reading: Reading, machine: Machine, driver_rpm: float, rulebook=None) -> tuple[dict, ...]:
     """What the reading's settings cannot show, or may miss, at its points: the planner's checks of
-    the same settings, so a fault out of reach is reported as such, not as absent."""
+    the same settings, with the thresholds of the diagnosis's ``rulebook``, so a fault out of reach is
+    reported as such, not as absent."""
     from ..planner.check import CAN, reading_verdicts
     from ..planner.policy import load_policy
 
     points = sorted({c.point for c in reading.channels if c.point in {p.id for p in machine.points}})
     if not points:
         return ()
-    found = reading_verdicts(machine, reading.fs_hz, reading.n_samples, load_policy(), points, driver_rpm)
+    found = reading_verdicts(machine, reading.fs_hz, reading.n_samples, load_policy(), points, driver_rpm, rulebook)
     return tuple(v.as_dict() for v in found if v.state != CAN)
 
 

@@ -18,9 +18,8 @@ from ..machine.kinematics import forcing_frequencies
 from ..machine import Machine
 from .needs import requirements
 from .policy import Policy
-from .routes import ROUTES
 from .settings import Settings, reading_settings
-from .targets import Target, purposes_at, targets_at
+from .targets import ROUTES, Target, purposes_at, targets_at
 
 CANNOT, MAY_MISS, CAN = "cannot show", "may miss", "can show"
 
@@ -63,8 +62,9 @@ class Verdict:
 
 
 def check(machine: Machine, settings: Settings, policy: Policy, points=None, purposes=None,
-          speed_rpm: float | None = None) -> list[Limitation]:
-    """Every requirement of ``purposes`` (default all) at ``points`` (default all) that ``settings`` miss."""
+          speed_rpm: float | None = None, rulebook=None) -> list[Limitation]:
+    """Every requirement of ``purposes`` (default all) at ``points`` (default all) that ``settings`` miss,
+    thresholds from the rules of ``rulebook`` (default: the shipped rulebooks)."""
     merged: dict[tuple, Limitation] = {}
     for point in machine.points:
         if points is not None and point.id not in points:
@@ -72,7 +72,7 @@ def check(machine: Machine, settings: Settings, policy: Policy, points=None, pur
         for purpose in purposes_at(machine, point):
             if purposes is not None and purpose not in purposes:
                 continue
-            for need in requirements(machine, point, purpose, policy, speed_rpm).needs:
+            for need in requirements(machine, point, purpose, policy, speed_rpm, rulebook).needs:
                 if need.met_by(settings):
                     continue
                 why, needed = need.measured(settings)
@@ -93,7 +93,7 @@ def verdicts(targets, limitations: list[Limitation]) -> list[Verdict]:
     """Can the settings show each target? From the routes the limitations block or weaken."""
     out = []
     for t in dict.fromkeys(targets):
-        routes = [r.name for r in ROUTES[t.signature]]
+        routes = [name for name, _ in ROUTES[t.signature]]
         blocked, reasons = set(), []
         weakened = False
         for lim in limitations:
@@ -121,20 +121,21 @@ def frequencies_above(machine: Machine, settings: Settings, speed_rpm: float | N
 
 
 def limitations_of_reading(machine: Machine, fs_hz: float, n_samples: int, policy: Policy,
-                           points=None, speed_rpm: float | None = None) -> list[Limitation]:
+                           points=None, speed_rpm: float | None = None, rulebook=None) -> list[Limitation]:
     """The checks of ``check`` for a reading taken at ``fs_hz`` with ``n_samples`` per channel
     (Fmax = fs / 2.56, lines = samples / 2.56), at the reading's ``points`` (default all)."""
     settings = reading_settings(policy, fs_hz, n_samples, "reading")
-    return check(machine, settings, policy, points=points, speed_rpm=speed_rpm)
+    return check(machine, settings, policy, points=points, speed_rpm=speed_rpm, rulebook=rulebook)
 
 
 def reading_verdicts(machine: Machine, fs_hz: float, n_samples: int, policy: Policy,
-                     points=None, speed_rpm: float | None = None) -> list[Verdict]:
+                     points=None, speed_rpm: float | None = None, rulebook=None) -> list[Verdict]:
     """For a reading already taken: can it show each fault the purposes at its points look for?
+    Thresholds from the rules of ``rulebook``: the diagnosis's, site overlays included (default: shipped).
 
     A diagnosis lists the ``cannot show`` and ``may miss`` verdicts, with their
     reasons, instead of reporting those faults absent.
     """
     chosen = [p for p in machine.points if points is None or p.id in points]
     targets = [t for p in chosen for u in purposes_at(machine, p) for t in targets_at(machine, p, u)]
-    return verdicts(targets, limitations_of_reading(machine, fs_hz, n_samples, policy, points, speed_rpm))
+    return verdicts(targets, limitations_of_reading(machine, fs_hz, n_samples, policy, points, speed_rpm, rulebook))

@@ -6,10 +6,12 @@ from __future__ import annotations
 
 from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..machine import Machine, Point
+from ..reasoning import Rulebook
 from .check import CANNOT, check, frequencies_above, verdicts
-from .needs import ring_down_s
+from .needs import ring_down_s, rules_of
 from .policy import Policy
 from .proof import SEED, STAGE, prove, resonance_hz
+from .shown import reasoner_for
 from .propose import Proposal, propose
 from .settings import Settings
 from .targets import PURPOSE_TITLES, Target, purposes_at, targets_at
@@ -101,19 +103,26 @@ def _targets(machine: Machine, points: list[Point]) -> dict[Target, Point]:
 
 def _trial_dict(trial) -> dict:
     return {"found": trial.found, "measure": trial.measure, "settings": trial.settings.as_dict(),
-            "routes": {name: {"found": o.found, "measure": o.measure} for name, o in trial.routes.items()}}
+            "certainty": trial.certainty, "rules": list(trial.rules)}
 
 
 def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | None = None,
-               speed_rpm: float | None = None, with_proof: bool = True, with_figures: bool = False) -> dict:
-    """The whole plan for ``machine`` (at ``points``, default all), checking ``given`` settings if any."""
+               speed_rpm: float | None = None, with_proof: bool = True, with_figures: bool = False,
+               rulebook: Rulebook | None = None) -> dict:
+    """The whole plan for ``machine`` (at ``points``, default all), checking ``given`` settings if any.
+
+    ``rulebook`` is the diagnosis's (default: the shipped rulebooks; with a site overlay, the overlay's
+    rules and parameters): the needs read its thresholds and the proof reasons with one Reasoner on it.
+    """
     chosen = [p for p in machine.points if points is None or p.id in points]
     speeds = machine.speeds_at(speed_rpm)
-    proposals = {(p.id, u): propose(machine, p, u, policy, speed_rpm) for p in chosen for u in purposes_at(machine, p)}
+    proposals = {(p.id, u): propose(machine, p, u, policy, speed_rpm, rulebook)
+                 for p in chosen for u in purposes_at(machine, p)}
     doc = {
         "kind": "acquisition plan", "schema_version": SCHEMA_VERSION,
         "machine": {"name": machine.name, "plant": machine.plant or "", "source": str(machine.source),
                     "speeds_rpm": {s: hz * 60 for s, hz in speeds.items()}},
+        "rulebooks": list(rules_of(rulebook).files),      # the diagnosis's rulebooks the plan reads, overlays last
         "policy": {"source": policy.source, "sample_rate_per_fmax": policy.sample_rate_per_fmax,
                    "lines_between_carrier_and_sideband": policy.lines_between_carrier_and_sideband,
                    "min_revolutions": policy.min_revolutions, "min_samples_per_impact": policy.min_samples_per_impact},
@@ -125,7 +134,8 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
     }
     targets = _targets(machine, chosen)
     if given is not None:
-        limitations = check(machine, given, policy, points=[p.id for p in chosen], speed_rpm=speed_rpm)
+        limitations = check(machine, given, policy, points=[p.id for p in chosen], speed_rpm=speed_rpm,
+                            rulebook=rulebook)
         found = verdicts(list(targets), limitations)
         doc["check"] = {
             "limitations": [lim.as_dict() for lim in limitations],
@@ -136,15 +146,18 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
             "forcing_count": len(forcing_frequencies(machine, speed_rpm)),
         }
     if with_proof:
+        reasoner = reasoner_for(rulebook)      # compiled once for the whole plan
         items = []
         for t, p in targets.items():
             proposed = proposals[(p.id, t.purpose)].settings()
             sets = {"proposed": proposed}
-            expected = {"proposed": verdicts([t], check(machine, proposed, policy, [p.id], [t.purpose], speed_rpm))[0].state}
+            expected = {"proposed": verdicts([t], check(machine, proposed, policy, [p.id], [t.purpose], speed_rpm,
+                                                        rulebook))[0].state}
             if given is not None:
                 sets["given"] = given
-                expected["given"] = verdicts([t], check(machine, given, policy, [p.id], [t.purpose], speed_rpm))[0].state
-            item = prove(machine, t, p, sets, policy, expected, speed_rpm)
+                expected["given"] = verdicts([t], check(machine, given, policy, [p.id], [t.purpose], speed_rpm,
+                                                        rulebook))[0].state
+            item = prove(machine, t, p, sets, policy, expected, speed_rpm, reasoner=reasoner)
             items.append({"purpose": t.purpose, "fault": t.signature, "component": t.component, "shaft": t.shaft,
                           "label": t.label, "point": p.id, "expected": expected,
                           "trials": {k: _trial_dict(v) for k, v in item.trials.items()},

@@ -18,15 +18,16 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 
-from ..evidence.envelope import HARMONICS, SLIP_TOLERANCE, shared_lines
-from ..machine.kinematics import bearing_multiples, belt_pass_hz, mesh_rates, pole_pass_hz, rates_at
+from ..evidence.envelope import harmonics_searched, shared_lines
+from ..evidence.matching import SLIP_TOLERANCE
+from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
 from ..machine import Machine, Point
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
-from .routes import ENVELOPE_DEFECT, ROUTES, least
 from .settings import Settings
-from .targets import Target, bearings_at, meshes_at, motors_at, targets_at
+from .targets import ENVELOPE_DEFECT, ROUTES, Target, bearings_at, meshes_at, motors_at, targets_at
 
 EFFECTS = ("blocks", "weakens", "view")
 TWIN_GAP = SLIP_TOLERANCE   # defect rates closer than this cannot be told apart: bearings slip 1-2 %
@@ -89,6 +90,39 @@ class Need:
                 f"a waveform of at least {self.value:.3g} s")
 
 
+@lru_cache(maxsize=1)
+def _shipped_rulebook():
+    from ..reasoning import load_rulebook
+
+    return load_rulebook()
+
+
+def rules_of(rulebook=None):
+    """``rulebook``, or the shipped rulebooks (loaded once) when it is None."""
+    return rulebook if rulebook is not None else _shipped_rulebook()
+
+
+def least(rule: str, kind: str, field: str, rulebook=None) -> float:
+    """The lower bound rule ``rule`` of ``rulebook`` (default: the shipped rulebooks) puts on ``field`` of a
+    ``kind`` fact, parameters resolved: a need sized by a rule's threshold reads that threshold, so a rule
+    change or a site's ``parameters:`` reaches the checks without a copy. A rule the site disables keeps
+    the shipped rule's bound (the need still says what the shipped route would ask)."""
+    book = rules_of(rulebook)
+    try:
+        needs = book.rule(rule).needs
+    except KeyError:
+        needs = _shipped_rulebook().rule(rule).needs
+    for pattern in needs:
+        for c in pattern.conditions if pattern.kind == kind else ():
+            if c.field != field:
+                continue
+            if c.op == "between":
+                return float(c.value[0])
+            if c.op in ("at_least", "above") and isinstance(c.value, (int, float)):
+                return float(c.value)
+    raise KeyError(f"rule {rule} puts no lower bound on {kind}.{field}")
+
+
 def hz_text(value: float) -> str:
     return f"{value:.0f}" if value >= 100 else f"{value:.3g}"
 
@@ -123,13 +157,13 @@ def _strong_lines(machine: Machine, point: Point, speeds: dict, policy: Policy) 
         out.append((f"{h['mesh']} x GMF of {g.id} with sidebands", h["mesh"] * gmf + h["mesh_sidebands"] * fast))
     for r in machine.rotors:
         if r.shaft == point.shaft:
-            out.append((f"3 x vane pass of {r.id}", 3 * r.vanes * speeds[r.shaft]))
+            out.append((f"3 x vane pass of {r.id}", 3 * vane_pass_hz(r, speeds)))
     for b in machine.belts:
         if point.shaft in (b.driving_shaft, b.driven_shaft):
             bpf = belt_pass_hz(b, speeds)
             out.append((f"4 x belt pass of {b.id}", 4 * bpf))
     for m in motors_at(machine, point):
-        out.append((f"2 x twice line frequency of {m.id}", 4 * m.line_frequency_hz))
+        out.append((f"2 x twice line frequency of {m.id}", 2 * rates_at(machine, speeds).motor(m.id).twice_line_hz))
     return out
 
 
@@ -158,19 +192,20 @@ def _own_harmonics(shared: dict, bearing: str, name: str) -> tuple[int, int, str
     taken = shared[(bearing, defect)]
     words = "; ".join(f"{k} x falls on {'' if j == 1 else f'{j} x '}{NAME_OF[other]} of {who}"
                       for k, who, other, j in taken)
-    return HARMONICS[defect], HARMONICS[defect] - len(taken), words
+    return harmonics_searched(defect), harmonics_searched(defect) - len(taken), words
 
 
-def _bearing(machine, point, speeds, policy, targets, band):
+def _bearing(machine, point, speeds, policy, targets, band, rulebook):
     needs = []
     sep = policy.separation_lines
     band_lo, band_hi = band
-    shared = shared_lines(rates_at(machine, speeds), point.at)
+    every = rates_at(machine, speeds)
+    shared = shared_lines(every, point.at)
     for b in bearings_at(machine, point):
-        mult = bearing_multiples(b)
+        of = every.bearing(b.id)
         fr = speeds[b.shaft]
-        rates = {"outer-race": ("BPFO", mult["bpfo"] * fr), "inner-race": ("BPFI", mult["bpfi"] * fr),
-                 "rolling-element": ("2 x BSF", 2 * mult["bsf"] * fr), "cage": ("FTF", mult["ftf"] * fr)}
+        rates = {"outer-race": ("BPFO", of.bpfo_hz), "inner-race": ("BPFI", of.bpfi_hz),
+                 "rolling-element": ("2 x BSF", of.impact_rate_hz("BSF")), "cage": ("FTF", of.ftf_hz)}
         mine = [t for t in targets if t.component == b.id]
         for t in mine:
             name, rate = rates[t.signature]
@@ -184,7 +219,7 @@ def _bearing(machine, point, speeds, policy, targets, band):
                     source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
             searched, own, claimed_by = _own_harmonics(shared, b.id, name)
-            wanted = least(rule, "envelope_tone", "harmonics_owned")
+            wanted = least(rule, "envelope_tone", "harmonics_owned", rulebook)
             if own < wanted:
                 needs.append(Need(
                     "bearing", "twin", f"only {own} of the first {searched} harmonics of {name} of {b.id} "
@@ -192,7 +227,7 @@ def _bearing(machine, point, speeds, policy, targets, band):
                     "a line two rates share goes to the family with more lines of its own, so this family may "
                     f"fall short of the {wanted:g} harmonics {rule} asks for", source="bearing geometry"))
             rule = "bearing.tones.envelope-cage" if t.signature == "cage" else "bearing.tones.envelope"
-            n = least(rule, "envelope_tone", "harmonics_owned")
+            n = least(rule, "envelope_tone", "harmonics_owned", rulebook)
             gate = ((t, "envelope"),)
             needs.append(Need(
                 "bearing", "fmax", f"the ringing band from {band_lo:.0f} Hz, wide enough for {n:g} harmonics of "
@@ -227,9 +262,8 @@ def _bearing(machine, point, speeds, policy, targets, band):
             tuple((t, "envelope") for t in mine),
             "bearing impacts may ring anywhere in this band; the part above Fmax is lost before sampling",
             source="bearing_resonance_hz"))
-    fastest = max(r for b in bearings_at(machine, point) for r in
-                  (bearing_multiples(b)["bpfi"] * speeds[b.shaft], bearing_multiples(b)["bpfo"] * speeds[b.shaft],
-                   2 * bearing_multiples(b)["bsf"] * speeds[b.shaft]))
+    fastest = max(every.bearing(b.id).impact_rate_hz(d) for b in bearings_at(machine, point)
+                  for d in ("BPFI", "BPFO", "BSF"))
     h = policy.harmonics["envelope"]
     needs.append(Need(
         "bearing", "fmax", f"{h} harmonics of the fastest defect rate ({fastest:.1f} Hz) above {band_lo:.0f} Hz",
@@ -245,8 +279,10 @@ def _bearing(machine, point, speeds, policy, targets, band):
     return needs
 
 
-def _gear(machine, point, speeds, policy, targets):
+def _gear(machine, point, speeds, policy, targets, rulebook):
     needs = []
+    ecc_pairs = least("gear.eccentricity.sidebands", "sideband_family", "pairs", rulebook)
+    wear_pairs = least("gear.wear.both-shafts", "sideband_family", "pairs", rulebook)
     sep = policy.separation_lines
     h = policy.harmonics
     for g in meshes_at(machine, point):
@@ -265,8 +301,9 @@ def _gear(machine, point, speeds, policy, targets):
                      ((tooth, "synchronous-average"),),
                      "the rule wants GMF sidebands at the speed of the shaft whose turns repeat the event",
                      source="gear.tooth.once-per-rev"),
-                Need("gear", "fmax", f"GMF of {g.id} with two sideband pairs at 1X of {shaft}", gmf + 2 * f_s,
-                     "blocks", ((ecc, "sidebands"),), "an eccentric gear shows two pairs of sidebands at its speed",
+                Need("gear", "fmax", f"GMF of {g.id} with {ecc_pairs:g} sideband pairs at 1X of {shaft}",
+                     gmf + ecc_pairs * f_s, "blocks", ((ecc, "sidebands"),),
+                     f"an eccentric gear shows {ecc_pairs:g} pairs of sidebands at its speed",
                      source="gear.eccentricity.sidebands"),
                 Need("gear", "resolution", f"sidebands at 1X of {shaft} ({f_s:.2f} Hz) beside GMF of {g.id}", f_s,
                      "blocks", ((tooth, "synchronous-average"), (ecc, "sidebands"))
@@ -286,7 +323,8 @@ def _gear(machine, point, speeds, policy, targets):
             Need("gear", "fmax", f"2 x GMF of {g.id} ({2 * gmf:.1f} Hz)", 2 * gmf, "blocks",
                  ((wear, "mesh-harmonics"),), "wear is judged by 2 x GMF against GMF",
                  source="gear.wear.mesh-harmonics"),
-            Need("gear", "fmax", f"GMF of {g.id} with three sideband pairs of both shafts", gmf + 3 * fast,
+            Need("gear", "fmax", f"GMF of {g.id} with {wear_pairs:g} sideband pairs of both shafts",
+                 gmf + wear_pairs * fast,
                  "blocks", ((wear, "sidebands-both-shafts"),), "wear spreads sidebands of both shafts",
                  source="gear.wear.both-shafts"),
             Need("gear", "fmax", f"{h['mesh']} x GMF of {g.id} with {h['mesh_sidebands']} orders of sidebands",
@@ -315,13 +353,13 @@ def _neighbours(machine: Machine, shaft: str) -> set[str]:
     return out
 
 
-def _shaft(machine, point, speeds, policy, targets):
+def _shaft(machine, point, speeds, policy, targets, rulebook):
     t = targets[0]
     s, fr = point.shaft, speeds[point.shaft]
     sep = policy.separation_lines
     rule_h, rule_half = "shaft.looseness.harmonics", "shaft.looseness.half-orders"
-    n_h = least(rule_h, "harmonic_series", "count")
-    n_half = least(rule_half, "harmonic_series", "count")
+    n_h = least(rule_h, "harmonic_series", "count", rulebook)
+    n_half = least(rule_half, "harmonic_series", "count", rulebook)
     slow = min(_neighbours(machine, s), key=lambda x: speeds[x])
     floor = policy.low_frequency_limit_hz
     needs = [
@@ -369,7 +407,7 @@ def _closest_pair(machine, point, speeds, policy):
     own = [(k * fr, f"{k}X of {point.shaft}") for k in range(1, policy.harmonics["shaft"] + 1)]
     others = [(k * hz, f"{k}X of {name}") for name, hz in speeds.items()
               if abs(hz - fr) > 1e-9 * fr for k in (1, 2, 3)]
-    others += [(2 * m.line_frequency_hz, f"2xLF of {m.id}") for m in machine.motors]
+    others += [(m.twice_line_hz, f"2xLF of {m.motor}") for m in rates_at(machine, speeds).motors]
     best = None
     for f1, l1 in own:
         for f2, l2 in others:
@@ -379,13 +417,15 @@ def _closest_pair(machine, point, speeds, policy):
     return best
 
 
-def _electrical(machine, point, speeds, policy, targets):
+def _electrical(machine, point, speeds, policy, targets, rulebook):
     needs = []
+    bar_pairs = least("electrical.rotor-bar.pole-pass", "sideband_family", "pairs", rulebook)
     sep = policy.separation_lines
     for m in motors_at(machine, point):
         fr = speeds[m.shaft]
-        two_lf = 2 * m.line_frequency_hz
-        pole_pass = pole_pass_hz(m.line_frequency_hz, m.poles, fr)
+        rates = rates_at(machine, speeds).motor(m.id)
+        two_lf = rates.twice_line_hz
+        pole_pass = rates.pole_pass_hz
         stator = next(t for t in targets if t.component == m.id and t.signature == "stator")
         bars = next(t for t in targets if t.component == m.id and t.signature == "rotor-bar")
         needs.append(Need("electrical", "fmax", f"twice line frequency of {m.id} ({two_lf:g} Hz)", two_lf, "blocks",
@@ -409,15 +449,16 @@ def _electrical(machine, point, speeds, policy, targets):
                 lines=sep, source="lines_between_carrier_and_sideband"))
         if pole_pass is not None:
             needs += [
-                Need("electrical", "fmax", f"1X of {m.shaft} with two pole-pass sidebands", fr + 2 * pole_pass,
+                Need("electrical", "fmax", f"1X of {m.shaft} with {bar_pairs:g} pair(s) of pole-pass sidebands",
+                     fr + bar_pairs * pole_pass,
                      "blocks", ((bars, "pole-pass"),), "rotor bar damage modulates 1X at the pole pass frequency",
                      source="electrical.rotor-bar.pole-pass"),
                 Need("electrical", "resolution", f"pole-pass sidebands of {m.id} ({pole_pass:.3f} Hz) beside 1X",
                      pole_pass, "blocks", ((bars, "pole-pass"),), "each sideband must stand apart from 1X",
                      lines=sep, source="lines_between_carrier_and_sideband"),
             ]
-        if m.rotor_bars:
-            rbp = m.rotor_bars * fr
+        rbp = rates.rotor_bar_hz
+        if rbp:
             needs.append(Need("electrical", "fmax", f"rotor bar pass of {m.id} with 2xLF sidebands", rbp + two_lf,
                               "view", (), "the rotor bar pass line and its sidebands, for the trend",
                               source="harmonics"))
@@ -429,7 +470,7 @@ def _whole_machine(machine: Machine, speeds, policy: Policy, purpose: str, targe
     shaft, which the analysis and the reading rules count (a shorter record is refused or withheld)."""
     slowest = min(speeds, key=speeds.get)
     hz = speeds[slowest]
-    gates = tuple((t, r.name) for t in targets for r in ROUTES[t.signature])
+    gates = tuple((t, name) for t in targets for name, _ in ROUTES[t.signature])
     turns = f"turns of {slowest}"
     return [
         Need(purpose, "duration", f"{MIN_REVOLUTIONS_TO_ANALYSE:g} turns of {slowest}, the machine's slowest shaft",
@@ -443,8 +484,9 @@ def _whole_machine(machine: Machine, speeds, policy: Policy, purpose: str, targe
 
 
 def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
-                 speed_rpm: float | None = None) -> Requirements:
-    """What ``purpose`` needs of the settings at ``point``, with the driver at ``speed_rpm``."""
+                 speed_rpm: float | None = None, rulebook=None) -> Requirements:
+    """What ``purpose`` needs of the settings at ``point``, with the driver at ``speed_rpm``; thresholds
+    from the rules of ``rulebook`` (default: the shipped rulebooks; give a diagnosis's, overlays included)."""
     speeds = machine.speeds_at(speed_rpm)
     targets = tuple(targets_at(machine, point, purpose))
     band = None
@@ -458,13 +500,13 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
         band = (max(lo, policy.envelope_band_clearance * top_line), hi)
         if band[0] >= band[1]:
             band = (band[0], band[0] * hi / lo)
-        needs = _bearing(machine, point, speeds, policy, targets, band)
+        needs = _bearing(machine, point, speeds, policy, targets, band, rulebook)
     elif purpose == "gear":
-        needs = _gear(machine, point, speeds, policy, targets)
+        needs = _gear(machine, point, speeds, policy, targets, rulebook)
     elif purpose == "shaft":
-        needs = _shaft(machine, point, speeds, policy, targets)
+        needs = _shaft(machine, point, speeds, policy, targets, rulebook)
     elif purpose == "electrical":
-        needs = _electrical(machine, point, speeds, policy, targets)
+        needs = _electrical(machine, point, speeds, policy, targets, rulebook)
     else:
         raise ValueError(f"unknown purpose {purpose!r}")
     needs = list(needs) + _whole_machine(machine, speeds, policy, purpose, targets)

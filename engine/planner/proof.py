@@ -7,9 +7,12 @@ ringing band, about 4.5 kHz for 2-10 kHz). Each setting records that same signal
 as an analyzer would: resampled to its sample rate (``scipy.signal.
 resample_poly``), cut by an anti-alias low-pass at its Fmax (elliptic, 0.1 dB
 ripple, 80 dB stop band, run forward and backward) and kept for its waveform
-length. The evidence extractors then run on each record, and ``routes``
-judges whether the fault's evidence is found. The verdict "these settings
-cannot show a cracked tooth on the output shaft" is then a measurement.
+length. The evidence extractors then run on each record and the real
+``Reasoner`` (one per plan, on the rulebooks the diagnosis loads, site
+overlays included) reasons over the facts; ``shown`` reads whether the
+fault's hypothesis appears. The verdict "these settings cannot show a
+cracked tooth on the output shaft" is then a measurement made with the
+diagnosis itself.
 
 The simulator is clean (little background below the resonance, no process
 noise), so a fault it shows may still hide in a real machine; a fault it
@@ -27,9 +30,10 @@ import numpy as np
 from ..common.errors import ReadingError, TellwaveError, UsageError
 from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
 from ..machine import Machine, Point
+from ..reasoning import Reasoner
 from .check import CAN, CANNOT
 from .policy import Policy
-from .routes import Outcome, Reference, judge
+from .shown import Reference, level_shown, reasoner_for, shown
 from .settings import Settings
 from .targets import Target
 
@@ -48,7 +52,8 @@ class Trial:
     settings: Settings
     found: bool
     measure: str
-    routes: dict              # route name -> Outcome
+    certainty: float | None = None   # of the fault's hypothesis, when the reasoning names it
+    rules: tuple[str, ...] = ()      # the rules that concluded it
 
 
 @dataclass(frozen=True)
@@ -136,8 +141,11 @@ def _facts(machine, sim, samples, fs):
 
 
 def prove(machine: Machine, target: Target, point: Point, settings: dict, policy: Policy,
-          expected: dict | None = None, speed_rpm: float | None = None, seed: int = SEED) -> ProofItem:
-    """Record one simulated ``target`` at ``point`` with each of ``settings`` (label -> Settings)."""
+          expected: dict | None = None, speed_rpm: float | None = None, seed: int = SEED,
+          reasoner: Reasoner | None = None) -> ProofItem:
+    """Record one simulated ``target`` at ``point`` with each of ``settings`` (label -> Settings), and ask
+    ``reasoner`` (default: one on the shipped rulebooks) whether each record shows it."""
+    reasoner = reasoner or reasoner_for(None)
     rates = list(settings.values())
     fs = physical_rate(rates)
     longest = max(s.duration_s for s in rates)
@@ -156,13 +164,11 @@ def prove(machine: Machine, target: Target, point: Point, settings: dict, policy
         try:
             facts = _facts(machine, sim, samples, rate)
         except TellwaveError as exc:
-            trials[label] = Trial(s, False, f"the record cannot be analysed ({exc.problem})", {})
+            trials[label] = Trial(s, False, f"the record cannot be analysed ({exc.problem})")
             continue
-        found, outcomes = judge(facts, target, reference)
-        deciding = next((o for o in outcomes.values() if o.found), None) or next(iter(outcomes.values()))
-        trials[label] = Trial(s, found, deciding.measure, outcomes)
+        if target.signature == "severity":
+            outcome = level_shown(facts, target, reference)
+        else:
+            outcome = shown(reasoner.reason(facts), target)
+        trials[label] = Trial(s, outcome.found, outcome.measure, outcome.certainty, outcome.rules)
     return ProofItem(target, point.id, trials, dict(expected or {}))
-
-
-def outcome_text(outcome: Outcome) -> str:
-    return ("found: " if outcome.found else "missed: ") + outcome.measure

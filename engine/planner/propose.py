@@ -65,9 +65,10 @@ def _step_up(value: float, steps) -> float:
 
 
 def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
-            speed_rpm: float | None = None) -> Proposal:
-    """Settings that meet every need of ``purpose`` at ``point`` (a plain function, no I/O)."""
-    req = requirements(machine, point, purpose, policy, speed_rpm)
+            speed_rpm: float | None = None, rulebook=None) -> Proposal:
+    """Settings that meet every need of ``purpose`` at ``point`` (a plain function, no I/O); thresholds
+    from the rules of ``rulebook`` (default: the shipped rulebooks)."""
+    req = requirements(machine, point, purpose, policy, speed_rpm, rulebook)
     speeds = machine.speeds_at(speed_rpm)
     k = policy.sample_rate_per_fmax
     by = {name: [n for n in req.needs if n.setting == name]

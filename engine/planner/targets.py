@@ -1,11 +1,11 @@
 """What each purpose is for at a point: the faults it must show, on which component and shaft.
 
 A target is one fault on one component. The checks say whether settings can
-show it, the proof simulates it, and ``routes`` says whether its evidence was
-found. Purposes: ``severity`` (overall level, ISO 20816-3), ``bearing``
-(rolling-bearing defects by envelope analysis), ``gear`` (the mesh and its
-sidebands), ``shaft`` (slow shafts and looseness) and ``electrical``
-(induction motors).
+show it (by the evidence ``ROUTES`` each need gates), the proof simulates it,
+and ``shown`` asks the Reasoner whether a diagnosis would name it. Purposes:
+``severity`` (overall level, ISO 20816-3), ``bearing`` (rolling-bearing
+defects by envelope analysis), ``gear`` (the mesh and its sidebands),
+``shaft`` (slow shafts and looseness) and ``electrical`` (induction motors).
 """
 
 from __future__ import annotations
@@ -22,11 +22,30 @@ PURPOSE_TITLES = {
     "electrical": "electrical (induction motor)",
 }
 BEARING_SIGNATURES = ("outer-race", "inner-race", "rolling-element", "cage")
+ENVELOPE_DEFECT = {"outer-race": "BPFO", "inner-race": "BPFI", "rolling-element": "BSF", "cage": "FTF"}
+
+# The ways the rulebooks reach each fault that the checks gate: (route name, the rule or advice step it
+# stands for). A need names the routes it blocks or weakens; a fault all of whose routes are blocked
+# cannot be shown. Only names live here: whether a record shows the fault is the Reasoner's answer.
+ROUTES: dict[str, tuple[tuple[str, str], ...]] = {
+    "severity": (("iso-band", "ISO 20816-3 zone of the overall level (advice)"),),
+    "outer-race": (("envelope", "bearing.tones.envelope"),),
+    "inner-race": (("envelope", "bearing.tones.envelope"),),
+    "rolling-element": (("envelope", "bearing.tones.envelope"),),
+    "cage": (("envelope", "bearing.tones.envelope-cage"),),
+    "gear-tooth": (("synchronous-average", "gear.tooth.once-per-rev"),),
+    "gear-eccentricity": (("sidebands", "gear.eccentricity.sidebands"),),
+    "gear-wear": (("mesh-harmonics", "gear.wear.mesh-harmonics"), ("sidebands-both-shafts", "gear.wear.both-shafts")),
+    "looseness": (("harmonics", "shaft.looseness.harmonics"), ("half-orders", "shaft.looseness.half-orders")),
+    "stator": (("twice-line", "electrical.stator.twice-line"),),
+    "rotor-bar": (("pole-pass", "electrical.rotor-bar.pole-pass"),),
+}
 
 
 @dataclass(frozen=True)
 class Target:
-    """One fault to show: ``signature`` keys the evidence routes, ``fault`` is the simulator's id."""
+    """One fault to show: ``signature`` keys the evidence routes, ``fault`` is the simulator's and the
+    rulebooks' fault id."""
 
     purpose: str
     signature: str

@@ -1,7 +1,10 @@
-"""Matching measured peaks to expected frequencies, shared by the extractors.
+"""Matching measured peaks to expected frequencies, shared by the extractors (public).
 
 Each search is vectorised over its targets (``find_lines``): one call per
-spectrum and purpose instead of one per frequency.
+spectrum and purpose instead of one per frequency. The tolerances here are
+the one home of how near an expected frequency a line must lie; the
+acquisition planner reads them too (``SLIP_TOLERANCE``: defect rates it
+cannot tell apart).
 """
 
 from __future__ import annotations
