@@ -3,13 +3,18 @@
 The report draws what this module hands it and nothing else: the first
 revolutions of the waveform, the waveform cut into turns of one shaft, the
 velocity spectrum with the forcing frequencies that fall in it, and the
-squared envelope spectrum with one bearing's defect rates. Arrays are plain
-numpy arrays in the unit named beside them.
+squared envelope spectrum with the defect rates of the shaft's bearings.
+Arrays are plain numpy arrays in the unit named beside them.
+
+The analysis stage hands over a ``PlotSet``: one view of every channel as
+seen from every shaft, cut before anyone knows the diagnosis. The report
+picks the view its figures show (``engine.report.plots``) and never goes
+back to the analysis.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -52,12 +57,46 @@ class PlotData:
     envelope_marks: tuple[Mark, ...]
 
 
+@dataclass(frozen=True)
+class PlotSet:
+    """The plot data of one analysis: a view of each channel from each shaft, all bearings marked."""
+
+    views: tuple[PlotData, ...]
+
+    def view(self, channel: str, shaft: str, bearing: str | None = None) -> PlotData:
+        """``channel`` seen from ``shaft``; with ``bearing``, its envelope marks that bearing's rates only."""
+        pd = next(v for v in self.views if v.channel == channel and v.shaft == shaft)
+        if bearing is None:
+            return pd
+        return replace(pd, bearing=bearing, envelope_marks=tuple(m for m in pd.envelope_marks
+                                                                  if m.component == bearing))
+
+
+def plot_set(analysis: Analysis) -> PlotSet:
+    """Every channel's plot data from every shaft (``plot_data`` of each pair)."""
+    views = []
+    for c in analysis.channels:
+        envelope = _envelope(c)        # one copy per channel, shared by its views from each shaft
+        views += [plot_data(analysis, c.name, shaft, envelope=envelope) for shaft in analysis.speeds_hz]
+    return PlotSet(tuple(views))
+
+
+def _envelope(c: ChannelAnalysis):
+    """(frequencies, squared envelope, band) of the channel's envelope spectrum from 1 Hz up, or Nones."""
+    if c.envelope is None:
+        return None, None, None
+    keep = c.envelope.freq_hz >= 1.0
+    return c.envelope.freq_hz[keep], c.envelope.amplitude[keep], c.envelopes[0].band_hz
+
+
 def _channel(analysis: Analysis, name: str) -> ChannelAnalysis:
     return next(c for c in analysis.channels if c.name == name)
 
 
-def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None = None) -> PlotData:
-    """What the report plots for ``channel``, looking at ``shaft`` and, if given, ``bearing``."""
+def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None = None, *,
+              envelope=None) -> PlotData:
+    """What the report plots for ``channel``, looking at ``shaft`` and, if given, ``bearing``;
+    ``envelope`` is the channel's ``_envelope``, when the caller has it already."""
     c = _channel(analysis, channel)
     fr = analysis.speeds_hz[shaft]
     n = min(len(c.accel), int(min(analysis.duration_s, max(0.1, WAVEFORM_REVOLUTIONS / fr)) * c.fs_hz))
@@ -80,12 +119,9 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
                   for f in sorted(analysis.forcing, key=lambda f: (f.family == "bearing", f.frequency_hz))
                   if f.frequency_hz <= fmax and f.name not in SKIPPED_MARKS)
 
-    env_hz = env = band = None
+    env_hz, env, band = envelope if envelope is not None else _envelope(c)
     env_marks: tuple[Mark, ...] = ()
     if c.envelope is not None:
-        ses = c.envelope
-        keep = ses.freq_hz >= 1.0
-        env_hz, env, band = ses.freq_hz[keep], ses.amplitude[keep], c.envelopes[0].band_hz
         chosen = [bearing] if bearing else [b.bearing for b in analysis.rates.bearings if b.shaft == shaft]
         out = []
         for b in chosen:

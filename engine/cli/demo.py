@@ -13,14 +13,12 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..demo import run_demo
     from ..common.errors import EXIT_CASE_FAILED
     from ..common.outfile import prepare_folder
+    from ..demo.run import run_demo, summary
     from ..reasoning import Reasoner
 
     prepare_folder(args.out)
     results = run_demo(args.out, Reasoner(rulebook(args)), progress=say, inputs=input_files(args))
-    missed = sum(not r.passed for r in results)
-    say(f"{len(results) - missed} of {len(results)} demo cases diagnosed as expected; "
-          f"reports in {args.out}/ (open {args.out}/index.html)")
-    return EXIT_CASE_FAILED if missed else 0
+    say(summary(results, args.out))
+    return 0 if all(r.passed for r in results) else EXIT_CASE_FAILED

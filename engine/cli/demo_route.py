@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
+from ..demo.plant import MONTHS as DEMO_MONTHS      # the module holds only constants at import
 from ._common import whole
-
-DEMO_MONTHS = 6          # engine.demo.plant.MONTHS (not imported: --help stays quick)
 
 
 def register(sub) -> None:

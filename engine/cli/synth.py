@@ -7,12 +7,26 @@ from ._common import RPM, number, say, whole
 MAX_SYNTH_SAMPLES = 1 << 24     # per channel: 10 min at 25.6 kHz
 
 
+def _fault(name: str) -> str:
+    """A fault of the simulator's table; else the table's own one-line error, as argparse shows it."""
+    import argparse
+
+    from ..common.errors import UsageError
+    from ..simulation import fault_of
+
+    try:
+        fault_of(name)
+    except UsageError as e:
+        raise argparse.ArgumentTypeError(e.problem) from None
+    return name
+
+
 def register(sub) -> None:
     from ..simulation import FAULTS
 
     p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
     p.add_argument("machine", help="machine YAML file")
-    p.add_argument("--fault", default="healthy", choices=list(FAULTS), metavar="FAULT",
+    p.add_argument("--fault", default="healthy", type=_fault, metavar="FAULT",
                    help="fault to simulate (default healthy): " + ", ".join(FAULTS))
     p.add_argument("--component", help="faulty shaft, bearing, gear mesh, belt, rotor or motor id "
                                        "(default: the first of its kind)")

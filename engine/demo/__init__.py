@@ -1,70 +1,19 @@
-"""The demo plant: regenerate every case's reading as files, diagnose them as a user would,
-and write one HTML report per case plus an index.
+"""All the demo code: the invented Tallow Ridge Water Works, nowhere else in the engine.
 
-The cases live in cases/demo/ (Tallow Ridge Water Works, an invented plant).
-Each reading is written by the simulator (WAV with its sidecar and truth
-file), read back through the ordinary readers and diagnosed from the file.
+- ``run``: ``tellwave demo``, every case of cases/demo/ simulated into files,
+  diagnosed from them, one HTML report each and an index;
+- ``plant``: ``tellwave demo-route``, monthly routes whose faults grow.
+
+The package itself imports nothing heavy, so the command line can read the
+demo's constants (``plant.MONTHS``) while building its help; ``run_demo`` is
+looked up from ``run`` when first asked for.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from datetime import datetime, timedelta
-from pathlib import Path
 
-from ..pipeline.cases import Case, case_files, describe, judge, load_case, reading_of, simulation_of
-from ..machine import load_machine
-from ..common.outfile import check_target, known_inputs
-from ..common.paths import CASES
-from ..pipeline import diagnose, document_of
-from ..readings import load_reading
-from ..reasoning import Reasoner
-from ..report import render, write_atomically
-from ..report.render import environment
-from ..simulation import write_simulation
-
-DEMO_CASES = CASES / "demo"
-SURVEY_START = datetime(2026, 3, 2, 8, 30)      # the demo's readings are stamped a few minutes apart from here
-SURVEY_STEP = timedelta(minutes=4)
-
-
-@dataclass(frozen=True)
-class DemoResult:
-    case: Case
-    report: Path
-    passed: bool
-    got: str
-
-
-def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, inputs=()) -> list[DemoResult]:
-    """Diagnose each demo case into ``out_dir``; every file it writes is checked against ``inputs`` first."""
-    out_dir = Path(out_dir)
-    readings_dir = out_dir / "readings"
-    inputs = known_inputs(inputs)
-    cases = case_files(cases_dir)
-    for path in cases:
-        name = Path(path).name.removesuffix(".case.yaml")
-        for target in (out_dir / f"{name}.html", readings_dir / f"{name}.wav", readings_dir / f"{name}.wav.yaml"):
-            check_target(target, inputs)
-    check_target(out_dir / "index.html", inputs)
-    readings_dir.mkdir(parents=True, exist_ok=True)
-    results = []
-    for i, path in enumerate(cases):
-        case = load_case(path)
-        machine = load_machine(case.machine)
-        name = Path(path).name.removesuffix(".case.yaml")
-        sim = simulation_of(case, machine)
-        if sim is not None:
-            taken = (SURVEY_START + i * SURVEY_STEP).isoformat()
-            files = write_simulation(sim, readings_dir / f"{name}.wav", timestamp=taken, inputs=inputs)
-            reading = load_reading(files[0])
-        else:
-            reading = reading_of(case, machine)
-        d = diagnose(reading, machine, reasoner, plots=True)
-        report = write_atomically(out_dir / f"{name}.html", render(document_of(d), "html"), inputs)
-        result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
-        progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
-        results.append(result)
-    index = environment("html").get_template("index.html.j2").render(results=results, out_dir=out_dir)
-    write_atomically(out_dir / "index.html", index, inputs)
-    return results
+def __getattr__(name: str):
+    if name in ("run_demo", "DemoResult", "DEMO_CASES", "summary"):
+        from . import run
+        return getattr(run, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

@@ -4,7 +4,8 @@ Tallow Ridge Water Works is invented. Month by month the RW-2 pump's drive-
 end bearing goes from an incipient inner-race defect to an advanced one and
 the BW-1 blower's unbalance grows; the CT-1 fan stays healthy. Each month
 is a folder with its readings (simulated, written as WAV files with
-sidecars) and a route file that dates them a month apart.
+sidecars) and a route file that dates them a month apart. Only the constants
+are imported with the module (the command line reads ``MONTHS`` for its help).
 """
 
 from __future__ import annotations
@@ -14,10 +15,7 @@ from pathlib import Path
 
 import yaml
 
-from ..machine import load_machine
 from ..common.paths import CASES
-from ..report import write_atomically
-from ..simulation import simulate, write_simulation
 
 FIRST_SURVEY = datetime(2026, 1, 12, 8, 30)
 SURVEY_INTERVAL = timedelta(days=30)
@@ -35,8 +33,12 @@ MONTHS = 6
 
 def write_month(out_dir, month: int) -> Path:
     """Write month ``month`` (1-based) of the demo routes; returns its route file."""
+    from ..common.errors import UsageError
+    from ..machine import load_machine
+    from ..report import write_atomically
+    from ..simulation import simulate, write_simulation
+
     if not 1 <= month <= MONTHS:
-        from ..common.errors import UsageError
         raise UsageError(f"the demo has months 1 to {MONTHS}, got {month}")
     folder = Path(out_dir) / f"month-{month:02d}"
     folder.mkdir(parents=True, exist_ok=True)

@@ -2,7 +2,7 @@
 
 Advice and the report need a few things the facts say (each point's
 overall level and whether its scale can be trusted, the reading's settings,
-the quality notes); they read them here, as dataclasses with units in their
+the quality notes, the bearing families each envelope shows); they read them here, as dataclasses with units in their
 field names, and never pick raw facts by kind name themselves.
 """
 
@@ -47,6 +47,19 @@ class QualityNote:
 
 
 @dataclass(frozen=True)
+class EnvelopeFamily:
+    """A bearing defect family found in one channel's squared envelope spectrum (an ``envelope_tone``)."""
+
+    channel: str
+    bearing: str
+    defect: str                       # BPFO, BPFI, BSF or FTF
+    expected_hz: float                # its impact rate (for BSF: 2 x BSF)
+    harmonics_found: int
+    band_method: str                  # how the demodulation band was chosen
+    fundamental_owned: bool           # the fundamental was found and no other family explains it better
+
+
+@dataclass(frozen=True)
 class Evidence:
     """Evidence facts plus the typed summaries advice and the report read."""
 
@@ -55,6 +68,7 @@ class Evidence:
     settings: dict                    # the acquisition fact's measured fields
     quality: tuple[QualityNote, ...]
     speed: dict = field(default_factory=dict)   # the speed_check fact's fields
+    envelope_families: tuple[EnvelopeFamily, ...] = ()
 
     @property
     def fact_list(self) -> list[dict]:
@@ -80,4 +94,7 @@ def summarise(facts: list[dict]) -> Evidence:
                     for f in facts if f["kind"] == "data_quality")
     speed = next(({k: v for k, v in f.items() if k not in ("kind", "id")}
                   for f in facts if f["kind"] == "speed_check"), {})
-    return Evidence(tuple(facts), levels, settings, quality, speed)
+    families = tuple(EnvelopeFamily(f["channel"], f["component"], f["defect"], f["expected_hz"],
+                                    f["harmonics_found"], f["band_method"], f["fundamental_owned"])
+                     for f in facts if f["kind"] == "envelope_tone")
+    return Evidence(tuple(facts), levels, settings, quality, speed, families)

@@ -1,4 +1,4 @@
-"""The whole job for one reading of one machine: analysis -> evidence -> reasoning -> advice (-> plots).
+"""The whole job for one reading of one machine: analysis (-> plot data) -> evidence -> reasoning -> advice.
 
 Each stage is a plain function of the previous stage's output; this module
 only calls them in order. The command line, the casebook, the demo and every
@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 from ..advice import Advice, advise
 from ..analysis import analyse
-from ..analysis.plotdata import PlotData, plot_data
+from ..analysis.plotdata import PlotSet, plot_set
 from ..evidence import Evidence, run_extractors, summarise
 from ..machine import Machine
 from ..readings import Reading, check_points, check_record_length, describe_issue
@@ -39,7 +39,7 @@ class Diagnosis:
     evidence: Evidence
     reasoning: Reasoning
     advice: Advice
-    plots: PlotData | None
+    plots: PlotSet | None            # every channel's plot data from every shaft; the report picks
     reach: tuple[dict, ...] = ()     # faults the reading's settings cannot show or may miss (planner checks)
 
     @property
@@ -59,7 +59,7 @@ def reading_info(reading: Reading, taken: tuple[str, str] | None = None) -> Read
 
 def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data: dict | None = None,
              plots: bool = False, more_facts=None, taken: tuple[str, str] | None = None) -> Diagnosis:
-    """Diagnose ``reading`` of ``machine``; ``plots`` also cuts the data the report's figures draw.
+    """Diagnose ``reading`` of ``machine``; ``plots`` also hands over the analysis's plot data.
 
     ``more_facts``, if given, is called with the evidence facts and returns
     further facts to reason over with them (``trend`` facts from the history).
@@ -69,18 +69,13 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     check_points(reading, machine)
     check_record_length(reading, machine)
     analysis = analyse(reading, machine)
+    figures = plot_set(analysis) if plots else None
     facts = run_extractors(analysis)
     if more_facts is not None:
         facts = facts + list(more_facts(facts))
     evidence = summarise(facts)
     reasoning = reasoner.reason(list(evidence.facts))
     advice = advise(machine, evidence, reasoning, advice_data)
-    figures = None
-    if plots:
-        from ..report.plots import focus
-
-        channel, shaft, bearing = focus(reasoning, evidence, machine)
-        figures = plot_data(analysis, channel, shaft, bearing)
     return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
                      reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook))
 

@@ -42,6 +42,10 @@ def load_case(path) -> Case:
     machine = base / d["machine"]
     if not machine.exists():
         raise CaseError(f"machine file {d['machine']} not found", path=str(path), line=doc.line_of(["machine"]))
+    if d.get("simulate") is not None:
+        from ..simulation import fault_of
+
+        fault_of(d["simulate"]["fault"], CaseError, str(path), doc.line_of(["simulate", "fault"]))
     readings = tuple(base / r for r in d.get("readings", []))
     for i, r in enumerate(readings):
         if not r.exists():

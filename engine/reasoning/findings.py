@@ -58,6 +58,14 @@ class Hypothesis:
     def confident(self) -> bool:
         return self.certainty >= CONFIDENT
 
+    @property
+    def channels(self) -> tuple[str, ...]:
+        """The channels its supporting facts were measured on, in the trail's order, those whose
+        fact sits at its own component (bearing or shaft) first."""
+        seen = [(f["channel"], self.component in (f.get("location"), f.get("location_shaft")))
+                for firing in self.support for _, f in firing.facts if f.get("channel") is not None]
+        return tuple(c for c, at in seen if at) + tuple(c for c, at in seen if not at)
+
 
 @dataclass(frozen=True)
 class Reasoning:

@@ -14,7 +14,7 @@ from datetime import datetime
 
 from .. import __version__
 from ..advice import Advice, Recommendation
-from ..analysis.plotdata import PlotData
+from ..analysis.plotdata import PlotSet
 from ..evidence import Evidence
 from ..machine import Machine
 from ..reasoning import CONFIDENT, POSSIBLE, Firing, Hypothesis, Reasoning
@@ -200,7 +200,7 @@ def speed_text(speed: dict) -> str:
 
 
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
-                    advice: Advice, plots: PlotData | None = None, reach=(), made_at: str | None = None) -> dict:
+                    advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None) -> dict:
     """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo.
 
     ``made_at`` is the report's own time (see ``report_time``), now when None;
@@ -212,7 +212,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
     if plots is not None:
         from .plots import figures as draw
 
-        figures = draw(plots, evidence)
+        figures = draw(plots, evidence, reasoning, machine)
     problems = [{"fault": h.fault, "fault_name": h.fault_name, "component": h.component,
                  "certainty": round(h.certainty, 3), "support": [_firing(f) for f in h.support]}
                 for h in reasoning.reading_problems]

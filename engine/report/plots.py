@@ -1,9 +1,10 @@
 """The report's figures: which channel and shaft to show, and the SVG drawn from plain plot data.
 
-``focus`` picks the channel, shaft and bearing of the top hypothesis's
-strongest evidence (or the loudest channel); the analysis stage cuts the
-plot data for them (``engine.analysis.plotdata``); ``figures`` draws it with
-``svg``. The envelope spectrum marks the harmonics of each defect family
+The analysis stage hands over a ``PlotSet`` (``engine.analysis.plotdata``):
+every channel seen from every shaft. ``focus`` picks the channel, shaft and
+bearing of the top hypothesis's strongest evidence (or the loudest channel)
+from the reasoning and the evidence's summaries; ``figures`` draws that view
+with ``svg``. The envelope spectrum marks the harmonics of each defect family
 the evidence found, solid, beside the dashed fundamentals of the bearing's rates.
 """
 
@@ -11,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..analysis.plotdata import PlotData
+from ..analysis.plotdata import PlotData, PlotSet
 from ..evidence import Evidence
 from ..machine import Machine
 from ..reasoning import Reasoning
@@ -28,11 +29,8 @@ def focus(reasoning: Reasoning, evidence: Evidence, machine: Machine) -> tuple[s
     top = reasoning.top if not reasoning.withheld else None
     channel = bearing = None
     if top is not None:
-        seen = [f for firing in top.support for _, f in firing.facts if f.get("channel") in channels]
         # a channel on the component itself first, else the first one the evidence names
-        at = [f for f in seen if top.component in (f.get("location"), f.get("location_shaft"))]
-        if at or seen:
-            channel = (at or seen)[0]["channel"]
+        channel = next((c for c in top.channels if c in channels), None)
         bearing = top.component if top.component in bearings else None
     if channel is None:
         # the loudest channel with a trusted scale (a level that is not a measurement cannot be loudest)
@@ -50,6 +48,11 @@ def focus(reasoning: Reasoning, evidence: Evidence, machine: Machine) -> tuple[s
     return channel, shaft, bearing
 
 
+def shown(plots: PlotSet, reasoning: Reasoning, evidence: Evidence, machine: Machine) -> PlotData:
+    """The view of ``plots`` the report's figures show (``focus``)."""
+    return plots.view(*focus(reasoning, evidence, machine))
+
+
 def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
     """Solid marks at the harmonics of each defect family the evidence found in this channel's envelope.
 
@@ -59,22 +62,28 @@ def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
     harmonics those were).
     """
     out = []
-    for f in evidence.facts:
-        if (f["kind"] == "envelope_tone" and f["channel"] == pd.channel and f["band_method"] == "kurtogram"
-                and f["fundamental_owned"] and (pd.bearing is None or f["component"] == pd.bearing)):
+    for f in evidence.envelope_families:
+        if (f.channel == pd.channel and f.band_method == "kurtogram" and f.fundamental_owned
+                and (pd.bearing is None or f.bearing == pd.bearing)):
             # the ball spin's impacts come twice per spin: the k-th harmonic of 2xBSF is 2k x BSF
-            per, name = (2, "BSF") if f["defect"] == "BSF" else (1, f["defect"])
-            found = min(f["harmonics_found"], ENVELOPE_HARMONICS_MARKED)
+            per, name = (2, "BSF") if f.defect == "BSF" else (1, f.defect)
+            found = min(f.harmonics_found, ENVELOPE_HARMONICS_MARKED)
             for k in range(1, found + 1):
                 label = name if k * per == 1 else f"{k * per}x{name}"
                 if k == 1 and pd.bearing is None:      # several bearings marked: say whose rate it is
-                    label += f" {f['component']}"
-                out.append(svg.Mark(k * f["expected_hz"], label, strong=True))
+                    label += f" {f.bearing}"
+                out.append(svg.Mark(k * f.expected_hz, label, strong=True))
     return out
 
 
-def figures(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
-    """(title, SVG) of each figure: waveform, revolutions, spectrum, squared envelope spectrum."""
+def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: Machine) -> list[tuple[str, str]]:
+    """(title, SVG) of each figure of the view the report shows: waveform, revolutions, spectrum,
+    squared envelope spectrum."""
+    return draw(shown(plots, reasoning, evidence, machine), evidence)
+
+
+def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
+    """(title, SVG) of each figure of one view."""
     out = []
     # a channel whose scale is not trusted is drawn as stated, and its level axes say so
     stated = " as stated (scale not trusted)" if pd.channel in {lv.channel for lv in evidence.scale_doubted} else ""

@@ -1,5 +1,7 @@
 """The simulator against the physics it claims."""
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 import yaml
@@ -152,7 +154,28 @@ def test_cli_synth_and_bad_fault(tmp_path, capsys):
                  "-o", str(out)]) == 0
     assert out.exists() and load_reading(out).fs_hz == 5120.0
     assert main(["synth", str(RW2), "--fault", "gremlins", "-o", str(out)]) == 2
-    assert "invalid choice" in capsys.readouterr().err
+    err = capsys.readouterr().err
+    assert "unknown fault 'gremlins'; expected one of healthy, unbalance," in err and len(err.splitlines()) == 1
+
+
+def test_an_unknown_fault_is_the_same_one_line_wherever_it_is_named(rw2, tmp_path, capsys):
+    """The table of faults words its own error: simulate, tellwave synth and a case file say the same."""
+    from engine.common.errors import CaseError, UsageError
+    from engine.pipeline.cases import load_case
+    from engine.simulation import FAULTS
+
+    words = "unknown fault 'gremlins'; expected one of " + ", ".join(FAULTS)
+    with pytest.raises(UsageError) as raised:
+        simulate(rw2, "gremlins")
+    assert raised.value.problem == words
+    assert main(["synth", str(RW2), "--fault", "gremlins", "-o", str(tmp_path / "r.npz")]) == 2
+    assert capsys.readouterr().err.strip().endswith(words)
+    case = tmp_path / "gremlins.case.yaml"
+    case.write_text(f"case: gremlins\nmachine: {RW2}\nsimulate:\n  seed: 1\n  fault: gremlins\n"
+                    "expect:\n  nothing: true\n")
+    with pytest.raises(CaseError) as raised:
+        load_case(case)
+    assert str(raised.value) == f"{case}:5: {words}"
 
 
 def test_fault_on_a_component_the_machine_lacks(rw2):
@@ -167,3 +190,25 @@ def test_the_simulator_speaks_the_rulebooks_fault_ids():
 
     declared = set(load_rulebook().faults)
     assert set(FAULTS) - {"healthy"} <= declared, set(FAULTS) - {"healthy"} - declared
+
+
+def test_each_fault_is_made_in_its_family_module_from_kinematics_rates():
+    """One table, one module per fault family (DESIGN.md, simulation/), and no rate derived from
+    the machine's geometry outside engine/machine/kinematics.py (DEVELOPERS.md)."""
+    import inspect
+
+    import engine.simulation as simulation
+    from engine.simulation import FAULTS
+
+    families = {"shaft", "bearings", "gears", "belts", "flow", "electrical"}
+    for name, fault in FAULTS.items():
+        if name != "healthy":
+            assert fault.make.__module__.rsplit(".", 1)[-1] in families, (name, fault.make.__module__)
+    folder = Path(inspect.getfile(simulation)).parent
+    geometry = ("rolling_elements", "pitch_diameter", "element_diameter", "contact_angle", "driving_teeth *",
+                ".vanes", "line_frequency_hz", "belt_length_mm", "driving_diameter_mm", "rotor_bars", ".poles")
+    for path in sorted(folder.glob("*.py")):
+        if path.name == "__init__.py":       # runs_at hands the motor's data to kinematics.pole_pass_hz
+            continue
+        text = path.read_text(encoding="utf-8")
+        assert not [g for g in geometry if g in text], (path.name, [g for g in geometry if g in text])

@@ -7,7 +7,8 @@ import pytest
 from engine.analysis import amplitude_spectrum
 from engine.common.errors import UsageError
 from engine.machine import load_machine
-from engine.simulation import _resonance_ring, simulate
+from engine.simulation import simulate
+from engine.simulation.signal import resonance_ring
 
 from support import CASES
 
@@ -31,8 +32,8 @@ def test_acceleration_ring_falls_as_frequency_squared_below_the_resonance():
     # e.g. Ewins, "Modal Testing", ch. 2, from memory): below the resonance the acceleration
     # response falls as (f / f_res)^2, while the displacement response stays flat.
     fs, f_res = 51200.0, 4000.0
-    ring = _resonance_ring(fs, f_res, 0.04, response="acceleration")
-    flat = _resonance_ring(fs, f_res, 0.04, response="displacement")
+    ring = resonance_ring(fs, f_res, 0.04, response="acceleration")
+    flat = resonance_ring(fs, f_res, 0.04, response="displacement")
     n = 1 << 16
     acc = np.abs(np.fft.rfft(ring, n))
     disp = np.abs(np.fft.rfft(flat, n))

@@ -1,0 +1,79 @@
+"""Rolling-bearing defects (Randall & Antoni 2011, "Rolling element bearing diagnostics - A
+tutorial", MSSP 25; McFadden & Smith 1984 for the signal model).
+
+A defect is a train of impacts at its rate with 1 % random slip, each ringing a
+structural resonance, amplitude-modulated by the load zone: at 1X for a
+rotating inner race, at FTF for a rolling element, not at all for a stationary
+outer race in the load zone. A cage fault strikes weakly once per cage turn
+and modulates 1X at the cage rate.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..machine import Point
+from ..machine.kinematics import BearingRates, bearing_multiples
+from .signal import G, Part, Scene, impact_signal, impact_times, resonance_ring
+
+# impact size by stage: stage 1 is visible only in the envelope; stage 4 dominates the waveform
+IMPACT_G = {1: 0.06, 2: 0.4, 3: 1.5, 4: 5.0}
+SHAFT_AWAY = 0.15    # at a point on the same shaft but another bearing
+MACHINE_AWAY = 0.03  # at a point on another shaft
+
+
+def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | None, depth: float,
+            size_factor: float = 1.0, then=None) -> Part:
+    """Impacts at ``rate_hz`` modulated to ``depth`` at ``mod_hz``; ``then(rates, x)`` adds more."""
+    rates = s.rates.bearing(bearing)
+    duration = s.n / s.fs
+    size = IMPACT_G[stage] * G
+    if size_factor != 1.0:
+        size *= size_factor
+    times = impact_times(rate_hz, duration, s.rng)
+    amplitudes = np.full(len(times), size)
+    if mod_hz is not None:
+        phase = s.rng.uniform(0, 2 * np.pi)
+        load = 0.5 + 0.5 * np.cos(2 * np.pi * mod_hz * times + phase)
+        amplitudes *= (1 - depth) + depth * load
+    amplitudes *= 1 + 0.1 * s.rng.standard_normal(len(times))
+    ring = resonance_ring(s.fs, s.resonance_hz, damping=0.04, response=s.ring_response)
+    x = impact_signal(times, amplitudes, s.fs, s.n, ring)
+    if then is not None:
+        x += then(rates)
+    if stage == 4:  # late stage: the noise floor rises and 1X harmonics appear
+        x += 0.03 * G * s.rng.standard_normal(s.n)
+        for k in range(1, 6):
+            x += s.shaft_tone(rates.shaft, k, 0.4 / k, s.rng.uniform(0, 6.3))
+    points_at = {p.at for p in s.machine.points}
+
+    def add(out: np.ndarray, point: Point) -> None:
+        near = s.near(point)
+        at_bearing = point.at == bearing or (bearing not in points_at and near)
+        out += x * (1.0 if at_bearing else SHAFT_AWAY if near else MACHINE_AWAY)
+    return Part(add, {"impact_times_s": times, "impact_rate_hz": rate_hz, "modulation_hz": mod_hz})
+
+
+def outer_race(s: Scene, bearing: str, stage: int) -> Part:
+    return _defect(s, bearing, stage, s.rates.bearing(bearing).bpfo_hz, None, 0.0)
+
+
+def inner_race(s: Scene, bearing: str, stage: int) -> Part:
+    rates = s.rates.bearing(bearing)
+    return _defect(s, bearing, stage, rates.bpfi_hz, rates.shaft_hz, 0.8)
+
+
+def rolling_element(s: Scene, bearing: str, stage: int) -> Part:
+    rates = s.rates.bearing(bearing)
+    return _defect(s, bearing, stage, rates.impact_rate_hz("BSF"), rates.ftf_hz, 0.8, size_factor=0.7)
+
+
+def cage(s: Scene, bearing: str, stage: int) -> Part:
+    """A weak impact once per cage turn, and the cage rate modulating 1X."""
+    def modulated_1x(rates: BearingRates) -> np.ndarray:
+        # the cage's order of the shaft speed, as kinematics gives it
+        ftf_order = bearing_multiples(next(b for b in s.machine.bearings if b.id == bearing))["ftf"]
+        return (s.shaft_tone(rates.shaft, 1, 0.8 * stage)
+                * (1 + 0.5 * np.cos(2 * np.pi * ftf_order * rates.shaft_hz * s.t)))
+    return _defect(s, bearing, stage, s.rates.bearing(bearing).ftf_hz, None, 0.0, size_factor=0.6,
+                   then=modulated_1x)

@@ -1,0 +1,36 @@
+"""What a simulation returns: the channels, the measurement points and the ground truth."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..machine import Point
+
+
+@dataclass(frozen=True)
+class Truth:
+    fault: str
+    component: str | None
+    stage: int
+    speed_rpm: float
+    seed: int
+    fs_hz: float
+    duration_s: float
+    also: tuple = ()        # further faults present at the same time: (fault, component, stage)
+
+    def as_dict(self) -> dict:
+        out = {k: getattr(self, k) for k in self.__dataclass_fields__}
+        out["also"] = [list(x) for x in self.also]
+        return out
+
+
+@dataclass
+class Simulation:
+    fs_hz: float
+    channels: dict[str, np.ndarray]          # acceleration, m/s^2
+    points: dict[str, Point]                  # channel name -> measurement point
+    truth: Truth
+    speed_rpm: float
+    extra: dict = field(default_factory=dict)  # model internals tests can check (impact times)
