@@ -90,8 +90,8 @@ def _environment(site: Path) -> dict:
 def _installed(kind: str, wheel: Path, place: Path) -> Path:
     """Install the wheel with ``--target`` or ``--prefix`` into ``place``; the folder that holds ``engine``."""
     # --ignore-installed: without it a --prefix install first uninstalls the tellwave of the running environment
-    _pip("install", "--no-deps", "--no-index", "--no-compile", "--ignore-installed", f"--{kind}", str(place), str(wheel),
-         cwd=place.parent)
+    _pip("install", "--no-deps", "--no-index", "--no-compile", "--ignore-installed", f"--{kind}", str(place),
+         str(wheel), cwd=place.parent)
     (paths_py,) = [p for p in place.rglob("engine/common/paths.py")]
     return paths_py.parents[2]
 

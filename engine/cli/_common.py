@@ -6,8 +6,12 @@ from __future__ import annotations
 import argparse
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from ..common.errors import UsageError
+
+if TYPE_CHECKING:
+    from ..common.outfile import Inputs
 
 
 class Parser(argparse.ArgumentParser):
@@ -159,7 +163,7 @@ def input_files(args, route=None) -> list[Path]:
     return files
 
 
-def output_target(args, output, route=None) -> list[Path]:
+def output_target(args, output, route=None) -> Inputs:
     """Check ``output`` against every input of the command before any work (``engine.common.outfile.check_target``);
     return the inputs, to be given again when the file is written."""
     from ..common.outfile import check_target, known_inputs

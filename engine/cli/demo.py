@@ -13,9 +13,9 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..demo import run_demo
     from ..common.errors import EXIT_CASE_FAILED
     from ..common.outfile import prepare_folder
+    from ..demo import run_demo
     from ..reasoning import Reasoner
 
     prepare_folder(args.out)

@@ -5,8 +5,16 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import (add_reading_options, add_readings_argument, add_site_option, input_files, load_readings,
-                      output_target, rulebook, say)
+from ._common import (
+    add_reading_options,
+    add_readings_argument,
+    add_site_option,
+    input_files,
+    load_readings,
+    output_target,
+    rulebook,
+    say,
+)
 
 
 def register(sub) -> None:

@@ -17,8 +17,8 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..evidence import extract_evidence
     from ..common.jsonout import dumps
+    from ..evidence import extract_evidence
     from ..machine import load_machine
 
     machine = load_machine(args.machine)

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-
 from ._common import RPM, say
 
 
@@ -17,8 +16,8 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from ..common.jsonout import dumps
-    from ..machine.kinematics import forcing_frequencies
     from ..machine import load_machine
+    from ..machine.kinematics import forcing_frequencies
 
     machine = load_machine(args.machine)
     table = forcing_frequencies(machine, args.rpm, args.shaft)

@@ -32,8 +32,8 @@ def reading_id(text: str) -> int:
 
 def run(args) -> int:
     from ..common.errors import UsageError
-    from ..common.jsonout import dumps
     from ..common.escape import one_line as v
+    from ..common.jsonout import dumps
     from ._store import open_store
 
     delete = None if args.delete is None else reading_id(args.delete)

@@ -11,7 +11,8 @@ from ._common import RPM, number, output_target, whole
 def register(sub) -> None:
     p = sub.add_parser("plan", help="propose acquisition settings for a machine, or check given ones")
     p.add_argument("machine", help="machine YAML file")
-    p.add_argument("--point", action="append", metavar="P", help="plan only this measurement point (repeatable; default: every point)")
+    p.add_argument("--point", action="append", metavar="P",
+                   help="plan only this measurement point (repeatable; default: every point)")
     p.add_argument("--rpm", type=RPM, help="running speed of the driving shaft (default: nominal)")
     given = p.add_argument_group("settings to check (or --reading)")
     given.add_argument("--fmax", type=number("Fmax in Hz"), metavar="HZ", help="Fmax in Hz")
@@ -61,7 +62,7 @@ def run(args) -> int:
     output = args.output
     if output is None and fmt in ("html", "md"):
         output = Path(args.machine).with_suffix("").name + f".plan.{fmt}"
-    inputs = output_target(args, output) if output is not None else []      # before the work
+    inputs = output_target(args, output) if output is not None else None    # before the work
     machine = load_machine(args.machine)
     policy = load_policy(args.policy)
     for point in args.point or []:

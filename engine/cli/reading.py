@@ -18,8 +18,8 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from .. import analysis
-    from ..readings import describe_issue, load_reading
     from ..common.units import STANDARD_GRAVITY_M_S2
+    from ..readings import describe_issue, load_reading
 
     reading = load_reading(args.reading, **reading_options(args))
     say(f"{reading.source}: {len(reading.channels)} channel(s), {reading.fs_hz:g} Hz, "

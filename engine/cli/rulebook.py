@@ -87,8 +87,8 @@ def _explain(args) -> int:
 
 
 def _test(args) -> int:
-    from ..pipeline.cases import case_files, load_case, run_case
     from ..common.errors import EXIT_CASE_FAILED
+    from ..pipeline.cases import case_files, load_case, run_case
     from ..reasoning import Reasoner
 
     reasoner = Reasoner(rulebook(args))

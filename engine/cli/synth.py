@@ -33,8 +33,8 @@ def register(sub) -> None:
 def run(args) -> int:
     from ..common.errors import UsageError
     from ..machine import load_machine
-    from ._common import output_target
     from ..simulation import simulate, write_simulation
+    from ._common import output_target
 
     inputs = output_target(args, args.output)      # before the work
     if args.duration * args.sample_rate > MAX_SYNTH_SAMPLES:

@@ -46,15 +46,14 @@ def run(args) -> int:
     from ..route.runner import slug
     from ..trend import trend_document
     from ..trend.render import render_trend
-    from ._store import open_store
-
     from ._common import output_target
+    from ._store import open_store
 
     limits = parse_limits(args.limit)
     output = args.output
     if output is None and args.format in ("html", "md"):
         output = f"{slug(args.machine)}.trend.{args.format}"
-    inputs = output_target(args, output) if output is not None else []      # before the work
+    inputs = output_target(args, output) if output is not None else None    # before the work
     with open_store(args, create=False) as store:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"

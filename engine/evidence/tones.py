@@ -6,8 +6,16 @@ import numpy as np
 
 from ..analysis import Analysis, ChannelAnalysis, find_peaks
 from ..common.units import STANDARD_GRAVITY_M_S2 as G
-from ._match import (HALF_ORDERS, SHAFT_HARMONICS, SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, explained_frequencies,
-                     find_lines, tolerance_hz)
+from ._match import (
+    HALF_ORDERS,
+    SHAFT_HARMONICS,
+    SPEED_TOLERANCE,
+    UNREFINED_TOLERANCE,
+    db,
+    explained_frequencies,
+    find_lines,
+    tolerance_hz,
+)
 from .signs import SIGNS, match_fit, spectrum_line
 
 MIN_TONE_HZ = 2.0
@@ -58,9 +66,10 @@ def tones(rc: Analysis) -> list[dict]:
             spec = c.velocity if use_velocity else c.spectrum
             lines = find_lines(spec, [f.frequency_hz for f in group], [_tol(rc, f.family) for f in group])
             for i, f in enumerate(group):
-                if lines.found[i] and not (f.family == "bearing"
-                                           and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
-                    hits.append((f, lines.peak(i)))
+                peak = lines.peak(i)       # None when the line was not found
+                if peak is not None and not (f.family == "bearing"
+                                             and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
+                    hits.append((f, peak))
         if not hits:
             continue
         accel_g, v = _amplitudes_at(c, np.array([p.freq_hz for _, p in hits]), 0.0)

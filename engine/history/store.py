@@ -24,8 +24,8 @@ import math
 import random
 import sqlite3
 import time
-from datetime import datetime, timezone
-from functools import lru_cache
+from datetime import UTC, datetime
+from functools import cache
 from pathlib import Path
 
 from ..common.errors import StoreError
@@ -125,7 +125,7 @@ def default_store_path() -> Path:
 
 
 def _now() -> str:
-    return datetime.now(timezone.utc).isoformat(timespec="seconds")
+    return datetime.now(UTC).isoformat(timespec="seconds")
 
 
 class Store:
@@ -140,7 +140,7 @@ class Store:
         waited for (``BUSY_TIMEOUT_S`` in all), and the schema is made or migrated once, in one
         transaction, by whichever takes the write lock first."""
         self.path = Path(path)
-        self.db = None
+        self.db: _Connection       # set once the file is open; every method after __init__ uses it
         deadline = time.monotonic() + BUSY_TIMEOUT_S
         try:
             if self.path.is_dir():
@@ -152,15 +152,15 @@ class Store:
             if not read_only:
                 self.path.parent.mkdir(parents=True, exist_ok=True)
             while True:
+                db = None
                 try:
-                    self.db = _Connection(self.path, read_only=read_only, create=create)
+                    self.db = db = _Connection(self.path, read_only=read_only, create=create)
                     self._open(migrate_to, read_only=read_only, create=create)
                     return
                 except StoreError as exc:
-                    if self.db is not None:
-                        self.db.close()
-                        self.db = None
-                    if not getattr(exc, "busy", False) or time.monotonic() > deadline:
+                    if db is not None:
+                        db.close()
+                    if not exc.busy or time.monotonic() > deadline:
                         raise
                     time.sleep(random.uniform(0.01, 0.1))     # a lock SQLite would not wait for: try again
         except OSError as exc:
@@ -329,7 +329,7 @@ class Store:
             sql += " WHERE r.machine = ?"
             args = (machine,)
         rows = [dict(r) for r in self.db.execute(sql + " ORDER BY r.taken_at, r.id", args)]
-        points = {}
+        points: dict[int, list[str]] = {}
         for r in self.db.execute("SELECT reading_id, point FROM channels ORDER BY reading_id, channel"):
             points.setdefault(r[0], []).append(str(r[1] or ""))
         for r in rows:
@@ -430,7 +430,7 @@ def _number(value) -> bool:
             and abs(value) <= LARGEST_INDICATOR)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _expected_tables(version: int) -> dict[str, frozenset]:
     """table -> its columns, in a store of schema ``version`` (the migrations run on an empty database)."""
     db = sqlite3.connect(":memory:")

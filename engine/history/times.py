@@ -134,6 +134,7 @@ def reading_time(stated, stated_from: str, reading, first_file, clock: Clock | N
     """A reading's time (ISO 8601) and where it came from: as stated (``stated_from``: "route",
     "command line"), else the file's own timestamp, else the date the file was last modified."""
     for value, origin in ((stated, stated_from), (reading.timestamp, "file")):
-        if value is not None:
-            return iso(resolve_time(value, clock, what=what)), origin
+        when = resolve_time(value, clock, what=what)      # None only when nothing is stated
+        if when is not None:
+            return iso(when), origin
     return iso(datetime.fromtimestamp(os.path.getmtime(first_file))), "file modified"

@@ -11,9 +11,9 @@ that names the file, the line and the field.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Mapping
 
 from ..common.errors import MachineError
 from ..common.yamlfile import YamlDocument, read_yaml, validate
@@ -238,7 +238,7 @@ def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | No
     if not ranged:
         return None
     first = ranged[0][1]["id"]
-    for i, spec in ranged[1:]:
+    for i, _spec in ranged[1:]:
         fail(("shafts", i, "speed_range_rpm"), f"only one shaft may state a speed range and shaft {first!r} "
              "does; the other shafts follow it by their ratios")
     i, spec = ranged[0]

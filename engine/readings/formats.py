@@ -268,7 +268,8 @@ def read_uff58(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     records = [s for s in sets if s.get("type") == 58 and s.get("func_type") == 1]
     if not records:
         raise ReadingError("no UFF type 58 time-response data set in the file", path=path)
-    names, arrays, units, points, rates = [], [], [], [], []
+    names, arrays, units, rates = [], [], [], []
+    points: list[str | None] = []
     for i, s in enumerate(records):
         if s.get("abscissa_spacing") != 1:
             raise ReadingError(f"data set {i + 1} is not evenly spaced in time", path=path)

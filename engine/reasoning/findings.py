@@ -48,7 +48,7 @@ class Hypothesis:
     other_matches: int = 0            # weaker firings of the same rules, not counted again
     withholds: bool = False           # a reading problem that, when confident, withholds the diagnosis
     raw_certainty: float | None = None    # before explaining away (None: no sign of it was shared)
-    explained_by: tuple["SignLoss", ...] = ()   # hypotheses that took part of its signs, most first
+    explained_by: tuple[SignLoss, ...] = ()   # hypotheses that took part of its signs, most first
 
     @property
     def strength(self) -> str:

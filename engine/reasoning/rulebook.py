@@ -25,12 +25,12 @@ import re
 import string
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, NoReturn
 
 from ..common.errors import RulebookError
-from ..evidence.vocabulary import FACTS, F, fields_of
 from ..common.paths import RULEBOOKS
 from ..common.yamlfile import YamlDocument, first_problem, read_yaml
+from ..evidence.vocabulary import FACTS, F, fields_of
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
 LARGEST_NUMBER = 1e15
@@ -280,11 +280,12 @@ def _may_feed(giver: Rule, pattern: Pattern) -> bool:
         if c.field not in fixed or isinstance(c.value, Ref):
             continue
         v = fixed[c.field]
-        ok = {"is": lambda: v == c.value, "is_not": lambda: v != c.value,
-              "one_of": lambda: v in c.value, "not_one_of": lambda: v not in c.value,
-              "between": lambda: c.value[0] <= v <= c.value[1], "above": lambda: v > c.value,
-              "at_least": lambda: v >= c.value, "below": lambda: v < c.value,
-              "at_most": lambda: v <= c.value}.get(c.op, lambda: True)
+        # the lambdas are called below, in this iteration, so they read this iteration's v and c
+        ok = {"is": lambda: v == c.value, "is_not": lambda: v != c.value,  # noqa: B023
+              "one_of": lambda: v in c.value, "not_one_of": lambda: v not in c.value,  # noqa: B023
+              "between": lambda: c.value[0] <= v <= c.value[1], "above": lambda: v > c.value,  # noqa: B023
+              "at_least": lambda: v >= c.value, "below": lambda: v < c.value,  # noqa: B023
+              "at_most": lambda: v <= c.value}.get(c.op, lambda: True)  # noqa: B023
         try:
             if not ok():
                 return False
@@ -437,7 +438,7 @@ class _RuleChecker:
         self.aliases: dict[str, dict[str, F]] = {}
         self.used: list[str] = []          # parameters the condition being built refers to
 
-    def fail(self, problem: str, *where) -> None:
+    def fail(self, problem: str, *where) -> NoReturn:
         line = self.doc.line_of(["rules", self.index, *where])
         raise RulebookError(problem, path=self.doc.path, line=line, rule_id=self.raw["id"])
 
@@ -656,8 +657,8 @@ class _RuleChecker:
         missing = sorted(set(declared) - set(d["fields"]))
         extra = sorted(set(d["fields"]) - set(declared))
         if missing or extra:
-            self.fail(f"derives {d['fact']}: " + (f"missing fields {missing}" if missing else f"unknown fields {extra}"),
-                      "derives", "fields")
+            self.fail(f"derives {d['fact']}: "
+                      + (f"missing fields {missing}" if missing else f"unknown fields {extra}"), "derives", "fields")
         values = []
         for name, v in d["fields"].items():
             v = self.value_or_ref(v, "derives", "fields", name)

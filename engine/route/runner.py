@@ -21,7 +21,7 @@ from pathlib import Path
 
 from ..history.record import content_hash, reading_key, rulebooks_hash
 from ..history.store import Store
-from .files import Route, Task, route_inputs
+from .files import Route, route_inputs
 from .work import diagnose_task
 
 IN_FLIGHT_PER_WORKER = 4
