@@ -9,6 +9,7 @@ from ._common import RPM, number, output_target, whole
 
 
 def register(sub) -> None:
+    """Add ``tellwave plan`` and its options."""
     p = sub.add_parser("plan", help="propose acquisition settings for a machine, or check given ones")
     p.add_argument("machine", help="machine YAML file")
     p.add_argument("--point", action="append", metavar="P",
@@ -53,6 +54,7 @@ def _given(args, policy):
 
 
 def run(args) -> int:
+    """Plan the acquisition of a machine, or check given settings; the exit code."""
     from ..common.escape import one_line
     from ..machine import load_machine
     from ..planner import build_plan, load_policy, render_plan

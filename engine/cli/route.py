@@ -7,6 +7,7 @@ from ._store import add_store_option
 
 
 def register(sub) -> None:
+    """Add ``tellwave route`` and its options."""
     p = sub.add_parser("route", help="diagnose a whole route of readings, store them and summarise")
     p.add_argument("route", help="route file (YAML), or a folder of readings with sidecars (give --plant)")
     p.add_argument("--plant", help="plant file mapping the folder's readings to machines")
@@ -25,6 +26,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Diagnose a route into the store and write its reports and summary; the exit code."""
     import sys
     from pathlib import Path
 

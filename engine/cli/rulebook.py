@@ -7,6 +7,7 @@ from ._common import Parser, add_site_option, rulebook, say
 
 
 def register(sub) -> None:
+    """Add ``tellwave rulebook`` and its actions (check, test, explain, list, vocabulary, parameters)."""
     p = sub.add_parser("rulebook", help="check, test, list and explain rulebooks and their vocabulary")
     rb = p.add_subparsers(dest="action", metavar="ACTION", parser_class=Parser)
     p.set_defaults(run=lambda args: _usage(p))

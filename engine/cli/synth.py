@@ -8,6 +8,7 @@ MAX_SYNTH_SAMPLES = 1 << 24     # per channel: 10 min at 25.6 kHz
 
 
 def register(sub) -> None:
+    """Add ``tellwave synth`` and its options."""
     from ..simulation import FAULTS
 
     p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
@@ -31,6 +32,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Write a simulated reading with its sidecar and truth file; the exit code."""
     from ..common.errors import UsageError
     from ..machine import load_machine
     from ..simulation import simulate, write_simulation

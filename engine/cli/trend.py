@@ -6,6 +6,7 @@ from ._store import add_store_option
 
 
 def register(sub) -> None:
+    """Add ``tellwave trend`` and its options."""
     p = sub.add_parser("trend", help="trend a stored machine: change, rate per month, projected time to a limit")
     p.add_argument("machine", help="machine name as its file gives it (tellwave history lists them)")
     p.add_argument("--point", help="only this measurement point (default: every point)")
@@ -19,6 +20,7 @@ def register(sub) -> None:
 
 
 def parse_limits(items: list[str]) -> dict[str, float]:
+    """``--limit INDICATOR=VALUE`` items as {indicator: value}; a UsageError for a bad one."""
     from ..common.errors import UsageError
     from ..history.record import INDICATORS
 
@@ -38,6 +40,7 @@ def parse_limits(items: list[str]) -> dict[str, float]:
 
 
 def run(args) -> int:
+    """Show or write the trend of a stored machine; the exit code."""
     import sys
 
     from ..common.errors import UsageError

@@ -236,12 +236,15 @@ class Store:
 
     @property
     def version(self) -> int:
+        """The schema version the store holds."""
         return self.db.execute("SELECT version FROM schema_version").fetchone()[0]
 
     def transaction(self):
+        """A write transaction (BEGIN IMMEDIATE ... COMMIT, ROLLBACK on any exception); nests."""
         return _Transaction(self.db)
 
     def close(self) -> None:
+        """Close the connection; a closed store is not used again."""
         if self.db is not None:
             self.db.close()
 
@@ -253,6 +256,7 @@ class Store:
 
     # writing ---------------------------------------------------------------
     def start_route(self, name: str, file: str | None) -> int:
+        """Record the start of a route run; its id, which the readings it stores refer to."""
         with self.transaction():
             cur = self.db.execute("INSERT INTO routes (name, file, started_at) VALUES (?, ?, ?)",
                                   (name, file, _now()))
@@ -302,6 +306,7 @@ class Store:
             return rid
 
     def set_report(self, reading_id: int, report: str) -> None:
+        """Remember where a stored reading's report was written."""
         with self.transaction():
             self.db.execute("UPDATE readings SET report = ? WHERE id = ?", (report, reading_id))
 
@@ -314,9 +319,11 @@ class Store:
 
     # reading ---------------------------------------------------------------
     def has(self, content_hash: str) -> bool:
+        """Whether a diagnosis with this key (``record.reading_key``) is stored: a route skips it."""
         return self.db.execute("SELECT 1 FROM readings WHERE content_hash = ?", (content_hash,)).fetchone() is not None
 
     def machines(self) -> list[str]:
+        """The names of the machines with stored readings, sorted."""
         return [r[0] for r in self.db.execute("SELECT DISTINCT machine FROM readings ORDER BY machine")]
 
     def readings(self, machine: str | None = None) -> list[dict]:
@@ -339,6 +346,7 @@ class Store:
         return rows
 
     def reading(self, reading_id: int) -> dict | None:
+        """One stored reading's row by its id, or None (an id no row can have included)."""
         if not 0 < reading_id <= ID_MAX:
             return None
         row = self.db.execute("SELECT * FROM readings WHERE id = ?", (reading_id,)).fetchone()
@@ -418,6 +426,7 @@ class Store:
         return dict(row) if row else None
 
     def integrity(self) -> str:
+        """SQLite's integrity check of the whole file: "ok" or what is damaged."""
         return self.db.execute("PRAGMA integrity_check").fetchone()[0]
 
 

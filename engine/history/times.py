@@ -51,6 +51,7 @@ def parse_time(value, *, what: str = "time") -> datetime:
 
 
 def iso(t: datetime) -> str:
+    """``t`` as ISO 8601, to the second unless it has a fraction of one."""
     return t.isoformat(timespec="microseconds" if t.microsecond else "seconds")
 
 
@@ -62,6 +63,7 @@ class Clock:
     interval_s: float | None = None
 
     def at_index(self, index: float, *, what: str = "time") -> datetime:
+        """The time of reading number ``index`` of a logger's run (start + index x interval)."""
         if self.interval_s is None:
             raise UsageError(f"{what} gives only an index ({_shown(index)}): the route needs clock: "
                              "{start, interval_s}")

@@ -32,6 +32,8 @@ UFF_DIRECTIONS = {1: "x", 2: "y", 3: "z"}
 
 @dataclass
 class RawReading:
+    """What a reader found in a file, before any check: channel names and sample arrays, and
+    what the file states of sample rate, units, full scale and points (None where it states nothing)."""
     names: list[str]
     arrays: list[np.ndarray]
     fs_hz: float | None = None

@@ -91,6 +91,8 @@ def _joins(p: Pattern) -> bool:
 
 
 def pattern_test(rule: Rule, p: Pattern, required: Collection[str] = frozenset()) -> dict:
+    """The durable-rules test of one pattern: its kind (or its tally slot and bounds for a count
+    pattern), the fields it requires, and its conditions."""
     tests: list[dict]
     if p.counted:
         tests = [{"kind": TALLY_KIND}, {"slot": tally_slot(rule, p)}]

@@ -105,6 +105,8 @@ def engine_value(x):
 
 
 def engine_copy(fact: dict, sid: str) -> dict:
+    """A fact as the rule engine may hold it: its signs left out, values made engine-safe, no None
+    fields, tagged with the diagnosis's session id."""
     out = {k: engine_value(v) for k, v in fact.items() if k != SIGNS}
     out = {k: v for k, v in out.items() if v is not None}
     out["sid"] = sid

@@ -45,6 +45,7 @@ def _a(word: str) -> str:
 
 
 def pattern_words(p: Pattern, rulebook: Rulebook | None = None) -> str:
+    """A pattern in plain words: what fact it needs, where, how many (a count pattern) and its alias."""
     what = _words(p.kind)
     fields = rulebook.fields_of(p.kind) if rulebook is not None else {}
     where = "; ".join(condition_words(c, fields[c.field].unit if c.field in fields else "") for c in p.conditions)

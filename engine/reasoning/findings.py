@@ -37,6 +37,8 @@ class SignLoss:
 
 @dataclass(frozen=True)
 class Hypothesis:
+    """A fault on a component with its combined certainty and damage stage, the rule firings for
+    and against it, and its certainty before explaining away with who took part of its signs."""
     fault: str
     fault_name: str
     family: str
@@ -52,10 +54,12 @@ class Hypothesis:
 
     @property
     def strength(self) -> str:
+        """The certainty in words (engine.reasoning.certainty.word_for)."""
         return word_for(self.certainty)
 
     @property
     def confident(self) -> bool:
+        """Whether the certainty reaches CONFIDENT, the bar of a call."""
         return self.certainty >= CONFIDENT
 
 
@@ -74,7 +78,9 @@ class Reasoning:
 
     @property
     def top(self) -> Hypothesis | None:
+        """The leading hypothesis, or None when no rule fired for any."""
         return self.hypotheses[0] if self.hypotheses else None
 
     def confident(self) -> tuple[Hypothesis, ...]:
+        """The hypotheses at CONFIDENT or more, leading first."""
         return tuple(h for h in self.hypotheses if h.confident)

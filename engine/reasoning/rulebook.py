@@ -72,6 +72,7 @@ class Parameter:
 
 @dataclass(frozen=True)
 class Condition:
+    """One condition of a pattern: a field, an operator and a value (a constant or a reference)."""
     field: str
     op: str          # is, is_not, above, at_least, below, at_most, between, one_of, not_one_of, same_as, differs_from
     value: Any       # scalar, list, (lo, hi), or Ref
@@ -80,6 +81,8 @@ class Condition:
 
 @dataclass(frozen=True)
 class Pattern:
+    """A fact a rule needs (or, in none_of, must not find): its kind, alias and conditions, or for a
+    count pattern how many facts of the kind, per group, it needs."""
     kind: str
     alias: str
     conditions: tuple[Condition, ...]
@@ -97,11 +100,13 @@ class FaultChoice:
     faults: tuple[tuple[str, str], ...]    # (value, fault id)
 
     def pick(self, value) -> str | None:
+        """The fault a matched value names, or None when it names none."""
         return dict(self.faults).get(value)
 
 
 @dataclass(frozen=True)
 class Ramp:
+    """A grade_by ramp: the rule's weight grows from nothing at ``start`` to full at ``full`` of a value."""
     value: Ref
     start: float
     full: float
@@ -120,6 +125,8 @@ class Placeholder:
 
 @dataclass(frozen=True)
 class Rule:
+    """One checked rule: what it needs and must not find, what it concludes (a fault on a component
+    with a weight, or a derived fact), its source and its file and line."""
     id: str
     title: str
     source: str
@@ -149,6 +156,7 @@ class Rule:
 
 @dataclass(frozen=True)
 class Fault:
+    """A fault the rulebooks know: its name and family, and whether it withholds the diagnosis."""
     id: str
     name: str
     family: str
@@ -168,12 +176,14 @@ class Rulebook:
     parameters: dict[str, Parameter] = field(default_factory=dict)
 
     def rule(self, rule_id: str) -> Rule:
+        """The rule of this id (KeyError if none)."""
         for r in self.rules:
             if r.id == rule_id:
                 return r
         raise KeyError(rule_id)
 
     def fields_of(self, kind: str) -> dict[str, F]:
+        """The fields of a fact kind: the vocabulary's, or a derived kind's as its rules declare them."""
         return _kind_fields(kind, self.derived)
 
 

@@ -38,11 +38,14 @@ class Task:
 
     @property
     def name(self) -> str:
+        """The name of the task's first file, as summaries show it."""
         return Path(self.files[0]).name
 
 
 @dataclass(frozen=True)
 class Route:
+    """A route as read from its file or a folder and plant file: its tasks, its clock, and the
+    files of the folder that no pattern maps."""
     name: str
     file: str | None
     tasks: tuple[Task, ...]
