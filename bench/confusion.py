@@ -29,12 +29,12 @@ from collections import Counter, defaultdict
 from pathlib import Path
 from typing import NamedTuple
 
-ROOT = Path(__file__).resolve().parent.parent
-
 from engine.evidence import extract_evidence
 from engine.machine import Machine, SpeedRange, load_machine
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import as_reading, runs_at, simulate
+
+ROOT = Path(__file__).resolve().parent.parent
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",
@@ -333,7 +333,8 @@ def print_report(rows) -> None:
         print(f"  {mk}: {sum(r.right for r in on)}/{len(on)} right; wrong calls {sum(len(r.wrong) for r in on)} "
               f"in {sum(bool(r.wrong) for r in on)} readings")
     times = [r.seconds * 1e3 for r in rows]
-    print(f"reasoning step: median {statistics.median(times):.1f} ms, max {max(times):.1f} ms over {len(times)} readings")
+    print(f"reasoning step: median {statistics.median(times):.1f} ms, max {max(times):.1f} ms "
+          f"over {len(times)} readings")
     kinds = Counter((f"{r.fault} {r.machine} {r.component}", w.rsplit(" ", 1)[0]) for r in rows for w in r.wrong)
     if kinds:
         print("\nwrong calls by truth and hypothesis (readings):")
@@ -365,7 +366,8 @@ def print_pairs(rows: list[PairRow]) -> None:
     print(f"\npairs: {right}/{len(rows)} right ({100 * right / len(rows):.1f} %); both named {both}, "
           f"one named {sum(any(r.named) and not all(r.named) for r in rows)}, "
           f"neither {sum(not any(r.named) for r in rows)}, withheld {sum(r.withheld for r in rows)}; "
-          f"wrong calls at 50 % or more: {sum(len(r.wrong) for r in rows)} in {sum(bool(r.wrong) for r in rows)} readings")
+          f"wrong calls at 50 % or more: {sum(len(r.wrong) for r in rows)} "
+          f"in {sum(bool(r.wrong) for r in rows)} readings")
     kinds = Counter((r.pair, w.rsplit(" ", 1)[0]) for r in rows for w in r.wrong)
     kinds.update((r.pair, f"not named: {f} on {c}") for r in rows
                  for (f, c), ok in zip((r.first, r.second), r.named) if not ok)
@@ -378,7 +380,8 @@ def print_pairs(rows: list[PairRow]) -> None:
         if r.right:
             continue
         lost = [f"{f} on {c}" for (f, c), ok in zip((r.first, r.second), r.named) if not ok]
-        what = (["not named: " + ", ".join(lost)] if lost else []) + (["wrong: " + "; ".join(r.wrong)] if r.wrong else [])
+        what = ((["not named: " + ", ".join(lost)] if lost else [])
+                + (["wrong: " + "; ".join(r.wrong)] if r.wrong else []))
         misses.append(f"  {r.pair} stage {r.stage} seed {r.seed} speed x{r.speed} fs {r.fs:.0f}: "
                       f"{' | '.join(what)} (leading: {r.leading})")
     if misses:

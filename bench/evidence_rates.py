@@ -16,12 +16,12 @@ import sys
 import time
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parent.parent
-
-from engine.evidence import extract_evidence
 from bench.features import FEATURES
+from engine.evidence import extract_evidence
 from engine.machine import load_machine
 from engine.simulation import as_reading, simulate
+
+ROOT = Path(__file__).resolve().parent.parent
 
 MACHINES = {
     "rw2": ROOT / "cases/machines/rw2-raw-water-pump.yaml",

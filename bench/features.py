@@ -6,8 +6,8 @@ diagnostic rules (those live in rulebooks/). Thresholds are common practice.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 
 @dataclass(frozen=True)

@@ -83,10 +83,33 @@ from typing import NamedTuple
 
 import yaml
 
-from bench.hostile import (MACHINES, POLICY, READING_KINDS, RW2, STORE_DAMAGE, SUFFIX, TOKENS, damage_store,
-                           dump_yaml, history_command, hostile_out_folder, mutate_bytes, mutate_plant, mutate_route,
-                           mutate_tree, odd_array, plan_command, plant_tree, random_command, route_tree,
-                           short_reading, site_rules, strict_json, write_array, write_seed)
+from bench.hostile import (
+    MACHINES,
+    POLICY,
+    READING_KINDS,
+    RW2,
+    STORE_DAMAGE,
+    SUFFIX,
+    TOKENS,
+    damage_store,
+    dump_yaml,
+    history_command,
+    hostile_out_folder,
+    mutate_bytes,
+    mutate_plant,
+    mutate_route,
+    mutate_tree,
+    odd_array,
+    plan_command,
+    plant_tree,
+    random_command,
+    route_tree,
+    short_reading,
+    site_rules,
+    strict_json,
+    write_array,
+    write_seed,
+)
 
 ALLOWED_EXIT = {0, 1, 2, 3, 4, 5, 7, 8, 9}
 FAILURES = ("traceback", "native crash", "hang", "memory", "bad exit", "bad JSON", "control characters",
@@ -165,7 +188,8 @@ def _store_command(rng: random.Random, folder: Path, store: Path, reading: Path,
         return argv if argv[0] == pick or rng.random() < 0.5 else history_command(rng, store, output)
     if pick == "diagnose":
         return ["diagnose", str(reading), "--machine", str(RW2), "--store", str(store), "--format",
-                rng.choice(["text", "json", "md"]), "--taken-at", rng.choice(["2026-05-04T09:00:00", "2026-03-01T00:00:00"])]
+                rng.choice(["text", "json", "md"]),
+                "--taken-at", rng.choice(["2026-05-04T09:00:00", "2026-03-01T00:00:00"])]
     return ["route", str(route), "--store", str(store), "--out", str(folder / "route-out"), "--workers", "1",
             "--quiet", "--format", "text"] + (["--again"] if rng.random() < 0.3 else [])
 
@@ -280,7 +304,8 @@ def _whole_tool_input(category: str, rng: random.Random, folder: Path, cache: Pa
         (folder / "dangling").symlink_to(folder / "nowhere" / "x")
         os.mkfifo(folder / "fifo")
         command = rng.choice(["diagnose", "diagnose", "plan", "trend", "synth", "diagnose --store"])
-        target = rng.choice([str(reading), str(reading) + ".yaml", str(machine), str(store), str(folder / "link-to-reading"),
+        target = rng.choice([str(reading), str(reading) + ".yaml", str(machine), str(store),
+                             str(folder / "link-to-reading"),
                              str(folder / "link-to-null"), "/dev/null", str(folder / "a-folder"),
                              str(folder / "a-folder") + "/", str(folder / "fifo"), str(folder / "dangling"), "",
                              str(folder / "new.txt"), str(folder / "nul\x00.txt")])
@@ -675,7 +700,8 @@ class Tally:
     def render(self, table: str, title: str) -> str:
         kinds = [k for k in FAILURES + ("worker died", "harness error")
                  if any(c[k] for (t, _), c in self.rows.items() if t == table)]
-        head = f"{title:<22} {'inputs':>7} {'ran':>5} {'in/s':>6} {'s/in':>6}" + "".join(f" {SHORT[k]:>6}" for k in kinds)
+        head = (f"{title:<22} {'inputs':>7} {'ran':>5} {'in/s':>6} {'s/in':>6}"
+                + "".join(f" {SHORT[k]:>6}" for k in kinds))
         lines = [head, "-" * len(head)]
         total = Counter()
         for (t, key), c in sorted(self.rows.items(), key=lambda kv: kv[0][1]):
@@ -690,7 +716,8 @@ class Tally:
     def _line(key, c, kinds):
         per = c["seconds"] / c["inputs"] if c["inputs"] else 0.0
         rate = c["inputs"] / c["seconds"] if c["seconds"] else 0.0
-        return f"{key[:22]:<22} {c['inputs']:>7} {c['ran']:>5} {rate:>6.1f} {per:>6.2f}" + "".join(f" {c[k]:>6}" for k in kinds)
+        return (f"{key[:22]:<22} {c['inputs']:>7} {c['ran']:>5} {rate:>6.1f} {per:>6.2f}"
+                + "".join(f" {c[k]:>6}" for k in kinds))
 
 
 def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: int, progress=print) -> dict:
@@ -767,7 +794,7 @@ def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: 
                     feed(wid)
                 if done % 500 == 0:
                     progress(f"{done} inputs, {sum(counts.values())} failures, {time.perf_counter() - t0:.0f} s")
-            for wid, (proc, conn, current, started) in list(pool.items()):
+            for wid, (proc, _conn, current, started) in list(pool.items()):
                 if current is not None and started is not None and time.perf_counter() - started > hang_s:
                     proc.kill()
                     proc.join()
@@ -880,7 +907,8 @@ def main() -> int:
     report = fuzz(args.inputs, args.workers, args.seed, args.hang, args.subprocess_every)
     print(f"\n{report['inputs']} inputs (seed {args.seed}) in {report['seconds']:.0f} s with {args.workers} workers, "
           f"{report['inputs'] / report['seconds']:.2f} inputs/s")
-    print("exit codes: " + ", ".join(f"{k}: {n}" for k, n in sorted(report["exits"].items(), key=lambda kv: str(kv[0]))))
+    exits = sorted(report["exits"].items(), key=lambda kv: str(kv[0]))
+    print("exit codes: " + ", ".join(f"{k}: {n}" for k, n in exits))
     print("failure kinds: " + ", ".join(f"{v} = {k}" for k, v in SHORT.items()))
     print("\n" + report["tally"].render("category", "category"))
     print("\n" + report["tally"].render("entry", "entry point"))

@@ -644,7 +644,8 @@ def site_rules(rng: random.Random) -> tuple[str, dict]:
     elif hazard == "many rules":
         n = rng.choice([66, 250, rng.randint(20, 400)])
         rules = [rule(f"site.fuzz.many-{k}", [{"fact": "tone", "as": "x1",
-                                                "where": {"name": "1X", "amplitude_mm_s": {"at_least": 0.01 + k * 0.01}}}],
+                                                "where": {"name": "1X",
+                                                          "amplitude_mm_s": {"at_least": 0.01 + k * 0.01}}}],
                       weight=rng.choice([0.01, 0.2, -0.1]))
                  for k in range(n)]
     elif hazard == "deep chain":
@@ -655,7 +656,8 @@ def site_rules(rng: random.Random) -> tuple[str, dict]:
         rules += [rule(f"site.fuzz.chain-{k}", [{"fact": f"fuzz_{k - 1}", "as": "p"}],
                        {"fact": f"fuzz_{k}", "fields": {"component": "p.component"}}) for k in range(1, n)]
     elif hazard == "missing fact":
-        rules = [rule("site.fuzz.missing", [{"fact": rng.choice(["no_such_fact", "fuzz_c", "", "tone\x00"]), "as": "x1"}])]
+        rules = [rule("site.fuzz.missing",
+                      [{"fact": rng.choice(["no_such_fact", "fuzz_c", "", "tone\x00"]), "as": "x1"}])]
     elif hazard == "missing field":
         rules = [rule("site.fuzz.field", [{"fact": "tone", "as": "x1",
                                            "where": {rng.choice(["no_such_field", "x1.nope", ""]): 1}}])]
@@ -671,7 +673,8 @@ PLAN_DURATION = ["0", "-1", "nan", "1e9", "0.001", "1", "10", "1e-300"]
 PLAN_RATE = ["0", "-1", "nan", "1", "100", "2560", "25600", "1e12"]
 
 
-def plan_command(rng: random.Random, machine: Path, reading: Path | None, policy: Path | None, output: Path) -> list[str]:
+def plan_command(rng: random.Random, machine: Path, reading: Path | None, policy: Path | None,
+                 output: Path) -> list[str]:
     """``plan`` with careless or extreme settings; mostly without the proof by simulation (its cost)."""
     argv = ["plan", str(machine)]
     if rng.random() < 0.6:
@@ -735,6 +738,7 @@ def strict_json(text: str):
 
 
 __all__ = ["MACHINES", "RW2", "RW2_NAME", "STORE_DAMAGE", "damage_store", "history_command", "hostile_out_folder",
-           "mutate_plant", "mutate_route", "plan_command", "plant_tree", "route_tree", "short_reading", "site_rules", "READING_KINDS", "SEED_KINDS", "TOKENS", "ODD_VALUES", "YAML_KINDS", "dump_yaml",
+           "mutate_plant", "mutate_route", "plan_command", "plant_tree", "route_tree", "short_reading", "site_rules",
+           "READING_KINDS", "SEED_KINDS", "TOKENS", "ODD_VALUES", "YAML_KINDS", "dump_yaml",
            "mutate_bytes", "mutate_tree", "odd_array", "option_values", "random_command", "seed_signal",
            "strict_json", "write_array", "write_reading", "write_seed"]

@@ -1,4 +1,5 @@
-"""Cut the short real-data excerpts in tests/data from ../shared/datasets (run once; provenance in tests/data/README.md).
+"""Cut the short real-data excerpts in tests/data from ../shared/datasets
+(run once; provenance in tests/data/README.md).
 
     python -m bench.make_excerpts
 """
@@ -12,8 +13,9 @@ from pathlib import Path
 import numpy as np
 import yaml
 
-ROOT = Path(__file__).resolve().parent.parent
 from engine.readings import load_reading
+
+ROOT = Path(__file__).resolve().parent.parent
 
 DATASETS = ROOT.parent / "shared" / "datasets"
 OUT = ROOT / "tests" / "data"
@@ -46,7 +48,8 @@ def main() -> int:
             "about": (f"Excerpt of {rel} in ../shared/datasets ({row['source']}, sha256 {row['sha256']}): "
                       f"the first {seconds} s, float32, in g."),
             "channels": side_channels}, sort_keys=False, allow_unicode=True, width=200))
-        print(f"wrote {target} ({target.stat().st_size} bytes, sha256 {hashlib.sha256(target.read_bytes()).hexdigest()[:12]})")
+        digest = hashlib.sha256(target.read_bytes()).hexdigest()[:12]
+        print(f"wrote {target} ({target.stat().st_size} bytes, sha256 {digest})")
     return 0
 
 

@@ -38,8 +38,8 @@ from engine.common.errors import ReadingError
 from engine.machine import load_machine
 from engine.pipeline import diagnose
 from engine.readings import load_reading
-from engine.readings.quality import check_channel
 from engine.readings.model import Channel
+from engine.readings.quality import check_channel
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -138,7 +138,8 @@ def injected(datasets: Path, progress=print) -> int:
                     plain = d
                 problems = scale_problems(name, d, plain) if name in SCALE_ONLY else []
                 broken += bool(problems)
-                progress(f"{record.stem:<4} {name:<28} {line}" + (f"  BROKEN: {'; '.join(problems)}" if problems else ""))
+                progress(f"{record.stem:<4} {name:<28} {line}"
+                         + (f"  BROKEN: {'; '.join(problems)}" if problems else ""))
     return broken
 
 

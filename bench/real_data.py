@@ -269,7 +269,8 @@ def totals(rows: list[Row]) -> list[str]:
     calls = [r for r in rows if r.call]
     wrong = [r for r in calls if not r.right]
     lines.append(f"calls at 50 % or more: {len(calls)}, right {len(calls) - len(wrong)}, wrong {len(wrong)}"
-                 + (": " + ", ".join(f"{Path(r.path).stem} ({r.top} {r.certainty:.2f})" for r in wrong) if wrong else ""))
+                 + (": " + ", ".join(f"{Path(r.path).stem} ({r.top} {r.certainty:.2f})" for r in wrong)
+                    if wrong else ""))
     others = [(Path(r.path).stem, o) for r in rows for o in r.others]
     lines.append(f"further wrong faults at 50 % or more beside the top one: {len(others)}"
                  + (": " + ", ".join(f"{stem} ({o})" for stem, o in others) if others else ""))
@@ -336,7 +337,8 @@ def inject_table(by_injection: dict[tuple[str, float], list[Row]]) -> list[str]:
         lines.append(f"{what}x{factor:<6g} {len(rows):>7} {sum(r.withheld for r in rows):>8} {right:>5} {low:>4} "
                      f"{len(wrong):>5}  {names}")
         goal &= not wrong
-    lines.append("goal (no confident wrong call at any injected speed or sample rate): " + ("met" if goal else "not met"))
+    lines.append("goal (no confident wrong call at any injected speed or sample rate): "
+                 + ("met" if goal else "not met"))
     return lines
 
 

@@ -19,13 +19,12 @@ import tempfile
 import time
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parent.parent
-
 from engine.evidence import extract_evidence
 from engine.machine import load_machine
 from engine.reasoning import Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate
 
+ROOT = Path(__file__).resolve().parent.parent
 
 GENERATED_FAULT = "site-watch"
 

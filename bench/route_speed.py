@@ -20,9 +20,9 @@ from pathlib import Path
 
 import yaml
 
+from engine.common.paths import CASES
 from engine.history.store import Store
 from engine.machine import load_machine
-from engine.common.paths import CASES
 from engine.route import load_route, run_route
 from engine.simulation import simulate, write_simulation
 

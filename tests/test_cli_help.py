@@ -14,9 +14,9 @@ import pytest
 
 from engine import __version__
 from engine.cli import COMMANDS, build_parser, main
+from engine.common.units import known_units, unit, unit_aliases, units_by_quantity
 from engine.readings.formats import READERS
 from engine.simulation import FAULTS
-from engine.common.units import known_units, unit, unit_aliases, units_by_quantity
 
 from support import ROOT
 

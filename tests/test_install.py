@@ -90,8 +90,8 @@ def _environment(site: Path) -> dict:
 def _installed(kind: str, wheel: Path, place: Path) -> Path:
     """Install the wheel with ``--target`` or ``--prefix`` into ``place``; the folder that holds ``engine``."""
     # --ignore-installed: without it a --prefix install first uninstalls the tellwave of the running environment
-    _pip("install", "--no-deps", "--no-index", "--no-compile", "--ignore-installed", f"--{kind}", str(place), str(wheel),
-         cwd=place.parent)
+    _pip("install", "--no-deps", "--no-index", "--no-compile", "--ignore-installed", f"--{kind}", str(place),
+         str(wheel), cwd=place.parent)
     (paths_py,) = [p for p in place.rglob("engine/common/paths.py")]
     return paths_py.parents[2]
 
@@ -153,7 +153,7 @@ def test_the_wheel_carries_the_license_and_no_data_outside_the_package(wheel):
 
 
 def test_the_sdist_carries_the_data_folders(source, tmp_path):
-    """An sdist built into a wheel elsewhere (pip from an index) needs the folders setup.py copies."""
+    """An sdist built into a wheel elsewhere (pip from an index) needs the data folders pyproject.toml maps."""
     out = _run([sys.executable, "-c", "import sys; from setuptools import build_meta; "
                 "print(build_meta.build_sdist(sys.argv[1]))", str(tmp_path)], cwd=source).split()[-1]
     with tarfile.open(tmp_path / out) as sdist:
@@ -161,4 +161,4 @@ def test_the_sdist_carries_the_data_folders(source, tmp_path):
     for folder in ("rulebooks", "templates", "cases"):
         shipped = {str(p.relative_to(ROOT)) for p in (ROOT / folder).rglob("*") if p.is_file()}
         assert shipped <= names, f"missing from the sdist: {sorted(shipped - names)}"
-    assert {"setup.py", "LICENSE", "pyproject.toml"} <= names
+    assert {"LICENSE", "pyproject.toml"} <= names

@@ -24,6 +24,7 @@ EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 
 def build_parser() -> Parser:
+    """The whole command line: every command's parser, registered from its module."""
     from .. import __version__
 
     parser = Parser(prog="tellwave", description="A second opinion on rotating-machinery vibration readings.")
@@ -63,6 +64,8 @@ def _tolerant_streams() -> None:
 
 
 def main(argv=None) -> int:
+    """Run ``tellwave`` with ``argv``; the exit code. A user's error is one line on stderr with
+    its class's exit code, never a traceback."""
     from ..common.escape import one_line
 
     _return_large_arrays_to_the_system()

@@ -6,12 +6,19 @@ from __future__ import annotations
 import argparse
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from ..common.errors import UsageError
 
+if TYPE_CHECKING:
+    from ..common.outfile import Inputs
+
 
 class Parser(argparse.ArgumentParser):
-    def error(self, message):  # one line and exit code 2, like every other user error
+    """An argument parser whose errors are UsageErrors: one line and exit code 2, like every other user error."""
+
+    def error(self, message):
+        """Raise the parser's complaint as a UsageError instead of printing usage and exiting."""
         raise UsageError(message)
 
 
@@ -107,11 +114,13 @@ def add_max_samples_option(p) -> None:
 
 
 def add_site_option(p) -> None:
+    """Add ``--site``: site rulebooks laid over the shipped ones."""
     p.add_argument("--site", action="append", metavar="FOLDER",
                    help="site rulebook folder or file laid over the shipped ones (repeatable)")
 
 
 def reading_options(args) -> dict:
+    """The reading options of the command line as ``load_reading``'s keywords."""
     return dict(sample_rate_hz=args.sample_rate, unit=args.unit, scale=args.scale,
                 point=args.point, direction=args.direction, speed_rpm=args.rpm,
                 max_samples=getattr(args, "max_samples", None))
@@ -159,7 +168,7 @@ def input_files(args, route=None) -> list[Path]:
     return files
 
 
-def output_target(args, output, route=None) -> list[Path]:
+def output_target(args, output, route=None) -> Inputs:
     """Check ``output`` against every input of the command before any work (``engine.common.outfile.check_target``);
     return the inputs, to be given again when the file is written."""
     from ..common.outfile import check_target, known_inputs
@@ -177,6 +186,7 @@ def say(text: str = "") -> None:
 
 
 def rulebook(args):
+    """The shipped rulebooks with the ``--site`` overlays of ``args``."""
     from ..reasoning import load_rulebook
 
     return load_rulebook(*(args.site or []))

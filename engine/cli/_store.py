@@ -4,6 +4,7 @@ from __future__ import annotations
 
 
 def add_store_option(p) -> None:
+    """Add ``--store``: the history store's file."""
     p.add_argument("--store", metavar="PATH",
                    help="history store (SQLite file; default: history.sqlite in the user's data folder)")
 

@@ -6,6 +6,7 @@ from ._common import add_site_option, input_files, rulebook, say
 
 
 def register(sub) -> None:
+    """Add ``tellwave demo`` and its options."""
     p = sub.add_parser("demo", help="diagnose the demo plant and write HTML reports")
     p.add_argument("--out", default="tellwave-demo", help="folder for readings and reports (default: tellwave-demo)")
     add_site_option(p)
@@ -13,6 +14,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Regenerate and diagnose the demo plant; the exit code."""
     from ..common.errors import EXIT_CASE_FAILED
     from ..common.outfile import prepare_folder
     from ..demo.run import run_demo, summary

@@ -7,6 +7,7 @@ from ._common import whole
 
 
 def register(sub) -> None:
+    """Add ``tellwave demo-route`` and its options."""
     p = sub.add_parser("demo-route", help="write demo routes a month apart, with faults that grow")
     p.add_argument("--out", default="tellwave-routes", help="folder for the months (default: tellwave-routes)")
     p.add_argument("--months", type=whole("--months", 1, DEMO_MONTHS), default=3,
@@ -15,6 +16,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Write the demo plant's monthly routes; the exit code."""
     from ..common.escape import one_line
     from ..demo.plant import write_month
 

@@ -5,11 +5,20 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import (add_reading_options, add_readings_argument, add_site_option, input_files, load_readings,
-                      output_target, rulebook, say)
+from ._common import (
+    add_reading_options,
+    add_readings_argument,
+    add_site_option,
+    input_files,
+    load_readings,
+    output_target,
+    rulebook,
+    say,
+)
 
 
 def register(sub) -> None:
+    """Add ``tellwave diagnose`` and its options."""
     p = sub.add_parser("diagnose", help="diagnose readings of a machine and report with advice")
     add_readings_argument(p, nargs="+")
     p.add_argument("--machine", required=True, help="machine YAML file")
@@ -31,6 +40,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Diagnose the readings and report; the exit code (7 when the reading cannot support a conclusion)."""
     from ..common.errors import EXIT_WITHHELD
     from ..machine import load_machine
     from ..pipeline import diagnose, document_of

@@ -6,6 +6,7 @@ from ._common import add_reading_options, add_readings_argument, load_readings, 
 
 
 def register(sub) -> None:
+    """Add ``tellwave evidence`` and its options."""
     p = sub.add_parser("evidence", help="print the evidence facts of one or more readings of a machine")
     add_readings_argument(p, nargs="+")
     p.add_argument("--machine", required=True, help="machine YAML file")
@@ -17,8 +18,9 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..evidence import extract_evidence
+    """Print the evidence facts of the readings; the exit code."""
     from ..common.jsonout import dumps
+    from ..evidence import extract_evidence
     from ..machine import load_machine
 
     machine = load_machine(args.machine)

@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-
 from ._common import RPM, say
 
 
 def register(sub) -> None:
+    """Add ``tellwave frequencies`` and its options."""
     p = sub.add_parser("frequencies", help="print the forcing frequencies of a machine")
     p.add_argument("machine", help="machine YAML file")
     p.add_argument("--rpm", type=RPM, help="running speed of the driving shaft (or of --shaft)")
@@ -16,9 +16,10 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Print the forcing frequencies of a machine; the exit code."""
     from ..common.jsonout import dumps
-    from ..machine.kinematics import forcing_frequencies
     from ..machine import load_machine
+    from ..machine.kinematics import forcing_frequencies
 
     machine = load_machine(args.machine)
     table = forcing_frequencies(machine, args.rpm, args.shaft)

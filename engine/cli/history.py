@@ -6,6 +6,7 @@ from ._store import add_store_option
 
 
 def register(sub) -> None:
+    """Add ``tellwave history`` and its options."""
     p = sub.add_parser("history", help="list the stored readings of a machine, or delete one")
     p.add_argument("machine", nargs="?", help="machine name as its file gives it (omit to list machines)")
     add_store_option(p)
@@ -31,9 +32,10 @@ def reading_id(text: str) -> int:
 
 
 def run(args) -> int:
+    """List the store's machines or readings, or forget one; the exit code."""
     from ..common.errors import UsageError
-    from ..common.jsonout import dumps
     from ..common.escape import one_line as v
+    from ..common.jsonout import dumps
     from ._store import open_store
 
     delete = None if args.delete is None else reading_id(args.delete)

@@ -9,9 +9,11 @@ from ._common import RPM, add_site_option, number, output_target, rulebook, whol
 
 
 def register(sub) -> None:
+    """Add ``tellwave plan`` and its options."""
     p = sub.add_parser("plan", help="propose acquisition settings for a machine, or check given ones")
     p.add_argument("machine", help="machine YAML file")
-    p.add_argument("--point", action="append", metavar="P", help="plan only this measurement point (repeatable; default: every point)")
+    p.add_argument("--point", action="append", metavar="P",
+                   help="plan only this measurement point (repeatable; default: every point)")
     p.add_argument("--rpm", type=RPM, help="running speed of the driving shaft (default: nominal)")
     given = p.add_argument_group("settings to check (or --reading)")
     given.add_argument("--fmax", type=number("Fmax in Hz"), metavar="HZ", help="Fmax in Hz")
@@ -53,6 +55,7 @@ def _given(args, policy):
 
 
 def run(args) -> int:
+    """Plan the acquisition of a machine, or check given settings; the exit code."""
     from ..common.escape import one_line
     from ..machine import load_machine
     from ..planner import build_plan, load_policy, render_plan
@@ -62,7 +65,7 @@ def run(args) -> int:
     output = args.output
     if output is None and fmt in ("html", "md"):
         output = Path(args.machine).with_suffix("").name + f".plan.{fmt}"
-    inputs = output_target(args, output) if output is not None else []      # before the work
+    inputs = output_target(args, output) if output is not None else None    # before the work
     machine = load_machine(args.machine)
     policy = load_policy(args.policy)
     rules = rulebook(args) if args.site else None      # the diagnosis's rulebooks: the proof reasons with them

@@ -8,6 +8,7 @@ from ._common import add_reading_options, add_readings_argument, reading_options
 
 
 def register(sub) -> None:
+    """Add ``tellwave reading`` and its options."""
     p = sub.add_parser("reading", help="summarise a reading file: channels, quality, levels, peaks")
     add_readings_argument(p)
     add_reading_options(p)
@@ -17,9 +18,10 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Print a reading's channels, quality gates, levels and peaks; the exit code."""
     from .. import analysis
-    from ..readings import describe_issue, load_reading
     from ..common.units import STANDARD_GRAVITY_M_S2
+    from ..readings import describe_issue, load_reading
 
     reading = load_reading(args.reading, **reading_options(args))
     say(f"{reading.source}: {len(reading.channels)} channel(s), {reading.fs_hz:g} Hz, "

@@ -7,6 +7,7 @@ from ._store import add_store_option
 
 
 def register(sub) -> None:
+    """Add ``tellwave route`` and its options."""
     p = sub.add_parser("route", help="diagnose a whole route of readings, store them and summarise")
     p.add_argument("route", help="route file (YAML), or a folder of readings with sidecars (give --plant)")
     p.add_argument("--plant", help="plant file mapping the folder's readings to machines")
@@ -25,14 +26,15 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Diagnose a route into the store and write its reports and summary; the exit code."""
     import sys
     from pathlib import Path
 
     from ..common.errors import EXIT_ROUTE_FAILURES, UsageError
     from ..common.escape import one_line
+    from ..common.outfile import known_inputs
     from ..report import write_atomically
     from ..route import load_folder, load_route, render_summary, route_summary, run_route, summary_paths
-    from ..common.outfile import known_inputs
     from ..route.runner import check_outputs
     from ._common import input_files
     from ._store import open_store

@@ -7,6 +7,7 @@ from ._common import Parser, add_site_option, rulebook, say
 
 
 def register(sub) -> None:
+    """Add ``tellwave rulebook`` and its actions (check, test, explain, list, vocabulary, parameters)."""
     p = sub.add_parser("rulebook", help="check, test, list and explain rulebooks and their vocabulary")
     rb = p.add_subparsers(dest="action", metavar="ACTION", parser_class=Parser)
     p.set_defaults(run=lambda args: _usage(p))
@@ -87,8 +88,8 @@ def _explain(args) -> int:
 
 
 def _test(args) -> int:
-    from ..pipeline.cases import case_files, load_case, run_case
     from ..common.errors import EXIT_CASE_FAILED
+    from ..pipeline.cases import case_files, load_case, run_case
     from ..reasoning import Reasoner
 
     reasoner = Reasoner(rulebook(args))

@@ -22,6 +22,7 @@ def _fault(name: str) -> str:
 
 
 def register(sub) -> None:
+    """Add ``tellwave synth`` and its options."""
     from ..simulation import FAULTS
 
     p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
@@ -45,10 +46,11 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    """Write a simulated reading with its sidecar and truth file; the exit code."""
     from ..common.errors import UsageError
     from ..machine import load_machine
-    from ._common import output_target
     from ..simulation import simulate, write_simulation
+    from ._common import output_target
 
     inputs = output_target(args, args.output)      # before the work
     if args.duration * args.sample_rate > MAX_SYNTH_SAMPLES:

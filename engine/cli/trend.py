@@ -6,6 +6,7 @@ from ._store import add_store_option
 
 
 def register(sub) -> None:
+    """Add ``tellwave trend`` and its options."""
     p = sub.add_parser("trend", help="trend a stored machine: change, rate per month, projected time to a limit")
     p.add_argument("machine", help="machine name as its file gives it (tellwave history lists them)")
     p.add_argument("--point", help="only this measurement point (default: every point)")
@@ -19,6 +20,7 @@ def register(sub) -> None:
 
 
 def parse_limits(items: list[str]) -> dict[str, float]:
+    """``--limit INDICATOR=VALUE`` items as {indicator: value}; a UsageError for a bad one."""
     from ..common.errors import UsageError
     from ..history.record import INDICATORS
 
@@ -38,6 +40,7 @@ def parse_limits(items: list[str]) -> dict[str, float]:
 
 
 def run(args) -> int:
+    """Show or write the trend of a stored machine; the exit code."""
     import sys
 
     from ..common.errors import UsageError
@@ -46,15 +49,14 @@ def run(args) -> int:
     from ..route.runner import slug
     from ..trend import trend_document
     from ..trend.render import render_trend
-    from ._store import open_store
-
     from ._common import output_target
+    from ._store import open_store
 
     limits = parse_limits(args.limit)
     output = args.output
     if output is None and args.format in ("html", "md"):
         output = f"{slug(args.machine)}.trend.{args.format}"
-    inputs = output_target(args, output) if output is not None else []      # before the work
+    inputs = output_target(args, output) if output is not None else None    # before the work
     with open_store(args, create=False) as store:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"

@@ -93,6 +93,7 @@ class StoreError(TellwaveError):
     damaged or another program's database, or was written by a newer tellwave."""
 
     exit_code = 8
+    busy = False      # True when another writer held the lock too long: opening may be tried again
 
 
 EXIT_CASE_FAILED = 1

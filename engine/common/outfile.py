@@ -18,8 +18,8 @@ import re
 import stat
 import tempfile
 import time
+from collections.abc import Iterator
 from pathlib import Path
-from typing import Iterator
 
 from .errors import OutputError
 
@@ -74,7 +74,7 @@ class Inputs:
     """The files a run reads, looked up in constant time: by identity (device and inode: a hard link
     or a link to an input is the input) and by real path (an input not yet created, a store's journal)."""
 
-    def __init__(self, paths=()):
+    def __init__(self, paths=()) -> None:
         self.by_id: dict[tuple[int, int], Path] = {}
         self.by_real: dict[str, Path] = {}
         for p in paths:
@@ -119,7 +119,7 @@ def clean_stale_parts(target: Path) -> list[Path]:
     """
     folder = target.parent
     pattern = re.compile(r"^\." + re.escape(target.name) + r"\.(\d+)\.[A-Za-z0-9_]+\.part$")
-    removed = []
+    removed: list[Path] = []
     try:
         entries = list(os.scandir(folder))
     except OSError:

@@ -1,6 +1,6 @@
 """Where the shipped data folders are: rulebooks/, templates/ and cases/.
 
-An installed package carries them inside itself as ``engine/_data/`` (setup.py copies
+An installed package carries them inside itself as ``engine/_data/`` (pyproject.toml maps
 them there when the wheel is built), found with importlib.resources wherever the
 package was installed: a venv, ``pip install --user``, ``--prefix`` or ``--target``.
 In a checkout and an editable install they are the folders at the top of the
@@ -13,7 +13,7 @@ from __future__ import annotations
 from importlib import resources
 from pathlib import Path
 
-SHIPPED_DATA = "_data"          # setup.py: PACKAGE_DATA
+SHIPPED_DATA = "_data"          # pyproject.toml: the engine._data.* packages
 
 
 def _installed_data() -> Path | None:

@@ -23,6 +23,7 @@ INCH_M = 0.0254
 
 @dataclass(frozen=True)
 class Unit:
+    """An engineering unit: its name, the quantity it measures and its factor to SI (m/s^2, m/s or m)."""
     name: str
     quantity: str  # "acceleration", "velocity" or "displacement"
     to_si: float   # multiply by this to get m/s^2, m/s or m

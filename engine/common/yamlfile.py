@@ -31,7 +31,7 @@ import os
 import re
 import stat
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 from importlib import resources
 from typing import Any
 
@@ -48,7 +48,7 @@ MAX_INTEGER = 10 ** 15    # larger integers lose precision as floats and mean no
 _MAX_DIGITS = 64          # an integer written longer is refused by its size, never parsed whole
 
 # libyaml when the install has it: rulebooks are parsed on every run
-_BASE = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+_BASE: type[yaml.SafeLoader] = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 
 _INT = "tag:yaml.org,2002:int"
 _FLOAT = "tag:yaml.org,2002:float"
@@ -142,7 +142,7 @@ def _refuse_tag(loader, node):
     _fail(node, f"the YAML tag {tag} is not supported here; write plain mappings, lists, text and numbers")
 
 
-class _Loader(_BASE):
+class _Loader(_BASE):  # type: ignore[valid-type,misc]  # a base chosen at import: mypy cannot follow it
     """Safe loader with YAML 1.2 core-schema scalars and only JSON-model constructors."""
 
     yaml_implicit_resolvers: dict = {}
@@ -278,7 +278,7 @@ def _number_problem(value) -> str | None:
 
 def _check_numbers(data, lines: dict[tuple, int]) -> tuple[str, int | None] | None:
     """The first number (value or mapping key) that is not finite or is absurdly large, as (problem, line)."""
-    stack = [(data, ())]
+    stack: list[tuple[Any, tuple]] = [(data, ())]
     while stack:
         value, path = stack.pop()
         problem = _number_problem(value)
@@ -362,7 +362,7 @@ def read_yaml(path, error: type[TellwaveError]) -> YamlDocument:
     return YamlDocument(path, data, lines)
 
 
-@lru_cache(maxsize=None)
+@cache
 def load_schema(name: str) -> dict:
     """A JSON Schema shipped in engine/common/schemas."""
     text = resources.files("engine.common.schemas").joinpath(name).read_text(encoding="utf-8")
@@ -377,7 +377,7 @@ def _describe(err: jsonschema.ValidationError) -> str:
     if err.validator == "type":
         return f"expected {err.validator_value}, got {_shown(err.instance)}"
     if err.validator == "enum":
-        allowed = ", ".join(map(str, err.validator_value))
+        allowed = ", ".join(map(str, err.validator_value))  # type: ignore[arg-type]  # an enum's values
         return f"expected one of {allowed}, got {_shown(err.instance)}"
     if err.validator in ("minimum", "exclusiveMinimum", "maximum", "exclusiveMaximum"):
         word = {"minimum": "at least", "exclusiveMinimum": "above",
@@ -397,7 +397,7 @@ def _one_of_required(err: jsonschema.ValidationError) -> list[list[str]] | None:
     if err.validator != "oneOf":
         return None
     options = []
-    for sub in err.validator_value:
+    for sub in err.validator_value:  # type: ignore[union-attr]  # a oneOf's list of schemas
         if set(sub) - {"required", "not"}:
             return None
         options.append(sub["required"])

@@ -9,8 +9,8 @@ each fact a stable ``id``.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 
@@ -24,6 +24,8 @@ from .vocabulary import FACTS, fields_of, level_fields
 
 @dataclass(frozen=True)
 class Extractor:
+    """One evidence extractor: its name, the function that reads an Analysis, the fact kinds it
+    makes, and why it reports whatever the signal holds ("" when it reports only findings)."""
     name: str
     run: Callable[[Analysis], list[dict]]
     kinds: tuple[str, ...]

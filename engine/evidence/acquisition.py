@@ -24,9 +24,9 @@ def _closest_pair(rc: Analysis, fmax_hz: float) -> tuple[float, str]:
     Bearing defect lines are left out: they slip by 1-2 % and are told apart
     by their harmonic pattern, not by one line.
     """
-    lines = {(round(f.frequency_hz, 6), f.label) for f in rc.forcing if f.name in SEPARATED}
-    lines |= {(round(2 * hz, 6), f"2X {shaft}") for shaft, hz in rc.speeds_hz.items()}
-    lines = sorted((f, label) for f, label in lines if 2.0 <= f <= fmax_hz)
+    rates = {(round(f.frequency_hz, 6), f.label) for f in rc.forcing if f.name in SEPARATED}
+    rates |= {(round(2 * hz, 6), f"2X {shaft}") for shaft, hz in rc.speeds_hz.items()}
+    lines = sorted((f, label) for f, label in rates if 2.0 <= f <= fmax_hz)
     best = (0.0, "")
     for (f1, l1), (f2, l2) in zip(lines, lines[1:]):
         gap = f2 - f1
@@ -47,7 +47,7 @@ def acquisition(rc: Analysis) -> list[dict]:
     """One fact about the reading's settings beside the machine's rates they must reach."""
     fs = rc.fs_hz
     fmax = fs / FMAX_FACTOR
-    slowest_shaft = min(rc.speeds_hz, key=rc.speeds_hz.get)
+    slowest_shaft = min(rc.speeds_hz, key=lambda shaft: rc.speeds_hz[shaft])
     gap, pair = _closest_pair(rc, fmax)
     spacing, spacing_for = _tightest_sidebands(rc)
     centres = [c.kurtogram.best.centre_hz for c in rc.channels if c.kurtogram is not None]

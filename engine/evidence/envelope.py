@@ -26,6 +26,8 @@ from .matching import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lin
 from .signs import SIGNS, envelope_line, match_fit
 from ..analysis import Analysis
 from ..analysis.peaks import Peak
+from ._match import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
+from .signs import SIGNS, envelope_line, match_fit
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
 MODULATION_ORDERS = 3
@@ -101,13 +103,14 @@ def _owners(defects, all_found, location: str | None, fmax_hz: float) -> dict[tu
             rivals = [e[4] for e in close]
             span = min(min(HARMONICS[defects[t][1]] * defects[t][2], fmax_hz * 0.98) for t in rivals) * (1 + TIE)
 
+            # own and covered are called within this iteration only, so they read this iteration's rivals and span
             def own(t):
-                others = set().union(*(lines_of[u] for u in rivals if u != t))
-                return sum(1 for line, f in lines_of[t].items() if f <= span and line not in others)
+                others = set().union(*(lines_of[u] for u in rivals if u != t))  # noqa: B023
+                return sum(1 for line, f in lines_of[t].items() if f <= span and line not in others)  # noqa: B023
 
             def covered(t):
-                expected = int(span / defects[t][2])
-                return sum(1 for f in lines_of[t].values() if f <= span) / expected if expected else 0.0
+                expected = int(span / defects[t][2])  # noqa: B023
+                return sum(1 for f in lines_of[t].values() if f <= span) / expected if expected else 0.0  # noqa: B023
 
             winner = min(close, key=lambda e: (-own(e[4]), -covered(e[4]), e[1], e[2], e[3], e[0]))
         else:
@@ -351,7 +354,7 @@ def _modulation_facts(c, view, all_defects, all_harmonics, owned) -> list[dict]:
     each sideband is m/2 of its carrier, so depth = (lower + upper) / carrier.
     Only a family whose fundamental it owns has carriers to be modulated.
     """
-    out = []
+    out: list[dict] = []
     ses = view.ses
     kept = [(d, {k: p for k, p in h.items() if k <= MODULATION_ORDERS})
             for t, (d, h) in enumerate(zip(all_defects, all_harmonics))
@@ -360,7 +363,7 @@ def _modulation_facts(c, view, all_defects, all_harmonics, owned) -> list[dict]:
     all_found = [h for _, h in kept]
     # every sideband of every carrier and the modulation lines themselves, in one search each
     sides, mods = [], []
-    for d, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
+    for d, ((b, _defect, _rate), found) in enumerate(zip(defects, all_found)):
         if not found:
             continue
         for modulation, mod_hz in (("1X", b.shaft_hz), ("FTF", b.ftf_hz)):

@@ -6,6 +6,7 @@ import numpy as np
 
 from .matching import SLIP_TOLERANCE, clear_lines
 from ..analysis import Analysis
+from ._match import SLIP_TOLERANCE, clear_lines
 from .signs import SIGNS, envelope_line, impacts, match_fit, turns
 
 MATCH_TOLERANCE = 0.03    # rate within 3 % of a forcing frequency (1-2 % slip plus resolution)
@@ -27,7 +28,7 @@ def _comb_signs(c, rate_hz: float) -> dict[str, float]:
     distance (``signs.match_fit``). A bearing family whose lines these are
     shares them with whatever cause explains the impacts.
     """
-    out = {}
+    out: dict = {}
     for view in c.envelopes:
         lines, freq, _ = clear_lines(view.ses)
         order = np.maximum(np.rint(freq / rate_hz), 1)

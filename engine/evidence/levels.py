@@ -8,6 +8,8 @@ from .matching import find_line
 from .signs import SIGNS, match_fit, spectrum_line, waveform
 from ..analysis import Analysis
 from ..readings.quality import same_scale
+from ._match import find_line
+from .signs import SIGNS, match_fit, spectrum_line, waveform
 
 
 def overall(rc: Analysis) -> list[dict]:
@@ -34,7 +36,7 @@ def _order_amplitude(c, speed_hz: float, order: int, tol: float) -> float:
 
 def direction_ratio(rc: Analysis) -> list[dict]:
     """Axial against radial, horizontal against vertical, where one location has several channels."""
-    by_location = defaultdict(dict)
+    by_location: defaultdict[str, dict] = defaultdict(dict)
     for c in rc.channels:
         if c.point is not None:
             by_location[c.point.at].setdefault(c.point.direction, c)

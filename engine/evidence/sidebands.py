@@ -6,7 +6,6 @@ import numpy as np
 
 from .matching import db, explained_frequencies, find_lines
 from .signs import SIGNS, match_fit, spectrum_line
-from ..analysis import Analysis
 
 MAX_ORDER = 6
 SPACING_TOLERANCE = 0.005  # sidebands sit at exact multiples of the spacing: 0.5 % of it
@@ -66,14 +65,14 @@ def sideband_family(rc: Analysis) -> list[dict]:
     explained = explained_frequencies(rc)
     for c in rc.channels:
         families = []      # (carrier tuple, index of its centre search, [(k, sign, index of its search)])
-        searches = {True: [], False: []}    # by spectrum (velocity?): (frequency, fraction)
+        searches: dict[bool, list[tuple]] = {True: [], False: []}    # by spectrum (velocity?): (frequency, fraction)
         for car in carriers:
             fc, spacing_name, spacing, use_velocity = car[2], car[3], car[5], car[6]
             spec = c.velocity if use_velocity else c.spectrum
             if fc + spacing > spec.fmax_hz * 0.98 or spacing < 2.5 * spec.resolution_hz:
                 continue
             todo = searches[use_velocity]
-            centre = len(todo)
+            centre_at = len(todo)
             floor = floor_between(spec, fc, spacing)
             todo.append((fc, 0.002, floor))
             sides = []
@@ -84,14 +83,16 @@ def sideband_family(rc: Analysis) -> list[dict]:
                         continue
                     sides.append((k, sign, len(todo)))
                     todo.append((f, max(SPACING_TOLERANCE * k * spacing, 0.5 * spec.resolution_hz) / f, floor))
-            families.append((car, centre, sides))
+            families.append((car, centre_at, sides))
         found_lines = {v: find_lines(c.velocity if v else c.spectrum, [t[0] for t in todo], [t[1] for t in todo],
                                      floors=[t[2] for t in todo])
                        for v, todo in searches.items() if todo}
         for (carrier, component, fc, spacing_name, spacing_shaft, spacing, use_velocity), centre_at, sides in families:
             lines = found_lines[use_velocity]
             centre = lines.peak(centre_at)
-            found, orders_low, orders_high, ratios, signs = 0, set(), set(), [], {}
+            found, ratios, signs = 0, [], {}
+            orders_low: set[int] = set()
+            orders_high: set[int] = set()
             for k, sign, at in sides:
                 if not lines.found[at]:
                     continue

@@ -21,22 +21,27 @@ SIGNS = "signs"
 
 
 def spectrum_line(channel: str, line: int) -> str:
+    """The sign of one line of a channel's spectrum, by its index."""
     return f"{channel}|spectrum|{int(line)}"
 
 
 def envelope_line(channel: str, view: str, line: int) -> str:
+    """The sign of one line of a channel's envelope spectrum ``view``, by its index."""
     return f"{channel}|envelope:{view}|{int(line)}"
 
 
 def waveform(channel: str) -> str:
+    """The sign of a channel's waveform as a whole (its kurtosis and crest factor)."""
     return f"{channel}|waveform"
 
 
 def impacts(channel: str) -> str:
+    """The sign of a channel's impact train."""
     return f"{channel}|impacts"
 
 
 def turns(channel: str, shaft: str) -> str:
+    """The sign of a channel's once-per-turn content of one shaft."""
     return f"{channel}|turns:{shaft}"
 
 

@@ -35,11 +35,13 @@ class PointLevel:
 
     @property
     def scale_trusted(self) -> bool:
+        """True when no gate doubts the channel's scale, so its absolute levels may be shown."""
         return not self.scale_issues
 
 
 @dataclass(frozen=True)
 class QualityNote:
+    """One data-quality finding of a channel, as advice and the report show it (``blocking``: it withholds)."""
     channel: str
     issue: str
     value: float
@@ -72,6 +74,7 @@ class Evidence:
 
     @property
     def fact_list(self) -> list[dict]:
+        """The facts as a new list (the reasoner and the report may sort or extend it)."""
         return list(self.facts)
 
     @property

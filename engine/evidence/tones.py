@@ -58,9 +58,10 @@ def tones(rc: Analysis) -> list[dict]:
             spec = c.velocity if use_velocity else c.spectrum
             lines = find_lines(spec, [f.frequency_hz for f in group], [_tol(rc, f.family) for f in group])
             for i, f in enumerate(group):
-                if lines.found[i] and not (f.family == "bearing"
-                                           and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
-                    hits.append((f, lines.peak(i)))
+                peak = lines.peak(i)       # None when the line was not found
+                if peak is not None and not (f.family == "bearing"
+                                             and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
+                    hits.append((f, peak))
         if not hits:
             continue
         accel_g, v = _amplitudes_at(c, np.array([p.freq_hz for _, p in hits]), 0.0)

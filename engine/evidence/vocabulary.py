@@ -114,7 +114,8 @@ FACTS: dict[str, dict[str, F]] = {
         "strongest_channel": F("string", "channel where this family (same view) stands out most", ""),
         "strongest_location": F("string", "the bearing or shaft that channel's point sits at", ""),
         "below_strongest_db": F("number", "how far this channel's best harmonic is below that channel's, dB", "dB"),
-        "band_method": F("string", "kurtogram (band of highest spectral kurtosis) or wide (prewhitened signal above the defect harmonics)", ""),
+        "band_method": F("string", "kurtogram (band of highest spectral kurtosis) or wide "
+                                   "(prewhitened signal above the defect harmonics)", ""),
         "band_lo_hz": F("number", "demodulation band, lower edge, Hz", "Hz"),
         "band_hi_hz": F("number", "demodulation band, upper edge, Hz", "Hz"),
         "band_kurtosis": F("number", "spectral kurtosis of the band", ""),

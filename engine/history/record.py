@@ -89,7 +89,8 @@ def reading_key(paths, machine_file, how: dict, rulebooks: str) -> str:
     stated = {k: v for k, v in sorted(how.items()) if v not in (None, {}, [], ())}
     parts = {"recording": content_hash(paths), "machine": _file_digest(machine_file), "how": stated,
              "rulebooks": rulebooks}
-    return hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode("utf-8", "backslashreplace")).hexdigest()
+    text = json.dumps(parts, sort_keys=True, default=str)
+    return hashlib.sha256(text.encode("utf-8", "backslashreplace")).hexdigest()
 
 
 def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:

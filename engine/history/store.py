@@ -24,8 +24,8 @@ import math
 import random
 import sqlite3
 import time
-from datetime import datetime, timezone
-from functools import lru_cache
+from datetime import UTC, datetime
+from functools import cache
 from pathlib import Path
 
 from ..common.errors import StoreError
@@ -125,7 +125,7 @@ def default_store_path() -> Path:
 
 
 def _now() -> str:
-    return datetime.now(timezone.utc).isoformat(timespec="seconds")
+    return datetime.now(UTC).isoformat(timespec="seconds")
 
 
 class Store:
@@ -140,7 +140,7 @@ class Store:
         waited for (``BUSY_TIMEOUT_S`` in all), and the schema is made or migrated once, in one
         transaction, by whichever takes the write lock first."""
         self.path = Path(path)
-        self.db = None
+        self.db: _Connection       # set once the file is open; every method after __init__ uses it
         deadline = time.monotonic() + BUSY_TIMEOUT_S
         try:
             if self.path.is_dir():
@@ -152,15 +152,15 @@ class Store:
             if not read_only:
                 self.path.parent.mkdir(parents=True, exist_ok=True)
             while True:
+                db = None
                 try:
-                    self.db = _Connection(self.path, read_only=read_only, create=create)
+                    self.db = db = _Connection(self.path, read_only=read_only, create=create)
                     self._open(migrate_to, read_only=read_only, create=create)
                     return
                 except StoreError as exc:
-                    if self.db is not None:
-                        self.db.close()
-                        self.db = None
-                    if not getattr(exc, "busy", False) or time.monotonic() > deadline:
+                    if db is not None:
+                        db.close()
+                    if not exc.busy or time.monotonic() > deadline:
                         raise
                     time.sleep(random.uniform(0.01, 0.1))     # a lock SQLite would not wait for: try again
         except OSError as exc:
@@ -236,12 +236,15 @@ class Store:
 
     @property
     def version(self) -> int:
+        """The schema version the store holds."""
         return self.db.execute("SELECT version FROM schema_version").fetchone()[0]
 
     def transaction(self):
+        """A write transaction (BEGIN IMMEDIATE ... COMMIT, ROLLBACK on any exception); nests."""
         return _Transaction(self.db)
 
     def close(self) -> None:
+        """Close the connection; a closed store is not used again."""
         if self.db is not None:
             self.db.close()
 
@@ -253,6 +256,7 @@ class Store:
 
     # writing ---------------------------------------------------------------
     def start_route(self, name: str, file: str | None) -> int:
+        """Record the start of a route run; its id, which the readings it stores refer to."""
         with self.transaction():
             cur = self.db.execute("INSERT INTO routes (name, file, started_at) VALUES (?, ?, ?)",
                                   (name, file, _now()))
@@ -302,6 +306,7 @@ class Store:
             return rid
 
     def set_report(self, reading_id: int, report: str) -> None:
+        """Remember where a stored reading's report was written."""
         with self.transaction():
             self.db.execute("UPDATE readings SET report = ? WHERE id = ?", (report, reading_id))
 
@@ -314,9 +319,11 @@ class Store:
 
     # reading ---------------------------------------------------------------
     def has(self, content_hash: str) -> bool:
+        """Whether a diagnosis with this key (``record.reading_key``) is stored: a route skips it."""
         return self.db.execute("SELECT 1 FROM readings WHERE content_hash = ?", (content_hash,)).fetchone() is not None
 
     def machines(self) -> list[str]:
+        """The names of the machines with stored readings, sorted."""
         return [r[0] for r in self.db.execute("SELECT DISTINCT machine FROM readings ORDER BY machine")]
 
     def readings(self, machine: str | None = None) -> list[dict]:
@@ -329,7 +336,7 @@ class Store:
             sql += " WHERE r.machine = ?"
             args = (machine,)
         rows = [dict(r) for r in self.db.execute(sql + " ORDER BY r.taken_at, r.id", args)]
-        points = {}
+        points: dict[int, list[str]] = {}
         for r in self.db.execute("SELECT reading_id, point FROM channels ORDER BY reading_id, channel"):
             points.setdefault(r[0], []).append(str(r[1] or ""))
         for r in rows:
@@ -339,6 +346,7 @@ class Store:
         return rows
 
     def reading(self, reading_id: int) -> dict | None:
+        """One stored reading's row by its id, or None (an id no row can have included)."""
         if not 0 < reading_id <= ID_MAX:
             return None
         row = self.db.execute("SELECT * FROM readings WHERE id = ?", (reading_id,)).fetchone()
@@ -418,6 +426,7 @@ class Store:
         return dict(row) if row else None
 
     def integrity(self) -> str:
+        """SQLite's integrity check of the whole file: "ok" or what is damaged."""
         return self.db.execute("PRAGMA integrity_check").fetchone()[0]
 
 
@@ -430,7 +439,7 @@ def _number(value) -> bool:
             and abs(value) <= LARGEST_INDICATOR)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _expected_tables(version: int) -> dict[str, frozenset]:
     """table -> its columns, in a store of schema ``version`` (the migrations run on an empty database)."""
     db = sqlite3.connect(":memory:")

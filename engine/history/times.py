@@ -51,6 +51,7 @@ def parse_time(value, *, what: str = "time") -> datetime:
 
 
 def iso(t: datetime) -> str:
+    """``t`` as ISO 8601, to the second unless it has a fraction of one."""
     return t.isoformat(timespec="microseconds" if t.microsecond else "seconds")
 
 
@@ -62,6 +63,7 @@ class Clock:
     interval_s: float | None = None
 
     def at_index(self, index: float, *, what: str = "time") -> datetime:
+        """The time of reading number ``index`` of a logger's run (start + index x interval)."""
         if self.interval_s is None:
             raise UsageError(f"{what} gives only an index ({_shown(index)}): the route needs clock: "
                              "{start, interval_s}")
@@ -134,6 +136,7 @@ def reading_time(stated, stated_from: str, reading, first_file, clock: Clock | N
     """A reading's time (ISO 8601) and where it came from: as stated (``stated_from``: "route",
     "command line"), else the file's own timestamp, else the date the file was last modified."""
     for value, origin in ((stated, stated_from), (reading.timestamp, "file")):
-        if value is not None:
-            return iso(resolve_time(value, clock, what=what)), origin
+        when = resolve_time(value, clock, what=what)      # None only when nothing is stated
+        if when is not None:
+            return iso(when), origin
     return iso(datetime.fromtimestamp(os.path.getmtime(first_file))), "file modified"

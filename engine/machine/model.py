@@ -11,9 +11,9 @@ that names the file, the line and the field.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Mapping
 
 from ..common.errors import MachineError
 from ..common.yamlfile import YamlDocument, read_yaml, validate
@@ -26,6 +26,7 @@ MIN_ELEMENT_TO_PITCH = 0.01  # d/D of real rolling bearings is about 0.1 to 0.4 
 
 @dataclass(frozen=True)
 class Bearing:
+    """A rolling bearing on a shaft: its geometry, or its defect-rate multiples given directly."""
     id: str
     shaft: str
     model: str | None
@@ -38,6 +39,7 @@ class Bearing:
 
 @dataclass(frozen=True)
 class GearMesh:
+    """A pair of gears in mesh: the shaft and tooth count of each side."""
     id: str
     driving_shaft: str
     driving_teeth: int
@@ -47,6 +49,7 @@ class GearMesh:
 
 @dataclass(frozen=True)
 class BeltDrive:
+    """A belt between two sheaves: the shafts, the sheave diameters and the belt's length."""
     id: str
     driving_shaft: str
     driving_diameter_mm: float
@@ -57,6 +60,7 @@ class BeltDrive:
 
 @dataclass(frozen=True)
 class Rotor:
+    """An impeller or fan wheel on a shaft, with its number of vanes or blades."""
     id: str
     shaft: str
     type: str  # "impeller" or "fan"
@@ -65,6 +69,7 @@ class Rotor:
 
 @dataclass(frozen=True)
 class Motor:
+    """An induction motor on a shaft: line frequency, poles and rotor bars (electrical rates)."""
     id: str
     shaft: str
     line_frequency_hz: float
@@ -83,6 +88,7 @@ class SpeedRange:
 
 @dataclass(frozen=True)
 class Point:
+    """A measurement point: the bearing or shaft it sits at, that shaft and the sensor's direction."""
     id: str
     at: str          # bearing id or shaft id
     shaft: str       # the shaft that point sits on
@@ -126,6 +132,7 @@ class Machine:
         return {name: hz * scale for name, hz in speeds.items()}
 
     def point(self, point_id: str) -> Point:
+        """The measurement point of this id; a MachineError naming the points there are if none."""
         for p in self.points:
             if p.id == point_id:
                 return p
@@ -238,7 +245,7 @@ def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | No
     if not ranged:
         return None
     first = ranged[0][1]["id"]
-    for i, spec in ranged[1:]:
+    for i, _spec in ranged[1:]:
         fail(("shafts", i, "speed_range_rpm"), f"only one shaft may state a speed range and shaft {first!r} "
              "does; the other shafts follow it by their ratios")
     i, spec = ranged[0]

@@ -18,16 +18,15 @@ import numpy as np
 
 from ..common import units
 from ..common.errors import ReadingError, UsageError
-from ..machine import check_speed_rpm
 from ..common.yamlfile import read_yaml, validate
+from ..machine import check_speed_rpm
 from .columns import apply_column_map
-from .formats import READERS, RawReading, check_raw
 from .fit import check_points
+from .formats import READERS, RawReading, check_raw
 from .length import MIN_SAMPLES, check_record_length
 from .limits import MAX_FILE_BYTES, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
 from .model import Channel, QualityIssue, Reading
 from .quality import SCALE_ISSUES, check_channel, check_resolution, describe_issue, scale_doubts
-
 
 __all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", "check_points", "check_record_length",
            "check_resolution", "combine_readings", "describe_issue", "load_reading", "scale_doubts",

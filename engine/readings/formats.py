@@ -32,6 +32,8 @@ UFF_DIRECTIONS = {1: "x", 2: "y", 3: "z"}
 
 @dataclass
 class RawReading:
+    """What a reader found in a file, before any check: channel names and sample arrays, and
+    what the file states of sample rate, units, full scale and points (None where it states nothing)."""
     names: list[str]
     arrays: list[np.ndarray]
     fs_hz: float | None = None
@@ -268,7 +270,8 @@ def read_uff58(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     records = [s for s in sets if s.get("type") == 58 and s.get("func_type") == 1]
     if not records:
         raise ReadingError("no UFF type 58 time-response data set in the file", path=path)
-    names, arrays, units, points, rates = [], [], [], [], []
+    names, arrays, units, rates = [], [], [], []
+    points: list[str | None] = []
     for i, s in enumerate(records):
         if s.get("abscissa_spacing") != 1:
             raise ReadingError(f"data set {i + 1} is not evenly spaced in time", path=path)

@@ -48,6 +48,7 @@ class SampleLimit:
 
     @property
     def total(self) -> int:
+        """The samples all channels together may hold."""
         return FULL_LENGTH_CHANNELS * self.per_channel
 
     @property
@@ -69,4 +70,5 @@ class SampleLimit:
 
 
 def sample_limit(max_samples: int | None) -> SampleLimit:
+    """The limit of ``--max-samples`` (the default when not given)."""
     return SampleLimit() if max_samples is None else SampleLimit(int(max_samples))

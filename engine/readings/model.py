@@ -54,13 +54,16 @@ class Reading:
 
     @property
     def n_samples(self) -> int:
+        """Samples per channel (every channel has as many)."""
         return len(self.channels[0].samples)
 
     @property
     def duration_s(self) -> float:
+        """Length of the record in seconds."""
         return self.n_samples / self.fs_hz
 
     def channel(self, name: str) -> Channel:
+        """The channel of this name; a ReadingError naming the channels there are if none."""
         for ch in self.channels:
             if ch.name == name:
                 return ch
@@ -69,4 +72,5 @@ class Reading:
         raise ReadingError(f"no channel {name!r}; channels are {known}", path=self.source)
 
     def issues_for(self, channel: str) -> list[QualityIssue]:
+        """The data-quality issues found on one channel."""
         return [q for q in self.quality if q.channel == channel]

@@ -5,8 +5,8 @@
     result = reasoner.reason(evidence_facts)     # one isolated diagnosis -> Reasoning
 """
 
-from .certainty import CONFIDENT, LIKELY, POSSIBLE, combine, combine_all, ramp, word_for
 from ..common.errors import ReasoningError
+from .certainty import CONFIDENT, LIKELY, POSSIBLE, combine, combine_all, ramp, word_for
 from .engine import Reasoner
 from .findings import Firing, Hypothesis, Reasoning
 from .rulebook import SHIPPED, Rule, Rulebook, load_rulebook

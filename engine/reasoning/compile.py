@@ -9,9 +9,10 @@ so by then every fact a negation could name is present.
 
 from __future__ import annotations
 
+from collections.abc import Collection
 from typing import Any
 
-from .rulebook import Condition, Pattern, Ref, Rule, TALLY_KIND, derivation_cycle, feeds
+from .rulebook import TALLY_KIND, Condition, Pattern, Ref, Rule, derivation_cycle, feeds
 
 # durable-rules 2.0.28 keeps fixed-size tables in its C core, and a ruleset that outgrows one fails
 # with a bare error code (tests/reasoning/test_large_rulebooks.py measures both):
@@ -89,7 +90,10 @@ def _joins(p: Pattern) -> bool:
     return any(isinstance(c.value, Ref) and c.value.alias not in (None, p.alias) for c in p.conditions)
 
 
-def pattern_test(rule: Rule, p: Pattern, required: set[str] = frozenset()) -> dict:
+def pattern_test(rule: Rule, p: Pattern, required: Collection[str] = frozenset()) -> dict:
+    """The durable-rules test of one pattern: its kind (or its tally slot and bounds for a count
+    pattern), the fields it requires, and its conditions."""
+    tests: list[dict]
     if p.counted:
         tests = [{"kind": TALLY_KIND}, {"slot": tally_slot(rule, p)}]
         if p.at_least is not None:
@@ -149,7 +153,7 @@ def _load(rule: Rule) -> dict[str, int]:
 
 
 class _Group:
-    def __init__(self):
+    def __init__(self) -> None:
         self.rules: list[Rule] = []
         self.load: dict[str, int] = {}
 

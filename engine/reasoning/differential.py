@@ -31,6 +31,8 @@ RIVALS = 3
 
 @dataclass(frozen=True)
 class Rival:
+    """A hypothesis that competes with the leader: its certainty, the strongest sign against it and
+    the share of its signs the leader explains better."""
     fault: str
     fault_name: str
     component: str
@@ -41,6 +43,8 @@ class Rival:
 
 @dataclass(frozen=True)
 class Differential:
+    """The differential of a leading hypothesis: its rivals, the signs that separate them and the
+    corroborating signs that were expected and not found."""
     fault: str
     component: str
     rivals: tuple[Rival, ...]

@@ -63,8 +63,8 @@ import durable_rules_engine
 from durable.engine import Host, MessageNotHandledException, MessageObservedException
 
 from ..common.errors import ReasoningError
-from ..evidence.signs import SIGNS, merged
 from ..common.units import format_quantity
+from ..evidence.signs import SIGNS, merged
 from . import certainty as cf
 from .compile import PHASE_KIND, compile_ruleset, plan_rulesets, tally_slot
 from .differential import differential
@@ -105,6 +105,8 @@ def engine_value(x):
 
 
 def engine_copy(fact: dict, sid: str) -> dict:
+    """A fact as the rule engine may hold it: its signs left out, values made engine-safe, no None
+    fields, tagged with the diagnosis's session id."""
     out = {k: engine_value(v) for k, v in fact.items() if k != SIGNS}
     out = {k: v for k, v in out.items() if v is not None}
     out["sid"] = sid
@@ -142,7 +144,7 @@ def _literal_match(fact: dict, c) -> bool:
 
 def tallies(rules, facts: list[dict]) -> list[dict]:
     """Counts that the rules' count patterns read, one fact per (pattern, group)."""
-    out = []
+    out: list[dict] = []
     for rule in rules:
         for p in rule.needs:
             if not p.counted:
@@ -311,8 +313,10 @@ class Reasoner:
                         mine = [copies[f["id"]] for f in considered]
                     else:
                         mine = [copies[f["id"]] for f in considered
-                                if (f["slot"] in slots if f["kind"] == TALLY_KIND else self._could_match(copies[f["id"]], patterns))]
-                        mine += [c for c in (engine_copy(d, sid) for d in session.derived) if self._could_match(c, patterns)]
+                                if (f["slot"] in slots if f["kind"] == TALLY_KIND
+                                    else self._could_match(copies[f["id"]], patterns))]
+                        mine += [c for c in (engine_copy(d, sid) for d in session.derived)
+                                 if self._could_match(c, patterns)]
                     self._run(name, sid, mine, session)
             finally:
                 del self._sessions[sid]
@@ -377,7 +381,8 @@ class Reasoner:
         return tuple(sorted(out, key=lambda x: (-x.share, x.fault, x.component)))
 
     def _rank(self, session: _Session, considered: int) -> Reasoning:
-        by_hypothesis: dict[tuple[str, str], dict[str, list[tuple[Rule, Firing]]]] = defaultdict(lambda: defaultdict(list))
+        by_hypothesis: dict[tuple[str, str], dict[str, list[tuple[Rule, Firing]]]] = defaultdict(
+            lambda: defaultdict(list))
         chain = []
         for rule, firing in session.firings:
             if rule.derives is not None:
@@ -385,7 +390,8 @@ class Reasoner:
                 continue
             values = dict(firing.facts)
             component = _value(values, rule.component)
-            fault = rule.fault.pick(_value(values, rule.fault.value)) if isinstance(rule.fault, FaultChoice) else rule.fault
+            fault = (rule.fault.pick(_value(values, rule.fault.value)) if isinstance(rule.fault, FaultChoice)
+                     else rule.fault)
             if fault is not None:
                 by_hypothesis[(fault, str(component))][rule.id].append((rule, firing))
         by_hypothesis, sharing = self._explain_away(by_hypothesis)
@@ -403,11 +409,11 @@ class Reasoner:
             total = cf.combine_all([f.certainty for _, f in support + against])
             raw = cf.combine_all(max((_raw(f) for _, f in entries), key=abs) for entries in per_rule.values())
             stages = [r.stage for r, f in support if r.stage is not None]
-            fault = self.rulebook.faults[fault_id]
+            known = self.rulebook.faults[fault_id]
             hypotheses.append(Hypothesis(
-                fault_id, fault.name, fault.family, component, round(total, 6), max(stages) if stages else None,
+                fault_id, known.name, known.family, component, round(total, 6), max(stages) if stages else None,
                 tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
-                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, fault.withholds_diagnosis,
+                tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, known.withholds_diagnosis,
                 round(raw, 6) if abs(raw - total) > 1e-6 else None,
                 self._losses((fault_id, component), sharing)))
         hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))

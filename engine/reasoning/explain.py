@@ -45,6 +45,7 @@ def _a(word: str) -> str:
 
 
 def pattern_words(p: Pattern, rulebook: Rulebook | None = None) -> str:
+    """A pattern in plain words: what fact it needs, where, how many (a count pattern) and its alias."""
     what = _words(p.kind)
     fields = rulebook.fields_of(p.kind) if rulebook is not None else {}
     where = "; ".join(condition_words(c, fields[c.field].unit if c.field in fields else "") for c in p.conditions)
@@ -55,7 +56,8 @@ def pattern_words(p: Pattern, rulebook: Rulebook | None = None) -> str:
         if p.at_most is not None:
             bounds.append(f"at most {p.at_most}")
         per = f" for one {_words(p.per)}" if p.per else ""
-        return f"{' and '.join(bounds)} {what} facts{per}" + (f" where {where}" if where else "") + f" (called {p.alias})"
+        return (f"{' and '.join(bounds)} {what} facts{per}" + (f" where {where}" if where else "")
+                + f" (called {p.alias})")
     return f"{_a(what)} fact" + (f" where {where}" if where else "") + f" (called {p.alias})"
 
 
@@ -80,13 +82,13 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
                      (f", damage stage {rule.stage}" if rule.stage else ""))
     else:
         fields = ", ".join(f"{k} = {_value(v)}" for k, v in rule.derived_fields)
-        lines.append(f"  it derives a {_words(rule.derives)} fact ({fields}) for other rules")
+        lines.append(f"  it derives a {_words(rule.derives or '')} fact ({fields}) for other rules")
     weight = f"certainty {100 * rule.weight:+.0f} %"
     aliases = {p.alias: p.kind for p in rule.needs}
     for r in rule.ramps:
-        kind = aliases.get(r.value.alias)
-        fields = rulebook.fields_of(kind) if kind and not kind == "tally" else {}
-        unit = fields[r.value.field].unit if r.value.field in fields else ""
+        kind = aliases.get(r.value.alias or "")
+        kind_fields = rulebook.fields_of(kind) if kind and not kind == "tally" else {}
+        unit = kind_fields[r.value.field].unit if r.value.field in kind_fields else ""
         named = f" (param.{', param.'.join(r.params)})" if r.params else ""
         weight += (f", graded by {_value(r.value)} from 0 at {_value(r.start, unit)} "
                    f"to full at {_value(r.full, unit)}{named}")
@@ -100,8 +102,8 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
 
 def summary(rulebook: Rulebook) -> list[str]:
     """Rules per fault (for and against), derived kinds, overrides and switched-off rules."""
-    per_fault = defaultdict(lambda: [0, 0])
-    chaining = defaultdict(int)
+    per_fault: defaultdict[str | None, list[int]] = defaultdict(lambda: [0, 0])
+    chaining: defaultdict[str, int] = defaultdict(int)
     for rule in rulebook.rules:
         if rule.derives:
             chaining[rule.derives] += 1
@@ -165,6 +167,6 @@ def rule_list(rulebook: Rulebook) -> list[str]:
         elif isinstance(r.fault, FaultChoice):
             what = "/".join(dict.fromkeys(v for _, v in r.fault.faults))
         else:
-            what = r.fault
+            what = r.fault or ""
         lines.append(f"{r.id:<44} {100 * r.weight:+4.0f} % {what:<40} {r.title}")
     return lines

@@ -39,8 +39,8 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
+from collections.abc import Hashable, Mapping
 from dataclasses import dataclass, field
-from typing import Hashable, Mapping
 
 from . import certainty as cf
 
@@ -181,8 +181,8 @@ def share(claims: list[Claim], against: Mapping | None = None) -> Sharing:
         certainty = _combine(claims, kept, against)
         if moved < TOLERANCE:
             break
-    mass: dict = defaultdict(float)
+    raw_mass: dict = defaultdict(float)
     for by_h in raw.values():
         for h, q in by_h.items():
-            mass[h] += q
-    return Sharing(tuple(kept), certainty, shares, rounds, {s: fits[s] for s in contested}, contested, dict(mass))
+            raw_mass[h] += q
+    return Sharing(tuple(kept), certainty, shares, rounds, {s: fits[s] for s in contested}, contested, dict(raw_mass))

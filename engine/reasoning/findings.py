@@ -37,6 +37,8 @@ class SignLoss:
 
 @dataclass(frozen=True)
 class Hypothesis:
+    """A fault on a component with its combined certainty and damage stage, the rule firings for
+    and against it, and its certainty before explaining away with who took part of its signs."""
     fault: str
     fault_name: str
     family: str
@@ -48,14 +50,16 @@ class Hypothesis:
     other_matches: int = 0            # weaker firings of the same rules, not counted again
     withholds: bool = False           # a reading problem that, when confident, withholds the diagnosis
     raw_certainty: float | None = None    # before explaining away (None: no sign of it was shared)
-    explained_by: tuple["SignLoss", ...] = ()   # hypotheses that took part of its signs, most first
+    explained_by: tuple[SignLoss, ...] = ()   # hypotheses that took part of its signs, most first
 
     @property
     def strength(self) -> str:
+        """The certainty in words (engine.reasoning.certainty.word_for)."""
         return word_for(self.certainty)
 
     @property
     def confident(self) -> bool:
+        """Whether the certainty reaches CONFIDENT, the bar of a call."""
         return self.certainty >= CONFIDENT
 
     @property
@@ -82,7 +86,9 @@ class Reasoning:
 
     @property
     def top(self) -> Hypothesis | None:
+        """The leading hypothesis, or None when no rule fired for any."""
         return self.hypotheses[0] if self.hypotheses else None
 
     def confident(self) -> tuple[Hypothesis, ...]:
+        """The hypotheses at CONFIDENT or more, leading first."""
         return tuple(h for h in self.hypotheses if h.confident)

@@ -25,12 +25,12 @@ import re
 import string
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, NoReturn
 
 from ..common.errors import RulebookError
-from ..evidence.vocabulary import FACTS, F, fields_of
 from ..common.paths import RULEBOOKS
 from ..common.yamlfile import YamlDocument, first_problem, read_yaml
+from ..evidence.vocabulary import FACTS, F, fields_of
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
 LARGEST_NUMBER = 1e15
@@ -72,6 +72,7 @@ class Parameter:
 
 @dataclass(frozen=True)
 class Condition:
+    """One condition of a pattern: a field, an operator and a value (a constant or a reference)."""
     field: str
     op: str          # is, is_not, above, at_least, below, at_most, between, one_of, not_one_of, same_as, differs_from
     value: Any       # scalar, list, (lo, hi), or Ref
@@ -80,6 +81,8 @@ class Condition:
 
 @dataclass(frozen=True)
 class Pattern:
+    """A fact a rule needs (or, in none_of, must not find): its kind, alias and conditions, or for a
+    count pattern how many facts of the kind, per group, it needs."""
     kind: str
     alias: str
     conditions: tuple[Condition, ...]
@@ -97,11 +100,13 @@ class FaultChoice:
     faults: tuple[tuple[str, str], ...]    # (value, fault id)
 
     def pick(self, value) -> str | None:
+        """The fault a matched value names, or None when it names none."""
         return dict(self.faults).get(value)
 
 
 @dataclass(frozen=True)
 class Ramp:
+    """A grade_by ramp: the rule's weight grows from nothing at ``start`` to full at ``full`` of a value."""
     value: Ref
     start: float
     full: float
@@ -120,6 +125,8 @@ class Placeholder:
 
 @dataclass(frozen=True)
 class Rule:
+    """One checked rule: what it needs and must not find, what it concludes (a fault on a component
+    with a weight, or a derived fact), its source and its file and line."""
     id: str
     title: str
     source: str
@@ -149,6 +156,7 @@ class Rule:
 
 @dataclass(frozen=True)
 class Fault:
+    """A fault the rulebooks know: its name and family, and whether it withholds the diagnosis."""
     id: str
     name: str
     family: str
@@ -168,12 +176,14 @@ class Rulebook:
     parameters: dict[str, Parameter] = field(default_factory=dict)
 
     def rule(self, rule_id: str) -> Rule:
+        """The rule of this id (KeyError if none)."""
         for r in self.rules:
             if r.id == rule_id:
                 return r
         raise KeyError(rule_id)
 
     def fields_of(self, kind: str) -> dict[str, F]:
+        """The fields of a fact kind: the vocabulary's, or a derived kind's as its rules declare them."""
         return _kind_fields(kind, self.derived)
 
 
@@ -280,11 +290,12 @@ def _may_feed(giver: Rule, pattern: Pattern) -> bool:
         if c.field not in fixed or isinstance(c.value, Ref):
             continue
         v = fixed[c.field]
-        ok = {"is": lambda: v == c.value, "is_not": lambda: v != c.value,
-              "one_of": lambda: v in c.value, "not_one_of": lambda: v not in c.value,
-              "between": lambda: c.value[0] <= v <= c.value[1], "above": lambda: v > c.value,
-              "at_least": lambda: v >= c.value, "below": lambda: v < c.value,
-              "at_most": lambda: v <= c.value}.get(c.op, lambda: True)
+        # the lambdas are called below, in this iteration, so they read this iteration's v and c
+        ok = {"is": lambda: v == c.value, "is_not": lambda: v != c.value,  # noqa: B023
+              "one_of": lambda: v in c.value, "not_one_of": lambda: v not in c.value,  # noqa: B023
+              "between": lambda: c.value[0] <= v <= c.value[1], "above": lambda: v > c.value,  # noqa: B023
+              "at_least": lambda: v >= c.value, "below": lambda: v < c.value,  # noqa: B023
+              "at_most": lambda: v <= c.value}.get(c.op, lambda: True)  # noqa: B023
         try:
             if not ok():
                 return False
@@ -437,7 +448,7 @@ class _RuleChecker:
         self.aliases: dict[str, dict[str, F]] = {}
         self.used: list[str] = []          # parameters the condition being built refers to
 
-    def fail(self, problem: str, *where) -> None:
+    def fail(self, problem: str, *where) -> NoReturn:
         line = self.doc.line_of(["rules", self.index, *where])
         raise RulebookError(problem, path=self.doc.path, line=line, rule_id=self.raw["id"])
 
@@ -656,8 +667,8 @@ class _RuleChecker:
         missing = sorted(set(declared) - set(d["fields"]))
         extra = sorted(set(d["fields"]) - set(declared))
         if missing or extra:
-            self.fail(f"derives {d['fact']}: " + (f"missing fields {missing}" if missing else f"unknown fields {extra}"),
-                      "derives", "fields")
+            self.fail(f"derives {d['fact']}: "
+                      + (f"missing fields {missing}" if missing else f"unknown fields {extra}"), "derives", "fields")
         values = []
         for name, v in d["fields"].items():
             v = self.value_or_ref(v, "derives", "fields", name)

@@ -19,8 +19,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from ..common.errors import RouteError, UsageError
-from ..history.times import Clock, iso, parse_time, resolve_time
 from ..common.yamlfile import read_yaml, validate
+from ..history.times import Clock, iso, parse_time, resolve_time
 
 READING_SUFFIXES = (".wav", ".csv", ".npy", ".npz", ".mat", ".uff", ".unv")
 
@@ -38,11 +38,14 @@ class Task:
 
     @property
     def name(self) -> str:
+        """The name of the task's first file, as summaries show it."""
         return Path(self.files[0]).name
 
 
 @dataclass(frozen=True)
 class Route:
+    """A route as read from its file or a folder and plant file: its tasks, its clock, and the
+    files of the folder that no pattern maps."""
     name: str
     file: str | None
     tasks: tuple[Task, ...]
@@ -94,7 +97,8 @@ def _time(stated, clock: Clock | None, where: list, doc, path: str) -> str | Non
         return None
     field = ".".join(map(str, where))
     try:
-        return iso(resolve_time(stated, clock, what=field))
+        when = resolve_time(stated, clock, what=field)
+        return iso(when) if when is not None else None
     except UsageError as exc:
         raise RouteError(exc.problem, path=path, line=doc.line_of(where)) from None
 
@@ -154,7 +158,8 @@ def load_folder(folder, plant_file) -> Route:
         raise RouteError("no such folder of readings", path=str(folder))
     base = Path(_absolute(Path(plant_file).parent))
     files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and os.path.isfile(p))
-    tasks, taken = [], {}
+    tasks: list[Task] = []
+    taken: dict[Path, str] = {}
     for m, entry in enumerate(doc.data["machines"]):
         _check_path(entry["file"], ["machines", m, "file"], doc, plant_file)
         machine = _absolute(base / entry["file"])
@@ -171,5 +176,5 @@ def load_folder(folder, plant_file) -> Route:
     if not tasks:
         raise RouteError("no reading file in the folder matches the plant file's patterns", path=str(folder))
     unmatched = tuple(_absolute(p) for p in files if p not in taken)
-    return Route(doc.data.get("plant", folder.name), plant_file, tuple(tasks), _clock(doc.data.get("clock"), plant_file),
-                 unmatched)
+    return Route(doc.data.get("plant", folder.name), plant_file, tuple(tasks),
+                 _clock(doc.data.get("clock"), plant_file), unmatched)

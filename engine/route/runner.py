@@ -21,7 +21,7 @@ from pathlib import Path
 
 from ..history.record import content_hash, reading_key, rulebooks_hash
 from ..history.store import Store
-from .files import Route, Task, route_inputs
+from .files import Route, route_inputs
 from .work import diagnose_task
 
 IN_FLIGHT_PER_WORKER = 4
@@ -30,6 +30,7 @@ CONNECT_TIMEOUT_S = 10
 
 @dataclass
 class RouteOutcome:
+    """What a route run did: which tasks were diagnosed, skipped as stored, or failed, and why."""
     route: Route
     route_id: int
     hashes: dict[int, str]                      # task index -> the key of its diagnosis (``reading_key``)
@@ -42,6 +43,7 @@ class RouteOutcome:
 
 
 def slug(text: str) -> str:
+    """``text`` as a safe file-name part (letters, digits, '.', '_' and '-'; never empty)."""
     return re.sub(r"[^A-Za-z0-9._-]+", "-", text).strip("-").lower() or "machine"
 
 

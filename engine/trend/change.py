@@ -25,11 +25,13 @@ def baseline_count(n: int) -> int:
 
 
 def baseline(values: np.ndarray) -> float:
+    """The machine's own baseline: the median of the first readings of a series."""
     return float(np.median(values[:baseline_count(len(values))]))
 
 
 @dataclass(frozen=True)
 class Change:
+    """A series' change from its baseline to its latest reading, and its rate per month."""
     baseline: float
     latest: float
     change: float             # latest - baseline, in the indicator's unit
@@ -51,6 +53,8 @@ def change_of(s: Series, since: int = 0) -> Change:
 
 @dataclass(frozen=True)
 class IsoChange:
+    """The ISO 20816-3 change criterion on velocity: a change of more than 25 % of the B/C
+    boundary is significant, even within zone B."""
     criterion_mm_s: float     # 25 % of the B/C boundary
     change_mm_s: float
     significant: bool

@@ -11,7 +11,7 @@ NO_PROJECTION_DAYS = -1.0
 
 def trend_facts(doc: dict) -> list[dict]:
     """One ``trend`` fact per point and indicator of a trend document (vocabulary kind ``trend``)."""
-    facts = []
+    facts: list[dict] = []
     for p in doc["points"]:
         iso = p.get("iso_change") or {}
         projected = {x["indicator"]: x for x in p["projections"]}

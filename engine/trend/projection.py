@@ -38,6 +38,7 @@ MIN_READINGS_FOR_ONSET = 8     # fewer: no baseline to tell a change from, fit t
 
 @dataclass(frozen=True)
 class Projection:
+    """When a series is projected to reach a limit, with an interval and the method, or why not."""
     limit: float
     limit_label: str
     days: float | None            # from the last reading to the limit (None: no projection)
@@ -51,6 +52,7 @@ class Projection:
 
     @property
     def projected(self) -> bool:
+        """Whether there is a projection (``days`` known)."""
         return self.days is not None
 
 

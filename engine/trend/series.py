@@ -14,6 +14,7 @@ DAYS_PER_MONTH = 365.25 / 12
 
 @dataclass(frozen=True)
 class Series:
+    """One indicator of one point of a machine over time, oldest first, with the stored readings' ids."""
     machine: str
     point: str
     indicator: str
@@ -23,6 +24,7 @@ class Series:
 
     @property
     def label(self) -> str:
+        """The indicator's name as reports show it."""
         return INDICATORS.get(self.indicator, (self.indicator, ""))[0]
 
     @property

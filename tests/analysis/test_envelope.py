@@ -4,8 +4,7 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from engine.analysis import (analytic_band, fast_kurtogram, peak_near, spectral_kurtosis,
-                             squared_envelope_spectrum)
+from engine.analysis import analytic_band, fast_kurtogram, peak_near, spectral_kurtosis, squared_envelope_spectrum
 
 from support import tone
 

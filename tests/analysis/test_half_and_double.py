@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-import numpy as np
 import pytest
 
 from engine.analysis import amplitude_spectrum
 from engine.analysis.speed import HALF_WITHOUT_1X, half_and_double
+
 from support import tone
 
 FS, N = 2560.0, 1 << 15       # 12.8 s: 0.078 Hz lines

@@ -2,13 +2,24 @@
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 from scipy import signal
 
-from engine.analysis import (amplitude_spectrum, averaged_spectrum, band_rms, find_peaks,
-                             integrate, interpolate_line, overall_levels, peak_near,
-                             refine_running_speed, waveform_statistics, window_factors)
+from engine.analysis import (
+    amplitude_spectrum,
+    averaged_spectrum,
+    band_rms,
+    find_peaks,
+    integrate,
+    interpolate_line,
+    overall_levels,
+    peak_near,
+    refine_running_speed,
+    waveform_statistics,
+    window_factors,
+)
 from engine.common.units import STANDARD_GRAVITY_M_S2
 
 from support import tone

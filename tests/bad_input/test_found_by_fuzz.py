@@ -11,6 +11,7 @@ import pytest
 import yaml
 
 from engine.cli import main
+
 from support import CASES
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"

@@ -13,7 +13,6 @@ takes seconds; ``python -m bench.fuzz`` is the long run.
 from __future__ import annotations
 
 import contextlib
-
 import math
 import random
 import shutil
@@ -23,20 +22,33 @@ from pathlib import Path
 import numpy as np
 import pytest
 import yaml
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
+from bench import fuzz
+from bench.hostile import (
+    MACHINES,
+    ODD_VALUES,
+    READING_KINDS,
+    STORE_DAMAGE,
+    SUFFIX,
+    TOKENS,
+    dump_yaml,
+    mutate_bytes,
+    mutate_tree,
+    strict_json,
+    write_array,
+    write_seed,
+)
 from engine.common.errors import MachineError, ReadingError, RulebookError, TellwaveError
 from engine.common.jsonout import dumps
-from engine.machine.kinematics import forcing_frequencies
 from engine.machine import load_machine
+from engine.machine.kinematics import forcing_frequencies
 from engine.pipeline import diagnose
 from engine.readings import load_reading, sidecar_path
 from engine.reasoning import Reasoner, load_rulebook
 
-from bench import fuzz
-from bench.hostile import (MACHINES, ODD_VALUES, READING_KINDS, STORE_DAMAGE, SUFFIX, TOKENS, dump_yaml, mutate_bytes,
-                           mutate_tree, strict_json, write_array, write_seed)
 from support import CASES
 
 RW2 = CASES / "machines/rw2-raw-water-pump.yaml"
@@ -268,8 +280,8 @@ def test_store_template_is_a_valid_store_with_two_readings(cache):
 def test_valid_seed_survey_and_plant_run_to_the_end(tmp_path):
     """The route and plant seeds are valid: without mutation each runs with exit 0, so the fuzz's
     mutations, not the seeds, are what the tool refuses."""
-    from engine.cli import main
     from bench.hostile import plant_tree, route_tree
+    from engine.cli import main
     route, _ = route_tree(tmp_path / "r", readings=1)
     rc, out, err, tb = fuzz.run_in_process(main, ["route", str(route), "--out", str(tmp_path / "o1"), "--store",
                                                   str(tmp_path / "s.sqlite"), "--workers", "1", "--quiet"])
@@ -391,7 +403,8 @@ def test_site_rule_hazards_include_66_and_250_rules():
         hazard, doc = site_rules(random.Random(k))
         if hazard == "many rules":
             sizes.add(len(doc["rules"]))
-            assert len({r["needs"][0]["where"]["amplitude_mm_s"]["at_least"] for r in doc["rules"]}) == len(doc["rules"])
+            bounds = {r["needs"][0]["where"]["amplitude_mm_s"]["at_least"] for r in doc["rules"]}
+            assert len(bounds) == len(doc["rules"])
     assert {66, 250} <= sizes
 
 

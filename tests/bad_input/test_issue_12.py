@@ -17,28 +17,29 @@ import time
 import numpy as np
 import pytest
 import yaml
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.io import savemat
 
-from engine.common import outfile
+from bench.hostile import seed_signal, strict_json
 from engine.cli import main
+from engine.common import outfile
 from engine.common.errors import MachineError, OutputError, ReadingError, RulebookError
 from engine.common.jsonout import dumps
-from engine.machine.kinematics import forcing_frequencies
+from engine.common.yamlfile import MAX_BYTES
 from engine.machine import load_machine
+from engine.machine.kinematics import forcing_frequencies
 from engine.readings import MIN_SAMPLES, load_reading, sidecar_path
 from engine.reasoning import load_rulebook
 from engine.report import render, write_atomically
-from engine.common.yamlfile import MAX_BYTES
 
-from bench.hostile import seed_signal, strict_json
 from support import CASES, tone
 
 RW2 = CASES / "machines/rw2-raw-water-pump.yaml"
 FS = 8192.0
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def shared_reasoner():
     from engine.reasoning import Reasoner
 
@@ -454,7 +455,8 @@ def hostile_document(tmp_path):
     machine.write_text(RW2.read_text().replace("machine: RW-2 raw water pump",
                                                "machine: " + json.dumps(HOSTILE_NAME)))
     reading = npz_reading(tmp_path / "r.npz", seed_signal())
-    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [{"name": "a", "label": "P1 | H `x` \x1b[2J", "point": "P1H"}]}))
+    channel = {"name": "a", "label": "P1 | H `x` \x1b[2J", "point": "P1H"}
+    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [channel]}))
     return machine, reading
 
 

@@ -33,7 +33,7 @@ RECORDS = ["cwru-130", "cwru-105"]
 NEW_GATES = {"clipping", "implausible_level", "implausible_spectrum", "out_of_range"}
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def reasoner():
     return Reasoner(load_rulebook())
 

@@ -10,12 +10,13 @@ reader is fuzzed with any YAML scalar.
 from __future__ import annotations
 
 import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from engine.common.errors import MachineError, ReadingError, RouteError
+from engine.common.yamlfile import MAX_INTEGER, read_yaml
 from engine.machine import load_machine
 from engine.readings import load_reading
-from engine.common.yamlfile import MAX_INTEGER, read_yaml
 
 
 def _yaml(tmp_path, text: str):
@@ -69,7 +70,8 @@ plain_scalars = st.one_of(
 )
 
 
-@settings(max_examples=400, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(max_examples=400, deadline=None, derandomize=True,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(scalar=plain_scalars, tag=st.sampled_from(["", "!!int ", "!!float ", "!!str "]))
 def test_any_scalar_reads_or_is_a_one_line_error(tmp_path, scalar, tag):
     path = _yaml(tmp_path, f"value: {tag}{scalar}\n")

@@ -12,6 +12,7 @@ from engine.cli import main
 from engine.history.store import Store
 from engine.machine import load_machine
 from engine.simulation import simulate, write_simulation
+
 from support import CASES
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"
@@ -106,7 +107,6 @@ def test_plan_with_a_default_html_name_over_an_input(tmp_path, capsys):
 
 
 def test_synth_never_writes_over_the_store_or_machine(stored, capsys):
-    store = stored / "h.sqlite"
     _refused(["synth", stored / "m.yaml", "--duration", "0.1", "-o", stored / "m.yaml"], [stored / "m.yaml"], capsys)
 
 

@@ -7,17 +7,18 @@ import functools
 
 import pytest
 
-from engine.pipeline.cases import load_case, simulation_of
 from engine.machine import load_machine
 from engine.pipeline import diagnose
+from engine.pipeline.cases import load_case, simulation_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.simulation import as_reading
+
 from support import CASES
 
 BEARING_AT_MOST = 0.4
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _reasoner():
     return Reasoner(load_rulebook())
 

@@ -12,14 +12,15 @@ import pytest
 
 from engine.advice import load_advice, zone_of, zone_scale
 from engine.cli import main
+from engine.common.yamlfile import load_schema
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
 from engine.simulation import as_reading, simulate, write_simulation
-from engine.common.yamlfile import load_schema
 
 from support import ROOT, HtmlChecker
+
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
 CT1 = ROOT / "cases/machines/ct1-cooling-tower-fan.yaml"
 

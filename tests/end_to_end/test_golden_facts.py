@@ -25,9 +25,9 @@ ABS_TOL = 1e-9
 
 
 def _facts_of(name: str) -> list[dict]:
-    from engine.pipeline.cases import load_case, reading_of
     from engine.evidence import extract_evidence
     from engine.machine import load_machine
+    from engine.pipeline.cases import load_case, reading_of
 
     case = load_case(HERE.parent.parent / "cases" / "demo" / f"{name}.case.yaml")
     machine = load_machine(case.machine)

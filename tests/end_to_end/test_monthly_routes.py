@@ -11,6 +11,7 @@ import pytest
 
 from engine.cli import main
 from engine.common.yamlfile import load_schema
+
 from support import CASES
 
 PUMP = "RW-2 raw water pump"
@@ -92,12 +93,12 @@ def test_a_single_diagnosis_with_the_store_shows_its_trend(surveyed, capsys):
 
 @pytest.mark.parametrize("which", ["summary", "trend"])
 def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, which):
-    from support import HtmlChecker
-
     from engine.history.store import Store
     from engine.route import render_summary
     from engine.trend import trend_document
     from engine.trend.render import render_trend
+
+    from support import HtmlChecker
 
     root, store = surveyed
     if which == "summary":

@@ -11,6 +11,7 @@ import yaml
 from engine.cli import main
 from engine.machine import load_machine
 from engine.simulation import as_reading, simulate, write_simulation
+
 from support import ROOT
 
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"

@@ -8,7 +8,6 @@ own (../shared/datasets/index.csv).
 
 from __future__ import annotations
 
-
 import pytest
 
 from engine.machine import load_machine
@@ -17,6 +16,7 @@ from engine.readings import load_reading
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 
 from support import ROOT
+
 DATA = ROOT / "tests/data"
 CWRU = ROOT / "tests/machines/cwru-motor.yaml"
 MFPT = ROOT / "tests/machines/mfpt-rig.yaml"

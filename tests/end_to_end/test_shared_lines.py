@@ -24,8 +24,8 @@ from __future__ import annotations
 
 import pytest
 
-from engine.machine.kinematics import bearing_multiples
 from engine.machine import load_machine
+from engine.machine.kinematics import bearing_multiples
 from engine.pipeline import diagnose
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate

@@ -23,12 +23,12 @@ import numpy as np
 import pytest
 
 from engine.cli import main
+from engine.common.yamlfile import load_schema
 from engine.evidence.vocabulary import level_fields
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import Simulation, as_reading, simulate
-from engine.common.yamlfile import load_schema
 
 from support import CASES, TEST_DATA, TEST_MACHINES, HtmlChecker
 
@@ -87,7 +87,8 @@ def test_a_wrong_scale_keeps_the_call_and_loses_the_severity(tmp_path, capsys, u
     top = doc["hypotheses"][0]
     assert (top["fault"], top["component"]) == (before["fault"], before["component"]) == LABELS[record]
     assert top["certainty"] >= CONFIDENT
-    was_confident = {(h["fault"], h["component"]) for h in unscaled[record]["hypotheses"] if h["certainty"] >= CONFIDENT}
+    was_confident = {(h["fault"], h["component"]) for h in unscaled[record]["hypotheses"]
+                     if h["certainty"] >= CONFIDENT}
     assert {(h["fault"], h["component"]) for h in doc["hypotheses"] if h["certainty"] >= CONFIDENT} <= was_confident
 
     # severity unknown, said at the top, with what to check; no zone and no level anywhere

@@ -12,8 +12,9 @@ import pytest
 
 from engine.analysis.peaks import Peak
 from engine.evidence.envelope import _defects, _owners
-from engine.machine.kinematics import rates_at
 from engine.machine import load_machine
+from engine.machine.kinematics import rates_at
+
 from support import ROOT
 
 CWRU = load_machine(ROOT / "tests/machines/cwru-motor.yaml")

@@ -4,8 +4,10 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
+from bench.features import FEATURES
 from engine.cli import main
 from engine.evidence import FACTS, extract_evidence, fields_of
 from engine.evidence.signs import SIGNS
@@ -14,8 +16,6 @@ from engine.readings import load_reading
 from engine.simulation import as_reading, simulate
 
 from support import CASES, SHARED_DATASETS, TEST_MACHINES
-
-from bench.features import FEATURES
 
 MACHINES = {k: load_machine(CASES / "machines" / f) for k, f in
             (("rw2", "rw2-raw-water-pump.yaml"), ("ct1", "ct1-cooling-tower-fan.yaml"),
@@ -50,7 +50,8 @@ def test_every_fact_matches_the_vocabulary(samples):
                 if name == SIGNS:
                     continue
                 kind = spec[name][0]
-                assert isinstance(value, TYPES[kind]) and not (kind != "boolean" and isinstance(value, bool)), (name, value)
+                assert isinstance(value, TYPES[kind]), (name, value)
+                assert not (kind != "boolean" and isinstance(value, bool)), (name, value)
                 if isinstance(value, float):
                     assert math.isfinite(value), (fact["kind"], name)
 

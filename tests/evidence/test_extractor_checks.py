@@ -17,6 +17,7 @@ from engine.evidence import EXTRACTORS, FACTS, extract_evidence, fields_of
 from engine.machine import load_machine
 from engine.readings import Channel, Reading
 from engine.simulation import as_reading, simulate
+
 from support import CASES
 
 RW2 = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")

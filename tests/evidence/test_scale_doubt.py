@@ -15,13 +15,13 @@ import functools
 import numpy as np
 import pytest
 
+from engine.common.units import LEVEL_UNITS, STANDARD_GRAVITY_M_S2
 from engine.evidence import extract_evidence
-from engine.evidence.vocabulary import FACTS, SCALE_FREE_UNITS, fields_of, level_fields
+from engine.evidence.vocabulary import FACTS, SCALE_FREE_UNITS, level_fields
 from engine.machine import load_machine
 from engine.readings import Channel, Reading
 from engine.readings.quality import check_channel, same_scale
 from engine.simulation import as_reading, simulate
-from engine.common.units import LEVEL_UNITS, STANDARD_GRAVITY_M_S2
 
 from support import CASES, TEST_DATA, TEST_MACHINES
 
@@ -42,7 +42,7 @@ def test_level_fields_are_the_ones_named_by_a_level_unit():
     assert set(level_fields("overall")) == {"velocity_rms_mm_s", "accel_rms_g", "accel_peak_g"}
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _evidence(record: str, gain: float) -> tuple[dict, ...]:
     with np.load(TEST_DATA / f"{record}.npz") as a:
         channels = tuple(Channel(name, a[name].astype(float) * STANDARD_GRAVITY_M_S2 * gain, "acceleration", "g",

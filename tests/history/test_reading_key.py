@@ -10,6 +10,7 @@ from engine.history.record import content_hash
 from engine.history.store import Store
 from engine.machine import load_machine
 from engine.simulation import simulate, write_simulation
+
 from support import CASES
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"

@@ -3,7 +3,6 @@ two writers at once, deletion."""
 
 from __future__ import annotations
 
-import sqlite3
 import subprocess
 import sys
 
@@ -133,6 +132,7 @@ def test_a_diagnosis_becomes_a_record_with_its_key_indicators(tmp_path):
     from engine.readings import load_reading
     from engine.reasoning import Reasoner, load_rulebook
     from engine.simulation import simulate, write_simulation
+
     from support import CASES
 
     machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")
@@ -170,6 +170,7 @@ def _gained_record(gain: float, when: str, n: int):
     from engine.pipeline import diagnose, document_of
     from engine.reasoning import Reasoner, load_rulebook
     from engine.simulation import Simulation, as_reading, simulate
+
     from support import CASES
 
     machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")

@@ -9,18 +9,18 @@ import os
 import re
 import shutil
 import sqlite3
-import subprocess
 import sys
 import time
 
 import numpy as np
 import pytest
+from test_store import record
 
 from engine.cli import main
 from engine.common.errors import StoreError
 from engine.history.store import ID_MAX, SCHEMA_VERSION, Store
+
 from support import ROOT
-from test_store import record
 
 PUMP = "RW-2 raw water pump"
 
@@ -136,8 +136,8 @@ def test_a_damaged_store_is_refused_and_left_as_it_was(tmp_path, capsys, sound_s
     assert problem.split("(")[0] in _one_line(capsys)
     assert main(["trend", PUMP, "--store", str(path), "--format", "html", "-o", str(tmp_path / "t.html")]) == 8
     _one_line(capsys)
-    assert main(["route", str(one_reading_route), "--store", str(path), "--out", str(tmp_path / "out"), "--workers", "1",
-                 "--quiet"]) == 8
+    assert main(["route", str(one_reading_route), "--store", str(path), "--out", str(tmp_path / "out"),
+                 "--workers", "1", "--quiet"]) == 8
     _one_line(capsys)
     assert path.read_bytes() == before                  # route wrote nothing into it
     assert not (tmp_path / "out").exists()

@@ -3,10 +3,11 @@
 import math
 
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
-from engine.machine.kinematics import bearing_multiples, forcing_frequencies
 from engine.machine import Bearing, load_machine
+from engine.machine.kinematics import bearing_multiples, forcing_frequencies
 
 from support import CASES, TEST_MACHINES
 

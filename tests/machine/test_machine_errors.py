@@ -14,7 +14,8 @@ BAD_FILES = [
     pytest.param("machine: m\nshafts: [\n", 3, "not valid YAML", id="yaml-syntax"),
     pytest.param("- just\n- a list\n", 1, "expected a mapping", id="not-a-mapping"),
     pytest.param("shafts:\n  - {id: a, speed_rpm: 10}\n", 1, "'machine' is required", id="missing-name"),
-    pytest.param(GOOD_HEAD + "    speed_rmp: 3\n", 5, "speed_rmp: unknown field; did you mean 'speed_rpm'", id="unknown-field"),
+    pytest.param(GOOD_HEAD + "    speed_rmp: 3\n", 5, "speed_rmp: unknown field; did you mean 'speed_rpm'",
+                 id="unknown-field"),
     pytest.param("machine: m\nshafts:\n  - id: motor\n    speed_rpm: fast\n", 4,
                  "shafts.0.speed_rpm: expected number", id="wrong-type"),
     pytest.param(GOOD_HEAD + "bearings:\n  - id: b1\n    shaft: pump\n    rolling_elements: 8\n"
@@ -77,5 +78,6 @@ def test_shaft_without_speed_lists_the_alternatives(tmp_path):
 def test_shaft_with_two_speeds(tmp_path):
     path = tmp_path / "m.yaml"
     path.write_text("machine: m\nshafts:\n  - {id: motor, speed_rpm: 10, speed_hz: 3}\n")
-    with pytest.raises(MachineError, match="give only one of speed_rpm or speed_hz|give only one of speed_rpm, speed_hz"):
+    with pytest.raises(MachineError,
+                       match="give only one of speed_rpm or speed_hz|give only one of speed_rpm, speed_hz"):
         load_machine(path)

@@ -7,8 +7,9 @@ import textwrap
 import pytest
 
 from engine.common.errors import MachineError
-from engine.machine.kinematics import MAX_LINE_FED_SLIP, speed_limits, synchronous_hz
 from engine.machine import load_machine
+from engine.machine.kinematics import MAX_LINE_FED_SLIP, speed_limits, synchronous_hz
+
 from support import CASES, TEST_MACHINES
 
 BELTED = """\

@@ -18,6 +18,7 @@ from engine.planner import load_policy
 from engine.planner.needs import requirements
 from engine.planner.propose import propose
 from engine.simulation import simulate, write_simulation
+
 from support import CASES
 
 MACHINES = sorted((CASES / "machines").glob("*.yaml"))

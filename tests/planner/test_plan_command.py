@@ -120,12 +120,14 @@ BAD_INPUT = [
     ("missing reading", lambda p: ["plan", str(RW2), "--reading", str(p / "gone.wav")], 4, "gone.wav"),
     ("reading and settings", lambda p: ["plan", str(RW2), "--reading", str(_reading(p)), "--fmax", "500"], 2,
      "either --reading"),
-    ("negative Fmax", lambda p: ["plan", str(RW2), "--fmax", "-5", "--lines", "400"], 2, "--fmax: Fmax in Hz must be above 0"),
+    ("negative Fmax", lambda p: ["plan", str(RW2), "--fmax", "-5", "--lines", "400"], 2,
+     "--fmax: Fmax in Hz must be above 0"),
     ("lines without Fmax", lambda p: ["plan", str(RW2), "--lines", "400"], 2, "--fmax"),
     ("unknown point", lambda p: ["plan", str(RW2), "--point", "X9"], 3, "X9"),
     ("bad format", lambda p: ["plan", str(RW2), "--format", "pdf"], 2, "pdf"),
     # a command-line value is the command line's fault (exit 2, naming the option), not the machine file's
-    ("bad speed", lambda p: ["plan", str(RW2), "--rpm", "-3", "--no-proof"], 2, "--rpm: the speed in rpm must be at least"),
+    ("bad speed", lambda p: ["plan", str(RW2), "--rpm", "-3", "--no-proof"], 2,
+     "--rpm: the speed in rpm must be at least"),
 ]
 
 

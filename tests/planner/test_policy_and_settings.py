@@ -4,7 +4,9 @@ import math
 
 import pytest
 import yaml
-from hypothesis import given, settings as hyp_settings, strategies as st
+from hypothesis import given
+from hypothesis import settings as hyp_settings
+from hypothesis import strategies as st
 
 from engine.cli import main
 from engine.common.errors import RulebookError, UsageError

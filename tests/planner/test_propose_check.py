@@ -4,10 +4,23 @@ import math
 
 import pytest
 
-from engine.machine.kinematics import bearing_multiples
 from engine.machine import load_machine
-from engine.planner import (CAN, CANNOT, MAY_MISS, check, given_settings, limitations_of_reading, load_policy,
-                            propose, purposes_at, reading_settings, reading_verdicts, targets_at, verdicts)
+from engine.machine.kinematics import bearing_multiples
+from engine.planner import (
+    CAN,
+    CANNOT,
+    MAY_MISS,
+    check,
+    given_settings,
+    limitations_of_reading,
+    load_policy,
+    propose,
+    purposes_at,
+    reading_settings,
+    reading_verdicts,
+    targets_at,
+    verdicts,
+)
 
 from support import CASES, TEST_MACHINES
 

@@ -7,6 +7,7 @@ from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
 from engine.simulation import as_reading, simulate
+
 from support import CASES
 
 CT1 = CASES / "machines" / "ct1-cooling-tower-fan.yaml"

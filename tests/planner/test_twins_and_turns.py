@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
-from engine.machine.kinematics import bearing_multiples
 from engine.machine import load_machine
+from engine.machine.kinematics import bearing_multiples
 from engine.planner.check import CANNOT, check, verdicts
 from engine.planner.policy import load_policy
 from engine.planner.settings import given_settings
 from engine.planner.targets import purposes_at, targets_at
+
 from support import CASES
 
 POLICY = load_policy()

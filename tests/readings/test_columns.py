@@ -8,6 +8,7 @@ import yaml
 
 from engine.common.errors import ReadingError
 from engine.readings import load_reading
+
 from support import SHARED_DATASETS
 
 

@@ -8,6 +8,7 @@ import pytest
 from engine.common.errors import ReadingError
 from engine.machine import load_machine
 from engine.readings import Channel, Reading, check_points
+
 from support import CASES
 
 BW1 = load_machine(CASES / "machines/bw1-backwash-blower.yaml")

@@ -23,6 +23,7 @@ from engine.planner import load_policy
 from engine.planner.settings import given_settings
 from engine.readings import load_reading, sidecar_path
 from engine.readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
+
 from support import CASES, ROOT, tone
 
 FS = 4096.0
@@ -89,7 +90,8 @@ def test_every_format_checks_the_limit(tmp_path, fmt):
         scipy.io.savemat(path, {"a": x})
     sidecar_path(path).write_text(yaml.safe_dump({"sample_rate_hz": FS, "unit": "g", "scale": 1.0}))
     assert load_reading(path).n_samples == 2048
-    with pytest.raises(ReadingError, match=r"(holds|declares|at least) \d+ samples per channel; tellwave reads at most 1000"):
+    with pytest.raises(ReadingError,
+                       match=r"(holds|declares|at least) \d+ samples per channel; tellwave reads at most 1000"):
         load_reading(path, max_samples=1000)
 
 

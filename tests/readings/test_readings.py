@@ -6,11 +6,12 @@ import numpy as np
 import pytest
 import pyuff
 import yaml
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from scipy.io import wavfile
 
-from engine.common import units
 from engine.cli import main
+from engine.common import units
 from engine.common.errors import ReadingError, UsageError
 from engine.readings import check_resolution, load_reading, sidecar_path
 

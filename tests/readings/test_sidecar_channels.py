@@ -15,6 +15,7 @@ from scipy.io import wavfile
 from engine.cli import main
 from engine.common.errors import ReadingError
 from engine.readings import load_reading, sidecar_path
+
 from support import tone
 
 FS = 4096.0

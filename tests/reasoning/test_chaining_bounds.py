@@ -14,6 +14,7 @@ from engine.common.errors import ReasoningError, RulebookError
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning import engine as reasoning_engine
 from engine.reasoning import rulebook as rulebook_module
+
 from support import ROOT
 
 # The reproducer of the report: site.seed derives loopf from the machine; site.loop needs loopf and

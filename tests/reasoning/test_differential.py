@@ -10,6 +10,7 @@ from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate
+
 from support import CASES
 
 RW2 = CASES / "machines" / "rw2-raw-water-pump.yaml"

@@ -15,6 +15,7 @@ from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning.compile import closing_group, compile_rule
 from engine.reasoning.engine import QuietHost
 from engine.reasoning.rulebook import Ref
+
 from support import ROOT, tone_fact
 
 EITHER = {"$or": [{"direction": "horizontal"}, {"direction": "vertical"}]}
@@ -78,9 +79,11 @@ from durable.engine import Host
 class QuietHost(Host):     # as engine.reasoning.engine's, without importing the package under valgrind
     def _run(self):
         pass
-tests = [{"kind": "tone"}, {"$neq": {"ch": {"a": "ch"}}}] + ([{"$or": [{"kind": "tone"}]}] if sys.argv[1] == "closed" else [])
+tests = ([{"kind": "tone"}, {"$neq": {"ch": {"a": "ch"}}}]
+         + ([{"$or": [{"kind": "tone"}]}] if sys.argv[1] == "closed" else []))
 host, fired = QuietHost(), []
-host.set_rulesets({"t": {"r": {"all": [{"a": {"kind": "tone"}}, {"b": {"$and": tests}}], "run": lambda c: fired.append(1)}}})
+host.set_rulesets({"t": {"r": {"all": [{"a": {"kind": "tone"}}, {"b": {"$and": tests}}],
+                              "run": lambda c: fired.append(1)}}})
 for i in range(4):
     try:
         host.assert_fact("t", {"kind": "tone", "id": str(i), "ch": "AB"[i % 2], "sid": "s"})

@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 from engine.evidence import FACTS, extract_evidence, fields_of
 from engine.machine import load_machine
 from engine.readings import load_reading
+
 from support import TEST_DATA, TEST_MACHINES
 
 SCRIPT = """

@@ -11,7 +11,8 @@ from __future__ import annotations
 import textwrap
 
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from engine.common.errors import RulebookError
 from engine.reasoning import Reasoner, load_rulebook
@@ -79,7 +80,8 @@ def test_opposing_firings_are_combined_but_never_shared():
 
 
 claims = st.lists(st.tuples(st.sampled_from("ABCD"), st.sampled_from(["r1", "r2"]), st.floats(0.05, 0.95),
-                            st.dictionaries(st.sampled_from([f"ch|spectrum|{i}" for i in range(1, 6)] + ["ch|waveform"]),
+                            st.dictionaries(st.sampled_from([f"ch|spectrum|{i}" for i in range(1, 6)]
+                                                            + ["ch|waveform"]),
                                             st.floats(0.1, 1.0), max_size=4)),
                   min_size=1, max_size=8)
 
@@ -89,7 +91,7 @@ claims = st.lists(st.tuples(st.sampled_from("ABCD"), st.sampled_from(["r1", "r2"
 def test_sharing_never_adds_certainty_and_ignores_the_order_of_claims(raw, rnd):
     made = [Claim(h, r, c, s) for h, r, c, s in raw]
     result = share(made)
-    for claim, kept in zip(made, result.kept):
+    for kept in result.kept:
         assert 0.0 <= kept <= 1.0 + 1e-12
     alone = share([])
     assert alone.certainty == {}

@@ -13,6 +13,7 @@ from bench.reasoning_speed import GENERATED_FAULT, generated_site_rules, generat
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning import compile as compiler
 from engine.reasoning.engine import QuietHost
+
 from support import ROOT
 
 GOLDEN = ROOT / "tests/end_to_end/golden"
@@ -45,7 +46,8 @@ def test_the_engine_takes_at_most_64_patterns_of_one_kind_that_a_fact_passes(n, 
 
 @pytest.mark.parametrize("n, fails", [(256, False), (257, True)])
 def test_the_engine_links_at_most_256_rules_to_one_shared_first_test(n, fails):
-    rules = {f"r{i}": {"all": [{"p": {"kind": "phase"}}, {"a": {"kind": "k"}}, {"b": {"$and": [{"kind": "k2"}, {"v": float(i)}]}}],
+    rules = {f"r{i}": {"all": [{"p": {"kind": "phase"}}, {"a": {"kind": "k"}},
+                               {"b": {"$and": [{"kind": "k2"}, {"v": float(i)}]}}],
                        "run": lambda c: None} for i in range(n)}
     error = _engine_accepts(rules)
     assert (error is not None and "108" in error) == fails, "the engine's table changed: revisit compile's budgets"

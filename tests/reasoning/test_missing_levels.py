@@ -18,6 +18,7 @@ import pytest
 from engine.evidence.vocabulary import level_fields
 from engine.reasoning import Reasoner, load_rulebook
 from engine.reasoning.rulebook import Ref
+
 from support import tone_fact
 
 RULES = """

@@ -250,7 +250,8 @@ def test_count_pattern_counts_per_group(reasoner):
 
 def test_same_rule_counts_once_per_hypothesis(reasoner):
     # three channels satisfy the same rule: its strongest firing counts, the others are noted
-    facts = [tone(1, amplitude=3.0, channel="A"), tone(2, amplitude=5.0, channel="B"), tone(3, amplitude=4.0, channel="C")]
+    facts = [tone(1, amplitude=3.0, channel="A"), tone(2, amplitude=5.0, channel="B"),
+             tone(3, amplitude=4.0, channel="C")]
     wob = hypothesis_of(reasoner.reason(facts), "wobble", "pump")
     direct = [f for f in wob.support if f.rule_id == "t.wobble.tone"]
     assert len(direct) == 1 and direct[0].certainty == pytest.approx(0.6 * 0.75)
@@ -312,7 +313,8 @@ def test_isolation_over_1000_diagnoses(reasoner):
     # the durable-rules states (at most 1024 live per ruleset) are deleted after each diagnosis
     first = reasoner.reason([tone(1, amplitude=4.0)])
     for i in range(1000):
-        other = reasoner.reason([tone(i, component="fan", amplitude=1.0 + (i % 5))] if i % 2 else [subharmonics(i, shaft="fan")])
+        facts = [tone(i, component="fan", amplitude=1.0 + (i % 5))] if i % 2 else [subharmonics(i, shaft="fan")]
+        other = reasoner.reason(facts)
         assert all(h.component != "pump" for h in other.hypotheses)
     again = reasoner.reason([tone(1, amplitude=4.0)])
     assert again == first

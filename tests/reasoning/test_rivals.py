@@ -6,10 +6,11 @@ import pytest
 
 from engine.common.errors import UsageError
 from engine.evidence import extract_evidence
-from engine.machine.kinematics import pole_pass_hz
 from engine.machine import load_machine
+from engine.machine.kinematics import pole_pass_hz
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate
+
 from support import CASES, ROOT
 
 RW2 = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")

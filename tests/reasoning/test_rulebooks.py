@@ -6,11 +6,11 @@ import re
 
 import pytest
 
+from bench import confusion
 from engine.cli import main
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.reasoning.engine import engine_copy
 
-from bench import confusion
 from support import ROOT
 
 
@@ -148,7 +148,8 @@ def test_settings_rules_limit_or_withhold_by_what_the_reading_cannot_show(reason
     # a record of 0.45 s holds 2.5 turns of the fan (5.64 Hz): enough to analyse, too few to judge, withheld
     short = diagnose(as_reading(simulate(ct1, "healthy", None, 1, None, 12800.0, 0.45, 0, ["GINH"])), ct1, reasoner)
     assert short.reasoning.withheld
-    assert any(f.rule_id == "reading.settings.hardly-a-turn" for h in short.reasoning.reading_problems for f in h.support)
+    assert any(f.rule_id == "reading.settings.hardly-a-turn"
+               for h in short.reasoning.reading_problems for f in h.support)
 
 
 @pytest.mark.parametrize("first, second", [

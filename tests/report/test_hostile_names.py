@@ -32,6 +32,7 @@ import yaml
 from engine.cli import main
 from engine.machine import load_machine
 from engine.simulation import simulate, write_simulation
+
 from support import CASES
 
 HOSTILE = ["<script>alert(1)</script>", "<img src=x onerror=alert(1)>", "[x](javascript:alert(1))", "\n# heading",
@@ -102,7 +103,8 @@ def assert_clean(text: str, fmt: str, where: str) -> None:
     if fmt == "md":
         for raw in ("<script", "<img", "<!--", "[x](javascript:"):
             assert raw not in outside_code_spans(text), (where, raw)
-        assert not re.search(r"(?<!\\)\]\(\s*<?javascript:", outside_code_spans(text), re.I), where     # an unescaped ] opens a link
+        # an unescaped ] opens a link
+        assert not re.search(r"(?<!\\)\]\(\s*<?javascript:", outside_code_spans(text), re.I), where
     if fmt == "html":
         for raw in ("<script>alert", "<img src=x", "<!--"):
             assert raw not in text, (where, raw)

@@ -8,6 +8,7 @@ import yaml
 
 from engine.machine import load_machine
 from engine.simulation import simulate, write_simulation
+
 from support import CASES
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"

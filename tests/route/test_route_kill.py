@@ -10,11 +10,11 @@ import sys
 import time
 
 import pytest
-
 from routes import make_route
 
 from engine.history.store import Store
 from engine.route import load_route, run_route
+
 from support import ROOT
 
 N = 14

@@ -8,7 +8,6 @@ import json
 import shutil
 from pathlib import Path
 
-import pytest
 import yaml
 from routes import PUMP
 

@@ -18,7 +18,8 @@ from datetime import datetime
 from types import SimpleNamespace
 
 import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from routes import PUMP
 
 from engine.cli import main
@@ -104,7 +105,8 @@ def test_a_path_no_system_can_open_is_a_route_error(tmp_path, reading, field):
 
 def test_a_machine_path_with_nul_is_a_route_error(tmp_path):
     path = tmp_path / "route.yaml"
-    path.write_text(json.dumps({"machines": {"rw2": "m\u0000.yaml"}, "readings": [{"file": "a.wav", "machine": "rw2"}]}))
+    path.write_text(json.dumps({"machines": {"rw2": "m\u0000.yaml"},
+                                "readings": [{"file": "a.wav", "machine": "rw2"}]}))
     assert _route_error(path).problem.startswith("machines.rw2: the path contains a NUL")
     plant = tmp_path / "plant.yaml"
     plant.write_text(json.dumps({"machines": [{"file": "m\u0000.yaml", "readings": ["*.wav"]}]}))

@@ -9,8 +9,8 @@ import yaml
 from engine.analysis import amplitude_spectrum, find_peaks
 from engine.cli import main
 from engine.evidence import extract_evidence
-from engine.machine.kinematics import forcing_frequencies
 from engine.machine import load_machine
+from engine.machine.kinematics import forcing_frequencies
 from engine.readings import load_reading
 from engine.simulation import as_reading, simulate, write_simulation
 
@@ -31,7 +31,8 @@ def ct1():
 
 
 def _freq(machine, name, component, rpm=None):
-    return next(f.frequency_hz for f in forcing_frequencies(machine, rpm) if f.name == name and f.component == component)
+    return next(f.frequency_hz for f in forcing_frequencies(machine, rpm)
+                if f.name == name and f.component == component)
 
 
 @pytest.mark.parametrize("rpm", [1100.0, 1486.0])
@@ -137,7 +138,8 @@ def test_written_simulation_loads_back_with_truth(tmp_path, rw2):
     reading = load_reading(tmp_path / "ir.wav")
     assert [c.name for c in reading.channels] == ["P1H", "P1A"]
     assert reading.channel("P1A").direction == "axial" and reading.speed_rpm == 1486.0
-    assert np.allclose(reading.channel("P1H").samples, sim.channels["P1H"], atol=1e-6 * np.abs(sim.channels["P1H"]).max())
+    assert np.allclose(reading.channel("P1H").samples, sim.channels["P1H"],
+                       atol=1e-6 * np.abs(sim.channels["P1H"]).max())
     truth = yaml.safe_load((tmp_path / "ir.wav.truth.yaml").read_text())
     assert truth["fault"] == "inner-race" and truth["component"] == "pump_de" and truth["stage"] == 2
 

@@ -38,7 +38,10 @@ def test_acceleration_ring_falls_as_frequency_squared_below_the_resonance():
     acc = np.abs(np.fft.rfft(ring, n))
     disp = np.abs(np.fft.rfft(flat, n))
     f = np.fft.rfftfreq(n, 1 / fs)
-    ratio = lambda spec, hz: spec[np.argmin(np.abs(f - hz))]
+
+    def ratio(spec, hz):
+        return spec[np.argmin(np.abs(f - hz))]
+
     # an octave lower, 200 -> 100 Hz: the acceleration response drops by 4 (12 dB), the displacement not
     assert ratio(acc, 200) / ratio(acc, 100) == pytest.approx(4.0, rel=0.05)
     assert ratio(disp, 200) / ratio(disp, 100) == pytest.approx(1.0, rel=0.05)

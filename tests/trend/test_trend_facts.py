@@ -5,11 +5,11 @@ from __future__ import annotations
 import pytest
 import yaml
 
+from engine.advice import ZoneScale
 from engine.evidence.vocabulary import fields_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.trend.facts import trend_facts
 from engine.trend.report import trend_from_rows
-from engine.advice import ZoneScale
 
 SCALE = ZoneScale(2, "rigid", 1.4, 2.8, 4.5, False, "ISO 20816-3 (from memory)")
 
