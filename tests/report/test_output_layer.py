@@ -82,10 +82,13 @@ def test_the_css_has_one_home():
     assert (TEMPLATES / BASE).read_text().count("<style>") == 1
 
 
-def test_only_the_output_layer_builds_a_jinja_environment():
+def test_only_the_output_layer_builds_a_jinja_environment_and_json_goes_through_jsonout():
     engine = ROOT / "engine"
     jinja = [_rel(p) for p in engine.rglob("*.py") if re.search(r"^\s*(import|from) jinja2", p.read_text(), re.M)]
     assert jinja == ["engine/report/render.py"]
+    raw_json = [_rel(p) for p in engine.rglob("*.py") if re.search(r"\bjson\.dumps?\(", p.read_text())
+                and p != engine / "common" / "jsonout.py" and "reasoning" not in p.parts]
+    assert raw_json == []
 
 
 def _rel(path) -> str:
@@ -186,3 +189,16 @@ def test_the_diagnosis_with_a_history_shows_its_trend_in_every_format(documents)
     for fmt in ("text", "md", "html"):
         assert f"{point['point']}: {point['readings']} readings since {point['first'][:10]}" in render(later, fmt)
 
+
+def test_the_hashed_json_text_keeps_its_bytes():
+    """``jsonout.canonical`` is the text stored reading keys are hashed from: the same bytes as the
+    ``json.dumps(..., sort_keys=True, default=str)`` that history.record.reading_key used before, or
+    every reading stored earlier would be diagnosed again on resume (expected text written out by hand)."""
+    from pathlib import PurePath
+
+    from engine.common.jsonout import canonical
+
+    parts = {"recording": "ab", "how": {"unit": "g", "scale": 2.5, "point": "P1H"}, "rulebooks": "é",
+             "machine": PurePath("m.yaml")}
+    assert canonical(parts) == ('{"how": {"point": "P1H", "scale": 2.5, "unit": "g"}, "machine": "m.yaml", '
+                                '"recording": "ab", "rulebooks": "\\u00e9"}')
