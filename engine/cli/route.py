@@ -32,9 +32,9 @@ def run(args) -> int:
 
     from ..common.errors import EXIT_ROUTE_FAILURES, UsageError
     from ..common.escape import one_line
+    from ..report import render, write_atomically
+    from ..route import load_folder, load_route, route_summary, run_route, summary_paths
     from ..common.outfile import known_inputs
-    from ..report import write_atomically
-    from ..route import load_folder, load_route, render_summary, route_summary, run_route, summary_paths
     from ..route.runner import check_outputs
     from ._common import input_files
     from ._store import open_store
@@ -66,9 +66,9 @@ def run(args) -> int:
             return 130
         doc = route_summary(outcome, store, out)
     for fmt, path in summary_paths(out).items():
-        write_atomically(path, render_summary(doc, fmt), inputs)
+        write_atomically(path, render(doc, fmt, "route"), inputs)
     if not args.quiet:
-        text = render_summary(doc, "text")
+        text = render(doc, "text", "route")
         sys.stdout.write(text if text.endswith("\n") else text + "\n")
     print(f"summary in {one_line(out)}/summary.html (and .md, .txt, .json)", file=sys.stderr)
     return EXIT_ROUTE_FAILURES if outcome.failed else 0

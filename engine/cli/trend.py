@@ -45,10 +45,9 @@ def run(args) -> int:
 
     from ..common.errors import UsageError
     from ..common.escape import one_line
-    from ..report import write_atomically
+    from ..report import render, write_atomically
     from ..route.runner import slug
     from ..trend import trend_document
-    from ..trend.render import render_trend
     from ._common import output_target
     from ._store import open_store
 
@@ -64,7 +63,7 @@ def run(args) -> int:
         doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html")
     if not doc["points"]:
         raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
-    text = render_trend(doc, args.format)
+    text = render(doc, args.format, "trend")
     if output is None:
         sys.stdout.write(text)
     else:

@@ -18,8 +18,8 @@ Each output format gets its own escape:
   digits and ``/._-~`` percent-encoded, so no name can become a ``javascript:``
   link, end the attribute or the Markdown link, or point somewhere else.
 
-``engine.report.render.render_document`` renders every document (diagnosis,
-plan, route summary, trend) with the one of these that fits its format as the
+``engine.report.render`` renders every document (diagnosis, plan, route
+summary, trend, demo index) with the one of these that fits its format as the
 Jinja environment's ``finalize`` step, so no template can forget one; text on
 the terminal that no template makes goes through ``terminal`` or ``one_line``.
 

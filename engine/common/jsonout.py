@@ -5,6 +5,7 @@ no strict JSON parser accepts. Every JSON tellwave prints or writes goes
 through ``dumps``: a non-finite number becomes ``null`` (the value is
 unknown), numpy scalars and arrays become plain numbers and lists, and
 ``allow_nan=False`` makes any that slipped through an error, not bad output.
+Text that is hashed, not shown, goes through ``canonical``.
 """
 
 from __future__ import annotations
@@ -39,3 +40,10 @@ def plain(value):
 def dumps(value, indent: int | None = 2) -> str:
     """RFC 8259 JSON text of ``value`` (non-finite numbers as null)."""
     return json.dumps(plain(value), indent=indent, ensure_ascii=False, allow_nan=False)
+
+
+def canonical(value) -> str:
+    """One line of JSON text of ``value`` with sorted keys, ASCII only, anything else as its ``str``:
+    the text a key is hashed from (``history.record.reading_key``). Stored keys depend on every
+    byte of it, so it never changes: a change would make every stored reading look new."""
+    return json.dumps(value, sort_keys=True, default=str)

@@ -20,7 +20,6 @@ from ..pipeline import diagnose, document_of
 from ..readings import load_reading
 from ..reasoning import Reasoner
 from ..report import render, write_atomically
-from ..report.render import environment
 from ..simulation import write_simulation
 
 DEMO_CASES = CASES / "demo"
@@ -65,7 +64,9 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, 
         result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
         progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
         results.append(result)
-    index = environment("html").get_template("index.html.j2").render(results=results, out_dir=out_dir)
+    cases = [{"name": r.case.name, "report": r.report.name, "diagnosis": r.got, "as_expected": r.passed}
+             for r in results]
+    index = render({"cases": cases}, "html", "demo")
     write_atomically(out_dir / "index.html", index, inputs)
     return results
 

@@ -9,11 +9,11 @@ hypotheses with certainty and the verdict.
 from __future__ import annotations
 
 import hashlib
-import json
 import os
 from pathlib import Path
 
 from ..common.errors import ReadingError
+from ..common.jsonout import canonical
 from ..readings import SCALE_ISSUES, sidecar_path
 
 # name -> (label with unit, what it is); the trend stage reads these names
@@ -89,8 +89,7 @@ def reading_key(paths, machine_file, how: dict, rulebooks: str) -> str:
     stated = {k: v for k, v in sorted(how.items()) if v not in (None, {}, [], ())}
     parts = {"recording": content_hash(paths), "machine": _file_digest(machine_file), "how": stated,
              "rulebooks": rulebooks}
-    text = json.dumps(parts, sort_keys=True, default=str)
-    return hashlib.sha256(text.encode("utf-8", "backslashreplace")).hexdigest()
+    return hashlib.sha256(canonical(parts).encode("utf-8", "backslashreplace")).hexdigest()
 
 
 def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:

@@ -186,11 +186,8 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
 
 
 
-PLAN_TEMPLATES = {"text": "plan.txt.j2", "md": "plan.md.j2", "html": "plan.html.j2"}
-
-
 def render_plan(doc: dict, fmt: str) -> str:
     """The plan in ``fmt``: text, md, html or json, every value escaped for its format."""
-    from ..report.render import render_document
+    from ..report import render
 
-    return render_document(doc, fmt, PLAN_TEMPLATES, what="plan")
+    return render(doc, fmt, "plan")

@@ -1,17 +1,21 @@
-"""Render every document (diagnosis, plan, route summary, trend) with the Jinja templates in
-templates/, escaped per format.
+"""The one output layer: every document (diagnosis, plan, route summary, trend, demo index) becomes
+text, Markdown, HTML or JSON here, with the Jinja templates in templates/.
 
-``render_document`` is the one way a document becomes text: every value a
-template prints passes through its format's escape (``engine.common.escape``) as the
-environment's ``finalize`` step, so no template can forget one: Markdown
-(``escape.markdown``), plain text and the terminal (``escape.text_value``), HTML
-(``escape.html_value``, then Jinja's autoescape). Filters that build markup
-(``md_code``, ``url``) return text already escaped for it. JSON is RFC 8259 JSON
-(``engine.common.jsonout``): never NaN or Infinity.
+``render(doc, fmt, kind)`` is the one way a document becomes text; no other module builds a Jinja
+environment. ``KINDS`` says where each kind's templates live (``templates/<kind>/``, one file per
+format) and which formats it has; every HTML template extends ``templates/base.html.j2``, the one
+home of the CSS. Every value a template prints passes through its format's escape
+(``engine.common.escape``) as the environment's ``finalize`` step, so no template can forget one:
+Markdown (``escape.markdown``), plain text and the terminal (``escape.text_value``), HTML
+(``escape.html_value``, then Jinja's autoescape). Filters that build markup (``md_code``, ``url``)
+return text already escaped for it. JSON is RFC 8259 JSON (``engine.common.jsonout``): never NaN
+or Infinity. A template is given ``doc`` and nothing else.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from functools import lru_cache
 from pathlib import Path
 
 import jinja2
@@ -23,17 +27,54 @@ from ..common.outfile import write_whole
 from ..common.paths import TEMPLATES
 from ..common import escape
 
-FORMATS = {"text": "report.txt.j2", "md": "report.md.j2", "html": "report.html.j2"}
+EXTENSIONS = {"text": "txt", "md": "md", "html": "html"}     # a format's template file: NAME.EXT.j2
 _FINALIZE = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
+
+
+@dataclass(frozen=True)
+class Kind:
+    """A kind of document: what a user calls it, its template (``templates/`` + ``stem`` + ``.EXT.j2``)
+    and the formats it is written in (JSON always, besides these)."""
+    what: str
+    stem: str
+    formats: tuple[str, ...] = ("text", "md", "html")
+
+    def template(self, fmt: str) -> str:
+        return f"{self.stem}.{EXTENSIONS[fmt]}.j2"
+
+
+KINDS = {
+    "diagnosis": Kind("report", "diagnosis/report"),
+    "plan": Kind("plan", "plan/plan"),
+    "route": Kind("route summary", "route/summary"),
+    "trend": Kind("trend", "trend/trend"),
+    "demo": Kind("demo index", "demo/index", ("html",)),
+}
+FORMATS = {fmt: KINDS["diagnosis"].template(fmt) for fmt in KINDS["diagnosis"].formats}
 
 
 def _pct(x) -> str:
     return f"{100 * x:.0f} %"
 
 
+def _days(d) -> str:
+    """A time to act in words: "open" (no projection), "now", hours, days or months."""
+    if d is None:
+        return "open"
+    if d <= 0:
+        return "now"
+    if d >= 60:
+        return f"{d / (365.25 / 12):.1f} months"
+    if d >= 2:
+        return f"{d:.0f} days"
+    return f"{d * 24:.1f} h"
+
+
+@lru_cache(maxsize=None)
 def environment(fmt: str | None = None) -> jinja2.Environment:
-    """The Jinja environment over templates/: autoescape for .html templates, and for ``fmt``
-    "md", "text" or "html" every value escaped for Markdown, the terminal or the page."""
+    """The Jinja environment over templates/, one per format: autoescape for .html templates, and for
+    ``fmt`` "md", "text" or "html" every value escaped for Markdown, the terminal or the page.
+    Without ``fmt`` nothing is escaped: for reading templates (tests), never for rendering."""
     env = jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(TEMPLATES)),
         autoescape=jinja2.select_autoescape(enabled_extensions=("html", "html.j2"), default_for_string=False),
@@ -41,6 +82,7 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
         finalize=_FINALIZE.get(fmt))
     env.filters["pct"] = _pct
     env.filters["signed"] = lambda x: f"{100 * x:+.0f} %"
+    env.filters["days"] = _days
     env.filters["md"] = escape.markdown
     env.filters["md_code"] = escape.markdown_code
     env.filters["term"] = escape.terminal
@@ -49,21 +91,17 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
     return env
 
 
-def render_document(doc: dict, fmt: str, templates: dict[str, str], *, what: str = "report",
-                    filters: dict | None = None) -> str:
-    """``doc`` in ``fmt``: JSON, or the template ``templates[fmt]`` with every value escaped for ``fmt``."""
+def render(doc: dict, fmt: str, kind: str = "diagnosis") -> str:
+    """The document ``doc`` of ``kind`` (a key of ``KINDS``) in ``fmt``: JSON, or its template for
+    ``fmt`` with every value escaped for ``fmt``."""
+    if kind not in KINDS:
+        raise ValueError(f"no document kind {kind!r}; the kinds are {', '.join(KINDS)}")
+    k = KINDS[kind]
     if fmt == "json":
         return dumps(doc) + "\n"
-    if fmt not in templates:
-        raise UsageError(f"unknown {what} format {fmt!r}; use {', '.join(templates)} or json")
-    env = environment(fmt)
-    env.filters.update(filters or {})
-    return env.get_template(templates[fmt]).render(doc=doc)
-
-
-def render(doc: dict, fmt: str) -> str:
-    """The report in ``fmt``: text, md, html or json."""
-    return render_document(doc, fmt, FORMATS)
+    if fmt not in k.formats:
+        raise UsageError(f"unknown {k.what} format {fmt!r}; use {', '.join(k.formats)} or json")
+    return environment(fmt).get_template(k.template(fmt)).render(doc=doc)
 
 
 def write_atomically(path, text: str, inputs=()) -> Path:

@@ -94,9 +94,8 @@ def test_a_single_diagnosis_with_the_store_shows_its_trend(surveyed, capsys):
 @pytest.mark.parametrize("which", ["summary", "trend"])
 def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, which):
     from engine.history.store import Store
-    from engine.route import render_summary
+    from engine.report import render
     from engine.trend import trend_document
-    from engine.trend.render import render_trend
 
     from support import HtmlChecker
 
@@ -104,12 +103,12 @@ def test_route_and_trend_html_are_well_formed_and_escape_the_data(surveyed, whic
     if which == "summary":
         doc = json.loads((root / "month-03" / "route-reports" / "summary.json").read_text())
         doc["machines"][0]["machine"] = "<script>alert(1)</script>"
-        html = render_summary(doc, "html")
+        html = render(doc, "html", "route")
     else:
         with Store(store) as s:
             doc = trend_document(s, PUMP, plots=True)
         doc["machine"] = "<script>alert(1)</script>"
-        html = render_trend(doc, "html")
+        html = render(doc, "html", "trend")
     checker = HtmlChecker()
     checker.feed(html)
     assert not checker.errors and not checker.stack

@@ -4,13 +4,11 @@ import json
 import subprocess
 import sys
 
-import jinja2.meta
 import pytest
 
 from engine.cli import main
 from engine.machine import load_machine
 from engine.planner import build_plan, load_policy, render_plan
-from engine.report.render import environment
 from engine.simulation import simulate, write_simulation
 
 from support import CASES, ROOT, TEST_MACHINES, HtmlChecker
@@ -81,13 +79,6 @@ def test_the_check_states_what_the_given_settings_hold(ct1_plan):
     # turns in the waveform = its length x shaft speed: 400 lines / 1000 Hz = 0.4 s [derived]
     assert counts["turns of fan"].startswith(f"{0.4 * 985 / 60 * 23 / 67:.1f} in the waveform")
     assert "above half the sample rate" in counts["envelope band 2000-10000 Hz"]
-
-
-def test_templates_need_only_the_document():
-    env = environment()
-    for name in ("plan.txt.j2", "plan.md.j2", "plan.html.j2"):
-        source = env.loader.get_source(env, name)[0]
-        assert jinja2.meta.find_undeclared_variables(env.parse(source)) == {"doc"}, name
 
 
 def test_plan_of_a_reading_uses_its_settings(tmp_path, capsys):

@@ -210,7 +210,7 @@ def test_html_values_show_control_characters_as_codes_and_keep_markup_made_safe(
 
 def test_every_document_renders_through_one_escaping_function():
     """No module builds a Jinja environment without a format (which would escape nothing for text
-    and Markdown); documents render with ``render_document``."""
+    and Markdown); documents render with ``engine.report.render``."""
     from support import ROOT
 
     unescaped = [str(p.relative_to(ROOT)) for p in (ROOT / "engine").rglob("*.py")

@@ -9,7 +9,8 @@ from routes import make_route
 
 from engine.cli import main
 from engine.history.store import Store
-from engine.route import load_route, render_summary, route_summary, run_route
+from engine.report import render
+from engine.route import load_route, route_summary, run_route
 
 
 @pytest.fixture(scope="module")
@@ -51,9 +52,9 @@ def test_each_reading_has_its_report_and_the_summary_links_it(routed):
 
 def test_the_summary_renders_in_every_format(routed):
     _, _, _, summary = routed
-    assert json.loads(render_summary(summary, "json"))["route"] == "test route"
+    assert json.loads(render(summary, "json", "route"))["route"] == "test route"
     for fmt in ("text", "md", "html"):
-        text = render_summary(summary, fmt)
+        text = render(summary, fmt, "route")
         assert "RW-2 raw water pump" in text and "broken.wav" in text
 
 

@@ -7,7 +7,8 @@ import yaml
 from routes import make_route
 
 from engine.history.store import Store
-from engine.route import load_route, render_summary, route_summary, run_route
+from engine.report import render
+from engine.route import load_route, route_summary, run_route
 
 
 def test_a_wrong_scale_is_flagged_in_the_summary_and_stores_no_level(tmp_path):
@@ -28,4 +29,4 @@ def test_a_wrong_scale_is_flagged_in_the_summary_and_stores_no_level(tmp_path):
     assert "kurtosis" in rows["P1H"]["indicators"]
     assert rows["P2H"]["scale_trusted"] == 1 and rows["P2H"]["indicators"]["velocity_rms_mm_s"] > 0
     for fmt in ("text", "md", "html"):
-        assert "scale not trusted at P1H" in render_summary(summary, fmt)
+        assert "scale not trusted at P1H" in render(summary, fmt, "route")
