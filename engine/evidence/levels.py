@@ -8,8 +8,6 @@ from .matching import find_line
 from .signs import SIGNS, match_fit, spectrum_line, waveform
 from ..analysis import Analysis
 from ..readings.quality import same_scale
-from ._match import find_line
-from .signs import SIGNS, match_fit, spectrum_line, waveform
 
 
 def overall(rc: Analysis) -> list[dict]:

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from .matching import db, explained_frequencies, find_lines
+from ..analysis import Analysis
 from .signs import SIGNS, match_fit, spectrum_line
 
 MAX_ORDER = 6
