@@ -8,9 +8,9 @@ MAX_SYNTH_SAMPLES = 1 << 24     # per channel: 10 min at 25.6 kHz
 
 
 def register(sub) -> None:
-    from ..simulation import FAULTS
-
     p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
+    from ..simulation import FAULTS      # after add_parser: ``tellwave --help`` only lists the command
+
     p.add_argument("machine", help="machine YAML file")
     p.add_argument("--fault", default="healthy", choices=list(FAULTS), metavar="FAULT",
                    help="fault to simulate (default healthy): " + ", ".join(FAULTS))
