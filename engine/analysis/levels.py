@@ -12,12 +12,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..common.units import STANDARD_GRAVITY_M_S2
+from ..readings.band_rms import INTEGRATIONS_TO_VELOCITY, ISO_BAND_HZ, ISO_BAND_SLOW_HZ, ISO_SLOW_SPEED_RPM
 from .spectrum import Transform
-
-ISO_BAND_HZ = (10.0, 1000.0)
-ISO_BAND_SLOW_HZ = (2.0, 1000.0)
-ISO_SLOW_SPEED_RPM = 600.0
-INTEGRATIONS_TO_VELOCITY = {"acceleration": 1, "velocity": 0, "displacement": -1}
 
 
 @dataclass(frozen=True)

@@ -10,7 +10,8 @@ The Hann window, the one the diagnosis uses, is the closed form
 0.5 - 0.5 cos(2 pi k / N) (identical to ``scipy.signal.get_window("hann", N)``,
 which the tests use as reference); its transform has three non-zero lines, so
 a Hann spectrum follows from the plain FFT of the same record by a three-tap
-sum (``hann_from_rectangular``) instead of a second FFT. The other windows
+sum (``hann_from_rectangular``, kept in ``engine.readings.band_rms`` with the
+band RMS that the quality gates share) instead of a second FFT. The other windows
 come from ``scipy.signal.get_window``, imported only when one is asked for
 (scipy.signal takes about half a second to import).
 """
@@ -21,6 +22,8 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
+
+from ..readings.band_rms import hann_from_rectangular   # its home: the quality gates use it too
 
 WINDOWS = {"hann": "hann", "hanning": "hann", "hamming": "hamming", "flattop": "flattop",
            "rectangular": "boxcar", "boxcar": "boxcar", "uniform": "boxcar", "blackmanharris": "blackmanharris"}
@@ -60,27 +63,6 @@ def window_sum(name: str, n: int) -> float:
     if window_name(name) == "hann":
         return n / 2.0
     return float(window(name, n).sum())
-
-
-def hann_from_rectangular(spec: np.ndarray, n: int) -> np.ndarray:
-    """The one-sided FFT of the Hann-windowed record, from the one-sided FFT ``spec`` of the record.
-
-    The periodic Hann window is 0.5 - 0.25 e^{j theta_k} - 0.25 e^{-j theta_k},
-    so windowing is a circular convolution with three lines:
-    Y[k] = 0.5 X[k] - 0.25 (X[k-1] + X[k+1]), the lines beyond the one-sided
-    range being the conjugates of those inside it.
-    """
-    x = spec
-    m = len(x)
-    y = 0.5 * x
-    if m < 2:
-        return y
-    quarter = 0.25 * x
-    y[1:] -= quarter[:-1]
-    y[:-1] -= quarter[1:]
-    y[0] -= np.conj(quarter[1])
-    y[-1] -= np.conj(quarter[-2] if n % 2 == 0 else quarter[-1])   # X[n/2+1] = conj X[n/2-1]; odd: X[(n+1)/2] = conj X[(n-1)/2]
-    return y
 
 
 @dataclass(frozen=True)
