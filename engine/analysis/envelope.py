@@ -18,7 +18,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
 from .spectrum import Spectrum, amplitude_spectrum
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
 from .peaks import local_maxima, peaks_above
 
@@ -37,10 +37,17 @@ def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz:
     n = len(env)
     size = sfft.next_fast_len(2 * n, real=True)          # zero padding: linear, not circular
     spectrum = sfft.rfft(env, size)
-    acf = sfft.irfft(spectrum.real ** 2 + spectrum.imag ** 2, size)[:n]
-    if acf[0] <= 0:
+    del env
+    power = np.square(spectrum.real)      # |X|^2 without temporaries as long as the spectrum
+    power += np.square(spectrum.imag)
+    del spectrum
+    full = sfft.irfft(power, size)
+    del power
+    if full[0] <= 0:
         return None
-    acf = acf / acf[0] / (1 - np.arange(n) / n)  # unbiased, normalised
+    acf = full[:n] / full[0]
+    del full
+    acf /= 1 - np.arange(n) / n                  # unbiased, normalised
     lo = max(2, int(fs / (1.3 * fastest_hz)))
     hi = min(n // 4, int(fs / (0.7 * slowest_hz)))
     if hi <= lo + 2:

@@ -29,7 +29,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
 from .envelope import band_length, line_frequencies
 
@@ -95,24 +95,28 @@ def _segment_spectra(spec: np.ndarray, n: int) -> tuple[np.ndarray, int]:
     if n <= SEGMENT_SAMPLES:
         return spec[None, :], n
     x = sfft.irfft(spec, n)
-    starts = list(range(0, n - SEGMENT_SAMPLES + 1, SEGMENT_SAMPLES))
-    if starts[-1] + SEGMENT_SAMPLES < n:
-        starts.append(n - SEGMENT_SAMPLES)            # the tail, overlapping the segment before it
-    segments = np.stack([x[s:s + SEGMENT_SAMPLES] for s in starts])
+    whole = n // SEGMENT_SAMPLES
+    segments = x[:whole * SEGMENT_SAMPLES].reshape(whole, SEGMENT_SAMPLES)    # a view: no copy of the record
+    if whole * SEGMENT_SAMPLES < n:                   # the tail, overlapping the segment before it
+        segments = np.concatenate((segments, x[None, n - SEGMENT_SAMPLES:]))
     segments -= segments.mean(axis=1, keepdims=True)
     return sfft.rfft(segments, axis=1), SEGMENT_SAMPLES
 
 
 def kurtogram_of_spectrum(spec: np.ndarray, n: int, fs: float, max_level: int = 6,
                           min_bandwidth_hz: float = 0.0, min_samples_per_band: int = 256,
-                          trim_fraction: float = 0.0) -> Kurtogram:
+                          trim_fraction: float = 0.0, fmax_hz: float | None = None) -> Kurtogram:
     """``fast_kurtogram`` from the one-sided FFT ``spec`` of an ``n``-sample record.
 
-    Raises ValueError when the record is too short for any band.
+    A band whose centre lies at or above ``fmax_hz`` (the reading's Fmax) is
+    not searched: most of it lies in the anti-alias filter's roll-off, which
+    holds no band of the machine's own. Raises ValueError when the record is
+    too short for any band.
     """
     specs, n = _segment_spectra(spec, n)
     freq = line_frequencies(specs.shape[1], n, fs)
-    plan = []          # (level, count, width, [(band length, band indices, first, stop)])
+    top = fs / 2 if fmax_hz is None else min(fs / 2, fmax_hz)
+    plan = []          # (level, count, width, first, stop, [(band length, band indices)])
     for level, count in levels(max_level):
         width = fs / 2 / count
         if width < min_bandwidth_hz or 2 * n * width / fs < min_samples_per_band:
@@ -120,11 +124,12 @@ def kurtogram_of_spectrum(spec: np.ndarray, n: int, fs: float, max_level: int = 
         edges = np.arange(count + 1) * width
         first = np.maximum(1, np.searchsorted(freq, edges[:-1], side="left"))
         stop = np.maximum(first, np.searchsorted(freq, edges[1:], side="right"))
+        searched = np.flatnonzero((edges[:-1] + edges[1:]) / 2 < top)
         lengths = np.array([band_length(int(w), n, fs) for w in stop - first])
-        groups = [(int(m), np.flatnonzero(lengths == m)) for m in np.unique(lengths)]
+        groups = [(int(m), searched[lengths[searched] == m]) for m in np.unique(lengths[searched])]
         plan.append((level, count, width, first, stop, groups))
     # band moments summed over segments (each segment transformed on its own: small, cache-friendly)
-    sums = [(np.zeros(count), np.zeros(count), np.zeros(count)) for _, count, *_ in plan]
+    sums = [(np.zeros(count), np.zeros(count), np.zeros(count)) for _, count, *_ in plan]   # unsearched: 0 samples
     for seg in specs:
         for (level, count, width, first, stop, groups), (s2, s4, samples) in zip(plan, sums):
             for m, rows in groups:
@@ -141,10 +146,11 @@ def kurtogram_of_spectrum(spec: np.ndarray, n: int, fs: float, max_level: int = 
                 samples[rows] += power.shape[1]
     bands = []
     for (level, count, width, *_), (s2, s4, samples) in zip(plan, sums):
-        mean_power = s2 / samples
         with np.errstate(divide="ignore", invalid="ignore"):
+            mean_power = s2 / samples
             kurt = np.where(mean_power > 0, (s4 / samples) / mean_power ** 2 - 2.0, 0.0)
-        bands += [KurtogramBand(level, i * width, (i + 1) * width, float(kurt[i])) for i in range(count)]
+        bands += [KurtogramBand(level, i * width, (i + 1) * width, float(kurt[i]))
+                  for i in range(count) if samples[i] > 0]
     if not bands:
         raise ValueError("record too short for any kurtogram band")
     best = max(bands, key=lambda b: b.kurtosis)

@@ -19,12 +19,13 @@ from types import MappingProxyType
 from typing import Mapping
 
 import numpy as np
-from scipy.fft import next_fast_len
+from ._fft import next_fast_len
 
 from ..common.errors import ReadingError
 from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..machine import Machine, Point
 from ..readings import Channel, QualityIssue, Reading, describe_issue
+from ..readings.length import FMAX_FACTOR
 from .envelope import band_from_spectrum, whitened_spectrum
 from .separation import random_part_factor
 from .impacts import ImpactTrain, impact_train
@@ -174,7 +175,14 @@ def _squared_envelope(white: np.ndarray, n: int, fs: float, band, span: float, s
     return ses, squared, sig
 
 
-def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
+def _random_white(accel: np.ndarray, fs: float) -> np.ndarray:
+    """The prewhitened one-sided FFT of ``accel`` with its deterministic lines taken out."""
+    white = whitened_spectrum(accel)
+    white *= random_part_factor(accel, fs, len(white), len(accel))     # discrete/random separation
+    return white
+
+
+def _envelopes(white: np.ndarray, n: int, fs: float, fastest_defect_hz: float | None):
     """The kurtogram band's envelope (Antoni 2007) and, beside it, the whole prewhitened signal
     above the defect harmonics (cepstral prewhitening then envelope: Smith & Randall's
     method 2). An impulsive band can be a single burst of noise; the wide view catches a
@@ -184,14 +192,13 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     harmonics beat at a defect's rate does not pass for a bearing."""
     if fastest_defect_hz is None:
         return None, (), None, None
-    n = len(accel)
-    white = whitened_spectrum(accel)
-    white *= random_part_factor(accel, fs, len(white), n)     # deterministic lines out (discrete/random separation)
     span = ENVELOPE_HARMONICS * fastest_defect_hz
     kg = kurtogram_of_spectrum(white, n, fs, max_level=KURTOGRAM_LEVELS, trim_fraction=EDGE_TRIM,
-                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4))
+                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4), fmax_hz=fs / FMAX_FACTOR)
     band = (kg.best.f_lo_hz, kg.best.f_hi_hz)
     ses, squared, sig = _squared_envelope(white, n, fs, band, span)
+    squared_fs = sig.fs_hz
+    del sig                         # the band signal itself is not kept: free it before the wide view
     views = [EnvelopeView("kurtogram", ses, band, kg.best.kurtosis)]
     wide = (min(span, fs / 8), 0.45 * fs)
     wide_ses, _, wide_sig = _squared_envelope(white, n, fs, wide, span, spectrum_only=True)
@@ -200,7 +207,7 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     mean_power = float(power.mean())
     spectral_kurtosis = float(np.mean(np.square(power, out=power)) / mean_power ** 2 - 2)   # Antoni 2006
     views.append(EnvelopeView("wide", wide_ses, wide, spectral_kurtosis))
-    return kg, tuple(views), squared, sig.fs_hz
+    return kg, tuple(views), squared, squared_fs
 
 
 def _speed_from_mesh(spectrum: Spectrum, fr: float, orders: tuple[int, ...]) -> float:
@@ -254,7 +261,8 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
                 out[shaft] = done[orders[shaft]]
         if len(rows):
             rest_rows = rows if rest is accel else revolution_rows(rest, fs, speed_hz, spr)
-            rest = rest - synchronous_part(rest_rows, len(accel), fs, speed_hz)
+            part = synchronous_part(rest_rows, len(accel), fs, speed_hz)
+            rest = np.subtract(rest, part, out=part)      # rest - part, in part's memory
     return out, rest
 
 
@@ -327,6 +335,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         transform = Transform.of(a, fs)
         spectra[name] = transform.amplitude("peak")
         iso[name] = iso_velocities(transform, "acceleration")
+        del transform
     velocity = {name: velocity_spectrum(s) for name, s in spectra.items()}
 
     first_point = next((points[c.point] for c in usable if c.point in points), None)
@@ -336,14 +345,18 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     rates = rates_at(machine, speeds)
     defects = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
     fastest = max(defects) if defects else None
-    synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
-                   for ch in usable}
-    envelopes = {ch.name: _envelopes(synchronous[ch.name][1], fs, fastest) for ch in usable}
+    synchronous, envelopes = {}, {}
+    for ch in usable:               # each channel's record less its synchronous parts is dropped once whitened
+        synchronous[ch.name], rest = _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
+        white = _random_white(rest, fs) if fastest is not None else None
+        del rest
+        envelopes[ch.name] = _envelopes(white, reading.n_samples, fs, fastest)
+        del white
     if not speed.refined and defects:
         speed = _speed_from_envelopes([e[1] for e in envelopes.values()], rates, speed)
         speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
         rates = rates_at(machine, speeds)
-        synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
+        synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])[0]
                        for ch in usable}
     candidates = _impact_candidates_hz(rates)
     # the speed shaft's own lines stand clearest at its own points (a slow shaft's harmonics can
@@ -372,7 +385,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
             levels=levels_of(a, iso[ch.name], fs, "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
-            synchronous=MappingProxyType(synchronous[ch.name][0]),
+            synchronous=MappingProxyType(synchronous[ch.name]),
             issues=tuple(reading.issues_for(ch.name)),
         ))
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),

@@ -24,7 +24,7 @@ masquerade as defect tones in the squared envelope.
 from __future__ import annotations
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
 RESOLUTION_HZ = 2.0     # the gain resolves lines this far apart (a segment of about fs / 2 Hz samples)
 MIN_PAIRS = 12          # at fewer pairs the gain of random content stays too high; segments shrink first
@@ -52,9 +52,9 @@ def deterministic_gain(x: np.ndarray, fs: float) -> tuple[np.ndarray, np.ndarray
     power = np.zeros(size // 2 + 1)
     cross = np.zeros(size // 2 + 1, dtype=complex)
     carry = None                       # the last two spectra of the previous slice, for the pairs across it
+    every = np.lib.stride_tricks.sliding_window_view(x, size)[::step]    # a view: no index array
     for first in range(0, count, CHUNK):
-        starts = np.arange(first, min(count, first + CHUNK)) * step
-        segments = x[starts[:, None] + np.arange(size)[None, :]]
+        segments = every[first:min(count, first + CHUNK)].copy()
         segments -= segments.mean(axis=1, keepdims=True)
         segments *= window
         spectra = sfft.rfft(segments, axis=1)

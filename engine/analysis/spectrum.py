@@ -18,8 +18,9 @@ from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
+from ..readings.band_rms import band_rms_of_fft
 from .windows import enbw_bins, hann_from_rectangular, window, window_name, window_sum
 
 SCALINGS = {"peak": 1.0, "rms": 1.0 / np.sqrt(2.0), "peak-to-peak": 2.0}
@@ -77,10 +78,16 @@ class Spectrum:
         return (self.freq_hz >= f_lo_hz) & (self.freq_hz <= f_hi_hz)
 
     def below(self, f_hi_hz: float) -> "Spectrum":
-        """The same spectrum cut at ``f_hi_hz``."""
+        """The same spectrum cut at ``f_hi_hz``.
+
+        A cut that keeps less than half of the lines owns its arrays, so that
+        a short spectrum kept in the result does not hold a long one in memory.
+        """
         keep = int(np.searchsorted(self.freq_hz, f_hi_hz, side="right"))
-        return Spectrum(self.freq_hz[:keep], self.amplitude[:keep], self.scaling, self.window,
-                        self.resolution_hz, self.enbw_hz, self.averages)
+        freq, amplitude = self.freq_hz[:keep], self.amplitude[:keep]
+        if 2 * keep < len(self.freq_hz):
+            freq, amplitude = freq.copy(), amplitude.copy()
+        return Spectrum(freq, amplitude, self.scaling, self.window, self.resolution_hz, self.enbw_hz, self.averages)
 
 
 def _scale(scaling: str) -> float:
@@ -126,16 +133,10 @@ class Transform:
 
         The same estimate as ``scipy.signal.periodogram(x, fs, window="hann",
         scaling="density")`` summed over the band: |Y|^2 / (fs S2), doubled
-        except at DC and Nyquist, with S2 = 3N/8 for the periodic Hann window.
+        except at DC and Nyquist, with S2 = 3N/8 for the periodic Hann window
+        (``engine.readings.band_rms``, which the quality gates use too).
         """
-        f = self.freq_hz
-        band = (f >= f_lo_hz) & (f <= f_hi_hz) & (f > 0)
-        power = np.abs(self.hann[band]) ** 2 / (self.fs_hz * 3.0 * self.n / 8.0)
-        idx = np.flatnonzero(band)
-        double = np.ones(len(idx))
-        double[idx != (self.n // 2 if self.n % 2 == 0 else -1)] = 2.0
-        weight = (2 * np.pi * f[band]) ** (-2 * integrations)
-        return float(np.sqrt(np.sum(power * double * weight) * (self.fs_hz / self.n)))
+        return band_rms_of_fft(self.rect, self.n, self.fs_hz, f_lo_hz, f_hi_hz, integrations, hann=self.hann)
 
 
 def amplitude_spectrum(x, fs: float, window_kind: str = "hann", scaling: str = "peak") -> Spectrum:

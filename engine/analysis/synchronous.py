@@ -26,7 +26,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
 
 LOW_ORDERS = (0, 1, 2, 3)
@@ -82,6 +82,7 @@ def resample_at(x: np.ndarray, positions: np.ndarray) -> np.ndarray:
 
 
 ROWS_PER_SLICE = 64
+SAMPLES_PER_SLICE = 1 << 16
 
 
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:
@@ -111,9 +112,12 @@ def synchronous_part(rows: np.ndarray, n: int, fs: float, speed_hz: float) -> np
     """
     tsa = rows.mean(axis=0)
     spr = len(tsa)
-    positions = np.arange(n) * (speed_hz * spr / fs) % spr
     periodic = np.concatenate((tsa[-1:], tsa, tsa[:2]))
-    return resample_at(periodic, positions + 1.0)
+    out = np.empty(n)
+    for start in range(0, n, SAMPLES_PER_SLICE):      # in slices: the interpolation's temporaries stay small
+        positions = np.arange(start, min(n, start + SAMPLES_PER_SLICE)) * (speed_hz * spr / fs) % spr
+        out[start:start + len(positions)] = resample_at(periodic, positions + 1.0)
+    return out
 
 
 def tach_pulse_times(tach, fs: float, pulses_per_rev: int = 1, threshold: float | None = None) -> np.ndarray:
