@@ -108,10 +108,11 @@ def kurtogram_of_spectrum(spec: np.ndarray, n: int, fs: float, max_level: int = 
                           trim_fraction: float = 0.0, fmax_hz: float | None = None) -> Kurtogram:
     """``fast_kurtogram`` from the one-sided FFT ``spec`` of an ``n``-sample record.
 
-    A band whose centre lies at or above ``fmax_hz`` (the reading's Fmax) is
-    not searched: most of it lies in the anti-alias filter's roll-off, which
-    holds no band of the machine's own. Raises ValueError when the record is
-    too short for any band.
+    A band that lies wholly at or above ``fmax_hz`` (the reading's Fmax) is
+    not searched: it holds only the anti-alias filter's roll-off, no band of
+    the machine's own; a band that starts below Fmax still holds the machine's
+    content and is kept. Raises ValueError when the record is too short for
+    any band.
     """
     specs, n = _segment_spectra(spec, n)
     freq = line_frequencies(specs.shape[1], n, fs)
@@ -124,7 +125,7 @@ def kurtogram_of_spectrum(spec: np.ndarray, n: int, fs: float, max_level: int = 
         edges = np.arange(count + 1) * width
         first = np.maximum(1, np.searchsorted(freq, edges[:-1], side="left"))
         stop = np.maximum(first, np.searchsorted(freq, edges[1:], side="right"))
-        searched = np.flatnonzero((edges[:-1] + edges[1:]) / 2 < top)
+        searched = np.flatnonzero(edges[:-1] < top)
         lengths = np.array([band_length(int(w), n, fs) for w in stop - first])
         groups = [(int(m), searched[lengths[searched] == m]) for m in np.unique(lengths[searched])]
         plan.append((level, count, width, first, stop, groups))
