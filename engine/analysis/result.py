@@ -129,7 +129,29 @@ class Analysis:
 
 
 def velocity_spectrum(spec: Spectrum) -> Spectrum:
-    """mm/s RMS from an acceleration spectrum in m/s^2 peak (divide each line by 2 pi f)."""
+    """mm/s RMS from an acceleration spectrum in m/s^2 peak (divide each line by 2 pi f).
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Acceleration spectrum, m/s^2 peak.
+
+    Returns
+    -------
+    Spectrum
+        Velocity, mm/s RMS; lines below MIN_VELOCITY_HZ (2 Hz) are zero.
+
+    References
+    ----------
+    Integration of a sine: v = a / (2 pi f) (handbook formula, e.g. Harris'
+    Shock and Vibration Handbook, chapter 1); RMS = peak / sqrt 2.
+
+    Examples
+    --------
+    >>> fs = 1024.0; a = 9.80665 * np.sin(2 * np.pi * 100 * np.arange(4096) / fs)
+    >>> round(float(velocity_spectrum(Transform.of(a, fs).amplitude("peak")).amplitude.max()), 3)
+    11.036
+    """
     f = spec.freq_hz
     v = np.zeros_like(spec.amplitude)
     ok = f >= MIN_VELOCITY_HZ
@@ -145,7 +167,29 @@ def _to_acceleration(ch: Channel, fs: float) -> np.ndarray:
 
 
 def fast_length_at_most(n: int) -> int:
-    """The largest length at or below ``n`` whose FFT is fast (no prime factor above 5)."""
+    """The largest length at or below ``n`` whose FFT is fast (no prime factor above 5).
+
+    Parameters
+    ----------
+    n : int
+        Samples available.
+
+    Returns
+    -------
+    int
+        A 5-smooth length <= ``n``.
+
+    References
+    ----------
+    Frigo & Johnson (2005), "The design and implementation of FFTW3", Proc. IEEE
+    93(2) (lengths with small prime factors transform fastest);
+    ``scipy.fft.next_fast_len``.
+
+    Examples
+    --------
+    >>> fast_length_at_most(1000), fast_length_at_most(1031)
+    (1000, 1024)
+    """
     m = n
     while m > 1 and next_fast_len(m, real=True) != m:
         m -= 1
@@ -322,6 +366,38 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     """Analyse every usable channel of ``reading`` for ``machine``.
 
     Raises ReadingError when no channel passed the blocking quality gates.
+
+    Parameters
+    ----------
+    reading : Reading
+        The channels in SI units, their sample rate and quality notes.
+    machine : Machine
+        The machine's kinematics and measurement points.
+
+    Returns
+    -------
+    Analysis
+        Speeds (Hz), rates, forcing frequencies, and per channel the Hann
+        spectrum (m/s^2 peak), the velocity spectrum (mm/s RMS), overall levels,
+        the kurtogram and envelope views, the impact train and the
+        once-per-revolution events of each shaft.
+
+    References
+    ----------
+    ISO 20816-3:2022 (levels); Antoni (2007) (kurtogram); Randall & Antoni
+    (2011) (envelope); McFadden (1987) (synchronous averaging); the module
+    docstrings cite each step.
+
+    Examples
+    --------
+    >>> from engine.common.paths import CASES
+    >>> from engine.machine import load_machine
+    >>> from engine.simulation import as_reading, simulate
+    >>> machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")   # the demo pump, 1486 r/min
+    >>> reading = as_reading(simulate(machine, "unbalance", None, 2, None, 5120.0, 4.0, 1, ["P1H"]))
+    >>> a = analyse(reading, machine)
+    >>> abs(a.speed_estimate.speed_hz * 60 - 1486) < 2, a.channels[0].levels.velocity_band_hz
+    (True, (10.0, 1000.0))
     """
     fs = reading.fs_hz
     points = {p.id: p for p in machine.points}
