@@ -183,7 +183,7 @@ def interpolate_line(spec: Spectrum, line: int) -> tuple[float, float]:
     Examples
     --------
     >>> from engine.analysis.spectrum import amplitude_spectrum
-    >>> fs = 1024.0; t = np.arange(4096) / fs                        # 0.25 Hz lines
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
     >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
     >>> f, a = interpolate_line(spec, int(np.argmax(spec.amplitude)))
     >>> round(f, 2), round(a, 3)
@@ -224,7 +224,7 @@ def noise_floor(spec: Spectrum, line: int, half_width: int = 25) -> float:
     Examples
     --------
     >>> from engine.analysis.spectrum import amplitude_spectrum
-    >>> fs = 1024.0; t = np.arange(4096) / fs                        # 0.25 Hz lines
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
     >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
     >>> noise_floor(spec, 400) < 1e-3
     True
@@ -272,7 +272,7 @@ def find_peaks(spec: Spectrum, f_lo_hz: float = 0.0, f_hi_hz: float | None = Non
     Examples
     --------
     >>> from engine.analysis.spectrum import amplitude_spectrum
-    >>> fs = 1024.0; t = np.arange(4096) / fs                        # 0.25 Hz lines
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
     >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
     >>> [(round(p.freq_hz, 1), round(p.amplitude, 3)) for p in find_peaks(spec, min_snr=10.0)]
     [(100.1, 2.0), (7.0, 0.001)]
@@ -354,7 +354,7 @@ def interpolate_lines(spec: Spectrum, lines: np.ndarray) -> tuple[np.ndarray, np
     Examples
     --------
     >>> from engine.analysis.spectrum import amplitude_spectrum
-    >>> fs = 1024.0; t = np.arange(4096) / fs                        # 0.25 Hz lines
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
     >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
     >>> f, a = interpolate_lines(spec, np.array([28, 400]))
     >>> np.round(f, 2).tolist(), np.round(a, 4).tolist()
@@ -403,7 +403,7 @@ def peaks_near(spec: Spectrum, freqs_hz, tolerance_hz) -> Lines:
     Examples
     --------
     >>> from engine.analysis.spectrum import amplitude_spectrum
-    >>> fs = 1024.0; t = np.arange(4096) / fs                        # 0.25 Hz lines
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
     >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
     >>> found = peaks_near(spec, [100.0, 50.0], 0.5)
     >>> found.found.tolist(), round(float(found.freq_hz[0]), 2)
@@ -466,7 +466,7 @@ def peak_near(spec: Spectrum, freq_hz: float, tolerance_hz: float) -> Peak | Non
     Examples
     --------
     >>> from engine.analysis.spectrum import amplitude_spectrum
-    >>> fs = 1024.0; t = np.arange(4096) / fs                        # 0.25 Hz lines
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
     >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
     >>> p = peak_near(spec, 100.0, 0.5)
     >>> round(p.freq_hz, 2), round(p.amplitude, 3), peak_near(spec, 50.0, 0.5)

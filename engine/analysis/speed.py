@@ -152,7 +152,7 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
     >>> from engine.analysis.spectrum import amplitude_spectrum
     >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
     >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
-    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, 1/32 Hz lines
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
     >>> e = refine_speeds(spec, {"motor": 25.0, "fan": 12.5}, "motor")
     >>> round(e.speed_hz, 2), e.refined
     (24.7, True)
@@ -208,7 +208,7 @@ def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: flo
     >>> from engine.analysis.spectrum import amplitude_spectrum
     >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
     >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
-    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, 1/32 Hz lines
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
     >>> round(refine_running_speed(spec, 25.0).speed_rpm, 1)
     1482.0
     """
@@ -304,7 +304,7 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
     >>> from engine.analysis.spectrum import amplitude_spectrum
     >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
     >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
-    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, 1/32 Hz lines
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
     >>> c = half_and_double(spec, 24.7)
     >>> c["half_order_lines"], c["one_x_found"], c["odd_order_lines"]
     (0, True, 3)
@@ -442,7 +442,7 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
     >>> from engine.analysis.spectrum import amplitude_spectrum
     >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
     >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
-    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, 1/32 Hz lines
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
     >>> f = shaft_family(spec, 23.0)                    # stated 7 % low: the family lies beyond 5 %
     >>> f["far_family_lines"] >= 3, round(f["far_family_scale"] * 23.0, 1)
     (True, 24.7)
