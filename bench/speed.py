@@ -13,7 +13,7 @@ Prints five tables (the goals of the layering work beside each figure):
 5. The HTML report of the 7-channel demo case: plots and rendering as a
    share of the diagnosis.
 
-    python -m bench.speed [--repeats N] [--quick]
+    python -m bench.speed [--repeats N] [--quick] [--cpu]
 """
 
 from __future__ import annotations
@@ -46,15 +46,20 @@ MACHINES = {
 }
 SIZES = (65536, 262144, 1048576)
 FS = 25600.0
-GOALS = {65536: 15.0, 262144: 6.0, 1048576: 6.0}
+GOALS = {65536: 10.0, 262144: 5.0, 1048576: 5.0}     # issue 21: <= 10x at 64k, <= 5x at 256k and above
+MEMORY_GOAL_MB = 150.0                                 # peak resident, 1 channel x 1M samples
+HELP_GOAL_S = 0.3
+
+
+CLOCK = time.perf_counter     # --cpu: time.process_time, steadier on a shared machine
 
 
 def _median_time(fn, repeats: int) -> float:
     times = []
     for _ in range(repeats):
-        t0 = time.perf_counter()
+        t0 = CLOCK()
         fn()
-        times.append(time.perf_counter() - t0)
+        times.append(CLOCK() - t0)
     return statistics.median(times)
 
 
@@ -115,13 +120,13 @@ def whole_process(repeats: int, tmp: Path) -> None:
     write_simulation(simulate(machine, fault, component, 2, None, FS, 2 ** 16 / FS, 1, [point]), small)
     peak = max(_process([tellwave, "diagnose", str(big), "--machine", str(path)])[1] for _ in range(2))
     print(f"\n3. peak resident memory, tellwave diagnose 1 channel x 1M (text): {peak:.0f} MB "
-          f"(goal 200 MB) {'ok' if peak <= 200 else 'OVER'}")
+          f"(goal {MEMORY_GOAL_MB:.0f} MB) {'ok' if peak <= MEMORY_GOAL_MB else 'OVER'}")
     walls = [_process([tellwave, "diagnose", str(small), "--machine", str(path)])[0] for _ in range(repeats)]
     helps = [_process([tellwave, "--help"])[0] for _ in range(repeats)]
     print("\n4. whole processes (median of {} runs)".format(repeats))
     w, h = statistics.median(walls), statistics.median(helps)
     print(f"   tellwave diagnose, 1 channel x 64k, text: {w:.2f} s (goal 0.8 s) {'ok' if w <= 0.8 else 'OVER'}")
-    print(f"   tellwave --help:                          {h:.2f} s (goal 0.3 s) {'ok' if h <= 0.3 else 'OVER'}")
+    print(f"   tellwave --help:                          {h:.2f} s (goal {HELP_GOAL_S} s) {'ok' if h <= HELP_GOAL_S else 'OVER'}")
 
 
 def html_share(repeats: int) -> None:
@@ -150,7 +155,13 @@ def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeats", type=int, default=7)
     parser.add_argument("--quick", action="store_true", help="64k and 256k only, 3 repeats")
+    parser.add_argument("--cpu", action="store_true",
+                        help="time tables 1, 2 and 5 in process CPU time (floor and diagnosis alike): other "
+                             "processes on the machine then move the ratios less")
     args = parser.parse_args()
+    if args.cpu:
+        global CLOCK
+        CLOCK = time.process_time
     repeats = 3 if args.quick else args.repeats
     times = per_channel(repeats, SIZES[:2] if args.quick else SIZES)
     growth(times)

@@ -39,6 +39,25 @@ def local_maxima(a: np.ndarray) -> np.ndarray:
     A sample higher than both neighbours is a peak; a flat top (equal
     samples, lower on both sides) is one peak at its middle (rounded down);
     the first and last samples are never peaks.
+
+    Parameters
+    ----------
+    a : numpy.ndarray
+        Values, any unit.
+
+    Returns
+    -------
+    numpy.ndarray
+        Indices of the maxima, ascending.
+
+    References
+    ----------
+    ``scipy.signal.find_peaks`` (the tests hold the two against each other).
+
+    Examples
+    --------
+    >>> local_maxima(np.array([0, 2, 1, 3, 3, 3, 0, 5])).tolist()
+    [1, 4]
     """
     a = np.asarray(a)
     if len(a) < 3:
@@ -61,7 +80,31 @@ def local_maxima(a: np.ndarray) -> np.ndarray:
 
 
 def select_by_distance(peaks: np.ndarray, heights: np.ndarray, distance: float) -> np.ndarray:
-    """Keep the highest peaks first, dropping any closer than ``distance`` samples to a kept one."""
+    """Keep the highest peaks first, dropping any closer than ``distance`` samples to a kept one.
+
+    Parameters
+    ----------
+    peaks : numpy.ndarray
+        Peak indices, ascending.
+    heights : numpy.ndarray
+        Their heights, any unit.
+    distance : float
+        Least spacing of kept peaks, in samples.
+
+    Returns
+    -------
+    numpy.ndarray
+        The peaks kept, ascending.
+
+    References
+    ----------
+    ``scipy.signal.find_peaks`` with ``distance`` (the same rule).
+
+    Examples
+    --------
+    >>> select_by_distance(np.array([2, 4, 10]), np.array([1.0, 3.0, 2.0]), 5).tolist()
+    [4, 10]
+    """
     if distance <= 1 or len(peaks) < 2:
         return peaks
     keep = np.ones(len(peaks), dtype=bool)
@@ -77,7 +120,31 @@ def select_by_distance(peaks: np.ndarray, heights: np.ndarray, distance: float) 
 
 
 def peaks_above(a: np.ndarray, height: float, distance: float = 1) -> np.ndarray:
-    """``scipy.signal.find_peaks(a, height=height, distance=distance)[0]``."""
+    """``scipy.signal.find_peaks(a, height=height, distance=distance)[0]``.
+
+    Parameters
+    ----------
+    a : numpy.ndarray
+        Values, any unit.
+    height : float
+        Least height of a peak, in the unit of ``a``.
+    distance : float
+        Least spacing in samples.
+
+    Returns
+    -------
+    numpy.ndarray
+        Indices of the peaks, ascending.
+
+    References
+    ----------
+    ``scipy.signal.find_peaks`` (the reference in the tests).
+
+    Examples
+    --------
+    >>> peaks_above(np.array([0, 2, 0, 5, 0, 1, 0]), 1.5).tolist()
+    [1, 3]
+    """
     peaks = local_maxima(a)
     peaks = peaks[a[peaks] >= height]
     return select_by_distance(peaks, a[peaks], distance)
@@ -94,7 +161,34 @@ def _ratio_table(window_kind: str):
 
 
 def interpolate_line(spec: Spectrum, line: int) -> tuple[float, float]:
-    """True frequency (Hz) and amplitude of the tone whose largest line is ``line``."""
+    """True frequency (Hz) and amplitude of the tone whose largest line is ``line``.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        A windowed amplitude spectrum.
+    line : int
+        Index of the tone's largest line.
+
+    Returns
+    -------
+    tuple of float
+        Frequency in Hz and amplitude in the spectrum's unit, corrected for scalloping.
+
+    References
+    ----------
+    Grandke (1983), "Interpolation algorithms for discrete Fourier transforms of
+    weighted signals", IEEE Trans. Instrum. Meas. 32(2).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
+    >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
+    >>> f, a = interpolate_line(spec, int(np.argmax(spec.amplitude)))
+    >>> round(f, 2), round(a, 3)
+    (100.1, 2.0)
+    """
     a = spec.amplitude
     if line <= 0 or line >= len(a) - 1:
         return float(spec.freq_hz[line]), float(a[line])
@@ -107,7 +201,34 @@ def interpolate_line(spec: Spectrum, line: int) -> tuple[float, float]:
 
 
 def noise_floor(spec: Spectrum, line: int, half_width: int = 25) -> float:
-    """Median amplitude of the lines around ``line``: a robust local noise floor."""
+    """Median amplitude of the lines around ``line``: a robust local noise floor.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        An amplitude spectrum.
+    line : int
+        Index of the line.
+    half_width : int
+        Lines either side (25: the 51-line running median).
+
+    Returns
+    -------
+    float
+        The floor, in the spectrum's unit.
+
+    References
+    ----------
+    Common practice (a running median as a spectrum's local floor); Tukey (1977).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
+    >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
+    >>> noise_floor(spec, 400) < 1e-3
+    True
+    """
     if 2 * half_width + 1 == Spectrum.FLOOR_LINES:
         return float(spec.floor_at([line])[0])
     lo, hi = max(0, line - half_width), min(len(spec.amplitude), line + half_width + 1)
@@ -125,6 +246,36 @@ def find_peaks(spec: Spectrum, f_lo_hz: float = 0.0, f_hi_hz: float | None = Non
     With ``min_fraction``, only peaks at least that fraction of the largest
     qualifying peak are returned; the noise floor is then worked out only
     for the lines that could qualify (largest first), not for every maximum.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        An amplitude spectrum.
+    f_lo_hz, f_hi_hz : float
+        Frequency range searched, Hz (``f_hi_hz`` None: up to Fmax).
+    min_snr : float
+        Least amplitude over the local floor (dimensionless).
+    max_peaks : int, optional
+        Most peaks returned.
+    min_fraction : float, optional
+        Least fraction of the largest qualifying peak.
+
+    Returns
+    -------
+    list of Peak
+        Frequency in Hz, amplitude in the spectrum's unit, line and SNR.
+
+    References
+    ----------
+    Grandke (1983) for the interpolation; the local floor is common practice.
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
+    >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
+    >>> [(round(p.freq_hz, 1), round(p.amplitude, 3)) for p in find_peaks(spec, min_snr=10.0)]
+    [(100.1, 2.0), (7.0, 0.001)]
     """
     f_hi_hz = spec.fmax_hz if f_hi_hz is None else f_hi_hz
     lines = local_maxima(spec.amplitude)
@@ -182,7 +333,33 @@ class Lines:
 
 
 def interpolate_lines(spec: Spectrum, lines: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """``interpolate_line`` for many lines at once."""
+    """``interpolate_line`` for many lines at once.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        A windowed amplitude spectrum.
+    lines : numpy.ndarray
+        Indices of the tones' largest lines.
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        Frequencies in Hz and amplitudes in the spectrum's unit.
+
+    References
+    ----------
+    Grandke (1983), IEEE Trans. Instrum. Meas. 32(2).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
+    >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
+    >>> f, a = interpolate_lines(spec, np.array([28, 400]))
+    >>> np.round(f, 2).tolist(), np.round(a, 4).tolist()
+    ([7.0, 100.1], [0.001, 2.0])
+    """
     a = spec.amplitude
     lines = np.asarray(lines, dtype=int)
     freq = spec.freq_hz[lines].astype(float)
@@ -203,7 +380,35 @@ def interpolate_lines(spec: Spectrum, lines: np.ndarray) -> tuple[np.ndarray, np
 
 
 def peaks_near(spec: Spectrum, freqs_hz, tolerance_hz) -> Lines:
-    """``peak_near`` for many target frequencies at once (tolerances per target or one for all)."""
+    """``peak_near`` for many target frequencies at once (tolerances per target or one for all).
+
+    Parameters
+    ----------
+    spec : Spectrum
+        An amplitude spectrum.
+    freqs_hz : array_like
+        Target frequencies in Hz.
+    tolerance_hz : float or array_like
+        Half-width of each search, Hz (at least one line).
+
+    Returns
+    -------
+    Lines
+        Per target: found, interpolated frequency (Hz) and amplitude, line and SNR.
+
+    References
+    ----------
+    Grandke (1983) for the interpolation.
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
+    >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
+    >>> found = peaks_near(spec, [100.0, 50.0], 0.5)
+    >>> found.found.tolist(), round(float(found.freq_hz[0]), 2)
+    ([True, False], 100.1)
+    """
     target = np.atleast_1d(np.asarray(freqs_hz, dtype=float))
     count = len(target)
     f, a = spec.freq_hz, spec.amplitude
@@ -237,7 +442,36 @@ def peaks_near(spec: Spectrum, freqs_hz, tolerance_hz) -> Lines:
 
 
 def peak_near(spec: Spectrum, freq_hz: float, tolerance_hz: float) -> Peak | None:
-    """The largest local maximum within ``tolerance_hz`` of ``freq_hz``, interpolated."""
+    """The largest local maximum within ``tolerance_hz`` of ``freq_hz``, interpolated.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        An amplitude spectrum.
+    freq_hz : float
+        Target frequency, Hz.
+    tolerance_hz : float
+        Half-width of the search, Hz (at least one line).
+
+    Returns
+    -------
+    Peak or None
+        Frequency in Hz, amplitude in the spectrum's unit, line and SNR; None
+        when no local maximum lies there.
+
+    References
+    ----------
+    Grandke (1983) for the interpolation.
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(4096) / fs                        # lines 0.25 Hz apart
+    >>> spec = amplitude_spectrum(2.0 * np.sin(2 * np.pi * 100.1 * t) + 0.001 * np.sin(2 * np.pi * 7 * t), fs)
+    >>> p = peak_near(spec, 100.0, 0.5)
+    >>> round(p.freq_hz, 2), round(p.amplitude, 3), peak_near(spec, 50.0, 0.5)
+    (100.1, 2.0, None)
+    """
     half = max(tolerance_hz, spec.resolution_hz)
     lo, hi = np.searchsorted(spec.freq_hz, [freq_hz - half, freq_hz + half], side="left")
     hi = min(hi + 1, len(spec.freq_hz))

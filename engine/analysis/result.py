@@ -19,12 +19,13 @@ from types import MappingProxyType
 from typing import Mapping
 
 import numpy as np
-from scipy.fft import next_fast_len
+from ._fft import next_fast_len
 
 from ..common.errors import ReadingError
 from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..machine import Machine, Point
 from ..readings import Channel, QualityIssue, Reading, describe_issue
+from ..readings.length import FMAX_FACTOR
 from .envelope import band_from_spectrum, whitened_spectrum
 from .separation import random_part_factor
 from .impacts import ImpactTrain, impact_train
@@ -128,7 +129,29 @@ class Analysis:
 
 
 def velocity_spectrum(spec: Spectrum) -> Spectrum:
-    """mm/s RMS from an acceleration spectrum in m/s^2 peak (divide each line by 2 pi f)."""
+    """mm/s RMS from an acceleration spectrum in m/s^2 peak (divide each line by 2 pi f).
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Acceleration spectrum, m/s^2 peak.
+
+    Returns
+    -------
+    Spectrum
+        Velocity, mm/s RMS; lines below MIN_VELOCITY_HZ (2 Hz) are zero.
+
+    References
+    ----------
+    Integration of a sine: v = a / (2 pi f) (handbook formula, e.g. Harris'
+    Shock and Vibration Handbook, chapter 1); RMS = peak / sqrt 2.
+
+    Examples
+    --------
+    >>> fs = 1024.0; a = 9.80665 * np.sin(2 * np.pi * 100 * np.arange(4096) / fs)
+    >>> round(float(velocity_spectrum(Transform.of(a, fs).amplitude("peak")).amplitude.max()), 3)
+    11.036
+    """
     f = spec.freq_hz
     v = np.zeros_like(spec.amplitude)
     ok = f >= MIN_VELOCITY_HZ
@@ -144,7 +167,29 @@ def _to_acceleration(ch: Channel, fs: float) -> np.ndarray:
 
 
 def fast_length_at_most(n: int) -> int:
-    """The largest length at or below ``n`` whose FFT is fast (no prime factor above 5)."""
+    """The largest length at or below ``n`` whose FFT is fast (no prime factor above 5).
+
+    Parameters
+    ----------
+    n : int
+        Samples available.
+
+    Returns
+    -------
+    int
+        A 5-smooth length <= ``n``.
+
+    References
+    ----------
+    Frigo & Johnson (2005), "The design and implementation of FFTW3", Proc. IEEE
+    93(2) (lengths with small prime factors transform fastest);
+    ``scipy.fft.next_fast_len``.
+
+    Examples
+    --------
+    >>> fast_length_at_most(1000), fast_length_at_most(1031)
+    (1000, 1024)
+    """
     m = n
     while m > 1 and next_fast_len(m, real=True) != m:
         m -= 1
@@ -174,7 +219,14 @@ def _squared_envelope(white: np.ndarray, n: int, fs: float, band, span: float, s
     return ses, squared, sig
 
 
-def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
+def _random_white(accel: np.ndarray, fs: float) -> np.ndarray:
+    """The prewhitened one-sided FFT of ``accel`` with its deterministic lines taken out."""
+    white = whitened_spectrum(accel)
+    white *= random_part_factor(accel, fs, len(white), len(accel))     # discrete/random separation
+    return white
+
+
+def _envelopes(white: np.ndarray, n: int, fs: float, fastest_defect_hz: float | None):
     """The kurtogram band's envelope (Antoni 2007) and, beside it, the whole prewhitened signal
     above the defect harmonics (cepstral prewhitening then envelope: Smith & Randall's
     method 2). An impulsive band can be a single burst of noise; the wide view catches a
@@ -184,14 +236,13 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     harmonics beat at a defect's rate does not pass for a bearing."""
     if fastest_defect_hz is None:
         return None, (), None, None
-    n = len(accel)
-    white = whitened_spectrum(accel)
-    white *= random_part_factor(accel, fs, len(white), n)     # deterministic lines out (discrete/random separation)
     span = ENVELOPE_HARMONICS * fastest_defect_hz
     kg = kurtogram_of_spectrum(white, n, fs, max_level=KURTOGRAM_LEVELS, trim_fraction=EDGE_TRIM,
-                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4))
+                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4), fmax_hz=fs / FMAX_FACTOR)
     band = (kg.best.f_lo_hz, kg.best.f_hi_hz)
     ses, squared, sig = _squared_envelope(white, n, fs, band, span)
+    squared_fs = sig.fs_hz
+    del sig                         # the band signal itself is not kept: free it before the wide view
     views = [EnvelopeView("kurtogram", ses, band, kg.best.kurtosis)]
     wide = (min(span, fs / 8), 0.45 * fs)
     wide_ses, _, wide_sig = _squared_envelope(white, n, fs, wide, span, spectrum_only=True)
@@ -200,7 +251,7 @@ def _envelopes(accel: np.ndarray, fs: float, fastest_defect_hz: float | None):
     mean_power = float(power.mean())
     spectral_kurtosis = float(np.mean(np.square(power, out=power)) / mean_power ** 2 - 2)   # Antoni 2006
     views.append(EnvelopeView("wide", wide_ses, wide, spectral_kurtosis))
-    return kg, tuple(views), squared, sig.fs_hz
+    return kg, tuple(views), squared, squared_fs
 
 
 def _speed_from_mesh(spectrum: Spectrum, fr: float, orders: tuple[int, ...]) -> float:
@@ -254,7 +305,8 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
                 out[shaft] = done[orders[shaft]]
         if len(rows):
             rest_rows = rows if rest is accel else revolution_rows(rest, fs, speed_hz, spr)
-            rest = rest - synchronous_part(rest_rows, len(accel), fs, speed_hz)
+            part = synchronous_part(rest_rows, len(accel), fs, speed_hz)
+            rest = np.subtract(rest, part, out=part)      # rest - part, in part's memory
     return out, rest
 
 
@@ -314,6 +366,38 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     """Analyse every usable channel of ``reading`` for ``machine``.
 
     Raises ReadingError when no channel passed the blocking quality gates.
+
+    Parameters
+    ----------
+    reading : Reading
+        The channels in SI units, their sample rate and quality notes.
+    machine : Machine
+        The machine's kinematics and measurement points.
+
+    Returns
+    -------
+    Analysis
+        Speeds (Hz), rates, forcing frequencies, and per channel the Hann
+        spectrum (m/s^2 peak), the velocity spectrum (mm/s RMS), overall levels,
+        the kurtogram and envelope views, the impact train and the
+        once-per-revolution events of each shaft.
+
+    References
+    ----------
+    ISO 20816-3:2022 (levels); Antoni (2007) (kurtogram); Randall & Antoni
+    (2011) (envelope); McFadden (1987) (synchronous averaging); the module
+    docstrings cite each step.
+
+    Examples
+    --------
+    >>> from engine.common.paths import CASES
+    >>> from engine.machine import load_machine
+    >>> from engine.simulation import as_reading, simulate
+    >>> machine = load_machine(CASES / "machines" / "rw2-raw-water-pump.yaml")   # the demo pump, 1486 r/min
+    >>> reading = as_reading(simulate(machine, "unbalance", None, 2, None, 5120.0, 4.0, 1, ["P1H"]))
+    >>> a = analyse(reading, machine)
+    >>> abs(a.speed_estimate.speed_hz * 60 - 1486) < 2, a.channels[0].levels.velocity_band_hz
+    (True, (10.0, 1000.0))
     """
     fs = reading.fs_hz
     points = {p.id: p for p in machine.points}
@@ -327,6 +411,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         transform = Transform.of(a, fs)
         spectra[name] = transform.amplitude("peak")
         iso[name] = iso_velocities(transform, "acceleration")
+        del transform
     velocity = {name: velocity_spectrum(s) for name, s in spectra.items()}
 
     first_point = next((points[c.point] for c in usable if c.point in points), None)
@@ -336,14 +421,18 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     rates = rates_at(machine, speeds)
     defects = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
     fastest = max(defects) if defects else None
-    synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
-                   for ch in usable}
-    envelopes = {ch.name: _envelopes(synchronous[ch.name][1], fs, fastest) for ch in usable}
+    synchronous, envelopes = {}, {}
+    for ch in usable:               # each channel's record less its synchronous parts is dropped once whitened
+        synchronous[ch.name], rest = _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
+        white = _random_white(rest, fs) if fastest is not None else None
+        del rest
+        envelopes[ch.name] = _envelopes(white, reading.n_samples, fs, fastest)
+        del white
     if not speed.refined and defects:
         speed = _speed_from_envelopes([e[1] for e in envelopes.values()], rates, speed)
         speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
         rates = rates_at(machine, speeds)
-        synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
+        synchronous = {ch.name: _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])[0]
                        for ch in usable}
     candidates = _impact_candidates_hz(rates)
     # the speed shaft's own lines stand clearest at its own points (a slow shaft's harmonics can
@@ -372,7 +461,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
             levels=levels_of(a, iso[ch.name], fs, "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
-            synchronous=MappingProxyType(synchronous[ch.name][0]),
+            synchronous=MappingProxyType(synchronous[ch.name]),
             issues=tuple(reading.issues_for(ch.name)),
         ))
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),

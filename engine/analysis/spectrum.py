@@ -18,8 +18,9 @@ from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
+from ..readings.band_rms import band_rms_of_fft
 from .windows import enbw_bins, hann_from_rectangular, window, window_name, window_sum
 
 SCALINGS = {"peak": 1.0, "rms": 1.0 / np.sqrt(2.0), "peak-to-peak": 2.0}
@@ -27,8 +28,35 @@ FLOOR_CHUNK = 65536
 
 
 def running_median(a: np.ndarray, lines: np.ndarray, size: int) -> np.ndarray:
-    """Median of the ``size`` values centred on each of ``lines`` (edges repeat the end value),
-    as ``scipy.ndimage.median_filter(a, size, mode="nearest")`` gives at those lines (odd ``size``)."""
+    """Median of the ``size`` values centred on each of ``lines`` (edges repeat the end value).
+
+    As ``scipy.ndimage.median_filter(a, size, mode="nearest")`` gives at those
+    lines (odd ``size``); the tests hold it against scipy.
+
+    Parameters
+    ----------
+    a : numpy.ndarray
+        Values (a spectrum's amplitudes, any unit).
+    lines : array_like of int
+        Indices at which the median is wanted.
+    size : int
+        Odd window length in lines.
+
+    Returns
+    -------
+    numpy.ndarray
+        The running median at ``lines``, in the unit of ``a``.
+
+    References
+    ----------
+    Tukey (1977), "Exploratory Data Analysis" (running medians); the local
+    noise floor of a spectrum as a running median is common practice.
+
+    Examples
+    --------
+    >>> running_median(np.array([1.0, 9.0, 2.0, 3.0, 4.0]), [0, 2, 4], 3).tolist()
+    [1.0, 3.0, 4.0]
+    """
     half = size // 2
     lines = np.asarray(lines, dtype=int)
     out = np.empty(len(lines))
@@ -77,10 +105,16 @@ class Spectrum:
         return (self.freq_hz >= f_lo_hz) & (self.freq_hz <= f_hi_hz)
 
     def below(self, f_hi_hz: float) -> "Spectrum":
-        """The same spectrum cut at ``f_hi_hz``."""
+        """The same spectrum cut at ``f_hi_hz``.
+
+        A cut that keeps less than half of the lines owns its arrays, so that
+        a short spectrum kept in the result does not hold a long one in memory.
+        """
         keep = int(np.searchsorted(self.freq_hz, f_hi_hz, side="right"))
-        return Spectrum(self.freq_hz[:keep], self.amplitude[:keep], self.scaling, self.window,
-                        self.resolution_hz, self.enbw_hz, self.averages)
+        freq, amplitude = self.freq_hz[:keep], self.amplitude[:keep]
+        if 2 * keep < len(self.freq_hz):
+            freq, amplitude = freq.copy(), amplitude.copy()
+        return Spectrum(freq, amplitude, self.scaling, self.window, self.resolution_hz, self.enbw_hz, self.averages)
 
 
 def _scale(scaling: str) -> float:
@@ -126,16 +160,10 @@ class Transform:
 
         The same estimate as ``scipy.signal.periodogram(x, fs, window="hann",
         scaling="density")`` summed over the band: |Y|^2 / (fs S2), doubled
-        except at DC and Nyquist, with S2 = 3N/8 for the periodic Hann window.
+        except at DC and Nyquist, with S2 = 3N/8 for the periodic Hann window
+        (``engine.readings.band_rms``, which the quality gates use too).
         """
-        f = self.freq_hz
-        band = (f >= f_lo_hz) & (f <= f_hi_hz) & (f > 0)
-        power = np.abs(self.hann[band]) ** 2 / (self.fs_hz * 3.0 * self.n / 8.0)
-        idx = np.flatnonzero(band)
-        double = np.ones(len(idx))
-        double[idx != (self.n // 2 if self.n % 2 == 0 else -1)] = 2.0
-        weight = (2 * np.pi * f[band]) ** (-2 * integrations)
-        return float(np.sqrt(np.sum(power * double * weight) * (self.fs_hz / self.n)))
+        return band_rms_of_fft(self.rect, self.n, self.fs_hz, f_lo_hz, f_hi_hz, integrations, hann=self.hann)
 
 
 def amplitude_spectrum(x, fs: float, window_kind: str = "hann", scaling: str = "peak") -> Spectrum:
@@ -151,6 +179,16 @@ def amplitude_spectrum(x, fs: float, window_kind: str = "hann", scaling: str = "
         hann (default), hamming, flattop, rectangular, blackmanharris.
     scaling : str
         peak, rms or peak-to-peak.
+
+    Returns
+    -------
+    Spectrum
+        Lines 0 to fs/2 in Hz; amplitudes in the unit of ``x`` with the window's
+        coherent gain divided out.
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), sections 9-10 (amplitude scaling by S1).
 
     Examples
     --------
@@ -175,7 +213,40 @@ def amplitude_spectrum(x, fs: float, window_kind: str = "hann", scaling: str = "
 
 def averaged_spectrum(x, fs: float, nperseg: int, overlap: float = 0.5,
                       window_kind: str = "hann", scaling: str = "peak") -> Spectrum:
-    """Welch-averaged amplitude spectrum over segments of ``nperseg`` samples."""
+    """Welch-averaged amplitude spectrum over segments of ``nperseg`` samples.
+
+    Parameters
+    ----------
+    x : array_like
+        Samples, any unit.
+    fs : float
+        Sample rate in Hz.
+    nperseg : int
+        Segment length in samples.
+    overlap : float
+        Fraction of a segment shared with the next (0.5).
+    window_kind : str
+        Window name (hann).
+    scaling : str
+        peak, rms or peak-to-peak.
+
+    Returns
+    -------
+    Spectrum
+        Amplitudes in the unit of ``x`` from the averaged power, and the number of averages.
+
+    References
+    ----------
+    Welch (1967), "The use of fast Fourier transform for the estimation of power
+    spectra", IEEE Trans. Audio Electroacoust. 15(2); ``scipy.signal.welch``.
+
+    Examples
+    --------
+    >>> fs = 1024.0; t = np.arange(8192) / fs
+    >>> s = averaged_spectrum(2.0 * np.sin(2 * np.pi * 128 * t), fs, 1024)
+    >>> round(float(s.amplitude.max()), 6), s.averages
+    (2.0, 15)
+    """
     from scipy import signal
 
     x = np.asarray(x, dtype=float)
@@ -196,6 +267,31 @@ def integration_gain(f: np.ndarray, f_low_hz: float, times: int) -> np.ndarray:
     Each line is divided by (j 2 pi f)^times; lines below ``f_low_hz`` are
     removed with a half-cosine taper over the octave below it, because
     integration would otherwise amplify sensor drift without bound.
+
+    Parameters
+    ----------
+    f : numpy.ndarray
+        Line frequencies in Hz.
+    f_low_hz : float
+        Lowest frequency passed whole, Hz.
+    times : int
+        Integrations (1: acceleration to velocity), negative to differentiate.
+
+    Returns
+    -------
+    numpy.ndarray
+        Complex gain per line, in s^times.
+
+    References
+    ----------
+    Brandt (2011), "Noise and Vibration Analysis", section 9.3 (integration in
+    the frequency domain, dividing by j omega).
+
+    Examples
+    --------
+    >>> g = integration_gain(np.array([0.0, 1.0, 10.0]), 2.0, 1)
+    >>> [complex(round(v.real, 6), round(v.imag, 6)) for v in g]
+    [0j, 0j, -0.015915j]
     """
     gain = np.zeros_like(f)
     above = f >= f_low_hz
@@ -214,6 +310,33 @@ def integrate(x, fs: float, f_low_hz: float, times: int = 1) -> np.ndarray:
     Acceleration in m/s^2 becomes velocity in m/s (once) or displacement in m
     (twice); a negative ``times`` differentiates instead (see
     ``integration_gain``). The record is treated as periodic, as the FFT does.
+
+    Parameters
+    ----------
+    x : array_like
+        Samples (m/s^2 to give m/s).
+    fs : float
+        Sample rate in Hz.
+    f_low_hz : float
+        Lowest frequency kept whole, Hz.
+    times : int
+        Integrations, negative to differentiate.
+
+    Returns
+    -------
+    numpy.ndarray
+        The integrated record, same length.
+
+    References
+    ----------
+    Brandt (2011), "Noise and Vibration Analysis", section 9.3.
+
+    Examples
+    --------
+    >>> fs = 1000.0; t = np.arange(1000) / fs
+    >>> v = integrate(2 * np.pi * 10 * np.cos(2 * np.pi * 10 * t), fs, 2.0)
+    >>> round(float(np.max(np.abs(v - np.sin(2 * np.pi * 10 * t)))), 9)   # the integral of the cosine
+    0.0
     """
     x = np.asarray(x, dtype=float)
     n = len(x)
@@ -228,5 +351,32 @@ def band_rms(x, fs: float, f_lo_hz: float, f_hi_hz: float, integrations: int = 0
     Computed from the Hann-windowed periodogram, so the window's energy is
     corrected (Parseval); with ``integrations=1`` acceleration in m/s^2 gives
     velocity RMS in m/s. ``scipy.signal.periodogram`` is the reference in the tests.
+
+    Parameters
+    ----------
+    x : array_like
+        Samples, any unit.
+    fs : float
+        Sample rate in Hz.
+    f_lo_hz, f_hi_hz : float
+        Band edges in Hz (both included).
+    integrations : int
+        Integrations before the RMS (0).
+
+    Returns
+    -------
+    float
+        RMS in the unit of ``x`` (times s^integrations).
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), section 9 (power spectral density,
+    S2 = 3N/8 for the periodic Hann window).
+
+    Examples
+    --------
+    >>> fs = 1024.0; t = np.arange(4096) / fs
+    >>> round(band_rms(np.sin(2 * np.pi * 100 * t) + np.sin(2 * np.pi * 300 * t), fs, 50.0, 150.0), 6)
+    0.707107
     """
     return Transform.of(x, fs).band_rms(f_lo_hz, f_hi_hz, integrations)

@@ -121,6 +121,41 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
     at the same speed count once. ``synchronous`` adds lines locked to a
     shaft, as (Hz at the same speeds, order): a gear mesh (teeth x 1X) or a
     vane pass, whose high order resolves the speed finely when it stands out.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Velocity (or acceleration) amplitude spectrum.
+    shafts_hz : Mapping
+        Shaft id -> nominal speed, Hz.
+    reference : str
+        The shaft whose speed is returned.
+    search_fraction : float
+        How far from the nominal speeds the scale is searched (0.05: 5 %).
+    exclude_hz : sequence of float
+        Lines to keep out (line frequency harmonics), Hz.
+    synchronous : sequence of tuple
+        (Hz at the nominal speeds, order) of shaft-locked lines.
+
+    Returns
+    -------
+    SpeedEstimate
+        Speed and nominal speed in Hz, the orders found, whether refined.
+
+    References
+    ----------
+    Rife & Boorstyn (1974), "Single-tone parameter estimation from discrete-time
+    observations", IEEE Trans. Inf. Theory 20(5) (weights by SNR).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
+    >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
+    >>> e = refine_speeds(spec, {"motor": 25.0, "fan": 12.5}, "motor")
+    >>> round(e.speed_hz, 2), e.refined
+    (24.7, True)
     """
     distinct = sorted({round(hz, 9) for hz in shafts_hz.values()})
     synchronous = [(hz, int(k)) for hz, k in synchronous]
@@ -144,14 +179,76 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
 
 def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: float = 0.05,
                          harmonics: int = HARMONICS, exclude_hz=()) -> SpeedEstimate:
-    """Find the shaft speed near ``nominal_hz`` whose harmonics best explain the spectrum."""
+    """Find the shaft speed near ``nominal_hz`` whose harmonics best explain the spectrum.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Amplitude spectrum.
+    nominal_hz : float
+        Nominal or stated speed, Hz.
+    search_fraction : float
+        Search half-width as a fraction of the speed.
+    harmonics : int
+        Harmonics looked at (unused beyond the module's default, kept for callers).
+    exclude_hz : sequence of float
+        Lines kept out, Hz.
+
+    Returns
+    -------
+    SpeedEstimate
+        As ``refine_speeds``.
+
+    References
+    ----------
+    Rife & Boorstyn (1974), IEEE Trans. Inf. Theory 20(5).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
+    >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
+    >>> round(refine_running_speed(spec, 25.0).speed_rpm, 1)
+    1482.0
+    """
     return refine_speeds(spec, {"shaft": nominal_hz}, "shaft", search_fraction, exclude_hz)
 
 
 def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
                      search_fraction: float = 0.05) -> SpeedEstimate | None:
     """The reference shaft's speed from the bearing-tone family that stands out most in a squared
-    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does."""
+    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does.
+
+    Parameters
+    ----------
+    ses : Spectrum
+        Squared envelope spectrum.
+    rates_hz : list of float
+        Each bearing-tone family's rate at the nominal speed, Hz.
+    nominal_hz : float
+        Nominal speed of the reference shaft, Hz.
+    search_fraction : float
+        Search half-width as a fraction of the speed.
+
+    Returns
+    -------
+    SpeedEstimate or None
+        Speed in Hz from the family's harmonics (source "bearing tones").
+
+    References
+    ----------
+    Randall & Antoni (2011), MSSP 25(2), section 2 (bearing tones slip 1-2 %
+    against their kinematic rates).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(65536) / fs
+    >>> ses = amplitude_spectrum(sum(np.cos(2 * np.pi * k * 89.15 * t) for k in range(1, 5)), fs)
+    >>> round(speed_from_tones(ses, [89.6], 25.0).speed_hz, 3)       # 25 x 89.15 / 89.6
+    24.874
+    """
     best = None
     for rate in rates_hz:
         if rate * search_fraction < TONE_LINES * ses.resolution_hz:
@@ -181,6 +278,36 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
     frequency harmonics, pass and mesh frequencies): a half order or a
     harmonic of twice the speed within a Hann main lobe (2 lines) or 0.5 % of
     one of them is not counted, since it needs no wrong speed to explain it.
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Velocity amplitude spectrum.
+    speed_hz : float
+        The speed used, Hz.
+    exclude_hz : sequence of float
+        Lines the machine explains, Hz.
+
+    Returns
+    -------
+    dict
+        Counts, ratios and dB values named by the evidence's fields.
+
+    References
+    ----------
+    Common practice: a sample rate or speed off by two moves every line to half
+    or twice its order (sub-harmonics at 0.5X are otherwise a sign of rubs and
+    looseness, Randall 2011, section 2.2).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
+    >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
+    >>> c = half_and_double(spec, 24.7)
+    >>> c["half_order_lines"], c["one_x_found"], c["odd_order_lines"]
+    (0, True, 3)
     """
     df = spec.resolution_hz
     excluded = np.asarray(exclude_hz, dtype=float)
@@ -281,12 +408,44 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
     stated speed: a candidate 1X within ``near`` of one of them, of its
     harmonics or of its halves and thirds is that shaft's, not a contradiction.
 
-    Returns each family's lines and chance (%), the tallest line within ``near``
-    of the stated 1X over its floor (dB; 0 when none stands ``MIN_HARMONIC_SNR``
-    over it; the far family's 1X, when it lies just beyond ``near``, is not
-    counted), the far family's 1X line over its floor (dB; 0 when its 1X does
-    not stand), the far family's speed over the stated one (``far_family_scale``;
-    0 when no harmonic stands) and its 1X, Hz.
+    Parameters
+    ----------
+    spec : Spectrum
+        Velocity amplitude spectrum.
+    stated_hz : float
+        Stated speed of the shaft, Hz.
+    exclude_hz : sequence of float
+        Lines that count for no family, Hz.
+    others_hz : sequence of float
+        The other shafts' speeds, Hz.
+    span : float
+        How far from the stated speed candidates are searched (fraction).
+    near : float
+        Within this fraction a family is "near" the stated speed.
+
+    Returns
+    -------
+    dict
+        Each family's lines and chance (%), the tallest line within ``near``
+        of the stated 1X over its floor (dB), the far family's 1X over its floor
+        (dB), the far family's speed over the stated one (``far_family_scale``; 0
+        when no harmonic stands) and its 1X, Hz.
+
+    References
+    ----------
+    Common practice (a shaft is known by its harmonic family); the chance of a
+    family from unrelated lines is a binomial tail (Feller 1968, "An
+    Introduction to Probability Theory and Its Applications", vol. 1, chapter 6).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(32768) / fs; rng = np.random.default_rng(0)
+    >>> x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6)) + 0.01 * rng.standard_normal(len(t))
+    >>> spec = amplitude_spectrum(x, fs)                              # harmonics of 24.7 Hz, lines 1/32 Hz apart
+    >>> f = shaft_family(spec, 23.0)                    # stated 7 % low: the family lies beyond 5 %
+    >>> f["far_family_lines"] >= 3, round(f["far_family_scale"] * 23.0, 1)
+    (True, 24.7)
     """
     df = spec.resolution_hz
     amp = spec.amplitude

@@ -26,7 +26,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import fft as sfft
+from . import _fft as sfft
 
 
 LOW_ORDERS = (0, 1, 2, 3)
@@ -54,19 +54,85 @@ class Revolutions:
 
 
 def default_samples_per_rev(fs: float, speed_hz: float) -> int:
-    """The power of two at or above the samples one revolution holds in time."""
+    """The power of two at or above the samples one revolution holds in time.
+
+    Parameters
+    ----------
+    fs : float
+        Sample rate in Hz.
+    speed_hz : float
+        Shaft speed in Hz.
+
+    Returns
+    -------
+    int
+        Samples per revolution.
+
+    References
+    ----------
+    McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1).
+
+    Examples
+    --------
+    >>> default_samples_per_rev(25600.0, 24.75), default_samples_per_rev(1024.0, 4.0)
+    (2048, 256)
+    """
     return int(2 ** np.ceil(np.log2(fs / speed_hz)))
 
 
 def keys_weights(u: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Weights of samples i-1, i, i+1, i+2 for a point u (0 <= u < 1) past sample i (Keys, a = -0.5)."""
+    """Weights of samples i-1, i, i+1, i+2 for a point u (0 <= u < 1) past sample i (Keys, a = -0.5).
+
+    Parameters
+    ----------
+    u : numpy.ndarray
+        Fractional positions past each sample, 0 <= u < 1.
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        The four weights (dimensionless; they sum to 1).
+
+    References
+    ----------
+    Keys (1981), "Cubic convolution interpolation for digital image processing",
+    IEEE Trans. ASSP 29(6), eq. (15) with a = -0.5.
+
+    Examples
+    --------
+    >>> [float(w[0]) for w in keys_weights(np.array([0.5]))]
+    [-0.0625, 0.5625, 0.5625, -0.0625]
+    """
     u2 = u * u
     u3 = u2 * u
     return (0.5 * (2 * u2 - u3 - u), 0.5 * (3 * u3 - 5 * u2) + 1, 0.5 * (4 * u2 + u - 3 * u3), 0.5 * (u3 - u2))
 
 
 def resample_at(x: np.ndarray, positions: np.ndarray) -> np.ndarray:
-    """``x`` at fractional sample ``positions`` by cubic convolution (ends held)."""
+    """``x`` at fractional sample ``positions`` by cubic convolution (ends held).
+
+    Parameters
+    ----------
+    x : numpy.ndarray
+        Samples, any unit.
+    positions : numpy.ndarray
+        Fractional sample indices.
+
+    Returns
+    -------
+    numpy.ndarray
+        ``x`` interpolated there, in the unit of ``x``.
+
+    References
+    ----------
+    Keys (1981), IEEE Trans. ASSP 29(6) (exact for a quadratic, a = -0.5).
+
+    Examples
+    --------
+    >>> resample_at(np.arange(8.0) ** 2, np.array([2.5, 3.25])).tolist()     # exact for a quadratic
+    [6.25, 10.5625]
+    """
     i = np.floor(positions).astype(np.int64)
     u = positions - i
     w_before, w_at, w_after, w_next = keys_weights(u)
@@ -82,10 +148,40 @@ def resample_at(x: np.ndarray, positions: np.ndarray) -> np.ndarray:
 
 
 ROWS_PER_SLICE = 64
+SAMPLES_PER_SLICE = 1 << 16
 
 
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:
-    """The whole revolutions of ``x`` at a constant ``speed_hz``, one per row, from t = 0."""
+    """The whole revolutions of ``x`` at a constant ``speed_hz``, one per row, from t = 0.
+
+    Parameters
+    ----------
+    x : numpy.ndarray
+        Samples, any unit.
+    fs : float
+        Sample rate in Hz.
+    speed_hz : float
+        Shaft speed in Hz.
+    samples_per_rev : int
+        Samples per row.
+
+    Returns
+    -------
+    numpy.ndarray
+        (revolutions, samples_per_rev), in the unit of ``x``.
+
+    References
+    ----------
+    McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1).
+
+    Examples
+    --------
+    >>> fs = 1000.0; x = np.sin(2 * np.pi * 10 * np.arange(1000) / fs)
+    >>> rows = revolution_rows(x, fs, 10.0, 64)
+    >>> rows.shape, round(float(np.max(np.abs(rows - rows[0]))), 6)       # every turn alike
+    ((9, 64), 0.0)
+    """
     count = int(np.floor((len(x) - 1) / fs * speed_hz + 1e-9))
     rows = np.empty((count, samples_per_rev))
     step = fs / (speed_hz * samples_per_rev)          # input samples per output sample
@@ -103,17 +199,48 @@ def synchronous_part(rows: np.ndarray, n: int, fs: float, speed_hz: float) -> np
 
     Subtracted from the record it leaves the part that does not repeat with
     the shaft (bearing impacts, with their random slip), the way gear signals
-    are removed before a bearing's envelope analysis (Randall & Antoni 2011,
-    "Rolling element bearing diagnostics - a tutorial", MSSP 25(2), section
-    3.1; McFadden 1987 for the average). Each sample's angle is its time times
-    the speed, from the first revolution's start at t = 0; the average is
-    read there by cubic convolution, periodically.
+    are removed before a bearing's envelope analysis. Each sample's angle is
+    its time times the speed, from the first revolution's start at t = 0; the
+    average is read there by cubic convolution, periodically, in slices of
+    ``SAMPLES_PER_SLICE`` samples (the interpolation's temporaries stay small).
+
+    Parameters
+    ----------
+    rows : numpy.ndarray
+        Revolutions, (count, samples per revolution).
+    n : int
+        Record length in samples.
+    fs : float
+        Sample rate in Hz.
+    speed_hz : float
+        Shaft speed in Hz.
+
+    Returns
+    -------
+    numpy.ndarray
+        ``n`` samples in the unit of ``rows``.
+
+    References
+    ----------
+    Randall & Antoni (2011), "Rolling element bearing diagnostics - a tutorial",
+    MSSP 25(2), section 3.1; McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1).
+
+    Examples
+    --------
+    >>> fs = 1000.0; t = np.arange(2000) / fs; x = np.sin(2 * np.pi * 10 * t)
+    >>> part = synchronous_part(revolution_rows(x, fs, 10.0, 100), len(x), fs, 10.0)
+    >>> round(float(np.max(np.abs(x - part))), 6)                         # a 1X sine is all synchronous
+    0.0
     """
     tsa = rows.mean(axis=0)
     spr = len(tsa)
-    positions = np.arange(n) * (speed_hz * spr / fs) % spr
     periodic = np.concatenate((tsa[-1:], tsa, tsa[:2]))
-    return resample_at(periodic, positions + 1.0)
+    out = np.empty(n)
+    for start in range(0, n, SAMPLES_PER_SLICE):      # in slices: the interpolation's temporaries stay small
+        positions = np.arange(start, min(n, start + SAMPLES_PER_SLICE)) * (speed_hz * spr / fs) % spr
+        out[start:start + len(positions)] = resample_at(periodic, positions + 1.0)
+    return out
 
 
 def tach_pulse_times(tach, fs: float, pulses_per_rev: int = 1, threshold: float | None = None) -> np.ndarray:
@@ -121,6 +248,33 @@ def tach_pulse_times(tach, fs: float, pulses_per_rev: int = 1, threshold: float 
 
     The crossing is interpolated between samples; with several pulses per
     revolution every ``pulses_per_rev``-th one is kept.
+
+    Parameters
+    ----------
+    tach : array_like
+        Tach signal, any unit.
+    fs : float
+        Sample rate in Hz.
+    pulses_per_rev : int
+        Pulses per revolution.
+    threshold : float, optional
+        Crossing level (default: halfway between the extremes).
+
+    Returns
+    -------
+    numpy.ndarray
+        Pulse times in s.
+
+    References
+    ----------
+    Common practice (once-per-revolution tach reference for order analysis);
+    Brandt (2011), "Noise and Vibration Analysis", section 12.2.
+
+    Examples
+    --------
+    >>> tach = np.tile([0.0, 0.0, 1.0, 1.0], 3)
+    >>> tach_pulse_times(tach, 4.0).tolist()
+    [0.375, 1.375, 2.375]
     """
     tach = np.asarray(tach, dtype=float)
     level = (tach.max() + tach.min()) / 2 if threshold is None else threshold
@@ -137,6 +291,36 @@ def cut_revolutions(x, fs: float, speed_hz: float | None = None, pulse_times=Non
     Give either a constant ``speed_hz`` or ``pulse_times`` (one per revolution,
     from ``tach_pulse_times``). The default samples per revolution is the
     power of two at or above the samples one revolution holds in time.
+
+    Parameters
+    ----------
+    x : array_like
+        Samples, any unit.
+    fs : float
+        Sample rate in Hz.
+    speed_hz : float, optional
+        Constant shaft speed in Hz.
+    pulse_times : array_like, optional
+        One time per revolution, s.
+    samples_per_rev : int, optional
+        Samples per revolution.
+
+    Returns
+    -------
+    Revolutions
+        (revolutions, samples per revolution) and the mean speed in Hz.
+
+    References
+    ----------
+    McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1).
+
+    Examples
+    --------
+    >>> fs = 1000.0; x = np.sin(2 * np.pi * 10 * np.arange(1000) / fs)
+    >>> revs = cut_revolutions(x, fs, speed_hz=10.0)
+    >>> revs.count, revs.samples_per_rev, revs.speed_hz
+    (9, 128, 10.0)
     """
     x = np.asarray(x, dtype=float)
     duration = (len(x) - 1) / fs
@@ -164,7 +348,39 @@ def cut_revolutions(x, fs: float, speed_hz: float | None = None, pulse_times=Non
 
 def synchronous_average(x, fs: float, speed_hz: float | None = None, pulse_times=None,
                         samples_per_rev: int | None = None) -> tuple[np.ndarray, int]:
-    """Time synchronous average of ``x``: one revolution, and how many were averaged."""
+    """Time synchronous average of ``x``: one revolution, and how many were averaged.
+
+    Parameters
+    ----------
+    x : array_like
+        Samples, any unit.
+    fs : float
+        Sample rate in Hz.
+    speed_hz : float, optional
+        Constant shaft speed in Hz.
+    pulse_times : array_like, optional
+        One time per revolution, s.
+    samples_per_rev : int, optional
+        Samples per revolution.
+
+    Returns
+    -------
+    tuple
+        The average revolution (unit of ``x``) and the number of revolutions.
+
+    References
+    ----------
+    McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1). Noise falls by about sqrt(revolutions).
+
+    Examples
+    --------
+    >>> fs = 1000.0; t = np.arange(10000) / fs
+    >>> x = np.sin(2 * np.pi * 10 * t) + np.random.default_rng(0).standard_normal(len(t))
+    >>> tsa, count = synchronous_average(x, fs, speed_hz=10.0, samples_per_rev=100)
+    >>> count, bool(np.max(np.abs(tsa - np.sin(2 * np.pi * np.arange(100) / 100))) < 0.5)
+    (99, True)
+    """
     revs = cut_revolutions(x, fs, speed_hz, pulse_times, samples_per_rev)
     return revs.average(), revs.count
 
@@ -181,7 +397,32 @@ class SynchronousEvents:
 
 
 def difference_signals(rows: np.ndarray, mesh_orders: list[int]) -> np.ndarray:
-    """Each revolution less its low orders (0-3) and each mesh harmonic with its first sidebands."""
+    """Each revolution less its low orders (0-3) and each mesh harmonic with its first sidebands.
+
+    Parameters
+    ----------
+    rows : numpy.ndarray
+        Revolutions, (count, samples per revolution), any unit.
+    mesh_orders : list of int
+        Teeth of each gear on the shaft (its mesh orders).
+
+    Returns
+    -------
+    numpy.ndarray
+        The difference signals, same shape and unit.
+
+    References
+    ----------
+    Stewart (1977), "Some useful data analysis techniques for gearbox
+    diagnostics" (the difference signal and FM4).
+
+    Examples
+    --------
+    >>> k = np.arange(64) / 64
+    >>> rows = np.tile(np.sin(2 * np.pi * 20 * k) + np.sin(2 * np.pi * 2 * k), (3, 1))
+    >>> round(float(np.max(np.abs(difference_signals(rows, [20])))), 9)   # mesh and 2X both removed
+    0.0
+    """
     spec = sfft.rfft(rows, axis=1)
     orders = np.arange(spec.shape[1])
     drop = np.isin(orders, LOW_ORDERS)
@@ -200,12 +441,69 @@ def synchronous_events(x: np.ndarray, fs: float, speed_hz: float, samples_per_re
     Each revolution's difference signal is formed from its own spectrum (one
     batched FFT); their average is the difference signal of the TSA. None
     when the record holds no whole revolution or the difference is empty.
+
+    Parameters
+    ----------
+    x : numpy.ndarray
+        Samples, any unit.
+    fs : float
+        Sample rate in Hz.
+    speed_hz : float
+        Shaft speed in Hz.
+    samples_per_rev : int
+        Samples per revolution.
+    mesh_orders : list of int
+        Teeth of each gear on the shaft.
+
+    Returns
+    -------
+    SynchronousEvents or None
+        Revolutions, FM4 (about 3 when healthy), peak over RMS, peak angle in
+        degrees and the share of turns whose own largest spike lies within 36
+        degrees of it.
+
+    References
+    ----------
+    Stewart (1977); McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1).
+
+    Examples
+    --------
+    >>> fs = 2048.0; x = np.zeros(20480); x[512::256] = 1.0          # one spike per turn at 8 Hz
+    >>> e = synchronous_events(x, fs, 8.0, 256, [17])
+    >>> e.revolutions, round(e.peak_angle_deg), e.repeat_fraction, e.fm4 > 10
+    (79, 0, 1.0, True)
     """
     return events_of_rows(revolution_rows(np.asarray(x, dtype=float), fs, speed_hz, samples_per_rev), mesh_orders)
 
 
 def events_of_rows(rows: np.ndarray, mesh_orders: list[int]) -> SynchronousEvents | None:
-    """``synchronous_events`` of revolutions already cut (shafts at one speed share their rows)."""
+    """``synchronous_events`` of revolutions already cut (shafts at one speed share their rows).
+
+    Parameters
+    ----------
+    rows : numpy.ndarray
+        Revolutions, (count, samples per revolution), any unit.
+    mesh_orders : list of int
+        Teeth of each gear on the shaft.
+
+    Returns
+    -------
+    SynchronousEvents or None
+        As ``synchronous_events``.
+
+    References
+    ----------
+    Stewart (1977); McFadden (1987), "A revised model for the extraction of periodic waveforms by
+    time domain averaging", MSSP 1(1).
+
+    Examples
+    --------
+    >>> rows = np.zeros((10, 64)); rows[:, 16] = 1.0                   # a spike a quarter turn in
+    >>> e = events_of_rows(rows, [])
+    >>> e.revolutions, e.peak_angle_deg, e.repeat_fraction
+    (10, 90.0, 1.0)
+    """
     if len(rows) == 0:
         return None
     samples_per_rev = rows.shape[1]

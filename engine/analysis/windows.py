@@ -10,7 +10,8 @@ The Hann window, the one the diagnosis uses, is the closed form
 0.5 - 0.5 cos(2 pi k / N) (identical to ``scipy.signal.get_window("hann", N)``,
 which the tests use as reference); its transform has three non-zero lines, so
 a Hann spectrum follows from the plain FFT of the same record by a three-tap
-sum (``hann_from_rectangular``) instead of a second FFT. The other windows
+sum (``hann_from_rectangular``, kept in ``engine.readings.band_rms`` with the
+band RMS that the quality gates share) instead of a second FFT. The other windows
 come from ``scipy.signal.get_window``, imported only when one is asked for
 (scipy.signal takes about half a second to import).
 """
@@ -22,6 +23,8 @@ from functools import lru_cache
 
 import numpy as np
 
+from ..readings.band_rms import hann_from_rectangular   # its home: the quality gates use it too
+
 WINDOWS = {"hann": "hann", "hanning": "hann", "hamming": "hamming", "flattop": "flattop",
            "rectangular": "boxcar", "boxcar": "boxcar", "uniform": "boxcar", "blackmanharris": "blackmanharris"}
 KERNEL_LENGTH = 1024   # window length used to tabulate its spectral kernel
@@ -29,7 +32,28 @@ KERNEL_OVERSAMPLE = 512  # kernel points per DFT bin
 
 
 def window_name(name: str) -> str:
-    """Canonical scipy name of a window, or ValueError naming the ones known."""
+    """Canonical scipy name of a window, or ValueError naming the ones known.
+
+    Parameters
+    ----------
+    name : str
+        A window name as a user writes it (``hann``, ``hanning``, ``rectangular``...).
+
+    Returns
+    -------
+    str
+        The name ``scipy.signal.get_window`` knows it by.
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), "Spectrum and spectral density estimation
+    by the Discrete Fourier Transform (DFT)", section 10 (the windows listed).
+
+    Examples
+    --------
+    >>> window_name("Hanning"), window_name("rectangular")
+    ('hann', 'boxcar')
+    """
     try:
         return WINDOWS[name.lower()]
     except KeyError:
@@ -51,36 +75,60 @@ def _window(canonical: str, n: int) -> np.ndarray:
 
 
 def window(name: str, n: int) -> np.ndarray:
-    """Periodic window of length ``n`` (read-only; cached, so a channel builds it once)."""
+    """Periodic window of length ``n`` (read-only; cached, so a channel builds it once).
+
+    Parameters
+    ----------
+    name : str
+        Window name (see ``window_name``).
+    n : int
+        Length in samples.
+
+    Returns
+    -------
+    numpy.ndarray
+        The periodic (DFT-even) window, dimensionless, read-only.
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), section 10; the Hann window is
+    0.5 - 0.5 cos(2 pi k / N), identical to ``scipy.signal.get_window("hann", N)``.
+
+    Examples
+    --------
+    >>> np.round(window("hann", 4), 12).tolist()
+    [0.0, 0.5, 1.0, 0.5]
+    """
     return _window(window_name(name), int(n))
 
 
 def window_sum(name: str, n: int) -> float:
-    """S1, the sum of the window's samples: N/2 for the periodic Hann window."""
+    """S1, the sum of the window's samples: N/2 for the periodic Hann window.
+
+    Parameters
+    ----------
+    name : str
+        Window name.
+    n : int
+        Length in samples.
+
+    Returns
+    -------
+    float
+        S1 (dimensionless); the coherent gain is S1 / N.
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), section 9, eq. (19) for S1.
+
+    Examples
+    --------
+    >>> window_sum("hann", 1024), window_sum("rectangular", 8)
+    (512.0, 8.0)
+    """
     if window_name(name) == "hann":
         return n / 2.0
     return float(window(name, n).sum())
-
-
-def hann_from_rectangular(spec: np.ndarray, n: int) -> np.ndarray:
-    """The one-sided FFT of the Hann-windowed record, from the one-sided FFT ``spec`` of the record.
-
-    The periodic Hann window is 0.5 - 0.25 e^{j theta_k} - 0.25 e^{-j theta_k},
-    so windowing is a circular convolution with three lines:
-    Y[k] = 0.5 X[k] - 0.25 (X[k-1] + X[k+1]), the lines beyond the one-sided
-    range being the conjugates of those inside it.
-    """
-    x = spec
-    m = len(x)
-    y = 0.5 * x
-    if m < 2:
-        return y
-    quarter = 0.25 * x
-    y[1:] -= quarter[:-1]
-    y[:-1] -= quarter[1:]
-    y[0] -= np.conj(quarter[1])
-    y[-1] -= np.conj(quarter[-2] if n % 2 == 0 else quarter[-1])   # X[n/2+1] = conj X[n/2-1]; odd: X[(n+1)/2] = conj X[(n-1)/2]
-    return y
 
 
 @dataclass(frozen=True)
@@ -94,7 +142,32 @@ class WindowFactors:
 
 @lru_cache(maxsize=32)
 def window_factors(name: str, n: int = 4096) -> WindowFactors:
-    """Correction factors of a window (Heinzel, Ruediger & Schilling 2002)."""
+    """Correction factors of a window (Heinzel, Ruediger & Schilling 2002).
+
+    Parameters
+    ----------
+    name : str
+        Window name.
+    n : int, optional
+        Length in samples used to compute the factors (4096).
+
+    Returns
+    -------
+    WindowFactors
+        Coherent gain S1/N, amplitude and energy corrections, ENBW in bins and
+        the scalloping loss in dB of a tone half a bin off a line.
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), section 10 and table of window
+    properties: Hann ENBW 1.5 bins, scalloping loss 1.42 dB.
+
+    Examples
+    --------
+    >>> f = window_factors("hann")
+    >>> [round(float(v), 2) for v in (f.coherent_gain, f.enbw_bins, f.scalloping_loss_db)]
+    [0.5, 1.5, 1.42]
+    """
     w = window(name, n)
     s1, s2 = w.sum(), (w ** 2).sum()
     half_bin = abs(np.sum(w * np.exp(-1j * np.pi * np.arange(n) / n)))
@@ -108,7 +181,29 @@ def window_factors(name: str, n: int = 4096) -> WindowFactors:
 
 
 def enbw_bins(name: str, n: int) -> float:
-    """Equivalent noise bandwidth in bins: exactly 1.5 for the periodic Hann window."""
+    """Equivalent noise bandwidth in bins: exactly 1.5 for the periodic Hann window.
+
+    Parameters
+    ----------
+    name : str
+        Window name.
+    n : int
+        Length in samples.
+
+    Returns
+    -------
+    float
+        ENBW = N S2 / S1^2, in bins (multiply by fs / N for Hz).
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), section 9, eq. (22).
+
+    Examples
+    --------
+    >>> enbw_bins("hann", 4096), float(enbw_bins("rectangular", 4096))
+    (1.5, 1.0)
+    """
     if window_name(name) == "hann":
         return 1.5
     return window_factors(name, n).enbw_bins
@@ -121,6 +216,29 @@ def kernel(name: str) -> tuple[np.ndarray, np.ndarray]:
     Used to interpolate the true frequency and amplitude of a tone that falls
     between bins: for an isolated tone the ratio of the two largest bins fixes
     the offset, and the kernel at that offset gives the amplitude lost.
+
+    Parameters
+    ----------
+    name : str
+        Window name.
+
+    Returns
+    -------
+    offsets : numpy.ndarray
+        Offsets from the line, in bins (0 to 2).
+    magnitude : numpy.ndarray
+        The window's transform there over its value at 0 (dimensionless).
+
+    References
+    ----------
+    Heinzel, Ruediger & Schilling (2002), section 10: the Hann window reads
+    -1.42 dB (0.849) half a bin off a line and 0.5 one bin off.
+
+    Examples
+    --------
+    >>> offsets, magnitude = kernel("hann")
+    >>> round(float(magnitude[offsets == 0.5][0]), 3), round(float(magnitude[offsets == 1.0][0]), 3)
+    (0.849, 0.5)
     """
     w = window(name, KERNEL_LENGTH)
     spectrum = np.abs(np.fft.rfft(w, KERNEL_LENGTH * KERNEL_OVERSAMPLE))

@@ -23,15 +23,39 @@ COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, ruleboo
 EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 
-def build_parser() -> Parser:
-    """The whole command line: every command's parser, registered from its module."""
+class _Listed(Exception):
+    """A command is listed by name and help; the rest of its registration is not wanted."""
+
+
+class _Only:
+    """The subparsers as one command's ``register`` sees them: the command ``wanted`` (every command
+    when None) gets its arguments; any other is listed by name and help, and its registration stops
+    there, before the help texts of its arguments ask the engine (units, reader suffixes, fault
+    names), which would import numpy and the rest."""
+
+    def __init__(self, sub, wanted: str | None) -> None:
+        self.sub, self.wanted = sub, wanted
+
+    def add_parser(self, name, **kwargs):
+        parser = self.sub.add_parser(name, **kwargs)
+        if self.wanted is None or name == self.wanted:
+            return parser
+        raise _Listed
+
+
+def build_parser(command: str | None = None) -> Parser:
+    """The parser of every command; with ``command``, only that command gets its arguments and the
+    others are listed by name and help (what ``main`` builds: ``tellwave --help`` stays quick)."""
     from .. import __version__
 
     parser = Parser(prog="tellwave", description="A second opinion on rotating-machinery vibration readings.")
     parser.add_argument("--version", action="version", version=f"tellwave {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=Parser)
     for module in COMMANDS:
-        module.register(sub)
+        try:
+            module.register(_Only(sub, command))
+        except _Listed:
+            pass
     return parser
 
 
@@ -70,7 +94,9 @@ def main(argv=None) -> int:
 
     _return_large_arrays_to_the_system()
     _tolerant_streams()
-    parser = build_parser()
+    args_given = sys.argv[1:] if argv is None else list(argv)
+    command = next((a for a in args_given if not a.startswith("-")), "")   # "" lists every command
+    parser = build_parser(command)
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", RuntimeWarning)

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .band_rms import INTEGRATIONS_TO_VELOCITY, ISO_BAND_HZ, band_rms_of_fft
 from .model import Channel, QualityIssue
 
 CLIP_FULL_SCALE_FRACTION = 0.999  # a sample at >= 99.9 % of the recorder's full scale is clipped
@@ -44,12 +45,13 @@ PHYSICAL_RMS = {"acceleration": (1e-9, 1e6),    # 1e-10 g to 1e5 g
                 "velocity": (1e-12, 1e2),       # 1 nm/s to 100 m/s
                 "displacement": (1e-15, 1.0)}   # 1 fm to 1 m
 
-# Plausible level: broadband velocity in the ISO 20816-3 band (10-1000 Hz), mm/s RMS.
+# Plausible level: broadband velocity in the ISO 20816-3 band (10-1000 Hz), mm/s RMS, computed
+# as the analysis computes its overall level (band_rms.py, the one home of both).
 # Above 45 mm/s, the largest boundary of the ISO 10816-1 zone tables (from memory),
 # machines fail within hours; 100 mm/s is not a machine in service. Below 0.001 mm/s
 # the level is under the noise floor of general-purpose accelerometers (common
 # practice): the machine is stopped or the gain is wrong.
-LEVEL_BAND_HZ = (10.0, 1000.0)
+LEVEL_BAND_HZ = ISO_BAND_HZ
 PLAUSIBLE_VELOCITY_MM_S = (1e-3, 100.0)
 
 # Plausible spectrum: velocity and displacement transducers, and the ISO band, stop
@@ -133,9 +135,9 @@ def check_channel(ch: Channel, fs_hz: float) -> list[QualityIssue]:
         return [QualityIssue("dead", ch.name, "the signal is constant: sensor or cable dead",
                              0.0, blocking=True)]
     size = float(np.max(np.abs(x)))
-    u = x / size                      # in [-1, 1]: no statistic below under- or overflows
-    mean = float(u.mean())
-    ac = u - mean
+    ac = x / size                     # in [-1, 1]: no statistic below under- or overflows
+    mean = float(ac.mean())
+    ac -= mean                        # the AC part, in the same memory
     ac_rms = float(np.sqrt(np.mean(ac ** 2)))
     if ac_rms == 0.0:                 # a lone spike on a constant: no vibration to speak of
         return [QualityIssue("dead", ch.name, "the signal is constant but for a few samples: sensor or "
@@ -179,9 +181,11 @@ def _plateau_sides(x: np.ndarray) -> list[tuple[str, float, int]]:
     typical = n / len(np.unique(x))
     floor = max(PLATEAU_MIN_SAMPLES, PLATEAU_MIN_FRACTION * n, PLATEAU_OVER_TYPICAL * typical)
     found = []
-    for side, distance in (("top", hi - x), ("bottom", x - lo)):
-        d = np.sort(distance) / span
-        near = np.unique(d[d <= 4 * PLATEAU_WIDTHS[-1]])
+    reach = 4 * PLATEAU_WIDTHS[-1]    # no count below looks further from an extreme than this
+    for side, distance in (("top", lambda: hi - x), ("bottom", lambda: x - lo)):
+        d = distance()
+        d = np.sort(d[d / span <= reach]) / span       # the samples near the extreme only: small to sort
+        near = np.unique(d[d <= reach])
         step = float(np.diff(near).min()) if len(near) > 1 else 1.0
         for eps in PLATEAU_WIDTHS:
             if eps < 2 * step:        # finer than the data's own quantisation: cannot tell
@@ -237,26 +241,24 @@ def _plausibility(ch: Channel, ac: np.ndarray, size: float, fs_hz: float) -> lis
     ``ac`` is the AC part of the samples divided by ``size`` (SI units).
     """
     n = len(ac)
-    spectrum = np.fft.rfft(ac)
-    freq = np.fft.rfftfreq(n, 1.0 / fs_hz)
-    power = np.abs(spectrum) ** 2
+    spectrum = np.fft.rfft(ac)        # one FFT for both gates; the level's band RMS is band_rms.py's
     issues = []
     if ch.quantity in ("velocity", "displacement"):
+        power = np.abs(spectrum) ** 2
         total = float(power[1:].sum())
-        high = float(power[freq > SHAPE_SPLIT_HZ].sum())
+        split = int(np.searchsorted(np.fft.rfftfreq(n, 1.0 / fs_hz), SHAPE_SPLIT_HZ, side="right"))
+        high = float(power[split:].sum())
+        del power
         if total > 0 and high / total > SHAPE_HIGH_FRACTION:
             issues.append(QualityIssue(
                 "implausible_spectrum", ch.name,
                 f"{100 * high / total:.0f} % of this {ch.quantity} signal's energy lies above "
                 f"{SHAPE_SPLIT_HZ:.0f} Hz, where {ch.quantity} transducers and the ISO band stop: most likely "
                 f"acceleration stated as {ch.unit}", high / total))
-    band = (freq >= LEVEL_BAND_HZ[0]) & (freq <= min(LEVEL_BAND_HZ[1], fs_hz / 2))
-    if not band.any():
+    if LEVEL_BAND_HZ[0] > fs_hz / 2:
         return issues
-    omega = 2 * np.pi * freq[band]
-    power_v = power[band] * {"acceleration": omega ** -2.0, "velocity": 1.0,
-                             "displacement": omega ** 2.0}[ch.quantity]
-    velocity_mm_s = float(np.sqrt(2 * power_v.sum()) / n) * size * 1e3   # one-sided, Parseval
+    velocity_mm_s = band_rms_of_fft(spectrum, n, fs_hz, LEVEL_BAND_HZ[0], min(LEVEL_BAND_HZ[1], fs_hz / 2),
+                                    INTEGRATIONS_TO_VELOCITY[ch.quantity]) * size * 1e3
     lo, hi = PLAUSIBLE_VELOCITY_MM_S
     if not lo <= velocity_mm_s <= hi:
         word = "above what a machine in service gives" if velocity_mm_s > hi else "below a sensor's noise floor"
