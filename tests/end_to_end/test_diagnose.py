@@ -76,6 +76,7 @@ def test_html_escapes_what_the_data_says(bearing_doc):
     assert "<script>alert" not in html and "&lt;script&gt;" in html
 
 
+@pytest.mark.browser
 def test_headless_chromium_renders_the_report(bearing_doc, tmp_path):
     browser = shutil.which("chromium") or shutil.which("chromium-browser")
     if browser is None:

@@ -57,6 +57,7 @@ def test_7_a_machine_name_cannot_break_out_of_the_print_style():
         "the name adds no rule to the style sheet"
 
 
+@pytest.mark.browser
 def test_7_headless_chromium_prints_the_report_on_letter_pages(tmp_path):
     import shutil
     import subprocess
