@@ -193,7 +193,7 @@ def test_every_shipped_rule_fires_in_a_demo_case_or_a_simulated_reading(firings)
     never = sorted(shipped - set(firings))
     meant = {rule: label for label, _, _, rules in SIMULATED for rule in rules.split()}
     assert not never, "rules that never fire: " + "; ".join(
-        f"{rule} (meant to fire in: {meant.get(rule) or meant.get(rule.rsplit('.', 1)[0] + '.*') or 'nothing'})"
+        f"{rule} (meant to fire in: {meant.get(rule) or meant.get(rule.rsplit('.', 1)[0] + '.*') or 'a demo case'})"
         for rule in never)
 
 
