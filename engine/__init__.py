@@ -14,7 +14,7 @@ _EXPORTS = {
     "forcing_frequencies": "machine.kinematics",
     "Machine": "machine", "load_machine": "machine",
     "Reading": "readings", "load_reading": "readings",
-    "load_rulebook": "reasoning",
+    "load_rulebook": "reasoning", "Reasoner": "reasoning",
     "diagnose": "pipeline",
 }
 

@@ -1,7 +1,9 @@
-"""Helpers the tests share: where the shipped and test files are, known signals, an HTML checker."""
+"""Helpers the tests share: where the shipped and test files are, known signals, an HTML checker,
+the command line's one-error-line check, and the demo cases' diagnoses made once a session."""
 
 from __future__ import annotations
 
+import functools
 from html.parser import HTMLParser
 from pathlib import Path
 
@@ -56,3 +58,61 @@ def tone_fact(fid: str = "tone-1", channel: str = "P1H", amplitude_mm_s=1.0, amp
             "location": "pump_de", "location_shaft": "pump", "name": "1X", "component": "pump", "family": "shaft",
             "shaft": "pump", "expected_hz": 24.8, "freq_hz": 24.8, "amplitude_mm_s": amplitude_mm_s,
             "amplitude_g": amplitude_g, "snr_db": snr_db, "ratio_to_1x": 1.0}
+
+
+# ---------------------------------------------------------------- the command line's promises on bad input
+
+RW2 = CASES / "machines/rw2-raw-water-pump.yaml"
+FS = 8192.0
+
+
+def one_error_line(capsys, code, argv):
+    """Run the command line; it must fail with ``code`` and one ``tellwave: error:`` line."""
+    from engine.cli import main
+
+    assert main([str(a) for a in argv]) == code
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and err.startswith("tellwave: error: "), err
+    assert "Traceback" not in err
+    return err
+
+
+def npz_reading(path, x, fs=FS, unit="g", **meta):
+    """Write ``x`` as a one-channel .npz reading at ``fs`` in ``unit``; returns ``path``."""
+    np.savez(path, a=x, sample_rate_hz=fs, unit=unit, **meta)
+    return path
+
+
+# ---------------------------------------------------------------- the demo cases' diagnoses, made once a session
+
+REPORT_FORMATS = ("text", "md", "html")
+MADE_AT = "2026-03-04T10:15+01:00"
+
+
+@functools.lru_cache(maxsize=None)
+def reasoner(*site):
+    """A Reasoner over the shipped rulebooks (and ``site`` overlays), built once per session."""
+    from engine.reasoning import Reasoner, load_rulebook
+
+    return Reasoner(load_rulebook(*site))
+
+
+@functools.lru_cache(maxsize=None)
+def case_diagnosis(name: str, *site):
+    """The diagnosis of demo case ``name`` (cases/demo/NAME.case.yaml), read from memory, with plots."""
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+    from engine.pipeline.cases import load_case, simulation_of
+    from engine.simulation import as_reading
+
+    case = load_case(CASES / "demo" / f"{name}.case.yaml")
+    machine = load_machine(case.machine)
+    return diagnose(as_reading(simulation_of(case, machine), f"{name}.wav"), machine, reasoner(*site),
+                    plots=True)
+
+
+def doc_of(name: str, *site) -> dict:
+    """The report document of demo case ``name``, made at ``MADE_AT``."""
+    from engine.pipeline import document_of
+
+    return document_of(case_diagnosis(name, *site), made_at=MADE_AT)

@@ -73,12 +73,3 @@ def test_no_stage_imports_a_later_one(path, parts):
         assert STAGES[target] <= STAGES[own], \
             f"engine/{'/'.join(parts)}:{line}: {own} (stage {STAGES[own]}) imports {target} (stage {STAGES[target]})"
 
-
-def test_queries_of_the_history_store_live_in_the_store():
-    """Every SQL statement against a history store is a method of ``history.store.Store``: a
-    schema change then touches one file, and a damaged value is judged in one place."""
-    home = ENGINE / "history" / "store.py"
-    found = [f"{p.relative_to(ENGINE.parent)}:{n}" for p in sorted(ENGINE.rglob("*.py")) if p != home
-             for n, line in enumerate(p.read_text(encoding="utf-8").splitlines(), 1)
-             if ".db.execute" in line or "sqlite3.connect" in line]
-    assert not found, f"SQL outside engine/history/store.py: {found}"

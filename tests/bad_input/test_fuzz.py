@@ -200,6 +200,7 @@ def test_sidecars(seeds, values, raw, as_bytes):
         check_reading(side.with_name(side.name.removesuffix(".yaml")))
 
 
+@pytest.mark.slow
 @fuzz_settings(60)
 @given(values=tree_ops, raw=byte_ops, as_bytes=st.booleans())
 def test_site_overlays(seeds, values, raw, as_bytes):
@@ -214,6 +215,7 @@ def test_site_overlays(seeds, values, raw, as_bytes):
             refused_in_one_line(exc, site, *[p for p in (CASES.parent / "rulebooks").glob("*.yaml")])
 
 
+@pytest.mark.slow
 @fuzz_settings(150)
 @given(i=st.integers(0, 10 ** 6))
 def test_command_line(i):

@@ -45,7 +45,6 @@ def _same(a, b) -> bool:
     return a == b
 
 
-@pytest.mark.slow
 @pytest.mark.parametrize("name", CASES)
 def test_facts_match_the_golden_file(name):
     expected = {f["id"]: f for f in json.loads(_golden(name).read_text())}

@@ -14,6 +14,8 @@ from engine.common.yamlfile import load_schema
 
 from support import CASES
 
+pytestmark = pytest.mark.slow         # three simulated months of the demo plant are diagnosed first: about 15 s
+
 PUMP = "RW-2 raw water pump"
 
 

@@ -64,6 +64,7 @@ def test_real_envelope_line_at_the_documented_bpfo(reasoner):
     assert best["first_snr_db"] > 15
 
 
+@pytest.mark.slow
 @pytest.mark.skipif(not (SHARED / "index.csv").exists(),
                     reason="../shared/datasets is not beside this checkout (the excerpts above still ran)")
 def test_every_shared_bearing_record_meets_the_goal(reasoner):

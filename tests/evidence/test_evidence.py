@@ -79,6 +79,7 @@ def test_facts_are_measurements_with_units_in_their_names():
 GRID = [(0.9, 0, 12800.0), (1.0, 1, 25600.0), (0.9, 1, 25600.0), (1.0, 0, 12800.0)]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("feature", FEATURES, ids=[f.name for f in FEATURES])
 def test_extractor_detects_its_fault_and_not_the_healthy_machine(feature):
     # a line-fed motor slips 1-5 %: a rotor-bar case varies its speed by 1 %, not 10 %

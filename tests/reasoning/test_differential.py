@@ -69,6 +69,7 @@ def test_a_stated_speed_3_percent_off_is_reported_and_the_measured_one_used():
     assert d.reasoning.top.fault == "outer-race" and d.reasoning.top.component == "pump_nde"
 
 
+@pytest.mark.slow
 def test_a_bearing_s_damage_stage_rests_on_its_own_sensor_only():
     # issue 13: the stage was once raised by the kurtosis of a channel on another bearing
     machine = load_machine(RW2)

@@ -100,6 +100,7 @@ def _durable_errors_under_valgrind(variant: str) -> tuple[int, str]:
     return done.stderr.count("reduceExpressionSequence"), done.stdout.strip()
 
 
+@pytest.mark.slow
 @pytest.mark.skipif(shutil.which("valgrind") is None, reason="needs valgrind to watch the C core's memory reads")
 def test_a_failed_join_at_the_end_of_a_pattern_reads_past_the_engine_s_table_unless_a_group_closes_it():
     # the invalid read that took the test process down now and then (exit 139); measured on the library

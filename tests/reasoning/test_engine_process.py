@@ -56,6 +56,7 @@ def real_facts():
     return extract_evidence(load_reading(TEST_DATA / "cwru-130.npz"), load_machine(TEST_MACHINES / "cwru-motor.yaml"))
 
 
+@pytest.mark.slow
 @settings(max_examples=6, deadline=None, derandomize=True,
           suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(data=st.data())

@@ -108,6 +108,7 @@ def test_rulebook_explain_unknown_rule_is_one_line(capsys):
     assert err.count("\n") == 1 and "did you mean" in err
 
 
+@pytest.mark.slow
 def test_rulebook_test_runs_the_casebook_with_the_site_overlay(capsys):
     assert main(["rulebook", "test", str(ROOT / "cases/demo"), "--site", str(ROOT / "cases/site")]) == 0
     out = capsys.readouterr().out

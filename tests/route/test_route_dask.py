@@ -9,6 +9,7 @@ from engine.history.store import Store
 from engine.route import load_route, run_route
 
 distributed = pytest.importorskip("distributed")
+pytestmark = pytest.mark.slow         # a local cluster starts and stops: about 13 s
 MADE_AT = "2026-03-04T10:15+01:00"     # the reports' own time, the same for both runs so they compare equal
 
 

@@ -28,6 +28,7 @@ def _stored(path) -> int:
         return 0
 
 
+@pytest.mark.slow
 def test_a_killed_route_keeps_what_it_stored_and_resumes(tmp_path):
     route = make_route(tmp_path / "r", n=N, bad=False, seed=100)
     store = tmp_path / "h.sqlite"

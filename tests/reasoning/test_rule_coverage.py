@@ -1,0 +1,217 @@
+"""Every shipped rule fires: in a demo case (cases/demo/*.case.yaml) or in a simulated reading.
+
+A rule that nothing the project makes can satisfy is either dead (a threshold out of reach,
+a fact field renamed) or untested; either way this test names it. The readings below are
+the demo cases, then simulated faults and readings stated or taken wrong, each listed with
+the rules it is here for; the firings are read from each Reasoning's trail (hypotheses'
+support and against, reading problems, derived facts).
+
+The simulated readings are invented (the demo plant, seeded); they show that a rule can
+fire, not how well it judges real machines (bench.confusion and bench.real_data do that).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from engine.common.units import STANDARD_GRAVITY_M_S2
+from engine.machine import load_machine
+from engine.machine.kinematics import rates_at
+from engine.pipeline import diagnose
+from engine.pipeline.cases import case_files, load_case, reading_of
+from engine.readings import Reading
+from engine.readings.quality import check_channel
+from engine.reasoning import load_rulebook
+from engine.simulation import as_reading, simulate
+
+from support import CASES, TEST_MACHINES, reasoner
+
+pytestmark = pytest.mark.slow
+
+MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "machines/bw1-backwash-blower.yaml",
+            "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml"}
+
+
+@functools.lru_cache(maxsize=None)
+def _machine(key: str):
+    return load_machine(MACHINES[key])
+
+
+def _sim(key, fault, stage, seed, fs_hz=25600.0, duration_s=4.0, speed_factor=None):
+    m = _machine(key)
+    rpm = None if speed_factor is None else m.shaft_speeds_hz[m.driver_shaft] * 60 * speed_factor
+    return simulate(m, fault, None, stage, rpm, fs_hz, duration_s, seed)
+
+
+def _gated(reading: Reading, channels=None, fs_hz=None) -> Reading:
+    """``reading`` with other channels or a stated sample rate, its quality gates run again."""
+    channels = tuple(channels or reading.channels)
+    fs_hz = fs_hz or reading.fs_hz
+    return Reading(reading.source, fs_hz, channels, speed_rpm=reading.speed_rpm,
+                   quality=tuple(q for ch in channels for q in check_channel(ch, fs_hz)))
+
+
+def _fault(key, fault, stage=3, seed=1, **kw):
+    return lambda: as_reading(_sim(key, fault, stage, seed, **kw))
+
+
+def _stated_speed(key, fault, stage, seed, factor):
+    """The machine at its nominal speed, the reading stating ``factor`` times that speed."""
+    def make():
+        r = as_reading(_sim(key, fault, stage, seed))
+        return dataclasses.replace(r, speed_rpm=r.speed_rpm * factor)
+    return make
+
+
+def _stated_rate(key, fault, stage, seed, factor):
+    """The samples as recorded, the reading stating ``factor`` times the true sample rate."""
+    def make():
+        r = as_reading(_sim(key, fault, stage, seed))
+        return _gated(r, fs_hz=r.fs_hz * factor)
+    return make
+
+
+def _first_channel(key, fault, stage, seed, change):
+    def make():
+        r = as_reading(_sim(key, fault, stage, seed))
+        first, *rest = r.channels
+        t = np.arange(r.n_samples) / r.fs_hz
+        return _gated(r, [dataclasses.replace(first, samples=change(first.samples, t))] + rest)
+    return make
+
+
+def _every_channel(key, fault, stage, seed, change):
+    def make():
+        r = as_reading(_sim(key, fault, stage, seed))
+        return _gated(r, [change(ch) for ch in r.channels])
+    return make
+
+
+def _softer_horizontally(key, fault, stage, seed, channel, factor):
+    """A support much stiffer vertically than horizontally: ``channel`` (a vertical point) scaled by ``factor``."""
+    def make():
+        sim = _sim(key, fault, stage, seed)
+        channels = {name: x * factor if name == channel else x for name, x in sim.channels.items()}
+        return as_reading(dataclasses.replace(sim, channels=channels))
+    return make
+
+
+def _axial_twice_mesh(key, fault, stage, seed, channel, g_peak):
+    """A misaligned gear: 2 x GMF (from kinematics) added on the axial ``channel``, ``g_peak`` g."""
+    def make():
+        m = _machine(key)
+        sim = _sim(key, fault, stage, seed)
+        gmf_hz = rates_at(m, m.shaft_speeds_hz).meshes[0].gmf_hz
+        t = np.arange(len(sim.channels[channel])) / sim.fs_hz
+        extra = g_peak * STANDARD_GRAVITY_M_S2 * np.sin(2 * np.pi * 2 * gmf_hz * t)
+        return as_reading(dataclasses.replace(sim, channels={**sim.channels, channel: sim.channels[channel] + extra}))
+    return make
+
+
+# (what the reading is, its machine, how to make it, the rules it is here for: a guide for whoever
+# meets a failure, not a promise checked one by one)
+SIMULATED = [
+    ("rolling element", "bw1", _fault("bw1", "rolling-element"),
+      "bearing.cage.ball-modulation bearing.cage.ball-rate-hidden bearing.defect.cage-harmonics "
+     "bearing.defect.envelope-cage bearing.rolling-element.cage-modulation bearing.rolling-element.cage-rate-only "
+     "bearing.tones.envelope-cage"),
+    ("cage", "bw1", _fault("bw1", "cage"), "bearing.cage.shaft-modulation shaft.unbalance.against-cage-sidebands"),
+    ("vane pass", "bw1", _fault("bw1", "vane-pass"), "bearing.stage.broadband rotor.vane-pass.high"),
+    ("rotating looseness", "ct1", _fault("ct1", "looseness-rotating"), "gear.eccentricity.raised-1x"),
+    ("speed stated 3 % high", "ct1", _stated_speed("ct1", "unbalance", 2, 2, 1.03), "reading.speed.differs-from-stated"),
+    ("speed stated 20 % high", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 1.2),
+     "reading.speed.above-drive-range reading.speed.no-one-x"),
+    ("speed stated 20 % low", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 0.8),
+     "reading.speed.below-drive-range reading.speed.clear-family-elsewhere"),
+    ("speed stated twice", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 2.0), "reading.speed.half-x-dominates"),
+    ("speed stated half", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 0.5), "reading.speed.lone-2x"),
+    ("sample rate stated half", "rw2", _stated_rate("rw2", "looseness-rotating", 3, 3, 0.5),
+     "reading.speed.half-order-family reading.speed.half-orders-dominate reading.speed.half-orders-twice-1x"),
+    ("speed stated 25 % high", "rw2", _stated_speed("rw2", "looseness-rotating", 3, 3, 1.25),
+     "reading.speed.family-elsewhere reading.speed.no-1x-but-double-series"),
+    ("runs at half its speed", "rig", _fault("rig", "unbalance", speed_factor=0.5), "reading.speed.far-below-nominal"),
+    ("runs 60 % fast", "rig", _fault("rig", "unbalance", speed_factor=1.6), "reading.speed.far-above-nominal"),
+    ("Fmax 250 Hz", "bw1", _fault("bw1", "outer-race", seed=2, fs_hz=640.0, duration_s=8.0),
+     "reading.settings.fmax-bearing reading.settings.fmax-pass reading.settings.fmax-shaft-harmonics"),
+    ("Fmax 62.5 Hz", "bw1", _fault("bw1", "outer-race", seed=2, fs_hz=160.0, duration_s=16.0),
+     "reading.settings.fmax-below-harmonics"),
+    ("Fmax 1 kHz on the gearbox", "ct1", _fault("ct1", "outer-race", seed=2, fs_hz=2560.0),
+     "reading.settings.fmax-gear-mesh"),
+    ("Fmax 62.5 Hz on the gearbox", "ct1", _fault("ct1", "outer-race", seed=2, fs_hz=160.0, duration_s=16.0),
+     "shaft.resonance.unexplained-peak"),
+    ("0.3 s record", "bw1", _fault("bw1", "outer-race", seed=2, duration_s=0.3),
+     "reading.settings.resolution-lines reading.settings.resolution-sidebands reading.settings.revolutions"),
+    ("0.45 s record, 2.5 turns of the fan", "ct1", _fault("ct1", "unbalance", 2, 2, duration_s=0.45),
+     "reading.settings.hardly-a-turn"),
+    ("DC offset", "bw1", _first_channel("bw1", "unbalance", 2, 2, lambda x, t: x + 3.0 * np.std(x)),
+     "reading.signal.dc-offset"),
+    ("slow drift", "bw1", _first_channel("bw1", "unbalance", 2, 2, lambda x, t: x + 5.0 * t / t[-1]),
+     "reading.signal.drift"),
+    ("gain 1000 times", "bw1", _every_channel("bw1", "unbalance", 2, 2,
+                                              lambda ch: dataclasses.replace(ch, samples=ch.samples * 1000)),
+     "reading.levels.implausible"),
+    ("acceleration stated as velocity", "bw1",
+     _every_channel("bw1", "outer-race", 4, 2, lambda ch: dataclasses.replace(
+         ch, quantity="velocity", unit="mm/s", samples=ch.samples * 1e-3)),
+     "reading.levels.spectrum-for-unit"),
+    ("support soft horizontally", "rw2", _softer_horizontally("rw2", "unbalance", 3, 3, "M2V", 0.25),
+     "shaft.looseness.directional shaft.unbalance.against-directional"),
+    ("gear misaligned, 2 x GMF axial", "ct1", _axial_twice_mesh("ct1", "gear-wear", 2, 3, "GINA", 0.5),
+     "gear.misalignment.axial-mesh-harmonic"),
+]
+
+
+def _fired(reasoning) -> set[str]:
+    found = {f.rule_id for f in reasoning.chain}
+    for h in reasoning.hypotheses + reasoning.reading_problems:
+        found |= {f.rule_id for f in h.support + h.against}
+    return found
+
+
+@pytest.fixture(scope="module")
+def firings() -> dict[str, set[str]]:
+    """Rule id -> the readings it fired in."""
+    seen: dict[str, set[str]] = {}
+    for path in case_files(CASES / "demo"):
+        case = load_case(path)
+        machine = load_machine(case.machine)
+        for rule in _fired(diagnose(reading_of(case, machine), machine, reasoner()).reasoning):
+            seen.setdefault(rule, set()).add(Path(path).name)
+    for label, key, make, _ in SIMULATED:
+        for rule in _fired(diagnose(make(), _machine(key), reasoner()).reasoning):
+            seen.setdefault(rule, set()).add(label)
+    return seen
+
+
+def test_every_shipped_rule_fires_in_a_demo_case_or_a_simulated_reading(firings):
+    shipped = {rule.id for rule in load_rulebook().rules}
+    never = sorted(shipped - set(firings))
+    meant = {rule: label for label, _, _, rules in SIMULATED for rule in rules.split()}
+    assert not never, "rules that never fire: " + "; ".join(
+        f"{rule} (meant to fire in: {meant.get(rule) or meant.get(rule.rsplit('.', 1)[0] + '.*') or 'a demo case'})"
+        for rule in never)
+
+
+def test_every_simulated_reading_fires_the_rules_it_is_for(firings):
+    """A simulated reading is here for its rules (the demo cases cover the rest): one that no
+    longer fires them is a recipe gone wrong, even while some other reading still covers them."""
+    missed = [(label, rule) for label, _, _, rules in SIMULATED for rule in rules.split()
+              if not any(label in firings.get(r, ()) for r in _matching(rule, firings))]
+    assert not missed, missed
+
+
+def _matching(rule: str, firings) -> list[str]:
+    return [r for r in firings if r == rule or (rule.endswith("*") and r.startswith(rule[:-1]))]
+
+
+def test_the_rules_each_simulated_reading_is_for_are_shipped_rules():
+    shipped = {rule.id for rule in load_rulebook().rules}
+    for label, _, _, rules in SIMULATED:
+        for rule in rules.split():
+            prefix = rule.removesuffix("*")
+            assert rule in shipped or (rule.endswith("*") and any(s.startswith(prefix) for s in shipped)), (label, rule)
