@@ -20,7 +20,6 @@ from __future__ import annotations
 
 import argparse
 import math
-import os
 import statistics
 import subprocess
 import sys
@@ -31,9 +30,9 @@ from pathlib import Path
 import numpy as np
 from scipy import signal
 
-from engine.pipeline.cases import load_case, reading_of
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
+from engine.pipeline.cases import load_case, reading_of
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import render
 from engine.simulation import as_reading, simulate, write_simulation
@@ -75,8 +74,8 @@ def per_channel(repeats: int, sizes=SIZES) -> dict:
             x = reading.channels[0].samples
             diagnose(reading, machine, reasoner)                    # warm caches once
             reps = repeats if n < 500_000 else max(3, repeats // 2)
-            floor = _median_time(lambda: (np.fft.rfft(x), signal.hilbert(x)), reps)
-            cost = _median_time(lambda: diagnose(reading, machine, reasoner), reps)
+            floor = _median_time(lambda x=x: (np.fft.rfft(x), signal.hilbert(x)), reps)
+            cost = _median_time(lambda r=reading, m=machine: diagnose(r, m, reasoner), reps)
             out[(key, n)] = (floor, cost)
             ratio = cost / floor
             flag = "ok" if ratio <= GOALS[n] else "OVER"
@@ -123,10 +122,11 @@ def whole_process(repeats: int, tmp: Path) -> None:
           f"(goal {MEMORY_GOAL_MB:.0f} MB) {'ok' if peak <= MEMORY_GOAL_MB else 'OVER'}")
     walls = [_process([tellwave, "diagnose", str(small), "--machine", str(path)])[0] for _ in range(repeats)]
     helps = [_process([tellwave, "--help"])[0] for _ in range(repeats)]
-    print("\n4. whole processes (median of {} runs)".format(repeats))
+    print(f"\n4. whole processes (median of {repeats} runs)")
     w, h = statistics.median(walls), statistics.median(helps)
     print(f"   tellwave diagnose, 1 channel x 64k, text: {w:.2f} s (goal 0.8 s) {'ok' if w <= 0.8 else 'OVER'}")
-    print(f"   tellwave --help:                          {h:.2f} s (goal {HELP_GOAL_S} s) {'ok' if h <= HELP_GOAL_S else 'OVER'}")
+    verdict = "ok" if h <= HELP_GOAL_S else "OVER"
+    print(f"   tellwave --help:                          {h:.2f} s (goal {HELP_GOAL_S} s) {verdict}")
 
 
 def html_share(repeats: int) -> None:

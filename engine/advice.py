@@ -15,11 +15,11 @@ from functools import lru_cache
 from pathlib import Path
 
 from .common.errors import RulebookError
+from .common.paths import RULEBOOKS
+from .common.yamlfile import YamlDocument, first_problem, read_yaml
 from .evidence import Evidence
 from .machine import Machine
-from .common.paths import RULEBOOKS
 from .reasoning import POSSIBLE, Hypothesis, Reasoning
-from .common.yamlfile import YamlDocument, first_problem, read_yaml
 
 ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5

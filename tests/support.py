@@ -89,7 +89,7 @@ REPORT_FORMATS = ("text", "md", "html")
 MADE_AT = "2026-03-04T10:15+01:00"
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def reasoner(*site):
     """A Reasoner over the shipped rulebooks (and ``site`` overlays), built once per session."""
     from engine.reasoning import Reasoner, load_rulebook
@@ -97,7 +97,7 @@ def reasoner(*site):
     return Reasoner(load_rulebook(*site))
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def case_diagnosis(name: str, *site):
     """The diagnosis of demo case ``name`` (cases/demo/NAME.case.yaml), read from memory, with plots."""
     from engine.machine import load_machine

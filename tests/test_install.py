@@ -147,7 +147,8 @@ def test_the_wheel_carries_the_license_and_no_data_outside_the_package(wheel):
     names = zipfile.ZipFile(wheel).namelist()
     assert any(n.endswith(".dist-info/licenses/LICENSE") for n in names)
     assert not [n for n in names if ".data/" in n], "data files installed outside the package"
-    for name in ("rulebooks/bearings.yaml", "rulebooks/planner/acquisition.yaml", "templates/base.html.j2", "templates/diagnosis/report.html.j2",
+    for name in ("rulebooks/bearings.yaml", "rulebooks/planner/acquisition.yaml", "templates/base.html.j2",
+                 "templates/diagnosis/report.html.j2",
                  "cases/machines/rw2-raw-water-pump.yaml"):
         assert f"engine/_data/{name}" in names
 

@@ -81,7 +81,8 @@ def _sql(tree: ast.Module):
             yield line, "imports sqlite3"
     for node in ast.walk(tree):
         if isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute) and node.func.attr in SQL_CALLS:
-            if node.func.attr != "connect" or (isinstance(node.func.value, ast.Name) and node.func.value.id == "sqlite3"):
+            on_sqlite3 = isinstance(node.func.value, ast.Name) and node.func.value.id == "sqlite3"
+            if node.func.attr != "connect" or on_sqlite3:
                 yield node.lineno, f".{node.func.attr}("
 
 

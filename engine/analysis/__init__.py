@@ -10,8 +10,8 @@ from .kurtogram import Kurtogram, KurtogramBand, fast_kurtogram, spectral_kurtos
 from .levels import OverallLevels, WaveformStats, iso_band_hz, overall_levels, waveform_statistics
 from .peaks import Peak, find_peaks, interpolate_line, noise_floor, peak_near
 from .result import Analysis, ChannelAnalysis, EnvelopeView, analyse
-from .speed import SpeedEstimate, refine_running_speed
 from .spectrum import Spectrum, Transform, amplitude_spectrum, averaged_spectrum, band_rms, integrate
+from .speed import SpeedEstimate, refine_running_speed
 from .synchronous import Revolutions, SynchronousEvents, cut_revolutions, synchronous_average, tach_pulse_times
 from .windows import WindowFactors, window_factors
 

@@ -18,8 +18,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from . import _fft as sfft
 
+from . import _fft as sfft
 from .spectrum import Spectrum, amplitude_spectrum
 
 PREWHITEN_TAPER = 0.02    # Tukey taper fraction before whitening (1 % of the record at each end)

@@ -13,8 +13,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from . import _fft as sfft
 
+from . import _fft as sfft
 from .peaks import local_maxima, peaks_above
 
 MIN_PERIODICITY = 0.1     # an autocorrelation peak weaker than this is no train

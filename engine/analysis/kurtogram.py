@@ -29,8 +29,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from . import _fft as sfft
 
+from . import _fft as sfft
 from .envelope import band_length, line_frequencies
 
 
@@ -241,7 +241,7 @@ def kurtogram_of_spectrum(spec: np.ndarray, n: int, fs: float, max_level: int = 
     # band moments summed over segments (each segment transformed on its own: small, cache-friendly)
     sums = [(np.zeros(count), np.zeros(count), np.zeros(count)) for _, count, *_ in plan]   # unsearched: 0 samples
     for seg in specs:
-        for (level, count, width, first, stop, groups), (s2, s4, samples) in zip(plan, sums):
+        for (_level, _count, _width, first, stop, groups), (s2, s4, samples) in zip(plan, sums):
             for m, rows in groups:
                 base = np.zeros((len(rows), m), dtype=np.complex64)
                 for r, i in enumerate(rows):

@@ -17,7 +17,7 @@ second per command, and the tests hold the two against each other.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 
 import numpy as np
 
@@ -150,7 +150,7 @@ def peaks_above(a: np.ndarray, height: float, distance: float = 1) -> np.ndarray
     return select_by_distance(peaks, a[peaks], distance)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _ratio_table(window_kind: str):
     offsets, k = kernel(window_kind)
     half = offsets <= 0.5
@@ -328,7 +328,7 @@ class Lines:
             return None
         return Peak(float(self.freq_hz[i]), float(self.amplitude[i]), int(self.line[i]), float(self.snr[i]))
 
-    def with_snr(self, snr: np.ndarray, found: np.ndarray) -> "Lines":
+    def with_snr(self, snr: np.ndarray, found: np.ndarray) -> Lines:
         return Lines(found, self.freq_hz, self.amplitude, self.line, snr)
 
 

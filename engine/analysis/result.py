@@ -14,24 +14,24 @@ velocity spectrum, Hz everywhere.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Mapping
 
 import numpy as np
-from ._fft import next_fast_len
 
 from ..common.errors import ReadingError
-from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..machine import Machine, Point
+from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..readings import Channel, QualityIssue, Reading, describe_issue
 from ..readings.length import FMAX_FACTOR
+from ._fft import next_fast_len
 from .envelope import band_from_spectrum, whitened_spectrum
-from .separation import random_part_factor
 from .impacts import ImpactTrain, impact_train
 from .kurtogram import Kurtogram, kurtogram_of_spectrum
 from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
+from .separation import random_part_factor
 from .spectrum import Spectrum, Transform, integrate
 from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, shaft_family, speed_from_tones
 from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
@@ -238,7 +238,8 @@ def _envelopes(white: np.ndarray, n: int, fs: float, fastest_defect_hz: float | 
         return None, (), None, None
     span = ENVELOPE_HARMONICS * fastest_defect_hz
     kg = kurtogram_of_spectrum(white, n, fs, max_level=KURTOGRAM_LEVELS, trim_fraction=EDGE_TRIM,
-                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4), fmax_hz=fs / FMAX_FACTOR)
+                               min_bandwidth_hz=min(BAND_TO_DEFECT * fastest_defect_hz, fs / 4),
+                               fmax_hz=fs / FMAX_FACTOR)
     band = (kg.best.f_lo_hz, kg.best.f_hi_hz)
     ses, squared, sig = _squared_envelope(white, n, fs, band, span)
     squared_fs = sig.fs_hz

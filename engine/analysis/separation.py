@@ -24,6 +24,7 @@ masquerade as defect tones in the squared envelope.
 from __future__ import annotations
 
 import numpy as np
+
 from . import _fft as sfft
 
 RESOLUTION_HZ = 2.0     # the gain resolves lines this far apart (a segment of about fs / 2 Hz samples)

@@ -18,9 +18,9 @@ from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
-from . import _fft as sfft
 
 from ..readings.band_rms import band_rms_of_fft
+from . import _fft as sfft
 from .windows import enbw_bins, hann_from_rectangular, window, window_name, window_sum
 
 SCALINGS = {"peak": 1.0, "rms": 1.0 / np.sqrt(2.0), "peak-to-peak": 2.0}
@@ -95,7 +95,7 @@ class Spectrum:
         """The local noise floor under every line (computed once, when first asked for)."""
         return self.floor_at(np.arange(len(self.amplitude)))
 
-    def rescaled(self, scaling: str) -> "Spectrum":
+    def rescaled(self, scaling: str) -> Spectrum:
         factor = _scale(scaling) / _scale(self.scaling)
         return Spectrum(self.freq_hz, self.amplitude * factor, scaling, self.window,
                         self.resolution_hz, self.enbw_hz, self.averages)
@@ -104,7 +104,7 @@ class Spectrum:
         """Boolean mask of the lines in [f_lo_hz, f_hi_hz]."""
         return (self.freq_hz >= f_lo_hz) & (self.freq_hz <= f_hi_hz)
 
-    def below(self, f_hi_hz: float) -> "Spectrum":
+    def below(self, f_hi_hz: float) -> Spectrum:
         """The same spectrum cut at ``f_hi_hz``.
 
         A cut that keeps less than half of the lines owns its arrays, so that
@@ -133,7 +133,7 @@ class Transform:
     fs_hz: float
 
     @classmethod
-    def of(cls, x, fs: float) -> "Transform":
+    def of(cls, x, fs: float) -> Transform:
         x = np.asarray(x, dtype=float)
         return cls(sfft.rfft(x - x.mean()), len(x), float(fs))
 

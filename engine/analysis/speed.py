@@ -23,8 +23,8 @@ less exactly: bearings slip 1-2 % against their kinematic rates.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
 
@@ -80,7 +80,7 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
     best = float(scales[np.argmax(score)])
     found = peaks_near(spec, freqs * best, 1.5 * df)
     estimates, weights, hits = [], [], []
-    for i, (hz, k) in enumerate(kept):
+    for i, (hz, _k) in enumerate(kept):
         if not found.found[i] or found.amplitude[i] / floors[i] < MIN_HARMONIC_SNR:
             continue
         if abs(found.freq_hz[i] - best * hz) > df or abs(found.freq_hz[i] / hz / centre - 1) > search_fraction:

@@ -26,8 +26,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from . import _fft as sfft
 
+from . import _fft as sfft
 
 LOW_ORDERS = (0, 1, 2, 3)
 REPEAT_WINDOW = 0.1       # a revolution's largest spike within +-36 degrees of the average's

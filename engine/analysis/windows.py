@@ -19,11 +19,9 @@ come from ``scipy.signal.get_window``, imported only when one is asked for
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache, lru_cache
 
 import numpy as np
-
-from ..readings.band_rms import hann_from_rectangular   # its home: the quality gates use it too
 
 WINDOWS = {"hann": "hann", "hanning": "hann", "hamming": "hamming", "flattop": "flattop",
            "rectangular": "boxcar", "boxcar": "boxcar", "uniform": "boxcar", "blackmanharris": "blackmanharris"}
@@ -209,7 +207,7 @@ def enbw_bins(name: str, n: int) -> float:
     return window_factors(name, n).enbw_bins
 
 
-@lru_cache(maxsize=None)
+@cache
 def kernel(name: str) -> tuple[np.ndarray, np.ndarray]:
     """Normalised magnitude of the window's transform against offset in bins, 0 to 2.
 

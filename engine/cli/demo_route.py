@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..demo.plant import MONTHS as DEMO_MONTHS      # the module holds only constants at import
+from ..demo.plant import MONTHS as DEMO_MONTHS  # the module holds only constants at import
 from ._common import whole
 
 

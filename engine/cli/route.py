@@ -32,9 +32,9 @@ def run(args) -> int:
 
     from ..common.errors import EXIT_ROUTE_FAILURES, UsageError
     from ..common.escape import one_line
+    from ..common.outfile import known_inputs
     from ..report import render, write_atomically
     from ..route import load_folder, load_route, route_summary, run_route, summary_paths
-    from ..common.outfile import known_inputs
     from ..route.runner import check_outputs
     from ._common import input_files
     from ._store import open_store

@@ -24,7 +24,7 @@ def _fault(name: str) -> str:
 def register(sub) -> None:
     """Add ``tellwave synth`` and its options."""
     p = sub.add_parser("synth", help="simulate a reading of a machine with a known fault")
-    from ..simulation import FAULTS      # after add_parser: ``tellwave --help`` only lists the command
+    from ..simulation import FAULTS  # after add_parser: ``tellwave --help`` only lists the command
 
     p.add_argument("machine", help="machine YAML file")
     p.add_argument("--fault", default="healthy", type=_fault, metavar="FAULT",

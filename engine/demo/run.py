@@ -12,11 +12,11 @@ from dataclasses import dataclass
 from datetime import datetime, timedelta
 from pathlib import Path
 
-from ..pipeline.cases import Case, case_files, describe, judge, load_case, reading_of, simulation_of
-from ..machine import load_machine
 from ..common.outfile import check_target, known_inputs
 from ..common.paths import CASES
+from ..machine import load_machine
 from ..pipeline import diagnose, document_of
+from ..pipeline.cases import Case, case_files, describe, judge, load_case, reading_of, simulation_of
 from ..readings import load_reading
 from ..reasoning import Reasoner
 from ..report import render, write_atomically
@@ -64,9 +64,9 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, 
         result = DemoResult(case, report, judge(case.expect, d.reasoning), describe(d.reasoning))
         progress(f"{'ok  ' if result.passed else 'MISS'} {name}: {result.got}")
         results.append(result)
-    cases = [{"name": r.case.name, "report": r.report.name, "diagnosis": r.got, "as_expected": r.passed}
-             for r in results]
-    index = render({"cases": cases}, "html", "demo")
+    rows = [{"name": r.case.name, "report": r.report.name, "diagnosis": r.got, "as_expected": r.passed}
+            for r in results]
+    index = render({"cases": rows}, "html", "demo")
     write_atomically(out_dir / "index.html", index, inputs)
     return results
 

@@ -22,10 +22,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from .matching import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
-from .signs import SIGNS, envelope_line, match_fit
 from ..analysis import Analysis
 from ..analysis.peaks import Peak
+from .matching import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
+from .signs import SIGNS, envelope_line, match_fit
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
 MODULATION_ORDERS = 3

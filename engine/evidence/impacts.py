@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .matching import SLIP_TOLERANCE, clear_lines
 from ..analysis import Analysis
+from .matching import SLIP_TOLERANCE, clear_lines
 from .signs import SIGNS, envelope_line, impacts, match_fit, turns
 
 MATCH_TOLERANCE = 0.03    # rate within 3 % of a forcing frequency (1-2 % slip plus resolution)

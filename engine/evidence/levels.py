@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from collections import defaultdict
 
-from .matching import find_line
-from .signs import SIGNS, match_fit, spectrum_line, waveform
 from ..analysis import Analysis
 from ..readings.quality import same_scale
+from .matching import find_line
+from .signs import SIGNS, match_fit, spectrum_line, waveform
 
 
 def overall(rc: Analysis) -> list[dict]:

@@ -89,7 +89,9 @@ def find_line(spec: Spectrum, freq_hz: float, fraction: float, wide_floor: bool 
     return find_lines(spec, [freq_hz], fraction, wide_floor).peak(0)
 
 
-CENSUS_FLOOR_POINTS = 16    # the wide floor for a census of lines: measured at this many frequencies (about one per 15 % over a decade), interpolated
+# the wide floor for a census of lines: measured at this many frequencies (about one per 15 % over a decade),
+# interpolated between them
+CENSUS_FLOOR_POINTS = 16
 
 
 _CENSUS_KEPT = 16           # the last spectra counted: the envelope and impact extractors ask for the same ones

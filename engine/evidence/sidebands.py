@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .matching import db, explained_frequencies, find_lines
 from ..analysis import Analysis
+from .matching import db, explained_frequencies, find_lines
 from .signs import SIGNS, match_fit, spectrum_line
 
 MAX_ORDER = 6

@@ -6,8 +6,16 @@ import numpy as np
 
 from ..analysis import Analysis, ChannelAnalysis, find_peaks
 from ..common.units import STANDARD_GRAVITY_M_S2 as G
-from .matching import (HALF_ORDERS, SHAFT_HARMONICS, SPEED_TOLERANCE, UNREFINED_TOLERANCE, db, explained_frequencies,
-                     find_lines, tolerance_hz)
+from .matching import (
+    HALF_ORDERS,
+    SHAFT_HARMONICS,
+    SPEED_TOLERANCE,
+    UNREFINED_TOLERANCE,
+    db,
+    explained_frequencies,
+    find_lines,
+    tolerance_hz,
+)
 from .signs import SIGNS, match_fit, spectrum_line
 
 MIN_TONE_HZ = 2.0

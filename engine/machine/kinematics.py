@@ -32,8 +32,8 @@ No other module derives a rate from the machine's geometry.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import asdict, dataclass
-from typing import Mapping
 
 from .model import Bearing, Machine
 

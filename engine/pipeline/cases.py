@@ -10,10 +10,10 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..common.errors import CaseError
+from ..common.yamlfile import read_yaml, validate
 from ..machine import load_machine
 from ..readings import combine_readings, load_reading
 from ..reasoning import CONFIDENT, Reasoner, Reasoning
-from ..common.yamlfile import read_yaml, validate
 
 
 @dataclass(frozen=True)

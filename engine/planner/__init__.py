@@ -6,8 +6,7 @@ each setting and asks the real Reasoner whether a diagnosis of each record
 names it (``shown``); ``build_plan`` composes them into the plan document.
 """
 
-from .check import (CAN, CANNOT, MAY_MISS, Limitation, Verdict, check, limitations_of_reading, reading_verdicts,
-                    verdicts)
+from .check import CAN, CANNOT, MAY_MISS, Limitation, Verdict, check, limitations_of_reading, reading_verdicts, verdicts
 from .document import build_plan, render_plan
 from .needs import Need, requirements
 from .policy import Policy, load_policy, read_policy

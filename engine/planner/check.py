@@ -14,8 +14,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..machine.kinematics import forcing_frequencies
 from ..machine import Machine
+from ..machine.kinematics import forcing_frequencies
 from .needs import requirements
 from .policy import Policy
 from .settings import Settings, reading_settings

@@ -3,17 +3,16 @@ settings, the proof by simulation and the figures. Templates and JSON read only 
 
 from __future__ import annotations
 
-
-from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..machine import Machine, Point
+from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..reasoning import Rulebook
 from .check import CANNOT, check, frequencies_above, verdicts
 from .needs import ring_down_s, rules_of
 from .policy import Policy
 from .proof import SEED, STAGE, prove, resonance_hz
-from .shown import reasoner_for
 from .propose import Proposal, propose
 from .settings import Settings
+from .shown import reasoner_for
 from .targets import PURPOSE_TITLES, Target, purposes_at, targets_at
 
 SCHEMA_VERSION = 1
@@ -70,14 +69,16 @@ def _counts(machine: Machine, given: Settings, policy: Policy, speeds: dict) -> 
     for g in machine.gears:
         mesh = mesh_rates(g, speeds)
         rows.append({"what": f"mesh {g.id}", "value": f"{given.duration_s * mesh.htf_hz:.2f} hunting-tooth periods, "
-                                                      f"{given.sample_rate_hz / mesh.gmf_hz:.1f} samples on one tooth impact"})
+                                                      f"{given.sample_rate_hz / mesh.gmf_hz:.1f} samples on one "
+                                                      "tooth impact"})
     if machine.bearings:
         lo, hi = policy.bearing_resonance_hz
         where = ("under Fmax" if hi <= given.fmax_hz else "partly above Fmax" if lo < given.fmax_hz
                  else "above Fmax")
         nyquist = "under" if hi <= given.nyquist_hz else "above"
         rows.append({"what": f"envelope band {lo:.0f}-{hi:.0f} Hz",
-                     "value": f"{where} ({given.fmax_hz:g} Hz), {nyquist} half the sample rate ({given.nyquist_hz:g} Hz)"})
+                     "value": f"{where} ({given.fmax_hz:g} Hz), {nyquist} half the sample rate "
+                              f"({given.nyquist_hz:g} Hz)"})
         rows.append({"what": "one bearing impact",
                      "value": f"{given.sample_rate_hz * ring_down_s(policy, hi):.1f} samples ringing at {hi:.0f} Hz, "
                               f"{given.sample_rate_hz * ring_down_s(policy, lo):.1f} at {lo:.0f} Hz"})

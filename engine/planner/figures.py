@@ -12,9 +12,9 @@ from dataclasses import replace
 
 import numpy as np
 
+from ..common.units import STANDARD_GRAVITY_M_S2 as G
 from ..machine.kinematics import mesh_rates
 from ..report import svg
-from ..common.units import STANDARD_GRAVITY_M_S2 as G
 from .proof import PAD_S, physical_rate, record, simulate_target
 
 COLORS = ("#1f5fa8", "#c2571a", "#2f7d32")   # one per setting, in order

@@ -22,8 +22,8 @@ from functools import lru_cache
 
 from ..evidence.envelope import harmonics_searched, shared_lines
 from ..evidence.matching import SLIP_TOLERANCE
-from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
 from ..machine import Machine, Point
+from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
 from .settings import Settings

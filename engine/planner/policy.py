@@ -9,11 +9,11 @@ with a source for each. It is checked against
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 from pathlib import Path
 from types import MappingProxyType
-from typing import Mapping
 
 from ..common.errors import RulebookError
 from ..common.paths import RULEBOOKS
@@ -130,7 +130,7 @@ def read_policy(path) -> Policy:
     )
 
 
-@lru_cache(maxsize=None)
+@cache
 def _cached(path: str) -> Policy:
     return read_policy(path)
 

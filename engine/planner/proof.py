@@ -28,13 +28,13 @@ from fractions import Fraction
 import numpy as np
 
 from ..common.errors import ReadingError, TellwaveError, UsageError
-from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
 from ..machine import Machine, Point
+from ..readings.limits import FULL_LENGTH_CHANNELS, MAX_SAMPLES_PER_CHANNEL
 from ..reasoning import Reasoner
 from .check import CAN, CANNOT
 from .policy import Policy
-from .shown import Reference, level_shown, reasoner_for, shown
 from .settings import Settings
+from .shown import Reference, level_shown, reasoner_for, shown
 from .targets import Target
 
 STAGE = 2                    # an early but clear fault in the simulator's scale

@@ -88,8 +88,8 @@ def given_settings(policy: Policy, fmax_hz: float | None = None, lines: int | No
     record = (lines / fmax if lines is not None else 0.0)
     longest = max(record, duration_s or 0.0)
     if longest * fs > limit:
-        raise UsageError(f"{'one record of ' + str(lines) + ' lines' if record >= (duration_s or 0.0) else 'a waveform'}"
-                         f" of {longest:g} s at {fs:g} Hz is {longest * fs:.4g} samples; a reading holds at most "
+        what = f"one record of {lines} lines" if record >= (duration_s or 0.0) else "a waveform"
+        raise UsageError(f"{what} of {longest:g} s at {fs:g} Hz is {longest * fs:.4g} samples; a reading holds at most "
                          f"{limit} (engine/readings/limits.py; --max-samples raises it)")
     if lines is None:
         lines = max(1, int(round(duration_s * fmax)))

@@ -43,7 +43,8 @@ def hann_from_rectangular(spec: np.ndarray, n: int) -> np.ndarray:
     y[1:] -= quarter[:-1]
     y[:-1] -= quarter[1:]
     y[0] -= np.conj(quarter[1])
-    y[-1] -= np.conj(quarter[-2] if n % 2 == 0 else quarter[-1])   # X[n/2+1] = conj X[n/2-1]; odd: X[(n+1)/2] = conj X[(n-1)/2]
+    # X[n/2+1] = conj X[n/2-1]; odd n: X[(n+1)/2] = conj X[(n-1)/2]
+    y[-1] -= np.conj(quarter[-2] if n % 2 == 0 else quarter[-1])
     return y
 
 

@@ -157,7 +157,8 @@ def check_channel(ch: Channel, fs_hz: float) -> list[QualityIssue]:
     if spread > DRIFT_RATIO:
         issues.append(QualityIssue(
             "drift", ch.name,
-            f"slow drift: segment means spread over {spread:.2f} x the AC RMS (settling sensor or thermal drift)", spread))
+            f"slow drift: segment means spread over {spread:.2f} x the AC RMS (settling sensor or thermal drift)",
+            spread))
     issues += _dropouts(ch, x, fs_hz)
     issues += _plausibility(ch, ac, size, fs_hz)
     return issues

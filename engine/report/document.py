@@ -253,7 +253,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                             "source": " ".join(advice.zone_scale.source.split())},
                   "worst": advice.worst_zone, "meaning": advice.zone_meaning,
                   "points": [{"channel": z.channel, "point": z.point, "location": z.location,
-                              "velocity_rms_mm_s": None if z.velocity_rms_mm_s is None else round(z.velocity_rms_mm_s, 3),
+                              "velocity_rms_mm_s": (None if z.velocity_rms_mm_s is None
+                                                    else round(z.velocity_rms_mm_s, 3)),
                               "zone": z.zone, "band_truncated": z.band_truncated,
                               "signal_issues": list(z.signal_issues), "scale_trusted": z.scale_trusted,
                               "scale_issues": list(z.scale_issues)}

@@ -15,17 +15,17 @@ or Infinity. A template is given ``doc`` and nothing else.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 from pathlib import Path
 
 import jinja2
 import markupsafe
 
+from ..common import escape
 from ..common.errors import UsageError
 from ..common.jsonout import dumps
 from ..common.outfile import write_whole
 from ..common.paths import TEMPLATES
-from ..common import escape
 
 EXTENSIONS = {"text": "txt", "md": "md", "html": "html"}     # a format's template file: NAME.EXT.j2
 _FINALIZE = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
@@ -70,7 +70,7 @@ def _days(d) -> str:
     return f"{d * 24:.1f} h"
 
 
-@lru_cache(maxsize=None)
+@cache
 def environment(fmt: str | None = None) -> jinja2.Environment:
     """The Jinja environment over templates/, one per format: autoescape for .html templates, and for
     ``fmt`` "md", "text" or "html" every value escaped for Markdown, the terminal or the page.

@@ -195,9 +195,12 @@ def render(plot: Plot, width: int = WIDTH) -> str:
     for v in xt:
         x = px(v)
         out.append(f'<line x1="{x:.1f}" y1="{y0}" x2="{x:.1f}" y2="{y1}" stroke="{GRID}" stroke-width="0.6"/>')
-        out.append(f'<text x="{x:.1f}" y="{y0 + 14}" text-anchor="middle" fill="{INK}">{escape(tick_text(v, xstep))}</text>')
-    out.append(f'<rect x="{x0}" y="{y1}" width="{x1 - x0}" height="{y0 - y1}" fill="none" stroke="#444444" stroke-width="0.8"/>')
-    out.append(f'<text x="{(x0 + x1) / 2:.1f}" y="{h - 6}" text-anchor="middle" fill="{INK}">{escape(plot.xlabel)}</text>')
+        out.append(f'<text x="{x:.1f}" y="{y0 + 14}" text-anchor="middle" fill="{INK}">'
+                   f'{escape(tick_text(v, xstep))}</text>')
+    out.append(f'<rect x="{x0}" y="{y1}" width="{x1 - x0}" height="{y0 - y1}" fill="none" stroke="#444444" '
+               'stroke-width="0.8"/>')
+    out.append(f'<text x="{(x0 + x1) / 2:.1f}" y="{h - 6}" text-anchor="middle" fill="{INK}">'
+               f'{escape(plot.xlabel)}</text>')
     out.append(f'<text transform="translate(12,{(y0 + y1) / 2:.1f}) rotate(-90)" text-anchor="middle" '
                f'fill="{INK}">{escape(plot.ylabel)}</text>')
     # clip traces to the axes

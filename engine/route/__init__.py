@@ -7,6 +7,5 @@ from .runner import EXTENSIONS as FORMATS
 from .runner import RouteOutcome, run_route, summary_paths
 from .summary import route_summary
 
-
 __all__ = ["FORMATS", "Route", "RouteOutcome", "Task", "load_folder", "load_route", "route_inputs",
            "route_summary", "run_route", "summary_paths"]

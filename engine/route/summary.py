@@ -11,7 +11,7 @@ by an earlier run) appear exactly as freshly diagnosed ones.
 from __future__ import annotations
 
 import os
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
 
 from .. import __version__
@@ -49,7 +49,7 @@ def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
         return None
     then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
     best = None
-    for point, (t_now, v_now) in now.items():
+    for point, (_t_now, v_now) in now.items():
         if point in then:
             t_then, v_then = then[point]
             pct = 100.0 * (v_now - v_then) / v_then if v_then > 0 else None
@@ -117,7 +117,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         "tellwave": __version__,
         "route": outcome.route.name,
         "file": outcome.route.file,
-        "made_at": datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
         "store": str(store.path),
         "counts": {"readings": n, "diagnosed": len(outcome.diagnosed), "skipped": len(outcome.skipped),
                    "failed": len(outcome.failed), "machines": len(ranked)},

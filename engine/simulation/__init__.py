@@ -28,8 +28,8 @@ saves them as a reading file that ``load_reading`` reads, with the truth in
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 
@@ -40,7 +40,7 @@ from . import bearings, belts, electrical, flow, gears, shaft
 from .healthy import background
 from .recording import as_reading, clip_channel, write_simulation
 from .result import Simulation, Truth
-from .signal import G, NOTHING, RING_RESPONSES, Part, Scene
+from .signal import NOTHING, RING_RESPONSES, G, Part, Scene
 
 __all__ = ["FAULTS", "Fault", "fault_of", "G", "RING_RESPONSES", "STAGES", "Simulation", "Truth", "as_reading",
            "clip_channel", "runs_at", "simulate", "write_simulation"]

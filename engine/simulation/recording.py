@@ -29,7 +29,7 @@ def clip_channel(sim: Simulation, channel: str, fraction: float) -> Simulation:
     return Simulation(sim.fs_hz, channels, sim.points, sim.truth, sim.speed_rpm, sim.extra)
 
 
-def as_reading(sim: Simulation, source: str = "simulated") -> "Reading":
+def as_reading(sim: Simulation, source: str = "simulated") -> Reading:
     """The simulation as an in-memory Reading (acceleration channels, quality gates run)."""
     from ..readings import Channel, Reading
     from ..readings.quality import check_channel

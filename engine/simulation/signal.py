@@ -10,8 +10,8 @@ the signal of each measurement point. All signals are acceleration in m/s^2.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Callable
 
 import numpy as np
 

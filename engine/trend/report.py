@@ -7,7 +7,7 @@ never from numbers copied here.
 
 from __future__ import annotations
 
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 
 import numpy as np
 
@@ -51,7 +51,8 @@ def _next_boundary(v: float, scale) -> tuple[float, str] | None:
 
 
 def _plots(by_name: dict[str, Series], scale, projections: dict[str, Projection], point: str) -> list[dict]:
-    from ..report.svg import Level, Plot, Series as Trace, render
+    from ..report.svg import Level, Plot, render
+    from ..report.svg import Series as Trace
 
     first = min(s.times[0] for s in by_name.values())
 
@@ -142,7 +143,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             entry["plots"] = _plots(by_name, scale, projections, pt)
         points.append(entry)
     return {"tellwave": __version__, "machine": machine,
-            "made_at": datetime.now(timezone.utc).isoformat(timespec="seconds"),
+            "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
             "zone_scale": {"group": scale.group, "support": scale.support, "ab_mm_s": scale.ab, "bc_mm_s": scale.bc,
                            "cd_mm_s": scale.cd, "assumed": scale.assumed},
             "baseline": "median of the first readings (3, or a quarter of a long history, at most 10)",

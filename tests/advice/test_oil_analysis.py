@@ -17,7 +17,8 @@ from engine.pipeline.cases import load_case
 from engine.report import render
 from engine.simulation import as_reading, simulate
 
-from support import CASES, MADE_AT, REPORT_FORMATS as FORMATS, reasoner
+from support import CASES, MADE_AT, reasoner
+from support import REPORT_FORMATS as FORMATS
 
 
 def test_7_the_oil_analysis_is_one_table_per_machine_in_the_document():

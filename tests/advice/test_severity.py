@@ -13,7 +13,8 @@ from engine.pipeline import diagnose, document_of
 from engine.report import render
 from engine.simulation import as_reading, simulate
 
-from support import RW2, reasoner as shared_reasoner
+from support import RW2
+from support import reasoner as shared_reasoner
 
 
 @pytest.fixture(scope="module")

@@ -8,6 +8,7 @@ from __future__ import annotations
 import pytest
 
 from bench.hostile import seed_signal
+
 from support import RW2, npz_reading, one_error_line
 
 

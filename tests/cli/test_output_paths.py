@@ -11,10 +11,10 @@ import stat
 
 import pytest
 
+from bench.hostile import seed_signal
 from engine.common.errors import OutputError
 from engine.readings import sidecar_path
 
-from bench.hostile import seed_signal
 from support import RW2, npz_reading, one_error_line
 
 

@@ -11,15 +11,14 @@ import json
 import pytest
 import yaml
 
+from bench.hostile import seed_signal
 from engine.cli import main
 from engine.common.errors import MachineError
 from engine.machine import load_machine
 from engine.readings import load_reading, sidecar_path
 from engine.report import render
 
-from bench.hostile import seed_signal
 from support import RW2, npz_reading, reasoner
-
 
 HOSTILE_NAME = "RW-2 <script>x</script> | *bold* _u_ [link](http://x) \x1b[31mRED\x1b]0;title\x07"
 
@@ -30,7 +29,8 @@ def hostile_document(tmp_path):
     machine.write_text(RW2.read_text().replace("machine: RW-2 raw water pump",
                                                "machine: " + json.dumps(HOSTILE_NAME)))
     reading = npz_reading(tmp_path / "r.npz", seed_signal())
-    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [{"name": "a", "label": "P1 | H `x` \x1b[2J", "point": "P1H"}]}))
+    channel = {"name": "a", "label": "P1 | H `x` \x1b[2J", "point": "P1H"}
+    sidecar_path(reading).write_text(yaml.safe_dump({"channels": [channel]}))
     return machine, reading
 
 

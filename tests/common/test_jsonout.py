@@ -9,10 +9,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from bench.hostile import seed_signal, strict_json
 from engine.cli import main
 from engine.common.jsonout import dumps
 
-from bench.hostile import seed_signal, strict_json
 from support import RW2, npz_reading
 
 

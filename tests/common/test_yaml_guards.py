@@ -11,13 +11,12 @@ import time
 import numpy as np
 import pytest
 
+from bench.hostile import seed_signal
 from engine.common.errors import MachineError, ReadingError, RulebookError
 from engine.common.yamlfile import MAX_BYTES
 from engine.readings import load_reading, sidecar_path
 
-from bench.hostile import seed_signal
 from support import npz_reading, one_error_line
-
 
 RECURSIVE = "machine: &a [*a]\n"
 

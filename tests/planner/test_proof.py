@@ -8,10 +8,10 @@ from scipy import signal
 
 from engine.machine import load_machine
 from engine.planner import CAN, CANNOT, MAY_MISS, check, given_settings, load_policy, propose, targets_at, verdicts
-from engine.planner.proof import ANTI_ALIAS, physical_rate, prove, record
 from engine.planner.needs import least
-from engine.planner.shown import reasoner_for, shown
+from engine.planner.proof import ANTI_ALIAS, physical_rate, prove, record
 from engine.planner.settings import Settings
+from engine.planner.shown import reasoner_for, shown
 from engine.planner.targets import Target
 
 from support import CASES, tone

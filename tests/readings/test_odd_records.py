@@ -8,15 +8,16 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.io import savemat
 
+from bench.hostile import seed_signal
 from engine.cli import main
 from engine.common.errors import ReadingError
 from engine.machine import load_machine
 from engine.readings import MIN_SAMPLES, load_reading
 
-from bench.hostile import seed_signal
 from support import CASES, FS, RW2, npz_reading, one_error_line, reasoner, tone
 
 

@@ -37,7 +37,7 @@ MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "m
             "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml"}
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _machine(key: str):
     return load_machine(MACHINES[key])
 
@@ -123,7 +123,8 @@ SIMULATED = [
     ("cage", "bw1", _fault("bw1", "cage"), "bearing.cage.shaft-modulation shaft.unbalance.against-cage-sidebands"),
     ("vane pass", "bw1", _fault("bw1", "vane-pass"), "bearing.stage.broadband rotor.vane-pass.high"),
     ("rotating looseness", "ct1", _fault("ct1", "looseness-rotating"), "gear.eccentricity.raised-1x"),
-    ("speed stated 3 % high", "ct1", _stated_speed("ct1", "unbalance", 2, 2, 1.03), "reading.speed.differs-from-stated"),
+    ("speed stated 3 % high", "ct1", _stated_speed("ct1", "unbalance", 2, 2, 1.03),
+     "reading.speed.differs-from-stated"),
     ("speed stated 20 % high", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 1.2),
      "reading.speed.above-drive-range reading.speed.no-one-x"),
     ("speed stated 20 % low", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 0.8),

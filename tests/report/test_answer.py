@@ -10,7 +10,8 @@ import re
 
 from engine.report import render
 
-from support import REPORT_FORMATS as FORMATS, ROOT, doc_of
+from support import REPORT_FORMATS as FORMATS
+from support import ROOT, doc_of
 
 
 def test_1_the_answer_counts_the_hypotheses_listed_below_it():

@@ -19,7 +19,8 @@ from engine.pipeline.cases import load_case, simulation_of
 from engine.report import render
 from engine.simulation import write_simulation
 
-from support import CASES, MADE_AT, REPORT_FORMATS as FORMATS, case_diagnosis, doc_of
+from support import CASES, MADE_AT, case_diagnosis, doc_of
+from support import REPORT_FORMATS as FORMATS
 
 
 def test_2_the_report_says_when_it_was_made_local_time_with_offset_to_the_minute():

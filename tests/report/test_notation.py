@@ -14,7 +14,8 @@ from engine.pipeline.cases import load_case, simulation_of
 from engine.report import render
 from engine.simulation import write_simulation
 
-from support import CASES, REPORT_FORMATS as FORMATS, ROOT, doc_of, reasoner
+from support import CASES, ROOT, doc_of, reasoner
+from support import REPORT_FORMATS as FORMATS
 
 
 def test_8_certainty_is_a_percentage_in_every_report_and_in_the_demo_index(tmp_path):

@@ -28,6 +28,7 @@ from engine.route import load_route, route_summary, run_route
 from engine.simulation import as_reading
 from engine.trend import trend_document
 from engine.trend.diagnosis import HistoryLink
+
 from support import CASES, ROOT, HtmlChecker
 
 TEMPLATES = ROOT / "templates"

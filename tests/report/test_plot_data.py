@@ -33,12 +33,12 @@ ENGINE = ROOT / "engine"
 NAMES = ("rw2-pump-nde-outer-race", "ct1-bevel-tooth", "rw2-misalignment", "bw1-clipped-recording")
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _reasoner() -> Reasoner:
     return Reasoner(load_rulebook())
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _case(name: str):
     case = load_case(CASES / "demo" / f"{name}.case.yaml")
     machine = load_machine(case.machine)

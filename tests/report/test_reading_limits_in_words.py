@@ -15,7 +15,8 @@ from engine.pipeline.cases import load_case, simulation_of
 from engine.report import render
 from engine.simulation import write_simulation
 
-from support import CASES, REPORT_FORMATS as FORMATS, doc_of
+from support import CASES, doc_of
+from support import REPORT_FORMATS as FORMATS
 
 
 def test_5_quality_issues_read_in_words_the_same_as_tellwave_reading_says_them(tmp_path, capsys):

@@ -14,7 +14,6 @@ from engine.report import render
 
 from support import CASES, ROOT, doc_of
 
-
 ORIGIN = re.compile(r"^(site\d*/)?[\w.-]+\.ya?ml(:\d+)?$")
 
 
