@@ -19,9 +19,9 @@ from functools import cached_property
 
 import numpy as np
 
-from ..readings.band_rms import band_rms_of_fft
+from ..readings.band_rms import band_rms_of_fft, hann_from_rectangular
 from . import _fft as sfft
-from .windows import enbw_bins, hann_from_rectangular, window, window_name, window_sum
+from .windows import enbw_bins, window, window_name, window_sum
 
 SCALINGS = {"peak": 1.0, "rms": 1.0 / np.sqrt(2.0), "peak-to-peak": 2.0}
 FLOOR_CHUNK = 65536

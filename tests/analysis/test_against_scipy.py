@@ -17,7 +17,8 @@ from engine.analysis.envelope import tukey
 from engine.analysis.levels import waveform_statistics
 from engine.analysis.peaks import local_maxima, peaks_above
 from engine.analysis.spectrum import Transform, running_median
-from engine.analysis.windows import hann_from_rectangular, window
+from engine.analysis.windows import window
+from engine.readings.band_rms import hann_from_rectangular
 
 finite = st.floats(-1e3, 1e3, allow_nan=False, allow_infinity=False)
 # quantised values make flat tops (plateaus), the hard case of peak finding
