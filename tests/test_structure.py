@@ -103,10 +103,7 @@ def test_the_sql_check_sees_a_query_and_spares_other_connects():
 
 JSONOUT = ENGINE / "common" / "jsonout.py"
 # a file may make JSON text for another purpose than output only with a reason here
-JSON_NOT_OUTPUT = {
-    "engine/history/record.py": "a content hash over canonical JSON (sorted keys), never shown or written; "
-                                "jsonout's output form would change every stored reading's key",
-}
+JSON_NOT_OUTPUT: dict[str, str] = {}    # file -> why it may make JSON text itself (none today)
 
 
 def _json_text(tree: ast.Module):
@@ -185,15 +182,9 @@ def _stages() -> list[str]:
     return sorted({p.relative_to(ENGINE).parts[0].removesuffix(".py") for p in _files(ENGINE)})
 
 
-WAITING = {
-    "planner": "part A of issue 21 moves the planner's vane, rotor-bar and bearing rates into kinematics",
-    "simulation": "part C of issue 21 splits the simulator with one table that takes its rates from kinematics",
-}
 
 
-@pytest.mark.parametrize("stage", [
-    pytest.param(s, marks=pytest.mark.xfail(strict=False, reason=WAITING[s])) if s in WAITING else s
-    for s in _stages()])
+@pytest.mark.parametrize("stage", _stages())
 def test_rate_formulas_live_in_kinematics(stage):
     """A forcing frequency computed twice drifts apart the day one copy is corrected; every rate
     comes from engine/machine/kinematics.py (DEVELOPERS.md)."""
