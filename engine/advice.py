@@ -13,6 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
+from typing import Protocol
 
 from .common.errors import RulebookError
 from .common.paths import RULEBOOKS
@@ -25,6 +26,17 @@ ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
 # quality issues that distort a channel's overall level (a DC offset does not: the mean is removed)
 LEVEL_DISTORTED = ("clipping", "dropout", "drift", "dead", "nonfinite", "out_of_range")
+
+
+class Mounting(Protocol):
+    """What the ISO 20816-3 zone scale reads of a machine (a ``Machine``, or a stand-in when its file
+    cannot be read): its group and support, None where unsaid."""
+
+    @property
+    def iso_group(self) -> int | None: ...
+
+    @property
+    def support(self) -> str | None: ...
 
 
 @dataclass(frozen=True)
@@ -116,10 +128,10 @@ def load_advice(folder=ADVICE_FOLDER) -> dict:
 
 @lru_cache(maxsize=8)
 def _load_advice(folder: str) -> dict:
-    folder = Path(folder)
-    files = sorted(folder.glob("*.yaml"))
+    root = Path(folder)
+    files = sorted(root.glob("*.yaml"))
     if not files:
-        raise RulebookError("no advice data found (rulebooks/advice/*.yaml)", path=str(folder))
+        raise RulebookError("no advice data found (rulebooks/advice/*.yaml)", path=str(root))
     merged, lines = {}, {}
     for f in files:
         doc = read_yaml(f, RulebookError)
@@ -131,15 +143,15 @@ def _load_advice(folder: str) -> dict:
                                     line=doc.line_of([key]))
             merged[key] = value
             lines[(key,)] = (str(f), doc.line_of([key]))
-    found = first_problem(YamlDocument(str(folder), merged, {}), "advice.schema.json")
+    found = first_problem(YamlDocument(str(root), merged, {}), "advice.schema.json")
     if found is not None:
         path, problem = found
-        file, line = lines.get(tuple(path[:1]), (str(folder), None))
+        file, line = lines.get(tuple(path[:1]), (str(root), None))
         raise RulebookError(f"{'.'.join(map(str, path))}: {problem}", path=file, line=line)
     return merged
 
 
-def zone_scale(machine: Machine, data: dict) -> ZoneScale:
+def zone_scale(machine: Mounting, data: dict) -> ZoneScale:
     """The ISO 20816-3 boundaries for the machine's group and support (the stated assumption if unsaid)."""
     table = data["iso_20816_3"]
     group = machine.iso_group or table["assumed"]["group"]

@@ -226,7 +226,7 @@ def _random_white(accel: np.ndarray, fs: float) -> np.ndarray:
     return white
 
 
-def _envelopes(white: np.ndarray, n: int, fs: float, fastest_defect_hz: float | None):
+def _envelopes(white: np.ndarray | None, n: int, fs: float, fastest_defect_hz: float | None):
     """The kurtogram band's envelope (Antoni 2007) and, beside it, the whole prewhitened signal
     above the defect harmonics (cepstral prewhitening then envelope: Smith & Randall's
     method 2). An impulsive band can be a single burst of noise; the wide view catches a
@@ -234,7 +234,7 @@ def _envelopes(white: np.ndarray, n: int, fs: float, fastest_defect_hz: float | 
     deterministic lines taken out (discrete/random separation, the first step of Smith &
     Randall's benchmark method 3), so that a shaft, rig or electrical component whose
     harmonics beat at a defect's rate does not pass for a bearing."""
-    if fastest_defect_hz is None:
+    if fastest_defect_hz is None or white is None:      # white is None exactly when there is no defect rate
         return None, (), None, None
     span = ENVELOPE_HARMONICS * fastest_defect_hz
     kg = kurtogram_of_spectrum(white, n, fs, max_level=KURTOGRAM_LEVELS, trim_fraction=EDGE_TRIM,
@@ -302,8 +302,9 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
         for shaft in shafts:
             if orders[shaft] not in done:
                 done[orders[shaft]] = events_of_rows(rows, list(orders[shaft]))
-            if done[orders[shaft]] is not None:
-                out[shaft] = done[orders[shaft]]
+            events = done[orders[shaft]]
+            if events is not None:
+                out[shaft] = events
         if len(rows):
             rest_rows = rows if rest is accel else revolution_rows(rest, fs, speed_hz, spr)
             part = synchronous_part(rest_rows, len(accel), fs, speed_hz)
@@ -401,7 +402,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     (True, (10.0, 1000.0))
     """
     fs = reading.fs_hz
-    points = {p.id: p for p in machine.points}
+    points: dict[str | None, Point] = {p.id: p for p in machine.points}   # looked up by a channel's point, or None
     usable = [ch for ch in reading.channels if not any(q.blocking for q in reading.issues_for(ch.name))]
     if not usable:
         why = "; ".join(f"{q.channel}: {describe_issue(q)}" for q in reading.quality if q.blocking)

@@ -23,6 +23,9 @@ from functools import cache, lru_cache
 
 import numpy as np
 
+# re-exported (the redundant alias marks it so): its home is band_rms, the quality gates use it too
+from ..readings.band_rms import hann_from_rectangular as hann_from_rectangular
+
 WINDOWS = {"hann": "hann", "hanning": "hann", "hamming": "hamming", "flattop": "flattop",
            "rectangular": "boxcar", "boxcar": "boxcar", "uniform": "boxcar", "blackmanharris": "blackmanharris"}
 KERNEL_LENGTH = 1024   # window length used to tabulate its spectral kernel

@@ -83,12 +83,14 @@ def bearing_multiples(bearing: Bearing) -> dict[str, float]:
     """BPFO, BPFI, BSF and FTF as multiples of shaft speed (orders)."""
     if bearing.multiples is not None:
         return dict(bearing.multiples)
-    n = bearing.rolling_elements
-    ratio = bearing.element_diameter / bearing.pitch_diameter * math.cos(math.radians(bearing.contact_angle_deg))
+    n, element, pitch = bearing.rolling_elements, bearing.element_diameter, bearing.pitch_diameter
+    # the machine schema asks for all three of a bearing given without multiples
+    assert n is not None and element is not None and pitch is not None
+    ratio = element / pitch * math.cos(math.radians(bearing.contact_angle_deg))
     return {
         "bpfo": n / 2 * (1 - ratio),
         "bpfi": n / 2 * (1 + ratio),
-        "bsf": bearing.pitch_diameter / (2 * bearing.element_diameter) * (1 - ratio ** 2),
+        "bsf": pitch / (2 * element) * (1 - ratio ** 2),
         "ftf": 0.5 * (1 - ratio),
     }
 

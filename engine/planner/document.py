@@ -3,6 +3,8 @@ settings, the proof by simulation and the figures. Templates and JSON read only 
 
 from __future__ import annotations
 
+from typing import Any
+
 from ..machine import Machine, Point
 from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..reasoning import Rulebook
@@ -119,7 +121,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
     speeds = machine.speeds_at(speed_rpm)
     proposals = {(p.id, u): propose(machine, p, u, policy, speed_rpm, rulebook)
                  for p in chosen for u in purposes_at(machine, p)}
-    doc = {
+    doc: dict[str, Any] = {
         "kind": "acquisition plan", "schema_version": SCHEMA_VERSION,
         "machine": {"name": machine.name, "plant": machine.plant or "", "source": str(machine.source),
                     "speeds_rpm": {s: hz * 60 for s, hz in speeds.items()}},
@@ -148,7 +150,7 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
         }
     if with_proof:
         reasoner = reasoner_for(rulebook)      # compiled once for the whole plan
-        items = []
+        items: list[dict[str, Any]] = []
         for t, p in targets.items():
             proposed = proposals[(p.id, t.purpose)].settings()
             sets = {"proposed": proposed}

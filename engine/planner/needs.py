@@ -22,8 +22,9 @@ from functools import lru_cache
 
 from ..evidence.envelope import harmonics_searched, shared_lines
 from ..evidence.matching import SLIP_TOLERANCE
-from ..machine import Machine, Point
+from ..machine import GearMesh, Machine, Point
 from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
+from ..machine.model import BeltDrive
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
 from .settings import Settings
@@ -347,7 +348,8 @@ def _gear(machine, point, speeds, policy, targets, rulebook):
 
 def _neighbours(machine: Machine, shaft: str) -> set[str]:
     out = {shaft}
-    for link in (*machine.gears, *machine.belts):
+    links: tuple[GearMesh | BeltDrive, ...] = (*machine.gears, *machine.belts)
+    for link in links:
         if shaft in (link.driving_shaft, link.driven_shaft):
             out |= {link.driving_shaft, link.driven_shaft}
     return out
@@ -490,7 +492,7 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
     speeds = machine.speeds_at(speed_rpm)
     targets = tuple(targets_at(machine, point, purpose))
     band = None
-    strong = ()
+    strong: tuple[tuple[str, float], ...] = ()
     if purpose == "severity":
         needs = _severity(machine, point, speeds, policy, targets)
     elif purpose == "bearing":

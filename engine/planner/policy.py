@@ -93,6 +93,12 @@ def _check(doc, data: dict) -> None:
         fail("sources", f"no source given for {', '.join(missing)}")
 
 
+def _band(values) -> tuple[float, float]:
+    """A (lower, upper) band edge pair: ``_check`` let through only two edges."""
+    lo, hi = values
+    return float(lo), float(hi)
+
+
 def read_policy(path) -> Policy:
     """Read and check a policy file (no caching: for a site's own file)."""
     doc = read_yaml(path, RulebookError)
@@ -118,10 +124,10 @@ def read_policy(path) -> Policy:
         overlap_pct=float(data["overlap_pct"]),
         averages=MappingProxyType(dict(data["averages"])),
         harmonics=MappingProxyType(dict(data["harmonics"])),
-        iso_band_hz=tuple(float(v) for v in data["iso_band_hz"]),
-        iso_band_slow_hz=tuple(float(v) for v in data["iso_band_slow_hz"]),
+        iso_band_hz=_band(data["iso_band_hz"]),
+        iso_band_slow_hz=_band(data["iso_band_slow_hz"]),
         iso_slow_speed_rpm=float(data["iso_slow_speed_rpm"]),
-        bearing_resonance_hz=tuple(float(v) for v in data["bearing_resonance_hz"]),
+        bearing_resonance_hz=_band(data["bearing_resonance_hz"]),
         resonance_damping_ratio=float(data["resonance_damping_ratio"]),
         ring_down_to=float(data["ring_down_to"]),
         envelope_band_clearance=float(data["envelope_band_clearance"]),

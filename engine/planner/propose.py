@@ -99,6 +99,7 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
     lines = next((n for n in policy.standard_lines if n >= wanted * (1 - 1e-9)), None)
     if lines is None:
         lines = policy.standard_lines[-1]
+        assert tight is not None        # without one nothing is wanted, and the first standard line reaches that
         notes.append(f"no standard line count reaches {wanted:.0f} lines at Fmax {fmax:g} Hz: "
                      f"{tight.what} stays unresolved; take a zoom spectrum or a second reading at a lower Fmax")
         tight = min((n for n in by["resolution"] if n.value / n.lines >= fmax / lines * (1 - 1e-9)),

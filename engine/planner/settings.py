@@ -74,7 +74,11 @@ def given_settings(policy: Policy, fmax_hz: float | None = None, lines: int | No
         raise UsageError("give --fmax or --sample-rate (or --reading FILE) to check settings")
     if lines is None and duration_s is None:
         raise UsageError("give --lines or --duration (or --reading FILE) to check settings")
-    fs = sample_rate_hz if sample_rate_hz is not None else k * fmax_hz
+    if sample_rate_hz is not None:
+        fs = sample_rate_hz
+    else:
+        assert fmax_hz is not None      # one of the two is given, checked above
+        fs = k * fmax_hz
     fmax = fmax_hz if fmax_hz is not None else fs / k
     if fmax > fs / 2:
         raise UsageError(f"Fmax {fmax:g} Hz lies above half the sample rate ({fs / 2:g} Hz)")
@@ -92,6 +96,7 @@ def given_settings(policy: Policy, fmax_hz: float | None = None, lines: int | No
         raise UsageError(f"{what} of {longest:g} s at {fs:g} Hz is {longest * fs:.4g} samples; a reading holds at most "
                          f"{limit} (engine/readings/limits.py; --max-samples raises it)")
     if lines is None:
+        assert duration_s is not None   # one of the two is given, checked above
         lines = max(1, int(round(duration_s * fmax)))
     if duration_s is None:
         duration_s = lines / fmax

@@ -162,9 +162,10 @@ def taken_text(timestamp, time_from: str | None) -> str:
     text = taken_at(timestamp)
     if text is None:
         return "not stated (give the reading's sidecar a timestamp, or --taken-at)"
-    said = {"file": "as the file or its sidecar states", "route": "as the route states",
-            "command line": "as given with --taken-at",
-            "file modified": "the file's modification time: nothing states when it was taken"}.get(time_from)
+    said_of: dict[str | None, str] = {"file": "as the file or its sidecar states", "route": "as the route states",
+                                      "command line": "as given with --taken-at",
+                                      "file modified": "the file's modification time: nothing states when it was taken"}
+    said = said_of.get(time_from)
     return f"{text} ({said})" if said else text
 
 

@@ -90,7 +90,7 @@ def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
     title = f"Waveform, {pd.channel}"
     out.append((title, svg.render(svg.Plot(title, "time, ms", "acceleration, g" + stated,
                                            [svg.Series(pd.waveform_t_ms, pd.waveform_g)]))))
-    if pd.revolutions_g is not None and len(pd.revolutions_g):
+    if pd.revolutions_g is not None and pd.revolutions_deg is not None and len(pd.revolutions_g):
         rows = pd.revolutions_g
         step = 2.2 * float(np.max(np.abs(rows))) or 1.0
         series = [svg.Series(pd.revolutions_deg, row - i * step) for i, row in enumerate(rows)]
@@ -105,7 +105,8 @@ def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
     out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "velocity, mm/s RMS" + stated,
                                            [svg.Series(pd.spectrum_hz, pd.spectrum_mm_s)], marks,
                                            xlim=(0.0, float(pd.spectrum_hz[-1])), ylim=(0.0, top), height=260))))
-    if pd.envelope is not None:
+    # the envelope, its frequencies and its band are there together (plotdata._envelope), or none of them
+    if pd.envelope is not None and pd.envelope_hz is not None and pd.envelope_band_hz is not None:
         matched = _matched_harmonics(evidence, pd)
         marks = matched + [svg.Mark(m.freq_hz, m.label) for m in pd.envelope_marks
                            if not any(abs(m.freq_hz - x.x) < 1e-6 for x in matched)]

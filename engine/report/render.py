@@ -14,6 +14,7 @@ or Infinity. A template is given ``doc`` and nothing else.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
 from pathlib import Path
@@ -28,7 +29,7 @@ from ..common.outfile import write_whole
 from ..common.paths import TEMPLATES
 
 EXTENSIONS = {"text": "txt", "md": "md", "html": "html"}     # a format's template file: NAME.EXT.j2
-_FINALIZE = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
+_FINALIZE: dict[str | None, Callable] = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
 
 
 @dataclass(frozen=True)

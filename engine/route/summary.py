@@ -13,6 +13,7 @@ from __future__ import annotations
 import os
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import Any
 
 from .. import __version__
 from ..history.store import Store
@@ -48,7 +49,7 @@ def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
     if not before:
         return None
     then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
-    best = None
+    best: dict[str, Any] | None = None
     for point, (_t_now, v_now) in now.items():
         if point in then:
             t_then, v_then = then[point]
@@ -77,7 +78,9 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         got = store.reading_id_of(outcome.hashes[t.index])
         if got is not None and got not in listed:     # a reading listed twice the same way shows once
             listed.add(got)
-            rows.append((t, store.reading(got)))
+            row = store.reading(got)
+            assert row is not None      # its id was just read from the readings
+            rows.append((t, row))
     machines: dict[str, dict] = {}
     for task, r in rows:
         tops = store.top_hypothesis(r["id"])

@@ -30,6 +30,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import cast
 
 import numpy as np
 
@@ -96,6 +97,7 @@ def fault_of(name: str, error: type[TellwaveError] = UsageError, path: str | Non
 
 def _default_component(machine: Machine, fault: str) -> str:
     kind = FAULTS[fault].sits_on
+    assert kind is not None     # asked only for a fault that sits on a component
     pools = {"shaft": list(machine.shaft_speeds_hz), "bearing": [b.id for b in machine.bearings],
              "support": [b.id for b in machine.bearings],
              "gear": [g.id for g in machine.gears], "belt": [b.id for b in machine.belts],
@@ -195,7 +197,9 @@ def simulate(machine: Machine, fault: str = "healthy", component: str | None = N
     scene = Scene(machine, speeds, rates_at(machine, speeds), fs_hz, n, rng, resonance_hz, ring_response,
                   gear_side, speed_rpm / nominal_rpm, frozenset(fault_shafts))
 
-    part = kind.make(scene, component, stage)      # a component's own signal is made once, here
+    # a component's own signal is made once, here; component is None only for a fault that sits on none,
+    # whose maker ignores it
+    part = kind.make(scene, cast(str, component), stage)
     channels = {}
     for p in chosen:
         x = background(scene, p) if healthy_background else np.zeros(n)

@@ -68,8 +68,8 @@ def write_simulation(sim: Simulation, path, inputs=(), timestamp: str | None = N
             wavfile.write(tmp, int(round(sim.fs_hz)), data_g.astype(np.float32))
             sidecar["sample_rate_hz"] = sim.fs_hz
         elif suffix == ".npz":
-            with open(tmp, "wb") as fh:
-                np.savez(fh, **{c: data_g[:, i] for i, c in enumerate(names)},
+            with open(tmp, "wb") as fh:     # allow_pickle, numpy's default, named: no channel's array binds it
+                np.savez(fh, allow_pickle=True, **{c: data_g[:, i] for i, c in enumerate(names)},
                          sample_rate_hz=sim.fs_hz, unit="g", speed_rpm=sim.speed_rpm)
         else:
             header = f"# sample_rate_hz: {sim.fs_hz}\n# unit: g\n" + ",".join(names) + "\n"

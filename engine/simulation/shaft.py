@@ -62,8 +62,8 @@ def looseness_rotating(s: Scene, shaft: str, stage: int) -> Part:
         x = s.shaft_tone(shaft, 1, 2.0 * v, ph)
         for k in range(2, 11):
             x += s.shaft_tone(shaft, k, v * 0.9 ** k, k * ph + s.rng.uniform(0, 6.3))
-        for k in (0.5, 1.5, 2.5, 3.5):
-            x += s.shaft_tone(shaft, k, 0.35 * v, s.rng.uniform(0, 6.3))
+        for half in (0.5, 1.5, 2.5, 3.5):
+            x += s.shaft_tone(shaft, half, 0.35 * v, s.rng.uniform(0, 6.3))
         # rocking on a loose foot: the response is truncated on one side
         limit = 0.6 * np.max(x)
         x = np.minimum(x, limit)

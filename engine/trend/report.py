@@ -154,12 +154,12 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
 
 def zone_scale_for(machine_file: str | None):
     """The machine's ISO 20816-3 zone scale, from its file when it can still be read."""
-    from ..advice import load_advice, zone_scale
+    from ..advice import Mounting, load_advice, zone_scale
     from ..common.errors import TellwaveError
     from ..machine import load_machine
 
     data = load_advice()
-    machine = None
+    machine: Mounting | None = None
     if machine_file:
         try:
             machine = load_machine(machine_file)
