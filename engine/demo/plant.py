@@ -13,8 +13,6 @@ from __future__ import annotations
 from datetime import datetime, timedelta
 from pathlib import Path
 
-import yaml
-
 from ..common.paths import CASES
 
 FIRST_SURVEY = datetime(2026, 1, 12, 8, 30)
@@ -33,6 +31,8 @@ MONTHS = 6
 
 def write_month(out_dir, month: int) -> Path:
     """Write month ``month`` (1-based) of the demo routes; returns its route file."""
+    import yaml
+
     from ..common.errors import UsageError
     from ..machine import load_machine
     from ..report import write_atomically
