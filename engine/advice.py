@@ -29,6 +29,8 @@ LEVEL_DISTORTED = ("clipping", "dropout", "drift", "dead", "nonfinite", "out_of_
 
 @dataclass(frozen=True)
 class Urgency:
+    """One step of the urgency scale: its id, label, how soon to act (``within``) and rank."""
+
     id: str
     label: str
     within: str
@@ -37,6 +39,8 @@ class Urgency:
 
 @dataclass(frozen=True)
 class ZoneReading:
+    """One channel's overall velocity (mm/s RMS, ISO 20816-3 band), its zone, and the issues that doubt them."""
+
     channel: str
     point: str
     location: str
@@ -48,6 +52,7 @@ class ZoneReading:
 
     @property
     def scale_trusted(self) -> bool:
+        """Whether no quality issue doubts the channel's scale, so its level and zone can be judged."""
         return not self.scale_issues
 
 
@@ -64,6 +69,8 @@ class ScaleCheck:
 
 @dataclass(frozen=True)
 class ZoneScale:
+    """ISO 20816-3 zone boundaries A/B, B/C and C/D (mm/s RMS) for one group and support, with their source."""
+
     group: int
     support: str
     ab: float
@@ -75,6 +82,8 @@ class ZoneScale:
 
 @dataclass(frozen=True)
 class OilTest:
+    """One oil analysis that follows a fault up: the test, what its result would mean, and its source."""
+
     name: str
     means: str
     source: str
@@ -82,6 +91,8 @@ class OilTest:
 
 @dataclass(frozen=True)
 class Recommendation:
+    """What to do about one hypothesis: severity, urgency, actions, spares, how to confirm, oil tests."""
+
     hypothesis: Hypothesis
     severity: str
     urgency: Urgency
@@ -93,6 +104,8 @@ class Recommendation:
 
 @dataclass(frozen=True)
 class Advice:
+    """The advice for one diagnosis: zones, overall urgency, recommendations, limitations and cautions."""
+
     zone_scale: ZoneScale
     zones: tuple[ZoneReading, ...]
     worst_zone: str | None
