@@ -41,6 +41,8 @@ class Mounting(Protocol):
 
 @dataclass(frozen=True)
 class Urgency:
+    """One step of the urgency scale: its id, label, how soon to act (``within``) and rank."""
+
     id: str
     label: str
     within: str
@@ -49,6 +51,8 @@ class Urgency:
 
 @dataclass(frozen=True)
 class ZoneReading:
+    """One channel's overall velocity (mm/s RMS, ISO 20816-3 band), its zone, and the issues that doubt them."""
+
     channel: str
     point: str
     location: str
@@ -60,6 +64,7 @@ class ZoneReading:
 
     @property
     def scale_trusted(self) -> bool:
+        """Whether no quality issue doubts the channel's scale, so its level and zone can be judged."""
         return not self.scale_issues
 
 
@@ -76,6 +81,8 @@ class ScaleCheck:
 
 @dataclass(frozen=True)
 class ZoneScale:
+    """ISO 20816-3 zone boundaries A/B, B/C and C/D (mm/s RMS) for one group and support, with their source."""
+
     group: int
     support: str
     ab: float
@@ -87,6 +94,8 @@ class ZoneScale:
 
 @dataclass(frozen=True)
 class OilTest:
+    """One oil analysis that follows a fault up: the test, what its result would mean, and its source."""
+
     name: str
     means: str
     source: str
@@ -94,6 +103,8 @@ class OilTest:
 
 @dataclass(frozen=True)
 class Recommendation:
+    """What to do about one hypothesis: severity, urgency, actions, spares, how to confirm, oil tests."""
+
     hypothesis: Hypothesis
     severity: str
     urgency: Urgency
@@ -105,6 +116,8 @@ class Recommendation:
 
 @dataclass(frozen=True)
 class Advice:
+    """The advice for one diagnosis: zones, overall urgency, recommendations, limitations and cautions."""
+
     zone_scale: ZoneScale
     zones: tuple[ZoneReading, ...]
     worst_zone: str | None

@@ -23,6 +23,8 @@ DETECTION_MADS = 8.0
 
 @dataclass(frozen=True)
 class ImpactTrain:
+    """A train of impacts in a squared envelope: rate (Hz), spacing (s), periodicity, count, regularity."""
+
     rate_hz: float
     spacing_s: float
     periodicity: float        # normalised autocorrelation at the spacing, 0 to 1

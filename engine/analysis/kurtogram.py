@@ -36,6 +36,8 @@ from .envelope import band_length, line_frequencies
 
 @dataclass(frozen=True)
 class KurtogramBand:
+    """One band of the kurtogram: its level, edges (Hz) and the spectral kurtosis of its envelope."""
+
     level: float
     f_lo_hz: float
     f_hi_hz: float
@@ -43,15 +45,19 @@ class KurtogramBand:
 
     @property
     def centre_hz(self) -> float:
+        """Centre frequency of the band, Hz."""
         return (self.f_lo_hz + self.f_hi_hz) / 2
 
     @property
     def bandwidth_hz(self) -> float:
+        """Width of the band, Hz."""
         return self.f_hi_hz - self.f_lo_hz
 
 
 @dataclass(frozen=True)
 class Kurtogram:
+    """Every band searched, and the one with the largest spectral kurtosis: the band to demodulate."""
+
     bands: tuple[KurtogramBand, ...]
     best: KurtogramBand
 

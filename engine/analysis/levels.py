@@ -18,6 +18,8 @@ from .spectrum import Transform
 
 @dataclass(frozen=True)
 class WaveformStats:
+    """Statistics of one record, mean removed: RMS and peak in its unit; the ratios dimensionless."""
+
     rms: float
     peak: float          # largest |x - mean|
     crest_factor: float  # peak / RMS
@@ -101,6 +103,8 @@ def iso_band_hz(speed_rpm: float | None) -> tuple[float, float]:
 
 @dataclass(frozen=True)
 class OverallLevels:
+    """Overall levels of one channel: velocity in mm/s RMS (ISO 20816-3 band), acceleration in g, shape ratios."""
+
     velocity_rms_mm_s: float          # in the ISO 20816-3 band
     velocity_band_hz: tuple[float, float]
     band_truncated: bool              # Fmax below the band's top: the value reads low

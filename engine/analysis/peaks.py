@@ -27,6 +27,8 @@ from .windows import kernel
 
 @dataclass(frozen=True)
 class Peak:
+    """One spectral peak: interpolated frequency (Hz) and amplitude, its largest line and its SNR."""
+
     freq_hz: float
     amplitude: float   # in the spectrum's unit and scaling
     line: int          # index of the largest line
@@ -324,11 +326,13 @@ class Lines:
         return len(self.found)
 
     def peak(self, i: int) -> Peak | None:
+        """The peak found near target ``i``, or None where none was."""
         if not self.found[i]:
             return None
         return Peak(float(self.freq_hz[i]), float(self.amplitude[i]), int(self.line[i]), float(self.snr[i]))
 
     def with_snr(self, snr: np.ndarray, found: np.ndarray) -> Lines:
+        """The same lines with new signal-to-noise ratios ``snr`` and ``found`` mask (a floor measured elsewhere)."""
         return Lines(found, self.freq_hz, self.amplitude, self.line, snr)
 
 

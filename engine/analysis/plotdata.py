@@ -30,6 +30,8 @@ SKIPPED_MARKS = {"slip", "pole pass", "HTF"}   # spacings, not lines of the spec
 
 @dataclass(frozen=True)
 class Mark:
+    """A forcing frequency (Hz) to mark on a spectrum, with its label, family, component and name."""
+
     freq_hz: float
     label: str
     family: str          # shaft, bearing, gear, belt, rotor, electrical
@@ -39,6 +41,8 @@ class Mark:
 
 @dataclass(frozen=True)
 class PlotData:
+    """One channel seen from one shaft: waveform (ms, g), turns (degrees, g), spectra and their marks."""
+
     channel: str
     shaft: str
     shaft_hz: float

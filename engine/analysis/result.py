@@ -86,14 +86,17 @@ class ChannelAnalysis:
 
     @property
     def name(self) -> str:
+        """The channel's name."""
         return self.channel.name
 
     @property
     def direction(self) -> str | None:
+        """The sensor's direction (horizontal, vertical or axial): the point's, else the channel's."""
         return self.point.direction if self.point else self.channel.direction
 
     @property
     def location(self) -> str | None:
+        """The bearing or shaft the channel's point sits at; None without a point."""
         return self.point.at if self.point else None
 
     def base(self) -> dict:
@@ -125,6 +128,7 @@ class Analysis:
 
     @property
     def duration_s(self) -> float:
+        """Length of the record, s."""
         return self.n_samples / self.fs_hz
 
 

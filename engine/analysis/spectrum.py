@@ -84,6 +84,7 @@ class Spectrum:
 
     @property
     def fmax_hz(self) -> float:
+        """Frequency of the last line, Hz."""
         return float(self.freq_hz[-1])
 
     def floor_at(self, lines) -> np.ndarray:
@@ -96,6 +97,7 @@ class Spectrum:
         return self.floor_at(np.arange(len(self.amplitude)))
 
     def rescaled(self, scaling: str) -> Spectrum:
+        """The same spectrum in another ``scaling`` (peak, rms or peak-to-peak)."""
         factor = _scale(scaling) / _scale(self.scaling)
         return Spectrum(self.freq_hz, self.amplitude * factor, scaling, self.window,
                         self.resolution_hz, self.enbw_hz, self.averages)
@@ -134,11 +136,13 @@ class Transform:
 
     @classmethod
     def of(cls, x, fs: float) -> Transform:
+        """The transform of record ``x`` sampled at ``fs`` Hz, its mean removed first."""
         x = np.asarray(x, dtype=float)
         return cls(sfft.rfft(x - x.mean()), len(x), float(fs))
 
     @property
     def freq_hz(self) -> np.ndarray:
+        """Frequency of each line, Hz (fs / n apart)."""
         return np.arange(len(self.rect)) * (self.fs_hz / self.n)
 
     @cached_property

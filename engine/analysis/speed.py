@@ -41,6 +41,8 @@ HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and 
 
 @dataclass(frozen=True)
 class SpeedEstimate:
+    """The reference shaft's speed found in the spectrum (Hz), the speed it started from, and how."""
+
     speed_hz: float
     nominal_hz: float
     harmonics_found: tuple[int, ...]   # which orders of the reference shaft stood above the floor
@@ -50,6 +52,7 @@ class SpeedEstimate:
 
     @property
     def speed_rpm(self) -> float:
+        """The speed found, r/min."""
         return self.speed_hz * 60.0
 
 

@@ -42,10 +42,12 @@ class Revolutions:
 
     @property
     def count(self) -> int:
+        """Number of revolutions (rows of ``samples``)."""
         return self.samples.shape[0]
 
     @property
     def samples_per_rev(self) -> int:
+        """Samples in each revolution (columns of ``samples``)."""
         return self.samples.shape[1]
 
     def average(self) -> np.ndarray:

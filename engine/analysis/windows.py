@@ -134,6 +134,8 @@ def window_sum(name: str, n: int) -> float:
 
 @dataclass(frozen=True)
 class WindowFactors:
+    """Correction factors of one window: gains, ENBW in bins and scalloping loss in dB."""
+
     coherent_gain: float          # S1 / N
     amplitude_correction: float   # 1 / coherent gain
     energy_correction: float      # sqrt(N / S2)

@@ -29,6 +29,8 @@ SURVEY_STEP = timedelta(minutes=4)
 
 @dataclass(frozen=True)
 class DemoResult:
+    """One demo case diagnosed: its report, whether it reached the expected conclusion, and what it concluded."""
+
     case: Case
     report: Path
     passed: bool

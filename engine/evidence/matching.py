@@ -26,6 +26,7 @@ LINES_FROM_ZERO = 3         # a Hann main lobe spans +-2 lines: a target nearer 
 
 
 def db(ratio: float) -> float:
+    """An amplitude ratio in dB (20 log10); -200 dB for a ratio of zero or less."""
     return float(20 * np.log10(ratio)) if ratio > 0 else -200.0
 
 

@@ -73,9 +73,11 @@ class ForcingFrequency:
 
     @property
     def label(self) -> str:
+        """Its name and component, as the reports mark it."""
         return f"{self.name} {self.component}"
 
     def as_dict(self) -> dict:
+        """Its fields and ``label`` as a plain dict."""
         return asdict(self) | {"label": self.label}
 
 
@@ -155,6 +157,8 @@ class MotorRates:
 
 @dataclass(frozen=True)
 class BeltRates:
+    """One belt's belt pass frequency, Hz, and the shafts it joins."""
+
     belt: str
     driving_shaft: str
     driven_shaft: str
@@ -163,6 +167,8 @@ class BeltRates:
 
 @dataclass(frozen=True)
 class RotorRates:
+    """One impeller's or fan's vane or blade pass frequency, Hz."""
+
     rotor: str
     shaft: str
     kind: str                 # impeller or fan
@@ -171,6 +177,7 @@ class RotorRates:
 
     @property
     def name(self) -> str:
+        """The rate's trade name: vane pass for an impeller, blade pass for a fan."""
         return "vane pass" if self.kind == "impeller" else "blade pass"
 
 
@@ -186,9 +193,11 @@ class Rates:
     rotors: tuple[RotorRates, ...]
 
     def bearing(self, bearing_id: str) -> BearingRates:
+        """The defect rates of bearing ``bearing_id``."""
         return next(b for b in self.bearings if b.bearing == bearing_id)
 
     def motor(self, motor_id: str) -> MotorRates:
+        """The electrical rates of motor ``motor_id``."""
         return next(m for m in self.motors if m.motor == motor_id)
 
     def mesh_orders(self, shaft: str) -> list[int]:

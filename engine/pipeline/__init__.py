@@ -34,6 +34,8 @@ class ReadingInfo:
 
 @dataclass(frozen=True)
 class Diagnosis:
+    """One reading of one machine diagnosed: each stage's result, plot data if asked, faults its settings may miss."""
+
     machine: Machine
     reading: ReadingInfo
     evidence: Evidence
@@ -44,6 +46,7 @@ class Diagnosis:
 
     @property
     def facts(self) -> list[dict]:
+        """The evidence facts, as a new list."""
         return list(self.evidence.facts)
 
 

@@ -18,6 +18,8 @@ from ..reasoning import CONFIDENT, Reasoner, Reasoning
 
 @dataclass(frozen=True)
 class Case:
+    """One case file: its machine, reading files or simulation recipe, stated speed (r/min) and expected conclusion."""
+
     name: str
     path: str
     machine: Path
@@ -29,12 +31,15 @@ class Case:
 
 @dataclass(frozen=True)
 class CaseResult:
+    """One case run: whether the reasoning reached the expected conclusion, and what it concluded."""
+
     case: Case
     passed: bool
     got: str          # what the reasoning concluded, in words
 
 
 def load_case(path) -> Case:
+    """The case file at ``path``, checked; CaseError when it, or a file or fault it names, is wrong."""
     doc = read_yaml(path, CaseError)
     validate(doc, "case.schema.json", CaseError)
     base = Path(path).parent
@@ -55,6 +60,7 @@ def load_case(path) -> Case:
 
 
 def case_files(folder) -> list[Path]:
+    """Every ``*.case.yaml`` under ``folder``, sub-folders included, sorted; CaseError if it is no folder."""
     folder = Path(folder)
     if not folder.is_dir():
         raise CaseError("not a folder of case files", path=str(folder))
@@ -76,6 +82,7 @@ def simulation_of(case: Case, machine):
 
 
 def reading_of(case: Case, machine):
+    """The case's reading: its simulation as a Reading, or its reading files combined into one."""
     sim = simulation_of(case, machine)
     if sim is not None:
         from ..simulation import as_reading
@@ -120,6 +127,7 @@ def judge(expect: dict, result: Reasoning) -> bool:
 
 
 def run_case(case: Case, reasoner: Reasoner) -> CaseResult:
+    """Diagnose ``case`` with ``reasoner`` and judge the conclusion against the expected one."""
     from . import diagnose
 
     machine = load_machine(case.machine)

@@ -44,6 +44,7 @@ class Limitation:
         return tuple(dict.fromkeys(t.label for t, _ in self.routes))
 
     def as_dict(self) -> dict:
+        """A plain dict of the limitation, with the faults it touches."""
         return {"family": self.family, "setting": self.setting, "what": self.what, "why": self.why,
                 "needs": self.needs, "effect": self.effect, "faults": list(self.faults),
                 "points": list(self.points), "source": self.source}
@@ -51,11 +52,14 @@ class Limitation:
 
 @dataclass(frozen=True)
 class Verdict:
+    """What settings can do for one target: cannot show, may miss or can show, and why."""
+
     target: Target
     state: str                   # cannot show, may miss or can show
     reasons: tuple[str, ...]     # the limitations behind it, one line each
 
     def as_dict(self) -> dict:
+        """A plain dict of the verdict, the target's fields flattened in."""
         t = self.target
         return {"purpose": t.purpose, "fault": t.signature, "component": t.component, "shaft": t.shaft,
                 "label": t.label, "state": self.state, "reasons": list(self.reasons)}

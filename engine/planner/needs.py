@@ -37,6 +37,8 @@ COINCIDENT = 1e-9           # two rates this close (relative) are one line: floa
 
 @dataclass(frozen=True)
 class Need:
+    """One requirement on one setting: its value (Hz or s), what it is for, and the evidence routes it gates."""
+
     purpose: str
     setting: str        # fmax, sample_rate, resolution, duration; floor or twin (no setting meets it)
     what: str           # the frequency, spacing or period it is about, named
@@ -52,6 +54,7 @@ class Need:
     instead: str = ""      # twin: what would settle it, since no setting does (default: the bearings' text)
 
     def met_by(self, s: Settings) -> bool:
+        """Whether settings ``s`` meet it; a floor need depends on its frequency alone, a twin is never met."""
         tol = 1 + 1e-9
         if self.setting == "floor":
             return self.value >= self.floor_hz
@@ -125,6 +128,7 @@ def least(rule: str, kind: str, field: str, rulebook=None) -> float:
 
 
 def hz_text(value: float) -> str:
+    """A frequency in Hz as text: whole from 100 Hz up, three significant digits below."""
     return f"{value:.0f}" if value >= 100 else f"{value:.3g}"
 
 

@@ -64,6 +64,7 @@ class Policy:
         return self.lines_between_harmonics + 1
 
     def source_of(self, key: str) -> str:
+        """The source the policy gives for ``key``, or an empty string when it gives none."""
         return self.sources.get(key, "")
 
 

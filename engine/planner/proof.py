@@ -49,6 +49,8 @@ MAX_PHYSICAL_SAMPLES = FULL_LENGTH_CHANNELS * MAX_SAMPLES_PER_CHANNEL
 
 @dataclass(frozen=True)
 class Trial:
+    """One setting's record of a simulated fault: whether it showed it, the measure that decided, certainty, rules."""
+
     settings: Settings
     found: bool
     measure: str
@@ -58,6 +60,8 @@ class Trial:
 
 @dataclass(frozen=True)
 class ProofItem:
+    """The proof for one target at one point: one trial per settings label, and the check's verdict for each."""
+
     target: Target
     point: str
     trials: dict              # settings label -> Trial

@@ -22,6 +22,8 @@ from .targets import PURPOSE_TITLES
 
 @dataclass(frozen=True)
 class Proposal:
+    """Settings proposed for one purpose at one point (Hz, lines, s), with a reason for each and what is unmet."""
+
     point: str
     purpose: str
     fmax_hz: float
@@ -44,10 +46,12 @@ class Proposal:
 
     @property
     def title(self) -> str:
+        """The purpose's title, as the plan prints it."""
         return PURPOSE_TITLES[self.purpose]
 
     @property
     def resolution_hz(self) -> float:
+        """Line spacing, Fmax / lines, Hz."""
         return self.fmax_hz / self.lines
 
     def settings(self) -> Settings:

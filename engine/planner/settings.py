@@ -39,13 +39,16 @@ class Settings:
 
     @property
     def nyquist_hz(self) -> float:
+        """Half the sample rate, Hz."""
         return self.sample_rate_hz / 2
 
     @property
     def n_samples(self) -> int:
+        """Samples in the waveform: duration x sample rate."""
         return int(round(self.duration_s * self.sample_rate_hz))
 
     def as_dict(self) -> dict:
+        """A plain dict of the settings, with the resolution, record length and sample count."""
         return asdict(self) | {"resolution_hz": self.resolution_hz, "record_s": self.record_s,
                                "n_samples": self.n_samples}
 

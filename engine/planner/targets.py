@@ -56,6 +56,7 @@ class Target:
 
     @property
     def label(self) -> str:
+        """The target in words: the fault on its component (with the gear's shaft for a tooth or eccentricity)."""
         if self.signature == "severity":
             return f"overall level on {self.component}"
         if self.purpose == "gear" and self.signature != "gear-wear":
@@ -70,10 +71,12 @@ def bearings_at(machine: Machine, point: Point) -> list[Bearing]:
 
 
 def meshes_at(machine: Machine, point: Point) -> list[GearMesh]:
+    """The gear meshes with a gear on the point's shaft."""
     return [g for g in machine.gears if point.shaft in (g.driving_shaft, g.driven_shaft)]
 
 
 def motors_at(machine: Machine, point: Point) -> list[Motor]:
+    """The motors on the point's shaft."""
     return [m for m in machine.motors if m.shaft == point.shaft]
 
 

@@ -41,6 +41,7 @@ class Kind:
     formats: tuple[str, ...] = ("text", "md", "html")
 
     def template(self, fmt: str) -> str:
+        """The template file of format ``fmt``, relative to ``templates/``."""
         return f"{self.stem}.{EXTENSIONS[fmt]}.j2"
 
 

@@ -32,6 +32,8 @@ LABEL_ROWS = 4        # rows of staggered mark labels before labels are thinned
 
 @dataclass(frozen=True)
 class Series:
+    """One trace: x and y in the axes' units, and how it is drawn."""
+
     x: np.ndarray
     y: np.ndarray
     color: str = INK
@@ -59,6 +61,8 @@ class Level:
 
 @dataclass
 class Plot:
+    """One line plot: titles, traces, marks, level lines, optional axis limits, height in SVG user units."""
+
     title: str
     xlabel: str
     ylabel: str

@@ -52,6 +52,8 @@ GEAR_SIDES = ("driving", "driven")
 
 @dataclass(frozen=True)
 class Fault:
+    """One entry of ``FAULTS``: the kind of component it sits on, the function that makes it, what it is."""
+
     sits_on: str | None                               # shaft, support, bearing, gear, belt, rotor, motor
     make: Callable[[Scene, str, int], Part]           # family function: (scene, component, stage) -> Part
     description: str

@@ -55,15 +55,18 @@ def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | 
 
 
 def outer_race(s: Scene, bearing: str, stage: int) -> Part:
+    """Impacts at BPFO, not modulated: a stationary outer race in the load zone."""
     return _defect(s, bearing, stage, s.rates.bearing(bearing).bpfo_hz, None, 0.0)
 
 
 def inner_race(s: Scene, bearing: str, stage: int) -> Part:
+    """Impacts at BPFI, modulated 80 % deep at 1X as the defect turns through the load zone."""
     rates = s.rates.bearing(bearing)
     return _defect(s, bearing, stage, rates.bpfi_hz, rates.shaft_hz, 0.8)
 
 
 def rolling_element(s: Scene, bearing: str, stage: int) -> Part:
+    """Impacts at 2 x BSF, modulated 80 % deep at FTF, 0.7 times a race defect's size."""
     rates = s.rates.bearing(bearing)
     return _defect(s, bearing, stage, rates.impact_rate_hz("BSF"), rates.ftf_hz, 0.8, size_factor=0.7)
 

@@ -13,6 +13,7 @@ HARMONICS_MM_S = ((1, 1.2), (2, 2.0), (3, 0.8), (4, 0.4))   # belt-pass order, m
 
 
 def worn(s: Scene, belt_id: str, stage: int) -> Part:
+    """Belt-pass harmonics 1 to 4 (the second the strongest, 2 mm/s RMS x stage) and the driven shaft's 1X."""
     belt = next(b for b in s.rates.belts if b.belt == belt_id)
     bpf = belt.belt_pass_hz
 

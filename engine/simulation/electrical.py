@@ -39,6 +39,7 @@ def _motor(s: Scene, motor_id: str):
 
 
 def stator(s: Scene, motor_id: str, stage: int) -> Part:
+    """Twice line frequency at 1.5 mm/s RMS x stage."""
     f2 = _motor(s, motor_id).twice_line_hz
 
     def add(x: np.ndarray, point: Point) -> None:
@@ -47,6 +48,7 @@ def stator(s: Scene, motor_id: str, stage: int) -> Part:
 
 
 def rotor_bar(s: Scene, motor_id: str, stage: int) -> Part:
+    """First and second pole-pass sidebands round 1X, and 1X raised at the motor's own points."""
     motor = _motor(s, motor_id)
     fr, fp = s.speeds[motor.shaft], motor.pole_pass_hz
 

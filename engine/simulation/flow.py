@@ -12,6 +12,7 @@ AWAY = 0.3
 
 
 def vane_pass(s: Scene, rotor_id: str, stage: int) -> Part:
+    """Vane or blade pass at 1.5 mm/s RMS x stage, its second harmonic at 0.6 mm/s RMS x stage."""
     rotor = next(r for r in s.rates.rotors if r.rotor == rotor_id)
 
     def add(x: np.ndarray, point: Point) -> None:

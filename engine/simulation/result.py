@@ -11,6 +11,8 @@ from ..machine import Point
 
 @dataclass(frozen=True)
 class Truth:
+    """The ground truth: fault, component, stage, speed (r/min), seed, sample rate (Hz), length (s), further faults."""
+
     fault: str
     component: str | None
     stage: int
@@ -21,6 +23,7 @@ class Truth:
     also: tuple = ()        # further faults present at the same time: (fault, component, stage)
 
     def as_dict(self) -> dict:
+        """The truth as a plain dict (the truth file's content), ``also`` as lists."""
         out = {k: getattr(self, k) for k in self.__dataclass_fields__}
         out["also"] = [list(x) for x in self.also]
         return out
@@ -28,6 +31,8 @@ class Truth:
 
 @dataclass
 class Simulation:
+    """One simulation: acceleration channels (m/s^2) by name, their points, the truth and model internals."""
+
     fs_hz: float
     channels: dict[str, np.ndarray]          # acceleration, m/s^2
     points: dict[str, Point]                  # channel name -> measurement point

@@ -27,6 +27,7 @@ def _on_shaft(s: Scene, shaft: str, signal_at) -> Part:
 
 
 def unbalance(s: Scene, shaft: str, stage: int) -> Part:
+    """1X at 2 mm/s RMS x stage x (speed / nominal)^2 radially, 15 % of it axially."""
     def at(point: Point) -> np.ndarray:
         radial = point.direction != "axial"
         v = 2.0 * stage * s.speed_scale ** 2
@@ -35,6 +36,7 @@ def unbalance(s: Scene, shaft: str, stage: int) -> Part:
 
 
 def misalignment_angular(s: Scene, shaft: str, stage: int) -> Part:
+    """1X, 2X and 3X, 2X the strongest at 1.5 mm/s RMS x stage, 1.6 times stronger axially."""
     def at(point: Point) -> np.ndarray:
         ph = direction_phase(point.direction)
         v = 1.5 * stage
@@ -46,6 +48,7 @@ def misalignment_angular(s: Scene, shaft: str, stage: int) -> Part:
 
 
 def misalignment_parallel(s: Scene, shaft: str, stage: int) -> Part:
+    """Radial 2X at 1.8 mm/s RMS x stage above 1X and 3X; axially 35 % of that."""
     def at(point: Point) -> np.ndarray:
         ph = direction_phase(point.direction)
         v = 1.5 * stage
@@ -56,6 +59,7 @@ def misalignment_parallel(s: Scene, shaft: str, stage: int) -> Part:
 
 
 def looseness_rotating(s: Scene, shaft: str, stage: int) -> Part:
+    """1X, harmonics to 10X and half orders, the waveform truncated on one side."""
     def at(point: Point) -> np.ndarray:
         ph = direction_phase(point.direction)
         v = 1.0 * stage

@@ -92,6 +92,7 @@ def impact_signal(times, amplitudes, fs, n, ring) -> np.ndarray:
 
 
 def direction_phase(direction: str) -> float:
+    """Phase (rad) of a shaft tone in a direction: horizontal 0, vertical pi/2, axial pi/5."""
     return {"horizontal": 0.0, "vertical": math.pi / 2, "axial": math.pi / 5}[direction]
 
 
@@ -130,6 +131,7 @@ class Scene:
         return self.velocity_tone(order * self.speeds[shaft], v_mm_s_rms, phase)
 
     def tone(self, f: float, accel_peak: float, phase: float = 0.0) -> np.ndarray:
+        """A tone of ``accel_peak`` m/s^2 peak at ``f`` Hz (none near Nyquist)."""
         if f >= self.fs / 2.2:
             return np.zeros(self.n)
         return accel_peak * np.sin(2 * np.pi * f * self.t + phase)

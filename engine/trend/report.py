@@ -22,6 +22,7 @@ EXPONENTIAL = ("accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor")
 
 
 def growth_of(indicator: str) -> str:
+    """The growth model to project ``indicator`` with: exponential for impact and bearing-tone indicators, else auto."""
     if indicator in EXPONENTIAL or indicator.startswith(("env_", "tone_")):
         return "exponential"
     return "auto"
