@@ -33,10 +33,12 @@ class Mounting(Protocol):
     cannot be read): its group and support, None where unsaid."""
 
     @property
-    def iso_group(self) -> int | None: ...
+    def iso_group(self) -> int | None:
+        """ISO 20816-3 group: 1 for large machines (above 300 kW), 2 for medium ones."""
 
     @property
-    def support(self) -> str | None: ...
+    def support(self) -> str | None:
+        """How the machine stands: "rigid" or "flexible" (ISO 20816-3 support class)."""
 
 
 @dataclass(frozen=True)
