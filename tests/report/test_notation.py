@@ -58,3 +58,17 @@ def test_8_no_old_notation_is_left_in_what_users_read():
              *(ROOT / "engine").rglob("*.py")]
     found = [f"{f.relative_to(ROOT)}: {m.group()}" for f in files for m in OLD_NOTATION.finditer(f.read_text())]
     assert not found, found
+
+
+def test_a_rival_s_reasons_read_as_one_sentence_in_every_format():
+    # a reason against a rival ends with a full stop; the share the leader explains follows it after ";"
+    from engine.pipeline import document_of
+
+    from support import case_diagnosis
+
+    doc = document_of(case_diagnosis("rw2-pump-nde-outer-race"))
+    rivals = [r for dx in doc["differential"] for r in dx["rivals"]]
+    assert any(r["against"] and r["explained_by_leader"] >= 0.01 for r in rivals)   # the case this checks
+    for fmt in FORMATS:
+        text = render(doc, fmt)
+        assert ".;" not in text and ".:" not in text, fmt
