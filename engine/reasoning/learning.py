@@ -1,0 +1,318 @@
+"""What a site's findings at repair say about its rules: hit rates, reliability and a learned overlay.
+
+Plain data in, plain data out: a list of judged diagnoses (the rule firings of a
+stored diagnosis and what was found when the machine was opened) gives
+
+- per rule, how often it fired on a judged reading (``n``), how often the fault it
+  supports was found on the component it named (``k``), and the hit rate ``k / n``
+  with its Wilson score 95 % interval (Wilson 1927);
+- per certainty bin of the top hypotheses, the count, the mean certainty and the
+  fraction confirmed (a reliability table), and the Brier score over every judged
+  top hypothesis (Brier 1950);
+- a proposed site overlay (YAML text in the rulebook overlay format of
+  ``rulebooks/README.md``): each rule's weight moved from its loaded weight toward
+  the site's hit rate, shrunk toward the loaded weight by a prior worth
+  ``prior_n`` findings and capped, with the counts in its ``source``. The shipped
+  rulebooks are never edited; rules with fewer than ``least_n`` judged firings are
+  listed as too little evidence and left alone.
+
+Counting: a rule counts once per judged diagnosis and hypothesis (fault on a
+component) it supports, however many channels it fired on. A diagnosis is judged
+when at least one finding is recorded against it; a hypothesis is confirmed when a
+finding names the same fault on the same component. Everything is sorted and sums are
+exactly rounded (``math.fsum``), so the same input in any order gives the same output.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+
+import yaml
+
+from ..common.errors import RulebookError
+from ..common.yamlfile import read_yaml
+from .rulebook import Rule, Rulebook
+
+Z_95 = 1.959963984540054      # standard normal quantile at 0.975 (two-sided 95 %)
+NOTHING_FOUND = "nothing-found"
+OTHER = "other"
+PRIOR_N = 20                  # the shipped weight counts as this many findings
+MOVE_CAP = 0.3                # a learned weight moves at most this far from the loaded one
+LEAST_N = 5                   # fewer judged firings than this: too little evidence to judge
+LOWEST_WEIGHT = 0.05          # a supporting rule keeps at least this weight (switch it off with disable:)
+BIN_EDGES = (0.0, 0.2, 0.4, 0.6, 0.8, 1.0)
+
+
+@dataclass(frozen=True)
+class RuleFiring:
+    """One rule's firing in a stored diagnosis: the hypothesis it supports (or opposes, when its
+    certainty is negative), the certainty it lent and the hypothesis's final certainty."""
+
+    rule_id: str
+    fault: str
+    component: str
+    certainty: float
+    hypothesis_certainty: float
+
+
+@dataclass(frozen=True)
+class Finding:
+    """What was found at repair: a fault id on a component, ``NOTHING_FOUND`` or ``OTHER``."""
+
+    component: str
+    fault: str
+
+
+@dataclass(frozen=True)
+class JudgedDiagnosis:
+    """A stored diagnosis with the findings recorded against it (none: not judged)."""
+
+    reading_id: str
+    firings: tuple[RuleFiring, ...]
+    findings: tuple[Finding, ...]
+
+    def confirms(self, fault: str, component: str) -> bool:
+        """Whether a finding names this fault on this component."""
+        return any(f.fault == fault and f.component == component for f in self.findings)
+
+
+@dataclass(frozen=True)
+class RuleRecord:
+    """A rule's record at the site: judged firings, confirmed ones, hit rate and Wilson 95 % interval."""
+
+    rule_id: str
+    n: int
+    k: int
+    rate: float
+    low: float
+    high: float
+
+
+@dataclass(frozen=True)
+class ReliabilityBin:
+    """Top hypotheses whose certainty falls in [low, high) (the last bin includes 1)."""
+
+    low: float
+    high: float
+    count: int
+    mean_certainty: float | None
+    fraction_confirmed: float | None
+
+
+@dataclass(frozen=True)
+class Reliability:
+    """The reliability table of the judged top hypotheses and their Brier score."""
+
+    bins: tuple[ReliabilityBin, ...]
+    brier: float | None          # None when no judged diagnosis had a hypothesis
+    judged: int                  # judged top hypotheses in the table
+    without_hypothesis: int      # judged diagnoses where no rule supported any fault
+    missed: int                  # of those, how many had a fault found
+
+
+@dataclass(frozen=True)
+class WeightChange:
+    """A proposed weight for one rule, with the record behind it."""
+
+    rule_id: str
+    record: RuleRecord
+    loaded_weight: float
+    learned_weight: float
+    capped: bool
+
+
+@dataclass(frozen=True)
+class Proposal:
+    """The learned overlay: weight changes, rules left alone and why, and the overlay's YAML text."""
+
+    changes: tuple[WeightChange, ...]
+    too_little: tuple[RuleRecord, ...]           # fewer than least_n judged firings
+    unchanged: tuple[RuleRecord, ...]            # the learned weight rounds to the loaded one
+    not_learned: tuple[tuple[str, str], ...]     # (rule id, reason): opposing or reading rules
+    text: str
+
+
+def wilson_interval(k: int, n: int, z: float = Z_95) -> tuple[float, float]:
+    """Wilson score interval of a binomial proportion ``k / n`` (Wilson 1927, JASA 22, 209-212).
+
+    ``(0.0, 1.0)`` when ``n`` is 0: no findings, no knowledge.
+    """
+    if n < 0 or not 0 <= k <= n:
+        raise ValueError(f"need 0 <= k <= n, got k={k}, n={n}")
+    if n == 0:
+        return 0.0, 1.0
+    p = k / n
+    z2 = z * z
+    centre = (p + z2 / (2 * n)) / (1 + z2 / n)
+    half = z / (1 + z2 / n) * math.sqrt(p * (1 - p) / n + z2 / (4 * n * n))
+    return max(0.0, centre - half), min(1.0, centre + half)
+
+
+def _supported(d: JudgedDiagnosis) -> dict[tuple[str, str, str], float]:
+    """(rule, fault, component) -> strongest supporting certainty, each counted once per diagnosis."""
+    out: dict[tuple[str, str, str], float] = {}
+    for f in d.firings:
+        if f.certainty > 0:
+            key = (f.rule_id, f.fault, f.component)
+            out[key] = max(out.get(key, 0.0), f.certainty)
+    return out
+
+
+def rule_records(diagnoses: Iterable[JudgedDiagnosis]) -> tuple[RuleRecord, ...]:
+    """Per supporting rule, judged firings ``n``, confirmed ``k``, hit rate and Wilson 95 %, by rule id."""
+    n: dict[str, int] = defaultdict(int)
+    k: dict[str, int] = defaultdict(int)
+    for d in diagnoses:
+        if not d.findings:
+            continue
+        for rule_id, fault, component in _supported(d):
+            n[rule_id] += 1
+            k[rule_id] += d.confirms(fault, component)
+    records = []
+    for rule_id in sorted(n):
+        low, high = wilson_interval(k[rule_id], n[rule_id])
+        records.append(RuleRecord(rule_id, n[rule_id], k[rule_id], k[rule_id] / n[rule_id], low, high))
+    return tuple(records)
+
+
+def top_hypothesis(d: JudgedDiagnosis) -> tuple[str, str, float] | None:
+    """(fault, component, certainty) of the leading hypothesis some rule supports: the highest final
+    certainty, ties broken by fault then component; None when no rule supports any."""
+    best: dict[tuple[str, str], float] = {}
+    for f in d.firings:
+        if f.certainty > 0:
+            best[(f.fault, f.component)] = f.hypothesis_certainty
+    if not best:
+        return None
+    (fault, component), c = min(best.items(), key=lambda item: (-item[1], item[0]))
+    return fault, component, c
+
+
+def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] = BIN_EDGES) -> Reliability:
+    """Reliability table and Brier score (Brier 1950, Mon. Weather Rev. 78, 1-3) of the judged top
+    hypotheses. A certainty below 0 counts as 0, above 1 as 1."""
+    pairs: list[tuple[float, bool]] = []
+    without = missed = 0
+    for d in diagnoses:
+        if not d.findings:
+            continue
+        top = top_hypothesis(d)
+        if top is None:
+            without += 1
+            missed += any(f.fault not in (NOTHING_FOUND,) for f in d.findings)
+            continue
+        fault, component, c = top
+        pairs.append((min(1.0, max(0.0, c)), d.confirms(fault, component)))
+    bins = []
+    for i, (low, high) in enumerate(zip(edges[:-1], edges[1:])):
+        last = i == len(edges) - 2
+        inside = [(c, hit) for c, hit in pairs if low <= c < high or (last and c == high)]
+        if inside:
+            bins.append(ReliabilityBin(low, high, len(inside), math.fsum(c for c, _ in inside) / len(inside),
+                                       sum(hit for _, hit in inside) / len(inside)))
+        else:
+            bins.append(ReliabilityBin(low, high, 0, None, None))
+    brier = math.fsum((c - hit) ** 2 for c, hit in pairs) / len(pairs) if pairs else None   # fsum: any order, same sum
+    return Reliability(tuple(bins), brier, len(pairs), without, missed)
+
+
+def learned_weight(loaded: float, record: RuleRecord, prior_n: float = PRIOR_N,
+                   cap: float = MOVE_CAP) -> tuple[float, bool]:
+    """``(prior_n * loaded + n * rate) / (prior_n + n)``, moved at most ``cap`` from ``loaded``, kept
+    within [LOWEST_WEIGHT, 1] and rounded to 0.01; with whether the cap held it back."""
+    shrunk = (prior_n * loaded + record.n * record.rate) / (prior_n + record.n)
+    capped = abs(shrunk - loaded) > cap
+    moved = loaded + max(-cap, min(cap, shrunk - loaded))
+    return round(min(1.0, max(LOWEST_WEIGHT, moved)), 2), capped
+
+
+def _raw_rule(rule: Rule) -> dict:
+    """The rule as written in its file (the overlay replaces it whole, so it restates it)."""
+    doc = read_yaml(rule.path, RulebookError)
+    for raw in doc.data.get("rules") or []:
+        if raw.get("id") == rule.id:
+            return dict(raw)
+    raise RulebookError(f"rule {rule.id} is no longer in its file", path=str(rule.path))
+
+
+def _with_weight(raw: dict, weight: float, source: str) -> dict:
+    out = {"id": raw["id"], "overrides": True}
+    out.update((key, value) for key, value in raw.items() if key not in ("id", "overrides"))
+    out["source"] = source
+    spec = raw["certainty"]
+    out["certainty"] = {**spec, "weight": weight} if isinstance(spec, dict) else weight
+    return out
+
+
+def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, prior_n: float = PRIOR_N,
+                    cap: float = MOVE_CAP, least_n: int = LEAST_N,
+                    name: str = "learned from site findings") -> Proposal:
+    """A site overlay moving each supporting rule's weight toward its hit rate at the site.
+
+    ``rulebook`` is what the diagnoses were made with (shipped plus any site overlays); the overlay
+    is meant to be loaded after those (``load_rulebook(site, learned)``). A rule the rulebook no
+    longer has, an opposing rule, a rule that derives a fact and a rule concluding a reading problem
+    are not learned: findings at repair judge machine faults only.
+    """
+    if prior_n <= 0 or cap <= 0 or least_n < 1:
+        raise ValueError("prior_n and cap must be positive and least_n at least 1")
+    loaded = {r.id: r for r in rulebook.rules}
+    changes, too_little, unchanged, not_learned = [], [], [], []
+    for record in rule_records(diagnoses):
+        rule = loaded.get(record.rule_id)
+        if rule is None:
+            not_learned.append((record.rule_id, "not in the rulebook loaded"))
+            continue
+        if rule.fault is None or rule.weight <= 0:
+            not_learned.append((record.rule_id, "not a supporting rule"))
+            continue
+        faults = [f for _, f in rule.fault.faults] if not isinstance(rule.fault, str) else [rule.fault]
+        if any(rulebook.faults[f].withholds_diagnosis or rulebook.faults[f].family == "reading" for f in faults):
+            not_learned.append((record.rule_id, "concludes a reading problem, which repair does not judge"))
+            continue
+        if record.n < least_n:
+            too_little.append(record)
+            continue
+        weight, capped = learned_weight(rule.weight, record, prior_n, cap)
+        if weight == round(rule.weight, 2):
+            unchanged.append(record)
+        else:
+            changes.append(WeightChange(rule.id, record, rule.weight, weight, capped))
+    text = _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name)
+    return Proposal(tuple(changes), tuple(too_little), tuple(unchanged), tuple(not_learned), text)
+
+
+def record_words(record: RuleRecord) -> str:
+    """``confirmed k of n (Wilson 95 % a-b)``, as the overlay's sources and comments say it."""
+    return f"confirmed {record.k} of {record.n} (Wilson 95 % {record.low:.2f}-{record.high:.2f})"
+
+
+def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name) -> str:
+    head = [f"# {name}: proposed, not applied. Review before passing it with --site.",
+            "# Each weight moved from the loaded weight toward the site's hit rate, the loaded weight",
+            f"# counting as {prior_n:g} findings, moved at most {cap:g}; the shipped rulebooks are unchanged.",
+            ]
+    for title, records in ((f"too little evidence (fewer than {least_n} judged firings)", too_little),
+                           ("unchanged (the learned weight rounds to the loaded one)", unchanged)):
+        if records:
+            head.append(f"# {title}:")
+            head += [f"#   {r.rule_id}: {record_words(r)}" for r in records]
+    if not_learned:
+        head.append("# not learned:")
+        head += [f"#   {rule_id}: {why}" for rule_id, why in not_learned]
+    rules = []
+    for c in changes:
+        rule = loaded[c.rule_id]
+        held = f", move capped at {cap:g}" if c.capped else ""
+        source = (f"site findings: {record_words(c.record)}; weight {c.loaded_weight:g} -> {c.learned_weight:g}"
+                  f" (prior worth {prior_n:g} findings{held});"
+                  f" rule as in {rule.origin}: {rule.source}")
+        rules.append(_with_weight(_raw_rule(rule), c.learned_weight, source))
+    body: dict = {"rulebook": name,
+                  "about": "Rule weights learned from what was found at repair at this site."}
+    if rules:
+        body["rules"] = rules
+    return "\n".join(head) + "\n" + yaml.safe_dump(body, sort_keys=False, allow_unicode=True, width=100)
