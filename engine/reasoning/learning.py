@@ -184,7 +184,8 @@ def top_hypothesis(d: JudgedDiagnosis) -> tuple[str, str, float] | None:
     best: dict[tuple[str, str], float] = {}
     for f in d.firings:
         if f.certainty > 0:
-            best[(f.fault, f.component)] = f.hypothesis_certainty
+            key = (f.fault, f.component)
+            best[key] = max(best.get(key, -1.0), f.hypothesis_certainty)   # one value per hypothesis; max: any order
     if not best:
         return None
     (fault, component), c = min(best.items(), key=lambda item: (-item[1], item[0]))

@@ -233,3 +233,9 @@ def test_five_thousand_findings(tmp_path):
     assert change.capped is False and change.learned_weight == round((20 * 0.6 + 1667 * change.record.rate) / 1687, 2)
     assert (table.judged, table.without_hypothesis) == (1667 + 1667 + 2, 1666)
     _load_overlay(tmp_path, proposal.text)
+
+
+def test_top_hypothesis_does_not_depend_on_the_order_of_firings():
+    firings = [("a", "unbalance", "motor", 0.6, 0.55), ("b", "unbalance", "motor", 0.3, 0.65),
+               ("c", "outer-race", "DE", 0.4, 0.6)]
+    assert top_hypothesis(_d("r", firings)) == top_hypothesis(_d("r", firings[::-1])) == ("unbalance", "motor", 0.65)
