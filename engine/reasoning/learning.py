@@ -34,6 +34,7 @@ import yaml
 
 from ..common.errors import RulebookError
 from ..common.yamlfile import read_yaml
+from .findings import Reasoning
 from .rulebook import Rule, Rulebook
 
 Z_95 = 1.959963984540054      # standard normal quantile at 0.975 (two-sided 95 %)
@@ -133,6 +134,19 @@ class Proposal:
     unchanged: tuple[RuleRecord, ...]            # the learned weight rounds to the loaded one
     not_learned: tuple[tuple[str, str], ...]     # (rule id, reason): opposing or reading rules
     text: str
+
+
+def firings_of(reasoning: Reasoning) -> tuple[RuleFiring, ...]:
+    """The firings of a diagnosis as the learning counts them: every rule for or against each machine
+    fault hypothesis, with the hypothesis's final certainty. Reading problems are left out (what is
+    found at repair does not judge a reading), and a withheld diagnosis gives none: it made no call.
+    Sorted, so a stored diagnosis gives one tuple."""
+    if reasoning.withheld:
+        return ()
+    out = [RuleFiring(f.rule_id, h.fault, h.component, f.certainty, h.certainty)
+           for h in reasoning.hypotheses if h.family != "reading" and not h.withholds
+           for f in h.support + h.against]
+    return tuple(sorted(out, key=lambda f: (f.rule_id, f.fault, f.component, f.certainty)))
 
 
 def wilson_interval(k: int, n: int, z: float = Z_95) -> tuple[float, float]:

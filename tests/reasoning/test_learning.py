@@ -10,12 +10,14 @@ from scipy.stats import binomtest
 
 from engine.common.paths import CASES
 from engine.reasoning import load_rulebook
+from engine.reasoning.findings import Firing, Hypothesis, Reasoning
 from engine.reasoning.learning import (
     NOTHING_FOUND,
     Finding,
     JudgedDiagnosis,
     RuleFiring,
     RuleRecord,
+    firings_of,
     learned_weight,
     propose_overlay,
     reliability,
@@ -239,3 +241,28 @@ def test_top_hypothesis_does_not_depend_on_the_order_of_firings():
     firings = [("a", "unbalance", "motor", 0.6, 0.55), ("b", "unbalance", "motor", 0.3, 0.65),
                ("c", "outer-race", "DE", 0.4, 0.6)]
     assert top_hypothesis(_d("r", firings)) == top_hypothesis(_d("r", firings[::-1])) == ("unbalance", "motor", 0.65)
+
+
+def _firing(rule_id, certainty):
+    return Firing(rule_id, "t", "s", "x.yaml:1", (), certainty, "because", ())
+
+
+def _hypothesis(fault, family, component, certainty, support, against=(), withholds=False):
+    return Hypothesis(fault, fault, family, component, certainty, None, tuple(support), tuple(against),
+                      withholds=withholds)
+
+
+def test_firings_of_a_diagnosis():
+    bearing = _hypothesis("outer-race", "bearing", "DE", 0.62, [_firing("b.env", 0.4), _firing("b.imp", 0.35)],
+                          [_firing("b.against", -0.2)])
+    shaft = _hypothesis("unbalance", "shaft", "motor", 0.3, [_firing("s.1x", 0.3)])
+    problem = _hypothesis("settings-limited", "reading", "P1H", 0.6, [_firing("r.fmax", 0.6)])
+    reasoning = Reasoning((shaft, bearing), False, (problem,), (), 10, 90)
+    assert firings_of(reasoning) == (
+        RuleFiring("b.against", "outer-race", "DE", -0.2, 0.62), RuleFiring("b.env", "outer-race", "DE", 0.4, 0.62),
+        RuleFiring("b.imp", "outer-race", "DE", 0.35, 0.62), RuleFiring("s.1x", "unbalance", "motor", 0.3, 0.3))
+    judged = JudgedDiagnosis("r1", firings_of(reasoning), (Finding("DE", "outer-race"),))
+    assert top_hypothesis(judged) == ("outer-race", "DE", 0.62)
+    # a withheld diagnosis made no call: nothing for the learning to judge
+    withheld = Reasoning((shaft, bearing), True, (problem,), (), 10, 90)
+    assert firings_of(withheld) == ()
