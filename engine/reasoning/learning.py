@@ -305,8 +305,13 @@ def record_words(record: RuleRecord) -> str:
     return f"confirmed {record.k} of {record.n} (Wilson 95 % {record.low:.2f}-{record.high:.2f})"
 
 
+def _one_line(text: str) -> str:
+    """Text from stored diagnoses made safe for a YAML comment line."""
+    return " ".join(str(text).split())
+
+
 def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name) -> str:
-    head = [f"# {name}: proposed, not applied. Review before passing it with --site.",
+    head = [f"# {_one_line(name)}: proposed, not applied. Review before passing it with --site.",
             "# Each weight moved from the loaded weight toward the site's hit rate, the loaded weight",
             f"# counting as {prior_n:g} findings, moved at most {cap:g}; the shipped rulebooks are unchanged.",
             ]
@@ -314,18 +319,21 @@ def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, 
                            ("unchanged (the learned weight rounds to the loaded one)", unchanged)):
         if records:
             head.append(f"# {title}:")
-            head += [f"#   {r.rule_id}: {record_words(r)}" for r in records]
+            head += [f"#   {_one_line(r.rule_id)}: {record_words(r)}" for r in records]
     if not_learned:
         head.append("# not learned:")
-        head += [f"#   {rule_id}: {why}" for rule_id, why in not_learned]
+        head += [f"#   {_one_line(rule_id)}: {why}" for rule_id, why in not_learned]
     rules = []
+    raw_of: dict[str, dict] = {}
     for c in changes:
         rule = loaded[c.rule_id]
         held = f", move capped at {cap:g}" if c.capped else ""
         source = (f"site findings: {record_words(c.record)}; weight {c.loaded_weight:g} -> {c.learned_weight:g}"
                   f" (prior worth {prior_n:g} findings{held});"
                   f" rule as in {rule.origin}: {rule.source}")
-        rules.append(_with_weight(_raw_rule(rule), c.learned_weight, source))
+        if rule.id not in raw_of:
+            raw_of[rule.id] = _raw_rule(rule)
+        rules.append(_with_weight(raw_of[rule.id], c.learned_weight, source))
     body: dict = {"rulebook": name,
                   "about": "Rule weights learned from what was found at repair at this site."}
     if rules:

@@ -266,3 +266,12 @@ def test_firings_of_a_diagnosis():
     # a withheld diagnosis made no call: nothing for the learning to judge
     withheld = Reasoning((shaft, bearing), True, (problem,), (), 10, 90)
     assert firings_of(withheld) == ()
+
+
+def test_rule_ids_the_rulebook_lacks_are_listed_on_one_comment_line(tmp_path):
+    odd = "gone.rule\nrules: [oops]"
+    diagnoses = [_d("a", [(odd, "unbalance", "pump-1", 0.6, 0.6)], [("pump-1", "unbalance")])]
+    proposal = propose_overlay(diagnoses, load_rulebook(), name="learned\nrules: [oops]")
+    assert proposal.not_learned == ((odd, "not in the rulebook loaded"),)
+    assert "#   gone.rule rules: [oops]: not in the rulebook loaded" in proposal.text
+    assert len(_load_overlay(tmp_path, proposal.text).rules) == len(load_rulebook().rules)
