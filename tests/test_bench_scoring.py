@@ -169,3 +169,13 @@ def test_the_injection_table_meets_its_goal_only_without_a_confident_wrong_call(
     wrong = rows + [_row("c.mat", "inner-race on fan_end", 0.7, right=False)]
     lines = real_data.inject_table({("rate", 1.1): wrong})
     assert lines[-1].endswith("not met") and "c (inner-race on fan_end 0.70)" in lines[1]
+
+
+def test_the_learning_bench_takes_each_label_as_what_a_repair_would_find():
+    from bench.learning import finding_of
+    from engine.reasoning.learning import NOTHING_FOUND, Finding
+
+    assert finding_of({"dataset": "CWRU", "fault": "ball", "fault_bearing": "DE"}) == Finding("drive_end",
+                                                                                              "rolling-element")
+    assert finding_of({"dataset": "HIT-SM", "fault": "normal", "fault_bearing": ""}) == Finding("test_bearing",
+                                                                                                NOTHING_FOUND)
