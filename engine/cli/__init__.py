@@ -16,8 +16,21 @@ import sys
 import warnings
 
 from ..common.errors import TellwaveError, UsageError
-from . import (demo, demo_route, diagnose, evidence, findings, frequencies, history, plan, reading, route, rulebook, synth,
-               trend)
+from . import (
+    demo,
+    demo_route,
+    diagnose,
+    evidence,
+    findings,
+    frequencies,
+    history,
+    plan,
+    reading,
+    route,
+    rulebook,
+    synth,
+    trend,
+)
 from ._common import Parser
 
 COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, findings, trend,

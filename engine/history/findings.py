@@ -211,10 +211,10 @@ def resolve(store, finding: Finding, fault_ids) -> list[dict]:
         if finding.found_on < taken:
             raise FindingError(f"date {finding.found_on} is before reading {r['id']} ({taken}): a finding judges "
                                "a reading taken before the machine was opened")
-        known = components_of_machine(r.get("machine_file"))
-        if known is not None and finding.component not in known | store.components_of(r["id"]):
+        parts = components_of_machine(r.get("machine_file"))
+        if parts is not None and finding.component not in parts | store.components_of(r["id"]):
             raise FindingError(f"component {finding.component!r} is not in the machine file of reading {r['id']} "
-                               f"({r['machine_file']}); its components are {', '.join(sorted(known))}")
+                               f"({r['machine_file']}); its components are {', '.join(sorted(parts))}")
         earlier = store.finding_of(r["id"], finding.component, finding.fault)
         if earlier is not None:
             raise FindingError(f"finding {earlier} already records {finding.fault} on {finding.component} for "

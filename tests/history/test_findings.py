@@ -6,7 +6,7 @@ from __future__ import annotations
 import pytest
 from test_store import record
 
-from engine.history.findings import FindingError, Finding, add, make, read_csv
+from engine.history.findings import Finding, FindingError, add, make, read_csv
 from engine.history.store import SCHEMA_VERSION, Store
 
 from support import ROOT
