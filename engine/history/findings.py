@@ -170,26 +170,32 @@ def from_row(row: dict) -> Finding:
                 work_order=row.get("work_order"), notes=row.get("notes"))
 
 
-def components_of_machine(machine_file: str | None) -> set[str] | None:
+def components_of_machine(machine_file: str | None, known: dict | None = None) -> set[str] | None:
     """The components of the machine file a reading was diagnosed with (shafts, bearings, gears, belts,
     rotors, motors), or None when the file is not known or can no longer be read (then nothing is checked)."""
     from ..common.errors import TellwaveError
     from ..machine.model import load_machine
 
-    if not machine_file or not Path(machine_file).is_file():
-        return None
-    try:
-        m = load_machine(machine_file)
-    except TellwaveError:
-        return None
-    return (set(m.shaft_speeds_hz) | {b.id for b in m.bearings} | {g.id for g in m.gears}
-            | {b.id for b in m.belts} | {r.id for r in m.rotors} | {x.id for x in m.motors})
+    if known is not None and machine_file in known:
+        return known[machine_file]
+    parts = None
+    if machine_file and Path(machine_file).is_file():
+        try:
+            m = load_machine(machine_file)
+            parts = (set(m.shaft_speeds_hz) | {b.id for b in m.bearings} | {g.id for g in m.gears}
+                     | {b.id for b in m.belts} | {r.id for r in m.rotors} | {x.id for x in m.motors})
+        except TellwaveError:
+            pass
+    if known is not None:
+        known[machine_file] = parts
+    return parts
 
 
-def resolve(store, finding: Finding, fault_ids) -> list[dict]:
+def resolve(store, finding: Finding, fault_ids, machines: dict | None = None) -> list[dict]:
     """The rows to store for ``finding``: one per reading it judges, each checked against the store (the
     reading or machine exists, the component is the machine's, the fault is known, the date is not before
-    the reading, no same finding is stored). A FindingError for the first check that fails."""
+    the reading, no same finding is stored). A FindingError for the first check that fails. ``machines``
+    keeps the components of each machine file read, for the next finding of the same command."""
     if finding.fault not in fault_ids and finding.fault not in (NOTHING_FOUND, OTHER):
         raise FindingError(f"fault {finding.fault!r} is no fault id of the loaded rulebooks (nor {NOTHING_FOUND} "
                            f"or {OTHER}); `tellwave rulebook list` lists them")
@@ -211,7 +217,7 @@ def resolve(store, finding: Finding, fault_ids) -> list[dict]:
         if finding.found_on < taken:
             raise FindingError(f"date {finding.found_on} is before reading {r['id']} ({taken}): a finding judges "
                                "a reading taken before the machine was opened")
-        parts = components_of_machine(r.get("machine_file"))
+        parts = components_of_machine(r.get("machine_file"), machines)
         if parts is not None and finding.component not in parts | store.components_of(r["id"]):
             raise FindingError(f"component {finding.component!r} is not in the machine file of reading {r['id']} "
                                f"({r['machine_file']}); its components are {', '.join(sorted(parts))}")
@@ -229,10 +235,11 @@ def add(store, findings, fault_ids, *, path: str | None = None) -> list[int]:
     """Check and store ``findings`` ((line or None, Finding) pairs) in one transaction: every one or none.
     A FindingError names ``path`` (the CSV file, else the store) and the line."""
     ids: list[int] = []
+    machines: dict = {}
     with store.transaction():
         for line, finding in findings:
             try:
-                for row in resolve(store, finding, fault_ids):
+                for row in resolve(store, finding, fault_ids, machines):
                     ids.append(store.add_finding(row))
             except FindingError as exc:
                 exc.path, exc.line = path or str(store.path), line

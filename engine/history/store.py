@@ -447,18 +447,16 @@ class Store:
     # findings ----------------------------------------------------------------
     def latest_readings(self, machine: str, until: str) -> list[dict]:
         """The readings a finding on ``machine`` dated ``until`` (ISO date) judges: at each point, the latest
-        reading taken on or before that day (one reading often covers every point), oldest first."""
+        reading taken on or before that day (one reading often covers every point), oldest first. The day of
+        a stored time is its first ten characters (ISO 8601, as ``_check_time`` holds every stored time to)."""
         rows = [dict(r) for r in self.db.execute(
-            "SELECT r.*, c.point AS at_point FROM readings r JOIN channels c ON c.reading_id = r.id"
-            " WHERE r.machine = ? ORDER BY r.taken_at, r.id", (machine,))]
-        latest: dict[str, dict] = {}
+            "SELECT * FROM readings WHERE id IN (SELECT id FROM (SELECT r.id, ROW_NUMBER() OVER (PARTITION BY"
+            " c.point ORDER BY r.taken_at DESC, r.id DESC) AS n FROM readings r JOIN channels c ON c.reading_id = r.id"
+            " WHERE r.machine = ? AND substr(r.taken_at, 1, 10) <= ?) WHERE n = 1) ORDER BY taken_at, id",
+            (machine, until))]
         for r in rows:
             self._check_time(r)
-            if datetime.fromisoformat(r["taken_at"]).date().isoformat() <= until:
-                latest[str(r["at_point"] or r["id"])] = r
-        chosen = {r["id"]: r for r in latest.values()}
-        return sorted(({k: v for k, v in r.items() if k != "at_point"} for r in chosen.values()),
-                      key=lambda r: (r["taken_at"], r["id"]))
+        return rows
 
     def components_of(self, reading_id: int) -> set[str]:
         """The components the stored hypotheses of a reading name."""
