@@ -73,7 +73,7 @@ def run(args) -> int:
             print(dumps(rows))
             return 0
         print(f"{v(args.machine)}: {len(rows)} stored reading(s) in {v(store.path)}")
-        print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top finding")
+        print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top diagnosis")
         for r in rows:
             certainty = "—" if r["top_certainty"] is None else f"{100 * max(r['top_certainty'], 0):.0f} %"
             top = f"{v(r['top_fault_name'])} on {v(r['top_component'])} {certainty}" if r["top_fault"] else "-"

@@ -15,6 +15,7 @@ and ``date`` are needed, and ``reading`` or ``machine`` on each row.
 from __future__ import annotations
 
 import csv
+import io
 from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
@@ -128,7 +129,7 @@ def read_csv(path) -> list[tuple[int, dict]]:
         raise FindingError(f"cannot be read ({exc.strerror})", path=str(path)) from None
     if "\0" in text:
         raise FindingError("holds NUL bytes: not a CSV text file", path=str(path))
-    reader = csv.reader(text.splitlines())
+    reader = csv.reader(io.StringIO(text, newline=""))       # a quoted note may hold line breaks
     try:
         header = next(reader, None)
         if header is None:
@@ -147,8 +148,9 @@ def read_csv(path) -> list[tuple[int, dict]]:
         if missing:
             raise FindingError(f"the header lacks {', '.join(missing)}", path=str(path), line=1)
         rows = []
+        end = reader.line_num
         for cells in reader:
-            line = reader.line_num
+            line, end = end + 1, reader.line_num          # the line the row starts on (a note may go on)
             if not any(c.strip() for c in cells):
                 continue
             if len(cells) != len(names):

@@ -121,3 +121,29 @@ def test_a_csv_file_that_cannot_be_findings_names_its_line(tmp_path, text, line,
     with pytest.raises(FindingError, match=problem) as caught:
         read_csv(path)
     assert caught.value.path == str(path) and caught.value.line == line
+
+
+def test_a_file_that_is_no_text_or_no_file_is_one_error_naming_it(tmp_path):
+    latin = tmp_path / "latin.csv"
+    latin.write_bytes("reading,date,component,fault,notes\n1,2026-01-20,pump,other,d\xe9g\xe2t\n".encode("latin-1"))
+    nul = tmp_path / "nul.csv"
+    nul.write_bytes(b"reading,date,component,fault\n1,2026-01-20,pump\0,unbalance\n")
+    for path, problem in ((latin, "not UTF-8"), (nul, "NUL"), (tmp_path, "is a folder"),
+                          (tmp_path / "none.csv", "no such file")):
+        with pytest.raises(FindingError, match=problem) as caught:
+            read_csv(path)
+        assert caught.value.path == str(path)
+
+
+def test_a_header_in_capitals_with_a_byte_order_mark_and_blank_lines_is_read(tmp_path):
+    path = tmp_path / "export.csv"
+    path.write_text("\ufeffReading,Date,Component,Fault\n\n1,2026-01-20,pump,unbalance\n\n", encoding="utf-8")
+    assert read_csv(path) == [(3, {"reading": "1", "date": "2026-01-20", "component": "pump", "fault": "unbalance"})]
+
+
+def test_a_note_over_two_lines_is_one_row_and_each_row_is_named_by_the_line_it_starts_on(tmp_path):
+    path = tmp_path / "export.csv"
+    path.write_text('reading,date,component,fault,notes\r\n1,2026-01-20,pump,other,"rub on the\r\nwear ring"\r\n'
+                    "2,2026-01-21,pump,unbalance,\r\n", encoding="utf-8")
+    rows = read_csv(path)
+    assert [line for line, _ in rows] == [2, 4] and rows[0][1]["notes"] == "rub on the\nwear ring"
