@@ -146,3 +146,14 @@ def test_history_shows_the_findings_beside_the_readings_they_judge(store, capsys
     assert main(["history", PUMP, "--store", store, "--json"]) == 0
     rows = json.loads(capsys.readouterr().out)
     assert [[f["fault"] for f in r["findings"]] for r in rows] == [["outer-race"], []]
+
+
+def test_listing_an_unknown_machine_or_giving_no_action_is_exit_2(store, capsys):
+    assert main(["findings", "list", "RW-9", "--store", store]) == 2
+    assert "no stored reading of 'RW-9'" in _one_line(capsys)
+    assert main(["findings", "list", PUMP, "--store", store]) == 0
+    assert "holds no finding of RW-2 raw water pump" in capsys.readouterr().out
+    assert main(["findings"]) == 2
+    assert "ACTION" in capsys.readouterr().err
+    assert main(["findings", "delete", "first", "--store", store]) == 2
+    assert "expected a finding id" in _one_line(capsys)
