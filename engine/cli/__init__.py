@@ -16,10 +16,25 @@ import sys
 import warnings
 
 from ..common.errors import TellwaveError, UsageError
-from . import demo, demo_route, diagnose, evidence, frequencies, history, plan, reading, route, rulebook, synth, trend
+from . import (
+    demo,
+    demo_route,
+    diagnose,
+    evidence,
+    findings,
+    frequencies,
+    history,
+    plan,
+    reading,
+    route,
+    rulebook,
+    synth,
+    trend,
+)
 from ._common import Parser
 
-COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, trend, demo_route)
+COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, findings, trend,
+            demo_route)
 EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 

@@ -1,4 +1,5 @@
-"""``tellwave history``: what the store holds of a machine; forget a reading."""
+"""``tellwave history``: what the store holds of a machine, with the findings that judge each reading;
+forget a reading."""
 
 from __future__ import annotations
 
@@ -59,6 +60,12 @@ def run(args) -> int:
                 print("\n".join(map(v, machines)) if machines else f"the store {v(store.path)} holds no reading yet")
             return 0
         rows = store.readings(args.machine)
+        found: dict[int, list[dict]] = {}
+        for f in store.findings(args.machine):
+            found.setdefault(f["reading_id"], []).append(f)
+        for r in rows:
+            r["findings"] = [{k: f[k] for k in ("id", "component", "fault", "stage", "found_on", "work_order", "notes")}
+                             for f in found.get(r["id"], [])]
         if not rows:
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
@@ -66,10 +73,15 @@ def run(args) -> int:
             print(dumps(rows))
             return 0
         print(f"{v(args.machine)}: {len(rows)} stored reading(s) in {v(store.path)}")
-        print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top finding")
+        print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top diagnosis")
         for r in rows:
             certainty = "—" if r["top_certainty"] is None else f"{100 * max(r['top_certainty'], 0):.0f} %"
             top = f"{v(r['top_fault_name'])} on {v(r['top_component'])} {certainty}" if r["top_fault"] else "-"
             print(f"{r['id']:>5}  {v(r['taken_at']):<26} {v(','.join(r['points']))[:14]:<14} "
                   f"{v(r['worst_zone'] or '-'):<4} {v(r['urgency'] or '-'):<10} {top}")
+            for f in r["findings"]:
+                stage = "" if f["stage"] is None else f", stage {f['stage']}"
+                more = "".join(f"; {v(x)}" for x in (f["work_order"], f["notes"]) if x)
+                print(f"{'':>5}  found {v(f['found_on'])}: {v(f['fault'])} on {v(f['component'])}{stage}{more}"
+                      f" (finding {f['id']})")
     return 0

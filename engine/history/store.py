@@ -113,6 +113,25 @@ MIGRATIONS: tuple[str, ...] = (
     UPDATE readings SET recording_hash = content_hash;
     CREATE INDEX readings_by_recording ON readings (recording_hash, machine);
     """,
+    # 5: findings, the as-found condition at repair, each judging one stored reading: the component opened,
+    # the fault found (a rulebook fault id, 'nothing-found' or 'other' with words in ``notes``), the damage
+    # stage seen (1 to 4, NULL not stated), the date found, a work-order reference. A reading forgotten
+    # takes its findings with it. One finding per reading, component and fault.
+    """
+    CREATE TABLE findings (
+        id INTEGER PRIMARY KEY,
+        reading_id INTEGER NOT NULL REFERENCES readings (id) ON DELETE CASCADE,
+        component TEXT NOT NULL,
+        fault TEXT NOT NULL,
+        stage INTEGER,
+        found_on TEXT NOT NULL,
+        work_order TEXT,
+        notes TEXT,
+        stored_at TEXT NOT NULL,
+        UNIQUE (reading_id, component, fault)
+    );
+    CREATE INDEX findings_by_reading ON findings (reading_id);
+    """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
@@ -424,6 +443,68 @@ class Store:
             args.append(exclude_route)
         row = self.db.execute(sql + " ORDER BY taken_at DESC, id DESC LIMIT 1", args).fetchone()
         return dict(row) if row else None
+
+    # findings ----------------------------------------------------------------
+    def latest_readings(self, machine: str, until: str) -> list[dict]:
+        """The readings a finding on ``machine`` dated ``until`` (ISO date) judges: at each point, the latest
+        reading taken on or before that day (one reading often covers every point), oldest first. The day of
+        a stored time is its first ten characters (ISO 8601, as ``_check_time`` holds every stored time to)."""
+        rows = [dict(r) for r in self.db.execute(
+            "SELECT * FROM readings WHERE id IN (SELECT id FROM (SELECT r.id, ROW_NUMBER() OVER (PARTITION BY"
+            " c.point ORDER BY r.taken_at DESC, r.id DESC) AS n FROM readings r JOIN channels c ON c.reading_id = r.id"
+            " WHERE r.machine = ? AND substr(r.taken_at, 1, 10) <= ?) WHERE n = 1) ORDER BY taken_at, id",
+            (machine, until))]
+        for r in rows:
+            self._check_time(r)
+        return rows
+
+    def components_of(self, reading_id: int) -> set[str]:
+        """The components the stored hypotheses of a reading name."""
+        return {r[0] for r in self.db.execute("SELECT DISTINCT component FROM hypotheses WHERE reading_id = ?"
+                                              " AND component IS NOT NULL", (reading_id,))}
+
+    def finding_of(self, reading_id: int, component: str, fault: str) -> int | None:
+        """The id of the finding stored for this reading, component and fault, or None."""
+        row = self.db.execute("SELECT id FROM findings WHERE reading_id = ? AND component = ? AND fault = ?",
+                              (reading_id, component, fault)).fetchone()
+        return row[0] if row else None
+
+    def add_finding(self, finding: dict) -> int:
+        """Store one checked finding (``engine.history.findings``); its id. Inside a caller's transaction
+        it is part of that transaction (an import writes every row or none)."""
+        with self.transaction():
+            cur = self.db.execute(
+                "INSERT INTO findings (reading_id, component, fault, stage, found_on, work_order, notes, stored_at)"
+                " VALUES (?,?,?,?,?,?,?,?)",
+                (finding["reading_id"], finding["component"], finding["fault"], finding.get("stage"),
+                 finding["found_on"], finding.get("work_order"), finding.get("notes"), _now()))
+            return cur.lastrowid
+
+    def findings(self, machine: str | None = None) -> list[dict]:
+        """Stored findings (of ``machine``), by date found, each with its reading's machine, time and source."""
+        sql = ("SELECT f.id, f.reading_id, r.machine, r.taken_at, r.source, f.component, f.fault, f.stage,"
+               " f.found_on, f.work_order, f.notes FROM findings f JOIN readings r ON r.id = f.reading_id")
+        args: tuple = ()
+        if machine is not None:
+            sql += " WHERE r.machine = ?"
+            args = (machine,)
+        return [dict(r) for r in self.db.execute(sql + " ORDER BY f.found_on, f.id", args)]
+
+    def finding(self, finding_id: int) -> dict | None:
+        """One stored finding by its id, or None."""
+        if not 0 < finding_id <= ID_MAX:
+            return None
+        rows = [f for f in self.db.execute(
+            "SELECT f.id, f.reading_id, r.machine, f.component, f.fault, f.found_on FROM findings f"
+            " JOIN readings r ON r.id = f.reading_id WHERE f.id = ?", (finding_id,))]
+        return dict(rows[0]) if rows else None
+
+    def delete_finding(self, finding_id: int) -> bool:
+        """Forget one finding; whether there was one."""
+        if not 0 < finding_id <= ID_MAX:
+            return False
+        with self.transaction():
+            return self.db.execute("DELETE FROM findings WHERE id = ?", (finding_id,)).rowcount > 0
 
     def integrity(self) -> str:
         """SQLite's integrity check of the whole file: "ok" or what is damaged."""
