@@ -288,6 +288,11 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
         if any(rulebook.faults[f].withholds_diagnosis or rulebook.faults[f].family == "reading" for f in faults):
             not_learned.append((record.rule_id, "concludes a reading problem, which repair does not judge"))
             continue
+        if rule.weight <= LOWEST_WEIGHT:
+            # the damage-stage rules and corroboration from another sensor: they grade or nudge a diagnosis
+            # other rules make, so a repair's finding does not judge their weight
+            not_learned.append((record.rule_id, "a nudge at the lowest weight, not a diagnosis of its own"))
+            continue
         if record.n < least_n:
             too_little.append(record)
             continue
