@@ -27,9 +27,7 @@ from __future__ import annotations
 import difflib
 import json
 import math
-import os
 import re
-import stat
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -40,6 +38,7 @@ import yaml
 from yaml.constructor import ConstructorError, SafeConstructor
 
 from .errors import TellwaveError
+from .infile import regular_file
 
 MAX_BYTES = 1 << 20       # 1 MiB; the largest shipped rulebook is about 15 kB
 MAX_NODES = 100_000       # nodes once every alias is expanded (a shipped rulebook has a few thousand)
@@ -302,19 +301,7 @@ def _line(lines: dict[tuple, int], path: tuple) -> int | None:
 
 
 def _read_text(path: str, error: type[TellwaveError]) -> str:
-    try:
-        info = os.stat(path)
-    except FileNotFoundError:
-        raise error("no such file", path=path) from None
-    except OSError as exc:
-        raise error(f"cannot open ({exc.strerror or exc.__class__.__name__})", path=path) from None
-    except ValueError:      # a NUL, or a character the file system cannot encode (a lone surrogate)
-        raise error("cannot open: the name holds a character no file name can (a NUL or a lone surrogate)",
-                    path=path) from None
-    if stat.S_ISDIR(info.st_mode):
-        raise error("is a folder, not a YAML file", path=path)
-    if not stat.S_ISREG(info.st_mode):
-        raise error("is not a regular file", path=path)
+    regular_file(path, error, "YAML file")
     try:
         with open(path, "rb") as f:
             raw = f.read(MAX_BYTES + 1)

@@ -21,11 +21,13 @@ from datetime import date, datetime
 from pathlib import Path
 
 from ..common.errors import UsageError
+from ..common.infile import regular_file
 
 NOTHING_FOUND = "nothing-found"
 OTHER = "other"
 STAGES = (1, 2, 3, 4)
 TEXT_MAX = 2000            # characters of a work order or notes: a paragraph, not a file
+MAX_CSV_BYTES = 64 << 20      # a maintenance export of findings is far smaller; a bigger file is not one
 CSV_COLUMNS = ("reading", "machine", "date", "component", "fault", "stage", "work_order", "notes")
 CSV_NEEDED = ("date", "component", "fault")
 CSV_ROWS_MAX = 100_000
@@ -117,12 +119,11 @@ def read_csv(path) -> list[tuple[int, dict]]:
     """(line, row) of every row of a findings CSV file; a FindingError naming the file and line for a file
     that cannot be read, a header without the needed columns or with unknown ones, or a ragged row."""
     path = Path(path)
+    info = regular_file(str(path), FindingError, "CSV file")       # not a pipe or device a read would hang on
+    if info.st_size > MAX_CSV_BYTES:
+        raise FindingError(f"larger than {MAX_CSV_BYTES >> 20} MiB: not a findings CSV", path=str(path))
     try:
         text = path.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise FindingError("no such file", path=str(path)) from None
-    except IsADirectoryError:
-        raise FindingError("is a folder, not a CSV file", path=str(path)) from None
     except UnicodeDecodeError as exc:
         raise FindingError(f"not UTF-8 text (byte {exc.start}); save the CSV as UTF-8", path=str(path)) from None
     except OSError as exc:

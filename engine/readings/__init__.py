@@ -11,13 +11,13 @@ from __future__ import annotations
 
 import math
 import os
-import stat
 from pathlib import Path
 
 import numpy as np
 
 from ..common import units
 from ..common.errors import ReadingError, UsageError
+from ..common.infile import regular_file
 from ..common.yamlfile import read_yaml, validate
 from ..machine import check_speed_rpm
 from .columns import apply_column_map
@@ -52,19 +52,7 @@ def _read_sidecar(path) -> dict:
 
 
 def _check_file(path: str) -> None:
-    try:
-        info = os.stat(path)
-    except FileNotFoundError:
-        raise ReadingError("no such file", path=path) from None
-    except OSError as exc:
-        raise ReadingError(f"cannot open ({exc.strerror or exc.__class__.__name__})", path=path) from None
-    except ValueError:      # a NUL, or a character the file system cannot encode (a lone surrogate)
-        raise ReadingError("cannot open: the name holds a character no file name can (a NUL or a lone surrogate)",
-                           path=path) from None
-    if stat.S_ISDIR(info.st_mode):
-        raise ReadingError("is a folder, not a reading file", path=path)
-    if not stat.S_ISREG(info.st_mode):
-        raise ReadingError("is not a regular file", path=path)
+    info = regular_file(path, ReadingError, "reading file")
     if info.st_size == 0:
         raise ReadingError("the file is empty", path=path)
     if info.st_size > MAX_FILE_BYTES:

@@ -3,6 +3,8 @@ and date judge, and a forgotten reading taking its findings with it."""
 
 from __future__ import annotations
 
+import os
+
 import pytest
 from test_store import record
 
@@ -133,6 +135,13 @@ def test_a_file_that_is_no_text_or_no_file_is_one_error_naming_it(tmp_path):
         with pytest.raises(FindingError, match=problem) as caught:
             read_csv(path)
         assert caught.value.path == str(path)
+
+
+def test_a_pipe_given_as_the_csv_is_refused_before_it_is_read(tmp_path):
+    fifo = tmp_path / "export.csv"
+    os.mkfifo(fifo)                 # a read would wait for a writer that never comes
+    with pytest.raises(FindingError, match="is not a regular file"):
+        read_csv(fifo)
 
 
 def test_a_header_in_capitals_with_a_byte_order_mark_and_blank_lines_is_read(tmp_path):
