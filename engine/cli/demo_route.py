@@ -8,7 +8,7 @@ from ._common import whole
 
 def register(sub) -> None:
     """Add ``tellwave demo-route`` and its options."""
-    p = sub.add_parser("demo-route", help="write demo routes a month apart, with faults that grow")
+    p = sub.add_parser("demo-route", help="write demo routes a month apart, with faults that grow and the repairs made")
     p.add_argument("--out", default="tellwave-routes", help="folder for the months (default: tellwave-routes)")
     p.add_argument("--months", type=whole("--months", 1, DEMO_MONTHS), default=3,
                    help=f"how many monthly surveys to write (1-{DEMO_MONTHS}, default 3)")
@@ -21,5 +21,8 @@ def run(args) -> int:
     from ..demo.plant import write_month
 
     for month in range(1, args.months + 1):
-        print(f"wrote {one_line(write_month(args.out, month))}")
+        route = write_month(args.out, month)
+        findings = route.parent / "findings.csv"
+        also = f" and {one_line(findings.name)} (what was found at a repair after it)" if findings.exists() else ""
+        print(f"wrote {one_line(route)}{also}")
     return 0

@@ -1,11 +1,15 @@
 """A demo plant's monthly routes with faults that grow, for trying route, history and trend.
 
 Tallow Ridge Water Works is invented. Month by month the RW-2 pump's drive-
-end bearing goes from an incipient inner-race defect to an advanced one and
-the BW-1 blower's unbalance grows; the CT-1 fan stays healthy. Each month
-is a folder with its readings (simulated, written as WAV files with
-sidecars) and a route file that dates them a month apart. Only the constants
-are imported with the module (the command line reads ``MONTHS`` for its help).
+end bearing goes from an incipient inner-race defect to an advanced one until
+it is replaced after the fourth survey; the BW-1 blower's unbalance grows,
+the blower is cleaned and balanced after the third survey, and the build-up
+comes back; the CT-1 fan stays healthy. Each month is a folder with its
+readings (simulated, written as WAV files with sidecars) and a route file
+that dates them a month apart; a month after which a machine was opened
+also holds ``findings.csv``, the fitters' log of what they found (the form
+``tellwave findings import`` reads). Only the constants are imported with
+the module (the command line reads ``MONTHS`` for its help).
 """
 
 from __future__ import annotations
@@ -22,11 +26,23 @@ DURATION_S = 2.0
 
 # machine file, points on the route, fault, component, stage in each month (None: healthy), speed rpm
 PLAN = (
-    ("rw2-raw-water-pump.yaml", ("P1H", "P2H", "M2H"), "inner-race", "pump_de", (1, 2, 3, 3, 4, 4), 1486),
-    ("bw1-backwash-blower.yaml", ("BDEH", "MDEH"), "unbalance", "blower", (1, 1, 2, 2, 3, 4), 2955),
+    ("rw2-raw-water-pump.yaml", ("P1H", "P2H", "M2H"), "inner-race", "pump_de", (1, 2, 3, 3, None, None), 1486),
+    ("bw1-backwash-blower.yaml", ("BDEH", "MDEH"), "unbalance", "blower", (1, 1, 2, 1, 1, 2), 2955),
     ("ct1-cooling-tower-fan.yaml", ("MDEH", "GINH"), "healthy", None, (None,) * 6, None),
 )
 MONTHS = 6
+
+# What the fitters found when they opened a machine, by the survey it follows (invented): the month,
+# then one row of the findings CSV (machine name, date found, component, fault, stage, work order, notes).
+FINDINGS_COLUMNS = ("machine", "date", "component", "fault", "stage", "work_order", "notes")
+REPAIRS = (
+    (2, ("CT-1 cooling tower fan", "2026-02-16", "bevel_stage", "nothing-found", "", "TR-WO-2611",
+         "Annual outage: bevel gears inspected through the cover, contact pattern even, oil clean.")),
+    (3, ("BW-1 backwash blower", "2026-03-19", "blower", "unbalance", "", "TR-WO-2684",
+         "Scale build-up on the impeller blades; cleaned and trim-balanced in place.")),
+    (4, ("RW-2 raw water pump", "2026-04-21", "pump_de", "inner-race", "3", "TR-WO-2730",
+         "Spall over about a third of the inner-race track; bearing replaced, housing fits checked.")),
+)
 
 
 def write_month(out_dir, month: int) -> Path:
@@ -60,7 +76,25 @@ def write_month(out_dir, month: int) -> Path:
             with open(folder / f"{name}.yaml", "a", encoding="utf-8") as side:   # as a logger would stamp it
                 side.write(f"timestamp: '{taken}'\n")
             readings.append({"file": name, "machine": key, "points": {point: point}, "time": taken})
+    write_findings(folder, month)
     route = {"route": f"Tallow Ridge monthly survey {when:%Y-%m}",
              "about": "Simulated readings of the invented Tallow Ridge Water Works (tellwave demo-route).",
              "machines": machines, "readings": readings}
     return write_atomically(folder / "route.yaml", yaml.safe_dump(route, sort_keys=False))
+
+
+def write_findings(folder, month: int) -> Path | None:
+    """Write ``findings.csv`` of the repairs that followed survey ``month``; None when there were none."""
+    import csv
+    import io
+
+    from ..report import write_atomically
+
+    rows = [row for after, row in REPAIRS if after == month]
+    if not rows:
+        return None
+    text = io.StringIO(newline="")
+    writer = csv.writer(text, lineterminator="\n")
+    writer.writerow(FINDINGS_COLUMNS)
+    writer.writerows(rows)
+    return write_atomically(Path(folder) / "findings.csv", text.getvalue())
