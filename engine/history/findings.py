@@ -8,8 +8,10 @@ reference and free notes. Every check that fails is one ``FindingError`` line na
 file and its line, or the store) and the problem; the caller writes nothing then (``add`` runs every
 check and every write of one command in one transaction).
 
-The CSV form (``CSV_COLUMNS``): a header line naming the columns, in any order; ``component``, ``fault``
-and ``date`` are needed, and ``reading`` or ``machine`` on each row.
+The CSV form is described by ``engine/common/schemas/findings.schema.json``, the one home of its columns
+(``CSV_COLUMNS``, ``CSV_NEEDED``) and text limit: a header line naming the columns, in any order;
+``component``, ``fault`` and ``date`` are needed, and ``reading`` or ``machine`` on each row. The cells
+are checked here one by one, so that each problem is said in the words of a maintenance log.
 """
 
 from __future__ import annotations
@@ -22,14 +24,16 @@ from pathlib import Path
 
 from ..common.errors import UsageError
 from ..common.infile import regular_file
+from ..common.yamlfile import load_schema
 
 NOTHING_FOUND = "nothing-found"
 OTHER = "other"
 STAGES = (1, 2, 3, 4)
-TEXT_MAX = 2000            # characters of a work order or notes: a paragraph, not a file
 MAX_CSV_BYTES = 64 << 20      # a maintenance export of findings is far smaller; a bigger file is not one
-CSV_COLUMNS = ("reading", "machine", "date", "component", "fault", "stage", "work_order", "notes")
-CSV_NEEDED = ("date", "component", "fault")
+_ROW = load_schema("findings.schema.json")
+CSV_COLUMNS = tuple(_ROW["properties"])
+CSV_NEEDED = tuple(_ROW["required"])
+TEXT_MAX = _ROW["properties"]["notes"]["maxLength"]      # characters of a work order or notes: a paragraph
 CSV_ROWS_MAX = 100_000
 
 
