@@ -508,7 +508,8 @@ class Store:
         ids = {r["id"] for r in rows}
         firings: dict[int, list[dict]] = {}
         for f in self.db.execute("SELECT reading_id, rule_id, fault, component, certainty, hypothesis_certainty"
-                                 " FROM firings WHERE reading_id IN (SELECT reading_id FROM findings) ORDER BY reading_id, rule_id, fault, component, certainty"):
+                                 " FROM firings WHERE reading_id IN (SELECT reading_id FROM findings)"
+                                 " ORDER BY reading_id, rule_id, fault, component, certainty"):
             if f[0] in ids and all(_number(c) and -1.0 <= c <= 1.0 for c in (f[4], f[5])):
                 firings.setdefault(f[0], []).append({"rule_id": str(f[1]), "fault": str(f[2]),
                                                      "component": str(f[3]), "certainty": f[4],

@@ -69,7 +69,7 @@ def settings(rulebook: Rulebook | None = None) -> Settings:
     """The learning settings of ``rulebook`` (default: the shipped rulebooks), each checked: a site's
     ``parameters:`` that make no sense is a RulebookError naming the parameter and the file."""
     book = rulebook if rulebook is not None else _shipped()
-    values = {}
+    values: dict = {}
     for name, attr in PARAMETERS.items():
         p = book.parameters.get(name)
         if p is None:

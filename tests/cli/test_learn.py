@@ -72,7 +72,8 @@ def _by_hand(store) -> tuple[dict, dict]:
     """n and k per rule counted straight from the stored rows: a rule counts once per judged reading and
     hypothesis it supports (certainty > 0); confirmed when a finding names that fault on that component."""
     with Store(store, create=False) as s:
-        firings = s.db.execute("SELECT reading_id, rule_id, fault, component FROM firings WHERE certainty > 0").fetchall()
+        firings = s.db.execute("SELECT reading_id, rule_id, fault, component FROM firings"
+                               " WHERE certainty > 0").fetchall()
         found = {(r[0], r[1], r[2]) for r in s.db.execute("SELECT reading_id, component, fault FROM findings")}
     judged = {reading for reading, _, _ in found}
     n: dict[str, int] = defaultdict(int)
@@ -89,7 +90,8 @@ def test_the_counts_are_what_the_stored_firings_and_findings_say(made, capsys):
     n, k = _by_hand(made / "h.sqlite")
     assert n, "the simulated faults fired no rule"
     assert {r["rule"]: (r["n"], r["k"]) for r in doc["rules"]} == {rule: (n[rule], k[rule]) for rule in n}
-    assert (doc["findings"], doc["judged_readings"], doc["counted_readings"], doc["stored_before_firings"]) == (4, 4, 4, 0)
+    counts = (doc["findings"], doc["judged_readings"], doc["counted_readings"], doc["stored_before_firings"])
+    assert counts == (4, 4, 4, 0)
     # the envelope rule fired on the outer-race reading, where the outer race was found (bearings.yaml)
     envelope = next(r for r in doc["rules"] if r["rule"] == "bearing.defect.envelope")
     assert envelope["k"] >= 1
