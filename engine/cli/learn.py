@@ -15,7 +15,8 @@ def register(sub) -> None:
     add_site_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
                    help="report format (default text; html draws the reliability diagram)")
-    p.add_argument("-o", "--output", metavar="FILE", help="file to write the report to (default: the terminal)")
+    p.add_argument("-o", "--output", metavar="FILE", help="file to write the report to (default: the terminal, "
+                                                          "whatever the format)")
     p.add_argument("--overlay", metavar="FILE",
                    help="write the proposed site overlay (YAML) to this file, to review and pass with --site")
     p.set_defaults(run=run)
@@ -65,8 +66,6 @@ def run(args) -> int:
 
     _check_site(args.site)
     output = args.output
-    if output is None and args.format == "html":
-        output = "learning.html"
     report_inputs = output_target(args, output) if output is not None else None     # before the work
     overlay_inputs = _check_overlay(args, output) if args.overlay is not None else None
     store = args.store or default_store_path()

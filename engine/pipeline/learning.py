@@ -22,7 +22,8 @@ def learning_document(store_path, site: Iterable = (), machines: Iterable[str] |
                       diagram: bool = False, made_at: str | None = None) -> dict:
     """The learning report of the store at ``store_path`` (which must exist) for ``machines`` (names;
     None or empty: every machine), with the rulebooks laid over by ``site`` (folders or files, as
-    ``--site``). ``diagram``: add the reliability diagram as SVG (for HTML). ``made_at``: the report's
+    ``--site``; an overlay learned before, whose rules carry ``site_record``, is refused: its weights
+already count the findings). ``diagram``: add the reliability diagram as SVG (for HTML). ``made_at``: the report's
     time (ISO 8601), None for now. A machine the store does not hold is a UsageError (exit 2)."""
     from .. import __version__
     from ..common.errors import UsageError
@@ -41,6 +42,11 @@ def learning_document(store_path, site: Iterable = (), machines: Iterable[str] |
     site = tuple(site or ())
     wanted = sorted(set(machines or ()))
     rulebook = load_rulebook(*site)
+    learned = next((r for r in rulebook.rules if r.site_record is not None), None)
+    if learned is not None:
+        raise UsageError(f"holds an overlay learned before (rule {learned.id} carries site_record): learn against "
+                         "the rulebooks without it, since its weights already count these findings (which rules fire "
+                         "hardly depends on the weights); the new overlay replaces it", path=str(learned.path))
     given = settings(rulebook)
     with Store(store_path, create=False) as store:
         known = store.machines()

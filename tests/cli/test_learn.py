@@ -19,7 +19,7 @@ from engine.machine import load_machine
 from engine.reasoning import load_rulebook
 from engine.simulation import simulate, write_simulation
 
-from support import CASES, one_error_line
+from support import CASES, HtmlChecker, one_error_line
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"
 NAME = "RW-2 raw water pump"
@@ -141,6 +141,10 @@ def test_an_overlay_learned_at_the_site_loads_and_its_record_shows_in_every_form
     assert shown and all(f["site_record"]["confirmed"] == k[f["rule"]] and f["site_record"]["judged"] == n[f["rule"]]
                          for f in shown)
     jsonschema.validate(doc, load_schema("report.schema.json"))
+    # learning again over the learned overlay would count the same findings twice: refused, nothing written
+    err = one_error_line(capsys, 2, ["learn", "--store", work / "h.sqlite", "--site", site, "--site", learned,
+                                     "--overlay", work / "again.yaml"])
+    assert "learned before" in err and "learned.yaml" in err and not (work / "again.yaml").exists()
 
 
 def test_every_format_renders_and_html_draws_the_diagram(made, tmp_path, capsys):
@@ -152,6 +156,9 @@ def test_every_format_renders_and_html_draws_the_diagram(made, tmp_path, capsys)
                  "-o", str(tmp_path / "l.html")]) == 0
     html = (tmp_path / "l.html").read_text(encoding="utf-8")
     assert "<svg" in html and "Certainty against what was found at repair" in html
+    checker = HtmlChecker()
+    checker.feed(html)
+    assert checker.errors == [] and checker.stack == [] and checker.links == []
 
 
 def test_readings_stored_before_firings_were_kept_are_counted_and_named(work, capsys):
