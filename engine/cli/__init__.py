@@ -24,6 +24,7 @@ from . import (
     findings,
     frequencies,
     history,
+    learn,
     plan,
     reading,
     route,
@@ -33,8 +34,8 @@ from . import (
 )
 from ._common import Parser
 
-COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, findings, trend,
-            demo_route)
+COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, findings, learn,
+            trend, demo_route)
 EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 

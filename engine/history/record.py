@@ -11,10 +11,14 @@ from __future__ import annotations
 import hashlib
 import os
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from ..common.errors import ReadingError
 from ..common.jsonout import canonical
 from ..readings import SCALE_ISSUES, sidecar_path
+
+if TYPE_CHECKING:
+    from ..reasoning.findings import Reasoning
 
 # name -> (label with unit, what it is); the trend stage reads these names
 INDICATORS: dict[str, tuple[str, str]] = {
@@ -132,8 +136,12 @@ def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
 
 
 def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str, time_from: str,
-              machine_file: str | None, elapsed_s: float, recording_hash: str | None = None) -> dict:
-    """The stored record of one diagnosis (``doc`` from ``pipeline.document_of``)."""
+              machine_file: str | None, elapsed_s: float, recording_hash: str | None = None,
+              reasoning: Reasoning | None = None) -> dict:
+    """The stored record of one diagnosis (``doc`` from ``pipeline.document_of``); with its ``reasoning``,
+    the rule firings the learning counts (``learning.firings_of``), stored beside the reading."""
+    from ..reasoning.learning import firings_of
+
     channels, values = indicators_of(facts)
     zones = {z["channel"]: z["zone"] for z in doc["zones"]["points"]}
     for c in channels:
@@ -162,4 +170,7 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
         "hypotheses": [{"rank": h["rank"], "fault": h["fault"], "fault_name": h["fault_name"],
                         "component": h["component"], "certainty": h["certainty"], "urgency": h["urgency"]["id"]}
                        for h in doc["hypotheses"]],
+        "firings": None if reasoning is None else [
+            {"rule_id": f.rule_id, "fault": f.fault, "component": f.component, "certainty": f.certainty,
+             "hypothesis_certainty": f.hypothesis_certainty} for f in firings_of(reasoning)],
     }

@@ -132,6 +132,23 @@ MIGRATIONS: tuple[str, ...] = (
     );
     CREATE INDEX findings_by_reading ON findings (reading_id);
     """,
+    # 6: the rule firings of each stored diagnosis, as the learning counts them
+    # (``engine.reasoning.learning.firings_of``): the rule, the fault hypothesis and component it is for or
+    # against, the certainty it lent (signed) and the hypothesis's final certainty. ``firings_kept`` is 1 on
+    # a reading stored since (it may have none: a withheld diagnosis or nothing fired), NULL on one stored
+    # before, whose firings are not known until it is diagnosed again.
+    """
+    CREATE TABLE firings (
+        reading_id INTEGER NOT NULL REFERENCES readings (id) ON DELETE CASCADE,
+        rule_id TEXT NOT NULL,
+        fault TEXT NOT NULL,
+        component TEXT NOT NULL,
+        certainty REAL NOT NULL,
+        hypothesis_certainty REAL NOT NULL
+    );
+    CREATE INDEX firings_by_reading ON firings (reading_id);
+    ALTER TABLE readings ADD COLUMN firings_kept INTEGER;
+    """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
@@ -303,12 +320,17 @@ class Store:
             cur = self.db.execute(
                 "INSERT INTO readings (content_hash, machine, machine_file, source, taken_at, time_from,"
                 " speed_rpm, elapsed_s, fs_hz, duration_s, urgency, worst_zone, withheld, summary, report,"
-                " stored_at, route_id, recording_hash) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                " stored_at, route_id, recording_hash, firings_kept) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                 (record["content_hash"], record["machine"], record.get("machine_file"), record["source"],
                  record["taken_at"], record["time_from"], record.get("speed_rpm"), record.get("elapsed_s"),
                  record.get("fs_hz"), record.get("duration_s"), v["urgency"], v["worst_zone"],
-                 int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id, recording))
+                 int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id, recording,
+                 None if record.get("firings") is None else 1))
             rid = cur.lastrowid
+            self.db.executemany(
+                "INSERT INTO firings VALUES (?,?,?,?,?,?)",
+                [(rid, f["rule_id"], f["fault"], f["component"], float(f["certainty"]),
+                  float(f["hypothesis_certainty"])) for f in record.get("firings") or ()])
             self.db.executemany(
                 "INSERT INTO channels (reading_id, channel, point, direction, location, zone, scale_trusted)"
                 " VALUES (?,?,?,?,?,?,?)",
@@ -468,6 +490,40 @@ class Store:
         row = self.db.execute("SELECT id FROM findings WHERE reading_id = ? AND component = ? AND fault = ?",
                               (reading_id, component, fault)).fetchone()
         return row[0] if row else None
+
+    def judged(self, machines=None) -> list[dict]:
+        """Every stored reading with a finding (of ``machines``, names; None: every machine), oldest first:
+        its id, machine, time, whether its firings were kept (``firings_kept``: False when it was stored
+        before schema 6), its ``firings`` (dicts as ``learning.firings_of`` gives them, sorted) and its
+        ``findings`` (component and fault, sorted). A firing a damaged store cannot give (a certainty that
+        is not a number in -1..1) is left out."""
+        sql = ("SELECT r.id, r.machine, r.taken_at, r.firings_kept FROM readings r"
+               " WHERE EXISTS (SELECT 1 FROM findings f WHERE f.reading_id = r.id)")
+        args: list = []
+        if machines is not None:
+            names = sorted(set(machines))
+            sql += f" AND r.machine IN ({','.join('?' * len(names))})"
+            args = names
+        rows = [dict(r) for r in self.db.execute(sql + " ORDER BY r.taken_at, r.id", args)]
+        ids = {r["id"] for r in rows}
+        firings: dict[int, list[dict]] = {}
+        for f in self.db.execute("SELECT reading_id, rule_id, fault, component, certainty, hypothesis_certainty"
+                                 " FROM firings WHERE reading_id IN (SELECT reading_id FROM findings)"
+                                 " ORDER BY reading_id, rule_id, fault, component, certainty"):
+            if f[0] in ids and all(_number(c) and -1.0 <= c <= 1.0 for c in (f[4], f[5])):
+                firings.setdefault(f[0], []).append({"rule_id": str(f[1]), "fault": str(f[2]),
+                                                     "component": str(f[3]), "certainty": f[4],
+                                                     "hypothesis_certainty": f[5]})
+        found: dict[int, list[dict]] = {}
+        for f in self.db.execute("SELECT reading_id, component, fault FROM findings"
+                                 " ORDER BY reading_id, component, fault"):
+            if f[0] in ids:
+                found.setdefault(f[0], []).append({"component": str(f[1]), "fault": str(f[2])})
+        for r in rows:
+            r["firings_kept"] = r["firings_kept"] is not None
+            r["firings"] = firings.get(r["id"], [])
+            r["findings"] = found.get(r["id"], [])
+        return rows
 
     def add_finding(self, finding: dict) -> int:
         """Store one checked finding (``engine.history.findings``); its id. Inside a caller's transaction

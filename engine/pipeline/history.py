@@ -39,6 +39,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
         if link.doc is not None:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,
-                           machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording)
+                           machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording,
+                           reasoning=d.reasoning)
         store.add(record, replace=True)
     return d, doc

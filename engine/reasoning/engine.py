@@ -281,7 +281,7 @@ class Reasoner:
             session.facts_by_id[derived["id"]] = derived
             session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
-                        tuple(matched), derived, tuple(sorted(signs.items())))
+                        tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record)
         session.firings.append((rule, firing))
         if derived is not None:
             try:

@@ -66,6 +66,8 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     where = f"site overlay {rule.path}" if "/" in rule.label else "shipped rulebook"
     lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin} ({where}" + (
         f"; overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ")"), f"  source: {rule.source}"]
+    if rule.site_record is not None:
+        lines.append(f"  at this site this rule was confirmed {rule.site_record[0]} of {rule.site_record[1]} times")
     lines.append("  it needs:")
     lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.needs]
     if rule.none_of:

@@ -23,6 +23,7 @@ class Firing:
     signs: tuple[tuple[str, float], ...] = ()   # the signs it explains, with the fit of each (explaining.py)
     kept: float = 1.0                 # share of those signs its hypothesis holds after explaining away
     raw_certainty: float | None = None   # before explaining away (None: nothing was shared)
+    site_record: tuple[int, int] | None = None   # the rule's (confirmed, judged) at repair at the site
 
 
 @dataclass(frozen=True)

@@ -29,6 +29,7 @@ import math
 from collections import defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
+from functools import cache
 
 import yaml
 
@@ -40,11 +41,69 @@ from .rulebook import Rule, Rulebook
 Z_95 = 1.959963984540054      # standard normal quantile at 0.975 (two-sided 95 %)
 NOTHING_FOUND = "nothing-found"
 OTHER = "other"
-PRIOR_N = 20                  # the shipped weight counts as this many findings
-MOVE_CAP = 0.3                # a learned weight moves at most this far from the loaded one
-LEAST_N = 5                   # fewer judged firings than this: too little evidence to judge
-LOWEST_WEIGHT = 0.05          # a supporting rule keeps at least this weight (switch it off with disable:)
-BIN_EDGES = (0.0, 0.2, 0.4, 0.6, 0.8, 1.0)
+# the learning's constants are named parameters of rulebooks/parameters.yaml (a site may set them):
+# parameter name -> attribute of ``Settings``
+PARAMETERS = {"learning_prior_findings": "prior_n", "learning_move_cap": "cap",
+              "learning_least_findings": "least_n", "learning_lowest_weight": "lowest_weight",
+              "learning_bin_width": "bin_width"}
+
+
+@dataclass(frozen=True)
+class Settings:
+    """How far findings may move a rule: read from the rulebook's ``learning_*`` parameters."""
+
+    prior_n: float           # the loaded weight counts as this many findings
+    cap: float               # a learned weight moves at most this far from the loaded one
+    least_n: int             # fewer judged firings than this: too little evidence to judge
+    lowest_weight: float     # a supporting rule keeps at least this weight; rules at it are not learned
+    bin_width: float         # width of the reliability table's certainty bins
+
+    @property
+    def bin_edges(self) -> tuple[float, ...]:
+        """The reliability table's bin edges, 0 to 1."""
+        count = round(1 / self.bin_width)
+        return tuple(i / count for i in range(count + 1))
+
+
+def settings(rulebook: Rulebook | None = None) -> Settings:
+    """The learning settings of ``rulebook`` (default: the shipped rulebooks), each checked: a site's
+    ``parameters:`` that make no sense is a RulebookError naming the parameter and the file."""
+    book = rulebook if rulebook is not None else _shipped()
+    values: dict = {}
+    for name, attr in PARAMETERS.items():
+        p = book.parameters.get(name)
+        if p is None:
+            raise RulebookError(f"parameters.{name}: not declared (rulebooks/parameters.yaml declares it); "
+                                "the learning needs it")
+        where = p.changed_by[-1] if p.changed_by else p.path
+        v = p.value
+        if attr in ("prior_n", "least_n") and not (v >= 1 and v == int(v)):
+            raise RulebookError(f"parameters.{name}: {v:g} findings; it must be a whole number, 1 or more",
+                                path=where)
+        if attr in ("cap", "lowest_weight") and not 0 < v < 1:
+            raise RulebookError(f"parameters.{name}: {v:g}; it must lie between 0 and 1", path=where)
+        if attr == "bin_width" and not (0 < v <= 0.5 and abs(round(1 / v) * v - 1) < 1e-9):
+            raise RulebookError(f"parameters.{name}: {v:g}; it must divide 1 into 2 or more bins (0.1, 0.2, 0.25...)",
+                                path=where)
+        values[attr] = int(v) if attr == "least_n" else v
+    return Settings(**values)
+
+
+@cache
+def _shipped() -> Rulebook:
+    from .rulebook import load_rulebook
+
+    return load_rulebook()
+
+
+def __getattr__(name: str):
+    """``PRIOR_N``, ``MOVE_CAP``, ``LEAST_N``, ``LOWEST_WEIGHT`` and ``BIN_EDGES``: the shipped settings,
+    read from rulebooks/parameters.yaml when asked (no copy is kept here)."""
+    attr = {"PRIOR_N": "prior_n", "MOVE_CAP": "cap", "LEAST_N": "least_n", "LOWEST_WEIGHT": "lowest_weight",
+            "BIN_EDGES": "bin_edges"}.get(name)
+    if attr is None:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    return getattr(settings(), attr)
 
 
 @dataclass(frozen=True)
@@ -206,9 +265,11 @@ def top_hypothesis(d: JudgedDiagnosis) -> tuple[str, str, float] | None:
     return fault, component, c
 
 
-def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] = BIN_EDGES) -> Reliability:
+def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] | None = None) -> Reliability:
     """Reliability table and Brier score (Brier 1950, Mon. Weather Rev. 78, 1-3) of the judged top
-    hypotheses. A certainty below 0 counts as 0, above 1 as 1."""
+    hypotheses. A certainty below 0 counts as 0, above 1 as 1. ``edges`` default: the shipped settings."""
+    if edges is None:
+        edges = settings().bin_edges
     pairs: list[tuple[float, bool]] = []
     without = missed = 0
     for d in diagnoses:
@@ -234,14 +295,19 @@ def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] = B
     return Reliability(tuple(bins), brier, len(pairs), without, missed)
 
 
-def learned_weight(loaded: float, record: RuleRecord, prior_n: float = PRIOR_N,
-                   cap: float = MOVE_CAP) -> tuple[float, bool]:
+def learned_weight(loaded: float, record: RuleRecord, prior_n: float | None = None,
+                   cap: float | None = None, lowest: float | None = None) -> tuple[float, bool]:
     """``(prior_n * loaded + n * rate) / (prior_n + n)``, moved at most ``cap`` from ``loaded``, kept
-    within [LOWEST_WEIGHT, 1] and rounded to 0.01; with whether the cap held it back."""
+    within [lowest, 1] and rounded to 0.01; with whether the cap held it back. Defaults: the shipped settings."""
+    if prior_n is None or cap is None or lowest is None:
+        shipped = settings()
+        prior_n = shipped.prior_n if prior_n is None else prior_n
+        cap = shipped.cap if cap is None else cap
+        lowest = shipped.lowest_weight if lowest is None else lowest
     shrunk = (prior_n * loaded + record.n * record.rate) / (prior_n + record.n)
     capped = abs(shrunk - loaded) > cap
     moved = loaded + max(-cap, min(cap, shrunk - loaded))
-    return round(min(1.0, max(LOWEST_WEIGHT, moved)), 2), capped
+    return round(min(1.0, max(lowest, moved)), 2), capped
 
 
 def _raw_rule(rule: Rule) -> dict:
@@ -253,17 +319,21 @@ def _raw_rule(rule: Rule) -> dict:
     raise RulebookError(f"rule {rule.id} is no longer in its file", path=str(rule.path))
 
 
-def _with_weight(raw: dict, weight: float, source: str) -> dict:
+def _with_weight(raw: dict, weight: float | None, source: str, record: RuleRecord) -> dict:
+    """The rule restated with the learned ``weight`` (None: its own), the counts as its source and its
+    ``site_record`` (confirmed k of n judged), which a diagnosis made with the overlay shows in its trail."""
     out = {"id": raw["id"], "overrides": True}
-    out.update((key, value) for key, value in raw.items() if key not in ("id", "overrides"))
+    out.update((key, value) for key, value in raw.items() if key not in ("id", "overrides", "site_record"))
     out["source"] = source
-    spec = raw["certainty"]
-    out["certainty"] = {**spec, "weight": weight} if isinstance(spec, dict) else weight
+    out["site_record"] = {"confirmed": record.k, "judged": record.n}
+    if weight is not None:
+        spec = raw["certainty"]
+        out["certainty"] = {**spec, "weight": weight} if isinstance(spec, dict) else weight
     return out
 
 
-def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, prior_n: float = PRIOR_N,
-                    cap: float = MOVE_CAP, least_n: int = LEAST_N,
+def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, prior_n: float | None = None,
+                    cap: float | None = None, least_n: int | None = None,
                     name: str = "learned from site findings") -> Proposal:
     """A site overlay moving each supporting rule's weight toward its hit rate at the site.
 
@@ -272,6 +342,10 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
     longer has, an opposing rule, a rule that derives a fact and a rule concluding a reading problem
     are not learned: findings at repair judge machine faults only.
     """
+    given = settings(rulebook)          # the rulebook's learning_* parameters, unless stated here
+    prior_n = given.prior_n if prior_n is None else prior_n
+    cap = given.cap if cap is None else cap
+    least_n = given.least_n if least_n is None else least_n
     if prior_n <= 0 or cap <= 0 or least_n < 1:
         raise ValueError("prior_n and cap must be positive and least_n at least 1")
     loaded = {r.id: r for r in rulebook.rules}
@@ -288,7 +362,7 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
         if any(rulebook.faults[f].withholds_diagnosis or rulebook.faults[f].family == "reading" for f in faults):
             not_learned.append((record.rule_id, "concludes a reading problem, which repair does not judge"))
             continue
-        if rule.weight <= LOWEST_WEIGHT:
+        if rule.weight <= given.lowest_weight:
             # the damage-stage rules and corroboration from another sensor: they grade or nudge a diagnosis
             # other rules make, so a repair's finding does not judge their weight
             not_learned.append((record.rule_id, "a nudge at the lowest weight, not a diagnosis of its own"))
@@ -296,7 +370,7 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
         if record.n < least_n:
             too_little.append(record)
             continue
-        weight, capped = learned_weight(rule.weight, record, prior_n, cap)
+        weight, capped = learned_weight(rule.weight, record, prior_n, cap, given.lowest_weight)
         if weight == round(rule.weight, 2):
             unchanged.append(record)
         else:
@@ -330,15 +404,18 @@ def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, 
         head += [f"#   {_one_line(rule_id)}: {why}" for rule_id, why in not_learned]
     rules = []
     raw_of: dict[str, dict] = {}
-    for c in changes:
-        rule = loaded[c.rule_id]
-        held = f", move capped at {cap:g}" if c.capped else ""
-        source = (f"site findings: {record_words(c.record)}; weight {c.loaded_weight:g} -> {c.learned_weight:g}"
-                  f" (prior worth {prior_n:g} findings{held});"
-                  f" rule as in {rule.origin}: {rule.source}")
+    restated = [(c.rule_id, c.record, c) for c in changes] + [(r.rule_id, r, None) for r in unchanged]
+    for rule_id, record, c in sorted(restated, key=lambda item: item[0]):
+        rule = loaded[rule_id]
+        if c is None:
+            moved = f"weight {rule.weight:g} kept (prior worth {prior_n:g} findings)"
+        else:
+            held = f", move capped at {cap:g}" if c.capped else ""
+            moved = f"weight {c.loaded_weight:g} -> {c.learned_weight:g} (prior worth {prior_n:g} findings{held})"
+        source = f"site findings: {record_words(record)}; {moved}; rule as in {rule.origin}: {rule.source}"
         if rule.id not in raw_of:
             raw_of[rule.id] = _raw_rule(rule)
-        rules.append(_with_weight(raw_of[rule.id], c.learned_weight, source))
+        rules.append(_with_weight(raw_of[rule.id], None if c is None else c.learned_weight, source, record))
     body: dict = {"rulebook": name,
                   "about": "Rule weights learned from what was found at repair at this site."}
     if rules:

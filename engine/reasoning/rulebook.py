@@ -146,6 +146,7 @@ class Rule:
     replaced: tuple[str, ...] = ()   # files whose rule of this id this one overrides (as labelled)
     label: str = ""                  # the file as reports name it (see ``rulebook_labels``)
     explains: tuple[str, ...] = ()   # aliases of the needed facts whose signs the conclusion explains
+    site_record: tuple[int, int] | None = None   # (confirmed, judged) at repair at the site (tellwave learn)
 
     @property
     def origin(self) -> str:
@@ -637,6 +638,16 @@ class _RuleChecker:
             return self.ref(v, *where)
         return v
 
+    def site_record(self) -> tuple[int, int] | None:
+        """(confirmed, judged) of ``site_record:`` (the schema holds both to whole numbers)."""
+        record = self.raw.get("site_record")
+        if record is None:
+            return None
+        if record["confirmed"] > record["judged"]:
+            self.fail(f"site_record: confirmed {record['confirmed']} of {record['judged']} judged; a rule cannot be "
+                      "confirmed more often than it was judged", "site_record")
+        return record["confirmed"], record["judged"]
+
     def build(self) -> Rule:
         needs = tuple(self.pattern(p, "needs", j, False) for j, p in enumerate(self.raw["needs"]))
         none_of = tuple(self.pattern(p, "none_of", j, True) for j, p in enumerate(self.raw.get("none_of") or []))
@@ -645,7 +656,7 @@ class _RuleChecker:
         common = dict(id=self.raw["id"], title=self.raw["title"], source=self.raw["source"], needs=needs,
                       none_of=none_of, weight=weight, ramps=ramps, because=because, path=self.doc.path,
                       line=self.doc.line_of(["rules", self.index]), placeholders=placeholders,
-                      explains=self.explains(needs))
+                      explains=self.explains(needs), site_record=self.site_record())
         if "concludes" in self.raw:
             c = self.raw["concludes"]
             fault = c["fault"]

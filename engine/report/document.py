@@ -35,6 +35,10 @@ def _firing(f: Firing) -> dict:
            "facts": [_fact(a, x) for a, x in f.facts]}
     if f.raw_certainty is not None:      # explaining away took part of its signs
         out |= {"raw_certainty": round(f.raw_certainty, 3), "kept": round(f.kept, 3)}
+    if f.site_record is not None:        # a learned overlay's rule: what repairs at the site found
+        k, n = f.site_record
+        out["site_record"] = {"confirmed": k, "judged": n,
+                              "words": f"at this site this rule was confirmed {k} of {n} times"}
     return out
 
 

@@ -50,6 +50,7 @@ KINDS = {
     "plan": Kind("plan", "plan/plan"),
     "route": Kind("route summary", "route/summary"),
     "trend": Kind("trend", "trend/trend"),
+    "learning": Kind("learning report", "learning/learning"),
     "demo": Kind("demo index", "demo/index", ("html",)),
 }
 FORMATS = {fmt: KINDS["diagnosis"].template(fmt) for fmt in KINDS["diagnosis"].formats}

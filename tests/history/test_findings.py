@@ -26,8 +26,9 @@ def at_point(n: int, point: str, when: str) -> dict:
 
 def test_a_store_of_the_previous_schema_migrates_and_keeps_its_readings(tmp_path):
     path = tmp_path / "h.sqlite"
-    with Store(path, migrate_to=SCHEMA_VERSION - 1) as old:
-        rid = old.add(record(1))
+    with Store(path, migrate_to=4) as old:      # schema 5 added the findings
+        rid = old.db.execute("INSERT INTO readings (content_hash, machine, source, taken_at, time_from, stored_at)"
+                             " VALUES ('h1', ?, 'r1.wav', '2026-01-12T08:30:00', 'route', 'now')", (PUMP,)).lastrowid
         assert "findings" not in [r[0] for r in old.db.execute("SELECT name FROM sqlite_master")]
     with Store(path) as new:
         assert new.version == SCHEMA_VERSION

@@ -20,6 +20,7 @@ from engine.history.store import Store
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.pipeline.cases import case_files, describe, judge, load_case, reading_of, simulation_of
+from engine.pipeline.learning import learning_document
 from engine.planner import build_plan, given_settings, load_policy
 from engine.reasoning import Reasoner, load_rulebook
 from engine.report import KINDS, render
@@ -151,7 +152,12 @@ def documents(tmp_path_factory):
         later = document_of(d, made_at=MADE_AT)
         assert link.doc is not None, "the store's earlier readings give the diagnosis a trend"
         later["trend"] = link.doc
+        for i, r in enumerate(store.readings()[:4]):        # findings at repair (invented) for the learning report
+            store.add_finding({"reading_id": r["id"], "component": "pump_de", "fault": "nothing-found" if i % 2 else
+                               "outer-race", "found_on": "2026-06-01"})
     diagnoses.append(later)
+    learning = learning_document(folder / "h.sqlite", diagram=True, made_at=MADE_AT)
+    assert learning["findings"] == 4 and learning["rules"]
 
     policy = load_policy()
     ct1 = load_machine(CASES / "machines" / "ct1-cooling-tower-fan.yaml")
@@ -159,7 +165,8 @@ def documents(tmp_path_factory):
                         with_proof=False, with_figures=True),
              build_plan(load_machine(PUMP), policy, with_proof=False)]
     assert summary["failures"] and trend["points"]
-    return {"diagnosis": diagnoses, "plan": plans, "route": [summary], "trend": [trend], "demo": [{"cases": index}]}
+    return {"diagnosis": diagnoses, "plan": plans, "route": [summary], "trend": [trend], "demo": [{"cases": index}],
+            "learning": [learning]}
 
 
 CASES_OF_KINDS = [(kind, fmt) for kind, k in KINDS.items() for fmt in (*k.formats, "json")]
