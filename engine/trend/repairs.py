@@ -119,7 +119,8 @@ def repairs_of(findings: list[dict], machine_files: dict[int, str | None], fault
             entry["points"].update(seen)
     out = []
     for (found_on, component, fault, stage, work_order, notes), e in merged.items():
-        out.append(Repair(found_on, component, fault, fault_names.get(fault, OWN_NAMES.get(fault, fault)), stage, work_order, notes,
+        name = fault_names.get(fault, OWN_NAMES.get(fault, fault))
+        out.append(Repair(found_on, component, fault, name, stage, work_order, notes,
                           tuple(sorted(set(e["judged"]))), None if e["unknown"] else tuple(sorted(e["points"]))))
     out.sort(key=lambda r: (r.found_on, r.component, r.fault))
     return out

@@ -233,8 +233,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                  "reset": None if reset is None else {
                      "found_on": reset.found_on, "component": reset.component, "fault": reset.fault,
                      "fault_name": reset.fault_name, "work_order": reset.work_order,
-                     "from": reset.after.isoformat(), "readings_before": len(ref) - (0 if since is None else len(since)),
-                     "readings_after": 0 if since is None else len(since),
+                     "from": reset.after.isoformat(), "readings_after": 0 if since is None else len(since),
+                     "readings_before": len(ref) - (0 if since is None else len(since)),
                      "every_point": reset.points is None}}
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)])
