@@ -157,3 +157,22 @@ def test_which_points_see_a_component(component, points):
     # the demo pump's own machine file (invented plant data) names the points and where they sit
     seen = points_seeing(load_machine(PUMP_FILE), component)
     assert (None if seen is None else tuple(sorted(seen))) == points
+
+
+def test_a_diagnosis_with_the_store_trends_from_the_repair_on(store, tmp_path, capsys):
+    import shutil
+    copy = tmp_path / "copy.sqlite"
+    shutil.copy(store, copy)                      # diagnose --store adds its reading: not to the shared store
+    sim = simulate(load_machine(PUMP_FILE), "healthy", None, 2, fs_hz=12800.0, duration_s=1.0, seed=99,
+                   points=["P1H", "P2H"])
+    write_simulation(sim, tmp_path / "now.wav")
+    capsys.readouterr()
+    code = main(["diagnose", str(tmp_path / "now.wav"), "--machine", str(PUMP_FILE), "--store", str(copy),
+                 "--taken-at", "2026-09-10T08:00:00", "--format", "json"])
+    assert code in (0, 7)
+    doc = json.loads(capsys.readouterr().out)
+    points = {p["point"]: p for p in doc["trend"]["points"]}
+    assert points["P1H"]["reset"]["found_on"] == REPAIRED and points["P1H"]["reset"]["readings_after"] == 5
+    assert points["P2H"]["reset"] is None and points["P2H"]["readings"] == 9
+    assert [f["found_on"] for f in points["P1H"]["findings"]] == [REPAIRED, "2026-06-12"]
+    jsonschema.validate(doc, load_schema("report.schema.json"))
