@@ -35,7 +35,8 @@ def run(args) -> int:
     from ..common.outfile import known_inputs
     from ..report import render, write_atomically
     from ..route import load_folder, load_route, route_summary, run_route, summary_paths
-    from ..route.runner import check_outputs
+    from ..route.runner import check_outputs, trend_paths
+    from ..trend import trend_document
     from ._common import input_files
     from ._store import open_store
 
@@ -65,6 +66,11 @@ def run(args) -> int:
                   "again to resume", file=sys.stderr)
             return 130
         doc = route_summary(outcome, store, out)
+        pages = trend_paths(route, out)
+        for m in doc["machines"]:        # each machine's trend page, which the summary links to
+            if m["machine"] in pages:
+                trend = trend_document(store, m["machine"], plots=True)
+                write_atomically(pages[m["machine"]], render(trend, "html", "trend"), inputs)
     for fmt, path in summary_paths(out).items():
         write_atomically(path, render(doc, fmt, "route"), inputs)
     if not args.quiet:

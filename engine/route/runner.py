@@ -55,6 +55,20 @@ def summary_paths(out_dir) -> dict[str, Path]:
     return {fmt: Path(out_dir) / f"summary.{ext}" for fmt, ext in EXTENSIONS.items()}
 
 
+def trend_paths(route: Route, out_dir) -> dict[str, Path]:
+    """machine name -> its trend page, ``trends/MACHINE.html`` (linked from the summary)."""
+    paths: dict[str, Path] = {}
+    used: set[str] = set()
+    for name in sorted(set(_machine_names(route).values())):
+        stem, k = slug(name), 1
+        while stem in used:
+            k += 1
+            stem = f"{slug(name)}-{k}"
+        used.add(stem)
+        paths[name] = Path(out_dir) / "trends" / f"{stem}.html"
+    return paths
+
+
 def _machine_names(route: Route) -> dict[str, str]:
     """machine file -> the machine's name (its file's stem when the file does not load: that task fails)."""
     from ..common.errors import TellwaveError
@@ -215,12 +229,12 @@ def _dask(tasks, settings, scheduler, outcome):
 
 
 def check_outputs(route, out_dir, fmt: str, inputs) -> dict:
-    """Every file a route will write (each reading's report, the summaries), checked against what it
+    """Every file a route will write (each reading's report, the summaries, the trend pages), checked against what it
     reads before anything is opened or diagnosed; the reports' paths by task index."""
     from ..common.outfile import check_target
 
     reports = report_paths(route, Path(out_dir), fmt)
-    for path in [*reports.values(), *summary_paths(Path(out_dir)).values()]:
+    for path in [*reports.values(), *summary_paths(Path(out_dir)).values(), *trend_paths(route, out_dir).values()]:
         check_target(path, inputs)
     return reports
 

@@ -3,8 +3,9 @@
 Machines are ranked by urgency (most urgent first), then by ISO 20816-3
 zone (D first), then by the certainty of their top finding. Each carries its
 top finding, the change of its overall velocity since the last survey
-before this route (from the history store) and links to its readings'
-reports. The summary reads the store, so skipped readings (already stored
+before this route (from the history store) at the point that sees the top
+finding's component, or else at the point that changed most, and links to
+its readings' reports and to its trend page. The summary reads the store, so skipped readings (already stored
 by an earlier run) appear exactly as freshly diagnosed ones.
 """
 
@@ -13,11 +14,12 @@ from __future__ import annotations
 import os
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any
+
+import numpy as np
 
 from .. import __version__
 from ..history.store import Store
-from .runner import RouteOutcome
+from .runner import RouteOutcome, trend_paths
 
 ZONE_ORDER = {"D": 0, "C": 1, "B": 2, "A": 3, None: 4}
 
@@ -38,8 +40,25 @@ def _velocity_by_point(rows: list[dict]) -> dict[str, tuple[str, float]]:
     return out
 
 
-def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
-    """The largest change of overall velocity at a point since the last survey before this route."""
+def _points_of_top(machine_file: str | None, component: str | None) -> tuple[str, ...] | None:
+    """The points that see the top finding's component, from the machine file (None: not known)."""
+    from ..common.errors import TellwaveError
+    from ..machine import load_machine
+    from ..trend.repairs import points_seeing
+
+    if not machine_file or not component:
+        return None
+    try:
+        return points_seeing(load_machine(machine_file), component)
+    except TellwaveError:
+        return None
+
+
+def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple[str, ...] | None = None
+            ) -> dict | None:
+    """The change of overall velocity since the last survey before this route, at the point that sees the
+    top finding's component (``top_points``; the one of them that changed most), else at the point whose
+    velocity changed most in relative terms (a faulty point's rise, not a large point's scatter)."""
     rows = store.history(machine)
     now_rows = [r for r in rows if r["id"] in reading_ids]
     if not now_rows:
@@ -49,17 +68,22 @@ def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
     if not before:
         return None
     then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
-    best: dict[str, Any] | None = None
+    items = []
     for point, (_t_now, v_now) in now.items():
         if point in then:
             t_then, v_then = then[point]
             pct = 100.0 * (v_now - v_then) / v_then if v_then > 0 else None
-            item = {"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
-                    "change_pct": None if pct is None else round(pct, 1)}
-            if best is None or abs(v_now - v_then) > abs(best["now_mm_s"] - best["then_mm_s"]):
-                best = item
-    if best is None:
+            items.append({"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
+                          "change_pct": None if pct is None else round(pct, 1)})
+    if not items:
         return None
+    seeing = [x for x in items if top_points and x["point"] in top_points]
+
+    def size(x):          # a relative change (the ratio's log), so a low-level faulty point is not outranked
+        return abs(np.log(max(x["now_mm_s"], 1e-6) / max(x["then_mm_s"], 1e-6)))
+    best = max(seeing or items, key=size)
+    best["chosen"] = ("the point at the top finding's component" if seeing
+                      else "the point whose velocity changed most")
     prev = store.previous(machine, first_now)
     best["top_then"] = None
     if prev is not None:
@@ -72,6 +96,7 @@ def _change(store: Store, machine: str, reading_ids: set[int]) -> dict | None:
 def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
     """The summary document of a finished (or resumed) route."""
     out_dir = Path(out_dir).resolve()
+    pages = trend_paths(outcome.route, out_dir)
     urgencies = _urgencies()
     rows, listed = [], set()
     for t in outcome.route.tasks:
@@ -99,7 +124,8 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
                 "top": None if tops is None else {"fault": tops["fault"], "fault_name": tops["fault_name"],
                                                   "component": tops["component"],
                                                   "certainty_pct": _pct(tops["certainty"])}}
-        machines.setdefault(r["machine"], {"machine": r["machine"], "readings": []})["readings"].append(item)
+        machines.setdefault(r["machine"], {"machine": r["machine"], "readings": [],
+                                           "_machine_file": r["machine_file"]})["readings"].append(item)
     ranked = []
     for m in machines.values():
         m["readings"].sort(key=lambda x: (x["urgency"]["rank"], ZONE_ORDER.get(x["zone"], 4), -x["certainty_pct"]))
@@ -110,7 +136,9 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         m["summary"] = worst["summary"]
         m["certainty_pct"] = worst["certainty_pct"]
         m["scale_not_trusted"] = sorted({p for x in m["readings"] for p in x["scale_not_trusted"]})
-        m["change"] = _change(store, m["machine"], {x["_id"] for x in m["readings"]})
+        top_points = _points_of_top(m.pop("_machine_file"), (m["top"] or {}).get("component"))
+        m["change"] = _change(store, m["machine"], {x["_id"] for x in m["readings"]}, top_points)
+        m["trend_page"] = (os.path.relpath(pages[m["machine"]], out_dir) if m["machine"] in pages else None)
         for x in m["readings"]:
             del x["_id"]
         ranked.append(m)

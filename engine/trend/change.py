@@ -4,12 +4,17 @@ ISO 20816-3 judges a machine twice: by the zone of its level, and by a
 change of its level against its own normal (steady-state) value. A change
 greater than 25 % of the zone B/C boundary is significant even while the
 level stays in zone B (ISO 20816-3:2022, evaluation criterion II; from
-memory). The baseline here is the median of the first readings stored.
+memory). The baseline here is the median of the first readings stored, and
+never includes the latest reading (the one judged against it). A percent
+change is given only from ``param.trend_change_min_readings`` readings on
+(rulebooks/parameters.yaml); a quantity in dB over a floor gets its dB
+difference instead, since a percent of a logarithm means nothing.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cache
 
 import numpy as np
 
@@ -19,36 +24,60 @@ ISO_CHANGE_FRACTION_OF_BC = 0.25   # ISO 20816-3:2022 criterion II (from memory)
 BASELINE_MIN, BASELINE_MAX = 3, 10
 
 
+@cache
+def min_change_readings() -> int:
+    """Readings a series needs before a percent change is given (``param.trend_change_min_readings``)."""
+    from ..reasoning import load_rulebook
+
+    return int(load_rulebook().parameters["trend_change_min_readings"].value)
+
+
+def is_db(indicator: str) -> bool:
+    """Whether an indicator is in dB (its name ends in ``_db``): a difference, never a percent."""
+    return indicator.endswith("_db")
+
+
 def baseline_count(n: int) -> int:
-    """How many of the first readings form the baseline: 3, or a quarter of a long history, at most 10."""
-    return max(1, min(n, max(BASELINE_MIN, min(BASELINE_MAX, n // 4))))
+    """How many of the first readings form the baseline: 3, or a quarter of a long history, at most 10,
+    and never the latest (0 for a single reading: it has no baseline)."""
+    return max(0, min(n - 1, max(BASELINE_MIN, min(BASELINE_MAX, n // 4))))
 
 
-def baseline(values: np.ndarray) -> float:
-    """The machine's own baseline: the median of the first readings of a series."""
-    return float(np.median(values[:baseline_count(len(values))]))
+def baseline(values: np.ndarray) -> float | None:
+    """The machine's own baseline: the median of the first readings of a series (None for one reading)."""
+    k = baseline_count(len(values))
+    return float(np.median(values[:k])) if k else None
 
 
 @dataclass(frozen=True)
 class Change:
     """A series' change from its baseline to its latest reading, and its rate per month."""
-    baseline: float
+    baseline: float | None
     latest: float
-    change: float             # latest - baseline, in the indicator's unit
-    change_pct: float | None  # of the baseline
+    change: float | None      # latest - baseline, in the indicator's unit (dB for dB quantities)
+    change_pct: float | None  # of the baseline; None for dB, too few readings or a baseline at zero
     rate_per_month: float | None
     readings: int
+    baseline_readings: int = 0
 
 
-def change_of(s: Series, since: int = 0) -> Change:
-    """Latest against baseline; the rate is the least-squares slope from reading ``since`` on."""
+def change_of(s: Series, since: int = 0, min_readings: int | None = None) -> Change:
+    """Latest against baseline; the rate is the least-squares slope from reading ``since`` on.
+
+    ``min_readings``: readings needed for a percent change (default ``min_change_readings()``).
+    """
+    need = min_change_readings() if min_readings is None else min_readings
     base = baseline(s.values)
     latest = float(s.values[-1])
     rate = None
     days = s.days[since:]
     if len(days) >= 2 and days[-1] > days[0]:
         rate = float(np.polyfit(days, s.values[since:], 1)[0] * DAYS_PER_MONTH)
-    return Change(base, latest, latest - base, 100.0 * (latest - base) / base if base > 0 else None, rate, len(s))
+    change = None if base is None else latest - base
+    pct = None
+    if change is not None and base is not None and base > 0 and len(s) >= need and not is_db(s.indicator):
+        pct = 100.0 * change / base
+    return Change(base, latest, change, pct, rate, len(s), baseline_count(len(s)))
 
 
 @dataclass(frozen=True)
@@ -61,7 +90,10 @@ class IsoChange:
     bc_mm_s: float
 
 
-def iso_change(velocity: Change, bc_mm_s: float) -> IsoChange:
-    """ISO 20816-3 criterion II on overall velocity: |change| > 25 % of the B/C boundary."""
+def iso_change(velocity: Change, bc_mm_s: float) -> IsoChange | None:
+    """ISO 20816-3 criterion II on overall velocity: |change| > 25 % of the B/C boundary (None
+    without a baseline)."""
+    if velocity.change is None:
+        return None
     limit = ISO_CHANGE_FRACTION_OF_BC * bc_mm_s
     return IsoChange(limit, velocity.change, abs(velocity.change) > limit, bc_mm_s)

@@ -4,14 +4,17 @@ the report, and the reading stored afterwards (``tellwave diagnose --store``).
 The history before this reading plus this reading's own indicators make the
 trend; its ``trend`` facts go to reasoning with the evidence facts, and its
 document (with the plot of each point when asked) goes into the report under
-``trend``, which the templates show only when present.
+``trend``, which the templates show only when present. Findings recorded before this
+reading's day show there too, and a repair resets the baseline of the points that see
+its component (``repairs``).
 """
 
 from __future__ import annotations
 
 from ..history.record import indicators_of, is_level
 from .facts import trend_facts
-from .report import trend_from_rows
+from .repairs import repairs_of
+from .report import fault_names, trend_from_rows
 
 
 class HistoryLink:
@@ -46,7 +49,9 @@ class HistoryLink:
                 "direction": c["direction"], "location": c["location"], "zone": None,
                 "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}
                for c in channels]
-        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots)
+        found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
+        repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
+        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
         return trend_facts(doc)

@@ -8,12 +8,14 @@ never from numbers copied here.
 from __future__ import annotations
 
 from datetime import UTC, datetime, timedelta
+from functools import cache
 
 import numpy as np
 
 from .. import __version__
-from .change import change_of, iso_change
+from .change import change_of, is_db, iso_change, min_change_readings
 from .projection import Projection, project
+from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
@@ -28,8 +30,22 @@ def growth_of(indicator: str) -> str:
     return "auto"
 
 
+# the most parameters a projection's model has (the exponential y = phi + theta exp(b t)): a fit needs
+# more readings than that, or it passes through its points and its interval means nothing
+MODEL_PARAMETERS = 3
+MIN_PROJECTION_READINGS = MODEL_PARAMETERS + 1
+
+
 def _round(x, digits=4):
     return None if x is None or not np.isfinite(x) else round(float(x), digits)
+
+
+def _exact(x):
+    return None if x is None or not np.isfinite(x) else float(x)
+
+
+def _seconds(d):
+    return None if d is None or not np.isfinite(d) else float(d) * 86400.0
 
 
 def _projection(p: Projection, s: Series) -> dict:
@@ -38,10 +54,38 @@ def _projection(p: Projection, s: Series) -> dict:
     def when(d):
         return None if d is None else (last + timedelta(days=float(d))).isoformat(timespec="minutes")
     return {"indicator": s.indicator, "label": s.label, "limit": p.limit, "limit_label": p.limit_label,
-            "projected": p.projected, "days": _round(p.days, 2), "low_days": _round(p.low_days, 2),
-            "high_days": _round(p.high_days, 2), "date": when(p.days), "low_date": when(p.low_days),
+            "projected": p.projected, "days": _exact(p.days), "low_days": _exact(p.low_days),
+            "high_days": _exact(p.high_days), "seconds": _seconds(p.days), "low_seconds": _seconds(p.low_days),
+            "high_seconds": _seconds(p.high_days), "date": when(p.days), "low_date": when(p.low_days),
             "high_date": when(p.high_days), "method": p.method, "reason": p.reason,
             "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
+
+
+def _project(s: Series, limit: float, label: str, growth: str) -> Projection:
+    """``project`` with the guard that a fit has more readings than its model's parameters."""
+    def too_few(n, what):
+        return Projection(limit, label, None, None, None, "too few readings",
+                          f"{n} reading(s) {what}; a fit needs more readings than the {MODEL_PARAMETERS} "
+                          f"parameters of its model (at least {MIN_PROJECTION_READINGS})")
+    n = len(s)
+    if n < MIN_PROJECTION_READINGS and not (n and s.values[-1] >= limit):
+        return too_few(n, "in the trend")
+    p = project(s.days, s.values, limit, label, growth)
+    if p.projected and p.method != "reached" and p.onset_index is not None \
+            and n - p.onset_index < MIN_PROJECTION_READINGS:
+        return too_few(n - p.onset_index, "since the rise began")
+    return p
+
+
+def _since(s: Series, after) -> Series:
+    """The part of ``s`` taken at or after ``after`` (a datetime)."""
+    keep = [i for i, t in enumerate(s.times) if _naive(t) >= after]
+    return Series(s.machine, s.point, s.indicator, tuple(s.times[i] for i in keep), s.values[keep],
+                  tuple(s.reading_ids[i] for i in keep))
+
+
+def _naive(t):
+    return t.replace(tzinfo=None) if t.tzinfo is not None else t
 
 
 def _next_boundary(v: float, scale) -> tuple[float, str] | None:
@@ -51,105 +95,160 @@ def _next_boundary(v: float, scale) -> tuple[float, str] | None:
     return None
 
 
-def _plots(by_name: dict[str, Series], scale, projections: dict[str, Projection], point: str) -> list[dict]:
-    from ..report.svg import Level, Plot, render
+BEFORE_REPAIR_COLOR = "#9a9a9a"     # readings of the machine before a repair: shown, not used
+
+
+def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projections: dict[str, Projection],
+           point: str, repairs: list[Repair]) -> list[dict]:
+    """The plots of one point: every reading (those before a repair in grey), the fitted curves over
+    the readings used, and a marker at the date of each finding that sees the point."""
+    from ..report.svg import Level, Mark, Plot, render
     from ..report.svg import Series as Trace
 
     first = min(s.times[0] for s in by_name.values())
+    base = _naive(first)
+
+    def at(t) -> float:
+        return (_naive(t) - base).total_seconds() / 86400.0
 
     def days(s: Series):
-        return np.array([(t - first).total_seconds() / 86400.0 for t in s.times])
+        return np.array([at(t) for t in s.times])
 
+    marks = [Mark(at(r.after), f"found {r.found_on}: {r.fault_name} on {r.component}", strong=r.resets)
+             for r in repairs]
+    last = max(at(s.times[-1]) for s in by_name.values())
+    xlim = (0.0, max(last, *(m.x for m in marks)) * 1.02 or 1.0) if marks else None
     xlabel = f"days since {first:%Y-%m-%d %H:%M}"
     plots = []
 
+    def traces(name, color="#1a1a1a", width=0.8):
+        """The readings used in ``color``, and those before the repair in grey."""
+        s, u = by_name[name], used.get(name)
+        out = []
+        kept = set(u.reading_ids) if u is not None else set()
+        old = [i for i, rid in enumerate(s.reading_ids) if rid not in kept]
+        if old:
+            out.append(Trace(days(s)[old], s.values[old], color=BEFORE_REPAIR_COLOR, points=True, width=width))
+        if u is not None and len(u):
+            out.append(Trace(days(u), u.values, color=color, points=True, width=width))
+        return out
+
     def fitted(name, color="#8a2d2a"):
         p = projections.get(name)
-        if p is None or not p.fit_days:
+        if p is None or not p.fit_days or name not in used:
             return []
-        s = by_name[name]
-        shift = (s.times[0] - first).total_seconds() / 86400.0
+        shift = at(used[name].times[0])
         return [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0)]
 
+    def plot(title, ylabel, series, levels=()):
+        return Plot(title, xlabel, ylabel, series=series, levels=list(levels), marks=marks, xlim=xlim)
+
     if "velocity_rms_mm_s" in by_name:
-        s = by_name["velocity_rms_mm_s"]
-        plots.append(Plot(f"{point}: overall velocity", xlabel, "mm/s RMS",
-                          series=[Trace(days(s), s.values, points=True, width=1.2)] + fitted(s.indicator),
-                          levels=[Level(scale.ab, "A/B"), Level(scale.bc, "B/C"), Level(scale.cd, "C/D")]))
+        plots.append(plot(f"{point}: overall velocity", "mm/s RMS",
+                          traces("velocity_rms_mm_s", width=1.2) + fitted("velocity_rms_mm_s"),
+                          [Level(scale.ab, "A/B"), Level(scale.bc, "B/C"), Level(scale.cd, "C/D")]))
     acc = [(n, c) for n, c in (("accel_peak_g", "#1a1a1a"), ("accel_rms_g", "#2a5d8a")) if n in by_name]
     if acc:
         limits = [Level(p.limit, p.limit_label) for n, _ in acc for k, p in projections.items() if k == n
                   and p.limit_label.startswith("limit")]
-        plots.append(Plot(f"{point}: acceleration peak (black) and RMS (blue)", xlabel, "g",
-                          series=[Trace(days(by_name[n]), by_name[n].values, color=c, points=True, width=1.2)
-                                  for n, c in acc] + fitted("accel_peak_g"), levels=limits))
+        plots.append(plot(f"{point}: acceleration peak (black) and RMS (blue)", "g",
+                          [t for n, c in acc for t in traces(n, c, 1.2)] + fitted("accel_peak_g"), limits))
     if "kurtosis" in by_name:
-        s = by_name["kurtosis"]
-        plots.append(Plot(f"{point}: kurtosis", xlabel, "kurtosis", series=[Trace(days(s), s.values, points=True)],
-                          levels=[Level(3.0, "Gaussian (3)")]))
+        plots.append(plot(f"{point}: kurtosis", "kurtosis", traces("kurtosis"), [Level(3.0, "Gaussian (3)")]))
     tones = [n for n in sorted(by_name) if n.startswith("env_")]
     if tones:
         colors = ("#1a1a1a", "#2a5d8a", "#8a2d2a", "#4a7a2a")
-        plots.append(Plot(f"{point}: bearing tones in the squared envelope spectrum "
+        plots.append(plot(f"{point}: bearing tones in the squared envelope spectrum "
                           + ", ".join(f"{n[4:-3]} ({colors[i % 4]})" for i, n in enumerate(tones)),
-                          xlabel, "dB over floor",
-                          series=[Trace(days(by_name[n]), by_name[n].values, color=colors[i % 4], points=True)
-                                  for i, n in enumerate(tones)]))
+                          "dB over floor", [t for i, n in enumerate(tones) for t in traces(n, colors[i % 4])]))
     return [{"title": p.title, "svg": render(p)} for p in plots]
 
 
+def _indicator(name: str, s: Series, u: Series | None) -> dict:
+    """One indicator of a point: baseline, latest, change and rate over the readings used (``u``)."""
+    before = len(s) - (0 if u is None else len(u))
+    entry: dict = {"name": name, "label": s.label, "readings": 0 if u is None else len(u),
+                   "readings_before_repair": before,
+                   "last_before_repair": _round(float(s.values[before - 1])) if before else None,
+                   "baseline": None, "baseline_readings": 0, "latest": None, "change": None, "change_pct": None,
+                   "change_db": None, "rate_per_month": None, "unit": "dB" if is_db(name) else ""}
+    if u is None or not len(u):
+        return entry
+    c = change_of(u)
+    entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
+                 change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_round(c.rate_per_month),
+                 change_db=_round(c.change, 2) if is_db(name) else None)
+    return entry
+
+
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
-                    point: str | None = None, plots: bool = False) -> dict:
-    """The trend document of ``machine`` from ``Store.history`` rows (oldest first)."""
+                    point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None) -> dict:
+    """The trend document of ``machine`` from ``Store.history`` rows (oldest first).
+
+    ``repairs``: the machine's findings (``repairs.repairs_of``); each is shown beside the points that
+    see its component, and one with a fault found resets their baseline to the readings after its day.
+    """
+    from ..advice import zone_of
+
     limits = limits or {}
+    repairs = repairs or []
     by_point = series_by_point(rows, machine)
     if point is not None:
         by_point = {k: v for k, v in by_point.items() if k == point}
     points = []
     for pt, by_name in sorted(by_point.items()):
         direction = next((r["direction"] for r in rows if (r["point"] or r["channel"]) == pt), "")
+        reset = reset_of(repairs, pt)
+        used = {n: _since(s, reset.after) for n, s in by_name.items()} if reset else dict(by_name)
+        used = {n: u for n, u in used.items() if len(u)}
         indicators, projections = [], {}
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
-            if name not in by_name:
-                continue
-            s = by_name[name]
-            c = change_of(s)
-            indicators.append({"name": name, "label": s.label, "readings": len(s), "baseline": _round(c.baseline),
-                               "latest": _round(c.latest), "change": _round(c.change),
-                               "change_pct": _round(c.change_pct, 1), "rate_per_month": _round(c.rate_per_month)})
+            if name in by_name:
+                indicators.append(_indicator(name, by_name[name], used.get(name)))
         iso = None
-        if "velocity_rms_mm_s" in by_name:
-            s = by_name["velocity_rms_mm_s"]
+        if "velocity_rms_mm_s" in used:
+            s = used["velocity_rms_mm_s"]
             c = change_of(s)
             ic = iso_change(c, scale.bc)
-            from ..advice import zone_of
-            iso = {"baseline_mm_s": _round(c.baseline, 3), "latest_mm_s": _round(c.latest, 3),
-                   "change_mm_s": _round(ic.change_mm_s, 3), "criterion_mm_s": _round(ic.criterion_mm_s, 3),
-                   "bc_mm_s": scale.bc, "significant": ic.significant, "zone": zone_of(c.latest, scale),
-                   "baseline_zone": zone_of(c.baseline, scale)}
+            if ic is not None and c.baseline is not None:
+                iso = {"baseline_mm_s": _round(c.baseline, 3), "latest_mm_s": _round(c.latest, 3),
+                       "change_mm_s": _round(ic.change_mm_s, 3), "criterion_mm_s": _round(ic.criterion_mm_s, 3),
+                       "bc_mm_s": scale.bc, "significant": ic.significant, "zone": zone_of(c.latest, scale),
+                       "baseline_zone": zone_of(c.baseline, scale)}
             target = _next_boundary(c.latest, scale)
             if target is not None:
-                projections[s.indicator] = project(s.days, s.values, target[0], target[1], growth_of(s.indicator))
+                projections[s.indicator] = _project(s, target[0], target[1], growth_of(s.indicator))
         for name, limit in limits.items():
-            if name in by_name:
-                s = by_name[name]
+            if name in used:
+                s = used[name]
                 key = name if name not in projections else f"{name}@limit"
-                projections[key] = project(s.days, s.values, limit, f"limit {name} = {limit:g}", growth_of(name))
+                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", growth_of(name))
         ref = next(iter(by_name.values()))
+        since = used[ref.indicator] if ref.indicator in used else None
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
                  "last": ref.times[-1].isoformat(), "indicators": indicators, "iso_change": iso,
-                 "projections": [_projection(p, by_name[k.split("@")[0]]) for k, p in projections.items()],
-                 "missing_limits": sorted(n for n in limits if n not in by_name)}
+                 "projections": [_projection(p, used[k.split("@")[0]]) for k, p in projections.items()],
+                 "missing_limits": sorted(n for n in limits if n not in by_name),
+                 "findings": [r.shown() for r in repairs if r.sees(pt)],
+                 "reset": None if reset is None else {
+                     "found_on": reset.found_on, "component": reset.component, "fault": reset.fault,
+                     "fault_name": reset.fault_name, "work_order": reset.work_order,
+                     "from": reset.after.isoformat(), "readings_after": 0 if since is None else len(since),
+                     "readings_before": len(ref) - (0 if since is None else len(since)),
+                     "every_point": reset.points is None}}
         if plots:
-            entry["plots"] = _plots(by_name, scale, projections, pt)
+            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)])
         points.append(entry)
     return {"tellwave": __version__, "machine": machine,
             "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
             "zone_scale": {"group": scale.group, "support": scale.support, "ab_mm_s": scale.ab, "bc_mm_s": scale.bc,
                            "cd_mm_s": scale.cd, "assumed": scale.assumed},
-            "baseline": "median of the first readings (3, or a quarter of a long history, at most 10)",
+            "baseline": "median of the first readings (3, or a quarter of a long history, at most 10; never the "
+                        f"latest), after the last repair at the point; a percent change from {min_change_readings()} "
+                        "readings on, a dB quantity's change in dB",
             "iso_change_rule": "ISO 20816-3 criterion II: a change of more than 25 % of the B/C boundary is "
                                "significant, even within zone B (from memory)",
+            "findings": [r.shown() for r in repairs],
             "points": points}
 
 
@@ -172,12 +271,24 @@ def zone_scale_for(machine_file: str | None):
     return zone_scale(machine, data)
 
 
+@cache
+def fault_names() -> dict[str, str]:
+    """Fault id -> name, from the shipped rulebooks (a finding names its fault by id)."""
+    from ..reasoning import load_rulebook
+
+    return {k: f.name for k, f in load_rulebook().faults.items()}
+
+
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
-                   plots: bool = False) -> dict:
-    """The trend document of a stored machine."""
+                   plots: bool = False, names: dict[str, str] | None = None) -> dict:
+    """The trend document of a stored machine, with its findings (the store is only read)."""
     rows = store.history(machine, point)
-    files = [r["machine_file"] for r in store.readings(machine) if r["machine_file"]]
+    readings = store.readings(machine)
+    files = [r["machine_file"] for r in readings if r["machine_file"]]
+    found = store.findings(machine)
+    repairs = repairs_of(found, {r["id"]: r["machine_file"] for r in readings},
+                         fault_names() if names is None and found else names or {})
     doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None), limits=limits,
-                          point=point, plots=plots)
+                          point=point, plots=plots, repairs=repairs)
     doc["store"] = str(store.path)
     return doc

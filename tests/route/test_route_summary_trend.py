@@ -1,0 +1,82 @@
+"""The route summary's change column shows the point at the top finding's component (else the point that
+changed most, relatively), and each machine links to its trend page, which the route writes."""
+
+from __future__ import annotations
+
+import json
+
+import jsonschema
+import pytest
+import yaml
+from routes import PUMP
+
+from engine.cli import main
+from engine.common.yamlfile import load_schema
+from engine.history.store import Store
+from engine.machine import load_machine
+from engine.route.summary import _change, _points_of_top
+from engine.simulation import simulate, write_simulation
+
+
+def _record(n: int, when: str, velocities: dict[str, float]) -> dict:
+    return {"content_hash": f"hash-{n}", "machine": "RW-2 raw water pump", "machine_file": str(PUMP),
+            "source": f"r{n}.wav", "taken_at": when, "time_from": "route", "speed_rpm": 1486.0, "elapsed_s": 0.1,
+            "fs_hz": 25600.0, "duration_s": 2.0,
+            "verdict": {"urgency": "plan", "urgency_label": "plan", "worst_zone": "B", "withheld": False,
+                        "summary": "s"},
+            "top": None,
+            "channels": [{"channel": p, "point": p, "direction": "horizontal", "location": "", "zone": "B"}
+                         for p in velocities],
+            "indicators": [{"channel": p, "name": "velocity_rms_mm_s", "value": v} for p, v in velocities.items()],
+            "hypotheses": [{"rank": 1, "fault": "inner-race", "fault_name": "inner-race defect",
+                            "component": "pump_de", "certainty": 0.9, "urgency": "plan"}]}
+
+
+@pytest.fixture
+def store(tmp_path):
+    # P1H sits at pump_de (the faulty bearing: a small velocity change), M2H at the motor's drive end carries
+    # a larger velocity that scatters by more mm/s; P2H rose the most relative to its level
+    with Store(tmp_path / "h.sqlite") as s:
+        s.add(_record(1, "2026-01-10T08:00:00", {"P1H": 0.60, "M2H": 2.00, "P2H": 0.20}))
+        now = s.add(_record(2, "2026-02-10T08:00:00", {"P1H": 0.66, "M2H": 2.50, "P2H": 0.40}))
+        yield s, now
+
+
+def test_the_change_column_shows_the_point_at_the_top_findings_component(store):
+    s, now = store
+    top_points = _points_of_top(str(PUMP), "pump_de")
+    assert set(top_points) == {"P1H", "P1A"}
+    change = _change(s, "RW-2 raw water pump", {now}, top_points)
+    assert change["point"] == "P1H" and change["chosen"] == "the point at the top finding's component"
+
+
+def test_without_a_top_finding_the_point_that_changed_most_relatively(store):
+    s, now = store
+    change = _change(s, "RW-2 raw water pump", {now}, None)
+    # P2H doubled (+100 %); M2H rose 0.5 mm/s but by 25 %: the relative change ranks the points
+    assert change["point"] == "P2H" and change["change_pct"] == pytest.approx(100.0)
+    assert change["chosen"] == "the point whose velocity changed most"
+
+
+def test_each_machine_links_to_its_trend_page(tmp_path):
+    machine = load_machine(PUMP)
+    readings = []
+    for i, when in enumerate(("2026-01-10T08:00:00", "2026-02-10T08:00:00")):
+        sim = simulate(machine, "inner-race", "pump_de", 2 + i, fs_hz=12800.0, duration_s=1.0, seed=i,
+                       points=["P1H", "P2H"])
+        write_simulation(sim, tmp_path / f"r{i}.wav")
+        readings.append({"file": f"r{i}.wav", "machine": "rw2", "time": when})
+    route = tmp_path / "route.yaml"
+    route.write_text(yaml.safe_dump({"route": "links", "machines": {"rw2": str(PUMP)}, "readings": readings}))
+    out = tmp_path / "out"
+    assert main(["route", str(route), "--store", str(tmp_path / "h.sqlite"), "--out", str(out), "--workers", "1",
+                 "--quiet"]) == 0
+    doc = json.loads((out / "summary.json").read_text())
+    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
+    (m,) = doc["machines"]
+    assert m["trend_page"] == "trends/rw-2-raw-water-pump.html"
+    page = (out / m["trend_page"]).read_text()
+    assert "Trend: RW-2 raw water pump" in page and page.count("<svg") >= 3
+    assert 'href="trends/rw-2-raw-water-pump.html"' in (out / "summary.html").read_text()
+    assert "](trends/rw-2-raw-water-pump.html)" in (out / "summary.md").read_text()
+    assert "trend: trends/rw-2-raw-water-pump.html" in (out / "summary.txt").read_text()

@@ -1,0 +1,92 @@
+"""Trends that read right: the baseline is the first readings only, a percent change needs enough readings,
+dB quantities change in dB, a fit needs more readings than its parameters, times unrounded in JSON, and the
+report of a diagnosis with its history shows every indicator stored."""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta
+
+import numpy as np
+import pytest
+
+from engine.advice import ZoneScale
+from engine.reasoning import load_rulebook
+from engine.trend import change_of
+from engine.trend.change import baseline_count, min_change_readings
+from engine.trend.report import MIN_PROJECTION_READINGS, trend_from_rows
+from engine.trend.series import Series
+
+SCALE = ZoneScale(2, "rigid", 1.4, 2.8, 4.5, False, "ISO 20816-3 (from memory)")
+
+
+def _series(values, name="accel_peak_g", every_days=30.0):
+    t0 = datetime(2026, 1, 1)
+    times = tuple(t0 + timedelta(days=every_days * i) for i in range(len(values)))
+    return Series("M", "P1H", name, times, np.array(values, dtype=float), tuple(range(len(values))))
+
+
+def _rows(values, name="accel_peak_g", every_days=30.0):
+    t0 = datetime(2026, 1, 1, 8)
+    return [{"id": i, "taken_at": (t0 + timedelta(days=every_days * i)).isoformat(), "channel": "P1H",
+             "point": "P1H", "direction": "horizontal", "indicators": {name: v}} for i, v in enumerate(values)]
+
+
+@pytest.mark.parametrize("n", range(1, 15))
+def test_the_baseline_never_holds_the_latest_reading(n):
+    assert baseline_count(n) <= n - 1 and (baseline_count(n) >= 1 or n == 1)
+
+
+def test_three_readings_have_no_percent_change_and_a_baseline_of_the_first_two():
+    # the demo pump's acceleration peak as a new user saw it: 0.48 g baseline held the latest 1.749 g
+    c = change_of(_series([0.117, 0.48, 1.749]))
+    assert c.baseline == pytest.approx(np.median([0.117, 0.48])) and c.baseline_readings == 2
+    assert c.change == pytest.approx(1.749 - c.baseline) and c.change_pct is None
+    assert min_change_readings() == load_rulebook().parameters["trend_change_min_readings"].value == 4
+    c4 = change_of(_series([0.117, 0.12, 0.11, 0.5]))
+    assert c4.baseline == pytest.approx(0.117) and c4.change_pct == pytest.approx(100 * (0.5 - 0.117) / 0.117)
+
+
+def test_a_db_quantity_changes_in_db_never_in_percent():
+    doc = trend_from_rows("M", _rows([10.0, 10.5, 9.5, 10.0, 16.0], "env_BPFO_db"), SCALE)
+    (ind,) = doc["points"][0]["indicators"]
+    assert ind["change_pct"] is None and ind["change_db"] == pytest.approx(6.0) and ind["unit"] == "dB"
+    from engine.report import render
+    assert "+6.0 dB" in render(doc, "text", "trend") and "%" not in render(doc, "text", "trend").split("per month")[1]
+
+
+@pytest.mark.parametrize("n", [3, MIN_PROJECTION_READINGS])
+def test_a_fit_needs_more_readings_than_its_parameters(n):
+    values = 0.1 * np.exp(0.02 * 30 * np.arange(n))          # a clean exponential rise
+    doc = trend_from_rows("M", _rows(list(values)), SCALE, limits={"accel_peak_g": 20.0})
+    (proj,) = doc["points"][0]["projections"]
+    if n < MIN_PROJECTION_READINGS:
+        assert not proj["projected"] and "more readings than the 3 parameters" in proj["reason"]
+    else:
+        assert proj["projected"] and proj["days"] > 0
+
+
+def test_days_to_a_limit_are_unrounded_with_seconds_beside_them():
+    values = 0.1 * np.exp(0.3 * np.arange(6) / 24 * 7)   # readings every 7 hours, rising fast
+    doc = trend_from_rows("M", _rows(list(values), every_days=7 / 24), SCALE, limits={"accel_peak_g": 2.0})
+    (proj,) = doc["points"][0]["projections"]
+    assert proj["projected"]
+    assert proj["seconds"] == pytest.approx(proj["days"] * 86400.0, rel=1e-12)
+    assert proj["days"] != round(proj["days"], 2)                 # not to 0.01 day (864 s)
+    assert proj["low_seconds"] <= proj["seconds"]
+
+
+def test_the_report_of_a_diagnosis_with_history_shows_every_stored_indicator():
+    from engine.report import render
+    names = {"velocity_rms_mm_s": 1.0, "accel_peak_g": 0.3, "kurtosis": 3.2, "env_BPFI_db": 12.0, "x1_mm_s": 0.8}
+    rows = [{"id": i, "taken_at": f"2026-0{i + 1}-01T08:00:00", "channel": "P1H", "point": "P1H",
+             "direction": "horizontal", "indicators": {k: v * (1 + 0.1 * i) for k, v in names.items()}}
+            for i in range(5)]
+    trend = trend_from_rows("M", rows, SCALE)
+    from engine.history.record import INDICATORS
+
+    from support import doc_of
+    doc = dict(doc_of("rw2-impeller-unbalance"), trend=trend)
+    for fmt in ("text", "md", "html"):
+        out = render(doc, fmt).replace("\\_", "_")
+        for name in names:
+            assert INDICATORS[name][0] in out, (fmt, name)
