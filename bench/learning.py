@@ -37,7 +37,7 @@ from pathlib import Path
 from bench.real_data import BEARINGS, DATASETS, FAULTS, MACHINES, reading_of, records
 from engine.machine import Machine, load_machine
 from engine.pipeline import diagnose
-from engine.reasoning import Reasoner, load_rulebook
+from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.reasoning.learning import (
     NOTHING_FOUND,
     PRIOR_N,
@@ -47,6 +47,7 @@ from engine.reasoning.learning import (
     firings_of,
     propose_overlay,
     reliability,
+    top_hypothesis,
 )
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -192,6 +193,20 @@ def judged(reasoner: Reasoner, labelled: list[Labelled]) -> list[JudgedDiagnosis
     return [JudgedDiagnosis(x.name, firings_of(reasoner.reason(list(x.facts))), x.findings) for x in labelled]
 
 
+def wrong_calls(diagnoses: list[JudgedDiagnosis]) -> dict[str, str]:
+    """Reading -> its top hypothesis, where that is a call (50 % or more) no finding confirms."""
+    out = {}
+    for d in diagnoses:
+        top = top_hypothesis(d)
+        if d.findings and top is not None and top[2] >= CONFIDENT and not d.confirms(top[0], top[1]):
+            out[d.reading_id] = f"{top[0]} on {top[1]} {top[2]:.2f}"
+    return out
+
+
+def _top_words(top) -> str:
+    return "no hypothesis" if top is None else f"{top[0]} on {top[1]} {top[2]:.2f}"
+
+
 def _brier(r: Reliability) -> str:
     return "-" if r.brier is None else f"{r.brier:.3f}"
 
@@ -266,12 +281,13 @@ def main(argv=None) -> int:
             sets[name] = sim_set(seed, args.sim_stages, args.sim_speeds, args.jobs)
             print(f"   {name}: {len(sets[name])} readings ({time.perf_counter() - t0:.0f} s)")
     shipped = {name: judged(shipped_reasoner, xs) for name, xs in sets.items()}
-    worse, better, same, rows = [], [], [], 0
+    worse, better, same, rows, new_wrong = [], [], [], 0, []
     print("\n2. learn on one set, measure on the held-aside ones (Brier: lower is better)")
     print(f"   {'learned on':<10} {'measured on':<11} {'n':>4} {'Brier shipped':>14} {'Brier learned':>14}"
-          f"  {'no hypothesis (fault found)':>27}")
+          f"  {'no hypothesis (fault found)':>27}  {'wrong calls':>11}")
     print("   (n: judged readings with a top hypothesis, shipped/learned; the Brier score is over those; no hypothesis:"
-          " readings no rule supported any fault on, with how many of them had a fault found)")
+          " readings no rule supported any fault on, with how many of them had a fault found; wrong calls: top"
+          " hypotheses at 50 % or more no finding confirms, shipped/learned)")
     for source, targets in orderings(list(sets)):
         proposal = propose_overlay(shipped[source], shipped_book, prior_n=args.prior_n)
         moved = ", ".join(f"{c.rule_id} {c.loaded_weight:g}->{c.learned_weight:g}" for c in proposal.changes) or "none"
@@ -282,11 +298,18 @@ def main(argv=None) -> int:
             (site / "learned.yaml").write_text(proposal.text, encoding="utf-8")
             learned_reasoner = Reasoner(load_rulebook(site))
         for target in targets:
-            before, after = reliability(shipped[target]), reliability(judged(learned_reasoner, sets[target]))
+            learned = judged(learned_reasoner, sets[target])
+            before, after = reliability(shipped[target]), reliability(learned)
+            wrong_before, wrong_after = wrong_calls(shipped[target]), wrong_calls(learned)
             rows += 1
             n = f"{before.judged}" if before.judged == after.judged else f"{before.judged}/{after.judged}"
             none = f"{before.without_hypothesis} ({before.missed}) / {after.without_hypothesis} ({after.missed})"
-            print(f"   {source:<10} {target:<11} {n:>4} {_brier(before):>14} {_brier(after):>14}  {none:>27}")
+            wrong = f"{len(wrong_before)}/{len(wrong_after)}"
+            print(f"   {source:<10} {target:<11} {n:>4} {_brier(before):>14} {_brier(after):>14}  {none:>27}"
+                  f"  {wrong:>11}")
+            tops = {d.reading_id: top_hypothesis(d) for d in shipped[target]}
+            new_wrong += [(source, target, name, call, _top_words(tops[name]))
+                          for name, call in sorted(wrong_after.items()) if name not in wrong_before]
             if before.brier is not None and after.brier is not None:
                 if after.brier > before.brier + 1e-9:
                     worse.append((source, target, before.brier, after.brier))
@@ -299,6 +322,8 @@ def main(argv=None) -> int:
     print(f"\n   improved: {len(better)} of {rows} orderings; unchanged: {len(same)}; worse: {len(worse)}")
     for a, b, x, y in worse:
         print(f"   worse: learned on {a}, measured on {b}: Brier {x:.3f} -> {y:.3f}")
+    for a, b, name, call, was in new_wrong:
+        print(f"   new wrong call: learned on {a}, on {b} {name}: {call} (shipped: {was})")
     ok = not worse and bool(better)
     print(f"   verdict: {'met' if ok else 'NOT met'} (no held-aside set worse, at least one improved)")
     print(f"   {time.perf_counter() - t0:.0f} s")

@@ -261,3 +261,20 @@ def test_a_simulated_reading_is_reasoned_over_again_with_the_same_facts():
     nominal = rw2.shaft_speeds_hz[rw2.driver_shaft] * 60
     whole = diagnose(as_reading(simulate(rw2, "inner-race", "pump_de", 3, nominal, 12800.0, 1.0, 7)), rw2, reasoner)
     assert kept.firings == firings_of(whole.reasoning) and kept.firings
+
+
+def test_a_wrong_call_is_a_top_hypothesis_at_half_or_more_no_finding_confirms():
+    from bench.learning import wrong_calls
+    from engine.reasoning.learning import NOTHING_FOUND, Finding, JudgedDiagnosis, RuleFiring
+
+    def judged(name, top, certainty, *found):
+        firing = RuleFiring("r", top[0], top[1], 0.4, certainty)
+        return JudgedDiagnosis(name, (firing,), tuple(Finding(c, f) for f, c in found))
+
+    diagnoses = [judged("right", ("outer-race", "pump_de"), 0.8, ("outer-race", "pump_de")),
+                 judged("other bearing", ("outer-race", "pump_de"), 0.8, ("outer-race", "pump_nde")),
+                 judged("healthy", ("unbalance", "pump"), 0.5, (NOTHING_FOUND, "pump")),
+                 judged("below half", ("unbalance", "pump"), 0.49, (NOTHING_FOUND, "pump")),
+                 judged("not judged", ("unbalance", "pump"), 0.9)]
+    assert wrong_calls(diagnoses) == {"other bearing": "outer-race on pump_de 0.80",
+                                      "healthy": "unbalance on pump 0.50"}
