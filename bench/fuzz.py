@@ -28,6 +28,18 @@ the table; the weights in ``CATEGORIES`` spread inputs over every entry point):
 - trend history: ``trend`` and ``history`` over a valid store with careless options;
 - output target: ``-o`` of ``diagnose``, ``diagnose --store``, ``plan``, ``trend`` and ``synth``
   onto an input, the store, a link, /dev/null, a folder, a FIFO, a dangling link, NUL in the name.
+- findings csv: ``findings import`` of a CSV of findings against a valid store holding two readings
+  and three findings (``findings_template``), with one to three hazards (``CSV_HAZARDS``: encodings
+  other than UTF-8, huge fields, missing, unknown or doubled columns, bad, future and too early dates,
+  duplicate rows, unknown reading ids, machines, components and faults, NUL, control characters,
+  ragged rows, stray quotes, line endings, empty files, thousands of rows, mutated bytes, a folder,
+  FIFO, dangling link or the store itself in the file's place);
+- findings options: ``findings add|import|list|delete`` with hostile option values (reading and
+  finding ids, machine names, dates, components, faults, stages, work orders and notes);
+- findings store: the same commands, valid, on a damaged store (``hostile.STORE_DAMAGE`` and
+  ``FINDINGS_DAMAGE``: the findings table dropped or foreign, odd values in it, its readings gone).
+
+``--categories`` draws from the named categories only (give the same to ``--replay``).
 
 Worker processes call ``engine.cli.main`` in-process for the bulk; a worker killed by a signal
 is a native crash of the input it was running, and an input still running after ``--hang``
@@ -51,10 +63,13 @@ Counted as failures:
   site overlays, a store it only reads) changed, or a store no longer an SQLite file;
 - store changed: a store given to a command that only reads it (``history`` without
   ``--delete``, ``trend``, ``route --out`` onto it...) changed, was created or removed;
+- not all or none: ``findings add|import|delete`` refused yet changed the store, or done and the
+  store does not hold exactly the findings it said it added (an import: at least one per row) or deleted;
 - part file left: a ``.part`` file left behind; device replaced: /dev/null is no longer the
   null device (put back at once: the fuzz may run as root).
 
     python -m bench.fuzz [--inputs 10000] [--workers 2] [--seed 0] [--failures failures.tsv]
+    python -m bench.fuzz --categories "findings csv,findings options,findings store" [--inputs 3000]
     python -m bench.fuzz --replay 1234 [--seed 0] [--subprocess]    # one input, its files kept, judged
 
 The tables give, per category and per entry point, the inputs, how many ran to the end of the
@@ -66,6 +81,7 @@ from __future__ import annotations
 
 import argparse
 import contextlib
+import csv
 import hashlib
 import io
 import multiprocessing as mp
@@ -78,6 +94,7 @@ import sys
 import tempfile
 import time
 from collections import Counter
+from datetime import date, timedelta
 from pathlib import Path
 from typing import NamedTuple
 
@@ -88,6 +105,8 @@ from bench.hostile import (
     POLICY,
     READING_KINDS,
     RW2,
+    RW2_NAME,
+    SITE,
     STORE_DAMAGE,
     SUFFIX,
     TOKENS,
@@ -113,17 +132,23 @@ from bench.hostile import (
 
 ALLOWED_EXIT = {0, 1, 2, 3, 4, 5, 7, 8, 9}
 FAILURES = ("traceback", "native crash", "hang", "memory", "bad exit", "bad JSON", "control characters",
-            "input changed", "store changed", "part file left", "device replaced")
+            "input changed", "store changed", "not all or none", "part file left", "device replaced")
 SHORT = {"traceback": "tb", "native crash": "crash", "hang": "hang", "memory": "mem", "bad exit": "exit",
          "bad JSON": "json", "control characters": "ctrl", "input changed": "input", "store changed": "store",
-         "part file left": "part", "device replaced": "dev", "worker died": "died", "harness error": "harness"}
+         "not all or none": "all", "part file left": "part", "device replaced": "dev", "worker died": "died",
+         "harness error": "harness"}
 # (category, weight): the weights spread inputs over every entry point; the route and store
 # categories run short readings so that they cost about as much per input as a diagnosis
 CATEGORIES = (("reading bytes", 4), ("odd array", 3), ("machine", 3), ("sidecar", 2), ("site", 1), ("options", 2),
               ("route file", 2), ("plant file", 1), ("route output", 1), ("store damaged", 3), ("site rules", 1),
-              ("plan", 2), ("trend history", 2), ("output target", 2))
+              ("plan", 2), ("trend history", 2), ("output target", 2),
+              ("findings csv", 3), ("findings options", 2), ("findings store", 2))
+FINDINGS_CATEGORIES = ("findings csv", "findings options", "findings store")
+ARG_MAX = 100_000      # characters of one argument a subprocess can take (Linux: 128 KiB each); longer: in-process only
 MEMORY_LIMIT_KB = 1024 * 1024        # peak resident memory of one input above 1 GB is a failure
-WRITES_STORE = ("route", "route --plant", "diagnose --store", "history --delete")  # every other use only reads it
+WRITES_STORE = ("route", "route --plant", "diagnose --store", "history --delete",     # every other use only reads it
+                "findings add", "findings import", "findings delete")
+FINDINGS_WRITES = ("findings add", "findings import", "findings delete")     # all or nothing: a refusal writes nothing
 _CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 
 
@@ -329,13 +354,307 @@ def _whole_tool_input(category: str, rng: random.Random, folder: Path, cache: Pa
     raise ValueError(f"unknown category {category!r}")
 
 
-def _pick_category(rng: random.Random) -> str:
-    return rng.choices([c for c, _ in CATEGORIES], weights=[w for _, w in CATEGORIES])[0]
+# --- findings: ``tellwave findings add|import|list|delete`` ------------------------------------------
+
+FINDINGS_FAULTS = ("outer-race", "inner-race", "rolling-element", "cage", "unbalance", "misalignment-angular",
+                   "looseness-structural", "vane-pass", "stator", "nothing-found")
+FINDINGS_COMPONENTS = ("pump_de", "pump_nde", "motor_de", "motor_nde", "pump", "motor", "impeller", "M-RW2")
+ODD_READING_IDS = ["0", "-1", "3", "99999", str(2 ** 63), str(2 ** 63 - 1), str(2 ** 70), "9" * 40, "1.0", "1e3",
+                   "one", "", " ", " 1 ", "0x1", "+1", "1_000", "\u0661", "\x1b[31m1", "1\x00"]
+ODD_MACHINES = ["nope", "rw-2 raw water pump", "RW-2 raw water pump ", "%", "_", "*", "", "\x1b]0;owned\x07",
+                "a" * 5000, "RW-2\nraw water pump", "\u202eRW-2"]
+ODD_DATES = ["2026-02-30", "2026-13-01", "", "04/05/2026", "yesterday", "2026-03-04T25:00", "0001-01-01",
+             "9999-12-31", "+2026-05-05", "2026-5-5", "20260505", "2026-05-05T10:00:00+25:00", " 2026-05-05 ",
+             "2026-05-05T10:00:00Z", "2026-03-01", "2026-03-04", "1e18", "nan", "2026-05-05\x00", "\x1b[2J"]
+ODD_COMPONENTS = ["pump_xx", "", " ", "PUMP_DE", " pump_de", "\x1b[31mpump_de", "pump_de\x07", "a" * 3000,
+                  "pump_de;DROP TABLE findings", "'", "\u202epump_de", "motor_de\nmotor_nde"]
+ODD_FAULTS = ["outer_race", "Outer-Race", "healthy", "levels-implausible", "speed-differs", "other", "nothing found",
+              "", " outer-race", "\x1b[31m", "a" * 3000, "NOTHING-FOUND", "%"]
+ODD_STAGES = ["5", "0", "-1", "2.0", "none", "NONE", "1e0", "\u00b2", "\u0663", "", "nan", str(2 ** 70), "two"]
+ODD_TEXTS = ["\x1b]0;owned\x07", "line\nbreak", "<b>bold</b> | *x*", "a" * 2000, "a" * 2001, "a" * 200_000,
+             "\u202eevil", "tab\there", "\r", "$\\foo$", "\x7f\x9b"]
+CSV_HAZARDS = ("bad encoding", "huge field", "missing column", "unknown column", "column twice", "bad date",
+               "future date", "date before reading", "duplicate row", "unknown reading", "unknown machine",
+               "unknown component", "unknown fault", "NUL", "control characters", "ragged row", "stage",
+               "quoting", "line endings", "empty", "many rows", "byte mutation", "not a file")
 
 
-def category_of(seed: int, i: int) -> str:
-    """The category of input ``i`` without making it (the first draw of its generator)."""
-    return _pick_category(random.Random(f"{seed}:{i}"))
+def findings_template(cache: Path) -> Path:
+    """A valid store with the RW-2 pump's two readings (ids 1 and 2, a month apart) and three findings,
+    made once per cache folder. Unlike ``store_template`` its route's machine file is kept (in the cache),
+    so the findings' components are checked against it."""
+    path = cache / "findings-template.sqlite"
+    if path.is_file():
+        return path
+    from engine.cli import main
+
+    work = cache / f"findings-work-{os.getpid()}"          # kept: the stored readings name its machine file
+    shutil.rmtree(work, ignore_errors=True)
+    route, doc = route_tree(work)
+    doc["readings"][1]["time"] = "2026-04-04T09:11:00"
+    route.write_bytes(dump_yaml(doc))
+    table = work / "found.csv"
+    table.write_text("reading,machine,date,component,fault,stage,work_order,notes\n"
+                     "1,,2026-03-20,pump_de,outer-race,2,WO-1,spall on the outer race\n"
+                     ",RW-2 raw water pump,2026-04-10,pump_nde,nothing-found,none,WO-2,\n"
+                     "2,,2026-04-11,pump,other,,WO-3,a loose guard\n", encoding="utf-8")
+    store = work / "s.sqlite"
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        rc = main(["route", str(route), "--out", str(work / "out"), "--store", str(store), "--workers", "1",
+                   "--quiet", "--format", "text"])
+        rc = rc or main(["findings", "import", str(table), "--store", str(store)])
+    if rc != 0:
+        raise RuntimeError(f"the findings store template ended with exit {rc}")
+    import sqlite3
+    db = sqlite3.connect(store, isolation_level=None)
+    db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    db.close()
+    tmp = cache / f"findings-template.{os.getpid()}.tmp"
+    shutil.copy(store, tmp)
+    os.replace(tmp, path)
+    return path
+
+
+def _valid_finding(rng: random.Random) -> dict:
+    """One valid finding row against the template: reading 1 or 2, or the machine, a date after both."""
+    by_machine = rng.random() < 0.3
+    fault = rng.choice(FINDINGS_FAULTS + ("other",))
+    day = rng.choice(["2026-04-05", "2026-05-01", "2026-06-30", "2026-04-04"])
+    return {"reading": "" if by_machine else rng.choice(["1", "2"]), "machine": RW2_NAME if by_machine else "",
+            "date": day, "component": rng.choice(FINDINGS_COMPONENTS), "fault": fault,
+            "stage": rng.choice(["", "1", "2", "3", "4", "none"]), "work_order": rng.choice(["", "WO-77", "4411"]),
+            "notes": "found at the repair" if fault == "other" or rng.random() < 0.4 else ""}
+
+
+def _csv_text(names: list[str], rows: list[dict]) -> str:
+    out = io.StringIO()
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(names)
+    for r in rows:
+        w.writerow([r.get(n, "") for n in names])
+    return out.getvalue()
+
+
+def findings_csv(rng: random.Random, path: Path, note: list[str]) -> Path:
+    """A findings CSV file at ``path``: valid rows against the template, with one to three hazards
+    (``CSV_HAZARDS``); returns the path the command is given (it may be a folder, a FIFO, missing)."""
+    names = ["reading", "machine", "date", "component", "fault"] + rng.sample(["stage", "work_order", "notes"],
+                                                                            rng.randint(0, 3))
+    rng.shuffle(names)
+    rows = [_valid_finding(rng) for _ in range(rng.randint(1, 6))]
+    hazards = rng.sample(CSV_HAZARDS, rng.choice([0, 1, 1, 1, 2, 3]))
+    note.extend(hazards)
+    encoding, ending, data_hazards = "utf-8", "\n", []
+
+    def some_row():
+        return rng.choice(rows)
+    for h in hazards:
+        if h == "huge field":
+            some_row()[rng.choice(names)] = "x" * rng.choice([2001, 70_000, 140_000, 1_000_000])
+        elif h == "missing column":
+            names.remove(rng.choice([n for n in names if n in ("date", "component", "fault", "reading", "machine")]))
+        elif h == "unknown column":
+            names.insert(rng.randrange(len(names) + 1), rng.choice(["Reading", "severity", "", " ", "date_found",
+                                                                  "\x1b[31mx", "comp\x00"]))
+        elif h == "column twice":
+            names.append(rng.choice(names))
+        elif h == "bad date":
+            some_row()["date"] = rng.choice(ODD_DATES)
+        elif h == "future date":
+            some_row()["date"] = (date.today() + timedelta(days=rng.choice([1, 2, 365, 3000]))).isoformat()
+        elif h == "date before reading":
+            some_row().update(date=rng.choice(["2026-03-01", "2026-03-03", "2025-12-31"]), reading="1", machine="")
+        elif h == "duplicate row":
+            rows.append(dict(some_row()))
+        elif h == "unknown reading":
+            some_row().update(reading=rng.choice(ODD_READING_IDS), machine=rng.choice(["", RW2_NAME]))
+        elif h == "unknown machine":
+            some_row().update(reading="", machine=rng.choice(ODD_MACHINES))
+        elif h == "unknown component":
+            some_row()["component"] = rng.choice(ODD_COMPONENTS)
+        elif h == "unknown fault":
+            some_row()["fault"] = rng.choice(ODD_FAULTS)
+        elif h == "control characters":
+            some_row()[rng.choice(names)] = rng.choice(ODD_TEXTS)
+        elif h == "stage":
+            some_row()["stage"] = rng.choice(ODD_STAGES)
+        elif h == "many rows":
+            rows += [_valid_finding(rng) for _ in range(rng.choice([300, 3000]))]
+        elif h == "bad encoding":
+            encoding = rng.choice(["utf-16", "latin-1", "cp1252", "utf-32", "utf-8-sig"])
+            some_row()["notes"] = "roulement usé, Lager beschädigt"
+        elif h == "line endings":
+            ending = rng.choice(["\r\n", "\r", "\n\n", "\u2028"])
+        else:
+            data_hazards.append(h)
+    text = _csv_text(names, rows).replace("\n", ending)
+    if "empty" in data_hazards:
+        text = rng.choice(["", "\n", text.split(ending)[0] + ending, ",,,,\n", "\ufeff", ending * 50])
+    if "ragged row" in data_hazards:
+        lines = text.split(ending)
+        k = rng.randrange(len(lines))             # the header too; a file may be one line
+        lines[k] = lines[k] + rng.choice([",", ",extra", ""]) if rng.random() < 0.5 else lines[k].rpartition(",")[0]
+        text = ending.join(lines)
+    if "quoting" in data_hazards:
+        at = rng.randrange(len(text) + 1)
+        text = text[:at] + rng.choice(['"', '"unterminated', '""', '"a\nb"', "'", '"\x00"']) + text[at:]
+    if "NUL" in data_hazards:
+        at = rng.randrange(len(text) + 1)
+        text = text[:at] + "\x00" + text[at:]
+    try:
+        data = text.encode(encoding)
+    except UnicodeEncodeError:
+        data = text.encode(encoding, errors="replace")
+    if "byte mutation" in data_hazards:
+        data = mutate_bytes(data, _ops(rng, rng.randint(1, 6)))
+    path.write_bytes(data)
+    if "not a file" in data_hazards:
+        path.unlink()
+        kind = rng.choice(["folder", "fifo", "missing", "dangling", "link to the store", "empty name"])
+        note.append(kind)
+        if kind == "folder":
+            path.mkdir()
+        elif kind == "fifo":
+            os.mkfifo(path)
+        elif kind == "dangling":
+            path.symlink_to(path.parent / "nowhere.csv")
+        elif kind == "link to the store":
+            path.symlink_to(path.parent / "store.sqlite")
+        elif kind == "empty name":
+            return Path("")
+    return path
+
+
+def _findings_command(rng: random.Random, store: Path, folder: Path, note: list[str], hostile: bool) -> list[str]:
+    """One findings command on ``store``: add, import, list or delete, with hostile values if ``hostile``."""
+    action = rng.choice(["add", "add", "import", "import", "list", "delete"])
+    store_args = ["--store", str(store)] if rng.random() < 0.97 else []       # else the default store (scratch)
+    if action == "import":
+        return ["findings", "import", str(findings_csv(rng, folder / "found.csv", note))] + store_args
+    if action == "list":
+        machine = [rng.choice([RW2_NAME] * 4 + ODD_MACHINES)] if rng.random() < 0.6 else []
+        return ["findings", "list"] + (machine if hostile or not machine else [RW2_NAME]) + store_args \
+            + (["--json"] if rng.random() < 0.5 else [])
+    if action == "delete":
+        fid = rng.choice(["1", "2", "3"] + (ODD_READING_IDS if hostile else []))
+        return ["findings", "delete", fid] + store_args
+    row = _valid_finding(rng)
+    if hostile:
+        for _ in range(rng.randint(1, 3)):
+            field = rng.choice(["reading", "machine", "date", "component", "fault", "stage", "work_order", "notes",
+                                "future"])
+            values = {"reading": ODD_READING_IDS, "machine": ODD_MACHINES, "date": ODD_DATES,
+                      "component": ODD_COMPONENTS, "fault": ODD_FAULTS, "stage": ODD_STAGES,
+                      "work_order": ODD_TEXTS, "notes": ODD_TEXTS}
+            if field == "future":
+                row["date"] = (date.today() + timedelta(days=rng.choice([1, 400]))).isoformat()
+            else:
+                row[field] = rng.choice(values[field])
+    argv = ["findings", "add"]
+    which = [("--reading", row["reading"]), ("--machine", row["machine"])]
+    given = [w for w in which if w[1]] or [rng.choice(which)]
+    if hostile and rng.random() < 0.1:
+        given = which                                   # both, which is refused
+    for opt, value in given:
+        argv += [opt, value]
+    for opt, key in (("--date", "date"), ("--component", "component"), ("--fault", "fault"), ("--stage", "stage"),
+                     ("--work-order", "work_order"), ("--notes", "notes")):
+        if row[key] or key in ("date", "component", "fault"):
+            if hostile and key in ("date", "component", "fault") and rng.random() < 0.04:
+                continue                                # a needed option left out
+            argv += [f"{opt}={row[key]}" if row[key].startswith("-") else opt] + \
+                ([] if row[key].startswith("-") else [row[key]])
+    return argv + store_args
+
+
+FINDINGS_DAMAGE = ("drop findings", "findings odd values", "readings gone under findings", "findings foreign table",
+                   "findings duplicated")
+
+
+def damage_findings(rng: random.Random, path: Path, how: str) -> None:
+    """Damage the findings of the valid store at ``path`` in the way ``how`` names (one of FINDINGS_DAMAGE)."""
+    import sqlite3
+
+    statements = {
+        "drop findings": ["DROP TABLE findings"],
+        "findings odd values": rng.sample([
+            "UPDATE findings SET stage = 'two'", "UPDATE findings SET stage = 9e999", "UPDATE findings SET stage = 99",
+            "UPDATE findings SET found_on = 'x'", "UPDATE findings SET found_on = '9999-99-99'",
+            "UPDATE findings SET found_on = 1e18", "UPDATE findings SET component = x'00ff1b5b33316d'",
+            "UPDATE findings SET fault = char(27) || ']0;owned' || char(7)", "UPDATE findings SET notes = 9e999",
+            "UPDATE findings SET work_order = zeroblob(100000)", "UPDATE findings SET notes = x'c328'",
+            "UPDATE findings SET reading_id = 'one'", "UPDATE findings SET reading_id = 99",
+            "UPDATE findings SET id = 9223372036854775807 WHERE id = 1", "UPDATE findings SET stored_at = ''",
+            "UPDATE findings SET fault = 'no-such-fault'"], rng.randint(1, 3)),
+        "readings gone under findings": ["DELETE FROM readings WHERE id = 1"],
+        "findings foreign table": ["DROP TABLE findings", "CREATE TABLE findings (x TEXT)",
+                                   "INSERT INTO findings VALUES ('a stranger''s row')"],
+        "findings duplicated": ["DROP INDEX findings_by_reading",
+                                "CREATE TABLE f2 AS SELECT * FROM findings",
+                                "DROP TABLE findings",
+                                "CREATE TABLE findings (id INTEGER, reading_id INTEGER, component TEXT, fault TEXT,"
+                                " stage INTEGER, found_on TEXT, work_order TEXT, notes TEXT, stored_at TEXT)",
+                                "INSERT INTO findings SELECT * FROM f2", "INSERT INTO findings SELECT * FROM f2",
+                                "DROP TABLE f2"],
+    }[how]
+    db = sqlite3.connect(path, isolation_level=None)
+    try:
+        db.execute("PRAGMA foreign_keys=OFF")
+        for s in statements:
+            with contextlib.suppress(sqlite3.IntegrityError):      # two odd values making rows alike: one kept
+                db.execute(s)
+        db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    finally:
+        db.close()
+
+
+def _findings_input(category: str, rng: random.Random, folder: Path, cache: Path,
+                    note: list[str]) -> tuple[list[str], list[Path]]:
+    store = _copy_store(findings_template(cache), folder / "store.sqlite")
+    if category == "findings store":
+        if rng.random() < 0.5:
+            damage = rng.choice(STORE_DAMAGE)
+            damage_store(rng, store, damage)
+        else:
+            damage = rng.choice(FINDINGS_DAMAGE)
+            damage_findings(rng, store, damage)
+        note.append(damage)
+        argv = _findings_command(rng, store, folder, note, hostile=False)
+    elif category == "findings csv":
+        argv = ["findings", "import", str(findings_csv(rng, folder / "found.csv", note)), "--store", str(store)]
+        if rng.random() < 0.05:
+            argv += ["--site", str(SITE)]
+    else:
+        argv = _findings_command(rng, store, folder, note, hostile=True)
+    keep = [p for p in folder.rglob("*") if p.is_file() and not p.name.startswith("store.sqlite")]
+    return argv, keep
+
+
+def findings_count(store: Path | None) -> int | None:
+    """How many findings ``store`` holds, read without writing; None when it cannot be read."""
+    import sqlite3
+
+    if store is None or not _is_sqlite(store):
+        return None
+    try:
+        db = sqlite3.connect(f"file:{store}?mode=ro", uri=True)
+        try:
+            return int(db.execute("SELECT count(*) FROM findings").fetchone()[0])
+        finally:
+            db.close()
+    except (sqlite3.Error, ValueError, TypeError):
+        return None
+
+
+def _pick_category(rng: random.Random, only: tuple[str, ...] = ()) -> str:
+    chosen = [(c, w) for c, w in CATEGORIES if not only or c in only]
+    return rng.choices([c for c, _ in chosen], weights=[w for _, w in chosen])[0]
+
+
+def category_of(seed: int, i: int, only: tuple[str, ...] = ()) -> str:
+    """The category of input ``i`` without making it (the first draw of its generator); ``only``: the
+    categories drawn from (all when empty)."""
+    return _pick_category(random.Random(f"{seed}:{i}"), only)
 
 
 class Input(NamedTuple):
@@ -345,15 +664,20 @@ class Input(NamedTuple):
     note: str                   # the hazard, where the command line does not show it (a store's damage)
 
 
-def make_input(seed: int, i: int, folder: Path, cache: Path | None = None) -> Input:
+def make_input(seed: int, i: int, folder: Path, cache: Path | None = None, only: tuple[str, ...] = ()) -> Input:
     """Input ``i`` with its files written in ``folder``;
-    ``cache`` holds what inputs share (the valid store template), made on first use."""
+    ``cache`` holds what inputs share (the valid store templates), made on first use; ``only`` the
+    categories drawn from (all when empty)."""
     rng = random.Random(f"{seed}:{i}")
     if folder.exists():
         shutil.rmtree(folder)
     folder.mkdir(parents=True)
     cache = cache or folder.parent
-    category = _pick_category(rng)
+    category = _pick_category(rng, only)
+    if category in FINDINGS_CATEGORIES:
+        note: list[str] = []
+        argv, keep = _findings_input(category, rng, folder, cache, note)
+        return Input(category, argv, keep, ", ".join(note))
     if category not in ("reading bytes", "odd array", "machine", "sidecar", "site", "options"):
         note: list[str] = []
         argv, keep = _whole_tool_input(category, rng, folder, cache, note)
@@ -394,8 +718,8 @@ def entry_point(argv: list[str]) -> str:
     if not argv:
         return "-"
     name = argv[0]
-    if name == "rulebook" and len(argv) > 1:
-        return f"rulebook {argv[1]}"
+    if name in ("rulebook", "findings") and len(argv) > 1:
+        return f"{name} {argv[1]}"
     if name == "history" and "--delete" in argv:
         return "history --delete"
     if name == "diagnose" and "--store" in argv:
@@ -475,10 +799,12 @@ def part_files(folder: Path) -> set[Path]:
 
 
 def judge(argv, rc, out: str, err: str, before: dict, folder: Path, store_before: str | None = None,
-          peak_kb: int | None = None, parts_before: set | None = None) -> list[tuple[str, str]]:
+          peak_kb: int | None = None, parts_before: set | None = None,
+          findings_before: int | None = None) -> list[tuple[str, str]]:
     """The failures of one finished run, as (kind, detail). ``store_before`` is the state of the
     store the command was given (``store_state``), ``peak_kb`` its peak resident memory,
-    ``parts_before`` the ``.part`` files the input itself holds (left by an earlier killed run)."""
+    ``parts_before`` the ``.part`` files the input itself holds (left by an earlier killed run),
+    ``findings_before`` how many findings the store held (``findings_count``)."""
     found = []
     if rc not in ALLOWED_EXIT:
         found.append(("bad exit", f"exit {rc}: {err.strip()[-300:]}"))
@@ -515,6 +841,7 @@ def judge(argv, rc, out: str, err: str, before: dict, folder: Path, store_before
         if now != store_before:
             what = "created" if store_before == "missing" else "removed" if now == "missing" else "rewritten"
             found.append(("store changed", f"{entry_point(argv)} {what} {store.name}"))
+    found += _judge_findings(argv, rc, out, store, store_before, findings_before)
     parts = sorted(p.name for p in part_files(folder) - (parts_before or set()))
     if parts:
         found.append(("part file left", ", ".join(parts)[:200]))
@@ -523,6 +850,33 @@ def judge(argv, rc, out: str, err: str, before: dict, folder: Path, store_before
     if "/dev/null" in argv and not _null_device_intact():
         found.append(("device replaced", "/dev/null is no longer the null device (restored)"))
     return found
+
+
+def _judge_findings(argv, rc, out: str, store: Path | None, store_before: str | None,
+                    findings_before: int | None) -> list[tuple[str, str]]:
+    """A findings command that writes: refused, it leaves the store as it was (no half import, no new
+    store); done, the store holds exactly the findings it says it added (an import: at least one per row)."""
+    entry = entry_point(argv)
+    if entry not in FINDINGS_WRITES or store is None or store_before is None:
+        return []
+    if rc != 0:
+        now = store_state(store)
+        if now != store_before and not (store_before == "missing" and now == "missing"):
+            return [("not all or none", f"{entry} refused (exit {rc}) yet changed {store.name}")]
+        return []
+    if findings_before is None:
+        return []
+    after = findings_count(store)
+    said = {"findings add": len(re.findall(r"^finding \d+: ", out, re.M)), "findings delete": -1}
+    if entry == "findings import":
+        m = re.match(r"(\d+) finding\(s\) from (\d+) row\(s\)", out)
+        if not m or int(m[1]) < int(m[2]):
+            return [("not all or none", f"findings import said {out[:120]!r}")]
+        said[entry] = int(m[1])
+    if after is None or after - findings_before != said[entry]:
+        return [("not all or none", f"{entry}: {findings_before} findings before, {after} after, "
+                                    f"{said[entry]:+d} said")]
+    return []
 
 
 def _null_device_intact() -> bool:
@@ -610,11 +964,11 @@ def run_subprocess(argv: list[str], hang_s: float, env: dict | None = None) -> t
     return done.returncode, done.stdout, done.stderr, peak
 
 
-def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: float) -> dict:
+def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: float, only: tuple[str, ...] = ()) -> dict:
     folder = base / f"input{i}"
     t0 = time.perf_counter()
     try:
-        category, argv, inputs, note = make_input(seed, i, folder, base / "cache")
+        category, argv, inputs, note = make_input(seed, i, folder, base / "cache", only)
     except Exception as exc:     # the generator failed, not tellwave: shown apart, never hidden
         import traceback
         where = traceback.extract_tb(exc.__traceback__)[-1]
@@ -622,6 +976,7 @@ def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: floa
                 "failures": [("harness error", f"{type(exc).__name__}: {exc} at {Path(where.filename).name}:"
                                                f"{where.lineno}"[:200])]}
     before = _digest(inputs)
+    findings_before = findings_count(store_of(argv))      # read before the state: a reader may tidy the log
     store_before = store_state(store_of(argv))
     parts_before = part_files(folder)
     measured = _reset_peak()
@@ -632,10 +987,11 @@ def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: floa
     elif tb:
         failures = [("traceback", tb)]
     else:
-        failures = judge(argv, rc, out, err, before, folder, store_before, peak, parts_before)
-    if subprocess_every and i % subprocess_every == 0 and not any("\x00" in a for a in argv):
-        category, argv, inputs, note = make_input(seed, i, folder, base / "cache")
+        failures = judge(argv, rc, out, err, before, folder, store_before, peak, parts_before, findings_before)
+    if subprocess_every and i % subprocess_every == 0 and not any("\x00" in a or len(a) > ARG_MAX for a in argv):
+        category, argv, inputs, note = make_input(seed, i, folder, base / "cache", only)
         before = _digest(inputs)
+        findings_before = findings_count(store_of(argv))
         store_before = store_state(store_of(argv))
         parts_before = part_files(folder)
         src, sout, serr, speak = run_subprocess(argv, hang_s)
@@ -650,7 +1006,8 @@ def one(seed: int, i: int, base: Path, main, subprocess_every: int, hang_s: floa
             failures.append(("memory" if last.startswith("MemoryError") else "traceback", "subprocess: " + last))
         else:
             failures += [(k, d + " (subprocess)") for k, d in
-                         judge(argv, src, sout, serr, before, folder, store_before, speak, parts_before)]
+                         judge(argv, src, sout, serr, before, folder, store_before, speak, parts_before,
+                               findings_before)]
     shutil.rmtree(folder, ignore_errors=True)
     now = _memory_kb("VmRSS")
     return {"i": i, "category": category, "argv": argv, "rc": rc, "failures": failures, "note": note,
@@ -664,7 +1021,8 @@ def _scratch_env(base: str) -> None:
     os.environ["MPLCONFIGDIR"] = os.path.join(base, "mpl")
 
 
-def _worker(wid: int, seed: int, base: str, conn, results, subprocess_every: int, hang_s: float) -> None:
+def _worker(wid: int, seed: int, base: str, conn, results, subprocess_every: int, hang_s: float,
+            only: tuple[str, ...] = ()) -> None:
     import warnings
     warnings.simplefilter("ignore")
     _scratch_env(base)
@@ -675,7 +1033,7 @@ def _worker(wid: int, seed: int, base: str, conn, results, subprocess_every: int
         if i is None:
             return
         results.put(("start", wid, i))
-        result = one(seed, i, Path(base), main, subprocess_every, hang_s)
+        result = one(seed, i, Path(base), main, subprocess_every, hang_s, only)
         results.put(("done", wid, i, result))
         if result.get("retire"):        # memory a big input left behind would count against the next
             return
@@ -720,7 +1078,8 @@ class Tally:
                 + "".join(f" {c[k]:>6}" for k in kinds))
 
 
-def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: int, progress=print) -> dict:
+def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: int, progress=print,
+         only: tuple[str, ...] = ()) -> dict:
     ctx = mp.get_context("spawn")
     results = ctx.Queue()
     counts: Counter = Counter()
@@ -737,10 +1096,12 @@ def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: 
         (Path(base) / "cache").mkdir()
         _scratch_env(base)          # the subprocess runs inherit it
         store_template(Path(base) / "cache")        # once, before the workers race to make it
+        if not only or set(only) & set(FINDINGS_CATEGORIES):
+            findings_template(Path(base) / "cache")
 
         def spawn(wid):
             parent, child = ctx.Pipe()
-            proc = ctx.Process(target=_worker, args=(wid, seed, base, child, results, subprocess_every, hang_s),
+            proc = ctx.Process(target=_worker, args=(wid, seed, base, child, results, subprocess_every, hang_s, only),
                                daemon=False)     # a route in the worker starts its own pool
             proc.start()
             pool[wid] = (proc, parent, None, None)
@@ -758,7 +1119,7 @@ def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: 
             failed.append((i, category, kind, " ".join(_shell(a) for a in argv), detail))
 
         def lost(wid, current, kind, detail):
-            category = category_of(seed, current)       # the command: python -m bench.fuzz --replay N
+            category = category_of(seed, current, only)     # the command: python -m bench.fuzz --replay N
             record(kind, current, f"(worker lost; --replay {current}) -> {detail}", category)
             tally.add("category", category, hang_s if kind == "hang" else 0.0, [(kind, detail)])
             tally.add("entry", "(lost: see --replay)", 0.0, [(kind, detail)])
@@ -817,30 +1178,32 @@ def fuzz(inputs: int, workers: int, seed: int, hang_s: float, subprocess_every: 
             "seconds": time.perf_counter() - t0, "tally": tally, "failed": failed}
 
 
-def replay(seed: int, i: int, subprocess_too: bool = False, hang_s: float = 20.0) -> int:
+def replay(seed: int, i: int, subprocess_too: bool = False, hang_s: float = 20.0, only: tuple[str, ...] = ()) -> int:
     """Run input ``i`` in this process (and, with ``subprocess_too``, through the real entry point),
     keep its files, show the command, its output and how the fuzz judges it. Exit 1 if it fails."""
     folder = Path(tempfile.mkdtemp(prefix=f"tellwave-fuzz-{i}-"))
     _scratch_env(str(folder))
     os.chdir(folder)            # default report names land beside the input's files
     (folder / "cache").mkdir()
-    category, argv, inputs, note = make_input(seed, i, folder / "files", folder / "cache")
+    category, argv, inputs, note = make_input(seed, i, folder / "files", folder / "cache", only)
     print(f"input {i} of seed {seed} ({category}{': ' + note if note else ''}, {entry_point(argv)}); "
           f"files in {folder / 'files'}")
     print("tellwave " + " ".join(_shell(a) for a in argv))
     from engine.cli import main
     before = _digest(inputs)
+    findings_before = findings_count(store_of(argv))
     store_before = store_state(store_of(argv))
     parts_before = part_files(folder / "files")
     measured = _reset_peak()
     rc, out, err, tb = run_in_process(main, argv)
     peak = _memory_kb("VmHWM") if measured else None
     failures = [("memory" if tb.startswith("MemoryError") else "traceback", tb)] if tb else \
-        judge(argv, rc, out, err, before, folder / "files", store_before, peak, parts_before)
+        judge(argv, rc, out, err, before, folder / "files", store_before, peak, parts_before, findings_before)
     print(f"exit {rc}\n--- stdout\n{out[:3000]}\n--- stderr\n{err[:3000]}" + (f"\n--- exception\n{tb}" if tb else ""))
-    if subprocess_too and not any("\x00" in a for a in argv):
-        category, argv, inputs, note = make_input(seed, i, folder / "files", folder / "cache")
+    if subprocess_too and not any("\x00" in a or len(a) > ARG_MAX for a in argv):
+        category, argv, inputs, note = make_input(seed, i, folder / "files", folder / "cache", only)
         before = _digest(inputs)
+        findings_before = findings_count(store_of(argv))
         store_before = store_state(store_of(argv))
         parts_before = part_files(folder / "files")
         src, sout, serr, speak = run_subprocess(argv, hang_s)
@@ -850,7 +1213,8 @@ def replay(seed: int, i: int, subprocess_too: bool = False, hang_s: float = 20.0
         elif "Traceback (most recent call last)" in serr or src < 0:
             failures.append(("traceback" if src >= 0 else "native crash", "subprocess"))
         else:
-            failures += judge(argv, src, sout, serr, before, folder / "files", store_before, speak, parts_before)
+            failures += judge(argv, src, sout, serr, before, folder / "files", store_before, speak, parts_before,
+                              findings_before)
     print("--- judged: " + ("; ".join(f"{k}: {d}" for k, d in failures) if failures else "no failure"))
     return 1 if failures else 0
 
@@ -901,10 +1265,18 @@ def main() -> int:
     parser.add_argument("--replay", type=int, help="run one input and keep its files")
     parser.add_argument("--subprocess", action="store_true", help="with --replay: also run it in its own process")
     parser.add_argument("--failures", metavar="FILE", help="write every failure found, one per line (TSV)")
+    parser.add_argument("--categories", metavar="A,B", default="",
+                        help="draw inputs from these categories only (e.g. 'findings csv,findings options,"
+                             "findings store'; give the same to --replay)")
     args = parser.parse_args()
+    only = tuple(c.strip() for c in args.categories.split(",") if c.strip())
+    unknown = [c for c in only if c not in dict(CATEGORIES)]
+    if unknown:
+        parser.error(f"unknown categor{'ies' if len(unknown) > 1 else 'y'} {', '.join(unknown)}; "
+                     f"categories are {', '.join(c for c, _ in CATEGORIES)}")
     if args.replay is not None:
-        return replay(args.seed, args.replay, args.subprocess, args.hang)
-    report = fuzz(args.inputs, args.workers, args.seed, args.hang, args.subprocess_every)
+        return replay(args.seed, args.replay, args.subprocess, args.hang, only)
+    report = fuzz(args.inputs, args.workers, args.seed, args.hang, args.subprocess_every, only=only)
     print(f"\n{report['inputs']} inputs (seed {args.seed}) in {report['seconds']:.0f} s with {args.workers} workers, "
           f"{report['inputs'] / report['seconds']:.2f} inputs/s")
     exits = sorted(report["exits"].items(), key=lambda kv: str(kv[0]))

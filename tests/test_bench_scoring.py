@@ -179,3 +179,102 @@ def test_the_learning_bench_takes_each_label_as_what_a_repair_would_find():
                                                                                               "rolling-element")
     assert finding_of({"dataset": "HIT-SM", "fault": "normal", "fault_bearing": ""}) == Finding("test_bearing",
                                                                                                 NOTHING_FOUND)
+
+
+# ---------------------------------------------------------------- bench.learning, the simulated sets
+
+def test_the_simulated_set_has_every_fault_the_demo_machines_can_carry_on_every_component():
+    from bench.learning import _machines, sim_cases
+    from engine.simulation import FAULTS
+
+    machines = _machines((1.0,))
+    cases = sim_cases(1, (2, 3), (1.0,), machines)
+    made = {(c.machine, c.fault, c.component) for c in cases}
+    assert {f for _, f, _ in made} == set(FAULTS)          # every fault of the one table, healthy too
+    # each bearing of the pump takes each bearing fault; each gear mesh of the fan's drive each gear fault
+    for bearing in ("motor_nde", "motor_de", "pump_de", "pump_nde"):
+        assert {f for m, f, c in made if m == "rw2" and c == bearing} == {
+            "outer-race", "inner-race", "rolling-element", "cage", "looseness-structural"}
+    assert {f for m, f, c in made if m == "ct1" and c == "bevel_stage"} == {
+        "gear-eccentricity", "gear-tooth", "gear-wear"}
+    assert ("bw1", "belt", "vbelt") in made and not any(m == "rw2" and f.startswith("gear") for m, f, _ in made)
+    faulty = [c for c in cases if c.fault != "healthy"]
+    assert {c.stage for c in faulty} == {2, 3} and {c.stage for c in cases if c.fault == "healthy"} == {1}
+    # as many healthy readings per machine as one fault on one component gets
+    assert sum(c.fault == "healthy" and c.machine == "rw2" for c in cases) == 2
+
+
+def test_the_two_simulated_sets_differ_only_in_their_seeds_and_every_reading_has_its_own():
+    from bench.learning import _machines, sim_cases
+
+    machines = _machines((0.85, 1.0))
+    a, b = sim_cases(1, (2,), (0.85, 1.0), machines), sim_cases(2, (2,), (0.85, 1.0), machines)
+    assert [(c.machine, c.fault, c.component, c.stage, c.speed) for c in a] == \
+        [(c.machine, c.fault, c.component, c.stage, c.speed) for c in b]
+    seeds = [c.seed for c in a + b]
+    assert len(set(seeds)) == len(seeds)
+    assert a == sim_cases(1, (2,), (0.85, 1.0), machines)          # the same options, the same set
+    assert {c.speed for c in a} == {0.85, 1.0}
+
+
+def test_a_simulated_reading_is_judged_as_a_repair_would_find_it():
+    from bench.learning import SimCase, _machines, sim_findings
+    from engine.reasoning.learning import NOTHING_FOUND, Finding
+
+    machines = _machines((1.0,))
+    rw2, bw1 = machines["rw2"], machines["bw1"]
+    assert sim_findings(rw2, SimCase("rw2", "outer-race", "pump_nde", 2, 1.0, 0)) == (Finding("pump_nde",
+                                                                                              "outer-race"),)
+    # the RW-2 pump is coupled to its motor: a misalignment is found on both shafts of the coupling
+    assert sim_findings(rw2, SimCase("rw2", "misalignment-parallel", "pump", 2, 1.0, 0)) == (
+        Finding("motor", "misalignment-parallel"), Finding("pump", "misalignment-parallel"))
+    # the blower is belt-driven: its shaft turns at another speed than the motor's, no coupling
+    assert sim_findings(bw1, SimCase("bw1", "misalignment-angular", "blower", 2, 1.0, 0)) == (
+        Finding("blower", "misalignment-angular"),)
+    assert [f.fault for f in sim_findings(rw2, SimCase("rw2", "healthy", None, 1, 1.0, 0))] == [NOTHING_FOUND]
+
+
+def test_the_learning_bench_never_learns_from_the_set_it_measures():
+    from bench.learning import orderings
+
+    plan = orderings(["CWRU", "MFPT", "HIT-SM", "sim-A", "sim-B"])
+    assert plan == [("CWRU", ["MFPT", "HIT-SM", "sim-B"]), ("MFPT", ["CWRU", "HIT-SM", "sim-B"]),
+                    ("HIT-SM", ["CWRU", "MFPT", "sim-B"]), ("sim-A", ["sim-B", "CWRU", "MFPT", "HIT-SM"])]
+    assert all(source not in targets and "sim-A" not in targets for source, targets in plan)
+    assert orderings(["sim-A", "sim-B"]) == [("sim-A", ["sim-B"])]
+    assert orderings(["CWRU", "MFPT", "HIT-SM"])[0] == ("CWRU", ["MFPT", "HIT-SM"])
+
+
+def test_a_simulated_reading_is_reasoned_over_again_with_the_same_facts():
+    """A learned overlay changes rule weights only, so the bench reasons over the facts it kept: they
+    give the same reasoning as the whole pipeline on the same simulated reading."""
+    from bench.learning import Labelled, SimCase, _machines, judged, sim_facts, sim_findings
+    from engine.pipeline import diagnose
+    from engine.reasoning import Reasoner, load_rulebook
+    from engine.reasoning.learning import firings_of
+    from engine.simulation import as_reading, simulate
+
+    rw2 = _machines((1.0,))["rw2"]
+    case = SimCase("rw2", "inner-race", "pump_de", 3, 1.0, 7)
+    reasoner = Reasoner(load_rulebook())
+    kept = judged(reasoner, [Labelled(case.name, sim_facts(case, rw2, 12800.0, 1.0), sim_findings(rw2, case))])[0]
+    nominal = rw2.shaft_speeds_hz[rw2.driver_shaft] * 60
+    whole = diagnose(as_reading(simulate(rw2, "inner-race", "pump_de", 3, nominal, 12800.0, 1.0, 7)), rw2, reasoner)
+    assert kept.firings == firings_of(whole.reasoning) and kept.firings
+
+
+def test_a_wrong_call_is_a_top_hypothesis_at_half_or_more_no_finding_confirms():
+    from bench.learning import wrong_calls
+    from engine.reasoning.learning import NOTHING_FOUND, Finding, JudgedDiagnosis, RuleFiring
+
+    def judged(name, top, certainty, *found):
+        firing = RuleFiring("r", top[0], top[1], 0.4, certainty)
+        return JudgedDiagnosis(name, (firing,), tuple(Finding(c, f) for f, c in found))
+
+    diagnoses = [judged("right", ("outer-race", "pump_de"), 0.8, ("outer-race", "pump_de")),
+                 judged("other bearing", ("outer-race", "pump_de"), 0.8, ("outer-race", "pump_nde")),
+                 judged("healthy", ("unbalance", "pump"), 0.5, (NOTHING_FOUND, "pump")),
+                 judged("below half", ("unbalance", "pump"), 0.49, (NOTHING_FOUND, "pump")),
+                 judged("not judged", ("unbalance", "pump"), 0.9)]
+    assert wrong_calls(diagnoses) == {"other bearing": "outer-race on pump_de 0.80",
+                                      "healthy": "unbalance on pump 0.50"}

@@ -64,13 +64,15 @@ def _fault_ids(args) -> set[str]:
 
 
 def _say_added(store, ids: list[int]) -> None:
+    """The findings just stored, each read back by its id: only these (a damaged finding stored earlier
+    must not turn a stored finding into an error after the fact)."""
     from ..common.escape import one_line as v
 
-    shown = {f["id"]: f for f in store.findings()}
     for i in ids:
-        f = shown[i]
+        f = store.finding(i)
+        taken = store.reading(f["reading_id"])["taken_at"]
         print(f"finding {i}: {v(f['fault'])} on {v(f['component'])} ({v(f['found_on'])}) judges reading "
-              f"{f['reading_id']} of {v(f['machine'])} ({v(f['taken_at'])})")
+              f"{f['reading_id']} of {v(f['machine'])} ({v(taken)})")
 
 
 def _add(args) -> int:

@@ -22,7 +22,7 @@ from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 
-from ..common.errors import UsageError
+from ..common.errors import StoreError, UsageError
 from ..common.infile import regular_file
 from ..common.yamlfile import load_schema
 
@@ -220,7 +220,12 @@ def resolve(store, finding: Finding, fault_ids, machines: dict | None = None) ->
             raise FindingError(f"machine {finding.machine!r} has no stored reading on or before {finding.found_on}")
     out = []
     for r in readings:
-        taken = datetime.fromisoformat(r["taken_at"]).date().isoformat()
+        try:
+            taken = datetime.fromisoformat(r["taken_at"]).date().isoformat()
+        except (TypeError, ValueError):     # a reading by id is not checked on its way out of the store
+            raise StoreError(f"damaged: reading {r['id']} is stored with the time {r['taken_at']!r}, not an ISO 8601 "
+                             f"time; forget it with `tellwave history --delete {r['id']}`, or restore the store from "
+                             "a copy", path=str(store.path)) from None
         if finding.found_on < taken:
             raise FindingError(f"date {finding.found_on} is before reading {r['id']} ({taken}): a finding judges "
                                "a reading taken before the machine was opened")

@@ -257,6 +257,9 @@ class Store:
             if not columns <= have:
                 raise StoreError(f"damaged: table {table} lacks column(s) {', '.join(sorted(columns - have))}; {fix}",
                                  path=str(self.path))
+            key = self.db.execute("SELECT pk FROM pragma_table_info(?) WHERE name = 'id'", (table,)).fetchone()
+            if "id" in columns and not (key and key[0]):     # rebuilt by another program: ids no longer unique
+                raise StoreError(f"damaged: table {table} has lost its key (column id); {fix}", path=str(self.path))
         return version
 
     def _migrate(self, version: int | None, target: int) -> None:
@@ -544,7 +547,22 @@ class Store:
         if machine is not None:
             sql += " WHERE r.machine = ?"
             args = (machine,)
-        return [dict(r) for r in self.db.execute(sql + " ORDER BY f.found_on, f.id", args)]
+        return [self._check_finding(dict(r)) for r in self.db.execute(sql + " ORDER BY f.found_on, f.id", args)]
+
+    def _check_finding(self, row: dict) -> dict:
+        """A stored finding as tellwave writes it (text, a stage 1 to 4 or none, an ISO date found); one that
+        is not was damaged or written by another program, and nothing read from it would be right."""
+        bad = [k for k in ("component", "fault", "found_on") if not isinstance(row[k], str)]
+        bad += [k for k in ("work_order", "notes") if row[k] is not None and not isinstance(row[k], str)]
+        if row["stage"] is not None and (type(row["stage"]) is not int or not 1 <= row["stage"] <= 4):
+            bad.append("stage")
+        if "found_on" not in bad and not _iso_time(row["found_on"]):
+            bad.append("found_on")
+        if bad:
+            raise StoreError(f"damaged: finding {row['id']} holds {', '.join(bad)} of a kind tellwave does not write; "
+                             f"forget it with `tellwave findings delete {row['id']}`, or restore the store from a copy",
+                             path=str(self.path))
+        return row
 
     def finding(self, finding_id: int) -> dict | None:
         """One stored finding by its id, or None."""

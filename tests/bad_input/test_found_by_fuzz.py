@@ -145,3 +145,95 @@ def test_plan_proof_of_a_record_shorter_than_the_analysis_needs_says_so(capsys):
     assert main(["plan", str(PUMP), "--rpm", "1486", "--duration", "1", "--sample-rate", "100", "--point", "P1H",
                  "--format", "json"]) == 0
     assert "cannot be analysed" in capsys.readouterr().out
+
+
+# ``tellwave findings`` (bench.fuzz categories "findings csv", "findings options", "findings store")
+
+def _store_with_a_finding(stored, tmp_path, capsys) -> str:
+    from datetime import date
+
+    store = str(tmp_path / "h.sqlite")
+    shutil.copy(stored / "h.sqlite", store)
+    assert main(["findings", "add", "--reading", "1", "--date", date.today().isoformat(), "--component", "pump_de",
+                 "--fault", "outer-race", "--store", store]) == 0
+    capsys.readouterr()
+    return store
+
+
+def _sql(store: str, *statements: str) -> None:
+    db = sqlite3.connect(store, isolation_level=None)
+    try:
+        db.execute("PRAGMA foreign_keys=OFF")
+        for s in statements:
+            db.execute(s)
+        db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    finally:
+        db.close()
+
+
+def _bytes(store: str) -> bytes:
+    from pathlib import Path
+
+    return Path(store).read_bytes()
+
+
+def test_a_findings_table_rebuilt_without_its_key_is_a_damaged_store(stored, tmp_path, capsys):
+    """The rows were kept but not the primary key: a new finding got no id (KeyError printing it) and
+    deleting one id deleted every row copied twice."""
+    store = _store_with_a_finding(stored, tmp_path, capsys)
+    _sql(store, "CREATE TABLE f2 AS SELECT * FROM findings", "DROP TABLE findings",
+         "CREATE TABLE findings (id INTEGER, reading_id INTEGER, component TEXT, fault TEXT, stage INTEGER,"
+         " found_on TEXT, work_order TEXT, notes TEXT, stored_at TEXT)",
+         "INSERT INTO findings SELECT * FROM f2", "INSERT INTO findings SELECT * FROM f2", "DROP TABLE f2")
+    before = _bytes(store)
+    assert main(["findings", "add", "--reading", "1", "--date", "2026-12-01", "--component", "pump_nde", "--fault",
+                 "nothing-found", "--store", store]) == 8
+    assert "table findings has lost its key" in _one_line(capsys)
+    assert main(["findings", "delete", "1", "--store", store]) == 8
+    assert "lost its key" in _one_line(capsys)
+    assert _bytes(store) == before
+
+
+def test_a_stored_finding_of_a_kind_tellwave_does_not_write_is_a_damaged_store(stored, tmp_path, capsys):
+    """A component stored as bytes made ``findings list --json`` a TypeError; now the list says which
+    finding is damaged, and deleting it (which reads only its id) mends the store."""
+    store = _store_with_a_finding(stored, tmp_path, capsys)
+    for damage in ("UPDATE findings SET component = x'00ff1b5b33316d'", "UPDATE findings SET stage = 'two'",
+                   "UPDATE findings SET found_on = 'x'", "UPDATE findings SET stage = 9"):
+        copy = str(tmp_path / "damaged.sqlite")
+        shutil.copy(store, copy)
+        _sql(copy, damage)
+        for json_flag in ([], ["--json"]):
+            assert main(["findings", "list", "--store", copy] + json_flag) == 8, damage
+            assert "damaged: finding 1 holds" in _one_line(capsys)
+        assert main(["findings", "delete", "1", "--store", copy]) == 0
+        capsys.readouterr()
+        assert main(["findings", "list", "--store", copy, "--json"]) == 0
+        assert capsys.readouterr().out.strip() == "[]"
+
+
+def test_a_finding_on_a_reading_whose_stored_time_is_damaged_is_a_damaged_store(stored, tmp_path, capsys):
+    """A reading named by id was not checked on its way out of the store: its time 'x' was a ValueError."""
+    store = _store_with_a_finding(stored, tmp_path, capsys)
+    _sql(store, "UPDATE readings SET taken_at = 'x'")
+    before = _bytes(store)
+    assert main(["findings", "add", "--reading", "1", "--date", "2026-12-04", "--component", "pump_nde",
+                 "--fault", "nothing-found", "--store", store]) == 8
+    assert "damaged: reading 1 is stored with the time 'x'" in _one_line(capsys)
+    assert _bytes(store) == before
+
+
+def test_adding_a_finding_beside_a_damaged_one_stores_it_and_says_so(stored, tmp_path, capsys):
+    """The command listed every finding to print the new one: a damaged earlier finding made it exit 8
+    after the new finding was stored. It reads back only what it stored now."""
+    store = _store_with_a_finding(stored, tmp_path, capsys)
+    from datetime import date
+
+    _sql(store, "UPDATE findings SET stage = 'two'")
+    today = date.today().isoformat()
+    assert main(["findings", "add", "--reading", "1", "--date", today, "--component", "pump_nde",
+                 "--fault", "nothing-found", "--store", store]) == 0
+    assert capsys.readouterr().out.startswith(f"finding 2: nothing-found on pump_nde ({today}) judges reading 1")
+    with sqlite3.connect(store) as db:
+        assert db.execute("SELECT count(*) FROM findings").fetchone()[0] == 2
+    db.close()

@@ -16,6 +16,7 @@ import contextlib
 import math
 import random
 import shutil
+import sqlite3
 import tempfile
 from pathlib import Path
 
@@ -239,7 +240,10 @@ REACHES = {"route file": {"route"}, "plant file": {"route --plant"}, "route outp
            "store damaged": {"history", "history --delete", "trend", "diagnose --store", "route"},
            "site rules": {"rulebook check", "diagnose"}, "plan": {"plan"},
            "trend history": {"history", "history --delete", "trend"},
-           "output target": {"diagnose", "diagnose --store", "plan", "trend", "synth"}}
+           "output target": {"diagnose", "diagnose --store", "plan", "trend", "synth"},
+           "findings csv": {"findings import"},
+           "findings options": {"findings add", "findings import", "findings list", "findings delete"},
+           "findings store": {"findings add", "findings import", "findings list", "findings delete"}}
 
 
 def first_inputs(seed: int, category: str, count: int) -> list[int]:
@@ -447,3 +451,48 @@ def test_store_state_reads_a_log_only_when_it_is_one(tmp_path, cache):
     assert fuzz.store_state(store) == before
     wal.write_bytes(b"\x37\x7f\x06\x82" + bytes(60))
     assert fuzz.store_state(store) != before
+
+
+def test_findings_categories_reach_every_findings_action(tmp_path, cache):
+    reached = set()
+    for i in range(300):
+        if fuzz.category_of(0, i, fuzz.FINDINGS_CATEGORIES) in ("findings options", "findings store"):
+            reached.add(fuzz.entry_point(fuzz.make_input(0, i, tmp_path / "x", cache, fuzz.FINDINGS_CATEGORIES).argv))
+    assert reached == {"findings add", "findings import", "findings list", "findings delete"}
+    assert {fuzz.category_of(0, i, ("findings csv",)) for i in range(50)} == {"findings csv"}
+
+
+def test_the_findings_template_holds_two_readings_and_three_findings(cache):
+    from engine.cli import main
+    store = fuzz.findings_template(cache)
+    assert fuzz.findings_count(store) == 3
+    rc, out, err, tb = fuzz.run_in_process(main, ["findings", "list", "--store", str(store), "--json"])
+    assert (rc, tb) == (0, None), err
+    assert sorted(f["reading_id"] for f in strict_json(out)) == [1, 2, 2]
+
+
+def test_judge_counts_a_findings_command_that_is_not_all_or_none(tmp_path, cache):
+    store = tmp_path / "s.sqlite"
+    shutil.copy(fuzz.findings_template(cache), store)
+    argv = ["findings", "import", "f.csv", "--store", str(store)]
+    count, before = fuzz.findings_count(store), fuzz.store_state(store)
+    refused = "tellwave: error: f.csv:3: no stored reading has id 9\n"
+    assert fuzz.judge(argv, 2, "", refused, {}, tmp_path, before, findings_before=count) == []
+    said = "2 finding(s) from 2 row(s) of f.csv stored in s.sqlite\n"
+    assert [k for k, _ in fuzz.judge(argv, 0, said, "", {}, tmp_path, before, findings_before=count)] == \
+        ["not all or none"]             # it said two, the store holds none more
+    db = sqlite3.connect(store, isolation_level=None)
+    db.execute("INSERT INTO findings (reading_id, component, fault, found_on, stored_at) VALUES "
+               "(1, 'pump', 'unbalance', '2026-05-01', '2026-05-01T00:00:00'),"
+               " (2, 'pump', 'unbalance', '2026-05-01', '2026-05-01T00:00:00')")
+    db.close()
+    assert fuzz.judge(argv, 0, said, "", {}, tmp_path, before, findings_before=count) == []
+    # one row stored of two said: a half import
+    assert [k for k, _ in fuzz.judge(argv, 0, said.replace("2 finding", "1 finding"), "", {}, tmp_path, before,
+                                      findings_before=count)] == ["not all or none"]
+    # refused, yet the store changed
+    assert [k for k, _ in fuzz.judge(argv, 2, "", refused, {}, tmp_path, before, findings_before=count)] == \
+        ["not all or none"]
+    # a listing only reads: a change is "store changed"
+    assert [k for k, _ in fuzz.judge(["findings", "list", "--store", str(store)], 0, "", "", {}, tmp_path,
+                                      before)] == ["store changed"]
