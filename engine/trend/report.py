@@ -13,6 +13,7 @@ import numpy as np
 
 from .. import __version__
 from .change import change_of, iso_change
+from .health import choose, health_of
 from .projection import Projection, project
 from .series import Series, series_by_point
 
@@ -37,9 +38,15 @@ def _projection(p: Projection, s: Series) -> dict:
 
     def when(d):
         return None if d is None else (last + timedelta(days=float(d))).isoformat(timespec="minutes")
+    def exact(d):      # unrounded: a remaining life can be shorter than any rounding step
+        return None if d is None or not np.isfinite(d) else float(d)
     return {"indicator": s.indicator, "label": s.label, "limit": p.limit, "limit_label": p.limit_label,
-            "projected": p.projected, "days": _round(p.days, 2), "low_days": _round(p.low_days, 2),
-            "high_days": _round(p.high_days, 2), "date": when(p.days), "low_date": when(p.low_days),
+            "projected": p.projected, "days": exact(p.days), "low_days": exact(p.low_days),
+            "high_days": exact(p.high_days), "seconds": None if p.days is None else exact(p.days * 86400.0),
+            "low_seconds": None if p.low_days is None else exact(p.low_days * 86400.0),
+            "high_seconds": None if p.high_days is None else exact(p.high_days * 86400.0),
+            "act_by_days": exact(p.act_by_days), "prior": p.prior,
+            "date": when(p.days), "low_date": when(p.low_days),
             "high_date": when(p.high_days), "method": p.method, "reason": p.reason,
             "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
 
@@ -109,6 +116,11 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     for pt, by_name in sorted(by_point.items()):
         direction = next((r["direction"] for r in rows if (r["point"] or r["channel"]) == pt), "")
         indicators, projections = [], {}
+        source = choose(by_name)
+
+        def projected(s: Series, limit: float, label: str) -> Projection:
+            return project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
+                           health=None if source is None else health_of(source, s))
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
             if name not in by_name:
                 continue
@@ -129,12 +141,12 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                    "baseline_zone": zone_of(c.baseline, scale)}
             target = _next_boundary(c.latest, scale)
             if target is not None:
-                projections[s.indicator] = project(s.days, s.values, target[0], target[1], growth_of(s.indicator))
+                projections[s.indicator] = projected(s, target[0], target[1])
         for name, limit in limits.items():
             if name in by_name:
                 s = by_name[name]
                 key = name if name not in projections else f"{name}@limit"
-                projections[key] = project(s.days, s.values, limit, f"limit {name} = {limit:g}", growth_of(name))
+                projections[key] = projected(s, limit, f"limit {name} = {limit:g}")
         ref = next(iter(by_name.values()))
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
                  "last": ref.times[-1].isoformat(), "indicators": indicators, "iso_change": iso,

@@ -1,0 +1,54 @@
+"""When degradation began (the "first predicting time"): the health indicator leaves its healthy
+band, mean + k standard deviations of its early readings, for several readings in a row
+(Li, Lei et al. 2015, "An improved exponential model for predicting remaining useful life of
+rolling element bearings", IEEE Trans. Ind. Electronics 62; the settings are in
+rulebooks/trend/onset.yaml). Before it the answer is "no degradation yet", not a projection.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .health import HealthSettings, shipped_settings
+
+
+@dataclass(frozen=True)
+class Onset:
+    """Where degradation began (None: not yet), and the band it left."""
+    index: int | None        # first reading of the run that stayed above the band
+    early: int               # readings that made the band
+    band_high: float         # upper edge of the healthy band, in the indicator's (log) units
+    reason: str
+
+
+def early_count(n: int, s: HealthSettings) -> int:
+    """How many of the first readings make the healthy band: a fraction of the history, within
+    [early_min, early_max] (a fraction 0 takes early_min, a fixed count)."""
+    return int(min(s.early_max, max(s.early_min, round(s.early_fraction * n))))
+
+
+def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None) -> Onset:
+    """The first reading of the first run of ``readings_in_row`` readings above the healthy band."""
+    s = settings or shipped_settings()
+    x = np.asarray(health, float)
+    n = len(x)
+    k = early_count(n, s)
+    if n < k + s.readings_in_row:
+        return Onset(None, min(k, n), float("nan"),
+                     f"{n} reading(s): the healthy band needs {k} and a start of degradation "
+                     f"{s.readings_in_row} more in a row")
+    early = x[:k]
+    high = float(np.mean(early) + s.band_sd * np.std(early, ddof=1) * np.sqrt(s.band_widen))
+    run = 0
+    for i in range(k, n):
+        run = run + 1 if x[i] > high else 0
+        if run >= s.readings_in_row:
+            start = i - run + 1
+            return Onset(start, k, high, f"the health indicator left its healthy band (mean + {s.band_sd:g} sd of "
+                                         f"the first {k} readings) at reading {start + 1} and stayed out "
+                                         f"{s.readings_in_row} readings in a row")
+    return Onset(None, k, high, f"no degradation yet: the health indicator has not left its healthy band "
+                                f"(mean + {s.band_sd:g} sd of the first {k} readings) for {s.readings_in_row} "
+                                f"readings in a row")
