@@ -221,12 +221,12 @@ def leave_one_out(histories: dict) -> None:
           "Er = 100 (actual - estimate) / actual of the act-by time; A the challenge score")
     print(f"{'run':<11}{'life':>6}{'cut':>5}{'actual':>8}  {'median (80 % interval)':<24}{'act by':>7}{'Er %':>7}"
           f"{'A':>6}{'A med':>6}  {'naive':>6}{'A':>6}{'A now':>6}  answer")
-    rows = []      # (A act by, A median, covered, A naive, A fails now) ; None for the first three: no projection
+    rows = []      # (A act by, A median, covered, A naive, A fails now, degradation began); None: no projection
     for run in histories:
         prior = prior_from(histories, [r for r in histories if r != run])
         others = [lives[r] for r in lives if r != run]
         for cut in CUTS:
-            best, answers, now = None, [], 0.0
+            best, answers, now, began = None, [], 0.0, False
             for pt, h in sorted(histories[run].items()):
                 t, v, hi = point_arrays(h, LIMITED)
                 keep = t <= cut * lives[run]
@@ -234,6 +234,7 @@ def leave_one_out(histories: dict) -> None:
                 p = project(t[keep] / 86400.0, v[keep], LIMIT_G, f"{LIMIT_G:g} g", "exponential", health=hi[keep],
                             indicator=LIMITED, priors={LIMITED: prior})
                 answers.append(f"{pt}: {p.reason.split(';')[0].split(':')[0]}")
+                began |= p.onset_index is not None
                 if p.projected and (best is None or p.days < best.days):
                     best = p
             actual = lives[run] - now
@@ -247,17 +248,19 @@ def leave_one_out(histories: dict) -> None:
                 lo = best.low_days * 86400.0
                 hi_s = None if best.high_days is None else best.high_days * 86400.0
                 inside = lo <= actual and (hi_s is None or actual <= hi_s)
-                rows.append((a, a_med, inside, a_naive, a_now))
+                rows.append((a, a_med, inside, a_naive, a_now, began))
                 shown = f"{med / 3600:6.2f} ({lo / 3600:.2f} to {'open' if hi_s is None else f'{hi_s / 3600:.2f}'})"
                 mine = f"{act / 3600:7.2f}{er:7.0f}{a:6.2f}{a_med:6.2f}"
                 answer = "in" if inside else "OUT of interval"
             else:
-                rows.append((None, None, None, a_naive, a_now))
+                rows.append((None, None, None, a_naive, a_now, began))
                 shown, mine, answer = "no degradation yet", f"{'-':>7}{'-':>7}{'-':>6}{'-':>6}", "; ".join(answers)
             print(f"{run:<11}{lives[run] / 3600:6.2f}{cut:5.0%}{actual / 3600:8.2f}  {shown:<24}{mine}"
                   f"  {base / 3600:6.2f}{a_naive:6.2f}{a_now:6.2f}  {answer}")
     done = [r for r in rows if r[0] is not None]
-    print(f"\n{len(done)} of {len(rows)} cuts projected (the others: no degradation yet at either point)")
+    after = [r for r in rows if r[5]]
+    print(f"\n{len(done)} of {len(rows)} cuts projected; degradation had begun at a point in {len(after)} cuts, "
+          f"{sum(r[0] is not None for r in after)} of them projected (a fit whose growth is not positive is not)")
     if done:
         col = list(zip(*done))
         print(f"mean score A over the projected cuts: act by {np.mean(col[0]):.3f}, median {np.mean(col[1]):.3f}; "

@@ -202,39 +202,42 @@ def read_priors(path) -> dict[str, Prior]:
     data = doc.data
     if not isinstance(data, dict) or not isinstance(data.get("priors"), dict) or not data["priors"]:
         raise RulebookError("expected a mapping 'priors' of indicator -> prior", path=doc.path, line=1)
-    out = {}
-    for name, p in data["priors"].items():
-        where = ["priors", name]
+    return {str(name): _one_prior(doc, str(name), p) for name, p in data["priors"].items()}
 
-        def bad(field, problem, where=where):
-            return RulebookError(f"priors.{name}.{field}: {problem}", path=doc.path,
-                                 line=doc.line_of(where + [field]) or doc.line_of(where))
 
-        if not isinstance(p, dict):
-            raise bad("(all)", "expected a mapping")
+def _one_prior(doc, name: str, p) -> Prior:
+    """One indicator's prior from a prior file, checked field by field."""
+    from ..common.errors import RulebookError
 
-        def num(field, low=-1e9, high=1e9):
-            v = p.get(field)
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not low <= v <= high:
-                raise bad(field, f"expected a number from {low:g} to {high:g}, got {v!r}")
-            return float(v)
+    where = ["priors", name]
 
-        cov = p.get("cov")
-        if (not isinstance(cov, list) or len(cov) != 2 or not all(isinstance(r, list) and len(r) == 2 for r in cov)
-                or not all(isinstance(x, (int, float)) and not isinstance(x, bool) for r in cov for x in r)):
-            raise bad("cov", "expected a 2 x 2 list of numbers")
-        c = np.array(cov, float)
-        if not np.allclose(c, c.T) or np.any(np.linalg.eigvalsh(c) <= 0):
-            raise bad("cov", "not a covariance matrix (symmetric, positive definite)")
-        runs = p.get("runs")
-        if not isinstance(runs, list) or len(runs) < 2:
-            raise bad("runs", "expected the list of the histories it was learned from (at least 2)")
-        out[str(name)] = Prior((num("theta_mean"), num("beta_mean_per_day")),
-                               ((float(c[0, 0]), float(c[0, 1])), (float(c[1, 0]), float(c[1, 1]))),
-                               num("noise_var", 0.0, 100.0), num("autocorrelation", -1.0, 1.0), len(runs),
-                               str(p.get("name") or p.get("source", "")),
-                               num("reading_interval_s", 0.0, 1e9) / 86400.0)
-    return out
+    def bad(field, problem):
+        return RulebookError(f"priors.{name}.{field}: {problem}", path=doc.path,
+                             line=doc.line_of(where + [field]) or doc.line_of(where))
+
+    if not isinstance(p, dict):
+        raise bad("(all)", "expected a mapping")
+
+    def num(field, low=-1e9, high=1e9):
+        v = p.get(field)
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not low <= v <= high:
+            raise bad(field, f"expected a number from {low:g} to {high:g}, got {v!r}")
+        return float(v)
+
+    cov = p.get("cov")
+    if (not isinstance(cov, list) or len(cov) != 2 or not all(isinstance(r, list) and len(r) == 2 for r in cov)
+            or not all(isinstance(x, (int, float)) and not isinstance(x, bool) for r in cov for x in r)):
+        raise bad("cov", "expected a 2 x 2 list of numbers")
+    c = np.array(cov, float)
+    if not np.allclose(c, c.T) or np.any(np.linalg.eigvalsh(c) <= 0):
+        raise bad("cov", "not a covariance matrix (symmetric, positive definite)")
+    runs = p.get("runs")
+    if not isinstance(runs, list) or len(runs) < 2:
+        raise bad("runs", "expected the list of the histories it was learned from (at least 2)")
+    return Prior((num("theta_mean"), num("beta_mean_per_day")),
+                 ((float(c[0, 0]), float(c[0, 1])), (float(c[1, 0]), float(c[1, 1]))),
+                 num("noise_var", 0.0, 100.0), num("autocorrelation", -1.0, 1.0), len(runs),
+                 str(p.get("name") or p.get("source", "")), num("reading_interval_s", 0.0, 1e9) / 86400.0)
 
 
 def shipped_priors() -> dict[str, Prior]:

@@ -48,7 +48,7 @@ def read_settings(path) -> HealthSettings:
 
     doc = read_yaml(path, RulebookError)
     data = doc.data
-    if not isinstance(data, dict) or not isinstance(data.get("health"), dict) or not isinstance(data.get("onset"), dict):
+    if not (isinstance(data, dict) and isinstance(data.get("health"), dict) and isinstance(data.get("onset"), dict)):
         raise RulebookError("expected the mappings 'health' and 'onset'", path=doc.path, line=1)
     h, o = data["health"], data["onset"]
 
@@ -68,7 +68,8 @@ def read_settings(path) -> HealthSettings:
     early_min = number("onset", "early_min", 3, 1000, True)
     early_max = number("onset", "early_max", early_min, 10000, True)
     return HealthSettings(tuple(names), number("health", "smooth_readings", 1, 100, True),
-                          float(number("onset", "band_sd", 0.5, 10)), float(number("onset", "early_fraction", 0.0, 0.9)),
+                          float(number("onset", "band_sd", 0.5, 10)),
+                          float(number("onset", "early_fraction", 0.0, 0.9)),
                           early_min, early_max, number("onset", "readings_in_row", 1, 100, True),
                           str(h.get("source", "")))
 

@@ -30,25 +30,31 @@ def early_count(n: int, s: HealthSettings) -> int:
 
 
 def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None) -> Onset:
-    """The first reading of the first run of ``readings_in_row`` readings above the healthy band."""
+    """The first reading of the first run of ``readings_in_row`` readings above the healthy band,
+    as the rule would have declared it reading by reading: at each new reading the band is made of
+    that history's early readings, and the first declaration stands (a band that widens as the
+    history grows never takes back a start already declared)."""
     s = settings or shipped_settings()
     x = np.asarray(health, float)
     n = len(x)
-    k = early_count(n, s)
-    if n < k + s.readings_in_row:
+    row = s.readings_in_row
+    if n < early_count(n, s) + row:
+        k = early_count(n, s)
         return Onset(None, min(k, n), float("nan"),
-                     f"{n} reading(s): the healthy band needs {k} and a start of degradation "
-                     f"{s.readings_in_row} more in a row")
-    early = x[:k]
-    high = float(np.mean(early) + s.band_sd * np.std(early, ddof=1) * np.sqrt(s.band_widen))
-    run = 0
-    for i in range(k, n):
-        run = run + 1 if x[i] > high else 0
-        if run >= s.readings_in_row:
-            start = i - run + 1
-            return Onset(start, k, high, f"the health indicator left its healthy band (mean + {s.band_sd:g} sd of "
-                                         f"the first {k} readings) at reading {start + 1} and stayed out "
-                                         f"{s.readings_in_row} readings in a row")
+                     f"{n} reading(s): the healthy band needs {k} and a start of degradation {row} more in a row")
+    k, high = 0, float("nan")
+    for m in range(1, n + 1):             # the history as it stood after reading m
+        k = early_count(m, s)
+        if m < k + row:
+            continue
+        early = x[:k]
+        high = float(np.mean(early) + s.band_sd * np.std(early, ddof=1) * np.sqrt(s.band_widen))
+        if np.all(x[m - row:m] > high):
+            start = m - row
+            while start > k and x[start - 1] > high:
+                start -= 1
+            return Onset(start, k, high, f"the health indicator left its healthy band (mean + {s.band_sd:g} sd "
+                                         f"of the first {k} readings) at reading {start + 1} and stayed out "
+                                         f"{row} readings in a row")
     return Onset(None, k, high, f"no degradation yet: the health indicator has not left its healthy band "
-                                f"(mean + {s.band_sd:g} sd of the first {k} readings) for {s.readings_in_row} "
-                                f"readings in a row")
+                                f"(mean + {s.band_sd:g} sd of the first {k} readings) for {row} readings in a row")

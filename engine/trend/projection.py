@@ -226,9 +226,9 @@ def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
     used = f"{prior.source} ({prior.runs} run(s))" if prior.runs else prior.source
     if life.median is None:
         return Projection(limit, limit_label, None, None, None, method,
-                          f"the model does not reach the limit within {HORIZON_FACTOR:g} times the time since degradation "
-                          f"began (growth {post.mean[1]:.3g} per day in log units)", on.index, fit_days, fit_values,
-                          prior=used)
+                          f"the model does not reach the limit within {HORIZON_FACTOR:g} times the time since "
+                          f"degradation began (growth {post.mean[1]:.3g} per day in log units)", on.index,
+                          fit_days, fit_values, prior=used)
     reason = (f"{on.reason}; {len(t)} reading(s) since; median and {CONFIDENCE:.0%} interval "
               f"(10th to 90th percentile) of the time the model reaches the limit; growth {post.mean[1]:.3g} "
               f"per day in log units; prior: {used}")

@@ -51,6 +51,12 @@ def _projection(p: Projection, s: Series) -> dict:
             "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
 
 
+def _projected(s: Series, limit: float, label: str, source: Series | None) -> Projection:
+    """Project ``s`` to ``limit``, the point's health indicator (made of ``source``) telling when degradation began."""
+    return project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
+                   health=None if source is None else health_of(source, s))
+
+
 def _next_boundary(v: float, scale) -> tuple[float, str] | None:
     for value, name in ((scale.ab, "A/B"), (scale.bc, "B/C"), (scale.cd, "C/D")):
         if v < value:
@@ -117,10 +123,6 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         direction = next((r["direction"] for r in rows if (r["point"] or r["channel"]) == pt), "")
         indicators, projections = [], {}
         source = choose(by_name)
-
-        def projected(s: Series, limit: float, label: str) -> Projection:
-            return project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
-                           health=None if source is None else health_of(source, s))
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
             if name not in by_name:
                 continue
@@ -141,12 +143,12 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                    "baseline_zone": zone_of(c.baseline, scale)}
             target = _next_boundary(c.latest, scale)
             if target is not None:
-                projections[s.indicator] = projected(s, target[0], target[1])
+                projections[s.indicator] = _projected(s, target[0], target[1], source)
         for name, limit in limits.items():
             if name in by_name:
                 s = by_name[name]
                 key = name if name not in projections else f"{name}@limit"
-                projections[key] = projected(s, limit, f"limit {name} = {limit:g}")
+                projections[key] = _projected(s, limit, f"limit {name} = {limit:g}", source)
         ref = next(iter(by_name.values()))
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
                  "last": ref.times[-1].isoformat(), "indicators": indicators, "iso_change": iso,
