@@ -19,10 +19,10 @@ the point's health indicator (``health``) must first leave its healthy band
 parameters, with a prior learned from run-to-failure histories (or a vague
 one, and the projection says which), are updated by the readings since then,
 and the median time to the limit is given with the 10th-90th percentile
-interval and an "act by" time, the 20th percentile: the best single estimate
-when a late one costs four times an early one (the quantile q = 1 / (1 + 4)
-minimises a loss that is linear on each side; the PHM 2012 challenge score
-halves at 5 % late and at 20 % early).
+interval and an "act by" time: the single estimate with the best expected
+score over the remaining-life draws when a late estimate costs four times as
+fast as an early one (the PHM 2012 challenge score halves at 5 % late and at
+20 % early; ``degradation.act_by``).
 
 ``growth="auto"`` keeps the one with the smaller squared error in the
 indicator's own unit. The time is where the fitted line reaches the limit;
@@ -41,12 +41,11 @@ import numpy as np
 
 from .change import baseline_count
 from .changepoint import cusum_onset
-from .degradation import HORIZON_FACTOR, Prior, prior_for, remaining_life, update
+from .degradation import HORIZON_FACTOR, Prior, act_by, prior_for, remaining_life, update
 from .health import shipped_settings, smooth_log
 from .onset import first_predicting_time
 
 CONFIDENCE = 0.80
-ACT_BY_QUANTILE = 0.20         # late costs 4 x early: q = 1 / (1 + 4)
 MIN_BAYES_READINGS = 2         # readings since degradation began for the update (the prior carries the rest)
 MIN_FIT_READINGS = 3
 MIN_READINGS_FOR_ONSET = 8     # fewer: no baseline to tell a change from, fit them all
@@ -65,7 +64,7 @@ class Projection:
     onset_index: int | None = None
     fit_days: tuple[float, ...] = ()     # the fitted curve, for plots (days since the first reading)
     fit_values: tuple[float, ...] = ()
-    act_by_days: float | None = None     # the 20th percentile of the time to the limit (Bayesian path)
+    act_by_days: float | None = None     # the time to act on (best expected score; Bayesian path)
     prior: str = ""                      # which prior the Bayesian path used
 
     @property
@@ -233,4 +232,4 @@ def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
               f"(10th to 90th percentile) of the time the model reaches the limit; growth {post.mean[1]:.3g} "
               f"per day in log units; prior: {used}")
     return Projection(limit, limit_label, life.median, life.low, life.high, method, reason, on.index,
-                      fit_days, fit_values, act_by_days=life.quantile(ACT_BY_QUANTILE), prior=used)
+                      fit_days, fit_values, act_by_days=act_by(life), prior=used)

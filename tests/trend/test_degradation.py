@@ -9,7 +9,10 @@ import pytest
 from engine.common.errors import RulebookError
 from engine.trend import project
 from engine.trend.degradation import (
+    Life,
     Prior,
+    act_by,
+    challenge_score,
     learn_prior,
     prior_for,
     read_priors,
@@ -204,3 +207,22 @@ def test_a_bad_onset_file_names_the_field(tmp_path):
                  "onset: {band_sd: 3, early_fraction: 0.3, early_min: 6, early_max: 30, readings_in_row: 0}\n")
     with pytest.raises(RulebookError, match="onset.readings_in_row"):
         read_settings(f)
+
+
+def test_the_challenge_score_halves_at_5_percent_late_and_20_percent_early():
+    # IEEE PHM 2012 challenge scoring, as quoted in ../shared/datasets/README.md section 4b:
+    # A = exp(ln 2 Er / 5) for Er <= 0, exp(-ln 2 Er / 20) for Er > 0
+    assert challenge_score(-5.0) == pytest.approx(0.5)
+    assert challenge_score(20.0) == pytest.approx(0.5)
+    assert challenge_score(0.0) == pytest.approx(1.0)
+
+
+def test_act_by_is_the_truth_when_certain_and_early_when_not(rng):
+    certain = Life(10.0, 10.0, 10.0, None, tuple([10.0] * 500))
+    assert act_by(certain) == pytest.approx(10.0)
+    # spread draws: a late guess costs four times as fast, so the best single estimate lies
+    # below the median (derived from the score's form)
+    spread = np.sort(rng.lognormal(np.log(10.0), 0.5, 2000))
+    best = act_by(Life(float(np.median(spread)), None, None, None, tuple(spread)))
+    assert best < 0.9 * np.median(spread)
+    assert act_by(Life(None, None, None, None, tuple([np.inf] * 10))) is None
