@@ -207,8 +207,9 @@ def act_by(life: Life) -> float | None:
     candidates = candidates[candidates > 0]
     if candidates.size == 0:
         return 0.0
-    truth = np.where(np.isfinite(d), np.maximum(d, 1e-12), np.inf)[None, :]
-    er = np.where(np.isfinite(truth), 100 * (truth - candidates[:, None]) / truth, 100.0)
+    finite = np.isfinite(d)[None, :]
+    truth = np.where(finite, np.maximum(np.where(np.isfinite(d), d, 1.0), 1e-12), 1.0)
+    er = np.where(finite, 100 * (truth - candidates[:, None]) / truth, 100.0)
     return float(candidates[int(np.argmax(challenge_score(er).mean(axis=1)))])
 
 

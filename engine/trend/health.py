@@ -109,7 +109,7 @@ def health_of(source: Series, like: Series, settings: HealthSettings | None = No
 def monotonicity(values: np.ndarray) -> float:
     """|#rises - #falls| / (n - 1): 1 for a history that only rises (or only falls)."""
     d = np.diff(np.asarray(values, float))
-    return float(abs(np.sum(d > 0) - np.sum(d < 0)) / len(d)) if len(d) else 0.0
+    return float(abs(int(np.count_nonzero(d > 0)) - int(np.count_nonzero(d < 0))) / len(d)) if len(d) else 0.0
 
 
 def trendability(histories: list[np.ndarray], points: int = 100) -> float:

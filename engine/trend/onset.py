@@ -41,7 +41,8 @@ def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = 
     if n < early_count(n, s) + row:
         k = early_count(n, s)
         return Onset(None, min(k, n), float("nan"),
-                     f"{n} reading(s): the healthy band needs {k} and a start of degradation {row} more in a row")
+                     f"{n} reading(s): too few to tell whether degradation has begun (the healthy band needs "
+                     f"{k}, then {row} more in a row out of it)")
     k, high = 0, float("nan")
     for m in range(1, n + 1):             # the history as it stood after reading m
         k = early_count(m, s)

@@ -226,3 +226,34 @@ def test_act_by_is_the_truth_when_certain_and_early_when_not(rng):
     best = act_by(Life(float(np.median(spread)), None, None, None, tuple(spread)))
     assert best < 0.9 * np.median(spread)
     assert act_by(Life(None, None, None, None, tuple([np.inf] * 10))) is None
+
+
+def _store_rows(rng, n=70, start=40, step_s=100.0):
+    """A point read every ``step_s``: flat, then an exponential rise of peak and RMS from reading ``start``."""
+    from datetime import datetime, timedelta
+    t0 = datetime(2026, 3, 1, 8, 0)
+    rows = []
+    for i in range(n):
+        rise = 1.0 + (0.2 * np.exp(0.12 * (i - start)) if i >= start else 0.0)
+        scatter = np.exp(rng.normal(0.0, 0.03))
+        rows.append({"id": i, "taken_at": (t0 + timedelta(seconds=step_s * i)).isoformat(), "channel": "H",
+                     "point": "H", "direction": "horizontal",
+                     "indicators": {"accel_peak_g": 2.0 * rise * scatter, "accel_rms_g": 0.3 * rise * scatter}})
+    return rows
+
+
+def test_the_trend_document_gives_unrounded_days_seconds_and_the_prior_used(rng):
+    from engine.advice import ZoneScale
+    from engine.trend.report import trend_from_rows
+
+    scale = ZoneScale(2, "rigid", 1.4, 2.8, 4.5, False, "ISO 20816-3 (from memory)")
+    doc = trend_from_rows("M", _store_rows(rng), scale, limits={"accel_peak_g": 20.0})
+    x = next(p for p in doc["points"][0]["projections"] if p["indicator"] == "accel_peak_g")
+    assert x["projected"] and x["method"].startswith("first predicting time")
+    assert x["seconds"] == pytest.approx(x["days"] * 86400.0) and x["days"] != round(x["days"], 2)
+    assert x["prior"].startswith("shipped prior") and 0 < x["act_by_days"]
+    assert x["low_days"] <= x["days"] and (x["high_days"] is None or x["days"] <= x["high_days"])
+    # read a month apart, the same history is of another time scale: the vague prior, said so
+    monthly = trend_from_rows("M", _store_rows(rng, step_s=30 * 86400.0), scale, limits={"accel_peak_g": 20.0})
+    y = next(p for p in monthly["points"][0]["projections"] if p["indicator"] == "accel_peak_g")
+    assert y["prior"].startswith("vague prior")
