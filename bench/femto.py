@@ -213,8 +213,11 @@ def write_prior(histories: dict, path: Path) -> None:
                 f"{PRIOR_FILE_NAME})",
         "source": (f"learned by bench/femto.py --write-prior from the {len(runs)} run-to-failure histories of the "
                    "FEMTO / PRONOSTIA learning set (IEEE PHM 2012 challenge; accelerated tests lasting 1 to 8 "
-                   "hours): each point's readings after its first predicting time, log of the acceleration peak "
-                   "above its healthy level fitted with a line; mean and covariance of the lines"),
+                   "hours): each point's readings after its first predicting time (the rule of "
+                   "rulebooks/trend/onset.yaml), "
+                   "on its regular readings (the excerpt's last 20 snapshots, 10 s apart, thinned to the usual "
+                   "100 s), log of the acceleration peak above its healthy level fitted with a line; mean and "
+                   "covariance of the lines, residual variance and lag-1 autocorrelation averaged"),
         "runs": runs,
         "points": "H and V of each run",
         "indicator_unit": "g (acceleration peak); theta in log g above the healthy level, beta per day",
