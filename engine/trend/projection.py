@@ -222,7 +222,7 @@ def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
     curve = np.linspace(0.0, float(tau[-1]), 20)
     fit_days = tuple(t[0] + curve)
     fit_values = tuple(phi + np.exp(post.mean[0] + post.mean[1] * curve))
-    used = f"{prior.source} ({prior.runs} run(s))" if prior.runs else prior.source
+    used = prior.source
     if life.median is None:
         return Projection(limit, limit_label, None, None, None, method,
                           f"the model does not reach the limit within {HORIZON_FACTOR:g} times the time since "

@@ -41,7 +41,7 @@ def test_the_third_summary_shows_the_change_since_the_last_survey(surveyed):
     assert all(c is not None and c["since"].startswith("2026-02-11") for c in changes.values())
 
 
-def test_the_trend_projects_the_growing_bearing_defect(surveyed, capsys):
+def test_the_trend_declines_a_remaining_life_from_three_readings(surveyed, capsys):
     _, store = surveyed
     capsys.readouterr()
     assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--limit", "accel_peak_g=5",
@@ -50,9 +50,11 @@ def test_the_trend_projects_the_growing_bearing_defect(surveyed, capsys):
     jsonschema.validate(doc, load_schema("trend.schema.json"))
     (point,) = doc["points"]
     assert point["readings"] == 3 and point["iso_change"]["bc_mm_s"] == 2.8
+    # three monthly readings cannot tell a healthy band from a start of degradation: the remaining-life
+    # model says so instead of fitting its parameters to three points
     peak = next(p for p in point["projections"] if p["indicator"] == "accel_peak_g")
-    assert peak["projected"] and "exponential" in peak["method"]
-    assert peak["low_days"] <= peak["days"] <= peak["high_days"]
+    assert not peak["projected"] and peak["method"] == "first predicting time"
+    assert "too few to tell whether degradation has begun" in peak["reason"] and peak["days"] is None
 
 
 def test_the_trend_renders_with_zone_lines(surveyed, tmp_path, capsys):

@@ -257,3 +257,8 @@ def test_the_trend_document_gives_unrounded_days_seconds_and_the_prior_used(rng)
     monthly = trend_from_rows("M", _store_rows(rng, step_s=30 * 86400.0), scale, limits={"accel_peak_g": 20.0})
     y = next(p for p in monthly["points"][0]["projections"] if p["indicator"] == "accel_peak_g")
     assert y["prior"].startswith("vague prior")
+
+
+def test_a_remaining_life_under_an_hour_reads_in_minutes():
+    from engine.report.render import _days
+    assert _days(0.5 / 24) == "30.0 min" and _days(3 / 24) == "3.0 h" and _days(None) == "open"
