@@ -119,10 +119,12 @@ def learn_prior(histories: list[tuple[np.ndarray, np.ndarray]], source: str,
                  reading_interval_days)
 
 
-def vague_prior(source: str) -> Prior:
-    """A prior that lets the readings speak: centred on no growth, wide enough for any rate a
-    machine's vibration could show per day (standard deviation 10 log units, 10 per day)."""
-    return Prior((0.0, 0.0), ((100.0, 0.0), (0.0, 100.0)), 0.0, 0.0, 0, source)
+def vague_prior(source: str, reading_interval_days: float = 1.0) -> Prior:
+    """A prior that lets the readings speak: centred on no growth, with a standard deviation of 10
+    log units for the level and of 10 log units per reading interval for the growth, wider than any
+    vibration shows, whatever the time scale of the readings."""
+    step = reading_interval_days if reading_interval_days > 0 else 1.0
+    return Prior((0.0, 0.0), ((100.0, 0.0), (0.0, (10.0 / step) ** 2)), 0.0, 0.0, 0, source)
 
 
 def update(prior: Prior, tau: np.ndarray, log_y: np.ndarray) -> Posterior:
@@ -286,11 +288,11 @@ def prior_for(indicator: str, reading_interval_days: float, priors: dict[str, Pr
     priors = shipped_priors() if priors is None else priors
     p = priors.get(indicator)
     if p is None:
-        return vague_prior(f"vague prior: no learned prior of {indicator}")
+        return vague_prior(f"vague prior: no learned prior of {indicator}", reading_interval_days)
     if p.reading_interval_days > 0 and reading_interval_days > 0:
         ratio = reading_interval_days / p.reading_interval_days
         if not 1 / TIME_SCALE_FACTOR <= ratio <= TIME_SCALE_FACTOR:
             return vague_prior(f"vague prior: the learned prior of {indicator} comes from readings "
                                f"{p.reading_interval_days * 86400:g} s apart, these are "
-                               f"{reading_interval_days * 86400:g} s apart")
+                               f"{reading_interval_days * 86400:g} s apart", reading_interval_days)
     return p

@@ -262,3 +262,14 @@ def test_the_trend_document_gives_unrounded_days_seconds_and_the_prior_used(rng)
 def test_a_remaining_life_under_an_hour_reads_in_minutes():
     from engine.report.render import _days
     assert _days(0.5 / 24) == "30.0 min" and _days(3 / 24) == "3.0 h" and _days(None) == "open"
+
+
+@pytest.mark.parametrize("unit", [1e-6, 1.0, 1e4])
+def test_with_no_learned_prior_the_answer_scales_with_the_time_unit(rng, unit):
+    # derived: with a vague prior nothing but the readings sets the time scale, so the same history
+    # read a million times faster or slower gives a remaining life scaled by the same factor
+    values = np.r_[np.ones(20), np.exp(0.2 * np.arange(20))] * np.exp(rng.normal(0.0, 0.02, 40))
+    reference = project(np.arange(40.0), values, 1e4, "limit", "exponential")
+    scaled = project(np.arange(40.0) * unit, values, 1e4, "limit", "exponential")
+    assert reference.projected and scaled.prior.startswith("vague prior")
+    assert scaled.days == pytest.approx(reference.days * unit, rel=1e-6)
