@@ -39,7 +39,6 @@ class HealthSettings:
     early_max: int
     readings_in_row: int
     source: str
-    band_widen: float = 1.0
 
 
 def read_settings(path) -> HealthSettings:

@@ -49,7 +49,7 @@ def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = 
         if m < k + row:
             continue
         early = x[:k]
-        high = float(np.mean(early) + s.band_sd * np.std(early, ddof=1) * np.sqrt(s.band_widen))
+        high = float(np.mean(early) + s.band_sd * np.std(early, ddof=1))
         if np.all(x[m - row:m] > high):
             start = m - row
             while start > k and x[start - 1] > high:
