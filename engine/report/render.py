@@ -61,7 +61,7 @@ def _pct(x) -> str:
 
 
 def _days(d) -> str:
-    """A time to act in words: "open" (no projection), "now", hours, days or months."""
+    """A time to act in words: "open" (no projection), "now", minutes, hours, days or months."""
     if d is None:
         return "open"
     if d <= 0:
@@ -70,7 +70,9 @@ def _days(d) -> str:
         return f"{d / (365.25 / 12):.1f} months"
     if d >= 2:
         return f"{d:.0f} days"
-    return f"{d * 24:.1f} h"
+    if d * 24 >= 1:
+        return f"{d * 24:.1f} h"
+    return f"{d * 1440:.1f} min"    # a remaining life can be shorter than an hour
 
 
 @cache

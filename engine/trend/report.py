@@ -14,6 +14,7 @@ import numpy as np
 
 from .. import __version__
 from .change import change_of, is_db, iso_change, min_change_readings
+from .health import choose, health_of
 from .projection import Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
@@ -56,13 +57,15 @@ def _projection(p: Projection, s: Series) -> dict:
     return {"indicator": s.indicator, "label": s.label, "limit": p.limit, "limit_label": p.limit_label,
             "projected": p.projected, "days": _exact(p.days), "low_days": _exact(p.low_days),
             "high_days": _exact(p.high_days), "seconds": _seconds(p.days), "low_seconds": _seconds(p.low_days),
-            "high_seconds": _seconds(p.high_days), "date": when(p.days), "low_date": when(p.low_days),
+            "high_seconds": _seconds(p.high_days), "act_by_days": _exact(p.act_by_days), "prior": p.prior,
+            "date": when(p.days), "low_date": when(p.low_days),
             "high_date": when(p.high_days), "method": p.method, "reason": p.reason,
             "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
 
 
-def _project(s: Series, limit: float, label: str, growth: str) -> Projection:
-    """``project`` with the guard that a fit has more readings than its model's parameters."""
+def _project(s: Series, limit: float, label: str, source: Series | None) -> Projection:
+    """Project ``s`` to ``limit`` (the point's health indicator, made of ``source``, telling when degradation
+    began), with the guard that a fit has more readings than its model's parameters."""
     def too_few(n, what):
         return Projection(limit, label, None, None, None, "too few readings",
                           f"{n} reading(s) {what}; a fit needs more readings than the {MODEL_PARAMETERS} "
@@ -70,7 +73,8 @@ def _project(s: Series, limit: float, label: str, growth: str) -> Projection:
     n = len(s)
     if n < MIN_PROJECTION_READINGS and not (n and s.values[-1] >= limit):
         return too_few(n, "in the trend")
-    p = project(s.days, s.values, limit, label, growth)
+    p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
+                health=None if source is None else health_of(source, s))
     if p.projected and p.method != "reached" and p.onset_index is not None \
             and n - p.onset_index < MIN_PROJECTION_READINGS:
         return too_few(n - p.onset_index, "since the rise began")
@@ -202,6 +206,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         used = {n: _since(s, reset.after) for n, s in by_name.items()} if reset else dict(by_name)
         used = {n: u for n, u in used.items() if len(u)}
         indicators, projections = [], {}
+        source = choose(by_name)
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
             if name in by_name:
                 indicators.append(_indicator(name, by_name[name], used.get(name)))
@@ -217,12 +222,12 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                        "baseline_zone": zone_of(c.baseline, scale)}
             target = _next_boundary(c.latest, scale)
             if target is not None:
-                projections[s.indicator] = _project(s, target[0], target[1], growth_of(s.indicator))
+                projections[s.indicator] = _project(s, target[0], target[1], source)
         for name, limit in limits.items():
             if name in used:
                 s = used[name]
                 key = name if name not in projections else f"{name}@limit"
-                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", growth_of(name))
+                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source)
         ref = next(iter(by_name.values()))
         since = used[ref.indicator] if ref.indicator in used else None
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
