@@ -56,8 +56,8 @@ def test_a_db_quantity_changes_in_db_never_in_percent():
 
 @pytest.mark.parametrize("n", [3, MIN_PROJECTION_READINGS])
 def test_a_fit_needs_more_readings_than_its_parameters(n):
-    values = 0.1 * np.exp(0.02 * 30 * np.arange(n))          # a clean exponential rise
-    doc = trend_from_rows("M", _rows(list(values)), SCALE, limits={"accel_peak_g": 20.0})
+    values = 1.0 * np.exp(0.02 * 30 * np.arange(n))          # a clean exponential rise of 1X (a fitted indicator)
+    doc = trend_from_rows("M", _rows(list(values), "x1_mm_s"), SCALE, limits={"x1_mm_s": 20.0})
     (proj,) = doc["points"][0]["projections"]
     if n < MIN_PROJECTION_READINGS:
         assert not proj["projected"] and "more readings than the 3 parameters" in proj["reason"]
@@ -66,8 +66,8 @@ def test_a_fit_needs_more_readings_than_its_parameters(n):
 
 
 def test_days_to_a_limit_are_unrounded_with_seconds_beside_them():
-    values = 0.1 * np.exp(0.3 * np.arange(6) / 24 * 7)   # readings every 7 hours, rising fast
-    doc = trend_from_rows("M", _rows(list(values), every_days=7 / 24), SCALE, limits={"accel_peak_g": 2.0})
+    values = 1.0 * np.exp(0.3 * np.arange(6) / 24 * 7)   # 1X every 7 hours, rising fast
+    doc = trend_from_rows("M", _rows(list(values), "x1_mm_s", every_days=7 / 24), SCALE, limits={"x1_mm_s": 20.0})
     (proj,) = doc["points"][0]["projections"]
     assert proj["projected"]
     assert proj["seconds"] == pytest.approx(proj["days"] * 86400.0, rel=1e-12)
