@@ -14,7 +14,9 @@ stored diagnosis and what was found when the machine was opened) gives
   the site's hit rate, shrunk toward the loaded weight by a prior worth
   ``prior_n`` findings and capped, with the counts in its ``source``. The shipped
   rulebooks are never edited; rules with fewer than ``least_n`` judged firings are
-  listed as too little evidence and left alone.
+  listed as too little evidence and keep their weight. Every rule judged is restated
+  with its ``site_record`` (confirmed k of n), which a diagnosis made with the overlay
+  shows in its reasoning trail.
 
 Counting: a rule counts once per judged diagnosis and hypothesis (fault on a
 component) it supports, however many channels it fired on. A diagnosis is judged
@@ -404,10 +406,16 @@ def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, 
         head += [f"#   {_one_line(rule_id)}: {why}" for rule_id, why in not_learned]
     rules = []
     raw_of: dict[str, dict] = {}
-    restated = [(c.rule_id, c.record, c) for c in changes] + [(r.rule_id, r, None) for r in unchanged]
+    # every judged rule is restated with its site record, so that a diagnosis made with the overlay says
+    # what repairs at this site found of it, even while its weight waits for more evidence
+    few = {r.rule_id for r in too_little}
+    restated = ([(c.rule_id, c.record, c) for c in changes] + [(r.rule_id, r, None) for r in unchanged]
+                + [(r.rule_id, r, None) for r in too_little])
     for rule_id, record, c in sorted(restated, key=lambda item: item[0]):
         rule = loaded[rule_id]
-        if c is None:
+        if c is None and rule_id in few:
+            moved = f"weight {rule.weight:g} kept: too little evidence (fewer than {least_n} judged firings)"
+        elif c is None:
             moved = f"weight {rule.weight:g} kept (prior worth {prior_n:g} findings)"
         else:
             held = f", move capped at {cap:g}" if c.capped else ""

@@ -210,6 +210,10 @@ def test_three_findings_change_nothing_and_still_load(tmp_path):
     assert [r.rule_id for r in proposal.too_little] == ["gear.tooth.once-per-rev", "shaft.unbalance.radial-1x"]
     learned = _load_overlay(tmp_path, proposal.text)
     assert learned.rule("shaft.unbalance.radial-1x").weight == 0.6
+    # still restated with what the site found, so a diagnosis with the overlay can say it
+    assert learned.rule("shaft.unbalance.radial-1x").site_record == (2, 2)
+    assert learned.rule("gear.tooth.once-per-rev").site_record == (0, 1)
+    assert learned.rule("gear.tooth.once-per-rev").weight == load_rulebook().rule("gear.tooth.once-per-rev").weight
     assert reliability(diagnoses).brier == pytest.approx((0.4 ** 2 + 0.4 ** 2 + 0.7 ** 2) / 3)
 
 
