@@ -527,8 +527,10 @@ def findings_csv(rng: random.Random, path: Path, note: list[str]) -> Path:
 
 def _findings_command(rng: random.Random, store: Path, folder: Path, note: list[str], hostile: bool) -> list[str]:
     """One findings command on ``store``: add, import, list or delete, with hostile values if ``hostile``."""
-    action = rng.choice(["add", "add", "import", "import", "list", "delete"])
+    action = rng.choice(["add", "add", "import", "import", "list", "delete", "learn"])
     store_args = ["--store", str(store)] if rng.random() < 0.97 else []       # else the default store (scratch)
+    if action == "learn":
+        return _learn_command(rng, store, folder, store_args, hostile)
     if action == "import":
         return ["findings", "import", str(findings_csv(rng, folder / "found.csv", note))] + store_args
     if action == "list":
@@ -565,6 +567,29 @@ def _findings_command(rng: random.Random, store: Path, folder: Path, note: list[
             argv += [f"{opt}={row[key]}" if row[key].startswith("-") else opt] + \
                 ([] if row[key].startswith("-") else [row[key]])
     return argv + store_args
+
+
+def _learn_command(rng: random.Random, store: Path, folder: Path, store_args: list[str], hostile: bool) -> list[str]:
+    """``tellwave learn`` on ``store``: machines, format, report and overlay targets, some of them inputs
+    (the store, a folder, the null device, one file for both) that must be refused before any work."""
+    argv = ["learn"]
+    if rng.random() < 0.5:
+        argv.append(rng.choice(ODD_MACHINES) if hostile else RW2_NAME)
+    argv += store_args
+    if rng.random() < 0.6:
+        argv += ["--format", rng.choice(["text", "md", "html", "json"] + (["pdf", ""] if hostile else []))]
+    targets = [folder / "out" / "learned.yaml", folder / "out" / "report.txt"]
+    if hostile:
+        targets += [store, folder, Path("/dev/null"), folder / ("n" * 300)]
+    report = rng.choice(targets) if rng.random() < 0.4 else None
+    if report is not None:
+        argv += ["-o", str(report)]
+    if rng.random() < 0.7:
+        overlay = report if report is not None and hostile and rng.random() < 0.2 else rng.choice(targets)
+        argv += ["--overlay", str(overlay)]
+    if hostile and rng.random() < 0.2:
+        argv += ["--site", str(rng.choice([SITE, folder, folder / "missing"]))]
+    return argv
 
 
 FINDINGS_DAMAGE = ("drop findings", "findings odd values", "readings gone under findings", "findings foreign table",

@@ -242,8 +242,8 @@ REACHES = {"route file": {"route"}, "plant file": {"route --plant"}, "route outp
            "trend history": {"history", "history --delete", "trend"},
            "output target": {"diagnose", "diagnose --store", "plan", "trend", "synth"},
            "findings csv": {"findings import"},
-           "findings options": {"findings add", "findings import", "findings list", "findings delete"},
-           "findings store": {"findings add", "findings import", "findings list", "findings delete"}}
+           "findings options": {"findings add", "findings import", "findings list", "findings delete", "learn"},
+           "findings store": {"findings add", "findings import", "findings list", "findings delete", "learn"}}
 
 
 def first_inputs(seed: int, category: str, count: int) -> list[int]:
@@ -453,12 +453,12 @@ def test_store_state_reads_a_log_only_when_it_is_one(tmp_path, cache):
     assert fuzz.store_state(store) != before
 
 
-def test_findings_categories_reach_every_findings_action(tmp_path, cache):
+def test_findings_categories_reach_every_findings_action_and_learn(tmp_path, cache):
     reached = set()
     for i in range(300):
         if fuzz.category_of(0, i, fuzz.FINDINGS_CATEGORIES) in ("findings options", "findings store"):
             reached.add(fuzz.entry_point(fuzz.make_input(0, i, tmp_path / "x", cache, fuzz.FINDINGS_CATEGORIES).argv))
-    assert reached == {"findings add", "findings import", "findings list", "findings delete"}
+    assert reached == {"findings add", "findings import", "findings list", "findings delete", "learn"}
     assert {fuzz.category_of(0, i, ("findings csv",)) for i in range(50)} == {"findings csv"}
 
 
