@@ -436,6 +436,7 @@ def peaks_near(spec: Spectrum, freqs_hz, tolerance_hz) -> Lines:
     left = a[np.maximum(line - 1, 0)]
     right = a[np.minimum(line + 1, n_lines - 1)]
     found &= ~inner | ((a[line] >= left) & (a[line] >= right))
+    found &= a[line] > 0                  # a line of no amplitude is no line (a constant signal's spectrum)
     freq, amp = interpolate_lines(spec, line)
     snr = np.zeros(count)
     if found.any():

@@ -78,7 +78,7 @@ def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False, flo
         snr = snr.copy()
         for i in np.flatnonzero(found):
             floor = local_floor(spec, float(freqs[i]))
-            snr[i] = lines.amplitude[i] / floor if floor > 0 else float("inf")
+            snr[i] = lines.amplitude[i] / floor if floor > 0 else float("inf") if lines.amplitude[i] > 0 else 0.0
     if floors is not None:
         given = np.asarray(floors, dtype=float)
         snr = np.where(given > 0, lines.amplitude / np.where(given > 0, given, 1.0), snr)
@@ -123,7 +123,7 @@ def _count_clear_lines(spec: Spectrum) -> tuple[np.ndarray, np.ndarray, np.ndarr
     grid = np.geomspace(f[peaks[0]], f[peaks[-1]], CENSUS_FLOOR_POINTS) if len(peaks) > 1 else f[peaks]
     floors = np.interp(f[peaks], grid, [local_floor(spec, float(g)) for g in grid])
     with np.errstate(divide="ignore", invalid="ignore"):
-        snr = np.where(floors > 0, a[peaks] / floors, np.inf)
+        snr = np.where(floors > 0, a[peaks] / floors, np.where(a[peaks] > 0, np.inf, 0.0))
     keep = snr >= MIN_SNR
     return peaks[keep], f[peaks[keep]], snr[keep]
 

@@ -229,3 +229,17 @@ def test_welch_matches_scipy_reference(rng):
     ours = averaged_spectrum(x, 1000.0, 1024).amplitude
     _, p = signal.welch(x, 1000.0, window="hann", nperseg=1024, scaling="spectrum")
     assert np.allclose(ours, np.sqrt(2 * p))
+
+
+@pytest.mark.parametrize("wide_floor", [False, True])
+def test_a_spectrum_of_no_amplitude_has_no_line(wide_floor):
+    """A constant signal's spectrum is zero everywhere: no line is found there, whatever its floor
+    (a zero floor once made every zero 'line' stand infinitely high, and an envelope depth divide by 0)."""
+    from engine.analysis.peaks import peaks_near
+    from engine.evidence.matching import clear_lines, find_lines
+
+    spec = amplitude_spectrum(np.full(8192, 0.25), 8192.0)
+    assert not np.any(spec.amplitude[1:])
+    assert not peaks_near(spec, [50.0, 120.0, 1000.0], 2.0).found.any()
+    assert not find_lines(spec, [50.0, 120.0, 1000.0], 0.02, wide_floor=wide_floor).found.any()
+    assert len(clear_lines(spec)[0]) == 0
