@@ -22,7 +22,10 @@ and the median time to the limit is given with the 10th-90th percentile
 interval and an "act by" time: the single estimate with the best expected
 score over the remaining-life draws when a late estimate costs four times as
 fast as an early one (the PHM 2012 challenge score halves at 5 % late and at
-20 % early; ``degradation.act_by``).
+20 % early; ``degradation.act_by``). When the readings since the start do not rise (a level
+that falls back for a while after a defect starts), a learned prior gives the
+rate and the readings only the current level (``degradation.rate_from_prior``);
+with a vague prior there is no rate to borrow and no projection.
 
 ``growth="auto"`` keeps the one with the smaller squared error in the
 indicator's own unit. The time is where the fitted line reaches the limit;
