@@ -242,6 +242,7 @@ def leave_one_out(histories: dict) -> None:
     print(f"{'run':<11}{'life':>6}{'cut':>5}{'actual':>8}  {'median (80 % interval)':<24}{'act by':>7}{'Er %':>7}"
           f"{'A':>6}{'A med':>6}  {'naive':>6}{'A':>6}{'A now':>6}  answer")
     rows = []      # (A act by, A median, covered, A naive, A fails now, degradation began); None: no projection
+    per_run: dict[str, list] = {}
     for run in histories:
         prior = prior_from(histories, [r for r in histories if r != run])
         others = [lives[r] for r in lives if r != run]
@@ -275,12 +276,23 @@ def leave_one_out(histories: dict) -> None:
             else:
                 rows.append((None, None, None, a_naive, a_now, began))
                 shown, mine, answer = "no degradation yet", f"{'-':>7}{'-':>7}{'-':>6}{'-':>6}", "; ".join(answers)
+            per_run.setdefault(run, []).append(rows[-1])
             print(f"{run:<11}{lives[run] / 3600:6.2f}{cut:5.0%}{actual / 3600:8.2f}  {shown:<24}{mine}"
                   f"  {base / 3600:6.2f}{a_naive:6.2f}{a_now:6.2f}  {answer}")
     done = [r for r in rows if r[0] is not None]
     after = [r for r in rows if r[5]]
     print(f"\n{len(done)} of {len(rows)} cuts projected; degradation had begun at a point in {len(after)} cuts, "
-          f"{sum(r[0] is not None for r in after)} of them projected (a fit whose growth is not positive is not)")
+          f"{sum(r[0] is not None for r in after)} of them projected")
+    print(f"\nper run, mean score A of the projected cuts beside the naive baselines of the same cuts\n"
+          f"{'run':<11}{'projected':>10}{'A act by':>9}{'A med':>7}{'naive':>7}{'now':>7}{'in 80 %':>8}")
+    for run, rs in per_run.items():
+        got = [r for r in rs if r[0] is not None]
+        if got:
+            c = list(zip(*got))
+            print(f"{run:<11}{len(got):>6} of {len(rs)}{np.mean(c[0]):9.3f}{np.mean(c[1]):7.3f}{np.mean(c[3]):7.3f}"
+                  f"{np.mean(c[4]):7.3f}{sum(c[2]):>5} of {len(got)}")
+        else:
+            print(f"{run:<11}{0:>6} of {len(rs)}")
     if done:
         col = list(zip(*done))
         print(f"mean score A over the projected cuts: act by {np.mean(col[0]):.3f}, median {np.mean(col[1]):.3f}; "

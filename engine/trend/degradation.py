@@ -148,6 +148,31 @@ def update(prior: Prior, tau: np.ndarray, log_y: np.ndarray) -> Posterior:
     return Posterior(mean, cov, noise, len(tau))
 
 
+LEVEL_READINGS = 5            # the latest readings that tell the current level when the rate comes from the prior
+
+
+def rate_from_prior(prior: Prior, tau: np.ndarray, log_y: np.ndarray) -> Posterior:
+    """The parameters when the readings since degradation began do not rise: the rate from the prior
+    alone (the rates of the learned histories), the line through the current level.
+
+    A bearing's level can fall back for a while after degradation began, as a fresh defect's sharp
+    edges are worn smooth before the damage spreads (the "healing" stage of run-to-failure tests,
+    from memory: Williams et al. 2001, Mechanical Systems and Signal Processing 15); a fit through
+    that stretch says the damage shrinks, which the exponential model cannot mean. The readings then
+    tell the level, not the rate: the level c is the mean of the latest ``LEVEL_READINGS`` log
+    readings (variance: the likelihood's, over their number) at their mean time t_c, beta is the
+    prior's, theta = c - beta t_c, so var theta = var c + t_c^2 var beta and cov(theta, beta) =
+    -t_c var beta (derived)."""
+    tau = np.asarray(tau, float)[-LEVEL_READINGS:]
+    log_y = np.asarray(log_y, float)[-LEVEL_READINGS:]
+    t_c, c = float(np.mean(tau)), float(np.mean(log_y))
+    var_c = max(prior.noise_var, 1e-6) * prior.inflation / len(tau)
+    mu_b, var_b = prior.mean[1], prior.cov[1][1]
+    mean = np.array([c - mu_b * t_c, mu_b])
+    cov = np.array([[var_c + t_c ** 2 * var_b, -t_c * var_b], [-t_c * var_b, var_b]])
+    return Posterior(mean, cov, prior.noise_var, len(tau))
+
+
 def remaining_life(post: Posterior, now: float, log_limit: float, *, interval: float, last_departure: float,
                    autocorrelation: float, confidence: float = CONFIDENCE, samples: int = SAMPLES,
                    seed: int = SEED) -> Life:

@@ -22,7 +22,10 @@ and the median time to the limit is given with the 10th-90th percentile
 interval and an "act by" time: the single estimate with the best expected
 score over the remaining-life draws when a late estimate costs four times as
 fast as an early one (the PHM 2012 challenge score halves at 5 % late and at
-20 % early; ``degradation.act_by``).
+20 % early; ``degradation.act_by``). When the readings since the start do not rise (a level
+that falls back for a while after a defect starts), a learned prior gives the
+rate and the readings only the current level (``degradation.rate_from_prior``);
+with a vague prior there is no rate to borrow and no projection.
 
 ``growth="auto"`` keeps the one with the smaller squared error in the
 indicator's own unit. The time is where the fitted line reaches the limit;
@@ -41,7 +44,7 @@ import numpy as np
 
 from .change import baseline_count
 from .changepoint import cusum_onset
-from .degradation import HORIZON_FACTOR, Prior, act_by, prior_for, remaining_life, update
+from .degradation import HORIZON_FACTOR, Prior, act_by, prior_for, rate_from_prior, remaining_life, update
 from .health import shipped_settings, smooth_log
 from .onset import first_predicting_time
 
@@ -215,6 +218,11 @@ def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
     spacing = float(np.median(np.diff(days))) if len(days) > 1 else 0.0
     prior = prior_for(indicator, spacing, priors)
     post = update(prior, tau, log_y)
+    rate = f"growth {post.mean[1]:.3g} per day in log units"
+    if post.mean[1] <= 0 and prior.runs:
+        post = rate_from_prior(prior, tau, log_y)
+        rate = (f"the readings since do not rise (the level can fall back for a while after a defect starts), so "
+                f"the growth is the prior's, {post.mean[1]:.3g} per day in log units, from the current level")
     departure = float(log_y[-1] - (post.mean[0] + post.mean[1] * tau[-1]))
     life = remaining_life(post, float(tau[-1]), float(np.log(limit - phi)), interval=max(spacing, 1e-9),
                           last_departure=departure, autocorrelation=prior.autocorrelation if prior.runs else 0.0,
@@ -229,7 +237,6 @@ def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
                           f"degradation began (growth {post.mean[1]:.3g} per day in log units)", on.index,
                           fit_days, fit_values, prior=used)
     reason = (f"{on.reason}; {len(t)} reading(s) since; median and {CONFIDENCE:.0%} interval "
-              f"(10th to 90th percentile) of the time the model reaches the limit; growth {post.mean[1]:.3g} "
-              f"per day in log units; prior: {used}")
+              f"(10th to 90th percentile) of the time the model reaches the limit; {rate}; prior: {used}")
     return Projection(limit, limit_label, life.median, life.low, life.high, method, reason, on.index,
                       fit_days, fit_values, act_by_days=act_by(life), prior=used)

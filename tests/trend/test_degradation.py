@@ -15,6 +15,7 @@ from engine.trend.degradation import (
     challenge_score,
     learn_prior,
     prior_for,
+    rate_from_prior,
     read_priors,
     remaining_life,
     shipped_priors,
@@ -273,3 +274,39 @@ def test_with_no_learned_prior_the_answer_scales_with_the_time_unit(rng, unit):
     scaled = project(np.arange(40.0) * unit, values, 1e4, "limit", "exponential")
     assert reference.projected and scaled.prior.startswith("vague prior")
     assert scaled.days == pytest.approx(reference.days * unit, rel=1e-6)
+
+
+def test_without_a_rise_the_rate_is_the_prior_s_through_the_current_level():
+    # derived (rate_from_prior's docstring): the latest 5 readings at tau 10-14 sit at log level 1.0,
+    # so the line passes (12, 1.0) with the prior's rate 0.05: theta = 1.0 - 0.05 x 12 = 0.4;
+    # var theta = 0.01 x 1 / 5 + 12^2 x 0.03^2, cov = -12 x 0.03^2
+    tau = np.arange(0.0, 15.0)
+    log_y = np.r_[np.linspace(2.0, 1.2, 10), np.ones(5)]
+    post = rate_from_prior(_prior(mean=(0.0, 0.05), sd=(0.5, 0.03), noise_var=0.01), tau, log_y)
+    assert post.mean == pytest.approx([0.4, 0.05])
+    assert post.cov == pytest.approx(np.array([[0.01 / 5 + 144 * 0.03 ** 2, -12 * 0.03 ** 2],
+                                               [-12 * 0.03 ** 2, 0.03 ** 2]]))
+    assert np.all(np.linalg.eigvalsh(post.cov) > 0)
+
+
+def _jump_then_fall_back(rng):
+    """Flat at 1 for 40 days, a jump to 6 at day 40, then a slow fall back toward 4 (no rise since)."""
+    days = np.arange(0.0, 70.0)
+    level = np.where(days < 40, 1.0, 4.0 + 2.0 * np.exp(-(days - 40) / 10.0))
+    return days, level * np.exp(rng.normal(0.0, 0.03, len(days)))
+
+
+def test_a_level_that_falls_back_after_the_onset_is_projected_with_the_learned_rate(rng):
+    # the readings since the start fall: a fit says the damage shrinks. With a learned prior the
+    # projection takes the prior's rate from the current level (about 5 above a healthy 1: log 5;
+    # the limit 20: log 19; the line needs (log 19 - log 5) / 0.1 = 13.4 days at the prior's mean
+    # rate 0.1 per day, derived), so the answer is a finite time of that order and says why
+    days, values = _jump_then_fall_back(rng)
+    learned = {"x": Prior((0.0, 0.1), ((0.25, 0.0), (0.0, 0.02 ** 2)), 0.03 ** 2, 0.0, 5, "learned test prior",
+                          1.0)}
+    p = project(days, values, 20.0, "limit 20", "exponential", indicator="x", priors=learned)
+    assert p.projected and "do not rise" in p.reason and 38 <= p.onset_index <= 46
+    assert 5.0 <= p.days <= 30.0 and p.low_days <= p.days <= p.high_days
+    # with no learned histories there is no rate to borrow: no projection, and why
+    vague = project(days, values, 20.0, "limit 20", "exponential", indicator="x", priors={})
+    assert not vague.projected and "does not reach the limit" in vague.reason
