@@ -155,7 +155,8 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
     rows = _by_reading(store.spectra(machine, point))
     section: dict = {"point": point, "quantity": "velocity", "unit": "mm/s RMS", "readings": [],
                      "marks": [], "marks_from": None, "waterfall": None, "compare": None,
-                     "without_spectrum": 0, "surveys_left_out": 0}
+                     "without_spectrum": 0, "surveys_left_out": 0, "changes": [], "changes_from": None,
+                     "changes_to": None}
     if compare is not None:
         known = {r["id"]: r for r in rows}
         missing = [i for i in compare if i not in known]
@@ -180,12 +181,14 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
         both = a["amplitudes"] is not None and b["amplitudes"] is not None
         section["compare"] = {"ids": list(compare), "changes": largest_changes(a, b, marks) if both else [],
                               "svg": _overlay(point, a, b, marks) if plots and both else None}
+        section.update(changes=section["compare"]["changes"], changes_from=a["id"], changes_to=b["id"])
     else:
         first = with_spectrum[0]
         section["waterfall"] = {
             "surveys": len(with_spectrum), "first": first["id"], "last": latest["id"],
             "changes": largest_changes(first, latest, marks) if first is not latest else [],
             "svg": _waterfall(point, with_spectrum, marks) if plots else None}
+        section.update(changes=section["waterfall"]["changes"], changes_from=first["id"], changes_to=latest["id"])
     return section
 
 
