@@ -54,10 +54,9 @@ def run(args) -> int:
     from ..report import render, write_atomically
     from ..route.runner import slug
     from ..trend import trend_document
+    from ..trend.waterfall import parse_compare
     from ._common import output_target
     from ._store import open_store
-
-    from ..trend.waterfall import parse_compare
 
     limits = parse_limits(args.limit)
     compare = parse_compare(args.compare) if args.compare is not None else None

@@ -115,6 +115,7 @@ def test_a_damaged_spectrum_reads_as_none(tmp_path, blob, step):
 
 def test_the_forcing_of_a_record_is_plain_data():
     from engine.history.record import record_of
+
     from support import doc_of
 
     doc = doc_of("rw2-healthy-baseline")

@@ -20,6 +20,7 @@ from engine.report import render
 from engine.report.svg import MARGIN_LEFT, MARGIN_RIGHT, WIDTH
 from engine.trend import trend_document
 from engine.trend.waterfall import NO_SPECTRUM, largest_changes, marks_for, parse_compare, spectra_section
+
 from support import HtmlChecker, one_error_line
 
 PUMP = "RW-2 raw water pump"
