@@ -158,3 +158,17 @@ def test_compare_with_a_reading_of_another_point_is_one_line(store, capsys):
     assert "reading 999 is not a stored reading" in err
     err = one_error_line(capsys, 2, ["trend", PUMP, "--compare", "2,999", "--store", store])
     assert "not both stored readings" in err
+
+
+def test_a_long_history_shows_the_latest_surveys(tmp_path):
+    from engine.trend.waterfall import MOST_SURVEYS
+
+    with Store(tmp_path / "h.sqlite") as s:
+        for n in range(MOST_SURVEYS + 2):
+            rec = _record(n + 1, 1, 0.01 * n)
+            rec["taken_at"] = f"2026-01-{n + 1:02d}T08:30:00"
+            s.add(rec)
+        section = spectra_section(s, PUMP, "P1H", plots=True)
+    assert len(section["readings"]) == MOST_SURVEYS and section["surveys_left_out"] == 2
+    assert section["readings"][0]["taken_at"].startswith("2026-01-03")        # the two oldest are left out
+    assert section["waterfall"]["svg"].count("<polyline") == MOST_SURVEYS
