@@ -12,6 +12,12 @@ def register(sub) -> None:
     p.add_argument("--point", help="only this measurement point (default: every point)")
     p.add_argument("--limit", action="append", default=[], metavar="INDICATOR=VALUE",
                    help="project the time to this limit too, e.g. accel_peak_g=20 (repeatable)")
+    p.add_argument("--waterfall", action="store_true",
+                   help="add each point's velocity spectra across the stored surveys, oldest at the back, "
+                        "forcing frequencies marked (HTML draws them; text and md list the largest changes)")
+    p.add_argument("--compare", metavar="ID1,ID2",
+                   help="add the spectra of two stored readings overlaid, and the lines that changed most "
+                        "(ids as `tellwave history` lists them)")
     add_store_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
                    help="output format (default text; html has the plots)")
@@ -48,10 +54,12 @@ def run(args) -> int:
     from ..report import render, write_atomically
     from ..route.runner import slug
     from ..trend import trend_document
+    from ..trend.waterfall import parse_compare
     from ._common import output_target
     from ._store import open_store
 
     limits = parse_limits(args.limit)
+    compare = parse_compare(args.compare) if args.compare is not None else None
     output = args.output
     if output is None and args.format in ("html", "md"):
         output = f"{slug(args.machine)}.trend.{args.format}"
@@ -60,7 +68,8 @@ def run(args) -> int:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
-        doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html")
+        doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html",
+                             waterfall=args.waterfall, compare=compare)
     if not doc["points"]:
         raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
     text = render(doc, args.format, "trend")

@@ -135,11 +135,25 @@ def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
     return channels, unique
 
 
+def spectra_of(spectra, channels: set[str]) -> list[dict]:
+    """The compact spectra of the stored ``channels`` as plain data: amplitudes as little-endian float32
+    bytes (a record crosses process boundaries). A channel whose scale is not trusted keeps no spectrum:
+    its amplitudes are wrong by the same factor as its levels."""
+    import numpy as np
+
+    return [{"channel": sp.channel, "quantity": sp.quantity, "unit": sp.unit, "step_hz": float(sp.step_hz),
+             "resolution_hz": float(sp.resolution_hz), "shaft": sp.shaft, "at": sp.at,
+             "amplitudes": np.asarray(sp.amplitude, dtype="<f4").tobytes()}
+            for sp in spectra if sp.channel in channels]
+
+
 def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str, time_from: str,
               machine_file: str | None, elapsed_s: float, recording_hash: str | None = None,
-              reasoning: Reasoning | None = None) -> dict:
+              reasoning: Reasoning | None = None, spectra=None, forcing=()) -> dict:
     """The stored record of one diagnosis (``doc`` from ``pipeline.document_of``); with its ``reasoning``,
-    the rule firings the learning counts (``learning.firings_of``), stored beside the reading."""
+    the rule firings the learning counts (``learning.firings_of``), stored beside the reading; with its
+    ``spectra`` (``Diagnosis.spectra``: ``analysis.compact.CompactSpectrum``), each stored channel's compact
+    spectrum as float32 bytes, and the reading's ``forcing`` frequencies."""
     from ..reasoning.learning import firings_of
 
     channels, values = indicators_of(facts)
@@ -170,6 +184,10 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
         "hypotheses": [{"rank": h["rank"], "fault": h["fault"], "fault_name": h["fault_name"],
                         "component": h["component"], "certainty": h["certainty"], "urgency": h["urgency"]["id"]}
                        for h in doc["hypotheses"]],
+        "spectra": None if spectra is None else spectra_of(
+            spectra, {c["channel"] for c in channels if c["scale_trusted"]}),
+        "forcing": [{"name": f.name, "component": f.component, "family": f.family, "shaft": f.shaft,
+                     "frequency_hz": float(f.frequency_hz)} for f in forcing],
         "firings": None if reasoning is None else [
             {"rule_id": f.rule_id, "fault": f.fault, "component": f.component, "certainty": f.certainty,
              "hypothesis_certainty": f.hypothesis_certainty} for f in firings_of(reasoning)],

@@ -149,6 +149,35 @@ MIGRATIONS: tuple[str, ...] = (
     CREATE INDEX firings_by_reading ON firings (reading_id);
     ALTER TABLE readings ADD COLUMN firings_kept INTEGER;
     """,
+    # 7: a compact spectrum per stored channel (``analysis.compact``: the velocity spectrum reduced by the
+    # peak of each group of lines, at most 1600 float32 lines, little-endian, line i covering i * step_hz to
+    # (i + 1) * step_hz) and the forcing frequencies of each reading as the analysis names them (1X, BPFO,
+    # GMF, ... of a component on a shaft). ``spectra_kept`` is 1 on a reading stored since, NULL on one
+    # stored before, whose spectra are not known until it is diagnosed again.
+    """
+    CREATE TABLE spectra (
+        reading_id INTEGER NOT NULL REFERENCES readings (id) ON DELETE CASCADE,
+        channel TEXT NOT NULL,
+        quantity TEXT NOT NULL,
+        unit TEXT NOT NULL,
+        step_hz REAL NOT NULL,
+        resolution_hz REAL NOT NULL,
+        shaft TEXT,
+        at TEXT,
+        amplitudes BLOB NOT NULL,
+        PRIMARY KEY (reading_id, channel, quantity)
+    );
+    CREATE TABLE forcing (
+        reading_id INTEGER NOT NULL REFERENCES readings (id) ON DELETE CASCADE,
+        name TEXT NOT NULL,
+        component TEXT NOT NULL,
+        family TEXT NOT NULL,
+        shaft TEXT NOT NULL,
+        frequency_hz REAL NOT NULL
+    );
+    CREATE INDEX forcing_by_reading ON forcing (reading_id);
+    ALTER TABLE readings ADD COLUMN spectra_kept INTEGER;
+    """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
@@ -323,13 +352,22 @@ class Store:
             cur = self.db.execute(
                 "INSERT INTO readings (content_hash, machine, machine_file, source, taken_at, time_from,"
                 " speed_rpm, elapsed_s, fs_hz, duration_s, urgency, worst_zone, withheld, summary, report,"
-                " stored_at, route_id, recording_hash, firings_kept) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                " stored_at, route_id, recording_hash, firings_kept, spectra_kept)"
+                " VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                 (record["content_hash"], record["machine"], record.get("machine_file"), record["source"],
                  record["taken_at"], record["time_from"], record.get("speed_rpm"), record.get("elapsed_s"),
                  record.get("fs_hz"), record.get("duration_s"), v["urgency"], v["worst_zone"],
                  int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id, recording,
-                 None if record.get("firings") is None else 1))
+                 None if record.get("firings") is None else 1, None if record.get("spectra") is None else 1))
             rid = cur.lastrowid
+            self.db.executemany(
+                "INSERT INTO spectra VALUES (?,?,?,?,?,?,?,?,?)",
+                [(rid, sp["channel"], sp["quantity"], sp["unit"], float(sp["step_hz"]), float(sp["resolution_hz"]),
+                  sp.get("shaft"), sp.get("at"), sp["amplitudes"]) for sp in record.get("spectra") or ()])
+            self.db.executemany(
+                "INSERT INTO forcing VALUES (?,?,?,?,?,?)",
+                [(rid, f["name"], f["component"], f["family"], f["shaft"], float(f["frequency_hz"]))
+                 for f in record.get("forcing") or () if math.isfinite(float(f["frequency_hz"]))])
             self.db.executemany(
                 "INSERT INTO firings VALUES (?,?,?,?,?,?)",
                 [(rid, f["rule_id"], f["fault"], f["component"], float(f["certainty"]),
@@ -457,6 +495,54 @@ class Store:
             r["indicators"] = values.get((r["id"], r["channel"]), {})
             if r["scale_trusted"] == 0:
                 r["indicators"] = {k: v for k, v in r["indicators"].items() if not is_level(k)}
+        return rows
+
+    def spectra(self, machine: str, point: str, reading_ids=None) -> list[dict]:
+        """The stored readings of ``machine`` at ``point`` (of ``reading_ids``, when given), oldest first: id,
+        taken_at, channel, ``spectra_kept`` (False: stored before schema 7, no spectrum), and with a spectrum its
+        quantity, unit, step_hz, resolution_hz, shaft, at, ``amplitudes`` (float32 numpy array) and the reading's
+        ``forcing`` (dicts: name, component, family, shaft, frequency_hz). A blob that is not whole float32
+        lines, or a step that is not a positive number, was damaged: that reading has no spectrum (``damaged``)."""
+        import numpy as np
+
+        sql = ("SELECT r.id, r.taken_at, r.spectra_kept, c.channel, s.quantity, s.unit, s.step_hz, s.resolution_hz,"
+               " s.shaft, s.at, s.amplitudes FROM readings r JOIN channels c ON c.reading_id = r.id"
+               " LEFT JOIN spectra s ON s.reading_id = r.id AND s.channel = c.channel AND s.quantity = 'velocity'"
+               " WHERE r.machine = ? AND c.point = ?")
+        args: list = [machine, point]
+        if reading_ids is not None:
+            ids = sorted({int(i) for i in reading_ids if 0 < int(i) <= ID_MAX})
+            sql += f" AND r.id IN ({','.join('?' * len(ids))})"
+            args += ids
+        rows = []
+        for r in self.db.execute(sql + " ORDER BY r.taken_at, r.id, c.channel", args):
+            row = dict(r)
+            self._check_time(row)
+            blob, step = row.pop("amplitudes"), row["step_hz"]
+            row["spectra_kept"] = row["spectra_kept"] is not None
+            row["damaged"], row["amplitudes"] = False, None
+            if blob is not None:
+                whole = (isinstance(blob, bytes) and len(blob) % 4 == 0 and blob and _number(step) and step > 0
+                         and _number(row["resolution_hz"]))
+                amplitudes = np.frombuffer(blob, dtype="<f4").astype(np.float32) if whole else None
+                if amplitudes is None or not np.all(np.isfinite(amplitudes)) or amplitudes.min() < 0:
+                    row["damaged"] = True
+                else:
+                    row["amplitudes"] = amplitudes
+            rows.append(row)
+        forcing: dict[int, list[dict]] = {}
+        ids = sorted({r["id"] for r in rows})
+        for i in range(0, len(ids), 500):
+            part = ids[i:i + 500]
+            for f in self.db.execute("SELECT reading_id, name, component, family, shaft, frequency_hz FROM forcing"
+                                     f" WHERE reading_id IN ({','.join('?' * len(part))})"
+                                     " ORDER BY reading_id, frequency_hz, name, component", part):
+                if _number(f[5]) and f[5] > 0:
+                    forcing.setdefault(f[0], []).append({"name": str(f[1]), "component": str(f[2]),
+                                                         "family": str(f[3]), "shaft": str(f[4]),
+                                                         "frequency_hz": float(f[5])})
+        for r in rows:
+            r["forcing"] = forcing.get(r["id"], [])
         return rows
 
     def previous(self, machine: str, before: str, exclude_route: int | None = None) -> dict | None:

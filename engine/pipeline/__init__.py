@@ -11,6 +11,7 @@ from dataclasses import dataclass
 
 from ..advice import Advice, advise
 from ..analysis import analyse
+from ..analysis.compact import compact_spectra
 from ..analysis.plotdata import PlotSet, plot_set
 from ..evidence import Evidence, run_extractors, summarise
 from ..machine import Machine
@@ -43,6 +44,8 @@ class Diagnosis:
     advice: Advice
     plots: PlotSet | None            # every channel's plot data from every shaft; the report picks
     reach: tuple[dict, ...] = ()     # faults the reading's settings cannot show or may miss (planner checks)
+    spectra: tuple = ()              # each channel's compact spectrum (``analysis.compact``), kept in the history
+    forcing: tuple = ()              # the reading's forcing frequencies, as the analysis names them
 
     @property
     def facts(self) -> list[dict]:
@@ -73,6 +76,7 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     check_record_length(reading, machine)
     analysis = analyse(reading, machine)
     figures = plot_set(analysis) if plots else None
+    spectra, forcing = compact_spectra(analysis)
     facts = run_extractors(analysis)
     if more_facts is not None:
         facts = facts + list(more_facts(facts))
@@ -80,7 +84,8 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     reasoning = reasoner.reason(list(evidence.facts))
     advice = advise(machine, evidence, reasoning, advice_data)
     return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
-                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook))
+                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook),
+                     spectra, forcing)
 
 
 def reach_of(reading: Reading, machine: Machine, driver_rpm: float, rulebook=None) -> tuple[dict, ...]:

@@ -40,6 +40,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,
                            machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording,
-                           reasoning=d.reasoning)
+                           reasoning=d.reasoning, spectra=d.spectra,
+                           forcing=d.forcing)
         store.add(record, replace=True)
     return d, doc

@@ -40,6 +40,7 @@ class Series:
     dashed: bool = False
     width: float = 0.8
     points: bool = False        # draw a dot at each point (short series such as a trend)
+    fill_to: float | None = None   # fill the page colour down to this y, hiding what lies behind (a waterfall)
 
 
 @dataclass(frozen=True)
@@ -232,6 +233,10 @@ def render(plot: Plot, width: int = WIDTH) -> str:
         if len(x) == 0:
             continue
         path = " ".join(f"{px(a):.1f},{py(b):.1f}" for a, b in zip(x, y))
+        if s.fill_to is not None:
+            floor = py(s.fill_to)
+            out.append(f'<polygon clip-path="url(#{clip})" fill="#ffffff" stroke="none" '
+                       f'points="{px(x[0]):.1f},{floor:.1f} {path} {px(x[-1]):.1f},{floor:.1f}"/>')
         dash = ' stroke-dasharray="4 3"' if s.dashed else ""
         out.append(f'<polyline clip-path="url(#{clip})" fill="none" stroke="{escape(s.color)}" '
                    f'stroke-width="{s.width}"{dash} stroke-linejoin="round" points="{path}"/>')

@@ -111,7 +111,8 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,
                            machine_file=task.machine_file, elapsed_s=time.perf_counter() - start,
-                           recording_hash=recording, reasoning=d.reasoning)
+                           recording_hash=recording, reasoning=d.reasoning, spectra=d.spectra,
+                           forcing=d.forcing)
         report = render(doc, settings.get("format", "html")) if settings.get("reports", True) else None
         return {"index": task.index, "ok": True, "record": record, "report": report}
     except TellwaveError as exc:

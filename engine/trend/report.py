@@ -285,8 +285,11 @@ def fault_names() -> dict[str, str]:
 
 
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
-                   plots: bool = False, names: dict[str, str] | None = None) -> dict:
-    """The trend document of a stored machine, with its findings (the store is only read)."""
+                   plots: bool = False, names: dict[str, str] | None = None, waterfall: bool = False,
+                   compare: tuple[int, int] | None = None) -> dict:
+    """The trend document of a stored machine, with its findings (the store is only read); ``waterfall``
+    adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
+    spectra at each point both have (``waterfall.spectra_section``)."""
     rows = store.history(machine, point)
     readings = store.readings(machine)
     files = [r["machine_file"] for r in readings if r["machine_file"]]
@@ -296,4 +299,24 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None), limits=limits,
                           point=point, plots=plots, repairs=repairs)
     doc["store"] = str(store.path)
+    if waterfall or compare is not None:
+        _add_spectra(doc, store, machine, point, compare, plots)
     return doc
+
+
+def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool) -> None:
+    """Each point's spectra over time (``waterfall.spectra_section``); with ``compare``, at the points both
+    readings have (``point`` named: that point must have both)."""
+    from ..common.errors import UsageError
+    from .waterfall import spectra_section
+
+    for entry in doc["points"]:
+        try:
+            entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots)
+        except UsageError:
+            if point is not None:
+                raise
+            entry["spectra"] = None
+    if compare is not None and not any(e.get("spectra") for e in doc["points"]):
+        raise UsageError(f"--compare: readings {compare[0]} and {compare[1]} are not both stored readings of "
+                         f"{machine} at one point (`tellwave history` lists the ids and points)")

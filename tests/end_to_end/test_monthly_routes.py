@@ -124,3 +124,32 @@ def test_each_reading_report_of_a_later_survey_shows_its_trend(surveyed):
     assert 'id="trend"' not in first                      # nothing stored before the first survey
     assert 'id="trend"' in third and "P1H: overall velocity" in third
     assert "3 readings since 2026-01-12" in third
+
+
+def test_the_spectra_of_a_point_over_the_surveys(surveyed, tmp_path, capsys):
+    """The README's commands: a waterfall of P1H's three surveys and an overlay of the first and last."""
+    from support import HtmlChecker
+
+    _, store = surveyed
+    capsys.readouterr()
+    assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--waterfall", "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    jsonschema.validate(doc, load_schema("trend.schema.json"))
+    section = doc["points"][0]["spectra"]
+    assert [r["has_spectrum"] for r in section["readings"]] == [True] * 3
+    marks = {m["label"]: m["frequency_hz"] for m in section["marks"]}
+    # the demo pump runs at 1486 r/min (its machine file); the drive-end bearing's inner race grows month by month
+    assert marks["1X"] == pytest.approx(1486 / 60, rel=0.01) and marks["2X"] == pytest.approx(2 * marks["1X"])
+    bpfi = next(c for c in section["changes"] if c["at"] == "BPFI")
+    assert bpfi["change"] > 0 and abs(bpfi["frequency_hz"] - marks["BPFI"]) < 2 * section["readings"][0]["step_hz"]
+    out = tmp_path / "w.html"
+    assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--waterfall", "--format", "html",
+                 "-o", str(out)]) == 0
+    html = out.read_text()
+    checker = HtmlChecker()
+    checker.feed(html)
+    assert not checker.errors and "velocity spectra of 3 surveys" in html and ">BPFI<" in html
+    ids = [r["id"] for r in section["readings"]]
+    assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--compare", f"{ids[0]},{ids[-1]}"]) == 0
+    text = capsys.readouterr().out
+    assert f"largest changes, reading {ids[0]} to {ids[-1]}" in text and "(BPFI)" in text

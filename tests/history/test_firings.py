@@ -37,8 +37,8 @@ def test_schema_5_migrates_to_6_and_its_readings_read_as_stored_before_firings_w
                              " VALUES ('h0', ?, 'a.wav', '2026-01-01T00:00:00', 'route', 'now')", (PUMP,)).lastrowid
         _finding(old, rid)
         assert "firings" not in [r[0] for r in old.db.execute("SELECT name FROM sqlite_master")]
-    with Store(path) as new:
-        assert new.version == SCHEMA_VERSION == 6
+    with Store(path, migrate_to=6) as new:
+        assert new.version == 6 < SCHEMA_VERSION
         (judged,) = new.judged()
         assert judged["id"] == rid and judged["firings_kept"] is False and judged["firings"] == []
         assert judged["findings"] == [{"component": "pump", "fault": "unbalance"}]

@@ -1,0 +1,257 @@
+"""Spectra over time at one point: a waterfall of its stored surveys and an overlay of two, as plain data.
+
+Each stored reading (schema 7 on) keeps a compact velocity spectrum per
+channel (``engine.analysis.compact``: the peak of each group of lines) and the
+forcing frequencies the analysis named. This module reads them from the store
+(``Store.spectra``), puts two spectra on one grid to list the lines that
+changed most, and draws the figures with ``engine.report.svg``: the waterfall
+oldest at the back and each survey raised above the one before, the overlay
+of two readings; forcing frequencies marked by name (1X, 2X, BPFO...) with a
+legend. A reading stored before schema 7 has no spectrum, and the section
+says so.
+"""
+
+from __future__ import annotations
+
+from datetime import datetime
+
+import numpy as np
+
+from ..common.errors import UsageError
+
+MOST_SURVEYS = 24         # the latest surveys a waterfall shows
+CHANGES_LISTED = 8        # the lines that changed most, listed per comparison
+HARMONICS = (1, 2, 3)     # orders of the point's shaft marked
+NO_SPECTRUM = ("stored before schema 7, which keeps no spectrum; diagnose it again "
+               "(`tellwave route ... --again`) to add one")
+MATCH_FRACTION = 0.005    # a line within one kept line and 0.5 % of a forcing frequency is named by it
+ORDERS_DRAWN = 12         # the figures show at least 12 orders of the point's shaft
+FORCING_MARGIN = 1.3      # and 30 % beyond its highest marked forcing frequency
+COLORS = ("#7a7a7a", "#1a1a1a")     # overlay: the earlier reading grey, the later black
+
+
+def marks_for(forcing: list[dict], shaft: str | None, at: str | None, f_max_hz: float) -> list[dict]:
+    """The forcing frequencies to mark at a point below ``f_max_hz``: 1X, 2X, 3X of the shaft under the point,
+    the defect rates of the bearing it sits at, and the gear, belt, vane, blade and electrical lines of
+    its shaft (of any shaft for meshes and belts, which both shafts carry). Each: label, name, component,
+    frequency_hz, what (words for the legend)."""
+    out = []
+    for f in forcing:
+        hz, family = f["frequency_hz"], f["family"]
+        if f["name"] == "1X" and f["component"] == shaft:
+            out += [{"label": f"{k}X", "name": f"{k}X", "component": shaft, "frequency_hz": k * hz,
+                     "what": f"{'running speed' if k == 1 else f'{k} x running speed'} of shaft {shaft}"}
+                    for k in HARMONICS]
+        elif family == "bearing" and f["component"] == at:
+            out.append({"label": f["name"], "name": f["name"], "component": at, "frequency_hz": hz,
+                        "what": f"{f['name']} of bearing {at}"})
+        elif family not in ("shaft", "bearing") and (f["shaft"] == shaft or family in ("gear", "belt")):
+            out.append({"label": f["name"], "name": f["name"], "component": f["component"], "frequency_hz": hz,
+                        "what": f"{f['name']} of {f['component']}"})
+    seen, kept = set(), []
+    for m in sorted(out, key=lambda m: m["frequency_hz"]):
+        key = (m["label"], round(m["frequency_hz"], 3))
+        if 0 < m["frequency_hz"] <= f_max_hz and key not in seen:
+            seen.add(key)
+            kept.append(m)
+    return kept
+
+
+def on_grid(amplitude: np.ndarray, step_hz: float, resolution_hz: float, grid_step_hz: float, lines: int) -> np.ndarray:
+    """A compact spectrum carried onto a coarser grid (``grid_step_hz`` per line, ``lines`` lines) by the
+    peak of the lines that fall in each: a tone keeps its amplitude."""
+    centres = (np.arange(len(amplitude)) + 0.5) * step_hz - 0.5 * resolution_hz
+    index = np.floor(centres / grid_step_hz).astype(int)
+    keep = (index >= 0) & (index < lines)
+    out = np.zeros(lines)
+    np.maximum.at(out, index[keep], amplitude[keep].astype(float))
+    return out
+
+
+def largest_changes(a: dict, b: dict, marks: list[dict], n: int = CHANGES_LISTED) -> list[dict]:
+    """The ``n`` lines whose amplitude changed most from reading ``a`` to reading ``b`` (rows of
+    ``Store.spectra``), on the coarser of their grids up to the lower of their last lines, each at least
+    three lines from a larger one: frequency_hz, before, after, change (mm/s RMS), and the forcing
+    frequency, harmonic or 1X sideband it lies at (within one line and 0.5 %), if any."""
+    step = max(a["step_hz"], b["step_hz"])
+    top = min(len(a["amplitudes"]) * a["step_hz"], len(b["amplitudes"]) * b["step_hz"])
+    lines = int(top / step)
+    if lines < 1:
+        return []
+    before = on_grid(a["amplitudes"], a["step_hz"], a["resolution_hz"], step, lines)
+    after = on_grid(b["amplitudes"], b["step_hz"], b["resolution_hz"], step, lines)
+    change = after - before
+    taken: list[int] = []
+    for i in np.argsort(-np.abs(change), kind="stable"):
+        if len(taken) == n or change[i] == 0:
+            break
+        if all(abs(int(i) - j) > 3 for j in taken):
+            taken.append(int(i))
+    coarse = a if a["step_hz"] >= b["step_hz"] else b
+    names = named_lines(marks)
+    out = []
+    for i in taken:
+        hz = (i + 0.5) * step - 0.5 * coarse["resolution_hz"]
+        near = [(abs(f - hz), label) for f, label in names if abs(f - hz) <= step + MATCH_FRACTION * f]
+        out.append({"frequency_hz": round(hz, 3), "before": _r(before[i]), "after": _r(after[i]),
+                    "change": _r(change[i]), "at": min(near)[1] if near else None})
+    return out
+
+
+def named_lines(marks: list[dict]) -> list[tuple[float, str]]:
+    """(Hz, name) of the lines a change can be named by: each mark, the 2nd and 3rd harmonics of the
+    forcing frequencies that are not shaft orders (2xBPFI), and their sidebands at 1X (BPFI-1X, BPFI+1X)."""
+    one_x = next((m["frequency_hz"] for m in marks if m["name"] == "1X"), None)
+    out = [(m["frequency_hz"], m["label"]) for m in marks]
+    for m in marks:
+        if m["name"].endswith("X") and m["name"][:-1].isdigit():
+            continue
+        out += [(k * m["frequency_hz"], f"{k}x{m['label']}") for k in (2, 3)]
+        if one_x:
+            out += [(m["frequency_hz"] - one_x, f"{m['label']}-1X"), (m["frequency_hz"] + one_x, f"{m['label']}+1X")]
+    return out
+
+
+def _r(x: float) -> float:
+    return float(f"{float(x):.4g}")
+
+
+def _when(row: dict) -> str:
+    return datetime.fromisoformat(row["taken_at"]).strftime("%Y-%m-%d %H:%M")
+
+
+def _by_reading(rows: list[dict]) -> list[dict]:
+    """One row per reading: its first channel with a spectrum, else its first channel."""
+    out: dict[int, dict] = {}
+    for r in rows:
+        if r["id"] not in out or (out[r["id"]]["amplitudes"] is None and r["amplitudes"] is not None):
+            out[r["id"]] = r
+    return sorted(out.values(), key=lambda r: (r["taken_at"], r["id"]))
+
+
+def _listed(r: dict) -> dict:
+    """A reading as the section lists it: no spectrum, and why, or its lines."""
+    entry = {"id": r["id"], "taken_at": r["taken_at"], "channel": r["channel"], "has_spectrum": False,
+             "why": None, "step_hz": None, "lines": 0, "largest_mm_s": None, "largest_at_hz": None, "amplitudes": None}
+    if r["amplitudes"] is None:
+        entry["why"] = (NO_SPECTRUM if not r["spectra_kept"] else
+                        "its spectrum is damaged in the store" if r["damaged"] else
+                        "no spectrum kept: the channel's scale was not trusted")
+        return entry
+    a = r["amplitudes"]
+    k = int(np.argmax(a))
+    entry.update(has_spectrum=True, step_hz=r["step_hz"], lines=len(a), largest_mm_s=_r(a[k]),
+                 largest_at_hz=round((k + 0.5) * r["step_hz"] - 0.5 * r["resolution_hz"], 3),
+                 amplitudes=[_r(v) for v in a])
+    return entry
+
+
+def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
+                    compare: tuple[int, int] | None = None, plots: bool = False) -> dict:
+    """Spectra over time at ``point``: the readings (with their compact spectra, or why none), the forcing
+    frequencies marked, the largest changes per line (first to last survey of the waterfall, or between the
+    two readings of ``compare``), and with ``plots`` the SVG figures. ``compare`` ids must be stored readings
+    of ``machine`` at ``point`` (a UsageError otherwise)."""
+    rows = _by_reading(store.spectra(machine, point))
+    section: dict = {"point": point, "quantity": "velocity", "unit": "mm/s RMS", "readings": [],
+                     "marks": [], "marks_from": None, "waterfall": None, "compare": None,
+                     "without_spectrum": 0, "surveys_left_out": 0, "changes": [], "changes_from": None,
+                     "changes_to": None}
+    if compare is not None:
+        known = {r["id"]: r for r in rows}
+        missing = [i for i in compare if i not in known]
+        if missing:
+            raise UsageError(f"--compare: reading {missing[0]} is not a stored reading of {machine} at point "
+                             f"{point} (`tellwave history` lists the ids)")
+        shown = [known[i] for i in compare]
+    else:
+        shown = rows[-MOST_SURVEYS:] if waterfall else []
+        section["surveys_left_out"] = len(rows) - len(shown)
+    section["readings"] = [_listed(r) for r in shown]
+    with_spectrum = [r for r in shown if r["amplitudes"] is not None]
+    section["without_spectrum"] = len(shown) - len(with_spectrum)
+    if not with_spectrum:
+        return section
+    latest = with_spectrum[-1]
+    f_max = max(len(r["amplitudes"]) * r["step_hz"] for r in with_spectrum)
+    marks = marks_for(latest["forcing"], latest["shaft"], latest["at"], f_max)
+    section.update(marks=marks, marks_from={"id": latest["id"], "taken_at": latest["taken_at"]})
+    if compare is not None:
+        a, b = shown
+        both = a["amplitudes"] is not None and b["amplitudes"] is not None
+        section["compare"] = {"ids": list(compare), "changes": largest_changes(a, b, marks) if both else [],
+                              "svg": _overlay(point, a, b, marks) if plots and both else None}
+        section.update(changes=section["compare"]["changes"], changes_from=a["id"], changes_to=b["id"])
+    else:
+        first = with_spectrum[0]
+        section["waterfall"] = {
+            "surveys": len(with_spectrum), "first": first["id"], "last": latest["id"],
+            "changes": largest_changes(first, latest, marks) if first is not latest else [],
+            "svg": _waterfall(point, with_spectrum, marks) if plots else None}
+        section.update(changes=section["waterfall"]["changes"], changes_from=first["id"], changes_to=latest["id"])
+    return section
+
+
+def _frequencies(r: dict) -> np.ndarray:
+    return (np.arange(len(r["amplitudes"])) + 0.5) * r["step_hz"] - 0.5 * r["resolution_hz"]
+
+
+def _svg_marks(marks: list[dict]):
+    from ..report.svg import Mark
+
+    return [Mark(m["frequency_hz"], m["label"], strong=m["name"] == "1X") for m in marks]
+
+
+def drawn_to_hz(rows: list[dict], marks: list[dict]) -> float:
+    """The highest frequency the figures draw: 12 orders of the point's shaft or 1.3 times its highest marked
+    forcing frequency, whichever is higher, within what is stored (the tables cover everything stored)."""
+    stored = max(float(_frequencies(r)[-1]) for r in rows)
+    one_x = next((m["frequency_hz"] for m in marks if m["name"] == "1X"), 0.0)
+    wanted = max(ORDERS_DRAWN * one_x, FORCING_MARGIN * max((m["frequency_hz"] for m in marks), default=0.0))
+    return min(stored, wanted) if wanted > 0 else stored
+
+
+def _waterfall(point: str, rows: list[dict], marks: list[dict]) -> str:
+    """The waterfall: the oldest survey at the top (the back), each later one lower and drawn over it."""
+    from ..report.svg import Plot, Series, render
+
+    tallest = max(float(np.max(r["amplitudes"])) for r in rows)
+    rise = 0.6 * tallest if tallest > 0 else 1.0
+    n = len(rows)
+    series, ticks = [], []
+    for k, r in enumerate(rows):                      # oldest first: drawn first, so later ones cover it
+        offset = (n - 1 - k) * rise
+        series.append(Series(_frequencies(r), r["amplitudes"].astype(float) + offset, width=0.7,
+                             color="#1a1a1a" if k == n - 1 else "#2a5d8a", fill_to=offset))
+        ticks.append((offset, _when(r)[:10]))
+    f_max = drawn_to_hz(rows, marks)
+    plot = Plot(f"{point}: velocity spectra of {n} surveys, oldest at the back, each {rise:.3g} mm/s RMS above "
+                "the next", "frequency, Hz", "", series=series, marks=_svg_marks(marks),
+                xlim=(0.0, f_max), ylim=(0.0, (n - 1) * rise + 1.15 * tallest if tallest > 0 else n),
+                height=min(640, 160 + 26 * n), ytick_labels=ticks)
+    return render(plot)
+
+
+def _overlay(point: str, a: dict, b: dict, marks: list[dict]) -> str:
+    """Two readings' spectra on one axis: the first grey, the second black."""
+    from ..report.svg import Plot, Series, render
+
+    f_max = drawn_to_hz([a, b], marks)
+    plot = Plot(f"{point}: velocity spectrum of reading {a['id']} ({_when(a)}, grey) and {b['id']} "
+                f"({_when(b)}, black)", "frequency, Hz", "mm/s RMS",
+                series=[Series(_frequencies(r), r["amplitudes"].astype(float), color=c, width=0.8)
+                        for r, c in zip((a, b), COLORS)],
+                marks=_svg_marks(marks), xlim=(0.0, f_max), height=300)
+    return render(plot)
+
+
+def parse_compare(text: str) -> tuple[int, int]:
+    """``--compare ID1,ID2`` as two reading ids; a UsageError for anything else."""
+    parts = [p.strip() for p in text.split(",")]
+    if len(parts) != 2 or not all(p.isdigit() and 0 < len(p) <= 18 for p in parts):
+        raise UsageError(f"--compare {text!r}: expected two stored reading ids, e.g. --compare 12,40 "
+                         "(`tellwave history MACHINE` lists them)")
+    a, b = int(parts[0]), int(parts[1])
+    if a == b:
+        raise UsageError(f"--compare {text!r}: name two different readings")
+    return a, b

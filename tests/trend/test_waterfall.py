@@ -1,0 +1,174 @@
+"""Spectra over time at a point: the waterfall and the overlay of two readings are well-formed, escaped SVG with
+the forcing frequencies marked where they lie; the largest changes are found and named; readings stored
+before schema 7 say they have no spectrum; bad --compare ids are one line with exit 2."""
+
+from __future__ import annotations
+
+import json
+import re
+
+import jsonschema
+import numpy as np
+import pytest
+
+from engine.analysis.compact import CompactSpectrum
+from engine.cli import main
+from engine.common.yamlfile import load_schema
+from engine.history.record import spectra_of
+from engine.history.store import Store
+from engine.report import render
+from engine.report.svg import MARGIN_LEFT, MARGIN_RIGHT, WIDTH
+from engine.trend import trend_document
+from engine.trend.waterfall import NO_SPECTRUM, largest_changes, marks_for, parse_compare, spectra_section
+
+from support import HtmlChecker, one_error_line
+
+PUMP = "RW-2 raw water pump"
+ONE_X, BPFI, STEP = 24.5, 203.5, 0.5        # tones on the grid's lines (invented demo values)
+FORCING = [{"name": "1X", "component": "pump", "family": "shaft", "shaft": "pump", "frequency_hz": ONE_X},
+           {"name": "BPFI", "component": "pump_de", "family": "bearing", "shaft": "pump", "frequency_hz": BPFI},
+           {"name": "BPFO", "component": "motor_de", "family": "bearing", "shaft": "motor", "frequency_hz": 130.8},
+           {"name": "vane pass", "component": "impeller", "family": "flow", "shaft": "pump", "frequency_hz": 148.5},
+           {"name": "2xLF", "component": "M-RW2", "family": "electrical", "shaft": "motor", "frequency_hz": 100.0}]
+
+
+def _amplitudes(bpfi_mm_s: float) -> np.ndarray:
+    a = np.full(1600, 0.001)
+    for hz, v in ((ONE_X, 0.5), (2 * ONE_X, 0.1), (BPFI, bpfi_mm_s), (2 * BPFI, bpfi_mm_s / 2)):
+        a[round(hz / STEP)] = v               # the line whose group holds hz: step = resolution, one line a group
+    return a
+
+
+def _record(n: int, month: int, bpfi_mm_s: float, point: str = "P1H", spectrum: bool = True) -> dict:
+    rec = {"content_hash": f"h{n}", "machine": PUMP, "machine_file": None, "source": f"r{n}.wav",
+           "taken_at": f"2026-{month:02d}-12T08:30:00", "time_from": "route", "speed_rpm": 1485.0, "elapsed_s": 0.1,
+           "fs_hz": 25600.0, "duration_s": 4.0,
+           "verdict": {"urgency": "watch", "urgency_label": "watch", "worst_zone": "A", "withheld": False,
+                       "summary": "s"},
+           "top": None, "hypotheses": [],
+           "channels": [{"channel": "ch1", "point": point, "direction": "horizontal", "location": "pump_de",
+                         "zone": "A"}],
+           "indicators": [{"channel": "ch1", "name": "velocity_rms_mm_s", "value": 1.0 + month / 10}]}
+    if spectrum:
+        sp = CompactSpectrum("ch1", point, "pump", "pump_de", "velocity", "mm/s RMS", STEP, STEP,
+                             _amplitudes(bpfi_mm_s).astype(np.float32))
+        rec.update(spectra=spectra_of([sp], {"ch1"}), forcing=FORCING)
+    return rec
+
+
+@pytest.fixture
+def store(tmp_path):
+    path = tmp_path / "h.sqlite"
+    with Store(path) as s:
+        s.add(_record(1, 1, 0.0, spectrum=False))           # as a reading stored before schema 7 reads
+        s.db.execute("UPDATE readings SET spectra_kept = NULL")
+        for month, bpfi in ((2, 0.01), (3, 0.04), (4, 0.16)):
+            s.add(_record(month, month, bpfi))
+    return path
+
+
+def test_the_marks_are_the_points_shaft_orders_bearing_rates_and_its_shafts_other_lines():
+    marks = marks_for(FORCING, "pump", "pump_de", 1000.0)
+    assert [(m["label"], m["frequency_hz"]) for m in marks] == [
+        ("1X", ONE_X), ("2X", 2 * ONE_X), ("3X", 3 * ONE_X), ("vane pass", 148.5), ("BPFI", BPFI)]
+    assert [m["label"] for m in marks_for(FORCING, "pump", "pump_de", 100.0)] == ["1X", "2X", "3X"]
+
+
+def test_the_largest_changes_are_found_and_named(store):
+    with Store(store, create=False) as s:
+        rows = [r for r in s.spectra(PUMP, "P1H") if r["amplitudes"] is not None]
+    changes = largest_changes(rows[0], rows[-1], marks_for(FORCING, "pump", "pump_de", 1000.0))
+    assert [(c["at"], c["change"]) for c in changes[:2]] == [("BPFI", pytest.approx(0.15)),
+                                                             ("2xBPFI", pytest.approx(0.075))]
+    assert changes[0]["frequency_hz"] == pytest.approx(BPFI, abs=STEP)
+    assert changes[0]["before"] == pytest.approx(0.01) and changes[0]["after"] == pytest.approx(0.16)
+
+
+def _mark_xs(svg: str) -> list[float]:
+    """x of every vertical mark line (the mark colour) in an SVG."""
+    return [float(m.group(1)) for m in re.finditer(r'<line x1="([\d.]+)" y1="[\d.]+" x2="\1" y2="[\d.]+" '
+                                                   r'stroke="#8a2d2a"', svg)]
+
+
+def test_the_waterfall_marks_sit_at_the_forcing_frequencies(store):
+    with Store(store, create=False) as s:
+        section = spectra_section(s, PUMP, "P1H", plots=True)
+    svg = section["waterfall"]["svg"]
+    f_max = 12 * ONE_X if 12 * ONE_X > 1.3 * BPFI else 1.3 * BPFI      # the figure's own rule: 12 orders or 1.3 x
+    x0, x1 = MARGIN_LEFT, WIDTH - MARGIN_RIGHT
+
+    def px(hz):
+        return round(x0 + hz / f_max * (x1 - x0), 1)
+    assert sorted(_mark_xs(svg)) == [px(hz) for hz in sorted((ONE_X, 2 * ONE_X, 3 * ONE_X, 148.5, BPFI))]
+    assert svg.count("<polyline") == 3 and svg.count("<polygon") == 3          # three surveys with a spectrum
+    for label in ("1X", "2X", "3X", "BPFI", "vane pass", "2026-02-12", "2026-04-12"):
+        assert f">{label}<" in svg
+    assert section["without_spectrum"] == 1 and section["readings"][0]["why"] == NO_SPECTRUM
+
+
+def test_the_html_is_well_formed_and_escapes_a_hostile_point_name(tmp_path):
+    hostile = 'P1H<script>&"x'
+    path = tmp_path / "h.sqlite"
+    with Store(path) as s:
+        for month, bpfi in ((1, 0.01), (2, 0.1)):
+            s.add(_record(month, month, bpfi, point=hostile))
+        doc = trend_document(s, PUMP, point=hostile, plots=True, waterfall=True)
+        both = trend_document(s, PUMP, point=hostile, plots=True, compare=(1, 2))
+    for d in (doc, both):
+        html = render(d, "html", "trend")
+        checker = HtmlChecker()
+        checker.feed(html)
+        checker.close()
+        assert not checker.errors and checker.stack == [], (checker.errors, checker.stack)
+        assert "<script>" not in html and "P1H&lt;script&gt;&amp;" in html
+    assert both["points"][0]["spectra"]["compare"]["svg"].count("<polyline") == 2
+
+
+def test_text_md_and_json_list_the_changes_and_the_readings_without_a_spectrum(store, capsys):
+    with Store(store, create=False) as s:
+        doc = trend_document(s, PUMP, point="P1H", waterfall=True)
+    text, md = render(doc, "text", "trend"), render(doc, "md", "trend")
+    for out in (text, md):
+        assert "stored before schema 7" in out and "BPFI" in out and "2xBPFI" in out and "--format html" in out
+    assert main(["trend", PUMP, "--point", "P1H", "--waterfall", "--format", "json", "--store", str(store)]) == 0
+    got = json.loads(capsys.readouterr().out)
+    jsonschema.validate(got, load_schema("trend.schema.json"))
+    section = got["points"][0]["spectra"]
+    assert [r["has_spectrum"] for r in section["readings"]] == [False, True, True, True]
+    assert len(section["readings"][-1]["amplitudes"]) == 1600 and section["waterfall"]["svg"] is None
+
+
+def test_compare_gives_the_two_readings_only(store, capsys):
+    assert main(["trend", PUMP, "--point", "P1H", "--compare", "2,4", "--format", "json", "--store", str(store)]) == 0
+    section = json.loads(capsys.readouterr().out)["points"][0]["spectra"]
+    assert [r["id"] for r in section["readings"]] == [2, 4] and section["waterfall"] is None
+    assert section["compare"]["changes"][0]["at"] == "BPFI"
+
+
+@pytest.mark.parametrize("text", ["2", "2,3,4", "a,b", "2,2", "-1,2", "99999999999999999999,1"])
+def test_a_bad_compare_is_a_usage_error(text):
+    from engine.common.errors import UsageError
+
+    with pytest.raises(UsageError, match="--compare"):
+        parse_compare(text)
+
+
+def test_compare_with_a_reading_of_another_point_is_one_line(store, capsys):
+    err = one_error_line(capsys, 2, ["trend", PUMP, "--point", "P1H", "--compare", "2,999", "--store", store])
+    assert "reading 999 is not a stored reading" in err
+    err = one_error_line(capsys, 2, ["trend", PUMP, "--compare", "2,999", "--store", store])
+    assert "not both stored readings" in err
+
+
+def test_a_long_history_shows_the_latest_surveys(tmp_path):
+    from engine.trend.waterfall import MOST_SURVEYS
+
+    with Store(tmp_path / "h.sqlite") as s:
+        for n in range(MOST_SURVEYS + 2):
+            rec = _record(n + 1, 1, 0.01 * n)
+            rec["taken_at"] = f"2026-01-{n + 1:02d}T08:30:00"
+            s.add(rec)
+        section = spectra_section(s, PUMP, "P1H", plots=True)
+    assert len(section["readings"]) == MOST_SURVEYS and section["surveys_left_out"] == 2
+    assert section["readings"][0]["taken_at"].startswith("2026-01-03")        # the two oldest are left out
+    assert section["waterfall"]["svg"].count("<polyline") == MOST_SURVEYS
