@@ -14,7 +14,10 @@ times more finely, so the weight is (k x SNR)^2 (Rife & Boorstyn 1974,
 "Single-tone parameter estimation from discrete-time observations", IEEE
 Trans. Inf. Theory 20(5), for the SNR dependence). Harmonics whose search window holds a line
 frequency harmonic of a motor (which a slipping rotor's harmonics cross) are
-left out.
+left out. The lines found are gathered again at the speed they give until the
+family stops changing, and the speed counts as measured only when they make a
+shaft's family (``hangs_together``): one line near the stated 1X is not a
+measurement.
 
 When no shaft line stands out, the sharpest bearing-tone family of the
 squared envelope spectrum can give the speed instead (``speed_from_tones``),
@@ -372,7 +375,8 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
     there, the lines at odd orders (1X, 3X .. 9X: none if every frequency
     reads doubled), how many harmonics of twice the speed stand out, how far
     the 0.5X and 2X lines stand above their local floors (dB; 0 when no line
-    stands clear) and the largest line at an odd order over the 2X line. Lines
+    stands clear), how far from 0.5X a line is still taken for it (% of 0.5X)
+    and the largest line at an odd order over the 2X line. Lines
     are matched within 0.5 % (or 1.5 lines). ``exclude_hz`` are lines the
     machine puts there at the speed used (other shafts' harmonics, line
     frequency harmonics, pass and mesh frequencies): a half order or a
@@ -435,6 +439,7 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
             "half_to_one_x": half_x / one_x_amp if one_x_amp > 0 else (HALF_WITHOUT_1X if half_x > 0 else 0.0),
             "double_speed_lines": int(even_clear.sum()),
             "half_x_snr_db": float(20 * np.log10(half_amp[0] / half_floor[0])) if half_clear[0] else 0.0,
+            "half_x_window_pct": 100.0 * max(1.5 * df, 0.0025 * speed_hz) / (0.5 * speed_hz),
             "two_x_snr_db": float(20 * np.log10(even_amp[0] / even_floor[0])) if even_clear[0] else 0.0,
             "odd_to_two_x": largest_odd / float(even_amp[0]) if even_clear[0]
             else (HALF_WITHOUT_1X if odd_lines else 0.0)}

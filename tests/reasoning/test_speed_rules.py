@@ -21,6 +21,7 @@ def speed_check(**fields) -> dict:
             "nominal_rpm": 1486.0, "measured_rpm": 1486.0, "source": "1X harmonics", "harmonics": 3,
             "deviation_pct": 0.0, "abs_deviation_pct": 0.0, "one_x_found": True, "odd_order_lines": 2,
             "half_order_lines": 0, "half_to_one_x": 0.0, "double_speed_lines": 1, "half_x_snr_db": 0.0,
+            "half_x_window_pct": 0.5,
             "two_x_snr_db": 30.0, "odd_to_two_x": 3.0, "near_family_lines": 3, "far_family_lines": 0,
             "near_family_chance_pct": 0.01, "far_family_chance_pct": 100.0, "near_one_x_db": 30.0, "far_one_x_db": 0.0,
             "far_over_near_db": -30.0, "family_rpm": 0.0, "family_deviation_pct": 0.0, "abs_family_deviation_pct": 0.0,
@@ -194,3 +195,11 @@ def test_a_clear_half_x_taller_than_1x_with_another_half_order_withholds(reasone
     if withheld:
         text = " ".join(f.because for f in found["rate-contradicted"].support)
         assert "sample rate" in text and "half" in text
+
+
+def test_a_half_x_line_too_coarsely_resolved_to_be_told_from_oil_whirl_does_not_withhold(reasoner):
+    # a 1 s record of a 1797 rpm shaft: lines 1 Hz apart, so 0.5X (15 Hz) is matched within 1.5 Hz, 10 % of it,
+    # which takes in oil whirl at 0.42-0.48X (common practice)
+    fields = {"half_order_lines": 2, "half_to_one_x": 1.3, "half_x_snr_db": 18.0}
+    assert "rate-contradicted" in problems(reasoner, **fields, half_x_window_pct=3.9)
+    assert problems(reasoner, **fields, half_x_window_pct=10.0) == {}
