@@ -38,6 +38,7 @@ MIN_HARMONIC_SNR = 3.0
 HARMONICS = 5
 TONE_LINES = 8              # lines across the search a bearing tone needs to give the speed
 TONE_HARMONICS = 4          # harmonics of one family that must agree
+TONE_SLIP = 0.02            # bearing tones slip up to 2 % against their kinematic rates (Randall & Antoni 2011)
 MERGED_LINES = 2.5          # lines closer than this share the Hann main lobe (4 lines wide)
 HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and none at 1X
 
@@ -321,7 +322,10 @@ def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: flo
 def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
                      search_fraction: float = 0.05) -> SpeedEstimate | None:
     """The reference shaft's speed from the bearing-tone family that stands out most in a squared
-    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does.
+    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does, or if
+    two families stand at speeds further apart than bearings slip (``TONE_SLIP``): the lines are then
+    one bearing's family, which another bearing's family at a wrong speed would take for its own, and
+    they do not say which speed is right.
 
     Parameters
     ----------
@@ -353,17 +357,21 @@ def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
     24.874
     """
     best = None
+    scales = []
     for rate in rates_hz:
         if rate * search_fraction < TONE_LINES * ses.resolution_hz:
             continue            # too few lines across the search to place the tone finely
         targets = [(k * rate, k) for k in range(1, HARMONICS + 1)]
         scale, hits, weights = _comb(ses, targets, search_fraction, ())
         if len(hits) >= TONE_HARMONICS and any(k == 1 for _, k in hits):
+            scales.append(scale)
             strength = float(np.sum(weights))
             if best is None or strength > best[0]:
                 best = (strength, scale, len(hits))
     if best is None:
         return None
+    if max(scales) - min(scales) > TONE_SLIP:
+        return None             # two families need speeds further apart than slip: one is another bearing's
     return SpeedEstimate(best[1] * nominal_hz, nominal_hz, (), False, "bearing tones", best[2])
 
 

@@ -63,3 +63,14 @@ def test_a_lone_1x_is_confirmed_by_a_pair_of_sidebands_round_a_shaft_locked_carr
     alone = spectrum_of((24.7, 1.0), (gmf, 1.0))
     assert hangs_together(with_sides, [(25.0, 1)], 0.988, [13 * 25.0])
     assert not hangs_together(alone, [(25.0, 1)], 0.988, [13 * 25.0])
+
+
+def test_bearing_tones_that_two_families_claim_at_speeds_further_apart_than_slip_give_no_speed():
+    # one tone family at 89.15 Hz: a family of rate 89.6 Hz puts the speed 0.5 % low, one of rate 85.9 Hz puts it
+    # 3.8 % high; bearing tones slip 1-2 % (Randall & Antoni 2011, MSSP 25(2), section 2), so the lines cannot
+    # say which family, and so which speed, they are
+    from engine.analysis.speed import speed_from_tones
+    t = np.arange(65536) / FS
+    ses = amplitude_spectrum(sum(np.cos(2 * np.pi * k * 89.15 * t) for k in range(1, 5)), FS)
+    assert speed_from_tones(ses, [89.6], 25.0) is not None
+    assert speed_from_tones(ses, [89.6, 85.9], 25.0) is None
