@@ -203,3 +203,12 @@ def test_a_half_x_line_too_coarsely_resolved_to_be_told_from_oil_whirl_does_not_
     fields = {"half_order_lines": 2, "half_to_one_x": 1.3, "half_x_snr_db": 18.0}
     assert "rate-contradicted" in problems(reasoner, **fields, half_x_window_pct=3.9)
     assert problems(reasoner, **fields, half_x_window_pct=10.0) == {}
+
+
+def test_a_slow_shaft_without_a_family_near_its_stated_speed_is_not_contradicted(reasoner):
+    # below 600 rpm (1X under 10 Hz) a shaft's own lines need not stand over the floor (the MFPT field record
+    # at 380 rpm shows none), so a chance family elsewhere does not overrule the stated speed
+    fields = FAMILY_ELSEWHERE | {"source": "stated", "near_one_x_db": 0.0, "far_over_near_db": 18.0}
+    assert "rate-contradicted" in problems(reasoner, **fields, stated_rpm=600.0)
+    assert problems(reasoner, **fields, stated_rpm=380.0, measured_rpm=380.0, nominal_rpm=380.0, allowed_low_rpm=0.0,
+                    allowed_high_rpm=0.0, allowed_by="") == {}
