@@ -38,7 +38,6 @@ MIN_HARMONIC_SNR = 3.0
 HARMONICS = 5
 TONE_LINES = 8              # lines across the search a bearing tone needs to give the speed
 TONE_HARMONICS = 4          # harmonics of one family that must agree
-SHAFT_WINDOW_LINES = 2.0    # lines each half of the speed search must hold for a shaft harmonic to count
 TONE_SLIP = 0.02            # bearing tones slip up to 2 % against their kinematic rates (Randall & Antoni 2011)
 MERGED_LINES = 2.5          # lines closer than this share the Hann main lobe (4 lines wide)
 HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and none at 1X
@@ -62,16 +61,15 @@ class SpeedEstimate:
 
 
 def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: float, exclude_hz,
-          centre: float = 1.0, window_lines: float = 1.0) -> tuple:
+          centre: float = 1.0) -> tuple:
     """(best scale, lines found, weights) of a harmonic comb over ``targets`` (Hz at scale 1, order),
-    searched within ``search_fraction`` of the scale ``centre``; a target counts only where that
-    half-width holds ``window_lines`` lines."""
+    searched within ``search_fraction`` of the scale ``centre``."""
     amp = spec.amplitude
     df = spec.resolution_hz
     excluded = np.asarray(exclude_hz, dtype=float)
     kept = []
     for hz, k in targets:
-        if hz * centre * (1 + search_fraction) >= spec.fmax_hz or hz * search_fraction < window_lines * df:
+        if hz * centre * (1 + search_fraction) >= spec.fmax_hz or hz * search_fraction < df:
             continue            # above Fmax, or so few lines up that its line cannot refine the speed
         if excluded.size and k > 1 and np.any(np.abs(hz - excluded) <= hz * search_fraction + 2 * df):
             continue
@@ -198,9 +196,7 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
     targets = _distinguishable(harmonics + synchronous, search_fraction, spec.resolution_hz)
     low = [t for t in targets if t in {(k * hz, k) for hz in distinct for k in range(1, HARMONICS + 1)}]
     high = [t for t in targets if t in set(synchronous)]
-    # a line is taken within one line of its order, so it tells speeds apart only where the search holds
-    # several lines: each half of it at least two (a line then fixes the speed to half the search or better)
-    scale, hits, _ = _comb(spec, low, search_fraction, exclude_hz, window_lines=SHAFT_WINDOW_LINES)
+    scale, hits, _ = _comb(spec, low, search_fraction, exclude_hz)
     nominal = shafts_hz[reference]
     if not hits:
         return SpeedEstimate(nominal, nominal, (), False, "stated", 0)
