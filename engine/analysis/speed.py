@@ -14,7 +14,10 @@ times more finely, so the weight is (k x SNR)^2 (Rife & Boorstyn 1974,
 "Single-tone parameter estimation from discrete-time observations", IEEE
 Trans. Inf. Theory 20(5), for the SNR dependence). Harmonics whose search window holds a line
 frequency harmonic of a motor (which a slipping rotor's harmonics cross) are
-left out.
+left out. The lines found are gathered again at the speed they give until the
+family stops changing, and the speed counts as measured only when they make a
+shaft's family (``hangs_together``): one line near the stated 1X is not a
+measurement.
 
 When no shaft line stands out, the sharpest bearing-tone family of the
 squared envelope spectrum can give the speed instead (``speed_from_tones``),
@@ -35,6 +38,7 @@ MIN_HARMONIC_SNR = 3.0
 HARMONICS = 5
 TONE_LINES = 8              # lines across the search a bearing tone needs to give the speed
 TONE_HARMONICS = 4          # harmonics of one family that must agree
+TONE_SLIP = 0.02            # bearing tones slip up to 2 % against their kinematic rates (Randall & Antoni 2011)
 MERGED_LINES = 2.5          # lines closer than this share the Hann main lobe (4 lines wide)
 HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and none at 1X
 
@@ -80,20 +84,46 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
     lines = np.clip(np.rint(np.outer(scales, freqs) / df).astype(int), 1, len(amp) - 2)
     local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
     score = (np.log1p(local / floors[None, :]) / orders[None, :]).sum(axis=1)
-    best = float(scales[np.argmax(score)])
-    found = peaks_near(spec, freqs * best, 1.5 * df)
-    estimates, weights, hits = [], [], []
-    for i, (hz, _k) in enumerate(kept):
-        if not found.found[i] or found.amplitude[i] / floors[i] < MIN_HARMONIC_SNR:
-            continue
-        if abs(found.freq_hz[i] - best * hz) > df or abs(found.freq_hz[i] / hz / centre - 1) > search_fraction:
-            continue            # a neighbour's line, not this harmonic
-        estimates.append(found.freq_hz[i] / hz)
-        weights.append((orders[i] * min(found.amplitude[i] / floors[i], 100.0)) ** 2)
-        hits.append(i)
+    # every line is taken within +-1 line, so the best score holds over a run of scales: its middle puts each
+    # harmonic nearest its line (the run's edge would leave the high orders a line or more off)
+    top = int(np.argmax(score))
+    last = top
+    while last + 1 < len(score) and score[last + 1] == score[top]:
+        last += 1
+    best = float(scales[(top + last) // 2])
+
+    def agreeing(scale: float) -> tuple[list[float], list[float], list[int]]:
+        """(speed estimates, weights, indices) of the targets whose line stands within one line of its
+        order at ``scale``, three times its floor, and within the search."""
+        found = peaks_near(spec, freqs * scale, 1.5 * df)
+        estimates, weights, hits = [], [], []
+        for i, (hz, _k) in enumerate(kept):
+            if not found.found[i] or found.amplitude[i] / floors[i] < MIN_HARMONIC_SNR:
+                continue
+            if abs(found.freq_hz[i] - scale * hz) > df or abs(found.freq_hz[i] / hz / centre - 1) > search_fraction:
+                continue            # a neighbour's line, not this harmonic
+            estimates.append(found.freq_hz[i] / hz)
+            weights.append((orders[i] * min(found.amplitude[i] / floors[i], 100.0)) ** 2)
+            hits.append(i)
+        return estimates, weights, hits
+
+    # the lines found at the comb's best scale give a speed; at that speed the lines of the family that
+    # stand within one line of their orders are gathered again, until the family stops changing: a line
+    # that needs a speed of its own (one strong unrelated line that pulled the comb) drops out, and the
+    # family's other members, which the pull left more than a line off, come back in
+    estimates, weights, hits = agreeing(best)
     if not hits:
         return best, [], []
-    return float(np.average(estimates, weights=weights)), [kept[i] for i in hits], weights
+    scale = float(np.average(estimates, weights=weights))
+    for _ in range(4):
+        again = agreeing(scale)
+        if not again[2]:
+            break
+        estimates, weights, hits = again
+        previous, scale = scale, float(np.average(estimates, weights=weights))
+        if abs(scale - previous) * freqs.max() < 0.01 * df:
+            break
+    return scale, [kept[i] for i in hits], weights
 
 
 def _distinguishable(targets: list[tuple[float, int]], search_fraction: float, df: float) -> list:
@@ -176,8 +206,79 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
         fine_scale, fine_hits, _ = _comb(spec, low + high, fine, exclude_hz, centre=scale)
         if fine_hits:
             scale, hits = fine_scale, fine_hits
+    if not hangs_together(spec, hits, scale, [hz for hz, _ in synchronous]):
+        return SpeedEstimate(nominal, nominal, (), False, "stated", 0)
     own = tuple(sorted({k for hz, k in hits if abs(hz / k - nominal) <= 1e-9 * nominal}))
     return SpeedEstimate(scale * nominal, nominal, own, True, "1X harmonics", len(hits))
+
+
+def hangs_together(spec: Spectrum, hits: list[tuple[float, int]], scale: float, carriers_hz=()) -> bool:
+    """Whether the lines a speed search found make a shaft family: a 1X with a harmonic, three
+    harmonics, or a 1X confirmed by a pair of sidebands.
+
+    One line near the stated 1X is not a measurement of the speed: any line
+    (a bearing tone's harmonic, a structural resonance, the line frequency's
+    neighbour) can fall within the few percent searched. A shaft shows itself
+    by lines in fixed ratios, each within one line of its order at the one
+    speed they give together (``_comb`` keeps only those): a 1X with at least
+    one more line of the train (a harmonic of it, another shaft's 1X or
+    harmonic, a mesh or pass line); three such lines without a 1X (a shaft
+    with little unbalance shows its 2X and higher harmonics, and two lines
+    without their fundamental can meet by chance more easily than three); or
+    a 1X with lines on both sides of a shaft-locked carrier (a mesh or pass
+    line, ``carriers_hz`` at scale 1) spaced by that 1X, each within one line
+    of where the 1X puts it and ``MIN_HARMONIC_SNR`` over its floor (a shaft's
+    modulation of the carrier gives both sidebands).
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Velocity (or acceleration) amplitude spectrum.
+    hits : list of tuple
+        (Hz at scale 1, order) of every line the search found, as ``refine_speeds`` finds them.
+    scale : float
+        The measured speed over the nominal one.
+    carriers_hz : sequence of float
+        Shaft-locked carriers at scale 1, Hz.
+
+    Returns
+    -------
+    bool
+        True when the lines hang together as one shaft's family.
+
+    References
+    ----------
+    Common practice (a shaft is known by its harmonic family, and a carrier it modulates by sidebands at
+    its 1X on both sides); Randall (2011), "Vibration-based Condition Monitoring", section 2.2.
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(32768) / fs
+    >>> spec = amplitude_spectrum(np.sin(2 * np.pi * 24.7 * t) + 0.5 * np.sin(2 * np.pi * 49.4 * t), fs)
+    >>> hangs_together(spec, [(25.0, 1), (50.0, 2)], 0.988), hangs_together(spec, [(25.0, 1)], 0.988)
+    (True, False)
+    """
+    if len(hits) >= 3:
+        return True
+    if not any(k == 1 for _, k in hits):
+        return False
+    if len(hits) == 2:
+        return True
+    df = spec.resolution_hz
+    one_x = scale * next(hz for hz, k in hits if k == 1)
+    for carrier in (scale * c for c in carriers_hz):
+        if carrier - one_x <= 0 or carrier + one_x + 2 * df >= spec.fmax_hz:
+            continue
+        centre = peaks_near(spec, [carrier], 1.5 * df)
+        if not centre.found[0] or centre.amplitude[0] < MIN_HARMONIC_SNR * spec.floor_at(centre.line)[0]:
+            continue
+        wanted = centre.freq_hz[0] + np.array([-one_x, one_x])
+        sides = peaks_near(spec, wanted, 1.5 * df)
+        stand = sides.found & (sides.amplitude >= MIN_HARMONIC_SNR * spec.floor_at(sides.line))
+        if np.all(stand & (np.abs(sides.freq_hz - wanted) <= df)):
+            return True
+    return False
 
 
 def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: float = 0.05,
@@ -221,7 +322,10 @@ def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: flo
 def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
                      search_fraction: float = 0.05) -> SpeedEstimate | None:
     """The reference shaft's speed from the bearing-tone family that stands out most in a squared
-    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does.
+    envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does, or if
+    two families stand at speeds further apart than bearings slip (``TONE_SLIP``): the lines are then
+    one bearing's family, which another bearing's family at a wrong speed would take for its own, and
+    they do not say which speed is right.
 
     Parameters
     ----------
@@ -253,17 +357,21 @@ def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
     24.874
     """
     best = None
+    scales = []
     for rate in rates_hz:
         if rate * search_fraction < TONE_LINES * ses.resolution_hz:
             continue            # too few lines across the search to place the tone finely
         targets = [(k * rate, k) for k in range(1, HARMONICS + 1)]
         scale, hits, weights = _comb(ses, targets, search_fraction, ())
         if len(hits) >= TONE_HARMONICS and any(k == 1 for _, k in hits):
+            scales.append(scale)
             strength = float(np.sum(weights))
             if best is None or strength > best[0]:
                 best = (strength, scale, len(hits))
     if best is None:
         return None
+    if max(scales) - min(scales) > TONE_SLIP:
+        return None             # two families need speeds further apart than slip: one is another bearing's
     return SpeedEstimate(best[1] * nominal_hz, nominal_hz, (), False, "bearing tones", best[2])
 
 
@@ -275,7 +383,8 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
     there, the lines at odd orders (1X, 3X .. 9X: none if every frequency
     reads doubled), how many harmonics of twice the speed stand out, how far
     the 0.5X and 2X lines stand above their local floors (dB; 0 when no line
-    stands clear) and the largest line at an odd order over the 2X line. Lines
+    stands clear), how far from 0.5X a line is still taken for it (% of 0.5X)
+    and the largest line at an odd order over the 2X line. Lines
     are matched within 0.5 % (or 1.5 lines). ``exclude_hz`` are lines the
     machine puts there at the speed used (other shafts' harmonics, line
     frequency harmonics, pass and mesh frequencies): a half order or a
@@ -338,6 +447,7 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
             "half_to_one_x": half_x / one_x_amp if one_x_amp > 0 else (HALF_WITHOUT_1X if half_x > 0 else 0.0),
             "double_speed_lines": int(even_clear.sum()),
             "half_x_snr_db": float(20 * np.log10(half_amp[0] / half_floor[0])) if half_clear[0] else 0.0,
+            "half_x_window_pct": 100.0 * max(1.5 * df, 0.0025 * speed_hz) / (0.5 * speed_hz),
             "two_x_snr_db": float(20 * np.log10(even_amp[0] / even_floor[0])) if even_clear[0] else 0.0,
             "odd_to_two_x": largest_odd / float(even_amp[0]) if even_clear[0]
             else (HALF_WITHOUT_1X if odd_lines else 0.0)}

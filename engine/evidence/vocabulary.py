@@ -201,6 +201,8 @@ FACTS: dict[str, dict[str, F]] = {
         "double_speed_lines": F("integer", "harmonics of twice the speed (2X, 4X .. 10X) that stand out and "
                                            "no other line of the machine explains", ""),
         "half_x_snr_db": F("number", "the 0.5X line over its local floor, dB (0 when none stands clear)", "dB"),
+        "half_x_window_pct": F("number", "how far from 0.5X a line is still taken for it (1.5 lines or 0.5 %), "
+                               "% of 0.5X", "%"),
         "two_x_snr_db": F("number", "the 2X line over its local floor, dB (0 when none stands clear)", "dB"),
         "odd_to_two_x": F("number", "largest line at 1X, 3X, 5X, 7X or 9X over the 2X line (0 when none stands; "
                                     "100 when they do and 2X does not)", ""),
