@@ -8,6 +8,7 @@ from pathlib import Path
 from ._common import (
     add_reading_options,
     add_readings_argument,
+    add_alarms_option,
     add_site_option,
     input_files,
     load_readings,
@@ -23,6 +24,7 @@ def register(sub) -> None:
     add_readings_argument(p, nargs="+")
     p.add_argument("--machine", required=True, help="machine YAML file")
     add_site_option(p)
+    add_alarms_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
                    help="report format (default text)")
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
@@ -53,7 +55,9 @@ def run(args) -> int:
         output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
     inputs = input_files(args) if output is None else output_target(args, output)    # before the work
     taken = _taken_at(args)
-    machine = load_machine(args.machine)
+    from ..machine.alarms import with_site_alarms
+
+    machine = with_site_alarms(load_machine(args.machine), args.alarms or ())
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
     if args.store is not None:

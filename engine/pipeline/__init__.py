@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..advice import Advice, advise
+from ..alarms import judge_alarms
 from ..analysis import analyse
 from ..analysis.plotdata import PlotSet, plot_set
 from ..evidence import Evidence, run_extractors, summarise
@@ -43,6 +44,7 @@ class Diagnosis:
     advice: Advice
     plots: PlotSet | None            # every channel's plot data from every shaft; the report picks
     reach: tuple[dict, ...] = ()     # faults the reading's settings cannot show or may miss (planner checks)
+    alarms: tuple[dict, ...] = ()    # the site's alarms per point on this reading (``engine.alarms``)
 
     @property
     def facts(self) -> list[dict]:
@@ -79,8 +81,10 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     evidence = summarise(facts)
     reasoning = reasoner.reason(list(evidence.facts))
     advice = advise(machine, evidence, reasoning, advice_data)
+    alarms = judge_alarms(analysis, {lv.channel for lv in evidence.levels if not lv.scale_trusted})
     return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
-                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook))
+                     reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook),
+                     alarms)
 
 
 def reach_of(reading: Reading, machine: Machine, driver_rpm: float, rulebook=None) -> tuple[dict, ...]:
@@ -106,4 +110,4 @@ def document_of(d: Diagnosis, made_at: str | None = None) -> dict:
     from ..report import report_document
 
     return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach,
-                           made_at=made_at)
+                           made_at=made_at, alarms=d.alarms)
