@@ -6,9 +6,9 @@ import sys
 from pathlib import Path
 
 from ._common import (
+    add_alarms_option,
     add_reading_options,
     add_readings_argument,
-    add_alarms_option,
     add_site_option,
     input_files,
     load_readings,
@@ -61,9 +61,11 @@ def run(args) -> int:
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
     if args.store is not None:
+        from ..history.record import content_hash
         from ..pipeline.history import diagnose_and_store
         how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
-               "point": args.point, "direction": args.direction, "channels": args.channels}
+               "point": args.point, "direction": args.direction, "channels": args.channels,
+               "alarms": content_hash(args.alarms) if args.alarms else None}   # other limits: another diagnosis
         d, doc = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store, how=how,
                                     site=args.site, taken_at=args.taken_at, plots=fmt == "html")
     else:
