@@ -47,7 +47,8 @@ def run(args) -> int:
                                 point=args.point)
         name = store.path.name
     if not derived["alarms"]:
-        why = "; ".join(f"{x['point']} {x['band']} {x['quantity']}: {x['why']}" for x in derived["too_few"][:3]) or "no level stored"
+        why = "; ".join(f"{x['point']} {x['band']} {x['quantity']}: {x['why']}"
+                        for x in derived["too_few"][:3]) or "no level stored"
         raise UsageError(f"too few healthy readings of {args.machine} to set any limit "
                          f"({derived['healthy']} healthy of {derived['readings']}; {why})")
     for x in derived["too_few"]:

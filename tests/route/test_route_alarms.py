@@ -102,7 +102,8 @@ def test_the_route_summary_flags_the_machine_and_reading(tmp_path, site):
     [a] = m["readings"][0]["alarms"]
     assert (a["point"], a["band"], a["state"]) == ("P2H", "bearing rates", "danger")
     assert "!! 1 site alarm(s) crossed, worst danger" in (tmp_path / "faulty" / "summary.txt").read_text()
-    assert "<strong class=\"alarm-danger\">1 crossed (danger)</strong>" in (tmp_path / "faulty" / "summary.html").read_text()
+    html = (tmp_path / "faulty" / "summary.html").read_text()
+    assert '<strong class="alarm-danger">1 crossed (danger)</strong>' in html
     with Store(tmp_path / "h.sqlite", create=False) as s:
         [row] = s.history(MACHINE, "P2H")
     assert row["indicators"]["band[bearing rates]_g"] == pytest.approx(a["value"], rel=1e-3)
