@@ -30,6 +30,8 @@ QUANTITY_UNITS = {"velocity_mm_s_rms": "mm/s RMS", "acceleration_g_rms": "g RMS"
 DEFAULT_BEARING_HARMONICS = 3
 LINE_BINS = 2.0          # a Hann-windowed tone spreads over its main lobe, +-2 lines (Heinzel et al. 2002, table 1)
 SHAFT_LINE_FRACTION = 0.005   # shaft-locked lines sit within 0.5 % of the refined speed's multiples (DEVELOPERS.md)
+MAX_ORDER = 1000.0            # the machine schema's largest bearing multiple is 200; a band past 1000X is a typo
+MAX_BAND_HZ = 1_000_000.0     # no reader takes a sample rate above 1 MHz, so no spectrum reaches past it
 BEARING_SLIP_FRACTION = 0.02  # rolling elements slip 1-2 %: bearing rates wander that far (common practice)
 
 _ORDERS = re.compile(r"^(\d+(?:\.\d+)?)(?:-(\d+(?:\.\d+)?))?X$")
@@ -94,6 +96,9 @@ def parse_alarms(items, doc, base: tuple, machine: Machine | None = None) -> tup
             fail("band", f"the band {a['band']!r} must go from low to high")
         if m and not float(m.group(1)) > 0 and _ORDERS.match(a["band"]):
             fail("band", "an order band starts above 0X")
+        top = MAX_ORDER if _ORDERS.match(a["band"]) else MAX_BAND_HZ
+        if m and float(m.group(2) or m.group(1)) > top:
+            fail("band", f"the band {a['band']!r} goes above {top:g}{'X' if top == MAX_ORDER else ' Hz'}")
         alarm = Alarm(a["point"], a["band"], a["quantity"], float(a["alert"]), float(a["danger"]),
                       a.get("source", ""), f"{doc.path}:{doc.line_of(list(where))}")
         if machine is not None:

@@ -95,6 +95,8 @@ def test_a_site_file_overrides_the_machine_files_alarm(tmp_path):
     (_alarm(band="1-2 X"), "alarms.0.band", "does not match"),
     (_alarm(band="3-2X"), "alarms.0.band", "low to high"),
     (_alarm(danger=1.0), "alarms.0.danger", "above the alert level"),
+    (_alarm(band="1" + "0" * 400 + "X"), "alarms.0.band", "goes above 1000X"),
+    (_alarm(band="10-2000000 Hz"), "alarms.0.band", "goes above 1e+06 Hz"),
     (_alarm(band="1X", quantity="acceleration_g_peak"), "alarms.0.quantity", "overall band only"),
     (_alarm(point="P9Z"), "alarms.0.point", "no measurement point 'P9Z'"),
     (_alarm(band="bearing nowhere rates"), "alarms.0.band", "not a bearing"),

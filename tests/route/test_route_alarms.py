@@ -24,8 +24,8 @@ from engine.simulation import as_reading, simulate, write_simulation
 from support import MADE_AT, one_error_line, reasoner
 
 MACHINE = "RW-2 raw water pump"
-# low limits that an outer-race defect of stage 3 at pump_nde crosses in its bearing band, and a 1X limit
-# no healthy pump reaches
+# a bearing-band limit set low enough that the reading crosses it (the flag is what is checked here), and
+# 1X and overall limits that no simulated pump reaches
 ALARMS = {"machines": {MACHINE: [
     {"point": "P2H", "band": "bearing rates", "quantity": "acceleration_g_rms", "alert": 0.002, "danger": 0.004},
     {"point": "P2H", "band": "1X", "quantity": "velocity_mm_s_rms", "alert": 40.0, "danger": 80.0},
