@@ -5,6 +5,7 @@ of mean + k sd from a store of simulated healthy readings (seeded)."""
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 
 import jsonschema
 import numpy as np
@@ -42,7 +43,7 @@ def site(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def outer_race(site):
-    machine = load_machine(PUMP)
+    machine = replace(load_machine(PUMP), alarms=())        # the site file's alarms only, not the demo file's
     sim = simulate(machine, "outer-race", "pump_nde", 3, fs_hz=12800.0, duration_s=2.0, seed=11, points=["P2H"])
     reading = as_reading(sim, "or.wav")
     return (diagnose(reading, with_site_alarms(machine, [site]), reasoner()),
@@ -98,12 +99,16 @@ def test_the_route_summary_flags_the_machine_and_reading(tmp_path, site):
     summary = json.loads((tmp_path / "faulty" / "summary.json").read_text())
     jsonschema.validate(summary, load_schema("route-summary.schema.json"))
     [m] = summary["machines"]
-    assert m["alarms_crossed"] == 1 and m["alarm_state"] == "danger"
-    [a] = m["readings"][0]["alarms"]
+    # the site file's bearing band (danger) and the demo machine file's own P2H peak limit (alert or more)
+    assert m["alarms_crossed"] == 2 and m["alarm_state"] == "danger"
+    a, peak = m["readings"][0]["alarms"]
     assert (a["point"], a["band"], a["state"]) == ("P2H", "bearing rates", "danger")
-    assert "!! 1 site alarm(s) crossed, worst danger" in (tmp_path / "faulty" / "summary.txt").read_text()
+    assert (peak["point"], peak["band"], peak["unit"]) == ("P2H", "overall", "g peak")
+    text = (tmp_path / "faulty" / "summary.txt").read_text()
+    assert f"!! {m['alarms_crossed']} site alarm(s) crossed, worst danger" in text
+    assert "!! site alarms: DANGER P2H bearing rates" in text
     html = (tmp_path / "faulty" / "summary.html").read_text()
-    assert '<strong class="alarm-danger">1 crossed (danger)</strong>' in html
+    assert f'<strong class="alarm-danger">{m["alarms_crossed"]} crossed (danger)</strong>' in html
     with Store(tmp_path / "h.sqlite", create=False) as s:
         [row] = s.history(MACHINE, "P2H")
     assert row["indicators"]["band[bearing rates]_g"] == pytest.approx(a["value"], rel=1e-3)
