@@ -48,7 +48,8 @@ def run(args) -> int:
         name = store.path.name
     if not derived["alarms"]:
         why = "; ".join(f"{x['point']} {x['band']} {x['quantity']}: {x['why']}"
-                        for x in derived["too_few"][:3]) or "no level stored"
+                        for x in derived["too_few"][:3]) or (
+                  "no stored level" if derived["healthy"] else "every stored reading has a confident hypothesis")
         raise UsageError(f"too few healthy readings of {args.machine} to set any limit "
                          f"({derived['healthy']} healthy of {derived['readings']}; {why})")
     for x in derived["too_few"]:

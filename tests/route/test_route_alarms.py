@@ -93,7 +93,7 @@ def _run(route, tmp_path, *more):
                  "--workers", "1", "--quiet", "--format", "json", *map(str, more)])
 
 
-def test_the_route_summary_flags_the_machine_and_reading(tmp_path, site):
+def test_the_route_summary_flags_the_machine_and_reading(tmp_path, site, capsys):
     route = _route(tmp_path / "faulty", 1, ("outer-race", "pump_nde", 3))
     assert _run(route, tmp_path, "--alarms", site) == 0
     summary = json.loads((tmp_path / "faulty" / "summary.json").read_text())
@@ -112,6 +112,10 @@ def test_the_route_summary_flags_the_machine_and_reading(tmp_path, site):
     with Store(tmp_path / "h.sqlite", create=False) as s:
         [row] = s.history(MACHINE, "P2H")
     assert row["indicators"]["band[bearing rates]_g"] == pytest.approx(a["value"], rel=1e-3)
+    # a faulty reading is no healthy one: no limit from it
+    capsys.readouterr()
+    err = one_error_line(capsys, 2, ["alarms", "derive", MACHINE, "--store", tmp_path / "h.sqlite"])
+    assert "0 healthy of 1; every stored reading has a confident hypothesis" in err, err
 
 
 def test_derived_limits_are_mean_plus_k_sd_of_the_healthy_readings(tmp_path, site, capsys):
