@@ -21,7 +21,7 @@ STAGES = {
     "analysis": 2,
     "evidence": 3,
     "reasoning": 4,
-    "advice": 5,
+    "advice": 5, "alarms": 5,
     "report": 6,
     "history": 7, "trend": 7,
     "pipeline": 8, "planner": 8,

@@ -17,6 +17,7 @@ import warnings
 
 from ..common.errors import TellwaveError, UsageError
 from . import (
+    alarms,
     demo,
     demo_route,
     diagnose,
@@ -35,7 +36,7 @@ from . import (
 from ._common import Parser
 
 COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, findings, learn,
-            trend, demo_route)
+            trend, demo_route, alarms)
 EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 

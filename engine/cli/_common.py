@@ -119,6 +119,22 @@ def add_site_option(p) -> None:
                    help="site rulebook folder or file laid over the shipped ones (repeatable)")
 
 
+def add_alarms_option(p) -> None:
+    """Add ``--alarms``: site alarm files whose limits per point replace the machine file's."""
+    p.add_argument("--alarms", action="append", metavar="FILE",
+                   help="site alarm file: limits per point by machine name, over the machine file's (repeatable)")
+
+
+def site_alarms(args) -> dict:
+    """The ``--alarms`` files loaded and checked (machine name -> alarms), before any work."""
+    from ..machine.alarms import load_alarm_file
+
+    out: dict = {}
+    for path in getattr(args, "alarms", None) or []:
+        out.update(load_alarm_file(path))
+    return out
+
+
 def reading_options(args) -> dict:
     """The reading options of the command line as ``load_reading``'s keywords."""
     return dict(sample_rate_hz=args.sample_rate, unit=args.unit, scale=args.scale,
@@ -152,6 +168,7 @@ def input_files(args, route=None) -> list[Path]:
     for name in ("machine", "policy", "plant"):      # trend's and history's machine is a name, not a file
         if getattr(args, name, None) and (name != "machine" or Path(args.machine).is_file()):
             files.append(Path(getattr(args, name)))
+    files += [Path(a) for a in getattr(args, "alarms", None) or []]
     for place in getattr(args, "site", None) or []:
         p = Path(place)
         files += sorted(p.glob("*.y*ml")) if p.is_dir() else [p]

@@ -6,6 +6,7 @@ import sys
 from pathlib import Path
 
 from ._common import (
+    add_alarms_option,
     add_reading_options,
     add_readings_argument,
     add_site_option,
@@ -23,6 +24,7 @@ def register(sub) -> None:
     add_readings_argument(p, nargs="+")
     p.add_argument("--machine", required=True, help="machine YAML file")
     add_site_option(p)
+    add_alarms_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
                    help="report format (default text)")
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
@@ -53,13 +55,17 @@ def run(args) -> int:
         output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
     inputs = input_files(args) if output is None else output_target(args, output)    # before the work
     taken = _taken_at(args)
-    machine = load_machine(args.machine)
+    from ..machine.alarms import with_site_alarms
+
+    machine = with_site_alarms(load_machine(args.machine), args.alarms or ())
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
     if args.store is not None:
+        from ..history.record import content_hash
         from ..pipeline.history import diagnose_and_store
         how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
-               "point": args.point, "direction": args.direction, "channels": args.channels}
+               "point": args.point, "direction": args.direction, "channels": args.channels,
+               "alarms": content_hash(args.alarms) if args.alarms else None}   # other limits: another diagnosis
         d, doc = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store, how=how,
                                     site=args.site, taken_at=args.taken_at, plots=fmt == "html")
     else:

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._common import add_max_samples_option, add_site_option
+from ._common import add_alarms_option, add_max_samples_option, add_site_option
 from ._store import add_store_option
 
 
@@ -22,6 +22,7 @@ def register(sub) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar and no summary on the terminal")
     add_max_samples_option(p)
     add_site_option(p)
+    add_alarms_option(p)
     p.set_defaults(run=run)
 
 
@@ -37,7 +38,7 @@ def run(args) -> int:
     from ..route import load_folder, load_route, route_summary, run_route, summary_paths
     from ..route.runner import check_outputs, trend_paths
     from ..trend import trend_document
-    from ._common import input_files
+    from ._common import input_files, site_alarms
     from ._store import open_store
 
     if args.workers is not None and args.workers < 1:
@@ -54,18 +55,19 @@ def run(args) -> int:
         route = load_route(source)
     out = Path(args.out) if args.out else source.parent / f"{source.stem}-reports"
     inputs = known_inputs(input_files(args, route))
+    site_alarms(args)                                   # a bad alarm file stops here, before any work
     check_outputs(route, out, args.format, inputs)      # before the store is opened (run_route checks again)
     with open_store(args) as store:
         try:
             outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,
                                 again=args.again, fmt=args.format, plots=args.plots, site=args.site or (),
                                 progress=not args.quiet and sys.stderr.isatty(), inputs=inputs,
-                                max_samples=args.max_samples)
+                                max_samples=args.max_samples, alarms=args.alarms or ())
         except KeyboardInterrupt:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)
             return 130
-        doc = route_summary(outcome, store, out)
+        doc = route_summary(outcome, store, out, alarms=args.alarms or ())
         pages = trend_paths(route, out)
         for m in doc["machines"]:        # each machine's trend page, which the summary links to
             if m["machine"] in pages:

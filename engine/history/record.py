@@ -157,6 +157,11 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
     from ..reasoning.learning import firings_of
 
     channels, values = indicators_of(facts)
+    known = {(v["channel"], v["name"]) for v in values}
+    for a in (doc.get("alarms") or {}).get("results", []):    # a site alarm's band value, so limits can be derived
+        if a["value"] is not None and (a["channel"], a["indicator"]) not in known:
+            known.add((a["channel"], a["indicator"]))
+            values.append({"channel": a["channel"], "name": a["indicator"], "value": float(a["value"])})
     zones = {z["channel"]: z["zone"] for z in doc["zones"]["points"]}
     for c in channels:
         c["zone"] = zones.get(c["channel"])

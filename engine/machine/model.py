@@ -12,7 +12,7 @@ that names the file, the line and the field.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 
 from ..common.errors import MachineError
@@ -115,6 +115,7 @@ class Machine:
     points: tuple[Point, ...] = ()
     descriptions: Mapping[str, str] = field(default_factory=dict)
     speed_range: SpeedRange | None = None   # a variable-speed drive's range, when the file states one
+    alarms: tuple = ()                      # site limits per point (``alarms.Alarm``), the machine file's and --alarms
 
     def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
         """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
@@ -130,6 +131,10 @@ class Machine:
         check_speed_rpm(speed_rpm, self.source)
         scale = (speed_rpm / 60.0) / speeds[shaft]
         return {name: hz * scale for name, hz in speeds.items()}
+
+    def has_point(self, point_id: str) -> bool:
+        """Whether the machine has a measurement point of this id."""
+        return any(p.id == point_id for p in self.points)
 
     def point(self, point_id: str) -> Point:
         """The measurement point of this id; a MachineError naming the points there are if none."""
@@ -228,7 +233,7 @@ def _build(doc: YamlDocument) -> Machine:
 
     speed_range = _speed_range(data["shafts"], speeds, fail)
     descriptions = {s["id"]: s["description"] for s in data["shafts"] if "description" in s}
-    return Machine(
+    machine = Machine(
         name=data["machine"], source=doc.path, plant=data.get("plant"),
         iso_group=_whole(data.get("iso_group")), support=data.get("support"),
         lubrication=data.get("lubrication"),
@@ -237,6 +242,11 @@ def _build(doc: YamlDocument) -> Machine:
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
     )
+    if not data.get("alarms"):
+        return machine
+    from .alarms import parse_alarms
+
+    return replace(machine, alarms=parse_alarms(data["alarms"], doc, ("alarms",), machine))
 
 
 def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | None:

@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..advice import Advice, advise
+from ..alarms import judge_alarms
 from ..analysis import analyse
 from ..analysis.compact import compact_spectra
 from ..analysis.plotdata import PlotSet, plot_set
@@ -46,6 +47,7 @@ class Diagnosis:
     reach: tuple[dict, ...] = ()     # faults the reading's settings cannot show or may miss (planner checks)
     spectra: tuple = ()              # each channel's compact spectrum (``analysis.compact``), kept in the history
     forcing: tuple = ()              # the reading's forcing frequencies, as the analysis names them
+    alarms: tuple[dict, ...] = ()    # the site's alarms per point on this reading (``engine.alarms``)
 
     @property
     def facts(self) -> list[dict]:
@@ -83,9 +85,10 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     evidence = summarise(facts)
     reasoning = reasoner.reason(list(evidence.facts))
     advice = advise(machine, evidence, reasoning, advice_data)
+    alarms = judge_alarms(analysis, {lv.channel for lv in evidence.levels if not lv.scale_trusted})
     return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
                      reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook),
-                     spectra, forcing)
+                     spectra, forcing, alarms)
 
 
 def reach_of(reading: Reading, machine: Machine, driver_rpm: float, rulebook=None) -> tuple[dict, ...]:
@@ -111,4 +114,4 @@ def document_of(d: Diagnosis, made_at: str | None = None) -> dict:
     from ..report import report_document
 
     return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach,
-                           made_at=made_at)
+                           made_at=made_at, alarms=d.alarms)

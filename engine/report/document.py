@@ -204,9 +204,20 @@ def speed_text(speed: dict) -> str:
             "stood clear enough to measure it, so forcing frequencies are matched within 2 %.")
 
 
+def _alarms(alarms) -> dict:
+    """The site's alarms on this reading: each with its value, and the crossed ones first (danger first)."""
+    order = {"danger": 0, "alert": 1, "within": 2, None: 3}
+    rows = [{**a, "value": None if a["value"] is None else round(a["value"], 4)}
+            for a in sorted(alarms, key=lambda a: (order[a["state"]], a["point"], a["band"], a["quantity"]))]
+    return {"crossed": sum(a["state"] in ("alert", "danger") for a in rows),
+            "danger": sum(a["state"] == "danger" for a in rows), "results": rows}
+
+
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
-                    advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None) -> dict:
-    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo.
+                    advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None,
+                    alarms=()) -> dict:
+    """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo; ``alarms`` the site's
+    alarms judged on the reading (``engine.alarms.judge_alarms``), crossed ones first.
 
     ``made_at`` is the report's own time (see ``report_time``), now when None;
     tests and runs whose reports must compare equal give one.
@@ -250,6 +261,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "limitations": [" ".join(x.split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
                    "reasons": list(v["reasons"])} for v in reach],
+        "alarms": _alarms(alarms),
         "cautions": list(advice.cautions),
         "disclaimer": advice.disclaimer,
         "zones": {"scale": {"group": advice.zone_scale.group, "support": advice.zone_scale.support,

@@ -93,8 +93,39 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     return best
 
 
-def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
-    """The summary document of a finished (or resumed) route."""
+def _machine_alarms(machine_file: str | None, alarm_files) -> tuple:
+    """The site alarms of the machine of ``machine_file`` with ``alarm_files`` laid over (none if it cannot load)."""
+    from ..common.errors import TellwaveError
+    from ..machine import load_machine
+    from ..machine.alarms import with_site_alarms
+
+    if not machine_file:
+        return ()
+    try:
+        return with_site_alarms(load_machine(machine_file), alarm_files).alarms
+    except TellwaveError:
+        return ()
+
+
+def _crossed(alarms, rows: list[dict]) -> list[dict]:
+    """The alarms a stored reading crossed, from its stored indicators (``rows``: its ``Store.history``
+    rows, one per channel), danger first."""
+    from ..alarms import state_of
+
+    out = []
+    for r in rows:
+        for a in alarms:
+            value = r["indicators"].get(a.indicator)
+            state = state_of(value, a.alert, a.danger) if a.point == r["point"] else None
+            if state in ("alert", "danger"):
+                out.append({"point": a.point, "band": a.band, "unit": a.unit, "value": round(value, 4),
+                            "alert": a.alert, "danger": a.danger, "state": state})
+    return sorted(out, key=lambda x: (x["state"] != "danger", x["point"], x["band"]))
+
+
+def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=()) -> dict:
+    """The summary document of a finished (or resumed) route; ``alarms``: the route's site alarm files,
+    laid over each machine file's alarms, which flag the readings that crossed one."""
     out_dir = Path(out_dir).resolve()
     pages = trend_paths(outcome.route, out_dir)
     urgencies = _urgencies()
@@ -107,12 +138,21 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
             assert row is not None      # its id was just read from the readings
             rows.append((t, row))
     machines: dict[str, dict] = {}
+    limits: dict[str, tuple] = {}
+    stored: dict[str, dict[int, list[dict]]] = {}
     for task, r in rows:
         tops = store.top_hypothesis(r["id"])
-        stored = store.channels_of(r["id"])
-        points = [c["point"] for c in stored]
+        kept = store.channels_of(r["id"])
+        points = [c["point"] for c in kept]
         # points whose scale (unit, sensitivity, gain) was not trusted: no level, no zone, severity unknown
-        unscaled = [c["point"] or c["channel"] for c in stored if c["scale_trusted"] == 0]
+        unscaled = [c["point"] or c["channel"] for c in kept if c["scale_trusted"] == 0]
+        if r["machine"] not in limits:
+            limits[r["machine"]] = _machine_alarms(r["machine_file"], alarms)
+            stored[r["machine"]] = {}
+            if limits[r["machine"]]:
+                for h in store.history(r["machine"]):
+                    stored[r["machine"]].setdefault(h["id"], []).append(h)
+        crossed = _crossed(limits[r["machine"]], stored[r["machine"]].get(r["id"], []))
         rank, label = urgencies.get(r["urgency"], (len(urgencies), r["urgency"]))
         report = r["report"]
         link = os.path.relpath(report, out_dir) if report else None
@@ -121,6 +161,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
                 "zone": r["worst_zone"], "summary": r["summary"], "withheld": bool(r["withheld"]),
                 "certainty_pct": _pct(tops["certainty"]) if tops else 0, "report": link,
                 "skipped": task.index in outcome.skipped, "_id": r["id"], "scale_not_trusted": unscaled,
+                "alarms": crossed,
                 "top": None if tops is None else {"fault": tops["fault"], "fault_name": tops["fault_name"],
                                                   "component": tops["component"],
                                                   "certainty_pct": _pct(tops["certainty"])}}
@@ -136,6 +177,9 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir) -> dict:
         m["summary"] = worst["summary"]
         m["certainty_pct"] = worst["certainty_pct"]
         m["scale_not_trusted"] = sorted({p for x in m["readings"] for p in x["scale_not_trusted"]})
+        m["alarms_crossed"] = sum(len(x["alarms"]) for x in m["readings"])
+        m["alarm_state"] = ("danger" if any(a["state"] == "danger" for x in m["readings"] for a in x["alarms"])
+                            else "alert" if m["alarms_crossed"] else None)
         top_points = _points_of_top(m.pop("_machine_file"), (m["top"] or {}).get("component"))
         m["change"] = _change(store, m["machine"], {x["_id"] for x in m["readings"]}, top_points)
         m["trend_page"] = (os.path.relpath(pages[m["machine"]], out_dir) if m["machine"] in pages else None)

@@ -98,6 +98,10 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
 
         reasoner, advice = _reasoner(tuple(settings.get("site", ())))
         machine = _machine(task.machine_file)
+        if settings.get("alarms"):
+            from ..machine.alarms import with_site_alarms
+
+            machine = with_site_alarms(machine, settings["alarms"])
         options = {k: task.options.get(k) for k in ("speed_rpm", "sample_rate_hz", "unit")}
         reading = combine_readings([load_reading(f, **options, max_samples=settings.get("max_samples"))
                                     for f in task.files])

@@ -153,3 +153,14 @@ def test_the_spectra_of_a_point_over_the_surveys(surveyed, tmp_path, capsys):
     assert main(["trend", PUMP, "--store", store, "--point", "P1H", "--compare", f"{ids[0]},{ids[-1]}"]) == 0
     text = capsys.readouterr().out
     assert f"largest changes, reading {ids[0]} to {ids[-1]}" in text and "(BPFI)" in text
+
+
+def test_the_pumps_site_alarms_are_flagged_once_its_bearing_band_rises(surveyed):
+    root, _ = surveyed
+    months = [json.loads((root / f"month-0{m}" / "route-reports" / "summary.json").read_text()) for m in (1, 3)]
+    first, third = (next(m for m in doc["machines"] if m["machine"] == PUMP) for doc in months)
+    # the demo pump's own limits (cases/machines/rw2-raw-water-pump.yaml): nothing crossed in the first month
+    assert first["alarms_crossed"] == 0 and first["alarm_state"] is None
+    crossed = {(a["point"], a["band"], a["unit"]) for r in third["readings"] for a in r["alarms"]}
+    assert ("P1H", "bearing rates", "g RMS") in crossed and third["alarm_state"] in ("alert", "danger")
+    assert "site alarm(s) crossed" in (root / "month-03" / "route-reports" / "summary.txt").read_text()
