@@ -423,7 +423,8 @@ def mutate_route(rng: random.Random, doc: dict) -> dict:
         if not isinstance(doc, dict):       # an earlier edit replaced the whole tree
             break
         items = doc.get("readings")
-        item = rng.choice(items) if isinstance(items, list) and items and isinstance(items[0], dict) else None
+        dicts = [x for x in items if isinstance(x, dict)] if isinstance(items, list) else []
+        item = rng.choice(dicts) if dicts else None       # an earlier edit may have put a list among the readings
         what = rng.choice(["time", "time", "value", "path", "duplicate", "machine", "points", "clock", "empty",
                            "many", "tree"])
         if what == "time" and item is not None:
