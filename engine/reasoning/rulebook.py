@@ -314,6 +314,7 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
             disabled[rid] = (entry["reason"], label_of[id(doc)])
             del rules[rid]
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
+    problems += _check_derived_values(ordered)
     if problems:
         raise problems[0] if len(problems) == 1 else RulebookProblems(problems)
     _check_no_derivation_cycle(ordered)
@@ -512,6 +513,55 @@ def _kind_fields(kind: str, derived) -> dict[str, F]:
     raise KeyError(kind)
 
 
+def _never(kind, name: str, v, allowed) -> str:
+    """The problem of a value ``v`` that field ``name`` of ``kind`` facts never holds, with the nearest it can."""
+    near = difflib.get_close_matches(str(v), allowed, n=1, cutoff=0.6) or difflib.get_close_matches(
+        str(v).lower(), [a.lower() for a in allowed], n=1, cutoff=0.6)
+    if near and near[0] not in allowed:
+        near = [a for a in allowed if a.lower() == near[0]]
+    hint = f"; did you mean {near[0]!r}?" if near else ""
+    return f"{name} is never {v!r} in {kind} facts (it is one of: {', '.join(allowed)}){hint}"
+
+
+def _derived_values(rules) -> dict[tuple[str, str], tuple[str, ...] | None]:
+    """(derived kind, field) -> every value the rules that derive it can give that field, or None when
+    one of them gives it a value from an open set (an id, or a field without a known set)."""
+    out: dict[tuple[str, str], tuple[str, ...] | None] = {}
+    for r in rules:
+        if r.derives is None:
+            continue
+        kinds = {p.alias: p.kind for p in r.needs if not p.counted}
+        for name, v in r.derived_fields:
+            key = (r.derives, name)
+            if key in out and out[key] is None:
+                continue
+            if isinstance(v, Ref):
+                given = known_values(kinds[v.alias], v.field) if v.alias in kinds else None
+            else:
+                given = (v,) if isinstance(v, str) else None
+            out[key] = None if given is None else tuple(set(out.get(key) or ()) | set(given))
+    return {k: (tuple(sorted(v)) if v is not None else None) for k, v in out.items()}
+
+
+def _check_derived_values(rules) -> list[RulebookError]:
+    """A rule that needs a derived fact with a field equal to a value no rule derives it with never fires."""
+    values = _derived_values(rules)
+    problems = []
+    for r in rules:
+        kinds = {p.alias: p.kind for p in r.needs if not p.counted}
+        checks = [(p.kind, c.field, c.value if c.op in ("one_of", "not_one_of") else (c.value,))
+                  for p in r.needs for c in p.conditions if c.op in ("is", "is_not", "one_of", "not_one_of")]
+        if isinstance(r.fault, FaultChoice) and r.fault.value.alias in kinds:
+            checks.append((kinds[r.fault.value.alias], r.fault.value.field, tuple(k for k, _ in r.fault.faults)))
+        for kind, name, given in checks:
+            allowed = values.get((kind, name))
+            wrong = [v for v in given if isinstance(v, str) and v not in allowed] if allowed else []
+            if wrong:
+                problems.append(RulebookError(f"{_never(kind, name, wrong[0], allowed)} (as the rules that "
+                                              f"derive {kind} give it)", path=r.path, line=r.line, rule_id=r.id))
+    return problems
+
+
 def _literal_hint(numeric: bool) -> str:
     """How to write a fixed value where a word was read as a field reference."""
     if numeric:
@@ -623,14 +673,8 @@ class _RuleChecker:
     def check_known(self, kind: str | None, name: str, v, *where) -> None:
         """Refuse a value the field can never hold ('vanepass'), suggesting the nearest it can."""
         allowed = known_values(kind, name) if kind else None
-        if allowed is None or v in allowed:
-            return
-        near = difflib.get_close_matches(str(v), allowed, n=1, cutoff=0.6) or difflib.get_close_matches(
-            str(v).lower(), [a.lower() for a in allowed], n=1, cutoff=0.6)
-        if near and near[0] not in allowed:
-            near = [a for a in allowed if a.lower() == near[0]]
-        hint = f"; did you mean {near[0]!r}?" if near else ""
-        self.fail(f"{name} is never {v!r} in {kind} facts (it is one of: {', '.join(allowed)}){hint}", *where)
+        if allowed is not None and v not in allowed:
+            self.fail(_never(kind, name, v, allowed), *where)
 
     def check_type(self, ftype, v, name, *where) -> None:
         ok = {"string": isinstance(v, str), "boolean": isinstance(v, bool),
