@@ -544,19 +544,21 @@ def _derived_values(rules) -> dict[tuple[str, str], tuple[str, ...] | None]:
 
 
 def _check_derived_values(rules) -> list[RulebookError]:
-    """A rule that needs a derived fact with a field equal to a value no rule derives it with never fires."""
+    """A rule that needs a derived fact with a field equal to a value (or one of values) no rule derives it
+    with never fires. The set comes from the rules loaded, so a value beside others that can occur is let
+    be (a later overlay may derive it), as is ``is_not``."""
     values = _derived_values(rules)
     problems = []
     for r in rules:
         kinds = {p.alias: p.kind for p in r.needs if not p.counted}
         checks = [(p.kind, c.field, c.value if c.op in ("one_of", "not_one_of") else (c.value,))
-                  for p in r.needs for c in p.conditions if c.op in ("is", "is_not", "one_of", "not_one_of")]
+                  for p in r.needs for c in p.conditions if c.op in ("is", "one_of")]
         if isinstance(r.fault, FaultChoice) and r.fault.value.alias in kinds:
             checks.append((kinds[r.fault.value.alias], r.fault.value.field, tuple(k for k, _ in r.fault.faults)))
         for kind, name, given in checks:
             allowed = values.get((kind, name))
             wrong = [v for v in given if isinstance(v, str) and v not in allowed] if allowed else []
-            if wrong:
+            if wrong and len(wrong) == len(given):
                 problems.append(RulebookError(f"{_never(kind, name, wrong[0], allowed)} (as the rules that "
                                               f"derive {kind} give it)", path=r.path, line=r.line, rule_id=r.id))
     return problems
