@@ -56,7 +56,7 @@ Counted as failures:
   mark, reset before each input; subprocess: its and its children's peak), a MemoryError, or a
   process killed by signal 9;
 - bad exit: an exit code outside 0, 1, 2, 3, 4, 5, 7, 8, 9, or an error that is not exactly one
-  ``tellwave: error:`` line on stderr;
+  ``tellwave: error:`` line on stderr (``rulebook check``: one such line per problem, then their count);
 - bad JSON: JSON output (``--json``, ``--format json``) that a strict RFC 8259 parser refuses;
 - control characters on stdout;
 - input changed: a file the command reads (readings, sidecars, machine, route and plant files,
@@ -835,6 +835,9 @@ def judge(argv, rc, out: str, err: str, before: dict, folder: Path, store_before
         found.append(("bad exit", f"exit {rc}: {err.strip()[-300:]}"))
     elif rc not in (0, 7, 9):
         lines = err.splitlines()
+        if argv[:2] == ["rulebook", "check"] and len(lines) > 2 and re.fullmatch(
+                rf"tellwave: {len(lines) - 1} problems in the rulebooks", lines[-1]):
+            lines = lines[:1] if all(x.startswith("tellwave: error: ") for x in lines[:-1]) else lines
         if len(lines) != 1 or not lines[0].startswith("tellwave: error: "):
             found.append(("bad exit", f"exit {rc} with stderr {err[-300:]!r}"))
     target = _json_target(argv)

@@ -199,9 +199,39 @@ def _oil_tests(machine: Machine, family: str, data: dict) -> tuple[OilTest, ...]
     return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"]) for t in policy["tests"])
 
 
+def check_fault_advice(fault_advice: dict, data: dict) -> list[RulebookError]:
+    """Each problem of the advice site overlays give their own faults (``rulebook.FaultAdvice`` by fault id):
+    an urgency or oil test that the advice data (rulebooks/advice/) does not know."""
+    urgencies = [u["id"] for u in data["urgency"]]
+    problems = []
+    for fid, todo in fault_advice.items():
+        if todo.urgency not in urgencies:
+            problems.append(RulebookError(f"faults.{fid}.advice.urgency: {todo.urgency!r} is not on the urgency "
+                                          f"scale ({', '.join(urgencies)})", path=todo.path, line=todo.line))
+        for test, _ in todo.oil_tests:
+            if test not in data["oil_tests"]:
+                problems.append(RulebookError(f"faults.{fid}.advice.oil_tests: no oil test {test!r} "
+                                              f"(known: {', '.join(data['oil_tests'])})", path=todo.path,
+                                              line=todo.line))
+    return problems
+
+
+def _site_todo(todo, machine: Machine, family: str, data: dict) -> tuple[dict, tuple[OilTest, ...]]:
+    """A site fault's advice as the advice data gives a shipped fault's, with its oil tests (the family's
+    policy when it names none)."""
+    tests = data["oil_tests"]
+    oil = (tuple(OilTest(tests[t]["name"], means, tests[t]["source"]) for t, means in todo.oil_tests)
+           if todo.oil_tests else _oil_tests(machine, family, data))
+    return {"urgency": todo.urgency, "actions": todo.actions, "spares": todo.spares, "confirm": todo.confirm}, oil
+
+
 def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies,
-               scale: ScaleCheck | None = None) -> Recommendation:
-    todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
+               scale: ScaleCheck | None = None, site_advice: dict | None = None) -> Recommendation:
+    if site_advice and h.fault in site_advice:
+        todo, oil = _site_todo(site_advice[h.fault], machine, h.family, data)
+    else:
+        todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
+        oil = _oil_tests(machine, h.family, data)
     candidates = [urgencies[todo["urgency"]]]
     if h.stage is not None:       # stages are told by patterns, which no scale changes
         candidates.append(urgencies[data["stage_urgency"][h.stage]])
@@ -217,12 +247,15 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
     if not h.confident and h.family != "reading":
         urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
     return Recommendation(h, severity, urgency, tuple(todo["actions"]), tuple(todo["spares"]),
-                          tuple(todo["confirm"]), _oil_tests(machine, h.family, data))
+                          tuple(todo["confirm"]), oil)
 
 
 def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dict | None = None) -> Advice:
     """Severity, urgency and what to do, for one diagnosis."""
     data = data or load_advice()
+    wrong = check_fault_advice(reasoning.fault_advice, data)
+    if wrong:
+        raise wrong[0]
     urgencies = _urgencies(data)
     scale = zone_scale(machine, data)
     issues: dict[str, list[str]] = {}
@@ -243,7 +276,8 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
     settings = [f.because for h in problems if h.fault.startswith("settings-") for f in h.support]
     if reasoning.withheld:
-        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking) for h in problems if h.confident)
+        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice)
+                     for h in problems if h.confident)
         # no fault conclusion, but a high level on a channel that passed the quality gates still counts
         flagged = {q.channel for q in evidence.quality}
         clean = max((z.zone for z in zones if z.channel not in flagged and z.zone is not None), default=None)
@@ -254,7 +288,7 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         limitations = tuple(f.because for h in problems if not h.withholds and not h.fault.startswith("settings-")
                             for f in h.support)
     else:
-        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking) for h in shown)
+        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice) for h in shown)
         confident = [r.urgency for r in recs if r.hypothesis.confident]
         base = [urgencies[data["zone_urgency"][worst]]] if worst else []
         if checking is not None:      # a level that cannot be judged: check the scale, then decide

@@ -37,11 +37,46 @@ def _usage(p) -> int:
 
 
 def _check(args) -> int:
+    """Every problem of the rulebooks on its own line (exit 5), or their summary."""
+    from ..advice import check_fault_advice, load_advice
     from ..reasoning.explain import summary
+    from ..reasoning.rulebook import RulebookProblems
 
-    _print(summary(rulebook(args)))
+    try:
+        book = rulebook(args)
+    except RulebookProblems as exc:
+        return _problems(exc.problems)
+    wrong = check_fault_advice({fid: f.advice for fid, f in book.faults.items() if f.advice}, load_advice())
+    if len(wrong) == 1:
+        raise wrong[0]
+    if wrong:
+        return _problems(wrong)
+    _print(summary(book))
+    from pathlib import Path
+
+    from ..reasoning.rulebook import SHIPPED
+
+    advised = load_advice()["faults"]
+    for fid, fault in sorted(book.faults.items()):
+        site = Path(fault.path).resolve().parent != Path(SHIPPED).resolve()
+        if site and fault.advice is None and fid not in advised:
+            say(f"  note: fault {fid} ({fault.path}) gives no advice: its report will have nothing under what to do "
+                "(see 'Site faults' in rulebooks/README.md)")
     say("rulebooks are valid")
     return 0
+
+
+def _problems(problems) -> int:
+    """Each problem on its own line of stderr, then their count; the exit code of a bad rulebook."""
+    import sys
+
+    from ..common.errors import RulebookError
+    from ..common.escape import one_line
+
+    for problem in problems:
+        print(f"tellwave: error: {one_line(problem)}", file=sys.stderr)
+    print(f"tellwave: {len(problems)} problems in the rulebooks", file=sys.stderr)
+    return RulebookError.exit_code
 
 
 def _print(lines) -> int:

@@ -15,6 +15,9 @@ from __future__ import annotations
 from typing import NamedTuple
 
 from ..common.units import LEVEL_UNITS
+from ..machine.kinematics import BEARING_DEFECTS, RATE_FAMILIES, RATE_NAMES
+from ..machine.model import DIRECTIONS
+from ..readings.quality import ISSUE_NAMES
 
 
 class F(NamedTuple):
@@ -271,6 +274,37 @@ COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact i
 # quality gates doubt (``engine.readings.SCALE_ISSUES``) has its level fields left out of its
 # facts (None). tests/evidence checks that every unit here is one or the other.
 SCALE_FREE_UNITS = frozenset({"", "Hz", "dB", "%", "ms", "s", "deg", "rpm"})
+
+
+# The fields whose values come from a known set, each set taken from where the names are made, so a
+# rulebook that compares one with a misspelled value ('vanepass') is refused when it loads instead of
+# never firing. Keyed by field for every kind that has it, or by "kind.field" where the same field
+# name means something else elsewhere. Fault ids come from the loaded rulebook itself
+# (engine.reasoning.rulebook checks a fault map's keys against its ``from`` field here).
+SIDEBAND_CARRIERS = ("GMF", "2xGMF", "BPFI", "1X")          # as engine/evidence/sidebands.py names them
+SIDEBAND_SPACINGS = ("1X", "pole pass", "FTF")              # the same
+QUALITY_ISSUES = tuple(ISSUE_NAMES)                          # every issue the quality gates name
+KNOWN_VALUES: dict[str, tuple[str, ...]] = {
+    "direction": DIRECTIONS,
+    "tone.name": RATE_NAMES,
+    "tone.family": RATE_FAMILIES,
+    "harmonic_series.source": RATE_NAMES,
+    "impact_train.matched_name": RATE_NAMES + ("none",),
+    "envelope_tone.defect": BEARING_DEFECTS,
+    "load_zone_modulation.defect": BEARING_DEFECTS,
+    "load_zone_modulation.modulation": ("1X", "FTF"),
+    "sideband_family.carrier": SIDEBAND_CARRIERS,
+    "sideband_family.spacing": SIDEBAND_SPACINGS,
+    "data_quality.issue": QUALITY_ISSUES,
+}
+
+
+def known_values(kind: str, name: str) -> tuple[str, ...] | None:
+    """The values field ``name`` of a ``kind`` fact can take, or None when any string can occur
+    (ids of points, channels and components, which each machine file names)."""
+    if kind not in FACTS or name not in FACTS[kind]:
+        return None
+    return KNOWN_VALUES.get(f"{kind}.{name}", KNOWN_VALUES.get(name))
 
 
 def fields_of(kind: str) -> dict[str, F]:

@@ -38,6 +38,11 @@ from dataclasses import asdict, dataclass
 from .model import Bearing, Machine
 
 BEARING_DEFECTS = ("BPFO", "BPFI", "BSF", "FTF")
+# Every name and family ``forcing_list`` gives a rate (tests/machines checks it): the values a rule may
+# compare a forcing frequency's name or family with (``engine.evidence.vocabulary.known_values``).
+RATE_NAMES = ("1X", *BEARING_DEFECTS, "GMF", "HTF", "APPF", "belt pass", "vane pass", "blade pass",
+              "2xLF", "slip", "pole pass", "rotor bar pass")
+RATE_FAMILIES = ("shaft", "bearing", "gear", "belt", "rotor", "electrical")
 MAX_LINE_FED_SLIP = 0.10    # rated slip is 1-5 %; past about 10 % a motor is near pull-out (common practice)
 
 

@@ -86,6 +86,9 @@ class SpeedRange:
     high_rpm: float
 
 
+DIRECTIONS = ("horizontal", "vertical", "axial")     # a point's direction (machine.schema.json)
+
+
 @dataclass(frozen=True)
 class Point:
     """A measurement point: the bearing or shaft it sits at, that shaft and the sensor's direction."""

@@ -422,7 +422,8 @@ class Reasoner:
         withheld = any(h.confident and faults_of[h.fault].withholds_diagnosis for h in problems)
         faults = tuple(h for h in hypotheses if faults_of[h.fault].family != "reading")
         result = Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
-                           self.rulebook.files)
+                           self.rulebook.files, fault_advice={fid: f.advice for fid, f in faults_of.items()
+                                                              if f.advice is not None})
         return replace(result, differential=differential(self.rulebook, result))
 
 

@@ -130,12 +130,17 @@ def summary(rulebook: Rulebook) -> list[str]:
             lines.append(f"  overridden: {rule.id} by {rule.label}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
+    for p in sorted(rulebook.parameters.values(), key=lambda p: p.name):
+        if p.changed_by:
+            was = _value(p.declared_value if p.declared_value is not None else p.value, p.unit)
+            lines.append(f"  parameter changed: param.{p.name} {was} in {p.path} -> {_value(p.value, p.unit)} "
+                         f"by {', '.join(p.changed_by)}")
     return lines
 
 
 def vocabulary(rulebook: Rulebook) -> list[str]:
     """Every fact kind a rule may match, each field with its type, unit and meaning."""
-    from ..evidence.vocabulary import FACTS
+    from ..evidence.vocabulary import FACTS, known_values
 
     lines = []
     for kind in list(FACTS) + sorted(rulebook.derived):
@@ -145,7 +150,9 @@ def vocabulary(rulebook: Rulebook) -> list[str]:
             if name in ("kind", "id"):
                 continue
             unit = f" [{field.unit}]" if field.unit else ""
-            lines.append(f"    {name:<24} {field.type:<8}{unit} {field.about}")
+            allowed = known_values(kind, name)
+            one_of = f" (one of: {', '.join(allowed)})" if allowed else ""
+            lines.append(f"    {name:<24} {field.type:<8}{unit} {field.about}{one_of}")
     return lines
 
 

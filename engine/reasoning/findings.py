@@ -84,6 +84,7 @@ class Reasoning:
     rules_loaded: int
     rulebook_files: tuple[str, ...] = field(default=())
     differential: tuple = ()             # reasoning.differential.Differential of the leading hypotheses
+    fault_advice: dict = field(default_factory=dict)   # fault id -> rulebook.FaultAdvice a site overlay gave it
 
     @property
     def top(self) -> Hypothesis | None:

@@ -20,6 +20,7 @@ the report formats each by its unit (``engine.common.units.format_quantity``).
 
 from __future__ import annotations
 
+import difflib
 import math
 import re
 import string
@@ -30,7 +31,7 @@ from typing import Any, NoReturn
 from ..common.errors import RulebookError
 from ..common.paths import RULEBOOKS
 from ..common.yamlfile import YamlDocument, first_problem, read_yaml
-from ..evidence.vocabulary import FACTS, F, fields_of
+from ..evidence.vocabulary import FACTS, F, fields_of, known_values
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
 LARGEST_NUMBER = 1e15
@@ -68,6 +69,7 @@ class Parameter:
     source: str
     path: str               # the file that declared it, as labelled (see ``rulebook_labels``)
     changed_by: tuple[str, ...] = ()    # overlays that changed its value, in order, as labelled
+    declared_value: float | None = None  # its value where it was declared, when an overlay changed it
 
 
 @dataclass(frozen=True)
@@ -156,13 +158,30 @@ class Rule:
 
 
 @dataclass(frozen=True)
+class FaultAdvice:
+    """What to do about a fault a site overlay declares, given beside it (``advice:``): the shipped
+    faults have theirs in rulebooks/advice/actions.yaml. Ids are checked against that file's urgency
+    scale and oil tests when the advice is looked up (``engine.advice.check_fault_advice``)."""
+
+    urgency: str
+    actions: tuple[str, ...]
+    spares: tuple[str, ...]
+    confirm: tuple[str, ...]
+    oil_tests: tuple[tuple[str, str], ...]    # (oil test id, what its result would mean)
+    path: str
+    line: int | None
+
+
+@dataclass(frozen=True)
 class Fault:
-    """A fault the rulebooks know: its name and family, and whether it withholds the diagnosis."""
+    """A fault the rulebooks know: its name and family, whether it withholds the diagnosis, and for a
+    site's own fault what to do about it."""
     id: str
     name: str
     family: str
     withholds_diagnosis: bool
     path: str
+    advice: FaultAdvice | None = None
 
 
 @dataclass(frozen=True)
@@ -244,41 +263,73 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     placed = rulebook_labels(*places, shipped=shipped)
     if not placed:
         raise RulebookError("no rulebook files found", path=str(places[0]) if places else str(SHIPPED))
-    docs = [read_yaml(f, RulebookError) for f, _ in placed]
-    label_of = {id(doc): label for doc, (_, label) in zip(docs, placed)}
-    for doc in docs:
-        _check_schema(doc)
+    problems: list[RulebookError] = []
+    docs = []
+    label_of: dict[int, str] = {}
+    for f, label in placed:
+        try:
+            doc = read_yaml(f, RulebookError)
+            _check_schema(doc)
+        except RulebookError as exc:   # a file that is not a valid rulebook adds nothing; the others are checked
+            problems.append(exc)
+        else:
+            docs.append(doc)
+            label_of[id(doc)] = label
     faults: dict[str, Fault] = {}
     derived: dict[str, dict[str, F]] = {}
     parameters: dict[str, Parameter] = {}
     for doc in docs:
-        _collect_catalogue(doc, faults, derived)
-        _collect_parameters(doc, parameters, label_of[id(doc)])
+        _collect_catalogue(doc, faults, derived, problems)
+        _collect_parameters(doc, parameters, label_of[id(doc)], problems)
     rules: dict[str, Rule] = {}
+    broken: set[str] = set()          # ids of rules refused above: no second error for overriding them
     disabled: dict[str, tuple[str, str]] = {}
     for doc in docs:
         for i, raw in enumerate(doc.data.get("rules") or []):
-            rule = replace(_build_rule(doc, i, raw, faults, derived, parameters), label=label_of[id(doc)])
-            if rule.id in rules and not raw.get("overrides"):
-                raise RulebookError(f"id already used in {rules[rule.id].path}; add 'overrides: true' to replace it",
-                                    path=doc.path, line=rule.line, rule_id=rule.id)
-            if raw.get("overrides"):
-                if rule.id not in rules:
-                    raise RulebookError("'overrides: true' but no earlier rulebook has this id",
-                                        path=doc.path, line=rule.line, rule_id=rule.id)
-                previous = rules[rule.id]
-                rule = replace(rule, replaced=previous.replaced + (previous.label,))
+            try:
+                rule = replace(_build_rule(doc, i, raw, faults, derived, parameters), label=label_of[id(doc)])
+                if rule.id in rules and not raw.get("overrides"):
+                    raise RulebookError(f"id already used in {rules[rule.id].path}; add 'overrides: true' to "
+                                        "replace it", path=doc.path, line=rule.line, rule_id=rule.id)
+                if raw.get("overrides"):
+                    if rule.id not in rules:
+                        if rule.id in broken:
+                            continue
+                        raise RulebookError("'overrides: true' but no earlier rulebook has this id",
+                                            path=doc.path, line=rule.line, rule_id=rule.id)
+                    previous = rules[rule.id]
+                    rule = replace(rule, replaced=previous.replaced + (previous.label,))
+            except RulebookError as exc:
+                problems.append(exc)
+                broken.add(raw["id"])
+                continue
             rules[rule.id] = rule
         for j, entry in enumerate(doc.data.get("disable") or []):
             rid = entry["rule"]
             if rid not in rules:
-                raise RulebookError(f"disable: no loaded rule has id {rid!r}", path=doc.path,
-                                    line=doc.line_of(["disable", j]))
+                if rid not in broken:
+                    problems.append(RulebookError(f"disable: no loaded rule has id {rid!r}", path=doc.path,
+                                                  line=doc.line_of(["disable", j])))
+                continue
             disabled[rid] = (entry["reason"], label_of[id(doc)])
             del rules[rid]
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
+    problems += _check_derived_values(ordered)
+    if problems:
+        raise problems[0] if len(problems) == 1 else RulebookProblems(problems)
     _check_no_derivation_cycle(ordered)
     return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters)
+
+
+class RulebookProblems(RulebookError):
+    """Every problem the rulebooks have, found in one load: ``problems`` holds each as its own error.
+    As one line it names the first and how many more; ``tellwave rulebook check`` prints them all."""
+
+    def __init__(self, problems: list[RulebookError]):
+        first = problems[0]
+        super().__init__(f"{first.problem} (and {len(problems) - 1} more problems in the rulebooks; "
+                         "'tellwave rulebook check' lists them all)", path=first.path, line=first.line)
+        self.problems = tuple(problems)
 
 
 def _may_feed(giver: Rule, pattern: Pattern) -> bool:
@@ -383,52 +434,74 @@ def _check_schema(doc: YamlDocument) -> None:
     raise RulebookError(f"{where}: {problem}", path=doc.path, line=doc.line_of(path), rule_id=rule_id)
 
 
-def _collect_catalogue(doc, faults, derived) -> None:
+def _collect_catalogue(doc, faults, derived, problems: list[RulebookError]) -> None:
     for fid, raw in (doc.data.get("faults") or {}).items():
         if fid in faults:
-            raise RulebookError(f"fault {fid!r} already declared in {faults[fid].path}",
-                                path=doc.path, line=doc.line_of(["faults", fid]))
-        faults[fid] = Fault(fid, raw["name"], raw["family"], bool(raw.get("withholds_diagnosis")), doc.path)
-    for kind, raw in (doc.data.get("derived") or {}).items():
-        line = doc.line_of(["derived", kind])
-        if kind in FACTS or kind in (TALLY_KIND, "phase"):
-            raise RulebookError(f"derived kind {kind!r} is already an evidence kind", path=doc.path, line=line)
-        if kind in derived:
-            raise RulebookError(f"derived kind {kind!r} declared twice", path=doc.path, line=line)
-        fields = {name: F(spec["type"], spec["about"], spec.get("unit", "")) for name, spec in raw["fields"].items()}
-        clash = {"kind", "id", "sid", "certainty"} & set(fields)
-        if clash:
-            raise RulebookError(f"derived kind {kind!r}: field {sorted(clash)[0]!r} is reserved",
-                                path=doc.path, line=line)
-        derived[kind] = fields
-
-
-def _collect_parameters(doc, parameters: dict[str, Parameter], label: str) -> None:
-    """Declare named parameters, or change the value of one declared by an earlier file
-    (``label``: the file as reports name it)."""
-    for name, raw in (doc.data.get("parameters") or {}).items():
-        line = doc.line_of(["parameters", name])
-        spec = raw if isinstance(raw, dict) else {"value": raw}
-        value = spec["value"]
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
-            raise RulebookError(f"parameters.{name}: {value!r} is not a finite number", path=doc.path, line=line)
-        if value != 0 and not SMALLEST_NUMBER <= abs(value) < LARGEST_NUMBER:
-            raise RulebookError(f"parameters.{name}: {value!r} cannot be represented by the rule engine "
-                                f"(keep it between {SMALLEST_NUMBER:g} and {LARGEST_NUMBER:g}; change its unit)",
-                                path=doc.path, line=line)
-        if name in parameters:
-            before = parameters[name]
-            if "unit" in spec and spec["unit"] != before.unit:
-                raise RulebookError(f"parameters.{name}: unit {spec['unit']!r} differs from {before.unit!r} "
-                                    f"declared in {before.path}", path=doc.path, line=line)
-            parameters[name] = replace(before, value=float(value), source=spec.get("source", before.source),
-                                       changed_by=before.changed_by + (label,))
+            problems.append(RulebookError(f"fault {fid!r} already declared in {faults[fid].path}",
+                                          path=doc.path, line=doc.line_of(["faults", fid])))
             continue
-        missing = [k for k in ("unit", "about", "source") if k not in spec]
-        if missing:
-            raise RulebookError(f"parameters.{name}: no earlier rulebook declares it, so it needs "
-                                f"{', '.join(missing)} as well as its value", path=doc.path, line=line)
-        parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], label)
+        todo = raw.get("advice")
+        advice = None if todo is None else FaultAdvice(
+            todo["urgency"], tuple(todo["actions"]), tuple(todo.get("spares") or ()), tuple(todo.get("confirm") or ()),
+            tuple((t["test"], t["means"]) for t in todo.get("oil_tests") or ()), doc.path,
+            doc.line_of(["faults", fid, "advice"]))
+        faults[fid] = Fault(fid, raw["name"], raw["family"], bool(raw.get("withholds_diagnosis")), doc.path, advice)
+    for kind, raw in (doc.data.get("derived") or {}).items():
+        try:
+            _collect_derived(doc, kind, raw, derived)
+        except RulebookError as exc:
+            problems.append(exc)
+
+
+def _collect_derived(doc, kind, raw, derived) -> None:
+    line = doc.line_of(["derived", kind])
+    if kind in FACTS or kind in (TALLY_KIND, "phase"):
+        raise RulebookError(f"derived kind {kind!r} is already an evidence kind", path=doc.path, line=line)
+    if kind in derived:
+        raise RulebookError(f"derived kind {kind!r} declared twice", path=doc.path, line=line)
+    fields = {name: F(spec["type"], spec["about"], spec.get("unit", "")) for name, spec in raw["fields"].items()}
+    clash = {"kind", "id", "sid", "certainty"} & set(fields)
+    if clash:
+        raise RulebookError(f"derived kind {kind!r}: field {sorted(clash)[0]!r} is reserved",
+                            path=doc.path, line=line)
+    derived[kind] = fields
+
+
+def _collect_parameters(doc, parameters: dict[str, Parameter], label: str, problems: list[RulebookError]) -> None:
+    """Declare named parameters, or change the value of one declared by an earlier file
+    (``label``: the file as reports name it); each problem is added to ``problems``."""
+    for name, raw in (doc.data.get("parameters") or {}).items():
+        try:
+            _collect_parameter(doc, parameters, label, name, raw)
+        except RulebookError as exc:
+            problems.append(exc)
+
+
+def _collect_parameter(doc, parameters: dict[str, Parameter], label: str, name: str, raw) -> None:
+    line = doc.line_of(["parameters", name])
+    spec = raw if isinstance(raw, dict) else {"value": raw}
+    value = spec["value"]
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        raise RulebookError(f"parameters.{name}: {value!r} is not a finite number", path=doc.path, line=line)
+    if value != 0 and not SMALLEST_NUMBER <= abs(value) < LARGEST_NUMBER:
+        raise RulebookError(f"parameters.{name}: {value!r} cannot be represented by the rule engine "
+                            f"(keep it between {SMALLEST_NUMBER:g} and {LARGEST_NUMBER:g}; change its unit)",
+                            path=doc.path, line=line)
+    if name in parameters:
+        before = parameters[name]
+        if "unit" in spec and spec["unit"] != before.unit:
+            raise RulebookError(f"parameters.{name}: unit {spec['unit']!r} differs from {before.unit!r} "
+                                f"declared in {before.path}", path=doc.path, line=line)
+        parameters[name] = replace(before, value=float(value), source=spec.get("source", before.source),
+                                   changed_by=before.changed_by + (label,),
+                                   declared_value=(before.value if before.declared_value is None
+                                                   else before.declared_value))
+        return
+    missing = [k for k in ("unit", "about", "source") if k not in spec]
+    if missing:
+        raise RulebookError(f"parameters.{name}: no earlier rulebook declares it, so it needs "
+                            f"{', '.join(missing)} as well as its value", path=doc.path, line=line)
+    parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], label)
 
 
 def _kind_fields(kind: str, derived) -> dict[str, F]:
@@ -440,6 +513,65 @@ def _kind_fields(kind: str, derived) -> dict[str, F]:
     raise KeyError(kind)
 
 
+def _never(kind, name: str, v, allowed) -> str:
+    """The problem of a value ``v`` that field ``name`` of ``kind`` facts never holds, with the nearest it can."""
+    near = difflib.get_close_matches(str(v), allowed, n=1, cutoff=0.6) or difflib.get_close_matches(
+        str(v).lower(), [a.lower() for a in allowed], n=1, cutoff=0.6)
+    if near and near[0] not in allowed:
+        near = [a for a in allowed if a.lower() == near[0]]
+    hint = f"; did you mean {near[0]!r}?" if near else ""
+    return f"{name} is never {v!r} in {kind} facts (it is one of: {', '.join(allowed)}){hint}"
+
+
+def _derived_values(rules) -> dict[tuple[str, str], tuple[str, ...] | None]:
+    """(derived kind, field) -> every value the rules that derive it can give that field, or None when
+    one of them gives it a value from an open set (an id, or a field without a known set)."""
+    out: dict[tuple[str, str], tuple[str, ...] | None] = {}
+    for r in rules:
+        if r.derives is None:
+            continue
+        kinds = {p.alias: p.kind for p in r.needs if not p.counted}
+        for name, v in r.derived_fields:
+            key = (r.derives, name)
+            if key in out and out[key] is None:
+                continue
+            if isinstance(v, Ref):
+                given = known_values(kinds[v.alias], v.field) if v.alias in kinds else None
+            else:
+                given = (v,) if isinstance(v, str) else None
+            out[key] = None if given is None else tuple(set(out.get(key) or ()) | set(given))
+    return {k: (tuple(sorted(v)) if v is not None else None) for k, v in out.items()}
+
+
+def _check_derived_values(rules) -> list[RulebookError]:
+    """A rule that needs a derived fact with a field equal to a value (or one of values) no rule derives it
+    with never fires. The set comes from the rules loaded, so a value beside others that can occur is let
+    be (a later overlay may derive it), as is ``is_not``."""
+    values = _derived_values(rules)
+    problems = []
+    for r in rules:
+        kinds = {p.alias: p.kind for p in r.needs if not p.counted}
+        checks = [(p.kind, c.field, c.value if c.op in ("one_of", "not_one_of") else (c.value,))
+                  for p in r.needs for c in p.conditions if c.op in ("is", "one_of")]
+        if isinstance(r.fault, FaultChoice) and r.fault.value.alias in kinds:
+            checks.append((kinds[r.fault.value.alias], r.fault.value.field, tuple(k for k, _ in r.fault.faults)))
+        for kind, name, given in checks:
+            allowed = values.get((kind, name))
+            wrong = [v for v in given if isinstance(v, str) and v not in allowed] if allowed else []
+            if wrong and len(wrong) == len(given):
+                problems.append(RulebookError(f"{_never(kind, name, wrong[0], allowed)} (as the rules that "
+                                              f"derive {kind} give it)", path=r.path, line=r.line, rule_id=r.id))
+    return problems
+
+
+def _literal_hint(numeric: bool) -> str:
+    """How to write a fixed value where a word was read as a field reference."""
+    if numeric:
+        return ("a word here names a field; to compare with a fixed number write the number itself, unquoted "
+                "(such as 2.5), or name a parameter as param.NAME")
+    return "a word here names a field; to compare with a fixed word use is: or is_not: (or one_of:)"
+
+
 class _RuleChecker:
     """Builds one Rule from its YAML, checking names against the vocabulary as it goes."""
 
@@ -447,6 +579,8 @@ class _RuleChecker:
         self.doc, self.index, self.raw = doc, index, raw
         self.faults, self.derived, self.parameters = faults, derived, parameters
         self.aliases: dict[str, dict[str, F]] = {}
+        self.alias_kinds: dict[str, str] = {}   # alias -> the fact kind it names
+        self.kind: str | None = None             # kind of the pattern being built
         self.used: list[str] = []          # parameters the condition being built refers to
 
     def fail(self, problem: str, *where) -> NoReturn:
@@ -472,7 +606,7 @@ class _RuleChecker:
         given), or ``param.NAME``, a named parameter (its value, a number)."""
         m = _OPERAND.match(text) if isinstance(text, str) else None
         if m is None or (m["alias"] is None and own is None):
-            self.fail(f"{text!r} is not a reference of the form alias.field", *where)
+            self.fail(f"{text!r} is not a reference of the form alias.field; {_literal_hint(numeric)}", *where)
         alias, name = m["alias"], m["field"]
         if alias == PARAMETER_ALIAS:
             if not numeric:
@@ -484,7 +618,8 @@ class _RuleChecker:
         fields = own if alias is None else self.aliases[alias]
         if name not in fields:
             whose = f"{alias!r}" if alias else "this fact"
-            self.fail(f"{text!r}: {whose} has no field {name!r} (fields: {', '.join(sorted(fields))})", *where)
+            self.fail(f"{text!r}: {whose} has no field {name!r} (fields: {', '.join(sorted(fields))}); "
+                      f"{_literal_hint(numeric)}", *where)
         if numeric and fields[name][0] not in NUMERIC:
             self.fail(f"{text!r} is a {fields[name][0]}, not a number", *where)
         factor = float(m["k"]) if m["k"] else 1.0
@@ -533,8 +668,15 @@ class _RuleChecker:
             values = value if op in ("one_of", "not_one_of") else [value]
             for v in values:
                 self.check_type(ftype, v, name, *where)
+                self.check_known(self.kind, name, v, *where)
             value = tuple(values) if op in ("one_of", "not_one_of") else value
         return Condition(name, op, value, tuple(self.used))
+
+    def check_known(self, kind: str | None, name: str, v, *where) -> None:
+        """Refuse a value the field can never hold ('vanepass'), suggesting the nearest it can."""
+        allowed = known_values(kind, name) if kind else None
+        if allowed is not None and v not in allowed:
+            self.fail(_never(kind, name, v, allowed), *where)
 
     def check_type(self, ftype, v, name, *where) -> None:
         ok = {"string": isinstance(v, str), "boolean": isinstance(v, bool),
@@ -550,6 +692,7 @@ class _RuleChecker:
         counted = "count" in raw
         kind = raw["count"] if counted else raw["fact"]
         fields = self.fields(kind, *where)
+        self.kind = kind
         if (counted or negated) and kind not in FACTS:
             what = "count" if counted else "none_of"
             self.fail(f"{what} can only look at evidence kinds, not the derived kind {kind!r} "
@@ -582,6 +725,7 @@ class _RuleChecker:
                                               fields[per].unit if per else "")}
         elif not negated:
             self.aliases[alias] = fields
+            self.alias_kinds[alias] = kind
         return Pattern(kind, alias, tuple(conditions), counted, per, raw.get("at_least"), raw.get("at_most"))
 
     def certainty(self) -> tuple[float, tuple[Ramp, ...]]:
@@ -666,7 +810,12 @@ class _RuleChecker:
                     self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})",
                               "concludes", "fault")
             if isinstance(fault, dict):
-                fault = FaultChoice(self.ref(fault["from"], "concludes", "fault", "from"), tuple(fault["map"].items()))
+                source = self.ref(fault["from"], "concludes", "fault", "from")
+                if source.alias is not None:
+                    for key in fault["map"]:
+                        self.check_known(self.alias_kinds.get(source.alias), source.field, key,
+                                         "concludes", "fault", "map", key)
+                fault = FaultChoice(source, tuple(fault["map"].items()))
             component = self.value_or_ref(c["component"], "concludes", "component")
             return Rule(**common, fault=fault, component=component, stage=c.get("stage"))
         d = self.raw["derives"]
