@@ -181,7 +181,7 @@ def components_of_machine(machine_file: str | None, known: dict | None = None) -
     """The components of the machine file a reading was diagnosed with (shafts, bearings, gears, belts,
     rotors, motors), or None when the file is not known or can no longer be read (then nothing is checked)."""
     from ..common.errors import TellwaveError
-    from ..machine.model import load_machine
+    from ..machine import load_machine
 
     if known is not None and machine_file in known:
         return known[machine_file]

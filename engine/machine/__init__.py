@@ -1,6 +1,13 @@
-"""The machine: its YAML description loaded and checked (``model``), and every rate its
-geometry implies (``kinematics``, the only module that derives a rate)."""
+"""The machine: its YAML description loaded and checked (``model``), every rate its geometry implies
+(``kinematics``, the only module that derives a rate), and the site's alarm limits per point
+(``alarms``, whose bands are resolved through kinematics)."""
 
-from .model import Bearing, GearMesh, Machine, Motor, Point, SpeedRange, check_speed_rpm, load_machine
+from .alarms import with_file_alarms
+from .model import Bearing, GearMesh, Machine, Motor, Point, SpeedRange, check_speed_rpm, read_machine
 
 __all__ = ["Bearing", "GearMesh", "Machine", "Motor", "Point", "SpeedRange", "check_speed_rpm", "load_machine"]
+
+
+def load_machine(path) -> Machine:
+    """Read and check a machine YAML file, with the alarms its ``alarms:`` section sets."""
+    return with_file_alarms(*read_machine(path))

@@ -168,6 +168,13 @@ def _merged(ranges: list[tuple[float, float]]) -> list[tuple[float, float]]:
     return out
 
 
+def with_file_alarms(machine: Machine, doc) -> Machine:
+    """``machine`` with the alarms of its own file's ``alarms:`` section (``doc``, the file read), checked
+    against its points, bearings and meshes."""
+    items = doc.data.get("alarms")
+    return replace(machine, alarms=parse_alarms(items, doc, ("alarms",), machine)) if items else machine
+
+
 def load_alarm_file(path) -> dict[str, tuple[Alarm, ...]]:
     """A site alarm file: machine name -> its alarms (checked against the schema, not yet a machine)."""
     doc = read_yaml(path, MachineError)

@@ -12,7 +12,7 @@ that names the file, the line and the field.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from ..common.errors import MachineError
@@ -160,13 +160,14 @@ def check_speed_rpm(speed_rpm, source: str | None = None, error=MachineError) ->
     return rpm
 
 
-def load_machine(path) -> Machine:
-    """Read and check a machine YAML file."""
+def read_machine(path) -> tuple[Machine, YamlDocument]:
+    """Read and check a machine YAML file; its ``alarms:`` are left to ``alarms.with_file_alarms``, which
+    resolves their bands through kinematics (``engine.machine.load_machine`` does both)."""
     doc = read_yaml(path, MachineError)
     if not isinstance(doc.data, dict):
         raise MachineError("expected a mapping with 'machine' and 'shafts'", path=doc.path, line=1)
     validate(doc, "machine.schema.json", MachineError)
-    return _build(doc)
+    return _build(doc), doc
 
 
 def _build(doc: YamlDocument) -> Machine:
@@ -245,11 +246,7 @@ def _build(doc: YamlDocument) -> Machine:
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
     )
-    if not data.get("alarms"):
-        return machine
-    from .alarms import parse_alarms
-
-    return replace(machine, alarms=parse_alarms(data["alarms"], doc, ("alarms",), machine))
+    return machine
 
 
 def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | None:
