@@ -7,6 +7,7 @@ never from numbers copied here.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from datetime import UTC, datetime, timedelta
 from functools import cache
 
@@ -18,6 +19,7 @@ from .health import choose, health_of
 from .projection import Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
+from .store_prior import StorePrior, learned_from_store
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
 # indicators whose growth feeds itself (impacts of spreading damage): projected with the exponential model
@@ -63,9 +65,11 @@ def _projection(p: Projection, s: Series) -> dict:
             "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
 
 
-def _project(s: Series, limit: float, label: str, source: Series | None) -> Projection:
+def _project(s: Series, limit: float, label: str, source: Series | None,
+             learned: StorePrior | None = None) -> Projection:
     """Project ``s`` to ``limit`` (the point's health indicator, made of ``source``, telling when degradation
-    began), with the guard that a fit has more readings than its model's parameters."""
+    began), with the guard that a fit has more readings than its model's parameters; ``learned``: what the
+    store's own histories gave for this indicator (its prior replaces the shipped one)."""
     def too_few(n, what):
         return Projection(limit, label, None, None, None, "too few readings",
                           f"{n} reading(s) {what}; a fit needs more readings than the {MODEL_PARAMETERS} "
@@ -73,8 +77,14 @@ def _project(s: Series, limit: float, label: str, source: Series | None) -> Proj
     n = len(s)
     if n < MIN_PROJECTION_READINGS and not (n and s.values[-1] >= limit):
         return too_few(n, "in the trend")
+    priors = None
+    if learned is not None and learned.prior is not None:
+        from .degradation import shipped_priors
+        priors = {**shipped_priors(), s.indicator: learned.prior}
     p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
-                health=None if source is None else health_of(source, s))
+                health=None if source is None else health_of(source, s), priors=priors)
+    if learned is not None and learned.prior is None and p.prior:
+        p = replace(p, prior=f"{p.prior} ({learned.note})", reason=f"{p.reason} ({learned.note})")
     if p.projected and p.method != "reached" and p.onset_index is not None \
             and n - p.onset_index < MIN_PROJECTION_READINGS:
         return too_few(n - p.onset_index, "since the rise began")
@@ -186,11 +196,13 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
 
 
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
-                    point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None) -> dict:
+                    point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
+                    learned: dict[str, StorePrior] | None = None) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first).
 
     ``repairs``: the machine's findings (``repairs.repairs_of``); each is shown beside the points that
     see its component, and one with a fault found resets their baseline to the readings after its day.
+    ``learned``: indicator -> the prior from the store's own histories (``store_prior``).
     """
     from ..advice import zone_of
 
@@ -227,7 +239,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             if name in used:
                 s = used[name]
                 key = name if name not in projections else f"{name}@limit"
-                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source)
+                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source, (learned or {}).get(name))
         ref = next(iter(by_name.values()))
         since = used[ref.indicator] if ref.indicator in used else None
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
@@ -284,6 +296,13 @@ def fault_names() -> dict[str, str]:
     return {k: f.name for k, f in load_rulebook().faults.items()}
 
 
+def _repairs(store, machine: str, readings: list[dict], names: dict[str, str] | None) -> list[Repair]:
+    """The findings of a stored machine as Repairs."""
+    found = store.findings(machine)
+    return repairs_of(found, {r["id"]: r["machine_file"] for r in readings},
+                      fault_names() if names is None and found else names or {})
+
+
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
                    plots: bool = False, names: dict[str, str] | None = None, waterfall: bool = False,
                    compare: tuple[int, int] | None = None) -> dict:
@@ -293,11 +312,11 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     rows = store.history(machine, point)
     readings = store.readings(machine)
     files = [r["machine_file"] for r in readings if r["machine_file"]]
-    found = store.findings(machine)
-    repairs = repairs_of(found, {r["id"]: r["machine_file"] for r in readings},
-                         fault_names() if names is None and found else names or {})
+    repairs = _repairs(store, machine, readings, names)
     doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None), limits=limits,
-                          point=point, plots=plots, repairs=repairs)
+                          point=point, plots=plots, repairs=repairs,
+                          learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
+                                                     else _repairs(store, m, store.readings(m), names)))
     doc["store"] = str(store.path)
     if waterfall or compare is not None:
         _add_spectra(doc, store, machine, point, compare, plots)
