@@ -25,11 +25,16 @@ from .series import Series
 
 @cache
 def min_histories() -> int:
-    """How many ended histories a store needs before its own prior is used (onset.yaml ``store_prior``)."""
+    """How many ended histories a store needs before its own prior is used (the shipped onset.yaml)."""
+    return read_min_histories(ONSET_FILE)
+
+
+def read_min_histories(path) -> int:
+    """``store_prior.min_histories`` of an onset file; a RulebookError naming the file, line and field otherwise."""
     from ..common.errors import RulebookError
     from ..common.yamlfile import read_yaml
 
-    doc = read_yaml(ONSET_FILE, RulebookError)
+    doc = read_yaml(path, RulebookError)
     section = doc.data.get("store_prior") if isinstance(doc.data, dict) else None
     v = section.get("min_histories") if isinstance(section, dict) else None
     if isinstance(v, bool) or not isinstance(v, int) or not 2 <= v <= 1000:
