@@ -26,6 +26,7 @@ REVOLUTIONS_SHOWN = 8
 WAVEFORM_REVOLUTIONS = 6
 SPECTRUM_ORDERS = 12             # the spectrum shows at least 12 x 1X of the shaft of interest
 SKIPPED_MARKS = {"slip", "pole pass", "HTF"}   # spacings, not lines of the spectrum
+SENSOR_ORDERS = (2, 3)           # besides 1X, the harmonics of the shaft under the sensor that are marked
 
 
 @dataclass(frozen=True)
@@ -59,6 +60,7 @@ class PlotData:
     envelope: np.ndarray | None              # squared envelope, (m/s^2)^2 peak
     envelope_band_hz: tuple[float, float] | None
     envelope_marks: tuple[Mark, ...]
+    sensor_shaft: str | None = None          # the shaft under the channel's point (None: no point)
 
 
 @dataclass(frozen=True)
@@ -119,9 +121,14 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
     highest = max((f.frequency_hz for f in analysis.forcing if f.family != "bearing"), default=10 * fr)
     fmax = min(c.velocity.fmax_hz, max(SPECTRUM_ORDERS * fr, 1.3 * highest))
     spec = c.velocity.below(fmax)
-    marks = tuple(Mark(f.frequency_hz, f"{f.name} {f.component}", f.family, f.component, f.name)
-                  for f in sorted(analysis.forcing, key=lambda f: (f.family == "bearing", f.frequency_hz))
-                  if f.frequency_hz <= fmax and f.name not in SKIPPED_MARKS)
+    marks = [Mark(f.frequency_hz, f"{f.name} {f.component}", f.family, f.component, f.name)
+             for f in sorted(analysis.forcing, key=lambda f: (f.family == "bearing", f.frequency_hz))
+             if f.frequency_hz <= fmax and f.name not in SKIPPED_MARKS]
+    # 2X and 3X of the shaft under the sensor, beside every shaft's 1X (the forcing list has 1X only)
+    sensor = c.point.shaft if c.point is not None and c.point.shaft in analysis.speeds_hz else None
+    if sensor is not None:
+        marks += [Mark(k * analysis.speeds_hz[sensor], f"{k}X {sensor}", "shaft", sensor, f"{k}X")
+                  for k in SENSOR_ORDERS if k * analysis.speeds_hz[sensor] <= fmax]
 
     env_hz, env, band = envelope if envelope is not None else _envelope(c)
     env_marks: tuple[Mark, ...] = ()
@@ -135,4 +142,5 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
                 out.append(Mark(rates.impact_rate_hz(defect), f"{name} {b}", "bearing", b, name))
         env_marks = tuple(sorted(out, key=lambda m: m.freq_hz))
     return PlotData(channel, shaft, fr, bearing, waveform_t, waveform, revs_deg, revs_g,
-                    spec.freq_hz, spec.amplitude, spec.resolution_hz, marks, env_hz, env, band, env_marks)
+                    spec.freq_hz, spec.amplitude, spec.resolution_hz, tuple(marks), env_hz, env, band, env_marks,
+                    sensor)

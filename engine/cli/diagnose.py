@@ -32,6 +32,10 @@ def register(sub) -> None:
     add_reading_options(p)
     p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep "
                                       "(default: every channel)")
+    p.add_argument("--plots", metavar="CHANNEL,...",
+                   help="channels whose plots an HTML report shows, comma-separated, or all for every "
+                        "channel's spectrum besides the usual figures (default: the channel of the top "
+                        "hypothesis's evidence)")
     p.add_argument("--store", nargs="?", const="", metavar="PATH",
                    help="store the reading in the history and trend it against what is stored "
                         "(default store: history.sqlite in the user's data folder)")
@@ -60,6 +64,7 @@ def run(args) -> int:
     machine = with_site_alarms(load_machine(args.machine), args.alarms or ())
     reasoner = Reasoner(rulebook(args))
     reading = load_readings(args)
+    plot_channels = _plot_channels(args, reading)
     if args.store is not None:
         from ..history.record import content_hash
         from ..pipeline.history import diagnose_and_store
@@ -67,16 +72,30 @@ def run(args) -> int:
                "point": args.point, "direction": args.direction, "channels": args.channels,
                "alarms": content_hash(args.alarms) if args.alarms else None}   # other limits: another diagnosis
         d, doc = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store, how=how,
-                                    site=args.site, taken_at=args.taken_at, plots=fmt == "html")
+                                    site=args.site, taken_at=args.taken_at, plots=fmt == "html",
+                                    plot_channels=plot_channels)
     else:
         d = diagnose(reading, machine, reasoner, plots=fmt == "html", taken=taken)
-        doc = document_of(d)
+        doc = document_of(d, plot_channels=plot_channels)
     text = render(doc, fmt)
     if output is None:
         sys.stdout.write(text)
     else:
         say(f"wrote {write_atomically(output, text, inputs)}")
     return EXIT_WITHHELD if d.reasoning.withheld else 0
+
+
+def _plot_channels(args, reading):
+    """``--plots`` checked against the reading's channels (a UsageError names an unknown one); it needs
+    the HTML format, the only one with plots."""
+    if args.plots is None:
+        return None
+    from ..common.errors import UsageError
+    from ..report.plots import choose_channels
+
+    if args.format != "html":
+        raise UsageError(f"--plots draws plots in an HTML report: add --format html (not {args.format})")
+    return choose_channels(args.plots, [c.name for c in reading.channels])
 
 
 def _taken_at(args):

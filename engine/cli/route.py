@@ -18,7 +18,9 @@ def register(sub) -> None:
     p.add_argument("--again", action="store_true", help="diagnose readings already stored once more")
     p.add_argument("--format", choices=["html", "md", "text", "json"], default="html",
                    help="format of each reading's report (default html); the summary is written in all four")
-    p.add_argument("--plots", action="store_true", help="draw the plots in each reading's HTML report")
+    p.add_argument("--plots", nargs="?", const="", metavar="CHANNEL,...",
+                   help="draw the plots in each reading's HTML report; with channel names, those channels' "
+                        "plots (a reading without one leaves it out), with all, every channel's spectrum too")
     p.add_argument("--quiet", action="store_true", help="no progress bar and no summary on the terminal")
     add_max_samples_option(p)
     add_site_option(p)

@@ -7,12 +7,13 @@ from pathlib import Path
 
 
 def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: dict, site=(), taken_at=None,
-                       plots: bool = False):
+                       plots: bool = False, plot_channels: tuple[str, ...] | None = None):
     """Diagnose ``reading`` beside the machine's stored history, then store it.
 
     ``files`` are the reading's files, ``how`` the options it was read with (unit, speed, sample rate,
     scale, point, direction, channels): with the files, the machine and the rulebooks (``site``) they make
     the key that tells a reading already stored. ``taken_at`` is a stated time, else the file's own.
+    ``plot_channels``: the channels the report plots (``document_of``).
     Returns (Diagnosis, report document with a ``trend`` section when a history exists).
     """
     from ..advice import load_advice, zone_scale
@@ -35,7 +36,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
         link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots,
                            recording_hash=recording)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
-        doc = document_of(d)
+        doc = document_of(d, plot_channels=plot_channels)
         if link.doc is not None:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,

@@ -215,12 +215,13 @@ def _alarms(alarms) -> dict:
 
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
                     advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None,
-                    alarms=()) -> dict:
+                    alarms=(), plot_channels: tuple[str, ...] | None = None) -> dict:
     """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo; ``alarms`` the site's
     alarms judged on the reading (``engine.alarms.judge_alarms``), crossed ones first.
 
     ``made_at`` is the report's own time (see ``report_time``), now when None;
-    tests and runs whose reports must compare equal give one.
+    tests and runs whose reports must compare equal give one. ``plot_channels`` chooses the channels
+    plotted (``plots.choose_channels``; None: the view of the top hypothesis).
     """
     recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
@@ -228,7 +229,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
     if plots is not None:
         from .plots import figures as draw
 
-        figures = draw(plots, evidence, reasoning, machine)
+        figures = draw(plots, evidence, reasoning, machine, plot_channels)
     problems = [{"fault": h.fault, "fault_name": h.fault_name, "component": h.component,
                  "certainty": round(h.certainty, 3), "support": [_firing(f) for f in h.support]}
                 for h in reasoning.reading_problems]
@@ -283,6 +284,6 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "rulebooks": [str(p) for p in reasoning.rulebook_files],
         "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
                    "rules": reasoning.rules_loaded},
-        "figures": [{"title": t, "svg": svg} for t, svg in figures],
+        "figures": [{"title": f.title, "svg": f.svg, **({"data": f.data} if f.data else {})} for f in figures],
     }
     return doc

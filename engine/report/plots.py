@@ -4,21 +4,49 @@ The analysis stage hands over a ``PlotSet`` (``engine.analysis.plotdata``):
 every channel seen from every shaft. ``focus`` picks the channel, shaft and
 bearing of the top hypothesis's strongest evidence (or the loudest channel)
 from the reasoning and the evidence's summaries; ``figures`` draws that view
-with ``svg``. The envelope spectrum marks the harmonics of each defect family
-the evidence found, solid, beside the dashed fundamentals of the bearing's rates.
+with ``svg`` (or the channels the user chose, ``choose_channels``). The
+spectrum's marks are grouped by their source (``GROUPS``: shaft orders, bearing
+rates, gear mesh...), each group in its own colour and named in the legend;
+rates that crowd the axis (``CROWDING``) are left out unless a hypothesis the
+report shows is on their component. The envelope spectrum marks the harmonics
+of each defect family the evidence found, solid, beside the dashed
+fundamentals of the bearing's rates. The spectrum and envelope figures carry
+their data (``Figure.data``) for the HTML report's zoom and cursors
+(``templates/plots.js``).
 """
 
 from __future__ import annotations
 
+from collections.abc import Set as AbstractSet
+from dataclasses import dataclass
+
 import numpy as np
 
 from ..analysis.plotdata import PlotData, PlotSet
+from ..common.errors import UsageError
 from ..evidence import Evidence
 from ..machine import Machine
-from ..reasoning import Reasoning
+from ..reasoning import POSSIBLE, Reasoning
 from . import svg
 
 ENVELOPE_HARMONICS_MARKED = 5
+# each forcing family's group on a plot: its name in the legend and its colour
+GROUPS = {"shaft": ("shaft orders", "#1f4e9a"), "bearing": ("bearing rates", svg.MARK),
+          "gear": ("gear mesh", "#2e7d32"), "belt": ("belt pass", "#7a5c00"),
+          "rotor": ("vane/blade pass", "#6a3d9a"), "electrical": ("electrical", "#c25e00")}
+FOUND = ("harmonics found in the evidence", svg.MARK)      # the envelope's matched defect harmonics
+CROWDING = {"FTF", "rotor bar pass"}   # rates that crowd a spectrum: marked only when a hypothesis is on them
+INTERACTIVE_POINTS = 32768             # at most this many points of a trace go to the HTML zoom
+FREQUENCY_UNIT = "Hz"                  # the unit of the frequency axes (their label and ticks follow it)
+
+
+@dataclass(frozen=True)
+class Figure:
+    """One figure: its title, its SVG, and for a spectrum the data its HTML zoom and cursors redraw."""
+
+    title: str
+    svg: str
+    data: dict | None = None
 
 
 def focus(reasoning: Reasoning, evidence: Evidence, machine: Machine) -> tuple[str, str, str | None]:
@@ -72,43 +100,132 @@ def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
                 label = name if k * per == 1 else f"{k * per}x{name}"
                 if k == 1 and pd.bearing is None:      # several bearings marked: say whose rate it is
                     label += f" {f.bearing}"
-                out.append(svg.Mark(k * f.expected_hz, label, strong=True))
+                out.append(svg.Mark(k * f.expected_hz, label, strong=True, group=FOUND[0], color=FOUND[1]))
     return out
 
 
-def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: Machine) -> list[tuple[str, str]]:
-    """(title, SVG) of each figure of the view the report shows: waveform, revolutions, spectrum,
-    squared envelope spectrum."""
-    return draw(shown(plots, reasoning, evidence, machine), evidence)
+def choose_channels(text: str | None, available) -> tuple[str, ...] | None:
+    """The channels ``--plots`` names, checked against ``available``: None for the default (the focus
+    alone), ("all",) for every channel; a UsageError naming an unknown channel and the known ones."""
+    if text is None or not text.strip():
+        return None
+    names = [n.strip() for n in text.split(",") if n.strip()]
+    if names == ["all"]:
+        return ("all",)
+    known = list(available)
+    unknown = [n for n in names if n not in known]
+    if unknown:
+        raise UsageError(f"--plots: no channel {unknown[0]!r} in the reading; its channels are "
+                         f"{', '.join(known)} (or give all)")
+    return tuple(dict.fromkeys(names))
 
 
-def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
-    """(title, SVG) of each figure of one view."""
+def used_components(reasoning: Reasoning) -> set[str]:
+    """The components of the hypotheses the report shows, at POSSIBLE or more (their crowding rates are
+    marked)."""
+    return {h.component for h in reasoning.hypotheses if h.certainty >= POSSIBLE}
+
+
+def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: Machine,
+            channels: tuple[str, ...] | None = None) -> list[Figure]:
+    """Each figure of the view the report shows: waveform, revolutions, spectrum, squared envelope
+    spectrum. ``channels`` (``choose_channels``): those channels' figures instead, each seen from the
+    shaft under its point; ("all",): the view shown, then the spectrum of every other channel."""
+    used = used_components(reasoning)
+    channel, shaft, bearing = focus(reasoning, evidence, machine)
+    if channels is None:
+        return draw(plots.view(channel, shaft, bearing), evidence, used)
+    if channels == ("all",):
+        out = draw(plots.view(channel, shaft, bearing), evidence, used)
+        others = dict.fromkeys(v.channel for v in plots.views if v.channel != channel)
+        return out + [f for c in others for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used)
+                      if f.data is not None and f.title.startswith("Spectrum")]
+    return [f for c in channels for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used)]
+
+
+def _draw_own(plots: PlotSet, channel: str, focus_channel: str, shaft: str, bearing: str | None,
+              evidence: Evidence, used: AbstractSet[str]) -> list[Figure]:
+    """The figures of ``channel`` as the report would show it: the focus view for the focus channel, else
+    seen from the shaft under its point (the focus shaft when it has none); none for a channel the
+    analysis left out (a blocking quality issue: the report says so under Acquisition)."""
+    if channel == focus_channel:
+        return draw(plots.view(channel, shaft, bearing), evidence, used)
+    any_view = next((v for v in plots.views if v.channel == channel), None)
+    if any_view is None:
+        return []
+    return draw(plots.view(channel, any_view.sensor_shaft or shaft), evidence, used)
+
+
+def spectrum_marks(pd: PlotData, used: AbstractSet[str] = frozenset()) -> list[svg.Mark]:
+    """The spectrum's marks, grouped by source; a crowding rate only when ``used`` holds its component."""
+    out = []
+    for m in pd.spectrum_marks:
+        if m.name in CROWDING and m.component not in used:
+            continue
+        group, color = GROUPS.get(m.family, (m.family, svg.MARK))
+        out.append(svg.Mark(m.freq_hz, m.label, strong=m.family == "shaft" and m.component == pd.sensor_shaft,
+                            group=group, color=color, rank=int(m.family == "bearing")))
+    return out
+
+
+def spectrum_top_hz(pd: PlotData, marks: list[svg.Mark]) -> float:
+    """The highest frequency the spectrum figure draws at first: 12 orders of the view's shaft or 1.3 times
+    the highest mark shown that is not a bearing rate, within the data (the zoom reaches the rest)."""
+    highest = max((m.x for m in marks if m.group != GROUPS["bearing"][0]), default=0.0)
+    wanted = max(12 * pd.shaft_hz, 1.3 * highest)
+    return min(float(pd.spectrum_hz[-1]), wanted) if len(pd.spectrum_hz) else wanted
+
+
+def _data(title: str, x: np.ndarray, y: np.ndarray, marks: list[svg.Mark], xlim, ylabel: str,
+          spacing_hz: float) -> dict:
+    """What the HTML zoom and cursors redraw: the trace (at most INTERACTIVE_POINTS, peaks kept), the
+    marks, the first view, the sideband cursor's first spacing (1X) and the axis words, frequencies in
+    FREQUENCY_UNIT, 5 significant digits."""
+    x, y = svg.reduce_for_drawing(x, y, INTERACTIVE_POINTS // 2)
+    keep = np.isfinite(x) & np.isfinite(y)
+
+    def r(v):
+        return [float(f"{a:.5g}") for a in v]
+
+    return {"title": title, "unit": FREQUENCY_UNIT, "xlabel": f"frequency, {FREQUENCY_UNIT}", "ylabel": ylabel,
+            "x": r(x[keep]), "y": r(y[keep]), "xlim": [float(xlim[0]), float(xlim[1])],
+            "spacing": float(f"{spacing_hz:.6g}"),
+            "marks": [{"x": float(f"{m.x:.6g}"), "label": m.label, "group": m.group or "", "color": m.color,
+                       "strong": m.strong, "rank": m.rank} for m in marks]}
+
+
+def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset()) -> list[Figure]:
+    """Each figure of one view; ``used``: the components whose crowding rates are marked."""
     out = []
     # a channel whose scale is not trusted is drawn as stated, and its level axes say so
     stated = " as stated (scale not trusted)" if pd.channel in {lv.channel for lv in evidence.scale_doubted} else ""
     title = f"Waveform, {pd.channel}"
-    out.append((title, svg.render(svg.Plot(title, "time, ms", "acceleration, g" + stated,
-                                           [svg.Series(pd.waveform_t_ms, pd.waveform_g)]))))
+    out.append(Figure(title, svg.render(svg.Plot(title, "time, ms", "acceleration, g" + stated,
+                                                 [svg.Series(pd.waveform_t_ms, pd.waveform_g)]))))
     if pd.revolutions_g is not None and pd.revolutions_deg is not None and len(pd.revolutions_g):
         rows = pd.revolutions_g
         step = 2.2 * float(np.max(np.abs(rows))) or 1.0
         series = [svg.Series(pd.revolutions_deg, row - i * step) for i, row in enumerate(rows)]
         ticks = [(-i * step, f"turn {i + 1}") for i in range(len(rows))]
         title = f"Waveform cut into turns of {pd.shaft} ({pd.shaft_hz * 60:.0f} rpm), {pd.channel}"
-        out.append((title, svg.render(svg.Plot(title, f"angle of {pd.shaft}, degrees", "acceleration, one row per turn",
-                                               series, xlim=(0.0, 360.0), ytick_labels=ticks,
-                                               height=60 + 30 * len(rows)))))
-    marks = [svg.Mark(m.freq_hz, m.label) for m in pd.spectrum_marks]
-    title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz:.3g} Hz resolution, Hann)"
-    top = float(np.max(pd.spectrum_mm_s)) * 1.1 if len(pd.spectrum_mm_s) else 1.0
-    out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "velocity, mm/s RMS" + stated,
-                                           [svg.Series(pd.spectrum_hz, pd.spectrum_mm_s)], marks,
-                                           xlim=(0.0, float(pd.spectrum_hz[-1])), ylim=(0.0, top), height=260))))
+        out.append(Figure(title, svg.render(svg.Plot(title, f"angle of {pd.shaft}, degrees",
+                                                     "acceleration, one row per turn", series, xlim=(0.0, 360.0),
+                                                     ytick_labels=ticks, height=60 + 30 * len(rows)))))
+    marks = spectrum_marks(pd, used)
+    title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz:.3g} {FREQUENCY_UNIT} resolution, Hann)"
+    xlim = (0.0, spectrum_top_hz(pd, marks))
+    shown = pd.spectrum_hz <= xlim[1]
+    top = float(np.max(pd.spectrum_mm_s[shown])) * 1.1 if shown.any() else 1.0
+    ylabel = "velocity, mm/s RMS" + stated
+    out.append(Figure(title, svg.render(svg.Plot(title, f"frequency, {FREQUENCY_UNIT}", ylabel,
+                                                 [svg.Series(pd.spectrum_hz, pd.spectrum_mm_s)], marks,
+                                                 xlim=xlim, ylim=(0.0, top), height=260)),
+                      _data(title, pd.spectrum_hz, pd.spectrum_mm_s, marks, xlim, ylabel, pd.shaft_hz)))
     # the envelope, its frequencies and its band are there together (plotdata._envelope), or none of them
     if pd.envelope is not None and pd.envelope_hz is not None and pd.envelope_band_hz is not None:
         matched = _matched_harmonics(evidence, pd)
-        marks = matched + [svg.Mark(m.freq_hz, m.label) for m in pd.envelope_marks
+        group, color = GROUPS["bearing"]
+        marks = matched + [svg.Mark(m.freq_hz, m.label, group=group, color=color) for m in pd.envelope_marks
                            if not any(abs(m.freq_hz - x.x) < 1e-6 for x in matched)]
         lo, hi = pd.envelope_band_hz
         # the envelope of a prewhitened signal has no physical unit: show it against its own median
@@ -116,7 +233,10 @@ def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
         relative = pd.envelope / median if median > 0 else pd.envelope
         top = float(np.max(relative)) * 1.1 if len(relative) else 1.0
         title = f"Squared envelope spectrum, {pd.channel}, band {lo:.0f}-{hi:.0f} Hz"
-        out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "squared envelope, times its median",
-                                               [svg.Series(pd.envelope_hz, relative)], marks,
-                                               xlim=(0.0, float(pd.envelope_hz[-1])), ylim=(0.0, top), height=260))))
+        xlim = (0.0, float(pd.envelope_hz[-1]))
+        ylabel = "squared envelope, times its median"
+        out.append(Figure(title, svg.render(svg.Plot(title, f"frequency, {FREQUENCY_UNIT}", ylabel,
+                                                     [svg.Series(pd.envelope_hz, relative)], marks,
+                                                     xlim=xlim, ylim=(0.0, top), height=260)),
+                          _data(title, pd.envelope_hz, relative, marks, xlim, ylabel, pd.shaft_hz)))
     return out

@@ -8,7 +8,8 @@ home of the CSS. Every value a template prints passes through its format's escap
 (``engine.common.escape``) as the environment's ``finalize`` step, so no template can forget one:
 Markdown (``escape.markdown``), plain text and the terminal (``escape.text_value``), HTML
 (``escape.html_value``, then Jinja's autoescape). Filters that build markup (``md_code``, ``url``)
-return text already escaped for it. JSON is RFC 8259 JSON (``engine.common.jsonout``): never NaN
+return text already escaped for it; ``script`` inlines a shipped script of ``templates/`` (``plots.js``, the
+HTML plots' zoom and cursors), so a page needs nothing from the network. JSON is RFC 8259 JSON (``engine.common.jsonout``): never NaN
 or Infinity. A template is given ``doc`` and nothing else.
 """
 
@@ -76,6 +77,15 @@ def _days(d) -> str:
 
 
 @cache
+def _script(name: str) -> markupsafe.Markup:
+    """The shipped script ``templates/NAME`` to inline in a ``<script>`` element of a page."""
+    text = (TEMPLATES / name).read_text(encoding="utf-8")
+    if "</" in text or not name.endswith(".js"):     # a script must not end its own element
+        raise ValueError(f"{name} cannot be inlined in a <script> element")
+    return markupsafe.Markup(text)
+
+
+@cache
 def environment(fmt: str | None = None) -> jinja2.Environment:
     """The Jinja environment over templates/, one per format: autoescape for .html templates, and for
     ``fmt`` "md", "text" or "html" every value escaped for Markdown, the terminal or the page.
@@ -93,6 +103,7 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
     env.filters["term"] = escape.terminal
     env.filters["css_string"] = lambda text: markupsafe.Markup(escape.css_string(text))
     env.filters["url"] = escape.url_path
+    env.filters["script"] = _script
     return env
 
 

@@ -28,6 +28,10 @@ GRID = "#dddddd"
 MARK = "#8a2d2a"
 MUTED = "#777777"
 LABEL_ROWS = 4        # rows of staggered mark labels before labels are thinned
+CHAR_PX = 5.6         # width of one character of a mark label (9.5 px font), for placing labels
+TITLE_CHAR_PX = 6.8   # width of one character of the title (12 px bold), for wrapping it
+LEGEND_CHAR_PX = 5.8  # width of one character of a legend entry (10 px font)
+LEGEND_ROW = 14       # height of one row of the legend
 
 
 @dataclass(frozen=True)
@@ -41,6 +45,7 @@ class Series:
     width: float = 0.8
     points: bool = False        # draw a dot at each point (short series such as a trend)
     fill_to: float | None = None   # fill the page colour down to this y, hiding what lies behind (a waterfall)
+    label: str | None = None    # what the trace is, in words, for the legend (None: the plot's only trace)
 
 
 @dataclass(frozen=True)
@@ -50,6 +55,9 @@ class Mark:
     x: float
     label: str
     strong: bool = False        # a matched line: drawn solid, its label kept first
+    group: str | None = None    # the source it belongs to, in words, for the legend ("bearing rates")
+    color: str = MARK
+    rank: int = 0               # labels of a lower rank find their row first (after the strong ones)
 
 
 @dataclass(frozen=True)
@@ -143,31 +151,85 @@ def _limits(values: list[np.ndarray], given, pad: float) -> tuple[float, float]:
     return lo - pad * span, hi + pad * span
 
 
-def _label_rows(marks: list[Mark], to_px, char_px: float) -> list[tuple[Mark, int]]:
+def _label_rows(marks: list[Mark], to_px, char_px: float, right_edge: float = math.inf
+                ) -> list[tuple[Mark, int, bool]]:
     """Give each label a row so that no two labels in a row overlap; drop what does not fit.
 
-    Strong marks (matched lines) are placed first, then the others left to
-    right; a label that finds no free row is left out (its line still shows).
+    Strong marks (matched lines) are placed first, then the others by rank,
+    left to right; a label that would run past ``right_edge`` is written to the left
+    of its line instead (the third value, True), so no label is cut off. A
+    label that finds no free row is left out (its line still shows, and its
+    group is in the legend).
     """
-    rows_end = [-math.inf] * LABEL_ROWS
+    rows: list[list[tuple[float, float]]] = [[] for _ in range(LABEL_ROWS)]
     placed = []
-    for m in sorted(marks, key=lambda m: (not m.strong, m.x)):
+    for m in sorted(marks, key=lambda m: (not m.strong, m.rank, m.x)):
+        width = char_px * len(m.label)
         left = to_px(m.x) + 2
-        right = left + char_px * len(m.label)
+        flipped = left + width > right_edge
+        if flipped:
+            left = to_px(m.x) - 2 - width
+        right = left + width
         for r in range(LABEL_ROWS):
-            if left > rows_end[r] + 4:
-                rows_end[r] = right
-                placed.append((m, r))
+            if all(right + 4 < a or left > b + 4 for a, b in rows[r]):
+                rows[r].append((left, right))
+                placed.append((m, r, flipped))
                 break
     return placed
 
 
+def wrap(text: str, chars: int) -> list[str]:
+    """``text`` in lines of at most ``chars`` characters, broken between words (a longer word stands alone)."""
+    lines: list[str] = []
+    for word in text.split():
+        if lines and len(lines[-1]) + 1 + len(word) <= chars:
+            lines[-1] += " " + word
+        else:
+            lines.append(word)
+    return lines or [""]
+
+
+def legend_entries(plot: Plot) -> list[tuple[str, str, bool, str]]:
+    """(label, colour, dashed, shape) of each legend entry: every labelled trace ("trace"), then every
+    group of marks ("mark"), in the order they first appear."""
+    out: list[tuple[str, str, bool, str]] = []
+    for s in plot.series:
+        if s.label and not any(e[0] == s.label for e in out):
+            out.append((s.label, s.color, s.dashed, "trace"))
+    for m in plot.marks:
+        if m.group and not any(e[0] == m.group for e in out):
+            out.append((m.group, m.color, not m.strong, "mark"))
+    return out
+
+
+def _legend_rows(entries, x0: float, x1: float) -> list[list[tuple[float, tuple]]]:
+    """The legend entries laid out left to right in rows that fit between ``x0`` and ``x1``."""
+    rows: list[list[tuple[float, tuple]]] = []
+    x = math.inf
+    for e in entries:
+        w = 26 + LEGEND_CHAR_PX * len(e[0]) + 14
+        if x + w > x1:
+            rows.append([])
+            x = x0
+        rows[-1].append((x, e))
+        x += w
+    return rows
+
+
 def render(plot: Plot, width: int = WIDTH) -> str:
-    """The plot as an SVG element that scales to the width of its container."""
-    h = plot.height
+    """The plot as an SVG element that scales to the width of its container.
+
+    A title too long for the width is wrapped; a legend under the axes names
+    every labelled trace and every group of marks in words.
+    """
     x0, x1 = MARGIN_LEFT, width - MARGIN_RIGHT
+    title_lines = wrap(plot.title, int((width - x0) / TITLE_CHAR_PX))
+    top = MARGIN_TOP + 14 * (len(title_lines) - 1)
+    legend = _legend_rows(legend_entries(plot), x0, x1)
+    h = plot.height + 14 * (len(title_lines) - 1)
+    total_h = h + LEGEND_ROW * len(legend) + (4 if legend else 0)
     label_band = 12 * min(LABEL_ROWS, max(1, len(plot.marks))) if plot.marks else 0
-    y0, y1 = h - MARGIN_BOTTOM, MARGIN_TOP + label_band
+    y0, y1 = h - MARGIN_BOTTOM, top + label_band
     xs = [np.asarray(s.x, dtype=float) for s in plot.series]
     ys = [np.asarray(s.y, dtype=float) for s in plot.series]
     xlo, xhi = _limits(xs, plot.xlim, 0.0)
@@ -180,10 +242,12 @@ def render(plot: Plot, width: int = WIDTH) -> str:
     def py(v):
         return y0 - (v - ylo) / (yhi - ylo) * (y0 - y1)
 
-    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {width} {h}" width="100%" '
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {width} {total_h}" width="100%" '
            f'preserveAspectRatio="xMidYMid meet" role="img" aria-label={quoteattr(plot.title)} '
            f'style="{FONT};font-size:11px">']
-    out.append(f'<text x="{x0}" y="14" font-size="12" font-weight="bold" fill="{INK}">{escape(plot.title)}</text>')
+    for i, line in enumerate(title_lines):
+        out.append(f'<text x="{x0}" y="{14 + 14 * i}" font-size="12" font-weight="bold" fill="{INK}">'
+                   f'{escape(line)}</text>')
     # grid and ticks
     if plot.ytick_labels is None:
         yt = nice_ticks(ylo, yhi)
@@ -216,17 +280,19 @@ def render(plot: Plot, width: int = WIDTH) -> str:
             y = py(lv.y)
             out.append(f'<line x1="{x0}" y1="{y:.1f}" x2="{x1}" y2="{y:.1f}" stroke="{MUTED}" '
                        f'stroke-width="0.8" stroke-dasharray="5 3"/>')
-            out.append(f'<text x="{x1 - 3}" y="{y - 3:.1f}" text-anchor="end" font-size="10" '
-                       f'fill="{MUTED}">{escape(lv.label)}</text>')
+            below = y - 14 < y1          # no room above the line inside the axes: write it below
+            out.append(f'<text x="{x1 - 3}" y="{y + 11 if below else y - 3:.1f}" text-anchor="end" '
+                       f'font-size="10" fill="{MUTED}">{escape(lv.label)}</text>')
     marks = [m for m in plot.marks if xlo <= m.x <= xhi]
     for m in marks:
         x = px(m.x)
         dash = "" if m.strong else ' stroke-dasharray="3 2"'
-        out.append(f'<line x1="{x:.1f}" y1="{y0}" x2="{x:.1f}" y2="{y1}" stroke="{MARK}" '
-                   f'stroke-width="{0.9 if m.strong else 0.6}"{dash}/>')
-    for m, row in _label_rows(marks, px, char_px=5.6):
-        out.append(f'<text x="{px(m.x) + 2:.1f}" y="{MARGIN_TOP + 9 + 12 * row}" font-size="9.5" '
-                   f'fill="{MARK}">{escape(m.label)}</text>')
+        out.append(f'<line x1="{x:.1f}" y1="{y0}" x2="{x:.1f}" y2="{y1}" stroke="{escape(m.color)}" '
+                   f'stroke-width="{0.9 if m.strong else 0.6}"{dash}><title>{escape(m.label)}</title></line>')
+    for m, row, flipped in _label_rows(marks, px, CHAR_PX, right_edge=width - 2):
+        anchor = f'{px(m.x) - 2:.1f}" text-anchor="end' if flipped else f"{px(m.x) + 2:.1f}"
+        out.append(f'<text x="{anchor}" y="{top + 9 + 12 * row}" font-size="9.5" '
+                   f'fill="{escape(m.color)}">{escape(m.label)}</text>')
     for s, x, y in zip(plot.series, xs, ys):
         keep = np.isfinite(x) & np.isfinite(y)
         x, y = reduce_for_drawing(x[keep], y[keep], int(x1 - x0))
@@ -242,5 +308,17 @@ def render(plot: Plot, width: int = WIDTH) -> str:
                    f'stroke-width="{s.width}"{dash} stroke-linejoin="round" points="{path}"/>')
         if s.points:
             out += [f'<circle cx="{px(a):.1f}" cy="{py(b):.1f}" r="2" fill="{escape(s.color)}"/>' for a, b in zip(x, y)]
+    for r, row in enumerate(legend):
+        y = h + 4 + LEGEND_ROW * r + 7
+        for x, (label, color, dashed, shape) in row:
+            dash = ' stroke-dasharray="4 3"' if dashed else ""
+            if shape == "mark":
+                out.append(f'<line x1="{x + 11:.1f}" y1="{y - 6:.1f}" x2="{x + 11:.1f}" y2="{y + 5:.1f}" '
+                           f'stroke="{escape(color)}" stroke-width="1.2"{dash}/>')
+            else:
+                out.append(f'<line x1="{x:.1f}" y1="{y:.1f}" x2="{x + 22:.1f}" y2="{y:.1f}" '
+                           f'stroke="{escape(color)}" stroke-width="1.4"{dash}/>')
+            out.append(f'<text x="{x + 26:.1f}" y="{y + 3.5:.1f}" font-size="10" fill="{INK}">'
+                       f'{escape(label)}</text>')
     out.append("</svg>")
     return "\n".join(out)

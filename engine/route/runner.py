@@ -240,7 +240,7 @@ def check_outputs(route, out_dir, fmt: str, inputs) -> dict:
 
 
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
-              again: bool = False, fmt: str = "html", plots: bool = False, site=(),
+              again: bool = False, fmt: str = "html", plots: bool | str | None = False, site=(),
               progress: bool = False, made_at: str | None = None, inputs=None,
               max_samples: int | None = None, alarms=()) -> RouteOutcome:
     """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``.

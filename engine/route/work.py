@@ -83,6 +83,17 @@ def taken_at(task: Task, reading, clock) -> tuple[str, str]:
     return reading_time(task.time, "route", reading, task.files[0], clock, what=f"{task.name}: time")
 
 
+def _plot_channels(plots, reading) -> tuple[str, ...] | None:
+    """The channels ``route --plots NAMES`` asks for that this reading has (None: the default view)."""
+    if not isinstance(plots, str) or not plots.strip():
+        return None
+    if plots.strip() == "all":
+        return ("all",)
+    have = {c.name for c in reading.channels}
+    chosen = tuple(n for n in dict.fromkeys(p.strip() for p in plots.split(",")) if n in have)
+    return chosen or None
+
+
 def diagnose_task(task: Task, keys, settings: dict) -> dict:
     """Diagnose one task; a bad file becomes ``{"ok": False, "error": ...}``, never an exception.
 
@@ -108,9 +119,10 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
         reading = _map_points(reading, machine, task.points, task)
         when, origin = taken_at(task, reading, settings.get("clock"))
         link = _history_link(settings, machine, advice, content_hash, when, recording)
-        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=settings.get("plots", False),
+        plots = settings.get("plots", False)
+        d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots is not False and plots is not None,
                      more_facts=link, taken=(when, origin))
-        doc = document_of(d, made_at=settings.get("made_at"))
+        doc = document_of(d, made_at=settings.get("made_at"), plot_channels=_plot_channels(plots, reading))
         if link is not None and link.doc is not None:
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,

@@ -23,7 +23,7 @@ from engine.machine import load_machine
 from engine.pipeline import diagnose
 from engine.pipeline.cases import load_case, simulation_of
 from engine.reasoning import Reasoner, load_rulebook
-from engine.report.plots import _matched_harmonics, draw, figures, focus, shown
+from engine.report.plots import _matched_harmonics, draw, figures, focus, shown, used_components
 from engine.simulation import as_reading
 
 from support import CASES, ROOT
@@ -68,7 +68,7 @@ def test_the_view_shown_is_the_one_the_analysis_would_cut_for_the_focus(name):
     view = shown(d.plots, d.reasoning, d.evidence, machine)
     assert (view.channel, view.shaft, view.bearing) == (channel, shaft, bearing)
     assert view.envelope_marks == direct.envelope_marks and view.spectrum_marks == direct.spectrum_marks
-    assert figures(d.plots, d.evidence, d.reasoning, machine) == draw(direct, d.evidence)
+    assert figures(d.plots, d.evidence, d.reasoning, machine) == draw(direct, d.evidence, used_components(d.reasoning))
 
 
 def test_a_bearing_fault_is_shown_at_its_bearing_with_its_own_rates_only():
