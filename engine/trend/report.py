@@ -135,24 +135,26 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
     xlabel = f"days since {first:%Y-%m-%d %H:%M}"
     plots = []
 
-    def traces(name, color="#1a1a1a", width=0.8):
-        """The readings used in ``color``, and those before the repair in grey."""
+    def traces(name, color="#1a1a1a", width=0.8, label=None):
+        """The readings used in ``color``, and those before the repair in grey, each named in the legend."""
         s, u = by_name[name], used.get(name)
         out = []
         kept = set(u.reading_ids) if u is not None else set()
         old = [i for i, rid in enumerate(s.reading_ids) if rid not in kept]
         if old:
-            out.append(Trace(days(s)[old], s.values[old], color=BEFORE_REPAIR_COLOR, points=True, width=width))
+            out.append(Trace(days(s)[old], s.values[old], color=BEFORE_REPAIR_COLOR, points=True, width=width,
+                             label="readings before the repair (not used)"))
         if u is not None and len(u):
-            out.append(Trace(days(u), u.values, color=color, points=True, width=width))
+            out.append(Trace(days(u), u.values, color=color, points=True, width=width, label=label or "readings"))
         return out
 
-    def fitted(name, color="#8a2d2a"):
+    def fitted(name, color="#8a2d2a", what=""):
         p = projections.get(name)
         if p is None or not p.fit_days or name not in used:
             return []
         shift = at(used[name].times[0])
-        return [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0)]
+        return [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0,
+                      label=f"fitted curve{what}, projected toward {p.limit_label}")]
 
     def plot(title, ylabel, series, levels=()):
         return Plot(title, xlabel, ylabel, series=series, levels=list(levels), marks=marks, xlim=xlim)
@@ -161,20 +163,22 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         plots.append(plot(f"{point}: overall velocity", "mm/s RMS",
                           traces("velocity_rms_mm_s", width=1.2) + fitted("velocity_rms_mm_s"),
                           [Level(scale.ab, "A/B"), Level(scale.bc, "B/C"), Level(scale.cd, "C/D")]))
-    acc = [(n, c) for n, c in (("accel_peak_g", "#1a1a1a"), ("accel_rms_g", "#2a5d8a")) if n in by_name]
+    acc = [(n, c, w) for n, c, w in (("accel_peak_g", "#1a1a1a", "peak"), ("accel_rms_g", "#2a5d8a", "RMS"))
+           if n in by_name]
     if acc:
-        limits = [Level(p.limit, p.limit_label) for n, _ in acc for k, p in projections.items() if k == n
+        limits = [Level(p.limit, p.limit_label) for n, _, _ in acc for k, p in projections.items() if k == n
                   and p.limit_label.startswith("limit")]
-        plots.append(plot(f"{point}: acceleration peak (black) and RMS (blue)", "g",
-                          [t for n, c in acc for t in traces(n, c, 1.2)] + fitted("accel_peak_g"), limits))
+        plots.append(plot(f"{point}: acceleration peak and RMS", "g",
+                          [t for n, c, w in acc for t in traces(n, c, 1.2, label=w)]
+                          + fitted("accel_peak_g", what=" of the peak"), limits))
     if "kurtosis" in by_name:
-        plots.append(plot(f"{point}: kurtosis", "kurtosis", traces("kurtosis"), [Level(3.0, "Gaussian (3)")]))
+        plots.append(plot(f"{point}: kurtosis", "kurtosis", traces("kurtosis"),
+                          [Level(3.0, "3: a Gaussian signal")]))
     tones = [n for n in sorted(by_name) if n.startswith("env_")]
     if tones:
         colors = ("#1a1a1a", "#2a5d8a", "#8a2d2a", "#4a7a2a")
-        plots.append(plot(f"{point}: bearing tones in the squared envelope spectrum "
-                          + ", ".join(f"{n[4:-3]} ({colors[i % 4]})" for i, n in enumerate(tones)),
-                          "dB over floor", [t for i, n in enumerate(tones) for t in traces(n, colors[i % 4])]))
+        plots.append(plot(f"{point}: bearing tones in the squared envelope spectrum", "dB over floor",
+                          [t for i, n in enumerate(tones) for t in traces(n, colors[i % 4], label=n[4:-3])]))
     return [{"title": p.title, "svg": render(p)} for p in plots]
 
 

@@ -239,8 +239,8 @@ def _overlay(point: str, a: dict, b: dict, marks: list[dict]) -> str:
     f_max = drawn_to_hz([a, b], marks)
     plot = Plot(f"{point}: velocity spectrum of reading {a['id']} ({_when(a)}, grey) and {b['id']} "
                 f"({_when(b)}, black)", "frequency, Hz", "mm/s RMS",
-                series=[Series(_frequencies(r), r["amplitudes"].astype(float), color=c, width=0.8)
-                        for r, c in zip((a, b), COLORS)],
+                series=[Series(_frequencies(r), r["amplitudes"].astype(float), color=c, width=0.8,
+                               label=f"reading {r['id']} ({_when(r)})") for r, c in zip((a, b), COLORS)],
                 marks=_svg_marks(marks), xlim=(0.0, f_max), height=300)
     return render(plot)
 
