@@ -9,8 +9,8 @@ home of the CSS. Every value a template prints passes through its format's escap
 Markdown (``escape.markdown``), plain text and the terminal (``escape.text_value``), HTML
 (``escape.html_value``, then Jinja's autoescape). Filters that build markup (``md_code``, ``url``)
 return text already escaped for it; ``script`` inlines a shipped script of ``templates/`` (``plots.js``, the
-HTML plots' zoom and cursors), so a page needs nothing from the network. JSON is RFC 8259 JSON (``engine.common.jsonout``): never NaN
-or Infinity. A template is given ``doc`` and nothing else.
+HTML plots' zoom and cursors), so a page needs nothing from the network. JSON is RFC 8259 JSON
+(``engine.common.jsonout``): never NaN or Infinity. A template is given ``doc`` and nothing else.
 """
 
 from __future__ import annotations

@@ -308,9 +308,9 @@ def render(plot: Plot, width: int = WIDTH) -> str:
                    f'stroke-width="{s.width}"{dash} stroke-linejoin="round" points="{path}"/>')
         if s.points:
             out += [f'<circle cx="{px(a):.1f}" cy="{py(b):.1f}" r="2" fill="{escape(s.color)}"/>' for a, b in zip(x, y)]
-    for r, row in enumerate(legend):
+    for r, entries in enumerate(legend):
         y = h + 4 + LEGEND_ROW * r + 7
-        for x, (label, color, dashed, shape) in row:
+        for x, (label, color, dashed, shape) in entries:
             dash = ' stroke-dasharray="4 3"' if dashed else ""
             if shape == "mark":
                 out.append(f'<line x1="{x + 11:.1f}" y1="{y - 6:.1f}" x2="{x + 11:.1f}" y2="{y + 5:.1f}" '

@@ -18,7 +18,7 @@ import pytest
 
 from engine.report import render
 
-from support import case_diagnosis, MADE_AT
+from support import MADE_AT, case_diagnosis
 
 # plays the reader on the first live plot (the spectrum) and on the last (the squared envelope)
 DRIVER = r"""
@@ -34,7 +34,8 @@ DRIVER = r"""
     plot.svg.dispatchEvent(new MouseEvent(type, {bubbles: true, clientX: c.x, clientY: c.y}));
   }
   function state(plot) {
-    return {ticks: Array.prototype.map.call(plot.svg.querySelectorAll("text.tick"), function (t) { return t.textContent; }),
+    var text = function (t) { return t.textContent; };
+    return {ticks: Array.prototype.map.call(plot.svg.querySelectorAll("text.tick"), text),
             trace: plot.svg.querySelector("polyline.trace").getAttribute("points").split(" ").length,
             marks: plot.svg.querySelectorAll("line.mark").length,
             cursors: Array.prototype.map.call(plot.svg.querySelectorAll("line.cursor"),
