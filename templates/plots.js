@@ -80,9 +80,9 @@
     this.readout = html("output", {"class": "readout"}, t);
     this.groups = [];                   // [name, colour, dashed] of each group of marks, for the legend
     data.marks.forEach(function (m) {
-      if (m.group && !self.groups.some(function (g) { return g[0] === m.group; })) {
-        self.groups.push([m.group, m.color, !m.strong]);
-      }
+      var g = self.groups.filter(function (g) { return g[0] === m.group; })[0];
+      if (!m.group) { return; }
+      if (g) { g[2] = g[2] && !m.strong; } else { self.groups.push([m.group, m.color, !m.strong]); }
     });
     this.svg = make("svg", {viewBox: "0 0 " + W + " " + (H + LEGEND), width: "100%", "class": "plot-live",
                             style: "font-family:Helvetica,Arial,sans-serif;font-size:11px"});

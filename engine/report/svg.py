@@ -198,7 +198,8 @@ def legend_entries(plot: Plot) -> list[tuple[str, str, bool, str]]:
             out.append((s.label, s.color, s.dashed, "trace"))
     for m in plot.marks:
         if m.group and not any(e[0] == m.group for e in out):
-            out.append((m.group, m.color, not m.strong, "mark"))
+            solid = any(x.strong for x in plot.marks if x.group == m.group)   # drawn solid if any of them is
+            out.append((m.group, m.color, not solid, "mark"))
     return out
 
 

@@ -100,6 +100,10 @@ def test_the_legend_names_each_labelled_trace_and_each_group_of_marks():
          svg.Mark(2.0, "2X", group="shaft orders")]))
     assert legend == [("readings", svg.INK, False, "trace"), ("fitted curve", svg.INK, True, "trace"),
                       ("shaft orders", GROUPS["shaft"][1], True, "mark")]
+    marks = [svg.Mark(1.0, "1X fan", group="shaft orders"),
+             svg.Mark(2.0, "1X motor", strong=True, group="shaft orders")]
+    solid = svg.legend_entries(svg.Plot("t", "x", "y", [], marks))
+    assert solid == [("shaft orders", svg.MARK, False, "mark")], "a group with a solid mark shows solid"
 
 
 def test_every_line_of_a_trend_plot_is_named_in_words(rng):
