@@ -1,5 +1,6 @@
 """The benches' scoring on hand-made answers: fault pairs and wrong calls (bench.confusion), calls
-compared across gains and the severity-unknown flag (bench.real_data)."""
+compared across gains and the severity-unknown flag (bench.real_data), the remaining-life methods
+weighed against tellwave's (bench.femto_compare)."""
 
 from __future__ import annotations
 
@@ -278,3 +279,62 @@ def test_a_wrong_call_is_a_top_hypothesis_at_half_or_more_no_finding_confirms():
                  judged("not judged", ("unbalance", "pump"), 0.9)]
     assert wrong_calls(diagnoses) == {"other bearing": "outer-race on pump_de 0.80",
                                       "healthy": "unbalance on pump 0.50"}
+
+
+# ---------------------------------------------------------------- bench.femto_compare
+
+
+def _library(rng):
+    """Three runs whose degradation ratio rises exponentially from an onset to the end of the run."""
+    from bench.femto_compare import Trajectory
+
+    out = []
+    for run, (onset, rate, life) in {"a": (1.0, 2.0, 3.0), "b": (0.5, 1.0, 4.0), "c": (2.0, 4.0, 3.0)}.items():
+        t = np.arange(0.0, life + 1e-9, 100 / 3600)
+        ratio = np.where(t < onset, 0.0, np.expm1(rate * (t - onset)))
+        out.append(Trajectory(run, t, ratio + rng.normal(0.0, 0.01, len(t)), onset, life))
+    return out
+
+
+def test_similarity_finds_the_remaining_life_of_the_run_a_segment_was_cut_from(rng):
+    # a segment of run "b" from its onset to 2.5 h: run "b" matches best (derived: its remaining life
+    # there is 4.0 - 2.5 = 1.5 h, within one 100 s shift), and weighs most
+    from bench.femto_compare import similarity_lives
+
+    lib = _library(rng)
+    b = lib[1]
+    keep = (b.t_h >= b.onset_h) & (b.t_h <= 2.5 + 1e-9)
+    t, y = b.t_h[keep] - b.onset_h, b.ratio[keep]
+    lives, weights = similarity_lives(t, y, lib, 0.2, np.inf, (1.0,))
+    assert int(np.argmax(weights)) == 1
+    assert lives[1] == pytest.approx(1.5, abs=100 / 3600 + 1e-9)
+    # the same segment on a clock running twice as slow matches "b" only with a dilation of 2, and
+    # its remaining life is then on the segment's own clock: 2 x 1.5 h (derived)
+    lives2, weights2 = similarity_lives(2 * t, y, lib, 0.2, np.inf, (0.5, 1.0, 2.0))
+    assert int(np.argmax(weights2)) == 1 and lives2[1] == pytest.approx(3.0, abs=2 * 100 / 3600 + 1e-9)
+    _, undilated = similarity_lives(2 * t, y, lib, 0.2, np.inf, (1.0,))
+    assert undilated[1] < weights2[1]
+
+
+def test_the_remaining_fraction_keeps_the_durations_longer_than_the_time_already_lasted(rng):
+    from bench.femto_compare import remaining_fraction_lives
+
+    lib = _library(rng)          # onset-to-end durations 2.0, 3.5 and 1.0 h
+    lives, weights = remaining_fraction_lives(1.5, lib)
+    assert sorted(lives) == pytest.approx([0.5, 2.0]) and weights.sum() == 2
+    assert remaining_fraction_lives(5.0, lib)[0].tolist() == [0.0]
+
+
+def test_the_weighted_act_by_agrees_with_the_models_act_by_on_equal_weights(rng):
+    # the comparison's act-by on a weighted sample is degradation.act_by's rule; with equal weights
+    # the two choose within one percentile of each other (same candidates, same expected score)
+    from bench.femto_compare import act_by_weighted, weighted_quantile
+    from engine.trend.degradation import Life, act_by
+
+    x = np.sort(rng.lognormal(np.log(10.0), 0.5, 4000))
+    w = np.ones_like(x)
+    assert act_by_weighted(x, w) == pytest.approx(act_by(Life(None, None, None, None, tuple(x))), rel=0.02)
+    assert weighted_quantile(x, w, 0.5) == pytest.approx(np.median(x), rel=0.01)
+    # a weight moves the answer: all weight on the late half makes the act-by later
+    late = np.where(x > np.median(x), 1.0, 1e-9)
+    assert act_by_weighted(x, late) > act_by_weighted(x, w)

@@ -44,7 +44,7 @@ import numpy as np
 
 from .change import baseline_count
 from .changepoint import cusum_onset
-from .degradation import HORIZON_FACTOR, Prior, act_by, prior_for, rate_from_prior, remaining_life, update
+from .degradation import HORIZON_FACTOR, Life, Prior, act_by, prior_for, rate_from_prior, remaining_life, update
 from .health import shipped_settings, smooth_log
 from .onset import first_predicting_time
 
@@ -198,20 +198,30 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
 def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str, health: np.ndarray | None,
            indicator: str, priors: dict[str, Prior] | None) -> Projection:
     """The Bayesian exponential model after the first predicting time (module docstring)."""
+    return exponential_life(days, values, limit, limit_label, health, indicator, priors)[0]
+
+
+def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
+                     health: np.ndarray | None, indicator: str,
+                     priors: dict[str, Prior] | None) -> tuple[Projection, Life | None]:
+    """The Bayesian exponential model's projection and the remaining-life draws it rests on (None when
+    there is no projection): what ``project(..., growth="exponential")`` gives, with the draws for a
+    bench that weighs them against another method's (bench/femto_compare.py)."""
     settings = shipped_settings()
     hi = smooth_log(values, settings.smooth_readings) if health is None else np.asarray(health, float)
     on = first_predicting_time(hi, settings)
     method = "first predicting time, then Bayesian exponential model"
     if on.index is None:
-        return Projection(limit, limit_label, None, None, None, "first predicting time", on.reason)
+        return Projection(limit, limit_label, None, None, None, "first predicting time", on.reason), None
     phi = float(np.median(values[:on.early]))
     if not limit > phi:
         return Projection(limit, limit_label, None, None, None, method,
-                          f"the limit {limit:g} is not above the healthy level {phi:.4g}", on.index)
+                          f"the limit {limit:g} is not above the healthy level {phi:.4g}", on.index), None
     t, y = days[on.index:], values[on.index:]
     if len(t) < MIN_BAYES_READINGS:
         return Projection(limit, limit_label, None, None, None, method,
-                          f"{len(t)} reading(s) since degradation began; {MIN_BAYES_READINGS} are needed", on.index)
+                          f"{len(t)} reading(s) since degradation began; {MIN_BAYES_READINGS} are needed",
+                          on.index), None
     floor = 0.1 * phi if phi > 0 else max(1e-12, 0.1 * float(np.max(np.abs(values))))
     tau = t - t[0]
     log_y = np.log(np.maximum(y - phi, floor))
@@ -235,8 +245,8 @@ def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
         return Projection(limit, limit_label, None, None, None, method,
                           f"the model does not reach the limit within {HORIZON_FACTOR:g} times the time since "
                           f"degradation began (growth {post.mean[1]:.3g} per day in log units)", on.index,
-                          fit_days, fit_values, prior=used)
+                          fit_days, fit_values, prior=used), None
     reason = (f"{on.reason}; {len(t)} reading(s) since; median and {CONFIDENCE:.0%} interval "
               f"(10th to 90th percentile) of the time the model reaches the limit; {rate}; prior: {used}")
     return Projection(limit, limit_label, life.median, life.low, life.high, method, reason, on.index,
-                      fit_days, fit_values, act_by_days=act_by(life), prior=used)
+                      fit_days, fit_values, act_by_days=act_by(life), prior=used), life

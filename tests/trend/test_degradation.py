@@ -310,3 +310,39 @@ def test_a_level_that_falls_back_after_the_onset_is_projected_with_the_learned_r
     # with no learned histories there is no rate to borrow: no projection, and why
     vague = project(days, values, 20.0, "limit 20", "exponential", indicator="x", priors={})
     assert not vague.projected and "does not reach the limit" in vague.reason
+
+
+@pytest.mark.parametrize("spread", [0.2, 0.5, 1.0])
+def test_act_by_is_the_best_expected_score_scipy_finds(spread):
+    # the act-by time must maximise the expected PHM 2012 score over the remaining-life distribution;
+    # reference: the expectation integrated by scipy.integrate.quad over a lognormal (scipy.stats)
+    # and maximised by scipy.optimize.minimize_scalar, against act_by on 20000 seeded draws of it
+    from scipy import integrate, optimize, stats
+
+    dist = stats.lognorm(spread, scale=10.0)
+
+    def expected(c):
+        f = lambda t: float(challenge_score(100 * (t - c) / t)) * dist.pdf(t)  # noqa: E731 - the integrand
+        return integrate.quad(f, 0, c, limit=200)[0] + integrate.quad(f, c, np.inf, limit=200)[0]
+
+    best = optimize.minimize_scalar(lambda c: -expected(c), bounds=(dist.ppf(0.001), dist.ppf(0.999)),
+                                    method="bounded", options={"xatol": 1e-6})
+    draws = np.sort(np.random.default_rng(7).lognormal(np.log(10.0), spread, 20000))
+    mine = act_by(Life(None, None, None, None, tuple(draws)))
+    assert mine == pytest.approx(best.x, rel=0.03)
+    assert expected(mine) >= 0.995 * -best.fun
+    # the asymmetric score (late costs four times as fast) puts the act-by below the median
+    assert mine < 10.0
+
+
+def test_exponential_life_is_the_projection_with_its_draws(rng):
+    from engine.trend.projection import exponential_life
+
+    days = np.arange(0.0, 70.0)
+    values = np.where(days < 40, 1.0, 1.0 + 0.2 * np.exp(0.1 * (days - 40))) * np.exp(rng.normal(0.0, 0.03, 70))
+    p, life = exponential_life(days, values, 20.0, "limit 20", None, "", None)
+    assert p == project(days, values, 20.0, "limit 20", "exponential")
+    assert life is not None and life.median == p.days and len(life.draws) == 2000
+    assert np.median(life.draws) == pytest.approx(p.days, rel=0.01)
+    flat, none = exponential_life(days, np.exp(rng.normal(0.0, 0.05, 70)), 20.0, "limit 20", None, "", None)
+    assert not flat.projected and none is None

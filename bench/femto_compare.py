@@ -1,0 +1,305 @@
+"""Remaining-life methods weighed against tellwave's own on the FEMTO learning runs, so the
+comparison of issue 23 can be made again (none of them is what ``tellwave trend`` does).
+
+    python -m bench.femto_compare [--out bench-out/femto]
+
+Needs the histories ``python -m bench.femto`` caches in --out. Each method is scored as
+bench.femto scores tellwave's: leave one run out (library or prior from the other five), the
+held-out run cut at bench.femto's CUTS of its life, the earlier of its two points (the smaller
+median), the PHM 2012 challenge score A of the act-by time, the median's score, and whether the
+80 % interval holds the actual remaining life.
+
+- ``exponential``: tellwave's own Bayesian exponential model (``engine.trend.projection``), its
+  median, interval and act-by time as ``tellwave trend`` gives them (bench.femto's numbers).
+- ``similarity``: similarity-based remaining life (Wang, Yu, Siegel & Lee 2008, "A similarity-based
+  prognostics approach for remaining useful life estimation of engineered systems", Int. Conf. on
+  Prognostics and Health Management, PHM 2008). The health indicator is tellwave's own (``health``)
+  less the mean of its healthy-band readings: a degradation ratio in log units, so runs with
+  different healthy levels compare. The held-out point's ratio since its first predicting time
+  (its last ``window_h`` hours) is laid on each library trajectory at every time shift (a 100 s
+  grid) and time dilation ``a`` (the library's clock running ``a`` times as fast); the best match
+  of each trajectory gives its remaining life there, (life - matched end) / a, weighted by
+  exp(-mean squared distance / sigma^2). Median and 80 % interval: weighted quantiles.
+- ``remaining fraction``: the library's onset-to-end durations, given that the held-out point has
+  already lasted as long since its own onset (an empirical survival prior): the durations longer
+  than the elapsed time, less it, equally weighted.
+- ``fused``: the exponential model's draws and the similarity's weighted lives in one mixture, each
+  weighted by the inverse width of its own 80 % interval.
+
+The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
+the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
+similarity (sigma, window, dilations) are chosen by nested leave one out: for each held-out run
+the setting with the best mean score over the other five, each left out in turn from a library of
+the remaining four; the nested score is the held-out runs' score under the setting so chosen.
+"""
+
+from __future__ import annotations
+
+import argparse
+import itertools
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from bench.femto import CUTS, LIMIT_G, LIMITED, load_histories, point_arrays, prior_from
+from engine.trend.degradation import Prior, challenge_score
+from engine.trend.health import shipped_settings, smooth_log
+from engine.trend.onset import first_predicting_time
+from engine.trend.projection import Projection, exponential_life
+
+SHIFT_STEP_H = 100.0 / 3600.0       # the runs' usual reading spacing
+NO_CROSSING_H = 1e6                 # a draw that never reaches the limit: so late that any estimate is 100 % early
+DILATIONS = (0.5, 0.71, 1.0, 1.41, 2.0)
+
+
+@dataclass(frozen=True)
+class Trajectory:
+    """One library point: its degradation ratio over time (hours), where it began and where the run ended."""
+    run: str
+    t_h: np.ndarray
+    ratio: np.ndarray
+    onset_h: float
+    life_h: float
+
+
+@dataclass(frozen=True)
+class Setting:
+    """One method with its settings."""
+    method: str                     # exponential, similarity, remaining fraction, fused
+    sigma: float = 0.0
+    window_h: float = np.inf
+    dilations: tuple[float, ...] = (1.0,)
+
+    def __str__(self) -> str:
+        if self.method in ("exponential", "remaining fraction"):
+            return self.method
+        w = "all" if not np.isfinite(self.window_h) else f"{self.window_h:g} h"
+        d = "none" if self.dilations == (1.0,) else f"{min(self.dilations):g}-{max(self.dilations):g}"
+        return f"{self.method} (sigma {self.sigma:g}, window {w}, dilation {d})"
+
+
+def degradation_ratio(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, np.ndarray, int] | None:
+    """(hours, health indicator less its healthy-band mean, onset index) of one point, or None before onset."""
+    s = shipped_settings()
+    hi = smooth_log(values, s.smooth_readings)
+    on = first_predicting_time(hi, s)
+    if on.index is None:
+        return None
+    return np.asarray(t_s, float) / 3600.0, hi - float(np.mean(hi[:on.early])), on.index
+
+
+def health_values(h: dict) -> tuple[np.ndarray, np.ndarray]:
+    """Seconds and values of the point's health-indicator source (the first of onset.yaml's names it has)."""
+    name = next(n for n in shipped_settings().indicators if n in h)
+    return np.array(h[name][0], float), np.array(h[name][1], float)
+
+
+def library_of(histories: dict, runs: list[str], lives_h: dict[str, float]) -> list[Trajectory]:
+    """The library: every point of ``runs`` whose degradation began, over its whole run."""
+    out = []
+    for r in runs:
+        for pt in sorted(histories[r]):
+            d = degradation_ratio(*health_values(histories[r][pt]))
+            if d is not None:
+                out.append(Trajectory(r, d[0], d[1], float(d[0][d[2]]), lives_h[r]))
+    return out
+
+
+def similarity_lives(t_h: np.ndarray, ratio: np.ndarray, library: list[Trajectory], sigma: float,
+                     window_h: float, dilations: tuple[float, ...]) -> tuple[np.ndarray, np.ndarray]:
+    """Each library trajectory's remaining life (hours) at its best match with the held-out segment
+    (``t_h`` since the held-out onset, ending now), and its similarity weight (Wang et al. 2008)."""
+    keep = t_h >= t_h[-1] - window_h
+    t, y = t_h[keep], ratio[keep]
+    lives, weights = [], []
+    for lib in library:
+        best_d, best_life = np.inf, 0.0
+        for a in dilations:
+            shifts = np.arange(lib.t_h[0] - a * t[0], lib.life_h - a * t[-1] + 1e-9, SHIFT_STEP_H)
+            if shifts.size == 0:          # the segment is longer than the trajectory: end it at the run's end
+                shifts = np.array([lib.life_h - a * t[-1]])
+            on_lib = np.interp(shifts[:, None] + a * t[None, :], lib.t_h, lib.ratio)
+            d = np.mean((y[None, :] - on_lib) ** 2, axis=1)
+            i = int(np.argmin(d))
+            if d[i] < best_d:
+                best_d, best_life = float(d[i]), (lib.life_h - (shifts[i] + a * t[-1])) / a
+        lives.append(max(best_life, 0.0))
+        weights.append(np.exp(-best_d / sigma ** 2))
+    return np.array(lives), np.array(weights)
+
+
+def remaining_fraction_lives(elapsed_h: float, library: list[Trajectory]) -> tuple[np.ndarray, np.ndarray]:
+    """The library's onset-to-end durations longer than ``elapsed_h``, less it (none longer: 0)."""
+    d = np.array([lib.life_h - lib.onset_h for lib in library])
+    x = d[d > elapsed_h] - elapsed_h
+    x = x if x.size else np.zeros(1)
+    return x, np.ones(x.size)
+
+
+def weighted_quantile(x: np.ndarray, w: np.ndarray, q: float) -> float:
+    """The ``q`` quantile of the sample ``x`` with weights ``w`` (the first value whose cumulative weight reaches q)."""
+    order = np.argsort(x)
+    c = np.cumsum(w[order]) / np.sum(w)
+    return float(x[order][min(len(x) - 1, int(np.searchsorted(c, q)))])
+
+
+def act_by_weighted(x: np.ndarray, w: np.ndarray) -> float:
+    """The estimate with the best expected challenge score over the weighted sample (Bayes decision),
+    among its weighted 1st to 99th percentiles, as ``degradation.act_by`` for equal draws."""
+    cands = np.unique([weighted_quantile(x, w, q) for q in np.linspace(0.01, 0.99, 99)])
+    cands = cands[cands > 0]
+    if cands.size == 0:
+        return 0.0
+    truth = np.maximum(x, 1e-12)
+    er = 100 * (truth[None, :] - cands[:, None]) / truth[None, :]
+    return float(cands[int(np.argmax((challenge_score(er) * w[None, :]).sum(axis=1)))])
+
+
+def _width(x: np.ndarray, w: np.ndarray) -> float:
+    return max(weighted_quantile(x, w, 0.9) - weighted_quantile(x, w, 0.1), 1e-3)
+
+
+@dataclass(frozen=True)
+class Cut:
+    """One cut's answer: (A of the act-by time, A of the median, interval holds the truth), None: no answer."""
+    a: float
+    a_median: float
+    covered: bool
+
+
+def answer(samples: list[tuple[np.ndarray, np.ndarray]]) -> tuple[float, float, float, float] | None:
+    """(median, 10th, 90th percentile, act by) of the mixture of the weighted samples, each weighted by
+    the inverse width of its own 80 % interval."""
+    samples = [(x, w / w.sum()) for x, w in samples if w.sum() > 0]
+    if not samples:
+        return None
+    scale = [1.0 / _width(x, w) for x, w in samples] if len(samples) > 1 else [1.0]
+    x = np.concatenate([s[0] for s in samples])
+    w = np.concatenate([s[1] * k for s, k in zip(samples, scale)])
+    return (weighted_quantile(x, w, 0.5), weighted_quantile(x, w, 0.1), weighted_quantile(x, w, 0.9),
+            act_by_weighted(x, w))
+
+
+def score_run(histories: dict, run: str, library_runs: list[str], settings: list[Setting],
+              lives_h: dict[str, float], prior: Prior) -> dict[Setting, list[Cut | None]]:
+    """Every setting's answer at each cut of ``run``, library and prior from ``library_runs``."""
+    library = library_of(histories, library_runs, lives_h)
+    out: dict[Setting, list[Cut | None]] = {s: [] for s in settings}
+    for cut in CUTS:
+        now_h = cut * lives_h[run]
+        # the actual remaining life runs from the last reading at or before the cut, as in bench.femto
+        actual = lives_h[run] - max(float(np.max(np.array(h[LIMITED][0])[np.array(h[LIMITED][0]) <= now_h * 3600.0
+                                                                        + 1e-6])) / 3600.0
+                                    for h in histories[run].values())
+        found: dict[Setting, list] = {s: [] for s in settings}
+        for pt in sorted(histories[run]):
+            h = histories[run][pt]
+            t, v, hi = point_arrays(h, LIMITED)
+            k = t <= now_h * 3600.0 + 1e-6
+            if v[k][-1] >= LIMIT_G:       # reached, as project() says before any model
+                proj, exp = Projection(LIMIT_G, "", 0.0, 0.0, 0.0, "reached", ""), (np.zeros(1), np.ones(1))
+            else:
+                proj, life = exponential_life(t[k] / 86400.0, v[k], LIMIT_G, f"{LIMIT_G:g} g", hi[k], LIMITED,
+                                              {LIMITED: prior})
+                exp = None if life is None else (np.minimum(np.array(life.draws) * 24.0, NO_CROSSING_H),
+                                                 np.ones(len(life.draws)))
+            th, vh = health_values(h)
+            kh = th <= now_h * 3600.0 + 1e-6
+            d = degradation_ratio(th[kh], vh[kh])
+            for s in settings:
+                if s.method == "exponential":       # tellwave's own answer, as bench.femto scores it
+                    if proj.days is not None:
+                        found[s].append((proj.days * 24.0, (proj.low_days or 0.0) * 24.0,
+                                         np.inf if proj.high_days is None else proj.high_days * 24.0,
+                                         (proj.act_by_days or 0.0) * 24.0))
+                    continue
+                parts = []
+                if s.method == "fused" and exp is not None:
+                    parts.append(exp)
+                if d is not None and s.method in ("similarity", "fused"):
+                    t_h, ratio, i0 = d
+                    parts.append(similarity_lives(t_h[i0:] - t_h[i0], ratio[i0:], library, s.sigma, s.window_h,
+                                                  s.dilations))
+                if d is not None and s.method == "remaining fraction":
+                    parts.append(remaining_fraction_lives(now_h - d[0][d[2]], library))
+                got = answer(parts)
+                if got is not None:
+                    found[s].append(got)
+        for s in settings:
+            if not found[s]:
+                out[s].append(None)
+                continue
+            med, lo, hi_, act = min(found[s])
+            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
+                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
+    return out
+
+
+def grid() -> list[Setting]:
+    """The methods and the similarity's settings weighed (sigma in log units, window in hours)."""
+    out = [Setting("exponential"), Setting("remaining fraction")]
+    for method, sigma, window, dil in itertools.product(("similarity", "fused"), (0.2, 0.4), (0.3, 0.6, np.inf),
+                                                        ((1.0,), DILATIONS)):
+        out.append(Setting(method, sigma, window, dil))
+    return out
+
+
+def mean_a(cuts: list[Cut | None]) -> float:
+    """Mean score A of the answered cuts (0 when none)."""
+    got = [c.a for c in cuts if c is not None]
+    return float(np.mean(got)) if got else 0.0
+
+
+def summary(cuts: list[Cut | None]) -> str:
+    """'n, A, A median, coverage' of answered cuts."""
+    got = [c for c in cuts if c is not None]
+    if not got:
+        return "no answers"
+    return (f"{len(got):3d} {np.mean([c.a for c in got]):6.3f} {np.mean([c.a_median for c in got]):6.3f}"
+            f" {np.mean([c.covered for c in got]):6.0%}")
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
+    ap.add_argument("--data", default=None, help="the learning runs, if the histories are not cached yet")
+    args = ap.parse_args()
+    from bench.femto import DATA
+    histories = load_histories(Path(args.data) if args.data else DATA, Path(args.out).resolve(), 2, False)
+    runs = sorted(histories)
+    lives_h = {r: max(max(h[LIMITED][0]) for h in histories[r].values()) / 3600.0 for r in runs}
+    settings = grid()
+    priors: dict[tuple[str, ...], Prior] = {}
+
+    def prior_of(names: list[str]) -> Prior:
+        key = tuple(sorted(names))
+        if key not in priors:
+            priors[key] = prior_from(histories, list(key))
+        return priors[key]
+
+    outer = {r: score_run(histories, r, [x for x in runs if x != r], settings, lives_h,
+                          prior_of([x for x in runs if x != r])) for r in runs}
+    print("leave one run out, each setting (A: act-by score; A med: the median's; cov: 80 % interval coverage)")
+    print(f"{'method':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        allc = [c for r in runs for c in outer[r][s]]
+        print(f"{str(s):<58}{summary(allc)}  " + " ".join(f"{mean_a(outer[r][s]):.2f}" for r in runs))
+    print("\nnested leave one out: the setting chosen on the other five runs (each left out of a library of four)")
+    chosen_cuts: list[Cut | None] = []
+    for r in runs:
+        others = [x for x in runs if x != r]
+        inner: dict[Setting, list[Cut | None]] = {s: [] for s in settings}
+        for j in others:
+            lib = [x for x in others if x != j]
+            for s, cs in score_run(histories, j, lib, settings, lives_h, prior_of(lib)).items():
+                inner[s].extend(cs)
+        best = max(settings, key=lambda s: mean_a(inner[s]))
+        chosen_cuts.extend(outer[r][best])
+        print(f"{r}: chose {best} (inner A {mean_a(inner[best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
+    print(f"nested: n, A, A med, coverage {summary(chosen_cuts)}")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
