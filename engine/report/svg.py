@@ -104,7 +104,7 @@ def tick_text(value: float, step: float) -> str:
     """A tick label with as many decimals as the step needs, no exponent offset."""
     if value == 0:
         return "0"
-    decimals = max(0, -math.floor(math.log10(step))) if step > 0 else 0
+    decimals = next((d for d in range(10) if abs(round(step, d) - step) <= 1e-9 * step), 9) if step > 0 else 0
     if step >= 1 and abs(value) >= 1e5:
         return f"{value:.3g}"
     return f"{value:.{decimals}f}"

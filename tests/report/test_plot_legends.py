@@ -186,3 +186,11 @@ def test_the_route_keeps_the_channels_a_reading_has():
     assert _plot_channels("all", reading) == ("all",)
     assert _plot_channels("M1H,P9V", reading) == ("M1H",)
     assert _plot_channels("P9V", reading) is None      # none of them here: the usual view
+
+
+@pytest.mark.parametrize(("value", "step", "text"), [
+    (42.5, 2.5, "42.5"), (45.0, 2.5, "45.0"), (0.25, 0.25, "0.25"), (300.0, 100.0, "300"), (1.5, 0.5, "1.5"),
+])
+def test_tick_labels_keep_the_digits_their_step_needs(value, step, text):
+    """A 2.5-step axis printed 42.5 as "42" (round half to even with no decimals)."""
+    assert svg.tick_text(value, step) == text
