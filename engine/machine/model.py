@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from ..common.errors import MachineError
-from ..common.yamlfile import YamlDocument, read_yaml, validate
+from ..common.yamlfile import YamlDocument, numbers_as_names, read_yaml, validate
 
 RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 %
 MIN_SPEED_RPM = 0.1       # slower than a kiln or a thickener rake: not a machine this tool is for
@@ -166,6 +166,7 @@ def read_machine(path) -> tuple[Machine, YamlDocument]:
     doc = read_yaml(path, MachineError)
     if not isinstance(doc.data, dict):
         raise MachineError("expected a mapping with 'machine' and 'shafts'", path=doc.path, line=1)
+    numbers_as_names(doc, "machine.schema.json")     # model: 6309 is a name, not a number
     validate(doc, "machine.schema.json", MachineError)
     return _build(doc), doc
 
