@@ -21,6 +21,70 @@ class Parser(argparse.ArgumentParser):
         """Raise the parser's complaint as a UsageError instead of printing usage and exiting."""
         raise UsageError(message)
 
+    def parse_known_args(self, args=None, namespace=None):  # type: ignore[override]
+        """Parse as argparse does, but name an unknown option before any other complaint: argparse
+        checks the required arguments first, so ``tellwave frequencies --bogus`` would say that a
+        machine is required. Every command's parser is a ``Parser``, so this one place serves all."""
+        try:
+            return super().parse_known_args(args, namespace)
+        except UsageError as exc:
+            # the innermost parser (a command's) knows its options: the parsers above it pass its word on
+            if getattr(exc, "options_examined", False):
+                raise
+            exc.options_examined = True     # type: ignore[attr-defined]
+            unknown = self.unknown_option(args)
+            if unknown is None:
+                raise
+            named = UsageError(self.unknown_option_message(unknown))
+            named.options_examined = True   # type: ignore[attr-defined]
+            raise named from None
+
+    def parse_args(self, args=None, namespace=None):  # type: ignore[override]
+        """Parse the whole command line; anything left over that looks like an option is named as
+        an unknown option, with where to find the known ones."""
+        parsed, extras = self.parse_known_args(args, namespace)
+        if extras:
+            option = next((a for a in extras if _looks_like_option(a)), None)
+            if option is not None:
+                raise UsageError(self.unknown_option_message(option, getattr(parsed, "command", None)))
+            self.error(f"unrecognized arguments: {' '.join(extras)}")
+        return parsed
+
+    def unknown_option(self, args) -> str | None:
+        """The first argument of ``args`` that looks like an option this parser does not know
+        (a unique prefix of a known long option counts as known, as argparse allows it)."""
+        known = set(self._option_string_actions)
+        longs = [k for k in known if k.startswith("--")]
+        for arg in list(args or []):
+            if arg == "--":
+                return None
+            if not _looks_like_option(arg):
+                continue
+            name = arg.split("=", 1)[0]
+            if name in known:
+                continue
+            if self.allow_abbrev and name.startswith("--") and any(k.startswith(name) for k in longs):
+                continue
+            return name
+        return None
+
+    def unknown_option_message(self, option: str, command: str | None = None) -> str:
+        """One line: the unknown option and the command whose help lists the known ones."""
+        prog = self.prog if command is None else f"{self.prog} {command}"
+        return f"unknown option {option.split('=', 1)[0]} ('{prog} --help' lists the options)"
+
+
+def _looks_like_option(arg: str) -> bool:
+    """Whether a command-line word is meant as an option: it starts with '-' and is not a
+    negative number or a lone '-' (standard input, as some tools write it)."""
+    if not arg.startswith("-") or arg in ("-", "--"):
+        return False
+    try:
+        float(arg)
+    except ValueError:
+        return True
+    return False
+
 
 DIRECTIONS = ("horizontal", "vertical", "axial")     # engine/common/schemas/machine.schema.json
 

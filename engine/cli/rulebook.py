@@ -22,11 +22,27 @@ def register(sub) -> None:
         if name == "test":
             q.add_argument("cases", metavar="CASES_FOLDER",
                            help="folder of *.case.yaml files (the shipped examples: cases/demo)")
+            q.add_argument("--depth", type=_depth, default=0, metavar="N",
+                           help="also search sub-folders up to N levels down (default 0: the folder only); "
+                                "hidden, virtual-environment and package folders are never searched")
         if name == "explain":
             q.add_argument("rule_id", metavar="RULE_ID",
                            help="id of the rule, as 'tellwave rulebook list' shows it (e.g. bearing.defect.envelope)")
         add_site_option(q)
         q.set_defaults(run=run)
+
+
+def _depth(text: str) -> int:
+    """The --depth of ``rulebook test``: a whole number from 0 to ``MAX_CASE_DEPTH``."""
+    from ..pipeline.cases import MAX_CASE_DEPTH
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise UsageError(f"argument --depth: expected a whole number of folder levels, got {text!r}") from None
+    if not 0 <= value <= MAX_CASE_DEPTH:
+        raise UsageError(f"argument --depth: expected 0 to {MAX_CASE_DEPTH}, got {value}")
+    return value
 
 
 def _usage(p) -> int:
@@ -128,9 +144,12 @@ def _test(args) -> int:
     from ..reasoning import Reasoner
 
     reasoner = Reasoner(rulebook(args))
-    files = case_files(args.cases)
+    files = case_files(args.cases, args.depth)
+    where = "in the folder" if args.depth == 0 else f"in the folder and {args.depth} level(s) of sub-folders"
     if not files:
-        raise UsageError(f"{args.cases}: no *.case.yaml files")
+        hint = "" if args.depth else " (--depth N also searches sub-folders)"
+        raise UsageError(f"{args.cases}: no *.case.yaml files {where}{hint}")
+    say(f"{len(files)} case file(s) found {where}")
     failed = 0
     for path in files:
         result = run_case(load_case(path), reasoner)

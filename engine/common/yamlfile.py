@@ -28,7 +28,7 @@ import difflib
 import json
 import math
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import cache
 from importlib import resources
 from typing import Any
@@ -172,6 +172,7 @@ class YamlDocument:
     path: str
     data: Any
     lines: dict[tuple, int]
+    numbers_written: dict[tuple, str] = field(default_factory=dict)   # a number's text as written, by path
 
     def line_of(self, field_path) -> int | None:
         """Line of the deepest node along ``field_path`` that has one."""
@@ -200,8 +201,9 @@ def _key_of(node):
     return node.value
 
 
-def _walk(root) -> dict[tuple, int]:
-    """Line of every node by path, walking aliases as the data will (iteratively, bounded).
+def _walk(root, numbers: dict[tuple, str] | None = None) -> dict[tuple, int]:
+    """Line of every node by path, walking aliases as the data will (iteratively, bounded); the text
+    of every number as written goes into ``numbers`` by path, when given.
 
     Refuses an alias inside its own anchor (the data would contain itself),
     nesting deeper than ``MAX_DEPTH``, more than ``MAX_NODES`` nodes after
@@ -223,6 +225,8 @@ def _walk(root) -> dict[tuple, int]:
         if count > MAX_NODES:
             raise _Refused(f"the file expands to more than {MAX_NODES} values (aliases repeat too much)", line)
         if isinstance(node, yaml.ScalarNode):
+            if numbers is not None and node.tag in (_INT, _FLOAT) and len(node.value) <= _MAX_DIGITS:
+                numbers[path] = node.value.strip()
             continue
         if id(node) in on_path:
             raise _Refused("an alias refers to a mapping or list that contains it (the data would never end)",
@@ -323,7 +327,8 @@ def read_yaml(path, error: type[TellwaveError]) -> YamlDocument:
     loader = _Loader(text)
     try:
         node = loader.get_single_node()
-        lines = _walk(node) if node is not None else {}
+        numbers: dict[tuple, str] = {}
+        lines = _walk(node, numbers) if node is not None else {}
         data = loader.construct_document(node) if node is not None else None
     except _Refused as exc:
         raise error(exc.problem, path=path, line=exc.line) from None
@@ -346,7 +351,56 @@ def read_yaml(path, error: type[TellwaveError]) -> YamlDocument:
     bad = _check_numbers(data, lines)
     if bad is not None:
         raise error(bad[0], path=path, line=bad[1])
-    return YamlDocument(path, data, lines)
+    return YamlDocument(path, data, lines, numbers)
+
+
+def _resolved(schema: dict, node: dict) -> dict:
+    """``node`` with a local ``$ref`` (``#/$defs/...``) followed, its own keys kept beside it."""
+    seen = 0
+    while isinstance(node, dict) and isinstance(node.get("$ref"), str) and node["$ref"].startswith("#/") and seen < 16:
+        target: Any = schema
+        for part in node["$ref"][2:].split("/"):
+            target = target.get(part, {}) if isinstance(target, dict) else {}
+        node = {**target, **{k: v for k, v in node.items() if k != "$ref"}}
+        seen += 1
+    return node
+
+
+def numbers_as_names(doc: YamlDocument, schema_name: str) -> list[tuple]:
+    """Turn a number written where ``schema_name`` expects text (a name, an id, a bearing's model:
+    ``model: 6309``) into the text it was written as, in ``doc.data``; the paths changed.
+
+    YAML reads an unquoted 6309 as a number, but a model number or a numbered point is a name,
+    and quoting it is a chore nobody should have to remember. Only fields whose schema type is
+    text alone are changed; the number's text is taken as written (``0017`` stays ``0017``).
+    """
+    schema = load_schema(schema_name)
+    changed: list[tuple] = []
+    stack: list[tuple[Any, dict, tuple]] = [(doc.data, schema, ())]
+    while stack:
+        value, node, path = stack.pop()
+        node = _resolved(schema, node)
+        if isinstance(value, dict):
+            props = node.get("properties", {})
+            for key, item in value.items():
+                sub = props.get(key)
+                if isinstance(sub, dict) and isinstance(item, (int, float)) and not isinstance(item, bool):
+                    if _resolved(schema, sub).get("type") == "string" and path + (key,) in doc.numbers_written:
+                        value[key] = doc.numbers_written[path + (key,)]
+                        changed.append(path + (key,))
+                        continue
+                if isinstance(sub, dict):
+                    stack.append((item, sub, path + (key,)))
+        elif isinstance(value, list) and isinstance(node.get("items"), dict):
+            items = node["items"]
+            for i, item in enumerate(value):
+                if isinstance(item, (int, float)) and not isinstance(item, bool):
+                    if _resolved(schema, items).get("type") == "string" and path + (i,) in doc.numbers_written:
+                        value[i] = doc.numbers_written[path + (i,)]
+                        changed.append(path + (i,))
+                        continue
+                stack.append((item, items, path + (i,)))
+    return changed
 
 
 @cache

@@ -3,7 +3,8 @@
 Facts carry measurements only: the reading's Fmax, lines, resolution and
 length beside the machine's rates that they must reach (the highest gear
 mesh, pass and race rates, the closest pair of lines to separate, the
-tightest sideband spacing, the slowest shaft). Whether the settings are
+tightest sideband spacing, the slowest shaft the reading's points see:
+``Machine.shafts_seen_from`` says which, and why). Whether the settings are
 adequate is for the rulebooks to judge (rulebooks/reading.yaml), with limits
 a site can change. Conventions (common practice in analyzer documentation):
 usable Fmax = sample rate / 2.56 (``readings.length.FMAX_FACTOR``); lines =
@@ -43,11 +44,21 @@ def _tightest_sidebands(rc: Analysis) -> tuple[float, str]:
     return min(spacings) if spacings else (0.0, "")
 
 
+def _shafts_seen(rc: Analysis) -> set[str]:
+    """The shafts the reading's points see (``Machine.shafts_seen_from``); every shaft of the
+    machine when a channel has no point."""
+    points = [c.point for c in rc.channels]
+    if not points or any(p is None for p in points):
+        return set(rc.speeds_hz)
+    return set().union(*(rc.machine.shafts_seen_from(p.shaft) for p in points if p is not None))
+
+
 def acquisition(rc: Analysis) -> list[dict]:
     """One fact about the reading's settings beside the machine's rates they must reach."""
     fs = rc.fs_hz
     fmax = fs / FMAX_FACTOR
-    slowest_shaft = min(rc.speeds_hz, key=lambda shaft: rc.speeds_hz[shaft])
+    seen = _shafts_seen(rc)
+    slowest_shaft = min(seen, key=lambda shaft: rc.speeds_hz[shaft])
     gap, pair = _closest_pair(rc, fmax)
     spacing, spacing_for = _tightest_sidebands(rc)
     centres = [c.kurtogram.best.centre_hz for c in rc.channels if c.kurtogram is not None]

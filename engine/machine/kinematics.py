@@ -256,6 +256,26 @@ def rates_at(machine: Machine, speeds_hz: Mapping[str, float]) -> Rates:
     return Rates(dict(speeds_hz), tuple(bearings), tuple(meshes), tuple(motors), tuple(belts), tuple(rotors))
 
 
+def why_no_pole_pass(m: MotorRates) -> str | None:
+    """Why the slip and pole pass lines of motor rates ``m`` are left out, in one line; None when
+    they are given. ``pole_pass_hz`` gives them only for a shaft below synchronous speed that slips
+    at most ``MAX_LINE_FED_SLIP``."""
+    if m.pole_pass_hz is not None:
+        return None
+    shaft_rpm, sync_rpm = (m.sync_hz - m.slip_hz) * 60, m.sync_hz * 60
+    poles = round(2 * m.line_hz / m.sync_hz)
+    if m.slip_hz <= 0:
+        where = "at" if abs(m.slip_hz) <= 1e-9 * m.sync_hz else "above"
+        reason = (f"its shaft at {shaft_rpm:.6g} rpm turns {where} the synchronous speed of {poles} poles on "
+                  f"{m.line_hz:g} Hz ({sync_rpm:.6g} rpm), so it has no slip on that line")
+    else:
+        reason = (f"its shaft at {shaft_rpm:.6g} rpm slips {100 * m.slip_hz / m.sync_hz:.3g} % below the "
+                  f"synchronous speed of {poles} poles on {m.line_hz:g} Hz ({sync_rpm:.6g} rpm), more than the "
+                  f"{MAX_LINE_FED_SLIP * 100:g} % a line-fed motor runs at")
+    return (f"motor {m.motor}: slip and pole pass left out: {reason}; a drive feeds it at another "
+            f"frequency, or the speed is wrong")
+
+
 def forcing_list(rates: Rates) -> list[ForcingFrequency]:
     """The rates as a flat list of named forcing frequencies, sorted by frequency."""
     speeds = rates.shafts_hz

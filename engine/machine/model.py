@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from ..common.errors import MachineError
-from ..common.yamlfile import YamlDocument, read_yaml, validate
+from ..common.yamlfile import YamlDocument, numbers_as_names, read_yaml, validate
 
 RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 %
 MIN_SPEED_RPM = 0.1       # slower than a kiln or a thickener rake: not a machine this tool is for
@@ -119,6 +119,7 @@ class Machine:
     descriptions: Mapping[str, str] = field(default_factory=dict)
     speed_range: SpeedRange | None = None   # a variable-speed drive's range, when the file states one
     alarms: tuple = ()                      # site limits per point (``alarms.Alarm``), the machine file's and --alarms
+    joined: tuple[tuple[str, str], ...] = ()  # shafts joined directly (same_as, ratio_to): (shaft, the one it follows)
 
     def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
         """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
@@ -134,6 +135,35 @@ class Machine:
         check_speed_rpm(speed_rpm, self.source)
         scale = (speed_rpm / 60.0) / speeds[shaft]
         return {name: hz * scale for name, hz in speeds.items()}
+
+    def shafts_seen_from(self, shaft: str) -> set[str]:
+        """The shafts a sensor at a point on ``shaft`` can see, whose turns its record needs.
+
+        By physics: the point's own shaft; a shaft joined to it directly (``same_as``, a coupling:
+        the same speed; ``ratio_to``); and the other shaft of every gear mesh or belt with a
+        gear or sheave on the point's shaft, since that shaft's 1X reaches the point as sidebands
+        of the mesh or as the belt's modulation. No further: a flexible coupling and the next
+        housing keep the rates of shafts two links away from a bearing housing, and a point on
+        a motor does not see the gearbox's slow shaft beyond the first mesh.
+        """
+        seen = {shaft}
+        for a, b in self.joined:
+            if shaft in (a, b):
+                seen |= {a, b}
+        links: tuple[GearMesh | BeltDrive, ...] = (*self.gears, *self.belts)
+        for link in links:
+            if shaft in (link.driving_shaft, link.driven_shaft):
+                seen |= {link.driving_shaft, link.driven_shaft}
+        return seen
+
+    def shafts_seen_at(self, point_ids) -> set[str]:
+        """The shafts the points ``point_ids`` see together (``shafts_seen_from`` of each point's
+        shaft); every shaft of the machine when one of them is not a point of it or there are none."""
+        by_id = {p.id: p for p in self.points}
+        ids = list(point_ids)
+        if not ids or any(i not in by_id for i in ids):
+            return set(self.shaft_speeds_hz)
+        return set().union(*(self.shafts_seen_from(by_id[i].shaft) for i in ids))
 
     def has_point(self, point_id: str) -> bool:
         """Whether the machine has a measurement point of this id."""
@@ -166,6 +196,7 @@ def read_machine(path) -> tuple[Machine, YamlDocument]:
     doc = read_yaml(path, MachineError)
     if not isinstance(doc.data, dict):
         raise MachineError("expected a mapping with 'machine' and 'shafts'", path=doc.path, line=1)
+    numbers_as_names(doc, "machine.schema.json")     # model: 6309 is a name, not a number
     validate(doc, "machine.schema.json", MachineError)
     return _build(doc), doc
 
@@ -245,6 +276,8 @@ def _build(doc: YamlDocument) -> Machine:
         bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
+        joined=tuple((spec["id"], spec["same_as"] if "same_as" in spec else spec["ratio_to"]["shaft"])
+                     for spec in data["shafts"] if "same_as" in spec or "ratio_to" in spec),
     )
     return machine
 

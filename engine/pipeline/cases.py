@@ -59,12 +59,42 @@ def load_case(path) -> Case:
     return Case(d["case"], str(path), machine, readings, d.get("simulate"), d.get("speed_rpm"), d["expect"])
 
 
-def case_files(folder) -> list[Path]:
-    """Every ``*.case.yaml`` under ``folder``, sub-folders included, sorted; CaseError if it is no folder."""
+MAX_CASE_DEPTH = 20       # a --depth beyond this is no folder of cases a person keeps
+
+
+def _skipped(folder: Path) -> bool:
+    """A folder no case file is looked for in: hidden (``.git``, ``.venv``), a Python virtual
+    environment (it holds ``pyvenv.cfg``) or an installed package tree (``site-packages``), or a cache."""
+    name = folder.name
+    return (name.startswith(".") or name in ("site-packages", "dist-packages", "node_modules", "__pycache__")
+            or (folder / "pyvenv.cfg").is_file())
+
+
+def case_files(folder, depth: int = 0) -> list[Path]:
+    """Every ``*.case.yaml`` in ``folder``, sorted; with ``depth`` N also in sub-folders up to N levels
+    down, leaving out hidden, virtual-environment and package folders (``_skipped``) and hidden files.
+    CaseError if ``folder`` is no folder."""
     folder = Path(folder)
     if not folder.is_dir():
         raise CaseError("not a folder of case files", path=str(folder))
-    return sorted(p for p in folder.rglob("*.case.yaml"))
+    found: list[Path] = []
+    level: list[Path] = [folder]
+    for down in range(depth + 1):
+        below: list[Path] = []
+        for here in level:
+            try:
+                entries = sorted(here.iterdir())
+            except OSError:
+                continue           # a folder that cannot be listed holds no case this run can read
+            for entry in entries:
+                if entry.name.startswith("."):
+                    continue
+                if entry.name.endswith(".case.yaml") and entry.is_file():
+                    found.append(entry)
+                elif down < depth and entry.is_dir() and not entry.is_symlink() and not _skipped(entry):
+                    below.append(entry)
+        level = below
+    return sorted(found)
 
 
 def simulation_of(case: Case, machine):

@@ -22,9 +22,8 @@ from functools import lru_cache
 
 from ..evidence.envelope import harmonics_searched, shared_lines
 from ..evidence.matching import SLIP_TOLERANCE
-from ..machine import GearMesh, Machine, Point
+from ..machine import Machine, Point
 from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
-from ..machine.model import BeltDrive
 from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
 from .settings import Settings
@@ -350,15 +349,6 @@ def _gear(machine, point, speeds, policy, targets, rulebook):
     return needs
 
 
-def _neighbours(machine: Machine, shaft: str) -> set[str]:
-    out = {shaft}
-    links: tuple[GearMesh | BeltDrive, ...] = (*machine.gears, *machine.belts)
-    for link in links:
-        if shaft in (link.driving_shaft, link.driven_shaft):
-            out |= {link.driving_shaft, link.driven_shaft}
-    return out
-
-
 def _shaft(machine, point, speeds, policy, targets, rulebook):
     t = targets[0]
     s, fr = point.shaft, speeds[point.shaft]
@@ -366,7 +356,7 @@ def _shaft(machine, point, speeds, policy, targets, rulebook):
     rule_h, rule_half = "shaft.looseness.harmonics", "shaft.looseness.half-orders"
     n_h = least(rule_h, "harmonic_series", "count", rulebook)
     n_half = least(rule_half, "harmonic_series", "count", rulebook)
-    slow = min(_neighbours(machine, s), key=lambda x: speeds[x])
+    slow = min(machine.shafts_seen_from(s), key=lambda x: speeds[x])
     floor = policy.low_frequency_limit_hz
     needs = [
         Need("shaft", "floor", f"1X of {s} ({fr:.3g} Hz)", fr, "blocks", ((t, "harmonics"),),
@@ -471,22 +461,29 @@ def _electrical(machine, point, speeds, policy, targets, rulebook):
     return needs
 
 
-def _whole_machine(machine: Machine, speeds, policy: Policy, purpose: str, targets) -> list[Need]:
-    """What every reading of the machine needs whatever its purpose: turns of the machine's slowest
-    shaft, which the analysis and the reading rules count (a shorter record is refused or withheld)."""
-    slowest = min(speeds, key=speeds.get)
+def _turns(machine: Machine, point: Point, speeds, policy: Policy, purpose: str, targets) -> list[Need]:
+    """The turns every reading at ``point`` needs, whatever its purpose: those of the slowest shaft the
+    point sees (``Machine.shafts_seen_from``), below which the record is refused before the analysis
+    (engine/readings/length.py), and, for each fault, those of its own shaft (the shaft of its
+    component), below which the reading rules limit what the diagnosis concludes."""
+    seen = machine.shafts_seen_from(point.shaft)
+    slowest = min(seen, key=lambda s: speeds[s])
     hz = speeds[slowest]
     gates = tuple((t, name) for t in targets for name, _ in ROUTES[t.signature])
-    turns = f"turns of {slowest}"
-    return [
-        Need(purpose, "duration", f"{MIN_REVOLUTIONS_TO_ANALYSE:g} turns of {slowest}, the machine's slowest shaft",
-             MIN_REVOLUTIONS_TO_ANALYSE / hz, "blocks", gates, "a shorter record is refused before the analysis",
-             span_s=1 / hz, noun=turns, source="engine/readings/length.py"),
-        Need(purpose, "duration", f"{policy.min_revolutions:g} turns of {slowest}, the machine's slowest shaft",
-             policy.min_revolutions / hz, "weakens", gates,
-             "with fewer, the reading rules limit or withhold what the diagnosis concludes",
-             span_s=1 / hz, noun=turns, source="min_revolutions"),
+    needs = [
+        Need(purpose, "duration", f"{MIN_REVOLUTIONS_TO_ANALYSE:g} turns of {slowest}, the slowest shaft "
+             f"{point.id} sees", MIN_REVOLUTIONS_TO_ANALYSE / hz, "blocks", gates,
+             "a shorter record is refused before the analysis",
+             span_s=1 / hz, noun=f"turns of {slowest}", source="engine/readings/length.py"),
     ]
+    for shaft in sorted({t.shaft for t in targets}, key=lambda s: (speeds[s], s)):
+        own = tuple((t, name) for t in targets if t.shaft == shaft for name, _ in ROUTES[t.signature])
+        needs.append(Need(
+            purpose, "duration", f"{policy.min_revolutions:g} turns of {shaft}, the shaft of the fault",
+            policy.min_revolutions / speeds[shaft], "weakens", own,
+            "with fewer, the reading rules limit or withhold what the diagnosis concludes of it",
+            span_s=1 / speeds[shaft], noun=f"turns of {shaft}", source="min_revolutions"))
+    return needs
 
 
 def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
@@ -515,9 +512,9 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
         needs = _electrical(machine, point, speeds, policy, targets, rulebook)
     else:
         raise ValueError(f"unknown purpose {purpose!r}")
-    needs = list(needs) + _whole_machine(machine, speeds, policy, purpose, targets)
+    needs = list(needs) + _turns(machine, point, speeds, policy, purpose, targets)
     shafts = {t.shaft for t in targets} | {point.shaft}
     if purpose == "shaft":
-        shafts |= _neighbours(machine, point.shaft)
+        shafts |= machine.shafts_seen_from(point.shaft)
     return Requirements(point.id, purpose, targets, tuple(needs), tuple(sorted(shafts, key=lambda s: speeds[s])),
                         band, strong)

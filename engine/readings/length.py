@@ -33,7 +33,8 @@ def check_record_length(reading, machine) -> None:
     """Raise ``ReadingError`` if ``reading`` is too short or sampled too slowly to analyse for
     ``machine`` at all.
 
-    The slowest shaft counts for the length and the fastest for the sample
+    The slowest shaft the reading's points see (``Machine.shafts_seen_at``; every shaft when a
+    channel has no point) counts for the length, and the fastest of the machine for the sample
     rate, at the reading's measured speed when it states one. The message
     gives the record length or sample rate that would do.
     """
@@ -45,12 +46,14 @@ def check_record_length(reading, machine) -> None:
             f"the sample rate of {reading.fs_hz:g} Hz gives an Fmax of {fmax:.3g} Hz, below 1X of shaft {fast!r} "
             f"({fastest_hz:.4g} Hz, the fastest): nothing about it can be seen; sample at "
             f"{FMAX_FACTOR * fastest_hz:.4g} Hz at the very least, far more to see its faults", path=reading.source)
-    shaft, slowest_hz = min(speeds.items(), key=lambda item: item[1])
+    seen = machine.shafts_seen_at([c.point for c in reading.channels])
+    shaft, slowest_hz = min(((s, hz) for s, hz in speeds.items() if s in seen), key=lambda item: item[1])
     revolutions = reading.duration_s * slowest_hz
     if revolutions >= MIN_REVOLUTIONS_TO_ANALYSE:
         return
+    which = "the slowest" if len(seen) == len(speeds) else "the slowest its points see"
     raise ReadingError(
         f"the record of {reading.duration_s:.4g} s holds {revolutions:.2g} revolutions of shaft {shaft!r} "
-        f"({slowest_hz * 60:.4g} rpm, the slowest); the analysis needs at least "
+        f"({slowest_hz * 60:.4g} rpm, {which}); the analysis needs at least "
         f"{MIN_REVOLUTIONS_TO_ANALYSE:g}: record at least {RECOMMENDED_REVOLUTIONS / slowest_hz:.3g} s "
         f"({RECOMMENDED_REVOLUTIONS:g} revolutions)", path=reading.source)

@@ -58,3 +58,37 @@ def test_defect_08_machine_file_with_non_finite_number(tmp_path, value):
     path.write_text(f"machine: m\nshafts:\n  - id: s\n    speed_rpm: {value}\n")
     with pytest.raises(MachineError, match=r"m.yaml:4: shafts.0.speed_rpm: expected a finite number"):
         load_machine(path)
+
+
+NUMBERED = """machine: 4012
+plant: Tallow Ridge Water Works
+description: 17
+shafts:
+  - {id: fan, speed_rpm: 1480, description: 2}
+bearings:
+  - {id: fan_de, shaft: fan, model: 6309, rolling_elements: 8, element_diameter: 17.46, pitch_diameter: 72.5}
+  - {id: fan_nde, shaft: fan, model: 0022212, multiples: {bpfo: 7.1, bpfi: 9.9, bsf: 3.0, ftf: 0.44}}
+  - {id: spare, shaft: fan, model: 6310.10, rolling_elements: 8, element_diameter: 17.46, pitch_diameter: 72.5}
+points:
+  - {id: FDEH, at: fan_de, direction: horizontal}
+"""
+
+
+def test_a_number_where_a_name_is_expected_is_read_as_the_name_written(tmp_path):
+    # issue 24: an unquoted bearing model (6309) is a name; YAML reads it as a number
+    path = tmp_path / "m.yaml"
+    path.write_text(NUMBERED)
+    m = load_machine(path)
+    assert m.name == "4012"
+    assert [b.model for b in m.bearings] == ["6309", "0022212", "6310.10"]    # as written, zeros kept
+    assert m.descriptions["fan"] == "2"
+    # a number where a number is expected stays one
+    assert m.shaft_speeds_hz["fan"] == pytest.approx(1480 / 60)
+    assert m.bearings[0].rolling_elements == 8
+
+
+def test_a_number_where_a_name_must_start_with_a_letter_is_still_refused(tmp_path, capsys):
+    path = tmp_path / "m.yaml"
+    path.write_text(NUMBERED.replace("at: fan_de", "at: 6309"))
+    err = one_error_line(capsys, 3, ["frequencies", path])
+    assert "points.0.at" in err and "'6309'" in err
