@@ -119,6 +119,7 @@ class Machine:
     descriptions: Mapping[str, str] = field(default_factory=dict)
     speed_range: SpeedRange | None = None   # a variable-speed drive's range, when the file states one
     alarms: tuple = ()                      # site limits per point (``alarms.Alarm``), the machine file's and --alarms
+    joined_shafts: tuple[tuple[str, str], ...] = ()   # (shaft, the shaft it is the same_as): joined by a coupling
 
     def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
         """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
@@ -245,6 +246,7 @@ def _build(doc: YamlDocument) -> Machine:
         bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
+        joined_shafts=tuple((s["id"], s["same_as"]) for s in data["shafts"] if "same_as" in s),
     )
     return machine
 
