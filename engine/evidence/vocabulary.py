@@ -256,7 +256,7 @@ FACTS["phase_1x"] = {
     "location": F("string", "bearing or shaft the reading sits at", ""),
     "location_shaft": F("string", "shaft the reading's bearing carries", ""),
     "direction": F("string", "horizontal, vertical or axial", ""),
-    "phase_deg": F("number", "1X phase against the once-per-revolution mark, 0-360 deg (circular mean of repeats)", "deg"),
+    "phase_deg": F("number", "1X phase against the once-per-revolution mark, 0-360 deg (mean of repeats)", "deg"),
     "amplitude_mm_s": F("number", "1X velocity read with the phase, mm/s RMS (as stated)", "mm/s RMS"),
     "readings": F("integer", "phase readings given for this point and direction", ""),
     "spread_deg": F("number", "largest difference between those readings, 0-180 deg (0 for one)", "deg"),

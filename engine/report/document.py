@@ -242,7 +242,8 @@ def _phase(evidence: Evidence, reasoning: Reasoning) -> dict:
              "amplitude_mm_s": f.get("amplitude_mm_s"), "phase_deg": f["phase_deg"], "readings": f["readings"],
              "spread_deg": f["spread_deg"], "reads": reads.get(("reading", f["id"]), [])} for f in readings]
     out = [{"relation": f["relation"], "direction": f["direction"],
-            "first": f"{f['location']} {f['first_direction']}", "second": f"{f['other_location']} {f['other_direction']}",
+            "first": f"{f['location']} {f['first_direction']}",
+            "second": f"{f['other_location']} {f['other_direction']}",
             "difference_deg": f["difference_deg"], "reads": reads.get(key(f), [])}
            for f in diffs if not f.get("mirrored")]
     return {"readings": rows, "differences": out}
