@@ -159,6 +159,8 @@ def write_seed(kind: str, folder: Path, name: str = "seed", machine: Path | None
         path = reading.with_name(reading.name + ".yaml")
         path.write_text(yaml.safe_dump({"sample_rate_hz": FS, "unit": "g", "point": "P1H", "speed_rpm": 1486,
                                         "channels": [{"name": "DE", "point": "P1H", "direction": "horizontal"}],
+                                        "phase_1x": [{"point": "P1H", "phase_deg": 40, "amplitude_mm_s_rms": 2.0},
+                                                     {"point": "pump_de", "direction": "vertical", "phase_deg": 130}],
                                         "about": "fuzz seed"}, sort_keys=False))
         return path
     if kind == "site":

@@ -125,6 +125,7 @@ class Analysis:
     nominal_rpm: float = 0.0               # the machine file's speed of the same shaft
     speed_check: Mapping[str, float] = field(default_factory=dict)   # lines at half and twice the speed
     speed_limits: SpeedLimits | None = None  # what the machine's drive allows the speed shaft, when it says
+    phase_1x: tuple = ()                   # the reading's stated 1X phase readings (``PhaseReading``), handed on
 
     @property
     def duration_s(self) -> float:
@@ -473,4 +474,4 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),
                     MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels),
                     reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check),
-                    speed_limits(machine, shaft))
+                    speed_limits(machine, shaft), tuple(reading.phase_1x))

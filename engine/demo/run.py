@@ -57,7 +57,11 @@ def run_demo(out_dir, reasoner: Reasoner, cases_dir=DEMO_CASES, progress=print, 
         sim = simulation_of(case, machine)
         if sim is not None:
             taken = (SURVEY_START + i * SURVEY_STEP).isoformat()
-            files = write_simulation(sim, readings_dir / f"{name}.wav", timestamp=taken, inputs=inputs)
+            phase = [{"point": p.point, **({"direction": p.direction} if p.direction else {}), "phase_deg": p.phase_deg,
+                      **({"amplitude_mm_s_rms": p.amplitude_mm_s_rms} if p.amplitude_mm_s_rms else {})}
+                     for p in case.phase_1x]
+            files = write_simulation(sim, readings_dir / f"{name}.wav", timestamp=taken, inputs=inputs,
+                                     phase_1x=phase)
             reading = load_reading(files[0])
         else:
             reading = reading_of(case, machine)

@@ -17,7 +17,7 @@ import numpy as np
 from ..analysis import Analysis, analyse
 from ..machine import Machine
 from ..readings import Reading, check_points, check_record_length, scale_doubts
-from . import acquisition, envelope, impacts, levels, sidebands, tones
+from . import acquisition, envelope, impacts, levels, phase, sidebands, tones
 from .summary import Evidence, PointLevel, QualityNote, summarise
 from .vocabulary import FACTS, fields_of, level_fields
 
@@ -44,6 +44,8 @@ EXTRACTORS = (
     Extractor("once_per_rev_event", impacts.once_per_rev_event, ("once_per_rev_event",)),
     Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",),
               always="every location with several directions has its ratios"),
+    Extractor("phase", phase.phase_facts, ("phase_1x", "phase_difference"),
+              always="every 1X phase the reading gives is reported as given, with its differences"),
     Extractor("acquisition", acquisition.acquisition, ("acquisition",), always="every reading has its settings"),
     Extractor("speed_check", acquisition.speed_check, ("speed_check",), always="every reading has a speed"),
     Extractor("data_quality", acquisition.data_quality, ("data_quality",)),

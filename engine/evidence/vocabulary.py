@@ -17,6 +17,7 @@ from typing import NamedTuple
 from ..common.units import LEVEL_UNITS
 from ..machine.kinematics import BEARING_DEFECTS, RATE_FAMILIES, RATE_NAMES
 from ..machine.model import DIRECTIONS
+from ..machine.phase import RELATIONS as PHASE_RELATIONS
 from ..readings.quality import ISSUE_NAMES
 
 
@@ -249,6 +250,31 @@ FACTS: dict[str, dict[str, F]] = {
     },
 }
 
+# Not measured on the samples: 1X phase readings the sidecar or route states (engine.evidence.phase).
+FACTS["phase_1x"] = {
+    "point": F("string", "the point (or bearing) the phase reading names", ""),
+    "location": F("string", "bearing or shaft the reading sits at", ""),
+    "location_shaft": F("string", "shaft the reading's bearing carries", ""),
+    "direction": F("string", "horizontal, vertical or axial", ""),
+    "phase_deg": F("number", "1X phase against the once-per-revolution mark, 0-360 deg (mean of repeats)", "deg"),
+    "amplitude_mm_s": F("number", "1X velocity read with the phase, mm/s RMS (as stated)", "mm/s RMS"),
+    "readings": F("integer", "phase readings given for this point and direction", ""),
+    "spread_deg": F("number", "largest difference between those readings, 0-180 deg (0 for one)", "deg"),
+}
+FACTS["phase_difference"] = {
+    "relation": F("string", "which pair: horizontal-vertical, across coupling, end to end", ""),
+    "direction": F("string", "the pair's direction (radial for horizontal-vertical)", ""),
+    "location": F("string", "bearing of the first reading", ""),
+    "location_shaft": F("string", "shaft of the first reading", ""),
+    "first_direction": F("string", "direction of the first reading", ""),
+    "other_location": F("string", "bearing of the second reading", ""),
+    "other_shaft": F("string", "shaft of the second reading", ""),
+    "other_direction": F("string", "direction of the second reading", ""),
+    "difference_deg": F("number", "1X phase difference folded to 0-180 deg", "deg"),
+    "from_quadrature_deg": F("number", "how far that difference is from 90 deg, 0-90 deg", "deg"),
+    "mirrored": F("boolean", "the same pair seen from the other side of a coupling", ""),
+}
+
 # Not measured on the reading itself: made from the stored history by engine.trend.facts.
 FACTS["trend"] = {
     "point": F("string", "measurement point id", ""),
@@ -296,6 +322,10 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "sideband_family.carrier": SIDEBAND_CARRIERS,
     "sideband_family.spacing": SIDEBAND_SPACINGS,
     "data_quality.issue": QUALITY_ISSUES,
+    "phase_difference.relation": PHASE_RELATIONS,
+    "phase_difference.direction": DIRECTIONS + ("radial",),
+    "phase_difference.first_direction": DIRECTIONS,
+    "phase_difference.other_direction": DIRECTIONS,
 }
 
 

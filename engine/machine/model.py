@@ -120,6 +120,7 @@ class Machine:
     speed_range: SpeedRange | None = None   # a variable-speed drive's range, when the file states one
     alarms: tuple = ()                      # site limits per point (``alarms.Alarm``), the machine file's and --alarms
     joined: tuple[tuple[str, str], ...] = ()  # shafts joined directly (same_as, ratio_to): (shaft, the one it follows)
+    joined_shafts: tuple[tuple[str, str], ...] = ()   # (shaft, the shaft it is the same_as): joined by a coupling
 
     def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
         """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
@@ -278,6 +279,7 @@ def _build(doc: YamlDocument) -> Machine:
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
         joined=tuple((spec["id"], spec["same_as"] if "same_as" in spec else spec["ratio_to"]["shaft"])
                      for spec in data["shafts"] if "same_as" in spec or "ratio_to" in spec),
+        joined_shafts=tuple((s["id"], s["same_as"]) for s in data["shafts"] if "same_as" in s),
     )
     return machine
 

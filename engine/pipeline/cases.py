@@ -12,7 +12,7 @@ from pathlib import Path
 from ..common.errors import CaseError
 from ..common.yamlfile import read_yaml, validate
 from ..machine import load_machine
-from ..readings import combine_readings, load_reading
+from ..readings import combine_readings, load_reading, phase_entries, with_phase
 from ..reasoning import CONFIDENT, Reasoner, Reasoning
 
 
@@ -27,6 +27,7 @@ class Case:
     simulate: dict | None
     speed_rpm: float | None
     expect: dict
+    phase_1x: tuple = ()          # 1X phase readings given with the reading (``PhaseReading``)
 
 
 @dataclass(frozen=True)
@@ -56,7 +57,8 @@ def load_case(path) -> Case:
         if not r.exists():
             raise CaseError(f"reading file {d['readings'][i]} not found", path=str(path),
                             line=doc.line_of(["readings", i]))
-    return Case(d["case"], str(path), machine, readings, d.get("simulate"), d.get("speed_rpm"), d["expect"])
+    phase = phase_entries(d.get("phase_1x") or [], str(path), lambda i: doc.line_of(["phase_1x", i]))
+    return Case(d["case"], str(path), machine, readings, d.get("simulate"), d.get("speed_rpm"), d["expect"], phase)
 
 
 MAX_CASE_DEPTH = 20       # a --depth beyond this is no folder of cases a person keeps
@@ -116,8 +118,9 @@ def reading_of(case: Case, machine):
     sim = simulation_of(case, machine)
     if sim is not None:
         from ..simulation import as_reading
-        return as_reading(sim, source=case.path)
-    return combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings])
+        return with_phase(as_reading(sim, source=case.path), case.phase_1x)
+    return with_phase(combine_readings([load_reading(p, speed_rpm=case.speed_rpm) for p in case.readings]),
+                      case.phase_1x)
 
 
 def _pct(certainty: float) -> str:

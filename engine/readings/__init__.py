@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import os
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -21,16 +22,17 @@ from ..common.infile import regular_file
 from ..common.yamlfile import read_yaml, validate
 from ..machine import check_speed_rpm
 from .columns import apply_column_map
-from .fit import check_points
+from .fit import check_phase, check_points
 from .formats import READERS, RawReading, check_raw
 from .length import MIN_SAMPLES, check_record_length
 from .limits import MAX_FILE_BYTES, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
-from .model import Channel, QualityIssue, Reading
+from .model import Channel, PhaseReading, QualityIssue, Reading
 from .quality import SCALE_ISSUES, check_channel, check_resolution, describe_issue, scale_doubts
 
 __all__ = ["Channel", "MIN_SAMPLES", "QualityIssue", "Reading", "SCALE_ISSUES", "check_points", "check_record_length",
            "check_resolution", "combine_readings", "describe_issue", "load_reading", "scale_doubts",
-           "select_channels", "sidecar_path"]
+           "select_channels", "sidecar_path",
+           "PhaseReading", "phase_entries", "with_phase", "check_phase"]
 
 
 def sidecar_path(path) -> Path:
@@ -38,17 +40,40 @@ def sidecar_path(path) -> Path:
     return Path(str(Path(path)) + ".yaml")     # "/" has no name to extend; its sidecar would be "/.yaml"
 
 
-def _read_sidecar(path) -> dict:
+def _read_sidecar(path) -> tuple[dict, tuple[PhaseReading, ...]]:
     side = sidecar_path(path)
     if not os.path.lexists(side):
-        return {}
+        return {}, ()
     doc = read_yaml(side, ReadingError)
     if doc.data is None:
-        return {}
+        return {}, ()
     if not isinstance(doc.data, dict):
         raise ReadingError("a sidecar is a mapping of fields (sample_rate_hz, unit, ...)", path=str(side), line=1)
     validate(doc, "sidecar.schema.json", ReadingError)
-    return doc.data
+    return doc.data, phase_entries(doc.data.get("phase_1x") or [], doc.path,
+                                   lambda i: doc.line_of(["phase_1x", i]))
+
+
+def phase_entries(entries: list[dict], file: str, line_of) -> tuple[PhaseReading, ...]:
+    """``phase_1x`` entries of a sidecar or route (already schema-checked) -> ``PhaseReading``s.
+
+    ``line_of(i)`` is the line of entry ``i``, so a later check against the machine
+    (``fit.check_phase``) can name it.
+    """
+    return tuple(PhaseReading(point=str(e["point"]), direction=e.get("direction"), phase_deg=float(e["phase_deg"]),
+                              amplitude_mm_s_rms=(float(e["amplitude_mm_s_rms"]) if "amplitude_mm_s_rms" in e
+                                                  else None),
+                              file=file, line=line_of(i))
+                 for i, e in enumerate(entries))
+
+
+def with_phase(reading: Reading, phase: tuple[PhaseReading, ...]) -> Reading:
+    """``reading`` with ``phase`` (a route's entries) in place of its own for the same point and direction."""
+    if not phase:
+        return reading
+    given = {(p.point, p.direction) for p in phase}
+    kept = tuple(p for p in reading.phase_1x if (p.point, p.direction) not in given)
+    return replace(reading, phase_1x=kept + tuple(phase))
 
 
 def _check_file(path: str) -> None:
@@ -90,12 +115,13 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
         raise ReadingError(f"cannot be read as {p.suffix.lstrip('.').upper()} "
                            f"({exc.__class__.__name__})", path=path) from None
-    side = _read_sidecar(path)
+    side, phase = _read_sidecar(path)
     if side.get("columns"):
         raw = apply_column_map(raw, side["columns"], path, str(sidecar_path(path)))
-    return _assemble(path, raw, side, dict(
+    reading = _assemble(path, raw, side, dict(
         sample_rate_hz=sample_rate_hz, unit=unit, scale=scale, point=point,
         direction=direction, speed_rpm=speed_rpm), channels)
+    return replace(reading, phase_1x=phase) if phase else reading
 
 
 def select_channels(source: str, channels: list[Channel], wanted: list[str],
@@ -160,7 +186,8 @@ def combine_readings(readings: list[Reading]) -> Reading:
     stamps = [r.timestamp for r in readings if r.timestamp is not None]   # the first file that states one
     return Reading(source=", ".join(r.source for r in readings), fs_hz=first.fs_hz,
                    channels=tuple(channels), speed_rpm=speeds[0] if speeds else None,
-                   timestamp=stamps[0] if stamps else None, quality=tuple(quality))
+                   timestamp=stamps[0] if stamps else None, quality=tuple(quality),
+                   phase_1x=tuple(p for r in readings for p in r.phase_1x))
 
 
 def channel_entries(raw: RawReading, entries: list[dict], sidecar: str) -> list[dict]:

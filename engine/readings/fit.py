@@ -18,10 +18,12 @@ NAMED = 4     # channels named in the error before "and N more"
 
 
 def check_points(reading, machine) -> None:
-    """Raise ``ReadingError`` naming each channel of ``reading`` whose point ``machine`` lacks."""
+    """Raise ``ReadingError`` naming each channel of ``reading`` whose point ``machine`` lacks, then at the
+    first 1X phase reading that names no place of it (``check_phase``)."""
     known = [p.id for p in machine.points]
     strays = [c for c in reading.channels if c.point and c.point not in known]
     if not strays:
+        check_phase(reading, machine)
         return
     listed = ", ".join(f"{c.name!r} at point {c.point!r}" for c in strays[:NAMED])
     if len(strays) > NAMED:
@@ -33,3 +35,14 @@ def check_points(reading, machine) -> None:
         f"{lacks} ({points}); "
         "diagnose the reading with the machine file it was taken on, correct the point in its sidecar, "
         "or leave the channel out (--channels)", path=reading.source)
+
+
+def check_phase(reading, machine) -> None:
+    """Raise ``ReadingError`` at the first 1X phase reading of ``reading`` that names no place of ``machine``
+    (an unknown point or bearing, a bearing without a direction, a direction the point does not have)."""
+    from ..machine.phase import phase_place
+
+    for p in reading.phase_1x:
+        place = phase_place(machine, p.point, p.direction)
+        if isinstance(place, str):
+            raise ReadingError(f"phase_1x: {place}", path=p.file, line=p.line)

@@ -42,6 +42,24 @@ class Channel:
 
 
 @dataclass(frozen=True)
+class PhaseReading:
+    """One 1X phase reading as a sidecar or route states it (not measured from the samples).
+
+    ``point`` is a measurement point of the machine or a bearing (then ``direction`` says
+    which way); ``phase_deg`` is the 1X phase against the once-per-revolution mark, in
+    degrees; ``amplitude_mm_s_rms`` the 1X velocity it was read with, mm/s RMS, if stated.
+    ``file`` and ``line`` say where it was written, for errors.
+    """
+
+    point: str
+    direction: str | None
+    phase_deg: float
+    amplitude_mm_s_rms: float | None
+    file: str
+    line: int | None = None
+
+
+@dataclass(frozen=True)
 class Reading:
     """One acquisition: channels sampled together at ``fs_hz``."""
 
@@ -51,6 +69,7 @@ class Reading:
     speed_rpm: float | None = None
     timestamp: str | None = None
     quality: tuple[QualityIssue, ...] = field(default=())
+    phase_1x: tuple[PhaseReading, ...] = field(default=())   # 1X phase readings the sidecar or route gives
 
     @property
     def n_samples(self) -> int:

@@ -213,6 +213,42 @@ def _alarms(alarms) -> dict:
             "danger": sum(a["state"] == "danger" for a in rows), "results": rows}
 
 
+def _phase(evidence: Evidence, reasoning: Reasoning) -> dict:
+    """The 1X phase readings the reading states, and each difference with the rules that read it.
+
+    A difference across a coupling is one row (its mirror, the same pair seen from the other
+    side, is folded into it); ``reads`` lists every firing that matched the pair, with the
+    hypothesis it raised or lowered.
+    """
+    readings = [f for f in evidence.facts if f["kind"] == "phase_1x"]
+    diffs = [f for f in evidence.facts if f["kind"] == "phase_difference"]
+    if not readings:
+        return {"readings": [], "differences": []}
+
+    def key(f):
+        ends = sorted([(f["location"], f["first_direction"]), (f["other_location"], f["other_direction"])])
+        return (f["relation"], tuple(ends))
+
+    reads: dict[tuple, list[dict]] = {}
+    for h in reasoning.hypotheses:
+        for firing in (*h.support, *h.against):
+            for _, fact in firing.facts:
+                if fact.get("kind") == "phase_difference" or fact.get("kind") == "phase_1x":
+                    k = key(fact) if fact["kind"] == "phase_difference" else ("reading", fact.get("id"))
+                    reads.setdefault(k, []).append({
+                        "rule": firing.rule_id, "fault_name": h.fault_name, "component": h.component,
+                        "certainty": round(firing.certainty, 3)})
+    rows = [{"point": f["point"], "location": f["location"], "direction": f["direction"],
+             "amplitude_mm_s": f.get("amplitude_mm_s"), "phase_deg": f["phase_deg"], "readings": f["readings"],
+             "spread_deg": f["spread_deg"], "reads": reads.get(("reading", f["id"]), [])} for f in readings]
+    out = [{"relation": f["relation"], "direction": f["direction"],
+            "first": f"{f['location']} {f['first_direction']}",
+            "second": f"{f['other_location']} {f['other_direction']}",
+            "difference_deg": f["difference_deg"], "reads": reads.get(key(f), [])}
+           for f in diffs if not f.get("mirrored")]
+    return {"readings": rows, "differences": out}
+
+
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
                     advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None,
                     alarms=(), plot_channels: tuple[str, ...] | None = None) -> dict:
@@ -263,6 +299,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
                    "reasons": list(v["reasons"])} for v in reach],
         "alarms": _alarms(alarms),
+        "phase": _phase(evidence, reasoning),
         "cautions": list(advice.cautions),
         "disclaimer": advice.disclaimer,
         "zones": {"scale": {"group": advice.zone_scale.group, "support": advice.zone_scale.support,

@@ -35,6 +35,7 @@ class Task:
     points: dict = field(default_factory=dict)      # channel -> point id
     time: str | None = None                         # ISO 8601, resolved from the route's time and clock
     options: dict = field(default_factory=dict)     # speed_rpm, sample_rate_hz, unit
+    phase_1x: tuple = ()                            # the route's 1X phase readings (``PhaseReading``)
 
     @property
     def name(self) -> str:
@@ -128,6 +129,8 @@ def load_route(path) -> Route:
         if not os.path.isfile(file):
             raise RouteError(f"machines.{key}: no such machine file {file}", path=path,
                              line=doc.line_of(["machines", key]))
+    from ..readings import phase_entries
+
     tasks = []
     for i, item in enumerate(doc.data["readings"]):
         where = ["readings", i]
@@ -142,7 +145,9 @@ def load_route(path) -> Route:
                              "nor a machine file", path=path, line=doc.line_of(where + ["machine"]))
         options = {k: item[k] for k in ("speed_rpm", "sample_rate_hz", "unit") if k in item}
         time = _time(item.get("time"), clock, where + ["time"], doc, path)
-        tasks.append(Task(i, resolved, machine, dict(item.get("points", {})), time, options))
+        phase = phase_entries(item.get("phase_1x") or [], path,
+                              lambda j, where=where: doc.line_of(where + ["phase_1x", j]))
+        tasks.append(Task(i, resolved, machine, dict(item.get("points", {})), time, options, phase))
     return Route(doc.data.get("route", Path(path).stem), path, tuple(tasks), clock)
 
 

@@ -104,7 +104,7 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
     try:
         from ..history.record import record_of
         from ..pipeline import diagnose, document_of
-        from ..readings import combine_readings, load_reading
+        from ..readings import combine_readings, load_reading, with_phase
         from ..report import render
 
         reasoner, advice = _reasoner(tuple(settings.get("site", ())))
@@ -116,7 +116,7 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
         options = {k: task.options.get(k) for k in ("speed_rpm", "sample_rate_hz", "unit")}
         reading = combine_readings([load_reading(f, **options, max_samples=settings.get("max_samples"))
                                     for f in task.files])
-        reading = _map_points(reading, machine, task.points, task)
+        reading = with_phase(_map_points(reading, machine, task.points, task), task.phase_1x)
         when, origin = taken_at(task, reading, settings.get("clock"))
         link = _history_link(settings, machine, advice, content_hash, when, recording)
         plots = settings.get("plots", False)

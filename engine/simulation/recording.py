@@ -40,9 +40,11 @@ def as_reading(sim: Simulation, source: str = "simulated") -> Reading:
     return Reading(source, sim.fs_hz, channels, speed_rpm=sim.speed_rpm, quality=quality)
 
 
-def write_simulation(sim: Simulation, path, inputs=(), timestamp: str | None = None) -> list[Path]:
+def write_simulation(sim: Simulation, path, inputs=(), timestamp: str | None = None,
+                     phase_1x: list[dict] | None = None) -> list[Path]:
     """Save a simulation as a reading (.wav float32 in g, .npz or .csv) with sidecar and truth;
-    ``timestamp`` (ISO 8601), if given, goes into the sidecar as a logger would stamp it.
+    ``timestamp`` (ISO 8601), if given, goes into the sidecar as a logger would stamp it, and
+    ``phase_1x`` (a sidecar's 1X phase entries) as an analyst would write them.
 
     Returns the files written. Each goes through ``engine.common.outfile.staged``
     (written to a temporary name, synced, renamed; never over one of
@@ -62,6 +64,8 @@ def write_simulation(sim: Simulation, path, inputs=(), timestamp: str | None = N
                             for c in names]}
     if timestamp is not None:
         sidecar["timestamp"] = str(timestamp)
+    if phase_1x:
+        sidecar["phase_1x"] = [dict(e) for e in phase_1x]
     with staged(path, inputs) as tmp:
         if suffix == ".wav":
             from scipy.io import wavfile

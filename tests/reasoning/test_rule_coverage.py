@@ -24,7 +24,7 @@ from engine.machine import load_machine
 from engine.machine.kinematics import rates_at
 from engine.pipeline import diagnose
 from engine.pipeline.cases import case_files, load_case, reading_of
-from engine.readings import Reading
+from engine.readings import PhaseReading, Reading
 from engine.readings.quality import check_channel
 from engine.reasoning import load_rulebook
 from engine.simulation import as_reading, simulate
@@ -113,6 +113,15 @@ def _axial_twice_mesh(key, fault, stage, seed, channel, g_peak):
     return make
 
 
+def _phased(key, fault, component, stage, seed, entries):
+    """A simulated fault with 1X phase readings as a sidecar gives them: (point, direction, degrees)."""
+    def make():
+        r = as_reading(simulate(_machine(key), fault, component, stage, None, 25600.0, 4.0, seed))
+        return dataclasses.replace(r, phase_1x=tuple(PhaseReading(point, direction, deg, None, "phase", i + 1)
+                                                     for i, (point, direction, deg) in enumerate(entries)))
+    return make
+
+
 # (what the reading is, its machine, how to make it, the rules it is here for: a guide for whoever
 # meets a failure, not a promise checked one by one)
 SIMULATED = [
@@ -173,6 +182,31 @@ SIMULATED = [
      "shaft.looseness.directional shaft.unbalance.against-directional"),
     ("gear misaligned, 2 x GMF axial", "ct1", _axial_twice_mesh("ct1", "gear-wear", 2, 3, "GINA", 0.5),
      "gear.misalignment.axial-mesh-harmonic"),
+    # 1X phase as given (the phase relations of rulebooks/phase.yaml; the spectrum simulated)
+    ("unbalance, phase 90 deg H-V and alike across", "rw2",
+     _phased("rw2", "unbalance", "pump", 2, 3, [("P1H", None, 40), ("pump_de", "vertical", 128), ("M2H", None, 52)]),
+     "phase.unbalance.quadrature phase.unbalance.alike-across-coupling"),
+    ("unbalance, phase in line and opposed across", "rw2",
+     _phased("rw2", "unbalance", "pump", 2, 3, [("P1H", None, 40), ("pump_de", "vertical", 45), ("M2H", None, 215)]),
+     "phase.unbalance.against-straight-line phase.unbalance.against-opposed-across-coupling"),
+    ("unbalance, phase unsteady", "rw2",
+     _phased("rw2", "unbalance", "pump", 3, 3, [("P1H", None, 10), ("P1H", None, 100), ("P1H", None, 170)]),
+     "phase.looseness.unsteady phase.unbalance.against-unsteady"),
+    ("parallel misalignment, radial phase opposed", "rw2",
+     _phased("rw2", "misalignment-parallel", None, 3, 5, [("M2H", None, 10), ("P1H", None, 188)]),
+     "phase.misalignment-parallel.opposed-radial"),
+    ("parallel misalignment, radial phase in step", "rw2",
+     _phased("rw2", "misalignment-parallel", None, 3, 5, [("M2H", None, 10), ("P1H", None, 25)]),
+     "phase.misalignment-parallel.against-in-step-radial"),
+    ("angular misalignment, axial phase opposed", "rw2",
+     _phased("rw2", "misalignment-angular", None, 3, 5, [("M2A", None, 10), ("P1A", None, 188)]),
+     "phase.misalignment-angular.opposed-axial"),
+    ("angular misalignment, axial phase in step", "rw2",
+     _phased("rw2", "misalignment-angular", None, 3, 5, [("M2A", None, 10), ("P1A", None, 25)]),
+     "phase.misalignment-angular.against-in-step-axial"),
+    ("axial phase opposed end to end", "rw2",
+     _phased("rw2", "misalignment-angular", "motor", 3, 5, [("motor_nde", "axial", 0), ("M2A", None, 175)]),
+     "phase.bent-shaft.axial-opposed"),
 ]
 
 

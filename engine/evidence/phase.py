@@ -1,0 +1,63 @@
+"""1X phase facts: the phase readings a sidecar or route states, and the differences the trade reads.
+
+The phases are not measured from the samples: a reading carries no once-per-revolution
+channel (``engine.analysis.synchronous`` cuts turns from the speed, or from tach pulse
+times a caller gives, and keeps no phase), so they come as stated, each against the
+same once-per-revolution mark. Readings of one place (point and direction) given more
+than once are one ``phase_1x`` fact with their circular mean and their spread; the
+pairs compared are ``engine.machine.phase.phase_pairs``' alone.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+
+from ..analysis import Analysis
+from ..machine.phase import PhasePlace, folded_difference_deg, phase_pairs, phase_place
+
+
+def _circular_mean_deg(phases: list[float]) -> float:
+    s = sum(math.sin(math.radians(p)) for p in phases)
+    c = sum(math.cos(math.radians(p)) for p in phases)
+    return math.degrees(math.atan2(s, c)) % 360.0
+
+
+def phase_facts(rc: Analysis) -> list[dict]:
+    """One ``phase_1x`` fact per place read, then one ``phase_difference`` per pair of places
+    (across a coupling once from each side, the second marked ``mirrored``)."""
+    if not rc.phase_1x:
+        return []
+    groups: defaultdict[PhasePlace, list] = defaultdict(list)
+    for p in rc.phase_1x:
+        place = phase_place(rc.machine, p.point, p.direction)
+        if isinstance(place, PhasePlace):          # check_phase refused the others before the analysis
+            groups[place].append(p)
+    out: list[dict] = []
+    mean: dict[PhasePlace, float] = {}
+    for place, given in groups.items():
+        phases = [p.phase_deg for p in given]
+        mean[place] = _circular_mean_deg(phases)
+        amps = [p.amplitude_mm_s_rms for p in given if p.amplitude_mm_s_rms is not None]
+        out.append({
+            "kind": "phase_1x", "point": given[0].point, "location": place.location,
+            "location_shaft": place.shaft, "direction": place.direction,
+            "phase_deg": round(mean[place], 1),
+            "amplitude_mm_s": round(sum(amps) / len(amps), 3) if amps else None,
+            "readings": len(given),
+            "spread_deg": round(max((folded_difference_deg(a, b) for a in phases for b in phases), default=0.0), 1),
+        })
+    for pair in phase_pairs(rc.machine, groups):
+        diff = round(folded_difference_deg(mean[pair.first], mean[pair.second]), 1)
+        sides = [(pair.first, pair.second, False)]
+        if pair.relation == "across coupling":
+            sides.append((pair.second, pair.first, True))
+        for one, other, mirrored in sides:
+            out.append({
+                "kind": "phase_difference", "relation": pair.relation,
+                "direction": "radial" if pair.relation == "horizontal-vertical" else one.direction,
+                "location": one.location, "location_shaft": one.shaft, "first_direction": one.direction,
+                "other_location": other.location, "other_shaft": other.shaft, "other_direction": other.direction,
+                "difference_deg": diff, "from_quadrature_deg": round(abs(diff - 90.0), 1), "mirrored": mirrored,
+            })
+    return out
