@@ -31,7 +31,7 @@ def overall(rc: Analysis) -> list[dict]:
     return out
 
 
-def _rms_frequency_hz(accel_rms_g: float, velocity_rms_mm_s: float) -> float:
+def _rms_frequency_hz(accel_rms_g: float | None, velocity_rms_mm_s: float | None) -> float:
     """The frequency of one tone with both levels: acceleration RMS over 2 pi x the ISO band's velocity RMS.
 
     Low (tens of Hz) when the running-speed lines carry the vibration, high (kHz) when a broadband

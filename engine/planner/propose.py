@@ -21,7 +21,6 @@ its resolution asks, and the raw spectrum averages over it.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
-from typing import cast
 
 from ..machine import Machine, Point
 from ..machine.kinematics import rates_at
@@ -179,8 +178,9 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
     if req.envelope_band_hz is not None:
         # the record is the one the envelope spectrum's resolution needs; its lines at the raw Fmax
         # stand for that record in the checks (the raw spectrum has its own, fewer, lines)
-        two = _two_spectra(machine, point, policy, speeds, fmax, tight, spectra)
-        lines = int(round(fmax * cast(int, two[2]) / cast(float, two[1])))
+        raw_lines, env_fmax, env_lines = _two_spectra(machine, point, policy, speeds, fmax, tight, spectra)
+        two = (raw_lines, env_fmax, env_lines)
+        lines = int(round(fmax * env_lines / env_fmax))
     resolution = fmax / lines
     record = lines / fmax
 
