@@ -164,6 +164,7 @@ class StageRow(NamedTuple):
     fs: float
     called: int | None           # the stage of the hypothesis naming the truth (None: not named)
     certainty: float             # that hypothesis's certainty (0 when not named)
+    wrong: tuple[str, ...] = ()  # every hypothesis at 50 % or more that is not the truth
 
 
 def accepted_faults(fault: str) -> set[str]:
@@ -323,7 +324,8 @@ def run_stages(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800
             sim = simulate(m, fault, component, stage, nominal * scale, fs, duration_s, seed)
             result = reasoner.reason(extract_evidence(as_reading(sim), m))
             called, certainty = called_stage(result, m, fault, component)
-            rows.append(StageRow(fault, mk, component, stage, seed, scale, fs, called, certainty))
+            rows.append(StageRow(fault, mk, component, stage, seed, scale, fs, called, certainty,
+                                 wrong_calls(result, m, ((fault, component),))))
     return rows
 
 
@@ -345,7 +347,8 @@ def print_stages(rows: list[StageRow]) -> None:
             print(f"{'stage ' + str(stage):<22}" + "".join(f"{on[c] or '.':>11}" for c in columns))
         exact, near, n = stage_counts(rs)
         print(f"{'':<22}exact {exact}/{n} ({100 * exact / max(n, 1):.0f} %), one off {near}, "
-              f"further off or not named {n - exact - near}\n")
+              f"further off or not named {n - exact - near}; wrong calls at 50 % or more "
+              f"{sum(len(r.wrong) for r in rs)} in {sum(bool(r.wrong) for r in rs)} readings\n")
 
     table("simulated \\ called", rows)
     for fault in dict.fromkeys(r.fault for r in rows):
@@ -356,6 +359,11 @@ def print_stages(rows: list[StageRow]) -> None:
     if off:
         print("stages further than one off, or not named:")
         print("\n".join(_listed(off)))
+    calls = [f"  {r.fault:<16} {r.machine} {r.component} stage {r.stage} seed {r.seed} speed x{r.speed} "
+             f"fs {r.fs:.0f}: {'; '.join(r.wrong)}" for r in rows if r.wrong]
+    if calls:
+        print("wrong calls (every hypothesis at 50 % or more that is not the truth):")
+        print("\n".join(_listed(calls)))
 
 
 _REASONER = None
