@@ -16,7 +16,11 @@ The demo machines (cases/machines) and the test machine GC-1 (a motor and
 two-stage gearbox whose input bearing's BPFO lies on 2 x BPFO of the motor's
 6312, tests/machines/gc1-grit-conveyor-drive.yaml) are run.
 
-    python -m bench.confusion [--seeds N] [--quick] [--no-pairs | --pairs-only] [--jobs 2]
+Damage stages: bearing defects simulated at stages 1 to 4, the stage called on
+the true fault against the simulated one (``STAGE_SCENARIOS``).
+
+    python -m bench.confusion [--seeds N] [--quick] [--no-pairs | --pairs-only] [--no-stages | --stages-only]
+                              [--jobs 2]
 """
 
 from __future__ import annotations
@@ -95,6 +99,18 @@ PAIRS = (
 )
 QUICK_PAIRS = (PAIRS[0], PAIRS[1], PAIRS[6], PAIRS[10])
 
+# Damage stages: (simulator fault, machine, component) simulated at every stage 1 to 4; the called
+# stage is the one of the hypothesis that names the true fault on the true component, whatever its
+# certainty ("none" when no hypothesis names it). Goal: right or one off in every reading, exact in
+# 80 % or more.
+STAGE_SCENARIOS = (
+    ("outer-race", "rw2", "pump_nde"), ("outer-race", "ct1", "output_lower"),
+    ("inner-race", "rw2", "pump_de"), ("inner-race", "bw1", "blower_de"),
+    ("rolling-element", "rw2", "pump_nde"),
+)
+QUICK_STAGE_SCENARIOS = (STAGE_SCENARIOS[0], STAGE_SCENARIOS[2], STAGE_SCENARIOS[4])
+STAGES = (1, 2, 3, 4)
+
 
 class Row(NamedTuple):
     """One single-fault reading."""
@@ -134,6 +150,21 @@ class PairRow(NamedTuple):
     @property
     def pair(self) -> str:
         return f"{self.machine} {self.first[0]} {self.first[1]} + {self.second[0]} {self.second[1]}"
+
+
+class StageRow(NamedTuple):
+    """One reading of a damage-stage scenario."""
+
+    fault: str
+    machine: str
+    component: str
+    stage: int                   # simulated
+    seed: int
+    speed: float
+    fs: float
+    called: int | None           # the stage of the hypothesis naming the truth (None: not named)
+    certainty: float             # that hypothesis's certainty (0 when not named)
+    wrong: tuple[str, ...] = ()  # every hypothesis at 50 % or more that is not the truth
 
 
 def accepted_faults(fault: str) -> set[str]:
@@ -267,6 +298,74 @@ def run_pairs(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.
     return rows
 
 
+def called_stage(result, machine, fault: str, component: str) -> tuple[int | None, float]:
+    """(stage, certainty) of the leading hypothesis that names ``fault`` on ``component``; (None, 0)
+    when none does or the diagnosis was withheld."""
+    if result.withheld:
+        return None, 0.0
+    for h in result.hypotheses:
+        if names(h, machine, fault, component):
+            return h.stage, h.certainty
+    return None, 0.0
+
+
+def run_stages(seeds=(0, 1, 2), speeds=(0.85, 1.0), sample_rates=(25600.0, 12800.0), stages=STAGES,
+               duration_s=4.0, scenarios=STAGE_SCENARIOS, reasoner=None) -> list[StageRow]:
+    """A StageRow for every reading of ``scenarios`` at every damage stage over the grid."""
+    reasoner = reasoner or Reasoner(load_rulebook())
+    machines = _machines({mk for _f, mk, _c in scenarios}, speeds)
+    rows = []
+    for fault, mk, component in scenarios:
+        m = machines[mk]
+        nominal = m.shaft_speeds_hz[m.driver_shaft] * 60
+        for seed, scale, fs, stage in _grid(seeds, speeds, sample_rates, stages):
+            if not runs_at(m, fault, component, nominal * scale):
+                continue
+            sim = simulate(m, fault, component, stage, nominal * scale, fs, duration_s, seed)
+            result = reasoner.reason(extract_evidence(as_reading(sim), m))
+            called, certainty = called_stage(result, m, fault, component)
+            rows.append(StageRow(fault, mk, component, stage, seed, scale, fs, called, certainty,
+                                 wrong_calls(result, m, ((fault, component),))))
+    return rows
+
+
+def stage_counts(rows: list[StageRow]) -> tuple[int, int, int]:
+    """(exact, one off, readings): a reading not named at all counts as neither."""
+    exact = sum(r.called == r.stage for r in rows)
+    near = sum(r.called is not None and abs(r.called - r.stage) == 1 for r in rows)
+    return exact, near, len(rows)
+
+
+def print_stages(rows: list[StageRow]) -> None:
+    """The stage-confusion table (simulated stage rows, called stage columns), per defect and in all."""
+    columns = [*STAGES, None]
+
+    def table(title: str, rs: list[StageRow]) -> None:
+        print(f"{title:<22}" + "".join(f"{'called ' + str(c) if c else 'not named':>11}" for c in columns))
+        for stage in STAGES:
+            on = Counter(r.called for r in rs if r.stage == stage)
+            print(f"{'stage ' + str(stage):<22}" + "".join(f"{on[c] or '.':>11}" for c in columns))
+        exact, near, n = stage_counts(rs)
+        print(f"{'':<22}exact {exact}/{n} ({100 * exact / max(n, 1):.0f} %), one off {near}, "
+              f"further off or not named {n - exact - near}; wrong calls at 50 % or more "
+              f"{sum(len(r.wrong) for r in rs)} in {sum(bool(r.wrong) for r in rs)} readings\n")
+
+    table("simulated \\ called", rows)
+    for fault in dict.fromkeys(r.fault for r in rows):
+        table(fault, [r for r in rows if r.fault == fault])
+    off = [f"  {r.fault:<16} {r.machine} {r.component} stage {r.stage} seed {r.seed} speed x{r.speed} "
+           f"fs {r.fs:.0f}: called {r.called if r.called is not None else 'nothing'} ({r.certainty:.2f})"
+           for r in rows if r.called is None or abs(r.called - r.stage) > 1]
+    if off:
+        print("stages further than one off, or not named:")
+        print("\n".join(_listed(off)))
+    calls = [f"  {r.fault:<16} {r.machine} {r.component} stage {r.stage} seed {r.seed} speed x{r.speed} "
+             f"fs {r.fs:.0f}: {'; '.join(r.wrong)}" for r in rows if r.wrong]
+    if calls:
+        print("wrong calls (every hypothesis at 50 % or more that is not the truth):")
+        print("\n".join(_listed(calls)))
+
+
 _REASONER = None
 
 
@@ -278,15 +377,20 @@ def _task(job):
         _REASONER = Reasoner(load_rulebook())
     if kind == "single":
         return run(scenarios=(item,), reasoner=_REASONER, **grid)
+    if kind == "stage":
+        return run_stages(scenarios=(item,), reasoner=_REASONER, **grid)
     return run_pairs(pairs=(item,), reasoner=_REASONER, **grid)
 
 
 def run_in(jobs: int, kind: str, items, grid: dict, reasoner=None) -> list:
-    """``run`` (kind "single") or ``run_pairs`` (kind "pair") over ``items``, in ``jobs`` processes
-    (each its own reasoner) when more than one; the rows come back in the same order."""
+    """``run`` (kind "single"), ``run_stages`` (kind "stage") or ``run_pairs`` (kind "pair") over
+    ``items``, in ``jobs`` processes (each its own reasoner) when more than one; the rows come back in
+    the same order."""
     if jobs <= 1:
         if kind == "single":
             return run(scenarios=tuple(items), reasoner=reasoner, **grid)
+        if kind == "stage":
+            return run_stages(scenarios=tuple(items), reasoner=reasoner, **grid)
         return run_pairs(pairs=tuple(items), reasoner=reasoner, **grid)
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
@@ -397,6 +501,9 @@ def main() -> int:
     parser.add_argument("--pairs", action=argparse.BooleanOptionalAction, default=True,
                         help="run the fault pairs too (default: yes)")
     parser.add_argument("--pairs-only", action="store_true", help="run the fault pairs alone")
+    parser.add_argument("--stages", action=argparse.BooleanOptionalAction, default=True,
+                        help="run the damage-stage table too (default: yes)")
+    parser.add_argument("--stages-only", action="store_true", help="run the damage-stage table alone")
     parser.add_argument("--jobs", type=int, default=1,
                         help="worker processes (2 on a two-core machine halves the time; the reasoning "
                              "step's times are then measured under load)")
@@ -412,10 +519,18 @@ def main() -> int:
         grid = dict(seeds=(0,), speeds=(1.0,), sample_rates=(25600.0,))
     else:
         grid = dict(seeds=tuple(range(args.seeds)))
-    if not args.pairs_only:
+    if args.stages_only:
+        args.pairs_only, args.pairs = False, False
+    if not args.pairs_only and not args.stages_only:
         rows = run_in(args.jobs, "single", SCENARIOS + SHARED_LINE_SCENARIOS, grid, reasoner)
         print_report(rows)
         print(f"\n{time.perf_counter() - t0:.0f} s so far\n")
+    if (args.stages or args.stages_only) and not args.pairs_only:
+        stage_rows = run_in(args.jobs, "stage", QUICK_STAGE_SCENARIOS if args.quick else STAGE_SCENARIOS,
+                            {**grid, "stages": STAGES}, reasoner)
+        print("damage stages: simulated stage (rows) against the stage called on the true fault (columns)\n")
+        print_stages(stage_rows)
+        print(f"{time.perf_counter() - t0:.0f} s so far\n")
     if args.pairs or args.pairs_only:
         pair_rows = run_in(args.jobs, "pair", QUICK_PAIRS if args.quick else PAIRS, grid, reasoner)
         print_pairs(pair_rows)

@@ -4,7 +4,10 @@ from __future__ import annotations
 
 from collections import defaultdict
 
+import numpy as np
+
 from ..analysis import Analysis
+from ..common.units import STANDARD_GRAVITY_M_S2
 from ..readings.quality import same_scale
 from .matching import find_line
 from .signs import SIGNS, match_fit, spectrum_line, waveform
@@ -22,9 +25,20 @@ def overall(rc: Analysis) -> list[dict]:
             "accel_rms_g": lv.acceleration_rms_g, "accel_peak_g": lv.acceleration_peak_g,
             "crest_factor": lv.crest_factor, "kurtosis": lv.kurtosis, "skewness": lv.skewness,
             "band_truncated": lv.band_truncated,
+            "rms_frequency_hz": _rms_frequency_hz(lv.acceleration_rms_g, lv.velocity_rms_mm_s),
             SIGNS: {waveform(c.name): 1.0},
         })
     return out
+
+
+def _rms_frequency_hz(accel_rms_g: float | None, velocity_rms_mm_s: float | None) -> float:
+    """The frequency of one tone with both levels: acceleration RMS over 2 pi x the ISO band's velocity RMS.
+
+    Low (tens of Hz) when the running-speed lines carry the vibration, high (kHz) when a broadband
+    floor in the band where bearings ring does; no scale changes it. 0 when there is no velocity."""
+    if not velocity_rms_mm_s or velocity_rms_mm_s <= 0 or accel_rms_g is None:
+        return 0.0
+    return float(accel_rms_g * STANDARD_GRAVITY_M_S2 * 1e3 / (2 * np.pi * velocity_rms_mm_s))
 
 
 def _order_amplitude(c, speed_hz: float, order: int, tol: float) -> float:

@@ -47,6 +47,9 @@ FACTS: dict[str, dict[str, F]] = {
         "kurtosis": F("number", "kurtosis of acceleration (3 for Gaussian)", ""),
         "skewness": F("number", "skewness of acceleration", ""),
         "band_truncated": F("boolean", "Fmax below 1000 Hz: the ISO value reads low", ""),
+        "rms_frequency_hz": F("number", "acceleration RMS over 2 pi x the ISO band's velocity RMS: the frequency "
+                              "of one tone with both levels (tens of Hz when running-speed lines carry the "
+                              "vibration, kHz when a broadband floor where bearings ring does)", "Hz"),
     },
     "tone": CHANNEL_FIELDS | {
         "name": F("string", "forcing frequency name: 1X, BPFO, GMF, 2xLF, ...", ""),

@@ -22,9 +22,11 @@ SCHEMA_VERSION = 1
 
 def _rows(p: Proposal) -> list[dict]:
     slow = p.slowest_shaft
+    lines = (("raw lines", f"{p.raw_lines}, resolution {p.raw_resolution_hz:.3g} Hz") if p.raw_lines is not None
+             else ("lines", f"{p.lines}, resolution {p.resolution_hz:.3g} Hz"))
     rows = [
         ("Fmax", f"{p.fmax_hz:g} Hz"),
-        ("lines", f"{p.lines}, resolution {p.resolution_hz:.3g} Hz"),
+        lines,
         ("sample rate", f"{p.sample_rate_hz:g} Hz"),
         ("record", f"{p.record_s:.3g} s = {p.record_revolutions:.1f} turns of {slow}"),
         ("window", p.window.capitalize()),
@@ -32,6 +34,9 @@ def _rows(p: Proposal) -> list[dict]:
     ]
     if p.envelope_band_hz is not None:
         rows.append(("envelope band", f"{p.envelope_band_hz[0]:.0f}-{p.envelope_band_hz[1]:.0f} Hz"))
+    if p.envelope_fmax_hz is not None:
+        rows.append(("envelope Fmax", f"{p.envelope_fmax_hz:g} Hz"))
+        rows.append(("envelope lines", f"{p.envelope_lines}, resolution {p.envelope_resolution_hz:.3g} Hz"))
     rows.append(("waveform", f"{p.waveform_s:.3g} s = {p.waveform_revolutions:.1f} turns of {slow} "
                              f"({round(p.waveform_s * p.sample_rate_hz)} samples)"))
     return [{"setting": name, "value": value, "why": p.reasons[name]} for name, value in rows]
@@ -45,6 +50,9 @@ def _proposal_dict(p: Proposal) -> dict:
         "averages": p.averages, "overlap_pct": p.overlap_pct, "acquisition_s": p.acquisition_s,
         "waveform_s": p.waveform_s, "waveform_revolutions": p.waveform_revolutions,
         "envelope_band_hz": list(p.envelope_band_hz) if p.envelope_band_hz else None,
+        "raw_lines": p.raw_lines, "raw_resolution_hz": p.raw_resolution_hz,
+        "envelope_fmax_hz": p.envelope_fmax_hz, "envelope_lines": p.envelope_lines,
+        "envelope_resolution_hz": p.envelope_resolution_hz,
         "rows": _rows(p), "notes": list(p.notes),
     }
 

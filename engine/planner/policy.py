@@ -69,11 +69,14 @@ class Policy:
 
 
 def _shown(path) -> str:
-    """``path`` relative to the working folder when it lies inside it (shorter reports)."""
+    """The policy file's name for a report: a shipped file by its name inside the rulebooks
+    (``rulebooks/planner/acquisition.yaml``), never the folder it was installed in; a user's file
+    by the name the user gave."""
     try:
-        return str(Path(path).resolve().relative_to(Path.cwd()))
+        inside = Path(path).resolve().relative_to(RULEBOOKS.resolve())
     except ValueError:
         return str(path)
+    return f"rulebooks/{inside.as_posix()}"
 
 
 def _check(doc, data: dict) -> None:

@@ -7,6 +7,15 @@ rate must put enough samples on an impact or a turn; the sample rate is
 (Fmax / lines) splits every spacing by the policy's lines; one record lasts
 lines / Fmax; the waveform is as long as the longest turn count or period
 the purpose needs. Window, averages and overlap come from the policy.
+
+A bearing point has two spectra with two purposes, each proposed on its own.
+The raw spectrum (to Fmax, over the band where impacts ring) shows the
+resonance-band energy, the raised floor of late damage and the defect tones
+beside the shaft's harmonics: its lines split the 1X harmonics of the point's
+shafts by the policy's lines between harmonics. The squared envelope spectrum
+shows the defect rates: its Fmax holds the policy's harmonics of the fastest
+defect rate and its lines split every defect spacing; the record is as long as
+its resolution asks, and the raw spectrum averages over it.
 """
 
 from __future__ import annotations
@@ -14,10 +23,11 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from ..machine import Machine, Point
+from ..machine.kinematics import rates_at
 from .needs import Need, Requirements, hz_text, requirements
 from .policy import Policy
 from .settings import Settings
-from .targets import PURPOSE_TITLES
+from .targets import PURPOSE_TITLES, bearings_at
 
 
 @dataclass(frozen=True)
@@ -43,6 +53,23 @@ class Proposal:
     notes: tuple[str, ...]
     requirements: Requirements
     unmet: tuple[Need, ...] = ()     # needs no standard setting reaches (each has a note)
+    # the two spectra of a bearing point, each with its own lines (None for other purposes, whose one
+    # spectrum has ``lines``); ``lines`` then stands for the record the envelope's resolution needs
+    raw_lines: int | None = None
+    envelope_fmax_hz: float | None = None
+    envelope_lines: int | None = None
+
+    @property
+    def raw_resolution_hz(self) -> float:
+        """Line spacing of the raw spectrum, Fmax / its lines, Hz."""
+        return self.fmax_hz / (self.raw_lines or self.lines)
+
+    @property
+    def envelope_resolution_hz(self) -> float | None:
+        """Line spacing of the squared envelope spectrum, Hz (None when there is none)."""
+        if self.envelope_fmax_hz is None or self.envelope_lines is None:
+            return None
+        return self.envelope_fmax_hz / self.envelope_lines
 
     @property
     def title(self) -> str:
@@ -57,6 +84,44 @@ class Proposal:
     def settings(self) -> Settings:
         """The acquisition this proposal amounts to, as the checks and the proof take it."""
         return Settings(self.fmax_hz, self.lines, self.sample_rate_hz, self.waveform_s, f"proposed ({self.purpose})")
+
+
+def _standard_lines(wanted: float, policy: Policy) -> int:
+    """The fewest standard lines reaching ``wanted``, or the most there are."""
+    return next((n for n in policy.standard_lines if n >= wanted * (1 - 1e-9)), policy.standard_lines[-1])
+
+
+def _two_spectra(machine: Machine, point: Point, policy: Policy, speeds: dict, fmax: float,
+                 tight: Need | None, reasons: dict) -> tuple[int, float, int]:
+    """(raw lines, envelope Fmax, envelope lines) of a bearing point, with their reasons added to ``reasons``."""
+    shaft_hz, shaft = min((speeds[b.shaft], b.shaft) for b in bearings_at(machine, point))
+    per = policy.lines_between_harmonics
+    raw_lines = _standard_lines(fmax / (shaft_hz / per), policy)
+    reasons["raw lines"] = (f"resolution {fmax / raw_lines:.3g} Hz puts {shaft_hz / (fmax / raw_lines):.1f} lines "
+                            f"between the 1X harmonics of {shaft} ({shaft_hz:.2f} Hz, at least {per:g}): the raw "
+                            "spectrum shows the ringing band, the floor and the defect tones beside them; the defect "
+                            "rates are resolved in the envelope spectrum")
+    h = policy.harmonics["envelope"]
+    fastest = max(_defect_rates(machine, point, speeds))
+    env_fmax = _step_up(h * fastest, policy.fmax_steps_hz)
+    reasons["envelope Fmax"] = (f"{h} harmonics of the fastest defect rate ({fastest:.1f} Hz) need "
+                                f"{hz_text(h * fastest)} Hz" + ("; rounded up to the next step"
+                                                                if env_fmax > h * fastest * (1 + 1e-9) else ""))
+    if tight is None:
+        env_lines = policy.standard_lines[0]
+        reasons["envelope lines"] = "no spacing to split; the fewest standard lines"
+    else:
+        env_lines = _standard_lines(env_fmax / (tight.value / tight.lines), policy)
+        reasons["envelope lines"] = (f"resolution {env_fmax / env_lines:.3g} Hz puts "
+                                     f"{tight.value / (env_fmax / env_lines):.1f} lines across {tight.what} "
+                                     f"(at least {tight.lines:g})")
+    return raw_lines, env_fmax, env_lines
+
+
+def _defect_rates(machine: Machine, point: Point, speeds: dict) -> list[float]:
+    """Every defect impact rate (BPFO, BPFI, 2 x BSF) of the bearings at ``point``, Hz."""
+    every = rates_at(machine, speeds)
+    return [every.bearing(b.id).impact_rate_hz(d) for b in bearings_at(machine, point) for d in ("BPFI", "BPFO", "BSF")]
 
 
 def _step_up(value: float, steps) -> float:
@@ -108,6 +173,14 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
                      f"{tight.what} stays unresolved; take a zoom spectrum or a second reading at a lower Fmax")
         tight = min((n for n in by["resolution"] if n.value / n.lines >= fmax / lines * (1 - 1e-9)),
                     key=lambda n: n.value / n.lines, default=tight)
+    two: tuple[int | None, float | None, int | None] = (None, None, None)
+    spectra: dict = {}
+    if req.envelope_band_hz is not None:
+        # the record is the one the envelope spectrum's resolution needs; its lines at the raw Fmax
+        # stand for that record in the checks (the raw spectrum has its own, fewer, lines)
+        raw_lines, env_fmax, env_lines = _two_spectra(machine, point, policy, speeds, fmax, tight, spectra)
+        two = (raw_lines, env_fmax, env_lines)
+        lines = int(round(fmax * env_lines / env_fmax))
     resolution = fmax / lines
     record = lines / fmax
 
@@ -125,7 +198,8 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
                   f"{tight.what} (at least {tight.lines:g})" if tight is not None else
                   "no spacing to split for this purpose; the fewest standard lines"),
         "sample rate": f"{k:g} x Fmax ({src('sample_rate_per_fmax').split(' (')[0]})",
-        "record": f"lines / Fmax, one average; {slow} is the slowest shaft of interest",
+        "record": (f"envelope lines / envelope Fmax, one average; {slow} is the slowest shaft of interest"
+                   if spectra else f"lines / Fmax, one average; {slow} is the slowest shaft of interest"),
         "window": src("window"),
         "averages": (f"{averages} records with {overlap:g} % overlap take {acquisition:.3g} s "
                      f"({src('averages').split(' (')[0]})"),
@@ -139,8 +213,9 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
             f"from {policy.bearing_resonance_hz[0]:g} Hz or {policy.envelope_band_clearance:g} x the highest "
             f"machine line ({top_line[0]}, {top_line[1]:.0f} Hz), up to {band[1]:.0f} Hz where bearing impacts "
             f"ring; the kurtogram picks the band within")
+    reasons |= spectra
     proposal = Proposal(point.id, purpose, fmax, lines, fs, record, slow, record * speeds[slow], policy.window,
                         averages, overlap, acquisition, waveform, waveform * speeds[slow], band, reasons,
-                        tuple(notes), req)
+                        tuple(notes), req, (), *two)
     unmet = tuple(n for n in req.needs if not n.met_by(proposal.settings()))
     return replace(proposal, unmet=unmet)

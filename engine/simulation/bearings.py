@@ -18,6 +18,15 @@ from .signal import G, Part, Scene, impact_signal, impact_times, resonance_ring
 
 # impact size by stage: stage 1 is visible only in the envelope; stage 4 dominates the waveform
 IMPACT_G = {1: 0.06, 2: 0.4, 3: 1.5, 4: 5.0}
+# Stage 4: the damage has spread round the race, and the rolling elements run over rough metal all
+# the way: a dense train of small impacts at random instants rings the same resonance. That is a
+# raised broadband floor (the "haystack") in the band where bearings ring (each impact an
+# acceleration-like ring, which carries nothing down at the running-speed lines); against it the
+# spall's periodic impacts stand less clear and the waveform's kurtosis falls back towards 3, the
+# Gaussian value. The clearance has grown, so 1X and its harmonics rise. (Common practice: the
+# four-stage account of rolling-bearing wear.)
+SPREAD_IMPACTS_PER_PASS = 200    # random impacts per defect pass at stage 4
+SPREAD_SIZE = 0.16               # their RMS size, times the stage's impact size
 SHAFT_AWAY = 0.15    # at a point on the same shaft but another bearing
 MACHINE_AWAY = 0.03  # at a point on another shaft
 
@@ -41,7 +50,10 @@ def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | 
     x = impact_signal(times, amplitudes, s.fs, s.n, ring)
     if then is not None:
         x += then(rates)
-    if stage == 4:  # late stage: the noise floor rises and 1X harmonics appear
+    if stage == 4:  # late stage: damage spread round the race, the floor rises, 1X harmonics appear
+        spread = np.sort(s.rng.uniform(0, duration, s.rng.poisson(SPREAD_IMPACTS_PER_PASS * rate_hz * duration)))
+        rough = resonance_ring(s.fs, s.resonance_hz, damping=0.04, response="acceleration")
+        x += impact_signal(spread, SPREAD_SIZE * size * s.rng.standard_normal(len(spread)), s.fs, s.n, rough)
         x += 0.03 * G * s.rng.standard_normal(s.n)
         for k in range(1, 6):
             x += s.shaft_tone(rates.shaft, k, 0.4 / k, s.rng.uniform(0, 6.3))

@@ -175,3 +175,17 @@ def test_iso_band_follows_the_shaft_under_the_sensor():
                  and f["channel"] == "GOUTH")
     assert overall["GOUTH"]["velocity_band_lo_hz"] == 2.0 and overall["GINH"]["velocity_band_lo_hz"] == 10.0
     assert overall["GOUTH"]["velocity_rms_mm_s"] >= one_x["amplitude_mm_s"]
+
+
+def test_rms_frequency_is_the_frequency_of_a_tone_with_both_levels():
+    # handbook formula: for a sine, acceleration = 2 pi f x velocity (the derivative of a sine)
+    import math
+
+    from engine.common.units import STANDARD_GRAVITY_M_S2
+    from engine.evidence.levels import _rms_frequency_hz
+
+    for f_hz, v_mm_s in ((25.0, 4.0), (160.0, 0.5), (3000.0, 0.02)):
+        a_g = 2 * math.pi * f_hz * v_mm_s * 1e-3 / STANDARD_GRAVITY_M_S2
+        assert _rms_frequency_hz(a_g, v_mm_s) == pytest.approx(f_hz, rel=1e-9)
+        assert _rms_frequency_hz(1000 * a_g, 1000 * v_mm_s) == pytest.approx(f_hz, rel=1e-9)   # no scale moves it
+    assert _rms_frequency_hz(0.1, 0.0) == 0.0

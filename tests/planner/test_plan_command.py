@@ -135,3 +135,58 @@ def test_help_does_not_import_the_planner():
             "print(any(m in sys.modules for m in ('scipy', 'engine.planner')))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True)
     assert out.stdout.strip() == "False"
+
+
+def test_a_bearing_point_gets_raw_and_envelope_settings_each_with_its_own_lines(tmp_path, capsys):
+    # issue 24: one line count for both spectra asked 6,400 to 51,200 lines at a bearing point
+    from engine.machine.kinematics import rates_at
+    from engine.planner import propose
+
+    machine, policy = load_machine(RW2), load_policy()
+    p = propose(machine, machine.point("M1H"), "bearing", policy)
+    shaft_hz = machine.shaft_speeds_hz["motor"]
+    # the raw spectrum splits the 1X harmonics by the policy's lines, with the fewest standard lines
+    assert p.raw_resolution_hz <= shaft_hz / policy.lines_between_harmonics
+    smaller = [n for n in policy.standard_lines if n < p.raw_lines]
+    assert not smaller or p.fmax_hz / smaller[-1] > shaft_hz / policy.lines_between_harmonics
+    assert p.raw_lines <= 3200 < 6400
+    # the envelope spectrum holds the policy's harmonics of the fastest defect rate at the point
+    fastest = max(rates_at(machine, machine.shaft_speeds_hz).bearing("motor_nde").impact_rate_hz(d)
+                  for d in ("BPFO", "BPFI", "BSF"))
+    assert policy.harmonics["envelope"] * fastest <= p.envelope_fmax_hz < p.envelope_band_hz[1] - p.envelope_band_hz[0]
+    # and splits the tightest spacing the bearing needs (BPFO of motor_nde beside 3X) by its lines
+    tight = min((n for n in p.requirements.needs if n.setting == "resolution"), key=lambda n: n.value / n.lines)
+    assert p.envelope_resolution_hz <= tight.value / tight.lines
+    assert p.envelope_lines <= 3200
+    # every format shows both
+    for fmt in ("text", "md", "html"):
+        target = tmp_path / f"plan.{fmt}"
+        assert main(["plan", str(RW2), "--point", "M1H", "--no-proof", "--format", fmt, "-o", str(target)]) == 0
+        out = target.read_text(encoding="utf-8")
+        assert "raw lines" in out and "envelope lines" in out and "envelope Fmax" in out, fmt
+        assert f"{p.raw_lines}, resolution" in out and f"{p.envelope_lines}, resolution" in out, fmt
+    capsys.readouterr()
+    assert main(["plan", str(RW2), "--point", "M1H", "--no-proof", "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    bearing = next(g for g in doc["proposals"] if g["purpose"] == "bearing")
+    assert (bearing["raw_lines"], bearing["envelope_lines"], bearing["envelope_fmax_hz"]) == (
+        p.raw_lines, p.envelope_lines, p.envelope_fmax_hz)
+    other = next(g for g in doc["proposals"] if g["purpose"] != "bearing")
+    assert other["raw_lines"] is None and other["envelope_lines"] is None
+
+
+def test_the_plan_names_the_policy_file_never_its_installed_path(tmp_path, capsys, monkeypatch):
+    # issue 24: the plan printed the site-packages path of the shipped policy (from outside the project:
+    # inside it the path relative to the working folder happened to read well)
+    monkeypatch.chdir(tmp_path)
+    assert main(["plan", str(RW2), "--point", "M1H", "--no-proof"]) == 0
+    out = capsys.readouterr().out
+    line = next(x for x in out.splitlines() if x.startswith("policy:"))
+    assert line.startswith("policy: rulebooks/planner/acquisition.yaml (")
+    assert str(ROOT) not in line and "site-packages" not in line
+    # a user's own file: the name the user gave, from wherever the command runs
+    own = tmp_path / "site" / "our-policy.yaml"
+    own.parent.mkdir()
+    own.write_text((ROOT / "rulebooks" / "planner" / "acquisition.yaml").read_text(encoding="utf-8"), encoding="utf-8")
+    assert main(["plan", str(RW2), "--point", "M1H", "--no-proof", "--policy", "site/our-policy.yaml"]) == 0
+    assert "policy: site/our-policy.yaml " in capsys.readouterr().out

@@ -42,7 +42,13 @@ def test_every_proposal_passes_its_own_checks(path):
             assert not p.unmet or p.notes
             assert all(reason and "\n" not in reason for reason in p.reasons.values())
             assert p.sample_rate_hz == pytest.approx(POLICY.sample_rate_per_fmax * p.fmax_hz)
-            assert p.lines in POLICY.standard_lines and p.fmax_hz in POLICY.fmax_steps_hz
+            assert p.fmax_hz in POLICY.fmax_steps_hz
+            if purpose == "bearing":   # two spectra, each with standard lines; the record is the envelope's
+                assert p.raw_lines in POLICY.standard_lines and p.envelope_lines in POLICY.standard_lines
+                assert p.envelope_fmax_hz in POLICY.fmax_steps_hz
+                assert p.record_s == pytest.approx(p.envelope_lines / p.envelope_fmax_hz)
+            else:
+                assert p.lines in POLICY.standard_lines and p.raw_lines is None
 
 
 def _proposal(machine, point, purpose):
@@ -161,7 +167,9 @@ def test_settings_that_cover_every_proposal_show_everything():
     proposals = [propose(RW2, p, u, POLICY) for p in RW2.points for u in purposes_at(RW2, p)]
     fmax = max(p.fmax_hz for p in proposals)
     duration = max(p.waveform_s for p in proposals)
-    lines = max(p.lines for p in proposals)
+    # the finest resolution any proposal asks, at the highest Fmax (a bearing proposal's raw spectrum has
+    # fewer lines than its record holds: the record is what the envelope's resolution needs)
+    lines = max(round(fmax / p.resolution_hz) for p in proposals)
     s = given_settings(POLICY, fmax_hz=fmax, lines=lines, duration_s=max(duration, lines / fmax))
     # limits no setting can lift (two rates sharing lines: the bearings' geometry) are left out
     lims = [lim for lim in check(RW2, s, POLICY) if lim.effect != "view" and lim.setting != "twin"]

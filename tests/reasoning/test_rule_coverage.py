@@ -135,7 +135,7 @@ SIMULATED = [
     ("cage at stage 2", "bw1", _fault("bw1", "cage", stage=2), "bearing.defect.cage-harmonics"),
     ("outer race", "bw1", _fault("bw1", "outer-race"), "bearing.defect.outranked"),
     ("vane pass", "bw1", _fault("bw1", "vane-pass"), "rotor.vane-pass.high"),
-    ("vane pass, seed 2", "bw1", _fault("bw1", "vane-pass", seed=2), "bearing.stage.broadband"),
+    ("outer race at stage 4", "bw1", _fault("bw1", "outer-race", stage=4), "bearing.stage.broadband"),
     ("rotating looseness", "ct1", _fault("ct1", "looseness-rotating"), "gear.eccentricity.raised-1x"),
     ("speed stated 3 % high", "ct1", _stated_speed("ct1", "unbalance", 2, 2, 1.03),
      "reading.speed.differs-from-stated"),
