@@ -7,13 +7,14 @@ from pathlib import Path
 
 
 def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: dict, site=(), taken_at=None,
-                       plots: bool = False):
+                       plots: bool = False, units=None):
     """Diagnose ``reading`` beside the machine's stored history, then store it.
 
     ``files`` are the reading's files, ``how`` the options it was read with (unit, speed, sample rate,
     scale, point, direction, channels): with the files, the machine and the rulebooks (``site``) they make
     the key that tells a reading already stored. ``taken_at`` is a stated time, else the file's own.
-    Returns (Diagnosis, report document with a ``trend`` section when a history exists).
+    Returns (Diagnosis, report document with a ``trend`` section when a history exists), the document
+    in ``units`` (``ShownUnits``; the store keeps the one in Hz and mm/s RMS).
     """
     from ..advice import load_advice, zone_scale
     from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
@@ -43,4 +44,6 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
                            reasoning=d.reasoning, spectra=d.spectra,
                            forcing=d.forcing)
         store.add(record, replace=True)
+    if units is not None and not units.default:
+        doc = document_of(d, made_at=doc["made_at"], units=units) | ({"trend": doc["trend"]} if "trend" in doc else {})
     return d, doc

@@ -13,6 +13,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..analysis.plotdata import PlotData, PlotSet
+from ..common.units import ShownUnits
 from ..evidence import Evidence
 from ..machine import Machine
 from ..reasoning import Reasoning
@@ -76,14 +77,28 @@ def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
     return out
 
 
-def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: Machine) -> list[tuple[str, str]]:
+def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: Machine,
+            units: ShownUnits | None = None) -> list[tuple[str, str]]:
     """(title, SVG) of each figure of the view the report shows: waveform, revolutions, spectrum,
-    squared envelope spectrum."""
-    return draw(shown(plots, reasoning, evidence, machine), evidence)
+    squared envelope spectrum; frequencies and velocities in ``units`` (default Hz, mm/s RMS)."""
+    return draw(shown(plots, reasoning, evidence, machine), evidence, units)
 
 
-def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
+def _axes(pd: PlotData, units: ShownUnits | None) -> tuple[float, str, float, str]:
+    """The factor from Hz to the frequency axis and its label; from mm/s RMS to the velocity axis
+    (a spectrum's lines: peak is sqrt(2) x RMS) and its label."""
+    units = units or ShownUnits()
+    fx = units.frequency_value(1.0, pd.shaft_hz)
+    if fx is None:                  # orders, but no speed of the shaft in view: stay in Hz
+        fx, fname = 1.0, "Hz"
+    else:
+        fname = {"hz": "Hz", "cpm": "CPM", "orders": f"orders of {pd.shaft}"}[units.frequency]
+    return fx, f"frequency, {fname}", units.velocity_value(1.0, line=True), f"velocity, {units.velocity_label(True)}"
+
+
+def draw(pd: PlotData, evidence: Evidence, units: ShownUnits | None = None) -> list[tuple[str, str]]:
     """(title, SVG) of each figure of one view."""
+    fx, xlabel, vy, ylabel = _axes(pd, units)
     out = []
     # a channel whose scale is not trusted is drawn as stated, and its level axes say so
     stated = " as stated (scale not trusted)" if pd.channel in {lv.channel for lv in evidence.scale_doubted} else ""
@@ -99,24 +114,27 @@ def draw(pd: PlotData, evidence: Evidence) -> list[tuple[str, str]]:
         out.append((title, svg.render(svg.Plot(title, f"angle of {pd.shaft}, degrees", "acceleration, one row per turn",
                                                series, xlim=(0.0, 360.0), ytick_labels=ticks,
                                                height=60 + 30 * len(rows)))))
-    marks = [svg.Mark(m.freq_hz, m.label) for m in pd.spectrum_marks]
+    marks = [svg.Mark(m.freq_hz * fx, m.label) for m in pd.spectrum_marks]
     title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz:.3g} Hz resolution, Hann)"
     top = float(np.max(pd.spectrum_mm_s)) * 1.1 if len(pd.spectrum_mm_s) else 1.0
-    out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "velocity, mm/s RMS" + stated,
-                                           [svg.Series(pd.spectrum_hz, pd.spectrum_mm_s)], marks,
-                                           xlim=(0.0, float(pd.spectrum_hz[-1])), ylim=(0.0, top), height=260))))
+    out.append((title, svg.render(svg.Plot(title, xlabel, ylabel + stated,
+                                           [svg.Series(pd.spectrum_hz * fx, pd.spectrum_mm_s * vy)], marks,
+                                           xlim=(0.0, float(pd.spectrum_hz[-1]) * fx), ylim=(0.0, top * vy),
+                                           height=260))))
     # the envelope, its frequencies and its band are there together (plotdata._envelope), or none of them
     if pd.envelope is not None and pd.envelope_hz is not None and pd.envelope_band_hz is not None:
         matched = _matched_harmonics(evidence, pd)
         marks = matched + [svg.Mark(m.freq_hz, m.label) for m in pd.envelope_marks
                            if not any(abs(m.freq_hz - x.x) < 1e-6 for x in matched)]
+        marks = [svg.Mark(m.x * fx, m.label, strong=m.strong) for m in marks]
         lo, hi = pd.envelope_band_hz
         # the envelope of a prewhitened signal has no physical unit: show it against its own median
         median = float(np.median(pd.envelope)) if len(pd.envelope) else 0.0
         relative = pd.envelope / median if median > 0 else pd.envelope
         top = float(np.max(relative)) * 1.1 if len(relative) else 1.0
         title = f"Squared envelope spectrum, {pd.channel}, band {lo:.0f}-{hi:.0f} Hz"
-        out.append((title, svg.render(svg.Plot(title, "frequency, Hz", "squared envelope, times its median",
-                                               [svg.Series(pd.envelope_hz, relative)], marks,
-                                               xlim=(0.0, float(pd.envelope_hz[-1])), ylim=(0.0, top), height=260))))
+        out.append((title, svg.render(svg.Plot(title, xlabel, "squared envelope, times its median",
+                                               [svg.Series(pd.envelope_hz * fx, relative)], marks,
+                                               xlim=(0.0, float(pd.envelope_hz[-1]) * fx), ylim=(0.0, top),
+                                               height=260))))
     return out
