@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._common import add_alarms_option, add_max_samples_option, add_site_option
+from ._common import add_alarms_option, add_max_samples_option, add_site_option, add_units_options
 from ._store import add_store_option
 
 
@@ -23,6 +23,7 @@ def register(sub) -> None:
     add_max_samples_option(p)
     add_site_option(p)
     add_alarms_option(p)
+    add_units_options(p)
     p.set_defaults(run=run)
 
 
@@ -62,7 +63,8 @@ def run(args) -> int:
             outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,
                                 again=args.again, fmt=args.format, plots=args.plots, site=args.site or (),
                                 progress=not args.quiet and sys.stderr.isatty(), inputs=inputs,
-                                max_samples=args.max_samples, alarms=args.alarms or ())
+                                max_samples=args.max_samples, alarms=args.alarms or (),
+                                units={"frequency": args.frequency_unit, "velocity": args.velocity_unit})
         except KeyboardInterrupt:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)
