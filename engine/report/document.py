@@ -243,7 +243,7 @@ def _alarms(alarms, units: ShownUnits | None = None) -> dict:
     if units is not None and units.velocity.startswith("in/s"):
         for a in rows:
             if a["unit"] == "mm/s RMS":
-                a.update({k: None if a[k] is None else round(units.velocity_value(a[k], line=False), 6)
+                a.update({k: None if a[k] is None else float(f"{units.velocity_value(a[k], line=False):.4g}")
                           for k in ("value", "alert", "danger")}, unit=units.velocity_label(line=False))
     return {"crossed": sum(a["state"] in ("alert", "danger") for a in rows),
             "danger": sum(a["state"] == "danger" for a in rows), "results": rows}
