@@ -39,7 +39,7 @@ def run(args) -> int:
     from ..route import load_folder, load_route, route_summary, run_route, summary_paths
     from ..route.runner import check_outputs, trend_paths
     from ..trend import trend_document
-    from ._common import input_files, site_alarms
+    from ._common import input_files, rulebook, shown_units, site_alarms
     from ._store import open_store
 
     if args.workers is not None and args.workers < 1:
@@ -69,7 +69,8 @@ def run(args) -> int:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)
             return 130
-        doc = route_summary(outcome, store, out, alarms=args.alarms or ())
+        doc = route_summary(outcome, store, out, alarms=args.alarms or (),
+                            units=shown_units(args, rulebook(args).units if args.site else None))
         pages = trend_paths(route, out)
         for m in doc["machines"]:        # each machine's trend page, which the summary links to
             if m["machine"] in pages:

@@ -48,3 +48,27 @@ def test_reports_follow_the_units_and_the_store_keeps_mm_s(route, capsys):
     with Store(store, create=False) as s:
         (row,) = s.history("RW-2 raw water pump", "P1H")
     assert row["indicators"]["velocity_rms_mm_s"] == pytest.approx(point["velocity_rms_mm_s"], rel=1e-3)
+
+
+def test_the_summary_shows_the_change_since_the_last_survey_in_the_chosen_unit(route, capsys):
+    base, site = route
+    machine = CASES / "machines" / "rw2-raw-water-pump.yaml"
+    store = base / "two.sqlite"
+    for month, seed in ((3, 5), (4, 6)):
+        sim = simulate(load_machine(machine), "unbalance", "pump", 3, fs_hz=12800.0, duration_s=1.0, seed=seed,
+                       points=["P1H"])
+        write_simulation(sim, base / f"m{month}.wav")
+        (base / f"m{month}.yaml").write_text(yaml.safe_dump({
+            "route": f"month {month}", "machines": {"m": str(machine)},
+            "readings": [{"file": f"m{month}.wav", "machine": "m", "time": f"2026-0{month}-01T08:00:00"}]}))
+        out = base / f"out{month}"
+        assert main(["route", str(base / f"m{month}.yaml"), "--store", str(store), "--out", str(out),
+                     "--format", "text", "--workers", "1", "--quiet", "--velocity-unit", "in/s-peak"]) == 0
+    capsys.readouterr()
+    summary = json.loads((out / "summary.json").read_text())
+    (m,) = summary["machines"]
+    change = m["change"]
+    # the overall velocity is broadband: RMS in inches (1 in = 25.4 mm exactly), never sqrt(2) x RMS
+    assert float(change["shown"]["now"]) == pytest.approx(change["now_mm_s"] / 25.4, rel=0.01)
+    text = (out / "summary.txt").read_text()
+    assert f"{change['shown']['then']} -> {change['shown']['now']} in/s RMS" in text
