@@ -15,6 +15,7 @@ from datetime import datetime
 from .. import __version__
 from ..advice import Advice, Recommendation
 from ..analysis.plotdata import PlotSet
+from ..common.errors import MachineError
 from ..common.units import ShownUnits, format_quantity
 from ..evidence import Evidence
 from ..evidence.vocabulary import BROADBAND_VELOCITY_FIELDS
@@ -266,8 +267,12 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
     units = units or ShownUnits()
     speed = evidence.speed or {}
-    shafts_hz = (machine.speeds_at(speed["measured_rpm"], speed.get("shaft")) if speed.get("measured_rpm")
-                 else dict(machine.shaft_speeds_hz))
+    shafts_hz = dict(machine.shaft_speeds_hz)       # nominal, unless the analysis used another speed
+    if speed.get("measured_rpm"):
+        try:
+            shafts_hz = machine.speeds_at(speed["measured_rpm"], speed.get("shaft"))
+        except MachineError:        # a speed the machine file cannot take: orders of the nominal speeds
+            pass
     worded = _Shown(units, shafts_hz, speed.get("shaft") or machine.driver_shaft)
     figures = []
     if plots is not None:
