@@ -167,3 +167,24 @@ def test_a_trend_shows_velocity_indicators_in_the_chosen_unit():
     assert "in/s RMS" in text and "mm/s" not in text.split("indicator")[0].split("baseline:")[0]
     with pytest.raises(ValueError):
         trend_in_units(doc, ShownUnits("hz", "in/s-rms"))      # never converted twice
+
+
+def test_evidence_shows_frequencies_and_velocities_in_the_chosen_units(tmp_path, capsys):
+    reading = tmp_path / "r.wav"
+    machine = CASES / "machines" / "rw2-raw-water-pump.yaml"
+    assert main(["synth", str(machine), "-o", str(reading), "--fault", "unbalance", "--component", "pump",
+                 "--stage", "3", "--seed", "4", "--duration", "1", "--points", "P1H"]) == 0
+    capsys.readouterr()
+    assert main(["evidence", str(reading), "--machine", str(machine), "--json"]) == 0
+    facts = json.loads(capsys.readouterr().out)
+    assert main(["evidence", str(reading), "--machine", str(machine), "--frequency-unit", "cpm",
+                 "--velocity-unit", "in/s-peak"]) == 0
+    lines = [line for line in capsys.readouterr().out.splitlines() if line.startswith("tone ")]
+    tones = [f for f in facts if f["kind"] == "tone"]
+    assert len(lines) == len(tones) >= 1
+    for line, fact in zip(lines, tones, strict=True):
+        cpm = float(re.search(r"\bfreq=([0-9.]+) CPM", line).group(1))
+        peak = float(re.search(r"\bamplitude=([0-9.]+) in/s peak", line).group(1))
+        assert cpm == pytest.approx(60 * fact["freq_hz"], rel=0.01)                 # 1 Hz = 60 CPM
+        # a line: sqrt(2) x RMS (a sine), 1 in = 25.4 mm exactly
+        assert peak == pytest.approx(2 ** 0.5 * fact["amplitude_mm_s"] / 25.4, rel=0.01, abs=6e-6)
