@@ -266,6 +266,27 @@ def say(text: str = "") -> None:
     print(terminal(text))
 
 
+def add_units_options(p, site: bool = True) -> None:
+    """Add ``--frequency-unit`` and ``--velocity-unit``: the units the output shows (over a site's ``units:``)."""
+    from ..common.units import FREQUENCY_UNITS, VELOCITY_UNITS
+
+    over = "; over the --site units: section" if site else ""
+    p.add_argument("--frequency-unit", choices=list(FREQUENCY_UNITS), type=str.lower,
+                   help=f"show frequencies in Hz, cycles per minute, or orders of the shaft under the sensor "
+                        f"(default hz{over})")
+    p.add_argument("--velocity-unit", choices=list(VELOCITY_UNITS), type=str.lower,
+                   help="show velocities in mm/s or in/s, RMS or peak (peak = 1.414 x RMS, for single spectral "
+                        f"lines; broadband levels stay RMS) (default mm/s-rms{over})")
+
+
+def shown_units(args, base=None):
+    """The units the output shows: ``base`` (a site's ``units:``, else Hz and mm/s RMS) with the
+    command's ``--frequency-unit`` and ``--velocity-unit`` over it."""
+    from ..common.units import shown_units as units
+
+    return units(getattr(args, "frequency_unit", None), getattr(args, "velocity_unit", None), base=base)
+
+
 def rulebook(args):
     """The shipped rulebooks with the ``--site`` overlays of ``args``."""
     from ..reasoning import load_rulebook

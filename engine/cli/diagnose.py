@@ -10,11 +10,13 @@ from ._common import (
     add_reading_options,
     add_readings_argument,
     add_site_option,
+    add_units_options,
     input_files,
     load_readings,
     output_target,
     rulebook,
     say,
+    shown_units,
 )
 
 
@@ -30,6 +32,7 @@ def register(sub) -> None:
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
                                           "READING.report.html or .md for HTML and Markdown)")
     add_reading_options(p)
+    add_units_options(p)
     p.add_argument("--channels", help="comma-separated channel names, point ids or name endings to keep "
                                       "(default: every channel)")
     p.add_argument("--plots", metavar="CHANNEL,...",
@@ -62,7 +65,9 @@ def run(args) -> int:
     from ..machine.alarms import with_site_alarms
 
     machine = with_site_alarms(load_machine(args.machine), args.alarms or ())
-    reasoner = Reasoner(rulebook(args))
+    rules = rulebook(args)
+    reasoner = Reasoner(rules)
+    units = shown_units(args, rules.units)
     reading = load_readings(args)
     plot_channels = _plot_channels(args, reading)
     if args.store is not None:
@@ -73,10 +78,10 @@ def run(args) -> int:
                "alarms": content_hash(args.alarms) if args.alarms else None}   # other limits: another diagnosis
         d, doc = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store, how=how,
                                     site=args.site, taken_at=args.taken_at, plots=fmt == "html",
-                                    plot_channels=plot_channels)
+                                    plot_channels=plot_channels, units=units)
     else:
         d = diagnose(reading, machine, reasoner, plots=fmt == "html", taken=taken)
-        doc = document_of(d, plot_channels=plot_channels)
+        doc = document_of(d, plot_channels=plot_channels, units=units)
     text = render(doc, fmt)
     if output is None:
         sys.stdout.write(text)

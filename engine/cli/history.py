@@ -34,6 +34,7 @@ def reading_id(text: str) -> int:
 
 def run(args) -> int:
     """List the store's machines or readings, or forget one; the exit code."""
+    from ..advice import load_advice
     from ..common.errors import UsageError
     from ..common.escape import one_line as v
     from ..common.jsonout import dumps
@@ -69,16 +70,19 @@ def run(args) -> int:
         if not rows:
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
+        labels = {u["id"]: u["label"] for u in load_advice()["urgency"]}   # as every other output words them
+        for r in rows:
+            r["urgency_label"] = labels.get(r["urgency"], r["urgency"])
         if args.json:
             print(dumps(rows))
             return 0
         print(f"{v(args.machine)}: {len(rows)} stored reading(s) in {v(store.path)}")
-        print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<10} top diagnosis")
+        print(f"{'id':>5}  {'taken at':<26} {'points':<14} {'zone':<4} {'urgency':<16} top diagnosis")
         for r in rows:
             certainty = "—" if r["top_certainty"] is None else f"{100 * max(r['top_certainty'], 0):.0f} %"
             top = f"{v(r['top_fault_name'])} on {v(r['top_component'])} {certainty}" if r["top_fault"] else "-"
             print(f"{r['id']:>5}  {v(r['taken_at']):<26} {v(','.join(r['points']))[:14]:<14} "
-                  f"{v(r['worst_zone'] or '-'):<4} {v(r['urgency'] or '-'):<10} {top}")
+                  f"{v(r['worst_zone'] or '-'):<4} {v(r['urgency_label'] or '-'):<16} {top}")
             for f in r["findings"]:
                 stage = "" if f["stage"] is None else f", stage {f['stage']}"
                 more = "".join(f"; {v(x)}" for x in (f["work_order"], f["notes"]) if x)

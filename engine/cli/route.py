@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._common import add_alarms_option, add_max_samples_option, add_site_option
+from ._common import add_alarms_option, add_max_samples_option, add_site_option, add_units_options
 from ._store import add_store_option
 
 
@@ -25,6 +25,7 @@ def register(sub) -> None:
     add_max_samples_option(p)
     add_site_option(p)
     add_alarms_option(p)
+    add_units_options(p)
     p.set_defaults(run=run)
 
 
@@ -40,7 +41,7 @@ def run(args) -> int:
     from ..route import load_folder, load_route, route_summary, run_route, summary_paths
     from ..route.runner import check_outputs, trend_paths
     from ..trend import trend_document
-    from ._common import input_files, site_alarms
+    from ._common import input_files, rulebook, shown_units, site_alarms
     from ._store import open_store
 
     if args.workers is not None and args.workers < 1:
@@ -64,12 +65,14 @@ def run(args) -> int:
             outcome = run_route(route, store, out, workers=args.workers, scheduler=args.scheduler,
                                 again=args.again, fmt=args.format, plots=args.plots, site=args.site or (),
                                 progress=not args.quiet and sys.stderr.isatty(), inputs=inputs,
-                                max_samples=args.max_samples, alarms=args.alarms or ())
+                                max_samples=args.max_samples, alarms=args.alarms or (),
+                                units={"frequency": args.frequency_unit, "velocity": args.velocity_unit})
         except KeyboardInterrupt:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)
             return 130
-        doc = route_summary(outcome, store, out, alarms=args.alarms or ())
+        doc = route_summary(outcome, store, out, alarms=args.alarms or (),
+                            units=shown_units(args, rulebook(args).units if args.site else None))
         pages = trend_paths(route, out)
         for m in doc["machines"]:        # each machine's trend page, which the summary links to
             if m["machine"] in pages:

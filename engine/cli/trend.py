@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from ._common import add_site_option, add_units_options
 from ._store import add_store_option
 
 
@@ -19,6 +20,8 @@ def register(sub) -> None:
                    help="add the spectra of two stored readings overlaid, and the lines that changed most "
                         "(ids as `tellwave history` lists them)")
     add_store_option(p)
+    add_units_options(p)
+    add_site_option(p)
     p.add_argument("--format", choices=["text", "md", "html", "json"], default="text",
                    help="output format (default text; html has the plots)")
     p.add_argument("-o", "--output", help="file to write (default: the terminal; MACHINE.trend.html for HTML)")
@@ -55,6 +58,7 @@ def run(args) -> int:
     from ..route.runner import slug
     from ..trend import trend_document
     from ..trend.waterfall import parse_compare
+    from . import _common
     from ._common import output_target
     from ._store import open_store
 
@@ -70,6 +74,11 @@ def run(args) -> int:
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
         doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html",
                              waterfall=args.waterfall, compare=compare)
+    units = _common.shown_units(args, _common.rulebook(args).units if args.site else None)
+    if not units.default:
+        from ..trend.shown import trend_in_units
+
+        trend_in_units(doc, units)
     if not doc["points"]:
         raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
     text = render(doc, args.format, "trend")

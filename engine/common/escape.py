@@ -9,8 +9,10 @@ Each output format gets its own escape:
   are shown as ``\\x1b``-style codes instead of acting on the terminal.
 - ``markdown``: the characters Markdown and GitHub tables give meaning to
   (``|`` ends a table cell, ``<`` starts raw HTML, ``*``, ``_``, backquotes and
-  brackets start emphasis, code and links) are escaped, so a name reads as
-  written; line breaks become spaces so one value cannot start a new block.
+  brackets start emphasis, code and links, ``&`` before ``name;`` an entity) are
+  escaped with a backslash, never as HTML entities, so a name reads as written both
+  rendered and as plain text ("Randall & Antoni"); line breaks become spaces so one
+  value cannot start a new block.
 - ``html``: Jinja autoescapes ``<``, ``>``, ``&`` and quotes; ``html_value`` first
   shows control characters as codes (a page saved and shown with ``cat`` acts on
   the terminal too). ``css_string`` quotes a value for the print style sheet.
@@ -39,6 +41,7 @@ import markupsafe
 _CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069]")
 _MARKDOWN_PUNCT = re.compile(r"([\\`*_{}\[\]|~#!])")
 _LINE_BREAKS = re.compile(r"[\r\n\u2028\u2029]+")
+_ENTITY = re.compile(r"&(?=#[0-9]{1,7};|#[xX][0-9a-fA-F]{1,6};|[A-Za-z][A-Za-z0-9]{0,31};)")   # a character reference
 
 
 class Verbatim(str):
@@ -66,8 +69,13 @@ def markdown(text) -> str:
     if isinstance(text, Verbatim):
         return text
     s = terminal(_LINE_BREAKS.sub(" ", str(text))).replace("\t", " ")
-    s = s.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     s = _MARKDOWN_PUNCT.sub(r"\\\1", s)
+    # backslash escapes, not HTML entities: Markdown is read as text too, and "Randall &amp; Antoni"
+    # reads wrong there. CommonMark lets a backslash escape any ASCII punctuation: "\<" cannot open raw
+    # HTML or an autolink, "\>" a block quote, and "\&" only where "&" would start an entity
+    # ("&lt;", "&#60;"); a plain "&" is left as written.
+    s = s.replace("<", "\\<").replace(">", "\\>")
+    s = _ENTITY.sub(r"\\&", s)
     # a value that starts like a list item (bullet or number) or a setext underline must not become one
     s = re.sub(r"^([-+=])(?=\s|$)", r"\\\1", s)
     return re.sub(r"^(\d{1,9})([.)])(?=\s|$)", r"\1\\\2", s)

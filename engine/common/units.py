@@ -5,8 +5,14 @@ quantity (acceleration, velocity or displacement) and has a factor to that
 quantity's SI base (m/s^2, m/s, m). Inside the engine a channel's samples are
 always in the SI base of its quantity; units are only for the edges.
 
+The second half is the units a report is *shown* in (``ShownUnits``): frequencies in Hz, CPM or
+orders of the shaft under the sensor, velocities in mm/s or in/s, RMS or peak. The engine keeps
+computing in Hz and mm/s RMS (units in names); only the words and numbers of a report change.
+
 References: standard acceleration of gravity g_n = 9.80665 m/s^2 (CGPM 1901);
-1 in = 25.4 mm exactly (international yard and pound agreement, 1959).
+1 in = 25.4 mm exactly (international yard and pound agreement, 1959); 1 Hz = 60 cycles per
+minute (CPM) by the definition of the minute; the peak of a sine is sqrt(2) times its RMS, so
+peak = sqrt(2) x RMS holds for one spectral line (a sine), never for a broadband overall level.
 """
 
 from __future__ import annotations
@@ -19,6 +25,8 @@ from .errors import UsageError
 
 STANDARD_GRAVITY_M_S2 = 9.80665
 INCH_M = 0.0254
+CPM_PER_HZ = 60.0                       # cycles per minute in one cycle per second
+PEAK_PER_RMS_SINE = float(np.sqrt(2.0))   # a sine's peak over its RMS; for one spectral line only
 
 
 @dataclass(frozen=True)
@@ -155,3 +163,123 @@ def _digits(value: float) -> str:
         return f"{value:.2f}"
     decimals = min(12, 2 - int(np.floor(np.log10(size))))
     return f"{value:.{decimals}f}"
+
+
+# ---------------------------------------------------------------- units a report is shown in
+
+# name a user gives -> the words a report prints
+FREQUENCY_UNITS = {"hz": "Hz", "cpm": "CPM", "orders": "X"}
+VELOCITY_UNITS = {"mm/s-rms": ("mm/s", "RMS"), "mm/s-peak": ("mm/s", "peak"),
+                  "in/s-rms": ("in/s", "RMS"), "in/s-peak": ("in/s", "peak")}
+
+
+def hz_to_cpm(hz: float) -> float:
+    """Hz -> cycles per minute."""
+    return hz * CPM_PER_HZ
+
+
+def hz_to_orders(hz: float, shaft_hz: float) -> float:
+    """Hz -> orders of a shaft turning at ``shaft_hz`` (1X is the shaft's own speed)."""
+    return hz / shaft_hz
+
+
+def rms_to_peak_of_sine(rms: float) -> float:
+    """A sine's RMS -> its peak (sqrt(2) x RMS): true of one spectral line, not of a broadband level."""
+    return rms * PEAK_PER_RMS_SINE
+
+
+def mm_to_in(mm: float) -> float:
+    """Millimetres (or mm/s) -> inches (or in/s): 1 in = 25.4 mm exactly."""
+    return mm / (INCH_M * 1e3)
+
+
+@dataclass(frozen=True)
+class ShownUnits:
+    """The units a report shows frequencies and velocities in: ``frequency`` one of
+    ``FREQUENCY_UNITS`` (orders of the shaft under the sensor), ``velocity`` one of
+    ``VELOCITY_UNITS``. A broadband level (the ISO 20816-3 overall) stays RMS whichever is chosen:
+    sqrt(2) x RMS is the peak of a sine only."""
+    frequency: str = "hz"
+    velocity: str = "mm/s-rms"
+
+    @property
+    def default(self) -> bool:
+        """Whether these are the engine's own units (Hz, mm/s RMS): nothing to convert."""
+        return (self.frequency, self.velocity) == ("hz", "mm/s-rms")
+
+    def velocity_label(self, line: bool = True) -> str:
+        """'in/s peak' for a line; for a broadband level the same length unit, RMS."""
+        length, kind = VELOCITY_UNITS[self.velocity]
+        return f"{length} {kind if line else 'RMS'}"
+
+    def frequency_label(self) -> str:
+        """'Hz', 'CPM' or 'orders'."""
+        return "orders" if self.frequency == "orders" else FREQUENCY_UNITS[self.frequency]
+
+    def velocity_value(self, mm_s_rms: float, line: bool = True) -> float:
+        """A velocity in mm/s RMS in the chosen unit: a line's peak is sqrt(2) x RMS (a sine);
+        a broadband level (``line=False``) changes only its length unit."""
+        length, kind = VELOCITY_UNITS[self.velocity]
+        v = mm_to_in(mm_s_rms) if length == "in/s" else mm_s_rms
+        return rms_to_peak_of_sine(v) if kind == "peak" and line else v
+
+    def frequency_value(self, hz: float, shaft_hz: float | None) -> float | None:
+        """A frequency in Hz in the chosen unit; None for orders without a shaft speed."""
+        if self.frequency == "cpm":
+            return hz_to_cpm(hz)
+        if self.frequency == "orders":
+            return None if not shaft_hz else hz_to_orders(hz, shaft_hz)
+        return hz
+
+    def velocity_text(self, mm_s_rms: float | None, line: bool = True) -> str:
+        """A velocity as a report words it: three significant digits (two decimals for mm/s), its unit."""
+        if mm_s_rms is None:
+            return "level unknown"
+        v = self.velocity_value(mm_s_rms, line)
+        digits = f"{v:.2f}" if VELOCITY_UNITS[self.velocity][0] == "mm/s" else _digits(v)
+        return f"{digits} {self.velocity_label(line)}"
+
+    def frequency_text(self, hz: float | None, shaft_hz: float | None = None) -> str:
+        """A frequency as a report words it: '1480 CPM', '3.57X' (orders), or Hz when no shaft speed
+        is known for orders."""
+        if hz is None:
+            return "none"
+        v = self.frequency_value(hz, shaft_hz)
+        if v is None:
+            return f"{_digits(hz)} Hz"
+        if self.frequency == "orders":
+            return f"{_digits(v)}X"
+        return f"{_digits(v)} {FREQUENCY_UNITS[self.frequency]}"
+
+    def as_dict(self) -> dict:
+        """For a JSON report: the names chosen and the words they print as."""
+        return {"frequency": self.frequency, "velocity": self.velocity,
+                "frequency_label": self.frequency_label(), "line_velocity_label": self.velocity_label(True),
+                "overall_velocity_label": self.velocity_label(False),
+                "note": ("Fields named _hz and _mm_s stay in Hz and mm/s RMS; the report's words and tables "
+                         "use these units. Peak is sqrt(2) x RMS, true of a single spectral line (a sine); "
+                         "broadband levels stay RMS.")}
+
+
+def shown_units(frequency: str | None = None, velocity: str | None = None, *, what: str = "",
+                base: ShownUnits | None = None) -> ShownUnits:
+    """``base`` (default Hz, mm/s RMS) with ``frequency`` and ``velocity`` changed where given.
+
+    Raises
+    ------
+    UsageError
+        For a name not in ``FREQUENCY_UNITS`` or ``VELOCITY_UNITS``; ``what`` says where it was given.
+    """
+    out = base or ShownUnits()
+    where = f"{what}: " if what else ""
+    if frequency is not None:
+        f = str(frequency).strip().lower()
+        if f not in FREQUENCY_UNITS:
+            raise UsageError(f"{where}unknown frequency unit {frequency!r}; use {', '.join(FREQUENCY_UNITS)}")
+        out = ShownUnits(f, out.velocity)
+    if velocity is not None:
+        v = str(velocity).strip().lower().replace(" ", "-")
+        if v not in VELOCITY_UNITS:
+            raise UsageError(f"{where}unknown velocity unit {velocity!r}; use {', '.join(VELOCITY_UNITS)}")
+        out = ShownUnits(out.frequency, v)
+    return out

@@ -36,6 +36,10 @@ CHANNEL_FIELDS = {
     "location_shaft": F("string", "shaft the point's bearing carries", ""),
 }
 
+# velocity fields that are broadband levels, not one spectral line: a report that shows peak keeps
+# them RMS (sqrt(2) x RMS is the peak of a sine only)
+BROADBAND_VELOCITY_FIELDS = frozenset({"velocity_rms_mm_s"})
+
 FACTS: dict[str, dict[str, F]] = {
     "overall": CHANNEL_FIELDS | {
         "velocity_rms_mm_s": F("number", "velocity RMS in the ISO 20816-3 band, mm/s", "mm/s RMS"),

@@ -105,14 +105,16 @@ def reach_of(reading: Reading, machine: Machine, driver_rpm: float, rulebook=Non
     return tuple(v.as_dict() for v in found if v.state != CAN)
 
 
-def document_of(d: Diagnosis, made_at: str | None = None, plot_channels: tuple[str, ...] | None = None) -> dict:
+def document_of(d: Diagnosis, made_at: str | None = None, plot_channels: tuple[str, ...] | None = None,
+                units=None) -> dict:
     """The report of a diagnosis as one plain dict (engine/common/schemas/report.schema.json).
 
     ``made_at`` is the report's time (ISO 8601, local with UTC offset, to the
     minute); None means now. Give one for reports that must compare equal. ``plot_channels``: the
     channels plotted (``engine.report.plots.choose_channels``), None for the default view.
+    ``units`` (``engine.common.units.ShownUnits``) are the units it shows; None: Hz and mm/s RMS.
     """
     from ..report import report_document
 
     return report_document(d.machine, d.reading, d.evidence, d.reasoning, d.advice, d.plots, d.reach,
-                           made_at=made_at, alarms=d.alarms, plot_channels=plot_channels)
+                           made_at=made_at, alarms=d.alarms, plot_channels=plot_channels, units=units)

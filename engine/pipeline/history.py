@@ -7,14 +7,15 @@ from pathlib import Path
 
 
 def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: dict, site=(), taken_at=None,
-                       plots: bool = False, plot_channels: tuple[str, ...] | None = None):
+                       plots: bool = False, plot_channels: tuple[str, ...] | None = None, units=None):
     """Diagnose ``reading`` beside the machine's stored history, then store it.
 
     ``files`` are the reading's files, ``how`` the options it was read with (unit, speed, sample rate,
     scale, point, direction, channels): with the files, the machine and the rulebooks (``site``) they make
     the key that tells a reading already stored. ``taken_at`` is a stated time, else the file's own.
     ``plot_channels``: the channels the report plots (``document_of``).
-    Returns (Diagnosis, report document with a ``trend`` section when a history exists).
+    Returns (Diagnosis, report document with a ``trend`` section when a history exists), the document
+    in ``units`` (``ShownUnits``; the store keeps the one in Hz and mm/s RMS).
     """
     from ..advice import load_advice, zone_scale
     from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
@@ -44,4 +45,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
                            reasoning=d.reasoning, spectra=d.spectra,
                            forcing=d.forcing)
         store.add(record, replace=True)
+    if units is not None and not units.default:
+        trend = {"trend": doc["trend"]} if "trend" in doc else {}
+        doc = document_of(d, made_at=doc["made_at"], plot_channels=plot_channels, units=units) | trend
     return d, doc

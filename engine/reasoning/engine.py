@@ -267,7 +267,9 @@ class Reasoner:
             grade *= 0.0 if graded_by is None else cf.ramp(graded_by, r.start, r.full)
         premises = [f.get("certainty", 1.0) for _, f in matched if f["kind"] not in (TALLY_KIND,)]
         strength = rule.weight * grade * cf.premise_certainty(premises)
-        because = word_sentence(rule, values)
+        parts = sentence_parts(rule, values)
+        because = "".join(literal + ("" if v is None else format_quantity(v["value"], v["unit"], v["type"]))
+                          for literal, v in parts)
         signs = explained_signs(values[alias] for alias in rule.explains)
         derived = None
         if rule.derives is not None and strength > 0:
@@ -281,7 +283,8 @@ class Reasoner:
             session.facts_by_id[derived["id"]] = derived
             session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
-                        tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record)
+                        tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record,
+                        because_parts=parts)
         session.firings.append((rule, firing))
         if derived is not None:
             try:
@@ -445,16 +448,27 @@ def explained_signs(facts) -> dict[str, float]:
     return merged(*(fact.get(SIGNS) or {} for fact in facts))
 
 
+def sentence_parts(rule: Rule, values: dict) -> tuple[tuple[str, dict | None], ...]:
+    """The rule's because sentence in parts: each literal text with the value that follows it (None
+    at the end): its field, value, unit, type and the shaft under the sensor of its fact (for a
+    report that shows frequencies in orders; None for a fact of no channel)."""
+    by_name = {f"{p.alias}.{p.field}": p for p in rule.placeholders}
+    parts: list[tuple[str, dict | None]] = []
+    for literal, name, _, _ in string.Formatter().parse(rule.because):
+        value = None
+        if name is not None:
+            p = by_name[name.strip()]
+            fact = values[p.alias]
+            value = {"field": p.field, "value": fact.get(p.field), "unit": p.unit, "type": p.type,
+                     "shaft": fact.get("location_shaft")}
+        parts.append((literal, value))
+    return tuple(parts)
+
+
 def word_sentence(rule: Rule, values: dict) -> str:
     """The rule's because sentence with each {alias.field} worded by its unit."""
-    worded = {f"{p.alias}.{p.field}": format_quantity(values[p.alias].get(p.field), p.unit, p.type)
-              for p in rule.placeholders}
-    parts = []
-    for literal, name, _, _ in string.Formatter().parse(rule.because):
-        parts.append(literal)
-        if name is not None:
-            parts.append(worded[name.strip()])
-    return "".join(parts)
+    return "".join(literal + ("" if v is None else format_quantity(v["value"], v["unit"], v["type"]))
+                   for literal, v in sentence_parts(rule, values))
 
 
 def _value(values: dict, ref):

@@ -30,6 +30,7 @@ from typing import Any, NoReturn
 
 from ..common.errors import RulebookError
 from ..common.paths import RULEBOOKS
+from ..common.units import ShownUnits, shown_units
 from ..common.yamlfile import YamlDocument, first_problem, read_yaml
 from ..evidence.vocabulary import FACTS, F, fields_of, known_values
 
@@ -194,6 +195,7 @@ class Rulebook:
     files: tuple[str, ...]           # every file loaded, as labelled (see ``rulebook_labels``)
     disabled: dict[str, tuple[str, str]] = field(default_factory=dict)   # id -> (reason, file as labelled)
     parameters: dict[str, Parameter] = field(default_factory=dict)
+    units: ShownUnits = ShownUnits()   # the units reports show: the last overlay's ``units:`` wins
 
     def rule(self, rule_id: str) -> Rule:
         """The rule of this id (KeyError if none)."""
@@ -318,7 +320,11 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     if problems:
         raise problems[0] if len(problems) == 1 else RulebookProblems(problems)
     _check_no_derivation_cycle(ordered)
-    return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters)
+    units = ShownUnits()
+    for doc in docs:      # checked by the schema: names from engine/common/units.py
+        said = doc.data.get("units") or {}
+        units = shown_units(said.get("frequency"), said.get("velocity"), base=units)
+    return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters, units)
 
 
 class RulebookProblems(RulebookError):

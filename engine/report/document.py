@@ -15,7 +15,10 @@ from datetime import datetime
 from .. import __version__
 from ..advice import Advice, Recommendation
 from ..analysis.plotdata import PlotSet
+from ..common.errors import MachineError
+from ..common.units import ShownUnits, format_quantity
 from ..evidence import Evidence
+from ..evidence.vocabulary import BROADBAND_VELOCITY_FIELDS
 from ..machine import Machine
 from ..reasoning import CONFIDENT, POSSIBLE, Firing, Hypothesis, Reasoning
 
@@ -29,9 +32,36 @@ def _fact(alias: str, fact: dict) -> dict:
     return {"alias": alias, "kind": fact["kind"], "id": fact["id"], "values": values}
 
 
-def _firing(f: Firing) -> dict:
+class _Shown:
+    """The units a report shows (``ShownUnits``) with the shaft speeds orders are taken of."""
+
+    def __init__(self, units: ShownUnits, shafts_hz: dict[str, float], reference: str | None):
+        self.units, self.shafts_hz, self.reference = units, shafts_hz, reference
+
+    def shaft_hz(self, shaft: str | None) -> float | None:
+        """The speed of ``shaft`` (the shaft under the sensor); the reference shaft's for a fact of none."""
+        return self.shafts_hz.get(shaft or "") or self.shafts_hz.get(self.reference or "")
+
+    def value(self, v: dict) -> str:
+        """One value of a because sentence in the shown units (others as the engine words them)."""
+        if v["value"] is not None and not isinstance(v["value"], bool) and v["type"] == "number":
+            if v["unit"] == "Hz":
+                return self.units.frequency_text(v["value"], self.shaft_hz(v["shaft"]))
+            if v["unit"] == "mm/s RMS":
+                return self.units.velocity_text(v["value"], line=v["field"] not in BROADBAND_VELOCITY_FIELDS)
+        return format_quantity(v["value"], v["unit"], v["type"])
+
+    def because(self, f: Firing) -> str:
+        """The firing's because sentence in the shown units."""
+        if self.units.default or not f.because_parts:
+            return f.because
+        return "".join(literal + ("" if v is None else self.value(v)) for literal, v in f.because_parts)
+
+
+def _firing(f: Firing, shown: _Shown | None = None) -> dict:
+    because = f.because if shown is None else shown.because(f)
     out = {"rule": f.rule_id, "title": f.title, "source": f.source, "origin": f.origin,
-           "overrides": list(f.overrides), "certainty": round(f.certainty, 3), "because": " ".join(f.because.split()),
+           "overrides": list(f.overrides), "certainty": round(f.certainty, 3), "because": " ".join(because.split()),
            "facts": [_fact(a, x) for a, x in f.facts]}
     if f.raw_certainty is not None:      # explaining away took part of its signs
         out |= {"raw_certainty": round(f.raw_certainty, 3), "kept": round(f.kept, 3)}
@@ -47,11 +77,11 @@ def _explained_by(h: Hypothesis) -> list[dict]:
             for x in h.explained_by]
 
 
-def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation) -> dict:
+def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | None = None) -> dict:
     out = {"rank": rank, "fault": h.fault, "fault_name": h.fault_name, "family": h.family,
            "component": h.component, "certainty": round(h.certainty, 3),
            "certainty_pct": round(100 * max(h.certainty, 0.0)), "strength": h.strength, "stage": h.stage,
-           "support": [_firing(f) for f in h.support], "against": [_firing(f) for f in h.against],
+           "support": [_firing(f, shown) for f in h.support], "against": [_firing(f, shown) for f in h.against],
            "other_matches": h.other_matches,
            "raw_certainty": None if h.raw_certainty is None else round(h.raw_certainty, 3),
            "explained_by": _explained_by(h),
@@ -204,11 +234,18 @@ def speed_text(speed: dict) -> str:
             "stood clear enough to measure it, so forcing frequencies are matched within 2 %.")
 
 
-def _alarms(alarms) -> dict:
-    """The site's alarms on this reading: each with its value, and the crossed ones first (danger first)."""
+def _alarms(alarms, units: ShownUnits | None = None) -> dict:
+    """The site's alarms on this reading: each with its value, and the crossed ones first (danger first).
+    A velocity alarm is shown in the chosen length unit (mm/s or in/s), its value and limits alike and its
+    ``unit`` saying so; it stays RMS, a band's level being no single line's."""
     order = {"danger": 0, "alert": 1, "within": 2, None: 3}
     rows = [{**a, "value": None if a["value"] is None else round(a["value"], 4)}
             for a in sorted(alarms, key=lambda a: (order[a["state"]], a["point"], a["band"], a["quantity"]))]
+    if units is not None and units.velocity.startswith("in/s"):
+        for a in rows:
+            if a["unit"] == "mm/s RMS":
+                a.update({k: None if a[k] is None else float(f"{units.velocity_value(a[k], line=False):.4g}")
+                          for k in ("value", "alert", "danger")}, unit=units.velocity_label(line=False))
     return {"crossed": sum(a["state"] in ("alert", "danger") for a in rows),
             "danger": sum(a["state"] == "danger" for a in rows), "results": rows}
 
@@ -251,9 +288,14 @@ def _phase(evidence: Evidence, reasoning: Reasoning) -> dict:
 
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
                     advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None,
-                    alarms=(), plot_channels: tuple[str, ...] | None = None) -> dict:
+                    alarms=(), plot_channels: tuple[str, ...] | None = None,
+                    units: ShownUnits | None = None) -> dict:
     """The report as one plain dict; ``reading`` is the pipeline's ReadingInfo; ``alarms`` the site's
     alarms judged on the reading (``engine.alarms.judge_alarms``), crossed ones first.
+
+    ``units`` are the units its words and tables show (default Hz and mm/s RMS; orders are of the
+    shaft under the sensor at the speed the analysis used); fields named ``_hz`` and ``_mm_s`` keep
+    theirs, and ``units`` in the document says which are shown.
 
     ``made_at`` is the report's own time (see ``report_time``), now when None;
     tests and runs whose reports must compare equal give one. ``plot_channels`` chooses the channels
@@ -261,13 +303,22 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
     """
     recs = {(r.hypothesis.fault, r.hypothesis.component): r for r in advice.recommendations}
     shown = [h for h in reasoning.hypotheses if (h.fault, h.component) in recs]
+    units = units or ShownUnits()
+    speed = evidence.speed or {}
+    shafts_hz = dict(machine.shaft_speeds_hz)       # nominal, unless the analysis used another speed
+    if speed.get("measured_rpm"):
+        try:
+            shafts_hz = machine.speeds_at(speed["measured_rpm"], speed.get("shaft"))
+        except MachineError:        # a speed the machine file cannot take: orders of the nominal speeds
+            pass
+    worded = _Shown(units, shafts_hz, speed.get("shaft") or machine.driver_shaft)
     figures = []
     if plots is not None:
         from .plots import figures as draw
 
-        figures = draw(plots, evidence, reasoning, machine, plot_channels)
+        figures = draw(plots, evidence, reasoning, machine, plot_channels, units)
     problems = [{"fault": h.fault, "fault_name": h.fault_name, "component": h.component,
-                 "certainty": round(h.certainty, 3), "support": [_firing(f) for f in h.support]}
+                 "certainty": round(h.certainty, 3), "support": [_firing(f, worded) for f in h.support]}
                 for h in reasoning.reading_problems]
     withheld_recs = [r for r in advice.recommendations if r.hypothesis.family == "reading"]
     scale = _scale(advice, evidence)
@@ -288,7 +339,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                     "urgency": _urgency(advice.urgency), "severity_known": scale["trusted"],
                     "scale_note": scale["text"]},
         "scale": scale,
-        "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)]) for i, h in enumerate(shown)],
+        "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)], worded) for i, h in enumerate(shown)],
         "oil_analysis": _oil_analysis(shown, recs),
         "reading_problems": problems,
         "differential": [_differential(dx, reasoning, recs) for dx in reasoning.differential
@@ -298,7 +349,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "limitations": [" ".join(x.split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
                    "reasons": list(v["reasons"])} for v in reach],
-        "alarms": _alarms(alarms),
+        "alarms": _alarms(alarms, units),
         "phase": _phase(evidence, reasoning),
         "cautions": list(advice.cautions),
         "disclaimer": advice.disclaimer,
@@ -314,7 +365,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                               "signal_issues": list(z.signal_issues), "scale_trusted": z.scale_trusted,
                               "scale_issues": list(z.scale_issues)}
                              for z in advice.zones]},
-        "chain": [_firing(f) for f in reasoning.chain],
+        "chain": [_firing(f, worded) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
         "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},
         "data_quality": [{**q, "value": _number(q["value"])} for q in reading.quality],
@@ -322,5 +373,32 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
                    "rules": reasoning.rules_loaded},
         "figures": [{"title": f.title, "svg": f.svg, **({"data": f.data} if f.data else {})} for f in figures],
+        "units": _units(units, advice, evidence, worded),
     }
     return doc
+
+
+def _units(units: ShownUnits, advice: Advice, evidence: Evidence, worded: _Shown) -> dict:
+    """What the report's words and tables show, and the values they show in them: the zone
+    boundaries and each point's overall level (broadband: RMS whichever is chosen), Fmax and
+    the line spacing (orders of the reference shaft)."""
+    ref_hz = worded.shaft_hz(None)
+    settings = evidence.settings
+
+    def level(mm_s):       # the number only: tables give the unit in their heading
+        return None if mm_s is None else units.velocity_text(mm_s, line=False).split(" ")[0]
+
+    def frequency(hz, hz_format):
+        if not hz:
+            return None
+        return f"{hz:{hz_format}} Hz" if units.frequency == "hz" else units.frequency_text(hz, ref_hz)
+
+    scale = advice.zone_scale
+    return units.as_dict() | {
+        "shaft_speeds_hz": {k: round(v, 4) for k, v in worded.shafts_hz.items()},
+        "zone_boundaries": ([f"{b:g}" for b in (scale.ab, scale.bc, scale.cd)] if units.velocity.startswith("mm/s")
+                            else [level(b) for b in (scale.ab, scale.bc, scale.cd)]),
+        "point_levels": {z.channel: level(z.velocity_rms_mm_s) for z in advice.zones},
+        "fmax": frequency(settings.get("fmax_hz"), ".0f"),
+        "resolution": frequency(settings.get("resolution_hz"), ".3g"),
+    }

@@ -18,12 +18,13 @@ their data (``Figure.data``) for the HTML report's zoom and cursors
 from __future__ import annotations
 
 from collections.abc import Set as AbstractSet
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..analysis.plotdata import PlotData, PlotSet
 from ..common.errors import UsageError
+from ..common.units import ShownUnits
 from ..evidence import Evidence
 from ..machine import Machine
 from ..reasoning import POSSIBLE, Reasoning
@@ -37,7 +38,6 @@ GROUPS = {"shaft": ("shaft orders", "#1f4e9a"), "bearing": ("bearing rates", svg
 FOUND = ("harmonics found in the evidence", svg.MARK)      # the envelope's matched defect harmonics
 CROWDING = {"FTF", "rotor bar pass"}   # rates that crowd a spectrum: marked only when a hypothesis is on them
 INTERACTIVE_POINTS = 32768             # at most this many points of a trace go to the HTML zoom
-FREQUENCY_UNIT = "Hz"                  # the unit of the frequency axes (their label and ticks follow it)
 
 
 @dataclass(frozen=True)
@@ -127,33 +127,34 @@ def used_components(reasoning: Reasoning) -> set[str]:
 
 
 def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: Machine,
-            channels: tuple[str, ...] | None = None) -> list[Figure]:
+            channels: tuple[str, ...] | None = None, units: ShownUnits | None = None) -> list[Figure]:
     """Each figure of the view the report shows: waveform, revolutions, spectrum, squared envelope
     spectrum. ``channels`` (``choose_channels``): those channels' figures instead, each seen from the
-    shaft under its point; ("all",): the view shown, then the spectrum of every other channel."""
+    shaft under its point; ("all",): the view shown, then the spectrum of every other channel.
+    Frequencies and velocities in ``units`` (default Hz, mm/s RMS)."""
     used = used_components(reasoning)
     channel, shaft, bearing = focus(reasoning, evidence, machine)
     if channels is None:
-        return draw(plots.view(channel, shaft, bearing), evidence, used)
+        return draw(plots.view(channel, shaft, bearing), evidence, used, units)
     if channels == ("all",):
-        out = draw(plots.view(channel, shaft, bearing), evidence, used)
+        out = draw(plots.view(channel, shaft, bearing), evidence, used, units)
         others = dict.fromkeys(v.channel for v in plots.views if v.channel != channel)
-        return out + [f for c in others for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used)
+        return out + [f for c in others for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used, units)
                       if f.data is not None and f.title.startswith("Spectrum")]
-    return [f for c in channels for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used)]
+    return [f for c in channels for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used, units)]
 
 
 def _draw_own(plots: PlotSet, channel: str, focus_channel: str, shaft: str, bearing: str | None,
-              evidence: Evidence, used: AbstractSet[str]) -> list[Figure]:
+              evidence: Evidence, used: AbstractSet[str], units: ShownUnits | None) -> list[Figure]:
     """The figures of ``channel`` as the report would show it: the focus view for the focus channel, else
     seen from the shaft under its point (the focus shaft when it has none); none for a channel the
     analysis left out (a blocking quality issue: the report says so under Acquisition)."""
     if channel == focus_channel:
-        return draw(plots.view(channel, shaft, bearing), evidence, used)
+        return draw(plots.view(channel, shaft, bearing), evidence, used, units)
     any_view = next((v for v in plots.views if v.channel == channel), None)
     if any_view is None:
         return []
-    return draw(plots.view(channel, any_view.sensor_shaft or shaft), evidence, used)
+    return draw(plots.view(channel, any_view.sensor_shaft or shaft), evidence, used, units)
 
 
 def spectrum_marks(pd: PlotData, used: AbstractSet[str] = frozenset()) -> list[svg.Mark]:
@@ -176,26 +177,41 @@ def spectrum_top_hz(pd: PlotData, marks: list[svg.Mark]) -> float:
     return min(float(pd.spectrum_hz[-1]), wanted) if len(pd.spectrum_hz) else wanted
 
 
-def _data(title: str, x: np.ndarray, y: np.ndarray, marks: list[svg.Mark], xlim, ylabel: str,
-          spacing_hz: float) -> dict:
+def _data(title: str, x: np.ndarray, y: np.ndarray, marks: list[svg.Mark], xlim, xlabel: str, ylabel: str,
+          spacing: float) -> dict:
     """What the HTML zoom and cursors redraw: the trace (at most INTERACTIVE_POINTS, peaks kept), the
     marks, the first view, the sideband cursor's first spacing (1X) and the axis words, frequencies in
-    FREQUENCY_UNIT, 5 significant digits."""
+    the axis's unit (``xlabel`` after its comma), 5 significant digits."""
     x, y = svg.reduce_for_drawing(x, y, INTERACTIVE_POINTS // 2)
     keep = np.isfinite(x) & np.isfinite(y)
 
     def r(v):
         return [float(f"{a:.5g}") for a in v]
 
-    return {"title": title, "unit": FREQUENCY_UNIT, "xlabel": f"frequency, {FREQUENCY_UNIT}", "ylabel": ylabel,
+    return {"title": title, "unit": xlabel.split(", ", 1)[-1], "xlabel": xlabel, "ylabel": ylabel,
             "x": r(x[keep]), "y": r(y[keep]), "xlim": [float(xlim[0]), float(xlim[1])],
-            "spacing": float(f"{spacing_hz:.6g}"),
+            "spacing": float(f"{spacing:.6g}"),
             "marks": [{"x": float(f"{m.x:.6g}"), "label": m.label, "group": m.group or "", "color": m.color,
                        "strong": m.strong, "rank": m.rank} for m in marks]}
 
 
-def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset()) -> list[Figure]:
-    """Each figure of one view; ``used``: the components whose crowding rates are marked."""
+def _axes(pd: PlotData, units: ShownUnits | None) -> tuple[float, str, float, str]:
+    """The factor from Hz to the frequency axis and its label; from mm/s RMS to the velocity axis
+    (a spectrum's lines: peak is sqrt(2) x RMS) and its label."""
+    units = units or ShownUnits()
+    fx = units.frequency_value(1.0, pd.shaft_hz)
+    if fx is None:                  # orders, but no speed of the shaft in view: stay in Hz
+        fx, fname = 1.0, "Hz"
+    else:
+        fname = {"hz": "Hz", "cpm": "CPM", "orders": f"orders of {pd.shaft}"}[units.frequency]
+    return fx, f"frequency, {fname}", units.velocity_value(1.0, line=True), f"velocity, {units.velocity_label(True)}"
+
+
+def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset(),
+         units: ShownUnits | None = None) -> list[Figure]:
+    """Each figure of one view; ``used``: the components whose crowding rates are marked; frequencies
+    and velocities in ``units`` (default Hz, mm/s RMS)."""
+    fx, xlabel, vy, ylabel = _axes(pd, units)
     out = []
     # a channel whose scale is not trusted is drawn as stated, and its level axes say so
     stated = " as stated (scale not trusted)" if pd.channel in {lv.channel for lv in evidence.scale_doubted} else ""
@@ -212,31 +228,36 @@ def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset())
                                                      "acceleration, one row per turn", series, xlim=(0.0, 360.0),
                                                      ytick_labels=ticks, height=60 + 30 * len(rows)))))
     marks = spectrum_marks(pd, used)
-    title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz:.3g} {FREQUENCY_UNIT} resolution, Hann)"
-    xlim = (0.0, spectrum_top_hz(pd, marks))
-    shown = pd.spectrum_hz <= xlim[1]
+    resolution = xlabel.split(", ", 1)[-1]
+    title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz * fx:.3g} {resolution} resolution, Hann)"
+    top_hz = spectrum_top_hz(pd, marks)
+    shown = pd.spectrum_hz <= top_hz
     top = float(np.max(pd.spectrum_mm_s[shown])) * 1.1 if shown.any() else 1.0
-    ylabel = "velocity, mm/s RMS" + stated
-    out.append(Figure(title, svg.render(svg.Plot(title, f"frequency, {FREQUENCY_UNIT}", ylabel,
-                                                 [svg.Series(pd.spectrum_hz, pd.spectrum_mm_s)], marks,
-                                                 xlim=xlim, ylim=(0.0, top), height=260)),
-                      _data(title, pd.spectrum_hz, pd.spectrum_mm_s, marks, xlim, ylabel, pd.shaft_hz)))
+    marks = [replace(m, x=m.x * fx) for m in marks]
+    xlim = (0.0, top_hz * fx)
+    ylabel += stated
+    out.append(Figure(title, svg.render(svg.Plot(title, xlabel, ylabel,
+                                                 [svg.Series(pd.spectrum_hz * fx, pd.spectrum_mm_s * vy)], marks,
+                                                 xlim=xlim, ylim=(0.0, top * vy), height=260)),
+                      _data(title, pd.spectrum_hz * fx, pd.spectrum_mm_s * vy, marks, xlim, xlabel, ylabel,
+                            pd.shaft_hz * fx)))
     # the envelope, its frequencies and its band are there together (plotdata._envelope), or none of them
     if pd.envelope is not None and pd.envelope_hz is not None and pd.envelope_band_hz is not None:
         matched = _matched_harmonics(evidence, pd)
         group, color = GROUPS["bearing"]
         marks = matched + [svg.Mark(m.freq_hz, m.label, group=group, color=color) for m in pd.envelope_marks
                            if not any(abs(m.freq_hz - x.x) < 1e-6 for x in matched)]
+        marks = [replace(m, x=m.x * fx) for m in marks]
         lo, hi = pd.envelope_band_hz
         # the envelope of a prewhitened signal has no physical unit: show it against its own median
         median = float(np.median(pd.envelope)) if len(pd.envelope) else 0.0
         relative = pd.envelope / median if median > 0 else pd.envelope
         top = float(np.max(relative)) * 1.1 if len(relative) else 1.0
         title = f"Squared envelope spectrum, {pd.channel}, band {lo:.0f}-{hi:.0f} Hz"
-        xlim = (0.0, float(pd.envelope_hz[-1]))
-        ylabel = "squared envelope, times its median"
-        out.append(Figure(title, svg.render(svg.Plot(title, f"frequency, {FREQUENCY_UNIT}", ylabel,
-                                                     [svg.Series(pd.envelope_hz, relative)], marks,
+        xlim = (0.0, float(pd.envelope_hz[-1]) * fx)
+        elabel = "squared envelope, times its median"
+        out.append(Figure(title, svg.render(svg.Plot(title, xlabel, elabel,
+                                                     [svg.Series(pd.envelope_hz * fx, relative)], marks,
                                                      xlim=xlim, ylim=(0.0, top), height=260)),
-                          _data(title, pd.envelope_hz, relative, marks, xlim, ylabel, pd.shaft_hz)))
+                          _data(title, pd.envelope_hz * fx, relative, marks, xlim, xlabel, elabel, pd.shaft_hz * fx)))
     return out

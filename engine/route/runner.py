@@ -242,7 +242,7 @@ def check_outputs(route, out_dir, fmt: str, inputs) -> dict:
 def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None, scheduler: str | None = None,
               again: bool = False, fmt: str = "html", plots: bool | str | None = False, site=(),
               progress: bool = False, made_at: str | None = None, inputs=None,
-              max_samples: int | None = None, alarms=()) -> RouteOutcome:
+              max_samples: int | None = None, alarms=(), units: dict | None = None) -> RouteOutcome:
     """Diagnose every reading of ``route`` not yet in ``store``; write reports under ``out_dir``.
 
     Every report of one run says it was made at the run's start (``made_at``,
@@ -278,7 +278,8 @@ def run_route(route: Route, store: Store, out_dir, *, workers: int | None = None
             todo.append((t, (hashes[t.index], recordings[t.index])))
     settings = {"site": tuple(str(s) for s in site), "clock": route.clock, "format": fmt, "plots": plots,
                 "store": str(store.path.resolve()), "route_id": route_id, "made_at": made_at or report_time(),
-                "max_samples": max_samples, "alarms": tuple(str(a) for a in alarms)}
+                "max_samples": max_samples, "alarms": tuple(str(a) for a in alarms),
+                "units": dict(units or {})}     # --frequency-unit, --velocity-unit: over the site's units
     outcome.workers = workers or os.cpu_count() or 1
     if scheduler:
         outcome.where = f"dask {scheduler}"

@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
+from ..common.units import ShownUnits
 from ..history.store import Store
 from .runner import RouteOutcome, trend_paths
 
@@ -123,9 +124,11 @@ def _crossed(alarms, rows: list[dict]) -> list[dict]:
     return sorted(out, key=lambda x: (x["state"] != "danger", x["point"], x["band"]))
 
 
-def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=()) -> dict:
+def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units: ShownUnits | None = None) -> dict:
     """The summary document of a finished (or resumed) route; ``alarms``: the route's site alarm files,
-    laid over each machine file's alarms, which flag the readings that crossed one."""
+    laid over each machine file's alarms, which flag the readings that crossed one; ``units``: what the
+    velocity change shows (a broadband level: RMS, in mm/s or in/s; the ``_mm_s`` fields keep mm/s)."""
+    units = units or ShownUnits()
     out_dir = Path(out_dir).resolve()
     pages = trend_paths(outcome.route, out_dir)
     urgencies = _urgencies()
@@ -182,6 +185,10 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=()) -> di
                             else "alert" if m["alarms_crossed"] else None)
         top_points = _points_of_top(m.pop("_machine_file"), (m["top"] or {}).get("component"))
         m["change"] = _change(store, m["machine"], {x["_id"] for x in m["readings"]}, top_points)
+        if m["change"] is not None:
+            m["change"]["shown"] = {k: (f"{v}" if units.velocity.startswith("mm/s")
+                                        else units.velocity_text(v, line=False).split(" ")[0])
+                                    for k, v in (("then", m["change"]["then_mm_s"]), ("now", m["change"]["now_mm_s"]))}
         m["trend_page"] = (os.path.relpath(pages[m["machine"]], out_dir) if m["machine"] in pages else None)
         for x in m["readings"]:
             del x["_id"]
@@ -200,6 +207,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=()) -> di
                 "readings_per_s": round(len(outcome.diagnosed) / outcome.wall_s, 2) if outcome.wall_s else None},
         "machines": ranked,
         "failures": outcome.failed,
+        "units": units.as_dict(),
     }
 
 

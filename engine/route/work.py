@@ -102,6 +102,7 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
     start = time.perf_counter()
     content_hash, recording = (keys, keys) if isinstance(keys, str) else keys
     try:
+        from ..common.units import shown_units
         from ..history.record import record_of
         from ..pipeline import diagnose, document_of
         from ..readings import combine_readings, load_reading, with_phase
@@ -129,6 +130,11 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
                            machine_file=task.machine_file, elapsed_s=time.perf_counter() - start,
                            recording_hash=recording, reasoning=d.reasoning, spectra=d.spectra,
                            forcing=d.forcing)
+        said = settings.get("units") or {}
+        units = shown_units(said.get("frequency"), said.get("velocity"), base=reasoner.rulebook.units)
+        if not units.default:       # the store keeps Hz and mm/s RMS; the report shows the chosen units
+            trend = {"trend": doc["trend"]} if "trend" in doc else {}
+            doc = document_of(d, made_at=doc["made_at"], units=units) | trend
         report = render(doc, settings.get("format", "html")) if settings.get("reports", True) else None
         return {"index": task.index, "ok": True, "record": record, "report": report}
     except TellwaveError as exc:

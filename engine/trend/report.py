@@ -14,11 +14,13 @@ from functools import cache
 import numpy as np
 
 from .. import __version__
+from ..common.units import ShownUnits
 from .change import change_of, is_db, iso_change, min_change_readings
 from .health import choose, health_of
 from .projection import Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
+from .shown import trend_in_units
 from .store_prior import StorePrior, learned_from_store
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
@@ -260,7 +262,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)])
         points.append(entry)
-    return {"tellwave": __version__, "machine": machine,
+    # Hz and mm/s RMS; ``tellwave trend --velocity-unit`` shows others (engine/trend/shown.py)
+    return trend_in_units({"tellwave": __version__, "machine": machine,
             "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
             "zone_scale": {"group": scale.group, "support": scale.support, "ab_mm_s": scale.ab, "bc_mm_s": scale.bc,
                            "cd_mm_s": scale.cd, "assumed": scale.assumed},
@@ -270,7 +273,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             "iso_change_rule": "ISO 20816-3 criterion II: a change of more than 25 % of the B/C boundary is "
                                "significant, even within zone B (from memory)",
             "findings": [r.shown() for r in repairs],
-            "points": points}
+            "points": points}, ShownUnits())
 
 
 def zone_scale_for(machine_file: str | None):

@@ -157,3 +157,19 @@ def test_listing_an_unknown_machine_or_giving_no_action_is_exit_2(store, capsys)
     assert "ACTION" in capsys.readouterr().err
     assert main(["findings", "delete", "first", "--store", store]) == 2
     assert "expected a finding id" in _one_line(capsys)
+
+
+def test_history_words_urgency_as_every_other_output_does(tmp_path, capsys):
+    """The urgency column shows the advice data's label ("plan soon"), not its id ("plan-soon");
+    JSON keeps the id and adds the label."""
+    path = tmp_path / "u.sqlite"
+    soon = record(3)
+    soon["verdict"] = dict(soon["verdict"], urgency="plan-soon", urgency_label="plan soon")
+    with Store(path) as s:
+        s.add(soon)
+    assert main(["history", PUMP, "--store", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "plan soon" in out and "plan-soon" not in out
+    assert main(["history", PUMP, "--store", str(path), "--json"]) == 0
+    (row,) = json.loads(capsys.readouterr().out)
+    assert (row["urgency"], row["urgency_label"]) == ("plan-soon", "plan soon")

@@ -1,0 +1,52 @@
+"""A trend document in the units a user chose (``engine.common.units.ShownUnits``): the velocity
+indicators' numbers and labels, the ISO 20816-3 boundaries and the velocity change. The store and
+the fields named ``_mm_s`` keep mm/s RMS; ``units`` in the document says what is shown.
+
+A line (1X, 2X) in peak is sqrt(2) x its RMS (a sine); the overall velocity is broadband and stays
+RMS, changing only its length unit (mm/s or in/s).
+"""
+
+from __future__ import annotations
+
+from ..common.units import ShownUnits
+
+LINES = {"x1_mm_s", "x2_mm_s"}               # one spectral line each: peak = sqrt(2) x RMS applies
+BROADBAND = {"velocity_rms_mm_s"}            # the ISO 20816-3 overall: stays RMS
+
+
+def trend_in_units(doc: dict, units: ShownUnits) -> dict:
+    """``doc`` (``trend_document``) with ``units`` added, and, when they are not Hz and mm/s RMS, its
+    velocity numbers shown in them (changed in place; returned)."""
+    if doc.get("units", {}).get("frequency", "hz") != "hz" or doc.get("units", {}).get("velocity",
+                                                                                       "mm/s-rms") != "mm/s-rms":
+        raise ValueError("the trend document is already shown in other units")
+    scale = doc["zone_scale"]
+    bounds = (scale["ab_mm_s"], scale["bc_mm_s"], scale["cd_mm_s"])
+    length = units.velocity_label(False).split(" ")[0]
+    doc["units"] = units.as_dict() | {
+        "zone_boundaries": ([f"{b:g}" for b in bounds] if length == "mm/s"
+                            else [units.velocity_text(b, line=False).split(" ")[0] for b in bounds])}
+    for p in doc["points"]:
+        iso = p.get("iso_change")
+        if iso is not None:
+            def text(v, sign=""):
+                return units.velocity_text(v, line=False).split(" ")[0] if not sign else \
+                    ("+" if v >= 0 else "-") + units.velocity_text(abs(v), line=False).split(" ")[0]
+            iso["shown"] = ({"baseline": f"{iso['baseline_mm_s']}", "latest": f"{iso['latest_mm_s']}",
+                             "change": f"{iso['change_mm_s']:+.2f}", "criterion": f"{iso['criterion_mm_s']}"}
+                            if length == "mm/s" else
+                            {"baseline": text(iso["baseline_mm_s"]), "latest": text(iso["latest_mm_s"]),
+                             "change": text(iso["change_mm_s"], "+"), "criterion": text(iso["criterion_mm_s"])})
+        if units.default:
+            continue
+        for i in p["indicators"]:
+            if i["name"] not in LINES | BROADBAND:
+                continue
+            line = i["name"] in LINES
+            factor = units.velocity_value(1.0, line=line)      # linear: every value and difference scales alike
+            for key in ("baseline", "latest", "change", "rate_per_month", "last_before_repair"):
+                if i.get(key) is not None:
+                    i[key] = i[key] * factor
+            i["label"] = i["label"].replace("mm/s RMS", units.velocity_label(line))
+            i["unit"] = units.velocity_label(line)
+    return doc
