@@ -16,7 +16,7 @@ from typing import NamedTuple
 
 from ..common.units import LEVEL_UNITS
 from ..machine.kinematics import BEARING_DEFECTS, RATE_FAMILIES, RATE_NAMES
-from ..machine.model import DIRECTIONS
+from ..machine.model import COUPLING_TYPES, DIRECTIONS
 from ..readings.quality import ISSUE_NAMES
 
 
@@ -247,6 +247,14 @@ FACTS: dict[str, dict[str, F]] = {
         "belts": F("integer", "belt drives in the train", ""),
         "motors": F("integer", "induction motors in the train", ""),
     },
+    "drive_link": {
+        "component": F("string", "the coupling's or belt drive's id", ""),
+        "link": F("string", "coupling or belt", ""),
+        "type": F("string", "the coupling's type (flexible, jaw, tyre, pin, grid, gear, disc, rigid, fluid, "
+                            "unknown), or belt", ""),
+        "shaft": F("string", "the shaft on this side of the link", ""),
+        "other_shaft": F("string", "the shaft across the link", ""),
+    },
 }
 
 # Not measured on the reading itself: made from the stored history by engine.trend.facts.
@@ -296,6 +304,8 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "sideband_family.carrier": SIDEBAND_CARRIERS,
     "sideband_family.spacing": SIDEBAND_SPACINGS,
     "data_quality.issue": QUALITY_ISSUES,
+    "drive_link.link": ("coupling", "belt"),
+    "drive_link.type": COUPLING_TYPES + ("belt",),
 }
 
 

@@ -1,8 +1,8 @@
 """Machine descriptions: a YAML drive train -> a checked ``Machine`` value.
 
 A machine file lists shafts with their speeds and the components on them
-(rolling bearings, gear meshes, belt drives, impellers and fan rotors,
-induction motors) and the measurement points. The file is checked against
+(rolling bearings, gear meshes, belt drives, couplings, impellers and fan
+rotors, induction motors) and the measurement points. The file is checked against
 ``common/schemas/machine.schema.json`` and then for consistency (every reference
 names a component that exists, shaft speeds resolve without a cycle, gear and
 belt ratios agree with stated speeds). Every problem is one ``MachineError``
@@ -22,6 +22,14 @@ RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 
 MIN_SPEED_RPM = 0.1       # slower than a kiln or a thickener rake: not a machine this tool is for
 MAX_SPEED_RPM = 600_000   # the schema's limit on a stated speed, also for derived ones
 MIN_ELEMENT_TO_PITCH = 0.01  # d/D of real rolling bearings is about 0.1 to 0.4 (common practice)
+FLUID_SLIP_MAX = 0.10     # a fluid coupling slips 2 to 5 % at full load (from memory); more is a wrong speed
+
+# How a coupling takes misalignment (machine.schema.json; README, "Couplings"): flexible (not said
+# which), jaw (elastomer spider between jaws), tyre (elastomer tyre), pin (pins in rubber bushes), grid
+# (steel grid in grooved hubs, greased), gear (toothed hubs in a sleeve, greased), disc (laminated steel
+# disc packs), rigid (no misalignment taken), fluid (oil-filled, slips), unknown (a shaft's ``same_as``
+# with no coupling named).
+COUPLING_TYPES = ("flexible", "jaw", "tyre", "pin", "grid", "gear", "disc", "rigid", "fluid", "unknown")
 
 
 @dataclass(frozen=True)
@@ -56,6 +64,16 @@ class BeltDrive:
     driven_shaft: str
     driven_diameter_mm: float
     belt_length_mm: float
+
+
+@dataclass(frozen=True)
+class Coupling:
+    """A coupling joining two shafts end to end: its id, the two shafts (driving side first) and its type
+    (``COUPLING_TYPES``). ``named`` is False for the coupling a shaft's ``same_as`` implies."""
+    id: str
+    shafts: tuple[str, str]
+    type: str
+    named: bool = True
 
 
 @dataclass(frozen=True)
@@ -113,6 +131,7 @@ class Machine:
     bearings: tuple[Bearing, ...] = ()
     gears: tuple[GearMesh, ...] = ()
     belts: tuple[BeltDrive, ...] = ()
+    couplings: tuple[Coupling, ...] = ()
     rotors: tuple[Rotor, ...] = ()
     motors: tuple[Motor, ...] = ()
     points: tuple[Point, ...] = ()
@@ -135,6 +154,10 @@ class Machine:
         scale = (speed_rpm / 60.0) / speeds[shaft]
         return {name: hz * scale for name, hz in speeds.items()}
 
+    def coupling(self, coupling_id: str) -> Coupling | None:
+        """The coupling of this id, or None when the machine has none of that id."""
+        return next((c for c in self.couplings if c.id == coupling_id), None)
+
     def has_point(self, point_id: str) -> bool:
         """Whether the machine has a measurement point of this id."""
         return any(p.id == point_id for p in self.points)
@@ -146,6 +169,21 @@ class Machine:
                 return p
         known = ", ".join(p.id for p in self.points) or "none"
         raise MachineError(f"no measurement point {point_id!r}; points are {known}", path=self.source)
+
+
+def points_across(machine: Machine, coupling: Coupling | str) -> tuple[tuple[Point, ...], tuple[Point, ...]]:
+    """The measurement points on each side of ``coupling`` (a ``Coupling`` or its id): those on its first
+    shaft, then those on its second, each in file order. Pairs of the same direction, one from each side,
+    face each other across the coupling (for phase compared across it)."""
+    if isinstance(coupling, str):
+        found = machine.coupling(coupling)
+        if found is None:
+            known = ", ".join(c.id for c in machine.couplings) or "none"
+            raise MachineError(f"no coupling {coupling!r}; couplings are {known}", path=machine.source)
+        coupling = found
+    first, second = coupling.shafts
+    return (tuple(p for p in machine.points if p.shaft == first),
+            tuple(p for p in machine.points if p.shaft == second))
 
 
 def check_speed_rpm(speed_rpm, source: str | None = None, error=MachineError) -> float:
@@ -223,6 +261,7 @@ def _build(doc: YamlDocument) -> Machine:
                             _whole(m.get("rotor_bars"))))
 
     speeds, driver = _resolve_speeds(data["shafts"], gears, belts, fail)
+    couplings = _couplings(data, speeds, {g.id for g in gears} | {b.id for b in belts}, fail)
 
     bearing_shaft = {b.id: b.shaft for b in bearings}
     points = []
@@ -242,11 +281,54 @@ def _build(doc: YamlDocument) -> Machine:
         iso_group=_whole(data.get("iso_group")), support=data.get("support"),
         lubrication=data.get("lubrication"),
         shaft_speeds_hz=MappingProxyType(speeds), driver_shaft=driver,
-        bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
+        bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts), couplings=couplings,
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
     )
     return machine
+
+
+def _couplings(data, speeds: dict[str, float], link_ids: set[str], fail) -> tuple[Coupling, ...]:
+    """The file's couplings, checked (two different shafts of the file, turning at one speed, each pair
+    joined once), then one of type "unknown" for each shaft ``same_as`` another with none named."""
+    out: list[Coupling] = []
+    joined: dict[frozenset, str] = {}
+    for i, c in enumerate(data.get("couplings", [])):
+        a, b = c["shafts"]
+        for j, name in enumerate((a, b)):
+            if name not in speeds:
+                fail(("couplings", i, "shafts", j), f"unknown shaft {name!r}; shafts are {', '.join(speeds)}")
+        if a == b:
+            fail(("couplings", i, "shafts"), "a coupling joins two different shafts")
+        pair = frozenset((a, b))
+        if pair in joined:
+            fail(("couplings", i, "shafts"), f"shafts {a!r} and {b!r} are already joined by {joined[pair]!r}")
+        joined[pair] = c["id"]
+        slip = 1.0 - speeds[b] / speeds[a]
+        if c["type"] == "fluid":
+            if not -RATIO_TOLERANCE <= slip <= FLUID_SLIP_MAX:
+                fail(("couplings", i, "shafts"), f"a fluid coupling's second shaft runs up to "
+                     f"{FLUID_SLIP_MAX:.0%} slower than its first, but {b!r} runs at {speeds[b] * 60:.1f} rpm and "
+                     f"{a!r} at {speeds[a] * 60:.1f} rpm")
+        elif abs(slip) > RATIO_TOLERANCE:
+            fail(("couplings", i, "shafts"), f"a {c['type']} coupling joins shafts at one speed, but {a!r} runs "
+                 f"at {speeds[a] * 60:.1f} rpm and {b!r} at {speeds[b] * 60:.1f} rpm; write {b!r} as "
+                 f"same_as: {a}")
+        out.append(Coupling(c["id"], (a, b), c["type"]))
+    taken = set(link_ids) | {c.id for c in out} | set(speeds)
+    for spec in data["shafts"]:
+        other = spec.get("same_as")
+        if other is None or other == spec["id"] or frozenset((other, spec["id"])) in joined:
+            continue
+        ident = base = f"{other}-{spec['id']}-coupling"
+        n = 1
+        while ident in taken:
+            n += 1
+            ident = f"{base}-{n}"
+        taken.add(ident)
+        joined[frozenset((other, spec["id"]))] = ident
+        out.append(Coupling(ident, (other, spec["id"]), "unknown", named=False))
+    return tuple(out)
 
 
 def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | None:
@@ -284,7 +366,7 @@ def _failer(doc: YamlDocument):
 
 def _check_unique_ids(data, fail) -> None:
     seen: dict[str, str] = {}
-    for section in ("shafts", "bearings", "gears", "belts", "rotors", "motors", "points"):
+    for section in ("shafts", "bearings", "gears", "belts", "couplings", "rotors", "motors", "points"):
         for i, item in enumerate(data.get(section, [])):
             ident = item["id"]
             if ident in seen:
