@@ -41,6 +41,7 @@ MACHINES = {
     "ct1": ROOT / "cases/machines/ct1-cooling-tower-fan.yaml",
     "bw1": ROOT / "cases/machines/bw1-backwash-blower.yaml",
     "gc1": ROOT / "tests/machines/gc1-grit-conveyor-drive.yaml",
+    "ef4": ROOT / "tests/machines/belt-fan-6309-22212.yaml",
 }
 
 # (simulator fault, machine, component): the demo machines; tests/reasoning/test_rulebooks.py
@@ -58,6 +59,7 @@ SCENARIOS = (
     ("gear-tooth", "ct1", "bevel_stage"),
     ("gear-wear", "ct1", "bevel_stage"),
     ("belt", "bw1", "vbelt"),
+    ("misalignment-angular", "ef4", "fan"),      # a belt drive: the sheaves' misalignment, on the belt
     ("vane-pass", "rw2", "impeller"),
     ("stator", "rw2", "M-RW2"),
     ("rotor-bar", "rw2", "M-RW2"),

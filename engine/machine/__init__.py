@@ -3,8 +3,19 @@
 (``alarms``, whose bands are resolved through kinematics)."""
 
 from .alarms import with_file_alarms
-from .model import (COUPLING_TYPES, Bearing, Coupling, GearMesh, Machine, Motor, Point, SpeedRange, check_speed_rpm,
-                    points_across, read_machine)
+from .model import (
+    COUPLING_TYPES,
+    Bearing,
+    Coupling,
+    GearMesh,
+    Machine,
+    Motor,
+    Point,
+    SpeedRange,
+    check_speed_rpm,
+    points_across,
+    read_machine,
+)
 
 __all__ = ["COUPLING_TYPES", "Bearing", "Coupling", "GearMesh", "Machine", "Motor", "Point", "SpeedRange",
            "check_speed_rpm", "load_machine", "points_across"]

@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import pytest
 
-from engine.reasoning.certainty import CONFIDENT
 from engine.advice import advise
 from engine.machine import load_machine
 from engine.pipeline import diagnose
+from engine.reasoning.certainty import CONFIDENT
 from engine.simulation import as_reading, simulate
 
 from support import CASES, RW2, TEST_MACHINES

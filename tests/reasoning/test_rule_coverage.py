@@ -34,7 +34,8 @@ from support import CASES, TEST_MACHINES, reasoner
 pytestmark = pytest.mark.slow
 
 MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "machines/bw1-backwash-blower.yaml",
-            "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml"}
+            "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml",
+            "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml"}
 
 
 @functools.cache
@@ -173,6 +174,12 @@ SIMULATED = [
      "shaft.looseness.directional shaft.unbalance.against-directional"),
     ("gear misaligned, 2 x GMF axial", "ct1", _axial_twice_mesh("ct1", "gear-wear", 2, 3, "GINA", 0.5),
      "gear.misalignment.axial-mesh-harmonic"),
+    ("belt fan, angular misalignment at the fan", "ef4",
+     lambda: as_reading(simulate(_machine("ef4"), "misalignment-angular", "fan", 3, None, 25600.0, 4.0, 1)),
+     "belt.sheave-misalignment.axial"),
+    ("belt fan, rotating looseness at the fan", "ef4",
+     lambda: as_reading(simulate(_machine("ef4"), "looseness-rotating", "fan", 3, None, 25600.0, 4.0, 1)),
+     "belt.sheave-misalignment.against-half-orders"),
 ]
 
 
