@@ -12,8 +12,9 @@ import pytest
 
 from engine.advice import advise
 from engine.machine import load_machine
-from engine.pipeline import diagnose
+from engine.pipeline import diagnose, document_of
 from engine.reasoning.certainty import CONFIDENT
+from engine.report import render
 from engine.simulation import as_reading, simulate
 
 from support import CASES, RW2, TEST_MACHINES
@@ -100,3 +101,17 @@ def test_the_cooling_tower_drive_shaft_gets_the_disc_coupling_checks(reasoner):
     rec = result.advice.recommendations[0]
     assert (rec.hypothesis.fault, rec.hypothesis.component) == ("misalignment-angular", "drive_shaft")
     assert any("disc packs" in a for a in rec.actions)
+
+
+def test_a_report_renders_when_only_a_weaker_match_lost_signs(reasoner):
+    # RW-2, parallel misalignment at the pump (seed 0): unbalance on the pump has a weaker match whose
+    # signs the coupling's misalignment explains while its strongest keeps them, so its certainty is
+    # unchanged (no raw certainty); the report once failed on that with a traceback
+    result = _diagnose(reasoner, load_machine(RW2), "misalignment-parallel", "pump", 3, 0)
+    losers = [h for h in result.reasoning.hypotheses if h.explained_by and h.raw_certainty is None]
+    assert losers, "the case this test is for no longer arises"
+    doc = document_of(result)
+    for h in doc["hypotheses"]:
+        assert h["raw_certainty"] is not None or not h["explained_by"], h
+    for fmt in ("text", "md", "html"):
+        assert "misalignment" in render(doc, fmt)
