@@ -45,6 +45,7 @@ MACHINES = {
     "ct1": ROOT / "cases/machines/ct1-cooling-tower-fan.yaml",
     "bw1": ROOT / "cases/machines/bw1-backwash-blower.yaml",
     "gc1": ROOT / "tests/machines/gc1-grit-conveyor-drive.yaml",
+    "ef4": ROOT / "tests/machines/belt-fan-6309-22212.yaml",
 }
 
 # (simulator fault, machine, component): the demo machines; tests/reasoning/test_rulebooks.py
@@ -62,6 +63,7 @@ SCENARIOS = (
     ("gear-tooth", "ct1", "bevel_stage"),
     ("gear-wear", "ct1", "bevel_stage"),
     ("belt", "bw1", "vbelt"),
+    ("misalignment-angular", "ef4", "fan"),      # a belt drive: the sheaves' misalignment, on the belt
     ("vane-pass", "rw2", "impeller"),
     ("stator", "rw2", "M-RW2"),
     ("rotor-bar", "rw2", "M-RW2"),
@@ -169,25 +171,40 @@ class StageRow(NamedTuple):
 
 def accepted_faults(fault: str) -> set[str]:
     """Rulebook faults counted right for a simulated fault: the same id (the simulator uses the
-    rulebooks' ids); misalignment of either kind is the same joint's problem."""
+    rulebooks' ids); misalignment of either kind is the same joint's problem, and on a belt drive the
+    joint's misalignment is the sheaves'."""
     if fault.startswith("misalignment"):
-        return {"misalignment-angular", "misalignment-parallel"}
+        return {"misalignment-angular", "misalignment-parallel", "sheave-misalignment"}
     return {fault}
 
 
-def same_joint(machine, a: str, b: str) -> bool:
-    """Shafts joined by a coupling turn at the same speed; misalignment belongs to the joint."""
-    speeds = machine.shaft_speeds_hz
-    return a in speeds and b in speeds and abs(speeds[a] - speeds[b]) <= 1e-6 * speeds[a]
+def joints_of(machine, shaft: str) -> dict[str, str]:
+    """The joints of ``shaft`` (the simulator puts a misalignment on a shaft; the rulebooks on the joint):
+    each coupling joining it -> a coupling misalignment, else each belt drive -> "sheave-misalignment"."""
+    couplings = {c.id: "coupling" for c in getattr(machine, "couplings", ()) if shaft in c.shafts}
+    if couplings:
+        return couplings
+    return {b.id: "sheave-misalignment" for b in getattr(machine, "belts", ())
+            if shaft in (b.driving_shaft, b.driven_shaft)}
+
+
+def same_joint(machine, component: str, shaft: str) -> bool:
+    """Whether ``component`` is a joint of ``shaft``: a coupling or belt drive that joins it."""
+    return component in joints_of(machine, shaft)
 
 
 def names(h, machine, fault: str, component: str | None) -> bool:
-    """Whether hypothesis ``h`` names ``fault`` on ``component`` (misalignment: either kind, on
-    either shaft of the joint; ``machine`` None: on that very shaft)."""
+    """Whether hypothesis ``h`` names ``fault`` on ``component`` (misalignment: either kind on a coupling
+    joining that shaft, or the sheaves' on its belt drive when no coupling joins it; ``machine`` None: on
+    that very shaft)."""
     if fault == "healthy" or h.fault not in accepted_faults(fault):
         return False
-    return h.component == component or (fault.startswith("misalignment") and machine is not None
-                                         and same_joint(machine, h.component, component))
+    if not fault.startswith("misalignment"):
+        return h.component == component
+    if machine is None or component is None:
+        return h.component == component
+    joint = joints_of(machine, component).get(h.component)
+    return joint is not None and (joint == "sheave-misalignment") == (h.fault == "sheave-misalignment")
 
 
 def names_truth(result, machine, fault: str, component: str | None) -> bool:

@@ -140,17 +140,17 @@ def sim_cases(seed: int, stages, speeds, machines: dict[str, Machine]) -> list[S
 
 
 def sim_findings(machine: Machine, case: SimCase) -> tuple[Finding, ...]:
-    """What a repair would find: the fault on its component; a misalignment on every shaft of the
-    coupling (the shafts that turn at the same speed); nothing on a healthy machine (the driver's
-    shaft opened: no hypothesis names nothing-found, so the component does not matter)."""
-    from bench.confusion import same_joint
+    """What a repair would find: the fault on its component; a misalignment on each coupling joining its
+    shaft, or the sheaves' on its belt drive when no coupling joins it; nothing on a healthy machine (the
+    driver's shaft opened: no hypothesis names nothing-found, so the component does not matter)."""
+    from bench.confusion import joints_of
 
     if case.fault == "healthy":
         return (Finding(machine.driver_shaft, NOTHING_FOUND),)
     assert case.component is not None
     if case.fault.startswith("misalignment"):
-        shafts = sorted(s for s in machine.shaft_speeds_hz if same_joint(machine, s, case.component))
-        return tuple(Finding(s, case.fault) for s in shafts)
+        joints = joints_of(machine, case.component)
+        return tuple(Finding(j, case.fault if kind == "coupling" else kind) for j, kind in sorted(joints.items()))
     return (Finding(case.component, case.fault),)
 
 

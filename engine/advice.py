@@ -246,8 +246,18 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
     urgency = min(candidates, key=lambda u: u.rank)
     if not h.confident and h.family != "reading":
         urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
-    return Recommendation(h, severity, urgency, tuple(todo["actions"]), tuple(todo["spares"]),
-                          tuple(todo["confirm"]), oil)
+    extra = _coupling_advice(machine, h.component, data)
+    return Recommendation(h, severity, urgency, tuple(todo["actions"]) + tuple(extra.get("actions", ())),
+                          tuple(todo["spares"]) + tuple(extra.get("spares", ())),
+                          tuple(todo["confirm"]) + tuple(extra.get("confirm", ())), oil)
+
+
+def _coupling_advice(machine: Machine, component: str | None, data: dict) -> dict:
+    """The advice data's lines for the type of the coupling ``component`` names ({} when it names none)."""
+    coupling = machine.coupling(component) if component and hasattr(machine, "coupling") else None
+    if coupling is None:
+        return {}
+    return data.get("coupling_advice", {}).get(coupling.type, {})
 
 
 def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dict | None = None) -> Advice:

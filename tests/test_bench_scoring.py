@@ -23,8 +23,10 @@ def _result(*hypotheses, withheld=False):
                            top=hypotheses[0] if hypotheses else None)
 
 
-# a pump coupled to its motor (same speed) and a fan behind a gear
-MACHINE = SimpleNamespace(shaft_speeds_hz={"motor": 24.8, "pump": 24.8, "fan": 8.5})
+# a pump coupled to its motor and a fan behind a gear; a blower belt-driven by a motor of its own
+MACHINE = SimpleNamespace(shaft_speeds_hz={"motor": 24.8, "pump": 24.8, "fan": 8.5, "drive": 49.0, "blower": 31.0},
+                          couplings=(SimpleNamespace(id="coupling", shafts=("motor", "pump")),),
+                          belts=(SimpleNamespace(id="vbelt", driving_shaft="drive", driven_shaft="blower"),))
 PAIR = (("unbalance", "pump"), ("outer-race", "pump_nde"))
 
 
@@ -60,15 +62,23 @@ def test_a_withheld_pair_names_nothing_and_calls_nothing():
     assert confusion.pair_verdict(result, MACHINE, PAIR) == ((False, False), (), False)
 
 
-def test_misalignment_counts_on_either_shaft_of_its_joint_and_either_kind():
+def test_misalignment_counts_on_the_coupling_of_its_shaft_and_either_kind():
     joint = (("misalignment-angular", "pump"),)
-    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "motor", 0.7)), MACHINE, joint) == ()
-    # a shaft behind a gear turns at another speed: not the joint
-    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "fan", 0.7)), MACHINE, joint) \
-        == ("misalignment-parallel on fan 0.70",)
-    # without the machine only the very shaft counts
-    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "motor", 0.7)), None, joint) \
-        == ("misalignment-parallel on motor 0.70",)
+    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "coupling", 0.7)), MACHINE, joint) == ()
+    # misalignment is a fault of the coupling: a call on a shaft, the pump's own included, is wrong
+    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "pump", 0.7)), MACHINE, joint) \
+        == ("misalignment-parallel on pump 0.70",)
+    # without the machine only the very component counts
+    assert confusion.wrong_calls(_result(_h("misalignment-parallel", "coupling", 0.7)), None, joint) \
+        == ("misalignment-parallel on coupling 0.70",)
+
+
+def test_misalignment_on_a_belt_drive_counts_as_the_sheaves_on_its_belt():
+    joint = (("misalignment-angular", "blower"),)
+    assert confusion.wrong_calls(_result(_h("sheave-misalignment", "vbelt", 0.7)), MACHINE, joint) == ()
+    # no coupling joins the blower: a coupling misalignment on the belt is not the sheaves'
+    assert confusion.wrong_calls(_result(_h("misalignment-angular", "vbelt", 0.7)), MACHINE, joint) \
+        == ("misalignment-angular on vbelt 0.70",)
 
 
 def test_every_call_on_a_single_fault_reading_that_is_not_the_truth_is_a_wrong_call():
@@ -226,12 +236,12 @@ def test_a_simulated_reading_is_judged_as_a_repair_would_find_it():
     rw2, bw1 = machines["rw2"], machines["bw1"]
     assert sim_findings(rw2, SimCase("rw2", "outer-race", "pump_nde", 2, 1.0, 0)) == (Finding("pump_nde",
                                                                                               "outer-race"),)
-    # the RW-2 pump is coupled to its motor: a misalignment is found on both shafts of the coupling
+    # the RW-2 pump is coupled to its motor: a misalignment is found at the coupling (machine file)
     assert sim_findings(rw2, SimCase("rw2", "misalignment-parallel", "pump", 2, 1.0, 0)) == (
-        Finding("motor", "misalignment-parallel"), Finding("pump", "misalignment-parallel"))
-    # the blower is belt-driven: its shaft turns at another speed than the motor's, no coupling
+        Finding("coupling", "misalignment-parallel"),)
+    # the blower is belt-driven, no coupling: its drive's misalignment is the sheaves', on the belt
     assert sim_findings(bw1, SimCase("bw1", "misalignment-angular", "blower", 2, 1.0, 0)) == (
-        Finding("blower", "misalignment-angular"),)
+        Finding("vbelt", "sheave-misalignment"),)
     assert [f.fault for f in sim_findings(rw2, SimCase("rw2", "healthy", None, 1, 1.0, 0))] == [NOTHING_FOUND]
 
 

@@ -50,6 +50,8 @@ EXTRACTORS = (
     Extractor("speed_check", acquisition.speed_check, ("speed_check",), always="every reading has a speed"),
     Extractor("data_quality", acquisition.data_quality, ("data_quality",)),
     Extractor("machine", acquisition.machine_class, ("machine",), always="every diagnosis has its machine"),
+    Extractor("drive_link", acquisition.drive_links, ("drive_link",),
+              always="every coupling and belt drive of the machine file, whatever the signal"),
 )
 
 

@@ -137,3 +137,22 @@ def machine_class(rc: Analysis) -> list[dict]:
     return [{"kind": "machine", "name": m.name, "iso_group": m.iso_group or 0, "support": m.support or "",
              "driver_rpm": rc.speeds_hz[m.driver_shaft] * 60, "gears": len(m.gears), "belts": len(m.belts),
              "motors": len(m.motors)}]
+
+
+def drive_links(rc: Analysis) -> list[dict]:
+    """How the machine's shafts are joined, from its file: for each coupling and each belt drive one fact
+    per side, naming the link, its type, the shaft on that side and the shaft across it. A rule reads
+    these to put a fault of the joint (misalignment) on the coupling or the belt that joins the shaft
+    under the sensor; a shaft with no fact of this kind is joined to nothing."""
+    m = rc.machine
+    facts = []
+    for c in m.couplings:
+        a, b = c.shafts
+        for shaft, other in ((a, b), (b, a)):
+            facts.append({"kind": "drive_link", "component": c.id, "link": "coupling", "type": c.type,
+                          "shaft": shaft, "other_shaft": other})
+    for belt in m.belts:
+        for shaft, other in ((belt.driving_shaft, belt.driven_shaft), (belt.driven_shaft, belt.driving_shaft)):
+            facts.append({"kind": "drive_link", "component": belt.id, "link": "belt", "type": "belt",
+                          "shaft": shaft, "other_shaft": other})
+    return facts

@@ -16,10 +16,9 @@ from typing import NamedTuple
 
 from ..common.units import LEVEL_UNITS
 from ..machine.kinematics import BEARING_DEFECTS, RATE_FAMILIES, RATE_NAMES
-from ..machine.model import DIRECTIONS
+from ..machine.model import COUPLING_TYPES, DIRECTIONS
 from ..machine.phase import RELATIONS as PHASE_RELATIONS
 from ..readings.quality import ISSUE_NAMES
-
 
 class F(NamedTuple):
     """One field of a fact kind."""
@@ -255,6 +254,14 @@ FACTS: dict[str, dict[str, F]] = {
         "belts": F("integer", "belt drives in the train", ""),
         "motors": F("integer", "induction motors in the train", ""),
     },
+    "drive_link": {
+        "component": F("string", "the coupling's or belt drive's id", ""),
+        "link": F("string", "coupling or belt", ""),
+        "type": F("string", "the coupling's type (flexible, jaw, tyre, pin, grid, gear, disc, rigid, fluid, "
+                            "unknown), or belt", ""),
+        "shaft": F("string", "the shaft on this side of the link", ""),
+        "other_shaft": F("string", "the shaft across the link", ""),
+    },
 }
 
 # Not measured on the samples: 1X phase readings the sidecar or route states (engine.evidence.phase).
@@ -308,7 +315,6 @@ COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact i
 # facts (None). tests/evidence checks that every unit here is one or the other.
 SCALE_FREE_UNITS = frozenset({"", "Hz", "dB", "%", "ms", "s", "deg", "rpm"})
 
-
 # The fields whose values come from a known set, each set taken from where the names are made, so a
 # rulebook that compares one with a misspelled value ('vanepass') is refused when it loads instead of
 # never firing. Keyed by field for every kind that has it, or by "kind.field" where the same field
@@ -333,8 +339,10 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "phase_difference.direction": DIRECTIONS + ("radial",),
     "phase_difference.first_direction": DIRECTIONS,
     "phase_difference.other_direction": DIRECTIONS,
-}
 
+    "drive_link.link": ("coupling", "belt"),
+    "drive_link.type": COUPLING_TYPES + ("belt",),
+}
 
 def known_values(kind: str, name: str) -> tuple[str, ...] | None:
     """The values field ``name`` of a ``kind`` fact can take, or None when any string can occur
@@ -343,11 +351,9 @@ def known_values(kind: str, name: str) -> tuple[str, ...] | None:
         return None
     return KNOWN_VALUES.get(f"{kind}.{name}", KNOWN_VALUES.get(name))
 
-
 def fields_of(kind: str) -> dict[str, F]:
     """Fields a fact of ``kind`` carries, with type and meaning (KeyError if unknown)."""
     return COMMON_FIELDS | FACTS[kind]
-
 
 def level_fields(kind: str) -> tuple[str, ...]:
     """Fields of ``kind`` that hold an absolute level (a unit of ``LEVEL_UNITS``)."""

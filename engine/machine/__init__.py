@@ -3,9 +3,22 @@
 (``alarms``, whose bands are resolved through kinematics)."""
 
 from .alarms import with_file_alarms
-from .model import Bearing, GearMesh, Machine, Motor, Point, SpeedRange, check_speed_rpm, read_machine
+from .model import (
+    COUPLING_TYPES,
+    Bearing,
+    Coupling,
+    GearMesh,
+    Machine,
+    Motor,
+    Point,
+    SpeedRange,
+    check_speed_rpm,
+    points_across,
+    read_machine,
+)
 
-__all__ = ["Bearing", "GearMesh", "Machine", "Motor", "Point", "SpeedRange", "check_speed_rpm", "load_machine"]
+__all__ = ["COUPLING_TYPES", "Bearing", "Coupling", "GearMesh", "Machine", "Motor", "Point", "SpeedRange",
+           "check_speed_rpm", "load_machine", "points_across"]
 
 
 def load_machine(path) -> Machine:

@@ -1,8 +1,8 @@
 """Machine descriptions: a YAML drive train -> a checked ``Machine`` value.
 
 A machine file lists shafts with their speeds and the components on them
-(rolling bearings, gear meshes, belt drives, impellers and fan rotors,
-induction motors) and the measurement points. The file is checked against
+(rolling bearings, gear meshes, belt drives, couplings, impellers and fan
+rotors, induction motors) and the measurement points. The file is checked against
 ``common/schemas/machine.schema.json`` and then for consistency (every reference
 names a component that exists, shaft speeds resolve without a cycle, gear and
 belt ratios agree with stated speeds). Every problem is one ``MachineError``
@@ -22,7 +22,14 @@ RATIO_TOLERANCE = 0.01  # a stated speed may differ from a gear/belt ratio by 1 
 MIN_SPEED_RPM = 0.1       # slower than a kiln or a thickener rake: not a machine this tool is for
 MAX_SPEED_RPM = 600_000   # the schema's limit on a stated speed, also for derived ones
 MIN_ELEMENT_TO_PITCH = 0.01  # d/D of real rolling bearings is about 0.1 to 0.4 (common practice)
+FLUID_SLIP_MAX = 0.10     # a fluid coupling slips 2 to 5 % at full load (from memory); more is a wrong speed
 
+# How a coupling takes misalignment (machine.schema.json; README, "Couplings"): flexible (not said
+# which), jaw (elastomer spider between jaws), tyre (elastomer tyre), pin (pins in rubber bushes), grid
+# (steel grid in grooved hubs, greased), gear (toothed hubs in a sleeve, greased), disc (laminated steel
+# disc packs), rigid (no misalignment taken), fluid (oil-filled, slips), unknown (a shaft's ``same_as``
+# with no coupling named).
+COUPLING_TYPES = ("flexible", "jaw", "tyre", "pin", "grid", "gear", "disc", "rigid", "fluid", "unknown")
 
 @dataclass(frozen=True)
 class Bearing:
@@ -36,7 +43,6 @@ class Bearing:
     contact_angle_deg: float
     multiples: Mapping[str, float] | None  # bpfo, bpfi, bsf, ftf given directly
 
-
 @dataclass(frozen=True)
 class GearMesh:
     """A pair of gears in mesh: the shaft and tooth count of each side."""
@@ -45,7 +51,6 @@ class GearMesh:
     driving_teeth: int
     driven_shaft: str
     driven_teeth: int
-
 
 @dataclass(frozen=True)
 class BeltDrive:
@@ -57,6 +62,14 @@ class BeltDrive:
     driven_diameter_mm: float
     belt_length_mm: float
 
+@dataclass(frozen=True)
+class Coupling:
+    """A coupling joining two shafts end to end: its id, the two shafts (driving side first) and its type
+    (``COUPLING_TYPES``). ``named`` is False for the coupling a shaft's ``same_as`` implies."""
+    id: str
+    shafts: tuple[str, str]
+    type: str
+    named: bool = True
 
 @dataclass(frozen=True)
 class Rotor:
@@ -65,7 +78,6 @@ class Rotor:
     shaft: str
     type: str  # "impeller" or "fan"
     vanes: int
-
 
 @dataclass(frozen=True)
 class Motor:
@@ -76,7 +88,6 @@ class Motor:
     poles: int
     rotor_bars: int | None
 
-
 @dataclass(frozen=True)
 class SpeedRange:
     """The speeds a variable-speed drive runs one shaft at, as the machine file states them."""
@@ -85,9 +96,7 @@ class SpeedRange:
     low_rpm: float
     high_rpm: float
 
-
 DIRECTIONS = ("horizontal", "vertical", "axial")     # a point's direction (machine.schema.json)
-
 
 @dataclass(frozen=True)
 class Point:
@@ -96,7 +105,6 @@ class Point:
     at: str          # bearing id or shaft id
     shaft: str       # the shaft that point sits on
     direction: str   # horizontal, vertical or axial
-
 
 @dataclass(frozen=True)
 class Machine:
@@ -113,14 +121,14 @@ class Machine:
     bearings: tuple[Bearing, ...] = ()
     gears: tuple[GearMesh, ...] = ()
     belts: tuple[BeltDrive, ...] = ()
+    couplings: tuple[Coupling, ...] = ()
     rotors: tuple[Rotor, ...] = ()
     motors: tuple[Motor, ...] = ()
     points: tuple[Point, ...] = ()
     descriptions: Mapping[str, str] = field(default_factory=dict)
     speed_range: SpeedRange | None = None   # a variable-speed drive's range, when the file states one
     alarms: tuple = ()                      # site limits per point (``alarms.Alarm``), the machine file's and --alarms
-    joined: tuple[tuple[str, str], ...] = ()  # shafts joined directly (same_as, ratio_to): (shaft, the one it follows)
-    joined_shafts: tuple[tuple[str, str], ...] = ()   # (shaft, the shaft it is the same_as): joined by a coupling
+    joined: tuple[tuple[str, str], ...] = ()  # shafts joined directly: a coupling's two, or a ratio_to pair
 
     def speeds_at(self, speed_rpm: float | None = None, shaft: str | None = None) -> dict[str, float]:
         """Every shaft's speed in Hz when ``shaft`` (default: the driver) runs at ``speed_rpm``.
@@ -166,6 +174,10 @@ class Machine:
             return set(self.shaft_speeds_hz)
         return set().union(*(self.shafts_seen_from(by_id[i].shaft) for i in ids))
 
+    def coupling(self, coupling_id: str) -> Coupling | None:
+        """The coupling of this id, or None when the machine has none of that id."""
+        return next((c for c in self.couplings if c.id == coupling_id), None)
+
     def has_point(self, point_id: str) -> bool:
         """Whether the machine has a measurement point of this id."""
         return any(p.id == point_id for p in self.points)
@@ -178,6 +190,19 @@ class Machine:
         known = ", ".join(p.id for p in self.points) or "none"
         raise MachineError(f"no measurement point {point_id!r}; points are {known}", path=self.source)
 
+def points_across(machine: Machine, coupling: Coupling | str) -> tuple[tuple[Point, ...], tuple[Point, ...]]:
+    """The measurement points on each side of ``coupling`` (a ``Coupling`` or its id): those on its first
+    shaft, then those on its second, each in file order. Pairs of the same direction, one from each side,
+    face each other across the coupling (for phase compared across it)."""
+    if isinstance(coupling, str):
+        found = machine.coupling(coupling)
+        if found is None:
+            known = ", ".join(c.id for c in machine.couplings) or "none"
+            raise MachineError(f"no coupling {coupling!r}; couplings are {known}", path=machine.source)
+        coupling = found
+    first, second = coupling.shafts
+    return (tuple(p for p in machine.points if p.shaft == first),
+            tuple(p for p in machine.points if p.shaft == second))
 
 def check_speed_rpm(speed_rpm, source: str | None = None, error=MachineError) -> float:
     """``speed_rpm`` as a float if it is a plausible shaft speed, else ``error`` saying why."""
@@ -190,7 +215,6 @@ def check_speed_rpm(speed_rpm, source: str | None = None, error=MachineError) ->
                     path=source)
     return rpm
 
-
 def read_machine(path) -> tuple[Machine, YamlDocument]:
     """Read and check a machine YAML file; its ``alarms:`` are left to ``alarms.with_file_alarms``, which
     resolves their bands through kinematics (``engine.machine.load_machine`` does both)."""
@@ -200,7 +224,6 @@ def read_machine(path) -> tuple[Machine, YamlDocument]:
     numbers_as_names(doc, "machine.schema.json")     # model: 6309 is a name, not a number
     validate(doc, "machine.schema.json", MachineError)
     return _build(doc), doc
-
 
 def _build(doc: YamlDocument) -> Machine:
     data = doc.data
@@ -255,6 +278,7 @@ def _build(doc: YamlDocument) -> Machine:
                             _whole(m.get("rotor_bars"))))
 
     speeds, driver = _resolve_speeds(data["shafts"], gears, belts, fail)
+    couplings = _couplings(data, speeds, {g.id for g in gears} | {b.id for b in belts}, fail)
 
     bearing_shaft = {b.id: b.shaft for b in bearings}
     points = []
@@ -274,15 +298,55 @@ def _build(doc: YamlDocument) -> Machine:
         iso_group=_whole(data.get("iso_group")), support=data.get("support"),
         lubrication=data.get("lubrication"),
         shaft_speeds_hz=MappingProxyType(speeds), driver_shaft=driver,
-        bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts),
+        bearings=tuple(bearings), gears=tuple(gears), belts=tuple(belts), couplings=couplings,
         rotors=tuple(rotors), motors=tuple(motors), points=tuple(points),
         descriptions=MappingProxyType(descriptions), speed_range=speed_range,
-        joined=tuple((spec["id"], spec["same_as"] if "same_as" in spec else spec["ratio_to"]["shaft"])
-                     for spec in data["shafts"] if "same_as" in spec or "ratio_to" in spec),
-        joined_shafts=tuple((s["id"], s["same_as"]) for s in data["shafts"] if "same_as" in s),
+        joined=tuple(c.shafts for c in couplings) + tuple((spec["id"], spec["ratio_to"]["shaft"])
+                                                          for spec in data["shafts"] if "ratio_to" in spec),
     )
     return machine
 
+def _couplings(data, speeds: dict[str, float], link_ids: set[str], fail) -> tuple[Coupling, ...]:
+    """The file's couplings, checked (two different shafts of the file, turning at one speed, each pair
+    joined once), then one of type "unknown" for each shaft ``same_as`` another with none named."""
+    out: list[Coupling] = []
+    joined: dict[frozenset, str] = {}
+    for i, c in enumerate(data.get("couplings", [])):
+        a, b = c["shafts"]
+        for j, name in enumerate((a, b)):
+            if name not in speeds:
+                fail(("couplings", i, "shafts", j), f"unknown shaft {name!r}; shafts are {', '.join(speeds)}")
+        if a == b:
+            fail(("couplings", i, "shafts"), "a coupling joins two different shafts")
+        pair = frozenset((a, b))
+        if pair in joined:
+            fail(("couplings", i, "shafts"), f"shafts {a!r} and {b!r} are already joined by {joined[pair]!r}")
+        joined[pair] = c["id"]
+        slip = 1.0 - speeds[b] / speeds[a]
+        if c["type"] == "fluid":
+            if not -RATIO_TOLERANCE <= slip <= FLUID_SLIP_MAX:
+                fail(("couplings", i, "shafts"), f"a fluid coupling's second shaft runs up to "
+                     f"{FLUID_SLIP_MAX:.0%} slower than its first, but {b!r} runs at {speeds[b] * 60:.1f} rpm and "
+                     f"{a!r} at {speeds[a] * 60:.1f} rpm")
+        elif abs(slip) > RATIO_TOLERANCE:
+            fail(("couplings", i, "shafts"), f"a {c['type']} coupling joins shafts at one speed, but {a!r} runs "
+                 f"at {speeds[a] * 60:.1f} rpm and {b!r} at {speeds[b] * 60:.1f} rpm; write {b!r} as "
+                 f"same_as: {a}")
+        out.append(Coupling(c["id"], (a, b), c["type"]))
+    taken = set(link_ids) | {c.id for c in out} | set(speeds)
+    for spec in data["shafts"]:
+        other = spec.get("same_as")
+        if other is None or other == spec["id"] or frozenset((other, spec["id"])) in joined:
+            continue
+        ident = base = f"{other}-{spec['id']}-coupling"
+        n = 1
+        while ident in taken:
+            n += 1
+            ident = f"{base}-{n}"
+        taken.add(ident)
+        joined[frozenset((other, spec["id"]))] = ident
+        out.append(Coupling(ident, (other, spec["id"]), "unknown", named=False))
+    return tuple(out)
 
 def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | None:
     """The one shaft's stated speed range, checked: lowest below highest, the shaft's own speed inside."""
@@ -304,11 +368,9 @@ def _speed_range(shaft_specs, speeds: dict[str, float], fail) -> SpeedRange | No
              f"speed range of {low:g} to {high:g} rpm")
     return SpeedRange(spec["id"], low, high)
 
-
 def _whole(value):
     """A count the schema checked as an integer; JSON Schema also takes 23.0, Python wants 23."""
     return None if value is None else int(value)
-
 
 def _failer(doc: YamlDocument):
     def fail(field_path, problem):
@@ -316,16 +378,14 @@ def _failer(doc: YamlDocument):
         raise MachineError(f"{dotted}: {problem}", path=doc.path, line=doc.line_of(field_path))
     return fail
 
-
 def _check_unique_ids(data, fail) -> None:
     seen: dict[str, str] = {}
-    for section in ("shafts", "bearings", "gears", "belts", "rotors", "motors", "points"):
+    for section in ("shafts", "bearings", "gears", "belts", "couplings", "rotors", "motors", "points"):
         for i, item in enumerate(data.get(section, [])):
             ident = item["id"]
             if ident in seen:
                 fail((section, i, "id"), f"id {ident!r} is already used in {seen[ident]}")
             seen[ident] = section
-
 
 def _resolve_speeds(shaft_specs, gears, belts, fail) -> tuple[dict[str, float], str]:
     """Nominal speed of every shaft in Hz, following couplings, ratios, gears and belts."""

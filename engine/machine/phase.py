@@ -11,8 +11,8 @@ one home of the pairs whose phase difference the trade reads (common practice, s
   coupling-side bearing of each shaft;
 - ``end to end``: the axial direction at two bearings of one shaft.
 
-Until a machine file names its couplings, two shafts joined by ``same_as`` are taken
-as joined by a coupling. A shaft's coupling-side bearing is the one whose id names
+The couplings are the machine's (``Machine.couplings``: those its file names, and an
+unnamed one for each shaft ``same_as`` another). A shaft's coupling-side bearing is the one whose id names
 the drive end (a word ``de``: ``motor_de``, ``pump-de``, ``DE``); a shaft with one
 bearing has it; otherwise every bearing of the shaft counts.
 """
@@ -82,7 +82,7 @@ def phase_pairs(machine: Machine, places) -> list[PhasePair]:
                 pairs.append(PhasePair("horizontal-vertical", first, second))
             elif a.shaft == b.shaft and a.location != b.location and a.direction == b.direction == "axial":
                 pairs.append(PhasePair("end to end", a, b))
-    for one, other in machine.joined_shafts:
+    for one, other in (c.shafts for c in machine.couplings):
         near_one, near_other = coupling_side(machine, one), coupling_side(machine, other)
         for a in have:
             for b in have:

@@ -84,7 +84,9 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | N
            "support": [_firing(f, shown) for f in h.support], "against": [_firing(f, shown) for f in h.against],
            "other_matches": h.other_matches,
            "raw_certainty": None if h.raw_certainty is None else round(h.raw_certainty, 3),
-           "explained_by": _explained_by(h),
+           # who took part of its signs, when that lowered its certainty (a weaker match of one of its rules
+           # can lose signs while its strongest keeps them all: then nothing was explained away)
+           "explained_by": _explained_by(h) if h.raw_certainty is not None else [],
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
            "spares": list(rec.spares), "confirm": list(rec.confirm)}
     return out

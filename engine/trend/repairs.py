@@ -9,8 +9,8 @@ as-found condition (``Store.latest_readings`` judges it), so it counts as before
 
 Which points see a component comes from the machine file of the stored readings (``points`` of
 ``engine.machine.model``): a bearing is seen by the points that sit at it (by the points on its shaft
-when none does); a shaft, an impeller or fan, or a motor by every point on its shaft; a gear mesh or
-a belt by every point on either of its shafts. When the machine file cannot be read, or does not
+when none does); a shaft, an impeller or fan, or a motor by every point on its shaft; a gear mesh, a
+belt or a coupling by every point on either of its shafts. When the machine file cannot be read, or does not
 name the component, every point of the machine sees it, and the trend says so.
 """
 
@@ -79,6 +79,9 @@ def points_seeing(machine, component: str) -> tuple[str, ...] | None:
     for belt in machine.belts:
         if belt.id == component:
             return on(belt.driving_shaft, belt.driven_shaft)
+    for c in getattr(machine, "couplings", ()):
+        if c.id == component:
+            return on(*c.shafts)
     for x in (*machine.rotors, *machine.motors):
         if x.id == component:
             return on(x.shaft)
