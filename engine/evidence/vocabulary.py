@@ -20,6 +20,7 @@ from ..machine.model import COUPLING_TYPES, DIRECTIONS
 from ..machine.phase import RELATIONS as PHASE_RELATIONS
 from ..readings.quality import ISSUE_NAMES
 
+
 class F(NamedTuple):
     """One field of a fact kind."""
 
