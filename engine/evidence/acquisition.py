@@ -58,7 +58,8 @@ def acquisition(rc: Analysis) -> list[dict]:
     fs = rc.fs_hz
     fmax = fs / FMAX_FACTOR
     seen = _shafts_seen(rc)
-    slowest_shaft = min(seen, key=lambda shaft: rc.speeds_hz[shaft])
+    # of shafts at one speed, the first in the machine file: a set's order changes from run to run
+    slowest_shaft = min((s for s in rc.speeds_hz if s in seen), key=lambda shaft: rc.speeds_hz[shaft])
     gap, pair = _closest_pair(rc, fmax)
     spacing, spacing_for = _tightest_sidebands(rc)
     centres = [c.kurtogram.best.centre_hz for c in rc.channels if c.kurtogram is not None]

@@ -59,5 +59,6 @@ def phase_facts(rc: Analysis) -> list[dict]:
                 "location": one.location, "location_shaft": one.shaft, "first_direction": one.direction,
                 "other_location": other.location, "other_shaft": other.shaft, "other_direction": other.direction,
                 "difference_deg": diff, "from_quadrature_deg": round(abs(diff - 90.0), 1), "mirrored": mirrored,
+                "coupling": pair.coupling,
             })
     return out

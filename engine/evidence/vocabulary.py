@@ -288,6 +288,7 @@ FACTS["phase_difference"] = {
     "difference_deg": F("number", "1X phase difference folded to 0-180 deg", "deg"),
     "from_quadrature_deg": F("number", "how far that difference is from 90 deg, 0-90 deg", "deg"),
     "mirrored": F("boolean", "the same pair seen from the other side of a coupling", ""),
+    "coupling": F("string", "the coupling between the two, across a coupling (else empty)", ""),
 }
 
 # Not measured on the reading itself: made from the stored history by engine.trend.facts.

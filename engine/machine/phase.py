@@ -43,6 +43,7 @@ class PhasePair:
     relation: str
     first: PhasePlace
     second: PhasePlace
+    coupling: str = ""      # the coupling between them, for a pair across one
 
 
 def phase_place(machine: Machine, point: str, direction: str | None) -> PhasePlace | str:
@@ -82,13 +83,14 @@ def phase_pairs(machine: Machine, places) -> list[PhasePair]:
                 pairs.append(PhasePair("horizontal-vertical", first, second))
             elif a.shaft == b.shaft and a.location != b.location and a.direction == b.direction == "axial":
                 pairs.append(PhasePair("end to end", a, b))
-    for one, other in (c.shafts for c in machine.couplings):
+    for coupling in machine.couplings:
+        one, other = coupling.shafts
         near_one, near_other = coupling_side(machine, one), coupling_side(machine, other)
         for a in have:
             for b in have:
                 if (a.shaft == one and b.shaft == other and a.direction == b.direction
                         and a.location in near_one and b.location in near_other):
-                    pairs.append(PhasePair("across coupling", a, b))
+                    pairs.append(PhasePair("across coupling", a, b, coupling.id))
     return pairs
 
 

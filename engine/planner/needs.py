@@ -356,7 +356,7 @@ def _shaft(machine, point, speeds, policy, targets, rulebook):
     rule_h, rule_half = "shaft.looseness.harmonics", "shaft.looseness.half-orders"
     n_h = least(rule_h, "harmonic_series", "count", rulebook)
     n_half = least(rule_half, "harmonic_series", "count", rulebook)
-    slow = min(machine.shafts_seen_from(s), key=lambda x: speeds[x])
+    slow = min(sorted(machine.shafts_seen_from(s)), key=lambda x: speeds[x])
     floor = policy.low_frequency_limit_hz
     needs = [
         Need("shaft", "floor", f"1X of {s} ({fr:.3g} Hz)", fr, "blocks", ((t, "harmonics"),),
@@ -467,7 +467,7 @@ def _turns(machine: Machine, point: Point, speeds, policy: Policy, purpose: str,
     (engine/readings/length.py), and, for each fault, those of its own shaft (the shaft of its
     component), below which the reading rules limit what the diagnosis concludes."""
     seen = machine.shafts_seen_from(point.shaft)
-    slowest = min(seen, key=lambda s: speeds[s])
+    slowest = min(sorted(seen), key=lambda s: speeds[s])
     hz = speeds[slowest]
     gates = tuple((t, name) for t in targets for name, _ in ROUTES[t.signature])
     needs = [
@@ -516,5 +516,5 @@ def requirements(machine: Machine, point: Point, purpose: str, policy: Policy,
     shafts = {t.shaft for t in targets} | {point.shaft}
     if purpose == "shaft":
         shafts |= machine.shafts_seen_from(point.shaft)
-    return Requirements(point.id, purpose, targets, tuple(needs), tuple(sorted(shafts, key=lambda s: speeds[s])),
+    return Requirements(point.id, purpose, targets, tuple(needs), tuple(sorted(shafts, key=lambda s: (speeds[s], s))),
                         band, strong)

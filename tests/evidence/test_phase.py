@@ -136,8 +136,8 @@ def test_pairs_on_rw2_follow_the_bearings_and_the_coupling():
     assert got == {
         ("horizontal-vertical", "pump_de", "horizontal", "pump_de", "vertical"),
         ("end to end", "motor_de", "axial", "motor_nde", "axial"),
-        # pump same_as motor: across the coupling, the drive-end bearings only (not motor_nde)
-        ("across coupling", "pump_de", "horizontal", "motor_de", "horizontal"),
+        # RW-2's coupling joins motor (driving) and pump: across it, the drive-end bearings only (not motor_nde)
+        ("across coupling", "motor_de", "horizontal", "pump_de", "horizontal"),
     }
 
 
