@@ -27,6 +27,11 @@ IMPACT_G = {1: 0.06, 2: 0.4, 3: 1.5, 4: 5.0}
 # four-stage account of rolling-bearing wear.)
 SPREAD_IMPACTS_PER_PASS = 200    # random impacts per defect pass at stage 4
 SPREAD_SIZE = 0.16               # their RMS size, times the stage's impact size
+# The grown clearance lets the shaft knock about radially: harmonics of 1X (2X to 5X) appear, and
+# reach an axial sensor weakly (common practice: a radial bearing's looseness shows radially; axial
+# above radial is misalignment's sign). 1X itself is left to the residual unbalance already there: a
+# second 1X at a random phase would cancel it at some seeds, an artefact no bearing makes.
+CLEARANCE_AXIAL_SHARE = 0.3
 SHAFT_AWAY = 0.15    # at a point on the same shaft but another bearing
 MACHINE_AWAY = 0.03  # at a point on another shaft
 
@@ -50,19 +55,22 @@ def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | 
     x = impact_signal(times, amplitudes, s.fs, s.n, ring)
     if then is not None:
         x += then(rates)
-    if stage == 4:  # late stage: damage spread round the race, the floor rises, 1X harmonics appear
+    if stage == 4:  # late stage: damage spread round the race, the floor rises (1X harmonics below)
         spread = np.sort(s.rng.uniform(0, duration, s.rng.poisson(SPREAD_IMPACTS_PER_PASS * rate_hz * duration)))
         rough = resonance_ring(s.fs, s.resonance_hz, damping=0.04, response="acceleration")
         x += impact_signal(spread, SPREAD_SIZE * size * s.rng.standard_normal(len(spread)), s.fs, s.n, rough)
         x += 0.03 * G * s.rng.standard_normal(s.n)
-        for k in range(1, 6):
-            x += s.shaft_tone(rates.shaft, k, 0.4 / k, s.rng.uniform(0, 6.3))
+    clearance = np.zeros(s.n)
+    if stage == 4:
+        for k in range(2, 6):
+            clearance += s.shaft_tone(rates.shaft, k, 0.4 / k, s.rng.uniform(0, 6.3))
     points_at = {p.at for p in s.machine.points}
 
     def add(out: np.ndarray, point: Point) -> None:
         near = s.near(point)
         at_bearing = point.at == bearing or (bearing not in points_at and near)
-        out += x * (1.0 if at_bearing else SHAFT_AWAY if near else MACHINE_AWAY)
+        share = CLEARANCE_AXIAL_SHARE if point.direction == "axial" else 1.0
+        out += (x + share * clearance) * (1.0 if at_bearing else SHAFT_AWAY if near else MACHINE_AWAY)
     return Part(add, {"impact_times_s": times, "impact_rate_hz": rate_hz, "modulation_hz": mod_hz})
 
 
