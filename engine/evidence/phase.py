@@ -18,9 +18,10 @@ from ..machine.phase import PhasePlace, folded_difference_deg, phase_pairs, phas
 
 
 def _circular_mean_deg(phases: list[float]) -> float:
+    """The mean direction of ``phases`` in degrees, 0 to under 360 (360 and -360 read as 0)."""
     s = sum(math.sin(math.radians(p)) for p in phases)
     c = sum(math.cos(math.radians(p)) for p in phases)
-    return math.degrees(math.atan2(s, c)) % 360.0
+    return round(math.degrees(math.atan2(s, c)), 6) % 360.0
 
 
 def phase_facts(rc: Analysis) -> list[dict]:
@@ -42,7 +43,7 @@ def phase_facts(rc: Analysis) -> list[dict]:
         out.append({
             "kind": "phase_1x", "point": given[0].point, "location": place.location,
             "location_shaft": place.shaft, "direction": place.direction,
-            "phase_deg": round(mean[place], 1),
+            "phase_deg": round(mean[place], 1) % 360.0,
             "amplitude_mm_s": round(sum(amps) / len(amps), 3) if amps else None,
             "readings": len(given),
             "spread_deg": round(max((folded_difference_deg(a, b) for a in phases for b in phases), default=0.0), 1),

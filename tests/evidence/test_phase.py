@@ -120,6 +120,14 @@ def test_a_route_carries_phase_and_checks_it(tmp_path):
 
 # --- pairs -------------------------------------------------------------------------------------------
 
+@pytest.mark.parametrize("given, shown", [([360.0], 0.0), ([-360.0], 0.0), ([-90.0], 270.0), ([350.0, 10.0], 0.0),
+                                          ([359.96], 0.0)])
+def test_a_phase_is_shown_from_0_to_under_360(given, shown):
+    # plain arithmetic of angles: a full turn is no turn; the mean of 350 and 10 degrees is 0
+    from engine.evidence.phase import _circular_mean_deg
+    assert round(_circular_mean_deg(given), 1) % 360.0 == pytest.approx(shown)
+
+
 def test_differences_fold_to_0_180():
     # plain arithmetic of angles: 350 and 10 degrees are 20 apart; -90 and 90 are 180 apart
     assert folded_difference_deg(350, 10) == pytest.approx(20)

@@ -55,3 +55,13 @@ def test_3_a_report_with_history_keeps_its_trend_section():
     for fmt in FORMATS:
         out = render(doc, fmt)
         assert "3 readings since 2026-01-12" in out and "criterion II" in out, fmt
+
+
+def test_a_rival_the_evidence_argues_against_says_so_in_words():
+    doc = doc_of("rw2-pump-nde-outer-race")
+    dx = next(d for d in doc["differential"] if d["rivals"])
+    rival = dict(dx["rivals"][0], certainty=-0.45)
+    dx["rivals"] = [rival] + dx["rivals"][1:]
+    for fmt in ("text", "md", "html"):
+        out = render(doc, fmt)
+        assert re.search(rf"{rival['fault_name']} on \S+ \(argued against, -45 %\)", out), fmt
