@@ -19,6 +19,7 @@ rulebooks/advice/actions.yaml); the report joins the two.
 
 from __future__ import annotations
 
+from collections.abc import Set as AbstractSet
 from dataclasses import dataclass
 
 from .certainty import POSSIBLE
@@ -58,11 +59,15 @@ def _concludes(rule, fault: str) -> bool:
     return rule.fault == fault
 
 
-def _missing(rulebook: Rulebook, h: Hypothesis) -> tuple[str, ...]:
+def _missing(rulebook: Rulebook, h: Hypothesis, kinds: AbstractSet[str] | None) -> tuple[str, ...]:
+    """The leader's corroborating rules that did not fire; with ``kinds`` (the fact kinds the
+    diagnosis had), only those whose needed kinds were all there: a rule on 1X phase is not a
+    missing sign when no phase was given, nor one on a coupling when the machine has none."""
     fired = {f.rule_id for f in h.support} | {f.rule_id for f in h.against}
     return tuple(r.title for r in rulebook.rules
                  if r.derives is None and r.weight > 0 and r.stage is None and _concludes(r, h.fault)
-                 and r.id not in fired)
+                 and r.id not in fired
+                 and (kinds is None or all(p.kind in kinds for p in r.needs if not p.counted)))
 
 
 def _rivals(h: Hypothesis, others: tuple[Hypothesis, ...]) -> list[Hypothesis]:
@@ -71,8 +76,10 @@ def _rivals(h: Hypothesis, others: tuple[Hypothesis, ...]) -> list[Hypothesis]:
     return sorted(near, key=lambda o: -o.certainty)[:RIVALS]
 
 
-def differential(rulebook: Rulebook, reasoning: Reasoning, leading: int = LEADING) -> tuple[Differential, ...]:
-    """The differential of each of the first ``leading`` hypotheses at POSSIBLE certainty or more."""
+def differential(rulebook: Rulebook, reasoning: Reasoning, kinds: AbstractSet[str] | None = None,
+                 leading: int = LEADING) -> tuple[Differential, ...]:
+    """The differential of each of the first ``leading`` hypotheses at POSSIBLE certainty or more;
+    ``kinds``: the fact kinds the diagnosis had (see ``_missing``)."""
     out = []
     for h in [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:leading]:
         rivals = _rivals(h, reasoning.hypotheses)
@@ -86,5 +93,5 @@ def differential(rulebook: Rulebook, reasoning: Reasoning, leading: int = LEADIN
                              0.0))
                   for r in rivals),
             tuple(dict.fromkeys(separating)),
-            _missing(rulebook, h)))
+            _missing(rulebook, h, kinds)))
     return tuple(out)

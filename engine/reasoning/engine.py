@@ -427,7 +427,8 @@ class Reasoner:
         result = Reasoning(faults, withheld, problems, tuple(chain), considered, len(self.rulebook.rules),
                            self.rulebook.files, fault_advice={fid: f.advice for fid, f in faults_of.items()
                                                               if f.advice is not None})
-        return replace(result, differential=differential(self.rulebook, result))
+        kinds = {f["kind"] for f in (*session.facts_by_id.values(), *session.derived)}
+        return replace(result, differential=differential(self.rulebook, result, kinds))
 
 
 def _patterns_by_kind(rules) -> dict[str, list]:

@@ -47,6 +47,18 @@ def test_missing_lists_only_rules_that_did_not_fire(outer_race):
         assert set(dx.missing) <= titles
 
 
+def test_a_sign_no_input_could_give_is_not_missing():
+    # unbalance on RW-2 with no 1X phase given: the phase rules could not fire, so they are not "missing"
+    machine = load_machine(RW2)
+    sim = simulate(machine, "unbalance", "pump", 3, None, 25600.0, 4.0, 1)
+    d = diagnose(as_reading(sim), machine, Reasoner(load_rulebook()))
+    dx = next(x for x in d.reasoning.differential if x.fault == "unbalance")
+    book = load_rulebook()
+    phase_titles = {r.title for r in book.rules if any(p.kind.startswith("phase") for p in r.needs)}
+    assert phase_titles, "the rulebooks read 1X phase"
+    assert not set(dx.missing) & phase_titles
+
+
 def test_the_report_joins_the_settling_measurement(outer_race):
     machine, d = outer_race
     doc = document_of(d)
