@@ -11,6 +11,8 @@ its component (``repairs``).
 
 from __future__ import annotations
 
+from collections import defaultdict
+
 from ..history.record import indicators_of, is_level
 from .facts import trend_facts
 from .repairs import repairs_of
@@ -49,6 +51,13 @@ class HistoryLink:
                 "direction": c["direction"], "location": c["location"], "zone": None,
                 "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}
                for c in channels]
+        # a trend ends at this reading: an indicator it does not have (a site band, judged after the
+        # reasoning; a tone not found this time) would end at an older reading and read as this one's
+        have: defaultdict[str, set] = defaultdict(set)
+        for r in now:
+            have[r["point"] or r["channel"]] |= set(r["indicators"])
+        earlier = [{**r, "indicators": {k: v for k, v in r["indicators"].items()
+                                        if k in have[r["point"] or r["channel"]]}} for r in earlier]
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs)

@@ -136,10 +136,21 @@ def test_derived_limits_are_mean_plus_k_sd_of_the_healthy_readings(tmp_path, sit
         assert a.alert == pytest.approx(v.mean() + 3 * v.std(ddof=1), rel=1e-3)
         assert a.danger == pytest.approx(v.mean() + 6 * v.std(ddof=1), rel=1e-3)
         assert "8 healthy readings" in a.source
+    # the next survey's trend ends at its own reading: a band judged after the reasoning is not trended in
+    # its report (it would end at the survey before and read as this one's); `tellwave trend` shows it
+    later = tmp_path / "later"
+    later.mkdir()
+    sim = simulate(load_machine(PUMP), "healthy", None, 1, fs_hz=12800.0, duration_s=1.0, seed=200, points=["P2H"])
+    write_simulation(sim, later / "r9.wav")
+    (later / "route.yaml").write_text(yaml.safe_dump({"route": "later", "machines": {"rw2": str(PUMP)}, "readings": [
+        {"file": "r9.wav", "machine": "rw2", "points": {"P2H": "P2H"}, "time": "2026-10-05T08:00:00"}]}))
+    assert _run(later / "route.yaml", tmp_path, "--alarms", site) == 0
+    [report] = [json.loads(p.read_text()) for p in (tmp_path / "later").rglob("r9.wav.json")]
+    assert "velocity_rms_mm_s" in json.dumps(report["trend"]) and "band[" not in json.dumps(report["trend"])
     capsys.readouterr()
     # too few healthy readings for the limits asked: one line, exit 2
-    err = one_error_line(capsys, 2, ["alarms", "derive", MACHINE, "--store", tmp_path / "h.sqlite", "--least", "9"])
-    assert "too few healthy readings" in err and "8 healthy reading(s), 9 needed" in err
+    err = one_error_line(capsys, 2, ["alarms", "derive", MACHINE, "--store", tmp_path / "h.sqlite", "--least", "10"])
+    assert "too few healthy readings" in err and "9 healthy reading(s), 10 needed" in err
 
 
 @pytest.mark.parametrize("argv, words", [
