@@ -46,6 +46,8 @@ def run(args) -> int:
 
     if args.workers is not None and args.workers < 1:
         raise UsageError(f"--workers must be at least 1, got {args.workers}")
+    if args.plots is not None and args.format != "html":
+        raise UsageError(f"--plots draws plots in each reading's HTML report: drop --format {args.format}")
     source = Path(args.route)
     if source.is_dir():
         if not args.plant:

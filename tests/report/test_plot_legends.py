@@ -194,3 +194,11 @@ def test_the_route_keeps_the_channels_a_reading_has():
 def test_tick_labels_keep_the_digits_their_step_needs(value, step, text):
     """A 2.5-step axis printed 42.5 as "42" (round half to even with no decimals)."""
     assert svg.tick_text(value, step) == text
+
+
+def test_route_plots_need_the_html_reports(tmp_path, capsys):
+    route = tmp_path / "route.yaml"
+    route.write_text("route: r\nmachines: {rw2: x.yaml}\nreadings: []\n")
+    err = one_error_line(capsys, 2, ["route", route, "--format", "md", "--plots", "all", "--store", tmp_path / "s.sqlite"])
+    assert "--plots draws plots in each reading's HTML report" in err
+    assert not (tmp_path / "s.sqlite").exists()
