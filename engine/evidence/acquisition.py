@@ -36,11 +36,13 @@ def _closest_pair(rc: Analysis, fmax_hz: float) -> tuple[float, str]:
     return best
 
 
-def _tightest_sidebands(rc: Analysis) -> tuple[float, str]:
+def _tightest_sidebands(rc: Analysis, seen: set[str]) -> tuple[float, str]:
+    """The closest sideband spacing the reading's points can see: 1X sidebands of a mesh with a gear
+    on a shaft ``seen``, pole pass sidebands of a motor on one."""
     spacings = [(rc.speeds_hz[s], f"1X {s} sidebands of {g.mesh}") for g in rc.rates.meshes
-                for s in (g.driving_shaft, g.driven_shaft)]
+                if {g.driving_shaft, g.driven_shaft} & seen for s in (g.driving_shaft, g.driven_shaft)]
     spacings += [(m.pole_pass_hz, f"pole pass sidebands of {m.motor}") for m in rc.rates.motors
-                 if m.pole_pass_hz is not None]
+                 if m.pole_pass_hz is not None and m.shaft in seen]
     return min(spacings) if spacings else (0.0, "")
 
 
@@ -61,7 +63,7 @@ def acquisition(rc: Analysis) -> list[dict]:
     # of shafts at one speed, the first in the machine file: a set's order changes from run to run
     slowest_shaft = min((s for s in rc.speeds_hz if s in seen), key=lambda shaft: rc.speeds_hz[shaft])
     gap, pair = _closest_pair(rc, fmax)
-    spacing, spacing_for = _tightest_sidebands(rc)
+    spacing, spacing_for = _tightest_sidebands(rc, seen)
     centres = [c.kurtogram.best.centre_hz for c in rc.channels if c.kurtogram is not None]
     centre = max(centres) if centres else 0.0
     rates = rc.rates

@@ -77,6 +77,10 @@ def test_a_one_second_motor_point_reading_is_diagnosed(machine, reasoner):
     assert d.reasoning.top is not None and (d.reasoning.top.fault, d.reasoning.top.component) == \
         ("outer-race", "motor_de")
     assert _turn_reasons(d) == []
+    # the sidebands the resolution must split are those the motor point sees (its motor's pole pass,
+    # the first stage's), not the output stage's 55 rpm ones
+    assert a["sideband_for"] == "pole pass sidebands of M-SC2"
+    assert "second_stage" not in a["sideband_for"]
 
 
 def test_a_one_second_pulley_point_reading_is_still_refused(machine, reasoner):
