@@ -199,6 +199,7 @@ def test_tick_labels_keep_the_digits_their_step_needs(value, step, text):
 def test_route_plots_need_the_html_reports(tmp_path, capsys):
     route = tmp_path / "route.yaml"
     route.write_text("route: r\nmachines: {rw2: x.yaml}\nreadings: []\n")
-    err = one_error_line(capsys, 2, ["route", route, "--format", "md", "--plots", "all", "--store", tmp_path / "s.sqlite"])
+    err = one_error_line(capsys, 2, ["route", route, "--format", "md", "--plots", "all",
+                                     "--store", tmp_path / "s.sqlite"])
     assert "--plots draws plots in each reading's HTML report" in err
     assert not (tmp_path / "s.sqlite").exists()
