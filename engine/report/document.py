@@ -252,7 +252,7 @@ def _alarms(alarms, units: ShownUnits | None = None) -> dict:
             "danger": sum(a["state"] == "danger" for a in rows), "results": rows}
 
 
-def _phase(evidence: Evidence, reasoning: Reasoning) -> dict:
+def _phase(evidence: Evidence, reasoning: Reasoning, units: ShownUnits | None = None) -> dict:
     """The 1X phase readings the reading states, and each difference with the rules that read it.
 
     A difference across a coupling is one row (its mirror, the same pair seen from the other
@@ -277,8 +277,11 @@ def _phase(evidence: Evidence, reasoning: Reasoning) -> dict:
                     reads.setdefault(k, []).append({
                         "rule": firing.rule_id, "fault_name": h.fault_name, "component": h.component,
                         "certainty": round(firing.certainty, 3)})
+    units = units or ShownUnits()
     rows = [{"point": f["point"], "location": f["location"], "direction": f["direction"],
-             "amplitude_mm_s": f.get("amplitude_mm_s"), "phase_deg": f["phase_deg"], "readings": f["readings"],
+             "amplitude_mm_s": f.get("amplitude_mm_s"),
+             "amplitude": None if f.get("amplitude_mm_s") is None else units.velocity_text(f["amplitude_mm_s"]),
+             "phase_deg": f["phase_deg"], "readings": f["readings"],
              "spread_deg": f["spread_deg"], "reads": reads.get(("reading", f["id"]), [])} for f in readings]
     out = [{"relation": f["relation"], "direction": f["direction"],
             "first": f"{f['location']} {f['first_direction']}",
@@ -352,7 +355,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
                    "reasons": list(v["reasons"])} for v in reach],
         "alarms": _alarms(alarms, units),
-        "phase": _phase(evidence, reasoning),
+        "phase": _phase(evidence, reasoning, units),
         "cautions": list(advice.cautions),
         "disclaimer": advice.disclaimer,
         "zones": {"scale": {"group": advice.zone_scale.group, "support": advice.zone_scale.support,

@@ -49,3 +49,22 @@ def test_every_format_shows_the_phase_table(doc):
 def test_a_reading_without_phase_has_no_phase_section(doc):
     empty = doc | {"phase": {"readings": [], "differences": []}}
     assert "1X PHASE" not in render(empty, "text") and 'id="phase"' not in render(empty, "html")
+
+
+def test_the_phase_table_speaks_the_chosen_velocity_unit():
+    from dataclasses import replace
+
+    from engine.common.units import ShownUnits
+
+    case = load_case(CASES / "demo/rw2-misalignment-phase.case.yaml")
+    machine = load_machine(case.machine)
+    d = diagnose(reading_of(case, machine), machine, reasoner())
+    # the case gives phase only: give each reading a 1X of 3 mm/s RMS as a sidecar would
+    facts = tuple(f | {"amplitude_mm_s": 3.0} if f["kind"] == "phase_1x" else f for f in d.evidence.facts)
+    d = replace(d, evidence=replace(d.evidence, facts=facts))
+    shown = document_of(d, made_at="2026-01-01T00:00Z", units=ShownUnits(velocity="in/s-peak"))
+    row = next(r for r in shown["phase"]["readings"] if r["amplitude_mm_s"] is not None)
+    # 1 in = 25.4 mm exactly; a single line's peak is sqrt(2) x its RMS (a sine)
+    inches = float(row["amplitude"].split()[0])
+    assert inches == pytest.approx(row["amplitude_mm_s"] / 25.4 * 2 ** 0.5, rel=0.01)
+    assert row["amplitude"].endswith("in/s peak") and row["amplitude"] in render(shown, "text")
