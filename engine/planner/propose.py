@@ -99,8 +99,8 @@ def _holding(lines: int, fmax: float, turns: Need | None, policy: Policy, reason
         return lines
     raised = _standard_lines(turns.value * fmax, policy)
     if raised > lines:
-        reasons[key] = (reasons.get(key, "") + f"; raised to {raised} (resolution {fmax / raised:.3g} Hz) so that one record ({raised / fmax:.3g} s) "
-                        f"holds {turns.what} ({turns.value:.3g} s)").lstrip("; ")
+        reasons[key] = (reasons.get(key, "") + f"; raised to {raised} (resolution {fmax / raised:.3g} Hz) so that "
+                        f"one record ({raised / fmax:.3g} s) holds {turns.what} ({turns.value:.3g} s)").lstrip("; ")
     return max(raised, lines)
 
 

@@ -23,7 +23,6 @@ from engine.planner import (
     targets_at,
     verdicts,
 )
-
 from engine.readings.length import check_record_length
 
 from support import CASES, TEST_MACHINES
