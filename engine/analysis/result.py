@@ -121,11 +121,12 @@ class Analysis:
     rates: Rates
     forcing: tuple[ForcingFrequency, ...]
     channels: tuple[ChannelAnalysis, ...]
-    stated_rpm: float | None = None        # the speed the reading states (file, sidecar or option)
+    stated_rpm: float | None = None        # the speed the reading states (file, sidecar or option): the driver's
     nominal_rpm: float = 0.0               # the machine file's speed of the same shaft
     speed_check: Mapping[str, float] = field(default_factory=dict)   # lines at half and twice the speed
     speed_limits: SpeedLimits | None = None  # what the machine's drive allows the speed shaft, when it says
     phase_1x: tuple = ()                   # the reading's stated 1X phase readings (``PhaseReading``), handed on
+    stated_shaft_rpm: float | None = None  # the stated driver's speed carried to the speed shaft by the ratios
 
     @property
     def duration_s(self) -> float:
@@ -474,4 +475,5 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),
                     MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels),
                     reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check),
-                    speed_limits(machine, shaft), tuple(reading.phase_1x))
+                    speed_limits(machine, shaft), tuple(reading.phase_1x),
+                    stated[shaft] * 60 if reading.speed_rpm else None)

@@ -164,7 +164,8 @@ def add_reading_options(p) -> None:
     p.add_argument("--point", help=f"measurement point id of the machine file ({FROM_FILE})")
     p.add_argument("--direction", choices=DIRECTIONS, metavar="DIRECTION",
                    help=f"sensor direction: {', '.join(DIRECTIONS)} ({FROM_FILE})")
-    p.add_argument("--rpm", type=RPM, help=f"measured running speed in rpm ({FROM_FILE})")
+    p.add_argument("--rpm", type=RPM, help=f"measured running speed of the driving shaft in rpm, the machine "
+                   f"file's first shaft that states its speed; the others follow by their ratios ({FROM_FILE})")
     add_max_samples_option(p)
 
 

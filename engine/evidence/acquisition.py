@@ -107,7 +107,9 @@ def speed_check(rc: Analysis) -> list[dict]:
     """
     est = rc.speed_estimate
     limits = rc.speed_limits
-    stated = rc.stated_rpm or 0.0
+    # a reading states its driver's speed (--rpm, the sidecar's speed_rpm, synth's sidecar): the
+    # shaft the speed is measured on is compared with that speed carried to it by the machine's ratios
+    stated = (rc.stated_shaft_rpm or 0.0) if rc.stated_rpm else 0.0
     measured = est.speed_hz * 60
     against = stated or rc.nominal_rpm
     deviation = 100.0 * (measured - against) / against if against > 0 else 0.0
@@ -116,6 +118,7 @@ def speed_check(rc: Analysis) -> list[dict]:
     family_deviation = 100.0 * (scale - 1) if scale else 0.0
     return [{
         "kind": "speed_check", "shaft": rc.speed_shaft, "stated_rpm": stated, "nominal_rpm": rc.nominal_rpm,
+        "stated_driver_rpm": rc.stated_rpm or 0.0, "driver": rc.machine.driver_shaft,
         "measured_rpm": measured, "source": est.source, "harmonics": est.lines_found,
         "deviation_pct": deviation, "abs_deviation_pct": abs(deviation),
         **{name: value for name, value in check.items() if name != "far_family_hz"},

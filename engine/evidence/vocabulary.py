@@ -196,7 +196,11 @@ FACTS: dict[str, dict[str, F]] = {
     },
     "speed_check": {
         "shaft": F("string", "shaft the speeds refer to", ""),
-        "stated_rpm": F("number", "speed the reading states (0 when it states none)", "rpm"),
+        "stated_rpm": F("number", "speed the reading states, carried from the driving shaft to this shaft by the "
+                                  "machine's ratios (0 when it states none)", "rpm"),
+        "stated_driver_rpm": F("number", "speed the reading states, of the driving shaft (0 when it states none)",
+                               "rpm"),
+        "driver": F("string", "the driving shaft: the machine file's shaft whose speed is stated", ""),
         "nominal_rpm": F("number", "speed of that shaft in the machine file", "rpm"),
         "measured_rpm": F("number", "speed used by the analysis", "rpm"),
         "source": F("string", "where the speed used came from: 1X harmonics, bearing tones or stated", ""),

@@ -24,7 +24,7 @@ from ..evidence.envelope import harmonics_searched, shared_lines
 from ..evidence.matching import SLIP_TOLERANCE
 from ..machine import Machine, Point
 from ..machine.kinematics import belt_pass_hz, mesh_rates, rates_at, vane_pass_hz
-from ..readings.length import MIN_REVOLUTIONS_TO_ANALYSE
+from ..readings.length import FMAX_FACTOR, MIN_REVOLUTIONS_TO_ANALYSE
 from .policy import Policy
 from .settings import Settings
 from .targets import ENVELOPE_DEFECT, ROUTES, Target, bearings_at, meshes_at, motors_at, targets_at
@@ -470,11 +470,17 @@ def _turns(machine: Machine, point: Point, speeds, policy: Policy, purpose: str,
     slowest = min(sorted(seen), key=lambda s: speeds[s])
     hz = speeds[slowest]
     gates = tuple((t, name) for t in targets for name, _ in ROUTES[t.signature])
+    fastest = max(sorted(speeds), key=lambda s: speeds[s])
     needs = [
         Need(purpose, "duration", f"{MIN_REVOLUTIONS_TO_ANALYSE:g} turns of {slowest}, the slowest shaft "
              f"{point.id} sees", MIN_REVOLUTIONS_TO_ANALYSE / hz, "blocks", gates,
              "a shorter record is refused before the analysis",
              span_s=1 / hz, noun=f"turns of {slowest}", source="engine/readings/length.py"),
+        # the record's sample rate / FMAX_FACTOR must reach 1X of the machine's fastest shaft, whatever
+        # shaft the purpose is about, or the record is refused; in the policy's Fmax (sample rate / its factor)
+        Need(purpose, "fmax", f"1X of {fastest}, the fastest shaft of the machine",
+             speeds[fastest] * FMAX_FACTOR / policy.sample_rate_per_fmax, "blocks", gates,
+             "a record sampled slower is refused before the analysis", source="engine/readings/length.py"),
     ]
     for shaft in sorted({t.shaft for t in targets}, key=lambda s: (speeds[s], s)):
         own = tuple((t, name) for t in targets if t.shaft == shaft for name, _ in ROUTES[t.signature])

@@ -91,8 +91,21 @@ def _standard_lines(wanted: float, policy: Policy) -> int:
     return next((n for n in policy.standard_lines if n >= wanted * (1 - 1e-9)), policy.standard_lines[-1])
 
 
+def _holding(lines: int, fmax: float, turns: Need | None, policy: Policy, reasons: dict, key: str) -> int:
+    """``lines`` at ``fmax``, raised to the fewest standard lines whose record (lines / Fmax) holds the
+    turns ``turns`` asks, with the reason under ``key``: a record one turn short of a turn need is limited
+    by the very check that proposed it, and the measured speed may be a little lower than the stated one."""
+    if turns is None or lines / fmax >= turns.value * (1 - 1e-9):
+        return lines
+    raised = _standard_lines(turns.value * fmax, policy)
+    if raised > lines:
+        reasons[key] = (reasons.get(key, "") + f"; raised to {raised} (resolution {fmax / raised:.3g} Hz) so that "
+                        f"one record ({raised / fmax:.3g} s) holds {turns.what} ({turns.value:.3g} s)").lstrip("; ")
+    return max(raised, lines)
+
+
 def _two_spectra(machine: Machine, point: Point, policy: Policy, speeds: dict, fmax: float,
-                 tight: Need | None, reasons: dict) -> tuple[int, float, int]:
+                 tight: Need | None, reasons: dict, turns: Need | None = None) -> tuple[int, float, int]:
     """(raw lines, envelope Fmax, envelope lines) of a bearing point, with their reasons added to ``reasons``."""
     shaft_hz, shaft = min((speeds[b.shaft], b.shaft) for b in bearings_at(machine, point))
     per = policy.lines_between_harmonics
@@ -115,6 +128,7 @@ def _two_spectra(machine: Machine, point: Point, policy: Policy, speeds: dict, f
         reasons["envelope lines"] = (f"resolution {env_fmax / env_lines:.3g} Hz puts "
                                      f"{tight.value / (env_fmax / env_lines):.1f} lines across {tight.what} "
                                      f"(at least {tight.lines:g})")
+    env_lines = _holding(env_lines, env_fmax, turns, policy, reasons, "envelope lines")
     return raw_lines, env_fmax, env_lines
 
 
@@ -175,12 +189,19 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
                     key=lambda n: n.value / n.lines, default=tight)
     two: tuple[int | None, float | None, int | None] = (None, None, None)
     spectra: dict = {}
+    # one record (lines / Fmax) holds the turns every shaft need asks (the longest): the checks and the
+    # diagnosis count a reading's turns, so lines chosen for resolution alone may leave it a turn short
+    turns: Need | None = max((n for n in by["duration"] if n.noun.startswith("turns of")), key=lambda n: n.value,
+                             default=None)
+    raised: dict = {}
     if req.envelope_band_hz is not None:
         # the record is the one the envelope spectrum's resolution needs; its lines at the raw Fmax
         # stand for that record in the checks (the raw spectrum has its own, fewer, lines)
-        raw_lines, env_fmax, env_lines = _two_spectra(machine, point, policy, speeds, fmax, tight, spectra)
+        raw_lines, env_fmax, env_lines = _two_spectra(machine, point, policy, speeds, fmax, tight, spectra, turns)
         two = (raw_lines, env_fmax, env_lines)
         lines = int(round(fmax * env_lines / env_fmax))
+    else:
+        lines = _holding(lines, fmax, turns, policy, raised, "lines")
     resolution = fmax / lines
     record = lines / fmax
 
@@ -196,7 +217,8 @@ def propose(machine: Machine, point: Point, purpose: str, policy: Policy,
         "Fmax": fmax_why,
         "lines": (f"resolution {resolution:.3g} Hz puts {tight.value / resolution:.1f} lines across "
                   f"{tight.what} (at least {tight.lines:g})" if tight is not None else
-                  "no spacing to split for this purpose; the fewest standard lines"),
+                  "no spacing to split for this purpose; the fewest standard lines")
+                 + (f"; {raised['lines']}" if raised else ""),
         "sample rate": f"{k:g} x Fmax ({src('sample_rate_per_fmax').split(' (')[0]})",
         "record": (f"envelope lines / envelope Fmax, one average; {slow} is the slowest shaft of interest"
                    if spectra else f"lines / Fmax, one average; {slow} is the slowest shaft of interest"),

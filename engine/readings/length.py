@@ -52,6 +52,9 @@ def check_record_length(reading, machine) -> None:
     if revolutions >= MIN_REVOLUTIONS_TO_ANALYSE:
         return
     which = "the slowest" if len(seen) == len(speeds) else "the slowest its points see"
+    # a stated speed is the driving shaft's: say so, for a shaft's own speed stated as the driver's reads here
+    if reading.speed_rpm and shaft != machine.driver_shaft:
+        which += f", with the stated {reading.speed_rpm:.4g} rpm on the driving shaft {machine.driver_shaft!r}"
     raise ReadingError(
         f"the record of {reading.duration_s:.4g} s holds {revolutions:.2g} revolutions of shaft {shaft!r} "
         f"({slowest_hz * 60:.4g} rpm, {which}); the analysis needs at least "

@@ -15,6 +15,7 @@ from __future__ import annotations
 import numpy as np
 
 from .band_rms import INTEGRATIONS_TO_VELOCITY, ISO_BAND_HZ, band_rms_of_fft
+from .length import MIN_REVOLUTIONS_TO_ANALYSE
 from .model import Channel, QualityIssue
 
 CLIP_FULL_SCALE_FRACTION = 0.999  # a sample at >= 99.9 % of the recorder's full scale is clipped
@@ -22,6 +23,7 @@ FLAT_TOP_MIN_RUN = 3              # equal consecutive samples at the extreme: fl
 DC_OFFSET_RATIO = 0.25            # |mean| above a quarter of the AC RMS: sensor bias suspect
 DRIFT_SEGMENTS = 16
 DRIFT_RATIO = 1.0                 # segment means spreading over one AC RMS: slow drift
+DRIFT_TONES = 3                   # tones of two cycles or more whose spread is set aside before drift is judged
 DROPOUT_MIN_S = 0.005             # 5 ms of identical samples mid-signal: a dropout
 
 # Clipping from the amplitude distribution. Near a smooth (quadratic) maximum a
@@ -151,17 +153,55 @@ def check_channel(ch: Channel, fs_hz: float) -> list[QualityIssue]:
         issues.append(QualityIssue(
             "dc_offset", ch.name,
             f"mean is {abs(mean) / ac_rms:.2f} x the AC RMS: sensor bias or a DC-coupled input", abs(mean) / ac_rms))
-    segments = np.array_split(ac, DRIFT_SEGMENTS)
-    means = np.array([s.mean() for s in segments])
-    spread = float((means.max() - means.min()) / ac_rms)
+    spread = _drift_spread(ac, ac_rms)
     if spread > DRIFT_RATIO:
         issues.append(QualityIssue(
             "drift", ch.name,
-            f"slow drift: segment means spread over {spread:.2f} x the AC RMS (settling sensor or thermal drift)",
+            f"segment means spread over {spread:.2f} x the AC RMS (settling sensor or thermal drift)",
             spread))
     issues += _dropouts(ch, x, fs_hz)
     issues += _plausibility(ch, ac, size, fs_hz)
     return issues
+
+
+def _segment_spread(x: np.ndarray, ac_rms: float) -> float:
+    """Spread of the means of ``DRIFT_SEGMENTS`` equal segments of ``x``, over ``ac_rms``."""
+    means = np.array([s.mean() for s in np.array_split(x, DRIFT_SEGMENTS)])
+    return float((means.max() - means.min()) / ac_rms)
+
+
+def _drift_spread(ac: np.ndarray, ac_rms: float) -> float:
+    """How far the segment means of the AC part ``ac`` spread, over its RMS, beyond what its tones give.
+
+    A pure tone's segment means are not zero when a segment holds less than a few of its cycles: over
+    a segment of ``L`` cycles a tone of peak ``A`` has a mean of at most ``A sin(pi L) / (pi L)`` in
+    size, so its means spread over at most twice that; a clean record of ten turns of a 1X sine (0.6
+    turn a segment) spreads them over 1.3 x its RMS [derived]. Drift is slower than any vibration the
+    analysis reads: a tone of at least ``MIN_REVOLUTIONS_TO_ANALYSE`` cycles in the record is a shaft's
+    or a defect's (a record holding fewer turns is refused, engine/readings/length.py), so the spread
+    the ``DRIFT_TONES`` tallest such tones can give is set aside before the spread is judged; a ramp or
+    a settling curve, whose energy lies below two cycles per record, is not.
+    """
+    spread = _segment_spread(ac, ac_rms)
+    n = ac.size
+    lowest = int(np.ceil(MIN_REVOLUTIONS_TO_ANALYSE))
+    if spread <= DRIFT_RATIO or n < 8 * DRIFT_SEGMENTS:
+        return spread
+    window = np.hanning(n)
+    mag = np.abs(np.fft.rfft(ac * window))
+    inner = np.arange(lowest, mag.size - 1)
+    peaks = inner[(mag[inner] >= mag[inner - 1]) & (mag[inner] >= mag[inner + 1])]
+    toned = 0.0
+    for k in peaks[np.argsort(mag[peaks])[::-1][:DRIFT_TONES]]:
+        a, b, c = np.log(mag[k - 1:k + 2] + 1e-300)
+        den = a - 2 * b + c
+        d = float(np.clip(0.5 * (a - c) / den, -0.5, 0.5)) if den < 0 else 0.0   # parabolic peak (Hann)
+        if k + d < MIN_REVOLUTIONS_TO_ANALYSE:
+            continue
+        hann_gain = np.sinc(d) / (1 - d * d)           # the Hann window's response at d bins from a tone
+        peak = 2 * mag[k] / window.sum() / hann_gain   # the tone's peak, in the units of ``ac``
+        toned += 2 * peak * abs(np.sinc((k + d) / DRIFT_SEGMENTS))
+    return max(spread - toned / ac_rms, 0.0)
 
 
 def _physical_range(ch: Channel, rms_si: float) -> list[QualityIssue]:

@@ -51,7 +51,10 @@ def test_twice_line_frequency_on_a_shaft_harmonic_is_reported_as_inseparable():
     assert len(twins) == 1 and "2xLF of M-RW2 (100 Hz) falls on 4X of motor" in twins[0].what
     assert not [n for n in req.needs if n.setting == "resolution"]
     proposal = propose(machine, point, "electrical", policy, 1500.0)
-    assert proposal.lines == policy.standard_lines[0]
+    # no spacing to split: the fewest standard lines whose record holds 10 turns of the motor (policy
+    # min_revolutions) at 1500 rpm, 0.4 s: 800 lines at Fmax 2000 Hz
+    assert proposal.lines == min(n for n in policy.standard_lines if n / proposal.fmax_hz >= 10 / 25 * (1 - 1e-9))
+    assert proposal.fmax_hz == 2000 and proposal.lines == 800
     assert any("no setting separates them: 2xLF" in n for n in proposal.notes)
     assert twins[0] in proposal.unmet
     # one rpm away the two lines are 4/60 Hz apart: a spacing to split again, no twin

@@ -1,6 +1,8 @@
 """Proposals meet their own checks; checks find what deliberately poor settings cannot show."""
 
 import math
+from dataclasses import replace
+from types import SimpleNamespace
 
 import pytest
 
@@ -21,6 +23,7 @@ from engine.planner import (
     targets_at,
     verdicts,
 )
+from engine.readings.length import check_record_length
 
 from support import CASES, TEST_MACHINES
 
@@ -51,6 +54,35 @@ def test_every_proposal_passes_its_own_checks(path):
                 assert p.lines in POLICY.standard_lines and p.raw_lines is None
 
 
+@pytest.mark.parametrize("path", MACHINES, ids=[p.stem for p in MACHINES])
+def test_every_proposal_passes_the_diagnosis_s_length_and_rate_gates(path):
+    # a proposal the analysis refuses (engine/readings/length.py: Fmax below 1X of the fastest shaft, or
+    # fewer than 2 turns of the slowest shaft the point sees) or one record a turn short of the turns a
+    # check asks is no proposal: one record holds the longest turn need, the waveform too
+    machine = load_machine(path)
+    for point in machine.points:
+        for purpose in purposes_at(machine, point):
+            p = propose(machine, point, purpose, POLICY)
+            for settings in (p.settings(), replace(p.settings(), duration_s=p.record_s)):
+                reading = SimpleNamespace(speed_rpm=None, fs_hz=settings.sample_rate_hz, source=str(path),
+                                          duration_s=settings.duration_s, channels=[SimpleNamespace(point=point.id)])
+                check_record_length(reading, machine)
+            turns = [n for n in p.requirements.needs if n.setting == "duration" and n.noun.startswith("turns of")]
+            assert all(p.record_s >= n.value * (1 - 1e-9) for n in turns) or p.lines == POLICY.standard_lines[-1] \
+                or (p.envelope_lines == POLICY.standard_lines[-1]), (point.id, purpose)
+
+
+def test_the_conveyor_s_slow_shaft_proposal_is_sampled_above_the_motor_s_1x():
+    # SC-5: motor 1480 rpm (24.67 Hz), pulley 54.73 rpm. 10 x 1X of the pulley needs only 9.1 Hz, but a
+    # record whose Fmax (sample rate / 2.56) is below the motor's 1X is refused; and one record holds
+    # 10 turns of the output shaft (10.96 s), not 9.1
+    machine = load_machine(TEST_MACHINES / "sc5-sludge-cake-conveyor.yaml")
+    p = _proposal(machine, "H1H", "shaft")
+    assert p.fmax_hz == 50 and p.sample_rate_hz == 128 and p.record_s >= 10 * 60 / 54.73
+    bearing = _proposal(machine, "H1H", "bearing")
+    assert bearing.record_revolutions >= 10 and "raised to" in bearing.reasons["envelope lines"]
+
+
 def _proposal(machine, point, purpose):
     return propose(machine, machine.point(point), purpose, POLICY)
 
@@ -59,7 +91,10 @@ def test_severity_covers_the_iso_band():
     p = _proposal(RW2, "P1H", "severity")
     # Source: ISO 20816-3:2022 band 10-1000 Hz (from memory, check-values.md); the lower edge
     # 4 lines above 0 Hz since the Hann main lobe spans +-2 lines (Heinzel et al. 2002) [derived].
-    assert p.fmax_hz == 1000 and p.lines == 400 and p.resolution_hz == pytest.approx(2.5)
+    # 400 lines (2.5 Hz) would do for the band, but a record of 0.4 s holds 9.9 turns of the pump at
+    # 1486 rpm, one short of its own turn need (10 turns, policy min_revolutions): the lines are raised to 800
+    assert p.fmax_hz == 1000 and p.lines == 800 and p.resolution_hz == pytest.approx(1.25)
+    assert p.record_revolutions == pytest.approx(0.8 * 1486 / 60) and "raised to 800" in p.reasons["lines"]
     assert p.sample_rate_hz == 2560                               # 2.56 x Fmax, common practice
 
 

@@ -138,9 +138,10 @@ def test_a_proof_longer_than_a_reading_is_refused_before_simulating(capsys):
     # 0.4 s at 10 MHz is 4 M samples, within a reading; the proof's physical signal runs at twice the
     # fastest rate for the longest waveform of the given and proposed settings with 0.2 s of padding. The
     # first purpose at GINH (the overall level) proposes 10 turns of its own shaft, gear_input at 985 rpm:
-    # 0.609 s (issue 24: a fault needs the turns of its own shaft), so (0.609 + 0.2) s x 2e7 Hz = 1.6e7
+    # 0.609 s (issue 24: a fault needs the turns of its own shaft), held by one record of 800 lines at
+    # Fmax 1000 Hz, 0.8 s (a record holds the turns it needs), so (0.8 + 0.2) s x 2e7 Hz = 2e7
     assert main(["plan", str(CT1), "--point", "GINH", "--sample-rate", "10000000", "--duration", "0.4"]) == 2
     err = capsys.readouterr().err
-    assert len(err.strip().splitlines()) == 1 and "the proof would simulate 1.618e+07 samples" in err
+    assert len(err.strip().splitlines()) == 1 and "the proof would simulate 2e+07 samples (1 s" in err
     assert main(["plan", str(CT1), "--point", "GINH", "--sample-rate", "10000000", "--duration", "0.4",
                  "--no-proof", "--format", "json"]) == 0

@@ -14,6 +14,7 @@ from engine.cli import main
 from engine.common import units
 from engine.common.errors import ReadingError, UsageError
 from engine.readings import check_resolution, load_reading, sidecar_path
+from engine.readings.quality import describe_issue
 
 from support import tone
 
@@ -215,6 +216,25 @@ def test_gate_dc_offset(tmp_path, rng):
 def test_gate_slow_drift(tmp_path, rng):
     x = tone(50.0, FS, N, 0.2) + np.linspace(0, 2.0, N)
     assert "drift" in [q.kind for q in _npz(tmp_path, x).quality]
+
+
+@pytest.mark.parametrize("turns", [2.5, 5.0, 10.0, 10.3])
+@pytest.mark.parametrize("phase", [0.0, 0.7, 1.6])
+def test_a_short_clean_tone_is_not_drift(tmp_path, turns, phase):
+    # ten turns of a 1X sine in 16 segments put 0.6 turn in each: its segment means spread over 1.35 x its
+    # RMS (2 sqrt 2 sin(pi L) / (pi L), L = 0.625 [derived]), above the gate's 1 x; a tone is no drift
+    fs, f = 2560.0, 1486 / 60
+    n = int(round(turns / f * fs))
+    x = tone(f, fs, n, 1.0, phase)
+    assert "drift" not in [q.kind for q in _npz(tmp_path, x, fs).quality]
+
+
+def test_drift_under_a_short_tone_is_still_drift_and_named_once(tmp_path):
+    fs, f = 2560.0, 1486 / 60
+    n = int(round(10 / f * fs))                 # the same ten turns, on a ramp
+    x = tone(f, fs, n, 1.0) + np.linspace(0, 2.0, n)
+    drift = [q for q in _npz(tmp_path, x, fs).quality if q.kind == "drift"]
+    assert len(drift) == 1 and describe_issue(drift[0]).count("slow drift") == 1
 
 
 def test_gate_dropout(tmp_path, rng):

@@ -18,6 +18,7 @@ def speed_check(**fields) -> dict:
     """A speed_check fact of a shaft measured at its nominal 1486 rpm, line-fed (1350 to 1500 rpm), with
     1X, 2X and 3X standing and nothing at half orders; ``fields`` change it."""
     fact = {"kind": "speed_check", "id": "speed_check-1", "shaft": "motor", "stated_rpm": 1486.0,
+            "stated_driver_rpm": 1486.0, "driver": "motor",
             "nominal_rpm": 1486.0, "measured_rpm": 1486.0, "source": "1X harmonics", "harmonics": 3,
             "deviation_pct": 0.0, "abs_deviation_pct": 0.0, "one_x_found": True, "odd_order_lines": 2,
             "half_order_lines": 0, "half_to_one_x": 0.0, "double_speed_lines": 1, "half_x_snr_db": 0.0,
