@@ -17,10 +17,10 @@ frequency harmonic of a motor (which a slipping rotor's harmonics cross) are
 left out of the search; at the speed the others give, such a harmonic joins the
 family when it stands more than a Hann main lobe and a line (``MERGED_LINES`` + 1
 lines) from the line frequency harmonic: 2X of a 2-pole motor at 2960 rpm,
-98.7 Hz, is told from 2 x 50 Hz at 0.25 Hz resolution. The lines found are gathered again at the speed they give until the
-family stops changing, and the speed counts as measured only when they make a
-shaft's family (``hangs_together``): one line near the stated 1X is not a
-measurement.
+98.7 Hz, is told from 2 x 50 Hz at 0.25 Hz resolution. The lines found are
+gathered again at the speed they give until the family stops changing, and
+the speed counts as measured only when they make a shaft's family
+(``hangs_together``): one line near the stated 1X is not a measurement.
 
 When no shaft line stands out, the sharpest bearing-tone family of the
 squared envelope spectrum can give the speed instead (``speed_from_tones``),
