@@ -197,10 +197,13 @@ def _shaft_order_nearer(rc: Analysis, line_hz: float, expected_hz: float) -> boo
 
 
 def _shaft_order_within(rc: Analysis, spec, expected_hz: float) -> bool:
-    """Whether a shaft harmonic lies within the reading's matching tolerance of an electrical rate: the line
-    found there cannot be told from that harmonic (nor the harmonic from it) at this reading's precision."""
+    """Whether a shaft harmonic lies within a shaft line's precision (1.5 lines, or 0.5 %) of an electrical
+    rate: a line there cannot be told from that harmonic (nor the harmonic from it) in this reading.
+
+    The line frequency is known to the grid's precision, so a line found on 2 x LF is a shaft harmonic only
+    when one of those can sit there; a line nearer the stated harmonic went to it (``_shaft_order_nearer``)."""
     _, shaft_hz = _nearest_shaft_order(rc, expected_hz)
-    return bool(abs(shaft_hz - expected_hz) <= tolerance_hz(spec, expected_hz, _tol(rc)))
+    return bool(abs(shaft_hz - expected_hz) <= tolerance_hz(spec, expected_hz, SPEED_TOLERANCE))
 
 
 def _spec_of(c: ChannelAnalysis, f) -> object:

@@ -67,7 +67,8 @@ FACTS: dict[str, dict[str, F]] = {
         "snr_db": F("number", "peak over the local noise floor, dB", "dB"),
         "ratio_to_1x": F("number", "velocity amplitude over 1X of its shaft on this channel", ""),
         "shaft_order_within_tolerance": F("boolean", "an electrical rate with a shaft harmonic (1X to 10X) within "
-                                          "the reading's matching tolerance of it: the two cannot be told apart", ""),
+                                          "a shaft line's precision (1.5 lines or 0.5 %) of it: the two cannot "
+                                          "be told apart", ""),
     },
     "harmonic_series": CHANNEL_FIELDS | {
         "source": F("string", "1X, GMF, BPFO, vane pass, ...", ""),
