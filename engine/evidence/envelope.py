@@ -68,6 +68,57 @@ def _on_shaft_order(ses, freq_hz, shaft_hz) -> bool:
     return order >= 1 and abs(freq_hz - order * shaft_hz) <= tolerance_hz(ses, freq_hz, SHAFT_ORDER_TOLERANCE)
 
 
+COMB_ORDERS = 20          # the first orders of a shaft looked at for its once-per-turn comb
+COMB_SHARE = 0.6          # the share of them that must stand clear for the comb to stand
+
+
+def _combed_speeds(ses, lines, speeds_hz) -> list[float]:
+    """The shaft speeds (Hz) whose once-per-turn comb stands in the SES.
+
+    One impact per turn of a shaft (a damaged tooth, a rub) puts a line at
+    nearly every order of that shaft in the envelope (a periodic impulse
+    train's spectrum is a comb at its repetition rate; Randall 2011, Vibration-
+    based Condition Monitoring, section 3.6): the comb stands when at least
+    ``COMB_SHARE`` of the first ``COMB_ORDERS`` orders below Fmax hold a clear line
+    within the shaft-order tolerance.
+    """
+    _, freq, _ = lines
+    out = []
+    for hz in speeds_hz:
+        orders = [k * hz for k in range(1, COMB_ORDERS + 1) if k * hz <= ses.fmax_hz * 0.98
+                  and k * hz >= 3 * ses.resolution_hz]
+        if len(orders) < COMB_ORDERS // 2 or not len(freq):
+            continue
+        on = sum(1 for f in orders
+                 if np.min(np.abs(freq - f)) <= tolerance_hz(ses, f, SHAFT_ORDER_TOLERANCE))
+        if on >= COMB_SHARE * len(orders):
+            out.append(hz)
+    return out
+
+
+def _leave_shaft_combs(ses, lines, speeds_hz, defects, all_found) -> None:
+    """Take from a family every line when all of them are orders of a shaft whose comb stands in the SES.
+
+    A once-per-turn comb of a slow shaft has lines so close together that
+    some of them fall within slip of any defect rate's harmonics (a tooth
+    struck once per turn of a 5 Hz shaft put lines within 1 % of BPFI and 2 x
+    BSF of a bearing two gear stages away). A family whose every line is an
+    order of such a shaft is explained by that shaft (the smaller set of
+    causes covers its lines: parsimonious covering, Peng & Reggia 1990),
+    unless its rate is itself an order of that shaft (then its lines are both).
+    """
+    combed = _combed_speeds(ses, lines, speeds_hz)
+    if not combed:
+        return
+    for t, ((_, _, rate), found) in enumerate(zip(defects, all_found)):
+        if not found:
+            continue
+        for hz in combed:
+            if not _on_shaft_order(ses, rate, hz) and all(_on_shaft_order(ses, p.freq_hz, hz) for p in found.values()):
+                all_found[t] = {}
+                break
+
+
 TIE = 0.01              # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
 DEFECT_RANK = {"BPFO": 0, "BPFI": 0, "BSF": 1, "FTF": 2}
 
@@ -251,11 +302,14 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
     """
     tones, zones = [], []
     defects = list(_defects(rc))
+    speeds = sorted({round(hz, 9) for hz in rc.speeds_hz.values()})
     for c in rc.channels:
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
+            _leave_shaft_combs(view.ses, clear_lines(view.ses), speeds, defects, found)
             owned = _owners(defects, found, c.location, view.ses.fmax_hz)
-            tones += _tone_facts(c, view, defects, found, owned, clear_lines(view.ses))
+            seen = rc.machine.shafts_seen_from(c.point.shaft) if c.point else set(rc.speeds_hz)
+            tones += _tone_facts(c, view, defects, found, owned, clear_lines(view.ses), seen)
             zones += _modulation_facts(c, view, defects, found, owned)
     _mark_strongest(tones)
     return tones + zones
@@ -284,7 +338,7 @@ def _ball_rate_on_shaft_order(b) -> bool:
     return bool(order >= 1 and abs(ball / (order * b.shaft_hz) - 1) <= SLIP_TOLERANCE)
 
 
-def _tone_facts(c, view, defects, all_found, owned, lines) -> list[dict]:
+def _tone_facts(c, view, defects, all_found, owned, lines, seen: set[str]) -> list[dict]:
     out = []
     ses = view.ses
     for t, ((b, defect, rate), found) in enumerate(zip(defects, all_found)):
@@ -310,6 +364,7 @@ def _tone_facts(c, view, defects, all_found, owned, lines) -> list[dict]:
             "fundamental_owned": bool(fundamental),
             "chance_pct": 100 * chance,
             "ball_rate_on_shaft_order": _ball_rate_on_shaft_order(b),
+            "shaft_seen": b.shaft in seen,
             "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
             "band_kurtosis": view.band_kurtosis,

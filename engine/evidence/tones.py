@@ -67,9 +67,11 @@ def tones(rc: Analysis) -> list[dict]:
             lines = find_lines(spec, [f.frequency_hz for f in group], [_tol(rc, f.family) for f in group])
             for i, f in enumerate(group):
                 peak = lines.peak(i)       # None when the line was not found
-                if peak is not None and not (f.family == "bearing"
-                                             and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
-                    hits.append((f, peak))
+                if peak is None or (f.family == "bearing" and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
+                    continue
+                if f.family == "electrical" and _shaft_order_nearer(rc, lines.freq_hz[i], f.frequency_hz):
+                    continue
+                hits.append((f, peak))
         if not hits:
             continue
         accel_g, v = _amplitudes_at(c, np.array([p.freq_hz for _, p in hits]), 0.0)
@@ -79,6 +81,8 @@ def tones(rc: Analysis) -> list[dict]:
                 "shaft": f.shaft, "expected_hz": f.frequency_hz, "freq_hz": peak.freq_hz,
                 "amplitude_mm_s": float(v_mm_s), "amplitude_g": float(a_g), "snr_db": db(peak.snr),
                 "ratio_to_1x": float(v_mm_s) / one_x[f.shaft] if one_x[f.shaft] > 0 else 0.0,
+                "shaft_order_within_tolerance": (f.family == "electrical"
+                                                 and _shaft_order_within(rc, _spec_of(c, f), f.frequency_hz)),
                 SIGNS: {spectrum_line(c.name, peak.line): match_fit(peak.freq_hz / f.frequency_hz - 1,
                                                                     _tol(rc, f.family))},
             })
@@ -170,6 +174,42 @@ def _is_shaft_order(rc: Analysis, spec, freq_hz: float, shaft: str) -> bool:
     fr = rc.speeds_hz[shaft]
     k = round(freq_hz / fr)
     return k >= 1 and abs(freq_hz - k * fr) <= tolerance_hz(spec, freq_hz, _tol(rc))
+
+
+def _nearest_shaft_order(rc: Analysis, freq_hz: float) -> tuple[float, float]:
+    """(relative distance, Hz) of the shaft harmonic (1X to 10X of any shaft) nearest ``freq_hz``."""
+    best = (float("inf"), 0.0)
+    for fr in rc.speeds_hz.values():
+        k = min(max(round(freq_hz / fr), 1), SHAFT_HARMONICS)
+        best = min(best, (abs(freq_hz / (k * fr) - 1), k * fr))
+    return best
+
+
+def _shaft_order_nearer(rc: Analysis, line_hz: float, expected_hz: float) -> bool:
+    """Whether a shaft harmonic explains a line found for an electrical rate better than that rate does.
+
+    2X of a 2-pole motor lies a slip away from 2 x line frequency (2X at 2960 rpm is 98.7 Hz, 2 x LF
+    100 Hz): both fall in one search window when the speed is only stated. The line goes to the rate
+    it lies closer to, as a bearing-tone line goes to the family that explains it best.
+    """
+    shaft_error, _ = _nearest_shaft_order(rc, line_hz)
+    return shaft_error < abs(line_hz / expected_hz - 1)
+
+
+def _shaft_order_within(rc: Analysis, spec, expected_hz: float) -> bool:
+    """Whether a shaft harmonic lies within a shaft line's precision (1.5 lines, or 0.5 %) of an electrical
+    rate: a line there cannot be told from that harmonic (nor the harmonic from it) in this reading.
+
+    The line frequency is known to the grid's precision, so a line found on 2 x LF is a shaft harmonic only
+    when one of those can sit there; a line nearer the stated harmonic went to it (``_shaft_order_nearer``)."""
+    _, shaft_hz = _nearest_shaft_order(rc, expected_hz)
+    return bool(abs(shaft_hz - expected_hz) <= tolerance_hz(spec, expected_hz, SPEED_TOLERANCE))
+
+
+def _spec_of(c: ChannelAnalysis, f) -> object:
+    """The spectrum a tone of forcing frequency ``f`` is read from (velocity below 1 kHz and for shaft-like
+    families, acceleration above)."""
+    return c.velocity if _uses_velocity(f.family, f.frequency_hz) else c.spectrum
 
 
 def _is_other_line(rc: Analysis, freq_hz: float, exclude_shaft: str) -> bool:

@@ -66,6 +66,9 @@ FACTS: dict[str, dict[str, F]] = {
         "amplitude_g": F("number", "acceleration amplitude, g peak", "g peak"),
         "snr_db": F("number", "peak over the local noise floor, dB", "dB"),
         "ratio_to_1x": F("number", "velocity amplitude over 1X of its shaft on this channel", ""),
+        "shaft_order_within_tolerance": F("boolean", "an electrical rate with a shaft harmonic (1X to 10X) within "
+                                          "a shaft line's precision (1.5 lines or 0.5 %) of it: the two cannot "
+                                          "be told apart", ""),
     },
     "harmonic_series": CHANNEL_FIELDS | {
         "source": F("string", "1X, GMF, BPFO, vane pass, ...", ""),
@@ -119,6 +122,9 @@ FACTS: dict[str, dict[str, F]] = {
         "fundamental_owned": F("boolean", "the fundamental was found and no other family explains it better", ""),
         "ball_rate_on_shaft_order": F("boolean", "the bearing's ball defect rate (2 x BSF) lies within slip of a whole "
                                       "order of its shaft, where no ball family can be judged", ""),
+        "shaft_seen": F("boolean", "the channel's point sees the bearing's shaft (Machine.shafts_seen_from: its "
+                        "own shaft, a shaft coupled to it, the other shaft of a mesh or belt on it); true without "
+                        "a point", ""),
         "chance_pct": F("number", "chance that unrelated lines of this envelope spectrum, at their density near the "
                         "family, would give it its fundamental and as many harmonics (100 without a fundamental)", "%"),
         "match_error_pct": F("number", "mean distance of the harmonics found from their expected frequencies, %", "%"),

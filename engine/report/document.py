@@ -228,7 +228,7 @@ def speed_text(speed: dict) -> str:
     gap = f", {speed['deviation_pct']:+.1f} % from the {against}".replace("-0.0 %", "0.0 %").replace("+0.0 %", "0.0 %")
     if speed["source"] == "1X harmonics":
         return (f"Speed {used}, measured from {speed['harmonics']} shaft harmonic lines{gap}; "
-                "forcing frequencies are matched within 0.5 %.")
+                "shaft-locked lines are matched within 0.5 % and bearing tones, which slip 1-2 %, within 2 %.")
     if speed["source"] == "bearing tones":
         return (f"Speed {used}, measured from {speed['harmonics']} lines of one bearing-tone family{gap} "
                 "(no shaft line stood clear); bearings slip 1-2 %, so forcing frequencies are matched within 2 %.")
