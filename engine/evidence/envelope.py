@@ -304,12 +304,13 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
     defects = list(_defects(rc))
     speeds = sorted({round(hz, 9) for hz in rc.speeds_hz.values()})
     for c in rc.channels:
+        seen = rc.machine.shafts_seen_from(c.point.shaft) if c.point else set(rc.speeds_hz)
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
-            _leave_shaft_combs(view.ses, clear_lines(view.ses), speeds, defects, found)
+            lines = clear_lines(view.ses)
+            _leave_shaft_combs(view.ses, lines, speeds, defects, found)
             owned = _owners(defects, found, c.location, view.ses.fmax_hz)
-            seen = rc.machine.shafts_seen_from(c.point.shaft) if c.point else set(rc.speeds_hz)
-            tones += _tone_facts(c, view, defects, found, owned, clear_lines(view.ses), seen)
+            tones += _tone_facts(c, view, defects, found, owned, lines, seen)
             zones += _modulation_facts(c, view, defects, found, owned)
     _mark_strongest(tones)
     return tones + zones
