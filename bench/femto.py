@@ -78,6 +78,31 @@ SIDECAR = {"sample_rate_hz": 25600, "unit": "g",
            "channels": [{"point": "H", "direction": "horizontal"}, {"point": "V", "direction": "vertical"}]}
 
 
+def score_ceiling(sigma: float) -> tuple[float, float]:
+    """The best mean challenge score any estimator can reach when the actual remaining life is its
+    estimate times a lognormal factor of log spread ``sigma`` (a perfectly calibrated method whose only
+    fault is its spread), and the fraction of the median it then gives: the expectation over the
+    factor on a fine grid of its normal log (+-8 sigma, 4001 points; the score has a kink, so no
+    Gauss quadrature), maximised over a grid of fractions 0.05-1.5."""
+    z = np.linspace(-8.0, 8.0, 4001)
+    w = np.exp(-z * z / 2)
+    w = w / w.sum()
+    actual = np.exp(sigma * z)
+    fractions = np.exp(np.linspace(np.log(0.05), np.log(1.5), 1200))
+    means = [float(np.sum(w * challenge_score(100 * (actual - k) / actual))) for k in fractions]
+    best = int(np.argmax(means))
+    return means[best], float(fractions[best])
+
+
+def spread_for(score: float) -> float:
+    """The largest log spread whose ceiling (``score_ceiling``) still reaches ``score``: bisection."""
+    lo, hi = 0.0, 3.0
+    for _ in range(25):
+        mid = (lo + hi) / 2
+        lo, hi = (mid, hi) if score_ceiling(mid)[0] >= score else (lo, mid)
+    return lo
+
+
 def phm_score(er_pct: float) -> float:
     """IEEE PHM 2012 challenge score of one estimate (Er <= 0: late, punished harder)."""
     return float(challenge_score(er_pct))
@@ -242,6 +267,7 @@ def leave_one_out(histories: dict) -> None:
     print(f"{'run':<11}{'life':>6}{'cut':>5}{'actual':>8}  {'median (80 % interval)':<24}{'act by':>7}{'Er %':>7}"
           f"{'A':>6}{'A med':>6}  {'naive':>6}{'A':>6}{'A now':>6}  answer")
     rows = []      # (A act by, A median, covered, A naive, A fails now, degradation began); None: no projection
+    log_errors = []    # ln(actual / median) of the projected cuts
     per_run: dict[str, list] = {}
     for run in histories:
         prior = prior_from(histories, [r for r in histories if r != run])
@@ -270,6 +296,7 @@ def leave_one_out(histories: dict) -> None:
                 hi_s = None if best.high_days is None else best.high_days * 86400.0
                 inside = lo <= actual and (hi_s is None or actual <= hi_s)
                 rows.append((a, a_med, inside, a_naive, a_now, began))
+                log_errors.append(float(np.log(actual / max(med, 1.0))))
                 shown = f"{med / 3600:6.2f} ({lo / 3600:.2f} to {'open' if hi_s is None else f'{hi_s / 3600:.2f}'})"
                 mine = f"{act / 3600:7.2f}{er:7.0f}{a:6.2f}{a_med:6.2f}"
                 answer = "in" if inside else "OUT of interval"
@@ -299,6 +326,11 @@ def leave_one_out(histories: dict) -> None:
               f"on the same cuts naive (mean life of the others less elapsed) {np.mean(col[3]):.3f}, "
               f"fails now {np.mean(col[4]):.3f}")
         print(f"80 % interval coverage over the projected cuts: {np.mean(col[2]):.0%} ({sum(col[2])} of {len(done)})")
+        spread = float(np.std(log_errors))
+        ceiling, fraction = score_ceiling(spread)
+        print(f"spread of ln(actual / median) over the projected cuts: {spread:.2f}; a perfectly calibrated "
+              f"method with that spread scores at best {ceiling:.3f} (at {fraction:.2f} x its median); "
+              f"0.35 needs a spread of {spread_for(0.35):.2f} or less")
     fallback = [r[0] if r[0] is not None else r[3] for r in rows]
     print(f"mean score A over all {len(rows)} cuts, naive where no projection: {np.mean(fallback):.3f}; naive alone "
           f"{np.mean([r[3] for r in rows]):.3f}; fails now {np.mean([r[4] for r in rows]):.3f}")
