@@ -34,9 +34,12 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   Ennis 2001, INFOR 39), the condition held at its current value ("hold") or going on at its slope
   over the last TREND_READINGS readings ("trend"). Settings: the clock (from the run's start or from
   its first predicting time), z as it is now or the highest so far, the future, and a ridge on
-  gamma; chosen by the same nested leave one out, printed in a table of their own, with the
-  in-sample upper bound (the model fitted on all six runs, the scored one included). No answer
-  before the run's first predicting time.
+  gamma; and the form: the bearing judged by its two points together ("bearing", as above) or each
+  point alone with its own onset and ratio, the earlier answer counting as bench.femto takes
+  tellwave's ("each", the form ``tellwave trend`` could give point by point). Chosen by the same
+  nested leave one out within each form, printed in a table of their own, with the in-sample upper
+  bound (the model fitted on all six runs, the scored one included). No answer before the first
+  predicting time.
 
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
@@ -298,11 +301,12 @@ class HazardSetting:
     covariate: str    # "now": the condition at each reading; "highest": the highest condition so far
     future: str       # "hold": the condition stays at its current value; "trend": it goes on at its recent slope
     ridge: float      # a normal prior on gamma, sd 1 / sqrt(ridge) (0: plain maximum likelihood)
+    points: str = "bearing"   # "bearing": the larger of its points' conditions; "each": every point alone
 
     def __str__(self) -> str:
         clock = "run clock" if self.clock == "run" else "clock from onset"
         ridge = "ML" if self.ridge == 0 else f"ridge {self.ridge:g}"
-        return f"hazards ({clock}, z {self.covariate}, {self.future}, {ridge})"
+        return f"hazards ({self.points}, {clock}, z {self.covariate}, {self.future}, {ridge})"
 
 
 @dataclass(frozen=True)
@@ -437,76 +441,97 @@ def recent_slope(c: Condition) -> float:
 
 def hazard_grid() -> list[HazardSetting]:
     """The proportional-hazards settings weighed."""
-    return [HazardSetting(c, z, f, r) for c in ("run", "onset") for z in ("now", "highest") for f in ("hold", "trend")
-            for r in (0.0, 1.0, 3.0, 10.0, 30.0)]
+    return [HazardSetting(c, z, f, r, p) for p in ("bearing", "each") for c in ("run", "onset")
+            for z in ("now", "highest") for f in ("hold", "trend") for r in (0.0, 1.0, 3.0, 10.0, 30.0)]
+
+
+def _units(run: dict, points: str, upto_s: float = np.inf) -> list[Condition]:
+    """The conditions a run is judged by: one of the bearing (its points together), or one per point."""
+    if points == "bearing":
+        return [condition_of(run, upto_s)]
+    return [condition_of({pt: run[pt]}, upto_s) for pt in sorted(run)]
 
 
 def score_hazard_run(histories: dict, run: str, library_runs: list[str], settings: list[HazardSetting],
                      lives_h: dict[str, float]) -> dict[HazardSetting, list[Cut | None]]:
     """Each setting's answer at each cut of ``run``, the model fitted on ``library_runs`` (each its
-    whole history, one failure at its end). Before the run's first predicting time: no answer."""
-    full = {r: condition_of(histories[r]) for r in library_runs}
+    whole history, one failure at its end; with points "each", each point's history one failure).
+    Before the first predicting time: no answer; with points "each" the earlier of the points' answers
+    (the smaller median) counts, as bench.femto takes tellwave's."""
+    full = {(r, m): _units(histories[r], m) for r in library_runs for m in {s.points for s in settings}}
     fits = {}
     for s in settings:
-        key = (s.clock, s.covariate, s.ridge)
+        key = (s.points, s.clock, s.covariate, s.ridge)
         if key not in fits:
-            data = [clock_of(full[r], s.clock, s.covariate) for r in library_runs
-                    if full[r].onset_h is not None or s.clock == "run"]
+            data = [clock_of(c, s.clock, s.covariate) for r in library_runs for c in full[(r, s.points)]
+                    if c.onset_h is not None or s.clock == "run"]
             fits[key] = fit_hazard([d for d in data if len(d[0]) >= 3], s.ridge)
     out: dict[HazardSetting, list[Cut | None]] = {s: [] for s in settings}
     for cut in CUTS:
         now_s = cut * lives_h[run] * 3600.0
         actual = lives_h[run] - max(float(np.max(np.array(h[LIMITED][0])[np.array(h[LIMITED][0]) <= now_s + 1e-6]))
                                     / 3600.0 for h in histories[run].values())
-        c = condition_of(histories[run], now_s)
+        units = {m: _units(histories[run], m, now_s) for m in {s.points for s in settings}}
         for s in settings:
-            if c.onset_h is None:
+            found = []
+            for c in units[s.points]:
+                if c.onset_h is None:
+                    continue
+                s0 = c.t_h[-1] - (0.0 if s.clock == "run" else c.onset_h)
+                slope = max(recent_slope(c), 0.0) if s.future == "trend" else 0.0
+                z0 = float(c.z[-1] if s.covariate == "now" else np.max(c.z))
+                x = hazard_lives(fits[(s.points, s.clock, s.covariate, s.ridge)], s0, z0, slope)
+                w = np.ones_like(x)
+                found.append((weighted_quantile(x, w, 0.5), weighted_quantile(x, w, 0.1),
+                              weighted_quantile(x, w, 0.9), act_by_weighted(x, w)))
+            if not found:
                 out[s].append(None)
                 continue
-            s0 = c.t_h[-1] - (0.0 if s.clock == "run" else c.onset_h)
-            slope = max(recent_slope(c), 0.0) if s.future == "trend" else 0.0
-            z0 = float(c.z[-1] if s.covariate == "now" else np.max(c.z))
-            x = hazard_lives(fits[(s.clock, s.covariate, s.ridge)], s0, z0, slope)
-            w = np.ones_like(x)
-            act = act_by_weighted(x, w)
-            med, lo, hi = (weighted_quantile(x, w, q) for q in (0.5, 0.1, 0.9))
+            med, lo, hi, act = min(found)
             out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
                               float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi))
     return out
 
 
 def hazard_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
-    """Leave one run out for every proportional-hazards setting, nested leave one out to choose one,
-    and the in-sample upper bound (each run scored by the model fitted on all six, itself included)."""
+    """Leave one run out for every proportional-hazards setting, nested leave one out to choose one
+    (within each form: the bearing's points together, each point alone), and the in-sample upper bound
+    (each run scored by the model fitted on all six, itself included)."""
     settings = hazard_grid()
     print("\nproportional hazards (Jardine et al. 1987; conditional survival, Banjevic et al. 2001), "
           "leave one run out")
     outer = {r: score_hazard_run(histories, r, [x for x in runs if x != r], settings, lives_h) for r in runs}
-    print(f"{'setting':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}  per run A " + " ".join(r[-3:] for r in runs))
-    for s in settings:
-        allc = [c for r in runs for c in outer[r][s]]
-        print(f"{str(s):<58}{summary(allc)}  " + " ".join(f"{mean_a(outer[r][s]):.2f}" for r in runs))
-    best_outer = max(settings, key=lambda s: mean_a([c for r in runs for c in outer[r][s]]))
-    print(f"best setting on the scored runs themselves (tuned on them): {best_outer}, "
-          f"{summary([c for r in runs for c in outer[r][best_outer]])}")
     insample = {r: score_hazard_run(histories, r, runs, settings, lives_h) for r in runs}
-    best_in = max(settings, key=lambda s: mean_a([c for r in runs for c in insample[r][s]]))
-    print(f"in sample (fitted on all six runs, the scored one included), best setting {best_in}: "
-          f"{summary([c for r in runs for c in insample[r][best_in]])}  per run "
-          + " ".join(f"{mean_a(insample[r][best_in]):.2f}" for r in runs))
-    print("nested leave one out: the setting chosen on the other five runs (each left out of a fit on four)")
-    chosen: list[Cut | None] = []
+    inner: dict[str, dict[HazardSetting, list[Cut | None]]] = {}
     for r in runs:
         others = [x for x in runs if x != r]
-        inner: dict[HazardSetting, list[Cut | None]] = {s: [] for s in settings}
+        inner[r] = {s: [] for s in settings}
         for j in others:
             for s, cs in score_hazard_run(histories, j, [x for x in others if x != j], settings, lives_h).items():
-                inner[s].extend(cs)
-        best = max(settings, key=lambda s: mean_a(inner[s]))
-        chosen.extend(outer[r][best])
-        print(f"{r}: chose {best} (inner A {mean_a(inner[best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
-    print(f"nested: n, A, A med, coverage {summary(chosen)}")
-
+                inner[r][s].extend(cs)
+    print(f"{'setting':<66}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        allc = [c for r in runs for c in outer[r][s]]
+        print(f"{str(s):<66}{summary(allc)}  " + " ".join(f"{mean_a(outer[r][s]):.2f}" for r in runs))
+    for form in ("bearing", "each"):
+        family = [s for s in settings if s.points == form]
+        print(f"\npoints {form}:")
+        best_outer = max(family, key=lambda s: mean_a([c for r in runs for c in outer[r][s]]))
+        print(f"best setting on the scored runs themselves (tuned on them): {best_outer}, "
+              f"{summary([c for r in runs for c in outer[r][best_outer]])}")
+        best_in = max(family, key=lambda s: mean_a([c for r in runs for c in insample[r][s]]))
+        print(f"in sample (fitted on all six runs, the scored one included), best setting {best_in}: "
+              f"{summary([c for r in runs for c in insample[r][best_in]])}  per run "
+              + " ".join(f"{mean_a(insample[r][best_in]):.2f}" for r in runs))
+        print("nested leave one out: the setting chosen on the other five runs (each left out of a fit on four)")
+        chosen: list[Cut | None] = []
+        for r in runs:
+            best = max(family, key=lambda s: mean_a(inner[r][s]))
+            chosen.extend(outer[r][best])
+            print(f"{r}: chose {best} (inner A {mean_a(inner[r][best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
+        print(f"nested: n, A, A med, coverage {summary(chosen)}  per run "
+              + " ".join(f"{mean_a(c):.2f}" for c in (chosen[i * len(CUTS):(i + 1) * len(CUTS)]
+                                                        for i in range(len(runs)))))
 
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])

@@ -441,7 +441,8 @@ def test_the_hazard_bench_answers_only_after_the_first_predicting_time_and_score
     assert c.onset_h == pytest.approx(2.3, abs=0.1) and np.all(c.z >= 0)
     # the condition of a cut is found on the readings up to it: at 2 h run "d" has not left its band
     assert condition_of(h["d"], 2.0 * 3600).onset_h is None
-    settings = [HazardSetting(clock, "highest", "hold", 10.0) for clock in ("run", "onset")]
+    settings = [HazardSetting(clock, "highest", "hold", 10.0, points) for clock in ("run", "onset")
+                for points in ("bearing", "each")]
     got = score_hazard_run(h, "d", ["a", "b", "c"], settings, lives)
     for s in settings:
         # cuts at 2.0, 2.4, 2.8, 3.2, 3.6 and 3.8 h: degradation declared 8 readings (0.22 h) after 2.3 h
@@ -449,3 +450,15 @@ def test_the_hazard_bench_answers_only_after_the_first_predicting_time_and_score
         assert early == [True, True, False, False, False, False]
         assert [x is None for x in got[s]] == early
         assert all(isinstance(x, Cut) and 0 <= x.a <= 1 for x, e in zip(got[s], early) if not e)
+
+
+def test_a_bearing_is_judged_by_the_worse_of_its_points_and_from_the_earlier_onset():
+    from bench.femto_compare import _units, condition_of
+
+    h = _histories({"a": (1.0, 3.0, 1.5)})
+    late = _histories({"a": (2.0, 3.0, 1.5)})
+    h["a"]["V"] = late["a"]["V"]            # the vertical point degrades an hour later
+    bearing, (hor, ver) = condition_of(h["a"]), _units(h["a"], "each")
+    assert bearing.onset_h == pytest.approx(hor.onset_h) and ver.onset_h > hor.onset_h + 0.8
+    assert np.all(bearing.z >= hor.z) and np.all(bearing.z >= ver.z)
+    assert np.allclose(bearing.z, np.maximum(hor.z, ver.z))
