@@ -25,6 +25,21 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   than the elapsed time, less it, equally weighted.
 - ``fused``: the exponential model's draws and the similarity's weighted lives in one mixture, each
   weighted by the inverse width of its own 80 % interval.
+- ``proportional hazards``: a Weibull proportional-hazards model with a condition covariate (Jardine,
+  Anderson & Mann 1987, Quality and Reliability Engineering International 3), h(s) = (beta / eta)
+  (s / eta)^(beta - 1) exp(gamma z(s)), fitted by maximum likelihood (scipy.optimize) on the library
+  runs, each one failure at its last reading; z is the larger of the run's two degradation ratios
+  (the health indicator less its healthy-band mean, at least 0), on the regular readings. The
+  remaining life is the conditional survival given survival to now (Banjevic, Jardine, Makis &
+  Ennis 2001, INFOR 39), the condition held at its current value ("hold") or going on at its slope
+  over the last TREND_READINGS readings ("trend"). Settings: the clock (from the run's start or from
+  its first predicting time), z as it is now or the highest so far, the future, and a ridge on
+  gamma; and the form: the bearing judged by its two points together ("bearing", as above) or each
+  point alone with its own onset and ratio, the earlier answer counting as bench.femto takes
+  tellwave's ("each", the form ``tellwave trend`` could give point by point). Chosen by the same
+  nested leave one out within each form, printed in a table of their own, with the in-sample upper
+  bound (the model fitted on all six runs, the scored one included). No answer before the first
+  predicting time.
 
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
@@ -260,6 +275,264 @@ def summary(cuts: list[Cut | None]) -> str:
             f" {np.mean([c.covered for c in got]):6.0%}")
 
 
+# ---------------------------------------------------------------- proportional hazards with condition covariates
+#
+# Jardine, Anderson & Mann 1987 ("Application of the Weibull proportional hazards model to aircraft and
+# marine engine failure data", Quality and Reliability Engineering International 3): the hazard of a
+# run is h(s) = (beta / eta) (s / eta)^(beta - 1) exp(gamma z(s)), s the run's clock, z its condition.
+# Banjevic, Jardine, Makis & Ennis 2001 (INFOR 39): the remaining life given survival to now and the
+# condition's path, S(u | s0) = exp(-(Lambda(s0 + u) - Lambda(s0))), Lambda the cumulative hazard.
+
+HAZARD_QUANTILES = 1000            # equally spaced probabilities that stand for the remaining-life distribution
+HAZARD_HORIZON_H = 100.0           # the longest remaining life looked at (the learning runs last 1.4 to 7.8 h)
+TREND_READINGS = 6                 # regular readings (about 10 min) the condition's recent slope is fitted over
+GAMMA_BOUND = 30.0                 # |gamma| at most this: exp(30 x 3 log units) is already beyond any float use
+# the search keeps beta within 0.1-20 and eta within 0.01-10^4 hours: wider than any bearing life of the
+# runs' hours, and a likelihood that runs off to its edge (the condition explaining everything, the clock
+# nothing) is held there instead of overflowing
+LOG_BETA_BOUNDS = (np.log(0.1), np.log(20.0))
+LOG_ETA_BOUNDS_H = (np.log(0.01), np.log(1e4))
+
+
+@dataclass(frozen=True)
+class HazardSetting:
+    """One setting of the proportional-hazards model."""
+    clock: str        # "run": hours since the run began; "onset": hours since its first predicting time
+    covariate: str    # "now": the condition at each reading; "highest": the highest condition so far
+    future: str       # "hold": the condition stays at its current value; "trend": it goes on at its recent slope
+    ridge: float      # a normal prior on gamma, sd 1 / sqrt(ridge) (0: plain maximum likelihood)
+    points: str = "bearing"   # "bearing": the larger of its points' conditions; "each": every point alone
+
+    def __str__(self) -> str:
+        clock = "run clock" if self.clock == "run" else "clock from onset"
+        ridge = "ML" if self.ridge == 0 else f"ridge {self.ridge:g}"
+        return f"hazards ({self.points}, {clock}, z {self.covariate}, {self.future}, {ridge})"
+
+
+@dataclass(frozen=True)
+class Condition:
+    """A run's condition as it stood at a time: its regular readings (hours since the run began), the
+    covariate z at each (the larger of its points' degradation ratios, at least 0), and its first
+    predicting time (the earlier of its points'; None: no degradation yet)."""
+    t_h: np.ndarray
+    z: np.ndarray
+    onset_h: float | None
+
+
+def ratio_and_onset(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, float | None]:
+    """A point's degradation ratio at each reading (the smoothed log health indicator less the mean of
+    its healthy band) and its first predicting time in hours (None: not yet), from onset.yaml's rule."""
+    s = shipped_settings()
+    hi = smooth_log(values, s.smooth_readings)
+    on = first_predicting_time(hi, s)
+    ratio = hi - float(np.mean(hi[:max(on.early, 1)]))
+    return ratio, None if on.index is None else float(t_s[on.index]) / 3600.0
+
+
+def condition_of(run: dict, upto_s: float = np.inf) -> Condition:
+    """The condition of a run's points from the readings at or before ``upto_s`` (seconds), each
+    point's healthy band and onset found on those readings only, as they stood then."""
+    from bench.femto import regular
+
+    base, z, onsets = None, None, []
+    for pt in sorted(run):
+        t, v = health_values(run[pt])
+        k = t <= upto_s + 1e-6
+        ratio, on = ratio_and_onset(t[k], v[k])
+        if on is not None:
+            onsets.append(on)
+        if base is None:
+            base, z = t[k], ratio
+        else:       # each reading of the first point takes the other point's latest reading not after it
+            idx = np.clip(np.searchsorted(t[k], base, side="right") - 1, 0, len(ratio) - 1)
+            z = np.maximum(z, ratio[idx])
+    assert base is not None and z is not None
+    keep = regular(base)
+    return Condition(base[keep] / 3600.0, np.maximum(z[keep], 0.0), min(onsets) if onsets else None)
+
+
+def clock_of(c: Condition, clock: str, covariate: str = "now") -> tuple[np.ndarray, np.ndarray]:
+    """(clock times, covariate) of a condition's readings on the setting's clock: every reading on the
+    run clock; from the first predicting time on, less it, on the onset clock. The covariate is the
+    condition at each reading, or the highest so far (damage does not heal: a level that falls back
+    after a rise is the defect's edges wearing smooth, Williams et al. 2001, from memory)."""
+    z = c.z if covariate == "now" else np.maximum.accumulate(c.z)
+    if clock == "run":
+        return c.t_h, z
+    assert c.onset_h is not None
+    k = c.t_h >= c.onset_h - 1e-9
+    return c.t_h[k] - c.onset_h, z[k]
+
+
+def _stacked(runs: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, ...]:
+    """The runs' intervals end to end (start, end, covariate over it) and each run's end and covariate there."""
+    lo = np.concatenate([s[:-1] for s, _ in runs])
+    hi = np.concatenate([s[1:] for s, _ in runs])
+    z = np.concatenate([z[:-1] for _, z in runs])
+    return lo, hi, z, np.array([max(s[-1], 1e-9) for s, _ in runs]), np.array([z[-2] for _, z in runs])
+
+
+def hazard_nll(params: np.ndarray, data: tuple[np.ndarray, ...], ridge: float) -> float:
+    """Negative log likelihood of (log beta, log eta, gamma) over run-to-failure histories (``_stacked``),
+    each ended by its failure at its last reading; the covariate holds each reading's value until the
+    next (the value known before the failure drives its hazard), plus the ridge penalty on gamma."""
+    lb, le, g = (float(x) for x in params)
+    if not (LOG_BETA_BOUNDS[0] <= lb <= LOG_BETA_BOUNDS[1] and LOG_ETA_BOUNDS_H[0] <= le <= LOG_ETA_BOUNDS_H[1]
+            and abs(g) <= GAMMA_BOUND):
+        return 1e300
+    lo, hi, z, end, z_end = data
+    beta, eta = np.exp(lb), np.exp(le)
+    cum = float(np.sum(np.exp(g * z) * ((hi / eta) ** beta - (lo / eta) ** beta)))
+    log_h = float(np.sum(lb - le + (beta - 1) * np.log(end / eta) + g * z_end))
+    return 0.5 * ridge * g ** 2 + cum - log_h
+
+
+@dataclass(frozen=True)
+class HazardFit:
+    """A fitted Weibull proportional-hazards model (hours)."""
+    beta: float
+    eta_h: float
+    gamma: float
+
+
+def fit_hazard(runs: list[tuple[np.ndarray, np.ndarray]], ridge: float) -> HazardFit:
+    """Maximum (penalised) likelihood over the runs (scipy.optimize, Nelder-Mead from a plain Weibull
+    start: beta 2, eta the mean life, gamma 0)."""
+    from scipy.optimize import minimize
+
+    life = float(np.mean([s[-1] for s, _ in runs]))
+    data = _stacked(runs)
+    best = None
+    for g0 in (0.0, 1.0, 3.0):
+        r = minimize(hazard_nll, np.array([np.log(2.0), np.log(life), g0]), args=(data, ridge),
+                     method="Nelder-Mead", options={"xatol": 1e-6, "fatol": 1e-9, "maxiter": 4000})
+        if best is None or r.fun < best.fun:
+            best = r
+    assert best is not None
+    lb, le, g = best.x
+    return HazardFit(float(np.exp(lb)), float(np.exp(le)), float(g))
+
+
+def hazard_lives(fit: HazardFit, s0: float, z0: float, slope: float) -> np.ndarray:
+    """Remaining lives (hours) at HAZARD_QUANTILES equally spaced probabilities of the conditional
+    distribution given survival to ``s0`` on the model's clock (Banjevic et al. 2001), the condition
+    held at ``z0`` (slope 0: closed form) or going on at ``slope`` per hour (numerical integration of
+    the hazard on a fine grid). A probability the horizon does not reach gets NO_CROSSING_H."""
+    p = (np.arange(HAZARD_QUANTILES) + 0.5) / HAZARD_QUANTILES
+    need = -np.log1p(-p)                                  # cumulative hazard to reach probability p
+    b, eta = fit.beta, fit.eta_h
+    if slope <= 0:
+        scale = np.exp(fit.gamma * z0)
+        u = eta * ((s0 / eta) ** b + need / scale) ** (1 / b) - s0
+        return np.where(u <= HAZARD_HORIZON_H, np.maximum(u, 0.0), NO_CROSSING_H)
+    u = np.concatenate([[0.0], np.geomspace(1e-4, HAZARD_HORIZON_H, 4000)])
+    s = s0 + u
+    h = (b / eta) * (np.maximum(s, 1e-12) / eta) ** (b - 1) * np.exp(np.clip(fit.gamma * (z0 + slope * u), -700, 700))
+    cum = np.concatenate([[0.0], np.cumsum(0.5 * (h[1:] + h[:-1]) * np.diff(u))])
+    out = np.interp(need, cum, u)
+    return np.where(need <= cum[-1], out, NO_CROSSING_H)
+
+
+def recent_slope(c: Condition) -> float:
+    """The condition's slope per hour over its last TREND_READINGS regular readings (least squares)."""
+    t, z = c.t_h[-TREND_READINGS:], c.z[-TREND_READINGS:]
+    return float(np.polyfit(t, z, 1)[0]) if len(t) >= 3 and np.ptp(t) > 0 else 0.0
+
+
+def hazard_grid() -> list[HazardSetting]:
+    """The proportional-hazards settings weighed."""
+    return [HazardSetting(c, z, f, r, p) for p in ("bearing", "each") for c in ("run", "onset")
+            for z in ("now", "highest") for f in ("hold", "trend") for r in (0.0, 1.0, 3.0, 10.0, 30.0)]
+
+
+def _units(run: dict, points: str, upto_s: float = np.inf) -> list[Condition]:
+    """The conditions a run is judged by: one of the bearing (its points together), or one per point."""
+    if points == "bearing":
+        return [condition_of(run, upto_s)]
+    return [condition_of({pt: run[pt]}, upto_s) for pt in sorted(run)]
+
+
+def score_hazard_run(histories: dict, run: str, library_runs: list[str], settings: list[HazardSetting],
+                     lives_h: dict[str, float]) -> dict[HazardSetting, list[Cut | None]]:
+    """Each setting's answer at each cut of ``run``, the model fitted on ``library_runs`` (each its
+    whole history, one failure at its end; with points "each", each point's history one failure).
+    Before the first predicting time: no answer; with points "each" the earlier of the points' answers
+    (the smaller median) counts, as bench.femto takes tellwave's."""
+    full = {(r, m): _units(histories[r], m) for r in library_runs for m in {s.points for s in settings}}
+    fits = {}
+    for s in settings:
+        key = (s.points, s.clock, s.covariate, s.ridge)
+        if key not in fits:
+            data = [clock_of(c, s.clock, s.covariate) for r in library_runs for c in full[(r, s.points)]
+                    if c.onset_h is not None or s.clock == "run"]
+            fits[key] = fit_hazard([d for d in data if len(d[0]) >= 3], s.ridge)
+    out: dict[HazardSetting, list[Cut | None]] = {s: [] for s in settings}
+    for cut in CUTS:
+        now_s = cut * lives_h[run] * 3600.0
+        actual = lives_h[run] - max(float(np.max(np.array(h[LIMITED][0])[np.array(h[LIMITED][0]) <= now_s + 1e-6]))
+                                    / 3600.0 for h in histories[run].values())
+        units = {m: _units(histories[run], m, now_s) for m in {s.points for s in settings}}
+        for s in settings:
+            found = []
+            for c in units[s.points]:
+                if c.onset_h is None:
+                    continue
+                s0 = c.t_h[-1] - (0.0 if s.clock == "run" else c.onset_h)
+                slope = max(recent_slope(c), 0.0) if s.future == "trend" else 0.0
+                z0 = float(c.z[-1] if s.covariate == "now" else np.max(c.z))
+                x = hazard_lives(fits[(s.points, s.clock, s.covariate, s.ridge)], s0, z0, slope)
+                w = np.ones_like(x)
+                found.append((weighted_quantile(x, w, 0.5), weighted_quantile(x, w, 0.1),
+                              weighted_quantile(x, w, 0.9), act_by_weighted(x, w)))
+            if not found:
+                out[s].append(None)
+                continue
+            med, lo, hi, act = min(found)
+            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
+                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi))
+    return out
+
+
+def hazard_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
+    """Leave one run out for every proportional-hazards setting, nested leave one out to choose one
+    (within each form: the bearing's points together, each point alone), and the in-sample upper bound
+    (each run scored by the model fitted on all six, itself included)."""
+    settings = hazard_grid()
+    print("\nproportional hazards (Jardine et al. 1987; conditional survival, Banjevic et al. 2001), "
+          "leave one run out")
+    outer = {r: score_hazard_run(histories, r, [x for x in runs if x != r], settings, lives_h) for r in runs}
+    insample = {r: score_hazard_run(histories, r, runs, settings, lives_h) for r in runs}
+    inner: dict[str, dict[HazardSetting, list[Cut | None]]] = {}
+    for r in runs:
+        others = [x for x in runs if x != r]
+        inner[r] = {s: [] for s in settings}
+        for j in others:
+            for s, cs in score_hazard_run(histories, j, [x for x in others if x != j], settings, lives_h).items():
+                inner[r][s].extend(cs)
+    print(f"{'setting':<66}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        allc = [c for r in runs for c in outer[r][s]]
+        print(f"{str(s):<66}{summary(allc)}  " + " ".join(f"{mean_a(outer[r][s]):.2f}" for r in runs))
+    for form in ("bearing", "each"):
+        family = [s for s in settings if s.points == form]
+        print(f"\npoints {form}:")
+        best_outer = max(family, key=lambda s: mean_a([c for r in runs for c in outer[r][s]]))
+        print(f"best setting on the scored runs themselves (tuned on them): {best_outer}, "
+              f"{summary([c for r in runs for c in outer[r][best_outer]])}")
+        best_in = max(family, key=lambda s: mean_a([c for r in runs for c in insample[r][s]]))
+        print(f"in sample (fitted on all six runs, the scored one included), best setting {best_in}: "
+              f"{summary([c for r in runs for c in insample[r][best_in]])}  per run "
+              + " ".join(f"{mean_a(insample[r][best_in]):.2f}" for r in runs))
+        print("nested leave one out: the setting chosen on the other five runs (each left out of a fit on four)")
+        chosen: list[Cut | None] = []
+        for r in runs:
+            best = max(family, key=lambda s: mean_a(inner[r][s]))
+            chosen.extend(outer[r][best])
+            print(f"{r}: chose {best} (inner A {mean_a(inner[r][best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
+        print(f"nested: n, A, A med, coverage {summary(chosen)}  per run "
+              + " ".join(f"{mean_a(c):.2f}" for c in (chosen[i * len(CUTS):(i + 1) * len(CUTS)]
+                                                        for i in range(len(runs)))))
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
@@ -298,6 +571,7 @@ def main() -> int:
         chosen_cuts.extend(outer[r][best])
         print(f"{r}: chose {best} (inner A {mean_a(inner[best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
     print(f"nested: n, A, A med, coverage {summary(chosen_cuts)}")
+    hazard_report(histories, runs, lives_h)
     return 0
 
 

@@ -348,3 +348,117 @@ def test_the_weighted_act_by_agrees_with_the_models_act_by_on_equal_weights(rng)
     # a weight moves the answer: all weight on the late half makes the act-by later
     late = np.where(x > np.median(x), 1.0, 1e-9)
     assert act_by_weighted(x, late) > act_by_weighted(x, w)
+
+
+# ---------------------------------------------------------------- bench.femto_compare: proportional hazards
+
+
+def _weibull_ph_runs(rng, n, beta, eta, gamma):
+    """Runs of a Weibull proportional-hazards model with a constant condition each (z 0, 0.5 or 1):
+    failure times drawn by inverting the survival exp(-exp(gamma z) (T / eta)^beta), readings on a
+    grid that ends at the failure."""
+    runs = []
+    for _ in range(n):
+        z = float(rng.choice([0.0, 0.5, 1.0]))
+        life = eta * (-np.log(rng.uniform()) / np.exp(gamma * z)) ** (1 / beta)
+        s = np.linspace(0.0, life, 12)
+        runs.append((s, np.full(s.size, z)))
+    return runs
+
+
+def test_the_hazard_fit_finds_the_parameters_its_runs_were_drawn_with(rng):
+    # 400 runs drawn from beta 2, eta 5 h, gamma 1.2: maximum likelihood lands within a few standard
+    # errors (derived: for 400 failures the standard error of beta is about beta / sqrt(400) x 0.78,
+    # 0.08; of gamma about 0.1)
+    from bench.femto_compare import fit_hazard
+
+    fit = fit_hazard(_weibull_ph_runs(rng, 400, 2.0, 5.0, 1.2), 0.0)
+    assert fit.beta == pytest.approx(2.0, abs=0.25)
+    assert fit.eta_h == pytest.approx(5.0, rel=0.12)
+    assert fit.gamma == pytest.approx(1.2, abs=0.3)
+    # a strong ridge holds gamma at 0 whatever the runs say
+    assert abs(fit_hazard(_weibull_ph_runs(rng, 100, 2.0, 5.0, 1.2), 1e6).gamma) < 1e-3
+
+
+def test_the_conditional_remaining_life_is_the_weibulls():
+    # beta 1 and gamma 0 is the exponential law, memoryless: the median remaining life is eta ln 2 at
+    # any age (derived). beta 2: S(u | s0) = exp(-((s0 + u)^2 - s0^2) / eta^2), so the median solves
+    # (s0 + u)^2 = s0^2 + eta^2 ln 2 (derived)
+    from bench.femto_compare import HazardFit, hazard_lives
+
+    for s0 in (0.0, 3.0, 30.0):
+        assert np.median(hazard_lives(HazardFit(1.0, 4.0, 0.0), s0, 0.0, 0.0)) == pytest.approx(4 * np.log(2), rel=0.01)
+    median = np.median(hazard_lives(HazardFit(2.0, 4.0, 0.0), 3.0, 0.0, 0.0))
+    assert median == pytest.approx(np.sqrt(9 + 16 * np.log(2)) - 3, rel=0.01)
+    # a worse condition shortens the life by the factor exp(gamma z) of the cumulative hazard
+    worse = np.median(hazard_lives(HazardFit(1.0, 4.0, 2.0), 0.0, 0.5, 0.0))
+    assert worse == pytest.approx(4 * np.log(2) / np.e, rel=0.01)
+
+
+def test_a_condition_going_on_at_its_slope_integrates_to_the_held_one_at_a_tiny_slope_and_shortens_life():
+    # the numerical integration of the hazard (trend) against the closed form (hold), derived from
+    # the same cumulative hazard; scipy's quad as reference for one quantile with a real slope
+    from scipy.integrate import quad
+    from scipy.optimize import brentq
+
+    from bench.femto_compare import HazardFit, hazard_lives
+
+    fit = HazardFit(2.0, 4.0, 1.5)
+    held = hazard_lives(fit, 2.0, 0.4, 0.0)
+    nearly = hazard_lives(fit, 2.0, 0.4, 1e-9)
+    assert np.median(nearly) == pytest.approx(np.median(held), rel=0.01)
+    rising = hazard_lives(fit, 2.0, 0.4, 0.5)
+    assert np.median(rising) < np.median(held)
+
+    def cum(u):
+        return quad(lambda x: (2 / 4) * ((2 + x) / 4) * np.exp(1.5 * (0.4 + 0.5 * x)), 0, u)[0]
+
+    assert np.median(rising) == pytest.approx(brentq(lambda u: cum(u) - np.log(2), 0, 50), rel=0.01)
+
+
+def _histories(runs):
+    """FEMTO-like histories: two points, acceleration RMS and peak flat for ``onset`` hours (reading
+    to reading 5 % up and down), then rising exponentially to the run's end; readings 100 s apart."""
+    out = {}
+    for name, (onset, life, rate) in runs.items():
+        t = np.arange(0.0, life * 3600 + 1e-6, 100.0)
+        out[name] = {}
+        for pt in ("H", "V"):
+            rms = 0.4 * np.exp(np.where(t / 3600 > onset, rate * (t / 3600 - onset), 0.0)) \
+                * np.exp(0.05 * (-1.0) ** np.arange(t.size))
+            out[name][pt] = {"accel_rms_g": (t.tolist(), rms.tolist()),
+                             "accel_peak_g": (t.tolist(), (4 * rms).tolist())}
+    return out
+
+
+def test_the_hazard_bench_answers_only_after_the_first_predicting_time_and_scores_each_cut():
+    from bench.femto import CUTS
+    from bench.femto_compare import Cut, HazardSetting, condition_of, score_hazard_run
+
+    h = _histories({"a": (1.0, 3.0, 1.5), "b": (2.0, 4.0, 1.2), "c": (1.5, 3.5, 1.4), "d": (2.3, 4.0, 2.0)})
+    lives = {r: max(max(p["accel_rms_g"][0]) for p in h[r].values()) / 3600 for r in h}
+    c = condition_of(h["d"])
+    assert c.onset_h == pytest.approx(2.3, abs=0.1) and np.all(c.z >= 0)
+    # the condition of a cut is found on the readings up to it: at 2 h run "d" has not left its band
+    assert condition_of(h["d"], 2.0 * 3600).onset_h is None
+    settings = [HazardSetting(clock, "highest", "hold", 10.0, points) for clock in ("run", "onset")
+                for points in ("bearing", "each")]
+    got = score_hazard_run(h, "d", ["a", "b", "c"], settings, lives)
+    for s in settings:
+        # cuts at 2.0, 2.4, 2.8, 3.2, 3.6 and 3.8 h: degradation declared 8 readings (0.22 h) after 2.3 h
+        early = [cut * lives["d"] < 2.3 + 8 * 100 / 3600 for cut in CUTS]
+        assert early == [True, True, False, False, False, False]
+        assert [x is None for x in got[s]] == early
+        assert all(isinstance(x, Cut) and 0 <= x.a <= 1 for x, e in zip(got[s], early) if not e)
+
+
+def test_a_bearing_is_judged_by_the_worse_of_its_points_and_from_the_earlier_onset():
+    from bench.femto_compare import _units, condition_of
+
+    h = _histories({"a": (1.0, 3.0, 1.5)})
+    late = _histories({"a": (2.0, 3.0, 1.5)})
+    h["a"]["V"] = late["a"]["V"]            # the vertical point degrades an hour later
+    bearing, (hor, ver) = condition_of(h["a"]), _units(h["a"], "each")
+    assert bearing.onset_h == pytest.approx(hor.onset_h) and ver.onset_h > hor.onset_h + 0.8
+    assert np.all(bearing.z >= hor.z) and np.all(bearing.z >= ver.z)
+    assert np.allclose(bearing.z, np.maximum(hor.z, ver.z))
