@@ -34,7 +34,7 @@ def _tol(rc: Analysis, family: str = "shaft") -> float:
     return SPEED_TOLERANCE if rc.speed_estimate.refined else UNREFINED_TOLERANCE
 
 
-def _one_x(c: ChannelAnalysis, rc: Analysis) -> dict[str, float]:
+def one_x_mm_s(c: ChannelAnalysis, rc: Analysis) -> dict[str, float]:
     """1X velocity amplitude (mm/s RMS) of every shaft on this channel, 0 when absent."""
     shafts = list(rc.speeds_hz)
     lines = find_lines(c.velocity, [rc.speeds_hz[s] for s in shafts], _tol(rc))
@@ -57,7 +57,7 @@ def tones(rc: Analysis) -> list[dict]:
     wanted = [f for f in rc.forcing if f.name not in SKIPPED_AS_TONES and f.frequency_hz >= MIN_TONE_HZ]
     out = []
     for c in rc.channels:
-        one_x = _one_x(c, rc)
+        one_x = one_x_mm_s(c, rc)
         hits = []
         for use_velocity in (True, False):
             group = [f for f in wanted if _uses_velocity(f.family, f.frequency_hz) == use_velocity]
@@ -160,7 +160,7 @@ def subharmonics(rc: Analysis) -> list[dict]:
                   if shaft == s and lines.found[i] and not _is_other_line(rc, lines.freq_hz[i], exclude_shaft=s)]
             if at:
                 amps = [float(lines.amplitude[i]) for i in at]
-                one_x = one_x or _one_x(c, rc)
+                one_x = one_x or one_x_mm_s(c, rc)
                 out.append(c.base() | {"kind": "subharmonics", "shaft": s, "count": len(amps),
                                        "max_ratio_to_1x": max(amps) / one_x[s] if one_x[s] > 0 else 0.0,
                                        SIGNS: {spectrum_line(c.name, lines.line[i]):
@@ -234,7 +234,7 @@ def nonsynchronous(rc: Analysis) -> list[dict]:
         odd = [p for p in peaks if not np.any(np.abs(explained - p.freq_hz) <= tol)]
         if not odd:
             continue
-        one_x = _one_x(c, rc)[rc.speed_shaft]
+        one_x = one_x_mm_s(c, rc)[rc.speed_shaft]
         top = odd[0]
         out.append(c.base() | {"kind": "nonsynchronous", "count": len(odd), "largest_hz": top.freq_hz,
                                "largest_mm_s": top.amplitude,

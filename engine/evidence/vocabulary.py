@@ -285,6 +285,11 @@ FACTS["phase_1x"] = {
     "amplitude_mm_s": F("number", "1X velocity read with the phase, mm/s RMS (as stated)", "mm/s RMS"),
     "readings": F("integer", "phase readings given for this point and direction", ""),
     "spread_deg": F("number", "largest difference between those readings, 0-180 deg (0 for one)", "deg"),
+    "measured_channel": F("string", "the reading's channel at that point and direction ('' when none)", ""),
+    "measured_1x_mm_s": F("number", "1X of the point's shaft that channel measures, mm/s RMS (0 when no 1X line "
+                          "stands; left out without a channel there or when its scale is doubted)", "mm/s RMS"),
+    "amplitude_factor": F("number", "the stated 1X amplitude and the measured one, the larger over the smaller "
+                          "(1 when they agree; left out unless both are there)", ""),
 }
 FACTS["phase_difference"] = {
     "relation": F("string", "which pair: horizontal-vertical, across coupling, end to end", ""),

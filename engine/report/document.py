@@ -281,6 +281,9 @@ def _phase(evidence: Evidence, reasoning: Reasoning, units: ShownUnits | None = 
     rows = [{"point": f["point"], "location": f["location"], "direction": f["direction"],
              "amplitude_mm_s": f.get("amplitude_mm_s"),
              "amplitude": None if f.get("amplitude_mm_s") is None else units.velocity_text(f["amplitude_mm_s"]),
+             "measured_channel": f.get("measured_channel") or "",
+             "measured_1x_mm_s": f.get("measured_1x_mm_s"),
+             "measured": None if f.get("measured_1x_mm_s") is None else units.velocity_text(f["measured_1x_mm_s"]),
              "phase_deg": f["phase_deg"], "readings": f["readings"],
              "spread_deg": f["spread_deg"], "reads": reads.get(("reading", f["id"]), [])} for f in readings]
     out = [{"relation": f["relation"], "direction": f["direction"],

@@ -36,6 +36,8 @@ GROUPS = {"shaft": ("shaft orders", "#1f4e9a"), "bearing": ("bearing rates", svg
           "gear": ("gear mesh", "#2e7d32"), "belt": ("belt pass", "#7a5c00"),
           "rotor": ("vane/blade pass", "#6a3d9a"), "electrical": ("electrical", "#c25e00")}
 FOUND = ("harmonics found in the evidence", svg.MARK)      # the envelope's matched defect harmonics
+# the envelope's marks: one colour per bearing in view (the first in the bearing colour), each group named by it
+BEARING_COLOURS = (svg.MARK, "#1f4e9a", "#2e7d32", "#6a3d9a", "#c25e00", "#7a5c00")
 CROWDING = {"FTF", "rotor bar pass"}   # rates that crowd a spectrum: marked only when a hypothesis is on them
 INTERACTIVE_POINTS = 32768             # at most this many points of a trace go to the HTML zoom
 
@@ -81,27 +83,47 @@ def shown(plots: PlotSet, reasoning: Reasoning, evidence: Evidence, machine: Mac
     return plots.view(*focus(reasoning, evidence, machine))
 
 
-def _matched_harmonics(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
+def _found_families(evidence: Evidence, pd: PlotData) -> list:
+    """The defect families of this channel's envelope (kurtogram view) whose fundamental was found and no
+    other family explains better, of the bearing in view (any bearing when none is)."""
+    return [f for f in evidence.envelope_families
+            if f.channel == pd.channel and f.band_method == "kurtogram" and f.fundamental_owned
+            and (pd.bearing is None or f.bearing == pd.bearing)]
+
+
+def _matched_harmonics(evidence: Evidence, pd: PlotData, colours: dict[str, str] | None = None) -> list[svg.Mark]:
     """Solid marks at the harmonics of each defect family the evidence found in this channel's envelope.
 
     Only a family whose fundamental was found, and no other family explains
     better, is marked: a family known only by a stray harmonic would put solid
     marks where the spectrum shows nothing (the fact does not say which
-    harmonics those were).
+    harmonics those were). The fundamental's label and the group in the legend
+    name the bearing, whether one bearing is in view or several; ``colours``
+    gives each bearing's colour.
     """
     out = []
-    for f in evidence.envelope_families:
-        if (f.channel == pd.channel and f.band_method == "kurtogram" and f.fundamental_owned
-                and (pd.bearing is None or f.bearing == pd.bearing)):
-            # the ball spin's impacts come twice per spin: the k-th harmonic of 2xBSF is 2k x BSF
-            per, name = (2, "BSF") if f.defect == "BSF" else (1, f.defect)
-            found = min(f.harmonics_found, ENVELOPE_HARMONICS_MARKED)
-            for k in range(1, found + 1):
-                label = name if k * per == 1 else f"{k * per}x{name}"
-                if k == 1 and pd.bearing is None:      # several bearings marked: say whose rate it is
-                    label += f" {f.bearing}"
-                out.append(svg.Mark(k * f.expected_hz, label, strong=True, group=FOUND[0], color=FOUND[1]))
+    for f in _found_families(evidence, pd):
+        # the ball spin's impacts come twice per spin: the k-th harmonic of 2xBSF is 2k x BSF
+        per, name = (2, "BSF") if f.defect == "BSF" else (1, f.defect)
+        found = min(f.harmonics_found, ENVELOPE_HARMONICS_MARKED)
+        for k in range(1, found + 1):
+            label = name if k * per == 1 else f"{k * per}x{name}"
+            if k == 1:                              # the fundamental says whose rate it is
+                label += f" {f.bearing}"
+            out.append(svg.Mark(k * f.expected_hz, label, strong=True, group=f"{FOUND[0]}, {f.bearing}",
+                                color=(colours or {}).get(f.bearing, FOUND[1])))
     return out
+
+
+def _envelope_marks(evidence: Evidence, pd: PlotData) -> list[svg.Mark]:
+    """The envelope's marks: each defect family found (solid, ``_matched_harmonics``), then each bearing's
+    rates (dashed) where no solid mark stands; every group names its bearing, in the bearing's own colour."""
+    bearings = dict.fromkeys([*(f.bearing for f in _found_families(evidence, pd)),
+                              *(m.component for m in pd.envelope_marks)])
+    colours = {b: BEARING_COLOURS[i % len(BEARING_COLOURS)] for i, b in enumerate(bearings)}
+    matched = _matched_harmonics(evidence, pd, colours)
+    return matched + [svg.Mark(m.freq_hz, m.label, group=f"rates of {m.component}", color=colours[m.component])
+                      for m in pd.envelope_marks if not any(abs(m.freq_hz - x.x) < 1e-6 for x in matched)]
 
 
 def choose_channels(text: str | None, available) -> tuple[str, ...] | None:
@@ -243,11 +265,7 @@ def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset(),
                             pd.shaft_hz * fx)))
     # the envelope, its frequencies and its band are there together (plotdata._envelope), or none of them
     if pd.envelope is not None and pd.envelope_hz is not None and pd.envelope_band_hz is not None:
-        matched = _matched_harmonics(evidence, pd)
-        group, color = GROUPS["bearing"]
-        marks = matched + [svg.Mark(m.freq_hz, m.label, group=group, color=color) for m in pd.envelope_marks
-                           if not any(abs(m.freq_hz - x.x) < 1e-6 for x in matched)]
-        marks = [replace(m, x=m.x * fx) for m in marks]
+        marks = [replace(m, x=m.x * fx) for m in _envelope_marks(evidence, pd)]
         lo, hi = pd.envelope_band_hz
         # the envelope of a prewhitened signal has no physical unit: show it against its own median
         median = float(np.median(pd.envelope)) if len(pd.envelope) else 0.0

@@ -104,11 +104,13 @@ def _axial_twice_mesh(key, fault, stage, seed, channel, g_peak):
     return make
 
 def _phased(key, fault, component, stage, seed, entries):
-    """A simulated fault with 1X phase readings as a sidecar gives them: (point, direction, degrees)."""
+    """A simulated fault with 1X phase readings as a sidecar gives them: (point, direction, degrees), and
+    optionally the 1X amplitude read with the phase, mm/s RMS."""
     def make():
         r = as_reading(simulate(_machine(key), fault, component, stage, None, 25600.0, 4.0, seed))
-        return dataclasses.replace(r, phase_1x=tuple(PhaseReading(point, direction, deg, None, "phase", i + 1)
-                                                     for i, (point, direction, deg) in enumerate(entries)))
+        return dataclasses.replace(r, phase_1x=tuple(PhaseReading(point, direction, deg, amp[0] if amp else None,
+                                                                  "phase", i + 1)
+                                                     for i, (point, direction, deg, *amp) in enumerate(entries)))
     return make
 
 # (what the reading is, its machine, how to make it, the rules it is here for: a guide for whoever
@@ -178,6 +180,8 @@ SIMULATED = [
     ("unbalance, phase in line and opposed across", "rw2",
      _phased("rw2", "unbalance", "pump", 2, 3, [("P1H", None, 40), ("pump_de", "vertical", 45), ("M2H", None, 215)]),
      "phase.unbalance.against-straight-line phase.unbalance.against-opposed-across-coupling"),
+    ("unbalance, a phase given with 80 mm/s RMS where P1H measures about 3", "rw2",
+     _phased("rw2", "unbalance", "pump", 2, 3, [("P1H", None, 40, 80.0)]), "phase.amplitude.differs-from-measured"),
     ("unbalance, phase unsteady", "rw2",
      _phased("rw2", "unbalance", "pump", 3, 3, [("P1H", None, 10), ("P1H", None, 100), ("P1H", None, 170)]),
      "phase.looseness.unsteady phase.unbalance.against-unsteady"),
