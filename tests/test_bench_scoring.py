@@ -348,3 +348,99 @@ def test_the_weighted_act_by_agrees_with_the_models_act_by_on_equal_weights(rng)
     # a weight moves the answer: all weight on the late half makes the act-by later
     late = np.where(x > np.median(x), 1.0, 1e-9)
     assert act_by_weighted(x, late) > act_by_weighted(x, w)
+
+
+# ------------------------------------------- bench.femto_compare: a learned failure level; GP regression
+
+
+def test_thresholds_stay_above_the_level_passed_and_follow_the_ended_runs():
+    # ends of mean 2 and sd 0.5 (derived: 1.5, 2, 2.5): untruncated, the draws have their mean and sd
+    from scipy.stats import norm
+
+    from bench.femto_compare import threshold_draws
+
+    ends = np.array([1.5, 2.0, 2.5])
+    free = threshold_draws(ends, -10.0, 20000)
+    assert free.mean() == pytest.approx(2.0, abs=0.02) and free.std() == pytest.approx(0.5, abs=0.02)
+    # a run that has passed 2.5 without ending: every threshold lies above it, and their mean is that of
+    # a normal truncated one sd above its mean, mu + sd pdf(1) / (1 - cdf(1)) (the inverse Mills ratio,
+    # handbook formula: Johnson, Kotz & Balakrishnan, "Continuous univariate distributions" 1, ch. 13)
+    held = threshold_draws(ends, 2.5, 20000)
+    assert held.min() > 2.5
+    assert held.mean() == pytest.approx(2.0 + 0.5 * norm.pdf(1.0) / norm.sf(1.0), abs=0.01)
+
+
+def _histories_of(series):
+    """A histories dict (run -> point -> indicator -> (seconds, values)) of accel_rms_g series."""
+    return {run: {pt: {"accel_rms_g": (list(np.arange(len(v)) * 100.0), list(v))} for pt, v in pts.items()}
+            for run, pts in series.items()}
+
+
+def _rising(rng, n=80, onset=40, rate=0.08, end=1.0):
+    """A healthy level ``end`` g, then an exponential rise from reading ``onset``."""
+    k = np.arange(n)
+    return end * (1.0 + np.where(k < onset, 0.0, np.expm1(rate * (k - onset)))) * rng.lognormal(0, 0.03, n)
+
+
+def test_a_runs_end_level_is_the_higher_of_its_two_points(rng):
+    from bench.femto_compare import end_levels
+
+    h = _histories_of({"a": {"H": _rising(rng), "V": _rising(rng, rate=0.05)},
+                       "b": {"H": _rising(rng, rate=0.04), "V": _rising(rng, rate=0.06)}})
+    per_point = end_levels(h, ["a", "b"], "accel_rms_g", "point", False)
+    per_run = end_levels(h, ["a", "b"], "accel_rms_g", "run", False)
+    assert per_run.tolist() == [max(per_point[:2]), max(per_point[2:])]
+    # the last reading over the healthy level in log units: about 0.08 x 39 for run a's H (derived)
+    assert per_point[0] == pytest.approx(np.log(1 + np.expm1(0.08 * 39)), abs=0.15)
+
+
+def test_the_exponential_model_to_one_fixed_level_is_the_models_own_projection(rng):
+    # every draw's threshold at the limit's own level: the same draws as exponential_life gives (derived)
+    from bench.femto_compare import exponential_to_levels, healthy_level
+    from engine.trend.degradation import Prior
+    from engine.trend.health import shipped_settings, smooth_log
+    from engine.trend.projection import exponential_life
+
+    v = _rising(rng)[:70]
+    days = np.arange(len(v)) * 100.0 / 86400.0
+    hi = smooth_log(v, shipped_settings().smooth_readings)
+    prior = Prior((-1.0, 60.0), ((1.0, 0.0), (0.0, 400.0)), 0.01, 0.3, 5, "test prior", 100.0 / 86400.0)
+    _, life = exponential_life(days, v, 20.0, "20 g", hi, "x", {"x": prior})
+    assert life is not None
+    phi = healthy_level(v, hi)[0]
+    mine = exponential_to_levels(days, v, hi, prior, np.full(2000, np.log(20.0 / phi)))
+    assert mine is not None
+    assert np.median(mine) == pytest.approx(life.median * 24.0, rel=1e-9)
+    # a higher threshold is reached later
+    later = exponential_to_levels(days, v, hi, prior, np.full(2000, np.log(40.0 / phi)))
+    assert later is not None and np.median(later) > np.median(mine)
+
+
+def test_the_gp_likelihood_is_the_normal_density_of_its_covariance(rng):
+    # scipy as reference: minus the log marginal likelihood is minus the log density of N(0, K + noise)
+    from scipy.stats import multivariate_normal
+
+    from bench.femto_compare import _gp_cov, gp_neg_log_likelihood
+
+    x = np.linspace(0.0, 1.0, 25)
+    y = 2.0 * x + rng.normal(0.0, 0.1, 25)
+    p = np.log([0.3, 0.4, 0.1])
+    expected = -multivariate_normal(np.zeros(25), _gp_cov(x, p, 3.0)).logpdf(y)
+    assert gp_neg_log_likelihood(p, x, y, 3.0) == pytest.approx(expected, rel=1e-9)
+
+
+def test_the_gp_carries_a_straight_rise_forward_and_crosses_where_the_line_does(rng):
+    # readings on y = 2x (x in times the time since the onset): the linear basis carries the line, so at
+    # x = 2 the paths centre on 4 (derived), and a threshold of 3 is crossed near x = 1.5
+    from bench.femto_compare import first_crossing, gp_fit, gp_paths
+
+    x = np.linspace(0.0, 1.0, 40)
+    y = 2.0 * x + rng.normal(0.0, 0.02, 40)
+    p = gp_fit(x, y, 5.0)
+    future = 1.0 + np.linspace(0.01, 1.0, 100)
+    paths = gp_paths(x, y, p, 5.0, future, 500)
+    assert np.median(paths[:, -1]) == pytest.approx(4.0, abs=0.15)
+    lives = first_crossing(future - 1.0, paths, np.full(500, 3.0))
+    assert np.median(lives) == pytest.approx(0.5, abs=0.05)
+    # a threshold no path reaches: never
+    assert first_crossing(future - 1.0, paths, np.full(500, 100.0)).min() >= 1e6
