@@ -444,3 +444,16 @@ def test_the_gp_carries_a_straight_rise_forward_and_crosses_where_the_line_does(
     assert np.median(lives) == pytest.approx(0.5, abs=0.05)
     # a threshold no path reaches: never
     assert first_crossing(future - 1.0, paths, np.full(500, 100.0)).min() >= 1e6
+
+
+def test_the_library_growth_is_the_slope_of_each_points_log_ratio_since_its_onset(rng):
+    # a level that grows as exp(0.08 per reading) from reading 40, readings 100 s apart: the log ratio
+    # rises 0.08 x 36 = 2.88 per hour (derived), at every point
+    from bench.femto_compare import library_slopes
+
+    def grown(rate):
+        k = np.arange(80)
+        return np.exp(np.where(k < 40, 0.0, rate * (k - 40))) * rng.lognormal(0, 0.01, 80)
+
+    h = _histories_of({"a": {"H": grown(0.08), "V": grown(0.04)}})
+    assert library_slopes(h, ["a"], "accel_rms_g") == pytest.approx([2.88, 1.44], rel=0.05)
