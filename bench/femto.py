@@ -206,10 +206,10 @@ def regular(t: np.ndarray) -> np.ndarray:
     return keep
 
 
-def degradation_after_onset(h: dict) -> tuple[np.ndarray, np.ndarray] | None:
+def degradation_after_onset(h: dict, indicator: str = LIMITED) -> tuple[np.ndarray, np.ndarray] | None:
     """(days since the first predicting time, log(y - healthy level)) of one point's whole run,
-    on its regular readings."""
-    t, v, hi = point_arrays(h, LIMITED)
+    on its regular readings (y: ``indicator``, the acceleration peak unless named)."""
+    t, v, hi = point_arrays(h, indicator)
     keep = regular(t)
     t, v = t[keep], v[keep]
     hi = hi[keep]
@@ -221,10 +221,12 @@ def degradation_after_onset(h: dict) -> tuple[np.ndarray, np.ndarray] | None:
     return tau, np.log(np.maximum(v[on.index:] - phi, 0.1 * phi))
 
 
-def prior_from(histories: dict, runs: list[str]) -> Prior:
-    """The empirical prior from the named runs, both points of each."""
-    pairs = [d for r in runs for pt in sorted(histories[r]) if (d := degradation_after_onset(histories[r][pt]))]
-    spacing = float(np.median(np.concatenate([np.diff(histories[r][pt][LIMITED][0]) for r in runs
+def prior_from(histories: dict, runs: list[str], indicator: str = LIMITED) -> Prior:
+    """The empirical prior from the named runs, both points of each (of ``indicator``, the
+    acceleration peak unless named)."""
+    pairs = [d for r in runs for pt in sorted(histories[r])
+             if (d := degradation_after_onset(histories[r][pt], indicator))]
+    spacing = float(np.median(np.concatenate([np.diff(histories[r][pt][indicator][0]) for r in runs
                                               for pt in histories[r]]))) / 86400.0
     return learn_prior(pairs, "learned from the FEMTO learning runs " + ", ".join(runs), spacing)
 

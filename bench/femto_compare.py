@@ -41,6 +41,13 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   bound (the model fitted on all six runs, the scored one included). No answer before the first
   predicting time.
 
+- ``learned level`` and ``gaussian process`` (``level_methods``, their own settings and nested choice):
+  the exponential model's draws run to a failure level learned from how high the library runs ended
+  (a random threshold, Gebraeel et al. 2005; Li, Lei et al. 2015), and Gaussian-process regression of
+  the log level since the onset (Rasmussen & Williams 2006) to the same kind of level; the section
+  before ``level_methods`` says how. Also printed: how much each indicator's end level varies across the
+  runs. This part takes about 20 minutes (the nested choice scores every run 36 times).
+
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
 similarity (sigma, window, dilations) are chosen by nested leave one out: for each held-out run
@@ -67,7 +74,6 @@ SHIFT_STEP_H = 100.0 / 3600.0       # the runs' usual reading spacing
 NO_CROSSING_H = 1e6                 # a draw that never reaches the limit: so late that any estimate is 100 % early
 DILATIONS = (0.5, 0.71, 1.0, 1.41, 2.0)
 
-
 @dataclass(frozen=True)
 class Trajectory:
     """One library point: its degradation ratio over time (hours), where it began and where the run ended."""
@@ -76,7 +82,6 @@ class Trajectory:
     ratio: np.ndarray
     onset_h: float
     life_h: float
-
 
 @dataclass(frozen=True)
 class Setting:
@@ -93,7 +98,6 @@ class Setting:
         d = "none" if self.dilations == (1.0,) else f"{min(self.dilations):g}-{max(self.dilations):g}"
         return f"{self.method} (sigma {self.sigma:g}, window {w}, dilation {d})"
 
-
 def degradation_ratio(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, np.ndarray, int] | None:
     """(hours, health indicator less its healthy-band mean, onset index) of one point, or None before onset."""
     s = shipped_settings()
@@ -103,12 +107,10 @@ def degradation_ratio(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, 
         return None
     return np.asarray(t_s, float) / 3600.0, hi - float(np.mean(hi[:on.early])), on.index
 
-
 def health_values(h: dict) -> tuple[np.ndarray, np.ndarray]:
     """Seconds and values of the point's health-indicator source (the first of onset.yaml's names it has)."""
     name = next(n for n in shipped_settings().indicators if n in h)
     return np.array(h[name][0], float), np.array(h[name][1], float)
-
 
 def library_of(histories: dict, runs: list[str], lives_h: dict[str, float]) -> list[Trajectory]:
     """The library: every point of ``runs`` whose degradation began, over its whole run."""
@@ -119,7 +121,6 @@ def library_of(histories: dict, runs: list[str], lives_h: dict[str, float]) -> l
             if d is not None:
                 out.append(Trajectory(r, d[0], d[1], float(d[0][d[2]]), lives_h[r]))
     return out
-
 
 def similarity_lives(t_h: np.ndarray, ratio: np.ndarray, library: list[Trajectory], sigma: float,
                      window_h: float, dilations: tuple[float, ...]) -> tuple[np.ndarray, np.ndarray]:
@@ -143,7 +144,6 @@ def similarity_lives(t_h: np.ndarray, ratio: np.ndarray, library: list[Trajector
         weights.append(np.exp(-best_d / sigma ** 2))
     return np.array(lives), np.array(weights)
 
-
 def remaining_fraction_lives(elapsed_h: float, library: list[Trajectory]) -> tuple[np.ndarray, np.ndarray]:
     """The library's onset-to-end durations longer than ``elapsed_h``, less it (none longer: 0)."""
     d = np.array([lib.life_h - lib.onset_h for lib in library])
@@ -151,13 +151,11 @@ def remaining_fraction_lives(elapsed_h: float, library: list[Trajectory]) -> tup
     x = x if x.size else np.zeros(1)
     return x, np.ones(x.size)
 
-
 def weighted_quantile(x: np.ndarray, w: np.ndarray, q: float) -> float:
     """The ``q`` quantile of the sample ``x`` with weights ``w`` (the first value whose cumulative weight reaches q)."""
     order = np.argsort(x)
     c = np.cumsum(w[order]) / np.sum(w)
     return float(x[order][min(len(x) - 1, int(np.searchsorted(c, q)))])
-
 
 def act_by_weighted(x: np.ndarray, w: np.ndarray) -> float:
     """The estimate with the best expected challenge score over the weighted sample (Bayes decision),
@@ -170,10 +168,8 @@ def act_by_weighted(x: np.ndarray, w: np.ndarray) -> float:
     er = 100 * (truth[None, :] - cands[:, None]) / truth[None, :]
     return float(cands[int(np.argmax((challenge_score(er) * w[None, :]).sum(axis=1)))])
 
-
 def _width(x: np.ndarray, w: np.ndarray) -> float:
     return max(weighted_quantile(x, w, 0.9) - weighted_quantile(x, w, 0.1), 1e-3)
-
 
 @dataclass(frozen=True)
 class Cut:
@@ -181,7 +177,6 @@ class Cut:
     a: float
     a_median: float
     covered: bool
-
 
 def answer(samples: list[tuple[np.ndarray, np.ndarray]]) -> tuple[float, float, float, float] | None:
     """(median, 10th, 90th percentile, act by) of the mixture of the weighted samples, each weighted by
@@ -194,7 +189,6 @@ def answer(samples: list[tuple[np.ndarray, np.ndarray]]) -> tuple[float, float, 
     w = np.concatenate([s[1] * k for s, k in zip(samples, scale)])
     return (weighted_quantile(x, w, 0.5), weighted_quantile(x, w, 0.1), weighted_quantile(x, w, 0.9),
             act_by_weighted(x, w))
-
 
 def score_run(histories: dict, run: str, library_runs: list[str], settings: list[Setting],
               lives_h: dict[str, float], prior: Prior) -> dict[Setting, list[Cut | None]]:
@@ -250,7 +244,6 @@ def score_run(histories: dict, run: str, library_runs: list[str], settings: list
                               float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
     return out
 
-
 def grid() -> list[Setting]:
     """The methods and the similarity's settings weighed (sigma in log units, window in hours)."""
     out = [Setting("exponential"), Setting("remaining fraction")]
@@ -259,12 +252,10 @@ def grid() -> list[Setting]:
         out.append(Setting(method, sigma, window, dil))
     return out
 
-
 def mean_a(cuts: list[Cut | None]) -> float:
     """Mean score A of the answered cuts (0 when none)."""
     got = [c.a for c in cuts if c is not None]
     return float(np.mean(got)) if got else 0.0
-
 
 def summary(cuts: list[Cut | None]) -> str:
     """'n, A, A median, coverage' of answered cuts."""
@@ -273,7 +264,6 @@ def summary(cuts: list[Cut | None]) -> str:
         return "no answers"
     return (f"{len(got):3d} {np.mean([c.a for c in got]):6.3f} {np.mean([c.a_median for c in got]):6.3f}"
             f" {np.mean([c.covered for c in got]):6.0%}")
-
 
 # ---------------------------------------------------------------- proportional hazards with condition covariates
 #
@@ -293,7 +283,6 @@ GAMMA_BOUND = 30.0                 # |gamma| at most this: exp(30 x 3 log units)
 LOG_BETA_BOUNDS = (np.log(0.1), np.log(20.0))
 LOG_ETA_BOUNDS_H = (np.log(0.01), np.log(1e4))
 
-
 @dataclass(frozen=True)
 class HazardSetting:
     """One setting of the proportional-hazards model."""
@@ -308,7 +297,6 @@ class HazardSetting:
         ridge = "ML" if self.ridge == 0 else f"ridge {self.ridge:g}"
         return f"hazards ({self.points}, {clock}, z {self.covariate}, {self.future}, {ridge})"
 
-
 @dataclass(frozen=True)
 class Condition:
     """A run's condition as it stood at a time: its regular readings (hours since the run began), the
@@ -318,7 +306,6 @@ class Condition:
     z: np.ndarray
     onset_h: float | None
 
-
 def ratio_and_onset(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, float | None]:
     """A point's degradation ratio at each reading (the smoothed log health indicator less the mean of
     its healthy band) and its first predicting time in hours (None: not yet), from onset.yaml's rule."""
@@ -327,7 +314,6 @@ def ratio_and_onset(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, fl
     on = first_predicting_time(hi, s)
     ratio = hi - float(np.mean(hi[:max(on.early, 1)]))
     return ratio, None if on.index is None else float(t_s[on.index]) / 3600.0
-
 
 def condition_of(run: dict, upto_s: float = np.inf) -> Condition:
     """The condition of a run's points from the readings at or before ``upto_s`` (seconds), each
@@ -350,7 +336,6 @@ def condition_of(run: dict, upto_s: float = np.inf) -> Condition:
     keep = regular(base)
     return Condition(base[keep] / 3600.0, np.maximum(z[keep], 0.0), min(onsets) if onsets else None)
 
-
 def clock_of(c: Condition, clock: str, covariate: str = "now") -> tuple[np.ndarray, np.ndarray]:
     """(clock times, covariate) of a condition's readings on the setting's clock: every reading on the
     run clock; from the first predicting time on, less it, on the onset clock. The covariate is the
@@ -363,14 +348,12 @@ def clock_of(c: Condition, clock: str, covariate: str = "now") -> tuple[np.ndarr
     k = c.t_h >= c.onset_h - 1e-9
     return c.t_h[k] - c.onset_h, z[k]
 
-
 def _stacked(runs: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, ...]:
     """The runs' intervals end to end (start, end, covariate over it) and each run's end and covariate there."""
     lo = np.concatenate([s[:-1] for s, _ in runs])
     hi = np.concatenate([s[1:] for s, _ in runs])
     z = np.concatenate([z[:-1] for _, z in runs])
     return lo, hi, z, np.array([max(s[-1], 1e-9) for s, _ in runs]), np.array([z[-2] for _, z in runs])
-
 
 def hazard_nll(params: np.ndarray, data: tuple[np.ndarray, ...], ridge: float) -> float:
     """Negative log likelihood of (log beta, log eta, gamma) over run-to-failure histories (``_stacked``),
@@ -386,14 +369,12 @@ def hazard_nll(params: np.ndarray, data: tuple[np.ndarray, ...], ridge: float) -
     log_h = float(np.sum(lb - le + (beta - 1) * np.log(end / eta) + g * z_end))
     return 0.5 * ridge * g ** 2 + cum - log_h
 
-
 @dataclass(frozen=True)
 class HazardFit:
     """A fitted Weibull proportional-hazards model (hours)."""
     beta: float
     eta_h: float
     gamma: float
-
 
 def fit_hazard(runs: list[tuple[np.ndarray, np.ndarray]], ridge: float) -> HazardFit:
     """Maximum (penalised) likelihood over the runs (scipy.optimize, Nelder-Mead from a plain Weibull
@@ -411,7 +392,6 @@ def fit_hazard(runs: list[tuple[np.ndarray, np.ndarray]], ridge: float) -> Hazar
     assert best is not None
     lb, le, g = best.x
     return HazardFit(float(np.exp(lb)), float(np.exp(le)), float(g))
-
 
 def hazard_lives(fit: HazardFit, s0: float, z0: float, slope: float) -> np.ndarray:
     """Remaining lives (hours) at HAZARD_QUANTILES equally spaced probabilities of the conditional
@@ -432,25 +412,21 @@ def hazard_lives(fit: HazardFit, s0: float, z0: float, slope: float) -> np.ndarr
     out = np.interp(need, cum, u)
     return np.where(need <= cum[-1], out, NO_CROSSING_H)
 
-
 def recent_slope(c: Condition) -> float:
     """The condition's slope per hour over its last TREND_READINGS regular readings (least squares)."""
     t, z = c.t_h[-TREND_READINGS:], c.z[-TREND_READINGS:]
     return float(np.polyfit(t, z, 1)[0]) if len(t) >= 3 and np.ptp(t) > 0 else 0.0
-
 
 def hazard_grid() -> list[HazardSetting]:
     """The proportional-hazards settings weighed."""
     return [HazardSetting(c, z, f, r, p) for p in ("bearing", "each") for c in ("run", "onset")
             for z in ("now", "highest") for f in ("hold", "trend") for r in (0.0, 1.0, 3.0, 10.0, 30.0)]
 
-
 def _units(run: dict, points: str, upto_s: float = np.inf) -> list[Condition]:
     """The conditions a run is judged by: one of the bearing (its points together), or one per point."""
     if points == "bearing":
         return [condition_of(run, upto_s)]
     return [condition_of({pt: run[pt]}, upto_s) for pt in sorted(run)]
-
 
 def score_hazard_run(histories: dict, run: str, library_runs: list[str], settings: list[HazardSetting],
                      lives_h: dict[str, float]) -> dict[HazardSetting, list[Cut | None]]:
@@ -492,7 +468,6 @@ def score_hazard_run(histories: dict, run: str, library_runs: list[str], setting
                               float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi))
     return out
 
-
 def hazard_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
     """Leave one run out for every proportional-hazards setting, nested leave one out to choose one
     (within each form: the bearing's points together, each point alone), and the in-sample upper bound
@@ -533,6 +508,356 @@ def hazard_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -
               + " ".join(f"{mean_a(c):.2f}" for c in (chosen[i * len(CUTS):(i + 1) * len(CUTS)]
                                                         for i in range(len(runs)))))
 
+# ------------------------------------------------- a failure level learned from ended histories; GP regression
+#
+# Two further methods (issue 23, section 2), scored as above but on their own settings:
+#
+# - ``learned level``: the failure threshold as a random variable learned from past failures
+#   (Gebraeel, Lawley, Li & Ryan 2005, IIE Transactions 37, section 5, and Li, Lei et al. 2015,
+#   IEEE Trans. Ind. Electronics 62, set the threshold from the histories that failed). Each library
+#   point's end level is the log ratio of its last reading (or of its trailing mean) to its own
+#   healthy level (the median of its early readings, as the exponential model's phi); the threshold
+#   is normal with their mean and standard deviation, truncated below at the held-out point's highest
+#   level so far (the run has not ended, so its threshold lies above every reading it has passed).
+#   Each of tellwave's exponential-model draws (``engine.trend.degradation``, the prior from the
+#   library) runs forward to its own threshold draw. ``ends``: "point", each point's own end; "run",
+#   the higher of a run's two points (a test stops when either passes its limit, so the other point's
+#   end is not a failure level), the held-out run's level so far the higher of its two points.
+# - ``gaussian process``: Gaussian-process regression (Rasmussen & Williams 2006, "Gaussian
+#   processes for machine learning", MIT Press, chapters 2 and 5) of the log ratio to the healthy level
+#   since the first predicting time, on a time axis scaled by the time since then. The prior mean is
+#   the library's mean growth (the least-squares slope of each library point's log ratio since its
+#   onset); the kernel is a squared exponential plus white noise plus the explicit basis [1, t] with
+#   normal coefficients (section 2.7: level sd GP_CONSTANT_SD, slope sd the library slopes' sd). The
+#   squared exponential's sd and length and the noise are chosen by the log marginal likelihood (eq.
+#   5.8) with scipy.optimize; without the learned mean a few readings since the onset give no growth
+#   and no crossing (tried: 0.001-0.019). Paths are drawn from the
+#   joint predictive of the latent level over a geometric grid of future times (out to HORIZON_FACTOR
+#   times the time since the onset) and each path's first crossing of its own threshold draw is its
+#   remaining life. The latent level is smooth, so its thresholds are the trailing means' end levels;
+#   ``ends`` "fixed" projects the acceleration peak to the fixed 20 g instead.
+#
+# Every setting is scored leave one run out and, to choose one, by nested leave one out.
+
+GP_GRID = 300                  # future times of the predictive paths, geometric from one reading spacing
+GP_READINGS = 80               # readings since the onset the regression keeps at most (evenly, the last kept)
+GP_BOUNDS = ((np.log(1e-3), np.log(3.0)),      # sd of the squared-exponential part (log units)
+             (np.log(0.05), np.log(5.0)),      # its length scale, in times the time since the onset
+             (np.log(1e-3), np.log(3.0)))      # white noise sd (one reading's scatter)
+# the GP's growth: "free", the linear basis's slope normal about the library's mean growth with the
+# library's sd (the readings may set it); "pinned", the library's mean growth (the readings set the level
+# and the swings about it); "drawn", pinned, then each path grows from now at its own growth, resampled
+# from the library points' growths (a bootstrap of the library)
+GP_SLOPES = ("free", "pinned", "drawn")
+PINNED_SD = 1e-3
+GP_CONSTANT_SD = 1.0           # prior sd of the level at the onset, log units (a factor e either way: wide)
+LEVEL_SEED = 20261205
+
+@dataclass(frozen=True)
+class LevelSetting:
+    """A method with a learned failure level (or the fixed 20 g) and its settings."""
+    method: str             # learned level, gaussian process
+    indicator: str          # the stored indicator projected
+    ends: str               # point, run (the end levels learned), fixed (20 g of the acceleration peak)
+    smooth: bool = False    # end levels of the trailing mean (else of the last reading)
+    slope: str = "free"     # the GP's growth: free, pinned or drawn (GP_SLOPES)
+
+    def __str__(self) -> str:
+        what = "20 g" if self.ends == "fixed" else f"{self.ends} ends, {'mean' if self.smooth else 'last'}"
+        growth = f", {self.slope}" if self.method == "gaussian process" else ""
+        return f"{self.method} ({self.indicator}, {what}{growth})"
+
+def level_grid() -> list[LevelSetting]:
+    """The learned-level and Gaussian-process settings weighed."""
+    out = [LevelSetting("learned level", ind, ends, smooth) for ind in ("accel_peak_g", "accel_rms_g")
+           for ends in ("point", "run") for smooth in (False, True)]
+    out += [LevelSetting("gaussian process", ind, ends, True, slope) for slope in GP_SLOPES
+            for ind in ("accel_peak_g", "accel_rms_g") for ends in ("point", "run")]
+    out += [LevelSetting("gaussian process", LIMITED, "fixed", False, slope) for slope in GP_SLOPES]
+    return out
+
+def healthy_level(v: np.ndarray, hi: np.ndarray) -> tuple[float, int | None, int]:
+    """(healthy level phi, onset index or None, early readings) of a point: the median of the early
+    readings that made the healthy band, as the exponential model takes it."""
+    on = first_predicting_time(hi, shipped_settings())
+    return float(np.median(v[:on.early])), on.index, on.early
+
+def level_ratio(v: np.ndarray, phi: float, smooth: bool) -> np.ndarray:
+    """Log ratio of each reading (or of the trailing mean to it) to the healthy level."""
+    x = smooth_log(v, shipped_settings().smooth_readings) if smooth else np.log(np.maximum(v, 1e-12))
+    return x - np.log(phi)
+
+def end_levels(histories: dict, runs: list[str], indicator: str, ends: str, smooth: bool) -> np.ndarray:
+    """The library's failure levels: log ratio to the healthy level where each run ended, per point or
+    the higher of each run's points."""
+    out = []
+    for r in runs:
+        per = []
+        for pt in sorted(histories[r]):
+            _, v, hi = point_arrays(histories[r][pt], indicator)
+            phi, _, _ = healthy_level(v, hi)
+            per.append(float(level_ratio(v, phi, smooth)[-1]))
+        out.extend(per if ends == "point" else [max(per)])
+    return np.array(out)
+
+def threshold_draws(ends: np.ndarray, above: float, n: int, seed: int = LEVEL_SEED) -> np.ndarray:
+    """``n`` thresholds (log ratio) from a normal of the ends' mean and standard deviation, truncated
+    below at ``above`` (the level already passed without failing)."""
+    from scipy.stats import truncnorm
+
+    m, sd = float(np.mean(ends)), max(float(np.std(ends, ddof=1)), 1e-3)
+    a = min((above - m) / sd, 30.0)
+    return np.asarray(truncnorm(a, np.inf, loc=m, scale=sd).rvs(size=n, random_state=np.random.default_rng(seed)))
+
+def exponential_to_levels(days: np.ndarray, v: np.ndarray, hi: np.ndarray, prior: Prior,
+                          ratios: np.ndarray) -> np.ndarray | None:
+    """Remaining lives (hours) of the exponential model's draws (as ``exponential_life``: the update
+    after the first predicting time, the prior's rate when the readings do not rise), each run to its
+    own threshold ``ratios`` (log ratio to the healthy level, one per draw). None before the onset."""
+    from engine.trend.degradation import SAMPLES, rate_from_prior, remaining_life, update
+    from engine.trend.projection import MIN_BAYES_READINGS
+
+    phi, index, _ = healthy_level(v, hi)
+    if index is None or len(v) - index < MIN_BAYES_READINGS:
+        return None
+    floor = 0.1 * phi
+    tau = days[index:] - days[index]
+    log_y = np.log(np.maximum(v[index:] - phi, floor))
+    spacing = float(np.median(np.diff(days)))
+    post = update(prior, tau, log_y)
+    if post.mean[1] <= 0 and prior.runs:
+        post = rate_from_prior(prior, tau, log_y)
+    departure = float(log_y[-1] - (post.mean[0] + post.mean[1] * tau[-1]))
+    log_limit = np.log(np.maximum(phi * np.expm1(ratios[:SAMPLES]), floor))
+    life = remaining_life(post, float(tau[-1]), log_limit, interval=max(spacing, 1e-9), last_departure=departure,
+                          autocorrelation=prior.autocorrelation if prior.runs else 0.0)
+    return np.minimum(np.array(life.draws) * 24.0, NO_CROSSING_H)
+
+def _gp_kernel(a: np.ndarray, b: np.ndarray, p: np.ndarray, slope_sd: float) -> np.ndarray:
+    """Squared exponential + linear + constant (Rasmussen & Williams 2006, eqs. 2.31 and 4.9, section 4.2.4):
+    the linear and constant terms are the explicit basis [1, x] with a normal prior on its coefficients
+    (section 2.7), the slope's sd learned from the library."""
+    sf, ell = np.exp(p[:2])
+    return (sf ** 2 * np.exp(-0.5 * (a[:, None] - b[None, :]) ** 2 / ell ** 2) + slope_sd ** 2 * np.outer(a, b)
+            + GP_CONSTANT_SD ** 2)
+
+def _gp_cov(x: np.ndarray, p: np.ndarray, slope_sd: float) -> np.ndarray:
+    return _gp_kernel(x, x, p, slope_sd) + (np.exp(2 * p[2]) + 1e-8) * np.eye(len(x))
+
+def gp_neg_log_likelihood(p: np.ndarray, x: np.ndarray, y: np.ndarray, slope_sd: float) -> float:
+    """Minus the log marginal likelihood of the readings (Rasmussen & Williams 2006, eq. 2.30)."""
+    try:
+        chol = np.linalg.cholesky(_gp_cov(x, p, slope_sd))
+    except np.linalg.LinAlgError:
+        return 1e12
+    alpha = np.linalg.solve(chol.T, np.linalg.solve(chol, y))
+    return float(0.5 * y @ alpha + np.sum(np.log(np.diag(chol))) + 0.5 * len(x) * np.log(2 * np.pi))
+
+def gp_fit(x: np.ndarray, y: np.ndarray, slope_sd: float) -> np.ndarray:
+    """Log hyperparameters (sd and length of the squared exponential, noise sd) with the largest marginal
+    likelihood, from two starts (scipy's L-BFGS-B)."""
+    from scipy.optimize import minimize
+
+    best = None
+    for start in (np.log([0.3, 0.3, 0.2]), np.log([0.1, 1.0, 0.1])):
+        r = minimize(gp_neg_log_likelihood, start, args=(x, y, slope_sd), method="L-BFGS-B", bounds=GP_BOUNDS)
+        if best is None or r.fun < best.fun:
+            best = r
+    assert best is not None
+    return np.asarray(best.x)
+
+def gp_paths(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float, future: np.ndarray, n: int,
+             seed: int = LEVEL_SEED) -> np.ndarray:
+    """``n`` draws (rows) of the latent level at the ``future`` inputs from the joint predictive
+    (Rasmussen & Williams 2006, eqs. 2.22-2.24)."""
+    chol = np.linalg.cholesky(_gp_cov(x, p, slope_sd))
+    kf = _gp_kernel(future, x, p, slope_sd)
+    mean = kf @ np.linalg.solve(chol.T, np.linalg.solve(chol, y))
+    v = np.linalg.solve(chol, kf.T)
+    cov = _gp_kernel(future, future, p, slope_sd) - v.T @ v
+    try:
+        root = np.linalg.cholesky(0.5 * (cov + cov.T) + 1e-9 * np.eye(len(future)))
+    except np.linalg.LinAlgError:
+        w, u = np.linalg.eigh(0.5 * (cov + cov.T))
+        root = u * np.sqrt(np.maximum(w, 0.0))
+    return mean[None, :] + np.random.default_rng(seed).standard_normal((n, len(future))) @ root.T
+
+def library_slopes(histories: dict, runs: list[str], indicator: str) -> np.ndarray:
+    """The library points' growth since their first predicting time: the least-squares slope of the log
+    ratio to the healthy level, per hour (the GP's prior mean and slope sd)."""
+    slopes = []
+    for r in runs:
+        for pt in sorted(histories[r]):
+            t, v, hi = point_arrays(histories[r][pt], indicator)
+            phi, index, _ = healthy_level(v, hi)
+            if index is not None and len(v) - index >= 5:
+                slopes.append(float(np.polyfit((t[index:] - t[index]) / 3600.0, np.log(v[index:] / phi), 1)[0]))
+    return np.array(slopes)
+
+def gp_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray, slope: tuple[float, float],
+                   n: int = 2000) -> tuple[np.ndarray, np.ndarray] | None:
+    """(future times in hours from the last reading, ``n`` Gaussian-process paths of the log ratio to the
+    healthy level there), fitted to the readings since the first predicting time with the library's
+    mean growth ``slope[0]`` per hour as the prior mean and ``slope[1]`` as its sd; None before the onset
+    or with fewer than 5 readings since."""
+    from engine.trend.degradation import HORIZON_FACTOR
+
+    phi, index, _ = healthy_level(v, hi)
+    if index is None or len(v) - index < 5:
+        return None
+    t = (days[index:] - days[index]) * 24.0
+    elapsed = float(t[-1])
+    if elapsed <= 0:
+        return None
+    keep = np.unique(np.round(np.linspace(0, len(t) - 1, min(len(t), GP_READINGS))).astype(int))
+    x = t[keep] / elapsed
+    y = np.log(np.maximum(v[index:][keep], 1e-12) / phi) - slope[0] * t[keep]
+    p = gp_fit(x, y, slope[1] * elapsed)
+    spacing = float(np.median(np.diff(days))) * 24.0
+    ahead = np.geomspace(max(spacing / elapsed, 1e-4), HORIZON_FACTOR, GP_GRID)
+    paths = gp_paths(x, y, p, slope[1] * elapsed, 1.0 + ahead, n)
+    return ahead * elapsed, paths + slope[0] * (1.0 + ahead)[None, :] * elapsed
+
+def first_crossing(future_h: np.ndarray, paths: np.ndarray, thresholds: np.ndarray) -> np.ndarray:
+    """Each path's first future time at or past its own threshold (never: NO_CROSSING_H)."""
+    crossed = paths >= thresholds[:, None]
+    return np.where(crossed.any(axis=1), future_h[np.argmax(crossed, axis=1)], NO_CROSSING_H)
+
+def _actual_h(histories: dict, run: str, now_h: float, lives_h: dict[str, float]) -> float:
+    """The actual remaining life from the last reading at or before the cut, as ``score_run`` takes it."""
+    last = max(float(np.max(np.array(h[LIMITED][0])[np.array(h[LIMITED][0]) <= now_h * 3600.0 + 1e-6])) / 3600.0
+               for h in histories[run].values())
+    return lives_h[run] - last
+
+def score_levels(histories: dict, run: str, library_runs: list[str], settings: list[LevelSetting],
+                 lives_h: dict[str, float], prior_of: object, gp_cache: dict) -> dict[LevelSetting, list[Cut | None]]:
+    """Every learned-level and Gaussian-process setting's answer at each cut of ``run``, its thresholds
+    and prior from ``library_runs`` (``prior_of(runs, indicator)``); the Gaussian-process paths, which
+    do not depend on the library, are kept in ``gp_cache``."""
+    out: dict[LevelSetting, list[Cut | None]] = {s: [] for s in settings}
+    ends = {(s.indicator, s.ends, s.smooth): end_levels(histories, library_runs, s.indicator, s.ends, s.smooth)
+            for s in settings if s.ends != "fixed"}
+    slopes = {ind: library_slopes(histories, library_runs, ind) for ind in {s.indicator for s in settings}}
+    for ci, cut in enumerate(CUTS):
+        now_h = cut * lives_h[run]
+        actual = _actual_h(histories, run, now_h, lives_h)
+        arrays = {}
+        for pt in sorted(histories[run]):
+            for ind in {s.indicator for s in settings}:
+                t, v, hi = point_arrays(histories[run][pt], ind)
+                k = t <= now_h * 3600.0 + 1e-6
+                arrays[pt, ind] = (t[k] / 86400.0, v[k], hi[k])
+        for s in settings:
+            found = []
+            # the level each point has passed without the run ending; with run ends the higher of the two
+            passed = {}
+            for pt in sorted(histories[run]):
+                days, v, hi = arrays[pt, s.indicator]
+                phi, _, _ = healthy_level(v, hi)
+                passed[pt] = float(np.max(level_ratio(v, phi, s.smooth)))
+            for pt in sorted(histories[run]):
+                days, v, hi = arrays[pt, s.indicator]
+                above = max(passed.values()) if s.ends == "run" else passed[pt]
+                if s.ends == "fixed":
+                    phi, _, _ = healthy_level(v, hi)
+                    if v[-1] >= LIMIT_G:
+                        found.append((0.0, 0.0, 0.0, 0.0))
+                        continue
+                    lev = np.log(LIMIT_G / phi)
+
+                    def ratio_of(_a: float, n: int, lev: float = lev) -> np.ndarray:
+                        return np.full(n, lev)
+                else:
+                    e = ends[s.indicator, s.ends, s.smooth]
+
+                    def ratio_of(a: float, n: int, e: np.ndarray = e) -> np.ndarray:
+                        return threshold_draws(e, a, n)
+                if s.method == "learned level":
+                    prior = prior_of(library_runs, s.indicator)          # type: ignore[operator]
+                    lives = exponential_to_levels(days, v, hi, prior, ratio_of(above, 2000))
+                else:
+                    grow = slopes[s.indicator]
+                    sd = float(np.std(grow, ddof=1)) if s.slope == "free" else PINNED_SD
+                    key = (run, ci, pt, s.indicator, tuple(library_runs), sd)
+                    if key not in gp_cache:
+                        gp_cache[key] = gp_since_onset(days, v, hi, (float(np.mean(grow)), sd))
+                    g = gp_cache[key]
+                    lives = None
+                    if g is not None:
+                        paths = g[1]
+                        if s.slope == "drawn":
+                            own = np.random.default_rng(LEVEL_SEED).choice(grow, paths.shape[0])
+                            paths = paths + (own - np.mean(grow))[:, None] * g[0][None, :]
+                        lives = first_crossing(g[0], paths, ratio_of(above, paths.shape[0]))
+                if lives is not None:
+                    got = answer([(lives, np.ones(len(lives)))])
+                    if got is not None:
+                        found.append(got)
+            if not found:
+                out[s].append(None)
+                continue
+            med, lo, hi_, act = min(found)
+            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
+                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
+    return out
+
+END_CANDIDATES = ("accel_peak_g", "accel_rms_g", "velocity_rms_mm_s", "kurtosis", "crest_factor")
+
+def end_level_table(histories: dict, runs: list[str]) -> None:
+    """How much each indicator's end level (log ratio to its healthy level) varies across the runs: the
+    one that varies least, relative to its rise, is the better failure criterion. The envelope lines are
+    left out: they are stored only for the snapshots where a line stood clear (4 to 54 of 70 to 299)."""
+    print("\nend levels: log ratio of the last reading (or trailing mean) to the healthy level, over the runs")
+    print(f"{'indicator':<20}{'ends':>6}{'of':>6}{'mean':>7}{'sd':>6}{'sd/mean':>8}  values")
+    for name in END_CANDIDATES:
+        for ends, smooth in (("point", False), ("point", True), ("run", False)):
+            e = end_levels(histories, runs, name, ends, smooth)
+            print(f"{name:<20}{ends:>6}{'mean' if smooth else 'last':>6}{np.mean(e):7.2f}{np.std(e, ddof=1):6.2f}"
+                  f"{np.std(e, ddof=1) / np.mean(e):8.2f}  " + " ".join(f"{x:.2f}" for x in e))
+
+def level_methods(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
+    """Score the learned-level and Gaussian-process settings leave one run out, then by nested leave one
+    out, and print both tables with an in-sample bound (thresholds learned from all six runs)."""
+    priors: dict[tuple[str, tuple[str, ...]], Prior] = {}
+
+    def prior_of(names: list[str], indicator: str) -> Prior:
+        key = (indicator, tuple(sorted(names)))
+        if key not in priors:
+            priors[key] = prior_from(histories, list(key[1]), indicator)
+        return priors[key]
+
+    end_level_table(histories, runs)
+    settings = level_grid()
+    gp_cache: dict = {}
+    outer = {r: score_levels(histories, r, [x for x in runs if x != r], settings, lives_h, prior_of, gp_cache)
+             for r in runs}
+    print("\nlearned failure level and Gaussian-process regression, leave one run out (thresholds and prior from "
+          "the other five)")
+    print(f"{'method':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        allc = [c for r in runs for c in outer[r][s]]
+        print(f"{str(s):<58}{summary(allc)}  " + " ".join(f"{mean_a(outer[r][s]):.2f}" for r in runs))
+    best = max(settings, key=lambda s: mean_a([c for r in runs for c in outer[r][s]]))
+    print(f"upper bound, the setting best on the very runs it is scored on: {best}: "
+          f"{summary([c for r in runs for c in outer[r][best]])}")
+    inside = {r: score_levels(histories, r, runs, [best], lives_h, prior_of, gp_cache) for r in runs}
+    print(f"in sample, that setting with thresholds and prior from all six runs (the held-out one among them): "
+          f"{summary([c for r in runs for c in inside[r][best]])}")
+    pool = settings
+    print("nested leave one out: the setting chosen on the other five runs (each left out of a library of four)")
+    chosen: list[Cut | None] = []
+    for r in runs:
+        others = [x for x in runs if x != r]
+        inner: dict[LevelSetting, list[Cut | None]] = {s: [] for s in pool}
+        for j in others:
+            lib = [x for x in others if x != j]
+            for s, cs in score_levels(histories, j, lib, pool, lives_h, prior_of, gp_cache).items():
+                inner[s].extend(cs)
+        pick = max(pool, key=lambda s: mean_a(inner[s]))
+        chosen.extend(outer[r][pick])
+        print(f"{r}: chose {pick} (inner A {mean_a(inner[pick]):.3f}), held out A {mean_a(outer[r][pick]):.3f}")
+    print(f"nested: n, A, A med, coverage {summary(chosen)}")
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
@@ -572,8 +897,9 @@ def main() -> int:
         print(f"{r}: chose {best} (inner A {mean_a(inner[best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
     print(f"nested: n, A, A med, coverage {summary(chosen_cuts)}")
     hazard_report(histories, runs, lives_h)
-    return 0
 
+    level_methods(histories, runs, lives_h)
+    return 0
 
 if __name__ == "__main__":
     raise SystemExit(main())

@@ -17,11 +17,9 @@ from engine.readings.model import Channel, Reading
 def _h(fault, component, certainty):
     return SimpleNamespace(fault=fault, component=component, certainty=certainty)
 
-
 def _result(*hypotheses, withheld=False):
     return SimpleNamespace(hypotheses=tuple(hypotheses), withheld=withheld,
                            top=hypotheses[0] if hypotheses else None)
-
 
 # a pump coupled to its motor and a fan behind a gear; a blower belt-driven by a motor of its own
 MACHINE = SimpleNamespace(shaft_speeds_hz={"motor": 24.8, "pump": 24.8, "fan": 8.5, "drive": 49.0, "blower": 31.0},
@@ -29,19 +27,15 @@ MACHINE = SimpleNamespace(shaft_speeds_hz={"motor": 24.8, "pump": 24.8, "fan": 8
                           belts=(SimpleNamespace(id="vbelt", driving_shaft="drive", driven_shaft="blower"),))
 PAIR = (("unbalance", "pump"), ("outer-race", "pump_nde"))
 
-
 # ---------------------------------------------------------------- bench.confusion
-
 
 def test_a_pair_is_right_when_both_are_named_and_nothing_else_is_called():
     result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.6), _h("inner-race", "pump_de", 0.4))
     assert confusion.pair_verdict(result, MACHINE, PAIR) == ((True, True), (), True)
 
-
 def test_a_pair_with_one_fault_below_half_is_not_right():
     result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.49))
     assert confusion.pair_verdict(result, MACHINE, PAIR) == ((False, True), (), False)
-
 
 def test_a_pair_with_a_third_call_is_not_right_and_lists_it():
     result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.7), _h("outer-race", "pump_de", 0.5))
@@ -49,18 +43,15 @@ def test_a_pair_with_a_third_call_is_not_right_and_lists_it():
     assert (named, right) == ((True, True), False)
     assert wrong == ("outer-race on pump_de 0.50",)
 
-
 def test_the_right_fault_on_the_wrong_component_does_not_name_the_truth():
     result = _result(_h("outer-race", "pump_de", 0.8), _h("unbalance", "fan", 0.7))
     named, wrong, right = confusion.pair_verdict(result, MACHINE, PAIR)
     assert named == (False, False) and not right
     assert len(wrong) == 2
 
-
 def test_a_withheld_pair_names_nothing_and_calls_nothing():
     result = _result(_h("outer-race", "pump_nde", 0.8), _h("unbalance", "pump", 0.7), withheld=True)
     assert confusion.pair_verdict(result, MACHINE, PAIR) == ((False, False), (), False)
-
 
 def test_misalignment_counts_on_the_coupling_of_its_shaft_and_either_kind():
     joint = (("misalignment-angular", "pump"),)
@@ -72,14 +63,12 @@ def test_misalignment_counts_on_the_coupling_of_its_shaft_and_either_kind():
     assert confusion.wrong_calls(_result(_h("misalignment-parallel", "coupling", 0.7)), None, joint) \
         == ("misalignment-parallel on coupling 0.70",)
 
-
 def test_misalignment_on_a_belt_drive_counts_as_the_sheaves_on_its_belt():
     joint = (("misalignment-angular", "blower"),)
     assert confusion.wrong_calls(_result(_h("sheave-misalignment", "vbelt", 0.7)), MACHINE, joint) == ()
     # no coupling joins the blower: a coupling misalignment on the belt is not the sheaves'
     assert confusion.wrong_calls(_result(_h("misalignment-angular", "vbelt", 0.7)), MACHINE, joint) \
         == ("misalignment-angular on vbelt 0.70",)
-
 
 def test_every_call_on_a_single_fault_reading_that_is_not_the_truth_is_a_wrong_call():
     result = _result(_h("outer-race", "pump_nde", 0.85), _h("outer-race", "pump_de", 0.55),
@@ -89,7 +78,6 @@ def test_every_call_on_a_single_fault_reading_that_is_not_the_truth_is_a_wrong_c
     # a healthy machine: every call is wrong
     assert len(confusion.wrong_calls(result, MACHINE, ())) == 3
 
-
 def test_the_top_answer_verdict_is_unchanged():
     result = _result(_h("outer-race", "pump_nde", 0.85), _h("outer-race", "pump_de", 0.55))
     assert confusion.verdict(result, MACHINE, "outer-race", "pump_nde") == ("outer-race", True)
@@ -97,14 +85,11 @@ def test_the_top_answer_verdict_is_unchanged():
     assert confusion.verdict(_result(_h("outer-race", "pump_nde", 0.45)), MACHINE, "healthy", None) == ("none", True)
     assert confusion.verdict(result, MACHINE, "healthy", None) == ("outer-race", False)
 
-
 # ---------------------------------------------------------------- bench.real_data
-
 
 def _row(path, top, certainty, right=True, withheld=False, severity_unknown=None):
     return real_data.Row(path, "CWRU", "outer_race DE 0.007", "Y1", "clear", "withheld" if withheld else top,
                          certainty, right, withheld, 0.1, severity_unknown=severity_unknown)
-
 
 def test_calls_compare_with_the_call_at_scale_one():
     base = _row("a.mat", "outer-race on drive_end", 0.8)
@@ -115,7 +100,6 @@ def test_calls_compare_with_the_call_at_scale_one():
     none = _row("a.mat", "outer-race on drive_end", 0.3)
     assert real_data.compare_call(none, _row("b.mat", "nothing", 0.0)) == "same"
     assert real_data.compare_call(none, _row("a.mat", "inner-race on fan_end", 0.6, right=False)) == "gained"
-
 
 def test_the_scale_table_meets_its_goal_only_with_the_same_calls_and_no_new_wrong_one():
     base = [_row("a.mat", "outer-race on drive_end", 0.8), _row("b.mat", "inner-race on drive_end", 0.7, right=False)]
@@ -131,11 +115,9 @@ def test_the_scale_table_meets_its_goal_only_with_the_same_calls_and_no_new_wron
     lost = [_row("a.mat", "outer-race on drive_end", 0.8, withheld=True), same[1]]
     assert real_data.scale_table({1.0: base, 1000.0: lost})[-1].endswith("not met")
 
-
 def test_the_severity_flag_is_read_from_the_verdict():
     assert real_data.severity_unknown_of({"verdict": {"severity_known": False}}) is True
     assert real_data.severity_unknown_of({"verdict": {"severity_known": True}}) is False
-
 
 def test_scales_parse_with_scale_one_first():
     assert real_data.parse_scales("0.001,1000") == [1.0, 0.001, 1000.0]
@@ -148,7 +130,6 @@ def test_scales_parse_with_scale_one_first():
         with pytest.raises(argparse.ArgumentTypeError):
             real_data.positive(bad)
 
-
 def test_a_scaled_reading_has_its_samples_multiplied_and_its_gates_run_again():
     x = np.random.default_rng(3).standard_normal(20000)     # about 1 m/s^2 RMS: plausible
     reading = Reading("r", 10000.0, (Channel("a", x, "acceleration", "g", "DE", "vertical"),))
@@ -157,7 +138,6 @@ def test_a_scaled_reading_has_its_samples_multiplied_and_its_gates_run_again():
     assert (out.channels[0].point, out.fs_hz) == ("DE", 10000.0)
     # 1e7 m/s^2 RMS is past the physical range the gates allow (1e5 g, engine/readings/quality.py)
     assert not reading.quality and [q.kind for q in out.quality] == ["out_of_range"]
-
 
 def test_injections_parse_and_state_a_wrong_speed_or_sample_rate():
     assert real_data.parse_injection("speed=0.8,1.2") == [("speed", 0.8), ("speed", 1.2)]
@@ -172,7 +152,6 @@ def test_injections_parse_and_state_a_wrong_speed_or_sample_rate():
     rate = real_data.injected(reading, "rate", 2.0)
     assert (rate.fs_hz, rate.speed_rpm) == (20000.0, 1800.0) and np.array_equal(rate.channels[0].samples, x)
 
-
 def test_the_injection_table_meets_its_goal_only_without_a_confident_wrong_call():
     rows = [_row("a.mat", "withheld", 0.0, withheld=True), _row("b.mat", "outer-race on drive_end", 0.8)]
     lines = real_data.inject_table({("speed", 1.2): rows})
@@ -180,7 +159,6 @@ def test_the_injection_table_meets_its_goal_only_without_a_confident_wrong_call(
     wrong = rows + [_row("c.mat", "inner-race on fan_end", 0.7, right=False)]
     lines = real_data.inject_table({("rate", 1.1): wrong})
     assert lines[-1].endswith("not met") and "c (inner-race on fan_end 0.70)" in lines[1]
-
 
 def test_the_learning_bench_takes_each_label_as_what_a_repair_would_find():
     from bench.learning import finding_of
@@ -190,7 +168,6 @@ def test_the_learning_bench_takes_each_label_as_what_a_repair_would_find():
                                                                                               "rolling-element")
     assert finding_of({"dataset": "HIT-SM", "fault": "normal", "fault_bearing": ""}) == Finding("test_bearing",
                                                                                                 NOTHING_FOUND)
-
 
 # ---------------------------------------------------------------- bench.learning, the simulated sets
 
@@ -214,7 +191,6 @@ def test_the_simulated_set_has_every_fault_the_demo_machines_can_carry_on_every_
     # as many healthy readings per machine as one fault on one component gets
     assert sum(c.fault == "healthy" and c.machine == "rw2" for c in cases) == 2
 
-
 def test_the_two_simulated_sets_differ_only_in_their_seeds_and_every_reading_has_its_own():
     from bench.learning import _machines, sim_cases
 
@@ -226,7 +202,6 @@ def test_the_two_simulated_sets_differ_only_in_their_seeds_and_every_reading_has
     assert len(set(seeds)) == len(seeds)
     assert a == sim_cases(1, (2,), (0.85, 1.0), machines)          # the same options, the same set
     assert {c.speed for c in a} == {0.85, 1.0}
-
 
 def test_a_simulated_reading_is_judged_as_a_repair_would_find_it():
     from bench.learning import SimCase, _machines, sim_findings
@@ -244,7 +219,6 @@ def test_a_simulated_reading_is_judged_as_a_repair_would_find_it():
         Finding("vbelt", "sheave-misalignment"),)
     assert [f.fault for f in sim_findings(rw2, SimCase("rw2", "healthy", None, 1, 1.0, 0))] == [NOTHING_FOUND]
 
-
 def test_the_learning_bench_never_learns_from_the_set_it_measures():
     from bench.learning import orderings
 
@@ -254,7 +228,6 @@ def test_the_learning_bench_never_learns_from_the_set_it_measures():
     assert all(source not in targets and "sim-A" not in targets for source, targets in plan)
     assert orderings(["sim-A", "sim-B"]) == [("sim-A", ["sim-B"])]
     assert orderings(["CWRU", "MFPT", "HIT-SM"])[0] == ("CWRU", ["MFPT", "HIT-SM"])
-
 
 def test_a_simulated_reading_is_reasoned_over_again_with_the_same_facts():
     """A learned overlay changes rule weights only, so the bench reasons over the facts it kept: they
@@ -273,7 +246,6 @@ def test_a_simulated_reading_is_reasoned_over_again_with_the_same_facts():
     whole = diagnose(as_reading(simulate(rw2, "inner-race", "pump_de", 3, nominal, 12800.0, 1.0, 7)), rw2, reasoner)
     assert kept.firings == firings_of(whole.reasoning) and kept.firings
 
-
 def test_a_wrong_call_is_a_top_hypothesis_at_half_or_more_no_finding_confirms():
     from bench.learning import wrong_calls
     from engine.reasoning.learning import NOTHING_FOUND, Finding, JudgedDiagnosis, RuleFiring
@@ -290,9 +262,7 @@ def test_a_wrong_call_is_a_top_hypothesis_at_half_or_more_no_finding_confirms():
     assert wrong_calls(diagnoses) == {"other bearing": "outer-race on pump_de 0.80",
                                       "healthy": "unbalance on pump 0.50"}
 
-
 # ---------------------------------------------------------------- bench.femto_compare
-
 
 def _library(rng):
     """Three runs whose degradation ratio rises exponentially from an onset to the end of the run."""
@@ -304,7 +274,6 @@ def _library(rng):
         ratio = np.where(t < onset, 0.0, np.expm1(rate * (t - onset)))
         out.append(Trajectory(run, t, ratio + rng.normal(0.0, 0.01, len(t)), onset, life))
     return out
-
 
 def test_similarity_finds_the_remaining_life_of_the_run_a_segment_was_cut_from(rng):
     # a segment of run "b" from its onset to 2.5 h: run "b" matches best (derived: its remaining life
@@ -325,7 +294,6 @@ def test_similarity_finds_the_remaining_life_of_the_run_a_segment_was_cut_from(r
     _, undilated = similarity_lives(2 * t, y, lib, 0.2, np.inf, (1.0,))
     assert undilated[1] < weights2[1]
 
-
 def test_the_remaining_fraction_keeps_the_durations_longer_than_the_time_already_lasted(rng):
     from bench.femto_compare import remaining_fraction_lives
 
@@ -333,7 +301,6 @@ def test_the_remaining_fraction_keeps_the_durations_longer_than_the_time_already
     lives, weights = remaining_fraction_lives(1.5, lib)
     assert sorted(lives) == pytest.approx([0.5, 2.0]) and weights.sum() == 2
     assert remaining_fraction_lives(5.0, lib)[0].tolist() == [0.0]
-
 
 def test_the_weighted_act_by_agrees_with_the_models_act_by_on_equal_weights(rng):
     # the comparison's act-by on a weighted sample is degradation.act_by's rule; with equal weights
@@ -349,9 +316,7 @@ def test_the_weighted_act_by_agrees_with_the_models_act_by_on_equal_weights(rng)
     late = np.where(x > np.median(x), 1.0, 1e-9)
     assert act_by_weighted(x, late) > act_by_weighted(x, w)
 
-
 # ---------------------------------------------------------------- bench.femto_compare: proportional hazards
-
 
 def _weibull_ph_runs(rng, n, beta, eta, gamma):
     """Runs of a Weibull proportional-hazards model with a constant condition each (z 0, 0.5 or 1):
@@ -364,7 +329,6 @@ def _weibull_ph_runs(rng, n, beta, eta, gamma):
         s = np.linspace(0.0, life, 12)
         runs.append((s, np.full(s.size, z)))
     return runs
-
 
 def test_the_hazard_fit_finds_the_parameters_its_runs_were_drawn_with(rng):
     # 400 runs drawn from beta 2, eta 5 h, gamma 1.2: maximum likelihood lands within a few standard
@@ -379,7 +343,6 @@ def test_the_hazard_fit_finds_the_parameters_its_runs_were_drawn_with(rng):
     # a strong ridge holds gamma at 0 whatever the runs say
     assert abs(fit_hazard(_weibull_ph_runs(rng, 100, 2.0, 5.0, 1.2), 1e6).gamma) < 1e-3
 
-
 def test_the_conditional_remaining_life_is_the_weibulls():
     # beta 1 and gamma 0 is the exponential law, memoryless: the median remaining life is eta ln 2 at
     # any age (derived). beta 2: S(u | s0) = exp(-((s0 + u)^2 - s0^2) / eta^2), so the median solves
@@ -393,7 +356,6 @@ def test_the_conditional_remaining_life_is_the_weibulls():
     # a worse condition shortens the life by the factor exp(gamma z) of the cumulative hazard
     worse = np.median(hazard_lives(HazardFit(1.0, 4.0, 2.0), 0.0, 0.5, 0.0))
     assert worse == pytest.approx(4 * np.log(2) / np.e, rel=0.01)
-
 
 def test_a_condition_going_on_at_its_slope_integrates_to_the_held_one_at_a_tiny_slope_and_shortens_life():
     # the numerical integration of the hazard (trend) against the closed form (hold), derived from
@@ -415,7 +377,6 @@ def test_a_condition_going_on_at_its_slope_integrates_to_the_held_one_at_a_tiny_
 
     assert np.median(rising) == pytest.approx(brentq(lambda u: cum(u) - np.log(2), 0, 50), rel=0.01)
 
-
 def _histories(runs):
     """FEMTO-like histories: two points, acceleration RMS and peak flat for ``onset`` hours (reading
     to reading 5 % up and down), then rising exponentially to the run's end; readings 100 s apart."""
@@ -429,7 +390,6 @@ def _histories(runs):
             out[name][pt] = {"accel_rms_g": (t.tolist(), rms.tolist()),
                              "accel_peak_g": (t.tolist(), (4 * rms).tolist())}
     return out
-
 
 def test_the_hazard_bench_answers_only_after_the_first_predicting_time_and_scores_each_cut():
     from bench.femto import CUTS
@@ -451,7 +411,6 @@ def test_the_hazard_bench_answers_only_after_the_first_predicting_time_and_score
         assert [x is None for x in got[s]] == early
         assert all(isinstance(x, Cut) and 0 <= x.a <= 1 for x, e in zip(got[s], early) if not e)
 
-
 def test_a_bearing_is_judged_by_the_worse_of_its_points_and_from_the_earlier_onset():
     from bench.femto_compare import _units, condition_of
 
@@ -462,3 +421,103 @@ def test_a_bearing_is_judged_by_the_worse_of_its_points_and_from_the_earlier_ons
     assert bearing.onset_h == pytest.approx(hor.onset_h) and ver.onset_h > hor.onset_h + 0.8
     assert np.all(bearing.z >= hor.z) and np.all(bearing.z >= ver.z)
     assert np.allclose(bearing.z, np.maximum(hor.z, ver.z))
+
+# ------------------------------------------- bench.femto_compare: a learned failure level; GP regression
+
+def test_thresholds_stay_above_the_level_passed_and_follow_the_ended_runs():
+    # ends of mean 2 and sd 0.5 (derived: 1.5, 2, 2.5): untruncated, the draws have their mean and sd
+    from scipy.stats import norm
+
+    from bench.femto_compare import threshold_draws
+
+    ends = np.array([1.5, 2.0, 2.5])
+    free = threshold_draws(ends, -10.0, 20000)
+    assert free.mean() == pytest.approx(2.0, abs=0.02) and free.std() == pytest.approx(0.5, abs=0.02)
+    # a run that has passed 2.5 without ending: every threshold lies above it, and their mean is that of
+    # a normal truncated one sd above its mean, mu + sd pdf(1) / (1 - cdf(1)) (the inverse Mills ratio,
+    # handbook formula: Johnson, Kotz & Balakrishnan, "Continuous univariate distributions" 1, ch. 13)
+    held = threshold_draws(ends, 2.5, 20000)
+    assert held.min() > 2.5
+    assert held.mean() == pytest.approx(2.0 + 0.5 * norm.pdf(1.0) / norm.sf(1.0), abs=0.01)
+
+def _histories_of(series):
+    """A histories dict (run -> point -> indicator -> (seconds, values)) of accel_rms_g series."""
+    return {run: {pt: {"accel_rms_g": (list(np.arange(len(v)) * 100.0), list(v))} for pt, v in pts.items()}
+            for run, pts in series.items()}
+
+def _rising(rng, n=80, onset=40, rate=0.08, end=1.0):
+    """A healthy level ``end`` g, then an exponential rise from reading ``onset``."""
+    k = np.arange(n)
+    return end * (1.0 + np.where(k < onset, 0.0, np.expm1(rate * (k - onset)))) * rng.lognormal(0, 0.03, n)
+
+def test_a_runs_end_level_is_the_higher_of_its_two_points(rng):
+    from bench.femto_compare import end_levels
+
+    h = _histories_of({"a": {"H": _rising(rng), "V": _rising(rng, rate=0.05)},
+                       "b": {"H": _rising(rng, rate=0.04), "V": _rising(rng, rate=0.06)}})
+    per_point = end_levels(h, ["a", "b"], "accel_rms_g", "point", False)
+    per_run = end_levels(h, ["a", "b"], "accel_rms_g", "run", False)
+    assert per_run.tolist() == [max(per_point[:2]), max(per_point[2:])]
+    # the last reading over the healthy level in log units: about 0.08 x 39 for run a's H (derived)
+    assert per_point[0] == pytest.approx(np.log(1 + np.expm1(0.08 * 39)), abs=0.15)
+
+def test_the_exponential_model_to_one_fixed_level_is_the_models_own_projection(rng):
+    # every draw's threshold at the limit's own level: the same draws as exponential_life gives (derived)
+    from bench.femto_compare import exponential_to_levels, healthy_level
+    from engine.trend.degradation import Prior
+    from engine.trend.health import shipped_settings, smooth_log
+    from engine.trend.projection import exponential_life
+
+    v = _rising(rng)[:70]
+    days = np.arange(len(v)) * 100.0 / 86400.0
+    hi = smooth_log(v, shipped_settings().smooth_readings)
+    prior = Prior((-1.0, 60.0), ((1.0, 0.0), (0.0, 400.0)), 0.01, 0.3, 5, "test prior", 100.0 / 86400.0)
+    _, life = exponential_life(days, v, 20.0, "20 g", hi, "x", {"x": prior})
+    assert life is not None
+    phi = healthy_level(v, hi)[0]
+    mine = exponential_to_levels(days, v, hi, prior, np.full(2000, np.log(20.0 / phi)))
+    assert mine is not None
+    assert np.median(mine) == pytest.approx(life.median * 24.0, rel=1e-9)
+    # a higher threshold is reached later
+    later = exponential_to_levels(days, v, hi, prior, np.full(2000, np.log(40.0 / phi)))
+    assert later is not None and np.median(later) > np.median(mine)
+
+def test_the_gp_likelihood_is_the_normal_density_of_its_covariance(rng):
+    # scipy as reference: minus the log marginal likelihood is minus the log density of N(0, K + noise)
+    from scipy.stats import multivariate_normal
+
+    from bench.femto_compare import _gp_cov, gp_neg_log_likelihood
+
+    x = np.linspace(0.0, 1.0, 25)
+    y = 2.0 * x + rng.normal(0.0, 0.1, 25)
+    p = np.log([0.3, 0.4, 0.1])
+    expected = -multivariate_normal(np.zeros(25), _gp_cov(x, p, 3.0)).logpdf(y)
+    assert gp_neg_log_likelihood(p, x, y, 3.0) == pytest.approx(expected, rel=1e-9)
+
+def test_the_gp_carries_a_straight_rise_forward_and_crosses_where_the_line_does(rng):
+    # readings on y = 2x (x in times the time since the onset): the linear basis carries the line, so at
+    # x = 2 the paths centre on 4 (derived), and a threshold of 3 is crossed near x = 1.5
+    from bench.femto_compare import first_crossing, gp_fit, gp_paths
+
+    x = np.linspace(0.0, 1.0, 40)
+    y = 2.0 * x + rng.normal(0.0, 0.02, 40)
+    p = gp_fit(x, y, 5.0)
+    future = 1.0 + np.linspace(0.01, 1.0, 100)
+    paths = gp_paths(x, y, p, 5.0, future, 500)
+    assert np.median(paths[:, -1]) == pytest.approx(4.0, abs=0.15)
+    lives = first_crossing(future - 1.0, paths, np.full(500, 3.0))
+    assert np.median(lives) == pytest.approx(0.5, abs=0.05)
+    # a threshold no path reaches: never
+    assert first_crossing(future - 1.0, paths, np.full(500, 100.0)).min() >= 1e6
+
+def test_the_library_growth_is_the_slope_of_each_points_log_ratio_since_its_onset(rng):
+    # a level that grows as exp(0.08 per reading) from reading 40, readings 100 s apart: the log ratio
+    # rises 0.08 x 36 = 2.88 per hour (derived), at every point
+    from bench.femto_compare import library_slopes
+
+    def grown(rate):
+        k = np.arange(80)
+        return np.exp(np.where(k < 40, 0.0, rate * (k - 40))) * rng.lognormal(0, 0.01, 80)
+
+    h = _histories_of({"a": {"H": grown(0.08), "V": grown(0.04)}})
+    assert library_slopes(h, ["a"], "accel_rms_g") == pytest.approx([2.88, 1.44], rel=0.05)

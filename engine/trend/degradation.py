@@ -173,11 +173,13 @@ def rate_from_prior(prior: Prior, tau: np.ndarray, log_y: np.ndarray) -> Posteri
     return Posterior(mean, cov, prior.noise_var, len(tau))
 
 
-def remaining_life(post: Posterior, now: float, log_limit: float, *, interval: float, last_departure: float,
-                   autocorrelation: float, confidence: float = CONFIDENCE, samples: int = SAMPLES,
-                   seed: int = SEED) -> Life:
+def remaining_life(post: Posterior, now: float, log_limit: float | np.ndarray, *, interval: float,
+                   last_departure: float, autocorrelation: float, confidence: float = CONFIDENCE,
+                   samples: int = SAMPLES, seed: int = SEED) -> Life:
     """Median and ``confidence`` interval of the time from ``now`` (days since degradation began)
-    until a reading first reaches ``log_limit`` (the log of the limit less the healthy level).
+    until a reading first reaches ``log_limit`` (the log of the limit less the healthy level; or
+    one per draw, ``samples`` of them, when the limit itself is uncertain: a failure level learned
+    from ended histories, bench/femto_compare.py).
 
     Monte Carlo over the posterior: each draw of (theta, beta) runs forward in
     steps of the reading ``interval`` (coarser when the horizon needs more than
