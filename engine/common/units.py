@@ -251,6 +251,33 @@ class ShownUnits:
             return f"{_digits(v)}X"
         return f"{_digits(v)} {FREQUENCY_UNITS[self.frequency]}"
 
+    def velocity_number(self, mm_s_rms: float | None, line: bool = True) -> float | None:
+        """A velocity in mm/s RMS as a JSON number in the chosen unit, to four significant digits."""
+        return None if mm_s_rms is None else float(f"{self.velocity_value(mm_s_rms, line):.4g}")
+
+    def frequency_number(self, hz: float | None, shaft_hz: float | None = None) -> dict | None:
+        """A frequency in Hz as a JSON number in the chosen unit with the unit beside it
+        (``{"value": 1480.0, "unit": "CPM"}``); Hz when orders are chosen and no shaft speed is known."""
+        if hz is None:
+            return None
+        v = self.frequency_value(hz, shaft_hz)
+        if v is None:
+            return {"value": float(f"{hz:.6g}"), "unit": "Hz"}
+        return {"value": float(f"{v:.6g}"), "unit": self.frequency_label()}
+
+    def zone_boundaries(self, ab_mm_s: float, bc_mm_s: float, cd_mm_s: float) -> dict:
+        """The ISO 20816-3 zone boundaries (broadband, mm/s RMS) as JSON numbers in the chosen length unit,
+        RMS whichever is chosen, with the unit beside them."""
+        return {"a_b": self.velocity_number(ab_mm_s, line=False), "b_c": self.velocity_number(bc_mm_s, line=False),
+                "c_d": self.velocity_number(cd_mm_s, line=False), "unit": self.velocity_label(line=False)}
+
+    def zone_boundaries_text(self, ab_mm_s: float, bc_mm_s: float, cd_mm_s: float) -> list[str]:
+        """The same boundaries as a report's words give them (the numbers only: the unit follows in the text)."""
+        bounds = (ab_mm_s, bc_mm_s, cd_mm_s)
+        if VELOCITY_UNITS[self.velocity][0] == "mm/s":
+            return [f"{b:g}" for b in bounds]
+        return [self.velocity_text(b, line=False).split(" ")[0] for b in bounds]
+
     def as_dict(self) -> dict:
         """For a JSON report: the names chosen and the words they print as."""
         return {"frequency": self.frequency, "velocity": self.velocity,

@@ -397,7 +397,9 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
 def _units(units: ShownUnits, advice: Advice, evidence: Evidence, worded: _Shown) -> dict:
     """What the report's words and tables show, and the values they show in them: the zone
     boundaries and each point's overall level (broadband: RMS whichever is chosen), Fmax and
-    the line spacing (orders of the reference shaft)."""
+    the line spacing (orders of the reference shaft). Numbers are JSON numbers with their unit beside
+    them (``zone_boundaries``, ``point_levels`` with ``point_level_unit``, ``fmax``, ``resolution``);
+    the words the templates print are the ``_text`` keys."""
     ref_hz = worded.shaft_hz(None)
     settings = evidence.settings
 
@@ -410,11 +412,16 @@ def _units(units: ShownUnits, advice: Advice, evidence: Evidence, worded: _Shown
         return f"{hz:{hz_format}} Hz" if units.frequency == "hz" else units.frequency_text(hz, ref_hz)
 
     scale = advice.zone_scale
+    bounds = (scale.ab, scale.bc, scale.cd)
     return units.as_dict() | {
         "shaft_speeds_hz": {k: round(v, 4) for k, v in worded.shafts_hz.items()},
-        "zone_boundaries": ([f"{b:g}" for b in (scale.ab, scale.bc, scale.cd)] if units.velocity.startswith("mm/s")
-                            else [level(b) for b in (scale.ab, scale.bc, scale.cd)]),
-        "point_levels": {z.channel: level(z.velocity_rms_mm_s) for z in advice.zones},
-        "fmax": frequency(settings.get("fmax_hz"), ".0f"),
-        "resolution": frequency(settings.get("resolution_hz"), ".3g"),
+        "zone_boundaries": units.zone_boundaries(*bounds),
+        "zone_boundaries_text": units.zone_boundaries_text(*bounds),
+        "point_levels": {z.channel: units.velocity_number(z.velocity_rms_mm_s, line=False) for z in advice.zones},
+        "point_level_unit": units.velocity_label(line=False),
+        "point_levels_text": {z.channel: level(z.velocity_rms_mm_s) for z in advice.zones},
+        "fmax": units.frequency_number(settings.get("fmax_hz") or None, ref_hz),
+        "resolution": units.frequency_number(settings.get("resolution_hz") or None, ref_hz),
+        "fmax_text": frequency(settings.get("fmax_hz"), ".0f"),
+        "resolution_text": frequency(settings.get("resolution_hz"), ".3g"),
     }
