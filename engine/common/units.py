@@ -17,6 +17,7 @@ peak = sqrt(2) x RMS holds for one spectral line (a sine), never for a broadband
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -173,6 +174,10 @@ VELOCITY_UNITS = {"mm/s-rms": ("mm/s", "RMS"), "mm/s-peak": ("mm/s", "peak"),
                   "in/s-rms": ("in/s", "RMS"), "in/s-peak": ("in/s", "peak")}
 
 
+# a frequency or a band as the engine words it: "24.77 Hz", "2000-10000 Hz" (not a rate in "per Hz")
+_HZ_WORDS = re.compile(r"(?<![\w.])(\d+(?:\.\d+)?)(?:-(\d+(?:\.\d+)?))? Hz\b")
+
+
 def hz_to_cpm(hz: float) -> float:
     """Hz -> cycles per minute."""
     return hz * CPM_PER_HZ
@@ -277,6 +282,24 @@ class ShownUnits:
         if VELOCITY_UNITS[self.velocity][0] == "mm/s":
             return [f"{b:g}" for b in bounds]
         return [self.velocity_text(b, line=False).split(" ")[0] for b in bounds]
+
+    def reword_hz(self, text: str, shaft_hz: float | None = None) -> str:
+        """A sentence the engine worded in Hz ("2000-10000 Hz", "BPFI (203.6 Hz)") in the chosen unit, each
+        number converted as printed (three significant digits): for words built from settings and rates that
+        keep no parts (the acquisition planner's). Orders are of ``shaft_hz``; without it the words stay Hz."""
+        if self.frequency == "hz" or (self.frequency == "orders" and not shaft_hz):
+            return text
+
+        def one(number: str) -> str:
+            value = self.frequency_value(float(number), shaft_hz)
+            return _digits(value if value is not None else float(number))
+
+        def shown(m: re.Match) -> str:
+            low, high = m.group(1), m.group(2)
+            if self.frequency == "orders":
+                return f"{one(low)}X" + (f"-{one(high)}X" if high else "")
+            return one(low) + (f"-{one(high)}" if high else "") + " CPM"
+        return _HZ_WORDS.sub(shown, text)
 
     def as_dict(self) -> dict:
         """For a JSON report: the names chosen and the words they print as."""

@@ -364,7 +364,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "remeasure_actions": [a for r in withheld_recs for a in r.actions],
         "limitations": [" ".join(worded.sentence(x).split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
-                   "reasons": list(v["reasons"])} for v in reach],
+                   # the planner's checks keep no parts: their Hz reworded as printed (orders of the reference shaft)
+                   "reasons": [units.reword_hz(r, worded.shaft_hz(None)) for r in v["reasons"]]} for v in reach],
         "alarms": _alarms(alarms, units),
         "phase": _phase(evidence, reasoning, units),
         "cautions": list(advice.cautions),

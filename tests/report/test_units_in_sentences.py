@@ -68,3 +68,28 @@ def test_the_quoted_sentences_are_unchanged_in_the_default_units(misalignment):
     assert doc["limitations"] == [" ".join(x.split()) for x in misalignment.advice.limitations]
     assert [t for dx in doc["differential"] for t in dx["separating"]] == \
         [" ".join(t.split()) for dx in misalignment.reasoning.differential for t in dx.separating]
+
+
+def test_what_the_settings_cannot_show_is_worded_in_cpm():
+    belt = case_diagnosis("bw1-belt-slack")
+    hz = document_of(belt, made_at=MADE_AT)
+    cpm = document_of(belt, made_at=MADE_AT, units=ShownUnits("cpm", "mm/s-rms"))
+    pairs = [(a, b) for x, y in zip(hz["reach"], cpm["reach"], strict=True)
+             for a, b in zip(x["reasons"], y["reasons"], strict=True) if " Hz" in a]
+    assert pairs
+    for a, b in pairs:
+        assert " Hz" not in b
+        for h, c in zip(re.findall(r"([0-9.]+) Hz\b", a), re.findall(r"([0-9.]+) CPM\b", b), strict=True):
+            # 1 Hz = 60 CPM; the planner's words are converted as printed, to three significant digits
+            assert float(c) == pytest.approx(60 * float(h), rel=0.01)
+
+
+def test_rewording_leaves_everything_but_frequencies_in_hz():
+    words = "BPFO of pump_de (143.09 Hz) beside 6X of pump (148.60 Hz); band 2000-10000 Hz; 2.56 x Fmax; 30 dB"
+    assert ShownUnits().reword_hz(words) == words
+    assert ShownUnits("orders").reword_hz(words) == words        # orders without a shaft speed: as they are
+    # 1 Hz = 60 CPM; an order is f / shaft Hz (24.767 Hz here, invented)
+    assert ShownUnits("cpm").reword_hz(words) == ("BPFO of pump_de (8585 CPM) beside 6X of pump (8916 CPM); "
+                                                  "band 120000-600000 CPM; 2.56 x Fmax; 30 dB")
+    assert ShownUnits("orders").reword_hz(words, 24.767) == ("BPFO of pump_de (5.78X) beside 6X of pump (6.00X); "
+                                                             "band 80.8X-404X; 2.56 x Fmax; 30 dB")
