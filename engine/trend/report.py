@@ -272,7 +272,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)], units)
         points.append(entry)
-    # Hz and mm/s RMS; ``tellwave trend --velocity-unit`` shows others (engine/trend/shown.py)
+    # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,
             "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
             "zone_scale": {"group": scale.group, "support": scale.support, "ab_mm_s": scale.ab, "bc_mm_s": scale.bc,

@@ -93,3 +93,16 @@ def test_rewording_leaves_everything_but_frequencies_in_hz():
                                                   "band 120000-600000 CPM; 2.56 x Fmax; 30 dB")
     assert ShownUnits("orders").reword_hz(words, 24.767) == ("BPFO of pump_de (5.78X) beside 6X of pump (6.00X); "
                                                              "band 80.8X-404X; 2.56 x Fmax; 30 dB")
+
+
+def test_the_envelope_plot_names_its_band_in_the_axis_unit():
+    inner = case_diagnosis("rw2-pump-de-inner-race")
+    hz = [f["title"] for f in document_of(inner, made_at=MADE_AT)["figures"] if f["title"].startswith("Squared")]
+    cpm = [f["title"] for f in document_of(inner, made_at=MADE_AT, units=ShownUnits("cpm", "mm/s-rms"))["figures"]
+           if f["title"].startswith("Squared")]
+    assert hz and len(hz) == len(cpm)
+    for a, b in zip(hz, cpm, strict=True):
+        lo, hi = map(float, re.search(r"band ([0-9.]+)-([0-9.]+) Hz$", a).groups())
+        c_lo, c_hi = map(float, re.search(r"band ([0-9.]+)-([0-9.]+) CPM$", b).groups())
+        # 1 Hz = 60 CPM (definition of the minute), three significant digits
+        assert (c_lo, c_hi) == (pytest.approx(60 * lo, rel=0.01, abs=1), pytest.approx(60 * hi, rel=0.01))
