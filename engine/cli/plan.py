@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ._common import RPM, add_site_option, number, output_target, rulebook, whole
+from ._common import RPM, add_site_option, number, output_target, rulebook, shown_units, whole
 
 
 def register(sub) -> None:
@@ -30,6 +30,9 @@ def register(sub) -> None:
     p.add_argument("-o", "--output", help="file to write (default: the terminal for text and JSON, "
                                           "MACHINE.plan.html or .md for HTML and Markdown)")
     p.add_argument("--no-proof", action="store_true", help="skip the proof by simulation")
+    p.add_argument("--frequency-unit", choices=["hz", "cpm", "orders"], type=str.lower,
+                   help="word the settings and their reasons in Hz, cycles per minute, or orders of the shaft "
+                        "of each point (the sample rate stays Hz) (default hz; over the --site units: section)")
     from ._common import add_max_samples_option
 
     add_max_samples_option(p)
@@ -75,8 +78,9 @@ def run(args) -> int:
     rpm = args.rpm if args.rpm is not None else reading_rpm
     if rpm is not None:
         machine.speeds_at(rpm)
+    units = shown_units(args, rules.units if rules is not None else None)
     doc = build_plan(machine, policy, points=args.point, given=given, speed_rpm=rpm,
-                     with_proof=not args.no_proof, with_figures=fmt == "html", rulebook=rules)
+                     with_proof=not args.no_proof, with_figures=fmt == "html", rulebook=rules, units=units)
     text = render_plan(doc, fmt)
     if output is None:
         sys.stdout.write(text)

@@ -73,12 +73,12 @@ def run(args) -> int:
             print("tellwave: interrupted; every reading finished so far is stored: run the same command "
                   "again to resume", file=sys.stderr)
             return 130
-        doc = route_summary(outcome, store, out, alarms=args.alarms or (),
-                            units=shown_units(args, rulebook(args).units if args.site else None))
+        units = shown_units(args, rulebook(args).units if args.site else None)
+        doc = route_summary(outcome, store, out, alarms=args.alarms or (), units=units)
         pages = trend_paths(route, out)
         for m in doc["machines"]:        # each machine's trend page, which the summary links to
             if m["machine"] in pages:
-                trend = trend_document(store, m["machine"], plots=True)
+                trend = trend_document(store, m["machine"], plots=True, units=units)
                 write_atomically(pages[m["machine"]], render(trend, "html", "trend"), inputs)
     for fmt, path in summary_paths(out).items():
         write_atomically(path, render(doc, fmt, "route"), inputs)

@@ -68,17 +68,13 @@ def run(args) -> int:
     if output is None and args.format in ("html", "md"):
         output = f"{slug(args.machine)}.trend.{args.format}"
     inputs = output_target(args, output) if output is not None else None    # before the work
+    units = _common.shown_units(args, _common.rulebook(args).units if args.site else None)
     with open_store(args, create=False) as store:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
         doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html",
-                             waterfall=args.waterfall, compare=compare)
-    units = _common.shown_units(args, _common.rulebook(args).units if args.site else None)
-    if not units.default:
-        from ..trend.shown import trend_in_units
-
-        trend_in_units(doc, units)
+                             waterfall=args.waterfall, compare=compare, units=units)
     if not doc["points"]:
         raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
     text = render(doc, args.format, "trend")

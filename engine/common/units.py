@@ -17,6 +17,7 @@ peak = sqrt(2) x RMS holds for one spectral line (a sine), never for a broadband
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -173,6 +174,10 @@ VELOCITY_UNITS = {"mm/s-rms": ("mm/s", "RMS"), "mm/s-peak": ("mm/s", "peak"),
                   "in/s-rms": ("in/s", "RMS"), "in/s-peak": ("in/s", "peak")}
 
 
+# a frequency or a band as the engine words it: "24.77 Hz", "2000-10000 Hz" (not a rate in "per Hz")
+_HZ_WORDS = re.compile(r"(?<![\w.])(\d+(?:\.\d+)?)(?:-(\d+(?:\.\d+)?))? Hz\b")
+
+
 def hz_to_cpm(hz: float) -> float:
     """Hz -> cycles per minute."""
     return hz * CPM_PER_HZ
@@ -250,6 +255,51 @@ class ShownUnits:
         if self.frequency == "orders":
             return f"{_digits(v)}X"
         return f"{_digits(v)} {FREQUENCY_UNITS[self.frequency]}"
+
+    def velocity_number(self, mm_s_rms: float | None, line: bool = True) -> float | None:
+        """A velocity in mm/s RMS as a JSON number in the chosen unit, to four significant digits."""
+        return None if mm_s_rms is None else float(f"{self.velocity_value(mm_s_rms, line):.4g}")
+
+    def frequency_number(self, hz: float | None, shaft_hz: float | None = None) -> dict | None:
+        """A frequency in Hz as a JSON number in the chosen unit with the unit beside it
+        (``{"value": 1480.0, "unit": "CPM"}``); Hz when orders are chosen and no shaft speed is known."""
+        if hz is None:
+            return None
+        v = self.frequency_value(hz, shaft_hz)
+        if v is None:
+            return {"value": float(f"{hz:.6g}"), "unit": "Hz"}
+        return {"value": float(f"{v:.6g}"), "unit": self.frequency_label()}
+
+    def zone_boundaries(self, ab_mm_s: float, bc_mm_s: float, cd_mm_s: float) -> dict:
+        """The ISO 20816-3 zone boundaries (broadband, mm/s RMS) as JSON numbers in the chosen length unit,
+        RMS whichever is chosen, with the unit beside them."""
+        return {"a_b": self.velocity_number(ab_mm_s, line=False), "b_c": self.velocity_number(bc_mm_s, line=False),
+                "c_d": self.velocity_number(cd_mm_s, line=False), "unit": self.velocity_label(line=False)}
+
+    def zone_boundaries_text(self, ab_mm_s: float, bc_mm_s: float, cd_mm_s: float) -> list[str]:
+        """The same boundaries as a report's words give them (the numbers only: the unit follows in the text)."""
+        bounds = (ab_mm_s, bc_mm_s, cd_mm_s)
+        if VELOCITY_UNITS[self.velocity][0] == "mm/s":
+            return [f"{b:g}" for b in bounds]
+        return [self.velocity_text(b, line=False).split(" ")[0] for b in bounds]
+
+    def reword_hz(self, text: str, shaft_hz: float | None = None) -> str:
+        """A sentence the engine worded in Hz ("2000-10000 Hz", "BPFI (203.6 Hz)") in the chosen unit, each
+        number converted as printed (three significant digits): for words built from settings and rates that
+        keep no parts (the acquisition planner's). Orders are of ``shaft_hz``; without it the words stay Hz."""
+        if self.frequency == "hz" or (self.frequency == "orders" and not shaft_hz):
+            return text
+
+        def one(number: str) -> str:
+            value = self.frequency_value(float(number), shaft_hz)
+            return _digits(value if value is not None else float(number))
+
+        def shown(m: re.Match) -> str:
+            low, high = m.group(1), m.group(2)
+            if self.frequency == "orders":
+                return f"{one(low)}X" + (f"-{one(high)}X" if high else "")
+            return one(low) + (f"-{one(high)}" if high else "") + " CPM"
+        return _HZ_WORDS.sub(shown, text)
 
     def as_dict(self) -> dict:
         """For a JSON report: the names chosen and the words they print as."""

@@ -46,6 +46,6 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
                            forcing=d.forcing)
         store.add(record, replace=True)
     if units is not None and not units.default:
-        trend = {"trend": doc["trend"]} if "trend" in doc else {}
+        trend = {"trend": link.shown_in(units)} if "trend" in doc else {}
         doc = document_of(d, made_at=doc["made_at"], plot_channels=plot_channels, units=units) | trend
     return d, doc

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from ..common.units import ShownUnits
 from ..machine import Machine, Point
 from ..machine.kinematics import forcing_frequencies, mesh_rates
 from ..reasoning import Rulebook
@@ -117,13 +118,40 @@ def _trial_dict(trial) -> dict:
             "certainty": trial.certainty, "rules": list(trial.rules)}
 
 
+def _in_units(doc: dict, units: ShownUnits, speeds: dict, driver: str) -> None:
+    """The plan's words in ``units`` (its numbers keep Hz): each proposal's settings and reasons in orders of
+    the shaft of its (first) point, the check's of the driving shaft; the sample rate stays Hz."""
+    shafts = {p["id"]: p["shaft"] for p in doc["points"]}
+
+    def worded(value, shaft_hz):
+        if isinstance(value, str):
+            return units.reword_hz(value, shaft_hz)
+        if isinstance(value, list):
+            return [worded(v, shaft_hz) for v in value]
+        if isinstance(value, dict):
+            return {k: v if k.endswith("_hz") else worded(v, shaft_hz) for k, v in value.items()}
+        return value
+    for group in doc["proposals"]:
+        shaft_hz = speeds.get(shafts.get(group["points"][0]) or driver) or speeds[driver]
+        group["rows"] = [row if row["setting"] == "sample rate" else worded(row, shaft_hz) for row in group["rows"]]
+        group["notes"] = worded(group["notes"], shaft_hz)
+    if doc["check"] is not None:
+        doc["check"] = worded(doc["check"], speeds[driver])
+    doc["units"] = {"frequency": units.frequency, "frequency_label": units.frequency_label(),
+                    "orders_of": driver if units.frequency == "orders" else None,
+                    "orders_of_hz": speeds[driver] if units.frequency == "orders" else None,
+                    "note": "fields named _hz keep Hz; the words show these units (orders of each proposal's point's "
+                            "shaft, of orders_of elsewhere); the sample rate stays Hz"}
+
+
 def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | None = None,
                speed_rpm: float | None = None, with_proof: bool = True, with_figures: bool = False,
-               rulebook: Rulebook | None = None) -> dict:
+               rulebook: Rulebook | None = None, units: ShownUnits | None = None) -> dict:
     """The whole plan for ``machine`` (at ``points``, default all), checking ``given`` settings if any.
 
     ``rulebook`` is the diagnosis's (default: the shipped rulebooks; with a site overlay, the overlay's
     rules and parameters): the needs read its thresholds and the proof reasons with one Reasoner on it.
+    ``units``: the frequency unit its words show (``ShownUnits``; None or Hz: as the planner words them).
     """
     chosen = [p for p in machine.points if points is None or p.id in points]
     speeds = machine.speeds_at(speed_rpm)
@@ -178,6 +206,8 @@ def build_plan(machine: Machine, policy: Policy, points=None, given: Settings | 
                         "compared": sum(1 for a in verdicts_ if a is not None),
                         "agreements": sum(1 for a in verdicts_ if a is True),
                         "disagreements": sum(1 for a in verdicts_ if a is False)}
+    if units is not None and units.frequency != "hz":
+        _in_units(doc, units, speeds, machine.driver_shaft)
     if with_figures:
         from .figures import impact_figure
 

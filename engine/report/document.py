@@ -35,8 +35,12 @@ def _fact(alias: str, fact: dict) -> dict:
 class _Shown:
     """The units a report shows (``ShownUnits``) with the shaft speeds orders are taken of."""
 
-    def __init__(self, units: ShownUnits, shafts_hz: dict[str, float], reference: str | None):
+    def __init__(self, units: ShownUnits, shafts_hz: dict[str, float], reference: str | None,
+                 firings: tuple[Firing, ...] = ()):
         self.units, self.shafts_hz, self.reference = units, shafts_hz, reference
+        # the firings whose because sentences the advice and the differential quote as text: a quoted
+        # sentence is worded again from its firing's measured values, never by editing its words
+        self.firings = {f.because: f for f in firings if f.because_parts}
 
     def shaft_hz(self, shaft: str | None) -> float | None:
         """The speed of ``shaft`` (the shaft under the sensor); the reference shaft's for a fact of none."""
@@ -56,6 +60,12 @@ class _Shown:
         if self.units.default or not f.because_parts:
             return f.because
         return "".join(literal + ("" if v is None else self.value(v)) for literal, v in f.because_parts)
+
+    def sentence(self, text: str) -> str:
+        """A because sentence the advice or the differential quotes, in the shown units (as it is when
+        no firing of this reasoning said it)."""
+        f = None if self.units.default else self.firings.get(text)
+        return text if f is None else self.because(f)
 
 
 def _firing(f: Firing, shown: _Shown | None = None) -> dict:
@@ -205,15 +215,15 @@ def taken_text(timestamp, time_from: str | None) -> str:
     return f"{text} ({said})" if said else text
 
 
-def _differential(dx, reasoning: Reasoning, recs: dict) -> dict:
+def _differential(dx, reasoning: Reasoning, recs: dict, shown: _Shown) -> dict:
     lead = next(h for h in reasoning.hypotheses if (h.fault, h.component) == (dx.fault, dx.component))
     return {"fault": dx.fault, "fault_name": lead.fault_name, "component": dx.component,
             "certainty": round(lead.certainty, 3),
             "rivals": [{"fault": r.fault, "fault_name": r.fault_name, "component": r.component,
-                        "certainty": round(r.certainty, 3), "against": " ".join(r.against.split()),
+                        "certainty": round(r.certainty, 3), "against": " ".join(shown.sentence(r.against).split()),
                         "explained_by_leader": round(r.explained_by_leader, 3)}
                        for r in dx.rivals],
-            "separating": [" ".join(t.split()) for t in dx.separating],
+            "separating": [" ".join(shown.sentence(t).split()) for t in dx.separating],
             "missing": list(dx.missing),
             "settle": list(recs[(dx.fault, dx.component)].confirm)}
 
@@ -319,7 +329,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
             shafts_hz = machine.speeds_at(speed["measured_rpm"], speed.get("shaft"))
         except MachineError:        # a speed the machine file cannot take: orders of the nominal speeds
             pass
-    worded = _Shown(units, shafts_hz, speed.get("shaft") or machine.driver_shaft)
+    said = tuple(f for h in (*reasoning.hypotheses, *reasoning.reading_problems) for f in (*h.support, *h.against))
+    worded = _Shown(units, shafts_hz, speed.get("shaft") or machine.driver_shaft, said + tuple(reasoning.chain))
     figures = []
     if plots is not None:
         from .plots import figures as draw
@@ -350,13 +361,14 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)], worded) for i, h in enumerate(shown)],
         "oil_analysis": _oil_analysis(shown, recs),
         "reading_problems": problems,
-        "differential": [_differential(dx, reasoning, recs) for dx in reasoning.differential
+        "differential": [_differential(dx, reasoning, recs, worded) for dx in reasoning.differential
                          if (dx.fault, dx.component) in recs],
-        "remeasure": list(advice.remeasure),
+        "remeasure": [worded.sentence(x) for x in advice.remeasure],
         "remeasure_actions": [a for r in withheld_recs for a in r.actions],
-        "limitations": [" ".join(x.split()) for x in advice.limitations],
+        "limitations": [" ".join(worded.sentence(x).split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
-                   "reasons": list(v["reasons"])} for v in reach],
+                   # the planner's checks keep no parts: their Hz reworded as printed (orders of the reference shaft)
+                   "reasons": [units.reword_hz(r, worded.shaft_hz(None)) for r in v["reasons"]]} for v in reach],
         "alarms": _alarms(alarms, units),
         "phase": _phase(evidence, reasoning, units),
         "cautions": list(advice.cautions),
@@ -389,7 +401,9 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
 def _units(units: ShownUnits, advice: Advice, evidence: Evidence, worded: _Shown) -> dict:
     """What the report's words and tables show, and the values they show in them: the zone
     boundaries and each point's overall level (broadband: RMS whichever is chosen), Fmax and
-    the line spacing (orders of the reference shaft)."""
+    the line spacing (orders of the reference shaft). Numbers are JSON numbers with their unit beside
+    them (``zone_boundaries``, ``point_levels`` with ``point_level_unit``, ``fmax``, ``resolution``);
+    the words the templates print are the ``_text`` keys."""
     ref_hz = worded.shaft_hz(None)
     settings = evidence.settings
 
@@ -402,11 +416,16 @@ def _units(units: ShownUnits, advice: Advice, evidence: Evidence, worded: _Shown
         return f"{hz:{hz_format}} Hz" if units.frequency == "hz" else units.frequency_text(hz, ref_hz)
 
     scale = advice.zone_scale
+    bounds = (scale.ab, scale.bc, scale.cd)
     return units.as_dict() | {
         "shaft_speeds_hz": {k: round(v, 4) for k, v in worded.shafts_hz.items()},
-        "zone_boundaries": ([f"{b:g}" for b in (scale.ab, scale.bc, scale.cd)] if units.velocity.startswith("mm/s")
-                            else [level(b) for b in (scale.ab, scale.bc, scale.cd)]),
-        "point_levels": {z.channel: level(z.velocity_rms_mm_s) for z in advice.zones},
-        "fmax": frequency(settings.get("fmax_hz"), ".0f"),
-        "resolution": frequency(settings.get("resolution_hz"), ".3g"),
+        "zone_boundaries": units.zone_boundaries(*bounds),
+        "zone_boundaries_text": units.zone_boundaries_text(*bounds),
+        "point_levels": {z.channel: units.velocity_number(z.velocity_rms_mm_s, line=False) for z in advice.zones},
+        "point_level_unit": units.velocity_label(line=False),
+        "point_levels_text": {z.channel: level(z.velocity_rms_mm_s) for z in advice.zones},
+        "fmax": units.frequency_number(settings.get("fmax_hz") or None, ref_hz),
+        "resolution": units.frequency_number(settings.get("resolution_hz") or None, ref_hz),
+        "fmax_text": frequency(settings.get("fmax_hz"), ".0f"),
+        "resolution_text": frequency(settings.get("resolution_hz"), ".3g"),
     }

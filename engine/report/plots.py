@@ -271,7 +271,8 @@ def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset(),
         median = float(np.median(pd.envelope)) if len(pd.envelope) else 0.0
         relative = pd.envelope / median if median > 0 else pd.envelope
         top = float(np.max(relative)) * 1.1 if len(relative) else 1.0
-        title = f"Squared envelope spectrum, {pd.channel}, band {lo:.0f}-{hi:.0f} Hz"
+        band = (units or ShownUnits()).reword_hz(f"{lo:.0f}-{hi:.0f} Hz", pd.shaft_hz)    # the axis's unit
+        title = f"Squared envelope spectrum, {pd.channel}, band {band}"
         xlim = (0.0, float(pd.envelope_hz[-1]) * fx)
         elabel = "squared envelope, times its median"
         out.append(Figure(title, svg.render(svg.Plot(title, xlabel, elabel,

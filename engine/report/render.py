@@ -104,7 +104,19 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
     env.filters["css_string"] = lambda text: markupsafe.Markup(escape.css_string(text))
     env.filters["url"] = escape.url_path
     env.filters["script"] = _script
+    env.filters["hz_in"] = _hz_in
     return env
+
+
+def _hz_in(text: str, doc: dict) -> str:
+    """Words with frequencies in Hz in the units ``doc["units"]`` chose (a plan's: frequency, and the
+    speed of the shaft orders are of); as they are when the document chose none."""
+    from ..common.units import ShownUnits
+
+    units = doc.get("units") if isinstance(doc, dict) else None
+    if not units:
+        return text
+    return ShownUnits(units["frequency"]).reword_hz(text, units.get("orders_of_hz"))
 
 
 def render(doc: dict, fmt: str, kind: str = "diagnosis") -> str:

@@ -133,8 +133,9 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
         said = settings.get("units") or {}
         units = shown_units(said.get("frequency"), said.get("velocity"), base=reasoner.rulebook.units)
         if not units.default:       # the store keeps Hz and mm/s RMS; the report shows the chosen units
-            trend = {"trend": doc["trend"]} if "trend" in doc else {}
-            doc = document_of(d, made_at=doc["made_at"], units=units) | trend
+            trend = {"trend": link.shown_in(units)} if link is not None and "trend" in doc else {}
+            doc = document_of(d, made_at=doc["made_at"], plot_channels=_plot_channels(plots, reading),
+                              units=units) | trend
         report = render(doc, settings.get("format", "html")) if settings.get("reports", True) else None
         return {"index": task.index, "ok": True, "record": record, "report": report}
     except TellwaveError as exc:

@@ -29,6 +29,7 @@ class HistoryLink:
         self.recording_hash = recording_hash or content_hash     # the same files diagnosed before are not history
         self.exclude_route = exclude_route      # a route trends against earlier surveys only
         self.doc: dict | None = None
+        self._made_of: tuple = ((), (), set())
 
     def __call__(self, facts: list[dict]) -> list[dict]:
         same = {r["id"] for r in self.store.readings(self.machine.name)
@@ -63,4 +64,15 @@ class HistoryLink:
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
+        self._made_of = (earlier + now, repairs, here)
         return trend_facts(doc)
+
+    def shown_in(self, units) -> dict | None:
+        """The trend section in ``units`` (``ShownUnits``) for the report; the reasoning's facts came from
+        the one in Hz and mm/s RMS (``doc``), which is also what any other units start from."""
+        if self.doc is None or units is None or units.default:
+            return self.doc
+        rows, repairs, here = self._made_of
+        doc = trend_from_rows(self.machine.name, rows, self.scale, plots=self.plots, repairs=repairs, units=units)
+        doc["points"] = [p for p in doc["points"] if p["point"] in here]
+        return doc

@@ -20,7 +20,7 @@ from .health import choose, health_of
 from .projection import Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
-from .shown import trend_in_units
+from .shown import boundary_label, trend_in_units
 from .store_prior import StorePrior, learned_from_store
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
@@ -115,9 +115,10 @@ BEFORE_REPAIR_COLOR = "#9a9a9a"     # readings of the machine before a repair: s
 
 
 def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projections: dict[str, Projection],
-           point: str, repairs: list[Repair]) -> list[dict]:
+           point: str, repairs: list[Repair], units: ShownUnits | None = None) -> list[dict]:
     """The plots of one point: every reading (those before a repair in grey), the fitted curves over
-    the readings used, and a marker at the date of each finding that sees the point."""
+    the readings used, and a marker at the date of each finding that sees the point. The overall velocity
+    in ``units`` (broadband: RMS in the chosen length unit)."""
     from ..report.svg import Level, Mark, Plot, render
     from ..report.svg import Series as Trace
 
@@ -162,9 +163,17 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         return Plot(title, xlabel, ylabel, series=series, levels=list(levels), marks=marks, xlim=xlim)
 
     if "velocity_rms_mm_s" in by_name:
-        plots.append(plot(f"{point}: overall velocity", "mm/s RMS",
-                          traces("velocity_rms_mm_s", width=1.2) + fitted("velocity_rms_mm_s"),
-                          [Level(scale.ab, "A/B"), Level(scale.bc, "B/C"), Level(scale.cd, "C/D")]))
+        shown = units or ShownUnits()
+        k = shown.velocity_value(1.0, line=False)      # linear: readings, fit and boundaries scale alike
+        target = projections.get("velocity_rms_mm_s")
+
+        def toward(label: str) -> str:
+            return label if target is None else label.replace(
+                target.limit_label, boundary_label(target.limit_label, target.limit, shown))
+        plots.append(plot(f"{point}: overall velocity", shown.velocity_label(line=False),
+                          [replace(t, y=t.y * k, label=t.label and toward(t.label)) for t in
+                           traces("velocity_rms_mm_s", width=1.2) + fitted("velocity_rms_mm_s")],
+                          [Level(scale.ab * k, "A/B"), Level(scale.bc * k, "B/C"), Level(scale.cd * k, "C/D")]))
     acc = [(n, c, w) for n, c, w in (("accel_peak_g", "#1a1a1a", "peak"), ("accel_rms_g", "#2a5d8a", "RMS"))
            if n in by_name]
     if acc:
@@ -203,8 +212,9 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
 
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
-                    learned: dict[str, StorePrior] | None = None) -> dict:
-    """The trend document of ``machine`` from ``Store.history`` rows (oldest first).
+                    learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None) -> dict:
+    """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
+    (``shown.trend_in_units``; None: Hz and mm/s RMS).
 
     ``repairs``: the machine's findings (``repairs.repairs_of``); each is shown beside the points that
     see its component, and one with a fault found resets their baseline to the readings after its day.
@@ -260,9 +270,9 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "readings_before": len(ref) - (0 if since is None else len(since)),
                      "every_point": reset.points is None}}
         if plots:
-            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)])
+            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)], units)
         points.append(entry)
-    # Hz and mm/s RMS; ``tellwave trend --velocity-unit`` shows others (engine/trend/shown.py)
+    # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,
             "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
             "zone_scale": {"group": scale.group, "support": scale.support, "ab_mm_s": scale.ab, "bc_mm_s": scale.bc,
@@ -273,7 +283,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             "iso_change_rule": "ISO 20816-3 criterion II: a change of more than 25 % of the B/C boundary is "
                                "significant, even within zone B (from memory)",
             "findings": [r.shown() for r in repairs],
-            "points": points}, ShownUnits())
+            "points": points}, units or ShownUnits())
 
 
 def zone_scale_for(machine_file: str | None):
@@ -312,25 +322,27 @@ def _repairs(store, machine: str, readings: list[dict], names: dict[str, str] | 
 
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
                    plots: bool = False, names: dict[str, str] | None = None, waterfall: bool = False,
-                   compare: tuple[int, int] | None = None) -> dict:
+                   compare: tuple[int, int] | None = None, units: ShownUnits | None = None) -> dict:
     """The trend document of a stored machine, with its findings (the store is only read); ``waterfall``
     adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
-    spectra at each point both have (``waterfall.spectra_section``)."""
+    spectra at each point both have (``waterfall.spectra_section``); all shown in ``units`` (None: Hz and
+    mm/s RMS)."""
     rows = store.history(machine, point)
     readings = store.readings(machine)
     files = [r["machine_file"] for r in readings if r["machine_file"]]
     repairs = _repairs(store, machine, readings, names)
     doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None), limits=limits,
-                          point=point, plots=plots, repairs=repairs,
+                          point=point, plots=plots, repairs=repairs, units=units,
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
                                                      else _repairs(store, m, store.readings(m), names)))
     doc["store"] = str(store.path)
     if waterfall or compare is not None:
-        _add_spectra(doc, store, machine, point, compare, plots)
+        _add_spectra(doc, store, machine, point, compare, plots, units)
     return doc
 
 
-def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool) -> None:
+def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool,
+                 units: ShownUnits | None = None) -> None:
     """Each point's spectra over time (``waterfall.spectra_section``); with ``compare``, at the points both
     readings have (``point`` named: that point must have both)."""
     from ..common.errors import UsageError
@@ -338,7 +350,8 @@ def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plo
 
     for entry in doc["points"]:
         try:
-            entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots)
+            entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots,
+                                               units=units)
         except UsageError:
             if point is not None:
                 raise

@@ -11,7 +11,21 @@ from __future__ import annotations
 from ..common.units import ShownUnits
 
 LINES = {"x1_mm_s", "x2_mm_s"}               # one spectral line each: peak = sqrt(2) x RMS applies
-BROADBAND = {"velocity_rms_mm_s"}            # the ISO 20816-3 overall: stays RMS
+BROADBAND = {"velocity_rms_mm_s"}            # the ISO 20816-3 overall: stays RMS (as a site band's level does)
+
+
+def _site_band(name: str) -> str | None:
+    """A site alarm band's velocity indicator (``band[1X]_mm_s``: the band's level, broadband, mm/s RMS)
+    -> its band as the alarm states it; None for any other indicator."""
+    return name[:-len("_mm_s")] if name.startswith("band[") and name.endswith("]_mm_s") else None
+
+
+def boundary_label(label: str, limit_mm_s: float, units: ShownUnits, line: bool = False) -> str:
+    """A projection's target worded in ``units``: "zone boundary A/B (1.4 mm/s)" becomes
+    "zone boundary A/B (0.0551 in/s RMS)"; other targets (a limit the user set on a named indicator) as they are."""
+    if units.default or not label.startswith("zone boundary"):
+        return label
+    return label.replace(f"({limit_mm_s:g} mm/s)", f"({units.velocity_text(limit_mm_s, line=line)})")
 
 
 def trend_in_units(doc: dict, units: ShownUnits) -> dict:
@@ -23,9 +37,8 @@ def trend_in_units(doc: dict, units: ShownUnits) -> dict:
     scale = doc["zone_scale"]
     bounds = (scale["ab_mm_s"], scale["bc_mm_s"], scale["cd_mm_s"])
     length = units.velocity_label(False).split(" ")[0]
-    doc["units"] = units.as_dict() | {
-        "zone_boundaries": ([f"{b:g}" for b in bounds] if length == "mm/s"
-                            else [units.velocity_text(b, line=False).split(" ")[0] for b in bounds])}
+    doc["units"] = units.as_dict() | {"zone_boundaries": units.zone_boundaries(*bounds),
+                                      "zone_boundaries_text": units.zone_boundaries_text(*bounds)}
     for p in doc["points"]:
         iso = p.get("iso_change")
         if iso is not None:
@@ -40,13 +53,21 @@ def trend_in_units(doc: dict, units: ShownUnits) -> dict:
         if units.default:
             continue
         for i in p["indicators"]:
-            if i["name"] not in LINES | BROADBAND:
+            band = _site_band(i["name"])
+            if i["name"] not in LINES | BROADBAND and not band:
                 continue
             line = i["name"] in LINES
             factor = units.velocity_value(1.0, line=line)      # linear: every value and difference scales alike
             for key in ("baseline", "latest", "change", "rate_per_month", "last_before_repair"):
                 if i.get(key) is not None:
                     i[key] = i[key] * factor
-            i["label"] = i["label"].replace("mm/s RMS", units.velocity_label(line))
+            i["label"] = (f"{band}, {units.velocity_label(False)}" if band
+                          else i["label"].replace("mm/s RMS", units.velocity_label(line)))
             i["unit"] = units.velocity_label(line)
+        for x in p["projections"]:
+            if x["indicator"] not in LINES | BROADBAND:
+                continue
+            line = x["indicator"] in LINES
+            x["label"] = x["label"].replace("mm/s RMS", units.velocity_label(line))
+            x["limit_label"] = boundary_label(x["limit_label"], x["limit"], units, line)  # ``limit`` stays as stored
     return doc

@@ -9,6 +9,12 @@ oldest at the back and each survey raised above the one before, the overlay
 of two readings; forcing frequencies marked by name (1X, 2X, BPFO...) with a
 legend. A reading stored before schema 7 has no spectrum, and the section
 says so.
+
+The store keeps Hz and mm/s RMS (fields named ``_hz`` and ``_mm_s``, and ``before``, ``after`` and
+``change`` in the section's ``unit``); ``shown`` beside them gives the same numbers in the units a user
+chose (``engine.common.units.ShownUnits``), which the words and the figures use. Each kept line is a
+line's amplitude, so a peak is sqrt(2) x its RMS; orders are of the point's shaft at each reading's own
+speed (the marks and the changes at the later reading's), Hz when a reading stored no speed.
 """
 
 from __future__ import annotations
@@ -18,6 +24,7 @@ from datetime import datetime
 import numpy as np
 
 from ..common.errors import UsageError
+from ..common.units import ShownUnits
 
 MOST_SURVEYS = 24         # the latest surveys a waterfall shows
 CHANGES_LISTED = 8        # the lines that changed most, listed per comparison
@@ -116,6 +123,44 @@ def _r(x: float) -> float:
     return float(f"{float(x):.4g}")
 
 
+def _one_x(row: dict) -> float | None:
+    """The speed (Hz) of the point's shaft when ``row`` was taken, from its stored forcing frequencies."""
+    return next((f["frequency_hz"] for f in row.get("forcing") or ()
+                 if f["name"] == "1X" and f["component"] == row.get("shaft")), None)
+
+
+class _Shown:
+    """The section's numbers in ``units``: frequencies per reading (orders of its own shaft speed),
+    velocities of single lines (peak = sqrt(2) x RMS)."""
+
+    def __init__(self, units: ShownUnits, rows: list[dict]):
+        self.units = units
+        # orders need every reading's shaft speed: without one, the section stays in Hz and says so
+        self.orders = units.frequency == "orders" and bool(rows) and all(_one_x(r) for r in rows)
+        self.frequency_label = "Hz" if units.frequency == "orders" and not self.orders else units.frequency_label()
+
+    def f(self, hz: float, row: dict) -> float:
+        if self.units.frequency == "orders" and not self.orders:
+            return hz
+        v = self.units.frequency_value(hz, _one_x(row))
+        return hz if v is None else v
+
+    def v(self, mm_s: float) -> float:
+        return self.units.velocity_value(mm_s, line=True)
+
+    def spectrum(self, row: dict) -> tuple[np.ndarray, np.ndarray]:
+        """A reading's kept lines as the figures draw them: frequencies and amplitudes in the shown units
+        (both conversions are linear: one factor each)."""
+        return _frequencies(row) * self.f(1.0, row), row["amplitudes"].astype(float) * self.v(1.0)
+
+    def about(self, rows: list[dict]) -> dict:
+        length = self.units.velocity_label(True).split(" ")[0]
+        shaft = rows[-1].get("shaft") if rows else None
+        return {"frequency": self.frequency_label, "velocity": self.units.velocity_label(True), "length": length,
+                "orders_of": shaft if self.orders else None,
+                "axis": f"orders of {shaft}" if self.orders else self.frequency_label}
+
+
 def _when(row: dict) -> str:
     return datetime.fromisoformat(row["taken_at"]).strftime("%Y-%m-%d %H:%M")
 
@@ -129,10 +174,12 @@ def _by_reading(rows: list[dict]) -> list[dict]:
     return sorted(out.values(), key=lambda r: (r["taken_at"], r["id"]))
 
 
-def _listed(r: dict) -> dict:
-    """A reading as the section lists it: no spectrum, and why, or its lines."""
+def _listed(r: dict, shown: _Shown | None = None) -> dict:
+    """A reading as the section lists it: no spectrum, and why, or its lines (and, with ``shown``, its
+    spacing and largest line in the shown units)."""
     entry = {"id": r["id"], "taken_at": r["taken_at"], "channel": r["channel"], "has_spectrum": False,
-             "why": None, "step_hz": None, "lines": 0, "largest_mm_s": None, "largest_at_hz": None, "amplitudes": None}
+             "why": None, "step_hz": None, "lines": 0, "largest_mm_s": None, "largest_at_hz": None, "amplitudes": None,
+             "shown": None}
     if r["amplitudes"] is None:
         entry["why"] = (NO_SPECTRUM if not r["spectra_kept"] else
                         "its spectrum is damaged in the store" if r["damaged"] else
@@ -143,15 +190,20 @@ def _listed(r: dict) -> dict:
     entry.update(has_spectrum=True, step_hz=r["step_hz"], lines=len(a), largest_mm_s=_r(a[k]),
                  largest_at_hz=round((k + 0.5) * r["step_hz"] - 0.5 * r["resolution_hz"], 3),
                  amplitudes=[_r(v) for v in a])
+    if shown is not None:
+        entry["shown"] = {"step": shown.f(r["step_hz"], r), "largest": shown.v(entry["largest_mm_s"]),
+                          "largest_at": shown.f(entry["largest_at_hz"], r)}
     return entry
 
 
 def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
-                    compare: tuple[int, int] | None = None, plots: bool = False) -> dict:
+                    compare: tuple[int, int] | None = None, plots: bool = False,
+                    units: ShownUnits | None = None) -> dict:
     """Spectra over time at ``point``: the readings (with their compact spectra, or why none), the forcing
     frequencies marked, the largest changes per line (first to last survey of the waterfall, or between the
     two readings of ``compare``), and with ``plots`` the SVG figures. ``compare`` ids must be stored readings
-    of ``machine`` at ``point`` (a UsageError otherwise)."""
+    of ``machine`` at ``point`` (a UsageError otherwise). ``units``: what ``shown`` and the figures use
+    (None: Hz and mm/s RMS)."""
     rows = _by_reading(store.spectra(machine, point))
     section: dict = {"point": point, "quantity": "velocity", "unit": "mm/s RMS", "readings": [],
                      "marks": [], "marks_from": None, "waterfall": None, "compare": None,
@@ -167,27 +219,35 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
     else:
         shown = rows[-MOST_SURVEYS:] if waterfall else []
         section["surveys_left_out"] = len(rows) - len(shown)
-    section["readings"] = [_listed(r) for r in shown]
     with_spectrum = [r for r in shown if r["amplitudes"] is not None]
+    worded = _Shown(units or ShownUnits(), with_spectrum)
+    section["shown"] = worded.about(with_spectrum)
+    section["readings"] = [_listed(r, worded) for r in shown]
     section["without_spectrum"] = len(shown) - len(with_spectrum)
     if not with_spectrum:
         return section
     latest = with_spectrum[-1]
     f_max = max(len(r["amplitudes"]) * r["step_hz"] for r in with_spectrum)
     marks = marks_for(latest["forcing"], latest["shaft"], latest["at"], f_max)
-    section.update(marks=marks, marks_from={"id": latest["id"], "taken_at": latest["taken_at"]})
+    section.update(marks=[m | {"shown": {"frequency": worded.f(m["frequency_hz"], latest)}} for m in marks],
+                   marks_from={"id": latest["id"], "taken_at": latest["taken_at"]})
+
+    def changes(a, b):
+        return [c | {"shown": {"frequency": worded.f(c["frequency_hz"], b), "before": worded.v(c["before"]),
+                               "after": worded.v(c["after"]), "change": worded.v(c["change"])}}
+                for c in largest_changes(a, b, marks)]
     if compare is not None:
         a, b = shown
         both = a["amplitudes"] is not None and b["amplitudes"] is not None
-        section["compare"] = {"ids": list(compare), "changes": largest_changes(a, b, marks) if both else [],
-                              "svg": _overlay(point, a, b, marks) if plots and both else None}
+        section["compare"] = {"ids": list(compare), "changes": changes(a, b) if both else [],
+                              "svg": _overlay(point, a, b, marks, worded) if plots and both else None}
         section.update(changes=section["compare"]["changes"], changes_from=a["id"], changes_to=b["id"])
     else:
         first = with_spectrum[0]
         section["waterfall"] = {
             "surveys": len(with_spectrum), "first": first["id"], "last": latest["id"],
-            "changes": largest_changes(first, latest, marks) if first is not latest else [],
-            "svg": _waterfall(point, with_spectrum, marks) if plots else None}
+            "changes": changes(first, latest) if first is not latest else [],
+            "svg": _waterfall(point, with_spectrum, marks, worded) if plots else None}
         section.update(changes=section["waterfall"]["changes"], changes_from=first["id"], changes_to=latest["id"])
     return section
 
@@ -196,10 +256,10 @@ def _frequencies(r: dict) -> np.ndarray:
     return (np.arange(len(r["amplitudes"])) + 0.5) * r["step_hz"] - 0.5 * r["resolution_hz"]
 
 
-def _svg_marks(marks: list[dict]):
+def _svg_marks(marks: list[dict], shown: _Shown, latest: dict):
     from ..report.svg import Mark
 
-    return [Mark(m["frequency_hz"], m["label"], strong=m["name"] == "1X") for m in marks]
+    return [Mark(shown.f(m["frequency_hz"], latest), m["label"], strong=m["name"] == "1X") for m in marks]
 
 
 def drawn_to_hz(rows: list[dict], marks: list[dict]) -> float:
@@ -211,37 +271,38 @@ def drawn_to_hz(rows: list[dict], marks: list[dict]) -> float:
     return min(stored, wanted) if wanted > 0 else stored
 
 
-def _waterfall(point: str, rows: list[dict], marks: list[dict]) -> str:
+def _waterfall(point: str, rows: list[dict], marks: list[dict], shown: _Shown) -> str:
     """The waterfall: the oldest survey at the top (the back), each later one lower and drawn over it."""
     from ..report.svg import Plot, Series, render
 
-    tallest = max(float(np.max(r["amplitudes"])) for r in rows)
+    tallest = shown.v(max(float(np.max(r["amplitudes"])) for r in rows))
     rise = 0.6 * tallest if tallest > 0 else 1.0
     n = len(rows)
     series, ticks = [], []
     for k, r in enumerate(rows):                      # oldest first: drawn first, so later ones cover it
         offset = (n - 1 - k) * rise
-        series.append(Series(_frequencies(r), r["amplitudes"].astype(float) + offset, width=0.7,
-                             color="#1a1a1a" if k == n - 1 else "#2a5d8a", fill_to=offset))
+        x, y = shown.spectrum(r)
+        series.append(Series(x, y + offset, width=0.7, color="#1a1a1a" if k == n - 1 else "#2a5d8a", fill_to=offset))
         ticks.append((offset, _when(r)[:10]))
-    f_max = drawn_to_hz(rows, marks)
-    plot = Plot(f"{point}: velocity spectra of {n} surveys, oldest at the back, each {rise:.3g} mm/s RMS above "
-                "the next", "frequency, Hz", "", series=series, marks=_svg_marks(marks),
-                xlim=(0.0, f_max), ylim=(0.0, (n - 1) * rise + 1.15 * tallest if tallest > 0 else n),
+    f_max = shown.f(drawn_to_hz(rows, marks), rows[-1])
+    plot = Plot(f"{point}: velocity spectra of {n} surveys, oldest at the back, each {rise:.3g} "
+                f"{shown.units.velocity_label(True)} above the next", f"frequency, {shown.about(rows)['axis']}", "",
+                series=series, marks=_svg_marks(marks, shown, rows[-1]), xlim=(0.0, f_max),
+                ylim=(0.0, (n - 1) * rise + 1.15 * tallest if tallest > 0 else n),
                 height=min(640, 160 + 26 * n), ytick_labels=ticks)
     return render(plot)
 
 
-def _overlay(point: str, a: dict, b: dict, marks: list[dict]) -> str:
+def _overlay(point: str, a: dict, b: dict, marks: list[dict], shown: _Shown) -> str:
     """Two readings' spectra on one axis: the first grey, the second black."""
     from ..report.svg import Plot, Series, render
 
-    f_max = drawn_to_hz([a, b], marks)
+    f_max = shown.f(drawn_to_hz([a, b], marks), b)
     plot = Plot(f"{point}: velocity spectrum of reading {a['id']} ({_when(a)}, grey) and {b['id']} "
-                f"({_when(b)}, black)", "frequency, Hz", "mm/s RMS",
-                series=[Series(_frequencies(r), r["amplitudes"].astype(float), color=c, width=0.8,
-                               label=f"reading {r['id']} ({_when(r)})") for r, c in zip((a, b), COLORS)],
-                marks=_svg_marks(marks), xlim=(0.0, f_max), height=300)
+                f"({_when(b)}, black)", f"frequency, {shown.about([a, b])['axis']}", shown.units.velocity_label(True),
+                series=[Series(*shown.spectrum(r), color=c, width=0.8, label=f"reading {r['id']} ({_when(r)})")
+                        for r, c in zip((a, b), COLORS)],
+                marks=_svg_marks(marks, shown, b), xlim=(0.0, f_max), height=300)
     return render(plot)
 
 

@@ -48,9 +48,10 @@ def test_3_a_report_without_history_says_nothing_about_a_trend():
 
 def test_3_a_report_with_history_keeps_its_trend_section():
     doc = dict(doc_of("rw2-impeller-unbalance"))
-    doc["trend"] = {"machine": "RW-2", "points": [
+    doc["trend"] = {"machine": "RW-2", "units": {"overall_velocity_label": "mm/s RMS"}, "points": [
         {"point": "P1H", "readings": 3, "first": "2026-01-12T08:30:00", "plots": [],
-         "iso_change": {"baseline_mm_s": 1.1, "latest_mm_s": 2.3, "significant": True, "criterion_mm_s": 0.7},
+         "iso_change": {"baseline_mm_s": 1.1, "latest_mm_s": 2.3, "significant": True, "criterion_mm_s": 0.7,
+                        "shown": {"baseline": "1.1", "latest": "2.3", "change": "+1.20", "criterion": "0.7"}},
          "projections": []}]}
     for fmt in FORMATS:
         out = render(doc, fmt)

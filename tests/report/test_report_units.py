@@ -71,10 +71,15 @@ def test_levels_and_boundaries_in_inches_stay_rms_for_a_broadband_level(diagnosi
     units = doc["units"]
     assert units["velocity"] == "in/s-peak" and units["overall_velocity_label"] == "in/s RMS"
     # ISO 20816-3 group 2 rigid, B/C 2.8 mm/s (from memory) = 0.110 in/s (1 in = 25.4 mm exactly, 1959)
-    assert units["zone_boundaries"][1] == "0.110"
+    assert units["zone_boundaries_text"][1] == "0.110"
+    # in JSON, numbers with their unit beside them
+    assert units["zone_boundaries"]["b_c"] == pytest.approx(2.8 / 25.4, rel=1e-3)
+    assert units["zone_boundaries"]["unit"] == "in/s RMS" and units["point_level_unit"] == "in/s RMS"
     for z in doc["zones"]["points"]:
         # broadband: RMS in inches, never sqrt(2) x RMS (the peak of a sine only)
-        assert float(units["point_levels"][z["channel"]]) == pytest.approx(z["velocity_rms_mm_s"] / 25.4, rel=0.01)
+        assert units["point_levels"][z["channel"]] == pytest.approx(z["velocity_rms_mm_s"] / 25.4, rel=1e-3)
+        assert float(units["point_levels_text"][z["channel"]]) == pytest.approx(z["velocity_rms_mm_s"] / 25.4,
+                                                                               rel=0.01)
     for fmt in ("text", "md", "html"):
         out = render(doc, fmt)
         assert "in/s RMS" in out and "mm/s" not in out, fmt      # the trail holds g values only here
@@ -188,3 +193,27 @@ def test_evidence_shows_frequencies_and_velocities_in_the_chosen_units(tmp_path,
         assert cpm == pytest.approx(60 * fact["freq_hz"], rel=0.01)                 # 1 Hz = 60 CPM
         # a line: sqrt(2) x RMS (a sine), 1 in = 25.4 mm exactly
         assert peak == pytest.approx(2 ** 0.5 * fact["amplitude_mm_s"] / 25.4, rel=0.01, abs=6e-6)
+
+
+@pytest.mark.parametrize("frequency, velocity", [("cpm", "in/s-rms"), ("orders", "mm/s-peak"), ("hz", "mm/s-rms")])
+def test_the_json_units_block_gives_numbers_with_their_unit(diagnosis, frequency, velocity):
+    import jsonschema
+
+    from engine.common.yamlfile import load_schema
+
+    doc = json.loads(render(document_of(diagnosis, made_at=MADE_AT, units=ShownUnits(frequency, velocity)), "json"))
+    jsonschema.validate(doc, load_schema("report.schema.json"))
+    units, scale, settings = doc["units"], doc["zones"]["scale"], doc["acquisition"]
+    per_mm = 1 / 25.4 if velocity.startswith("in/s") else 1.0     # 1 in = 25.4 mm exactly (1959)
+    bounds = units["zone_boundaries"]
+    # broadband boundaries stay RMS whichever is chosen (sqrt(2) x RMS is the peak of a sine only)
+    assert bounds["unit"] == ("in/s RMS" if per_mm != 1 else "mm/s RMS")
+    for key, mm_s in (("a_b", scale["ab_mm_s"]), ("b_c", scale["bc_mm_s"]), ("c_d", scale["cd_mm_s"])):
+        assert isinstance(bounds[key], float) and bounds[key] == pytest.approx(mm_s * per_mm, rel=1e-3)
+    ref = units["shaft_speeds_hz"][diagnosis.evidence.speed["shaft"]]
+    # CPM = 60 x Hz (definition of the minute); an order is the frequency over the shaft's speed
+    expected = {"cpm": 60 * settings["fmax_hz"], "orders": settings["fmax_hz"] / ref, "hz": settings["fmax_hz"]}
+    assert units["fmax"]["value"] == pytest.approx(expected[frequency], rel=1e-5)
+    assert units["fmax"]["unit"] == {"cpm": "CPM", "orders": "orders", "hz": "Hz"}[frequency]
+    for channel, value in units["point_levels"].items():
+        assert isinstance(value, float) and isinstance(units["point_levels_text"][channel], str)
