@@ -252,7 +252,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                  "last": ref.times[-1].isoformat(), "indicators": indicators, "iso_change": iso,
                  "projections": [_projection(p, used[k.split("@")[0]]) for k, p in projections.items()],
                  "missing_limits": sorted(n for n in limits if n not in by_name),
-                 "findings": [r.shown() for r in repairs if r.sees(pt)],
+                 "findings": [r.shown() for r in repairs if r.shown_at(pt)],
                  "reset": None if reset is None else {
                      "found_on": reset.found_on, "component": reset.component, "fault": reset.fault,
                      "fault_name": reset.fault_name, "work_order": reset.work_order,
@@ -260,7 +260,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "readings_before": len(ref) - (0 if since is None else len(since)),
                      "every_point": reset.points is None}}
         if plots:
-            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)])
+            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)])
         points.append(entry)
     # Hz and mm/s RMS; ``tellwave trend --velocity-unit`` shows others (engine/trend/shown.py)
     return trend_in_units({"tellwave": __version__, "machine": machine,
