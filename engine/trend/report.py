@@ -326,11 +326,12 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
                                                      else _repairs(store, m, store.readings(m), names)))
     doc["store"] = str(store.path)
     if waterfall or compare is not None:
-        _add_spectra(doc, store, machine, point, compare, plots)
+        _add_spectra(doc, store, machine, point, compare, plots, repairs)
     return doc
 
 
-def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool) -> None:
+def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool,
+                 repairs: list[Repair]) -> None:
     """Each point's spectra over time (``waterfall.spectra_section``); with ``compare``, at the points both
     readings have (``point`` named: that point must have both)."""
     from ..common.errors import UsageError
@@ -338,7 +339,8 @@ def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plo
 
     for entry in doc["points"]:
         try:
-            entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots)
+            entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots,
+                                               repair=reset_of(repairs, entry["point"]))
         except UsageError:
             if point is not None:
                 raise
