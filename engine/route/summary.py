@@ -91,7 +91,7 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     if not before:
         return None
     then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
-    items = []
+    items: list[dict] = []
     for point, (_t_now, v_now, _id_now) in now.items():
         if point in then:
             t_then, v_then, id_then = then[point]
@@ -108,10 +108,10 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     best["chosen"] = ("the point at the top finding's component" if seeing
                       else "the point whose velocity changed most")
     best["top_then"] = None
-    top = store.top_hypothesis(best["_then_id"])       # the point's own earlier reading, not the survey's last
+    top = store.top_hypothesis(int(best["_then_id"]))   # the point's own earlier reading, not the survey's last
     if top is not None:
         best["top_then"] = f"{top['fault_name']} on {top['component']} ({_pct(top['certainty'])} %)"
-    best["repairs"] = _repairs_between(store, machine, best["since"], first_now)
+    best["repairs"] = _repairs_between(store, machine, str(best["since"]), first_now)
     for x in items:
         del x["_then_id"]
     return best

@@ -59,11 +59,12 @@ def marks_for(forcing: list[dict], shaft: str | None, at: str | None, f_max_hz: 
     own = [m["frequency_hz"] for m in out if _is_order(m["name"]) and m["component"] == shaft]
     out = [m for m in out if not (_is_order(m["name"]) and m["component"] != shaft      # a shaft coupled at the
                                   and any(abs(m["frequency_hz"] - f) <= SAME_LINE * f for f in own))]   # same speed
-    seen, kept = set(), []
+    listed: set[tuple[str, float]] = set()
+    kept = []
     for m in sorted(out, key=lambda m: m["frequency_hz"]):
         key = (m["label"], round(m["frequency_hz"], 3))
-        if 0 < m["frequency_hz"] <= f_max_hz and key not in seen:
-            seen.add(key)
+        if 0 < m["frequency_hz"] <= f_max_hz and key not in listed:
+            listed.add(key)
             kept.append(m)
     return kept
 
