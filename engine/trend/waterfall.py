@@ -48,14 +48,15 @@ def marks_for(forcing: list[dict], shaft: str | None, at: str | None, f_max_hz: 
             out += [{"label": f"{k}X" if own else f"{k}X {f['component']}", "name": f"{k}X",
                      "component": f["component"], "frequency_hz": k * hz,
                      "what": f"{'running speed' if k == 1 else f'{k} x running speed'} of shaft {f['component']}"
-                     + ("" if own else " (seen from this point's shaft)")}
+                     + ("" if own else " (seen from this point's shaft)"), "seen_from": not own}
                     for k in HARMONICS]
         elif family == "bearing" and f["component"] == at:
             out.append({"label": f["name"], "name": f["name"], "component": at, "frequency_hz": hz,
                         "what": f"{f['name']} of bearing {at}"})
         elif family not in ("shaft", "bearing") and (f["shaft"] in seen or family in ("gear", "belt")):
             out.append({"label": f["name"], "name": f["name"], "component": f["component"], "frequency_hz": hz,
-                        "what": f"{f['name']} of {f['component']}"})
+                        "what": f"{f['name']} of {f['component']}",
+                        "seen_from": f["shaft"] != shaft and family not in ("gear", "belt")})
     own = [m["frequency_hz"] for m in out if _is_order(m["name"]) and m["component"] == shaft]
     out = [m for m in out if not (_is_order(m["name"]) and m["component"] != shaft      # a shaft coupled at the
                                   and any(abs(m["frequency_hz"] - f) <= SAME_LINE * f for f in own))]   # same speed
@@ -281,10 +282,12 @@ def _svg_marks(marks: list[dict]):
 
 def drawn_to_hz(rows: list[dict], marks: list[dict]) -> float:
     """The highest frequency the figures draw: 12 orders of the point's shaft or 1.3 times its highest marked
-    forcing frequency, whichever is higher, within what is stored (the tables cover everything stored)."""
+    forcing frequency (of its own shaft, bearing, meshes and belts: another shaft's rotor bar pass would squeeze
+    the figure), whichever is higher, within what is stored (the tables cover everything stored)."""
     stored = max(float(_frequencies(r)[-1]) for r in rows)
     one_x = next((m["frequency_hz"] for m in marks if m["label"] == "1X"), 0.0)
-    wanted = max(ORDERS_DRAWN * one_x, FORCING_MARGIN * max((m["frequency_hz"] for m in marks), default=0.0))
+    wanted = max(ORDERS_DRAWN * one_x, FORCING_MARGIN * max((m["frequency_hz"] for m in marks
+                                                             if not m.get("seen_from")), default=0.0))
     return min(stored, wanted) if wanted > 0 else stored
 
 

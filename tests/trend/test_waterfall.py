@@ -228,6 +228,11 @@ def test_the_marks_name_the_orders_of_every_shaft_the_point_sees():
     assert {"1X", "2X", "3X", "1X gin", "2X gin", "3X gin", "vane pass", "BSF"} == set(labels)
     assert not any("pump" in x or "far" in x for x in labels)    # same speed as 1X: one line; far: not seen
     assert [m["label"] for m in marks_for(GEARED, "gout", "gout_b", 1000.0)] == ["1X", "2X", "BSF", "3X"]
+    # another shaft's lines are named but do not stretch the figure: 12 orders of the point's 1X (92 Hz)
+    # are drawn, not 1.3 x the vane pass of the pump (50 Hz) nor 1.3 x 3X gin (96 Hz)
+    from engine.trend.waterfall import drawn_to_hz
+    rows = [{"amplitudes": np.ones(2000), "step_hz": 0.5, "resolution_hz": 0.5}]
+    assert drawn_to_hz(rows, marks) == pytest.approx(12 * 7.69)
 
 
 def test_a_line_two_names_reach_goes_to_the_shaft_order_before_a_bearing_multiple():
