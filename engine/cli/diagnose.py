@@ -62,6 +62,10 @@ def run(args) -> int:
         output = Path(args.readings[0]).with_suffix("").name + f".report.{fmt}"
     inputs = input_files(args) if output is None else output_target(args, output)    # before the work
     taken = _taken_at(args)
+    if args.store:
+        from ._store import check_store_folder
+
+        check_store_folder(args.store)
     from ..machine.alarms import with_site_alarms
 
     machine = with_site_alarms(load_machine(args.machine), args.alarms or ())
@@ -76,9 +80,16 @@ def run(args) -> int:
         how = {"unit": args.unit, "speed_rpm": args.rpm, "sample_rate_hz": args.sample_rate, "scale": args.scale,
                "point": args.point, "direction": args.direction, "channels": args.channels,
                "alarms": content_hash(args.alarms) if args.alarms else None}   # other limits: another diagnosis
-        d, doc = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store, how=how,
-                                    site=args.site, taken_at=args.taken_at, plots=fmt == "html",
-                                    plot_channels=plot_channels, units=units)
+        d, doc, stored = diagnose_and_store(reading, machine, reasoner, files=args.readings, store_path=args.store,
+                                            how=how, site=args.site, taken_at=args.taken_at, plots=fmt == "html",
+                                            plot_channels=plot_channels, units=units)
+        from ..common.escape import terminal
+
+        origin = {"command line": "--taken-at", "file": "the file's timestamp",
+                  "file modified": "the file's modification time"}.get(stored["time_from"], stored["time_from"])
+        moved = f"; moved from {stored['moved_from']}, where it was stored before" if stored["moved_from"] else ""
+        print(terminal(f"tellwave: stored reading {stored['id']} in {stored['store']}, taken {stored['taken_at']} "
+                       f"(from {origin}{moved})"), file=sys.stderr)
     else:
         d = diagnose(reading, machine, reasoner, plots=fmt == "html", taken=taken)
         doc = document_of(d, plot_channels=plot_channels, units=units)
@@ -104,9 +115,18 @@ def _plot_channels(args, reading):
 
 
 def _taken_at(args):
-    """(ISO time, "command line") for --taken-at, checked; None leaves the file's own time."""
+    """(ISO time, "command line") for --taken-at, checked: a time in the future is refused, as a finding's
+    date is (a reading is stored at the time it was taken); None leaves the file's own time."""
     if args.taken_at is None:
         return None
+    from datetime import UTC, datetime
+
+    from ..common.errors import UsageError
     from ..history.times import iso, parse_time
 
-    return iso(parse_time(args.taken_at, what="--taken-at")), "command line"
+    when = parse_time(args.taken_at, what="--taken-at")
+    now = datetime.now(UTC) if when.tzinfo is not None else datetime.now()
+    if when > now:
+        raise UsageError(f"--taken-at {iso(when)} is in the future (now {iso(now.replace(microsecond=0))}): "
+                         "give the time the reading was taken")
+    return iso(when), "command line"

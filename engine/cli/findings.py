@@ -85,7 +85,20 @@ def _add(args) -> int:
     with open_store(args, create=False) as store:       # a finding judges stored readings: no new store
         ids = add(store, [(None, finding)], faults)
         _say_added(store, ids)
+        _note_unsurveyed(store, [(None, finding)], None)
     return 0
+
+
+def _note_unsurveyed(store, given, path) -> None:
+    """On stderr, a note for each finding whose machine has no stored reading after its day yet
+    (``findings.not_yet_surveyed``)."""
+    import sys
+
+    from ..common.escape import terminal
+    from ..history.findings import not_yet_surveyed
+
+    for note in not_yet_surveyed(store, given):
+        print(terminal(f"tellwave: note: {path + ': ' if path else ''}{note}"), file=sys.stderr)
 
 
 def _import(args) -> int:
@@ -104,6 +117,7 @@ def _import(args) -> int:
     with open_store(args, create=False) as store:
         ids = add(store, given, faults, path=args.file)
         print(f"{len(ids)} finding(s) from {len(given)} row(s) of {args.file} stored in {store.path}")
+        _note_unsurveyed(store, given, args.file)
     return 0
 
 

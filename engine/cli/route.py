@@ -42,8 +42,9 @@ def run(args) -> int:
     from ..route.runner import check_outputs, trend_paths
     from ..trend import trend_document
     from ._common import input_files, rulebook, shown_units, site_alarms
-    from ._store import open_store
+    from ._store import check_store_folder, open_store
 
+    check_store_folder(args.store)                      # a mistyped store folder stops here, before any work
     if args.workers is not None and args.workers < 1:
         raise UsageError(f"--workers must be at least 1, got {args.workers}")
     if args.plots is not None and args.format != "html":

@@ -243,6 +243,30 @@ def resolve(store, finding: Finding, fault_ids, machines: dict | None = None) ->
     return out
 
 
+def not_yet_surveyed(store, findings) -> list[str]:
+    """Notes for the findings given by machine and date (``findings``: (line, Finding) pairs) whose machine has
+    no stored reading after the day found: a finding judges the latest readings stored on or before its day
+    when it is added, so a survey taken before the repair but stored after the finding is never judged. The
+    note names the readings judged now and what to do if a survey is still to be stored."""
+    notes, done = [], set()
+    for line, f in findings:
+        if f.reading_id is not None or (f.machine, f.found_on) in done:
+            continue
+        done.add((f.machine, f.found_on))
+        if any(r["taken_at"][:10] > f.found_on for r in store.readings(f.machine)):
+            continue
+        judged = store.latest_readings(f.machine, f.found_on)
+        if not judged:
+            continue
+        last = max(r["taken_at"] for r in judged)[:10]
+        where = f"line {line}: " if line is not None else ""
+        notes.append(f"{where}no reading of {f.machine} after {f.found_on} is stored yet: the finding judges the "
+                     f"latest readings stored on or before that day (the last taken {last}); if a survey taken "
+                     f"between {last} and {f.found_on} is still to be stored, store it, then delete the finding "
+                     "(`tellwave findings delete ID`) and add it again, so it judges that survey")
+    return notes
+
+
 def add(store, findings, fault_ids, *, path: str | None = None) -> list[int]:
     """Check and store ``findings`` ((line or None, Finding) pairs) in one transaction: every one or none.
     A FindingError names ``path`` (the CSV file, else the store) and the line."""

@@ -336,18 +336,22 @@ class Store:
         A reading already stored (same key, ``content_hash``) is kept unless ``replace``. A diagnosis of
         the same files (``recording_hash``) of the same machine made another way (another unit, point
         mapping, speed or rulebook) replaces the earlier one, so a correction leaves no stale result.
-        Returns the reading's id.
+        The findings that judged a replaced reading judge the new one (same finding ids): a diagnosis
+        made again must not forget what was found. Returns the reading's id.
         """
         recording = record.get("recording_hash") or record["content_hash"]
         with self.transaction():
             old = self.db.execute("SELECT id FROM readings WHERE content_hash = ?",
                                   (record["content_hash"],)).fetchone()
-            if old is not None:
-                if not replace:
-                    return old[0]
-                self.db.execute("DELETE FROM readings WHERE id = ?", (old[0],))
-            self.db.execute("DELETE FROM readings WHERE recording_hash = ? AND machine = ? AND content_hash != ?",
-                            (recording, record["machine"], record["content_hash"]))
+            if old is not None and not replace:
+                return old[0]
+            replaced = [r[0] for r in self.db.execute(
+                "SELECT id FROM readings WHERE content_hash = ? OR (recording_hash = ? AND machine = ?)",
+                (record["content_hash"], recording, record["machine"]))]
+            kept = [tuple(r) for i in replaced for r in self.db.execute(
+                "SELECT id, component, fault, stage, found_on, work_order, notes, stored_at FROM findings"
+                " WHERE reading_id = ?", (i,))]
+            self.db.executemany("DELETE FROM readings WHERE id = ?", [(i,) for i in replaced])
             v = record["verdict"]
             cur = self.db.execute(
                 "INSERT INTO readings (content_hash, machine, machine_file, source, taken_at, time_from,"
@@ -385,6 +389,10 @@ class Store:
                 "INSERT INTO hypotheses VALUES (?,?,?,?,?,?,?)",
                 [(rid, h["rank"], h["fault"], h.get("fault_name"), h.get("component"), h["certainty"],
                   h.get("urgency")) for h in record["hypotheses"]])
+            self.db.executemany(
+                "INSERT OR IGNORE INTO findings (id, reading_id, component, fault, stage, found_on, work_order, notes,"
+                " stored_at)"
+                " VALUES (?,?,?,?,?,?,?,?,?)", [(f[0], rid, *f[1:]) for f in kept])
             return rid
 
     def set_report(self, reading_id: int, report: str) -> None:

@@ -139,4 +139,5 @@ def reading_time(stated, stated_from: str, reading, first_file, clock: Clock | N
         when = resolve_time(value, clock, what=what)      # None only when nothing is stated
         if when is not None:
             return iso(when), origin
-    return iso(datetime.fromtimestamp(os.path.getmtime(first_file))), "file modified"
+    # to the second: a file system's fraction of a second is no part of when a reading was taken
+    return iso(datetime.fromtimestamp(os.path.getmtime(first_file)).replace(microsecond=0)), "file modified"

@@ -14,8 +14,14 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
     scale, point, direction, channels): with the files, the machine and the rulebooks (``site``) they make
     the key that tells a reading already stored. ``taken_at`` is a stated time, else the file's own.
     ``plot_channels``: the channels the report plots (``document_of``).
-    Returns (Diagnosis, report document with a ``trend`` section when a history exists), the document
-    in ``units`` (``ShownUnits``; the store keeps the one in Hz and mm/s RMS).
+    Returns (Diagnosis, report document with a ``trend`` section when a history exists, what was stored:
+    id, store, taken_at, time_from, moved_from), the document in ``units`` (``ShownUnits``; the store keeps
+    the one in Hz and mm/s RMS).
+
+    The same reading stored before at another time is moved to the stated time (``moved_from`` says from
+    where): stating a time again is how a wrong one is corrected, and the key of a reading holds no time.
+    A move past the day of a finding that judges the reading is refused (a UsageError): the finding would
+    judge a reading taken after the machine was opened.
     """
     from ..advice import load_advice, zone_scale
     from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
@@ -34,6 +40,9 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
         known = store.stored_time(digest, recording, machine.name)
         if known is not None and origin == "file modified":     # stored before with a better time: keep it
             when, origin = known
+        moved_from = known[0] if known is not None and known[0] != when else None
+        if moved_from is not None:
+            _check_move(store, digest, recording, machine.name, when)
         link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots,
                            recording_hash=recording)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
@@ -44,8 +53,24 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
                            machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording,
                            reasoning=d.reasoning, spectra=d.spectra,
                            forcing=d.forcing)
-        store.add(record, replace=True)
+        rid = store.add(record, replace=True)
+        stored = {"id": rid, "store": str(store.path), "taken_at": when, "time_from": origin, "moved_from": moved_from}
     if units is not None and not units.default:
         trend = {"trend": link.shown_in(units)} if "trend" in doc else {}
         doc = document_of(d, made_at=doc["made_at"], plot_channels=plot_channels, units=units) | trend
-    return d, doc
+    return d, doc, stored
+
+
+def _check_move(store, digest: str, recording: str, machine: str, when: str) -> None:
+    """Refuse to move a stored reading (of this key, or these files of ``machine``) past the day of a finding
+    that judges it."""
+    from ..common.errors import UsageError
+
+    for f in store.findings(machine):
+        row = store.reading(f["reading_id"])
+        mine = row is not None and (row["content_hash"] == digest or row["recording_hash"] == recording)
+        if mine and f["found_on"][:10] < when[:10]:
+            raise UsageError(f"--taken-at {when}: reading {f['reading_id']} is stored at {f['taken_at']} and judged "
+                             f"by finding {f['id']} (found {f['found_on']}); a reading cannot move after the day "
+                             f"its machine was opened: forget the finding first (`tellwave findings delete "
+                             f"{f['id']}`), or leave out --taken-at")

@@ -31,13 +31,35 @@ def _urgencies() -> dict[str, tuple[int, str]]:
     return {u["id"]: (i, u["label"]) for i, u in enumerate(load_advice()["urgency"])}
 
 
-def _velocity_by_point(rows: list[dict]) -> dict[str, tuple[str, float]]:
-    """point -> (time, velocity) of the latest row of each point."""
+def _velocity_by_point(rows: list[dict]) -> dict[str, tuple[str, float, int]]:
+    """point -> (time, velocity, reading id) of the latest row of each point."""
     out = {}
     for r in rows:
         v = r["indicators"].get("velocity_rms_mm_s")
         if v is not None:
-            out[r["point"] or r["channel"]] = (r["taken_at"], v)
+            out[r["point"] or r["channel"]] = (r["taken_at"], v, r["id"])
+    return out
+
+
+def _repairs_between(store: Store, machine: str, since: str, until: str) -> list[dict]:
+    """The findings of ``machine`` with a fault found (a repair: ``engine.trend.repairs``) between the reading
+    of ``since`` and the one of ``until`` (ISO times), once per day, component and fault: found_on, component,
+    fault. A reading taken on the day found is the as-found condition (before the repair), so the day of
+    ``since`` counts and the day of ``until`` does not."""
+    from ..trend.repairs import NOTHING_FOUND
+
+    out, seen = [], set()
+    for f in store.findings(machine):
+        key = (f["found_on"][:10], f["component"], f["fault"])
+        if f["fault"] != NOTHING_FOUND and since[:10] <= key[0] < until[:10] and key not in seen:
+            seen.add(key)
+            out.append({"found_on": key[0], "component": key[1], "fault": key[2]})
+    if out:
+        from ..trend.report import fault_names
+
+        names = fault_names()
+        for x in out:
+            x["fault_name"] = names.get(x["fault"], x["fault"])
     return out
 
 
@@ -69,13 +91,13 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     if not before:
         return None
     then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
-    items = []
-    for point, (_t_now, v_now) in now.items():
+    items: list[dict] = []
+    for point, (_t_now, v_now, _id_now) in now.items():
         if point in then:
-            t_then, v_then = then[point]
+            t_then, v_then, id_then = then[point]
             pct = 100.0 * (v_now - v_then) / v_then if v_then > 0 else None
             items.append({"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
-                          "change_pct": None if pct is None else round(pct, 1)})
+                          "change_pct": None if pct is None else round(pct, 1), "_then_id": id_then})
     if not items:
         return None
     seeing = [x for x in items if top_points and x["point"] in top_points]
@@ -85,12 +107,13 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     best = max(seeing or items, key=size)
     best["chosen"] = ("the point at the top finding's component" if seeing
                       else "the point whose velocity changed most")
-    prev = store.previous(machine, first_now)
     best["top_then"] = None
-    if prev is not None:
-        top = store.top_hypothesis(prev["id"])
-        if top is not None:
-            best["top_then"] = f"{top['fault_name']} on {top['component']} ({_pct(top['certainty'])} %)"
+    top = store.top_hypothesis(int(best["_then_id"]))   # the point's own earlier reading, not the survey's last
+    if top is not None:
+        best["top_then"] = f"{top['fault_name']} on {top['component']} ({_pct(top['certainty'])} %)"
+    best["repairs"] = _repairs_between(store, machine, str(best["since"]), first_now)
+    for x in items:
+        del x["_then_id"]
     return best
 
 

@@ -262,7 +262,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                  "last": ref.times[-1].isoformat(), "indicators": indicators, "iso_change": iso,
                  "projections": [_projection(p, used[k.split("@")[0]]) for k, p in projections.items()],
                  "missing_limits": sorted(n for n in limits if n not in by_name),
-                 "findings": [r.shown() for r in repairs if r.sees(pt)],
+                 "findings": [r.shown() for r in repairs if r.shown_at(pt)],
                  "reset": None if reset is None else {
                      "found_on": reset.found_on, "component": reset.component, "fault": reset.fault,
                      "fault_name": reset.fault_name, "work_order": reset.work_order,
@@ -270,7 +270,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "readings_before": len(ref) - (0 if since is None else len(since)),
                      "every_point": reset.points is None}}
         if plots:
-            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.sees(pt)], units)
+            entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
+                                    units)
         points.append(entry)
     # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,
@@ -337,12 +338,12 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
                                                      else _repairs(store, m, store.readings(m), names)))
     doc["store"] = str(store.path)
     if waterfall or compare is not None:
-        _add_spectra(doc, store, machine, point, compare, plots, units)
+        _add_spectra(doc, store, machine, point, compare, plots, repairs, units)
     return doc
 
 
 def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool,
-                 units: ShownUnits | None = None) -> None:
+                 repairs: list[Repair], units: ShownUnits | None = None) -> None:
     """Each point's spectra over time (``waterfall.spectra_section``); with ``compare``, at the points both
     readings have (``point`` named: that point must have both)."""
     from ..common.errors import UsageError
@@ -351,7 +352,7 @@ def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plo
     for entry in doc["points"]:
         try:
             entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots,
-                                               units=units)
+                                               repair=reset_of(repairs, entry["point"]), units=units)
         except UsageError:
             if point is not None:
                 raise

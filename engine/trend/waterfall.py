@@ -31,35 +31,48 @@ CHANGES_LISTED = 8        # the lines that changed most, listed per comparison
 HARMONICS = (1, 2, 3)     # orders of the point's shaft marked
 NO_SPECTRUM = ("stored before schema 7, which keeps no spectrum; diagnose it again "
                "(`tellwave route ... --again`) to add one")
+SAME_LINE = 0.001         # another shaft's order this close to the point's own shaft order is the same line
 MATCH_FRACTION = 0.005    # a line within one kept line and 0.5 % of a forcing frequency is named by it
 ORDERS_DRAWN = 12         # the figures show at least 12 orders of the point's shaft
 FORCING_MARGIN = 1.3      # and 30 % beyond its highest marked forcing frequency
 COLORS = ("#7a7a7a", "#1a1a1a")     # overlay: the earlier reading grey, the later black
+BEFORE_REPAIR = "#a8a8a8"           # waterfall: the surveys before the repair that reset the point
 
 
-def marks_for(forcing: list[dict], shaft: str | None, at: str | None, f_max_hz: float) -> list[dict]:
-    """The forcing frequencies to mark at a point below ``f_max_hz``: 1X, 2X, 3X of the shaft under the point,
-    the defect rates of the bearing it sits at, and the gear, belt, vane, blade and electrical lines of
-    its shaft (of any shaft for meshes and belts, which both shafts carry). Each: label, name, component,
-    frequency_hz, what (words for the legend)."""
+def marks_for(forcing: list[dict], shaft: str | None, at: str | None, f_max_hz: float,
+              seen: set[str] | None = None) -> list[dict]:
+    """The forcing frequencies to mark at a point below ``f_max_hz``: 1X, 2X, 3X of the shaft under the point
+    and of every other shaft the point sees (``seen``: ``Machine.shafts_seen_from``; labelled with the
+    shaft's name, ``1X input``), the defect rates of the bearing it sits at, and the gear, belt, vane, blade
+    and electrical lines of the shafts it sees (of any shaft for meshes and belts, which both shafts carry).
+    Each: label, name, component, frequency_hz, what (words for the legend)."""
+    seen = {shaft} | (seen or set()) if shaft is not None else (seen or set())
     out = []
     for f in forcing:
         hz, family = f["frequency_hz"], f["family"]
-        if f["name"] == "1X" and f["component"] == shaft:
-            out += [{"label": f"{k}X", "name": f"{k}X", "component": shaft, "frequency_hz": k * hz,
-                     "what": f"{'running speed' if k == 1 else f'{k} x running speed'} of shaft {shaft}"}
+        if f["name"] == "1X" and f["component"] in seen:
+            own = f["component"] == shaft
+            out += [{"label": f"{k}X" if own else f"{k}X {f['component']}", "name": f"{k}X",
+                     "component": f["component"], "frequency_hz": k * hz,
+                     "what": f"{'running speed' if k == 1 else f'{k} x running speed'} of shaft {f['component']}"
+                     + ("" if own else " (seen from this point's shaft)"), "seen_from": not own}
                     for k in HARMONICS]
         elif family == "bearing" and f["component"] == at:
             out.append({"label": f["name"], "name": f["name"], "component": at, "frequency_hz": hz,
                         "what": f"{f['name']} of bearing {at}"})
-        elif family not in ("shaft", "bearing") and (f["shaft"] == shaft or family in ("gear", "belt")):
+        elif family not in ("shaft", "bearing") and (f["shaft"] in seen or family in ("gear", "belt")):
             out.append({"label": f["name"], "name": f["name"], "component": f["component"], "frequency_hz": hz,
-                        "what": f"{f['name']} of {f['component']}"})
-    seen, kept = set(), []
+                        "what": f"{f['name']} of {f['component']}",
+                        "seen_from": f["shaft"] != shaft and family not in ("gear", "belt")})
+    own = [m["frequency_hz"] for m in out if _is_order(m["name"]) and m["component"] == shaft]
+    out = [m for m in out if not (_is_order(m["name"]) and m["component"] != shaft      # a shaft coupled at the
+                                  and any(abs(m["frequency_hz"] - f) <= SAME_LINE * f for f in own))]   # same speed
+    listed: set[tuple[str, float]] = set()
+    kept = []
     for m in sorted(out, key=lambda m: m["frequency_hz"]):
         key = (m["label"], round(m["frequency_hz"], 3))
-        if 0 < m["frequency_hz"] <= f_max_hz and key not in seen:
-            seen.add(key)
+        if 0 < m["frequency_hz"] <= f_max_hz and key not in listed:
+            listed.add(key)
             kept.append(m)
     return kept
 
@@ -99,23 +112,50 @@ def largest_changes(a: dict, b: dict, marks: list[dict], n: int = CHANGES_LISTED
     out = []
     for i in taken:
         hz = (i + 0.5) * step - 0.5 * coarse["resolution_hz"]
-        near = [(abs(f - hz), label) for f, label in names if abs(f - hz) <= step + MATCH_FRACTION * f]
+        at, also = name_of(hz, step, names)
         out.append({"frequency_hz": round(hz, 3), "before": _r(before[i]), "after": _r(after[i]),
-                    "change": _r(change[i]), "at": min(near)[1] if near else None})
+                    "change": _r(change[i]), "at": at, "also_near": also})
     return out
 
 
-def named_lines(marks: list[dict]) -> list[tuple[float, str]]:
-    """(Hz, name) of the lines a change can be named by: each mark, the 2nd and 3rd harmonics of the
-    forcing frequencies that are not shaft orders (2xBPFI), and their sidebands at 1X (BPFI-1X, BPFI+1X)."""
-    one_x = next((m["frequency_hz"] for m in marks if m["name"] == "1X"), None)
-    out = [(m["frequency_hz"], m["label"]) for m in marks]
+def name_of(hz: float, step_hz: float, names: list[tuple[float, str, int]]) -> tuple[str | None, list[str]]:
+    """The name of a line at ``hz`` on a grid of ``step_hz`` (``named_lines``), and the other names within
+    reach (one line and 0.5 %).
+
+    Names as close as the nearest (within half a line of it: the grid cannot tell them apart) go by the
+    simpler explanation: a shaft order (1X, 2X, 3X of any shaft the point sees) before another forcing
+    frequency, before a harmonic of one (2xBPFI, 3xBSF), before a 1X sideband; then the nearer. A shaft's
+    2X is a line of every machine; a bearing's third harmonic at the same place is the rarer claim.
+    """
+    near = sorted((abs(f - hz), rank, label) for f, label, rank in names if abs(f - hz) <= step_hz + MATCH_FRACTION * f)
+    if not near:
+        return None, []
+    closest = near[0][0]
+    best = min((x for x in near if x[0] - closest <= 0.5 * step_hz), key=lambda x: (x[1], x[0]))
+    also = []
+    for x in near:
+        if x is not best and x[2] not in also and x[2] != best[2]:
+            also.append(x[2])
+    return best[2], also
+
+
+def _is_order(name: str) -> bool:
+    return name.endswith("X") and name[:-1].isdigit()
+
+
+def named_lines(marks: list[dict]) -> list[tuple[float, str, int]]:
+    """(Hz, name, rank) of the lines a change can be named by: each mark (rank 0 for a shaft order, 1 for
+    another forcing frequency), the 2nd and 3rd harmonics of the forcing frequencies that are not shaft orders
+    (2xBPFI, rank 2), and their sidebands at the point's own 1X (BPFI-1X, BPFI+1X, rank 3)."""
+    one_x = next((m["frequency_hz"] for m in marks if m["label"] == "1X"), None)
+    out = [(m["frequency_hz"], m["label"], 0 if _is_order(m["name"]) else 1) for m in marks]
     for m in marks:
-        if m["name"].endswith("X") and m["name"][:-1].isdigit():
+        if _is_order(m["name"]):
             continue
-        out += [(k * m["frequency_hz"], f"{k}x{m['label']}") for k in (2, 3)]
+        out += [(k * m["frequency_hz"], f"{k}x{m['label']}", 2) for k in (2, 3)]
         if one_x:
-            out += [(m["frequency_hz"] - one_x, f"{m['label']}-1X"), (m["frequency_hz"] + one_x, f"{m['label']}+1X")]
+            out += [(m["frequency_hz"] - one_x, f"{m['label']}-1X", 3),
+                    (m["frequency_hz"] + one_x, f"{m['label']}+1X", 3)]
     return out
 
 
@@ -196,19 +236,42 @@ def _listed(r: dict, shown: _Shown | None = None) -> dict:
     return entry
 
 
+def _seen_shafts(store, reading_id: int, shaft: str | None) -> set[str] | None:
+    """The shafts a point on ``shaft`` sees (``Machine.shafts_seen_from``), from the machine file the reading
+    was diagnosed with; None when that file cannot be read or does not name the shaft."""
+    from ..common.errors import TellwaveError
+    from ..machine import load_machine
+
+    row = store.reading(reading_id)
+    if not shaft or row is None or not row.get("machine_file"):
+        return None
+    try:
+        machine = load_machine(row["machine_file"])
+    except TellwaveError:
+        return None
+    return machine.shafts_seen_from(shaft) if shaft in machine.shaft_speeds_hz else None
+
+
+def _after(rows: list[dict], repair) -> list[dict]:
+    """The rows taken after the day ``repair`` (a ``repairs.Repair``) was found: a reading of that day is the
+    as-found condition (``engine.trend.repairs``)."""
+    return rows if repair is None else [r for r in rows if r["taken_at"][:10] > repair.found_on]
+
+
 def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
-                    compare: tuple[int, int] | None = None, plots: bool = False,
+                    compare: tuple[int, int] | None = None, plots: bool = False, repair=None,
                     units: ShownUnits | None = None) -> dict:
     """Spectra over time at ``point``: the readings (with their compact spectra, or why none), the forcing
-    frequencies marked, the largest changes per line (first to last survey of the waterfall, or between the
-    two readings of ``compare``), and with ``plots`` the SVG figures. ``compare`` ids must be stored readings
-    of ``machine`` at ``point`` (a UsageError otherwise). ``units``: what ``shown`` and the figures use
-    (None: Hz and mm/s RMS)."""
+    frequencies marked, the largest changes per line (between the two readings of ``compare``, or from the
+    first survey of the waterfall after ``repair``, the latest repair that reset the point's baseline
+    (``repairs.reset_of``), to the latest: never across a repair), and with ``plots`` the SVG figures, the
+    surveys before the repair in grey. ``compare`` ids must be stored readings of ``machine`` at ``point``
+    (a UsageError otherwise). ``units``: what ``shown`` and the figures use (None: Hz and mm/s RMS)."""
     rows = _by_reading(store.spectra(machine, point))
     section: dict = {"point": point, "quantity": "velocity", "unit": "mm/s RMS", "readings": [],
                      "marks": [], "marks_from": None, "waterfall": None, "compare": None,
                      "without_spectrum": 0, "surveys_left_out": 0, "changes": [], "changes_from": None,
-                     "changes_to": None}
+                     "changes_to": None, "repair": None, "changes_why": None, "shafts_seen": None}
     if compare is not None:
         known = {r["id"]: r for r in rows}
         missing = [i for i in compare if i not in known]
@@ -228,9 +291,11 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
         return section
     latest = with_spectrum[-1]
     f_max = max(len(r["amplitudes"]) * r["step_hz"] for r in with_spectrum)
-    marks = marks_for(latest["forcing"], latest["shaft"], latest["at"], f_max)
+    seen = _seen_shafts(store, latest["id"], latest["shaft"])
+    marks = marks_for(latest["forcing"], latest["shaft"], latest["at"], f_max, seen)
     section.update(marks=[m | {"shown": {"frequency": worded.f(m["frequency_hz"], latest)}} for m in marks],
-                   marks_from={"id": latest["id"], "taken_at": latest["taken_at"]})
+                   marks_from={"id": latest["id"], "taken_at": latest["taken_at"]},
+                   shafts_seen=None if seen is None else sorted(seen))
 
     def changes(a, b):
         return [c | {"shown": {"frequency": worded.f(c["frequency_hz"], b), "before": worded.v(c["before"]),
@@ -243,12 +308,24 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
                               "svg": _overlay(point, a, b, marks, worded) if plots and both else None}
         section.update(changes=section["compare"]["changes"], changes_from=a["id"], changes_to=b["id"])
     else:
-        first = with_spectrum[0]
+        since = _after(with_spectrum, repair)
+        first = since[0] if since else None
+        if repair is not None:
+            section["repair"] = {"found_on": repair.found_on, "component": repair.component,
+                                 "fault_name": repair.fault_name,
+                                 "surveys_before": len(with_spectrum) - len(since), "surveys_after": len(since)}
+        words = f"the repair of {repair.component} found {repair.found_on}" if repair is not None else ""
+        if first is None:
+            section["changes_why"] = f"no survey with a spectrum after {words} yet"
+        elif first is latest:
+            section["changes_why"] = (f"one survey since {words}: the next one shows what changed" if repair
+                                      else "one survey: the next one shows what changed")
         section["waterfall"] = {
-            "surveys": len(with_spectrum), "first": first["id"], "last": latest["id"],
-            "changes": changes(first, latest) if first is not latest else [],
-            "svg": _waterfall(point, with_spectrum, marks, worded) if plots else None}
-        section.update(changes=section["waterfall"]["changes"], changes_from=first["id"], changes_to=latest["id"])
+            "surveys": len(with_spectrum), "first": None if first is None else first["id"], "last": latest["id"],
+            "changes": changes(first, latest) if first is not None and first is not latest else [],
+            "svg": _waterfall(point, with_spectrum, marks, worded, repair) if plots else None}
+        section.update(changes=section["waterfall"]["changes"], changes_from=None if first is None else first["id"],
+                       changes_to=latest["id"])
     return section
 
 
@@ -264,30 +341,45 @@ def _svg_marks(marks: list[dict], shown: _Shown, latest: dict):
 
 def drawn_to_hz(rows: list[dict], marks: list[dict]) -> float:
     """The highest frequency the figures draw: 12 orders of the point's shaft or 1.3 times its highest marked
-    forcing frequency, whichever is higher, within what is stored (the tables cover everything stored)."""
+    forcing frequency (of its own shaft, bearing, meshes and belts: another shaft's rotor bar pass would squeeze
+    the figure), whichever is higher, within what is stored (the tables cover everything stored)."""
     stored = max(float(_frequencies(r)[-1]) for r in rows)
-    one_x = next((m["frequency_hz"] for m in marks if m["name"] == "1X"), 0.0)
-    wanted = max(ORDERS_DRAWN * one_x, FORCING_MARGIN * max((m["frequency_hz"] for m in marks), default=0.0))
+    one_x = next((m["frequency_hz"] for m in marks if m["label"] == "1X"), 0.0)
+    wanted = max(ORDERS_DRAWN * one_x, FORCING_MARGIN * max((m["frequency_hz"] for m in marks
+                                                             if not m.get("seen_from")), default=0.0))
     return min(stored, wanted) if wanted > 0 else stored
 
 
-def _waterfall(point: str, rows: list[dict], marks: list[dict], shown: _Shown) -> str:
-    """The waterfall: the oldest survey at the top (the back), each later one lower and drawn over it."""
-    from ..report.svg import Plot, Series, render
+def _waterfall(point: str, rows: list[dict], marks: list[dict], shown: _Shown, repair=None) -> str:
+    """The waterfall: the oldest survey at the top (the back), each later one lower and drawn over it; the
+    surveys before ``repair`` in grey, below a dashed line naming the repair."""
+    from ..report.svg import Level, Plot, Series, render
 
     tallest = shown.v(max(float(np.max(r["amplitudes"])) for r in rows))
     rise = 0.6 * tallest if tallest > 0 else 1.0
     n = len(rows)
+    after = {r["id"] for r in _after(rows, repair)}
     series, ticks = [], []
     for k, r in enumerate(rows):                      # oldest first: drawn first, so later ones cover it
         offset = (n - 1 - k) * rise
+        before = r["id"] not in after
         x, y = shown.spectrum(r)
-        series.append(Series(x, y + offset, width=0.7, color="#1a1a1a" if k == n - 1 else "#2a5d8a", fill_to=offset))
+        series.append(Series(x, y + offset, width=0.7,
+                             color="#1a1a1a" if k == n - 1 else BEFORE_REPAIR if before else "#2a5d8a",
+                             fill_to=offset))
         ticks.append((offset, _when(r)[:10]))
     f_max = shown.f(drawn_to_hz(rows, marks), rows[-1])
+    repaired, levels = "", []
+    if repair is not None:
+        repaired = f"; grey: before the repair of {repair.component} found {repair.found_on}"
+        last_before = max((k for k, r in enumerate(rows) if r["id"] not in after), default=None)
+        if last_before is not None:           # a dashed line at the base of the last survey before the repair
+            levels.append(Level((n - 1 - last_before) * rise, f"repair {repair.found_on} ({repair.component}): "
+                                "the surveys from here up are before it"))
     plot = Plot(f"{point}: velocity spectra of {n} surveys, oldest at the back, each {rise:.3g} "
-                f"{shown.units.velocity_label(True)} above the next", f"frequency, {shown.about(rows)['axis']}", "",
-                series=series, marks=_svg_marks(marks, shown, rows[-1]), xlim=(0.0, f_max),
+                f"{shown.units.velocity_label(True)} above the next{repaired}",
+                f"frequency, {shown.about(rows)['axis']}", "",
+                series=series, marks=_svg_marks(marks, shown, rows[-1]), levels=levels, xlim=(0.0, f_max),
                 ylim=(0.0, (n - 1) * rise + 1.15 * tallest if tallest > 0 else n),
                 height=min(640, 160 + 26 * n), ytick_labels=ticks)
     return render(plot)

@@ -51,3 +51,24 @@ def test_the_next_route_says_what_the_site_found(looped):
                if f.get("site_record")]
     assert any(f["rule"] == "shaft.unbalance.radial-1x" and f["site_record"]["words"]
                == "at this site this rule was confirmed 1 of 1 times" for f in firings)
+
+
+def test_the_next_summary_names_the_repair_between_the_surveys(looped):
+    root, store = looped
+    out = root / "routes" / "month-05" / "route-reports"
+    doc = json.loads((out / "summary.json").read_text())
+    pump = next(m for m in doc["machines"] if m["machine"] == "RW-2 raw water pump")
+    # the fitters replaced pump_de on 2026-04-21 (month 4's findings.csv), between April's survey and May's
+    assert pump["change"]["repairs"] == [{"found_on": "2026-04-21", "component": "pump_de", "fault": "inner-race",
+                                          "fault_name": "inner-race defect"}]
+    words = f"since {pump['change']['since'][:10]} (repaired 2026-04-21: inner-race defect on pump_de)"
+    assert pump["change"]["since"].startswith("2026-04-") and words + ":" in (out / "summary.txt").read_text()
+    for fmt in ("md", "html"):
+        assert words in (out / f"summary.{fmt}").read_text().replace("\\_", "_"), fmt
+    # the top finding then is the chosen point's own April reading's
+    from engine.history.store import Store
+    with Store(store, create=False) as s:
+        april = [r for r in s.history("RW-2 raw water pump", pump["change"]["point"])
+                 if r["taken_at"] == pump["change"]["since"]]
+        top = s.top_hypothesis(april[0]["id"])
+    assert pump["change"]["top_then"].endswith(f"({round(100 * top['certainty'])} %)")

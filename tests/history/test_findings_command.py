@@ -173,3 +173,22 @@ def test_history_words_urgency_as_every_other_output_does(tmp_path, capsys):
     assert main(["history", PUMP, "--store", str(path), "--json"]) == 0
     (row,) = json.loads(capsys.readouterr().out)
     assert (row["urgency"], row["urgency_label"]) == ("plan-soon", "plan soon")
+
+
+def test_a_finding_added_before_the_survey_it_concerns_is_noted(store, tmp_path, capsys):
+    # repaired 2026-03-20, but the March survey (2026-03-12) is not stored yet: the finding can judge only
+    # February's reading, and says so, with what to do
+    csv = tmp_path / "f.csv"
+    csv.write_text(f"machine,date,component,fault\n{PUMP},2026-03-20,pump_de,inner-race\n")
+    capsys.readouterr()
+    assert main(["findings", "import", str(csv), "--store", store]) == 0
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and f"{csv}: line 2: no reading of {PUMP} after 2026-03-20 is stored yet" in err
+    assert "(the last taken 2026-02-12)" in err and "between 2026-02-12 and 2026-03-20" in err
+    # a finding by reading id, or one whose machine has a later reading, is no such case
+    with Store(store) as s:
+        s.add(dict(record(3, when="2026-04-12T08:30:00"), machine_file=MACHINE_FILE))
+    for argv in (["--machine", PUMP, "--date", "2026-03-21", "--fault", "outer-race"],
+                 ["--reading", "2", "--date", "2026-04-20", "--fault", "nothing-found"]):
+        assert main(["findings", "add", *argv, "--component", "pump_de", "--store", store]) == 0
+        assert capsys.readouterr().err == "", argv

@@ -80,3 +80,29 @@ def test_each_machine_links_to_its_trend_page(tmp_path):
     assert 'href="trends/rw-2-raw-water-pump.html"' in (out / "summary.html").read_text()
     assert "](trends/rw-2-raw-water-pump.html)" in (out / "summary.md").read_text()
     assert "trend: trends/rw-2-raw-water-pump.html" in (out / "summary.txt").read_text()
+
+
+def _one_point(n: int, when: str, point: str, velocity: float, certainty: float) -> dict:
+    rec = _record(n, when, {point: velocity})
+    rec["hypotheses"][0]["certainty"] = certainty
+    return rec
+
+
+def test_the_top_finding_then_is_the_points_own_and_a_repair_between_is_named(tmp_path):
+    # one reading per point, as a route takes them: P1H (at pump_de) 90 %, then M2H 64 % the same morning;
+    # the top finding then at P1H is P1H's own (90 %), not the survey's last reading's
+    with Store(tmp_path / "h.sqlite") as s:
+        p1 = s.add(_one_point(1, "2026-03-13T08:30:00", "P1H", 0.60, 0.90))
+        s.add(_one_point(2, "2026-03-13T08:34:00", "M2H", 2.00, 0.64))
+        now = {s.add(_one_point(3, "2026-04-12T08:30:00", "P1H", 0.66, 0.86)),
+               s.add(_one_point(4, "2026-04-12T08:34:00", "M2H", 2.10, 0.70))}
+        change = _change(s, "RW-2 raw water pump", now, ("P1A", "P1H"))
+        assert change["point"] == "P1H" and change["top_then"] == "inner-race defect on pump_de (90 %)"
+        assert change["repairs"] == []
+        # a repair found between the surveys is named; one on the day of the later survey is its as-found
+        # condition (engine.trend.repairs), so it is not between; nothing found repairs nothing
+        for day, fault in (("2026-03-19", "unbalance"), ("2026-04-12", "inner-race"), ("2026-03-20", "nothing-found")):
+            s.add_finding({"reading_id": p1, "component": "pump_de", "fault": fault, "found_on": day})
+        change = _change(s, "RW-2 raw water pump", now, ("P1A", "P1H"))
+        assert change["repairs"] == [{"found_on": "2026-03-19", "component": "pump_de", "fault": "unbalance",
+                                      "fault_name": "unbalance"}]

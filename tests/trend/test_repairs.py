@@ -18,7 +18,7 @@ from engine.history.store import Store
 from engine.machine import load_machine
 from engine.simulation import simulate, write_simulation
 from engine.trend.change import baseline_count
-from engine.trend.repairs import points_seeing, repairs_of
+from engine.trend.repairs import points_reset, points_seeing, repairs_of
 from engine.trend.report import trend_from_rows
 
 from support import CASES
@@ -68,9 +68,11 @@ def test_a_repair_resets_the_baseline_at_the_points_that_see_the_bearing(store, 
         return [r["indicators"]["velocity_rms_mm_s"] for r in rows
                 if r["point"] == point and (after is None or r["taken_at"][:10] > after)]
 
-    p1, p2 = points["P1H"], points["P2H"]              # P1H sits at pump_de; P2H at pump_nde
+    p1, p2 = points["P1H"], points["P2H"]              # P1H sits at pump_de; P2H at pump_nde, on the same shaft
     assert p1["reset"]["found_on"] == REPAIRED and p1["reset"]["readings_before"] == 4
-    assert p1["reset"]["readings_after"] == 4 and p2["reset"] is None
+    assert p1["reset"]["readings_after"] == 4
+    # the bearing's repair reset every point of its shaft: the rotor came out, and P2H read the defect too
+    assert (p2["reset"]["found_on"], p2["reset"]["readings_before"], p2["reset"]["readings_after"]) == (REPAIRED, 4, 4)
     after = velocities("P1H", REPAIRED)
     v1 = next(i for i in p1["indicators"] if i["name"] == "velocity_rms_mm_s")
     assert v1["readings"] == 4 and v1["readings_before_repair"] == 4
@@ -84,8 +86,9 @@ def test_a_repair_resets_the_baseline_at_the_points_that_see_the_bearing(store, 
     assert bpfi["last_before_repair"] == pytest.approx(before_bpfi[-1], abs=1e-3)
     assert bpfi["baseline"] < min(b for b in before_bpfi[1:] if b is not None)
     v2 = next(i for i in p2["indicators"] if i["name"] == "velocity_rms_mm_s")
-    assert v2["readings"] == 8 and v2["readings_before_repair"] == 0
-    assert v2["baseline"] == pytest.approx(np.median(velocities("P2H")[:baseline_count(8)]), abs=1e-4)
+    assert v2["readings"] == 4 and v2["readings_before_repair"] == 4
+    assert v2["baseline"] == pytest.approx(np.median(velocities("P2H", REPAIRED)[:baseline_count(4)]), abs=1e-4)
+
 
 
 def test_every_format_shows_the_findings_beside_their_points(store, capsys, tmp_path):
@@ -94,6 +97,7 @@ def test_every_format_shows_the_findings_beside_their_points(store, capsys, tmp_
     assert (bearing["found_on"], bearing["component"], bearing["fault_name"], bearing["stage"],
             bearing["work_order"]) == (REPAIRED, "pump_de", "inner-race defect", 3, "WO-41")
     assert bearing["resets_baseline"] and bearing["points"] == ["P1A", "P1H"]
+    assert bearing["reset_points"] == ["P1A", "P1H", "P2H"]           # every point on the pump shaft
     assert bearing["judged"] == [f"{REPAIRED}T08:00:00"]
     assert not impeller["resets_baseline"] and impeller["fault_name"] == "nothing found"
     assert impeller["points"] == ["P1A", "P1H", "P2H"]        # every point on the pump shaft
@@ -107,7 +111,7 @@ def test_every_format_shows_the_findings_beside_their_points(store, capsys, tmp_
     html = (tmp_path / "t.html").read_text()
     svgs = html.split("<svg")[1:]
     assert svgs and all("found 2026-06-12" in svg for svg in svgs)      # a marker in every plot of a point
-    assert sum(f"found {REPAIRED}" in svg for svg in svgs) == sum("P1H:" in svg for svg in svgs) > 0
+    assert sum(f"found {REPAIRED}" in svg for svg in svgs) == sum(("P1H:" in svg or "P2H:" in svg) for svg in svgs) > 0
 
 
 def test_a_nothing_found_finding_resets_nothing(store, capsys):
@@ -159,6 +163,18 @@ def test_which_points_see_a_component(component, points):
     assert (None if seen is None else tuple(sorted(seen))) == points
 
 
+@pytest.mark.parametrize("component, points", [
+    ("pump_de", ("P1A", "P1H", "P2H")),          # a bearing: every point on its shaft (the rotor came out)
+    ("motor_de", ("M1H", "M2A", "M2H", "M2V")),  # the motor shaft's points; the pump's stay (beyond the coupling)
+    ("impeller", ("P1A", "P1H", "P2H")),         # a rotor: as the points that see it
+    ("gearbox", None),                           # not in the machine file: not known, every point
+])
+def test_which_points_a_repair_resets(component, points):
+    # the demo pump's own machine file (invented plant data) names the points and their shafts
+    reset = points_reset(load_machine(PUMP_FILE), component)
+    assert (None if reset is None else tuple(sorted(reset))) == points
+
+
 def test_a_diagnosis_with_the_store_trends_from_the_repair_on(store, tmp_path, capsys):
     import shutil
     copy = tmp_path / "copy.sqlite"
@@ -173,6 +189,6 @@ def test_a_diagnosis_with_the_store_trends_from_the_repair_on(store, tmp_path, c
     doc = json.loads(capsys.readouterr().out)
     points = {p["point"]: p for p in doc["trend"]["points"]}
     assert points["P1H"]["reset"]["found_on"] == REPAIRED and points["P1H"]["reset"]["readings_after"] == 5
-    assert points["P2H"]["reset"] is None and points["P2H"]["readings"] == 9
+    assert points["P2H"]["reset"]["found_on"] == REPAIRED and points["P2H"]["reset"]["readings_after"] == 5
     assert [f["found_on"] for f in points["P1H"]["findings"]] == [REPAIRED, "2026-06-12"]
     jsonschema.validate(doc, load_schema("report.schema.json"))

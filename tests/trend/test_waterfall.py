@@ -172,3 +172,90 @@ def test_a_long_history_shows_the_latest_surveys(tmp_path):
     assert len(section["readings"]) == MOST_SURVEYS and section["surveys_left_out"] == 2
     assert section["readings"][0]["taken_at"].startswith("2026-01-03")        # the two oldest are left out
     assert section["waterfall"]["svg"].count("<polyline") == MOST_SURVEYS
+
+
+def _repaired_store(tmp_path, found_on: str, after: tuple[float, ...] = (0.01, 0.02)):
+    """Two faulty surveys (BPFI 0.16 mm/s), the bearing replaced on ``found_on``, then ``after``."""
+    path = tmp_path / "r.sqlite"
+    with Store(path) as s:
+        ids = [s.add(_record(n, n, bpfi)) for n, bpfi in enumerate((0.16, 0.16, *after), start=2)]
+        s.add_finding({"reading_id": ids[1], "component": "pump_de", "fault": "inner-race", "found_on": found_on})
+    return path, ids
+
+
+def test_the_largest_changes_never_span_a_repair(tmp_path, capsys):
+    path, ids = _repaired_store(tmp_path, "2026-03-20")
+    with Store(path, create=False) as s:
+        doc = trend_document(s, PUMP, point="P1H", waterfall=True, plots=True, names={})
+    section = doc["points"][0]["spectra"]
+    # across the repair BPFI fell 0.16 -> 0.02; since it (April to May) it rose 0.01 -> 0.02
+    assert (section["changes_from"], section["changes_to"]) == (ids[2], ids[3])
+    bpfi = next(c for c in section["changes"] if c["at"] == "BPFI")
+    assert (bpfi["before"], bpfi["after"]) == (pytest.approx(0.01), pytest.approx(0.02))
+    assert section["repair"]["found_on"] == "2026-03-20" and section["repair"]["surveys_before"] == 2
+    svg = section["waterfall"]["svg"]
+    assert "repair 2026-03-20 (pump_de)" in svg and "grey: before the repair of pump_de" in svg
+    assert svg.count('stroke="#a8a8a8"') == 2                  # the two surveys before it drawn grey
+    for fmt in ("text", "md", "html"):
+        assert "Repair of pump_de found 2026-03-20".lower() in render(doc, fmt, "trend").lower().replace("\\_", "_")
+    jsonschema.validate(json.loads(render(doc, "json", "trend")), load_schema("trend.schema.json"))
+
+
+@pytest.mark.parametrize("after, why", [((0.01,), "one survey since the repair of pump_de found 2026-03-20"),
+                                        ((), "no survey with a spectrum after the repair of pump_de found")])
+def test_too_few_surveys_after_a_repair_list_no_change_and_say_why(tmp_path, after, why):
+    path, _ = _repaired_store(tmp_path, "2026-03-20", after)
+    with Store(path, create=False) as s:
+        doc = trend_document(s, PUMP, point="P1H", waterfall=True, names={})
+    section = doc["points"][0]["spectra"]
+    assert section["changes"] == [] and section["changes_why"].startswith(why)
+    assert "no largest changes: " + why in render(doc, "text", "trend")
+
+
+# a point on a gearbox's output shaft (invented demo values): the input shaft is seen through the mesh, the
+# pump through a coupling at the same speed
+GEARED = [{"name": "1X", "component": "gout", "family": "shaft", "shaft": "gout", "frequency_hz": 7.69},
+          {"name": "1X", "component": "pump", "family": "shaft", "shaft": "pump", "frequency_hz": 7.69},
+          {"name": "1X", "component": "gin", "family": "shaft", "shaft": "gin", "frequency_hz": 24.68},
+          {"name": "1X", "component": "far", "family": "shaft", "shaft": "far", "frequency_hz": 3.1},
+          {"name": "BSF", "component": "gout_b", "family": "bearing", "shaft": "gout", "frequency_hz": 16.33},
+          {"name": "vane pass", "component": "impeller", "family": "flow", "shaft": "pump", "frequency_hz": 38.43}]
+
+
+def test_the_marks_name_the_orders_of_every_shaft_the_point_sees():
+    marks = marks_for(GEARED, "gout", "gout_b", 1000.0, {"gout", "gin", "pump"})
+    labels = [m["label"] for m in marks]
+    assert {"1X", "2X", "3X", "1X gin", "2X gin", "3X gin", "vane pass", "BSF"} == set(labels)
+    assert not any("pump" in x or "far" in x for x in labels)    # same speed as 1X: one line; far: not seen
+    assert [m["label"] for m in marks_for(GEARED, "gout", "gout_b", 1000.0)] == ["1X", "2X", "BSF", "3X"]
+    # another shaft's lines are named but do not stretch the figure: 12 orders of the point's 1X (92 Hz)
+    # are drawn, not 1.3 x the vane pass of the pump (50 Hz) nor 1.3 x 3X gin (96 Hz)
+    from engine.trend.waterfall import drawn_to_hz
+    rows = [{"amplitudes": np.ones(2000), "step_hz": 0.5, "resolution_hz": 0.5}]
+    assert drawn_to_hz(rows, marks) == pytest.approx(12 * 7.69)
+
+
+def test_a_line_two_names_reach_goes_to_the_shaft_order_before_a_bearing_multiple():
+    from engine.trend.waterfall import name_of, named_lines
+
+    names = named_lines(marks_for(GEARED, "gout", "gout_b", 1000.0, {"gout", "gin"}))
+    # 49.00 Hz on a 1 Hz grid: 3 x BSF (48.99) and 2X of the input shaft (49.36) lie within half a line of
+    # each other, so the grid cannot tell them apart: the shaft order names it, the other is listed
+    at, also = name_of(49.0, 1.0, names)
+    assert at == "2X gin" and "3xBSF" in also
+    # on a fine grid (0.1 Hz) 3 x BSF is the nearer by more than half a line: the nearer names it
+    assert name_of(49.0, 0.1, names)[0] == "3xBSF"
+    assert name_of(200.0, 1.0, names) == (None, [])
+
+
+def test_the_shafts_seen_come_from_the_machine_file(tmp_path):
+    from support import CASES
+
+    with Store(tmp_path / "h.sqlite") as s:
+        for month in (1, 2):
+            rec = _record(month, month, 0.01)
+            rec["machine_file"] = str(CASES / "machines" / "rw2-raw-water-pump.yaml")
+            s.add(rec)
+        section = spectra_section(s, PUMP, "P1H")
+    # the demo pump (invented plant data): the pump shaft is coupled to the motor's
+    assert section["shafts_seen"] == ["motor", "pump"]
