@@ -32,20 +32,6 @@ SPREAD_SIZE = 0.16               # their RMS size, times the stage's impact size
 # above radial is misalignment's sign). 1X itself is left to the residual unbalance already there: a
 # second 1X at a random phase would cancel it at some seeds, an artefact no bearing makes.
 CLEARANCE_AXIAL_SHARE = 0.3
-# The defect's impacts are contact forces, and a rolling contact carries its load along the contact
-# line: radially in a bearing with no contact angle, with an axial part sin(alpha) of it in one with
-# contact angle alpha (Harris & Kotzalas, Rolling Bearing Analysis, 5th ed., ch. on load distribution,
-# from memory). An axial sensor sees the rest through the housing only, weakly; the same share as the
-# clearance's is kept as the least. Before, every direction took the impacts alike, and the low-frequency
-# content of the displacement-shaped rings (1X and 2X of the 1X-modulated train) stood as high axially as
-# radially: a stage-4 inner race read as angular misalignment (axial 1X and 2X above radial).
-IMPACT_AXIAL_LEAST = CLEARANCE_AXIAL_SHARE
-
-
-def impact_axial_share(contact_angle_deg: float) -> float:
-    """The share of a bearing's defect impacts an axial sensor at it sees: sin(contact angle), at least
-    ``IMPACT_AXIAL_LEAST``."""
-    return max(IMPACT_AXIAL_LEAST, float(np.sin(np.radians(contact_angle_deg))))
 SHAFT_AWAY = 0.15    # at a point on the same shaft but another bearing
 MACHINE_AWAY = 0.03  # at a point on another shaft
 
@@ -54,16 +40,18 @@ LOW_CUT_OF_RATE = 0.5    # the impacts' content is kept from half the defect rat
 
 
 def _below_rate_cut(x: np.ndarray, fs: float, rate_hz: float) -> np.ndarray:
-    """``x`` without its content below half the defect rate (a raised-cosine edge one octave wide).
+    """``x`` with nothing below a quarter of the defect rate and all from half of it up (a raised-cosine
+    edge one octave wide between).
 
     The rings are displacement-shaped: flat in acceleration below the resonance, as if the structure
     were mass-like down to 0 Hz. An accelerometer sees an impact's force far below the resonance
     (f / f_res)^2 weaker (accelerance = -omega^2 x receptance of a single degree of freedom; Ewins,
     Modal Testing, ch. 2, from memory): at the shaft orders a few kHz resonance leaves 1e-4 of the
     ring's level. Kept flat, the 1X-modulated train put its own 1X and 2X at a random phase into every
-    direction, cancelling the residual 1X in one direction at some seeds; a stage-4 inner race read as
-    angular misalignment (axial 1X above radial). Its content is kept from half the defect rate up, where
-    the defect line in the velocity spectrum (the stage-3 sign) and its 1X sidebands stand.
+    direction alike, cancelling the residual 1X in one direction at some seeds: a stage-4 inner race read
+    as angular misalignment (axial 1X above radial). An inner race's load zone shows instead as sidebands
+    at BPFI +- 1X (McFadden & Smith 1984); the content is kept from half the defect rate up, where the
+    defect line in the velocity spectrum (the stage-3 sign) and those sidebands stand.
     """
     edge_hz = LOW_CUT_OF_RATE * rate_hz
     if edge_hz <= 0:
@@ -104,14 +92,12 @@ def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | 
         for k in range(2, 6):
             clearance += s.shaft_tone(rates.shaft, k, 0.4 / k, s.rng.uniform(0, 6.3))
     points_at = {p.at for p in s.machine.points}
-    axial_share = impact_axial_share(next(b.contact_angle_deg for b in s.machine.bearings if b.id == bearing))
 
     def add(out: np.ndarray, point: Point) -> None:
         near = s.near(point)
         at_bearing = point.at == bearing or (bearing not in points_at and near)
-        axial = point.direction == "axial"
-        signal = (axial_share if axial else 1.0) * x + (CLEARANCE_AXIAL_SHARE if axial else 1.0) * clearance
-        out += signal * (1.0 if at_bearing else SHAFT_AWAY if near else MACHINE_AWAY)
+        share = CLEARANCE_AXIAL_SHARE if point.direction == "axial" else 1.0
+        out += (x + share * clearance) * (1.0 if at_bearing else SHAFT_AWAY if near else MACHINE_AWAY)
     return Part(add, {"impact_times_s": times, "impact_rate_hz": rate_hz, "modulation_hz": mod_hz})
 
 

@@ -24,7 +24,7 @@ from engine.evidence import extract_evidence
 from engine.machine import load_machine
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate
-from engine.simulation.bearings import _below_rate_cut, impact_axial_share
+from engine.simulation.bearings import _below_rate_cut
 
 from support import CASES, TEST_MACHINES
 
@@ -155,12 +155,6 @@ def test_impacts_below_half_the_defect_rate_are_cut():
     assert spectrum[200] == pytest.approx(1.0, abs=1e-6)   # the rate itself is kept whole
 
 
-@pytest.mark.parametrize("angle_deg, share", [(0.0, 0.3), (15.0, 0.3), (40.0, 0.6428)])
-def test_axial_share_of_a_bearing_s_impacts(angle_deg, share):
-    # sin 40 deg = 0.6428 (trigonometric table); below sin^-1 0.3 = 17.5 deg the housing's least share holds
-    assert impact_axial_share(angle_deg) == pytest.approx(share, abs=1e-4)
-
-
 @pytest.mark.parametrize("seed, scale, fs", [(1, 1.0, 25600.0), (2, 0.85, 12800.0), (2, 1.0, 25600.0)])
 def test_a_stage_4_inner_race_is_not_called_misalignment(reasoner, seed, scale, fs):
     # the three stage-bench readings that called angular misalignment on RW-2's coupling at 0.65-0.72
@@ -169,6 +163,7 @@ def test_a_stage_4_inner_race_is_not_called_misalignment(reasoner, seed, scale, 
     result = reasoner.reason(facts)
     assert _certainty(result, "inner-race", "pump_de") >= CONFIDENT, _listing(result)
     assert _certainty(result, "misalignment-angular", "coupling") < CONFIDENT, _listing(result)
-    # the defect's 1X is mostly radial: axial 1X at the bearing stays under radial 1X
+    # with no random-phase 1X of its own the defect leaves the residual 1X alone: axial 1X at the bearing
+    # stays under radial 1X, as the background has it (axial 0.3 of radial 0.6 mm/s)
     ratio = next(f for f in facts if f["kind"] == "direction_ratio" and f["location"] == "pump_de")
-    assert ratio["axial_1x_to_radial"] < 1.0
+    assert ratio["axial_1x_to_radial"] < 0.6
