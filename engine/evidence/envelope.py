@@ -105,7 +105,8 @@ def _leave_shaft_combs(ses, lines, speeds_hz, defects, all_found) -> None:
     BSF of a bearing two gear stages away). A family whose every line is an
     order of such a shaft is explained by that shaft (the smaller set of
     causes covers its lines: parsimonious covering, Peng & Reggia 1990),
-    unless its rate is itself an order of that shaft (then its lines are both).
+    unless its rate is itself an order of that shaft and its lines stand
+    above the comb's other orders (``_above_comb``: then its lines are both).
     """
     combed = _combed_speeds(ses, lines, speeds_hz)
     if not combed:
@@ -114,9 +115,46 @@ def _leave_shaft_combs(ses, lines, speeds_hz, defects, all_found) -> None:
         if not found:
             continue
         for hz in combed:
-            if not _on_shaft_order(ses, rate, hz) and all(_on_shaft_order(ses, p.freq_hz, hz) for p in found.values()):
+            if not all(_on_shaft_order(ses, p.freq_hz, hz) for p in found.values()):
+                continue
+            if not _on_shaft_order(ses, rate, hz) or not _above_comb(ses, lines, hz, rate, found):
                 all_found[t] = {}
                 break
+
+
+ABOVE_COMB = 2.0    # a family on a comb's orders is its own only when its lines stand 6 dB over the comb's others
+
+
+def _above_comb(ses, lines, shaft_hz: float, rate_hz: float, found) -> bool:
+    """Whether a family whose rate is an order of a combed shaft stands above the comb's other orders.
+
+    A rate within a line or two of an order of the shaft (an output bearing's
+    BPFO at 2.02 x a faster shaft's speed) puts every line on the comb: the
+    comb alone explains them unless they stand higher than the orders the rate
+    does not reach (a second periodic source adds to the lines it shares, and
+    a once-per-turn impulse train's comb falls off smoothly with order: Randall
+    2011, Vibration-based Condition Monitoring, section 3.6). 6 dB over the
+    median of the other orders' lines, within the family's span, is common
+    practice for a line that clearly stands out; with fewer than three other
+    orders to compare the family keeps its lines.
+    """
+    step = max(1, round(rate_hz / shaft_hz))
+    if step < 2:
+        return True
+    index, freq, _ = lines
+    top = max(p.freq_hz for p in found.values())
+    others = []
+    for k in range(1, int(top / shaft_hz) + 2):
+        if k % step == 0 or not len(freq):
+            continue
+        near = np.abs(freq - k * shaft_hz)
+        j = int(np.argmin(near))
+        if near[j] <= tolerance_hz(ses, k * shaft_hz, SHAFT_ORDER_TOLERANCE):
+            others.append(float(ses.amplitude[index[j]]))
+    if len(others) < 3:
+        return True
+    own = float(np.median([p.amplitude for p in found.values()]))
+    return own >= ABOVE_COMB * float(np.median(others))
 
 
 TIE = 0.01              # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)

@@ -113,6 +113,8 @@ def sideband_family(rc: Analysis) -> list[dict]:
                 "count": found, "pairs": len(orders_low & orders_high),
                 "max_order": max(orders_low | orders_high),
                 "sideband_to_carrier_db": db(float(np.mean(ratios))) if ratios else 0.0,
+                # the same as an amplitude ratio, so a rule can compare two families by a factor
+                "sideband_to_carrier": float(np.mean(ratios)) if ratios else 0.0,
                 SIGNS: signs,
             })
     return out

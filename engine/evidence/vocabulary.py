@@ -106,6 +106,7 @@ FACTS: dict[str, dict[str, F]] = {
         "pairs": F("integer", "orders found on both sides", ""),
         "max_order": F("integer", "highest sideband order found", ""),
         "sideband_to_carrier_db": F("number", "mean sideband over carrier, dB", "dB"),
+        "sideband_to_carrier": F("number", "mean sideband over carrier, amplitude ratio (0 when no carrier)", ""),
     },
     "envelope_tone": CHANNEL_FIELDS | {
         "defect": F("string", "BPFO, BPFI, BSF or FTF", ""),

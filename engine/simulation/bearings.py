@@ -36,6 +36,33 @@ SHAFT_AWAY = 0.15    # at a point on the same shaft but another bearing
 MACHINE_AWAY = 0.03  # at a point on another shaft
 
 
+LOW_CUT_OF_RATE = 0.5    # the impacts' content is kept from half the defect rate up
+
+
+def _below_rate_cut(x: np.ndarray, fs: float, rate_hz: float) -> np.ndarray:
+    """``x`` with nothing below a quarter of the defect rate and all from half of it up (a raised-cosine
+    edge one octave wide between).
+
+    The rings are displacement-shaped: flat in acceleration below the resonance, as if the structure
+    were mass-like down to 0 Hz. An accelerometer sees an impact's force far below the resonance
+    (f / f_res)^2 weaker (accelerance = -omega^2 x receptance of a single degree of freedom; Ewins,
+    Modal Testing, ch. 2, from memory): at the shaft orders a few kHz resonance leaves 1e-4 of the
+    ring's level. Kept flat, the 1X-modulated train put its own 1X and 2X at a random phase into every
+    direction alike, cancelling the residual 1X in one direction at some seeds: a stage-4 inner race read
+    as angular misalignment (axial 1X above radial). An inner race's load zone shows instead as sidebands
+    at BPFI +- 1X (McFadden & Smith 1984); the content is kept from half the defect rate up, where the
+    defect line in the velocity spectrum (the stage-3 sign) and those sidebands stand.
+    """
+    edge_hz = LOW_CUT_OF_RATE * rate_hz
+    if edge_hz <= 0:
+        return x
+    spectrum = np.fft.rfft(x)
+    f = np.fft.rfftfreq(len(x), 1.0 / fs)
+    gain = np.clip(np.log2(np.maximum(f, 1e-12) / (edge_hz / 2)), 0.0, 1.0)   # 0 below edge/2, 1 above edge
+    spectrum *= 0.5 - 0.5 * np.cos(np.pi * gain)
+    return np.fft.irfft(spectrum, len(x))
+
+
 def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | None, depth: float,
             size_factor: float = 1.0, then=None) -> Part:
     """Impacts at ``rate_hz`` modulated to ``depth`` at ``mod_hz``; ``then(rates, x)`` adds more."""
@@ -52,7 +79,7 @@ def _defect(s: Scene, bearing: str, stage: int, rate_hz: float, mod_hz: float | 
         amplitudes *= (1 - depth) + depth * load
     amplitudes *= 1 + 0.1 * s.rng.standard_normal(len(times))
     ring = resonance_ring(s.fs, s.resonance_hz, damping=0.04, response=s.ring_response)
-    x = impact_signal(times, amplitudes, s.fs, s.n, ring)
+    x = _below_rate_cut(impact_signal(times, amplitudes, s.fs, s.n, ring), s.fs, rate_hz)
     if then is not None:
         x += then(rates)
     if stage == 4:  # late stage: damage spread round the race, the floor rises (1X harmonics below)

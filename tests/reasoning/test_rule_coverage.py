@@ -35,7 +35,7 @@ pytestmark = pytest.mark.slow
 
 MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "machines/bw1-backwash-blower.yaml",
             "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml",
-            "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml"}
+            "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml", "gc1": TEST_MACHINES / "gc1-grit-conveyor-drive.yaml"}
 
 @functools.cache
 def _machine(key: str):
@@ -207,6 +207,9 @@ SIMULATED = [
     ("belt fan, rotating looseness at the fan", "ef4",
      lambda: as_reading(simulate(_machine("ef4"), "looseness-rotating", "fan", 3, None, 25600.0, 4.0, 1)),
      "belt.sheave-misalignment.against-half-orders"),
+    ("two gears on one shaft, the second stage's tooth damaged", "gc1",
+     lambda: as_reading(simulate(_machine("gc1"), "gear-tooth", "second_stage", 2, None, 25600.0, 4.0, 0)),
+     "gear.tooth.sister-mesh"),
 ]
 
 def _fired(reasoning) -> set[str]:
