@@ -5,7 +5,9 @@ channel at the alarm's point, the measured value is the overall level of the
 analysis, or the RMS of the analysed Hann spectrum in the band's ranges with
 the window's noise-bandwidth correction (``analysis.bands``). An alarm is
 ``danger`` at or above its danger level, ``alert`` at or above its alert
-level, else ``within``. Alarms never touch the reasoning or its certainty.
+level, else ``within``. A band that reaches past the reading's Fmax is measured
+up to Fmax only, and says so (``measured_to_hz``); one wholly past it has no
+value. Alarms never touch the reasoning or its certainty.
 """
 
 from __future__ import annotations
@@ -47,6 +49,9 @@ def judge_alarms(analysis: Analysis, untrusted=()) -> tuple[dict, ...]:
                 continue
             ranges = band_ranges_hz(alarm, analysis.machine, analysis.speeds_hz, ch.spectrum.resolution_hz)
             value = None if ch.name in untrusted else _value(alarm, ch, ranges)
+            fmax = ch.spectrum.fmax_hz
+            # a band reaching past Fmax is measured up to Fmax only: its value says nothing of the rest
+            short = value is not None and any(hi > fmax for _, hi in ranges)
             out.append({
                 "point": alarm.point, "channel": ch.name, "band": alarm.band, "quantity": alarm.quantity,
                 "unit": alarm.unit, "indicator": alarm.indicator,
@@ -57,6 +62,7 @@ def judge_alarms(analysis: Analysis, untrusted=()) -> tuple[dict, ...]:
                     "scale not trusted" if ch.name in untrusted else "band above the reading's Fmax"
                     if ranges else "no level of this quantity"),
                 "source": alarm.source, "set_at": alarm.where,
+                "measured_to_hz": round(fmax, 3) if short else None,
             })
     return tuple(out)
 

@@ -26,7 +26,7 @@ STAGES = {
     "history": 7, "trend": 7,
     "pipeline": 8, "planner": 8,
     "demo": 9, "route": 9,
-    "cli": 10, "__init__": 10, "__main__": 10,
+    "cli": 10, "__init__": 10, "__main__": 10, "start": 10,
 }
 
 

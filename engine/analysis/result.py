@@ -25,6 +25,7 @@ from ..machine import Machine, Point
 from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_list, rates_at, speed_limits
 from ..readings import Channel, QualityIssue, Reading, describe_issue
 from ..readings.length import FMAX_FACTOR
+from ..readings.quality import corrupted
 from ._fft import next_fast_len
 from .envelope import band_from_spectrum, whitened_spectrum
 from .impacts import ImpactTrain, impact_train
@@ -127,6 +128,8 @@ class Analysis:
     speed_limits: SpeedLimits | None = None  # what the machine's drive allows the speed shaft, when it says
     phase_1x: tuple = ()                   # the reading's stated 1X phase readings (``PhaseReading``), handed on
     stated_shaft_rpm: float | None = None  # the stated driver's speed carried to the speed shaft by the ratios
+    left_out: tuple[str, ...] = ()         # channels of the reading not analysed (a corrupting quality issue)
+    channel_points: Mapping[str, str] = field(default_factory=dict)   # every channel of the reading -> its point
 
     @property
     def duration_s(self) -> float:
@@ -409,10 +412,13 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     """
     fs = reading.fs_hz
     points: dict[str | None, Point] = {p.id: p for p in machine.points}   # looked up by a channel's point, or None
-    usable = [ch for ch in reading.channels if not any(q.blocking for q in reading.issues_for(ch.name))]
-    if not usable:
+    analysable = [ch for ch in reading.channels if not any(q.blocking for q in reading.issues_for(ch.name))]
+    if not analysable:
         why = "; ".join(f"{q.channel}: {describe_issue(q)}" for q in reading.quality if q.blocking)
         raise ReadingError(f"no channel can be analysed ({why})", path=reading.source)
+    # a clipped channel or one with dropouts is left out while another channel is free of every corrupting
+    # issue, so one bad sensor does not spoil the rest of the reading (readings/quality.py, CORRUPTING_ISSUES)
+    usable = [ch for ch in analysable if not corrupted(reading.issues_for(ch.name))] or analysable
     accel = {ch.name: _to_acceleration(ch, fs) for ch in usable}
     spectra, iso = {}, {}
     for name, a in accel.items():          # each FFT is dropped as soon as its spectrum and levels are out
@@ -476,4 +482,6 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
                     MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels),
                     reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check),
                     speed_limits(machine, shaft), tuple(reading.phase_1x),
-                    stated[shaft] * 60 if reading.speed_rpm else None)
+                    stated[shaft] * 60 if reading.speed_rpm else None,
+                    tuple(ch.name for ch in reading.channels if ch.name not in {c.name for c in usable}),
+                    MappingProxyType({ch.name: ch.point or "" for ch in reading.channels}))

@@ -106,7 +106,19 @@ def _tolerant_streams() -> None:
 
 def main(argv=None) -> int:
     """Run ``tellwave`` with ``argv``; the exit code. A user's error is one line on stderr with
-    its class's exit code, never a traceback."""
+    its class's exit code, never a traceback; Ctrl-C at any moment (the parser's imports included)
+    prints ``tellwave: interrupted`` and gives 130."""
+    try:
+        return _main(argv)
+    except KeyboardInterrupt:
+        import signal
+
+        signal.signal(signal.SIGINT, signal.SIG_IGN)      # leaving: a second Ctrl-C changes nothing
+        print("tellwave: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
+
+
+def _main(argv) -> int:
     from ..common.escape import one_line
 
     _return_large_arrays_to_the_system()

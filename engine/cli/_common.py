@@ -190,14 +190,32 @@ def add_alarms_option(p) -> None:
                    help="site alarm file: limits per point by machine name, over the machine file's (repeatable)")
 
 
-def site_alarms(args) -> dict:
-    """The ``--alarms`` files loaded and checked (machine name -> alarms), before any work."""
-    from ..machine.alarms import load_alarm_file
+def site_alarms(args, machines=None) -> dict:
+    """The ``--alarms`` files loaded and checked (machine name -> alarms), before any work; with
+    ``machines`` (the names of the run's machines) each file must name one of them, and no near miss."""
+    from ..machine.alarms import check_alarm_machines, load_alarm_file
 
     out: dict = {}
-    for path in getattr(args, "alarms", None) or []:
+    files = getattr(args, "alarms", None) or []
+    for path in files:
         out.update(load_alarm_file(path))
+    if machines is not None:
+        check_alarm_machines(files, machines)
     return out
+
+
+def route_machine_names(route) -> list[str]:
+    """The names of the machines of ``route`` whose files load (one that does not fails its readings)."""
+    from ..common.errors import TellwaveError
+    from ..machine import load_machine
+
+    names = []
+    for file in sorted({t.machine_file for t in route.tasks if t.machine_file}):
+        try:
+            names.append(load_machine(file).name)
+        except TellwaveError:
+            pass
+    return names
 
 
 def reading_options(args) -> dict:

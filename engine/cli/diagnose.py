@@ -17,6 +17,7 @@ from ._common import (
     rulebook,
     say,
     shown_units,
+    site_alarms,
 )
 
 
@@ -68,7 +69,9 @@ def run(args) -> int:
         check_store_folder(args.store)
     from ..machine.alarms import with_site_alarms
 
-    machine = with_site_alarms(load_machine(args.machine), args.alarms or ())
+    machine = load_machine(args.machine)
+    site_alarms(args, [machine.name])          # each file names this machine (a misspelt name is an error)
+    machine = with_site_alarms(machine, args.alarms or ())
     rules = rulebook(args)
     reasoner = Reasoner(rules)
     units = shown_units(args, rules.units)

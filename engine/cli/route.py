@@ -41,7 +41,7 @@ def run(args) -> int:
     from ..route import load_folder, load_route, route_summary, run_route, summary_paths
     from ..route.runner import check_outputs, trend_paths
     from ..trend import trend_document
-    from ._common import input_files, rulebook, shown_units, site_alarms
+    from ._common import input_files, route_machine_names, rulebook, shown_units, site_alarms
     from ._store import check_store_folder, open_store
 
     check_store_folder(args.store)                      # a mistyped store folder stops here, before any work
@@ -61,7 +61,7 @@ def run(args) -> int:
         route = load_route(source)
     out = Path(args.out) if args.out else source.parent / f"{source.stem}-reports"
     inputs = known_inputs(input_files(args, route))
-    site_alarms(args)                                   # a bad alarm file stops here, before any work
+    site_alarms(args, route_machine_names(route))       # a bad alarm file stops here, before any work
     check_outputs(route, out, args.format, inputs)      # before the store is opened (run_route checks again)
     with open_store(args) as store:
         try:

@@ -424,6 +424,9 @@ def _describe(err: jsonschema.ValidationError) -> str:
         word = {"minimum": "at least", "exclusiveMinimum": "above",
                 "maximum": "at most", "exclusiveMaximum": "below"}[err.validator]
         return f"must be {word} {err.validator_value:g}, got {_shown(err.instance)}"
+    if err.validator == "pattern" and isinstance(err.schema, dict) and err.schema.get("description"):
+        # a pattern is for the machine; its description says the accepted forms in words
+        return f"{_shown(err.instance)} is not an accepted form; accepted: {err.schema['description']}"
     return err.message
 
 

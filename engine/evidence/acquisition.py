@@ -132,9 +132,22 @@ def speed_check(rc: Analysis) -> list[dict]:
 
 
 def data_quality(rc: Analysis) -> list[dict]:
-    """One fact per quality issue the reader's gates found."""
-    return [{"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
-             "blocking": q.blocking} for q in rc.quality]
+    """One fact per quality issue the reader's gates found; whether its channel was left out of the
+    analysis (the others diagnosed without it), its point, the bearing or part that point sits at, and
+    how many analysed channels still sit there."""
+    at = {p.id: p.at for p in rc.machine.points}
+    where = {name: at.get(point, "") for name, point in rc.channel_points.items()}
+    seen: dict[str, int] = {}
+    for ch in rc.channels:
+        seen[where.get(ch.name, "")] = seen.get(where.get(ch.name, ""), 0) + 1
+    out = []
+    for q in rc.quality:
+        location = where.get(q.channel, "")
+        out.append({"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
+                    "blocking": q.blocking, "left_out": q.channel in rc.left_out,
+                    "point": rc.channel_points.get(q.channel, ""), "location": location,
+                    "location_channels": seen.get(location, 0)})
+    return out
 
 
 def machine_class(rc: Analysis) -> list[dict]:

@@ -256,6 +256,12 @@ FACTS: dict[str, dict[str, F]] = {
                              "implausible_level, implausible_spectrum, too_short", ""),
         "value": F("number", "size of the problem (its unit depends on the issue)", ""),
         "blocking": F("boolean", "the channel could not be analysed", ""),
+        "left_out": F("boolean", "the channel was left out of the analysis and the reading's other channels "
+                                 "diagnosed without it (a corrupting issue while another channel is free of them)", ""),
+        "point": F("string", "the channel's measurement point ('' when it names none)", ""),
+        "location": F("string", "the bearing or part the channel's point sits at ('' when it names none)", ""),
+        "location_channels": F("integer", "channels analysed at that bearing or part (0: no channel of this "
+                                          "reading is left there)", ""),
     },
     "machine": {
         "name": F("string", "machine name from its file", ""),

@@ -14,6 +14,7 @@ Every problem is a ``MachineError`` naming the file, the line and the field.
 
 from __future__ import annotations
 
+import difflib
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
@@ -184,17 +185,61 @@ def load_alarm_file(path) -> dict[str, tuple[Alarm, ...]]:
     return {name: parse_alarms(items, doc, ("machines", name)) for name, items in doc.data["machines"].items()}
 
 
+def measures_the_same(alarm: Alarm, machine: Machine) -> tuple:
+    """What ``alarm`` measures on ``machine``: its point, quantity and band resolved to frequency ranges
+    at the machine file's speeds, so one band written two ways (``GMF +-3`` and ``GMF stage1 +-3`` at a
+    point that sees one mesh, ``bearing rates`` and ``bearing pump_de rates x3`` at pump_de) is one."""
+    ranges = band_ranges_hz(alarm, machine, machine.shaft_speeds_hz, 1.0)
+    return (alarm.point, alarm.quantity, "overall" if alarm.band == "overall"
+            else tuple((round(lo, 6), round(hi, 6)) for lo, hi in ranges))
+
+
 def with_site_alarms(machine: Machine, files=()) -> Machine:
-    """``machine`` with the alarms of the site alarm ``files`` laid over its own (later files win);
-    an alarm for a point, bearing or mesh the machine lacks is a MachineError naming the alarm file."""
-    alarms = {a.key: a for a in machine.alarms}
+    """``machine`` with the alarms of the site alarm ``files`` laid over its own (later files win): a
+    site alarm replaces any alarm of the same point and quantity whose band resolves to the same
+    frequency ranges, however it is written. An alarm for a point, bearing or mesh the machine lacks
+    is a MachineError naming the alarm file."""
+    alarms = list(machine.alarms)
     for path in files:
         for a in load_alarm_file(path).get(machine.name, ()):
             try:
-                band_ranges_hz(a, machine, machine.shaft_speeds_hz, 1.0)
+                same = measures_the_same(a, machine)
             except MachineError as exc:
                 file, _, line = a.where.rpartition(":")
                 raise MachineError(f"alarm for {machine.name} at {a.point} ({a.band}): {exc.problem}",
                                    path=file, line=int(line) if line.isdigit() else None) from None
-            alarms[a.key] = a
-    return replace(machine, alarms=tuple(alarms.values()))
+            at = [i for i, b in enumerate(alarms) if b.key == a.key or measures_the_same(b, machine) == same]
+            if at:                     # in the place of the first it replaces, the others dropped
+                alarms[at[0]] = a
+                alarms = [b for i, b in enumerate(alarms) if i not in at[1:]]
+            else:
+                alarms.append(a)
+    return replace(machine, alarms=tuple(alarms))
+
+
+def check_alarm_machines(files, known) -> None:
+    """Each site alarm file of ``files`` must name a machine of the run (``known``: their names), and no
+    name in it may be a near miss of one (a different case or spacing, or a letter or two off: a typo
+    that would leave the alarms silently unused). A file may name other machines too: one file can
+    hold a whole site's alarms. A MachineError names the file, the line and the known machines."""
+    known = sorted(set(known))
+    folded = {" ".join(k.casefold().split()): k for k in known}
+    listed = ", ".join(repr(k) for k in known) or "none"
+    for path in files:
+        doc = read_yaml(path, MachineError)
+        if not isinstance(doc.data, dict):
+            raise MachineError("expected a mapping with 'machines'", path=doc.path, line=1)
+        validate(doc, "alarms.schema.json", MachineError)
+        names = list(doc.data["machines"])
+        for name in names:
+            if name in known:
+                continue
+            near = folded.get(" ".join(name.casefold().split())) or next(
+                iter(difflib.get_close_matches(name, known, n=1, cutoff=0.85)), None)
+            if near is not None:
+                raise MachineError(f"machines: no machine {name!r} in this run; did you mean {near!r}? "
+                                   f"Known machines: {listed}", path=doc.path, line=doc.line_of(["machines", name]))
+        if not any(name in known for name in names):
+            shown = ", ".join(repr(n) for n in names) or "none"
+            raise MachineError(f"machines: names no machine of this run ({shown}); known machines: {listed}",
+                               path=doc.path, line=doc.line_of(["machines"]))

@@ -100,6 +100,20 @@ def same_scale(issues, channels) -> bool:
     return len(states) <= 1
 
 
+# Issues that make a channel's samples false, not just its scale: nonfinite, dead or out-of-range
+# samples cannot be analysed at all; clipping and dropouts put false harmonics and impacts in the
+# spectrum and the envelope (common practice). A channel with one of them is left out of the analysis
+# when another channel of the reading is free of them, so the rest of the reading is diagnosed; when
+# none is, the channels are analysed as they are and the rulebook's reading.signal.broken withholds
+# the diagnosis. The rule's list of issues is this one (tests/reasoning/test_rulebooks.py checks).
+CORRUPTING_ISSUES = ("clipping", "dead", "dropout", "nonfinite", "out_of_range")
+
+
+def corrupted(issues) -> bool:
+    """Whether ``issues`` (``QualityIssue`` values of one channel) hold one that corrupts its samples."""
+    return any(q.kind in CORRUPTING_ISSUES for q in issues)
+
+
 # what each kind of issue is called where it is shown (tellwave reading, the reports)
 ISSUE_NAMES = {
     "clipping": "clipping", "dc_offset": "DC offset", "drift": "slow drift", "dropout": "dropouts",

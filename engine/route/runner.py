@@ -16,6 +16,7 @@ import os
 import re
 import time
 from collections import Counter, defaultdict
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -169,6 +170,54 @@ def _start_worker(lifeline) -> None:
     threading.Thread(target=watch, name="route-lifeline", daemon=True).start()
 
 
+def _start_fork_server() -> None:
+    """Start the fork server (and the resource tracker it starts) with Ctrl-C ignored, so that neither
+    they nor any worker forked from them takes one: an ignored signal stays ignored across fork and exec
+    (Python then installs no handler of its own), while otherwise a Ctrl-C during the server's imports of
+    the engine (before it ignores the signal itself) or in a new worker (before ``_start_worker`` runs)
+    ends in a traceback. The route process blocks the signal meanwhile, so a Ctrl-C that comes in those
+    milliseconds waits and reaches it once its own handler is back (Linux keeps a blocked signal pending
+    even while it is ignored)."""
+    import signal
+    from multiprocessing import forkserver
+
+    blocks = hasattr(signal, "pthread_sigmask")
+    if blocks:
+        signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    handler = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        forkserver.ensure_running()
+    finally:
+        signal.signal(signal.SIGINT, handler)
+        if blocks:
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
+
+
+@contextmanager
+def _ctrl_c_held():
+    """Hold a Ctrl-C back until the block ends, then raise it. A submit starts a worker when the pool
+    needs one; stopped in the middle, the worker is still forked but the pool no longer knows it, the
+    route ends without waiting for it, and the worker fails on the route's queues, gone by then, with a
+    traceback. Starting a worker waits for the fork server's imports, so a Ctrl-C can wait a second."""
+    import signal
+
+    held: list[int] = []
+    try:
+        handler = signal.signal(signal.SIGINT, lambda signum, frame: held.append(signum))
+    except ValueError:                 # not the main thread: signals never reach this one
+        yield
+        return
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, handler)
+        if held:
+            if callable(handler):
+                handler(signal.SIGINT, None)
+            elif handler == signal.SIG_DFL:
+                raise KeyboardInterrupt
+
+
 def _local(tasks, settings, workers):
     """Results of ``diagnose_task`` in completion order, from a pool of worker processes."""
     import multiprocessing
@@ -178,6 +227,7 @@ def _local(tasks, settings, workers):
     # again in every worker of every pool; plain fork is unsafe once threads run, e.g. the progress bar's)
     ctx = multiprocessing.get_context("forkserver")
     ctx.set_forkserver_preload(["engine.route.work", "engine.pipeline", "engine.reasoning", "engine.report"])
+    _start_fork_server()
     pending = iter(tasks)
     lifeline, alive = ctx.Pipe(duplex=False)      # workers read ``lifeline``; only this process holds ``alive``
     with alive, lifeline, ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_start_worker,
@@ -189,7 +239,8 @@ def _local(tasks, settings, workers):
                     nxt = next(pending, None)
                     if nxt is None:
                         break
-                    running.add(pool.submit(diagnose_task, nxt[0], nxt[1], settings))
+                    with _ctrl_c_held():     # a worker half started when the route stops fails noisily
+                        running.add(pool.submit(diagnose_task, nxt[0], nxt[1], settings))
                 if not running:
                     return
                 done, running = wait(running, return_when=FIRST_COMPLETED)

@@ -45,22 +45,25 @@ def test_missing_group_is_assumed_and_said(tmp_path):
     assert scale.assumed and scale.group == 2
 
 
-def test_withheld_reading_still_acts_on_a_high_level_of_clean_channels(reasoner):
+def test_a_clipped_channel_is_left_out_and_the_clean_channels_act(reasoner):
+    # nu25 item 2: one bad channel withheld the whole diagnosis; now it is left out and the rest decide
     from engine.simulation import clip_channel
     m = load_machine(RW2)
     sim = clip_channel(simulate(m, "unbalance", "pump", 4, None, 12800.0, 3.0, 2), "M2A", 0.3)
     d = diagnose(as_reading(sim), m, reasoner)
-    assert d.reasoning.withheld
+    assert not d.reasoning.withheld
+    assert "M2A" not in {z.channel for z in d.advice.zones}
     assert d.advice.urgency.id == "act-now"    # stage-4 unbalance: zone D on the unclipped pump points
+    assert any("M2A" in line and "left out" in line for line in d.advice.limitations)
 
 
 def test_a_clipped_channel_s_zone_carries_its_signal_issue(reasoner):
-    # issue 13: a clipped channel got a zone in the levels table with no flag
+    # issue 13: a clipped channel got a zone in the levels table with no flag; a channel is analysed
+    # clipped (and its zone shown) when no channel of the reading is clean
     from engine.simulation import clip_channel
     m = load_machine(RW2)
-    sim = clip_channel(simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2), "M2A", 0.3)
+    sim = clip_channel(simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2, ["M2A"]), "M2A", 0.3)
     doc = document_of(diagnose(as_reading(sim), m, reasoner))
     rows = {z["channel"]: z for z in doc["zones"]["points"]}
     assert "clipping" in rows["M2A"]["signal_issues"]
-    assert not rows["P1H"]["signal_issues"]
     assert "M2A" in render(doc, "text") and "the level is not to be trusted" in render(doc, "text")

@@ -130,12 +130,18 @@ def test_diagnose_several_files_of_one_machine_together(tmp_path, capsys):
 
 def test_withheld_diagnosis_has_its_own_exit_code(tmp_path, capsys):
     m = load_machine(RW2)
-    sim = simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2)
     from engine.simulation import clip_channel
+    sim = simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2, ["P1H"])   # its one channel clipped
     wav = write_simulation(clip_channel(sim, "P1H", 0.3), tmp_path / "clipped.wav")[0]
     assert main(["diagnose", str(wav), "--machine", str(RW2)]) == 7
     out = capsys.readouterr().out
     assert "cannot support a fault conclusion" in out and "measure again" in out
+    # one clipped channel among clean ones: left out, the rest diagnosed (exit 0), and named
+    sim = simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2, ["P1H", "P2H"])
+    wav = write_simulation(clip_channel(sim, "P1H", 0.3), tmp_path / "one-clipped.wav")[0]
+    assert main(["diagnose", str(wav), "--machine", str(RW2)]) == 0
+    out = capsys.readouterr().out
+    assert "Channel P1H fails the clipping check and is left out" in out and "Unbalance on pump" in out, out
 
 
 BAD_INPUT = [

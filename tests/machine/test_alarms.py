@@ -10,7 +10,7 @@ import yaml
 
 from engine.common.errors import MachineError
 from engine.machine import load_machine
-from engine.machine.alarms import band_ranges_hz, load_alarm_file, with_site_alarms
+from engine.machine.alarms import band_ranges_hz, check_alarm_machines, load_alarm_file, with_site_alarms
 
 from support import CASES, RW2, one_error_line
 
@@ -92,7 +92,7 @@ def test_a_site_file_overrides_the_machine_files_alarm(tmp_path):
 
 
 @pytest.mark.parametrize("alarm, field, words", [
-    (_alarm(band="1-2 X"), "alarms.0.band", "does not match"),
+    (_alarm(band="1-2 X"), "alarms.0.band", "'1-2 X' is not an accepted form; accepted: overall; orders"),
     (_alarm(band="3-2X"), "alarms.0.band", "low to high"),
     (_alarm(danger=1.0), "alarms.0.danger", "above the alert level"),
     (_alarm(band="1" + "0" * 400 + "X"), "alarms.0.band", "goes above 1000X"),
@@ -137,3 +137,64 @@ def test_band_of_an_overall_alarm_is_no_range(tmp_path):
     m = load_machine(_machine_with(tmp_path, [_alarm(band="overall", quantity="acceleration_g_peak")]))
     assert _ranges(m, "overall") == []
     assert not math.isnan(m.alarms[0].alert)
+
+
+@pytest.mark.parametrize("machine_band, site_band, point, base", [
+    ("GMF +-3", "GMF bevel_stage +-3", "GINH", FAN),       # GINH sees one mesh: the same band by its id
+    ("bearing rates", "bearing pump_de rates x3", "P1H", RW2),   # P1H sits at pump_de; 3 harmonics by default
+    ("bearing rates", "bearing rates x3", "P1H", RW2),
+])
+def test_a_site_alarm_replaces_the_same_band_written_another_way(tmp_path, machine_band, site_band, point, base):
+    # nu25 item 3: both were listed for the same value, one "alert", one "within"
+    own = base.read_text(encoding="utf-8").split("\nalarms:")[0]
+    q = "acceleration_g_rms"
+    m = load_machine(_machine_with(tmp_path, [_alarm(point=point, band=machine_band, quantity=q),
+                                              _alarm(point=point, band="overall", quantity=q)], own))
+    site = tmp_path / "alarms.yaml"
+    site.write_text(yaml.safe_dump({"machines": {m.name: [_alarm(point=point, band=site_band, quantity=q,
+                                                                 alert=0.05, danger=0.2)]}}))
+    merged = with_site_alarms(m, [site]).alarms
+    assert [(a.band, a.alert) for a in merged] == [(site_band, 0.05), ("overall", 2.0)]   # in the replaced one's place
+    # a band that resolves to other ranges is another alarm, kept beside it
+    site.write_text(yaml.safe_dump({"machines": {m.name: [_alarm(point=point, band="2X", quantity=q)]}}))
+    assert [a.band for a in with_site_alarms(m, [site]).alarms] == [machine_band, "overall", "2X"]
+
+
+def test_a_site_file_must_name_a_machine_of_the_run_and_no_near_miss(tmp_path, capsys):
+    # nu25 item 4: a misspelt machine name left the file's alarms silently unused (exit 0)
+    site = tmp_path / "alarms.yaml"
+    known = ["RW-2 raw water pump", "BW-1 backwash blower"]
+    for names, words in [
+        (["RW-2 raw water pmp"], "no machine 'RW-2 raw water pmp' in this run; did you mean 'RW-2 raw water pump'?"),
+        (["rw-2  raw water pump", "BW-1 backwash blower"], "did you mean 'RW-2 raw water pump'?"),
+        (["CT-9 some other fan"], "names no machine of this run ('CT-9 some other fan')"),
+    ]:
+        site.write_text(yaml.safe_dump({"machines": {n: [_alarm()] for n in names}}))
+        with pytest.raises(MachineError) as err:
+            check_alarm_machines([site], known)
+        text = str(err.value)
+        assert text.startswith(f"{site}:") and words in text, text
+        assert "known machines: 'BW-1 backwash blower', 'RW-2 raw water pump'" in text.replace("Known", "known")
+    # one file may hold a whole site's alarms: another machine's beside this one's is no error
+    whole_site = {"RW-2 raw water pump": [_alarm()], "CT-9 some other fan": [_alarm()]}
+    site.write_text(yaml.safe_dump({"machines": whole_site}))
+    check_alarm_machines([site], known)
+    # the command line: one line, exit 3 as for any bad site alarm file
+    site.write_text(yaml.safe_dump({"machines": {"RW-2 raw water pmp": [_alarm()]}}))
+    reading = tmp_path / "r.npz"
+    import numpy as np
+
+    np.savez(reading, a=np.sin(np.arange(8192) * 0.3), sample_rate_hz=8192.0, unit="g", point="P1H")
+    err = one_error_line(capsys, 3, ["diagnose", reading, "--machine", RW2, "--alarms", site])
+    assert "did you mean 'RW-2 raw water pump'?" in err and "Known machines: 'RW-2 raw water pump'" in err, err
+
+
+@pytest.mark.parametrize("band", ["1x", "100-400 cpm", "bearing rates x0", "GMF +- 3"])
+def test_a_bad_band_is_named_in_words_with_the_accepted_forms(tmp_path, band):
+    # nu25 item 18: the error was the schema's raw regular expression
+    path = _machine_with(tmp_path, [_alarm(band=band)])
+    with pytest.raises(MachineError) as err:
+        load_machine(path)
+    text = str(err.value)
+    assert f"{band!r} is not an accepted form; accepted: overall; orders of the point's shaft (1X, 2-4X)" in text
+    assert "^(" not in text and "[0-9]" not in text, text

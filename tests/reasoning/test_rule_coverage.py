@@ -78,6 +78,15 @@ def _first_channel(key, fault, stage, seed, change):
         return _gated(r, [dataclasses.replace(first, samples=change(first.samples, t))] + rest)
     return make
 
+def _nth_channel(key, fault, stage, seed, n, change):
+    def make():
+        r = as_reading(_sim(key, fault, stage, seed))
+        channels = list(r.channels)
+        t = np.arange(r.n_samples) / r.fs_hz
+        channels[n] = dataclasses.replace(channels[n], samples=change(channels[n].samples, t))
+        return _gated(r, channels)
+    return make
+
 def _every_channel(key, fault, stage, seed, change):
     def make():
         r = as_reading(_sim(key, fault, stage, seed))
@@ -162,6 +171,12 @@ SIMULATED = [
      "reading.signal.dc-offset"),
     ("slow drift", "bw1", _first_channel("bw1", "unbalance", 2, 2, lambda x, t: x + 5.0 * t / t[-1]),
      "reading.signal.drift"),
+    ("one NaN sample on the motor's only channel", "bw1",
+     _first_channel("bw1", "unbalance", 2, 2, lambda x, t: np.where(np.arange(x.size) == 100, np.nan, x)),
+     "reading.signal.point-unseen"),
+    ("one of the blower bearing's two channels clipped", "bw1",
+     _nth_channel("bw1", "unbalance", 2, 2, 1, lambda x, t: np.clip(x, -0.3 * np.abs(x).max(), 0.3 * np.abs(x).max())),
+     "reading.signal.channel-left-out"),
     ("gain 1000 times", "bw1", _every_channel("bw1", "unbalance", 2, 2,
                                               lambda ch: dataclasses.replace(ch, samples=ch.samples * 1000)),
      "reading.levels.implausible"),

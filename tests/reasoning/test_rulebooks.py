@@ -62,13 +62,13 @@ def test_clipped_reading_withholds_the_diagnosis(reasoner):
 
     m = load_machine(ROOT / "cases/machines/rw2-raw-water-pump.yaml")
     sim = simulate(m, "unbalance", "pump", 3, None, 12800.0, 3.0, 2)
-    x = sim.channels["P1H"]
-    sim.channels["P1H"] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())   # a recorder at full scale
+    for name, x in sim.channels.items():       # a recorder at full scale on every channel: none clean is left
+        sim.channels[name] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())
     result = reasoner.reason(extract_evidence(as_reading(sim), m))
     assert result.withheld
     corrupted = [h for h in result.reading_problems if h.withholds and h.confident]
-    assert [h.fault for h in corrupted] == ["signal-corrupted"]
-    assert "P1H" in corrupted[0].component
+    assert {h.fault for h in corrupted} == {"signal-corrupted"}
+    assert "P1H" in {h.component for h in corrupted}
 
 
 def test_engine_copies_of_real_evidence_have_no_exponent_notation(reasoner):

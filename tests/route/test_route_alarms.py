@@ -5,7 +5,9 @@ of mean + k sd from a store of simulated healthy readings (seeded)."""
 from __future__ import annotations
 
 import json
+import tempfile
 from dataclasses import replace
+from pathlib import Path
 
 import jsonschema
 import numpy as np
@@ -167,3 +169,38 @@ def test_derive_for_a_machine_not_stored(tmp_path, capsys):
         pass
     err = one_error_line(capsys, 2, ["alarms", "derive", "No such pump", "--store", tmp_path / "h.sqlite"])
     assert "no stored reading of 'No such pump'" in err
+
+
+def test_a_band_partly_beyond_fmax_says_it_was_measured_up_to_fmax_only():
+    # nu25 item 5: a band reaching past Fmax read a plain "within" from its part below Fmax
+    machine = replace(load_machine(PUMP), alarms=())
+    site = [{"point": "P2H", "band": band, "quantity": "acceleration_g_rms", "alert": 5.0, "danger": 9.0}
+            for band in ("5000-9000 Hz", "5000-6400 Hz", "7000-9000 Hz", "1000-2000 Hz")]
+    path = Path(tempfile.mkdtemp()) / "alarms.yaml"
+    path.write_text(yaml.safe_dump({"machines": {MACHINE: site}}))
+    sim = simulate(machine, "outer-race", "pump_nde", 3, fs_hz=12800.0, duration_s=1.0, seed=11, points=["P2H"])
+    d = diagnose(as_reading(sim, "or.wav"), with_site_alarms(machine, [path]), reasoner())
+    fmax = 12800.0 / 2                        # the analysed spectrum's last line: half the sample rate
+    doc = document_of(d, made_at=MADE_AT)
+    jsonschema.validate(doc, load_schema("report.schema.json"))
+    rows = {a["band"]: a for a in doc["alarms"]["results"]}
+    assert rows["5000-9000 Hz"]["measured_to_hz"] == pytest.approx(fmax)
+    assert rows["5000-9000 Hz"]["value"] == rows["5000-6400 Hz"]["value"] is not None   # the same lines
+    assert rows["5000-6400 Hz"]["measured_to_hz"] is None and rows["1000-2000 Hz"]["measured_to_hz"] is None
+    beyond = rows["7000-9000 Hz"]
+    assert beyond["value"] is None and beyond["why_no_value"] == "band above the reading's Fmax"
+    for fmt in ("text", "md", "html"):
+        out = render(doc, fmt)
+        assert out.count("5000-9000 Hz") == 1, fmt
+        assert out.count(f"partly beyond Fmax: measured up to {fmax:g} Hz only") == 1, fmt
+
+
+def test_a_route_stops_on_a_site_file_naming_no_machine_of_it(tmp_path, capsys):
+    # nu25 item 4: a misspelt machine name was silently ignored; the route stops before any work
+    route = _route(tmp_path / "typo", 1)
+    typo = tmp_path / "typo.yaml"
+    typo.write_text(yaml.safe_dump({"machines": {"RW-2 raw-water pump": ALARMS["machines"][MACHINE]}}))
+    err = one_error_line(capsys, 3, ["route", route, "--store", tmp_path / "h.sqlite", "--out", tmp_path / "out",
+                                     "--workers", "1", "--quiet", "--alarms", typo])
+    assert f"{typo}:2: machines: no machine 'RW-2 raw-water pump' in this run; did you mean '{MACHINE}'?" in err, err
+    assert not (tmp_path / "h.sqlite").exists() and not (tmp_path / "out").exists()

@@ -1,0 +1,91 @@
+"""A corrupted channel is left out and the reading's other channels are diagnosed without it;
+the diagnosis is withheld only when no clean channel remains (rulebooks/reading.yaml,
+reading.signal.broken, reading.signal.channel-left-out, reading.signal.point-unseen)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from engine.analysis import analyse
+from engine.evidence import run_extractors
+from engine.machine import load_machine
+from engine.readings.quality import CORRUPTING_ISSUES
+from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
+from engine.simulation import as_reading, simulate
+
+from support import ROOT
+
+
+@pytest.fixture(scope="module")
+def reasoner():
+    return Reasoner(load_rulebook())
+
+
+@pytest.fixture(scope="module")
+def pump():
+    return load_machine(ROOT / "cases/machines/rw2-raw-water-pump.yaml")
+
+
+def _inner_race(pump, points):
+    # an inner race defect on the pump's drive-end bearing, stage 3: P1H and P1A sit at that bearing
+    return simulate(pump, "inner-race", "pump_de", 3, None, 12800.0, 3.0, 5, points)
+
+
+def _reason(reasoner, pump, sim):
+    analysis = analyse(as_reading(sim), pump)
+    return analysis, reasoner.reason(run_extractors(analysis))
+
+
+def _left_out(result):
+    return [h for h in result.reading_problems if h.fault == "channel-left-out"]
+
+
+def test_one_nan_sample_leaves_its_channel_out_and_the_rest_is_diagnosed(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P2H"])
+    sim.channels["P2H"][1000] = np.nan                   # one sample the recorder lost
+    analysis, result = _reason(reasoner, pump, sim)
+    assert [c.name for c in analysis.channels] == ["P1H"]
+    assert analysis.left_out == ("P2H",)
+    assert not result.withheld
+    assert result.top is not None and result.top.fault == "inner-race" and result.top.certainty >= CONFIDENT
+    left = _left_out(result)
+    assert [h.component for h in left] == ["P2H"] and left[0].confident and not left[0].withholds
+    words = " ".join(f.because for f in left[0].support)
+    assert "P2H" in words and "nonfinite" in words
+    assert "not judged" in words                         # no other channel sits at pump_nde
+
+
+def test_a_clipped_channel_is_left_out_while_a_clean_one_remains(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P1A"])
+    x = sim.channels["P1A"]
+    sim.channels["P1A"] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())   # a recorder at full scale
+    analysis, result = _reason(reasoner, pump, sim)
+    assert [c.name for c in analysis.channels] == ["P1H"]
+    assert not result.withheld
+    assert result.top is not None and result.top.fault == "inner-race"
+    left = _left_out(result)
+    assert [h.component for h in left] == ["P1A"]
+    words = " ".join(f.because for f in left[0].support)
+    assert "clipping" in words and "1 of them still sit at pump_de" in words and "not judged" not in words
+
+
+def test_every_channel_clipped_still_withholds(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P2H"])
+    for name, x in sim.channels.items():
+        sim.channels[name] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())
+    analysis, result = _reason(reasoner, pump, sim)
+    assert sorted(c.name for c in analysis.channels) == ["P1H", "P2H"]   # nothing clean: analysed as they are
+    assert result.withheld
+    assert {h.fault for h in result.reading_problems if h.withholds and h.confident} == {"signal-corrupted"}
+    assert not _left_out(result)
+
+
+def test_the_rules_judge_the_issues_the_analysis_leaves_out():
+    rulebook = load_rulebook()
+    for rid in ("reading.signal.broken", "reading.signal.channel-left-out", "reading.signal.point-unseen"):
+        rule = next(r for r in rulebook.rules if r.id == rid)
+        issues = next(c.value for p in rule.needs for c in p.conditions if c.field == "issue")
+        assert sorted(issues) == sorted(CORRUPTING_ISSUES), rid
+    assert not rulebook.faults["channel-left-out"].withholds_diagnosis
+    assert rulebook.faults["signal-corrupted"].withholds_diagnosis
