@@ -84,7 +84,8 @@ def _project(s: Series, limit: float, label: str, source: Series | None,
         from .degradation import shipped_priors
         priors = {**shipped_priors(), s.indicator: learned.prior}
     p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
-                health=None if source is None else health_of(source, s), priors=priors)
+                health=None if source is None else health_of(source, s), priors=priors,
+                single=None if source is None else health_of(source, s, single=True))
     if learned is not None and learned.prior is None and p.prior:
         p = replace(p, prior=f"{p.prior} ({learned.note})", reason=f"{p.reason} ({learned.note})")
     if p.projected and p.method != "reached" and p.onset_index is not None \
