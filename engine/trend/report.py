@@ -17,7 +17,7 @@ from .. import __version__
 from ..common.units import ShownUnits
 from .change import change_of, is_db, iso_change, min_change_readings
 from .health import choose, health_of
-from .projection import Projection, project
+from .projection import CONFIDENCE, Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
 from .shown import trend_in_units
@@ -113,6 +113,13 @@ def _next_boundary(v: float, scale) -> tuple[float, str] | None:
 
 
 BEFORE_REPAIR_COLOR = "#9a9a9a"     # readings of the machine before a repair: shown, not used
+CONFIDENCE_WORDS = f"{round(CONFIDENCE * 100)} % interval"   # the projections' interval
+
+
+def _reach(p: Projection) -> float:
+    """How far after the last reading a projection's plot reaches: the late end of its interval, or
+    twice the median when that end is open."""
+    return float(p.high_days) if p.high_days is not None else 2.0 * float(p.days or 0.0)
 
 
 def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projections: dict[str, Projection],
@@ -134,6 +141,9 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
     marks = [Mark(at(r.after), f"found {r.found_on}: {r.fault_name} on {r.component}", strong=r.resets)
              for r in repairs]
     last = max(at(s.times[-1]) for s in by_name.values())
+    for name, p in projections.items():
+        if name in used and p.projected and p.method != "reached":
+            last = max(last, at(used[name].times[-1]) + _reach(p))
     xlim = (0.0, max(last, *(m.x for m in marks)) * 1.02 or 1.0) if marks else None
     xlabel = f"days since {first:%Y-%m-%d %H:%M}"
     plots = []
@@ -156,8 +166,18 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         if p is None or not p.fit_days or name not in used:
             return []
         shift = at(used[name].times[0])
-        return [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0,
-                      label=f"fitted curve{what}, projected toward {p.limit_label}")]
+        out = [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0,
+                     label=f"fitted curve{what}, projected toward {p.limit_label}")]
+        if p.projected and p.method != "reached" and p.days is not None:
+            now = at(used[name].times[-1])
+            out.append(Trace(np.array([now, now + p.days]), np.array([p.fit_values[-1], p.limit]), color=color,
+                             dashed=True, width=0.6, label=f"to the projected crossing{what} (median)"))
+            low = now + (p.low_days or 0.0)
+            high = now + (_reach(p) if p.high_days is None else p.high_days)
+            out.append(Trace(np.array([low, now + p.days, high]), np.array([p.limit] * 3), color=color, points=True,
+                             width=3.0, label=f"{CONFIDENCE_WORDS} of the crossing{what}"
+                                              + (" (open on the late side)" if p.high_days is None else "")))
+        return out
 
     def plot(title, ylabel, series, levels=()):
         return Plot(title, xlabel, ylabel, series=series, levels=list(levels), marks=marks, xlim=xlim)
@@ -173,7 +193,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
                   and p.limit_label.startswith("limit")]
         plots.append(plot(f"{point}: acceleration peak and RMS", "g",
                           [t for n, c, w in acc for t in traces(n, c, 1.2, label=w)]
-                          + fitted("accel_peak_g", what=" of the peak"), limits))
+                          + fitted("accel_peak_g", what=" of the peak")
+                          + fitted("accel_rms_g", color="#2a5d8a", what=" of the RMS"), limits))
     if "kurtosis" in by_name:
         plots.append(plot(f"{point}: kurtosis", "kurtosis", traces("kurtosis"),
                           [Level(3.0, "3: a Gaussian signal")]))

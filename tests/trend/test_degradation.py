@@ -396,3 +396,13 @@ def test_exponential_life_is_the_projection_with_its_draws(rng):
     assert np.median(life.draws) == pytest.approx(p.days, rel=0.01)
     flat, none = exponential_life(days, np.exp(rng.normal(0.0, 0.05, 70)), 20.0, "limit 20", None, "", None)
     assert not flat.projected and none is None
+
+
+def test_the_time_to_the_limit_is_not_rounded_to_the_reading_interval():
+    # a posterior with next to no spread and no noise: the line 0 + 0.1 tau reaches 1.234 at
+    # tau = 12.34 days (derived); with weekly readings the old first-step-past rule gave 14.0
+    from engine.trend.degradation import Posterior
+    post = Posterior(np.array([0.0, 0.1]), np.diag([1e-12, 1e-14]), 1e-12, 10)
+    life = remaining_life(post, 0.0, 1.234, interval=7.0, last_departure=0.0, autocorrelation=0.0, samples=200)
+    assert life.median == pytest.approx(12.34, abs=0.01)
+    assert life.low == pytest.approx(12.34, abs=0.01) and life.high == pytest.approx(12.34, abs=0.01)

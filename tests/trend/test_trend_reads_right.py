@@ -90,3 +90,15 @@ def test_the_report_of_a_diagnosis_with_history_shows_every_stored_indicator():
         out = render(doc, fmt).replace("\\_", "_")
         for name in names:
             assert INDICATORS[name][0] in out, (fmt, name)
+
+
+def test_the_trend_plot_draws_the_projected_crossing_and_its_interval():
+    # weekly readings, 7 healthy then a rise of acceleration RMS toward a limit of 2 g (invented data)
+    rng = np.random.default_rng(8)
+    values = list(np.r_[0.02 * np.exp(rng.normal(0.0, 0.05, 7)), 0.02 * np.geomspace(3.0, 40.0, 7)])
+    doc = trend_from_rows("M", _rows(values, "accel_rms_g", every_days=7.0), SCALE, limits={"accel_rms_g": 2.0},
+                          plots=True)
+    (proj,) = doc["points"][0]["projections"]
+    assert proj["projected"] and proj["days"] % 7.0 != pytest.approx(0.0, abs=1e-6)
+    svg = next(p["svg"] for p in doc["points"][0]["plots"] if "acceleration" in p["title"])
+    assert "to the projected crossing of the RMS (median)" in svg and "80 % interval of the crossing of the RMS" in svg
