@@ -15,7 +15,7 @@ import numpy as np
 
 from .. import __version__
 from ..common.units import ShownUnits
-from .change import change_of, is_db, iso_change, min_change_readings
+from .change import RATE_READINGS, change_of, is_db, iso_change, min_change_readings
 from .health import choose, health_of
 from .projection import CONFIDENCE, Projection, project
 from .repairs import Repair, repairs_of, reset_of
@@ -213,12 +213,13 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
                    "readings_before_repair": before,
                    "last_before_repair": _round(float(s.values[before - 1])) if before else None,
                    "baseline": None, "baseline_readings": 0, "latest": None, "change": None, "change_pct": None,
-                   "change_db": None, "rate_per_month": None, "unit": "dB" if is_db(name) else ""}
+                   "change_db": None, "rate_per_month": None, "rate_readings": 0, "unit": "dB" if is_db(name) else ""}
     if u is None or not len(u):
         return entry
     c = change_of(u)
     entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
                  change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_round(c.rate_per_month),
+                 rate_readings=c.rate_readings,
                  change_db=_round(c.change, 2) if is_db(name) else None)
     return entry
 
@@ -292,6 +293,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             "baseline": "median of the first readings (3, or a quarter of a long history, at most 10; never the "
                         f"latest), after the last repair at the point; a percent change from {min_change_readings()} "
                         "readings on, a dB quantity's change in dB",
+            "rate": f"per month: the least-squares slope of the latest {RATE_READINGS} readings (the present "
+                    "direction; the change compares the latest with the baseline, so the two can differ in sign)",
             "iso_change_rule": "ISO 20816-3 criterion II: a change of more than 25 % of the B/C boundary is "
                                "significant, even within zone B (from memory)",
             "findings": [r.shown() for r in repairs],

@@ -102,3 +102,17 @@ def test_the_trend_plot_draws_the_projected_crossing_and_its_interval():
     assert proj["projected"] and proj["days"] % 7.0 != pytest.approx(0.0, abs=1e-6)
     svg = next(p["svg"] for p in doc["points"][0]["plots"] if "acceleration" in p["title"])
     assert "to the projected crossing of the RMS (median)" in svg and "80 % interval of the crossing of the RMS" in svg
+
+
+def test_the_rate_is_the_slope_of_the_latest_readings_and_the_report_says_so():
+    # a level that rose and is falling back (monthly): the change (latest 7 against the baseline 1) is up,
+    # the rate, the slope of the latest 4 (13, 11, 9, 7: -2 every 30 days, derived), down; both are named
+    from engine.report import render
+    from engine.trend.change import RATE_READINGS
+    from engine.trend.series import DAYS_PER_MONTH
+    doc = trend_from_rows("M", _rows([1.0, 1.0, 1.0, 5.0, 9.0, 13.0, 11.0, 9.0, 7.0], "x1_mm_s"), SCALE)
+    (ind,) = doc["points"][0]["indicators"]
+    assert RATE_READINGS == 4 and ind["rate_readings"] == 4
+    assert ind["change"] == pytest.approx(6.0) and ind["rate_per_month"] == pytest.approx(-2.0 / 30.0 * DAYS_PER_MONTH,
+                                                                                          abs=1e-4)
+    assert "slope of the latest 4 readings" in render(doc, "text", "trend")
