@@ -45,6 +45,11 @@ def _round(x, digits=4):
     return None if x is None or not np.isfinite(x) else round(float(x), digits)
 
 
+def _figures(x, figures=4):
+    """``x`` to ``figures`` significant figures (a small rate keeps its size and sign; an exact 0 is 0, never -0)."""
+    return None if x is None or not np.isfinite(x) else float(f"{float(x):.{figures}g}") + 0.0
+
+
 def _exact(x):
     return None if x is None or not np.isfinite(x) else float(x)
 
@@ -113,6 +118,14 @@ def _next_boundary(v: float, scale) -> tuple[float, str] | None:
 
 
 BEFORE_REPAIR_COLOR = "#9a9a9a"     # readings of the machine before a repair: shown, not used
+BEFORE_REPAIR_FADE = 0.55           # a curve's readings before a repair: its own colour this far toward white
+
+
+def _faded(color: str) -> str:
+    """``color`` (#rrggbb) faded toward white for readings before a repair: shown, not used, and each
+    curve still told from the others (the dark ink fades to BEFORE_REPAIR_COLOR)."""
+    rgb = [int(color[i:i + 2], 16) for i in (1, 3, 5)]
+    return "#" + "".join(f"{round(c + (255 - c) * BEFORE_REPAIR_FADE):02x}" for c in rgb)
 CONFIDENCE_WORDS = f"{round(CONFIDENCE * 100)} % interval"   # the projections' interval
 
 
@@ -155,8 +168,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         kept = set(u.reading_ids) if u is not None else set()
         old = [i for i, rid in enumerate(s.reading_ids) if rid not in kept]
         if old:
-            out.append(Trace(days(s)[old], s.values[old], color=BEFORE_REPAIR_COLOR, points=True, width=width,
-                             label="readings before the repair (not used)"))
+            out.append(Trace(days(s)[old], s.values[old], color=_faded(color), points=True, width=width,
+                             label=f"{label or 'readings'} before the repair (not used)"))
         if u is not None and len(u):
             out.append(Trace(days(u), u.values, color=color, points=True, width=width, label=label or "readings"))
         return out
@@ -218,7 +231,7 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
         return entry
     c = change_of(u)
     entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
-                 change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_round(c.rate_per_month),
+                 change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_figures(c.rate_per_month),
                  rate_readings=c.rate_readings,
                  change_db=_round(c.change, 2) if is_db(name) else None)
     return entry
