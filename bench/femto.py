@@ -175,11 +175,22 @@ def point_arrays(h: dict, indicator: str) -> tuple[np.ndarray, np.ndarray, np.nd
     return t, v, hi[idx]
 
 
+def point_single(h: dict, indicator: str) -> np.ndarray:
+    """The log of the single readings of the point's health-indicator source at the readings of
+    ``indicator`` (the onset rule's second test, rulebooks/trend/onset.yaml single_in_row)."""
+    s = shipped_settings()
+    name = next(n for n in s.indicators if n in h)
+    t = np.array(h[indicator][0])
+    th, vh = np.array(h[name][0]), np.array(h[name][1])
+    idx = np.clip(np.searchsorted(th, t, side="right") - 1, 0, len(vh) - 1)
+    return smooth_log(vh, 1)[idx]
+
+
 def health_table(histories: dict) -> None:
     """Monotonicity, trendability and prognosability of each indicator, per direction, over the runs."""
     s = shipped_settings()
     names = sorted({n for run in histories.values() for pt in run.values() for n in pt})
-    print("health indicator candidates: log of a trailing mean of "
+    print("health indicator candidates: log of a trailing running median of "
           f"{s.smooth_readings} readings; monotonicity (mean over runs), trendability (worst pair), prognosability")
     print(f"{'indicator':<20}{'point':>6}{'monot.':>8}{'trend.':>8}{'progn.':>8}")
     for name in names:
@@ -213,7 +224,7 @@ def degradation_after_onset(h: dict, indicator: str = LIMITED) -> tuple[np.ndarr
     keep = regular(t)
     t, v = t[keep], v[keep]
     hi = hi[keep]
-    on = first_predicting_time(hi)
+    on = first_predicting_time(hi, single=point_single(h, LIMITED)[keep])
     if on.index is None:
         return None
     phi = float(np.median(v[:on.early]))
@@ -278,10 +289,11 @@ def leave_one_out(histories: dict) -> None:
             best, answers, now, began = None, [], 0.0, False
             for pt, h in sorted(histories[run].items()):
                 t, v, hi = point_arrays(h, LIMITED)
+                one = point_single(h, LIMITED)
                 keep = t <= cut * lives[run]
                 now = max(now, float(t[keep][-1]))
                 p = project(t[keep] / 86400.0, v[keep], LIMIT_G, f"{LIMIT_G:g} g", "exponential", health=hi[keep],
-                            indicator=LIMITED, priors={LIMITED: prior})
+                            indicator=LIMITED, priors={LIMITED: prior}, single=one[keep])
                 answers.append(f"{pt}: {p.reason.split(';')[0].split(':')[0]}")
                 began |= p.onset_index is not None
                 if p.projected and (best is None or p.days < best.days):

@@ -30,6 +30,8 @@ def register(sub) -> None:
 
 def parse_limits(items: list[str]) -> dict[str, float]:
     """``--limit INDICATOR=VALUE`` items as {indicator: value}; a UsageError for a bad one."""
+    import math
+
     from ..common.errors import UsageError
     from ..history.record import INDICATORS
 
@@ -43,6 +45,8 @@ def parse_limits(items: list[str]) -> dict[str, float]:
             limits[name] = float(value)
         except ValueError:
             raise UsageError(f"--limit {item!r}: {value!r} is not a number") from None
+        if not math.isfinite(limits[name]):
+            raise UsageError(f"--limit {item!r}: the limit must be a finite number")
         if not limits[name] > 0:
             raise UsageError(f"--limit {item!r}: the limit must be positive")
     return limits
@@ -73,6 +77,11 @@ def run(args) -> int:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
+        if args.point is not None:
+            points = sorted({r["point"] or r["channel"] for r in store.history(args.machine)})
+            if args.point not in points:
+                raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}; points with "
+                                 f"readings: {', '.join(points) or 'none'}", path=str(store.path))
         doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html",
                              waterfall=args.waterfall, compare=compare, units=units)
     if not doc["points"]:

@@ -322,7 +322,7 @@ FACTS["trend"] = {
     "baseline": F("number", "median of the first readings, in the indicator's unit", ""),
     "latest": F("number", "this reading's value, in the indicator's unit", ""),
     "change_pct": F("number", "latest over baseline, less 1, percent", "%"),
-    "rate_per_month": F("number", "least-squares slope over the history, indicator unit per month", ""),
+    "rate_per_month": F("number", "least-squares slope of the latest 4 readings, indicator unit per month", ""),
     "iso_change_significant": F("boolean", "velocity changed by more than 25 % of the B/C boundary (ISO 20816-3)", ""),
     "projected_days": F("number", "projected days to the next zone boundary or limit (-1: no projection)", ""),
     "projection_to": F("string", "the boundary or limit projected to", ""),

@@ -7,7 +7,9 @@ site alarm measured, stored as ``band[...]`` indicators) gets an alert level of
 mean + k sd and a danger level of mean + danger_k sd (common practice for
 statistical alarm limits), with the counts and the dates as its source. A level
 with fewer than ``least`` healthy readings, or none that vary, gets no limit and
-is named with the reason.
+is named with the reason. The spread is floored at ``MIN_SPREAD_FRACTION`` of the mean: readings that
+happen to repeat closely (or a simulator's) would otherwise give limits a hair above the mean, crossed
+by the next ordinary reading.
 """
 
 from __future__ import annotations
@@ -19,9 +21,15 @@ import numpy as np
 
 from ..history.store import Store
 from ..reasoning import CONFIDENT
+from .changepoint import MIN_LOG_SCATTER
 
 DEFAULT_K = 3.0
 DEFAULT_LEAST = 6          # a standard deviation of fewer readings is mostly noise (common practice)
+# the least spread a limit is set by, as a fraction of the mean: the repeatability of route readings, 10 %
+# (the same assumption as the change-point test, engine/trend/changepoint.py: readings taken on another day,
+# at another load and with the sensor mounted again rarely repeat better; common practice), so alert and
+# danger stand at least 30 % and 60 % above the mean at the usual 3 and 6 sd
+MIN_SPREAD_FRACTION = float(np.exp(MIN_LOG_SCATTER) - 1.0)
 OVERALL = {"velocity_rms_mm_s": "velocity_mm_s_rms", "accel_rms_g": "acceleration_g_rms",
            "accel_peak_g": "acceleration_g_peak"}
 _BAND = re.compile(r"^band\[(.+)\]_(mm_s|g)$")
@@ -69,16 +77,20 @@ def derive_limits(store: Store, machine: str, *, k: float = DEFAULT_K, danger_k:
             too_few.append({"point": at, "band": band, "quantity": quantity, "healthy": len(values),
                             "why": f"{len(values)} healthy reading(s), {least} needed"})
             continue
-        mean, sd = float(values.mean()), float(values.std(ddof=1))
+        mean, measured = float(values.mean()), float(values.std(ddof=1))
+        sd = max(measured, MIN_SPREAD_FRACTION * abs(mean))
         if not sd > 0:
             too_few.append({"point": at, "band": band, "quantity": quantity, "healthy": len(values),
                             "why": "the healthy readings do not vary: no spread to set a limit by"})
             continue
         first, last = min(t for t, _ in items)[:10], max(t for t, _ in items)[:10]
+        floored = "" if sd == measured else (f"; measured {measured:.3g}, raised to "
+                                             f"{MIN_SPREAD_FRACTION * 100:.0f} % of the mean, the repeatability "
+                                             f"of route readings")
         alarms.append({"point": at, "band": band, "quantity": quantity,
                        "alert": _significant(mean + k * sd), "danger": _significant(mean + danger_k * sd),
-                       "source": f"mean {mean:.4g} + {k:g} / {danger_k:g} sd ({sd:.3g}) of {len(values)} healthy "
-                                 f"readings, {first} to {last}, store {store.path.name} (common practice)"})
+                       "source": f"mean {mean:.4g} + {k:g} / {danger_k:g} sd ({sd:.3g}{floored}) of {len(values)} "
+                                 f"healthy readings, {first} to {last}, store {store.path.name} (common practice)"})
     return {"alarms": alarms, "too_few": too_few, "healthy": sum(tops.values()), "readings": len(tops),
             "k": k, "danger_k": danger_k, "least": least}
 
@@ -90,6 +102,7 @@ def alarm_file_text(machine: str, derived: dict, store_name: str) -> str:
     when = datetime.now(UTC).isoformat(timespec="minutes")
     head = [f"# Alarm limits of {machine} derived from its own history ({when}): alert at mean + "
             f"{derived['k']:g} sd, danger at mean + {derived['danger_k']:g} sd of its healthy readings",
+            f"# (sd at least {MIN_SPREAD_FRACTION * 100:.0f} % of the mean: route readings rarely repeat better)",
             f"# ({derived['healthy']} healthy of {derived['readings']} stored; healthy: no hypothesis at "
             f"{CONFIDENT:.0%} or more, not withheld). Check them before use."]
     head += [f"# no limit for {x['point']} {x['band']} {x['quantity']}: {x['why']}" for x in derived["too_few"]]

@@ -1,4 +1,5 @@
-"""Change against a machine's own baseline: the ISO 20816-3 change criterion and a rate per month.
+"""Change against a machine's own baseline: the ISO 20816-3 change criterion and a rate per month
+(the slope of the latest readings, not of the whole history).
 
 ISO 20816-3 judges a machine twice: by the zone of its level, and by a
 change of its level against its own normal (steady-state) value. A change
@@ -22,6 +23,10 @@ from .series import DAYS_PER_MONTH, Series
 
 ISO_CHANGE_FRACTION_OF_BC = 0.25   # ISO 20816-3:2022 criterion II (from memory)
 BASELINE_MIN, BASELINE_MAX = 3, 10
+# the rate per month is the least-squares slope of the latest readings, this many: the present
+# direction (a slope over the whole history says a level that rose and fell back still rises);
+# 4, the fewest whose line keeps 2 degrees of freedom for its scatter (common practice)
+RATE_READINGS = 4
 
 
 @cache
@@ -56,13 +61,16 @@ class Change:
     latest: float
     change: float | None      # latest - baseline, in the indicator's unit (dB for dB quantities)
     change_pct: float | None  # of the baseline; None for dB, too few readings or a baseline at zero
-    rate_per_month: float | None
+    rate_per_month: float | None   # least-squares slope of the latest ``rate_readings`` readings
     readings: int
     baseline_readings: int = 0
+    rate_readings: int = 0
 
 
 def change_of(s: Series, since: int = 0, min_readings: int | None = None) -> Change:
-    """Latest against baseline; the rate is the least-squares slope from reading ``since`` on.
+    """Latest against baseline (the change), and the least-squares slope of the latest ``RATE_READINGS``
+    readings from reading ``since`` on (the rate): two different things, which can differ in sign when
+    a level rose and is now falling back.
 
     ``min_readings``: readings needed for a percent change (default ``min_change_readings()``).
     """
@@ -70,14 +78,15 @@ def change_of(s: Series, since: int = 0, min_readings: int | None = None) -> Cha
     base = baseline(s.values)
     latest = float(s.values[-1])
     rate = None
-    days = s.days[since:]
+    first = max(since, len(s) - RATE_READINGS)
+    days = s.days[first:]
     if len(days) >= 2 and days[-1] > days[0]:
-        rate = float(np.polyfit(days, s.values[since:], 1)[0] * DAYS_PER_MONTH)
+        rate = float(np.polyfit(days, s.values[first:], 1)[0] * DAYS_PER_MONTH)
     change = None if base is None else latest - base
     pct = None
     if change is not None and base is not None and base > 0 and len(s) >= need and not is_db(s.indicator):
         pct = 100.0 * change / base
-    return Change(base, latest, change, pct, rate, len(s), baseline_count(len(s)))
+    return Change(base, latest, change, pct, rate, len(s), baseline_count(len(s)), len(days) if rate is not None else 0)
 
 
 @dataclass(frozen=True)

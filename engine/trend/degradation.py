@@ -185,7 +185,8 @@ def remaining_life(post: Posterior, now: float, log_limit: float | np.ndarray, *
     steps of the reading ``interval`` (coarser when the horizon needs more than
     ``MAX_STEPS``) with AR(1) departures that start from the last reading's own
     departure from the drawn line (``last_departure`` is that reading's log less
-    the posterior mean line), and stops at the first step past the limit.
+    the posterior mean line), and stops at the first step past the limit; the crossing time is
+    interpolated linearly between that step and the one before (not rounded to a whole step).
     """
     rng = np.random.default_rng(seed)
     draws = rng.multivariate_normal(post.mean, post.cov, size=samples, method="cholesky")
@@ -199,12 +200,19 @@ def remaining_life(post: Posterior, now: float, log_limit: float | np.ndarray, *
     e = (mean_now + last_departure) - (theta + beta * now)       # each draw's departure at the last reading
     hit = np.full(samples, np.inf)
     alive = np.ones(samples, bool)
+    before = theta + beta * now + e                              # each draw's level at the last reading
     for k in range(1, steps + 1):
         tau = now + k * step
         e = rho * e + np.sqrt(1 - rho ** 2) * sd * rng.standard_normal(samples)
-        crossed = alive & (theta + beta * tau + e >= log_limit)
-        hit[crossed] = k * step
+        level = theta + beta * tau + e
+        crossed = alive & (level >= log_limit)
+        # where between the two steps the level reached the limit, on the straight line between them:
+        # the time is not rounded to whole reading intervals
+        rise = np.where(crossed, level - before, 1.0)
+        part = np.clip((log_limit - before) / np.where(rise > 0, rise, 1.0), 0.0, 1.0)
+        hit[crossed] = (k - 1 + part[crossed]) * step
         alive &= ~crossed
+        before = level
         if not alive.any():
             break
     ordered = np.sort(hit)

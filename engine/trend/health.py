@@ -39,6 +39,7 @@ class HealthSettings:
     early_max: int
     readings_in_row: int
     source: str
+    single_in_row: int = 0       # single readings in a row out of their own band (0: that test is off)
 
 
 def read_settings(path) -> HealthSettings:
@@ -70,7 +71,8 @@ def read_settings(path) -> HealthSettings:
                           float(number("onset", "band_sd", 0.5, 10)),
                           float(number("onset", "early_fraction", 0.0, 0.9)),
                           early_min, early_max, number("onset", "readings_in_row", 1, 100, True),
-                          str(h.get("source", "")))
+                          str(h.get("source", "")),
+                          number("onset", "single_in_row", 0, 100, True) if "single_in_row" in o else 0)
 
 
 @cache
@@ -94,11 +96,13 @@ def choose(by_name: dict[str, Series], settings: HealthSettings | None = None) -
     return next((by_name[n] for n in settings.indicators if n in by_name and len(by_name[n])), None)
 
 
-def health_of(source: Series, like: Series, settings: HealthSettings | None = None) -> np.ndarray:
+def health_of(source: Series, like: Series, settings: HealthSettings | None = None, *,
+              single: bool = False) -> np.ndarray:
     """The health indicator of ``source`` at the readings of ``like`` (the series to project):
-    each reading of ``like`` gets the indicator of the latest reading of ``source`` not after it."""
+    each reading of ``like`` gets the indicator of the latest reading of ``source`` not after it.
+    ``single``: the log of the single readings instead, unsmoothed (the onset rule's second test)."""
     settings = settings or shipped_settings()
-    hi = smooth_log(source.values, settings.smooth_readings)
+    hi = smooth_log(source.values, 1 if single else settings.smooth_readings)
     times = np.array([t.timestamp() for t in source.times])
     at = np.array([t.timestamp() for t in like.times])
     idx = np.searchsorted(times, at, side="right") - 1

@@ -3,6 +3,16 @@ band, mean + k standard deviations of its early readings, for several readings i
 (Li, Lei et al. 2015, "An improved exponential model for predicting remaining useful life of
 rolling element bearings", IEEE Trans. Ind. Electronics 62; the settings are in
 rulebooks/trend/onset.yaml). Before it the answer is "no degradation yet", not a projection.
+
+Two tests run side by side, as in a combined scheme of quality control (Lucas 1982, "Combined
+Shewhart-CUSUM quality control schemes", Journal of Quality Technology 14: a smoothing test for
+small sustained shifts, a test on single values for large ones): the smoothed indicator
+(a trailing mean) out of its band ``readings_in_row`` times in a row finds a slow rise that the
+scatter of single readings hides; the single readings out of their own band ``single_in_row`` times
+in a row find a clear rise within a few readings, where the mean would first have to fill its window
+(on a monthly route the smoothed test alone needs 14 surveys). A burst of fewer single readings
+than ``single_in_row`` declares nothing by the second test, and the first needs a run longer than
+its window.
 """
 
 from __future__ import annotations
@@ -29,33 +39,66 @@ def early_count(n: int, s: HealthSettings) -> int:
     return int(min(s.early_max, max(s.early_min, round(s.early_fraction * n))))
 
 
-def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None) -> Onset:
-    """The first reading of the first run of ``readings_in_row`` readings above the healthy band,
-    as the rule would have declared it reading by reading: at each new reading the band is made of
+def _band(x: np.ndarray, k: int, s: HealthSettings) -> float:
+    """Upper edge of the healthy band of ``x`` made of its first ``k`` values."""
+    return float(np.mean(x[:k]) + s.band_sd * np.std(x[:k], ddof=1))
+
+
+def _run_above(x: np.ndarray, high: float) -> int:
+    """How many of the latest values are above ``high`` in a row."""
+    above = np.asarray(x) > high
+    return len(above) if above.all() else int(np.argmin(above[::-1]))
+
+
+def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None, *,
+                          single: np.ndarray | None = None) -> Onset:
+    """The first reading of the first run of ``readings_in_row`` readings of the (smoothed) health
+    indicator above its healthy band, or of ``single_in_row`` single readings above theirs
+    (``single``: the log of the single readings at the same readings; None: the smoothed test alone),
+    as the rule would have declared it reading by reading: at each new reading the bands are made of
     that history's early readings, and the first declaration stands (a band that widens as the
     history grows never takes back a start already declared)."""
     s = settings or shipped_settings()
     x = np.asarray(health, float)
     n = len(x)
     row = s.readings_in_row
-    if n < early_count(n, s) + row:
+    one = s.single_in_row if single is not None and s.single_in_row > 0 else 0
+    y = np.asarray(single, float) if one else x
+    fewest = min(row, one) if one else row
+    words = f"{row} in a row of the {s.smooth_readings}-reading mean" + (f", or {one} single readings in a row,"
+                                                                      if one else "")
+    if n < early_count(n, s) + fewest:
         k = early_count(n, s)
         return Onset(None, min(k, n), float("nan"),
                      f"{n} reading(s): too few to tell whether degradation has begun (the healthy band needs "
-                     f"{k}, then {row} more in a row out of it)")
-    k, high = 0, float("nan")
+                     f"{k}, then {words} out of it)")
+    k, high, high1 = 0, float("nan"), float("nan")
     for m in range(1, n + 1):             # the history as it stood after reading m
         k = early_count(m, s)
-        if m < k + row:
+        if m < k + fewest:
             continue
-        early = x[:k]
-        high = float(np.mean(early) + s.band_sd * np.std(early, ddof=1))
-        if np.all(x[m - row:m] > high):
+        high = _band(x, k, s)
+        if m >= k + row and np.all(x[m - row:m] > high):
             start = m - row
             while start > k and x[start - 1] > high:
                 start -= 1
             return Onset(start, k, high, f"the health indicator left its healthy band (mean + {s.band_sd:g} sd "
                                          f"of the first {k} readings) at reading {start + 1} and stayed out "
                                          f"{row} readings in a row")
-    return Onset(None, k, high, f"no degradation yet: the health indicator has not left its healthy band "
-                                f"(mean + {s.band_sd:g} sd of the first {k} readings) for {row} readings in a row")
+        if one:
+            high1 = _band(y, k, s)
+            if np.all(y[m - one:m] > high1):
+                start = m - one
+                while start > k and y[start - 1] > high1:
+                    start -= 1
+                return Onset(start, k, high, f"single readings left their healthy band (mean + {s.band_sd:g} sd "
+                                             f"of the first {k} readings) at reading {start + 1} and stayed out "
+                                             f"{one} readings in a row")
+    out = _run_above(y, high1) if one and np.isfinite(high1) else _run_above(x, high) if np.isfinite(high) else 0
+    band = f"mean + {s.band_sd:g} sd of the first {k} readings"
+    what = "the single readings are" if one else "the health indicator is"
+    if out:
+        return Onset(None, k, high, f"no degradation yet: {what} out of the healthy band ({band}) for the last "
+                                    f"{out} reading(s); {words} declare degradation")
+    return Onset(None, k, high, f"no degradation yet: {what} within the healthy band ({band}) at the last "
+                                f"reading; {words} out of it declare degradation")

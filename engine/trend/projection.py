@@ -125,13 +125,15 @@ def _crossing(line: _Line, level: float, q: float) -> tuple[float, float, float 
 
 def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
             growth: str = "auto", *, health: np.ndarray | None = None, indicator: str = "",
-            priors: dict[str, Prior] | None = None) -> Projection:
+            priors: dict[str, Prior] | None = None, single: np.ndarray | None = None) -> Projection:
     """Time from the last reading until the indicator reaches ``limit``.
 
     ``days``: times of the readings (any origin); ``growth``: exponential
     (the Bayesian model after the start of degradation), linear or auto
     (least squares after a CUSUM change point). ``health``: the point's
-    health indicator at the same readings (default: made of ``values``);
+    health indicator at the same readings (default: made of ``values``); ``single``: the log of its
+    single readings, unsmoothed (the onset rule's second test; default: of ``values`` when ``health``
+    is made of them, else that test is off);
     ``indicator``: the stored name, to find its prior among ``priors``
     (default: the shipped ones).
     """
@@ -149,7 +151,7 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
     if values[-1] >= limit:
         return Projection(limit, limit_label, 0.0, 0.0, 0.0, "reached", "the last reading is at or past the limit")
     if growth == "exponential":
-        return _bayes(days, values, limit, limit_label, health, indicator, priors)
+        return exponential_life(days, values, limit, limit_label, health, indicator, priors, single)[0]
     if n < MIN_FIT_READINGS:
         return none(f"{n} reading(s); at least {MIN_FIT_READINGS} are needed")
     phi = 0.0
@@ -195,21 +197,19 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
                       None if late is None else max(0.0, late - now), method, reason, onset, fit_days, fit_values)
 
 
-def _bayes(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str, health: np.ndarray | None,
-           indicator: str, priors: dict[str, Prior] | None) -> Projection:
-    """The Bayesian exponential model after the first predicting time (module docstring)."""
-    return exponential_life(days, values, limit, limit_label, health, indicator, priors)[0]
-
-
 def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
                      health: np.ndarray | None, indicator: str,
-                     priors: dict[str, Prior] | None) -> tuple[Projection, Life | None]:
+                     priors: dict[str, Prior] | None,
+                     single: np.ndarray | None = None) -> tuple[Projection, Life | None]:
     """The Bayesian exponential model's projection and the remaining-life draws it rests on (None when
     there is no projection): what ``project(..., growth="exponential")`` gives, with the draws for a
     bench that weighs them against another method's (bench/femto_compare.py)."""
     settings = shipped_settings()
-    hi = smooth_log(values, settings.smooth_readings) if health is None else np.asarray(health, float)
-    on = first_predicting_time(hi, settings)
+    if health is None:
+        hi, single = smooth_log(values, settings.smooth_readings), smooth_log(values, 1)
+    else:
+        hi = np.asarray(health, float)
+    on = first_predicting_time(hi, settings, single=single)
     method = "first predicting time, then Bayesian exponential model"
     if on.index is None:
         return Projection(limit, limit_label, None, None, None, "first predicting time", on.reason), None

@@ -15,9 +15,9 @@ import numpy as np
 
 from .. import __version__
 from ..common.units import ShownUnits
-from .change import change_of, is_db, iso_change, min_change_readings
+from .change import RATE_READINGS, change_of, is_db, iso_change, min_change_readings
 from .health import choose, health_of
-from .projection import Projection, project
+from .projection import CONFIDENCE, Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
 from .shown import boundary_label, trend_in_units
@@ -43,6 +43,11 @@ MIN_PROJECTION_READINGS = MODEL_PARAMETERS + 1
 
 def _round(x, digits=4):
     return None if x is None or not np.isfinite(x) else round(float(x), digits)
+
+
+def _figures(x, figures=4):
+    """``x`` to ``figures`` significant figures (a small rate keeps its size and sign; an exact 0 is 0, never -0)."""
+    return None if x is None or not np.isfinite(x) else float(f"{float(x):.{figures}g}") + 0.0
 
 
 def _exact(x):
@@ -84,7 +89,8 @@ def _project(s: Series, limit: float, label: str, source: Series | None,
         from .degradation import shipped_priors
         priors = {**shipped_priors(), s.indicator: learned.prior}
     p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
-                health=None if source is None else health_of(source, s), priors=priors)
+                health=None if source is None else health_of(source, s), priors=priors,
+                single=None if source is None else health_of(source, s, single=True))
     if learned is not None and learned.prior is None and p.prior:
         p = replace(p, prior=f"{p.prior} ({learned.note})", reason=f"{p.reason} ({learned.note})")
     if p.projected and p.method != "reached" and p.onset_index is not None \
@@ -112,6 +118,21 @@ def _next_boundary(v: float, scale) -> tuple[float, str] | None:
 
 
 BEFORE_REPAIR_COLOR = "#9a9a9a"     # readings of the machine before a repair: shown, not used
+BEFORE_REPAIR_FADE = 0.55           # a curve's readings before a repair: its own colour this far toward white
+
+
+def _faded(color: str) -> str:
+    """``color`` (#rrggbb) faded toward white for readings before a repair: shown, not used, and each
+    curve still told from the others (the dark ink fades to BEFORE_REPAIR_COLOR)."""
+    rgb = [int(color[i:i + 2], 16) for i in (1, 3, 5)]
+    return "#" + "".join(f"{round(c + (255 - c) * BEFORE_REPAIR_FADE):02x}" for c in rgb)
+CONFIDENCE_WORDS = f"{round(CONFIDENCE * 100)} % interval"   # the projections' interval
+
+
+def _reach(p: Projection) -> float:
+    """How far after the last reading a projection's plot reaches: the late end of its interval, or
+    twice the median when that end is open."""
+    return float(p.high_days) if p.high_days is not None else 2.0 * float(p.days or 0.0)
 
 
 def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projections: dict[str, Projection],
@@ -134,6 +155,9 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
     marks = [Mark(at(r.after), f"found {r.found_on}: {r.fault_name} on {r.component}", strong=r.resets)
              for r in repairs]
     last = max(at(s.times[-1]) for s in by_name.values())
+    for name, p in projections.items():
+        if name in used and p.projected and p.method != "reached":
+            last = max(last, at(used[name].times[-1]) + _reach(p))
     xlim = (0.0, max(last, *(m.x for m in marks)) * 1.02 or 1.0) if marks else None
     xlabel = f"days since {first:%Y-%m-%d %H:%M}"
     plots = []
@@ -145,8 +169,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         kept = set(u.reading_ids) if u is not None else set()
         old = [i for i, rid in enumerate(s.reading_ids) if rid not in kept]
         if old:
-            out.append(Trace(days(s)[old], s.values[old], color=BEFORE_REPAIR_COLOR, points=True, width=width,
-                             label="readings before the repair (not used)"))
+            out.append(Trace(days(s)[old], s.values[old], color=_faded(color), points=True, width=width,
+                             label=f"{label or 'readings'} before the repair (not used)"))
         if u is not None and len(u):
             out.append(Trace(days(u), u.values, color=color, points=True, width=width, label=label or "readings"))
         return out
@@ -156,8 +180,18 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         if p is None or not p.fit_days or name not in used:
             return []
         shift = at(used[name].times[0])
-        return [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0,
-                      label=f"fitted curve{what}, projected toward {p.limit_label}")]
+        out = [Trace(np.array(p.fit_days) + shift, np.array(p.fit_values), color=color, dashed=True, width=1.0,
+                     label=f"fitted curve{what}, projected toward {p.limit_label}")]
+        if p.projected and p.method != "reached" and p.days is not None:
+            now = at(used[name].times[-1])
+            out.append(Trace(np.array([now, now + p.days]), np.array([p.fit_values[-1], p.limit]), color=color,
+                             dashed=True, width=0.6, label=f"to the projected crossing{what} (median)"))
+            low = now + (p.low_days or 0.0)
+            high = now + (_reach(p) if p.high_days is None else p.high_days)
+            out.append(Trace(np.array([low, now + p.days, high]), np.array([p.limit] * 3), color=color, points=True,
+                             width=3.0, label=f"{CONFIDENCE_WORDS} of the crossing{what}"
+                                              + (" (open on the late side)" if p.high_days is None else "")))
+        return out
 
     def plot(title, ylabel, series, levels=()):
         return Plot(title, xlabel, ylabel, series=series, levels=list(levels), marks=marks, xlim=xlim)
@@ -181,7 +215,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
                   and p.limit_label.startswith("limit")]
         plots.append(plot(f"{point}: acceleration peak and RMS", "g",
                           [t for n, c, w in acc for t in traces(n, c, 1.2, label=w)]
-                          + fitted("accel_peak_g", what=" of the peak"), limits))
+                          + fitted("accel_peak_g", what=" of the peak")
+                          + fitted("accel_rms_g", color="#2a5d8a", what=" of the RMS"), limits))
     if "kurtosis" in by_name:
         plots.append(plot(f"{point}: kurtosis", "kurtosis", traces("kurtosis"),
                           [Level(3.0, "3: a Gaussian signal")]))
@@ -200,12 +235,13 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
                    "readings_before_repair": before,
                    "last_before_repair": _round(float(s.values[before - 1])) if before else None,
                    "baseline": None, "baseline_readings": 0, "latest": None, "change": None, "change_pct": None,
-                   "change_db": None, "rate_per_month": None, "unit": "dB" if is_db(name) else ""}
+                   "change_db": None, "rate_per_month": None, "rate_readings": 0, "unit": "dB" if is_db(name) else ""}
     if u is None or not len(u):
         return entry
     c = change_of(u)
     entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
-                 change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_round(c.rate_per_month),
+                 change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_figures(c.rate_per_month),
+                 rate_readings=c.rate_readings,
                  change_db=_round(c.change, 2) if is_db(name) else None)
     return entry
 
@@ -281,6 +317,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             "baseline": "median of the first readings (3, or a quarter of a long history, at most 10; never the "
                         f"latest), after the last repair at the point; a percent change from {min_change_readings()} "
                         "readings on, a dB quantity's change in dB",
+            "rate": f"per month: the least-squares slope of the latest {RATE_READINGS} readings (the present "
+                    "direction; the change compares the latest with the baseline, so the two can differ in sign)",
             "iso_change_rule": "ISO 20816-3 criterion II: a change of more than 25 % of the B/C boundary is "
                                "significant, even within zone B (from memory)",
             "findings": [r.shown() for r in repairs],

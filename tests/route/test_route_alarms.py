@@ -134,9 +134,12 @@ def test_derived_limits_are_mean_plus_k_sd_of_the_healthy_readings(tmp_path, sit
                                    ("overall", "velocity_mm_s_rms", "velocity_rms_mm_s")):
         v = np.array([r["indicators"][name] for r in rows])
         a = derived[("P2H", band, quantity)]
-        # mean + 3 sd and mean + 6 sd of the eight healthy readings (common practice), to 4 figures
-        assert a.alert == pytest.approx(v.mean() + 3 * v.std(ddof=1), rel=1e-3)
-        assert a.danger == pytest.approx(v.mean() + 6 * v.std(ddof=1), rel=1e-3)
+        # mean + 3 sd and mean + 6 sd of the eight healthy readings (common practice), to 4 figures, the sd
+        # at least 10 % of the mean (the repeatability of route readings, common practice)
+        sd = max(v.std(ddof=1), 0.10 * v.mean())
+        assert a.alert == pytest.approx(v.mean() + 3 * sd, rel=1e-3)
+        assert a.danger == pytest.approx(v.mean() + 6 * sd, rel=1e-3)
+        assert a.alert >= 1.3 * v.mean() * (1 - 1e-3)
         assert "8 healthy readings" in a.source
     # the next survey's trend ends at its own reading: a band judged after the reasoning is not trended in
     # its report (it would end at the survey before and read as this one's); `tellwave trend` shows it

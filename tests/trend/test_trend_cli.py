@@ -19,7 +19,9 @@ def test_limits_parse():
     ("accel_peak_g", "expected INDICATOR=VALUE"),
     ("accel_peak_g=lots", "not a number"),
     ("accel_peak_g=-1", "positive"),
-], ids=["unknown-indicator", "no-value", "not-a-number", "negative"])
+    ("accel_peak_g=inf", "finite"),
+    ("accel_peak_g=nan", "finite"),
+], ids=["unknown-indicator", "no-value", "not-a-number", "negative", "infinite", "nan"])
 def test_bad_limits_are_usage_errors(item, problem):
     with pytest.raises(UsageError, match=problem):
         parse_limits([item])
@@ -32,3 +34,17 @@ def test_an_unknown_machine_is_one_line_with_exit_2(tmp_path, capsys):
     assert main(["trend", "Nobody's pump", "--store", str(tmp_path / "h.sqlite")]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "machines stored: none" in err
+
+
+def test_an_unknown_point_lists_the_points_with_readings(tmp_path, capsys):
+    from test_waterfall import PUMP, _record
+
+    from engine.history.store import Store
+
+    from support import one_error_line
+
+    with Store(tmp_path / "h.sqlite") as s:
+        s.add(_record(1, 1, 0.0, point="P1H", spectrum=False))
+        s.add(_record(2, 2, 0.0, point="P2V", spectrum=False))
+    err = one_error_line(capsys, 2, ["trend", PUMP, "--point", "P9X", "--store", tmp_path / "h.sqlite"])
+    assert "no stored reading at point 'P9X'; points with readings: P1H, P2V" in err, err

@@ -90,3 +90,62 @@ def test_the_report_of_a_diagnosis_with_history_shows_every_stored_indicator():
         out = render(doc, fmt).replace("\\_", "_")
         for name in names:
             assert INDICATORS[name][0] in out, (fmt, name)
+
+
+def test_the_trend_plot_draws_the_projected_crossing_and_its_interval():
+    # weekly readings, 7 healthy then a rise of acceleration RMS toward a limit of 2 g (invented data)
+    rng = np.random.default_rng(8)
+    values = list(np.r_[0.02 * np.exp(rng.normal(0.0, 0.05, 7)), 0.02 * np.geomspace(3.0, 40.0, 7)])
+    doc = trend_from_rows("M", _rows(values, "accel_rms_g", every_days=7.0), SCALE, limits={"accel_rms_g": 2.0},
+                          plots=True)
+    (proj,) = doc["points"][0]["projections"]
+    assert proj["projected"] and proj["days"] % 7.0 != pytest.approx(0.0, abs=1e-6)
+    svg = next(p["svg"] for p in doc["points"][0]["plots"] if "acceleration" in p["title"])
+    assert "to the projected crossing of the RMS (median)" in svg and "80 % interval of the crossing of the RMS" in svg
+
+
+def test_the_rate_is_the_slope_of_the_latest_readings_and_the_report_says_so():
+    # a level that rose and is falling back (monthly): the change (latest 7 against the baseline 1) is up,
+    # the rate, the slope of the latest 4 (13, 11, 9, 7: -2 every 30 days, derived), down; both are named
+    from engine.report import render
+    from engine.trend.change import RATE_READINGS
+    from engine.trend.series import DAYS_PER_MONTH
+    doc = trend_from_rows("M", _rows([1.0, 1.0, 1.0, 5.0, 9.0, 13.0, 11.0, 9.0, 7.0], "x1_mm_s"), SCALE)
+    (ind,) = doc["points"][0]["indicators"]
+    assert RATE_READINGS == 4 and ind["rate_readings"] == 4
+    assert ind["change"] == pytest.approx(6.0) and ind["rate_per_month"] == pytest.approx(-2.0 / 30.0 * DAYS_PER_MONTH,
+                                                                                          rel=1e-3)
+    assert "slope of the latest 4 readings" in render(doc, "text", "trend")
+
+
+def test_the_trend_text_reads_right_a_reached_limit_a_vague_prior_and_no_empty_column():
+    # the new user's wording findings (item 21), on invented weekly readings that rise past one limit
+    from engine.report import render
+    rng = np.random.default_rng(21)
+    values = list(np.r_[0.02 * np.exp(rng.normal(0.0, 0.05, 7)), 0.02 * np.geomspace(3.0, 40.0, 7)])
+    doc = trend_from_rows("M", _rows(values, "accel_rms_g", every_days=7.0), SCALE,
+                          limits={"accel_rms_g": 0.5}, plots=True)
+    doc["points"][0]["projections"].append(
+        trend_from_rows("M", _rows(values, "accel_rms_g", every_days=7.0), SCALE,
+                        limits={"accel_rms_g": 2.0})["points"][0]["projections"][0])
+    text = render(doc, "text", "trend")
+    assert "already reached: the last reading is at or past it" in text and "now to now" not in text
+    assert "vague prior" in text and "prior: vague prior" not in text
+    assert "\n\n\n" not in text.split("projections:")[1]
+    md = render(doc, "md", "trend")
+    assert "before the repair" not in md and "|---|---|---|---|---|\n" in md
+    doc["store"] = "h.sqlite"
+    assert "before the repair" not in render(doc, "html", "trend")
+
+
+def test_a_small_rate_keeps_its_sign_and_size():
+    # 4 decimals turned -0.00003 a month into "-0"; 4 significant figures keep it
+    doc = trend_from_rows("M", _rows([0.0100, 0.0100, 0.0100, 0.00999, 0.00998, 0.00997], "accel_rms_g"), SCALE)
+    (ind,) = doc["points"][0]["indicators"]
+    assert ind["rate_per_month"] < 0 and abs(ind["rate_per_month"]) > 1e-6
+
+
+def test_readings_before_a_repair_keep_their_curves_colour_faded():
+    from engine.trend.report import BEFORE_REPAIR_COLOR, _faded
+    assert _faded("#1a1a1a") == "#989898" and abs(int(BEFORE_REPAIR_COLOR[1:3], 16) - 0x98) <= 2
+    assert _faded("#2a5d8a") != _faded("#1a1a1a")      # peak and RMS told apart before a repair too
