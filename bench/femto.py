@@ -224,7 +224,7 @@ def degradation_after_onset(h: dict, indicator: str = LIMITED) -> tuple[np.ndarr
     keep = regular(t)
     t, v = t[keep], v[keep]
     hi = hi[keep]
-    on = first_predicting_time(hi, single=point_single(h, LIMITED)[keep])
+    on = first_predicting_time(hi, single=point_single(h, LIMITED)[keep], days=t / 86400.0)
     if on.index is None:
         return None
     phi = float(np.median(v[:on.early]))

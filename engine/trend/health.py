@@ -40,6 +40,7 @@ class HealthSettings:
     readings_in_row: int
     source: str
     single_in_row: int = 0       # single readings in a row out of their own band (0: that test is off)
+    single_slower_than_days: float = 0.0   # the single test only where readings_in_row readings span longer
 
 
 def read_settings(path) -> HealthSettings:
@@ -72,7 +73,9 @@ def read_settings(path) -> HealthSettings:
                           float(number("onset", "early_fraction", 0.0, 0.9)),
                           early_min, early_max, number("onset", "readings_in_row", 1, 100, True),
                           str(h.get("source", "")),
-                          number("onset", "single_in_row", 0, 100, True) if "single_in_row" in o else 0)
+                          number("onset", "single_in_row", 0, 100, True) if "single_in_row" in o else 0,
+                          float(number("onset", "single_slower_than_days", 0, 3650))
+                          if "single_slower_than_days" in o else 0.0)
 
 
 @cache

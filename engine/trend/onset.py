@@ -50,11 +50,21 @@ def _run_above(x: np.ndarray, high: float) -> int:
     return len(above) if above.all() else int(np.argmin(above[::-1]))
 
 
+def single_test_needed(days: np.ndarray | None, s: HealthSettings) -> bool:
+    """Whether the single-reading test joins the smoothed one: only where ``readings_in_row`` readings, at
+    the history's median spacing (``days``, in days), span longer than ``single_slower_than_days`` (the
+    smoothed test alone would then be too late to act on). Without times, the test joins."""
+    if days is None or len(days) < 2:
+        return True
+    return s.readings_in_row * float(np.median(np.diff(np.asarray(days, float)))) > s.single_slower_than_days
+
+
 def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None, *,
-                          single: np.ndarray | None = None) -> Onset:
+                          single: np.ndarray | None = None, days: np.ndarray | None = None) -> Onset:
     """The first reading of the first run of ``readings_in_row`` readings of the (smoothed) health
     indicator above its healthy band, or of ``single_in_row`` single readings above theirs
-    (``single``: the log of the single readings at the same readings; None: the smoothed test alone),
+    (``single``: the log of the single readings at the same readings; None, or readings close enough in
+    time (``days``, see ``single_test_needed``): the smoothed test alone),
     as the rule would have declared it reading by reading: at each new reading the bands are made of
     that history's early readings, and the first declaration stands (a band that widens as the
     history grows never takes back a start already declared)."""
@@ -62,7 +72,7 @@ def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = 
     x = np.asarray(health, float)
     n = len(x)
     row = s.readings_in_row
-    one = s.single_in_row if single is not None and s.single_in_row > 0 else 0
+    one = s.single_in_row if single is not None and s.single_in_row > 0 and single_test_needed(days, s) else 0
     y = np.asarray(single, float) if one else x
     fewest = min(row, one) if one else row
     words = f"{row} in a row of the {s.smooth_readings}-reading mean" + (f", or {one} single readings in a row,"

@@ -209,7 +209,7 @@ def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_l
         hi, single = smooth_log(values, settings.smooth_readings), smooth_log(values, 1)
     else:
         hi = np.asarray(health, float)
-    on = first_predicting_time(hi, settings, single=single)
+    on = first_predicting_time(hi, settings, single=single, days=days)
     method = "first predicting time, then Bayesian exponential model"
     if on.index is None:
         return Projection(limit, limit_label, None, None, None, "first predicting time", on.reason), None

@@ -75,7 +75,8 @@ def degradation_of(s: Series) -> tuple[np.ndarray, np.ndarray] | None:
     health indicator never left the healthy band or too few readings follow."""
     settings = shipped_settings()
     v = s.values
-    on = first_predicting_time(smooth_log(v, settings.smooth_readings), settings, single=smooth_log(v, 1))
+    on = first_predicting_time(smooth_log(v, settings.smooth_readings), settings, single=smooth_log(v, 1),
+                               days=s.days)
     if on.index is None or len(v) - on.index < MIN_RUN_READINGS:
         return None
     phi = float(np.median(v[:on.early]))

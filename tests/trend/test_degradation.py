@@ -23,7 +23,7 @@ from engine.trend.degradation import (
     vague_prior,
 )
 from engine.trend.health import monotonicity, prognosability, read_settings, shipped_settings, smooth_log, trendability
-from engine.trend.onset import first_predicting_time
+from engine.trend.onset import first_predicting_time, single_test_needed
 
 TRUE_THETA, TRUE_BETA, NOISE_SD = 0.5, 0.08, 0.1
 
@@ -151,6 +151,20 @@ def test_a_clear_rise_on_a_sparse_route_is_declared_at_its_third_reading(rng):
     on = first_predicting_time(hi[:10], single=one[:10])
     assert on.index == 7 and "single readings left their healthy band" in on.reason
     assert first_predicting_time(hi[:13]).index is None     # the smoothed test alone: not yet at 13 readings
+
+
+@pytest.mark.parametrize("spacing_days, single_joins", [(7.0, True), (30.0, True), (100 / 86400, False)],
+                         ids=["weekly", "monthly", "test-rig-snapshots"])
+def test_the_single_reading_test_joins_only_where_the_smoothed_one_is_too_slow(rng, spacing_days, single_joins):
+    # the same rise at three spacings: on a route (8 readings span 8 weeks or more, past the shortest
+    # planning window, onset.yaml single_slower_than_days) the single test declares it at the rise's 3rd
+    # reading; snapshots 100 s apart keep the smoothed test alone, whose 8 readings take 13 minutes
+    raw = np.r_[np.exp(rng.normal(0.0, 0.1, 7)), np.geomspace(2.0, 50.0, 9)]
+    hi, one = _smoothed_and_single(raw)
+    days = np.arange(len(raw)) * spacing_days
+    on = first_predicting_time(hi[:10], single=one[:10], days=days[:10])
+    assert (on.index == 7) is single_joins
+    assert single_test_needed(days, shipped_settings()) is single_joins
 
 
 def test_before_the_declaration_the_answer_says_how_long_the_readings_have_been_out(rng):
@@ -315,10 +329,12 @@ def test_a_remaining_life_under_an_hour_reads_in_minutes():
     assert _days(0.5 / 24) == "30.0 min" and _days(3 / 24) == "3.0 h" and _days(None) == "open"
 
 
-@pytest.mark.parametrize("unit", [1e-6, 1.0, 1e4])
+@pytest.mark.parametrize("unit", [1e-6, 1.0, 1.5])
 def test_with_no_learned_prior_the_answer_scales_with_the_time_unit(rng, unit):
     # derived: with a vague prior nothing but the readings sets the time scale, so the same history
-    # read a million times faster or slower gives a remaining life scaled by the same factor
+    # read a million times faster or 1.5 times slower gives a remaining life scaled by the same factor
+    # (each spacing keeps 8 readings within onset.yaml's single_slower_than_days, so the same onset test
+    # applies: the single-reading test joins only on slower routes)
     values = np.r_[np.ones(20), np.exp(0.2 * np.arange(20))] * np.exp(rng.normal(0.0, 0.02, 40))
     reference = project(np.arange(40.0), values, 1e4, "limit", "exponential")
     scaled = project(np.arange(40.0) * unit, values, 1e4, "limit", "exponential")
