@@ -81,7 +81,12 @@ def change_of(s: Series, since: int = 0, min_readings: int | None = None) -> Cha
     first = max(since, len(s) - RATE_READINGS)
     days = s.days[first:]
     if len(days) >= 2 and days[-1] > days[0]:
-        rate = float(np.polyfit(days, s.values[first:], 1)[0] * DAYS_PER_MONTH)
+        values = np.asarray(s.values[first:], float)
+        slope = float(np.polyfit(days, values, 1)[0])
+        # a rise over the window smaller than the values' own rounding is no rise (a steady series gave -9.6e-20)
+        if abs(slope * (days[-1] - days[0])) <= 1e-9 * float(np.max(np.abs(values))):
+            slope = 0.0
+        rate = slope * DAYS_PER_MONTH
     change = None if base is None else latest - base
     pct = None
     if change is not None and base is not None and base > 0 and len(s) >= need and not is_db(s.indicator):

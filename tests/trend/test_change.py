@@ -32,3 +32,18 @@ def test_rate_per_month_is_the_slope():
     c = change_of(_series([1.0, 1.5, 2.0, 2.5], every_days=365.25 / 12))
     assert c.rate_per_month == pytest.approx(0.5)
     assert c.baseline == pytest.approx(1.5) and c.change_pct == pytest.approx(100 * (2.5 - 1.5) / 1.5)
+
+
+@pytest.mark.parametrize("level", [0.0004, 1.7, 3.3e5])
+def test_a_steady_series_has_no_rate(level):
+    # a least-squares slope of equal values is 0 (derived); the fit's rounding left -9.6e-20 per month,
+    # printed beside a "+0" change
+    c = change_of(_series([level] * 6, every_days=30.0))
+    assert c.rate_per_month == 0.0
+
+
+def test_a_small_true_rise_keeps_its_rate():
+    # 1 part in a million per month is far above the values' rounding: kept (derived)
+    values = [1.0 + 1e-6 * k for k in range(4)]
+    c = change_of(_series(values, every_days=365.25 / 12))
+    assert c.rate_per_month == pytest.approx(1e-6, rel=1e-3)
