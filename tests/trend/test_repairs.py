@@ -108,6 +108,9 @@ def test_every_format_shows_the_findings_beside_their_points(store, capsys, tmp_
         for word in (REPAIRED, "inner-race defect", "pump_de", "WO-41", "stage 3", "2026-06-12", "nothing found",
                      "before the repair"):
             assert word in text, (fmt, word)
+        # the points whose baseline the repair resets (every point on the pump shaft), not those that see it
+        said = "resets the baseline at" if fmt == "text" else "reset at"
+        assert f"{said} P1A, P1H, P2H" in text, fmt
     html = (tmp_path / "t.html").read_text()
     svgs = html.split("<svg")[1:]
     assert svgs and all("found 2026-06-12" in svg for svg in svgs)      # a marker in every plot of a point
