@@ -5,8 +5,9 @@ channel at the alarm's point, the measured value is the overall level of the
 analysis, or the RMS of the analysed Hann spectrum in the band's ranges with
 the window's noise-bandwidth correction (``analysis.bands``). An alarm is
 ``danger`` at or above its danger level, ``alert`` at or above its alert
-level, else ``within``. A band that reaches past the reading's Fmax is measured
-up to Fmax only, and says so (``measured_to_hz``); one wholly past it has no
+level, else ``within``. A band that reaches past the analysed spectrum's last line
+(half the sample rate, above the acquisition's Fmax of sample rate / 2.56) is measured
+up to that line only, and says so (``measured_to_hz``); one wholly past it has no
 value. Alarms never touch the reasoning or its certainty.
 """
 
@@ -50,7 +51,7 @@ def judge_alarms(analysis: Analysis, untrusted=()) -> tuple[dict, ...]:
             ranges = band_ranges_hz(alarm, analysis.machine, analysis.speeds_hz, ch.spectrum.resolution_hz)
             value = None if ch.name in untrusted else _value(alarm, ch, ranges)
             fmax = ch.spectrum.fmax_hz
-            # a band reaching past Fmax is measured up to Fmax only: its value says nothing of the rest
+            # a band past the spectrum's last line is measured up to it only: its value says nothing of the rest
             short = value is not None and any(hi > fmax for _, hi in ranges)
             out.append({
                 "point": alarm.point, "channel": ch.name, "band": alarm.band, "quantity": alarm.quantity,
@@ -59,7 +60,7 @@ def judge_alarms(analysis: Analysis, untrusted=()) -> tuple[dict, ...]:
                 "value": value, "alert": alarm.alert, "danger": alarm.danger,
                 "state": state_of(value, alarm.alert, alarm.danger),
                 "why_no_value": None if value is not None else (
-                    "scale not trusted" if ch.name in untrusted else "band above the reading's Fmax"
+                    "scale not trusted" if ch.name in untrusted else "band above the analysed spectrum"
                     if ranges else "no level of this quantity"),
                 "source": alarm.source, "set_at": alarm.where,
                 "measured_to_hz": round(fmax, 3) if short else None,

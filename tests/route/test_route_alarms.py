@@ -191,11 +191,11 @@ def test_a_band_partly_beyond_fmax_says_it_was_measured_up_to_fmax_only():
     assert rows["5000-9000 Hz"]["value"] == rows["5000-6400 Hz"]["value"] is not None   # the same lines
     assert rows["5000-6400 Hz"]["measured_to_hz"] is None and rows["1000-2000 Hz"]["measured_to_hz"] is None
     beyond = rows["7000-9000 Hz"]
-    assert beyond["value"] is None and beyond["why_no_value"] == "band above the reading's Fmax"
+    assert beyond["value"] is None and beyond["why_no_value"] == "band above the analysed spectrum"
     for fmt in ("text", "md", "html"):
         out = render(doc, fmt)
         assert out.count("5000-9000 Hz") == 1, fmt
-        assert out.count(f"partly beyond Fmax: measured up to {fmax:g} Hz only") == 1, fmt
+        assert out.count(f"partly beyond the analysed spectrum: measured up to {fmax:g} Hz only") == 1, fmt
 
 
 def test_a_route_stops_on_a_site_file_naming_no_machine_of_it(tmp_path, capsys):
