@@ -4,6 +4,11 @@ the command line's one-error-line check, and the demo cases' diagnoses made once
 from __future__ import annotations
 
 import functools
+import os
+import signal
+import subprocess
+import sys
+import time
 from html.parser import HTMLParser
 from pathlib import Path
 
@@ -116,3 +121,24 @@ def doc_of(name: str, *site) -> dict:
     from engine.pipeline import document_of
 
     return document_of(case_diagnosis(name, *site), made_at=MADE_AT)
+
+
+# the console script's own code (pyproject: tellwave = "engine.start:script")
+CONSOLE_SCRIPT = [sys.executable, "-c", "from engine.start import script; script()"]
+
+
+def interrupt(proc: subprocess.Popen, when) -> tuple[int, str]:
+    """Ctrl-C to the whole process group of ``proc`` (as a terminal sends it) once ``when()`` is true: its
+    exit code and standard error."""
+    try:
+        deadline = time.monotonic() + 60
+        while not when() and proc.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.005)
+        assert proc.poll() is None, "the command ended before it could be interrupted"
+        os.killpg(proc.pid, signal.SIGINT)
+        _, err = proc.communicate(timeout=90)
+    finally:
+        if proc.poll() is None:
+            os.killpg(proc.pid, signal.SIGKILL)
+            proc.wait()
+    return proc.returncode, err.decode(errors="replace")

@@ -59,6 +59,19 @@ def single_test_needed(days: np.ndarray | None, s: HealthSettings) -> bool:
     return s.readings_in_row * float(np.median(np.diff(np.asarray(days, float)))) > s.single_slower_than_days
 
 
+def _declared(v: np.ndarray, m: int, run: int, k: int, band_high: float, onset_high: float, who: str,
+              s: HealthSettings) -> Onset | None:
+    """The start declared after reading ``m`` when its last ``run`` values of ``v`` all stand above
+    ``band_high``: the first reading of the stretch above it, back to the band's ``k`` early readings."""
+    if not np.all(v[m - run:m] > band_high):
+        return None
+    start = m - run
+    while start > k and v[start - 1] > band_high:
+        start -= 1
+    return Onset(start, k, onset_high, f"{who} healthy band (mean + {s.band_sd:g} sd of the first {k} readings) "
+                                       f"at reading {start + 1} and stayed out {run} readings in a row")
+
+
 def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None, *,
                           single: np.ndarray | None = None, days: np.ndarray | None = None) -> Onset:
     """The first reading of the first run of ``readings_in_row`` readings of the (smoothed) health
@@ -88,22 +101,12 @@ def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = 
         if m < k + fewest:
             continue
         high = _band(x, k, s)
-        if m >= k + row and np.all(x[m - row:m] > high):
-            start = m - row
-            while start > k and x[start - 1] > high:
-                start -= 1
-            return Onset(start, k, high, f"the health indicator left its healthy band (mean + {s.band_sd:g} sd "
-                                         f"of the first {k} readings) at reading {start + 1} and stayed out "
-                                         f"{row} readings in a row")
+        if m >= k + row and (on := _declared(x, m, row, k, high, high, "the health indicator left its", s)):
+            return on
         if one:
             high1 = _band(y, k, s)
-            if np.all(y[m - one:m] > high1):
-                start = m - one
-                while start > k and y[start - 1] > high1:
-                    start -= 1
-                return Onset(start, k, high, f"single readings left their healthy band (mean + {s.band_sd:g} sd "
-                                             f"of the first {k} readings) at reading {start + 1} and stayed out "
-                                             f"{one} readings in a row")
+            if on := _declared(y, m, one, k, high1, high, "single readings left their", s):
+                return on
     out = _run_above(y, high1) if one and np.isfinite(high1) else _run_above(x, high) if np.isfinite(high) else 0
     band = f"mean + {s.band_sd:g} sd of the first {k} readings"
     what = "the single readings are" if one else "the health indicator is"

@@ -5,33 +5,13 @@ a traceback."""
 from __future__ import annotations
 
 import os
-import signal
 import subprocess
-import sys
 import time
 
 import pytest
 from routes import make_route
 
-from support import ROOT
-
-SCRIPT = [sys.executable, "-c", "from engine.start import script; script()"]   # the console script's code
-
-
-def _interrupt(proc: subprocess.Popen, when) -> tuple[int, str]:
-    """Ctrl-C to the whole process group (as a terminal sends it) once ``when()`` is true."""
-    try:
-        deadline = time.monotonic() + 60
-        while not when() and proc.poll() is None and time.monotonic() < deadline:
-            time.sleep(0.005)
-        assert proc.poll() is None, "the route ended before it could be interrupted"
-        os.killpg(proc.pid, signal.SIGINT)
-        _, err = proc.communicate(timeout=90)
-    finally:
-        if proc.poll() is None:
-            os.killpg(proc.pid, signal.SIGKILL)
-            proc.wait()
-    return proc.returncode, err.decode(errors="replace")
+from support import CONSOLE_SCRIPT, ROOT, interrupt
 
 
 def _fork_server_of(pgid: int) -> bool:
@@ -55,7 +35,7 @@ def _fork_server_of(pgid: int) -> bool:
 @pytest.mark.skipif(not os.path.isdir("/proc"), reason="reads the process table from /proc")
 def test_ctrl_c_while_route_workers_start_is_one_line_and_130(tmp_path):
     route = make_route(tmp_path / "r", n=4, bad=False, seed=7)
-    proc = subprocess.Popen([*SCRIPT, "route", str(route), "--store", str(tmp_path / "h.sqlite"),
+    proc = subprocess.Popen([*CONSOLE_SCRIPT, "route", str(route), "--store", str(tmp_path / "h.sqlite"),
                              "--out", str(tmp_path / "out"), "--workers", "2", "--quiet"],
                             cwd=ROOT, start_new_session=True, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
     # the fork server imports the engine before its workers start: the moment a Ctrl-C used to reach
@@ -67,7 +47,7 @@ def test_ctrl_c_while_route_workers_start_is_one_line_and_130(tmp_path):
             seen.append(time.monotonic())
         return bool(seen) and time.monotonic() - seen[0] >= 0.3
 
-    code, err = _interrupt(proc, importing)
+    code, err = interrupt(proc, importing)
     assert "Traceback" not in err and "KeyboardInterrupt" not in err, err
     assert code == 130, (code, err)
     assert "tellwave: interrupted" in err
