@@ -3,7 +3,8 @@
 A Ctrl-C while the command line is parsed or the engine is imported (numpy, scipy and the
 rest take a good part of a second) would otherwise end in a Python traceback and a death
 by signal. Here the whole run, its imports included, sits inside one handler: an interrupt
-at any moment prints ``tellwave: interrupted`` and exits 130 (``engine.cli.EXIT_INTERRUPTED``).
+at any moment prints ``tellwave: interrupted`` and exits 130 (``EXIT_INTERRUPTED``; ``engine.cli.main``
+leaves through the same ``_interrupted``).
 Only the interpreter's own start-up, before this module runs, is outside it.
 """
 
@@ -12,7 +13,7 @@ from __future__ import annotations
 import signal
 import sys
 
-EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it (engine.cli says the same)
+EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 
 def _interrupted() -> int:

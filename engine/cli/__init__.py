@@ -16,6 +16,7 @@ import sys
 import warnings
 
 from ..common.errors import TellwaveError, UsageError
+from ..start import _interrupted  # Ctrl-C's one home
 from . import (
     alarms,
     demo,
@@ -37,7 +38,6 @@ from ._common import Parser
 
 COMMANDS = (frequencies, reading, evidence, synth, diagnose, plan, demo, rulebook, route, history, findings, learn,
             trend, demo_route, alarms)
-EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
 
 
 class _Listed(Exception):
@@ -111,11 +111,7 @@ def main(argv=None) -> int:
     try:
         return _main(argv)
     except KeyboardInterrupt:
-        import signal
-
-        signal.signal(signal.SIGINT, signal.SIG_IGN)      # leaving: a second Ctrl-C changes nothing
-        print("tellwave: interrupted", file=sys.stderr)
-        return EXIT_INTERRUPTED
+        return _interrupted()
 
 
 def _main(argv) -> int:
@@ -140,9 +136,6 @@ def _main(argv) -> int:
         return exc.exit_code
     except BrokenPipeError:
         return 0
-    except KeyboardInterrupt:
-        print("tellwave: interrupted", file=sys.stderr)
-        return EXIT_INTERRUPTED
 
 
 __all__ = ["build_parser", "main", "UsageError"]

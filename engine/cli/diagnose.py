@@ -17,7 +17,6 @@ from ._common import (
     rulebook,
     say,
     shown_units,
-    site_alarms,
 )
 
 
@@ -67,10 +66,10 @@ def run(args) -> int:
         from ._store import check_store_folder
 
         check_store_folder(args.store)
-    from ..machine.alarms import with_site_alarms
+    from ..machine.alarms import check_alarm_machines, with_site_alarms
 
     machine = load_machine(args.machine)
-    site_alarms(args, [machine.name])          # each file names this machine (a misspelt name is an error)
+    check_alarm_machines(args.alarms or (), [machine.name])   # each file names this machine (no misspelt name)
     machine = with_site_alarms(machine, args.alarms or ())
     rules = rulebook(args)
     reasoner = Reasoner(rules)

@@ -10,7 +10,7 @@ not fit its machine file (a channel at a point the machine lacks); 5 bad ruleboo
 advice data; 6 a rule failed while running; 7 diagnosed, but the reading cannot
 support a conclusion (``EXIT_WITHHELD``: not an error, a result); 8 the history
 store cannot be used; 9 a route finished, but some of its readings failed; 130
-interrupted (Ctrl-C, ``engine.cli.EXIT_INTERRUPTED``).
+interrupted (Ctrl-C, ``engine.start.EXIT_INTERRUPTED``).
 """
 
 from __future__ import annotations

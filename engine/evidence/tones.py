@@ -71,18 +71,18 @@ def tones(rc: Analysis) -> list[dict]:
                     continue
                 if f.family == "electrical" and _shaft_order_nearer(rc, lines.freq_hz[i], f.frequency_hz):
                     continue
-                hits.append((f, peak))
+                hits.append((f, peak, spec))
         if not hits:
             continue
-        accel_g, v = _amplitudes_at(c, np.array([p.freq_hz for _, p in hits]), 0.0)
-        for (f, peak), a_g, v_mm_s in sorted(zip(hits, accel_g, v), key=lambda h: wanted.index(h[0][0])):
+        accel_g, v = _amplitudes_at(c, np.array([p.freq_hz for _, p, _ in hits]), 0.0)
+        for (f, peak, spec), a_g, v_mm_s in sorted(zip(hits, accel_g, v), key=lambda h: wanted.index(h[0][0])):
             out.append(c.base() | {
                 "kind": "tone", "name": f.name, "component": f.component, "family": f.family,
                 "shaft": f.shaft, "expected_hz": f.frequency_hz, "freq_hz": peak.freq_hz,
                 "amplitude_mm_s": float(v_mm_s), "amplitude_g": float(a_g), "snr_db": db(peak.snr),
                 "ratio_to_1x": float(v_mm_s) / one_x[f.shaft] if one_x[f.shaft] > 0 else 0.0,
                 "shaft_order_within_tolerance": (f.family == "electrical"
-                                                 and _shaft_order_within(rc, _spec_of(c, f), f.frequency_hz)),
+                                                 and _shaft_order_within(rc, spec, f.frequency_hz)),
                 SIGNS: {spectrum_line(c.name, peak.line): match_fit(peak.freq_hz / f.frequency_hz - 1,
                                                                     _tol(rc, f.family))},
             })
@@ -204,12 +204,6 @@ def _shaft_order_within(rc: Analysis, spec, expected_hz: float) -> bool:
     when one of those can sit there; a line nearer the stated harmonic went to it (``_shaft_order_nearer``)."""
     _, shaft_hz = _nearest_shaft_order(rc, expected_hz)
     return bool(abs(shaft_hz - expected_hz) <= tolerance_hz(spec, expected_hz, SPEED_TOLERANCE))
-
-
-def _spec_of(c: ChannelAnalysis, f) -> object:
-    """The spectrum a tone of forcing frequency ``f`` is read from (velocity below 1 kHz and for shaft-like
-    families, acceleration above)."""
-    return c.velocity if _uses_velocity(f.family, f.frequency_hz) else c.spectrum
 
 
 def _is_other_line(rc: Analysis, freq_hz: float, exclude_shaft: str) -> bool:

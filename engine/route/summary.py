@@ -94,10 +94,10 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     items: list[dict] = []
     for point, (_t_now, v_now, _id_now) in now.items():
         if point in then:
-            t_then, v_then, id_then = then[point]
+            t_then, v_then, _id_then = then[point]
             pct = 100.0 * (v_now - v_then) / v_then if v_then > 0 else None
             items.append({"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
-                          "change_pct": None if pct is None else round(pct, 1), "_then_id": id_then})
+                          "change_pct": None if pct is None else round(pct, 1)})
     if not items:
         return None
     seeing = [x for x in items if top_points and x["point"] in top_points]
@@ -108,12 +108,10 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     best["chosen"] = ("the point at the top finding's component" if seeing
                       else "the point whose velocity changed most")
     best["top_then"] = None
-    top = store.top_hypothesis(int(best["_then_id"]))   # the point's own earlier reading, not the survey's last
+    top = store.top_hypothesis(int(then[best["point"]][2]))  # the point's own earlier reading, not the survey's last
     if top is not None:
         best["top_then"] = f"{top['fault_name']} on {top['component']} ({_pct(top['certainty'])} %)"
     best["repairs"] = _repairs_between(store, machine, str(best["since"]), first_now)
-    for x in items:
-        del x["_then_id"]
     return best
 
 

@@ -88,7 +88,7 @@ def test_a_second_stage_tooth_does_not_name_the_sister_gear(reasoner, tooth_fact
         assert _certainty(result, "gear-tooth", "second_stage") >= CONFIDENT, _listing(result)
         assert _certainty(result, "gear-tooth", "first_stage") < CONFIDENT, _listing(result)
         against = next(h for h in result.hypotheses if (h.fault, h.component) == ("gear-tooth", "first_stage"))
-        assert "gear.tooth.sister-mesh" in {f.rule_id for f in against.against}, seed
+        assert "gear.tooth.other-mesh-on-shaft" in {f.rule_id for f in against.against}, seed
 
 
 def _mesh_family(component: str, ratio: float) -> dict:
@@ -109,7 +109,7 @@ def _mesh_family(component: str, ratio: float) -> dict:
 def test_the_sister_mesh_rule_needs_a_10_db_difference(reasoner, sister_ratio, fires):
     # 10 dB = 3.16 x in amplitude (20 log10 3.16 = 10.0); the damaged mesh's sidebands at 0.2 of its carrier
     facts = [_mesh_family("second_stage", 0.2), _mesh_family("first_stage", sister_ratio)]
-    rule = "gear.tooth.sister-mesh"
+    rule = "gear.tooth.other-mesh-on-shaft"
     # only the sideband facts: the rule fires on its own, against the gear whose mesh carries less
     result = reasoner.reason(facts)
     against = {h.component for h in result.hypotheses for f in h.against if f.rule_id == rule}
@@ -122,7 +122,7 @@ def test_the_sister_mesh_rule_ignores_a_family_without_its_carrier(reasoner):
     quiet = _mesh_family("first_stage", 0.01) | {"carrier_found": False, "sideband_to_carrier": 0.0,
                                                   "sideband_to_carrier_db": 0.0}
     result = reasoner.reason([_mesh_family("second_stage", 0.2), quiet])
-    assert not any(f.rule_id == "gear.tooth.sister-mesh" for h in result.hypotheses for f in h.against)
+    assert not any(f.rule_id == "gear.tooth.other-mesh-on-shaft" for h in result.hypotheses for f in h.against)
 
 
 @pytest.mark.parametrize("seed", [0, 1, 2])

@@ -224,7 +224,7 @@ SIMULATED = [
      "belt.sheave-misalignment.against-half-orders"),
     ("two gears on one shaft, the second stage's tooth damaged", "gc1",
      lambda: as_reading(simulate(_machine("gc1"), "gear-tooth", "second_stage", 2, None, 25600.0, 4.0, 0)),
-     "gear.tooth.sister-mesh"),
+     "gear.tooth.other-mesh-on-shaft"),
 ]
 
 def _fired(reasoning) -> set[str]:
