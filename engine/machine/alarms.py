@@ -199,7 +199,8 @@ def with_site_alarms(machine: Machine, files=()) -> Machine:
     site alarm replaces any alarm of the same point and quantity whose band resolves to the same
     frequency ranges, however it is written. An alarm for a point, bearing or mesh the machine lacks
     is a MachineError naming the alarm file."""
-    alarms = list(machine.alarms)
+    # each alarm beside what it measures, resolved once (the machine's own when a site alarm first needs them)
+    alarms: list[tuple[Alarm, tuple]] | None = None
     for path in files:
         for a in load_alarm_file(path).get(machine.name, ()):
             try:
@@ -208,13 +209,15 @@ def with_site_alarms(machine: Machine, files=()) -> Machine:
                 file, _, line = a.where.rpartition(":")
                 raise MachineError(f"alarm for {machine.name} at {a.point} ({a.band}): {exc.problem}",
                                    path=file, line=int(line) if line.isdigit() else None) from None
-            at = [i for i, b in enumerate(alarms) if b.key == a.key or measures_the_same(b, machine) == same]
+            if alarms is None:
+                alarms = [(b, measures_the_same(b, machine)) for b in machine.alarms]
+            at = [i for i, (b, measured) in enumerate(alarms) if b.key == a.key or measured == same]
             if at:                     # in the place of the first it replaces, the others dropped
-                alarms[at[0]] = a
-                alarms = [b for i, b in enumerate(alarms) if i not in at[1:]]
+                alarms[at[0]] = (a, same)
+                alarms = [x for i, x in enumerate(alarms) if i not in at[1:]]
             else:
-                alarms.append(a)
-    return replace(machine, alarms=tuple(alarms))
+                alarms.append((a, same))
+    return machine if alarms is None else replace(machine, alarms=tuple(a for a, _ in alarms))
 
 
 def check_alarm_machines(files, known) -> None:

@@ -91,6 +91,25 @@ def test_a_site_file_overrides_the_machine_files_alarm(tmp_path):
     assert load_alarm_file(site)["RW-2 raw water pump"][0].danger == 5.0
 
 
+def test_each_alarm_is_resolved_once_however_many_site_alarms(tmp_path, monkeypatch):
+    # closing-stop29: every machine alarm was resolved again for each site alarm (n x m); now n + m
+    import engine.machine.alarms as alarms_module
+
+    own = [_alarm(band=f"{k}X") for k in range(1, 5)]
+    m = load_machine(_machine_with(tmp_path, own))
+    site = tmp_path / "alarms.yaml"
+    site.write_text(yaml.safe_dump({"machines": {m.name: [_alarm(band=f"{k}X", alert=3.0, danger=5.0)
+                                                          for k in (1, 2, 7)]}}))
+    calls = []
+    real = alarms_module.measures_the_same
+    monkeypatch.setattr(alarms_module, "measures_the_same", lambda a, machine: calls.append(a.band) or real(a, machine))
+    merged = with_site_alarms(m, [site]).alarms
+    assert [(a.band, a.alert) for a in merged] == [("1X", 3.0), ("2X", 3.0), ("3X", 2.0), ("4X", 2.0), ("7X", 3.0)]
+    assert len(calls) == len(own) + 3
+    calls.clear()
+    assert with_site_alarms(m, [tmp_path / "none.yaml"] * 0).alarms == m.alarms and calls == []
+
+
 @pytest.mark.parametrize("alarm, field, words", [
     (_alarm(band="1-2 X"), "alarms.0.band", "'1-2 X' is not an accepted form; accepted: overall; orders"),
     (_alarm(band="3-2X"), "alarms.0.band", "low to high"),
