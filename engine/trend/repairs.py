@@ -54,6 +54,12 @@ class Repair:
         """The first moment of the repaired machine: the start of the day after the day found."""
         return datetime.fromisoformat(self.found_on) + timedelta(days=1)
 
+    def is_after(self, taken_at: str | datetime) -> bool:
+        """Whether a reading taken at ``taken_at`` (ISO text or a datetime; its own clock, any offset left
+        aside) is of the repaired machine: at or after ``after``. The one cut every part of the trend uses."""
+        t = datetime.fromisoformat(taken_at) if isinstance(taken_at, str) else taken_at
+        return t.replace(tzinfo=None) >= self.after
+
     def sees(self, point: str) -> bool:
         """Whether ``point`` sees the component (every point does when that is not known)."""
         return self.points is None or point in self.points
@@ -115,7 +121,8 @@ def points_reset(machine, component: str) -> tuple[str, ...] | None:
     return points_seeing(machine, component)
 
 
-def _machine_of(machine_file: str | None, known: dict):
+def machine_of(machine_file: str | None, known: dict):
+    """The Machine of ``machine_file``, read once per ``known`` (file -> Machine, None when it cannot be read)."""
     from ..common.errors import TellwaveError
     from ..machine import load_machine
 
@@ -128,20 +135,21 @@ def _machine_of(machine_file: str | None, known: dict):
 
 
 def repairs_of(findings: list[dict], machine_files: dict[int, str | None], fault_names: dict[str, str],
-               machine=None) -> list[Repair]:
+               machine=None, known: dict | None = None) -> list[Repair]:
     """The findings of one machine (``Store.findings`` rows) as Repairs, oldest first.
 
     ``machine_files``: reading id -> the machine file it was diagnosed with; ``machine``: a Machine
     to use instead of reading those files (a diagnosis has its own); ``fault_names``: fault id -> name
-    from the rulebooks (a fault id not there, ``other`` or ``nothing-found``, shows as itself).
+    from the rulebooks (a fault id not there, ``other`` or ``nothing-found``, shows as itself); ``known``:
+    machine file -> Machine (None: unreadable) already read, filled as files are read (``machine_of``).
     """
     merged: dict[tuple, dict] = {}
-    known: dict = {}
+    known = {} if known is None else known
     for f in findings:
         key = (f["found_on"], f["component"], f["fault"], f["stage"], f["work_order"], f["notes"])
         entry = merged.setdefault(key, {"judged": [], "points": set(), "unknown": False, "reset": set()})
         entry["judged"].append(f["taken_at"])
-        m = machine if machine is not None else _machine_of(machine_files.get(f["reading_id"]), known)
+        m = machine if machine is not None else machine_of(machine_files.get(f["reading_id"]), known)
         seen = None if m is None else points_seeing(m, f["component"])
         if seen is None:
             entry["unknown"] = True

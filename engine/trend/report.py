@@ -99,9 +99,9 @@ def _project(s: Series, limit: float, label: str, source: Series | None,
     return p
 
 
-def _since(s: Series, after) -> Series:
-    """The part of ``s`` taken at or after ``after`` (a datetime)."""
-    keep = [i for i, t in enumerate(s.times) if _naive(t) >= after]
+def _since(s: Series, repair: Repair) -> Series:
+    """The part of ``s`` of the machine ``repair`` left (``Repair.is_after``)."""
+    keep = [i for i, t in enumerate(s.times) if repair.is_after(t)]
     return Series(s.machine, s.point, s.indicator, tuple(s.times[i] for i in keep), s.values[keep],
                   tuple(s.reading_ids[i] for i in keep))
 
@@ -267,7 +267,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     for pt, by_name in sorted(by_point.items()):
         direction = next((r["direction"] for r in rows if (r["point"] or r["channel"]) == pt), "")
         reset = reset_of(repairs, pt)
-        used = {n: _since(s, reset.after) for n, s in by_name.items()} if reset else dict(by_name)
+        used = {n: _since(s, reset) for n, s in by_name.items()} if reset else dict(by_name)
         used = {n: u for n, u in used.items() if len(u)}
         indicators, projections = [], {}
         source = choose(by_name)
@@ -325,19 +325,14 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             "points": points}, units or ShownUnits())
 
 
-def zone_scale_for(machine_file: str | None):
-    """The machine's ISO 20816-3 zone scale, from its file when it can still be read."""
+def zone_scale_for(machine_file: str | None, known: dict | None = None):
+    """The machine's ISO 20816-3 zone scale, from its file when it can still be read (``known``: the machine
+    files already read, ``repairs.machine_of``)."""
     from ..advice import Mounting, load_advice, zone_scale
-    from ..common.errors import TellwaveError
-    from ..machine import load_machine
+    from .repairs import machine_of
 
     data = load_advice()
-    machine: Mounting | None = None
-    if machine_file:
-        try:
-            machine = load_machine(machine_file)
-        except TellwaveError:
-            machine = None
+    machine: Mounting | None = machine_of(machine_file, {} if known is None else known)
     if machine is None:
         from types import SimpleNamespace
         machine = SimpleNamespace(iso_group=None, support=None)
@@ -352,11 +347,12 @@ def fault_names() -> dict[str, str]:
     return {k: f.name for k, f in load_rulebook().faults.items()}
 
 
-def _repairs(store, machine: str, readings: list[dict], names: dict[str, str] | None) -> list[Repair]:
-    """The findings of a stored machine as Repairs."""
+def _repairs(store, machine: str, readings: list[dict], names: dict[str, str] | None,
+             known: dict | None = None) -> list[Repair]:
+    """The findings of a stored machine as Repairs (``known``: the machine files already read)."""
     found = store.findings(machine)
     return repairs_of(found, {r["id"]: r["machine_file"] for r in readings},
-                      fault_names() if names is None and found else names or {})
+                      fault_names() if names is None and found else names or {}, known=known)
 
 
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
@@ -369,28 +365,31 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     rows = store.history(machine, point)
     readings = store.readings(machine)
     files = [r["machine_file"] for r in readings if r["machine_file"]]
-    repairs = _repairs(store, machine, readings, names)
-    doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None), limits=limits,
+    known: dict = {}        # machine file -> Machine: each file read once for the whole document
+    repairs = _repairs(store, machine, readings, names, known)
+    doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None, known), limits=limits,
                           point=point, plots=plots, repairs=repairs, units=units,
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
-                                                     else _repairs(store, m, store.readings(m), names)))
+                                                     else _repairs(store, m, store.readings(m), names, known)))
     doc["store"] = str(store.path)
     if waterfall or compare is not None:
-        _add_spectra(doc, store, machine, point, compare, plots, repairs, units)
+        _add_spectra(doc, store, machine, point, compare, plots, repairs, units, known)
     return doc
 
 
 def _add_spectra(doc: dict, store, machine: str, point: str | None, compare, plots: bool,
-                 repairs: list[Repair], units: ShownUnits | None = None) -> None:
+                 repairs: list[Repair], units: ShownUnits | None = None, known: dict | None = None) -> None:
     """Each point's spectra over time (``waterfall.spectra_section``); with ``compare``, at the points both
-    readings have (``point`` named: that point must have both)."""
+    readings have (``point`` named: that point must have both). ``known``: the machine files already read."""
+    known = {} if known is None else known
     from ..common.errors import UsageError
     from .waterfall import spectra_section
 
     for entry in doc["points"]:
         try:
             entry["spectra"] = spectra_section(store, machine, entry["point"], compare=compare, plots=plots,
-                                               repair=reset_of(repairs, entry["point"]), units=units)
+                                               repair=reset_of(repairs, entry["point"]), units=units,
+                                               machines=known)
         except UsageError:
             if point is not None:
                 raise

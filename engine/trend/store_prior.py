@@ -48,21 +48,17 @@ def _part(s: Series, keep: list[int]) -> Series:
                   tuple(s.reading_ids[i] for i in keep))
 
 
-def _naive(t):
-    return t.replace(tzinfo=None) if t.tzinfo is not None else t
-
-
 def ended_histories(s: Series, repairs: list[Repair], limit: float | None) -> list[Series]:
     """The parts of ``s`` that ended in a recorded failure (readings up to the day of a finding with a
     fault found at a component its point sees) or ran to ``limit`` (up to the first reading at or past it)."""
     out: list[Series] = []
-    start = None
+    start: Repair | None = None        # the repair the current part starts after (``Repair.is_after``)
     for r in sorted((r for r in repairs if r.resets and r.sees(s.point)), key=lambda r: r.after):
-        keep = [i for i, t in enumerate(s.times) if (start is None or _naive(t) >= start) and _naive(t) < r.after]
+        keep = [i for i, t in enumerate(s.times) if (start is None or start.is_after(t)) and not r.is_after(t)]
         if keep:
             out.append(_part(s, keep))
-        start = r.after
-    rest = [i for i, t in enumerate(s.times) if start is None or _naive(t) >= start]
+        start = r
+    rest = [i for i, t in enumerate(s.times) if start is None or start.is_after(t)]
     if limit is not None:
         past = [j for j, i in enumerate(rest) if s.values[i] >= limit]
         if past:

@@ -236,37 +236,31 @@ def _listed(r: dict, shown: _Shown | None = None) -> dict:
     return entry
 
 
-def _seen_shafts(store, reading_id: int, shaft: str | None) -> set[str] | None:
+def _seen_shafts(store, reading_id: int, shaft: str | None, machines: dict) -> set[str] | None:
     """The shafts a point on ``shaft`` sees (``Machine.shafts_seen_from``), from the machine file the reading
-    was diagnosed with; None when that file cannot be read or does not name the shaft."""
-    from ..common.errors import TellwaveError
-    from ..machine import load_machine
+    was diagnosed with (read once per ``machines``: ``repairs.machine_of``); None when that file cannot be
+    read or does not name the shaft."""
+    from .repairs import machine_of
 
     row = store.reading(reading_id)
     if not shaft or row is None or not row.get("machine_file"):
         return None
-    try:
-        machine = load_machine(row["machine_file"])
-    except TellwaveError:
+    machine = machine_of(row["machine_file"], machines)
+    if machine is None:
         return None
     return machine.shafts_seen_from(shaft) if shaft in machine.shaft_speeds_hz else None
 
 
-def _after(rows: list[dict], repair) -> list[dict]:
-    """The rows taken after the day ``repair`` (a ``repairs.Repair``) was found: a reading of that day is the
-    as-found condition (``engine.trend.repairs``)."""
-    return rows if repair is None else [r for r in rows if r["taken_at"][:10] > repair.found_on]
-
-
 def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
                     compare: tuple[int, int] | None = None, plots: bool = False, repair=None,
-                    units: ShownUnits | None = None) -> dict:
+                    units: ShownUnits | None = None, machines: dict | None = None) -> dict:
     """Spectra over time at ``point``: the readings (with their compact spectra, or why none), the forcing
     frequencies marked, the largest changes per line (between the two readings of ``compare``, or from the
     first survey of the waterfall after ``repair``, the latest repair that reset the point's baseline
     (``repairs.reset_of``), to the latest: never across a repair), and with ``plots`` the SVG figures, the
     surveys before the repair in grey. ``compare`` ids must be stored readings of ``machine`` at ``point``
-    (a UsageError otherwise). ``units``: what ``shown`` and the figures use (None: Hz and mm/s RMS)."""
+    (a UsageError otherwise). ``units``: what ``shown`` and the figures use (None: Hz and mm/s RMS).
+    ``machines``: machine file -> Machine already read (``repairs.machine_of``), shared by a document's points."""
     rows = _by_reading(store.spectra(machine, point))
     section: dict = {"point": point, "quantity": "velocity", "unit": "mm/s RMS", "readings": [],
                      "marks": [], "marks_from": None, "waterfall": None, "compare": None,
@@ -291,7 +285,7 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
         return section
     latest = with_spectrum[-1]
     f_max = max(len(r["amplitudes"]) * r["step_hz"] for r in with_spectrum)
-    seen = _seen_shafts(store, latest["id"], latest["shaft"])
+    seen = _seen_shafts(store, latest["id"], latest["shaft"], {} if machines is None else machines)
     marks = marks_for(latest["forcing"], latest["shaft"], latest["at"], f_max, seen)
     section.update(marks=[m | {"shown": {"frequency": worded.f(m["frequency_hz"], latest)}} for m in marks],
                    marks_from={"id": latest["id"], "taken_at": latest["taken_at"]},
@@ -308,7 +302,7 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
                               "svg": _overlay(point, a, b, marks, worded) if plots and both else None}
         section.update(changes=section["compare"]["changes"], changes_from=a["id"], changes_to=b["id"])
     else:
-        since = _after(with_spectrum, repair)
+        since = [r for r in with_spectrum if repair is None or repair.is_after(r["taken_at"])]
         first = since[0] if since else None
         if repair is not None:
             section["repair"] = {"found_on": repair.found_on, "component": repair.component,
@@ -323,7 +317,8 @@ def spectra_section(store, machine: str, point: str, *, waterfall: bool = True,
         section["waterfall"] = {
             "surveys": len(with_spectrum), "first": None if first is None else first["id"], "last": latest["id"],
             "changes": changes(first, latest) if first is not None and first is not latest else [],
-            "svg": _waterfall(point, with_spectrum, marks, worded, repair) if plots else None}
+            "svg": _waterfall(point, with_spectrum, marks, worded, repair, {r["id"] for r in since}) if plots
+            else None}
         section.update(changes=section["waterfall"]["changes"], changes_from=None if first is None else first["id"],
                        changes_to=latest["id"])
     return section
@@ -350,15 +345,17 @@ def drawn_to_hz(rows: list[dict], marks: list[dict]) -> float:
     return min(stored, wanted) if wanted > 0 else stored
 
 
-def _waterfall(point: str, rows: list[dict], marks: list[dict], shown: _Shown, repair=None) -> str:
+def _waterfall(point: str, rows: list[dict], marks: list[dict], shown: _Shown, repair=None,
+               after: set[int] | None = None) -> str:
     """The waterfall: the oldest survey at the top (the back), each later one lower and drawn over it; the
-    surveys before ``repair`` in grey, below a dashed line naming the repair."""
+    surveys before ``repair`` in grey, below a dashed line naming the repair (``after``: the ids of the
+    surveys after it, every one when None)."""
     from ..report.svg import Level, Plot, Series, render
 
     tallest = shown.v(max(float(np.max(r["amplitudes"])) for r in rows))
     rise = 0.6 * tallest if tallest > 0 else 1.0
     n = len(rows)
-    after = {r["id"] for r in _after(rows, repair)}
+    after = {r["id"] for r in rows} if after is None else after
     series, ticks = [], []
     for k, r in enumerate(rows):                      # oldest first: drawn first, so later ones cover it
         offset = (n - 1 - k) * rise

@@ -259,3 +259,35 @@ def test_the_shafts_seen_come_from_the_machine_file(tmp_path):
         section = spectra_section(s, PUMP, "P1H")
     # the demo pump (invented plant data): the pump shaft is coupled to the motor's
     assert section["shafts_seen"] == ["motor", "pump"]
+
+
+def test_a_waterfall_of_every_point_reads_the_machine_file_once(tmp_path, monkeypatch):
+    # closing-stop29: the waterfall read the machine file once per point (and the repairs once more)
+    import engine.machine as machine_module
+
+    from support import CASES
+
+    reads = []
+    real = machine_module.load_machine
+    monkeypatch.setattr(machine_module, "load_machine", lambda path: reads.append(path) or real(path))
+    with Store(tmp_path / "h.sqlite") as s:
+        for n, point in enumerate(("P1H", "P2H", "P1A", "P1H", "P2H", "P1A")):
+            rec = _record(n + 1, 1 + n // 3, 0.01, point=point)
+            rec["machine_file"] = str(CASES / "machines" / "rw2-raw-water-pump.yaml")
+            s.add(rec)
+        s.add_finding({"reading_id": 1, "component": "pump_de", "fault": "inner-race", "stage": 2,
+                       "found_on": "2026-01-20"})
+        doc = trend_document(s, PUMP, waterfall=True, names={})
+    assert [p["spectra"]["shafts_seen"] for p in doc["points"]] == [["motor", "pump"]] * 3
+    assert len(reads) == 1
+
+
+@pytest.mark.parametrize("taken_at, after", [("2026-03-20T23:59:59", False), ("2026-03-21T00:00:00", True),
+                                             ("2026-03-21T00:30:00+02:00", True), ("2026-03-19T10:00:00", False)])
+def test_one_cut_at_a_repair_for_the_trend_and_the_waterfall(taken_at, after):
+    # a reading on the day found is the as-found condition (engine/trend/repairs.py); the trend's baseline
+    # (report._since), the waterfall's surveys and the route summary all ask Repair.is_after
+    from engine.trend.repairs import Repair
+
+    r = Repair("2026-03-20", "pump_de", "inner-race", "inner race", 2, None, None, (), None)
+    assert r.is_after(taken_at) is after
