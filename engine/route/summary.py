@@ -42,25 +42,20 @@ def _velocity_by_point(rows: list[dict]) -> dict[str, tuple[str, float, int]]:
 
 
 def _repairs_between(store: Store, machine: str, since: str, until: str) -> list[dict]:
-    """The findings of ``machine`` with a fault found (a repair: ``engine.trend.repairs``) between the reading
+    """The repairs of ``machine`` (``trend.repairs.repairs_of``: findings with a fault found) between the reading
     of ``since`` and the one of ``until`` (ISO times), once per day, component and fault: found_on, component,
-    fault. A reading taken on the day found is the as-found condition (before the repair), so the day of
-    ``since`` counts and the day of ``until`` does not."""
-    from ..trend.repairs import NOTHING_FOUND
+    fault, fault_name. The reading of ``since`` is before the repair and the one of ``until`` after it
+    (``Repair.is_after``: a reading taken on the day found is the as-found condition)."""
+    from ..trend.repairs import repairs_of
+    from ..trend.report import fault_names
 
-    out, seen = [], set()
-    for f in store.findings(machine):
-        key = (f["found_on"][:10], f["component"], f["fault"])
-        if f["fault"] != NOTHING_FOUND and since[:10] <= key[0] < until[:10] and key not in seen:
-            seen.add(key)
-            out.append({"found_on": key[0], "component": key[1], "fault": key[2]})
-    if out:
-        from ..trend.report import fault_names
-
-        names = fault_names()
-        for x in out:
-            x["fault_name"] = names.get(x["fault"], x["fault"])
-    return out
+    found = store.findings(machine)
+    out: dict[tuple, dict] = {}
+    for r in repairs_of(found, {}, fault_names() if found else {}):
+        if r.resets and not r.is_after(since) and r.is_after(until):
+            out.setdefault((r.found_on, r.component, r.fault), {"found_on": r.found_on, "component": r.component,
+                                                               "fault": r.fault, "fault_name": r.fault_name})
+    return list(out.values())
 
 
 def _points_of_top(machine_file: str | None, component: str | None) -> tuple[str, ...] | None:

@@ -106,3 +106,24 @@ def test_the_top_finding_then_is_the_points_own_and_a_repair_between_is_named(tm
         change = _change(s, "RW-2 raw water pump", now, ("P1A", "P1H"))
         assert change["repairs"] == [{"found_on": "2026-03-19", "component": "pump_de", "fault": "unbalance",
                                       "fault_name": "unbalance"}]
+
+
+def test_the_summarys_repairs_are_the_trends_repairs(tmp_path):
+    # closing-stop29: the summary grouped findings on its own beside repairs_of; now it reads repairs_of's
+    # Repairs, so a finding judging two readings is one repair and names its fault as the trend does
+    from engine.trend.repairs import repairs_of
+    from engine.trend.report import fault_names
+
+    with Store(tmp_path / "h.sqlite") as s:
+        p1 = s.add(_one_point(1, "2026-03-13T08:30:00", "P1H", 0.60, 0.90))
+        m2 = s.add(_one_point(2, "2026-03-13T08:34:00", "M2H", 2.00, 0.64))
+        now = {s.add(_one_point(3, "2026-04-12T08:30:00", "P1H", 0.66, 0.86))}
+        for rid in (p1, m2):
+            s.add_finding({"reading_id": rid, "component": "pump_de", "fault": "other", "found_on": "2026-03-13",
+                           "notes": "seal leak"})
+        change = _change(s, "RW-2 raw water pump", now, ("P1A", "P1H"))
+        trend = repairs_of(s.findings("RW-2 raw water pump"), {}, fault_names())
+    assert len(trend) == 1 and trend[0].judged == ("2026-03-13T08:30:00", "2026-03-13T08:34:00")
+    assert change["repairs"] == [{"found_on": "2026-03-13", "component": "pump_de", "fault": "other",
+                                  "fault_name": trend[0].fault_name}]
+    assert trend[0].fault_name == "other (see the notes)"
