@@ -77,11 +77,6 @@ def run(args) -> int:
         if args.machine not in store.machines():
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
-        if args.point is not None:
-            points = sorted({r["point"] or r["channel"] for r in store.history(args.machine)})
-            if args.point not in points:
-                raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}; points with "
-                                 f"readings: {', '.join(points) or 'none'}", path=str(store.path))
         doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html",
                              waterfall=args.waterfall, compare=compare, units=units)
     if not doc["points"]:

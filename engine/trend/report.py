@@ -361,8 +361,14 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     """The trend document of a stored machine, with its findings (the store is only read); ``waterfall``
     adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
     spectra at each point both have (``waterfall.spectra_section``); all shown in ``units`` (None: Hz and
-    mm/s RMS)."""
+    mm/s RMS). A ``point`` with no stored reading is a UsageError listing the points that have some."""
     rows = store.history(machine, point)
+    if point is not None and not rows:        # only then is the whole history read, to list its points
+        from ..common.errors import UsageError
+
+        points = sorted({r["point"] or r["channel"] for r in store.history(machine)})
+        raise UsageError(f"{machine} has no stored reading at point {point!r}; points with readings: "
+                         f"{', '.join(points) or 'none'}", path=str(store.path))
     readings = store.readings(machine)
     files = [r["machine_file"] for r in readings if r["machine_file"]]
     known: dict = {}        # machine file -> Machine: each file read once for the whole document

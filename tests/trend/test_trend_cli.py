@@ -48,3 +48,21 @@ def test_an_unknown_point_lists_the_points_with_readings(tmp_path, capsys):
         s.add(_record(2, 2, 0.0, point="P2V", spectrum=False))
     err = one_error_line(capsys, 2, ["trend", PUMP, "--point", "P9X", "--store", tmp_path / "h.sqlite"])
     assert "no stored reading at point 'P9X'; points with readings: P1H, P2V" in err, err
+
+
+def test_a_trend_at_one_point_reads_the_history_once(tmp_path, capsys, monkeypatch):
+    # closing-stop29: `trend --point` read the whole history once more only to list the points
+    from test_waterfall import PUMP, _record
+
+    from engine.history.store import Store
+
+    with Store(tmp_path / "h.sqlite") as s:
+        for n, point in enumerate(("P1H", "P2V", "P1H", "P2V")):
+            s.add(_record(n + 1, 1 + n // 2, 0.0, point=point, spectrum=False))
+    reads = []
+    real = Store.history
+    monkeypatch.setattr(Store, "history", lambda self, machine, point=None: reads.append(point) or
+                        real(self, machine, point))
+    assert main(["trend", PUMP, "--point", "P2V", "--format", "json", "--store", str(tmp_path / "h.sqlite")]) == 0
+    assert '"point": "P2V"' in capsys.readouterr().out
+    assert reads == ["P2V"]
