@@ -291,3 +291,24 @@ def test_one_cut_at_a_repair_for_the_trend_and_the_waterfall(taken_at, after):
 
     r = Repair("2026-03-20", "pump_de", "inner-race", "inner race", 2, None, None, (), None)
     assert r.is_after(taken_at) is after
+
+
+def test_a_line_has_one_rounding_in_the_waterfall_words(tmp_path, capsys):
+    # nu25 item 21: "largest ... at 25.2 Hz" beside "25.25 Hz" for one line; every frequency of the section
+    # is worded to two decimals. Lines of a compact spectrum kept 1 Hz apart from a 0.5 Hz resolution sit
+    # at k + 0.25 Hz (invented demo values)
+    with Store(tmp_path / "h.sqlite") as s:
+        for month, one_x in ((1, 0.2), (2, 0.6)):
+            rec = _record(month, month, 0.0)
+            a = np.full(800, 0.001)
+            a[24] = one_x                               # the line at 24.25 Hz
+            rec["spectra"] = spectra_of([CompactSpectrum("ch1", "P1H", "pump", "pump_de", "velocity", "mm/s RMS",
+                                                         1.0, 0.5, a.astype(np.float32))], {"ch1"})
+            s.add(rec)
+    for fmt in ("text", "md"):
+        out = ["-o", str(tmp_path / "t.md")] if fmt == "md" else []
+        assert main(["trend", PUMP, "--point", "P1H", "--waterfall", "--format", fmt,
+                     "--store", str(tmp_path / "h.sqlite"), *out]) == 0
+        text = capsys.readouterr().out if fmt == "text" else (tmp_path / "t.md").read_text(encoding="utf-8")
+        assert "largest 0.6 mm/s at 24.25 Hz" in text and "24.25" in text.split("largest 0.6 mm/s")[1]
+        assert "24.2 Hz" not in text
