@@ -44,7 +44,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
         if moved_from is not None:
             _check_move(store, digest, recording, machine.name, when)
         link = HistoryLink(store, machine, zone_scale(machine, advice), content_hash=digest, taken_at=when, plots=plots,
-                           recording_hash=recording)
+                           recording_hash=recording, units=units)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
         doc = document_of(d, plot_channels=plot_channels)
         if link.doc is not None:

@@ -54,8 +54,10 @@ def _map_points(reading, machine, points: dict, task: Task):
     return replace(reading, channels=channels)
 
 
-def _history_link(settings: dict, machine, advice, content_hash: str, when: str, recording: str | None = None):
-    """Trend facts and a trend section from the store's earlier surveys, read-only; None without a store."""
+def _history_link(settings: dict, machine, advice, content_hash: str, when: str, recording: str | None = None,
+                  units=None):
+    """Trend facts and a trend section from the store's earlier surveys, read-only; None without a store.
+    ``units``: what the report shows (``HistoryLink``)."""
     path = settings.get("store")
     if not path:
         return None
@@ -73,7 +75,7 @@ def _history_link(settings: dict, machine, advice, content_hash: str, when: str,
         return None
     return HistoryLink(_STATE["store"], machine, zone_scale(machine, advice), content_hash=content_hash,
                        taken_at=when, plots=settings.get("format") == "html", exclude_route=settings.get("route_id"),
-                       recording_hash=recording)
+                       recording_hash=recording, units=units)
 
 
 def taken_at(task: Task, reading, clock) -> tuple[str, str]:
@@ -119,7 +121,9 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
                                     for f in task.files])
         reading = with_phase(_map_points(reading, machine, task.points, task), task.phase_1x)
         when, origin = taken_at(task, reading, settings.get("clock"))
-        link = _history_link(settings, machine, advice, content_hash, when, recording)
+        said = settings.get("units") or {}
+        units = shown_units(said.get("frequency"), said.get("velocity"), base=reasoner.rulebook.units)
+        link = _history_link(settings, machine, advice, content_hash, when, recording, units)
         plots = settings.get("plots", False)
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots is not False and plots is not None,
                      more_facts=link, taken=(when, origin))
@@ -130,8 +134,6 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
                            machine_file=task.machine_file, elapsed_s=time.perf_counter() - start,
                            recording_hash=recording, reasoning=d.reasoning, spectra=d.spectra,
                            forcing=d.forcing)
-        said = settings.get("units") or {}
-        units = shown_units(said.get("frequency"), said.get("velocity"), base=reasoner.rulebook.units)
         if not units.default:       # the store keeps Hz and mm/s RMS; the report shows the chosen units
             trend = {"trend": link.shown_in(units)} if link is not None and "trend" in doc else {}
             doc = document_of(d, made_at=doc["made_at"], plot_channels=_plot_channels(plots, reading),

@@ -11,25 +11,28 @@ its component (``repairs``).
 
 from __future__ import annotations
 
+import copy
 from collections import defaultdict
 
 from ..history.record import indicators_of, is_level
 from .facts import trend_facts
 from .repairs import repairs_of
 from .report import fault_names, trend_from_rows
+from .shown import trend_in_units
 
 
 class HistoryLink:
-    """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``)."""
+    """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``). ``units``: the units the
+    report shows (``ShownUnits``; None: Hz and mm/s RMS): the plots are drawn in them, the numbers of ``doc``
+    stay in Hz and mm/s RMS for the reasoning, and ``shown_in`` converts a copy."""
 
     def __init__(self, store, machine, scale, *, content_hash: str, taken_at: str, plots: bool,
-                 exclude_route: int | None = None, recording_hash: str | None = None):
-        self.store, self.machine, self.scale = store, machine, scale
+                 exclude_route: int | None = None, recording_hash: str | None = None, units=None):
+        self.store, self.machine, self.scale, self.units = store, machine, scale, units
         self.content_hash, self.taken_at, self.plots = content_hash, taken_at, plots
         self.recording_hash = recording_hash or content_hash     # the same files diagnosed before are not history
         self.exclude_route = exclude_route      # a route trends against earlier surveys only
         self.doc: dict | None = None
-        self._made_of: tuple = ((), (), set())
 
     def __call__(self, facts: list[dict]) -> list[dict]:
         same = {r["id"] for r in self.store.readings(self.machine.name)
@@ -61,18 +64,18 @@ class HistoryLink:
                                         if k in have[r["point"] or r["channel"]]}} for r in earlier]
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
-        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs)
+        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
+                              plot_units=self.units)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
-        self._made_of = (earlier + now, repairs, here)
         return trend_facts(doc)
 
     def shown_in(self, units) -> dict | None:
-        """The trend section in ``units`` (``ShownUnits``) for the report; the reasoning's facts came from
-        the one in Hz and mm/s RMS (``doc``), which is also what any other units start from."""
+        """The trend section in ``units`` (``ShownUnits``, those the link was made with) for the report: a
+        copy of the one trend (``doc``, in Hz and mm/s RMS, the reasoning's facts came from) converted, its
+        plots already drawn in them."""
         if self.doc is None or units is None or units.default:
             return self.doc
-        rows, repairs, here = self._made_of
-        doc = trend_from_rows(self.machine.name, rows, self.scale, plots=self.plots, repairs=repairs, units=units)
-        doc["points"] = [p for p in doc["points"] if p["point"] in here]
-        return doc
+        if units != self.units:
+            raise ValueError(f"the trend's plots are drawn in {self.units}, not {units}")
+        return trend_in_units(copy.deepcopy(self.doc), units)

@@ -248,9 +248,11 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
 
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
-                    learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None) -> dict:
+                    learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
+                    plot_units: ShownUnits | None = None) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
-    (``shown.trend_in_units``; None: Hz and mm/s RMS).
+    (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
+    they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
 
     ``repairs``: the machine's findings (``repairs.repairs_of``); each is shown beside the points that
     see its component, and one with a fault found resets their baseline to the readings after its day.
@@ -307,7 +309,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "every_point": reset.points is None}}
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
-                                    units)
+                                    plot_units or units)
         points.append(entry)
     # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,

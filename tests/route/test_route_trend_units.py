@@ -67,6 +67,28 @@ def test_a_diagnosis_with_history_shows_its_trend_in_inches(months, tmp_path, ca
     assert "in/s RMS" in section and "mm/s" not in section
 
 
+def test_a_diagnosis_in_other_units_builds_its_trend_once(months, tmp_path, capsys, monkeypatch):
+    # closing-stop29: a report in other units ran the trend a second time; now the one trend (in Hz and
+    # mm/s RMS, which the reasoning read) is converted, its plots drawn in the report's units
+    import engine.trend.diagnosis as link_module
+
+    store = tmp_path / "h.sqlite"
+    for month in (1, 2):
+        assert main(["diagnose", str(months / f"m{month}.wav"), "--machine", str(MACHINE), "--store", str(store),
+                     "--taken-at", f"2026-0{month}-01T08:00", "--format", "json"]) == 0
+    capsys.readouterr()
+    built = []
+    real = link_module.trend_from_rows
+    monkeypatch.setattr(link_module, "trend_from_rows", lambda *a, **k: built.append(k) or real(*a, **k))
+    out = tmp_path / "r.html"
+    assert main(["diagnose", str(months / "m3.wav"), "--machine", str(MACHINE), "--store", str(store),
+                 "--taken-at", "2026-03-01T08:00", "--format", "html", "-o", str(out), "--velocity-unit", "in/s-rms",
+                 "--plots", "all"]) == 0
+    assert len(built) == 1
+    section = out.read_text().split('<section id="trend">')[1].split("</section>")[0]
+    assert "<svg" in section and "in/s RMS" in section and "mm/s" not in section
+
+
 def test_a_routes_trend_pages_follow_the_units(months, tmp_path, capsys):
     store = tmp_path / "h.sqlite"
     for month in (1, 2, 3):
