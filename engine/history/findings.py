@@ -245,9 +245,9 @@ def resolve(store, finding: Finding, fault_ids, machines: dict | None = None) ->
 
 def not_yet_surveyed(store, findings) -> list[str]:
     """Notes for the findings given by machine and date (``findings``: (line, Finding) pairs) whose machine has
-    no stored reading after the day found: a finding judges the latest readings stored on or before its day
-    when it is added, so a survey taken before the repair but stored after the finding is never judged. The
-    note names the readings judged now and what to do if a survey is still to be stored."""
+    no stored reading after the day found: a finding judges the latest readings stored on or before its day,
+    and a survey taken before the repair but stored after the finding takes their place at its points
+    (``Store.add``). The note names the readings judged now and says so."""
     notes, done = [], set()
     for line, f in findings:
         if f.reading_id is not None or (f.machine, f.found_on) in done:
@@ -261,9 +261,8 @@ def not_yet_surveyed(store, findings) -> list[str]:
         last = max(r["taken_at"] for r in judged)[:10]
         where = f"line {line}: " if line is not None else ""
         notes.append(f"{where}no reading of {f.machine} after {f.found_on} is stored yet: the finding judges the "
-                     f"latest readings stored on or before that day (the last taken {last}); if a survey taken "
-                     f"between {last} and {f.found_on} is still to be stored, store it, then delete the finding "
-                     "(`tellwave findings delete ID`) and add it again, so it judges that survey")
+                     f"latest readings stored on or before that day (the last taken {last}); a survey taken "
+                     f"between {last} and {f.found_on} and stored later takes their place at its points")
     return notes
 
 

@@ -337,7 +337,8 @@ class Store:
         the same files (``recording_hash``) of the same machine made another way (another unit, point
         mapping, speed or rulebook) replaces the earlier one, so a correction leaves no stale result.
         The findings that judged a replaced reading judge the new one (same finding ids): a diagnosis
-        made again must not forget what was found. Returns the reading's id.
+        made again must not forget what was found. So do the findings found on or after the new reading's
+        day that judge an earlier reading at its points (``_findings_move_to``). Returns the reading's id.
         """
         recording = record.get("recording_hash") or record["content_hash"]
         with self.transaction():
@@ -393,7 +394,28 @@ class Store:
                 "INSERT OR IGNORE INTO findings (id, reading_id, component, fault, stage, found_on, work_order, notes,"
                 " stored_at)"
                 " VALUES (?,?,?,?,?,?,?,?,?)", [(f[0], rid, *f[1:]) for f in kept])
+            self._findings_move_to(rid, record["machine"], record["taken_at"])
             return rid
+
+    def _findings_move_to(self, rid: int, machine: str, taken_at: str) -> None:
+        """The findings of ``machine`` found on or after the day of reading ``rid`` (taken at ``taken_at``) that
+        judge an earlier reading whose every point ``rid`` also has, judge ``rid`` instead (same finding ids;
+        one already judging ``rid`` for that component and fault takes the place of the other). A finding judges
+        the latest reading at each point on or before the day found (``latest_readings``), whether that
+        reading was stored before the finding or after it: the order of storing changes nothing."""
+        points = {r[0] for r in self.db.execute("SELECT point FROM channels WHERE reading_id = ?", (rid,))}
+        earlier = self.db.execute(
+            "SELECT f.id, f.reading_id, f.component, f.fault FROM findings f JOIN readings r ON r.id = f.reading_id"
+            " WHERE r.machine = ? AND r.id != ? AND r.taken_at < ? AND f.found_on >= ? ORDER BY f.id",
+            (machine, rid, taken_at, taken_at[:10])).fetchall()
+        for fid, old, component, fault in earlier:
+            at = {r[0] for r in self.db.execute("SELECT point FROM channels WHERE reading_id = ?", (old,))}
+            if not at or not at <= points:
+                continue
+            if self.finding_of(rid, component, fault) is not None:
+                self.db.execute("DELETE FROM findings WHERE id = ?", (fid,))
+            else:
+                self.db.execute("UPDATE findings SET reading_id = ? WHERE id = ?", (rid, fid))
 
     def set_report(self, reading_id: int, report: str) -> None:
         """Remember where a stored reading's report was written."""

@@ -192,3 +192,52 @@ def test_a_finding_added_before_the_survey_it_concerns_is_noted(store, tmp_path,
                  ["--reading", "2", "--date", "2026-04-20", "--fault", "nothing-found"]):
         assert main(["findings", "add", *argv, "--component", "pump_de", "--store", store]) == 0
         assert capsys.readouterr().err == "", argv
+
+
+def test_the_order_of_import_does_not_change_the_answer(tmp_path, capsys):
+    # nu25 item 10: a repair's findings imported before the survey taken before the repair bound to the
+    # survey before that one, and the later survey was never judged; now it takes their place
+    from engine.trend import trend_document
+
+    csv = tmp_path / "f.csv"
+    csv.write_text(f"machine,date,component,fault,stage\n{PUMP},2026-03-20,pump_de,inner-race,3\n")
+    surveys = [dict(record(n, when=f"2026-0{n}-12T08:30:00", velocity=1.0 + n), machine_file=MACHINE_FILE)
+               for n in (1, 2, 3)]
+    after = dict(record(4, when="2026-04-12T08:30:00", velocity=1.5), machine_file=MACHINE_FILE)
+    answers = []
+    for name, findings_before in (("readings-first", False), ("findings-first", True)):
+        path = str(tmp_path / f"{name}.sqlite")
+        with Store(path) as s:
+            for r in surveys[:2]:
+                s.add(r)
+        if findings_before:
+            assert main(["findings", "import", str(csv), "--store", path]) == 0
+        with Store(path) as s:
+            s.add(surveys[2])
+        if not findings_before:
+            assert main(["findings", "import", str(csv), "--store", path]) == 0
+        with Store(path) as s:
+            s.add(after)
+            judged = [(f["taken_at"], f["component"], f["fault"]) for f in s.findings(PUMP)]
+            doc = trend_document(s, PUMP, names={})
+        capsys.readouterr()
+        answers.append((judged, json.dumps({k: v for k, v in doc.items() if k not in ("made_at", "store")})))
+    assert answers[0] == answers[1]
+    assert answers[0][0] == [("2026-03-12T08:30:00", "pump_de", "inner-race")]      # the survey before the repair
+    # the one after the repair (2026-04-12) is of the repaired machine: the finding stays where it is
+    assert '"judged": ["2026-03-12T08:30:00"]' in answers[0][1]
+
+
+def test_a_later_survey_takes_the_place_only_at_its_own_points(tmp_path):
+    other = dict(record(5, when="2026-02-20T08:30:00"), machine_file=MACHINE_FILE)
+    other["channels"] = [dict(other["channels"][0], channel="P2H", point="P2H")]
+    other["indicators"] = [dict(i, channel="P2H") for i in other["indicators"]]
+    with Store(tmp_path / "h.sqlite") as s:
+        first = s.add(dict(record(1, when="2026-02-12T08:30:00"), machine_file=MACHINE_FILE))
+        s.add_finding({"reading_id": first, "component": "pump_de", "fault": "inner-race", "found_on": "2026-03-20"})
+        s.add(other)                                             # at P2H only: P1H's finding stays
+        assert [f["reading_id"] for f in s.findings(PUMP)] == [first]
+        later = s.add(dict(record(2, when="2026-03-20T07:00:00"), machine_file=MACHINE_FILE))   # the day found
+        assert [(f["id"], f["reading_id"]) for f in s.findings(PUMP)] == [(1, later)]
+        s.add(dict(record(3, when="2026-03-21T07:00:00"), machine_file=MACHINE_FILE))         # after the repair
+        assert [f["reading_id"] for f in s.findings(PUMP)] == [later]
