@@ -30,7 +30,8 @@ def _circular_mean_deg(phases: list[float]) -> float:
 
 def _measured_1x(rc: Analysis, place: PhasePlace, doubted) -> tuple[str, float | None]:
     """The channel at ``place`` and the 1X of the place's shaft it measures, mm/s RMS (0.0 when no 1X
-    line stands); ("", None) when no channel sits there, and (channel, None) when its scale is doubted."""
+    line stands): the line the tones found (``tones.one_x_mm_s``, found once per channel); ("", None) when
+    no channel sits there, and (channel, None) when its scale is doubted."""
     for c in rc.channels:
         if c.point is not None and c.point.at == place.location and c.point.direction == place.direction:
             if c.name in doubted:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 
 from ..analysis import Analysis, ChannelAnalysis, find_peaks
@@ -34,11 +36,31 @@ def _tol(rc: Analysis, family: str = "shaft") -> float:
     return SPEED_TOLERANCE if rc.speed_estimate.refined else UNREFINED_TOLERANCE
 
 
-def one_x_mm_s(c: ChannelAnalysis, rc: Analysis) -> dict[str, float]:
-    """1X velocity amplitude (mm/s RMS) of every shaft on this channel, 0 when absent."""
+_ONE_X_KEPT = 16     # the channels whose 1X lines were found last: tones, series, half orders and the phase ask again
+_one_x: dict[int, tuple] = {}
+
+
+def _search_one_x(c: ChannelAnalysis, rc: Analysis) -> dict[str, float]:
     shafts = list(rc.speeds_hz)
     lines = find_lines(c.velocity, [rc.speeds_hz[s] for s in shafts], _tol(rc))
     return {s: float(lines.amplitude[i]) if lines.found[i] else 0.0 for i, s in enumerate(shafts)}
+
+
+def one_x_mm_s(c: ChannelAnalysis, rc: Analysis) -> dict[str, float]:
+    """1X velocity amplitude (mm/s RMS) of every shaft on this channel, 0 when absent.
+
+    Found once per channel and speeds: a repeated call (the tones, the harmonic series, the unexplained
+    peaks and the phase check each ask) returns the first answer. The channel is held weakly, so no
+    analysis outlives its diagnosis here."""
+    asked = (tuple(rc.speeds_hz.items()), _tol(rc))
+    known = _one_x.get(id(c))
+    if known is not None and known[0]() is c and known[1] == asked:
+        return dict(known[2])
+    found = _search_one_x(c, rc)
+    if len(_one_x) >= _ONE_X_KEPT:
+        _one_x.pop(next(iter(_one_x)))
+    _one_x[id(c)] = (weakref.ref(c), asked, found)
+    return dict(found)
 
 
 def _uses_velocity(family: str, freq_hz: float) -> bool:

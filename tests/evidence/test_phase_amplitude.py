@@ -120,3 +120,20 @@ def test_the_report_says_it_and_shows_both(tmp_path, capsys):
     assert main(["diagnose", "--machine", str(RW2_FILE), str(reading)]) == 0
     text = capsys.readouterr().out
     assert "1X 40.00 mm/s RMS (measured on P1H:" in text
+
+
+def test_the_phase_check_reads_the_1x_the_tones_found(unbalance_reading, monkeypatch):
+    # closing-stop29: the phase check found each channel's 1X line again; now the 1X of a channel is
+    # searched once and every extractor (tones, harmonic series, unexplained peaks, phase) reads that one
+    import engine.evidence.tones as tones
+
+    searched = []
+    real = tones._search_one_x
+    monkeypatch.setattr(tones, "_search_one_x", lambda c, rc: searched.append(c.name) or real(c, rc))
+    reading = _given(unbalance_reading, ("P1H", 30.0, 1.0), ("P2H", 40.0, None))
+    facts = extract_evidence(reading, RW2)
+    assert sorted(searched) == sorted(c.name for c in reading.channels)       # once per channel
+    measured = {f["point"]: f["measured_1x_mm_s"] for f in facts if f["kind"] == "phase_1x"}
+    tone = {f["point"]: f["amplitude_mm_s"] for f in facts if f["kind"] == "tone" and f["name"] == "1X"
+            and f["component"] == "pump"}
+    assert measured["P1H"] == pytest.approx(tone["P1H"], abs=1e-3)
