@@ -256,6 +256,16 @@ class ShownUnits:
             return f"{_digits(v)}X"
         return f"{_digits(v)} {FREQUENCY_UNITS[self.frequency]}"
 
+    def frequency_range_text(self, low_hz: float, high_hz: float, shaft_hz: float | None = None) -> str:
+        """A band from its edges in Hz as a report words it: '2000-10000 Hz', '120000-600000 CPM',
+        '80.8X-404X' (orders of ``shaft_hz``; Hz without one); each edge converted from its value."""
+        low, high = self.frequency_value(low_hz, shaft_hz), self.frequency_value(high_hz, shaft_hz)
+        if low is None or high is None:
+            return f"{_digits(low_hz)}-{_digits(high_hz)} Hz"
+        if self.frequency == "orders":
+            return f"{_digits(low)}X-{_digits(high)}X"
+        return f"{_digits(low)}-{_digits(high)} {FREQUENCY_UNITS[self.frequency]}"
+
     def velocity_number(self, mm_s_rms: float | None, line: bool = True) -> float | None:
         """A velocity in mm/s RMS as a JSON number in the chosen unit, to four significant digits."""
         return None if mm_s_rms is None else float(f"{self.velocity_value(mm_s_rms, line):.4g}")

@@ -113,3 +113,12 @@ def test_the_envelope_plot_names_its_band_in_the_axis_unit():
         c_lo, c_hi = map(float, re.search(r"band ([0-9.]+)-([0-9.]+) CPM$", b).groups())
         # 1 Hz = 60 CPM (definition of the minute), three significant digits
         assert (c_lo, c_hi) == (pytest.approx(60 * lo, rel=0.01, abs=1), pytest.approx(60 * hi, rel=0.01))
+
+
+def test_a_band_is_worded_from_its_edges_values():
+    # closing-stop29: the envelope plot's band was converted from its printed "N Hz"; now from the edges.
+    # 1 Hz = 60 CPM (definition of the minute); an order is f / shaft Hz (24.767 Hz here, invented)
+    assert ShownUnits().frequency_range_text(1999.6, 10000.4) == "2000-10000 Hz"
+    assert ShownUnits("cpm").frequency_range_text(1999.6, 10000.4) == "119976-600024 CPM"
+    assert ShownUnits("orders").frequency_range_text(2000.0, 10000.0, 24.767) == "80.8X-404X"
+    assert ShownUnits("orders").frequency_range_text(2000.0, 10000.0) == "2000-10000 Hz"    # no shaft speed
