@@ -105,7 +105,8 @@ def same_scale(issues, channels) -> bool:
 # spectrum and the envelope (common practice). A channel with one of them is left out of the analysis
 # when another channel of the reading is free of them, so the rest of the reading is diagnosed; when
 # none is, the channels are analysed as they are and the rulebook's reading.signal.broken withholds
-# the diagnosis. The rule's list of issues is this one (tests/reasoning/test_rulebooks.py checks).
+# the diagnosis. The rules read this list through the data_quality fact's ``corrupting`` field
+# (engine/evidence/acquisition.py), never a copy of it.
 CORRUPTING_ISSUES = ("clipping", "dead", "dropout", "nonfinite", "out_of_range")
 
 

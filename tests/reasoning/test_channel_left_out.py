@@ -4,13 +4,17 @@ reading.signal.broken, reading.signal.channel-left-out, reading.signal.point-uns
 
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import numpy as np
 import pytest
 
 from engine.analysis import analyse
 from engine.evidence import run_extractors
 from engine.machine import load_machine
-from engine.readings.quality import CORRUPTING_ISSUES
+from engine.evidence.acquisition import data_quality
+from engine.readings.model import QualityIssue
+from engine.readings.quality import CORRUPTING_ISSUES, ISSUE_NAMES
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate
 
@@ -81,11 +85,26 @@ def test_every_channel_clipped_still_withholds(reasoner, pump):
     assert not _left_out(result)
 
 
-def test_the_rules_judge_the_issues_the_analysis_leaves_out():
+def test_the_rules_read_the_one_corrupting_field_not_a_list_of_issues():
     rulebook = load_rulebook()
     for rid in ("reading.signal.broken", "reading.signal.channel-left-out", "reading.signal.point-unseen"):
         rule = next(r for r in rulebook.rules if r.id == rid)
-        issues = next(c.value for p in rule.needs for c in p.conditions if c.field == "issue")
-        assert sorted(issues) == sorted(CORRUPTING_ISSUES), rid
+        conditions = {c.field: (c.op, c.value) for p in rule.needs for c in p.conditions}
+        assert conditions["corrupting"] == ("is", True), rid
+        assert "issue" not in conditions, rid           # no second copy of CORRUPTING_ISSUES to keep in step
     assert not rulebook.faults["channel-left-out"].withholds_diagnosis
     assert rulebook.faults["signal-corrupted"].withholds_diagnosis
+
+
+def test_the_corrupting_field_is_the_one_list_for_every_issue_kind(pump):
+    # every issue the gates can raise, on channel A (left out) of a stub analysis, channel B analysed
+    kinds = sorted(ISSUE_NAMES)
+    stub = SimpleNamespace(
+        machine=pump, channel_points={"A": "P1H", "B": "P1A"}, left_out=("A",),
+        channels=(SimpleNamespace(name="B"),),
+        quality=tuple(QualityIssue(kind, "A", "stub", 1.0) for kind in kinds))
+    facts = data_quality(stub)
+    assert [f["issue"] for f in facts] == kinds
+    assert {f["issue"] for f in facts if f["corrupting"]} == set(CORRUPTING_ISSUES)
+    assert {f["issue"] for f in facts if not f["corrupting"]} == set(kinds) - set(CORRUPTING_ISSUES)
+    assert all(f["left_out"] and f["location_channels"] == 1 for f in facts)   # P1H and P1A sit at pump_de
