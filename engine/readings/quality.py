@@ -107,7 +107,13 @@ def same_scale(issues, channels) -> bool:
 # none is, the channels are analysed as they are and the rulebook's reading.signal.broken withholds
 # the diagnosis. The rules read this list through the data_quality fact's ``corrupting`` field
 # (engine/evidence/acquisition.py), never a copy of it.
-CORRUPTING_ISSUES = ("clipping", "dead", "dropout", "nonfinite", "out_of_range")
+# Slow drift (segment means spreading over one AC RMS) is one of them: its error sits in the lowest lines, where
+# it spoils what the diagnosis reads most: 1X and below, and the velocity spectrum, whose integration divides
+# each line by 2 pi f and so lifts a low-frequency error most (and the ISO 20816-3 band reaches down to 10 Hz,
+# 2 Hz below 600 r/min). Only the envelope band (kHz) stays sound; a channel judged on its envelope alone would
+# read as the absence of every 1X pattern at its point, so it is left out whole (rulebooks/reading.yaml,
+# reading.signal.drift and reading.signal.channel-left-out).
+CORRUPTING_ISSUES = ("clipping", "dead", "drift", "dropout", "nonfinite", "out_of_range")
 
 
 def corrupted(issues) -> bool:

@@ -91,7 +91,8 @@ def test_the_rules_read_the_one_corrupting_field_not_a_list_of_issues():
         rule = next(r for r in rulebook.rules if r.id == rid)
         conditions = {c.field: (c.op, c.value) for p in rule.needs for c in p.conditions}
         assert conditions["corrupting"] == ("is", True), rid
-        assert "issue" not in conditions, rid           # no second copy of CORRUPTING_ISSUES to keep in step
+        # no second copy of CORRUPTING_ISSUES to keep in step (broken leaves drift to its own rule's words)
+        assert conditions.get("issue") in (None, ("is_not", "drift")), rid
     assert not rulebook.faults["channel-left-out"].withholds_diagnosis
     assert rulebook.faults["signal-corrupted"].withholds_diagnosis
 
@@ -108,3 +109,38 @@ def test_the_corrupting_field_is_the_one_list_for_every_issue_kind(pump):
     assert {f["issue"] for f in facts if f["corrupting"]} == set(CORRUPTING_ISSUES)
     assert {f["issue"] for f in facts if not f["corrupting"]} == set(kinds) - set(CORRUPTING_ISSUES)
     assert all(f["left_out"] and f["location_channels"] == 1 for f in facts)   # P1H and P1A sit at pump_de
+
+
+def _ramp(x, fs_hz=12800.0):
+    # a settling sensor: a slow ramp of 5 x the channel's RMS over the record
+    t = np.arange(x.size) / fs_hz
+    return x + 5.0 * float(np.sqrt(np.mean(x ** 2))) * t / t[-1]
+
+
+def test_one_drifting_channel_is_left_out_and_the_rest_is_diagnosed(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P1A"])
+    sim.channels["P1A"] = _ramp(sim.channels["P1A"])
+    analysis, result = _reason(reasoner, pump, sim)
+    assert "drift" in [q.kind for q in analysis.quality if q.channel == "P1A"]
+    assert [c.name for c in analysis.channels] == ["P1H"] and analysis.left_out == ("P1A",)
+    assert not result.withheld                            # it withheld the whole reading before
+    assert result.top is not None and result.top.fault == "inner-race" and result.top.certainty >= CONFIDENT
+    left = _left_out(result)
+    assert [h.component for h in left] == ["P1A"]
+    words = " ".join(f.because for f in left[0].support)
+    assert "drift" in words and "1 of them still sit at pump_de" in words
+    assert not [f for h in result.reading_problems for f in h.support if f.rule_id == "reading.signal.drift"]
+
+
+def test_every_channel_drifting_still_withholds(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P2H"])
+    for name, x in sim.channels.items():
+        sim.channels[name] = _ramp(x)
+    analysis, result = _reason(reasoner, pump, sim)
+    assert sorted(c.name for c in analysis.channels) == ["P1H", "P2H"] and not analysis.left_out
+    assert result.withheld
+    corrupted = [h for h in result.reading_problems if h.fault == "signal-corrupted" and h.withholds and h.confident]
+    assert sorted(h.component for h in corrupted) == ["P1H", "P2H"]
+    rules = {f.rule_id for h in corrupted for f in h.support}
+    assert "reading.signal.drift" in rules and "reading.signal.broken" not in rules   # its own words, once
+    assert not _left_out(result)
