@@ -136,6 +136,12 @@ def describe_issue(q: QualityIssue) -> str:
     return f"{ISSUE_NAMES.get(q.kind, q.kind.replace('_', ' '))}: {q.message}"
 
 
+def left_out_words(issues) -> str:
+    """Why a channel was left out, short enough for a figure's title or an alarm row: the names of its
+    corrupting issues (``ISSUE_NAMES``; ``describe_issue`` gives each in full)."""
+    return ", ".join(dict.fromkeys(ISSUE_NAMES.get(q.kind, q.kind) for q in issues if q.kind in CORRUPTING_ISSUES))
+
+
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     """Start and length of each run of True in ``mask``."""
     if not mask.any():
