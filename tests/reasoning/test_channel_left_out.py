@@ -11,8 +11,8 @@ import pytest
 
 from engine.analysis import analyse
 from engine.evidence import run_extractors
-from engine.machine import load_machine
 from engine.evidence.acquisition import data_quality
+from engine.machine import load_machine
 from engine.readings.model import QualityIssue
 from engine.readings.quality import CORRUPTING_ISSUES, ISSUE_NAMES
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
