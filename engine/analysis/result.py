@@ -123,6 +123,7 @@ class LeftOutChannel:
 
     @property
     def name(self) -> str:
+        """The channel's name, as a ChannelAnalysis gives it."""
         return self.channel.name
 
 
