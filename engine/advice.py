@@ -20,12 +20,14 @@ from .common.paths import RULEBOOKS
 from .common.yamlfile import YamlDocument, first_problem, read_yaml
 from .evidence import Evidence
 from .machine import Machine
+from .readings.quality import CORRUPTING_ISSUES
 from .reasoning import POSSIBLE, Hypothesis, Reasoning
 
 ADVICE_FOLDER = RULEBOOKS / "advice"
 MAX_RECOMMENDATIONS = 5
-# quality issues that distort a channel's overall level (a DC offset does not: the mean is removed)
-LEVEL_DISTORTED = ("clipping", "dropout", "drift", "dead", "nonfinite", "out_of_range")
+# quality issues that distort a channel's overall level: those that corrupt its samples (a DC offset does not:
+# the mean is removed), one list with the analysis's
+LEVEL_DISTORTED = CORRUPTING_ISSUES
 
 
 class Mounting(Protocol):

@@ -17,6 +17,7 @@ from .analysis.bands import spectrum_band_rms
 from .analysis.levels import STANDARD_GRAVITY_M_S2
 from .analysis.result import Analysis, ChannelAnalysis
 from .machine.alarms import Alarm, band_ranges_hz
+from .readings.quality import left_out_words
 
 STATES = ("within", "alert", "danger")
 
@@ -42,7 +43,8 @@ def _value(alarm: Alarm, ch: ChannelAnalysis, ranges) -> float | None:
 def judge_alarms(analysis: Analysis, untrusted=()) -> tuple[dict, ...]:
     """Every alarm of ``analysis.machine`` on every channel at its point: the measured value, the
     ranges it was measured in, the levels and the state. A channel in ``untrusted`` (its scale is not
-    trusted: no level means anything) gets no value and no state."""
+    trusted: no level means anything) gets no value and no state; so does a channel the analysis left out
+    for a corrupting issue (``why_no_value``: not judged, and why)."""
     out = []
     for alarm in analysis.machine.alarms:
         for ch in analysis.channels:
@@ -64,6 +66,21 @@ def judge_alarms(analysis: Analysis, untrusted=()) -> tuple[dict, ...]:
                     if ranges else "no level of this quantity"),
                 "source": alarm.source, "set_at": alarm.where,
                 "measured_to_hz": round(fmax, 3) if short else None,
+            })
+        # a channel left out for a corrupting issue at the alarm's point: shown, not judged on false samples
+        for lo in analysis.left_out_channels:
+            if lo.point is None or lo.point.id != alarm.point:
+                continue
+            why = left_out_words(lo.issues)
+            out.append({
+                "point": alarm.point, "channel": lo.name, "band": alarm.band, "quantity": alarm.quantity,
+                "unit": alarm.unit, "indicator": alarm.indicator,
+                "ranges_hz": [[round(lo_hz, 3), round(hi_hz, 3)] for lo_hz, hi_hz in band_ranges_hz(
+                    alarm, analysis.machine, analysis.speeds_hz,
+                    lo.velocity.resolution_hz if lo.velocity is not None else analysis.fs_hz / analysis.n_samples)],
+                "value": None, "alert": alarm.alert, "danger": alarm.danger, "state": None,
+                "why_no_value": f"not judged: channel left out ({why})",
+                "source": alarm.source, "set_at": alarm.where, "measured_to_hz": None,
             })
     return tuple(out)
 

@@ -19,7 +19,8 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..common.units import STANDARD_GRAVITY_M_S2
-from .result import Analysis, ChannelAnalysis
+from ..readings.quality import left_out_words
+from .result import Analysis, ChannelAnalysis, LeftOutChannel
 from .synchronous import default_samples_per_rev, revolution_rows
 
 REVOLUTIONS_SHOWN = 8
@@ -61,6 +62,7 @@ class PlotData:
     envelope_band_hz: tuple[float, float] | None
     envelope_marks: tuple[Mark, ...]
     sensor_shaft: str | None = None          # the shaft under the channel's point (None: no point)
+    left_out: str = ""                       # why the analysis left the channel out, in words ('' when analysed)
 
 
 @dataclass(frozen=True)
@@ -79,11 +81,15 @@ class PlotSet:
 
 
 def plot_set(analysis: Analysis) -> PlotSet:
-    """Every channel's plot data from every shaft (``plot_data`` of each pair)."""
+    """Every channel's plot data from every shaft (``plot_data`` of each pair); a channel left out for a
+    corrupting issue too, as it is (no envelope), saying why."""
     views = []
     for c in analysis.channels:
         envelope = _envelope(c)        # one copy per channel, shared by its views from each shaft
         views += [plot_data(analysis, c.name, shaft, envelope=envelope) for shaft in analysis.speeds_hz]
+    for lo in analysis.left_out_channels:
+        if lo.accel is not None:
+            views += [plot_data(analysis, lo.name, shaft) for shaft in analysis.speeds_hz]
     return PlotSet(tuple(views))
 
 
@@ -95,8 +101,9 @@ def _envelope(c: ChannelAnalysis):
     return c.envelope.freq_hz[keep], c.envelope.amplitude[keep], c.envelopes[0].band_hz
 
 
-def _channel(analysis: Analysis, name: str) -> ChannelAnalysis:
-    return next(c for c in analysis.channels if c.name == name)
+def _channel(analysis: Analysis, name: str) -> ChannelAnalysis | LeftOutChannel:
+    return next((c for c in analysis.channels if c.name == name), None) or next(
+        c for c in analysis.left_out_channels if c.name == name)
 
 
 def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None = None, *,
@@ -104,13 +111,18 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
     """What the report plots for ``channel``, looking at ``shaft`` and, if given, ``bearing``;
     ``envelope`` is the channel's ``_envelope``, when the caller has it already."""
     c = _channel(analysis, channel)
+    if c.accel is None:
+        raise ValueError(f"channel {channel} has no waveform to plot")     # plot_set never asks for one
     fr = analysis.speeds_hz[shaft]
     n = min(len(c.accel), int(min(analysis.duration_s, max(0.1, WAVEFORM_REVOLUTIONS / fr)) * c.fs_hz))
-    waveform_t = np.arange(n) / c.fs_hz * 1e3
-    waveform = c.accel[:n] / STANDARD_GRAVITY_M_S2
+    # a channel left out with samples that are not numbers: its waveform starts a little before the first one
+    bad = np.flatnonzero(~np.isfinite(c.accel)) if isinstance(c, LeftOutChannel) else np.zeros(0, dtype=int)
+    start = min(max(0, int(bad[0]) - n // 4), len(c.accel) - n) if len(bad) else 0
+    waveform_t = (start + np.arange(n)) / c.fs_hz * 1e3
+    waveform = c.accel[start:start + n] / STANDARD_GRAVITY_M_S2
 
     revs_deg = revs_g = None
-    if analysis.duration_s * fr >= 1:
+    if analysis.duration_s * fr >= 1 and bool(np.isfinite(c.accel).all()):
         spr = default_samples_per_rev(c.fs_hz, fr)
         shown = min(REVOLUTIONS_SHOWN, int(analysis.duration_s * fr))
         rows = revolution_rows(c.accel[:int(min(len(c.accel), (shown + 1) * c.fs_hz / fr + 4))], c.fs_hz, fr, spr)
@@ -119,8 +131,13 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
             revs_deg = np.arange(spr) * 360.0 / spr
 
     highest = max((f.frequency_hz for f in analysis.forcing if f.family != "bearing"), default=10 * fr)
-    fmax = min(c.velocity.fmax_hz, max(SPECTRUM_ORDERS * fr, 1.3 * highest))
-    spec = c.velocity.below(fmax)
+    fmax = min(c.velocity.fmax_hz if c.velocity is not None else analysis.fs_hz / 2,
+               max(SPECTRUM_ORDERS * fr, 1.3 * highest))
+    if c.velocity is not None:
+        spec = c.velocity.below(fmax)
+        spec_hz, spec_mm_s, resolution_hz = spec.freq_hz, spec.amplitude, spec.resolution_hz
+    else:                               # a channel left out with samples that are not numbers: no spectrum
+        spec_hz, spec_mm_s, resolution_hz = np.zeros(0), np.zeros(0), analysis.fs_hz / analysis.n_samples
     marks = [Mark(f.frequency_hz, f"{f.name} {f.component}", f.family, f.component, f.name)
              for f in sorted(analysis.forcing, key=lambda f: (f.family == "bearing", f.frequency_hz))
              if f.frequency_hz <= fmax and f.name not in SKIPPED_MARKS]
@@ -130,7 +147,8 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
         marks += [Mark(k * analysis.speeds_hz[sensor], f"{k}X {sensor}", "shaft", sensor, f"{k}X")
                   for k in SENSOR_ORDERS if k * analysis.speeds_hz[sensor] <= fmax]
 
-    env_hz, env, band = envelope if envelope is not None else _envelope(c)
+    env_hz, env, band = (envelope if envelope is not None else _envelope(c) if isinstance(c, ChannelAnalysis)
+                         else (None, None, None))
     env_marks: tuple[Mark, ...] = ()
     if c.envelope is not None:
         chosen = [bearing] if bearing else [b.bearing for b in analysis.rates.bearings if b.shaft == shaft]
@@ -142,5 +160,5 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
                 out.append(Mark(rates.impact_rate_hz(defect), f"{name} {b}", "bearing", b, name))
         env_marks = tuple(sorted(out, key=lambda m: m.freq_hz))
     return PlotData(channel, shaft, fr, bearing, waveform_t, waveform, revs_deg, revs_g,
-                    spec.freq_hz, spec.amplitude, spec.resolution_hz, tuple(marks), env_hz, env, band, env_marks,
-                    sensor)
+                    spec_hz, spec_mm_s, resolution_hz, tuple(marks), env_hz, env, band, env_marks,
+                    sensor, left_out_words(c.issues) if isinstance(c, LeftOutChannel) else "")

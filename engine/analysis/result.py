@@ -108,6 +108,41 @@ class ChannelAnalysis:
 
 
 @dataclass(frozen=True)
+class LeftOutChannel:
+    """A channel left out of the analysis for a corrupting quality issue, kept for the report to show it as
+    it is (its waveform shows the NaN, the clipping, the dead line): its samples as acceleration and, when
+    every sample is a number within a sensor's range, its velocity spectrum. No level, no evidence."""
+
+    channel: Channel
+    point: Point | None
+    fs_hz: float
+    accel: np.ndarray | None        # m/s^2, mean removed; NaN where the record holds none; None: not acceleration
+    velocity: Spectrum | None       # mm/s RMS; None when a sample is not a number or out of any sensor's range
+    issues: tuple[QualityIssue, ...]
+    envelope = None                 # no envelope is taken of it (read like a ChannelAnalysis by the plot data)
+
+    @property
+    def name(self) -> str:
+        """The channel's name, as a ChannelAnalysis gives it."""
+        return self.channel.name
+
+
+def _left_out_channel(ch: Channel, point: Point | None, fs: float, issues: tuple[QualityIssue, ...]) -> LeftOutChannel:
+    """What the report shows of a channel left out: its waveform as acceleration and its velocity spectrum,
+    computed as an analysed channel's are, when its samples allow."""
+    x = ch.samples
+    finite = np.isfinite(x)
+    sound = bool(finite.all()) and not any(q.kind == "out_of_range" for q in issues)
+    if sound:
+        accel = _to_acceleration(ch, fs)
+        return LeftOutChannel(ch, point, fs, accel, velocity_spectrum(Transform.of(accel, fs).amplitude("peak")),
+                              issues)
+    if ch.quantity != "acceleration" or not finite.any() or not np.all(np.abs(x[finite]) < 1e100):
+        return LeftOutChannel(ch, point, fs, None, None, issues)     # nothing to draw as acceleration
+    return LeftOutChannel(ch, point, fs, np.where(finite, x - float(np.mean(x[finite])), np.nan), None, issues)
+
+
+@dataclass(frozen=True)
 class Analysis:
     """The whole reading analysed: shared speed and rates, and each channel."""
 
@@ -130,6 +165,7 @@ class Analysis:
     stated_shaft_rpm: float | None = None  # the stated driver's speed carried to the speed shaft by the ratios
     left_out: tuple[str, ...] = ()         # channels of the reading not analysed (a corrupting quality issue)
     channel_points: Mapping[str, str] = field(default_factory=dict)   # every channel of the reading -> its point
+    left_out_channels: tuple[LeftOutChannel, ...] = ()   # the channels of ``left_out``, as the report shows them
 
     @property
     def duration_s(self) -> float:
@@ -419,6 +455,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     # a clipped channel or one with dropouts is left out while another channel is free of every corrupting
     # issue, so one bad sensor does not spoil the rest of the reading (readings/quality.py, CORRUPTING_ISSUES)
     usable = [ch for ch in analysable if not corrupted(reading.issues_for(ch.name))] or analysable
+    left_out = [ch for ch in reading.channels if ch.name not in {c.name for c in usable}]
     accel = {ch.name: _to_acceleration(ch, fs) for ch in usable}
     spectra, iso = {}, {}
     for name, a in accel.items():          # each FFT is dropped as soon as its spectrum and levels are out
@@ -483,5 +520,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
                     reading.speed_rpm, machine.shaft_speeds_hz[shaft] * 60, MappingProxyType(check),
                     speed_limits(machine, shaft), tuple(reading.phase_1x),
                     stated[shaft] * 60 if reading.speed_rpm else None,
-                    tuple(ch.name for ch in reading.channels if ch.name not in {c.name for c in usable}),
-                    MappingProxyType({ch.name: ch.point or "" for ch in reading.channels}))
+                    tuple(ch.name for ch in left_out),
+                    MappingProxyType({ch.name: ch.point or "" for ch in reading.channels}),
+                    tuple(_left_out_channel(ch, points.get(ch.point), fs, tuple(reading.issues_for(ch.name)))
+                          for ch in left_out))

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from ..analysis import Analysis
 from ..readings.length import FMAX_FACTOR
+from ..readings.quality import CORRUPTING_ISSUES
 
 SEPARATED = {"1X", "2xLF", "GMF", "vane pass", "blade pass", "belt pass"}
 
@@ -132,9 +133,10 @@ def speed_check(rc: Analysis) -> list[dict]:
 
 
 def data_quality(rc: Analysis) -> list[dict]:
-    """One fact per quality issue the reader's gates found; whether its channel was left out of the
-    analysis (the others diagnosed without it), its point, the bearing or part that point sits at, and
-    how many analysed channels still sit there."""
+    """One fact per quality issue the reader's gates found; whether the issue corrupts the channel's
+    samples (``readings.quality.CORRUPTING_ISSUES``, the one list the rules read through ``corrupting``),
+    whether its channel was left out of the analysis (the others diagnosed without it), its point, the
+    bearing or part that point sits at, and how many analysed channels still sit there."""
     at = {p.id: p.at for p in rc.machine.points}
     where = {name: at.get(point, "") for name, point in rc.channel_points.items()}
     seen: dict[str, int] = {}
@@ -144,7 +146,8 @@ def data_quality(rc: Analysis) -> list[dict]:
     for q in rc.quality:
         location = where.get(q.channel, "")
         out.append({"kind": "data_quality", "channel": q.channel, "issue": q.kind, "value": q.value,
-                    "blocking": q.blocking, "left_out": q.channel in rc.left_out,
+                    "blocking": q.blocking, "corrupting": q.kind in CORRUPTING_ISSUES,
+                    "left_out": q.channel in rc.left_out,
                     "point": rc.channel_points.get(q.channel, ""), "location": location,
                     "location_channels": seen.get(location, 0)})
     return out

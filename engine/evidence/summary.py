@@ -46,6 +46,10 @@ class QualityNote:
     issue: str
     value: float
     blocking: bool
+    corrupting: bool = False          # the issue makes the channel's samples false (readings.quality.CORRUPTING_ISSUES)
+    left_out: bool = False            # the channel was left out of the analysis, the others diagnosed without it
+    point: str = ""                   # the channel's point ('' when it names none)
+    location: str = ""                # the bearing or part that point sits at
 
 
 @dataclass(frozen=True)
@@ -93,7 +97,8 @@ def summarise(facts: list[dict]) -> Evidence:
                    for f in facts if f["kind"] == "overall")
     settings = next(({k: v for k, v in f.items() if k not in ("kind", "id")}
                      for f in facts if f["kind"] == "acquisition"), {})
-    quality = tuple(QualityNote(f["channel"], f["issue"], f["value"], f["blocking"])
+    quality = tuple(QualityNote(f["channel"], f["issue"], f["value"], f["blocking"], f.get("corrupting", False),
+                                f.get("left_out", False), f.get("point", ""), f.get("location", ""))
                     for f in facts if f["kind"] == "data_quality")
     speed = next(({k: v for k, v in f.items() if k not in ("kind", "id")}
                   for f in facts if f["kind"] == "speed_check"), {})

@@ -18,7 +18,7 @@ from ..common.units import LEVEL_UNITS
 from ..machine.kinematics import BEARING_DEFECTS, RATE_FAMILIES, RATE_NAMES
 from ..machine.model import COUPLING_TYPES, DIRECTIONS
 from ..machine.phase import RELATIONS as PHASE_RELATIONS
-from ..readings.quality import ISSUE_NAMES
+from ..readings.quality import CORRUPTING_ISSUES, ISSUE_NAMES
 
 
 class F(NamedTuple):
@@ -256,6 +256,9 @@ FACTS: dict[str, dict[str, F]] = {
                              "implausible_level, implausible_spectrum, too_short", ""),
         "value": F("number", "size of the problem (its unit depends on the issue)", ""),
         "blocking": F("boolean", "the channel could not be analysed", ""),
+        "corrupting": F("boolean", "the issue makes the channel's samples false, not just its scale ("
+                                   f"{', '.join(CORRUPTING_ISSUES)}): the channel is left out while another "
+                                   "channel is free of them", ""),
         "left_out": F("boolean", "the channel was left out of the analysis and the reading's other channels "
                                  "diagnosed without it (a corrupting issue while another channel is free of them)", ""),
         "point": F("string", "the channel's measurement point ('' when it names none)", ""),

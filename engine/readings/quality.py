@@ -105,8 +105,15 @@ def same_scale(issues, channels) -> bool:
 # spectrum and the envelope (common practice). A channel with one of them is left out of the analysis
 # when another channel of the reading is free of them, so the rest of the reading is diagnosed; when
 # none is, the channels are analysed as they are and the rulebook's reading.signal.broken withholds
-# the diagnosis. The rule's list of issues is this one (tests/reasoning/test_rulebooks.py checks).
-CORRUPTING_ISSUES = ("clipping", "dead", "dropout", "nonfinite", "out_of_range")
+# the diagnosis. The rules read this list through the data_quality fact's ``corrupting`` field
+# (engine/evidence/acquisition.py), never a copy of it.
+# Slow drift (segment means spreading over one AC RMS) is one of them: its error sits in the lowest lines, where
+# it spoils what the diagnosis reads most: 1X and below, and the velocity spectrum, whose integration divides
+# each line by 2 pi f and so lifts a low-frequency error most (and the ISO 20816-3 band reaches down to 10 Hz,
+# 2 Hz below 600 r/min). Only the envelope band (kHz) stays sound; a channel judged on its envelope alone would
+# read as the absence of every 1X pattern at its point, so it is left out whole (rulebooks/reading.yaml,
+# reading.signal.drift and reading.signal.channel-left-out).
+CORRUPTING_ISSUES = ("clipping", "dead", "drift", "dropout", "nonfinite", "out_of_range")
 
 
 def corrupted(issues) -> bool:
@@ -127,6 +134,12 @@ def describe_issue(q: QualityIssue) -> str:
     """A quality issue in words, the same wherever it is shown: what it is, then what was measured
     and what it means (``clipping: 2 runs of equal samples (53419 in all) flatten the signal's extremes``)."""
     return f"{ISSUE_NAMES.get(q.kind, q.kind.replace('_', ' '))}: {q.message}"
+
+
+def left_out_words(issues) -> str:
+    """Why a channel was left out, short enough for a figure's title or an alarm row: the names of its
+    corrupting issues (``ISSUE_NAMES``; ``describe_issue`` gives each in full)."""
+    return ", ".join(dict.fromkeys(ISSUE_NAMES.get(q.kind, q.kind) for q in issues if q.kind in CORRUPTING_ISSUES))
 
 
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:

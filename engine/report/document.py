@@ -20,6 +20,7 @@ from ..common.units import ShownUnits, format_quantity
 from ..evidence import Evidence
 from ..evidence.vocabulary import BROADBAND_VELOCITY_FIELDS
 from ..machine import Machine
+from ..readings.quality import SCALE_ISSUES
 from ..reasoning import CONFIDENT, POSSIBLE, Firing, Hypothesis, Reasoning
 
 
@@ -304,6 +305,27 @@ def _phase(evidence: Evidence, reasoning: Reasoning, units: ShownUnits | None = 
     return {"readings": rows, "differences": out}
 
 
+def _left_out_rows(reading, evidence: Evidence) -> list[dict]:
+    """A levels row for each channel the analysis left out for a corrupting issue: no level and no zone from
+    its samples, and why it was left out (its corrupting issues in the words ``tellwave reading`` uses)."""
+    notes = [q for q in evidence.quality if q.left_out]
+    rows: dict[str, dict] = {}
+    for q in notes:
+        rows.setdefault(q.channel, {"channel": q.channel, "point": q.point, "location": q.location,
+                                    "velocity_rms_mm_s": None, "zone": None, "band_truncated": False,
+                                    "signal_issues": [], "scale_trusted": True, "scale_issues": [], "left_out": ""})
+        row = rows[q.channel]
+        if q.corrupting:
+            row["signal_issues"].append(q.issue)
+        elif q.issue in SCALE_ISSUES:
+            row["scale_issues"].append(q.issue)
+            row["scale_trusted"] = False
+    words = {(q["channel"], q["issue"]): q["words"] for q in reading.quality}
+    for row in rows.values():
+        row["left_out"] = "; ".join(words.get((row["channel"], issue), issue) for issue in row["signal_issues"])
+    return list(rows.values())
+
+
 def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Reasoning,
                     advice: Advice, plots: PlotSet | None = None, reach=(), made_at: str | None = None,
                     alarms=(), plot_channels: tuple[str, ...] | None = None,
@@ -383,8 +405,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                                                     else round(z.velocity_rms_mm_s, 3)),
                               "zone": z.zone, "band_truncated": z.band_truncated,
                               "signal_issues": list(z.signal_issues), "scale_trusted": z.scale_trusted,
-                              "scale_issues": list(z.scale_issues)}
-                             for z in advice.zones]},
+                              "scale_issues": list(z.scale_issues), "left_out": None}
+                             for z in advice.zones] + _left_out_rows(reading, evidence)},
         "chain": [_firing(f, worded) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
         "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},

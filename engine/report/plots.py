@@ -40,6 +40,7 @@ FOUND = ("harmonics found in the evidence", svg.MARK)      # the envelope's matc
 BEARING_COLOURS = (svg.MARK, "#1f4e9a", "#2e7d32", "#6a3d9a", "#c25e00", "#7a5c00")
 CROWDING = {"FTF", "rotor bar pass"}   # rates that crowd a spectrum: marked only when a hypothesis is on them
 INTERACTIVE_POINTS = 32768             # at most this many points of a trace go to the HTML zoom
+NOT_A_NUMBER_MARKS = 5                 # a left-out waveform marks the first few runs of samples that are not numbers
 
 
 @dataclass(frozen=True)
@@ -156,21 +157,26 @@ def figures(plots: PlotSet, evidence: Evidence, reasoning: Reasoning, machine: M
     Frequencies and velocities in ``units`` (default Hz, mm/s RMS)."""
     used = used_components(reasoning)
     channel, shaft, bearing = focus(reasoning, evidence, machine)
+    # a channel left out for corruption is shown as it is after the view, waveform first: what is wrong with it
+    left_out = dict.fromkeys(v.channel for v in plots.views if v.left_out)
     if channels is None:
-        return draw(plots.view(channel, shaft, bearing), evidence, used, units)
+        return draw(plots.view(channel, shaft, bearing), evidence, used, units) + [
+            f for c in left_out for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used, units)]
     if channels == ("all",):
         out = draw(plots.view(channel, shaft, bearing), evidence, used, units)
-        others = dict.fromkeys(v.channel for v in plots.views if v.channel != channel)
+        others = dict.fromkeys(v.channel for v in plots.views if v.channel != channel and not v.left_out)
         return out + [f for c in others for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used, units)
-                      if f.data is not None and f.title.startswith("Spectrum")]
+                      if f.data is not None and f.title.startswith("Spectrum")] + [
+            f for c in left_out for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used, units)]
     return [f for c in channels for f in _draw_own(plots, c, channel, shaft, bearing, evidence, used, units)]
 
 
 def _draw_own(plots: PlotSet, channel: str, focus_channel: str, shaft: str, bearing: str | None,
               evidence: Evidence, used: AbstractSet[str], units: ShownUnits | None) -> list[Figure]:
     """The figures of ``channel`` as the report would show it: the focus view for the focus channel, else
-    seen from the shaft under its point (the focus shaft when it has none); none for a channel the
-    analysis left out (a blocking quality issue: the report says so under Acquisition)."""
+    seen from the shaft under its point (the focus shaft when it has none); a channel left out for a
+    corrupting issue is drawn as it is, its titles saying why; none for one with nothing to draw (samples that
+    are not numbers in a velocity or displacement record: the report says so under Acquisition)."""
     if channel == focus_channel:
         return draw(plots.view(channel, shaft, bearing), evidence, used, units)
     any_view = next((v for v in plots.views if v.channel == channel), None)
@@ -237,24 +243,33 @@ def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset(),
     out = []
     # a channel whose scale is not trusted is drawn as stated, and its level axes say so
     stated = " as stated (scale not trusted)" if pd.channel in {lv.channel for lv in evidence.scale_doubted} else ""
-    title = f"Waveform, {pd.channel}"
+    # a channel left out is drawn as it is, so the analyst sees what is wrong; its titles say it was not analysed
+    why = f" - LEFT OUT ({pd.left_out})" if pd.left_out else ""
+    title = f"Waveform, {pd.channel}{why}"
+    # samples that are not numbers cannot be drawn: a mark stands at the start of each run of them (the first few)
+    bad = ~np.isfinite(pd.waveform_g)
+    starts = np.flatnonzero(bad & ~np.concatenate(([False], bad[:-1])))[:NOT_A_NUMBER_MARKS]
+    gaps = [svg.Mark(float(pd.waveform_t_ms[i]), "not a number", strong=True, group="samples that are not numbers")
+            for i in starts]
     out.append(Figure(title, svg.render(svg.Plot(title, "time, ms", "acceleration, g" + stated,
-                                                 [svg.Series(pd.waveform_t_ms, pd.waveform_g)]))))
+                                                 [svg.Series(pd.waveform_t_ms, pd.waveform_g)], gaps))))
     if pd.revolutions_g is not None and pd.revolutions_deg is not None and len(pd.revolutions_g):
         rows = pd.revolutions_g
         step = 2.2 * float(np.max(np.abs(rows))) or 1.0
         series = [svg.Series(pd.revolutions_deg, row - i * step) for i, row in enumerate(rows)]
         ticks = [(-i * step, f"turn {i + 1}") for i in range(len(rows))]
-        title = f"Waveform cut into turns of {pd.shaft} ({pd.shaft_hz * 60:.0f} rpm), {pd.channel}"
+        title = f"Waveform cut into turns of {pd.shaft} ({pd.shaft_hz * 60:.0f} rpm), {pd.channel}{why}"
         out.append(Figure(title, svg.render(svg.Plot(title, f"angle of {pd.shaft}, degrees",
                                                      "acceleration, one row per turn", series, xlim=(0.0, 360.0),
                                                      ytick_labels=ticks, height=60 + 30 * len(rows)))))
+    if not len(pd.spectrum_hz):         # a channel left out with samples that are not numbers has no spectrum
+        return out
     marks = spectrum_marks(pd, used)
     resolution = xlabel.split(", ", 1)[-1]
-    title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz * fx:.3g} {resolution} resolution, Hann)"
+    title = f"Spectrum, {pd.channel} ({pd.spectrum_resolution_hz * fx:.3g} {resolution} resolution, Hann){why}"
     top_hz = spectrum_top_hz(pd, marks)
     shown = pd.spectrum_hz <= top_hz
-    top = float(np.max(pd.spectrum_mm_s[shown])) * 1.1 if shown.any() else 1.0
+    top = (float(np.max(pd.spectrum_mm_s[shown])) * 1.1 if shown.any() else 0.0) or 1.0   # a dead channel: all 0
     marks = [replace(m, x=m.x * fx) for m in marks]
     xlim = (0.0, top_hz * fx)
     ylabel += stated

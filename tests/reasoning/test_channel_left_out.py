@@ -4,13 +4,17 @@ reading.signal.broken, reading.signal.channel-left-out, reading.signal.point-uns
 
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import numpy as np
 import pytest
 
 from engine.analysis import analyse
 from engine.evidence import run_extractors
+from engine.evidence.acquisition import data_quality
 from engine.machine import load_machine
-from engine.readings.quality import CORRUPTING_ISSUES
+from engine.readings.model import QualityIssue
+from engine.readings.quality import CORRUPTING_ISSUES, ISSUE_NAMES
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import as_reading, simulate
 
@@ -81,11 +85,62 @@ def test_every_channel_clipped_still_withholds(reasoner, pump):
     assert not _left_out(result)
 
 
-def test_the_rules_judge_the_issues_the_analysis_leaves_out():
+def test_the_rules_read_the_one_corrupting_field_not_a_list_of_issues():
     rulebook = load_rulebook()
     for rid in ("reading.signal.broken", "reading.signal.channel-left-out", "reading.signal.point-unseen"):
         rule = next(r for r in rulebook.rules if r.id == rid)
-        issues = next(c.value for p in rule.needs for c in p.conditions if c.field == "issue")
-        assert sorted(issues) == sorted(CORRUPTING_ISSUES), rid
+        conditions = {c.field: (c.op, c.value) for p in rule.needs for c in p.conditions}
+        assert conditions["corrupting"] == ("is", True), rid
+        # no second copy of CORRUPTING_ISSUES to keep in step (broken leaves drift to its own rule's words)
+        assert conditions.get("issue") in (None, ("is_not", "drift")), rid
     assert not rulebook.faults["channel-left-out"].withholds_diagnosis
     assert rulebook.faults["signal-corrupted"].withholds_diagnosis
+
+
+def test_the_corrupting_field_is_the_one_list_for_every_issue_kind(pump):
+    # every issue the gates can raise, on channel A (left out) of a stub analysis, channel B analysed
+    kinds = sorted(ISSUE_NAMES)
+    stub = SimpleNamespace(
+        machine=pump, channel_points={"A": "P1H", "B": "P1A"}, left_out=("A",),
+        channels=(SimpleNamespace(name="B"),),
+        quality=tuple(QualityIssue(kind, "A", "stub", 1.0) for kind in kinds))
+    facts = data_quality(stub)
+    assert [f["issue"] for f in facts] == kinds
+    assert {f["issue"] for f in facts if f["corrupting"]} == set(CORRUPTING_ISSUES)
+    assert {f["issue"] for f in facts if not f["corrupting"]} == set(kinds) - set(CORRUPTING_ISSUES)
+    assert all(f["left_out"] and f["location_channels"] == 1 for f in facts)   # P1H and P1A sit at pump_de
+
+
+def _ramp(x, fs_hz=12800.0):
+    # a settling sensor: a slow ramp of 5 x the channel's RMS over the record
+    t = np.arange(x.size) / fs_hz
+    return x + 5.0 * float(np.sqrt(np.mean(x ** 2))) * t / t[-1]
+
+
+def test_one_drifting_channel_is_left_out_and_the_rest_is_diagnosed(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P1A"])
+    sim.channels["P1A"] = _ramp(sim.channels["P1A"])
+    analysis, result = _reason(reasoner, pump, sim)
+    assert "drift" in [q.kind for q in analysis.quality if q.channel == "P1A"]
+    assert [c.name for c in analysis.channels] == ["P1H"] and analysis.left_out == ("P1A",)
+    assert not result.withheld                            # it withheld the whole reading before
+    assert result.top is not None and result.top.fault == "inner-race" and result.top.certainty >= CONFIDENT
+    left = _left_out(result)
+    assert [h.component for h in left] == ["P1A"]
+    words = " ".join(f.because for f in left[0].support)
+    assert "drift" in words and "1 of them still sit at pump_de" in words
+    assert not [f for h in result.reading_problems for f in h.support if f.rule_id == "reading.signal.drift"]
+
+
+def test_every_channel_drifting_still_withholds(reasoner, pump):
+    sim = _inner_race(pump, ["P1H", "P2H"])
+    for name, x in sim.channels.items():
+        sim.channels[name] = _ramp(x)
+    analysis, result = _reason(reasoner, pump, sim)
+    assert sorted(c.name for c in analysis.channels) == ["P1H", "P2H"] and not analysis.left_out
+    assert result.withheld
+    corrupted = [h for h in result.reading_problems if h.fault == "signal-corrupted" and h.withholds and h.confident]
+    assert sorted(h.component for h in corrupted) == ["P1H", "P2H"]
+    rules = {f.rule_id for h in corrupted for f in h.support}
+    assert "reading.signal.drift" in rules and "reading.signal.broken" not in rules   # its own words, once
+    assert not _left_out(result)

@@ -169,8 +169,10 @@ SIMULATED = [
      "reading.settings.hardly-a-turn"),
     ("DC offset", "bw1", _first_channel("bw1", "unbalance", 2, 2, lambda x, t: x + 3.0 * np.std(x)),
      "reading.signal.dc-offset"),
-    ("slow drift", "bw1", _first_channel("bw1", "unbalance", 2, 2, lambda x, t: x + 5.0 * t / t[-1]),
-     "reading.signal.drift"),
+    ("slow drift on every channel", "bw1", _every_channel("bw1", "unbalance", 2, 2, lambda ch: dataclasses.replace(
+        ch, samples=ch.samples + 5.0 * np.linspace(0.0, 1.0, ch.samples.size))), "reading.signal.drift"),
+    ("slow drift on the motor's only channel", "bw1",
+     _first_channel("bw1", "unbalance", 2, 2, lambda x, t: x + 5.0 * t / t[-1]), "reading.signal.point-unseen"),
     ("one NaN sample on the motor's only channel", "bw1",
      _first_channel("bw1", "unbalance", 2, 2, lambda x, t: np.where(np.arange(x.size) == 100, np.nan, x)),
      "reading.signal.point-unseen"),
