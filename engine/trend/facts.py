@@ -7,6 +7,12 @@ use a change since baseline, a rate per month or a projected time.
 from __future__ import annotations
 
 NO_PROJECTION_DAYS = -1.0
+ZONE_BOUNDARY = "zone boundary "     # how engine.trend.report labels a projection to an ISO 20816-3 boundary
+
+
+def _boundary(label: str) -> str:
+    """What a projection runs to: an ISO 20816-3 boundary ("A/B", "B/C", "C/D") or "limit" (a user's or alarm's)."""
+    return label[len(ZONE_BOUNDARY):].split(" ")[0] if label.startswith(ZONE_BOUNDARY) else "limit"
 
 
 def trend_facts(doc: dict) -> list[dict]:
@@ -25,6 +31,15 @@ def trend_facts(doc: dict) -> list[dict]:
                 "rate_per_month": ind["rate_per_month"] if ind["rate_per_month"] is not None else 0.0,
                 "iso_change_significant": bool(iso.get("significant")) if ind["name"] == "velocity_rms_mm_s" else False,
                 "projected_days": proj["days"] if proj and proj["projected"] else NO_PROJECTION_DAYS,
+                "projected_low_days": (proj["low_days"] if proj and proj["projected"] and proj["low_days"] is not None
+                                       else NO_PROJECTION_DAYS),
+                "projected_high_days": (proj["high_days"] if proj and proj["projected"] and proj["high_days"] is not None
+                                        else NO_PROJECTION_DAYS),
+                # a projection counts only from a start of degradation the trend found, on readings since it
+                "degradation_began": bool(proj and proj["projected"] and proj.get("onset")),
+                "readings_since_onset": (proj.get("readings_since_onset") or 0) if proj and proj["projected"] else 0,
+                "change_db": ind["change_db"] if ind.get("change_db") is not None else 0.0,
                 "projection_to": proj["limit_label"] if proj else "",
+                "projection_boundary": _boundary(proj["limit_label"]) if proj else "",
             })
     return facts

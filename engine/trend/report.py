@@ -69,7 +69,8 @@ def _projection(p: Projection, s: Series) -> dict:
             "high_seconds": _seconds(p.high_days), "act_by_days": _exact(p.act_by_days), "prior": p.prior,
             "date": when(p.days), "low_date": when(p.low_days),
             "high_date": when(p.high_days), "method": p.method, "reason": p.reason,
-            "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
+            "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes"),
+            "readings_since_onset": None if p.onset_index is None else len(s) - p.onset_index}
 
 
 def _project(s: Series, limit: float, label: str, source: Series | None,
