@@ -350,18 +350,17 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         # the trend's reasons to act sooner (rulebooks/time-to-act.yaml): each finding seen at the point, and
         # the diagnosis; never later than it was
         raises = urgency_raises(reasoning, data, urgencies)
-        if raises:
-            point_of = {lv.channel: lv.point or lv.channel for lv in evidence.levels}
-            recs = tuple(_raise_rec(r, [x for x in raises if x.point in {point_of.get(c, c) for c in
-                                                                        r.hypothesis.channels}])
-                         for r in recs)
         confident = [r.urgency for r in recs if r.hypothesis.confident]
         base = [urgencies[data["zone_urgency"][worst]]] if worst else []
         if checking is not None:      # a level that cannot be judged: check the scale, then decide
             base.append(urgencies[policy["urgency"]])
         urgency = min(confident + (base or [urgencies["none"]]), key=lambda u: u.rank)
-        if raises:
+        if raises:     # the overall urgency first, so its reasons are said where it is
             urgency, raised_by = _raised(urgency, raises)
+            point_of = {lv.channel: lv.point or lv.channel for lv in evidence.levels}
+            recs = tuple(_raise_rec(r, [x for x in raises if x.point in {point_of.get(c, c) for c in
+                                                                        r.hypothesis.channels}])
+                         for r in recs)
         # a reading problem that does not withhold the diagnosis, or is too weak to, still limits it
         limitations = tuple(f.because for h in problems for f in h.support)
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""

@@ -19,6 +19,16 @@ from .repairs import repairs_of
 from .report import fault_names, trend_from_rows
 
 
+def alarm_limits(alarms) -> dict[str, dict[str, tuple[float, str]]]:
+    """point -> indicator -> (danger level, label) of the site's alarms (``engine.alarms.judge_alarms``
+    results, or the machine's alarms as dicts): the level a trend projects the indicator to at that point."""
+    out: dict[str, dict[str, tuple[float, str]]] = {}
+    for a in alarms:
+        out.setdefault(a["point"], {})[a["indicator"]] = (
+            float(a["danger"]), f"alarm danger level {a['band']} = {a['danger']:g} {a['unit']}")
+    return out
+
+
 class HistoryLink:
     """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``)."""
 
@@ -29,9 +39,9 @@ class HistoryLink:
         self.recording_hash = recording_hash or content_hash     # the same files diagnosed before are not history
         self.exclude_route = exclude_route      # a route trends against earlier surveys only
         self.doc: dict | None = None
-        self._made_of: tuple = ((), (), set())
+        self._made_of: tuple = ((), (), set(), {})
 
-    def __call__(self, facts: list[dict]) -> list[dict]:
+    def __call__(self, facts: list[dict], alarms=()) -> list[dict]:
         same = {r["id"] for r in self.store.readings(self.machine.name)
                 if self.content_hash in (r["content_hash"], r.get("recording_hash"))
                 or self.recording_hash == r.get("recording_hash")}
@@ -52,6 +62,13 @@ class HistoryLink:
                 "direction": c["direction"], "location": c["location"], "zone": None,
                 "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}
                for c in channels]
+        # the site's band values of this reading (stored beside it too, engine.history.record), and each
+        # alarm's danger level as a limit its indicator is projected to at its point
+        for r in now:
+            for a in alarms:
+                if a["channel"] == r["channel"] and a["value"] is not None:
+                    r["indicators"].setdefault(a["indicator"], float(a["value"]))
+        limits = alarm_limits(alarms)
         # a trend ends at this reading: an indicator it does not have (a site band, judged after the
         # reasoning; a tone not found this time) would end at an older reading and read as this one's
         have: defaultdict[str, set] = defaultdict(set)
@@ -61,10 +78,11 @@ class HistoryLink:
                                         if k in have[r["point"] or r["channel"]]}} for r in earlier]
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
-        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs)
+        doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
+                              point_limits=limits)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
-        self._made_of = (earlier + now, repairs, here)
+        self._made_of = (earlier + now, repairs, here, limits)
         return trend_facts(doc)
 
     def shown_in(self, units) -> dict | None:
@@ -72,7 +90,8 @@ class HistoryLink:
         the one in Hz and mm/s RMS (``doc``), which is also what any other units start from."""
         if self.doc is None or units is None or units.default:
             return self.doc
-        rows, repairs, here = self._made_of
-        doc = trend_from_rows(self.machine.name, rows, self.scale, plots=self.plots, repairs=repairs, units=units)
+        rows, repairs, here, limits = self._made_of
+        doc = trend_from_rows(self.machine.name, rows, self.scale, plots=self.plots, repairs=repairs, units=units,
+                              point_limits=limits)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         return doc

@@ -15,17 +15,27 @@ def _boundary(label: str) -> str:
     return label[len(ZONE_BOUNDARY):].split(" ")[0] if label.startswith(ZONE_BOUNDARY) else "limit"
 
 
+def _weight(x: dict) -> tuple:
+    """Sort key of a projection: projected first, to a limit or C/D before A/B and B/C, then the soonest."""
+    soon = x["low_days"] if x["low_days"] is not None else x["days"]
+    return (not x["projected"], _boundary(x["limit_label"]) in ("A/B", "B/C"), soon if soon is not None else 0.0)
+
+
 def trend_facts(doc: dict) -> list[dict]:
     """One ``trend`` fact per point and indicator of a trend document (vocabulary kind ``trend``)."""
     facts: list[dict] = []
     for p in doc["points"]:
         iso = p.get("iso_change") or {}
-        projected = {x["indicator"]: x for x in p["projections"]}
+        # per indicator the projection that matters most: a projected one to a limit or to C/D, the soonest
+        projected: dict[str, dict] = {}
+        for x in sorted(p["projections"], key=_weight):
+            projected.setdefault(x["indicator"], x)
         for ind in p["indicators"]:
             proj = projected.get(ind["name"])
             facts.append({
                 "kind": "trend", "id": f"trend-{len(facts) + 1}",
                 "point": p["point"], "direction": p["direction"] or "", "indicator": ind["name"],
+                "indicator_name": ind["label"],
                 "readings": ind["readings"], "baseline": ind["baseline"] or 0.0, "latest": ind["latest"] or 0.0,
                 "change_pct": ind["change_pct"] if ind["change_pct"] is not None else 0.0,
                 "rate_per_month": ind["rate_per_month"] if ind["rate_per_month"] is not None else 0.0,

@@ -249,13 +249,16 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
 
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
-                    learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None) -> dict:
+                    learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
+                    point_limits: dict[str, dict[str, tuple[float, str]]] | None = None) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS).
 
     ``repairs``: the machine's findings (``repairs.repairs_of``); each is shown beside the points that
     see its component, and one with a fault found resets their baseline to the readings after its day.
     ``learned``: indicator -> the prior from the store's own histories (``store_prior``).
+    ``point_limits``: point -> indicator -> (limit, label): a site alarm's danger level, projected to at
+    that point only (``diagnosis.alarm_limits``).
     """
     from ..advice import zone_of
 
@@ -293,6 +296,9 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                 s = used[name]
                 key = name if name not in projections else f"{name}@limit"
                 projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source, (learned or {}).get(name))
+        for name, (limit, label) in (point_limits or {}).get(pt, {}).items():
+            if name in used and f"{name}@alarm" not in projections:
+                projections[f"{name}@alarm"] = _project(used[name], limit, label, source, (learned or {}).get(name))
         ref = next(iter(by_name.values()))
         since = used[ref.indicator] if ref.indicator in used else None
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
