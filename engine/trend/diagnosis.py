@@ -19,16 +19,6 @@ from .repairs import repairs_of
 from .report import fault_names, trend_from_rows
 
 
-def alarm_limits(alarms) -> dict[str, dict[str, tuple[float, str]]]:
-    """point -> indicator -> (danger level, label) of the site's alarms (``engine.alarms.judge_alarms``
-    results, or the machine's alarms as dicts): the level a trend projects the indicator to at that point."""
-    out: dict[str, dict[str, tuple[float, str]]] = {}
-    for a in alarms:
-        out.setdefault(a["point"], {})[a["indicator"]] = (
-            float(a["danger"]), f"alarm danger level {a['band']} = {a['danger']:g} {a['unit']}")
-    return out
-
-
 class HistoryLink:
     """Called by ``pipeline.diagnose`` with the evidence facts (its ``more_facts``)."""
 
@@ -63,12 +53,12 @@ class HistoryLink:
                 "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}
                for c in channels]
         # the site's band values of this reading (stored beside it too, engine.history.record), and each
-        # alarm's danger level as a limit its indicator is projected to at its point
+        # alarm's danger level as a limit its indicator is projected to at its point (trend_from_rows)
         for r in now:
             for a in alarms:
                 if a["channel"] == r["channel"] and a["value"] is not None:
                     r["indicators"].setdefault(a["indicator"], float(a["value"]))
-        limits = alarm_limits(alarms)
+        alarm_rows = [{k: a[k] for k in ("point", "band", "unit", "indicator", "alert", "danger")} for a in alarms]
         # a trend ends at this reading: an indicator it does not have (a site band, judged after the
         # reasoning; a tone not found this time) would end at an older reading and read as this one's
         have: defaultdict[str, set] = defaultdict(set)
@@ -79,10 +69,10 @@ class HistoryLink:
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
-                              point_limits=limits)
+                              alarms=alarm_rows)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
-        self._made_of = (earlier + now, repairs, here, limits)
+        self._made_of = (earlier + now, repairs, here, alarm_rows)
         return trend_facts(doc)
 
     def shown_in(self, units) -> dict | None:
@@ -90,8 +80,8 @@ class HistoryLink:
         the one in Hz and mm/s RMS (``doc``), which is also what any other units start from."""
         if self.doc is None or units is None or units.default:
             return self.doc
-        rows, repairs, here, limits = self._made_of
+        rows, repairs, here, alarm_rows = self._made_of
         doc = trend_from_rows(self.machine.name, rows, self.scale, plots=self.plots, repairs=repairs, units=units,
-                              point_limits=limits)
+                              alarms=alarm_rows)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         return doc
