@@ -331,7 +331,7 @@ FACTS["trend"] = {
     "degradation_began": F("boolean", "the projection starts where the trend found degradation began", ""),
     "readings_since_onset": F("integer", "readings the projection rests on since degradation began", ""),
     "change_db": F("number", "latest less baseline for an indicator in dB (0 for others)", "dB"),
-    "indicator_name": F("string", "the indicator as reports name it: acceleration peak, g; band 2000-6000 Hz, g RMS", ""),
+    "indicator_name": F("string", "the indicator as reports name it: band 2000-6000 Hz, g RMS", ""),
     "projection_boundary": F("string", "what the projection runs to: A/B, B/C, C/D (ISO 20816-3) or limit", ""),
 }
 

@@ -21,6 +21,12 @@ def _weight(x: dict) -> tuple:
     return (not x["projected"], _boundary(x["limit_label"]) in ("A/B", "B/C"), soon if soon is not None else 0.0)
 
 
+def _days(proj: dict | None, key: str) -> float:
+    """A projection's ``key`` (days, low_days, high_days), or NO_PROJECTION_DAYS when it is not projected or open."""
+    value = proj.get(key) if proj and proj["projected"] else None
+    return NO_PROJECTION_DAYS if value is None else value
+
+
 def trend_facts(doc: dict) -> list[dict]:
     """One ``trend`` fact per point and indicator of a trend document (vocabulary kind ``trend``)."""
     facts: list[dict] = []
@@ -40,11 +46,9 @@ def trend_facts(doc: dict) -> list[dict]:
                 "change_pct": ind["change_pct"] if ind["change_pct"] is not None else 0.0,
                 "rate_per_month": ind["rate_per_month"] if ind["rate_per_month"] is not None else 0.0,
                 "iso_change_significant": bool(iso.get("significant")) if ind["name"] == "velocity_rms_mm_s" else False,
-                "projected_days": proj["days"] if proj and proj["projected"] else NO_PROJECTION_DAYS,
-                "projected_low_days": (proj["low_days"] if proj and proj["projected"] and proj["low_days"] is not None
-                                       else NO_PROJECTION_DAYS),
-                "projected_high_days": (proj["high_days"] if proj and proj["projected"] and proj["high_days"] is not None
-                                        else NO_PROJECTION_DAYS),
+                "projected_days": _days(proj, "days"),
+                "projected_low_days": _days(proj, "low_days"),
+                "projected_high_days": _days(proj, "high_days"),
                 # a projection counts only from a start of degradation the trend found, on readings since it
                 "degradation_began": bool(proj and proj["projected"] and proj.get("onset")),
                 "readings_since_onset": (proj.get("readings_since_onset") or 0) if proj and proj["projected"] else 0,

@@ -110,3 +110,52 @@ def test_a_misspelt_band_lists_the_stored_bands(store, capsys):
     err = one_error_line(capsys, 2, ["trend", "M", "--store", store, "--limit", "band[2000-600 Hz]=0.15"])
     assert "no stored site alarm band of that name" in err
     assert "band[2000-6000 Hz]_g (band 2000-6000 Hz, g RMS)" in err and str(store) in err, err
+
+
+def test_diagnose_with_history_projects_a_band_to_its_danger_level_and_acts_sooner(tmp_path):
+    """diagnose --store: the reading's band value ends the band's trend, the alarm's danger level is its
+    limit, and a crossing projected within days makes a quiet diagnosis 'act now', saying why."""
+    from engine.advice import load_advice, zone_scale
+    from engine.history.store import Store
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+    from engine.simulation import as_reading, simulate
+    from engine.trend.diagnosis import HistoryLink
+
+    from support import RW2, reasoner
+
+    machine_file = tmp_path / "rw2.yaml"
+    text = RW2.read_text().split("\nalarms:")[0]
+    rules = reasoner()
+    reading = as_reading(simulate(load_machine(RW2), "healthy", None, 1, None, 12800.0, 3.0, 5))
+    machine_file.write_text(text + "\nalarms:\n  - {point: P1H, band: 2000-6000 Hz, quantity: acceleration_g_rms, "
+                                   "alert: 1.0, danger: 2.0}\n")
+    probe = diagnose(reading, load_machine(machine_file), rules)
+    (now,) = [a["value"] for a in probe.alarms if a["point"] == "P1H"]
+    assert probe.advice.urgency.id == "none"
+    # the alarm's levels set from this reading's value: danger 1.6 times it, a little more than one
+    # reading's rise of the invented daily series below (40 % a day after ten steady days)
+    machine_file.write_text(text + "\nalarms:\n  - {point: P1H, band: 2000-6000 Hz, quantity: acceleration_g_rms, "
+                                   f"alert: {0.5 * now:.6g}, danger: {1.6 * now:.6g}}}\n")
+    machine = load_machine(machine_file)
+    earlier = [now / 1.4 ** 9] * 10 + [now / 1.4 ** k for k in range(8, 0, -1)]
+    with Store(tmp_path / "h.sqlite") as store:
+        for i, v in enumerate(earlier):
+            store.add({"content_hash": f"h{i}", "machine": machine.name, "machine_file": None, "source": f"r{i}.wav",
+                       "taken_at": f"2026-01-{1 + i:02d}T08:00:00", "time_from": "route", "speed_rpm": 1485.0,
+                       "elapsed_s": 0.1, "fs_hz": 12800.0, "duration_s": 3.0,
+                       "verdict": {"urgency": "none", "urgency_label": "no action", "worst_zone": "A",
+                                   "withheld": False, "summary": "s"},
+                       "top": None, "hypotheses": [],
+                       "channels": [{"channel": "P1H", "point": "P1H", "direction": "horizontal",
+                                     "location": "pump_de", "zone": "A"}],
+                       "indicators": [{"channel": "P1H", "name": "band[2000-6000 Hz]_g", "value": v}]})
+        link = HistoryLink(store, machine, zone_scale(machine, load_advice()), content_hash="now",
+                           taken_at="2026-01-19T08:00:00", plots=False)
+        d = diagnose(reading, machine, rules, more_facts=link)
+    (p,) = [p for p in link.doc["points"] if p["point"] == "P1H"]
+    proj = next(x for x in p["projections"] if x["indicator"] == "band[2000-6000 Hz]_g")
+    assert proj["projected"] and proj["limit_label"].startswith("alarm danger level 2000-6000 Hz")
+    assert d.advice.urgency.id == "act-now", (proj, d.advice.urgency)
+    (why,) = d.advice.raised_by
+    assert why.point == "P1H" and "band 2000-6000 Hz, g RMS at P1H projects alarm danger level" in why.because
