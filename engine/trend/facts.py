@@ -16,9 +16,11 @@ def _boundary(label: str) -> str:
 
 
 def _weight(x: dict) -> tuple:
-    """Sort key of a projection: projected first, to a limit or C/D before A/B and B/C, then the soonest."""
+    """Sort key of a projection: projected first (a limit already reached after them: the alarms say so), to a
+    limit or C/D before A/B and B/C, then the soonest."""
     soon = x["low_days"] if x["low_days"] is not None else x["days"]
-    return (not x["projected"], _boundary(x["limit_label"]) in ("A/B", "B/C"), soon if soon is not None else 0.0)
+    return (not x["projected"] or x["method"] == "reached", _boundary(x["limit_label"]) in ("A/B", "B/C"),
+            soon if soon is not None else 0.0)
 
 
 def _days(proj: dict | None, key: str) -> float:
