@@ -267,6 +267,7 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
 
 
 TIME_TO_ACT = "time_to_act"     # the derived kind whose facts ask for an urgency (rulebooks/time-to-act.yaml)
+FROM_DAYS = "from-days"         # its urgency when the step is the one whose window holds its within_days
 
 
 def urgency_raises(reasoning: Reasoning, data: dict, urgencies: dict[str, Urgency]) -> tuple[UrgencyRaise, ...]:
@@ -279,7 +280,7 @@ def urgency_raises(reasoning: Reasoning, data: dict, urgencies: dict[str, Urgenc
         if d is None or d.get("kind") != TIME_TO_ACT:
             continue
         step = d.get("urgency") or ""
-        if not step:
+        if step in ("", FROM_DAYS):
             days = d.get("within_days")
             held = [uid for start, uid in opens if days is not None and days >= 0 and start <= days]
             step = held[-1] if held else ""
