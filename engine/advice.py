@@ -275,10 +275,8 @@ def urgency_raises(reasoning: Reasoning, data: dict, urgencies: dict[str, Urgenc
     days the step with the latest window opening at or before it (``window_opens_days``); none past the last."""
     opens = sorted((days, uid) for uid, days in (data.get("window_opens_days") or {}).items())
     out = []
-    for f in reasoning.chain:
-        d = f.derived
-        if d is None or d.get("kind") != TIME_TO_ACT:
-            continue
+    for f in reasoning.derived(TIME_TO_ACT):
+        d = f.derived or {}
         step = d.get("urgency") or ""
         if step in ("", FROM_DAYS):
             days = d.get("within_days")

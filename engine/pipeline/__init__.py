@@ -82,7 +82,7 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     facts = run_extractors(analysis)
     # the site's alarms are judged on the analysis (never on the reasoning); a history link trends their
     # band values and projects to their danger levels, so they are judged before it is called
-    alarms = judge_alarms(analysis, set(scale_doubts(f for f in facts if f["kind"] == "data_quality")))
+    alarms = judge_alarms(analysis, set(scale_doubts(analysis.quality)))
     if more_facts is not None:
         facts = facts + list(more_facts(facts, alarms))
     evidence = summarise(facts)
