@@ -20,7 +20,7 @@ from .health import choose, health_of
 from .projection import CONFIDENCE, Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
-from .shown import boundary_label, trend_in_units
+from .shown import boundary_label, trend_in_units, velocity_words
 from .store_prior import StorePrior, learned_from_store
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
@@ -240,8 +240,9 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         key = next((k for k in (f"{name}@limit", name, f"{name}@alarm") if k in projections), None)
         k = (units or ShownUnits()).velocity_value(1.0, line=False) if name.endswith("_mm_s") else 1.0
         ylabel = (units or ShownUnits()).velocity_label(line=False) if name.endswith("_mm_s") else "g RMS"
-        plots.append(plot(f"{point}: {by_name[name].label}", ylabel,
-                          [replace(t, y=t.y * k) for t in traces(name, width=1.2) + fitted(name, key=key)],
+        plots.append(plot(f"{point}: {velocity_words(by_name[name].label, units or ShownUnits())}", ylabel,
+                          [replace(t, y=t.y * k, label=t.label and velocity_words(t.label, units or ShownUnits()))
+                           for t in traces(name, width=1.2) + fitted(name, key=key)],
                           alarm_levels(name, k) + ([Level(projections[key].limit * k, projections[key].limit_label)]
                                                    if key == f"{name}@limit" else [])))
     return [{"title": p.title, "svg": render(p)} for p in plots]
