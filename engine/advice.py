@@ -10,7 +10,7 @@ summaries) and the reasoning result; it reads no reading file and no spectrum.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 from pathlib import Path
 from typing import Protocol
@@ -106,6 +106,18 @@ class OilTest:
 
 
 @dataclass(frozen=True)
+class UrgencyRaise:
+    """A rule's reason to act sooner at one point (a ``time_to_act`` fact, rulebooks/time-to-act.yaml):
+    the step it asks for, the point, its sentence and the rule."""
+
+    urgency: Urgency
+    point: str
+    because: str
+    rule_id: str
+    origin: str
+
+
+@dataclass(frozen=True)
 class Recommendation:
     """What to do about one hypothesis: severity, urgency, actions, spares, how to confirm, oil tests."""
 
@@ -116,6 +128,7 @@ class Recommendation:
     spares: tuple[str, ...]
     confirm: tuple[str, ...]
     oil: tuple[OilTest, ...]
+    raised_by: tuple[UrgencyRaise, ...] = ()   # the reasons that made its urgency sooner than it was
 
 
 @dataclass(frozen=True)
@@ -133,6 +146,7 @@ class Advice:
     cautions: tuple[str, ...]
     disclaimer: str
     scale: ScaleCheck | None = None   # channels whose scale is not trusted, or None when every one is
+    raised_by: tuple[UrgencyRaise, ...] = ()   # the reasons that made the overall urgency sooner than it was
 
 
 def load_advice(folder=ADVICE_FOLDER) -> dict:
@@ -254,6 +268,38 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
                           tuple(todo["confirm"]) + tuple(extra.get("confirm", ())), oil)
 
 
+TIME_TO_ACT = "time_to_act"     # the derived kind whose facts ask for an urgency (rulebooks/time-to-act.yaml)
+FROM_DAYS = "from-days"         # its urgency when the step is the one whose window holds its within_days
+
+
+def urgency_raises(reasoning: Reasoning, data: dict, urgencies: dict[str, Urgency]) -> tuple[UrgencyRaise, ...]:
+    """The urgency each ``time_to_act`` fact the rules derived asks for: its ``urgency`` step, or for a time in
+    days the step with the latest window opening at or before it (``window_opens_days``); none past the last."""
+    opens = sorted((days, uid) for uid, days in (data.get("window_opens_days") or {}).items())
+    out = []
+    for f in reasoning.derived(TIME_TO_ACT):
+        d = f.derived or {}
+        step = d.get("urgency") or ""
+        if step in ("", FROM_DAYS):
+            days = d.get("within_days")
+            held = [uid for start, uid in opens if days is not None and days >= 0 and start <= days]
+            step = held[-1] if held else ""
+        if not step or step == "none":
+            continue
+        if step not in urgencies:
+            raise RulebookError(f"rule {f.rule_id}: derives {TIME_TO_ACT} with urgency {step!r}, not on the urgency "
+                                f"scale ({', '.join(urgencies)})", path=f.origin)
+        out.append(UrgencyRaise(urgencies[step], str(d.get("point") or ""), f.because, f.rule_id, f.origin))
+    return tuple(out)
+
+
+def _raised(current: Urgency, raises) -> tuple[Urgency, tuple[UrgencyRaise, ...]]:
+    """``current`` made as urgent as the most urgent of ``raises`` that is sooner (a raise never lowers it),
+    with the raises that moved it, most urgent first."""
+    sooner = sorted((r for r in raises if r.urgency.rank < current.rank), key=lambda r: r.urgency.rank)
+    return (sooner[0].urgency if sooner else current), tuple(sooner)
+
+
 def _coupling_advice(machine: Machine, component: str | None, data: dict) -> dict:
     """The advice data's lines for the type of the coupling ``component`` names ({} when it names none)."""
     coupling = machine.coupling(component) if component and hasattr(machine, "coupling") else None
@@ -287,6 +333,7 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
     settings = [f.because for h in problems if h.fault.startswith("settings-") for f in h.support]
+    raised_by: tuple[UrgencyRaise, ...] = ()
     if reasoning.withheld:
         recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice)
                      for h in problems if h.confident)
@@ -301,13 +348,31 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
                             for f in h.support)
     else:
         recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice) for h in shown)
+        # the trend's reasons to act sooner (rulebooks/time-to-act.yaml): each finding seen at the point, and
+        # the diagnosis; never later than it was
+        raises = urgency_raises(reasoning, data, urgencies)
         confident = [r.urgency for r in recs if r.hypothesis.confident]
         base = [urgencies[data["zone_urgency"][worst]]] if worst else []
         if checking is not None:      # a level that cannot be judged: check the scale, then decide
             base.append(urgencies[policy["urgency"]])
         urgency = min(confident + (base or [urgencies["none"]]), key=lambda u: u.rank)
+        if raises:     # the overall urgency first, so its reasons are said where it is
+            urgency, raised_by = _raised(urgency, raises)
+            point_of = {lv.channel: lv.point or lv.channel for lv in evidence.levels}
+            recs = tuple(_raise_rec(r, [x for x in raises if x.point in {point_of.get(c, c) for c in
+                                                                        r.hypothesis.channels}])
+                         for r in recs)
         # a reading problem that does not withhold the diagnosis, or is too weak to, still limits it
         limitations = tuple(f.because for h in problems for f in h.support)
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
     return Advice(scale, zones, worst, meaning, urgency, recs, tuple(settings) if reasoning.withheld else (),
-                  limitations, tuple(data["cautions"]), data["disclaimer"].strip(), checking)
+                  limitations, tuple(data["cautions"]), data["disclaimer"].strip(), checking,
+                  raised_by)
+
+
+def _raise_rec(rec: Recommendation, raises) -> Recommendation:
+    """``rec`` with its urgency made sooner by those of ``raises`` that are (a reading problem's is left alone)."""
+    if rec.hypothesis.family == "reading" or not raises:
+        return rec
+    urgency, by = _raised(rec.urgency, raises)
+    return replace(rec, urgency=urgency, raised_by=by) if by else rec

@@ -12,7 +12,8 @@ def register(sub) -> None:
     p.add_argument("machine", help="machine name as its file gives it (tellwave history lists them)")
     p.add_argument("--point", help="only this measurement point (default: every point)")
     p.add_argument("--limit", action="append", default=[], metavar="INDICATOR=VALUE",
-                   help="project the time to this limit too, e.g. accel_peak_g=20 (repeatable)")
+                   help="project the time to this limit too, e.g. accel_peak_g=20, or a site alarm band's value "
+                        "as 'band[2000-6000 Hz]=0.2' (quoted; repeatable)")
     p.add_argument("--waterfall", action="store_true",
                    help="add each point's velocity spectra across the stored surveys, oldest at the back, "
                         "forcing frequencies marked (HTML draws them; text and md list the largest changes)")
@@ -39,8 +40,12 @@ def parse_limits(items: list[str]) -> dict[str, float]:
     for item in items:
         name, sep, value = item.partition("=")
         name = name.strip()
-        if not sep or name not in INDICATORS:
-            raise UsageError(f"--limit {item!r}: expected INDICATOR=VALUE with one of {', '.join(INDICATORS)}")
+        # a site alarm band's value by its stored name (band[2000-6000 Hz]_g), or without the unit ending when
+        # one unit is stored; the trend checks it against the bands the store holds
+        if not sep or not (name in INDICATORS or (name.startswith("band[") and "]" in name)):
+            raise UsageError(f"--limit {item!r}: expected INDICATOR=VALUE with one of {', '.join(INDICATORS)}, "
+                             f"or a site alarm band as band[BAND] (its name in the alarm file, e.g. "
+                             f"'band[2000-6000 Hz]=0.2'; quote it for the shell)")
         try:
             limits[name] = float(value)
         except ValueError:

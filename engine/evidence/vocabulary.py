@@ -329,6 +329,13 @@ FACTS["trend"] = {
     "iso_change_significant": F("boolean", "velocity changed by more than 25 % of the B/C boundary (ISO 20816-3)", ""),
     "projected_days": F("number", "projected days to the next zone boundary or limit (-1: no projection)", ""),
     "projection_to": F("string", "the boundary or limit projected to", ""),
+    "projected_low_days": F("number", "early end of the projection's 80 % interval, days (-1: no projection)", ""),
+    "projected_high_days": F("number", "late end of the projection's 80 % interval, days (-1: none or open)", ""),
+    "degradation_began": F("boolean", "the projection starts where the trend found degradation began", ""),
+    "readings_since_onset": F("integer", "readings the projection rests on since degradation began", ""),
+    "change_db": F("number", "latest less baseline for an indicator in dB (0 for others)", "dB"),
+    "indicator_name": F("string", "the indicator as reports name it: band 2000-6000 Hz, g RMS", ""),
+    "projection_boundary": F("string", "what the projection runs to: A/B, B/C, C/D (ISO 20816-3) or limit", ""),
 }
 
 COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact identity", "")}

@@ -36,6 +36,18 @@ for _d in BEARING_DEFECTS:
                                   f"best {_d} line of the squared envelope spectrum, bearing at the point")
     INDICATORS[f"tone_{_d}_g"] = (f"{_d} in the spectrum, g peak", f"{_d} tone of the bearing at the point")
 
+BAND_UNITS = {"mm_s": "mm/s RMS", "g": "g RMS"}     # a site alarm band's indicator: band[BAND]_mm_s or _g
+
+
+def indicator_label(indicator: str) -> str:
+    """An indicator's name as reports show it: a site alarm band's ``band[2000-6000 Hz]_g`` as
+    "band 2000-6000 Hz, g RMS" (engine.machine.alarms names them), any other as INDICATORS says."""
+    if indicator.startswith("band[") and "]_" in indicator:
+        band, unit = indicator[len("band["):].rsplit("]_", 1)
+        return f"band {band}, {BAND_UNITS.get(unit, unit)}"
+    return INDICATORS.get(indicator, (indicator, ""))[0]
+
+
 OVERALL = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "crest_factor", "kurtosis")
 
 

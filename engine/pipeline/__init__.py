@@ -16,7 +16,7 @@ from ..analysis.compact import compact_spectra
 from ..analysis.plotdata import PlotSet, plot_set
 from ..evidence import Evidence, run_extractors, summarise
 from ..machine import Machine
-from ..readings import Reading, check_points, check_record_length, describe_issue
+from ..readings import Reading, check_points, check_record_length, describe_issue, scale_doubts
 from ..reasoning import Reasoner, Reasoning
 
 
@@ -69,8 +69,8 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
              plots: bool = False, more_facts=None, taken: tuple[str, str] | None = None) -> Diagnosis:
     """Diagnose ``reading`` of ``machine``; ``plots`` also hands over the analysis's plot data.
 
-    ``more_facts``, if given, is called with the evidence facts and returns
-    further facts to reason over with them (``trend`` facts from the history).
+    ``more_facts``, if given, is called with the evidence facts and the site's alarms judged on this
+    reading, and returns further facts to reason over with them (``trend`` facts from the history).
     ``taken`` is (ISO time, where it came from) when the caller knows better
     than the file when the reading was taken.
     """
@@ -80,12 +80,14 @@ def diagnose(reading: Reading, machine: Machine, reasoner: Reasoner, advice_data
     figures = plot_set(analysis) if plots else None
     spectra, forcing = compact_spectra(analysis)
     facts = run_extractors(analysis)
+    # the site's alarms are judged on the analysis (never on the reasoning); a history link trends their
+    # band values and projects to their danger levels, so they are judged before it is called
+    alarms = judge_alarms(analysis, set(scale_doubts(analysis.quality)))
     if more_facts is not None:
-        facts = facts + list(more_facts(facts))
+        facts = facts + list(more_facts(facts, alarms))
     evidence = summarise(facts)
     reasoning = reasoner.reason(list(evidence.facts))
     advice = advise(machine, evidence, reasoning, advice_data)
-    alarms = judge_alarms(analysis, {lv.channel for lv in evidence.levels if not lv.scale_trusted})
     return Diagnosis(machine, reading_info(reading, taken), evidence, reasoning, advice, figures,
                      reach_of(reading, machine, analysis.speeds_hz[machine.driver_shaft] * 60, reasoner.rulebook),
                      spectra, forcing, alarms)

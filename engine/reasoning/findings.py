@@ -92,6 +92,11 @@ class Reasoning:
         """The leading hypothesis, or None when no rule fired for any."""
         return self.hypotheses[0] if self.hypotheses else None
 
+    def derived(self, kind: str) -> tuple[Firing, ...]:
+        """The firings of the chain that derived a fact of ``kind`` (a derived kind another stage reads, such
+        as ``time_to_act``), in the order they fired."""
+        return tuple(f for f in self.chain if f.derived is not None and f.derived["kind"] == kind)
+
     def confident(self) -> tuple[Hypothesis, ...]:
         """The hypotheses at CONFIDENT or more, leading first."""
         return tuple(h for h in self.hypotheses if h.confident)

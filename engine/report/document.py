@@ -99,8 +99,14 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | N
            # can lose signs while its strongest keeps them all: then nothing was explained away)
            "explained_by": _explained_by(h) if h.raw_certainty is not None else [],
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
-           "spares": list(rec.spares), "confirm": list(rec.confirm)}
+           "spares": list(rec.spares), "confirm": list(rec.confirm), "urgency_raised_by": _raises(rec.raised_by)}
     return out
+
+
+def _raises(raises) -> list[dict]:
+    """Why an urgency is sooner than the finding alone made it (rulebooks/time-to-act.yaml), most urgent first."""
+    return [{"urgency": _urgency(r.urgency), "point": r.point, "because": " ".join(r.because.split()),
+             "rule": r.rule_id, "origin": r.origin} for r in raises]
 
 
 def _oil_analysis(shown: list[Hypothesis], recs: dict) -> list[dict]:
@@ -377,7 +383,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                                  for name, point, direction in reading.channels]},
         "thresholds": {"conclusion": CONFIDENT, "shown": POSSIBLE},
         "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
-                    "urgency": _urgency(advice.urgency), "severity_known": scale["trusted"],
+                    "urgency": _urgency(advice.urgency), "urgency_raised_by": _raises(advice.raised_by),
+                    "severity_known": scale["trusted"],
                     "scale_note": scale["text"]},
         "scale": scale,
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)], worded) for i, h in enumerate(shown)],

@@ -34,7 +34,7 @@ class HistoryLink:
         self.exclude_route = exclude_route      # a route trends against earlier surveys only
         self.doc: dict | None = None
 
-    def __call__(self, facts: list[dict]) -> list[dict]:
+    def __call__(self, facts: list[dict], alarms=()) -> list[dict]:
         same = {r["id"] for r in self.store.readings(self.machine.name)
                 if self.content_hash in (r["content_hash"], r.get("recording_hash"))
                 or self.recording_hash == r.get("recording_hash")}
@@ -55,6 +55,13 @@ class HistoryLink:
                 "direction": c["direction"], "location": c["location"], "zone": None,
                 "indicators": {v["name"]: v["value"] for v in values if v["channel"] == c["channel"]}}
                for c in channels]
+        # the site's band values of this reading (stored beside it too, engine.history.record), and each
+        # alarm's danger level as a limit its indicator is projected to at its point (trend_from_rows)
+        for r in now:
+            for a in alarms:
+                if a["channel"] == r["channel"] and a["value"] is not None:
+                    r["indicators"].setdefault(a["indicator"], float(a["value"]))
+        alarm_rows = [{k: a[k] for k in ("point", "band", "unit", "indicator", "alert", "danger")} for a in alarms]
         # a trend ends at this reading: an indicator it does not have (a site band, judged after the
         # reasoning; a tone not found this time) would end at an older reading and read as this one's
         have: defaultdict[str, set] = defaultdict(set)
@@ -65,7 +72,7 @@ class HistoryLink:
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
-                              plot_units=self.units)
+                              plot_units=self.units, alarms=alarm_rows)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
         return trend_facts(doc)

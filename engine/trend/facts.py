@@ -7,6 +7,26 @@ use a change since baseline, a rate per month or a projected time.
 from __future__ import annotations
 
 NO_PROJECTION_DAYS = -1.0
+ZONE_BOUNDARY = "zone boundary "     # how engine.trend.report labels a projection to an ISO 20816-3 boundary
+
+
+def _boundary(label: str) -> str:
+    """What a projection runs to: an ISO 20816-3 boundary ("A/B", "B/C", "C/D") or "limit" (a user's or alarm's)."""
+    return label[len(ZONE_BOUNDARY):].split(" ")[0] if label.startswith(ZONE_BOUNDARY) else "limit"
+
+
+def _weight(x: dict) -> tuple:
+    """Sort key of a projection: projected first (a limit already reached after them: the alarms say so), to a
+    limit or C/D before A/B and B/C, then the soonest."""
+    soon = x["low_days"] if x["low_days"] is not None else x["days"]
+    return (not x["projected"] or x["method"] == "reached", _boundary(x["limit_label"]) in ("A/B", "B/C"),
+            soon if soon is not None else 0.0)
+
+
+def _days(proj: dict | None, key: str) -> float:
+    """A projection's ``key`` (days, low_days, high_days), or NO_PROJECTION_DAYS when it is not projected or open."""
+    value = proj.get(key) if proj and proj["projected"] else None
+    return NO_PROJECTION_DAYS if value is None else value
 
 
 def trend_facts(doc: dict) -> list[dict]:
@@ -14,17 +34,28 @@ def trend_facts(doc: dict) -> list[dict]:
     facts: list[dict] = []
     for p in doc["points"]:
         iso = p.get("iso_change") or {}
-        projected = {x["indicator"]: x for x in p["projections"]}
+        # per indicator the projection that matters most: a projected one to a limit or to C/D, the soonest
+        projected: dict[str, dict] = {}
+        for x in sorted(p["projections"], key=_weight):
+            projected.setdefault(x["indicator"], x)
         for ind in p["indicators"]:
             proj = projected.get(ind["name"])
             facts.append({
                 "kind": "trend", "id": f"trend-{len(facts) + 1}",
                 "point": p["point"], "direction": p["direction"] or "", "indicator": ind["name"],
+                "indicator_name": ind["label"],
                 "readings": ind["readings"], "baseline": ind["baseline"] or 0.0, "latest": ind["latest"] or 0.0,
                 "change_pct": ind["change_pct"] if ind["change_pct"] is not None else 0.0,
                 "rate_per_month": ind["rate_per_month"] if ind["rate_per_month"] is not None else 0.0,
                 "iso_change_significant": bool(iso.get("significant")) if ind["name"] == "velocity_rms_mm_s" else False,
-                "projected_days": proj["days"] if proj and proj["projected"] else NO_PROJECTION_DAYS,
+                "projected_days": _days(proj, "days"),
+                "projected_low_days": _days(proj, "low_days"),
+                "projected_high_days": _days(proj, "high_days"),
+                # a projection counts only from a start of degradation the trend found, on readings since it
+                "degradation_began": bool(proj and proj["projected"] and proj.get("onset")),
+                "readings_since_onset": (proj.get("readings_since_onset") or 0) if proj and proj["projected"] else 0,
+                "change_db": ind["change_db"] if ind.get("change_db") is not None else 0.0,
                 "projection_to": proj["limit_label"] if proj else "",
+                "projection_boundary": _boundary(proj["limit_label"]) if proj else "",
             })
     return facts

@@ -20,7 +20,7 @@ from .health import choose, health_of
 from .projection import CONFIDENCE, Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
-from .shown import boundary_label, trend_in_units
+from .shown import boundary_label, trend_in_units, velocity_words
 from .store_prior import StorePrior, learned_from_store
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
@@ -69,7 +69,8 @@ def _projection(p: Projection, s: Series) -> dict:
             "high_seconds": _seconds(p.high_days), "act_by_days": _exact(p.act_by_days), "prior": p.prior,
             "date": when(p.days), "low_date": when(p.low_days),
             "high_date": when(p.high_days), "method": p.method, "reason": p.reason,
-            "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes")}
+            "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes"),
+            "readings_since_onset": None if p.onset_index is None else len(s) - p.onset_index}
 
 
 def _project(s: Series, limit: float, label: str, source: Series | None,
@@ -136,7 +137,8 @@ def _reach(p: Projection) -> float:
 
 
 def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projections: dict[str, Projection],
-           point: str, repairs: list[Repair], units: ShownUnits | None = None) -> list[dict]:
+           point: str, repairs: list[Repair], units: ShownUnits | None = None,
+           alarms: list[dict] | None = None) -> list[dict]:
     """The plots of one point: every reading (those before a repair in grey), the fitted curves over
     the readings used, and a marker at the date of each finding that sees the point. The overall velocity
     in ``units`` (broadband: RMS in the chosen length unit)."""
@@ -175,8 +177,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
             out.append(Trace(days(u), u.values, color=color, points=True, width=width, label=label or "readings"))
         return out
 
-    def fitted(name, color="#8a2d2a", what=""):
-        p = projections.get(name)
+    def fitted(name, color="#8a2d2a", what="", key=None):
+        p = projections.get(key or name)
         if p is None or not p.fit_days or name not in used:
             return []
         shift = at(used[name].times[0])
@@ -196,6 +198,11 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
     def plot(title, ylabel, series, levels=()):
         return Plot(title, xlabel, ylabel, series=series, levels=list(levels), marks=marks, xlim=xlim)
 
+    def alarm_levels(name, k=1.0):
+        """The alert and danger levels of the point's alarms on ``name`` (times ``k``, a unit's factor)."""
+        return [Level(a[w] * k, f"{w} {a['band']}") for a in alarms or [] if a["indicator"] == name
+                for w in ("alert", "danger")]
+
     if "velocity_rms_mm_s" in by_name:
         shown = units or ShownUnits()
         k = shown.velocity_value(1.0, line=False)      # linear: readings, fit and boundaries scale alike
@@ -207,7 +214,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         plots.append(plot(f"{point}: overall velocity", shown.velocity_label(line=False),
                           [replace(t, y=t.y * k, label=t.label and toward(t.label)) for t in
                            traces("velocity_rms_mm_s", width=1.2) + fitted("velocity_rms_mm_s")],
-                          [Level(scale.ab * k, "A/B"), Level(scale.bc * k, "B/C"), Level(scale.cd * k, "C/D")]))
+                          [Level(scale.ab * k, "A/B"), Level(scale.bc * k, "B/C"), Level(scale.cd * k, "C/D")]
+                          + alarm_levels("velocity_rms_mm_s", k)))
     acc = [(n, c, w) for n, c, w in (("accel_peak_g", "#1a1a1a", "peak"), ("accel_rms_g", "#2a5d8a", "RMS"))
            if n in by_name]
     if acc:
@@ -216,7 +224,8 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         plots.append(plot(f"{point}: acceleration peak and RMS", "g",
                           [t for n, c, w in acc for t in traces(n, c, 1.2, label=w)]
                           + fitted("accel_peak_g", what=" of the peak")
-                          + fitted("accel_rms_g", color="#2a5d8a", what=" of the RMS"), limits))
+                          + fitted("accel_rms_g", color="#2a5d8a", what=" of the RMS"),
+                          limits + alarm_levels("accel_peak_g") + alarm_levels("accel_rms_g")))
     if "kurtosis" in by_name:
         plots.append(plot(f"{point}: kurtosis", "kurtosis", traces("kurtosis"),
                           [Level(3.0, "3: a Gaussian signal")]))
@@ -225,7 +234,41 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
         colors = ("#1a1a1a", "#2a5d8a", "#8a2d2a", "#4a7a2a")
         plots.append(plot(f"{point}: bearing tones in the squared envelope spectrum", "dB over floor",
                           [t for i, n in enumerate(tones) for t in traces(n, colors[i % 4], label=n[4:-3])]))
+    # each site alarm band trended at the point: its readings, the fit toward a limit (the user's, else the
+    # alarm's danger level) and the alarm's levels; velocity bands in ``units`` as the overall velocity is
+    for name in sorted(n for n in by_name if n.startswith("band[")):
+        key = next((k for k in (f"{name}@limit", name, f"{name}@alarm") if k in projections), None)
+        k = (units or ShownUnits()).velocity_value(1.0, line=False) if name.endswith("_mm_s") else 1.0
+        ylabel = (units or ShownUnits()).velocity_label(line=False) if name.endswith("_mm_s") else "g RMS"
+        plots.append(plot(f"{point}: {velocity_words(by_name[name].label, units or ShownUnits())}", ylabel,
+                          [replace(t, y=t.y * k, label=t.label and velocity_words(t.label, units or ShownUnits()))
+                           for t in traces(name, width=1.2) + fitted(name, key=key)],
+                          alarm_levels(name, k) + ([Level(projections[key].limit * k, projections[key].limit_label)]
+                                                   if key == f"{name}@limit" else [])))
     return [{"title": p.title, "svg": render(p)} for p in plots]
+
+
+def alarm_rows(alarms) -> list[dict]:
+    """The machine's alarms (``engine.machine.alarms.Alarm``) as the plain rows ``trend_from_rows`` reads."""
+    return [{"point": a.point, "band": a.band, "unit": a.unit, "indicator": a.indicator, "alert": a.alert,
+             "danger": a.danger} for a in alarms]
+
+
+def _alarm_label(a: dict) -> str:
+    return f"alarm danger level {a['band']} = {a['danger']:g} {a['unit']}"
+
+
+def _alarm_row(a: dict, s: Series) -> dict:
+    """One alarm of a point in the trend: its levels, the state of the latest reading, and every reading
+    (those before a repair included) at or past its alert level."""
+    from ..alarms import state_of
+
+    passed = [{"taken_at": t.isoformat(timespec="minutes"), "reading": rid, "value": _figures(float(v)),
+               "state": state_of(float(v), a["alert"], a["danger"])}
+              for t, v, rid in zip(s.times, s.values, s.reading_ids, strict=True) if v >= a["alert"]]
+    return {"indicator": a["indicator"], "label": s.label, "band": a["band"], "unit": a["unit"],
+            "alert": a["alert"], "danger": a["danger"], "latest": _figures(float(s.values[-1])),
+            "latest_state": state_of(float(s.values[-1]), a["alert"], a["danger"]), "passed": passed}
 
 
 def _indicator(name: str, s: Series, u: Series | None) -> dict:
@@ -249,7 +292,7 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
                     learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
-                    plot_units: ShownUnits | None = None) -> dict:
+                    plot_units: ShownUnits | None = None, alarms: list[dict] | None = None) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
     they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
@@ -257,6 +300,9 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     ``repairs``: the machine's findings (``repairs.repairs_of``); each is shown beside the points that
     see its component, and one with a fault found resets their baseline to the readings after its day.
     ``learned``: indicator -> the prior from the store's own histories (``store_prior``).
+    ``alarms``: the site's alarms (point, band, unit, indicator, alert, danger; ``engine.alarms`` results or
+    ``alarm_rows``): each point's indicator with an alarm there is projected to its danger level, and the
+    point shows the alarm's levels and the readings that passed them.
     """
     from ..advice import zone_of
 
@@ -294,12 +340,19 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                 s = used[name]
                 key = name if name not in projections else f"{name}@limit"
                 projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source, (learned or {}).get(name))
+        here = [a for a in alarms or [] if a["point"] == pt and a["indicator"] in by_name]
+        for a in here:
+            name = a["indicator"]
+            if name in used and f"{name}@alarm" not in projections:
+                projections[f"{name}@alarm"] = _project(used[name], float(a["danger"]), _alarm_label(a), source,
+                                                        (learned or {}).get(name))
         ref = next(iter(by_name.values()))
         since = used[ref.indicator] if ref.indicator in used else None
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
                  "last": ref.times[-1].isoformat(), "indicators": indicators, "iso_change": iso,
                  "projections": [_projection(p, used[k.split("@")[0]]) for k, p in projections.items()],
                  "missing_limits": sorted(n for n in limits if n not in by_name),
+                 "alarms": [_alarm_row(a, by_name[a["indicator"]]) for a in here],
                  "findings": [r.shown() for r in repairs if r.shown_at(pt)],
                  "reset": None if reset is None else {
                      "found_on": reset.found_on, "component": reset.component, "fault": reset.fault,
@@ -309,7 +362,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "every_point": reset.points is None}}
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
-                                    plot_units or units)
+                                    plot_units or units, here)
         points.append(entry)
     # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,
@@ -330,15 +383,23 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
 def zone_scale_for(machine_file: str | None, known: dict | None = None):
     """The machine's ISO 20816-3 zone scale, from its file when it can still be read (``known``: the machine
     files already read, ``repairs.machine_of``)."""
+    return _machine_file(machine_file, known)[0]
+
+
+def _machine_file(machine_file: str | None, known: dict | None = None) -> tuple:
+    """The machine's ISO 20816-3 zone scale and its file's alarms (``alarm_rows``), from its file when it
+    can still be read (else the assumed scale and no alarms; ``known``: the machine files already read,
+    ``repairs.machine_of``)."""
     from ..advice import Mounting, load_advice, zone_scale
     from .repairs import machine_of
 
     data = load_advice()
     machine: Mounting | None = machine_of(machine_file, {} if known is None else known)
+    alarms: list[dict] = alarm_rows(machine.alarms) if machine is not None else []
     if machine is None:
         from types import SimpleNamespace
         machine = SimpleNamespace(iso_group=None, support=None)
-    return zone_scale(machine, data)
+    return zone_scale(machine, data), alarms
 
 
 @cache
@@ -357,13 +418,39 @@ def _repairs(store, machine: str, readings: list[dict], names: dict[str, str] | 
                       fault_names() if names is None and found else names or {}, known=known)
 
 
+def _band_limits(limits: dict[str, float], rows: list[dict], point: str | None, store_path: str) -> dict[str, float]:
+    """``limits`` with each site alarm band's name made the stored indicator's (``band[2000-6000 Hz]`` becomes
+    ``band[2000-6000 Hz]_g`` when that is the one stored); a UsageError naming the bands stored when one is not."""
+    from ..common.errors import UsageError
+    from ..history.record import indicator_label
+
+    stored = sorted({k for r in rows for k in r["indicators"] if k.startswith("band[")})
+    out = {}
+    for name, value in limits.items():
+        if not name.startswith("band[") or name in stored:
+            out[name] = value
+            continue
+        matches = [k for k in stored if k.startswith(name + "_")]
+        if len(matches) == 1:
+            out[matches[0]] = value
+            continue
+        where = f"at point {point}" if point else "of this machine"
+        known = "; ".join(f"{k} ({indicator_label(k)})" for k in stored) or "none (no site alarm band was judged)"
+        raise UsageError(f"--limit {name}: no stored site alarm band of that name {where}"
+                         + (" in more than one unit: add _g or _mm_s" if matches else "")
+                         + f"; bands with stored values: {known}", path=store_path)
+    return out
+
+
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
                    plots: bool = False, names: dict[str, str] | None = None, waterfall: bool = False,
                    compare: tuple[int, int] | None = None, units: ShownUnits | None = None) -> dict:
     """The trend document of a stored machine, with its findings (the store is only read); ``waterfall``
     adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
     spectra at each point both have (``waterfall.spectra_section``); all shown in ``units`` (None: Hz and
-    mm/s RMS). A ``point`` with no stored reading is a UsageError listing the points that have some."""
+    mm/s RMS). A ``point`` with no stored reading is a UsageError listing the points that have some. The
+    alarms shown, and projected to, are those of the machine file the latest reading was diagnosed with (a
+    site alarm file is not stored; a band it set is trended, its levels are not known here)."""
     rows = store.history(machine, point)
     if point is not None and not rows:        # only then is the whole history read, to list its points
         from ..common.errors import UsageError
@@ -371,11 +458,13 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
         points = sorted({r["point"] or r["channel"] for r in store.history(machine)})
         raise UsageError(f"{machine} has no stored reading at point {point!r}; points with readings: "
                          f"{', '.join(points) or 'none'}", path=str(store.path))
+    limits = _band_limits(limits or {}, rows, point, str(store.path))
     readings = store.readings(machine)
     files = [r["machine_file"] for r in readings if r["machine_file"]]
     known: dict = {}        # machine file -> Machine: each file read once for the whole document
     repairs = _repairs(store, machine, readings, names, known)
-    doc = trend_from_rows(machine, rows, zone_scale_for(files[-1] if files else None, known), limits=limits,
+    scale, alarms = _machine_file(files[-1] if files else None, known)
+    doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms,
                           point=point, plots=plots, repairs=repairs, units=units,
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
                                                      else _repairs(store, m, store.readings(m), names, known)))

@@ -7,7 +7,7 @@ from datetime import datetime
 
 import numpy as np
 
-from ..history.record import INDICATORS
+from ..history.record import indicator_label
 
 DAYS_PER_MONTH = 365.25 / 12
 
@@ -25,7 +25,7 @@ class Series:
     @property
     def label(self) -> str:
         """The indicator's name as reports show it."""
-        return INDICATORS.get(self.indicator, (self.indicator, ""))[0]
+        return indicator_label(self.indicator)
 
     @property
     def days(self) -> np.ndarray:

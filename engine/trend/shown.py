@@ -8,6 +8,8 @@ RMS, changing only its length unit (mm/s or in/s).
 
 from __future__ import annotations
 
+import re
+
 from ..common.units import ShownUnits
 
 LINES = {"x1_mm_s", "x2_mm_s"}               # one spectral line each: peak = sqrt(2) x RMS applies
@@ -18,6 +20,18 @@ def _site_band(name: str) -> str | None:
     """A site alarm band's velocity indicator (``band[1X]_mm_s``: the band's level, broadband, mm/s RMS)
     -> its band as the alarm states it; None for any other indicator."""
     return name[:-len("_mm_s")] if name.startswith("band[") and name.endswith("]_mm_s") else None
+
+
+_MM_S = re.compile(r"(\d+(?:\.\d*)?(?:e[-+]?\d+)?) mm/s RMS")
+
+
+def velocity_words(text: str, units: ShownUnits) -> str:
+    """``text`` with every broadband velocity in mm/s RMS ("= 4.5 mm/s RMS", "velocity, mm/s RMS") in ``units``
+    (an alarm's level, a band's name); as it is in the default units."""
+    if units.default:
+        return text
+    text = _MM_S.sub(lambda m: units.velocity_text(float(m.group(1)), line=False), text)
+    return text.replace("mm/s RMS", units.velocity_label(False))
 
 
 def boundary_label(label: str, limit_mm_s: float, units: ShownUnits, line: bool = False) -> str:
@@ -61,13 +75,22 @@ def trend_in_units(doc: dict, units: ShownUnits) -> dict:
             for key in ("baseline", "latest", "change", "rate_per_month", "last_before_repair"):
                 if i.get(key) is not None:
                     i[key] = i[key] * factor
-            i["label"] = (f"{band}, {units.velocity_label(False)}" if band
+            i["label"] = (velocity_words(i["label"], units) if band
                           else i["label"].replace("mm/s RMS", units.velocity_label(line)))
             i["unit"] = units.velocity_label(line)
         for x in p["projections"]:
-            if x["indicator"] not in LINES | BROADBAND:
+            if x["indicator"] not in LINES | BROADBAND and not _site_band(x["indicator"]):
                 continue
             line = x["indicator"] in LINES
             x["label"] = x["label"].replace("mm/s RMS", units.velocity_label(line))
-            x["limit_label"] = boundary_label(x["limit_label"], x["limit"], units, line)  # ``limit`` stays as stored
+            x["limit_label"] = velocity_words(boundary_label(x["limit_label"], x["limit"], units, line), units)
+        for a in p.get("alarms", []):       # a velocity alarm's levels and values (stored in mm/s RMS)
+            if a["unit"] != "mm/s RMS":
+                continue
+            k = units.velocity_value(1.0, line=False)
+            for key in ("alert", "danger", "latest"):
+                a[key] = a[key] * k
+            for r in a["passed"]:
+                r["value"] = r["value"] * k
+            a["unit"], a["label"] = units.velocity_label(False), velocity_words(a["label"], units)
     return doc

@@ -141,8 +141,8 @@ def test_derived_limits_are_mean_plus_k_sd_of_the_healthy_readings(tmp_path, sit
         assert a.danger == pytest.approx(v.mean() + 6 * sd, rel=1e-3)
         assert a.alert >= 1.3 * v.mean() * (1 - 1e-3)
         assert "8 healthy readings" in a.source
-    # the next survey's trend ends at its own reading: a band judged after the reasoning is not trended in
-    # its report (it would end at the survey before and read as this one's); `tellwave trend` shows it
+    # the next survey's trend ends at its own reading: its site bands are judged before the trend is made,
+    # so each band's trend ends at this reading's own value (never at the survey before's)
     later = tmp_path / "later"
     later.mkdir()
     sim = simulate(load_machine(PUMP), "healthy", None, 1, fs_hz=12800.0, duration_s=1.0, seed=200, points=["P2H"])
@@ -151,7 +151,12 @@ def test_derived_limits_are_mean_plus_k_sd_of_the_healthy_readings(tmp_path, sit
         {"file": "r9.wav", "machine": "rw2", "points": {"P2H": "P2H"}, "time": "2026-10-05T08:00:00"}]}))
     assert _run(later / "route.yaml", tmp_path, "--alarms", site) == 0
     [report] = [json.loads(p.read_text()) for p in (tmp_path / "later").rglob("r9.wav.json")]
-    assert "velocity_rms_mm_s" in json.dumps(report["trend"]) and "band[" not in json.dumps(report["trend"])
+    [p2h] = [p for p in report["trend"]["points"] if p["point"] == "P2H"]
+    latest = {i["name"]: i["latest"] for i in p2h["indicators"]}
+    for a in report["alarms"]["results"]:
+        if a["point"] == "P2H" and a["value"] is not None:
+            assert latest[a["indicator"]] == pytest.approx(a["value"], rel=1e-3, abs=1e-4), a["indicator"]  # 4 decimals
+    assert "velocity_rms_mm_s" in latest and any(n.startswith("band[") for n in latest)
     capsys.readouterr()
     # too few healthy readings for the limits asked: one line, exit 2
     err = one_error_line(capsys, 2, ["alarms", "derive", MACHINE, "--store", tmp_path / "h.sqlite", "--least", "10"])

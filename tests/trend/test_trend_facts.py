@@ -53,3 +53,21 @@ def test_a_rule_can_use_trend_facts(tmp_path, values, fires):
     result = Reasoner(load_rulebook(site)).reason(trend_facts(trend_from_rows("M", _rows(values), SCALE)))
     fired = [f.rule_id for h in result.hypotheses for f in h.support]
     assert ("test.trend.significant-change" in fired) is fires
+
+
+def test_a_projection_from_every_reading_is_no_start_of_degradation():
+    # four readings: too few for a change point, so the fit runs over all of them (engine/trend/projection.py)
+    v = next(f for f in trend_facts(trend_from_rows("M", _rows([1.0, 1.6, 2.2, 2.8]), SCALE))
+             if f["indicator"] == "velocity_rms_mm_s")
+    assert v["projected_days"] > 0 and v["projected_low_days"] >= 0
+    assert v["degradation_began"] is False and v["readings_since_onset"] == 0
+
+
+def test_the_fact_carries_the_projection_to_an_alarm_before_one_to_a_b():
+    alarm = {"point": "P1H", "band": "overall", "unit": "mm/s RMS", "indicator": "velocity_rms_mm_s",
+             "alert": 2.8, "danger": 4.5}
+    doc = trend_from_rows("M", _rows([0.5, 0.6, 0.7, 0.8]), SCALE, alarms=[alarm])
+    labels = [x["limit_label"] for x in doc["points"][0]["projections"] if x["indicator"] == "velocity_rms_mm_s"]
+    assert labels == ["zone boundary A/B (1.4 mm/s)", "alarm danger level overall = 4.5 mm/s RMS"]
+    v = next(f for f in trend_facts(doc) if f["indicator"] == "velocity_rms_mm_s")
+    assert v["projection_to"] == "alarm danger level overall = 4.5 mm/s RMS" and v["projection_boundary"] == "limit"

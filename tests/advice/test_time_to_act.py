@@ -1,0 +1,159 @@
+"""The trend reaching the time to act (rulebooks/time-to-act.yaml): which trend facts move an urgency, to
+which step, and that the advice never lets a trend lower one and says why it moved."""
+
+from __future__ import annotations
+
+import pytest
+
+from engine.advice import load_advice, urgency_raises
+from engine.evidence.vocabulary import fields_of
+from engine.machine import load_machine
+from engine.pipeline import diagnose, document_of
+from engine.report import render
+from engine.simulation import as_reading, simulate
+
+from support import RW2
+from support import reasoner as shared_reasoner
+
+
+@pytest.fixture(scope="module")
+def reasoner():
+    return shared_reasoner()
+
+
+def trend_fact(**over) -> dict:
+    """A trend fact at P1H with nothing that moves an urgency, changed by ``over``."""
+    fact = {"kind": "trend", "id": "trend-1", "point": "P1H", "direction": "horizontal",
+            "indicator": "accel_rms_g", "indicator_name": "acceleration RMS, g", "readings": 8, "baseline": 0.1,
+            "latest": 0.12, "change_pct": 20.0, "rate_per_month": 0.01, "iso_change_significant": False,
+            "projected_days": -1.0, "projected_low_days": -1.0, "projected_high_days": -1.0,
+            "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
+            "projection_to": "", "projection_boundary": ""}
+    fact.update(over)
+    assert set(fact) == set(fields_of("trend")) | {"kind", "id"}
+    return fact
+
+
+def projected(low: float, **over) -> dict:
+    return trend_fact(**{"projected_days": 2 * low, "projected_low_days": low, "projected_high_days": 3 * low,
+                         "degradation_began": True, "readings_since_onset": 6,
+                         "projection_to": "limit accel_rms_g = 1", "projection_boundary": "limit", **over})
+
+
+def asked(reasoner, fact) -> list[str]:
+    """The urgency steps the rules and the advice data ask for, for one trend fact."""
+    data = load_advice()
+    from engine.advice import _urgencies
+    return [r.urgency.id for r in urgency_raises(reasoner.reason([fact]), data, _urgencies(data))]
+
+
+# the windows of rulebooks/advice/severity.yaml: act now 'days', plan soon '2 to 4 weeks', plan '1 to 3 months'
+@pytest.mark.parametrize("low_days, step", [(0.0, "act-now"), (9.0, "act-now"), (13.9, "act-now"),
+                                            (14.0, "plan-soon"), (20.0, "plan-soon"), (50.0, "plan"),
+                                            (120.0, None)])
+def test_a_projected_crossing_asks_for_the_step_whose_window_holds_its_early_end(reasoner, low_days, step):
+    assert asked(reasoner, projected(low_days)) == ([step] if step else [])
+
+
+@pytest.mark.parametrize("over", [
+    {"degradation_began": False},                       # a fit of every reading: no start of degradation found
+    {"readings_since_onset": 3},                        # fewer readings since the start than the model's parameters + 1
+    {"projection_boundary": "A/B", "projection_to": "zone boundary A/B (1.4 mm/s)"},    # not damage
+    {"projection_boundary": "B/C", "projection_to": "zone boundary B/C (2.8 mm/s)"},    # zone C itself: plan soon
+], ids=["no-start-found", "too-few-since-start", "to-A/B", "to-B/C"])
+def test_a_projection_that_must_not_count_moves_nothing(reasoner, over):
+    assert asked(reasoner, projected(5.0, **over)) == []
+
+
+def test_a_crossing_of_c_d_counts(reasoner):
+    assert asked(reasoner, projected(5.0, projection_boundary="C/D",
+                                     projection_to="zone boundary C/D (4.5 mm/s)")) == ["act-now"]
+
+
+@pytest.mark.parametrize("over, step", [
+    ({"indicator": "velocity_rms_mm_s", "iso_change_significant": True}, "watch"),
+    ({"indicator": "velocity_rms_mm_s", "iso_change_significant": True, "readings": 2}, None),
+    ({"indicator": "velocity_rms_mm_s"}, None),
+    ({"indicator": "accel_peak_g", "change_pct": 120.0}, "watch"),
+    ({"indicator": "accel_peak_g", "change_pct": 120.0, "rate_per_month": -0.1}, None),    # falling back now
+    ({"indicator": "accel_peak_g", "change_pct": 80.0}, None),
+    ({"indicator": "kurtosis", "change_pct": 500.0}, None),                               # not a level
+    ({"indicator": "env_BPFI_db", "change_db": 7.0, "change_pct": 0.0}, "watch"),
+    ({"indicator": "env_BPFI_db", "change_db": 5.0, "change_pct": 0.0}, None),
+], ids=["iso-change", "iso-change-two-readings", "iso-no-change", "accel-doubled", "accel-doubled-falling",
+        "accel-up-80", "kurtosis", "envelope-7-dB", "envelope-5-dB"])
+def test_a_change_since_baseline_asks_for_a_shorter_survey_interval(reasoner, over, step):
+    # ISO 20816-3 criterion II, 25 % of B/C (from memory); a doubling (+6 dB) over baseline: common practice
+    assert asked(reasoner, trend_fact(**over)) == ([step] if step else [])
+
+
+def _healthy(reasoner):
+    m = load_machine(RW2)
+    return m, as_reading(simulate(m, "healthy", None, 1, None, 12800.0, 3.0, 5))
+
+
+def test_a_trend_raises_a_quiet_diagnosis_and_says_why(reasoner):
+    m, reading = _healthy(reasoner)
+    quiet = diagnose(reading, m, reasoner)
+    assert quiet.advice.urgency.id == "none" and not quiet.advice.raised_by
+    d = diagnose(reading, m, reasoner, more_facts=lambda facts, alarms: [projected(9.0)])
+    assert d.advice.urgency.id == "act-now"
+    (why,) = d.advice.raised_by
+    assert why.point == "P1H" and why.rule_id == "trend.time-to-act.projected-crossing"
+    assert "in 18.0 days (80 % interval from 9.00 days)" in " ".join(why.because.split()), why.because
+    doc = document_of(d)
+    assert doc["verdict"]["urgency_raised_by"][0]["urgency"]["id"] == "act-now"
+    text = render(doc, "text", "diagnosis")
+    assert "sooner because of the trend (act now): The trend of acceleration RMS, g at P1H" in text
+
+
+def test_a_trend_never_lowers_an_urgency(reasoner):
+    m = load_machine(RW2)
+    reading = as_reading(simulate(m, "unbalance", "pump", 4, None, 12800.0, 3.0, 2))
+    d = diagnose(reading, m, reasoner, more_facts=lambda facts, alarms: [
+        trend_fact(point="P1H", indicator="accel_peak_g", change_pct=150.0), projected(50.0, id="trend-2")])
+    assert d.advice.urgency.id == "act-now"        # stage-4 unbalance, zone D: the trend asks for watch and plan
+    assert not d.advice.raised_by
+    assert all(not r.raised_by for r in d.advice.recommendations)
+
+
+def test_a_finding_at_the_point_is_raised_and_one_elsewhere_is_not(reasoner):
+    m = load_machine(RW2)
+    reading = as_reading(simulate(m, "outer-race", "pump_de", 2, None, 25600.0, 4.0, 3))
+    plain = diagnose(reading, m, reasoner)
+    top = plain.advice.recommendations[0]
+    assert top.hypothesis.confident and top.urgency.id in ("plan", "plan-soon"), top.urgency
+    points = {lv.point for lv in plain.evidence.levels if lv.channel in top.hypothesis.channels}
+    elsewhere = next(lv.point for lv in plain.evidence.levels if lv.point not in points)
+    here = sorted(points)[0]
+    d = diagnose(reading, m, reasoner, more_facts=lambda facts, alarms: [projected(5.0, point=here)])
+    assert d.advice.recommendations[0].urgency.id == "act-now"
+    assert d.advice.recommendations[0].raised_by[0].point == here
+    text = render(document_of(d), "text", "diagnosis")
+    assert "act now, sooner than the finding alone: The trend of acceleration RMS, g at " + here in text
+    d = diagnose(reading, m, reasoner, more_facts=lambda facts, alarms: [projected(5.0, point=elsewhere)])
+    assert d.advice.recommendations[0].urgency == top.urgency     # the finding was not seen there
+    assert d.advice.urgency.id == "act-now"                       # the machine still is, and says why
+    assert d.advice.raised_by[0].point == elsewhere
+
+
+def test_a_rule_asking_for_an_unknown_step_is_a_rulebook_error(reasoner, tmp_path):
+    from engine.common.errors import RulebookError
+    from engine.reasoning import Reasoner, load_rulebook
+
+    site = tmp_path / "site.yaml"
+    site.write_text("""rulebook: test
+rules:
+  - id: test.time-to-act.misspelt
+    title: misspelt step
+    source: test
+    needs: [{fact: trend, as: t, where: {indicator: accel_rms_g}}]
+    derives: {fact: time_to_act, fields: {point: t.point, indicator: t.indicator, urgency: act-soon, within_days: -1}}
+    certainty: 1.0
+    because: "misspelt"
+""")
+    data = load_advice()
+    from engine.advice import _urgencies
+    result = Reasoner(load_rulebook(site)).reason([trend_fact()])
+    with pytest.raises(RulebookError, match="'act-soon', not on the urgency scale"):
+        urgency_raises(result, data, _urgencies(data))
