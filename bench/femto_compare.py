@@ -48,6 +48,12 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   before ``level_methods`` says how. Also printed: how much each indicator's end level varies across the
   runs. This part takes about 20 minutes (the nested choice scores every run 36 times).
 
+- ``wiener`` (``wiener_report``, its own settings and nested choice; ``--wiener-only`` runs it alone, about
+  10 to 20 minutes): the degradation ratio since the first predicting time as a Wiener process with drift
+  on a time scale t^b (Si et al. 2012), a reading error beside it and the level and drift updated from a
+  prior learned on the library points (Si et al. 2013); the remaining life is the first-passage time to
+  20 g or to a level learned from the library's ends, in closed form (the section before ``main`` says how).
+
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
 similarity (sigma, window, dilations) are chosen by nested leave one out: for each held-out run
@@ -895,6 +901,9 @@ def level_methods(histories: dict, runs: list[str], lives_h: dict[str, float]) -
 # distribution given that it fails within WIENER_HORIZON_H). The exponent b is a setting, or "learned":
 # the b of the largest likelihood of the library's readings (Si et al. 2012's two-step maximum likelihood:
 # sigma and tau common, each library point its own x0 and a; then the drift prior is the a's mean and sd).
+# Tried and not kept: the update with the readings' covariance inflated by (1 + rho) / (1 - rho), rho the
+# library's lag-1 autocorrelation of the whitened residuals (0.07-0.41): 0.09-0.14 against 0.10-0.17 plain
+# (drifts that never cross left out).
 
 WIENER_QUANTILES = 1000          # equally spaced probabilities standing for the remaining-life distribution
 WIENER_GRID = 1500               # points of the remaining-life grid (geometric, 1e-6 h to the horizon)
@@ -1254,7 +1263,7 @@ def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
     ap.add_argument("--data", default=None, help="the learning runs, if the histories are not cached yet")
-    ap.add_argument("--wiener-only", action="store_true", help="score only the Wiener-process method (a minute)")
+    ap.add_argument("--wiener-only", action="store_true", help="score only the Wiener-process method (10-20 minutes)")
     args = ap.parse_args()
     from bench.femto import DATA
     histories = load_histories(Path(args.data) if args.data else DATA, Path(args.out).resolve(), 2, False)
