@@ -48,6 +48,12 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   before ``level_methods`` says how. Also printed: how much each indicator's end level varies across the
   runs. This part takes about 20 minutes (the nested choice scores every run 36 times).
 
+- ``wiener`` (``wiener_report``, its own settings and nested choice; ``--wiener-only`` runs it alone, about
+  10 to 20 minutes): the degradation ratio since the first predicting time as a Wiener process with drift
+  on a time scale t^b (Si et al. 2012), a reading error beside it and the level and drift updated from a
+  prior learned on the library points (Si et al. 2013); the remaining life is the first-passage time to
+  20 g or to a level learned from the library's ends, in closed form (the section before ``main`` says how).
+
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
 similarity (sigma, window, dilations) are chosen by nested leave one out: for each held-out run
@@ -858,15 +864,414 @@ def level_methods(histories: dict, runs: list[str], lives_h: dict[str, float]) -
         print(f"{r}: chose {pick} (inner A {mean_a(inner[pick]):.3f}), held out A {mean_a(outer[r][pick]):.3f}")
     print(f"nested: n, A, A med, coverage {summary(chosen)}")
 
+# ------------------------------------------- a Wiener process with drift and its first-passage time
+#
+# The degradation ratio X(t) (the log of an indicator less the mean of its healthy-band readings), from the
+# first predicting time on, as a Wiener process with drift on a nonlinear time scale (Si, Wang, Hu, Zhou &
+# Pecht 2012, "Remaining useful life estimation based on a nonlinear diffusion degradation process", IEEE
+# Trans. Reliability 61): X(t) = x0 + a Lambda(t) + sigma B(t), Lambda(t) = t^b (t hours since the onset,
+# b = 1 the linear drift), B standard Brownian motion, the drift a random across units: normal, its prior
+# learned from the library points. A reading is X plus its own normal error of sd tau (Si, Wang, Hu, Chen &
+# Zhou 2013, "A Wiener-process-based degradation model with a recursive filter algorithm for remaining
+# useful life estimation", Mechanical Systems and Signal Processing 35): on the FEMTO snapshots one
+# reading's scatter is far larger than the process's steps, and a sigma fitted to raw increments without it
+# is a diffusion of 4 log units per root hour (tried: scores 0.00-0.08). The drift and the current level are
+# updated reading by reading (the recursive filter; the readings are jointly normal given the prior, so the
+# filter's result is the batch Gaussian conditioning computed here): (x0, a) normal, x0 about the onset's
+# reading with sd WIENER_X0_SD, a about the library's mean.
+#
+# The remaining life at t_k hours since the onset, the current level x_k and the drift a given (jointly
+# normal after the update), is the first passage of the future increments to w_k = w - x_k:
+#
+#   f(l | a) ~ (w_k - a (phi - l phi')) / (sigma sqrt(2 pi l^3)) exp(-(w_k - a phi)^2 / (2 sigma^2 l)),
+#
+# phi(l) = Lambda(t_k + l) - Lambda(t_k) (Si et al. 2012, Theorem 1; exact, the inverse Gaussian, when
+# b = 1), and with a ~ N(mu, s^2) integrated out (their Theorem 2; the Gaussian integrals of
+# exp(-(w - a phi)^2 / (2 sigma^2 l)) and a times it over a):
+#
+#   f(l) = (w_k - (phi - l phi') (phi w_k s^2 + mu sigma^2 l) / V) / sqrt(2 pi l^2 V) exp(-(w_k - mu phi)^2 / (2 V)),
+#   V = phi^2 s^2 + sigma^2 l.
+#
+# x_k is integrated over by equal-probability nodes, each with the drift's law given it. The failure level
+# w: the fixed 20 g of the acceleration peak (in the same log ratio), or the library points' end levels
+# (the trailing mean's, which vary least across runs: sd/mean 0.17 for acceleration RMS, the end-level
+# table), normal, truncated below at the highest trailing mean the held-out point has passed without its
+# run ending, by equal-probability nodes. The mass the density misses is the drifts that never reach the
+# level: "never" keeps it (NO_CROSSING_H), "fails" leaves it out (every bearing here ran to failure: the
+# distribution given that it fails within WIENER_HORIZON_H). The exponent b is a setting, or "learned":
+# the b of the largest likelihood of the library's readings (Si et al. 2012's two-step maximum likelihood:
+# sigma and tau common, each library point its own x0 and a; then the drift prior is the a's mean and sd).
+# Tried and not kept: the update with the readings' covariance inflated by (1 + rho) / (1 - rho), rho the
+# library's lag-1 autocorrelation of the whitened residuals (0.07-0.41): 0.09-0.14 against 0.10-0.17 plain
+# (drifts that never cross left out).
+
+WIENER_QUANTILES = 1000          # equally spaced probabilities standing for the remaining-life distribution
+WIENER_GRID = 1500               # points of the remaining-life grid (geometric, 1e-6 h to the horizon)
+WIENER_HORIZON_H = 100.0         # the longest remaining life looked at (the learning runs last 1.4 to 7.8 h)
+WIENER_LEVEL_NODES = 21          # equal-probability nodes of a random failure level
+WIENER_STATE_NODES = 9           # equal-probability nodes of the current level
+WIENER_B_GRID = (0.5, 1.0, 1.5, 2.0, 3.0, 4.0, 6.0)   # exponents the likelihood weighs ("learned")
+WIENER_MIN_READINGS = 5          # regular readings since the onset a library point needs to count
+WIENER_X0_SD = 1.0               # prior sd of the level at the onset about its reading, log units (a factor e)
+# the reading error's sd is kept at least this (log units: 1 %, far below any snapshot's scatter), so the
+# readings' covariance stays positive definite when a smooth indicator's fit runs tau to 0
+WIENER_TAU_MIN = 0.01
+
+
+@dataclass(frozen=True)
+class WienerSetting:
+    """One setting of the Wiener-process method."""
+    indicator: str        # the stored indicator modelled (its degradation ratio)
+    level: str            # "fixed": 20 g of the acceleration peak; "learned": the library points' end levels
+    b: float              # time-scale exponent, Lambda(t) = t^b; 0: learned from the library
+    drift: str = "updated"   # "updated": the prior updated by the point's readings; "prior": the library's alone
+    never: str = "never"     # "never": drifts that never reach the level stay in; "fails": left out
+
+    def __str__(self) -> str:
+        what = "20 g" if self.level == "fixed" else "learned level"
+        b = "b learned" if self.b == 0 else f"b {self.b:g}"
+        return f"wiener ({self.indicator}, {what}, {b}, drift {self.drift}, {self.never})"
+
+
+@dataclass(frozen=True)
+class WienerPrior:
+    """From a library: the exponent, the drift's prior (per hour^b), the diffusion (log units per root hour),
+    the reading error (log units) and the points' end levels (log ratio of the trailing mean)."""
+    b: float
+    mu_a: float
+    sd_a: float
+    sigma: float
+    tau: float
+    ends: np.ndarray
+
+
+def first_passage_density(l_h: np.ndarray, w: np.ndarray | float, t_h: float, b: float,
+                          mu_a: np.ndarray | float, sd_a: np.ndarray | float, sigma: float) -> np.ndarray:
+    """Density (per hour) of the remaining life ``l_h`` from now (``t_h`` hours since the onset) to a level
+    ``w`` above the current one, the drift normal (``mu_a``, ``sd_a``) (Si et al. 2012, Theorems 1 and 2;
+    see the comment above). ``w``, ``mu_a`` and ``sd_a`` may be columns (one row each). Negative values of
+    the approximation (b != 1) are taken as 0."""
+    lh = np.asarray(l_h, float)[None, :]
+    wk = np.atleast_1d(np.asarray(w, float))[:, None]
+    mu = np.atleast_1d(np.asarray(mu_a, float))[:, None]
+    s = np.atleast_1d(np.asarray(sd_a, float))[:, None]
+    phi = (t_h + lh) ** b - t_h ** b
+    bend = phi - lh * b * (t_h + lh) ** (b - 1)            # phi - l phi'; 0 for the linear drift
+    v = phi ** 2 * s ** 2 + sigma ** 2 * lh
+    f = (wk - bend * (phi * wk * s ** 2 + mu * sigma ** 2 * lh) / v) / np.sqrt(2 * np.pi * lh ** 2 * v) \
+        * np.exp(-(wk - mu * phi) ** 2 / (2 * v))
+    return np.maximum(f, 0.0)
+
+
+def first_passage_cdf(l_h: np.ndarray, w: np.ndarray | float, t_h: float, b: float, mu_a: np.ndarray | float,
+                      sd_a: np.ndarray | float, sigma: float) -> np.ndarray:
+    """P(remaining life <= l) at the ascending times ``l_h`` (hours), the density integrated by the trapezoid
+    rule on a fine geometric grid from 1e-6 h, averaged over the rows (levels, drifts); at most 1. A row
+    whose level is not above 0 has already failed."""
+    lh = np.asarray(l_h, float)
+    grid = np.unique(np.concatenate([np.geomspace(1e-6, max(float(lh[-1]), 1e-5), WIENER_GRID), lh]))
+    n = max(np.size(w), np.size(mu_a), np.size(sd_a))
+    wk = np.broadcast_to(np.asarray(w, float), (n,))
+    up = wk > 0
+    cdf = np.ones((n, grid.size))
+    if up.any():
+        f = first_passage_density(grid, wk[up], t_h, b, np.broadcast_to(np.asarray(mu_a, float), (n,))[up],
+                                  np.broadcast_to(np.asarray(sd_a, float), (n,))[up], sigma)
+        cdf[up] = np.concatenate([np.zeros((f.shape[0], 1)),
+                                  np.cumsum(0.5 * (f[:, 1:] + f[:, :-1]) * np.diff(grid)[None, :], axis=1)], axis=1)
+    return np.minimum(np.interp(lh, grid, cdf.mean(axis=0)), 1.0)
+
+
+def lives_from_cdf(grid: np.ndarray, cdf: np.ndarray, never: str) -> np.ndarray | None:
+    """Remaining lives (hours) at WIENER_QUANTILES equally spaced probabilities of a distribution given by
+    its CDF on ``grid``. "never": a probability the CDF does not reach gets NO_CROSSING_H; "fails": the
+    CDF divided by its value at the horizon (None when nothing crosses)."""
+    cdf = np.maximum.accumulate(np.clip(cdf, 0.0, 1.0))
+    if never == "fails":
+        if cdf[-1] <= 1e-9:
+            return None
+        cdf = cdf / cdf[-1]
+    p = (np.arange(WIENER_QUANTILES) + 0.5) / WIENER_QUANTILES
+    keep = np.concatenate([[True], np.diff(cdf) > 0])
+    if cdf[0] >= p[-1]:
+        return np.zeros(p.size)
+    out = np.interp(p, cdf[keep], grid[keep], left=0.0)
+    return np.where(p <= cdf[-1], out, NO_CROSSING_H)
+
+
+def simulate_first_passage(w: float, t_h: float, b: float, mu_a: float, sd_a: float, sigma: float, n: int,
+                           step_h: float, horizon_h: float, seed: int = LEVEL_SEED) -> np.ndarray:
+    """Monte Carlo of the same process (a check of the closed form): ``n`` paths from 0 at ``t_h`` hours
+    since the onset, each its own drift from N(mu_a, sd_a^2), exact Gaussian increments over steps of
+    ``step_h``, the first step at or past ``w`` (never within ``horizon_h``: inf). Seeded."""
+    rng = np.random.default_rng(seed)
+    a = mu_a + sd_a * rng.standard_normal(n)
+    edges = np.arange(0.0, horizon_h + step_h / 2, step_h)
+    dphi = np.diff((t_h + edges) ** b)
+    out = np.full(n, np.inf)
+    x = np.zeros(n)
+    alive = np.ones(n, bool)
+    for i, d in enumerate(dphi):
+        x[alive] += a[alive] * d + sigma * np.sqrt(step_h) * rng.standard_normal(int(alive.sum()))
+        hit = alive & (x >= w)
+        out[hit] = edges[i + 1]
+        alive &= ~hit
+        if not alive.any():
+            break
+    return out
+
+
+def wiener_series(h: dict, indicator: str, upto_s: float = np.inf
+                  ) -> tuple[np.ndarray, np.ndarray, float, float] | None:
+    """(hours since the first predicting time, the degradation ratio of each single reading there, the
+    highest trailing-mean ratio since the onset, the healthy mean of the log) of one point's regular
+    readings from its onset to ``upto_s`` (seconds); the onset by onset.yaml's rule on the health indicator
+    as it stood then. None before the onset."""
+    from bench.femto import regular
+
+    t, v, hi = point_arrays(h, indicator)
+    k = t <= upto_s + 1e-6
+    t, v, hi = t[k], v[k], hi[k]
+    on = first_predicting_time(hi, shipped_settings())
+    if on.index is None:
+        return None
+    log_v = np.log(np.maximum(v, 1e-12))
+    base = float(np.mean(log_v[:on.early]))
+    mean = smooth_log(v, shipped_settings().smooth_readings) - base
+    keep = regular(t)
+    keep[:on.index] = False
+    keep[on.index] = True
+    return (t[keep] - t[on.index]) / 3600.0, log_v[keep] - base, float(np.max(mean[on.index:])), base
+
+
+def wiener_fixed_effects(t_h: np.ndarray, y: np.ndarray, b: float, sigma: float, tau: float
+                         ) -> tuple[np.ndarray, float]:
+    """Generalised least squares of (x0, a) of one point's readings, sigma and tau given, and the restricted
+    log likelihood (REML, Patterson & Thompson 1971, Biometrika 58: the likelihood with the two fitted
+    coefficients plugged in runs sigma to 0, the fitted line taking up the random walk) of the readings
+    normal about x0 + a t^b with covariance sigma^2 min(t, t') + tau^2 I."""
+    c = sigma ** 2 * np.minimum(t_h[:, None], t_h[None, :]) + tau ** 2 * np.eye(len(t_h))
+    chol = np.linalg.cholesky(c)
+    x = np.column_stack([np.ones_like(t_h), t_h ** b])
+    wx = np.linalg.solve(chol, x)
+    wy = np.linalg.solve(chol, y)
+    coef, *_ = np.linalg.lstsq(wx, wy, rcond=None)
+    r = wy - wx @ coef
+    restricted = 0.5 * np.linalg.slogdet(wx.T @ wx)[1]
+    return coef, float(-0.5 * (r @ r) - np.sum(np.log(np.diag(chol))) - 0.5 * len(y) * np.log(2 * np.pi)
+                       - restricted)
+
+
+def wiener_fit(series: list[tuple[np.ndarray, np.ndarray]], b: float) -> tuple[float, float, float]:
+    """(sigma, tau, log likelihood) common to the library points, each with its own (x0, a), by maximum
+    likelihood (scipy's Nelder-Mead on the logs)."""
+    from scipy.optimize import minimize
+
+    low = np.log([1e-3, WIENER_TAU_MIN])
+
+    def nll(p: np.ndarray) -> float:
+        sg, ta = np.exp(np.clip(p, low, 5))
+        return -sum(wiener_fixed_effects(t, y, b, sg, ta)[1] for t, y in series)
+
+    best = None
+    for start in (np.log([0.5, 0.3]), np.log([2.0, 0.1])):
+        r = minimize(nll, start, method="Nelder-Mead", options={"xatol": 1e-4, "fatol": 1e-6, "maxiter": 400})
+        if best is None or r.fun < best.fun:
+            best = r
+    assert best is not None
+    sg, ta = np.exp(np.clip(best.x, low, 5))
+    return float(sg), float(ta), float(-best.fun)
+
+
+def wiener_prior(histories: dict, runs: list[str], indicator: str, b: float, fits: dict) -> WienerPrior:
+    """The drift prior, diffusion, reading error and exponent (``b`` 0: the likelihood's best of
+    WIENER_B_GRID) from the library points' whole runs since their onsets (those with WIENER_MIN_READINGS
+    regular readings since); ``fits`` keeps the fits per (runs, indicator, b)."""
+    series, ends = [], []
+    for r in runs:
+        for pt in sorted(histories[r]):
+            d = wiener_series(histories[r][pt], indicator)
+            if d is None:
+                continue
+            if len(d[0]) >= WIENER_MIN_READINGS:
+                series.append((d[0], d[1]))
+            # the point's end level: its trailing mean's last ratio
+            v = point_arrays(histories[r][pt], indicator)[1]
+            ends.append(float(smooth_log(v, shipped_settings().smooth_readings)[-1] - d[3]))
+
+    def fit(e: float) -> tuple[float, float, float]:
+        key = (tuple(sorted(runs)), indicator, e)
+        if key not in fits:
+            fits[key] = wiener_fit(series, e)
+        return fits[key]
+
+    if b == 0:
+        b = max(WIENER_B_GRID, key=lambda e: fit(e)[2])
+    sigma, tau, _ = fit(b)
+    a = np.array([wiener_fixed_effects(t, y, b, sigma, tau)[0][1] for t, y in series])
+    return WienerPrior(float(b), float(np.mean(a)), float(np.std(a, ddof=1)), sigma, tau, np.array(ends))
+
+
+def wiener_state(prior: WienerPrior, t_h: np.ndarray, y: np.ndarray) -> tuple[float, float, float, float, float]:
+    """The joint normal of the current level X(t_k) and the drift a after the readings (mean x, mean a,
+    var x, var a, cov): Gaussian conditioning of the process on its readings with their error, in the
+    information form (stable for any drift scale): first (x0, a) (x0 about the first reading, a about
+    the prior's mean) with the Brownian part and the errors as the noise, then the Brownian part now
+    given the readings and (x0, a)."""
+    b, tk = prior.b, float(t_h[-1])
+    c = prior.sigma ** 2 * np.minimum(t_h[:, None], t_h[None, :]) + max(prior.tau, WIENER_TAU_MIN) ** 2 * np.eye(
+        len(t_h))
+    chol = np.linalg.cholesky(c)
+    x = np.column_stack([np.ones_like(t_h), t_h ** b])
+    wx, wy = np.linalg.solve(chol, x), np.linalg.solve(chol, y)
+    m0 = np.array([y[0], prior.mu_a])
+    p0_inv = np.diag([1.0 / WIENER_X0_SD ** 2, 1.0 / prior.sd_a ** 2])
+    p = np.linalg.inv(p0_inv + wx.T @ wx)
+    beta = p @ (p0_inv @ m0 + wx.T @ wy)
+    ck = np.linalg.solve(chol, prior.sigma ** 2 * np.minimum(t_h, tk))     # the Brownian part now, whitened
+    u = np.array([1.0, tk ** b]) - wx.T @ ck
+    v_e = max(prior.sigma ** 2 * tk - float(ck @ ck), 0.0)
+    mean_x = float(ck @ wy + u @ beta)
+    var_x = float(u @ p @ u + v_e)
+    return mean_x, float(beta[1]), max(var_x, 1e-12), max(float(p[1, 1]), 1e-12), float(u @ p[:, 1])
+
+
+def wiener_levels(prior: WienerPrior, passed: float) -> np.ndarray:
+    """Equal-probability nodes of the failure level: normal of the library's end levels, truncated below at
+    the level already passed."""
+    from scipy.stats import truncnorm
+
+    m, sd = float(np.mean(prior.ends)), max(float(np.std(prior.ends, ddof=1)), 1e-3)
+    a = min((passed - m) / sd, 30.0)
+    p = (np.arange(WIENER_LEVEL_NODES) + 0.5) / WIENER_LEVEL_NODES
+    return np.asarray(truncnorm(a, np.inf, loc=m, scale=sd).ppf(p))
+
+
+def wiener_cdf(prior: WienerPrior, d: tuple[np.ndarray, np.ndarray, float, float], level: str, drift: str,
+               grid: np.ndarray) -> np.ndarray:
+    """The remaining life's CDF on ``grid`` of one point (its ``wiener_series``): the level and drift after
+    its readings (``drift`` "prior": the library's drift, independent of the level), nodes over both."""
+    from scipy.stats import norm
+
+    t_h, y, passed, healthy = d
+    mx, ma, vx, va, cov = wiener_state(prior, t_h, y)
+    z = norm.ppf((np.arange(WIENER_STATE_NODES) + 0.5) / WIENER_STATE_NODES)
+    xs = mx + np.sqrt(vx) * z
+    if drift == "updated":
+        mus, sds = ma + cov / vx * (xs - mx), np.full(xs.size, np.sqrt(max(va - cov ** 2 / vx, 1e-12)))
+    else:
+        mus, sds = np.full(xs.size, prior.mu_a), np.full(xs.size, prior.sd_a)
+    levels = np.array([np.log(LIMIT_G) - healthy]) if level == "fixed" else wiener_levels(prior, passed)
+    w = (levels[:, None] - xs[None, :]).ravel()
+    return first_passage_cdf(grid, w, float(t_h[-1]), prior.b, np.tile(mus, levels.size),
+                             np.tile(sds, levels.size), prior.sigma)
+
+
+def score_wiener_run(histories: dict, run: str, library_runs: list[str], settings: list[WienerSetting],
+                     lives_h: dict[str, float], cache: dict) -> dict[WienerSetting, list[Cut | None]]:
+    """Each Wiener setting's answer at each cut of ``run`` (prior, exponent and levels from ``library_runs``;
+    fits and series kept in ``cache``); each point on its own, the earlier answer counting as bench.femto
+    takes tellwave's. A point whose acceleration peak has reached 20 g: 0. Before the first predicting
+    time: no answer."""
+    grid = np.geomspace(1e-6, WIENER_HORIZON_H, WIENER_GRID)
+    fits = cache.setdefault("fits", {})
+    out: dict[WienerSetting, list[Cut | None]] = {s: [] for s in settings}
+    for cut in CUTS:
+        now_h = cut * lives_h[run]
+        actual = _actual_h(histories, run, now_h, lives_h)
+        cdfs: dict = {}
+        for s in settings:
+            pkey = (tuple(sorted(library_runs)), s.indicator, s.b)
+            if pkey not in cache:
+                cache[pkey] = wiener_prior(histories, library_runs, s.indicator, s.b, fits)
+            prior = cache[pkey]
+            found = []
+            for pt in sorted(histories[run]):
+                h = histories[run][pt]
+                t, v, _ = point_arrays(h, LIMITED)
+                if v[t <= now_h * 3600.0 + 1e-6][-1] >= LIMIT_G:
+                    found.append((0.0, 0.0, 0.0, 0.0))
+                    continue
+                skey = (run, pt, cut, s.indicator)
+                if skey not in cache:
+                    cache[skey] = wiener_series(h, s.indicator, now_h * 3600.0)
+                d = cache[skey]
+                if d is None:
+                    continue
+                ckey = (pt, pkey, s.level, s.drift)
+                if ckey not in cdfs:
+                    cdfs[ckey] = wiener_cdf(prior, d, s.level, s.drift, grid)
+                lives = lives_from_cdf(grid, cdfs[ckey], s.never)
+                got = None if lives is None else answer([(lives, np.ones(len(lives)))])
+                if got is not None:
+                    found.append(got)
+            if not found:
+                out[s].append(None)
+                continue
+            med, lo, hi_, act = min(found)
+            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
+                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
+    return out
+
+
+def wiener_grid() -> list[WienerSetting]:
+    """The Wiener settings weighed."""
+    return [WienerSetting(ind, level, b, drift, never)
+            for ind, level in (("accel_rms_g", "learned"), ("accel_peak_g", "learned"), ("accel_peak_g", "fixed"))
+            for b in (1.0, 2.0, 0.0) for drift in ("updated", "prior") for never in ("never", "fails")]
+
+
+def wiener_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
+    """Leave one run out for every Wiener setting, nested leave one out to choose one, and the in-sample
+    upper bound (prior, exponent and levels from all six runs, the scored one included)."""
+    settings = wiener_grid()
+    cache: dict = {}
+    outer = {r: score_wiener_run(histories, r, [x for x in runs if x != r], settings, lives_h, cache) for r in runs}
+    print("\nWiener process with drift, first-passage time (Si et al. 2012; level and drift updated from a library "
+          "prior, Si et al. 2013), "
+          "leave one run out")
+    print(f"{'setting':<72}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        allc = [c for r in runs for c in outer[r][s]]
+        print(f"{str(s):<72}{summary(allc)}  " + " ".join(f"{mean_a(outer[r][s]):.2f}" for r in runs))
+    best = max(settings, key=lambda s: mean_a([c for r in runs for c in outer[r][s]]))
+    print(f"best setting on the scored runs themselves (tuned on them): {best}, "
+          f"{summary([c for r in runs for c in outer[r][best]])}")
+    insample = {r: score_wiener_run(histories, r, runs, settings, lives_h, cache) for r in runs}
+    best_in = max(settings, key=lambda s: mean_a([c for r in runs for c in insample[r][s]]))
+    print(f"in sample (prior and levels from all six runs, the scored one included), best setting {best_in}: "
+          f"{summary([c for r in runs for c in insample[r][best_in]])}  per run "
+          + " ".join(f"{mean_a(insample[r][best_in]):.2f}" for r in runs))
+    print("nested leave one out: the setting chosen on the other five runs (each left out of a library of four)")
+    chosen: list[Cut | None] = []
+    for r in runs:
+        others = [x for x in runs if x != r]
+        inner: dict[WienerSetting, list[Cut | None]] = {s: [] for s in settings}
+        for j in others:
+            for s, cs in score_wiener_run(histories, j, [x for x in others if x != j], settings, lives_h,
+                                          cache).items():
+                inner[s].extend(cs)
+        pick = max(settings, key=lambda s: mean_a(inner[s]))
+        chosen.extend(outer[r][pick])
+        print(f"{r}: chose {pick} (inner A {mean_a(inner[pick]):.3f}), held out A {mean_a(outer[r][pick]):.3f}, "
+              f"coverage {summary(outer[r][pick]).split()[-1]}")
+    print(f"nested: n, A, A med, coverage {summary(chosen)}  per run "
+          + " ".join(f"{mean_a(c):.2f}" for c in (chosen[i * len(CUTS):(i + 1) * len(CUTS)]
+                                                    for i in range(len(runs)))))
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
     ap.add_argument("--data", default=None, help="the learning runs, if the histories are not cached yet")
+    ap.add_argument("--wiener-only", action="store_true", help="score only the Wiener-process method (10-20 minutes)")
     args = ap.parse_args()
     from bench.femto import DATA
     histories = load_histories(Path(args.data) if args.data else DATA, Path(args.out).resolve(), 2, False)
     runs = sorted(histories)
     lives_h = {r: max(max(h[LIMITED][0]) for h in histories[r].values()) / 3600.0 for r in runs}
+    if args.wiener_only:
+        wiener_report(histories, runs, lives_h)
+        return 0
     settings = grid()
     priors: dict[tuple[str, ...], Prior] = {}
 
@@ -899,6 +1304,7 @@ def main() -> int:
     hazard_report(histories, runs, lives_h)
 
     level_methods(histories, runs, lives_h)
+    wiener_report(histories, runs, lives_h)
     return 0
 
 if __name__ == "__main__":
