@@ -394,12 +394,12 @@ def _machine_file(machine_file: str | None, known: dict | None = None) -> tuple:
     from .repairs import machine_of
 
     data = load_advice()
-    machine: Mounting | None = machine_of(machine_file, {} if known is None else known)
-    alarms: list[dict] = alarm_rows(machine.alarms) if machine is not None else []
-    if machine is None:
+    loaded = machine_of(machine_file, {} if known is None else known)
+    if loaded is None:
         from types import SimpleNamespace
-        machine = SimpleNamespace(iso_group=None, support=None)
-    return zone_scale(machine, data), alarms
+        mounting: Mounting = SimpleNamespace(iso_group=None, support=None)
+        return zone_scale(mounting, data), []
+    return zone_scale(loaded, data), alarm_rows(loaded.alarms)
 
 
 @cache
