@@ -12,7 +12,11 @@ ASSP 29(6), with a = -0.5): four samples per point, local (a record that is
 not periodic does not ring at its ends, as Fourier interpolation would) and
 done in slices of whole revolutions, so memory stays near one copy of the
 record. With a tach, the revolutions are cut at the pulse times by
-cubic-spline interpolation.
+cubic-spline interpolation. The part taken out before a bearing's envelope
+(``synchronous_part``) is not interpolated at all: it is the record's lines
+at the shaft's orders, by chirp z transforms, because an interpolation's
+error near the Nyquist frequency differs from turn to turn and would leave
+lines between the orders.
 
 The once-per-revolution analysis of a gear shaft (``synchronous_events``)
 uses the TSA difference signal: the average revolution less its lowest
