@@ -199,20 +199,28 @@ def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: 
     return rows
 
 
-def _chirp_sums(blocks: np.ndarray, outputs: int, step_rad: float) -> np.ndarray:
-    """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for each row v of ``blocks`` (Bluestein)."""
-    inputs = blocks.shape[-1]
-    size = sfft.next_fast_len(inputs + outputs - 1)
-    j = np.arange(max(inputs, outputs), dtype=float)
-    chirp = np.exp(0.5j * step_rad * (j * j))            # exp(i step j^2 / 2)
-    kernel = np.zeros(size, dtype=complex)                 # exp(-i step d^2 / 2) for d = -(inputs-1) .. outputs-1
-    kernel[:outputs] = np.conj(chirp[:outputs])
-    if inputs > 1:
-        kernel[size - inputs + 1:] = np.conj(chirp[1:inputs][::-1])
-    padded = np.zeros(blocks.shape[:-1] + (size,), dtype=complex)
-    padded[..., :inputs] = blocks * chirp[:inputs]
-    out = sfft.ifft(np.fft.fft(padded, axis=-1) * np.fft.fft(kernel), axis=-1, overwrite_x=True)
-    return out[..., :outputs] * chirp[:outputs]
+class _ChirpSums:
+    """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for any v of ``inputs`` values (Bluestein's
+    chirp z transform: j m = (j^2 + m^2 - (m - j)^2) / 2 makes it a convolution); the chirp and the
+    kernel's FFT are computed once for every block of the same shape."""
+
+    def __init__(self, inputs: int, outputs: int, step_rad: float):
+        self.inputs, self.outputs = inputs, outputs
+        self.size = sfft.next_fast_len(inputs + outputs - 1)
+        j = np.arange(max(inputs, outputs), dtype=float)
+        self.chirp = np.exp(0.5j * step_rad * (j * j))        # exp(i step j^2 / 2)
+        kernel = np.zeros(self.size, dtype=complex)             # exp(-i step d^2 / 2), d = -(inputs-1) .. outputs-1
+        kernel[:outputs] = np.conj(self.chirp[:outputs])
+        if inputs > 1:
+            kernel[self.size - inputs + 1:] = np.conj(self.chirp[1:inputs][::-1])
+        self.kernel = np.fft.fft(kernel)
+
+    def __call__(self, values: np.ndarray) -> np.ndarray:
+        padded = np.zeros(self.size, dtype=complex)
+        np.multiply(values, self.chirp[:len(values)], out=padded[:len(values)])
+        spectrum = np.fft.fft(padded)
+        spectrum *= self.kernel
+        return sfft.ifft(spectrum, overwrite_x=True)[:self.outputs] * self.chirp[:self.outputs]
 
 
 def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
@@ -271,14 +279,18 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     step = 2 * np.pi * speed_hz / fs                       # radians per sample of order 1
     k = np.arange(orders, dtype=float)
     coef = np.zeros(orders, dtype=complex)
-    for start in range(0, whole, SAMPLES_PER_SLICE):
-        block = x[start:min(whole, start + SAMPLES_PER_SLICE)]
-        coef += _chirp_sums(block, orders, -step) * np.exp(-1j * step * k * start)
+    # slices of a length that makes each transform a power of two long (inputs + outputs - 1 of them)
+    fft_len = 1 << int(np.ceil(np.log2(max(SAMPLES_PER_SLICE, 2 * orders))))
+    slice_len = min(fft_len - orders + 1, n)
+    forward = _ChirpSums(min(slice_len, whole), orders, -step)
+    for start in range(0, whole, forward.inputs):
+        coef += forward(x[start:min(whole, start + forward.inputs)]) * np.exp(-1j * step * k * start)
     coef *= 2.0 / whole
     coef[0] *= 0.5
-    for start in range(0, n, SAMPLES_PER_SLICE):
-        length = min(n, start + SAMPLES_PER_SLICE) - start
-        out[start:start + length] = _chirp_sums(coef * np.exp(1j * step * k * start), length, step).real
+    back = _ChirpSums(orders, slice_len, step)
+    for start in range(0, n, slice_len):
+        length = min(n, start + slice_len) - start
+        out[start:start + length] = back(coef * np.exp(1j * step * k * start))[:length].real
     return out
 
 
