@@ -202,10 +202,15 @@ def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: 
 class _ChirpSums:
     """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for any v of ``inputs`` values (Bluestein's
     chirp z transform: j m = (j^2 + m^2 - (m - j)^2) / 2 makes it a convolution); the chirp and the
-    kernel's FFT are computed once for every block of the same shape."""
+    kernel's FFT are computed once for every block of the same shape. ``reverse()`` gives the sums the
+    other way (``outputs`` values in, ``inputs`` out, the opposite step) from the same chirp and kernel:
+    that kernel is this one conjugated and reversed in time, so its FFT is this FFT's conjugate."""
 
-    def __init__(self, inputs: int, outputs: int, step_rad: float):
+    def __init__(self, inputs: int, outputs: int, step_rad: float, _from=None):
         self.inputs, self.outputs = inputs, outputs
+        if _from is not None:
+            self.size, self.chirp, self.kernel = _from.size, np.conj(_from.chirp), np.conj(_from.kernel)
+            return
         self.size = sfft.next_fast_len(inputs + outputs - 1)
         j = np.arange(max(inputs, outputs), dtype=float)
         self.chirp = np.exp(0.5j * step_rad * (j * j))        # exp(i step j^2 / 2)
@@ -214,6 +219,9 @@ class _ChirpSums:
         if inputs > 1:
             kernel[self.size - inputs + 1:] = np.conj(self.chirp[1:inputs][::-1])
         self.kernel = np.fft.fft(kernel)
+
+    def reverse(self) -> _ChirpSums:
+        return _ChirpSums(self.outputs, self.inputs, 0.0, _from=self)
 
     def __call__(self, values: np.ndarray) -> np.ndarray:
         padded = np.zeros(self.size, dtype=complex)
@@ -279,15 +287,14 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     step = 2 * np.pi * speed_hz / fs                       # radians per sample of order 1
     k = np.arange(orders, dtype=float)
     coef = np.zeros(orders, dtype=complex)
-    # slices of a length that makes each transform a power of two long (inputs + outputs - 1 of them)
-    fft_len = 1 << int(np.ceil(np.log2(max(SAMPLES_PER_SLICE, 2 * orders))))
-    slice_len = min(fft_len - orders + 1, n)
-    forward = _ChirpSums(min(slice_len, whole), orders, -step)
-    for start in range(0, whole, forward.inputs):
-        coef += forward(x[start:min(whole, start + forward.inputs)]) * np.exp(-1j * step * k * start)
+    slices = -(-n // SAMPLES_PER_SLICE)
+    slice_len = -(-n // slices)                            # equal slices of at most SAMPLES_PER_SLICE samples
+    forward = _ChirpSums(slice_len, orders, -step)
+    for start in range(0, whole, slice_len):
+        coef += forward(x[start:min(whole, start + slice_len)]) * np.exp(-1j * step * k * start)
     coef *= 2.0 / whole
     coef[0] *= 0.5
-    back = _ChirpSums(orders, slice_len, step)
+    back = forward.reverse()
     for start in range(0, n, slice_len):
         length = min(n, start + slice_len) - start
         out[start:start + length] = back(coef * np.exp(1j * step * k * start))[:length].real
