@@ -63,7 +63,8 @@ def test_synchronous_part_in_slices_is_the_whole_computation(n, monkeypatch):
     x = rng.standard_normal(n) + np.sin(2 * np.pi * 3 * speed_hz * np.arange(n) / fs)
     sliced = synchronous_part(x, fs, speed_hz)
     monkeypatch.setattr(synchronous, "SAMPLES_PER_SLICE", 1 << 30)
-    assert np.allclose(synchronous_part(x, fs, speed_hz), sliced, rtol=0, atol=1e-6)   # one chirp over 2e5 samples: phases to ~1e-7
+    # one chirp over 2e5 samples holds its phases to about 1e-7
+    assert np.allclose(synchronous_part(x, fs, speed_hz), sliced, rtol=0, atol=1e-6)
 
 
 def test_a_short_cut_of_a_spectrum_owns_its_arrays():
