@@ -351,8 +351,7 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
             if events is not None:
                 out[shaft] = events
         if len(rows):
-            rest_rows = rows if rest is accel else revolution_rows(rest, fs, speed_hz, spr)
-            part = synchronous_part(rest_rows, len(accel), fs, speed_hz)
+            part = synchronous_part(rest, fs, speed_hz)
             rest = np.subtract(rest, part, out=part)      # rest - part, in part's memory
     return out, rest
 

@@ -161,7 +161,8 @@ TIE = 0.01              # rates within 1 % of each other cannot be told apart by
 DEFECT_RANK = {"BPFO": 0, "BPFI": 0, "BSF": 1, "FTF": 2}
 
 
-def _owners(defects, all_found, location: str | None, fmax_hz: float) -> dict[tuple[int, int], bool]:
+def _owners(defects, all_found, location: str | None, fmax_hz: float,
+            resolution_hz: float = 0.0) -> dict[tuple[int, int], bool]:
     """For each (family index, harmonic k) found, whether that family explains its line best.
 
     Families whose harmonics match a line within 1 % of the best match (slip
@@ -204,7 +205,7 @@ def _owners(defects, all_found, location: str | None, fmax_hz: float) -> dict[tu
             winner = best
         for e in entries:
             owned[(e[4], e[1])] = e is winner
-    _give_sidebands(defects, all_found, owned)
+    _give_sidebands(defects, all_found, owned, resolution_hz)
     return owned
 
 
@@ -248,10 +249,10 @@ def shared_lines(rates, location: str | None) -> dict[tuple[str, str], list[tupl
 
 
 SIDEBAND_OF = {"BPFO": "shaft_hz", "BPFI": "shaft_hz", "BSF": "ftf_hz"}
-SIDEBAND_MARGIN = SPEED_TOLERANCE   # a sideband's place is known to the speed's precision, a family's only to slip
+SIDEBAND_MARGIN = SPEED_TOLERANCE   # the modulation's place is known to the speed's precision, a family's only to slip
 
 
-def _give_sidebands(defects, all_found, owned) -> None:
+def _give_sidebands(defects, all_found, owned, resolution_hz: float = 0.0) -> None:
     """Take from a family the lines that a stronger family's first-order sideband explains better.
 
     A race tone modulated at 1X, or a ball tone at FTF, puts lines at k x rate
@@ -259,9 +260,14 @@ def _give_sidebands(defects, all_found, owned) -> None:
     another family's harmonic (for a 6203, BPFO + 1X lies 1.6 % from 2 x BSF).
     Such a line is the stronger family's when it sits closer to the measured
     carrier +- the modulation than to the other family's expected harmonic by
-    more than SIDEBAND_MARGIN (the carrier is measured and the speed refined to
-    0.5 %; the other family's rate is known only to its 1-2 % slip), and the
-    carrier stands higher than the line.
+    more than the sideband's own uncertainty, and the carrier stands higher
+    than the line. That uncertainty is the modulation's (the speed is refined
+    to SIDEBAND_MARGIN, 0.5 %, of 1X, and FTF follows it) plus a line of the
+    spectrum (where the carrier's peak is read), as a fraction of the line's
+    frequency; the other family's rate is known only to its 1-2 % slip. (It
+    was 0.5 % of the line itself: at 3 x BPFI + 1X of a 6312, 390 Hz, that is
+    2 Hz, while 1X is known to 0.12 Hz, and a gearbox bearing's BPFI 0.46 %
+    away kept the line.)
     """
     carriers = [(t, peak.line, peak.snr, peak.freq_hz, getattr(b, SIDEBAND_OF[defect]))
                 for t, ((b, defect, _), found) in enumerate(zip(defects, all_found)) if defect in SIDEBAND_OF
@@ -270,13 +276,17 @@ def _give_sidebands(defects, all_found, owned) -> None:
         return
     family, line, snr, freq, mod = (np.array(column) for column in zip(*carriers))
     sidebands = np.concatenate([freq - mod, freq + mod])
+    margins = np.tile(SIDEBAND_MARGIN * mod + resolution_hz, 2)      # Hz
     for t, ((_, _, rate), found) in enumerate(zip(defects, all_found)):
         for k, peak in found.items():
             if not owned[(t, k)]:
                 continue
             own_error = abs(peak.freq_hz / (k * rate) - 1)
             claims = np.tile((family != t) & (line != peak.line) & (snr > peak.snr), 2)
-            if claims.any() and np.min(np.abs(peak.freq_hz / sidebands[claims] - 1)) + SIDEBAND_MARGIN < own_error:
+            if not claims.any():
+                continue
+            gaps = (np.abs(peak.freq_hz - sidebands[claims]) + margins[claims]) / peak.freq_hz
+            if np.min(gaps) < own_error:
                 owned[(t, k)] = False
 
 
@@ -347,7 +357,7 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
             lines = clear_lines(view.ses)
             _leave_shaft_combs(view.ses, lines, speeds, defects, found)
-            owned = _owners(defects, found, c.location, view.ses.fmax_hz)
+            owned = _owners(defects, found, c.location, view.ses.fmax_hz, view.ses.resolution_hz)
             tones += _tone_facts(c, view, defects, found, owned, lines, seen)
             zones += _modulation_facts(c, view, defects, found, owned)
     _mark_strongest(tones)

@@ -54,3 +54,67 @@ def test_constant_speed_revolutions_match_spline_resampling(rng):
     times = (np.arange(revs.count)[:, None] + np.arange(spr)[None, :] / spr) / speed
     reference = CubicSpline(t, x)(times)
     assert np.max(np.abs(revs.samples - reference)) < 2e-3
+
+
+def _squared_envelope_spectrum_scipy(y, fs, band):
+    """Reference: an ideal band-pass (FFT mask), ``scipy.signal.hilbert``, the squared magnitude's spectrum."""
+    from scipy import signal
+
+    n = len(y)
+    spec = np.fft.rfft(y)
+    f = np.fft.rfftfreq(n, 1 / fs)
+    spec[(f < band[0]) | (f > band[1])] = 0
+    squared = np.abs(signal.hilbert(np.fft.irfft(spec, n))) ** 2
+    return f, np.abs(np.fft.rfft(squared - squared.mean())) * 2 / n
+
+
+def test_taking_out_the_synchronous_part_puts_no_bearing_line_in_the_envelope():
+    """A gear mesh with its harmonics up to 6 kHz and their 1X sidebands only, over white noise, no bearing
+    fault, 610.5 samples per turn: the record less its synchronous part must leave the envelope of the noise
+    alone. With scipy.signal.hilbert as reference (Randall & Antoni 2011, section 3: the squared envelope
+    spectrum), the lines at an inner race's rate (BPFI = 9.252 orders, with its 1X sidebands and 2 x BPFI)
+    stand no higher than in the noise's own envelope. Interpolating the revolutions by cubic convolution
+    (Keys 1981) put them 300 to 9000 times higher: each turn starts at its own fraction of a sample, and
+    near the Nyquist frequency the interpolation's error differs from turn to turn."""
+    from engine.analysis.synchronous import synchronous_part
+
+    fs, n, speed_hz, teeth = 12800.0, 51200, 1258 / 60, 19
+    t = np.arange(n) / fs
+    x = np.zeros(n)
+    for k in range(1, 16):
+        f = k * teeth * speed_hz
+        x += np.sin(2 * np.pi * f * t + k)
+        x += 0.3 * np.sin(2 * np.pi * (f - speed_hz) * t + 2 * k) + 0.3 * np.sin(2 * np.pi * (f + speed_hz) * t + 3 * k)
+    noise = 0.01 * np.random.default_rng(7).standard_normal(n)
+    band = (4300.0, 6300.0)
+    bpfi = 9.252 * speed_hz
+    rates = (bpfi - speed_hz, bpfi, bpfi + speed_hz, 2 * bpfi)
+
+    def lines(y):
+        f, ses = _squared_envelope_spectrum_scipy(y, fs, band)
+        return np.array([ses[np.argmin(abs(f - hz)) - 2:np.argmin(abs(f - hz)) + 3].max() for hz in rates])
+
+    rest = x + noise - synchronous_part(x + noise, fs, speed_hz)
+    own = lines(noise)
+    assert np.all(lines(rest) < 1.5 * own.max())
+    # and the whole envelope spectrum is the noise's: its median within 10 %
+    f, ses_rest = _squared_envelope_spectrum_scipy(rest, fs, band)
+    _, ses_noise = _squared_envelope_spectrum_scipy(noise, fs, band)
+    low = (f > 5) & (f < 500)
+    assert np.median(ses_rest[low]) == pytest.approx(np.median(ses_noise[low]), rel=0.1)
+
+
+def test_the_synchronous_part_is_the_record_s_lines_at_the_orders(rng):
+    """The coefficients at the orders against a direct DFT (numpy as reference): a sum of orders is all
+    synchronous (to the window's leakage, the record's whole turns end within half a sample), white noise
+    keeps about 1 / count of its power (McFadden 1987: averaging N turns lowers noise by sqrt(N))."""
+    from engine.analysis.synchronous import synchronous_part
+
+    fs, speed_hz, n = 5000.0, 24.7, 50000
+    t = np.arange(n) / fs
+    x = np.sin(2 * np.pi * speed_hz * t + 0.3) + 0.5 * np.cos(2 * np.pi * 37 * speed_hz * t)
+    assert np.max(np.abs(x - synchronous_part(x, fs, speed_hz))) < 2e-3
+    noise = rng.standard_normal(n)
+    count = int((n - 1) / fs * speed_hz)
+    assert np.std(synchronous_part(noise, fs, speed_hz)) == pytest.approx(1 / np.sqrt(count), rel=0.15)
+    assert not synchronous_part(np.ones(10), fs, speed_hz).any()          # less than one turn: nothing

@@ -93,3 +93,27 @@ def test_a_shared_line_goes_to_the_family_with_lines_of_its_own(true_rate):
         assert all(owned[(0, k)] for k in lower) and not any(owned[(1, k)] for k in higher)
     else:                             # nothing at f, 3 f, 5 f: the higher rate explains its lines whole
         assert all(owned[(1, k)] for k in higher) and not any(owned[(0, k)] for k in lower)
+
+
+class _Race:
+    """An inner race's rates as the analysis gives them (only what the ownership reads)."""
+
+    def __init__(self, bearing: str, shaft_hz: float):
+        self.bearing, self.shaft_hz, self.ftf_hz = bearing, shaft_hz, 0.4 * shaft_hz
+
+
+def test_a_sideband_s_place_is_known_to_the_speed_not_to_half_a_percent_of_its_own_frequency():
+    """A 6312's BPFI family (4.936 x of 24.667 Hz, 8 balls of 22.225 mm on 95 mm: BPFI = n/2 (1 + d/D) fr,
+    Randall & Antoni 2011, eq. 1; geometry from memory) puts 3 x BPFI + 1X at 389.9 Hz; a gearbox bearing
+    whose BPFI is 194.25 Hz has its second harmonic expected at 388.5 Hz, 0.37 % below the line. The
+    sideband's place is known to 0.5 % of 1X (0.12 Hz) and a line (0.25 Hz), not to 0.5 % of 390 Hz (2 Hz):
+    the line is the stronger inner race's. A line at the gearbox bearing's own harmonic stays its own."""
+    fr = 24.667
+    bpfi = 4.936 * fr
+    defects = [(_Race("motor_de", fr), "BPFI", bpfi), (_Race("input_bearing", fr), "BPFI", 194.25)]
+    carrier = {k: _peak(k * bpfi, 30.0) for k in (1, 2, 3, 4, 5)}
+    on_sideband = {2: _peak(3 * bpfi + fr, 19.0)}
+    owned = _owners(defects, [carrier, on_sideband], None, 1000.0, resolution_hz=0.25)
+    assert not owned[(1, 2)]
+    own_place = {2: _peak(2 * 194.25, 19.0)}
+    assert _owners(defects, [carrier, own_place], None, 1000.0, resolution_hz=0.25)[(1, 2)]
