@@ -46,7 +46,8 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
     if learned is not None:
         raise UsageError(f"holds an overlay learned before (rule {learned.id} carries site_record): learn against "
                          "the rulebooks without it, since its weights already count these findings (which rules fire "
-                         "hardly depends on the weights); the new overlay replaces it", path=str(learned.path))
+                         "hardly depends on the weights); the new overlay replaces it",
+                         path=str(learned.learned_by or learned.path))
     given = settings(rulebook)
     with Store(store_path, create=False) as store:
         known = store.machines()
@@ -71,13 +72,18 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
         outcome[r.rule_id] = {"outcome": "too little evidence"}
     for r in proposal.unchanged:
         outcome[r.rule_id] = {"outcome": "unchanged"}
+    for r in proposal.held:
+        outcome[r.rule_id] = {"outcome": "held", "why": (
+            f"confirmed {r.k} of {r.n} while its diagnoses promised {100 * (r.promised or 0):.0f} %: the record "
+            "contradicts the move the estimate would make")}
     for rule_id, why in proposal.not_learned:
         outcome[rule_id] = {"outcome": "not learned", "why": why}
     rules = []
     for r in records:
         rule = loaded.get(r.rule_id)
         row = {"rule": r.rule_id, "n": r.n, "k": r.k, "rate": round(r.rate, 4), "low": round(r.low, 4),
-               "high": round(r.high, 4), "weight": None if rule is None else round(rule.weight, 4),
+               "high": round(r.high, 4), "promised": None if r.promised is None else round(r.promised, 4),
+               "weight": None if rule is None else round(rule.weight, 4),
                "learned_weight": None, "capped": False, "why": None}
         row.update(outcome.get(r.rule_id, {"outcome": "not learned", "why": "no judgement made"}))
         rules.append(row)
@@ -107,6 +113,7 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
                          "learned_weight": c.learned_weight, "capped": c.capped} for c in proposal.changes],
             "too_little": [r.rule_id for r in proposal.too_little],
             "unchanged": [r.rule_id for r in proposal.unchanged],
+            "held": [r.rule_id for r in proposal.held],
             "not_learned": [{"rule": rule_id, "why": why} for rule_id, why in proposal.not_learned]},
         "overlay": proposal.text,
     }

@@ -67,7 +67,8 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin} ({where}" + (
         f"; overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ")"), f"  source: {rule.source}"]
     if rule.site_record is not None:
-        lines.append(f"  at this site this rule was confirmed {rule.site_record[0]} of {rule.site_record[1]} times")
+        lines.append(f"  at this site this rule was confirmed {rule.site_record[0]} of {rule.site_record[1]} times"
+                     + (f" (weight learned by {rule.learned_by})" if rule.learned_by else ""))
     lines.append("  it needs:")
     lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.needs]
     if rule.none_of:
@@ -128,6 +129,12 @@ def summary(rulebook: Rulebook) -> list[str]:
     for rule in rulebook.rules:
         if rule.replaced:
             lines.append(f"  overridden: {rule.id} by {rule.label}")
+        if rule.learned_by:
+            lines.append(f"  learned weight: {rule.id} {100 * rule.weight:+.0f} % by {rule.learned_by} "
+                         f"(confirmed {rule.site_record[0]} of {rule.site_record[1]} at repair)"
+                         if rule.site_record else f"  learned weight: {rule.id} by {rule.learned_by}")
+    for note in rulebook.notes:
+        lines.append(f"  not applied: {note}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
     for p in sorted(rulebook.parameters.values(), key=lambda p: p.name):
