@@ -134,7 +134,7 @@ def summary(rulebook: Rulebook) -> list[str]:
                          f"(confirmed {rule.site_record[0]} of {rule.site_record[1]} at repair)"
                          if rule.site_record else f"  learned weight: {rule.id} by {rule.learned_by}")
     for note in rulebook.notes:
-        lines.append(f"  not applied: {note}")
+        lines.append(f"  note: {note}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
     for p in sorted(rulebook.parameters.values(), key=lambda p: p.name):

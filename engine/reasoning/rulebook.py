@@ -572,6 +572,11 @@ def _collect_parameter(doc, parameters: dict[str, Parameter], label: str, name: 
     line = doc.line_of(["parameters", name])
     spec = raw if isinstance(raw, dict) else {"value": raw}
     value = spec["value"]
+    known = parameters.get(name)
+    problem = unit_written(value, known.unit if known else spec.get("unit", ""), f"parameters.{name}")
+    if problem:
+        raise RulebookError(problem.replace(f"{value!r}: ", f"parameters.{name}: {value!r}: ", 1).replace(
+            f"; parameters.{name} is in", "; it is in", 1), path=doc.path, line=line)
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
         raise RulebookError(f"parameters.{name}: {value!r} is not a finite number", path=doc.path, line=line)
     if value != 0 and not SMALLEST_NUMBER <= abs(value) < LARGEST_NUMBER:
@@ -581,8 +586,11 @@ def _collect_parameter(doc, parameters: dict[str, Parameter], label: str, name: 
     if name in parameters:
         before = parameters[name]
         if "unit" in spec and spec["unit"] != before.unit:
+            shown = unit_written(f"{value} {spec['unit']}", before.unit, "it") or ""
+            converted = shown[shown.find(" (") :] if " (" in shown else ""
             raise RulebookError(f"parameters.{name}: unit {spec['unit']!r} differs from {before.unit!r} "
-                                f"declared in {before.path}", path=doc.path, line=line)
+                                f"declared in {before.path}; write the value in {before.unit or 'its unit'}{converted}",
+                                path=doc.path, line=line)
         parameters[name] = replace(before, value=float(value), source=spec.get("source", before.source),
                                    changed_by=before.changed_by + (label,),
                                    declared_value=(before.value if before.declared_value is None
@@ -655,6 +663,34 @@ def _check_derived_values(rules) -> list[RulebookError]:
                 problems.append(RulebookError(f"{_never(kind, name, wrong[0], allowed)} (as the rules that "
                                               f"derive {kind} give it)", path=r.path, line=r.line, rule_id=r.id))
     return problems
+
+
+_WITH_UNIT = re.compile(r"^\s*(?P<x>[-+]?(?:\d+(?:\.\d*)?|\.\d+))\s*(?P<unit>[^\d\s*.].*?)\s*$")
+
+
+def unit_written(text, unit: str, what: str) -> str | None:
+    """The problem of a number written with a unit (``'0.08 in/s'``) where a rule or parameter takes the
+    number alone, in ``unit`` (the field's or parameter's own): None when ``text`` is not one. Says the
+    value in ``unit`` when the conversion is exact (in/s to mm/s: 1 in = 25.4 mm; a line's peak is
+    sqrt(2) x its RMS, engine/common/units.py)."""
+    m = _WITH_UNIT.match(text) if isinstance(text, str) else None
+    if m is None:
+        return None
+    x, said = float(m["x"]), m["unit"].lower()
+    problem = (f"{text!r}: units are not written here; {what} is in {unit or 'its own unit (see tellwave rulebook '}"
+               + ("" if unit else "vocabulary or parameters)") + ": write the number alone")
+    if unit.startswith("mm/s") and said.startswith("mm/s") and ("peak" in said or "pk" in said):
+        problem += f" ({x:g} mm/s peak of one line is {x / math.sqrt(2):.3g} mm/s RMS)"
+    elif unit.startswith("mm/s") and "in/s" in said:
+        mm_s = x * 25.4
+        if "peak" in said or "pk" in said:
+            problem += f" ({x:g} in/s peak of one line is {mm_s / math.sqrt(2):.3g} mm/s RMS)"
+        elif "rms" in said:
+            problem += f" ({x:g} in/s RMS is {mm_s:.3g} mm/s RMS)"
+        else:
+            problem += (f" ({x:g} in/s RMS is {mm_s:.3g} mm/s RMS; {x:g} in/s peak of one line is "
+                        f"{mm_s / math.sqrt(2):.3g} mm/s RMS)")
+    return problem
 
 
 def _literal_hint(numeric: bool) -> str:
@@ -735,9 +771,15 @@ class _RuleChecker:
     def condition(self, fields, name, spec, *where) -> Condition:
         self.used = []
         if name not in fields:
-            self.fail(f"field {name!r} is not in this fact kind (fields: {', '.join(sorted(fields))})", *where)
+            self.fail(f"field {name!r} is not in this fact kind (fields: {', '.join(sorted(fields))})"
+                      f"{_near(name, fields)}", *where)
         ftype = fields[name][0]
         op, value = ("is", spec) if not isinstance(spec, dict) else next(iter(spec.items()))
+        if op in ("between", *COMPARISONS):
+            for v in (value if op == "between" and isinstance(value, list) else [value]):
+                problem = unit_written(v, fields[name].unit, name)
+                if problem:
+                    self.fail(problem, *where)
         if op in COMPARISONS:
             if ftype not in NUMERIC:
                 self.fail(f"{op}: {name} is a {ftype}, not a number", *where)
@@ -832,6 +874,10 @@ class _RuleChecker:
             value = self.ref(r["value"], *where, numeric=True)
             if not isinstance(value, Ref):
                 self.fail("grade_by: 'value' must be a measured value (alias.field), not a parameter", *where)
+            for end in ("from", "to"):
+                problem = unit_written(r[end], self.aliases[value.alias][value.field].unit, f"grade_by {end}")
+                if problem:
+                    self.fail(problem, *where, end)
             start, full = self.number(r["from"], *where), self.number(r["to"], *where)
             if start == full:
                 self.fail("grade_by: 'from' and 'to' must differ", *where)
@@ -900,8 +946,8 @@ class _RuleChecker:
             named = list(fault["map"].values()) if isinstance(fault, dict) else [fault]
             for f in named:
                 if f not in self.faults:
-                    self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})",
-                              "concludes", "fault")
+                    self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})"
+                              f"{_near(f, self.faults)}", "concludes", "fault")
             if isinstance(fault, dict):
                 source = self.ref(fault["from"], "concludes", "fault", "from")
                 if source.alias is not None:
