@@ -62,6 +62,7 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
     diagnoses = [JudgedDiagnosis(str(r["id"]), tuple(RuleFiring(**f) for f in r["firings"]),
                                  tuple(Finding(**f) for f in r["findings"])) for r in rows if r["firings_kept"]]
     records = rule_records(diagnoses)
+    by_id = {str(r["id"]): r for r in rows}
     table = reliability(diagnoses, given.bin_edges)
     proposal = propose_overlay(diagnoses, rulebook)
     loaded = {r.id: r for r in rulebook.rules}
@@ -107,7 +108,10 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
         "rules": rules,
         "reliability": {"bins": bins, "brier": None if table.brier is None else round(table.brier, 4),
                         "judged": table.judged, "without_hypothesis": table.without_hypothesis,
-                        "missed": table.missed},
+                        "missed": table.missed,
+                        "missed_readings": [_reading_words(by_id[i]) for i in table.missed_readings]},
+        "not_in_rulebook": sorted(rule_id for rule_id, why in proposal.not_learned
+                                  if why == "not in the rulebook loaded"),
         "proposal": {
             "changes": [{"rule": c.rule_id, "n": c.record.n, "k": c.record.k, "loaded_weight": c.loaded_weight,
                          "learned_weight": c.learned_weight, "capped": c.capped} for c in proposal.changes],
@@ -122,6 +126,12 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
 
         doc["diagram_svg"] = reliability_diagram(table)
     return doc
+
+
+def _reading_words(row: dict) -> str:
+    """``reading 12 of RW-2 taken 2026-05-01T08:00``: a stored reading as ``tellwave findings`` names it."""
+    taken = f" taken {row['taken_at']}" if row.get("taken_at") else ""
+    return f"reading {row['id']} of {row['machine']}{taken}"
 
 
 def _now() -> str:

@@ -187,6 +187,7 @@ class Reliability:
     judged: int                  # judged top hypotheses in the table
     without_hypothesis: int      # judged diagnoses where no rule supported any fault
     missed: int                  # of those, how many had a fault found
+    missed_readings: tuple[str, ...] = ()   # their reading ids, sorted
 
 
 @dataclass(frozen=True)
@@ -302,14 +303,16 @@ def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] | N
     if edges is None:
         edges = settings().bin_edges
     pairs: list[tuple[float, bool]] = []
-    without = missed = 0
+    without = 0
+    missed: list[str] = []
     for d in diagnoses:
         if not d.findings:
             continue
         top = top_hypothesis(d)
         if top is None:
             without += 1
-            missed += any(f.fault not in (NOTHING_FOUND,) for f in d.findings)
+            if any(f.fault not in (NOTHING_FOUND,) for f in d.findings):
+                missed.append(d.reading_id)
             continue
         fault, component, c = top
         pairs.append((min(1.0, max(0.0, c)), d.confirms(fault, component)))
@@ -323,7 +326,7 @@ def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] | N
         else:
             bins.append(ReliabilityBin(low, high, 0, None, None))
     brier = math.fsum((c - hit) ** 2 for c, hit in pairs) / len(pairs) if pairs else None   # fsum: any order, same sum
-    return Reliability(tuple(bins), brier, len(pairs), without, missed)
+    return Reliability(tuple(bins), brier, len(pairs), without, len(missed), tuple(sorted(missed)))
 
 
 def contradicts(loaded: float, learned: float, record: RuleRecord) -> bool:

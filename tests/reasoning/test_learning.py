@@ -284,3 +284,10 @@ def test_rule_ids_the_rulebook_lacks_are_listed_on_one_comment_line(tmp_path):
     assert proposal.not_learned == ((odd, "not in the rulebook loaded"),)
     assert "#   gone.rule rules: [oops]: not in the rulebook loaded" in proposal.text
     assert len(_load_overlay(tmp_path, proposal.text).rules) == len(load_rulebook().rules)
+
+
+def test_the_missed_readings_are_named():
+    diagnoses = [_d("7", [], [("pump-1", "unbalance")]), _d("3", [], [("pump-1", NOTHING_FOUND)]),
+                 _d("5", [], [("motor", "outer-race")])]
+    table = reliability(diagnoses)
+    assert (table.without_hypothesis, table.missed, table.missed_readings) == (3, 2, ("5", "7"))
