@@ -262,10 +262,8 @@ def not_yet_surveyed(store, findings) -> list[str]:
             continue
         last = max(r["taken_at"] for r in judged)[:10]
         where = f"line {line}: " if line is not None else ""
-        notes.append(f"{where}no reading of {f.machine} after {f.found_on} is stored yet: the finding judges the "
-                     f"latest readings stored on or before that day (the last taken {last}); if a survey taken "
-                     f"between {last} and {f.found_on} is still to be stored, store it, then delete the finding "
-                     "(`tellwave findings delete ID`) and add it again, so it judges that survey")
+        notes.append(f"{where}no reading of {f.machine} after {f.found_on} is stored yet (the last taken {last}); "
+                     f"a survey between {last} and {f.found_on} stored later needs the finding added again")
     return notes
 
 
