@@ -875,7 +875,8 @@ class _RuleChecker:
             if not isinstance(value, Ref):
                 self.fail("grade_by: 'value' must be a measured value (alias.field), not a parameter", *where)
             for end in ("from", "to"):
-                problem = unit_written(r[end], self.aliases[value.alias][value.field].unit, f"grade_by {end}")
+                unit = self.aliases[value.alias][value.field].unit if value.alias else ""
+                problem = unit_written(r[end], unit, f"grade_by {end}")
                 if problem:
                     self.fail(problem, *where, end)
             start, full = self.number(r["from"], *where), self.number(r["to"], *where)

@@ -30,7 +30,8 @@ rules:
     needs:
       - fact: tone
         as: t
-        where: {{name: 1X, direction: axial, component: {{same_as: location_shaft}}, amplitude_mm_s: {{at_least: THRESHOLD}}}}
+        where: {{name: 1X, direction: axial, component: {{same_as: location_shaft}},
+                 amplitude_mm_s: {{at_least: THRESHOLD}}}}
     concludes: {{fault: fan-hub-loose, component: t.component}}
     certainty: 0.5
     because: axial 1X of {{t.amplitude_mm_s}}
@@ -86,7 +87,7 @@ def test_an_edit_of_the_rule_after_learning_takes_effect_and_the_weight_is_not_l
     assert threshold == 6.0                               # the edit takes effect, the overlay loaded
     assert rule.weight == 0.5 and rule.site_record is None and rule.learned_by is None
     assert len(book.notes) == 1
-    assert book.notes[0].startswith(f"learned/learned.yaml:") and f"rule {RULE}" in book.notes[0]
+    assert book.notes[0].startswith("learned/learned.yaml:") and f"rule {RULE}" in book.notes[0]
     assert "has changed since it was learned" in book.notes[0]
 
 
