@@ -11,7 +11,14 @@ _OPS = {"is": "is", "is_not": "is not", "above": "is above", "at_least": "is at 
         "at_most": "is at most", "same_as": "is the same as", "differs_from": "differs from"}
 
 
+# a field's unit suffix, said as its unit: amplitude_mm_s -> "amplitude (mm/s)", not "amplitude mm s"
+_UNIT_SUFFIXES = (("_mm_s", "mm/s"), ("_hz", "Hz"), ("_db", "dB"), ("_rpm", "r/min"), ("_pct", "%"), ("_g", "g"))
+
+
 def _words(name: str) -> str:
+    for suffix, unit in _UNIT_SUFFIXES:
+        if name.endswith(suffix) and len(name) > len(suffix):
+            return f"{name[: -len(suffix)].replace('_', ' ')} ({unit})"
     return name.replace("_", " ")
 
 
