@@ -308,6 +308,12 @@ def shown_units(args, base=None):
 
 def rulebook(args):
     """The shipped rulebooks with the ``--site`` overlays of ``args``."""
+    import sys
+
+    from ..common.escape import one_line
     from ..reasoning import load_rulebook
 
-    return load_rulebook(*(args.site or []))
+    book = load_rulebook(*(args.site or []))
+    for note in book.notes:      # a learned weight left unapplied: said once per command, never silently
+        print(f"tellwave: warning: {one_line(note)}", file=sys.stderr)
+    return book

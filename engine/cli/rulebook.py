@@ -132,9 +132,13 @@ def _explain(args) -> int:
         if args.rule_id in book.disabled:
             reason, path = book.disabled[args.rule_id]
             raise UsageError(f"rule {args.rule_id} is switched off by {path}: {reason}") from None
-        near = [r.id for r in book.rules if args.rule_id in r.id][:5]
+        import difflib
+
+        near = [r.id for r in book.rules if args.rule_id in r.id][:5] or difflib.get_close_matches(
+            args.rule_id, [r.id for r in book.rules], n=3, cutoff=0.75)
         hint = f"; did you mean {', '.join(near)}?" if near else ""
-        raise UsageError(f"no rule has id {args.rule_id!r}{hint}") from None
+        where = ("" if args.site else "; a site's own rule is in its overlay: pass its folder with --site")
+        raise UsageError(f"no rule has id {args.rule_id!r} in the rulebooks loaded{hint}{where}") from None
     return _print(explain(rule, book))
 
 

@@ -190,7 +190,8 @@ def components_of_machine(machine_file: str | None, known: dict | None = None) -
         try:
             m = load_machine(machine_file)
             parts = (set(m.shaft_speeds_hz) | {b.id for b in m.bearings} | {g.id for g in m.gears}
-                     | {b.id for b in m.belts} | {r.id for r in m.rotors} | {x.id for x in m.motors})
+                     | {b.id for b in m.belts} | {r.id for r in m.rotors} | {x.id for x in m.motors}
+                     | {c.id for c in m.couplings})
         except TellwaveError:
             pass
     if known is not None:
@@ -230,9 +231,10 @@ def resolve(store, finding: Finding, fault_ids, machines: dict | None = None) ->
             raise FindingError(f"date {finding.found_on} is before reading {r['id']} ({taken}): a finding judges "
                                "a reading taken before the machine was opened")
         parts = components_of_machine(r.get("machine_file"), machines)
-        if parts is not None and finding.component not in parts | store.components_of(r["id"]):
+        named = store.components_of(r["id"]) if parts is not None else set()
+        if parts is not None and finding.component not in parts | named:
             raise FindingError(f"component {finding.component!r} is not in the machine file of reading {r['id']} "
-                               f"({r['machine_file']}); its components are {', '.join(sorted(parts))}")
+                               f"({r['machine_file']}); its components are {', '.join(sorted(parts | named))}")
         earlier = store.finding_of(r["id"], finding.component, finding.fault)
         if earlier is not None:
             raise FindingError(f"finding {earlier} already records {finding.fault} on {finding.component} for "
@@ -260,9 +262,8 @@ def not_yet_surveyed(store, findings) -> list[str]:
             continue
         last = max(r["taken_at"] for r in judged)[:10]
         where = f"line {line}: " if line is not None else ""
-        notes.append(f"{where}no reading of {f.machine} after {f.found_on} is stored yet: the finding judges the "
-                     f"latest readings stored on or before that day (the last taken {last}); a survey taken "
-                     f"between {last} and {f.found_on} and stored later takes their place at its points")
+        notes.append(f"{where}no reading of {f.machine} after {f.found_on} is stored yet (the last taken {last}); "
+                     f"a survey between {last} and {f.found_on} stored later takes their place at its points")
     return notes
 
 

@@ -46,7 +46,8 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
     if learned is not None:
         raise UsageError(f"holds an overlay learned before (rule {learned.id} carries site_record): learn against "
                          "the rulebooks without it, since its weights already count these findings (which rules fire "
-                         "hardly depends on the weights); the new overlay replaces it", path=str(learned.path))
+                         "hardly depends on the weights); the new overlay replaces it",
+                         path=str(learned.learned_by or learned.path))
     given = settings(rulebook)
     with Store(store_path, create=False) as store:
         known = store.machines()
@@ -61,6 +62,7 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
     diagnoses = [JudgedDiagnosis(str(r["id"]), tuple(RuleFiring(**f) for f in r["firings"]),
                                  tuple(Finding(**f) for f in r["findings"])) for r in rows if r["firings_kept"]]
     records = rule_records(diagnoses)
+    by_id = {str(r["id"]): r for r in rows}
     table = reliability(diagnoses, given.bin_edges)
     proposal = propose_overlay(diagnoses, rulebook)
     loaded = {r.id: r for r in rulebook.rules}
@@ -71,13 +73,18 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
         outcome[r.rule_id] = {"outcome": "too little evidence"}
     for r in proposal.unchanged:
         outcome[r.rule_id] = {"outcome": "unchanged"}
+    for r in proposal.held:
+        outcome[r.rule_id] = {"outcome": "held", "why": (
+            f"confirmed {r.k} of {r.n} while its diagnoses promised {100 * (r.promised or 0):.0f} %: the record "
+            "contradicts the move the estimate would make")}
     for rule_id, why in proposal.not_learned:
         outcome[rule_id] = {"outcome": "not learned", "why": why}
     rules = []
     for r in records:
         rule = loaded.get(r.rule_id)
         row = {"rule": r.rule_id, "n": r.n, "k": r.k, "rate": round(r.rate, 4), "low": round(r.low, 4),
-               "high": round(r.high, 4), "weight": None if rule is None else round(rule.weight, 4),
+               "high": round(r.high, 4), "promised": None if r.promised is None else round(r.promised, 4),
+               "weight": None if rule is None else round(rule.weight, 4),
                "learned_weight": None, "capped": False, "why": None}
         row.update(outcome.get(r.rule_id, {"outcome": "not learned", "why": "no judgement made"}))
         rules.append(row)
@@ -101,12 +108,16 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
         "rules": rules,
         "reliability": {"bins": bins, "brier": None if table.brier is None else round(table.brier, 4),
                         "judged": table.judged, "without_hypothesis": table.without_hypothesis,
-                        "missed": table.missed},
+                        "missed": table.missed,
+                        "missed_readings": [_reading_words(by_id[i]) for i in table.missed_readings]},
+        "not_in_rulebook": sorted(rule_id for rule_id, why in proposal.not_learned
+                                  if why == "not in the rulebook loaded"),
         "proposal": {
             "changes": [{"rule": c.rule_id, "n": c.record.n, "k": c.record.k, "loaded_weight": c.loaded_weight,
                          "learned_weight": c.learned_weight, "capped": c.capped} for c in proposal.changes],
             "too_little": [r.rule_id for r in proposal.too_little],
             "unchanged": [r.rule_id for r in proposal.unchanged],
+            "held": [r.rule_id for r in proposal.held],
             "not_learned": [{"rule": rule_id, "why": why} for rule_id, why in proposal.not_learned]},
         "overlay": proposal.text,
     }
@@ -115,6 +126,12 @@ already count the findings). ``diagram``: add the reliability diagram as SVG (fo
 
         doc["diagram_svg"] = reliability_diagram(table)
     return doc
+
+
+def _reading_words(row: dict) -> str:
+    """``reading 12 of RW-2 taken 2026-05-01T08:00``: a stored reading as ``tellwave findings`` names it."""
+    taken = f" taken {row['taken_at']}" if row.get("taken_at") else ""
+    return f"reading {row['id']} of {row['machine']}{taken}"
 
 
 def _now() -> str:

@@ -11,7 +11,14 @@ _OPS = {"is": "is", "is_not": "is not", "above": "is above", "at_least": "is at 
         "at_most": "is at most", "same_as": "is the same as", "differs_from": "differs from"}
 
 
+# a field's unit suffix, said as its unit: amplitude_mm_s -> "amplitude (mm/s)", not "amplitude mm s"
+_UNIT_SUFFIXES = (("_mm_s", "mm/s"), ("_hz", "Hz"), ("_db", "dB"), ("_rpm", "r/min"), ("_pct", "%"), ("_g", "g"))
+
+
 def _words(name: str) -> str:
+    for suffix, unit in _UNIT_SUFFIXES:
+        if name.endswith(suffix) and len(name) > len(suffix):
+            return f"{name[: -len(suffix)].replace('_', ' ')} ({unit})"
     return name.replace("_", " ")
 
 
@@ -67,7 +74,8 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     lines = [f"{rule.id}: {rule.title}", f"  from {rule.origin} ({where}" + (
         f"; overrides the rule in {', '.join(rule.replaced)})" if rule.replaced else ")"), f"  source: {rule.source}"]
     if rule.site_record is not None:
-        lines.append(f"  at this site this rule was confirmed {rule.site_record[0]} of {rule.site_record[1]} times")
+        lines.append(f"  at this site this rule was confirmed {rule.site_record[0]} of {rule.site_record[1]} times"
+                     + (f" (weight learned by {rule.learned_by})" if rule.learned_by else ""))
     lines.append("  it needs:")
     lines += [f"    - {pattern_words(p, rulebook)}" for p in rule.needs]
     if rule.none_of:
@@ -128,6 +136,12 @@ def summary(rulebook: Rulebook) -> list[str]:
     for rule in rulebook.rules:
         if rule.replaced:
             lines.append(f"  overridden: {rule.id} by {rule.label}")
+        if rule.learned_by:
+            lines.append(f"  learned weight: {rule.id} {100 * rule.weight:+.0f} % by {rule.learned_by} "
+                         f"(confirmed {rule.site_record[0]} of {rule.site_record[1]} at repair)"
+                         if rule.site_record else f"  learned weight: {rule.id} by {rule.learned_by}")
+    for note in rulebook.notes:
+        lines.append(f"  note: {note}")
     for rid, (reason, path) in sorted(rulebook.disabled.items()):
         lines.append(f"  switched off: {rid} by {path}: {reason}")
     for p in sorted(rulebook.parameters.values(), key=lambda p: p.name):

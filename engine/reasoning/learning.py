@@ -4,19 +4,32 @@ Plain data in, plain data out: a list of judged diagnoses (the rule firings of a
 stored diagnosis and what was found when the machine was opened) gives
 
 - per rule, how often it fired on a judged reading (``n``), how often the fault it
-  supports was found on the component it named (``k``), and the hit rate ``k / n``
-  with its Wilson score 95 % interval (Wilson 1927);
+  supports was found on the component it named (``k``), the hit rate ``k / n``
+  with its Wilson score 95 % interval (Wilson 1927), and the mean certainty the
+  diagnoses gave those hypotheses (what the rulebook promised when the rule fired);
 - per certainty bin of the top hypotheses, the count, the mean certainty and the
   fraction confirmed (a reliability table), and the Brier score over every judged
   top hypothesis (Brier 1950);
 - a proposed site overlay (YAML text in the rulebook overlay format of
-  ``rulebooks/README.md``): each rule's weight moved from its loaded weight toward
-  the site's hit rate, shrunk toward the loaded weight by a prior worth
-  ``prior_n`` findings and capped, with the counts in its ``source``. The shipped
-  rulebooks are never edited; rules with fewer than ``least_n`` judged firings are
-  listed as too little evidence and keep their weight. Every rule judged is restated
-  with its ``site_record`` (confirmed k of n), which a diagnosis made with the overlay
-  shows in its reasoning trail.
+  ``rulebooks/README.md``) that carries only what was learned: for each rule whose
+  weight changes, the new weight, its ``site_record`` (confirmed k of n) and the
+  fingerprint of the rule it was learned against (``learned_against``); the loader
+  lays that onto the rule as it is loaded then, and leaves it unapplied, with a
+  note, when the rule has changed since. The shipped rulebooks are never edited.
+
+The arithmetic. What a site's record estimates is the probability that a rule's
+conclusion is right when the rule fires, ``k / n``. Before any finding that
+probability is taken to be the loaded weight, worth ``prior_n`` findings (a beta
+prior of mean ``w`` and strength ``prior_n``), so the estimate is the posterior
+mean ``(prior_n * w + k) / (prior_n + n)``, moved at most ``cap`` from ``w``. A
+weight is a certainty factor (Shortliffe & Buchanan 1975), not a hit rate: a rule
+that corroborates others fires beside them, and its conclusion is confirmed as
+often as the combined diagnosis was right. So the record is also read against
+what the diagnoses promised when the rule fired (the mean certainty of those
+hypotheses): a weight is raised only when its conclusions were confirmed at
+least as often as their certainty promised, and lowered only when confirmed no
+more often than promised. A move the record contradicts is not made ("held").
+Rules with fewer than ``least_n`` judged firings keep their weight.
 
 Counting: a rule counts once per judged diagnosis and hypothesis (fault on a
 component) it supports, however many channels it fired on. A diagnosis is judged
@@ -36,9 +49,8 @@ from functools import cache
 import yaml
 
 from ..common.errors import RulebookError
-from ..common.yamlfile import read_yaml
 from .findings import Reasoning
-from .rulebook import Rule, Rulebook
+from .rulebook import Rulebook
 
 Z_95 = 1.959963984540054      # standard normal quantile at 0.975 (two-sided 95 %)
 NOTHING_FOUND = "nothing-found"
@@ -143,7 +155,8 @@ class JudgedDiagnosis:
 
 @dataclass(frozen=True)
 class RuleRecord:
-    """A rule's record at the site: judged firings, confirmed ones, hit rate and Wilson 95 % interval."""
+    """A rule's record at the site: judged firings, confirmed ones, hit rate and Wilson 95 % interval, and
+    the mean certainty of the hypotheses it supported there (what the diagnoses promised; None: not known)."""
 
     rule_id: str
     n: int
@@ -151,6 +164,7 @@ class RuleRecord:
     rate: float
     low: float
     high: float
+    promised: float | None = None
 
 
 @dataclass(frozen=True)
@@ -173,6 +187,7 @@ class Reliability:
     judged: int                  # judged top hypotheses in the table
     without_hypothesis: int      # judged diagnoses where no rule supported any fault
     missed: int                  # of those, how many had a fault found
+    missed_readings: tuple[str, ...] = ()   # their reading ids, sorted
 
 
 @dataclass(frozen=True)
@@ -195,6 +210,7 @@ class Proposal:
     unchanged: tuple[RuleRecord, ...]            # the learned weight rounds to the loaded one
     not_learned: tuple[tuple[str, str], ...]     # (rule id, reason): opposing or reading rules
     text: str
+    held: tuple[RuleRecord, ...] = ()            # the estimate would move the weight the way the record contradicts
 
 
 def firings_of(reasoning: Reasoning) -> tuple[RuleFiring, ...]:
@@ -240,17 +256,31 @@ def rule_records(diagnoses: Iterable[JudgedDiagnosis]) -> tuple[RuleRecord, ...]
     """Per supporting rule, judged firings ``n``, confirmed ``k``, hit rate and Wilson 95 %, by rule id."""
     n: dict[str, int] = defaultdict(int)
     k: dict[str, int] = defaultdict(int)
+    promised: dict[str, list[float]] = defaultdict(list)
     for d in diagnoses:
         if not d.findings:
             continue
+        final = _final_certainties(d)
         for rule_id, fault, component in _supported(d):
             n[rule_id] += 1
             k[rule_id] += d.confirms(fault, component)
+            promised[rule_id].append(min(1.0, max(0.0, final[(fault, component)])))
     records = []
     for rule_id in sorted(n):
         low, high = wilson_interval(k[rule_id], n[rule_id])
-        records.append(RuleRecord(rule_id, n[rule_id], k[rule_id], k[rule_id] / n[rule_id], low, high))
+        records.append(RuleRecord(rule_id, n[rule_id], k[rule_id], k[rule_id] / n[rule_id], low, high,
+                                  math.fsum(promised[rule_id]) / n[rule_id]))
     return tuple(records)
+
+
+def _final_certainties(d: JudgedDiagnosis) -> dict[tuple[str, str], float]:
+    """(fault, component) -> the hypothesis's final certainty in this diagnosis (one value per hypothesis;
+    the largest stored, so the order of firings does not matter)."""
+    out: dict[tuple[str, str], float] = {}
+    for f in d.firings:
+        key = (f.fault, f.component)
+        out[key] = max(out.get(key, -1.0), f.hypothesis_certainty)
+    return out
 
 
 def top_hypothesis(d: JudgedDiagnosis) -> tuple[str, str, float] | None:
@@ -273,14 +303,16 @@ def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] | N
     if edges is None:
         edges = settings().bin_edges
     pairs: list[tuple[float, bool]] = []
-    without = missed = 0
+    without = 0
+    missed: list[str] = []
     for d in diagnoses:
         if not d.findings:
             continue
         top = top_hypothesis(d)
         if top is None:
             without += 1
-            missed += any(f.fault not in (NOTHING_FOUND,) for f in d.findings)
+            if any(f.fault not in (NOTHING_FOUND,) for f in d.findings):
+                missed.append(d.reading_id)
             continue
         fault, component, c = top
         pairs.append((min(1.0, max(0.0, c)), d.confirms(fault, component)))
@@ -294,13 +326,25 @@ def reliability(diagnoses: Iterable[JudgedDiagnosis], edges: Sequence[float] | N
         else:
             bins.append(ReliabilityBin(low, high, 0, None, None))
     brier = math.fsum((c - hit) ** 2 for c, hit in pairs) / len(pairs) if pairs else None   # fsum: any order, same sum
-    return Reliability(tuple(bins), brier, len(pairs), without, missed)
+    return Reliability(tuple(bins), brier, len(pairs), without, len(missed), tuple(sorted(missed)))
+
+
+def contradicts(loaded: float, learned: float, record: RuleRecord) -> bool:
+    """Whether the record contradicts moving a weight from ``loaded`` to ``learned``: up while the rule's
+    conclusions were confirmed less often than the diagnoses' certainty promised (over-confident), or
+    down while they were confirmed more often (under-confident). Unknown promise: no contradiction."""
+    if record.promised is None or learned == loaded:
+        return False
+    return record.rate < record.promised if learned > loaded else record.rate > record.promised
 
 
 def learned_weight(loaded: float, record: RuleRecord, prior_n: float | None = None,
                    cap: float | None = None, lowest: float | None = None) -> tuple[float, bool]:
-    """``(prior_n * loaded + n * rate) / (prior_n + n)``, moved at most ``cap`` from ``loaded``, kept
-    within [lowest, 1] and rounded to 0.01; with whether the cap held it back. Defaults: the shipped settings."""
+    """The posterior mean of the probability that the rule's conclusion is right when it fires, a beta
+    prior of mean ``loaded`` worth ``prior_n`` findings updated by ``k`` of ``n``:
+    ``(prior_n * loaded + k) / (prior_n + n)``, moved at most ``cap`` from ``loaded``, kept within
+    [lowest, 1] and rounded to 0.01; with whether the cap held it back. Whether the record contradicts
+    the move is ``contradicts``'s to say. Defaults: the shipped settings."""
     if prior_n is None or cap is None or lowest is None:
         shipped = settings()
         prior_n = shipped.prior_n if prior_n is None else prior_n
@@ -312,32 +356,11 @@ def learned_weight(loaded: float, record: RuleRecord, prior_n: float | None = No
     return round(min(1.0, max(lowest, moved)), 2), capped
 
 
-def _raw_rule(rule: Rule) -> dict:
-    """The rule as written in its file (the overlay replaces it whole, so it restates it)."""
-    doc = read_yaml(rule.path, RulebookError)
-    for raw in doc.data.get("rules") or []:
-        if raw.get("id") == rule.id:
-            return dict(raw)
-    raise RulebookError(f"rule {rule.id} is no longer in its file", path=str(rule.path))
-
-
-def _with_weight(raw: dict, weight: float | None, source: str, record: RuleRecord) -> dict:
-    """The rule restated with the learned ``weight`` (None: its own), the counts as its source and its
-    ``site_record`` (confirmed k of n judged), which a diagnosis made with the overlay shows in its trail."""
-    out = {"id": raw["id"], "overrides": True}
-    out.update((key, value) for key, value in raw.items() if key not in ("id", "overrides", "site_record"))
-    out["source"] = source
-    out["site_record"] = {"confirmed": record.k, "judged": record.n}
-    if weight is not None:
-        spec = raw["certainty"]
-        out["certainty"] = {**spec, "weight": weight} if isinstance(spec, dict) else weight
-    return out
-
-
 def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, prior_n: float | None = None,
                     cap: float | None = None, least_n: int | None = None,
                     name: str = "learned from site findings") -> Proposal:
-    """A site overlay moving each supporting rule's weight toward its hit rate at the site.
+    """A site overlay of learned weights: each supporting rule's weight moved to the shrunk estimate of
+    the probability its conclusion is right when it fires, unless the record contradicts the move.
 
     ``rulebook`` is what the diagnoses were made with (shipped plus any site overlays); the overlay
     is meant to be loaded after those (``load_rulebook(site, learned)``). A rule the rulebook no
@@ -351,7 +374,7 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
     if prior_n <= 0 or cap <= 0 or least_n < 1:
         raise ValueError("prior_n and cap must be positive and least_n at least 1")
     loaded = {r.id: r for r in rulebook.rules}
-    changes, too_little, unchanged, not_learned = [], [], [], []
+    changes, too_little, unchanged, not_learned, held = [], [], [], [], []
     for record in rule_records(diagnoses):
         rule = loaded.get(record.rule_id)
         if rule is None:
@@ -375,10 +398,12 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
         weight, capped = learned_weight(rule.weight, record, prior_n, cap, given.lowest_weight)
         if weight == round(rule.weight, 2):
             unchanged.append(record)
+        elif contradicts(round(rule.weight, 2), weight, record):
+            held.append(record)
         else:
             changes.append(WeightChange(rule.id, record, rule.weight, weight, capped))
-    text = _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name)
-    return Proposal(tuple(changes), tuple(too_little), tuple(unchanged), tuple(not_learned), text)
+    text = _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name, held)
+    return Proposal(tuple(changes), tuple(too_little), tuple(unchanged), tuple(not_learned), text, tuple(held))
 
 
 def record_words(record: RuleRecord) -> str:
@@ -391,41 +416,41 @@ def _one_line(text: str) -> str:
     return " ".join(str(text).split())
 
 
-def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name) -> str:
-    head = [f"# {_one_line(name)}: proposed, not applied. Review before passing it with --site.",
-            "# Each weight moved from the loaded weight toward the site's hit rate, the loaded weight",
-            f"# counting as {prior_n:g} findings, moved at most {cap:g}; the shipped rulebooks are unchanged.",
+def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, cap, least_n, name,
+                  held=()) -> str:
+    head = [f"# {_one_line(name)}: proposed, not applied. Review before passing it with --site, after the",
+            "# site folders the diagnoses were made with. It carries only what was learned: each entry's weight",
+            "# and site record are laid onto the rule as loaded then; an entry whose rule has changed since",
+            "# (learned_against) is not applied, and tellwave says so. Each weight is the estimated probability",
+            f"# that the rule's conclusion is right when it fires: the loaded weight worth {prior_n:g} findings,",
+            f"# updated by the site's record, moved at most {cap:g}. The shipped rulebooks are unchanged.",
             ]
     for title, records in ((f"too little evidence (fewer than {least_n} judged firings)", too_little),
-                           ("unchanged (the learned weight rounds to the loaded one)", unchanged)):
+                           ("unchanged (the learned weight rounds to the loaded one)", unchanged),
+                           ("held (the record contradicts the move: its conclusions were confirmed "
+                            "less often than promised, or more)", held)):
         if records:
             head.append(f"# {title}:")
-            head += [f"#   {_one_line(r.rule_id)}: {record_words(r)}" for r in records]
+            head += [f"#   {_one_line(r.rule_id)}: {record_words(r)}" + _promised_words(r) for r in records]
     if not_learned:
         head.append("# not learned:")
         head += [f"#   {_one_line(rule_id)}: {why}" for rule_id, why in not_learned]
-    rules = []
-    raw_of: dict[str, dict] = {}
-    # every judged rule is restated with its site record, so that a diagnosis made with the overlay says
-    # what repairs at this site found of it, even while its weight waits for more evidence
-    few = {r.rule_id for r in too_little}
-    restated = ([(c.rule_id, c.record, c) for c in changes] + [(r.rule_id, r, None) for r in unchanged]
-                + [(r.rule_id, r, None) for r in too_little])
-    for rule_id, record, c in sorted(restated, key=lambda item: item[0]):
-        rule = loaded[rule_id]
-        if c is None and rule_id in few:
-            moved = f"weight {rule.weight:g} kept: too little evidence (fewer than {least_n} judged firings)"
-        elif c is None:
-            moved = f"weight {rule.weight:g} kept (prior worth {prior_n:g} findings)"
-        else:
-            held = f", move capped at {cap:g}" if c.capped else ""
-            moved = f"weight {c.loaded_weight:g} -> {c.learned_weight:g} (prior worth {prior_n:g} findings{held})"
-        source = f"site findings: {record_words(record)}; {moved}; rule as in {rule.origin}: {rule.source}"
-        if rule.id not in raw_of:
-            raw_of[rule.id] = _raw_rule(rule)
-        rules.append(_with_weight(raw_of[rule.id], None if c is None else c.learned_weight, source, record))
+    entries = []
+    for c in sorted(changes, key=lambda c: c.rule_id):
+        rule = loaded[c.rule_id]
+        capped = f", move capped at {cap:g}" if c.capped else ""
+        source = (f"site findings: {record_words(c.record)}{_promised_words(c.record)}; weight {c.loaded_weight:g} -> "
+                  f"{c.learned_weight:g} (prior worth {prior_n:g} findings{capped}), learned against {rule.origin}")
+        entries.append({"rule": c.rule_id, "weight": c.learned_weight,
+                        "site_record": {"confirmed": c.record.k, "judged": c.record.n},
+                        "learned_against": rule.fingerprint, "source": source})
     body: dict = {"rulebook": name,
                   "about": "Rule weights learned from what was found at repair at this site."}
-    if rules:
-        body["rules"] = rules
+    if entries:
+        body["learned"] = entries
     return "\n".join(head) + "\n" + yaml.safe_dump(body, sort_keys=False, allow_unicode=True, width=100)
+
+
+def _promised_words(record: RuleRecord) -> str:
+    """``, promised 70 %``: the mean certainty the diagnoses gave its conclusions, when known."""
+    return "" if record.promised is None else f", promised {100 * record.promised:.0f} %"

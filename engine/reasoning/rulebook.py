@@ -12,7 +12,11 @@ each reported as one line naming the file, the line and the rule:
 3. the overlay: a site file may add rules, replace a loaded rule of the same
    id (``overrides: true``), switch one off (``disable:``) or change a named
    parameter in one line (``parameters: {name: value}``); anything else that
-   reuses an id is an error.
+   reuses an id is an error. A learned overlay (``tellwave learn``) carries only
+   ``learned:`` entries: a rule's weight and site record, laid onto the rule as it
+   is loaded now; an entry learned against a rule that has changed since (its
+   conditions, conclusion or grading: ``learned_against``) is not applied, and
+   the rulebook's ``notes`` say so, naming the file and the rule.
 
 A ``because`` sentence names values as ``{alias.field}`` without a format:
 the report formats each by its unit (``engine.common.units.format_quantity``).
@@ -21,6 +25,7 @@ the report formats each by its unit (``engine.common.units.format_quantity``).
 from __future__ import annotations
 
 import difflib
+import hashlib
 import math
 import re
 import string
@@ -71,6 +76,8 @@ class Parameter:
     path: str               # the file that declared it, as labelled (see ``rulebook_labels``)
     changed_by: tuple[str, ...] = ()    # overlays that changed its value, in order, as labelled
     declared_value: float | None = None  # its value where it was declared, when an overlay changed it
+    file: str = ""          # the declaring file's path, for messages
+    line: int | None = None
 
 
 @dataclass(frozen=True)
@@ -150,6 +157,15 @@ class Rule:
     label: str = ""                  # the file as reports name it (see ``rulebook_labels``)
     explains: tuple[str, ...] = ()   # aliases of the needed facts whose signs the conclusion explains
     site_record: tuple[int, int] | None = None   # (confirmed, judged) at repair at the site (tellwave learn)
+    learned_by: str | None = None    # the learned overlay (as labelled) whose weight this rule carries
+
+    @property
+    def fingerprint(self) -> str:
+        """What a learned weight was learned against: everything that decides when the rule fires and what
+        it concludes (needs, none_of, conclusion, grading, parameters' values), not its weight or words."""
+        what = (self.needs, self.none_of, self.fault, self.component, self.stage, self.derives,
+                self.derived_fields, self.ramps, self.explains, self.weight > 0)
+        return hashlib.sha256(repr(what).encode("utf-8")).hexdigest()[:12]
 
     @property
     def origin(self) -> str:
@@ -196,6 +212,7 @@ class Rulebook:
     disabled: dict[str, tuple[str, str]] = field(default_factory=dict)   # id -> (reason, file as labelled)
     parameters: dict[str, Parameter] = field(default_factory=dict)
     units: ShownUnits = ShownUnits()   # the units reports show: the last overlay's ``units:`` wins
+    notes: tuple[str, ...] = ()      # what loading left undone and the user should know (``file: rule X: ...``)
 
     def rule(self, rule_id: str) -> Rule:
         """The rule of this id (KeyError if none)."""
@@ -241,20 +258,23 @@ def rulebook_labels(*places, shipped: bool = True) -> list[tuple[Path, str]]:
     """Each rulebook file to load, in order, with the name reports give it.
 
     Reports name a file relative to its rulebook folder, never by where it is
-    installed: ``bearings.yaml`` for a shipped file, ``site/NAME.yaml`` for an
-    overlay (NAME is the file's name in the folder given, or the file given).
-    Two overlays that would share a name are told apart by the place's
-    number: ``site2/NAME.yaml``.
+    installed: ``bearings.yaml`` for a shipped file, ``FOLDER/NAME.yaml`` for an
+    overlay (FOLDER is the name of the folder given, or of the folder holding
+    the file given: ``site/pumps.yaml``, ``learned/learned.yaml``). Two overlays
+    that would share a label are told apart by the place's number:
+    ``learned2/learned.yaml``.
     """
     out: list[tuple[Path, str]] = []
     if shipped:
         out += [(f, Path(f).name) for f in rulebook_files(SHIPPED)]    # a folder's files are its own children
     taken = {label for _, label in out}
     for n, place in enumerate(places, start=1):
+        folder = Path(place) if Path(place).is_dir() else Path(place).parent
+        name = folder.absolute().name or SITE_LABEL
         for f in rulebook_files(place):
-            label = f"{SITE_LABEL}/{Path(f).name}"
+            label = f"{name}/{Path(f).name}"
             if label in taken:
-                label = f"{SITE_LABEL}{n}/{Path(f).name}"
+                label = f"{name}{n}/{Path(f).name}"
             taken.add(label)
             out.append((f, label))
     return out
@@ -284,6 +304,9 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
         _collect_catalogue(doc, faults, derived, problems)
         _collect_parameters(doc, parameters, label_of[id(doc)], problems)
     rules: dict[str, Rule] = {}
+    built: list[Rule] = []            # every rule built, overridden and disabled ones too: what reads a parameter
+    notes: list[str] = []
+    shipped_count = len(rulebook_files(SHIPPED)) if shipped else 0
     broken: set[str] = set()          # ids of rules refused above: no second error for overriding them
     disabled: dict[str, tuple[str, str]] = {}
     for doc in docs:
@@ -301,22 +324,29 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
                                             path=doc.path, line=rule.line, rule_id=rule.id)
                     previous = rules[rule.id]
                     rule = replace(rule, replaced=previous.replaced + (previous.label,))
+                    if rule.site_record is not None:     # written whole by an earlier tellwave learn
+                        notes.append(f"{rule.origin}: rule {rule.id}: a learned copy of the whole rule replaces "
+                                     f"{previous.origin}, so later edits there are masked; learn again for an overlay "
+                                     "that carries the weight only")
             except RulebookError as exc:
                 problems.append(exc)
                 broken.add(raw["id"])
                 continue
             rules[rule.id] = rule
+            built.append(rule)
         for j, entry in enumerate(doc.data.get("disable") or []):
             rid = entry["rule"]
             if rid not in rules:
                 if rid not in broken:
-                    problems.append(RulebookError(f"disable: no loaded rule has id {rid!r}", path=doc.path,
-                                                  line=doc.line_of(["disable", j])))
+                    problems.append(RulebookError(f"disable: no loaded rule has id {rid!r}{_near(rid, rules)}",
+                                                  path=doc.path, line=doc.line_of(["disable", j])))
                 continue
             disabled[rid] = (entry["reason"], label_of[id(doc)])
             del rules[rid]
+        notes += _apply_learned(doc, label_of[id(doc)], rules, disabled)
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
     problems += _check_derived_values(ordered)
+    problems += _check_parameters_read(parameters, built, {label for _, label in placed[:shipped_count]})
     if problems:
         raise problems[0] if len(problems) == 1 else RulebookProblems(problems)
     _check_no_derivation_cycle(ordered)
@@ -324,7 +354,62 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     for doc in docs:      # checked by the schema: names from engine/common/units.py
         said = doc.data.get("units") or {}
         units = shown_units(said.get("frequency"), said.get("velocity"), base=units)
-    return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters, units)
+    return Rulebook(ordered, faults, derived, tuple(label for _, label in placed), disabled, parameters, units,
+                    tuple(notes))
+
+
+def _near(name: str, known) -> str:
+    """``; did you mean NAME?`` for the closest of ``known`` to a mistyped ``name``, or nothing."""
+    near = difflib.get_close_matches(str(name), sorted(known), n=1, cutoff=0.75)
+    return f"; did you mean {near[0]!r}?" if near else ""
+
+
+def _apply_learned(doc, label: str, rules: dict[str, Rule], disabled) -> list[str]:
+    """Lay a learned overlay's ``learned:`` entries onto the rules as loaded now: the weight and the
+    site record only. An entry whose rule is gone, or has changed since it was learned (its
+    ``learned_against`` differs from the rule's fingerprint), is left unapplied and noted."""
+    notes = []
+    for j, entry in enumerate(doc.data.get("learned") or []):
+        rid = entry["rule"]
+        line = doc.line_of(["learned", j])
+        where = f"{label}:{line}" if line else label
+        rule = rules.get(rid)
+        if rule is None:
+            why = (f"it is switched off by {disabled[rid][1]}" if rid in disabled
+                   else f"no loaded rule has this id{_near(rid, rules)} (pass the site folders it was learned with "
+                        "before it)")
+            notes.append(f"{where}: rule {rid}: learned weight not applied: {why}")
+            continue
+        if entry["learned_against"] != rule.fingerprint:
+            notes.append(f"{where}: rule {rid}: learned weight not applied: the rule ({rule.origin}) has changed "
+                         "since it was learned; learn again with the rulebooks the diagnoses are now made with")
+            continue
+        k, n = entry["site_record"]["confirmed"], entry["site_record"]["judged"]
+        if k > n:
+            raise RulebookError(f"rule {rid}: site_record: confirmed {k} of {n} judged; a rule cannot be confirmed "
+                                "more often than it was judged", path=doc.path, line=line)
+        if (entry["weight"] > 0) != (rule.weight > 0):
+            raise RulebookError(f"rule {rid}: learned weight {entry['weight']:g} has the other sign from the rule's "
+                                f"{rule.weight:g}", path=doc.path, line=line)
+        rules[rid] = replace(rule, weight=float(entry["weight"]), site_record=(k, n), learned_by=label,
+                             source=f"{entry['source']}; {rule.source}")
+    return notes
+
+
+def _check_parameters_read(parameters: dict[str, Parameter], rules, shipped_labels) -> list[RulebookError]:
+    """A parameter a site file declares that no rule reads changes nothing: most often a mistyped name
+    of a shipped one. (The shipped files' parameters that Python reads, learning_* and the like, are
+    declared in the shipped files.)"""
+    read = {name for r in rules for p in r.needs + r.none_of for c in p.conditions for name in c.params}
+    read |= {name for r in rules for ramp in r.ramps for name in ramp.params}
+    problems = []
+    for name, p in sorted(parameters.items()):
+        if p.path in shipped_labels or name in read:
+            continue
+        shipped = [q for q, x in parameters.items() if x.path in shipped_labels]
+        problems.append(RulebookError(f"parameters.{name}: no rule reads it, so it changes nothing"
+                                      f"{_near(name, shipped)}", path=p.file or p.path, line=p.line))
+    return problems
 
 
 class RulebookProblems(RulebookError):
@@ -487,6 +572,11 @@ def _collect_parameter(doc, parameters: dict[str, Parameter], label: str, name: 
     line = doc.line_of(["parameters", name])
     spec = raw if isinstance(raw, dict) else {"value": raw}
     value = spec["value"]
+    known = parameters.get(name)
+    problem = unit_written(value, known.unit if known else spec.get("unit", ""), f"parameters.{name}")
+    if problem:
+        raise RulebookError(problem.replace(f"{value!r}: ", f"parameters.{name}: {value!r}: ", 1).replace(
+            f"; parameters.{name} is in", "; it is in", 1), path=doc.path, line=line)
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
         raise RulebookError(f"parameters.{name}: {value!r} is not a finite number", path=doc.path, line=line)
     if value != 0 and not SMALLEST_NUMBER <= abs(value) < LARGEST_NUMBER:
@@ -496,8 +586,11 @@ def _collect_parameter(doc, parameters: dict[str, Parameter], label: str, name: 
     if name in parameters:
         before = parameters[name]
         if "unit" in spec and spec["unit"] != before.unit:
+            shown = unit_written(f"{value} {spec['unit']}", before.unit, "it") or ""
+            converted = shown[shown.find(" (") :] if " (" in shown else ""
             raise RulebookError(f"parameters.{name}: unit {spec['unit']!r} differs from {before.unit!r} "
-                                f"declared in {before.path}", path=doc.path, line=line)
+                                f"declared in {before.path}; write the value in {before.unit or 'its unit'}{converted}",
+                                path=doc.path, line=line)
         parameters[name] = replace(before, value=float(value), source=spec.get("source", before.source),
                                    changed_by=before.changed_by + (label,),
                                    declared_value=(before.value if before.declared_value is None
@@ -506,8 +599,10 @@ def _collect_parameter(doc, parameters: dict[str, Parameter], label: str, name: 
     missing = [k for k in ("unit", "about", "source") if k not in spec]
     if missing:
         raise RulebookError(f"parameters.{name}: no earlier rulebook declares it, so it needs "
-                            f"{', '.join(missing)} as well as its value", path=doc.path, line=line)
-    parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], label)
+                            f"{', '.join(missing)} as well as its value{_near(name, parameters)}",
+                            path=doc.path, line=line)
+    parameters[name] = Parameter(name, float(value), spec["unit"], spec["about"], spec["source"], label,
+                                 file=str(doc.path), line=line)
 
 
 def _kind_fields(kind: str, derived) -> dict[str, F]:
@@ -568,6 +663,34 @@ def _check_derived_values(rules) -> list[RulebookError]:
                 problems.append(RulebookError(f"{_never(kind, name, wrong[0], allowed)} (as the rules that "
                                               f"derive {kind} give it)", path=r.path, line=r.line, rule_id=r.id))
     return problems
+
+
+_WITH_UNIT = re.compile(r"^\s*(?P<x>[-+]?(?:\d+(?:\.\d*)?|\.\d+))\s*(?P<unit>[^\d\s*.].*?)\s*$")
+
+
+def unit_written(text, unit: str, what: str) -> str | None:
+    """The problem of a number written with a unit (``'0.08 in/s'``) where a rule or parameter takes the
+    number alone, in ``unit`` (the field's or parameter's own): None when ``text`` is not one. Says the
+    value in ``unit`` when the conversion is exact (in/s to mm/s: 1 in = 25.4 mm; a line's peak is
+    sqrt(2) x its RMS, engine/common/units.py)."""
+    m = _WITH_UNIT.match(text) if isinstance(text, str) else None
+    if m is None:
+        return None
+    x, said = float(m["x"]), m["unit"].lower()
+    problem = (f"{text!r}: units are not written here; {what} is in {unit or 'its own unit (see tellwave rulebook '}"
+               + ("" if unit else "vocabulary or parameters)") + ": write the number alone")
+    if unit.startswith("mm/s") and said.startswith("mm/s") and ("peak" in said or "pk" in said):
+        problem += f" ({x:g} mm/s peak of one line is {x / math.sqrt(2):.3g} mm/s RMS)"
+    elif unit.startswith("mm/s") and "in/s" in said:
+        mm_s = x * 25.4
+        if "peak" in said or "pk" in said:
+            problem += f" ({x:g} in/s peak of one line is {mm_s / math.sqrt(2):.3g} mm/s RMS)"
+        elif "rms" in said:
+            problem += f" ({x:g} in/s RMS is {mm_s:.3g} mm/s RMS)"
+        else:
+            problem += (f" ({x:g} in/s RMS is {mm_s:.3g} mm/s RMS; {x:g} in/s peak of one line is "
+                        f"{mm_s / math.sqrt(2):.3g} mm/s RMS)")
+    return problem
 
 
 def _literal_hint(numeric: bool) -> str:
@@ -648,9 +771,15 @@ class _RuleChecker:
     def condition(self, fields, name, spec, *where) -> Condition:
         self.used = []
         if name not in fields:
-            self.fail(f"field {name!r} is not in this fact kind (fields: {', '.join(sorted(fields))})", *where)
+            self.fail(f"field {name!r} is not in this fact kind (fields: {', '.join(sorted(fields))})"
+                      f"{_near(name, fields)}", *where)
         ftype = fields[name][0]
         op, value = ("is", spec) if not isinstance(spec, dict) else next(iter(spec.items()))
+        if op in ("between", *COMPARISONS):
+            for v in (value if op == "between" and isinstance(value, list) else [value]):
+                problem = unit_written(v, fields[name].unit, name)
+                if problem:
+                    self.fail(problem, *where)
         if op in COMPARISONS:
             if ftype not in NUMERIC:
                 self.fail(f"{op}: {name} is a {ftype}, not a number", *where)
@@ -745,6 +874,11 @@ class _RuleChecker:
             value = self.ref(r["value"], *where, numeric=True)
             if not isinstance(value, Ref):
                 self.fail("grade_by: 'value' must be a measured value (alias.field), not a parameter", *where)
+            for end in ("from", "to"):
+                unit = self.aliases[value.alias][value.field].unit if value.alias else ""
+                problem = unit_written(r[end], unit, f"grade_by {end}")
+                if problem:
+                    self.fail(problem, *where, end)
             start, full = self.number(r["from"], *where), self.number(r["to"], *where)
             if start == full:
                 self.fail("grade_by: 'from' and 'to' must differ", *where)
@@ -813,8 +947,8 @@ class _RuleChecker:
             named = list(fault["map"].values()) if isinstance(fault, dict) else [fault]
             for f in named:
                 if f not in self.faults:
-                    self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})",
-                              "concludes", "fault")
+                    self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})"
+                              f"{_near(f, self.faults)}", "concludes", "fault")
             if isinstance(fault, dict):
                 source = self.ref(fault["from"], "concludes", "fault", "from")
                 if source.alias is not None:

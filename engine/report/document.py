@@ -83,6 +83,20 @@ def _firing(f: Firing, shown: _Shown | None = None) -> dict:
     return out
 
 
+def _site_record_line(shown: list[Hypothesis]) -> str | None:
+    """One line under the answer when a listed hypothesis rests on weights learned from the site's findings
+    at repair (a learned overlay): which rules, and how often repairs confirmed each; None otherwise."""
+    said: dict[str, tuple[int, int]] = {}
+    for h in shown:
+        for f in h.support:
+            if f.site_record is not None:
+                said.setdefault(f.rule_id, f.site_record)
+    if not said:
+        return None
+    told = "; ".join(f"{rule} confirmed {k} of {n}" for rule, (k, n) in sorted(said.items()))
+    return f"weights learned from this site's findings at repair were applied ({told})"
+
+
 def _explained_by(h: Hypothesis) -> list[dict]:
     return [{"fault": x.fault, "fault_name": x.fault_name, "component": x.component, "share": round(x.share, 3)}
             for x in h.explained_by]
@@ -385,7 +399,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
                     "urgency": _urgency(advice.urgency), "urgency_raised_by": _raises(advice.raised_by),
                     "severity_known": scale["trusted"],
-                    "scale_note": scale["text"]},
+                    "scale_note": scale["text"], "site_record": _site_record_line(shown)},
         "scale": scale,
         "hypotheses": [_hypothesis(i + 1, h, recs[(h.fault, h.component)], worded) for i, h in enumerate(shown)],
         "oil_analysis": _oil_analysis(shown, recs),

@@ -141,6 +141,15 @@ def test_an_overlay_learned_at_the_site_loads_and_its_record_shows_in_every_form
     assert shown and all(f["site_record"]["confirmed"] == k[f["rule"]] and f["site_record"]["judged"] == n[f["rule"]]
                          for f in shown)
     jsonschema.validate(doc, load_schema("report.schema.json"))
+    # the answer says, in one line, when a listed hypothesis rests on weights learned from the site's record
+    learned_support = sorted({f["rule"] for h in doc["hypotheses"] for f in h["support"] if "site_record" in f})
+    if learned_support:
+        line = doc["verdict"]["site_record"]
+        assert line.startswith("weights learned from this site's findings at repair were applied")
+        assert all(f"{rule} confirmed {k[rule]} of {n[rule]}" in line for rule in learned_support)
+        assert line in (work / "next.text").read_text(encoding="utf-8")
+    else:
+        assert doc["verdict"]["site_record"] is None
     # learning again over the learned overlay would count the same findings twice: refused, nothing written
     err = one_error_line(capsys, 2, ["learn", "--store", work / "h.sqlite", "--site", site, "--site", learned,
                                      "--overlay", work / "again.yaml"])
@@ -250,3 +259,12 @@ def test_a_site_setting_that_makes_no_sense_names_the_parameter(work, capsys):
     (work / "site" / "few.yaml").write_text("rulebook: odd\nparameters: {learning_move_cap: 2}\n", encoding="utf-8")
     err = one_error_line(capsys, 5, ["learn", "--store", work / "h.sqlite", "--site", work / "site"])
     assert "learning_move_cap" in err and "few.yaml" in err
+
+
+def test_learning_without_the_site_overlay_the_diagnoses_used_says_so(work, capsys):
+    with Store(work / "h.sqlite") as s:
+        s.db.execute("UPDATE firings SET rule_id = 'site.pump.own-rule' WHERE rule_id = 'bearing.defect.envelope'")
+    assert main(["learn", "--store", str(work / "h.sqlite")]) == 0
+    out = capsys.readouterr().out
+    assert "rule(s) the diagnoses used are not in the rulebooks loaded (site.pump.own-rule)" in out
+    assert "learning ran on the shipped rulebooks alone; pass --site" in out

@@ -86,9 +86,10 @@ def test_the_component_must_be_in_the_machine_file_the_reading_was_diagnosed_wit
     machine_file = str(ROOT / "cases" / "machines" / "rw2-raw-water-pump.yaml")
     with Store(tmp_path / "h.sqlite") as s:
         rid = s.add(dict(record(1), machine_file=machine_file))
-        with pytest.raises(FindingError, match="'gearbox' is not in the machine file.*pump_de"):
+        with pytest.raises(FindingError, match="'gearbox' is not in the machine file.*pump_de") as err:
             add(s, [(None, make(component="gearbox", fault="unbalance", date_text="2026-01-20", reading=str(rid)))],
                 FAULTS)
+        assert "coupling" in str(err.value).split("its components are ")[1].split(", ")   # couplings are components
         add(s, [(None, make(component="pump_de", fault="outer-race", date_text="2026-01-20", reading=str(rid)))],
             FAULTS)
         assert [f["component"] for f in s.findings()] == ["pump_de"]

@@ -170,7 +170,9 @@ def test_overlay_loads_and_moves_weights_as_stated(tmp_path):
         w0 = shipped.rule(rule_id).weight
         expected = round(w0 + max(-0.3, min(0.3, (20 * w0 + r.n * r.rate) / (20 + r.n) - w0)), 2)
         assert learned.rule(rule_id).weight == expected == change.learned_weight
-        assert learned.rule(rule_id).replaced == (shipped.rule(rule_id).label,)
+        # the overlay carries the weight only: the rule stays the shipped one, in its own file
+        assert learned.rule(rule_id).replaced == () and learned.rule(rule_id).origin == shipped.rule(rule_id).origin
+        assert learned.rule(rule_id).learned_by == "learned/learned.yaml"
         assert learned.rule(rule_id).source.startswith(
             f"site findings: confirmed {r.k} of {r.n} (Wilson 95 % {r.low:.2f}-{r.high:.2f})")
         # everything but the weight and the source is the shipped rule
@@ -197,7 +199,9 @@ def test_overlay_goes_over_a_site_overlay(tmp_path):
     rule = learned.rule("shaft.unbalance.radial-1x")
     assert rule.needs == site.rule("shaft.unbalance.radial-1x").needs     # the site's narrowed rule kept
     assert rule.weight == next(c.learned_weight for c in proposal.changes if c.rule_id == rule.id)
-    assert rule.replaced[-1] == "site/tallow-ridge.yaml"
+    # the weight is laid onto the site's rule, which stays the site's (its file, its conditions)
+    assert rule.label == "site/tallow-ridge.yaml" and rule.replaced == ("shaft.yaml",)
+    assert rule.learned_by == "learned/learned.yaml"
 
 
 def test_three_findings_change_nothing_and_still_load(tmp_path):
@@ -208,11 +212,11 @@ def test_three_findings_change_nothing_and_still_load(tmp_path):
     proposal = propose_overlay(diagnoses, load_rulebook())
     assert proposal.changes == ()
     assert [r.rule_id for r in proposal.too_little] == ["gear.tooth.once-per-rev", "shaft.unbalance.radial-1x"]
+    # a rule whose weight is kept is not written: the overlay carries only what was learned
+    assert "\nlearned:" not in proposal.text and "shaft.unbalance.radial-1x: confirmed 2 of 2" in proposal.text
     learned = _load_overlay(tmp_path, proposal.text)
     assert learned.rule("shaft.unbalance.radial-1x").weight == 0.6
-    # still restated with what the site found, so a diagnosis with the overlay can say it
-    assert learned.rule("shaft.unbalance.radial-1x").site_record == (2, 2)
-    assert learned.rule("gear.tooth.once-per-rev").site_record == (0, 1)
+    assert learned.rule("shaft.unbalance.radial-1x").site_record is None
     assert learned.rule("gear.tooth.once-per-rev").weight == load_rulebook().rule("gear.tooth.once-per-rev").weight
     assert reliability(diagnoses).brier == pytest.approx((0.4 ** 2 + 0.4 ** 2 + 0.7 ** 2) / 3)
 
@@ -280,3 +284,10 @@ def test_rule_ids_the_rulebook_lacks_are_listed_on_one_comment_line(tmp_path):
     assert proposal.not_learned == ((odd, "not in the rulebook loaded"),)
     assert "#   gone.rule rules: [oops]: not in the rulebook loaded" in proposal.text
     assert len(_load_overlay(tmp_path, proposal.text).rules) == len(load_rulebook().rules)
+
+
+def test_the_missed_readings_are_named():
+    diagnoses = [_d("7", [], [("pump-1", "unbalance")]), _d("3", [], [("pump-1", NOTHING_FOUND)]),
+                 _d("5", [], [("motor", "outer-race")])]
+    table = reliability(diagnoses)
+    assert (table.without_hypothesis, table.missed, table.missed_readings) == (3, 2, ("5", "7"))

@@ -108,6 +108,18 @@ def test_rulebook_explain_unknown_rule_is_one_line(capsys):
     assert err.count("\n") == 1 and "did you mean" in err
 
 
+def test_rulebook_explain_says_a_field_by_its_unit_not_its_spelling(capsys):
+    assert main(["rulebook", "explain", "shaft.unbalance.radial-1x"]) == 0
+    out = capsys.readouterr().out
+    assert "amplitude (mm/s) is at least 1.40 mm/s RMS" in out and "amplitude mm s" not in out
+
+
+def test_rulebook_explain_of_a_site_rule_without_site_points_to_site(capsys):
+    assert main(["rulebook", "explain", "site.fan.hub-loose-axial-1x"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "pass its folder with --site" in err
+
+
 @pytest.mark.slow
 def test_rulebook_test_runs_the_casebook_with_the_site_overlay(capsys):
     assert main(["rulebook", "test", str(ROOT / "cases/demo"), "--site", str(ROOT / "cases/site")]) == 0

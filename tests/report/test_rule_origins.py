@@ -52,6 +52,12 @@ def test_4_site_overlay_rules_are_named_site_slash_file(tmp_path):
     other.mkdir()
     (other / "tallow-ridge.yaml").write_text("rulebook: more\nrules: []\n")
     book = load_rulebook(site / "tallow-ridge.yaml", other)
+    assert book.files[-2:] == ("site/tallow-ridge.yaml", "more/tallow-ridge.yaml")     # each by its own folder
+    # two folders of one name are told apart by the place's number
+    same = tmp_path / "again" / "site"
+    same.mkdir(parents=True)
+    (same / "tallow-ridge.yaml").write_text("rulebook: more\nrules: []\n")
+    book = load_rulebook(site, same)
     assert book.files[-2:] == ("site/tallow-ridge.yaml", "site2/tallow-ridge.yaml")
 
 
