@@ -17,7 +17,13 @@ def test_9_the_envelope_plot_marks_solid_only_families_whose_fundamental_was_fou
     d = case_diagnosis("rw2-pump-nde-outer-race")
     labels = [m.label for m in _matched_harmonics(d.evidence, shown(d.plots, d.reasoning, d.evidence, d.machine))]
     # no BPFI or 2xBSF without a line; the fundamental names its bearing though it is the one in view
-    assert labels == ["BPFO pump_nde", "2xBPFO", "3xBPFO", "4xBPFO", "5xBPFO"], labels
+    assert labels[:5] == ["BPFO pump_nde", "2xBPFO", "3xBPFO", "4xBPFO", "5xBPFO"], labels
+    # any other family marked is one whose fundamental the envelope found at that bearing (a weak cage line
+    # can be found in this reading's envelope; it is marked because it was found, not because it was expected)
+    found = {f"{f['defect']} {f['component']}" for f in d.evidence.fact_list
+             if f["kind"] == "envelope_tone" and f["harmonics_found"] and f.get("fundamental_owned")}
+    assert all(x in found for x in labels[5:]), (labels, found)
+    assert not any(x.startswith(("BPFI", "2xBSF")) for x in labels), labels
     gear = case_diagnosis("ct1-bevel-tooth")         # a gear's plot shows several bearings: each names its own
     labels = [m.label for m in _matched_harmonics(gear.evidence, shown(gear.plots, gear.reasoning, gear.evidence,
                                                                         gear.machine))]
