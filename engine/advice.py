@@ -233,9 +233,15 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
         todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
         oil = _oil_tests(machine, h.family, data)
     candidates = [urgencies[todo["urgency"]]]
+    own = fault_measure(h, data)
     if h.stage is not None:       # stages are told by patterns, which no scale changes
         candidates.append(urgencies[data["stage_urgency"][h.stage]])
         severity = f"damage stage {h.stage} of 4: {data['stages'][h.stage]}"
+    elif own is not None:         # the fault's own measure: a ratio, which no scale changes either
+        candidates.append(urgencies[own.urgency])
+        condition = (scale.severity if scale is not None
+                     else f"ISO 20816-3 zone {worst}" if worst else "no overall level available")
+        severity = f"{own.grade} ({own.measure}); the machine's overall condition: {condition}"
     elif scale is not None:
         severity = scale.severity + (f" (channels the quality gates did not doubt: ISO 20816-3 zone {worst})"
                                      if worst else "")
@@ -250,6 +256,36 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
     return Recommendation(h, severity, urgency, tuple(todo["actions"]) + tuple(extra.get("actions", ())),
                           tuple(todo["spares"]) + tuple(extra.get("spares", ())),
                           tuple(todo["confirm"]) + tuple(extra.get("confirm", ())), oil)
+
+
+@dataclass(frozen=True)
+class FaultMeasure:
+    """A hypothesis graded by its fault's own measure (``fault_severity`` in rulebooks/advice/):
+    the band's grade, the least urgency it asks, and the measure in words."""
+
+    grade: str
+    urgency: str
+    measure: str
+    value: float
+
+
+def fault_measure(h: Hypothesis, data: dict) -> FaultMeasure | None:
+    """The band of the fault's own measure that the worst (largest) value among the hypothesis's
+    supporting facts falls in; None when the fault has no such scale or no supporting fact carries it."""
+    scale = data.get("fault_severity", {}).get(h.fault)
+    if scale is None:
+        return None
+    values = [f[scale["field"]] for firing in h.support for _, f in firing.facts
+              if f.get("kind") == scale["fact"] and isinstance(f.get(scale["field"]), (int, float))]
+    if not values:
+        return None
+    value = max(values)
+    band = scale["bands"][0]
+    for b in scale["bands"]:
+        if value >= b["at_least"]:
+            band = b
+    words = scale["measure"].format(value=f"{value:.3g}", depth=f"{-value:.0f}")
+    return FaultMeasure(band["grade"], band["urgency"], words, value)
 
 
 def _coupling_advice(machine: Machine, component: str | None, data: dict) -> dict:
