@@ -191,9 +191,13 @@ def _urgencies(data) -> dict[str, Urgency]:
     return {u["id"]: Urgency(u["id"], u["label"], u["within"], i) for i, u in enumerate(data["urgency"])}
 
 
-def _oil_tests(machine: Machine, family: str, data: dict) -> tuple[OilTest, ...]:
+def _oil_tests(machine: Machine, family: str, data: dict, component: str | None = None) -> tuple[OilTest, ...]:
     policy = data["oil_follow_up"].get(family)
     if policy is None or (policy["lubrication"] != "any" and machine.lubrication not in policy["lubrication"]):
+        return ()
+    # a coupling (a disc-pack drive shaft, say) runs outside any oil-lubricated housing: no oil sample sees it
+    if policy.get("on_couplings") is False and component and hasattr(machine, "coupling") \
+            and machine.coupling(component) is not None:
         return ()
     tests = data["oil_tests"]
     return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"]) for t in policy["tests"])
@@ -231,7 +235,7 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
         todo, oil = _site_todo(site_advice[h.fault], machine, h.family, data)
     else:
         todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
-        oil = _oil_tests(machine, h.family, data)
+        oil = _oil_tests(machine, h.family, data, h.component)
     candidates = [urgencies[todo["urgency"]]]
     own = fault_measure(h, data)
     if h.stage is not None:       # stages are told by patterns, which no scale changes
@@ -275,7 +279,7 @@ def fault_measure(h: Hypothesis, data: dict) -> FaultMeasure | None:
     scale = data.get("fault_severity", {}).get(h.fault)
     if scale is None:
         return None
-    values = [f[scale["field"]] for firing in h.support for _, f in firing.facts
+    values = [f[scale["field"]] for firing in (*h.support, *h.same_evidence) for _, f in firing.facts
               if f.get("kind") == scale["fact"] and isinstance(f.get(scale["field"]), (int, float))]
     if not values:
         return None
@@ -344,4 +348,22 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         limitations = tuple(f.because for h in problems for f in h.support)
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
     return Advice(scale, zones, worst, meaning, urgency, recs, tuple(settings) if reasoning.withheld else (),
-                  limitations, tuple(data["cautions"]), data["disclaimer"].strip(), checking)
+                  limitations, cautions_for(machine, recs, data), data["disclaimer"].strip(), checking)
+
+
+def machine_parts(machine: Machine) -> tuple[str, ...]:
+    """The parts of the machine that have cautions of their own: pump, fan, gearbox, belt_drive."""
+    rotors = {r.type for r in getattr(machine, "rotors", ())}
+    parts = [("pump", "impeller" in rotors), ("fan", "fan" in rotors),
+             ("gearbox", bool(getattr(machine, "gears", ()))), ("belt_drive", bool(getattr(machine, "belts", ())))]
+    return tuple(name for name, has in parts if has)
+
+
+def cautions_for(machine: Machine, recs, data: dict) -> tuple[str, ...]:
+    """The general cautions, then those of the machine's parts, then those of the recommended faults' families."""
+    out = list(data["cautions"])
+    for part in machine_parts(machine):
+        out += data.get("cautions_by_part", {}).get(part, [])
+    for rec in recs:
+        out += data.get("cautions_by_family", {}).get(rec.hypothesis.family, [])
+    return tuple(dict.fromkeys(out))
