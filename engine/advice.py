@@ -235,6 +235,8 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
         todo, oil = _site_todo(site_advice[h.fault], machine, h.family, data)
     else:
         todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
+        names = _PartNames(part_names(machine, h))
+        todo = {**todo, **{k: [line.format_map(names) for line in todo[k]] for k in ("actions", "spares", "confirm")}}
         oil = _oil_tests(machine, h.family, data, h.component)
     candidates = [urgencies[todo["urgency"]]]
     own = fault_measure(h, data)
@@ -254,11 +256,16 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
     if worst is not None and h.confident and h.family != "reading":
         candidates.append(urgencies[data["zone_urgency"][worst]])
     urgency = min(candidates, key=lambda u: u.rank)
-    if not h.confident and h.family != "reading":
-        urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
     extra = _coupling_advice(machine, h.component, data)
-    return Recommendation(h, severity, urgency, tuple(todo["actions"]) + tuple(extra.get("actions", ())),
-                          tuple(todo["spares"]) + tuple(extra.get("spares", ())),
+    actions = tuple(todo["actions"]) + tuple(extra.get("actions", ()))
+    spares = tuple(todo["spares"]) + tuple(extra.get("spares", ()))
+    if not h.confident and h.family != "reading":
+        # not yet a call: confirm first; the work and its spares only when the fault itself is urgent
+        policy = data.get("unconfirmed_work")
+        if policy is not None and urgency.rank > urgencies[policy["full_from"]].rank:
+            actions, spares = tuple(policy["actions"]), ()
+        urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
+    return Recommendation(h, severity, urgency, actions, spares,
                           tuple(todo["confirm"]) + tuple(extra.get("confirm", ())), oil)
 
 
@@ -290,6 +297,36 @@ def fault_measure(h: Hypothesis, data: dict) -> FaultMeasure | None:
             band = b
     words = scale["measure"].format(value=f"{value:.3g}", depth=f"{-value:.0f}")
     return FaultMeasure(band["grade"], band["urgency"], words, value)
+
+
+class _PartNames(dict):
+    """The names advice lines may hold in braces; an unknown name is left as written."""
+
+    def __missing__(self, key: str) -> str:
+        return "{" + key + "}"
+
+
+def part_names(machine: Machine, h: Hypothesis) -> dict[str, str]:
+    """What the machine file knows of the part a hypothesis sits on, for the advice lines:
+    ``{bearing}`` (its designation), ``{gear}`` (the gear by its shaft and tooth count) and
+    ``{belt_tension}`` (", belt tension" on a machine with a belt drive, else nothing)."""
+    names = {"belt_tension": ", belt tension" if getattr(machine, "belts", ()) else ""}
+    bearing = next((b for b in getattr(machine, "bearings", ()) if b.id == h.component), None)
+    if bearing is not None:
+        names["bearing"] = (f"bearing {bearing.model} ({bearing.id})" if bearing.model
+                            else f"bearing at {bearing.id} (the machine file names no designation)")
+    else:
+        names["bearing"] = "bearing"
+    mesh = next((g for g in getattr(machine, "gears", ()) if g.id == h.component), None)
+    if mesh is not None:
+        shafts = {f.get("shaft") for firing in h.support for _, f in firing.facts
+                  if f.get("kind") == "once_per_rev_event"}
+        sides = [(mesh.driving_shaft, mesh.driving_teeth), (mesh.driven_shaft, mesh.driven_teeth)]
+        shown = [(s, t) for s, t in sides if s in shafts] or sides
+        names["gear"] = " or ".join(f"the {t}-tooth gear on {s}" for s, t in shown) + f" ({mesh.id})"
+    else:
+        names["gear"] = "the gear on the shaft that shows the once-per-turn event"
+    return names
 
 
 def _coupling_advice(machine: Machine, component: str | None, data: dict) -> dict:
