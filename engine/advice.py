@@ -308,7 +308,8 @@ class _PartNames(dict):
 
 def part_names(machine: Machine, h: Hypothesis) -> dict[str, str]:
     """What the machine file knows of the part a hypothesis sits on, for the advice lines:
-    ``{bearing}`` (its designation), ``{gear}`` (the gear by its shaft and tooth count) and
+    ``{bearing}`` (its designation), ``{gear}`` (the gear by its shaft and tooth count),
+    ``{envelope_band}`` (the demodulation band, Hz, of the envelope the call rests on) and
     ``{belt_tension}`` (", belt tension" on a machine with a belt drive, else nothing)."""
     names = {"belt_tension": ", belt tension" if getattr(machine, "belts", ()) else ""}
     bearing = next((b for b in getattr(machine, "bearings", ()) if b.id == h.component), None)
@@ -317,6 +318,10 @@ def part_names(machine: Machine, h: Hypothesis) -> dict[str, str]:
                             else f"bearing at {bearing.id} (the machine file names no designation)")
     else:
         names["bearing"] = "bearing"
+    bands = [f for firing in h.support for _, f in firing.facts
+             if f.get("band_hi_hz") and f.get("component") == h.component]
+    names["envelope_band"] = (f"the envelope band of {bands[0]['band_lo_hz']:.0f} to {bands[0]['band_hi_hz']:.0f} Hz "
+                              f"({bands[0]['channel']})" if bands else "the envelope band the report gives")
     mesh = next((g for g in getattr(machine, "gears", ()) if g.id == h.component), None)
     if mesh is not None:
         shafts = {f.get("shaft") for firing in h.support for _, f in firing.facts
