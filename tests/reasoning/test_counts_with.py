@@ -76,3 +76,12 @@ def test_counts_with_an_unknown_rule_is_one_error_naming_the_rule(tmp_path):
 def test_the_shipped_rotor_bar_rules_are_one_piece_of_evidence():
     rules = {r.id: r for r in load_rulebook().rules}
     assert rules["electrical.rotor-bar.family"].evidence_key == rules["electrical.rotor-bar.pole-pass"].evidence_key
+
+
+def test_explain_says_which_rule_it_counts_with():
+    from engine.reasoning.explain import explain
+    book = load_rulebook()
+    rules = {r.id: r for r in book.rules}
+    assert any("counts with electrical.rotor-bar.pole-pass" in line
+               for line in explain(rules["electrical.rotor-bar.family"], book))
+    assert not any("counts with" in line for line in explain(rules["electrical.rotor-bar.pole-pass"], book))
