@@ -16,14 +16,8 @@ from ..machine import Point
 from ..machine.kinematics import BearingRates, bearing_multiples
 from .signal import G, Part, Scene, impact_signal, impact_times, resonance_ring
 
-# impact size by stage: stage 1 is visible only in the envelope; stage 4 dominates the waveform.
-# Stage 3 is the stage whose defect line stands in the ordinary velocity spectrum at a tenth of the
-# bearing's 1X or more (rulebooks/advice/severity.yaml stages; bearing.stage.velocity-tone): the
-# background's 1X at a bearing is 0.3 to 0.9 mm/s RMS (its own shaft's residual unbalance and a
-# coupled shaft's at a random phase, healthy.py), and 2.5 g puts a race defect's line above a tenth
-# of the largest of them; stage 2's 0.4 g stays below a tenth of the smallest (its line stands only
-# against an axial channel's own, smaller 1X).
-IMPACT_G = {1: 0.06, 2: 0.4, 3: 2.5, 4: 5.0}
+# impact size by stage: stage 1 is visible only in the envelope; stage 4 dominates the waveform
+IMPACT_G = {1: 0.06, 2: 0.4, 3: 1.5, 4: 5.0}
 # Stage 4: the damage has spread round the race, and the rolling elements run over rough metal all
 # the way: a dense train of small impacts at random instants rings the same resonance. That is a
 # raised broadband floor (the "haystack") in the band where bearings ring (each impact an
