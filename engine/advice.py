@@ -286,8 +286,9 @@ def fault_measure(h: Hypothesis, data: dict) -> FaultMeasure | None:
     scale = data.get("fault_severity", {}).get(h.fault)
     if scale is None:
         return None
+    # the field names the measure (sideband_to_carrier_db, fm4): no fact is picked by its kind
     values = [f[scale["field"]] for firing in (*h.support, *h.same_evidence) for _, f in firing.facts
-              if f.get("kind") == scale["fact"] and isinstance(f.get(scale["field"]), (int, float))]
+              if isinstance(f.get(scale["field"]), (int, float))]
     if not values:
         return None
     value = max(values)
@@ -324,8 +325,7 @@ def part_names(machine: Machine, h: Hypothesis) -> dict[str, str]:
                               f"({bands[0]['channel']})" if bands else "the envelope band the report gives")
     mesh = next((g for g in getattr(machine, "gears", ()) if g.id == h.component), None)
     if mesh is not None:
-        shafts = {f.get("shaft") for firing in h.support for _, f in firing.facts
-                  if f.get("kind") == "once_per_rev_event"}
+        shafts = {f.get("shaft") for firing in h.support for _, f in firing.facts if f.get("fm4") is not None}
         sides = [(mesh.driving_shaft, mesh.driving_teeth), (mesh.driven_shaft, mesh.driven_teeth)]
         shown = [(s, t) for s, t in sides if s in shafts] or sides
         names["gear"] = " or ".join(f"the {t}-tooth gear on {s}" for s, t in shown) + f" ({mesh.id})"
