@@ -207,9 +207,13 @@ def _urgencies(data) -> dict[str, Urgency]:
     return {u["id"]: Urgency(u["id"], u["label"], u["within"], i) for i, u in enumerate(data["urgency"])}
 
 
-def _oil_tests(machine: Machine, family: str, data: dict) -> tuple[OilTest, ...]:
+def _oil_tests(machine: Machine, family: str, data: dict, component: str | None = None) -> tuple[OilTest, ...]:
     policy = data["oil_follow_up"].get(family)
     if policy is None or (policy["lubrication"] != "any" and machine.lubrication not in policy["lubrication"]):
+        return ()
+    # a coupling (a disc-pack drive shaft, say) runs outside any oil-lubricated housing: no oil sample sees it
+    if policy.get("on_couplings") is False and component and hasattr(machine, "coupling") \
+            and machine.coupling(component) is not None:
         return ()
     tests = data["oil_tests"]
     return tuple(OilTest(tests[t["test"]]["name"], t["means"], tests[t["test"]]["source"]) for t in policy["tests"])
@@ -247,11 +251,19 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
         todo, oil = _site_todo(site_advice[h.fault], machine, h.family, data)
     else:
         todo = data["faults"].get(h.fault, {"urgency": "watch", "actions": [], "spares": [], "confirm": []})
-        oil = _oil_tests(machine, h.family, data)
+        names = _PartNames(part_names(machine, h))
+        todo = {**todo, **{k: [line.format_map(names) for line in todo[k]] for k in ("actions", "spares", "confirm")}}
+        oil = _oil_tests(machine, h.family, data, h.component)
     candidates = [urgencies[todo["urgency"]]]
+    own = fault_measure(h, data)
     if h.stage is not None:       # stages are told by patterns, which no scale changes
         candidates.append(urgencies[data["stage_urgency"][h.stage]])
         severity = f"damage stage {h.stage} of 4: {data['stages'][h.stage]}"
+    elif own is not None:         # the fault's own measure: a ratio, which no scale changes either
+        candidates.append(urgencies[own.urgency])
+        condition = (scale.severity if scale is not None
+                     else f"ISO 20816-3 zone {worst}" if worst else "no overall level available")
+        severity = f"{own.grade} ({own.measure}); the machine's overall condition: {condition}"
     elif scale is not None:
         severity = scale.severity + (f" (channels the quality gates did not doubt: ISO 20816-3 zone {worst})"
                                      if worst else "")
@@ -260,11 +272,16 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
     if worst is not None and h.confident and h.family != "reading":
         candidates.append(urgencies[data["zone_urgency"][worst]])
     urgency = min(candidates, key=lambda u: u.rank)
-    if not h.confident and h.family != "reading":
-        urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
     extra = _coupling_advice(machine, h.component, data)
-    return Recommendation(h, severity, urgency, tuple(todo["actions"]) + tuple(extra.get("actions", ())),
-                          tuple(todo["spares"]) + tuple(extra.get("spares", ())),
+    actions = tuple(todo["actions"]) + tuple(extra.get("actions", ()))
+    spares = tuple(todo["spares"]) + tuple(extra.get("spares", ()))
+    if not h.confident and h.family != "reading":
+        # not yet a call: confirm first; the work and its spares only when the fault itself is urgent
+        policy = data.get("unconfirmed_work")
+        if policy is not None and urgency.rank > urgencies[policy["full_from"]].rank:
+            actions, spares = tuple(policy["actions"]), ()
+        urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
+    return Recommendation(h, severity, urgency, actions, spares,
                           tuple(todo["confirm"]) + tuple(extra.get("confirm", ())), oil)
 
 
@@ -298,6 +315,71 @@ def _raised(current: Urgency, raises) -> tuple[Urgency, tuple[UrgencyRaise, ...]
     with the raises that moved it, most urgent first."""
     sooner = sorted((r for r in raises if r.urgency.rank < current.rank), key=lambda r: r.urgency.rank)
     return (sooner[0].urgency if sooner else current), tuple(sooner)
+
+
+@dataclass(frozen=True)
+class FaultMeasure:
+    """A hypothesis graded by its fault's own measure (``fault_severity`` in rulebooks/advice/):
+    the band's grade, the least urgency it asks, and the measure in words."""
+
+    grade: str
+    urgency: str
+    measure: str
+    value: float
+
+
+def fault_measure(h: Hypothesis, data: dict) -> FaultMeasure | None:
+    """The band of the fault's own measure that the worst (largest) value among the hypothesis's
+    supporting facts falls in; None when the fault has no such scale or no supporting fact carries it."""
+    scale = data.get("fault_severity", {}).get(h.fault)
+    if scale is None:
+        return None
+    # the field names the measure (sideband_to_carrier_db, fm4): no fact is picked by its kind
+    values = [f[scale["field"]] for firing in (*h.support, *h.same_evidence) for _, f in firing.facts
+              if isinstance(f.get(scale["field"]), (int, float))]
+    if not values:
+        return None
+    value = max(values)
+    band = scale["bands"][0]
+    for b in scale["bands"]:
+        if value >= b["at_least"]:
+            band = b
+    words = scale["measure"].format(value=f"{value:.3g}", depth=f"{-value:.0f}")
+    return FaultMeasure(band["grade"], band["urgency"], words, value)
+
+
+class _PartNames(dict):
+    """The names advice lines may hold in braces; an unknown name is left as written."""
+
+    def __missing__(self, key: str) -> str:
+        return "{" + key + "}"
+
+
+def part_names(machine: Machine, h: Hypothesis) -> dict[str, str]:
+    """What the machine file knows of the part a hypothesis sits on, for the advice lines:
+    ``{bearing}`` (its designation), ``{gear}`` (the gear by its shaft and tooth count),
+    ``{envelope_band}`` (the demodulation band, Hz, of the envelope the call rests on) and
+    ``{belt_tension}`` (", belt tension" on a machine with a belt drive, else nothing)."""
+    names = {"belt_tension": ", belt tension" if getattr(machine, "belts", ()) else ""}
+    bearing = next((b for b in getattr(machine, "bearings", ()) if b.id == h.component), None)
+    if bearing is not None:
+        names["bearing"] = (f"bearing {bearing.model} ({bearing.id})" if bearing.model
+                            else f"bearing at {bearing.id} (the machine file names no designation)")
+    else:
+        names["bearing"] = "bearing"
+    bands = [f for firing in h.support for _, f in firing.facts
+             if f.get("band_hi_hz") and f.get("component") == h.component]
+    names["envelope_band"] = (f"the envelope band of {bands[0]['band_lo_hz']:.0f} to {bands[0]['band_hi_hz']:.0f} Hz "
+                              f"({bands[0]['channel']})" if bands else "the envelope band the report gives")
+    mesh = next((g for g in getattr(machine, "gears", ()) if g.id == h.component), None)
+    if mesh is not None:
+        shafts = {f.get("shaft") for firing in h.support for _, f in firing.facts if f.get("fm4") is not None}
+        sides = [(mesh.driving_shaft, mesh.driving_teeth), (mesh.driven_shaft, mesh.driven_teeth)]
+        shown = [(s, t) for s, t in sides if s in shafts] or sides
+        names["gear"] = " or ".join(f"the {t}-tooth gear on {s}" for s, t in shown) + f" ({mesh.id})"
+    else:
+        names["gear"] = "the gear on the shaft that shows the once-per-turn event"
+    return names
 
 
 def _coupling_advice(machine: Machine, component: str | None, data: dict) -> dict:
@@ -366,7 +448,7 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         limitations = tuple(f.because for h in problems for f in h.support)
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
     return Advice(scale, zones, worst, meaning, urgency, recs, tuple(settings) if reasoning.withheld else (),
-                  limitations, tuple(data["cautions"]), data["disclaimer"].strip(), checking,
+                  limitations, cautions_for(machine, recs, data), data["disclaimer"].strip(), checking,
                   raised_by)
 
 
@@ -376,3 +458,21 @@ def _raise_rec(rec: Recommendation, raises) -> Recommendation:
         return rec
     urgency, by = _raised(rec.urgency, raises)
     return replace(rec, urgency=urgency, raised_by=by) if by else rec
+
+
+def machine_parts(machine: Machine) -> tuple[str, ...]:
+    """The parts of the machine that have cautions of their own: pump, fan, gearbox, belt_drive."""
+    rotors = {r.type for r in getattr(machine, "rotors", ())}
+    parts = [("pump", "impeller" in rotors), ("fan", "fan" in rotors),
+             ("gearbox", bool(getattr(machine, "gears", ()))), ("belt_drive", bool(getattr(machine, "belts", ())))]
+    return tuple(name for name, has in parts if has)
+
+
+def cautions_for(machine: Machine, recs, data: dict) -> tuple[str, ...]:
+    """The general cautions, then those of the machine's parts, then those of the recommended faults' families."""
+    out = list(data["cautions"])
+    for part in machine_parts(machine):
+        out += data.get("cautions_by_part", {}).get(part, [])
+    for rec in recs:
+        out += data.get("cautions_by_family", {}).get(rec.hypothesis.family, [])
+    return tuple(dict.fromkeys(out))

@@ -63,7 +63,7 @@ def _missing(rulebook: Rulebook, h: Hypothesis, kinds: AbstractSet[str] | None) 
     """The leader's corroborating rules that did not fire; with ``kinds`` (the fact kinds the
     diagnosis had), only those whose needed kinds were all there: a rule on 1X phase is not a
     missing sign when no phase was given, nor one on a coupling when the machine has none."""
-    fired = {f.rule_id for f in h.support} | {f.rule_id for f in h.against}
+    fired = {f.rule_id for f in (*h.support, *h.against, *h.same_evidence)}
     return tuple(r.title for r in rulebook.rules
                  if r.derives is None and r.weight > 0 and r.stage is None and _concludes(r, h.fault)
                  and r.id not in fired
@@ -84,8 +84,8 @@ def differential(rulebook: Rulebook, reasoning: Reasoning, kinds: AbstractSet[st
     for h in [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:leading]:
         rivals = _rivals(h, reasoning.hypotheses)
         separating = [f.because for f in h.against]
-        for r in rivals:
-            separating += [f.because for f in r.against]
+        for r in rivals:    # the strongest sign against a rival is given with the rival: not again here
+            separating += [f.because for f in r.against[1:]]
         out.append(Differential(
             h.fault, h.component,
             tuple(Rival(r.fault, r.fault_name, r.component, r.certainty, r.against[0].because if r.against else "",

@@ -396,15 +396,19 @@ class Reasoner:
             fault = (rule.fault.pick(_value(values, rule.fault.value)) if isinstance(rule.fault, FaultChoice)
                      else rule.fault)
             if fault is not None:
-                by_hypothesis[(fault, str(component))][rule.id].append((rule, firing))
+                # each piece of evidence counts once: a rule, with the rules that count with it
+                by_hypothesis[(fault, str(component))][rule.evidence_key].append((rule, firing))
         by_hypothesis, sharing = self._explain_away(by_hypothesis)
         hypotheses = []
         for (fault_id, component), per_rule in by_hypothesis.items():
-            support, against, extra = [], [], 0
+            support, against, extra, same = [], [], 0, []
             for rule_id in sorted(per_rule):
                 entries = per_rule[rule_id]
                 extra += len(entries) - 1
                 rule, best = max(entries, key=lambda e: abs(e[1].certainty))  # first of equals
+                # the strongest firing of each other rule of this piece of evidence: shown, not counted again
+                same += [max((f for r, f in entries if r.id == other), key=lambda f: abs(f.certainty))
+                         for other in sorted({r.id for r, _ in entries} - {rule.id})]
                 if best.certainty > 0:
                     support.append((rule, best))
                 elif best.certainty < 0:
@@ -418,7 +422,7 @@ class Reasoner:
                 tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
                 tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, known.withholds_diagnosis,
                 round(raw, 6) if abs(raw - total) > 1e-6 else None,
-                self._losses((fault_id, component), sharing)))
+                self._losses((fault_id, component), sharing), tuple(f for f in same if f.certainty > 0)))
         hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))
         faults_of = self.rulebook.faults
         problems = tuple(h for h in hypotheses if faults_of[h.fault].family == "reading")

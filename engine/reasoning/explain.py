@@ -106,6 +106,9 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
     if rule.weight > 0:
         told = ", ".join(rule.explains) if rule.explains else "nothing (it shares no sign with other hypotheses)"
         lines.append(f"  it explains the signs of: {told}")
+    if rule.counts_with:
+        lines.append(f"  it counts with {rule.counts_with} as one piece of evidence: for a hypothesis the "
+                     "stronger firing of the two counts, not both")
     lines.append(f"  the report says: {rule.because}")
     return lines
 

@@ -53,6 +53,7 @@ class Hypothesis:
     withholds: bool = False           # a reading problem that, when confident, withholds the diagnosis
     raw_certainty: float | None = None    # before explaining away (None: no sign of it was shared)
     explained_by: tuple[SignLoss, ...] = ()   # hypotheses that took part of its signs, most first
+    same_evidence: tuple[Firing, ...] = ()   # firings of rules that count with a supporting one: not counted again
 
     @property
     def strength(self) -> str:

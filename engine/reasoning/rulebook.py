@@ -158,6 +158,7 @@ class Rule:
     explains: tuple[str, ...] = ()   # aliases of the needed facts whose signs the conclusion explains
     site_record: tuple[int, int] | None = None   # (confirmed, judged) at repair at the site (tellwave learn)
     learned_by: str | None = None    # the learned overlay (as labelled) whose weight this rule carries
+    counts_with: str | None = None   # a rule reading the same signs: for a hypothesis the two count once
 
     @property
     def fingerprint(self) -> str:
@@ -166,6 +167,11 @@ class Rule:
         what = (self.needs, self.none_of, self.fault, self.component, self.stage, self.derives,
                 self.derived_fields, self.ramps, self.explains, self.weight > 0)
         return hashlib.sha256(repr(what).encode("utf-8")).hexdigest()[:12]
+
+    @property
+    def evidence_key(self) -> str:
+        """The piece of evidence the rule's firings are: its own id, or the id of the rule it counts with."""
+        return self.counts_with or self.id
 
     @property
     def origin(self) -> str:
@@ -347,6 +353,7 @@ def load_rulebook(*places, shipped: bool = True) -> Rulebook:
     ordered = tuple(sorted(rules.values(), key=lambda r: r.id))
     problems += _check_derived_values(ordered)
     problems += _check_parameters_read(parameters, built, {label for _, label in placed[:shipped_count]})
+    problems += _check_counts_with(ordered, disabled)
     if problems:
         raise problems[0] if len(problems) == 1 else RulebookProblems(problems)
     _check_no_derivation_cycle(ordered)
@@ -409,6 +416,25 @@ def _check_parameters_read(parameters: dict[str, Parameter], rules, shipped_labe
         shipped = [q for q, x in parameters.items() if x.path in shipped_labels]
         problems.append(RulebookError(f"parameters.{name}: no rule reads it, so it changes nothing"
                                       f"{_near(name, shipped)}", path=p.file or p.path, line=p.line))
+    return problems
+
+
+def _check_counts_with(rules: tuple[Rule, ...], disabled: dict) -> list[RulebookError]:
+    """Each ``counts_with`` names a loaded rule (or one a site switched off) that concludes a fault and
+    counts with no other: one piece of evidence is one rule and the rules that name it."""
+    by_id = {r.id: r for r in rules}
+    problems = []
+    for r in rules:
+        target = r.counts_with
+        if target is None or target in disabled:
+            continue
+        other = by_id.get(target)
+        if other is None:
+            problems.append(RulebookError(f"counts_with: no loaded rule has id {target!r}", path=r.path,
+                                          line=r.line, rule_id=r.id))
+        elif other.counts_with is not None or other.derives is not None or target == r.id:
+            problems.append(RulebookError(f"counts_with: {target!r} must conclude a fault and count with no "
+                                          "other rule itself", path=r.path, line=r.line, rule_id=r.id))
     return problems
 
 
@@ -940,7 +966,10 @@ class _RuleChecker:
         common = dict(id=self.raw["id"], title=self.raw["title"], source=self.raw["source"], needs=needs,
                       none_of=none_of, weight=weight, ramps=ramps, because=because, path=self.doc.path,
                       line=self.doc.line_of(["rules", self.index]), placeholders=placeholders,
-                      explains=self.explains(needs), site_record=self.site_record())
+                      explains=self.explains(needs), site_record=self.site_record(),
+                      counts_with=self.raw.get("counts_with"))
+        if "counts_with" in self.raw and "concludes" not in self.raw:
+            self.fail("counts_with: only a rule that concludes a fault counts with another", "counts_with")
         if "concludes" in self.raw:
             c = self.raw["concludes"]
             fault = c["fault"]

@@ -25,6 +25,8 @@ class Truth:
     def as_dict(self) -> dict:
         """The truth as a plain dict (the truth file's content), ``also`` as lists."""
         out = {k: getattr(self, k) for k in self.__dataclass_fields__}
+        if isinstance(out.get("speed_rpm"), float):    # a speed scaled through ratios: 985.0000000000001
+            out["speed_rpm"] = round(out["speed_rpm"], 6)
         out["also"] = [list(x) for x in self.also]
         return out
 

@@ -39,3 +39,14 @@ def test_7_the_oil_analysis_is_one_table_per_machine_in_the_document():
         assert len(re.findall("oil analysis to request", out, re.IGNORECASE)) == 1, fmt
         assert out.count(debris["test"]) == 1, fmt
     jsonschema.Draft202012Validator(load_schema("report.schema.json")).validate(json.loads(render(doc, "json")))
+
+
+def test_no_oil_test_follows_a_fault_on_a_coupling_outside_the_housings():
+    # nu26 item 8: angular misalignment on CT-1's disc-pack drive shaft asked for an oil particle count
+    # "for drive_shaft"; the same fault on an oil-lubricated shaft keeps its follow-up
+    from engine.advice import _oil_tests, load_advice
+    machine = load_machine(CASES / "machines" / "ct1-cooling-tower-fan.yaml")
+    data = load_advice()
+    assert machine.coupling("drive_shaft") is not None and machine.lubrication == "oil"
+    assert _oil_tests(machine, "shaft", data, "drive_shaft") == ()
+    assert _oil_tests(machine, "shaft", data, "gear_input") != ()

@@ -232,7 +232,7 @@ SIMULATED = [
 def _fired(reasoning) -> set[str]:
     found = {f.rule_id for f in reasoning.chain}
     for h in reasoning.hypotheses + reasoning.reading_problems:
-        found |= {f.rule_id for f in h.support + h.against}
+        found |= {f.rule_id for f in h.support + h.against + h.same_evidence}  # counted with another: fired
     return found
 
 @pytest.fixture(scope="module")

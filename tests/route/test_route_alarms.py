@@ -60,9 +60,9 @@ def test_a_crossed_alarm_is_flagged_in_every_report_format(outer_race):
     assert states[("bearing rates", "acceleration_g_rms")] == "danger"
     assert states[("1X", "velocity_mm_s_rms")] == "within"
     assert doc["alarms"]["crossed"] == 1 and doc["alarms"]["results"][0]["band"] == "bearing rates"
-    assert "!! DANGER: P2H (P2H) bearing rates g RMS" in render(doc, "text")
-    assert "| **danger** | P2H (P2H) | bearing rates, g RMS |" in render(doc, "md")
-    assert '<tr class="alarm-danger"><td><strong>danger</strong></td><td>P2H (P2H)</td>' in render(doc, "html")
+    assert "!! DANGER: P2H bearing rates g RMS" in render(doc, "text")
+    assert "| **danger** | P2H | bearing rates, g RMS |" in render(doc, "md")
+    assert '<tr class="alarm-danger"><td><strong>danger</strong></td><td>P2H</td>' in render(doc, "html")
     assert json.loads(render(doc, "json"))["alarms"]["danger"] == 1
 
 
