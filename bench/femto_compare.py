@@ -58,6 +58,7 @@ the remaining four; the nested score is the held-out runs' score under the setti
 from __future__ import annotations
 
 import argparse
+import functools
 import itertools
 from dataclasses import dataclass
 from pathlib import Path
@@ -666,15 +667,21 @@ def gp_fit(x: np.ndarray, y: np.ndarray, slope_sd: float) -> np.ndarray:
     assert best is not None
     return np.asarray(best.x)
 
-def gp_paths(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float, future: np.ndarray, n: int,
-             seed: int = LEVEL_SEED) -> np.ndarray:
-    """``n`` draws (rows) of the latent level at the ``future`` inputs from the joint predictive
-    (Rasmussen & Williams 2006, eqs. 2.22-2.24)."""
+def gp_predictive(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float,
+                  future: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Mean and covariance of the latent level at the ``future`` inputs (Rasmussen & Williams 2006,
+    eqs. 2.22-2.24)."""
     chol = np.linalg.cholesky(_gp_cov(x, p, slope_sd))
     kf = _gp_kernel(future, x, p, slope_sd)
     mean = kf @ np.linalg.solve(chol.T, np.linalg.solve(chol, y))
     v = np.linalg.solve(chol, kf.T)
-    cov = _gp_kernel(future, future, p, slope_sd) - v.T @ v
+    return mean, _gp_kernel(future, future, p, slope_sd) - v.T @ v
+
+def gp_paths(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float, future: np.ndarray, n: int,
+             seed: int = LEVEL_SEED) -> np.ndarray:
+    """``n`` draws (rows) of the latent level at the ``future`` inputs from the joint predictive
+    (Rasmussen & Williams 2006, eqs. 2.22-2.24)."""
+    mean, cov = gp_predictive(x, y, p, slope_sd, future)
     try:
         root = np.linalg.cholesky(0.5 * (cov + cov.T) + 1e-9 * np.eye(len(future)))
     except np.linalg.LinAlgError:
@@ -700,6 +707,21 @@ def gp_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray, slope: tuple
     healthy level there), fitted to the readings since the first predicting time with the library's
     mean growth ``slope[0]`` per hour as the prior mean and ``slope[1]`` as its sd; None before the onset
     or with fewer than 5 readings since."""
+    g = gp_predictive_since_onset(days, v, hi, slope)
+    if g is None:
+        return None
+    future_h, mean, cov = g
+    try:
+        root = np.linalg.cholesky(0.5 * (cov + cov.T) + 1e-9 * np.eye(len(future_h)))
+    except np.linalg.LinAlgError:
+        w, u = np.linalg.eigh(0.5 * (cov + cov.T))
+        root = u * np.sqrt(np.maximum(w, 0.0))
+    return future_h, mean[None, :] + np.random.default_rng(LEVEL_SEED).standard_normal((n, len(future_h))) @ root.T
+
+def gp_predictive_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray,
+                              slope: tuple[float, float]) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+    """(future times in hours from the last reading, mean and covariance of the latent log ratio to the
+    healthy level there), as ``gp_since_onset`` draws its paths from; None as it."""
     from engine.trend.degradation import HORIZON_FACTOR
 
     phi, index, _ = healthy_level(v, hi)
@@ -715,8 +737,8 @@ def gp_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray, slope: tuple
     p = gp_fit(x, y, slope[1] * elapsed)
     spacing = float(np.median(np.diff(days))) * 24.0
     ahead = np.geomspace(max(spacing / elapsed, 1e-4), HORIZON_FACTOR, GP_GRID)
-    paths = gp_paths(x, y, p, slope[1] * elapsed, 1.0 + ahead, n)
-    return ahead * elapsed, paths + slope[0] * (1.0 + ahead)[None, :] * elapsed
+    mean, cov = gp_predictive(x, y, p, slope[1] * elapsed, 1.0 + ahead)
+    return ahead * elapsed, mean + slope[0] * (1.0 + ahead) * elapsed, cov
 
 def first_crossing(future_h: np.ndarray, paths: np.ndarray, thresholds: np.ndarray) -> np.ndarray:
     """Each path's first future time at or past its own threshold (never: NO_CROSSING_H)."""
@@ -858,15 +880,238 @@ def level_methods(histories: dict, runs: list[str], lives_h: dict[str, float]) -
         print(f"{r}: chose {pick} (inner A {mean_a(inner[pick]):.3f}), held out A {mean_a(outer[r][pick]):.3f}")
     print(f"nested: n, A, A med, coverage {summary(chosen)}")
 
+# ------------------------------------------------ the Gaussian process alone: stable draws, calibrated intervals
+#
+# ``--gp-only`` scores the Gaussian-process settings alone (a few minutes instead of twenty):
+#
+# - Stable draws: the paths, thresholds and library growths are drawn by randomised quasi-Monte Carlo,
+#   a scrambled Sobol point set (Owen 1997, "Scrambled net variance for integrals of smooth functions",
+#   Annals of Statistics 25; scipy.stats.qmc), one dimension per principal component of the predictive
+#   covariance that holds GP_MODES of its variance, one for the threshold (its inverse distribution
+#   function) and one for the library growth (stratified over the library points, each drawn equally
+#   often). The seed scrambles the set; the score's spread over GP_SEEDS is printed.
+# - Why the intervals miss: the share of cuts whose actual life falls below the 80 % interval (the
+#   bearing failed sooner than the 10th percentile) and above it, and the interval's width (log of 90th
+#   over 10th percentile), per setting.
+# - Calibrated intervals: recalibrated regression (Kuleshov, Fenner & Ermon 2018, "Accurate
+#   uncertainties for deep learning using calibrated regression", ICML): the probability integral
+#   transform of the actual life (the share of the predictive's lives below it) is collected on the
+#   library alone, each library run left out in turn and scored with a library of the others; the
+#   held-out run's predictive lives are then mapped through the quantile function of those values, so
+#   that a level q of the answer is the level at which a share q of the library's actual lives fell.
+#   Nothing of the scored run enters its own calibration.
+
+GP_PATHS_LOG2 = 12             # 4096 quasi-random points per answer
+GP_MODES = 0.9999              # share of the predictive variance kept in the drawn components
+GP_MAX_MODES = 16              # at most this many components (the rest hold less than 1e-4 of it)
+GP_SEEDS = (20261205, 1, 2, 3, 4)
+
+@dataclass(frozen=True)
+class GpRaw:
+    """One cut of a run under one setting: the actual remaining life (hours) and the lives (hours) of the
+    earlier point's predictive (the smaller median), as drawn."""
+    actual: float
+    lives: np.ndarray
+
+def gp_settings(everything: bool = False) -> list[LevelSetting]:
+    """The Gaussian-process settings of ``level_grid``; unless ``everything``, those of the acceleration
+    peak (the indicator a user's --limit is on) whose growth is pinned or drawn. The free growth is left
+    out: its interval misses late (the actual life under its 10th percentile at 69-83 % of the cuts)."""
+    return [s for s in level_grid() if s.method == "gaussian process"
+            and (everything or (s.indicator == LIMITED and s.slope != "free"))]
+
+@functools.lru_cache(maxsize=8)
+def rqmc_uniforms(dims: int, seed: int) -> np.ndarray:
+    """2 ** GP_PATHS_LOG2 points of a scrambled Sobol set in ``dims`` dimensions (Owen 1997); read only."""
+    from scipy.stats import qmc
+
+    u = np.asarray(qmc.Sobol(dims, scramble=True, seed=seed).random_base2(GP_PATHS_LOG2))
+    u.flags.writeable = False
+    return u
+
+def principal_parts(mean: np.ndarray, cov: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(mean, columns sd x direction of the covariance's principal components, the largest first, as many
+    as hold GP_MODES of its variance, at most GP_MAX_MODES)."""
+    w, vec = np.linalg.eigh(0.5 * (cov + cov.T))
+    order = np.argsort(w)[::-1]
+    w, vec = np.maximum(w[order], 0.0), vec[:, order]
+    total = float(np.sum(w))
+    k = 1 if total <= 0 else int(min(GP_MAX_MODES, np.searchsorted(np.cumsum(w) / total, GP_MODES) + 1))
+    return mean, vec[:, :k] * np.sqrt(w[:k])[None, :]
+
+def rqmc_paths(mean: np.ndarray, parts: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Paths of the Gaussian predictive (``principal_parts``) from the uniforms ``u``, one column per
+    component."""
+    from scipy.stats import norm
+
+    z = norm.ppf(np.clip(u[:, :parts.shape[1]], 1e-12, 1 - 1e-12))
+    return mean[None, :] + z @ parts.T
+
+def threshold_quantiles(ends: np.ndarray, above: float, u: np.ndarray) -> np.ndarray:
+    """``threshold_draws``'s truncated normal at the uniforms ``u`` (its inverse distribution function)."""
+    from scipy.stats import truncnorm
+
+    m, sd = float(np.mean(ends)), max(float(np.std(ends, ddof=1)), 1e-3)
+    a = min((above - m) / sd, 30.0)
+    return np.asarray(truncnorm(a, np.inf, loc=m, scale=sd).ppf(u))
+
+def gp_lives_rqmc(g: tuple[np.ndarray, np.ndarray, np.ndarray], s: LevelSetting, grow: np.ndarray,
+                  ends: np.ndarray | None, above: float, fixed_level: float, seed: int) -> np.ndarray:
+    """Remaining lives (hours) of one point under setting ``s`` from its predictive ``g`` (future hours,
+    mean, principal parts), by randomised quasi-Monte Carlo."""
+    future_h, mean, parts = g
+    u = rqmc_uniforms(GP_MAX_MODES + 2, seed)
+    paths = rqmc_paths(mean, parts, u[:, :GP_MAX_MODES])
+    if s.slope == "drawn":             # stratified: every library growth equally often
+        own = np.sort(grow)[np.minimum((u[:, -1] * len(grow)).astype(int), len(grow) - 1)]
+        paths = paths + (own - np.mean(grow))[:, None] * future_h[None, :]
+    thresholds = (np.full(len(u), fixed_level) if ends is None else threshold_quantiles(ends, above, u[:, -2]))
+    return first_crossing(future_h, paths, thresholds)
+
+def score_gp(histories: dict, run: str, library_runs: list[str], settings: list[LevelSetting],
+             lives_h: dict[str, float], seed: int, cache: dict) -> dict[LevelSetting, list[GpRaw | None]]:
+    """Every Gaussian-process setting's predictive at each cut of ``run`` (as ``score_levels``, with stable
+    draws); the predictives, which do not depend on the seed, are kept in ``cache``."""
+    out: dict[LevelSetting, list[GpRaw | None]] = {s: [] for s in settings}
+    indicators = {s.indicator for s in settings}
+    ends = {(s.indicator, s.ends): end_levels(histories, library_runs, s.indicator, s.ends, True)
+            for s in settings if s.ends != "fixed"}
+    slopes = {ind: library_slopes(histories, library_runs, ind) for ind in indicators}
+    for ci, cut in enumerate(CUTS):
+        now_h = cut * lives_h[run]
+        actual = _actual_h(histories, run, now_h, lives_h)
+        arrays = {}
+        for pt in sorted(histories[run]):
+            for ind in indicators:
+                t, v, hi = point_arrays(histories[run][pt], ind)
+                k = t <= now_h * 3600.0 + 1e-6
+                arrays[pt, ind] = (t[k] / 86400.0, v[k], hi[k])
+        for s in settings:
+            passed = {}
+            for pt in sorted(histories[run]):
+                days, v, hi = arrays[pt, s.indicator]
+                passed[pt] = float(np.max(level_ratio(v, healthy_level(v, hi)[0], True)))
+            found = []
+            for pt in sorted(histories[run]):
+                days, v, hi = arrays[pt, s.indicator]
+                phi = healthy_level(v, hi)[0]
+                if s.ends == "fixed" and v[-1] >= LIMIT_G:
+                    found.append((0.0, np.zeros(1)))
+                    continue
+                grow = slopes[s.indicator]
+                sd = float(np.std(grow, ddof=1)) if s.slope == "free" else PINNED_SD
+                key = (run, ci, pt, s.indicator, tuple(library_runs), sd)
+                if key not in cache:
+                    g = gp_predictive_since_onset(days, v, hi, (float(np.mean(grow)), sd))
+                    cache[key] = None if g is None else (g[0], *principal_parts(g[1], g[2]))
+                if cache[key] is None:
+                    continue
+                above = max(passed.values()) if s.ends == "run" else passed[pt]
+                lives = gp_lives_rqmc(cache[key], s, grow, None if s.ends == "fixed" else ends[s.indicator, s.ends],
+                                      above, float(np.log(LIMIT_G / phi)), seed)
+                found.append((float(np.median(lives)), lives))
+            out[s].append(None if not found else GpRaw(actual, min(found, key=lambda f: f[0])[1]))
+    return out
+
+def pit(raw: GpRaw) -> float:
+    """The probability integral transform of the actual life: the share of the predictive's lives below it."""
+    return float(np.mean(raw.lives < raw.actual) + 0.5 * np.mean(raw.lives == raw.actual))
+
+def recalibrated(lives: np.ndarray, pits: np.ndarray) -> np.ndarray:
+    """The lives at the levels where the library's actual lives fell: level q of the answer is the
+    predictive's quantile at the q-quantile of the library's PIT values (Kuleshov et al. 2018)."""
+    levels = (np.arange(len(lives)) + 0.5) / len(lives)
+    return np.quantile(lives, np.clip(np.quantile(pits, levels), 0.0, 1.0))
+
+def judge(raw: GpRaw | None, pits: np.ndarray | None = None) -> Cut | None:
+    """The cut's scores from its predictive, recalibrated by the library's ``pits`` when given."""
+    if raw is None:
+        return None
+    lives = raw.lives if pits is None or len(pits) == 0 else recalibrated(raw.lives, pits)
+    got = answer([(lives, np.ones(len(lives)))])
+    if got is None:
+        return None
+    med, lo, hi, act = got
+    return Cut(float(challenge_score(100 * (raw.actual - act) / raw.actual)),
+               float(challenge_score(100 * (raw.actual - med) / raw.actual)), lo <= raw.actual <= hi)
+
+def misses(raws: list[GpRaw | None]) -> str:
+    """'below, above, width': shares of answered cuts whose actual life fell below the 10th or above the
+    90th percentile of the predictive, and the median log ratio of the 90th to the 10th percentile."""
+    got = [r for r in raws if r is not None]
+    if not got:
+        return ""
+    p = np.array([pit(r) for r in got])
+    width = np.median([np.log(max(np.quantile(r.lives, 0.9), 1e-6) / max(np.quantile(r.lives, 0.1), 1e-6))
+                       for r in got])
+    return f"{np.mean(p < 0.1):6.0%}{np.mean(p > 0.9):6.0%}{width:7.2f}"
+
+def gp_methods(histories: dict, runs: list[str], lives_h: dict[str, float], seeds: tuple[int, ...],
+               everything: bool = False) -> None:
+    """The Gaussian-process settings alone: leave one run out under each seed (the spread of the mean A
+    over the seeds), why the intervals miss, then each setting recalibrated on its library (nested: the
+    calibration from the other five runs, each left out of a library of four), with an in-sample bound."""
+    settings = gp_settings(everything)
+    cache: dict = {}
+    print("\nGaussian process alone, leave one run out, quasi-random draws (below / above: actual life under "
+          "the 10th / over the 90th percentile; width: ln(q90 / q10))")
+    per_seed: dict[LevelSetting, list[float]] = {s: [] for s in settings}
+    outer: dict[int, dict[str, dict[LevelSetting, list[GpRaw | None]]]] = {}
+    for seed in seeds:
+        outer[seed] = {r: score_gp(histories, r, [x for x in runs if x != r], settings, lives_h, seed, cache)
+                       for r in runs}
+        for s in settings:
+            per_seed[s].append(mean_a([judge(c) for r in runs for c in outer[seed][r][s]]))
+    first = outer[seeds[0]]
+    print(f"{'setting':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}{'below':>6}{'above':>6}{'width':>7}"
+          f"{'A seeds':>16}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        raws = [c for r in runs for c in first[r][s]]
+        a = per_seed[s]
+        print(f"{str(s):<58}{summary([judge(c) for c in raws])}{misses(raws)}{min(a):8.3f}-{max(a):.3f}  "
+              + " ".join(f"{mean_a([judge(c) for c in first[r][s]]):.2f}" for r in runs))
+    # recalibrated on the library: PIT values of every other run, scored with a library of the rest
+    print("\nrecalibrated on the library (Kuleshov et al. 2018), nested: each run's calibration from the "
+          "other five, each left out of a library of four")
+    inner_pits: dict[str, dict[LevelSetting, list[float]]] = {}
+    for r in runs:
+        others = [x for x in runs if x != r]
+        inner_pits[r] = {s: [] for s in settings}
+        for j in others:
+            got = score_gp(histories, j, [x for x in others if x != j], settings, lives_h, seeds[0], cache)
+            for s in settings:
+                inner_pits[r][s].extend(pit(c) for c in got[s] if c is not None)
+    print(f"{'setting':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}{'A seeds':>16}  per run A "
+          + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        a = [mean_a([judge(c, np.array(inner_pits[r][s])) for r in runs for c in outer[seed][r][s]]) for seed in seeds]
+        print(f"{str(s):<58}{summary([judge(c, np.array(inner_pits[r][s])) for r in runs for c in first[r][s]])}"
+              f"{min(a):8.3f}-{max(a):.3f}  "
+              + " ".join(f"{mean_a([judge(c, np.array(inner_pits[r][s])) for c in first[r][s]]):.2f}" for r in runs))
+    # in sample: library, prior growth and calibration from all six runs, the scored one among them
+    inside = {r: score_gp(histories, r, runs, settings, lives_h, seeds[0], cache) for r in runs}
+    print("in sample (library, growths and calibration from all six runs, the scored one included):")
+    for s in settings:
+        pits_all = np.array([pit(c) for r in runs for c in inside[r][s] if c is not None])
+        print(f"{str(s):<58}{summary([judge(c) for r in runs for c in inside[r][s]])}  recalibrated "
+              f"{summary([judge(c, pits_all) for r in runs for c in inside[r][s]])}")
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
     ap.add_argument("--data", default=None, help="the learning runs, if the histories are not cached yet")
+    ap.add_argument("--gp-only", action="store_true",
+                    help="score only the Gaussian-process settings (stable draws, calibration; a few minutes)")
+    ap.add_argument("--seeds", type=int, default=len(GP_SEEDS), help="with --gp-only: how many seeds of GP_SEEDS")
+    ap.add_argument("--gp-all", action="store_true", help="with --gp-only: every GP setting, the free growth too")
     args = ap.parse_args()
     from bench.femto import DATA
     histories = load_histories(Path(args.data) if args.data else DATA, Path(args.out).resolve(), 2, False)
     runs = sorted(histories)
     lives_h = {r: max(max(h[LIMITED][0]) for h in histories[r].values()) / 3600.0 for r in runs}
+    if args.gp_only:
+        gp_methods(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds)], args.gp_all)
+        return 0
     settings = grid()
     priors: dict[tuple[str, ...], Prior] = {}
 
