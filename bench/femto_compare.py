@@ -1,7 +1,7 @@
 """Remaining-life methods weighed against tellwave's own on the FEMTO learning runs, so the
 comparison of issue 23 can be made again (none of them is what ``tellwave trend`` does).
 
-    python -m bench.femto_compare [--out bench-out/femto]
+    python -m bench.femto_compare [--out bench-out/femto] [--gp-only [--seeds N] [--gp-all]]
 
 Needs the histories ``python -m bench.femto`` caches in --out. Each method is scored as
 bench.femto scores tellwave's: leave one run out (library or prior from the other five), the
@@ -47,6 +47,8 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   the log level since the onset (Rasmussen & Williams 2006) to the same kind of level; the section
   before ``level_methods`` says how. Also printed: how much each indicator's end level varies across the
   runs. This part takes about 20 minutes (the nested choice scores every run 36 times).
+  ``--gp-only`` scores the Gaussian process alone in a few minutes: quasi-random draws (the score's
+  spread over five seeds), where its intervals miss, and recalibration on the library (``gp_methods``).
 
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
