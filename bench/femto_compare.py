@@ -1,7 +1,7 @@
 """Remaining-life methods weighed against tellwave's own on the FEMTO learning runs, so the
 comparison of issue 23 can be made again (none of them is what ``tellwave trend`` does).
 
-    python -m bench.femto_compare [--out bench-out/femto]
+    python -m bench.femto_compare [--out bench-out/femto] [--wiener-only | --gp-only [--seeds N] [--gp-all]]
 
 Needs the histories ``python -m bench.femto`` caches in --out. Each method is scored as
 bench.femto scores tellwave's: leave one run out (library or prior from the other five), the
@@ -47,6 +47,8 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   the log level since the onset (Rasmussen & Williams 2006) to the same kind of level; the section
   before ``level_methods`` says how. Also printed: how much each indicator's end level varies across the
   runs. This part takes about 20 minutes (the nested choice scores every run 36 times).
+  ``--gp-only`` scores the Gaussian process alone in a few minutes: quasi-random draws (the score's
+  spread over five seeds), where its intervals miss, and recalibration on the library (``gp_methods``).
 
 - ``wiener`` (``wiener_report``, its own settings and nested choice; ``--wiener-only`` runs it alone, about
   10 to 20 minutes): the degradation ratio since the first predicting time as a Wiener process with drift
@@ -64,6 +66,7 @@ the remaining four; the nested score is the held-out runs' score under the setti
 from __future__ import annotations
 
 import argparse
+import functools
 import itertools
 from dataclasses import dataclass
 from pathlib import Path
@@ -672,15 +675,21 @@ def gp_fit(x: np.ndarray, y: np.ndarray, slope_sd: float) -> np.ndarray:
     assert best is not None
     return np.asarray(best.x)
 
-def gp_paths(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float, future: np.ndarray, n: int,
-             seed: int = LEVEL_SEED) -> np.ndarray:
-    """``n`` draws (rows) of the latent level at the ``future`` inputs from the joint predictive
-    (Rasmussen & Williams 2006, eqs. 2.22-2.24)."""
+def gp_predictive(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float,
+                  future: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Mean and covariance of the latent level at the ``future`` inputs (Rasmussen & Williams 2006,
+    eqs. 2.22-2.24)."""
     chol = np.linalg.cholesky(_gp_cov(x, p, slope_sd))
     kf = _gp_kernel(future, x, p, slope_sd)
     mean = kf @ np.linalg.solve(chol.T, np.linalg.solve(chol, y))
     v = np.linalg.solve(chol, kf.T)
-    cov = _gp_kernel(future, future, p, slope_sd) - v.T @ v
+    return mean, _gp_kernel(future, future, p, slope_sd) - v.T @ v
+
+def gp_paths(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float, future: np.ndarray, n: int,
+             seed: int = LEVEL_SEED) -> np.ndarray:
+    """``n`` draws (rows) of the latent level at the ``future`` inputs from the joint predictive
+    (Rasmussen & Williams 2006, eqs. 2.22-2.24)."""
+    mean, cov = gp_predictive(x, y, p, slope_sd, future)
     try:
         root = np.linalg.cholesky(0.5 * (cov + cov.T) + 1e-9 * np.eye(len(future)))
     except np.linalg.LinAlgError:
@@ -706,6 +715,21 @@ def gp_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray, slope: tuple
     healthy level there), fitted to the readings since the first predicting time with the library's
     mean growth ``slope[0]`` per hour as the prior mean and ``slope[1]`` as its sd; None before the onset
     or with fewer than 5 readings since."""
+    g = gp_predictive_since_onset(days, v, hi, slope)
+    if g is None:
+        return None
+    future_h, mean, cov = g
+    try:
+        root = np.linalg.cholesky(0.5 * (cov + cov.T) + 1e-9 * np.eye(len(future_h)))
+    except np.linalg.LinAlgError:
+        w, u = np.linalg.eigh(0.5 * (cov + cov.T))
+        root = u * np.sqrt(np.maximum(w, 0.0))
+    return future_h, mean[None, :] + np.random.default_rng(LEVEL_SEED).standard_normal((n, len(future_h))) @ root.T
+
+def gp_predictive_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray,
+                              slope: tuple[float, float]) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+    """(future times in hours from the last reading, mean and covariance of the latent log ratio to the
+    healthy level there), as ``gp_since_onset`` draws its paths from; None as it."""
     from engine.trend.degradation import HORIZON_FACTOR
 
     phi, index, _ = healthy_level(v, hi)
@@ -721,8 +745,8 @@ def gp_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray, slope: tuple
     p = gp_fit(x, y, slope[1] * elapsed)
     spacing = float(np.median(np.diff(days))) * 24.0
     ahead = np.geomspace(max(spacing / elapsed, 1e-4), HORIZON_FACTOR, GP_GRID)
-    paths = gp_paths(x, y, p, slope[1] * elapsed, 1.0 + ahead, n)
-    return ahead * elapsed, paths + slope[0] * (1.0 + ahead)[None, :] * elapsed
+    mean, cov = gp_predictive(x, y, p, slope[1] * elapsed, 1.0 + ahead)
+    return ahead * elapsed, mean + slope[0] * (1.0 + ahead) * elapsed, cov
 
 def first_crossing(future_h: np.ndarray, paths: np.ndarray, thresholds: np.ndarray) -> np.ndarray:
     """Each path's first future time at or past its own threshold (never: NO_CROSSING_H)."""
@@ -917,7 +941,6 @@ WIENER_X0_SD = 1.0               # prior sd of the level at the onset about its 
 # readings' covariance stays positive definite when a smooth indicator's fit runs tau to 0
 WIENER_TAU_MIN = 0.01
 
-
 @dataclass(frozen=True)
 class WienerSetting:
     """One setting of the Wiener-process method."""
@@ -932,7 +955,6 @@ class WienerSetting:
         b = "b learned" if self.b == 0 else f"b {self.b:g}"
         return f"wiener ({self.indicator}, {what}, {b}, drift {self.drift}, {self.never})"
 
-
 @dataclass(frozen=True)
 class WienerPrior:
     """From a library: the exponent, the drift's prior (per hour^b), the diffusion (log units per root hour),
@@ -943,7 +965,6 @@ class WienerPrior:
     sigma: float
     tau: float
     ends: np.ndarray
-
 
 def first_passage_density(l_h: np.ndarray, w: np.ndarray | float, t_h: float, b: float,
                           mu_a: np.ndarray | float, sd_a: np.ndarray | float, sigma: float) -> np.ndarray:
@@ -961,7 +982,6 @@ def first_passage_density(l_h: np.ndarray, w: np.ndarray | float, t_h: float, b:
     f = (wk - bend * (phi * wk * s ** 2 + mu * sigma ** 2 * lh) / v) / np.sqrt(2 * np.pi * lh ** 2 * v) \
         * np.exp(-(wk - mu * phi) ** 2 / (2 * v))
     return np.maximum(f, 0.0)
-
 
 def first_passage_cdf(l_h: np.ndarray, w: np.ndarray | float, t_h: float, b: float, mu_a: np.ndarray | float,
                       sd_a: np.ndarray | float, sigma: float) -> np.ndarray:
@@ -981,7 +1001,6 @@ def first_passage_cdf(l_h: np.ndarray, w: np.ndarray | float, t_h: float, b: flo
                                   np.cumsum(0.5 * (f[:, 1:] + f[:, :-1]) * np.diff(grid)[None, :], axis=1)], axis=1)
     return np.minimum(np.interp(lh, grid, cdf.mean(axis=0)), 1.0)
 
-
 def lives_from_cdf(grid: np.ndarray, cdf: np.ndarray, never: str) -> np.ndarray | None:
     """Remaining lives (hours) at WIENER_QUANTILES equally spaced probabilities of a distribution given by
     its CDF on ``grid``. "never": a probability the CDF does not reach gets NO_CROSSING_H; "fails": the
@@ -997,7 +1016,6 @@ def lives_from_cdf(grid: np.ndarray, cdf: np.ndarray, never: str) -> np.ndarray 
         return np.zeros(p.size)
     out = np.interp(p, cdf[keep], grid[keep], left=0.0)
     return np.where(p <= cdf[-1], out, NO_CROSSING_H)
-
 
 def simulate_first_passage(w: float, t_h: float, b: float, mu_a: float, sd_a: float, sigma: float, n: int,
                            step_h: float, horizon_h: float, seed: int = LEVEL_SEED) -> np.ndarray:
@@ -1019,7 +1037,6 @@ def simulate_first_passage(w: float, t_h: float, b: float, mu_a: float, sd_a: fl
         if not alive.any():
             break
     return out
-
 
 def wiener_series(h: dict, indicator: str, upto_s: float = np.inf
                   ) -> tuple[np.ndarray, np.ndarray, float, float] | None:
@@ -1043,7 +1060,6 @@ def wiener_series(h: dict, indicator: str, upto_s: float = np.inf
     keep[on.index] = True
     return (t[keep] - t[on.index]) / 3600.0, log_v[keep] - base, float(np.max(mean[on.index:])), base
 
-
 def wiener_fixed_effects(t_h: np.ndarray, y: np.ndarray, b: float, sigma: float, tau: float
                          ) -> tuple[np.ndarray, float]:
     """Generalised least squares of (x0, a) of one point's readings, sigma and tau given, and the restricted
@@ -1060,7 +1076,6 @@ def wiener_fixed_effects(t_h: np.ndarray, y: np.ndarray, b: float, sigma: float,
     restricted = 0.5 * np.linalg.slogdet(wx.T @ wx)[1]
     return coef, float(-0.5 * (r @ r) - np.sum(np.log(np.diag(chol))) - 0.5 * len(y) * np.log(2 * np.pi)
                        - restricted)
-
 
 def wiener_fit(series: list[tuple[np.ndarray, np.ndarray]], b: float) -> tuple[float, float, float]:
     """(sigma, tau, log likelihood) common to the library points, each with its own (x0, a), by maximum
@@ -1081,7 +1096,6 @@ def wiener_fit(series: list[tuple[np.ndarray, np.ndarray]], b: float) -> tuple[f
     assert best is not None
     sg, ta = np.exp(np.clip(best.x, low, 5))
     return float(sg), float(ta), float(-best.fun)
-
 
 def wiener_prior(histories: dict, runs: list[str], indicator: str, b: float, fits: dict) -> WienerPrior:
     """The drift prior, diffusion, reading error and exponent (``b`` 0: the likelihood's best of
@@ -1111,7 +1125,6 @@ def wiener_prior(histories: dict, runs: list[str], indicator: str, b: float, fit
     a = np.array([wiener_fixed_effects(t, y, b, sigma, tau)[0][1] for t, y in series])
     return WienerPrior(float(b), float(np.mean(a)), float(np.std(a, ddof=1)), sigma, tau, np.array(ends))
 
-
 def wiener_state(prior: WienerPrior, t_h: np.ndarray, y: np.ndarray) -> tuple[float, float, float, float, float]:
     """The joint normal of the current level X(t_k) and the drift a after the readings (mean x, mean a,
     var x, var a, cov): Gaussian conditioning of the process on its readings with their error, in the
@@ -1135,7 +1148,6 @@ def wiener_state(prior: WienerPrior, t_h: np.ndarray, y: np.ndarray) -> tuple[fl
     var_x = float(u @ p @ u + v_e)
     return mean_x, float(beta[1]), max(var_x, 1e-12), max(float(p[1, 1]), 1e-12), float(u @ p[:, 1])
 
-
 def wiener_levels(prior: WienerPrior, passed: float) -> np.ndarray:
     """Equal-probability nodes of the failure level: normal of the library's end levels, truncated below at
     the level already passed."""
@@ -1145,7 +1157,6 @@ def wiener_levels(prior: WienerPrior, passed: float) -> np.ndarray:
     a = min((passed - m) / sd, 30.0)
     p = (np.arange(WIENER_LEVEL_NODES) + 0.5) / WIENER_LEVEL_NODES
     return np.asarray(truncnorm(a, np.inf, loc=m, scale=sd).ppf(p))
-
 
 def wiener_cdf(prior: WienerPrior, d: tuple[np.ndarray, np.ndarray, float, float], level: str, drift: str,
                grid: np.ndarray) -> np.ndarray:
@@ -1165,7 +1176,6 @@ def wiener_cdf(prior: WienerPrior, d: tuple[np.ndarray, np.ndarray, float, float
     w = (levels[:, None] - xs[None, :]).ravel()
     return first_passage_cdf(grid, w, float(t_h[-1]), prior.b, np.tile(mus, levels.size),
                              np.tile(sds, levels.size), prior.sigma)
-
 
 def score_wiener_run(histories: dict, run: str, library_runs: list[str], settings: list[WienerSetting],
                      lives_h: dict[str, float], cache: dict) -> dict[WienerSetting, list[Cut | None]]:
@@ -1213,13 +1223,11 @@ def score_wiener_run(histories: dict, run: str, library_runs: list[str], setting
                               float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
     return out
 
-
 def wiener_grid() -> list[WienerSetting]:
     """The Wiener settings weighed."""
     return [WienerSetting(ind, level, b, drift, never)
             for ind, level in (("accel_rms_g", "learned"), ("accel_peak_g", "learned"), ("accel_peak_g", "fixed"))
             for b in (1.0, 2.0, 0.0) for drift in ("updated", "prior") for never in ("never", "fails")]
-
 
 def wiener_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
     """Leave one run out for every Wiener setting, nested leave one out to choose one, and the in-sample
@@ -1259,11 +1267,260 @@ def wiener_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -
           + " ".join(f"{mean_a(c):.2f}" for c in (chosen[i * len(CUTS):(i + 1) * len(CUTS)]
                                                     for i in range(len(runs)))))
 
+# ------------------------------------------------ the Gaussian process alone: stable draws, calibrated intervals
+#
+# ``--gp-only`` scores the Gaussian-process settings alone (a few minutes instead of twenty):
+#
+# - Stable draws: the paths, thresholds and library growths are drawn by randomised quasi-Monte Carlo,
+#   a scrambled Sobol point set (Owen 1997, "Scrambled net variance for integrals of smooth functions",
+#   Annals of Statistics 25; scipy.stats.qmc), one dimension per principal component of the predictive
+#   covariance that holds GP_MODES of its variance, one for the threshold (its inverse distribution
+#   function) and one for the library growth (stratified over the library points, each drawn equally
+#   often). The seed scrambles the set; the score's spread over GP_SEEDS is printed.
+# - Why the intervals miss: the share of cuts whose actual life falls below the 80 % interval (the
+#   bearing failed sooner than the 10th percentile) and above it, and the interval's width (log of 90th
+#   over 10th percentile), per setting.
+# - Calibrated intervals: recalibrated regression (Kuleshov, Fenner & Ermon 2018, "Accurate
+#   uncertainties for deep learning using calibrated regression", ICML): the probability integral
+#   transform of the actual life (the share of the predictive's lives below it) is collected on the
+#   library alone, each library run left out in turn and scored with a library of the others; the
+#   held-out run's predictive lives are then mapped through the quantile function of those values, so
+#   that a level q of the answer is the level at which a share q of the library's actual lives fell.
+#   Nothing of the scored run enters its own calibration.
+
+GP_PATHS_LOG2 = 14             # 16384 quasi-random points per answer
+GP_MODES = 0.9999              # share of the predictive variance kept in the drawn components
+GP_RQMC_GRID = 100             # future times kept of the GP_GRID (the crossing interpolated between)
+GP_MAX_MODES = 16              # at most this many components (the rest hold less than 1e-4 of it)
+GP_SEEDS = (20261205, 1, 2, 3, 4)
+
+@dataclass(frozen=True)
+class GpRaw:
+    """One cut of a run under one setting: the actual remaining life (hours) and the lives (hours) of the
+    earlier point's predictive (the smaller median), as drawn."""
+    actual: float
+    lives: np.ndarray
+
+def gp_settings(everything: bool = False) -> list[LevelSetting]:
+    """The Gaussian-process settings of ``level_grid``; unless ``everything``, those of the acceleration
+    peak (the indicator a user's --limit is on) whose growth is pinned or drawn, to 20 g or to each
+    point's own end levels. The free growth is left out: its interval misses late (the actual life under
+    its 10th percentile at 69-83 % of the cuts); the run's ends score as the point's (0.141 and 0.211)."""
+    return [s for s in level_grid() if s.method == "gaussian process"
+            and (everything or (s.indicator == LIMITED and s.slope != "free" and s.ends != "run"))]
+
+@functools.lru_cache(maxsize=8)
+def rqmc_uniforms(dims: int, seed: int) -> np.ndarray:
+    """2 ** GP_PATHS_LOG2 points of a scrambled Sobol set in ``dims`` dimensions (Owen 1997); read only."""
+    from scipy.stats import qmc
+
+    u = np.asarray(qmc.Sobol(dims, scramble=True, seed=seed).random_base2(GP_PATHS_LOG2))
+    u.flags.writeable = False
+    return u
+
+def principal_parts(mean: np.ndarray, cov: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(mean, columns sd x direction of the covariance's principal components, the largest first, as many
+    as hold GP_MODES of its variance, at most GP_MAX_MODES)."""
+    w, vec = np.linalg.eigh(0.5 * (cov + cov.T))
+    order = np.argsort(w)[::-1]
+    w, vec = np.maximum(w[order], 0.0), vec[:, order]
+    total = float(np.sum(w))
+    k = 1 if total <= 0 else int(min(GP_MAX_MODES, np.searchsorted(np.cumsum(w) / total, GP_MODES) + 1))
+    return mean, vec[:, :k] * np.sqrt(w[:k])[None, :]
+
+def rqmc_paths(mean: np.ndarray, parts: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Paths of the Gaussian predictive (``principal_parts``) from the uniforms ``u``, one column per
+    component."""
+    from scipy.stats import norm
+
+    z = norm.ppf(np.clip(u[:, :parts.shape[1]], 1e-12, 1 - 1e-12))
+    return mean[None, :] + z @ parts.T
+
+def threshold_quantiles(ends: np.ndarray, above: float, u: np.ndarray) -> np.ndarray:
+    """``threshold_draws``'s truncated normal at the uniforms ``u`` (its inverse distribution function)."""
+    from scipy.stats import truncnorm
+
+    m, sd = float(np.mean(ends)), max(float(np.std(ends, ddof=1)), 1e-3)
+    a = min((above - m) / sd, 30.0)
+    return np.asarray(truncnorm(a, np.inf, loc=m, scale=sd).ppf(u))
+
+def gp_lives_rqmc(g: tuple[np.ndarray, np.ndarray, np.ndarray], s: LevelSetting, grow: np.ndarray,
+                  ends: np.ndarray | None, above: float, fixed_level: float, seed: int) -> np.ndarray:
+    """Remaining lives (hours) of one point under setting ``s`` from its predictive ``g`` (future hours,
+    mean, principal parts), by randomised quasi-Monte Carlo."""
+    future_h, mean, parts = g
+    every = max(1, len(future_h) // GP_RQMC_GRID)      # the crossing is interpolated: a coarser grid will do
+    future_h, mean, parts = future_h[::every], mean[::every], parts[::every]
+    u = rqmc_uniforms(GP_MAX_MODES + 2, seed)
+    paths = rqmc_paths(mean, parts, u[:, :GP_MAX_MODES])
+    if s.slope == "drawn":             # stratified: every library growth equally often
+        own = np.sort(grow)[np.minimum((u[:, -1] * len(grow)).astype(int), len(grow) - 1)]
+        paths = paths + (own - np.mean(grow))[:, None] * future_h[None, :]
+    thresholds = (np.full(len(u), fixed_level) if ends is None else threshold_quantiles(ends, above, u[:, -2]))
+    return crossing_interpolated(future_h, paths, thresholds)
+
+def crossing_interpolated(future_h: np.ndarray, paths: np.ndarray, thresholds: np.ndarray) -> np.ndarray:
+    """``first_crossing``, the time interpolated linearly between the grid times either side of the
+    crossing: the grid's steps (about 4 % of the time since the onset) are near the 5 % by which the
+    challenge score halves when late, so a crossing snapped to the grid moved the act-by time, and the
+    score, from seed to seed."""
+    crossed = paths >= thresholds[:, None]
+    i = np.argmax(crossed, axis=1)
+    rows = np.arange(len(paths))
+    before = np.maximum(i - 1, 0)
+    lo, hi = paths[rows, before], paths[rows, i]
+    frac = np.where((i > 0) & (hi > lo), (thresholds - lo) / np.where(hi > lo, hi - lo, 1.0), 1.0)
+    t = future_h[before] + np.clip(frac, 0.0, 1.0) * (future_h[i] - future_h[before])
+    return np.where(crossed.any(axis=1), t, NO_CROSSING_H)
+
+ACT_BY_LEVELS = np.linspace(0.0025, 0.9975, 399)   # candidates of the act-by time: finer than percentiles
+
+def act_by_fine(lives: np.ndarray) -> float:
+    """``act_by_weighted`` of equal draws, among the lives' quantiles at ACT_BY_LEVELS: percentiles of a
+    wide predictive lie about 5 % apart, where the score halves when late."""
+    cands = np.unique(np.quantile(lives, ACT_BY_LEVELS))
+    cands = cands[cands > 0]
+    if cands.size == 0:
+        return 0.0
+    # the expectation over 2048 evenly spaced quantiles of the lives (their distribution, summarised)
+    truth = np.maximum(np.quantile(lives, (np.arange(2048) + 0.5) / 2048), 1e-12)
+    er = 100 * (truth[None, :] - cands[:, None]) / truth[None, :]
+    return float(cands[int(np.argmax(challenge_score(er).mean(axis=1)))])
+
+def score_gp(histories: dict, run: str, library_runs: list[str], settings: list[LevelSetting],
+             lives_h: dict[str, float], seed: int, cache: dict) -> dict[LevelSetting, list[GpRaw | None]]:
+    """Every Gaussian-process setting's predictive at each cut of ``run`` (as ``score_levels``, with stable
+    draws); the predictives, which do not depend on the seed, are kept in ``cache``."""
+    out: dict[LevelSetting, list[GpRaw | None]] = {s: [] for s in settings}
+    indicators = {s.indicator for s in settings}
+    ends = {(s.indicator, s.ends): end_levels(histories, library_runs, s.indicator, s.ends, True)
+            for s in settings if s.ends != "fixed"}
+    slopes = {ind: library_slopes(histories, library_runs, ind) for ind in indicators}
+    for ci, cut in enumerate(CUTS):
+        now_h = cut * lives_h[run]
+        actual = _actual_h(histories, run, now_h, lives_h)
+        arrays = {}
+        for pt in sorted(histories[run]):
+            for ind in indicators:
+                t, v, hi = point_arrays(histories[run][pt], ind)
+                k = t <= now_h * 3600.0 + 1e-6
+                arrays[pt, ind] = (t[k] / 86400.0, v[k], hi[k])
+        for s in settings:
+            passed = {}
+            for pt in sorted(histories[run]):
+                days, v, hi = arrays[pt, s.indicator]
+                passed[pt] = float(np.max(level_ratio(v, healthy_level(v, hi)[0], True)))
+            found = []
+            for pt in sorted(histories[run]):
+                days, v, hi = arrays[pt, s.indicator]
+                phi = healthy_level(v, hi)[0]
+                if s.ends == "fixed" and v[-1] >= LIMIT_G:
+                    found.append((0.0, np.zeros(1)))
+                    continue
+                grow = slopes[s.indicator]
+                sd = float(np.std(grow, ddof=1)) if s.slope == "free" else PINNED_SD
+                key = (run, ci, pt, s.indicator, tuple(library_runs), sd)
+                if key not in cache:
+                    g = gp_predictive_since_onset(days, v, hi, (float(np.mean(grow)), sd))
+                    cache[key] = None if g is None else (g[0], *principal_parts(g[1], g[2]))
+                if cache[key] is None:
+                    continue
+                above = max(passed.values()) if s.ends == "run" else passed[pt]
+                lives = gp_lives_rqmc(cache[key], s, grow, None if s.ends == "fixed" else ends[s.indicator, s.ends],
+                                      above, float(np.log(LIMIT_G / phi)), seed)
+                found.append((float(np.median(lives)), lives))
+            out[s].append(None if not found else GpRaw(actual, min(found, key=lambda f: f[0])[1]))
+    return out
+
+def pit(raw: GpRaw) -> float:
+    """The probability integral transform of the actual life: the share of the predictive's lives below it."""
+    return float(np.mean(raw.lives < raw.actual) + 0.5 * np.mean(raw.lives == raw.actual))
+
+def recalibrated(lives: np.ndarray, pits: np.ndarray) -> np.ndarray:
+    """The lives at the levels where the library's actual lives fell: level q of the answer is the
+    predictive's quantile at the q-quantile of the library's PIT values (Kuleshov et al. 2018)."""
+    levels = (np.arange(len(lives)) + 0.5) / len(lives)
+    return np.quantile(lives, np.clip(np.quantile(pits, levels), 0.0, 1.0))
+
+def judge(raw: GpRaw | None, pits: np.ndarray | None = None) -> Cut | None:
+    """The cut's scores from its predictive, recalibrated by the library's ``pits`` when given."""
+    if raw is None:
+        return None
+    lives = raw.lives if pits is None or len(pits) == 0 else recalibrated(raw.lives, pits)
+    med, lo, hi = (float(np.quantile(lives, q)) for q in (0.5, 0.1, 0.9))
+    act = act_by_fine(lives)
+    return Cut(float(challenge_score(100 * (raw.actual - act) / raw.actual)),
+               float(challenge_score(100 * (raw.actual - med) / raw.actual)), lo <= raw.actual <= hi)
+
+def misses(raws: list[GpRaw | None]) -> str:
+    """'below, above, width': shares of answered cuts whose actual life fell below the 10th or above the
+    90th percentile of the predictive, and the median log ratio of the 90th to the 10th percentile."""
+    got = [r for r in raws if r is not None]
+    if not got:
+        return ""
+    p = np.array([pit(r) for r in got])
+    width = np.median([np.log(max(np.quantile(r.lives, 0.9), 1e-6) / max(np.quantile(r.lives, 0.1), 1e-6))
+                       for r in got])
+    return f"{np.mean(p < 0.1):6.0%}{np.mean(p > 0.9):6.0%}{width:7.2f}"
+
+def gp_methods(histories: dict, runs: list[str], lives_h: dict[str, float], seeds: tuple[int, ...],
+               everything: bool = False) -> None:
+    """The Gaussian-process settings alone: leave one run out under each seed (the spread of the mean A
+    over the seeds), why the intervals miss, then each setting recalibrated on its library (nested: the
+    calibration from the other five runs, each left out of a library of four), with an in-sample bound."""
+    settings = gp_settings(everything)
+    cache: dict = {}
+    print("\nGaussian process alone, leave one run out, quasi-random draws (below / above: actual life under "
+          "the 10th / over the 90th percentile; width: ln(q90 / q10))")
+    outer = {seed: {r: score_gp(histories, r, [x for x in runs if x != r], settings, lives_h, seed, cache)
+                    for r in runs} for seed in seeds}
+    plain = {seed: {r: {s: [judge(c) for c in outer[seed][r][s]] for s in settings} for r in runs} for seed in seeds}
+    first = seeds[0]
+    print(f"{'setting':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}{'below':>6}{'above':>6}{'width':>7}"
+          f"{'A seeds':>16}  per run A " + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        a = [mean_a([c for r in runs for c in plain[seed][r][s]]) for seed in seeds]
+        print(f"{str(s):<58}{summary([c for r in runs for c in plain[first][r][s]])}"
+              f"{misses([c for r in runs for c in outer[first][r][s]])}{min(a):8.3f}-{max(a):.3f}  "
+              + " ".join(f"{mean_a(plain[first][r][s]):.2f}" for r in runs))
+    # recalibrated on the library: PIT values of every other run, scored with a library of the rest
+    print("\nrecalibrated on the library (Kuleshov et al. 2018), nested: each run's calibration from the "
+          "other five, each left out of a library of four")
+    inner_pits: dict[str, dict[LevelSetting, np.ndarray]] = {}
+    for r in runs:
+        others = [x for x in runs if x != r]
+        got_pits: dict[LevelSetting, list[float]] = {s: [] for s in settings}
+        for j in others:
+            got = score_gp(histories, j, [x for x in others if x != j], settings, lives_h, first, cache)
+            for s in settings:
+                got_pits[s].extend(pit(c) for c in got[s] if c is not None)
+        inner_pits[r] = {s: np.array(v) for s, v in got_pits.items()}
+    recal = {seed: {r: {s: [judge(c, inner_pits[r][s]) for c in outer[seed][r][s]] for s in settings} for r in runs}
+             for seed in seeds}
+    print(f"{'setting':<58}{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}{'A seeds':>16}  per run A "
+          + " ".join(r[-3:] for r in runs))
+    for s in settings:
+        a = [mean_a([c for r in runs for c in recal[seed][r][s]]) for seed in seeds]
+        print(f"{str(s):<58}{summary([c for r in runs for c in recal[first][r][s]])}{min(a):8.3f}-{max(a):.3f}  "
+              + " ".join(f"{mean_a(recal[first][r][s]):.2f}" for r in runs))
+    # in sample: library, prior growth and calibration from all six runs, the scored one among them
+    inside = {r: score_gp(histories, r, runs, settings, lives_h, first, cache) for r in runs}
+    print("in sample (library, growths and calibration from all six runs, the scored one included):")
+    for s in settings:
+        pits_all = np.array([pit(c) for r in runs for c in inside[r][s] if c is not None])
+        print(f"{str(s):<58}{summary([judge(c) for r in runs for c in inside[r][s]])}  recalibrated "
+              f"{summary([judge(c, pits_all) for r in runs for c in inside[r][s]])}")
+
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
     ap.add_argument("--data", default=None, help="the learning runs, if the histories are not cached yet")
     ap.add_argument("--wiener-only", action="store_true", help="score only the Wiener-process method (10-20 minutes)")
+    ap.add_argument("--gp-only", action="store_true",
+                    help="score only the Gaussian-process settings (stable draws, calibration; a few minutes)")
+    ap.add_argument("--seeds", type=int, default=len(GP_SEEDS), help="with --gp-only: how many seeds of GP_SEEDS")
+    ap.add_argument("--gp-all", action="store_true", help="with --gp-only: every GP setting, the free growth too")
     args = ap.parse_args()
     from bench.femto import DATA
     histories = load_histories(Path(args.data) if args.data else DATA, Path(args.out).resolve(), 2, False)
@@ -1271,6 +1528,9 @@ def main() -> int:
     lives_h = {r: max(max(h[LIMITED][0]) for h in histories[r].values()) / 3600.0 for r in runs}
     if args.wiener_only:
         wiener_report(histories, runs, lives_h)
+        return 0
+    if args.gp_only:
+        gp_methods(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds)], args.gp_all)
         return 0
     settings = grid()
     priors: dict[tuple[str, ...], Prior] = {}
@@ -1302,10 +1562,10 @@ def main() -> int:
         print(f"{r}: chose {best} (inner A {mean_a(inner[best]):.3f}), held out A {mean_a(outer[r][best]):.3f}")
     print(f"nested: n, A, A med, coverage {summary(chosen_cuts)}")
     hazard_report(histories, runs, lives_h)
-
     level_methods(histories, runs, lives_h)
     wiener_report(histories, runs, lives_h)
     return 0
+
 
 if __name__ == "__main__":
     raise SystemExit(main())

@@ -523,3 +523,91 @@ def test_the_library_growth_is_the_slope_of_each_points_log_ratio_since_its_onse
 
     h = _histories_of({"a": {"H": grown(0.08), "V": grown(0.04)}})
     assert library_slopes(h, ["a"], "accel_rms_g") == pytest.approx([2.88, 1.44], rel=0.05)
+
+# ------------------------------------- bench.femto_compare: the GP's quasi-random draws and recalibration
+
+def test_quasi_random_paths_have_the_predictives_quantiles_under_every_seed():
+    # a Gaussian of known mean and covariance (two components, derived): each coordinate's 10th, 50th and
+    # 90th percentiles of the paths are the normal's own (scipy as reference), under each seed, to within
+    # 0.02 sd (plain random draws of the same number: an sd of 0.02-0.027 sd, sqrt(q(1-q)) / pdf / 64)
+    from scipy.stats import norm
+
+    from bench.femto_compare import GP_MAX_MODES, GP_SEEDS, principal_parts, rqmc_paths, rqmc_uniforms
+
+    t = np.linspace(0.0, 1.0, 30)
+    mean = 2.0 * t
+    cov = 0.25 * np.outer(t, t) + 0.04 * np.exp(-0.5 * (t[:, None] - t[None, :]) ** 2 / 0.3 ** 2)
+    m, parts = principal_parts(mean, cov)
+    assert parts.shape[1] <= GP_MAX_MODES
+    sd = np.sqrt(np.diag(cov))
+    for seed in GP_SEEDS:
+        paths = rqmc_paths(m, parts, rqmc_uniforms(GP_MAX_MODES + 2, seed))
+        for q in (0.1, 0.5, 0.9):
+            got = np.quantile(paths[:, -1], q)
+            assert got == pytest.approx(mean[-1] + norm.ppf(q) * sd[-1], abs=0.02 * sd[-1])
+        np.testing.assert_allclose(np.cov(paths.T), cov, atol=0.01)
+
+def test_threshold_quantiles_are_the_truncated_normals_inverse():
+    # scipy as reference: far below the ends the truncation does nothing, so level u is the normal's
+    # quantile; passed above 2.5 every threshold is above it, and the median is that of the truncated normal
+    from scipy.stats import norm, truncnorm
+
+    from bench.femto_compare import threshold_quantiles
+
+    ends = np.array([1.5, 2.0, 2.5])          # mean 2, sd 0.5 (derived)
+    u = np.array([0.1, 0.5, 0.9])
+    np.testing.assert_allclose(threshold_quantiles(ends, -10.0, u), 2.0 + 0.5 * norm.ppf(u), rtol=1e-9)
+    held = threshold_quantiles(ends, 2.5, u)
+    assert held.min() > 2.5 and held[1] == pytest.approx(truncnorm(1.0, np.inf, loc=2.0, scale=0.5).median())
+
+def test_recalibration_maps_the_levels_to_where_the_librarys_actual_lives_fell():
+    # lives evenly over 0-100 h; the library's actual lives all fell in the middle half of their
+    # predictives (PIT values evenly over 0.25-0.75): the recalibrated 10th and 90th percentiles are the
+    # old 30th and 70th (derived: the 0.1 quantile of a uniform on 0.25-0.75 is 0.3); PIT values evenly
+    # over 0-1 (calibrated already) leave the lives as they were
+    from bench.femto_compare import GpRaw, judge, pit, recalibrated
+
+    lives = np.linspace(0.0, 100.0, 4001)
+    narrow = recalibrated(lives, np.linspace(0.25, 0.75, 501))
+    assert np.quantile(narrow, 0.1) == pytest.approx(30.0, abs=0.2)
+    assert np.quantile(narrow, 0.9) == pytest.approx(70.0, abs=0.2)
+    same = recalibrated(lives, np.linspace(0.0, 1.0, 1001))
+    assert np.quantile(same, 0.1) == pytest.approx(10.0, abs=0.2) and np.median(same) == pytest.approx(50.0, abs=0.2)
+    # the actual life at the predictive's 95th percentile: PIT 0.95; outside the 80 % interval, inside
+    # once the interval is widened by a library whose actual lives fell at 0 or 1 half the time
+    raw = GpRaw(95.0, lives)
+    assert pit(raw) == pytest.approx(0.95, abs=1e-3)
+    plain = judge(raw)
+    assert plain is not None and not plain.covered
+    wide = judge(raw, np.r_[np.zeros(50), np.linspace(0.0, 1.0, 100), np.ones(50)])
+    assert wide is not None and wide.covered
+
+def test_the_interpolated_crossing_falls_where_the_straight_path_meets_the_threshold():
+    # a path rising as y = t on a grid 1 h apart crosses 2.5 at 2.5 h (derived), not at the 3 h grid time
+    # first_crossing gives; one already past at the first grid time crosses there; one never: NO_CROSSING_H
+    from bench.femto_compare import NO_CROSSING_H, crossing_interpolated, first_crossing
+
+    future = np.arange(1.0, 11.0)
+    paths = np.vstack([future, future + 5.0, np.zeros(10)])
+    thresholds = np.array([2.5, 3.0, 1.0])
+    np.testing.assert_allclose(crossing_interpolated(future, paths, thresholds), [2.5, 1.0, NO_CROSSING_H])
+    assert first_crossing(future, paths, thresholds)[0] == 3.0
+
+def test_the_fine_act_by_time_is_the_best_expected_score_of_a_lognormal():
+    # scipy as reference: the expected challenge score over a lognormal (median 10 h, sigma 0.3) at each
+    # estimate, integrated by quadrature; its maximum and the sample's act-by time agree within 1 %
+    from scipy import integrate, optimize
+    from scipy.stats import lognorm
+
+    from bench.femto_compare import act_by_fine
+    from engine.trend.degradation import challenge_score
+
+    dist = lognorm(0.3, scale=10.0)
+
+    def expected(c: float) -> float:
+        return integrate.quad(lambda x: float(challenge_score(100 * (x - c) / x)) * dist.pdf(x), 0.0, 60.0,
+                              points=[c], limit=200)[0]
+
+    best = optimize.minimize_scalar(lambda c: -expected(c), bounds=(3.0, 15.0), method="bounded").x
+    lives = dist.ppf((np.arange(16384) + 0.5) / 16384)
+    assert act_by_fine(lives) == pytest.approx(best, rel=0.01)
