@@ -122,6 +122,18 @@ def _phased(key, fault, component, stage, seed, entries):
                                                      for i, (point, direction, deg, *amp) in enumerate(entries)))
     return make
 
+def _wandering(key, fault, component, stage, seed, wander):
+    """A simulated fault whose speed wanders: the machine's clock runs (1 + ``wander`` sin 2 pi 0.5 t) times as
+    fast (a slow fluctuation of the speed, as a loaded induction motor has), so what repeats once per turn is
+    no longer exactly synchronous with the record's mean speed."""
+    def make():
+        sim = simulate(_machine(key), fault, component, stage, None, 25600.0, 4.0, seed)
+        t = np.arange(len(next(iter(sim.channels.values())))) / sim.fs_hz
+        clock = t + wander * np.sin(2 * np.pi * 0.5 * t) / (2 * np.pi * 0.5)
+        warped = {k: np.interp(clock, t, x) for k, x in sim.channels.items()}
+        return as_reading(dataclasses.replace(sim, channels=warped))
+    return make
+
 # (what the reading is, its machine, how to make it, the rules it is here for: a guide for whoever
 # meets a failure, not a promise checked one by one)
 SIMULATED = [
@@ -224,10 +236,42 @@ SIMULATED = [
     ("belt fan, rotating looseness at the fan", "ef4",
      lambda: as_reading(simulate(_machine("ef4"), "looseness-rotating", "fan", 3, None, 25600.0, 4.0, 1)),
      "belt.sheave-misalignment.against-half-orders"),
+    # a tooth struck once per turn is taken out with the synchronous part when the speed is steady; with a
+    # speed wandering 0.2 % its impacts stay in the waveform the envelope looks at
+    ("bevel tooth, speed wandering 0.2 %", "ct1", _wandering("ct1", "gear-tooth", "bevel_stage", 3, 15, 0.002),
+     "gear.tooth.impacts-per-turn"),
     ("two gears on one shaft, the second stage's tooth damaged", "gc1",
      lambda: as_reading(simulate(_machine("gc1"), "gear-tooth", "second_stage", 2, None, 25600.0, 4.0, 0)),
      "gear.tooth.other-mesh-on-shaft"),
 ]
+
+def _trend(**over) -> dict:
+    """A trend fact at P1H (``engine/trend/facts.py``'s fields) that moves no urgency, changed by ``over``."""
+    fact = {"kind": "trend", "id": "trend-1", "point": "P1H", "direction": "horizontal",
+            "indicator": "accel_rms_g", "indicator_name": "acceleration RMS, g", "readings": 8, "baseline": 0.1,
+            "latest": 0.12, "change_pct": 20.0, "rate_per_month": 0.01, "iso_change_significant": False,
+            "projected_days": -1.0, "projected_low_days": -1.0, "projected_high_days": -1.0,
+            "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
+            "projection_to": "", "projection_boundary": ""}
+    return {**fact, **over}
+
+# a reading diagnosed beside its history (``diagnose``'s more_facts, as ``diagnose --store`` passes the trend
+# facts): (what the history says, the trend facts, the rules it is here for)
+WITH_TREND = [
+    ("a limit projected in 5 days", [_trend(projected_days=10.0, projected_low_days=5.0, projected_high_days=15.0,
+                                            degradation_began=True, readings_since_onset=6,
+                                            projection_to="limit accel_rms_g = 1", projection_boundary="limit")],
+     "trend.time-to-act.projected-crossing"),
+    ("a significant change of velocity", [_trend(indicator="velocity_rms_mm_s", indicator_name="velocity RMS, mm/s",
+                                                 iso_change_significant=True)],
+     "trend.time-to-act.velocity-change"),
+    ("acceleration doubled and rising", [_trend(indicator="accel_peak_g", change_pct=120.0)],
+     "trend.time-to-act.fast-rise-level"),
+    ("an envelope line up 7 dB", [_trend(indicator="env_BPFI_db", indicator_name="envelope BPFI, dB", change_db=7.0,
+                                         change_pct=0.0)],
+     "trend.time-to-act.fast-rise-envelope"),
+]
+
 
 def _fired(reasoning) -> set[str]:
     found = {f.rule_id for f in reasoning.chain}
@@ -247,12 +291,18 @@ def firings() -> dict[str, set[str]]:
     for label, key, make, _ in SIMULATED:
         for rule in _fired(diagnose(make(), _machine(key), reasoner()).reasoning):
             seen.setdefault(rule, set()).add(label)
+    healthy = as_reading(_sim("rw2", "unbalance", 1, 2))
+    for label, facts, _ in WITH_TREND:
+        d = diagnose(healthy, _machine("rw2"), reasoner(), more_facts=lambda *_, facts=facts: facts)
+        for rule in _fired(d.reasoning):
+            seen.setdefault(rule, set()).add(label)
     return seen
 
 def test_every_shipped_rule_fires_in_a_demo_case_or_a_simulated_reading(firings):
     shipped = {rule.id for rule in load_rulebook().rules}
     never = sorted(shipped - set(firings))
     meant = {rule: label for label, _, _, rules in SIMULATED for rule in rules.split()}
+    meant |= {rule: label for label, _, rules in WITH_TREND for rule in rules.split()}
     assert not never, "rules that never fire: " + "; ".join(
         f"{rule} (meant to fire in: {meant.get(rule) or meant.get(rule.rsplit('.', 1)[0] + '.*') or 'a demo case'})"
         for rule in never)
@@ -260,7 +310,8 @@ def test_every_shipped_rule_fires_in_a_demo_case_or_a_simulated_reading(firings)
 def test_every_simulated_reading_fires_the_rules_it_is_for(firings):
     """A simulated reading is here for its rules (the demo cases cover the rest): one that no
     longer fires them is a recipe gone wrong, even while some other reading still covers them."""
-    missed = [(label, rule) for label, _, _, rules in SIMULATED for rule in rules.split()
+    meant = [(x[0], x[-1]) for x in SIMULATED + WITH_TREND]
+    missed = [(label, rule) for label, rules in meant for rule in rules.split()
               if not any(label in firings.get(r, ()) for r in _matching(rule, firings))]
     assert not missed, missed
 
