@@ -142,3 +142,14 @@ def interrupt(proc: subprocess.Popen, when) -> tuple[int, str]:
             os.killpg(proc.pid, signal.SIGKILL)
             proc.wait()
     return proc.returncode, err.decode(errors="replace")
+
+
+def trend_fact(**over) -> dict:
+    """A trend fact at P1H (the fields ``engine/trend/facts.py`` gives) that moves no urgency, changed by ``over``."""
+    fact = {"kind": "trend", "id": "trend-1", "point": "P1H", "direction": "horizontal",
+            "indicator": "accel_rms_g", "indicator_name": "acceleration RMS, g", "readings": 8, "baseline": 0.1,
+            "latest": 0.12, "change_pct": 20.0, "rate_per_month": 0.01, "iso_change_significant": False,
+            "projected_days": -1.0, "projected_low_days": -1.0, "projected_high_days": -1.0,
+            "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
+            "projection_to": "", "projection_boundary": ""}
+    return {**fact, **over}

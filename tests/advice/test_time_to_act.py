@@ -14,6 +14,7 @@ from engine.simulation import as_reading, simulate
 
 from support import RW2
 from support import reasoner as shared_reasoner
+from support import trend_fact as support_trend_fact
 
 
 @pytest.fixture(scope="module")
@@ -22,14 +23,7 @@ def reasoner():
 
 
 def trend_fact(**over) -> dict:
-    """A trend fact at P1H with nothing that moves an urgency, changed by ``over``."""
-    fact = {"kind": "trend", "id": "trend-1", "point": "P1H", "direction": "horizontal",
-            "indicator": "accel_rms_g", "indicator_name": "acceleration RMS, g", "readings": 8, "baseline": 0.1,
-            "latest": 0.12, "change_pct": 20.0, "rate_per_month": 0.01, "iso_change_significant": False,
-            "projected_days": -1.0, "projected_low_days": -1.0, "projected_high_days": -1.0,
-            "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
-            "projection_to": "", "projection_boundary": ""}
-    fact.update(over)
+    fact = support_trend_fact(**over)
     assert set(fact) == set(fields_of("trend")) | {"kind", "id"}
     return fact
 

@@ -29,7 +29,7 @@ from engine.readings.quality import check_channel
 from engine.reasoning import load_rulebook
 from engine.simulation import as_reading, simulate
 
-from support import CASES, TEST_MACHINES, reasoner
+from support import CASES, TEST_MACHINES, reasoner, trend_fact
 
 pytestmark = pytest.mark.slow
 
@@ -245,29 +245,19 @@ SIMULATED = [
      "gear.tooth.other-mesh-on-shaft"),
 ]
 
-def _trend(**over) -> dict:
-    """A trend fact at P1H (``engine/trend/facts.py``'s fields) that moves no urgency, changed by ``over``."""
-    fact = {"kind": "trend", "id": "trend-1", "point": "P1H", "direction": "horizontal",
-            "indicator": "accel_rms_g", "indicator_name": "acceleration RMS, g", "readings": 8, "baseline": 0.1,
-            "latest": 0.12, "change_pct": 20.0, "rate_per_month": 0.01, "iso_change_significant": False,
-            "projected_days": -1.0, "projected_low_days": -1.0, "projected_high_days": -1.0,
-            "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
-            "projection_to": "", "projection_boundary": ""}
-    return {**fact, **over}
-
 # a reading diagnosed beside its history (``diagnose``'s more_facts, as ``diagnose --store`` passes the trend
 # facts): (what the history says, the trend facts, the rules it is here for)
 WITH_TREND = [
-    ("a limit projected in 5 days", [_trend(projected_days=10.0, projected_low_days=5.0, projected_high_days=15.0,
+    ("a limit projected in 5 days", [trend_fact(projected_days=10.0, projected_low_days=5.0, projected_high_days=15.0,
                                             degradation_began=True, readings_since_onset=6,
                                             projection_to="limit accel_rms_g = 1", projection_boundary="limit")],
      "trend.time-to-act.projected-crossing"),
-    ("a significant change of velocity", [_trend(indicator="velocity_rms_mm_s", indicator_name="velocity RMS, mm/s",
+    ("a significant change of velocity", [trend_fact(indicator="velocity_rms_mm_s", indicator_name="velocity RMS, mm/s",
                                                  iso_change_significant=True)],
      "trend.time-to-act.velocity-change"),
-    ("acceleration doubled and rising", [_trend(indicator="accel_peak_g", change_pct=120.0)],
+    ("acceleration doubled and rising", [trend_fact(indicator="accel_peak_g", change_pct=120.0)],
      "trend.time-to-act.fast-rise-level"),
-    ("an envelope line up 7 dB", [_trend(indicator="env_BPFI_db", indicator_name="envelope BPFI, dB", change_db=7.0,
+    ("an envelope line up 7 dB", [trend_fact(indicator="env_BPFI_db", indicator_name="envelope BPFI, dB", change_db=7.0,
                                          change_pct=0.0)],
      "trend.time-to-act.fast-rise-envelope"),
 ]
