@@ -114,7 +114,11 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
     kind = FAULTS[fault].sits_on
     if kind == "shaft":
         if component not in machine.shaft_speeds_hz:
-            raise UsageError(f"no shaft {component!r} in {machine.name!r}")
+            coupling = machine.coupling(component)
+            hint = (f"; {component!r} is a coupling: name one of the shafts it joins ({', '.join(coupling.shafts)})"
+                    if coupling is not None else "")
+            raise UsageError(f"no shaft {component!r} in {machine.name!r} (its shafts: "
+                             f"{', '.join(machine.shaft_speeds_hz)}){hint}")
         return {component}
     for items, kinds in ((machine.bearings, "bearing"), (machine.bearings, "support"), (machine.rotors, "rotor"),
                          (machine.motors, "motor")):

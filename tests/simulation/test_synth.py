@@ -232,3 +232,13 @@ def test_each_fault_is_made_in_its_family_module_from_kinematics_rates():
             continue
         text = path.read_text(encoding="utf-8")
         assert not [g for g in geometry if g in text], (path.name, [g for g in geometry if g in text])
+
+
+def test_a_shaft_fault_named_on_a_coupling_lists_the_shafts_and_the_ones_it_joins():
+    from engine.common.errors import UsageError
+    machine = load_machine(CASES / "machines" / "ct1-cooling-tower-fan.yaml")
+    with pytest.raises(UsageError) as raised:
+        simulate(machine, "misalignment-angular", "drive_shaft", 3, None, 25600.0, 1.0, 1)
+    message = str(raised.value)
+    assert "its shafts: motor, gear_input, fan" in message, message
+    assert "'drive_shaft' is a coupling: name one of the shafts it joins (motor, gear_input)" in message, message
