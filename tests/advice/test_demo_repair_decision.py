@@ -1,5 +1,5 @@
-"""The demo's repair decisions as a planner reads them (nu26 items 5, 6, 11, 12, 15, 20): the inner-race
-case at its true stage, the rotor-bar case with its own severity and one piece of evidence, the
+"""The demo's repair decisions as a planner reads them (nu26 items 5, 11, 12, 15, 16, 20): the inner-race
+case's own bearing, the rotor-bar case with its own severity and one piece of evidence, the
 differential without a repeated sentence and with the envelope band as a setting."""
 
 from __future__ import annotations
@@ -44,3 +44,12 @@ def test_the_rotor_bar_case_counts_its_sidebands_once_and_grades_them():
     assert not re.search(r"\b(\w+) \(\1\)", text.split("SITE ALARMS")[1].split("\n\n")[0])   # no "P1H (P1H)"
     assert "windmill" not in text and "suction and discharge valves" in text
     assert "prove dead" in text                                   # a motor electrical test is advised
+
+
+def test_a_rival_explained_away_names_the_hypothesis_that_explains_it():
+    doc = doc_of("ct1-bevel-tooth")
+    text = render(doc, "text")
+    dx = next(x for x in doc["differential"] if x["fault"] == "gear-tooth")
+    assert any(r["explained_by_leader"] >= 0.01 for r in dx["rivals"]), dx["rivals"]
+    assert "better explained by the leading hypothesis" not in text
+    assert f"of its signs are better explained by {dx['fault_name']} on {dx['component']}" in text, text
