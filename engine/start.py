@@ -3,8 +3,8 @@
 A Ctrl-C while the command line is parsed or the engine is imported (numpy, scipy and the
 rest take a good part of a second) would otherwise end in a Python traceback and a death
 by signal. Here the whole run, its imports included, sits inside one handler: an interrupt
-at any moment prints ``tellwave: interrupted`` and exits 130 (``EXIT_INTERRUPTED``; ``engine.cli.main``
-leaves through the same ``_interrupted``).
+at any moment prints ``tellwave: interrupted`` and exits 130 (``common.errors.interrupted``, the way
+``engine.cli.main`` leaves too).
 Only the interpreter's own start-up, before this module runs, is outside it.
 """
 
@@ -13,17 +13,7 @@ from __future__ import annotations
 import signal
 import sys
 
-EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
-
-
-def _interrupted() -> int:
-    """Say so once and leave quietly: a second Ctrl-C while leaving is ignored."""
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    try:
-        print("tellwave: interrupted", file=sys.stderr)
-    except (OSError, ValueError):
-        pass
-    return EXIT_INTERRUPTED
+from .common.errors import interrupted
 
 
 def main(argv=None) -> int:
@@ -34,7 +24,7 @@ def main(argv=None) -> int:
 
         return run(argv)
     except KeyboardInterrupt:
-        return _interrupted()
+        return interrupted()
 
 
 def script() -> None:
@@ -42,7 +32,7 @@ def script() -> None:
     try:
         code = main()
     except KeyboardInterrupt:
-        code = _interrupted()
+        code = interrupted()
     sys.exit(code)
 
 

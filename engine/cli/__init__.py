@@ -15,8 +15,7 @@ from __future__ import annotations
 import sys
 import warnings
 
-from ..common.errors import TellwaveError, UsageError
-from ..start import _interrupted  # Ctrl-C's one home
+from ..common.errors import TellwaveError, UsageError, interrupted
 from . import (
     alarms,
     demo,
@@ -111,7 +110,7 @@ def main(argv=None) -> int:
     try:
         return _main(argv)
     except KeyboardInterrupt:
-        return _interrupted()
+        return interrupted()
 
 
 def _main(argv) -> int:

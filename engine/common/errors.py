@@ -10,10 +10,26 @@ not fit its machine file (a channel at a point the machine lacks); 5 bad ruleboo
 advice data; 6 a rule failed while running; 7 diagnosed, but the reading cannot
 support a conclusion (``EXIT_WITHHELD``: not an error, a result); 8 the history
 store cannot be used; 9 a route finished, but some of its readings failed; 130
-interrupted (Ctrl-C, ``engine.start.EXIT_INTERRUPTED``).
+interrupted (Ctrl-C, ``EXIT_INTERRUPTED``: ``interrupted`` says so).
 """
 
 from __future__ import annotations
+
+import signal
+import sys
+
+EXIT_INTERRUPTED = 130   # 128 + SIGINT, as shells report it
+
+
+def interrupted() -> int:
+    """Ctrl-C's way out, for the entry point and the command line alike: say so once and leave quietly
+    (a second Ctrl-C while leaving is ignored)."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        print("tellwave: interrupted", file=sys.stderr)
+    except (OSError, ValueError):
+        pass
+    return EXIT_INTERRUPTED
 
 
 class TellwaveError(Exception):
