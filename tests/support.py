@@ -153,3 +153,22 @@ def trend_fact(**over) -> dict:
             "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
             "projection_to": "", "projection_boundary": ""}
     return {**fact, **over}
+
+
+def pump_reading(folder: Path) -> Path:
+    """A one-channel RW-2 reading (P1H, unbalance at stage 2, 1 s at 12.8 kHz, seed 5) written to ``folder``."""
+    from engine.machine import load_machine
+    from engine.simulation import simulate, write_simulation
+
+    sim = simulate(load_machine(RW2), "unbalance", "pump", 2, fs_hz=12800.0, duration_s=1.0, seed=5, points=["P1H"])
+    write_simulation(sim, folder / "r.wav")
+    return folder / "r.wav"
+
+
+def diagnose_stored(reading: Path, store: Path, *more: str) -> int:
+    """``tellwave diagnose READING --machine RW-2 --store STORE --format json`` (report beside the store)."""
+    from engine.cli import main
+
+    return main(["diagnose", str(reading), "--machine", str(RW2), "--store", str(store), "--format", "json",
+                 "-o", str(store.parent / "out.json"), *more])
+

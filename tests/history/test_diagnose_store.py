@@ -10,24 +10,11 @@ import re
 
 from engine.cli import main
 from engine.history.store import Store
-from engine.machine import load_machine
-from engine.simulation import simulate, write_simulation
 
-from support import CASES, one_error_line
+from support import CASES, diagnose_stored, one_error_line, pump_reading
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"
 NAME = "RW-2 raw water pump"
-
-
-def _reading(folder):
-    sim = simulate(load_machine(PUMP), "unbalance", "pump", 2, fs_hz=12800.0, duration_s=1.0, seed=5, points=["P1H"])
-    write_simulation(sim, folder / "r.wav")
-    return folder / "r.wav"
-
-
-def _diagnose(reading, store, *more):
-    return main(["diagnose", str(reading), "--machine", str(PUMP), "--store", str(store), "--format", "json",
-                 "-o", str(store.parent / "out.json"), *more])
 
 
 def _times(store) -> list[str]:
@@ -36,10 +23,10 @@ def _times(store) -> list[str]:
 
 
 def test_it_says_what_it_stored_and_a_file_time_is_to_the_second(tmp_path, capsys):
-    reading, store = _reading(tmp_path), tmp_path / "h.sqlite"
+    reading, store = pump_reading(tmp_path), tmp_path / "h.sqlite"
     os.utime(reading, (1780000000.123456, 1780000000.123456))      # a modification time with a fraction
     capsys.readouterr()
-    assert _diagnose(reading, store) == 0
+    assert diagnose_stored(reading, store) == 0
     err = capsys.readouterr().err
     (when,) = _times(store)
     assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d", when)      # no microseconds
@@ -47,7 +34,7 @@ def test_it_says_what_it_stored_and_a_file_time_is_to_the_second(tmp_path, capsy
 
 
 def test_a_future_taken_at_is_refused_and_nothing_is_stored(tmp_path, capsys):
-    reading, store = _reading(tmp_path), tmp_path / "h.sqlite"
+    reading, store = pump_reading(tmp_path), tmp_path / "h.sqlite"
     err = one_error_line(capsys, 2, ["diagnose", str(reading), "--machine", str(PUMP), "--store", str(store),
                                      "--taken-at", "2999-01-01T09:00"])
     assert "--taken-at 2999-01-01T09:00:00 is in the future" in err
@@ -55,12 +42,12 @@ def test_a_future_taken_at_is_refused_and_nothing_is_stored(tmp_path, capsys):
 
 
 def test_another_taken_at_moves_the_reading_and_says_so_keeping_its_findings(tmp_path, capsys):
-    reading, store = _reading(tmp_path), tmp_path / "h.sqlite"
-    assert _diagnose(reading, store, "--taken-at", "2026-03-01T08:00:00") == 0
+    reading, store = pump_reading(tmp_path), tmp_path / "h.sqlite"
+    assert diagnose_stored(reading, store, "--taken-at", "2026-03-01T08:00:00") == 0
     assert main(["findings", "add", "--reading", "1", "--component", "pump", "--fault", "unbalance",
                  "--date", "2026-03-05", "--store", str(store)]) == 0
     capsys.readouterr()
-    assert _diagnose(reading, store, "--taken-at", "2026-03-02T08:00:00") == 0      # a corrected time
+    assert diagnose_stored(reading, store, "--taken-at", "2026-03-02T08:00:00") == 0      # a corrected time
     assert "moved from 2026-03-01T08:00:00" in capsys.readouterr().err
     assert _times(store) == ["2026-03-02T08:00:00"]
     with Store(store, create=False) as s:
@@ -73,14 +60,14 @@ def test_another_taken_at_moves_the_reading_and_says_so_keeping_its_findings(tmp
     assert _times(store) == ["2026-03-02T08:00:00"]
     # the same time again: nothing moves, nothing is said of it
     capsys.readouterr()
-    assert _diagnose(reading, store, "--taken-at", "2026-03-02T08:00:00") == 0
+    assert diagnose_stored(reading, store, "--taken-at", "2026-03-02T08:00:00") == 0
     assert "moved" not in capsys.readouterr().err
     with Store(store, create=False) as s:
         assert len(s.findings(NAME)) == 1
 
 
 def test_a_store_in_a_folder_that_does_not_exist_is_one_line(tmp_path, capsys):
-    reading = _reading(tmp_path)
+    reading = pump_reading(tmp_path)
     store = tmp_path / "no" / "folder" / "h.sqlite"
     for argv in (["diagnose", str(reading), "--machine", str(PUMP), "--store", str(store)],
                  ["route", str(tmp_path / "none.yaml"), "--store", str(store)]):

@@ -8,45 +8,32 @@ import sqlite3
 from engine.cli import main
 from engine.history.record import content_hash
 from engine.history.store import Store
-from engine.machine import load_machine
-from engine.simulation import simulate, write_simulation
 
-from support import CASES
+from support import CASES, diagnose_stored, pump_reading
 
 PUMP = CASES / "machines" / "rw2-raw-water-pump.yaml"
 
 
-def _reading(folder):
-    sim = simulate(load_machine(PUMP), "unbalance", "pump", 2, fs_hz=12800.0, duration_s=1.0, seed=5, points=["P1H"])
-    write_simulation(sim, folder / "r.wav")
-    return folder / "r.wav"
-
-
-def _diagnose(reading, store, *more):
-    return main(["diagnose", str(reading), "--machine", str(PUMP), "--store", str(store), "--format", "json",
-                 "-o", str(store.parent / "out.json"), *more])
-
-
 def test_a_corrected_unit_replaces_the_stored_diagnosis(tmp_path):
-    reading, store = _reading(tmp_path), tmp_path / "h.sqlite"
-    _diagnose(reading, store, "--unit", "mm/s")         # the file holds g: a wrong unit
+    reading, store = pump_reading(tmp_path), tmp_path / "h.sqlite"
+    diagnose_stored(reading, store, "--unit", "mm/s")         # the file holds g: a wrong unit
     with Store(store) as s:
         (wrong,) = s.readings()
-    _diagnose(reading, store, "--unit", "g")
+    diagnose_stored(reading, store, "--unit", "g")
     with Store(store) as s:
         (right,) = s.readings()
     assert right["content_hash"] != wrong["content_hash"]
     assert right["recording_hash"] == wrong["recording_hash"] == content_hash([reading])
-    _diagnose(reading, store, "--unit", "g")             # the same once more: still one
+    diagnose_stored(reading, store, "--unit", "g")             # the same once more: still one
     with Store(store) as s:
         assert [r["content_hash"] for r in s.readings()] == [right["content_hash"]]
 
 
 def test_another_machine_is_another_diagnosis(tmp_path):
-    reading, store = _reading(tmp_path), tmp_path / "h.sqlite"
+    reading, store = pump_reading(tmp_path), tmp_path / "h.sqlite"
     other = tmp_path / "rw3.yaml"
     other.write_text(PUMP.read_text().replace("machine: RW-2 raw water pump", "machine: RW-3 raw water pump"))
-    _diagnose(reading, store)
+    diagnose_stored(reading, store)
     main(["diagnose", str(reading), "--machine", str(other), "--store", str(store), "--format", "json",
           "-o", str(tmp_path / "out3.json")])
     with Store(store) as s:
