@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import yaml
@@ -34,3 +35,22 @@ def make_route(folder: Path, n: int = 4, bad: bool = True, seed: int = 0) -> Pat
     path = folder / "route.yaml"
     path.write_text(yaml.safe_dump(route, sort_keys=False))
     return path
+
+
+def processes_in_groups(pgids: set[int]) -> dict[int, bytes]:
+    """Every live process of the process groups ``pgids`` and its command line (Linux /proc): what a route
+    left running, and which of them is the fork server."""
+    found = {}
+    for entry in os.listdir("/proc"):
+        if not entry.isdigit():
+            continue
+        try:
+            with open(f"/proc/{entry}/stat") as f:
+                fields = f.read().rsplit(")", 1)[1].split()
+            with open(f"/proc/{entry}/cmdline", "rb") as f:
+                cmdline = f.read()
+        except OSError:
+            continue
+        if fields[0] != "Z" and int(fields[2]) in pgids:
+            found[int(entry)] = cmdline
+    return found

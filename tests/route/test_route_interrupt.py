@@ -9,26 +9,14 @@ import subprocess
 import time
 
 import pytest
-from routes import make_route
+from routes import make_route, processes_in_groups
 
 from support import CONSOLE_SCRIPT, ROOT, interrupt
 
 
 def _fork_server_of(pgid: int) -> bool:
-    """Whether a process of group ``pgid`` is a multiprocessing fork server (Linux /proc)."""
-    for entry in os.listdir("/proc"):
-        if not entry.isdigit():
-            continue
-        try:
-            with open(f"/proc/{entry}/stat") as f:
-                fields = f.read().rsplit(")", 1)[1].split()
-            with open(f"/proc/{entry}/cmdline", "rb") as f:
-                cmdline = f.read()
-        except OSError:
-            continue
-        if int(fields[2]) == pgid and b"forkserver" in cmdline:
-            return True
-    return False
+    """Whether a process of group ``pgid`` is a multiprocessing fork server."""
+    return any(b"forkserver" in cmdline for cmdline in processes_in_groups({pgid}).values())
 
 
 @pytest.mark.slow

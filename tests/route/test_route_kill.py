@@ -10,7 +10,7 @@ import sys
 import time
 
 import pytest
-from routes import make_route
+from routes import make_route, processes_in_groups
 
 from engine.history.store import Store
 from engine.route import load_route, run_route
@@ -59,20 +59,8 @@ def test_a_killed_route_keeps_what_it_stored_and_resumes(tmp_path):
 
 
 def _children_of(pids: set[int]) -> set[int]:
-    """Every live process descended from ``pids`` or sharing their process group (Linux /proc)."""
-    found = set()
-    for entry in os.listdir("/proc"):
-        if not entry.isdigit():
-            continue
-        try:
-            with open(f"/proc/{entry}/stat") as f:
-                fields = f.read().rsplit(")", 1)[1].split()
-        except OSError:
-            continue
-        state, pgid = fields[0], int(fields[2])
-        if state != "Z" and pgid in pids:
-            found.add(int(entry))
-    return found
+    """Every live process sharing the process group of ``pids``."""
+    return set(processes_in_groups(pids))
 
 
 @pytest.mark.skipif(not os.path.isdir("/proc"), reason="reads the process table from /proc")
