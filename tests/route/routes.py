@@ -54,3 +54,16 @@ def processes_in_groups(pgids: set[int]) -> dict[int, bytes]:
         if fields[0] != "Z" and int(fields[2]) in pgids:
             found[int(entry)] = cmdline
     return found
+
+
+def monthly_pump_route(folder: Path, month: int, seed: int) -> Path:
+    """Month ``month``'s one-point route (P1H of the demo pump, unbalance at stage 3, one second), written into
+    ``folder`` as ``m<month>.wav`` and ``m<month>.yaml``: a history a reading at a time."""
+    sim = simulate(load_machine(PUMP), "unbalance", "pump", 3, fs_hz=12800.0, duration_s=1.0, seed=seed,
+                   points=["P1H"])
+    write_simulation(sim, folder / f"m{month}.wav")
+    route = folder / f"m{month}.yaml"
+    route.write_text(yaml.safe_dump({
+        "route": f"month {month}", "machines": {"m": str(PUMP)},
+        "readings": [{"file": f"m{month}.wav", "machine": "m", "time": f"2026-0{month}-01T08:00:00"}]}))
+    return route

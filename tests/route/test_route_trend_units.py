@@ -8,12 +8,10 @@ import json
 import re
 
 import pytest
-import yaml
+from routes import monthly_pump_route
 
 from engine.cli import main
 from engine.history.store import Store
-from engine.machine import load_machine
-from engine.simulation import simulate, write_simulation
 
 from support import CASES
 
@@ -25,12 +23,7 @@ INCH_MM = 25.4          # 1 in = 25.4 mm exactly (international yard and pound a
 def months(tmp_path_factory):
     base = tmp_path_factory.mktemp("trend-units")
     for month, seed in ((1, 5), (2, 6), (3, 7)):
-        sim = simulate(load_machine(MACHINE), "unbalance", "pump", 3, fs_hz=12800.0, duration_s=1.0, seed=seed,
-                       points=["P1H"])
-        write_simulation(sim, base / f"m{month}.wav")
-        (base / f"m{month}.yaml").write_text(yaml.safe_dump({
-            "route": f"month {month}", "machines": {"m": str(MACHINE)},
-            "readings": [{"file": f"m{month}.wav", "machine": "m", "time": f"2026-0{month}-01T08:00:00"}]}))
+        monthly_pump_route(base, month, seed)
     return base
 
 

@@ -7,6 +7,7 @@ import json
 
 import pytest
 import yaml
+from routes import monthly_pump_route
 
 from engine.cli import main
 from engine.history.store import Store
@@ -52,17 +53,11 @@ def test_reports_follow_the_units_and_the_store_keeps_mm_s(route, capsys):
 
 def test_the_summary_shows_the_change_since_the_last_survey_in_the_chosen_unit(route, capsys):
     base, site = route
-    machine = CASES / "machines" / "rw2-raw-water-pump.yaml"
     store = base / "two.sqlite"
     for month, seed in ((3, 5), (4, 6)):
-        sim = simulate(load_machine(machine), "unbalance", "pump", 3, fs_hz=12800.0, duration_s=1.0, seed=seed,
-                       points=["P1H"])
-        write_simulation(sim, base / f"m{month}.wav")
-        (base / f"m{month}.yaml").write_text(yaml.safe_dump({
-            "route": f"month {month}", "machines": {"m": str(machine)},
-            "readings": [{"file": f"m{month}.wav", "machine": "m", "time": f"2026-0{month}-01T08:00:00"}]}))
+        route_file = monthly_pump_route(base, month, seed)
         out = base / f"out{month}"
-        assert main(["route", str(base / f"m{month}.yaml"), "--store", str(store), "--out", str(out),
+        assert main(["route", str(route_file), "--store", str(store), "--out", str(out),
                      "--format", "text", "--workers", "1", "--quiet", "--velocity-unit", "in/s-peak"]) == 0
     capsys.readouterr()
     summary = json.loads((out / "summary.json").read_text())
