@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..common.errors import ReadingError
-from .formats import UNIFORM_SPACING_TOLERANCE, RawReading
+from .formats import RawReading, sample_interval_s
 
 CLOCK = ("hour", "minute", "second", "microsecond")
 ROLES = CLOCK + ("time_s", "skip")
@@ -41,11 +41,7 @@ def apply_column_map(raw: RawReading, columns: list[str], path: str, sidecar: st
         whole = int(seconds)
         meta["timestamp"] = f"{h:02d}:{m:02d}:{whole:02d}.{int(round((seconds - whole) * 1e6)):06d}"
     if "time_s" in role:
-        dt = np.diff(role["time_s"])
-        step = float(np.median(dt)) if len(dt) else 0.0
-        if step <= 0 or np.max(np.abs(dt - step)) > UNIFORM_SPACING_TOLERANCE * step:
-            raise ReadingError("the time_s column is not uniformly increasing", path=path)
-        fs = 1.0 / step
+        fs = 1.0 / sample_interval_s(role["time_s"], "the time_s column", path)
     units = [raw.units[i] if i < len(raw.units) else None for i in keep]
     return RawReading([columns[i] for i in keep], [raw.arrays[i] for i in keep], fs, units,
                       raw.full_scale, [raw.points[i] if i < len(raw.points) else None for i in keep], meta)

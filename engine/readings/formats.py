@@ -26,6 +26,7 @@ from .limits import MAX_CHANNELS, SampleLimit
 
 DEFAULT_LIMIT = SampleLimit()
 TIME_COLUMNS = ("time_s", "time", "t")
+TIME_UNITS_S = {"s": 1.0, "sec": 1.0, "ms": 1e-3}   # a header's unit: "Time (s)", "time [ms]"
 UNIFORM_SPACING_TOLERANCE = 0.01  # time stamps may jitter by 1 % of the sample interval
 UFF_DIRECTIONS = {1: "x", 2: "y", 3: "z"}
 
@@ -150,24 +151,52 @@ def read_csv(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
     if stated is not None and not _is_number(stated):
         raise ReadingError(f"'# sample_rate_hz:' must be a number, got {stated!r}", path=path)
     fs = float(stated) if stated is not None else None
-    lowered = [h.lower() for h in header]
-    time_col = next((lowered.index(t) for t in TIME_COLUMNS if t in lowered), None)
+    time_col, seconds_per_unit = _time_column(header)
     if time_col is not None:
-        t = values[:, time_col]
-        with np.errstate(all="ignore"):
-            dt = np.diff(t)
-            if len(dt) == 0 or not np.all(np.isfinite(t)) or not np.all(dt > 0):
-                raise ReadingError(f"time column {header[time_col]!r} must increase", path=path)
-            step = float(np.median(dt))
-            if np.max(np.abs(dt - step)) > UNIFORM_SPACING_TOLERANCE * step:
-                raise ReadingError(f"time column {header[time_col]!r} is not uniformly spaced", path=path)
-            fs = fs or 1.0 / step
+        step = sample_interval_s(values[:, time_col] * seconds_per_unit, f"time column {header[time_col]!r}", path)
+        fs = fs or 1.0 / step
     keep = [i for i in range(len(header)) if i != time_col]
     if not keep:
         raise ReadingError("the CSV file has a time column but no signal column", path=path)
     unit = meta.get("unit")
     return RawReading([header[i] for i in keep], [values[:, i].copy() for i in keep], fs,
                       units=[unit] * len(keep), meta=meta, named=named)
+
+
+def _time_column(header: list[str]) -> tuple[int | None, float]:
+    """Which column holds time, and its unit in seconds: ``time_s``, ``time``, ``t``, or one of them with a
+    unit in brackets (``Time (s)``, ``time [ms]``)."""
+    for i, name in enumerate(header):
+        word, _, unit = name.lower().replace("[", "(").partition("(")
+        unit = unit.rstrip(")] ").strip()
+        if word.strip() in TIME_COLUMNS and (not unit or unit in TIME_UNITS_S):
+            return i, TIME_UNITS_S.get(unit, 1.0)
+    return None, 1.0
+
+
+def sample_interval_s(t: np.ndarray, what: str, path: str) -> float:
+    """The sample interval a time column gives, s: the whole span over the number of steps, since stamps
+    written to a few decimals jitter step by step (1/25600 s written to 7 decimals is 3.91e-5, 0.1 % long)
+    while the span's rounding is shared by every step. Stamps must increase, each step within
+    ``UNIFORM_SPACING_TOLERANCE`` of that interval."""
+    with np.errstate(all="ignore"):
+        dt = np.diff(t)
+        if len(dt) == 0 or not np.all(np.isfinite(t)) or not np.all(dt > 0):
+            raise ReadingError(f"{what} must increase", path=path)
+        step = float((t[-1] - t[0]) / len(dt))
+        if np.max(np.abs(dt - step)) > UNIFORM_SPACING_TOLERANCE * step + _written_digits_error(t):
+            raise ReadingError(f"{what} is not uniformly spaced", path=path)
+    return step
+
+
+def _written_digits_error(t: np.ndarray) -> float:
+    """How far one step may be off from rounding alone: one unit of the last decimal the stamps are written
+    to (found as the coarsest power of ten every stamp is a whole multiple of, down to 1e-12 s)."""
+    for decimals in range(0, 13):
+        scaled = t * 10.0 ** decimals
+        if np.all(np.abs(scaled - np.round(scaled)) < 1e-6):
+            return 10.0 ** -decimals
+    return 0.0
 
 
 def read_npy(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:

@@ -118,6 +118,18 @@ def test_csv_bad_cell_names_the_line(tmp_path):
         load_reading(path)
 
 
+@pytest.mark.parametrize("header, scale, decimals", [("time_s", 1.0, 7), ("Time (s)", 1.0, 7), ("time [ms]", 1e3, 4),
+                                                      ("t", 1.0, 6)])
+def test_csv_time_stamps_written_to_few_decimals_give_the_exact_rate(tmp_path, header, scale, decimals):
+    # 1/25600 s is 3.90625e-5 s: written to 7 decimals each step reads 3.90e-5 or 3.91e-5, whose median
+    # gave 25575 Hz (every frequency 0.1 % low); to 6 decimals the steps jitter by 2.4 %
+    fs = 25600.0
+    t = np.arange(4096) / fs * scale
+    path = tmp_path / "r.csv"
+    path.write_text(f"# unit: g\n{header},a\n" + "\n".join(f"{v:.{decimals}f},0.1" for v in t))
+    assert load_reading(path).fs_hz == pytest.approx(fs, rel=1e-5)
+
+
 def test_csv_irregular_time_is_refused(tmp_path):
     path = tmp_path / "r.csv"
     t = np.sort(np.random.default_rng(1).uniform(0, 1, 200))

@@ -4,6 +4,7 @@ reading.signal.broken, reading.signal.channel-left-out, reading.signal.point-uns
 
 from __future__ import annotations
 
+import dataclasses
 from types import SimpleNamespace
 
 import numpy as np
@@ -72,6 +73,24 @@ def test_a_clipped_channel_is_left_out_while_a_clean_one_remains(reasoner, pump)
     assert [h.component for h in left] == ["P1A"]
     words = " ".join(f.because for f in left[0].support)
     assert "clipping" in words and "1 of them still sit at pump_de" in words and "not judged" not in words
+
+
+def test_a_clipped_channel_that_names_no_point_is_left_out_in_words_that_say_so(reasoner, pump):
+    # channels a recorder named itself ("ch1", "ch2"): no point, so no bearing to say the others still sit at
+    sim = _inner_race(pump, ["P1H", "P1A"])
+    x = sim.channels["P1A"]
+    sim.channels["P1A"] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())
+    reading = as_reading(sim)
+    names = {ch.name: f"ch{i + 1}" for i, ch in enumerate(reading.channels)}
+    unnamed = tuple(dataclasses.replace(ch, name=names[ch.name], point=None, direction=None) for ch in reading.channels)
+    quality = tuple(dataclasses.replace(q, channel=names[q.channel]) for q in reading.quality)
+    analysis = analyse(dataclasses.replace(reading, channels=unnamed, quality=quality), pump)
+    result = reasoner.reason(run_extractors(analysis))
+    assert analysis.left_out == ("ch2",)
+    (left,) = _left_out(result)
+    assert [f.rule_id for f in left.support] == ["reading.signal.channel-left-out-unplaced"]
+    words = " ".join(f.because for f in left.support)
+    assert "names no measurement point" in words and "sit at" not in words
 
 
 def test_every_channel_clipped_still_withholds(reasoner, pump):

@@ -87,6 +87,16 @@ def _nth_channel(key, fault, stage, seed, n, change):
         return _gated(r, channels)
     return make
 
+def _unplaced(key, fault, stage, seed, n, change):
+    """Channels as a recorder names them itself (ch1, ch2, ...: no point), channel ``n`` changed."""
+    def make():
+        r = as_reading(_sim(key, fault, stage, seed))
+        t = np.arange(r.n_samples) / r.fs_hz
+        return _gated(r, [dataclasses.replace(ch, name=f"ch{i + 1}", point=None, direction=None,
+                                              samples=change(ch.samples, t) if i == n else ch.samples)
+                          for i, ch in enumerate(r.channels)])
+    return make
+
 def _every_channel(key, fault, stage, seed, change):
     def make():
         r = as_reading(_sim(key, fault, stage, seed))
@@ -191,6 +201,9 @@ SIMULATED = [
     ("one of the blower bearing's two channels clipped", "bw1",
      _nth_channel("bw1", "unbalance", 2, 2, 1, lambda x, t: np.clip(x, -0.3 * np.abs(x).max(), 0.3 * np.abs(x).max())),
      "reading.signal.channel-left-out"),
+    ("one of two channels that name no point clipped", "bw1",
+     _unplaced("bw1", "unbalance", 2, 2, 1, lambda x, t: np.clip(x, -0.3 * np.abs(x).max(), 0.3 * np.abs(x).max())),
+     "reading.signal.channel-left-out-unplaced"),
     ("gain 1000 times", "bw1", _every_channel("bw1", "unbalance", 2, 2,
                                               lambda ch: dataclasses.replace(ch, samples=ch.samples * 1000)),
      "reading.levels.implausible"),
