@@ -162,7 +162,7 @@ SIMULATED = [
     ("speed stated 3 % high", "ct1", _stated_speed("ct1", "unbalance", 2, 2, 1.03),
      "reading.speed.differs-from-stated"),
     ("speed stated 20 % high", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 1.2),
-     "reading.speed.above-drive-range reading.speed.no-one-x"),
+     "reading.speed.above-drive-range reading.speed.no-one-x-unmeasured"),
     ("speed stated 20 % low", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 0.8),
      "reading.speed.below-drive-range reading.speed.clear-family-elsewhere"),
     ("speed stated 7 % low", "rw2", _stated_speed("rw2", "unbalance", 2, 2, 0.93),
