@@ -100,14 +100,18 @@ def fault_of(name: str, error: type[TellwaveError] = UsageError, path: str | Non
 def _default_component(machine: Machine, fault: str) -> str:
     kind = FAULTS[fault].sits_on
     assert kind is not None     # asked only for a fault that sits on a component
-    pools = {"shaft": list(machine.shaft_speeds_hz), "bearing": [b.id for b in machine.bearings],
-             "support": [b.id for b in machine.bearings],
-             "gear": [g.id for g in machine.gears], "belt": [b.id for b in machine.belts],
-             "rotor": [r.id for r in machine.rotors], "motor": [mm.id for mm in machine.motors]}
-    pool = pools[kind]
+    pool = _candidates(machine, kind)
     if not pool:
         raise UsageError(f"machine {machine.name!r} has no {kind} for a {fault} fault")
     return pool[0]
+
+
+def _candidates(machine: Machine, kind: str) -> list[str]:
+    """The ids a fault that sits on ``kind`` may be put on (a support is a bearing's housing and foot)."""
+    return {"shaft": list(machine.shaft_speeds_hz), "bearing": [b.id for b in machine.bearings],
+            "support": [b.id for b in machine.bearings],
+            "gear": [g.id for g in machine.gears], "belt": [b.id for b in machine.belts],
+            "rotor": [r.id for r in machine.rotors], "motor": [mm.id for mm in machine.motors]}[kind]
 
 
 def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
@@ -134,7 +138,9 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
         for b in machine.belts:
             if b.id == component:
                 return {b.driving_shaft, b.driven_shaft}
-    raise UsageError(f"no {kind} {component!r} in {machine.name!r}")
+    where = "a bearing's housing and foot, named by the bearing" if kind == "support" else f"a {kind}"
+    raise UsageError(f"no {kind} {component!r} in {machine.name!r}; a {fault} fault sits on {where}: "
+                     f"{', '.join(_candidates(machine, kind)) or 'none'}")
 
 
 def runs_at(machine: Machine, fault: str, component: str | None, speed_rpm: float) -> bool:

@@ -242,3 +242,13 @@ def test_a_shaft_fault_named_on_a_coupling_lists_the_shafts_and_the_ones_it_join
     message = str(raised.value)
     assert "its shafts: motor, gear_input, fan" in message, message
     assert "'drive_shaft' is a coupling: name one of the shafts it joins (motor, gear_input)" in message, message
+
+
+def test_a_fault_put_on_a_part_the_machine_lacks_lists_the_parts_it_may_sit_on():
+    from engine.common.errors import UsageError
+    machine = load_machine(CASES / "machines" / "ct1-cooling-tower-fan.yaml")
+    with pytest.raises(UsageError) as raised:
+        simulate(machine, "looseness-structural", "fan", 3, None, 25600.0, 1.0, 1)
+    message = str(raised.value)
+    bearings = ", ".join(b.id for b in machine.bearings)
+    assert f"sits on a bearing's housing and foot, named by the bearing: {bearings}" in message, message
