@@ -367,8 +367,10 @@ def part_names(machine: Machine, h: Hypothesis) -> dict[str, str]:
                             else f"bearing at {bearing.id} (the machine file names no designation)")
     else:
         names["bearing"] = "bearing"
-    bands = [f for firing in h.support for _, f in firing.facts
-             if f.get("band_hi_hz") and f.get("component") == h.component]
+    # the band seen at the part's own point first (its signal is strongest at its own housing), then the clearest
+    bands = sorted((f for firing in h.support for _, f in firing.facts
+                    if f.get("band_hi_hz") and f.get("component") == h.component),
+                   key=lambda f: (f.get("location") != h.component, -f.get("max_snr_db", 0.0)))
     names["envelope_band"] = (f"the envelope band of {bands[0]['band_lo_hz']:.0f} to {bands[0]['band_hi_hz']:.0f} Hz "
                               f"({bands[0]['channel']})" if bands else "the envelope band the report gives")
     mesh = next((g for g in getattr(machine, "gears", ()) if g.id == h.component), None)

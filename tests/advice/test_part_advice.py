@@ -43,6 +43,19 @@ def test_a_tooth_fault_names_the_gear_by_its_shaft_and_teeth():
     assert "23-tooth" in unknown["gear"] and "67-tooth" in unknown["gear"]    # no event: both gears named
 
 
+def test_measure_again_names_the_envelope_band_seen_at_the_bearings_own_point():
+    # a tone of motor_de first seen across the coupling (a pump point, clearer) and then at its own housing
+    tone = {"kind": "envelope_tone", "component": "motor_de", "band_lo_hz": 0.0, "band_hi_hz": 4267.0}
+    far = tone | {"channel": "P1H", "location": "pump_de", "max_snr_db": 40.0}
+    own = tone | {"channel": "M2H", "location": "motor_de", "max_snr_db": 30.0, "band_lo_hz": 675.0,
+                  "band_hi_hz": 11520.0}
+    names = part_names(load_machine(RW2), _h("outer-race", "bearing", "motor_de", 0.8, far, own))
+    assert names["envelope_band"] == "the envelope band of 675 to 11520 Hz (M2H)"
+    clearer = own | {"channel": "M2V", "max_snr_db": 35.0, "band_lo_hz": 1000.0}
+    names = part_names(load_machine(RW2), _h("outer-race", "bearing", "motor_de", 0.8, far, own, clearer))
+    assert names["envelope_band"] == "the envelope band of 1000 to 11520 Hz (M2V)"
+
+
 def test_below_a_call_the_work_and_spares_wait_for_confirmation_unless_the_fault_is_urgent():
     weak = _advise(_h("misalignment-angular", "shaft", "drive_shaft", 0.34), CT1)
     assert weak.spares == () and len(weak.actions) == 1 and "confirm" in weak.actions[0]
