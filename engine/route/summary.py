@@ -2,9 +2,9 @@
 
 Machines are ranked by urgency (most urgent first), then by ISO 20816-3
 zone (D first), then by the certainty of their top finding. Each carries its
-top finding, the change of its overall velocity since the last survey
-before this route (from the history store) at the point that sees the top
-finding's component, or else at the point that changed most, and links to
+top finding, the change of its overall velocity and acceleration RMS since
+the last survey before this route (from the history store) at the point that
+sees the top finding's component, or else at the point that changed most, and links to
 its readings' reports and to its trend page. The summary reads the store, so skipped readings (already stored
 by an earlier run) appear exactly as freshly diagnosed ones.
 """
@@ -31,14 +31,19 @@ def _urgencies() -> dict[str, tuple[int, str]]:
     return {u["id"]: (i, u["label"]) for i, u in enumerate(load_advice()["urgency"])}
 
 
-def _velocity_by_point(rows: list[dict]) -> dict[str, tuple[str, float, int]]:
-    """point -> (time, velocity, reading id) of the latest row of each point."""
+def _levels_by_point(rows: list[dict]) -> dict[str, tuple[str, float, int, float | None]]:
+    """point -> (time, velocity RMS mm/s, reading id, acceleration RMS g or None) of the latest row of each point."""
     out = {}
     for r in rows:
         v = r["indicators"].get("velocity_rms_mm_s")
         if v is not None:
-            out[r["point"] or r["channel"]] = (r["taken_at"], v, r["id"])
+            out[r["point"] or r["channel"]] = (r["taken_at"], v, r["id"], r["indicators"].get("accel_rms_g"))
     return out
+
+
+def _pct_change(then: float, now: float) -> float | None:
+    """The change from ``then`` to ``now`` in percent of ``then``, one decimal (None from zero)."""
+    return round(100.0 * (now - then) / then, 1) if then > 0 else None
 
 
 def _repairs_between(store: Store, machine: str, since: str, until: str) -> list[dict]:
@@ -74,9 +79,10 @@ def _points_of_top(machine_file: str | None, component: str | None) -> tuple[str
 
 def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple[str, ...] | None = None
             ) -> dict | None:
-    """The change of overall velocity since the last survey before this route, at the point that sees the
-    top finding's component (``top_points``; the one of them that changed most), else at the point whose
-    velocity changed most in relative terms (a faulty point's rise, not a large point's scatter)."""
+    """The change of overall velocity and acceleration RMS since the last survey before this route, at the point
+    that sees the top finding's component (``top_points``; the one of them that changed most), else at the point
+    whose velocity or acceleration changed most in relative terms (a faulty point's rise, not a large point's
+    scatter)."""
     rows = store.history(machine)
     now_rows = [r for r in rows if r["id"] in reading_ids]
     if not now_rows:
@@ -85,23 +91,30 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     before = [r for r in rows if r["id"] not in reading_ids and r["taken_at"] < first_now]
     if not before:
         return None
-    then, now = _velocity_by_point(before), _velocity_by_point(now_rows)
+    then, now = _levels_by_point(before), _levels_by_point(now_rows)
     items: list[dict] = []
-    for point, (_t_now, v_now, _id_now) in now.items():
+    for point, (_t_now, v_now, _id_now, a_now) in now.items():
         if point in then:
-            t_then, v_then, _id_then = then[point]
-            pct = 100.0 * (v_now - v_then) / v_then if v_then > 0 else None
-            items.append({"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
-                          "change_pct": None if pct is None else round(pct, 1)})
+            t_then, v_then, _id_then, a_then = then[point]
+            item = {"point": point, "since": t_then, "then_mm_s": round(v_then, 3), "now_mm_s": round(v_now, 3),
+                    "change_pct": _pct_change(v_then, v_now), "accel_then_g": None, "accel_now_g": None,
+                    "accel_change_pct": None}
+            if a_then is not None and a_now is not None:
+                item.update(accel_then_g=round(a_then, 4), accel_now_g=round(a_now, 4),
+                            accel_change_pct=_pct_change(a_then, a_now))
+            items.append(item)
     if not items:
         return None
     seeing = [x for x in items if top_points and x["point"] in top_points]
 
-    def size(x):          # a relative change (the ratio's log), so a low-level faulty point is not outranked
-        return abs(np.log(max(x["now_mm_s"], 1e-6) / max(x["then_mm_s"], 1e-6)))
+    def size(x):          # a relative change (the ratio's log), so a low-level faulty point is not outranked;
+        # velocity or acceleration, whichever moved more: a bearing's damage raises acceleration long before velocity
+        ratios = [(x["now_mm_s"], x["then_mm_s"])] + ([(x["accel_now_g"], x["accel_then_g"])]
+                                                       if x["accel_now_g"] is not None else [])
+        return max(abs(np.log(max(a, 1e-9) / max(b, 1e-9))) for a, b in ratios)
     best = max(seeing or items, key=size)
     best["chosen"] = ("the point at the top finding's component" if seeing
-                      else "the point whose velocity changed most")
+                      else "the point whose velocity or acceleration changed most")
     best["top_then"] = None
     top = store.top_hypothesis(int(then[best["point"]][2]))  # the point's own earlier reading, not the survey's last
     if top is not None:

@@ -18,7 +18,7 @@ from engine.route.summary import _change, _points_of_top
 from engine.simulation import simulate, write_simulation
 
 
-def _record(n: int, when: str, velocities: dict[str, float]) -> dict:
+def _record(n: int, when: str, velocities: dict[str, float], accelerations: dict[str, float] | None = None) -> dict:
     return {"content_hash": f"hash-{n}", "machine": "RW-2 raw water pump", "machine_file": str(PUMP),
             "source": f"r{n}.wav", "taken_at": when, "time_from": "route", "speed_rpm": 1486.0, "elapsed_s": 0.1,
             "fs_hz": 25600.0, "duration_s": 2.0,
@@ -27,7 +27,8 @@ def _record(n: int, when: str, velocities: dict[str, float]) -> dict:
             "top": None,
             "channels": [{"channel": p, "point": p, "direction": "horizontal", "location": "", "zone": "B"}
                          for p in velocities],
-            "indicators": [{"channel": p, "name": "velocity_rms_mm_s", "value": v} for p, v in velocities.items()],
+            "indicators": [{"channel": p, "name": "velocity_rms_mm_s", "value": v} for p, v in velocities.items()]
+            + [{"channel": p, "name": "accel_rms_g", "value": a} for p, a in (accelerations or {}).items()],
             "hypotheses": [{"rank": 1, "fault": "inner-race", "fault_name": "inner-race defect",
                             "component": "pump_de", "certainty": 0.9, "urgency": "plan"}]}
 
@@ -55,7 +56,19 @@ def test_without_a_top_finding_the_point_that_changed_most_relatively(store):
     change = _change(s, "RW-2 raw water pump", {now}, None)
     # P2H doubled (+100 %); M2H rose 0.5 mm/s but by 25 %: the relative change ranks the points
     assert change["point"] == "P2H" and change["change_pct"] == pytest.approx(100.0)
-    assert change["chosen"] == "the point whose velocity changed most"
+    assert change["chosen"] == "the point whose velocity or acceleration changed most"
+    assert change["accel_now_g"] is None                   # none stored: none shown
+
+
+def test_a_bearing_whose_acceleration_rose_outranks_a_velocity_that_scattered(tmp_path):
+    # a bearing's damage raises acceleration RMS long before overall velocity (common practice): P1H's
+    # velocity is flat while its acceleration rose 70-fold; P2H's velocity doubled
+    with Store(tmp_path / "h.sqlite") as s:
+        s.add(_record(1, "2026-01-10T08:00:00", {"P1H": 0.73, "P2H": 0.20}, {"P1H": 0.01, "P2H": 0.02}))
+        now = s.add(_record(2, "2026-02-10T08:00:00", {"P1H": 0.74, "P2H": 0.40}, {"P1H": 0.70, "P2H": 0.03}))
+        change = _change(s, "RW-2 raw water pump", {now}, None)
+    assert change["point"] == "P1H"
+    assert (change["accel_then_g"], change["accel_now_g"], change["accel_change_pct"]) == (0.01, 0.7, 6900.0)
 
 
 def test_each_machine_links_to_its_trend_page(tmp_path):
