@@ -147,6 +147,7 @@ class Advice:
     disclaimer: str
     scale: ScaleCheck | None = None   # channels whose scale is not trusted, or None when every one is
     raised_by: tuple[UrgencyRaise, ...] = ()   # the reasons that made the overall urgency sooner than it was
+    measure_next: tuple[str, ...] = ()   # a high level with no hypothesis shown: what would find its cause
 
 
 def load_advice(folder=ADVICE_FOLDER) -> dict:
@@ -451,7 +452,18 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
     meaning = data["iso_20816_3"]["zones"][worst] if worst else ""
     return Advice(scale, zones, worst, meaning, urgency, recs, tuple(settings) if reasoning.withheld else (),
                   limitations, cautions_for(machine, recs, data), data["disclaimer"].strip(), checking,
-                  raised_by)
+                  raised_by, () if reasoning.withheld or shown else measure_next(zones, data))
+
+
+def measure_next(zones: tuple[ZoneReading, ...], data: dict) -> tuple[str, ...]:
+    """What to measure next when a level stands in the zones of ``unexplained_level`` and no hypothesis explains
+    it (none shown): the advice data's lines with the points in those zones."""
+    policy = data["unexplained_level"]
+    high = sorted({z.point or z.channel for z in zones if z.zone in policy["zones"]})
+    if not high:
+        return ()
+    points = high[0] if len(high) == 1 else ", ".join(high[:-1]) + " and " + high[-1]
+    return tuple(line.format(points=points, them="it" if len(high) == 1 else "them") for line in policy["measure_next"])
 
 
 def _raise_rec(rec: Recommendation, raises) -> Recommendation:

@@ -407,6 +407,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "differential": [_differential(dx, reasoning, recs, worded) for dx in reasoning.differential
                          if (dx.fault, dx.component) in recs],
         "remeasure": [worded.sentence(x) for x in advice.remeasure],
+        "measure_next": list(advice.measure_next),
         "remeasure_actions": [a for r in withheld_recs for a in r.actions],
         "limitations": [" ".join(worded.sentence(x).split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],

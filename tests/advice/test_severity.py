@@ -13,7 +13,7 @@ from engine.pipeline import diagnose, document_of
 from engine.report import render
 from engine.simulation import as_reading, simulate
 
-from support import RW2
+from support import CASES, RW2
 from support import reasoner as shared_reasoner
 
 
@@ -67,3 +67,27 @@ def test_a_clipped_channel_s_zone_carries_its_signal_issue(reasoner):
     rows = {z["channel"]: z for z in doc["zones"]["points"]}
     assert "clipping" in rows["M2A"]["signal_issues"]
     assert "M2A" in render(doc, "text") and "the level is not to be trusted" in render(doc, "text")
+
+
+def test_a_high_level_no_pattern_explains_says_what_to_measure_next(reasoner):
+    # a parallel offset on a belt-driven motor (no coupling to place it on): zone D at the motor and no
+    # hypothesis shown; an analyst then looks from more directions, by phase and at finer resolution
+    # (common practice)
+    machine = load_machine(CASES / "machines/bw1-backwash-blower.yaml")
+    sim = simulate(machine, "misalignment-parallel", "motor", 3, None, 25600.0, 4.0, 1)
+    result = diagnose(as_reading(sim), machine, reasoner)
+    assert result.advice.worst_zone == "D" and not [h for h in result.reasoning.hypotheses if h.certainty >= 0.2]
+    high = sorted(z.point for z in result.advice.zones if z.zone in ("C", "D"))
+    assert len(result.advice.measure_next) == len(load_advice()["unexplained_level"]["measure_next"])
+    assert high[0] in result.advice.measure_next[0] and "all three directions" in result.advice.measure_next[0]
+    text = render(document_of(result), "text")
+    assert "MEASURE NEXT" in text and "1X phase" in text
+
+
+def test_nothing_to_measure_next_when_a_hypothesis_explains_the_level_or_the_level_is_low(reasoner):
+    machine = load_machine(RW2)
+    unbalance = diagnose(as_reading(simulate(machine, "unbalance", "pump", 4, None, 12800.0, 2.0, 3)), machine,
+                         reasoner)
+    assert unbalance.advice.worst_zone in ("C", "D") and unbalance.advice.measure_next == ()
+    healthy = diagnose(as_reading(simulate(machine, "healthy", None, 1, None, 12800.0, 2.0, 3)), machine, reasoner)
+    assert healthy.advice.worst_zone in ("A", "B") and healthy.advice.measure_next == ()
