@@ -81,6 +81,21 @@ def test_a_change_since_baseline_asks_for_a_shorter_survey_interval(reasoner, ov
     assert asked(reasoner, trend_fact(**over)) == ([step] if step else [])
 
 
+# Dyer & Stewart 1978 (from memory): a sound bearing's kurtosis is near the Gaussian 3 and rises with local damage;
+# "near 3" is below param.impulsive_kurtosis (4, common practice), "well above" at least param.kurtosis_fast_rise (6)
+@pytest.mark.parametrize("over, step", [
+    ({"baseline": 3.1, "latest": 8.0, "rate_per_month": 1.5}, "watch"),
+    ({"baseline": 3.1, "latest": 6.0, "rate_per_month": 0.2}, "watch"),          # at the level: fires
+    ({"baseline": 3.1, "latest": 8.0, "rate_per_month": -1.5}, None),            # falling back: spreading damage
+    ({"baseline": 3.1, "latest": 5.9, "rate_per_month": 1.5}, None),             # not yet well above 3
+    ({"baseline": 4.5, "latest": 9.0, "rate_per_month": 1.5}, None),             # impulsive from the start
+    ({"baseline": 3.1, "latest": 8.0, "rate_per_month": 1.5, "readings": 3}, None),   # too few readings
+], ids=["rising", "at-the-level", "falling", "below-the-level", "impulsive-baseline", "three-readings"])
+def test_kurtosis_rising_from_near_3_to_well_above_asks_for_a_shorter_survey_interval(reasoner, over, step):
+    assert asked(reasoner, trend_fact(indicator="kurtosis", indicator_name="kurtosis", change_pct=0.0,
+                                      **over)) == ([step] if step else [])
+
+
 def _healthy(reasoner):
     m = load_machine(RW2)
     return m, as_reading(simulate(m, "healthy", None, 1, None, 12800.0, 3.0, 5))
