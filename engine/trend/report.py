@@ -251,7 +251,26 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
 def alarm_rows(alarms) -> list[dict]:
     """The machine's alarms (``engine.machine.alarms.Alarm``) as the plain rows ``trend_from_rows`` reads."""
     return [{"point": a.point, "band": a.band, "unit": a.unit, "indicator": a.indicator, "alert": a.alert,
-             "danger": a.danger} for a in alarms]
+             "danger": a.danger, "source": a.source, "set_at": a.where} for a in alarms]
+
+
+FROM_MACHINE_FILE = ("from the machine file as it reads now (the latest reading here was stored before tellwave "
+                     "kept the alarms each reading was judged by)")
+
+
+def judged_alarms(stored: dict[str, dict], file_alarms: list[dict], points) -> list[dict]:
+    """The alarms a trend shows and projects to at each of ``points``: those the latest diagnosis there was
+    judged by (``Store.alarms``: the machine file's with any ``--alarms`` file laid over, as applied), else, for
+    a point whose latest reading was stored before they were kept, the machine file's (``file_alarms``), each
+    with ``judged``: where its levels come from."""
+    out = []
+    for pt in sorted(points):
+        if pt in stored:
+            when = f"as judged on reading {stored[pt]['reading']} ({str(stored[pt]['taken_at'])[:10]})"
+            out += [{**a, "judged": when} for a in stored[pt]["alarms"]]
+        else:
+            out += [{**a, "judged": FROM_MACHINE_FILE} for a in file_alarms if a["point"] == pt]
+    return out
 
 
 def _alarm_label(a: dict) -> str:
@@ -268,7 +287,9 @@ def _alarm_row(a: dict, s: Series) -> dict:
               for t, v, rid in zip(s.times, s.values, s.reading_ids, strict=True) if v >= a["alert"]]
     return {"indicator": a["indicator"], "label": s.label, "band": a["band"], "unit": a["unit"],
             "alert": a["alert"], "danger": a["danger"], "latest": _figures(float(s.values[-1])),
-            "latest_state": state_of(float(s.values[-1]), a["alert"], a["danger"]), "passed": passed}
+            "latest_state": state_of(float(s.values[-1]), a["alert"], a["danger"]), "passed": passed,
+            "source": a.get("source") or "", "set_at": a.get("set_at") or "",
+            "judged": a.get("judged") or ""}
 
 
 def _indicator(name: str, s: Series, u: Series | None) -> dict:
@@ -449,8 +470,9 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
     spectra at each point both have (``waterfall.spectra_section``); all shown in ``units`` (None: Hz and
     mm/s RMS). A ``point`` with no stored reading is a UsageError listing the points that have some. The
-    alarms shown, and projected to, are those of the machine file the latest reading was diagnosed with (a
-    site alarm file is not stored; a band it set is trended, its levels are not known here)."""
+    alarms shown, and projected to, at each point are those its latest reading was judged by, as stored with
+    it (the machine file's with any site alarm file laid over); for a reading stored before they were kept,
+    those of the machine file it was diagnosed with, as that file reads now (``judged_alarms``)."""
     rows = store.history(machine, point)
     if point is not None and not rows:        # only then is the whole history read, to list its points
         from ..common.errors import UsageError
@@ -463,7 +485,8 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     files = [r["machine_file"] for r in readings if r["machine_file"]]
     known: dict = {}        # machine file -> Machine: each file read once for the whole document
     repairs = _repairs(store, machine, readings, names, known)
-    scale, alarms = _machine_file(files[-1] if files else None, known)
+    scale, file_alarms = _machine_file(files[-1] if files else None, known)
+    alarms = judged_alarms(store.alarms(machine), file_alarms, {r["point"] or r["channel"] for r in rows})
     doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms,
                           point=point, plots=plots, repairs=repairs, units=units,
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
