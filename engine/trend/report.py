@@ -28,9 +28,23 @@ SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_
 EXPONENTIAL = ("accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor")
 
 
+def acceleration_band(indicator: str) -> bool:
+    """Whether ``indicator`` is a site alarm band's acceleration level (``band[2000-6000 Hz]_g``, g RMS)."""
+    return indicator.startswith("band[") and indicator.endswith("]_g")
+
+
 def growth_of(indicator: str) -> str:
-    """The growth model to project ``indicator`` with: exponential for impact and bearing-tone indicators, else auto."""
-    if indicator in EXPONENTIAL or indicator.startswith(("env_", "tone_")):
+    """The growth model to project ``indicator`` with: exponential for impact and bearing-tone indicators and a
+    site's acceleration band, else auto.
+
+    An acceleration band is where a defect's impacts ring (bearing rates, a resonance band such as 2000-6000 Hz,
+    a mesh with its sidebands): it grows as the damage feeds itself, like the acceleration levels, and takes
+    the same path (its start of degradation found by the first-predicting-time rule, then the exponential
+    model). The auto path's CUSUM on a 3-reading baseline dated such a band's rise from healthy scatter (a
+    weekly pump's band, 4 weeks before its fault began), and its least-squares choice then took a line over an
+    exponential fitted to logs of levels just above the baseline. A velocity band (1X, 2-4X) is a level that
+    creeps (unbalance, misalignment) and stays on the auto path."""
+    if indicator in EXPONENTIAL or indicator.startswith(("env_", "tone_")) or acceleration_band(indicator):
         return "exponential"
     return "auto"
 
@@ -89,6 +103,9 @@ def _project(s: Series, limit: float, label: str, source: Series | None,
     if learned is not None and learned.prior is not None:
         from .degradation import shipped_priors
         priors = {**shipped_priors(), s.indicator: learned.prior}
+    # a site's acceleration band is its own health indicator: the band the site chose to watch that point's
+    # defect in starts to degrade when it leaves its own healthy band (None: made of its own readings)
+    source = None if acceleration_band(s.indicator) else source
     p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
                 health=None if source is None else health_of(source, s), priors=priors,
                 single=None if source is None else health_of(source, s, single=True))
