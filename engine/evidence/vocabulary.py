@@ -38,7 +38,7 @@ CHANNEL_FIELDS = {
 
 # velocity fields that are broadband levels, not one spectral line: a report that shows peak keeps
 # them RMS (sqrt(2) x RMS is the peak of a sine only)
-BROADBAND_VELOCITY_FIELDS = frozenset({"velocity_rms_mm_s"})
+BROADBAND_VELOCITY_FIELDS = frozenset({"velocity_rms_mm_s", "baseline_mm_s", "latest_mm_s"})
 
 FACTS: dict[str, dict[str, F]] = {
     "overall": CHANNEL_FIELDS | {
@@ -336,6 +336,14 @@ FACTS["trend"] = {
     "change_db": F("number", "latest less baseline for an indicator in dB (0 for others)", "dB"),
     "indicator_name": F("string", "the indicator as reports name it: band 2000-6000 Hz, g RMS", ""),
     "projection_boundary": F("string", "what the projection runs to: A/B, B/C, C/D (ISO 20816-3) or limit", ""),
+    "baseline_mm_s": F("number", "the baseline of a broadband velocity (overall, a site's velocity band); 0 for others",
+                       "mm/s RMS"),
+    "latest_mm_s": F("number", "this reading's broadband velocity (overall, a site's velocity band); 0 for others",
+                     "mm/s RMS"),
+    "indicator_words": F("string", "the indicator named for a sentence: a velocity without its unit (velocity)",
+                         ""),
+    "projection_words": F("string", "what the projection runs to, for a sentence: a velocity's target without its "
+                                    "level (zone boundary C/D, alarm danger level overall)", ""),
 }
 
 COMMON_FIELDS = {"kind": F("string", "fact kind", ""), "id": F("string", "fact identity", "")}

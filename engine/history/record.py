@@ -205,6 +205,11 @@ def record_of(doc: dict, facts: list[dict], *, content_hash: str, taken_at: str,
             spectra, {c["channel"] for c in channels if c["scale_trusted"]}),
         "forcing": [{"name": f.name, "component": f.component, "family": f.family, "shaft": f.shaft,
                      "frequency_hz": float(f.frequency_hz)} for f in forcing],
+        # the site alarms the reading was judged by, as applied (machine file and --alarms files), one row each
+        "alarms": sorted({(a["point"], a["band"], a["quantity"]): {
+            k: a[k] for k in ("point", "band", "quantity", "unit", "indicator", "alert", "danger", "source", "set_at")}
+            for a in (doc.get("alarms") or {}).get("results", [])}.values(),
+            key=lambda a: (a["point"], a["band"], a["quantity"])),
         "firings": None if reasoning is None else [
             {"rule_id": f.rule_id, "fault": f.fault, "component": f.component, "certainty": f.certainty,
              "hypothesis_certainty": f.hypothesis_certainty} for f in firings_of(reasoning)],

@@ -178,6 +178,27 @@ MIGRATIONS: tuple[str, ...] = (
     CREATE INDEX forcing_by_reading ON forcing (reading_id);
     ALTER TABLE readings ADD COLUMN spectra_kept INTEGER;
     """,
+    # 8: the site alarms each stored diagnosis judged its reading by, as applied (``engine.alarms``: the machine
+    # file's with any ``--alarms`` file laid over): point, band, quantity, unit, the indicator it trends, the
+    # alert and danger levels, the source the site gave and where it was set (file:line). ``alarms_kept`` is 1
+    # on a reading stored since (it may have none), NULL on one stored before, whose alarms are those of its
+    # machine file as that file reads now.
+    """
+    CREATE TABLE alarms (
+        reading_id INTEGER NOT NULL REFERENCES readings (id) ON DELETE CASCADE,
+        point TEXT NOT NULL,
+        band TEXT NOT NULL,
+        quantity TEXT NOT NULL,
+        unit TEXT NOT NULL,
+        indicator TEXT NOT NULL,
+        alert REAL NOT NULL,
+        danger REAL NOT NULL,
+        source TEXT,
+        set_at TEXT,
+        PRIMARY KEY (reading_id, point, band, quantity)
+    );
+    ALTER TABLE readings ADD COLUMN alarms_kept INTEGER;
+    """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
@@ -357,14 +378,20 @@ class Store:
             cur = self.db.execute(
                 "INSERT INTO readings (content_hash, machine, machine_file, source, taken_at, time_from,"
                 " speed_rpm, elapsed_s, fs_hz, duration_s, urgency, worst_zone, withheld, summary, report,"
-                " stored_at, route_id, recording_hash, firings_kept, spectra_kept)"
-                " VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                " stored_at, route_id, recording_hash, firings_kept, spectra_kept, alarms_kept)"
+                " VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                 (record["content_hash"], record["machine"], record.get("machine_file"), record["source"],
                  record["taken_at"], record["time_from"], record.get("speed_rpm"), record.get("elapsed_s"),
                  record.get("fs_hz"), record.get("duration_s"), v["urgency"], v["worst_zone"],
                  int(v["withheld"]), v["summary"], record.get("report"), _now(), route_id, recording,
-                 None if record.get("firings") is None else 1, None if record.get("spectra") is None else 1))
+                 None if record.get("firings") is None else 1, None if record.get("spectra") is None else 1,
+                 None if record.get("alarms") is None else 1))
             rid = cur.lastrowid
+            self.db.executemany(
+                "INSERT OR IGNORE INTO alarms VALUES (?,?,?,?,?,?,?,?,?,?)",
+                [(rid, a["point"], a["band"], a["quantity"], a["unit"], a["indicator"], float(a["alert"]),
+                  float(a["danger"]), a.get("source"), a.get("set_at")) for a in record.get("alarms") or ()
+                 if math.isfinite(float(a["alert"])) and math.isfinite(float(a["danger"]))])
             self.db.executemany(
                 "INSERT INTO spectra VALUES (?,?,?,?,?,?,?,?,?)",
                 [(rid, sp["channel"], sp["quantity"], sp["unit"], float(sp["step_hz"]), float(sp["resolution_hz"]),
@@ -526,6 +553,32 @@ class Store:
             if r["scale_trusted"] == 0:
                 r["indicators"] = {k: v for k, v in r["indicators"].items() if not is_level(k)}
         return rows
+
+    def alarms(self, machine: str) -> dict[str, dict]:
+        """The site alarms the latest diagnosis at each point of ``machine`` judged its reading by (schema 8 on):
+        point -> {"reading": its id, "taken_at", "alarms": rows (point, band, quantity, unit, indicator, alert,
+        danger, source, set_at), sorted}. A point whose latest reading was stored before schema 8
+        (``alarms_kept`` NULL) is left out: its alarms are not known here. A row a damaged store cannot give
+        (a level that is not a number, an alert above its danger, text that is not text) is left out."""
+        latest = self.db.execute(
+            "SELECT point, id, taken_at, alarms_kept FROM (SELECT c.point, r.id, r.taken_at, r.alarms_kept,"
+            " ROW_NUMBER() OVER (PARTITION BY c.point ORDER BY r.taken_at DESC, r.id DESC) AS n"
+            " FROM readings r JOIN channels c ON c.reading_id = r.id WHERE r.machine = ? AND c.point IS NOT NULL)"
+            " WHERE n = 1", (machine,)).fetchall()
+        out: dict[str, dict] = {}
+        for point, rid, taken_at, kept in latest:
+            if kept is None:
+                continue
+            rows = []
+            for a in self.db.execute("SELECT point, band, quantity, unit, indicator, alert, danger, source, set_at"
+                                     " FROM alarms WHERE reading_id = ? AND point = ?"
+                                     " ORDER BY band, quantity", (rid, point)):
+                row = dict(a)
+                text = all(isinstance(row[k], str) for k in ("point", "band", "quantity", "unit", "indicator"))
+                if text and _number(row["alert"]) and _number(row["danger"]) and row["alert"] <= row["danger"]:
+                    rows.append(row)
+            out[str(point)] = {"reading": rid, "taken_at": taken_at, "alarms": rows}
+        return out
 
     def spectra(self, machine: str, point: str, reading_ids=None) -> list[dict]:
         """The stored readings of ``machine`` at ``point`` (of ``reading_ids``, when given), oldest first: id,

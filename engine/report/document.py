@@ -113,13 +113,15 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | N
            # can lose signs while its strongest keeps them all: then nothing was explained away)
            "explained_by": _explained_by(h) if h.raw_certainty is not None else [],
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
-           "spares": list(rec.spares), "confirm": list(rec.confirm), "urgency_raised_by": _raises(rec.raised_by)}
+           "spares": list(rec.spares), "confirm": list(rec.confirm), "urgency_raised_by": _raises(rec.raised_by, shown)}
     return out
 
 
-def _raises(raises) -> list[dict]:
-    """Why an urgency is sooner than the finding alone made it (rulebooks/time-to-act.yaml), most urgent first."""
-    return [{"urgency": _urgency(r.urgency), "point": r.point, "because": " ".join(r.because.split()),
+def _raises(raises, shown: _Shown | None = None) -> list[dict]:
+    """Why an urgency is sooner than the finding alone made it (rulebooks/time-to-act.yaml), most urgent first;
+    each sentence worded from its firing's values in the shown units, as the advice's sentences are."""
+    return [{"urgency": _urgency(r.urgency), "point": r.point,
+             "because": " ".join((r.because if shown is None else shown.sentence(r.because)).split()),
              "rule": r.rule_id, "origin": r.origin} for r in raises]
 
 
@@ -397,7 +399,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                                  for name, point, direction in reading.channels]},
         "thresholds": {"conclusion": CONFIDENT, "shown": POSSIBLE},
         "verdict": {"withheld": reasoning.withheld, "summary": _summary(reasoning, advice, machine, shown),
-                    "urgency": _urgency(advice.urgency), "urgency_raised_by": _raises(advice.raised_by),
+                    "urgency": _urgency(advice.urgency), "urgency_raised_by": _raises(advice.raised_by, worded),
                     "severity_known": scale["trusted"],
                     "scale_note": scale["text"], "site_record": _site_record_line(shown)},
         "scale": scale,

@@ -61,7 +61,9 @@ class HistoryLink:
             for a in alarms:
                 if a["channel"] == r["channel"] and a["value"] is not None:
                     r["indicators"].setdefault(a["indicator"], float(a["value"]))
-        alarm_rows = [{k: a[k] for k in ("point", "band", "unit", "indicator", "alert", "danger")} for a in alarms]
+        alarm_rows = list({(a["point"], a["band"], a["quantity"]): {
+            **{k: a[k] for k in ("point", "band", "unit", "indicator", "alert", "danger", "source", "set_at")},
+            "judged": "as judged on this reading"} for a in alarms}.values())
         # a trend ends at this reading: an indicator it does not have (a site band, judged after the
         # reasoning; a tone not found this time) would end at an older reading and read as this one's
         have: defaultdict[str, set] = defaultdict(set)

@@ -23,6 +23,31 @@ def _weight(x: dict) -> tuple:
             soon if soon is not None else 0.0)
 
 
+def _velocity(indicator: str) -> bool:
+    """Whether ``indicator`` is a velocity (its values in mm/s RMS: a report in other units shows them otherwise)."""
+    return indicator.endswith("_mm_s")
+
+
+def _broadband(indicator: str) -> bool:
+    """Whether ``indicator`` is a broadband velocity: the overall, or a site's velocity band (not one line)."""
+    return indicator == "velocity_rms_mm_s" or (indicator.startswith("band[") and indicator.endswith("]_mm_s"))
+
+
+def _words(label: str, indicator: str) -> str:
+    """An indicator's name for a sentence: a velocity's without its unit ("velocity", "band 1X"), whose values a
+    report shows in the chosen units; any other's as reports name it ("acceleration RMS, g")."""
+    return label.removesuffix(", mm/s RMS") if _velocity(indicator) else label
+
+
+def _target_words(label: str, indicator: str) -> str:
+    """What a projection runs to, for a sentence: a velocity's target without its level in mm/s ("zone boundary
+    C/D", "alarm danger level overall", "limit velocity_rms_mm_s"; the trend section shows the level in the
+    chosen units), any other's whole ("alarm danger level 2000-6000 Hz = 0.2 g RMS")."""
+    if not _velocity(indicator) or not label:
+        return label
+    return label.split(" (")[0] if label.startswith(ZONE_BOUNDARY) else label.split(" = ")[0]
+
+
 def _days(proj: dict | None, key: str) -> float:
     """A projection's ``key`` (days, low_days, high_days), or NO_PROJECTION_DAYS when it is not projected or open."""
     value = proj.get(key) if proj and proj["projected"] else None
@@ -57,5 +82,11 @@ def trend_facts(doc: dict) -> list[dict]:
                 "change_db": ind["change_db"] if ind.get("change_db") is not None else 0.0,
                 "projection_to": proj["limit_label"] if proj else "",
                 "projection_boundary": _boundary(proj["limit_label"]) if proj else "",
+                # a broadband velocity's values as numbers in mm/s RMS, which a report words in the chosen units
+                # (0 for other indicators), and names without a velocity in them, for the sentences
+                "baseline_mm_s": (ind["baseline"] or 0.0) if _broadband(ind["name"]) else 0.0,
+                "latest_mm_s": (ind["latest"] or 0.0) if _broadband(ind["name"]) else 0.0,
+                "indicator_words": _words(ind["label"], ind["name"]),
+                "projection_words": _target_words(proj["limit_label"], ind["name"]) if proj else "",
             })
     return facts

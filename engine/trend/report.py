@@ -28,9 +28,23 @@ SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_
 EXPONENTIAL = ("accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor")
 
 
+def acceleration_band(indicator: str) -> bool:
+    """Whether ``indicator`` is a site alarm band's acceleration level (``band[2000-6000 Hz]_g``, g RMS)."""
+    return indicator.startswith("band[") and indicator.endswith("]_g")
+
+
 def growth_of(indicator: str) -> str:
-    """The growth model to project ``indicator`` with: exponential for impact and bearing-tone indicators, else auto."""
-    if indicator in EXPONENTIAL or indicator.startswith(("env_", "tone_")):
+    """The growth model to project ``indicator`` with: exponential for impact and bearing-tone indicators and a
+    site's acceleration band, else auto.
+
+    An acceleration band is where a defect's impacts ring (bearing rates, a resonance band such as 2000-6000 Hz,
+    a mesh with its sidebands): it grows as the damage feeds itself, like the acceleration levels, and takes
+    the same path (its start of degradation found by the first-predicting-time rule, then the exponential
+    model). The auto path's CUSUM on a 3-reading baseline dated such a band's rise from healthy scatter (a
+    weekly pump's band, 4 weeks before its fault began), and its least-squares choice then took a line over an
+    exponential fitted to logs of levels just above the baseline. A velocity band (1X, 2-4X) is a level that
+    creeps (unbalance, misalignment) and stays on the auto path."""
+    if indicator in EXPONENTIAL or indicator.startswith(("env_", "tone_")) or acceleration_band(indicator):
         return "exponential"
     return "auto"
 
@@ -89,6 +103,9 @@ def _project(s: Series, limit: float, label: str, source: Series | None,
     if learned is not None and learned.prior is not None:
         from .degradation import shipped_priors
         priors = {**shipped_priors(), s.indicator: learned.prior}
+    # a site's acceleration band is its own health indicator: the band the site chose to watch that point's
+    # defect in starts to degrade when it leaves its own healthy band (None: made of its own readings)
+    source = None if acceleration_band(s.indicator) else source
     p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
                 health=None if source is None else health_of(source, s), priors=priors,
                 single=None if source is None else health_of(source, s, single=True))
@@ -251,7 +268,26 @@ def _plots(by_name: dict[str, Series], used: dict[str, Series], scale, projectio
 def alarm_rows(alarms) -> list[dict]:
     """The machine's alarms (``engine.machine.alarms.Alarm``) as the plain rows ``trend_from_rows`` reads."""
     return [{"point": a.point, "band": a.band, "unit": a.unit, "indicator": a.indicator, "alert": a.alert,
-             "danger": a.danger} for a in alarms]
+             "danger": a.danger, "source": a.source, "set_at": a.where} for a in alarms]
+
+
+FROM_MACHINE_FILE = ("from the machine file as it reads now (the latest reading here was stored before tellwave "
+                     "kept the alarms each reading was judged by)")
+
+
+def judged_alarms(stored: dict[str, dict], file_alarms: list[dict], points) -> list[dict]:
+    """The alarms a trend shows and projects to at each of ``points``: those the latest diagnosis there was
+    judged by (``Store.alarms``: the machine file's with any ``--alarms`` file laid over, as applied), else, for
+    a point whose latest reading was stored before they were kept, the machine file's (``file_alarms``), each
+    with ``judged``: where its levels come from."""
+    out = []
+    for pt in sorted(points):
+        if pt in stored:
+            when = f"as judged on reading {stored[pt]['reading']} ({str(stored[pt]['taken_at'])[:10]})"
+            out += [{**a, "judged": when} for a in stored[pt]["alarms"]]
+        else:
+            out += [{**a, "judged": FROM_MACHINE_FILE} for a in file_alarms if a["point"] == pt]
+    return out
 
 
 def _alarm_label(a: dict) -> str:
@@ -268,7 +304,9 @@ def _alarm_row(a: dict, s: Series) -> dict:
               for t, v, rid in zip(s.times, s.values, s.reading_ids, strict=True) if v >= a["alert"]]
     return {"indicator": a["indicator"], "label": s.label, "band": a["band"], "unit": a["unit"],
             "alert": a["alert"], "danger": a["danger"], "latest": _figures(float(s.values[-1])),
-            "latest_state": state_of(float(s.values[-1]), a["alert"], a["danger"]), "passed": passed}
+            "latest_state": state_of(float(s.values[-1]), a["alert"], a["danger"]), "passed": passed,
+            "source": a.get("source") or "", "set_at": a.get("set_at") or "",
+            "judged": a.get("judged") or ""}
 
 
 def _indicator(name: str, s: Series, u: Series | None) -> dict:
@@ -449,8 +487,9 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
     spectra at each point both have (``waterfall.spectra_section``); all shown in ``units`` (None: Hz and
     mm/s RMS). A ``point`` with no stored reading is a UsageError listing the points that have some. The
-    alarms shown, and projected to, are those of the machine file the latest reading was diagnosed with (a
-    site alarm file is not stored; a band it set is trended, its levels are not known here)."""
+    alarms shown, and projected to, at each point are those its latest reading was judged by, as stored with
+    it (the machine file's with any site alarm file laid over); for a reading stored before they were kept,
+    those of the machine file it was diagnosed with, as that file reads now (``judged_alarms``)."""
     rows = store.history(machine, point)
     if point is not None and not rows:        # only then is the whole history read, to list its points
         from ..common.errors import UsageError
@@ -463,7 +502,8 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     files = [r["machine_file"] for r in readings if r["machine_file"]]
     known: dict = {}        # machine file -> Machine: each file read once for the whole document
     repairs = _repairs(store, machine, readings, names, known)
-    scale, alarms = _machine_file(files[-1] if files else None, known)
+    scale, file_alarms = _machine_file(files[-1] if files else None, known)
+    alarms = judged_alarms(store.alarms(machine), file_alarms, {r["point"] or r["channel"] for r in rows})
     doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms,
                           point=point, plots=plots, repairs=repairs, units=units,
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine

@@ -31,7 +31,8 @@ def trend_fact(**over) -> dict:
 def projected(low: float, **over) -> dict:
     return trend_fact(**{"projected_days": 2 * low, "projected_low_days": low, "projected_high_days": 3 * low,
                          "degradation_began": True, "readings_since_onset": 6,
-                         "projection_to": "limit accel_rms_g = 1", "projection_boundary": "limit", **over})
+                         "projection_to": "limit accel_rms_g = 1", "projection_words": "limit accel_rms_g = 1",
+                         "projection_boundary": "limit", **over})
 
 
 def asked(reasoner, fact) -> list[str]:
@@ -79,6 +80,21 @@ def test_a_crossing_of_c_d_counts(reasoner):
 def test_a_change_since_baseline_asks_for_a_shorter_survey_interval(reasoner, over, step):
     # ISO 20816-3 criterion II, 25 % of B/C (from memory); a doubling (+6 dB) over baseline: common practice
     assert asked(reasoner, trend_fact(**over)) == ([step] if step else [])
+
+
+# Dyer & Stewart 1978 (from memory): a sound bearing's kurtosis is near the Gaussian 3 and rises with local damage;
+# "near 3" is below param.impulsive_kurtosis (4, common practice), "well above" at least param.kurtosis_fast_rise (6)
+@pytest.mark.parametrize("over, step", [
+    ({"baseline": 3.1, "latest": 8.0, "rate_per_month": 1.5}, "watch"),
+    ({"baseline": 3.1, "latest": 6.0, "rate_per_month": 0.2}, "watch"),          # at the level: fires
+    ({"baseline": 3.1, "latest": 8.0, "rate_per_month": -1.5}, None),            # falling back: spreading damage
+    ({"baseline": 3.1, "latest": 5.9, "rate_per_month": 1.5}, None),             # not yet well above 3
+    ({"baseline": 4.5, "latest": 9.0, "rate_per_month": 1.5}, None),             # impulsive from the start
+    ({"baseline": 3.1, "latest": 8.0, "rate_per_month": 1.5, "readings": 3}, None),   # too few readings
+], ids=["rising", "at-the-level", "falling", "below-the-level", "impulsive-baseline", "three-readings"])
+def test_kurtosis_rising_from_near_3_to_well_above_asks_for_a_shorter_survey_interval(reasoner, over, step):
+    assert asked(reasoner, trend_fact(indicator="kurtosis", indicator_name="kurtosis", change_pct=0.0,
+                                      **over)) == ([step] if step else [])
 
 
 def _healthy(reasoner):
@@ -151,3 +167,30 @@ rules:
     result = Reasoner(load_rulebook(site)).reason([trend_fact()])
     with pytest.raises(RulebookError, match="'act-soon', not on the urgency scale"):
         urgency_raises(result, data, _urgencies(data))
+
+
+@pytest.mark.parametrize("velocity, baseline, latest", [("in/s-peak", "0.0394 in/s RMS", "0.0866 in/s RMS"),
+                                                        ("mm/s-rms", "1.00 mm/s RMS", "2.20 mm/s RMS")])
+def test_the_raise_sentences_are_in_the_chosen_units(reasoner, velocity, baseline, latest):
+    # 1 mm/s = 1 / 25.4 in/s (the inch is 25.4 mm exactly, NIST SP 811); a broadband level stays RMS in peak
+    from engine.common.units import shown_units
+
+    m, reading = _healthy(reasoner)
+    facts = [trend_fact(indicator="velocity_rms_mm_s", indicator_name="velocity, mm/s RMS", indicator_words="velocity",
+                        iso_change_significant=True, baseline=1.0, latest=2.2, baseline_mm_s=1.0, latest_mm_s=2.2),
+             projected(5.0, id="trend-2", indicator="velocity_rms_mm_s", indicator_name="velocity, mm/s RMS",
+                       indicator_words="velocity", projection_to="zone boundary C/D (4.5 mm/s)",
+                       projection_words="zone boundary C/D", projection_boundary="C/D")]
+    d = diagnose(reading, m, reasoner, more_facts=lambda *_: facts)
+    doc = document_of(d, units=shown_units(None, velocity))
+    said = {r["rule"]: r["because"] for r in doc["verdict"]["urgency_raised_by"]}
+    assert set(said) == {"trend.time-to-act.projected-crossing", "trend.time-to-act.velocity-change"}
+    crossing = said["trend.time-to-act.projected-crossing"]
+    assert crossing.startswith("The trend of velocity at P1H projects zone boundary C/D in 10.0 days"), crossing
+    change = said["trend.time-to-act.velocity-change"]
+    assert f"went from a baseline of {baseline} to {latest}, a change" in change, change
+    if velocity.startswith("in/s"):
+        assert "mm/s" not in crossing + change
+        text = " ".join(render(doc, "text", "diagnosis").split())
+        assert f"sooner because of the trend (watch): Broadband velocity at P1H went from a baseline of {baseline}" \
+               in text, text

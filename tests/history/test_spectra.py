@@ -93,7 +93,7 @@ def test_schema_6_migrates_to_7_and_its_readings_say_they_have_no_spectrum(tmp_p
         old.db.execute("INSERT INTO channels (reading_id, channel, point) VALUES (?, 'P1H', 'P1H')", (rid,))
         assert "spectra" not in [r[0] for r in old.db.execute("SELECT name FROM sqlite_master")]
     with Store(path) as new:
-        assert new.version == SCHEMA_VERSION == 7
+        assert new.version == SCHEMA_VERSION >= 7
         (row,) = new.spectra(PUMP, "P1H")
         assert row["id"] == rid and row["spectra_kept"] is False and row["amplitudes"] is None
         assert row["forcing"] == []

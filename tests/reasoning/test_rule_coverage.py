@@ -273,6 +273,9 @@ WITH_TREND = [
     ("an envelope line up 7 dB", [trend_fact(indicator="env_BPFI_db", indicator_name="envelope BPFI, dB", change_db=7.0,
                                          change_pct=0.0)],
      "trend.time-to-act.fast-rise-envelope"),
+    ("kurtosis from 3.1 to 8, rising", [trend_fact(indicator="kurtosis", indicator_name="kurtosis", baseline=3.1,
+                                                   latest=8.0, rate_per_month=1.5)],
+     "trend.time-to-act.fast-rise-kurtosis"),
 ]
 
 

@@ -159,3 +159,41 @@ def test_diagnose_with_history_projects_a_band_to_its_danger_level_and_acts_soon
     assert d.advice.urgency.id == "act-now", (proj, d.advice.urgency)
     (why,) = d.advice.raised_by
     assert why.point == "P1H" and "band 2000-6000 Hz, g RMS at P1H projects alarm danger level" in why.because
+
+
+# A weekly pump's 2000-6000 Hz band (invented, demo data, shaped like a simulated growing inner race): seven
+# healthy weeks scattered +-12 % about 0.007 g, the defect from week 8 (too small to show), then steps up at
+# weeks 10 and 13 as the damage spreads. The point's acceleration RMS is held flat, so only the band's own
+# readings can tell that it degrades.
+WEEKLY_BAND = [0.0071, 0.0067, 0.0061, 0.0077, 0.0075, 0.0071, 0.0072, 0.0080, 0.0084,
+               0.0248, 0.0308, 0.0307, 0.0921, 0.0952, 0.0966]
+
+
+def _weekly(values):
+    from datetime import datetime, timedelta
+
+    start = datetime(2026, 1, 5, 9)
+    return [{"id": i + 1, "taken_at": (start + timedelta(days=7 * i)).isoformat(), "channel": "PDEH",
+             "point": "PDEH", "direction": "horizontal",
+             "indicators": {"accel_rms_g": 0.0225, "velocity_rms_mm_s": 1.0, BAND: v}} for i, v in enumerate(values)]
+
+
+def test_an_acceleration_band_grows_as_damage_does_and_dates_its_own_start():
+    from engine.trend.report import growth_of
+
+    # impacts ring in an acceleration band: the exponential model; a velocity band (1X) creeps: auto
+    assert growth_of(BAND) == "exponential" and growth_of("band[1X]_mm_s") == "auto"
+    alarm = {**ALARM, "point": "PDEH"}
+    for weeks in (13, 14, 15):
+        doc = trend_from_rows("M", _weekly(WEEKLY_BAND[:weeks]), SCALE, alarms=[alarm])
+        (p,) = doc["points"]
+        proj = next(x for x in p["projections"] if x["indicator"] == BAND)
+        # its start is the first week of the rise (week 10), never the healthy scatter of weeks 4 to 7
+        assert proj["onset"] == "2026-03-09T09:00" and proj["readings_since_onset"] == weeks - 9, (weeks, proj)
+        assert proj["method"].startswith("first predicting time"), proj["method"]
+        # the band passed 0.2 g within three weeks of week 13 in the run it is shaped like: the early end of the
+        # interval lies inside the act-now window (under 14 days, rulebooks/advice/severity.yaml)
+        assert proj["projected"] and 0 <= proj["low_days"] < 14, (weeks, proj)
+        fact = next(f for f in trend_facts(doc) if f["indicator"] == BAND)
+        assert fact["degradation_began"] and fact["projection_boundary"] == "limit"
+        assert fact["readings_since_onset"] == weeks - 9

@@ -71,3 +71,8 @@ def test_the_fact_carries_the_projection_to_an_alarm_before_one_to_a_b():
     assert labels == ["zone boundary A/B (1.4 mm/s)", "alarm danger level overall = 4.5 mm/s RMS"]
     v = next(f for f in trend_facts(doc) if f["indicator"] == "velocity_rms_mm_s")
     assert v["projection_to"] == "alarm danger level overall = 4.5 mm/s RMS" and v["projection_boundary"] == "limit"
+    # for the sentences: a velocity named and targeted without mm/s in words, its values as numbers in mm/s RMS
+    assert v["indicator_words"] == "velocity" and v["projection_words"] == "alarm danger level overall"
+    assert (v["baseline_mm_s"], v["latest_mm_s"]) == (v["baseline"], v["latest"]) == (0.6, 0.8)
+    a = next(f for f in trend_facts(doc) if f["indicator"] == "accel_peak_g")
+    assert a["indicator_words"] == a["indicator_name"] == "acceleration peak, g" and a["latest_mm_s"] == 0.0
