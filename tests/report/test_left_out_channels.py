@@ -91,3 +91,24 @@ def test_a_clipped_channel_is_drawn_marked_left_out_by_default_and_with_all(pump
     assert mine and all(t.endswith("LEFT OUT (clipping)") for t in mine), mine
     assert any(t.startswith("Waveform, P1H") for t in mine) and any(t.startswith("Spectrum, P1H") for t in mine)
     assert not any(t.startswith("Squared envelope spectrum, P1H") for t in mine)   # no envelope was taken
+
+
+@pytest.mark.parametrize("quantity, unit, axis", [("velocity", "mm/s", "velocity as recorded, mm/s"),
+                                                  ("displacement", "um", "displacement as recorded, um")])
+def test_a_nan_velocity_or_displacement_channel_is_drawn_as_recorded_with_its_gaps_marked(pump, quantity, unit,
+                                                                                         axis):
+    from dataclasses import replace
+
+    sim = simulate(pump, "inner-race", "pump_de", 3, None, 12800.0, 3.0, 5, ["P1H", "P1A", "P2H"])
+    _nan(sim.channels)
+    reading = as_reading(sim, "left-out.wav")              # P1H recorded as velocity or displacement instead
+    reading = replace(reading, channels=tuple(
+        replace(ch, quantity=quantity, unit=unit) if ch.name == "P1H" else ch for ch in reading.channels))
+    d = diagnose(reading, pump, reasoner(), plots=True)
+    doc = document_of(d, made_at=MADE_AT, plot_channels=("all",))
+    mine = [f for f in doc["figures"] if "P1H" in f["title"]]
+    assert [f["title"] for f in mine] == ["Waveform, P1H - LEFT OUT (samples that are not numbers)"]
+    svg = mine[0]["svg"]
+    assert svg.count("<title>not a number</title>") == 2           # runs at samples 700-701 and 2000
+    assert axis in svg and "acceleration, g" not in svg
+    assert _row(doc, "P1H")["left_out"].startswith("samples that are not numbers")
