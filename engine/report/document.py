@@ -149,8 +149,14 @@ def _urgency(u) -> dict:
 def _summary(reasoning: Reasoning, advice: Advice, machine: Machine, shown: list[Hypothesis]) -> str:
     """The answer in one sentence; ``shown`` are the hypotheses the report lists under it."""
     if reasoning.withheld:
+        # one problem found on several channels is said once, naming them (every channel clipped: one line)
+        where: dict[str, list[str]] = {}
+        for h in reasoning.reading_problems:
+            if h.confident:
+                where.setdefault(h.fault_name, []).append(h.component)
         text = (f"This reading of {machine.name} cannot support a fault conclusion: "
-                + "; ".join(h.fault_name for h in reasoning.reading_problems if h.confident) + ".")
+                + "; ".join(name if len(on) == 1 else f"{name} on {_names(dict.fromkeys(on))}"
+                            for name, on in where.items()) + ".")
         if advice.urgency.id != "remeasure":
             text += (f" The channels that passed the quality checks still read an ISO 20816-3 level that "
                      f"calls for '{advice.urgency.label}' until a good reading says otherwise.")
@@ -407,7 +413,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "differential": [_differential(dx, reasoning, recs, worded) for dx in reasoning.differential
                          if (dx.fault, dx.component) in recs],
         "remeasure": [worded.sentence(x) for x in advice.remeasure],
-        "remeasure_actions": [a for r in withheld_recs for a in r.actions],
+        # each action once: a problem found on several channels asks for the same check of each
+        "remeasure_actions": list(dict.fromkeys(a for r in withheld_recs for a in r.actions)),
         "limitations": [" ".join(worded.sentence(x).split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
                    # the planner's checks keep no parts: their Hz reworded as printed (orders of the reference shaft)

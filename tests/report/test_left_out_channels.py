@@ -112,3 +112,22 @@ def test_a_nan_velocity_or_displacement_channel_is_drawn_as_recorded_with_its_ga
     assert svg.count("<title>not a number</title>") == 2           # runs at samples 700-701 and 2000
     assert axis in svg and "acceleration, g" not in svg
     assert _row(doc, "P1H")["left_out"].startswith("samples that are not numbers")
+
+
+def _clip_all(channels):
+    for name, x in channels.items():
+        channels[name] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())
+
+
+def test_every_channel_corrupted_is_said_once_in_the_answer_naming_the_channels(pump):
+    doc = _doc(pump, _clip_all, None)
+    assert doc["verdict"]["withheld"] is True
+    corrupted = [p for p in doc["reading_problems"] if p["fault"] == "signal-corrupted"]
+    assert sorted(p["component"] for p in corrupted) == ["P1A", "P1H", "P2H"]     # each channel still judged
+    summary = doc["verdict"]["summary"]
+    name = corrupted[0]["fault_name"]
+    assert summary.count(name) == 1 and summary.count(f"{name} on P1A, P1H and P2H") == 1, summary
+    actions = doc["remeasure_actions"]
+    assert actions and len(actions) == len(set(actions))                          # the sensor check once
+    for fmt in FORMATS:
+        assert render(doc, fmt).count(name + " on P1A") == 1, fmt
