@@ -284,7 +284,7 @@ class Reasoner:
             session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
                         tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record,
-                        because_parts=parts)
+                        because_parts=parts, weight_kept=rule.weight_kept)
         session.firings.append((rule, firing))
         if derived is not None:
             try:

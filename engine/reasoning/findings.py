@@ -24,6 +24,7 @@ class Firing:
     kept: float = 1.0                 # share of those signs its hypothesis holds after explaining away
     raw_certainty: float | None = None   # before explaining away (None: nothing was shared)
     site_record: tuple[int, int] | None = None   # the rule's (confirmed, judged) at repair at the site
+    weight_kept: str | None = None    # why learning kept the rule's weight (None: learned, or no site record)
     because_parts: tuple = ()         # the because sentence as (text, value or None) parts, for other units
 
 
