@@ -145,6 +145,8 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | N
     record = _hypothesis_site_record(h)
     if record is not None:               # rules judged by a learned overlay: beside the certainty they give
         out["site_record"] = record
+    if h.same_evidence:                  # firings counted once with another rule's (counts_with): shown, not counted
+        out["same_evidence"] = [{**_firing(f, shown), "counted_with": f.counted_with} for f in h.same_evidence]
     return out
 
 
