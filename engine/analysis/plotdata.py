@@ -125,11 +125,11 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
     bad = np.flatnonzero(~np.isfinite(samples)) if isinstance(c, LeftOutChannel) else np.zeros(0, dtype=int)
     start = min(max(0, int(bad[0]) - n // 4), len(samples) - n) if len(bad) else 0
     waveform_t = (start + np.arange(n)) / c.fs_hz * 1e3
-    shown = samples[start:start + n]
-    waveform = shown / STANDARD_GRAVITY_M_S2 if recorded is None else None
+    piece = samples[start:start + n]
+    waveform = piece / STANDARD_GRAVITY_M_S2 if recorded is None else None
     quantity = c.channel.quantity if recorded is not None else "acceleration"
-    waveform_mm_s = from_si(shown, "mm/s") if quantity == "velocity" else None
-    waveform_um = from_si(shown, "um") if quantity == "displacement" else None
+    waveform_mm_s = from_si(piece, "mm/s") if quantity == "velocity" else None
+    waveform_um = from_si(piece, "um") if quantity == "displacement" else None
 
     revs_deg = revs_g = None
     if c.accel is not None and analysis.duration_s * fr >= 1 and bool(np.isfinite(c.accel).all()):
