@@ -18,7 +18,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..common.units import STANDARD_GRAVITY_M_S2
+from ..common.units import STANDARD_GRAVITY_M_S2, from_si
 from ..readings.quality import left_out_words
 from .result import Analysis, ChannelAnalysis, LeftOutChannel
 from .synchronous import default_samples_per_rev, revolution_rows
@@ -50,7 +50,7 @@ class PlotData:
     shaft_hz: float
     bearing: str | None
     waveform_t_ms: np.ndarray
-    waveform_g: np.ndarray
+    waveform_g: np.ndarray | None            # acceleration; None for a record kept as recorded (below)
     revolutions_deg: np.ndarray | None       # angle axis of each turn
     revolutions_g: np.ndarray | None         # (turns, samples), g
     spectrum_hz: np.ndarray
@@ -63,6 +63,10 @@ class PlotData:
     envelope_marks: tuple[Mark, ...]
     sensor_shaft: str | None = None          # the shaft under the channel's point (None: no point)
     left_out: str = ""                       # why the analysis left the channel out, in words ('' when analysed)
+    # a velocity or displacement record left out with samples that are not numbers, drawn as recorded: one of
+    # these instead of waveform_g (its gaps cannot be integrated or differentiated across)
+    waveform_mm_s: np.ndarray | None = None  # velocity, mm/s (instantaneous)
+    waveform_um: np.ndarray | None = None    # displacement, micrometres (instantaneous)
 
 
 @dataclass(frozen=True)
@@ -88,7 +92,7 @@ def plot_set(analysis: Analysis) -> PlotSet:
         envelope = _envelope(c)        # one copy per channel, shared by its views from each shaft
         views += [plot_data(analysis, c.name, shaft, envelope=envelope) for shaft in analysis.speeds_hz]
     for lo in analysis.left_out_channels:
-        if lo.accel is not None:
+        if lo.accel is not None or lo.recorded is not None:
             views += [plot_data(analysis, lo.name, shaft) for shaft in analysis.speeds_hz]
     return PlotSet(tuple(views))
 
@@ -111,18 +115,24 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
     """What the report plots for ``channel``, looking at ``shaft`` and, if given, ``bearing``;
     ``envelope`` is the channel's ``_envelope``, when the caller has it already."""
     c = _channel(analysis, channel)
-    if c.accel is None:
+    recorded = c.recorded if isinstance(c, LeftOutChannel) and c.accel is None else None
+    samples = c.accel if recorded is None else recorded
+    if samples is None:
         raise ValueError(f"channel {channel} has no waveform to plot")     # plot_set never asks for one
     fr = analysis.speeds_hz[shaft]
-    n = min(len(c.accel), int(min(analysis.duration_s, max(0.1, WAVEFORM_REVOLUTIONS / fr)) * c.fs_hz))
+    n = min(len(samples), int(min(analysis.duration_s, max(0.1, WAVEFORM_REVOLUTIONS / fr)) * c.fs_hz))
     # a channel left out with samples that are not numbers: its waveform starts a little before the first one
-    bad = np.flatnonzero(~np.isfinite(c.accel)) if isinstance(c, LeftOutChannel) else np.zeros(0, dtype=int)
-    start = min(max(0, int(bad[0]) - n // 4), len(c.accel) - n) if len(bad) else 0
+    bad = np.flatnonzero(~np.isfinite(samples)) if isinstance(c, LeftOutChannel) else np.zeros(0, dtype=int)
+    start = min(max(0, int(bad[0]) - n // 4), len(samples) - n) if len(bad) else 0
     waveform_t = (start + np.arange(n)) / c.fs_hz * 1e3
-    waveform = c.accel[start:start + n] / STANDARD_GRAVITY_M_S2
+    piece = samples[start:start + n]
+    waveform = piece / STANDARD_GRAVITY_M_S2 if recorded is None else None
+    quantity = c.channel.quantity if recorded is not None else "acceleration"
+    waveform_mm_s = from_si(piece, "mm/s") if quantity == "velocity" else None
+    waveform_um = from_si(piece, "um") if quantity == "displacement" else None
 
     revs_deg = revs_g = None
-    if analysis.duration_s * fr >= 1 and bool(np.isfinite(c.accel).all()):
+    if c.accel is not None and analysis.duration_s * fr >= 1 and bool(np.isfinite(c.accel).all()):
         spr = default_samples_per_rev(c.fs_hz, fr)
         shown = min(REVOLUTIONS_SHOWN, int(analysis.duration_s * fr))
         rows = revolution_rows(c.accel[:int(min(len(c.accel), (shown + 1) * c.fs_hz / fr + 4))], c.fs_hz, fr, spr)
@@ -161,4 +171,5 @@ def plot_data(analysis: Analysis, channel: str, shaft: str, bearing: str | None 
         env_marks = tuple(sorted(out, key=lambda m: m.freq_hz))
     return PlotData(channel, shaft, fr, bearing, waveform_t, waveform, revs_deg, revs_g,
                     spec_hz, spec_mm_s, resolution_hz, tuple(marks), env_hz, env, band, env_marks,
-                    sensor, left_out_words(c.issues) if isinstance(c, LeftOutChannel) else "")
+                    sensor, left_out_words(c.issues) if isinstance(c, LeftOutChannel) else "",
+                    waveform_mm_s, waveform_um)

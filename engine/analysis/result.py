@@ -111,7 +111,9 @@ class ChannelAnalysis:
 class LeftOutChannel:
     """A channel left out of the analysis for a corrupting quality issue, kept for the report to show it as
     it is (its waveform shows the NaN, the clipping, the dead line): its samples as acceleration and, when
-    every sample is a number within a sensor's range, its velocity spectrum. No level, no evidence."""
+    every sample is a number within a sensor's range, its velocity spectrum; a velocity or displacement record
+    with samples that are not numbers cannot be integrated or differentiated across its gaps, so its samples
+    are kept as recorded instead (``recorded``, the quantity of ``channel``). No level, no evidence."""
 
     channel: Channel
     point: Point | None
@@ -119,6 +121,8 @@ class LeftOutChannel:
     accel: np.ndarray | None        # m/s^2, mean removed; NaN where the record holds none; None: not acceleration
     velocity: Spectrum | None       # mm/s RMS; None when a sample is not a number or out of any sensor's range
     issues: tuple[QualityIssue, ...]
+    recorded: np.ndarray | None = None   # SI base of channel.quantity, mean of the numbers removed, NaN kept;
+    #                                      set only when accel is None (a velocity or displacement record with NaN)
     envelope = None                 # no envelope is taken of it (read like a ChannelAnalysis by the plot data)
 
     @property
@@ -137,9 +141,12 @@ def _left_out_channel(ch: Channel, point: Point | None, fs: float, issues: tuple
         accel = _to_acceleration(ch, fs)
         return LeftOutChannel(ch, point, fs, accel, velocity_spectrum(Transform.of(accel, fs).amplitude("peak")),
                               issues)
-    if ch.quantity != "acceleration" or not finite.any() or not np.all(np.abs(x[finite]) < 1e100):
-        return LeftOutChannel(ch, point, fs, None, None, issues)     # nothing to draw as acceleration
-    return LeftOutChannel(ch, point, fs, np.where(finite, x - float(np.mean(x[finite])), np.nan), None, issues)
+    if not finite.any() or not np.all(np.abs(x[finite]) < 1e100):
+        return LeftOutChannel(ch, point, fs, None, None, issues)     # nothing to draw
+    as_recorded = np.where(finite, x - float(np.mean(x[finite])), np.nan)
+    if ch.quantity != "acceleration":   # integration or differentiation would spread its gaps over the record
+        return LeftOutChannel(ch, point, fs, None, None, issues, recorded=as_recorded)
+    return LeftOutChannel(ch, point, fs, as_recorded, None, issues)
 
 
 @dataclass(frozen=True)

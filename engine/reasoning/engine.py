@@ -284,7 +284,7 @@ class Reasoner:
             session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
                         tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record,
-                        because_parts=parts)
+                        because_parts=parts, weight_kept=rule.weight_kept)
         session.firings.append((rule, firing))
         if derived is not None:
             try:
@@ -407,8 +407,8 @@ class Reasoner:
                 extra += len(entries) - 1
                 rule, best = max(entries, key=lambda e: abs(e[1].certainty))  # first of equals
                 # the strongest firing of each other rule of this piece of evidence: shown, not counted again
-                same += [max((f for r, f in entries if r.id == other), key=lambda f: abs(f.certainty))
-                         for other in sorted({r.id for r, _ in entries} - {rule.id})]
+                same += [replace(max((f for r, f in entries if r.id == other), key=lambda f: abs(f.certainty)),
+                                 counted_with=rule.id) for other in sorted({r.id for r, _ in entries} - {rule.id})]
                 if best.certainty > 0:
                     support.append((rule, best))
                 elif best.certainty < 0:

@@ -24,6 +24,8 @@ class Firing:
     kept: float = 1.0                 # share of those signs its hypothesis holds after explaining away
     raw_certainty: float | None = None   # before explaining away (None: nothing was shared)
     site_record: tuple[int, int] | None = None   # the rule's (confirmed, judged) at repair at the site
+    weight_kept: str | None = None    # why learning kept the rule's weight (None: learned, or no site record)
+    counted_with: str | None = None   # in a hypothesis's same_evidence: the rule whose firing counted for both
     because_parts: tuple = ()         # the because sentence as (text, value or None) parts, for other units
 
 

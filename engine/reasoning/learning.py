@@ -13,7 +13,8 @@ stored diagnosis and what was found when the machine was opened) gives
 - a proposed site overlay (YAML text in the rulebook overlay format of
   ``rulebooks/README.md``) that carries only what was learned: for each rule whose
   weight changes, the new weight, its ``site_record`` (confirmed k of n) and the
-  fingerprint of the rule it was learned against (``learned_against``); the loader
+  fingerprint of the rule it was learned against (``learned_against``), and for each
+  rule whose weight it keeps, its record and why (``kept:``, shown beside its firings); the loader
   lays that onto the rule as it is loaded then, and leaves it unapplied, with a
   note, when the rule has changed since. The shipped rulebooks are never edited.
 
@@ -406,6 +407,12 @@ def propose_overlay(diagnoses: Iterable[JudgedDiagnosis], rulebook: Rulebook, pr
     return Proposal(tuple(changes), tuple(too_little), tuple(unchanged), tuple(not_learned), text, tuple(held))
 
 
+# why a rule's weight was kept, as a diagnosis says it beside the rule's site record
+KEPT_WHY = {"too_little": "too few judged firings to learn from",
+            "unchanged": "the learned weight rounds to the loaded one",
+            "held": "the record contradicts the move"}
+
+
 def record_words(record: RuleRecord) -> str:
     """``confirmed k of n (Wilson 95 % a-b)``, as the overlay's sources and comments say it."""
     return f"confirmed {record.k} of {record.n} (Wilson 95 % {record.low:.2f}-{record.high:.2f})"
@@ -444,10 +451,18 @@ def _overlay_text(changes, too_little, unchanged, not_learned, loaded, prior_n, 
         entries.append({"rule": c.rule_id, "weight": c.learned_weight,
                         "site_record": {"confirmed": c.record.k, "judged": c.record.n},
                         "learned_against": rule.fingerprint, "source": source})
+    # the rules whose weight was kept carry their record too, so a diagnosis shows it beside their firings
+    kept = [{"rule": r.rule_id, "site_record": {"confirmed": r.k, "judged": r.n},
+             "learned_against": loaded[r.rule_id].fingerprint, "why": why}
+            for why, records in ((KEPT_WHY["too_little"], too_little), (KEPT_WHY["unchanged"], unchanged),
+                                 (KEPT_WHY["held"], held))
+            for r in sorted(records, key=lambda r: r.rule_id)]
     body: dict = {"rulebook": name,
                   "about": "Rule weights learned from what was found at repair at this site."}
     if entries:
         body["learned"] = entries
+    if kept:
+        body["kept"] = kept
     return "\n".join(head) + "\n" + yaml.safe_dump(body, sort_keys=False, allow_unicode=True, width=100)
 
 

@@ -14,7 +14,8 @@ each reported as one line naming the file, the line and the rule:
    parameter in one line (``parameters: {name: value}``); anything else that
    reuses an id is an error. A learned overlay (``tellwave learn``) carries only
    ``learned:`` entries: a rule's weight and site record, laid onto the rule as it
-   is loaded now; an entry learned against a rule that has changed since (its
+   is loaded now (and ``kept:`` entries: the record of a rule whose weight it
+   kept); an entry learned against a rule that has changed since (its
    conditions, conclusion or grading: ``learned_against``) is not applied, and
    the rulebook's ``notes`` say so, naming the file and the rule.
 
@@ -158,6 +159,7 @@ class Rule:
     explains: tuple[str, ...] = ()   # aliases of the needed facts whose signs the conclusion explains
     site_record: tuple[int, int] | None = None   # (confirmed, judged) at repair at the site (tellwave learn)
     learned_by: str | None = None    # the learned overlay (as labelled) whose weight this rule carries
+    weight_kept: str | None = None   # why the learned overlay kept its weight (its site record shown all the same)
     counts_with: str | None = None   # a rule reading the same signs: for a hypothesis the two count once
 
     @property
@@ -376,25 +378,32 @@ def _apply_learned(doc, label: str, rules: dict[str, Rule], disabled) -> list[st
     site record only. An entry whose rule is gone, or has changed since it was learned (its
     ``learned_against`` differs from the rule's fingerprint), is left unapplied and noted."""
     notes = []
-    for j, entry in enumerate(doc.data.get("learned") or []):
+    # ``kept:`` entries carry a record whose weight learning kept: the record is shown, the weight stays
+    entries = [("learned", j, e) for j, e in enumerate(doc.data.get("learned") or [])] + [
+        ("kept", j, e) for j, e in enumerate(doc.data.get("kept") or [])]
+    unapplied = {"learned": "learned weight not applied", "kept": "site record not shown"}
+    for key, j, entry in entries:
         rid = entry["rule"]
-        line = doc.line_of(["learned", j])
+        line = doc.line_of([key, j])
         where = f"{label}:{line}" if line else label
         rule = rules.get(rid)
         if rule is None:
             why = (f"it is switched off by {disabled[rid][1]}" if rid in disabled
                    else f"no loaded rule has this id{_near(rid, rules)} (pass the site folders it was learned with "
                         "before it)")
-            notes.append(f"{where}: rule {rid}: learned weight not applied: {why}")
+            notes.append(f"{where}: rule {rid}: {unapplied[key]}: {why}")
             continue
         if entry["learned_against"] != rule.fingerprint:
-            notes.append(f"{where}: rule {rid}: learned weight not applied: the rule ({rule.origin}) has changed "
+            notes.append(f"{where}: rule {rid}: {unapplied[key]}: the rule ({rule.origin}) has changed "
                          "since it was learned; learn again with the rulebooks the diagnoses are now made with")
             continue
         k, n = entry["site_record"]["confirmed"], entry["site_record"]["judged"]
         if k > n:
             raise RulebookError(f"rule {rid}: site_record: confirmed {k} of {n} judged; a rule cannot be confirmed "
                                 "more often than it was judged", path=doc.path, line=line)
+        if key == "kept":
+            rules[rid] = replace(rule, site_record=(k, n), learned_by=label, weight_kept=entry["why"])
+            continue
         if (entry["weight"] > 0) != (rule.weight > 0):
             raise RulebookError(f"rule {rid}: learned weight {entry['weight']:g} has the other sign from the rule's "
                                 f"{rule.weight:g}", path=doc.path, line=line)

@@ -78,23 +78,51 @@ def _firing(f: Firing, shown: _Shown | None = None) -> dict:
         out |= {"raw_certainty": round(f.raw_certainty, 3), "kept": round(f.kept, 3)}
     if f.site_record is not None:        # a learned overlay's rule: what repairs at the site found
         k, n = f.site_record
-        out["site_record"] = {"confirmed": k, "judged": n,
-                              "words": f"at this site this rule was confirmed {k} of {n} times"}
+        kept = "" if f.weight_kept is None else f" (weight kept: {f.weight_kept})"
+        out["site_record"] = {"confirmed": k, "judged": n, "weight_kept": f.weight_kept,
+                              "words": f"at this site this rule was confirmed {k} of {n} times{kept}"}
     return out
 
 
-def _site_record_line(shown: list[Hypothesis]) -> str | None:
-    """One line under the answer when a listed hypothesis rests on weights learned from the site's findings
-    at repair (a learned overlay): which rules, and how often repairs confirmed each; None otherwise."""
-    said: dict[str, tuple[int, int]] = {}
-    for h in shown:
+def _site_records(hypotheses) -> tuple[dict[str, tuple[int, int]], dict[str, tuple[int, int]]]:
+    """The site records (confirmed, judged) of the rules supporting ``hypotheses``, by rule: those whose
+    weight a learned overlay changed, and those whose weight it kept."""
+    learned: dict[str, tuple[int, int]] = {}
+    kept: dict[str, tuple[int, int]] = {}
+    for h in hypotheses:
         for f in h.support:
             if f.site_record is not None:
-                said.setdefault(f.rule_id, f.site_record)
-    if not said:
+                (learned if f.weight_kept is None else kept).setdefault(f.rule_id, f.site_record)
+    return learned, kept
+
+
+def _told(records: dict[str, tuple[int, int]]) -> str:
+    return "; ".join(f"{rule} confirmed {k} of {n}" for rule, (k, n) in sorted(records.items()))
+
+
+def _site_record_line(shown: list[Hypothesis]) -> str | None:
+    """One line under the answer when a listed hypothesis rests on rules a learned overlay judged from the
+    site's findings at repair: which rules, and how often repairs confirmed each, weights learned and weights
+    kept apart; None otherwise."""
+    learned, kept = _site_records(shown)
+    if not learned and not kept:
         return None
-    told = "; ".join(f"{rule} confirmed {k} of {n}" for rule, (k, n) in sorted(said.items()))
-    return f"weights learned from this site's findings at repair were applied ({told})"
+    parts = [f"weights learned from this site's findings at repair were applied ({_told(learned)})"] if learned else []
+    if kept:
+        who = "weights kept" if learned else "weights kept by learning from this site's findings at repair"
+        parts.append(f"{who}, with their record ({_told(kept)})")
+    return "; ".join(parts)
+
+
+def _hypothesis_site_record(h: Hypothesis) -> str | None:
+    """The site's record of the rules behind one hypothesis, beside the certainty it qualifies:
+    ``site record: RULE confirmed k of n at repair``, weights kept said so; None without one."""
+    learned, kept = _site_records([h])
+    if not learned and not kept:
+        return None
+    told = [f"{_told(learned)} (weight learned)"] if learned else []
+    told += [f"{_told(kept)} (weight kept)"] if kept else []
+    return "site record at repair: " + "; ".join(told)
 
 
 def _explained_by(h: Hypothesis) -> list[dict]:
@@ -114,6 +142,11 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | N
            "explained_by": _explained_by(h) if h.raw_certainty is not None else [],
            "severity": rec.severity, "urgency": _urgency(rec.urgency), "actions": list(rec.actions),
            "spares": list(rec.spares), "confirm": list(rec.confirm), "urgency_raised_by": _raises(rec.raised_by, shown)}
+    record = _hypothesis_site_record(h)
+    if record is not None:               # rules judged by a learned overlay: beside the certainty they give
+        out["site_record"] = record
+    if h.same_evidence:                  # firings counted once with another rule's (counts_with): shown, not counted
+        out["same_evidence"] = [{**_firing(f, shown), "counted_with": f.counted_with} for f in h.same_evidence]
     return out
 
 
@@ -151,8 +184,14 @@ def _urgency(u) -> dict:
 def _summary(reasoning: Reasoning, advice: Advice, machine: Machine, shown: list[Hypothesis]) -> str:
     """The answer in one sentence; ``shown`` are the hypotheses the report lists under it."""
     if reasoning.withheld:
+        # one problem found on several channels is said once, naming them (every channel clipped: one line)
+        where: dict[str, list[str]] = {}
+        for h in reasoning.reading_problems:
+            if h.confident:
+                where.setdefault(h.fault_name, []).append(h.component)
         text = (f"This reading of {machine.name} cannot support a fault conclusion: "
-                + "; ".join(h.fault_name for h in reasoning.reading_problems if h.confident) + ".")
+                + "; ".join(name if len(on) == 1 else f"{name} on {_names(dict.fromkeys(on))}"
+                            for name, on in where.items()) + ".")
         if advice.urgency.id != "remeasure":
             text += (f" The channels that passed the quality checks still read an ISO 20816-3 level that "
                      f"calls for '{advice.urgency.label}' until a good reading says otherwise.")
@@ -410,7 +449,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                          if (dx.fault, dx.component) in recs],
         "remeasure": [worded.sentence(x) for x in advice.remeasure],
         "measure_next": list(advice.measure_next),
-        "remeasure_actions": [a for r in withheld_recs for a in r.actions],
+        # each action once: a problem found on several channels asks for the same check of each
+        "remeasure_actions": list(dict.fromkeys(a for r in withheld_recs for a in r.actions)),
         "limitations": [" ".join(worded.sentence(x).split()) for x in advice.limitations],
         "reach": [{"state": v["state"], "fault": v["fault"], "component": v["component"], "label": v["label"],
                    # the planner's checks keep no parts: their Hz reworded as printed (orders of the reference shaft)

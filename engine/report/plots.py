@@ -24,7 +24,7 @@ import numpy as np
 
 from ..analysis.plotdata import PlotData, PlotSet
 from ..common.errors import UsageError
-from ..common.units import ShownUnits
+from ..common.units import VELOCITY_UNITS, ShownUnits, convert
 from ..evidence import Evidence
 from ..machine import Machine
 from ..reasoning import POSSIBLE, Reasoning
@@ -175,8 +175,8 @@ def _draw_own(plots: PlotSet, channel: str, focus_channel: str, shaft: str, bear
               evidence: Evidence, used: AbstractSet[str], units: ShownUnits | None) -> list[Figure]:
     """The figures of ``channel`` as the report would show it: the focus view for the focus channel, else
     seen from the shaft under its point (the focus shaft when it has none); a channel left out for a
-    corrupting issue is drawn as it is, its titles saying why; none for one with nothing to draw (samples that
-    are not numbers in a velocity or displacement record: the report says so under Acquisition)."""
+    corrupting issue is drawn as it is, its titles saying why (a velocity or displacement record with samples
+    that are not numbers: its waveform as recorded); none for one with nothing to draw."""
     if channel == focus_channel:
         return draw(plots.view(channel, shaft, bearing), evidence, used, units)
     any_view = next((v for v in plots.views if v.channel == channel), None)
@@ -235,6 +235,20 @@ def _axes(pd: PlotData, units: ShownUnits | None) -> tuple[float, str, float, st
     return fx, f"frequency, {fname}", units.velocity_value(1.0, line=True), f"velocity, {units.velocity_label(True)}"
 
 
+def _waveform(pd: PlotData, units: ShownUnits) -> tuple[np.ndarray, str]:
+    """The waveform's values and its axis words: acceleration in g, or a velocity or displacement record
+    left out with samples that are not numbers as recorded (velocity in the length unit of ``units``:
+    instantaneous values, neither RMS nor peak)."""
+    if pd.waveform_mm_s is not None:
+        length = VELOCITY_UNITS[units.velocity][0]
+        return convert(pd.waveform_mm_s, "mm/s", length), f"velocity as recorded, {length}"
+    if pd.waveform_um is not None:
+        return pd.waveform_um, "displacement as recorded, um"
+    if pd.waveform_g is None:
+        raise ValueError(f"view of {pd.channel} has no waveform")     # plot_data always sets one
+    return pd.waveform_g, "acceleration, g"
+
+
 def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset(),
          units: ShownUnits | None = None) -> list[Figure]:
     """Each figure of one view; ``used``: the components whose crowding rates are marked; frequencies
@@ -247,12 +261,13 @@ def draw(pd: PlotData, evidence: Evidence, used: AbstractSet[str] = frozenset(),
     why = f" - LEFT OUT ({pd.left_out})" if pd.left_out else ""
     title = f"Waveform, {pd.channel}{why}"
     # samples that are not numbers cannot be drawn: a mark stands at the start of each run of them (the first few)
-    bad = ~np.isfinite(pd.waveform_g)
+    values, axis = _waveform(pd, units or ShownUnits())
+    bad = ~np.isfinite(values)
     starts = np.flatnonzero(bad & ~np.concatenate(([False], bad[:-1])))[:NOT_A_NUMBER_MARKS]
     gaps = [svg.Mark(float(pd.waveform_t_ms[i]), "not a number", strong=True, group="samples that are not numbers")
             for i in starts]
-    out.append(Figure(title, svg.render(svg.Plot(title, "time, ms", "acceleration, g" + stated,
-                                                 [svg.Series(pd.waveform_t_ms, pd.waveform_g)], gaps))))
+    out.append(Figure(title, svg.render(svg.Plot(title, "time, ms", axis + stated,
+                                                 [svg.Series(pd.waveform_t_ms, values)], gaps))))
     if pd.revolutions_g is not None and pd.revolutions_deg is not None and len(pd.revolutions_g):
         rows = pd.revolutions_g
         step = 2.2 * float(np.max(np.abs(rows))) or 1.0

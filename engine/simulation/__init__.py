@@ -140,7 +140,7 @@ def _component_shafts(machine: Machine, fault: str, component: str) -> set[str]:
                 return {b.driving_shaft, b.driven_shaft}
     where = "a bearing's housing and foot, named by the bearing" if kind == "support" else f"a {kind}"
     raise UsageError(f"no {kind} {component!r} in {machine.name!r}; a {fault} fault sits on {where}: "
-                     f"{', '.join(_candidates(machine, kind)) or 'none'}")
+                     f"{', '.join(_candidates(machine, kind) if kind else []) or 'none'}")
 
 
 def runs_at(machine: Machine, fault: str, component: str | None, speed_rpm: float) -> bool:

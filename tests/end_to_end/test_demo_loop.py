@@ -41,16 +41,24 @@ def test_the_learning_counts_what_the_fitters_found(looped):
     assert doc["proposal"]["changes"] == [] and "bearing.inner-race.load-zone" in doc["proposal"]["too_little"]
 
 
-def test_the_next_route_is_made_with_the_rules_as_shipped_and_the_record_is_in_the_overlays_comments(looped):
+def test_the_next_route_is_made_with_the_rules_as_shipped_and_the_record_is_shown_beside_them(looped):
     root, _ = looped
     text = (root / "learned" / "learned.yaml").read_text()
-    # no weight moves, so the overlay carries nothing to lay on a rule: only the record, in its comments
-    assert "learned" not in yaml.safe_load(text) and "rules" not in yaml.safe_load(text)
+    # no weight moves, so the overlay lays no weight on a rule: only the records (kept:), and its comments
+    body = yaml.safe_load(text)
+    assert "learned" not in body and "rules" not in body
     assert "#   shaft.unbalance.radial-1x: confirmed 1 of 1" in text
+    kept = {e["rule"]: e for e in body["kept"]}
+    assert kept["shaft.unbalance.radial-1x"]["site_record"] == {"confirmed": 1, "judged": 1}
+    assert kept["shaft.unbalance.radial-1x"]["why"] == "too few judged firings to learn from"
     report = next((root / "routes" / "month-05" / "route-reports" / "reports").rglob("bw1-bdeh-*.json"))
     doc = json.loads(report.read_text())
-    assert not [f for h in doc["hypotheses"] for f in h.get("support", []) if f.get("site_record")]
-    assert doc["verdict"]["site_record"] is None
+    # the weights are the shipped ones; the site's record of each stands beside its firing and its hypothesis
+    shown = [f for h in doc["hypotheses"] for f in h.get("support", []) if f.get("site_record")]
+    assert shown and all(f["site_record"]["weight_kept"] == kept[f["rule"]]["why"] for f in shown)
+    assert doc["verdict"]["site_record"].startswith("weights kept by learning from this site's findings at repair")
+    assert all(h["site_record"].endswith("(weight kept)") for h in doc["hypotheses"]
+               if any(f.get("site_record") for f in h["support"]))
 
 
 def test_the_next_summary_names_the_repair_between_the_surveys(looped):

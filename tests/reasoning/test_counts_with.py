@@ -85,3 +85,10 @@ def test_explain_says_which_rule_it_counts_with():
     assert any("counts with electrical.rotor-bar.pole-pass" in line
                for line in explain(rules["electrical.rotor-bar.family"], book))
     assert not any("counts with" in line for line in explain(rules["electrical.rotor-bar.pole-pass"], book))
+
+
+def test_the_firing_counted_with_another_names_the_rule_whose_firing_counted(tmp_path):
+    one = _reasoner(tmp_path, "counts_with: t.wobble.tone").reason(FACTS).hypotheses[0]
+    # strong-tone fires on P1V only (5.0 >= 4), tone on both: tone's stronger firing (0.45) counts for the two
+    assert [(f.rule_id, f.counted_with) for f in one.same_evidence] == [("t.wobble.strong-tone", "t.wobble.tone")]
+    assert all(f.counted_with is None for f in one.support)

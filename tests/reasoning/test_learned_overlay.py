@@ -150,3 +150,34 @@ def test_a_whole_rule_learned_by_an_earlier_version_is_noted(tmp_path):
     (folder / "learned.yaml").write_text(yaml.safe_dump({"rulebook": "old", "rules": [raw]}), encoding="utf-8")
     notes = load_rulebook(folder).notes
     assert len(notes) == 1 and notes[0].startswith("old/learned.yaml:") and "masked" in notes[0]
+
+
+@pytest.mark.parametrize("hits, misses, final, why", [
+    (3, 1, 0.5, "too few judged firings to learn from"),          # 4 judged firings, fewer than least_n 5
+    # (20 * 0.5 + 6) / 28 = 0.571, moved at most 0.001 (the cap below): 0.501 rounds to 0.50
+    (6, 2, 0.75, "the learned weight rounds to the loaded one"),
+    (3, 5, 0.70, "the record contradicts the move"),               # 3 of 8 right where 70 % was promised
+])
+def test_a_kept_weight_still_carries_its_site_record(tmp_path, hits, misses, final, why):
+    site = _site(tmp_path, "site", 2.0)
+    cap = 0.001 if why.startswith("the learned weight rounds") else 0.3    # a move too small to round to 0.51
+    weight = 0.2 if why.startswith("the record contradicts") else 0.5
+    book = load_rulebook(site)
+    if weight != 0.5:
+        (site / "fan.yaml").write_text(SITE_RULES.replace("THRESHOLD", "2.0").replace("certainty: 0.5",
+                                                                                     f"certainty: {weight}"))
+        book = load_rulebook(site)
+    proposal = propose_overlay(_judged(hits, misses, weight, final), book, prior_n=20, cap=cap, least_n=5)
+    assert proposal.changes == ()
+    (tmp_path / "learned").mkdir()
+    (tmp_path / "learned" / "learned.yaml").write_text(proposal.text, encoding="utf-8")
+    body = yaml.safe_load(proposal.text)
+    assert "learned" not in body and [e["rule"] for e in body["kept"]] == [RULE]
+    assert body["kept"][0]["site_record"] == {"confirmed": hits, "judged": hits + misses}
+    rule = load_rulebook(site, tmp_path / "learned").rule(RULE)
+    assert (rule.weight, rule.site_record, rule.weight_kept) == (weight, (hits, hits + misses), why)
+    # an edit of the rule since: the record is not shown, and a note says so
+    edited = _site(tmp_path, "site-edit", 6.0)
+    book = load_rulebook(edited, tmp_path / "learned")
+    assert book.rule(RULE).site_record is None and book.rule(RULE).weight_kept is None
+    assert len(book.notes) == 1 and "site record not shown" in book.notes[0]

@@ -212,11 +212,12 @@ def test_three_findings_change_nothing_and_still_load(tmp_path):
     proposal = propose_overlay(diagnoses, load_rulebook())
     assert proposal.changes == ()
     assert [r.rule_id for r in proposal.too_little] == ["gear.tooth.once-per-rev", "shaft.unbalance.radial-1x"]
-    # a rule whose weight is kept is not written: the overlay carries only what was learned
+    # a rule whose weight is kept gets no weight: the overlay carries its record only (kept:), for the answer
     assert "\nlearned:" not in proposal.text and "shaft.unbalance.radial-1x: confirmed 2 of 2" in proposal.text
     learned = _load_overlay(tmp_path, proposal.text)
     assert learned.rule("shaft.unbalance.radial-1x").weight == 0.6
-    assert learned.rule("shaft.unbalance.radial-1x").site_record is None
+    assert learned.rule("shaft.unbalance.radial-1x").site_record == (2, 2)
+    assert learned.rule("shaft.unbalance.radial-1x").weight_kept == "too few judged firings to learn from"
     assert learned.rule("gear.tooth.once-per-rev").weight == load_rulebook().rule("gear.tooth.once-per-rev").weight
     assert reliability(diagnoses).brier == pytest.approx((0.4 ** 2 + 0.4 ** 2 + 0.7 ** 2) / 3)
 

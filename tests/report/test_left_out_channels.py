@@ -91,3 +91,43 @@ def test_a_clipped_channel_is_drawn_marked_left_out_by_default_and_with_all(pump
     assert mine and all(t.endswith("LEFT OUT (clipping)") for t in mine), mine
     assert any(t.startswith("Waveform, P1H") for t in mine) and any(t.startswith("Spectrum, P1H") for t in mine)
     assert not any(t.startswith("Squared envelope spectrum, P1H") for t in mine)   # no envelope was taken
+
+
+@pytest.mark.parametrize("quantity, unit, axis", [("velocity", "mm/s", "velocity as recorded, mm/s"),
+                                                  ("displacement", "um", "displacement as recorded, um")])
+def test_a_nan_velocity_or_displacement_channel_is_drawn_as_recorded_with_its_gaps_marked(pump, quantity, unit,
+                                                                                         axis):
+    from dataclasses import replace
+
+    sim = simulate(pump, "inner-race", "pump_de", 3, None, 12800.0, 3.0, 5, ["P1H", "P1A", "P2H"])
+    _nan(sim.channels)
+    reading = as_reading(sim, "left-out.wav")              # P1H recorded as velocity or displacement instead
+    reading = replace(reading, channels=tuple(
+        replace(ch, quantity=quantity, unit=unit) if ch.name == "P1H" else ch for ch in reading.channels))
+    d = diagnose(reading, pump, reasoner(), plots=True)
+    doc = document_of(d, made_at=MADE_AT, plot_channels=("all",))
+    mine = [f for f in doc["figures"] if "P1H" in f["title"]]
+    assert [f["title"] for f in mine] == ["Waveform, P1H - LEFT OUT (samples that are not numbers)"]
+    svg = mine[0]["svg"]
+    assert svg.count("<title>not a number</title>") == 2           # runs at samples 700-701 and 2000
+    assert axis in svg and "acceleration, g" not in svg
+    assert _row(doc, "P1H")["left_out"].startswith("samples that are not numbers")
+
+
+def _clip_all(channels):
+    for name, x in channels.items():
+        channels[name] = x.clip(-0.3 * abs(x).max(), 0.3 * abs(x).max())
+
+
+def test_every_channel_corrupted_is_said_once_in_the_answer_naming_the_channels(pump):
+    doc = _doc(pump, _clip_all, None)
+    assert doc["verdict"]["withheld"] is True
+    corrupted = [p for p in doc["reading_problems"] if p["fault"] == "signal-corrupted"]
+    assert sorted(p["component"] for p in corrupted) == ["P1A", "P1H", "P2H"]     # each channel still judged
+    summary = doc["verdict"]["summary"]
+    name = corrupted[0]["fault_name"]
+    assert summary.count(name) == 1 and summary.count(f"{name} on P1A, P1H and P2H") == 1, summary
+    actions = doc["remeasure_actions"]
+    assert actions and len(actions) == len(set(actions))                          # the sensor check once
+    for fmt in FORMATS:
+        assert render(doc, fmt).count(name + " on P1A") == 1, fmt
