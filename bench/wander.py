@@ -66,9 +66,10 @@ def with_speed_wander(sim, wander: float, wander_hz: float = WANDER_HZ):
     return dataclasses.replace(sim, channels={k: np.interp(clock, t, x) for k, x in sim.channels.items()})
 
 
-def run(seeds=(0, 1, 2, 3), wanders=WANDERS, scenarios=SCENARIOS, fs_hz=25600.0, duration_s=4.0) -> list[Row]:
+def run(seeds=(0, 1, 2, 3), wanders=WANDERS, scenarios=SCENARIOS, fs_hz=25600.0, duration_s=4.0,
+        reasoner=None) -> list[Row]:
     """A Row for every scenario, wander and seed."""
-    reasoner = Reasoner(load_rulebook())
+    reasoner = reasoner or Reasoner(load_rulebook())
     rows = []
     for fault, mk, component, stage in scenarios:
         machine = load_machine(MACHINES[mk])
