@@ -357,6 +357,8 @@ def _wandering_angle(accel: np.ndarray, fs: float, spectrum: Spectrum, speed_hz:
         lo, hi = np.searchsorted(spectrum.freq_hz, [carrier - half, carrier + half])
         if hi <= lo:
             continue
+        if line_spread(spectrum.freq_hz, spectrum.amplitude, spectrum.enbw_hz, carrier, half) <= WANDER_SPREAD:
+            return None                 # a steady line (a band of noise alone spreads far more)
         top = lo + int(np.argmax(spectrum.amplitude[lo:hi]))
         # the floor beside the band: a wandering line spreads over the lines a floor at its own line would use
         beside = int(np.ceil(wide / spectrum.resolution_hz)) + Spectrum.FLOOR_LINES // 2
@@ -364,8 +366,6 @@ def _wandering_angle(accel: np.ndarray, fs: float, spectrum: Spectrum, speed_hz:
                   if 0 <= line < len(spectrum.amplitude)]
         if not floors or spectrum.amplitude[top] < MESH_LINE_SNR * min(floors):
             continue
-        if line_spread(spectrum.freq_hz, spectrum.amplitude, spectrum.enbw_hz, carrier, half) <= WANDER_SPREAD:
-            return None
         turns = shaft_angle(accel, fs, carrier, z, half, wide)
         return turns if z * wander_turns(turns) > WANDER_MESH_CYCLES else None
     return None
