@@ -39,7 +39,6 @@ from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, syn
 from .tracking import (
     WANDER_MESH_CYCLES,
     WANDER_SPREAD,
-    laid_back,
     line_spread,
     pulse_times,
     shaft_angle,
@@ -380,8 +379,11 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
     revolutions, cut once at the speed their mesh line gives; each shaft's
     difference signal then leaves out its own meshes. The speeds are taken
     fastest first, each average from what the faster ones left. When the speed
-    wanders (``_wandering_angle``) the revolutions are cut at the angle a mesh
-    line's phase gives, and the average is laid back at each sample's angle.
+    wanders (``_wandering_angle``) the revolutions whose events are read are cut
+    at the angle a mesh line's phase gives; the part taken out before the
+    envelope stays the exact constant-speed one (laid back at the tracked angle
+    instead, it put 3 new bearing calls at 50 % or more on GC-1's wandering
+    tooth readings and took 2 away: bench.wander, seeds 0-3).
     """
     groups: dict[float, list[str]] = {}
     for shaft, fr in rates.shafts_hz.items():
@@ -395,9 +397,8 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
         spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
         speed_hz = _speed_from_mesh(spectrum, fr, every)
         turns = _wandering_angle(accel, fs, spectrum, speed_hz, rates, shafts, every) if every else None
-        pulses = pulse_times(turns, fs) if turns is not None else None
-        rows = (revolution_rows(accel, fs, speed_hz, spr) if pulses is None
-                else tracked_rows(accel, fs, pulses, spr))
+        rows = (revolution_rows(accel, fs, speed_hz, spr) if turns is None
+                else tracked_rows(accel, fs, pulse_times(turns, fs), spr))
         done: dict[tuple[int, ...], SynchronousEvents | None] = {}
         for shaft in shafts:
             if orders[shaft] not in done:
@@ -405,10 +406,7 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
             events = done[orders[shaft]]
             if events is not None:
                 out[shaft] = events
-        if len(rows) and turns is not None and pulses is not None:
-            average = (rows if rest is accel else tracked_rows(rest, fs, pulses, spr)).mean(axis=0)
-            rest = rest - laid_back(average, turns)
-        elif len(rows):
+        if len(rows):
             part = synchronous_part(rest, fs, speed_hz)
             rest = np.subtract(rest, part, out=part)      # rest - part, in part's memory
     return out, rest

@@ -16,9 +16,10 @@ where the angle passes whole turns (the pulse times a tach would give) and resam
 by a cubic spline of time against angle (Fyfe & Munck 1997, "Analysis of computed order tracking",
 MSSP 11(2): a higher-order fit of the pulse times gives a smaller resampling error than a linear one).
 
-``synchronous.py`` keeps the exact constant-speed path; ``result.py`` takes this one only when the
-record's mesh line is smeared (``line_spread``) and the angle found strays from one constant speed
-by more than ``WANDER_MESH_CYCLES`` of a mesh period.
+``synchronous.py`` keeps the exact constant-speed path; ``result.py`` cuts the revolutions whose
+once-per-turn events it reads this way only when the record's mesh line is smeared
+(``line_spread``) and the angle found strays from one constant speed by more than
+``WANDER_MESH_CYCLES`` of a mesh period.
 """
 
 from __future__ import annotations
@@ -38,9 +39,6 @@ WANDER_MESH_CYCLES = 0.125    # an angle straying 1/8 of a mesh period (45 degre
                               # from one constant speed: the constant-speed average keeps cos 45 = 71 %
                               # of the mesh or less, and smears a once-per-turn event about one tooth
                               # pitch wide by a quarter of its width
-LAY_BACK_UPSAMPLING = 4       # the average revolution is Fourier-interpolated 4 x before it is laid back
-                              # by cubic convolution (its error then stays below 1e-3 of a line at the
-                              # original Nyquist frequency: Keys 1981, the kernel's response at 1/8 of the rate)
 
 
 def line_spread(freq_hz: np.ndarray, amplitude: np.ndarray, enbw_hz: float, carrier_hz: float,
@@ -277,39 +275,3 @@ def tracked_rows(x: np.ndarray, fs: float, pulses: np.ndarray, samples_per_rev: 
     angles = np.arange(count)[:, None] + np.arange(samples_per_rev)[None, :] / samples_per_rev
     times = spline(angles) if spline is not None else pulses[0] + angles * (pulses[1] - pulses[0])
     return resample_at(x, times * fs)
-
-
-def laid_back(average: np.ndarray, turns: np.ndarray) -> np.ndarray:
-    """One revolution's average laid back on every sample at that sample's angle.
-
-    The average is Fourier-interpolated ``LAY_BACK_UPSAMPLING`` times (it is periodic) and then
-    read by cubic convolution, so a line near the average's Nyquist frequency is laid back whole.
-
-    Parameters
-    ----------
-    average : numpy.ndarray
-        One revolution, equal angles from a whole turn, any unit.
-    turns : numpy.ndarray
-        Angle at every sample, turns.
-
-    Returns
-    -------
-    numpy.ndarray
-        ``len(turns)`` samples in the unit of ``average``.
-
-    References
-    ----------
-    McFadden (1987), "A revised model for the extraction of periodic waveforms by time domain
-    averaging", MSSP 1(1); Keys (1981), IEEE Trans. ASSP 29(6).
-
-    Examples
-    --------
-    >>> avg = np.cos(2 * np.pi * 3 * np.arange(32) / 32)
-    >>> turns = np.array([0.0, 0.1, 1.25, 2.5])
-    >>> bool(np.max(np.abs(laid_back(avg, turns) - np.cos(2 * np.pi * 3 * turns))) < 1e-4)
-    True
-    """
-    spr = len(average)
-    fine = sfft.irfft(sfft.rfft(average), LAY_BACK_UPSAMPLING * spr) * LAY_BACK_UPSAMPLING
-    wrapped = np.concatenate([fine[-1:], fine, fine[:2]])
-    return resample_at(wrapped, (turns - np.floor(turns)) * len(fine) + 1.0)

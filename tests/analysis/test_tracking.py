@@ -10,7 +10,7 @@ import pytest
 
 from engine.analysis.spectrum import amplitude_spectrum
 from engine.analysis.synchronous import events_of_rows, revolution_rows
-from engine.analysis.tracking import laid_back, line_spread, pulse_times, shaft_angle, tracked_rows, wander_turns
+from engine.analysis.tracking import line_spread, pulse_times, shaft_angle, tracked_rows, wander_turns
 
 FS = 8192.0
 TEETH = 23
@@ -93,19 +93,6 @@ def test_tracked_revolutions_keep_a_once_per_turn_event_that_constant_speed_smea
     assert tracked.repeat_fraction == 1.0
     assert tracked.fm4 > 2 * constant.fm4
     assert tracked.peak_to_rms > constant.peak_to_rms
-
-
-def test_the_average_laid_back_at_the_angle_takes_a_wandering_mesh_out(rng):
-    # Known answer: a mesh and its sidebands at a wandering speed, no noise: the average cut at the tracked
-    # angle and laid back at each sample's angle (McFadden 1987) leaves less than 1 % of the mesh's RMS
-    n = int(FS * 4)
-    truth = _true_turns(n, FS, rise=0, wander=0.01)
-    x = _gear_record(truth, rng, noise=0.0)
-    found = shaft_angle(x, FS, TEETH * 16.0, TEETH, 8.0, 8.0)
-    pulses = pulse_times(found, FS)
-    rest = x - laid_back(tracked_rows(x, FS, pulses, 1024).mean(axis=0), found)
-    inner = slice(int(pulses[0] * FS), int(pulses[-1] * FS))
-    assert np.std(rest[inner]) < 0.01 * np.std(x)
 
 
 def test_pulse_times_follow_the_angle():
