@@ -36,6 +36,15 @@ from .separation import random_part_factor
 from .spectrum import Spectrum, Transform, integrate
 from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, shaft_family, speed_from_tones
 from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
+from .tracking import (
+    WANDER_MESH_CYCLES,
+    WANDER_SPREAD,
+    line_spread,
+    pulse_times,
+    shaft_angle,
+    tracked_rows,
+    wander_turns,
+)
 
 SPEED_SEARCH_FRACTION = 0.05   # a stated or nominal speed may be several percent off
 ENVELOPE_HARMONICS = 5          # the SES shows this many harmonics of the fastest defect rate
@@ -328,6 +337,46 @@ def _speed_from_mesh(spectrum: Spectrum, fr: float, orders: tuple[int, ...]) -> 
     return best[1] if best else fr
 
 
+def _mesh_half_bands_hz(rates: Rates, shafts: list[str], z: int) -> tuple[float, float]:
+    """Half the spacing of the shaft-locked lines nearest a mesh line at order ``z`` of ``shafts`` (its
+    sidebands at the slower shaft's speed of that mesh), and half the faster shaft's speed (its sidebands
+    at the faster shaft's speed, usually the taller)."""
+    pairs = [sorted((rates.shafts_hz[m.driving_shaft], rates.shafts_hz[m.driven_shaft]))
+             for m in rates.meshes if any(m.teeth_on(s) == z for s in shafts)]
+    return 0.5 * min(p[0] for p in pairs), 0.5 * min(p[1] for p in pairs)
+
+
+def _wandering_angle(accel: np.ndarray, fs: float, spectrum: Spectrum, speed_hz: float, rates: Rates,
+                     shafts: list[str], orders: tuple[int, ...]) -> np.ndarray | None:
+    """The shafts' angle at every sample (turns) when their speed wanders during the record, else None.
+
+    The highest mesh line that stands clear is looked at: a steady line (``line_spread`` at most
+    ``WANDER_SPREAD``) leaves the constant-speed path as it is at the cost of a sum over its band;
+    a smeared one has its phase tracked (``shaft_angle``), and the angle is used when it strays from
+    one constant speed by more than ``WANDER_MESH_CYCLES`` of a mesh period.
+    """
+    for z in sorted(orders, reverse=True):
+        carrier = z * speed_hz
+        half, wide = _mesh_half_bands_hz(rates, shafts, z)
+        if carrier + 2 * wide >= spectrum.fmax_hz:
+            continue
+        lo, hi = np.searchsorted(spectrum.freq_hz, [carrier - half, carrier + half])
+        if hi <= lo:
+            continue
+        if line_spread(spectrum.freq_hz, spectrum.amplitude, spectrum.enbw_hz, carrier, half) <= WANDER_SPREAD:
+            return None                 # a steady line (a band of noise alone spreads far more)
+        top = lo + int(np.argmax(spectrum.amplitude[lo:hi]))
+        # the floor beside the band: a wandering line spreads over the lines a floor at its own line would use
+        beside = int(np.ceil(wide / spectrum.resolution_hz)) + Spectrum.FLOOR_LINES // 2
+        floors = [noise_floor(spectrum, line) for line in (top - beside, top + beside)
+                  if 0 <= line < len(spectrum.amplitude)]
+        if not floors or spectrum.amplitude[top] < MESH_LINE_SNR * min(floors):
+            continue
+        turns = shaft_angle(accel, fs, carrier, z, half, wide)
+        return turns if z * wander_turns(turns) > WANDER_MESH_CYCLES else None
+    return None
+
+
 def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
                  spectrum: Spectrum) -> tuple[dict[str, SynchronousEvents], np.ndarray]:
     """Once-per-revolution events of every shaft that turns often enough in the record, and the record
@@ -336,7 +385,12 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
     Shafts at one speed (a motor and the gear shaft it drives) are one set of
     revolutions, cut once at the speed their mesh line gives; each shaft's
     difference signal then leaves out its own meshes. The speeds are taken
-    fastest first, each average from what the faster ones left.
+    fastest first, each average from what the faster ones left. When the speed
+    wanders (``_wandering_angle``) the revolutions whose events are read are cut
+    at the angle a mesh line's phase gives; the part taken out before the
+    envelope stays the exact constant-speed one (laid back at the tracked angle
+    instead, it put 3 new bearing calls at 50 % or more on GC-1's wandering
+    tooth readings and took 2 away: bench.wander, seeds 0-3).
     """
     groups: dict[float, list[str]] = {}
     for shaft, fr in rates.shafts_hz.items():
@@ -349,7 +403,9 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
         every = tuple(sorted({z for zs in orders.values() for z in zs}))
         spr = min(TSA_MAX_SAMPLES_PER_REV, next_fast_len(int(np.ceil(fs / fr))))
         speed_hz = _speed_from_mesh(spectrum, fr, every)
-        rows = revolution_rows(accel, fs, speed_hz, spr)
+        turns = _wandering_angle(accel, fs, spectrum, speed_hz, rates, shafts, every) if every else None
+        rows = (revolution_rows(accel, fs, speed_hz, spr) if turns is None
+                else tracked_rows(accel, fs, pulse_times(turns, fs), spr))
         done: dict[tuple[int, ...], SynchronousEvents | None] = {}
         for shaft in shafts:
             if orders[shaft] not in done:
