@@ -1688,6 +1688,14 @@ class PoolInputs:
         self._hazard_choice: dict[tuple[str, ...], HazardSetting] = {}
         self._cuts: dict[tuple[str, tuple[str, ...], tuple[str, ...]], list[PoolCut | None]] = {}
 
+    def under(self, seed: int) -> PoolInputs:
+        """The same inputs under another seed of the GP's draws, sharing what the seed does not change
+        (priors, GP predictives, hazard fits and setting choices)."""
+        other = PoolInputs(self.h, self.runs, self.lives_h, seed)
+        other.gp_cache, other._priors, other._fits = self.gp_cache, self._priors, self._fits
+        other._hazard_choice = self._hazard_choice
+        return other
+
     def prior(self, lib: tuple[str, ...]) -> Prior:
         if lib not in self._priors:
             self._priors[lib] = prior_from(self.h, list(lib))
@@ -1754,10 +1762,12 @@ def _pool_row(name: str, judged: list[tuple[Cut, float] | None], cuts: list[Pool
     return f"{name:<52}{summary([j[0] for j, _ in got])}{spread:8.2f}  " + " ".join(f"{a:.2f}" for a in per)
 
 
-def pool_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
+def pool_report(histories: dict, runs: list[str], lives_h: dict[str, float],
+                seeds: tuple[int, ...] = (POOL_SEED,)) -> None:
     """The three methods alone and pooled (equal weights; nested weights), leave one run out, beside the
-    naive baselines of the same cuts; the weights best on the scored runs themselves as a bound."""
-    ins = PoolInputs(histories, runs, lives_h)
+    naive baselines of the same cuts; the weights best on the scored runs themselves as a bound. Under
+    each further seed of the GP's draws, the GP alone and the equal pool again (their spread over seeds)."""
+    ins = PoolInputs(histories, runs, lives_h, seeds[0])
     outer: list[PoolCut | None] = []
     chosen: dict[str, tuple[float, ...]] = {}
     print("\nlinear opinion pool (Stone 1961; Genest & Zidek 1986) of tellwave's exponential model, the GP (learned "
@@ -1787,7 +1797,8 @@ def pool_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> 
     print(_pool_row(f"pool, weights best on the scored runs (a bound) {shown}", [pool_judge(c, best) for c in outer],
                     outer, runs))
     # naive baselines of the same cuts: the library's mean life less the time elapsed; fails now
-    naive, now = [], []
+    naive: list[float | None] = []
+    now: list[float | None] = []
     for i, c in enumerate(outer):
         if c is None:
             naive.append(None)
@@ -1800,6 +1811,23 @@ def pool_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> 
     got = [x for x in naive if x is not None]
     print(f"{'naive (library mean life less elapsed), same cuts':<52}{len(got):4d}{np.mean(got):7.3f}"
           f"   fails now {np.mean([x for x in now if x is not None]):.3f}")
+    # paired: the equal pool less the exponential model, cut by cut where both answer, by run
+    alone_exp = (1.0, 0.0, 0.0)
+    diff = [(i // len(CUTS), p[0].a - e[0].a) for i, c in enumerate(outer) if c is not None and c.answered[0]
+            and (p := pool_judge(c, equal)) and (e := pool_judge(c, alone_exp))]
+    by_run = [float(np.mean(d)) for k_ in range(len(runs)) if (d := [x for i, x in diff if i == k_])]
+    print(f"equal pool less the exponential model, paired over {len(diff)} cuts: mean "
+          f"{np.mean([d for _, d in diff]):+.3f}; per run " + " ".join(f"{d:+.2f}" for d in by_run)
+          + f"; cuts better {sum(d > 0 for _, d in diff)}, worse {sum(d < 0 for _, d in diff)}")
+    for seed in seeds[1:]:
+        other = ins.under(seed)
+        libs = {r: tuple(x for x in runs if x != r) for r in runs}
+        cuts = [c for r in runs for c in other.cuts(r, libs[r], libs[r])]
+        print(_pool_row(f"seed {seed}: gaussian process alone",
+                        [None if c is None or not c.answered[1] else pool_judge(c, (0.0, 1.0, 0.0)) for c in cuts],
+                        cuts, runs))
+        print(_pool_row(f"seed {seed}: pool, equal weights", [pool_judge(c, equal) for c in cuts], cuts, runs),
+              flush=True)
 
 
 def main() -> int:
@@ -1809,7 +1837,9 @@ def main() -> int:
     ap.add_argument("--wiener-only", action="store_true", help="score only the Wiener-process method (10-20 minutes)")
     ap.add_argument("--gp-only", action="store_true",
                     help="score only the Gaussian-process settings (stable draws, calibration; a few minutes)")
-    ap.add_argument("--seeds", type=int, default=len(GP_SEEDS), help="with --gp-only: how many seeds of GP_SEEDS")
+    ap.add_argument("--seeds", type=int, default=None,
+                    help="with --gp-only: how many seeds of GP_SEEDS (default all); with --pool-only: the equal pool "
+                         "again under the first N (default 1)")
     ap.add_argument("--gp-all", action="store_true", help="with --gp-only: every GP setting, the free growth too")
     ap.add_argument("--pool-only", action="store_true",
                     help="score only the linear opinion pool of the exponential model, the GP and proportional "
@@ -1823,10 +1853,10 @@ def main() -> int:
         wiener_report(histories, runs, lives_h)
         return 0
     if args.gp_only:
-        gp_methods(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds)], args.gp_all)
+        gp_methods(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds or len(GP_SEEDS))], args.gp_all)
         return 0
     if args.pool_only:
-        pool_report(histories, runs, lives_h)
+        pool_report(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds or 1)])
         return 0
     settings = grid()
     priors: dict[tuple[str, ...], Prior] = {}
