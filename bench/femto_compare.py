@@ -57,7 +57,8 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   prior learned on the library points (Si et al. 2013); the remaining life is the first-passage time to
   20 g or to a level learned from the library's ends, in closed form (the section before ``main`` says how).
 
-- ``pool`` (``pool_report``; ``--pool-only`` runs it alone, about 15 to 25 minutes): the exponential model,
+- ``pool`` (``pool_report``; ``--pool-only`` runs it alone: 7.5 CPU minutes, 28 on a busy machine; each further seed
+  of ``--seeds`` 1.5 more): the exponential model,
   the Gaussian process (each point's learned end level, drawn growth, recalibrated) and the proportional
   hazards (bearing form) pooled as their predictive distributions, a linear opinion pool (Stone 1961;
   Genest & Zidek 1986), with equal weights or weights chosen by nested leave one out; the act-by time is the
