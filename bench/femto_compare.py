@@ -1,7 +1,8 @@
 """Remaining-life methods weighed against tellwave's own on the FEMTO learning runs, so the
 comparison of issue 23 can be made again (none of them is what ``tellwave trend`` does).
 
-    python -m bench.femto_compare [--out bench-out/femto] [--wiener-only | --gp-only [--seeds N] [--gp-all]]
+    python -m bench.femto_compare [--out bench-out/femto] [--wiener-only | --gp-only [--seeds N] [--gp-all]
+                                                           | --pool-only]
 
 Needs the histories ``python -m bench.femto`` caches in --out. Each method is scored as
 bench.femto scores tellwave's: leave one run out (library or prior from the other five), the
@@ -55,6 +56,13 @@ median), the PHM 2012 challenge score A of the act-by time, the median's score, 
   on a time scale t^b (Si et al. 2012), a reading error beside it and the level and drift updated from a
   prior learned on the library points (Si et al. 2013); the remaining life is the first-passage time to
   20 g or to a level learned from the library's ends, in closed form (the section before ``main`` says how).
+
+- ``pool`` (``pool_report``; ``--pool-only`` runs it alone: 7.5 CPU minutes, 28 on a busy machine; each further seed
+  of ``--seeds`` 1.5 more): the exponential model,
+  the Gaussian process (each point's learned end level, drawn growth, recalibrated) and the proportional
+  hazards (bearing form) pooled as their predictive distributions, a linear opinion pool (Stone 1961;
+  Genest & Zidek 1986), with equal weights or weights chosen by nested leave one out; the act-by time is the
+  best expected score under the pool (the section before ``main`` says how).
 
 The act-by time of a weighted sample is the candidate (its weighted 1st to 99th percentiles) with
 the best expected challenge score, as ``degradation.act_by`` does for equal draws. Settings of the
@@ -1512,6 +1520,317 @@ def gp_methods(histories: dict, runs: list[str], lives_h: dict[str, float], seed
               f"{summary([judge(c, pits_all) for r in runs for c in inside[r][s]])}")
 
 
+# ------------------------------------------------- a linear opinion pool of three methods
+#
+# Methods whose errors differ can do better together than alone. The linear opinion pool (Stone 1961,
+# "The opinion pool", Annals of Mathematical Statistics 32; Genest & Zidek 1986, "Combining probability
+# distributions: a critique and an annotated bibliography", Statistical Science 1) pools their predictive
+# distributions of the remaining life: F(x) = sum_k w_k F_k(x), the weights at least 0 and summing to 1.
+# The three methods pooled, each as it is scored alone above:
+#
+# - ``exponential``: tellwave's Bayesian exponential model to 20 g, its Monte Carlo draws (bench.femto's);
+# - ``gaussian process``: the GP to each point's learned end level with drawn growth (POOL_GP), recalibrated
+#   on its library (Kuleshov et al. 2018): the calibration of a library L is the PIT values of each run i
+#   of L scored with the library L less i;
+# - ``hazards``: the Weibull proportional-hazards model in bearing form, its setting chosen as
+#   ``hazard_report`` chooses it (the best mean score over the library's runs, each scored with a
+#   library of the rest).
+#
+# Each method answers with the earlier of its points (the smaller median), as alone; its answer stands
+# as its quantiles at POOL_LEVELS. A method with no answer at a cut (before its own onset) leaves the
+# pool; the others keep their weights, renormalised (all of them equal when those left weigh nothing).
+# The act-by time is the point with the best expected challenge score under the pool: by linearity,
+# sum_k w_k E_k[A(point)], so each method's expectation is computed once per cut and any weights read
+# from it. Weights: "equal" (1/3 each, the un-tuned choice), or "nested": on a grid of step POOL_STEP
+# over the simplex, the weights with the best mean score over the held-out run's library, each of its
+# runs scored with a library of the rest (ties: the weights nearest equal). The GP's calibration and the
+# hazards' setting inside that inner loop are the inner libraries' own (the hazards' setting is the one
+# chosen for the outer fold, on the same five runs: the held-out run never enters).
+
+POOL_METHODS = ("exponential", "gaussian process", "hazards")
+POOL_LEVELS = (np.arange(512) + 0.5) / 512      # each method's answer stands as its quantiles at these
+POOL_STEP = 0.1                                  # the weights' grid on the simplex (66 triples of three)
+POOL_GP = LevelSetting("gaussian process", LIMITED, "point", True, "drawn")
+POOL_SEED = GP_SEEDS[0]
+POOL_MIN_H = 1.0 / 3600.0                        # a median under one second counts as one second (bench.femto)
+
+
+@dataclass(frozen=True)
+class PoolCut:
+    """One cut, ready to be pooled under any weights: the actual remaining life and the time elapsed
+    (hours), where the pool is judged (the union of the methods' quantiles, hours, sorted), each method's
+    distribution function and expected challenge score of acting there (a row of zeros: no answer)."""
+    run: str
+    actual: float
+    elapsed: float
+    points: np.ndarray
+    cdf: np.ndarray
+    expected: np.ndarray
+    answered: tuple[bool, ...]
+
+
+def pool_cut(run: str, actual: float, elapsed: float, lives: list[np.ndarray | None]) -> PoolCut | None:
+    """A PoolCut from each method's remaining lives (hours, any number of them; None: no answer);
+    None when no method answers."""
+    qs = [None if x is None else np.quantile(np.asarray(x, float), POOL_LEVELS) for x in lives]
+    got = [q for q in qs if q is not None]
+    if not got:
+        return None
+    points = np.unique(np.concatenate(got))
+    cdf = np.zeros((len(qs), len(points)))
+    expected = np.zeros((len(qs), len(points)))
+    for k, q in enumerate(qs):
+        if q is None:
+            continue
+        cdf[k] = np.searchsorted(np.sort(q), points, side="right") / len(q)
+        truth = np.maximum(q, 1e-12)
+        er = 100 * (truth[None, :] - points[:, None]) / truth[None, :]
+        expected[k] = challenge_score(er).mean(axis=1)
+    return PoolCut(run, actual, elapsed, points, cdf, expected, tuple(q is not None for q in qs))
+
+
+def pool_weights(c: PoolCut, weights: tuple[float, ...]) -> np.ndarray:
+    """The weights of the methods that answered at the cut, renormalised (equal when they weigh nothing)."""
+    w = np.array(weights, float) * np.array(c.answered, float)
+    return w / w.sum() if w.sum() > 0 else np.array(c.answered, float) / sum(c.answered)
+
+
+def pool_quantile(c: PoolCut, weights: tuple[float, ...], q: float) -> float:
+    """The ``q`` quantile of the pool: the first point where its distribution function reaches q."""
+    f = pool_weights(c, weights) @ c.cdf
+    return float(c.points[min(len(c.points) - 1, int(np.searchsorted(f, q - 1e-12)))])
+
+
+def pool_act_by(c: PoolCut, weights: tuple[float, ...]) -> float:
+    """The point (above 0) with the best expected challenge score under the pool (0: none above 0)."""
+    e = pool_weights(c, weights) @ c.expected
+    ok = c.points > 0
+    return float(c.points[ok][int(np.argmax(e[ok]))]) if ok.any() else 0.0
+
+
+def pool_judge(c: PoolCut | None, weights: tuple[float, ...]) -> tuple[Cut, float] | None:
+    """The cut's scores under the pool (``Cut``) and the pool's median (hours); None: no answer."""
+    if c is None:
+        return None
+    med, lo, hi = (pool_quantile(c, weights, q) for q in (0.5, 0.1, 0.9))
+    act = pool_act_by(c, weights)
+    return (Cut(float(challenge_score(100 * (c.actual - act) / c.actual)),
+                float(challenge_score(100 * (c.actual - med) / c.actual)), lo <= c.actual <= hi), med)
+
+
+def simplex(k: int, step: float) -> list[tuple[float, ...]]:
+    """Every k-tuple of multiples of ``step`` at least 0 that sums to 1."""
+    n = int(round(1 / step))
+    return [tuple(i * step for i in (*combo, n - sum(combo))) for combo in itertools.product(range(n + 1), repeat=k - 1)
+            if sum(combo) <= n]
+
+
+def choose_weights(cuts: list[PoolCut | None], k: int, step: float = POOL_STEP) -> tuple[float, ...]:
+    """The weights on the simplex grid with the best mean score A over the answered cuts; among equals
+    the nearest to equal weights."""
+    equal = np.full(k, 1.0 / k)
+
+    def key(w: tuple[float, ...]) -> tuple[float, float]:
+        got = [j[0].a for c in cuts if (j := pool_judge(c, w)) is not None]
+        return round(float(np.mean(got)) if got else 0.0, 9), -float(np.sum((np.array(w) - equal) ** 2))
+
+    return max(simplex(k, step), key=key)
+
+
+def _exponential_lives(histories: dict, run: str, prior: Prior, now_h: float) -> np.ndarray | None:
+    """tellwave's exponential model at the cut (as bench.femto projects it): the remaining lives (hours)
+    of the point with the smaller median; a point at or past 20 g answers 0."""
+    from bench.femto import point_single
+
+    best: tuple[float, np.ndarray] | None = None
+    for pt in sorted(histories[run]):
+        h = histories[run][pt]
+        t, v, hi = point_arrays(h, LIMITED)
+        k = t <= now_h * 3600.0 + 1e-6
+        if v[k][-1] >= LIMIT_G:
+            got: tuple[float, np.ndarray] | None = (0.0, np.zeros(1))
+        else:
+            proj, life = exponential_life(t[k] / 86400.0, v[k], LIMIT_G, f"{LIMIT_G:g} g", hi[k], LIMITED,
+                                          {LIMITED: prior}, single=point_single(h, LIMITED)[k])
+            got = None if life is None or proj.days is None else (
+                proj.days * 24.0, np.minimum(np.array(life.draws) * 24.0, NO_CROSSING_H))
+        if got is not None and (best is None or got[0] < best[0]):
+            best = got
+    return None if best is None else best[1]
+
+
+def _hazard_lives(histories: dict, run: str, fit: HazardFit, s: HazardSetting, now_h: float) -> np.ndarray | None:
+    """The proportional-hazards remaining lives (hours) at the cut, as ``score_hazard_run`` answers
+    (the unit with the smaller median)."""
+    best: tuple[float, np.ndarray] | None = None
+    for c in _units(histories[run], s.points, now_h * 3600.0):
+        if c.onset_h is None:
+            continue
+        s0 = c.t_h[-1] - (0.0 if s.clock == "run" else c.onset_h)
+        slope = max(recent_slope(c), 0.0) if s.future == "trend" else 0.0
+        z0 = float(c.z[-1] if s.covariate == "now" else np.max(c.z))
+        x = hazard_lives(fit, s0, z0, slope)
+        if best is None or float(np.median(x)) < best[0]:
+            best = (float(np.median(x)), x)
+    return None if best is None else best[1]
+
+
+class PoolInputs:
+    """The pooled methods' answers on any run with any library, computed once each (priors, GP
+    predictives and calibrations, hazard fits and setting choices are cached)."""
+
+    def __init__(self, histories: dict, runs: list[str], lives_h: dict[str, float], seed: int = POOL_SEED):
+        self.h, self.runs, self.lives_h, self.seed = histories, runs, lives_h, seed
+        self.gp_cache: dict = {}
+        self._priors: dict[tuple[str, ...], Prior] = {}
+        self._gp: dict[tuple[str, tuple[str, ...]], list[GpRaw | None]] = {}
+        self._pits: dict[tuple[str, ...], np.ndarray] = {}
+        self._fits: dict[tuple, HazardFit] = {}
+        self._hazard_choice: dict[tuple[str, ...], HazardSetting] = {}
+        self._cuts: dict[tuple[str, tuple[str, ...], tuple[str, ...]], list[PoolCut | None]] = {}
+
+    def under(self, seed: int) -> PoolInputs:
+        """The same inputs under another seed of the GP's draws, sharing what the seed does not change
+        (priors, GP predictives, hazard fits and setting choices)."""
+        other = PoolInputs(self.h, self.runs, self.lives_h, seed)
+        other.gp_cache, other._priors, other._fits = self.gp_cache, self._priors, self._fits
+        other._hazard_choice = self._hazard_choice
+        return other
+
+    def prior(self, lib: tuple[str, ...]) -> Prior:
+        if lib not in self._priors:
+            self._priors[lib] = prior_from(self.h, list(lib))
+        return self._priors[lib]
+
+    def gp(self, run: str, lib: tuple[str, ...]) -> list[GpRaw | None]:
+        if (run, lib) not in self._gp:
+            self._gp[run, lib] = score_gp(self.h, run, list(lib), [POOL_GP], self.lives_h, self.seed,
+                                          self.gp_cache)[POOL_GP]
+        return self._gp[run, lib]
+
+    def pits(self, lib: tuple[str, ...]) -> np.ndarray:
+        """The GP's calibration for a predictive made with library ``lib``: each run of it scored with the rest."""
+        if lib not in self._pits:
+            self._pits[lib] = np.array([pit(c) for i in lib for c in self.gp(i, tuple(x for x in lib if x != i))
+                                        if c is not None])
+        return self._pits[lib]
+
+    def hazard_setting(self, lib: tuple[str, ...]) -> HazardSetting:
+        """The bearing-form setting with the best mean score over ``lib``'s runs, each with a library of the rest."""
+        if lib not in self._hazard_choice:
+            family = [s for s in hazard_grid() if s.points == "bearing"]
+            inner: dict[HazardSetting, list[Cut | None]] = {s: [] for s in family}
+            for j in lib:
+                for s, cs in score_hazard_run(self.h, j, [x for x in lib if x != j], family, self.lives_h).items():
+                    inner[s].extend(cs)
+            self._hazard_choice[lib] = max(family, key=lambda s: mean_a(inner[s]))
+        return self._hazard_choice[lib]
+
+    def hazard_fit(self, lib: tuple[str, ...], s: HazardSetting) -> HazardFit:
+        key = (lib, s.points, s.clock, s.covariate, s.ridge)
+        if key not in self._fits:
+            data = [clock_of(c, s.clock, s.covariate) for r in lib for c in _units(self.h[r], s.points)
+                    if c.onset_h is not None or s.clock == "run"]
+            self._fits[key] = fit_hazard([d for d in data if len(d[0]) >= 3], s.ridge)
+        return self._fits[key]
+
+    def cuts(self, run: str, lib: tuple[str, ...], choice_lib: tuple[str, ...]) -> list[PoolCut | None]:
+        """The pool's cuts of ``run`` with library ``lib``; the hazards' setting chosen on ``choice_lib``."""
+        key = (run, lib, choice_lib)
+        if key not in self._cuts:
+            s = self.hazard_setting(choice_lib)
+            fit = self.hazard_fit(lib, s)
+            pits = self.pits(lib)
+            gp = self.gp(run, lib)
+            out: list[PoolCut | None] = []
+            for ci, cut in enumerate(CUTS):
+                now_h = cut * self.lives_h[run]
+                actual = _actual_h(self.h, run, now_h, self.lives_h)
+                raw = gp[ci]
+                lives = [_exponential_lives(self.h, run, self.prior(lib), now_h),
+                         None if raw is None else (recalibrated(raw.lives, pits) if len(pits) else raw.lives),
+                         _hazard_lives(self.h, run, fit, s, now_h)]
+                out.append(pool_cut(run, actual, self.lives_h[run] - actual, lives))
+            self._cuts[key] = out
+        return self._cuts[key]
+
+
+def _pool_row(name: str, judged: list[tuple[Cut, float] | None], cuts: list[PoolCut | None], runs: list[str]) -> str:
+    """'name n A A-med coverage spread  per-run A' of judged cuts (in run order, len(CUTS) each)."""
+    got = [(j, c) for j, c in zip(judged, cuts) if j is not None and c is not None]
+    spread = float(np.std([np.log(c.actual / max(j[1], POOL_MIN_H)) for j, c in got])) if got else float("nan")
+    per = [mean_a([j[0] for j in judged[i * len(CUTS):(i + 1) * len(CUTS)] if j is not None]) for i in range(len(runs))]
+    return f"{name:<52}{summary([j[0] for j, _ in got])}{spread:8.2f}  " + " ".join(f"{a:.2f}" for a in per)
+
+
+def pool_report(histories: dict, runs: list[str], lives_h: dict[str, float],
+                seeds: tuple[int, ...] = (POOL_SEED,)) -> None:
+    """The three methods alone and pooled (equal weights; nested weights), leave one run out, beside the
+    naive baselines of the same cuts; the weights best on the scored runs themselves as a bound. Under
+    each further seed of the GP's draws, the GP alone and the equal pool again (their spread over seeds)."""
+    ins = PoolInputs(histories, runs, lives_h, seeds[0])
+    outer: list[PoolCut | None] = []
+    chosen: dict[str, tuple[float, ...]] = {}
+    print("\nlinear opinion pool (Stone 1961; Genest & Zidek 1986) of tellwave's exponential model, the GP (learned "
+          "end level, drawn growth, recalibrated) and proportional hazards (bearing form), leave one run out")
+    for r in runs:
+        lib = tuple(x for x in runs if x != r)
+        cs = ins.cuts(r, lib, lib)
+        outer.extend(cs)
+        inner = [c for j in lib for c in ins.cuts(j, tuple(x for x in lib if x != j), lib)]
+        chosen[r] = choose_weights(inner, len(POOL_METHODS))
+        inner_a = mean_a([j[0] for c in inner if (j := pool_judge(c, chosen[r])) is not None])
+        print(f"{r}: hazards setting {ins.hazard_setting(lib)}; weights chosen (exponential, GP, hazards) "
+              + "(" + ", ".join(f"{w:.1f}" for w in chosen[r]) + f"), inner A {inner_a:.3f}", flush=True)
+    k = len(POOL_METHODS)
+    equal = tuple([1.0 / k] * k)
+    print(f"\n{'method (act by A; A med; cov: 80 % interval; spread: sd of ln(actual / median))':<52}"
+          f"{'n':>4}{'A':>7}{'A med':>7}{'cov':>7}{'spread':>8}  per run A " + " ".join(r[-3:] for r in runs))
+    for i, name in enumerate(POOL_METHODS):
+        alone = tuple(1.0 if m == i else 0.0 for m in range(k))
+        judged = [None if c is None or not c.answered[i] else pool_judge(c, alone) for c in outer]
+        print(_pool_row(f"{name} alone", judged, outer, runs))
+    print(_pool_row("pool, equal weights (un-tuned)", [pool_judge(c, equal) for c in outer], outer, runs))
+    nested = [pool_judge(c, chosen[runs[i // len(CUTS)]]) for i, c in enumerate(outer)]
+    print(_pool_row("pool, weights chosen nested", nested, outer, runs))
+    best = choose_weights(outer, k)
+    shown = "(" + ",".join(f"{w:.1f}" for w in best) + ")"
+    print(_pool_row(f"pool, weights best on the scored runs (a bound) {shown}", [pool_judge(c, best) for c in outer],
+                    outer, runs))
+    # naive baselines of the same cuts: the library's mean life less the time elapsed; fails now
+    naive: list[float | None] = []
+    now: list[float | None] = []
+    for i, c in enumerate(outer):
+        if c is None:
+            naive.append(None)
+            now.append(None)
+            continue
+        r = runs[i // len(CUTS)]
+        base = max(0.0, float(np.mean([lives_h[x] for x in runs if x != r])) - c.elapsed)
+        naive.append(float(challenge_score(100 * (c.actual - base) / c.actual)))
+        now.append(float(challenge_score(100.0)))
+    got = [x for x in naive if x is not None]
+    print(f"{'naive (library mean life less elapsed), same cuts':<52}{len(got):4d}{np.mean(got):7.3f}"
+          f"   fails now {np.mean([x for x in now if x is not None]):.3f}")
+    # paired: the equal pool less the exponential model, cut by cut where both answer, by run
+    alone_exp = (1.0, 0.0, 0.0)
+    diff = [(i // len(CUTS), p[0].a - e[0].a) for i, c in enumerate(outer) if c is not None and c.answered[0]
+            and (p := pool_judge(c, equal)) and (e := pool_judge(c, alone_exp))]
+    by_run = [float(np.mean(d)) for k_ in range(len(runs)) if (d := [x for i, x in diff if i == k_])]
+    print(f"equal pool less the exponential model, paired over {len(diff)} cuts: mean "
+          f"{np.mean([d for _, d in diff]):+.3f}; per run " + " ".join(f"{d:+.2f}" for d in by_run)
+          + f"; cuts better {sum(d > 0 for _, d in diff)}, worse {sum(d < 0 for _, d in diff)}")
+    for seed in seeds[1:]:
+        other = ins.under(seed)
+        libs = {r: tuple(x for x in runs if x != r) for r in runs}
+        cuts = [c for r in runs for c in other.cuts(r, libs[r], libs[r])]
+        print(_pool_row(f"seed {seed}: gaussian process alone",
+                        [None if c is None or not c.answered[1] else pool_judge(c, (0.0, 1.0, 0.0)) for c in cuts],
+                        cuts, runs))
+        print(_pool_row(f"seed {seed}: pool, equal weights", [pool_judge(c, equal) for c in cuts], cuts, runs),
+              flush=True)
+
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="bench-out/femto", help="where bench.femto cached the histories")
@@ -1519,8 +1838,13 @@ def main() -> int:
     ap.add_argument("--wiener-only", action="store_true", help="score only the Wiener-process method (10-20 minutes)")
     ap.add_argument("--gp-only", action="store_true",
                     help="score only the Gaussian-process settings (stable draws, calibration; a few minutes)")
-    ap.add_argument("--seeds", type=int, default=len(GP_SEEDS), help="with --gp-only: how many seeds of GP_SEEDS")
+    ap.add_argument("--seeds", type=int, default=None,
+                    help="with --gp-only: how many seeds of GP_SEEDS (default all); with --pool-only: the equal pool "
+                         "again under the first N (default 1)")
     ap.add_argument("--gp-all", action="store_true", help="with --gp-only: every GP setting, the free growth too")
+    ap.add_argument("--pool-only", action="store_true",
+                    help="score only the linear opinion pool of the exponential model, the GP and proportional "
+                         "hazards (equal and nested weights)")
     args = ap.parse_args()
     from bench.femto import DATA
     histories = load_histories(Path(args.data) if args.data else DATA, Path(args.out).resolve(), 2, False)
@@ -1530,7 +1854,10 @@ def main() -> int:
         wiener_report(histories, runs, lives_h)
         return 0
     if args.gp_only:
-        gp_methods(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds)], args.gp_all)
+        gp_methods(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds or len(GP_SEEDS))], args.gp_all)
+        return 0
+    if args.pool_only:
+        pool_report(histories, runs, lives_h, GP_SEEDS[:max(1, args.seeds or 1)])
         return 0
     settings = grid()
     priors: dict[tuple[str, ...], Prior] = {}

@@ -611,3 +611,79 @@ def test_the_fine_act_by_time_is_the_best_expected_score_of_a_lognormal():
     best = optimize.minimize_scalar(lambda c: -expected(c), bounds=(3.0, 15.0), method="bounded").x
     lives = dist.ppf((np.arange(16384) + 0.5) / 16384)
     assert act_by_fine(lives) == pytest.approx(best, rel=0.01)
+
+# ------------------------------------- bench.femto_compare: the linear opinion pool of three methods
+
+def test_the_pools_distribution_is_the_weighted_sum_of_the_methods():
+    # two normal answers, N(10, 1) and N(20, 2) hours, pooled 0.3 / 0.7: the pool's distribution function
+    # is 0.3 F1 + 0.7 F2 (Stone 1961's linear opinion pool), scipy.stats as reference, within the 1/512
+    # a method's quantiles stand for; its median is the root of F = 0.5 (scipy's brentq)
+    from scipy.optimize import brentq
+    from scipy.stats import norm
+
+    from bench.femto_compare import POOL_LEVELS, pool_cut, pool_quantile, pool_weights
+
+    u = (np.arange(20000) + 0.5) / 20000
+    c = pool_cut("x", 15.0, 0.0, [norm.ppf(u, 10.0, 1.0), norm.ppf(u, 20.0, 2.0)])
+    assert c is not None
+
+    def mix(x):
+        return 0.3 * norm.cdf(x, 10.0, 1.0) + 0.7 * norm.cdf(x, 20.0, 2.0)
+
+    np.testing.assert_allclose(pool_weights(c, (0.3, 0.7)) @ c.cdf, mix(c.points), atol=1.5 / len(POOL_LEVELS))
+    assert pool_quantile(c, (0.3, 0.7), 0.5) == pytest.approx(brentq(lambda x: mix(x) - 0.5, 5.0, 30.0), rel=0.01)
+    assert pool_quantile(c, (0.3, 0.7), 0.1) == pytest.approx(brentq(lambda x: mix(x) - 0.1, 5.0, 30.0), rel=0.01)
+    # weights on one method alone: that method's own quantiles
+    assert pool_quantile(c, (1.0, 0.0), 0.9) == pytest.approx(norm.ppf(0.9, 10.0, 1.0), rel=0.005)
+
+def test_a_method_without_an_answer_leaves_the_pool_and_the_others_keep_their_shares():
+    from bench.femto_compare import pool_cut, pool_judge, pool_weights
+
+    x = np.linspace(5.0, 15.0, 1001)
+    c = pool_cut("x", 10.0, 0.0, [x, None, 2 * x])
+    assert c is not None and c.answered == (True, False, True)
+    np.testing.assert_allclose(pool_weights(c, (0.2, 0.6, 0.2)), [0.5, 0.0, 0.5])
+    # the weights name only the method that did not answer: those that did, equal
+    np.testing.assert_allclose(pool_weights(c, (0.0, 1.0, 0.0)), [0.5, 0.0, 0.5])
+    assert pool_cut("x", 10.0, 0.0, [None, None]) is None and pool_judge(None, (1.0,)) is None
+
+def test_the_pools_act_by_time_is_the_best_expected_score_of_the_mixture():
+    # scipy as reference: the expected challenge score over a 50/50 mixture of two lognormals (medians
+    # 8 and 14 h, sigma 0.2 and 0.4) at each estimate, integrated by quadrature and maximised; the pool's
+    # act-by time agrees within 1 %, and each method alone gives its own act_by_fine within 1 %
+    from scipy import integrate, optimize
+    from scipy.stats import lognorm
+
+    from bench.femto_compare import act_by_fine, pool_act_by, pool_cut
+    from engine.trend.degradation import challenge_score
+
+    a, b = lognorm(0.2, scale=8.0), lognorm(0.4, scale=14.0)
+
+    def expected(c: float) -> float:
+        return integrate.quad(lambda x: float(challenge_score(100 * (x - c) / x)) * 0.5 * (a.pdf(x) + b.pdf(x)),
+                              0.0, 80.0, points=[c], limit=400)[0]
+
+    best = optimize.minimize_scalar(lambda c: -expected(c), bounds=(2.0, 20.0), method="bounded").x
+    u = (np.arange(16384) + 0.5) / 16384
+    c = pool_cut("x", 10.0, 0.0, [a.ppf(u), b.ppf(u)])
+    assert c is not None
+    assert pool_act_by(c, (0.5, 0.5)) == pytest.approx(best, rel=0.01)
+    assert pool_act_by(c, (1.0, 0.0)) == pytest.approx(act_by_fine(a.ppf(u)), rel=0.01)
+    assert pool_act_by(c, (0.0, 1.0)) == pytest.approx(act_by_fine(b.ppf(u)), rel=0.01)
+
+def test_the_nested_weights_are_the_best_on_the_grid_and_the_nearest_equal_among_ties():
+    # method 1 certain and right (10 h), method 2 certain and half of it (5 h). Acting at 10 h expects
+    # w1 + w2 2^-20 (late by 100 %), at 5 h w1 2^-2.5 + w2 (early by 50 %): the pool acts at 10 h, and
+    # scores 1, when w1 > 1 / (2 - 2^-2.5) = 0.549 (derived from the challenge score), so the grid's best
+    # weights are every w1 from 0.6 up, and the nearest equal of them is (0.6, 0.4); on a grid of 0.05, (0.55, 0.45)
+    from bench.femto_compare import choose_weights, pool_cut, pool_judge, simplex
+
+    assert len(simplex(3, 0.1)) == 66 and all(sum(w) == pytest.approx(1.0) for w in simplex(3, 0.1))
+    cuts = [pool_cut("x", 10.0, 0.0, [np.full(50, 10.0), np.full(50, 5.0)])]
+    assert choose_weights(cuts, 2) == pytest.approx((0.6, 0.4))
+    assert choose_weights(cuts, 2, 0.05) == pytest.approx((0.55, 0.45))
+    judged = pool_judge(cuts[0], (0.5, 0.5))
+    assert judged is not None and judged[0].a == pytest.approx(2 ** -2.5)
+    # two methods that agree: every weighting scores alike, and the choice is equal weights
+    same = [pool_cut("x", 10.0, 0.0, [np.linspace(8.0, 12.0, 100), np.linspace(8.0, 12.0, 100)])]
+    assert choose_weights(same, 2) == pytest.approx((0.5, 0.5))
