@@ -142,8 +142,8 @@ def test_bearing_damage_stages_carry_their_published_signs(rw2):
     assert kurt[0] < 4.0 < kurt[1] < kurt[2] and kurt[3] < 4.0
     high = [overall(s)["rms_frequency_hz"] for s in (1, 2, 3, 4)]
     assert high[0] < high[1] < high[2] < 1000.0 < high[3]
-    assert bpfo_line(2) is None or bpfo_line(2)["ratio_to_1x"] < 0.1
-    assert bpfo_line(3)["ratio_to_1x"] >= 0.1
+    assert bpfo_line(2) is None or bpfo_line(2)["ratio_to_bearing_1x"] < 0.1
+    assert bpfo_line(3)["ratio_to_bearing_1x"] >= 0.1
     one_x = next(f for f in facts[4] if f["kind"] == "tone" and f["name"] == "1X" and f["component"] == "pump")
     assert one_x["snr_db"] >= 20
 
