@@ -62,7 +62,7 @@ def tone_fact(fid: str = "tone-1", channel: str = "P1H", amplitude_mm_s=1.0, amp
     return {"kind": "tone", "id": fid, "channel": channel, "point": channel, "direction": "horizontal",
             "location": "pump_de", "location_shaft": "pump", "name": "1X", "component": "pump", "family": "shaft",
             "shaft": "pump", "expected_hz": 24.8, "freq_hz": 24.8, "amplitude_mm_s": amplitude_mm_s,
-            "amplitude_g": amplitude_g, "snr_db": snr_db, "ratio_to_1x": 1.0}
+            "amplitude_g": amplitude_g, "snr_db": snr_db, "ratio_to_1x": 1.0, "ratio_to_bearing_1x": 1.0}
 
 
 # ---------------------------------------------------------------- the command line's promises on bad input

@@ -78,8 +78,16 @@ def tones(rc: Analysis) -> list[dict]:
     """A ``tone`` fact for each forcing frequency that stands above the floor on a channel."""
     wanted = [f for f in rc.forcing if f.name not in SKIPPED_AS_TONES and f.frequency_hz >= MIN_TONE_HZ]
     out = []
+    one_x_of = {c.name: one_x_mm_s(c, rc) for c in rc.channels}
+    # the largest 1X of each shaft at each bearing, over the bearing's channels (radial and axial)
+    at_bearing: dict[tuple[str, str], float] = {}
     for c in rc.channels:
-        one_x = one_x_mm_s(c, rc)
+        for shaft, amp in one_x_of[c.name].items():
+            key = (c.location or c.name, shaft)
+            at_bearing[key] = max(at_bearing.get(key, 0.0), amp)
+    for c in rc.channels:
+        one_x = one_x_of[c.name]
+        bearing_1x = {shaft: at_bearing[(c.location or c.name, shaft)] for shaft in one_x}
         hits = []
         for use_velocity in (True, False):
             group = [f for f in wanted if _uses_velocity(f.family, f.frequency_hz) == use_velocity]
@@ -103,6 +111,7 @@ def tones(rc: Analysis) -> list[dict]:
                 "shaft": f.shaft, "expected_hz": f.frequency_hz, "freq_hz": peak.freq_hz,
                 "amplitude_mm_s": float(v_mm_s), "amplitude_g": float(a_g), "snr_db": db(peak.snr),
                 "ratio_to_1x": float(v_mm_s) / one_x[f.shaft] if one_x[f.shaft] > 0 else 0.0,
+                "ratio_to_bearing_1x": float(v_mm_s) / bearing_1x[f.shaft] if bearing_1x[f.shaft] > 0 else 0.0,
                 "shaft_order_within_tolerance": (f.family == "electrical"
                                                  and _shaft_order_within(rc, spec, f.frequency_hz)),
                 SIGNS: {spectrum_line(c.name, peak.line): match_fit(peak.freq_hz / f.frequency_hz - 1,

@@ -66,6 +66,8 @@ FACTS: dict[str, dict[str, F]] = {
         "amplitude_g": F("number", "acceleration amplitude, g peak", "g peak"),
         "snr_db": F("number", "peak over the local noise floor, dB", "dB"),
         "ratio_to_1x": F("number", "velocity amplitude over 1X of its shaft on this channel", ""),
+        "ratio_to_bearing_1x": F("number", "velocity amplitude over the largest 1X of its shaft among the channels "
+                                 "at this channel's bearing (an axial channel's own 1X is often small)", ""),
         "shaft_order_within_tolerance": F("boolean", "an electrical rate with a shaft harmonic (1X to 10X) within "
                                           "a shaft line's precision (1.5 lines or 0.5 %) of it: the two cannot "
                                           "be told apart", ""),

@@ -16,8 +16,17 @@ from ..machine import Point
 from ..machine.kinematics import BearingRates, bearing_multiples
 from .signal import G, Part, Scene, impact_signal, impact_times, resonance_ring
 
-# impact size by stage: stage 1 is visible only in the envelope; stage 4 dominates the waveform
-IMPACT_G = {1: 0.06, 2: 0.4, 3: 1.5, 4: 5.0}
+# impact size by stage: stage 1 is visible only in the envelope; stage 4 dominates the waveform.
+# Stage 3 is the stage whose defect line stands in the ordinary velocity spectrum at a tenth of the
+# bearing's 1X or more (rulebooks/advice/severity.yaml stages; bearing.stage.velocity-tone reads the
+# line against the largest 1X at the bearing, a radial one). The background's radial 1X at a bearing
+# is 0.6 mm/s RMS from its own shaft plus 0.18 from a coupled one at a random phase (healthy.py): 0.42
+# to 0.78 mm/s. A race defect's line comes out at about 0.05 to 0.065 mm/s per g of impact on RW-2
+# (an inner race's 1X load-zone modulation moves a share into its sidebands), so 1.5 g left stage-3
+# inner races at 0.096 to 0.23 of the 1X, under a tenth at some seeds: the stage's own sign missing.
+# 2.5 g puts the line above a tenth of the largest background 1X; stage 2's 0.4 g stays below a tenth
+# of the smallest (its line stood at a tenth only against an axial channel's own, smaller 1X).
+IMPACT_G = {1: 0.06, 2: 0.4, 3: 2.5, 4: 5.0}
 # Stage 4: the damage has spread round the race, and the rolling elements run over rough metal all
 # the way: a dense train of small impacts at random instants rings the same resonance. That is a
 # raised broadband floor (the "haystack") in the band where bearings ring (each impact an

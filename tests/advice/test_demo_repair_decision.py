@@ -6,17 +6,21 @@ from __future__ import annotations
 
 import re
 
+from engine.pipeline.cases import load_case
 from engine.report import render
 
-from support import case_diagnosis, doc_of
+from support import CASES, case_diagnosis, doc_of
 
 
-def test_the_inner_race_case_names_its_bearing_and_no_belt():
-    # its stage (3, against the truth's 2) is left as it was: see the closing note of part S
+def test_the_inner_race_case_names_its_bearing_at_its_true_stage_and_no_belt():
+    truth_stage = load_case(CASES / "demo" / "rw2-pump-de-inner-race.case.yaml").simulate["stage"]
     d = case_diagnosis("rw2-pump-de-inner-race")
     top = d.reasoning.hypotheses[0]
     assert (top.fault, top.component) == ("inner-race", "pump_de")
+    # it was 3: BPFI stood at 0.12 of P1A's own axial 1X, but at 0.03 of the bearing's radial 1X
+    assert top.stage == truth_stage == 2
     rec = d.advice.recommendations[0]
+    assert rec.urgency.id == "plan"            # stage_urgency 2 in rulebooks/advice/actions.yaml
     assert "bearing 7312 B, matched pair (pump_de)" in rec.spares
     assert not any("belt" in a for a in rec.actions)     # a direct-coupled pump
 

@@ -66,7 +66,9 @@ def test_a_rival_s_reasons_read_as_one_sentence_in_every_format():
 
     from support import case_diagnosis
 
-    doc = document_of(case_diagnosis("rw2-pump-nde-outer-race"))
+    # CT-1's tooth case: its eccentricity rival has reasons against it and a share the leader explains (the
+    # pump's outer-race case had one until its stage-3 impacts grew to the stage's own sign)
+    doc = document_of(case_diagnosis("ct1-bevel-tooth"))
     rivals = [r for dx in doc["differential"] for r in dx["rivals"]]
     assert any(r["against"] and r["explained_by_leader"] >= 0.01 for r in rivals)   # the case this checks
     for fmt in FORMATS:
