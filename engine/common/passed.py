@@ -12,7 +12,7 @@ verdict is a pure function of three things, and its key is made of all three:
   time of each package's first module), so an upgrade starts afresh.
 
 Only a pass is remembered, as an empty file named by the SHA-256 of the key, under the user's
-cache folder (``platformdirs.user_cache_path``); a document with a problem is checked every time,
+cache folder (``common.paths.user_cache``); a document with a problem is checked every time,
 so its error is always the validator's own. Nothing read from the folder is ever parsed: a file
 either exists or it does not. A folder that cannot be made or written leaves every check run
 in full, without a word; a remembered pass is written under a temporary name and renamed.
@@ -35,12 +35,10 @@ _PLAIN = (str, int, float, bool, type(None))
 @cache
 def folder() -> Path | None:
     """Where passes are remembered, or None when there is no user cache folder."""
-    try:
-        from platformdirs import user_cache_path
+    from .paths import user_cache
 
-        return user_cache_path("tellwave", appauthor=False) / FOLDER
-    except Exception:        # no home folder or the like: check in full, never fail for it
-        return None
+    place = user_cache()
+    return place / FOLDER if place is not None else None
 
 
 @cache
