@@ -1,4 +1,4 @@
-"""Where the shipped data folders are: rulebooks/, templates/ and cases/.
+"""Where the shipped data folders are: rulebooks/, templates/ and cases/; and the user's cache folder.
 
 An installed package carries them inside itself as ``engine/_data/`` (pyproject.toml maps
 them there when the wheel is built), found with importlib.resources wherever the
@@ -40,3 +40,15 @@ DATA_ROOT = _data_root()
 RULEBOOKS = DATA_ROOT / "rulebooks"
 TEMPLATES = DATA_ROOT / "templates"
 CASES = DATA_ROOT / "cases"
+
+
+def user_cache() -> Path | None:
+    """The user's cache folder for tellwave (``platformdirs.user_cache_path``), or None when there is
+    none. What is kept there only spares work: schema passes (``common.passed``) and compiled report
+    templates (``report.render``), each keyed by everything its result depends on; deleting it is safe."""
+    try:
+        from platformdirs import user_cache_path
+
+        return user_cache_path("tellwave", appauthor=False)
+    except Exception:        # no home folder or the like: do the work in full, never fail for it
+        return None

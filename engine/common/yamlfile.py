@@ -31,14 +31,17 @@ import re
 from dataclasses import dataclass, field
 from functools import cache
 from importlib import resources
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import jsonschema
 import yaml
 from yaml.constructor import ConstructorError, SafeConstructor
 
+from . import passed
 from .errors import TellwaveError
 from .infile import regular_file
+
+if TYPE_CHECKING:
+    import jsonschema  # imported where a document is checked: a remembered pass needs none of it
 
 MAX_BYTES = 1 << 20       # 1 MiB; the largest shipped rulebook is about 15 kB
 MAX_NODES = 100_000       # nodes once every alias is expanded (a shipped rulebook has a few thousand)
@@ -410,6 +413,14 @@ def load_schema(name: str) -> dict:
     return json.loads(text)
 
 
+@cache
+def _schema_text(name: str) -> str:
+    """The schema ``name`` as canonical text: what a remembered pass is keyed by (``common.passed``)."""
+    from .jsonout import canonical
+
+    return canonical(load_schema(name))
+
+
 def _describe(err: jsonschema.ValidationError) -> str:
     if err.validator == "required":
         return err.message.replace("is a required property", "is required")
@@ -453,11 +464,19 @@ def first_problem(doc: YamlDocument, schema_name: str) -> tuple[list, str] | Non
 
     The problem reported is the one deepest in the document, so a typo in one
     field is named as that field, not as "does not match any alternative" of
-    its parent.
+    its parent. Data that passed the same schema before, in any process, is not
+    checked again (``engine.common.passed``: the pass is keyed by the schema, the
+    data with its types and the installed validator); a problem is found afresh every time.
     """
+    remembered_as = passed.key(_schema_text(schema_name), doc.data)
+    if passed.remembered(remembered_as):      # this very data passed this very schema before
+        return None
+    import jsonschema
+
     validator = jsonschema.Draft202012Validator(load_schema(schema_name))
     errors = list(validator.iter_errors(doc.data))
     if not errors:
+        passed.remember(remembered_as)
         return None
     best = max(errors, key=lambda e: len(e.absolute_path))
     path = list(best.absolute_path)

@@ -11,10 +11,20 @@ Markdown (``escape.markdown``), plain text and the terminal (``escape.text_value
 return text already escaped for it; ``script`` inlines a shipped script of ``templates/`` (``plots.js``, the
 HTML plots' zoom and cursors), so a page needs nothing from the network. JSON is RFC 8259 JSON
 (``engine.common.jsonout``): never NaN or Infinity. A template is given ``doc`` and nothing else.
+
+Compiling a report's template took about 45 ms of every ``tellwave diagnose``; each format's
+environment keeps the compiled code in the user's cache folder (``common.paths.user_cache``,
+``compiled-templates/``): Jinja's bytecode cache, which compiles afresh when the template's text
+changes, under a key that also holds the format, this file (the environment's options), Jinja's
+and Python's versions. A folder that cannot be read or written, or a spoilt file, only means a
+compile.
 """
 
 from __future__ import annotations
 
+import hashlib
+import os
+import sys
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
@@ -27,7 +37,7 @@ from ..common import escape
 from ..common.errors import UsageError
 from ..common.jsonout import dumps
 from ..common.outfile import write_whole
-from ..common.paths import TEMPLATES
+from ..common.paths import TEMPLATES, user_cache
 
 EXTENSIONS = {"text": "txt", "md": "md", "html": "html"}     # a format's template file: NAME.EXT.j2
 _FINALIZE: dict[str | None, Callable] = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
@@ -85,6 +95,56 @@ def _script(name: str) -> markupsafe.Markup:
     return markupsafe.Markup(text)
 
 
+COMPILED = "compiled-templates"        # under the user's cache folder
+
+
+@cache
+def _this_file() -> str:
+    """The SHA-256 of this module's text (the environments' options), or "" when it cannot be read."""
+    try:
+        return hashlib.sha256(Path(__file__).read_bytes()).hexdigest()
+    except OSError:
+        return ""
+
+
+class CompiledTemplates(jinja2.FileSystemBytecodeCache):
+    """Compiled templates kept in ``folder`` for the environment of ``fmt``. Jinja compiles afresh when
+    a template's text changes (its checksum); the key holds everything else the code depends on."""
+
+    def __init__(self, folder: Path, fmt: str):
+        super().__init__(str(folder), "%s.code")
+        self.salt = "|".join(("tellwave compiled template 1", fmt, _this_file(), jinja2.__version__, sys.version))
+
+    def get_cache_key(self, name: str, filename: str | None = None) -> str:
+        """The file a template's code is kept in: its name and place with the salt."""
+        text = f"{self.salt}|{name}|{filename}"
+        return hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+
+    def load_bytecode(self, bucket) -> None:
+        """The kept code, if any; a file that cannot be read as such leaves the template to compile."""
+        try:
+            super().load_bytecode(bucket)
+        except Exception:     # a spoilt or foreign file: compile, and write it afresh
+            bucket.reset()
+
+    def dump_bytecode(self, bucket) -> None:
+        """Keep the code; a folder that cannot be made or written is no error."""
+        try:
+            os.makedirs(self.directory, exist_ok=True)
+            super().dump_bytecode(bucket)
+        except OSError:
+            pass
+
+
+def _compiled(fmt: str | None) -> CompiledTemplates | None:
+    """The compiled-template store of ``fmt``'s environment; None for the unescaped one (tests read
+    templates with it) or without a user cache folder or a readable source of this module."""
+    place = user_cache()
+    if fmt is None or place is None or not _this_file():
+        return None
+    return CompiledTemplates(place / COMPILED, fmt)
+
+
 @cache
 def environment(fmt: str | None = None) -> jinja2.Environment:
     """The Jinja environment over templates/, one per format: autoescape for .html templates, and for
@@ -94,7 +154,7 @@ def environment(fmt: str | None = None) -> jinja2.Environment:
         loader=jinja2.FileSystemLoader(str(TEMPLATES)),
         autoescape=jinja2.select_autoescape(enabled_extensions=("html", "html.j2"), default_for_string=False),
         undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
-        finalize=_FINALIZE.get(fmt))
+        finalize=_FINALIZE.get(fmt), bytecode_cache=_compiled(fmt))
     env.filters["pct"] = _pct
     env.filters["signed"] = lambda x: f"{100 * x:+.0f} %"
     env.filters["days"] = _days
