@@ -40,12 +40,12 @@ def _comb_signs(c, rate_hz: float) -> dict[str, float]:
 
 
 def _best_matches(candidates, rate_hz: float, location: str | None) -> list:
-    """The candidates ``rate_hz`` matches best: among rates of the same defect within ``TIE`` of the best match (two bearings of
-    one model on a shaft have the same rates, and slip alone moves a rate that much), the bearing under the
-    sensor, since a bearing's impacts are strongest at its own housing and weaken on the way to the others
-    (common practice; Randall (2011), Vibration-based Condition Monitoring, Wiley, ch. 5); with none
-    under the sensor, every bearing of that rate and defect, since the sensor cannot tell them apart (the
-    envelope evidence breaks the same tie the same way, ``envelope._owners``)."""
+    """The candidates ``rate_hz`` matches best: among rates of the same defect within ``TIE`` of the best
+    match (two bearings of one model on a shaft have the same rates, and slip alone moves a rate that much),
+    the bearing under the sensor, since a bearing's impacts are strongest at its own housing and weaken on the
+    way to the others (common practice; Randall (2011), Vibration-based Condition Monitoring, Wiley, ch. 5);
+    with none under the sensor, every bearing of that rate and defect, since the sensor cannot tell them
+    apart (the envelope evidence breaks the same tie the same way, ``envelope._owners``)."""
     best = min(candidates, key=lambda cand: abs(rate_hz / cand[2] - 1))
     if best[0] == "1X":
         return [best]
@@ -60,7 +60,7 @@ def _best_matches(candidates, rate_hz: float, location: str | None) -> list:
 def impact_train(rc: Analysis) -> list[dict]:
     """The impact train the analysis found in each channel's squared envelope, and what its rate matches."""
     candidates = _candidates(rc)
-    out = []
+    out: list[dict] = []
     for c in rc.channels:
         train = c.impacts
         if train is None:
