@@ -283,7 +283,24 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
             actions, spares = tuple(policy["actions"]), ()
         urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
     return Recommendation(h, severity, urgency, actions, spares,
-                          tuple(todo["confirm"]) + tuple(extra.get("confirm", ())), oil)
+                          tuple(todo["confirm"]) + tuple(extra.get("confirm", ())) + _twin_confirm(h, machine, data),
+                          oil)
+
+
+def _twin_confirm(h: Hypothesis, machine: Machine, data: dict) -> tuple[str, ...]:
+    """The line that says a bearing hypothesis below a call cannot be told from another bearing's of the same
+    rates, and where to measure (``twin_bearing_confirm``); () when it is a call or has no such twin."""
+    line = data.get("twin_bearing_confirm")
+    if line is None or h.confident or h.family != "bearing":
+        return ()
+    twins = sorted({f["twin"] for firing in h.support for _, f in firing.facts
+                    if f.get("twin") and f.get("component") == h.component})
+    if not twins:
+        return ()
+    at = {h.component, *twins}
+    points = [p.id for p in getattr(machine, "points", ()) if p.at in at]
+    where = ", ".join(points) if points else "no point of the machine file sits on either: add one on each"
+    return tuple(line.format(component=h.component, twin=twin, points=where) for twin in twins)
 
 
 TIME_TO_ACT = "time_to_act"     # the derived kind whose facts ask for an urgency (rulebooks/time-to-act.yaml)

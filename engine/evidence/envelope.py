@@ -200,11 +200,17 @@ def _owners(defects, all_found, location: str | None, fmax_hz: float,
                 expected = int(span / defects[t][2])  # noqa: B023
                 return sum(1 for f in lines_of[t].values() if f <= span) / expected if expected else 0.0  # noqa: B023
 
-            winner = min(close, key=lambda e: (-own(e[4]), -covered(e[4]), e[1], e[2], e[3], e[0]))
+            rank = {id(e): (-own(e[4]), -covered(e[4]), e[1], e[2], e[3]) for e in close}
+            winner = min(close, key=lambda e: (rank[id(e)], e[0]))
+            # the same defect of two bearings at one rate (one model twice on a shaft), neither under the
+            # sensor: the sensor cannot tell them apart, so the line is both families' and the reasoning
+            # weighs where each stands out (a listing order is no reason to pick one)
+            winners = [e for e in close if rank[id(e)] == rank[id(winner)] and e[3]
+                       and abs(e[0] - winner[0]) <= TIE] if winner[3] else [winner]
         else:
-            winner = best
+            winners = [best]
         for e in entries:
-            owned[(e[4], e[1])] = e is winner
+            owned[(e[4], e[1])] = any(e is w for w in winners)
     _give_sidebands(defects, all_found, owned, resolution_hz)
     return owned
 
@@ -387,6 +393,14 @@ def _ball_rate_on_shaft_order(b) -> bool:
     return bool(order >= 1 and abs(ball / (order * b.shaft_hz) - 1) <= SLIP_TOLERANCE)
 
 
+def _twin(b, defect: str, rate: float, defects) -> str:
+    """The other bearing whose rate of ``defect`` lies nearest ``rate``, within ``TIE`` (one model twice on a
+    shaft, or two models whose rates coincide), or "": the lines alone cannot tell the two apart."""
+    close = [(abs(r / rate - 1), o.bearing) for o, d, r in defects
+             if d == defect and o.bearing != b.bearing and abs(r / rate - 1) <= TIE]
+    return min(close)[1] if close else ""
+
+
 def _tone_facts(c, view, defects, all_found, owned, lines, seen: set[str]) -> list[dict]:
     out = []
     ses = view.ses
@@ -414,6 +428,7 @@ def _tone_facts(c, view, defects, all_found, owned, lines, seen: set[str]) -> li
             "chance_pct": 100 * chance,
             "ball_rate_on_shaft_order": _ball_rate_on_shaft_order(b),
             "shaft_seen": b.shaft in seen,
+            "twin": _twin(b, defect, rate, defects),
             "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
             "band_kurtosis": view.band_kurtosis,

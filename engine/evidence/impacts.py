@@ -9,6 +9,7 @@ from .matching import SLIP_TOLERANCE, clear_lines
 from .signs import SIGNS, envelope_line, impacts, match_fit, turns
 
 MATCH_TOLERANCE = 0.03    # rate within 3 % of a forcing frequency (1-2 % slip plus resolution)
+TIE = 0.01                # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
 
 
 def _candidates(rc: Analysis):
@@ -38,28 +39,45 @@ def _comb_signs(c, rate_hz: float) -> dict[str, float]:
     return out
 
 
+def _best_matches(candidates, rate_hz: float, location: str | None) -> list:
+    """The candidates ``rate_hz`` matches best: among rates of the same defect within ``TIE`` of the best
+    match (two bearings of one model on a shaft have the same rates, and slip alone moves a rate that much),
+    the bearing under the sensor, since a bearing's impacts are strongest at its own housing and weaken on the
+    way to the others (common practice; Randall (2011), Vibration-based Condition Monitoring, Wiley, ch. 5);
+    with none under the sensor, every bearing of that rate and defect, since the sensor cannot tell them
+    apart (the envelope evidence breaks the same tie the same way, ``envelope._owners``)."""
+    best = min(candidates, key=lambda cand: abs(rate_hz / cand[2] - 1))
+    if best[0] == "1X":
+        return [best]
+    error = abs(rate_hz / best[2] - 1)
+    close = [cand for cand in candidates if cand[0] == best[0] and abs(rate_hz / cand[2] - 1) <= error + TIE]
+    mine = [cand for cand in close if cand[1] == location]
+    if mine:
+        return [min(mine, key=lambda cand: abs(rate_hz / cand[2] - 1))]
+    return close
+
+
 def impact_train(rc: Analysis) -> list[dict]:
     """The impact train the analysis found in each channel's squared envelope, and what its rate matches."""
     candidates = _candidates(rc)
-    out = []
+    out: list[dict] = []
     for c in rc.channels:
         train = c.impacts
         if train is None:
             continue
         rate = train.rate_hz
-        name, component, err = "none", "none", 0.0
-        best = min(candidates, key=lambda cand: abs(rate / cand[2] - 1))
-        if abs(rate / best[2] - 1) <= MATCH_TOLERANCE:
-            name, component, err = best[0], best[1], (rate / best[2] - 1) * 100
+        matches = [(best[0], best[1], (rate / best[2] - 1) * 100)
+                   for best in _best_matches(candidates, rate, c.location)
+                   if abs(rate / best[2] - 1) <= MATCH_TOLERANCE] or [("none", "none", 0.0)]
         shaft = c.point.shaft if c.point else rc.speed_shaft
         signs = {impacts(c.name): 1.0} | _comb_signs(c, rate)
-        out.append(c.base() | {
+        out.extend(c.base() | {
             "kind": "impact_train", "rate_hz": rate, "spacing_ms": train.spacing_s * 1e3,
             "periodicity": train.periodicity, "count": train.count, "regularity_cv": train.regularity_cv,
             "impacts_per_rev": rate / rc.speeds_hz[shaft],
             "matched_name": name, "matched_component": component, "match_error_pct": err,
             SIGNS: signs,
-        })
+        } for name, component, err in matches)
     return out
 
 

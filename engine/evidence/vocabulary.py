@@ -134,6 +134,8 @@ FACTS: dict[str, dict[str, F]] = {
         "strongest_channel": F("string", "channel where this family (same view) stands out most", ""),
         "strongest_location": F("string", "the bearing or shaft that channel's point sits at", ""),
         "below_strongest_db": F("number", "how far this channel's best harmonic is below that channel's, dB", "dB"),
+        "twin": F("string", "another bearing whose rate of the same defect lies within 1 % of this one's (one "
+                  "model twice on a shaft): only where the family stands out can tell them apart; empty if none", ""),
         "band_method": F("string", "kurtogram (band of highest spectral kurtosis) or wide "
                                    "(prewhitened signal above the defect harmonics)", ""),
         "band_lo_hz": F("number", "demodulation band, lower edge, Hz", "Hz"),
