@@ -6,7 +6,9 @@ spectrum, the velocity spectrum and the overall levels; it refines the
 running speed from the spectra of all channels; then, at that speed, it
 computes the prewhitened spectrum, the kurtogram and two squared envelope
 views, the impact train of the envelope, and the once-per-revolution events
-of each shaft. The evidence extractors only read the result.
+of each shaft; on a geared machine, also the impact train of the waveform
+before its synchronous parts are taken out (a tooth struck once per turn is
+one of them). The evidence extractors only read the result.
 
 Values in SI units inside (m/s^2 for acceleration spectra), mm/s RMS for the
 velocity spectrum, Hz everywhere.
@@ -56,6 +58,7 @@ MIN_VELOCITY_HZ = 2.0
 TSA_MIN_REVOLUTIONS = 10
 TSA_MIN_SAMPLES_PER_REV = 64
 TSA_MAX_SAMPLES_PER_REV = 4096
+ABOVE_MESH = 2.5                # the waveform's impacts are read above the mesh's second harmonic (and its sidebands)
 MESH_LINE_SNR = 10.0            # a mesh line this far above its floor times the averaging
 LINE_HARMONICS = 20             # line-frequency harmonics kept out of the speed search
 
@@ -88,6 +91,9 @@ class ChannelAnalysis:
     impacts: ImpactTrain | None
     synchronous: Mapping[str, SynchronousEvents]   # by shaft id
     issues: tuple[QualityIssue, ...]
+    # the impact train of the prewhitened waveform before the synchronous parts are taken out, at the shafts'
+    # rates (``waveform_impacts``); None on a machine without gears, or when there is none
+    waveform_impacts: ImpactTrain | None = None
 
     @property
     def envelope(self) -> Spectrum | None:
@@ -419,6 +425,61 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
     return out, rest
 
 
+def waveform_impacts(accel: np.ndarray, fs: float, shafts_hz: list[float], mesh_hz: list[float]) -> ImpactTrain | None:
+    """The impact train of a record's waveform as it is, its synchronous parts kept, at the rates of ``shafts_hz``.
+
+    A gear tooth that strikes once per turn is locked to its shaft: the
+    synchronous average keeps it and the record less that average, where the
+    bearing envelope looks, loses it (on a steady speed, wholly). An analyst
+    sees it in the raw or high-passed waveform. Here the waveform is
+    prewhitened (cepstral prewhitening: the mesh and shaft lines stand no
+    higher than the floor, while an impact, broadband, keeps its shape),
+    high-passed above the highest mesh's second harmonic and the fastest
+    shaft's fifth (below them lie the synchronous lines and their sidebands,
+    which a smooth once-per-turn modulation, eccentricity or wear, puts there
+    too; a strike rings the structure far above them), at most from Fmax / 8
+    up, and its squared envelope is searched for a train at the shafts' rates,
+    as ``impact_train`` searches the bearing envelope.
+
+    Parameters
+    ----------
+    accel : numpy.ndarray
+        Acceleration, m/s^2 (any unit: the train is scale-free).
+    fs : float
+        Sample rate, Hz.
+    shafts_hz : list of float
+        The speeds of the machine's shafts, Hz: the rates looked for.
+    mesh_hz : list of float
+        The machine's gear mesh frequencies, Hz.
+
+    Returns
+    -------
+    ImpactTrain or None
+        As ``impact_train``; None when no train stands at those rates.
+
+    References
+    ----------
+    Sawalhi & Randall (2011) and Borghesani et al. (2013), MSSP 36 (cepstral
+    prewhitening keeps impulses and flattens discrete lines); Randall (2011),
+    Vibration-based Condition Monitoring, Wiley, ch. 5 (a local tooth fault:
+    an impulse once per turn of its gear in the time signal).
+
+    Examples
+    --------
+    >>> fs = 12800.0; t = np.arange(51200) / fs; fr = 24.7                # a shaft at 24.7 Hz, a 23-tooth gear
+    >>> x = np.sin(2 * np.pi * 23 * fr * t) + 0.05 * np.random.default_rng(0).standard_normal(len(t))
+    >>> ring = np.exp(-t[:64] * 800) * np.sin(2 * np.pi * 3000 * t[:64])   # a tooth's strike rings at 3 kHz
+    >>> for start in (np.arange(0, 4.0 - 0.01, 1 / fr) * fs).astype(int):
+    ...     x[start:start + 64] += 2.0 * ring
+    >>> round(float(waveform_impacts(x, fs, [fr, 10.0], [23 * fr]).rate_hz), 1)
+    24.7
+    """
+    span = ENVELOPE_HARMONICS * max(shafts_hz)
+    band = (min(max(span, ABOVE_MESH * max(mesh_hz, default=0.0)), fs / 8), 0.45 * fs)
+    _, squared, sig = _squared_envelope(whitened_spectrum(accel), len(accel), fs, band, span)
+    return impact_train(squared, sig.fs_hz, min(shafts_hz), max(shafts_hz))
+
+
 def _impact_candidates_hz(rates: Rates) -> list[float]:
     """Rates an impact train could repeat at: bearing defects (the ball rate as 2 x BSF) and 1X."""
     out = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
@@ -569,13 +630,16 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         own_rpm = speeds[point.shaft] * 60 if point is not None else speed.speed_hz * 60
         kg, views, env_sig, env_fs = envelopes[ch.name]
         impacts = impact_train(env_sig, env_fs, min(candidates), max(candidates)) if env_sig is not None else None
+        # a gear tooth's once-per-turn impacts leave with the synchronous part: they are read from the waveform
+        geared = (waveform_impacts(a, fs, list(rates.shafts_hz.values()), [g.gmf_hz for g in rates.meshes])
+                  if rates.meshes else None)
         channels.append(ChannelAnalysis(
             channel=ch, point=point, fs_hz=fs, accel=a,
             spectrum=spectra[ch.name], velocity=velocity[ch.name],
             levels=levels_of(a, iso[ch.name], fs, "acceleration", own_rpm),
             kurtogram=kg, envelopes=views, envelope_signal=env_sig, envelope_fs_hz=env_fs, impacts=impacts,
             synchronous=MappingProxyType(synchronous[ch.name]),
-            issues=tuple(reading.issues_for(ch.name)),
+            issues=tuple(reading.issues_for(ch.name)), waveform_impacts=geared,
         ))
     return Analysis(machine, reading.source, fs, reading.n_samples, tuple(reading.quality),
                     MappingProxyType(speeds), speed, shaft, rates, tuple(forcing_list(rates)), tuple(channels),

@@ -6,7 +6,7 @@ import numpy as np
 
 from ..analysis import Analysis
 from .matching import SLIP_TOLERANCE, clear_lines
-from .signs import SIGNS, envelope_line, impacts, match_fit, turns
+from .signs import SIGNS, envelope_line, impacts, match_fit, turns, waveform_impacts
 
 MATCH_TOLERANCE = 0.03    # rate within 3 % of a forcing frequency (1-2 % slip plus resolution)
 TIE = 0.01                # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
@@ -58,26 +58,33 @@ def _best_matches(candidates, rate_hz: float, location: str | None) -> list:
 
 
 def impact_train(rc: Analysis) -> list[dict]:
-    """The impact train the analysis found in each channel's squared envelope, and what its rate matches."""
+    """The impact train the analysis found in each channel's squared envelope, and what its rate matches
+    (``read_from: residual``, the record less its synchronous parts, which the bearing rules read); then, on a
+    geared machine, the train of each channel's waveform before those parts were taken out (``read_from:
+    waveform``), where a gear tooth struck once per turn shows."""
     candidates = _candidates(rc)
     out: list[dict] = []
-    for c in rc.channels:
-        train = c.impacts
-        if train is None:
-            continue
-        rate = train.rate_hz
-        matches = [(best[0], best[1], (rate / best[2] - 1) * 100)
-                   for best in _best_matches(candidates, rate, c.location)
-                   if abs(rate / best[2] - 1) <= MATCH_TOLERANCE] or [("none", "none", 0.0)]
-        shaft = c.point.shaft if c.point else rc.speed_shaft
-        signs = {impacts(c.name): 1.0} | _comb_signs(c, rate)
-        out.extend(c.base() | {
-            "kind": "impact_train", "rate_hz": rate, "spacing_ms": train.spacing_s * 1e3,
-            "periodicity": train.periodicity, "count": train.count, "regularity_cv": train.regularity_cv,
-            "impacts_per_rev": rate / rc.speeds_hz[shaft],
-            "matched_name": name, "matched_component": component, "match_error_pct": err,
-            SIGNS: signs,
-        } for name, component, err in matches)
+    for read_from in ("residual", "waveform"):       # the residual's first: their ids stay as they were
+        for c in rc.channels:
+            train = c.impacts if read_from == "residual" else c.waveform_impacts
+            if train is None:
+                continue
+            rate = train.rate_hz
+            matches = [(best[0], best[1], (rate / best[2] - 1) * 100)
+                       for best in _best_matches(candidates, rate, c.location)
+                       if abs(rate / best[2] - 1) <= MATCH_TOLERANCE] or [("none", "none", 0.0)]
+            shaft = c.point.shaft if c.point else rc.speed_shaft
+            # the residual's envelope lines at the train's harmonics are its signs; the waveform's train is
+            # not that envelope's, and is a sign of its own
+            signs = ({impacts(c.name): 1.0} | _comb_signs(c, rate) if read_from == "residual"
+                     else {waveform_impacts(c.name): 1.0})
+            out.extend(c.base() | {
+                "kind": "impact_train", "read_from": read_from, "rate_hz": rate, "spacing_ms": train.spacing_s * 1e3,
+                "periodicity": train.periodicity, "count": train.count, "regularity_cv": train.regularity_cv,
+                "impacts_per_rev": rate / rc.speeds_hz[shaft],
+                "matched_name": name, "matched_component": component, "match_error_pct": err,
+                SIGNS: signs,
+            } for name, component, err in matches)
     return out
 
 

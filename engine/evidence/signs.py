@@ -11,8 +11,10 @@ Names: ``CHANNEL|spectrum|LINE`` (a line of the channel's spectrum, by its
 index: the acceleration and velocity spectra share one grid),
 ``CHANNEL|envelope:VIEW|LINE`` (a line of one squared envelope spectrum),
 ``CHANNEL|waveform`` (the waveform's impulsiveness: kurtosis and crest
-factor), ``CHANNEL|impacts`` (the impact train found in its envelope) and
-``CHANNEL|turns:SHAFT`` (the waveform cut into turns of a shaft).
+factor), ``CHANNEL|impacts`` (the impact train found in its envelope),
+``CHANNEL|impacts:waveform`` (the impact train of its waveform before the
+synchronous parts are taken out) and ``CHANNEL|turns:SHAFT`` (the waveform
+cut into turns of a shaft).
 """
 
 from __future__ import annotations
@@ -38,6 +40,11 @@ def waveform(channel: str) -> str:
 def impacts(channel: str) -> str:
     """The sign of a channel's impact train."""
     return f"{channel}|impacts"
+
+
+def waveform_impacts(channel: str) -> str:
+    """The sign of the impact train of a channel's waveform with its synchronous parts kept."""
+    return f"{channel}|impacts:waveform"
 
 
 def turns(channel: str, shaft: str) -> str:

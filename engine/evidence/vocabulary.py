@@ -153,6 +153,9 @@ FACTS: dict[str, dict[str, F]] = {
         "line_snr_db": F("number", "the modulation frequency itself in the envelope, dB over floor", "dB"),
     },
     "impact_train": CHANNEL_FIELDS | {
+        "read_from": F("string", "the signal the train was read from: residual (the record less its synchronous parts, "
+                       "as the bearing envelope) or waveform (the prewhitened waveform with them, on a geared machine)",
+                       ""),
         "rate_hz": F("number", "impact repetition rate, Hz", "Hz"),
         "spacing_ms": F("number", "impact spacing, ms", "ms"),
         "periodicity": F("number", "normalised autocorrelation of the squared envelope at the spacing, 0 to 1", ""),
@@ -375,6 +378,7 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "tone.family": RATE_FAMILIES,
     "harmonic_series.source": RATE_NAMES,
     "impact_train.matched_name": RATE_NAMES + ("none",),
+    "impact_train.read_from": ("residual", "waveform"),
     "envelope_tone.defect": BEARING_DEFECTS,
     "load_zone_modulation.defect": BEARING_DEFECTS,
     "load_zone_modulation.modulation": ("1X", "FTF"),

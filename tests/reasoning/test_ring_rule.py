@@ -42,7 +42,7 @@ def acquisition(samples_per_cycle: float) -> dict:
 def impacts() -> dict:
     return fact("impact_train", "impact_train-1", channel="P2H", point="P2H", direction="horizontal",
                 location="pump_nde", location_shaft="pump", rate_hz=75.8, spacing_ms=13.2, periodicity=0.6,
-                count=290, regularity_cv=0.01, impacts_per_rev=3.06, matched_name="BPFO",
+                count=290, regularity_cv=0.01, impacts_per_rev=3.06, matched_name="BPFO", read_from="residual",
                 matched_component="pump_nde", match_error_pct=-0.1)
 
 

@@ -249,8 +249,12 @@ SIMULATED = [
     ("belt fan, rotating looseness at the fan", "ef4",
      lambda: as_reading(simulate(_machine("ef4"), "looseness-rotating", "fan", 3, None, 25600.0, 4.0, 1)),
      "belt.sheave-misalignment.against-half-orders"),
-    # a tooth struck once per turn is taken out with the synchronous part when the speed is steady; with a
-    # speed wandering 0.2 % its impacts stay in the waveform the envelope looks at
+    # a tooth struck once per turn leaves the residual with the synchronous part; the rule reads the train of the
+    # waveform with that part kept, at a steady speed and with the speed wandering 0.2 % (the train is not cut
+    # into turns, so a wander that smears the synchronous average does not hide it)
+    ("bevel tooth, steady speed", "ct1",
+     lambda: as_reading(simulate(_machine("ct1"), "gear-tooth", "bevel_stage", 3, None, 25600.0, 4.0, 15)),
+     "gear.tooth.impacts-per-turn"),
     ("bevel tooth, speed wandering 0.2 %", "ct1", _wandering("ct1", "gear-tooth", "bevel_stage", 3, 15, 0.002),
      "gear.tooth.impacts-per-turn"),
     ("two gears on one shaft, the second stage's tooth damaged", "gc1",
