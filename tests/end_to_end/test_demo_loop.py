@@ -37,16 +37,22 @@ def test_the_learning_counts_what_the_fitters_found(looped):
     rules = {r["rule"]: r for r in doc["rules"]}
     # the inner-race load-zone rule fired on the three RW-2 readings of April; the bearing was found spalled
     assert (rules["bearing.inner-race.load-zone"]["n"], rules["bearing.inner-race.load-zone"]["k"]) == (3, 3)
-    # seven findings are far below the evidence a weight needs: nothing moves
-    assert doc["proposal"]["changes"] == [] and "bearing.inner-race.load-zone" in doc["proposal"]["too_little"]
+    assert "bearing.inner-race.load-zone" in doc["proposal"]["too_little"]
+    # the envelope rule fired five times on judged readings: three on April's spalled pump_de, and twice that
+    # April on motor bearings at 8 % (lines the pump's bearings share, not confirmed). Five judged firings are
+    # the fewest a weight learns from; the shipped weight counts as 20 findings: (0.4 x 20 + 3) / 25 = 0.44
+    (change,) = doc["proposal"]["changes"]
+    assert (change["rule"], change["n"], change["k"]) == ("bearing.defect.envelope", 5, 3)
+    assert (change["loaded_weight"], change["learned_weight"]) == pytest.approx((0.4, 0.44))
 
 
 def test_the_next_route_is_made_with_the_rules_as_shipped_and_the_record_is_shown_beside_them(looped):
     root, _ = looped
     text = (root / "learned" / "learned.yaml").read_text()
-    # no weight moves, so the overlay lays no weight on a rule: only the records (kept:), and its comments
+    # one weight moves (the envelope rule's); every other rule keeps its weight and shows its record (kept:)
     body = yaml.safe_load(text)
-    assert "learned" not in body and "rules" not in body
+    assert [(e["rule"], e["weight"]) for e in body["learned"]] == [("bearing.defect.envelope", 0.44)]
+    assert "rules" not in body
     assert "#   shaft.unbalance.radial-1x: confirmed 1 of 1" in text
     kept = {e["rule"]: e for e in body["kept"]}
     assert kept["shaft.unbalance.radial-1x"]["site_record"] == {"confirmed": 1, "judged": 1}
@@ -55,7 +61,7 @@ def test_the_next_route_is_made_with_the_rules_as_shipped_and_the_record_is_show
     doc = json.loads(report.read_text())
     # the weights are the shipped ones; the site's record of each stands beside its firing and its hypothesis
     shown = [f for h in doc["hypotheses"] for f in h.get("support", []) if f.get("site_record")]
-    assert shown and all(f["site_record"]["weight_kept"] == kept[f["rule"]]["why"] for f in shown)
+    assert shown and all(f["site_record"]["weight_kept"] == kept[f["rule"]]["why"] for f in shown if f["rule"] in kept)
     assert doc["verdict"]["site_record"].startswith("weights kept by learning from this site's findings at repair")
     assert all(h["site_record"].endswith("(weight kept)") for h in doc["hypotheses"]
                if any(f.get("site_record") for f in h["support"]))
