@@ -39,7 +39,7 @@ def test_the_learning_counts_what_the_fitters_found(looped):
     assert (rules["bearing.inner-race.load-zone"]["n"], rules["bearing.inner-race.load-zone"]["k"]) == (3, 3)
     assert "bearing.inner-race.load-zone" in doc["proposal"]["too_little"]
     # the envelope rule fired five times on judged readings: three on April's spalled pump_de, and twice that
-    # April on motor bearings at 8 % (lines the pump's bearings share, not confirmed). Five judged firings are
+    # April on the motor's bearings at 8 % (not confirmed). Five judged firings are
     # the fewest a weight learns from; the shipped weight counts as 20 findings: (0.4 x 20 + 3) / 25 = 0.44
     (change,) = doc["proposal"]["changes"]
     assert (change["rule"], change["n"], change["k"]) == ("bearing.defect.envelope", 5, 3)
