@@ -195,6 +195,19 @@ class Cut:
     a_median: float
     covered: bool
 
+    @classmethod
+    def judged(cls, actual: float, median: float, low: float, high: float, act: float) -> Cut:
+        """A cut whose true remaining life is ``actual`` answered by a median, an 80 % interval and an act-by
+        time (hours)."""
+        return cls(float(challenge_score(100 * (actual - act) / actual)),
+                   float(challenge_score(100 * (actual - median) / actual)), low <= actual <= high)
+
+
+def earliest(found: list[tuple[float, float, float, float]], actual: float) -> Cut | None:
+    """The cut judged by the earlier of the points' answers (median, 10th, 90th percentile, act by), as the
+    product answers for a bearing; None when no point answered."""
+    return Cut.judged(actual, *min(found)) if found else None
+
 def answer(samples: list[tuple[np.ndarray, np.ndarray]]) -> tuple[float, float, float, float] | None:
     """(median, 10th, 90th percentile, act by) of the mixture of the weighted samples, each weighted by
     the inverse width of its own 80 % interval."""
@@ -253,12 +266,7 @@ def score_run(histories: dict, run: str, library_runs: list[str], settings: list
                 if got is not None:
                     found[s].append(got)
         for s in settings:
-            if not found[s]:
-                out[s].append(None)
-                continue
-            med, lo, hi_, act = min(found[s])
-            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
-                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
+            out[s].append(earliest(found[s], actual))
     return out
 
 def grid() -> list[Setting]:
@@ -477,12 +485,7 @@ def score_hazard_run(histories: dict, run: str, library_runs: list[str], setting
                 w = np.ones_like(x)
                 found.append((weighted_quantile(x, w, 0.5), weighted_quantile(x, w, 0.1),
                               weighted_quantile(x, w, 0.9), act_by_weighted(x, w)))
-            if not found:
-                out[s].append(None)
-                continue
-            med, lo, hi, act = min(found)
-            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
-                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi))
+            out[s].append(earliest(found, actual))
     return out
 
 def hazard_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -> None:
@@ -831,12 +834,7 @@ def score_levels(histories: dict, run: str, library_runs: list[str], settings: l
                     got = answer([(lives, np.ones(len(lives)))])
                     if got is not None:
                         found.append(got)
-            if not found:
-                out[s].append(None)
-                continue
-            med, lo, hi_, act = min(found)
-            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
-                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
+            out[s].append(earliest(found, actual))
     return out
 
 END_CANDIDATES = ("accel_peak_g", "accel_rms_g", "velocity_rms_mm_s", "kurtosis", "crest_factor")
@@ -1223,12 +1221,7 @@ def score_wiener_run(histories: dict, run: str, library_runs: list[str], setting
                 got = None if lives is None else answer([(lives, np.ones(len(lives)))])
                 if got is not None:
                     found.append(got)
-            if not found:
-                out[s].append(None)
-                continue
-            med, lo, hi_, act = min(found)
-            out[s].append(Cut(float(challenge_score(100 * (actual - act) / actual)),
-                              float(challenge_score(100 * (actual - med) / actual)), lo <= actual <= hi_))
+            out[s].append(earliest(found, actual))
     return out
 
 def wiener_grid() -> list[WienerSetting]:
@@ -1457,8 +1450,7 @@ def judge(raw: GpRaw | None, pits: np.ndarray | None = None) -> Cut | None:
     lives = raw.lives if pits is None or len(pits) == 0 else recalibrated(raw.lives, pits)
     med, lo, hi = (float(np.quantile(lives, q)) for q in (0.5, 0.1, 0.9))
     act = act_by_fine(lives)
-    return Cut(float(challenge_score(100 * (raw.actual - act) / raw.actual)),
-               float(challenge_score(100 * (raw.actual - med) / raw.actual)), lo <= raw.actual <= hi)
+    return Cut.judged(raw.actual, med, lo, hi, act)
 
 def misses(raws: list[GpRaw | None]) -> str:
     """'below, above, width': shares of answered cuts whose actual life fell below the 10th or above the
@@ -1614,8 +1606,7 @@ def pool_judge(c: PoolCut | None, weights: tuple[float, ...]) -> tuple[Cut, floa
         return None
     med, lo, hi = (pool_quantile(c, weights, q) for q in (0.5, 0.1, 0.9))
     act = pool_act_by(c, weights)
-    return (Cut(float(challenge_score(100 * (c.actual - act) / c.actual)),
-                float(challenge_score(100 * (c.actual - med) / c.actual)), lo <= c.actual <= hi), med)
+    return Cut.judged(c.actual, med, lo, hi, act), med
 
 
 def simplex(k: int, step: float) -> list[tuple[float, ...]]:
