@@ -24,7 +24,7 @@ import numpy as np
 
 from ..analysis import Analysis
 from ..analysis.peaks import Peak
-from .matching import SLIP_TOLERANCE, SPEED_TOLERANCE, clear_lines, db, find_lines, tolerance_hz
+from .matching import SLIP_TOLERANCE, SPEED_TOLERANCE, TIE, clear_lines, db, find_lines, tolerance_hz
 from .signs import SIGNS, envelope_line, match_fit
 
 HARMONICS = {"BPFO": 5, "BPFI": 5, "BSF": 5, "FTF": 3}
@@ -157,7 +157,6 @@ def _above_comb(ses, lines, shaft_hz: float, rate_hz: float, found) -> bool:
     return own >= ABOVE_COMB * float(np.median(others))
 
 
-TIE = 0.01              # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
 DEFECT_RANK = {"BPFO": 0, "BPFI": 0, "BSF": 1, "FTF": 2}
 
 

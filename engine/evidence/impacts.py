@@ -5,11 +5,10 @@ from __future__ import annotations
 import numpy as np
 
 from ..analysis import Analysis
-from .matching import SLIP_TOLERANCE, clear_lines
+from .matching import SLIP_TOLERANCE, TIE, clear_lines
 from .signs import SIGNS, envelope_line, impacts, match_fit, turns, waveform_impacts
 
 MATCH_TOLERANCE = 0.03    # rate within 3 % of a forcing frequency (1-2 % slip plus resolution)
-TIE = 0.01                # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
 
 
 def _candidates(rc: Analysis):

@@ -18,6 +18,7 @@ MIN_SNR = 3.0               # a line must stand 3 x (9.5 dB) above its local flo
 SPEED_TOLERANCE = 0.005     # shaft-locked lines after speed refinement: 0.5 %
 UNREFINED_TOLERANCE = 0.02  # without a refined speed: 2 %
 SLIP_TOLERANCE = 0.02       # bearing defect rates slip by 1-2 % (Randall & Antoni 2011)
+TIE = 0.01                  # rates within 1 % of each other cannot be told apart by the match (bearings slip 1-2 %)
 WIDE_FLOOR_FRACTION = 0.15  # a wide floor: the median within +-15 % of the frequency
 WIDE_FLOOR_MIN_LINES = 25
 SHAFT_HARMONICS = 10        # 1X harmonics followed (looseness shows a long series)
