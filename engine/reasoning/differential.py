@@ -62,10 +62,14 @@ def _concludes(rule, fault: str) -> bool:
 def _missing(rulebook: Rulebook, h: Hypothesis, kinds: AbstractSet[str] | None) -> tuple[str, ...]:
     """The leader's corroborating rules that did not fire; with ``kinds`` (the fact kinds the
     diagnosis had), only those whose needed kinds were all there: a rule on 1X phase is not a
-    missing sign when no phase was given, nor one on a coupling when the machine has none."""
+    missing sign when no phase was given, nor one on a coupling when the machine has none. A nudge at
+    the lowest weight (``learning_lowest_weight``: it grades a diagnosis other rules make, as where a
+    twin bearing's lines are heard) is not a missing sign either."""
     fired = {f.rule_id for f in (*h.support, *h.against, *h.same_evidence)}
+    lowest = rulebook.parameters.get("learning_lowest_weight")
+    nudge = lowest.value if lowest is not None else 0.0     # a rulebook that declares no nudge level has none
     return tuple(r.title for r in rulebook.rules
-                 if r.derives is None and r.weight > 0 and r.stage is None and _concludes(r, h.fault)
+                 if r.derives is None and r.weight > nudge and r.stage is None and _concludes(r, h.fault)
                  and r.id not in fired
                  and (kinds is None or all(p.kind in kinds for p in r.needs if not p.counted)))
 

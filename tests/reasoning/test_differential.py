@@ -59,6 +59,20 @@ def test_a_sign_no_input_could_give_is_not_missing():
     assert not set(dx.missing) & phase_titles
 
 
+def test_a_nudge_at_the_lowest_weight_is_not_a_missing_sign():
+    # the twin-bearing rules grade a call other rules make (where two like bearings' lines are heard); on
+    # pump_de, whose 7312 has no twin, their absence says nothing, and the report listed them as "not found"
+    machine = load_machine(RW2)
+    sim = simulate(machine, "inner-race", "pump_de", 2, None, 25600.0, 4.0, 12)
+    book = load_rulebook()
+    d = diagnose(as_reading(sim), machine, Reasoner(book))
+    lowest = book.parameters["learning_lowest_weight"].value
+    nudges = {r.title for r in book.rules if r.derives is None and 0 < r.weight <= lowest}
+    assert any("twin" in r.id for r in book.rules if r.title in nudges)
+    for dx in d.reasoning.differential:
+        assert not set(dx.missing) & nudges, dx.missing
+
+
 def test_the_report_joins_the_settling_measurement(outer_race):
     machine, d = outer_race
     doc = document_of(d)
