@@ -247,8 +247,9 @@ def _local(tasks, settings, workers):
                 for f in done:
                     yield f.result()
         except BaseException:
-            for f in running:
-                f.cancel()
+            # the pool's own thread cancels what has not started: a future cancelled here, while that thread
+            # finds the pool broken (a Ctrl-C reaches the workers too) and fails every pending one, made
+            # Python 3.11's pool print a traceback (InvalidStateError: CANCELLED)
             pool.shutdown(wait=False, cancel_futures=True)
             raise
 
