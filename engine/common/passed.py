@@ -15,7 +15,8 @@ Only a pass is remembered, as an empty file named by the SHA-256 of the key, und
 cache folder (``common.paths.user_cache``); a document with a problem is checked every time,
 so its error is always the validator's own. Nothing read from the folder is ever parsed: a file
 either exists or it does not. A folder that cannot be made or written leaves every check run
-in full, without a word; a remembered pass is written under a temporary name and renamed.
+in full, without a word; a remembered pass is written under a temporary name and renamed. The
+folder is kept to a bounded number of passes (``common.paths.trim``).
 """
 
 from __future__ import annotations
@@ -25,6 +26,8 @@ import os
 from functools import cache
 from importlib.util import find_spec
 from pathlib import Path
+
+from .paths import trim
 
 FORMAT = "tellwave schema pass 1"      # change when the key's make-up changes
 FOLDER = "schema-passes"               # under the user's cache folder
@@ -99,7 +102,8 @@ def remember(name: str | None) -> None:
         part.write_bytes(b"")
         os.replace(part, place / name)
     except OSError:
-        pass
+        return
+    trim(place)
 
 
 __all__ = ["folder", "key", "remember", "remembered"]

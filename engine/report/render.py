@@ -17,7 +17,7 @@ environment keeps the compiled code in the user's cache folder (``common.paths.u
 ``compiled-templates/``): Jinja's bytecode cache, which compiles afresh when the template's text
 changes, under a key that also holds the format, this file (the environment's options), Jinja's
 and Python's versions. A folder that cannot be read or written, or a spoilt file, only means a
-compile.
+compile; the folder is kept to a bounded number of files (``common.paths.trim``).
 """
 
 from __future__ import annotations
@@ -37,7 +37,7 @@ from ..common import escape
 from ..common.errors import UsageError
 from ..common.jsonout import dumps
 from ..common.outfile import write_whole
-from ..common.paths import TEMPLATES, user_cache
+from ..common.paths import TEMPLATES, trim, user_cache
 
 EXTENSIONS = {"text": "txt", "md": "md", "html": "html"}     # a format's template file: NAME.EXT.j2
 _FINALIZE: dict[str | None, Callable] = {"text": escape.text_value, "md": escape.markdown, "html": escape.html_value}
@@ -133,7 +133,8 @@ class CompiledTemplates(jinja2.FileSystemBytecodeCache):
             os.makedirs(self.directory, exist_ok=True)
             super().dump_bytecode(bucket)
         except OSError:
-            pass
+            return
+        trim(Path(self.directory))
 
 
 def _compiled(fmt: str | None) -> CompiledTemplates | None:

@@ -115,3 +115,27 @@ def test_a_site_rulebook_edited_into_an_error_is_refused_after_it_passed(memory,
     site.write_text("rulebook: invented site (demo data)\nparameters:\n  tone_chance_pct: 5\nrules: 12\n")
     with pytest.raises(RulebookError, match="site.yaml:4: rules: expected array"):
         load_rulebook(site)
+
+
+def test_the_folder_is_kept_to_a_bounded_number_of_passes(memory, monkeypatch):
+    """Past the cap the oldest passes go, down to three quarters of it; the newest stay."""
+    import os
+
+    from engine.common import paths
+
+    monkeypatch.setattr(paths, "CACHE_FILES_MOST", 8)
+    names = [f"{i:064x}" for i in range(9)]
+    for i, name in enumerate(names[:8]):
+        passed.remember(name)
+        os.utime(memory / name, ns=(10**9 * (i + 1), 10**9 * (i + 1)))
+    assert len(list(memory.iterdir())) == 8          # at the cap: nothing trimmed
+    passed.remember(names[8])
+    left = sorted(p.name for p in memory.iterdir())
+    assert left == sorted(names[3:])                 # 9 files, trimmed to 6: the three oldest went
+    assert passed.remembered(names[8])
+
+
+def test_trimming_a_folder_that_is_gone_is_no_error(tmp_path):
+    from engine.common.paths import trim
+
+    trim(tmp_path / "never-made", most=1)
