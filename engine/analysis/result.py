@@ -17,7 +17,7 @@ velocity spectrum, Hz everywhere.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 
 import numpy as np
@@ -418,7 +418,7 @@ def _synchronous(accel: np.ndarray, fs: float, rates: Rates, duration_s: float,
                 done[orders[shaft]] = events_of_rows(rows, list(orders[shaft]))
             events = done[orders[shaft]]
             if events is not None:
-                out[shaft] = events
+                out[shaft] = events if turns is None else replace(events, order_tracked=True)
         if len(rows):
             part = synchronous_part(rest, fs, speed_hz)
             rest = np.subtract(rest, part, out=part)      # rest - part, in part's memory

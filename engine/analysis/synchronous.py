@@ -452,6 +452,7 @@ class SynchronousEvents:
     peak_to_rms: float
     peak_angle_deg: float     # of the largest event, from the start of the record
     repeat_fraction: float    # share of turns whose own largest spike is within 36 degrees of it
+    order_tracked: bool = False   # turns cut at a mesh line's tracked angle (the speed wandered), not at one speed
 
 
 def difference_signals(rows: np.ndarray, mesh_orders: list[int]) -> np.ndarray:

@@ -95,7 +95,7 @@ def once_per_rev_event(rc: Analysis) -> list[dict]:
             out.append(c.base() | {
                 "kind": "once_per_rev_event", "shaft": shaft, "revolutions": events.revolutions,
                 "fm4": events.fm4, "peak_to_rms": events.peak_to_rms, "peak_angle_deg": events.peak_angle_deg,
-                "repeat_fraction": events.repeat_fraction,
+                "repeat_fraction": events.repeat_fraction, "order_tracked": events.order_tracked,
                 SIGNS: {turns(c.name, shaft): 1.0},
             })
     return out

@@ -173,6 +173,8 @@ FACTS: dict[str, dict[str, F]] = {
         "peak_to_rms": F("number", "peak over RMS of the TSA difference signal", ""),
         "peak_angle_deg": F("number", "shaft angle of the largest event, degrees from the record start", "deg"),
         "repeat_fraction": F("number", "share of revolutions whose largest spike is within 36 degrees of it", ""),
+        "order_tracked": F("boolean", "the turns were cut at the angle a mesh line's phase gives, the speed "
+                           "having wandered during the record (order tracking), not at one constant speed", ""),
     },
     "direction_ratio": {
         "location": F("string", "bearing or shaft", ""),

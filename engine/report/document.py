@@ -290,10 +290,22 @@ def _differential(dx, reasoning: Reasoning, recs: dict, shown: _Shown) -> dict:
             "settle": list(recs[(dx.fault, dx.component)].confirm)}
 
 
-def speed_text(speed: dict) -> str:
-    """The speed the analysis used, where it came from and how far to trust it, in one sentence."""
+def order_tracked_shafts(evidence: Evidence) -> list[str]:
+    """Shafts whose once-per-turn average followed the speed as it wandered (order tracking)."""
+    return sorted({f["shaft"] for f in evidence.facts
+                   if f.get("kind") == "once_per_rev_event" and f.get("order_tracked")})
+
+
+def speed_text(speed: dict, tracked: list[str] | tuple[str, ...] = ()) -> str:
+    """The speed the analysis used, where it came from and how far to trust it, in one sentence; and,
+    when the speed wandered during the record, a second saying whose turns were order tracked."""
     if not speed:
         return ""
+    if tracked:
+        whose = f"{', '.join(tracked[:-1])} and {tracked[-1]}" if len(tracked) > 1 else tracked[0]
+        return (f"{speed_text(speed)} The speed wandered during the record, so the turns of {whose} were cut "
+                "at the angle of a gear mesh line's phase (order tracking, no tach), not at one speed, before "
+                "their once-per-turn events were read.")
     used = f"{speed['measured_rpm']:.1f} rpm of {speed['shaft']}"
     stated = speed["stated_rpm"]
     against = (f"stated {stated:.0f} rpm" if stated else f"nominal {speed['nominal_rpm']:.0f} rpm")
@@ -473,7 +485,9 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                              for z in advice.zones] + _left_out_rows(reading, evidence)},
         "chain": [_firing(f, worded) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
-        "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "text": speed_text(evidence.speed)},
+        "speed": {**{k: _number(v) for k, v in evidence.speed.items()},
+                  "order_tracked_shafts": order_tracked_shafts(evidence),
+                  "text": speed_text(evidence.speed, order_tracked_shafts(evidence))},
         "data_quality": [{**q, "value": _number(q["value"])} for q in reading.quality],
         "rulebooks": [str(p) for p in reasoning.rulebook_files],
         "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
