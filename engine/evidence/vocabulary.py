@@ -396,6 +396,16 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "drive_link.type": COUPLING_TYPES + ("belt",),
 }
 
+# Fields a rule's pattern on the kind must constrain, with why: facts of one kind read from different
+# signals, where a pattern that leaves the field open sees both and counts one impact train twice
+# (a geared machine's bearing impacts appear in the residual and again in the waveform).
+MUST_CHOOSE: dict[str, tuple[str, str]] = {
+    "impact_train": ("read_from", "impact trains are read from two signals: say read_from: residual (the record "
+                                  "less its synchronous parts, where a bearing's impacts are) or waveform (with "
+                                  "them, where a tooth struck once per turn is)"),
+}
+
+
 def known_values(kind: str, name: str) -> tuple[str, ...] | None:
     """The values field ``name`` of a ``kind`` fact can take, or None when any string can occur
     (ids of points, channels and components, which each machine file names)."""

@@ -38,7 +38,7 @@ from ..common.errors import RulebookError
 from ..common.paths import RULEBOOKS
 from ..common.units import ShownUnits, shown_units
 from ..common.yamlfile import YamlDocument, first_problem, read_yaml
-from ..evidence.vocabulary import FACTS, F, fields_of, known_values
+from ..evidence.vocabulary import FACTS, MUST_CHOOSE, F, fields_of, known_values
 
 SMALLEST_NUMBER = 1e-4   # the rule engine rejects exponent notation: see engine.reasoning.engine
 LARGEST_NUMBER = 1e15
@@ -873,6 +873,8 @@ class _RuleChecker:
             self.fail("a count cannot be inside none_of; use 'at_most: 0'", *where)
         if counted and "at_least" not in raw and "at_most" not in raw:
             self.fail("a count needs at_least or at_most", *where)
+        if kind in MUST_CHOOSE and MUST_CHOOSE[kind][0] not in (raw.get("where") or {}):
+            self.fail(f"{kind}: {MUST_CHOOSE[kind][1]}", *where)
         conditions = []
         for name, spec in (raw.get("where") or {}).items():
             cond = self.condition(fields, name, spec, *where, "where", name)

@@ -46,6 +46,26 @@ def test_a_misspelled_value_is_refused_with_the_nearest_name(tmp_path, where, fi
     assert "s.yaml:6" in text and "rule site.x" in text
 
 
+@pytest.mark.parametrize("where, refused", [
+    ("{periodicity: {at_least: 0.5}}", True),
+    ("{read_from: residual, periodicity: {at_least: 0.5}}", False),
+    ("{read_from: waveform}", False),
+])
+def test_an_impact_train_pattern_must_say_which_signal_it_reads(tmp_path, where, refused):
+    """Bearing impacts on a geared machine are facts twice, from the residual and from the waveform:
+    a site rule that leaves read_from open would count one train twice."""
+    text = ("rulebook: s\nrules:\n  - id: site.imp\n    title: t\n    source: s\n"
+            f"    needs: [{{fact: impact_train, as: i, where: {where}}}]\n"
+            "    concludes: {fault: outer-race, component: i.location}\n"
+            "    certainty: 0.3\n    because: b\n")
+    if not refused:
+        assert load_rulebook(_site(tmp_path, text)).rule("site.imp")
+        return
+    with pytest.raises(RulebookError) as err:
+        load_rulebook(_site(tmp_path, text))
+    assert "read_from: residual" in str(err.value) and "s.yaml:6" in str(err.value) and "site.imp" in str(err.value)
+
+
 def test_a_value_far_from_every_name_lists_them_without_a_guess(tmp_path):
     with pytest.raises(RulebookError) as err:
         load_rulebook(_site(tmp_path, "rulebook: s\nrules:\n" + _rule("site.x", "{name: zzzz}")))
