@@ -569,16 +569,29 @@ class Store:
         for point, rid, taken_at, kept in latest:
             if kept is None:
                 continue
-            rows = []
-            for a in self.db.execute("SELECT point, band, quantity, unit, indicator, alert, danger, source, set_at"
-                                     " FROM alarms WHERE reading_id = ? AND point = ?"
-                                     " ORDER BY band, quantity", (rid, point)):
-                row = dict(a)
-                text = all(isinstance(row[k], str) for k in ("point", "band", "quantity", "unit", "indicator"))
-                if text and _number(row["alert"]) and _number(row["danger"]) and row["alert"] <= row["danger"]:
-                    rows.append(row)
-            out[str(point)] = {"reading": rid, "taken_at": taken_at, "alarms": rows}
+            out[str(point)] = {"reading": rid, "taken_at": taken_at, "alarms": self._alarm_rows(rid, point)}
         return out
+
+    def reading_alarms(self, reading_id: int) -> list[dict] | None:
+        """The site alarms the stored diagnosis of ``reading_id`` judged it by, every point's, as ``alarms``
+        gives them; None for a reading stored before schema 8 (``alarms_kept`` NULL) or not stored."""
+        kept = self.db.execute("SELECT alarms_kept FROM readings WHERE id = ?", (reading_id,)).fetchone()
+        if kept is None or kept[0] is None:
+            return None
+        return self._alarm_rows(reading_id)
+
+    def _alarm_rows(self, reading_id: int, point: str | None = None) -> list[dict]:
+        """The stored alarm rows of a reading (at ``point``, or every point), sorted; a row a damaged store
+        cannot give (a level that is not a number, an alert above its danger, text that is not text) is left out."""
+        rows = []
+        for a in self.db.execute("SELECT point, band, quantity, unit, indicator, alert, danger, source, set_at"
+                                 " FROM alarms WHERE reading_id = ? AND (? IS NULL OR point = ?)"
+                                 " ORDER BY point, band, quantity", (reading_id, point, point)):
+            row = dict(a)
+            text = all(isinstance(row[k], str) for k in ("point", "band", "quantity", "unit", "indicator"))
+            if text and _number(row["alert"]) and _number(row["danger"]) and row["alert"] <= row["danger"]:
+                rows.append(row)
+        return rows
 
     def spectra(self, machine: str, point: str, reading_ids=None) -> list[dict]:
         """The stored readings of ``machine`` at ``point`` (of ``reading_ids``, when given), oldest first: id,

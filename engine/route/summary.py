@@ -123,21 +123,24 @@ def _change(store: Store, machine: str, reading_ids: set[int], top_points: tuple
     return best
 
 
-def _machine_alarms(machine_file: str | None, alarm_files) -> tuple:
-    """The site alarms of the machine of ``machine_file`` with ``alarm_files`` laid over (none if it cannot load)."""
+def _machine_alarms(machine_file: str | None, alarm_files) -> list[dict]:
+    """The site alarms of the machine of ``machine_file`` with ``alarm_files`` laid over, as the store keeps
+    them (none if it cannot load): for readings stored before their alarms were kept with them."""
     from ..common.errors import TellwaveError
     from ..machine import load_machine
     from ..machine.alarms import with_site_alarms
 
     if not machine_file:
-        return ()
+        return []
     try:
-        return with_site_alarms(load_machine(machine_file), alarm_files).alarms
+        alarms = with_site_alarms(load_machine(machine_file), alarm_files).alarms
     except TellwaveError:
-        return ()
+        return []
+    return [{"point": a.point, "band": a.band, "unit": a.unit, "indicator": a.indicator, "alert": a.alert,
+             "danger": a.danger} for a in alarms]
 
 
-def _crossed(alarms, rows: list[dict]) -> list[dict]:
+def _crossed(alarms: list[dict], rows: list[dict]) -> list[dict]:
     """The alarms a stored reading crossed, from its stored indicators (``rows``: its ``Store.history``
     rows, one per channel), danger first."""
     from ..alarms import state_of
@@ -145,17 +148,18 @@ def _crossed(alarms, rows: list[dict]) -> list[dict]:
     out = []
     for r in rows:
         for a in alarms:
-            value = r["indicators"].get(a.indicator)
-            state = state_of(value, a.alert, a.danger) if a.point == r["point"] else None
+            value = r["indicators"].get(a["indicator"])
+            state = state_of(value, a["alert"], a["danger"]) if a["point"] == r["point"] else None
             if state in ("alert", "danger"):
-                out.append({"point": a.point, "band": a.band, "unit": a.unit, "value": round(value, 4),
-                            "alert": a.alert, "danger": a.danger, "state": state})
+                out.append({"point": a["point"], "band": a["band"], "unit": a["unit"], "value": round(value, 4),
+                            "alert": a["alert"], "danger": a["danger"], "state": state})
     return sorted(out, key=lambda x: (x["state"] != "danger", x["point"], x["band"]))
 
 
 def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units: ShownUnits | None = None) -> dict:
-    """The summary document of a finished (or resumed) route; ``alarms``: the route's site alarm files,
-    laid over each machine file's alarms, which flag the readings that crossed one; ``units``: what the
+    """The summary document of a finished (or resumed) route. A reading is flagged by the alarms its stored
+    diagnosis judged it by (kept with it in the store); one stored before they were kept, by ``alarms``,
+    the route's site alarm files laid over its machine file's alarms as they are now; ``units``: what the
     velocity change shows (a broadband level: RMS, in mm/s or in/s; the ``_mm_s`` fields keep mm/s)."""
     units = units or ShownUnits()
     out_dir = Path(out_dir).resolve()
@@ -170,7 +174,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units
             assert row is not None      # its id was just read from the readings
             rows.append((t, row))
     machines: dict[str, dict] = {}
-    limits: dict[str, tuple] = {}
+    limits: dict[str, list[dict]] = {}
     stored: dict[str, dict[int, list[dict]]] = {}
     for task, r in rows:
         tops = store.top_hypothesis(r["id"])
@@ -178,13 +182,15 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units
         points = [c["point"] for c in kept]
         # points whose scale (unit, sensitivity, gain) was not trusted: no level, no zone, severity unknown
         unscaled = [c["point"] or c["channel"] for c in kept if c["scale_trusted"] == 0]
-        if r["machine"] not in limits:
+        judged = store.reading_alarms(r["id"])
+        if judged is None and r["machine"] not in limits:
             limits[r["machine"]] = _machine_alarms(r["machine_file"], alarms)
+        judged = limits[r["machine"]] if judged is None else judged
+        if judged and r["machine"] not in stored:
             stored[r["machine"]] = {}
-            if limits[r["machine"]]:
-                for h in store.history(r["machine"]):
-                    stored[r["machine"]].setdefault(h["id"], []).append(h)
-        crossed = _crossed(limits[r["machine"]], stored[r["machine"]].get(r["id"], []))
+            for h in store.history(r["machine"]):
+                stored[r["machine"]].setdefault(h["id"], []).append(h)
+        crossed = _crossed(judged, stored.get(r["machine"], {}).get(r["id"], []))
         rank, label = urgencies.get(r["urgency"], (len(urgencies), r["urgency"]))
         report = r["report"]
         link = os.path.relpath(report, out_dir) if report else None

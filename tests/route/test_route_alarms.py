@@ -113,7 +113,11 @@ def test_the_route_summary_flags_the_machine_and_reading(tmp_path, site, capsys)
     assert f'<strong class="alarm-danger">{m["alarms_crossed"]} crossed (danger)</strong>' in html
     with Store(tmp_path / "h.sqlite", create=False) as s:
         [row] = s.history(MACHINE, "P2H")
+        judged = s.reading_alarms(row["id"])
     assert row["indicators"]["band[bearing rates]_g"] == pytest.approx(a["value"], rel=1e-3)
+    # the summary's flags are the alarms the stored diagnosis judged by, kept with the reading
+    assert judged is not None
+    assert {("P2H", "bearing rates"), ("P2H", "overall")} <= {(j["point"], j["band"]) for j in judged}
     # a faulty reading is no healthy one: no limit from it
     capsys.readouterr()
     err = one_error_line(capsys, 2, ["alarms", "derive", MACHINE, "--store", tmp_path / "h.sqlite"])
@@ -212,3 +216,16 @@ def test_a_route_stops_on_a_site_file_naming_no_machine_of_it(tmp_path, capsys):
                                      "--workers", "1", "--quiet", "--alarms", typo])
     assert f"{typo}:2: machines: no machine 'RW-2 raw-water pump' in this run; did you mean '{MACHINE}'?" in err, err
     assert not (tmp_path / "h.sqlite").exists() and not (tmp_path / "out").exists()
+
+
+def test_a_reading_stored_before_its_alarms_were_kept_has_none_to_give(tmp_path):
+    """Schema 8 keeps a reading's alarms; one stored before (alarms_kept NULL) says it has none known,
+    and the route summary then judges it by the alarm files as they are now."""
+    route = _route(tmp_path / "old", 1, ("outer-race", "pump_nde", 3))
+    assert _run(route, tmp_path) == 0
+    with Store(tmp_path / "h.sqlite", create=False) as s:
+        [row] = s.history(MACHINE, "P2H")
+        assert s.reading_alarms(row["id"]) is not None
+        s.db.execute("UPDATE readings SET alarms_kept = NULL WHERE id = ?", (row["id"],))
+        assert s.reading_alarms(row["id"]) is None
+        assert s.reading_alarms(10**6) is None
