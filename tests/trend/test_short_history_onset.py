@@ -183,6 +183,21 @@ def test_the_stored_history_reads_right_end_to_end(tmp_path):
     assert "not a time to wait" in text
 
 
+def test_which_time_governs_names_the_velocity_projection_in_the_shown_units(tmp_path):
+    from engine.common.units import shown_units
+
+    with Store(tmp_path / "h.sqlite") as store:
+        for i in range(5):
+            store.add(_record(i, (datetime(2026, 5, 3, 9) + timedelta(days=31 * i)).isoformat(), PEAK_G[i], RMS_G[i],
+                              0.9, "act-now"))
+        doc = trend_document(store, MACHINE, point="P1H", units=shown_units(None, "in/s-peak"))
+    (p,) = doc["points"]
+    g = p["governs"]
+    shown = p["projections"][g["projection"]]
+    assert g["limit_label"] == shown["limit_label"] and "in/s" in g["limit_label"]
+    assert p["healthy_baseline"]["holds_faulty"]          # called faulty from the first reading on
+
+
 def _entry(days=150.0, peak=(0.1, 0.12)):
     return {"projections": [{"indicator": "velocity_rms_mm_s", "label": "velocity, mm/s RMS", "projected": True,
                              "method": "CUSUM", "days": days, "limit_label": "zone boundary A/B (1.4 mm/s)"}],
