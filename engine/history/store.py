@@ -516,6 +516,16 @@ class Store:
             top["certainty"] = None
         return top
 
+    def confident_calls(self, machine: str, at_least: float) -> list[dict]:
+        """Every hypothesis of ``machine``'s stored readings at a certainty of ``at_least`` or more that names a
+        component, oldest reading first: reading_id, taken_at, fault, fault_name, component, certainty (a
+        damaged certainty, text or outside -1..1, is no call)."""
+        rows = self.db.execute("SELECT r.id AS reading_id, r.taken_at, h.fault, h.fault_name, h.component, h.certainty"
+                               " FROM hypotheses h JOIN readings r ON r.id = h.reading_id WHERE r.machine = ?"
+                               " AND h.component IS NOT NULL ORDER BY r.taken_at, r.id, h.rank", (machine,))
+        return [dict(r) for r in rows if _number(r["certainty"]) and at_least <= r["certainty"] <= 1.0
+                and _iso_time(r["taken_at"])]
+
     def channels_of(self, reading_id: int) -> list[dict]:
         """The stored channels of a reading: channel, point, scale_trusted (0: levels not kept)."""
         return [dict(r) for r in self.db.execute("SELECT channel, point, scale_trusted FROM channels"

@@ -48,6 +48,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
         doc = document_of(d, plot_channels=plot_channels)
         if link.doc is not None:
+            link.govern(doc["verdict"]["urgency"])
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,
                            machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording,

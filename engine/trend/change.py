@@ -42,15 +42,19 @@ def is_db(indicator: str) -> bool:
     return indicator.endswith("_db")
 
 
-def baseline_count(n: int) -> int:
+def baseline_count(n: int, healthy: int | None = None) -> int:
     """How many of the first readings form the baseline: 3, or a quarter of a long history, at most 10,
-    and never the latest (0 for a single reading: it has no baseline)."""
-    return max(0, min(n - 1, max(BASELINE_MIN, min(BASELINE_MAX, n // 4))))
+    and never the latest (0 for a single reading: it has no baseline); at most the ``healthy`` first
+    readings when some are known healthy (``baseline``)."""
+    k = max(0, min(n - 1, max(BASELINE_MIN, min(BASELINE_MAX, n // 4))))
+    return min(k, healthy) if healthy else k
 
 
-def baseline(values: np.ndarray) -> float | None:
-    """The machine's own baseline: the median of the first readings of a series (None for one reading)."""
-    k = baseline_count(len(values))
+def baseline(values: np.ndarray, healthy: int | None = None) -> float | None:
+    """The machine's own baseline: the median of the first readings of a series (None for one reading);
+    ``healthy``: how many of the first readings are healthy (those before the first confident fault call at
+    the point; None or 0: not known, the first readings as they are), the baseline is made of those only."""
+    k = baseline_count(len(values), healthy)
     return float(np.median(values[:k])) if k else None
 
 
@@ -67,15 +71,16 @@ class Change:
     rate_readings: int = 0
 
 
-def change_of(s: Series, since: int = 0, min_readings: int | None = None) -> Change:
+def change_of(s: Series, since: int = 0, min_readings: int | None = None, healthy: int | None = None) -> Change:
     """Latest against baseline (the change), and the least-squares slope of the latest ``RATE_READINGS``
     readings from reading ``since`` on (the rate): two different things, which can differ in sign when
     a level rose and is now falling back.
 
-    ``min_readings``: readings needed for a percent change (default ``min_change_readings()``).
+    ``min_readings``: readings needed for a percent change (default ``min_change_readings()``); ``healthy``: the
+    first readings known healthy, the baseline's (``baseline``).
     """
     need = min_change_readings() if min_readings is None else min_readings
-    base = baseline(s.values)
+    base = baseline(s.values, healthy)
     latest = float(s.values[-1])
     rate = None
     first = max(since, len(s) - RATE_READINGS)
@@ -91,7 +96,8 @@ def change_of(s: Series, since: int = 0, min_readings: int | None = None) -> Cha
     pct = None
     if change is not None and base is not None and base > 0 and len(s) >= need and not is_db(s.indicator):
         pct = 100.0 * change / base
-    return Change(base, latest, change, pct, rate, len(s), baseline_count(len(s)), len(days) if rate is not None else 0)
+    return Change(base, latest, change, pct, rate, len(s), baseline_count(len(s), healthy),
+                  len(days) if rate is not None else 0)
 
 
 @dataclass(frozen=True)

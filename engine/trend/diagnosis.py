@@ -17,7 +17,7 @@ from collections import defaultdict
 from ..history.record import indicators_of, is_level
 from .facts import trend_facts
 from .repairs import repairs_of
-from .report import fault_names, trend_from_rows
+from .report import fault_calls, fault_names, governing, trend_from_rows
 from .shown import trend_in_units
 
 
@@ -73,11 +73,20 @@ class HistoryLink:
                                         if k in have[r["point"] or r["channel"]]}} for r in earlier]
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
+        # the earlier readings diagnosed faulty at a confident certainty are not healthy baseline
+        calls = fault_calls(self.store, self.machine.name, self.machine)
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
-                              plot_units=self.units, alarms=alarm_rows)
+                              plot_units=self.units, alarms=alarm_rows, calls=calls)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
         return trend_facts(doc)
+
+    def govern(self, urgency: dict | None) -> None:
+        """Say at each point whether this diagnosis's urgency (``verdict.urgency``: id, label, within), or an
+        acceleration risen many-fold, governs over a velocity projection (``report.governing``); the trend was
+        made before the diagnosis had an urgency."""
+        for p in (self.doc or {}).get("points", []):
+            p["governs"] = governing(p, urgency)
 
     def shown_in(self, units) -> dict | None:
         """The trend section in ``units`` (``ShownUnits``, those the link was made with) for the report: a

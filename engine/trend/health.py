@@ -41,6 +41,8 @@ class HealthSettings:
     source: str
     single_in_row: int = 0       # single readings in a row out of their own band (0: that test is off)
     single_slower_than_days: float = 0.0   # the single test only where readings_in_row readings span longer
+    rise_ratio: float = 0.0      # a rise this many times the healthy level, where no band can be made (0: off)
+    rise_in_row: int = 2         # ... by this many of the latest single readings in a row
 
 
 def read_settings(path) -> HealthSettings:
@@ -75,7 +77,9 @@ def read_settings(path) -> HealthSettings:
                           str(h.get("source", "")),
                           number("onset", "single_in_row", 0, 100, True) if "single_in_row" in o else 0,
                           float(number("onset", "single_slower_than_days", 0, 3650))
-                          if "single_slower_than_days" in o else 0.0)
+                          if "single_slower_than_days" in o else 0.0,
+                          float(number("onset", "rise_ratio", 0, 1e6)) if "rise_ratio" in o else 0.0,
+                          number("onset", "rise_in_row", 1, 100, True) if "rise_in_row" in o else 2)
 
 
 @cache

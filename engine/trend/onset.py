@@ -13,6 +13,12 @@ in a row find a clear rise within a few readings, where the mean would first hav
 (on a monthly route the smoothed test alone needs 14 surveys). A burst of fewer single readings
 than ``single_in_row`` declares nothing by the second test, and the first needs a run longer than
 its window.
+
+Where no healthy band can be made yet (fewer readings than it needs, or fewer healthy readings: those before
+the first confident fault call at the point's bearing, ``healthy``), a third test stands in: the latest
+``rise_in_row`` single readings all ``rise_ratio`` times their healthy level or more (an order of magnitude,
+far past any healthy scatter; the settings and their source are in onset.yaml) declare degradation under way.
+Without that, "too few to tell" stays the answer.
 """
 
 from __future__ import annotations
@@ -31,6 +37,7 @@ class Onset:
     early: int               # readings that made the band
     band_high: float         # upper edge of the healthy band, in the indicator's (log) units
     reason: str
+    fold: float | None = None   # declared by the rise test: the latest reading in times its healthy level
 
 
 def early_count(n: int, s: HealthSettings) -> int:
@@ -72,15 +79,42 @@ def _declared(v: np.ndarray, m: int, run: int, k: int, band_high: float, onset_h
                                        f"at reading {start + 1} and stayed out {run} readings in a row")
 
 
+def _risen(y: np.ndarray, healthy: int, s: HealthSettings, words: str) -> Onset | None:
+    """Degradation under way by the rise test: the latest ``rise_in_row`` values of ``y`` (logs) all at least
+    ``rise_ratio`` times the healthy level, the median of the first readings before them (at most
+    ``early_min``, none of them past ``healthy``); None when they are not, or no reading is left for the level."""
+    n, run = len(y), s.rise_in_row
+    b = min(s.early_min, healthy, n - run)
+    if s.rise_ratio <= 1 or b < 1:
+        return None
+    level = float(np.median(y[:b]))
+    high = level + float(np.log(s.rise_ratio))
+    if not np.all(y[n - run:] >= high):
+        return None
+    start = n - run
+    while start > 1 and y[start - 1] >= high:        # back to where the readings first stood that high
+        start -= 1
+    early = min(b, start)                             # the healthy level: the readings before the rise only
+    fold = float(np.exp(y[-1] - float(np.median(y[:early]))))
+    return Onset(start, early, high, f"degradation under way: the latest {run} single readings stand "
+                                     f"{s.rise_ratio:g} times their healthy level (the median of the first {b}) or "
+                                     f"more, from reading {start + 1}; the latest is {fold:.0f} times the level of the "
+                                     f"{early} reading(s) before ({words}: the rise test stands in for the healthy "
+                                     "band)", fold)
+
+
 def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = None, *,
-                          single: np.ndarray | None = None, days: np.ndarray | None = None) -> Onset:
+                          single: np.ndarray | None = None, days: np.ndarray | None = None,
+                          healthy: int | None = None) -> Onset:
     """The first reading of the first run of ``readings_in_row`` readings of the (smoothed) health
     indicator above its healthy band, or of ``single_in_row`` single readings above theirs
     (``single``: the log of the single readings at the same readings; None, or readings close enough in
     time (``days``, see ``single_test_needed``): the smoothed test alone),
     as the rule would have declared it reading by reading: at each new reading the bands are made of
     that history's early readings, and the first declaration stands (a band that widens as the
-    history grows never takes back a start already declared)."""
+    history grows never takes back a start already declared). ``healthy``: how many of the first readings
+    may make the band (those before the first confident fault call; None: any); where the band cannot be
+    made, the rise test (``_risen``) stands in."""
     s = settings or shipped_settings()
     x = np.asarray(health, float)
     n = len(x)
@@ -90,14 +124,21 @@ def first_predicting_time(health: np.ndarray, settings: HealthSettings | None = 
     fewest = min(row, one) if one else row
     words = f"{row} in a row of the {s.smooth_readings}-reading mean" + (f", or {one} single readings in a row,"
                                                                       if one else "")
-    if n < early_count(n, s) + fewest:
+    cap = n if healthy is None else max(0, min(int(healthy), n))
+    capped = cap < min(n, s.early_min)        # readings called faulty leave too few for the band
+    if n < early_count(n, s) + fewest or capped:
         k = early_count(n, s)
-        return Onset(None, min(k, n), float("nan"),
-                     f"{n} reading(s): too few to tell whether degradation has begun (the healthy band needs "
-                     f"{k}, then {words} out of it)")
+        few = (f"only {cap} healthy reading(s), before the first confident fault call: too few for a healthy "
+               f"band (it needs {s.early_min})" if capped else
+               f"{n} reading(s): too few to tell whether degradation has begun (the healthy band needs "
+               f"{k}, then {words} out of it)")
+        why = (f"only {cap} healthy reading(s) before the first confident fault call" if capped else
+               f"{n} reading(s) are too few for a healthy band")
+        risen = _risen(np.asarray(single if single is not None else x, float), cap, s, why)
+        return risen or Onset(None, min(k, n, cap), float("nan"), few)
     k, high, high1 = 0, float("nan"), float("nan")
     for m in range(1, n + 1):             # the history as it stood after reading m
-        k = early_count(m, s)
+        k = min(early_count(m, s), cap)
         if m < k + fewest:
             continue
         high = _band(x, k, s)

@@ -69,6 +69,7 @@ class Projection:
     fit_values: tuple[float, ...] = ()
     act_by_days: float | None = None     # the time to act on (best expected score; Bayesian path)
     prior: str = ""                      # which prior the Bayesian path used
+    risen_fold: float | None = None      # degradation declared by the rise test: latest over the healthy level
 
     @property
     def seconds(self) -> float | None:
@@ -125,7 +126,8 @@ def _crossing(line: _Line, level: float, q: float) -> tuple[float, float, float 
 
 def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
             growth: str = "auto", *, health: np.ndarray | None = None, indicator: str = "",
-            priors: dict[str, Prior] | None = None, single: np.ndarray | None = None) -> Projection:
+            priors: dict[str, Prior] | None = None, single: np.ndarray | None = None,
+            healthy: int | None = None) -> Projection:
     """Time from the last reading until the indicator reaches ``limit``.
 
     ``days``: times of the readings (any origin); ``growth``: exponential
@@ -135,7 +137,8 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
     single readings, unsmoothed (the onset rule's second test; default: of ``values`` when ``health``
     is made of them, else that test is off);
     ``indicator``: the stored name, to find its prior among ``priors``
-    (default: the shipped ones).
+    (default: the shipped ones); ``healthy``: how many of the first readings may make the healthy band
+    (those before the first confident fault call; None: any; ``onset.first_predicting_time``).
     """
     from scipy.stats import t as student
 
@@ -151,7 +154,8 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
     if values[-1] >= limit:
         return Projection(limit, limit_label, 0.0, 0.0, 0.0, "reached", "the last reading is at or past the limit")
     if growth == "exponential":
-        return exponential_life(days, values, limit, limit_label, health, indicator, priors, single)[0]
+        return exponential_life(days, values, limit, limit_label, health, indicator, priors, single,
+                                healthy=healthy)[0]
     if n < MIN_FIT_READINGS:
         return none(f"{n} reading(s); at least {MIN_FIT_READINGS} are needed")
     phi = 0.0
@@ -200,7 +204,7 @@ def project(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str
 def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_label: str,
                      health: np.ndarray | None, indicator: str,
                      priors: dict[str, Prior] | None,
-                     single: np.ndarray | None = None) -> tuple[Projection, Life | None]:
+                     single: np.ndarray | None = None, *, healthy: int | None = None) -> tuple[Projection, Life | None]:
     """The Bayesian exponential model's projection and the remaining-life draws it rests on (None when
     there is no projection): what ``project(..., growth="exponential")`` gives, with the draws for a
     bench that weighs them against another method's (bench/femto_compare.py)."""
@@ -209,11 +213,13 @@ def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_l
         hi, single = smooth_log(values, settings.smooth_readings), smooth_log(values, 1)
     else:
         hi = np.asarray(health, float)
-    on = first_predicting_time(hi, settings, single=single, days=days)
+    on = first_predicting_time(hi, settings, single=single, days=days, healthy=healthy)
     method = "first predicting time, then Bayesian exponential model"
     if on.index is None:
         return Projection(limit, limit_label, None, None, None, "first predicting time", on.reason), None
     phi = float(np.median(values[:on.early]))
+    # declared by the rise test: how many times its healthy level this indicator now stands
+    fold = None if on.fold is None else float(values[-1] / phi) if phi > 0 else on.fold
     if not limit > phi:
         return Projection(limit, limit_label, None, None, None, method,
                           f"the limit {limit:g} is not above the healthy level {phi:.4g}", on.index), None
@@ -221,7 +227,7 @@ def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_l
     if len(t) < MIN_BAYES_READINGS:
         return Projection(limit, limit_label, None, None, None, method,
                           f"{len(t)} reading(s) since degradation began; {MIN_BAYES_READINGS} are needed",
-                          on.index), None
+                          on.index, risen_fold=fold), None
     floor = 0.1 * phi if phi > 0 else max(1e-12, 0.1 * float(np.max(np.abs(values))))
     tau = t - t[0]
     log_y = np.log(np.maximum(y - phi, floor))
@@ -245,8 +251,8 @@ def exponential_life(days: np.ndarray, values: np.ndarray, limit: float, limit_l
         return Projection(limit, limit_label, None, None, None, method,
                           f"the model does not reach the limit within {HORIZON_FACTOR:g} times the time since "
                           f"degradation began (growth {post.mean[1]:.3g} per day in log units)", on.index,
-                          fit_days, fit_values, prior=used), None
+                          fit_days, fit_values, prior=used, risen_fold=fold), None
     reason = (f"{on.reason}; {len(t)} reading(s) since; median and {CONFIDENCE:.0%} interval "
               f"(10th to 90th percentile) of the time the model reaches the limit; {rate}; prior: {used}")
     return Projection(limit, limit_label, life.median, life.low, life.high, method, reason, on.index,
-                      fit_days, fit_values, act_by_days=act_by(life), prior=used), life
+                      fit_days, fit_values, act_by_days=act_by(life), prior=used, risen_fold=fold), life

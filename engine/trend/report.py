@@ -16,7 +16,7 @@ import numpy as np
 from .. import __version__
 from ..common.units import ShownUnits
 from .change import RATE_READINGS, change_of, is_db, iso_change, min_change_readings
-from .health import choose, health_of
+from .health import choose, health_of, shipped_settings
 from .projection import CONFIDENCE, Projection, project
 from .repairs import Repair, repairs_of, reset_of
 from .series import Series, series_by_point
@@ -84,14 +84,18 @@ def _projection(p: Projection, s: Series) -> dict:
             "date": when(p.days), "low_date": when(p.low_days),
             "high_date": when(p.high_days), "method": p.method, "reason": p.reason,
             "onset": None if p.onset_index is None else s.times[p.onset_index].isoformat(timespec="minutes"),
-            "readings_since_onset": None if p.onset_index is None else len(s) - p.onset_index}
+            "readings_since_onset": None if p.onset_index is None else len(s) - p.onset_index,
+            "risen_fold": _round(p.risen_fold, 1)}
 
 
 def _project(s: Series, limit: float, label: str, source: Series | None,
-             learned: StorePrior | None = None) -> Projection:
+             learned: StorePrior | None = None, healthy_until: datetime | None = None) -> Projection:
     """Project ``s`` to ``limit`` (the point's health indicator, made of ``source``, telling when degradation
     began), with the guard that a fit has more readings than its model's parameters; ``learned``: what the
-    store's own histories gave for this indicator (its prior replaces the shipped one)."""
+    store's own histories gave for this indicator (its prior replaces the shipped one); ``healthy_until``: the
+    first confident fault call at the point (``first_fault_call``): only readings before it make the healthy
+    band. Degradation found by the rise test (``onset._risen``) with too few readings since to fit says
+    how many times its healthy level the indicator stands, and to act on the diagnosis."""
     def too_few(n, what):
         return Projection(limit, label, None, None, None, "too few readings",
                           f"{n} reading(s) {what}; a fit needs more readings than the {MODEL_PARAMETERS} "
@@ -108,13 +112,58 @@ def _project(s: Series, limit: float, label: str, source: Series | None,
     source = None if acceleration_band(s.indicator) else source
     p = project(s.days, s.values, limit, label, growth_of(s.indicator), indicator=s.indicator,
                 health=None if source is None else health_of(source, s), priors=priors,
-                single=None if source is None else health_of(source, s, single=True))
+                single=None if source is None else health_of(source, s, single=True),
+                healthy=_healthy_count(s, healthy_until))
     if learned is not None and learned.prior is None and p.prior:
         p = replace(p, prior=f"{p.prior} ({learned.note})", reason=f"{p.reason} ({learned.note})")
-    if p.projected and p.method != "reached" and p.onset_index is not None \
-            and n - p.onset_index < MIN_PROJECTION_READINGS:
+    if p.onset_index is not None and n - p.onset_index < MIN_PROJECTION_READINGS and p.method != "reached" \
+            and (p.projected or p.risen_fold is not None):
+        if p.risen_fold is not None:
+            rise = shipped_settings()
+            return Projection(limit, label, None, None, None, p.method,
+                              f"degradation under way from reading {p.onset_index + 1} (the rise test: the latest "
+                              f"{rise.rise_in_row} single readings of the health indicator {rise.rise_ratio:g} times "
+                              f"their healthy level or more); too few readings to project ({n - p.onset_index} since "
+                              f"the rise began, a fit needs at least {MIN_PROJECTION_READINGS}), but the "
+                              f"{s.label.split(',')[0]} has risen {p.risen_fold:.0f}-fold over its healthy level: "
+                              "act on the diagnosis",
+                              p.onset_index, risen_fold=p.risen_fold)
         return too_few(n - p.onset_index, "since the rise began")
     return p
+
+
+def _healthy_count(s: Series, until: datetime | None) -> int | None:
+    """How many of the first readings of ``s`` were taken before ``until`` (None: not known, or none: the
+    first reading was already called faulty, and the baseline cannot leave it out)."""
+    if until is None:
+        return None
+    k = sum(1 for t in s.times if _naive(t) < until)
+    return k or None
+
+
+def first_fault_call(calls: list[dict] | None, point: str, reset: Repair | None) -> dict | None:
+    """The first confident fault call (``fault_calls``) on a component ``point`` sees, after its last repair."""
+    mine = [c for c in calls or () if point in c["points"] and (reset is None or reset.is_after(c["taken_at"]))]
+    return min(mine, key=lambda c: c["taken_at"]) if mine else None
+
+
+def fault_calls(store, machine_name: str, machine) -> list[dict]:
+    """The confident fault calls (certainty at ``reasoning.CONFIDENT`` or more) the store holds for
+    ``machine_name`` on a bearing of ``machine`` (an ``engine.machine.Machine``; None: not known, no call),
+    oldest first, each with the points at the bearing (``repairs.points_seeing``): readings from the first
+    call on are not healthy baseline."""
+    from ..reasoning import CONFIDENT
+    from .repairs import points_seeing
+
+    if machine is None:
+        return []
+    bearings = {b.id for b in machine.bearings}
+    out = []
+    for c in store.confident_calls(machine_name, CONFIDENT):
+        points = points_seeing(machine, c["component"]) if c["component"] in bearings else None
+        if points:
+            out.append({**c, "points": list(points)})
+    return sorted(out, key=lambda c: c["taken_at"])
 
 
 def _since(s: Series, repair: Repair) -> Series:
@@ -309,8 +358,9 @@ def _alarm_row(a: dict, s: Series) -> dict:
             "judged": a.get("judged") or ""}
 
 
-def _indicator(name: str, s: Series, u: Series | None) -> dict:
-    """One indicator of a point: baseline, latest, change and rate over the readings used (``u``)."""
+def _indicator(name: str, s: Series, u: Series | None, until: datetime | None = None) -> dict:
+    """One indicator of a point: baseline, latest, change and rate over the readings used (``u``); the baseline
+    of the readings taken before ``until`` (the first confident fault call) when there are some."""
     before = len(s) - (0 if u is None else len(u))
     entry: dict = {"name": name, "label": s.label, "readings": 0 if u is None else len(u),
                    "readings_before_repair": before,
@@ -319,7 +369,7 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
                    "change_db": None, "rate_per_month": None, "rate_readings": 0, "unit": "dB" if is_db(name) else ""}
     if u is None or not len(u):
         return entry
-    c = change_of(u)
+    c = change_of(u, healthy=_healthy_count(u, until))
     entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
                  change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_figures(c.rate_per_month),
                  rate_readings=c.rate_readings,
@@ -327,10 +377,63 @@ def _indicator(name: str, s: Series, u: Series | None) -> dict:
     return entry
 
 
+def _healthy_baseline(call: dict | None, until: datetime | None, s: Series) -> dict | None:
+    """What the point's baseline leaves out: the readings from the first confident fault call on (None: no call)."""
+    if call is None or until is None:
+        return None
+    k = sum(1 for t in s.times if _naive(t) < until)
+    return {"reading": call["reading_id"], "taken_at": call["taken_at"], "fault": call["fault"],
+            "fault_name": call["fault_name"] or call["fault"], "component": call["component"],
+            "certainty": _round(call["certainty"], 3), "healthy_readings": k, "holds_faulty": k == 0,
+            "why": (f"the baseline is the {k} reading(s) before {call['taken_at'][:10]}, when "
+                    f"{call['fault_name'] or call['fault']} on {call['component']} was first called at "
+                    f"{100 * call['certainty']:.0f} %: readings diagnosed faulty are not healthy" if k else
+                    f"the first reading was already called {call['fault_name'] or call['fault']} on "
+                    f"{call['component']} at {100 * call['certainty']:.0f} %: no healthy reading, so the baseline "
+                    "holds faulty readings")}
+
+
+ACCELERATION = ("accel_peak_g", "accel_rms_g")     # the levels a bearing's damage multiplies first
+
+
+def governing(entry: dict, urgency: dict | None, opens: dict[str, float] | None = None) -> dict | None:
+    """Which time governs at a point whose velocity is projected to a zone boundary (or a limit) months away, when the
+    diagnosis of its latest reading (``urgency``: id, label, within) opens its window sooner
+    (``window_opens_days`` of rulebooks/advice/severity.yaml, ``opens``), or an acceleration level has risen
+    ``rise_ratio`` times its baseline or more (onset.yaml): the sooner of diagnosis and trend. None when
+    neither, or no velocity projection is given (the soonest is named)."""
+    zone = [x for x in entry["projections"] if x["indicator"] == "velocity_rms_mm_s" and x["projected"]
+            and x["method"] != "reached" and x["days"] is not None]
+    if not zone:
+        return None
+    x = min(zone, key=lambda z: z["days"])
+    at = next(i for i, z in enumerate(entry["projections"]) if z is x)
+    if opens is None:
+        from ..advice import load_advice
+        opens = load_advice().get("window_opens_days") or {}
+    because = []
+    last = max(opens.values(), default=0.0)       # the normal survey interval's opening: no step of action
+    if urgency and urgency.get("id") in opens and opens[urgency["id"]] < min(last, x["days"]):
+        because.append(f"the diagnosis of the latest reading says {urgency['label']} ({urgency['within']})")
+    ratio = shipped_settings().rise_ratio
+    folds = [(i["latest"] / i["baseline"], i["label"].split(",")[0]) for i in entry["indicators"]
+             if i["name"] in ACCELERATION and i["baseline"] and i["latest"] is not None and i["baseline"] > 0]
+    fold, what = max(folds, default=(0.0, ""))
+    if ratio > 1 and fold >= ratio:
+        because.append(f"the {what} has risen {fold:.0f}-fold over its baseline (degradation under way: "
+                       f"{ratio:g}-fold or more, onset.yaml rise_ratio)")
+    if not because:
+        return None
+    return {"by": "diagnosis" if because[0].startswith("the diagnosis") else "trend", "because": because,
+            "label": x["label"], "limit_label": x["limit_label"], "days": x["days"], "fold": _round(fold, 1) or None,
+            "projection": at}
+
+
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
                     learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
-                    plot_units: ShownUnits | None = None, alarms: list[dict] | None = None) -> dict:
+                    plot_units: ShownUnits | None = None, alarms: list[dict] | None = None,
+                    calls: list[dict] | None = None, urgency: dict[str, dict] | None = None) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
     they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
@@ -341,6 +444,11 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     ``alarms``: the site's alarms (point, band, unit, indicator, alert, danger; ``engine.alarms`` results or
     ``alarm_rows``): each point's indicator with an alarm there is projected to its danger level, and the
     point shows the alarm's levels and the readings that passed them.
+    ``calls``: the store's confident fault calls on the machine's bearings (``fault_calls``): at each point,
+    the readings from the first call on (after its last repair) are not healthy baseline, and the point says so
+    (``healthy_baseline``). ``urgency``: point -> the urgency (id, label, within) of the diagnosis of its latest
+    reading: with an acceleration risen many-fold, it says whether a velocity projection to a zone boundary
+    is the time that governs (``governing``).
     """
     from ..advice import zone_of
 
@@ -357,13 +465,15 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         used = {n: u for n, u in used.items() if len(u)}
         indicators, projections = [], {}
         source = choose(by_name)
+        call = first_fault_call(calls, pt, reset)
+        until = None if call is None else _naive(datetime.fromisoformat(call["taken_at"]))
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
             if name in by_name:
-                indicators.append(_indicator(name, by_name[name], used.get(name)))
+                indicators.append(_indicator(name, by_name[name], used.get(name), until))
         iso = None
         if "velocity_rms_mm_s" in used:
             s = used["velocity_rms_mm_s"]
-            c = change_of(s)
+            c = change_of(s, healthy=_healthy_count(s, until))
             ic = iso_change(c, scale.bc)
             if ic is not None and c.baseline is not None:
                 iso = {"baseline_mm_s": _round(c.baseline, 3), "latest_mm_s": _round(c.latest, 3),
@@ -372,18 +482,19 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                        "baseline_zone": zone_of(c.baseline, scale)}
             target = _next_boundary(c.latest, scale)
             if target is not None:
-                projections[s.indicator] = _project(s, target[0], target[1], source)
+                projections[s.indicator] = _project(s, target[0], target[1], source, healthy_until=until)
         for name, limit in limits.items():
             if name in used:
                 s = used[name]
                 key = name if name not in projections else f"{name}@limit"
-                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source, (learned or {}).get(name))
+                projections[key] = _project(s, limit, f"limit {name} = {limit:g}", source, (learned or {}).get(name),
+                                            until)
         here = [a for a in alarms or [] if a["point"] == pt and a["indicator"] in by_name]
         for a in here:
             name = a["indicator"]
             if name in used and f"{name}@alarm" not in projections:
                 projections[f"{name}@alarm"] = _project(used[name], float(a["danger"]), _alarm_label(a), source,
-                                                        (learned or {}).get(name))
+                                                        (learned or {}).get(name), until)
         ref = next(iter(by_name.values()))
         since = used[ref.indicator] if ref.indicator in used else None
         entry = {"point": pt, "direction": direction, "readings": len(ref), "first": ref.times[0].isoformat(),
@@ -397,7 +508,9 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "fault_name": reset.fault_name, "work_order": reset.work_order,
                      "from": reset.after.isoformat(), "readings_after": 0 if since is None else len(since),
                      "readings_before": len(ref) - (0 if since is None else len(since)),
-                     "every_point": reset.points is None}}
+                     "every_point": reset.points is None},
+                 "healthy_baseline": _healthy_baseline(call, until, since if since is not None else ref)}
+        entry["governs"] = governing(entry, (urgency or {}).get(pt))
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
                                     plot_units or units, here)
@@ -408,7 +521,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             "zone_scale": {"group": scale.group, "support": scale.support, "ab_mm_s": scale.ab, "bc_mm_s": scale.bc,
                            "cd_mm_s": scale.cd, "assumed": scale.assumed},
             "baseline": "median of the first readings (3, or a quarter of a long history, at most 10; never the "
-                        f"latest), after the last repair at the point; a percent change from {min_change_readings()} "
+                        "latest), after the last repair at the point and before the first confident fault call on "
+                        f"its bearing; a percent change from {min_change_readings()} "
                         "readings on, a dB quantity's change in dB",
             "rate": f"per month: the least-squares slope of the latest {RATE_READINGS} readings (the present "
                     "direction; the change compares the latest with the baseline, so the two can differ in sign)",
@@ -480,6 +594,22 @@ def _band_limits(limits: dict[str, float], rows: list[dict], point: str | None, 
     return out
 
 
+def latest_urgency(readings: list[dict]) -> dict[str, dict]:
+    """point -> the urgency step (id, label, within) of the diagnosis of the latest stored reading at it
+    (``Store.readings`` rows, oldest first); a step not on the shipped scale is left out."""
+    from ..advice import load_advice
+
+    steps = {u["id"]: u for u in load_advice()["urgency"]}
+    out: dict[str, dict] = {}
+    for r in readings:
+        for pt in r.get("points") or ():
+            if r.get("urgency") in steps:
+                out[pt] = {k: steps[r["urgency"]][k] for k in ("id", "label", "within")}
+            else:
+                out.pop(pt, None)
+    return out
+
+
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
                    plots: bool = False, names: dict[str, str] | None = None, waterfall: bool = False,
                    compare: tuple[int, int] | None = None, units: ShownUnits | None = None) -> dict:
@@ -504,8 +634,12 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     repairs = _repairs(store, machine, readings, names, known)
     scale, file_alarms = _machine_file(files[-1] if files else None, known)
     alarms = judged_alarms(store.alarms(machine), file_alarms, {r["point"] or r["channel"] for r in rows})
+    from .repairs import machine_of
+
     doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms,
                           point=point, plots=plots, repairs=repairs, units=units,
+                          calls=fault_calls(store, machine, machine_of(files[-1] if files else None, known)),
+                          urgency=latest_urgency(readings),
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
                                                      else _repairs(store, m, store.readings(m), names, known)))
     doc["store"] = str(store.path)

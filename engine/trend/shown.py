@@ -84,6 +84,9 @@ def trend_in_units(doc: dict, units: ShownUnits) -> dict:
             line = x["indicator"] in LINES
             x["label"] = x["label"].replace("mm/s RMS", units.velocity_label(line))
             x["limit_label"] = velocity_words(boundary_label(x["limit_label"], x["limit"], units, line), units)
+        if p.get("governs"):                # the projection it names, in the shown units
+            x = p["projections"][p["governs"]["projection"]]
+            p["governs"]["label"], p["governs"]["limit_label"] = x["label"], x["limit_label"]
         for a in p.get("alarms", []):       # a velocity alarm's levels and values (stored in mm/s RMS)
             if a["unit"] != "mm/s RMS":
                 continue
