@@ -260,7 +260,7 @@ FACTS: dict[str, dict[str, F]] = {
     "data_quality": {
         "channel": F("string", "channel name", ""),
         "issue": F("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, out_of_range, "
-                             "implausible_level, implausible_spectrum, too_short", ""),
+                             "implausible_level, implausible_spectrum, implausible_slope, too_short", ""),
         "value": F("number", "size of the problem (its unit depends on the issue)", ""),
         "blocking": F("boolean", "the channel could not be analysed", ""),
         "corrupting": F("boolean", "the issue makes the channel's samples false, not just its scale ("
