@@ -207,6 +207,8 @@ FACTS: dict[str, dict[str, F]] = {
         "speed_refined": F("boolean", "the running speed was found from 1X harmonics", ""),
         "speed_rpm": F("number", "running speed used, of the shaft named in speed_shaft", "rpm"),
         "speed_shaft": F("string", "shaft the running speed refers to", ""),
+        "unplaced_channels": F("integer", "analysed channels that name no measurement point", ""),
+        "unplaced_names": F("string", "those channels' names, comma separated ('' when every channel names one)", ""),
     },
     "speed_check": {
         "shaft": F("string", "shaft the speeds refer to", ""),

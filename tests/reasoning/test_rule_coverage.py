@@ -212,6 +212,8 @@ SIMULATED = [
     ("one of two channels that name no point clipped", "bw1",
      _unplaced("bw1", "unbalance", 2, 2, 1, lambda x, t: np.clip(x, -0.3 * np.abs(x).max(), 0.3 * np.abs(x).max())),
      "reading.signal.channel-left-out-unplaced"),
+    ("channels that name no point, none changed", "bw1",
+     _unplaced("bw1", "outer-race", 3, 2, -1, lambda x, t: x), "reading.channels.unplaced"),
     ("gain 1000 times", "bw1", _every_channel("bw1", "unbalance", 2, 2,
                                               lambda ch: dataclasses.replace(ch, samples=ch.samples * 1000)),
      "reading.levels.implausible"),
