@@ -217,5 +217,6 @@ def test_the_band_edge_reason_reads_as_a_span_of_lines():
     # the reason names the span the lines fall across: 10 Hz / 1.25 Hz = 8 lines (ISO 20816-3 band from
     # 10 Hz, from memory, check-values.md)
     p = _proposal(RW2, "P1H", "severity")
-    assert "puts 8.0 lines across the 10 Hz from 0 Hz up to the ISO band's lower edge (at least 4)" in p.reasons["lines"]
+    reason = p.reasons["lines"]
+    assert "puts 8.0 lines across the 10 Hz from 0 Hz up to the ISO band's lower edge (at least 4)" in reason
     assert "above 0 Hz" not in p.reasons["lines"]
