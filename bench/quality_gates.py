@@ -15,8 +15,9 @@ exit code is 1 when a run breaks it). Clipping, drift and a sample rate
 stated at half its value still withhold.
 
 Part 2 runs the reading gates over every single record of the shared
-datasets as published and counts the issues each gate raises: on clean
-public data the clipping and plausibility gates should stay silent.
+datasets as published, and every FEMTO snapshot, and counts the issues each
+gate raises: on clean public data the clipping and plausibility gates
+(velocity stated as g among them) should stay silent.
 
     python -m bench.quality_gates [--datasets PATH] [--no-scan]
 """
@@ -170,6 +171,12 @@ def records(datasets: Path):
             data = np.loadtxt(path, delimiter=",", skiprows=1, ndmin=2)
             for i in range(data.shape[1]):
                 yield f"{row['path']}:{i}", data[:, i], fs
+    # the FEMTO / PRONOSTIA snapshots (0.1 s at 25.6 kHz, horizontal and vertical acceleration in g; their
+    # README in ../shared/datasets): a second rig's accelerometers, new to worn out, for the shape gates
+    for path in sorted((datasets / "femto" / "learning").glob("*/acc_*.csv")):
+        data = np.loadtxt(path, delimiter=",", ndmin=2)
+        for i, direction in ((4, "horizontal"), (5, "vertical")):
+            yield f"femto/{path.parent.name}/{path.name}:{direction}", data[:, i], 25600.0
 
 
 def scan(datasets: Path, progress=print) -> Counter:
@@ -180,7 +187,7 @@ def scan(datasets: Path, progress=print) -> Counter:
         ch = Channel(name, x * 9.80665, "acceleration", "g")
         kinds = [q.kind for q in check_channel(ch, fs)]
         counts.update(kinds)
-        if set(kinds) & {"clipping", "implausible_level", "implausible_spectrum", "out_of_range"}:
+        if set(kinds) & {"clipping", "implausible_level", "implausible_spectrum", "implausible_slope", "out_of_range"}:
             progress(f"  flagged {name}: {', '.join(kinds)}")
     counts["channels scanned"] = channels
     return counts

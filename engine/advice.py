@@ -247,7 +247,8 @@ def _site_todo(todo, machine: Machine, family: str, data: dict) -> tuple[dict, t
 
 
 def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies,
-               scale: ScaleCheck | None = None, site_advice: dict | None = None) -> Recommendation:
+               scale: ScaleCheck | None = None, site_advice: dict | None = None,
+               points_unknown: bool = False) -> Recommendation:
     if site_advice and h.fault in site_advice:
         todo, oil = _site_todo(site_advice[h.fault], machine, h.family, data)
     else:
@@ -260,6 +261,8 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
     if h.stage is not None:       # stages are told by patterns, which no scale changes
         candidates.append(urgencies[data["stage_urgency"][h.stage]])
         severity = f"damage stage {h.stage} of 4: {data['stages'][h.stage]}"
+        if points_unknown:
+            severity += f" ({data['stage_points_unknown']})"
     elif own is not None:         # the fault's own measure: a ratio, which no scale changes either
         candidates.append(urgencies[own.urgency])
         condition = (scale.severity if scale is not None
@@ -449,7 +452,9 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         limitations = tuple(f.because for h in problems if not h.withholds and not h.fault.startswith("settings-")
                             for f in h.support)
     else:
-        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice) for h in shown)
+        points_unknown = any(h.fault == "points-unknown" and h.confident for h in problems)
+        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice, points_unknown)
+                     for h in shown)
         # the trend's reasons to act sooner (rulebooks/time-to-act.yaml): each finding seen at the point, and
         # the diagnosis; never later than it was
         raises = urgency_raises(reasoning, data, urgencies)

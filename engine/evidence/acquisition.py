@@ -68,6 +68,7 @@ def acquisition(rc: Analysis) -> list[dict]:
     centres = [c.kurtogram.best.centre_hz for c in rc.channels if c.kurtogram is not None]
     centre = max(centres) if centres else 0.0
     rates = rc.rates
+    unplaced = [c.name for c in rc.channels if c.point is None]
     return [{
         "kind": "acquisition", "sample_rate_hz": fs, "fmax_hz": fmax, "lines": int(rc.n_samples / FMAX_FACTOR),
         "resolution_hz": fs / rc.n_samples, "duration_s": rc.duration_s,
@@ -84,6 +85,7 @@ def acquisition(rc: Analysis) -> list[dict]:
         "envelope_centre_hz": centre, "samples_per_cycle": fs / centre if centre > 0 else 0.0,
         "speed_refined": rc.speed_estimate.refined,
         "speed_rpm": rc.speed_estimate.speed_hz * 60, "speed_shaft": rc.speed_shaft,
+        "unplaced_channels": len(unplaced), "unplaced_names": ", ".join(unplaced),
     }]
 
 

@@ -209,6 +209,8 @@ FACTS: dict[str, dict[str, F]] = {
         "speed_refined": F("boolean", "the running speed was found from 1X harmonics", ""),
         "speed_rpm": F("number", "running speed used, of the shaft named in speed_shaft", "rpm"),
         "speed_shaft": F("string", "shaft the running speed refers to", ""),
+        "unplaced_channels": F("integer", "analysed channels that name no measurement point", ""),
+        "unplaced_names": F("string", "those channels' names, comma separated ('' when every channel names one)", ""),
     },
     "speed_check": {
         "shaft": F("string", "shaft the speeds refer to", ""),
@@ -262,7 +264,7 @@ FACTS: dict[str, dict[str, F]] = {
     "data_quality": {
         "channel": F("string", "channel name", ""),
         "issue": F("string", "clipping, dc_offset, drift, dropout, nonfinite, dead, out_of_range, "
-                             "implausible_level, implausible_spectrum, too_short", ""),
+                             "implausible_level, implausible_spectrum, implausible_slope, too_short", ""),
         "value": F("number", "size of the problem (its unit depends on the issue)", ""),
         "blocking": F("boolean", "the channel could not be analysed", ""),
         "corrupting": F("boolean", "the issue makes the channel's samples false, not just its scale ("

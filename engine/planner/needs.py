@@ -179,7 +179,7 @@ def _severity(machine, point, speeds, policy, targets):
     return [
         Need("severity", "fmax", f"the top of the ISO 20816-3 band ({hi:g} Hz)", hi, "weakens", gate,
              f"the overall level counts {lo:g}-{hi:g} Hz; what lies above Fmax is left out", source="iso_band_hz"),
-        Need("severity", "resolution", f"the ISO band's lower edge ({lo:g} Hz) above 0 Hz", lo, "weakens", gate,
+        Need("severity", "resolution", f"the {lo:g} Hz from 0 Hz up to the ISO band's lower edge", lo, "weakens", gate,
              "the window's leakage from 0 Hz must stay out of the band",
              lines=policy.lines_below_band_edge, source="lines_below_band_edge"),
     ]

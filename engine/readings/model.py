@@ -16,7 +16,7 @@ class QualityIssue:
     """
 
     kind: str          # clipping, dc_offset, drift, dropout, nonfinite, dead, out_of_range,
-                       # implausible_level, implausible_spectrum, too_short
+                       # implausible_level, implausible_spectrum, implausible_slope, too_short
     channel: str
     message: str
     value: float

@@ -62,13 +62,35 @@ PLAUSIBLE_VELOCITY_MM_S = (1e-3, 100.0)
 SHAPE_SPLIT_HZ = 1000.0
 SHAPE_HIGH_FRACTION = 0.5
 
+# Plausible slope: an acceleration record whose spectrum looks like a velocity record's. Velocity is
+# acceleration divided by 2 pi f (handbook formula), so a velocity signal's spectrum falls 20 dB per
+# decade of frequency relative to the same vibration's acceleration, and its energy gathers at the
+# shaft's low orders. Two signs must both hold, each of which a real accelerometer can show alone:
+# - its floor (the median line of a band, which the machine's discrete lines do not move) falls more than
+#   SLOPE_FALL_DB_PER_DECADE from SLOPE_LOW_HZ to the bearing band. An accelerometer's floor (its own noise,
+#   a machine's broadband friction, flow and impact energy) mostly stays level or rises toward the mounted
+#   resonance (common practice): on the real records of bench/real_data.py (CWRU, MFPT, HIT-SM) it falls
+#   by at most 11 dB per decade, but some FEMTO snapshots' floors fall by up to 26;
+# - less than SLOPE_HIGH_FRACTION of its energy lies above SHAPE_SPLIT_HZ: on those real records at least
+#   60 %, on every FEMTO snapshot at least 8.5 % (measured with this module; bench/quality_gates.py scans
+#   them), while a velocity record keeps a few percent or less there.
+# Judged only where the bearing band reaches an octave above SLOPE_HIGH_HZ[0] below 0.8 x the Nyquist
+# frequency (an anti-alias filter's roll-off starts near there). A falling floor alone also fits an
+# accelerometer on a hand-held probe, whose response falls above its mounted resonance (1-2 kHz):
+# the report says so among what to check.
+SLOPE_LOW_HZ = (100.0, 1000.0)
+SLOPE_HIGH_HZ = (2000.0, 10000.0)
+SLOPE_USABLE_NYQUIST = 0.8
+SLOPE_FALL_DB_PER_DECADE = 15.0
+SLOPE_HIGH_FRACTION = 0.05
+
 
 # Issues that doubt only the size of a channel's samples (a wrong unit, sensitivity, gain or
 # scale), not their shape: a wrong scale multiplies every sample by one factor, which moves
 # no line in frequency and changes no ratio, no height over a local floor, no kurtosis and
 # no crest factor. The channel's absolute levels are not measurements (its evidence leaves
 # them out, it gets no ISO zone); what does not depend on the scale is still diagnosed.
-SCALE_ISSUES = ("implausible_level", "implausible_spectrum")
+SCALE_ISSUES = ("implausible_level", "implausible_spectrum", "implausible_slope")
 
 
 def scale_doubts(issues) -> dict[str, tuple[str, ...]]:
@@ -126,6 +148,7 @@ ISSUE_NAMES = {
     "clipping": "clipping", "dc_offset": "DC offset", "drift": "slow drift", "dropout": "dropouts",
     "nonfinite": "samples that are not numbers", "dead": "dead channel", "out_of_range": "outside any sensor's range",
     "implausible_level": "implausible level", "implausible_spectrum": "implausible spectrum",
+    "implausible_slope": "spectrum falls as velocity does",
     "too_short": "record too short",
 }
 
@@ -312,17 +335,24 @@ def _plausibility(ch: Channel, ac: np.ndarray, size: float, fs_hz: float) -> lis
     spectrum = np.fft.rfft(ac)        # one FFT for both gates; the level's band RMS is band_rms.py's
     issues = []
     if ch.quantity in ("velocity", "displacement"):
-        power = np.abs(spectrum) ** 2
-        total = float(power[1:].sum())
-        split = int(np.searchsorted(np.fft.rfftfreq(n, 1.0 / fs_hz), SHAPE_SPLIT_HZ, side="right"))
-        high = float(power[split:].sum())
-        del power
-        if total > 0 and high / total > SHAPE_HIGH_FRACTION:
+        high = _fraction_above(spectrum, n, fs_hz, SHAPE_SPLIT_HZ)
+        if high > SHAPE_HIGH_FRACTION:
             issues.append(QualityIssue(
                 "implausible_spectrum", ch.name,
-                f"{100 * high / total:.0f} % of this {ch.quantity} signal's energy lies above "
+                f"{100 * high:.0f} % of this {ch.quantity} signal's energy lies above "
                 f"{SHAPE_SPLIT_HZ:.0f} Hz, where {ch.quantity} transducers and the ISO band stop: most likely "
-                f"acceleration stated as {ch.unit}", high / total))
+                f"acceleration stated as {ch.unit}", high))
+    if ch.quantity == "acceleration":
+        falls = floor_fall_db_per_decade(ac, fs_hz)
+        if falls is not None and falls > SLOPE_FALL_DB_PER_DECADE:
+            high = _fraction_above(spectrum, n, fs_hz, SHAPE_SPLIT_HZ)
+            if high < SLOPE_HIGH_FRACTION:
+                issues.append(QualityIssue(
+                    "implausible_slope", ch.name,
+                    f"the spectrum's floor falls {falls:.0f} dB per decade from {SLOPE_LOW_HZ[0]:.0f}-"
+                    f"{SLOPE_LOW_HZ[1]:.0f} Hz to the bearing band and only {100 * high:.1f} % of the energy lies "
+                    f"above {SHAPE_SPLIT_HZ:.0f} Hz, as in a velocity signal: most likely velocity stated as "
+                    f"{ch.unit} (or an accelerometer on a hand-held probe)", falls))
     if LEVEL_BAND_HZ[0] > fs_hz / 2:
         return issues
     velocity_mm_s = band_rms_of_fft(spectrum, n, fs_hz, LEVEL_BAND_HZ[0], min(LEVEL_BAND_HZ[1], fs_hz / 2),
@@ -336,6 +366,39 @@ def _plausibility(ch: Channel, ac: np.ndarray, size: float, fs_hz: float) -> lis
             f"check the unit ({ch.unit}), the sensor's sensitivity and the recorder's gain or scale",
             velocity_mm_s))
     return issues
+
+
+def _fraction_above(spectrum: np.ndarray, n: int, fs_hz: float, split_hz: float) -> float:
+    """The fraction of a record's AC energy above ``split_hz``, from its ``rfft`` (``n`` samples); 0 for none."""
+    power = np.abs(spectrum) ** 2
+    total = float(power[1:].sum())
+    split = int(np.searchsorted(np.fft.rfftfreq(n, 1.0 / fs_hz), split_hz, side="right"))
+    return float(power[split:].sum()) / total if total > 0 else 0.0
+
+
+def floor_fall_db_per_decade(x: np.ndarray, fs_hz: float) -> float | None:
+    """How many dB per decade the floor of ``x`` falls from ``SLOPE_LOW_HZ`` to the bearing band
+    (``SLOPE_HIGH_HZ`` capped at ``SLOPE_USABLE_NYQUIST`` x fs/2): positive when it falls. None when the
+    record cannot tell (the bearing band spans less than an octave, or a band holds no line).
+
+    The floor of a band is the median of its Hann-windowed amplitude lines (the window keeps a tall low
+    line's leakage out of the high band); the slope is taken between the bands' middles, where the median
+    line of a spectrum that falls or rises steadily lies (its lines are evenly spaced in frequency).
+    """
+    top = min(SLOPE_HIGH_HZ[1], SLOPE_USABLE_NYQUIST * fs_hz / 2)
+    if top < 2 * SLOPE_HIGH_HZ[0] or x.size < 16:
+        return None
+    amp = np.abs(np.fft.rfft((x - x.mean()) * np.hanning(x.size)))
+    freq = np.fft.rfftfreq(x.size, 1.0 / fs_hz)
+    low = amp[(freq >= SLOPE_LOW_HZ[0]) & (freq < SLOPE_LOW_HZ[1])]
+    high = amp[(freq >= SLOPE_HIGH_HZ[0]) & (freq < top)]
+    if not low.size or not high.size:
+        return None
+    low_floor, high_floor = float(np.median(low)), float(np.median(high))
+    if low_floor <= 0 or high_floor <= 0:
+        return None
+    decades = np.log10((SLOPE_HIGH_HZ[0] + top) / (SLOPE_LOW_HZ[0] + SLOPE_LOW_HZ[1]))
+    return float(20 * np.log10(low_floor / high_floor) / decades)
 
 
 def check_resolution(duration_s: float, channel: str, resolution_hz: float) -> list[QualityIssue]:

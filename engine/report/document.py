@@ -236,6 +236,10 @@ def _scale(advice: Advice, evidence: Evidence) -> dict:
         reasons.append(f"{_names(shape)} {'holds' if len(shape) == 1 else 'hold'} most of "
                        f"{'its' if len(shape) == 1 else 'their'} energy above 1 kHz, as no velocity or displacement "
                        "record does (acceleration stated in the wrong unit, most likely)")
+    if slope := having("implausible_slope"):
+        reasons.append(f"{_names(slope)} {'falls' if len(slope) == 1 else 'fall'} with frequency as a velocity "
+                       "record does, with almost no energy above 1 kHz, as no accelerometer on a machine gives "
+                       "(velocity stated as acceleration, most likely, or an accelerometer held on a probe)")
     one = len(check.channels) == 1
     text = (f"Severity is unknown until the scale is checked: {'; '.join(reasons)}. "
             f"{'That channel gets' if one else 'Those channels get'} no ISO 20816-3 zone and no severity from a "

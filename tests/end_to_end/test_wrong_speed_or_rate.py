@@ -119,3 +119,32 @@ def test_a_rate_stated_half_is_named_when_four_half_orders_stand(tmp_path, capsy
     assert "reading.speed.half-orders-dominate" in text and "sample rate" in text
     confident = {(h["fault"], h["component"]) for h in doc["hypotheses"] if h["certainty"] >= CONFIDENT}
     assert code == EXIT_WITHHELD or confident <= {RECORDS["cwru-105"][1]}
+
+
+@pytest.fixture(scope="module")
+def pump_outer_race(tmp_path_factory):
+    """The demo pump RW2 (tellwave's simulator) with a stage-3 outer race on pump_nde, 25.6 kHz, 4 s."""
+    from support import CASES
+    path = tmp_path_factory.mktemp("speed") / "rw2.wav"
+    assert main(["synth", str(CASES / "machines/rw2-raw-water-pump.yaml"), "-o", str(path), "--fault", "outer-race",
+                 "--component", "pump_nde", "--stage", "3", "--seed", "11"]) == 0
+    return path
+
+
+def test_a_stated_speed_5_percent_off_either_way_is_corrected_or_explained(pump_outer_race, capsys):
+    # nu27 item 15. 5 % high puts the true speed 1/1.05 - 1 = -4.8 % from the stated one, within the 5 % a stated
+    # speed is corrected within; 5 % low puts it 1/0.95 - 1 = +5.3 % away, beyond it (arithmetic). The first is
+    # corrected with a warning; the second is withheld, and its message names the spectrum's speed and says why.
+    from support import CASES
+    machine = str(CASES / "machines/rw2-raw-water-pump.yaml")
+    true_rpm = 1486.0                                    # the machine file's nominal speed, which synth runs at
+    capsys.readouterr()
+    high = main(["diagnose", str(pump_outer_race), "--machine", machine, "--rpm", f"{1.05 * true_rpm:.0f}",
+                 "--format", "json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert high == 0 and "speed-differs" in {p["fault"] for p in doc["reading_problems"]}
+    low = main(["diagnose", str(pump_outer_race), "--machine", machine, "--rpm", f"{0.95 * true_rpm:.0f}"])
+    out = capsys.readouterr().out
+    assert low == EXIT_WITHHELD
+    assert f"The spectrum gives {true_rpm:.0f} rpm" in " ".join(out.split())
+    assert "one 5 % below, which puts it 5.3 % above, is not" in " ".join(out.split())

@@ -210,3 +210,13 @@ def test_settings_that_cover_every_proposal_show_everything():
     lims = [lim for lim in check(RW2, s, POLICY) if lim.effect != "view" and lim.setting != "twin"]
     targets = [t for p in RW2.points for u in purposes_at(RW2, p) for t in targets_at(RW2, p, u)]
     assert all(v.state == CAN for v in verdicts(targets, lims)), [lim.what for lim in lims]
+
+
+def test_the_band_edge_reason_reads_as_a_span_of_lines():
+    # nu27 item 21: "puts 6.4 lines across the ISO band's lower edge (2 Hz) above 0 Hz" was hard to parse;
+    # the reason names the span the lines fall across: 10 Hz / 1.25 Hz = 8 lines (ISO 20816-3 band from
+    # 10 Hz, from memory, check-values.md)
+    p = _proposal(RW2, "P1H", "severity")
+    reason = p.reasons["lines"]
+    assert "puts 8.0 lines across the 10 Hz from 0 Hz up to the ISO band's lower edge (at least 4)" in reason
+    assert "above 0 Hz" not in p.reasons["lines"]

@@ -97,6 +97,14 @@ def _unplaced(key, fault, stage, seed, n, change):
                           for i, ch in enumerate(r.channels)])
     return make
 
+def _integrated(x, fs_hz):
+    """Acceleration to velocity: each line divided by 2 pi f (handbook formula), below 2 Hz left out."""
+    spectrum = np.fft.rfft(x - x.mean())
+    freq = np.fft.rfftfreq(x.size, 1.0 / fs_hz)
+    spectrum[freq < 2.0] = 0.0
+    spectrum[freq >= 2.0] /= 2j * np.pi * freq[freq >= 2.0]
+    return np.fft.irfft(spectrum, x.size)
+
 def _every_channel(key, fault, stage, seed, change):
     def make():
         r = as_reading(_sim(key, fault, stage, seed))
@@ -204,6 +212,8 @@ SIMULATED = [
     ("one of two channels that name no point clipped", "bw1",
      _unplaced("bw1", "unbalance", 2, 2, 1, lambda x, t: np.clip(x, -0.3 * np.abs(x).max(), 0.3 * np.abs(x).max())),
      "reading.signal.channel-left-out-unplaced"),
+    ("channels that name no point, none changed", "bw1",
+     _unplaced("bw1", "outer-race", 3, 2, -1, lambda x, t: x), "reading.channels.unplaced"),
     ("gain 1000 times", "bw1", _every_channel("bw1", "unbalance", 2, 2,
                                               lambda ch: dataclasses.replace(ch, samples=ch.samples * 1000)),
      "reading.levels.implausible"),
@@ -211,6 +221,9 @@ SIMULATED = [
      _every_channel("bw1", "outer-race", 4, 2, lambda ch: dataclasses.replace(
          ch, quantity="velocity", unit="mm/s", samples=ch.samples * 1e-3)),
      "reading.levels.spectrum-for-unit"),
+    ("velocity stated as acceleration", "bw1",
+     _every_channel("bw1", "unbalance", 2, 2, lambda ch: dataclasses.replace(
+         ch, samples=_integrated(ch.samples, 25600.0))), "reading.levels.slope-for-unit"),
     ("support soft horizontally", "rw2", _softer_horizontally("rw2", "unbalance", 3, 3, "M2V", 0.25),
      "shaft.looseness.directional shaft.unbalance.against-directional"),
     ("gear misaligned, 2 x GMF axial", "ct1", _axial_twice_mesh("ct1", "gear-wear", 2, 3, "GINA", 0.5),
