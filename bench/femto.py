@@ -38,6 +38,7 @@ from __future__ import annotations
 
 import argparse
 import json
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -49,6 +50,7 @@ from engine.trend import project
 from engine.trend.degradation import PRIOR_FILE_NAME, Prior, challenge_score, learn_prior
 from engine.trend.health import monotonicity, prognosability, shipped_settings, smooth_log, trendability
 from engine.trend.onset import first_predicting_time
+from engine.trend.pool import regular
 
 ROOT = Path(__file__).resolve().parent.parent
 DATA = ROOT.parent / "shared" / "datasets" / "femto" / "learning"
@@ -203,20 +205,6 @@ def health_table(histories: dict) -> None:
                   f"{prognosability(hs):8.2f}")
 
 
-def regular(t: np.ndarray) -> np.ndarray:
-    """Which readings to learn from: the shared excerpt keeps every tenth snapshot and then the last 20
-    (10 s apart), so a fit over every reading weighs the last 200 s as much as the half hour before;
-    keep readings at least 0.9 of the usual spacing apart, and the last (where the test stopped)."""
-    keep = np.zeros(len(t), bool)
-    step = 0.9 * float(np.median(np.diff(t)))
-    last = -np.inf
-    for i, x in enumerate(t):
-        if x - last >= step:
-            keep[i], last = True, x
-    keep[-1] = True
-    return keep
-
-
 def degradation_after_onset(h: dict, indicator: str = LIMITED) -> tuple[np.ndarray, np.ndarray] | None:
     """(days since the first predicting time, log(y - healthy level)) of one point's whole run,
     on its regular readings (y: ``indicator``, the acceleration peak unless named)."""
@@ -264,7 +252,24 @@ def write_prior(histories: dict, path: Path) -> None:
         "noise_var": round(p.noise_var, 6), "autocorrelation": round(p.autocorrelation, 6),
         "reading_interval_s": round(p.reading_interval_days * 86400.0, 3),
         "histories_used": p.runs}}}
-    head = ("# Prior of the exponential degradation model (engine/trend/degradation.py), by indicator.\n"
+    from bench.femto_compare import PoolInputs, pool_prior_from
+    from engine.trend.pool import pool_document
+
+    lives_h = {r: max(max(h[LIMITED][0]) for h in histories[r].values()) / 3600.0 for r in runs}
+    pool = pool_prior_from(PoolInputs(histories, runs, lives_h), tuple(runs))
+    pool = replace(pool, name=f"shipped pool prior learned from {len(runs)} accelerated laboratory run-to-failure "
+                              f"tests lasting 1 to 8 hours (rulebooks/trend/{PRIOR_FILE_NAME}, section pool)")
+    doc.update(pool_document(pool, (
+        f"learned by bench/femto.py --write-prior from the same {len(runs)} histories (engine/trend/pool.py): "
+        "gp.end_levels: each point's trailing mean at the run's end, log ratio to its healthy level; "
+        "gp.growths_per_h: each point's least-squares growth of that log ratio since its first predicting time; "
+        "gp.calibration: the PIT values of the GP's answers at bench.femto's cuts of each run, the GP learned "
+        "from the other runs (Kuleshov et al. 2018); hazards: the Weibull proportional-hazards setting in "
+        "bearing form with the best mean score over the runs, each scored with a library of the rest, fitted "
+        "by maximum likelihood on every run (Jardine, Anderson & Mann 1987); end_level: the tests were "
+        "stopped when the acceleration passed 20 g")))
+    head = ("# Prior of the exponential degradation model (engine/trend/degradation.py), by indicator, and the\n"
+            "# pool's prior (engine/trend/pool.py, section pool).\n"
             "# Written by `python -m bench.femto --write-prior`; do not edit by hand, learn it again.\n")
     tmp = path.with_suffix(".tmp")
     tmp.write_text(head + yaml.safe_dump(doc, sort_keys=False, width=110))
