@@ -102,7 +102,7 @@ from engine.trend.pool import (
     healthy_level,
     level_ratio,
     pool_of,
-    principal_parts,
+    predictive_parts,
     recalibrated,
     recent_slope,
 )
@@ -1181,7 +1181,7 @@ def score_gp(histories: dict, run: str, library_runs: list[str], settings: list[
                 key = (run, ci, pt, s.indicator, tuple(library_runs), sd)
                 if key not in cache:
                     g = gp_predictive_since_onset(days, v, hi, (float(np.mean(grow)), sd))
-                    cache[key] = None if g is None else (g[0], *principal_parts(g[1], g[2]))
+                    cache[key] = None if g is None else predictive_parts(g)
                 if cache[key] is None:
                     continue
                 above = max(passed.values()) if s.ends == "run" else passed[pt]

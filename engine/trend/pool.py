@@ -170,7 +170,7 @@ def condition_from(points: list[tuple[np.ndarray, np.ndarray]], upto_s: float = 
         ratio, on = ratio_and_onset(t[k], v[k])
         if on is not None:
             onsets.append(on)
-        if base is None:
+        if base is None or z is None:
             base, z = t[k], ratio
         else:       # each reading of the first point takes the other point's latest reading not after it
             idx = np.clip(np.searchsorted(t[k], base, side="right") - 1, 0, len(ratio) - 1)
@@ -372,8 +372,18 @@ def principal_parts(mean: np.ndarray, cov: np.ndarray) -> tuple[np.ndarray, np.n
     order = np.argsort(w)[::-1]
     w, vec = np.maximum(w[order], 0.0), vec[:, order]
     total = float(np.sum(w))
-    k = 1 if total <= 0 else int(min(GP_MAX_MODES, np.searchsorted(np.cumsum(w) / total, GP_MODES) + 1))
+    k = 1 if total <= 0 else min(GP_MAX_MODES, int(np.searchsorted(np.cumsum(w) / total, GP_MODES)) + 1)
     return mean, vec[:, :k] * np.sqrt(w[:k])[None, :]
+
+
+def predictive_parts(g: tuple[np.ndarray, np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(future hours, mean, principal parts) of a predictive (future hours, mean, covariance) on every
+    k-th future time, GP_RQMC_GRID of them (the crossing is interpolated between: a coarser grid will do),
+    its principal components taken on that grid: a 300-point eigendecomposition took a second of a
+    loaded machine's time per point in ``tellwave trend``, the 100-point one a thirtieth of the work."""
+    future_h, mean, cov = g
+    every = max(1, len(future_h) // GP_RQMC_GRID)
+    return (future_h[::every], *principal_parts(mean[::every], cov[::every, ::every]))
 
 
 def rqmc_paths(mean: np.ndarray, parts: np.ndarray, u: np.ndarray) -> np.ndarray:
@@ -418,7 +428,7 @@ def gp_lives_rqmc(g: tuple[np.ndarray, np.ndarray, np.ndarray], drawn: bool, gro
     ``fixed_level`` when ``ends`` is None (log ratios to the healthy level)."""
     future_h, mean, parts = g
     every = max(1, len(future_h) // GP_RQMC_GRID)      # the crossing is interpolated: a coarser grid will do
-    future_h, mean, parts = future_h[::every], mean[::every], parts[::every]
+    future_h, mean, parts = future_h[::every], mean[::every], parts[::every]     # (``predictive_parts``: done)
     u = rqmc_uniforms(GP_MAX_MODES + 2, seed)
     paths = rqmc_paths(mean, parts, u[:, :GP_MAX_MODES])
     if drawn:             # stratified: every library growth equally often
@@ -493,9 +503,11 @@ class PoolAnswer:
     reasons: tuple[str, ...]
 
     def quantile(self, q: float) -> float | None:
+        """The ``q`` quantile of the equal pool, hours (None: no method answers)."""
         return None if self.pool is None else self.pool.quantile(EQUAL, q)
 
     def act_by(self) -> float | None:
+        """The act-by time of the equal pool, hours (None: no method answers)."""
         return None if self.pool is None else self.pool.act_by(EQUAL)
 
 
@@ -520,7 +532,7 @@ def gp_lives(h: PointHistory, prior: PoolPrior, seed: int = GP_SEED) -> np.ndarr
         return None
     phi = healthy_level(h.values, h.health)[0]
     above = float(np.max(level_ratio(h.values, phi, True)))
-    lives = gp_lives_rqmc((g[0], *principal_parts(g[1], g[2])), True, grow, prior.end_levels, above, 0.0, seed)
+    lives = gp_lives_rqmc(predictive_parts(g), True, grow, prior.end_levels, above, 0.0, seed)
     return recalibrated(lives, prior.calibration) if len(prior.calibration) else lives
 
 
@@ -601,6 +613,7 @@ def shipped_pool_prior() -> PoolPrior | None:
 
 @dataclass(frozen=True)
 class PoolSettings:
+    """When the pool answers (rulebooks/trend/pool.yaml): the reading spacing it is kept within."""
     spacing_factor: float
     source: str
 
@@ -626,6 +639,7 @@ def read_pool_settings(path) -> PoolSettings:
 
 @functools.cache
 def shipped_pool_settings() -> PoolSettings:
+    """The shipped settings (rulebooks/trend/pool.yaml)."""
     from ..common.paths import RULEBOOKS
 
     return read_pool_settings(RULEBOOKS / "trend" / SETTINGS_FILE_NAME)
@@ -684,7 +698,9 @@ def pool_section(point: str, used: dict, sources: dict, bearing_of: dict[str, st
     bearing = (bearing_of or {}).get(point)
     group = sorted(p for p in used if bearing is not None and (bearing_of or {}).get(p) == bearing
                    and prior.indicator in used[p] and sources.get(p) is not None) or [point]
-    out: dict = {"label": LABEL, "indicator": prior.indicator, "end_level": prior.end_level, "prior": prior.name,
+    out: dict = {"label": LABEL, "indicator": prior.indicator, "end_level": prior.end_level,
+                 "end_label": f"{prior.end_level:g}" + (" g" if prior.indicator.endswith("_g") else ""),
+                 "prior": prior.name,
                  "weights": "equal", "methods": list(METHODS), "bearing": bearing,
                  "hazard_points": group, "on": False, "projected": False, "reason": "",
                  "days": None, "seconds": None, "low_days": None, "low_seconds": None, "high_days": None,
@@ -727,7 +743,7 @@ def pool_section(point: str, used: dict, sources: dict, bearing_of: dict[str, st
     missing = [m for m in METHODS if m not in out["answered"]]
     out["reason"] = (f"linear opinion pool, equal weights, of {', '.join(out['answered'])}"
                      + (f" ({', '.join(missing)}: no answer yet, left out)" if missing else "")
-                     + f"; each run to {prior.end_level:g} or to the library's end levels")
+                     + f"; each run to {out['end_label']} or to the library's end levels")
     if not out["projected"]:
         out["reason"] += f"; the median lies beyond {HAZARD_HORIZON_H:g} h"
     return out
