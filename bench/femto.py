@@ -1,7 +1,7 @@
 """Remaining life on real run-to-failure bearings: the FEMTO / PRONOSTIA learning set.
 
     python -m bench.femto [--data ../shared/datasets/femto/learning] [--out bench-out/femto] [--workers 2]
-                          [--rebuild] [--write-prior]
+                          [--rebuild] [--write-prior] [--no-pool]
 
 Six bearings ran from new until their vibration passed 20 g (IEEE PHM 2012
 prognostics challenge; ../shared/datasets/README.md section 4b). Each run is
@@ -29,7 +29,14 @@ of the same cut: the mean life of the other five runs less the time elapsed
 (at least zero), and "fails now" (0). The challenge's truncated test runs are
 not here; they stay back to check the method later.
 
---write-prior learns the prior from all six runs and writes
+3. The trend's second answer, the pooled one (``engine.trend.pool``: the exponential model to 20 g,
+   the Gaussian process to the learned end levels and the proportional hazards, equal weights), at the
+   same cuts, its ``pool:`` prior learned from the other five runs only (``femto_compare.pool_prior_from``:
+   the GP's calibration and the hazards' setting chosen within those five), the earlier of the two points'
+   pooled medians counting; printed beside the exponential answer and the naive baselines (``pool_table``).
+   --no-pool leaves it out (several CPU minutes).
+
+--write-prior learns the prior (and the pool's, section ``pool:``) from all six runs and writes
 rulebooks/trend/prior.yaml with its provenance. The data folder is only
 read: sidecars and links live under --out.
 """
