@@ -74,7 +74,7 @@ class HistoryLink:
         found = [f for f in self.store.findings(self.machine.name) if f["found_on"] < self.taken_at[:10]]
         repairs = repairs_of(found, {}, fault_names() if found else {}, machine=self.machine)
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
-                              plot_units=self.units, alarms=alarm_rows)
+                              plot_units=self.units, alarms=alarm_rows, pool=False)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
         return trend_facts(doc)

@@ -331,7 +331,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
                     learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
                     plot_units: ShownUnits | None = None, alarms: list[dict] | None = None,
-                    bearings: dict[str, str] | None = None) -> dict:
+                    bearings: dict[str, str] | None = None, pool: bool = True) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
     they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
@@ -343,7 +343,9 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     ``alarm_rows``): each point's indicator with an alarm there is projected to its danger level, and the
     point shows the alarm's levels and the readings that passed them.
     ``bearings``: point -> the bearing it sits at (the machine file), how the pooled answer's hazards group
-    the points (``pool.pool_section``; without it each point is a bearing of its own).
+    the points (``pool.pool_section``; without it each point is a bearing of its own); ``pool``: False leaves
+    the pooled answer out (``points[].pool`` None), where no report shows it (the trend ``diagnose --store``
+    reads its facts from, on every reading stored: the GP costs about a CPU second a point).
     """
     from ..advice import zone_of
     from .pool import pool_section
@@ -410,7 +412,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                                     plot_units or units, here)
         points.append(entry)
     for entry in points:        # the pooled answer; its hazards judge a bearing by all of its points
-        entry["pool"] = pool_section(str(entry["point"]), used_at, sources, bearings)
+        entry["pool"] = pool_section(str(entry["point"]), used_at, sources, bearings) if pool else None
     # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,
             "made_at": datetime.now(UTC).isoformat(timespec="seconds"),

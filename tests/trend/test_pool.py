@@ -262,3 +262,18 @@ def test_the_hazards_judge_a_bearing_by_all_of_its_points():
     assert together["bearing"] == "b1" and alone["bearing"] is None
     assert "hazards" in together["answered"] and "hazards" in alone["answered"]
     assert together["days"] < alone["days"], (together["days"], alone["days"])
+
+
+def test_the_trend_diagnose_store_reads_its_facts_from_leaves_the_pool_out():
+    # the pooled answer costs about a CPU second a point (the GP) and no diagnosis report shows it
+    from engine.trend.report import trend_from_rows, zone_scale_for
+
+    rows = []
+    t0 = datetime(2026, 3, 2, 6, 0, 0)
+    for sec, peak, rms in _run_to_failure(60):
+        rows.append({"id": len(rows) + 1, "point": "H", "channel": "ch1", "direction": "horizontal",
+                     "taken_at": (t0 + timedelta(seconds=sec)).isoformat(),
+                     "indicators": {"accel_peak_g": peak, "accel_rms_g": rms}})
+    scale = zone_scale_for(None)
+    assert trend_from_rows(RIG, rows, scale, pool=False)["points"][0]["pool"] is None
+    assert trend_from_rows(RIG, rows, scale)["points"][0]["pool"]["label"] == LABEL
