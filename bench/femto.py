@@ -1,7 +1,7 @@
 """Remaining life on real run-to-failure bearings: the FEMTO / PRONOSTIA learning set.
 
     python -m bench.femto [--data ../shared/datasets/femto/learning] [--out bench-out/femto] [--workers 2]
-                          [--rebuild] [--write-prior]
+                          [--rebuild] [--write-prior] [--no-pool]
 
 Six bearings ran from new until their vibration passed 20 g (IEEE PHM 2012
 prognostics challenge; ../shared/datasets/README.md section 4b). Each run is
@@ -29,7 +29,14 @@ of the same cut: the mean life of the other five runs less the time elapsed
 (at least zero), and "fails now" (0). The challenge's truncated test runs are
 not here; they stay back to check the method later.
 
---write-prior learns the prior from all six runs and writes
+3. The trend's second answer, the pooled one (``engine.trend.pool``: the exponential model to 20 g,
+   the Gaussian process to the learned end levels and the proportional hazards, equal weights), at the
+   same cuts, its ``pool:`` prior learned from the other five runs only (``femto_compare.pool_prior_from``:
+   the GP's calibration and the hazards' setting chosen within those five), the earlier of the two points'
+   pooled medians counting; printed beside the exponential answer and the naive baselines (``pool_table``).
+   --no-pool leaves it out (several CPU minutes).
+
+--write-prior learns the prior (and the pool's, section ``pool:``) from all six runs and writes
 rulebooks/trend/prior.yaml with its provenance. The data folder is only
 read: sidecars and links live under --out.
 """
@@ -38,6 +45,7 @@ from __future__ import annotations
 
 import argparse
 import json
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -49,6 +57,7 @@ from engine.trend import project
 from engine.trend.degradation import PRIOR_FILE_NAME, Prior, challenge_score, learn_prior
 from engine.trend.health import monotonicity, prognosability, shipped_settings, smooth_log, trendability
 from engine.trend.onset import first_predicting_time
+from engine.trend.pool import regular
 
 ROOT = Path(__file__).resolve().parent.parent
 DATA = ROOT.parent / "shared" / "datasets" / "femto" / "learning"
@@ -203,20 +212,6 @@ def health_table(histories: dict) -> None:
                   f"{prognosability(hs):8.2f}")
 
 
-def regular(t: np.ndarray) -> np.ndarray:
-    """Which readings to learn from: the shared excerpt keeps every tenth snapshot and then the last 20
-    (10 s apart), so a fit over every reading weighs the last 200 s as much as the half hour before;
-    keep readings at least 0.9 of the usual spacing apart, and the last (where the test stopped)."""
-    keep = np.zeros(len(t), bool)
-    step = 0.9 * float(np.median(np.diff(t)))
-    last = -np.inf
-    for i, x in enumerate(t):
-        if x - last >= step:
-            keep[i], last = True, x
-    keep[-1] = True
-    return keep
-
-
 def degradation_after_onset(h: dict, indicator: str = LIMITED) -> tuple[np.ndarray, np.ndarray] | None:
     """(days since the first predicting time, log(y - healthy level)) of one point's whole run,
     on its regular readings (y: ``indicator``, the acceleration peak unless named)."""
@@ -264,7 +259,24 @@ def write_prior(histories: dict, path: Path) -> None:
         "noise_var": round(p.noise_var, 6), "autocorrelation": round(p.autocorrelation, 6),
         "reading_interval_s": round(p.reading_interval_days * 86400.0, 3),
         "histories_used": p.runs}}}
-    head = ("# Prior of the exponential degradation model (engine/trend/degradation.py), by indicator.\n"
+    from bench.femto_compare import PoolInputs, pool_prior_from
+    from engine.trend.pool import pool_document
+
+    lives_h = {r: max(max(h[LIMITED][0]) for h in histories[r].values()) / 3600.0 for r in runs}
+    pool = pool_prior_from(PoolInputs(histories, runs, lives_h), tuple(runs))
+    pool = replace(pool, name=f"shipped pool prior learned from {len(runs)} accelerated laboratory run-to-failure "
+                              f"tests lasting 1 to 8 hours (rulebooks/trend/{PRIOR_FILE_NAME}, section pool)")
+    doc.update(pool_document(pool, (
+        f"learned by bench/femto.py --write-prior from the same {len(runs)} histories (engine/trend/pool.py): "
+        "gp.end_levels: each point's trailing mean at the run's end, log ratio to its healthy level; "
+        "gp.growths_per_h: each point's least-squares growth of that log ratio since its first predicting time; "
+        "gp.calibration: the PIT values of the GP's answers at bench.femto's cuts of each run, the GP learned "
+        "from the other runs (Kuleshov et al. 2018); hazards: the Weibull proportional-hazards setting in "
+        "bearing form with the best mean score over the runs, each scored with a library of the rest, fitted "
+        "by maximum likelihood on every run (Jardine, Anderson & Mann 1987); end_level: the tests were "
+        "stopped when the acceleration passed 20 g")))
+    head = ("# Prior of the exponential degradation model (engine/trend/degradation.py), by indicator, and the\n"
+            "# pool's prior (engine/trend/pool.py, section pool).\n"
             "# Written by `python -m bench.femto --write-prior`; do not edit by hand, learn it again.\n")
     tmp = path.with_suffix(".tmp")
     tmp.write_text(head + yaml.safe_dump(doc, sort_keys=False, width=110))
@@ -272,9 +284,81 @@ def write_prior(histories: dict, path: Path) -> None:
     print(f"wrote {path}")
 
 
-def leave_one_out(histories: dict) -> None:
-    """Cut each run at CUTS of its life; project with the prior from the other runs."""
+def pooled_at(histories: dict, run: str, upto_s: float, pool, exp_prior: Prior):
+    """tellwave trend's pooled answer (engine.trend.pool.pooled) at the readings of ``run`` at or before
+    ``upto_s``: (median, 10th and 90th percentile, act-by time), hours, of the point with the smaller pooled
+    median, the hazards judging the bearing by both points (the machine file puts both at the test bearing);
+    None when no method answers at either point."""
+    from bench.femto_compare import health_values
+    from engine.trend.pool import EQUAL, PointHistory, pooled
+
+    hist = {}
+    for pt, h in sorted(histories[run].items()):
+        t, v, hi = point_arrays(h, LIMITED)
+        k = t <= upto_s + 1e-6
+        ts, vs = health_values(h)
+        ks = ts <= upto_s + 1e-6
+        hist[pt] = PointHistory(t[k] / 86400.0, v[k], hi[k], point_single(h, LIMITED)[k], ts[ks], vs[ks])
+    best = None
+    for pt in hist:
+        got = pooled(hist[pt], list(hist.values()), pool, exp_prior)
+        if got.pool is None:
+            continue
+        med = got.pool.quantile(EQUAL, 0.5)
+        if best is None or med < best[0]:
+            best = (med, got.pool.quantile(EQUAL, 0.1), got.pool.quantile(EQUAL, 0.9), got.pool.act_by(EQUAL))
+    return best
+
+
+def pool_table(pooled_rows: list, rows: list) -> None:
+    """tellwave trend's pooled answer ("as the library's run-to-failure tests ended") at the same cuts as the
+    exponential projection (``rows``, in the same order), beside it and the naive baselines."""
+    print("\npooled answer of tellwave trend (equal-weight linear opinion pool of the exponential model to 20 g, "
+          "the GP to the learned end levels and the proportional hazards; its prior learned from the other five "
+          "runs), the same cuts")
+    print(f"{'run':<11}{'answered':>10}{'A act by':>9}{'A med':>7}{'naive':>7}{'now':>7}{'in 80 %':>8}"
+          f"   exponential on the same runs: {'A act by':>8}{'in 80 %':>8}")
+    cells = []      # (run, A act by, A med, inside, A naive, A now, ln(actual / median), exponential row)
+    for (run, actual, got), r in zip(pooled_rows, rows, strict=True):
+        if got is None:
+            cells.append((run, None, None, None, r[3], r[4], None, r))
+            continue
+        med, lo, hi, act = (x * 3600.0 for x in got)
+        inside = lo <= actual <= hi
+        cells.append((run, phm_score(100 * (actual - act) / actual), phm_score(100 * (actual - med) / actual),
+                      inside, r[3], r[4], float(np.log(actual / max(med, 1.0))), r))
+    for run in dict.fromkeys(c[0] for c in cells):
+        mine = [c for c in cells if c[0] == run]
+        got = [c for c in mine if c[1] is not None]
+        exp = [c[7] for c in mine if c[7][0] is not None]
+        exp_part = (f"{np.mean([e[0] for e in exp]):8.3f}{sum(e[2] for e in exp):>4} of {len(exp)}" if exp else "")
+        if got:
+            print(f"{run:<11}{len(got):>6} of {len(mine)}{np.mean([c[1] for c in got]):9.3f}"
+                  f"{np.mean([c[2] for c in got]):7.3f}{np.mean([c[4] for c in got]):7.3f}"
+                  f"{np.mean([c[5] for c in got]):7.3f}{sum(c[3] for c in got):>4} of {len(got)}"
+                  f"   {'':>30}{exp_part}")
+        else:
+            print(f"{run:<11}{0:>6} of {len(mine)}   {'':>30}{exp_part}")
+    got = [c for c in cells if c[1] is not None]
+    if not got:
+        print("no cut answered by the pool")
+        return
+    print(f"pooled, mean score A over the {len(got)} answered cuts: act by {np.mean([c[1] for c in got]):.3f}, "
+          f"median {np.mean([c[2] for c in got]):.3f}; naive on the same cuts {np.mean([c[4] for c in got]):.3f}, "
+          f"fails now {np.mean([c[5] for c in got]):.3f}; 80 % interval coverage {np.mean([c[3] for c in got]):.0%} "
+          f"({sum(c[3] for c in got)} of {len(got)}); spread of ln(actual / median) {np.std([c[6] for c in got]):.2f}")
+    both = [c for c in got if c[7][0] is not None]
+    if both:
+        d = [c[1] - c[7][0] for c in both]
+        print(f"pooled less exponential, paired over the {len(both)} cuts both answer: mean {np.mean(d):+.3f}; "
+              f"better at {sum(x > 0 for x in d)}, worse at {sum(x < 0 for x in d)}")
+
+
+def leave_one_out(histories: dict, with_pool: bool = True) -> None:
+    """Cut each run at CUTS of its life; project with the prior from the other runs. ``with_pool``: score
+    tellwave trend's pooled answer too, its prior learned from the other runs (``pool_table``)."""
     lives = {r: max(max(h[LIMITED][0]) for h in run.values()) for r, run in histories.items()}
+    pooled_rows: list = []      # (run, actual s, answer or None), the same cuts
     print(f"\nprojection of the acceleration peak to {LIMIT_G:g} g, leave one run out; times in hours; "
           "Er = 100 (actual - estimate) / actual of the act-by time; A the challenge score")
     print(f"{'run':<11}{'life':>6}{'cut':>5}{'actual':>8}  {'median (80 % interval)':<24}{'act by':>7}{'Er %':>7}"
@@ -282,9 +366,17 @@ def leave_one_out(histories: dict) -> None:
     rows = []      # (A act by, A median, covered, A naive, A fails now, degradation began); None: no projection
     log_errors = []    # ln(actual / median) of the projected cuts
     per_run: dict[str, list] = {}
+    ins = None
+    if with_pool:
+        from bench.femto_compare import PoolInputs
+        ins = PoolInputs(histories, sorted(histories), {r: x / 3600.0 for r, x in lives.items()})
     for run in histories:
         prior = prior_from(histories, [r for r in histories if r != run])
         others = [lives[r] for r in lives if r != run]
+        pool_prior = None
+        if ins is not None:
+            from bench.femto_compare import pool_prior_from
+            pool_prior = pool_prior_from(ins, tuple(sorted(r for r in histories if r != run)))
         for cut in CUTS:
             best, answers, now, began = None, [], 0.0, False
             for pt, h in sorted(histories[run].items()):
@@ -300,6 +392,8 @@ def leave_one_out(histories: dict) -> None:
                     best = p
             actual = lives[run] - now
             base = max(0.0, float(np.mean(others)) - now)
+            if pool_prior is not None:
+                pooled_rows.append((run, actual, pooled_at(histories, run, cut * lives[run], pool_prior, prior)))
             a_naive, a_now = phm_score(100 * (actual - base) / actual), phm_score(100.0)
             if best is not None:
                 act = best.act_by_days * 86400.0 if best.act_by_days is not None else 0.0
@@ -348,6 +442,9 @@ def leave_one_out(histories: dict) -> None:
     fallback = [r[0] if r[0] is not None else r[3] for r in rows]
     print(f"mean score A over all {len(rows)} cuts, naive where no projection: {np.mean(fallback):.3f}; naive alone "
           f"{np.mean([r[3] for r in rows]):.3f}; fails now {np.mean([r[4] for r in rows]):.3f}")
+    if pooled_rows:
+        pool_table(pooled_rows, rows)
+
 
 
 def main() -> int:
@@ -358,12 +455,14 @@ def main() -> int:
     ap.add_argument("--rebuild", action="store_true", help="diagnose the snapshots again (else the cached histories)")
     ap.add_argument("--write-prior", action="store_true", help=f"learn the prior from all runs into rulebooks/trend/"
                                                                f"{PRIOR_FILE_NAME}")
+    ap.add_argument("--no-pool", action="store_true",
+                    help="leave out tellwave trend's pooled answer (its in-fold prior takes several CPU minutes)")
     args = ap.parse_args()
     out = Path(args.out).resolve()
     out.mkdir(parents=True, exist_ok=True)
     histories = load_histories(Path(args.data), out, args.workers, args.rebuild)
     health_table(histories)
-    leave_one_out(histories)
+    leave_one_out(histories, not args.no_pool)
     if args.write_prior:
         write_prior(histories, ROOT / "rulebooks" / "trend" / PRIOR_FILE_NAME)
     return 0

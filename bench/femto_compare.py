@@ -74,7 +74,6 @@ the remaining four; the nested score is the held-out runs' score under the setti
 from __future__ import annotations
 
 import argparse
-import functools
 import itertools
 from dataclasses import dataclass
 from pathlib import Path
@@ -85,10 +84,33 @@ from bench.femto import CUTS, LIMIT_G, LIMITED, load_histories, point_arrays, pr
 from engine.trend.degradation import Prior, challenge_score
 from engine.trend.health import shipped_settings, smooth_log
 from engine.trend.onset import first_predicting_time
+from engine.trend.pool import (
+    NO_CROSSING_H,
+    PINNED_SD,
+    Condition,
+    HazardFit,
+    HazardSetting,
+    Pool,
+    PoolPrior,
+    clock_of,
+    condition_from,
+    fit_hazard,
+    gp_predictive,
+    gp_predictive_since_onset,
+    hazard_answer,
+    hazard_lives,
+    healthy_level,
+    level_ratio,
+    pool_of,
+    predictive_parts,
+    recalibrated,
+    recent_slope,
+)
+from engine.trend.pool import gp_lives_rqmc as _gp_lives_rqmc
+from engine.trend.pool import pit as _pit
 from engine.trend.projection import Projection, exponential_life
 
 SHIFT_STEP_H = 100.0 / 3600.0       # the runs' usual reading spacing
-NO_CROSSING_H = 1e6                 # a draw that never reaches the limit: so late that any estimate is 100 % early
 DILATIONS = (0.5, 0.71, 1.0, 1.41, 2.0)
 
 @dataclass(frozen=True)
@@ -298,149 +320,18 @@ def summary(cuts: list[Cut | None]) -> str:
 # Banjevic, Jardine, Makis & Ennis 2001 (INFOR 39): the remaining life given survival to now and the
 # condition's path, S(u | s0) = exp(-(Lambda(s0 + u) - Lambda(s0))), Lambda the cumulative hazard.
 
-HAZARD_QUANTILES = 1000            # equally spaced probabilities that stand for the remaining-life distribution
-HAZARD_HORIZON_H = 100.0           # the longest remaining life looked at (the learning runs last 1.4 to 7.8 h)
-TREND_READINGS = 6                 # regular readings (about 10 min) the condition's recent slope is fitted over
-GAMMA_BOUND = 30.0                 # |gamma| at most this: exp(30 x 3 log units) is already beyond any float use
 # the search keeps beta within 0.1-20 and eta within 0.01-10^4 hours: wider than any bearing life of the
 # runs' hours, and a likelihood that runs off to its edge (the condition explaining everything, the clock
 # nothing) is held there instead of overflowing
-LOG_BETA_BOUNDS = (np.log(0.1), np.log(20.0))
-LOG_ETA_BOUNDS_H = (np.log(0.01), np.log(1e4))
 
-@dataclass(frozen=True)
-class HazardSetting:
-    """One setting of the proportional-hazards model."""
-    clock: str        # "run": hours since the run began; "onset": hours since its first predicting time
-    covariate: str    # "now": the condition at each reading; "highest": the highest condition so far
-    future: str       # "hold": the condition stays at its current value; "trend": it goes on at its recent slope
-    ridge: float      # a normal prior on gamma, sd 1 / sqrt(ridge) (0: plain maximum likelihood)
-    points: str = "bearing"   # "bearing": the larger of its points' conditions; "each": every point alone
 
-    def __str__(self) -> str:
-        clock = "run clock" if self.clock == "run" else "clock from onset"
-        ridge = "ML" if self.ridge == 0 else f"ridge {self.ridge:g}"
-        return f"hazards ({self.points}, {clock}, z {self.covariate}, {self.future}, {ridge})"
 
-@dataclass(frozen=True)
-class Condition:
-    """A run's condition as it stood at a time: its regular readings (hours since the run began), the
-    covariate z at each (the larger of its points' degradation ratios, at least 0), and its first
-    predicting time (the earlier of its points'; None: no degradation yet)."""
-    t_h: np.ndarray
-    z: np.ndarray
-    onset_h: float | None
-
-def ratio_and_onset(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, float | None]:
-    """A point's degradation ratio at each reading (the smoothed log health indicator less the mean of
-    its healthy band) and its first predicting time in hours (None: not yet), from onset.yaml's rule."""
-    s = shipped_settings()
-    hi = smooth_log(values, s.smooth_readings)
-    on = first_predicting_time(hi, s)
-    ratio = hi - float(np.mean(hi[:max(on.early, 1)]))
-    return ratio, None if on.index is None else float(t_s[on.index]) / 3600.0
 
 def condition_of(run: dict, upto_s: float = np.inf) -> Condition:
     """The condition of a run's points from the readings at or before ``upto_s`` (seconds), each
-    point's healthy band and onset found on those readings only, as they stood then."""
-    from bench.femto import regular
-
-    base, z, onsets = None, None, []
-    for pt in sorted(run):
-        t, v = health_values(run[pt])
-        k = t <= upto_s + 1e-6
-        ratio, on = ratio_and_onset(t[k], v[k])
-        if on is not None:
-            onsets.append(on)
-        if base is None:
-            base, z = t[k], ratio
-        else:       # each reading of the first point takes the other point's latest reading not after it
-            idx = np.clip(np.searchsorted(t[k], base, side="right") - 1, 0, len(ratio) - 1)
-            z = np.maximum(z, ratio[idx])
-    assert base is not None and z is not None
-    keep = regular(base)
-    return Condition(base[keep] / 3600.0, np.maximum(z[keep], 0.0), min(onsets) if onsets else None)
-
-def clock_of(c: Condition, clock: str, covariate: str = "now") -> tuple[np.ndarray, np.ndarray]:
-    """(clock times, covariate) of a condition's readings on the setting's clock: every reading on the
-    run clock; from the first predicting time on, less it, on the onset clock. The covariate is the
-    condition at each reading, or the highest so far (damage does not heal: a level that falls back
-    after a rise is the defect's edges wearing smooth, Williams et al. 2001, from memory)."""
-    z = c.z if covariate == "now" else np.maximum.accumulate(c.z)
-    if clock == "run":
-        return c.t_h, z
-    assert c.onset_h is not None
-    k = c.t_h >= c.onset_h - 1e-9
-    return c.t_h[k] - c.onset_h, z[k]
-
-def _stacked(runs: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, ...]:
-    """The runs' intervals end to end (start, end, covariate over it) and each run's end and covariate there."""
-    lo = np.concatenate([s[:-1] for s, _ in runs])
-    hi = np.concatenate([s[1:] for s, _ in runs])
-    z = np.concatenate([z[:-1] for _, z in runs])
-    return lo, hi, z, np.array([max(s[-1], 1e-9) for s, _ in runs]), np.array([z[-2] for _, z in runs])
-
-def hazard_nll(params: np.ndarray, data: tuple[np.ndarray, ...], ridge: float) -> float:
-    """Negative log likelihood of (log beta, log eta, gamma) over run-to-failure histories (``_stacked``),
-    each ended by its failure at its last reading; the covariate holds each reading's value until the
-    next (the value known before the failure drives its hazard), plus the ridge penalty on gamma."""
-    lb, le, g = (float(x) for x in params)
-    if not (LOG_BETA_BOUNDS[0] <= lb <= LOG_BETA_BOUNDS[1] and LOG_ETA_BOUNDS_H[0] <= le <= LOG_ETA_BOUNDS_H[1]
-            and abs(g) <= GAMMA_BOUND):
-        return 1e300
-    lo, hi, z, end, z_end = data
-    beta, eta = np.exp(lb), np.exp(le)
-    cum = float(np.sum(np.exp(g * z) * ((hi / eta) ** beta - (lo / eta) ** beta)))
-    log_h = float(np.sum(lb - le + (beta - 1) * np.log(end / eta) + g * z_end))
-    return 0.5 * ridge * g ** 2 + cum - log_h
-
-@dataclass(frozen=True)
-class HazardFit:
-    """A fitted Weibull proportional-hazards model (hours)."""
-    beta: float
-    eta_h: float
-    gamma: float
-
-def fit_hazard(runs: list[tuple[np.ndarray, np.ndarray]], ridge: float) -> HazardFit:
-    """Maximum (penalised) likelihood over the runs (scipy.optimize, Nelder-Mead from a plain Weibull
-    start: beta 2, eta the mean life, gamma 0)."""
-    from scipy.optimize import minimize
-
-    life = float(np.mean([s[-1] for s, _ in runs]))
-    data = _stacked(runs)
-    best = None
-    for g0 in (0.0, 1.0, 3.0):
-        r = minimize(hazard_nll, np.array([np.log(2.0), np.log(life), g0]), args=(data, ridge),
-                     method="Nelder-Mead", options={"xatol": 1e-6, "fatol": 1e-9, "maxiter": 4000})
-        if best is None or r.fun < best.fun:
-            best = r
-    assert best is not None
-    lb, le, g = best.x
-    return HazardFit(float(np.exp(lb)), float(np.exp(le)), float(g))
-
-def hazard_lives(fit: HazardFit, s0: float, z0: float, slope: float) -> np.ndarray:
-    """Remaining lives (hours) at HAZARD_QUANTILES equally spaced probabilities of the conditional
-    distribution given survival to ``s0`` on the model's clock (Banjevic et al. 2001), the condition
-    held at ``z0`` (slope 0: closed form) or going on at ``slope`` per hour (numerical integration of
-    the hazard on a fine grid). A probability the horizon does not reach gets NO_CROSSING_H."""
-    p = (np.arange(HAZARD_QUANTILES) + 0.5) / HAZARD_QUANTILES
-    need = -np.log1p(-p)                                  # cumulative hazard to reach probability p
-    b, eta = fit.beta, fit.eta_h
-    if slope <= 0:
-        scale = np.exp(fit.gamma * z0)
-        u = eta * ((s0 / eta) ** b + need / scale) ** (1 / b) - s0
-        return np.where(u <= HAZARD_HORIZON_H, np.maximum(u, 0.0), NO_CROSSING_H)
-    u = np.concatenate([[0.0], np.geomspace(1e-4, HAZARD_HORIZON_H, 4000)])
-    s = s0 + u
-    h = (b / eta) * (np.maximum(s, 1e-12) / eta) ** (b - 1) * np.exp(np.clip(fit.gamma * (z0 + slope * u), -700, 700))
-    cum = np.concatenate([[0.0], np.cumsum(0.5 * (h[1:] + h[:-1]) * np.diff(u))])
-    out = np.interp(need, cum, u)
-    return np.where(need <= cum[-1], out, NO_CROSSING_H)
-
-def recent_slope(c: Condition) -> float:
-    """The condition's slope per hour over its last TREND_READINGS regular readings (least squares)."""
-    t, z = c.t_h[-TREND_READINGS:], c.z[-TREND_READINGS:]
-    return float(np.polyfit(t, z, 1)[0]) if len(t) >= 3 and np.ptp(t) > 0 else 0.0
+    point's healthy band and onset found on those readings only, as they stood then
+    (``engine.trend.pool.condition_from``)."""
+    return condition_from([health_values(run[pt]) for pt in sorted(run)], upto_s)
 
 def hazard_grid() -> list[HazardSetting]:
     """The proportional-hazards settings weighed."""
@@ -559,18 +450,11 @@ def hazard_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -
 #
 # Every setting is scored leave one run out and, to choose one, by nested leave one out.
 
-GP_GRID = 300                  # future times of the predictive paths, geometric from one reading spacing
-GP_READINGS = 80               # readings since the onset the regression keeps at most (evenly, the last kept)
-GP_BOUNDS = ((np.log(1e-3), np.log(3.0)),      # sd of the squared-exponential part (log units)
-             (np.log(0.05), np.log(5.0)),      # its length scale, in times the time since the onset
-             (np.log(1e-3), np.log(3.0)))      # white noise sd (one reading's scatter)
 # the GP's growth: "free", the linear basis's slope normal about the library's mean growth with the
 # library's sd (the readings may set it); "pinned", the library's mean growth (the readings set the level
 # and the swings about it); "drawn", pinned, then each path grows from now at its own growth, resampled
 # from the library points' growths (a bootstrap of the library)
 GP_SLOPES = ("free", "pinned", "drawn")
-PINNED_SD = 1e-3
-GP_CONSTANT_SD = 1.0           # prior sd of the level at the onset, log units (a factor e either way: wide)
 LEVEL_SEED = 20261205
 
 @dataclass(frozen=True)
@@ -596,16 +480,7 @@ def level_grid() -> list[LevelSetting]:
     out += [LevelSetting("gaussian process", LIMITED, "fixed", False, slope) for slope in GP_SLOPES]
     return out
 
-def healthy_level(v: np.ndarray, hi: np.ndarray) -> tuple[float, int | None, int]:
-    """(healthy level phi, onset index or None, early readings) of a point: the median of the early
-    readings that made the healthy band, as the exponential model takes it."""
-    on = first_predicting_time(hi, shipped_settings())
-    return float(np.median(v[:on.early])), on.index, on.early
 
-def level_ratio(v: np.ndarray, phi: float, smooth: bool) -> np.ndarray:
-    """Log ratio of each reading (or of the trailing mean to it) to the healthy level."""
-    x = smooth_log(v, shipped_settings().smooth_readings) if smooth else np.log(np.maximum(v, 1e-12))
-    return x - np.log(phi)
 
 def end_levels(histories: dict, runs: list[str], indicator: str, ends: str, smooth: bool) -> np.ndarray:
     """The library's failure levels: log ratio to the healthy level where each run ended, per point or
@@ -653,48 +528,10 @@ def exponential_to_levels(days: np.ndarray, v: np.ndarray, hi: np.ndarray, prior
                           autocorrelation=prior.autocorrelation if prior.runs else 0.0)
     return np.minimum(np.array(life.draws) * 24.0, NO_CROSSING_H)
 
-def _gp_kernel(a: np.ndarray, b: np.ndarray, p: np.ndarray, slope_sd: float) -> np.ndarray:
-    """Squared exponential + linear + constant (Rasmussen & Williams 2006, eqs. 2.31 and 4.9, section 4.2.4):
-    the linear and constant terms are the explicit basis [1, x] with a normal prior on its coefficients
-    (section 2.7), the slope's sd learned from the library."""
-    sf, ell = np.exp(p[:2])
-    return (sf ** 2 * np.exp(-0.5 * (a[:, None] - b[None, :]) ** 2 / ell ** 2) + slope_sd ** 2 * np.outer(a, b)
-            + GP_CONSTANT_SD ** 2)
 
-def _gp_cov(x: np.ndarray, p: np.ndarray, slope_sd: float) -> np.ndarray:
-    return _gp_kernel(x, x, p, slope_sd) + (np.exp(2 * p[2]) + 1e-8) * np.eye(len(x))
 
-def gp_neg_log_likelihood(p: np.ndarray, x: np.ndarray, y: np.ndarray, slope_sd: float) -> float:
-    """Minus the log marginal likelihood of the readings (Rasmussen & Williams 2006, eq. 2.30)."""
-    try:
-        chol = np.linalg.cholesky(_gp_cov(x, p, slope_sd))
-    except np.linalg.LinAlgError:
-        return 1e12
-    alpha = np.linalg.solve(chol.T, np.linalg.solve(chol, y))
-    return float(0.5 * y @ alpha + np.sum(np.log(np.diag(chol))) + 0.5 * len(x) * np.log(2 * np.pi))
 
-def gp_fit(x: np.ndarray, y: np.ndarray, slope_sd: float) -> np.ndarray:
-    """Log hyperparameters (sd and length of the squared exponential, noise sd) with the largest marginal
-    likelihood, from two starts (scipy's L-BFGS-B)."""
-    from scipy.optimize import minimize
 
-    best = None
-    for start in (np.log([0.3, 0.3, 0.2]), np.log([0.1, 1.0, 0.1])):
-        r = minimize(gp_neg_log_likelihood, start, args=(x, y, slope_sd), method="L-BFGS-B", bounds=GP_BOUNDS)
-        if best is None or r.fun < best.fun:
-            best = r
-    assert best is not None
-    return np.asarray(best.x)
-
-def gp_predictive(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float,
-                  future: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Mean and covariance of the latent level at the ``future`` inputs (Rasmussen & Williams 2006,
-    eqs. 2.22-2.24)."""
-    chol = np.linalg.cholesky(_gp_cov(x, p, slope_sd))
-    kf = _gp_kernel(future, x, p, slope_sd)
-    mean = kf @ np.linalg.solve(chol.T, np.linalg.solve(chol, y))
-    v = np.linalg.solve(chol, kf.T)
-    return mean, _gp_kernel(future, future, p, slope_sd) - v.T @ v
 
 def gp_paths(x: np.ndarray, y: np.ndarray, p: np.ndarray, slope_sd: float, future: np.ndarray, n: int,
              seed: int = LEVEL_SEED) -> np.ndarray:
@@ -737,27 +574,6 @@ def gp_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray, slope: tuple
         root = u * np.sqrt(np.maximum(w, 0.0))
     return future_h, mean[None, :] + np.random.default_rng(LEVEL_SEED).standard_normal((n, len(future_h))) @ root.T
 
-def gp_predictive_since_onset(days: np.ndarray, v: np.ndarray, hi: np.ndarray,
-                              slope: tuple[float, float]) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
-    """(future times in hours from the last reading, mean and covariance of the latent log ratio to the
-    healthy level there), as ``gp_since_onset`` draws its paths from; None as it."""
-    from engine.trend.degradation import HORIZON_FACTOR
-
-    phi, index, _ = healthy_level(v, hi)
-    if index is None or len(v) - index < 5:
-        return None
-    t = (days[index:] - days[index]) * 24.0
-    elapsed = float(t[-1])
-    if elapsed <= 0:
-        return None
-    keep = np.unique(np.round(np.linspace(0, len(t) - 1, min(len(t), GP_READINGS))).astype(int))
-    x = t[keep] / elapsed
-    y = np.log(np.maximum(v[index:][keep], 1e-12) / phi) - slope[0] * t[keep]
-    p = gp_fit(x, y, slope[1] * elapsed)
-    spacing = float(np.median(np.diff(days))) * 24.0
-    ahead = np.geomspace(max(spacing / elapsed, 1e-4), HORIZON_FACTOR, GP_GRID)
-    mean, cov = gp_predictive(x, y, p, slope[1] * elapsed, 1.0 + ahead)
-    return ahead * elapsed, mean + slope[0] * (1.0 + ahead) * elapsed, cov
 
 def first_crossing(future_h: np.ndarray, paths: np.ndarray, thresholds: np.ndarray) -> np.ndarray:
     """Each path's first future time at or past its own threshold (never: NO_CROSSING_H)."""
@@ -1289,10 +1105,6 @@ def wiener_report(histories: dict, runs: list[str], lives_h: dict[str, float]) -
 #   that a level q of the answer is the level at which a share q of the library's actual lives fell.
 #   Nothing of the scored run enters its own calibration.
 
-GP_PATHS_LOG2 = 14             # 16384 quasi-random points per answer
-GP_MODES = 0.9999              # share of the predictive variance kept in the drawn components
-GP_RQMC_GRID = 100             # future times kept of the GP_GRID (the crossing interpolated between)
-GP_MAX_MODES = 16              # at most this many components (the rest hold less than 1e-4 of it)
 GP_SEEDS = (20261205, 1, 2, 3, 4)
 
 @dataclass(frozen=True)
@@ -1310,69 +1122,15 @@ def gp_settings(everything: bool = False) -> list[LevelSetting]:
     return [s for s in level_grid() if s.method == "gaussian process"
             and (everything or (s.indicator == LIMITED and s.slope != "free" and s.ends != "run"))]
 
-@functools.lru_cache(maxsize=8)
-def rqmc_uniforms(dims: int, seed: int) -> np.ndarray:
-    """2 ** GP_PATHS_LOG2 points of a scrambled Sobol set in ``dims`` dimensions (Owen 1997); read only."""
-    from scipy.stats import qmc
 
-    u = np.asarray(qmc.Sobol(dims, scramble=True, seed=seed).random_base2(GP_PATHS_LOG2))
-    u.flags.writeable = False
-    return u
 
-def principal_parts(mean: np.ndarray, cov: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(mean, columns sd x direction of the covariance's principal components, the largest first, as many
-    as hold GP_MODES of its variance, at most GP_MAX_MODES)."""
-    w, vec = np.linalg.eigh(0.5 * (cov + cov.T))
-    order = np.argsort(w)[::-1]
-    w, vec = np.maximum(w[order], 0.0), vec[:, order]
-    total = float(np.sum(w))
-    k = 1 if total <= 0 else int(min(GP_MAX_MODES, np.searchsorted(np.cumsum(w) / total, GP_MODES) + 1))
-    return mean, vec[:, :k] * np.sqrt(w[:k])[None, :]
 
-def rqmc_paths(mean: np.ndarray, parts: np.ndarray, u: np.ndarray) -> np.ndarray:
-    """Paths of the Gaussian predictive (``principal_parts``) from the uniforms ``u``, one column per
-    component."""
-    from scipy.stats import norm
-
-    z = norm.ppf(np.clip(u[:, :parts.shape[1]], 1e-12, 1 - 1e-12))
-    return mean[None, :] + z @ parts.T
-
-def threshold_quantiles(ends: np.ndarray, above: float, u: np.ndarray) -> np.ndarray:
-    """``threshold_draws``'s truncated normal at the uniforms ``u`` (its inverse distribution function)."""
-    from scipy.stats import truncnorm
-
-    m, sd = float(np.mean(ends)), max(float(np.std(ends, ddof=1)), 1e-3)
-    a = min((above - m) / sd, 30.0)
-    return np.asarray(truncnorm(a, np.inf, loc=m, scale=sd).ppf(u))
 
 def gp_lives_rqmc(g: tuple[np.ndarray, np.ndarray, np.ndarray], s: LevelSetting, grow: np.ndarray,
                   ends: np.ndarray | None, above: float, fixed_level: float, seed: int) -> np.ndarray:
     """Remaining lives (hours) of one point under setting ``s`` from its predictive ``g`` (future hours,
-    mean, principal parts), by randomised quasi-Monte Carlo."""
-    future_h, mean, parts = g
-    every = max(1, len(future_h) // GP_RQMC_GRID)      # the crossing is interpolated: a coarser grid will do
-    future_h, mean, parts = future_h[::every], mean[::every], parts[::every]
-    u = rqmc_uniforms(GP_MAX_MODES + 2, seed)
-    paths = rqmc_paths(mean, parts, u[:, :GP_MAX_MODES])
-    if s.slope == "drawn":             # stratified: every library growth equally often
-        own = np.sort(grow)[np.minimum((u[:, -1] * len(grow)).astype(int), len(grow) - 1)]
-        paths = paths + (own - np.mean(grow))[:, None] * future_h[None, :]
-    thresholds = (np.full(len(u), fixed_level) if ends is None else threshold_quantiles(ends, above, u[:, -2]))
-    return crossing_interpolated(future_h, paths, thresholds)
-
-def crossing_interpolated(future_h: np.ndarray, paths: np.ndarray, thresholds: np.ndarray) -> np.ndarray:
-    """``first_crossing``, the time interpolated linearly between the grid times either side of the
-    crossing: the grid's steps (about 4 % of the time since the onset) are near the 5 % by which the
-    challenge score halves when late, so a crossing snapped to the grid moved the act-by time, and the
-    score, from seed to seed."""
-    crossed = paths >= thresholds[:, None]
-    i = np.argmax(crossed, axis=1)
-    rows = np.arange(len(paths))
-    before = np.maximum(i - 1, 0)
-    lo, hi = paths[rows, before], paths[rows, i]
-    frac = np.where((i > 0) & (hi > lo), (thresholds - lo) / np.where(hi > lo, hi - lo, 1.0), 1.0)
-    t = future_h[before] + np.clip(frac, 0.0, 1.0) * (future_h[i] - future_h[before])
-    return np.where(crossed.any(axis=1), t, NO_CROSSING_H)
+    mean, principal parts), by randomised quasi-Monte Carlo (``engine.trend.pool.gp_lives_rqmc``)."""
+    return _gp_lives_rqmc(g, s.slope == "drawn", grow, ends, above, fixed_level, seed)
 
 ACT_BY_LEVELS = np.linspace(0.0025, 0.9975, 399)   # candidates of the act-by time: finer than percentiles
 
@@ -1423,7 +1181,7 @@ def score_gp(histories: dict, run: str, library_runs: list[str], settings: list[
                 key = (run, ci, pt, s.indicator, tuple(library_runs), sd)
                 if key not in cache:
                     g = gp_predictive_since_onset(days, v, hi, (float(np.mean(grow)), sd))
-                    cache[key] = None if g is None else (g[0], *principal_parts(g[1], g[2]))
+                    cache[key] = None if g is None else predictive_parts(g)
                 if cache[key] is None:
                     continue
                 above = max(passed.values()) if s.ends == "run" else passed[pt]
@@ -1435,13 +1193,7 @@ def score_gp(histories: dict, run: str, library_runs: list[str], settings: list[
 
 def pit(raw: GpRaw) -> float:
     """The probability integral transform of the actual life: the share of the predictive's lives below it."""
-    return float(np.mean(raw.lives < raw.actual) + 0.5 * np.mean(raw.lives == raw.actual))
-
-def recalibrated(lives: np.ndarray, pits: np.ndarray) -> np.ndarray:
-    """The lives at the levels where the library's actual lives fell: level q of the answer is the
-    predictive's quantile at the q-quantile of the library's PIT values (Kuleshov et al. 2018)."""
-    levels = (np.arange(len(lives)) + 0.5) / len(lives)
-    return np.quantile(lives, np.clip(np.quantile(pits, levels), 0.0, 1.0))
+    return _pit(raw.lives, raw.actual)
 
 def judge(raw: GpRaw | None, pits: np.ndarray | None = None) -> Cut | None:
     """The cut's scores from its predictive, recalibrated by the library's ``pits`` when given."""
@@ -1529,7 +1281,7 @@ def gp_methods(histories: dict, runs: list[str], lives_h: dict[str, float], seed
 #   library of the rest).
 #
 # Each method answers with the earlier of its points (the smaller median), as alone; its answer stands
-# as its quantiles at POOL_LEVELS. A method with no answer at a cut (before its own onset) leaves the
+# as its quantiles at engine.trend.pool.LEVELS. A method with no answer at a cut (before its own onset) leaves the
 # pool; the others keep their weights, renormalised (all of them equal when those left weigh nothing).
 # The act-by time is the point with the best expected challenge score under the pool: by linearity,
 # sum_k w_k E_k[A(point)], so each method's expectation is computed once per cut and any weights read
@@ -1540,7 +1292,6 @@ def gp_methods(histories: dict, runs: list[str], lives_h: dict[str, float], seed
 # chosen for the outer fold, on the same five runs: the held-out run never enters).
 
 POOL_METHODS = ("exponential", "gaussian process", "hazards")
-POOL_LEVELS = (np.arange(512) + 0.5) / 512      # each method's answer stands as its quantiles at these
 POOL_STEP = 0.1                                  # the weights' grid on the simplex (66 triples of three)
 POOL_GP = LevelSetting("gaussian process", LIMITED, "point", True, "drawn")
 POOL_SEED = GP_SEEDS[0]
@@ -1550,54 +1301,37 @@ POOL_MIN_H = 1.0 / 3600.0                        # a median under one second cou
 @dataclass(frozen=True)
 class PoolCut:
     """One cut, ready to be pooled under any weights: the actual remaining life and the time elapsed
-    (hours), where the pool is judged (the union of the methods' quantiles, hours, sorted), each method's
-    distribution function and expected challenge score of acting there (a row of zeros: no answer)."""
+    (hours), and the methods' answers laid on common points (``engine.trend.pool.Pool``)."""
     run: str
     actual: float
     elapsed: float
-    points: np.ndarray
-    cdf: np.ndarray
-    expected: np.ndarray
-    answered: tuple[bool, ...]
+    pool: Pool
+
+    @property
+    def answered(self) -> tuple[bool, ...]:
+        return self.pool.answered
 
 
 def pool_cut(run: str, actual: float, elapsed: float, lives: list[np.ndarray | None]) -> PoolCut | None:
     """A PoolCut from each method's remaining lives (hours, any number of them; None: no answer);
     None when no method answers."""
-    qs = [None if x is None else np.quantile(np.asarray(x, float), POOL_LEVELS) for x in lives]
-    got = [q for q in qs if q is not None]
-    if not got:
-        return None
-    points = np.unique(np.concatenate(got))
-    cdf = np.zeros((len(qs), len(points)))
-    expected = np.zeros((len(qs), len(points)))
-    for k, q in enumerate(qs):
-        if q is None:
-            continue
-        cdf[k] = np.searchsorted(np.sort(q), points, side="right") / len(q)
-        truth = np.maximum(q, 1e-12)
-        er = 100 * (truth[None, :] - points[:, None]) / truth[None, :]
-        expected[k] = challenge_score(er).mean(axis=1)
-    return PoolCut(run, actual, elapsed, points, cdf, expected, tuple(q is not None for q in qs))
+    pool = pool_of(lives)
+    return None if pool is None else PoolCut(run, actual, elapsed, pool)
 
 
 def pool_weights(c: PoolCut, weights: tuple[float, ...]) -> np.ndarray:
     """The weights of the methods that answered at the cut, renormalised (equal when they weigh nothing)."""
-    w = np.array(weights, float) * np.array(c.answered, float)
-    return w / w.sum() if w.sum() > 0 else np.array(c.answered, float) / sum(c.answered)
+    return c.pool.weights(weights)
 
 
 def pool_quantile(c: PoolCut, weights: tuple[float, ...], q: float) -> float:
     """The ``q`` quantile of the pool: the first point where its distribution function reaches q."""
-    f = pool_weights(c, weights) @ c.cdf
-    return float(c.points[min(len(c.points) - 1, int(np.searchsorted(f, q - 1e-12)))])
+    return c.pool.quantile(weights, q)
 
 
 def pool_act_by(c: PoolCut, weights: tuple[float, ...]) -> float:
     """The point (above 0) with the best expected challenge score under the pool (0: none above 0)."""
-    e = pool_weights(c, weights) @ c.expected
-    ok = c.points > 0
-    return float(c.points[ok][int(np.argmax(e[ok]))]) if ok.any() else 0.0
+    return c.pool.act_by(weights)
 
 
 def pool_judge(c: PoolCut | None, weights: tuple[float, ...]) -> tuple[Cut, float] | None:
@@ -1655,13 +1389,8 @@ def _hazard_lives(histories: dict, run: str, fit: HazardFit, s: HazardSetting, n
     (the unit with the smaller median)."""
     best: tuple[float, np.ndarray] | None = None
     for c in _units(histories[run], s.points, now_h * 3600.0):
-        if c.onset_h is None:
-            continue
-        s0 = c.t_h[-1] - (0.0 if s.clock == "run" else c.onset_h)
-        slope = max(recent_slope(c), 0.0) if s.future == "trend" else 0.0
-        z0 = float(c.z[-1] if s.covariate == "now" else np.max(c.z))
-        x = hazard_lives(fit, s0, z0, slope)
-        if best is None or float(np.median(x)) < best[0]:
+        x = hazard_answer(c, fit, s)
+        if x is not None and (best is None or float(np.median(x)) < best[0]):
             best = (float(np.median(x)), x)
     return None if best is None else best[1]
 
@@ -1744,6 +1473,18 @@ class PoolInputs:
                 out.append(pool_cut(run, actual, self.lives_h[run] - actual, lives))
             self._cuts[key] = out
         return self._cuts[key]
+
+
+def pool_prior_from(ins: PoolInputs, lib: tuple[str, ...]) -> PoolPrior:
+    """What ``tellwave trend``'s pool needs, learned from the runs ``lib`` only (a fold's library): each
+    point's end level and growth, the GP's calibration (each run of ``lib`` scored with the rest), the
+    hazards' bearing-form setting chosen on ``lib`` (each run scored with the rest) and its fit on ``lib``."""
+    h = ins.h
+    spacing = float(np.median(np.concatenate([np.diff(h[r][pt][LIMITED][0]) for r in lib for pt in h[r]])))
+    s = ins.hazard_setting(lib)
+    return PoolPrior(f"pool prior learned from {len(lib)} accelerated laboratory run-to-failure tests",
+                     LIMITED, LIMIT_G, spacing, end_levels(h, list(lib), LIMITED, "point", True),
+                     library_slopes(h, list(lib), LIMITED), ins.pits(lib), s, ins.hazard_fit(lib, s), lib)
 
 
 def _pool_row(name: str, judged: list[tuple[Cut, float] | None], cuts: list[PoolCut | None], runs: list[str]) -> str:

@@ -334,7 +334,7 @@ def test_the_hazard_fit_finds_the_parameters_its_runs_were_drawn_with(rng):
     # 400 runs drawn from beta 2, eta 5 h, gamma 1.2: maximum likelihood lands within a few standard
     # errors (derived: for 400 failures the standard error of beta is about beta / sqrt(400) x 0.78,
     # 0.08; of gamma about 0.1)
-    from bench.femto_compare import fit_hazard
+    from engine.trend.pool import fit_hazard
 
     fit = fit_hazard(_weibull_ph_runs(rng, 400, 2.0, 5.0, 1.2), 0.0)
     assert fit.beta == pytest.approx(2.0, abs=0.25)
@@ -347,7 +347,7 @@ def test_the_conditional_remaining_life_is_the_weibulls():
     # beta 1 and gamma 0 is the exponential law, memoryless: the median remaining life is eta ln 2 at
     # any age (derived). beta 2: S(u | s0) = exp(-((s0 + u)^2 - s0^2) / eta^2), so the median solves
     # (s0 + u)^2 = s0^2 + eta^2 ln 2 (derived)
-    from bench.femto_compare import HazardFit, hazard_lives
+    from engine.trend.pool import HazardFit, hazard_lives
 
     for s0 in (0.0, 3.0, 30.0):
         assert np.median(hazard_lives(HazardFit(1.0, 4.0, 0.0), s0, 0.0, 0.0)) == pytest.approx(4 * np.log(2), rel=0.01)
@@ -363,7 +363,7 @@ def test_a_condition_going_on_at_its_slope_integrates_to_the_held_one_at_a_tiny_
     from scipy.integrate import quad
     from scipy.optimize import brentq
 
-    from bench.femto_compare import HazardFit, hazard_lives
+    from engine.trend.pool import HazardFit, hazard_lives
 
     fit = HazardFit(2.0, 4.0, 1.5)
     held = hazard_lives(fit, 2.0, 0.4, 0.0)
@@ -393,7 +393,8 @@ def _histories(runs):
 
 def test_the_hazard_bench_answers_only_after_the_first_predicting_time_and_scores_each_cut():
     from bench.femto import CUTS
-    from bench.femto_compare import Cut, HazardSetting, condition_of, score_hazard_run
+    from bench.femto_compare import Cut, condition_of, score_hazard_run
+    from engine.trend.pool import HazardSetting
 
     h = _histories({"a": (1.0, 3.0, 1.5), "b": (2.0, 4.0, 1.2), "c": (1.5, 3.5, 1.4), "d": (2.3, 4.0, 2.0)})
     lives = {r: max(max(p["accel_rms_g"][0]) for p in h[r].values()) / 3600 for r in h}
@@ -463,9 +464,10 @@ def test_a_runs_end_level_is_the_higher_of_its_two_points(rng):
 
 def test_the_exponential_model_to_one_fixed_level_is_the_models_own_projection(rng):
     # every draw's threshold at the limit's own level: the same draws as exponential_life gives (derived)
-    from bench.femto_compare import exponential_to_levels, healthy_level
+    from bench.femto_compare import exponential_to_levels
     from engine.trend.degradation import Prior
     from engine.trend.health import shipped_settings, smooth_log
+    from engine.trend.pool import healthy_level
     from engine.trend.projection import exponential_life
 
     v = _rising(rng)[:70]
@@ -488,7 +490,7 @@ def test_the_gp_likelihood_is_the_normal_density_of_its_covariance(rng):
     # scipy as reference: minus the log marginal likelihood is minus the log density of N(0, K + noise)
     from scipy.stats import multivariate_normal
 
-    from bench.femto_compare import _gp_cov, gp_neg_log_likelihood
+    from engine.trend.pool import _gp_cov, gp_neg_log_likelihood
 
     x = np.linspace(0.0, 1.0, 25)
     y = 2.0 * x + rng.normal(0.0, 0.1, 25)
@@ -499,7 +501,8 @@ def test_the_gp_likelihood_is_the_normal_density_of_its_covariance(rng):
 def test_the_gp_carries_a_straight_rise_forward_and_crosses_where_the_line_does(rng):
     # readings on y = 2x (x in times the time since the onset): the linear basis carries the line, so at
     # x = 2 the paths centre on 4 (derived), and a threshold of 3 is crossed near x = 1.5
-    from bench.femto_compare import first_crossing, gp_fit, gp_paths
+    from bench.femto_compare import first_crossing, gp_paths
+    from engine.trend.pool import gp_fit
 
     x = np.linspace(0.0, 1.0, 40)
     y = 2.0 * x + rng.normal(0.0, 0.02, 40)
@@ -532,7 +535,8 @@ def test_quasi_random_paths_have_the_predictives_quantiles_under_every_seed():
     # 0.02 sd (plain random draws of the same number: an sd of 0.02-0.027 sd, sqrt(q(1-q)) / pdf / 64)
     from scipy.stats import norm
 
-    from bench.femto_compare import GP_MAX_MODES, GP_SEEDS, principal_parts, rqmc_paths, rqmc_uniforms
+    from bench.femto_compare import GP_SEEDS
+    from engine.trend.pool import GP_MAX_MODES, principal_parts, rqmc_paths, rqmc_uniforms
 
     t = np.linspace(0.0, 1.0, 30)
     mean = 2.0 * t
@@ -552,7 +556,7 @@ def test_threshold_quantiles_are_the_truncated_normals_inverse():
     # quantile; passed above 2.5 every threshold is above it, and the median is that of the truncated normal
     from scipy.stats import norm, truncnorm
 
-    from bench.femto_compare import threshold_quantiles
+    from engine.trend.pool import threshold_quantiles
 
     ends = np.array([1.5, 2.0, 2.5])          # mean 2, sd 0.5 (derived)
     u = np.array([0.1, 0.5, 0.9])
@@ -565,7 +569,8 @@ def test_recalibration_maps_the_levels_to_where_the_librarys_actual_lives_fell()
     # predictives (PIT values evenly over 0.25-0.75): the recalibrated 10th and 90th percentiles are the
     # old 30th and 70th (derived: the 0.1 quantile of a uniform on 0.25-0.75 is 0.3); PIT values evenly
     # over 0-1 (calibrated already) leave the lives as they were
-    from bench.femto_compare import GpRaw, judge, pit, recalibrated
+    from bench.femto_compare import GpRaw, judge, pit
+    from engine.trend.pool import recalibrated
 
     lives = np.linspace(0.0, 100.0, 4001)
     narrow = recalibrated(lives, np.linspace(0.25, 0.75, 501))
@@ -585,7 +590,8 @@ def test_recalibration_maps_the_levels_to_where_the_librarys_actual_lives_fell()
 def test_the_interpolated_crossing_falls_where_the_straight_path_meets_the_threshold():
     # a path rising as y = t on a grid 1 h apart crosses 2.5 at 2.5 h (derived), not at the 3 h grid time
     # first_crossing gives; one already past at the first grid time crosses there; one never: NO_CROSSING_H
-    from bench.femto_compare import NO_CROSSING_H, crossing_interpolated, first_crossing
+    from bench.femto_compare import first_crossing
+    from engine.trend.pool import NO_CROSSING_H, crossing_interpolated
 
     future = np.arange(1.0, 11.0)
     paths = np.vstack([future, future + 5.0, np.zeros(10)])
@@ -612,64 +618,8 @@ def test_the_fine_act_by_time_is_the_best_expected_score_of_a_lognormal():
     lives = dist.ppf((np.arange(16384) + 0.5) / 16384)
     assert act_by_fine(lives) == pytest.approx(best, rel=0.01)
 
-# ------------------------------------- bench.femto_compare: the linear opinion pool of three methods
-
-def test_the_pools_distribution_is_the_weighted_sum_of_the_methods():
-    # two normal answers, N(10, 1) and N(20, 2) hours, pooled 0.3 / 0.7: the pool's distribution function
-    # is 0.3 F1 + 0.7 F2 (Stone 1961's linear opinion pool), scipy.stats as reference, within the 1/512
-    # a method's quantiles stand for; its median is the root of F = 0.5 (scipy's brentq)
-    from scipy.optimize import brentq
-    from scipy.stats import norm
-
-    from bench.femto_compare import POOL_LEVELS, pool_cut, pool_quantile, pool_weights
-
-    u = (np.arange(20000) + 0.5) / 20000
-    c = pool_cut("x", 15.0, 0.0, [norm.ppf(u, 10.0, 1.0), norm.ppf(u, 20.0, 2.0)])
-    assert c is not None
-
-    def mix(x):
-        return 0.3 * norm.cdf(x, 10.0, 1.0) + 0.7 * norm.cdf(x, 20.0, 2.0)
-
-    np.testing.assert_allclose(pool_weights(c, (0.3, 0.7)) @ c.cdf, mix(c.points), atol=1.5 / len(POOL_LEVELS))
-    assert pool_quantile(c, (0.3, 0.7), 0.5) == pytest.approx(brentq(lambda x: mix(x) - 0.5, 5.0, 30.0), rel=0.01)
-    assert pool_quantile(c, (0.3, 0.7), 0.1) == pytest.approx(brentq(lambda x: mix(x) - 0.1, 5.0, 30.0), rel=0.01)
-    # weights on one method alone: that method's own quantiles
-    assert pool_quantile(c, (1.0, 0.0), 0.9) == pytest.approx(norm.ppf(0.9, 10.0, 1.0), rel=0.005)
-
-def test_a_method_without_an_answer_leaves_the_pool_and_the_others_keep_their_shares():
-    from bench.femto_compare import pool_cut, pool_judge, pool_weights
-
-    x = np.linspace(5.0, 15.0, 1001)
-    c = pool_cut("x", 10.0, 0.0, [x, None, 2 * x])
-    assert c is not None and c.answered == (True, False, True)
-    np.testing.assert_allclose(pool_weights(c, (0.2, 0.6, 0.2)), [0.5, 0.0, 0.5])
-    # the weights name only the method that did not answer: those that did, equal
-    np.testing.assert_allclose(pool_weights(c, (0.0, 1.0, 0.0)), [0.5, 0.0, 0.5])
-    assert pool_cut("x", 10.0, 0.0, [None, None]) is None and pool_judge(None, (1.0,)) is None
-
-def test_the_pools_act_by_time_is_the_best_expected_score_of_the_mixture():
-    # scipy as reference: the expected challenge score over a 50/50 mixture of two lognormals (medians
-    # 8 and 14 h, sigma 0.2 and 0.4) at each estimate, integrated by quadrature and maximised; the pool's
-    # act-by time agrees within 1 %, and each method alone gives its own act_by_fine within 1 %
-    from scipy import integrate, optimize
-    from scipy.stats import lognorm
-
-    from bench.femto_compare import act_by_fine, pool_act_by, pool_cut
-    from engine.trend.degradation import challenge_score
-
-    a, b = lognorm(0.2, scale=8.0), lognorm(0.4, scale=14.0)
-
-    def expected(c: float) -> float:
-        return integrate.quad(lambda x: float(challenge_score(100 * (x - c) / x)) * 0.5 * (a.pdf(x) + b.pdf(x)),
-                              0.0, 80.0, points=[c], limit=400)[0]
-
-    best = optimize.minimize_scalar(lambda c: -expected(c), bounds=(2.0, 20.0), method="bounded").x
-    u = (np.arange(16384) + 0.5) / 16384
-    c = pool_cut("x", 10.0, 0.0, [a.ppf(u), b.ppf(u)])
-    assert c is not None
-    assert pool_act_by(c, (0.5, 0.5)) == pytest.approx(best, rel=0.01)
-    assert pool_act_by(c, (1.0, 0.0)) == pytest.approx(act_by_fine(a.ppf(u)), rel=0.01)
-    assert pool_act_by(c, (0.0, 1.0)) == pytest.approx(act_by_fine(b.ppf(u)), rel=0.01)
+# ------------------------------------- bench.femto_compare: the linear opinion pool's nested weights
+# (the pool itself is engine/trend/pool.py: tests/trend/test_pool.py)
 
 def test_the_nested_weights_are_the_best_on_the_grid_and_the_nearest_equal_among_ties():
     # method 1 certain and right (10 h), method 2 certain and half of it (5 h). Acting at 10 h expects

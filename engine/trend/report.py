@@ -433,7 +433,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                     point: str | None = None, plots: bool = False, repairs: list[Repair] | None = None,
                     learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
                     plot_units: ShownUnits | None = None, alarms: list[dict] | None = None,
-                    calls: list[dict] | None = None, urgency: dict[str, dict] | None = None) -> dict:
+                    calls: list[dict] | None = None, urgency: dict[str, dict] | None = None,
+                    bearings: dict[str, str] | None = None, pool: bool = True) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
     they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
@@ -449,8 +450,13 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     (``healthy_baseline``). ``urgency``: point -> the urgency (id, label, within) of the diagnosis of its latest
     reading: with an acceleration risen many-fold, it says whether a velocity projection to a zone boundary
     is the time that governs (``governing``).
+    ``bearings``: point -> the bearing it sits at (the machine file), how the pooled answer's hazards group
+    the points (``pool.pool_section``; without it each point is a bearing of its own); ``pool``: False leaves
+    the pooled answer out (``points[].pool`` None), where no report shows it (the trend ``diagnose --store``
+    reads its facts from, on every reading stored: the GP costs about a CPU second a point).
     """
     from ..advice import zone_of
+    from .pool import pool_section
 
     limits = limits or {}
     repairs = repairs or []
@@ -458,6 +464,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     if point is not None:
         by_point = {k: v for k, v in by_point.items() if k == point}
     points = []
+    used_at: dict[str, dict[str, Series]] = {}
+    sources: dict[str, Series | None] = {}
     for pt, by_name in sorted(by_point.items()):
         direction = next((r["direction"] for r in rows if (r["point"] or r["channel"]) == pt), "")
         reset = reset_of(repairs, pt)
@@ -467,6 +475,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         source = choose(by_name)
         call = first_fault_call(calls, pt, reset)
         until = None if call is None else _naive(datetime.fromisoformat(call["taken_at"]))
+        used_at[pt], sources[pt] = used, source
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
             if name in by_name:
                 indicators.append(_indicator(name, by_name[name], used.get(name), until))
@@ -515,6 +524,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
                                     plot_units or units, here)
         points.append(entry)
+    for entry in points:        # the pooled answer; its hazards judge a bearing by all of its points
+        entry["pool"] = pool_section(str(entry["point"]), used_at, sources, bearings) if pool else None
     # in ``units`` (engine/trend/shown.py); None: the store's Hz and mm/s RMS
     return trend_in_units({"tellwave": __version__, "machine": machine,
             "made_at": datetime.now(UTC).isoformat(timespec="seconds"),
@@ -636,9 +647,11 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     alarms = judged_alarms(store.alarms(machine), file_alarms, {r["point"] or r["channel"] for r in rows})
     from .repairs import machine_of
 
-    doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms,
+    loaded = machine_of(files[-1], known) if files else None
+    bearings = {} if loaded is None else {p.id: p.at for p in loaded.points if p.at in {b.id for b in loaded.bearings}}
+    doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms, bearings=bearings,
                           point=point, plots=plots, repairs=repairs, units=units,
-                          calls=fault_calls(store, machine, machine_of(files[-1] if files else None, known)),
+                          calls=fault_calls(store, machine, loaded),
                           urgency=latest_urgency(readings),
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
                                                      else _repairs(store, m, store.readings(m), names, known)))
