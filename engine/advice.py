@@ -292,13 +292,18 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
 
 def _twin_confirm(h: Hypothesis, machine: Machine, data: dict) -> tuple[str, ...]:
     """The line that says a bearing hypothesis below a call cannot be told from another bearing's of the same
-    rates, and where to measure (``twin_bearing_confirm``); () when it is a call or has no such twin."""
+    rates, and where to measure (``twin_bearing_confirm``); () when it is a call, has no such twin, or the sensors
+    told the two apart (a rule read the twin's own lines as this bearing's)."""
     line = data.get("twin_bearing_confirm")
     if line is None or h.confident or h.family != "bearing":
         return ()
     twins = sorted({f["twin"] for firing in h.support for _, f in firing.facts
                     if f.get("twin") and f.get("component") == h.component})
-    if not twins:
+    # a firing for it that reads the twin's own lines as this bearing's (the louder housing's): the sensors
+    # told the two apart, and what holds it below a call is something else
+    told = any(f.get("component") in twins and f.get("twin") == h.component
+               for firing in h.support for _, f in firing.facts)
+    if not twins or told:
         return ()
     at = {h.component, *twins}
     points = [p.id for p in getattr(machine, "points", ()) if p.at in at]

@@ -400,6 +400,18 @@ def _twin(b, defect: str, rate: float, defects) -> str:
     return min(close)[1] if close else ""
 
 
+def _alike(b, defect: str, rate: float) -> str:
+    """Another defect of the same bearing whose impact rate lies within ``TIE`` of ``rate`` (a ball's 2 x BSF
+    beside BPFO, as in some spherical roller bearings), or "": the lines alone cannot tell the two apart, only
+    what rides on them (a ball's cage-rate modulation) or a finer look. Race and ball rates only: the cage
+    rate is a low comb whose harmonics the line sharing already weighs."""
+    if defect == "FTF":
+        return ""
+    close = [(abs(b.impact_rate_hz(d) / rate - 1), d) for d in ("BPFO", "BPFI", "BSF")
+             if d != defect and abs(b.impact_rate_hz(d) / rate - 1) <= TIE]
+    return min(close)[1] if close else ""
+
+
 def _tone_facts(c, view, defects, all_found, owned, lines, seen: set[str]) -> list[dict]:
     out = []
     ses = view.ses
@@ -428,6 +440,7 @@ def _tone_facts(c, view, defects, all_found, owned, lines, seen: set[str]) -> li
             "ball_rate_on_shaft_order": _ball_rate_on_shaft_order(b),
             "shaft_seen": b.shaft in seen,
             "twin": _twin(b, defect, rate, defects),
+            "alike_defect": _alike(b, defect, rate),
             "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
             "band_kurtosis": view.band_kurtosis,

@@ -141,6 +141,9 @@ FACTS: dict[str, dict[str, F]] = {
         "band_lo_hz": F("number", "demodulation band, lower edge, Hz", "Hz"),
         "band_hi_hz": F("number", "demodulation band, upper edge, Hz", "Hz"),
         "band_kurtosis": F("number", "spectral kurtosis of the band", ""),
+        "alike_defect": F("string", "another defect of the same bearing (BPFO, BPFI or BSF) whose rate lies within "
+                          "1 % of this one's (a ball's 2 x BSF beside BPFO): the lines alone cannot tell the two "
+                          "apart; empty if none", ""),
     },
     "load_zone_modulation": CHANNEL_FIELDS | {
         "defect": F("string", "BPFO, BPFI or BSF", ""),
@@ -384,6 +387,7 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "impact_train.matched_name": RATE_NAMES + ("none",),
     "impact_train.read_from": ("residual", "waveform"),
     "envelope_tone.defect": BEARING_DEFECTS,
+    "envelope_tone.alike_defect": ("BPFO", "BPFI", "BSF", ""),
     "load_zone_modulation.defect": BEARING_DEFECTS,
     "load_zone_modulation.modulation": ("1X", "FTF"),
     "sideband_family.carrier": SIDEBAND_CARRIERS,

@@ -46,6 +46,18 @@ def combine_all(cfs: Iterable[float]) -> float:
     return combine(support, against)
 
 
+def held_at(ceiling: float, support: Iterable[float], against: Iterable[float]) -> float:
+    """The opposing CF that brings ``combine_all(support + against)`` down to ``ceiling`` exactly (a rule
+    with ``certainty: {at_most: X}``): the trail shows the ceiling as what it took, and the certainty
+    still combines from the firings listed. For a total above the ceiling (``0 <= ceiling < total``)."""
+    s = reduce(combine, (c for c in support if c > 0), 0.0)
+    a = reduce(combine, (c for c in against if c < 0), 0.0)
+    if not 0 <= ceiling < combine(s, a):
+        raise ValueError(f"a ceiling of {ceiling:g} does not hold down a total of {combine(s, a):g}")
+    needed = -(s - ceiling) / (1 - ceiling)          # combine(s, needed) == ceiling, |needed| <= s
+    return (needed - a) / (1 + a)                    # combine(a, result) == needed (both opposing)
+
+
 def ramp(value: float, start: float, full: float) -> float:
     """Grade in [0, 1]: 0 at ``start``, 1 at ``full``, linear between (either direction)."""
     if start == full:

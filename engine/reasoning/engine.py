@@ -402,6 +402,10 @@ class Reasoner:
         hypotheses = []
         for (fault_id, component), per_rule in by_hypothesis.items():
             support, against, extra, same = [], [], 0, []
+            # a ceiling (certainty: at_most) lends nothing: it holds the hypothesis down, the lowest one counting
+            ceilings = sorted(((r.ceiling, r.id, r, f) for rid in per_rule for r, f in per_rule[rid]
+                               if r.ceiling is not None), key=lambda c: (c[0], c[1]))
+            per_rule = {rid: kept for rid, e in per_rule.items() if (kept := [x for x in e if x[0].ceiling is None])}
             for rule_id in sorted(per_rule):
                 entries = per_rule[rule_id]
                 extra += len(entries) - 1
@@ -415,6 +419,15 @@ class Reasoner:
                     against.append((rule, best))
             total = cf.combine_all([f.certainty for _, f in support + against])
             raw = cf.combine_all(max((_raw(f) for _, f in entries), key=abs) for entries in per_rule.values())
+            if ceilings and total > ceilings[0][0]:
+                at_most, _, holder, held = ceilings[0]
+                took = cf.held_at(at_most, [f.certainty for _, f in support], [f.certainty for _, f in against])
+                against.append((holder, replace(held, certainty=round(took, 6))))
+                total, raw = at_most, min(raw, at_most)
+            elif ceilings:
+                raw = min(raw, ceilings[0][0])
+            if not support and not against:
+                continue      # only a ceiling fired: nothing to hold down
             stages = [r.stage for r, f in support if r.stage is not None]
             known = self.rulebook.faults[fault_id]
             hypotheses.append(Hypothesis(

@@ -87,13 +87,15 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
             fault = f"the fault named by {_value(rule.fault.value)} ({names})"
         else:
             fault = rulebook.faults[rule.fault].name
-        sign = "counts against" if rule.weight < 0 else "supports"
+        sign = ("holds at most" if rule.ceiling is not None else
+                "counts against" if rule.weight < 0 else "supports")
         lines.append(f"  it {sign} {fault} on {_value(rule.component)}" +
                      (f", damage stage {rule.stage}" if rule.stage else ""))
     else:
         fields = ", ".join(f"{k} = {_value(v)}" for k, v in rule.derived_fields)
         lines.append(f"  it derives a {_words(rule.derives or '')} fact ({fields}) for other rules")
-    weight = f"certainty {100 * rule.weight:+.0f} %"
+    weight = (f"certainty {100 * rule.weight:+.0f} %" if rule.ceiling is None else
+              f"certainty held at {100 * rule.ceiling:.0f} % at most: the evidence cannot tell this fault from a rival")
     aliases = {p.alias: p.kind for p in rule.needs}
     for r in rule.ramps:
         kind = aliases.get(r.value.alias or "")

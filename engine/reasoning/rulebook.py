@@ -161,13 +161,14 @@ class Rule:
     learned_by: str | None = None    # the learned overlay (as labelled) whose weight this rule carries
     weight_kept: str | None = None   # why the learned overlay kept its weight (its site record shown all the same)
     counts_with: str | None = None   # a rule reading the same signs: for a hypothesis the two count once
+    ceiling: float | None = None     # ``certainty: {at_most: X}``: holds its hypothesis at X at most (weight 0)
 
     @property
     def fingerprint(self) -> str:
         """What a learned weight was learned against: everything that decides when the rule fires and what
         it concludes (needs, none_of, conclusion, grading, parameters' values), not its weight or words."""
         what = (self.needs, self.none_of, self.fault, self.component, self.stage, self.derives,
-                self.derived_fields, self.ramps, self.explains, self.weight > 0)
+                self.derived_fields, self.ramps, self.explains, self.weight > 0, self.ceiling)
         return hashlib.sha256(repr(what).encode("utf-8")).hexdigest()[:12]
 
     @property
@@ -404,6 +405,9 @@ def _apply_learned(doc, label: str, rules: dict[str, Rule], disabled) -> list[st
         if key == "kept":
             rules[rid] = replace(rule, site_record=(k, n), learned_by=label, weight_kept=entry["why"])
             continue
+        if rule.ceiling is not None:
+            raise RulebookError(f"rule {rid}: holds its hypothesis at most {rule.ceiling:g} and has no weight to "
+                                "learn", path=doc.path, line=line)
         if (entry["weight"] > 0) != (rule.weight > 0):
             raise RulebookError(f"rule {rid}: learned weight {entry['weight']:g} has the other sign from the rule's "
                                 f"{rule.weight:g}", path=doc.path, line=line)
@@ -904,6 +908,8 @@ class _RuleChecker:
         spec = self.raw["certainty"]
         if not isinstance(spec, dict):
             return float(spec), ()
+        if "at_most" in spec:
+            return 0.0, ()     # a ceiling lends nothing; it holds its hypothesis down (Rule.ceiling)
         ramps = []
         for j, r in enumerate(spec.get("grade_by") or []):
             where = ("certainty", "grade_by", j)
@@ -981,6 +987,15 @@ class _RuleChecker:
                       counts_with=self.raw.get("counts_with"))
         if "counts_with" in self.raw and "concludes" not in self.raw:
             self.fail("counts_with: only a rule that concludes a fault counts with another", "counts_with")
+        spec = self.raw["certainty"]
+        if isinstance(spec, dict) and "at_most" in spec:
+            if "concludes" not in self.raw:
+                self.fail("certainty: at_most holds a hypothesis down; only a rule that concludes a fault has one",
+                          "certainty")
+            if "counts_with" in self.raw:
+                self.fail("counts_with: a rule with certainty at_most lends nothing to count with another",
+                          "counts_with")
+            common["ceiling"] = float(spec["at_most"])
         if "concludes" in self.raw:
             c = self.raw["concludes"]
             fault = c["fault"]

@@ -3,12 +3,15 @@ which step, and that the advice never lets a trend lower one and says why it mov
 
 from __future__ import annotations
 
+import dataclasses
+
 import pytest
 
 from engine.advice import load_advice, urgency_raises
 from engine.evidence.vocabulary import fields_of
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
+from engine.readings import PhaseReading
 from engine.report import render
 from engine.simulation import as_reading, simulate
 
@@ -120,6 +123,10 @@ def test_a_trend_raises_a_quiet_diagnosis_and_says_why(reasoner):
 def test_a_trend_never_lowers_an_urgency(reasoner):
     m = load_machine(RW2)
     reading = as_reading(simulate(m, "unbalance", "pump", 4, None, 12800.0, 3.0, 2))
+    # the pump is measured horizontally only: 1X phase horizontal and vertical at its drive end (about 90 degrees
+    # apart) makes the unbalance a call (shaft.unbalance.one-radial-direction holds it at 45 % without)
+    reading = dataclasses.replace(reading, phase_1x=(PhaseReading("P1H", None, 40.0, None, "phase", 1),
+                                                     PhaseReading("pump_de", "vertical", 128.0, None, "phase", 2)))
     d = diagnose(reading, m, reasoner, more_facts=lambda facts, alarms: [
         trend_fact(point="P1H", indicator="accel_peak_g", change_pct=150.0), projected(50.0, id="trend-2")])
     assert d.advice.urgency.id == "act-now"        # stage-4 unbalance, zone D: the trend asks for watch and plan

@@ -15,6 +15,7 @@ A fault told by its level alone cannot be judged without a scale: a simulated un
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import shutil
 
@@ -27,6 +28,7 @@ from engine.common.yamlfile import load_schema
 from engine.evidence.vocabulary import level_fields
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
+from engine.readings import PhaseReading
 from engine.reasoning import CONFIDENT, Reasoner, load_rulebook
 from engine.simulation import Simulation, as_reading, simulate
 
@@ -136,13 +138,17 @@ def test_a_level_only_fault_with_a_gain_of_1000_is_not_called():
     machine = load_machine(CASES / "machines/rw2-raw-water-pump.yaml")
     reasoner = Reasoner(load_rulebook())
     sim = simulate(machine, "unbalance", "pump", 3, None, 12800.0, 3.0, 2)
-    plain = diagnose(as_reading(sim), machine, reasoner)
+    # the pump is measured horizontally only: 1X phase horizontal and vertical at its drive end (about 90 degrees
+    # apart) makes the unbalance a call (shaft.unbalance.one-radial-direction holds it at 45 % without)
+    phase = (PhaseReading("P1H", None, 40.0, None, "phase", 1),
+             PhaseReading("pump_de", "vertical", 128.0, None, "phase", 2))
+    plain = diagnose(dataclasses.replace(as_reading(sim), phase_1x=phase), machine, reasoner)
     assert (plain.reasoning.top.fault, plain.reasoning.top.component) == ("unbalance", "pump")
     assert plain.reasoning.top.confident                 # the simulated fault is clear when the scale is right
 
     gained = Simulation(sim.fs_hz, {k: x * 1000.0 for k, x in sim.channels.items()}, sim.points, sim.truth,
                         sim.speed_rpm)
-    d = diagnose(as_reading(gained), machine, reasoner)
+    d = diagnose(dataclasses.replace(as_reading(gained), phase_1x=phase), machine, reasoner)
     assert not d.reasoning.withheld and not d.reasoning.confident()
     doc = document_of(d, made_at="2026-01-01T00:00+00:00")
     summary = doc["verdict"]["summary"]

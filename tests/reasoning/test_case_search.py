@@ -14,6 +14,8 @@ from support import ROOT, one_error_line
 RW2 = ROOT / "cases/machines/rw2-raw-water-pump.yaml"
 CASE = (f"case: unbalance, found at repair\nmachine: {RW2}\n"
         "simulate: {fault: unbalance, component: pump, stage: 3, seed: 1, duration_s: 2.0, sample_rate_hz: 12800}\n"
+        # the pump is measured horizontally only: horizontal and vertical phase at its drive end make it a call
+        "phase_1x: [{point: P1H, phase_deg: 40}, {point: pump_de, direction: vertical, phase_deg: 128}]\n"
         "expect: {fault: unbalance, component: pump}\n")
 
 
