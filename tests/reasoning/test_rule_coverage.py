@@ -160,10 +160,6 @@ SIMULATED = [
      "bearing.defect.envelope-cage bearing.rolling-element.cage-modulation bearing.rolling-element.cage-rate-only "
      "bearing.tones.envelope-cage"),
     ("cage", "bw1", _fault("bw1", "cage"), "bearing.cage.shaft-modulation shaft.unbalance.against-cage-sidebands"),
-    # BW-1's blower bearing has 2 x BSF 0.7 % below BPFO: a ball's lines are given to the race by rank
-    ("rolling element whose ball rate falls on BPFO", "bw1",
-     lambda: as_reading(simulate(_machine("bw1"), "rolling-element", "blower_de", 3, None, 25600.0, 4.0, 1)),
-     "bearing.defect.alike-rates bearing.cage.alike-rates bearing.rolling-element.cage-rate-alike"),
     # RW-2's pump bearings are measured horizontally only
     ("unbalance on a pump measured horizontally only", "rw2",
      lambda: as_reading(simulate(_machine("rw2"), "unbalance", "pump", 2, None, 25600.0, 4.0, 1)),
