@@ -38,17 +38,12 @@ def _turn_pattern(s: Scene, rng: np.random.Generator, shaft_hz: float) -> np.nda
 def gear_signatures(s: Scene) -> dict[str, np.ndarray]:
     """Each mesh's two gears' tooth-to-tooth irregularity (m/s^2), by mesh id; drawn once per scene from a
     stream of its own (spawned: the scene's stream, and every other draw, stay as they were)."""
-    known = getattr(s, "_gear_signatures", None)
-    if known is not None:
-        return known
-    out = {}
-    if s.rates.meshes:
+    if s.rates.meshes and not s.gear_signatures:
         rng = s.rng.spawn(1)[0]
         for mesh in s.rates.meshes:
-            out[mesh.mesh] = (_turn_pattern(s, rng, s.speeds[mesh.driving_shaft])
-                              + _turn_pattern(s, rng, s.speeds[mesh.driven_shaft]))
-    s._gear_signatures = out      # type: ignore[attr-defined]  # a cache on the scene, not one of its fields
-    return out
+            s.gear_signatures[mesh.mesh] = (_turn_pattern(s, rng, s.speeds[mesh.driving_shaft])
+                                            + _turn_pattern(s, rng, s.speeds[mesh.driven_shaft]))
+    return s.gear_signatures
 
 
 def background(s: Scene, point: Point) -> np.ndarray:

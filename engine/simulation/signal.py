@@ -81,28 +81,6 @@ def periodic_impact_signal(first_s: float, period_s: float, amplitude: float, fs
     return np.fft.irfft(spectrum, m)[:n]
 
 
-def periodic_pattern_signal(first_s: float, period_s: float, amplitudes: np.ndarray, fs: float, n: int,
-                            ring: np.ndarray) -> np.ndarray:
-    """A pattern of impacts evenly spaced within each period (``amplitudes[k]`` at ``k`` / len of the
-    period after its start, as a gear's teeth come into mesh), the same every period from ``first_s``.
-
-    ``periodic_impact_signal`` for every impact of the pattern, summed in the frequency domain (the
-    pattern's phase terms by Horner's scheme, one transform), so the train stays exactly synchronous.
-    """
-    count = int(np.floor((n / fs - first_s) / period_s)) + 1 if first_s < n / fs else 0
-    m = n + len(ring)
-    f = np.fft.rfftfreq(m, 1.0 / fs)
-    z = np.exp(-2j * np.pi * f * period_s)
-    near_one = np.abs(1 - z) < 1e-9
-    series = np.where(near_one, count, (1 - z ** count) / np.where(near_one, 1, 1 - z))
-    step = np.exp(-2j * np.pi * f * period_s / len(amplitudes))
-    pattern = np.zeros(len(f), dtype=complex)
-    for a in np.asarray(amplitudes, dtype=float)[::-1]:
-        pattern = pattern * step + a
-    spectrum = np.exp(-2j * np.pi * f * first_s) * series * pattern * np.fft.rfft(ring, m)
-    return np.fft.irfft(spectrum, m)[:n]
-
-
 def impact_signal(times, amplitudes, fs, n, ring) -> np.ndarray:
     """Impacts of ``amplitudes`` at ``times`` (rounded to a sample), each ringing ``ring``."""
     from scipy import signal
@@ -134,6 +112,7 @@ class Scene:
     speed_scale: float = 1.0           # speed over the nominal speed
     fault_shafts: frozenset = frozenset()   # shafts of the faulty component
     t: np.ndarray = field(init=False)
+    gear_signatures: dict = field(init=False, default_factory=dict)   # mesh id -> its gears' sound scatter
 
     def __post_init__(self):
         self.t = np.arange(self.n) / self.fs
