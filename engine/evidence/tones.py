@@ -63,6 +63,18 @@ def one_x_mm_s(c: ChannelAnalysis, rc: Analysis) -> dict[str, float]:
     return dict(found)
 
 
+def searched_hz(rc: Analysis, f) -> tuple[str, float]:
+    """(rate name, Hz) a forcing frequency's line is looked for at: its own, but for a ball defect 2 x BSF.
+
+    A spall on a rolling element strikes both races once per spin turn, so its impacts, and the lines
+    they put in the spectrum, repeat at twice BSF (Randall & Antoni 2011, MSSP 25(2), section 2.1; the
+    envelope evidence and the impact trains read the ball at the same rate, ``BearingRates.impact_rate_hz``).
+    """
+    if f.family == "bearing" and f.name == "BSF":
+        return "2xBSF", rc.rates.bearing(f.component).impact_rate_hz("BSF")
+    return f.name, f.frequency_hz
+
+
 def _uses_velocity(family: str, freq_hz: float) -> bool:
     return family in ("shaft", "rotor", "belt", "electrical") or freq_hz < 1000.0
 
@@ -77,6 +89,7 @@ def _amplitudes_at(c: ChannelAnalysis, freqs: np.ndarray, fraction: float | np.n
 def tones(rc: Analysis) -> list[dict]:
     """A ``tone`` fact for each forcing frequency that stands above the floor on a channel."""
     wanted = [f for f in rc.forcing if f.name not in SKIPPED_AS_TONES and f.frequency_hz >= MIN_TONE_HZ]
+    searched = {f: searched_hz(rc, f) for f in wanted}
     out = []
     one_x_of = {c.name: one_x_mm_s(c, rc) for c in rc.channels}
     # the largest 1X of each shaft at each bearing, over the bearing's channels (radial and axial)
@@ -90,16 +103,18 @@ def tones(rc: Analysis) -> list[dict]:
         bearing_1x = {shaft: at_bearing[(c.location or c.name, shaft)] for shaft in one_x}
         hits = []
         for use_velocity in (True, False):
-            group = [f for f in wanted if _uses_velocity(f.family, f.frequency_hz) == use_velocity]
+            group = [f for f in wanted if _uses_velocity(f.family, searched[f][1]) == use_velocity]
             if not group:
                 continue
             spec = c.velocity if use_velocity else c.spectrum
-            lines = find_lines(spec, [f.frequency_hz for f in group], [_tol(rc, f.family) for f in group])
+            lines = find_lines(spec, [searched[f][1] for f in group], [_tol(rc, f.family) for f in group])
             for i, f in enumerate(group):
                 peak = lines.peak(i)       # None when the line was not found
                 if peak is None or (f.family == "bearing" and _is_shaft_order(rc, spec, lines.freq_hz[i], f.shaft)):
                     continue
                 if f.family == "electrical" and _shaft_order_nearer(rc, lines.freq_hz[i], f.frequency_hz):
+                    continue
+                if f.family == "bearing" and _other_source_nearer(rc, lines.freq_hz[i], searched[f][1]):
                     continue
                 hits.append((f, peak, spec))
         if not hits:
@@ -107,14 +122,14 @@ def tones(rc: Analysis) -> list[dict]:
         accel_g, v = _amplitudes_at(c, np.array([p.freq_hz for _, p, _ in hits]), 0.0)
         for (f, peak, spec), a_g, v_mm_s in sorted(zip(hits, accel_g, v), key=lambda h: wanted.index(h[0][0])):
             out.append(c.base() | {
-                "kind": "tone", "name": f.name, "component": f.component, "family": f.family,
-                "shaft": f.shaft, "expected_hz": f.frequency_hz, "freq_hz": peak.freq_hz,
+                "kind": "tone", "name": f.name, "rate": searched[f][0], "component": f.component, "family": f.family,
+                "shaft": f.shaft, "expected_hz": searched[f][1], "freq_hz": peak.freq_hz,
                 "amplitude_mm_s": float(v_mm_s), "amplitude_g": float(a_g), "snr_db": db(peak.snr),
                 "ratio_to_1x": float(v_mm_s) / one_x[f.shaft] if one_x[f.shaft] > 0 else 0.0,
                 "ratio_to_bearing_1x": float(v_mm_s) / bearing_1x[f.shaft] if bearing_1x[f.shaft] > 0 else 0.0,
                 "shaft_order_within_tolerance": (f.family == "electrical"
                                                  and _shaft_order_within(rc, spec, f.frequency_hz)),
-                SIGNS: {spectrum_line(c.name, peak.line): match_fit(peak.freq_hz / f.frequency_hz - 1,
+                SIGNS: {spectrum_line(c.name, peak.line): match_fit(peak.freq_hz / searched[f][1] - 1,
                                                                     _tol(rc, f.family))},
             })
     return out
@@ -124,8 +139,8 @@ def _sources(rc: Analysis):
     """(name, component, shaft, fundamental Hz, harmonics, family) of every series worth following."""
     out = [("1X", s, s, hz, SHAFT_HARMONICS, "shaft") for s, hz in rc.speeds_hz.items()]
     for f in rc.forcing:
-        if f.name in OTHER_HARMONICS:
-            out.append((f.name, f.component, f.shaft, f.frequency_hz, OTHER_HARMONICS[f.name], f.family))
+        if f.name in OTHER_HARMONICS:      # a ball defect's series is of its impact rate, 2 x BSF
+            out.append((f.name, f.component, f.shaft, searched_hz(rc, f)[1], OTHER_HARMONICS[f.name], f.family))
     return out
 
 
@@ -225,6 +240,22 @@ def _shaft_order_nearer(rc: Analysis, line_hz: float, expected_hz: float) -> boo
     """
     shaft_error, _ = _nearest_shaft_order(rc, line_hz)
     return shaft_error < abs(line_hz / expected_hz - 1)
+
+
+def _other_source_nearer(rc: Analysis, line_hz: float, expected_hz: float) -> bool:
+    """Whether a shaft harmonic (1X to 10X of any shaft) or a forcing frequency of another family explains a
+    line found for a bearing's rate better than that rate does.
+
+    A bearing's line is looked for within its slip (2 %), wide enough to take in a line of another source:
+    RW-2's 2 x BSF at full speed lies 0.07 % from twice line frequency, and the motor's 2xLF line, on every
+    channel alike, read as a stage-3 ball line at stage 1. The line goes to the rate it lies closer to,
+    as ``_shaft_order_nearer`` gives an electrical line to a shaft harmonic.
+    """
+    own = abs(line_hz / expected_hz - 1)
+    if _nearest_shaft_order(rc, line_hz)[0] < own:
+        return True
+    return any(abs(line_hz / f.frequency_hz - 1) < own for f in rc.forcing
+               if f.family != "bearing" and f.frequency_hz >= MIN_TONE_HZ)
 
 
 def _shaft_order_within(rc: Analysis, spec, expected_hz: float) -> bool:

@@ -57,10 +57,12 @@ FACTS: dict[str, dict[str, F]] = {
     },
     "tone": CHANNEL_FIELDS | {
         "name": F("string", "forcing frequency name: 1X, BPFO, GMF, 2xLF, ...", ""),
+        "rate": F("string", "the rate the line was looked for at: the name, but 2xBSF for BSF (a ball defect "
+                  "strikes both races once per spin)", ""),
         "component": F("string", "shaft, bearing, mesh, belt, rotor or motor id", ""),
         "family": F("string", "shaft, bearing, gear, belt, rotor or electrical", ""),
         "shaft": F("string", "shaft whose speed the frequency follows", ""),
-        "expected_hz": F("number", "forcing frequency at the refined speed, Hz", "Hz"),
+        "expected_hz": F("number", "forcing frequency at the refined speed, Hz (for BSF: 2 x BSF)", "Hz"),
         "freq_hz": F("number", "measured peak frequency, Hz", "Hz"),
         "amplitude_mm_s": F("number", "velocity amplitude, mm/s RMS", "mm/s RMS"),
         "amplitude_g": F("number", "acceleration amplitude, g peak", "g peak"),
@@ -76,7 +78,7 @@ FACTS: dict[str, dict[str, F]] = {
         "source": F("string", "1X, GMF, BPFO, vane pass, ...", ""),
         "component": F("string", "component id", ""),
         "shaft": F("string", "shaft id", ""),
-        "fundamental_hz": F("number", "fundamental frequency, Hz", "Hz"),
+        "fundamental_hz": F("number", "fundamental frequency, Hz (for BSF: 2 x BSF, the ball's impact rate)", "Hz"),
         "count": F("integer", "harmonics found, the fundamental included", ""),
         "checked": F("integer", "harmonics looked for below Fmax", ""),
         "highest_order": F("integer", "highest harmonic found", ""),
@@ -382,6 +384,7 @@ QUALITY_ISSUES = tuple(ISSUE_NAMES)                          # every issue the q
 KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "direction": DIRECTIONS,
     "tone.name": RATE_NAMES,
+    "tone.rate": RATE_NAMES + ("2xBSF",),
     "tone.family": RATE_FAMILIES,
     "harmonic_series.source": RATE_NAMES,
     "impact_train.matched_name": RATE_NAMES + ("none",),

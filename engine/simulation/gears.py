@@ -16,7 +16,22 @@ from .signal import G, Part, Scene, periodic_impact_signal, resonance_ring
 
 MESH_G = 0.15        # the mesh's own level, g peak
 AWAY = 0.2           # seen from a point on a shaft the mesh does not touch
-TOOTH_IMPACT_G = {1: 0.5, 2: 1.5, 3: 3.0, 4: 6.0}
+# A damaged tooth by stage: its knock once per turn (g peak) and how much the mesh changes while it is in
+# mesh (a fraction of the mesh level; a crack lowers the tooth's stiffness, a chip or spall makes it
+# strike). FM4 measures how far one tooth stands out of its peers in the synchronous average (Stewart
+# 1977), so the stages are sized against a sound gear's own tooth-to-tooth scatter (healthy.py
+# TOOTH_SCATTER_G), not against the noise that averaging removes. An incipient crack (stage 1) barely
+# stands out (FM4 about 6 to 11, near the healthy 3: seen, if at all, as a possibility); a distinct chip
+# (2) and a spall over much of the face (3) stand out more and more; at a broken tooth (4) the mesh loses
+# that tooth's share of the load and its neighbour takes it with a knock (2 g, some thirteen times the mesh's
+# own level) that makes the raw waveform impulsive too: FM4 31 to 76 over the demo and test gearboxes
+# (at 1 g, some read 25 to 29). The published accounts give no scale of FM4 against
+# damage (Lebold et al. 2000); in the NASA gear-rig tests FM4 stayed near 3 until one or two teeth were
+# pitted or cracked and rose to tens at a fractured tooth (Zakrajsek et al. 1993; Decker 2002; from
+# memory). The old sizes (0.5 to 6 g, mesh changed 80 to 320 %) stood alone in the average at every
+# stage: FM4 of 35 to 80 at stage 1, the same at stage 4.
+TOOTH_IMPACT_G = {1: 0.06, 2: 0.15, 3: 0.25, 4: 2.0}
+TOOTH_MESH_DEPTH = {1: 0.35, 2: 0.85, 3: 1.3, 4: 4.0}
 
 
 def _mesh_part(s: Scene, x: np.ndarray, extra: dict) -> Part:
@@ -58,7 +73,7 @@ def tooth(s: Scene, mesh_id: str, stage: int) -> Part:
     ring = resonance_ring(s.fs, s.resonance_hz, damping=0.05, response=s.ring_response)
     x += periodic_impact_signal(first, 1 / f_gear, TOOTH_IMPACT_G[stage] * G, s.fs, s.n, ring)
     window = np.exp(-0.5 * ((((t - first) * f_gear + 0.5) % 1.0 - 0.5) / (0.5 / teeth)) ** 2)
-    x += MESH_G * G * (1 + 0.8 * stage * window) * np.sin(2 * np.pi * gmf * t)
+    x += MESH_G * G * (1 + TOOTH_MESH_DEPTH[stage] * window) * np.sin(2 * np.pi * gmf * t)
     return _mesh_part(s, x, {"impact_times_s": times})
 
 

@@ -112,6 +112,7 @@ class Scene:
     speed_scale: float = 1.0           # speed over the nominal speed
     fault_shafts: frozenset = frozenset()   # shafts of the faulty component
     t: np.ndarray = field(init=False)
+    gear_signatures: dict = field(init=False, default_factory=dict)   # mesh id -> its gears' sound scatter
 
     def __post_init__(self):
         self.t = np.arange(self.n) / self.fs

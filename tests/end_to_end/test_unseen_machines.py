@@ -124,7 +124,10 @@ def test_sc5_families_on_the_intermediate_comb_are_left_out(sc5_tooth):
 
 
 def test_sc5_the_family_left_is_the_background_s(reasoner, sc5_tooth):
-    # the motor bearing's families the tooth reading keeps are the healthy machine's own (same seed, same noise)
+    # the motor bearing's families the tooth reading keeps, at a point that sees the bearing, are the healthy
+    # machine's own (same seed, same noise). At G3H, which does not see motor_de (shaft_seen false: the bearing
+    # rules weigh nothing there), the weaker stage-3 tooth of the simulator's stage model leaves the envelope
+    # band to a chance BPFI family; it is not on the comb (the test above) and names no bearing.
     machine = load_machine(SC5)
     healthy = diagnose(as_reading(simulate(machine, "healthy", None, 3, None, 25600.0, 12.0, 7,
                                            points=["G3H", "G1H"])), machine, reasoner)
@@ -132,7 +135,7 @@ def test_sc5_the_family_left_is_the_background_s(reasoner, sc5_tooth):
     def families(d):
         return {(f["channel"], f["band_method"], f["defect"], round(f["freq_hz"], 1)) for f in d.facts
                 if f["kind"] == "envelope_tone" and f["component"] == "motor_de" and f["fundamental_owned"]
-                and f["harmonics_found"] >= 2}
+                and f["harmonics_found"] >= 2 and f["shaft_seen"]}
 
     assert families(sc5_tooth) <= families(healthy), (families(sc5_tooth), families(healthy))
 

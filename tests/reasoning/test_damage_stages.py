@@ -72,3 +72,25 @@ def test_ct1_stage_three_outer_race_seed_0_keeps_its_call_and_its_stage(speed, f
     stage, certainty = called_stage(result, machine, "outer-race", "output_lower")
     assert certainty >= CONFIDENT and stage == 3, [(h.fault, h.component, h.certainty) for h in result.hypotheses[:4]]
     assert result.top is not None and (result.top.fault, result.top.component) == ("outer-race", "output_lower")
+
+
+def test_rolling_element_stage_three_is_read_at_twice_bsf():
+    # A ball strikes both races once per spin turn, so its line in the velocity spectrum stands at 2 x BSF
+    # (Randall & Antoni 2011, MSSP 25(2), section 2.1); read at BSF, every stage-3 rolling element was called
+    # stage 2 (bench.confusion --stages-only: 12 of 12 at 2).
+    machine, facts, result = _stage_reading("rw2", "rolling-element", "pump_nde", 3, 0, 0.85, 25600.0)
+    ball = machine.bearings[[b.id for b in machine.bearings].index("pump_nde")]
+    lines = [f for f in facts if f["kind"] == "tone" and f["name"] == "BSF" and f["component"] == ball.id]
+    assert lines and all(f["rate"] == "2xBSF" for f in lines)
+    assert any(f["ratio_to_bearing_1x"] >= 0.1 and f["location"] == ball.id for f in lines)
+    stage, certainty = called_stage(result, machine, "rolling-element", "pump_nde")
+    assert stage == 3 and certainty >= CONFIDENT
+
+
+def test_a_ball_line_on_twice_line_frequency_is_the_motors_not_the_balls():
+    # At RW-2's full speed the pump_nde ball rate, 2 x BSF, lies 0.07 % from 2xLF (100 Hz): the motor's line,
+    # the same on every channel, read as a stage-3 ball line at stage 1. It goes to the rate it lies nearer.
+    machine, facts, result = _stage_reading("rw2", "rolling-element", "pump_nde", 1, 0, 1.0, 12800.0)
+    assert not [f for f in facts if f["kind"] == "tone" and f["name"] == "BSF" and f["component"] == "pump_nde"
+                and abs(f["freq_hz"] - 100.0) < 0.05]
+    assert called_stage(result, machine, "rolling-element", "pump_nde")[0] in (1, 2)
