@@ -290,6 +290,11 @@ FACTS: dict[str, dict[str, F]] = {
         "shaft": F("string", "the shaft on this side of the link", ""),
         "other_shaft": F("string", "the shaft across the link", ""),
     },
+    "overhung_rotor": {
+        "component": F("string", "the rotor's id", ""),
+        "shaft": F("string", "the shaft that carries it outboard of its bearings", ""),
+        "type": F("string", "impeller or fan", ""),
+    },
 }
 
 # Not measured on the samples: 1X phase readings the sidecar or route states (engine.evidence.phase).

@@ -73,11 +73,13 @@ class Coupling:
 
 @dataclass(frozen=True)
 class Rotor:
-    """An impeller or fan wheel on a shaft, with its number of vanes or blades."""
+    """An impeller or fan wheel on a shaft, with its number of vanes or blades, and whether it is
+    overhung (outboard of both its shaft's bearings) rather than between them."""
     id: str
     shaft: str
     type: str  # "impeller" or "fan"
     vanes: int
+    overhung: bool = False
 
 @dataclass(frozen=True)
 class Motor:
@@ -270,7 +272,7 @@ def _build(doc: YamlDocument) -> Machine:
     rotors = []
     for i, r in enumerate(data.get("rotors", [])):
         need_shaft(r["shaft"], ("rotors", i, "shaft"))
-        rotors.append(Rotor(r["id"], r["shaft"], r["type"], _whole(r["vanes"])))
+        rotors.append(Rotor(r["id"], r["shaft"], r["type"], _whole(r["vanes"]), bool(r.get("overhung", False))))
     motors = []
     for i, m in enumerate(data.get("motors", [])):
         need_shaft(m["shaft"], ("motors", i, "shaft"))
