@@ -357,7 +357,7 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
     defects = list(_defects(rc))
     speeds = sorted({round(hz, 9) for hz in rc.speeds_hz.values()})
     for c in rc.channels:
-        seen = rc.machine.shafts_seen_from(c.point.shaft) if c.point else set(rc.speeds_hz)
+        seen = rc.machine.shafts_heard_from(c.point.shaft) if c.point else set(rc.speeds_hz)
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
             lines = clear_lines(view.ses)
