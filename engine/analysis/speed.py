@@ -26,7 +26,7 @@ is the largest set of lines that agree on one speed to within their
 interpolation error (``_consistent``): on a short record one line is a
 percent or more of a slow shaft's speed, and a strong line of another shaft
 that is a line from a harmonic at a wrong speed would otherwise pull the
-speed there (a belt fan's 8X beside its motor's 5X at 0.5 Hz lines).
+speed there (a belt fan's 8X beside its motor's 5X at a resolution of 0.5 Hz).
 
 When no shaft line stands out, the sharpest bearing-tone family of the
 squared envelope spectrum can give the speed instead (``speed_from_tones``),
@@ -150,7 +150,7 @@ def _consistent(estimates: list[float], spreads: list[float], weights: list[floa
     Each line found within one line of its order gives the speed as its interpolated frequency over its
     order, to within ``spreads`` (the interpolation's error over the line's frequency at scale 1). One
     line's worth of tolerance lets a line of another shaft stand in for a harmonic at a speed up to one
-    line over its frequency away: at 0.5 Hz lines a fan's 8X 1.6 % above its motor's 5X is within a line
+    line over its frequency away: at a resolution of 0.5 Hz a fan's 8X 1.6 % above its motor's 5X is within a line
     of 5X at a speed 1.3 % high, while the fan's 1X and 2X still lie within a line of theirs. Lines of one
     shaft agree on one speed to within their interpolation error: the family is the largest set whose
     intervals (estimate +- spread) share a point; a line outside it needs a speed of its own.
