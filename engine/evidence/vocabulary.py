@@ -127,7 +127,8 @@ FACTS: dict[str, dict[str, F]] = {
                                       "order of its shaft, where no ball family can be judged", ""),
         "shaft_seen": F("boolean", "the channel's point hears the bearings of the bearing's shaft "
                         "(Machine.shafts_heard_from: its own shaft, a shaft coupled to it, the other shaft of a "
-                        "mesh on it; not across a belt); true without a point", ""),
+                        "mesh on it; across a belt only while no channel of the reading sits on that shaft); "
+                        "true without a point", ""),
         "chance_pct": F("number", "chance that unrelated lines of this envelope spectrum, at their density near the "
                         "family, would give it its fundamental and as many harmonics (100 without a fundamental)", "%"),
         "match_error_pct": F("number", "mean distance of the harmonics found from their expected frequencies, %", "%"),

@@ -177,7 +177,8 @@ class Machine:
         belt carries that shaft's 1X (as belt tension) without the ringing of its bearings (common
         practice: a bearing's high-frequency signal is read at its own housing and falls at every
         joint on the way). A belt fan's sensor does not weigh its motor's bearings, nor the
-        motor's sensor the fan's.
+        motor's sensor the fan's, while those have a sensor of their own in the reading (the
+        envelope evidence falls back on the far sensor when none does).
         """
         belts_only = {other for b in self.belts if shaft in (b.driving_shaft, b.driven_shaft)
                       for other in (b.driving_shaft, b.driven_shaft) if other != shaft}

@@ -3,7 +3,8 @@
 On the invented AF-3 belt fan an unbalanced fan (25.6 kHz x 4 s, seed 0) once carried an outer-race
 hypothesis on the motor's bearing at 22 %, from an envelope family on a fan sensor (FOBV) across the
 belt, with nothing at the motor's own point. A bearing's impacts reach a sensor through its housing and
-the frame, not through a rubber belt (common practice; `Machine.shafts_heard_from`).
+the frame, not through a rubber belt (common practice; `Machine.shafts_heard_from`). Where the other
+shaft has no sensor in the reading, the far one is all there is, and it is still weighed.
 """
 
 from __future__ import annotations
@@ -36,3 +37,10 @@ def test_an_unbalanced_fan_gets_no_outer_race_on_the_motor_from_a_fan_sensor():
     result = diagnose(reading, AF3, reasoner()).reasoning
     assert not [h for h in result.hypotheses if h.component == "motor_de"]
     assert (result.hypotheses[0].fault, result.hypotheses[0].component) == ("unbalance", "fan")
+
+
+def test_without_a_sensor_on_the_motor_a_fan_sensor_still_weighs_the_motor_s_bearing():
+    reading = as_reading(simulate(AF3, "outer-race", "motor_de", 3, seed=11, points=["FOBH", "FOBV"]), "af3.wav")
+    tones = [f for f in extract_evidence(reading, AF3)
+             if f["kind"] == "envelope_tone" and f["component"] == "motor_de" and f["defect"] == "BPFO"]
+    assert tones and all(f["shaft_seen"] for f in tones)
