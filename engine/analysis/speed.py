@@ -21,6 +21,12 @@ lines) from the line frequency harmonic: 2X of a 2-pole motor at 2960 rpm,
 gathered again at the speed they give until the family stops changing, and
 the speed counts as measured only when they make a shaft's family
 (``hangs_together``): one line near the stated 1X is not a measurement.
+A line is gathered when it lies within one line of its order, but the family
+is the largest set of lines that agree on one speed to within their
+interpolation error (``_consistent``): on a short record one line is a
+percent or more of a slow shaft's speed, and a strong line of another shaft
+that is a line from a harmonic at a wrong speed would otherwise pull the
+speed there (a belt fan's 8X beside its motor's 5X at a resolution of 0.5 Hz).
 
 When no shaft line stands out, the sharpest bearing-tone family of the
 squared envelope spectrum can give the speed instead (``speed_from_tones``),
@@ -43,6 +49,7 @@ TONE_LINES = 8              # lines across the search a bearing tone needs to gi
 TONE_HARMONICS = 4          # harmonics of one family that must agree
 TONE_SLIP = 0.02            # bearing tones slip up to 2 % against their kinematic rates (Randall & Antoni 2011)
 MERGED_LINES = 2.5          # lines closer than this share the Hann main lobe (4 lines wide)
+LINE_TOLERANCE = 0.25       # an interpolated line lies this many lines from its tone, with a neighbour 3+ lines off
 HALF_WITHOUT_1X = 100.0     # the ratio reported when a line stands at 0.5X and none at 1X
 
 
@@ -102,7 +109,7 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
         """(speed estimates, weights, indices) of the targets whose line stands within one line of its
         order at ``scale``, three times its floor, and within the search."""
         found = peaks_near(spec, freqs * scale, 1.5 * df)
-        estimates, weights, hits = [], [], []
+        estimates, weights, spreads, hits = [], [], [], []
         for i, (hz, _k) in enumerate(kept):
             if not found.found[i] or found.amplitude[i] / floors[i] < MIN_HARMONIC_SNR:
                 continue
@@ -112,8 +119,10 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
                 continue            # a neighbour's line, not this harmonic
             estimates.append(found.freq_hz[i] / hz)
             weights.append((orders[i] * min(found.amplitude[i] / floors[i], 100.0)) ** 2)
+            spreads.append((LINE_TOLERANCE + floors[i] / found.amplitude[i]) * df / hz)
             hits.append(i)
-        return estimates, weights, hits
+        keep = _consistent(estimates, spreads, weights)
+        return [estimates[j] for j in keep], [weights[j] for j in keep], [hits[j] for j in keep]
 
     # the lines found at the comb's best scale give a speed; at that speed the lines of the family that
     # stand within one line of their orders are gathered again, until the family stops changing: a line
@@ -132,6 +141,31 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
         if abs(scale - previous) * freqs.max() < 0.01 * df:
             break
     return scale, [kept[i] for i in hits], weights
+
+
+def _consistent(estimates: list[float], spreads: list[float], weights: list[float]) -> list[int]:
+    """Indices of the largest set of speed estimates that agree within their spreads (ties: the larger
+    summed weight).
+
+    Each line found within one line of its order gives the speed as its interpolated frequency over its
+    order, to within ``spreads`` (the interpolation's error over the line's frequency at scale 1). One
+    line's worth of tolerance lets a line of another shaft stand in for a harmonic at a speed up to one
+    line over its frequency away: at a resolution of 0.5 Hz a fan's 8X 1.6 % above its motor's 5X is within a line
+    of 5X at a speed 1.3 % high, while the fan's 1X and 2X still lie within a line of theirs. Lines of one
+    shaft agree on one speed to within their interpolation error: the family is the largest set whose
+    intervals (estimate +- spread) share a point; a line outside it needs a speed of its own.
+    """
+    if len(estimates) <= 1:
+        return list(range(len(estimates)))
+    lo = [e - s for e, s in zip(estimates, spreads, strict=True)]
+    hi = [e + s for e, s in zip(estimates, spreads, strict=True)]
+    best: tuple[int, float, list[int]] = (0, 0.0, [])
+    for point in lo:            # the largest overlap of intervals starts at one of their left ends
+        inside = [j for j in range(len(estimates)) if lo[j] <= point <= hi[j]]
+        rank = (len(inside), float(sum(weights[j] for j in inside)))
+        if rank > best[:2]:
+            best = (rank[0], rank[1], inside)
+    return best[2]
 
 
 def _distinguishable(targets: list[tuple[float, int]], search_fraction: float, df: float) -> list:

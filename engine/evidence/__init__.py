@@ -52,6 +52,8 @@ EXTRACTORS = (
     Extractor("machine", acquisition.machine_class, ("machine",), always="every diagnosis has its machine"),
     Extractor("drive_link", acquisition.drive_links, ("drive_link",),
               always="every coupling and belt drive of the machine file, whatever the signal"),
+    Extractor("overhung_rotor", acquisition.overhung_rotors, ("overhung_rotor",),
+              always="every rotor the machine file marks overhung, whatever the signal"),
 )
 
 

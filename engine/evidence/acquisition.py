@@ -180,3 +180,11 @@ def drive_links(rc: Analysis) -> list[dict]:
             facts.append({"kind": "drive_link", "component": belt.id, "link": "belt", "type": "belt",
                           "shaft": shaft, "other_shaft": other})
     return facts
+
+
+def overhung_rotors(rc: Analysis) -> list[dict]:
+    """The rotors the machine file says are overhung (outboard of both their shaft's bearings), one fact
+    each: unbalance of an overhung rotor gives a high axial 1X, which a rule reads against unbalance on a
+    rotor between its bearings."""
+    return [{"kind": "overhung_rotor", "component": r.id, "shaft": r.shaft, "type": r.type}
+            for r in rc.machine.rotors if r.overhung]

@@ -356,8 +356,14 @@ def envelope_evidence(rc: Analysis) -> list[dict]:
     tones, zones = [], []
     defects = list(_defects(rc))
     speeds = sorted({round(hz, 9) for hz in rc.speeds_hz.values()})
+    # across a belt a point weighs the other shaft's bearings only while no channel of the reading sits on that
+    # shaft: its own housings would show their impacts far louder (Machine.shafts_heard_from)
+    measured = {c.point.shaft for c in rc.channels if c.point}
     for c in rc.channels:
-        seen = rc.machine.shafts_seen_from(c.point.shaft) if c.point else set(rc.speeds_hz)
+        seen = set(rc.speeds_hz)
+        if c.point:
+            heard = rc.machine.shafts_heard_from(c.point.shaft)
+            seen = heard | {s for s in rc.machine.shafts_seen_from(c.point.shaft) - heard if s not in measured}
         for view in c.envelopes:
             found = _harmonics(view.ses, [(rate, HARMONICS[defect], b.shaft_hz) for b, defect, rate in defects])
             lines = clear_lines(view.ses)

@@ -127,9 +127,10 @@ FACTS: dict[str, dict[str, F]] = {
         "fundamental_owned": F("boolean", "the fundamental was found and no other family explains it better", ""),
         "ball_rate_on_shaft_order": F("boolean", "the bearing's ball defect rate (2 x BSF) lies within slip of a whole "
                                       "order of its shaft, where no ball family can be judged", ""),
-        "shaft_seen": F("boolean", "the channel's point sees the bearing's shaft (Machine.shafts_seen_from: its "
-                        "own shaft, a shaft coupled to it, the other shaft of a mesh or belt on it); true without "
-                        "a point", ""),
+        "shaft_seen": F("boolean", "the channel's point hears the bearings of the bearing's shaft "
+                        "(Machine.shafts_heard_from: its own shaft, a shaft coupled to it, the other shaft of a "
+                        "mesh on it; across a belt only while no channel of the reading sits on that shaft); "
+                        "true without a point", ""),
         "chance_pct": F("number", "chance that unrelated lines of this envelope spectrum, at their density near the "
                         "family, would give it its fundamental and as many harmonics (100 without a fundamental)", "%"),
         "match_error_pct": F("number", "mean distance of the harmonics found from their expected frequencies, %", "%"),
@@ -298,6 +299,11 @@ FACTS: dict[str, dict[str, F]] = {
                             "unknown), or belt", ""),
         "shaft": F("string", "the shaft on this side of the link", ""),
         "other_shaft": F("string", "the shaft across the link", ""),
+    },
+    "overhung_rotor": {
+        "component": F("string", "the rotor's id", ""),
+        "shaft": F("string", "the shaft that carries it outboard of its bearings", ""),
+        "type": F("string", "impeller or fan", ""),
     },
 }
 

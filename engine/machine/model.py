@@ -73,11 +73,13 @@ class Coupling:
 
 @dataclass(frozen=True)
 class Rotor:
-    """An impeller or fan wheel on a shaft, with its number of vanes or blades."""
+    """An impeller or fan wheel on a shaft, with its number of vanes or blades, and whether it is
+    overhung (outboard of both its shaft's bearings) rather than between them."""
     id: str
     shaft: str
     type: str  # "impeller" or "fan"
     vanes: int
+    overhung: bool = False
 
 @dataclass(frozen=True)
 class Motor:
@@ -164,6 +166,30 @@ class Machine:
             if shaft in (link.driving_shaft, link.driven_shaft):
                 seen |= {link.driving_shaft, link.driven_shaft}
         return seen
+
+    def shafts_heard_from(self, shaft: str) -> set[str]:
+        """The shafts whose bearings a sensor at a point on ``shaft`` can hear (their defects' impacts).
+
+        ``shafts_seen_from`` less the other shaft of a belt drive. A bearing's impacts ring the
+        structure at kilohertz and reach a sensor through its housing, the casing and the frame: a
+        gear mesh's two shafts share a casing, and a coupled shaft's housing stands next to the
+        point's, but a belt drive's other shaft sits in another machine's housings, and the rubber
+        belt carries that shaft's 1X (as belt tension) without the ringing of its bearings (common
+        practice: a bearing's high-frequency signal is read at its own housing and falls at every
+        joint on the way). A belt fan's sensor does not weigh its motor's bearings, nor the
+        motor's sensor the fan's, while those have a sensor of their own in the reading (the
+        envelope evidence falls back on the far sensor when none does).
+        """
+        belts_only = {other for b in self.belts if shaft in (b.driving_shaft, b.driven_shaft)
+                      for other in (b.driving_shaft, b.driven_shaft) if other != shaft}
+        kept = set()
+        for link in (*self.gears,):
+            if shaft in (link.driving_shaft, link.driven_shaft):
+                kept |= {link.driving_shaft, link.driven_shaft}
+        for a, b in self.joined:
+            if shaft in (a, b):
+                kept |= {a, b}
+        return self.shafts_seen_from(shaft) - (belts_only - kept)
 
     def shafts_seen_at(self, point_ids) -> set[str]:
         """The shafts the points ``point_ids`` see together (``shafts_seen_from`` of each point's
@@ -270,7 +296,7 @@ def _build(doc: YamlDocument) -> Machine:
     rotors = []
     for i, r in enumerate(data.get("rotors", [])):
         need_shaft(r["shaft"], ("rotors", i, "shaft"))
-        rotors.append(Rotor(r["id"], r["shaft"], r["type"], _whole(r["vanes"])))
+        rotors.append(Rotor(r["id"], r["shaft"], r["type"], _whole(r["vanes"]), bool(r.get("overhung", False))))
     motors = []
     for i, m in enumerate(data.get("motors", [])):
         need_shaft(m["shaft"], ("motors", i, "shaft"))

@@ -17,6 +17,7 @@ from .signal import Part, Scene, direction_phase
 
 AWAY = 0.25          # a shaft fault seen from a point on another shaft
 SUPPORT_AWAY = 0.15  # a loose support seen from a point at another bearing
+OVERHUNG_AXIAL = 1.0  # an overhung rotor's unbalance rocks the shaft: axial 1X as high as radial (common practice)
 
 
 def _on_shaft(s: Scene, shaft: str, signal_at) -> Part:
@@ -27,11 +28,15 @@ def _on_shaft(s: Scene, shaft: str, signal_at) -> Part:
 
 
 def unbalance(s: Scene, shaft: str, stage: int) -> Part:
-    """1X at 2 mm/s RMS x stage x (speed / nominal)^2 radially, 15 % of it axially."""
+    """1X at 2 mm/s RMS x stage x (speed / nominal)^2 radially, 15 % of it axially; on a shaft whose
+    rotor is overhung, ``OVERHUNG_AXIAL`` of it axially."""
+    overhung = any(r.overhung and r.shaft == shaft for r in s.machine.rotors)
+    axial = OVERHUNG_AXIAL if overhung else 0.15
+
     def at(point: Point) -> np.ndarray:
         radial = point.direction != "axial"
         v = 2.0 * stage * s.speed_scale ** 2
-        return s.shaft_tone(shaft, 1, v if radial else 0.15 * v, direction_phase(point.direction))
+        return s.shaft_tone(shaft, 1, v if radial else axial * v, direction_phase(point.direction))
     return _on_shaft(s, shaft, at)
 
 
