@@ -71,11 +71,14 @@ def run(args) -> int:
     store = args.store or default_store_path()
     doc = learning_document(store, args.site or (), args.machines, diagram=args.format == "html")
     if doc["findings"] == 0:
+        # JSON is read by programs: they get the (empty) document, and the sentence goes to stderr
         print(f"the store {one_line(doc['store'])} holds no finding"
               + (f" of {', '.join(one_line(m) for m in args.machines)}" if args.machines else "")
               + ": record what was found at repair with `tellwave findings add` or `tellwave findings import`, "
-              "then learn")
-        return 0
+              "then learn", file=sys.stderr if args.format == "json" else sys.stdout)
+        if args.format != "json":
+            return 0
+        args.overlay = None         # nothing learned: no overlay to propose
     text = render(doc, args.format, "learning")
     if output is None:
         sys.stdout.write(text)

@@ -268,3 +268,17 @@ def test_learning_without_the_site_overlay_the_diagnoses_used_says_so(work, caps
     out = capsys.readouterr().out
     assert "rule(s) the diagnoses used are not in the rulebooks loaded (site.pump.own-rule)" in out
     assert "learning ran on the shipped rulebooks alone; pass --site" in out
+
+
+def test_json_without_findings_is_still_json(work, capsys):
+    """A program reading --format json gets the empty document (it follows the schema), the sentence on
+    stderr, and no overlay (bench.fuzz found the sentence alone on stdout)."""
+    with Store(work / "h.sqlite") as s:
+        s.db.execute("DELETE FROM findings")
+    assert main(["learn", "--store", str(work / "h.sqlite"), "--format", "json", "--overlay",
+                 str(work / "o.yaml")]) == 0
+    out, err = capsys.readouterr()
+    doc = json.loads(out)
+    jsonschema.validate(doc, load_schema("learning.schema.json"))
+    assert doc["findings"] == 0 and "holds no finding" in err
+    assert not (work / "o.yaml").exists()
