@@ -440,6 +440,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                 for h in reasoning.reading_problems]
     withheld_recs = [r for r in advice.recommendations if r.hypothesis.family == "reading"]
     scale = _scale(advice, evidence)
+    tracked = order_tracked_shafts(evidence)
     doc = {
         "tellwave": __version__,
         "made_at": made_at or report_time(),
@@ -489,9 +490,8 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
                              for z in advice.zones] + _left_out_rows(reading, evidence)},
         "chain": [_firing(f, worded) for f in reasoning.chain],
         "acquisition": {k: _number(v) for k, v in evidence.settings.items()},
-        "speed": {**{k: _number(v) for k, v in evidence.speed.items()},
-                  "order_tracked_shafts": order_tracked_shafts(evidence),
-                  "text": speed_text(evidence.speed, order_tracked_shafts(evidence))},
+        "speed": {**{k: _number(v) for k, v in evidence.speed.items()}, "order_tracked_shafts": tracked,
+                  "text": speed_text(evidence.speed, tracked)},
         "data_quality": [{**q, "value": _number(q["value"])} for q in reading.quality],
         "rulebooks": [str(p) for p in reasoning.rulebook_files],
         "counts": {"evidence_facts": len(evidence.facts), "facts_considered": reasoning.facts_considered,
