@@ -208,6 +208,11 @@ def _urgencies(data) -> dict[str, Urgency]:
     return {u["id"]: Urgency(u["id"], u["label"], u["within"], i) for i, u in enumerate(data["urgency"])}
 
 
+def urgency_steps(data: dict) -> dict[str, Urgency]:
+    """The urgency scale of the advice data (``load_advice``), id -> step, most urgent first."""
+    return _urgencies(data)
+
+
 def _oil_tests(machine: Machine, family: str, data: dict, component: str | None = None) -> tuple[OilTest, ...]:
     policy = data["oil_follow_up"].get(family)
     if policy is None or (policy["lubrication"] != "any" and machine.lubrication not in policy["lubrication"]):

@@ -151,6 +151,7 @@ def trend_fact(**over) -> dict:
             "latest": 0.12, "change_pct": 20.0, "rate_per_month": 0.01, "iso_change_significant": False,
             "projected_days": -1.0, "projected_low_days": -1.0, "projected_high_days": -1.0,
             "degradation_began": False, "readings_since_onset": 0, "change_db": 0.0,
+            "projected_act_by_days": -1.0, "degradation_under_way": False, "risen_fold": 0.0,
             "projection_to": "", "projection_boundary": "",
             "baseline_mm_s": 0.0, "latest_mm_s": 0.0, "indicator_words": "acceleration RMS, g", "projection_words": ""}
     return {**fact, **over}

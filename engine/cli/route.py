@@ -79,7 +79,7 @@ def run(args) -> int:
         pages = trend_paths(route, out)
         for m in doc["machines"]:        # each machine's trend page, which the summary links to
             if m["machine"] in pages:
-                trend = trend_document(store, m["machine"], plots=True, units=units)
+                trend = trend_document(store, m["machine"], plots=True, units=units, site=tuple(args.site or ()))
                 write_atomically(pages[m["machine"]], render(trend, "html", "trend"), inputs)
     for fmt, path in summary_paths(out).items():
         write_atomically(path, render(doc, fmt, "route"), inputs)

@@ -83,7 +83,7 @@ def run(args) -> int:
             known = ", ".join(store.machines()) or "none"
             raise UsageError(f"no stored reading of {args.machine!r}; machines stored: {known}", path=str(store.path))
         doc = trend_document(store, args.machine, point=args.point, limits=limits, plots=args.format == "html",
-                             waterfall=args.waterfall, compare=compare, units=units)
+                             waterfall=args.waterfall, compare=compare, units=units, site=tuple(args.site or ()))
     if not doc["points"]:
         raise UsageError(f"{args.machine} has no stored reading at point {args.point!r}")
     text = render(doc, args.format, "trend")

@@ -355,6 +355,13 @@ FACTS["trend"] = {
     "projected_high_days": F("number", "late end of the projection's 80 % interval, days (-1: none or open)", ""),
     "degradation_began": F("boolean", "the projection starts where the trend found degradation began", ""),
     "readings_since_onset": F("integer", "readings the projection rests on since degradation began", ""),
+    "projected_act_by_days": F("number", "the projection's time to act on: the best expected score over its draws, "
+                                         "days (-1: none; remaining-life model only)", ""),
+    "degradation_under_way": F("boolean", "the trend says degradation is under way: the latest readings stand the "
+                                          "rise ratio of rulebooks/trend/onset.yaml times their healthy level or more",
+                               ""),
+    "risen_fold": F("number", "how many times its healthy level the latest reading stands when degradation is under "
+                              "way (0 otherwise)", ""),
     "change_db": F("number", "latest less baseline for an indicator in dB (0 for others)", "dB"),
     "indicator_name": F("string", "the indicator as reports name it: band 2000-6000 Hz, g RMS", ""),
     "projection_boundary": F("string", "what the projection runs to: A/B, B/C, C/D (ISO 20816-3) or limit", ""),

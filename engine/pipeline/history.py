@@ -27,6 +27,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
     from ..history.record import content_hash, reading_key, record_of, rulebooks_hash
     from ..history.store import Store, default_store_path
     from ..history.times import reading_time
+    from ..trend.acting import raises_of
     from ..trend.diagnosis import HistoryLink
     from . import diagnose, document_of
 
@@ -48,7 +49,7 @@ def diagnose_and_store(reading, machine, reasoner, *, files, store_path, how: di
         d = diagnose(reading, machine, reasoner, advice_data=advice, plots=plots, more_facts=link, taken=(when, origin))
         doc = document_of(d, plot_channels=plot_channels)
         if link.doc is not None:
-            link.govern(doc["verdict"]["urgency"])
+            link.govern(doc["verdict"]["urgency"], raises_of(d.reasoning, advice))
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=digest, taken_at=when, time_from=origin,
                            machine_file=machine.source, elapsed_s=time.perf_counter() - start, recording_hash=recording,

@@ -129,7 +129,9 @@ def diagnose_task(task: Task, keys, settings: dict) -> dict:
                      more_facts=link, taken=(when, origin))
         doc = document_of(d, made_at=settings.get("made_at"), plot_channels=_plot_channels(plots, reading))
         if link is not None and link.doc is not None:
-            link.govern(doc["verdict"]["urgency"])
+            from ..trend.acting import raises_of
+
+            link.govern(doc["verdict"]["urgency"], raises_of(d.reasoning, advice))
             doc["trend"] = link.doc
         record = record_of(doc, d.facts, content_hash=content_hash, taken_at=when, time_from=origin,
                            machine_file=task.machine_file, elapsed_s=time.perf_counter() - start,

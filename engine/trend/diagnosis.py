@@ -81,12 +81,13 @@ class HistoryLink:
         self.doc = doc
         return trend_facts(doc)
 
-    def govern(self, urgency: dict | None) -> None:
-        """Say at each point whether this diagnosis's urgency (``verdict.urgency``: id, label, within), or an
-        acceleration risen many-fold, governs over a velocity projection (``report.governing``); the trend was
+    def govern(self, urgency: dict | None, raises: dict[str, list[dict]] | None = None) -> None:
+        """Say at each point whether this diagnosis's urgency (``verdict.urgency``: id, label, within), or what the
+        rules on the trend said about how soon to act there in this diagnosis (``raises``: ``acting.raises_of``
+        its reasoning; None: none said), governs over a velocity projection (``report.governing``); the trend was
         made before the diagnosis had an urgency."""
         for p in (self.doc or {}).get("points", []):
-            p["governs"] = governing(p, urgency)
+            p["governs"] = governing(p, urgency, raises=(raises or {}).get(p["point"], []))
 
     def shown_in(self, units) -> dict | None:
         """The trend section in ``units`` (``ShownUnits``, those the link was made with) for the report: a

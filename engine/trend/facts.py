@@ -63,8 +63,14 @@ def trend_facts(doc: dict) -> list[dict]:
         projected: dict[str, dict] = {}
         for x in sorted(p["projections"], key=_weight):
             projected.setdefault(x["indicator"], x)
+        # per indicator the rise test's fold (``onset._risen``: its projection could not be fitted, or was)
+        risen: dict[str, float] = {}
+        for x in p["projections"]:
+            if x.get("risen_fold") is not None:
+                risen[x["indicator"]] = max(risen.get(x["indicator"], 0.0), float(x["risen_fold"]))
         for ind in p["indicators"]:
             proj = projected.get(ind["name"])
+            fold = max(risen.get(ind["name"], 0.0), float(ind.get("risen_fold") or 0.0))
             facts.append({
                 "kind": "trend", "id": f"trend-{len(facts) + 1}",
                 "point": p["point"], "direction": p["direction"] or "", "indicator": ind["name"],
@@ -79,6 +85,11 @@ def trend_facts(doc: dict) -> list[dict]:
                 # a projection counts only from a start of degradation the trend found, on readings since it
                 "degradation_began": bool(proj and proj["projected"] and proj.get("onset")),
                 "readings_since_onset": (proj.get("readings_since_onset") or 0) if proj and proj["projected"] else 0,
+                "projected_act_by_days": _days(proj, "act_by_days"),
+                # the rise test of rulebooks/trend/onset.yaml, on the projection's health indicator or on the
+                # level itself against its baseline (report._risen_fold): degradation under way
+                "degradation_under_way": fold > 0,
+                "risen_fold": fold,
                 "change_db": ind["change_db"] if ind.get("change_db") is not None else 0.0,
                 "projection_to": proj["limit_label"] if proj else "",
                 "projection_boundary": _boundary(proj["limit_label"]) if proj else "",

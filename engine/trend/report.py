@@ -366,15 +366,29 @@ def _indicator(name: str, s: Series, u: Series | None, until: datetime | None = 
                    "readings_before_repair": before,
                    "last_before_repair": _round(float(s.values[before - 1])) if before else None,
                    "baseline": None, "baseline_readings": 0, "latest": None, "change": None, "change_pct": None,
-                   "change_db": None, "rate_per_month": None, "rate_readings": 0, "unit": "dB" if is_db(name) else ""}
+                   "change_db": None, "rate_per_month": None, "rate_readings": 0, "unit": "dB" if is_db(name) else "",
+                   "risen_fold": None}
     if u is None or not len(u):
         return entry
     c = change_of(u, healthy=_healthy_count(u, until))
     entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
                  change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_figures(c.rate_per_month),
                  rate_readings=c.rate_readings,
-                 change_db=_round(c.change, 2) if is_db(name) else None)
+                 change_db=_round(c.change, 2) if is_db(name) else None,
+                 risen_fold=_round(_risen_fold(name, u.values, c.baseline, c.baseline_readings), 1))
     return entry
+
+
+def _risen_fold(name: str, values: np.ndarray, base: float | None, k: int) -> float | None:
+    """How many times its baseline an acceleration level's latest reading stands when the latest ``rise_in_row``
+    readings after the baseline's ``k`` all stand ``rise_ratio`` times it or more (rulebooks/trend/onset.yaml:
+    one reading that far up can be a knock on the sensor, two surveys in a row cannot both be); None otherwise."""
+    rise = shipped_settings()
+    if name not in ACCELERATION or base is None or base <= 0 or rise.rise_ratio <= 1 \
+            or len(values) - k < rise.rise_in_row:
+        return None
+    latest = np.asarray(values[-rise.rise_in_row:], float)
+    return float(latest[-1] / base) if bool(np.all(latest >= rise.rise_ratio * base)) else None
 
 
 def _healthy_baseline(call: dict | None, until: datetime | None, s: Series) -> dict | None:
@@ -396,12 +410,17 @@ def _healthy_baseline(call: dict | None, until: datetime | None, s: Series) -> d
 ACCELERATION = ("accel_peak_g", "accel_rms_g")     # the levels a bearing's damage multiplies first
 
 
-def governing(entry: dict, urgency: dict | None, opens: dict[str, float] | None = None) -> dict | None:
-    """Which time governs at a point whose velocity is projected to a zone boundary (or a limit) months away, when the
-    diagnosis of its latest reading (``urgency``: id, label, within) opens its window sooner
-    (``window_opens_days`` of rulebooks/advice/severity.yaml, ``opens``), or an acceleration level has risen
-    ``rise_ratio`` times its baseline or more (onset.yaml): the sooner of diagnosis and trend. None when
-    neither, or no velocity projection is given (the soonest is named)."""
+def governing(entry: dict, urgency: dict | None, opens: dict[str, float] | None = None,
+              raises: list[dict] | None = None) -> dict | None:
+    """Which time governs at a point whose velocity is projected to a zone boundary (or a limit): the soonest window
+    (``window_opens_days`` of rulebooks/advice/severity.yaml, ``opens``) that opens before the crossing, of the
+    diagnosis of the point's latest reading (``urgency``: id, label, within) and of the rules on the point's trend
+    (``raises``: the point's rows of ``acting.trend_raises`` or ``acting.raises_of``; None: the rules are run on
+    the entry's own trend facts). None when nothing opens sooner, or no velocity projection is given.
+
+    The result names the time (``urgency``, ``opens_days``), who sets it (``by``: diagnosis or trend; the
+    diagnosis first at a tie), each reason (``because``, soonest first), the rules' sentences (``why``, from
+    the rulebook) and the projection it governs over (``projection``, its index in ``entry["projections"]``)."""
     zone = [x for x in entry["projections"] if x["indicator"] == "velocity_rms_mm_s" and x["projected"]
             and x["method"] != "reached" and x["days"] is not None]
     if not zone:
@@ -411,22 +430,32 @@ def governing(entry: dict, urgency: dict | None, opens: dict[str, float] | None 
     if opens is None:
         from ..advice import load_advice
         opens = load_advice().get("window_opens_days") or {}
-    because = []
+    if raises is None:
+        from .acting import trend_raises
+        raises = trend_raises([entry]).get(entry["point"], [])
     last = max(opens.values(), default=0.0)       # the normal survey interval's opening: no step of action
-    if urgency and urgency.get("id") in opens and opens[urgency["id"]] < min(last, x["days"]):
-        because.append(f"the diagnosis of the latest reading says {urgency['label']} ({urgency['within']})")
-    ratio = shipped_settings().rise_ratio
-    folds = [(i["latest"] / i["baseline"], i["label"].split(",")[0]) for i in entry["indicators"]
-             if i["name"] in ACCELERATION and i["baseline"] and i["latest"] is not None and i["baseline"] > 0]
-    fold, what = max(folds, default=(0.0, ""))
-    if ratio > 1 and fold >= ratio:
-        because.append(f"the {what} has risen {fold:.0f}-fold over its baseline (degradation under way: "
-                       f"{ratio:g}-fold or more, onset.yaml rise_ratio)")
-    if not because:
+    sooner = min(last, x["days"])
+    said: list[tuple[float, int, str, str, dict, str | None]] = []
+    if urgency and urgency.get("id") in opens and opens[urgency["id"]] < sooner:
+        said.append((opens[urgency["id"]], 0, "diagnosis",
+                     f"the diagnosis of the latest reading says {urgency['label']} ({urgency['within']})",
+                     {k: urgency.get(k) for k in ("id", "label", "within")}, None))
+    for r in raises:
+        if r["opens_days"] is not None and r["opens_days"] < sooner:
+            u = r["urgency"]
+            said.append((r["opens_days"], 1, "trend", f"the trend says {u['label']} ({u['within']}; rule {r['rule']})",
+                         u, r["rule"]))
+    if not said:
         return None
-    return {"by": "diagnosis" if because[0].startswith("the diagnosis") else "trend", "because": because,
-            "label": x["label"], "limit_label": x["limit_label"], "days": x["days"], "fold": _round(fold, 1) or None,
-            "projection": at}
+    said.sort(key=lambda s: (s[0], s[1]))
+    folds = [i.get("risen_fold") or 0.0 for i in entry["indicators"] if i["name"] in ACCELERATION]
+    folds += [p.get("risen_fold") or 0.0 for p in entry["projections"]]
+    rules = [s[5] for s in said if s[5]]
+    why = [r["because"] for r in raises if r["rule"] in rules]
+    return {"by": said[0][2], "because": [s[3] for s in said], "urgency": said[0][4], "opens_days": said[0][0],
+            "rules": list(dict.fromkeys(rules)), "why": list(dict.fromkeys(why)),
+            "label": x["label"], "limit_label": x["limit_label"], "days": x["days"],
+            "fold": _round(max(folds, default=0.0), 1) or None, "projection": at}
 
 
 def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, float] | None = None,
@@ -434,7 +463,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                     learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
                     plot_units: ShownUnits | None = None, alarms: list[dict] | None = None,
                     calls: list[dict] | None = None, urgency: dict[str, dict] | None = None,
-                    bearings: dict[str, str] | None = None, pool: bool = True) -> dict:
+                    bearings: dict[str, str] | None = None, pool: bool = True, site: tuple = ()) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
     they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
@@ -454,8 +483,11 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     the points (``pool.pool_section``; without it each point is a bearing of its own); ``pool``: False leaves
     the pooled answer out (``points[].pool`` None), where no report shows it (the trend ``diagnose --store``
     reads its facts from, on every reading stored: the GP costs about a CPU second a point).
+    ``site``: the rulebook overlays whose rules on trend facts say, with the shipped ones, how soon to act
+    (``acting.trend_raises``, for ``governs``).
     """
     from ..advice import zone_of
+    from .acting import trend_raises
     from .pool import pool_section
 
     limits = limits or {}
@@ -519,7 +551,7 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "readings_before": len(ref) - (0 if since is None else len(since)),
                      "every_point": reset.points is None},
                  "healthy_baseline": _healthy_baseline(call, until, since if since is not None else ref)}
-        entry["governs"] = governing(entry, (urgency or {}).get(pt))
+        entry["governs"] = governing(entry, (urgency or {}).get(pt), raises=trend_raises([entry], site).get(pt, []))
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
                                     plot_units or units, here)
@@ -623,14 +655,16 @@ def latest_urgency(readings: list[dict]) -> dict[str, dict]:
 
 def trend_document(store, machine: str, *, point: str | None = None, limits: dict[str, float] | None = None,
                    plots: bool = False, names: dict[str, str] | None = None, waterfall: bool = False,
-                   compare: tuple[int, int] | None = None, units: ShownUnits | None = None) -> dict:
+                   compare: tuple[int, int] | None = None, units: ShownUnits | None = None,
+                   site: tuple = ()) -> dict:
     """The trend document of a stored machine, with its findings (the store is only read); ``waterfall``
     adds each point's spectra over time, ``compare`` (two reading ids) an overlay of those two readings'
     spectra at each point both have (``waterfall.spectra_section``); all shown in ``units`` (None: Hz and
     mm/s RMS). A ``point`` with no stored reading is a UsageError listing the points that have some. The
     alarms shown, and projected to, at each point are those its latest reading was judged by, as stored with
     it (the machine file's with any site alarm file laid over); for a reading stored before they were kept,
-    those of the machine file it was diagnosed with, as that file reads now (``judged_alarms``)."""
+    those of the machine file it was diagnosed with, as that file reads now (``judged_alarms``). ``site``: the
+    rulebook overlays (folders) whose rules on trend facts join the shipped ones in saying how soon to act."""
     rows = store.history(machine, point)
     if point is not None and not rows:        # only then is the whole history read, to list its points
         from ..common.errors import UsageError
@@ -652,7 +686,7 @@ def trend_document(store, machine: str, *, point: str | None = None, limits: dic
     doc = trend_from_rows(machine, rows, scale, limits=limits, alarms=alarms, bearings=bearings,
                           point=point, plots=plots, repairs=repairs, units=units,
                           calls=fault_calls(store, machine, loaded),
-                          urgency=latest_urgency(readings),
+                          urgency=latest_urgency(readings), site=site,
                           learned=learned_from_store(store, limits or {}, growth_of, lambda m: repairs if m == machine
                                                      else _repairs(store, m, store.readings(m), names, known)))
     doc["store"] = str(store.path)

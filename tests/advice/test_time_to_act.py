@@ -201,3 +201,42 @@ def test_the_raise_sentences_are_in_the_chosen_units(reasoner, velocity, baselin
         text = " ".join(render(doc, "text", "diagnosis").split())
         assert f"sooner because of the trend (watch): Broadband velocity at P1H went from a baseline of {baseline}" \
                in text, text
+
+
+# rulebooks/time-to-act.yaml trend.time-to-act.degradation-under-way: the rise test of rulebooks/trend/onset.yaml
+# (10 times the healthy level in 2 surveys in a row; common practice, its source there) asks for plan soon
+@pytest.mark.parametrize("over, step", [
+    ({"indicator": "accel_peak_g", "degradation_under_way": True, "risen_fold": 57.0}, "plan-soon"),
+    ({"indicator": "accel_rms_g", "degradation_under_way": True, "risen_fold": 12.0}, "plan-soon"),
+    ({"indicator": "accel_peak_g", "degradation_under_way": False, "risen_fold": 0.0}, None),
+], ids=["peak-57-fold", "rms-12-fold", "not-under-way"])
+def test_degradation_under_way_asks_to_plan_soon(reasoner, over, step):
+    assert asked(reasoner, trend_fact(**over)) == ([step] if step else [])
+
+
+def test_degradation_under_way_says_how_many_times_its_healthy_level(reasoner):
+    (f,) = reasoner.reason([trend_fact(indicator="accel_peak_g", indicator_words="acceleration peak, g",
+                                       degradation_under_way=True, risen_fold=57.3)]).derived("time_to_act")
+    assert f.rule_id == "trend.time-to-act.degradation-under-way"
+    assert "At P1H the acceleration peak, g stands 57.3 times its healthy level" in " ".join(f.because.split())
+
+
+# trend.time-to-act.projected-act-by: the act-by time (best expected score, a late answer costing four times as
+# fast as an early one: the IEEE PHM 2012 challenge's score, as ../shared/datasets/README.md quotes it) asks for
+# the step whose window holds it, only where it comes before the 80 % interval's early end
+@pytest.mark.parametrize("act_by, steps", [
+    (5.0, ["act-now", "plan-soon"]),     # act-by 5 days: act now; the early end 20 days: plan soon
+    (25.0, ["plan-soon"]),               # after the early end: the crossing rule alone
+    (-1.0, ["plan-soon"]),               # no act-by time (a path without draws)
+], ids=["act-by-first", "act-by-later", "no-act-by"])
+def test_the_act_by_time_counts_where_it_is_sooner_than_the_interval(reasoner, act_by, steps):
+    assert sorted(asked(reasoner, projected(20.0, projected_act_by_days=act_by))) == sorted(steps)
+
+
+def test_a_stored_diagnosis_raised_by_degradation_under_way(reasoner):
+    m, reading = _healthy(reasoner)
+    d = diagnose(reading, m, reasoner, more_facts=lambda facts, alarms: [
+        trend_fact(indicator="accel_peak_g", degradation_under_way=True, risen_fold=30.0)])
+    assert d.advice.urgency.id == "plan-soon"
+    (why,) = d.advice.raised_by
+    assert why.rule_id == "trend.time-to-act.degradation-under-way" and why.point == "P1H"

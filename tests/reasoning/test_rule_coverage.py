@@ -286,6 +286,14 @@ WITH_TREND = [
                                             degradation_began=True, readings_since_onset=6,
                                             projection_to="limit accel_rms_g = 1", projection_boundary="limit")],
      "trend.time-to-act.projected-crossing"),
+    ("the act-by time before the interval's early end", [trend_fact(
+        projected_days=30.0, projected_low_days=20.0, projected_high_days=45.0, projected_act_by_days=9.0,
+        degradation_began=True, readings_since_onset=6, projection_to="limit accel_rms_g = 1",
+        projection_boundary="limit")],
+     "trend.time-to-act.projected-act-by"),
+    ("acceleration 40 times its healthy level in two surveys", [trend_fact(
+        indicator="accel_peak_g", degradation_under_way=True, risen_fold=40.0)],
+     "trend.time-to-act.degradation-under-way"),
     ("a significant change of velocity", [trend_fact(indicator="velocity_rms_mm_s", indicator_name="velocity RMS, mm/s",
                                                  iso_change_significant=True)],
      "trend.time-to-act.velocity-change"),

@@ -199,10 +199,19 @@ def test_which_time_governs_names_the_velocity_projection_in_the_shown_units(tmp
 
 
 def _entry(days=150.0, peak=(0.1, 0.12)):
-    return {"projections": [{"indicator": "velocity_rms_mm_s", "label": "velocity, mm/s RMS", "projected": True,
-                             "method": "CUSUM", "days": days, "limit_label": "zone boundary A/B (1.4 mm/s)"}],
+    """A point of a trend document (the fields ``trend_from_rows`` gives that the trend facts read): a velocity
+    projected to A/B in ``days``, and an acceleration peak from ``peak[0]`` to ``peak[1]`` over 6 readings, its
+    latest two at that level (so ``risen_fold`` is the fold when it is 10 or more, rulebooks/trend/onset.yaml)."""
+    fold = peak[1] / peak[0]
+    return {"point": "P1H", "direction": "horizontal",
+            "projections": [{"indicator": "velocity_rms_mm_s", "label": "velocity, mm/s RMS", "projected": True,
+                             "method": "CUSUM", "days": days, "low_days": days / 2, "high_days": days * 2,
+                             "act_by_days": None, "onset": None, "readings_since_onset": None, "risen_fold": None,
+                             "limit_label": "zone boundary A/B (1.4 mm/s)"}],
             "indicators": [{"name": "accel_peak_g", "label": "acceleration peak, g", "baseline": peak[0],
-                            "latest": peak[1]}]}
+                            "latest": peak[1], "readings": 6, "change_pct": 100.0 * (fold - 1.0),
+                            "rate_per_month": 0.0, "change_db": None,
+                            "risen_fold": fold if fold >= shipped_settings().rise_ratio else None}]}
 
 
 OPENS = {"act-now": 0, "plan-soon": 14, "plan": 28, "none": 91}     # rulebooks/advice/severity.yaml
