@@ -70,7 +70,9 @@ rules:
     title: An acceleration level risen an order of magnitude stops the machine here
     source: site practice (invented for this test)
     needs: [{{fact: trend, as: t, where: {{degradation_under_way: true}}}}]
-    derives: {{fact: time_to_act, fields: {{point: t.point, indicator: t.indicator, urgency: act-now, within_days: -1}}}}
+    derives:
+      fact: time_to_act
+      fields: {{point: t.point, indicator: t.indicator, urgency: act-now, within_days: -1}}
     certainty: 1.0
     because: "Site rule: {{t.indicator_words}} at {{t.point}} stands {{t.risen_fold}} times its level."
 """)
