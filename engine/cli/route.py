@@ -75,12 +75,15 @@ def run(args) -> int:
                   "again to resume", file=sys.stderr)
             return 130
         units = shown_units(args, rulebook(args).units if args.site else None)
-        doc = route_summary(outcome, store, out, alarms=args.alarms or (), units=units)
         pages = trend_paths(route, out)
-        for m in doc["machines"]:        # each machine's trend page, which the summary links to
-            if m["machine"] in pages:
-                trend = trend_document(store, m["machine"], plots=True, units=units, site=tuple(args.site or ()))
-                write_atomically(pages[m["machine"]], render(trend, "html", "trend"), inputs)
+        stored = set(store.machines())
+        # each machine's trend, for its page (which the summary links to) and the summary's time that governs
+        trends = {name: trend_document(store, name, plots=True, units=units, site=tuple(args.site or ()))
+                  for name in pages if name in stored}
+        doc = route_summary(outcome, store, out, alarms=args.alarms or (), units=units, trends=trends)
+        for m in doc["machines"]:
+            if m["machine"] in trends:
+                write_atomically(pages[m["machine"]], render(trends[m["machine"]], "html", "trend"), inputs)
     for fmt, path in summary_paths(out).items():
         write_atomically(path, render(doc, fmt, "route"), inputs)
     if not args.quiet:

@@ -156,11 +156,22 @@ def _crossed(alarms: list[dict], rows: list[dict]) -> list[dict]:
     return sorted(out, key=lambda x: (x["state"] != "danger", x["point"], x["band"]))
 
 
-def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units: ShownUnits | None = None) -> dict:
+def machine_governs(trend: dict | None) -> dict | None:
+    """Which time governs a machine in the route summary: the soonest of its points' ``governs`` (the trend's own
+    answer, ``trend.report.governing``: the diagnosis or a rule on the trend opening a window before a velocity
+    projection's crossing; the diagnosis first at a tie), with its point; None when no point has one."""
+    found = [{**p["governs"], "point": p["point"]} for p in (trend or {}).get("points", []) if p.get("governs")]
+    return min(found, key=lambda g: (g["opens_days"], g["by"] != "diagnosis", g["days"]), default=None)
+
+
+def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units: ShownUnits | None = None,
+                  trends: dict[str, dict] | None = None) -> dict:
     """The summary document of a finished (or resumed) route. A reading is flagged by the alarms its stored
     diagnosis judged it by (kept with it in the store); one stored before they were kept, by ``alarms``,
     the route's site alarm files laid over its machine file's alarms as they are now; ``units``: what the
-    velocity change shows (a broadband level: RMS, in mm/s or in/s; the ``_mm_s`` fields keep mm/s)."""
+    velocity change shows (a broadband level: RMS, in mm/s or in/s; the ``_mm_s`` fields keep mm/s).
+    ``trends``: machine -> its trend document (``trend.trend_document``, the one its trend page shows, in
+    ``units``): each machine says which time governs (``machine_governs``; None without one)."""
     units = units or ShownUnits()
     out_dir = Path(out_dir).resolve()
     pages = trend_paths(outcome.route, out_dir)
@@ -225,6 +236,7 @@ def route_summary(outcome: RouteOutcome, store: Store, out_dir, alarms=(), units
                                         else units.velocity_text(v, line=False).split(" ")[0])
                                     for k, v in (("then", m["change"]["then_mm_s"]), ("now", m["change"]["now_mm_s"]))}
         m["trend_page"] = (os.path.relpath(pages[m["machine"]], out_dir) if m["machine"] in pages else None)
+        m["governs"] = machine_governs((trends or {}).get(m["machine"]))
         for x in m["readings"]:
             del x["_id"]
         ranked.append(m)

@@ -140,3 +140,60 @@ def test_the_summarys_repairs_are_the_trends_repairs(tmp_path):
     assert change["repairs"] == [{"found_on": "2026-03-13", "component": "pump_de", "fault": "other",
                                   "fault_name": trend[0].fault_name}]
     assert trend[0].fault_name == "other (see the notes)"
+
+
+def _history(n: int, when: str, velocity: float, peak: float, rms: float) -> dict:
+    """A stored P1H reading as `diagnose --store` keeps it: inner race on pump_de at 90 %, act now."""
+    rec = _record(n, when, {"P1H": velocity}, {"P1H": rms})
+    rec["indicators"].append({"channel": "P1H", "name": "accel_peak_g", "value": peak})
+    rec["verdict"]["urgency"] = rec["hypotheses"][0]["urgency"] = "act-now"
+    rec["channels"][0]["zone"] = rec["verdict"]["worst_zone"] = "A"
+    return rec
+
+
+def test_the_summary_says_which_time_governs_each_machine(tmp_path):
+    # five monthly readings of a stage-4 inner race at P1H as the new analyst's trial saw them (invented demo data:
+    # acceleration peak 0.09 to 12.9 g, RMS 0.03 to 2.5 g) with the velocity creeping in zone A, then this month's
+    # route reading (the simulator's stage 4): the velocity's crossing of A/B is months away, the diagnosis says
+    # act now, and the rise test's rule (rulebooks/time-to-act.yaml) plan soon; the summary says so, as the trend does
+    peak = [0.0891, 0.1215, 0.5252, 2.6251, 12.8647]
+    rms = [0.0320, 0.0333, 0.0817, 0.3607, 2.5385]
+    with Store(tmp_path / "h.sqlite") as s:
+        for i in range(5):
+            s.add(_history(i, f"2026-0{i + 1}-03T09:00:00", 0.45 + 0.06 * i, peak[i], rms[i]))
+    sim = simulate(load_machine(PUMP), "inner-race", "pump_de", 4, fs_hz=12800.0, duration_s=1.0, seed=3,
+                   points=["P1H"])
+    write_simulation(sim, tmp_path / "r.wav")
+    route = tmp_path / "route.yaml"
+    route.write_text(yaml.safe_dump({"route": "governs", "machines": {"rw2": str(PUMP)},
+                                     "readings": [{"file": "r.wav", "machine": "rw2", "time": "2026-06-10T08:00:00"}]}))
+    out = tmp_path / "out"
+    assert main(["route", str(route), "--store", str(tmp_path / "h.sqlite"), "--out", str(out), "--workers", "1",
+                 "--quiet"]) == 0
+    doc = json.loads((out / "summary.json").read_text())
+    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
+    (m,) = doc["machines"]
+    g = m["governs"]
+    assert g["point"] == "P1H" and g["by"] == "diagnosis" and g["urgency"]["id"] == "act-now"
+    assert g["rules"] == ["trend.time-to-act.degradation-under-way"] and g["days"] > 91
+    assert g["because"][0].startswith("the diagnosis of the latest reading says act now")
+    assert g["because"][1].startswith("the trend says plan soon")
+    page = (out / m["trend_page"]).read_text()
+    assert "Which time governs" in page and "degradation is under way" in " ".join(page.split())
+    for name, said in (("summary.txt", "which time governs at P1H: the diagnosis of the latest reading says act now"),
+                       ("summary.md", "**Which time governs** at P1H: the diagnosis"),
+                       ("summary.html", "<strong>Which time governs</strong> at P1H: the diagnosis")):
+        text = (out / name).read_text()
+        assert said in text and "which is not a time to wait" in text, name
+
+
+def test_the_soonest_point_governs_the_machine():
+    from engine.route.summary import machine_governs
+
+    def point(name, opens, by="trend"):
+        return {"point": name, "governs": {"by": by, "opens_days": opens, "days": 120.0}}
+    trend = {"points": [point("P2H", 28.0), point("P1H", 14.0), point("M2H", 14.0, "diagnosis"),
+                        {"point": "P1A", "governs": None}]}
+    assert machine_governs(trend)["point"] == "M2H"      # the soonest; at a tie the diagnosis
+    assert machine_governs({"points": [{"point": "P1A", "governs": None}]}) is None
+    assert machine_governs(None) is None
