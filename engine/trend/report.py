@@ -358,18 +358,22 @@ def _alarm_row(a: dict, s: Series) -> dict:
             "judged": a.get("judged") or ""}
 
 
-def _indicator(name: str, s: Series, u: Series | None, until: datetime | None = None) -> dict:
+def _indicator(name: str, s: Series, u: Series | None, until: datetime | None = None, times=()) -> dict:
     """One indicator of a point: baseline, latest, change and rate over the readings used (``u``); the baseline
-    of the readings taken before ``until`` (the first confident fault call) when there are some."""
+    of the readings taken before ``until`` (the first confident fault call) when there are some. ``times``: when
+    the point's readings used were taken (any indicator): a line not found in the latest of them (a bearing tone
+    after a repair) says that its latest value is older (``not_found_since``, ``latest_at``)."""
     before = len(s) - (0 if u is None else len(u))
     entry: dict = {"name": name, "label": s.label, "readings": 0 if u is None else len(u),
                    "readings_before_repair": before,
                    "last_before_repair": _round(float(s.values[before - 1])) if before else None,
                    "baseline": None, "baseline_readings": 0, "latest": None, "change": None, "change_pct": None,
                    "change_db": None, "rate_per_month": None, "rate_readings": 0, "unit": "dB" if is_db(name) else "",
-                   "risen_fold": None}
+                   "risen_fold": None, "latest_at": None, "not_found_since": 0}
     if u is None or not len(u):
         return entry
+    entry.update(latest_at=u.times[-1].isoformat(timespec="minutes"),
+                 not_found_since=sum(1 for t in times if _naive(t) > _naive(u.times[-1])))
     c = change_of(u, healthy=_healthy_count(u, until))
     entry.update(baseline=_round(c.baseline), baseline_readings=c.baseline_readings, latest=_round(c.latest),
                  change=_round(c.change), change_pct=_round(c.change_pct, 1), rate_per_month=_figures(c.rate_per_month),
@@ -508,9 +512,10 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
         call = first_fault_call(calls, pt, reset)
         until = None if call is None else _naive(datetime.fromisoformat(call["taken_at"]))
         used_at[pt], sources[pt] = used, source
+        times = sorted({_naive(t) for u in used.values() for t in u.times})
         for name in list(SHOWN) + sorted(n for n in by_name if n not in SHOWN):
             if name in by_name:
-                indicators.append(_indicator(name, by_name[name], used.get(name), until))
+                indicators.append(_indicator(name, by_name[name], used.get(name), until, times))
         iso = None
         if "velocity_rms_mm_s" in used:
             s = used["velocity_rms_mm_s"]

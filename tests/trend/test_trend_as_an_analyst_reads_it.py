@@ -1,0 +1,37 @@
+"""What a new analyst read wrong in `tellwave trend` on the demo plant's monthly routes (invented data): a bearing
+line not found in the latest surveys (the bearing was replaced) showed its last value as the latest, rising."""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta
+
+from engine.advice import ZoneScale
+from engine.report import render
+from engine.trend.report import trend_from_rows
+
+SCALE = ZoneScale(2, "rigid", 1.4, 2.8, 4.5, False, "ISO 20816-3 (from memory)")
+
+
+def _rows():
+    # five monthly readings at P1H: the BPFI line in the spectrum found in the first three only
+    t0 = datetime(2026, 1, 12, 8, 30)
+    out = []
+    for i in range(5):
+        ind = {"velocity_rms_mm_s": 0.6 + 0.01 * i, "accel_rms_g": 0.03}
+        if i < 3:
+            ind["tone_BPFI_g"] = [0.004, 0.01, 0.026][i]
+        out.append({"id": i + 1, "taken_at": (t0 + timedelta(days=30 * i)).isoformat(), "channel": "P1H",
+                    "point": "P1H", "direction": "horizontal", "indicators": ind})
+    return out
+
+
+def test_a_line_not_found_lately_says_its_latest_value_is_older():
+    doc = trend_from_rows("RW-2 raw water pump", _rows(), SCALE, plots=True)
+    (p,) = doc["points"]
+    tone = next(i for i in p["indicators"] if i["name"] == "tone_BPFI_g")
+    assert tone["not_found_since"] == 2 and tone["latest_at"].startswith("2026-03-13")
+    velocity = next(i for i in p["indicators"] if i["name"] == "velocity_rms_mm_s")
+    assert velocity["not_found_since"] == 0
+    assert "(not found in the 2 latest reading(s): latest from 2026-03-13)" in render(doc, "text", "trend")
+    for fmt in ("md", "html"):
+        assert "(from 2026-03-13: not found in the 2 latest reading(s))" in render(doc, fmt, "trend"), fmt
