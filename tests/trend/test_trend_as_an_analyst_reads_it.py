@@ -26,7 +26,7 @@ def _rows():
 
 
 def test_a_line_not_found_lately_says_its_latest_value_is_older():
-    doc = trend_from_rows("RW-2 raw water pump", _rows(), SCALE, plots=True)
+    doc = {**trend_from_rows("RW-2 raw water pump", _rows(), SCALE, plots=True), "store": "h.sqlite"}
     (p,) = doc["points"]
     tone = next(i for i in p["indicators"] if i["name"] == "tone_BPFI_g")
     assert tone["not_found_since"] == 2 and tone["latest_at"].startswith("2026-03-13")
