@@ -456,7 +456,8 @@ def governing(entry: dict, urgency: dict | None, opens: dict[str, float] | None 
     folds += [p.get("risen_fold") or 0.0 for p in entry["projections"]]
     rules = [s[5] for s in said if s[5]]
     why = [r["because"] for r in raises if r["rule"] in rules]
-    return {"by": said[0][2], "because": [s[3] for s in said], "urgency": said[0][4], "opens_days": said[0][0],
+    return {"by": said[0][2], "because": list(dict.fromkeys(s[3] for s in said)), "urgency": said[0][4],
+            "opens_days": said[0][0],
             "rules": list(dict.fromkeys(rules)), "why": list(dict.fromkeys(why)),
             "label": x["label"], "limit_label": x["limit_label"], "days": x["days"],
             "fold": _round(max(folds, default=0.0), 1) or None, "projection": at}

@@ -87,3 +87,15 @@ def test_the_diagnosis_first_at_a_tie():
     (p,) = trend_from_rows(MACHINE, _rows([0.1, 0.1, 0.1, 0.1, 2.0, 4.0], VELOCITY), SCALE)["points"]
     g = governing(p, {"id": "plan-soon", "label": "plan soon", "within": "2 to 4 weeks"}, OPENS)
     assert g is not None and g["by"] == "diagnosis" and len(g["because"]) == 2 and g["rules"] == [RULE]
+
+
+def test_a_rule_fired_at_two_indicators_is_one_reason_with_both_sentences():
+    # the peak and the RMS both 40 times their baseline: one "the trend says plan soon", two sentences why
+    rows = _rows([0.1, 0.1, 0.1, 0.1, 2.0, 4.0], VELOCITY)
+    for r in rows:
+        r["indicators"]["accel_rms_g"] = r["indicators"]["accel_peak_g"] / 4.0
+    (p,) = trend_from_rows(MACHINE, rows, SCALE)["points"]
+    g = p["governs"]
+    assert g["because"] == [f"the trend says plan soon (2 to 4 weeks: schedule the repair at the next planned stop; "
+                            f"rule {RULE})"]
+    assert len(g["why"]) == 2 and g["fold"] == pytest.approx(40.0)
