@@ -76,7 +76,7 @@ class HistoryLink:
         # the earlier readings diagnosed faulty at a confident certainty are not healthy baseline
         calls = fault_calls(self.store, self.machine.name, self.machine)
         doc = trend_from_rows(self.machine.name, earlier + now, self.scale, plots=self.plots, repairs=repairs,
-                              plot_units=self.units, alarms=alarm_rows, calls=calls, pool=False)
+                              plot_units=self.units, alarms=alarm_rows, calls=calls, pool=False, govern=False)
         doc["points"] = [p for p in doc["points"] if p["point"] in here]
         self.doc = doc
         return trend_facts(doc)

@@ -468,7 +468,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                     learned: dict[str, StorePrior] | None = None, units: ShownUnits | None = None,
                     plot_units: ShownUnits | None = None, alarms: list[dict] | None = None,
                     calls: list[dict] | None = None, urgency: dict[str, dict] | None = None,
-                    bearings: dict[str, str] | None = None, pool: bool = True, site: tuple = ()) -> dict:
+                    bearings: dict[str, str] | None = None, pool: bool = True, site: tuple = (),
+                    govern: bool = True) -> dict:
     """The trend document of ``machine`` from ``Store.history`` rows (oldest first), shown in ``units``
     (``shown.trend_in_units``; None: Hz and mm/s RMS). ``plot_units``: the units the plots are drawn in when
     they are not ``units`` (a document kept in Hz and mm/s RMS that a report converts later, ``diagnosis``).
@@ -489,7 +490,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
     the pooled answer out (``points[].pool`` None), where no report shows it (the trend ``diagnose --store``
     reads its facts from, on every reading stored: the GP costs about a CPU second a point).
     ``site``: the rulebook overlays whose rules on trend facts say, with the shipped ones, how soon to act
-    (``acting.trend_raises``, for ``governs``).
+    (``acting.trend_raises``, for ``governs``); ``govern``: False leaves ``governs`` None, for a diagnosis to say
+    after its own reasoning (``diagnosis.HistoryLink.govern``).
     """
     from ..advice import zone_of
     from .acting import trend_raises
@@ -557,7 +559,8 @@ def trend_from_rows(machine: str, rows: list[dict], scale, *, limits: dict[str, 
                      "readings_before": len(ref) - (0 if since is None else len(since)),
                      "every_point": reset.points is None},
                  "healthy_baseline": _healthy_baseline(call, until, since if since is not None else ref)}
-        entry["governs"] = governing(entry, (urgency or {}).get(pt), raises=trend_raises([entry], site).get(pt, []))
+        entry["governs"] = governing(entry, (urgency or {}).get(pt), raises=trend_raises([entry], site).get(pt, [])) \
+            if govern else None
         if plots:
             entry["plots"] = _plots(by_name, used, scale, projections, pt, [r for r in repairs if r.shown_at(pt)],
                                     plot_units or units, here)
