@@ -35,3 +35,17 @@ def test_a_line_not_found_lately_says_its_latest_value_is_older():
     assert "(not found in the 2 latest reading(s): latest from 2026-03-13)" in render(doc, "text", "trend")
     for fmt in ("md", "html"):
         assert "(from 2026-03-13: not found in the 2 latest reading(s))" in render(doc, fmt, "trend"), fmt
+
+
+def test_a_level_past_c_d_says_why_there_is_no_projection_in_every_format():
+    # BW-1's blower end on the demo's sixth survey: velocity in zone D (past C/D = 4.5 mm/s for group 2 rigid,
+    # ISO 20816-3, from memory) and no --limit: text said why nothing was projected, Markdown and HTML said nothing
+    t0 = datetime(2026, 1, 12, 8, 36)
+    rows = [{"id": i + 1, "taken_at": (t0 + timedelta(days=30 * i)).isoformat(), "channel": "BDEH", "point": "BDEH",
+             "direction": "horizontal", "indicators": {"velocity_rms_mm_s": v}}
+            for i, v in enumerate([2.5, 2.6, 3.4, 2.1, 2.1, 4.6])]
+    doc = {**trend_from_rows("BW-1 backwash blower", rows, SCALE, plots=True), "store": "h.sqlite"}
+    assert doc["points"][0]["projections"] == []
+    for fmt in ("text", "md", "html"):
+        assert "past the last zone boundary (C/D), so there is no boundary left to project to" in render(doc, fmt,
+                                                                                                          "trend"), fmt
