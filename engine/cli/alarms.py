@@ -47,8 +47,9 @@ def run(args) -> int:
                                 point=args.point)
         name = store.path.name
     if not derived["alarms"]:
+        more = len(derived["too_few"]) - 3
         why = "; ".join(f"{x['point']} {x['band']} {x['quantity']}: {x['why']}"
-                        for x in derived["too_few"][:3]) or (
+                        for x in derived["too_few"][:3]) + (f"; and {more} more" if more > 0 else "") or (
                   "no stored level" if derived["healthy"] else "every stored reading has a confident hypothesis")
         raise UsageError(f"too few healthy readings of {args.machine} to set any limit "
                          f"({derived['healthy']} healthy of {derived['readings']}; {why})")

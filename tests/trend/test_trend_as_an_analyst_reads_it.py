@@ -49,3 +49,26 @@ def test_a_level_past_c_d_says_why_there_is_no_projection_in_every_format():
     for fmt in ("text", "md", "html"):
         assert "past the last zone boundary (C/D), so there is no boundary left to project to" in render(doc, fmt,
                                                                                                           "trend"), fmt
+
+
+def test_too_few_healthy_readings_for_any_limit_says_how_many_levels_it_left_out(tmp_path, capsys):
+    # `alarms derive` on the demo pump (months 1 to 6, its inner race called from the first survey): the one-line
+    # error named three levels of M2H and not that nine more had too few healthy readings too
+    from engine.cli import main
+    from engine.history.store import Store
+
+    with Store(tmp_path / "h.sqlite") as store:
+        for i in range(2):
+            store.add({"content_hash": f"h{i}", "machine": "RW-2 raw water pump", "machine_file": None,
+                       "source": f"r{i}.wav", "taken_at": f"2026-0{i + 1}-12T08:30:00", "time_from": "route",
+                       "speed_rpm": 1486.0, "elapsed_s": 0.1, "fs_hz": 25600.0, "duration_s": 2.0,
+                       "verdict": {"urgency": "none", "urgency_label": "no action", "worst_zone": "A",
+                                   "withheld": False, "summary": "s"}, "top": None, "hypotheses": [],
+                       "channels": [{"channel": p, "point": p, "direction": "horizontal", "location": "",
+                                     "zone": "A"} for p in ("P1H", "P2H", "M2H", "M1H")],
+                       "indicators": [{"channel": p, "name": n, "value": 0.5} for p in ("P1H", "P2H", "M2H", "M1H")
+                                      for n in ("velocity_rms_mm_s", "accel_rms_g", "accel_peak_g")]})
+    assert main(["alarms", "derive", "RW-2 raw water pump", "--store", str(tmp_path / "h.sqlite")]) == 2
+    err = capsys.readouterr().err
+    assert "too few healthy readings" in err and err.count("2 healthy reading(s), 6 needed") == 3
+    assert "; and 9 more)" in err and len(err.strip().splitlines()) == 1
