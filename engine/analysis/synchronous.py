@@ -199,6 +199,16 @@ def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: 
     return rows
 
 
+def _unit_phasors(phase_rad: np.ndarray) -> np.ndarray:
+    """exp(i phase) as cos + i sin, written straight into the complex result: the same values as
+    ``np.exp(1j * phase)`` (whose complex path, for a pure imaginary argument, is cos and sin too)
+    at about half the cost."""
+    out = np.empty(len(phase_rad), dtype=complex)
+    np.cos(phase_rad, out=out.real)
+    np.sin(phase_rad, out=out.imag)
+    return out
+
+
 class _ChirpSums:
     """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for any v of ``inputs`` values (Bluestein's
     chirp z transform: j m = (j^2 + m^2 - (m - j)^2) / 2 makes it a convolution); the chirp and the
@@ -213,7 +223,7 @@ class _ChirpSums:
             return
         self.size = sfft.next_fast_len(inputs + outputs - 1)
         j = np.arange(max(inputs, outputs), dtype=float)
-        self.chirp = np.exp(0.5j * step_rad * (j * j))        # exp(i step j^2 / 2)
+        self.chirp = _unit_phasors((0.5 * step_rad) * (j * j))  # exp(i step j^2 / 2)
         kernel = np.zeros(self.size, dtype=complex)             # exp(-i step d^2 / 2), d = -(inputs-1) .. outputs-1
         kernel[:outputs] = np.conj(self.chirp[:outputs])
         if inputs > 1:
