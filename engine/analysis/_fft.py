@@ -16,7 +16,7 @@ and numpy.testing come with it) took about a fifth of a whole ``tellwave diagnos
 
 from __future__ import annotations
 
-from bisect import bisect_left
+from bisect import bisect_left, bisect_right
 from operator import index
 
 import numpy as np
@@ -81,9 +81,20 @@ def next_fast_len(target: int, real: bool = False) -> int:
     return sizes[bisect_left(sizes, n)]     # the power of two at or above n is among them
 
 
+def previous_fast_len(target: int, real: bool = False) -> int:
+    """The largest size at or below ``target`` (1 for a target below 2) whose only prime factors are pocketfft's
+    radices: the counterpart of ``next_fast_len``, looked up in the same sorted table (a walk down
+    from ``target`` calling ``next_fast_len`` at each step took hundreds of calls)."""
+    n = index(target)
+    if n <= 1:
+        return 1
+    sizes = _fast_sizes(bool(real), n)
+    return sizes[bisect_right(sizes, n) - 1]
+
+
 def ifft(a, axis: int = -1, overwrite_x: bool = False):
     """``numpy.fft.ifft`` along ``axis``; with ``overwrite_x`` the result is written into ``a``."""
     return np.fft.ifft(a, axis=axis, out=a if overwrite_x else None)
 
 
-__all__ = ["ifft", "irfft", "next_fast_len", "rfft"]
+__all__ = ["ifft", "irfft", "next_fast_len", "previous_fast_len", "rfft"]

@@ -66,9 +66,15 @@ def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz:
     >>> round(float(train.rate_hz), 3), train.count
     (40.0, 160)
     """
+    n = len(envelope)
+    lo = max(2, int(fs / (1.3 * fastest_hz)))
+    hi = min(n // 4, int(fs / (0.7 * slowest_hz)))
+    if hi <= lo + 2:
+        return None
     env = envelope - envelope.mean()
-    n = len(env)
-    size = sfft.next_fast_len(2 * n, real=True)          # zero padding: linear, not circular
+    # zero padding to n + the longest lag read (hi, and one past it for the parabola): those lags are linear,
+    # not circular; the lags beyond, which wrap, are never read
+    size = sfft.next_fast_len(n + hi + 1, real=True)
     spectrum = sfft.rfft(env, size)
     del env
     power = np.square(spectrum.real)      # |X|^2 without temporaries as long as the spectrum
@@ -78,13 +84,9 @@ def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz:
     del power
     if full[0] <= 0:
         return None
-    acf = full[:n] / full[0]
+    acf = full[:hi + 1] / full[0]
     del full
-    acf /= 1 - np.arange(n) / n                  # unbiased, normalised
-    lo = max(2, int(fs / (1.3 * fastest_hz)))
-    hi = min(n // 4, int(fs / (0.7 * slowest_hz)))
-    if hi <= lo + 2:
-        return None
+    acf /= 1 - np.arange(hi + 1) / n             # unbiased, normalised
     segment = acf[lo:hi]
     lags = local_maxima(segment)
     lags = lags[segment[lags] >= MIN_PERIODICITY]

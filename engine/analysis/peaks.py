@@ -109,16 +109,17 @@ def select_by_distance(peaks: np.ndarray, heights: np.ndarray, distance: float) 
     """
     if distance <= 1 or len(peaks) < 2:
         return peaks
-    keep = np.ones(len(peaks), dtype=bool)
-    order = np.argsort(heights, kind="stable")[::-1]
-    for i in order:
+    # each peak's neighbourhood, all at once; the walk from the highest then runs on plain ints and bytes
+    below = np.searchsorted(peaks, peaks - distance, side="right").tolist()
+    above = np.searchsorted(peaks, peaks + distance, side="left").tolist()
+    keep = bytearray(b"\x01") * len(peaks)
+    for i in np.argsort(heights, kind="stable")[::-1].tolist():
         if not keep[i]:
             continue
-        lo = np.searchsorted(peaks, peaks[i] - distance, side="right")
-        hi = np.searchsorted(peaks, peaks[i] + distance, side="left")
-        keep[lo:i] = False
-        keep[i + 1:hi] = False
-    return peaks[keep]
+        lo, hi = below[i], above[i]
+        keep[lo:i] = bytes(i - lo)
+        keep[i + 1:hi] = bytes(max(0, hi - i - 1))
+    return peaks[np.frombuffer(keep, dtype=bool)]
 
 
 def peaks_above(a: np.ndarray, height: float, distance: float = 1) -> np.ndarray:

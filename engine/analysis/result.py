@@ -28,7 +28,7 @@ from ..machine.kinematics import ForcingFrequency, Rates, SpeedLimits, forcing_l
 from ..readings import Channel, QualityIssue, Reading, describe_issue
 from ..readings.length import FMAX_FACTOR
 from ..readings.quality import corrupted
-from ._fft import next_fast_len
+from ._fft import next_fast_len, previous_fast_len
 from .envelope import band_from_spectrum, whitened_spectrum
 from .impacts import ImpactTrain, impact_train
 from .kurtogram import Kurtogram, kurtogram_of_spectrum
@@ -257,10 +257,7 @@ def fast_length_at_most(n: int) -> int:
     >>> fast_length_at_most(1000), fast_length_at_most(1031)
     (1000, 1024)
     """
-    m = n
-    while m > 1 and next_fast_len(m, real=True) != m:
-        m -= 1
-    return m
+    return previous_fast_len(n, real=True) if n > 1 else n
 
 
 def _squared_envelope(white: np.ndarray, n: int, fs: float, band, span: float, spectrum_only: bool = False):

@@ -614,12 +614,19 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
     freqs = np.outer(scales, orders * stated_hz)
     lines = np.clip(np.rint(freqs / df).astype(int), 1, len(amp) - 2)
     local = np.maximum(np.maximum(amp[lines - 1], amp[lines]), amp[lines + 1])
-    distinct, where = np.unique(lines, return_inverse=True)     # the fine grid visits each line many times
-    floors = np.maximum(spec.floor_at(distinct)[where].reshape(lines.shape), 1e-300)
+    # the fine grid visits each line many times: each line's floor is taken once (the lines visited, in order,
+    # and each visit's place among them; what np.unique(lines, return_inverse=True) gives, without a sort)
+    first = int(lines.min())
+    visited = np.zeros(int(lines.max()) - first + 1, bool)
+    visited[lines - first] = True
+    distinct = np.flatnonzero(visited) + first
+    where = (np.cumsum(visited) - 1)[lines - first]
+    floors = np.maximum(spec.floor_at(distinct)[where], 1e-300)
     snr = local / floors
     excluded = np.asarray(exclude_hz, dtype=float)
     blocked = np.zeros(freqs.shape, bool)
-    for hz in excluded:
+    reach = (freqs.min() - 3 * df, freqs.max() + 3 * df)     # a line beyond it blocks no candidate
+    for hz in excluded[(excluded >= reach[0]) & (excluded <= reach[1])]:
         blocked |= np.abs(freqs - hz) <= 2 * df
     hit = (snr >= MIN_HARMONIC_SNR) & ~blocked
     score = (np.where(hit, np.log(np.clip(snr, 1.0, 100.0)), 0.0) / orders[None, :]).sum(axis=1)

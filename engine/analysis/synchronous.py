@@ -154,7 +154,7 @@ def resample_at(x: np.ndarray, positions: np.ndarray) -> np.ndarray:
 
 
 ROWS_PER_SLICE = 64
-SAMPLES_PER_SLICE = 1 << 16
+SAMPLES_PER_SLICE = 1 << 15
 
 
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:
@@ -199,6 +199,16 @@ def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: 
     return rows
 
 
+def _unit_phasors(phase_rad: np.ndarray) -> np.ndarray:
+    """exp(i phase) as cos + i sin, written straight into the complex result: the same values as
+    ``np.exp(1j * phase)`` (whose complex path, for a pure imaginary argument, is cos and sin too)
+    at about half the cost."""
+    out = np.empty(len(phase_rad), dtype=complex)
+    np.cos(phase_rad, out=out.real)
+    np.sin(phase_rad, out=out.imag)
+    return out
+
+
 class _ChirpSums:
     """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for any v of ``inputs`` values (Bluestein's
     chirp z transform: j m = (j^2 + m^2 - (m - j)^2) / 2 makes it a convolution); the chirp and the
@@ -213,7 +223,7 @@ class _ChirpSums:
             return
         self.size = sfft.next_fast_len(inputs + outputs - 1)
         j = np.arange(max(inputs, outputs), dtype=float)
-        self.chirp = np.exp(0.5j * step_rad * (j * j))        # exp(i step j^2 / 2)
+        self.chirp = _unit_phasors((0.5 * step_rad) * (j * j))  # exp(i step j^2 / 2)
         kernel = np.zeros(self.size, dtype=complex)             # exp(-i step d^2 / 2), d = -(inputs-1) .. outputs-1
         kernel[:outputs] = np.conj(self.chirp[:outputs])
         if inputs > 1:
@@ -242,7 +252,8 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     filter whose teeth sit on the orders). Both the coefficients (the record's
     DFT at the orders) and the sum of their sines at every sample are chirp z
     transforms (Bluestein 1970; Rabiner, Schafer & Rader 1969), done in slices of
-    ``SAMPLES_PER_SLICE`` samples. Nothing is interpolated, so nothing depends on
+    ``SAMPLES_PER_SLICE`` samples, two real slices in one complex transform
+    (``_paired_coefficients``, ``_paired_sums``). Nothing is interpolated, so nothing depends on
     where a revolution starts between two samples: interpolating near the
     Nyquist frequency (cubic convolution at a quarter of the sample rate and
     above) gives each revolution its own error, and taking such an average out
@@ -286,18 +297,69 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     orders = int(np.ceil(fs / 2 / speed_hz))               # orders 0 .. orders - 1 lie below fs / 2
     step = 2 * np.pi * speed_hz / fs                       # radians per sample of order 1
     k = np.arange(orders, dtype=float)
-    coef = np.zeros(orders, dtype=complex)
     slices = -(-n // SAMPLES_PER_SLICE)
     slice_len = -(-n // slices)                            # equal slices of at most SAMPLES_PER_SLICE samples
-    forward = _ChirpSums(slice_len, orders, -step)
-    for start in range(0, whole, slice_len):
-        coef += forward(x[start:min(whole, start + slice_len)]) * np.exp(-1j * step * k * start)
+    # orders -(orders - 1) .. orders - 1: the sums over a real slice at -m are the conjugates of those at m,
+    # which parts two real slices carried as the real and imaginary parts of one complex one
+    forward = _ChirpSums(slice_len, 2 * orders - 1, -step)
+    shift = _unit_phasors(step * (orders - 1) * np.arange(slice_len, dtype=float))   # order -(orders - 1) to 0
+    coef = np.zeros(orders, dtype=complex)
+    for (a, sum_a), (b, sum_b) in _paired_coefficients(x[:whole], slice_len, forward, shift, orders):
+        coef += sum_a * np.exp(-1j * step * k * a)
+        if sum_b is not None:
+            coef += sum_b * np.exp(-1j * step * k * b)
     coef *= 2.0 / whole
     coef[0] *= 0.5
     back = forward.reverse()
-    for start in range(0, n, slice_len):
-        length = min(n, start + slice_len) - start
-        out[start:start + length] = back(coef * np.exp(1j * step * k * start))[:length].real
+    np.conjugate(shift, out=shift)                         # moves order 0 back to -(orders - 1)
+    starts = list(range(0, n, slice_len))
+    for a, b in zip(starts[0::2], starts[1::2] + [None]):
+        both = _two_sided(coef * np.exp(1j * step * k * a))
+        if b is not None:
+            both += 1j * _two_sided(coef * np.exp(1j * step * k * b))
+        sums = back(both)
+        sums *= shift
+        length = min(n, a + slice_len) - a
+        out[a:a + length] = sums.real[:length]
+        if b is not None:
+            length = min(n, b + slice_len) - b
+            out[b:b + length] = sums.imag[:length]
+    return out
+
+
+def _paired_coefficients(x: np.ndarray, slice_len: int, forward: _ChirpSums, shift: np.ndarray, orders: int):
+    """For each pair of slices of ``x`` (the last one alone when their count is odd), their chirp sums at
+    orders 0 .. ``orders`` - 1 each: ((start, sums), (start or None, sums or None)). The pair goes in as
+    one complex slice, a + i b; its sums G at orders m and -m give A(m) = (G(m) + conj G(-m)) / 2 and
+    B(m) = (G(m) - conj G(-m)) / 2i, since a and b are real (the Hermitian symmetry of a real signal's
+    transform; Press et al., Numerical Recipes, "FFT of two real functions simultaneously")."""
+    starts = list(range(0, len(x), slice_len))
+    packed = np.empty(slice_len, dtype=complex)
+    for a, b in zip(starts[0::2], starts[1::2] + [None]):
+        packed[:] = 0.0
+        part = x[a:a + slice_len]
+        packed.real[:len(part)] = part
+        if b is not None:
+            part = x[b:b + slice_len]
+            packed.imag[:len(part)] = part
+        packed *= shift
+        g = forward(packed)
+        up = g[orders - 1:]                          # G(m), m = 0 .. orders - 1
+        down = np.conj(g[orders - 1::-1])            # conj G(-m)
+        if b is None:
+            yield (a, 0.5 * (up + down)), (None, None)
+        else:
+            yield (a, 0.5 * (up + down)), (b, -0.5j * (up - down))
+
+
+def _two_sided(c: np.ndarray) -> np.ndarray:
+    """Coefficients at orders -(n - 1) .. n - 1 whose sum of sines is Re(sum_m c_m exp(i m ...)), m = 0 .. n - 1:
+    half of c at m > 0, its conjugate's half at -m, the real part of c_0 at 0."""
+    m = len(c)
+    out = np.empty(2 * m - 1, dtype=complex)
+    out[m:] = 0.5 * c[1:]
+    out[:m - 1] = 0.5 * np.conj(c[:0:-1])
+    out[m - 1] = c[0].real
     return out
 
 

@@ -57,8 +57,13 @@ EXTRACTORS = (
 )
 
 
+_ALREADY_PLAIN = frozenset({str, float, int, bool, type(None), tuple, list})   # exactly these types, not subclasses
+
+
 def _plain(value):
     """numpy scalars -> Python scalars, so facts serialise and compare plainly."""
+    if type(value) in _ALREADY_PLAIN:        # most fields: no isinstance chain (numpy's float64 is not ``float``)
+        return value
     if isinstance(value, (np.bool_, bool)):
         return bool(value)
     if isinstance(value, np.integer):

@@ -48,13 +48,23 @@ def _median(values: np.ndarray) -> float:
 def local_floor(spec: Spectrum, freq_hz: float, width_fraction: float = WIDE_FLOOR_FRACTION,
                 min_lines: int = WIDE_FLOOR_MIN_LINES) -> float:
     """Median amplitude within +-``width_fraction`` of ``freq_hz`` (at least +-min_lines)."""
-    half = max(width_fraction * freq_hz, min_lines * spec.resolution_hz)
-    f = spec.freq_hz
-    lo = max(0, int(np.searchsorted(f, freq_hz - half, side="left")) - 1)
-    hi = min(len(f), int(np.searchsorted(f, freq_hz + half, side="right")) + 1)
-    part = f[lo:hi]
-    vals = spec.amplitude[lo:hi][np.abs(part - freq_hz) <= half]
-    return _median(vals) if len(vals) else 0.0
+    return float(local_floors(spec, [freq_hz], width_fraction, min_lines)[0])
+
+
+def local_floors(spec: Spectrum, freqs_hz, width_fraction: float = WIDE_FLOOR_FRACTION,
+                 min_lines: int = WIDE_FLOOR_MIN_LINES) -> np.ndarray:
+    """``local_floor`` at each of ``freqs_hz``: every window's edges found in one call, then one median each."""
+    freqs = np.asarray(freqs_hz, dtype=float)
+    half = np.maximum(width_fraction * freqs, min_lines * spec.resolution_hz)
+    f, amp = spec.freq_hz, spec.amplitude
+    los = np.maximum(np.searchsorted(f, freqs - half, side="left") - 1, 0).tolist()
+    his = np.minimum(np.searchsorted(f, freqs + half, side="right") + 1, len(f)).tolist()
+    out = np.zeros(len(freqs))
+    for i, (lo, hi, centre, reach) in enumerate(zip(los, his, freqs.tolist(), half.tolist())):
+        vals = amp[lo:hi][np.abs(f[lo:hi] - centre) <= reach]
+        if len(vals):
+            out[i] = _median(vals)
+    return out
 
 
 def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False, floors=None) -> Lines:
@@ -77,8 +87,8 @@ def find_lines(spec: Spectrum, freqs_hz, fraction, wide_floor: bool = False, flo
     snr = lines.snr
     if wide_floor and found.any():
         snr = snr.copy()
-        for i in np.flatnonzero(found):
-            floor = local_floor(spec, float(freqs[i]))
+        at = np.flatnonzero(found)
+        for i, floor in zip(at.tolist(), local_floors(spec, freqs[at]).tolist()):
             snr[i] = lines.amplitude[i] / floor if floor > 0 else float("inf") if lines.amplitude[i] > 0 else 0.0
     if floors is not None:
         given = np.asarray(floors, dtype=float)
@@ -122,7 +132,7 @@ def _count_clear_lines(spec: Spectrum) -> tuple[np.ndarray, np.ndarray, np.ndarr
     if len(peaks) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
     grid = np.geomspace(f[peaks[0]], f[peaks[-1]], CENSUS_FLOOR_POINTS) if len(peaks) > 1 else f[peaks]
-    floors = np.interp(f[peaks], grid, [local_floor(spec, float(g)) for g in grid])
+    floors = np.interp(f[peaks], grid, local_floors(spec, grid))
     with np.errstate(divide="ignore", invalid="ignore"):
         snr = np.where(floors > 0, a[peaks] / floors, np.where(a[peaks] > 0, np.inf, 0.0))
     keep = snr >= MIN_SNR

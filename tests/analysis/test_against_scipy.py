@@ -80,3 +80,22 @@ def test_band_rms_matches_scipy_periodogram(rng, n):
     band = (f >= 10) & (f <= 1000) & (f > 0)
     reference = np.sqrt(np.sum(psd[band]) * (f[1] - f[0]))
     assert Transform.of(x, fs).band_rms(10, 1000) == pytest.approx(reference, rel=1e-10)
+
+
+@pytest.mark.parametrize("n, spacing", [(20000, 125), (4096, 37), (30001, 410)])
+def test_impact_train_periodicity_is_the_linear_autocorrelation(rng, n, spacing):
+    """The train's periodicity is the unbiased, normalised autocorrelation of the centred envelope at its
+    spacing (scipy.signal.correlate, mode full, as reference): the transform is padded only as far as the
+    lags it reads, which must stay linear, not circular."""
+    from engine.analysis.impacts import impact_train
+
+    fs = 5000.0
+    env = np.zeros(n)
+    env[spacing // 2::spacing] = rng.uniform(0.5, 1.5, len(env[spacing // 2::spacing]))
+    rate = fs / spacing
+    train = impact_train(env, fs, 0.8 * rate, 1.2 * rate)
+    centred = env - env.mean()
+    full = signal.correlate(centred, centred, mode="full", method="fft")[n - 1:]     # lags 0 .. n - 1
+    expected = full[spacing] / (1 - spacing / n) / full[0]
+    assert train.periodicity == pytest.approx(expected, rel=1e-12, abs=1e-15)
+    assert train.rate_hz == pytest.approx(rate, rel=1e-3)

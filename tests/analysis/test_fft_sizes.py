@@ -55,3 +55,16 @@ def test_a_diagnosis_from_an_npz_file_imports_no_scipy(tmp_path):
     code, imported = done.stdout.split(maxsplit=1)
     assert code in ("0", "7")                 # the diagnosis ran (7: withheld is an answer too)
     assert imported.strip() == "-"
+
+
+@pytest.mark.parametrize("real", [True, False])
+def test_the_largest_fast_size_at_or_below_a_length(real):
+    from engine.analysis._fft import previous_fast_len
+
+    rng = np.random.default_rng(29)
+    lengths = list(range(2, 5001)) + [int(v) for v in rng.integers(5_000, 3_000_000, 300)] + [2 ** 20, 2 ** 22 + 1]
+    for n in lengths:
+        m = previous_fast_len(n, real=real)
+        assert m <= n and scipy_next_fast_len(m, real=real) == m, n     # scipy as reference: m is fast
+        assert scipy_next_fast_len(m + 1, real=real) > n, n              # and none lies between m and n
+    assert previous_fast_len(1) == previous_fast_len(0) == 1
