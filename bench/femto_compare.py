@@ -80,7 +80,7 @@ from pathlib import Path
 
 import numpy as np
 
-from bench.femto import CUTS, LIMIT_G, LIMITED, load_histories, point_arrays, prior_from
+from bench.femto import CUTS, LIMIT_G, LIMITED, health_source, load_histories, point_arrays, prior_from
 from engine.trend.degradation import Prior, challenge_score
 from engine.trend.health import shipped_settings, smooth_log
 from engine.trend.onset import first_predicting_time
@@ -147,8 +147,8 @@ def degradation_ratio(t_s: np.ndarray, values: np.ndarray) -> tuple[np.ndarray, 
     return np.asarray(t_s, float) / 3600.0, hi - float(np.mean(hi[:on.early])), on.index
 
 def health_values(h: dict) -> tuple[np.ndarray, np.ndarray]:
-    """Seconds and values of the point's health-indicator source (the first of onset.yaml's names it has)."""
-    name = next(n for n in shipped_settings().indicators if n in h)
+    """Seconds and values of the point's health-indicator source (``health_source``)."""
+    name = health_source(h)
     return np.array(h[name][0], float), np.array(h[name][1], float)
 
 def library_of(histories: dict, runs: list[str], lives_h: dict[str, float]) -> list[Trajectory]:

@@ -637,3 +637,17 @@ def test_the_nested_weights_are_the_best_on_the_grid_and_the_nearest_equal_among
     # two methods that agree: every weighting scores alike, and the choice is equal weights
     same = [pool_cut("x", 10.0, 0.0, [np.linspace(8.0, 12.0, 100), np.linspace(8.0, 12.0, 100)])]
     assert choose_weights(same, 2) == pytest.approx((0.5, 0.5))
+
+def test_bench_femto_health_choice_is_onset_yaml_s_unless_another_is_named():
+    from bench import femto
+
+    h = {"accel_rms_g": ([0.0], [1.0]), "band[8000-10000 Hz]_g": ([0.0], [2.0]), "ring_band_g": ([0.0], [3.0])}
+    assert femto.health_source(h) == "accel_rms_g"      # rulebooks/trend/onset.yaml's first preference
+    saved = list(femto.HEALTH_SOURCE)
+    try:
+        femto.HEALTH_SOURCE[:] = ["band[2000-4000 Hz]_g", "band[8000-10000 Hz]_g"]
+        assert femto.health_source(h) == "band[8000-10000 Hz]_g"     # the first named that the point has
+        femto.HEALTH_SOURCE[:] = ["band[2000-4000 Hz]_g"]
+        assert femto.health_source(h) == "accel_rms_g"
+    finally:
+        femto.HEALTH_SOURCE[:] = saved

@@ -29,6 +29,7 @@ from ..readings import Channel, QualityIssue, Reading, describe_issue
 from ..readings.length import FMAX_FACTOR
 from ..readings.quality import corrupted
 from ._fft import next_fast_len, previous_fast_len
+from .bands import spectrum_band_rms
 from .envelope import band_from_spectrum, whitened_spectrum
 from .impacts import ImpactTrain, impact_train
 from .kurtogram import Kurtogram, kurtogram_of_spectrum
@@ -99,6 +100,15 @@ class ChannelAnalysis:
     def envelope(self) -> Spectrum | None:
         """The squared envelope spectrum of the kurtogram band."""
         return self.envelopes[0].ses if self.envelopes else None
+
+    @property
+    def ring_band_rms_m_s2(self) -> float | None:
+        """Acceleration RMS (m/s^2) in the kurtogram's band: the band where the impacts ring, as chosen on the
+        prewhitened residual, measured on the acceleration spectrum itself (not whitened), so it grows with
+        the impacts' energy; None without a kurtogram (no bearing rate) or when the band holds no line."""
+        if self.kurtogram is None or not self.envelopes:
+            return None
+        return spectrum_band_rms(self.spectrum, [self.envelopes[0].band_hz])
 
     @property
     def name(self) -> str:

@@ -26,9 +26,21 @@ def overall(rc: Analysis) -> list[dict]:
             "crest_factor": lv.crest_factor, "kurtosis": lv.kurtosis, "skewness": lv.skewness,
             "band_truncated": lv.band_truncated,
             "rms_frequency_hz": _rms_frequency_hz(lv.acceleration_rms_g, lv.velocity_rms_mm_s),
+            **_ring_band(c),
             SIGNS: {waveform(c.name): 1.0},
         })
     return out
+
+
+def _ring_band(c) -> dict:
+    """The kurtogram's band of a channel (where the impacts ring), its acceleration RMS in g and its spectral
+    kurtosis; zeros where the machine has no bearing rate to choose a band for."""
+    rms = c.ring_band_rms_m_s2
+    if rms is None:
+        return {"ring_band_lo_hz": 0.0, "ring_band_hi_hz": 0.0, "ring_band_g": 0.0, "ring_band_kurtosis": 0.0}
+    view = c.envelopes[0]
+    return {"ring_band_lo_hz": view.band_hz[0], "ring_band_hi_hz": view.band_hz[1],
+            "ring_band_g": rms / STANDARD_GRAVITY_M_S2, "ring_band_kurtosis": view.band_kurtosis}
 
 
 def _rms_frequency_hz(accel_rms_g: float | None, velocity_rms_mm_s: float | None) -> float:

@@ -54,6 +54,13 @@ FACTS: dict[str, dict[str, F]] = {
         "rms_frequency_hz": F("number", "acceleration RMS over 2 pi x the ISO band's velocity RMS: the frequency "
                               "of one tone with both levels (tens of Hz when running-speed lines carry the "
                               "vibration, kHz when a broadband floor where bearings ring does)", "Hz"),
+        "ring_band_lo_hz": F("number", "lower edge of the kurtogram's band (Antoni 2007: where the impacts ring, "
+                             "chosen on the prewhitened residual), Hz; 0 when the machine has no bearing rate", "Hz"),
+        "ring_band_hi_hz": F("number", "upper edge of that band, Hz; 0 when there is none", "Hz"),
+        "ring_band_g": F("number", "acceleration RMS in that band, from the acceleration spectrum (not whitened), "
+                         "g; 0 when there is no band", "g RMS"),
+        "ring_band_kurtosis": F("number", "spectral kurtosis of that band (Antoni 2006: 0 for Gaussian noise, "
+                                "large for impacts); 0 when there is no band", ""),
     },
     "tone": CHANNEL_FIELDS | {
         "name": F("string", "forcing frequency name: 1X, BPFO, GMF, 2xLF, ...", ""),

@@ -27,6 +27,9 @@ INDICATORS: dict[str, tuple[str, str]] = {
     "accel_rms_g": ("acceleration RMS, g", "acceleration RMS over the whole band"),
     "crest_factor": ("crest factor", "acceleration peak over RMS"),
     "kurtosis": ("kurtosis", "kurtosis of acceleration (3 for Gaussian)"),
+    "ring_band_g": ("ring band, g RMS", "acceleration RMS in the kurtogram's band, where the bearing's impacts ring "
+                    "(the band is chosen anew for each reading)"),
+    "ring_band_kurtosis": ("ring band spectral kurtosis", "spectral kurtosis of that band (0 for Gaussian noise)"),
     "x1_mm_s": ("1X, mm/s RMS", "1X of the shaft the point's bearing carries"),
     "x2_mm_s": ("2X, mm/s RMS", "2X of that shaft"),
 }
@@ -49,6 +52,7 @@ def indicator_label(indicator: str) -> str:
 
 
 OVERALL = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "crest_factor", "kurtosis")
+RING_BAND = ("ring_band_g", "ring_band_kurtosis")
 
 
 def is_level(indicator: str) -> bool:
@@ -122,6 +126,8 @@ def indicators_of(facts: list[dict]) -> tuple[list[dict], list[dict]]:
         channels.append({"channel": name, "point": o.get("point") or "", "direction": o.get("direction") or "",
                          "location": o.get("location") or "", "scale_trusted": name not in doubted})
         values += [{"channel": name, "name": k, "value": o[k]} for k in OVERALL if o.get(k) is not None]
+        if o.get("ring_band_hi_hz"):       # 0: no bearing rate, no band chosen
+            values += [{"channel": name, "name": k, "value": o.get(k)} for k in RING_BAND]
         shaft, bearing = o.get("location_shaft"), o.get("location")
         for f in facts:
             if f.get("channel") != name:

@@ -97,10 +97,18 @@ def smooth_log(values: np.ndarray, window: int) -> np.ndarray:
     return np.log(np.maximum((c[i] - c[lo]) / (i - lo), 1e-12))
 
 
-def choose(by_name: dict[str, Series], settings: HealthSettings | None = None) -> Series | None:
-    """The series the point's health indicator is made of (the first of the preferred names it has)."""
+def source_name(names, settings: HealthSettings | None = None) -> str | None:
+    """The indicator the point's health indicator is made of, among the point's stored ``names``: the first
+    of the preferred names (onset.yaml ``health.indicators``) it has; None when it has none of them."""
     settings = settings or shipped_settings()
-    return next((by_name[n] for n in settings.indicators if n in by_name and len(by_name[n])), None)
+    have = set(names)
+    return next((n for n in settings.indicators if n in have), None)
+
+
+def choose(by_name: dict[str, Series], settings: HealthSettings | None = None) -> Series | None:
+    """The series the point's health indicator is made of (``source_name`` of the names it has readings of)."""
+    name = source_name([n for n, s in by_name.items() if len(s)], settings)
+    return None if name is None else by_name[name]
 
 
 def health_of(source: Series, like: Series, settings: HealthSettings | None = None, *,

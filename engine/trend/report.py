@@ -25,7 +25,7 @@ from .store_prior import StorePrior, learned_from_store
 
 SHOWN = ("velocity_rms_mm_s", "accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor", "x1_mm_s", "x2_mm_s")
 # indicators whose growth feeds itself (impacts of spreading damage): projected with the exponential model
-EXPONENTIAL = ("accel_peak_g", "accel_rms_g", "kurtosis", "crest_factor")
+EXPONENTIAL = ("accel_peak_g", "accel_rms_g", "ring_band_g", "kurtosis", "crest_factor")
 
 
 def acceleration_band(indicator: str) -> bool:

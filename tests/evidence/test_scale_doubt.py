@@ -39,7 +39,7 @@ def test_level_fields_are_the_ones_named_by_a_level_unit():
     for kind, fields in FACTS.items():
         named = {n for n in fields if n.endswith(("_mm_s", "_g"))}
         assert set(level_fields(kind)) == named, kind
-    assert set(level_fields("overall")) == {"velocity_rms_mm_s", "accel_rms_g", "accel_peak_g"}
+    assert set(level_fields("overall")) == {"velocity_rms_mm_s", "accel_rms_g", "accel_peak_g", "ring_band_g"}
 
 
 @functools.cache

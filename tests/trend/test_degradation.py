@@ -422,3 +422,22 @@ def test_the_time_to_the_limit_is_not_rounded_to_the_reading_interval():
     life = remaining_life(post, 0.0, 1.234, interval=7.0, last_departure=0.0, autocorrelation=0.0, samples=200)
     assert life.median == pytest.approx(12.34, abs=0.01)
     assert life.low == pytest.approx(12.34, abs=0.01) and life.high == pytest.approx(12.34, abs=0.01)
+
+
+def test_the_health_indicator_source_is_the_first_preferred_name_a_point_has():
+    from engine.trend.health import source_name
+
+    s = shipped_settings()
+    # the ring band is stored but not preferred: on the learning runs its trendability (worst pair 0.41
+    # horizontal, 0.14 vertical) is below the acceleration RMS's (0.51, 0.45; python -m bench.femto)
+    assert source_name(["ring_band_g", "accel_peak_g", "accel_rms_g"], s) == "accel_rms_g"
+    assert source_name(["ring_band_g", "velocity_rms_mm_s"], s) == "velocity_rms_mm_s"
+    assert source_name(["ring_band_g", "kurtosis"], s) is None
+
+
+def test_the_ring_band_is_projected_as_an_impact_level():
+    from engine.trend.report import growth_of
+
+    # the ring band's level grows as the impacts' damage feeds itself, like the acceleration levels; its
+    # spectral kurtosis is no level and takes the auto path
+    assert growth_of("ring_band_g") == "exponential" and growth_of("ring_band_kurtosis") == "auto"
