@@ -59,6 +59,25 @@ def test_unplaced_channels_are_named_with_what_they_limit(tmp_path, capsys):
                           for h in staged)
 
 
+
+def test_a_stage_read_on_a_placed_channel_is_not_called_a_least(tmp_path, capsys):
+    """One channel of three names no point (a user's sidecar that left one out): the limit is said, but a
+    damage stage read where a channel on its point judged the direction's signs is not "at least"."""
+    reading = tmp_path / "one-unplaced.wav"
+    assert main(["synth", str(BLOWER), "-o", str(reading), "--fault", "outer-race", "--stage", "3", "--seed", "2"]) == 0
+    side = tmp_path / "one-unplaced.wav.yaml"
+    sidecar = yaml.safe_load(side.read_text(encoding="utf-8"))
+    *kept, last = sidecar["channels"]
+    sidecar["channels"] = kept + [{k: v for k, v in last.items() if k not in ("point", "direction")}]
+    side.write_text(yaml.safe_dump(sidecar), encoding="utf-8")
+    capsys.readouterr()
+    code, doc = diagnosed(reading, capsys)
+    assert code == 0 and "points-unknown" in {p["fault"] for p in doc["reading_problems"]}
+    top = doc["hypotheses"][0]
+    assert (top["fault"], top["component"], top["stage"]) == ("outer-race", "motor_de", 3)
+    assert "name no measurement point" not in json.dumps(top)
+
+
 SHARED_130 = ROOT.parent / "shared" / "datasets" / "cwru" / "12k_drive_end" / "130.mat"
 
 
