@@ -65,6 +65,12 @@ def _stated_speed(key, fault, stage, seed, factor):
         return dataclasses.replace(r, speed_rpm=r.speed_rpm * factor)
     return make
 
+def _unstated_speed(key, fault, stage, seed, factor):
+    """The machine at ``factor`` times its file's speed, the reading stating no speed (the file's is looked for)."""
+    def make():
+        return dataclasses.replace(as_reading(_sim(key, fault, stage, seed, speed_factor=factor)), speed_rpm=None)
+    return make
+
 def _stated_rate(key, fault, stage, seed, factor):
     """The samples as recorded, the reading stating ``factor`` times the true sample rate."""
     def make():
@@ -199,6 +205,8 @@ SIMULATED = [
      "reading.settings.fmax-gear-mesh"),
     ("Fmax 62.5 Hz on the gearbox", "ct1", _fault("ct1", "outer-race", seed=2, fs_hz=160.0, duration_s=16.0),
      "shaft.resonance.unexplained-peak"),
+    ("no speed stated, runs 12 % fast", "rig", _unstated_speed("rig", "unbalance", 2, 2, 1.12),
+     "reading.speed.family-elsewhere-unstated reading.speed.clear-family-elsewhere-unstated"),
     ("drive-end bearing left out of the machine file", "cwru-de-unlisted",
      lambda: as_reading(simulate(_machine("cwru"), "outer-race", "drive_end", 2, None, 25600.0, 4.0, 1)),
      "reading.machine.unexplained-impacts"),
