@@ -463,7 +463,11 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
                             for f in h.support)
     else:
         points_unknown = any(h.fault == "points-unknown" and h.confident for h in problems)
-        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice, points_unknown)
+        # a stage is "at least" only where every channel it rests on names no point: a channel on a point beside
+        # them judged the signs that need a sensor's direction
+        placed = {lv.channel for lv in evidence.levels if lv.point}
+        recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice,
+                                points_unknown and not placed.intersection(h.channels))
                      for h in shown)
         # the trend's reasons to act sooner (rulebooks/time-to-act.yaml): each finding seen at the point, and
         # the diagnosis; never later than it was

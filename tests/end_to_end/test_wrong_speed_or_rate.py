@@ -148,3 +148,24 @@ def test_a_stated_speed_5_percent_off_either_way_is_corrected_or_explained(pump_
     assert low == EXIT_WITHHELD
     assert f"The spectrum gives {true_rpm:.0f} rpm" in " ".join(out.split())
     assert "one 5 % below, which puts it 5.3 % above, is not" in " ".join(out.split())
+
+
+def test_a_reading_that_states_no_speed_is_not_said_to_state_0_rpm():
+    """No speed given: the machine file's speed is looked for, and the withholding sentence says so. It read
+    "The reading states 0 rpm for the driving shaft" (a new user's 0.33 s excerpt of CWRU 130, no --rpm)."""
+    import dataclasses
+
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+    from engine.simulation import as_reading, simulate
+
+    from support import reasoner
+
+    rig = load_machine(TEST_MACHINES / "mfpt-rig.yaml")
+    reading = as_reading(simulate(rig, "unbalance", None, 2, 25 * 60 * 1.12, 25600.0, 4.0, 2))
+    reasoning = diagnose(dataclasses.replace(reading, speed_rpm=None), rig, reasoner()).reasoning
+    assert reasoning.withheld
+    said = [f.because for h in reasoning.reading_problems if h.fault == "rate-contradicted" for f in h.support]
+    assert said and all(b.startswith("The reading states no speed, so the shaft shaft was looked for at the "
+                                     "machine file's 1500 rpm") for b in said)
+    assert not any("states 0" in b for b in said)

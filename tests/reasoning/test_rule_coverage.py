@@ -35,7 +35,9 @@ pytestmark = pytest.mark.slow
 
 MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "machines/bw1-backwash-blower.yaml",
             "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml",
-            "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml", "gc1": TEST_MACHINES / "gc1-grit-conveyor-drive.yaml"}
+            "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml", "gc1": TEST_MACHINES / "gc1-grit-conveyor-drive.yaml",
+            "cwru": TEST_MACHINES / "cwru-motor.yaml",
+            "cwru-de-unlisted": TEST_MACHINES / "cwru-motor-de-unlisted.yaml"}
 
 @functools.cache
 def _machine(key: str):
@@ -61,6 +63,12 @@ def _stated_speed(key, fault, stage, seed, factor):
     def make():
         r = as_reading(_sim(key, fault, stage, seed))
         return dataclasses.replace(r, speed_rpm=r.speed_rpm * factor)
+    return make
+
+def _unstated_speed(key, fault, stage, seed, factor):
+    """The machine at ``factor`` times its file's speed, the reading stating no speed (the file's is looked for)."""
+    def make():
+        return dataclasses.replace(as_reading(_sim(key, fault, stage, seed, speed_factor=factor)), speed_rpm=None)
     return make
 
 def _stated_rate(key, fault, stage, seed, factor):
@@ -197,6 +205,11 @@ SIMULATED = [
      "reading.settings.fmax-gear-mesh"),
     ("Fmax 62.5 Hz on the gearbox", "ct1", _fault("ct1", "outer-race", seed=2, fs_hz=160.0, duration_s=16.0),
      "shaft.resonance.unexplained-peak"),
+    ("no speed stated, runs 12 % fast", "rig", _unstated_speed("rig", "unbalance", 2, 2, 1.12),
+     "reading.speed.family-elsewhere-unstated reading.speed.clear-family-elsewhere-unstated"),
+    ("drive-end bearing left out of the machine file", "cwru-de-unlisted",
+     lambda: as_reading(simulate(_machine("cwru"), "outer-race", "drive_end", 2, None, 25600.0, 4.0, 1)),
+     "reading.machine.unexplained-impacts"),
     ("0.3 s record", "bw1", _fault("bw1", "outer-race", seed=2, duration_s=0.3),
      "reading.settings.resolution-lines reading.settings.resolution-sidebands reading.settings.revolutions"),
     ("0.45 s record, 2.5 turns of the fan", "ct1", _fault("ct1", "unbalance", 2, 2, duration_s=0.45),
