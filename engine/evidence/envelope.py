@@ -406,6 +406,20 @@ def _twin(b, defect: str, rate: float, defects) -> str:
     return min(close)[1] if close else ""
 
 
+def _rate_group(b, defect: str, rate: float, defects) -> str:
+    """The bearings whose rates of ``defect`` chain within ``TIE`` of each other with this one's, ids sorted and
+    joined by "+", or "" when none is that near: three alike bearings (a motor's two and a pump's one) are one
+    group, where ``twin`` names only the nearest, so a rule can weigh every bearing the lines may come from."""
+    rates = {o.bearing: r for o, d, r in defects if d == defect}
+    rates[b.bearing] = rate
+    group, grew = {b.bearing}, True
+    while grew:
+        near = {o for o, r in rates.items() if o not in group and any(abs(r / rates[g] - 1) <= TIE for g in group)}
+        group |= near
+        grew = bool(near)
+    return "+".join(sorted(group)) if len(group) > 1 else ""
+
+
 def _alike(b, defect: str, rate: float) -> str:
     """Another defect of the same bearing whose impact rate lies within ``TIE`` of ``rate`` (a ball's 2 x BSF
     beside BPFO, as in some spherical roller bearings), or "": the lines alone cannot tell the two apart, only
@@ -446,6 +460,7 @@ def _tone_facts(c, view, defects, all_found, owned, lines, seen: set[str]) -> li
             "ball_rate_on_shaft_order": _ball_rate_on_shaft_order(b),
             "shaft_seen": b.shaft in seen,
             "twin": _twin(b, defect, rate, defects),
+            "rate_group": _rate_group(b, defect, rate, defects),
             "alike_defect": _alike(b, defect, rate),
             "match_error_pct": 100 * float(np.mean([abs(p.freq_hz / (k * rate) - 1) for k, p in found.items()])),
             "band_method": view.method, "band_lo_hz": view.band_hz[0], "band_hi_hz": view.band_hz[1],
