@@ -134,13 +134,21 @@ def describe(result: Reasoning) -> str:
                                         if h.confident)
     top = result.top
     if top is None or top.certainty < CONFIDENT:
-        return "nothing confident" + (f" (best {top.fault} on {top.component}, {_pct(top.certainty)})" if top else "")
-    more = [f"{h.fault} on {h.component} ({_pct(h.certainty)})" for h in result.confident()[1:]]
-    return f"{top.fault} on {top.component} ({_pct(top.certainty)})" + (f"; also {', '.join(more)}" if more else "")
+        return "nothing confident" + (f" (best {_faults(top)} on {top.component}, {_pct(top.certainty)})"
+                                      if top else "")
+    more = [f"{_faults(h)} on {h.component} ({_pct(h.certainty)})" for h in result.confident()[1:]]
+    return f"{_faults(top)} on {top.component} ({_pct(top.certainty)})" + (f"; also {', '.join(more)}" if more else "")
+
+
+def _faults(h) -> str:
+    """The fault ids a hypothesis names: one, or a fault and the rival it cannot be told from ("outer-race or
+    rolling-element")."""
+    return " or ".join(h.faults)
 
 
 def _names(h, wanted: dict) -> bool:
-    return h.fault == wanted["fault"] and wanted.get("component", h.component) == h.component
+    """Whether ``h`` names the wanted fault: as its own, or as a rival the evidence cannot tell from it."""
+    return wanted["fault"] in h.faults and wanted.get("component", h.component) == h.component
 
 
 def judge(expect: dict, result: Reasoning) -> bool:

@@ -66,7 +66,8 @@ def _names_shaft(firing, shaft: str) -> bool:
 
 def shown(reasoning: Reasoning, target: Target) -> Outcome:
     """Whether ``reasoning`` shows ``target``'s fault on its component, as a report would."""
-    mine = [h for h in reasoning.hypotheses if h.fault == target.fault and h.component == target.component]
+    # a hypothesis naming a rival it cannot be told from (a race and a ball whose rates coincide) names both
+    mine = [h for h in reasoning.hypotheses if target.fault in h.faults and h.component == target.component]
     one_gear = target.purpose == "gear" and target.signature != "gear-wear"
     if one_gear:
         mine = [h for h in mine if any(_names_shaft(f, target.shaft) for f in h.support)]

@@ -387,6 +387,7 @@ class Reasoner:
         by_hypothesis: dict[tuple[str, str], dict[str, list[tuple[Rule, Firing]]]] = defaultdict(
             lambda: defaultdict(list))
         chain = []
+        indistinct: dict[tuple[str, str], list[Firing]] = defaultdict(list)
         for rule, firing in session.firings:
             if rule.derives is not None:
                 chain.append(firing)
@@ -395,7 +396,14 @@ class Reasoner:
             component = _value(values, rule.component)
             fault = (rule.fault.pick(_value(values, rule.fault.value)) if isinstance(rule.fault, FaultChoice)
                      else rule.fault)
-            if fault is not None:
+            if fault is not None and rule.rival is not None:
+                # names a rival beside the fault: it lends and takes nothing, and shares no sign
+                rival = (rule.rival.pick(_value(values, rule.rival.value)) if isinstance(rule.rival, FaultChoice)
+                         else rule.rival)
+                if rival is not None and rival != fault:
+                    indistinct[(fault, str(component))].append(replace(
+                        firing, signs=(), rival=rival, rival_name=self.rulebook.faults[rival].name))
+            elif fault is not None:
                 # each piece of evidence counts once: a rule, with the rules that count with it
                 by_hypothesis[(fault, str(component))][rule.evidence_key].append((rule, firing))
         by_hypothesis, sharing = self._explain_away(by_hypothesis)
@@ -435,7 +443,8 @@ class Reasoner:
                 tuple(sorted((f for _, f in support), key=lambda f: -f.certainty)),
                 tuple(sorted((f for _, f in against), key=lambda f: f.certainty)), extra, known.withholds_diagnosis,
                 round(raw, 6) if abs(raw - total) > 1e-6 else None,
-                self._losses((fault_id, component), sharing), tuple(f for f in same if f.certainty > 0)))
+                self._losses((fault_id, component), sharing), tuple(f for f in same if f.certainty > 0),
+                _one_per_rival(indistinct.get((fault_id, component), ()))))
         hypotheses.sort(key=lambda h: (-h.certainty, h.fault, h.component))
         faults_of = self.rulebook.faults
         problems = tuple(h for h in hypotheses if faults_of[h.fault].family == "reading")
@@ -446,6 +455,15 @@ class Reasoner:
                                                               if f.advice is not None})
         kinds = {f["kind"] for f in (*session.facts_by_id.values(), *session.derived)}
         return replace(result, differential=differential(self.rulebook, result, kinds))
+
+
+def _one_per_rival(firings) -> tuple[Firing, ...]:
+    """The rules naming rivals beside a hypothesis: one firing per rival and rule (one channel's sentence says
+    what the others would; the first by its sentence, so the same reading always shows the same one)."""
+    out: dict[tuple, Firing] = {}
+    for f in sorted(firings, key=lambda f: f.because):
+        out.setdefault((f.rival, f.rule_id), f)
+    return tuple(sorted(out.values(), key=lambda f: (f.rival, f.rule_id)))
 
 
 def _patterns_by_kind(rules) -> dict[str, list]:

@@ -87,15 +87,24 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
             fault = f"the fault named by {_value(rule.fault.value)} ({names})"
         else:
             fault = rulebook.faults[rule.fault].name
-        sign = ("holds at most" if rule.ceiling is not None else
+        sign = ("holds at most" if rule.ceiling is not None else "names a rival beside" if rule.rival is not None else
                 "counts against" if rule.weight < 0 else "supports")
         lines.append(f"  it {sign} {fault} on {_value(rule.component)}" +
                      (f", damage stage {rule.stage}" if rule.stage else ""))
+        if isinstance(rule.rival, FaultChoice):
+            names = ", ".join(f"{k} -> {rulebook.faults[v].name}" for k, v in rule.rival.faults)
+            lines.append(f"  the rival the evidence cannot tell it from: the fault named by {_value(rule.rival.value)} "
+                         f"({names}); the finding names both")
+        elif rule.rival is not None:
+            lines.append(f"  the rival the evidence cannot tell it from: {rulebook.faults[rule.rival].name}; "
+                         "the finding names both")
     else:
         fields = ", ".join(f"{k} = {_value(v)}" for k, v in rule.derived_fields)
         lines.append(f"  it derives a {_words(rule.derives or '')} fact ({fields}) for other rules")
-    weight = (f"certainty {100 * rule.weight:+.0f} %" if rule.ceiling is None else
-              f"certainty held at {100 * rule.ceiling:.0f} % at most: the evidence cannot tell this fault from a rival")
+    weight = (f"certainty held at {100 * rule.ceiling:.0f} % at most: the evidence cannot tell this fault from a rival"
+              if rule.ceiling is not None else
+              "certainty unchanged: it lends and takes nothing" if rule.rival is not None else
+              f"certainty {100 * rule.weight:+.0f} %")
     aliases = {p.alias: p.kind for p in rule.needs}
     for r in rule.ramps:
         kind = aliases.get(r.value.alias or "")

@@ -27,6 +27,8 @@ class Firing:
     weight_kept: str | None = None    # why learning kept the rule's weight (None: learned, or no site record)
     counted_with: str | None = None   # in a hypothesis's same_evidence: the rule whose firing counted for both
     because_parts: tuple = ()         # the because sentence as (text, value or None) parts, for other units
+    rival: str | None = None          # a rule with ``indistinct_from``: the fault it names beside the hypothesis's
+    rival_name: str | None = None
 
 
 @dataclass(frozen=True)
@@ -56,6 +58,23 @@ class Hypothesis:
     raw_certainty: float | None = None    # before explaining away (None: no sign of it was shared)
     explained_by: tuple[SignLoss, ...] = ()   # hypotheses that took part of its signs, most first
     same_evidence: tuple[Firing, ...] = ()   # firings of rules that count with a supporting one: not counted again
+    indistinct: tuple[Firing, ...] = ()   # rules naming a rival fault the evidence cannot tell this one from
+
+    @property
+    def rivals(self) -> tuple[str, ...]:
+        """The faults named beside this one, which the evidence cannot tell from it (``indistinct``)."""
+        return tuple(dict.fromkeys(f.rival for f in self.indistinct if f.rival))
+
+    @property
+    def faults(self) -> tuple[str, ...]:
+        """Every fault the hypothesis names: its own, then its rivals."""
+        return (self.fault, *self.rivals)
+
+    @property
+    def named(self) -> str:
+        """The fault's name, with its rivals' ("outer-race defect or rolling-element defect")."""
+        names = [self.fault_name, *dict.fromkeys(f.rival_name for f in self.indistinct if f.rival_name)]
+        return " or ".join(names)
 
     @property
     def strength(self) -> str:

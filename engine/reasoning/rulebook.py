@@ -162,13 +162,16 @@ class Rule:
     weight_kept: str | None = None   # why the learned overlay kept its weight (its site record shown all the same)
     counts_with: str | None = None   # a rule reading the same signs: for a hypothesis the two count once
     ceiling: float | None = None     # ``certainty: {at_most: X}``: holds its hypothesis at X at most (weight 0)
+    rival: str | FaultChoice | None = None   # ``concludes: {indistinct_from: F}``: names F beside its fault (weight 0)
 
     @property
     def fingerprint(self) -> str:
         """What a learned weight was learned against: everything that decides when the rule fires and what
         it concludes (needs, none_of, conclusion, grading, parameters' values), not its weight or words."""
-        what = (self.needs, self.none_of, self.fault, self.component, self.stage, self.derives,
-                self.derived_fields, self.ramps, self.explains, self.weight > 0, self.ceiling)
+        what: tuple = (self.needs, self.none_of, self.fault, self.component, self.stage, self.derives,
+                       self.derived_fields, self.ramps, self.explains, self.weight > 0, self.ceiling)
+        if self.rival is not None:      # only then: the other rules' fingerprints stay as they were learned
+            what += (self.rival,)
         return hashlib.sha256(repr(what).encode("utf-8")).hexdigest()[:12]
 
     @property
@@ -407,6 +410,9 @@ def _apply_learned(doc, label: str, rules: dict[str, Rule], disabled) -> list[st
             continue
         if rule.ceiling is not None:
             raise RulebookError(f"rule {rid}: holds its hypothesis at most {rule.ceiling:g} and has no weight to "
+                                "learn", path=doc.path, line=line)
+        if rule.rival is not None:
+            raise RulebookError(f"rule {rid}: names a rival its fault cannot be told from and has no weight to "
                                 "learn", path=doc.path, line=line)
         if (entry["weight"] > 0) != (rule.weight > 0):
             raise RulebookError(f"rule {rid}: learned weight {entry['weight']:g} has the other sign from the rule's "
@@ -960,6 +966,22 @@ class _RuleChecker:
                           "explains", j)
         return tuple(self.raw["explains"])
 
+    def fault_choice(self, fault, key: str) -> str | FaultChoice:
+        """A conclusion's fault (``fault`` or ``indistinct_from``): a declared fault id, or {from, map}."""
+        named = list(fault["map"].values()) if isinstance(fault, dict) else [fault]
+        for f in named:
+            if f not in self.faults:
+                self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})"
+                          f"{_near(f, self.faults)}", "concludes", key)
+        if not isinstance(fault, dict):
+            return fault
+        source = self.ref(fault["from"], "concludes", key, "from")
+        if source.alias is not None:
+            for value in fault["map"]:
+                self.check_known(self.alias_kinds.get(source.alias), source.field, value,
+                                 "concludes", key, "map", value)
+        return FaultChoice(source, tuple(fault["map"].items()))
+
     def value_or_ref(self, v, *where):
         if isinstance(v, str) and _OPERAND.match(v) and v.split(".", 1)[0] in self.aliases:
             return self.ref(v, *where)
@@ -998,20 +1020,16 @@ class _RuleChecker:
             common["ceiling"] = float(spec["at_most"])
         if "concludes" in self.raw:
             c = self.raw["concludes"]
-            fault = c["fault"]
-            named = list(fault["map"].values()) if isinstance(fault, dict) else [fault]
-            for f in named:
-                if f not in self.faults:
-                    self.fail(f"concludes an undeclared fault {f!r} (declared: {', '.join(sorted(self.faults))})"
-                              f"{_near(f, self.faults)}", "concludes", "fault")
-            if isinstance(fault, dict):
-                source = self.ref(fault["from"], "concludes", "fault", "from")
-                if source.alias is not None:
-                    for key in fault["map"]:
-                        self.check_known(self.alias_kinds.get(source.alias), source.field, key,
-                                         "concludes", "fault", "map", key)
-                fault = FaultChoice(source, tuple(fault["map"].items()))
+            fault = self.fault_choice(c["fault"], "fault")
             component = self.value_or_ref(c["component"], "concludes", "component")
+            if "indistinct_from" in c:
+                if spec != 0 or isinstance(spec, bool):
+                    self.fail("concludes: indistinct_from names a rival beside the fault and lends nothing: its "
+                              "certainty is 0", "certainty")
+                if "counts_with" in self.raw or "stage" in c:
+                    self.fail("concludes: indistinct_from names a rival; it has no stage and counts with no rule",
+                              "concludes", "indistinct_from")
+                common["rival"] = self.fault_choice(c["indistinct_from"], "indistinct_from")
             return Rule(**common, fault=fault, component=component, stage=c.get("stage"))
         d = self.raw["derives"]
         if d["fact"] not in self.derived:

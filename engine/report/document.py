@@ -131,7 +131,7 @@ def _explained_by(h: Hypothesis) -> list[dict]:
 
 
 def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | None = None) -> dict:
-    out = {"rank": rank, "fault": h.fault, "fault_name": h.fault_name, "family": h.family,
+    out = {"rank": rank, "fault": h.fault, "fault_name": h.named, "family": h.family,
            "component": h.component, "certainty": round(h.certainty, 3),
            "certainty_pct": round(100 * max(h.certainty, 0.0)), "strength": h.strength, "stage": h.stage,
            "support": [_firing(f, shown) for f in h.support], "against": [_firing(f, shown) for f in h.against],
@@ -147,6 +147,10 @@ def _hypothesis(rank: int, h: Hypothesis, rec: Recommendation, shown: _Shown | N
         out["site_record"] = record
     if h.same_evidence:                  # firings counted once with another rule's (counts_with): shown, not counted
         out["same_evidence"] = [{**_firing(f, shown), "counted_with": f.counted_with} for f in h.same_evidence]
+    if h.indistinct:                     # rivals the evidence cannot tell from it: the finding names them too
+        out["faults"] = list(h.faults)
+        out["indistinct"] = [{**_firing(f, shown), "rival": f.rival, "rival_name": f.rival_name}
+                             for f in h.indistinct]
     return out
 
 
@@ -171,7 +175,7 @@ def _oil_analysis(shown: list[Hypothesis], recs: dict) -> list[dict]:
             read = next((r for r in row["reads"] if r["means"] == t.means), None)
             if read is None:
                 row["reads"].append(read := {"means": t.means, "for": [], "components": []})
-            read["for"].append(f"{h.fault_name} on {h.component}")
+            read["for"].append(f"{h.named} on {h.component}")
             if h.component not in read["components"]:
                 read["components"].append(h.component)
     return list(rows.values())
@@ -209,7 +213,7 @@ def _summary(reasoning: Reasoning, advice: Advice, machine: Machine, shown: list
     top = confident[0]
     others = len([h for h in shown if h is not top])      # listed below the answer, whatever their certainty
     more = f" ({others} more {'hypothesis' if others == 1 else 'hypotheses'} below)" if others else ""
-    return (f"{top.fault_name.capitalize()} on {top.component}: {top.strength}, certainty "
+    return (f"{top.named.capitalize()} on {top.component}: {top.strength}, certainty "
             f"{100 * top.certainty:.0f} %{more}.")
 
 
@@ -283,7 +287,7 @@ def taken_text(timestamp, time_from: str | None) -> str:
 
 def _differential(dx, reasoning: Reasoning, recs: dict, shown: _Shown) -> dict:
     lead = next(h for h in reasoning.hypotheses if (h.fault, h.component) == (dx.fault, dx.component))
-    return {"fault": dx.fault, "fault_name": lead.fault_name, "component": dx.component,
+    return {"fault": dx.fault, "fault_name": lead.named, "component": dx.component,
             "certainty": round(lead.certainty, 3),
             "rivals": [{"fault": r.fault, "fault_name": r.fault_name, "component": r.component,
                         "certainty": round(r.certainty, 3), "against": " ".join(shown.sentence(r.against).split()),

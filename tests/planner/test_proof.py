@@ -106,7 +106,7 @@ def _envelope_facts(harmonics_owned, first_snr_db):
             "expected_hz": 91.0, "harmonics_owned": harmonics_owned, "harmonics_checked": 5,
             "fundamental_owned": True, "first_snr_db": first_snr_db, "chance_pct": 0.1, "band_method": "kurtogram",
             "band_lo_hz": 2000.0, "band_hi_hz": 6000.0, "strongest_location": True, "below_strongest_db": 0.0,
-            "shaft_seen": True}
+            "shaft_seen": True, "alike_defect": ""}
     return [fact]
 
 

@@ -126,14 +126,65 @@ def test_an_outer_race_whose_rate_a_ball_shares_is_still_called():
     assert h.confident
 
 
+def _no_other_call(reasoning, component):
+    """No hypothesis but the one on ``component`` reaches a call, and none of another fault there."""
+    return [(h.faults, h.component, round(h.certainty, 2)) for h in reasoning.hypotheses
+            if h.confident and h.component != component] == [] and sum(
+        1 for h in reasoning.hypotheses if h.confident) == 1
+
+
+@pytest.mark.parametrize("name, bearing", [("bw1-backwash-blower.yaml", "blower_de"),
+                                           ("af3-fan-twin-22211.yaml", "fan_outboard")])
+@pytest.mark.parametrize("stage, seed", [(2, 1), (3, 2)])
+def test_an_outer_race_whose_rate_a_ball_shares_names_both_at_its_certainty_and_stage(name, bearing, stage, seed):
+    # no sidebands at FTF round the lines: the lines fit BPFO and 2 x BSF alike, so the finding names both parts
+    # (standard bearing kinematics; Randall & Antoni 2011, section 2.1: a ball's lines carry them, a race's do not),
+    # and the bearing keeps its certainty, stage and so its time to act
+    r = _diagnose(name, "outer-race", bearing, stage=stage, seed=seed)
+    h = r.top
+    assert (h.fault, h.component) == ("outer-race", bearing)
+    assert h.faults == ("outer-race", "rolling-element")
+    assert h.named == "outer-race defect or rolling-element defect"
+    assert h.confident and h.stage == stage
+    assert [f.rule_id for f in h.indistinct] == ["bearing.defect.rates-coincide"]
+    because = h.indistinct[0].because
+    assert "within 1 %" in because and "sidebands at FTF" in because and "longer record" in because
+    assert _no_other_call(r, bearing)
+    # the two halves do not fight for the lines: no hypothesis of the ball on that bearing takes any of them
+    assert not any(x.fault == "rolling-element" and x.component == bearing for x in h.explained_by)
+
+
+@pytest.mark.parametrize("name, bearing", [("bw1-backwash-blower.yaml", "blower_de"),
+                                           ("af3-fan-twin-22211.yaml", "fan_outboard")])
+def test_a_ball_on_a_race_rate_whose_cage_rate_sidebands_show_is_called_alone(name, bearing):
+    # the race rate's family holds the ball's lines (its rate lies within 1 %), but they carry deep sidebands at
+    # FTF: a damaged ball's sign (Randall & Antoni 2011, section 2.1). It was called "cage" (BW-1 0.51, AF-3 0.54)
+    r = _diagnose(name, "rolling-element", bearing)
+    h = r.top
+    assert (h.fault, h.component, h.faults) == ("rolling-element", bearing, ("rolling-element",))
+    assert h.confident and h.stage == 3
+    assert not any(x.confident for x in r.hypotheses if x.fault == "cage")
+    assert _no_other_call(r, bearing)
+
+
 def test_a_ball_fault_whose_cage_rate_sidebands_show_is_called():
     # the 22212 of the belt fan: 2 x BSF 0.3 % from BPFO, and the ball's lines carry FTF sidebands, which a race
     # defect does not (Randall & Antoni 2011, section 2.1)
     r = _diagnose("belt-fan-6309-22212.yaml", "rolling-element", "fan_de")
-    assert _hypothesis(r, "rolling-element", "fan_de").confident
+    h = _hypothesis(r, "rolling-element", "fan_de")
+    assert h.confident
+    assert h.faults == ("rolling-element",)          # the sidebands tell it from an outer race: named alone
 
 
 def test_a_bearing_whose_rates_stand_apart_is_called():
     # RW-2's pump drive-end bearing: no two of its race and ball rates within 1 %
     h = _hypothesis(_diagnose("rw2-raw-water-pump.yaml", "inner-race", "pump_de"), "inner-race", "pump_de")
     assert h.confident
+    assert h.faults == ("inner-race",) and not h.indistinct
+
+
+@pytest.mark.parametrize("fault, bearing", [("outer-race", "pump_nde"), ("rolling-element", "pump_nde")])
+def test_race_and_ball_of_a_bearing_whose_rates_stand_apart_are_named_alone(fault, bearing):
+    # RW-2's pump non-drive-end bearing: its 2 x BSF stands well apart from BPFO, so nothing is named beside
+    h = _hypothesis(_diagnose("rw2-raw-water-pump.yaml", fault, bearing), fault, bearing)
+    assert h.confident and h.faults == (fault,)
