@@ -3,8 +3,9 @@
 Also how the suite is shared among pytest-xdist workers (``-n auto``; pyproject's addopts chooses
 ``--dist loadgroup``, which this file's scheduler serves): the tests of a file that makes something once for
 several of its tests (a module- or class-scoped fixture, a module-level ``functools.cache``) run on one worker,
-so that set-up is made once, not once per worker; every other test goes to whichever worker is free, the
-tests marked slow first, so that no long test is left to run alone at the end.
+so that set-up is made once, not once per worker; every other test goes to whichever worker is free. Work is
+handed out longest first, as far as the marks tell (``in_turn``), so that no long test is left to run alone
+at the end.
 
 (xdist's own ``xdist_group`` marks are still honoured, but pytest 9.2 no longer lets xdist put the group into
 the test's id, so a mark added here would be lost; the scheduler reads the files instead.)
@@ -50,6 +51,7 @@ def pytest_xdist_make_scheduler(config, log):
         return None
     from xdist.scheduler import LoadGroupScheduling
 
+    config.option.loadscopereorder = False      # hand out work in the workers' collection order (in_turn)
     root = Path(config.rootpath)
 
     class SharedSetUpScheduling(LoadGroupScheduling):
@@ -62,16 +64,25 @@ def pytest_xdist_make_scheduler(config, log):
     return SharedSetUpScheduling(config, log)
 
 
+def in_turn(slow: bool, shared: bool) -> int:
+    """When a test's work unit is handed out (lower first): the files that share a slow set-up (rule coverage,
+    the damage stages, the monthly routes), then slow tests on their own, then the other files that share a
+    set-up, then the rest, each a few seconds at most, to even out the end."""
+    return (0 if slow else 2) + (0 if shared else 1)
+
+
 @pytest.hookimpl(trylast=True)
 def pytest_collection_modifyitems(config, items):
-    """On an xdist worker, the tests marked slow that run on their own come first (a stable sort: the order
-    within a file that shares its set-up is kept). The controller hands out work in this order after the
-    files that share a set-up, the largest first."""
+    """On an xdist worker, sort the tests by ``in_turn`` (a stable sort: a file's order is kept within each
+    step, and a file that shares its set-up moves whole, with its slowest test)."""
     if not hasattr(config, "workerinput"):
         return
     root = Path(config.rootpath)
+    slow_files = {file_of(item.nodeid) for item in items if item.get_closest_marker("slow")}
 
-    def late(item) -> bool:
-        return not (item.get_closest_marker("slow") and not shares_set_up(root / file_of(item.nodeid)))
+    def turn(item) -> int:
+        file = file_of(item.nodeid)
+        shared = shares_set_up(root / file)
+        return in_turn(file in slow_files if shared else item.get_closest_marker("slow") is not None, shared)
 
-    items.sort(key=late)
+    items.sort(key=turn)
