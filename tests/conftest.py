@@ -21,8 +21,8 @@ import numpy as np
 import pytest
 
 # what makes a file's tests share a set-up: a fixture wider than one test, or a module-level cache
-SHARED_SET_UP = re.compile(r"""scope\s*=\s*["'](?:module|class|package)["']|^@(?:functools\.)?(?:cache|lru_cache)\b""",
-                           re.MULTILINE)
+SHARED_SET_UP = re.compile(r"""scope\s*=\s*["'](?:module|class|package)["']|^@(?:functools\.)?(?:cache|lru_cache)\b"""
+                           r"""|\bfunctools\.(?:cache|lru_cache)\(""", re.MULTILINE)
 
 
 @pytest.fixture
