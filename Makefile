@@ -14,11 +14,11 @@ help:  ## list the targets
 venv:  ## the .venv of the README, with the test and lint tools and pre-commit
 	python3 -m venv .venv && .venv/bin/pip install -e '.[dev]'
 
-test:  ## the fast suite: everything but the slow real-record runs and the wheel install (about 2 min)
-	$(PYTHON) -m pytest -q -m "not slow and not install"
+test:  ## the fast suite on every core: everything but the slow real-record runs and the wheel install
+	$(PYTHON) -m pytest -q -m "not slow and not install" -n auto
 
-test-all:  ## what CI checks, in this .venv: the whole suite, then ruff and mypy
-	$(PYTHON) -m pytest
+test-all:  ## what CI checks, in this .venv: the whole suite on every core, then ruff and mypy
+	$(PYTHON) -m pytest -m "" -n auto
 	$(MAKE) lint
 
 lint:  ## ruff over the checkout and mypy over engine/ (configured in pyproject.toml)

@@ -11,7 +11,7 @@ from support import ROOT
 
 README = (ROOT / "README.md").read_text(encoding="utf-8")
 DEMO = "python3 -m venv .venv && .venv/bin/pip install -e . && .venv/bin/tellwave demo --out tellwave-demo"
-TESTS = "python3 -m venv .venv && .venv/bin/pip install -e '.[test]' && .venv/bin/python -m pytest -m \"\""
+TESTS = "python3 -m venv .venv && .venv/bin/pip install -e '.[test]' && .venv/bin/python -m pytest -m \"\" -n auto"
 
 
 def _supported() -> list[str]:

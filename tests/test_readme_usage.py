@@ -93,8 +93,9 @@ def test_ci_runs_the_readme_install_and_test_commands():
     ci = (ROOT / ".ci" / "run").read_text(encoding="utf-8")
     assert "python3 -m venv .venv" in ci
     assert ".venv/bin/pip install --quiet -e '.[test]'" in ci
-    assert re.search(r'^\.venv/bin/python -m pytest -m ""$', ci, re.M), "CI runs pytest as the README does"
+    assert re.search(r'^\.venv/bin/python -m pytest -m "" -n auto$', ci, re.M), "CI runs pytest as the README does"
     tests = README.split("## Set-up", 1)[1]
-    assert "python3 -m venv .venv && .venv/bin/pip install -e '.[test]' && .venv/bin/python -m pytest -m \"\"" in tests
+    assert ("python3 -m venv .venv && .venv/bin/pip install -e '.[test]' && "
+            ".venv/bin/python -m pytest -m \"\" -n auto") in tests
     # the lint steps follow the tests and can fail CI
     assert ci.index("-m pytest") < ci.index("ruff check .") < ci.index("mypy")

@@ -20,14 +20,14 @@ def looped(tmp_path_factory):
     assert main(["demo-route", "--out", str(root / "routes"), "--months", "5"]) == 0
     for month in (1, 2, 3, 4):
         folder = root / "routes" / f"month-0{month}"
-        assert main(["route", str(folder / "route.yaml"), "--store", store, "--quiet", "--workers", "2"]) == 0
+        assert main(["route", str(folder / "route.yaml"), "--store", store, "--quiet", "--workers", "1"]) == 0
         if (folder / "findings.csv").exists():
             assert main(["findings", "import", str(folder / "findings.csv"), "--store", store]) == 0
     overlay = root / "learned" / "learned.yaml"
     assert main(["learn", "--store", store, "--overlay", str(overlay), "--format", "json",
                  "-o", str(root / "learning.json")]) == 0
     assert main(["route", str(root / "routes" / "month-05" / "route.yaml"), "--store", store, "--quiet",
-                 "--workers", "2", "--site", str(overlay.parent), "--format", "json"]) == 0
+                 "--workers", "1", "--site", str(overlay.parent), "--format", "json"]) == 0
     return root, store
 
 

@@ -26,7 +26,7 @@ def surveyed(tmp_path_factory):
     assert main(["demo-route", "--out", str(root), "--months", "3"]) == 0
     for month in (1, 2, 3):
         assert main(["route", str(root / f"month-0{month}" / "route.yaml"), "--store", store, "--quiet",
-                     "--workers", "2"]) == 0
+                     "--workers", "1"]) == 0
     return root, store
 
 

@@ -31,7 +31,8 @@ def test_a_route_on_a_dask_cluster_matches_the_local_run(tmp_path):
         local = run_route(route, store, tmp_path / "local", workers=2, made_at=MADE_AT)
         local_results = _results(store)
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
-                                  dashboard_address=None, silence_logs=40) as cluster:
+                                  dashboard_address=None, silence_logs=40,
+                                  local_directory=str(tmp_path / "dask-work")) as cluster:
         with Store(tmp_path / "dask.sqlite") as store:
             remote = run_route(route, store, tmp_path / "dask", scheduler=cluster.scheduler_address, made_at=MADE_AT)
             dask_results = _results(store)
