@@ -408,7 +408,7 @@ def _twin(b, defect: str, rate: float, defects) -> str:
 
 def _rate_group(b, defect: str, rate: float, defects) -> str:
     """The bearings whose rates of ``defect`` chain within ``TIE`` of each other with this one's, ids sorted and
-    joined by "+", or "" when none is that near: three alike bearings (a motor's two and a pump's one) are one
+    joined by ", ", or "" when none is that near: three alike bearings (a motor's two and a pump's one) are one
     group, where ``twin`` names only the nearest, so a rule can weigh every bearing the lines may come from."""
     rates = {o.bearing: r for o, d, r in defects if d == defect}
     rates[b.bearing] = rate
@@ -417,7 +417,7 @@ def _rate_group(b, defect: str, rate: float, defects) -> str:
         near = {o for o, r in rates.items() if o not in group and any(abs(r / rates[g] - 1) <= TIE for g in group)}
         group |= near
         grew = bool(near)
-    return "+".join(sorted(group)) if len(group) > 1 else ""
+    return ", ".join(sorted(group)) if len(group) > 1 else ""
 
 
 def _alike(b, defect: str, rate: float) -> str:

@@ -145,7 +145,7 @@ FACTS: dict[str, dict[str, F]] = {
         "strongest_location": F("string", "the bearing or shaft that channel's point sits at", ""),
         "below_strongest_db": F("number", "how far this channel's best harmonic is below that channel's, dB", "dB"),
         "rate_group": F("string", "the bearings whose rates of this defect chain within 1 % of each other with this "
-                        "one's, ids sorted and joined by '+' (three alike bearings are one group); empty if none", ""),
+                        "one's, ids sorted and joined by ', ' (three alike bearings are one group); empty if none", ""),
         "twin": F("string", "another bearing whose rate of the same defect lies within 1 % of this one's (one "
                   "model twice on a shaft): only where the family stands out can tell them apart; empty if none", ""),
         "band_method": F("string", "kurtogram (band of highest spectral kurtosis) or wide "

@@ -47,7 +47,7 @@ def test_the_three_8_ball_bearings_are_one_rate_group_and_the_double_row_stands_
     orders = [_bpfo_orders(8, 23.8, 102.5), _bpfo_orders(8, 26.99, 117.5), _bpfo_orders(8, 20.64, 87.5)]
     assert max(orders) / min(orders) - 1 < TIE                      # 0.8 % apart: inside the tie
     assert abs(_bpfo_orders(8, 23.8, 102.5) / _bpfo_orders(8, 20.64, 87.5) - 1) > 0.004   # pump_ib is not nearest
-    group = "motor_de+motor_nde+pump_ib"
+    group = "motor_de, motor_nde, pump_ib"
     for bearing in ("motor_nde", "motor_de", "pump_ib"):
         b = by_id[bearing]
         assert _rate_group(b, "BPFO", b.bpfo_hz, defects) == group
