@@ -71,6 +71,20 @@ def test_a_bearing_whose_acceleration_rose_outranks_a_velocity_that_scattered(tm
     assert (change["accel_then_g"], change["accel_now_g"], change["accel_change_pct"]) == (0.01, 0.7, 6900.0)
 
 
+def _run_route(tmp_path, name: str, readings: list[dict]) -> tuple:
+    """Run a route of RW-2 ``readings`` into tmp_path/out; its output folder and the one machine of its
+    summary.json, checked against the summary schema."""
+    route = tmp_path / "route.yaml"
+    route.write_text(yaml.safe_dump({"route": name, "machines": {"rw2": str(PUMP)}, "readings": readings}))
+    out = tmp_path / "out"
+    assert main(["route", str(route), "--store", str(tmp_path / "h.sqlite"), "--out", str(out), "--workers", "1",
+                 "--quiet"]) == 0
+    doc = json.loads((out / "summary.json").read_text())
+    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
+    (m,) = doc["machines"]
+    return out, m
+
+
 def test_each_machine_links_to_its_trend_page(tmp_path):
     machine = load_machine(PUMP)
     readings = []
@@ -79,14 +93,7 @@ def test_each_machine_links_to_its_trend_page(tmp_path):
                        points=["P1H", "P2H"])
         write_simulation(sim, tmp_path / f"r{i}.wav")
         readings.append({"file": f"r{i}.wav", "machine": "rw2", "time": when})
-    route = tmp_path / "route.yaml"
-    route.write_text(yaml.safe_dump({"route": "links", "machines": {"rw2": str(PUMP)}, "readings": readings}))
-    out = tmp_path / "out"
-    assert main(["route", str(route), "--store", str(tmp_path / "h.sqlite"), "--out", str(out), "--workers", "1",
-                 "--quiet"]) == 0
-    doc = json.loads((out / "summary.json").read_text())
-    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
-    (m,) = doc["machines"]
+    out, m = _run_route(tmp_path, "links", readings)
     assert m["trend_page"] == "trends/rw-2-raw-water-pump.html"
     page = (out / m["trend_page"]).read_text()
     assert "Trend: RW-2 raw water pump" in page and page.count("<svg") >= 3
@@ -164,15 +171,7 @@ def test_the_summary_says_which_time_governs_each_machine(tmp_path):
     sim = simulate(load_machine(PUMP), "inner-race", "pump_de", 4, fs_hz=12800.0, duration_s=1.0, seed=3,
                    points=["P1H"])
     write_simulation(sim, tmp_path / "r.wav")
-    route = tmp_path / "route.yaml"
-    route.write_text(yaml.safe_dump({"route": "governs", "machines": {"rw2": str(PUMP)},
-                                     "readings": [{"file": "r.wav", "machine": "rw2", "time": "2026-06-10T08:00:00"}]}))
-    out = tmp_path / "out"
-    assert main(["route", str(route), "--store", str(tmp_path / "h.sqlite"), "--out", str(out), "--workers", "1",
-                 "--quiet"]) == 0
-    doc = json.loads((out / "summary.json").read_text())
-    jsonschema.validate(doc, load_schema("route-summary.schema.json"))
-    (m,) = doc["machines"]
+    out, m = _run_route(tmp_path, "governs", [{"file": "r.wav", "machine": "rw2", "time": "2026-06-10T08:00:00"}])
     g = m["governs"]
     assert g["point"] == "P1H" and g["by"] == "diagnosis" and g["urgency"]["id"] == "act-now"
     assert g["rules"] == ["trend.time-to-act.degradation-under-way"] and g["days"] > 91
