@@ -56,6 +56,36 @@ def _best_matches(candidates, rate_hz: float, location: str | None) -> list:
     return close
 
 
+SUBMULTIPLES = (2, 3, 4)
+
+
+def _slower_than(candidates, rate_hz: float) -> tuple[str, str, int]:
+    """For a train that matches no forcing frequency: the bearing defect rate it repeats at 1/k of (k 2 to 4,
+    within ``MATCH_TOLERANCE``; the closest), as (defect, bearing, k), or ("none", "none", 0). A family at k
+    times an unexplained train's rate may be every k-th line of the train's comb (a sample rate or speed
+    stated wrong, or a part the machine file lacks), not a defect of its own."""
+    near = [(abs(k * rate_hz / hz - 1), name, component, k) for name, component, hz in candidates
+            if name != "1X" for k in SUBMULTIPLES if abs(k * rate_hz / hz - 1) <= MATCH_TOLERANCE]
+    if not near:
+        return "none", "none", 0
+    _, name, component, k = min(near)
+    return name, component, k
+
+
+def _lines_between(c, rate_hz: float, k: int) -> float:
+    """The share of the harmonics j x ``rate_hz`` (j 1 to 2k, not a multiple of k) that show a clear line in one
+    of the channel's envelope views (the best view counts): a train's own comb fills the places between the k-th
+    lines a faster family would also have; impacts read at a fraction of a real defect's rate leave them empty."""
+    between = [j for j in range(1, 2 * k + 1) if j % k]
+    best = 0
+    for view in c.envelopes:
+        _, freq, _ = clear_lines(view.ses)
+        if not len(freq):
+            continue
+        best = max(best, sum(1 for j in between if np.min(np.abs(freq / (j * rate_hz) - 1)) <= SLIP_TOLERANCE))
+    return best / len(between)
+
+
 def impact_train(rc: Analysis) -> list[dict]:
     """The impact train the analysis found in each channel's squared envelope, and what its rate matches
     (``read_from: residual``, the record less its synchronous parts, which the bearing rules read); then, on a
@@ -73,6 +103,7 @@ def impact_train(rc: Analysis) -> list[dict]:
                        for best in _best_matches(candidates, rate, c.location)
                        if abs(rate / best[2] - 1) <= MATCH_TOLERANCE] or [("none", "none", 0.0)]
             shaft = c.point.shaft if c.point else rc.speed_shaft
+            slower = _slower_than(candidates, rate) if matches[0][0] == "none" else ("none", "none", 0)
             # the residual's envelope lines at the train's harmonics are its signs; the waveform's train is
             # not that envelope's, and is a sign of its own
             signs = ({impacts(c.name): 1.0} | _comb_signs(c, rate) if read_from == "residual"
@@ -82,6 +113,8 @@ def impact_train(rc: Analysis) -> list[dict]:
                 "periodicity": train.periodicity, "count": train.count, "regularity_cv": train.regularity_cv,
                 "impacts_per_rev": rate / rc.speeds_hz[shaft],
                 "matched_name": name, "matched_component": component, "match_error_pct": err,
+                "slower_than_name": slower[0], "slower_than_component": slower[1], "slower_by": slower[2],
+                "slower_lines_between": _lines_between(c, rate, slower[2]) if slower[2] else 0.0,
                 SIGNS: signs,
             } for name, component, err in matches)
     return out

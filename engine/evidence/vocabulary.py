@@ -180,6 +180,13 @@ FACTS: dict[str, dict[str, F]] = {
         "matched_name": F("string", "forcing frequency the rate matches, or none", ""),
         "matched_component": F("string", "its component, or none", ""),
         "match_error_pct": F("number", "rate over the matched frequency, less 1, percent", "%"),
+        "slower_than_name": F("string", "for a train matching nothing: the bearing defect rate (BPFO, BPFI, BSF) it "
+                              "repeats at 1/2, 1/3 or 1/4 of, within 3 %, or none", ""),
+        "slower_than_component": F("string", "that rate's bearing, or none", ""),
+        "slower_by": F("integer", "how many times slower (2 to 4), 0 when none", ""),
+        "slower_lines_between": F("number", "share of the train's harmonics j x rate, j 1 to 2k and not a multiple "
+                                  "of k, with a clear envelope line (the best view): the train's own comb between "
+                                  "the faster family's lines, 0 to 1; 0 when none", ""),
     },
     "once_per_rev_event": CHANNEL_FIELDS | {
         "shaft": F("string", "shaft id", ""),
@@ -410,6 +417,7 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "tone.family": RATE_FAMILIES,
     "harmonic_series.source": RATE_NAMES,
     "impact_train.matched_name": RATE_NAMES + ("none",),
+    "impact_train.slower_than_name": ("BPFO", "BPFI", "BSF", "none"),
     "impact_train.read_from": ("residual", "waveform"),
     "envelope_tone.defect": BEARING_DEFECTS,
     "envelope_tone.alike_defect": ("BPFO", "BPFI", "BSF", ""),
