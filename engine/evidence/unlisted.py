@@ -53,7 +53,8 @@ def _explained(f0: float, explained: np.ndarray, ses) -> bool:
 def _best_family(ses, lo_hz: float, hi_hz: float, explained: np.ndarray) -> tuple[float, list, tuple] | None:
     """The strongest family of ``ses`` with its fundamental between ``lo_hz`` and ``hi_hz``: the most harmonics
     (up to ``FAMILY_RANKED``), then the tallest fundamental; reported at a half or a third of its rate when a
-    family there has as many harmonics. (fundamental Hz, its family as ``_family`` gives it, ``clear_lines`` of ``ses``) or None."""
+    family there has as many harmonics. (fundamental Hz, its family as ``_family`` gives it, ``clear_lines`` of
+    ``ses``) or None."""
     lines, freq, snr = clear_lines(ses)
     fmax = ses.fmax_hz * 0.98
     best = None
