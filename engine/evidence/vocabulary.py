@@ -55,7 +55,7 @@ FACTS: dict[str, dict[str, F]] = {
                               "of one tone with both levels (tens of Hz when running-speed lines carry the "
                               "vibration, kHz when a broadband floor where bearings ring does)", "Hz"),
         "ring_band_lo_hz": F("number", "lower edge of the kurtogram's band (Antoni 2007: where the impacts ring, "
-                             "chosen on the prewhitened residual), Hz; 0 when the machine has no bearing rate", "Hz"),
+                             "chosen on the prewhitened residual), Hz; 0 when there is none", "Hz"),
         "ring_band_hi_hz": F("number", "upper edge of that band, Hz; 0 when there is none", "Hz"),
         "ring_band_g": F("number", "acceleration RMS in that band, from the acceleration spectrum (not whitened), "
                          "g; 0 when there is no band", "g RMS"),
@@ -187,6 +187,19 @@ FACTS: dict[str, dict[str, F]] = {
         "slower_lines_between": F("number", "share of the train's harmonics j x rate, j 1 to 2k and not a multiple "
                                   "of k, with a clear envelope line (the best view): the train's own comb between "
                                   "the faster family's lines, 0 to 1; 0 when none", ""),
+    },
+    "envelope_family": CHANNEL_FIELDS | {
+        "rate_hz": F("number", "the family's fundamental: a clear line of the squared envelope spectrum, Hz (only on a "
+                     "machine file that lists no rolling bearing; between 2 x the slowest and 13 x the fastest shaft, "
+                     "on no forcing frequency, shaft harmonic or half order of the file)", "Hz"),
+        "per_rev": F("number", "that rate over the speed of the point's shaft", ""),
+        "harmonics_found": F("integer", "harmonics 1 to 5 of the rate with a clear line within 2 %, the fundamental "
+                             "among them", ""),
+        "harmonics_checked": F("integer", "harmonics 1 to 5 below the envelope spectrum's Fmax", ""),
+        "first_snr_db": F("number", "the fundamental over the envelope spectrum's local floor, dB", "dB"),
+        "band_method": F("string", "the envelope view: kurtogram or wide", ""),
+        "band_lo_hz": F("number", "lower edge of the band demodulated, Hz", "Hz"),
+        "band_hi_hz": F("number", "upper edge of the band demodulated, Hz", "Hz"),
     },
     "once_per_rev_event": CHANNEL_FIELDS | {
         "shaft": F("string", "shaft id", ""),

@@ -270,6 +270,9 @@ class Reasoner:
         parts = sentence_parts(rule, values)
         because = "".join(literal + ("" if v is None else format_quantity(v["value"], v["unit"], v["type"]))
                           for literal, v in parts)
+        again_parts = sentence_parts(rule, values, "measure_again") if rule.measure_again else ()
+        again = "".join(literal + ("" if v is None else format_quantity(v["value"], v["unit"], v["type"]))
+                        for literal, v in again_parts)
         signs = explained_signs(values[alias] for alias in rule.explains)
         derived = None
         if rule.derives is not None and strength > 0:
@@ -284,7 +287,8 @@ class Reasoner:
             session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
                         tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record,
-                        because_parts=parts, weight_kept=rule.weight_kept)
+                        because_parts=parts, weight_kept=rule.weight_kept, measure_again=again,
+                        measure_again_parts=again_parts)
         session.firings.append((rule, firing))
         if derived is not None:
             try:
@@ -484,13 +488,14 @@ def explained_signs(facts) -> dict[str, float]:
     return merged(*(fact.get(SIGNS) or {} for fact in facts))
 
 
-def sentence_parts(rule: Rule, values: dict) -> tuple[tuple[str, dict | None], ...]:
-    """The rule's because sentence in parts: each literal text with the value that follows it (None
-    at the end): its field, value, unit, type and the shaft under the sensor of its fact (for a
-    report that shows frequencies in orders; None for a fact of no channel)."""
-    by_name = {f"{p.alias}.{p.field}": p for p in rule.placeholders}
+def sentence_parts(rule: Rule, values: dict, which: str = "because") -> tuple[tuple[str, dict | None], ...]:
+    """The rule's because sentence (or its ``measure_again`` sentence) in parts: each literal text with the value
+    that follows it (None at the end): its field, value, unit, type and the shaft under the sensor of its fact
+    (for a report that shows frequencies in orders; None for a fact of no channel)."""
+    places = rule.placeholders if which == "because" else rule.again_placeholders
+    by_name = {f"{p.alias}.{p.field}": p for p in places}
     parts: list[tuple[str, dict | None]] = []
-    for literal, name, _, _ in string.Formatter().parse(rule.because):
+    for literal, name, _, _ in string.Formatter().parse(getattr(rule, which)):
         value = None
         if name is not None:
             p = by_name[name.strip()]
