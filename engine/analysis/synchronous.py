@@ -155,6 +155,10 @@ def resample_at(x: np.ndarray, positions: np.ndarray) -> np.ndarray:
 
 ROWS_PER_SLICE = 64
 SAMPLES_PER_SLICE = 1 << 15
+# a slice of the chirp z transforms holds at least this many times the sums it gives (2 x orders - 1): a
+# shaft with few orders below fs / 2 is done in slices of a quarter or a half of SAMPLES_PER_SLICE, whose
+# transforms are more than proportionally cheaper (set-up and cache), a slow one in whole slices
+SLICE_TO_SUMS = 4
 
 
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:
@@ -209,6 +213,47 @@ def _unit_phasors(phase_rad: np.ndarray) -> np.ndarray:
     return out
 
 
+def _block(length: int) -> int:
+    """The power of two at or above sqrt(``length``): the row length of a phase table of ``length`` values."""
+    return 1 << int(np.sqrt(max(length - 1, 0))).bit_length()
+
+
+def _powers(g: np.ndarray, count: int) -> np.ndarray:
+    """Rows g ** q for q = 0 .. ``count`` - 1, by doubling: row q is the product of at most log2(``count``) + 1
+    factors, so its rounding error stays a few units of the last place."""
+    rows = np.empty((count, len(g)), dtype=complex)
+    rows[0] = 1.0
+    have = 1
+    while have < count:
+        take = min(have, count - have)
+        np.multiply(rows[:take], rows[have - 1] * g, out=rows[have:have + take])    # times g ** have
+        have += take
+    return rows
+
+
+def _chirp(c: float, length: int) -> np.ndarray:
+    """exp(i c j^2) for j = 0 .. ``length`` - 1, from about 3 sqrt(``length``) sines and cosines: with j = q B + r,
+    c j^2 = c q^2 B^2 + 2 c B q r + c r^2, so each value is a row factor times a column factor times
+    exp(i 2 c B r) ** q. The same values as ``_unit_phasors(c * j * j)`` to the rounding of c j^2 itself
+    (about 1e-16 of it, held by both) at a third of the cost."""
+    b = _block(length)
+    rows = _powers(_unit_phasors((2.0 * c * b) * np.arange(b, dtype=float)), -(-length // b))
+    r = np.arange(b, dtype=float)
+    rows *= _unit_phasors(c * (r * r))
+    qb = np.arange(len(rows), dtype=float) * b
+    rows *= _unit_phasors(c * (qb * qb))[:, None]
+    return rows.reshape(-1)[:length]
+
+
+def _ramp(a: float, length: int) -> np.ndarray:
+    """exp(i a j) for j = 0 .. ``length`` - 1 as the outer product exp(i a q B) exp(i a r), j = q B + r: about
+    2 sqrt(``length``) sines and cosines instead of ``length``, the same values to a unit of the last place."""
+    b = _block(length)
+    rows = _unit_phasors((a * b) * np.arange(-(-length // b), dtype=float))[:, None] \
+        * _unit_phasors(a * np.arange(b, dtype=float))
+    return rows.reshape(-1)[:length]
+
+
 class _ChirpSums:
     """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for any v of ``inputs`` values (Bluestein's
     chirp z transform: j m = (j^2 + m^2 - (m - j)^2) / 2 makes it a convolution); the chirp and the
@@ -222,8 +267,7 @@ class _ChirpSums:
             self.size, self.chirp, self.kernel = _from.size, np.conj(_from.chirp), np.conj(_from.kernel)
             return
         self.size = sfft.next_fast_len(inputs + outputs - 1)
-        j = np.arange(max(inputs, outputs), dtype=float)
-        self.chirp = _unit_phasors((0.5 * step_rad) * (j * j))  # exp(i step j^2 / 2)
+        self.chirp = _chirp(0.5 * step_rad, max(inputs, outputs))  # exp(i step j^2 / 2)
         kernel = np.zeros(self.size, dtype=complex)             # exp(-i step d^2 / 2), d = -(inputs-1) .. outputs-1
         kernel[:outputs] = np.conj(self.chirp[:outputs])
         if inputs > 1:
@@ -252,7 +296,7 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     filter whose teeth sit on the orders). Both the coefficients (the record's
     DFT at the orders) and the sum of their sines at every sample are chirp z
     transforms (Bluestein 1970; Rabiner, Schafer & Rader 1969), done in slices of
-    ``SAMPLES_PER_SLICE`` samples, two real slices in one complex transform
+    at most ``SAMPLES_PER_SLICE`` samples, two real slices in one complex transform
     (``_paired_coefficients``, ``_paired_sums``). Nothing is interpolated, so nothing depends on
     where a revolution starts between two samples: interpolating near the
     Nyquist frequency (cubic convolution at a quarter of the sample rate and
@@ -297,12 +341,14 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     orders = int(np.ceil(fs / 2 / speed_hz))               # orders 0 .. orders - 1 lie below fs / 2
     step = 2 * np.pi * speed_hz / fs                       # radians per sample of order 1
     k = np.arange(orders, dtype=float)
-    slices = -(-n // SAMPLES_PER_SLICE)
-    slice_len = -(-n // slices)                            # equal slices of at most SAMPLES_PER_SLICE samples
+    longest = next((s for s in (SAMPLES_PER_SLICE // 4, SAMPLES_PER_SLICE // 2)
+                    if SLICE_TO_SUMS * (2 * orders - 1) <= s), SAMPLES_PER_SLICE)
+    slices = -(-n // longest)
+    slice_len = -(-n // slices)                            # equal slices of at most ``longest`` samples
     # orders -(orders - 1) .. orders - 1: the sums over a real slice at -m are the conjugates of those at m,
     # which parts two real slices carried as the real and imaginary parts of one complex one
     forward = _ChirpSums(slice_len, 2 * orders - 1, -step)
-    shift = _unit_phasors(step * (orders - 1) * np.arange(slice_len, dtype=float))   # order -(orders - 1) to 0
+    shift = _ramp(step * (orders - 1), slice_len)           # order -(orders - 1) to 0
     coef = np.zeros(orders, dtype=complex)
     for (a, sum_a), (b, sum_b) in _paired_coefficients(x[:whole], slice_len, forward, shift, orders):
         coef += sum_a * np.exp(-1j * step * k * a)
