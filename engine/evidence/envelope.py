@@ -20,6 +20,8 @@ measurements the rulebooks' rivalry rules weigh.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from ..analysis import Analysis
@@ -229,12 +231,17 @@ def shared_lines(rates, location: str | None) -> dict[tuple[str, str], list[tupl
     """
     defects = [(b, defect, b.impact_rate_hz(defect)) for b in rates.bearings for defect in HARMONICS]
     centres: list[float] = []
+    near: dict[int, list[int]] = {}     # centres by bucket of log frequency, TIE wide
 
     def line_of(freq: float) -> int:
-        for i, c in enumerate(centres):
-            if abs(freq / c - 1) < TIE:
+        # the first centre within TIE of freq (as a scan of every centre in order finds it): such a centre's
+        # log lies within about TIE of log freq, so in this bucket or the two each side of it
+        bucket = math.floor(math.log(freq) / TIE)
+        for i in sorted(i for b in range(bucket - 2, bucket + 3) for i in near.get(b, ())):
+            if abs(freq / centres[i] - 1) < TIE:
                 return i
         centres.append(freq)
+        near.setdefault(bucket, []).append(len(centres) - 1)
         return len(centres) - 1
 
     found = [{k: Peak(k * rate, 1.0, line_of(k * rate), 10.0) for k in range(1, HARMONICS[defect] + 1)}
@@ -280,11 +287,12 @@ def _give_sidebands(defects, all_found, owned, resolution_hz: float = 0.0) -> No
     if not carriers:
         return
     family, line, snr, freq, mod = (np.array(column) for column in zip(*carriers))
+    strongest = float(np.fmax.reduce(snr))       # only a carrier standing higher than a line can take it
     sidebands = np.concatenate([freq - mod, freq + mod])
     margins = np.tile(SIDEBAND_MARGIN * mod + resolution_hz, 2)      # Hz
     for t, ((_, _, rate), found) in enumerate(zip(defects, all_found)):
         for k, peak in found.items():
-            if not owned[(t, k)]:
+            if not owned[(t, k)] or peak.snr >= strongest:
                 continue
             own_error = abs(peak.freq_hz / (k * rate) - 1)
             claims = np.tile((family != t) & (line != peak.line) & (snr > peak.snr), 2)
