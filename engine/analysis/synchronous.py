@@ -155,10 +155,22 @@ def resample_at(x: np.ndarray, positions: np.ndarray) -> np.ndarray:
 
 ROWS_PER_SLICE = 64
 SAMPLES_PER_SLICE = 1 << 15
-# a slice of the chirp z transforms holds at least this many times the sums it gives (2 x orders - 1): a
-# shaft with few orders below fs / 2 is done in slices of a quarter or a half of SAMPLES_PER_SLICE, whose
-# transforms are more than proportionally cheaper (set-up and cache), a slow one in whole slices
-SLICE_TO_SUMS = 4
+
+
+def _slice_length(n: int, sums: int) -> int:
+    """The length of the equal slices of an ``n``-sample record whose chirp z transforms give ``sums`` sums
+    each: at most a quarter, a half or all of SAMPLES_PER_SLICE, whichever costs the least FFT work (4
+    transforms of length + sums - 1 per pair of slices, 1 for the kernel, m log m each). Few orders (a fast
+    shaft) favour short slices, whose transforms are also kinder to the cache; many orders, long ones."""
+    best = None
+    for longest in (SAMPLES_PER_SLICE // 4, SAMPLES_PER_SLICE // 2, SAMPLES_PER_SLICE):
+        slices = -(-n // max(longest, 1))
+        length = -(-n // slices)
+        size = sfft.next_fast_len(length + sums - 1)
+        cost = (4 * -(-slices // 2) + 1) * size * np.log2(max(size, 2))
+        if best is None or cost < best[0]:
+            best = (cost, length)
+    return best[1]
 
 
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:
@@ -341,10 +353,7 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     orders = int(np.ceil(fs / 2 / speed_hz))               # orders 0 .. orders - 1 lie below fs / 2
     step = 2 * np.pi * speed_hz / fs                       # radians per sample of order 1
     k = np.arange(orders, dtype=float)
-    longest = next((s for s in (SAMPLES_PER_SLICE // 4, SAMPLES_PER_SLICE // 2)
-                    if SLICE_TO_SUMS * (2 * orders - 1) <= s), SAMPLES_PER_SLICE)
-    slices = -(-n // longest)
-    slice_len = -(-n // slices)                            # equal slices of at most ``longest`` samples
+    slice_len = _slice_length(n, 2 * orders - 1)
     # orders -(orders - 1) .. orders - 1: the sums over a real slice at -m are the conjugates of those at m,
     # which parts two real slices carried as the real and imaginary parts of one complex one
     forward = _ChirpSums(slice_len, 2 * orders - 1, -step)
