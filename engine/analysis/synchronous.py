@@ -162,15 +162,13 @@ def _slice_length(n: int, sums: int) -> int:
     each: at most a quarter, a half or all of SAMPLES_PER_SLICE, whichever costs the least FFT work (4
     transforms of length + sums - 1 per pair of slices, 1 for the kernel, m log m each). Few orders (a fast
     shaft) favour short slices, whose transforms are also kinder to the cache; many orders, long ones."""
-    best = None
+    costs = []
     for longest in (SAMPLES_PER_SLICE // 4, SAMPLES_PER_SLICE // 2, SAMPLES_PER_SLICE):
         slices = -(-n // max(longest, 1))
         length = -(-n // slices)
         size = sfft.next_fast_len(length + sums - 1)
-        cost = (4 * -(-slices // 2) + 1) * size * np.log2(max(size, 2))
-        if best is None or cost < best[0]:
-            best = (cost, length)
-    return best[1]
+        costs.append(((4 * -(-slices // 2) + 1) * size * float(np.log2(max(size, 2))), length))
+    return min(costs, key=lambda c: c[0])[1]      # the first of equal costs, as the loop before took it
 
 
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:

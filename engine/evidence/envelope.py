@@ -228,7 +228,7 @@ class _Centres:
     TIE of log f, so only the centres in f's bucket of log frequency (TIE wide) and the two each side are
     tried: the same answer as trying every centre in order, without the quadratic cost."""
 
-    def __init__(self):
+    def __init__(self) -> None:
         self.centres: list[float] = []
         self.near: dict[int, list[int]] = {}
 
