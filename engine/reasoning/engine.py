@@ -107,8 +107,12 @@ def engine_value(x):
 def engine_copy(fact: dict, sid: str) -> dict:
     """A fact as the rule engine may hold it: its signs left out, values made engine-safe, no None
     fields, tagged with the diagnosis's session id."""
-    out = {k: engine_value(v) for k, v in fact.items() if k != SIGNS}
-    out = {k: v for k, v in out.items() if v is not None}
+    out = {}
+    for k, v in fact.items():      # one pass: a few hundred facts a diagnosis, a dozen fields each
+        if isinstance(v, float):
+            v = engine_value(v)
+        if v is not None and k != SIGNS:
+            out[k] = v
     out["sid"] = sid
     return out
 
@@ -139,7 +143,15 @@ def _literal_match(fact: dict, c) -> bool:
         return v not in c.value
     if c.op == "between":
         return c.value[0] <= v <= c.value[1]
-    return {"above": v > target, "at_least": v >= target, "below": v < target, "at_most": v <= target}[c.op]
+    if c.op == "above":
+        return v > target
+    if c.op == "at_least":
+        return v >= target
+    if c.op == "below":
+        return v < target
+    if c.op == "at_most":
+        return v <= target
+    raise KeyError(c.op)
 
 
 def tallies(rules, facts: list[dict]) -> list[dict]:
@@ -233,9 +245,7 @@ class Reasoner:
         engine still decides every match, join and negation itself.
         """
         patterns = self._patterns if patterns is None else patterns
-        return any(all(_literal_match(fact, c) for c in p.conditions
-                       if not (isinstance(c.value, Ref) and c.value.alias is not None))
-                   for p in patterns.get(fact["kind"], ()))
+        return any(all(_literal_match(fact, c) for c in conditions) for conditions in patterns.get(fact["kind"], ()))
 
     def _make_action(self, rule: Rule):
         def fire(c):
@@ -470,12 +480,15 @@ def _one_per_rival(firings) -> tuple[Firing, ...]:
     return tuple(sorted(out.values(), key=lambda f: (f.rival, f.rule_id)))
 
 
-def _patterns_by_kind(rules) -> dict[str, list]:
-    out: dict[str, list] = defaultdict(list)
+def _patterns_by_kind(rules) -> dict[str, list[tuple]]:
+    """Each fact kind's patterns (counts left out) as the conditions a fact alone can be judged by
+    (a join to another fact's field is the engine's), worked out once per rulebook."""
+    out: dict[str, list[tuple]] = defaultdict(list)
     for r in rules:
         for p in r.needs + r.none_of:
             if not p.counted:
-                out[p.kind].append(p)
+                out[p.kind].append(tuple(c for c in p.conditions
+                                         if not (isinstance(c.value, Ref) and c.value.alias is not None)))
     return out
 
 
