@@ -450,8 +450,8 @@ def one_x_line(spec: Spectrum, speed_hz: float) -> tuple[float, float]:
     df = spec.resolution_hz
     one_x = peak_near(spec, speed_hz, 1.5 * df)
     floor_1x = noise_floor(spec, int(round(speed_hz / df)))
-    if one_x is None or one_x.amplitude < MIN_HARMONIC_SNR * floor_1x:
-        return 0.0, 0.0
+    if one_x is None or not one_x.amplitude > 0 or one_x.amplitude < MIN_HARMONIC_SNR * floor_1x:
+        return 0.0, 0.0   # no line, or one in the zeroed lines below the velocity spectrum's lowest frequency
     return float(one_x.amplitude), float(20 * np.log10(one_x.amplitude / max(floor_1x, 1e-300)))
 
 

@@ -84,3 +84,16 @@ def test_the_1x_of_the_other_channels_on_the_shaft_is_measured_beside_the_loudes
     # the fan-end channel alone: nothing elsewhere
     alone = Reading("r.npz", fs, reading.channels[1:], speed_rpm=1797.0)
     assert analyse(alone, machine).speed_check["one_x_elsewhere_db"] == 0.0
+
+
+def test_a_1x_in_the_zeroed_lines_of_a_velocity_spectrum_is_no_line():
+    # a velocity spectrum is zero below MIN_VELOCITY_HZ (2 Hz, engine/analysis/result.py): a shaft turning
+    # once a second has nothing there, and its 1X is no line (warnings are errors in the suite)
+    from engine.analysis.result import velocity_spectrum
+    from engine.analysis.spectrum import Transform
+    from engine.analysis.speed import one_x_line
+
+    fs, n = 512.0, 8192
+    spec = velocity_spectrum(Transform.of(tone(1.0, fs, n, 1.0) + tone(50.0, fs, n, 0.1), fs).amplitude("peak"))
+    assert one_x_line(spec, 1.0) == (0.0, 0.0)
+    assert one_x_line(spec, 50.0)[1] > 40
