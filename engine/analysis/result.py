@@ -37,7 +37,7 @@ from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
 from .separation import random_part_factor
 from .spectrum import Spectrum, Transform, integrate
-from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, shaft_family, speed_from_tones
+from .speed import HARMONICS, SpeedEstimate, half_and_double, one_x_line, refine_speeds, shaft_family, speed_from_tones
 from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
 from .tracking import (
     WANDER_MESH_CYCLES,
@@ -661,6 +661,10 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
            or abs(speeds[p.shaft] - speeds[shaft]) <= 1e-9 * speeds[shaft]]
     loudest = max(own or velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
     check = half_and_double(velocity[loudest], speed.speed_hz, _explained_lines(machine, rates, shaft))
+    # the 1X line of the other channels on the shaft: a short record's noisier lines can bury a weak 1X in
+    # the loudest channel while another sensor on the same shaft shows it clear
+    check["one_x_elsewhere_db"] = max((one_x_line(velocity[name], speed.speed_hz)[1] for name in own
+                                       if name != loudest), default=0.0)
     # the strongest shaft family near the stated speed and beyond it: a wrong stated speed or sample rate
     # puts the machine's own harmonic family away from the stated 1X
     stated = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)

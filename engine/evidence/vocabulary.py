@@ -262,6 +262,8 @@ FACTS: dict[str, dict[str, F]] = {
         "abs_deviation_pct": F("number", "size of that deviation, %", "%"),
         "one_x_found": F("boolean", "a line stands at 1X in the loudest channel on this shaft (at its speed), "
                                     "where the fields below are measured", ""),
+        "one_x_elsewhere_db": F("number", "the tallest 1X line (at the speed used) over its floor among the "
+                                          "shaft's other channels (0 when none stands three times its floor)", "dB"),
         "odd_order_lines": F("integer", "lines at 1X, 3X, 5X, 7X, 9X in the loudest channel", ""),
         "half_order_lines": F("integer", "lines at 0.5X, 1.5X, 2.5X, 3.5X, 4.5X in the loudest channel that no "
                                          "other line of the machine explains", ""),
