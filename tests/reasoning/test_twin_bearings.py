@@ -119,3 +119,22 @@ def test_both_twins_damaged_each_impulsive_at_its_own_housing_are_both_named():
     assert _certainty(result, "rolling-element", "fan_inboard") >= CONFIDENT
     fired = {f.rule_id for h in result.hypotheses for f in h.support + h.same_evidence}
     assert IMPULSIVE not in fired
+
+
+@pytest.mark.slow
+def test_a_call_whose_twin_has_no_sensor_in_the_reading_says_which_housing_to_measure():
+    # FIBH alone: the inboard's sensor hears an outboard defect through the shaft and cannot compare the two
+    # housings (the HIT-SM rig of bench.real_data is measured the same way, at its test bearing only)
+    d = _diagnosis(1, 25600.0, 4.0, ["FIBH"], whole=True)
+    called = [r for r in d.advice.recommendations if r.hypothesis.confident and r.hypothesis.family == "bearing"]
+    assert called
+    for r in called:
+        line = next(c for c in r.confirm if c.startswith("Which bearing"))
+        assert "fan_outboard" in line and "FOBH, FOBV, FOBA" in line
+
+
+@pytest.mark.slow
+def test_a_call_with_a_sensor_on_each_twin_gets_no_which_bearing_line():
+    d = _diagnosis(11, 12000.0, 2.0, ["FIBH", "FOBH"], whole=True)
+    lines = [c for r in d.advice.recommendations if r.hypothesis.confident for c in r.confirm]
+    assert lines and not any(c.startswith("Which bearing") for c in lines)
