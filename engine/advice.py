@@ -253,7 +253,7 @@ def _site_todo(todo, machine: Machine, family: str, data: dict) -> tuple[dict, t
 
 def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, urgencies,
                scale: ScaleCheck | None = None, site_advice: dict | None = None,
-               points_unknown: bool = False) -> Recommendation:
+               points_unknown: bool = False, measured: frozenset[str] | None = None) -> Recommendation:
     if site_advice and h.fault in site_advice:
         todo, oil = _site_todo(site_advice[h.fault], machine, h.family, data)
     else:
@@ -291,7 +291,8 @@ def _recommend(h: Hypothesis, machine: Machine, worst: str | None, data: dict, u
             actions, spares = tuple(policy["actions"]), ()
         urgency = max(urgency, urgencies[data["unconfirmed_urgency"]], key=lambda u: u.rank)
     return Recommendation(h, severity, urgency, actions, spares,
-                          tuple(todo["confirm"]) + tuple(extra.get("confirm", ())) + _twin_confirm(h, machine, data),
+                          tuple(todo["confirm"]) + tuple(extra.get("confirm", ())) + _twin_confirm(h, machine, data)
+                          + _twin_unmeasured(h, machine, data, measured),
                           oil)
 
 
@@ -314,6 +315,25 @@ def _twin_confirm(h: Hypothesis, machine: Machine, data: dict) -> tuple[str, ...
     points = [p.id for p in getattr(machine, "points", ()) if p.at in at]
     where = ", ".join(points) if points else "no point of the machine file sits on either: add one on each"
     return tuple(line.format(component=h.component, twin=twin, points=where) for twin in twins)
+
+
+def _twin_unmeasured(h: Hypothesis, machine: Machine, data: dict, measured: frozenset[str] | None) -> tuple[str, ...]:
+    """The line that says a bearing call's lines fit another bearing of the same rates that no sensor of the reading
+    sits on, and where to measure (``twin_unmeasured_confirm``): the sensor under the called bearing would show a
+    defect of that twin, heard through the shaft, the same way, and nothing in the reading compares the two
+    housings. () below a call (``twin_bearing_confirm`` says it there), with no such twin, or when ``measured``
+    (the locations of the reading's channels) is not known."""
+    line = data.get("twin_unmeasured_confirm")
+    if line is None or measured is None or not h.confident or h.family != "bearing":
+        return ()
+    twins = sorted({f["twin"] for firing in h.support for _, f in firing.facts
+                    if f.get("twin") and f.get("component") == h.component} - measured)
+    out = []
+    for twin in twins:
+        points = [p.id for p in getattr(machine, "points", ()) if p.at == twin]
+        where = ", ".join(points) if points else "the machine file has no point there: add one"
+        out.append(line.format(component=h.component, twin=twin, points=where))
+    return tuple(out)
 
 
 TIME_TO_ACT = "time_to_act"     # the derived kind whose facts ask for an urgency (rulebooks/time-to-act.yaml)
@@ -469,8 +489,9 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
         # a stage is "at least" only where every channel it rests on names no point: a channel on a point beside
         # them judged the signs that need a sensor's direction
         placed = {lv.channel for lv in evidence.levels if lv.point}
+        measured = frozenset(lv.location for lv in evidence.levels if lv.location)
         recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice,
-                                points_unknown and not placed.intersection(h.channels))
+                                points_unknown and not placed.intersection(h.channels), measured)
                      for h in shown)
         # the trend's reasons to act sooner (rulebooks/time-to-act.yaml): each finding seen at the point, and
         # the diagnosis; never later than it was

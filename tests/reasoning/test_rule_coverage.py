@@ -38,7 +38,8 @@ MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "m
             "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml", "gc1": TEST_MACHINES / "gc1-grit-conveyor-drive.yaml",
             "cwru": TEST_MACHINES / "cwru-motor.yaml",
             "cwru-de-unlisted": TEST_MACHINES / "cwru-motor-de-unlisted.yaml",
-            "rig-unlisted": TEST_MACHINES / "mfpt-rig-unlisted.yaml"}
+            "rig-unlisted": TEST_MACHINES / "mfpt-rig-unlisted.yaml",
+            "cw3": TEST_MACHINES / "cw3-three-alike-bearings.yaml"}
 
 @functools.cache
 def _machine(key: str):
@@ -174,6 +175,15 @@ SIMULATED = [
      "bearing.tones.envelope-race-or-ball bearing.defect.rates-coincide"),
     ("rolling element on the blower bearing", "bw1", _fault("bw1", "rolling-element", component="blower_de"),
      "bearing.tones.envelope-ball-on-race-rate"),
+    # EF-4's fan bearings are twins (two 22212): at stage 2 only the damaged one's housing reads impulsive
+    ("rolling element at stage 2 on a twin bearing", "ef4", _fault("ef4", "rolling-element", stage=2, seed=3,
+                                                                   component="fan_nde"),
+     "bearing.defect.heard-at-twin-impulsive bearing.defect.heard-at-twin-impulsive-impacts "
+     "bearing.defect.heard-at-twin-impulsive-modulation"),
+    # CW-3's 3311: its 2 x BSF lies 1.2 % from the motor 6315's BPFI, which takes the ball's lines
+    ("rolling element whose lines a race rate took", "cw3", _fault("cw3", "rolling-element", stage=2, seed=1,
+                                                                   component="pump_ob"),
+     "bearing.cage.ball-lines-taken"),
     # RW-2's pump bearings are measured horizontally only
     ("unbalance on a pump measured horizontally only", "rw2",
      lambda: as_reading(simulate(_machine("rw2"), "unbalance", "pump", 2, None, 25600.0, 4.0, 1)),
