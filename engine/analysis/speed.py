@@ -77,10 +77,15 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
     amp = spec.amplitude
     df = spec.resolution_hz
     excluded = np.asarray(exclude_hz, dtype=float)
+    # a velocity spectrum holds nothing below its low cut (2 Hz): a search that reaches those lines would
+    # score the first line above the cut against a floor of zeros, as if it stood infinitely clear
+    first_hz = float(np.argmax(amp > 0)) * df
     kept, held = [], []
     for hz, k in targets:
         if hz * centre * (1 + search_fraction) >= spec.fmax_hz or hz * search_fraction < df:
             continue            # above Fmax, or so few lines up that its line cannot refine the speed
+        if hz * centre * (1 - search_fraction) - 1.5 * df < first_hz:
+            continue            # its search reaches below the lowest line the spectrum holds
         if excluded.size and k > 1 and np.any(np.abs(hz - excluded) <= hz * search_fraction + 2 * df):
             held.append((hz, k))
             continue
