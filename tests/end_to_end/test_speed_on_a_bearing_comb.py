@@ -42,3 +42,15 @@ def test_an_outer_race_on_the_rake_bearing_is_not_read_as_a_gear_fault(seed, tru
     # 1X on the bearing's BPFO at the true speed), within a line of 1X over its order
     speed = next(f for f in d.evidence.facts if f["kind"] == "speed_check")
     assert speed["source"] == "1X harmonics" and abs(speed["measured_rpm"] - true_rpm) < 0.05 * 60 / 2
+
+
+def test_a_sound_machine_s_shaft_lines_that_the_bearing_s_comb_could_be_leave_the_speed_as_stated_and_say_why():
+    # no bearing comb stands beside the motor's family, so the family could be the rake bearing's at a speed
+    # 1.6 % lower: the stated speed is used, unrefined, and the report asks for a tachometer reading
+    from engine.report.document import speed_text
+    sim = simulate(TH1, "healthy", None, 2, 300.0, 12800.0, 20.0, 1)
+    d = diagnose(as_reading(sim, "th1.wav"), TH1, reasoner())
+    speed = next(f for f in d.evidence.facts if f["kind"] == "speed_check")
+    assert speed["source"] == "stated" and speed["shared_with"] == "BPFO of out_brg"
+    assert "tachometer" in speed_text(speed) and "BPFO of out_brg" in speed_text(speed)
+    assert not [h for h in d.reasoning.hypotheses if h.certainty >= CONFIDENT]
