@@ -227,7 +227,8 @@ def _shared_with_rivals(spec: Spectrum, hits: list[tuple[float, int]], scale: fl
     ``TONE_SLIP`` below their kinematic rates) has harmonics m R at a machine speed s / (R / f) that lie on
     the shaft's harmonics k f at speed s, for m = k: every line of that shaft (and every line locked to it, a
     mesh line included) is equally the bearing's, at a speed the search allows. The comb at s speaks for the
-    shaft only when the bearing's own comb, at s times R / f, stands beside it: at least two of its first
+    shaft only when the bearing's own comb, at s times R / f, stands beside it as a family (three lines, as three
+    harmonics without their 1X make one in ``hangs_together``): at least three of its first
     ``HARMONICS`` lines that lie a Hann main lobe and a line (``MERGED_LINES`` + 1 lines) or more from the
     shaft's, each ``MIN_HARMONIC_SNR`` over its floor (the record's resolution 1/T parts the two combs from
     the harmonic that many lines apart on), in this spectrum or in one of ``beside`` (the record's other
@@ -244,7 +245,7 @@ def _shared_with_rivals(spec: Spectrum, hits: list[tuple[float, int]], scale: fl
                 continue
             lines = [k * ratio * scale * f for k in range(1, HARMONICS + 1)
                      if k * abs(ratio - 1) * scale * f >= (MERGED_LINES + 1) * df]
-            if max(_stands(other, lines) for other in (spec, *beside)) >= 2:
+            if max(_stands(other, lines) for other in (spec, *beside)) >= 3:
                 continue
             claimed = [(hz, k) for hz, k in hits if abs(hz / f - round(hz / f)) * scale * f <= 0.5 * df]
             if claimed:
