@@ -54,3 +54,17 @@ def test_a_sound_machine_s_shaft_lines_that_the_bearing_s_comb_could_be_leave_th
     assert speed["source"] == "stated" and speed["shared_with"] == "BPFO of out_brg"
     assert "tachometer" in speed_text(speed) and "BPFO of out_brg" in speed_text(speed)
     assert not [h for h in d.reasoning.hypotheses if h.certainty >= CONFIDENT]
+
+
+@pytest.mark.parametrize("seed", [1, 3])
+def test_one_sensor_at_the_rake_bearing_and_a_stated_1x_on_its_bpfo_gives_no_tooth_call(seed):
+    # the motor turns at 295 rpm and the reading states 300: the stated 1X (5.0 Hz) lies on the bearing's BPFO
+    # at the true speed (4.995 Hz), and with one sensor, at that bearing, no motor family stands to measure the
+    # speed: the turns are cut at the stated speed, where the bearing's impacts repeat once per turn
+    sim = simulate(TH1, "outer-race", "out_brg", 3, 295.0, 12800.0, 20.0, seed, ["OH"])
+    d = diagnose(dataclasses.replace(as_reading(sim, "th1.wav"), speed_rpm=300.0), TH1, reasoner())
+    speed = next(f for f in d.evidence.facts if f["kind"] == "speed_check")
+    assert speed["source"] == "stated" and speed["shared_with"] == "BPFO of out_brg"
+    assert not [h for h in d.reasoning.hypotheses if h.fault in SPEED_FAULTS and h.certainty >= CONFIDENT]
+    tooth = next(h for h in d.reasoning.hypotheses if h.fault == "gear-tooth")
+    assert any(f.rule_id == "gear.tooth.turns-cut-on-a-bearing-comb" for f in tooth.against)
