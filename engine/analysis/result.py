@@ -532,6 +532,12 @@ def unlisted_defect_hz(rates: Rates) -> float:
     return UNLISTED_DEFECT_ORDER * max(rates.shafts_hz.values())
 
 
+def _defect_rates(rates: Rates) -> dict[str, float]:
+    """Every bearing's impact rates by name (``BPFO of out_brg``; the ball's as 2 x BSF), Hz."""
+    return {f"{'2 x BSF' if d == 'BSF' else d} of {b.bearing}": b.impact_rate_hz(d)
+            for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")}
+
+
 def _refined_speed(velocity: dict[str, Spectrum], reading: Reading, machine: Machine, shaft: str) -> SpeedEstimate:
     """The speed of ``shaft`` measured from every channel's shaft harmonics (the median over channels)."""
     shafts = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)
@@ -539,12 +545,15 @@ def _refined_speed(velocity: dict[str, Spectrum], reading: Reading, machine: Mac
     rates = rates_at(machine, shafts)
     locked = [(g.gmf_hz, round(g.gmf_hz / shafts[g.driving_shaft])) for g in rates.meshes]
     locked += [(r.pass_hz, round(r.pass_hz / shafts[r.shaft])) for r in rates.rotors]
-    estimates = [refine_speeds(v, shafts, shaft, SPEED_SEARCH_FRACTION, exclude_hz=lines, synchronous=locked)
+    rivals = _defect_rates(rates)
+    estimates = [refine_speeds(v, shafts, shaft, SPEED_SEARCH_FRACTION, exclude_hz=lines, synchronous=locked,
+                               rivals_hz=rivals, beside=[w for w in velocity.values() if w is not v])
                  for v in velocity.values()]
     found = [e for e in estimates if e.refined]
     nominal_hz = shafts[shaft]
     if not found:
-        return SpeedEstimate(nominal_hz, nominal_hz, (), False, "stated", 0)
+        shared = sorted({e.shared_with for e in estimates if e.shared_with})
+        return SpeedEstimate(nominal_hz, nominal_hz, (), False, "stated", 0, ", ".join(shared))
     best = max(found, key=lambda e: (e.lines_found, len(e.harmonics_found)))
     return SpeedEstimate(float(np.median([e.speed_hz for e in found])), nominal_hz, best.harmonics_found, True,
                          "1X harmonics", best.lines_found)

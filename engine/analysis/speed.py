@@ -28,9 +28,22 @@ percent or more of a slow shaft's speed, and a strong line of another shaft
 that is a line from a harmonic at a wrong speed would otherwise pull the
 speed there (a belt fan's 8X beside its motor's 5X at a resolution of 0.5 Hz).
 
+A listed bearing whose defect rate lies within the search of a shaft's 1X
+(a large bearing on a slow output shaft whose BPFO is 8.2 times its speed,
+behind a 12:97 stage: 1.016 times the motor's 1X) makes a comb of lines with
+that shaft's spacing: its harmonics are the shaft's harmonics at a speed the
+search allows just as well, so they are no evidence of the shaft's speed
+(``_shared_with_rivals``). They speak for the shaft only when the bearing's own
+comb stands beside them, resolved from them, where a bearing on a shaft at
+their speed would put it; else they are left out of the family, which must
+hang together without them.
+
 When no shaft line stands out, the sharpest bearing-tone family of the
 squared envelope spectrum can give the speed instead (``speed_from_tones``),
-less exactly: bearings slip 1-2 % against their kinematic rates.
+less exactly: bearings slip 1-2 % against their kinematic rates. A family
+whose every line is a harmonic of another listed rate (at a speed the search
+allows) is that rate's family when the lines between, which only the other
+rate makes, stand too: it says nothing of the speed.
 """
 
 from __future__ import annotations
@@ -63,6 +76,7 @@ class SpeedEstimate:
     refined: bool                      # the speed was measured from 1X harmonics
     source: str = "1X harmonics"       # 1X harmonics, bearing tones, or stated (nothing found)
     lines_found: int = 0               # harmonic lines of all shafts that agreed
+    shared_with: str = ""              # a bearing rate whose comb explains the shaft lines as well (not measured)
 
     @property
     def speed_rpm(self) -> float:
@@ -77,10 +91,15 @@ def _comb(spec: Spectrum, targets: list[tuple[float, int]], search_fraction: flo
     amp = spec.amplitude
     df = spec.resolution_hz
     excluded = np.asarray(exclude_hz, dtype=float)
+    # a velocity spectrum holds nothing below its low cut (2 Hz): a search that reaches those lines would
+    # score the first line above the cut against a floor of zeros, as if it stood infinitely clear
+    first_hz = float(np.argmax(amp > 0)) * df
     kept, held = [], []
     for hz, k in targets:
         if hz * centre * (1 + search_fraction) >= spec.fmax_hz or hz * search_fraction < df:
             continue            # above Fmax, or so few lines up that its line cannot refine the speed
+        if hz * centre * (1 - search_fraction) - 1.5 * df < first_hz:
+            continue            # its search reaches below the lowest line the spectrum holds
         if excluded.size and k > 1 and np.any(np.abs(hz - excluded) <= hz * search_fraction + 2 * df):
             held.append((hz, k))
             continue
@@ -188,14 +207,64 @@ def _distinguishable(targets: list[tuple[float, int]], search_fraction: float, d
     return sorted(kept)
 
 
+def _stands(spec: Spectrum, freqs_hz: list[float]) -> int:
+    """How many of ``freqs_hz`` have a line within one line of them ``MIN_HARMONIC_SNR`` over its floor."""
+    freqs = [hz for hz in freqs_hz if 0 < hz < spec.fmax_hz]
+    if not freqs:
+        return 0
+    df = spec.resolution_hz
+    found = peaks_near(spec, freqs, 1.5 * df)
+    stand = found.found & (found.amplitude >= MIN_HARMONIC_SNR * spec.floor_at(found.line))
+    return int(np.sum(stand & (np.abs(found.freq_hz - np.asarray(freqs)) <= df)))
+
+
+def _shared_with_rivals(spec: Spectrum, hits: list[tuple[float, int]], scale: float, shafts_hz: list[float],
+                        rivals_hz: Mapping[str, float], search_fraction: float,
+                        beside=()) -> tuple[list[tuple[float, int]], str]:
+    """The lines of ``hits`` a listed bearing's comb explains as well as its shaft's, and that bearing rate's name.
+
+    A rate R within the search of a shaft's 1X f (R / f within the search, and bearings slip up to
+    ``TONE_SLIP`` below their kinematic rates) has harmonics m R at a machine speed s / (R / f) that lie on
+    the shaft's harmonics k f at speed s, for m = k: every line of that shaft (and every line locked to it, a
+    mesh line included) is equally the bearing's, at a speed the search allows. The comb at s speaks for the
+    shaft only when the bearing's own comb, at s times R / f, stands beside it as a family (three lines, as three
+    harmonics without their 1X make one in ``hangs_together``): at least three of its first
+    ``HARMONICS`` lines that lie a Hann main lobe and a line (``MERGED_LINES`` + 1 lines) or more from the
+    shaft's, each ``MIN_HARMONIC_SNR`` over its floor (the record's resolution 1/T parts the two combs from
+    the harmonic that many lines apart on), in this spectrum or in one of ``beside`` (the record's other
+    channels: the bearing's lines stand clearest at its own point, the shaft's at the shaft's). Then the
+    bearing's lines are where a bearing on a shaft at s puts them, and the comb at s is the shaft's; else the
+    lines are claimed.
+    """
+    df = spec.resolution_hz
+    for name, rate in sorted(rivals_hz.items()):
+        for f in shafts_hz:
+            ratio = rate / f
+            machine = scale / ratio   # the machine speed (over the stated) that puts the bearing comb here
+            if not (1 - search_fraction - TONE_SLIP <= machine <= 1 + search_fraction):
+                continue
+            lines = [k * ratio * scale * f for k in range(1, HARMONICS + 1)
+                     if k * abs(ratio - 1) * scale * f >= (MERGED_LINES + 1) * df]
+            if max(_stands(other, lines) for other in (spec, *beside)) >= 3:
+                continue
+            claimed = [(hz, k) for hz, k in hits if abs(hz / f - round(hz / f)) * scale * f <= 0.5 * df]
+            if claimed:
+                return claimed, name
+    return [], ""
+
+
 def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str,
-                  search_fraction: float = 0.05, exclude_hz=(), synchronous=()) -> SpeedEstimate:
+                  search_fraction: float = 0.05, exclude_hz=(), synchronous=(),
+                  rivals_hz: Mapping[str, float] | None = None, beside=()) -> SpeedEstimate:
     """The speed of ``reference`` that best explains every shaft's harmonics in ``spec``.
 
     ``shafts_hz`` holds every shaft's nominal (or stated) speed; shafts turning
     at the same speed count once. ``synchronous`` adds lines locked to a
     shaft, as (Hz at the same speeds, order): a gear mesh (teeth x 1X) or a
     vane pass, whose high order resolves the speed finely when it stands out.
+    ``rivals_hz`` names the bearings' defect rates at the same speeds: lines
+    one of them explains as well as a shaft (``_shared_with_rivals``) leave
+    the family, and the speed is not measured unless the rest hangs together.
 
     Parameters
     ----------
@@ -211,16 +280,22 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
         Lines to keep out (line frequency harmonics), Hz.
     synchronous : sequence of tuple
         (Hz at the nominal speeds, order) of shaft-locked lines.
+    rivals_hz : Mapping, optional
+        Name (``BPFO of out_brg``) -> a bearing's defect rate at the nominal speeds, Hz.
+    beside : sequence of Spectrum
+        The record's other channels, where a rival's own comb may stand clearer.
 
     Returns
     -------
     SpeedEstimate
-        Speed and nominal speed in Hz, the orders found, whether refined.
+        Speed and nominal speed in Hz, the orders found, whether refined, and
+        the rate whose comb explained the lines as well when that left no family.
 
     References
     ----------
     Rife & Boorstyn (1974), "Single-tone parameter estimation from discrete-time
-    observations", IEEE Trans. Inf. Theory 20(5) (weights by SNR).
+    observations", IEEE Trans. Inf. Theory 20(5) (weights by SNR); Harris
+    (1978), Proc. IEEE 66(1) (the Hann window's main lobe, 4 lines wide).
 
     Examples
     --------
@@ -248,8 +323,13 @@ def refine_speeds(spec: Spectrum, shafts_hz: Mapping[str, float], reference: str
         fine_scale, fine_hits, _ = _comb(spec, low + high, fine, exclude_hz, centre=scale)
         if fine_hits:
             scale, hits = fine_scale, fine_hits
-    if not hangs_together(spec, hits, scale, [hz for hz, _ in synchronous]):
+    carriers = [hz for hz, _ in synchronous]
+    if not hangs_together(spec, hits, scale, carriers):
         return SpeedEstimate(nominal, nominal, (), False, "stated", 0)
+    claimed, rival = _shared_with_rivals(spec, hits, scale, distinct, rivals_hz or {}, search_fraction, beside)
+    hits = [hit for hit in hits if hit not in claimed]
+    if claimed and not hangs_together(spec, hits, scale, carriers):
+        return SpeedEstimate(nominal, nominal, (), False, "stated", 0, rival)
     own = tuple(sorted({k for hz, k in hits if abs(hz / k - nominal) <= 1e-9 * nominal}))
     return SpeedEstimate(scale * nominal, nominal, own, True, "1X harmonics", len(hits))
 
@@ -361,13 +441,36 @@ def refine_running_speed(spec: Spectrum, nominal_hz: float, search_fraction: flo
     return refine_speeds(spec, {"shaft": nominal_hz}, "shaft", search_fraction, exclude_hz)
 
 
+def _harmonics_of_another(ses: Spectrum, found_hz: float, rates_hz: list[float], search_fraction: float) -> bool:
+    """Whether a family of lines spaced ``found_hz`` is another listed rate's family: its j-th harmonics, j of
+    2 or more, at a machine speed the search allows (``TONE_SLIP`` below it for the bearing's slip), with at
+    least two of that rate's own lines between them (harmonics 1 to 2j that are not multiples of j) standing
+    ``MIN_HARMONIC_SNR`` over their floor within a line. A bearing's comb holds every j-th line of its own:
+    the family found is then that comb seen at every j-th line, and its spacing says nothing of the speed.
+    """
+    for rate in rates_hz:
+        j = round(found_hz / rate)
+        if j < 2:
+            continue
+        machine = found_hz / (j * rate)
+        if not (1 - search_fraction - TONE_SLIP <= machine <= 1 + search_fraction):
+            continue
+        between = [m * found_hz / j for m in range(1, 2 * j + 1) if m % j]
+        if _stands(ses, between) >= 2:
+            return True
+    return False
+
+
 def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
                      search_fraction: float = 0.05) -> SpeedEstimate | None:
     """The reference shaft's speed from the bearing-tone family that stands out most in a squared
     envelope spectrum (``rates_hz``: each family's rate at the nominal speed); None if none does, or if
     two families stand at speeds further apart than bearings slip (``TONE_SLIP``): the lines are then
     one bearing's family, which another bearing's family at a wrong speed would take for its own, and
-    they do not say which speed is right.
+    they do not say which speed is right. A family whose lines are every j-th line of another listed
+    rate's comb, with that comb's lines between standing too (``_harmonics_of_another``), is that rate's
+    family and is passed over: a slow bearing's BPFO comb holds a faster bearing's rate at every fourth
+    line, at a speed 4 % off.
 
     Parameters
     ----------
@@ -406,7 +509,9 @@ def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
         targets = [(k * rate, k) for k in range(1, HARMONICS + 1)]
         scale, hits, weights = _comb(ses, targets, search_fraction, ())
         if len(hits) >= TONE_HARMONICS and any(k == 1 for _, k in hits):
-            scales.append(scale)
+            scales.append(scale)        # lines stand at this speed, whoever's family they are
+            if _harmonics_of_another(ses, rate * scale, rates_hz, search_fraction):
+                continue
             strength = float(np.sum(weights))
             if best is None or strength > best[0]:
                 best = (strength, scale, len(hits))

@@ -124,6 +124,7 @@ def speed_check(rc: Analysis) -> list[dict]:
         "kind": "speed_check", "shaft": rc.speed_shaft, "stated_rpm": stated, "nominal_rpm": rc.nominal_rpm,
         "stated_driver_rpm": rc.stated_rpm or 0.0, "driver": rc.machine.driver_shaft,
         "measured_rpm": measured, "source": est.source, "harmonics": est.lines_found,
+        "shared_with": est.shared_with,
         "deviation_pct": deviation, "abs_deviation_pct": abs(deviation),
         **{name: value for name, value in check.items() if name != "far_family_hz"},
         "far_over_near_db": check["far_one_x_db"] - check["near_one_x_db"],

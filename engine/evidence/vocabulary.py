@@ -258,6 +258,8 @@ FACTS: dict[str, dict[str, F]] = {
         "measured_rpm": F("number", "speed used by the analysis", "rpm"),
         "source": F("string", "where the speed used came from: 1X harmonics, bearing tones or stated", ""),
         "harmonics": F("integer", "shaft harmonic (or tone) lines that agreed on the speed", ""),
+        "shared_with": F("string", "bearing rates whose comb explained the shaft's lines as well as its 1X did, "
+                         "so they did not measure the speed ('' when none)", ""),
         "deviation_pct": F("number", "speed used against the stated (else nominal) speed, %", "%"),
         "abs_deviation_pct": F("number", "size of that deviation, %", "%"),
         "one_x_found": F("boolean", "a line stands at 1X in the loudest channel on this shaft (at its speed), "

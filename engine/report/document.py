@@ -332,6 +332,12 @@ def speed_text(speed: dict, tracked: list[str] | tuple[str, ...] = ()) -> str:
     if speed["source"] == "bearing tones":
         return (f"Speed {used}, measured from {speed['harmonics']} lines of one bearing-tone family{gap} "
                 "(no shaft line stood clear); bearings slip 1-2 %, so forcing frequencies are matched within 2 %.")
+    if speed.get("shared_with"):
+        return (f"Speed {used} as {'stated' if stated else 'in the machine file'}: the lines at the orders of "
+                f"{speed['shaft']} could equally be the harmonics of {speed['shared_with']} (within the 5 % the "
+                "speed is searched over), whose own lines did not stand beside them, so they do not measure the "
+                "speed; forcing frequencies are matched within 2 %. A tachometer or strobe reading of the speed "
+                "settles it.")
     return (f"Speed {used} as {'stated' if stated else 'in the machine file'}: no shaft line or bearing tone "
             "stood clear enough to measure it, so forcing frequencies are matched within 2 %.")
 

@@ -39,7 +39,8 @@ MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "m
             "cwru": TEST_MACHINES / "cwru-motor.yaml",
             "cwru-de-unlisted": TEST_MACHINES / "cwru-motor-de-unlisted.yaml",
             "rig-unlisted": TEST_MACHINES / "mfpt-rig-unlisted.yaml",
-            "cw3": TEST_MACHINES / "cw3-three-alike-bearings.yaml"}
+            "cw3": TEST_MACHINES / "cw3-three-alike-bearings.yaml",
+            "th1": TEST_MACHINES / "th1-slow-rake-12-97.yaml"}
 
 @functools.cache
 def _machine(key: str):
@@ -311,6 +312,12 @@ SIMULATED = [
     ("two gears on one shaft, the second stage's tooth damaged", "gc1",
      lambda: as_reading(simulate(_machine("gc1"), "gear-tooth", "second_stage", 2, None, 25600.0, 4.0, 0)),
      "gear.tooth.other-mesh-on-shaft"),
+    # TH-1's rake bearing's BPFO lies 1.6 % above the motor's 1X; one sensor, at that bearing; the motor turns
+    # at 295 rpm and the reading states 300: the stated 1X lies on the BPFO, and the speed cannot be measured
+    ("outer race on a rake bearing whose BPFO the stated 1X lies on", "th1",
+     lambda: dataclasses.replace(as_reading(simulate(_machine("th1"), "outer-race", "out_brg", 3, 295.0, 12800.0,
+                                                     20.0, 1, ["OH"])), speed_rpm=300.0),
+     "gear.tooth.turns-cut-on-a-bearing-comb"),
 ]
 
 # a reading diagnosed beside its history (``diagnose``'s more_facts, as ``diagnose --store`` passes the trend

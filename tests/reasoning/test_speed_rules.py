@@ -27,7 +27,7 @@ def speed_check(**fields) -> dict:
             "two_x_snr_db": 30.0, "odd_to_two_x": 3.0, "near_family_lines": 3, "far_family_lines": 0,
             "near_family_chance_pct": 0.01, "far_family_chance_pct": 100.0, "near_one_x_db": 30.0, "far_one_x_db": 0.0,
             "far_over_near_db": -30.0, "family_rpm": 0.0, "family_deviation_pct": 0.0, "abs_family_deviation_pct": 0.0,
-            "allowed_low_rpm": 1350.0, "allowed_high_rpm": 1500.0,
+            "allowed_low_rpm": 1350.0, "allowed_high_rpm": 1500.0, "shared_with": "",
             "allowed_by": "line-fed motor M1: 4 poles at 50 Hz, synchronous 1500 rpm, slip at most 10 %"}
     assert set(fact) == set(fields_of("speed_check"))      # the fact is the whole vocabulary kind
     return fact | fields
