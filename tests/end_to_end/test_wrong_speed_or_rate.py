@@ -24,7 +24,7 @@ from engine.cli import main
 from engine.common.errors import EXIT_WITHHELD
 from engine.reasoning import CONFIDENT
 
-from support import TEST_DATA, TEST_MACHINES
+from support import ROOT, TEST_DATA, TEST_MACHINES
 
 RECORDS = {
     # excerpt: (machine file, the label's fault and bearing)
@@ -169,3 +169,61 @@ def test_a_reading_that_states_no_speed_is_not_said_to_state_0_rpm():
     assert said and all(b.startswith("The reading states no speed, so the shaft shaft was looked for at the "
                                      "machine file's 1500 rpm") for b in said)
     assert not any("states 0" in b for b in said)
+
+
+def _withheld_for_impacts_at_a_multiple(reading, machine) -> str:
+    """The reasons ``reading`` is withheld for, as one text; fails unless it is withheld by the impacts rule."""
+    from engine.pipeline import diagnose
+
+    from support import reasoner
+
+    reasoning = diagnose(reading, machine, reasoner()).reasoning
+    assert reasoning.withheld, [(h.fault, h.component, h.certainty) for h in reasoning.hypotheses[:3]]
+    firings = [f for h in reasoning.reading_problems if h.fault == "rate-contradicted" for f in h.support]
+    assert "reading.rate.impacts-at-multiple" in {f.rule_id for f in firings}
+    return " ".join(f.because for f in firings)
+
+
+@pytest.mark.parametrize("fault", ["outer-race", "inner-race"])
+def test_impacts_at_twice_a_defect_rate_with_no_speed_stated_withhold(fault):
+    # analyst-33 reproduction 4 in the simulator: the CWRU rig (tests/machines/cwru-motor.yaml) with a stage-3
+    # race defect on its drive-end bearing, stated at twice its sample rate and with no speed. Every frequency
+    # reads twice too high, so the impacts repeat at 2 x BPFO or 2 x BPFI of the file's speed, a rate no part
+    # gives; the shaft's own lines are too weak for the half/twice rules. It read as a sound machine.
+    import dataclasses
+
+    from engine.machine import load_machine
+    from engine.readings.quality import check_channel
+    from engine.simulation import as_reading, simulate
+
+    rig = load_machine(TEST_MACHINES / "cwru-motor.yaml")
+    reading = as_reading(simulate(rig, fault, "drive_end", 3, None, 25600.0, 4.0, 1))
+    fs = 2 * reading.fs_hz
+    reading = dataclasses.replace(reading, fs_hz=fs, speed_rpm=None,
+                                  quality=tuple(q for ch in reading.channels for q in check_channel(ch, fs)))
+    said = _withheld_for_impacts_at_a_multiple(reading, rig)
+    assert "2 times" in said and ("BPFO" if fault == "outer-race" else "BPFI") in said
+    assert "sample rate" in said and "tachometer" in said
+
+
+SHARED = ROOT.parent / "shared" / "datasets"
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not (SHARED / "index.csv").exists(),
+                    reason="../shared/datasets is not beside this checkout")
+def test_cwru_130_stated_at_twice_its_rate_with_no_speed_is_withheld():
+    # analyst-33 reproduction 4 on the real record: CWRU 130 (outer race 0.007 in on the drive end, 12 kHz,
+    # ../shared/datasets/index.csv; CWRU Bearing Data Center), the whole record, stated at 24 kHz with no speed.
+    # Its drive-end impacts (kurtosis 7.6) were read at every other one, 107.8 Hz, matched to BPFO by chance,
+    # and the report said no fault, zone A, no action
+    import dataclasses
+
+    from bench import real_data
+    from engine.machine import load_machine
+
+    row = next(r for r in real_data.records(SHARED) if r["path"].endswith("/130.mat"))
+    reading = real_data.injected(real_data.reading_of(SHARED / row["path"], row), "rate", 2.0)
+    reading = dataclasses.replace(reading, speed_rpm=None)
+    said = _withheld_for_impacts_at_a_multiple(reading, load_machine(TEST_MACHINES / "cwru-motor.yaml"))
+    assert "2 times BPFO of drive_end" in said
