@@ -197,7 +197,7 @@ SIMULATED = [
      "reading.speed.half-x-taller-than-1x"),
     ("speed stated half", "bw1", _stated_speed("bw1", "unbalance", 2, 2, 0.5), "reading.speed.lone-2x"),
     ("sample rate stated half, outer race on the CWRU rig", "cwru", _stated_rate("cwru", "outer-race", 3, 1, 0.5),
-     "bearing.defect.impacts-slower-than-family"),
+     "bearing.defect.impacts-slower-than-family reading.rate.impacts-at-fraction"),
     ("sample rate stated twice, outer race on the CWRU rig", "cwru", _stated_rate("cwru", "outer-race", 3, 1, 2.0),
      "reading.rate.impacts-at-multiple"),
     ("sample rate stated half", "rw2", _stated_rate("rw2", "looseness-rotating", 3, 3, 0.5),
