@@ -235,6 +235,37 @@ def test_a_cwru_record_stated_off_by_a_factor_with_no_speed_is_withheld(record, 
     assert said in text and "sample rate" in text and "tachometer" in text
 
 
+@pytest.mark.slow
+@pytest.mark.skipif(not (SHARED / "index.csv").exists(),
+                    reason="../shared/datasets is not beside this checkout")
+def test_no_real_record_stated_at_twice_its_rate_with_no_speed_gets_a_confident_wrong_call():
+    # every bearing record of ../shared/datasets (labels: its index.csv; CWRU Bearing Data Center, MFPT Society,
+    # HIT-SM) stated at twice its sample rate with no speed: 10 CWRU fault records were called a wrong fault at 50 %
+    # or more (rolling element for inner and outer races, up to 85 %), since a 4-pole 60 Hz motor's true 1X then
+    # reads at 59.9 Hz, on the line frequency no speed rule counts, and nothing near the file's 1X was asked for.
+    # Known, not yet fixed: CWRU 211 (inner race) so stated shows two harmonics without a 1X that put the speed at
+    # 1818 rpm, just over the 4-pole motor's 1800 and within the 5 % the drive rules allow, so the file's speed
+    # counts as measured and the ball family it then shows is called at 82 %
+    known = {"cwru/12k_drive_end/211.mat"}
+    import dataclasses
+
+    from bench import real_data
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+
+    from support import reasoner
+
+    machines = {k: load_machine(p) for k, p in real_data.MACHINES.items()}
+    wrong = []
+    for row in real_data.records(SHARED):
+        reading = real_data.injected(real_data.reading_of(SHARED / row["path"], row), "rate", 2.0)
+        result = diagnose(dataclasses.replace(reading, speed_rpm=None), machines[row["dataset"]], reasoner()).reasoning
+        name, certainty, right = real_data.score(result, row)
+        if not result.withheld and certainty >= CONFIDENT and not right:
+            wrong.append((row["path"], name, round(certainty, 2)))
+    assert {path for path, _, _ in wrong} <= known, wrong
+
+
 @pytest.mark.parametrize("factor", [1.12, 1.08, 0.92])
 def test_a_blower_running_off_its_file_speed_with_no_speed_stated_is_withheld(factor):
     # analyst-33 reproduction 4: BW-1 (the demo plant's 2-pole, 50 Hz blower motor, file speed 2955 rpm) with a
