@@ -36,6 +36,9 @@ not here; they stay back to check the method later.
    pooled medians counting; printed beside the exponential answer and the naive baselines (``pool_table``).
    --no-pool leaves it out (several CPU minutes).
 
+``bench.femto_ceiling`` asks, on the same cuts and cached histories, what any linear model of the stored
+indicators could score: the bound a method here is measured against.
+
 --write-prior learns the prior (and the pool's, section ``pool:``) from all six runs and writes
 rulebooks/trend/prior.yaml with its provenance. The data folder is only
 read: sidecars and links live under --out.

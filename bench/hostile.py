@@ -34,10 +34,11 @@ MACHINES = sorted((ROOT / "cases/machines").glob("*.yaml")) + [ROOT / "tests/mac
 SITE = ROOT / "cases/site/tallow-ridge.yaml"
 FS = 8192.0
 N = 8192
-READING_KINDS = ("wav16", "wav8", "wavf", "csv", "csv_time", "npy", "npy2", "npz", "mat", "uff")
+READING_KINDS = ("wav16", "wav8", "wavf", "csv", "csv_time", "csv_gz", "npy", "npy2", "npz", "mat", "uff")
 YAML_KINDS = ("machine", "sidecar", "site")
 SEED_KINDS = READING_KINDS + YAML_KINDS
-SUFFIX = {"wav16": ".wav", "wav8": ".wav", "wavf": ".wav", "csv": ".csv", "csv_time": ".csv", "npy": ".npy",
+SUFFIX = {"wav16": ".wav", "wav8": ".wav", "wavf": ".wav", "csv": ".csv", "csv_time": ".csv", "csv_gz": ".csv.gz",
+          "npy": ".npy",
           "npy2": ".npy", "npz": ".npz", "mat": ".mat", "uff": ".uff"}
 
 TOKENS = [
@@ -94,6 +95,15 @@ def _sidecar(path: Path, fields: dict) -> None:
     path.with_name(path.name + ".yaml").write_text(yaml.safe_dump(fields, sort_keys=False))
 
 
+def _text(path: Path, text: str, gzipped: bool) -> None:
+    """Write ``text`` to ``path``, gzip-compressed when asked (a ``.csv.gz`` reading)."""
+    if gzipped:
+        import gzip
+        path.write_bytes(gzip.compress(text.encode("utf-8"), mtime=0))
+    else:
+        path.write_text(text)
+
+
 def write_reading(kind: str, path: Path, x: np.ndarray, fs: float = FS, unit: str = "g",
                   sidecar: bool = True) -> Path:
     """Save samples ``x`` (one or two dimensions) as a reading of ``kind``; returns the path."""
@@ -103,7 +113,7 @@ def write_reading(kind: str, path: Path, x: np.ndarray, fs: float = FS, unit: st
         if sidecar:
             peak = float(np.max(np.abs(x))) if x.size and np.isfinite(x).all() else 1.0
             _sidecar(path, {"unit": unit, "scale": (peak / 0.9) if kind != "wavf" and peak else 1.0})
-    elif kind in ("csv", "csv_time"):
+    elif kind in ("csv", "csv_time", "csv_gz"):
         cols = x.reshape(len(x), -1)
         names = [f"P{i + 1}H" for i in range(cols.shape[1])]
         if kind == "csv_time":
@@ -111,7 +121,8 @@ def write_reading(kind: str, path: Path, x: np.ndarray, fs: float = FS, unit: st
             path.write_text(f"# unit: {unit}\ntime_s," + ",".join(names) + "\n" + body + "\n")
         else:
             body = "\n".join(",".join(repr(float(v)) for v in row) for row in cols)
-            path.write_text(f"# sample_rate_hz: {fs}\n# unit: {unit}\n" + ",".join(names) + "\n" + body + "\n")
+            _text(path, f"# sample_rate_hz: {fs}\n# unit: {unit}\n" + ",".join(names) + "\n" + body + "\n",
+                  kind == "csv_gz")
     elif kind in ("npy", "npy2"):
         np.save(path, x)
         if sidecar:
@@ -301,10 +312,10 @@ def _write_array(kind: str, path: Path, arr: np.ndarray, fs: float) -> Path:
                 arr.real.astype(np.float32) if arr.size else arr.astype(np.float32)
             wavfile.write(path, int(fs), data if data.ndim in (1, 2) else data.reshape(len(data), -1))
             _sidecar(path, {"unit": "g", "scale": 1.0})
-        elif kind in ("csv", "csv_time"):
+        elif kind in ("csv", "csv_time", "csv_gz"):
             cols = arr.reshape(arr.shape[0], -1) if arr.ndim >= 1 else arr.reshape(1, 1)
             body = "\n".join(",".join(str(v) for v in row) for row in cols)
-            path.write_text(f"# sample_rate_hz: {fs}\n# unit: g\n" + body + "\n")
+            _text(path, f"# sample_rate_hz: {fs}\n# unit: g\n" + body + "\n", kind == "csv_gz")
         else:
             write_reading(kind, path, arr.astype(float) if not np.iscomplexobj(arr) else arr.real, fs)
     return path

@@ -37,8 +37,21 @@ the goal is no confident wrong call at any injection: the diagnosis is withheld,
 or names the labelled fault, or stays below 50 %. The table counts per
 injection the records run, withheld, still right and confidently wrong.
 
+The same ``--inject`` runs truthful acquisition variations: the record as another instrument
+would have made it, with the reading stating what was done. ``decimate=N`` low-pass filters and
+resamples every channel to 1/N of its rate (``scipy.signal.decimate``, the reference
+implementation: an order-8 Chebyshev type I filter run forward and back) and states the rate
+divided by N; ``length=S`` keeps the first S seconds (a record no longer than S is not run);
+``unit=m/s^2`` (any acceleration unit the reading layer accepts) gives the samples in that unit
+and states it. Each variation is written as an NPZ file with a sidecar in a temporary folder and
+loaded back through ``load_reading``, as a user's file would be. A variation loses information
+but states no lie: the goal is a call that stays right, or one withheld ("measure again like
+this"), and never a confident wrong one; a reading the reading layer or the record-length check
+refuses counts as withheld (``refused`` in the table).
+
     python -m bench.real_data [--datasets PATH] [--only 130,IR2_600] [--scale S | --scales 1,0.001,1000]
-                              [--inject speed=0.8,1.2 --inject rate=1.1,2]
+                              [--inject speed=0.8,1.2 --inject rate=1.1,2 --inject decimate=2,4
+                               --inject length=1,2 --inject unit=m/s^2]
 """
 
 from __future__ import annotations
@@ -47,10 +60,17 @@ import argparse
 import csv
 import dataclasses
 import sys
+import tempfile
 import time
 from collections import defaultdict
 from pathlib import Path
 
+import numpy as np
+import yaml
+from scipy.signal import decimate
+
+from engine.common import units
+from engine.common.errors import TellwaveError, UsageError
 from engine.machine import load_machine
 from engine.pipeline import diagnose, document_of
 from engine.readings import load_reading
@@ -166,6 +186,55 @@ def injected(reading, what: str, factor: float):
     return dataclasses.replace(reading, fs_hz=fs, quality=quality)
 
 
+# the stated lies (samples untouched) and the truthful acquisition variations (``acquired``)
+LIES = ("speed", "rate")
+VARIATIONS = ("decimate", "length", "unit")
+NPZ_UNIT = "g"      # the unit a decimated or shortened record is written in: the records' own
+
+
+def decimated(x: np.ndarray, factor: int) -> np.ndarray:
+    """``x`` low-pass filtered and kept at every ``factor``-th sample by ``scipy.signal.decimate``
+    (its default: an order-8 Chebyshev type I filter, 0.05 dB ripple, cut at 0.8 of the new Nyquist
+    frequency, run forward and back so the phase is kept)."""
+    return np.ascontiguousarray(decimate(x, factor, zero_phase=True))
+
+
+def acquired(reading, what: str, value, folder: Path):
+    """``reading`` as another acquisition would have recorded it, stated truthfully, written to
+    ``folder`` as an NPZ file with a sidecar and loaded back through ``load_reading``.
+
+    ``decimate``: every channel through ``decimated`` and the sample rate stated divided by
+    ``value``; ``length``: the first ``value`` seconds; ``unit``: the samples given in the
+    acceleration unit ``value`` and that unit stated. Channel names, points, directions and the
+    speed are stated as before. Returns None for ``length`` when the record is no longer than
+    ``value`` (nothing would change)."""
+    fs = reading.fs_hz
+    arrays = {c.name: c.samples for c in reading.channels}      # SI: m/s^2
+    unit_name = NPZ_UNIT
+    if what == "decimate":
+        arrays = {k: decimated(x, int(value)) for k, x in arrays.items()}
+        fs = fs / int(value)
+    elif what == "length":
+        n = int(round(float(value) * fs))
+        if n >= reading.n_samples:
+            return None
+        arrays = {k: x[:n] for k, x in arrays.items()}
+    elif what == "unit":
+        unit_name = str(value)
+    else:
+        raise ValueError(f"not an acquisition variation: {what!r}")
+    to_si = units.unit(unit_name).to_si
+    stem = Path(reading.source).stem
+    path = folder / f"{stem}-{what}.npz"
+    np.savez(path, **{k: x / to_si for k, x in arrays.items()})
+    side = {"sample_rate_hz": float(fs), "unit": unit_name,
+            "channels": [{"name": c.name, "point": c.point, "direction": c.direction} for c in reading.channels]}
+    if reading.speed_rpm:
+        side["speed_rpm"] = float(reading.speed_rpm)
+    Path(f"{path}.yaml").write_text(yaml.safe_dump(side, sort_keys=False), encoding="utf-8")
+    return load_reading(path)
+
+
 def severity_unknown_of(document: dict) -> bool:
     """Whether the report says severity is unknown until the scale is checked (``verdict.severity_known``,
     engine/common/schemas/report.schema.json)."""
@@ -210,34 +279,54 @@ def records(datasets=DATASETS) -> list[dict]:
 
 
 def run(datasets=DATASETS, only=None, reasoner=None, progress=print, scale: float = 1.0,
-        severity: bool = False, inject: tuple[str, float] | None = None) -> list[Row]:
+        severity: bool = False, inject: tuple[str, float | str] | None = None) -> list[Row]:
     """A Row per record; ``scale`` multiplies the samples (see ``scaled``); ``severity`` reads
     whether each report says the severity is unknown (it builds the report document); ``inject``
-    (``("speed", 1.2)`` or ``("rate", 2.0)``) states a wrong speed or sample rate (see ``injected``)."""
+    (``("speed", 1.2)`` or ``("rate", 2.0)``) states a wrong speed or sample rate (see ``injected``),
+    or (``("decimate", 4)``, ``("length", 2.0)``, ``("unit", "m/s^2")``) makes the record as another
+    acquisition would, stated truthfully (see ``acquired``); a record that variation leaves as it is
+    is not run, and one the reading layer refuses is a withheld Row whose top says why."""
     reasoner = reasoner or Reasoner(load_rulebook())
     machines = {k: load_machine(p) for k, p in MACHINES.items()}
     rows = []
-    for row in records(datasets):
-        if only and not any(Path(row["path"]).stem == o for o in only):
-            continue
-        t0 = time.perf_counter()
-        reading = reading_of(datasets / row["path"], row)
-        if scale != 1.0:
-            reading = scaled(reading, scale)
-        if inject is not None:
-            reading = injected(reading, *inject)
-        d = diagnose(reading, machines[row["dataset"]], reasoner)
-        result = d.reasoning
-        top, cf, right = score(result, row)
-        label = f"{row['fault']} {row['fault_bearing']} {row['fault_size_in']}".strip()
-        unknown = severity_unknown_of(document_of(d, made_at="2026-01-01T00:00Z")) if severity else None
-        out = Row(row["path"], row["dataset"], label, "/".join(categories(row["smith_randall_category_M1_M2_M3"])),
-                  group_of(row), "withheld" if result.withheld else top, cf, right, result.withheld,
-                  time.perf_counter() - t0, others_called(result, row), unknown)
-        rows.append(out)
-        progress(f"{'ok  ' if out.acceptable else 'MISS'} {out.path:<48} {out.label:<26} {out.category or '-':<8} "
-                 f"{out.group:<7} -> {out.top} ({out.certainty:.2f})")
+    with tempfile.TemporaryDirectory(prefix="tellwave-real-data-") as tmp:
+        for row in records(datasets):
+            if only and not any(Path(row["path"]).stem == o for o in only):
+                continue
+            out = _run_one(datasets, row, machines[row["dataset"]], reasoner, scale, severity, inject, Path(tmp))
+            if out is None:
+                continue
+            rows.append(out)
+            progress(f"{'ok  ' if out.acceptable else 'MISS'} {out.path:<48} {out.label:<26} {out.category or '-':<8} "
+                     f"{out.group:<7} -> {out.top} ({out.certainty:.2f})")
     return rows
+
+
+def _run_one(datasets: Path, row: dict, machine, reasoner, scale: float, severity: bool,
+             inject: tuple[str, float | str] | None, tmp: Path) -> Row | None:
+    t0 = time.perf_counter()
+    label = f"{row['fault']} {row['fault_bearing']} {row['fault_size_in']}".strip()
+    category = "/".join(categories(row["smith_randall_category_M1_M2_M3"]))
+    reading = reading_of(datasets / row["path"], row)
+    if scale != 1.0:
+        reading = scaled(reading, scale)
+    try:
+        if inject is not None and inject[0] in LIES:
+            reading = injected(reading, inject[0], float(inject[1]))
+        elif inject is not None:
+            reading = acquired(reading, inject[0], inject[1], tmp)
+            if reading is None:
+                return None
+        d = diagnose(reading, machine, reasoner)
+    except TellwaveError as exc:     # refused at the edge (too short, too slowly sampled): said, not called
+        return Row(row["path"], row["dataset"], label, category, group_of(row), f"refused: {exc.problem}", 0.0,
+                   False, True, time.perf_counter() - t0)
+    result = d.reasoning
+    top, cf, right = score(result, row)
+    unknown = severity_unknown_of(document_of(d, made_at="2026-01-01T00:00Z")) if severity else None
+    return Row(row["path"], row["dataset"], label, category,
+               group_of(row), "withheld" if result.withheld else top, cf, right, result.withheld,
+               time.perf_counter() - t0, others_called(result, row), unknown)
 
 
 def field_records(datasets=DATASETS, reasoner=None, progress=print, scale: float = 1.0) -> None:
@@ -327,43 +416,88 @@ def scale_table(by_scale: dict[float, list[Row]]) -> list[str]:
     return lines
 
 
-def inject_table(by_injection: dict[tuple[str, float], list[Row]]) -> list[str]:
-    """Per injection: records, withheld, right at 50 % or more, confident wrong calls (named), and the goal."""
-    lines = [f"{'injection':<12} {'records':>7} {'withheld':>8} {'right':>5} {'low':>4} {'wrong':>5}  wrong calls"]
+def injection_name(what: str, value: float | str) -> str:
+    """How the table names an injection: ``speedx1.2``, ``ratex0.5``, ``decimate/4``, ``length 2s``,
+    ``unit m/s^2``."""
+    if what in LIES:
+        return f"{what}x{float(value):g}"
+    if what == "decimate":
+        return f"decimate/{int(value)}"
+    if what == "length":
+        return f"length {float(value):g}s"
+    return f"unit {value}"
+
+
+def inject_table(by_injection: dict[tuple[str, float | str], list[Row]]) -> list[str]:
+    """Per injection: records, withheld, right at 50 % or more, low (below 50 %), confident wrong
+    calls, how many of the withheld the reading layer refused, the wrong calls named, and the goal."""
+    lines = [f"{'injection':<14} {'records':>7} {'withheld':>8} {'right':>5} {'low':>4} {'wrong':>5} {'refused':>7}"
+             "  wrong calls"]
     goal = True
-    for (what, factor), rows in by_injection.items():
+    for (what, value), rows in by_injection.items():
         wrong = [r for r in rows if r.call and not r.right]
         right = sum(r.call and r.right for r in rows)
         low = sum(not r.withheld and not r.call for r in rows)
+        refused = sum(r.top.startswith("refused") for r in rows)
         names = ", ".join(f"{Path(r.path).stem} ({r.top} {r.certainty:.2f})" for r in wrong)
-        lines.append(f"{what}x{factor:<6g} {len(rows):>7} {sum(r.withheld for r in rows):>8} {right:>5} {low:>4} "
-                     f"{len(wrong):>5}  {names}")
+        lines.append(f"{injection_name(what, value):<14} {len(rows):>7} {sum(r.withheld for r in rows):>8} "
+                     f"{right:>5} {low:>4} {len(wrong):>5} {refused:>7}  {names}")
         goal &= not wrong
-    lines.append("goal (no confident wrong call at any injected speed or sample rate): "
+    lines.append("goal (no confident wrong call at any injected speed, sample rate or acquisition): "
                  + ("met" if goal else "not met"))
     return lines
 
 
-def parse_injection(text: str) -> list[tuple[str, float]]:
-    """``speed=0.8,1.2`` -> [("speed", 0.8), ("speed", 1.2)]; ``rate=2`` -> [("rate", 2.0)]."""
+def parse_injection(text: str) -> list[tuple[str, float | str]]:
+    """``speed=0.8,1.2`` -> [("speed", 0.8), ("speed", 1.2)]; ``rate=2`` -> [("rate", 2.0)];
+    ``decimate=2,4`` -> [("decimate", 2), ("decimate", 4)] (whole factors from 2);
+    ``length=1,2`` -> [("length", 1.0), ("length", 2.0)] (seconds); ``unit=m/s2`` -> [("unit", "m/s^2")]
+    (an acceleration unit the reading layer knows, by its canonical name)."""
     what, _, values = text.partition("=")
-    if what not in ("speed", "rate"):
-        raise argparse.ArgumentTypeError(f"--inject takes speed=F,... or rate=F,..., got {text!r}")
+    if what not in (*LIES, *VARIATIONS):
+        raise argparse.ArgumentTypeError(f"--inject takes speed=F,..., rate=F,..., decimate=N,..., length=S,... "
+                                         f"or unit=NAME,..., got {text!r}")
+    if what == "unit":
+        names = [v.strip() for v in values.split(",") if v.strip()]
+        if not names:
+            raise argparse.ArgumentTypeError(f"--inject unit needs a unit name, got {text!r}")
+        found = []
+        for name in names:
+            try:
+                u = units.unit(name)
+            except UsageError as exc:
+                raise argparse.ArgumentTypeError(f"--inject {text!r}: {exc.problem}") from None
+            if u.quantity != "acceleration":
+                raise argparse.ArgumentTypeError(f"--inject unit takes an acceleration unit (the records are "
+                                                 f"accelerations), got {name!r} ({u.quantity})")
+            found.append(u.name)
+        return [("unit", n) for n in dict.fromkeys(found)]
+    if what == "length":        # seconds: 1 is a length like any other
+        return [("length", s) for s in dict.fromkeys(positive_numbers(values))]
     factors = parse_scales(values)[1:]
     if not factors:
-        raise argparse.ArgumentTypeError(f"--inject {what} needs a factor other than 1, got {text!r}")
+        raise argparse.ArgumentTypeError(f"--inject {what} needs a value other than 1, got {text!r}")
+    if what == "decimate":
+        if any(f != int(f) or f < 2 for f in factors):
+            raise argparse.ArgumentTypeError(f"--inject decimate takes whole factors of 2 or more, got {text!r}")
+        return [("decimate", int(f)) for f in factors]
     return [(what, f) for f in factors]
+
+
+def positive_numbers(text: str) -> list[float]:
+    """``0.5,2`` -> [0.5, 2.0]: positive finite numbers separated by commas, in the order given."""
+    try:
+        values = [float(x) for x in text.split(",") if x.strip()]
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected numbers separated by commas, got {text!r}") from None
+    if not values or any(not v > 0 or v == float("inf") for v in values):
+        raise argparse.ArgumentTypeError(f"expected positive finite numbers, got {text!r}")
+    return values
 
 
 def parse_scales(text: str) -> list[float]:
     """``1,0.001,1000`` -> [1.0, 0.001, 1000.0]; scale 1 always first (the calls compare with it)."""
-    try:
-        values = [float(x) for x in text.split(",") if x.strip()]
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"scales must be numbers separated by commas, got {text!r}") from None
-    if not values or any(not v > 0 or v == float("inf") for v in values):
-        raise argparse.ArgumentTypeError(f"scales must be positive finite numbers, got {text!r}")
-    return [1.0] + [v for v in dict.fromkeys(values) if v != 1.0]
+    return [1.0] + [v for v in dict.fromkeys(positive_numbers(text)) if v != 1.0]
 
 
 def positive(text: str) -> float:
@@ -384,7 +518,9 @@ def main() -> int:
                        help="comma-separated factors: run once per factor and compare each call with scale 1")
     group.add_argument("--inject", type=parse_injection, action="append",
                        help="speed=F,... or rate=F,...: state each record's speed or sample rate F times its "
-                            "true value and count the confident wrong calls (repeatable)")
+                            "true value; decimate=N,..., length=S,... or unit=NAME,...: record it resampled to "
+                            "1/N of its rate, only its first S seconds, or in another acceleration unit, stated "
+                            "truthfully; count the confident wrong calls (repeatable)")
     args = parser.parse_args()
     if not (args.datasets / "index.csv").exists():
         print(f"no datasets at {args.datasets}", file=sys.stderr)
@@ -394,10 +530,10 @@ def main() -> int:
     only = args.only.split(",") if args.only else None
     if args.inject:
         by_injection = {}
-        for what, factor in (i for group in args.inject for i in group):
-            print(f"{what} x{factor:g}", flush=True)
-            by_injection[(what, factor)] = run(args.datasets, only, reasoner, progress=lambda *_: None,
-                                               inject=(what, factor))
+        for what, value in (i for group in args.inject for i in group):
+            print(injection_name(what, value), flush=True)
+            by_injection[(what, value)] = run(args.datasets, only, reasoner, progress=lambda *_: None,
+                                              inject=(what, value))
         print()
         print("\n".join(inject_table(by_injection)))
         print(f"\n{time.perf_counter() - t0:.0f} s")

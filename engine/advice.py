@@ -141,7 +141,7 @@ class Advice:
     zone_meaning: str
     urgency: Urgency
     recommendations: tuple[Recommendation, ...]
-    remeasure: tuple[str, ...]        # settings for the next reading, and why
+    remeasure: tuple[str, ...]        # settings to change for the next reading (the settings rules' measure_again)
     limitations: tuple[str, ...]      # reading problems not strong enough to withhold
     cautions: tuple[str, ...]
     disclaimer: str
@@ -447,7 +447,10 @@ def advise(machine: Machine, evidence: Evidence, reasoning: Reasoning, data: dic
                           tuple(policy["check"])) if doubted else None
     shown = [h for h in reasoning.hypotheses if h.certainty >= POSSIBLE][:MAX_RECOMMENDATIONS]
     problems = [h for h in reasoning.reading_problems if h.certainty >= POSSIBLE]
-    settings = [f.because for h in problems if h.fault.startswith("settings-") for f in h.support]
+    # what to set when measuring again: the remedies the settings rules give (a limit with no setting to change,
+    # such as impacts sampled coarsely while the envelope is not affected, has none and stays a limit)
+    settings = list(dict.fromkeys(f.measure_again for h in problems if h.fault.startswith("settings-")
+                                  for f in h.support if f.measure_again))
     raised_by: tuple[UrgencyRaise, ...] = ()
     if reasoning.withheld:
         recs = tuple(_recommend(h, machine, worst, data, urgencies, checking, reasoning.fault_advice)

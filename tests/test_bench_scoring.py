@@ -651,3 +651,68 @@ def test_bench_femto_health_choice_is_onset_yaml_s_unless_another_is_named():
         assert femto.health_source(h) == "accel_rms_g"
     finally:
         femto.HEALTH_SOURCE[:] = saved
+
+# ---------------------------------------------------------------- bench.real_data, truthful acquisition variations
+
+def _record(tmp_path, seconds=2.0, fs=12000.0):
+    """A two-channel record (m/s^2, as the reading layer holds it) with a source in ``tmp_path``."""
+    rng = np.random.default_rng(7)
+    n = int(seconds * fs)
+    t = np.arange(n) / fs
+    de = 9.80665 * (0.2 * np.sin(2 * np.pi * 29.95 * t) + 0.05 * rng.standard_normal(n))
+    fe = 9.80665 * (0.1 * np.sin(2 * np.pi * 59.9 * t) + 0.05 * rng.standard_normal(n))
+    return Reading(str(tmp_path / "rec.mat"), fs, (Channel("X1_DE_time", de, "acceleration", "g", "DE", "vertical"),
+                                                   Channel("X1_FE_time", fe, "acceleration", "g", "FE", "vertical")),
+                   speed_rpm=1797.0)
+
+def test_a_decimated_record_is_scipys_decimate_at_the_rate_divided(tmp_path):
+    from scipy.signal import decimate
+    reading = _record(tmp_path)
+    out = real_data.acquired(reading, "decimate", 4, tmp_path)
+    assert out.fs_hz == 3000.0 and out.speed_rpm == 1797.0 and out.source.endswith(".npz")
+    assert [(c.name, c.point, c.direction, c.unit) for c in out.channels] == \
+        [("X1_DE_time", "DE", "vertical", "g"), ("X1_FE_time", "FE", "vertical", "g")]
+    for before, after in zip(reading.channels, out.channels):
+        # scipy as reference: its default order-8 Chebyshev type I filter, run forward and back
+        np.testing.assert_allclose(after.samples, decimate(before.samples, 4, zero_phase=True), rtol=1e-12, atol=1e-12)
+    assert out.n_samples == reading.n_samples // 4
+    # the same loading gates ran on it: nothing to report on a plain sine in noise
+    assert out.quality == ()
+
+def test_a_shortened_record_is_the_first_seconds_and_a_short_one_is_left_out(tmp_path):
+    reading = _record(tmp_path, seconds=2.0)
+    out = real_data.acquired(reading, "length", 0.5, tmp_path)
+    assert (out.fs_hz, out.n_samples, out.speed_rpm) == (12000.0, 6000, 1797.0)
+    np.testing.assert_allclose(out.channels[0].samples, reading.channels[0].samples[:6000], rtol=1e-12)
+    assert real_data.acquired(reading, "length", 2.0, tmp_path) is None      # nothing would change
+    assert real_data.acquired(reading, "length", 5.0, tmp_path) is None
+
+def test_a_record_in_metres_per_second_squared_is_the_g_values_times_standard_gravity(tmp_path):
+    reading = _record(tmp_path)
+    out = real_data.acquired(reading, "unit", "m/s^2", tmp_path)
+    stored = np.load(out.source)["X1_DE_time"]
+    in_g = np.load(real_data.acquired(reading, "length", 1.0, tmp_path).source)["X1_DE_time"]
+    # g_n = 9.80665 m/s^2 (CGPM 1901): the file holds the g values times it, and says so
+    np.testing.assert_allclose(stored[:12000], in_g * 9.80665, rtol=1e-12)
+    assert [c.unit for c in out.channels] == ["m/s^2", "m/s^2"]
+    np.testing.assert_allclose(out.channels[0].samples, reading.channels[0].samples, rtol=1e-12)
+
+def test_acquisition_variations_parse_and_name_themselves():
+    assert real_data.parse_injection("decimate=2,4") == [("decimate", 2), ("decimate", 4)]
+    assert real_data.parse_injection("length=1,2,0.5") == [("length", 1.0), ("length", 2.0), ("length", 0.5)]
+    assert real_data.parse_injection("unit=m/s2,ms-2") == [("unit", "m/s^2")]
+    for bad in ("decimate=1.5", "decimate=1", "length=0", "length=-2", "unit=mm/s", "unit=furlongs", "unit=",
+                "gain=2"):
+        with pytest.raises(argparse.ArgumentTypeError):
+            real_data.parse_injection(bad)
+    assert [real_data.injection_name(*i) for i in (("speed", 1.2), ("rate", 0.5), ("decimate", 4), ("length", 2.0),
+                                                   ("unit", "m/s^2"))] == \
+        ["speedx1.2", "ratex0.5", "decimate/4", "length 2s", "unit m/s^2"]
+
+def test_a_refused_record_counts_as_withheld_and_refused_in_the_table():
+    refused = real_data.Row("a.mat", "CWRU", "outer_race DE 0.007", "Y1", "clear",
+                            "refused: the record of 0.05 s holds 1.5 revolutions", 0.0, False, True, 0.1)
+    rows = [refused, _row("b.mat", "outer-race on drive_end", 0.8)]
+    lines = real_data.inject_table({("length", 0.05): rows})
+    assert lines[1].split()[:8] == ["length", "0.05s", "2", "1", "1", "0", "0", "1"]
+    assert lines[-1].endswith(": met")

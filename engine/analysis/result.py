@@ -37,7 +37,7 @@ from .levels import OverallLevels, iso_velocities, levels_of
 from .peaks import noise_floor, peak_near
 from .separation import random_part_factor
 from .spectrum import Spectrum, Transform, integrate
-from .speed import HARMONICS, SpeedEstimate, half_and_double, refine_speeds, shaft_family, speed_from_tones
+from .speed import HARMONICS, SpeedEstimate, half_and_double, one_x_line, refine_speeds, shaft_family, speed_from_tones
 from .synchronous import SynchronousEvents, events_of_rows, revolution_rows, synchronous_part
 from .tracking import (
     WANDER_MESH_CYCLES,
@@ -62,6 +62,11 @@ TSA_MAX_SAMPLES_PER_REV = 4096
 ABOVE_MESH = 2.5                # the waveform's impacts are read above the mesh's second harmonic (and its sidebands)
 MESH_LINE_SNR = 10.0            # a mesh line this far above its floor times the averaging
 LINE_HARMONICS = 20             # line-frequency harmonics kept out of the speed search
+UNLISTED_DEFECT_ORDER = 13.0    # a machine file that lists no rolling bearing: its shafts' bearings are still there,
+                                # and their fastest impact rate (BPFI) is looked for up to this order of the fastest
+                                # shaft. BPFI = (Z/2)(1 + d/D cos phi) x 1X (handbook formula; Randall & Antoni 2011,
+                                # eq. 1): with up to 20 rolling elements and d/D up to 0.3 (common practice for
+                                # the bearings of pumps, fans, motors and gearboxes) it stays below 13 x 1X
 
 
 @dataclass(frozen=True)
@@ -105,7 +110,7 @@ class ChannelAnalysis:
     def ring_band_rms_m_s2(self) -> float | None:
         """Acceleration RMS (m/s^2) in the kurtogram's band: the band where the impacts ring, as chosen on the
         prewhitened residual, measured on the acceleration spectrum itself (not whitened), so it grows with
-        the impacts' energy; None without a kurtogram (no bearing rate) or when the band holds no line."""
+        the impacts' energy; None without a kurtogram or when the band holds no line."""
         if self.kurtogram is None or not self.envelopes:
             return None
         return spectrum_band_rms(self.spectrum, [self.envelopes[0].band_hz])
@@ -488,9 +493,43 @@ def waveform_impacts(accel: np.ndarray, fs: float, shafts_hz: list[float], mesh_
 
 
 def _impact_candidates_hz(rates: Rates) -> list[float]:
-    """Rates an impact train could repeat at: bearing defects (the ball rate as 2 x BSF) and 1X."""
-    out = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
+    """Rates an impact train could repeat at: bearing defects (the ball rate as 2 x BSF) and 1X; with no bearing
+    listed, up to the fastest defect rate an unlisted bearing could have (``unlisted_defect_hz``)."""
+    out = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")] or [unlisted_defect_hz(rates)]
     return out + list(rates.shafts_hz.values())
+
+
+def unlisted_defect_hz(rates: Rates) -> float:
+    """The fastest defect rate (Hz) a rolling bearing the machine file does not list could have:
+    ``UNLISTED_DEFECT_ORDER`` times the fastest shaft's speed.
+
+    A machine file may list no bearing (its geometry unknown to the user, or left out), yet the bearings
+    are there and a defect's impacts are the commonest thing an envelope shows; with this stand-in the
+    envelope and the impact train are taken as for a listed bearing, and the rules read the impacts that
+    no listed part explains (``reading.machine.unexplained-impacts``).
+
+    Parameters
+    ----------
+    rates : Rates
+        The machine's rates at the measured speed; only the shaft speeds (Hz) are read.
+
+    Returns
+    -------
+    float
+        Hz.
+
+    References
+    ----------
+    Randall & Antoni (2011), "Rolling element bearing diagnostics - A tutorial", MSSP 25(2), eq. 1
+    (BPFI = (Z/2) fr (1 + d/D cos phi)).
+
+    Examples
+    --------
+    >>> from engine.machine.kinematics import Rates
+    >>> unlisted_defect_hz(Rates({"shaft": 25.0}, (), (), (), (), ()))
+    325.0
+    """
+    return UNLISTED_DEFECT_ORDER * max(rates.shafts_hz.values())
 
 
 def _refined_speed(velocity: dict[str, Spectrum], reading: Reading, machine: Machine, shaft: str) -> SpeedEstimate:
@@ -601,7 +640,7 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
     speeds = machine.speeds_at(speed.speed_hz * 60, shaft)
     rates = rates_at(machine, speeds)
     defects = [b.impact_rate_hz(d) for b in rates.bearings for d in ("BPFO", "BPFI", "BSF")]
-    fastest = max(defects) if defects else None
+    fastest = max(defects) if defects else unlisted_defect_hz(rates)
     synchronous, envelopes = {}, {}
     for ch in usable:               # each channel's record less its synchronous parts is dropped once whitened
         synchronous[ch.name], rest = _synchronous(accel[ch.name], fs, rates, reading.duration_s, spectra[ch.name])
@@ -622,6 +661,10 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
            or abs(speeds[p.shaft] - speeds[shaft]) <= 1e-9 * speeds[shaft]]
     loudest = max(own or velocity, key=lambda name: float(np.sum(velocity[name].amplitude ** 2)))
     check = half_and_double(velocity[loudest], speed.speed_hz, _explained_lines(machine, rates, shaft))
+    # the 1X line of the other channels on the shaft: a short record's noisier lines can bury a weak 1X in
+    # the loudest channel while another sensor on the same shaft shows it clear
+    check["one_x_elsewhere_db"] = max((one_x_line(velocity[name], speed.speed_hz)[1] for name in own
+                                       if name != loudest), default=0.0)
     # the strongest shaft family near the stated speed and beyond it: a wrong stated speed or sample rate
     # puts the machine's own harmonic family away from the stated 1X
     stated = machine.speeds_at(reading.speed_rpm) if reading.speed_rpm else dict(machine.shaft_speeds_hz)

@@ -417,6 +417,44 @@ def speed_from_tones(ses: Spectrum, rates_hz: list[float], nominal_hz: float,
     return SpeedEstimate(best[1] * nominal_hz, nominal_hz, (), False, "bearing tones", best[2])
 
 
+def one_x_line(spec: Spectrum, speed_hz: float) -> tuple[float, float]:
+    """The 1X line's amplitude and its height over its local floor (dB) when it stands ``MIN_HARMONIC_SNR``
+    times over that floor, else (0, 0).
+
+    Parameters
+    ----------
+    spec : Spectrum
+        Velocity amplitude spectrum.
+    speed_hz : float
+        The shaft's speed, Hz; the line is looked for within 1.5 lines of it.
+
+    Returns
+    -------
+    tuple of float
+        The line's amplitude in the spectrum's unit and its height over the floor in dB, or (0.0, 0.0).
+
+    References
+    ----------
+    Common practice: a shaft's 1X line, from its residual unbalance, stands on every running machine;
+    a running median as the local floor (Tukey 1977).
+
+    Examples
+    --------
+    >>> from engine.analysis.spectrum import amplitude_spectrum
+    >>> fs = 1024.0; t = np.arange(8192) / fs; rng = np.random.default_rng(1)
+    >>> spec = amplitude_spectrum(np.sin(2 * np.pi * 24.7 * t) + 0.01 * rng.standard_normal(len(t)), fs)
+    >>> amplitude, db = one_x_line(spec, 24.7)
+    >>> round(amplitude, 2), db > 40, one_x_line(spec, 31.0)
+    (1.0, True, (0.0, 0.0))
+    """
+    df = spec.resolution_hz
+    one_x = peak_near(spec, speed_hz, 1.5 * df)
+    floor_1x = noise_floor(spec, int(round(speed_hz / df)))
+    if one_x is None or not one_x.amplitude > 0 or one_x.amplitude < MIN_HARMONIC_SNR * floor_1x:
+        return 0.0, 0.0   # no line, or one in the zeroed lines below the velocity spectrum's lowest frequency
+    return float(one_x.amplitude), float(20 * np.log10(one_x.amplitude / max(floor_1x, 1e-300)))
+
+
 def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
     """Lines that would stand where they do if the stated sample rate (or speed) were off by two.
 
@@ -476,9 +514,7 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
             clear &= np.array([not np.any(np.abs(excluded - hz) <= max(2 * df, 0.005 * hz)) for hz in targets])
         return found.amplitude, floors, clear
 
-    one_x = peak_near(spec, speed_hz, 1.5 * df)
-    floor_1x = noise_floor(spec, int(round(speed_hz / df)))
-    one_x_amp = one_x.amplitude if one_x is not None and one_x.amplitude >= MIN_HARMONIC_SNR * floor_1x else 0.0
+    one_x_amp = one_x_line(spec, speed_hz)[0]
     half_amp, half_floor, half_clear = lines_at([k * speed_hz / 2 for k in (1, 3, 5, 7, 9)], True)
     even_amp, even_floor, even_clear = lines_at([2 * k * speed_hz for k in range(1, HARMONICS + 1)], True)
     odd_amp, _, odd_clear = lines_at([k * speed_hz for k in (1, 3, 5, 7, 9)], False)
@@ -499,6 +535,7 @@ def half_and_double(spec: Spectrum, speed_hz: float, exclude_hz=()) -> dict:
 FAMILY_ORDERS = 10          # harmonics of 1X a shaft family is looked for at
 FAMILY_SPAN = 0.3           # the family search reaches this far either side of the stated speed
 FAMILY_NEAR = 0.05          # a family this close to the stated speed is the stated speed's own
+NEAR_LINES = 2              # ... and one within a Hann window's main lobe (2 lines) of it, however short the record
 CENSUS_REACH = 0.15         # unrelated lines are counted within +-15 % of each harmonic
 
 
@@ -576,7 +613,9 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
     span : float
         How far from the stated speed candidates are searched (fraction).
     near : float
-        Within this fraction a family is "near" the stated speed.
+        Within this fraction a family is "near" the stated speed (within two
+        lines, a Hann window's main lobe, too, when that reaches farther), and
+        the tallest line near the stated 1X is looked for.
 
     Returns
     -------
@@ -633,7 +672,9 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
     own = np.array([k * hz for hz in others_hz for k in (1 / 3, 1 / 2, 1, 2, 3)])
     if own.size:
         score[np.any(np.abs(scales[:, None] * stated_hz - own[None, :]) <= near * own[None, :], axis=1)] = 0.0
-    is_near = np.abs(scales - 1) <= near
+    # a candidate within a Hann main lobe (2 lines) of the stated 1X cannot be told from it: on a short record
+    # the stated speed's own 1X line would otherwise make a "family elsewhere" one line away
+    is_near = np.abs(scales - 1) <= max(near, NEAR_LINES * df / stated_hz)
     census = _census(spec, orders.max() * stated_hz * (1 + span) * (1 + CENSUS_REACH))
 
     def family(mask: np.ndarray) -> tuple[int, float, float, float]:

@@ -157,6 +157,20 @@ ROWS_PER_SLICE = 64
 SAMPLES_PER_SLICE = 1 << 15
 
 
+def _slice_length(n: int, sums: int) -> int:
+    """The length of the equal slices of an ``n``-sample record whose chirp z transforms give ``sums`` sums
+    each: at most a quarter, a half or all of SAMPLES_PER_SLICE, whichever costs the least FFT work (4
+    transforms of length + sums - 1 per pair of slices, 1 for the kernel, m log m each). Few orders (a fast
+    shaft) favour short slices, whose transforms are also kinder to the cache; many orders, long ones."""
+    costs = []
+    for longest in (SAMPLES_PER_SLICE // 4, SAMPLES_PER_SLICE // 2, SAMPLES_PER_SLICE):
+        slices = -(-n // max(longest, 1))
+        length = -(-n // slices)
+        size = sfft.next_fast_len(length + sums - 1)
+        costs.append(((4 * -(-slices // 2) + 1) * size * float(np.log2(max(size, 2))), length))
+    return min(costs, key=lambda c: c[0])[1]      # the first of equal costs, as the loop before took it
+
+
 def revolution_rows(x: np.ndarray, fs: float, speed_hz: float, samples_per_rev: int) -> np.ndarray:
     """The whole revolutions of ``x`` at a constant ``speed_hz``, one per row, from t = 0.
 
@@ -209,6 +223,47 @@ def _unit_phasors(phase_rad: np.ndarray) -> np.ndarray:
     return out
 
 
+def _block(length: int) -> int:
+    """The power of two at or above sqrt(``length``): the row length of a phase table of ``length`` values."""
+    return 1 << int(np.sqrt(max(length - 1, 0))).bit_length()
+
+
+def _powers(g: np.ndarray, count: int) -> np.ndarray:
+    """Rows g ** q for q = 0 .. ``count`` - 1, by doubling: row q is the product of at most log2(``count``) + 1
+    factors, so its rounding error stays a few units of the last place."""
+    rows = np.empty((count, len(g)), dtype=complex)
+    rows[0] = 1.0
+    have = 1
+    while have < count:
+        take = min(have, count - have)
+        np.multiply(rows[:take], rows[have - 1] * g, out=rows[have:have + take])    # times g ** have
+        have += take
+    return rows
+
+
+def _chirp(c: float, length: int) -> np.ndarray:
+    """exp(i c j^2) for j = 0 .. ``length`` - 1, from about 3 sqrt(``length``) sines and cosines: with j = q B + r,
+    c j^2 = c q^2 B^2 + 2 c B q r + c r^2, so each value is a row factor times a column factor times
+    exp(i 2 c B r) ** q. The same values as ``_unit_phasors(c * j * j)`` to the rounding of c j^2 itself
+    (about 1e-16 of it, held by both) at a third of the cost."""
+    b = _block(length)
+    rows = _powers(_unit_phasors((2.0 * c * b) * np.arange(b, dtype=float)), -(-length // b))
+    r = np.arange(b, dtype=float)
+    rows *= _unit_phasors(c * (r * r))
+    qb = np.arange(len(rows), dtype=float) * b
+    rows *= _unit_phasors(c * (qb * qb))[:, None]
+    return rows.reshape(-1)[:length]
+
+
+def _ramp(a: float, length: int) -> np.ndarray:
+    """exp(i a j) for j = 0 .. ``length`` - 1 as the outer product exp(i a q B) exp(i a r), j = q B + r: about
+    2 sqrt(``length``) sines and cosines instead of ``length``, the same values to a unit of the last place."""
+    b = _block(length)
+    rows = _unit_phasors((a * b) * np.arange(-(-length // b), dtype=float))[:, None] \
+        * _unit_phasors(a * np.arange(b, dtype=float))
+    return rows.reshape(-1)[:length]
+
+
 class _ChirpSums:
     """sum_j v[j] exp(1j step j m) for m = 0 .. outputs - 1, for any v of ``inputs`` values (Bluestein's
     chirp z transform: j m = (j^2 + m^2 - (m - j)^2) / 2 makes it a convolution); the chirp and the
@@ -222,8 +277,7 @@ class _ChirpSums:
             self.size, self.chirp, self.kernel = _from.size, np.conj(_from.chirp), np.conj(_from.kernel)
             return
         self.size = sfft.next_fast_len(inputs + outputs - 1)
-        j = np.arange(max(inputs, outputs), dtype=float)
-        self.chirp = _unit_phasors((0.5 * step_rad) * (j * j))  # exp(i step j^2 / 2)
+        self.chirp = _chirp(0.5 * step_rad, max(inputs, outputs))  # exp(i step j^2 / 2)
         kernel = np.zeros(self.size, dtype=complex)             # exp(-i step d^2 / 2), d = -(inputs-1) .. outputs-1
         kernel[:outputs] = np.conj(self.chirp[:outputs])
         if inputs > 1:
@@ -252,7 +306,7 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     filter whose teeth sit on the orders). Both the coefficients (the record's
     DFT at the orders) and the sum of their sines at every sample are chirp z
     transforms (Bluestein 1970; Rabiner, Schafer & Rader 1969), done in slices of
-    ``SAMPLES_PER_SLICE`` samples, two real slices in one complex transform
+    at most ``SAMPLES_PER_SLICE`` samples, two real slices in one complex transform
     (``_paired_coefficients``, ``_paired_sums``). Nothing is interpolated, so nothing depends on
     where a revolution starts between two samples: interpolating near the
     Nyquist frequency (cubic convolution at a quarter of the sample rate and
@@ -297,12 +351,11 @@ def synchronous_part(x: np.ndarray, fs: float, speed_hz: float) -> np.ndarray:
     orders = int(np.ceil(fs / 2 / speed_hz))               # orders 0 .. orders - 1 lie below fs / 2
     step = 2 * np.pi * speed_hz / fs                       # radians per sample of order 1
     k = np.arange(orders, dtype=float)
-    slices = -(-n // SAMPLES_PER_SLICE)
-    slice_len = -(-n // slices)                            # equal slices of at most SAMPLES_PER_SLICE samples
+    slice_len = _slice_length(n, 2 * orders - 1)
     # orders -(orders - 1) .. orders - 1: the sums over a real slice at -m are the conjugates of those at m,
     # which parts two real slices carried as the real and imaginary parts of one complex one
     forward = _ChirpSums(slice_len, 2 * orders - 1, -step)
-    shift = _unit_phasors(step * (orders - 1) * np.arange(slice_len, dtype=float))   # order -(orders - 1) to 0
+    shift = _ramp(step * (orders - 1), slice_len)           # order -(orders - 1) to 0
     coef = np.zeros(orders, dtype=complex)
     for (a, sum_a), (b, sum_b) in _paired_coefficients(x[:whole], slice_len, forward, shift, orders):
         coef += sum_a * np.exp(-1j * step * k * a)

@@ -98,10 +98,10 @@ def units_help() -> str:
 
 
 def reader_suffixes() -> str:
-    """Every reading file suffix a reader exists for, from engine/readings' READERS."""
-    from ..readings.formats import READERS
+    """Every reading file suffix a reader exists for, from engine/readings' READERS (and the gzip ones)."""
+    from ..readings.formats import reading_suffixes
 
-    return ", ".join(READERS)
+    return ", ".join(reading_suffixes())
 
 
 def add_readings_argument(p, nargs=None) -> None:

@@ -17,7 +17,7 @@ import numpy as np
 from ..analysis import Analysis, analyse
 from ..machine import Machine
 from ..readings import Reading, check_points, check_record_length, scale_doubts
-from . import acquisition, envelope, impacts, levels, phase, sidebands, tones
+from . import acquisition, envelope, impacts, levels, phase, sidebands, tones, unlisted
 from .summary import Evidence, PointLevel, QualityNote, summarise
 from .vocabulary import FACTS, fields_of, level_fields
 
@@ -41,6 +41,7 @@ EXTRACTORS = (
     Extractor("sideband_family", sidebands.sideband_family, ("sideband_family",)),
     Extractor("envelope", envelope.envelope_evidence, ("envelope_tone", "load_zone_modulation")),
     Extractor("impact_train", impacts.impact_train, ("impact_train",)),
+    Extractor("envelope_family", unlisted.envelope_family, ("envelope_family",)),
     Extractor("once_per_rev_event", impacts.once_per_rev_event, ("once_per_rev_event",)),
     Extractor("direction_ratio", levels.direction_ratio, ("direction_ratio",),
               always="every location with several directions has its ratios"),

@@ -91,7 +91,8 @@ def acquisition(rc: Analysis) -> list[dict]:
 
 # what analysis.speed's shaft-line check reports, with the value a missing entry takes
 SHAFT_CHECK = {
-    "one_x_found": False, "odd_order_lines": 0, "half_order_lines": 0, "half_to_one_x": 0.0,
+    "one_x_found": False, "one_x_elsewhere_db": 0.0, "odd_order_lines": 0, "half_order_lines": 0,
+    "half_to_one_x": 0.0,
     "double_speed_lines": 0, "half_x_snr_db": 0.0, "half_x_window_pct": 0.0, "two_x_snr_db": 0.0,
     "odd_to_two_x": 0.0,
     "near_family_lines": 0, "far_family_lines": 0, "near_family_chance_pct": 100.0, "far_family_chance_pct": 100.0,

@@ -20,6 +20,8 @@ measurements the rulebooks' rivalry rules weigh.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from ..analysis import Analysis
@@ -220,6 +222,27 @@ def harmonics_searched(defect: str) -> int:
     return HARMONICS[defect]
 
 
+class _Centres:
+    """Frequencies taken as one line when within TIE of each other: ``index(f)`` is the first centre (in the
+    order they came) within TIE of f, or f itself as a new centre. Such a centre's log lies within about
+    TIE of log f, so only the centres in f's bucket of log frequency (TIE wide) and the two each side are
+    tried: the same answer as trying every centre in order, without the quadratic cost."""
+
+    def __init__(self) -> None:
+        self.centres: list[float] = []
+        self.near: dict[int, list[int]] = {}
+
+    def index(self, freq: float) -> int:
+        """The centre of ``freq`` (Hz, > 0)."""
+        bucket = math.floor(math.log(freq) / TIE)
+        for i in sorted(i for b in range(bucket - 2, bucket + 3) for i in self.near.get(b, ())):
+            if abs(freq / self.centres[i] - 1) < TIE:
+                return i
+        self.centres.append(freq)
+        self.near.setdefault(bucket, []).append(len(self.centres) - 1)
+        return len(self.centres) - 1
+
+
 def shared_lines(rates, location: str | None) -> dict[tuple[str, str], list[tuple[int, str, str, int]]]:
     """For every bearing family, the harmonics (of the first ones searched) another family would own if every
     family's lines stood at its exact rates: {(bearing, defect): [(k, other bearing, other defect, j)]}.
@@ -228,15 +251,7 @@ def shared_lines(rates, location: str | None) -> dict[tuple[str, str], list[tupl
     planner judges a geometry by the same rule the envelope evidence applies to a reading.
     """
     defects = [(b, defect, b.impact_rate_hz(defect)) for b in rates.bearings for defect in HARMONICS]
-    centres: list[float] = []
-
-    def line_of(freq: float) -> int:
-        for i, c in enumerate(centres):
-            if abs(freq / c - 1) < TIE:
-                return i
-        centres.append(freq)
-        return len(centres) - 1
-
+    line_of = _Centres().index
     found = [{k: Peak(k * rate, 1.0, line_of(k * rate), 10.0) for k in range(1, HARMONICS[defect] + 1)}
              for _, defect, rate in defects]
     fmax = max(p.freq_hz for f in found for p in f.values()) * 2
@@ -280,11 +295,12 @@ def _give_sidebands(defects, all_found, owned, resolution_hz: float = 0.0) -> No
     if not carriers:
         return
     family, line, snr, freq, mod = (np.array(column) for column in zip(*carriers))
+    strongest = float(np.fmax.reduce(snr))       # only a carrier standing higher than a line can take it
     sidebands = np.concatenate([freq - mod, freq + mod])
     margins = np.tile(SIDEBAND_MARGIN * mod + resolution_hz, 2)      # Hz
     for t, ((_, _, rate), found) in enumerate(zip(defects, all_found)):
         for k, peak in found.items():
-            if not owned[(t, k)]:
+            if not owned[(t, k)] or peak.snr >= strongest:
                 continue
             own_error = abs(peak.freq_hz / (k * rate) - 1)
             claims = np.tile((family != t) & (line != peak.line) & (snr > peak.snr), 2)

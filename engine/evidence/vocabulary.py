@@ -55,7 +55,7 @@ FACTS: dict[str, dict[str, F]] = {
                               "of one tone with both levels (tens of Hz when running-speed lines carry the "
                               "vibration, kHz when a broadband floor where bearings ring does)", "Hz"),
         "ring_band_lo_hz": F("number", "lower edge of the kurtogram's band (Antoni 2007: where the impacts ring, "
-                             "chosen on the prewhitened residual), Hz; 0 when the machine has no bearing rate", "Hz"),
+                             "chosen on the prewhitened residual), Hz; 0 when there is none", "Hz"),
         "ring_band_hi_hz": F("number", "upper edge of that band, Hz; 0 when there is none", "Hz"),
         "ring_band_g": F("number", "acceleration RMS in that band, from the acceleration spectrum (not whitened), "
                          "g; 0 when there is no band", "g RMS"),
@@ -192,6 +192,19 @@ FACTS: dict[str, dict[str, F]] = {
         "multiple_of_component": F("string", "that rate's bearing, or none", ""),
         "multiple_by": F("integer", "how many times faster (2 or 3), 0 when none", ""),
     },
+    "envelope_family": CHANNEL_FIELDS | {
+        "rate_hz": F("number", "the family's fundamental: a clear line of the squared envelope spectrum, Hz (only on a "
+                     "machine file that lists no rolling bearing; between 2 x the slowest and 13 x the fastest shaft, "
+                     "on no forcing frequency, shaft harmonic or half order of the file)", "Hz"),
+        "per_rev": F("number", "that rate over the speed of the point's shaft", ""),
+        "harmonics_found": F("integer", "harmonics 1 to 5 of the rate with a clear line within 2 %, the fundamental "
+                             "among them", ""),
+        "harmonics_checked": F("integer", "harmonics 1 to 5 below the envelope spectrum's Fmax", ""),
+        "first_snr_db": F("number", "the fundamental over the envelope spectrum's local floor, dB", "dB"),
+        "band_method": F("string", "the envelope view: kurtogram or wide", ""),
+        "band_lo_hz": F("number", "lower edge of the band demodulated, Hz", "Hz"),
+        "band_hi_hz": F("number", "upper edge of the band demodulated, Hz", "Hz"),
+    },
     "once_per_rev_event": CHANNEL_FIELDS | {
         "shaft": F("string", "shaft id", ""),
         "revolutions": F("integer", "revolutions averaged", ""),
@@ -253,6 +266,8 @@ FACTS: dict[str, dict[str, F]] = {
         "abs_deviation_pct": F("number", "size of that deviation, %", "%"),
         "one_x_found": F("boolean", "a line stands at 1X in the loudest channel on this shaft (at its speed), "
                                     "where the fields below are measured", ""),
+        "one_x_elsewhere_db": F("number", "the tallest 1X line (at the speed used) over its floor among the "
+                                          "shaft's other channels (0 when none stands three times its floor)", "dB"),
         "odd_order_lines": F("integer", "lines at 1X, 3X, 5X, 7X, 9X in the loudest channel", ""),
         "half_order_lines": F("integer", "lines at 0.5X, 1.5X, 2.5X, 3.5X, 4.5X in the loudest channel that no "
                                          "other line of the machine explains", ""),

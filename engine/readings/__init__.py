@@ -23,7 +23,7 @@ from ..common.yamlfile import read_yaml, validate
 from ..machine import check_speed_rpm
 from .columns import apply_column_map
 from .fit import check_phase, check_points
-from .formats import READERS, RawReading, check_raw
+from .formats import GZIP_READERS, RawReading, check_raw, reader_of, reading_suffixes
 from .length import MIN_SAMPLES, check_record_length
 from .limits import MAX_FILE_BYTES, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, sample_limit
 from .model import Channel, PhaseReading, QualityIssue, Reading
@@ -88,7 +88,7 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
                  scale: float | None = None, point: str | None = None,
                  direction: str | None = None, speed_rpm: float | None = None,
                  channels: list[str] | None = None, max_samples: int | None = None) -> Reading:
-    """Load a reading file (WAV, CSV, NPY, NPZ, MAT, UFF 58) and run the quality gates.
+    """Load a reading file (WAV, CSV, NPY, NPZ, MAT, UFF 58; CSV gzipped too, ``.csv.gz``) and run the quality gates.
 
     ``max_samples`` raises (or lowers) the samples a channel may hold
     (``engine.readings.limits``); a file that declares more is refused
@@ -100,12 +100,13 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
     ``X130_DE_time``).
     """
     path = str(path)
-    p = Path(path)
-    reader = READERS.get(p.suffix.lower())
+    reader, label = reader_of(path)
     _check_file(path)
     if reader is None:
-        raise ReadingError(f"unknown reading format {p.suffix!r}; expected one of "
-                           f"{', '.join(sorted(READERS))}", path=path)
+        gz = (f" (gzip is read for {', '.join(sorted(s + '.gz' for s in GZIP_READERS))}; unpack other formats "
+              "first)") if label.endswith(".gz") else ""
+        raise ReadingError(f"unknown reading format {label!r}; expected one of "
+                           f"{', '.join(sorted(reading_suffixes()))}{gz}", path=path)
     try:
         with np.errstate(all="ignore"):
             limit = sample_limit(max_samples)
@@ -113,8 +114,7 @@ def load_reading(path, *, sample_rate_hz: float | None = None, unit: str | None 
     except ReadingError:
         raise
     except Exception as exc:  # a foreign parser failing on corrupt bytes is bad input, not a bug
-        raise ReadingError(f"cannot be read as {p.suffix.lstrip('.').upper()} "
-                           f"({exc.__class__.__name__})", path=path) from None
+        raise ReadingError(f"cannot be read as {label} ({exc.__class__.__name__})", path=path) from None
     side, phase = _read_sidecar(path)
     if side.get("columns"):
         raw = apply_column_map(raw, side["columns"], path, str(sidecar_path(path)))

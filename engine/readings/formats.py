@@ -11,6 +11,7 @@ every format refuses odd shapes, complex data and oversized contents alike.
 from __future__ import annotations
 
 import csv
+import gzip
 import io
 import struct
 import warnings
@@ -22,7 +23,7 @@ from pathlib import Path
 import numpy as np
 
 from ..common.errors import ReadingError
-from .limits import MAX_CHANNELS, SampleLimit
+from .limits import MAX_CHANNELS, MAX_FILE_BYTES, SampleLimit
 
 DEFAULT_LIMIT = SampleLimit()
 TIME_COLUMNS = ("time_s", "time", "t")
@@ -82,6 +83,39 @@ def read_csv(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
         text = Path(path).read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
         raise ReadingError("not a text CSV file", path=path) from None
+    return csv_of_text(path, text, limit)
+
+
+def read_csv_gz(path: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
+    """A gzip-compressed CSV (``reading.csv.gz``), read as ``read_csv`` reads a plain one once unpacked in memory
+    (at most ``MAX_FILE_BYTES`` unpacked, as a plain file may hold on disk)."""
+    try:
+        text = gunzip(path).decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise ReadingError("not a text CSV file once unpacked", path=path) from None
+    return csv_of_text(path, text, limit)
+
+
+def gunzip(path: str, most_bytes: int = MAX_FILE_BYTES) -> bytes:
+    """The bytes a gzip file unpacks to, read a megabyte at a time; more than ``most_bytes`` is refused before it
+    is all unpacked, and a file that is not gzip or is cut short is a ``ReadingError``."""
+    parts, total = [], 0
+    try:
+        with gzip.open(path, "rb") as f:
+            while chunk := f.read(1 << 20):
+                total += len(chunk)
+                if total > most_bytes:
+                    raise ReadingError(f"unpacks to more than {most_bytes >> 20} MiB; cut the record", path=path)
+                parts.append(chunk)
+    except ReadingError:
+        raise
+    except (OSError, EOFError, zlib.error) as exc:     # gzip.BadGzipFile is an OSError
+        raise ReadingError(f"not a readable gzip file ({_short(exc)})", path=path) from None
+    return b"".join(parts)
+
+
+def csv_of_text(path: str, text: str, limit: SampleLimit = DEFAULT_LIMIT) -> RawReading:
+    """The CSV reading of ``text``, the contents of ``path`` (see ``read_csv``)."""
     if "\0" in text:
         raise ReadingError("not a text CSV file (it holds NUL bytes)", path=path)
 
@@ -505,6 +539,12 @@ def _is_number(text: str) -> bool:
     return True
 
 
+GZIP_SUFFIX = ".gz"
+GZIP_READERS = {".csv": read_csv_gz}
+"""Formats read gzip-compressed too, by the suffix before ``.gz``: text formats, which compress well and are
+read whole; UFF is read by a library that opens the file itself (unpack it first), and the binary formats are
+compact already (NPZ and MATLAB v5 compress inside)."""
+
 READERS = {
     ".wav": read_wav,
     ".csv": read_csv,
@@ -514,3 +554,26 @@ READERS = {
     ".uff": read_uff58,
     ".unv": read_uff58,
 }
+
+
+def reader_of(path: str):
+    """The reader of ``path`` and the name of its format (``CSV``, ``gzip CSV``), by its suffix (the one before
+    ``.gz`` for a gzip file); (None, the suffix) when no reader takes it."""
+    suffixes = [x.lower() for x in Path(path).suffixes]
+    last = suffixes[-1] if suffixes else ""
+    if last == GZIP_SUFFIX and len(suffixes) > 1 and suffixes[-2] in GZIP_READERS:
+        return GZIP_READERS[suffixes[-2]], f"gzip {suffixes[-2].lstrip('.').upper()}"
+    if last in READERS:
+        return READERS[last], last.lstrip(".").upper()
+    inner = suffixes[-2] + last if last == GZIP_SUFFIX and len(suffixes) > 1 else last
+    return None, inner
+
+
+def reading_suffixes() -> tuple[str, ...]:
+    """Every file suffix a reader takes: the plain formats and the gzip ones (``.csv.gz``)."""
+    return tuple(READERS) + tuple(s + GZIP_SUFFIX for s in GZIP_READERS)
+
+
+def is_reading_name(name: str) -> bool:
+    """Whether a file of this name is read as a reading (its suffix, any case)."""
+    return reader_of(name)[0] is not None

@@ -107,8 +107,12 @@ def engine_value(x):
 def engine_copy(fact: dict, sid: str) -> dict:
     """A fact as the rule engine may hold it: its signs left out, values made engine-safe, no None
     fields, tagged with the diagnosis's session id."""
-    out = {k: engine_value(v) for k, v in fact.items() if k != SIGNS}
-    out = {k: v for k, v in out.items() if v is not None}
+    out = {}
+    for k, v in fact.items():      # one pass: a few hundred facts a diagnosis, a dozen fields each
+        if isinstance(v, float):
+            v = engine_value(v)
+        if v is not None and k != SIGNS:
+            out[k] = v
     out["sid"] = sid
     return out
 
@@ -139,7 +143,15 @@ def _literal_match(fact: dict, c) -> bool:
         return v not in c.value
     if c.op == "between":
         return c.value[0] <= v <= c.value[1]
-    return {"above": v > target, "at_least": v >= target, "below": v < target, "at_most": v <= target}[c.op]
+    if c.op == "above":
+        return v > target
+    if c.op == "at_least":
+        return v >= target
+    if c.op == "below":
+        return v < target
+    if c.op == "at_most":
+        return v <= target
+    raise KeyError(c.op)
 
 
 def tallies(rules, facts: list[dict]) -> list[dict]:
@@ -233,9 +245,7 @@ class Reasoner:
         engine still decides every match, join and negation itself.
         """
         patterns = self._patterns if patterns is None else patterns
-        return any(all(_literal_match(fact, c) for c in p.conditions
-                       if not (isinstance(c.value, Ref) and c.value.alias is not None))
-                   for p in patterns.get(fact["kind"], ()))
+        return any(all(_literal_match(fact, c) for c in conditions) for conditions in patterns.get(fact["kind"], ()))
 
     def _make_action(self, rule: Rule):
         def fire(c):
@@ -270,6 +280,9 @@ class Reasoner:
         parts = sentence_parts(rule, values)
         because = "".join(literal + ("" if v is None else format_quantity(v["value"], v["unit"], v["type"]))
                           for literal, v in parts)
+        again_parts = sentence_parts(rule, values, "measure_again") if rule.measure_again else ()
+        again = "".join(literal + ("" if v is None else format_quantity(v["value"], v["unit"], v["type"]))
+                        for literal, v in again_parts)
         signs = explained_signs(values[alias] for alias in rule.explains)
         derived = None
         if rule.derives is not None and strength > 0:
@@ -284,7 +297,8 @@ class Reasoner:
             session.derived.append(derived)
         firing = Firing(rule.id, rule.title, rule.source, rule.origin, rule.replaced, strength, because,
                         tuple(matched), derived, tuple(sorted(signs.items())), site_record=rule.site_record,
-                        because_parts=parts, weight_kept=rule.weight_kept)
+                        because_parts=parts, weight_kept=rule.weight_kept, measure_again=again,
+                        measure_again_parts=again_parts)
         session.firings.append((rule, firing))
         if derived is not None:
             try:
@@ -466,12 +480,15 @@ def _one_per_rival(firings) -> tuple[Firing, ...]:
     return tuple(sorted(out.values(), key=lambda f: (f.rival, f.rule_id)))
 
 
-def _patterns_by_kind(rules) -> dict[str, list]:
-    out: dict[str, list] = defaultdict(list)
+def _patterns_by_kind(rules) -> dict[str, list[tuple]]:
+    """Each fact kind's patterns (counts left out) as the conditions a fact alone can be judged by
+    (a join to another fact's field is the engine's), worked out once per rulebook."""
+    out: dict[str, list[tuple]] = defaultdict(list)
     for r in rules:
         for p in r.needs + r.none_of:
             if not p.counted:
-                out[p.kind].append(p)
+                out[p.kind].append(tuple(c for c in p.conditions
+                                         if not (isinstance(c.value, Ref) and c.value.alias is not None)))
     return out
 
 
@@ -484,13 +501,14 @@ def explained_signs(facts) -> dict[str, float]:
     return merged(*(fact.get(SIGNS) or {} for fact in facts))
 
 
-def sentence_parts(rule: Rule, values: dict) -> tuple[tuple[str, dict | None], ...]:
-    """The rule's because sentence in parts: each literal text with the value that follows it (None
-    at the end): its field, value, unit, type and the shaft under the sensor of its fact (for a
-    report that shows frequencies in orders; None for a fact of no channel)."""
-    by_name = {f"{p.alias}.{p.field}": p for p in rule.placeholders}
+def sentence_parts(rule: Rule, values: dict, which: str = "because") -> tuple[tuple[str, dict | None], ...]:
+    """The rule's because sentence (or its ``measure_again`` sentence) in parts: each literal text with the value
+    that follows it (None at the end): its field, value, unit, type and the shaft under the sensor of its fact
+    (for a report that shows frequencies in orders; None for a fact of no channel)."""
+    places = rule.placeholders if which == "because" else rule.again_placeholders
+    by_name = {f"{p.alias}.{p.field}": p for p in places}
     parts: list[tuple[str, dict | None]] = []
-    for literal, name, _, _ in string.Formatter().parse(rule.because):
+    for literal, name, _, _ in string.Formatter().parse(getattr(rule, which)):
         value = None
         if name is not None:
             p = by_name[name.strip()]

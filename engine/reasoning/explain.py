@@ -121,6 +121,8 @@ def explain(rule: Rule, rulebook: Rulebook) -> list[str]:
         lines.append(f"  it counts with {rule.counts_with} as one piece of evidence: for a hypothesis the "
                      "stronger firing of the two counts, not both")
     lines.append(f"  the report says: {rule.because}")
+    if rule.measure_again:
+        lines.append(f"  and lists under 'measure again with': {rule.measure_again}")
     return lines
 
 

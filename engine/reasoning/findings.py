@@ -29,6 +29,8 @@ class Firing:
     because_parts: tuple = ()         # the because sentence as (text, value or None) parts, for other units
     rival: str | None = None          # a rule with ``indistinct_from``: the fault it names beside the hypothesis's
     rival_name: str | None = None
+    measure_again: str = ""           # a reading problem's remedy: the setting to change when measuring again
+    measure_again_parts: tuple = ()   # that sentence in parts, as because_parts
 
 
 @dataclass(frozen=True)

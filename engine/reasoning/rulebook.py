@@ -163,6 +163,8 @@ class Rule:
     counts_with: str | None = None   # a rule reading the same signs: for a hypothesis the two count once
     ceiling: float | None = None     # ``certainty: {at_most: X}``: holds its hypothesis at X at most (weight 0)
     rival: str | FaultChoice | None = None   # ``concludes: {indistinct_from: F}``: names F beside its fault (weight 0)
+    measure_again: str = ""          # a reading problem's remedy: the setting to change when measuring again
+    again_placeholders: tuple[Placeholder, ...] = ()
 
     @property
     def fingerprint(self) -> str:
@@ -934,23 +936,24 @@ class _RuleChecker:
             ramps.append(Ramp(value, start, full, tuple(self.used)))
         return float(spec["weight"]), tuple(ramps)
 
-    def sentence(self) -> tuple[str, tuple[Placeholder, ...]]:
-        """The because sentence and its placeholders: {alias.field} only, formatted by unit later."""
-        text = self.raw["because"]
+    def sentence(self, key: str = "because") -> tuple[str, tuple[Placeholder, ...]]:
+        """The because sentence (or another of the rule's sentences, ``measure_again``) and its placeholders:
+        {alias.field} only, formatted by unit later."""
+        text = self.raw[key]
         try:
             parsed = list(string.Formatter().parse(text))
         except ValueError as exc:
-            self.fail(f"because: {exc}", "because")
+            self.fail(f"{key}: {exc}", key)
         places = []
         for _, name, spec, conversion in parsed:
             if name is None:
                 continue
             if spec or conversion:
-                self.fail(f"because: write {{{name}}} without a format ('{{{name}:{spec or ''}}}' given); "
-                          "the report formats each value by its unit", "because")
-            ref = self.ref(name, "because")
+                self.fail(f"{key}: write {{{name}}} without a format ('{{{name}:{spec or ''}}}' given); "
+                          "the report formats each value by its unit", key)
+            ref = self.ref(name, key)
             if not isinstance(ref, Ref) or ref.alias is None or ref.factor != 1:
-                self.fail(f"because: {{{name}}} must name a matched fact's field as alias.field", "because")
+                self.fail(f"{key}: {{{name}}} must name a matched fact's field as alias.field", key)
             spec_ = self.aliases[ref.alias][ref.field]
             places.append(Placeholder(ref.alias, ref.field, spec_[0], spec_[2] if len(spec_) > 2 else ""))
         return text, tuple(places)
@@ -1002,8 +1005,13 @@ class _RuleChecker:
         none_of = tuple(self.pattern(p, "none_of", j, True) for j, p in enumerate(self.raw.get("none_of") or []))
         weight, ramps = self.certainty()
         because, placeholders = self.sentence()
+        again, again_placeholders = self.sentence("measure_again") if "measure_again" in self.raw else ("", ())
+        if again and "concludes" not in self.raw:
+            self.fail("measure_again: only a rule that concludes a reading problem says what to measure again with",
+                      "measure_again")
         common = dict(id=self.raw["id"], title=self.raw["title"], source=self.raw["source"], needs=needs,
                       none_of=none_of, weight=weight, ramps=ramps, because=because, path=self.doc.path,
+                      measure_again=again, again_placeholders=again_placeholders,
                       line=self.doc.line_of(["rules", self.index]), placeholders=placeholders,
                       explains=self.explains(needs), site_record=self.site_record(),
                       counts_with=self.raw.get("counts_with"))

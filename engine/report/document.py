@@ -42,6 +42,7 @@ class _Shown:
         # the firings whose because sentences the advice and the differential quote as text: a quoted
         # sentence is worded again from its firing's measured values, never by editing its words
         self.firings = {f.because: f for f in firings if f.because_parts}
+        self.remedies = {f.measure_again: f for f in firings if f.measure_again_parts}
 
     def shaft_hz(self, shaft: str | None) -> float | None:
         """The speed of ``shaft`` (the shaft under the sensor); the reference shaft's for a fact of none."""
@@ -67,6 +68,13 @@ class _Shown:
         no firing of this reasoning said it)."""
         f = None if self.units.default else self.firings.get(text)
         return text if f is None else self.because(f)
+
+    def remedy(self, text: str) -> str:
+        """A firing's measure_again sentence the advice quotes, in the shown units."""
+        f = None if self.units.default else self.remedies.get(text)
+        if f is None:
+            return text
+        return "".join(literal + ("" if v is None else self.value(v)) for literal, v in f.measure_again_parts)
 
 
 def _firing(f: Firing, shown: _Shown | None = None) -> dict:
@@ -468,7 +476,7 @@ def report_document(machine: Machine, reading, evidence: Evidence, reasoning: Re
         "reading_problems": problems,
         "differential": [_differential(dx, reasoning, recs, worded) for dx in reasoning.differential
                          if (dx.fault, dx.component) in recs],
-        "remeasure": [worded.sentence(x) for x in advice.remeasure],
+        "remeasure": [" ".join(worded.remedy(x).split()) for x in advice.remeasure],
         "measure_next": list(advice.measure_next),
         # each action once: a problem found on several channels asks for the same check of each
         "remeasure_actions": list(dict.fromkeys(a for r in withheld_recs for a in r.actions)),

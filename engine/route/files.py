@@ -21,8 +21,7 @@ from pathlib import Path
 from ..common.errors import RouteError, UsageError
 from ..common.yamlfile import read_yaml, validate
 from ..history.times import Clock, iso, parse_time, resolve_time
-
-READING_SUFFIXES = (".wav", ".csv", ".npy", ".npz", ".mat", ".uff", ".unv")
+from ..readings.formats import is_reading_name
 
 
 @dataclass(frozen=True)
@@ -162,7 +161,7 @@ def load_folder(folder, plant_file) -> Route:
     if not folder.is_dir():
         raise RouteError("no such folder of readings", path=str(folder))
     base = Path(_absolute(Path(plant_file).parent))
-    files = sorted(p for p in folder.iterdir() if p.suffix.lower() in READING_SUFFIXES and os.path.isfile(p))
+    files = sorted(p for p in folder.iterdir() if is_reading_name(p.name) and os.path.isfile(p))
     tasks: list[Task] = []
     taken: dict[Path, str] = {}
     for m, entry in enumerate(doc.data["machines"]):

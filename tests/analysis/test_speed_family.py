@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from engine.analysis.spectrum import amplitude_spectrum
-from engine.analysis.speed import hangs_together, refine_speeds
+from engine.analysis.speed import hangs_together, refine_speeds, shaft_family
 
 FS = 1024.0
 N = 32768                       # lines 1/32 Hz apart
@@ -90,3 +90,37 @@ def test_a_dominant_1x_away_from_the_stated_speed_keeps_its_harmonics_in_its_fam
     f = shaft_family(amplitude_spectrum(x, fs), 2955 / 60, [50.0 * k for k in range(1, 21)], [2955 / 60 * 0.64])
     assert f["far_family_lines"] >= 3
     assert abs(f["far_family_hz"] / 55.17 - 1) < 0.001         # within the interpolation error of a line
+
+
+def test_a_family_one_line_from_the_stated_speed_on_a_short_record_is_the_stated_speeds_own():
+    # A 1 s record (lines 1 Hz apart) of a shaft at 10.045 Hz, stated at 10 Hz, beside an unrelated comb
+    # at whole multiples of 9 Hz (2 to 6 of them). The 1X line sits one line from 9 Hz, within a Hann
+    # window's main lobe (2 lines: the window's definition), so it cannot count as the 1X of a family
+    # "10 % away": the stated speed's own 1X is no contradiction of it. (python -m bench.real_data
+    # --inject length=1: HIT-SM's IR5_600 cut to 1 s was withheld as "the stated speed or sample rate is wrong".)
+    fs = 4096.0
+    t = np.arange(int(fs)) / fs
+    comb = sum(0.2 * np.sin(2 * np.pi * 9 * k * t + k) for k in range(2, 7))
+    x = np.sin(2 * np.pi * 10.045 * t) + comb + 0.002 * np.random.default_rng(5).standard_normal(len(t))
+    short = shaft_family(amplitude_spectrum(x, fs), 10.0)
+    assert short["far_one_x_db"] == 0.0 and short["near_one_x_db"] > 40
+    # eight times longer (lines 1/8 Hz apart) the 1X stands eight lines from 9 Hz: the far search is as before
+    t = np.arange(int(8 * fs)) / fs
+    comb = sum(0.2 * np.sin(2 * np.pi * 9 * k * t + k) for k in range(2, 7))
+    x = np.sin(2 * np.pi * 10.045 * t) + comb + 0.002 * np.random.default_rng(5).standard_normal(len(t))
+    long = shaft_family(amplitude_spectrum(x, fs), 10.0)
+    assert long["near_one_x_db"] > 40 and long["far_one_x_db"] == 0.0
+
+
+def test_a_family_away_from_the_stated_speed_is_far_only_past_two_lines():
+    # harmonics of 24.7 Hz stated at 23 Hz (7 % low): on 1 s (lines 1 Hz apart) its 1X lies 1.7 lines from the
+    # stated 1X and counts as near; on 32 s (1/32 Hz) it lies 54 lines away and is the far family it is
+    def family(seconds):
+        fs = 1024.0
+        t = np.arange(int(seconds * fs)) / fs
+        x = sum(np.sin(2 * np.pi * k * 24.7 * t) / k for k in range(1, 6))
+        return shaft_family(amplitude_spectrum(x + 0.01 * np.random.default_rng(0).standard_normal(len(t)), fs), 23.0)
+    short = family(1.0)
+    assert short["far_family_lines"] == 0 and short["near_family_lines"] >= 3
+    far = family(32.0)
+    assert far["far_family_lines"] >= 3 and abs(far["far_family_hz"] - 24.7) < 0.05

@@ -125,7 +125,7 @@ def test_the_synchronous_part_in_paired_slices_is_the_direct_sum(n, rng):
     """Two real slices share each complex chirp transform (an even and an odd count of slices, and one
     slice alone): the result is the direct sum of the record's DFT at the orders laid back on every
     sample (the definition, summed with numpy as reference), to 1.5e-8 of the record's scale (the chirp's phase,
-    about step x j^2 / 2 at the end of a 32k slice, is held to ~1e-8 rad by double precision)."""
+    about step x j^2 / 2 at the end of a slice of up to 32k, is held to ~1e-8 rad by double precision)."""
     from engine.analysis.synchronous import synchronous_part
 
     fs, speed_hz = 2000.0, 31.3
@@ -140,4 +140,41 @@ def test_the_synchronous_part_in_paired_slices_is_the_direct_sum(n, rng):
     coef[0] *= 0.5
     t = np.arange(n)
     direct = sum((c * np.exp(1j * ((step * m * t) % (2 * np.pi)))).real for m, c in zip(orders, coef))
+    assert np.max(np.abs(synchronous_part(x, fs, speed_hz) - direct)) < 1.5e-8 * np.max(np.abs(x))
+
+
+@pytest.mark.parametrize("length", [1, 2, 5, 1000, 32768, 32769])
+def test_chirp_and_ramp_tables_are_the_phasors_they_stand_for(length):
+    """exp(i c j^2) and exp(i a j) built from sqrt(length)-long tables against numpy's exp of the whole
+    phase (as reference): equal to the rounding of the phase itself in double precision (about 1.1e-16 of
+    its size; 2e-16 of it allowed, plus a few units of the last place from the products)."""
+    from engine.analysis.synchronous import _chirp, _ramp
+
+    j = np.arange(length, dtype=float)
+    for c in (-0.5 * 2 * np.pi * 24.77 / 25600, 0.5 * 2 * np.pi * 31.3 / 2000, 0.3):
+        phase = c * j * j
+        assert np.max(np.abs(_chirp(c, length) - np.exp(1j * phase))) <= 2e-16 * np.max(np.abs(phase)) + 2e-15
+        phase = c * j
+        assert np.max(np.abs(_ramp(c, length) - np.exp(1j * phase))) <= 2e-16 * np.max(np.abs(phase)) + 2e-15
+        assert len(_chirp(c, length)) == len(_ramp(c, length)) == length
+
+
+def test_the_synchronous_part_of_a_slow_shaft_in_longer_slices_is_the_direct_sum(rng):
+    """A shaft with many orders below fs / 2 (1112 at 0.9 Hz, 2 kHz) is done in slices of up to 16k samples,
+    not 8k (a slice holds at least 4 x its 2223 sums): still the direct sum of the record's DFT at the orders
+    laid back on every sample (numpy as reference), as for a fast shaft above."""
+    from engine.analysis.synchronous import synchronous_part
+
+    fs, speed_hz, n = 2000.0, 0.9, 20001          # two slices of 10001
+    x = rng.standard_normal(n) + 2 * np.sin(2 * np.pi * 5 * speed_hz * np.arange(n) / fs)
+    count = int(np.floor((n - 1) / fs * speed_hz + 1e-9))
+    whole = min(n, int(round(count * fs / speed_hz)))
+    step = 2 * np.pi * speed_hz / fs
+    orders = np.arange(int(np.ceil(fs / 2 / speed_hz)))
+    j = np.arange(whole)
+    t = np.arange(n)
+    direct = np.zeros(n)
+    for m in orders:
+        c = np.sum(x[:whole] * np.exp(-1j * ((step * m * j) % (2 * np.pi)))) * (2.0 / whole) * (0.5 if m == 0 else 1.0)
+        direct += (c * np.exp(1j * ((step * m * t) % (2 * np.pi)))).real
     assert np.max(np.abs(synchronous_part(x, fs, speed_hz) - direct)) < 1.5e-8 * np.max(np.abs(x))

@@ -117,3 +117,25 @@ def test_a_sideband_s_place_is_known_to_the_speed_not_to_half_a_percent_of_its_o
     assert not owned[(1, 2)]
     own_place = {2: _peak(2 * 194.25, 19.0)}
     assert _owners(defects, [carrier, own_place], None, 1000.0, resolution_hz=0.25)[(1, 2)]
+
+
+def test_centres_within_one_percent_are_the_first_such_centre_as_a_scan_of_all_finds_it():
+    """``_Centres`` looks only at its neighbours in log frequency; the answer must be the plain scan's (the
+    first centre, in the order they came, within TIE = 1 % of the frequency), here on frequencies that crowd
+    each other's 1 % edges from both sides, seeded."""
+    import numpy as np
+
+    from engine.evidence.envelope import TIE, _Centres
+
+    rng = np.random.default_rng(5)
+    base = rng.uniform(5.0, 5000.0, 40)
+    edges = np.concatenate([base * (1 + s * TIE * f) for s in (-1, 1) for f in (0.999, 1.0, 1.001, 0.5, 2.0)])
+    freqs = rng.permutation(np.concatenate([base, edges, rng.uniform(1.0, 20000.0, 300)])).tolist()
+    centres, scanned = _Centres(), []
+    for f in freqs:
+        first = next((i for i, c in enumerate(scanned) if abs(f / c - 1) < TIE), None)
+        if first is None:
+            scanned.append(f)
+            first = len(scanned) - 1
+        assert centres.index(f) == first
+    assert centres.centres == scanned

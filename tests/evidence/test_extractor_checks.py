@@ -38,6 +38,7 @@ STRONG = {
     "envelope": lambda f: (f["kind"] == "envelope_tone" and f["harmonics_found"] >= 3 and f["first_snr_db"] >= 15)
     or (f["kind"] == "load_zone_modulation" and f["sideband_count"] >= 2),
     "impact_train": lambda f: f["periodicity"] >= 0.2 and f["regularity_cv"] <= 0.2,
+    "envelope_family": lambda f: f["harmonics_found"] >= 3 and f["first_snr_db"] >= 16,
     "once_per_rev_event": lambda f: f["fm4"] >= 6 and f["repeat_fraction"] >= 0.7,
     "data_quality": lambda f: True,
 }
@@ -93,4 +94,21 @@ def test_plain_noise_gives_no_strong_evidence(ex):
     reading = Reading("noise", fs, channels)
     assert ex.name in STRONG, f"{ex.name}: say what strong evidence it gives (STRONG) or why it always reports"
     strong = [f for f in extract_evidence(reading, RW2) if f["kind"] in ex.kinds and STRONG[ex.name](f)]
+    assert not strong, strong[:3]
+
+
+def test_plain_noise_on_a_machine_file_without_bearings_gives_no_strong_evidence():
+    # the envelope is taken on a file that lists no rolling bearing too (its stand-in defect rate): noise there
+    # gives no strong fact of the extractors that read it
+    from support import TEST_MACHINES
+
+    bare = load_machine(TEST_MACHINES / "mfpt-rig-unlisted.yaml")
+    rng = np.random.default_rng(11)
+    fs, n = 25600.0, 102400
+    reading = Reading("noise", fs, (Channel("TB", 0.5 * rng.standard_normal(n), "acceleration", "g", "TB",
+                                            "vertical"),))
+    facts = extract_evidence(reading, bare)
+    assert [f for f in facts if f["kind"] == "overall" and f["ring_band_hi_hz"] > 0]     # the envelope was taken
+    strong = [f for f in facts for ex in EXTRACTORS if f["kind"] in ex.kinds
+              and ex.name in ("envelope", "impact_train", "envelope_family") and STRONG[ex.name](f)]
     assert not strong, strong[:3]

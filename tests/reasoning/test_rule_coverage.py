@@ -37,7 +37,8 @@ MACHINES = {"rw2": CASES / "machines/rw2-raw-water-pump.yaml", "bw1": CASES / "m
             "ct1": CASES / "machines/ct1-cooling-tower-fan.yaml", "rig": TEST_MACHINES / "mfpt-rig.yaml",
             "ef4": TEST_MACHINES / "belt-fan-6309-22212.yaml", "gc1": TEST_MACHINES / "gc1-grit-conveyor-drive.yaml",
             "cwru": TEST_MACHINES / "cwru-motor.yaml",
-            "cwru-de-unlisted": TEST_MACHINES / "cwru-motor-de-unlisted.yaml"}
+            "cwru-de-unlisted": TEST_MACHINES / "cwru-motor-de-unlisted.yaml",
+            "rig-unlisted": TEST_MACHINES / "mfpt-rig-unlisted.yaml"}
 
 @functools.cache
 def _machine(key: str):
@@ -222,6 +223,9 @@ SIMULATED = [
     ("drive-end bearing left out of the machine file", "cwru-de-unlisted",
      lambda: as_reading(simulate(_machine("cwru"), "outer-race", "drive_end", 2, None, 25600.0, 4.0, 1)),
      "reading.machine.unexplained-impacts"),
+    ("a machine file that lists no bearing", "rig-unlisted",
+     lambda: as_reading(simulate(_machine("rig"), "outer-race", "test_bearing", 3, None, 25600.0, 4.0, 1)),
+     "reading.machine.unlisted-bearing-family"),
     ("0.3 s record", "bw1", _fault("bw1", "outer-race", seed=2, duration_s=0.3),
      "reading.settings.resolution-lines reading.settings.resolution-sidebands reading.settings.revolutions"),
     ("0.45 s record, 2.5 turns of the fan", "ct1", _fault("ct1", "unbalance", 2, 2, duration_s=0.45),

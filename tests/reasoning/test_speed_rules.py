@@ -20,7 +20,8 @@ def speed_check(**fields) -> dict:
     fact = {"kind": "speed_check", "id": "speed_check-1", "shaft": "motor", "stated_rpm": 1486.0,
             "stated_driver_rpm": 1486.0, "driver": "motor",
             "nominal_rpm": 1486.0, "measured_rpm": 1486.0, "source": "1X harmonics", "harmonics": 3,
-            "deviation_pct": 0.0, "abs_deviation_pct": 0.0, "one_x_found": True, "odd_order_lines": 2,
+            "deviation_pct": 0.0, "abs_deviation_pct": 0.0, "one_x_found": True, "one_x_elsewhere_db": 0.0,
+            "odd_order_lines": 2,
             "half_order_lines": 0, "half_to_one_x": 0.0, "double_speed_lines": 1, "half_x_snr_db": 0.0,
             "half_x_window_pct": 0.5,
             "two_x_snr_db": 30.0, "odd_to_two_x": 3.0, "near_family_lines": 3, "far_family_lines": 0,
@@ -109,6 +110,21 @@ def test_a_shaft_family_away_from_the_stated_speed_contradicts_it(reasoner, line
     if withheld:
         text = found["rate-contradicted"].support[0].because
         assert "tachometer" in text and "sample rate" in text and "1635" in text
+
+
+@pytest.mark.parametrize("elsewhere_db, source, contradicted", [
+    (0.0, "1X harmonics", True),      # no other channel shows a 1X
+    (16.0, "1X harmonics", True),     # one shows a line under ten times its floor: noise or another line, maybe
+    (24.0, "1X harmonics", False),    # one shows a 1X ten times its floor: the machine's 1X (common practice)
+    (16.0, "stated", True),
+    (24.0, "stated", False),
+])
+def test_a_clear_1x_in_another_channel_on_the_shaft_is_the_machines_1x(reasoner, elsewhere_db, source, contradicted):
+    # the loudest channel's 1X sank into its floor (a short record: python -m bench.real_data --inject length=1,
+    # CWRU 209's fan end) while the drive end shows it 25 dB clear: nothing says the speed or rate is wrong
+    found = problems(reasoner, one_x_found=False, near_one_x_db=0.0, one_x_elsewhere_db=elsewhere_db,
+                     source=source, odd_order_lines=0, near_family_lines=0)
+    assert ("rate-contradicted" in found) is contradicted
 
 
 @pytest.mark.parametrize("one_x_found, near_db, stated_rpm, contradicted", [
