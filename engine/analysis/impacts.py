@@ -32,9 +32,46 @@ class ImpactTrain:
     regularity_cv: float      # coefficient of variation of the intervals near the spacing
 
 
-def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz: float) -> ImpactTrain | None:
+FRACTIONS = (4, 3, 2)    # a train faster than the fastest rate looked for is read at 1/k of the lag found
+
+
+def _peak_near(acf: np.ndarray, centre: float) -> int | None:
+    """The autocorrelation's local maximum within 3 % and a lag of ``centre`` (a lag), or None."""
+    reach = max(1, int(np.ceil(0.03 * centre)))
+    start, stop = max(1, int(round(centre)) - reach), min(len(acf) - 2, int(round(centre)) + reach)
+    if stop < start:
+        return None
+    j = start + int(np.argmax(acf[start:stop + 1]))
+    return j if acf[j] > acf[j - 1] and acf[j] >= acf[j + 1] else None
+
+
+def _whole_fraction(acf: np.ndarray, lag: int, lo: int, least: float) -> int:
+    """The lag of the train whose every k-th impact ``lag`` spans, when its autocorrelation peak lies below
+    the lags searched (``lo``): a train repeating faster than 1.3 x the fastest rate the machine file gives
+    (a part the file lacks, or a sample rate or speed stated off by a factor) puts its autocorrelation
+    peaks at its own spacing and at every whole multiple of it, and the search, which starts at the fastest
+    rate's spacing, finds a multiple. A peak at ``lag`` / k (k 4, 3 or 2, within 3 % and a lag) as tall as
+    ``least`` (half the tallest peak searched, the height the train's first peak is held to), with a peak
+    at each of its multiples below ``lo`` (``MIN_PERIODICITY`` tall), is the train's own spacing; else
+    ``lag`` stands."""
+    for k in FRACTIONS:
+        centre = lag / k
+        if centre >= lo or centre < 2:
+            continue
+        j = _peak_near(acf, centre)
+        if j is None or acf[j] < max(least, MIN_PERIODICITY):
+            continue
+        between = [_peak_near(acf, m * centre) for m in range(2, k) if m * centre < lo]
+        if all(b is not None and acf[b] >= MIN_PERIODICITY for b in between):
+            return j
+    return lag
+
+
+def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz: float,
+                 faster: bool = False) -> ImpactTrain | None:
     """The impact train of a squared envelope ``envelope`` (sampled at ``fs``) whose rate lies
-    between 0.7 x ``slowest_hz`` and 1.3 x ``fastest_hz``; None when there is none.
+    between 0.7 x ``slowest_hz`` and 1.3 x ``fastest_hz``, or with ``faster`` up to 4 times faster
+    (``_whole_fraction``); None when there is none.
 
     Parameters
     ----------
@@ -44,6 +81,9 @@ def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz:
         Its sample rate in Hz.
     slowest_hz, fastest_hz : float
         The slowest and fastest repetition rates looked for, Hz.
+    faster : bool
+        Read a train faster than 1.3 x ``fastest_hz`` at its own rate when the
+        rate found is a whole fraction (1/2 to 1/4) of it.
 
     Returns
     -------
@@ -94,6 +134,8 @@ def impact_train(envelope: np.ndarray, fs: float, slowest_hz: float, fastest_hz:
         return None
     heights = segment[lags]
     first = int(lags[np.flatnonzero(heights >= 0.5 * heights.max())[0]]) + lo
+    if faster:
+        first = _whole_fraction(acf, first, lo, 0.5 * heights.max())
     # refine the lag by a parabola through the peak and its neighbours
     y0, y1, y2 = acf[first - 1], acf[first], acf[first + 1]
     curvature = y0 - 2 * y1 + y2

@@ -688,7 +688,10 @@ def analyse(reading: Reading, machine: Machine) -> Analysis:
         # ISO 20816-3 picks its band by the speed of the shaft the sensor sits on
         own_rpm = speeds[point.shaft] * 60 if point is not None else speed.speed_hz * 60
         kg, views, env_sig, env_fs = envelopes[ch.name]
-        impacts = impact_train(env_sig, env_fs, min(candidates), max(candidates)) if env_sig is not None else None
+        # a train faster than every listed rate is read at its own rate (a part the file lacks, a rate stated
+        # off by a factor); the waveform's train is looked for at the shafts' own rates only
+        impacts = (impact_train(env_sig, env_fs, min(candidates), max(candidates), faster=True)
+                   if env_sig is not None else None)
         # a gear tooth's once-per-turn impacts leave with the synchronous part: they are read from the waveform
         geared = (waveform_impacts(a, fs, list(rates.shafts_hz.values()), [g.gmf_hz for g in rates.meshes])
                   if rates.meshes else None)

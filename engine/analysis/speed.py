@@ -793,6 +793,18 @@ def shaft_family(spec: Spectrum, stated_hz: float, exclude_hz=(), others_hz=(), 
         ok &= ~np.array([np.any(np.abs(excluded - k * best * stated_hz) <= 2 * df) for k in orders])
         if not ok.any():
             return 0, 100.0, best, 0.0
+        # a strong line scores over the lines either side of it, so the best candidate can lie off the family's
+        # true 1X by up to a line at its order, and its higher harmonics fall beyond the line they are looked
+        # for within: they are looked for again at the multiples the family's tallest line gives (the line
+        # whose place the interpolation fixes best)
+        tallest = int(np.argmax(np.where(ok, found.amplitude / floor, 0.0)))
+        anchor = float(found.freq_hz[tallest] / orders[tallest])
+        again = peaks_near(spec, orders * anchor, 1.5 * df)
+        again_floor = np.maximum(spec.floor_at(again.line), 1e-300)
+        again_ok = again.found & (again.amplitude >= MIN_HARMONIC_SNR * again_floor)
+        again_ok &= ~np.array([np.any(np.abs(excluded - k * anchor) <= 2 * df) for k in orders])
+        if again_ok.sum() >= ok.sum():
+            found, floor, ok = again, again_floor, again_ok
         one_x = float(np.average(found.freq_hz[ok] / orders[ok], weights=orders[ok]))
         if not mask[np.argmin(np.abs(scales - one_x / stated_hz))]:
             return 0, 100.0, 0.0, 0.0       # its lines put its 1X on the other side of ``near``

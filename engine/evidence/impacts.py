@@ -72,6 +72,22 @@ def _slower_than(candidates, rate_hz: float) -> tuple[str, str, int]:
     return name, component, k
 
 
+MULTIPLES = (2, 3)
+
+
+def _multiple_of(candidates, rate_hz: float) -> tuple[str, str, int]:
+    """For a train that matches no forcing frequency: the bearing defect rate it repeats at k times (k 2 or 3,
+    within ``MATCH_TOLERANCE``; the closest), as (defect, bearing, k), or ("none", "none", 0). The whole
+    multiples the analysis reads a train faster than every rate at (``analysis.impacts.FRACTIONS``): a sample
+    rate stated at k times its value, or a speed 1/k of the true one, puts a defect's impacts there."""
+    near = [(abs(rate_hz / (k * hz) - 1), name, component, k) for name, component, hz in candidates
+            if name != "1X" for k in MULTIPLES if abs(rate_hz / (k * hz) - 1) <= MATCH_TOLERANCE]
+    if not near:
+        return "none", "none", 0
+    _, name, component, k = min(near)
+    return name, component, k
+
+
 def _lines_between(c, rate_hz: float, k: int) -> float:
     """The share of the harmonics j x ``rate_hz`` (j 1 to 2k, not a multiple of k) that show a clear line in one
     of the channel's envelope views (the best view counts): a train's own comb fills the places between the k-th
@@ -104,6 +120,7 @@ def impact_train(rc: Analysis) -> list[dict]:
                        if abs(rate / best[2] - 1) <= MATCH_TOLERANCE] or [("none", "none", 0.0)]
             shaft = c.point.shaft if c.point else rc.speed_shaft
             slower = _slower_than(candidates, rate) if matches[0][0] == "none" else ("none", "none", 0)
+            multiple = _multiple_of(candidates, rate) if matches[0][0] == "none" else ("none", "none", 0)
             # the residual's envelope lines at the train's harmonics are its signs; the waveform's train is
             # not that envelope's, and is a sign of its own
             signs = ({impacts(c.name): 1.0} | _comb_signs(c, rate) if read_from == "residual"
@@ -115,6 +132,7 @@ def impact_train(rc: Analysis) -> list[dict]:
                 "matched_name": name, "matched_component": component, "match_error_pct": err,
                 "slower_than_name": slower[0], "slower_than_component": slower[1], "slower_by": slower[2],
                 "slower_lines_between": _lines_between(c, rate, slower[2]) if slower[2] else 0.0,
+                "multiple_of_name": multiple[0], "multiple_of_component": multiple[1], "multiple_by": multiple[2],
                 SIGNS: signs,
             } for name, component, err in matches)
     return out

@@ -187,6 +187,10 @@ FACTS: dict[str, dict[str, F]] = {
         "slower_lines_between": F("number", "share of the train's harmonics j x rate, j 1 to 2k and not a multiple "
                                   "of k, with a clear envelope line (the best view): the train's own comb between "
                                   "the faster family's lines, 0 to 1; 0 when none", ""),
+        "multiple_of_name": F("string", "for a train matching nothing: the bearing defect rate (BPFO, BPFI, BSF) it "
+                              "repeats at 2 or 3 times, within 3 %, or none", ""),
+        "multiple_of_component": F("string", "that rate's bearing, or none", ""),
+        "multiple_by": F("integer", "how many times faster (2 or 3), 0 when none", ""),
     },
     "envelope_family": CHANNEL_FIELDS | {
         "rate_hz": F("number", "the family's fundamental: a clear line of the squared envelope spectrum, Hz (only on a "
@@ -435,6 +439,7 @@ KNOWN_VALUES: dict[str, tuple[str, ...]] = {
     "harmonic_series.source": RATE_NAMES,
     "impact_train.matched_name": RATE_NAMES + ("none",),
     "impact_train.slower_than_name": ("BPFO", "BPFI", "BSF", "none"),
+    "impact_train.multiple_of_name": ("BPFO", "BPFI", "BSF", "none"),
     "impact_train.read_from": ("residual", "waveform"),
     "envelope_tone.defect": BEARING_DEFECTS,
     "envelope_tone.alike_defect": ("BPFO", "BPFI", "BSF", ""),

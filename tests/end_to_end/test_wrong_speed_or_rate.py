@@ -24,7 +24,7 @@ from engine.cli import main
 from engine.common.errors import EXIT_WITHHELD
 from engine.reasoning import CONFIDENT
 
-from support import TEST_DATA, TEST_MACHINES
+from support import ROOT, TEST_DATA, TEST_MACHINES
 
 RECORDS = {
     # excerpt: (machine file, the label's fault and bearing)
@@ -169,3 +169,126 @@ def test_a_reading_that_states_no_speed_is_not_said_to_state_0_rpm():
     assert said and all(b.startswith("The reading states no speed, so the shaft shaft was looked for at the "
                                      "machine file's 1500 rpm") for b in said)
     assert not any("states 0" in b for b in said)
+
+
+def _withheld_for_impacts_at_a_multiple(reading, machine, rule: str = "reading.rate.impacts-at-multiple") -> str:
+    """The reasons ``reading`` is withheld for, as one text; fails unless ``rule`` is among them."""
+    from engine.pipeline import diagnose
+
+    from support import reasoner
+
+    reasoning = diagnose(reading, machine, reasoner()).reasoning
+    assert reasoning.withheld, [(h.fault, h.component, h.certainty) for h in reasoning.hypotheses[:3]]
+    firings = [f for h in reasoning.reading_problems if h.fault == "rate-contradicted" for f in h.support]
+    assert rule in {f.rule_id for f in firings}, [f.rule_id for f in firings]
+    return " ".join(f.because for f in firings if f.rule_id == rule)
+
+
+@pytest.mark.parametrize("fault", ["outer-race", "inner-race"])
+def test_impacts_at_twice_a_defect_rate_with_no_speed_stated_withhold(fault):
+    # analyst-33 reproduction 4 in the simulator: the CWRU rig (tests/machines/cwru-motor.yaml) with a stage-3
+    # race defect on its drive-end bearing, stated at twice its sample rate and with no speed. Every frequency
+    # reads twice too high, so the impacts repeat at 2 x BPFO or 2 x BPFI of the file's speed, a rate no part
+    # gives; the shaft's own lines are too weak for the half/twice rules. It read as a sound machine.
+    import dataclasses
+
+    from engine.machine import load_machine
+    from engine.readings.quality import check_channel
+    from engine.simulation import as_reading, simulate
+
+    rig = load_machine(TEST_MACHINES / "cwru-motor.yaml")
+    reading = as_reading(simulate(rig, fault, "drive_end", 3, None, 25600.0, 4.0, 1))
+    fs = 2 * reading.fs_hz
+    reading = dataclasses.replace(reading, fs_hz=fs, speed_rpm=None,
+                                  quality=tuple(q for ch in reading.channels for q in check_channel(ch, fs)))
+    said = _withheld_for_impacts_at_a_multiple(reading, rig)
+    assert "2 times" in said and ("BPFO" if fault == "outer-race" else "BPFI") in said
+    assert "sample rate" in said and "tachometer" in said
+
+
+SHARED = ROOT.parent / "shared" / "datasets"
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not (SHARED / "index.csv").exists(),
+                    reason="../shared/datasets is not beside this checkout")
+@pytest.mark.parametrize("record, factor, rule, said", [
+    # analyst-33 reproduction 4: CWRU 130 stated at 24 kHz with no speed; its drive-end impacts (kurtosis 7.6) were
+    # read at every other one, 107.8 Hz, matched to BPFO by chance, and the report said no fault, zone A, no action
+    ("12k_drive_end/130.mat", 2.0, "reading.rate.impacts-at-multiple", "2 times BPFO of drive_end"),
+    # reproduction 3: CWRU 161 (48 kHz) stated at half its rate read its impacts at 53.9 Hz with the train's own
+    # lines between BPFI's; it was called inner race at 67 %, then a possible looseness at 45 %
+    ("48k_drive_end/161.mat", 0.5, "reading.rate.impacts-at-fraction", "impacts read"),
+])
+def test_a_cwru_record_stated_off_by_a_factor_with_no_speed_is_withheld(record, factor, rule, said):
+    # the whole record (outer race 0.007 in on the drive end; ../shared/datasets/index.csv, CWRU Bearing Data
+    # Center), its sample rate stated off by ``factor`` and no speed stated
+    import dataclasses
+
+    from bench import real_data
+    from engine.machine import load_machine
+
+    row = next(r for r in real_data.records(SHARED) if r["path"].endswith("/" + record))
+    reading = real_data.injected(real_data.reading_of(SHARED / row["path"], row), "rate", factor)
+    reading = dataclasses.replace(reading, speed_rpm=None)
+    text = _withheld_for_impacts_at_a_multiple(reading, load_machine(TEST_MACHINES / "cwru-motor.yaml"), rule)
+    assert said in text and "sample rate" in text and "tachometer" in text
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not (SHARED / "index.csv").exists(),
+                    reason="../shared/datasets is not beside this checkout")
+def test_no_real_record_stated_at_twice_its_rate_with_no_speed_gets_a_confident_wrong_call():
+    # every bearing record of ../shared/datasets (labels: its index.csv; CWRU Bearing Data Center, MFPT Society,
+    # HIT-SM) stated at twice its sample rate with no speed: 10 CWRU fault records were called a wrong fault at 50 %
+    # or more (rolling element for inner and outer races, up to 85 %), since a 4-pole 60 Hz motor's true 1X then
+    # reads at 59.9 Hz, on the line frequency no speed rule counts, and nothing near the file's 1X was asked for.
+    # Known, not yet fixed: CWRU 211 (inner race) so stated shows two harmonics without a 1X that put the speed at
+    # 1818 rpm, just over the 4-pole motor's 1800 and within the 5 % the drive rules allow, so the file's speed
+    # counts as measured and the ball family it then shows is called at 82 %
+    known = {"cwru/12k_drive_end/211.mat"}
+    import dataclasses
+
+    from bench import real_data
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+
+    from support import reasoner
+
+    machines = {k: load_machine(p) for k, p in real_data.MACHINES.items()}
+    wrong = []
+    for row in real_data.records(SHARED):
+        reading = real_data.injected(real_data.reading_of(SHARED / row["path"], row), "rate", 2.0)
+        result = diagnose(dataclasses.replace(reading, speed_rpm=None), machines[row["dataset"]], reasoner()).reasoning
+        name, certainty, right = real_data.score(result, row)
+        if not result.withheld and certainty >= CONFIDENT and not right:
+            wrong.append((row["path"], name, round(certainty, 2)))
+    assert {path for path, _, _ in wrong} <= known, wrong
+
+
+@pytest.mark.parametrize("factor", [1.12, 1.08, 0.92])
+def test_a_blower_running_off_its_file_speed_with_no_speed_stated_is_withheld(factor):
+    # analyst-33 reproduction 4: BW-1 (the demo plant's 2-pole, 50 Hz blower motor, file speed 2955 rpm) with a
+    # stage-2 unbalance, simulated 8-12 % off its file's speed and stating no speed. Its 1X stands 75 dB over the
+    # floor with 2X and 3X; the family read 2 lines, short of the 3 the speed rules ask, and nothing was withheld
+    # (1.12: no hypothesis, zone D "act now" with no reason). The speed or the sample rate must be checked first.
+    import dataclasses
+
+    from engine.machine import load_machine
+    from engine.pipeline import diagnose
+    from engine.simulation import as_reading, simulate
+
+    from support import CASES, reasoner
+
+    bw1 = load_machine(CASES / "machines/bw1-backwash-blower.yaml")
+    reading = as_reading(simulate(bw1, "unbalance", None, 2, 2955 * factor, 25600.0, 4.0, 2))
+    reasoning = diagnose(dataclasses.replace(reading, speed_rpm=None), bw1, reasoner()).reasoning
+    assert reasoning.withheld
+    said = " ".join(f.because for h in reasoning.reading_problems if h.fault == "rate-contradicted"
+                    for f in h.support)
+    import re
+
+    rpm = [float(v) for v in re.findall(r"harmonics of ([0-9.]+) rpm", said)]
+    # the family's speed to within half a line at its 1X (0.25 Hz lines: 0.5 % of 46-55 Hz)
+    assert rpm and all(abs(v / (2955 * factor) - 1) < 0.005 for v in rpm), rpm
+    assert "tachometer" in said and "sample rate" in said
