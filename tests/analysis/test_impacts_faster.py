@@ -1,5 +1,5 @@
 """A train of impacts faster than every rate looked for is read at its own rate, not at a whole multiple of its
-spacing (analyst-33 reproduction 4: CWRU 130 stated at twice its sample rate read its outer-race impacts at
+spacing (user trial 33, item 4: CWRU 130 stated at twice its sample rate read its outer-race impacts at
 every other one, 107.8 Hz, and matched them to BPFO by chance).
 
 The envelopes are built here: impulses at a known spacing, with a small random jitter of each impact's time

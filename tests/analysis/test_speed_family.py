@@ -77,7 +77,7 @@ def test_bearing_tones_that_two_families_claim_at_speeds_further_apart_than_slip
 
 
 def test_a_dominant_1x_away_from_the_stated_speed_keeps_its_harmonics_in_its_family():
-    # analyst-33 reproduction 4: a 2-pole motor's unbalance (1X 75 dB over the floor, 2X and 3X 20-25 dB below it)
+    # user trial 33, item 4: a 2-pole motor's unbalance (1X 75 dB over the floor, 2X and 3X 20-25 dB below it)
     # running 12 % above the speed looked for. A line this strong scores over the lines either side of it, so the
     # best candidate 1X could lie most of a line off and its 3X beyond the line it is looked for within: the
     # family read 2 lines, short of the 3 the speed rules ask, and the reading read as sound

@@ -186,7 +186,7 @@ def _withheld_for_impacts_at_a_multiple(reading, machine, rule: str = "reading.r
 
 @pytest.mark.parametrize("fault", ["outer-race", "inner-race"])
 def test_impacts_at_twice_a_defect_rate_with_no_speed_stated_withhold(fault):
-    # analyst-33 reproduction 4 in the simulator: the CWRU rig (tests/machines/cwru-motor.yaml) with a stage-3
+    # user trial 33, item 4 in the simulator: the CWRU rig (tests/machines/cwru-motor.yaml) with a stage-3
     # race defect on its drive-end bearing, stated at twice its sample rate and with no speed. Every frequency
     # reads twice too high, so the impacts repeat at 2 x BPFO or 2 x BPFI of the file's speed, a rate no part
     # gives; the shaft's own lines are too weak for the half/twice rules. It read as a sound machine.
@@ -213,7 +213,7 @@ SHARED = ROOT.parent / "shared" / "datasets"
 @pytest.mark.skipif(not (SHARED / "index.csv").exists(),
                     reason="../shared/datasets is not beside this checkout")
 @pytest.mark.parametrize("record, factor, rule, said", [
-    # analyst-33 reproduction 4: CWRU 130 stated at 24 kHz with no speed; its drive-end impacts (kurtosis 7.6) were
+    # user trial 33, item 4: CWRU 130 stated at 24 kHz with no speed; its drive-end impacts (kurtosis 7.6) were
     # read at every other one, 107.8 Hz, matched to BPFO by chance, and the report said no fault, zone A, no action
     ("12k_drive_end/130.mat", 2.0, "reading.rate.impacts-at-multiple", "2 times BPFO of drive_end"),
     # reproduction 3: CWRU 161 (48 kHz) stated at half its rate read its impacts at 53.9 Hz with the train's own
@@ -268,7 +268,7 @@ def test_no_real_record_stated_at_twice_its_rate_with_no_speed_gets_a_confident_
 
 @pytest.mark.parametrize("factor", [1.12, 1.08, 0.92])
 def test_a_blower_running_off_its_file_speed_with_no_speed_stated_is_withheld(factor):
-    # analyst-33 reproduction 4: BW-1 (the demo plant's 2-pole, 50 Hz blower motor, file speed 2955 rpm) with a
+    # user trial 33, item 4: BW-1 (the demo plant's 2-pole, 50 Hz blower motor, file speed 2955 rpm) with a
     # stage-2 unbalance, simulated 8-12 % off its file's speed and stating no speed. Its 1X stands 75 dB over the
     # floor with 2X and 3X; the family read 2 lines, short of the 3 the speed rules ask, and nothing was withheld
     # (1.12: no hypothesis, zone D "act now" with no reason). The speed or the sample rate must be checked first.

@@ -93,7 +93,7 @@ def test_the_double_row_s_ball_rate_lies_within_slip_of_the_motor_bearing_s_inne
 
 @pytest.mark.parametrize("rpm", [1475.0, 1488.0])
 def test_a_ball_defect_whose_lines_another_bearing_s_race_rate_took_is_not_called_a_cage_alone(rpm):
-    # analyst33 REPRO item 1 (stage 2, seed 1, 1475 rpm): "cage on pump_ob 75 %", right bearing, wrong part,
+    # user trial 33, item 1 (stage 2, seed 1, 1475 rpm): "cage on pump_ob 75 %", right bearing, wrong part,
     # because motor_de's BPFI took the ball family at the pump bearing's own sensor
     m = _machine()
     r = as_reading(simulate(m, "rolling-element", "pump_ob", 2, rpm, 25600.0, 4.0, 1))

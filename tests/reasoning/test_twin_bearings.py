@@ -95,7 +95,7 @@ def _stage2(machine, fault, bearing, seed, also=()):
 
 @pytest.mark.slow
 @pytest.mark.parametrize(("machine", "fault", "bearing", "twin", "seed"), [
-    # before: the other twin 65 %, 80 %, 79 % and 82 % beside the right call (analyst33 REPRO item 1, the closing
+    # before: the other twin 65 %, 80 %, 79 % and 82 % beside the right call (user trial 33, item 1, the closing
     # note of stop 33); the impacts raise the damaged twin's acceleration RMS only 1.3-1.8 times at stage 2
     (AF3, "rolling-element", "fan_outboard", "fan_inboard", 3),
     (EF4, "rolling-element", "fan_nde", "fan_de", 3),
