@@ -187,7 +187,7 @@ SIMULATED = [
      "bearing.cage.ball-lines-taken"),
     # RW-2's pump bearings are measured horizontally only
     ("unbalance on a pump measured horizontally only", "rw2",
-     lambda: as_reading(simulate(_machine("rw2"), "unbalance", "pump", 2, None, 25600.0, 4.0, 1)),
+     _fault("rw2", "unbalance", 2, 1, component="pump"),
      "shaft.unbalance.one-radial-direction"),
     # the next three fire near their thresholds: which seed and stage does depends on the speed to a few
     # thousandths of a percent (the synchronous average it sets is taken out before the envelope)
@@ -232,10 +232,10 @@ SIMULATED = [
     ("no speed stated, runs 12 % fast", "rig", _unstated_speed("rig", "unbalance", 2, 2, 1.12),
      "reading.speed.family-elsewhere-unstated reading.speed.clear-family-elsewhere-unstated"),
     ("drive-end bearing left out of the machine file", "cwru-de-unlisted",
-     lambda: as_reading(simulate(_machine("cwru"), "outer-race", "drive_end", 2, None, 25600.0, 4.0, 1)),
+     _fault("cwru", "outer-race", 2, 1, component="drive_end"),
      "reading.machine.unexplained-impacts"),
     ("a machine file that lists no bearing", "rig-unlisted",
-     lambda: as_reading(simulate(_machine("rig"), "outer-race", "test_bearing", 3, None, 25600.0, 4.0, 1)),
+     _fault("rig", "outer-race", 3, 1, component="test_bearing"),
      "reading.machine.unlisted-bearing-family"),
     ("0.3 s record", "bw1", _fault("bw1", "outer-race", seed=2, duration_s=0.3),
      "reading.settings.resolution-lines reading.settings.resolution-sidebands reading.settings.revolutions"),
@@ -301,21 +301,21 @@ SIMULATED = [
      "phase.bent-shaft.axial-opposed"),
 
     ("belt fan, angular misalignment at the fan", "ef4",
-     lambda: as_reading(simulate(_machine("ef4"), "misalignment-angular", "fan", 3, None, 25600.0, 4.0, 1)),
+     _fault("ef4", "misalignment-angular", 3, 1, component="fan"),
      "belt.sheave-misalignment.axial"),
     ("belt fan, rotating looseness at the fan", "ef4",
-     lambda: as_reading(simulate(_machine("ef4"), "looseness-rotating", "fan", 3, None, 25600.0, 4.0, 1)),
+     _fault("ef4", "looseness-rotating", 3, 1, component="fan"),
      "belt.sheave-misalignment.against-half-orders"),
     # a tooth struck once per turn leaves the residual with the synchronous part; the rule reads the train of the
     # waveform with that part kept, at a steady speed and with the speed wandering 0.2 % (the train is not cut
     # into turns, so a wander that smears the synchronous average does not hide it)
     ("bevel tooth, steady speed", "ct1",
-     lambda: as_reading(simulate(_machine("ct1"), "gear-tooth", "bevel_stage", 3, None, 25600.0, 4.0, 15)),
+     _fault("ct1", "gear-tooth", 3, 15, component="bevel_stage"),
      "gear.tooth.impacts-per-turn"),
     ("bevel tooth, speed wandering 0.2 %", "ct1", _wandering("ct1", "gear-tooth", "bevel_stage", 3, 15, 0.002),
      "gear.tooth.impacts-per-turn"),
     ("two gears on one shaft, the second stage's tooth damaged", "gc1",
-     lambda: as_reading(simulate(_machine("gc1"), "gear-tooth", "second_stage", 2, None, 25600.0, 4.0, 0)),
+     _fault("gc1", "gear-tooth", 2, 0, component="second_stage"),
      "gear.tooth.other-mesh-on-shaft"),
     # TH-1's rake bearing's BPFO lies 1.6 % above the motor's 1X; one sensor, at that bearing; the motor turns
     # at 295 rpm and the reading states 300: the stated 1X lies on the BPFO, and the speed cannot be measured
