@@ -15,6 +15,7 @@ from datetime import datetime
 from .. import __version__
 from ..advice import Advice, Recommendation
 from ..analysis.plotdata import PlotSet
+from ..analysis.result import SPEED_SEARCH_FRACTION
 from ..common.errors import MachineError
 from ..common.units import ShownUnits, format_quantity
 from ..evidence import Evidence
@@ -334,10 +335,10 @@ def speed_text(speed: dict, tracked: list[str] | tuple[str, ...] = ()) -> str:
                 "(no shaft line stood clear); bearings slip 1-2 %, so forcing frequencies are matched within 2 %.")
     if speed.get("shared_with"):
         return (f"Speed {used} as {'stated' if stated else 'in the machine file'}: the lines at the orders of "
-                f"{speed['shaft']} could equally be the harmonics of {speed['shared_with']} (within the 5 % the "
-                "speed is searched over), whose own lines did not stand beside them, so they do not measure the "
-                "speed; forcing frequencies are matched within 2 %. A tachometer or strobe reading of the speed "
-                "settles it.")
+                f"{speed['shaft']} could equally be the harmonics of {speed['shared_with']} (within the "
+                f"{SPEED_SEARCH_FRACTION * 100:g} % the speed is searched over), whose own lines did not stand "
+                "beside them, so they do not measure the speed; forcing frequencies are matched within 2 %. A "
+                "tachometer or strobe reading of the speed settles it.")
     return (f"Speed {used} as {'stated' if stated else 'in the machine file'}: no shaft line or bearing tone "
             "stood clear enough to measure it, so forcing frequencies are matched within 2 %.")
 
